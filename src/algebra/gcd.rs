@@ -1,0 +1,432 @@
+//! Polynomial gcd over the rationals, by recursion on the variables:
+//! contents are split off recursively and the primitive parts are reduced
+//! with the subresultant remainder sequence in the smallest-index variable
+//! that occurs. The inputs met in physics equations are small (the factor
+//! base of a denominator), so this simple algorithm is fast where it is used;
+//! the hot paths avoid gcds altogether by trial division against known
+//! factors (see `ratfunc`).
+
+use super::int::Int;
+use super::poly::{Mono, Poly};
+use super::rational::{GRat, Rat};
+
+/// Normalises to a primitive polynomial with a positive leading coefficient.
+pub fn primitive(p: &Poly) -> Poly {
+    if p.is_zero() {
+        return Poly::zero();
+    }
+    let c = p.content_int();
+    let q = p.div_exact_int(&c).expect("content divides");
+    q.normalize_sign().0
+}
+
+/// The gcd over Q of two real polynomials, primitive with positive leading
+/// coefficient; `gcd(0, 0) = 0`. `None` when an intermediate result would
+/// exceed the exponent range of a monomial (callers report a size limit).
+pub fn gcd(a: &Poly, b: &Poly) -> Option<Poly> {
+    debug_assert!(a.is_real() && b.is_real());
+    if a.is_zero() {
+        return Some(primitive(b));
+    }
+    if b.is_zero() {
+        return Some(primitive(a));
+    }
+    if a.as_constant().is_some() || b.as_constant().is_some() {
+        return Some(Poly::int(1));
+    }
+    if a == b {
+        return Some(primitive(a));
+    }
+    // Common monomial factor first: it is cheap and frequent (powers of z).
+    let ma = a.mono_content();
+    let mb = b.mono_content();
+    let mg = ma.gcd(mb);
+    let (a, b) = (a.div_mono(ma), b.div_mono(mb));
+    let g = gcd_rec(&a, &b)?;
+    Some(primitive(&g.mul_mono(mg)))
+}
+
+fn gcd_rec(a: &Poly, b: &Poly) -> Option<Poly> {
+    if a.is_zero() {
+        return Some(primitive(b));
+    }
+    if b.is_zero() {
+        return Some(primitive(a));
+    }
+    if a.as_constant().is_some() || b.as_constant().is_some() {
+        return Some(Poly::int(1));
+    }
+    let va = a.first_var().expect("non-constant");
+    let vb = b.first_var().expect("non-constant");
+    let v = va.min(vb);
+    if !a.uses_var(v) {
+        return gcd_rec(a, &content_in(b, v)?);
+    }
+    if !b.uses_var(v) {
+        return gcd_rec(&content_in(a, v)?, b);
+    }
+    let ca = content_in(a, v)?;
+    let cb = content_in(b, v)?;
+    let pa = a.div_exact(&ca)?;
+    let pb = b.div_exact(&cb)?;
+    let gc = gcd_rec(&ca, &cb)?;
+    let gp = prs_gcd(&pa, &pb, v)?;
+    Some(gc.mul(&gp))
+}
+
+/// The gcd of the coefficients of `p` seen as a polynomial in `v`.
+pub fn content_in(p: &Poly, v: usize) -> Option<Poly> {
+    let coeffs = p.to_univariate(v);
+    let mut g = Poly::zero();
+    // Smallest coefficients first: their gcd is found fastest and is often 1.
+    let mut order: Vec<&Poly> = coeffs.iter().filter(|c| !c.is_zero()).collect();
+    order.sort_by_key(|c| c.len());
+    for c in order {
+        g = if g.is_zero() {
+            primitive(c)
+        } else {
+            gcd_rec(&g, c)?
+        };
+        if g.as_constant().is_some() {
+            return Some(Poly::int(1));
+        }
+    }
+    Some(g)
+}
+
+/// Primitive part with respect to `v`.
+fn primitive_in(p: &Poly, v: usize) -> Option<Poly> {
+    let c = content_in(p, v)?;
+    Some(primitive(&p.div_exact(&c)?))
+}
+
+/// Subresultant remainder sequence for two polynomials primitive in `v`.
+fn prs_gcd(a: &Poly, b: &Poly, v: usize) -> Option<Poly> {
+    let (mut a, mut b) = (a.to_univariate(v), b.to_univariate(v));
+    if a.len() < b.len() {
+        std::mem::swap(&mut a, &mut b);
+    }
+    let mut g = Poly::int(1);
+    let mut h = Poly::int(1);
+    loop {
+        let delta = (a.len() - b.len()) as u32;
+        let r = prem(&a, &b)?;
+        if r.is_empty() {
+            return primitive_in(&Poly::from_univariate(v, &b), v);
+        }
+        if r.len() == 1 {
+            return Some(Poly::int(1));
+        }
+        // Divide by g·h^δ (exact by the subresultant theorem).
+        if !h.fits_pow(delta) {
+            return None;
+        }
+        let hd = h.pow(delta);
+        if !g.fits_mul(&hd) {
+            return None;
+        }
+        let divisor = g.mul(&hd);
+        let mut rr = Vec::with_capacity(r.len());
+        for c in &r {
+            rr.push(c.div_exact(&divisor)?);
+        }
+        a = b;
+        b = rr;
+        g = a.last()?.clone();
+        h = if delta == 0 {
+            h
+        } else {
+            if !g.fits_pow(delta) {
+                return None;
+            }
+            g.pow(delta).div_exact(&h.pow(delta - 1))?
+        };
+    }
+}
+
+/// Pseudo-remainder of univariate representations (coefficient lists, low
+/// degree first, no trailing zeros): `lc(b)^(deg a − deg b + 1) · a mod b`.
+fn prem(a: &[Poly], b: &[Poly]) -> Option<Vec<Poly>> {
+    let db = b.len() - 1;
+    let lb = &b[db];
+    let mut r: Vec<Poly> = a.to_vec();
+    let mut steps = (a.len() - b.len() + 1) as u32;
+    let bdeg = b.iter().fold(Mono::ONE, |d, c| d.lcm(c.degrees()));
+    while r.len() > db && !r.is_empty() {
+        let k = r.len() - 1 - db;
+        let lr = r.last()?.clone();
+        let rdeg = r.iter().fold(Mono::ONE, |d, c| d.lcm(c.degrees()));
+        if !rdeg.fits_mul(bdeg) {
+            return None;
+        }
+        for c in r.iter_mut() {
+            *c = c.mul(lb);
+        }
+        for (j, bj) in b.iter().enumerate() {
+            r[j + k] = r[j + k].sub(&lr.mul(bj));
+        }
+        trim(&mut r);
+        steps -= 1;
+        if r.len() <= db {
+            break;
+        }
+    }
+    if steps > 0 && !r.is_empty() {
+        if !lb.fits_pow(steps) {
+            return None;
+        }
+        let f = lb.pow(steps);
+        let rdeg = r.iter().fold(Mono::ONE, |d, c| d.lcm(c.degrees()));
+        if !rdeg.fits_mul(f.degrees()) {
+            return None;
+        }
+        for c in r.iter_mut() {
+            *c = c.mul(&f);
+        }
+    }
+    trim(&mut r);
+    Some(r)
+}
+
+fn trim(v: &mut Vec<Poly>) {
+    while matches!(v.last(), Some(c) if c.is_zero()) {
+        v.pop();
+    }
+}
+
+/// Square-free decomposition of a real primitive polynomial with respect to
+/// variable `v` (Yun's algorithm): returns `(f_k, k)` with `p = c · ∏ f_k^k`
+/// up to a factor free of `v`, each `f_k` primitive and non-constant in `v`.
+pub fn squarefree_in(p: &Poly, v: usize) -> Option<Vec<(Poly, u32)>> {
+    let mut out = Vec::new();
+    if !p.uses_var(v) {
+        return Some(out);
+    }
+    let dp = p.derivative(v);
+    let a = gcd(p, &dp)?;
+    let mut b = p.div_exact(&a)?;
+    let mut c = dp.div_exact(&a)?;
+    let mut d = c.sub(&b.derivative(v));
+    let mut k = 1;
+    while b.uses_var(v) && k <= super::poly::MAX_EXP {
+        let g = gcd(&b, &d)?;
+        if g.uses_var(v) {
+            out.push((primitive(&g), k));
+        }
+        b = b.div_exact(&g)?;
+        c = d.div_exact(&g)?;
+        d = c.sub(&b.derivative(v));
+        k += 1;
+    }
+    Some(out)
+}
+
+/// True when `p` is certainly irreducible over Q: it has degree one in some
+/// variable and is primitive with respect to it (then any factorisation would
+/// need a factor free of that variable dividing both coefficients).
+pub fn surely_irreducible(p: &Poly) -> bool {
+    if p.total_degree() == 1 {
+        return true;
+    }
+    for v in 0..super::poly::MAX_VARS {
+        if p.degree(v) == 1 {
+            let c = p.to_univariate(v);
+            if matches!(gcd(&c[0], &c[1]), Some(g) if g.as_constant().is_some()) {
+                return true;
+            }
+        }
+    }
+    false
+}
+
+/// Splits off factors of degree one in variable 0 where that is cheap and
+/// exact: rational roots of a polynomial in variable 0 alone, and the two
+/// roots of a quadratic (in variable 0, with parameter coefficients) whose
+/// discriminant is a perfect square. Returns primitive factors whose product
+/// is `p` up to a constant; `p` itself when nothing splits.
+pub fn split_linear(p: &Poly) -> Vec<Poly> {
+    let deg = p.degree(0);
+    if deg < 2 {
+        return vec![p.clone()];
+    }
+    let only_z = (1..super::poly::MAX_VARS).all(|i| !p.uses_var(i));
+    if only_z && p.is_real() {
+        return split_rational_roots(p);
+    }
+    if deg == 2 {
+        let c = p.to_univariate(0);
+        let (c0, c1, c2) = (&c[0], &c[1], &c[2]);
+        if !(c0.fits_mul(c2) && c1.fits_mul(c1)) {
+            return vec![p.clone()];
+        }
+        let disc = c1.mul(c1).sub(&c0.mul(c2).mul_int(&Int::from(4)));
+        let Some(s) = disc.sqrt_exact() else {
+            return vec![p.clone()];
+        };
+        // 2·c2·z + c1 − s is, up to a factor free of z, a factor of p.
+        let z = Poly::var(0);
+        let f = z.mul(c2).mul_int(&Int::from(2)).add(c1).sub(&s);
+        let Some(cont) = content_in(&f, 0) else {
+            return vec![p.clone()];
+        };
+        let Some(f) = f.div_exact(&cont) else {
+            return vec![p.clone()];
+        };
+        let f = primitive(&f);
+        if let Some(rest) = p.div_exact(&f) {
+            if rest.degree(0) == 1 {
+                return vec![f, primitive(&rest)];
+            }
+        }
+    }
+    vec![p.clone()]
+}
+
+fn small_divisors(n: &Int) -> Option<Vec<i64>> {
+    let Int::Small(v) = n.abs() else { return None };
+    if v == 0 || v > 1_000_000_000_000 {
+        return None;
+    }
+    let mut out = Vec::new();
+    let mut d = 1i64;
+    while d * d <= v {
+        if v % d == 0 {
+            out.push(d);
+            if d != v / d {
+                out.push(v / d);
+            }
+        }
+        d += 1;
+        if d > 1_000_000 {
+            return None;
+        }
+    }
+    out.sort_unstable();
+    Some(out)
+}
+
+fn split_rational_roots(p: &Poly) -> Vec<Poly> {
+    let mut rest = primitive(p);
+    let mut out = Vec::new();
+    loop {
+        if rest.degree(0) < 2 {
+            break;
+        }
+        let c = rest.to_univariate(0);
+        let a0 = c[0].as_constant().map(|g| g.re).unwrap_or(Int::ZERO);
+        let an = c[c.len() - 1]
+            .as_constant()
+            .map(|g| g.re)
+            .unwrap_or(Int::ZERO);
+        if a0.is_zero() {
+            // A root at zero: z itself.
+            out.push(Poly::var(0));
+            rest = rest.div_exact(&Poly::var(0)).expect("z divides");
+            continue;
+        }
+        let (Some(ds), Some(es)) = (small_divisors(&a0), small_divisors(&an)) else {
+            break;
+        };
+        let mut found = None;
+        'search: for &e in &es {
+            for &d in &ds {
+                for sign in [1i64, -1] {
+                    let r = Rat::new(Int::from(sign * d), Int::from(e)).expect("nonzero");
+                    if r.denom() != &Int::from(e) {
+                        continue;
+                    }
+                    if rest.eval(&[GRat::real(r.clone())]).is_zero() {
+                        found = Some((sign * d, e));
+                        break 'search;
+                    }
+                }
+            }
+        }
+        let Some((d, e)) = found else { break };
+        let f = Poly::var(0).mul_int(&Int::from(e)).sub(&Poly::int(d));
+        rest = rest.div_exact(&f).expect("root gives a factor");
+        out.push(f);
+    }
+    out.push(rest);
+    out.into_iter()
+        .filter(|f| f.as_constant().is_none())
+        .map(|f| primitive(&f))
+        .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn v(i: usize) -> Poly {
+        Poly::var(i)
+    }
+
+    #[test]
+    fn gcd_of_products() {
+        let (x, y, z) = (v(0), v(1), v(2));
+        let f = x.mul(&y).add(&z).add(&Poly::int(3));
+        let g1 = x.sub(&y).pow(2);
+        let g2 = x.add(&z.mul(&y));
+        let a = f.mul(&g1).mul(&Poly::int(6));
+        let b = f.mul(&g2).mul(&x).mul(&Poly::int(4));
+        assert_eq!(gcd(&a, &b), Some(primitive(&f)));
+        assert_eq!(gcd(&g1, &g2), Some(Poly::int(1)));
+        let d = x
+            .pow(2)
+            .sub(&Poly::int(2).mul(&v(1)).mul(&x))
+            .add(&v(2).pow(2));
+        assert_eq!(gcd(&d.mul(&x), &d.pow(2)), Some(d));
+    }
+
+    #[test]
+    fn squarefree_splits_powers() {
+        let (x, y) = (v(0), v(1));
+        let a = x.sub(&y);
+        let b = x.add(&Poly::int(1));
+        let p = a.pow(3).mul(&b);
+        let sf = squarefree_in(&p, 0).unwrap();
+        assert_eq!(sf, vec![(b, 1), (a, 3)]);
+    }
+
+    #[test]
+    fn linear_factors_split() {
+        let (z, a) = (v(0), v(1));
+        let one = Poly::int(1);
+        // z^2 - 1 = (z - 1)(z + 1); 2z^2 - 3z + 1 = (2z - 1)(z - 1)
+        let f = split_linear(&z.pow(2).sub(&one));
+        assert_eq!(f.len(), 2);
+        let g = split_linear(
+            &z.pow(2)
+                .mul(&Poly::int(2))
+                .sub(&z.mul(&Poly::int(3)))
+                .add(&one),
+        );
+        assert_eq!(g.len(), 2);
+        // z^2 - (1 + a) z + a = (z - 1)(z - a)
+        let h = split_linear(&z.pow(2).sub(&z.mul(&one.add(&a))).add(&a));
+        assert_eq!(h.len(), 2);
+        assert_eq!(
+            h[0].mul(&h[1]).normalize_sign().0,
+            z.pow(2).sub(&z.mul(&one.add(&a))).add(&a)
+        );
+        // r^2 - 2 M r + a^2 stays whole
+        assert_eq!(
+            split_linear(
+                &z.pow(2)
+                    .sub(&z.mul(&a).mul(&Poly::int(2)))
+                    .add(&v(2).pow(2))
+            )
+            .len(),
+            1
+        );
+    }
+
+    #[test]
+    fn irreducibility_heuristic() {
+        let (r, m, a) = (v(0), v(1), v(2));
+        let delta = r.pow(2).sub(&Poly::int(2).mul(&m).mul(&r)).add(&a.pow(2));
+        assert!(surely_irreducible(&delta));
+        assert!(!surely_irreducible(&r.pow(2).sub(&Poly::int(1))));
+    }
+}

@@ -1,0 +1,103 @@
+//! `canonode eval`: Q evaluated exactly at a point, printed in double precision.
+
+use super::values::{fmt_complex, parse_assignments};
+use super::{emit, report, Failure, Format, InputArgs};
+use crate::algebra::GRat;
+use crate::error::{Error, ErrorKind};
+use clap::Args;
+
+/// Arguments of `eval`.
+#[derive(Args, Debug)]
+pub(crate) struct EvalArgs {
+    #[command(flatten)]
+    input: InputArgs,
+    /// The point: a value for the variable and every parameter, e.g. 'r=3.1,M=1,omega=0.37-0.089i'.
+    #[arg(long = "at", value_name = "NAME=VALUE,...")]
+    at: String,
+    /// Output format (text or json).
+    #[arg(long = "format", value_enum, default_value = "text")]
+    format: Format,
+}
+
+pub(crate) fn run(a: &EvalArgs) -> u8 {
+    let src = match a.input.read() {
+        Ok(s) => s,
+        Err(f) => return fail(&f, None, a),
+    };
+    match compute(a, &src) {
+        Ok((re, im)) => {
+            let text = match a.format {
+                Format::Json => format!("{}\n", serde_json::json!({ "Q": [re, im] })),
+                _ => format!("Q = {}\n", fmt_complex(re, im)),
+            };
+            match emit(&text) {
+                Ok(()) => 0,
+                Err(f) => fail(&f, Some(&src), a),
+            }
+        }
+        Err(f) => fail(&f, Some(&src), a),
+    }
+}
+
+fn compute(a: &EvalArgs, src: &super::Source) -> Result<(f64, f64), Failure> {
+    let values = parse_assignments(&a.at, "--at")?;
+    let red = crate::ode::reduce(&src.input(), &a.input.options())?;
+    let names = red.field.names();
+    let mut point = vec![GRat::zero(); names.len()];
+    let mut given = vec![false; names.len()];
+    for (n, v, span) in &values {
+        match names.iter().position(|x| x == n) {
+            Some(i) => {
+                point[i] = v.clone();
+                given[i] = true;
+            }
+            None => {
+                return Err(Error::new(
+                    ErrorKind::Usage,
+                    format!("'{n}' is neither the variable nor a parameter of the equation"),
+                )
+                .at(*span)
+                .in_option("--at")
+                .note(format!("the names are: {}", names.join(", ")))
+                .into())
+            }
+        }
+    }
+    let missing: Vec<&str> = names
+        .iter()
+        .zip(&given)
+        .filter(|(_, g)| !**g)
+        .map(|(n, _)| n.as_str())
+        .collect();
+    if !missing.is_empty() {
+        return Err(Error::new(
+            ErrorKind::Usage,
+            format!("no value given for {}", missing.join(", ")),
+        )
+        .at(crate::syntax::Span::new(0, a.at.len()))
+        .in_option("--at")
+        .into());
+    }
+    let q = red.normal.q.eval(&point).ok_or_else(|| {
+        Error::new(
+            ErrorKind::Usage,
+            "Q has a pole at this point: its denominator vanishes there",
+        )
+        .at(crate::syntax::Span::new(0, a.at.len()))
+        .in_option("--at")
+    })?;
+    Ok(q.to_f64())
+}
+
+fn fail(f: &Failure, src: Option<&super::Source>, a: &EvalArgs) -> u8 {
+    let (msg, code) = report(
+        f,
+        src,
+        Some(&a.input),
+        &[("--at".to_string(), a.at.clone())],
+    );
+    if !msg.is_empty() {
+        eprintln!("{msg}");
+    }
+    code
+}

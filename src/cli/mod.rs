@@ -1,0 +1,274 @@
+//! The command line: the only module that reads files, writes to the
+//! terminal or chooses an exit status. Each subcommand is one file with a
+//! `run` function; this file holds the argument definitions shared by them.
+
+pub(crate) mod diagnostic;
+mod eval;
+mod reduce;
+mod values;
+
+use crate::error::{Error, ErrorKind, Origin};
+use crate::ode::{Input, ReduceOptions};
+use clap::{Args, Parser, Subcommand, ValueEnum};
+use std::ffi::OsString;
+use std::io::{Read, Write};
+use std::process::ExitCode;
+
+/// Exact normal forms of linear second-order ODEs from pasted text.
+#[derive(Parser, Debug)]
+#[command(name = "canonode", version, about, long_about = None)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+enum Command {
+    /// Derive the standard form, the normal form ψ'' + Qψ = 0, its principal parts and the prefactor.
+    Reduce(reduce::ReduceArgs),
+    /// Evaluate Q at a point: every variable and parameter given a (complex) value.
+    Eval(eval::EvalArgs),
+}
+
+/// Output formats.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub(crate) enum Format {
+    /// Plain text in the input language's notation.
+    Text,
+    /// LaTeX (amsmath).
+    Latex,
+    /// JSON with a stable schema.
+    Json,
+}
+
+/// Where the equation comes from, and the transformations applied to it.
+#[derive(Args, Debug, Clone)]
+pub(crate) struct InputArgs {
+    /// The equation file, or '-' for standard input.
+    #[arg(value_name = "FILE", required_unless_present = "equation")]
+    file: Option<String>,
+    /// An inline equation 'LHS = RHS' instead of a file; undeclared names become parameters.
+    #[arg(
+        short = 'e',
+        long = "equation",
+        value_name = "EQUATION",
+        conflicts_with = "file"
+    )]
+    equation: Option<String>,
+    /// The independent variable of an inline equation.
+    #[arg(
+        long = "var",
+        value_name = "NAME",
+        default_value = "z",
+        requires = "equation"
+    )]
+    var: String,
+    /// Change the variable: OLD=EXPR, with EXPR rational in a new variable (e.g. 'z=1/t').
+    #[arg(
+        long = "subst",
+        value_name = "OLD=EXPR",
+        conflicts_with = "at_infinity"
+    )]
+    subst: Option<String>,
+    /// Look at the point at infinity through z = 1/t.
+    #[arg(long = "at-infinity")]
+    at_infinity: bool,
+    /// dx/dz for the Schrödinger form, in the equation's variable (e.g. '1/f' for the tortoise coordinate).
+    #[arg(long = "dxdz", value_name = "EXPR")]
+    dxdz: Option<String>,
+    /// The frequency parameter ω in V = ω² − W (default: omega, ω or w when declared).
+    #[arg(long = "frequency", value_name = "NAME")]
+    frequency: Option<String>,
+}
+
+/// The text of the input and its display name.
+pub(crate) struct Source {
+    pub name: String,
+    pub text: String,
+    pub inline_var: Option<String>,
+}
+
+impl Source {
+    pub(crate) fn input(&self) -> Input<'_> {
+        match &self.inline_var {
+            Some(v) => Input::Inline {
+                equation: &self.text,
+                var: v,
+            },
+            None => Input::Program(&self.text),
+        }
+    }
+}
+
+/// A failure to report: a library error with the text it points into, or an I/O problem.
+pub(crate) enum Failure {
+    /// An error of the library, rendered against its source.
+    Lib(Error),
+    /// A message with its exit status.
+    Plain(String, u8),
+}
+
+impl From<Error> for Failure {
+    fn from(e: Error) -> Failure {
+        Failure::Lib(e)
+    }
+}
+
+impl InputArgs {
+    pub(crate) fn read(&self) -> Result<Source, Failure> {
+        if let Some(eq) = &self.equation {
+            return Ok(Source {
+                name: "<equation>".into(),
+                text: eq.clone(),
+                inline_var: Some(self.var.clone()),
+            });
+        }
+        let file = self.file.clone().unwrap_or_else(|| "-".into());
+        let limit = crate::syntax::ParseLimits::default().max_bytes as u64;
+        let mut bytes = Vec::new();
+        let res = if file == "-" {
+            std::io::stdin().take(limit + 1).read_to_end(&mut bytes)
+        } else {
+            std::fs::File::open(&file).and_then(|f| f.take(limit + 1).read_to_end(&mut bytes))
+        };
+        if let Err(e) = res {
+            return Err(Failure::Plain(
+                format!("{file}: error: cannot read the file: {e}"),
+                2,
+            ));
+        }
+        let name = if file == "-" {
+            "<stdin>".to_string()
+        } else {
+            file
+        };
+        if bytes.len() as u64 > limit {
+            return Err(Failure::Plain(
+                format!("{name}: error: the input is larger than the limit of {limit} bytes"),
+                2,
+            ));
+        }
+        match String::from_utf8(bytes) {
+            Ok(text) => Ok(Source {
+                name,
+                text,
+                inline_var: None,
+            }),
+            Err(e) => {
+                let at = e.utf8_error().valid_up_to();
+                let text = String::from_utf8_lossy(e.as_bytes()).into_owned();
+                let err = Error::new(ErrorKind::Syntax, "the input is not valid UTF-8")
+                    .at(crate::syntax::Span::new(at, at + 1));
+                Err(Failure::Plain(
+                    diagnostic::render(&err, &name, &text)
+                        .trim_end()
+                        .to_string(),
+                    2,
+                ))
+            }
+        }
+    }
+
+    pub(crate) fn options(&self) -> ReduceOptions {
+        ReduceOptions {
+            subst: self.subst.clone(),
+            at_infinity: self.at_infinity,
+            dxdz: self.dxdz.clone(),
+            frequency: self.frequency.clone(),
+            ..ReduceOptions::default()
+        }
+    }
+
+    /// The text a command-line option's error points into.
+    pub(crate) fn option_text(&self, option: &str) -> Option<String> {
+        match option {
+            "--subst" => self.subst.clone(),
+            "--at-infinity" => Some(String::new()),
+            "--dxdz" => self.dxdz.clone(),
+            "--frequency" => self.frequency.clone(),
+            _ => None,
+        }
+    }
+}
+
+/// Renders a failure for stderr and gives its exit status.
+pub(crate) fn report(
+    f: &Failure,
+    src: Option<&Source>,
+    args: Option<&InputArgs>,
+    extra: &[(String, String)],
+) -> (String, u8) {
+    match f {
+        Failure::Plain(m, code) => (m.clone(), *code),
+        Failure::Lib(e) => {
+            let code = if e.is_bad_input() { 2 } else { 1 };
+            let text = match &e.origin {
+                Origin::Input => match src {
+                    Some(s) => diagnostic::render(e, &s.name, &s.text),
+                    None => diagnostic::render(e, "<input>", ""),
+                },
+                Origin::Option(o) => {
+                    let t = args
+                        .and_then(|a| a.option_text(o))
+                        .or_else(|| extra.iter().find(|(n, _)| n == o).map(|(_, t)| t.clone()))
+                        .unwrap_or_default();
+                    diagnostic::render(e, o, &t)
+                }
+            };
+            (text.trim_end().to_string(), code)
+        }
+    }
+}
+
+/// Writes to stdout; a closed pipe ends the program quietly.
+pub(crate) fn emit(text: &str) -> Result<(), Failure> {
+    let mut out = std::io::stdout().lock();
+    match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
+        Ok(()) => Ok(()),
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => {
+            Err(Failure::Plain(String::new(), 0))
+        }
+        Err(e) => Err(Failure::Plain(
+            format!("error: cannot write the output: {e}"),
+            1,
+        )),
+    }
+}
+
+/// Runs the program on the given arguments and returns its exit status. The
+/// work runs on a thread with a large stack so that deeply nested (but
+/// within-limit) input cannot overflow it.
+pub fn main_with_args(args: Vec<OsString>) -> ExitCode {
+    let cli = match Cli::try_parse_from(args) {
+        Ok(c) => c,
+        Err(e) => {
+            let code = if e.use_stderr() { 2 } else { 0 };
+            let _ = e.print();
+            return ExitCode::from(code);
+        }
+    };
+    let worker = std::thread::Builder::new()
+        .stack_size(512 << 20)
+        .spawn(move || run(cli));
+    let code = match worker.map(|h| h.join()) {
+        Ok(Ok(code)) => code,
+        Ok(Err(_)) => {
+            eprintln!(
+                "error: internal failure (a bug in canonode; please report it with the input)"
+            );
+            1
+        }
+        Err(e) => {
+            eprintln!("error: cannot start the worker thread: {e}");
+            1
+        }
+    };
+    ExitCode::from(code)
+}
+
+fn run(cli: Cli) -> u8 {
+    match cli.command {
+        Command::Reduce(a) => reduce::run(&a),
+        Command::Eval(a) => eval::run(&a),
+    }
+}

@@ -1,0 +1,179 @@
+//! Reading of command-line values: `name=value` lists whose values are exact
+//! complex decimals such as `0.37-0.089i`.
+
+use crate::algebra::{GRat, Rat};
+use crate::error::{Error, ErrorKind, Result};
+use crate::syntax::Span;
+
+/// Parses `a`, `bi`, `a+bi`, `a-bi` (also with `I`, `*i`, or a bare `i`) exactly.
+pub(crate) fn parse_complex(text: &str) -> Option<GRat> {
+    let t: String = text.chars().filter(|c| !c.is_whitespace()).collect();
+    if t.is_empty() {
+        return None;
+    }
+    let imag_suffix = |s: &str| -> Option<String> {
+        let s = s.strip_suffix(['i', 'I'])?;
+        let s = s.strip_suffix('*').unwrap_or(s);
+        Some(if s.is_empty() || s == "+" || s == "-" {
+            format!("{s}1")
+        } else {
+            s.to_string()
+        })
+    };
+    let signed = |s: &str| -> Option<Rat> {
+        let (neg, body) = match s.strip_prefix('-') {
+            Some(b) => (true, b),
+            None => (false, s.strip_prefix('+').unwrap_or(s)),
+        };
+        let r = Rat::parse_decimal(body)?;
+        Some(if neg { r.neg() } else { r })
+    };
+    // The split between real and imaginary parts: the last sign not after an exponent mark.
+    let bytes = t.as_bytes();
+    let mut split = None;
+    for i in (1..bytes.len()).rev() {
+        if (bytes[i] == b'+' || bytes[i] == b'-') && !matches!(bytes[i - 1], b'e' | b'E') {
+            split = Some(i);
+            break;
+        }
+    }
+    if let Some(im) = imag_suffix(&t) {
+        match split {
+            Some(i) => {
+                let re = signed(&t[..i])?;
+                let im = signed(imag_suffix(&t[i..])?.as_str())?;
+                Some(GRat { re, im })
+            }
+            None => Some(GRat {
+                re: Rat::zero(),
+                im: signed(&im)?,
+            }),
+        }
+    } else {
+        Some(GRat::real(signed(&t)?))
+    }
+}
+
+/// Parses `name=value,name=value,...`; spans point into `text`.
+pub(crate) fn parse_assignments(text: &str, option: &str) -> Result<Vec<(String, GRat, Span)>> {
+    let mut out: Vec<(String, GRat, Span)> = Vec::new();
+    let mut start = 0;
+    for piece in text.split(',') {
+        let span = Span::new(start, start + piece.len());
+        start += piece.len() + 1;
+        if piece.trim().is_empty() {
+            continue;
+        }
+        let Some(eq) = piece.find('=') else {
+            return Err(Error::new(
+                ErrorKind::Usage,
+                format!("expected NAME=VALUE, found '{}'", piece.trim()),
+            )
+            .at(span)
+            .in_option(option));
+        };
+        let name = piece[..eq].trim().to_string();
+        let value = &piece[eq + 1..];
+        let vspan = Span::new(span.start + eq + 1, span.end);
+        let Some(v) = parse_complex(value) else {
+            return Err(Error::new(
+                ErrorKind::Usage,
+                format!(
+                    "'{}' is not a number (write e.g. 3.1, 2e-3, 0.37-0.089i)",
+                    value.trim()
+                ),
+            )
+            .at(vspan)
+            .in_option(option));
+        };
+        if out.iter().any(|(n, _, _)| *n == name) {
+            return Err(
+                Error::new(ErrorKind::Usage, format!("'{name}' is given twice"))
+                    .at(span)
+                    .in_option(option),
+            );
+        }
+        out.push((name, v, span));
+    }
+    Ok(out)
+}
+
+/// A double with 17 significant digits, positional for moderate exponents.
+pub(crate) fn fmt17(x: f64) -> String {
+    if x == 0.0 {
+        return "0".to_string();
+    }
+    if !x.is_finite() {
+        return format!("{x}");
+    }
+    let s = format!("{:.16e}", x);
+    let (mant, exp) = s.split_once('e').expect("exponent form");
+    let exp: i32 = exp.parse().expect("integer exponent");
+    let neg = mant.starts_with('-');
+    let digits: String = mant.chars().filter(|c| c.is_ascii_digit()).collect();
+    let body = if (-5..17).contains(&exp) {
+        if exp >= 0 {
+            let e = exp as usize + 1;
+            let (ip, fp) = digits.split_at(e.min(digits.len()));
+            let fp = fp.trim_end_matches('0');
+            if fp.is_empty() {
+                ip.to_string()
+            } else {
+                format!("{ip}.{fp}")
+            }
+        } else {
+            let zeros = "0".repeat((-exp - 1) as usize);
+            format!("0.{zeros}{}", digits.trim_end_matches('0'))
+        }
+    } else {
+        let (d0, rest) = digits.split_at(1);
+        let rest = rest.trim_end_matches('0');
+        if rest.is_empty() {
+            format!("{d0}e{exp}")
+        } else {
+            format!("{d0}.{rest}e{exp}")
+        }
+    };
+    if neg {
+        format!("-{body}")
+    } else {
+        body
+    }
+}
+
+/// A complex number as `a+bi` / `a-bi` with 17 significant digits.
+pub(crate) fn fmt_complex(re: f64, im: f64) -> String {
+    if im == 0.0 {
+        return fmt17(re);
+    }
+    let sign = if im < 0.0 { '-' } else { '+' };
+    format!("{}{}{}i", fmt17(re), sign, fmt17(im.abs()))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn complex_values() {
+        let v = parse_complex("0.37-0.089i").unwrap();
+        assert_eq!(v.re, Rat::parse_decimal("0.37").unwrap());
+        assert_eq!(v.im, Rat::parse_decimal("0.089").unwrap().neg());
+        assert_eq!(parse_complex("-2i").unwrap().im, Rat::int((-2).into()));
+        assert_eq!(
+            parse_complex("1e-3").unwrap().re,
+            Rat::parse_decimal("0.001").unwrap()
+        );
+        assert_eq!(parse_complex("1e-3+i").unwrap().im, Rat::one());
+        assert!(parse_complex("abc").is_none());
+        assert!(parse_complex("").is_none());
+    }
+
+    #[test]
+    fn seventeen_digits() {
+        assert_eq!(fmt17(0.1), "0.10000000000000001");
+        assert_eq!(fmt17(2.0), "2");
+        assert_eq!(fmt17(-1.5e-9), "-1.5e-9");
+        assert_eq!(fmt_complex(0.25, -0.5), "0.25-0.5i");
+    }
+}

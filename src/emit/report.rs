@@ -1,0 +1,307 @@
+//! Reports of a [`Reduction`](crate::ode::Reduction) in text, LaTeX and JSON.
+//!
+//! JSON schema of `reduce --format json` (stable; keys in this order):
+//! `variable`, `unknown`, `parameters`, `inferred_parameters`,
+//! `change_of_variable` (null or {`old`, `new`, `map`, `schwarzian`}),
+//! `standard_form` {`p`, `q`}, `normal_form` {`Q`, `numerator`,
+//! `denominator`, `denominator_factors` [{`factor`, `power`}],
+//! `principal_parts` [{`at`, `factor`, `order`, `coefficients` [{`power`,
+//! `coefficient`}]}]}, `prefactor` {`text`, `powers` [{`base`,
+//! `exponent`}], `exponential`, `unevaluated` [{`factor`, `power`,
+//! `numerator`}]}, `schrodinger` (null or {`dxdz`, `frequency`, `W`, `V`,
+//! `V_depends_on_frequency`}). Every expression is text in the input
+//! language, so it can be pasted back into a file.
+
+use crate::algebra::print::{den_text, poly_text, ratfunc_text, Style};
+use crate::algebra::{Int, Poly, RatFunc};
+use crate::ode::{Prefactor, Reduction};
+use serde_json::{json, Value};
+
+fn names(r: &Reduction) -> Vec<String> {
+    r.field.names().to_vec()
+}
+
+fn rt(r: &Reduction, x: &RatFunc, style: Style) -> String {
+    ratfunc_text(x, &names(r), style)
+}
+
+fn pt(r: &Reduction, x: &Poly, style: Style) -> String {
+    poly_text(x, &Int::ONE, &names(r), style)
+}
+
+fn wrap(s: String, style: Style) -> String {
+    if s.chars()
+        .all(|c| c.is_alphanumeric() || c == '_' || c == '\\' || c == '{' || c == '}')
+    {
+        s
+    } else {
+        match style {
+            Style::Text => format!("({s})"),
+            Style::Latex => format!("\\left({s}\\right)"),
+        }
+    }
+}
+
+/// `(z - z0)` for printing, with `z` alone when z0 = 0 and `z + c` for z0 = −c.
+fn shifted(v: &str, at: &str, style: Style) -> String {
+    let simple = |t: &str| !t.contains(" + ") && !t.contains(" - ");
+    let (l, r) = match style {
+        Style::Text => ("(", ")"),
+        Style::Latex => ("\\left(", "\\right)"),
+    };
+    if at == "0" {
+        v.to_string()
+    } else if let Some(neg) = at.strip_prefix('-').filter(|t| simple(t)) {
+        format!("{l}{v} + {neg}{r}")
+    } else if simple(at) {
+        format!("{l}{v} - {at}{r}")
+    } else {
+        format!("{l}{v} - {l}{at}{r}{r}")
+    }
+}
+
+/// The prefactor as one expression: y = (this) · ψ.
+pub(crate) fn prefactor_text(r: &Reduction, pf: &Prefactor, style: Style) -> String {
+    let mut parts = Vec::new();
+    for (f, e) in &pf.powers {
+        let base = wrap(pt(r, f, style), style);
+        let ex = rt(r, e, style);
+        parts.push(match style {
+            Style::Text => format!("{base}^{}", wrap(ex, style)),
+            Style::Latex => format!("{base}^{{{ex}}}"),
+        });
+    }
+    if !pf.exponential.is_zero() {
+        let ex = rt(r, &pf.exponential, style);
+        parts.push(match style {
+            Style::Text => format!("exp({ex})"),
+            Style::Latex => format!("e^{{{ex}}}"),
+        });
+    }
+    let var = match style {
+        Style::Text => r.var.clone(),
+        Style::Latex => crate::algebra::print::latex_name(&r.var),
+    };
+    for (f, e, a) in &pf.unevaluated {
+        let fe = if *e == 1 {
+            wrap(pt(r, f, style), style)
+        } else {
+            format!("{}^{e}", wrap(pt(r, f, style), style))
+        };
+        let num = rt(r, a, style);
+        parts.push(match style {
+            Style::Text => format!("exp(-1/2*integral(({num})/{fe}, {var}))"),
+            Style::Latex => format!(
+                "\\exp\\left(-\\frac{{1}}{{2}}\\int \\frac{{{num}}}{{{fe}}}\\,d{var}\\right)"
+            ),
+        });
+    }
+    if parts.is_empty() {
+        return "1".to_string();
+    }
+    match style {
+        Style::Text => parts.join("*"),
+        Style::Latex => parts.join(" "),
+    }
+}
+
+fn principal_rows(r: &Reduction, style: Style) -> Vec<(String, Vec<(i64, String)>)> {
+    r.normal
+        .principal
+        .iter()
+        .map(|pp| {
+            let at = rt(r, &pp.point, style);
+            let rows = pp
+                .coeffs
+                .iter()
+                .enumerate()
+                .map(|(j, c)| (-(pp.order as i64) + j as i64, rt(r, c, style)))
+                .collect();
+            (at, rows)
+        })
+        .collect()
+}
+
+/// The derivation as plain text.
+pub fn reduction_text(r: &Reduction, source_name: &str) -> String {
+    let s = Style::Text;
+    let mut o = String::new();
+    let ode = &r.ode;
+    o.push_str(&format!("equation      {source_name}\n"));
+    o.push_str(&format!("unknown       {}({})\n", ode.unknown, ode.var));
+    o.push_str(&format!(
+        "parameters    {}\n",
+        if ode.params.is_empty() {
+            "(none)".to_string()
+        } else {
+            ode.params.join(", ")
+        }
+    ));
+    if !ode.inferred.is_empty() {
+        o.push_str(&format!(
+            "inferred      {} (undeclared names taken as parameters)\n",
+            ode.inferred.join(", ")
+        ));
+    }
+    if let Some(c) = &r.change {
+        o.push_str(&format!(
+            "\nchange of variable   {} = {}\n",
+            c.old_var,
+            rt(r, &c.g, s)
+        ));
+        o.push_str(&format!(
+            "  Schwarzian {{{}, {}}} = {}\n",
+            c.old_var,
+            c.new_var,
+            rt(r, &c.schwarzian, s)
+        ));
+    }
+    let u = &ode.unknown;
+    let v = &r.var;
+    o.push_str(&format!(
+        "\nstandard form   {u}'' + p*{u}' + q*{u} = 0   (derivatives in {v})\n"
+    ));
+    o.push_str(&format!("  p = {}\n", rt(r, &r.p, s)));
+    o.push_str(&format!("  q = {}\n", rt(r, &r.q, s)));
+    o.push_str(&format!("\nnormal form   ψ'' + Q*ψ = 0,   {u} = P*ψ\n"));
+    o.push_str(&format!(
+        "  Q = N/D\n  N = {}\n",
+        poly_text(r.normal.q.num(), r.normal.q.scale(), &names(r), s)
+    ));
+    o.push_str(&format!("  D = {}\n", den_text(&r.normal.q, &names(r), s)));
+    let rows = principal_rows(r, s);
+    if !rows.is_empty() {
+        o.push_str("\nprincipal parts of Q\n");
+        for (at, cs) in rows {
+            o.push_str(&format!("  at {v} = {at}:\n"));
+            for (pw, c) in cs {
+                o.push_str(&format!("    {}^({pw}):  {c}\n", shifted(v, &at, s)));
+            }
+        }
+    }
+    o.push_str(&format!(
+        "\nprefactor   P = exp(-1/2*integral(p)) = {}\n",
+        prefactor_text(r, &r.normal.prefactor, s)
+    ));
+    if let Some(sch) = &r.schrodinger {
+        o.push_str(&format!(
+            "\nSchrödinger form   d²φ/dx² + (ω² − V)*φ = 0,   dx/d{v} = {}\n",
+            rt(r, &sch.dxdz, s)
+        ));
+        match &sch.frequency {
+            Some(f) => o.push_str(&format!("  frequency {f}:  V = {f}^2 - W\n")),
+            None => o.push_str("  no frequency parameter: V = -W\n"),
+        }
+        o.push_str(&format!(
+            "  W = {}\n  V = {}\n",
+            rt(r, &sch.w, s),
+            rt(r, &sch.v, s)
+        ));
+        if sch.v_depends_on_frequency {
+            o.push_str("  note: V depends on the frequency (an energy-dependent potential)\n");
+        }
+    }
+    o
+}
+
+/// The derivation as a LaTeX fragment (an `align*` environment, amsmath).
+pub fn reduction_latex(r: &Reduction) -> String {
+    let s = Style::Latex;
+    let u = crate::algebra::print::latex_name(&r.ode.unknown);
+    let v = crate::algebra::print::latex_name(&r.var);
+    let mut lines = Vec::new();
+    if let Some(c) = &r.change {
+        lines.push(format!(
+            "{} &= {}",
+            crate::algebra::print::latex_name(&c.old_var),
+            rt(r, &c.g, s)
+        ));
+    }
+    lines.push(format!(
+        "{u}'' + p\\,{u}' + q\\,{u} &= 0, \\qquad ' = \\frac{{d}}{{d{v}}}"
+    ));
+    lines.push(format!("p &= {}", rt(r, &r.p, s)));
+    lines.push(format!("q &= {}", rt(r, &r.q, s)));
+    lines.push(format!(
+        "{u} &= {}\\,\\psi, \\qquad \\psi'' + Q\\,\\psi = 0",
+        prefactor_text(r, &r.normal.prefactor, s)
+    ));
+    lines.push(format!("Q &= {}", rt(r, &r.normal.q, s)));
+    for (at, cs) in principal_rows(r, s) {
+        let terms: Vec<String> = cs
+            .iter()
+            .map(|(pw, c)| format!("\\left({c}\\right){}^{{{pw}}}", shifted(&v, &at, s)))
+            .collect();
+        lines.push(format!(
+            "Q &= {} + O(1) \\quad ({v} \\to {at})",
+            terms.join(" + ")
+        ));
+    }
+    if let Some(sch) = &r.schrodinger {
+        lines.push(format!("\\frac{{dx}}{{d{v}}} &= {}", rt(r, &sch.dxdz, s)));
+        lines.push(format!("V &= {}", rt(r, &sch.v, s)));
+    }
+    format!(
+        "\\begin{{align*}}\n{}\n\\end{{align*}}\n",
+        lines.join(" \\\\\n")
+    )
+}
+
+/// The derivation as JSON (schema in the module documentation).
+pub fn reduction_json(r: &Reduction) -> Value {
+    let s = Style::Text;
+    let nf = &r.normal;
+    let factors: Vec<Value> =
+        nf.q.den_factors()
+            .iter()
+            .map(|(f, e)| json!({"factor": pt(r, f.poly(), s), "power": e}))
+            .collect();
+    let principal: Vec<Value> = nf
+        .principal
+        .iter()
+        .map(|pp| {
+            let cs: Vec<Value> = pp.coeffs.iter().enumerate().map(|(j, c)| json!({"power": -(pp.order as i64) + j as i64, "coefficient": rt(r, c, s)})).collect();
+            json!({"at": rt(r, &pp.point, s), "factor": pt(r, &pp.factor, s), "order": pp.order, "coefficients": cs})
+        })
+        .collect();
+    let pf = &nf.prefactor;
+    let powers: Vec<Value> = pf
+        .powers
+        .iter()
+        .map(|(f, e)| json!({"base": pt(r, f, s), "exponent": rt(r, e, s)}))
+        .collect();
+    let unev: Vec<Value> = pf
+        .unevaluated
+        .iter()
+        .map(|(f, e, a)| json!({"factor": pt(r, f, s), "power": e, "numerator": rt(r, a, s)}))
+        .collect();
+    let change = match &r.change {
+        Some(c) => {
+            json!({"old": c.old_var, "new": c.new_var, "map": rt(r, &c.g, s), "schwarzian": rt(r, &c.schwarzian, s)})
+        }
+        None => Value::Null,
+    };
+    let schrod = match &r.schrodinger {
+        Some(x) => {
+            json!({"dxdz": rt(r, &x.dxdz, s), "frequency": x.frequency, "W": rt(r, &x.w, s), "V": rt(r, &x.v, s), "V_depends_on_frequency": x.v_depends_on_frequency})
+        }
+        None => Value::Null,
+    };
+    json!({
+        "variable": r.var,
+        "unknown": r.ode.unknown,
+        "parameters": r.ode.params,
+        "inferred_parameters": r.ode.inferred,
+        "change_of_variable": change,
+        "standard_form": {"p": rt(r, &r.p, s), "q": rt(r, &r.q, s)},
+        "normal_form": {
+            "Q": rt(r, &nf.q, s),
+            "numerator": poly_text(nf.q.num(), nf.q.scale(), &names(r), s),
+            "denominator": pt(r, &nf.q.den_expanded(), s),
+            "denominator_factors": factors,
+            "principal_parts": principal,
+        },
+        "prefactor": {"text": prefactor_text(r, pf, s), "powers": powers, "exponential": rt(r, &pf.exponential, s), "unevaluated": unev},
+        "schrodinger": schrod,
+    })
+}

@@ -1,0 +1,746 @@
+//! Lowering: from the syntax tree to a linear ODE a2·y'' + a1·y' + a0·y = 0
+//! with exact rational coefficients, and from there to the standard form
+//! y'' + p y' + q y = 0. Checks every rule of the input language that is not
+//! pure syntax: declarations, the unknown, linearity, homogeneity, order and
+//! rationality, each with the span of the offending text.
+
+use super::quasi::{Atoms, Quasi};
+use crate::algebra::{Field, GRat, Limits, Rat, RatFunc};
+use crate::error::{Error, ErrorKind, Result};
+use crate::syntax::{BinOp, Expr, ExprKind, Program, Span, Statement};
+use std::collections::BTreeMap;
+
+/// The highest derivative order tracked while lowering (the equation itself
+/// must be of order exactly two; the slack gives a clear message for y''').
+const MAX_ORDER: usize = 4;
+
+/// A linear second-order ODE in standard form, exact.
+#[derive(Debug)]
+pub struct LinearOde {
+    /// The field of rational functions: variable 0 is the independent variable, then the parameters.
+    pub field: Field,
+    /// The independent variable's name.
+    pub var: String,
+    /// The unknown function's name.
+    pub unknown: String,
+    /// Parameter names in declaration order.
+    pub params: Vec<String>,
+    /// Parameters that were not declared but inferred (inline mode only).
+    pub inferred: Vec<String>,
+    /// Coefficient of y' after dividing by the coefficient of y''.
+    pub p: RatFunc,
+    /// Coefficient of y after dividing by the coefficient of y''.
+    pub q: RatFunc,
+    /// The `let` definitions that are rational functions of the variable, in order (for display).
+    pub lets: Vec<(String, RatFunc)>,
+}
+
+/// How undeclared names are treated.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum NameMode {
+    /// Every name must be declared (files).
+    Strict,
+    /// Undeclared names other than the unknown become parameters (inline `-e`).
+    Infer,
+}
+
+/// A lowered expression: a part free of the unknown plus coefficients of
+/// y, y', y'', ...
+#[derive(Clone, Debug, Default)]
+struct Value {
+    free: Quasi,
+    lin: Vec<Quasi>,
+}
+
+impl Value {
+    fn is_linear_free(&self) -> bool {
+        self.lin.iter().all(Quasi::is_zero)
+    }
+    fn constant(q: Quasi) -> Value {
+        Value {
+            free: q,
+            lin: Vec::new(),
+        }
+    }
+}
+
+struct Lowerer<'a> {
+    field: Field,
+    atoms: Atoms,
+    lets: BTreeMap<String, (Value, Span)>,
+    params: &'a [String],
+    var: &'a str,
+    unknown: &'a str,
+}
+
+fn err(kind: ErrorKind, msg: impl Into<String>, span: Span) -> Error {
+    Error::new(kind, msg).at(span)
+}
+
+/// Lowers a parsed program.
+pub fn lower_program(program: &Program, mode: NameMode, limits: &Limits) -> Result<LinearOde> {
+    let mut var: Option<(String, Span)> = None;
+    let mut params: Vec<(String, Span)> = Vec::new();
+    let mut unknown: Option<(String, Span)> = None;
+    let mut ode: Option<(&Expr, &Expr, Span)> = None;
+    let mut let_names: Vec<(String, Span)> = Vec::new();
+    let declared = |name: &str,
+                    params: &[(String, Span)],
+                    var: &Option<(String, Span)>,
+                    lets: &[(String, Span)]| {
+        params
+            .iter()
+            .find(|(n, _)| n == name)
+            .map(|(_, s)| ("a parameter", *s))
+            .or_else(|| {
+                var.as_ref()
+                    .filter(|(n, _)| n == name)
+                    .map(|(_, s)| ("the variable", *s))
+                    .or_else(|| {
+                        lets.iter()
+                            .find(|(n, _)| n == name)
+                            .map(|(_, s)| ("a let", *s))
+                    })
+            })
+    };
+    for st in &program.statements {
+        match st {
+            Statement::Var(id) => {
+                if let Some((_, first)) = &var {
+                    let _ = first;
+                    return Err(err(
+                        ErrorKind::Structure,
+                        "a second 'var' statement: the equation has one independent variable",
+                        id.span,
+                    ));
+                }
+                if let Some((what, _)) = declared(&id.name, &params, &var, &let_names) {
+                    return Err(err(
+                        ErrorKind::Structure,
+                        format!("'{}' is already declared as {what}", id.name),
+                        id.span,
+                    ));
+                }
+                var = Some((id.name.clone(), id.span));
+            }
+            Statement::Param(ids) => {
+                for id in ids {
+                    if let Some((what, _)) = declared(&id.name, &params, &var, &let_names) {
+                        return Err(err(
+                            ErrorKind::Structure,
+                            format!("'{}' is already declared as {what}", id.name),
+                            id.span,
+                        ));
+                    }
+                    params.push((id.name.clone(), id.span));
+                }
+            }
+            Statement::Let { name, .. } => {
+                if let Some((what, _)) = declared(&name.name, &params, &var, &let_names) {
+                    return Err(err(
+                        ErrorKind::Structure,
+                        format!("'{}' is already declared as {what}", name.name),
+                        name.span,
+                    ));
+                }
+                let_names.push((name.name.clone(), name.span));
+            }
+            Statement::Unknown(id) => {
+                if unknown.is_some() {
+                    return Err(err(
+                        ErrorKind::Structure,
+                        "a second 'unknown' statement",
+                        id.span,
+                    ));
+                }
+                unknown = Some((id.name.clone(), id.span));
+            }
+            Statement::Ode { lhs, rhs, span } => {
+                if ode.is_some() {
+                    return Err(err(
+                        ErrorKind::Structure,
+                        "a second 'ode' statement: a file holds one equation",
+                        *span,
+                    ));
+                }
+                ode = Some((lhs, rhs, *span));
+            }
+        }
+    }
+    let Some((lhs, rhs, ode_span)) = ode else {
+        return Err(Error::new(
+            ErrorKind::Structure,
+            "no 'ode' statement: nothing to reduce",
+        )
+        .note("write the equation as: ode LHS = RHS"));
+    };
+    let (var, _) = match var {
+        Some(v) => v,
+        None => {
+            return Err(Error::new(
+                ErrorKind::Structure,
+                "no 'var' statement: the independent variable is not named",
+            )
+            .at(Span::new(ode_span.start, ode_span.start + 3))
+            .note("add a line such as: var r"))
+        }
+    };
+    // The unknown: explicit, or the one name that carries primes in the equation.
+    let known = |n: &str| {
+        n == var || params.iter().any(|(p, _)| p == n) || let_names.iter().any(|(l, _)| l == n)
+    };
+    let unknown = match unknown {
+        Some((u, s)) => {
+            if known(&u) {
+                return Err(err(
+                    ErrorKind::Structure,
+                    format!("the unknown '{u}' is also declared as another name"),
+                    s,
+                ));
+            }
+            u
+        }
+        None => {
+            let mut primed = Vec::new();
+            collect_primed(lhs, &mut primed);
+            collect_primed(rhs, &mut primed);
+            primed.retain(|(n, _)| !known(n));
+            primed.dedup_by(|a, b| a.0 == b.0);
+            let mut names: Vec<(String, Span)> = Vec::new();
+            for p in primed {
+                if !names.iter().any(|(n, _)| *n == p.0) {
+                    names.push(p);
+                }
+            }
+            match names.len() {
+                0 => {
+                    return Err(err(ErrorKind::NotSecondOrder, "no unknown function: no undeclared name carries a derivative (') in the equation", ode_span)
+                        .note("write the unknown with primes, e.g. y'' + q*y = 0, or name it with: unknown y"))
+                }
+                1 => names.remove(0).0,
+                _ => {
+                    let list: Vec<String> = names.iter().map(|(n, _)| format!("'{n}'")).collect();
+                    return Err(err(ErrorKind::Structure, format!("more than one undeclared name carries a derivative: {}", list.join(", ")), names[1].1)
+                        .note("declare the others with 'param' or 'let', or name the unknown with: unknown NAME"));
+                }
+            }
+        }
+    };
+    // Inline mode: undeclared names become parameters, in order of appearance.
+    let mut inferred = Vec::new();
+    if mode == NameMode::Infer {
+        let mut names = Vec::new();
+        for st in &program.statements {
+            if let Statement::Let { value, .. } = st {
+                collect_names(value, &mut names);
+            }
+        }
+        collect_names(lhs, &mut names);
+        collect_names(rhs, &mut names);
+        let mut new_params = Vec::new();
+        for (n, s) in names {
+            if n != unknown && !known(&n) && !inferred.contains(&n) {
+                new_params.push((n.clone(), s));
+                inferred.push(n);
+            }
+        }
+        params.extend(new_params);
+    }
+    let param_names: Vec<String> = params.iter().map(|(n, _)| n.clone()).collect();
+    let mut names = vec![var.clone()];
+    names.extend(param_names.iter().cloned());
+    let field = Field::new(names, limits.clone())
+        .map_err(|e| e.or_at(params.last().map(|p| p.1).unwrap_or(ode_span)))?;
+    let mut lw = Lowerer {
+        field,
+        atoms: Atoms::default(),
+        lets: BTreeMap::new(),
+        params: &param_names,
+        var: &var,
+        unknown: &unknown,
+    };
+    let mut lets_out = Vec::new();
+    for st in &program.statements {
+        if let Statement::Let { name, value } = st {
+            let v = lw.expr(value)?;
+            if let (true, Some(r)) = (v.is_linear_free(), v.free.as_rat()) {
+                lets_out.push((name.name.clone(), r));
+            }
+            lw.lets.insert(name.name.clone(), (v, name.span));
+        }
+    }
+    let (p, q) = lw.equation(lhs, rhs, ode_span)?;
+    let Lowerer { field, .. } = lw;
+    Ok(LinearOde {
+        field,
+        var,
+        unknown,
+        params: param_names,
+        inferred,
+        p,
+        q,
+        lets: lets_out,
+    })
+}
+
+fn collect_primed(e: &Expr, out: &mut Vec<(String, Span)>) {
+    match &e.kind {
+        ExprKind::Prime(inner, _) => {
+            if let ExprKind::Name(n) = &inner.kind {
+                out.push((n.clone(), inner.span));
+            }
+            collect_primed(inner, out);
+        }
+        ExprKind::Neg(a) | ExprKind::Sqrt(a) => collect_primed(a, out),
+        ExprKind::Binary(_, a, b) => {
+            collect_primed(a, out);
+            collect_primed(b, out);
+        }
+        _ => {}
+    }
+}
+
+fn collect_names(e: &Expr, out: &mut Vec<(String, Span)>) {
+    match &e.kind {
+        ExprKind::Name(n) => out.push((n.clone(), e.span)),
+        ExprKind::Prime(a, _) | ExprKind::Neg(a) | ExprKind::Sqrt(a) => collect_names(a, out),
+        ExprKind::Binary(_, a, b) => {
+            collect_names(a, out);
+            collect_names(b, out);
+        }
+        _ => {}
+    }
+}
+
+/// Splits a sum into its top-level terms with signs.
+fn top_terms<'e>(e: &'e Expr, sign: bool, out: &mut Vec<(bool, &'e Expr)>) {
+    match &e.kind {
+        ExprKind::Binary(BinOp::Add, a, b) => {
+            top_terms(a, sign, out);
+            top_terms(b, sign, out);
+        }
+        ExprKind::Binary(BinOp::Sub, a, b) => {
+            top_terms(a, sign, out);
+            top_terms(b, !sign, out);
+        }
+        ExprKind::Neg(a) => top_terms(a, !sign, out),
+        _ => out.push((sign, e)),
+    }
+}
+
+impl<'a> Lowerer<'a> {
+    fn k(&self) -> &Field {
+        &self.field
+    }
+
+    fn equation(&mut self, lhs: &Expr, rhs: &Expr, span: Span) -> Result<(RatFunc, RatFunc)> {
+        let mut terms = Vec::new();
+        top_terms(lhs, true, &mut terms);
+        top_terms(rhs, false, &mut terms);
+        let mut total = Value::default();
+        let mut free_spans = Vec::new();
+        for (sign, t) in terms {
+            let mut v = self.expr(t)?;
+            if !sign {
+                v = self.neg(&v);
+            }
+            if !v.free.is_zero() {
+                free_spans.push(t.span);
+            }
+            total = self.add(&total, &v).map_err(|e| e.or_at(t.span))?;
+        }
+        if !total.free.is_zero() {
+            let at = free_spans.first().copied().unwrap_or(span);
+            return Err(err(ErrorKind::Inhomogeneous, format!("the equation is inhomogeneous: this term does not contain the unknown '{}'", self.unknown), at)
+                .note("canonode reduces homogeneous linear equations: every term must be proportional to the unknown or one of its derivatives"));
+        }
+        let order = total.lin.iter().rposition(|c| !c.is_zero());
+        match order {
+            None => {
+                return Err(err(
+                    ErrorKind::NotSecondOrder,
+                    format!("the unknown '{}' cancels out of the equation", self.unknown),
+                    span,
+                ))
+            }
+            Some(0) | Some(1) => {
+                return Err(err(
+                    ErrorKind::NotSecondOrder,
+                    format!(
+                        "the equation is of order {} in '{}', not 2",
+                        order.unwrap_or(0),
+                        self.unknown
+                    ),
+                    span,
+                )
+                .note("canonode handles second-order equations"))
+            }
+            Some(2) => {}
+            Some(n) => {
+                return Err(err(
+                    ErrorKind::NotSecondOrder,
+                    format!("the equation is of order {n} in '{}', not 2", self.unknown),
+                    span,
+                ))
+            }
+        }
+        let a2 = total.lin[2].clone();
+        let a1 = total.lin.get(1).cloned().unwrap_or_default();
+        let a0 = total.lin.first().cloned().unwrap_or_default();
+        let inv = self.atoms.inv(&self.field, &a2, span).map_err(|e| {
+            if e.kind == ErrorKind::NotRational {
+                self.atoms.not_rational(
+                    &self.field,
+                    &a2,
+                    span,
+                    &format!(
+                        "the coefficient of {}'' is not a rational function times a single power",
+                        self.unknown
+                    ),
+                )
+            } else {
+                e
+            }
+        })?;
+        let p = self.atoms.mul(&self.field, &a1, &inv)?;
+        let q = self.atoms.mul(&self.field, &a0, &inv)?;
+        let p = p.as_rat().ok_or_else(|| {
+            self.atoms.not_rational(
+                &self.field,
+                &p,
+                span,
+                &format!(
+                    "the coefficient of {}' divided by that of {}'' is not rational in {}",
+                    self.unknown, self.unknown, self.var
+                ),
+            )
+        })?;
+        let q = q.as_rat().ok_or_else(|| {
+            self.atoms.not_rational(
+                &self.field,
+                &q,
+                span,
+                &format!(
+                    "the coefficient of {} divided by that of {}'' is not rational in {}",
+                    self.unknown, self.unknown, self.var
+                ),
+            )
+        })?;
+        Ok((p, q))
+    }
+
+    fn add(&self, a: &Value, b: &Value) -> Result<Value> {
+        let k = self.k();
+        let n = a.lin.len().max(b.lin.len());
+        let mut lin = Vec::with_capacity(n);
+        for i in 0..n {
+            let x = a.lin.get(i).cloned().unwrap_or_default();
+            let y = b.lin.get(i).cloned().unwrap_or_default();
+            lin.push(x.add(k, &y)?);
+        }
+        Ok(Value {
+            free: a.free.add(k, &b.free)?,
+            lin,
+        })
+    }
+
+    fn neg(&self, a: &Value) -> Value {
+        let k = self.k();
+        Value {
+            free: a.free.neg(k),
+            lin: a.lin.iter().map(|c| c.neg(k)).collect(),
+        }
+    }
+
+    fn mul(&self, a: &Value, b: &Value, span: Span) -> Result<Value> {
+        let k = self.k();
+        let (lin_a, lin_b) = (!a.is_linear_free(), !b.is_linear_free());
+        if lin_a && lin_b {
+            return Err(err(
+                ErrorKind::Nonlinear,
+                format!("the equation is nonlinear in '{}': this product multiplies the unknown by itself", self.unknown),
+                span,
+            ));
+        }
+        let (c, v) = if lin_a { (b, a) } else { (a, b) };
+        let free = self.atoms.mul(k, &c.free, &v.free)?;
+        let mut lin = Vec::with_capacity(v.lin.len());
+        for x in &v.lin {
+            lin.push(self.atoms.mul(k, &c.free, x)?);
+        }
+        Ok(Value { free, lin })
+    }
+
+    fn deriv(&self, a: &Value, times: u32, span: Span) -> Result<Value> {
+        let k = self.k();
+        let mut v = a.clone();
+        for _ in 0..times {
+            let free = self.atoms.deriv(k, &v.free)?;
+            let mut lin: Vec<Quasi> = vec![Quasi::zero(); v.lin.len() + 1];
+            for (i, c) in v.lin.iter().enumerate() {
+                if c.is_zero() {
+                    continue;
+                }
+                lin[i] = lin[i].add(k, &self.atoms.deriv(k, c)?)?;
+                lin[i + 1] = lin[i + 1].add(k, c)?;
+            }
+            while matches!(lin.last(), Some(c) if c.is_zero()) {
+                lin.pop();
+            }
+            if lin.len() > MAX_ORDER {
+                return Err(err(
+                    ErrorKind::NotSecondOrder,
+                    format!(
+                        "derivatives of '{}' of order above {} are not supported",
+                        self.unknown,
+                        MAX_ORDER - 1
+                    ),
+                    span,
+                ));
+            }
+            v = Value { free, lin };
+        }
+        Ok(v)
+    }
+
+    fn expr(&mut self, e: &Expr) -> Result<Value> {
+        let r = self.expr_inner(e);
+        r.map_err(|x| x.or_at(e.span))
+    }
+
+    fn expr_inner(&mut self, e: &Expr) -> Result<Value> {
+        match &e.kind {
+            ExprKind::Number(text) => {
+                let r = Rat::parse_decimal(text).ok_or_else(|| {
+                    err(
+                        ErrorKind::Syntax,
+                        format!("'{text}' is not a number canonode can read exactly"),
+                        e.span,
+                    )
+                })?;
+                Ok(Value::constant(Quasi::rat(RatFunc::rat(&r))))
+            }
+            ExprKind::Imag => Ok(Value::constant(Quasi::rat(RatFunc::constant(&GRat {
+                re: Rat::zero(),
+                im: Rat::one(),
+            })))),
+            ExprKind::Name(n) => self.name(n, e.span),
+            ExprKind::Neg(a) => {
+                let v = self.expr(a)?;
+                Ok(self.neg(&v))
+            }
+            ExprKind::Binary(op, a, b) => {
+                let x = self.expr(a)?;
+                let y = self.expr(b)?;
+                match op {
+                    BinOp::Add => self.add(&x, &y),
+                    BinOp::Sub => {
+                        let ny = self.neg(&y);
+                        self.add(&x, &ny)
+                    }
+                    BinOp::Mul => self.mul(&x, &y, e.span),
+                    BinOp::Div => {
+                        if !y.is_linear_free() {
+                            return Err(err(
+                                ErrorKind::Nonlinear,
+                                format!("the unknown '{}' appears in a denominator", self.unknown),
+                                b.span,
+                            ));
+                        }
+                        if y.free.is_zero() {
+                            return Err(err(
+                                ErrorKind::DivisionByZero,
+                                "division by zero: the denominator is identically zero",
+                                b.span,
+                            ));
+                        }
+                        let inv = self.atoms.inv(&self.field, &y.free, b.span)?;
+                        self.mul(&x, &Value::constant(inv), e.span)
+                    }
+                    BinOp::Pow => self.pow(&x, &y, a.span, b.span, e.span),
+                }
+            }
+            ExprKind::Prime(a, n) => {
+                if *n as usize > MAX_ORDER {
+                    return Err(err(ErrorKind::NotSecondOrder, format!("a derivative of order {n} is not supported (the equation must be of order 2)"), e.span));
+                }
+                let v = self.expr(a)?;
+                self.deriv(&v, *n, e.span)
+            }
+            ExprKind::Sqrt(a) => {
+                let x = self.expr(a)?;
+                let half = Value::constant(Quasi::rat(RatFunc::rat(
+                    &Rat::new(1.into(), 2.into()).expect("2 is nonzero"),
+                )));
+                self.pow(&x, &half, a.span, a.span, e.span)
+            }
+        }
+    }
+
+    fn name(&self, n: &str, span: Span) -> Result<Value> {
+        if n == self.var {
+            return Ok(Value::constant(Quasi::rat(self.field.var(0))));
+        }
+        if let Some(i) = self.params.iter().position(|p| p == n) {
+            return Ok(Value::constant(Quasi::rat(self.field.var(i + 1))));
+        }
+        if let Some((v, _)) = self.lets.get(n) {
+            return Ok(v.clone());
+        }
+        if n == self.unknown {
+            return Ok(Value {
+                free: Quasi::zero(),
+                lin: vec![Quasi::rat(RatFunc::one())],
+            });
+        }
+        Err(err(ErrorKind::UnknownName, format!("unknown name '{n}'"), span).note("declare it with 'param', define it with 'let' before this line, or check the spelling"))
+    }
+
+    fn pow(
+        &mut self,
+        base: &Value,
+        exp: &Value,
+        bspan: Span,
+        espan: Span,
+        span: Span,
+    ) -> Result<Value> {
+        if !exp.is_linear_free() {
+            return Err(err(
+                ErrorKind::Nonlinear,
+                format!("the unknown '{}' appears in an exponent", self.unknown),
+                espan,
+            ));
+        }
+        let Some(e) = exp.free.as_rat() else {
+            return Err(self.atoms.not_rational(
+                &self.field,
+                &exp.free,
+                espan,
+                "an exponent must be a rational function of the parameters",
+            ));
+        };
+        if e.uses_var(0) {
+            return Err(err(
+                ErrorKind::NotRational,
+                format!(
+                    "the exponent depends on the variable '{}', so the power is not rational in it",
+                    self.var
+                ),
+                espan,
+            ));
+        }
+        if !base.is_linear_free() {
+            // y^1 is fine; any other power of the unknown is not linear.
+            if let Some(c) = e.as_constant() {
+                if c == GRat::one() {
+                    return Ok(base.clone());
+                }
+            }
+            return Err(err(
+                ErrorKind::Nonlinear,
+                format!(
+                    "the equation is nonlinear in '{}': the unknown is raised to a power",
+                    self.unknown
+                ),
+                span,
+            ));
+        }
+        let _ = bspan;
+        let free = self.atoms.pow(&self.field, &base.free, &e, span)?;
+        Ok(Value::constant(free))
+    }
+}
+
+/// Lowers one expression free of the unknown (a command-line value such as a
+/// change of variable or dx/dz) against an equation's names and `let`s.
+pub(crate) fn lower_rational(
+    field: &Field,
+    names: &[String],
+    lets: &[(String, RatFunc)],
+    e: &Expr,
+) -> Result<RatFunc> {
+    // Names map to variables of `field` by position in `names`; lets by value.
+    fn go(
+        field: &Field,
+        names: &[String],
+        lets: &[(String, RatFunc)],
+        atoms: &mut Atoms,
+        e: &Expr,
+    ) -> Result<Quasi> {
+        let r = match &e.kind {
+            ExprKind::Number(t) => {
+                Quasi::rat(RatFunc::rat(&Rat::parse_decimal(t).ok_or_else(|| {
+                    err(ErrorKind::Syntax, format!("'{t}' is not a number"), e.span)
+                })?))
+            }
+            ExprKind::Imag => Quasi::rat(RatFunc::constant(&GRat {
+                re: Rat::zero(),
+                im: Rat::one(),
+            })),
+            ExprKind::Name(n) => {
+                if let Some(i) = names.iter().position(|x| x == n) {
+                    Quasi::rat(field.var(i))
+                } else if let Some((_, v)) = lets.iter().find(|(x, _)| x == n) {
+                    Quasi::rat(v.clone())
+                } else {
+                    return Err(err(
+                        ErrorKind::UnknownName,
+                        format!("unknown name '{n}'"),
+                        e.span,
+                    ));
+                }
+            }
+            ExprKind::Neg(a) => go(field, names, lets, atoms, a)?.neg(field),
+            ExprKind::Binary(op, a, b) => {
+                let x = go(field, names, lets, atoms, a)?;
+                let y = go(field, names, lets, atoms, b)?;
+                match op {
+                    BinOp::Add => x.add(field, &y)?,
+                    BinOp::Sub => x.add(field, &y.neg(field))?,
+                    BinOp::Mul => atoms.mul(field, &x, &y)?,
+                    BinOp::Div => {
+                        let inv = atoms.inv(field, &y, b.span)?;
+                        atoms.mul(field, &x, &inv)?
+                    }
+                    BinOp::Pow => {
+                        let ex = y.as_rat().filter(|r| !r.uses_var(0)).ok_or_else(|| {
+                            err(
+                                ErrorKind::NotRational,
+                                "an exponent must be free of the variable",
+                                b.span,
+                            )
+                        })?;
+                        atoms.pow(field, &x, &ex, e.span)?
+                    }
+                }
+            }
+            ExprKind::Prime(a, n) => {
+                let mut v = go(field, names, lets, atoms, a)?;
+                for _ in 0..*n {
+                    v = atoms.deriv(field, &v)?;
+                }
+                v
+            }
+            ExprKind::Sqrt(a) => {
+                let x = go(field, names, lets, atoms, a)?;
+                atoms.pow(
+                    field,
+                    &x,
+                    &RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero")),
+                    e.span,
+                )?
+            }
+        };
+        Ok(r)
+    }
+    let mut atoms = Atoms::default();
+    let q = go(field, names, lets, &mut atoms, e).map_err(|x| x.or_at(e.span))?;
+    q.as_rat().ok_or_else(|| {
+        atoms.not_rational(
+            field,
+            &q,
+            e.span,
+            "the expression is not a rational function",
+        )
+    })
+}

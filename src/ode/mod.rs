@@ -1,0 +1,296 @@
+//! The `ode` stage: lowering of the syntax tree to an exact linear ODE, its
+//! normal form, and changes of variable. Input is a parsed program; output
+//! is a [`Reduction`], consumed by the later stages and by the CLI.
+
+mod lower;
+mod normal;
+mod quasi;
+mod transform;
+
+pub use lower::{lower_program, LinearOde, NameMode};
+pub use normal::{
+    linear_root, normal_form, normal_q, prefactor, principal_parts, NormalForm, Prefactor,
+    PrincipalPart,
+};
+pub use transform::{change_variable, schrodinger, schwarzian, transform_q};
+
+pub(crate) use lower::lower_rational;
+
+use crate::algebra::{Field, Limits, RatFunc};
+use crate::error::{Error, ErrorKind, Result};
+use crate::syntax::{self, Ident, ParseLimits, Program, Span, Statement};
+
+/// Where the equation text comes from and how names are treated.
+#[derive(Clone, Debug)]
+pub enum Input<'a> {
+    /// A whole program (a file or stdin): every name must be declared.
+    Program(&'a str),
+    /// A bare equation `LHS = RHS` in the named variable; other names become parameters.
+    Inline {
+        /// The equation text.
+        equation: &'a str,
+        /// The independent variable.
+        var: &'a str,
+    },
+}
+
+/// Options of a reduction.
+#[derive(Clone, Debug, Default)]
+pub struct ReduceOptions {
+    /// `OLD=EXPR`: substitute the variable by a rational expression in a new variable.
+    pub subst: Option<String>,
+    /// Look at the point at infinity: z = 1/t.
+    pub at_infinity: bool,
+    /// dx/dz for the Schrödinger form, as an expression in the equation's variable and lets.
+    pub dxdz: Option<String>,
+    /// The name of the frequency parameter ω in V = ω² − W.
+    pub frequency: Option<String>,
+    /// Bounds on exact computations.
+    pub limits: Limits,
+    /// Bounds on parsing.
+    pub parse_limits: ParseLimits,
+}
+
+/// A change of the independent variable that was applied.
+#[derive(Clone, Debug)]
+pub struct Change {
+    /// The original variable.
+    pub old_var: String,
+    /// The new variable.
+    pub new_var: String,
+    /// old = g(new).
+    pub g: RatFunc,
+    /// The Schwarzian {g, new}.
+    pub schwarzian: RatFunc,
+}
+
+/// The Schrödinger form φ_xx + (ω² − V) φ = 0 for a given dx/dz.
+#[derive(Clone, Debug)]
+pub struct Schrodinger {
+    /// dx/dz.
+    pub dxdz: RatFunc,
+    /// W with φ_xx + W φ = 0.
+    pub w: RatFunc,
+    /// V = ω² − W.
+    pub v: RatFunc,
+    /// The frequency parameter used, if any.
+    pub frequency: Option<String>,
+    /// True when V still depends on the frequency (an energy-dependent potential).
+    pub v_depends_on_frequency: bool,
+}
+
+/// Everything `reduce` derives.
+#[derive(Debug)]
+pub struct Reduction {
+    /// The lowered equation (after any change of variable, p and q are the new ones).
+    pub ode: LinearOde,
+    /// The field in which `p`, `q` and the normal form live (variable 0 may be the new variable).
+    pub field: Field,
+    /// The variable name of `field`'s variable 0.
+    pub var: String,
+    /// Standard-form coefficients in `var`.
+    pub p: RatFunc,
+    /// Standard-form coefficients in `var`.
+    pub q: RatFunc,
+    /// The normal form in `var`.
+    pub normal: NormalForm,
+    /// The change of variable, when one was asked for.
+    pub change: Option<Change>,
+    /// The Schrödinger form, when dx/dz was given.
+    pub schrodinger: Option<Schrodinger>,
+}
+
+/// Parses and lowers an input into a linear ODE.
+pub fn lower(input: &Input<'_>, limits: &Limits, parse_limits: &ParseLimits) -> Result<LinearOde> {
+    match input {
+        Input::Program(src) => {
+            let program = syntax::parse_program(src, parse_limits)?;
+            lower_program(&program, NameMode::Strict, limits)
+        }
+        Input::Inline { equation, var } => {
+            let (lhs, rhs, span) = syntax::parse_equation(equation, parse_limits)?;
+            let program = Program {
+                statements: vec![
+                    Statement::Var(Ident {
+                        name: var.to_string(),
+                        span: Span::new(0, 0),
+                    }),
+                    Statement::Ode { lhs, rhs, span },
+                ],
+            };
+            lower_program(&program, NameMode::Infer, limits)
+        }
+    }
+}
+
+/// A fresh name not among `taken`, starting from `want`.
+fn fresh_name(want: &str, taken: &[String]) -> String {
+    let mut name = want.to_string();
+    while taken.iter().any(|t| *t == name) {
+        name.push('_');
+    }
+    name
+}
+
+/// The whole `reduce` derivation: lower, optionally change variable, normal form, Schrödinger form.
+pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
+    let ode = lower(input, &opts.limits, &opts.parse_limits)?;
+    let mut names: Vec<String> = vec![ode.var.clone()];
+    names.extend(ode.params.iter().cloned());
+    let mut field = Field::new(names.clone(), opts.limits.clone())?;
+    let (mut p, mut q) = (ode.p.clone(), ode.q.clone());
+    let mut var = ode.var.clone();
+    let mut change = None;
+    let subst = if opts.at_infinity {
+        let t = fresh_name("t", &names);
+        Some((
+            format!("{}=1/{t}", ode.var),
+            "--at-infinity".to_string(),
+            Some(t),
+        ))
+    } else {
+        opts.subst.clone().map(|s| (s, "--subst".to_string(), None))
+    };
+    if let Some((text, option, _)) = subst {
+        let Some(eq) = text.find('=') else {
+            return Err(Error::new(
+                ErrorKind::Usage,
+                format!("expected OLD=EXPR, e.g. {}=1/t", ode.var),
+            )
+            .in_option(&option)
+            .at(Span::new(0, text.len())));
+        };
+        let (lhs, rhs) = (text[..eq].trim(), &text[eq + 1..]);
+        if lhs != ode.var {
+            return Err(Error::new(
+                ErrorKind::Usage,
+                format!(
+                    "the left side must be the equation's variable '{}'",
+                    ode.var
+                ),
+            )
+            .at(Span::new(0, eq))
+            .in_option(&option)
+            .note(format!(
+                "write {}=EXPR with EXPR rational in a new variable",
+                ode.var
+            )));
+        }
+        let offset = eq + 1;
+        let expr = syntax::parse_expr(rhs, &opts.parse_limits)
+            .map_err(|e| shift(e, offset).in_option(&option))?;
+        // The new variable: the one name in EXPR that is not a parameter.
+        let mut found = Vec::new();
+        collect_expr_names(&expr, &mut found);
+        let mut new_vars: Vec<String> = found
+            .into_iter()
+            .filter(|n| !ode.params.contains(n))
+            .collect();
+        new_vars.dedup();
+        new_vars.sort();
+        new_vars.dedup();
+        if new_vars.len() != 1 {
+            return Err(Error::new(ErrorKind::Usage, format!("the expression must use exactly one new variable besides the parameters, found {}", if new_vars.is_empty() { "none".to_string() } else { new_vars.join(", ") }))
+                .at(Span::new(offset, text.len()))
+                .in_option(&option));
+        }
+        let new_var = new_vars.remove(0);
+        let mut new_names = vec![new_var.clone()];
+        new_names.extend(ode.params.iter().cloned());
+        let new_field = Field::new(new_names.clone(), opts.limits.clone())?;
+        let g = lower_rational(&new_field, &new_names, &[], &expr)
+            .map_err(|e| shift(e, offset).in_option(&option))?;
+        if !g.uses_var(0) {
+            return Err(Error::new(
+                ErrorKind::Usage,
+                "the substitution does not depend on the new variable",
+            )
+            .at(Span::new(offset, text.len()))
+            .in_option(&option));
+        }
+        let (pt, qt) = change_variable(&new_field, &p, &q, &g).map_err(|e| e.in_option(&option))?;
+        let schw = schwarzian(&new_field, &g)?;
+        change = Some(Change {
+            old_var: ode.var.clone(),
+            new_var: new_var.clone(),
+            g,
+            schwarzian: schw,
+        });
+        p = pt;
+        q = qt;
+        field = new_field;
+        var = new_var;
+    }
+    let normal = normal_form(&field, &p, &q)?;
+    let mut schrod = None;
+    if let Some(text) = &opts.dxdz {
+        let option = "--dxdz";
+        let expr = syntax::parse_expr(text, &opts.parse_limits).map_err(|e| e.in_option(option))?;
+        let mut fnames = vec![var.clone()];
+        fnames.extend(ode.params.iter().cloned());
+        let lets: &[(String, RatFunc)] = if change.is_none() { &ode.lets } else { &[] };
+        let h = lower_rational(&field, &fnames, lets, &expr).map_err(|e| e.in_option(option))?;
+        let freq_name = match &opts.frequency {
+            Some(f) => Some(f.clone()),
+            None => ["omega", "ω", "w"]
+                .iter()
+                .find(|n| ode.params.iter().any(|p| p == *n))
+                .map(|s| s.to_string()),
+        };
+        let freq_idx = match &freq_name {
+            Some(f) => Some(
+                ode.params
+                    .iter()
+                    .position(|p| p == f)
+                    .map(|i| i + 1)
+                    .ok_or_else(|| {
+                        Error::new(
+                            ErrorKind::Usage,
+                            format!("'{f}' is not a parameter of the equation"),
+                        )
+                        .in_option("--frequency")
+                    })?,
+            ),
+            None => None,
+        };
+        let (w, v) = schrodinger(&field, &p, &q, &h, freq_idx)?;
+        let dep = freq_idx.is_some_and(|i| v.uses_var(i));
+        schrod = Some(Schrodinger {
+            dxdz: h,
+            w,
+            v,
+            frequency: freq_name,
+            v_depends_on_frequency: dep,
+        });
+    }
+    Ok(Reduction {
+        ode,
+        field,
+        var,
+        p,
+        q,
+        normal,
+        change,
+        schrodinger: schrod,
+    })
+}
+
+fn shift(mut e: Error, offset: usize) -> Error {
+    if let Some(s) = e.span {
+        e.span = Some(Span::new(s.start + offset, s.end + offset));
+    }
+    e
+}
+
+fn collect_expr_names(e: &syntax::Expr, out: &mut Vec<String>) {
+    use syntax::ExprKind;
+    match &e.kind {
+        ExprKind::Name(n) => out.push(n.clone()),
+        ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Prime(a, _) => collect_expr_names(a, out),
+        ExprKind::Binary(_, a, b) => {
+            collect_expr_names(a, out);
+            collect_expr_names(b, out);
+        }
+        _ => {}
+    }
+}

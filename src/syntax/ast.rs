@@ -1,0 +1,109 @@
+//! The abstract syntax tree of the input language: what the parser produces
+//! and the lowering stage consumes. It knows nothing of algebra; numbers stay
+//! as their literal text so that no precision is lost before the exact layer.
+
+/// A half-open byte range `start..end` into the source text.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default)]
+pub struct Span {
+    /// Offset of the first byte.
+    pub start: usize,
+    /// Offset one past the last byte.
+    pub end: usize,
+}
+
+impl Span {
+    /// A span from `start` to `end`.
+    pub fn new(start: usize, end: usize) -> Span {
+        Span { start, end }
+    }
+    /// The smallest span covering both.
+    pub fn to(self, other: Span) -> Span {
+        Span::new(self.start.min(other.start), self.end.max(other.end))
+    }
+}
+
+/// A name with where it was written.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Ident {
+    /// The name as written.
+    pub name: String,
+    /// Where it was written.
+    pub span: Span,
+}
+
+/// A whole input file.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct Program {
+    /// The statements in source order.
+    pub statements: Vec<Statement>,
+}
+
+/// One statement of the input language.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Statement {
+    /// `var NAME`: the independent variable.
+    Var(Ident),
+    /// `param A, B, ...`: symbolic parameters.
+    Param(Vec<Ident>),
+    /// `let NAME = EXPR`.
+    Let {
+        /// The name being defined.
+        name: Ident,
+        /// Its value.
+        value: Expr,
+    },
+    /// `unknown NAME`: names the unknown function explicitly.
+    Unknown(Ident),
+    /// `ode LHS = RHS`.
+    Ode {
+        /// Left-hand side.
+        lhs: Expr,
+        /// Right-hand side.
+        rhs: Expr,
+        /// The whole statement, keyword included.
+        span: Span,
+    },
+}
+
+/// An expression with its source span.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Expr {
+    /// What the expression is.
+    pub kind: ExprKind,
+    /// Where it was written.
+    pub span: Span,
+}
+
+/// Binary operators.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum BinOp {
+    /// `+`
+    Add,
+    /// `-`
+    Sub,
+    /// `*`
+    Mul,
+    /// `/`
+    Div,
+    /// `^`
+    Pow,
+}
+
+/// The kinds of expression.
+#[derive(Clone, Debug, PartialEq)]
+pub enum ExprKind {
+    /// A decimal literal exactly as written, e.g. `"0.25"` or `"1e-3"`.
+    Number(String),
+    /// The imaginary unit `I`.
+    Imag,
+    /// A name: the variable, a parameter, a `let` name or the unknown.
+    Name(String),
+    /// Unary minus.
+    Neg(Box<Expr>),
+    /// A binary operation.
+    Binary(BinOp, Box<Expr>, Box<Expr>),
+    /// `e'`, `e''`, ...: the derivative of the given order with respect to the variable.
+    Prime(Box<Expr>, u32),
+    /// `sqrt(e)`.
+    Sqrt(Box<Expr>),
+}
