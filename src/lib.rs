@@ -1,7 +1,33 @@
 //! canonode: exact normal forms of linear second-order ODEs from pasted text.
+//!
+//! A researcher who has separated variables in a wave equation holds a
+//! linear second-order ODE with rational coefficients and symbolic
+//! parameters. canonode parses it as written, lowers it to the standard form
+//! y'' + p y' + q y = 0 with exact coefficients, and derives the Liouville
+//! normal form ψ'' + Q ψ = 0 with Q = q − p'/2 − p²/4, the prefactor
+//! y = exp(−½∫p) ψ, the principal parts of Q at its poles, changes of
+//! variable and the Schrödinger form.
+//!
+//! The pipeline runs one way: [`syntax`] (text → syntax tree), [`ode`]
+//! (lowering, normal form, changes of variable; built on the exact
+//! [`algebra`] layer), [`emit`] (text, LaTeX, JSON), and the binary's
+//! `cli`. Every value is exact; floating point appears only when a value is
+//! finally printed as a number.
+//!
+//! ```
+//! use canonode::ode::{reduce, Input, ReduceOptions};
+//! use canonode::algebra::print::{ratfunc_text, Style};
+//!
+//! // DLMF 10.2.1, Bessel's equation.
+//! let src = "var z\nparam nu\node z^2*w'' + z*w' + (z^2 - nu^2)*w = 0\n";
+//! let r = reduce(&Input::Program(src), &ReduceOptions::default()).unwrap();
+//! // Q = 1 + (1/4 − ν²)/z² (DLMF 10.2.1 in normal form).
+//! assert_eq!(ratfunc_text(&r.normal.q, r.field.names(), Style::Text), "(z^2 - nu^2 + 1/4)/z^2");
+//! ```
 #![deny(missing_docs)]
 
 pub mod algebra;
+pub mod analysis;
 pub mod cli;
 pub mod emit;
 pub mod error;

@@ -260,7 +260,7 @@ pub fn split_linear(p: &Poly) -> Vec<Poly> {
             return vec![p.clone()];
         }
         let disc = c1.mul(c1).sub(&c0.mul(c2).mul_int(&Int::from(4)));
-        let Some(s) = disc.sqrt_exact() else {
+        let Some(s) = disc.sqrt_exact().filter(Poly::is_real) else {
             return vec![p.clone()];
         };
         // 2·c2·z + c1 − s is, up to a factor free of z, a factor of p.

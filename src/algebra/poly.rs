@@ -197,6 +197,32 @@ impl GInt {
         let n = o.re.mul(&o.re).add(&o.im.mul(&o.im));
         self.mul(&o.conj()).div_exact_int(&n)
     }
+    /// The square root in the Gaussian integers with positive real part (or
+    /// a non-negative multiple of i), when one exists.
+    pub fn sqrt_exact(&self) -> Option<GInt> {
+        if self.im.is_zero() {
+            if self.re.is_negative() {
+                return Some(GInt {
+                    re: Int::ZERO,
+                    im: self.re.neg().sqrt_exact()?,
+                });
+            }
+            return Some(GInt::real(self.re.sqrt_exact()?));
+        }
+        // (x + iy)² = a + ib: x² = (a + |c|)/2, y = b/(2x).
+        let n = self
+            .re
+            .mul(&self.re)
+            .add(&self.im.mul(&self.im))
+            .sqrt_exact()?;
+        let x2 = self.re.add(&n).div_exact(&Int::from(2))?;
+        let x = x2.sqrt_exact()?;
+        if x.is_zero() {
+            return None;
+        }
+        let y = self.im.div_exact(&x.mul(&Int::from(2)))?;
+        Some(GInt { re: x, im: y })
+    }
     /// As a Gaussian rational.
     pub fn to_grat(&self) -> GRat {
         GRat {
@@ -671,16 +697,17 @@ impl Poly {
             _ => (self.clone(), false),
         }
     }
-    /// The square root of a polynomial with a positive leading coefficient
-    /// (leading coefficient chosen positive), by the schoolbook algorithm on the
-    /// monomial order; `None` when it is not a perfect square.
+    /// The square root over the Gaussian integers, by the schoolbook
+    /// algorithm on the monomial order; the root's leading coefficient has a
+    /// positive real part (or is a positive multiple of i). `None` when the
+    /// polynomial is not a perfect square.
     pub fn sqrt_exact(&self) -> Option<Poly> {
         let p = self;
-        let (lm, lc) = p.lead()?.clone();
-        if !lc.is_real() || lc.re.is_negative() {
-            return None;
+        if p.is_zero() {
+            return Some(Poly::zero());
         }
-        let c0 = lc.re.sqrt_exact()?;
+        let (lm, lc) = p.lead()?.clone();
+        let c0 = lc.sqrt_exact()?;
         let mut m0 = Mono::ONE;
         for i in 0..MAX_VARS {
             let e = lm.exp(i);
@@ -689,8 +716,8 @@ impl Poly {
             }
             m0 = m0.with_exp(i, e / 2);
         }
-        let mut root = Poly::term(m0, GInt::real(c0.clone()));
-        let two_lead = GInt::real(c0.mul(&Int::from(2)));
+        let mut root = Poly::term(m0, c0.clone());
+        let two_lead = c0.mul_int(&Int::from(2));
         let mut rest = p.sub(&root.mul(&root));
         let mut guard = 0;
         while let Some((rm, rc)) = rest.lead().cloned() {
@@ -758,6 +785,27 @@ mod tests {
         let u = p.to_univariate(1);
         assert_eq!(Poly::from_univariate(1, &u), p);
         assert_eq!(u.len(), 3);
+    }
+
+    #[test]
+    fn exact_square_roots() {
+        let m = Poly::var(1);
+        let w = Poly::var(2);
+        let p = m.mul(&w).mul_int(&Int::from(4)).mul_coeff(&GInt::i());
+        assert_eq!(p.mul(&p).sqrt_exact().map(|r| r.mul(&r)), Some(p.mul(&p)));
+        let q = x().add(&y()).pow(2).add(&Poly::int(1));
+        assert_eq!(q.sqrt_exact(), None);
+        assert_eq!(
+            GInt {
+                re: Int::from(3),
+                im: Int::from(4)
+            }
+            .sqrt_exact(),
+            Some(GInt {
+                re: Int::from(2),
+                im: Int::from(1)
+            })
+        );
     }
 
     #[test]

@@ -680,6 +680,36 @@ impl Field {
         Ok(r)
     }
 
+    /// The exact square root of a rational function over Q(i), when it is a
+    /// perfect square there (root chosen with its numerator's leading
+    /// coefficient of positive real part), else `None`.
+    pub fn sqrt_exact(&self, r: &RatFunc) -> Result<Option<RatFunc>> {
+        if r.is_zero() {
+            return Ok(Some(RatFunc::zero()));
+        }
+        // r = num / (scale · ∏ f^e): every e even, num·scale a square.
+        let mut den = RatFunc::one();
+        for (f, e) in r.den_factors() {
+            if e % 2 != 0 {
+                return Ok(None);
+            }
+            den = self.mul(
+                &den,
+                &self.pow(&RatFunc::from_poly(f.poly().clone()), (*e / 2) as i64)?,
+            )?;
+        }
+        // sqrt(num/scale) = sqrt(num·scale)/scale
+        let n = r.num().mul_int(r.scale());
+        let Some(root) = n.sqrt_exact() else {
+            return Ok(None);
+        };
+        let top = self.div(
+            &RatFunc::from_poly(root),
+            &RatFunc::rat(&Rat::int(r.scale().clone())),
+        )?;
+        Ok(Some(self.div(&top, &den)?))
+    }
+
     /// The monomial `x_v^e` as a rational function.
     pub fn monomial(&self, v: usize, e: u32) -> RatFunc {
         RatFunc::from_poly(Poly::term(Mono::var(v, e), GInt::one()))

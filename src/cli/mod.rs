@@ -2,6 +2,7 @@
 //! terminal or chooses an exit status. Each subcommand is one file with a
 //! `run` function; this file holds the argument definitions shared by them.
 
+mod classify;
 pub(crate) mod diagnostic;
 mod eval;
 mod reduce;
@@ -28,6 +29,8 @@ enum Command {
     Reduce(reduce::ReduceArgs),
     /// Evaluate Q at a point: every variable and parameter given a (complex) value.
     Eval(eval::EvalArgs),
+    /// Singular points with their kinds, ranks and exponents, and the class of the equation.
+    Classify(classify::ClassifyArgs),
 }
 
 /// Output formats.
@@ -270,5 +273,6 @@ fn run(cli: Cli) -> u8 {
     match cli.command {
         Command::Reduce(a) => reduce::run(&a),
         Command::Eval(a) => eval::run(&a),
+        Command::Classify(a) => classify::run(&a),
     }
 }

@@ -2,6 +2,8 @@
 //! derivation, LaTeX for papers and JSON with a stable schema. Pure
 //! functions from values to strings; only the CLI writes them anywhere.
 
-mod report;
+mod classify_report;
+pub(crate) mod report;
 
+pub use classify_report::{analysis_json, analysis_text, class_name};
 pub use report::{reduction_json, reduction_latex, reduction_text};

@@ -43,7 +43,7 @@ fn wrap(s: String, style: Style) -> String {
 }
 
 /// `(z - z0)` for printing, with `z` alone when z0 = 0 and `z + c` for z0 = −c.
-fn shifted(v: &str, at: &str, style: Style) -> String {
+pub(crate) fn shifted(v: &str, at: &str, style: Style) -> String {
     let simple = |t: &str| !t.contains(" + ") && !t.contains(" - ");
     let (l, r) = match style {
         Style::Text => ("(", ")"),

@@ -15,6 +15,7 @@ pub use normal::{
 pub use transform::{change_variable, schrodinger, schwarzian, transform_q};
 
 pub(crate) use lower::lower_rational;
+pub(crate) use normal::laurent_at;
 
 use crate::algebra::{Field, Limits, RatFunc};
 use crate::error::{Error, ErrorKind, Result};

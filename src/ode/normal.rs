@@ -77,7 +77,7 @@ pub fn linear_root(k: &Field, f: &Poly) -> Result<Option<RatFunc>> {
 /// Splits a rational function at one denominator factor: returns the Laurent
 /// data at a linear factor's root, as coefficients of (z − z₀)^(−e..−1)
 /// followed by `extra` regular Taylor coefficients.
-fn laurent_at(
+pub(crate) fn laurent_at(
     k: &Field,
     r: &RatFunc,
     idx: usize,

@@ -225,7 +225,7 @@ impl Atoms {
             // An exact square root of a rational function, where one exists.
             if c.im.is_zero() && c.re.denom() == &crate::algebra::Int::from(2) {
                 if let Some(r) = a.as_rat() {
-                    if let Some(root) = sqrt_exact(k, &r)? {
+                    if let Some(root) = k.sqrt_exact(&r)? {
                         return self.int_pow(
                             k,
                             &Quasi::rat(root),
@@ -362,35 +362,6 @@ impl Atoms {
         let _ = constant;
         Ok((out, unit))
     }
-}
-
-/// The exact square root of a rational function when it is a perfect square
-/// over Q(i) with a real numerator root, else `None`.
-pub(crate) fn sqrt_exact(k: &Field, r: &RatFunc) -> Result<Option<RatFunc>> {
-    if r.is_zero() {
-        return Ok(Some(RatFunc::zero()));
-    }
-    // r = num / (scale · ∏ f^e): every e even, scale·(content) a square.
-    let mut den = RatFunc::one();
-    for (f, e) in r.den_factors() {
-        if e % 2 != 0 {
-            return Ok(None);
-        }
-        den = k.mul(
-            &den,
-            &k.pow(&RatFunc::from_poly(f.poly().clone()), (*e / 2) as i64)?,
-        )?;
-    }
-    // sqrt(num/scale) = sqrt(num·scale)/scale
-    let n = r.num().mul_int(r.scale());
-    let Some(root) = n.sqrt_exact() else {
-        return Ok(None);
-    };
-    let top = k.div(
-        &RatFunc::from_poly(root),
-        &RatFunc::rat(&crate::algebra::Rat::int(r.scale().clone())),
-    )?;
-    Ok(Some(k.div(&top, &den)?))
 }
 
 /// Text for `base^(e)` in error messages.

@@ -1,0 +1,377 @@
+//! Reports of an [`Analysis`](crate::analysis::Analysis) in text, LaTeX and JSON.
+//!
+//! JSON schema of `classify --format json` (stable): `class` (DESIGN.md id),
+//! `class_name` (prose), `reason`, `notes` [text], `variable`, `parameters`,
+//! `singular_points` [{`where` (exact text), `infinity` (bool), `value`
+//! ([re, im] or null), `kind` ("ordinary" | "regular" | "irregular"),
+//! `pole_order`, `rank` (text such as "1/2"), `exponents` and
+//! `unknown_exponents` ([{`exact`, `value`}]; `value` is [re, im] or null),
+//! `integer_difference` (integer or null), `apparent` ("yes" | "no" |
+//! "not applicable" | "when" | "unchecked"), `apparent_condition` (text: the
+//! polynomial that must vanish, or the reason it was not checked; null
+//! otherwise), `removable` (bool: Q is regular there, only the prefactor is
+//! singular), `formal_solutions` [text]}], `branch_note` (text or null).
+//! At infinity exponents refer to t = 1/z: those of the normal form in t
+//! (ψ̃ = t·ψ up to a constant) and of the unknown as a function of t.
+
+use crate::algebra::print::{poly_text, ratfunc_text, Style};
+use crate::algebra::{Field, Int, RatFunc, UPoly};
+use crate::analysis::numeric::NumericPoint;
+use crate::analysis::{Analysis, Apparent, Exponent, Place, SingularPoint};
+use serde_json::{json, Value};
+
+/// The class id in words.
+pub fn class_name(id: &str) -> String {
+    match id {
+        "euler" => "Euler".into(),
+        "hypergeometric" => "hypergeometric (Gauss)".into(),
+        "confluent-hypergeometric" => "confluent hypergeometric".into(),
+        "reduced-confluent-hypergeometric" => "reduced confluent hypergeometric".into(),
+        "parabolic-cylinder" => "parabolic cylinder".into(),
+        "airy" => "Airy".into(),
+        "general-heun" => "general Heun".into(),
+        "confluent-heun" => "confluent Heun".into(),
+        "doubly-confluent-heun" => "doubly confluent Heun".into(),
+        "biconfluent-heun" => "biconfluent Heun".into(),
+        "triconfluent-heun" => "triconfluent Heun".into(),
+        "reduced-confluent-heun" => "reduced confluent Heun".into(),
+        "reduced-doubly-confluent-heun" => "reduced doubly confluent Heun".into(),
+        "doubly-reduced-doubly-confluent-heun" => "doubly reduced doubly confluent Heun".into(),
+        "fuchsian" => "Fuchsian".into(),
+        other => other.replace('-', " "),
+    }
+}
+
+fn rf(k: &Field, r: &RatFunc, s: Style) -> String {
+    ratfunc_text(r, k.names(), s)
+}
+
+fn paren(t: String) -> String {
+    if t.contains(' ') || t.starts_with('-') {
+        format!("({t})")
+    } else {
+        t
+    }
+}
+
+/// A polynomial in θ as text.
+pub(crate) fn upoly_text(k: &Field, u: &UPoly, s: Style) -> String {
+    let theta = match s {
+        Style::Text => "θ",
+        Style::Latex => "\\theta",
+    };
+    let mut parts: Vec<String> = Vec::new();
+    for (j, c) in u.coeffs.iter().enumerate().rev() {
+        if c.is_zero() {
+            continue;
+        }
+        let ct = rf(k, c, s);
+        let t = match j {
+            0 => ct,
+            _ => {
+                let pw = if j == 1 {
+                    theta.to_string()
+                } else {
+                    format!("{theta}^{j}")
+                };
+                if c.as_constant()
+                    .is_some_and(|x| x.im.is_zero() && x.re.is_integer() && x.re.numer().is_one())
+                {
+                    pw
+                } else if c.as_constant().is_some_and(|x| {
+                    x.im.is_zero() && x.re.is_integer() && x.re.numer() == &Int::from(-1)
+                }) {
+                    format!("-{pw}")
+                } else {
+                    format!("{}*{pw}", paren(ct))
+                }
+            }
+        };
+        parts.push(t);
+    }
+    if parts.is_empty() {
+        return "0".into();
+    }
+    let mut out = parts[0].clone();
+    for p in &parts[1..] {
+        match p.strip_prefix('-') {
+            Some(rest) => {
+                out.push_str(" - ");
+                out.push_str(rest);
+            }
+            None => {
+                out.push_str(" + ");
+                out.push_str(p);
+            }
+        }
+    }
+    out
+}
+
+/// An exponent as exact text: the value itself when the root is exact.
+pub(crate) fn exponent_text(k: &Field, e: &Exponent, s: Style) -> String {
+    if e.sign == 0 {
+        return upoly_text(k, &e.center, s);
+    }
+    let half =
+        RatFunc::rat(&crate::algebra::Rat::new((e.sign as i64).into(), 2.into()).expect("nonzero"));
+    if let Some(r) = &e.root {
+        if let Ok(t) = r.scale(k, &half).and_then(|h| e.center.add(k, &h)) {
+            return upoly_text(k, &t, s);
+        }
+    }
+    let c = upoly_text(k, &e.center, s);
+    let r = upoly_text(k, &e.radicand, s);
+    let sign = if e.sign > 0 { '+' } else { '-' };
+    match s {
+        Style::Text => format!("{c} {sign} 1/2*sqrt({r})"),
+        Style::Latex => format!("{c} {sign} \\tfrac{{1}}{{2}}\\sqrt{{{r}}}"),
+    }
+}
+
+fn where_text(k: &Field, var: &str, p: &SingularPoint, s: Style) -> String {
+    match &p.place {
+        Place::Point { at, .. } => format!("{var} = {}", rf(k, at, s)),
+        Place::Roots(f) => format!(
+            "{var} = θ, a root of {}",
+            poly_text(f, &Int::ONE, k.names(), s)
+        ),
+        Place::Infinity => format!("{var} = ∞"),
+    }
+}
+
+fn formal_text(k: &Field, var: &str, p: &SingularPoint) -> Vec<String> {
+    let x = match &p.place {
+        Place::Point { at, .. } => {
+            crate::emit::report::shifted(var, &rf(k, at, Style::Text), Style::Text)
+        }
+        _ => var.to_string(),
+    };
+    if p.formal.is_empty() && p.kind == crate::analysis::Kind::Irregular {
+        return vec!["not expanded: the leading coefficient of S' is not an exact square root in the parameters".to_string()];
+    }
+    p.formal
+        .iter()
+        .map(|f| {
+            let terms: Vec<String> = f
+                .exponent
+                .iter()
+                .map(|(pw, c)| {
+                    let pw_t = if pw.is_integer() && pw.numer().is_one() {
+                        x.clone()
+                    } else if pw.is_integer() && !pw.numer().is_negative() {
+                        format!("{x}^{pw}")
+                    } else {
+                        format!("{x}^({pw})")
+                    };
+                    let c = rf(k, c, Style::Text);
+                    match c.as_str() {
+                        "1" => pw_t,
+                        "-1" => format!("-{pw_t}"),
+                        _ if !c[1..].contains(' ') => format!("{c}*{pw_t}"),
+                        _ => format!("({c})*{pw_t}"),
+                    }
+                })
+                .collect();
+            let mut sum = String::new();
+            for (i, t) in terms.iter().enumerate() {
+                match (i, t.strip_prefix('-')) {
+                    (0, _) => sum.push_str(t),
+                    (_, Some(rest)) => {
+                        sum.push_str(" - ");
+                        sum.push_str(rest);
+                    }
+                    (_, None) => {
+                        sum.push_str(" + ");
+                        sum.push_str(t);
+                    }
+                }
+            }
+            let exp = if terms.is_empty() {
+                String::new()
+            } else {
+                format!("exp({sum})*")
+            };
+            format!("{exp}{x}^({}) * (1 + ...)", rf(k, &f.rho, Style::Text))
+        })
+        .collect()
+}
+
+fn apparent_fields(k: &Field, a: &Apparent) -> (&'static str, Option<String>) {
+    match a {
+        Apparent::NotApplicable => ("not applicable", None),
+        Apparent::Yes => ("yes", None),
+        Apparent::No => ("no", None),
+        Apparent::When(p) => (
+            "when",
+            Some(format!(
+                "{} = 0",
+                poly_text(p, &Int::ONE, k.names(), Style::Text)
+            )),
+        ),
+        Apparent::Unchecked(why) => ("unchecked", Some(why.clone())),
+    }
+}
+
+fn c2(v: Option<num_complex::Complex64>) -> Value {
+    match v {
+        Some(z) => json!([z.re, z.im]),
+        None => Value::Null,
+    }
+}
+
+fn fmt_c(z: num_complex::Complex64) -> String {
+    let sign = if z.im < 0.0 { '-' } else { '+' };
+    format!("{:.10}{sign}{:.10}i", z.re, z.im.abs())
+}
+
+/// The classification as plain text.
+pub fn analysis_text(
+    k: &Field,
+    var: &str,
+    a: &Analysis,
+    numeric: Option<&[NumericPoint]>,
+) -> String {
+    let s = Style::Text;
+    let mut o = String::new();
+    o.push_str(&format!(
+        "class   {}  ({}: {})\n",
+        a.class,
+        class_name(&a.class),
+        a.reason
+    ));
+    for n in &a.notes {
+        o.push_str(&format!("  note: {n}\n"));
+    }
+    o.push_str("\nsingular points (exponents of ψ and of the unknown; at ∞ in t = 1/z)\n");
+    for (i, p) in a.points.iter().enumerate() {
+        let rank = if p.rank.is_zero() {
+            String::new()
+        } else {
+            format!(", rank {}", p.rank)
+        };
+        let removable = if p.removable {
+            "  (Q is regular here; only the prefactor is singular)"
+        } else {
+            ""
+        };
+        o.push_str(&format!(
+            "  {}\n    {}, pole order {} of Q{rank}{removable}\n",
+            where_text(k, var, p, s),
+            p.kind.word(),
+            p.pole_order
+        ));
+        if !p.exponents.is_empty() && p.kind != crate::analysis::Kind::Irregular {
+            let e: Vec<String> = p.exponents.iter().map(|e| exponent_text(k, e, s)).collect();
+            o.push_str(&format!("    ψ exponents:        {}\n", e.join(",  ")));
+        }
+        if !p.unknown_exponents.is_empty() {
+            let e: Vec<String> = p
+                .unknown_exponents
+                .iter()
+                .map(|e| exponent_text(k, e, s))
+                .collect();
+            o.push_str(&format!("    unknown exponents:  {}\n", e.join(",  ")));
+        }
+        if let Some(n) = p.integer_difference {
+            let (w, cond) = apparent_fields(k, &p.apparent);
+            let extra = cond.map(|c| format!(" ({c})")).unwrap_or_default();
+            o.push_str(&format!(
+                "    integer exponent difference {n}; apparent: {w}{extra}\n"
+            ));
+        }
+        for f in formal_text(k, var, p) {
+            o.push_str(&format!("    formal solution:  ψ ~ {f}\n"));
+        }
+        if let Some(nums) = numeric {
+            for np in nums.iter().filter(|np| np.index == i) {
+                let loc = np.value.map(fmt_c).unwrap_or_else(|| "∞".into());
+                let ex: Vec<String> = np
+                    .exponents
+                    .iter()
+                    .map(|e| e.map(fmt_c).unwrap_or_else(|| "?".into()))
+                    .collect();
+                let ux: Vec<String> = np
+                    .unknown_exponents
+                    .iter()
+                    .map(|e| e.map(fmt_c).unwrap_or_else(|| "?".into()))
+                    .collect();
+                o.push_str(&format!("    at {loc}:  ψ {}", ex.join(", ")));
+                if !ux.is_empty() {
+                    o.push_str(&format!(";  unknown {}", ux.join(", ")));
+                }
+                o.push('\n');
+            }
+        }
+    }
+    if numeric.is_some() && has_inexact_root(a) {
+        o.push_str(&format!("\nnote: {}\n", BRANCH_NOTE));
+    }
+    o
+}
+
+const BRANCH_NOTE: &str = "square roots that are not exact were evaluated on the principal branch; the two exponents at a point may be swapped relative to another choice";
+
+fn has_inexact_root(a: &Analysis) -> bool {
+    a.points
+        .iter()
+        .any(|p| p.exponents.iter().any(|e| e.sign != 0 && e.root.is_none()))
+}
+
+/// The classification as JSON (schema in the module documentation).
+pub fn analysis_json(
+    k: &Field,
+    var: &str,
+    params: &[String],
+    a: &Analysis,
+    numeric: Option<&[NumericPoint]>,
+) -> Value {
+    let s = Style::Text;
+    let mut pts = Vec::new();
+    for (i, p) in a.points.iter().enumerate() {
+        let rows: Vec<Option<&NumericPoint>> = match numeric {
+            Some(n) => {
+                let v: Vec<&NumericPoint> = n.iter().filter(|np| np.index == i).collect();
+                if v.is_empty() {
+                    vec![None]
+                } else {
+                    v.into_iter().map(Some).collect()
+                }
+            }
+            None => vec![None],
+        };
+        for np in rows {
+            let ex = |list: &[Exponent],
+                      vals: Option<&Vec<Option<num_complex::Complex64>>>|
+             -> Vec<Value> {
+                list.iter().enumerate().map(|(j, e)| json!({"exact": exponent_text(k, e, s), "value": c2(vals.and_then(|v| v.get(j).copied().flatten()))})).collect()
+            };
+            let (app, cond) = apparent_fields(k, &p.apparent);
+            pts.push(json!({
+                "where": where_text(k, var, p, s),
+                "infinity": matches!(p.place, Place::Infinity),
+                "value": c2(np.and_then(|n| n.value)),
+                "kind": p.kind.word(),
+                "pole_order": p.pole_order,
+                "rank": p.rank.to_string(),
+                "exponents": ex(&p.exponents, np.map(|n| &n.exponents)),
+                "unknown_exponents": ex(&p.unknown_exponents, np.map(|n| &n.unknown_exponents)),
+                "integer_difference": p.integer_difference,
+                "apparent": app,
+                "apparent_condition": cond,
+                "removable": p.removable,
+                "formal_solutions": formal_text(k, var, p),
+            }));
+        }
+    }
+    json!({
+        "class": a.class,
+        "class_name": class_name(&a.class),
+        "reason": a.reason,
+        "notes": a.notes,
+        "variable": var,
+        "parameters": params,
+        "singular_points": pts,
+        "branch_note": if numeric.is_some() && has_inexact_root(a) { Value::String(BRANCH_NOTE.into()) } else { Value::Null },
+    })
+}

@@ -1,0 +1,881 @@
+//! A deterministic fuzz test of the whole library pipeline (`ode::reduce`),
+//! with no extra crates: a small xorshift generator with a fixed seed feeds
+//! three kinds of input,
+//!
+//! - token soup from the input language's alphabet,
+//! - mutations of every sample file, and
+//! - random well-formed equations whose standard and normal forms are known
+//!   independently (computed here in floating point with dual numbers).
+//!
+//! Every case runs on its own thread (with a large stack, as the binary
+//! does) and must not panic, must finish within a generous bound (a hang
+//! detector, not a timing assertion), must not report an internal error, and
+//! must point any error at a span inside the text it came from. The default
+//! run is sized for a debug build; `soak` (ignored) runs many more cases:
+//! `cargo test --release --test fuzz -- --ignored`.
+
+use canonode::error::{Error, ErrorKind, Origin};
+use canonode::ode::{reduce, Input, ReduceOptions};
+use std::path::Path;
+use std::sync::mpsc;
+use std::time::{Duration, Instant};
+
+/// A case taking longer than this is reported as a hang.
+const HANG_BOUND: Duration = Duration::from_secs(5);
+
+/// The stack of each worker thread; the binary uses a large one for the same reason.
+const STACK: usize = 256 << 20;
+
+/// xorshift64* (Vigna), enough for test-case generation.
+struct Rng(u64);
+
+impl Rng {
+    fn new(seed: u64) -> Rng {
+        Rng(seed.max(1))
+    }
+    fn next(&mut self) -> u64 {
+        let mut x = self.0;
+        x ^= x >> 12;
+        x ^= x << 25;
+        x ^= x >> 27;
+        self.0 = x;
+        x.wrapping_mul(0x2545_F491_4F6C_DD1D)
+    }
+    /// Uniform in 0..n (n > 0).
+    fn below(&mut self, n: usize) -> usize {
+        (self.next() % n as u64) as usize
+    }
+    /// Uniform in lo..=hi.
+    fn range(&mut self, lo: i64, hi: i64) -> i64 {
+        lo + (self.next() % (hi - lo + 1) as u64) as i64
+    }
+    fn chance(&mut self, percent: usize) -> bool {
+        self.below(100) < percent
+    }
+    fn pick<'a, T>(&mut self, items: &'a [T]) -> &'a T {
+        &items[self.below(items.len())]
+    }
+}
+
+/// One input to `reduce`.
+#[derive(Clone, Debug)]
+struct Case {
+    /// What produced it, for the report.
+    label: String,
+    /// The program text, or the inline equation.
+    text: String,
+    /// `Some(var)` for an inline equation.
+    inline_var: Option<String>,
+    /// `--at-infinity`.
+    at_infinity: bool,
+}
+
+impl Case {
+    fn program(label: String, text: String) -> Case {
+        Case {
+            label,
+            text,
+            inline_var: None,
+            at_infinity: false,
+        }
+    }
+}
+
+/// What a worker sends back.
+struct Outcome {
+    error: Option<Error>,
+    /// A failed property of a successful reduction (random well-formed equations only).
+    property: Option<String>,
+    /// Whether the property check ran (the point was not a pole).
+    checked: bool,
+}
+
+/// The summary of a run.
+#[derive(Default)]
+struct Stats {
+    cases: usize,
+    ok: usize,
+    errors: std::collections::BTreeMap<String, usize>,
+    checked: usize,
+    slowest: Option<(Duration, String, String)>,
+    failures: Vec<String>,
+}
+
+impl Stats {
+    fn report(&self, name: &str) {
+        eprintln!(
+            "fuzz {name}: {} cases, {} ok, {} checked against the oracle",
+            self.cases, self.ok, self.checked
+        );
+        for (k, n) in &self.errors {
+            eprintln!("  {k}: {n}");
+        }
+        if let Some((d, label, text)) = &self.slowest {
+            eprintln!(
+                "  slowest: {:.3} s, {label}: {}",
+                d.as_secs_f64(),
+                excerpt(text)
+            );
+        }
+    }
+    fn finish(&self, name: &str) {
+        self.report(name);
+        if !self.failures.is_empty() {
+            for f in self.failures.iter().take(10) {
+                eprintln!("FAILURE {f}");
+            }
+            panic!(
+                "{name}: {} failing cases (first ones above)",
+                self.failures.len()
+            );
+        }
+    }
+}
+
+/// A short, escaped view of a long input.
+fn excerpt(text: &str) -> String {
+    let chars: Vec<char> = text.chars().collect();
+    if chars.len() <= 300 {
+        format!("{text:?}")
+    } else {
+        let head: String = chars[..200].iter().collect();
+        let tail: String = chars[chars.len() - 80..].iter().collect();
+        format!("{head:?} ... ({} chars) ... {tail:?}", chars.len())
+    }
+}
+
+/// Checks an error's span against the text it points into.
+fn span_problem(case: &Case, e: &Error) -> Option<String> {
+    let span = e.span?;
+    let text: &str = match &e.origin {
+        Origin::Input => &case.text,
+        // The only option used here is --at-infinity, whose text the CLI shows as empty.
+        Origin::Option(_) => return None,
+    };
+    if span.start > span.end || span.end > text.len() {
+        return Some(format!(
+            "span {}..{} outside the text of {} bytes",
+            span.start,
+            span.end,
+            text.len()
+        ));
+    }
+    if !text.is_char_boundary(span.start) || !text.is_char_boundary(span.end) {
+        return Some(format!(
+            "span {}..{} not on character boundaries",
+            span.start, span.end
+        ));
+    }
+    None
+}
+
+/// Runs one case on a worker thread, with `property` applied to a successful reduction;
+/// `must_reduce` cases may fail only on a limit.
+fn run_case(stats: &mut Stats, case: Case, property: Option<Oracle>, must_reduce: bool) {
+    let (tx, rx) = mpsc::channel();
+    let worker_case = case.clone();
+    let start = Instant::now();
+    let handle = std::thread::Builder::new()
+        .stack_size(STACK)
+        .spawn(move || {
+            let c = worker_case;
+            let input = match &c.inline_var {
+                Some(v) => Input::Inline {
+                    equation: &c.text,
+                    var: v,
+                },
+                None => Input::Program(&c.text),
+            };
+            let opts = ReduceOptions {
+                at_infinity: c.at_infinity,
+                ..ReduceOptions::default()
+            };
+            let outcome = match reduce(&input, &opts) {
+                Ok(red) => match &property {
+                    Some(p) => {
+                        let (prop, checked) = p.check(&red);
+                        Outcome {
+                            error: None,
+                            property: prop,
+                            checked,
+                        }
+                    }
+                    None => Outcome {
+                        error: None,
+                        property: None,
+                        checked: false,
+                    },
+                },
+                Err(e) => Outcome {
+                    error: Some(e),
+                    property: None,
+                    checked: false,
+                },
+            };
+            let _ = tx.send(outcome);
+        })
+        .expect("a worker thread");
+    stats.cases += 1;
+    let outcome = match rx.recv_timeout(HANG_BOUND) {
+        Ok(o) => o,
+        Err(mpsc::RecvTimeoutError::Timeout) => {
+            // The worker cannot be stopped; report at once rather than let it skew later cases.
+            stats.failures.push(format!(
+                "HANG (> {HANG_BOUND:?}) {}: {}",
+                case.label,
+                excerpt(&case.text)
+            ));
+            stats.finish("(aborted on a hang)");
+            unreachable!("finish panics when there are failures");
+        }
+        Err(mpsc::RecvTimeoutError::Disconnected) => {
+            let msg = match handle.join() {
+                Err(p) => p
+                    .downcast_ref::<String>()
+                    .cloned()
+                    .or_else(|| p.downcast_ref::<&str>().map(|s| s.to_string()))
+                    .unwrap_or_default(),
+                Ok(()) => String::new(),
+            };
+            stats.failures.push(format!(
+                "PANIC {msg:?} {}: {}",
+                case.label,
+                excerpt(&case.text)
+            ));
+            return;
+        }
+    };
+    let took = start.elapsed();
+    let _ = handle.join();
+    if stats.slowest.as_ref().map_or(true, |(d, _, _)| took > *d) {
+        stats.slowest = Some((took, case.label.clone(), case.text.clone()));
+    }
+    if outcome.checked {
+        stats.checked += 1;
+    }
+    match outcome.error {
+        None => {
+            stats.ok += 1;
+            if let Some(p) = outcome.property {
+                stats
+                    .failures
+                    .push(format!("WRONG {p} {}: {}", case.label, excerpt(&case.text)));
+            }
+        }
+        Some(e) => {
+            *stats.errors.entry(format!("{:?}", e.kind)).or_default() += 1;
+            if e.kind == ErrorKind::Internal {
+                stats.failures.push(format!(
+                    "INTERNAL {:?} {}: {}",
+                    e.message,
+                    case.label,
+                    excerpt(&case.text)
+                ));
+            }
+            if let Some(p) = span_problem(&case, &e) {
+                stats.failures.push(format!(
+                    "SPAN {p} ({:?}) {}: {}",
+                    e.message,
+                    case.label,
+                    excerpt(&case.text)
+                ));
+            }
+            if must_reduce && e.kind != ErrorKind::Limit {
+                stats.failures.push(format!(
+                    "REJECTED {:?}: {} {}: {}",
+                    e.kind,
+                    e.message,
+                    case.label,
+                    excerpt(&case.text)
+                ));
+            }
+        }
+    }
+}
+
+// ---------------------------------------------------------------- (a) token soup
+
+/// The alphabet of the soup: the language's tokens and what pasted text brings.
+const TOKENS: &[&str] = &[
+    "var", "param", "let", "unknown", "ode", "sqrt", "I", "r", "z", "x", "y", "w", "u", "M", "a",
+    "nu", "omega", "ω", "λ", "y_1", "f2", "0", "1", "2", "3", "10", "2.5", ".5", "3.", "1e-3",
+    "1E+2", "7e400", "0.000001", "+", "-", "*", "/", "^", "'", "''", "'''", "(", "(", ")", ")",
+    "=", ",", ";", "\n", "\n", "\r\n", "# c\n", " ", "\t", "−", "·", "×", "′", "’", "″", "$", "\\",
+    "²", "\u{200b}", "é", "1.2.3", "e", "**", "^-", "sqrt(", "y''", "y'", "*y", "/r",
+];
+
+/// Prefixes that get the soup past the declarations into lowering.
+const PRELUDES: &[&str] = &[
+    "",
+    "",
+    "var r\n",
+    "var r\nparam a, M\n",
+    "var z\nparam nu\nlet f = 1 - z\n",
+    "var r\nparam M\nlet f = 1 - 2*M/r\node ",
+];
+
+fn soup(rng: &mut Rng) -> Case {
+    let mut s = rng.pick(PRELUDES).to_string();
+    let shape = rng.below(3);
+    let n = rng.range(1, 40) as usize;
+    let mut body = String::new();
+    for _ in 0..n {
+        body.push_str(*rng.pick(TOKENS));
+        if rng.chance(30) {
+            body.push(' ');
+        }
+    }
+    match shape {
+        // Bare soup.
+        0 => s.push_str(&body),
+        // An ode statement around the soup.
+        1 => {
+            let cut = body
+                .char_indices()
+                .map(|(i, _)| i)
+                .nth(rng.below(body.chars().count().max(1)))
+                .unwrap_or(0);
+            s.push_str(&format!("ode {} = {}\n", &body[..cut], &body[cut..]));
+        }
+        // A let of soup, then a plausible ode using it.
+        _ => s.push_str(&format!("let g = {body}\node y'' + g*y = 0\n")),
+    }
+    if rng.chance(15) {
+        // The same soup as an inline equation.
+        return Case {
+            label: "soup/inline".into(),
+            text: body,
+            inline_var: Some("r".into()),
+            at_infinity: false,
+        };
+    }
+    Case::program("soup".into(), s)
+}
+
+// ---------------------------------------------------------------- (b) mutations
+
+/// Splits text into tokens: names, numbers, runs of primes, single characters.
+fn tokenize(text: &str) -> Vec<String> {
+    let chars: Vec<char> = text.chars().collect();
+    let mut out = Vec::new();
+    let mut i = 0;
+    while i < chars.len() {
+        let c = chars[i];
+        let mut j = i + 1;
+        if c.is_alphanumeric() || c == '_' || c == '.' {
+            while j < chars.len()
+                && (chars[j].is_alphanumeric() || chars[j] == '_' || chars[j] == '.')
+            {
+                j += 1;
+            }
+        } else if c == '\'' {
+            while j < chars.len() && chars[j] == '\'' {
+                j += 1;
+            }
+        }
+        out.push(chars[i..j].iter().collect());
+        i = j;
+    }
+    out
+}
+
+/// Numbers that stress the exact layer and the limits.
+fn huge_number(rng: &mut Rng) -> String {
+    match rng.below(8) {
+        0 => "9".repeat(rng.range(20, 1999) as usize),
+        1 => "1".repeat(2001),
+        2 => format!(
+            "1e{}",
+            rng.pick(&[999, 6000, 7000, 99_999, 100_001, 999_999_999])
+        ),
+        3 => format!("1e-{}", rng.pick(&[999, 7000, 99_999, 100_001])),
+        4 => format!("(10^100)^{}", rng.pick(&[10, 60, 70, 1000])),
+        5 => format!("0.{}1", "0".repeat(rng.range(10, 1990) as usize)),
+        6 => format!("{}.{}", "7".repeat(900), "3".repeat(900)),
+        _ => format!("2^{}", rng.pick(&[64, 20_000, 20_001, 1_000_000])),
+    }
+}
+
+fn mutate(rng: &mut Rng, tokens: &mut Vec<String>) -> &'static str {
+    if tokens.is_empty() {
+        tokens.push(rng.pick(TOKENS).to_string());
+        return "insert";
+    }
+    let i = rng.below(tokens.len());
+    match rng.below(11) {
+        0 => {
+            tokens.remove(i);
+            "delete"
+        }
+        1 => {
+            tokens.insert(i, rng.pick(TOKENS).to_string());
+            "insert"
+        }
+        2 => {
+            let len = rng.range(1, 12) as usize;
+            let end = (i + len).min(tokens.len());
+            let copy: Vec<String> = tokens[i..end].to_vec();
+            let at = rng.below(tokens.len() + 1);
+            tokens.splice(at..at, copy);
+            "duplicate"
+        }
+        3 => {
+            let j = rng.below(tokens.len());
+            tokens.swap(i, j);
+            "swap"
+        }
+        4 => {
+            let numbers: Vec<usize> = (0..tokens.len())
+                .filter(|&k| tokens[k].starts_with(|c: char| c.is_ascii_digit()))
+                .collect();
+            let k = if numbers.is_empty() {
+                i
+            } else {
+                *rng.pick(&numbers)
+            };
+            tokens[k] = huge_number(rng);
+            "huge number"
+        }
+        5 => {
+            let depth = *rng.pick(&[1, 3, 40, 500, 1999, 2000, 2001, 2600]);
+            let end = (i + rng.range(1, 6) as usize).min(tokens.len());
+            tokens.insert(end, ")".repeat(depth));
+            tokens.insert(i, "(".repeat(depth));
+            "deepen parens"
+        }
+        6 => {
+            let depth = *rng.pick(&[2, 300, 1999, 2001]);
+            tokens.insert(i, rng.pick(&["-", "+", "-+"]).repeat(depth));
+            "deepen signs"
+        }
+        7 => {
+            // Another name of the file in place of this token.
+            let names: Vec<String> = tokens
+                .iter()
+                .filter(|t| t.starts_with(char::is_alphabetic))
+                .cloned()
+                .collect();
+            if let Some(n) = names.get(rng.below(names.len().max(1))) {
+                tokens[i] = n.clone();
+            }
+            "rename"
+        }
+        8 => {
+            tokens.insert(
+                i,
+                rng.pick(&[
+                    "^(1/2)", "^s", "^-3", "^40", "^(l+1)", "'", "''", "*y", "/(r-r)", "^0.5",
+                    "^1e2",
+                ])
+                .to_string(),
+            );
+            "operator"
+        }
+        9 => {
+            // Repeat a whole line.
+            let text: String = tokens.concat();
+            let lines: Vec<&str> = text.split('\n').collect();
+            let k = rng.below(lines.len());
+            let mut out: Vec<String> = lines.iter().map(|l| l.to_string()).collect();
+            out.insert(k, lines[k].to_string());
+            *tokens = tokenize(&out.join("\n"));
+            "repeat line"
+        }
+        _ => {
+            // A single character dropped inside a token.
+            let t: Vec<char> = tokens[i].chars().collect();
+            let k = rng.below(t.len());
+            tokens[i] = t
+                .iter()
+                .enumerate()
+                .filter(|(j, _)| *j != k)
+                .map(|(_, c)| *c)
+                .collect();
+            "drop char"
+        }
+    }
+}
+
+fn samples() -> Vec<(String, String)> {
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("samples");
+    let mut out: Vec<(String, String)> = std::fs::read_dir(&dir)
+        .expect("the samples directory")
+        .filter_map(|e| e.ok().map(|e| e.path()))
+        .filter(|p| p.extension().is_some_and(|x| x == "ode"))
+        .map(|p| {
+            (
+                p.file_name()
+                    .unwrap_or_default()
+                    .to_string_lossy()
+                    .into_owned(),
+                std::fs::read_to_string(&p).expect("a sample"),
+            )
+        })
+        .collect();
+    out.sort();
+    assert!(out.len() >= 10, "the samples directory has too few files");
+    out
+}
+
+fn mutation_case(rng: &mut Rng, name: &str, text: &str) -> Case {
+    let mut tokens = tokenize(text);
+    let mut ops = Vec::new();
+    for _ in 0..rng.range(1, 3) {
+        ops.push(mutate(rng, &mut tokens));
+    }
+    let mut case = Case::program(format!("{name} [{}]", ops.join(", ")), tokens.concat());
+    case.at_infinity = rng.chance(10);
+    case
+}
+
+// ---------------------------------------------------------------- (c) well-formed equations
+
+/// A random expression free of the unknown, in the variable (index 0) and parameters (1..).
+#[derive(Clone, Debug)]
+enum E {
+    Num(i64, i64),
+    Sym(usize),
+    Add(Box<E>, Box<E>),
+    Sub(Box<E>, Box<E>),
+    Mul(Box<E>, Box<E>),
+    Div(Box<E>, Box<E>),
+    Pow(Box<E>, i32),
+}
+
+/// A value and its derivative with respect to the variable.
+#[derive(Clone, Copy, Debug)]
+struct Dual(f64, f64);
+
+impl E {
+    fn text(&self, names: &[String], rng: &mut Rng) -> String {
+        match self {
+            E::Num(n, d) => {
+                if *d == 1 {
+                    if *n < 0 {
+                        format!("({n})")
+                    } else {
+                        n.to_string()
+                    }
+                } else if *d == 4 && rng.chance(50) {
+                    // An exact decimal: n/4 with two digits.
+                    let v = *n as f64 / 4.0;
+                    if v < 0.0 {
+                        format!("({v})")
+                    } else {
+                        format!("{v}")
+                    }
+                } else {
+                    format!("({n}/{d})")
+                }
+            }
+            E::Sym(i) => names[*i].clone(),
+            E::Add(a, b) => format!("({} + {})", a.text(names, rng), b.text(names, rng)),
+            E::Sub(a, b) => format!("({} - {})", a.text(names, rng), b.text(names, rng)),
+            E::Mul(a, b) => format!("{}*{}", a.text(names, rng), b.text(names, rng)),
+            E::Div(a, b) => format!("{}/({})", a.text(names, rng), b.text(names, rng)),
+            E::Pow(a, k) => {
+                let base = a.text(names, rng);
+                let base = if base.starts_with('(') && base.ends_with(')')
+                    || base.chars().all(char::is_alphanumeric)
+                {
+                    base
+                } else {
+                    format!("({base})")
+                };
+                format!("{base}^{k}")
+            }
+        }
+    }
+
+    fn eval(&self, at: &[f64]) -> Dual {
+        match self {
+            E::Num(n, d) => Dual(*n as f64 / *d as f64, 0.0),
+            E::Sym(i) => Dual(at[*i], if *i == 0 { 1.0 } else { 0.0 }),
+            E::Add(a, b) => {
+                let (x, y) = (a.eval(at), b.eval(at));
+                Dual(x.0 + y.0, x.1 + y.1)
+            }
+            E::Sub(a, b) => {
+                let (x, y) = (a.eval(at), b.eval(at));
+                Dual(x.0 - y.0, x.1 - y.1)
+            }
+            E::Mul(a, b) => {
+                let (x, y) = (a.eval(at), b.eval(at));
+                Dual(x.0 * y.0, x.1 * y.0 + x.0 * y.1)
+            }
+            E::Div(a, b) => {
+                let (x, y) = (a.eval(at), b.eval(at));
+                Dual(x.0 / y.0, (x.1 * y.0 - x.0 * y.1) / (y.0 * y.0))
+            }
+            E::Pow(a, k) => {
+                let x = a.eval(at);
+                let k = *k;
+                Dual(x.0.powi(k), k as f64 * x.0.powi(k - 1) * x.1)
+            }
+        }
+    }
+}
+
+fn b(e: E) -> Box<E> {
+    Box::new(e)
+}
+
+/// A small nonzero rational.
+fn nonzero_num(rng: &mut Rng) -> E {
+    let n = loop {
+        let n = rng.range(-9, 9);
+        if n != 0 {
+            break n;
+        }
+    };
+    E::Num(n, *rng.pick(&[1, 1, 1, 2, 3, 4, 7]))
+}
+
+/// A polynomial factor that is visibly not the zero function.
+fn nonzero_factor(rng: &mut Rng, nsyms: usize) -> E {
+    let z = E::Sym(0);
+    match rng.below(5) {
+        0 => z,
+        1 => E::Sub(b(z), b(nonzero_num(rng))),
+        2 => E::Add(b(E::Pow(b(z), 2)), b(E::Num(rng.range(1, 9), 1))),
+        3 if nsyms > 1 => E::Add(b(z), b(E::Sym(rng.range(1, nsyms as i64 - 1) as usize))),
+        3 => E::Add(b(z), b(nonzero_num(rng))),
+        _ if nsyms > 1 => E::Sym(rng.range(1, nsyms as i64 - 1) as usize),
+        _ => nonzero_num(rng),
+    }
+}
+
+/// A product of nonzero factors and powers of them, times a nonzero constant.
+fn nonzero(rng: &mut Rng, nsyms: usize) -> E {
+    let mut e = nonzero_num(rng);
+    for _ in 0..rng.range(0, 3) {
+        let f = nonzero_factor(rng, nsyms);
+        let f = match rng.below(4) {
+            0 => E::Pow(b(f), rng.range(-3, 3) as i32),
+            1 => E::Div(b(E::Num(1, 1)), b(f)),
+            _ => f,
+        };
+        e = E::Mul(b(e), b(f));
+    }
+    e
+}
+
+/// Any expression (possibly identically zero), with nonzero denominators.
+fn any(rng: &mut Rng, nsyms: usize, depth: u32) -> E {
+    if depth == 0 || rng.chance(25) {
+        return match rng.below(3) {
+            0 => E::Num(rng.range(-9, 9), *rng.pick(&[1, 1, 2, 3, 4])),
+            _ => E::Sym(rng.below(nsyms)),
+        };
+    }
+    let (x, y) = (any(rng, nsyms, depth - 1), any(rng, nsyms, depth - 1));
+    match rng.below(6) {
+        0 => E::Add(b(x), b(y)),
+        1 => E::Sub(b(x), b(y)),
+        2 => E::Mul(b(x), b(y)),
+        3 => E::Div(b(x), b(nonzero(rng, nsyms))),
+        4 => E::Pow(b(x), rng.range(0, 3) as i32),
+        _ => E::Mul(b(x), b(nonzero(rng, nsyms))),
+    }
+}
+
+/// The expected p, q and Q at a point, computed from the generated coefficients.
+#[derive(Clone, Debug)]
+struct Oracle {
+    /// Names of the field's variables in order (variable first).
+    names: Vec<String>,
+    /// The point, as exact rationals (numerator, denominator).
+    point: Vec<(i64, i64)>,
+    p: f64,
+    q: f64,
+    big_q: f64,
+    /// The size of the terms of Q, for a tolerance that allows for cancellation.
+    scale: f64,
+}
+
+impl Oracle {
+    fn check(&self, red: &canonode::ode::Reduction) -> (Option<String>, bool) {
+        use canonode::algebra::{GRat, Int, Rat};
+        if red.field.names() != self.names.as_slice() {
+            return (
+                Some(format!(
+                    "field names {:?}, expected {:?}",
+                    red.field.names(),
+                    self.names
+                )),
+                false,
+            );
+        }
+        let point: Vec<GRat> = self
+            .point
+            .iter()
+            .map(|&(n, d)| GRat::real(Rat::new(Int::from(n), Int::from(d)).expect("nonzero")))
+            .collect();
+        let (Some(p), Some(q), Some(bq)) = (
+            red.p.eval(&point),
+            red.q.eval(&point),
+            red.normal.q.eval(&point),
+        ) else {
+            return (None, false);
+        };
+        for (what, got, want) in [("p", p, self.p), ("q", q, self.q), ("Q", bq, self.big_q)] {
+            let (re, im) = got.to_f64();
+            if im != 0.0 || (re - want).abs() > 1e-7 * (self.scale + want.abs() + 1.0) {
+                return (
+                    Some(format!(
+                        "{what} = {re}{im:+}i at {:?}, expected {want}",
+                        self.point
+                    )),
+                    true,
+                );
+            }
+        }
+        (None, true)
+    }
+}
+
+fn wellformed(rng: &mut Rng) -> (Case, Option<Oracle>) {
+    let var = rng.pick(&["z", "x", "r"]).to_string();
+    let unknown = rng.pick(&["y", "w", "u", "psi"]).to_string();
+    let all_params = ["a", "b", "nu", "M"];
+    let nparams = rng.range(1, 3) as usize;
+    let mut names = vec![var.clone()];
+    names.extend(all_params[..nparams].iter().map(|s| s.to_string()));
+    let nsyms = names.len();
+    let depth = rng.range(1, 3) as u32;
+    let a2 = nonzero(rng, nsyms);
+    let a1 = any(rng, nsyms, depth);
+    let a0 = any(rng, nsyms, depth);
+    let t2 = a2.text(&names, rng);
+    let t1 = a1.text(&names, rng);
+    let t0 = a0.text(&names, rng);
+    let u = &unknown;
+    let mut src = format!("var {var}\nparam {}\n", names[1..].join(", "));
+    let ode = match rng.below(5) {
+        0 => format!("ode {t2}*{u}'' + {t1}*{u}' + {t0}*{u} = 0"),
+        1 => format!("ode {t2}*{u}'' = -({t1})*{u}' - ({t0})*{u}"),
+        2 => {
+            src.push_str(&format!("let c2 = {t2}\nlet c1 = {t1}\nlet c0 = {t0}\n"));
+            format!("ode c0*{u} + c1*{u}' + c2*{u}'' = 0")
+        }
+        // (a2 y')' + (a1 - a2') y' + a0 y: the same equation through a product rule.
+        3 => format!("ode ({t2}*{u}')' + ({t1} - ({t2})')*{u}' + {t0}*{u} = 0"),
+        // The whole equation times a nonzero factor.
+        _ => {
+            let f = nonzero(rng, nsyms).text(&names, rng);
+            format!("ode ({f})*({t2}*{u}'' + {t1}*{u}' + {t0}*{u}) = 0")
+        }
+    };
+    src.push_str(&ode);
+    src.push('\n');
+    // A point with small rational coordinates, away from the obvious zeros.
+    let point: Vec<(i64, i64)> = (0..nsyms)
+        .map(|_| (rng.range(-40, 40) * 2 + 1, *rng.pick(&[3, 7, 11, 13])))
+        .collect();
+    let at: Vec<f64> = point.iter().map(|&(n, d)| n as f64 / d as f64).collect();
+    let (d2, d1, d0) = (a2.eval(&at), a1.eval(&at), a0.eval(&at));
+    let case = Case::program(format!("well-formed ({} params)", nparams), src);
+    if !(d2.0.abs() > 1e-6
+        && d2.0.is_finite()
+        && d1.0.is_finite()
+        && d0.0.is_finite()
+        && d1.1.is_finite()
+        && d2.1.is_finite())
+    {
+        return (case, None);
+    }
+    let p = d1.0 / d2.0;
+    let dp = (d1.1 * d2.0 - d1.0 * d2.1) / (d2.0 * d2.0);
+    let q = d0.0 / d2.0;
+    let big_q = q - dp / 2.0 - p * p / 4.0;
+    let scale = q.abs() + dp.abs() / 2.0 + p * p / 4.0;
+    if !big_q.is_finite() || scale > 1e12 {
+        return (case, None);
+    }
+    (
+        case,
+        Some(Oracle {
+            names,
+            point,
+            p,
+            q,
+            big_q,
+            scale,
+        }),
+    )
+}
+
+// ---------------------------------------------------------------- the runs
+
+fn run_all(seed: u64, soup_cases: usize, mutations_per_sample: usize, wellformed_cases: usize) {
+    let mut rng = Rng::new(seed);
+    let started = Instant::now();
+
+    let mut stats = Stats::default();
+    for _ in 0..soup_cases {
+        let case = soup(&mut rng);
+        run_case(&mut stats, case, None, false);
+    }
+    stats.finish("token soup");
+
+    let mut stats = Stats::default();
+    for (name, text) in samples() {
+        for _ in 0..mutations_per_sample {
+            let case = mutation_case(&mut rng, &name, &text);
+            run_case(&mut stats, case, None, false);
+        }
+    }
+    stats.finish("sample mutations");
+
+    let mut stats = Stats::default();
+    for _ in 0..wellformed_cases {
+        let (case, oracle) = wellformed(&mut rng);
+        // Without an oracle (a point near a zero of a2) the case must still reduce.
+        run_case(&mut stats, case, oracle, true);
+    }
+    stats.finish("well-formed equations");
+    assert!(
+        stats.checked * 2 >= wellformed_cases,
+        "too few well-formed cases were checked against the oracle: {}",
+        stats.checked
+    );
+    eprintln!("fuzz total: {:.1} s", started.elapsed().as_secs_f64());
+}
+
+#[test]
+fn fuzz() {
+    run_all(0x9E37_79B9_7F4A_7C15, 3000, 100, 300);
+}
+
+#[test]
+#[ignore = "a long soak; run with cargo test --release --test fuzz -- --ignored"]
+fn soak() {
+    for seed in 1..=4u64 {
+        run_all(
+            seed.wrapping_mul(0xD1B5_4A32_D192_ED03),
+            30_000,
+            1_000,
+            3_000,
+        );
+    }
+}
+
+/// The generator itself: tokens round-trip and the oracle agrees with a hand-made case.
+#[test]
+fn generator_sanity() {
+    assert_eq!(
+        tokenize("let f = 1 - 2*M/r\node f*y'' = 0").concat(),
+        "let f = 1 - 2*M/r\node f*y'' = 0"
+    );
+    assert_eq!(tokenize("y'' + 2.5*ω")[..3], ["y", "''", " "]);
+    // Bessel, DLMF 10.2.1: z^2 w'' + z w' + (z^2 - nu^2) w = 0 has Q = 1 + (1/4 - nu^2)/z^2.
+    let z2 = E::Pow(b(E::Sym(0)), 2);
+    let a1 = E::Sym(0);
+    let a0 = E::Sub(b(E::Pow(b(E::Sym(0)), 2)), b(E::Pow(b(E::Sym(1)), 2)));
+    let at = [2.0, 3.0];
+    let (d2, d1, d0) = (z2.eval(&at), a1.eval(&at), a0.eval(&at));
+    let p = d1.0 / d2.0;
+    let dp = (d1.1 * d2.0 - d1.0 * d2.1) / (d2.0 * d2.0);
+    let big_q = d0.0 / d2.0 - dp / 2.0 - p * p / 4.0;
+    assert!((big_q - (1.0 + (0.25 - 9.0) / 4.0)).abs() < 1e-12);
+}
