@@ -59,13 +59,7 @@ pub struct Error {
 impl Error {
     /// A new error of `kind` with `message`, pointing nowhere yet.
     pub fn new(kind: ErrorKind, message: impl Into<String>) -> Error {
-        Error {
-            kind,
-            message: message.into(),
-            span: None,
-            origin: Origin::Input,
-            notes: Vec::new(),
-        }
+        Error { kind, message: message.into(), span: None, origin: Origin::Input, notes: Vec::new() }
     }
     /// The same error pointing at `span`.
     pub fn at(mut self, span: Span) -> Error {

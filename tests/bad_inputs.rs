@@ -33,16 +33,10 @@ fn expected_kind(stem: &str) -> ErrorKind {
 fn bad_inputs() {
     let root = Path::new(env!("CARGO_MANIFEST_DIR"));
     insta::glob!("bad/*.ode", |path| {
-        let name = path
-            .file_name()
-            .and_then(|n| n.to_str())
-            .expect("a UTF-8 file name");
+        let name = path.file_name().and_then(|n| n.to_str()).expect("a UTF-8 file name");
         let stem = name.trim_end_matches(".ode");
         let text = std::fs::read_to_string(path).expect("a readable corpus file");
-        assert!(
-            text.starts_with("# exercises: "),
-            "{name}: the file must start with a '# exercises: ...' comment"
-        );
+        assert!(text.starts_with("# exercises: "), "{name}: the file must start with a '# exercises: ...' comment");
 
         // The library: an error of the kind the name promises, blamed on the input.
         let err = match reduce(&Input::Program(&text), &ReduceOptions::default()) {
@@ -52,29 +46,16 @@ fn bad_inputs() {
         assert!(err.is_bad_input(), "{name}: an internal error: {err:?}");
         assert_eq!(err.kind, expected_kind(stem), "{name}: {}", err.message);
         if let Some(span) = err.span {
-            assert!(
-                span.start <= span.end && span.end <= text.len(),
-                "{name}: span {span:?} outside the text"
-            );
+            assert!(span.start <= span.end && span.end <= text.len(), "{name}: span {span:?} outside the text");
         }
 
         // The binary: exit status 2, nothing on stdout, and the diagnostic.
         let rel = format!("tests/bad/{name}");
-        let out = Command::new(env!("CARGO_BIN_EXE_canonode"))
-            .current_dir(root)
-            .args(["reduce", &rel])
-            .output()
-            .expect("the binary runs");
+        let out = Command::new(env!("CARGO_BIN_EXE_canonode")).current_dir(root).args(["reduce", &rel]).output().expect("the binary runs");
         let stderr = String::from_utf8(out.stderr).expect("UTF-8 on stderr");
         assert_eq!(out.status.code(), Some(2), "{name}: {stderr}");
         assert!(out.stdout.is_empty(), "{name}: printed on stdout");
-        assert!(
-            stderr.starts_with(&format!("{rel}:")),
-            "{name}: the diagnostic does not start with the file name: {stderr}"
-        );
-        insta::assert_snapshot!(format!(
-            "{stderr}[exit status {}]",
-            out.status.code().unwrap_or(-1)
-        ));
+        assert!(stderr.starts_with(&format!("{rel}:")), "{name}: the diagnostic does not start with the file name: {stderr}");
+        insta::assert_snapshot!(format!("{stderr}[exit status {}]", out.status.code().unwrap_or(-1)));
     });
 }

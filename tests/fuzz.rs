@@ -2,7 +2,8 @@
 //! with no extra crates: a small xorshift generator with a fixed seed feeds
 //! three kinds of input,
 //!
-//! - token soup from the input language's alphabet,
+//! - token soup from the input language's alphabet, and grammatical but
+//!   meaningless programs,
 //! - mutations of every sample file, and
 //! - random well-formed equations whose standard and normal forms are known
 //!   independently (computed here in floating point with dual numbers).
@@ -72,12 +73,7 @@ struct Case {
 
 impl Case {
     fn program(label: String, text: String) -> Case {
-        Case {
-            label,
-            text,
-            inline_var: None,
-            at_infinity: false,
-        }
+        Case { label, text, inline_var: None, at_infinity: false }
     }
 }
 
@@ -103,19 +99,12 @@ struct Stats {
 
 impl Stats {
     fn report(&self, name: &str) {
-        eprintln!(
-            "fuzz {name}: {} cases, {} ok, {} checked against the oracle",
-            self.cases, self.ok, self.checked
-        );
+        eprintln!("fuzz {name}: {} cases, {} ok, {} checked against the oracle", self.cases, self.ok, self.checked);
         for (k, n) in &self.errors {
             eprintln!("  {k}: {n}");
         }
         if let Some((d, label, text)) = &self.slowest {
-            eprintln!(
-                "  slowest: {:.3} s, {label}: {}",
-                d.as_secs_f64(),
-                excerpt(text)
-            );
+            eprintln!("  slowest: {:.3} s, {label}: {}", d.as_secs_f64(), excerpt(text));
         }
     }
     fn finish(&self, name: &str) {
@@ -124,10 +113,7 @@ impl Stats {
             for f in self.failures.iter().take(10) {
                 eprintln!("FAILURE {f}");
             }
-            panic!(
-                "{name}: {} failing cases (first ones above)",
-                self.failures.len()
-            );
+            panic!("{name}: {} failing cases (first ones above)", self.failures.len());
         }
     }
 }
@@ -153,18 +139,10 @@ fn span_problem(case: &Case, e: &Error) -> Option<String> {
         Origin::Option(_) => return None,
     };
     if span.start > span.end || span.end > text.len() {
-        return Some(format!(
-            "span {}..{} outside the text of {} bytes",
-            span.start,
-            span.end,
-            text.len()
-        ));
+        return Some(format!("span {}..{} outside the text of {} bytes", span.start, span.end, text.len()));
     }
     if !text.is_char_boundary(span.start) || !text.is_char_boundary(span.end) {
-        return Some(format!(
-            "span {}..{} not on character boundaries",
-            span.start, span.end
-        ));
+        return Some(format!("span {}..{} not on character boundaries", span.start, span.end));
     }
     None
 }
@@ -180,37 +158,19 @@ fn run_case(stats: &mut Stats, case: Case, property: Option<Oracle>, must_reduce
         .spawn(move || {
             let c = worker_case;
             let input = match &c.inline_var {
-                Some(v) => Input::Inline {
-                    equation: &c.text,
-                    var: v,
-                },
+                Some(v) => Input::Inline { equation: &c.text, var: v },
                 None => Input::Program(&c.text),
             };
-            let opts = ReduceOptions {
-                at_infinity: c.at_infinity,
-                ..ReduceOptions::default()
-            };
+            let opts = ReduceOptions { at_infinity: c.at_infinity, ..ReduceOptions::default() };
             let outcome = match reduce(&input, &opts) {
                 Ok(red) => match &property {
                     Some(p) => {
                         let (prop, checked) = p.check(&red);
-                        Outcome {
-                            error: None,
-                            property: prop,
-                            checked,
-                        }
+                        Outcome { error: None, property: prop, checked }
                     }
-                    None => Outcome {
-                        error: None,
-                        property: None,
-                        checked: false,
-                    },
+                    None => Outcome { error: None, property: None, checked: false },
                 },
-                Err(e) => Outcome {
-                    error: Some(e),
-                    property: None,
-                    checked: false,
-                },
+                Err(e) => Outcome { error: Some(e), property: None, checked: false },
             };
             let _ = tx.send(outcome);
         })
@@ -220,28 +180,16 @@ fn run_case(stats: &mut Stats, case: Case, property: Option<Oracle>, must_reduce
         Ok(o) => o,
         Err(mpsc::RecvTimeoutError::Timeout) => {
             // The worker cannot be stopped; report at once rather than let it skew later cases.
-            stats.failures.push(format!(
-                "HANG (> {HANG_BOUND:?}) {}: {}",
-                case.label,
-                excerpt(&case.text)
-            ));
+            stats.failures.push(format!("HANG (> {HANG_BOUND:?}) {}: {}", case.label, excerpt(&case.text)));
             stats.finish("(aborted on a hang)");
             unreachable!("finish panics when there are failures");
         }
         Err(mpsc::RecvTimeoutError::Disconnected) => {
             let msg = match handle.join() {
-                Err(p) => p
-                    .downcast_ref::<String>()
-                    .cloned()
-                    .or_else(|| p.downcast_ref::<&str>().map(|s| s.to_string()))
-                    .unwrap_or_default(),
+                Err(p) => p.downcast_ref::<String>().cloned().or_else(|| p.downcast_ref::<&str>().map(|s| s.to_string())).unwrap_or_default(),
                 Ok(()) => String::new(),
             };
-            stats.failures.push(format!(
-                "PANIC {msg:?} {}: {}",
-                case.label,
-                excerpt(&case.text)
-            ));
+            stats.failures.push(format!("PANIC {msg:?} {}: {}", case.label, excerpt(&case.text)));
             return;
         }
     };
@@ -257,37 +205,19 @@ fn run_case(stats: &mut Stats, case: Case, property: Option<Oracle>, must_reduce
         None => {
             stats.ok += 1;
             if let Some(p) = outcome.property {
-                stats
-                    .failures
-                    .push(format!("WRONG {p} {}: {}", case.label, excerpt(&case.text)));
+                stats.failures.push(format!("WRONG {p} {}: {}", case.label, excerpt(&case.text)));
             }
         }
         Some(e) => {
             *stats.errors.entry(format!("{:?}", e.kind)).or_default() += 1;
             if e.kind == ErrorKind::Internal {
-                stats.failures.push(format!(
-                    "INTERNAL {:?} {}: {}",
-                    e.message,
-                    case.label,
-                    excerpt(&case.text)
-                ));
+                stats.failures.push(format!("INTERNAL {:?} {}: {}", e.message, case.label, excerpt(&case.text)));
             }
             if let Some(p) = span_problem(&case, &e) {
-                stats.failures.push(format!(
-                    "SPAN {p} ({:?}) {}: {}",
-                    e.message,
-                    case.label,
-                    excerpt(&case.text)
-                ));
+                stats.failures.push(format!("SPAN {p} ({:?}) {}: {}", e.message, case.label, excerpt(&case.text)));
             }
             if must_reduce && e.kind != ErrorKind::Limit {
-                stats.failures.push(format!(
-                    "REJECTED {:?}: {} {}: {}",
-                    e.kind,
-                    e.message,
-                    case.label,
-                    excerpt(&case.text)
-                ));
+                stats.failures.push(format!("REJECTED {:?}: {} {}: {}", e.kind, e.message, case.label, excerpt(&case.text)));
             }
         }
     }
@@ -297,24 +227,69 @@ fn run_case(stats: &mut Stats, case: Case, property: Option<Oracle>, must_reduce
 
 /// The alphabet of the soup: the language's tokens and what pasted text brings.
 const TOKENS: &[&str] = &[
-    "var", "param", "let", "unknown", "ode", "sqrt", "I", "r", "z", "x", "y", "w", "u", "M", "a",
-    "nu", "omega", "ω", "λ", "y_1", "f2", "0", "1", "2", "3", "10", "2.5", ".5", "3.", "1e-3",
-    "1E+2", "7e400", "0.000001", "+", "-", "*", "/", "^", "'", "''", "'''", "(", "(", ")", ")",
-    "=", ",", ";", "\n", "\n", "\r\n", "# c\n", " ", "\t", "−", "·", "×", "′", "’", "″", "$", "\\",
-    "²", "\u{200b}", "é", "1.2.3", "e", "**", "^-", "sqrt(", "y''", "y'", "*y", "/r",
+    "var", "param", "let", "unknown", "ode", "sqrt", "I", "r", "z", "x", "y", "w", "u", "M", "a", "nu", "omega", "ω", "λ", "y_1", "f2", "0", "1",
+    "2", "3", "10", "2.5", ".5", "3.", "1e-3", "1E+2", "7e400", "0.000001", "+", "-", "*", "/", "^", "'", "''", "'''", "(", "(", ")", ")", "=", ",",
+    ";", "\n", "\n", "\r\n", "# c\n", " ", "\t", "−", "·", "×", "′", "’", "″", "$", "\\", "²", "\u{200b}", "é", "1.2.3", "e", "**", "^-", "sqrt(",
+    "y''", "y'", "*y", "/r",
 ];
 
 /// Prefixes that get the soup past the declarations into lowering.
-const PRELUDES: &[&str] = &[
-    "",
-    "",
-    "var r\n",
-    "var r\nparam a, M\n",
-    "var z\nparam nu\nlet f = 1 - z\n",
-    "var r\nparam M\nlet f = 1 - 2*M/r\node ",
-];
+const PRELUDES: &[&str] = &["", "", "var r\n", "var r\nparam a, M\n", "var z\nparam nu\nlet f = 1 - z\n", "var r\nparam M\nlet f = 1 - 2*M/r\node "];
+
+/// A random expression that follows the grammar but not necessarily the
+/// rules of meaning: the unknown anywhere, undeclared names, symbolic and
+/// fractional powers, primes on anything, huge numbers.
+fn grammatical(rng: &mut Rng, depth: u32) -> String {
+    const ATOMS: &[&str] =
+        &["r", "r", "a", "M", "y", "y", "f", "k", "I", "1", "2", "0", "0.5", "1e-3", "7/3", "1e30", "1e-300", "(r - r)", "(2*M - r)"];
+    if depth == 0 || rng.chance(20) {
+        let atom = rng.pick(ATOMS).to_string();
+        return match rng.below(6) {
+            0 => format!("{atom}'"),
+            1 => format!("{atom}''"),
+            _ => atom,
+        };
+    }
+    let x = grammatical(rng, depth - 1);
+    match rng.below(11) {
+        0 => format!("{x} + {}", grammatical(rng, depth - 1)),
+        1 => format!("{x} - {}", grammatical(rng, depth - 1)),
+        2 | 3 => format!("{x}*{}", grammatical(rng, depth - 1)),
+        4 => format!("{x}/{}", grammatical(rng, depth - 1)),
+        5 => format!("({x})^{}", rng.pick(&["2", "-1", "(1/2)", "(-3/2)", "a", "(a + 1)", "r", "y", "0", "40", "101", "-2", "(1/0)"])),
+        6 => format!("({x})'"),
+        7 => format!("({x})''"),
+        8 => format!("sqrt({x})"),
+        9 => format!("-{x}"),
+        _ => format!("({x})"),
+    }
+}
+
+/// A program around grammatical expressions, with statements in a random order and number.
+fn grammatical_program(rng: &mut Rng) -> Case {
+    let mut lines: Vec<String> = vec!["var r".into(), "param a, M".into()];
+    if rng.chance(60) {
+        lines.push(format!("let f = {}", grammatical(rng, 3)));
+    }
+    if rng.chance(10) {
+        lines.push(rng.pick(&["unknown y", "unknown f", "var x", "param a", "let g = f", "unknown z"]).to_string());
+    }
+    let depth = rng.range(1, 5) as u32;
+    let lhs = grammatical(rng, depth);
+    let rhs = if rng.chance(70) { "0".to_string() } else { grammatical(rng, 3) };
+    lines.push(format!("ode {}y'' + {lhs} = {rhs}", rng.pick(&["", "f*", "r*", "(r - 2*M)*", "0*"])));
+    if rng.chance(20) {
+        let i = rng.below(lines.len());
+        let j = rng.below(lines.len());
+        lines.swap(i, j);
+    }
+    Case::program("grammatical".into(), lines.join(if rng.chance(10) { ";" } else { "\n" }))
+}
 
 fn soup(rng: &mut Rng) -> Case {
+    if rng.chance(40) {
+        return grammatical_program(rng);
+    }
     let mut s = rng.pick(PRELUDES).to_string();
     let shape = rng.below(3);
     let n = rng.range(1, 40) as usize;
@@ -330,11 +305,7 @@ fn soup(rng: &mut Rng) -> Case {
         0 => s.push_str(&body),
         // An ode statement around the soup.
         1 => {
-            let cut = body
-                .char_indices()
-                .map(|(i, _)| i)
-                .nth(rng.below(body.chars().count().max(1)))
-                .unwrap_or(0);
+            let cut = body.char_indices().map(|(i, _)| i).nth(rng.below(body.chars().count().max(1))).unwrap_or(0);
             s.push_str(&format!("ode {} = {}\n", &body[..cut], &body[cut..]));
         }
         // A let of soup, then a plausible ode using it.
@@ -342,12 +313,7 @@ fn soup(rng: &mut Rng) -> Case {
     }
     if rng.chance(15) {
         // The same soup as an inline equation.
-        return Case {
-            label: "soup/inline".into(),
-            text: body,
-            inline_var: Some("r".into()),
-            at_infinity: false,
-        };
+        return Case { label: "soup/inline".into(), text: body, inline_var: Some("r".into()), at_infinity: false };
     }
     Case::program("soup".into(), s)
 }
@@ -363,9 +329,7 @@ fn tokenize(text: &str) -> Vec<String> {
         let c = chars[i];
         let mut j = i + 1;
         if c.is_alphanumeric() || c == '_' || c == '.' {
-            while j < chars.len()
-                && (chars[j].is_alphanumeric() || chars[j] == '_' || chars[j] == '.')
-            {
+            while j < chars.len() && (chars[j].is_alphanumeric() || chars[j] == '_' || chars[j] == '.') {
                 j += 1;
             }
         } else if c == '\'' {
@@ -384,10 +348,7 @@ fn huge_number(rng: &mut Rng) -> String {
     match rng.below(8) {
         0 => "9".repeat(rng.range(20, 1999) as usize),
         1 => "1".repeat(2001),
-        2 => format!(
-            "1e{}",
-            rng.pick(&[999, 6000, 7000, 99_999, 100_001, 999_999_999])
-        ),
+        2 => format!("1e{}", rng.pick(&[999, 6000, 7000, 99_999, 100_001, 999_999_999])),
         3 => format!("1e-{}", rng.pick(&[999, 7000, 99_999, 100_001])),
         4 => format!("(10^100)^{}", rng.pick(&[10, 60, 70, 1000])),
         5 => format!("0.{}1", "0".repeat(rng.range(10, 1990) as usize)),
@@ -425,14 +386,8 @@ fn mutate(rng: &mut Rng, tokens: &mut Vec<String>) -> &'static str {
             "swap"
         }
         4 => {
-            let numbers: Vec<usize> = (0..tokens.len())
-                .filter(|&k| tokens[k].starts_with(|c: char| c.is_ascii_digit()))
-                .collect();
-            let k = if numbers.is_empty() {
-                i
-            } else {
-                *rng.pick(&numbers)
-            };
+            let numbers: Vec<usize> = (0..tokens.len()).filter(|&k| tokens[k].starts_with(|c: char| c.is_ascii_digit())).collect();
+            let k = if numbers.is_empty() { i } else { *rng.pick(&numbers) };
             tokens[k] = huge_number(rng);
             "huge number"
         }
@@ -450,25 +405,14 @@ fn mutate(rng: &mut Rng, tokens: &mut Vec<String>) -> &'static str {
         }
         7 => {
             // Another name of the file in place of this token.
-            let names: Vec<String> = tokens
-                .iter()
-                .filter(|t| t.starts_with(char::is_alphabetic))
-                .cloned()
-                .collect();
+            let names: Vec<String> = tokens.iter().filter(|t| t.starts_with(char::is_alphabetic)).cloned().collect();
             if let Some(n) = names.get(rng.below(names.len().max(1))) {
                 tokens[i] = n.clone();
             }
             "rename"
         }
         8 => {
-            tokens.insert(
-                i,
-                rng.pick(&[
-                    "^(1/2)", "^s", "^-3", "^40", "^(l+1)", "'", "''", "*y", "/(r-r)", "^0.5",
-                    "^1e2",
-                ])
-                .to_string(),
-            );
+            tokens.insert(i, rng.pick(&["^(1/2)", "^s", "^-3", "^40", "^(l+1)", "'", "''", "*y", "/(r-r)", "^0.5", "^1e2"]).to_string());
             "operator"
         }
         9 => {
@@ -485,12 +429,7 @@ fn mutate(rng: &mut Rng, tokens: &mut Vec<String>) -> &'static str {
             // A single character dropped inside a token.
             let t: Vec<char> = tokens[i].chars().collect();
             let k = rng.below(t.len());
-            tokens[i] = t
-                .iter()
-                .enumerate()
-                .filter(|(j, _)| *j != k)
-                .map(|(_, c)| *c)
-                .collect();
+            tokens[i] = t.iter().enumerate().filter(|(j, _)| *j != k).map(|(_, c)| *c).collect();
             "drop char"
         }
     }
@@ -502,15 +441,7 @@ fn samples() -> Vec<(String, String)> {
         .expect("the samples directory")
         .filter_map(|e| e.ok().map(|e| e.path()))
         .filter(|p| p.extension().is_some_and(|x| x == "ode"))
-        .map(|p| {
-            (
-                p.file_name()
-                    .unwrap_or_default()
-                    .to_string_lossy()
-                    .into_owned(),
-                std::fs::read_to_string(&p).expect("a sample"),
-            )
-        })
+        .map(|p| (p.file_name().unwrap_or_default().to_string_lossy().into_owned(), std::fs::read_to_string(&p).expect("a sample")))
         .collect();
     out.sort();
     assert!(out.len() >= 10, "the samples directory has too few files");
@@ -575,13 +506,7 @@ impl E {
             E::Div(a, b) => format!("{}/({})", a.text(names, rng), b.text(names, rng)),
             E::Pow(a, k) => {
                 let base = a.text(names, rng);
-                let base = if base.starts_with('(') && base.ends_with(')')
-                    || base.chars().all(char::is_alphanumeric)
-                {
-                    base
-                } else {
-                    format!("({base})")
-                };
+                let base = if base.chars().all(|c| c.is_alphanumeric() || c == '_') { base } else { format!("({base})") };
                 format!("{base}^{k}")
             }
         }
@@ -697,37 +622,16 @@ impl Oracle {
     fn check(&self, red: &canonode::ode::Reduction) -> (Option<String>, bool) {
         use canonode::algebra::{GRat, Int, Rat};
         if red.field.names() != self.names.as_slice() {
-            return (
-                Some(format!(
-                    "field names {:?}, expected {:?}",
-                    red.field.names(),
-                    self.names
-                )),
-                false,
-            );
+            return (Some(format!("field names {:?}, expected {:?}", red.field.names(), self.names)), false);
         }
-        let point: Vec<GRat> = self
-            .point
-            .iter()
-            .map(|&(n, d)| GRat::real(Rat::new(Int::from(n), Int::from(d)).expect("nonzero")))
-            .collect();
-        let (Some(p), Some(q), Some(bq)) = (
-            red.p.eval(&point),
-            red.q.eval(&point),
-            red.normal.q.eval(&point),
-        ) else {
+        let point: Vec<GRat> = self.point.iter().map(|&(n, d)| GRat::real(Rat::new(Int::from(n), Int::from(d)).expect("nonzero"))).collect();
+        let (Some(p), Some(q), Some(bq)) = (red.p.eval(&point), red.q.eval(&point), red.normal.q.eval(&point)) else {
             return (None, false);
         };
         for (what, got, want) in [("p", p, self.p), ("q", q, self.q), ("Q", bq, self.big_q)] {
             let (re, im) = got.to_f64();
             if im != 0.0 || (re - want).abs() > 1e-7 * (self.scale + want.abs() + 1.0) {
-                return (
-                    Some(format!(
-                        "{what} = {re}{im:+}i at {:?}, expected {want}",
-                        self.point
-                    )),
-                    true,
-                );
+                return (Some(format!("{what} = {re}{im:+}i at {:?}, expected {want}", self.point)), true);
             }
         }
         (None, true)
@@ -769,19 +673,11 @@ fn wellformed(rng: &mut Rng) -> (Case, Option<Oracle>) {
     src.push_str(&ode);
     src.push('\n');
     // A point with small rational coordinates, away from the obvious zeros.
-    let point: Vec<(i64, i64)> = (0..nsyms)
-        .map(|_| (rng.range(-40, 40) * 2 + 1, *rng.pick(&[3, 7, 11, 13])))
-        .collect();
+    let point: Vec<(i64, i64)> = (0..nsyms).map(|_| (rng.range(-40, 40) * 2 + 1, *rng.pick(&[3, 7, 11, 13]))).collect();
     let at: Vec<f64> = point.iter().map(|&(n, d)| n as f64 / d as f64).collect();
     let (d2, d1, d0) = (a2.eval(&at), a1.eval(&at), a0.eval(&at));
-    let case = Case::program(format!("well-formed ({} params)", nparams), src);
-    if !(d2.0.abs() > 1e-6
-        && d2.0.is_finite()
-        && d1.0.is_finite()
-        && d0.0.is_finite()
-        && d1.1.is_finite()
-        && d2.1.is_finite())
-    {
+    let case = Case::program(format!("well-formed ({nparams} params)"), src);
+    if !(d2.0.abs() > 1e-6 && d2.0.is_finite() && d1.0.is_finite() && d0.0.is_finite() && d1.1.is_finite() && d2.1.is_finite()) {
         return (case, None);
     }
     let p = d1.0 / d2.0;
@@ -792,17 +688,7 @@ fn wellformed(rng: &mut Rng) -> (Case, Option<Oracle>) {
     if !big_q.is_finite() || scale > 1e12 {
         return (case, None);
     }
-    (
-        case,
-        Some(Oracle {
-            names,
-            point,
-            p,
-            q,
-            big_q,
-            scale,
-        }),
-    )
+    (case, Some(Oracle { names, point, p, q, big_q, scale }))
 }
 
 // ---------------------------------------------------------------- the runs
@@ -834,11 +720,7 @@ fn run_all(seed: u64, soup_cases: usize, mutations_per_sample: usize, wellformed
         run_case(&mut stats, case, oracle, true);
     }
     stats.finish("well-formed equations");
-    assert!(
-        stats.checked * 2 >= wellformed_cases,
-        "too few well-formed cases were checked against the oracle: {}",
-        stats.checked
-    );
+    assert!(stats.checked * 2 >= wellformed_cases, "too few well-formed cases were checked against the oracle: {}", stats.checked);
     eprintln!("fuzz total: {:.1} s", started.elapsed().as_secs_f64());
 }
 
@@ -851,22 +733,14 @@ fn fuzz() {
 #[ignore = "a long soak; run with cargo test --release --test fuzz -- --ignored"]
 fn soak() {
     for seed in 1..=4u64 {
-        run_all(
-            seed.wrapping_mul(0xD1B5_4A32_D192_ED03),
-            30_000,
-            1_000,
-            3_000,
-        );
+        run_all(seed.wrapping_mul(0xD1B5_4A32_D192_ED03), 30_000, 1_000, 3_000);
     }
 }
 
 /// The generator itself: tokens round-trip and the oracle agrees with a hand-made case.
 #[test]
 fn generator_sanity() {
-    assert_eq!(
-        tokenize("let f = 1 - 2*M/r\node f*y'' = 0").concat(),
-        "let f = 1 - 2*M/r\node f*y'' = 0"
-    );
+    assert_eq!(tokenize("let f = 1 - 2*M/r\node f*y'' = 0").concat(), "let f = 1 - 2*M/r\node f*y'' = 0");
     assert_eq!(tokenize("y'' + 2.5*ω")[..3], ["y", "''", " "]);
     // Bessel, DLMF 10.2.1: z^2 w'' + z w' + (z^2 - nu^2) w = 0 has Q = 1 + (1/4 - nu^2)/z^2.
     let z2 = E::Pow(b(E::Sym(0)), 2);
@@ -878,4 +752,20 @@ fn generator_sanity() {
     let dp = (d1.1 * d2.0 - d1.0 * d2.1) / (d2.0 * d2.0);
     let big_q = d0.0 / d2.0 - dp / 2.0 - p * p / 4.0;
     assert!((big_q - (1.0 + (0.25 - 9.0) / 4.0)).abs() < 1e-12);
+}
+
+/// Regression: denominators were not bounded by the coefficient limit, and
+/// the gcd of a huge and a small integer was quadratic, so that a product of
+/// many tiny literals such as 1e-5000 ran for minutes. It must now stop on
+/// the limit, well within the hang bound.
+#[test]
+fn regression_tiny_literals_hit_the_coefficient_limit() {
+    let product = vec!["1e-5000"; 300].join("*");
+    let sum = vec!["1e-99999*r"; 40].join(" + ");
+    for text in [format!("var r\nlet f = {product}\node y'' + f*r*y = 0\n"), format!("var r\node y'' + ({sum})*y = 0\n")] {
+        let mut stats = Stats::default();
+        run_case(&mut stats, Case::program("tiny literals".into(), text.clone()), None, false);
+        stats.finish("tiny literals");
+        assert_eq!(stats.errors.get("Limit"), Some(&1), "{text:.80}: expected a limit error");
+    }
 }

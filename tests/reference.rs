@@ -36,11 +36,8 @@ fn read_back(var: &str, params: &[String], text: &str) -> RatFunc {
     }
     prog.push_str(&format!("let {NUM_NAME} = {text}\n"));
     prog.push_str(&format!("unknown {UNKNOWN_NAME}\n"));
-    prog.push_str(&format!(
-        "ode {UNKNOWN_NAME}'' + ({NUM_NAME})*{UNKNOWN_NAME} = 0\n"
-    ));
-    let red = reduce(&Input::Program(&prog), &ReduceOptions::default())
-        .unwrap_or_else(|e| panic!("golden text does not read back: {text:?}: {e:?}"));
+    prog.push_str(&format!("ode {UNKNOWN_NAME}'' + ({NUM_NAME})*{UNKNOWN_NAME} = 0\n"));
+    let red = reduce(&Input::Program(&prog), &ReduceOptions::default()).unwrap_or_else(|e| panic!("golden text does not read back: {text:?}: {e:?}"));
     assert!(red.p.is_zero(), "the read-back program has p = 0");
     red.normal.q
 }
@@ -55,11 +52,8 @@ fn read_back_quotient(var: &str, params: &[String], num: &str, den: &str) -> Rat
     prog.push_str(&format!("let {DEN_NAME} = {den}\n"));
     prog.push_str(&format!("let {NUM_NAME} = {text}\n"));
     prog.push_str(&format!("unknown {UNKNOWN_NAME}\n"));
-    prog.push_str(&format!(
-        "ode {UNKNOWN_NAME}'' + ({NUM_NAME})*{UNKNOWN_NAME} = 0\n"
-    ));
-    let red = reduce(&Input::Program(&prog), &ReduceOptions::default())
-        .unwrap_or_else(|e| panic!("golden N/D does not read back: {e:?}"));
+    prog.push_str(&format!("ode {UNKNOWN_NAME}'' + ({NUM_NAME})*{UNKNOWN_NAME} = 0\n"));
+    let red = reduce(&Input::Program(&prog), &ReduceOptions::default()).unwrap_or_else(|e| panic!("golden N/D does not read back: {e:?}"));
     assert!(red.p.is_zero(), "the read-back program has p = 0");
     red.normal.q
 }
@@ -68,10 +62,7 @@ fn read_back_quotient(var: &str, params: &[String], num: &str, den: &str) -> Rat
 /// integer coefficients (the golden's D and its factors are).
 fn read_back_poly(var: &str, params: &[String], text: &str) -> Poly {
     let r = read_back(var, params, text);
-    assert!(
-        r.den_factors().is_empty() && r.scale().is_one(),
-        "golden polynomial {text:?} read back with a denominator"
-    );
+    assert!(r.den_factors().is_empty() && r.scale().is_one(), "golden polynomial {text:?} read back with a denominator");
     r.num().clone()
 }
 
@@ -102,32 +93,17 @@ fn coordinate(text: &str) -> GRat {
         .map(|(i, _)| i)
         .last()
         .unwrap_or_else(|| panic!("no real part in {text:?}"));
-    GRat {
-        re: signed_decimal(&body[..cut]),
-        im: signed_decimal(&body[cut..]),
-    }
+    GRat { re: signed_decimal(&body[..cut]), im: signed_decimal(&body[cut..]) }
 }
 
 fn strings(v: &Value) -> Vec<String> {
-    v.as_array()
-        .expect("a JSON array")
-        .iter()
-        .map(|s| s.as_str().expect("a JSON string").to_string())
-        .collect()
+    v.as_array().expect("a JSON array").iter().map(|s| s.as_str().expect("a JSON string").to_string()).collect()
 }
 
 /// The multiset of denominator factors as sorted (text, multiplicity) pairs.
 fn canonode_factor_texts(q: &RatFunc, names: &[String]) -> Vec<(String, u64)> {
-    let mut v: Vec<(String, u64)> = q
-        .den_factors()
-        .iter()
-        .map(|(f, e)| {
-            (
-                poly_text(f.poly(), &Int::ONE, names, Style::Text),
-                u64::from(*e),
-            )
-        })
-        .collect();
+    let mut v: Vec<(String, u64)> =
+        q.den_factors().iter().map(|(f, e)| (poly_text(f.poly(), &Int::ONE, names, Style::Text), u64::from(*e))).collect();
     v.sort();
     v
 }
@@ -162,29 +138,21 @@ fn monomials_in_gens_order(text: &str, gens: &[String]) -> String {
 
 fn check_golden(root: &Path, golden_path: &PathBuf) -> Vec<String> {
     let stem = golden_path.file_stem().unwrap().to_str().unwrap();
-    let golden: Value =
-        serde_json::from_str(&std::fs::read_to_string(golden_path).expect("readable golden"))
-            .expect("golden is JSON");
+    let golden: Value = serde_json::from_str(&std::fs::read_to_string(golden_path).expect("readable golden")).expect("golden is JSON");
     let mut problems = Vec::new();
 
     // Reference: sympy + python-flint (scripts/reference/ode_reference.py).
-    let sample = root
-        .join("samples")
-        .join(golden["sample"].as_str().unwrap());
+    let sample = root.join("samples").join(golden["sample"].as_str().unwrap());
     let text = std::fs::read_to_string(&sample).expect("the golden's sample exists");
-    let red: Reduction = reduce(&Input::Program(&text), &ReduceOptions::default())
-        .unwrap_or_else(|e| panic!("{stem}: canonode fails on the sample: {e:?}"));
+    let red: Reduction =
+        reduce(&Input::Program(&text), &ReduceOptions::default()).unwrap_or_else(|e| panic!("{stem}: canonode fails on the sample: {e:?}"));
     let var = golden["var"].as_str().unwrap();
     let params = strings(&golden["params"]);
     let gens = strings(&golden["gens"]);
     let names: Vec<String> = red.field.names().to_vec();
     assert_eq!(names, gens, "{stem}: variable order (golden 'gens')");
     assert_eq!(red.var, var, "{stem}: variable");
-    assert_eq!(
-        red.ode.unknown,
-        golden["unknown"].as_str().unwrap(),
-        "{stem}: unknown"
-    );
+    assert_eq!(red.ode.unknown, golden["unknown"].as_str().unwrap(), "{stem}: unknown");
     let q = &red.normal.q;
 
     // Q = N/D exactly (sympy + python-flint reference).
@@ -208,9 +176,7 @@ fn check_golden(root: &Path, golden_path: &PathBuf) -> Vec<String> {
     }
     let content = golden["den_content"].as_str().unwrap();
     if content != "1" {
-        problems.push(format!(
-            "{stem}: den_content {content}: a primitive D has content 1"
-        ));
+        problems.push(format!("{stem}: den_content {content}: a primitive D has content 1"));
     }
 
     // Denominator factors as a multiset: polynomials, then printed text
@@ -225,17 +191,11 @@ fn check_golden(root: &Path, golden_path: &PathBuf) -> Vec<String> {
     }
     ref_polys.sort();
     ref_texts.sort();
-    let mut ours: Vec<(Poly, u64)> = q
-        .den_factors()
-        .iter()
-        .map(|(f, e)| (f.poly().clone(), u64::from(*e)))
-        .collect();
+    let mut ours: Vec<(Poly, u64)> = q.den_factors().iter().map(|(f, e)| (f.poly().clone(), u64::from(*e))).collect();
     ours.sort();
     let our_texts = canonode_factor_texts(q, &names);
     if ours != ref_polys {
-        problems.push(format!(
-            "{stem}: denominator factors (as polynomials)\n  canonode:  {our_texts:?}\n  reference: {ref_texts:?}"
-        ));
+        problems.push(format!("{stem}: denominator factors (as polynomials)\n  canonode:  {our_texts:?}\n  reference: {ref_texts:?}"));
     } else {
         // Inside a monomial canonode prints the parameters first and the
         // variable last (`2*M*r`, src/algebra/print.rs), the reference in
@@ -243,17 +203,12 @@ fn check_golden(root: &Path, golden_path: &PathBuf) -> Vec<String> {
         // factors of each monomial put in generator order, everything else
         // (terms, their order, signs, coefficients) as printed.
         let norm = |v: &[(String, u64)]| -> Vec<(String, u64)> {
-            let mut w: Vec<(String, u64)> = v
-                .iter()
-                .map(|(t, m)| (monomials_in_gens_order(t, &names), *m))
-                .collect();
+            let mut w: Vec<(String, u64)> = v.iter().map(|(t, m)| (monomials_in_gens_order(t, &names), *m)).collect();
             w.sort();
             w
         };
         if norm(&our_texts) != norm(&ref_texts) {
-            problems.push(format!(
-                "{stem}: denominator factors print differently\n  canonode:  {our_texts:?}\n  reference: {ref_texts:?}"
-            ));
+            problems.push(format!("{stem}: denominator factors print differently\n  canonode:  {our_texts:?}\n  reference: {ref_texts:?}"));
         }
     }
 
@@ -261,14 +216,8 @@ fn check_golden(root: &Path, golden_path: &PathBuf) -> Vec<String> {
     // against the reference's exact value rounded once; relative 1e-14.
     for (k, pt) in golden["points"].as_array().unwrap().iter().enumerate() {
         let at = pt["at"].as_object().unwrap();
-        let point: Vec<GRat> = names
-            .iter()
-            .map(|n| coordinate(at[n].as_str().expect("coordinate text")))
-            .collect();
-        let want = (
-            pt["Q"][0].as_f64().expect("real part"),
-            pt["Q"][1].as_f64().expect("imaginary part"),
-        );
+        let point: Vec<GRat> = names.iter().map(|n| coordinate(at[n].as_str().expect("coordinate text"))).collect();
+        let want = (pt["Q"][0].as_f64().expect("real part"), pt["Q"][1].as_f64().expect("imaginary part"));
         let Some(got) = q.eval(&point) else {
             problems.push(format!("{stem}: point {k}: canonode's Q has a pole there"));
             continue;
@@ -277,9 +226,7 @@ fn check_golden(root: &Path, golden_path: &PathBuf) -> Vec<String> {
         let err = (got.0 - want.0).hypot(got.1 - want.1);
         let size = want.0.hypot(want.1);
         if err > 1e-14 * size {
-            problems.push(format!(
-                "{stem}: point {k} {at:?}: Q = {got:?}, reference {want:?} (|Δ| = {err:e})"
-            ));
+            problems.push(format!("{stem}: point {k} {at:?}: Q = {got:?}, reference {want:?} (|Δ| = {err:e})"));
         }
     }
     problems
@@ -294,37 +241,19 @@ fn normal_forms_match_the_reference_goldens() {
         .filter(|p| p.extension().is_some_and(|e| e == "json"))
         .collect();
     goldens.sort();
-    assert!(
-        goldens.len() >= 10,
-        "expected the reference goldens, found {}",
-        goldens.len()
-    );
+    assert!(goldens.len() >= 10, "expected the reference goldens, found {}", goldens.len());
     let problems: Vec<String> = goldens.iter().flat_map(|g| check_golden(root, g)).collect();
-    assert!(
-        problems.is_empty(),
-        "{} mismatches against the sympy/python-flint reference:\n{}",
-        problems.len(),
-        problems.join("\n")
-    );
+    assert!(problems.is_empty(), "{} mismatches against the sympy/python-flint reference:\n{}", problems.len(), problems.join("\n"));
 }
 
 #[test]
 fn monomial_order_normalisation_only_reorders_within_a_monomial() {
     let gens: Vec<String> = ["r", "M", "a"].iter().map(|s| s.to_string()).collect();
-    assert_eq!(
-        monomials_in_gens_order("r^2 - 2*M*r + a^2", &gens),
-        "r^2 - 2*r*M + a^2"
-    );
+    assert_eq!(monomials_in_gens_order("r^2 - 2*M*r + a^2", &gens), "r^2 - 2*r*M + a^2");
     assert_eq!(monomials_in_gens_order("-M^3*a*r", &gens), "-r*M^3*a");
     // Term order and signs are not touched.
-    assert_ne!(
-        monomials_in_gens_order("a^2 - 2*M*r + r^2", &gens),
-        "r^2 - 2*r*M + a^2"
-    );
-    assert_ne!(
-        monomials_in_gens_order("r^2 + 2*M*r + a^2", &gens),
-        "r^2 - 2*r*M + a^2"
-    );
+    assert_ne!(monomials_in_gens_order("a^2 - 2*M*r + r^2", &gens), "r^2 - 2*r*M + a^2");
+    assert_ne!(monomials_in_gens_order("r^2 + 2*M*r + a^2", &gens), "r^2 - 2*r*M + a^2");
 }
 
 #[test]

@@ -35,23 +35,11 @@ impl Run {
 /// Runs `canonode ARGS` in the crate's root, feeding `stdin` when given.
 fn run(args: &[&str], stdin: Option<&str>) -> Run {
     let mut cmd = Command::new(env!("CARGO_BIN_EXE_canonode"));
-    cmd.current_dir(env!("CARGO_MANIFEST_DIR"))
-        .args(args)
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped());
-    cmd.stdin(if stdin.is_some() {
-        Stdio::piped()
-    } else {
-        Stdio::null()
-    });
+    cmd.current_dir(env!("CARGO_MANIFEST_DIR")).args(args).stdout(Stdio::piped()).stderr(Stdio::piped());
+    cmd.stdin(if stdin.is_some() { Stdio::piped() } else { Stdio::null() });
     let mut child = cmd.spawn().expect("the binary starts");
     if let Some(text) = stdin {
-        child
-            .stdin
-            .take()
-            .expect("a stdin pipe")
-            .write_all(text.as_bytes())
-            .expect("stdin written");
+        child.stdin.take().expect("a stdin pipe").write_all(text.as_bytes()).expect("stdin written");
     }
     let out = child.wait_with_output().expect("the binary finishes");
     Run {
@@ -81,35 +69,22 @@ fn eval_q(args: &[&str]) -> Complex64 {
 
 fn assert_close(got: Complex64, want: Complex64, what: &str) {
     let err = (got - want).norm() / want.norm().max(1.0);
-    assert!(
-        err < 1e-12,
-        "{what}: got {got}, expected {want} (relative error {err:e})"
-    );
+    assert!(err < 1e-12, "{what}: got {got}, expected {want} (relative error {err:e})");
 }
 
 #[test]
 fn samples_all_formats() {
     insta::glob!("../samples", "*.ode", |path| {
-        let name = path
-            .file_name()
-            .and_then(|n| n.to_str())
-            .expect("a UTF-8 file name");
+        let name = path.file_name().and_then(|n| n.to_str()).expect("a UTF-8 file name");
         let rel = format!("samples/{name}");
         let text = run_ok(&["reduce", &rel], None);
-        assert!(
-            text.stdout.starts_with(&format!("equation      {rel}\n")),
-            "{name}: the report does not name its input"
-        );
+        assert!(text.stdout.starts_with(&format!("equation      {rel}\n")), "{name}: the report does not name its input");
         insta::assert_snapshot!("text", text.snapshot());
         let latex = run_ok(&["reduce", &rel, "--format", "latex"], None);
         insta::assert_snapshot!("latex", latex.snapshot());
         let json = run_ok(&["reduce", &rel, "--format", "json"], None);
-        let v: serde_json::Value = serde_json::from_str(&json.stdout)
-            .unwrap_or_else(|e| panic!("{name}: invalid JSON: {e}"));
-        assert!(
-            v["normal_form"]["Q"].is_string(),
-            "{name}: no normal_form.Q in the JSON"
-        );
+        let v: serde_json::Value = serde_json::from_str(&json.stdout).unwrap_or_else(|e| panic!("{name}: invalid JSON: {e}"));
+        assert!(v["normal_form"]["Q"].is_string(), "{name}: no normal_form.Q in the JSON");
         insta::assert_snapshot!("json", json.snapshot());
     });
 }
@@ -122,12 +97,7 @@ fn bessel_at_infinity() {
     // (a Möbius map, Schwarzian 0) Q_t = Q(1/t)/t^4 = (1 + (1/4 - nu^2) t^2)/t^4.
     let (t, nu) = (0.3f64, 0.7f64);
     let want = (1.0 + (0.25 - nu * nu) * t * t) / t.powi(4);
-    let got = eval_q(&[
-        "samples/bessel.ode",
-        "--at-infinity",
-        "--at",
-        "t=0.3,nu=0.7",
-    ]);
+    let got = eval_q(&["samples/bessel.ode", "--at-infinity", "--at", "t=0.3,nu=0.7"]);
     assert_close(got, Complex64::new(want, 0.0), "Bessel at infinity");
 }
 
@@ -137,20 +107,13 @@ fn airy_at_infinity() {
     insta::assert_snapshot!(r.snapshot());
     // DLMF 9.2.1: w'' = z w, so Q(z) = -z; with z = 1/t, Q_t = -(1/t)/t^4 = -1/t^5.
     let got = eval_q(&["samples/airy.ode", "--at-infinity", "--at", "t=1.5"]);
-    assert_close(
-        got,
-        Complex64::new(-1.0 / 1.5f64.powi(5), 0.0),
-        "Airy at infinity",
-    );
+    assert_close(got, Complex64::new(-1.0 / 1.5f64.powi(5), 0.0), "Airy at infinity");
 }
 
 #[test]
 fn legendre_moebius_substitution() {
     // x = (1+u)/(1-u) sends x = 1, -1, infinity to u = 0, infinity, 1.
-    let r = run_ok(
-        &["reduce", "samples/legendre.ode", "--subst", "x=(1+u)/(1-u)"],
-        None,
-    );
+    let r = run_ok(&["reduce", "samples/legendre.ode", "--subst", "x=(1+u)/(1-u)"], None);
     insta::assert_snapshot!(r.snapshot());
     // From DLMF 14.2.1 the normal form is Q(x) = ((1 - x^2) nu (nu+1) + 1 - mu^2)/(1 - x^2)^2;
     // a Möbius map has Schwarzian 0, so Q_u = Q(g(u)) g'(u)^2 with g' = 2/(1-u)^2.
@@ -158,45 +121,24 @@ fn legendre_moebius_substitution() {
     let x = (1.0 + u) / (1.0 - u);
     let qx = ((1.0 - x * x) * nu * (nu + 1.0) + 1.0 - mu * mu) / (1.0 - x * x).powi(2);
     let g1 = 2.0 / (1.0 - u).powi(2);
-    let got = eval_q(&[
-        "samples/legendre.ode",
-        "--subst",
-        "x=(1+u)/(1-u)",
-        "--at",
-        "u=0.25,nu=1.5,mu=0.5",
-    ]);
-    assert_close(
-        got,
-        Complex64::new(qx * g1 * g1, 0.0),
-        "Legendre after x = (1+u)/(1-u)",
-    );
+    let got = eval_q(&["samples/legendre.ode", "--subst", "x=(1+u)/(1-u)", "--at", "u=0.25,nu=1.5,mu=0.5"]);
+    assert_close(got, Complex64::new(qx * g1 * g1, 0.0), "Legendre after x = (1+u)/(1-u)");
 }
 
 #[test]
 fn regge_wheeler_tortoise() {
-    let r = run_ok(
-        &["reduce", "samples/regge_wheeler.ode", "--dxdz", "1/f"],
-        None,
-    );
+    let r = run_ok(&["reduce", "samples/regge_wheeler.ode", "--dxdz", "1/f"], None);
     insta::assert_snapshot!(r.snapshot());
     // Regge & Wheeler (1957), general spin: with dx/dr = 1/f the equation is
     // phi_xx + (omega^2 - V) phi = 0 with V = f (l(l+1)/r^2 + (1 - s^2) 2M/r^3).
-    let text = std::fs::read_to_string(
-        Path::new(env!("CARGO_MANIFEST_DIR")).join("samples/regge_wheeler.ode"),
-    )
-    .expect("the sample");
-    let opts = ReduceOptions {
-        dxdz: Some("1/f".into()),
-        ..ReduceOptions::default()
-    };
+    let text = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("samples/regge_wheeler.ode")).expect("the sample");
+    let opts = ReduceOptions { dxdz: Some("1/f".into()), ..ReduceOptions::default() };
     let red = reduce(&Input::Program(&text), &opts).expect("the sample reduces");
     let sch = red.schrodinger.expect("a Schrödinger form");
     assert_eq!(sch.frequency.as_deref(), Some("omega"));
     assert!(!sch.v_depends_on_frequency);
     // r = 31/10, M = 1, omega = 37/100, l = 2, s = 3.
-    let rat = |n: i64, d: i64| {
-        GRat::real(Rat::new(Int::from(n), Int::from(d)).expect("nonzero denominator"))
-    };
+    let rat = |n: i64, d: i64| GRat::real(Rat::new(Int::from(n), Int::from(d)).expect("nonzero denominator"));
     let names = red.field.names().to_vec();
     let value = |n: &str| match n {
         "r" => rat(31, 10),
@@ -210,16 +152,8 @@ fn regge_wheeler_tortoise() {
     let (r, m, l, s) = (3.1f64, 1.0f64, 2.0f64, 3.0f64);
     let f = 1.0 - 2.0 * m / r;
     let want = f * (l * (l + 1.0) / (r * r) + (1.0 - s * s) * 2.0 * m / r.powi(3));
-    let (re, im) = sch
-        .v
-        .eval(&point)
-        .expect("V is finite at the point")
-        .to_f64();
-    assert_close(
-        Complex64::new(re, im),
-        Complex64::new(want, 0.0),
-        "Regge–Wheeler potential",
-    );
+    let (re, im) = sch.v.eval(&point).expect("V is finite at the point").to_f64();
+    assert_close(Complex64::new(re, im), Complex64::new(want, 0.0), "Regge–Wheeler potential");
 }
 
 #[test]
@@ -227,17 +161,7 @@ fn regge_wheeler_eval() {
     let at = "r=3.1,M=1,omega=0.37-0.089i,l=2,s=2";
     let text = run_ok(&["eval", "samples/regge_wheeler.ode", "--at", at], None);
     insta::assert_snapshot!("text", text.snapshot());
-    let json = run_ok(
-        &[
-            "eval",
-            "samples/regge_wheeler.ode",
-            "--at",
-            at,
-            "--format",
-            "json",
-        ],
-        None,
-    );
+    let json = run_ok(&["eval", "samples/regge_wheeler.ode", "--at", at, "--format", "json"], None);
     insta::assert_snapshot!("json", json.snapshot());
     // With f = 1 - 2M/r the equation f (f y')' + (omega^2 - V) y = 0 has
     // p = f'/f, q = (omega^2 - V)/f^2, hence Q = q - p'/2 - p^2/4
@@ -249,42 +173,25 @@ fn regge_wheeler_eval() {
     let f2 = -4.0 * m / r.powi(3);
     let v = f * (l * (l + 1.0) / (r * r) + (1.0 - s * s) * 2.0 * m / r.powi(3));
     let want = (w * w - v) / (f * f) - f2 / (2.0 * f) + f1 * f1 / (4.0 * f * f);
-    assert_close(
-        eval_q(&["samples/regge_wheeler.ode", "--at", at]),
-        want,
-        "Regge–Wheeler Q",
-    );
+    assert_close(eval_q(&["samples/regge_wheeler.ode", "--at", at]), want, "Regge–Wheeler Q");
 }
 
 #[test]
 fn inline_bessel_infers_its_parameter() {
     let eq = "z^2*w'' + z*w' + (z^2 - nu^2)*w = 0";
     let r = run_ok(&["reduce", "-e", eq, "--var", "z"], None);
-    assert!(
-        r.stdout.contains("inferred      nu"),
-        "the inferred parameter is not shown:\n{}",
-        r.stdout
-    );
+    assert!(r.stdout.contains("inferred      nu"), "the inferred parameter is not shown:\n{}", r.stdout);
     insta::assert_snapshot!(r.snapshot());
-    let json = run_ok(
-        &["reduce", "-e", eq, "--var", "z", "--format", "json"],
-        None,
-    );
+    let json = run_ok(&["reduce", "-e", eq, "--var", "z", "--format", "json"], None);
     assert_eq!(json.stderr, "note: inferred parameters: nu\n");
     // DLMF 10.2.1: Q = 1 + (1/4 - nu^2)/z^2.
     let got = eval_q(&["-e", eq, "--var", "z", "--at", "z=2,nu=3"]);
-    assert_close(
-        got,
-        Complex64::new(1.0 + (0.25 - 9.0) / 4.0, 0.0),
-        "inline Bessel",
-    );
+    assert_close(got, Complex64::new(1.0 + (0.25 - 9.0) / 4.0, 0.0), "inline Bessel");
 }
 
 #[test]
 fn standard_input() {
-    let text =
-        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("samples/airy.ode"))
-            .expect("the sample");
+    let text = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("samples/airy.ode")).expect("the sample");
     let r = run_ok(&["reduce", "-"], Some(&text));
     assert!(r.stdout.starts_with("equation      <stdin>\n"));
     insta::assert_snapshot!(r.snapshot());

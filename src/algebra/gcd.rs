@@ -82,11 +82,7 @@ pub fn content_in(p: &Poly, v: usize) -> Option<Poly> {
     let mut order: Vec<&Poly> = coeffs.iter().filter(|c| !c.is_zero()).collect();
     order.sort_by_key(|c| c.len());
     for c in order {
-        g = if g.is_zero() {
-            primitive(c)
-        } else {
-            gcd_rec(&g, c)?
-        };
+        g = if g.is_zero() { primitive(c) } else { gcd_rec(&g, c)? };
         if g.as_constant().is_some() {
             return Some(Poly::int(1));
         }
@@ -314,10 +310,7 @@ fn split_rational_roots(p: &Poly) -> Vec<Poly> {
         }
         let c = rest.to_univariate(0);
         let a0 = c[0].as_constant().map(|g| g.re).unwrap_or(Int::ZERO);
-        let an = c[c.len() - 1]
-            .as_constant()
-            .map(|g| g.re)
-            .unwrap_or(Int::ZERO);
+        let an = c[c.len() - 1].as_constant().map(|g| g.re).unwrap_or(Int::ZERO);
         if a0.is_zero() {
             // A root at zero: z itself.
             out.push(Poly::var(0));
@@ -348,10 +341,7 @@ fn split_rational_roots(p: &Poly) -> Vec<Poly> {
         out.push(f);
     }
     out.push(rest);
-    out.into_iter()
-        .filter(|f| f.as_constant().is_none())
-        .map(|f| primitive(&f))
-        .collect()
+    out.into_iter().filter(|f| f.as_constant().is_none()).map(|f| primitive(&f)).collect()
 }
 
 #[cfg(test)]
@@ -372,10 +362,7 @@ mod tests {
         let b = f.mul(&g2).mul(&x).mul(&Poly::int(4));
         assert_eq!(gcd(&a, &b), Some(primitive(&f)));
         assert_eq!(gcd(&g1, &g2), Some(Poly::int(1)));
-        let d = x
-            .pow(2)
-            .sub(&Poly::int(2).mul(&v(1)).mul(&x))
-            .add(&v(2).pow(2));
+        let d = x.pow(2).sub(&Poly::int(2).mul(&v(1)).mul(&x)).add(&v(2).pow(2));
         assert_eq!(gcd(&d.mul(&x), &d.pow(2)), Some(d));
     }
 
@@ -396,30 +383,14 @@ mod tests {
         // z^2 - 1 = (z - 1)(z + 1); 2z^2 - 3z + 1 = (2z - 1)(z - 1)
         let f = split_linear(&z.pow(2).sub(&one));
         assert_eq!(f.len(), 2);
-        let g = split_linear(
-            &z.pow(2)
-                .mul(&Poly::int(2))
-                .sub(&z.mul(&Poly::int(3)))
-                .add(&one),
-        );
+        let g = split_linear(&z.pow(2).mul(&Poly::int(2)).sub(&z.mul(&Poly::int(3))).add(&one));
         assert_eq!(g.len(), 2);
         // z^2 - (1 + a) z + a = (z - 1)(z - a)
         let h = split_linear(&z.pow(2).sub(&z.mul(&one.add(&a))).add(&a));
         assert_eq!(h.len(), 2);
-        assert_eq!(
-            h[0].mul(&h[1]).normalize_sign().0,
-            z.pow(2).sub(&z.mul(&one.add(&a))).add(&a)
-        );
+        assert_eq!(h[0].mul(&h[1]).normalize_sign().0, z.pow(2).sub(&z.mul(&one.add(&a))).add(&a));
         // r^2 - 2 M r + a^2 stays whole
-        assert_eq!(
-            split_linear(
-                &z.pow(2)
-                    .sub(&z.mul(&a).mul(&Poly::int(2)))
-                    .add(&v(2).pow(2))
-            )
-            .len(),
-            1
-        );
+        assert_eq!(split_linear(&z.pow(2).sub(&z.mul(&a).mul(&Poly::int(2))).add(&v(2).pow(2))).len(), 1);
     }
 
     #[test]

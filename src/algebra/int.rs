@@ -146,15 +146,32 @@ impl Int {
                 return Int::Small(x as i64);
             }
         }
-        Int::from_big(self.to_big().gcd(&o.to_big()))
+        // num-bigint's gcd (Stein's algorithm) removes only a few bits of the
+        // larger operand per step, which is quadratic when the operands differ
+        // much in size: gcd(1, 10^99999) took seconds. Euclidean steps first
+        // bring the two to within a word of each other.
+        let (mut a, mut b) = (self.to_big().abs(), o.to_big().abs());
+        loop {
+            if a < b {
+                std::mem::swap(&mut a, &mut b);
+            }
+            if b.is_zero() || a.bits() <= b.bits() + 64 {
+                break;
+            }
+            a %= &b;
+        }
+        Int::from_big(a.gcd(&b))
     }
     /// `self` to a non-negative integer power.
     pub fn pow(&self, e: u32) -> Int {
-        let mut acc = Int::ONE;
-        for _ in 0..e {
-            acc = acc.mul(self);
+        // Repeated squaring: a loop of e multiplications is quadratic in the
+        // result's size and took seconds for literals such as 1e-99999.
+        if let Int::Small(v) = self {
+            if let Some(c) = v.checked_pow(e) {
+                return Int::Small(c);
+            }
         }
-        acc
+        Int::from_big(num_traits::Pow::pow(self.to_big(), e))
     }
     /// The exact square root of a non-negative perfect square.
     pub fn sqrt_exact(&self) -> Option<Int> {
@@ -241,11 +258,7 @@ pub(crate) fn ratio_to_f64(n: &BigInt, d: &BigInt) -> f64 {
     let db = d.bits() as i64;
     // Scale so that the integer quotient has about 64 significant bits.
     let shift = 64 - (nb - db);
-    let q = if shift >= 0 {
-        (n << (shift as usize)) / d
-    } else {
-        n / (d << ((-shift) as usize))
-    };
+    let q = if shift >= 0 { (n << (shift as usize)) / d } else { n / (d << ((-shift) as usize)) };
     ldexp(q.to_f64().unwrap_or(f64::NAN), -shift)
 }
 

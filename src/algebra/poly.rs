@@ -103,31 +103,19 @@ pub struct GInt {
 impl GInt {
     /// Zero.
     pub fn zero() -> GInt {
-        GInt {
-            re: Int::ZERO,
-            im: Int::ZERO,
-        }
+        GInt { re: Int::ZERO, im: Int::ZERO }
     }
     /// One.
     pub fn one() -> GInt {
-        GInt {
-            re: Int::ONE,
-            im: Int::ZERO,
-        }
+        GInt { re: Int::ONE, im: Int::ZERO }
     }
     /// The imaginary unit.
     pub fn i() -> GInt {
-        GInt {
-            re: Int::ZERO,
-            im: Int::ONE,
-        }
+        GInt { re: Int::ZERO, im: Int::ONE }
     }
     /// A real integer.
     pub fn real(n: Int) -> GInt {
-        GInt {
-            re: n,
-            im: Int::ZERO,
-        }
+        GInt { re: n, im: Int::ZERO }
     }
     /// True for zero.
     pub fn is_zero(&self) -> bool {
@@ -139,55 +127,34 @@ impl GInt {
     }
     /// Sum.
     pub fn add(&self, o: &GInt) -> GInt {
-        GInt {
-            re: self.re.add(&o.re),
-            im: self.im.add(&o.im),
-        }
+        GInt { re: self.re.add(&o.re), im: self.im.add(&o.im) }
     }
     /// Difference.
     pub fn sub(&self, o: &GInt) -> GInt {
-        GInt {
-            re: self.re.sub(&o.re),
-            im: self.im.sub(&o.im),
-        }
+        GInt { re: self.re.sub(&o.re), im: self.im.sub(&o.im) }
     }
     /// Product.
     pub fn mul(&self, o: &GInt) -> GInt {
         if self.im.is_zero() && o.im.is_zero() {
             return GInt::real(self.re.mul(&o.re));
         }
-        GInt {
-            re: self.re.mul(&o.re).sub(&self.im.mul(&o.im)),
-            im: self.re.mul(&o.im).add(&self.im.mul(&o.re)),
-        }
+        GInt { re: self.re.mul(&o.re).sub(&self.im.mul(&o.im)), im: self.re.mul(&o.im).add(&self.im.mul(&o.re)) }
     }
     /// Product with a real integer.
     pub fn mul_int(&self, k: &Int) -> GInt {
-        GInt {
-            re: self.re.mul(k),
-            im: self.im.mul(k),
-        }
+        GInt { re: self.re.mul(k), im: self.im.mul(k) }
     }
     /// Negation.
     pub fn neg(&self) -> GInt {
-        GInt {
-            re: self.re.neg(),
-            im: self.im.neg(),
-        }
+        GInt { re: self.re.neg(), im: self.im.neg() }
     }
     /// Complex conjugate.
     pub fn conj(&self) -> GInt {
-        GInt {
-            re: self.re.clone(),
-            im: self.im.neg(),
-        }
+        GInt { re: self.re.clone(), im: self.im.neg() }
     }
     /// Exact quotient by a real integer.
     pub fn div_exact_int(&self, k: &Int) -> Option<GInt> {
-        Some(GInt {
-            re: self.re.div_exact(k)?,
-            im: self.im.div_exact(k)?,
-        })
+        Some(GInt { re: self.re.div_exact(k)?, im: self.im.div_exact(k)? })
     }
     /// Exact quotient in the Gaussian integers.
     pub fn div_exact(&self, o: &GInt) -> Option<GInt> {
@@ -202,19 +169,12 @@ impl GInt {
     pub fn sqrt_exact(&self) -> Option<GInt> {
         if self.im.is_zero() {
             if self.re.is_negative() {
-                return Some(GInt {
-                    re: Int::ZERO,
-                    im: self.re.neg().sqrt_exact()?,
-                });
+                return Some(GInt { re: Int::ZERO, im: self.re.neg().sqrt_exact()? });
             }
             return Some(GInt::real(self.re.sqrt_exact()?));
         }
         // (x + iy)² = a + ib: x² = (a + |c|)/2, y = b/(2x).
-        let n = self
-            .re
-            .mul(&self.re)
-            .add(&self.im.mul(&self.im))
-            .sqrt_exact()?;
+        let n = self.re.mul(&self.re).add(&self.im.mul(&self.im)).sqrt_exact()?;
         let x2 = self.re.add(&n).div_exact(&Int::from(2))?;
         let x = x2.sqrt_exact()?;
         if x.is_zero() {
@@ -225,10 +185,7 @@ impl GInt {
     }
     /// As a Gaussian rational.
     pub fn to_grat(&self) -> GRat {
-        GRat {
-            re: Rat::int(self.re.clone()),
-            im: Rat::int(self.im.clone()),
-        }
+        GRat { re: Rat::int(self.re.clone()), im: Rat::int(self.im.clone()) }
     }
     /// Larger bit length of the two parts.
     pub fn bits(&self) -> u64 {
@@ -251,10 +208,7 @@ impl PartialOrd for Poly {
 impl Ord for Poly {
     /// Total degree first, then term by term: a deterministic order for printing factors.
     fn cmp(&self, o: &Poly) -> Ordering {
-        self.total_degree()
-            .cmp(&o.total_degree())
-            .then_with(|| self.len().cmp(&o.len()))
-            .then_with(|| self.terms.cmp(&o.terms))
+        self.total_degree().cmp(&o.total_degree()).then_with(|| self.len().cmp(&o.len())).then_with(|| self.terms.cmp(&o.terms))
     }
 }
 
@@ -268,9 +222,7 @@ impl Poly {
         if c.is_zero() {
             Poly::zero()
         } else {
-            Poly {
-                terms: vec![(Mono::ONE, c)],
-            }
+            Poly { terms: vec![(Mono::ONE, c)] }
         }
     }
     /// An integer constant.
@@ -279,18 +231,14 @@ impl Poly {
     }
     /// The variable `x_i`.
     pub fn var(i: usize) -> Poly {
-        Poly {
-            terms: vec![(Mono::var(i, 1), GInt::one())],
-        }
+        Poly { terms: vec![(Mono::var(i, 1), GInt::one())] }
     }
     /// A single term.
     pub fn term(m: Mono, c: GInt) -> Poly {
         if c.is_zero() {
             Poly::zero()
         } else {
-            Poly {
-                terms: vec![(m, c)],
-            }
+            Poly { terms: vec![(m, c)] }
         }
     }
     /// Builds a polynomial from terms in any order, merging duplicates.
@@ -368,11 +316,7 @@ impl Poly {
     }
     /// Total degree.
     pub fn total_degree(&self) -> u32 {
-        self.terms
-            .iter()
-            .map(|(m, _)| m.total_degree())
-            .max()
-            .unwrap_or(0)
+        self.terms.iter().map(|(m, _)| m.total_degree()).max().unwrap_or(0)
     }
     /// True when variable `i` occurs.
     pub fn uses_var(&self, i: usize) -> bool {
@@ -417,9 +361,7 @@ impl Poly {
     }
     /// Negation.
     pub fn neg(&self) -> Poly {
-        Poly {
-            terms: self.terms.iter().map(|(m, c)| (*m, c.neg())).collect(),
-        }
+        Poly { terms: self.terms.iter().map(|(m, c)| (*m, c.neg())).collect() }
     }
     /// Difference.
     pub fn sub(&self, o: &Poly) -> Poly {
@@ -472,20 +414,10 @@ impl Poly {
         if let Some(c) = self.as_constant() {
             return o.mul_coeff(&c);
         }
-        let (small, big) = if self.len() <= o.len() {
-            (self, o)
-        } else {
-            (o, self)
-        };
+        let (small, big) = if self.len() <= o.len() { (self, o) } else { (o, self) };
         if small.len() == 1 {
             let (m, c) = &small.terms[0];
-            return Poly {
-                terms: big
-                    .terms
-                    .iter()
-                    .map(|(bm, bc)| (m.mul(*bm), c.mul(bc)))
-                    .collect(),
-            };
+            return Poly { terms: big.terms.iter().map(|(bm, bc)| (m.mul(*bm), c.mul(bc))).collect() };
         }
         let mut terms = Vec::with_capacity(self.len() * o.len());
         for (am, ac) in &self.terms {
@@ -500,9 +432,7 @@ impl Poly {
         if c.is_zero() {
             return Poly::zero();
         }
-        Poly {
-            terms: self.terms.iter().map(|(m, a)| (*m, a.mul(c))).collect(),
-        }
+        Poly { terms: self.terms.iter().map(|(m, a)| (*m, a.mul(c))).collect() }
     }
     /// Product with a real integer.
     pub fn mul_int(&self, k: &Int) -> Poly {
@@ -510,13 +440,7 @@ impl Poly {
     }
     /// Product with a monomial.
     pub fn mul_mono(&self, m: Mono) -> Poly {
-        Poly {
-            terms: self
-                .terms
-                .iter()
-                .map(|(a, c)| (a.mul(m), c.clone()))
-                .collect(),
-        }
+        Poly { terms: self.terms.iter().map(|(a, c)| (a.mul(m), c.clone())).collect() }
     }
     /// A non-negative integer power, by squaring.
     pub fn pow(&self, mut e: u32) -> Poly {
@@ -599,29 +523,15 @@ impl Poly {
     }
     /// Real part (coefficientwise).
     pub fn re(&self) -> Poly {
-        Poly::from_sorted(
-            self.terms
-                .iter()
-                .filter(|(_, c)| !c.re.is_zero())
-                .map(|(m, c)| (*m, GInt::real(c.re.clone())))
-                .collect(),
-        )
+        Poly::from_sorted(self.terms.iter().filter(|(_, c)| !c.re.is_zero()).map(|(m, c)| (*m, GInt::real(c.re.clone()))).collect())
     }
     /// Imaginary part (coefficientwise).
     pub fn im(&self) -> Poly {
-        Poly::from_sorted(
-            self.terms
-                .iter()
-                .filter(|(_, c)| !c.im.is_zero())
-                .map(|(m, c)| (*m, GInt::real(c.im.clone())))
-                .collect(),
-        )
+        Poly::from_sorted(self.terms.iter().filter(|(_, c)| !c.im.is_zero()).map(|(m, c)| (*m, GInt::real(c.im.clone()))).collect())
     }
     /// Complex conjugate of the coefficients.
     pub fn conj(&self) -> Poly {
-        Poly {
-            terms: self.terms.iter().map(|(m, c)| (*m, c.conj())).collect(),
-        }
+        Poly { terms: self.terms.iter().map(|(m, c)| (*m, c.conj())).collect() }
     }
     fn from_sorted(terms: Vec<(Mono, GInt)>) -> Poly {
         Poly { terms }
@@ -679,21 +589,14 @@ impl Poly {
     }
     /// Divides every term by a monomial that divides all of them.
     pub fn div_mono(&self, m: Mono) -> Poly {
-        Poly::from_terms(
-            self.terms
-                .iter()
-                .map(|(a, c)| (m.div_of(*a).expect("monomial divides"), c.clone()))
-                .collect(),
-        )
+        Poly::from_terms(self.terms.iter().map(|(a, c)| (m.div_of(*a).expect("monomial divides"), c.clone())).collect())
     }
     /// The polynomial scaled to have a positive leading real coefficient
     /// (leading coefficient made positive real when it is real, or with
     /// positive real part otherwise), with the sign used.
     pub fn normalize_sign(&self) -> (Poly, bool) {
         match self.terms.first() {
-            Some((_, c)) if c.re.is_negative() || (c.re.is_zero() && c.im.is_negative()) => {
-                (self.neg(), true)
-            }
+            Some((_, c)) if c.re.is_negative() || (c.re.is_zero() && c.im.is_negative()) => (self.neg(), true),
             _ => (self.clone(), false),
         }
     }
@@ -778,10 +681,7 @@ mod tests {
     #[test]
     fn derivative_and_univariate_round_trip() {
         let p = x().pow(3).mul(&y()).add(&y().pow(2)).add(&x());
-        assert_eq!(
-            p.derivative(0),
-            Poly::int(3).mul(&x().pow(2)).mul(&y()).add(&Poly::int(1))
-        );
+        assert_eq!(p.derivative(0), Poly::int(3).mul(&x().pow(2)).mul(&y()).add(&Poly::int(1)));
         let u = p.to_univariate(1);
         assert_eq!(Poly::from_univariate(1, &u), p);
         assert_eq!(u.len(), 3);
@@ -795,17 +695,7 @@ mod tests {
         assert_eq!(p.mul(&p).sqrt_exact().map(|r| r.mul(&r)), Some(p.mul(&p)));
         let q = x().add(&y()).pow(2).add(&Poly::int(1));
         assert_eq!(q.sqrt_exact(), None);
-        assert_eq!(
-            GInt {
-                re: Int::from(3),
-                im: Int::from(4)
-            }
-            .sqrt_exact(),
-            Some(GInt {
-                re: Int::from(2),
-                im: Int::from(1)
-            })
-        );
+        assert_eq!(GInt { re: Int::from(3), im: Int::from(4) }.sqrt_exact(), Some(GInt { re: Int::from(2), im: Int::from(1) }));
     }
 
     #[test]

@@ -159,27 +159,13 @@ fn term_text(c: &GRat, m: Mono, names: &[String], style: Style) -> (bool, String
     };
     let (neg, coeff): (bool, Option<String>) = if c.im.is_zero() {
         let one = c.re.numer().abs().is_one() && c.re.is_integer();
-        (
-            c.re.numer().is_negative(),
-            if one {
-                None
-            } else {
-                Some(rat_abs_text(&c.re, style))
-            },
-        )
+        (c.re.numer().is_negative(), if one { None } else { Some(rat_abs_text(&c.re, style)) })
     } else if c.re.is_zero() {
         let one = c.im.numer().abs().is_one() && c.im.is_integer();
-        let mag = if one {
-            unit.to_string()
-        } else {
-            format!("{}{join}{unit}", rat_abs_text(&c.im, style))
-        };
+        let mag = if one { unit.to_string() } else { format!("{}{join}{unit}", rat_abs_text(&c.im, style)) };
         (c.im.numer().is_negative(), Some(mag))
     } else {
-        let s = GRat {
-            re: c.re.clone(),
-            im: c.im.clone(),
-        };
+        let s = GRat { re: c.re.clone(), im: c.im.clone() };
         let inner = sum_text(&[(s, Mono::ONE)], names, style);
         let wrapped = match style {
             Style::Text => format!("({inner})"),
@@ -206,13 +192,7 @@ fn sum_text(terms: &[(GRat, Mono)], names: &[String], style: Style) -> String {
     for (k, (c, m)) in terms.iter().enumerate() {
         // A complex coefficient a + b i is split into its two real terms.
         let pieces: Vec<GRat> = if !c.re.is_zero() && !c.im.is_zero() && m.is_one() {
-            vec![
-                GRat::real(c.re.clone()),
-                GRat {
-                    re: Rat::zero(),
-                    im: c.im.clone(),
-                },
-            ]
+            vec![GRat::real(c.re.clone()), GRat { re: Rat::zero(), im: c.im.clone() }]
         } else {
             vec![c.clone()]
         };
@@ -236,10 +216,7 @@ fn scaled_terms(p: &Poly, scale: &Int) -> Vec<(GRat, Mono)> {
     p.terms()
         .iter()
         .map(|(m, c)| {
-            let g = GRat {
-                re: Rat::new(c.re.clone(), scale.clone()).expect("scale"),
-                im: Rat::new(c.im.clone(), scale.clone()).expect("scale"),
-            };
+            let g = GRat { re: Rat::new(c.re.clone(), scale.clone()).expect("scale"), im: Rat::new(c.im.clone(), scale.clone()).expect("scale") };
             (g, *m)
         })
         .collect()
@@ -311,10 +288,7 @@ fn is_compound(p: &Poly) -> bool {
         return true;
     }
     match p.terms().first() {
-        Some((m, c)) => {
-            !c.re.is_zero() && !c.im.is_zero()
-                || (!m.is_one() && !(c.re.abs().is_one() || c.im.abs().is_one()))
-        }
+        Some((m, c)) => !c.re.is_zero() && !c.im.is_zero() || (!m.is_one() && !(c.re.abs().is_one() || c.im.abs().is_one())),
         None => false,
     }
 }
@@ -357,14 +331,8 @@ pub fn ratfunc_text(r: &RatFunc, names: &[String], style: Style) -> String {
     let d = den_text(r, names, style);
     match style {
         Style::Text => {
-            let n = if r.num().len() > 1 {
-                format!("({n})")
-            } else {
-                n
-            };
-            let d = if r.den_factors().len() > 1
-                || (r.den_factors()[0].1 == 1 && is_compound(r.den_factors()[0].0.poly()))
-            {
+            let n = if r.num().len() > 1 { format!("({n})") } else { n };
+            let d = if r.den_factors().len() > 1 || (r.den_factors()[0].1 == 1 && is_compound(r.den_factors()[0].0.poly())) {
                 if r.den_factors().len() == 1 {
                     d
                 } else {
@@ -402,17 +370,8 @@ mod tests {
         let m = k.var(1);
         let two = RatFunc::from_poly(Poly::int(2));
         let f = k.sub(&r, &k.mul(&two, &m).unwrap()).unwrap();
-        let q = k
-            .div(
-                &k.add(&k.mul(&r, &r).unwrap(), &m).unwrap(),
-                &k.mul(&k.mul(&f, &f).unwrap(), &k.mul(&r, &two).unwrap())
-                    .unwrap(),
-            )
-            .unwrap();
-        assert_eq!(
-            ratfunc_text(&q, &names, Style::Text),
-            "(1/2*r^2 + 1/2*M)/(r*(r - 2*M)^2)"
-        );
+        let q = k.div(&k.add(&k.mul(&r, &r).unwrap(), &m).unwrap(), &k.mul(&k.mul(&f, &f).unwrap(), &k.mul(&r, &two).unwrap()).unwrap()).unwrap();
+        assert_eq!(ratfunc_text(&q, &names, Style::Text), "(1/2*r^2 + 1/2*M)/(r*(r - 2*M)^2)");
         assert_eq!(latex_name("omega"), "\\omega");
         assert_eq!(latex_name("r_h"), "r_{h}");
         assert_eq!(latex_name("lam"), "\\lambda");

@@ -61,11 +61,7 @@ impl PartialEq for RatFunc {
 impl RatFunc {
     /// Zero.
     pub fn zero() -> RatFunc {
-        RatFunc {
-            num: Poly::zero(),
-            scale: Int::ONE,
-            den: Vec::new(),
-        }
+        RatFunc { num: Poly::zero(), scale: Int::ONE, den: Vec::new() }
     }
     /// One.
     pub fn one() -> RatFunc {
@@ -73,11 +69,7 @@ impl RatFunc {
     }
     /// A polynomial.
     pub fn from_poly(p: Poly) -> RatFunc {
-        RatFunc {
-            num: p,
-            scale: Int::ONE,
-            den: Vec::new(),
-        }
+        RatFunc { num: p, scale: Int::ONE, den: Vec::new() }
     }
     /// A Gaussian-rational constant.
     pub fn constant(c: &GRat) -> RatFunc {
@@ -161,11 +153,7 @@ impl RatFunc {
         if g.is_one() {
             return RatFunc { num, scale, den };
         }
-        RatFunc {
-            num: num.div_exact_int(&g).expect("content divides"),
-            scale: scale.div_exact(&g).expect("gcd divides"),
-            den,
-        }
+        RatFunc { num: num.div_exact_int(&g).expect("content divides"), scale: scale.div_exact(&g).expect("gcd divides"), den }
     }
 }
 
@@ -190,12 +178,7 @@ pub struct Limits {
 
 impl Default for Limits {
     fn default() -> Limits {
-        Limits {
-            max_degree: 100,
-            max_terms: 200_000,
-            max_bits: 20_000,
-            max_work: 20_000_000,
-        }
+        Limits { max_degree: 100, max_terms: 200_000, max_bits: 20_000, max_work: 20_000_000 }
     }
 }
 
@@ -216,16 +199,9 @@ impl Field {
     /// A field in the named variables (variable 0 is the independent variable).
     pub fn new(names: Vec<String>, limits: Limits) -> Result<Field> {
         if names.len() > MAX_VARS {
-            return Err(limit(format!(
-                "too many symbols: {} (at most {MAX_VARS}, the variable included)",
-                names.len()
-            )));
+            return Err(limit(format!("too many symbols: {} (at most {MAX_VARS}, the variable included)", names.len())));
         }
-        Ok(Field {
-            names,
-            limits,
-            hints: RefCell::new(Vec::new()),
-        })
+        Ok(Field { names, limits, hints: RefCell::new(Vec::new()) })
     }
     /// The variable names, variable 0 first.
     pub fn names(&self) -> &[String] {
@@ -242,17 +218,10 @@ impl Field {
 
     fn check_poly(&self, p: &Poly) -> Result<()> {
         if p.len() > self.limits.max_terms {
-            return Err(limit(format!(
-                "an intermediate polynomial has {} terms (limit {})",
-                p.len(),
-                self.limits.max_terms
-            )));
+            return Err(limit(format!("an intermediate polynomial has {} terms (limit {})", p.len(), self.limits.max_terms)));
         }
         if p.max_bits() > self.limits.max_bits {
-            return Err(limit(format!(
-                "a coefficient has more than {} bits",
-                self.limits.max_bits
-            )));
+            return Err(limit(format!("a coefficient has more than {} bits", self.limits.max_bits)));
         }
         Ok(())
     }
@@ -264,18 +233,11 @@ impl Field {
             let e = da.exp(i) + db.exp(i);
             if e > self.limits.max_degree.min(MAX_EXP) {
                 let name = self.names.get(i).map(String::as_str).unwrap_or("?");
-                return Err(limit(format!(
-                    "degree {e} in {name} exceeds the limit of {}",
-                    self.limits.max_degree
-                )));
+                return Err(limit(format!("degree {e} in {name} exceeds the limit of {}", self.limits.max_degree)));
             }
         }
         if a.len().saturating_mul(b.len()) > self.limits.max_work {
-            return Err(limit(format!(
-                "a product of polynomials with {} and {} terms is too large",
-                a.len(),
-                b.len()
-            )));
+            return Err(limit(format!("a product of polynomials with {} and {} terms is too large", a.len(), b.len())));
         }
         let p = a.mul(b);
         self.check_poly(&p)?;
@@ -295,21 +257,13 @@ impl Field {
     }
 
     /// Rewrites two factor lists over one pairwise coprime base.
-    fn common_base(
-        &self,
-        a: &[(Arc<Factor>, u32)],
-        b: &[(Arc<Factor>, u32)],
-    ) -> Result<(Vec<Arc<Factor>>, Vec<u32>, Vec<u32>)> {
+    fn common_base(&self, a: &[(Arc<Factor>, u32)], b: &[(Arc<Factor>, u32)]) -> Result<(Vec<Arc<Factor>>, Vec<u32>, Vec<u32>)> {
         let mut r = Refiner::default();
         let ia: Vec<(usize, u32)> = a.iter().map(|(f, e)| (r.id_of(f.clone()), *e)).collect();
         let ib: Vec<(usize, u32)> = b.iter().map(|(f, e)| (r.id_of(f.clone()), *e)).collect();
         r.refine(self)?;
         let base_ids = r.alive_ids();
-        let pos: BTreeMap<usize, usize> = base_ids
-            .iter()
-            .enumerate()
-            .map(|(k, id)| (*id, k))
-            .collect();
+        let pos: BTreeMap<usize, usize> = base_ids.iter().enumerate().map(|(k, id)| (*id, k)).collect();
         let mut ea = vec![0u32; base_ids.len()];
         let mut eb = vec![0u32; base_ids.len()];
         for (list, out) in [(&ia, &mut ea), (&ib, &mut eb)] {
@@ -327,13 +281,7 @@ impl Field {
 
     /// Cancels common factors of a numerator and a factored denominator and
     /// returns the canonical value.
-    fn cancel(
-        &self,
-        mut num: Poly,
-        scale: Int,
-        base: Vec<Arc<Factor>>,
-        mut exps: Vec<u32>,
-    ) -> Result<RatFunc> {
+    fn cancel(&self, mut num: Poly, scale: Int, base: Vec<Arc<Factor>>, mut exps: Vec<u32>) -> Result<RatFunc> {
         if num.is_zero() {
             return Ok(RatFunc::zero());
         }
@@ -373,11 +321,16 @@ impl Field {
             }
             k += 1;
         }
-        let mut den: Vec<(Arc<Factor>, u32)> =
-            base.into_iter().zip(exps).filter(|(_, e)| *e > 0).collect();
+        let mut den: Vec<(Arc<Factor>, u32)> = base.into_iter().zip(exps).filter(|(_, e)| *e > 0).collect();
         den.sort_by(|a, b| a.0.poly.cmp(&b.0.poly));
         self.check_poly(&num)?;
-        Ok(RatFunc::normalized_content(num, scale, den))
+        let r = RatFunc::normalized_content(num, scale, den);
+        // The integer part of the denominator is bounded like the numerator's
+        // coefficients: without this, 1e-5000*1e-5000*... grew without limit.
+        if r.scale.bits() > self.limits.max_bits {
+            return Err(limit(format!("a coefficient has more than {} bits", self.limits.max_bits)));
+        }
+        Ok(r)
     }
 
     /// Sum.
@@ -408,11 +361,7 @@ impl Field {
 
     /// Negation.
     pub fn neg(&self, a: &RatFunc) -> RatFunc {
-        RatFunc {
-            num: a.num.neg(),
-            scale: a.scale.clone(),
-            den: a.den.clone(),
-        }
+        RatFunc { num: a.num.neg(), scale: a.scale.clone(), den: a.den.clone() }
     }
 
     /// Difference.
@@ -478,33 +427,20 @@ impl Field {
         let e32 = u32::try_from(e).map_err(|_| limit(format!("exponent {e} is too large")))?;
         if e32 > self.limits.max_degree {
             if a.as_constant().is_none() {
-                return Err(limit(format!(
-                    "exponent {e} exceeds the degree limit of {}",
-                    self.limits.max_degree
-                )));
+                return Err(limit(format!("exponent {e} exceeds the degree limit of {}", self.limits.max_degree)));
             }
         }
         // Powers of a canonical value stay canonical: no factor can appear.
         let num = self.ppow(&a.num, e32)?;
-        let den = a
-            .den
-            .iter()
-            .map(|(f, k)| (f.clone(), k * e32))
-            .collect::<Vec<_>>();
+        let den = a.den.iter().map(|(f, k)| (f.clone(), k * e32)).collect::<Vec<_>>();
         for (_, k) in &den {
             if *k > self.limits.max_degree {
-                return Err(limit(format!(
-                    "a denominator power {k} exceeds the degree limit of {}",
-                    self.limits.max_degree
-                )));
+                return Err(limit(format!("a denominator power {k} exceeds the degree limit of {}", self.limits.max_degree)));
             }
         }
         let scale = a.scale.pow(e32);
         if scale.bits() > self.limits.max_bits {
-            return Err(limit(format!(
-                "a coefficient has more than {} bits",
-                self.limits.max_bits
-            )));
+            return Err(limit(format!("a coefficient has more than {} bits", self.limits.max_bits)));
         }
         Ok(RatFunc { num, scale, den })
     }
@@ -512,9 +448,7 @@ impl Field {
     /// Partial derivative with respect to variable `v`.
     pub fn deriv(&self, a: &RatFunc, v: usize) -> Result<RatFunc> {
         // (N/∏fᵢ^eᵢ)' = (N'·F − N·Σ eᵢ fᵢ' F/fᵢ) / (F·∏fᵢ^eᵢ), F = ∏ fᵢ over the factors using v.
-        let using: Vec<usize> = (0..a.den.len())
-            .filter(|&k| a.den[k].0.poly.uses_var(v))
-            .collect();
+        let using: Vec<usize> = (0..a.den.len()).filter(|&k| a.den[k].0.poly.uses_var(v)).collect();
         let mut f_all = Poly::int(1);
         for &k in &using {
             f_all = self.pmul(&f_all, &a.den[k].0.poly)?;
@@ -522,16 +456,12 @@ impl Field {
         let mut num = self.pmul(&a.num.derivative(v), &f_all)?;
         for &k in &using {
             let (f, e) = &a.den[k];
-            let others = f_all
-                .div_exact(&f.poly)
-                .expect("factor divides the product");
+            let others = f_all.div_exact(&f.poly).expect("factor divides the product");
             let t = self.pmul(&self.pmul(&a.num, &f.poly.derivative(v))?, &others)?;
             num = num.sub(&t.mul_int(&Int::from(*e as i64)));
         }
         let base: Vec<Arc<Factor>> = a.den.iter().map(|(f, _)| f.clone()).collect();
-        let exps: Vec<u32> = (0..a.den.len())
-            .map(|k| a.den[k].1 + u32::from(using.contains(&k)))
-            .collect();
+        let exps: Vec<u32> = (0..a.den.len()).map(|k| a.den[k].1 + u32::from(using.contains(&k))).collect();
         self.cancel(num, a.scale.clone(), base, exps)
     }
 
@@ -555,10 +485,7 @@ impl Field {
             den = self.mul(&den, &self.pow(&fg, *e as i64)?)?;
         }
         if den.is_zero() {
-            return Err(Error::new(
-                ErrorKind::DivisionByZero,
-                "the substitution makes a denominator vanish identically",
-            ));
+            return Err(Error::new(ErrorKind::DivisionByZero, "the substitution makes a denominator vanish identically"));
         }
         num = self.div(&num, &den)?;
         Ok(num)
@@ -637,10 +564,7 @@ impl Field {
         for (id, m) in ids {
             r.expand(id, m, &mut acc);
         }
-        let mut out: Vec<(Arc<Factor>, u32)> = acc
-            .into_iter()
-            .map(|(id, m)| (r.items[id].clone(), m))
-            .collect();
+        let mut out: Vec<(Arc<Factor>, u32)> = acc.into_iter().map(|(id, m)| (r.items[id].clone(), m)).collect();
         out.sort_by(|a, b| a.0.poly.cmp(&b.0.poly));
         {
             let mut hints = self.hints.borrow_mut();
@@ -693,20 +617,14 @@ impl Field {
             if e % 2 != 0 {
                 return Ok(None);
             }
-            den = self.mul(
-                &den,
-                &self.pow(&RatFunc::from_poly(f.poly().clone()), (*e / 2) as i64)?,
-            )?;
+            den = self.mul(&den, &self.pow(&RatFunc::from_poly(f.poly().clone()), (*e / 2) as i64)?)?;
         }
         // sqrt(num/scale) = sqrt(num·scale)/scale
         let n = r.num().mul_int(r.scale());
         let Some(root) = n.sqrt_exact() else {
             return Ok(None);
         };
-        let top = self.div(
-            &RatFunc::from_poly(root),
-            &RatFunc::rat(&Rat::int(r.scale().clone())),
-        )?;
+        let top = self.div(&RatFunc::from_poly(root), &RatFunc::rat(&Rat::int(r.scale().clone())))?;
         Ok(Some(self.div(&top, &den)?))
     }
 
@@ -728,9 +646,7 @@ struct Refiner {
 
 impl Refiner {
     fn id_of(&mut self, f: Arc<Factor>) -> usize {
-        if let Some(k) =
-            (0..self.items.len()).find(|&k| self.alive[k] && self.items[k].poly == f.poly)
-        {
+        if let Some(k) = (0..self.items.len()).find(|&k| self.alive[k] && self.items[k].poly == f.poly) {
             return k;
         }
         self.items.push(f);
@@ -747,9 +663,7 @@ impl Refiner {
         'outer: loop {
             rounds += 1;
             if rounds > 10_000 {
-                return Err(limit(
-                    "splitting denominators into coprime factors did not finish",
-                ));
+                return Err(limit("splitting denominators into coprime factors did not finish"));
             }
             let ids = self.alive_ids();
             for (x, &i) in ids.iter().enumerate() {
@@ -821,9 +735,7 @@ mod tests {
         let zm = k.sub(&z, &one).unwrap();
         let zp = k.add(&z, &one).unwrap();
         let lhs = k.sub(&k.inv(&zm).unwrap(), &k.inv(&zp).unwrap()).unwrap();
-        let rhs = k
-            .div(&RatFunc::from_poly(Poly::int(2)), &k.mul(&zm, &zp).unwrap())
-            .unwrap();
+        let rhs = k.div(&RatFunc::from_poly(Poly::int(2)), &k.mul(&zm, &zp).unwrap()).unwrap();
         assert_eq!(lhs, rhs);
         // (z^2-1)/(z-1) = z+1
         let q = k.div(&k.mul(&zm, &zp).unwrap(), &zm).unwrap();
@@ -835,10 +747,7 @@ mod tests {
     fn minimal_real_denominator() {
         let k = field();
         let z = k.var(0);
-        let i = RatFunc::constant(&GRat {
-            re: Rat::zero(),
-            im: Rat::one(),
-        });
+        let i = RatFunc::constant(&GRat { re: Rat::zero(), im: Rat::one() });
         // 1/(z+i) = (z-i)/(z^2+1)
         let r = k.inv(&k.add(&z, &i).unwrap()).unwrap();
         assert_eq!(r.den_expanded(), Poly::var(0).pow(2).add(&Poly::int(1)));
@@ -853,19 +762,12 @@ mod tests {
         let k = field();
         let z = k.var(0);
         let a = k.var(1);
-        let f = k
-            .div(&k.mul(&z, &z).unwrap(), &k.sub(&z, &a).unwrap())
-            .unwrap();
+        let f = k.div(&k.mul(&z, &z).unwrap(), &k.sub(&z, &a).unwrap()).unwrap();
         let d = k.deriv(&f, 0).unwrap();
         // (z^2/(z-a))' = (z^2 - 2az)/(z-a)^2
         let expect = k
             .div(
-                &k.sub(
-                    &k.mul(&z, &z).unwrap(),
-                    &k.mul(&RatFunc::from_poly(Poly::int(2)), &k.mul(&a, &z).unwrap())
-                        .unwrap(),
-                )
-                .unwrap(),
+                &k.sub(&k.mul(&z, &z).unwrap(), &k.mul(&RatFunc::from_poly(Poly::int(2)), &k.mul(&a, &z).unwrap()).unwrap()).unwrap(),
                 &k.pow(&k.sub(&z, &a).unwrap(), 2).unwrap(),
             )
             .unwrap();
@@ -886,14 +788,7 @@ mod tests {
 
     #[test]
     fn degree_limit_is_an_error_not_a_panic() {
-        let k = Field::new(
-            vec!["z".into()],
-            Limits {
-                max_degree: 10,
-                ..Limits::default()
-            },
-        )
-        .unwrap();
+        let k = Field::new(vec!["z".into()], Limits { max_degree: 10, ..Limits::default() }).unwrap();
         let z = k.var(0);
         let e = k.pow(&z, 50).unwrap_err();
         assert_eq!(e.kind, ErrorKind::Limit);

@@ -15,24 +15,15 @@ pub struct Rat {
 impl Rat {
     /// Zero.
     pub fn zero() -> Rat {
-        Rat {
-            num: Int::ZERO,
-            den: Int::ONE,
-        }
+        Rat { num: Int::ZERO, den: Int::ONE }
     }
     /// One.
     pub fn one() -> Rat {
-        Rat {
-            num: Int::ONE,
-            den: Int::ONE,
-        }
+        Rat { num: Int::ONE, den: Int::ONE }
     }
     /// An integer.
     pub fn int(n: Int) -> Rat {
-        Rat {
-            num: n,
-            den: Int::ONE,
-        }
+        Rat { num: n, den: Int::ONE }
     }
     /// `n / d` reduced; `None` when `d` is zero.
     pub fn new(n: Int, d: Int) -> Option<Rat> {
@@ -68,11 +59,7 @@ impl Rat {
         if self.den == o.den {
             return Rat::new(self.num.add(&o.num), self.den.clone()).expect("nonzero denominator");
         }
-        Rat::new(
-            self.num.mul(&o.den).add(&o.num.mul(&self.den)),
-            self.den.mul(&o.den),
-        )
-        .expect("nonzero denominator")
+        Rat::new(self.num.mul(&o.den).add(&o.num.mul(&self.den)), self.den.mul(&o.den)).expect("nonzero denominator")
     }
     /// Difference.
     pub fn sub(&self, o: &Rat) -> Rat {
@@ -88,17 +75,12 @@ impl Rat {
     }
     /// Negation.
     pub fn neg(&self) -> Rat {
-        Rat {
-            num: self.num.neg(),
-            den: self.den.clone(),
-        }
+        Rat { num: self.num.neg(), den: self.den.clone() }
     }
     /// Nearest double.
     pub fn to_f64(&self) -> f64 {
         match (&self.num, &self.den) {
-            (Int::Small(a), Int::Small(b)) if a.unsigned_abs() < (1 << 53) && *b < (1 << 53) => {
-                *a as f64 / *b as f64
-            }
+            (Int::Small(a), Int::Small(b)) if a.unsigned_abs() < (1 << 53) && *b < (1 << 53) => *a as f64 / *b as f64,
             _ => ratio_to_f64(&self.num.to_big(), &self.den.to_big()),
         }
     }
@@ -119,11 +101,7 @@ impl Rat {
             return None;
         }
         let digits = format!("{ip}{fp}");
-        let n: num_bigint::BigInt = if digits.is_empty() {
-            0.into()
-        } else {
-            digits.parse().ok()?
-        };
+        let n: num_bigint::BigInt = if digits.is_empty() { 0.into() } else { digits.parse().ok()? };
         let e10 = exp.checked_sub(fp.len() as i64)?;
         if e10.abs() > 100_000 {
             return None;
@@ -160,24 +138,15 @@ pub struct GRat {
 impl GRat {
     /// Zero.
     pub fn zero() -> GRat {
-        GRat {
-            re: Rat::zero(),
-            im: Rat::zero(),
-        }
+        GRat { re: Rat::zero(), im: Rat::zero() }
     }
     /// One.
     pub fn one() -> GRat {
-        GRat {
-            re: Rat::one(),
-            im: Rat::zero(),
-        }
+        GRat { re: Rat::one(), im: Rat::zero() }
     }
     /// A real rational.
     pub fn real(r: Rat) -> GRat {
-        GRat {
-            re: r,
-            im: Rat::zero(),
-        }
+        GRat { re: r, im: Rat::zero() }
     }
     /// True for zero.
     pub fn is_zero(&self) -> bool {
@@ -185,44 +154,26 @@ impl GRat {
     }
     /// Sum.
     pub fn add(&self, o: &GRat) -> GRat {
-        GRat {
-            re: self.re.add(&o.re),
-            im: self.im.add(&o.im),
-        }
+        GRat { re: self.re.add(&o.re), im: self.im.add(&o.im) }
     }
     /// Difference.
     pub fn sub(&self, o: &GRat) -> GRat {
-        GRat {
-            re: self.re.sub(&o.re),
-            im: self.im.sub(&o.im),
-        }
+        GRat { re: self.re.sub(&o.re), im: self.im.sub(&o.im) }
     }
     /// Product.
     pub fn mul(&self, o: &GRat) -> GRat {
-        GRat {
-            re: self.re.mul(&o.re).sub(&self.im.mul(&o.im)),
-            im: self.re.mul(&o.im).add(&self.im.mul(&o.re)),
-        }
+        GRat { re: self.re.mul(&o.re).sub(&self.im.mul(&o.im)), im: self.re.mul(&o.im).add(&self.im.mul(&o.re)) }
     }
     /// Quotient; `None` for a zero divisor.
     pub fn div(&self, o: &GRat) -> Option<GRat> {
         let n2 = o.re.mul(&o.re).add(&o.im.mul(&o.im));
-        let c = GRat {
-            re: o.re.clone(),
-            im: o.im.neg(),
-        };
+        let c = GRat { re: o.re.clone(), im: o.im.neg() };
         let p = self.mul(&c);
-        Some(GRat {
-            re: p.re.div(&n2)?,
-            im: p.im.div(&n2)?,
-        })
+        Some(GRat { re: p.re.div(&n2)?, im: p.im.div(&n2)? })
     }
     /// Negation.
     pub fn neg(&self) -> GRat {
-        GRat {
-            re: self.re.neg(),
-            im: self.im.neg(),
-        }
+        GRat { re: self.re.neg(), im: self.im.neg() }
     }
     /// Nearest pair of doubles.
     pub fn to_f64(&self) -> (f64, f64) {
@@ -246,10 +197,7 @@ mod tests {
 
     #[test]
     fn gaussian_division() {
-        let a = GRat {
-            re: Rat::one(),
-            im: Rat::one(),
-        };
+        let a = GRat { re: Rat::one(), im: Rat::one() };
         let q = GRat::one().div(&a).unwrap();
         assert_eq!(q.re, Rat::new(1.into(), 2.into()).unwrap());
         assert_eq!(q.im, Rat::new((-1).into(), 2.into()).unwrap());

@@ -21,13 +21,7 @@ impl UPoly {
     }
     /// From a multivariate polynomial, collecting powers of variable 0.
     pub fn from_poly(p: &Poly) -> UPoly {
-        let mut u = UPoly {
-            coeffs: p
-                .to_univariate(0)
-                .into_iter()
-                .map(RatFunc::from_poly)
-                .collect(),
-        };
+        let mut u = UPoly { coeffs: p.to_univariate(0).into_iter().map(RatFunc::from_poly).collect() };
         u.trim();
         u
     }

@@ -39,11 +39,7 @@ pub fn classify_points(points: &[SingularPoint]) -> (String, String, Vec<String>
     let one = Rat::one();
     let r = |n: i64| Rat::int(n.into());
     let mut ranks: Vec<Rat> = irregular.iter().map(|(x, _)| x.clone()).collect();
-    ranks.sort_by(|a, b| {
-        a.to_f64()
-            .partial_cmp(&b.to_f64())
-            .unwrap_or(std::cmp::Ordering::Equal)
-    });
+    ranks.sort_by(|a, b| a.to_f64().partial_cmp(&b.to_f64()).unwrap_or(std::cmp::Ordering::Equal));
     let class = match (regular, ranks.as_slice()) {
         (2, []) => "euler",
         (3, []) => "hypergeometric",
@@ -67,11 +63,7 @@ pub fn classify_points(points: &[SingularPoint]) -> (String, String, Vec<String>
         parts.push(format!("{regular} regular"));
     }
     for (x, inf) in &irregular {
-        parts.push(format!(
-            "rank {}{}",
-            rank_text(x),
-            if *inf { " at ∞" } else { "" }
-        ));
+        parts.push(format!("rank {}{}", rank_text(x), if *inf { " at ∞" } else { "" }));
     }
     if parts.is_empty() {
         parts.push("no singular points".to_string());
@@ -84,9 +76,7 @@ pub fn classify_points(points: &[SingularPoint]) -> (String, String, Vec<String>
         ));
     }
     if class == "fuchsian" {
-        notes.push(format!(
-            "a Fuchsian equation with {regular} regular singular points"
-        ));
+        notes.push(format!("a Fuchsian equation with {regular} regular singular points"));
     }
     (class.to_string(), reason, notes)
 }

@@ -14,17 +14,13 @@ pub(crate) struct Ext {
 
 impl Ext {
     pub fn new(f: &Poly) -> Ext {
-        Ext {
-            f: UPoly::from_poly(f),
-        }
+        Ext { f: UPoly::from_poly(f) }
     }
     pub fn degree(&self) -> usize {
         self.f.degree().unwrap_or(0)
     }
     pub fn reduce(&self, k: &Field, a: &UPoly) -> Result<UPoly> {
-        Ok(a.divrem(k, &self.f)?
-            .map(|(_, r)| r)
-            .unwrap_or_else(UPoly::zero))
+        Ok(a.divrem(k, &self.f)?.map(|(_, r)| r).unwrap_or_else(UPoly::zero))
     }
     /// The value at θ of a polynomial in the variable and parameters.
     pub fn of_poly(&self, k: &Field, p: &Poly) -> Result<UPoly> {
@@ -68,14 +64,8 @@ impl Ext {
         let v = k.neg(&k.div(&self.f.coeff(0), &f2)?);
         let (x, y) = (a.coeff(0), a.coeff(1));
         // For α = x + yθ: Tr α = 2x + y u, N α = x² + x y u − y² v.
-        let tr = k.add(
-            &k.mul(&RatFunc::rat(&Rat::int(2.into())), &x)?,
-            &k.mul(&y, &u)?,
-        )?;
-        let norm = k.sub(
-            &k.add(&k.mul(&x, &x)?, &k.mul(&k.mul(&x, &y)?, &u)?)?,
-            &k.mul(&k.mul(&y, &y)?, &v)?,
-        )?;
+        let tr = k.add(&k.mul(&RatFunc::rat(&Rat::int(2.into())), &x)?, &k.mul(&y, &u)?)?;
+        let norm = k.sub(&k.add(&k.mul(&x, &x)?, &k.mul(&k.mul(&x, &y)?, &u)?)?, &k.mul(&k.mul(&y, &y)?, &v)?)?;
         let Some(n) = k.sqrt_exact(&norm)? else {
             return Ok(None);
         };

@@ -23,12 +23,7 @@ pub struct Formal {
 /// x^(L + σ i), i = 0, 1, …, with `sigma` = +1 at a finite point (x = z − z₀,
 /// increasing powers) and −1 at infinity (x = z, decreasing powers).
 /// Returns `None` when √(−c₀) is not exact in the parameter field.
-pub fn formal_solutions(
-    k: &Field,
-    c: &[RatFunc],
-    lead: i64,
-    sigma: i64,
-) -> Result<Option<Vec<Formal>>> {
+pub fn formal_solutions(k: &Field, c: &[RatFunc], lead: i64, sigma: i64) -> Result<Option<Vec<Formal>>> {
     let Some(c0) = c.first() else { return Ok(None) };
     let Some(u0) = k.sqrt_exact(&k.neg(c0))? else {
         return Ok(None);
@@ -74,12 +69,7 @@ pub fn formal_solutions(
         }
         let lead_power = Rat::new(lead.into(), 2.into()).expect("nonzero");
         let _ = &half;
-        out.push(Formal {
-            exponent,
-            rho: u[jrho as usize].clone(),
-            lead: branch,
-            lead_power,
-        });
+        out.push(Formal { exponent, rho: u[jrho as usize].clone(), lead: branch, lead_power });
     }
     Ok(Some(out))
 }

@@ -5,6 +5,7 @@
 //! [`Reduction`]; output an [`Analysis`]. Exact throughout; numeric values
 //! are computed separately by [`numeric`] when parameter values are given.
 
+pub mod canonical;
 mod class;
 mod ext;
 mod formal;
@@ -133,11 +134,7 @@ fn konst(c: RatFunc) -> UPoly {
 }
 
 /// Exponents ½ ± ½√(1 − 4q₀) of ψ at a regular point with coefficient q₀ of the double pole.
-fn regular_exponents(
-    k: &Field,
-    ext: Option<&Ext>,
-    q0: &UPoly,
-) -> Result<(Vec<Exponent>, Option<UPoly>)> {
+fn regular_exponents(k: &Field, ext: Option<&Ext>, q0: &UPoly) -> Result<(Vec<Exponent>, Option<UPoly>)> {
     let one = konst(RatFunc::one());
     let radicand = one.add(k, &q0.scale(k, &RatFunc::rat(&Rat::int((-4).into())))?)?;
     let root = match ext {
@@ -148,41 +145,16 @@ fn regular_exponents(
         },
     };
     let center = konst(half());
-    let exps = [1i8, -1]
-        .iter()
-        .map(|&sign| Exponent {
-            center: center.clone(),
-            sign,
-            root: root.clone(),
-            radicand: radicand.clone(),
-        })
-        .collect();
+    let exps = [1i8, -1].iter().map(|&sign| Exponent { center: center.clone(), sign, root: root.clone(), radicand: radicand.clone() }).collect();
     Ok((exps, root))
 }
 
 fn simple_exponents() -> Vec<Exponent> {
-    [RatFunc::zero(), RatFunc::one()]
-        .into_iter()
-        .map(|c| Exponent {
-            center: konst(c),
-            sign: 0,
-            root: None,
-            radicand: UPoly::zero(),
-        })
-        .collect()
+    [RatFunc::zero(), RatFunc::one()].into_iter().map(|c| Exponent { center: konst(c), sign: 0, root: None, radicand: UPoly::zero() }).collect()
 }
 
 fn shifted(k: &Field, e: &[Exponent], by: &UPoly) -> Result<Vec<Exponent>> {
-    e.iter()
-        .map(|x| {
-            Ok(Exponent {
-                center: x.center.add(k, by)?,
-                sign: x.sign,
-                root: x.root.clone(),
-                radicand: x.radicand.clone(),
-            })
-        })
-        .collect()
+    e.iter().map(|x| Ok(Exponent { center: x.center.add(k, by)?, sign: x.sign, root: x.root.clone(), radicand: x.radicand.clone() })).collect()
 }
 
 /// The integer value of an exact exponent difference, when it is one.
@@ -222,9 +194,7 @@ fn apparent_check(k: &Field, laurent: &[RatFunc], n: i64) -> Result<Apparent> {
             let cond = crate::algebra::primitive(&rhs.num().re());
             if !rhs.num().is_real() {
                 // Both parts must vanish; report the real part's condition only when the imaginary part is a multiple.
-                return Ok(Apparent::Unchecked(
-                    "the no-logarithm condition has complex coefficients".into(),
-                ));
+                return Ok(Apparent::Unchecked("the no-logarithm condition has complex coefficients".into()));
             }
             return Ok(Apparent::When(cond));
         }
@@ -281,9 +251,7 @@ fn expand_at_infinity(k: &Field, q: &RatFunc, n: usize) -> Result<(i64, Vec<RatF
     let (Some(dn), Some(dd)) = (num.degree(), den.degree()) else {
         return Ok((i64::MIN, Vec::new()));
     };
-    let rev = |u: &UPoly| UPoly {
-        coeffs: u.coeffs.iter().rev().cloned().collect(),
-    };
+    let rev = |u: &UPoly| UPoly { coeffs: u.coeffs.iter().rev().cloned().collect() };
     let c = rev(&num).series_div(k, &rev(&den), n)?.unwrap_or_default();
     Ok((dn as i64 - dd as i64, c))
 }
@@ -297,65 +265,44 @@ fn p_at_infinity(k: &Field, p: &RatFunc) -> Result<RatFunc> {
         return Ok(RatFunc::zero());
     }
     let (_, c) = expand_at_infinity(k, p, (d + 2) as usize)?;
-    Ok(c.get((d + 1) as usize)
-        .cloned()
-        .unwrap_or_else(RatFunc::zero))
+    Ok(c.get((d + 1) as usize).cloned().unwrap_or_else(RatFunc::zero))
 }
 
 /// Analyses a reduction.
 pub fn analyse(red: &Reduction) -> Result<Analysis> {
-    let k = &red.field;
-    let q = &red.normal.q;
-    let p = &red.p;
+    analyse_equation(&red.field, &red.p, &red.normal.q)
+}
+
+/// Analyses y'' + p y' + q y = 0 given p and the normal form's Q.
+pub fn analyse_equation(k: &Field, p: &RatFunc, q: &RatFunc) -> Result<Analysis> {
     let mut points = Vec::new();
     // Finite points: factors of Q's denominator, then factors of p's only.
-    let mut factors: Vec<(Poly, u32)> = q
-        .den_factors()
-        .iter()
-        .filter(|(f, _)| f.poly().uses_var(0))
-        .map(|(f, e)| (f.poly().clone(), *e))
-        .collect();
+    let mut factors: Vec<(Poly, u32)> = q.den_factors().iter().filter(|(f, _)| f.poly().uses_var(0)).map(|(f, e)| (f.poly().clone(), *e)).collect();
     for (f, _) in p.den_factors() {
         if f.poly().uses_var(0) && !factors.iter().any(|(g, _)| g == f.poly()) {
             factors.push((f.poly().clone(), 0));
         }
     }
     for (f, order) in factors {
-        points.push(finite_point(k, red, &f, order)?);
+        points.push(finite_point(k, p, q, &f, order)?);
     }
     points.push(infinity_point(k, q, p)?);
     let (class, reason, notes) = classify_points(&points);
-    Ok(Analysis {
-        points,
-        class,
-        reason,
-        notes,
-    })
+    Ok(Analysis { points, class, reason, notes })
 }
 
-fn finite_point(k: &Field, red: &Reduction, f: &Poly, order: u32) -> Result<SingularPoint> {
-    let q = &red.normal.q;
+fn finite_point(k: &Field, p: &RatFunc, q: &RatFunc, f: &Poly, order: u32) -> Result<SingularPoint> {
     let linear = linear_root(k, f)?;
-    let ext = if linear.is_none() {
-        Some(Ext::new(f))
-    } else {
-        None
-    };
+    let ext = if linear.is_none() { Some(Ext::new(f)) } else { None };
     let place = match &linear {
-        Some(z0) => Place::Point {
-            factor: f.clone(),
-            at: z0.clone(),
-        },
+        Some(z0) => Place::Point { factor: f.clone(), at: z0.clone() },
         None => Place::Roots(f.clone()),
     };
     let idx = q.den_factors().iter().position(|(g, _)| g.poly() == f);
     let (kind, rank) = match order {
         0 => (Kind::Ordinary, Rat::zero()),
         1 | 2 => (Kind::Regular, Rat::zero()),
-        k2 => (
-            Kind::Irregular,
-            Rat::new((k2 as i64 - 2).into(), 2.into()).expect("nonzero"),
-        ),
+        k2 => (Kind::Irregular, Rat::new((k2 as i64 - 2).into(), 2.into()).expect("nonzero")),
     };
     let mut exponents = Vec::new();
     let mut integer_difference = None;
@@ -386,8 +333,7 @@ fn finite_point(k: &Field, red: &Reduction, f: &Poly, order: u32) -> Result<Sing
                     }
                     let fp = x.of_poly(k, &f.derivative(0))?;
                     let d = x.mul(k, &x.mul(k, &fp, &fp)?, &x.of_poly(k, &g)?)?;
-                    x.div(k, &x.of_poly(k, q.num())?, &d)?
-                        .unwrap_or_else(UPoly::zero)
+                    x.div(k, &x.of_poly(k, q.num())?, &d)?.unwrap_or_else(UPoly::zero)
                 }
                 _ => UPoly::zero(),
             };
@@ -397,13 +343,10 @@ fn finite_point(k: &Field, red: &Reduction, f: &Poly, order: u32) -> Result<Sing
             if let Some(n) = integer_difference {
                 apparent = match (&ext, idx) {
                     (None, Some(i)) => {
-                        let (_, c) = laurent_at(k, q, i, n.unsigned_abs() as usize + 1)?
-                            .expect("linear factor");
+                        let (_, c) = laurent_at(k, q, i, n.unsigned_abs() as usize + 1)?.expect("linear factor");
                         apparent_check(k, &c, n)?
                     }
-                    _ => Apparent::Unchecked(
-                        "the point is a root of a factor of higher degree".into(),
-                    ),
+                    _ => Apparent::Unchecked("the point is a root of a factor of higher degree".into()),
                 };
             }
         }
@@ -416,40 +359,22 @@ fn finite_point(k: &Field, red: &Reduction, f: &Poly, order: u32) -> Result<Sing
             }
         }
     }
-    let shift = prefactor_shift(k, &red.p, f, ext.as_ref())?;
+    let shift = prefactor_shift(k, p, f, ext.as_ref())?;
     let unknown_exponents = match (&shift, kind) {
         (Some(s), Kind::Ordinary | Kind::Regular) => shifted(k, &exponents, s)?,
         _ => Vec::new(),
     };
     let removable = order == 0;
-    Ok(SingularPoint {
-        place,
-        pole_order: order,
-        kind,
-        rank,
-        exponents,
-        unknown_exponents,
-        integer_difference,
-        apparent,
-        formal,
-        removable,
-    })
+    Ok(SingularPoint { place, pole_order: order, kind, rank, exponents, unknown_exponents, integer_difference, apparent, formal, removable })
 }
 
 fn infinity_point(k: &Field, q: &RatFunc, p: &RatFunc) -> Result<SingularPoint> {
     let (d, _) = expand_at_infinity(k, q, 1)?;
-    let pole = if d == i64::MIN {
-        0
-    } else {
-        (d + 4).max(0) as u32
-    };
+    let pole = if d == i64::MIN { 0 } else { (d + 4).max(0) as u32 };
     let (kind, rank) = match pole {
         0 => (Kind::Ordinary, Rat::zero()),
         1 | 2 => (Kind::Regular, Rat::zero()),
-        n => (
-            Kind::Irregular,
-            Rat::new((n as i64 - 2).into(), 2.into()).expect("nonzero"),
-        ),
+        n => (Kind::Irregular, Rat::new((n as i64 - 2).into(), 2.into()).expect("nonzero")),
     };
     let mut exponents = simple_exponents();
     let mut integer_difference = None;
@@ -467,11 +392,7 @@ fn infinity_point(k: &Field, q: &RatFunc, p: &RatFunc) -> Result<SingularPoint> 
         integer_difference = integer_of(&root);
         if let Some(n) = integer_difference {
             // In t = 1/z the normal form's expansion is Q̃ = Σ c_i t^(i − 2).
-            let laurent: Vec<RatFunc> = c
-                .iter()
-                .take(n.unsigned_abs() as usize + 1)
-                .cloned()
-                .collect();
+            let laurent: Vec<RatFunc> = c.iter().take(n.unsigned_abs() as usize + 1).cloned().collect();
             apparent = apparent_check(k, &laurent, n)?;
         }
     }
@@ -485,11 +406,7 @@ fn infinity_point(k: &Field, q: &RatFunc, p: &RatFunc) -> Result<SingularPoint> 
     // w ~ t^(ρ̃ − 1 + p₁/2) with ψ̃ = t^(−1)·ψ(1/t) up to a constant.
     let p1 = p_at_infinity(k, p)?;
     let shift = k.add(&RatFunc::rat(&Rat::int((-1).into())), &k.mul(&half(), &p1)?)?;
-    let unknown_exponents = if kind == Kind::Irregular {
-        Vec::new()
-    } else {
-        shifted(k, &exponents, &konst(shift))?
-    };
+    let unknown_exponents = if kind == Kind::Irregular { Vec::new() } else { shifted(k, &exponents, &konst(shift))? };
     Ok(SingularPoint {
         place: Place::Infinity,
         pole_order: pole,
@@ -502,4 +419,15 @@ fn infinity_point(k: &Field, q: &RatFunc, p: &RatFunc) -> Result<SingularPoint> 
         formal,
         removable: false,
     })
+}
+
+/// The canonical form of the analysed equation, when its class has one here.
+pub fn canonical(red: &Reduction, an: &Analysis, choices: &canonical::Choices) -> Result<Option<canonical::Canonical>> {
+    let k = &red.field;
+    let pf = crate::emit::report::prefactor_text(red, &red.normal.prefactor, crate::algebra::print::Style::Text);
+    match an.class.as_str() {
+        "confluent-hypergeometric" => canonical::whittaker_form(k, &red.var, &red.normal.q, &an.points, &red.normal.prefactor, &pf),
+        "airy" | "parabolic-cylinder" => canonical::polynomial_q_form(k, &red.var, &red.normal.q, &pf),
+        c => canonical::canonical_form(k, &red.var, &red.p, &red.q, c, &an.points, choices),
+    }
 }

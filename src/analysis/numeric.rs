@@ -36,11 +36,7 @@ impl Values {
     /// The roots of a polynomial in the variable at these parameter values.
     pub fn roots(&self, f: &Poly) -> Option<Vec<Complex64>> {
         let u = UPoly::from_poly(f);
-        let c: Vec<Complex64> = u
-            .coeffs
-            .iter()
-            .map(|x| self.ratfunc(x))
-            .collect::<Option<_>>()?;
+        let c: Vec<Complex64> = u.coeffs.iter().map(|x| self.ratfunc(x)).collect::<Option<_>>()?;
         try_roots(&c)
     }
     /// An exponent's value at θ.
@@ -104,9 +100,7 @@ pub fn try_roots(c: &[Complex64]) -> Option<Vec<Complex64>> {
         .collect();
     // Deterministic order: by real part, then imaginary part.
     roots.sort_by(|a, b| {
-        a.re.partial_cmp(&b.re)
-            .unwrap_or(std::cmp::Ordering::Equal)
-            .then(a.im.partial_cmp(&b.im).unwrap_or(std::cmp::Ordering::Equal))
+        a.re.partial_cmp(&b.re).unwrap_or(std::cmp::Ordering::Equal).then(a.im.partial_cmp(&b.im).unwrap_or(std::cmp::Ordering::Equal))
     });
     Some(roots)
 }
@@ -131,10 +125,7 @@ pub fn evaluate(a: &Analysis, vals: &Values, k: &Field) -> Vec<NumericPoint> {
     for (index, p) in a.points.iter().enumerate() {
         let thetas: Vec<Option<Complex64>> = match &p.place {
             Place::Point { at, .. } => vec![vals.ratfunc(at)],
-            Place::Roots(f) => vals
-                .roots(f)
-                .map(|v| v.into_iter().map(Some).collect())
-                .unwrap_or_else(|| vec![None]),
+            Place::Roots(f) => vals.roots(f).map(|v| v.into_iter().map(Some).collect()).unwrap_or_else(|| vec![None]),
             Place::Infinity => vec![None],
         };
         for t in thetas {

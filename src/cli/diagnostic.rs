@@ -29,11 +29,7 @@ pub fn render(error: &Error, name: &str, source: &str) -> String {
         }
         Some(span) => {
             let place = Place::locate(source, span.start, span.end);
-            let _ = writeln!(
-                out,
-                "{name}:{}:{}: error: {}",
-                place.line, place.column, error.message
-            );
+            let _ = writeln!(out, "{name}:{}:{}: error: {}", place.line, place.column, error.message);
             let (shown, caret) = place.excerpt(source);
             let _ = writeln!(out, "{GUTTER}{}", shown.trim_end());
             let _ = writeln!(out, "{GUTTER}{caret}");
@@ -65,25 +61,15 @@ impl Place {
         // A span at or past the end points just past the last visible
         // character, not at an empty line after a final newline.
         let visible_end = source.trim_end_matches(['\n', '\r']).len();
-        let start = if start >= source.len() {
-            visible_end
-        } else {
-            floor_boundary(source, start)
-        };
+        let start = if start >= source.len() { visible_end } else { floor_boundary(source, start) };
         let line_start = source[..start].rfind('\n').map_or(0, |i| i + 1);
-        let mut line_end = source[start..]
-            .find('\n')
-            .map_or(source.len(), |i| start + i);
+        let mut line_end = source[start..].find('\n').map_or(source.len(), |i| start + i);
         if line_end > start && source[..line_end].ends_with('\r') {
             line_end -= 1;
         }
         let end = floor_boundary(source, end.min(line_end)).max(start);
         Place {
-            line: source.as_bytes()[..line_start]
-                .iter()
-                .filter(|&&b| b == b'\n')
-                .count()
-                + 1,
+            line: source.as_bytes()[..line_start].iter().filter(|&&b| b == b'\n').count() + 1,
             column: source[line_start..start].chars().count() + 1,
             line_start,
             line_end,
@@ -111,11 +97,7 @@ impl Place {
             caret.push_str("   ");
         }
         for (i, c) in line.chars().enumerate().skip(first).take(last - first) {
-            shown.push(if c == '\t' || !is_invisible(c) {
-                c
-            } else {
-                ' '
-            });
+            shown.push(if c == '\t' || !is_invisible(c) { c } else { ' ' });
             if i < before {
                 caret.push(if c == '\t' { '\t' } else { ' ' });
             }
@@ -164,12 +146,9 @@ mod tests {
     #[test]
     fn points_at_line_and_column() {
         let src = "var r\nlet f = 1 +\n";
-        let e = Error::new(
-            ErrorKind::Syntax,
-            "expected an expression after '+', found end of input",
-        )
-        .at(Span::new(16, 17))
-        .note("a line continues when it ends in an operator");
+        let e = Error::new(ErrorKind::Syntax, "expected an expression after '+', found end of input")
+            .at(Span::new(16, 17))
+            .note("a line continues when it ends in an operator");
         assert_eq!(
             render(&e, "f.ode", src),
             "f.ode:2:11: error: expected an expression after '+', found end of input\n    let f = 1 +\n              ^\n  \
@@ -180,21 +159,12 @@ mod tests {
     #[test]
     fn carets_cover_the_span() {
         let src = "let f = 2x + 1";
-        assert_eq!(
-            render(&at(8, 10), "a", src),
-            "a:1:9: error: bad\n    let f = 2x + 1\n            ^^\n"
-        );
+        assert_eq!(render(&at(8, 10), "a", src), "a:1:9: error: bad\n    let f = 2x + 1\n            ^^\n");
         // A span running over several lines is underlined to the end of its first line.
         let src = "let f = (1 +\n 2";
-        assert_eq!(
-            render(&at(8, 15), "a", src),
-            "a:1:9: error: bad\n    let f = (1 +\n            ^^^^\n"
-        );
+        assert_eq!(render(&at(8, 15), "a", src), "a:1:9: error: bad\n    let f = (1 +\n            ^^^^\n");
         // An empty span still gets one caret.
-        assert_eq!(
-            render(&at(3, 3), "a", "abcdef"),
-            "a:1:4: error: bad\n    abcdef\n       ^\n"
-        );
+        assert_eq!(render(&at(3, 3), "a", "abcdef"), "a:1:4: error: bad\n    abcdef\n       ^\n");
     }
 
     #[test]
@@ -202,81 +172,43 @@ mod tests {
         let src = "param ω, λ\nlet g = ω*λ $";
         let dollar = src.find('$').unwrap();
         let out = render(&at(dollar, dollar + 1), "u", src);
-        assert_eq!(
-            out,
-            "u:2:13: error: bad\n    let g = ω*λ $\n                ^\n"
-        );
+        assert_eq!(out, "u:2:13: error: bad\n    let g = ω*λ $\n                ^\n");
         let omega = src.find('ω').unwrap();
         let out = render(&at(omega, omega + 'ω'.len_utf8()), "u", src);
-        assert!(
-            out.starts_with("u:1:7: error: bad\n    param ω, λ\n          ^\n"),
-            "{out}"
-        );
+        assert!(out.starts_with("u:1:7: error: bad\n    param ω, λ\n          ^\n"), "{out}");
     }
 
     #[test]
     fn tabs_are_kept_so_carets_align() {
         let src = "\tlet f =\t1 $";
         let out = render(&at(11, 12), "t", src);
-        assert_eq!(
-            out,
-            "t:1:12: error: bad\n    \tlet f =\t1 $\n    \t       \t  ^\n"
-        );
+        assert_eq!(out, "t:1:12: error: bad\n    \tlet f =\t1 $\n    \t       \t  ^\n");
     }
 
     #[test]
     fn errors_without_a_span() {
-        let e = Error::new(ErrorKind::Usage, "no equation given")
-            .note("pass a file or -e TEXT")
-            .note("or use stdin");
-        assert_eq!(
-            render(&e, "canonode", "var r"),
-            "canonode: error: no equation given\n  note: pass a file or -e TEXT\n  note: or use stdin\n"
-        );
+        let e = Error::new(ErrorKind::Usage, "no equation given").note("pass a file or -e TEXT").note("or use stdin");
+        assert_eq!(render(&e, "canonode", "var r"), "canonode: error: no equation given\n  note: pass a file or -e TEXT\n  note: or use stdin\n");
     }
 
     #[test]
     fn spans_past_the_end_point_after_the_last_character() {
-        assert_eq!(
-            render(&at(50, 60), "e", "var r\n\n"),
-            "e:1:6: error: bad\n    var r\n         ^\n"
-        );
-        assert_eq!(
-            render(&at(5, 5), "e", "var r"),
-            "e:1:6: error: bad\n    var r\n         ^\n"
-        );
-        assert_eq!(
-            render(&at(0, 9), "e", ""),
-            "e:1:1: error: bad\n    \n    ^\n"
-        );
+        assert_eq!(render(&at(50, 60), "e", "var r\n\n"), "e:1:6: error: bad\n    var r\n         ^\n");
+        assert_eq!(render(&at(5, 5), "e", "var r"), "e:1:6: error: bad\n    var r\n         ^\n");
+        assert_eq!(render(&at(0, 9), "e", ""), "e:1:1: error: bad\n    \n    ^\n");
     }
 
     #[test]
     fn odd_spans_and_line_breaks_are_tolerated() {
         // Offsets inside a character move back to its start.
         let src = "x = ω";
-        assert_eq!(
-            render(&at(5, 6), "o", src),
-            "o:1:5: error: bad\n    x = ω\n        ^\n"
-        );
+        assert_eq!(render(&at(5, 6), "o", src), "o:1:5: error: bad\n    x = ω\n        ^\n");
         // An end before the start, carriage returns, control characters.
-        assert_eq!(
-            render(&at(2, 1), "o", "abc\r\ndef"),
-            "o:1:3: error: bad\n    abc\n      ^\n"
-        );
-        assert_eq!(
-            render(&at(5, 6), "o", "abc\r\nd\u{1b}f"),
-            "o:2:1: error: bad\n    d f\n    ^\n"
-        );
+        assert_eq!(render(&at(2, 1), "o", "abc\r\ndef"), "o:1:3: error: bad\n    abc\n      ^\n");
+        assert_eq!(render(&at(5, 6), "o", "abc\r\nd\u{1b}f"), "o:2:1: error: bad\n    d f\n    ^\n");
         // Zero-width characters show as a blank so that the carets stay aligned.
-        assert_eq!(
-            render(&at(4, 5), "o", "a\u{200b}b"),
-            "o:1:3: error: bad\n    a b\n      ^\n"
-        );
-        assert_eq!(
-            render(&at(3, 4), "o", "abc\r\nd"),
-            "o:1:4: error: bad\n    abc\n       ^\n"
-        );
+        assert_eq!(render(&at(4, 5), "o", "a\u{200b}b"), "o:1:3: error: bad\n    a b\n      ^\n");
+        assert_eq!(render(&at(3, 4), "o", "abc\r\nd"), "o:1:4: error: bad\n    abc\n       ^\n");
     }
 
     #[test]
@@ -307,14 +239,7 @@ mod tests {
 
     #[test]
     fn arbitrary_spans_never_panic() {
-        let texts = [
-            "",
-            "\n",
-            "a\r\n",
-            "ω\tλ\n\nx",
-            "\u{1F600}\u{1F600}",
-            "var r\nparam a\n",
-        ];
+        let texts = ["", "\n", "a\r\n", "ω\tλ\n\nx", "\u{1F600}\u{1F600}", "var r\nparam a\n"];
         let mut state = 0x1234_5678_9ABC_DEF1;
         for _ in 0..5_000 {
             let text = texts[(xorshift(&mut state) % texts.len() as u64) as usize];

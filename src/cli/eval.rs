@@ -52,50 +52,31 @@ fn compute(a: &EvalArgs, src: &super::Source) -> Result<(f64, f64), Failure> {
                 given[i] = true;
             }
             None => {
-                return Err(Error::new(
-                    ErrorKind::Usage,
-                    format!("'{n}' is neither the variable nor a parameter of the equation"),
-                )
-                .at(*span)
-                .in_option("--at")
-                .note(format!("the names are: {}", names.join(", ")))
-                .into())
+                return Err(Error::new(ErrorKind::Usage, format!("'{n}' is neither the variable nor a parameter of the equation"))
+                    .at(*span)
+                    .in_option("--at")
+                    .note(format!("the names are: {}", names.join(", ")))
+                    .into())
             }
         }
     }
-    let missing: Vec<&str> = names
-        .iter()
-        .zip(&given)
-        .filter(|(_, g)| !**g)
-        .map(|(n, _)| n.as_str())
-        .collect();
+    let missing: Vec<&str> = names.iter().zip(&given).filter(|(_, g)| !**g).map(|(n, _)| n.as_str()).collect();
     if !missing.is_empty() {
-        return Err(Error::new(
-            ErrorKind::Usage,
-            format!("no value given for {}", missing.join(", ")),
-        )
-        .at(crate::syntax::Span::new(0, a.at.len()))
-        .in_option("--at")
-        .into());
+        return Err(Error::new(ErrorKind::Usage, format!("no value given for {}", missing.join(", ")))
+            .at(crate::syntax::Span::new(0, a.at.len()))
+            .in_option("--at")
+            .into());
     }
     let q = red.normal.q.eval(&point).ok_or_else(|| {
-        Error::new(
-            ErrorKind::Usage,
-            "Q has a pole at this point: its denominator vanishes there",
-        )
-        .at(crate::syntax::Span::new(0, a.at.len()))
-        .in_option("--at")
+        Error::new(ErrorKind::Usage, "Q has a pole at this point: its denominator vanishes there")
+            .at(crate::syntax::Span::new(0, a.at.len()))
+            .in_option("--at")
     })?;
     Ok(q.to_f64())
 }
 
 fn fail(f: &Failure, src: Option<&super::Source>, a: &EvalArgs) -> u8 {
-    let (msg, code) = report(
-        f,
-        src,
-        Some(&a.input),
-        &[("--at".to_string(), a.at.clone())],
-    );
+    let (msg, code) = report(f, src, Some(&a.input), &[("--at".to_string(), a.at.clone())]);
     if !msg.is_empty() {
         eprintln!("{msg}");
     }

@@ -51,27 +51,13 @@ pub(crate) struct InputArgs {
     #[arg(value_name = "FILE", required_unless_present = "equation")]
     file: Option<String>,
     /// An inline equation 'LHS = RHS' instead of a file; undeclared names become parameters.
-    #[arg(
-        short = 'e',
-        long = "equation",
-        value_name = "EQUATION",
-        conflicts_with = "file"
-    )]
+    #[arg(short = 'e', long = "equation", value_name = "EQUATION", conflicts_with = "file")]
     equation: Option<String>,
     /// The independent variable of an inline equation.
-    #[arg(
-        long = "var",
-        value_name = "NAME",
-        default_value = "z",
-        requires = "equation"
-    )]
+    #[arg(long = "var", value_name = "NAME", default_value = "z", requires = "equation")]
     var: String,
     /// Change the variable: OLD=EXPR, with EXPR rational in a new variable (e.g. 'z=1/t').
-    #[arg(
-        long = "subst",
-        value_name = "OLD=EXPR",
-        conflicts_with = "at_infinity"
-    )]
+    #[arg(long = "subst", value_name = "OLD=EXPR", conflicts_with = "at_infinity")]
     subst: Option<String>,
     /// Look at the point at infinity through z = 1/t.
     #[arg(long = "at-infinity")]
@@ -94,10 +80,7 @@ pub(crate) struct Source {
 impl Source {
     pub(crate) fn input(&self) -> Input<'_> {
         match &self.inline_var {
-            Some(v) => Input::Inline {
-                equation: &self.text,
-                var: v,
-            },
+            Some(v) => Input::Inline { equation: &self.text, var: v },
             None => Input::Program(&self.text),
         }
     }
@@ -120,11 +103,7 @@ impl From<Error> for Failure {
 impl InputArgs {
     pub(crate) fn read(&self) -> Result<Source, Failure> {
         if let Some(eq) = &self.equation {
-            return Ok(Source {
-                name: "<equation>".into(),
-                text: eq.clone(),
-                inline_var: Some(self.var.clone()),
-            });
+            return Ok(Source { name: "<equation>".into(), text: eq.clone(), inline_var: Some(self.var.clone()) });
         }
         let file = self.file.clone().unwrap_or_else(|| "-".into());
         let limit = crate::syntax::ParseLimits::default().max_bytes as u64;
@@ -135,39 +114,19 @@ impl InputArgs {
             std::fs::File::open(&file).and_then(|f| f.take(limit + 1).read_to_end(&mut bytes))
         };
         if let Err(e) = res {
-            return Err(Failure::Plain(
-                format!("{file}: error: cannot read the file: {e}"),
-                2,
-            ));
+            return Err(Failure::Plain(format!("{file}: error: cannot read the file: {e}"), 2));
         }
-        let name = if file == "-" {
-            "<stdin>".to_string()
-        } else {
-            file
-        };
+        let name = if file == "-" { "<stdin>".to_string() } else { file };
         if bytes.len() as u64 > limit {
-            return Err(Failure::Plain(
-                format!("{name}: error: the input is larger than the limit of {limit} bytes"),
-                2,
-            ));
+            return Err(Failure::Plain(format!("{name}: error: the input is larger than the limit of {limit} bytes"), 2));
         }
         match String::from_utf8(bytes) {
-            Ok(text) => Ok(Source {
-                name,
-                text,
-                inline_var: None,
-            }),
+            Ok(text) => Ok(Source { name, text, inline_var: None }),
             Err(e) => {
                 let at = e.utf8_error().valid_up_to();
                 let text = String::from_utf8_lossy(e.as_bytes()).into_owned();
-                let err = Error::new(ErrorKind::Syntax, "the input is not valid UTF-8")
-                    .at(crate::syntax::Span::new(at, at + 1));
-                Err(Failure::Plain(
-                    diagnostic::render(&err, &name, &text)
-                        .trim_end()
-                        .to_string(),
-                    2,
-                ))
+                let err = Error::new(ErrorKind::Syntax, "the input is not valid UTF-8").at(crate::syntax::Span::new(at, at + 1));
+                Err(Failure::Plain(diagnostic::render(&err, &name, &text).trim_end().to_string(), 2))
             }
         }
     }
@@ -195,12 +154,7 @@ impl InputArgs {
 }
 
 /// Renders a failure for stderr and gives its exit status.
-pub(crate) fn report(
-    f: &Failure,
-    src: Option<&Source>,
-    args: Option<&InputArgs>,
-    extra: &[(String, String)],
-) -> (String, u8) {
+pub(crate) fn report(f: &Failure, src: Option<&Source>, args: Option<&InputArgs>, extra: &[(String, String)]) -> (String, u8) {
     match f {
         Failure::Plain(m, code) => (m.clone(), *code),
         Failure::Lib(e) => {
@@ -228,13 +182,8 @@ pub(crate) fn emit(text: &str) -> Result<(), Failure> {
     let mut out = std::io::stdout().lock();
     match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
         Ok(()) => Ok(()),
-        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => {
-            Err(Failure::Plain(String::new(), 0))
-        }
-        Err(e) => Err(Failure::Plain(
-            format!("error: cannot write the output: {e}"),
-            1,
-        )),
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Err(Failure::Plain(String::new(), 0)),
+        Err(e) => Err(Failure::Plain(format!("error: cannot write the output: {e}"), 1)),
     }
 }
 
@@ -250,15 +199,11 @@ pub fn main_with_args(args: Vec<OsString>) -> ExitCode {
             return ExitCode::from(code);
         }
     };
-    let worker = std::thread::Builder::new()
-        .stack_size(512 << 20)
-        .spawn(move || run(cli));
+    let worker = std::thread::Builder::new().stack_size(512 << 20).spawn(move || run(cli));
     let code = match worker.map(|h| h.join()) {
         Ok(Ok(code)) => code,
         Ok(Err(_)) => {
-            eprintln!(
-                "error: internal failure (a bug in canonode; please report it with the input)"
-            );
+            eprintln!("error: internal failure (a bug in canonode; please report it with the input)");
             1
         }
         Err(e) => {

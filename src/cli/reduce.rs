@@ -26,10 +26,7 @@ pub(crate) fn run(a: &ReduceArgs) -> u8 {
     let text = match a.format {
         Format::Text => crate::emit::reduction_text(&red, &src.name),
         Format::Latex => crate::emit::reduction_latex(&red),
-        Format::Json => format!(
-            "{}\n",
-            serde_json::to_string_pretty(&crate::emit::reduction_json(&red)).unwrap_or_default()
-        ),
+        Format::Json => format!("{}\n", serde_json::to_string_pretty(&crate::emit::reduction_json(&red)).unwrap_or_default()),
     };
     if !red.ode.inferred.is_empty() && a.format != Format::Text {
         eprintln!("note: inferred parameters: {}", red.ode.inferred.join(", "));

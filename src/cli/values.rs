@@ -14,11 +14,7 @@ pub(crate) fn parse_complex(text: &str) -> Option<GRat> {
     let imag_suffix = |s: &str| -> Option<String> {
         let s = s.strip_suffix(['i', 'I'])?;
         let s = s.strip_suffix('*').unwrap_or(s);
-        Some(if s.is_empty() || s == "+" || s == "-" {
-            format!("{s}1")
-        } else {
-            s.to_string()
-        })
+        Some(if s.is_empty() || s == "+" || s == "-" { format!("{s}1") } else { s.to_string() })
     };
     let signed = |s: &str| -> Option<Rat> {
         let (neg, body) = match s.strip_prefix('-') {
@@ -44,10 +40,7 @@ pub(crate) fn parse_complex(text: &str) -> Option<GRat> {
                 let im = signed(imag_suffix(&t[i..])?.as_str())?;
                 Some(GRat { re, im })
             }
-            None => Some(GRat {
-                re: Rat::zero(),
-                im: signed(&im)?,
-            }),
+            None => Some(GRat { re: Rat::zero(), im: signed(&im)? }),
         }
     } else {
         Some(GRat::real(signed(&t)?))
@@ -65,33 +58,18 @@ pub(crate) fn parse_assignments(text: &str, option: &str) -> Result<Vec<(String,
             continue;
         }
         let Some(eq) = piece.find('=') else {
-            return Err(Error::new(
-                ErrorKind::Usage,
-                format!("expected NAME=VALUE, found '{}'", piece.trim()),
-            )
-            .at(span)
-            .in_option(option));
+            return Err(Error::new(ErrorKind::Usage, format!("expected NAME=VALUE, found '{}'", piece.trim())).at(span).in_option(option));
         };
         let name = piece[..eq].trim().to_string();
         let value = &piece[eq + 1..];
         let vspan = Span::new(span.start + eq + 1, span.end);
         let Some(v) = parse_complex(value) else {
-            return Err(Error::new(
-                ErrorKind::Usage,
-                format!(
-                    "'{}' is not a number (write e.g. 3.1, 2e-3, 0.37-0.089i)",
-                    value.trim()
-                ),
-            )
-            .at(vspan)
-            .in_option(option));
+            return Err(Error::new(ErrorKind::Usage, format!("'{}' is not a number (write e.g. 3.1, 2e-3, 0.37-0.089i)", value.trim()))
+                .at(vspan)
+                .in_option(option));
         };
         if out.iter().any(|(n, _, _)| *n == name) {
-            return Err(
-                Error::new(ErrorKind::Usage, format!("'{name}' is given twice"))
-                    .at(span)
-                    .in_option(option),
-            );
+            return Err(Error::new(ErrorKind::Usage, format!("'{name}' is given twice")).at(span).in_option(option));
         }
         out.push((name, v, span));
     }
@@ -160,10 +138,7 @@ mod tests {
         assert_eq!(v.re, Rat::parse_decimal("0.37").unwrap());
         assert_eq!(v.im, Rat::parse_decimal("0.089").unwrap().neg());
         assert_eq!(parse_complex("-2i").unwrap().im, Rat::int((-2).into()));
-        assert_eq!(
-            parse_complex("1e-3").unwrap().re,
-            Rat::parse_decimal("0.001").unwrap()
-        );
+        assert_eq!(parse_complex("1e-3").unwrap().re, Rat::parse_decimal("0.001").unwrap());
         assert_eq!(parse_complex("1e-3+i").unwrap().im, Rat::one());
         assert!(parse_complex("abc").is_none());
         assert!(parse_complex("").is_none());

@@ -16,6 +16,7 @@
 
 use crate::algebra::print::{poly_text, ratfunc_text, Style};
 use crate::algebra::{Field, Int, RatFunc, UPoly};
+use crate::analysis::canonical::{Canonical, Param};
 use crate::analysis::numeric::NumericPoint;
 use crate::analysis::{Analysis, Apparent, Exponent, Place, SingularPoint};
 use serde_json::{json, Value};
@@ -69,18 +70,10 @@ pub(crate) fn upoly_text(k: &Field, u: &UPoly, s: Style) -> String {
         let t = match j {
             0 => ct,
             _ => {
-                let pw = if j == 1 {
-                    theta.to_string()
-                } else {
-                    format!("{theta}^{j}")
-                };
-                if c.as_constant()
-                    .is_some_and(|x| x.im.is_zero() && x.re.is_integer() && x.re.numer().is_one())
-                {
+                let pw = if j == 1 { theta.to_string() } else { format!("{theta}^{j}") };
+                if c.as_constant().is_some_and(|x| x.im.is_zero() && x.re.is_integer() && x.re.numer().is_one()) {
                     pw
-                } else if c.as_constant().is_some_and(|x| {
-                    x.im.is_zero() && x.re.is_integer() && x.re.numer() == &Int::from(-1)
-                }) {
+                } else if c.as_constant().is_some_and(|x| x.im.is_zero() && x.re.is_integer() && x.re.numer() == &Int::from(-1)) {
                     format!("-{pw}")
                 } else {
                     format!("{}*{pw}", paren(ct))
@@ -113,8 +106,7 @@ pub(crate) fn exponent_text(k: &Field, e: &Exponent, s: Style) -> String {
     if e.sign == 0 {
         return upoly_text(k, &e.center, s);
     }
-    let half =
-        RatFunc::rat(&crate::algebra::Rat::new((e.sign as i64).into(), 2.into()).expect("nonzero"));
+    let half = RatFunc::rat(&crate::algebra::Rat::new((e.sign as i64).into(), 2.into()).expect("nonzero"));
     if let Some(r) = &e.root {
         if let Ok(t) = r.scale(k, &half).and_then(|h| e.center.add(k, &h)) {
             return upoly_text(k, &t, s);
@@ -132,19 +124,14 @@ pub(crate) fn exponent_text(k: &Field, e: &Exponent, s: Style) -> String {
 fn where_text(k: &Field, var: &str, p: &SingularPoint, s: Style) -> String {
     match &p.place {
         Place::Point { at, .. } => format!("{var} = {}", rf(k, at, s)),
-        Place::Roots(f) => format!(
-            "{var} = θ, a root of {}",
-            poly_text(f, &Int::ONE, k.names(), s)
-        ),
+        Place::Roots(f) => format!("{var} = θ, a root of {}", poly_text(f, &Int::ONE, k.names(), s)),
         Place::Infinity => format!("{var} = ∞"),
     }
 }
 
 fn formal_text(k: &Field, var: &str, p: &SingularPoint) -> Vec<String> {
     let x = match &p.place {
-        Place::Point { at, .. } => {
-            crate::emit::report::shifted(var, &rf(k, at, Style::Text), Style::Text)
-        }
+        Place::Point { at, .. } => crate::emit::report::shifted(var, &rf(k, at, Style::Text), Style::Text),
         _ => var.to_string(),
     };
     if p.formal.is_empty() && p.kind == crate::analysis::Kind::Irregular {
@@ -187,11 +174,7 @@ fn formal_text(k: &Field, var: &str, p: &SingularPoint) -> Vec<String> {
                     }
                 }
             }
-            let exp = if terms.is_empty() {
-                String::new()
-            } else {
-                format!("exp({sum})*")
-            };
+            let exp = if terms.is_empty() { String::new() } else { format!("exp({sum})*") };
             format!("{exp}{x}^({}) * (1 + ...)", rf(k, &f.rho, Style::Text))
         })
         .collect()
@@ -202,13 +185,7 @@ fn apparent_fields(k: &Field, a: &Apparent) -> (&'static str, Option<String>) {
         Apparent::NotApplicable => ("not applicable", None),
         Apparent::Yes => ("yes", None),
         Apparent::No => ("no", None),
-        Apparent::When(p) => (
-            "when",
-            Some(format!(
-                "{} = 0",
-                poly_text(p, &Int::ONE, k.names(), Style::Text)
-            )),
-        ),
+        Apparent::When(p) => ("when", Some(format!("{} = 0", poly_text(p, &Int::ONE, k.names(), Style::Text)))),
         Apparent::Unchecked(why) => ("unchecked", Some(why.clone())),
     }
 }
@@ -226,59 +203,30 @@ fn fmt_c(z: num_complex::Complex64) -> String {
 }
 
 /// The classification as plain text.
-pub fn analysis_text(
-    k: &Field,
-    var: &str,
-    a: &Analysis,
-    numeric: Option<&[NumericPoint]>,
-) -> String {
+pub fn analysis_text(k: &Field, var: &str, a: &Analysis, numeric: Option<&[NumericPoint]>) -> String {
     let s = Style::Text;
     let mut o = String::new();
-    o.push_str(&format!(
-        "class   {}  ({}: {})\n",
-        a.class,
-        class_name(&a.class),
-        a.reason
-    ));
+    o.push_str(&format!("class   {}  ({}: {})\n", a.class, class_name(&a.class), a.reason));
     for n in &a.notes {
         o.push_str(&format!("  note: {n}\n"));
     }
     o.push_str("\nsingular points (exponents of ψ and of the unknown; at ∞ in t = 1/z)\n");
     for (i, p) in a.points.iter().enumerate() {
-        let rank = if p.rank.is_zero() {
-            String::new()
-        } else {
-            format!(", rank {}", p.rank)
-        };
-        let removable = if p.removable {
-            "  (Q is regular here; only the prefactor is singular)"
-        } else {
-            ""
-        };
-        o.push_str(&format!(
-            "  {}\n    {}, pole order {} of Q{rank}{removable}\n",
-            where_text(k, var, p, s),
-            p.kind.word(),
-            p.pole_order
-        ));
+        let rank = if p.rank.is_zero() { String::new() } else { format!(", rank {}", p.rank) };
+        let removable = if p.removable { "  (Q is regular here; only the prefactor is singular)" } else { "" };
+        o.push_str(&format!("  {}\n    {}, pole order {} of Q{rank}{removable}\n", where_text(k, var, p, s), p.kind.word(), p.pole_order));
         if !p.exponents.is_empty() && p.kind != crate::analysis::Kind::Irregular {
             let e: Vec<String> = p.exponents.iter().map(|e| exponent_text(k, e, s)).collect();
             o.push_str(&format!("    ψ exponents:        {}\n", e.join(",  ")));
         }
         if !p.unknown_exponents.is_empty() {
-            let e: Vec<String> = p
-                .unknown_exponents
-                .iter()
-                .map(|e| exponent_text(k, e, s))
-                .collect();
+            let e: Vec<String> = p.unknown_exponents.iter().map(|e| exponent_text(k, e, s)).collect();
             o.push_str(&format!("    unknown exponents:  {}\n", e.join(",  ")));
         }
         if let Some(n) = p.integer_difference {
             let (w, cond) = apparent_fields(k, &p.apparent);
             let extra = cond.map(|c| format!(" ({c})")).unwrap_or_default();
-            o.push_str(&format!(
-                "    integer exponent difference {n}; apparent: {w}{extra}\n"
-            ));
+            o.push_str(&format!("    integer exponent difference {n}; apparent: {w}{extra}\n"));
         }
         for f in formal_text(k, var, p) {
             o.push_str(&format!("    formal solution:  ψ ~ {f}\n"));
@@ -286,16 +234,8 @@ pub fn analysis_text(
         if let Some(nums) = numeric {
             for np in nums.iter().filter(|np| np.index == i) {
                 let loc = np.value.map(fmt_c).unwrap_or_else(|| "∞".into());
-                let ex: Vec<String> = np
-                    .exponents
-                    .iter()
-                    .map(|e| e.map(fmt_c).unwrap_or_else(|| "?".into()))
-                    .collect();
-                let ux: Vec<String> = np
-                    .unknown_exponents
-                    .iter()
-                    .map(|e| e.map(fmt_c).unwrap_or_else(|| "?".into()))
-                    .collect();
+                let ex: Vec<String> = np.exponents.iter().map(|e| e.map(fmt_c).unwrap_or_else(|| "?".into())).collect();
+                let ux: Vec<String> = np.unknown_exponents.iter().map(|e| e.map(fmt_c).unwrap_or_else(|| "?".into())).collect();
                 o.push_str(&format!("    at {loc}:  ψ {}", ex.join(", ")));
                 if !ux.is_empty() {
                     o.push_str(&format!(";  unknown {}", ux.join(", ")));
@@ -310,22 +250,15 @@ pub fn analysis_text(
     o
 }
 
-const BRANCH_NOTE: &str = "square roots that are not exact were evaluated on the principal branch; the two exponents at a point may be swapped relative to another choice";
+const BRANCH_NOTE: &str =
+    "square roots that are not exact were evaluated on the principal branch; the two exponents at a point may be swapped relative to another choice";
 
 fn has_inexact_root(a: &Analysis) -> bool {
-    a.points
-        .iter()
-        .any(|p| p.exponents.iter().any(|e| e.sign != 0 && e.root.is_none()))
+    a.points.iter().any(|p| p.exponents.iter().any(|e| e.sign != 0 && e.root.is_none()))
 }
 
 /// The classification as JSON (schema in the module documentation).
-pub fn analysis_json(
-    k: &Field,
-    var: &str,
-    params: &[String],
-    a: &Analysis,
-    numeric: Option<&[NumericPoint]>,
-) -> Value {
+pub fn analysis_json(k: &Field, var: &str, params: &[String], a: &Analysis, numeric: Option<&[NumericPoint]>) -> Value {
     let s = Style::Text;
     let mut pts = Vec::new();
     for (i, p) in a.points.iter().enumerate() {
@@ -341,10 +274,11 @@ pub fn analysis_json(
             None => vec![None],
         };
         for np in rows {
-            let ex = |list: &[Exponent],
-                      vals: Option<&Vec<Option<num_complex::Complex64>>>|
-             -> Vec<Value> {
-                list.iter().enumerate().map(|(j, e)| json!({"exact": exponent_text(k, e, s), "value": c2(vals.and_then(|v| v.get(j).copied().flatten()))})).collect()
+            let ex = |list: &[Exponent], vals: Option<&Vec<Option<num_complex::Complex64>>>| -> Vec<Value> {
+                list.iter()
+                    .enumerate()
+                    .map(|(j, e)| json!({"exact": exponent_text(k, e, s), "value": c2(vals.and_then(|v| v.get(j).copied().flatten()))}))
+                    .collect()
             };
             let (app, cond) = apparent_fields(k, &p.apparent);
             pts.push(json!({
@@ -373,5 +307,73 @@ pub fn analysis_json(
         "parameters": params,
         "singular_points": pts,
         "branch_note": if numeric.is_some() && has_inexact_root(a) { Value::String(BRANCH_NOTE.into()) } else { Value::Null },
+    })
+}
+
+/// A canonical parameter as exact text.
+pub(crate) fn param_text(k: &Field, p: &Param) -> String {
+    match p {
+        Param::Exact(r) => rf(k, r, Style::Text),
+        Param::Radical(c, r) => {
+            let root = format!("sqrt({})", rf(k, r, Style::Text));
+            if *c == RatFunc::one() {
+                root
+            } else {
+                format!("{}*{root}", paren(rf(k, c, Style::Text)))
+            }
+        }
+        Param::Root(e) => exponent_text(k, e, Style::Text),
+    }
+}
+
+/// Numeric value of a canonical parameter (principal branch for radicals).
+pub(crate) fn param_value(vals: &crate::analysis::numeric::Values, p: &Param) -> Option<num_complex::Complex64> {
+    match p {
+        Param::Exact(r) => vals.ratfunc(r),
+        Param::Radical(c, r) => Some(vals.ratfunc(c)? * vals.ratfunc(r)?.sqrt()),
+        Param::Root(e) => vals.exponent(e, num_complex::Complex64::new(0.0, 0.0)),
+    }
+}
+
+/// The canonical form as text lines.
+pub fn canonical_text(k: &Field, unknown: &str, c: &Canonical, vals: Option<&crate::analysis::numeric::Values>) -> String {
+    let mut o = String::new();
+    o.push_str(&format!("\ncanonical form   {} ({}):  {}\n", class_name(&c.form), c.source, c.equation));
+    o.push_str(&format!("  map          {}\n", c.map));
+    if c.prefactor == "1" {
+        o.push_str(&format!("  prefactor    none: {unknown} = w\n"));
+    } else {
+        o.push_str(&format!("  prefactor    {unknown} = {} * w\n", c.prefactor));
+    }
+    for ch in &c.choices {
+        o.push_str(&format!("  choice       {ch}\n"));
+    }
+    o.push_str("  parameters\n");
+    for (n, p) in &c.parameters {
+        let v = vals.and_then(|v| param_value(v, p)).map(|z| format!("   ≈ {}", fmt_c(z))).unwrap_or_default();
+        o.push_str(&format!("    {n} = {}{v}\n", param_text(k, p)));
+    }
+    for ch in &c.checks {
+        o.push_str(&format!("  check        {ch}\n"));
+    }
+    o
+}
+
+/// The canonical form as JSON: {`form`, `source`, `equation`, `map`, `prefactor`,
+/// `choices`, `checks`, `parameters` {name: {`exact`, `value`}}}.
+pub fn canonical_json(k: &Field, c: &Canonical, vals: Option<&crate::analysis::numeric::Values>) -> Value {
+    let mut params = serde_json::Map::new();
+    for (n, p) in &c.parameters {
+        params.insert(n.clone(), json!({"exact": param_text(k, p), "value": c2(vals.and_then(|v| param_value(v, p)))}));
+    }
+    json!({
+        "form": c.form,
+        "source": c.source,
+        "equation": c.equation,
+        "map": c.map,
+        "prefactor": c.prefactor,
+        "choices": c.choices,
+        "checks": c.checks,
+        "parameters": Value::Object(params),
     })
 }

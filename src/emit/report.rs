@@ -30,9 +30,7 @@ fn pt(r: &Reduction, x: &Poly, style: Style) -> String {
 }
 
 fn wrap(s: String, style: Style) -> String {
-    if s.chars()
-        .all(|c| c.is_alphanumeric() || c == '_' || c == '\\' || c == '{' || c == '}')
-    {
+    if s.chars().all(|c| c.is_alphanumeric() || c == '_' || c == '\\' || c == '{' || c == '}') {
         s
     } else {
         match style {
@@ -83,17 +81,11 @@ pub(crate) fn prefactor_text(r: &Reduction, pf: &Prefactor, style: Style) -> Str
         Style::Latex => crate::algebra::print::latex_name(&r.var),
     };
     for (f, e, a) in &pf.unevaluated {
-        let fe = if *e == 1 {
-            wrap(pt(r, f, style), style)
-        } else {
-            format!("{}^{e}", wrap(pt(r, f, style), style))
-        };
+        let fe = if *e == 1 { wrap(pt(r, f, style), style) } else { format!("{}^{e}", wrap(pt(r, f, style), style)) };
         let num = rt(r, a, style);
         parts.push(match style {
             Style::Text => format!("exp(-1/2*integral(({num})/{fe}, {var}))"),
-            Style::Latex => format!(
-                "\\exp\\left(-\\frac{{1}}{{2}}\\int \\frac{{{num}}}{{{fe}}}\\,d{var}\\right)"
-            ),
+            Style::Latex => format!("\\exp\\left(-\\frac{{1}}{{2}}\\int \\frac{{{num}}}{{{fe}}}\\,d{var}\\right)"),
         });
     }
     if parts.is_empty() {
@@ -111,12 +103,7 @@ fn principal_rows(r: &Reduction, style: Style) -> Vec<(String, Vec<(i64, String)
         .iter()
         .map(|pp| {
             let at = rt(r, &pp.point, style);
-            let rows = pp
-                .coeffs
-                .iter()
-                .enumerate()
-                .map(|(j, c)| (-(pp.order as i64) + j as i64, rt(r, c, style)))
-                .collect();
+            let rows = pp.coeffs.iter().enumerate().map(|(j, c)| (-(pp.order as i64) + j as i64, rt(r, c, style))).collect();
             (at, rows)
         })
         .collect()
@@ -129,45 +116,21 @@ pub fn reduction_text(r: &Reduction, source_name: &str) -> String {
     let ode = &r.ode;
     o.push_str(&format!("equation      {source_name}\n"));
     o.push_str(&format!("unknown       {}({})\n", ode.unknown, ode.var));
-    o.push_str(&format!(
-        "parameters    {}\n",
-        if ode.params.is_empty() {
-            "(none)".to_string()
-        } else {
-            ode.params.join(", ")
-        }
-    ));
+    o.push_str(&format!("parameters    {}\n", if ode.params.is_empty() { "(none)".to_string() } else { ode.params.join(", ") }));
     if !ode.inferred.is_empty() {
-        o.push_str(&format!(
-            "inferred      {} (undeclared names taken as parameters)\n",
-            ode.inferred.join(", ")
-        ));
+        o.push_str(&format!("inferred      {} (undeclared names taken as parameters)\n", ode.inferred.join(", ")));
     }
     if let Some(c) = &r.change {
-        o.push_str(&format!(
-            "\nchange of variable   {} = {}\n",
-            c.old_var,
-            rt(r, &c.g, s)
-        ));
-        o.push_str(&format!(
-            "  Schwarzian {{{}, {}}} = {}\n",
-            c.old_var,
-            c.new_var,
-            rt(r, &c.schwarzian, s)
-        ));
+        o.push_str(&format!("\nchange of variable   {} = {}\n", c.old_var, rt(r, &c.g, s)));
+        o.push_str(&format!("  Schwarzian {{{}, {}}} = {}\n", c.old_var, c.new_var, rt(r, &c.schwarzian, s)));
     }
     let u = &ode.unknown;
     let v = &r.var;
-    o.push_str(&format!(
-        "\nstandard form   {u}'' + p*{u}' + q*{u} = 0   (derivatives in {v})\n"
-    ));
+    o.push_str(&format!("\nstandard form   {u}'' + p*{u}' + q*{u} = 0   (derivatives in {v})\n"));
     o.push_str(&format!("  p = {}\n", rt(r, &r.p, s)));
     o.push_str(&format!("  q = {}\n", rt(r, &r.q, s)));
     o.push_str(&format!("\nnormal form   ψ'' + Q*ψ = 0,   {u} = P*ψ\n"));
-    o.push_str(&format!(
-        "  Q = N/D\n  N = {}\n",
-        poly_text(r.normal.q.num(), r.normal.q.scale(), &names(r), s)
-    ));
+    o.push_str(&format!("  Q = N/D\n  N = {}\n", poly_text(r.normal.q.num(), r.normal.q.scale(), &names(r), s)));
     o.push_str(&format!("  D = {}\n", den_text(&r.normal.q, &names(r), s)));
     let rows = principal_rows(r, s);
     if !rows.is_empty() {
@@ -179,24 +142,14 @@ pub fn reduction_text(r: &Reduction, source_name: &str) -> String {
             }
         }
     }
-    o.push_str(&format!(
-        "\nprefactor   P = exp(-1/2*integral(p)) = {}\n",
-        prefactor_text(r, &r.normal.prefactor, s)
-    ));
+    o.push_str(&format!("\nprefactor   P = exp(-1/2*integral(p)) = {}\n", prefactor_text(r, &r.normal.prefactor, s)));
     if let Some(sch) = &r.schrodinger {
-        o.push_str(&format!(
-            "\nSchrödinger form   d²φ/dx² + (ω² − V)*φ = 0,   dx/d{v} = {}\n",
-            rt(r, &sch.dxdz, s)
-        ));
+        o.push_str(&format!("\nSchrödinger form   d²φ/dx² + (ω² − V)*φ = 0,   dx/d{v} = {}\n", rt(r, &sch.dxdz, s)));
         match &sch.frequency {
             Some(f) => o.push_str(&format!("  frequency {f}:  V = {f}^2 - W\n")),
             None => o.push_str("  no frequency parameter: V = -W\n"),
         }
-        o.push_str(&format!(
-            "  W = {}\n  V = {}\n",
-            rt(r, &sch.w, s),
-            rt(r, &sch.v, s)
-        ));
+        o.push_str(&format!("  W = {}\n  V = {}\n", rt(r, &sch.w, s), rt(r, &sch.v, s)));
         if sch.v_depends_on_frequency {
             o.push_str("  note: V depends on the frequency (an energy-dependent potential)\n");
         }
@@ -211,70 +164,41 @@ pub fn reduction_latex(r: &Reduction) -> String {
     let v = crate::algebra::print::latex_name(&r.var);
     let mut lines = Vec::new();
     if let Some(c) = &r.change {
-        lines.push(format!(
-            "{} &= {}",
-            crate::algebra::print::latex_name(&c.old_var),
-            rt(r, &c.g, s)
-        ));
+        lines.push(format!("{} &= {}", crate::algebra::print::latex_name(&c.old_var), rt(r, &c.g, s)));
     }
-    lines.push(format!(
-        "{u}'' + p\\,{u}' + q\\,{u} &= 0, \\qquad ' = \\frac{{d}}{{d{v}}}"
-    ));
+    lines.push(format!("{u}'' + p\\,{u}' + q\\,{u} &= 0, \\qquad ' = \\frac{{d}}{{d{v}}}"));
     lines.push(format!("p &= {}", rt(r, &r.p, s)));
     lines.push(format!("q &= {}", rt(r, &r.q, s)));
-    lines.push(format!(
-        "{u} &= {}\\,\\psi, \\qquad \\psi'' + Q\\,\\psi = 0",
-        prefactor_text(r, &r.normal.prefactor, s)
-    ));
+    lines.push(format!("{u} &= {}\\,\\psi, \\qquad \\psi'' + Q\\,\\psi = 0", prefactor_text(r, &r.normal.prefactor, s)));
     lines.push(format!("Q &= {}", rt(r, &r.normal.q, s)));
     for (at, cs) in principal_rows(r, s) {
-        let terms: Vec<String> = cs
-            .iter()
-            .map(|(pw, c)| format!("\\left({c}\\right){}^{{{pw}}}", shifted(&v, &at, s)))
-            .collect();
-        lines.push(format!(
-            "Q &= {} + O(1) \\quad ({v} \\to {at})",
-            terms.join(" + ")
-        ));
+        let terms: Vec<String> = cs.iter().map(|(pw, c)| format!("\\left({c}\\right){}^{{{pw}}}", shifted(&v, &at, s))).collect();
+        lines.push(format!("Q &= {} + O(1) \\quad ({v} \\to {at})", terms.join(" + ")));
     }
     if let Some(sch) = &r.schrodinger {
         lines.push(format!("\\frac{{dx}}{{d{v}}} &= {}", rt(r, &sch.dxdz, s)));
         lines.push(format!("V &= {}", rt(r, &sch.v, s)));
     }
-    format!(
-        "\\begin{{align*}}\n{}\n\\end{{align*}}\n",
-        lines.join(" \\\\\n")
-    )
+    format!("\\begin{{align*}}\n{}\n\\end{{align*}}\n", lines.join(" \\\\\n"))
 }
 
 /// The derivation as JSON (schema in the module documentation).
 pub fn reduction_json(r: &Reduction) -> Value {
     let s = Style::Text;
     let nf = &r.normal;
-    let factors: Vec<Value> =
-        nf.q.den_factors()
-            .iter()
-            .map(|(f, e)| json!({"factor": pt(r, f.poly(), s), "power": e}))
-            .collect();
+    let factors: Vec<Value> = nf.q.den_factors().iter().map(|(f, e)| json!({"factor": pt(r, f.poly(), s), "power": e})).collect();
     let principal: Vec<Value> = nf
         .principal
         .iter()
         .map(|pp| {
-            let cs: Vec<Value> = pp.coeffs.iter().enumerate().map(|(j, c)| json!({"power": -(pp.order as i64) + j as i64, "coefficient": rt(r, c, s)})).collect();
+            let cs: Vec<Value> =
+                pp.coeffs.iter().enumerate().map(|(j, c)| json!({"power": -(pp.order as i64) + j as i64, "coefficient": rt(r, c, s)})).collect();
             json!({"at": rt(r, &pp.point, s), "factor": pt(r, &pp.factor, s), "order": pp.order, "coefficients": cs})
         })
         .collect();
     let pf = &nf.prefactor;
-    let powers: Vec<Value> = pf
-        .powers
-        .iter()
-        .map(|(f, e)| json!({"base": pt(r, f, s), "exponent": rt(r, e, s)}))
-        .collect();
-    let unev: Vec<Value> = pf
-        .unevaluated
-        .iter()
-        .map(|(f, e, a)| json!({"factor": pt(r, f, s), "power": e, "numerator": rt(r, a, s)}))
-        .collect();
+    let powers: Vec<Value> = pf.powers.iter().map(|(f, e)| json!({"base": pt(r, f, s), "exponent": rt(r, e, s)})).collect();
+    let unev: Vec<Value> = pf.unevaluated.iter().map(|(f, e, a)| json!({"factor": pt(r, f, s), "power": e, "numerator": rt(r, a, s)})).collect();
     let change = match &r.change {
         Some(c) => {
             json!({"old": c.old_var, "new": c.new_var, "map": rt(r, &c.g, s), "schwarzian": rt(r, &c.schwarzian, s)})

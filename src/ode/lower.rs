@@ -57,10 +57,7 @@ impl Value {
         self.lin.iter().all(Quasi::is_zero)
     }
     fn constant(q: Quasi) -> Value {
-        Value {
-            free: q,
-            lin: Vec::new(),
-        }
+        Value { free: q, lin: Vec::new() }
     }
 }
 
@@ -84,119 +81,71 @@ pub fn lower_program(program: &Program, mode: NameMode, limits: &Limits) -> Resu
     let mut unknown: Option<(String, Span)> = None;
     let mut ode: Option<(&Expr, &Expr, Span)> = None;
     let mut let_names: Vec<(String, Span)> = Vec::new();
-    let declared = |name: &str,
-                    params: &[(String, Span)],
-                    var: &Option<(String, Span)>,
-                    lets: &[(String, Span)]| {
-        params
-            .iter()
-            .find(|(n, _)| n == name)
-            .map(|(_, s)| ("a parameter", *s))
-            .or_else(|| {
-                var.as_ref()
-                    .filter(|(n, _)| n == name)
-                    .map(|(_, s)| ("the variable", *s))
-                    .or_else(|| {
-                        lets.iter()
-                            .find(|(n, _)| n == name)
-                            .map(|(_, s)| ("a let", *s))
-                    })
-            })
+    let declared = |name: &str, params: &[(String, Span)], var: &Option<(String, Span)>, lets: &[(String, Span)]| {
+        params.iter().find(|(n, _)| n == name).map(|(_, s)| ("a parameter", *s)).or_else(|| {
+            var.as_ref()
+                .filter(|(n, _)| n == name)
+                .map(|(_, s)| ("the variable", *s))
+                .or_else(|| lets.iter().find(|(n, _)| n == name).map(|(_, s)| ("a let", *s)))
+        })
     };
     for st in &program.statements {
         match st {
             Statement::Var(id) => {
                 if let Some((_, first)) = &var {
                     let _ = first;
-                    return Err(err(
-                        ErrorKind::Structure,
-                        "a second 'var' statement: the equation has one independent variable",
-                        id.span,
-                    ));
+                    return Err(err(ErrorKind::Structure, "a second 'var' statement: the equation has one independent variable", id.span));
                 }
                 if let Some((what, _)) = declared(&id.name, &params, &var, &let_names) {
-                    return Err(err(
-                        ErrorKind::Structure,
-                        format!("'{}' is already declared as {what}", id.name),
-                        id.span,
-                    ));
+                    return Err(err(ErrorKind::Structure, format!("'{}' is already declared as {what}", id.name), id.span));
                 }
                 var = Some((id.name.clone(), id.span));
             }
             Statement::Param(ids) => {
                 for id in ids {
                     if let Some((what, _)) = declared(&id.name, &params, &var, &let_names) {
-                        return Err(err(
-                            ErrorKind::Structure,
-                            format!("'{}' is already declared as {what}", id.name),
-                            id.span,
-                        ));
+                        return Err(err(ErrorKind::Structure, format!("'{}' is already declared as {what}", id.name), id.span));
                     }
                     params.push((id.name.clone(), id.span));
                 }
             }
             Statement::Let { name, .. } => {
                 if let Some((what, _)) = declared(&name.name, &params, &var, &let_names) {
-                    return Err(err(
-                        ErrorKind::Structure,
-                        format!("'{}' is already declared as {what}", name.name),
-                        name.span,
-                    ));
+                    return Err(err(ErrorKind::Structure, format!("'{}' is already declared as {what}", name.name), name.span));
                 }
                 let_names.push((name.name.clone(), name.span));
             }
             Statement::Unknown(id) => {
                 if unknown.is_some() {
-                    return Err(err(
-                        ErrorKind::Structure,
-                        "a second 'unknown' statement",
-                        id.span,
-                    ));
+                    return Err(err(ErrorKind::Structure, "a second 'unknown' statement", id.span));
                 }
                 unknown = Some((id.name.clone(), id.span));
             }
             Statement::Ode { lhs, rhs, span } => {
                 if ode.is_some() {
-                    return Err(err(
-                        ErrorKind::Structure,
-                        "a second 'ode' statement: a file holds one equation",
-                        *span,
-                    ));
+                    return Err(err(ErrorKind::Structure, "a second 'ode' statement: a file holds one equation", *span));
                 }
                 ode = Some((lhs, rhs, *span));
             }
         }
     }
     let Some((lhs, rhs, ode_span)) = ode else {
-        return Err(Error::new(
-            ErrorKind::Structure,
-            "no 'ode' statement: nothing to reduce",
-        )
-        .note("write the equation as: ode LHS = RHS"));
+        return Err(Error::new(ErrorKind::Structure, "no 'ode' statement: nothing to reduce").note("write the equation as: ode LHS = RHS"));
     };
     let (var, _) = match var {
         Some(v) => v,
         None => {
-            return Err(Error::new(
-                ErrorKind::Structure,
-                "no 'var' statement: the independent variable is not named",
-            )
-            .at(Span::new(ode_span.start, ode_span.start + 3))
-            .note("add a line such as: var r"))
+            return Err(Error::new(ErrorKind::Structure, "no 'var' statement: the independent variable is not named")
+                .at(Span::new(ode_span.start, ode_span.start + 3))
+                .note("add a line such as: var r"))
         }
     };
     // The unknown: explicit, or the one name that carries primes in the equation.
-    let known = |n: &str| {
-        n == var || params.iter().any(|(p, _)| p == n) || let_names.iter().any(|(l, _)| l == n)
-    };
+    let known = |n: &str| n == var || params.iter().any(|(p, _)| p == n) || let_names.iter().any(|(l, _)| l == n);
     let unknown = match unknown {
         Some((u, s)) => {
             if known(&u) {
-                return Err(err(
-                    ErrorKind::Structure,
-                    format!("the unknown '{u}' is also declared as another name"),
-                    s,
-                ));
+                return Err(err(ErrorKind::Structure, format!("the unknown '{u}' is also declared as another name"), s));
             }
             u
         }
@@ -214,14 +163,22 @@ pub fn lower_program(program: &Program, mode: NameMode, limits: &Limits) -> Resu
             }
             match names.len() {
                 0 => {
-                    return Err(err(ErrorKind::NotSecondOrder, "no unknown function: no undeclared name carries a derivative (') in the equation", ode_span)
-                        .note("write the unknown with primes, e.g. y'' + q*y = 0, or name it with: unknown y"))
+                    return Err(err(
+                        ErrorKind::NotSecondOrder,
+                        "no unknown function: no undeclared name carries a derivative (') in the equation",
+                        ode_span,
+                    )
+                    .note("write the unknown with primes, e.g. y'' + q*y = 0, or name it with: unknown y"))
                 }
                 1 => names.remove(0).0,
                 _ => {
                     let list: Vec<String> = names.iter().map(|(n, _)| format!("'{n}'")).collect();
-                    return Err(err(ErrorKind::Structure, format!("more than one undeclared name carries a derivative: {}", list.join(", ")), names[1].1)
-                        .note("declare the others with 'param' or 'let', or name the unknown with: unknown NAME"));
+                    return Err(err(
+                        ErrorKind::Structure,
+                        format!("more than one undeclared name carries a derivative: {}", list.join(", ")),
+                        names[1].1,
+                    )
+                    .note("declare the others with 'param' or 'let', or name the unknown with: unknown NAME"));
                 }
             }
         }
@@ -249,16 +206,8 @@ pub fn lower_program(program: &Program, mode: NameMode, limits: &Limits) -> Resu
     let param_names: Vec<String> = params.iter().map(|(n, _)| n.clone()).collect();
     let mut names = vec![var.clone()];
     names.extend(param_names.iter().cloned());
-    let field = Field::new(names, limits.clone())
-        .map_err(|e| e.or_at(params.last().map(|p| p.1).unwrap_or(ode_span)))?;
-    let mut lw = Lowerer {
-        field,
-        atoms: Atoms::default(),
-        lets: BTreeMap::new(),
-        params: &param_names,
-        var: &var,
-        unknown: &unknown,
-    };
+    let field = Field::new(names, limits.clone()).map_err(|e| e.or_at(params.last().map(|p| p.1).unwrap_or(ode_span)))?;
+    let mut lw = Lowerer { field, atoms: Atoms::default(), lets: BTreeMap::new(), params: &param_names, var: &var, unknown: &unknown };
     let mut lets_out = Vec::new();
     for st in &program.statements {
         if let Statement::Let { name, value } = st {
@@ -271,16 +220,7 @@ pub fn lower_program(program: &Program, mode: NameMode, limits: &Limits) -> Resu
     }
     let (p, q) = lw.equation(lhs, rhs, ode_span)?;
     let Lowerer { field, .. } = lw;
-    Ok(LinearOde {
-        field,
-        var,
-        unknown,
-        params: param_names,
-        inferred,
-        p,
-        q,
-        lets: lets_out,
-    })
+    Ok(LinearOde { field, var, unknown, params: param_names, inferred, p, q, lets: lets_out })
 }
 
 fn collect_primed(e: &Expr, out: &mut Vec<(String, Span)>) {
@@ -351,38 +291,26 @@ impl<'a> Lowerer<'a> {
         }
         if !total.free.is_zero() {
             let at = free_spans.first().copied().unwrap_or(span);
-            return Err(err(ErrorKind::Inhomogeneous, format!("the equation is inhomogeneous: this term does not contain the unknown '{}'", self.unknown), at)
-                .note("canonode reduces homogeneous linear equations: every term must be proportional to the unknown or one of its derivatives"));
+            return Err(err(
+                ErrorKind::Inhomogeneous,
+                format!("the equation is inhomogeneous: this term does not contain the unknown '{}'", self.unknown),
+                at,
+            )
+            .note("canonode reduces homogeneous linear equations: every term must be proportional to the unknown or one of its derivatives"));
         }
         let order = total.lin.iter().rposition(|c| !c.is_zero());
         match order {
-            None => {
-                return Err(err(
-                    ErrorKind::NotSecondOrder,
-                    format!("the unknown '{}' cancels out of the equation", self.unknown),
-                    span,
-                ))
-            }
+            None => return Err(err(ErrorKind::NotSecondOrder, format!("the unknown '{}' cancels out of the equation", self.unknown), span)),
             Some(0) | Some(1) => {
                 return Err(err(
                     ErrorKind::NotSecondOrder,
-                    format!(
-                        "the equation is of order {} in '{}', not 2",
-                        order.unwrap_or(0),
-                        self.unknown
-                    ),
+                    format!("the equation is of order {} in '{}', not 2", order.unwrap_or(0), self.unknown),
                     span,
                 )
                 .note("canonode handles second-order equations"))
             }
             Some(2) => {}
-            Some(n) => {
-                return Err(err(
-                    ErrorKind::NotSecondOrder,
-                    format!("the equation is of order {n} in '{}', not 2", self.unknown),
-                    span,
-                ))
-            }
+            Some(n) => return Err(err(ErrorKind::NotSecondOrder, format!("the equation is of order {n} in '{}', not 2", self.unknown), span)),
         }
         let a2 = total.lin[2].clone();
         let a1 = total.lin.get(1).cloned().unwrap_or_default();
@@ -393,10 +321,7 @@ impl<'a> Lowerer<'a> {
                     &self.field,
                     &a2,
                     span,
-                    &format!(
-                        "the coefficient of {}'' is not a rational function times a single power",
-                        self.unknown
-                    ),
+                    &format!("the coefficient of {}'' is not a rational function times a single power", self.unknown),
                 )
             } else {
                 e
@@ -409,10 +334,7 @@ impl<'a> Lowerer<'a> {
                 &self.field,
                 &p,
                 span,
-                &format!(
-                    "the coefficient of {}' divided by that of {}'' is not rational in {}",
-                    self.unknown, self.unknown, self.var
-                ),
+                &format!("the coefficient of {}' divided by that of {}'' is not rational in {}", self.unknown, self.unknown, self.var),
             )
         })?;
         let q = q.as_rat().ok_or_else(|| {
@@ -420,10 +342,7 @@ impl<'a> Lowerer<'a> {
                 &self.field,
                 &q,
                 span,
-                &format!(
-                    "the coefficient of {} divided by that of {}'' is not rational in {}",
-                    self.unknown, self.unknown, self.var
-                ),
+                &format!("the coefficient of {} divided by that of {}'' is not rational in {}", self.unknown, self.unknown, self.var),
             )
         })?;
         Ok((p, q))
@@ -438,18 +357,12 @@ impl<'a> Lowerer<'a> {
             let y = b.lin.get(i).cloned().unwrap_or_default();
             lin.push(x.add(k, &y)?);
         }
-        Ok(Value {
-            free: a.free.add(k, &b.free)?,
-            lin,
-        })
+        Ok(Value { free: a.free.add(k, &b.free)?, lin })
     }
 
     fn neg(&self, a: &Value) -> Value {
         let k = self.k();
-        Value {
-            free: a.free.neg(k),
-            lin: a.lin.iter().map(|c| c.neg(k)).collect(),
-        }
+        Value { free: a.free.neg(k), lin: a.lin.iter().map(|c| c.neg(k)).collect() }
     }
 
     fn mul(&self, a: &Value, b: &Value, span: Span) -> Result<Value> {
@@ -490,11 +403,7 @@ impl<'a> Lowerer<'a> {
             if lin.len() > MAX_ORDER {
                 return Err(err(
                     ErrorKind::NotSecondOrder,
-                    format!(
-                        "derivatives of '{}' of order above {} are not supported",
-                        self.unknown,
-                        MAX_ORDER - 1
-                    ),
+                    format!("derivatives of '{}' of order above {} are not supported", self.unknown, MAX_ORDER - 1),
                     span,
                 ));
             }
@@ -511,19 +420,11 @@ impl<'a> Lowerer<'a> {
     fn expr_inner(&mut self, e: &Expr) -> Result<Value> {
         match &e.kind {
             ExprKind::Number(text) => {
-                let r = Rat::parse_decimal(text).ok_or_else(|| {
-                    err(
-                        ErrorKind::Syntax,
-                        format!("'{text}' is not a number canonode can read exactly"),
-                        e.span,
-                    )
-                })?;
+                let r = Rat::parse_decimal(text)
+                    .ok_or_else(|| err(ErrorKind::Syntax, format!("'{text}' is not a number canonode can read exactly"), e.span))?;
                 Ok(Value::constant(Quasi::rat(RatFunc::rat(&r))))
             }
-            ExprKind::Imag => Ok(Value::constant(Quasi::rat(RatFunc::constant(&GRat {
-                re: Rat::zero(),
-                im: Rat::one(),
-            })))),
+            ExprKind::Imag => Ok(Value::constant(Quasi::rat(RatFunc::constant(&GRat { re: Rat::zero(), im: Rat::one() })))),
             ExprKind::Name(n) => self.name(n, e.span),
             ExprKind::Neg(a) => {
                 let v = self.expr(a)?;
@@ -541,18 +442,10 @@ impl<'a> Lowerer<'a> {
                     BinOp::Mul => self.mul(&x, &y, e.span),
                     BinOp::Div => {
                         if !y.is_linear_free() {
-                            return Err(err(
-                                ErrorKind::Nonlinear,
-                                format!("the unknown '{}' appears in a denominator", self.unknown),
-                                b.span,
-                            ));
+                            return Err(err(ErrorKind::Nonlinear, format!("the unknown '{}' appears in a denominator", self.unknown), b.span));
                         }
                         if y.free.is_zero() {
-                            return Err(err(
-                                ErrorKind::DivisionByZero,
-                                "division by zero: the denominator is identically zero",
-                                b.span,
-                            ));
+                            return Err(err(ErrorKind::DivisionByZero, "division by zero: the denominator is identically zero", b.span));
                         }
                         let inv = self.atoms.inv(&self.field, &y.free, b.span)?;
                         self.mul(&x, &Value::constant(inv), e.span)
@@ -562,16 +455,18 @@ impl<'a> Lowerer<'a> {
             }
             ExprKind::Prime(a, n) => {
                 if *n as usize > MAX_ORDER {
-                    return Err(err(ErrorKind::NotSecondOrder, format!("a derivative of order {n} is not supported (the equation must be of order 2)"), e.span));
+                    return Err(err(
+                        ErrorKind::NotSecondOrder,
+                        format!("a derivative of order {n} is not supported (the equation must be of order 2)"),
+                        e.span,
+                    ));
                 }
                 let v = self.expr(a)?;
                 self.deriv(&v, *n, e.span)
             }
             ExprKind::Sqrt(a) => {
                 let x = self.expr(a)?;
-                let half = Value::constant(Quasi::rat(RatFunc::rat(
-                    &Rat::new(1.into(), 2.into()).expect("2 is nonzero"),
-                )));
+                let half = Value::constant(Quasi::rat(RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("2 is nonzero"))));
                 self.pow(&x, &half, a.span, a.span, e.span)
             }
         }
@@ -588,44 +483,23 @@ impl<'a> Lowerer<'a> {
             return Ok(v.clone());
         }
         if n == self.unknown {
-            return Ok(Value {
-                free: Quasi::zero(),
-                lin: vec![Quasi::rat(RatFunc::one())],
-            });
+            return Ok(Value { free: Quasi::zero(), lin: vec![Quasi::rat(RatFunc::one())] });
         }
-        Err(err(ErrorKind::UnknownName, format!("unknown name '{n}'"), span).note("declare it with 'param', define it with 'let' before this line, or check the spelling"))
+        Err(err(ErrorKind::UnknownName, format!("unknown name '{n}'"), span)
+            .note("declare it with 'param', define it with 'let' before this line, or check the spelling"))
     }
 
-    fn pow(
-        &mut self,
-        base: &Value,
-        exp: &Value,
-        bspan: Span,
-        espan: Span,
-        span: Span,
-    ) -> Result<Value> {
+    fn pow(&mut self, base: &Value, exp: &Value, bspan: Span, espan: Span, span: Span) -> Result<Value> {
         if !exp.is_linear_free() {
-            return Err(err(
-                ErrorKind::Nonlinear,
-                format!("the unknown '{}' appears in an exponent", self.unknown),
-                espan,
-            ));
+            return Err(err(ErrorKind::Nonlinear, format!("the unknown '{}' appears in an exponent", self.unknown), espan));
         }
         let Some(e) = exp.free.as_rat() else {
-            return Err(self.atoms.not_rational(
-                &self.field,
-                &exp.free,
-                espan,
-                "an exponent must be a rational function of the parameters",
-            ));
+            return Err(self.atoms.not_rational(&self.field, &exp.free, espan, "an exponent must be a rational function of the parameters"));
         };
         if e.uses_var(0) {
             return Err(err(
                 ErrorKind::NotRational,
-                format!(
-                    "the exponent depends on the variable '{}', so the power is not rational in it",
-                    self.var
-                ),
+                format!("the exponent depends on the variable '{}', so the power is not rational in it", self.var),
                 espan,
             ));
         }
@@ -638,10 +512,7 @@ impl<'a> Lowerer<'a> {
             }
             return Err(err(
                 ErrorKind::Nonlinear,
-                format!(
-                    "the equation is nonlinear in '{}': the unknown is raised to a power",
-                    self.unknown
-                ),
+                format!("the equation is nonlinear in '{}': the unknown is raised to a power", self.unknown),
                 span,
             ));
         }
@@ -653,41 +524,21 @@ impl<'a> Lowerer<'a> {
 
 /// Lowers one expression free of the unknown (a command-line value such as a
 /// change of variable or dx/dz) against an equation's names and `let`s.
-pub(crate) fn lower_rational(
-    field: &Field,
-    names: &[String],
-    lets: &[(String, RatFunc)],
-    e: &Expr,
-) -> Result<RatFunc> {
+pub(crate) fn lower_rational(field: &Field, names: &[String], lets: &[(String, RatFunc)], e: &Expr) -> Result<RatFunc> {
     // Names map to variables of `field` by position in `names`; lets by value.
-    fn go(
-        field: &Field,
-        names: &[String],
-        lets: &[(String, RatFunc)],
-        atoms: &mut Atoms,
-        e: &Expr,
-    ) -> Result<Quasi> {
+    fn go(field: &Field, names: &[String], lets: &[(String, RatFunc)], atoms: &mut Atoms, e: &Expr) -> Result<Quasi> {
         let r = match &e.kind {
             ExprKind::Number(t) => {
-                Quasi::rat(RatFunc::rat(&Rat::parse_decimal(t).ok_or_else(|| {
-                    err(ErrorKind::Syntax, format!("'{t}' is not a number"), e.span)
-                })?))
+                Quasi::rat(RatFunc::rat(&Rat::parse_decimal(t).ok_or_else(|| err(ErrorKind::Syntax, format!("'{t}' is not a number"), e.span))?))
             }
-            ExprKind::Imag => Quasi::rat(RatFunc::constant(&GRat {
-                re: Rat::zero(),
-                im: Rat::one(),
-            })),
+            ExprKind::Imag => Quasi::rat(RatFunc::constant(&GRat { re: Rat::zero(), im: Rat::one() })),
             ExprKind::Name(n) => {
                 if let Some(i) = names.iter().position(|x| x == n) {
                     Quasi::rat(field.var(i))
                 } else if let Some((_, v)) = lets.iter().find(|(x, _)| x == n) {
                     Quasi::rat(v.clone())
                 } else {
-                    return Err(err(
-                        ErrorKind::UnknownName,
-                        format!("unknown name '{n}'"),
-                        e.span,
-                    ));
+                    return Err(err(ErrorKind::UnknownName, format!("unknown name '{n}'"), e.span));
                 }
             }
             ExprKind::Neg(a) => go(field, names, lets, atoms, a)?.neg(field),
@@ -703,13 +554,10 @@ pub(crate) fn lower_rational(
                         atoms.mul(field, &x, &inv)?
                     }
                     BinOp::Pow => {
-                        let ex = y.as_rat().filter(|r| !r.uses_var(0)).ok_or_else(|| {
-                            err(
-                                ErrorKind::NotRational,
-                                "an exponent must be free of the variable",
-                                b.span,
-                            )
-                        })?;
+                        let ex = y
+                            .as_rat()
+                            .filter(|r| !r.uses_var(0))
+                            .ok_or_else(|| err(ErrorKind::NotRational, "an exponent must be free of the variable", b.span))?;
                         atoms.pow(field, &x, &ex, e.span)?
                     }
                 }
@@ -723,24 +571,12 @@ pub(crate) fn lower_rational(
             }
             ExprKind::Sqrt(a) => {
                 let x = go(field, names, lets, atoms, a)?;
-                atoms.pow(
-                    field,
-                    &x,
-                    &RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero")),
-                    e.span,
-                )?
+                atoms.pow(field, &x, &RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero")), e.span)?
             }
         };
         Ok(r)
     }
     let mut atoms = Atoms::default();
     let q = go(field, names, lets, &mut atoms, e).map_err(|x| x.or_at(e.span))?;
-    q.as_rat().ok_or_else(|| {
-        atoms.not_rational(
-            field,
-            &q,
-            e.span,
-            "the expression is not a rational function",
-        )
-    })
+    q.as_rat().ok_or_else(|| atoms.not_rational(field, &q, e.span, "the expression is not a rational function"))
 }

@@ -8,10 +8,7 @@ mod quasi;
 mod transform;
 
 pub use lower::{lower_program, LinearOde, NameMode};
-pub use normal::{
-    linear_root, normal_form, normal_q, prefactor, principal_parts, NormalForm, Prefactor,
-    PrincipalPart,
-};
+pub use normal::{linear_root, normal_form, normal_q, prefactor, principal_parts, NormalForm, Prefactor, PrincipalPart};
 pub use transform::{change_variable, schrodinger, schwarzian, transform_q};
 
 pub(crate) use lower::lower_rational;
@@ -111,13 +108,7 @@ pub fn lower(input: &Input<'_>, limits: &Limits, parse_limits: &ParseLimits) -> 
         Input::Inline { equation, var } => {
             let (lhs, rhs, span) = syntax::parse_equation(equation, parse_limits)?;
             let program = Program {
-                statements: vec![
-                    Statement::Var(Ident {
-                        name: var.to_string(),
-                        span: Span::new(0, 0),
-                    }),
-                    Statement::Ode { lhs, rhs, span },
-                ],
+                statements: vec![Statement::Var(Ident { name: var.to_string(), span: Span::new(0, 0) }), Statement::Ode { lhs, rhs, span }],
             };
             lower_program(&program, NameMode::Infer, limits)
         }
@@ -144,79 +135,56 @@ pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
     let mut change = None;
     let subst = if opts.at_infinity {
         let t = fresh_name("t", &names);
-        Some((
-            format!("{}=1/{t}", ode.var),
-            "--at-infinity".to_string(),
-            Some(t),
-        ))
+        Some((format!("{}=1/{t}", ode.var), "--at-infinity".to_string(), Some(t)))
     } else {
         opts.subst.clone().map(|s| (s, "--subst".to_string(), None))
     };
     if let Some((text, option, _)) = subst {
         let Some(eq) = text.find('=') else {
-            return Err(Error::new(
-                ErrorKind::Usage,
-                format!("expected OLD=EXPR, e.g. {}=1/t", ode.var),
-            )
-            .in_option(&option)
-            .at(Span::new(0, text.len())));
+            return Err(Error::new(ErrorKind::Usage, format!("expected OLD=EXPR, e.g. {}=1/t", ode.var))
+                .in_option(&option)
+                .at(Span::new(0, text.len())));
         };
         let (lhs, rhs) = (text[..eq].trim(), &text[eq + 1..]);
         if lhs != ode.var {
-            return Err(Error::new(
-                ErrorKind::Usage,
-                format!(
-                    "the left side must be the equation's variable '{}'",
-                    ode.var
-                ),
-            )
-            .at(Span::new(0, eq))
-            .in_option(&option)
-            .note(format!(
-                "write {}=EXPR with EXPR rational in a new variable",
-                ode.var
-            )));
+            return Err(Error::new(ErrorKind::Usage, format!("the left side must be the equation's variable '{}'", ode.var))
+                .at(Span::new(0, eq))
+                .in_option(&option)
+                .note(format!("write {}=EXPR with EXPR rational in a new variable", ode.var)));
         }
         let offset = eq + 1;
-        let expr = syntax::parse_expr(rhs, &opts.parse_limits)
-            .map_err(|e| shift(e, offset).in_option(&option))?;
+        let expr = syntax::parse_expr(rhs, &opts.parse_limits).map_err(|e| shift(e, offset).in_option(&option))?;
         // The new variable: the one name in EXPR that is not a parameter.
         let mut found = Vec::new();
         collect_expr_names(&expr, &mut found);
-        let mut new_vars: Vec<String> = found
-            .into_iter()
-            .filter(|n| !ode.params.contains(n))
-            .collect();
+        let mut new_vars: Vec<String> = found.into_iter().filter(|n| !ode.params.contains(n)).collect();
         new_vars.dedup();
         new_vars.sort();
         new_vars.dedup();
         if new_vars.len() != 1 {
-            return Err(Error::new(ErrorKind::Usage, format!("the expression must use exactly one new variable besides the parameters, found {}", if new_vars.is_empty() { "none".to_string() } else { new_vars.join(", ") }))
-                .at(Span::new(offset, text.len()))
-                .in_option(&option));
+            return Err(Error::new(
+                ErrorKind::Usage,
+                format!(
+                    "the expression must use exactly one new variable besides the parameters, found {}",
+                    if new_vars.is_empty() { "none".to_string() } else { new_vars.join(", ") }
+                ),
+            )
+            .at(Span::new(offset, text.len()))
+            .in_option(&option));
         }
         let new_var = new_vars.remove(0);
         let mut new_names = vec![new_var.clone()];
         new_names.extend(ode.params.iter().cloned());
         let new_field = Field::new(new_names.clone(), opts.limits.clone())?;
-        let g = lower_rational(&new_field, &new_names, &[], &expr)
-            .map_err(|e| shift(e, offset).in_option(&option))?;
+        let g = lower_rational(&new_field, &new_names, &[], &expr).map_err(|e| shift(e, offset).in_option(&option))?;
         if !g.uses_var(0) {
-            return Err(Error::new(
-                ErrorKind::Usage,
-                "the substitution does not depend on the new variable",
-            )
-            .at(Span::new(offset, text.len()))
-            .in_option(&option));
+            return Err(Error::new(ErrorKind::Usage, "the substitution does not depend on the new variable")
+                .at(Span::new(offset, text.len()))
+                .in_option(&option));
         }
         let (pt, qt) = change_variable(&new_field, &p, &q, &g).map_err(|e| e.in_option(&option))?;
         let schw = schwarzian(&new_field, &g)?;
-        change = Some(Change {
-            old_var: ode.var.clone(),
-            new_var: new_var.clone(),
-            g,
-            schwarzian: schw,
-        });
+        change = Some(Change { old_var: ode.var.clone(), new_var: new_var.clone(), g, schwarzian: schw });
         p = pt;
         q = qt;
         field = new_field;
@@ -233,10 +201,7 @@ pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
         let h = lower_rational(&field, &fnames, lets, &expr).map_err(|e| e.in_option(option))?;
         let freq_name = match &opts.frequency {
             Some(f) => Some(f.clone()),
-            None => ["omega", "ω", "w"]
-                .iter()
-                .find(|n| ode.params.iter().any(|p| p == *n))
-                .map(|s| s.to_string()),
+            None => ["omega", "ω", "w"].iter().find(|n| ode.params.iter().any(|p| p == *n)).map(|s| s.to_string()),
         };
         let freq_idx = match &freq_name {
             Some(f) => Some(
@@ -244,36 +209,15 @@ pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
                     .iter()
                     .position(|p| p == f)
                     .map(|i| i + 1)
-                    .ok_or_else(|| {
-                        Error::new(
-                            ErrorKind::Usage,
-                            format!("'{f}' is not a parameter of the equation"),
-                        )
-                        .in_option("--frequency")
-                    })?,
+                    .ok_or_else(|| Error::new(ErrorKind::Usage, format!("'{f}' is not a parameter of the equation")).in_option("--frequency"))?,
             ),
             None => None,
         };
         let (w, v) = schrodinger(&field, &p, &q, &h, freq_idx)?;
         let dep = freq_idx.is_some_and(|i| v.uses_var(i));
-        schrod = Some(Schrodinger {
-            dxdz: h,
-            w,
-            v,
-            frequency: freq_name,
-            v_depends_on_frequency: dep,
-        });
+        schrod = Some(Schrodinger { dxdz: h, w, v, frequency: freq_name, v_depends_on_frequency: dep });
     }
-    Ok(Reduction {
-        ode,
-        field,
-        var,
-        p,
-        q,
-        normal,
-        change,
-        schrodinger: schrod,
-    })
+    Ok(Reduction { ode, field, var, p, q, normal, change, schrodinger: schrod })
 }
 
 fn shift(mut e: Error, offset: usize) -> Error {

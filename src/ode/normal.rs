@@ -56,11 +56,7 @@ pub fn normal_form(k: &Field, p: &RatFunc, q: &RatFunc) -> Result<NormalForm> {
     let qn = normal_q(k, p, q)?;
     let prefactor = prefactor(k, p)?;
     let principal = principal_parts(k, &qn)?;
-    Ok(NormalForm {
-        q: qn,
-        prefactor,
-        principal,
-    })
+    Ok(NormalForm { q: qn, prefactor, principal })
 }
 
 /// The root of a factor of degree one in the variable, c1·z + c0 → −c0/c1.
@@ -77,12 +73,7 @@ pub fn linear_root(k: &Field, f: &Poly) -> Result<Option<RatFunc>> {
 /// Splits a rational function at one denominator factor: returns the Laurent
 /// data at a linear factor's root, as coefficients of (z − z₀)^(−e..−1)
 /// followed by `extra` regular Taylor coefficients.
-pub(crate) fn laurent_at(
-    k: &Field,
-    r: &RatFunc,
-    idx: usize,
-    extra: usize,
-) -> Result<Option<(RatFunc, Vec<RatFunc>)>> {
+pub(crate) fn laurent_at(k: &Field, r: &RatFunc, idx: usize, extra: usize) -> Result<Option<(RatFunc, Vec<RatFunc>)>> {
     let (f, e) = &r.den_factors()[idx];
     let Some(z0) = linear_root(k, f.poly())? else {
         return Ok(None);
@@ -114,12 +105,7 @@ pub fn principal_parts(k: &Field, q: &RatFunc) -> Result<Vec<PrincipalPart>> {
             continue;
         }
         if let Some((z0, coeffs)) = laurent_at(k, q, idx, 0)? {
-            out.push(PrincipalPart {
-                factor: f.poly().clone(),
-                point: z0,
-                order: *e,
-                coeffs,
-            });
+            out.push(PrincipalPart { factor: f.poly().clone(), point: z0, order: *e, coeffs });
         }
     }
     Ok(out)
@@ -143,16 +129,11 @@ pub fn prefactor(k: &Field, p: &RatFunc) -> Result<Prefactor> {
     let mut const_den = RatFunc::one();
     for (f, e) in p.den_factors() {
         if !f.poly().uses_var(0) {
-            const_den = k.mul(
-                &const_den,
-                &k.pow(&RatFunc::from_poly(f.poly().clone()), *e as i64)?,
-            )?;
+            const_den = k.mul(&const_den, &k.pow(&RatFunc::from_poly(f.poly().clone()), *e as i64)?)?;
         }
     }
     let num_u = num_u.scale(k, &k.inv(&const_den)?)?;
-    let (poly_part, _) = num_u
-        .divrem(k, &den_u)?
-        .unwrap_or((UPoly::zero(), UPoly::zero()));
+    let (poly_part, _) = num_u.divrem(k, &den_u)?.unwrap_or((UPoly::zero(), UPoly::zero()));
     // ∫ of the polynomial part.
     let mut ip = Vec::with_capacity(poly_part.coeffs.len() + 1);
     ip.push(RatFunc::zero());
@@ -180,10 +161,7 @@ pub fn prefactor(k: &Field, p: &RatFunc) -> Result<Prefactor> {
                     powers.push((f.poly().clone(), k.mul(&minus_half, cj)?));
                 } else {
                     // ∫ c (z − z0)^(−m) = c (z − z0)^(1 − m) / (1 − m)
-                    let t = k.div(
-                        &k.mul(cj, &k.pow(&zz0, 1 - power)?)?,
-                        &RatFunc::from_poly(Poly::int(1 - power)),
-                    )?;
+                    let t = k.div(&k.mul(cj, &k.pow(&zz0, 1 - power)?)?, &RatFunc::from_poly(Poly::int(1 - power)))?;
                     integral = k.add(&integral, &t)?;
                 }
             }
@@ -191,15 +169,9 @@ pub fn prefactor(k: &Field, p: &RatFunc) -> Result<Prefactor> {
         }
         // A nonlinear factor: the part A/f^e of the partial fractions.
         let fe = UPoly::from_poly(&f.poly().pow(*e));
-        let (rest, _) = den_u
-            .divrem(k, &fe)?
-            .unwrap_or((UPoly::zero(), UPoly::zero()));
+        let (rest, _) = den_u.divrem(k, &fe)?.unwrap_or((UPoly::zero(), UPoly::zero()));
         let a = match rest.inverse_mod(k, &fe)? {
-            Some(inv) => num_u
-                .mul(k, &inv)?
-                .divrem(k, &fe)?
-                .map(|(_, r)| r)
-                .unwrap_or_else(UPoly::zero),
+            Some(inv) => num_u.mul(k, &inv)?.divrem(k, &fe)?.map(|(_, r)| r).unwrap_or_else(UPoly::zero),
             None => continue,
         };
         if *e == 1 {
@@ -219,9 +191,5 @@ pub fn prefactor(k: &Field, p: &RatFunc) -> Result<Prefactor> {
         unevaluated.push((f.poly().clone(), *e, a.to_ratfunc(k)?));
     }
     let exponential = k.mul(&minus_half, &integral)?;
-    Ok(Prefactor {
-        powers,
-        exponential,
-        unevaluated,
-    })
+    Ok(Prefactor { powers, exponential, unevaluated })
 }

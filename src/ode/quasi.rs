@@ -40,9 +40,7 @@ impl Quasi {
         if r.is_zero() {
             Quasi::zero()
         } else {
-            Quasi {
-                terms: vec![(Vec::new(), r)],
-            }
+            Quasi { terms: vec![(Vec::new(), r)] }
         }
     }
     pub fn is_zero(&self) -> bool {
@@ -80,13 +78,7 @@ impl Quasi {
         Ok(out)
     }
     pub fn neg(&self, k: &Field) -> Quasi {
-        Quasi {
-            terms: self
-                .terms
-                .iter()
-                .map(|(m, r)| (m.clone(), k.neg(r)))
-                .collect(),
-        }
+        Quasi { terms: self.terms.iter().map(|(m, r)| (m.clone(), k.neg(r))).collect() }
     }
 }
 
@@ -152,23 +144,12 @@ impl Atoms {
     /// The reciprocal of a single-term value.
     pub fn inv(&self, k: &Field, a: &Quasi, span: Span) -> Result<Quasi> {
         match a.terms.as_slice() {
-            [] => Err(Error::new(
-                ErrorKind::DivisionByZero,
-                "division by zero: the denominator is identically zero",
-            )
-            .at(span)),
+            [] => Err(Error::new(ErrorKind::DivisionByZero, "division by zero: the denominator is identically zero").at(span)),
             [(m, r)] => {
                 let inv_m: AtomMono = m.iter().map(|(i, e)| (*i, k.neg(e))).collect();
-                Ok(Quasi {
-                    terms: vec![(inv_m, k.inv(r)?)],
-                })
+                Ok(Quasi { terms: vec![(inv_m, k.inv(r)?)] })
             }
-            _ => Err(self.not_rational(
-                k,
-                a,
-                span,
-                "a sum containing non-integer powers cannot be divided by",
-            )),
+            _ => Err(self.not_rational(k, a, span, "a sum containing non-integer powers cannot be divided by")),
         }
     }
 
@@ -215,9 +196,7 @@ impl Atoms {
             if c.im.is_zero() && c.re.is_integer() {
                 let n = c.re.numer();
                 if n.bits() > 16 {
-                    return Err(
-                        Error::new(ErrorKind::Limit, format!("exponent {n} is too large")).at(span),
-                    );
+                    return Err(Error::new(ErrorKind::Limit, format!("exponent {n} is too large")).at(span));
                 }
                 let n = n.to_f64() as i64;
                 return self.int_pow(k, a, n, span);
@@ -226,12 +205,7 @@ impl Atoms {
             if c.im.is_zero() && c.re.denom() == &crate::algebra::Int::from(2) {
                 if let Some(r) = a.as_rat() {
                     if let Some(root) = k.sqrt_exact(&r)? {
-                        return self.int_pow(
-                            k,
-                            &Quasi::rat(root),
-                            c.re.numer().to_f64() as i64,
-                            span,
-                        );
+                        return self.int_pow(k, &Quasi::rat(root), c.re.numer().to_f64() as i64, span);
                     }
                 }
             }
@@ -239,19 +213,12 @@ impl Atoms {
         match a.terms.as_slice() {
             [] => {
                 if e.as_constant().is_some_and(|c| c.re.numer().is_negative()) {
-                    return Err(Error::new(
-                        ErrorKind::DivisionByZero,
-                        "zero raised to a negative power",
-                    )
-                    .at(span));
+                    return Err(Error::new(ErrorKind::DivisionByZero, "zero raised to a negative power").at(span));
                 }
                 Ok(Quasi::zero())
             }
             [(m, r)] => {
-                let mut mono: AtomMono = m
-                    .iter()
-                    .map(|(i, x)| Ok((*i, k.mul(x, e)?)))
-                    .collect::<Result<_>>()?;
+                let mut mono: AtomMono = m.iter().map(|(i, x)| Ok((*i, k.mul(x, e)?))).collect::<Result<_>>()?;
                 let (bases, unit) = self.atomize(k, r, span)?;
                 for (id, mult) in bases {
                     let ex = k.mul(e, &RatFunc::rat(&crate::algebra::Rat::int(mult.into())))?;
@@ -267,16 +234,9 @@ impl Atoms {
                 merged.sort_by_key(|(i, _)| *i);
                 let (mono, f) = self.fold(k, merged)?;
                 let coeff = k.mul(&f, &unit)?;
-                Ok(Quasi {
-                    terms: vec![(mono, coeff)],
-                })
+                Ok(Quasi { terms: vec![(mono, coeff)] })
             }
-            _ => Err(self.not_rational(
-                k,
-                a,
-                span,
-                "a sum containing non-integer powers cannot be raised to a non-integer power",
-            )),
+            _ => Err(self.not_rational(k, a, span, "a sum containing non-integer powers cannot be raised to a non-integer power")),
         }
     }
 
@@ -286,26 +246,14 @@ impl Atoms {
         }
         if let Some(r) = a.as_rat() {
             if r.is_zero() && n < 0 {
-                return Err(Error::new(
-                    ErrorKind::DivisionByZero,
-                    "zero raised to a negative power",
-                )
-                .at(span));
+                return Err(Error::new(ErrorKind::DivisionByZero, "zero raised to a negative power").at(span));
             }
             return Ok(Quasi::rat(k.pow(&r, n).map_err(|e| e.or_at(span))?));
         }
-        let base = if n < 0 {
-            self.inv(k, a, span)?
-        } else {
-            a.clone()
-        };
+        let base = if n < 0 { self.inv(k, a, span)? } else { a.clone() };
         let n = n.unsigned_abs();
         if n > k.limits().max_degree as u64 {
-            return Err(Error::new(
-                ErrorKind::Limit,
-                format!("exponent {n} exceeds the degree limit"),
-            )
-            .at(span));
+            return Err(Error::new(ErrorKind::Limit, format!("exponent {n} exceeds the degree limit")).at(span));
         }
         let mut acc = Quasi::rat(RatFunc::one());
         for _ in 0..n {
@@ -317,12 +265,7 @@ impl Atoms {
     /// Splits a rational function into atom bases (with integer
     /// multiplicities) and a leftover unit factor (±1 or a Gaussian constant
     /// that stays outside, when it is 1 or −1 with an integer-valued use).
-    fn atomize(
-        &mut self,
-        k: &Field,
-        r: &RatFunc,
-        span: Span,
-    ) -> Result<(Vec<(usize, i64)>, RatFunc)> {
+    fn atomize(&mut self, k: &Field, r: &RatFunc, span: Span) -> Result<(Vec<(usize, i64)>, RatFunc)> {
         let mut out = Vec::new();
         if r.is_zero() {
             return Ok((out, RatFunc::zero()));
@@ -332,9 +275,7 @@ impl Atoms {
             return Ok((vec![(id, 1)], RatFunc::one()));
         }
         let (c, factors) = k.factorize(r.num())?;
-        let mut constant = GRat::real(
-            crate::algebra::Rat::new(c.abs(), r.scale().clone()).expect("positive scale"),
-        );
+        let mut constant = GRat::real(crate::algebra::Rat::new(c.abs(), r.scale().clone()).expect("positive scale"));
         for (f, m) in factors {
             let id = self.id_of(RatFunc::from_poly(f.poly().clone()), span);
             out.push((id, m as i64));
@@ -345,10 +286,7 @@ impl Atoms {
         }
         let unit = if c.is_negative() {
             // (−x)^e: the sign is kept as its own atom base −1.
-            let id = self.id_of(
-                RatFunc::constant(&GRat::real(crate::algebra::Rat::int((-1).into()))),
-                span,
-            );
+            let id = self.id_of(RatFunc::constant(&GRat::real(crate::algebra::Rat::int((-1).into()))), span);
             out.push((id, 1));
             RatFunc::one()
         } else {
@@ -370,15 +308,7 @@ fn power_text(k: &Field, base: &RatFunc, e: &RatFunc) -> String {
     let names = k.names();
     let b = ratfunc_text(base, names, Style::Text);
     let x = ratfunc_text(e, names, Style::Text);
-    let b = if b.chars().all(|c| c.is_alphanumeric() || c == '_') {
-        b
-    } else {
-        format!("({b})")
-    };
-    let x = if x.chars().all(|c| c.is_alphanumeric() || c == '_') {
-        x
-    } else {
-        format!("({x})")
-    };
+    let b = if b.chars().all(|c| c.is_alphanumeric() || c == '_') { b } else { format!("({b})") };
+    let x = if x.chars().all(|c| c.is_alphanumeric() || c == '_') { x } else { format!("({x})") };
     format!("{b}^{x}")
 }

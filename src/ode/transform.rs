@@ -12,18 +12,10 @@ use crate::error::{Error, ErrorKind, Result};
 
 /// p and q of the equation in the new variable x, for z = g(x).
 /// `p` and `q` are in the old variable (index 0); `g` and the result in the new one.
-pub fn change_variable(
-    k: &Field,
-    p: &RatFunc,
-    q: &RatFunc,
-    g: &RatFunc,
-) -> Result<(RatFunc, RatFunc)> {
+pub fn change_variable(k: &Field, p: &RatFunc, q: &RatFunc, g: &RatFunc) -> Result<(RatFunc, RatFunc)> {
     let g1 = k.deriv(g, 0)?;
     if g1.is_zero() {
-        return Err(Error::new(
-            ErrorKind::Usage,
-            "the change of variable is constant: its derivative vanishes",
-        ));
+        return Err(Error::new(ErrorKind::Usage, "the change of variable is constant: its derivative vanishes"));
     }
     let g2 = k.deriv(&g1, 0)?;
     let pg = k.compose(p, 0, g)?;
@@ -50,21 +42,12 @@ pub fn transform_q(k: &Field, q_normal: &RatFunc, g: &RatFunc) -> Result<RatFunc
     let g1 = k.deriv(g, 0)?;
     let qg = k.compose(q_normal, 0, g)?;
     let half = RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero"));
-    k.add(
-        &k.mul(&k.mul(&g1, &g1)?, &qg)?,
-        &k.mul(&half, &schwarzian(k, g)?)?,
-    )
+    k.add(&k.mul(&k.mul(&g1, &g1)?, &qg)?, &k.mul(&half, &schwarzian(k, g)?)?)
 }
 
 /// The Schrödinger form for dx/dz = h: returns (W, V) with φ_xx + W φ = 0 and
 /// V = ω² − W, ω being variable `freq` (when given; otherwise V = −W).
-pub fn schrodinger(
-    k: &Field,
-    p: &RatFunc,
-    q: &RatFunc,
-    h: &RatFunc,
-    freq: Option<usize>,
-) -> Result<(RatFunc, RatFunc)> {
+pub fn schrodinger(k: &Field, p: &RatFunc, q: &RatFunc, h: &RatFunc, freq: Option<usize>) -> Result<(RatFunc, RatFunc)> {
     if h.is_zero() {
         return Err(Error::new(ErrorKind::Usage, "dx/dz is identically zero"));
     }

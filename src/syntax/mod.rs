@@ -35,12 +35,7 @@ pub struct ParseLimits {
 
 impl Default for ParseLimits {
     fn default() -> ParseLimits {
-        ParseLimits {
-            max_bytes: 1_000_000,
-            max_depth: 2_000,
-            max_statements: 10_000,
-            max_number_len: 2_000,
-        }
+        ParseLimits { max_bytes: 1_000_000, max_depth: 2_000, max_statements: 10_000, max_number_len: 2_000 }
     }
 }
 
@@ -73,13 +68,6 @@ fn check_size(src: &str, limits: &ParseLimits) -> Result<()> {
         start -= 1;
     }
     let width = src[start..].chars().next().map_or(0, char::len_utf8);
-    Err(Error::new(
-        ErrorKind::Limit,
-        format!(
-            "input is {} bytes long, more than the limit of {} bytes",
-            src.len(),
-            limits.max_bytes
-        ),
-    )
-    .at(Span::new(start, start + width)))
+    Err(Error::new(ErrorKind::Limit, format!("input is {} bytes long, more than the limit of {} bytes", src.len(), limits.max_bytes))
+        .at(Span::new(start, start + width)))
 }

@@ -94,17 +94,11 @@ fn exponent(i: &str) -> IResult<&str, &str> {
 }
 
 fn number(i: &str) -> IResult<&str, &str> {
-    alt((
-        recognize(tuple((digit1, opt(pair(char('.'), digit0)), opt(exponent)))),
-        recognize(tuple((char('.'), digit1, opt(exponent)))),
-    ))(i)
+    alt((recognize(tuple((digit1, opt(pair(char('.'), digit0)), opt(exponent)))), recognize(tuple((char('.'), digit1, opt(exponent))))))(i)
 }
 
 fn ident(i: &str) -> IResult<&str, &str> {
-    recognize(pair(
-        satisfy(char::is_alphabetic),
-        take_while(|c: char| c.is_alphabetic() || c.is_ascii_digit() || c == '_'),
-    ))(i)
+    recognize(pair(satisfy(char::is_alphabetic), take_while(|c: char| c.is_alphabetic() || c.is_ascii_digit() || c == '_')))(i)
 }
 
 /// The run of characters shown when a number is malformed, e.g. `1.2.3`.
@@ -137,9 +131,7 @@ fn punct(c: char) -> Option<Tok> {
 /// A help note for a character that cannot start a token, when one helps.
 fn stray_char_note(c: char) -> Option<&'static str> {
     Some(match c {
-        '\u{2070}' | '\u{b9}' | '\u{b2}' | '\u{b3}' | '\u{2074}'..='\u{207b}' => {
-            "write powers with '^', e.g. r^2 or r^-1"
-        }
+        '\u{2070}' | '\u{b9}' | '\u{b2}' | '\u{b3}' | '\u{2074}'..='\u{207b}' => "write powers with '^', e.g. r^2 or r^-1",
         '[' | ']' | '{' | '}' => "only '(' and ')' group expressions",
         '_' => "a name starts with a letter",
         '\\' => "LaTeX commands are not understood: write names such as omega or \u{3c9} directly",
@@ -204,14 +196,9 @@ impl<'a> Lexer<'a> {
                 Some(at) => Span::new(at, at + 1),
                 None => self.char_span(self.last_end),
             };
-            return Ok(Token {
-                tok: Tok::Eof,
-                span,
-            });
+            return Ok(Token { tok: Tok::Eof, span });
         };
-        let (tok, end) = if c.is_ascii_digit()
-            || (c == '.' && rest[1..].starts_with(|d: char| d.is_ascii_digit()))
-        {
+        let (tok, end) = if c.is_ascii_digit() || (c == '.' && rest[1..].starts_with(|d: char| d.is_ascii_digit())) {
             (Tok::Number, self.number(rest, start)?)
         } else if c.is_alphabetic() {
             match ident(rest) {
@@ -221,11 +208,8 @@ impl<'a> Lexer<'a> {
         } else if let Some(tok) = punct(c) {
             (tok, start + c.len_utf8())
         } else {
-            let mut error = Error::new(
-                ErrorKind::Syntax,
-                format!("unexpected character '{}'", shown_char(c)),
-            )
-            .at(Span::new(start, start + c.len_utf8()));
+            let mut error =
+                Error::new(ErrorKind::Syntax, format!("unexpected character '{}'", shown_char(c))).at(Span::new(start, start + c.len_utf8()));
             if let Some(note) = stray_char_note(c) {
                 error = error.note(note);
             }
@@ -251,11 +235,7 @@ impl<'a> Lexer<'a> {
         if text.len() > self.max_number_len {
             return Err(Error::new(
                 ErrorKind::Limit,
-                format!(
-                    "number literal is {} bytes long, more than the limit of {}",
-                    text.len(),
-                    self.max_number_len
-                ),
+                format!("number literal is {} bytes long, more than the limit of {}", text.len(), self.max_number_len),
             )
             .at(Span::new(start, end)));
         }
@@ -264,12 +244,9 @@ impl<'a> Lexer<'a> {
                 Ok((r, _)) => self.offset(r),
                 Err(_) => end + 1,
             };
-            return Err(Error::new(
-                ErrorKind::Syntax,
-                format!("malformed number {}", quote(&self.src[start..run_end])),
-            )
-            .at(Span::new(start, run_end))
-            .note("a number has at most one decimal point, e.g. 1.25 or 1.5e-3"));
+            return Err(Error::new(ErrorKind::Syntax, format!("malformed number {}", quote(&self.src[start..run_end])))
+                .at(Span::new(start, run_end))
+                .note("a number has at most one decimal point, e.g. 1.25 or 1.5e-3"));
         }
         Ok(end)
     }
@@ -334,13 +311,7 @@ enum Pending {
 impl Pending {
     /// Whether this entry counts toward the nesting depth.
     fn nests(self) -> bool {
-        !matches!(
-            self,
-            Pending::Op(
-                Operator::Binary(BinOp::Add | BinOp::Sub | BinOp::Mul | BinOp::Div),
-                _
-            )
-        )
+        !matches!(self, Pending::Op(Operator::Binary(BinOp::Add | BinOp::Sub | BinOp::Mul | BinOp::Div), _))
     }
 }
 
@@ -362,10 +333,7 @@ struct Stacks {
 }
 
 fn internal(what: &str) -> Error {
-    Error::new(
-        ErrorKind::Internal,
-        format!("parser invariant broken: {what}"),
-    )
+    Error::new(ErrorKind::Internal, format!("parser invariant broken: {what}"))
 }
 
 // ---------------------------------------------------------------------------
@@ -384,18 +352,7 @@ pub(super) struct Parser<'a> {
 
 impl<'a> Parser<'a> {
     pub(super) fn new(src: &'a str, limits: &'a ParseLimits) -> Parser<'a> {
-        Parser {
-            src,
-            lexer: Lexer {
-                src,
-                pos: 0,
-                last_end: 0,
-                max_number_len: limits.max_number_len,
-            },
-            peeked: None,
-            prev: None,
-            limits,
-        }
+        Parser { src, lexer: Lexer { src, pos: 0, last_end: 0, max_number_len: limits.max_number_len }, peeked: None, prev: None, limits }
     }
 
     fn peek(&mut self) -> Result<Token> {
@@ -461,11 +418,7 @@ impl<'a> Parser<'a> {
                 _ => {}
             }
             if statements.len() >= self.limits.max_statements {
-                return Err(Error::new(
-                    ErrorKind::Limit,
-                    format!("more than {} statements", self.limits.max_statements),
-                )
-                .at(t.span));
+                return Err(Error::new(ErrorKind::Limit, format!("more than {} statements", self.limits.max_statements)).at(t.span));
             }
             statements.push(self.statement(t)?);
             self.end_of_statement()?;
@@ -489,13 +442,7 @@ impl<'a> Parser<'a> {
                         }
                         Tok::Ident if self.keyword(t).is_none() => {
                             return Err(self
-                                .syntax(
-                                    format!(
-                                        "expected ',' or the end of the statement, found {}",
-                                        self.found(t)
-                                    ),
-                                    t.span,
-                                )
+                                .syntax(format!("expected ',' or the end of the statement, found {}", self.found(t)), t.span)
                                 .note("separate parameters with ',', e.g. param M, a"));
                         }
                         _ => return Ok(Statement::Param(names)),
@@ -506,14 +453,7 @@ impl<'a> Parser<'a> {
                 let name = self.name(first)?;
                 let eq = self.bump()?;
                 if eq.tok != Tok::Equals {
-                    return Err(self.syntax(
-                        format!(
-                            "expected '=' after 'let {}', found {}",
-                            name.name,
-                            self.found(eq)
-                        ),
-                        eq.span,
-                    ));
+                    return Err(self.syntax(format!("expected '=' after 'let {}', found {}", name.name, self.found(eq)), eq.span));
                 }
                 self.skip_newlines()?;
                 let value = self.expr(Some(eq))?;
@@ -525,13 +465,7 @@ impl<'a> Parser<'a> {
                 Ok(Statement::Ode { lhs, rhs, span })
             }
             _ => Err(self
-                .syntax(
-                    format!(
-                        "expected a statement (var, param, let, unknown or ode), found {}",
-                        self.found(first)
-                    ),
-                    first.span,
-                )
+                .syntax(format!("expected a statement (var, param, let, unknown or ode), found {}", self.found(first)), first.span)
                 .note("an equation is written as: ode LHS = RHS")),
         }
     }
@@ -541,10 +475,7 @@ impl<'a> Parser<'a> {
         let lhs = self.expr(after)?;
         let eq = self.bump()?;
         if eq.tok != Tok::Equals {
-            let mut error = self.syntax(
-                format!("{missing_equals}, found {}", self.found(eq)),
-                eq.span,
-            );
+            let mut error = self.syntax(format!("{missing_equals}, found {}", self.found(eq)), eq.span);
             if eq.tok == Tok::Newline {
                 error = error.note("a line continues only when it ends in an operator or ','");
             }
@@ -554,9 +485,7 @@ impl<'a> Parser<'a> {
         let rhs = self.expr(Some(eq))?;
         if self.peek()?.tok == Tok::Equals {
             let t = self.peek()?;
-            return Err(self
-                .syntax("unexpected second '='".to_string(), t.span)
-                .note("an equation has exactly one '='"));
+            return Err(self.syntax("unexpected second '='".to_string(), t.span).note("an equation has exactly one '='"));
         }
         Ok((lhs, rhs))
     }
@@ -565,14 +494,7 @@ impl<'a> Parser<'a> {
     fn name(&mut self, after: Token) -> Result<Ident> {
         let t = self.bump()?;
         if t.tok != Tok::Ident {
-            let mut error = self.syntax(
-                format!(
-                    "expected a name after {}, found {}",
-                    quote(self.text(after.span)),
-                    self.found(t)
-                ),
-                t.span,
-            );
+            let mut error = self.syntax(format!("expected a name after {}, found {}", quote(self.text(after.span)), self.found(t)), t.span);
             if t.tok == Tok::Number {
                 error = error.note("a name starts with a letter");
             }
@@ -581,20 +503,11 @@ impl<'a> Parser<'a> {
         if let Some(keyword) = self.keyword(t) {
             return Err(self.reserved(t, keyword));
         }
-        Ok(Ident {
-            name: self.text(t.span).to_string(),
-            span: t.span,
-        })
+        Ok(Ident { name: self.text(t.span).to_string(), span: t.span })
     }
 
     fn reserved(&self, t: Token, keyword: Keyword) -> Error {
-        let error = self.syntax(
-            format!(
-                "'{}' is a reserved word and cannot be a name",
-                self.text(t.span)
-            ),
-            t.span,
-        );
+        let error = self.syntax(format!("'{}' is a reserved word and cannot be a name", self.text(t.span)), t.span);
         match keyword {
             Keyword::Imag => error.note("'I' is the imaginary unit"),
             Keyword::Sqrt => error.note("'sqrt' is the square root, written sqrt(x)"),
@@ -608,10 +521,7 @@ impl<'a> Parser<'a> {
         match t.tok {
             Tok::Newline | Tok::Semi | Tok::Eof => Ok(()),
             _ => Err(self
-                .syntax(
-                    format!("expected the end of the statement, found {}", self.found(t)),
-                    t.span,
-                )
+                .syntax(format!("expected the end of the statement, found {}", self.found(t)), t.span)
                 .note("statements are separated by a newline or ';'")),
         }
     }
@@ -628,11 +538,7 @@ impl<'a> Parser<'a> {
     pub(super) fn lone_equation(mut self) -> Result<(Expr, Expr, Span)> {
         self.skip_newlines()?;
         let first = self.peek()?;
-        let after = if self.keyword(first) == Some(Keyword::Ode) {
-            Some(self.bump()?)
-        } else {
-            None
-        };
+        let after = if self.keyword(first) == Some(Keyword::Ode) { Some(self.bump()?) } else { None };
         let (lhs, rhs) = self.equation(after, "expected '=' in the equation")?;
         let span = after.map_or(lhs.span, |t| t.span).to(rhs.span);
         self.end_of_text("equation")?;
@@ -645,12 +551,7 @@ impl<'a> Parser<'a> {
             match t.tok {
                 Tok::Newline | Tok::Semi => continue,
                 Tok::Eof => return Ok(()),
-                _ => {
-                    return Err(self.syntax(
-                        format!("expected the end of the {what}, found {}", self.found(t)),
-                        t.span,
-                    ))
-                }
+                _ => return Err(self.syntax(format!("expected the end of the {what}, found {}", self.found(t)), t.span)),
             }
         }
     }
@@ -661,12 +562,7 @@ impl<'a> Parser<'a> {
     /// the expression ends (unconsumed) at a newline outside parentheses, ';',
     /// '=', ',', a statement keyword or the end of input.
     fn expr(&mut self, after: Option<Token>) -> Result<Expr> {
-        let mut st = Stacks {
-            operands: Vec::new(),
-            ops: Vec::new(),
-            nesting: 0,
-            opens: 0,
-        };
+        let mut st = Stacks { operands: Vec::new(), ops: Vec::new(), nesting: 0, opens: 0 };
         let mut after = after;
         loop {
             self.operand(&mut st, &mut after)?;
@@ -688,40 +584,21 @@ impl<'a> Parser<'a> {
                     Some(Keyword::Sqrt) => {
                         let paren = self.bump()?;
                         if paren.tok != Tok::LParen {
-                            return Err(self.syntax(
-                                format!("expected '(' after 'sqrt', found {}", self.found(paren)),
-                                paren.span,
-                            ));
+                            return Err(self.syntax(format!("expected '(' after 'sqrt', found {}", self.found(paren)), paren.span));
                         }
-                        self.push(
-                            st,
-                            Pending::Open {
-                                paren: paren.span,
-                                sqrt_start: Some(t.span.start),
-                            },
-                            paren.span,
-                        )?;
+                        self.push(st, Pending::Open { paren: paren.span, sqrt_start: Some(t.span.start) }, paren.span)?;
                         *after = Some(paren);
                         continue;
                     }
                     Some(keyword) => return Err(self.reserved(t, keyword)),
                 },
                 Tok::LParen => {
-                    self.push(
-                        st,
-                        Pending::Open {
-                            paren: t.span,
-                            sqrt_start: None,
-                        },
-                        t.span,
-                    )?;
+                    self.push(st, Pending::Open { paren: t.span, sqrt_start: None }, t.span)?;
                     *after = Some(t);
                     continue;
                 }
                 Tok::Minus | Tok::Plus => {
-                    let op = Operator::Sign {
-                        negate: t.tok == Tok::Minus,
-                    };
+                    let op = Operator::Sign { negate: t.tok == Tok::Minus };
                     self.push(st, Pending::Op(op, t.span), t.span)?;
                     *after = Some(t);
                     continue;
@@ -729,24 +606,14 @@ impl<'a> Parser<'a> {
                 Tok::Newline if after.is_some_and(|a| continues_line(a.tok)) => continue,
                 _ => return Err(self.missing_operand(*after, t)),
             };
-            st.operands.push(Node {
-                expr: Expr {
-                    kind: leaf,
-                    span: t.span,
-                },
-                height: 0,
-            });
+            st.operands.push(Node { expr: Expr { kind: leaf, span: t.span }, height: 0 });
             return Ok(());
         }
     }
 
     fn missing_operand(&self, after: Option<Token>, t: Token) -> Error {
         let message = match after {
-            Some(a) => format!(
-                "expected an expression after {}, found {}",
-                quote(self.text(a.span)),
-                self.found(t)
-            ),
+            Some(a) => format!("expected an expression after {}, found {}", quote(self.text(a.span)), self.found(t)),
             None => format!("expected an expression, found {}", self.found(t)),
         };
         let error = self.syntax(message, t.span);
@@ -807,10 +674,7 @@ impl<'a> Parser<'a> {
                     while !st.ops.is_empty() {
                         self.reduce_top(st)?;
                     }
-                    let node = st
-                        .operands
-                        .pop()
-                        .ok_or_else(|| internal("no operand at the end"))?;
+                    let node = st.operands.pop().ok_or_else(|| internal("no operand at the end"))?;
                     if !st.operands.is_empty() {
                         return Err(internal("operands left at the end"));
                     }
@@ -826,15 +690,9 @@ impl<'a> Parser<'a> {
         if entry.nests() {
             st.nesting += 1;
             if st.nesting > self.limits.max_depth {
-                return Err(Error::new(
-                    ErrorKind::Limit,
-                    format!(
-                        "expression is nested more than {} levels deep",
-                        self.limits.max_depth
-                    ),
-                )
-                .at(at)
-                .note("every '(', sign and '^' that is still open counts one level"));
+                return Err(Error::new(ErrorKind::Limit, format!("expression is nested more than {} levels deep", self.limits.max_depth))
+                    .at(at)
+                    .note("every '(', sign and '^' that is still open counts one level"));
             }
         }
         if matches!(entry, Pending::Open { .. }) {
@@ -852,17 +710,11 @@ impl<'a> Parser<'a> {
     fn node(&self, kind: ExprKind, span: Span, child_height: usize) -> Result<Node> {
         let height = child_height + 1;
         if height > self.limits.max_depth {
-            return Err(Error::new(
-                ErrorKind::Limit,
-                format!("expression is nested more than {} levels deep", self.limits.max_depth),
-            )
-            .at(span)
-            .note("every operator in a chain such as a + b + c counts one level; split long chains with let statements"));
+            return Err(Error::new(ErrorKind::Limit, format!("expression is nested more than {} levels deep", self.limits.max_depth))
+                .at(span)
+                .note("every operator in a chain such as a + b + c counts one level; split long chains with let statements"));
         }
-        Ok(Node {
-            expr: Expr { kind, span },
-            height,
-        })
+        Ok(Node { expr: Expr { kind, span }, height })
     }
 
     /// Applies the operator on top of the stack to its operands.
@@ -877,11 +729,7 @@ impl<'a> Parser<'a> {
                 let lhs = Self::pop_operand(st)?;
                 let span = lhs.expr.span.to(rhs.expr.span);
                 let height = lhs.height.max(rhs.height);
-                self.node(
-                    ExprKind::Binary(bin, Box::new(lhs.expr), Box::new(rhs.expr)),
-                    span,
-                    height,
-                )?
+                self.node(ExprKind::Binary(bin, Box::new(lhs.expr), Box::new(rhs.expr)), span, height)?
             }
             Operator::Sign { negate } => {
                 st.nesting -= 1;
@@ -910,27 +758,11 @@ impl<'a> Parser<'a> {
                 let Some(total) = n.checked_add(count) else {
                     return Err(Error::new(ErrorKind::Limit, "too many primes in a row").at(at));
                 };
-                Node {
-                    expr: Expr {
-                        kind: ExprKind::Prime(inner, total),
-                        span,
-                    },
-                    height: top.height,
-                }
+                Node { expr: Expr { kind: ExprKind::Prime(inner, total), span }, height: top.height }
             }
             kind => {
                 let height = top.height;
-                self.node(
-                    ExprKind::Prime(
-                        Box::new(Expr {
-                            kind,
-                            span: top.expr.span,
-                        }),
-                        count,
-                    ),
-                    span,
-                    height,
-                )?
+                self.node(ExprKind::Prime(Box::new(Expr { kind, span: top.expr.span }), count), span, height)?
             }
         };
         st.operands.push(node);
@@ -940,9 +772,7 @@ impl<'a> Parser<'a> {
     /// Closes the innermost parenthesis at `at`.
     fn close(&self, st: &mut Stacks, at: Span) -> Result<()> {
         if st.opens == 0 {
-            return Err(self
-                .syntax("unexpected ')'".to_string(), at)
-                .note("there is no '(' before it for it to close"));
+            return Err(self.syntax("unexpected ')'".to_string(), at).note("there is no '(' before it for it to close"));
         }
         while let Some(Pending::Op(..)) = st.ops.last() {
             self.reduce_top(st)?;
@@ -956,11 +786,7 @@ impl<'a> Parser<'a> {
         let node = match sqrt_start {
             Some(start) => {
                 let height = inner.height;
-                self.node(
-                    ExprKind::Sqrt(Box::new(inner.expr)),
-                    Span::new(start, at.end),
-                    height,
-                )?
+                self.node(ExprKind::Sqrt(Box::new(inner.expr)), Span::new(start, at.end), height)?
             }
             None => {
                 let mut inner = inner;
@@ -977,11 +803,7 @@ impl<'a> Parser<'a> {
             Pending::Open { paren, .. } => Some(*paren),
             Pending::Op(..) => None,
         });
-        self.syntax("unclosed '('".to_string(), paren.unwrap_or(found.span))
-            .note(format!(
-                "found {} before the matching ')'",
-                self.found(found)
-            ))
+        self.syntax("unclosed '('".to_string(), paren.unwrap_or(found.span)).note(format!("found {} before the matching ')'", self.found(found)))
     }
 
     /// The error for two operands side by side, e.g. `2x` or `)(`.
@@ -998,14 +820,8 @@ impl<'a> Parser<'a> {
             let q = quote(s);
             q[1..q.len() - 1].to_string()
         };
-        let error = self.syntax(
-            format!(
-                "implicit multiplication is not supported: write '{}*{}'",
-                shown(self.text(left)),
-                shown(right)
-            ),
-            left.to(next.span),
-        );
+        let error =
+            self.syntax(format!("implicit multiplication is not supported: write '{}*{}'", shown(self.text(left)), shown(right)), left.to(next.span));
         if self.prev.is_some_and(|p| p.tok == Tok::Number) && right.starts_with(['e', 'E']) {
             error.note("a power of ten needs digits after the 'e', e.g. 1e-3")
         } else {
@@ -1016,17 +832,7 @@ impl<'a> Parser<'a> {
 
 /// True for tokens after which a newline does not end the statement.
 fn continues_line(tok: Tok) -> bool {
-    matches!(
-        tok,
-        Tok::Plus
-            | Tok::Minus
-            | Tok::Star
-            | Tok::Slash
-            | Tok::Caret
-            | Tok::Equals
-            | Tok::Comma
-            | Tok::LParen
-    )
+    matches!(tok, Tok::Plus | Tok::Minus | Tok::Star | Tok::Slash | Tok::Caret | Tok::Equals | Tok::Comma | Tok::LParen)
 }
 
 #[cfg(test)]
@@ -1101,21 +907,13 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
     /// names and numbers span exactly their text.
     fn check_spans(src: &str, e: &Expr) {
         let s = e.span;
-        assert!(
-            s.start <= s.end && s.end <= src.len(),
-            "span {s:?} out of {src:?}"
-        );
+        assert!(s.start <= s.end && s.end <= src.len(), "span {s:?} out of {src:?}");
         assert!(src.is_char_boundary(s.start) && src.is_char_boundary(s.end));
         match &e.kind {
             // A leaf's span may also take in enclosing parentheses and a unary plus.
             ExprKind::Name(n) | ExprKind::Number(n) => {
-                let bare =
-                    src[s.start..s.end].trim_end_matches(|c: char| c == ')' || c.is_whitespace());
-                assert!(
-                    bare.ends_with(n.as_str()),
-                    "{:?} for {n:?}",
-                    &src[s.start..s.end]
-                );
+                let bare = src[s.start..s.end].trim_end_matches(|c: char| c == ')' || c.is_whitespace());
+                assert!(bare.ends_with(n.as_str()), "{:?} for {n:?}", &src[s.start..s.end]);
                 if !src[s.start..s.end].starts_with(['(', '+']) {
                     assert_eq!(&src[s.start..s.end], n);
                 }
@@ -1123,11 +921,7 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
             _ => {}
         }
         for c in children(e) {
-            assert!(
-                s.start <= c.span.start && c.span.end <= s.end,
-                "child {:?} outside {s:?} in {src:?}",
-                c.span
-            );
+            assert!(s.start <= c.span.start && c.span.end <= s.end, "child {:?} outside {s:?} in {src:?}", c.span);
             check_spans(src, c);
         }
     }
@@ -1191,54 +985,31 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
     fn example_program_structure_and_spans() {
         let p = program(EXAMPLE);
         assert_eq!(p.statements.len(), 4);
-        let Statement::Var(r) = &p.statements[0] else {
-            panic!("{:?}", p.statements[0])
-        };
+        let Statement::Var(r) = &p.statements[0] else { panic!("{:?}", p.statements[0]) };
         assert_eq!(r.name, "r");
         assert_eq!(text(EXAMPLE, r.span), "r");
-        let Statement::Param(names) = &p.statements[1] else {
-            panic!()
-        };
+        let Statement::Param(names) = &p.statements[1] else { panic!() };
         let names: Vec<&str> = names.iter().map(|i| i.name.as_str()).collect();
         assert_eq!(names, ["M", "omega", "l", "s"]);
-        let Statement::Let { name, value } = &p.statements[2] else {
-            panic!()
-        };
+        let Statement::Let { name, value } = &p.statements[2] else { panic!() };
         assert_eq!(name.name, "f");
         assert_eq!(sexp(value), "(- 1 (/ (* 2 M) r))");
         assert_eq!(text(EXAMPLE, value.span), "1 - 2*M/r");
-        let Statement::Ode { lhs, rhs, span } = &p.statements[3] else {
-            panic!()
-        };
+        let Statement::Ode { lhs, rhs, span } = &p.statements[3] else { panic!() };
         assert_eq!(
             sexp(lhs),
             "(+ (* f (d1 (* f (d1 y)))) (* (- (^ omega 2) (* f (+ (/ (* l (+ l 1)) (^ r 2)) \
              (/ (* (* (- 1 (^ s 2)) 2) M) (^ r 3))))) y))"
         );
         assert_eq!(sexp(rhs), "0");
-        assert_eq!(
-            text(EXAMPLE, *span),
-            "ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0"
-        );
-        assert_eq!(
-            text(EXAMPLE, lhs.span),
-            "f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y"
-        );
-        let ExprKind::Binary(BinOp::Add, first, second) = &lhs.kind else {
-            panic!()
-        };
+        assert_eq!(text(EXAMPLE, *span), "ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0");
+        assert_eq!(text(EXAMPLE, lhs.span), "f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y");
+        let ExprKind::Binary(BinOp::Add, first, second) = &lhs.kind else { panic!() };
         assert_eq!(text(EXAMPLE, first.span), "f*(f*y')'");
-        assert_eq!(
-            text(EXAMPLE, second.span),
-            "(omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y"
-        );
-        let ExprKind::Binary(BinOp::Mul, _, primed) = &first.kind else {
-            panic!()
-        };
+        assert_eq!(text(EXAMPLE, second.span), "(omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y");
+        let ExprKind::Binary(BinOp::Mul, _, primed) = &first.kind else { panic!() };
         assert_eq!(text(EXAMPLE, primed.span), "(f*y')'");
-        let ExprKind::Prime(inner, 1) = &primed.kind else {
-            panic!()
-        };
+        let ExprKind::Prime(inner, 1) = &primed.kind else { panic!() };
         assert_eq!(text(EXAMPLE, inner.span), "(f*y')");
         check_spans(EXAMPLE, lhs);
         check_spans(EXAMPLE, rhs);
@@ -1248,9 +1019,7 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
     fn spin_weighted_example_parses() {
         let src = "ode Delta^(-s)*(Delta^(s+1)*R')' + ((K^2 - 2*I*s*(r-M)*K)/Delta + 4*I*s*omega*r - lam)*R = 0";
         let p = program(src);
-        let Statement::Ode { lhs, .. } = &p.statements[0] else {
-            panic!()
-        };
+        let Statement::Ode { lhs, .. } = &p.statements[0] else { panic!() };
         assert_eq!(
             sexp(lhs),
             "(+ (* (^ Delta (neg s)) (d1 (* (^ Delta (+ s 1)) (d1 R)))) (* (- (+ (/ (- (^ K 2) \
@@ -1308,9 +1077,7 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
         let src = "2*(a+b)";
         let e = expr(src);
         assert_eq!(e.span, Span::new(0, 7));
-        let ExprKind::Binary(_, _, rhs) = &e.kind else {
-            panic!()
-        };
+        let ExprKind::Binary(_, _, rhs) = &e.kind else { panic!() };
         assert_eq!(text(src, rhs.span), "(a+b)");
         let src = "-x^2";
         let e = expr(src);
@@ -1320,13 +1087,9 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
         let src = " +  y'' ";
         assert_eq!(text(src, expr(src).span), "+  y''");
         let src = "1 + sqrt( r )'";
-        let ExprKind::Binary(_, _, rhs) = &expr(src).kind else {
-            panic!()
-        };
+        let ExprKind::Binary(_, _, rhs) = &expr(src).kind else { panic!() };
         assert_eq!(text(src, rhs.span), "sqrt( r )'");
-        let ExprKind::Prime(s, 1) = &rhs.kind else {
-            panic!()
-        };
+        let ExprKind::Prime(s, 1) = &rhs.kind else { panic!() };
         assert_eq!(text(src, s.span), "sqrt( r )");
         let src = "ω·λ^−2";
         let e = expr(src);
@@ -1336,69 +1099,43 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
 
     #[test]
     fn numbers_keep_their_text() {
-        for n in [
-            "0.25",
-            "1e-3",
-            ".5",
-            "2.",
-            "2.e5",
-            "1E+3",
-            "007",
-            ".5e2",
-            "12345678901234567890",
-        ] {
+        for n in ["0.25", "1e-3", ".5", "2.", "2.e5", "1E+3", "007", ".5e2", "12345678901234567890"] {
             assert_eq!(shape(n), n);
         }
     }
 
     #[test]
     fn unicode_and_mixed_names() {
-        let src =
-            "var θ\nparam ω, λ, ℓ, ħ, a_1, Ψ2\nlet f = ω^2 - λ*ℓ/θ + a_1*Ψ2\node f*ψ'' + ψ = 0";
+        let src = "var θ\nparam ω, λ, ℓ, ħ, a_1, Ψ2\nlet f = ω^2 - λ*ℓ/θ + a_1*Ψ2\node f*ψ'' + ψ = 0";
         let p = program(src);
-        let Statement::Param(names) = &p.statements[1] else {
-            panic!()
-        };
+        let Statement::Param(names) = &p.statements[1] else { panic!() };
         let names: Vec<&str> = names.iter().map(|i| i.name.as_str()).collect();
         assert_eq!(names, ["ω", "λ", "ℓ", "ħ", "a_1", "Ψ2"]);
         for (i, n) in names.iter().enumerate() {
-            let Statement::Param(ids) = &p.statements[1] else {
-                panic!()
-            };
+            let Statement::Param(ids) = &p.statements[1] else { panic!() };
             assert_eq!(text(src, ids[i].span), *n);
         }
-        let Statement::Let { value, .. } = &p.statements[2] else {
-            panic!()
-        };
+        let Statement::Let { value, .. } = &p.statements[2] else { panic!() };
         assert_eq!(sexp(value), "(+ (- (^ ω 2) (/ (* λ ℓ) θ)) (* a_1 Ψ2))");
         check_spans(src, value);
     }
 
     #[test]
     fn continuation_lines_comments_and_separators() {
-        let src = "var r; param a,\n  b # the second\nlet f = 1 +\n\n  # a comment line\n  2*a\nlet g = (1\n - b\n)\nunknown u\node u'' - f*u =\n  g*u\n";
+        let src =
+            "var r; param a,\n  b # the second\nlet f = 1 +\n\n  # a comment line\n  2*a\nlet g = (1\n - b\n)\nunknown u\node u'' - f*u =\n  g*u\n";
         let p = program(src);
         assert_eq!(p.statements.len(), 6);
-        let Statement::Param(names) = &p.statements[1] else {
-            panic!()
-        };
+        let Statement::Param(names) = &p.statements[1] else { panic!() };
         assert_eq!(names.len(), 2);
-        let Statement::Let { value, .. } = &p.statements[2] else {
-            panic!()
-        };
+        let Statement::Let { value, .. } = &p.statements[2] else { panic!() };
         assert_eq!(sexp(value), "(+ 1 (* 2 a))");
-        let Statement::Let { value, .. } = &p.statements[3] else {
-            panic!()
-        };
+        let Statement::Let { value, .. } = &p.statements[3] else { panic!() };
         assert_eq!(sexp(value), "(- 1 b)");
         assert_eq!(text(src, value.span), "(1\n - b\n)");
-        let Statement::Unknown(u) = &p.statements[4] else {
-            panic!()
-        };
+        let Statement::Unknown(u) = &p.statements[4] else { panic!() };
         assert_eq!(u.name, "u");
-        let Statement::Ode { rhs, .. } = &p.statements[5] else {
-            panic!()
-        };
+        let Statement::Ode { rhs, .. } = &p.statements[5] else { panic!() };
         assert_eq!(sexp(rhs), "(* g u)");
         for op in ["+", "-", "*", "/", "^"] {
             let src = format!("let f = a {op}\n b");
@@ -1413,166 +1150,50 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
 
     #[test]
     fn syntax_errors_say_what_and_where() {
-        check(
-            "let f = 1 +\n",
-            "expected an expression after '+', found end of input",
-            "\n",
-        );
-        check(
-            "let f = 1 + ",
-            "expected an expression after '+', found end of input",
-            " ",
-        );
-        check(
-            "let f = 1 + # c",
-            "expected an expression after '+', found end of input",
-            "#",
-        );
-        check(
-            "ode y'' + = 0",
-            "expected an expression after '+', found '='",
-            "=",
-        );
-        check(
-            "ode\ny'' = 0",
-            "expected an expression after 'ode', found end of line",
-            "\n",
-        );
-        check(
-            "let f = 2 * * 3",
-            "expected an expression after '*', found '*'",
-            "*",
-        );
-        check(
-            "let f = ()",
-            "expected an expression after '(', found ')'",
-            ")",
-        );
-        check(
-            "let f = a + 'y",
-            "expected an expression after '+', found a prime (')",
-            "'",
-        );
+        check("let f = 1 +\n", "expected an expression after '+', found end of input", "\n");
+        check("let f = 1 + ", "expected an expression after '+', found end of input", " ");
+        check("let f = 1 + # c", "expected an expression after '+', found end of input", "#");
+        check("ode y'' + = 0", "expected an expression after '+', found '='", "=");
+        check("ode\ny'' = 0", "expected an expression after 'ode', found end of line", "\n");
+        check("let f = 2 * * 3", "expected an expression after '*', found '*'", "*");
+        check("let f = ()", "expected an expression after '(', found ')'", ")");
+        check("let f = a + 'y", "expected an expression after '+', found a prime (')", "'");
         check("let f = (1 + 2", "unclosed '('", "(");
         check("let f = (1 + (2)\nvar r", "unclosed '('", "(");
         check("let f = sqrt(1 + 2; var r", "unclosed '('", "(");
         check("let f = 1 + 2)", "unexpected ')'", ")");
-        check(
-            "ode y'' + y",
-            "expected '=' in ode statement, found end of input",
-            "",
-        );
-        check(
-            "ode y'' + y\n= 0",
-            "expected '=' in ode statement, found end of line",
-            "\n",
-        );
+        check("ode y'' + y", "expected '=' in ode statement, found end of input", "");
+        check("ode y'' + y\n= 0", "expected '=' in ode statement, found end of line", "\n");
         check("ode y'' = 0 = 1", "unexpected second '='", "=");
-        check(
-            "var ode",
-            "'ode' is a reserved word and cannot be a name",
-            "ode",
-        );
-        check(
-            "param a, sqrt",
-            "'sqrt' is a reserved word and cannot be a name",
-            "sqrt",
-        );
-        check(
-            "let I = 2",
-            "'I' is a reserved word and cannot be a name",
-            "I",
-        );
-        check(
-            "let f = x + let",
-            "'let' is a reserved word and cannot be a name",
-            "let",
-        );
+        check("var ode", "'ode' is a reserved word and cannot be a name", "ode");
+        check("param a, sqrt", "'sqrt' is a reserved word and cannot be a name", "sqrt");
+        check("let I = 2", "'I' is a reserved word and cannot be a name", "I");
+        check("let f = x + let", "'let' is a reserved word and cannot be a name", "let");
         check("let f = 2 $ 3", "unexpected character '$'", "$");
         check("let f = \\omega", "unexpected character '\\'", "\\");
         check("let f = \"a\"", "unexpected character '\"'", "\"");
         check("let f = r²", "unexpected character '²'", "²");
         check("let f = a.b", "unexpected character '.'", ".");
-        check(
-            "let f = 2x",
-            "implicit multiplication is not supported: write '2*x'",
-            "2x",
-        );
-        check(
-            "let f = (a)(b)",
-            "implicit multiplication is not supported: write ')*('",
-            ")(",
-        );
-        check(
-            "let f = y' y",
-            "implicit multiplication is not supported: write 'y'*y'",
-            "y' y",
-        );
-        check(
-            "let f = a sqrt(b)",
-            "implicit multiplication is not supported: write 'a*sqrt'",
-            "a sqrt",
-        );
-        check(
-            "let f = 1e",
-            "implicit multiplication is not supported: write '1*e'",
-            "1e",
-        );
+        check("let f = 2x", "implicit multiplication is not supported: write '2*x'", "2x");
+        check("let f = (a)(b)", "implicit multiplication is not supported: write ')*('", ")(");
+        check("let f = y' y", "implicit multiplication is not supported: write 'y'*y'", "y' y");
+        check("let f = a sqrt(b)", "implicit multiplication is not supported: write 'a*sqrt'", "a sqrt");
+        check("let f = 1e", "implicit multiplication is not supported: write '1*e'", "1e");
         check("let f = 1.2.3", "malformed number '1.2.3'", "1.2.3");
         check("let f = 2..", "malformed number '2..'", "2..");
-        check(
-            "let f = sqrt 2",
-            "expected '(' after 'sqrt', found '2'",
-            "2",
-        );
+        check("let f = sqrt 2", "expected '(' after 'sqrt', found '2'", "2");
         check("var", "expected a name after 'var', found end of input", "");
         check("var 2r", "expected a name after 'var', found '2'", "2");
-        check(
-            "param a,",
-            "expected a name after ',', found end of input",
-            "",
-        );
-        check(
-            "param a b",
-            "expected ',' or the end of the statement, found 'b'",
-            "b",
-        );
+        check("param a,", "expected a name after ',', found end of input", "");
+        check("param a b", "expected ',' or the end of the statement, found 'b'", "b");
         check("let f 2", "expected '=' after 'let f', found '2'", "2");
-        check(
-            "var r s",
-            "expected the end of the statement, found 's'",
-            "s",
-        );
-        check(
-            "let f = 1, 2",
-            "expected the end of the statement, found ','",
-            ",",
-        );
-        check(
-            "let f = x var r",
-            "expected the end of the statement, found 'var'",
-            "var",
-        );
-        check(
-            "y'' + y = 0",
-            "expected a statement (var, param, let, unknown or ode), found 'y'",
-            "y",
-        );
-        check(
-            ")",
-            "expected a statement (var, param, let, unknown or ode), found ')'",
-            ")",
-        );
-        check(
-            "let ω = ω ^",
-            "expected an expression after '^', found end of input",
-            "",
-        );
-        check(
-            "let f = −",
-            "expected an expression after '−', found end of input",
-            "",
-        );
+        check("var r s", "expected the end of the statement, found 's'", "s");
+        check("let f = 1, 2", "expected the end of the statement, found ','", ",");
+        check("let f = x var r", "expected the end of the statement, found 'var'", "var");
+        check("y'' + y = 0", "expected a statement (var, param, let, unknown or ode), found 'y'", "y");
+        check(")", "expected a statement (var, param, let, unknown or ode), found ')'", ")");
+        check("let ω = ω ^", "expected an expression after '^', found end of input", "");
+        check("let f = −", "expected an expression after '−', found end of input", "");
     }
 
     #[test]
@@ -1624,20 +1245,14 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
         assert_eq!(e.message, "expected the end of the expression, found 'y'");
         let src = "ode y'' + y = 0";
         let (lhs, rhs, span) = parse_equation(src, &l).unwrap();
-        assert_eq!(
-            (sexp(&lhs), sexp(&rhs)),
-            ("(+ (d2 y) y)".to_string(), "0".to_string())
-        );
+        assert_eq!((sexp(&lhs), sexp(&rhs)), ("(+ (d2 y) y)".to_string(), "0".to_string()));
         assert_eq!(span, Span::new(0, src.len()));
         let src = "  y'' = -y ";
         let (_, rhs, span) = parse_equation(src, &l).unwrap();
         assert_eq!(sexp(&rhs), "(neg y)");
         assert_eq!(text(src, span), "y'' = -y");
         let e = parse_equation("y'' + y", &l).unwrap_err();
-        assert_eq!(
-            e.message,
-            "expected '=' in the equation, found end of input"
-        );
+        assert_eq!(e.message, "expected '=' in the equation, found end of input");
         let e = parse_equation("y'' = y = 0", &l).unwrap_err();
         assert_eq!(e.message, "unexpected second '='");
         let e = parse_equation("y'' = y var", &l).unwrap_err();
@@ -1646,40 +1261,21 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
 
     #[test]
     fn size_limits() {
-        let small = ParseLimits {
-            max_bytes: 10,
-            ..limits()
-        };
+        let small = ParseLimits { max_bytes: 10, ..limits() };
         let e = error_with("var r\nparam a", &small);
         assert_eq!(e.kind, ErrorKind::Limit);
         assert_eq!(e.span, Some(Span::new(10, 11)));
-        let e = parse_expr(
-            "ωωωωωωωω",
-            &ParseLimits {
-                max_bytes: 5,
-                ..limits()
-            },
-        )
-        .unwrap_err();
+        let e = parse_expr("ωωωωωωωω", &ParseLimits { max_bytes: 5, ..limits() }).unwrap_err();
         assert_eq!((e.kind, e.span), (ErrorKind::Limit, Some(Span::new(4, 6))));
         assert!(parse_program("var r;;;;;", &small).is_ok());
 
-        let few = ParseLimits {
-            max_statements: 3,
-            ..limits()
-        };
+        let few = ParseLimits { max_statements: 3, ..limits() };
         assert!(parse_program("var r\n\n;param a;let b = 1\n", &few).is_ok());
         let e = error_with("var r\nparam a\nlet b = 1\nunknown u", &few);
-        assert_eq!(
-            (e.kind, e.message.as_str()),
-            (ErrorKind::Limit, "more than 3 statements")
-        );
+        assert_eq!((e.kind, e.message.as_str()), (ErrorKind::Limit, "more than 3 statements"));
         assert_eq!(e.span, Some(Span::new(24, 31)));
 
-        let short = ParseLimits {
-            max_number_len: 4,
-            ..limits()
-        };
+        let short = ParseLimits { max_number_len: 4, ..limits() };
         assert!(parse_program("let a = 1.25", &short).is_ok());
         let e = error_with("let a = 1.255", &short);
         assert_eq!(e.kind, ErrorKind::Limit);
@@ -1690,10 +1286,7 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
 
     #[test]
     fn depth_limit_is_exact() {
-        let shallow = ParseLimits {
-            max_depth: 3,
-            ..limits()
-        };
+        let shallow = ParseLimits { max_depth: 3, ..limits() };
         let ok = |s: &str| parse_expr(s, &shallow).map(|e| sexp(&e));
         let deep = |s: &str| {
             let e = parse_expr(s, &shallow).unwrap_err();
@@ -1736,20 +1329,14 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
             }
             // With the limit lifted, parentheses alone still cannot deepen the
             // stack or the tree.
-            let unlimited = ParseLimits {
-                max_depth: usize::MAX,
-                ..ParseLimits::default()
-            };
+            let unlimited = ParseLimits { max_depth: usize::MAX, ..ParseLimits::default() };
             let e = parse_expr(&parens[8..], &unlimited).unwrap();
             assert_eq!(e.kind, ExprKind::Name("x".to_string()));
             let primes = format!("y{}", "'".repeat(n));
             let e = parse_expr(&primes, &ParseLimits::default()).unwrap();
             assert!(matches!(e.kind, ExprKind::Prime(_, 100_000)));
         };
-        let thread = std::thread::Builder::new()
-            .stack_size(2 << 20)
-            .spawn(run)
-            .unwrap();
+        let thread = std::thread::Builder::new().stack_size(2 << 20).spawn(run).unwrap();
         thread.join().unwrap();
     }
 
@@ -1784,10 +1371,9 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
     }
 
     const ALPHABET: &[&str] = &[
-        "x", "y", "r", "ω", "λ1", "a_b", "2", "0.5", "1e-3", ".5", "2.", "+", "-", "−", "*", "·",
-        "/", "^", "=", "(", "(", ")", ")", "'", "′", "″", ",", ";", "\n", " ", "\t", "# c\n",
-        "var", "param", "let", "ode", "unknown", "sqrt(", "sqrt", "I", "$", "é", "1.2.3", "\r\n",
-        "²", "\u{200b}", "😀", ".", "_", "e",
+        "x", "y", "r", "ω", "λ1", "a_b", "2", "0.5", "1e-3", ".5", "2.", "+", "-", "−", "*", "·", "/", "^", "=", "(", "(", ")", ")", "'", "′", "″",
+        ",", ";", "\n", " ", "\t", "# c\n", "var", "param", "let", "ode", "unknown", "sqrt(", "sqrt", "I", "$", "é", "1.2.3", "\r\n", "²",
+        "\u{200b}", "😀", ".", "_", "e",
     ];
 
     fn random_text(rng: &mut Rng) -> String {
@@ -1817,14 +1403,7 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
         }
         match rng.below(if budget == 0 { 1 } else { 4 }) {
             0 => s.push_str(ATOMS[rng.below(ATOMS.len())]),
-            1 => {
-                s = format!(
-                    "{s}({}{}{})",
-                    space(rng),
-                    random_expr(rng, budget - 1),
-                    space(rng)
-                )
-            }
+            1 => s = format!("{s}({}{}{})", space(rng), random_expr(rng, budget - 1), space(rng)),
             2 => s = format!("{s}sqrt({})", random_expr(rng, budget - 1)),
             _ => {
                 let op = OPS[rng.below(OPS.len())];
@@ -1878,33 +1457,19 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
     fn random_inputs_never_panic_and_round_trip() {
         let mut rng = Rng(0x9E37_79B9_7F4A_7C15);
         let (mut parsed, mut exprs) = (0, 0);
-        let tiny = ParseLimits {
-            max_depth: 6,
-            max_number_len: 3,
-            ..ParseLimits::default()
-        };
+        let tiny = ParseLimits { max_depth: 6, max_number_len: 3, ..ParseLimits::default() };
         for case in 0..20_000 {
             let src = random_case(&mut rng);
-            let limits = if case % 5 == 0 {
-                tiny.clone()
-            } else {
-                ParseLimits::default()
-            };
+            let limits = if case % 5 == 0 { tiny.clone() } else { ParseLimits::default() };
             match parse_program(&src, &limits) {
                 Ok(p) => {
                     parsed += 1;
                     check_statement_spans(&src, &p);
                 }
                 Err(e) => {
-                    assert!(
-                        matches!(e.kind, ErrorKind::Syntax | ErrorKind::Limit),
-                        "{src:?}: {e:?}"
-                    );
+                    assert!(matches!(e.kind, ErrorKind::Syntax | ErrorKind::Limit), "{src:?}: {e:?}");
                     let span = e.span.expect("span");
-                    assert!(
-                        span.start <= span.end && span.end <= src.len(),
-                        "{src:?}: {e:?}"
-                    );
+                    assert!(span.start <= span.end && span.end <= src.len(), "{src:?}: {e:?}");
                     assert!(src.is_char_boundary(span.start) && src.is_char_boundary(span.end));
                     assert!(!e.message.is_empty());
                 }
@@ -1912,21 +1477,12 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
             if let Ok(e) = parse_expr(&src, &limits) {
                 exprs += 1;
                 check_spans(&src, &e);
-                let again = parse_expr(
-                    &print(&e),
-                    &ParseLimits {
-                        max_depth: 10_000,
-                        ..limits.clone()
-                    },
-                )
-                .unwrap_or_else(|err| panic!("{src:?} printed as {:?}: {err:?}", print(&e)));
+                let again = parse_expr(&print(&e), &ParseLimits { max_depth: 10_000, ..limits.clone() })
+                    .unwrap_or_else(|err| panic!("{src:?} printed as {:?}: {err:?}", print(&e)));
                 assert_eq!(sexp(&again), sexp(&e), "{src:?}");
             }
         }
-        assert!(
-            parsed > 2_000 && exprs > 2_000,
-            "only {parsed} programs and {exprs} expressions parsed"
-        );
+        assert!(parsed > 2_000 && exprs > 2_000, "only {parsed} programs and {exprs} expressions parsed");
     }
 
     /// Random characters from all over Unicode, not just the token alphabet.
@@ -1944,11 +1500,7 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
                 .collect();
             if let Err(e) = parse_program(&src, &ParseLimits::default()) {
                 let span = e.span.expect("span");
-                assert!(
-                    src.is_char_boundary(span.start)
-                        && src.is_char_boundary(span.end)
-                        && span.end <= src.len()
-                );
+                assert!(src.is_char_boundary(span.start) && src.is_char_boundary(span.end) && span.end <= src.len());
             }
         }
     }
