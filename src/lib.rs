@@ -32,4 +32,5 @@ pub mod cli;
 pub mod emit;
 pub mod error;
 pub mod ode;
+pub mod series;
 pub mod syntax;

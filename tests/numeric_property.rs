@@ -477,7 +477,12 @@ fn normal_form_agrees_with_an_independent_numeric_route() {
     for index in 0..CASES {
         let case = make_case(&mut rng, index);
         let t0 = std::time::Instant::now();
-        let res = reduce(&Input::Program(&case.text), &ReduceOptions::default());
+        let lim: usize = std::env::var("LIMBITS").ok().and_then(|v| v.parse().ok()).unwrap_or(20000);
+        let opts = ReduceOptions { limits: canonode::algebra::Limits { max_bits: lim as u64, ..Default::default() }, ..Default::default() };
+        let res = reduce(&Input::Program(&case.text), &opts);
+        if let Err(e) = &res {
+            eprintln!("ERR {index} {}", e.message);
+        }
         eprintln!("TIMING {index} {:?} {}", t0.elapsed(), res.is_ok());
         if index == 101 || index == 66 {
             eprintln!("CASE<<{}>>", case.text);

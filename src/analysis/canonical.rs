@@ -308,7 +308,7 @@ impl<'a> Ctx<'a> {
 }
 
 /// The polynomial part (positive powers) of an exponential exponent E(x).
-fn poly_exp(k: &Field, e: &RatFunc) -> Result<RatFunc> {
+pub(crate) fn poly_exp(k: &Field, e: &RatFunc) -> Result<RatFunc> {
     if e.is_zero() {
         return Ok(RatFunc::zero());
     }

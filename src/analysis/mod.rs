@@ -9,6 +9,8 @@ pub mod canonical;
 mod class;
 mod ext;
 mod formal;
+pub mod labels;
+pub mod methods;
 pub mod numeric;
 
 pub use class::classify_points;
@@ -257,6 +259,15 @@ fn expand_at_infinity(k: &Field, q: &RatFunc, n: usize) -> Result<(i64, Vec<RatF
 }
 
 /// The coefficient p₁ of 1/z in p at infinity (after its polynomial part).
+pub fn p_at_infinity_pub(k: &Field, p: &RatFunc) -> Result<RatFunc> {
+    p_at_infinity(k, p)
+}
+
+/// An element of the point's field free of θ, when it is one.
+pub fn ext_base(a: &UPoly) -> Option<RatFunc> {
+    Ext::as_base(a)
+}
+
 fn p_at_infinity(k: &Field, p: &RatFunc) -> Result<RatFunc> {
     let (d, c) = expand_at_infinity(k, p, 0)?;
     let _ = c;

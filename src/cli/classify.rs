@@ -19,12 +19,24 @@ pub(crate) struct ClassifyArgs {
     /// (e.g. '0', '2*M', 'inf') and CHOICE 1 or 2 (the order in which exponents are listed).
     #[arg(long = "exponents", value_name = "POINT=CHOICE,...")]
     exponents: Option<String>,
+    /// Pick the exponents of a boundary problem: quasinormal modes or bound states.
+    #[arg(long = "boundary", value_enum)]
+    boundary: Option<BoundaryArg>,
     /// Output format.
     #[arg(long = "format", value_enum, default_value = "text")]
     format: Format,
 }
 
-fn parse_choices(text: Option<&str>) -> Result<crate::analysis::canonical::Choices, Failure> {
+/// Boundary problems.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
+pub(crate) enum BoundaryArg {
+    /// Quasinormal modes: ingoing at horizons, outgoing at infinity.
+    Qnm,
+    /// Bound states: normalisable at both ends.
+    Bound,
+}
+
+pub(crate) fn parse_choices(text: Option<&str>) -> Result<crate::analysis::canonical::Choices, Failure> {
     let mut c = crate::analysis::canonical::Choices::default();
     let Some(text) = text else { return Ok(c) };
     let mut start = 0;
@@ -107,23 +119,77 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
         }
         None => None,
     };
-    let choices = parse_choices(a.exponents.as_deref())?;
+    let mut choices = parse_choices(a.exponents.as_deref())?;
+    // Labels need a frequency: the one named, or omega/ω/w when declared.
+    let freq_name =
+        a.input.frequency.clone().or_else(|| ["omega", "ω", "w"].iter().find(|n| red.ode.params.iter().any(|p| p == *n)).map(|s| s.to_string()));
+    let freq = match &freq_name {
+        Some(f) => match k.names().iter().skip(1).position(|n| n == f) {
+            Some(i) => Some(i + 1),
+            None => return Err(Error::new(ErrorKind::Usage, format!("'{f}' is not a parameter of the equation")).in_option("--frequency").into()),
+        },
+        None => None,
+    };
+    let label_point = values_point.clone().unwrap_or_else(|| crate::analysis::labels::generic_values(k.names().len(), freq.unwrap_or(usize::MAX)));
+    let labels = freq.map(|f| crate::analysis::labels::label(&an, f, &label_point, values_point.is_some()));
+    let mut boundary_said = Vec::new();
+    if let Some(b) = a.boundary {
+        if b == BoundaryArg::Qnm && labels.is_none() {
+            return Err(
+                Error::new(ErrorKind::Usage, "--boundary qnm needs a frequency: name it with --frequency (no parameter is called omega)").into()
+            );
+        }
+        let kind = if b == BoundaryArg::Qnm { crate::analysis::labels::Boundary::Qnm } else { crate::analysis::labels::Boundary::Bound };
+        let text = |p: &crate::analysis::SingularPoint| match &p.place {
+            crate::analysis::Place::Point { at, .. } => crate::algebra::print::ratfunc_text(at, k.names(), crate::algebra::print::Style::Text),
+            _ => "∞".to_string(),
+        };
+        let (picks, said) = crate::analysis::labels::boundary_choices(&an, labels.as_ref(), kind, &label_point, text);
+        for (p, c) in picks {
+            if !choices.picks.iter().any(|(q, _)| *q == p) {
+                choices.picks.push((p, c));
+            }
+        }
+        boundary_said = said;
+    }
     let canon = crate::analysis::canonical(&red, &an, &choices)?;
+    let methods = crate::analysis::methods::suggest(&an, a.boundary.map(|b| b == BoundaryArg::Bound));
     let vals = values_point.map(Values::new);
+    let bname = a.boundary.map(|b| if b == BoundaryArg::Qnm { "quasinormal modes" } else { "bound states" });
     Ok(match a.format {
         Format::Json => {
-            let mut v = crate::emit::analysis_json(k, &red.var, &red.ode.params, &an, numeric.as_deref());
+            let mut v = crate::emit::analysis_json(k, &red.var, &red.ode.params, &an, numeric.as_deref(), labels.as_ref());
             v["canonical"] = match &canon {
                 Some(c) => crate::emit::canonical_json(k, c, vals.as_ref()),
                 None => serde_json::Value::Null,
             };
+            v["boundary"] = match bname {
+                Some(n) => serde_json::json!({"kind": n, "choices": boundary_said}),
+                None => serde_json::Value::Null,
+            };
+            v["methods"] = serde_json::Value::Array(
+                methods.iter().map(|m| serde_json::json!({"method": m.method, "reason": m.reason, "source": m.source})).collect(),
+            );
             format!("{}\n", serde_json::to_string_pretty(&v).unwrap_or_default())
         }
         _ => {
-            let mut t = crate::emit::analysis_text(k, &red.var, &an, numeric.as_deref());
+            let mut t = crate::emit::analysis_text(k, &red.var, &an, numeric.as_deref(), labels.as_ref());
+            if let Some(n) = bname {
+                t.push_str(&format!("\nboundary conditions for {n}\n"));
+                for s in &boundary_said {
+                    t.push_str(&format!("  {s}\n"));
+                }
+                if boundary_said.is_empty() {
+                    t.push_str("  no point could be labelled: choose exponents with --exponents\n");
+                }
+            }
             match &canon {
                 Some(c) => t.push_str(&crate::emit::canonical_text(k, &red.ode.unknown, c, vals.as_ref())),
                 None => t.push_str("\ncanonical form   none reached for this class and configuration\n"),
+            }
+            t.push_str("\nsuggested methods\n");
+            for m in &methods {
+                t.push_str(&format!("  {}: {}  [{}]\n", m.method, m.reason, m.source));
             }
             t
         }

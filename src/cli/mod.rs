@@ -5,6 +5,7 @@
 mod classify;
 pub(crate) mod diagnostic;
 mod eval;
+mod recurrence;
 mod reduce;
 mod values;
 
@@ -31,6 +32,8 @@ enum Command {
     Eval(eval::EvalArgs),
     /// Singular points with their kinds, ranks and exponents, and the class of the equation.
     Classify(classify::ClassifyArgs),
+    /// The series recurrence about a regular singular point (Frobenius/Jaffé-type ansatz).
+    Recurrence(recurrence::RecurrenceArgs),
 }
 
 /// Output formats.
@@ -219,5 +222,6 @@ fn run(cli: Cli) -> u8 {
         Command::Reduce(a) => reduce::run(&a),
         Command::Eval(a) => eval::run(&a),
         Command::Classify(a) => classify::run(&a),
+        Command::Recurrence(a) => recurrence::run(&a),
     }
 }

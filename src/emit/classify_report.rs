@@ -10,13 +10,19 @@
 //! "not applicable" | "when" | "unchecked"), `apparent_condition` (text: the
 //! polynomial that must vanish, or the reason it was not checked; null
 //! otherwise), `removable` (bool: Q is regular there, only the prefactor is
-//! singular), `formal_solutions` [text]}], `branch_note` (text or null).
+//! singular), `formal_solutions` [text], `labels` (with `--frequency`: per
+//! exponent of the unknown at regular points, per formal branch at irregular
+//! ones, "ingoing" | "outgoing" | "decaying" | "growing" | null; else null)}],
+//! `branch_note` (text or null), `labels_basis` (text or null), `canonical`
+//! (null or the object of [`canonical_json`]), `boundary` (null or
+//! {`kind`, `choices` [text]}), `methods` [{`method`, `reason`, `source`}].
 //! At infinity exponents refer to t = 1/z: those of the normal form in t
 //! (ψ̃ = t·ψ up to a constant) and of the unknown as a function of t.
 
 use crate::algebra::print::{poly_text, ratfunc_text, Style};
 use crate::algebra::{Field, Int, RatFunc, UPoly};
 use crate::analysis::canonical::{Canonical, Param};
+use crate::analysis::labels::Labels;
 use crate::analysis::numeric::NumericPoint;
 use crate::analysis::{Analysis, Apparent, Exponent, Place, SingularPoint};
 use serde_json::{json, Value};
@@ -203,7 +209,7 @@ fn fmt_c(z: num_complex::Complex64) -> String {
 }
 
 /// The classification as plain text.
-pub fn analysis_text(k: &Field, var: &str, a: &Analysis, numeric: Option<&[NumericPoint]>) -> String {
+pub fn analysis_text(k: &Field, var: &str, a: &Analysis, numeric: Option<&[NumericPoint]>, labels: Option<&Labels>) -> String {
     let s = Style::Text;
     let mut o = String::new();
     o.push_str(&format!("class   {}  ({}: {})\n", a.class, class_name(&a.class), a.reason));
@@ -222,6 +228,13 @@ pub fn analysis_text(k: &Field, var: &str, a: &Analysis, numeric: Option<&[Numer
         if !p.unknown_exponents.is_empty() {
             let e: Vec<String> = p.unknown_exponents.iter().map(|e| exponent_text(k, e, s)).collect();
             o.push_str(&format!("    unknown exponents:  {}\n", e.join(",  ")));
+        }
+        if let Some(row) = labels.map(|l| &l.per_point[i]) {
+            let words: Vec<String> = row.iter().enumerate().filter_map(|(j, l)| l.as_ref().map(|l| format!("{} {}", j + 1, l.word()))).collect();
+            if !words.is_empty() {
+                let what = if p.kind == crate::analysis::Kind::Irregular { "branches" } else { "exponents of the unknown" };
+                o.push_str(&format!("    {what}:  {}\n", words.join(",  ")));
+            }
         }
         if let Some(n) = p.integer_difference {
             let (w, cond) = apparent_fields(k, &p.apparent);
@@ -247,6 +260,9 @@ pub fn analysis_text(k: &Field, var: &str, a: &Analysis, numeric: Option<&[Numer
     if numeric.is_some() && has_inexact_root(a) {
         o.push_str(&format!("\nnote: {}\n", BRANCH_NOTE));
     }
+    if let Some(l) = labels {
+        o.push_str(&format!("\nlabels for time dependence e^(-i*omega*t), {}\n", l.basis));
+    }
     o
 }
 
@@ -258,7 +274,7 @@ fn has_inexact_root(a: &Analysis) -> bool {
 }
 
 /// The classification as JSON (schema in the module documentation).
-pub fn analysis_json(k: &Field, var: &str, params: &[String], a: &Analysis, numeric: Option<&[NumericPoint]>) -> Value {
+pub fn analysis_json(k: &Field, var: &str, params: &[String], a: &Analysis, numeric: Option<&[NumericPoint]>, labels: Option<&Labels>) -> Value {
     let s = Style::Text;
     let mut pts = Vec::new();
     for (i, p) in a.points.iter().enumerate() {
@@ -295,6 +311,10 @@ pub fn analysis_json(k: &Field, var: &str, params: &[String], a: &Analysis, nume
                 "apparent_condition": cond,
                 "removable": p.removable,
                 "formal_solutions": formal_text(k, var, p),
+                "labels": match labels {
+                    Some(l) => Value::Array(l.per_point[i].iter().map(|x| x.as_ref().map(|x| Value::String(x.word().into())).unwrap_or(Value::Null)).collect()),
+                    None => Value::Null,
+                },
             }));
         }
     }
@@ -307,6 +327,7 @@ pub fn analysis_json(k: &Field, var: &str, params: &[String], a: &Analysis, nume
         "parameters": params,
         "singular_points": pts,
         "branch_note": if numeric.is_some() && has_inexact_root(a) { Value::String(BRANCH_NOTE.into()) } else { Value::Null },
+        "labels_basis": labels.map(|l| Value::String(l.basis.clone())).unwrap_or(Value::Null),
     })
 }
 

@@ -1,0 +1,104 @@
+//! `canonode recurrence`: the series recurrence about a regular singular point.
+
+use super::{emit, report, Failure, Format, InputArgs};
+use crate::algebra::print::{poly_text, Style};
+use clap::Args;
+
+/// Arguments of `recurrence`.
+#[derive(Args, Debug)]
+pub(crate) struct RecurrenceArgs {
+    #[command(flatten)]
+    input: InputArgs,
+    /// The expansion point, as `classify` prints it (e.g. '2*M').
+    #[arg(long = "about", value_name = "POINT")]
+    about: String,
+    /// The series variable, a Möbius map vanishing at the point: 'u=(r - 2*M)/r'
+    /// (default: u = (z − z_h)/(z − z₂) with z₂ the other finite singular point).
+    #[arg(long = "series", value_name = "u=MOBIUS")]
+    series: Option<String>,
+    /// Exponent choices POINT=CHOICE,... (1 or 2 in the order `classify` lists them; 'inf' for ∞).
+    #[arg(long = "exponents", value_name = "POINT=CHOICE,...")]
+    exponents: Option<String>,
+    /// Expand the normal-form ψ instead of the unknown.
+    #[arg(long = "normal")]
+    normal: bool,
+    /// Output format (text or json).
+    #[arg(long = "format", value_enum, default_value = "text")]
+    format: Format,
+}
+
+pub(crate) fn run(a: &RecurrenceArgs) -> u8 {
+    let src = match a.input.read() {
+        Ok(s) => s,
+        Err(f) => return fail(&f, None, a),
+    };
+    match compute(a, &src) {
+        Ok(text) => match emit(&text) {
+            Ok(()) => 0,
+            Err(f) => fail(&f, Some(&src), a),
+        },
+        Err(f) => fail(&f, Some(&src), a),
+    }
+}
+
+fn compute(a: &RecurrenceArgs, src: &super::Source) -> Result<String, Failure> {
+    let red = crate::ode::reduce(&src.input(), &a.input.options())?;
+    let choices = super::classify::parse_choices(a.exponents.as_deref())?;
+    let rec = crate::series::recurrence(&red, &a.about, a.series.as_deref(), &choices, a.normal).map_err(|e| {
+        if e.origin == crate::error::Origin::Option("--about".into()) && e.span.is_none() {
+            e.at(crate::syntax::Span::new(0, a.about.len()))
+        } else {
+            e
+        }
+    })?;
+    let k = &rec.field;
+    let coeff = |c: &crate::algebra::RatFunc| poly_text(c.num(), c.scale(), k.names(), Style::Text);
+    let n = &k.names()[0];
+    Ok(match a.format {
+        Format::Json => {
+            let v = serde_json::json!({
+                "function": rec.function,
+                "ansatz": format!("{} = {} * sum(a[{n}]*u^{n})", rec.function, rec.prefactor),
+                "prefactor": rec.prefactor,
+                "series": rec.series,
+                "choices": rec.choices,
+                "terms": rec.coeffs.len(),
+                "index": n,
+                "coefficients": rec.coeffs.iter().enumerate().map(|(j, c)| serde_json::json!({"multiplies": shift_text(n, 1 - j as i64), "coefficient": coeff(c)})).collect::<Vec<_>>(),
+            });
+            format!("{}\n", serde_json::to_string_pretty(&v).unwrap_or_default())
+        }
+        _ => {
+            let mut o = String::new();
+            o.push_str(&format!("ansatz      {} = {} * Σ a_{n} u^{n},   {}\n", rec.function, rec.prefactor, rec.series));
+            for c in &rec.choices {
+                o.push_str(&format!("  choice    {c}\n"));
+            }
+            let terms: Vec<String> = (0..rec.coeffs.len()).map(|j| format!("c{j}({n})*a[{}]", shift_text(n, 1 - j as i64))).collect();
+            o.push_str(&format!("\n{}-term recurrence   {} = 0   ({n} ≥ 0, a[{n}] = 0 for {n} < 0)\n", rec.coeffs.len(), terms.join(" + ")));
+            for (j, c) in rec.coeffs.iter().enumerate() {
+                o.push_str(&format!("  c{j}({n}) = {}\n", coeff(c)));
+            }
+            o
+        }
+    })
+}
+
+fn shift_text(n: &str, d: i64) -> String {
+    match d {
+        0 => n.to_string(),
+        d if d > 0 => format!("{n}+{d}"),
+        d => format!("{n}-{}", -d),
+    }
+}
+
+fn fail(f: &Failure, src: Option<&super::Source>, a: &RecurrenceArgs) -> u8 {
+    let mut extra = vec![("--about".to_string(), a.about.clone())];
+    extra.extend(a.series.iter().map(|t| ("--series".to_string(), t.clone())));
+    extra.extend(a.exponents.iter().map(|t| ("--exponents".to_string(), t.clone())));
+    let (msg, code) = report(f, src, Some(&a.input), &extra);
+    if !msg.is_empty() {
+        eprintln!("{msg}");
+    }
+    code
+}

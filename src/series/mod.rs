@@ -1,0 +1,348 @@
+//! The `series` stage: series recurrences. The unknown (or the normal-form
+//! ψ) is written as prefactor · Σ aₙ uⁿ with u a Möbius variable sending the
+//! expansion point to 0, and the equation becomes a k-term recurrence
+//! Σⱼ cⱼ(n) a_{n+1−j} = 0 with coefficients exact polynomials in n and the
+//! parameters.
+//!
+//! The prefactor is (z − z_h)^ρ_h · ∏ (z − zᵢ)^ρᵢ · (z − z₂)^σ · exp(E(z)):
+//! ρ_h and ρᵢ are the chosen exponents of the unknown at the expansion point
+//! and at the other finite regular points, E is the exponential part of the
+//! chosen formal branch at an irregular point at infinity, and σ makes the
+//! total power at infinity that branch's power, so that Σ aₙ uⁿ needs no
+//! singular factor at u = 1 (Leaver 1985's ansatz).
+
+use crate::algebra::print::{ratfunc_text, Style};
+use crate::algebra::{gcd, Field, Int, Poly, Rat, RatFunc, UPoly};
+use crate::analysis::canonical::Choices;
+use crate::analysis::{analyse_equation, Kind, Place};
+use crate::error::{Error, ErrorKind, Result};
+use crate::ode::{change_variable, normal_q, prefactor, Reduction};
+
+/// A derived recurrence.
+#[derive(Debug)]
+pub struct Recurrence {
+    /// The field of the coefficients: variable 0 is n, then the parameters.
+    pub field: Field,
+    /// cⱼ(n), j = 0..k−1, multiplying a_{n+1−j}.
+    pub coeffs: Vec<RatFunc>,
+    /// The ansatz as text: unknown = prefactor * Σ aₙ uⁿ.
+    pub prefactor: String,
+    /// The series variable as text: u = ….
+    pub series: String,
+    /// The choices made, in words.
+    pub choices: Vec<String>,
+    /// Which function was expanded: the unknown's name or "ψ".
+    pub function: String,
+}
+
+fn rat(n: i64, d: i64) -> RatFunc {
+    RatFunc::rat(&Rat::new(n.into(), d.into()).expect("nonzero"))
+}
+
+fn rt(k: &Field, r: &RatFunc) -> String {
+    ratfunc_text(r, k.names(), Style::Text)
+}
+
+fn wrap(s: String) -> String {
+    if s.chars().all(|c| c.is_alphanumeric() || c == '_') {
+        s
+    } else {
+        format!("({s})")
+    }
+}
+
+fn usage(msg: impl Into<String>) -> Error {
+    Error::new(ErrorKind::Usage, msg)
+}
+
+fn exponent_value(k: &Field, e: &crate::analysis::Exponent) -> Option<RatFunc> {
+    let c = crate::analysis::ext_base(&e.center)?;
+    if e.sign == 0 {
+        return Some(c);
+    }
+    let r = crate::analysis::ext_base(e.root.as_ref()?)?;
+    k.add(&c, &k.mul(&rat(e.sign as i64, 2), &r).ok()?).ok()
+}
+
+/// The polynomial (in the variable) expanded denominator of `r`, and `r`
+/// times it as a dense polynomial in the variable.
+fn upoly_times(k: &Field, r: &RatFunc, d: &Poly) -> Result<UPoly> {
+    let t = k.mul(r, &RatFunc::from_poly(d.clone()))?;
+    let mut c = RatFunc::rat(&Rat::int(t.scale().clone()));
+    for (f, e) in t.den_factors() {
+        if f.poly().uses_var(0) {
+            return Err(Error::new(ErrorKind::Internal, "a cleared coefficient still has a denominator in the series variable"));
+        }
+        c = k.mul(&c, &k.pow(&RatFunc::from_poly(f.poly().clone()), *e as i64)?)?;
+    }
+    UPoly::from_poly(t.num()).scale(k, &k.inv(&c)?)
+}
+
+fn den_in_var(r: &RatFunc) -> Poly {
+    let mut d = Poly::int(1);
+    for (f, e) in r.den_factors() {
+        if f.poly().uses_var(0) {
+            d = d.mul(&f.poly().pow(*e));
+        }
+    }
+    d
+}
+
+/// Derives the recurrence about the point printed as `about`.
+pub fn recurrence(red: &Reduction, about: &str, series: Option<&str>, choices: &Choices, normal: bool) -> Result<Recurrence> {
+    let k = &red.field;
+    let zero = RatFunc::zero();
+    let (p, q) = if normal { (zero.clone(), red.normal.q.clone()) } else { (red.p.clone(), red.q.clone()) };
+    let qn = normal_q(k, &p, &q)?;
+    let an = analyse_equation(k, &p, &qn)?;
+    let norm = |s: &str| s.chars().filter(|c| !c.is_whitespace()).collect::<String>();
+    let finite: Vec<(RatFunc, &crate::analysis::SingularPoint)> = an
+        .points
+        .iter()
+        .filter_map(|sp| match &sp.place {
+            Place::Point { at, .. } if sp.kind != Kind::Ordinary => Some((at.clone(), sp)),
+            _ => None,
+        })
+        .collect();
+    let Some((zh, hp)) = finite.iter().find(|(at, _)| norm(&rt(k, at)) == norm(about)).cloned() else {
+        let list: Vec<String> = finite.iter().map(|(at, _)| rt(k, at)).collect();
+        return Err(
+            usage(format!("'{about}' is not a singular point with an exact location; the points are: {}", list.join(", "))).in_option("--about")
+        );
+    };
+    if hp.kind != Kind::Regular {
+        return Err(
+            usage(format!("the point {about} is not a regular singular point: a Frobenius-type series does not start there")).in_option("--about")
+        );
+    }
+    let mut said = Vec::new();
+    let pick = |label: &str, values: &[Option<RatFunc>]| -> Option<usize> {
+        let norm_l = norm(label);
+        if let Some((_, c)) = choices.picks.iter().find(|(p, _)| norm(p) == norm_l) {
+            return values.get(c.checked_sub(1)?)?.as_ref().map(|_| c - 1);
+        }
+        values.iter().position(|v| v.as_ref().is_some_and(RatFunc::is_zero)).or_else(|| values.iter().position(Option::is_some))
+    };
+    // The series variable u and its inverse z = g(u).
+    let others: Vec<&(RatFunc, &crate::analysis::SingularPoint)> = finite.iter().filter(|(at, _)| *at != zh).collect();
+    let mut unames = k.names().to_vec();
+    let mut u = "u".to_string();
+    while unames.contains(&u) {
+        u.push('_');
+    }
+    unames[0] = u.clone();
+    let ku = Field::new(unames, k.limits().clone())?;
+    let (z2, g, series_text) = match series {
+        Some(text) => {
+            let (z2, g) = parse_mobius(red, text, &zh)?;
+            (z2, g, text.to_string())
+        }
+        None => {
+            let z2 = match others.as_slice() {
+                [(z2, _)] => Some(z2.clone()),
+                _ => None,
+            };
+            let uu = ku.var(0);
+            match &z2 {
+                Some(z2) => {
+                    // u = (z − z_h)/(z − z₂)  ⇔  z = (z_h − z₂ u)/(1 − u)
+                    let g = ku.div(&ku.sub(&zh, &ku.mul(z2, &uu)?)?, &ku.sub(&RatFunc::one(), &uu)?)?;
+                    let sh = |at: &RatFunc| crate::emit::report::shifted(&red.var, &rt(k, at), Style::Text);
+                    (Some(z2.clone()), g, format!("{u} = {}/{}", sh(&zh), sh(z2)))
+                }
+                None => (None, ku.add(&zh, &uu)?, format!("{u} = {}", crate::emit::report::shifted(&red.var, &rt(k, &zh), Style::Text))),
+            }
+        }
+    };
+    // The prefactor: exponents at z_h and at other regular points (not z₂), exponential at ∞.
+    let z = k.var(0);
+    let mut l = RatFunc::zero();
+    let mut text = Vec::new();
+    let mut total_power = RatFunc::zero();
+    let add_power = |k: &Field, at: &RatFunc, rho: &RatFunc, l: &mut RatFunc, text: &mut Vec<String>, total: &mut RatFunc| -> Result<()> {
+        if rho.is_zero() {
+            return Ok(());
+        }
+        let zm = k.sub(&z, at)?;
+        *l = k.add(l, &k.div(rho, &zm)?)?;
+        *total = k.add(total, rho)?;
+        text.push(format!("{}^{}", wrap(rt(k, &zm)), wrap(rt(k, rho))));
+        Ok(())
+    };
+    for (at, sp) in std::iter::once(&(zh.clone(), hp)).chain(others.iter().copied()) {
+        if z2.as_ref() == Some(at) || sp.kind != Kind::Regular {
+            continue;
+        }
+        let values: Vec<Option<RatFunc>> = sp.unknown_exponents.iter().map(|e| exponent_value(k, e)).collect();
+        let label = rt(k, at);
+        let Some(i) = pick(&label, &values) else {
+            return Err(usage(format!(
+                "the exponents at {} = {label} are not exact; choose the point's exponent with --exponents or expand elsewhere",
+                red.var
+            )));
+        };
+        let rho = values[i].clone().expect("picked exact");
+        said.push(format!("at {} = {label}: exponent {} (number {})", red.var, rt(k, &rho), i + 1));
+        add_power(k, at, &rho, &mut l, &mut text, &mut total_power)?;
+    }
+    let inf = an.points.iter().find(|sp| matches!(sp.place, Place::Infinity)).expect("infinity is always listed");
+    let mut exp_part = RatFunc::zero();
+    let mut inf_power: Option<RatFunc> = None;
+    if inf.kind == Kind::Irregular {
+        let pf = prefactor(k, &p)?;
+        let ep = crate::analysis::canonical::poly_exp(k, &pf.exponential)?;
+        let p1 = crate::analysis::p_at_infinity_pub(k, &p)?;
+        let mut cands = Vec::new();
+        for f in &inf.formal {
+            if f.exponent.iter().any(|(pw, _)| !pw.is_integer()) {
+                return Err(usage("the formal solutions at ∞ are ramified (half-integer rank): no Jaffé-type prefactor"));
+            }
+            let mut e = ep.clone();
+            for (pw, c) in &f.exponent {
+                let n = pw.numer().to_f64() as i64;
+                e = k.add(&e, &k.mul(c, &k.pow(&z, n)?)?)?;
+            }
+            // The unknown's power at ∞: ρ_ψ − p₁/2.
+            let rho = k.sub(&f.rho, &k.mul(&rat(1, 2), &p1)?)?;
+            cands.push((e, rho));
+        }
+        let vals: Vec<Option<RatFunc>> = cands.iter().map(|(e, _)| Some(e.clone())).collect();
+        let Some(i) = pick("∞", &vals).or_else(|| pick("inf", &vals)) else {
+            return Err(usage("the formal solutions at ∞ have no exact leading coefficient"));
+        };
+        let (e, rho) = cands[i].clone();
+        said.push(format!("at {} = ∞: the branch exp({})*{}^{} (number {})", red.var, rt(k, &e), red.var, wrap(rt(k, &rho)), i + 1));
+        exp_part = e;
+        inf_power = Some(rho);
+    } else if inf.kind == Kind::Regular {
+        // y ~ z^(−ρ∞) for the chosen exponent ρ∞ at infinity (in t = 1/z).
+        let values: Vec<Option<RatFunc>> = inf.unknown_exponents.iter().map(|e| exponent_value(k, e)).collect();
+        if let Some(i) = pick("∞", &values) {
+            let rho = values[i].clone().expect("picked exact");
+            said.push(format!("at {} = ∞: exponent {} in 1/{} (number {})", red.var, rt(k, &rho), red.var, i + 1));
+            inf_power = Some(k.neg(&rho));
+        }
+    }
+    if let Some(z2) = &z2 {
+        let sigma = match &inf_power {
+            Some(pw) => k.sub(pw, &total_power)?,
+            None => RatFunc::zero(),
+        };
+        if inf_power.is_some() {
+            said.push(format!("at {} = {}: power {} so that the total power at ∞ is the chosen branch's", red.var, rt(k, z2), rt(k, &sigma)));
+        }
+        let mut dummy = RatFunc::zero();
+        add_power(k, z2, &sigma, &mut l, &mut text, &mut dummy)?;
+    }
+    if !exp_part.is_zero() {
+        l = k.add(&l, &k.deriv(&exp_part, 0)?)?;
+        text.push(format!("exp({})", rt(k, &exp_part)));
+    }
+    // v = unknown / prefactor: p_v = p + 2L, q_v = q + pL + L' + L².
+    let pv = k.add(&p, &k.mul(&rat(2, 1), &l)?)?;
+    let qv = k.add(&k.add(&q, &k.mul(&p, &l)?)?, &k.add(&k.deriv(&l, 0)?, &k.mul(&l, &l)?)?)?;
+    let (pu, qu) = change_variable(&ku, &pv, &qv, &g)?;
+    // Clear denominators: A v'' + B v' + C v = 0 with A, B, C polynomials in u.
+    let (dp, dq) = (den_in_var(&pu), den_in_var(&qu));
+    let gg = gcd(&dp, &dq).ok_or_else(|| Error::new(ErrorKind::Limit, "a gcd in the series variable grew too large"))?;
+    let a = dp.mul(&dq.div_exact(&gg).ok_or_else(|| Error::new(ErrorKind::Internal, "gcd does not divide"))?);
+    let au = UPoly::from_poly(&a);
+    let bu = upoly_times(&ku, &pu, &a)?;
+    let cu = upoly_times(&ku, &qu, &a)?;
+    // P_s(m) = A_s (m+2−s)(m+1−s) + B_{s−1}(m+2−s) + C_{s−2}.
+    let smax = [au.coeffs.len(), bu.coeffs.len() + 1, cu.coeffs.len() + 2].into_iter().max().unwrap_or(0);
+    let mut names = k.names().to_vec();
+    let mut n_name = "n".to_string();
+    while names.contains(&n_name) {
+        n_name.push('_');
+    }
+    names[0] = n_name;
+    let kn = Field::new(names, k.limits().clone())?;
+    let nvar = kn.var(0);
+    let mut ps: Vec<(usize, RatFunc)> = Vec::new();
+    for s in 0..smax {
+        // m = n − 1 + s_min is substituted below; build P_s as a function of m first.
+        let m = nvar.clone();
+        let lin = |c: i64| kn.add(&m, &RatFunc::rat(&Rat::int(c.into())));
+        let mut t = RatFunc::zero();
+        let a_s = au.coeff(s);
+        if !a_s.is_zero() {
+            t = kn.add(&t, &kn.mul(&a_s, &kn.mul(&lin(2 - s as i64)?, &lin(1 - s as i64)?)?)?)?;
+        }
+        if s >= 1 {
+            let b = bu.coeff(s - 1);
+            if !b.is_zero() {
+                t = kn.add(&t, &kn.mul(&b, &lin(2 - s as i64)?)?)?;
+            }
+        }
+        if s >= 2 {
+            let c = cu.coeff(s - 2);
+            if !c.is_zero() {
+                t = kn.add(&t, &c)?;
+            }
+        }
+        ps.push((s, t));
+    }
+    let Some(smin) = ps.iter().position(|(_, t)| !t.is_zero()) else {
+        return Err(Error::new(ErrorKind::Internal, "the recurrence is empty"));
+    };
+    let slast = ps.iter().rposition(|(_, t)| !t.is_zero()).expect("nonempty");
+    // Re-index: m = n − 1 + s_min, so the first coefficient multiplies a_{n+1}.
+    let shift = kn.add(&nvar, &RatFunc::rat(&Rat::int((smin as i64 - 1).into())))?;
+    let mut coeffs = Vec::new();
+    for (_, t) in &ps[smin..=slast] {
+        coeffs.push(kn.compose(t, 0, &shift)?);
+    }
+    // Clear parameter denominators and the integer content.
+    let mut lden = Poly::int(1);
+    for c in &coeffs {
+        let d = c.den_expanded().mul_int(c.scale());
+        let g = gcd(&lden, &d).ok_or_else(|| Error::new(ErrorKind::Limit, "a gcd grew too large"))?;
+        lden = lden.mul(&d.div_exact(&g).ok_or_else(|| Error::new(ErrorKind::Internal, "gcd does not divide"))?);
+    }
+    let lr = RatFunc::from_poly(lden);
+    let mut coeffs: Vec<RatFunc> = coeffs.iter().map(|c| kn.mul(c, &lr)).collect::<Result<_>>()?;
+    let content = coeffs.iter().fold(Int::ZERO, |g, c| g.gcd(&c.num().content_int()));
+    if !content.is_zero() && !content.is_one() {
+        let inv = RatFunc::rat(&Rat::new(Int::ONE, content).expect("nonzero"));
+        coeffs = coeffs.iter().map(|c| kn.mul(c, &inv)).collect::<Result<_>>()?;
+    }
+    let function = if normal { "ψ".to_string() } else { red.ode.unknown.clone() };
+    let prefactor = if text.is_empty() { "1".to_string() } else { text.join("*") };
+    Ok(Recurrence { field: kn, coeffs, prefactor, series: series_text, choices: said, function })
+}
+
+/// Reads `u=EXPR` with EXPR a Möbius expression in the variable that vanishes
+/// at z_h; returns its pole z₂ (if finite) and the inverse map z = g(u).
+fn parse_mobius(red: &Reduction, text: &str, zh: &RatFunc) -> Result<(Option<RatFunc>, RatFunc)> {
+    let k = &red.field;
+    let opt = "--series";
+    let Some(eq) = text.find('=') else { return Err(usage("expected u=EXPR, e.g. u=(r - 2*M)/r").in_option(opt)) };
+    let expr = crate::syntax::parse_expr(&text[eq + 1..], &crate::syntax::ParseLimits::default()).map_err(|e| e.in_option(opt))?;
+    let mut names = vec![red.var.clone()];
+    names.extend(red.ode.params.iter().cloned());
+    let m = crate::ode::lower_rational(k, &names, &red.ode.lets, &expr).map_err(|e| e.in_option(opt))?;
+    // m = (a z + b)/(c z + d).
+    let num = UPoly::from_poly(m.num());
+    let den_poly = m.den_expanded().mul_int(m.scale());
+    let den = UPoly::from_poly(&den_poly);
+    if num.degree().unwrap_or(0) > 1 || den.degree().unwrap_or(0) > 1 || m.den_factors().iter().filter(|(f, _)| f.poly().uses_var(0)).count() > 1 {
+        return Err(usage("the series variable must be a Möbius map (a z + b)/(c z + d) of the variable").in_option(opt));
+    }
+    let (a, b, c, d) = (num.coeff(1), num.coeff(0), den.coeff(1), den.coeff(0));
+    if !k.compose(&m, 0, zh)?.is_zero() {
+        return Err(usage("the series variable must vanish at the expansion point").in_option(opt));
+    }
+    let mut unames = k.names().to_vec();
+    let mut u = "u".to_string();
+    while unames.contains(&u) {
+        u.push('_');
+    }
+    unames[0] = u;
+    let ku = Field::new(unames, k.limits().clone())?;
+    let uu = ku.var(0);
+    // z = (d u − b)/(a − c u)
+    let g = ku.div(&ku.sub(&ku.mul(&d, &uu)?, &b)?, &ku.sub(&a, &ku.mul(&c, &uu)?)?)?;
+    let z2 = if c.is_zero() { None } else { Some(k.neg(&k.div(&d, &c)?)) };
+    Ok((z2, g))
+}
