@@ -428,7 +428,7 @@ fn mutate(rng: &mut Rng, tokens: &mut Vec<String>) -> &'static str {
         _ => {
             // A single character dropped inside a token.
             let t: Vec<char> = tokens[i].chars().collect();
-            let k = rng.below(t.len());
+            let k = rng.below(t.len().max(1));
             tokens[i] = t.iter().enumerate().filter(|(j, _)| *j != k).map(|(_, c)| *c).collect();
             "drop char"
         }
