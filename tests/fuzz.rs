@@ -732,7 +732,13 @@ fn fuzz() {
 #[test]
 #[ignore = "a long soak; run with cargo test --release --test fuzz -- --ignored"]
 fn soak() {
-    for seed in 1..=4u64 {
+    // CANONODE_FUZZ_SEEDS=first..last picks other seeds (default 1..4), to explore beyond a known failure.
+    let (first, last) = std::env::var("CANONODE_FUZZ_SEEDS")
+        .ok()
+        .and_then(|s| s.split_once("..").and_then(|(a, b)| Some((a.trim().parse::<u64>().ok()?, b.trim().parse::<u64>().ok()?))))
+        .unwrap_or((1, 4));
+    for seed in first..=last {
+        eprintln!("soak seed {seed}");
         run_all(seed.wrapping_mul(0xD1B5_4A32_D192_ED03), 30_000, 1_000, 3_000);
     }
 }
@@ -768,4 +774,18 @@ fn regression_tiny_literals_hit_the_coefficient_limit() {
         stats.finish("tiny literals");
         assert_eq!(stats.errors.get("Limit"), Some(&1), "{text:.80}: expected a limit error");
     }
+}
+
+/// Known hang, found by the soak: the normal form of this equation (the
+/// Schwarzschild–de Sitter sample with (omega^2 - V)^-3 in place of
+/// omega^2 - V) spends minutes in the multivariate polynomial gcd, which
+/// has no work limit. Un-ignore once the gcd stops on a limit.
+#[test]
+#[ignore = "known hang in the polynomial gcd (no work limit yet)"]
+fn regression_gcd_swell_in_normal_form() {
+    let text = "var r\nparam M, L, w, l\nlet f = 1 - 2*M/r - L*r^2/3\nlet V = f*(l*(l+1)/r^2 + f'/r)\node f*(f*u')' + (w^2 - V)^-3*u = 0\n";
+    let mut stats = Stats::default();
+    run_case(&mut stats, Case::program("gcd swell".into(), text.into()), None, false);
+    stats.finish("gcd swell");
+    assert!(stats.ok == 1 || stats.errors.get("Limit") == Some(&1), "expected a result or a limit error");
 }

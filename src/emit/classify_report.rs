@@ -82,7 +82,10 @@ pub(crate) fn upoly_text(k: &Field, u: &UPoly, s: Style) -> String {
                 } else if c.as_constant().is_some_and(|x| x.im.is_zero() && x.re.is_integer() && x.re.numer() == &Int::from(-1)) {
                     format!("-{pw}")
                 } else {
-                    format!("{}*{pw}", paren(ct))
+                    match s {
+                        Style::Text => format!("{}*{pw}", paren(ct)),
+                        Style::Latex => format!("\\left({ct}\\right){pw}"),
+                    }
                 }
             }
         };
@@ -121,9 +124,18 @@ pub(crate) fn exponent_text(k: &Field, e: &Exponent, s: Style) -> String {
     let c = upoly_text(k, &e.center, s);
     let r = upoly_text(k, &e.radicand, s);
     let sign = if e.sign > 0 { '+' } else { '-' };
-    match s {
-        Style::Text => format!("{c} {sign} 1/2*sqrt({r})"),
-        Style::Latex => format!("{c} {sign} \\tfrac{{1}}{{2}}\\sqrt{{{r}}}"),
+    let root = match s {
+        Style::Text => format!("1/2*sqrt({r})"),
+        Style::Latex => format!("\\tfrac{{1}}{{2}}\\sqrt{{{r}}}"),
+    };
+    if e.center.is_zero() {
+        if e.sign > 0 {
+            root
+        } else {
+            format!("-{root}")
+        }
+    } else {
+        format!("{c} {sign} {root}")
     }
 }
 
@@ -245,7 +257,7 @@ pub fn analysis_text(k: &Field, var: &str, a: &Analysis, numeric: Option<&[Numer
             o.push_str(&format!("    formal solution:  ψ ~ {f}\n"));
         }
         if let Some(nums) = numeric {
-            for np in nums.iter().filter(|np| np.index == i) {
+            for np in nums.iter().filter(|np| np.index == i && !(np.exponents.is_empty() && np.unknown_exponents.is_empty())) {
                 let loc = np.value.map(fmt_c).unwrap_or_else(|| "∞".into());
                 let ex: Vec<String> = np.exponents.iter().map(|e| e.map(fmt_c).unwrap_or_else(|| "?".into())).collect();
                 let ux: Vec<String> = np.unknown_exponents.iter().map(|e| e.map(fmt_c).unwrap_or_else(|| "?".into())).collect();
@@ -397,4 +409,57 @@ pub fn canonical_json(k: &Field, c: &Canonical, vals: Option<&crate::analysis::n
         "checks": c.checks,
         "parameters": Value::Object(params),
     })
+}
+
+fn param_latex(k: &Field, p: &Param) -> String {
+    match p {
+        Param::Exact(r) => rf(k, r, Style::Latex),
+        Param::Radical(c, r) => {
+            let root = format!("\\sqrt{{{}}}", rf(k, r, Style::Latex));
+            if *c == RatFunc::one() {
+                root
+            } else {
+                format!("\\left({}\\right){root}", rf(k, c, Style::Latex))
+            }
+        }
+        Param::Root(e) => exponent_text(k, e, Style::Latex),
+    }
+}
+
+/// The classification as a LaTeX fragment (amsmath `align*`): the class, each
+/// singular point with its kind and exponents, and the canonical parameters.
+pub fn analysis_latex(k: &Field, var: &str, a: &Analysis, canonical: Option<&Canonical>) -> String {
+    let s = Style::Latex;
+    let v = crate::algebra::print::latex_name(var);
+    let mut rows = vec![format!("&\\text{{{} equation: {}}}", class_name(&a.class), a.reason.replace('∞', "$\\infty$"))];
+    for p in &a.points {
+        let wher = match &p.place {
+            Place::Point { at, .. } => format!("{v} = {}", rf(k, at, s)),
+            Place::Roots(f) => {
+                let mut names = k.names().to_vec();
+                names[0] = "θ".into();
+                format!("{v} = \\theta,\\ {} = 0", poly_text(f, &Int::ONE, &names, s))
+            }
+            Place::Infinity => format!("{v} = \\infty"),
+        };
+        let rank = if p.rank.is_zero() { String::new() } else { format!(", rank ${}$", p.rank) };
+        let mut row = format!("&{wher}: && \\text{{{}{rank}}}", p.kind.word());
+        if p.kind != crate::analysis::Kind::Irregular && !p.exponents.is_empty() {
+            let e: Vec<String> = p.exponents.iter().map(|e| exponent_text(k, e, s)).collect();
+            row.push_str(&format!(" && \\rho_\\psi \\in \\{{{}\\}}", e.join(",\\ ")));
+        }
+        if !p.unknown_exponents.is_empty() {
+            let e: Vec<String> = p.unknown_exponents.iter().map(|e| exponent_text(k, e, s)).collect();
+            row.push_str(&format!(" && \\rho \\in \\{{{}\\}}", e.join(",\\ ")));
+        }
+        rows.push(row);
+    }
+    if let Some(c) = canonical {
+        rows.push(format!("&\\text{{canonical form: {} ({})}}", class_name(&c.form), c.source));
+        let ps: Vec<String> = c.parameters.iter().map(|(n, p)| format!("{} = {}", crate::algebra::print::latex_name(n), param_latex(k, p))).collect();
+        if !ps.is_empty() {
+            rows.push(format!("&{}", ps.join(",\\quad ")));
+        }
+    }
+    format!("\\begin{{align*}}\n{}\n\\end{{align*}}\n", rows.join(" \\\\\n"))
 }

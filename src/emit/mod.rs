@@ -5,5 +5,5 @@
 mod classify_report;
 pub(crate) mod report;
 
-pub use classify_report::{analysis_json, analysis_text, canonical_json, canonical_text, class_name};
+pub use classify_report::{analysis_json, analysis_latex, analysis_text, canonical_json, canonical_text, class_name};
 pub use report::{reduction_json, reduction_latex, reduction_text};
