@@ -550,8 +550,7 @@ fn normal_form_agrees_with_an_independent_numeric_route() {
     let out = run_cases();
     assert!(out.failures.is_empty(), "{} failures:\n{}", out.failures.len(), out.failures.join("\n\n"));
     // A size-limit error is a clean refusal, not a wrong answer; the cases
-    // are listed (run with --nocapture) and held to zero by the ignored
-    // test below.
+    // are listed (run with --nocapture) and held to zero by the test below.
     for e in &out.limit_errors {
         eprintln!("refused with a size limit:\n{e}\n");
     }
@@ -565,8 +564,6 @@ fn normal_form_agrees_with_an_independent_numeric_route() {
 }
 
 #[test]
-#[ignore = "known: 6 of the 200 small random cases end in size-limit errors \
-            (subresultant gcd swell; cases 19, 39, 79, 99, 143, 167)"]
 fn random_equations_reduce_within_the_default_limits() {
     // python-flint (scripts/reference/ode_reference.py) reduces each of these
     // in about 0.2 s to Q of degree at most 34 in the variable and 9 in a

@@ -25,6 +25,38 @@ pub fn primitive(p: &Poly) -> Poly {
 /// exceed the exponent range of a monomial (callers report a size limit).
 pub fn gcd(a: &Poly, b: &Poly) -> Option<Poly> {
     debug_assert!(a.is_real() && b.is_real());
+    // The outermost call owns the work budget; nested calls share it.
+    let outer = DEPTH.with(|d| {
+        let v = d.get();
+        d.set(v + 1);
+        v == 0
+    });
+    if outer {
+        WORK.with(|w| w.set(0));
+    }
+    let r = gcd_top(a, b);
+    DEPTH.with(|d| d.set(d.get() - 1));
+    r
+}
+
+thread_local! {
+    static WORK: std::cell::Cell<u64> = const { std::cell::Cell::new(0) };
+    static DEPTH: std::cell::Cell<u32> = const { std::cell::Cell::new(0) };
+}
+
+/// Term products one gcd may spend before it gives up (reported as a size limit).
+const WORK_BUDGET: u64 = 30_000_000;
+
+/// Charges `n` units of work; false once the budget is spent.
+fn charge(n: u64) -> bool {
+    WORK.with(|w| {
+        let v = w.get().saturating_add(n);
+        w.set(v);
+        v <= WORK_BUDGET
+    })
+}
+
+fn gcd_top(a: &Poly, b: &Poly) -> Option<Poly> {
     if a.is_zero() {
         return Some(primitive(b));
     }
@@ -65,6 +97,17 @@ fn gcd_rec(a: &Poly, b: &Poly) -> Option<Poly> {
     if !b.uses_var(v) {
         return gcd_rec(&content_in(a, v)?, b);
     }
+    if coprime_image(a, b, v) {
+        // The gcd is free of v: it is the gcd of the contents, and the
+        // smaller polynomial's content is usually 1.
+        let (s, l) = if a.len() <= b.len() { (a, b) } else { (b, a) };
+        let cs = content_in(s, v)?;
+        if cs.as_constant().is_some() {
+            return Some(Poly::int(1));
+        }
+        let cl = content_in(l, v)?;
+        return gcd_rec(&cs, &cl);
+    }
     let ca = content_in(a, v)?;
     let cb = content_in(b, v)?;
     let pa = a.div_exact(&ca)?;
@@ -94,6 +137,91 @@ pub fn content_in(p: &Poly, v: usize) -> Option<Poly> {
 fn primitive_in(p: &Poly, v: usize) -> Option<Poly> {
     let c = content_in(p, v)?;
     Some(primitive(&p.div_exact(&c)?))
+}
+
+/// The Mersenne prime 2⁶¹ − 1 used for modular images.
+const P61: u64 = (1 << 61) - 1;
+
+fn mulmod(a: u64, b: u64) -> u64 {
+    ((a as u128 * b as u128) % P61 as u128) as u64
+}
+
+fn powmod(mut a: u64, mut e: u64) -> u64 {
+    let mut r = 1u64;
+    while e > 0 {
+        if e & 1 == 1 {
+            r = mulmod(r, a);
+        }
+        a = mulmod(a, a);
+        e >>= 1;
+    }
+    r
+}
+
+fn int_mod(c: &super::int::Int) -> u64 {
+    use num_traits::ToPrimitive;
+    match c {
+        super::int::Int::Small(v) => v.rem_euclid(P61 as i64) as u64,
+        super::int::Int::Big(b) => {
+            let m = num_bigint::BigInt::from(P61);
+            ((&**b % &m + &m) % &m).to_u64().unwrap_or(0)
+        }
+    }
+}
+
+/// The image of `p` in F_p[x_v] at a fixed point for the other variables.
+fn image(p: &Poly, v: usize, point: &[u64]) -> Vec<u64> {
+    let n = p.degree(v) as usize;
+    let mut out = vec![0u64; n + 1];
+    for (m, c) in p.terms() {
+        let mut t = int_mod(&c.re);
+        for (i, x) in point.iter().enumerate() {
+            if i != v {
+                let e = m.exp(i);
+                if e > 0 {
+                    t = mulmod(t, powmod(*x, e as u64));
+                }
+            }
+        }
+        let k = m.exp(v) as usize;
+        out[k] = (out[k] + t) % P61;
+    }
+    out
+}
+
+fn trim_mod(a: &mut Vec<u64>) {
+    while matches!(a.last(), Some(0)) {
+        a.pop();
+    }
+}
+
+/// True when the images of `a` and `b` in F_p[x_v] keep their degrees and are
+/// coprime: then gcd(a, b) is certainly free of x_v (an image gcd can only
+/// be larger than the true one when a leading coefficient vanishes).
+fn coprime_image(a: &Poly, b: &Poly, v: usize) -> bool {
+    let point: Vec<u64> = (0..super::poly::MAX_VARS).map(|i| 1_000_003 + 7_919 * i as u64 * (i as u64 + 3)).collect();
+    let mut x = image(a, v, &point);
+    let mut y = image(b, v, &point);
+    if x.last() == Some(&0) || y.last() == Some(&0) {
+        return false;
+    }
+    trim_mod(&mut x);
+    trim_mod(&mut y);
+    // Euclid over F_p.
+    while !y.is_empty() {
+        let inv = powmod(*y.last().expect("nonempty"), P61 - 2);
+        while x.len() >= y.len() && !x.is_empty() {
+            let f = mulmod(*x.last().expect("nonempty"), inv);
+            let shift = x.len() - y.len();
+            for (j, yj) in y.iter().enumerate() {
+                let t = mulmod(f, *yj);
+                x[j + shift] = (x[j + shift] + P61 - t) % P61;
+            }
+            trim_mod(&mut x);
+        }
+        std::mem::swap(&mut x, &mut y);
+    }
+    x.len() == 1
 }
 
 /// Subresultant remainder sequence for two polynomials primitive in `v`.
@@ -153,6 +281,11 @@ fn prem(a: &[Poly], b: &[Poly]) -> Option<Vec<Poly>> {
         let lr = r.last()?.clone();
         let rdeg = r.iter().fold(Mono::ONE, |d, c| d.lcm(c.degrees()));
         if !rdeg.fits_mul(bdeg) {
+            return None;
+        }
+        let rt: u64 = r.iter().map(|c| c.len() as u64).sum();
+        let bt: u64 = b.iter().map(|c| c.len() as u64).sum();
+        if !charge(rt * lb.len() as u64 + lr.len() as u64 * bt) {
             return None;
         }
         for c in r.iter_mut() {

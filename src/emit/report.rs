@@ -81,11 +81,16 @@ pub(crate) fn prefactor_text(r: &Reduction, pf: &Prefactor, style: Style) -> Str
         Style::Latex => crate::algebra::print::latex_name(&r.var),
     };
     for (f, e, a) in &pf.unevaluated {
-        let fe = if *e == 1 { wrap(pt(r, f, style), style) } else { format!("{}^{e}", wrap(pt(r, f, style), style)) };
+        let ft = pt(r, f, style);
         let num = rt(r, a, style);
-        parts.push(match style {
-            Style::Text => format!("exp(-1/2*integral(({num})/{fe}, {var}))"),
-            Style::Latex => format!("\\exp\\left(-\\frac{{1}}{{2}}\\int \\frac{{{num}}}{{{fe}}}\\,d{var}\\right)"),
+        let theta = match style {
+            Style::Text => "θ",
+            Style::Latex => "\\theta",
+        };
+        parts.push(match (style, e) {
+            (Style::Text, 1) => format!("prod[θ root of {ft}]((({var}) - θ)^(-R(θ)/(2*F'(θ))), R = {num}, F = {ft})"),
+            (Style::Text, e) => format!("exp(-1/2*integral(part of p at the roots of ({ft})^{e}; R = {num}))"),
+            (Style::Latex, _) => format!("\\prod_{{{theta}:\\,{ft}=0}} ({var} - {theta})^{{-R({theta})/(2F'({theta}))}}\\Big|_{{R = {num}}}"),
         });
     }
     if parts.is_empty() {

@@ -433,6 +433,18 @@ impl<'a> Lowerer<'a> {
             ExprKind::Binary(op, a, b) => {
                 let x = self.expr(a)?;
                 let y = self.expr(b)?;
+                if matches!(op, BinOp::Mul | BinOp::Div | BinOp::Pow) {
+                    // Operands of products and powers are the factors that later
+                    // denominators are made of: remember them so that splitting
+                    // a denominator starts from them instead of a gcd.
+                    for v in [&x, &y] {
+                        if let (true, Some(r)) = (v.is_linear_free(), v.free.as_rat()) {
+                            if r.uses_var(0) {
+                                self.field.add_hint(r.num())?;
+                            }
+                        }
+                    }
+                }
                 match op {
                     BinOp::Add => self.add(&x, &y),
                     BinOp::Sub => {

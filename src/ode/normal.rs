@@ -13,8 +13,9 @@ pub struct Prefactor {
     pub powers: Vec<(Poly, RatFunc)>,
     /// The exponent E of the exponential factor (zero when there is none).
     pub exponential: RatFunc,
-    /// Parts of p whose integral has no closed form here: (factor f, multiplicity e,
-    /// numerator A with deg A < e·deg f) standing for exp(−½ ∫ A/f^e dz).
+    /// Parts of p at the roots θ of a factor f of higher degree whose integral
+    /// has no closed form here: (f, multiplicity e, R) with R(θ) = N(θ)/G(θ),
+    /// p = N/(f^e G); for e = 1 the factor is ∏_θ (z − θ)^(−R(θ)/(2 f'(θ))).
     pub unevaluated: Vec<(Poly, u32, RatFunc)>,
 }
 
@@ -118,12 +119,6 @@ pub fn prefactor(k: &Field, p: &RatFunc) -> Result<Prefactor> {
     let mut unevaluated = Vec::new();
     let mut integral = RatFunc::zero(); // ∫ of the rational (non-logarithmic) part
                                         // Polynomial part of p (in the variable) and the proper fraction.
-    let mut den_u = UPoly::constant(RatFunc::rat(&Rat::int(p.scale().clone())));
-    for (f, e) in p.den_factors() {
-        if f.poly().uses_var(0) {
-            den_u = den_u.mul(k, &UPoly::from_poly(&f.poly().pow(*e)))?;
-        }
-    }
     let num_u = UPoly::from_poly(p.num());
     // Factors free of the variable are constants in z: fold them into the numerator.
     let mut const_den = RatFunc::one();
@@ -133,7 +128,20 @@ pub fn prefactor(k: &Field, p: &RatFunc) -> Result<Prefactor> {
         }
     }
     let num_u = num_u.scale(k, &k.inv(&const_den)?)?;
-    let (poly_part, _) = num_u.divrem(k, &den_u)?.unwrap_or((UPoly::zero(), UPoly::zero()));
+    let scale_u = UPoly::constant(RatFunc::rat(&Rat::int(p.scale().clone())));
+    let den_degree: usize = p.den_factors().iter().map(|(f, e)| f.poly().degree(0) as usize * *e as usize).sum();
+    // The polynomial part exists only when the numerator's degree reaches the denominator's.
+    let poly_part = if num_u.degree().is_some_and(|d| d >= den_degree) {
+        let mut den_u = scale_u.clone();
+        for (f, e) in p.den_factors() {
+            if f.poly().uses_var(0) {
+                den_u = den_u.mul(k, &UPoly::from_poly(&f.poly().pow(*e)))?;
+            }
+        }
+        num_u.divrem(k, &den_u)?.map(|(q, _)| q).unwrap_or_else(UPoly::zero)
+    } else {
+        UPoly::zero()
+    };
     // ∫ of the polynomial part.
     let mut ip = Vec::with_capacity(poly_part.coeffs.len() + 1);
     ip.push(RatFunc::zero());
@@ -168,27 +176,42 @@ pub fn prefactor(k: &Field, p: &RatFunc) -> Result<Prefactor> {
             continue;
         }
         // A nonlinear factor: the part A/f^e of the partial fractions.
+        // A ≡ num / (scale·∏ other factors) mod f^e, every product reduced as it is formed.
         let fe = UPoly::from_poly(&f.poly().pow(*e));
-        let (rest, _) = den_u.divrem(k, &fe)?.unwrap_or((UPoly::zero(), UPoly::zero()));
-        let a = match rest.inverse_mod(k, &fe)? {
-            Some(inv) => num_u.mul(k, &inv)?.divrem(k, &fe)?.map(|(_, r)| r).unwrap_or_else(UPoly::zero),
-            None => continue,
-        };
+        let reduce = |u: &UPoly| -> Result<UPoly> { Ok(u.divrem(k, &fe)?.map(|(_, r)| r).unwrap_or_else(UPoly::zero)) };
+        let mut rest = scale_u.clone();
+        for (j, (g, m)) in p.den_factors().iter().enumerate() {
+            if j == idx || !g.poly().uses_var(0) {
+                continue;
+            }
+            let gm = reduce(&UPoly::from_poly(g.poly()))?;
+            for _ in 0..*m {
+                rest = reduce(&rest.mul(k, &gm)?)?;
+            }
+        }
+        let nm = reduce(&num_u)?;
+        if nm.is_zero() {
+            continue;
+        }
         if *e == 1 {
-            // A = c·f' with c free of z gives the power f^(−c/2).
-            let fp = UPoly::from_poly(f.poly()).derivative(k)?;
-            if let (Some(da), Some(dfp)) = (a.degree(), fp.degree()) {
-                if da == dfp {
-                    let c = k.div(&a.coeff(da), &fp.coeff(dfp))?;
-                    let diff = a.add(k, &fp.scale(k, &k.neg(&c))?)?;
-                    if diff.is_zero() && !c.uses_var(0) {
+            // The part of p at the roots of f is Σ_θ res_θ/(z − θ) with
+            // res_θ = N(θ)/(f'(θ)·G(θ)); it is c·f'/f (giving f^(−c/2)) iff
+            // N ≡ c·f'·G (mod f) with c free of z — no inverse needed.
+            let fp = UPoly::from_poly(&f.poly().derivative(0));
+            let x = reduce(&fp.mul(k, &rest)?)?;
+            if let (Some(dn), Some(dx)) = (nm.degree(), x.degree()) {
+                if dn == dx {
+                    let c = k.div(&nm.coeff(dn), &x.coeff(dx))?;
+                    if nm.add(k, &x.scale(k, &k.neg(&c))?)?.is_zero() && !c.uses_var(0) {
                         powers.push((f.poly().clone(), k.mul(&minus_half, &c)?));
                         continue;
                     }
                 }
             }
         }
-        unevaluated.push((f.poly().clone(), *e, a.to_ratfunc(k)?));
+        // No closed form here: keep R with R(θ) = N(θ)/G(θ) at the roots θ of f.
+        let r = k.div(&nm.to_ratfunc(k)?, &rest.to_ratfunc(k)?)?;
+        unevaluated.push((f.poly().clone(), *e, r));
     }
     let exponential = k.mul(&minus_half, &integral)?;
     Ok(Prefactor { powers, exponential, unevaluated })
