@@ -90,6 +90,27 @@ fn samples_all_formats() {
 }
 
 #[test]
+fn samples_classification() {
+    insta::glob!("../samples", "*.ode", |path| {
+        let name = path.file_name().and_then(|n| n.to_str()).expect("a UTF-8 file name");
+        let rel = format!("samples/{name}");
+        let text = run_ok(&["classify", &rel], None);
+        assert!(text.stdout.starts_with("class   "), "{name}: no class line");
+        insta::assert_snapshot!("classify_text", text.snapshot());
+        let json = run_ok(&["classify", &rel, "--format", "json"], None);
+        let v: serde_json::Value = serde_json::from_str(&json.stdout).unwrap_or_else(|e| panic!("{name}: invalid JSON: {e}"));
+        assert!(v["class"].is_string() && v["singular_points"].is_array(), "{name}: classify JSON lacks class or points");
+        insta::assert_snapshot!("classify_json", json.snapshot());
+        let latex = run_ok(&["classify", &rel, "--format", "latex"], None);
+        assert!(
+            latex.stdout.starts_with("\\begin{align*}") && latex.stdout.trim_end().ends_with("\\end{align*}"),
+            "{name}: LaTeX is not one align* block"
+        );
+        insta::assert_snapshot!("classify_latex", latex.snapshot());
+    });
+}
+
+#[test]
 fn bessel_at_infinity() {
     let r = run_ok(&["reduce", "samples/bessel.ode", "--at-infinity"], None);
     insta::assert_snapshot!(r.snapshot());
