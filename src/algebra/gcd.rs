@@ -195,6 +195,31 @@ fn trim_mod(a: &mut Vec<u64>) {
     }
 }
 
+/// False when a modular image proves that `d` does not divide `n`: the images
+/// in F_p[x_v] (v the first variable of d, the others at a fixed point) are
+/// compared by univariate division when d's image keeps its degree.
+pub(crate) fn image_divides(n: &Poly, d: &Poly) -> bool {
+    let Some(v) = d.first_var() else { return true };
+    let point: Vec<u64> = (0..super::poly::MAX_VARS).map(|i| 1_000_003 + 7_919 * i as u64 * (i as u64 + 3)).collect();
+    let y = image(d, v, &point);
+    if y.last() == Some(&0) {
+        return true;
+    }
+    let mut x = image(n, v, &point);
+    trim_mod(&mut x);
+    let inv = powmod(*y.last().expect("nonempty"), P61 - 2);
+    while x.len() >= y.len() && !x.is_empty() {
+        let f = mulmod(*x.last().expect("nonempty"), inv);
+        let shift = x.len() - y.len();
+        for (j, yj) in y.iter().enumerate() {
+            let t = mulmod(f, *yj);
+            x[j + shift] = (x[j + shift] + P61 - t) % P61;
+        }
+        trim_mod(&mut x);
+    }
+    x.is_empty()
+}
+
 /// True when the images of `a` and `b` in F_p[x_v] keep their degrees and are
 /// coprime: then gcd(a, b) is certainly free of x_v (an image gcd can only
 /// be larger than the true one when a leading coefficient vanishes).

@@ -488,12 +488,49 @@ impl Poly {
                 return None;
             }
         }
+        if self.len() > 48 && !super::gcd::image_divides(self, d) {
+            // A modular image already shows that d does not divide.
+            return None;
+        }
+        if self.len() > 16 && d.len() * 4 <= self.len() {
+            return self.div_exact_sparse(d);
+        }
         let mut r = self.clone();
         let mut q = Vec::new();
         while let Some((rm, rc)) = r.terms.first().cloned() {
             let m = dm.div_of(rm)?;
             let c = rc.div_exact(&dc)?;
             r = r.sub_scaled(&c, m, d);
+            q.push((m, c));
+        }
+        Some(Poly { terms: q })
+    }
+    /// Exact division by a polynomial with few terms: the remainder lives in
+    /// an ordered map so that each step touches only |d| entries.
+    fn div_exact_sparse(&self, d: &Poly) -> Option<Poly> {
+        use std::collections::btree_map::Entry;
+        let (dm, dc) = d.terms[0].clone();
+        let mut r: std::collections::BTreeMap<Mono, GInt> = self.terms.iter().cloned().collect();
+        let mut q = Vec::new();
+        while let Some((rm, rc)) = r.pop_last() {
+            let m = dm.div_of(rm)?;
+            let c = rc.div_exact(&dc)?;
+            for (tm, tc) in &d.terms[1..] {
+                let delta = c.mul(tc);
+                match r.entry(m.mul(*tm)) {
+                    Entry::Occupied(mut e) => {
+                        let v = e.get().sub(&delta);
+                        if v.is_zero() {
+                            e.remove();
+                        } else {
+                            *e.get_mut() = v;
+                        }
+                    }
+                    Entry::Vacant(e) => {
+                        e.insert(delta.neg());
+                    }
+                }
+            }
             q.push((m, c));
         }
         Some(Poly { terms: q })
