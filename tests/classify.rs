@@ -275,3 +275,23 @@ fn methods_name_their_sources() {
     assert!(m.iter().any(|x| x["method"] == "continued fraction" && x["source"].as_str().unwrap().contains("Leaver")));
     assert!(m.iter().all(|x| !x["source"].as_str().unwrap().is_empty()));
 }
+
+#[test]
+fn hypergeometric_reached_by_a_moebius_map() {
+    // Gauss's equation (DLMF 15.10.1) after z = (2x − 1)/(x + 1): three finite
+    // regular points and an ordinary point at ∞; a Möbius map must bring it
+    // back to the hypergeometric form, keeping the exponent differences
+    // {1 − c, c − a − b, a − b} up to sign and order (DLMF 15.10, 15.8).
+    let v = run(&["classify", "samples/hypergeometric.ode", "--subst", "z=(2*x-1)/(x+1)", "--format", "json"]);
+    assert_eq!(v["class"], "hypergeometric");
+    assert_eq!(v["canonical"]["form"], "hypergeometric");
+    let (a, b, c) = (param(&v, "a"), param(&v, "b"), param(&v, "c"));
+    let got = [format!("1 - ({c})"), format!("({c}) - ({a}) - ({b})"), format!("({a}) - ({b})")];
+    for want in ["1 - c", "c - a - b", "a - b"] {
+        assert!(got.iter().any(|g| same(&format!("({g})^2"), &format!("({want})^2"))), "exponent difference {want} lost: a = {a}, b = {b}, c = {c}");
+    }
+    // The difference field of the JSON at each finite point.
+    for p in v["singular_points"].as_array().unwrap() {
+        assert!(p["difference"].is_string(), "{p}");
+    }
+}

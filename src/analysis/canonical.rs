@@ -382,24 +382,45 @@ pub fn canonical_form(
     let z0s: Vec<RatFunc> = finite.iter().map(|p| at_of(p)).collect();
     let label_of = |k: &Field, v: &RatFunc| rt(k, v);
     match class {
-        "hypergeometric" | "general-heun" | "confluent-heun" if inf_kind != Kind::Ordinary && finite.len() >= 2 => {
-            // Affine map: z0 → 0, z1 → 1 (identity when already there).
-            let (a, b) = (&z0s[0], &z0s[1]);
-            let (kx, _) = ctx.new_field(false)?;
-            let lam = k0.sub(b, a)?;
-            let identity = a.is_zero() && lam == RatFunc::one();
-            let (kx, _) = if identity { ctx.new_field(true)? } else { (kx, String::new()) };
-            let g = kx.add(a, &kx.mul(&lam, &kx.var(0))?)?;
+        "hypergeometric" | "general-heun" | "confluent-heun" if finite.len() >= 2 && (inf_kind != Kind::Ordinary || finite.len() >= 3) => {
+            // z0 → 0, z1 → 1, and, when ∞ is an ordinary point, the last
+            // finite point → ∞ by a Möbius map; otherwise an affine map.
+            let mobius = inf_kind == Kind::Ordinary;
+            let (a, b) = (z0s[0].clone(), z0s[1].clone());
+            let lam = k0.sub(&b, &a)?;
+            let identity = !mobius && a.is_zero() && lam == RatFunc::one();
+            let (kx, _) = ctx.new_field(identity)?;
+            let xv = kx.var(0);
+            let (g, img): (RatFunc, Box<dyn Fn(&RatFunc) -> Result<RatFunc> + '_>) = if mobius {
+                // x = ((z − z0)/(z − z∞))·((z1 − z∞)/(z1 − z0)); inverse z = (x z∞ (z1 − z0) − z0 (z1 − z∞))/(x (z1 − z0) − (z1 − z∞)).
+                let zi = z0s.last().expect("a last point").clone();
+                let d10 = lam.clone();
+                let d1i = k0.sub(&b, &zi)?;
+                let num = kx.sub(&kx.mul(&kx.mul(&xv, &zi)?, &d10)?, &kx.mul(&a, &d1i)?)?;
+                let den = kx.sub(&kx.mul(&xv, &d10)?, &d1i)?;
+                let g = kx.div(&num, &den)?;
+                let (a2, zi2, d1i2, d102) = (a.clone(), zi.clone(), d1i.clone(), d10.clone());
+                let f = move |z: &RatFunc| -> Result<RatFunc> {
+                    let t = k0.div(&k0.sub(z, &a2)?, &k0.sub(z, &zi2)?)?;
+                    k0.mul(&t, &k0.div(&d1i2, &d102)?)
+                };
+                (g, Box::new(f))
+            } else {
+                let g = kx.add(&a, &kx.mul(&lam, &xv)?)?;
+                let (a2, l2) = (a.clone(), lam.clone());
+                (g, Box::new(move |z: &RatFunc| kx_map(k0, z, &a2, &l2)))
+            };
+            let n_fin = if mobius { finite.len() - 1 } else { finite.len() };
             let mut labels: Vec<(RatFunc, String)> = Vec::new();
-            for z in &z0s {
-                labels.push((kx_map(&kx, z, a, &lam)?, label_of(k0, z)));
+            for z in z0s.iter().take(n_fin) {
+                labels.push((img(z)?, label_of(k0, z)));
             }
             let Some(pr) = ctx.prepare(p, q, &g, identity, &labels)? else { return Ok(None) };
             let k = &pr.k;
             let x = k.var(0);
             let xm1 = k.sub(&x, &RatFunc::one())?;
             match class {
-                "hypergeometric" if finite.len() == 2 => {
+                "hypergeometric" if n_fin == 2 => {
                     let c = residue(k, &pr.pw, &RatFunc::zero())?;
                     // p_w x(1 − x) = c − (a+b+1) x, q_w x(1 − x) = −ab.
                     let x1mx = k.mul(&x, &k.sub(&RatFunc::one(), &x)?)?;
@@ -427,8 +448,8 @@ pub fn canonical_form(
                         vec!["the template was rebuilt from the parameters and equals the transformed equation exactly".into()],
                     )));
                 }
-                "general-heun" if finite.len() == 3 => {
-                    let av = kx_map(k, &z0s[2], a, &lam)?;
+                "general-heun" if n_fin == 3 => {
+                    let av = img(&z0s[2])?;
                     let gamma = residue(k, &pr.pw, &RatFunc::zero())?;
                     let delta = residue(k, &pr.pw, &RatFunc::one())?;
                     let eps = residue(k, &pr.pw, &av)?;
@@ -464,7 +485,7 @@ pub fn canonical_form(
                         ],
                     )));
                 }
-                "confluent-heun" if finite.len() == 2 && inf_kind == Kind::Irregular => {
+                "confluent-heun" if n_fin == 2 && inf_kind == Kind::Irregular => {
                     let gamma = residue(k, &pr.pw, &RatFunc::zero())?;
                     let delta = residue(k, &pr.pw, &RatFunc::one())?;
                     let rest = k.sub(&k.sub(&pr.pw, &k.div(&gamma, &x)?)?, &k.div(&delta, &xm1)?)?;

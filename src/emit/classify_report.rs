@@ -6,7 +6,8 @@
 //! ([re, im] or null), `kind` ("ordinary" | "regular" | "irregular"),
 //! `pole_order`, `rank` (text such as "1/2"), `exponents` and
 //! `unknown_exponents` ([{`exact`, `value`}]; `value` is [re, im] or null),
-//! `integer_difference` (integer or null), `apparent` ("yes" | "no" |
+//! `difference` (the exponent difference as exact text, or null at an
+//! irregular point), `integer_difference` (integer or null), `apparent` ("yes" | "no" |
 //! "not applicable" | "when" | "unchecked"), `apparent_condition` (text: the
 //! polynomial that must vanish, or the reason it was not checked; null
 //! otherwise), `removable` (bool: Q is regular there, only the prefactor is
@@ -136,6 +137,18 @@ pub(crate) fn exponent_text(k: &Field, e: &Exponent, s: Style) -> String {
         }
     } else {
         format!("{c} {sign} {root}")
+    }
+}
+
+/// The exponent difference θ (of ψ, equal to that of the unknown) as exact text.
+fn difference_text(k: &Field, p: &SingularPoint) -> Value {
+    match p.exponents.first() {
+        Some(e) if e.sign != 0 => match &e.root {
+            Some(r) => Value::String(upoly_text(k, r, Style::Text)),
+            None => Value::String(format!("sqrt({})", upoly_text(k, &e.radicand, Style::Text))),
+        },
+        Some(_) if p.kind != crate::analysis::Kind::Irregular => Value::String("1".into()),
+        _ => Value::Null,
     }
 }
 
@@ -318,6 +331,7 @@ pub fn analysis_json(k: &Field, var: &str, params: &[String], a: &Analysis, nume
                 "rank": p.rank.to_string(),
                 "exponents": ex(&p.exponents, np.map(|n| &n.exponents)),
                 "unknown_exponents": ex(&p.unknown_exponents, np.map(|n| &n.unknown_exponents)),
+                "difference": difference_text(k, p),
                 "integer_difference": p.integer_difference,
                 "apparent": app,
                 "apparent_condition": cond,
