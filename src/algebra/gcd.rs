@@ -200,13 +200,24 @@ fn trim_mod(a: &mut Vec<u64>) {
 /// compared by univariate division when d's image keeps its degree.
 pub(crate) fn image_divides(n: &Poly, d: &Poly) -> bool {
     let Some(v) = d.first_var() else { return true };
-    let point: Vec<u64> = (0..super::poly::MAX_VARS).map(|i| 1_000_003 + 7_919 * i as u64 * (i as u64 + 3)).collect();
+    let point = image_point();
     let y = image(d, v, &point);
     if y.last() == Some(&0) {
         return true;
     }
     let mut x = image(n, v, &point);
     trim_mod(&mut x);
+    rem_mod(&mut x, &y);
+    x.is_empty()
+}
+
+/// The fixed evaluation point of the modular images.
+fn image_point() -> Vec<u64> {
+    (0..super::poly::MAX_VARS).map(|i| 1_000_003 + 7_919 * i as u64 * (i as u64 + 3)).collect()
+}
+
+/// x ← x mod y in F_p[t] (dense, low degree first, y without trailing zeros).
+fn rem_mod(x: &mut Vec<u64>, y: &[u64]) {
     let inv = powmod(*y.last().expect("nonempty"), P61 - 2);
     while x.len() >= y.len() && !x.is_empty() {
         let f = mulmod(*x.last().expect("nonempty"), inv);
@@ -215,16 +226,15 @@ pub(crate) fn image_divides(n: &Poly, d: &Poly) -> bool {
             let t = mulmod(f, *yj);
             x[j + shift] = (x[j + shift] + P61 - t) % P61;
         }
-        trim_mod(&mut x);
+        trim_mod(x);
     }
-    x.is_empty()
 }
 
 /// True when the images of `a` and `b` in F_p[x_v] keep their degrees and are
 /// coprime: then gcd(a, b) is certainly free of x_v (an image gcd can only
 /// be larger than the true one when a leading coefficient vanishes).
 fn coprime_image(a: &Poly, b: &Poly, v: usize) -> bool {
-    let point: Vec<u64> = (0..super::poly::MAX_VARS).map(|i| 1_000_003 + 7_919 * i as u64 * (i as u64 + 3)).collect();
+    let point = image_point();
     let mut x = image(a, v, &point);
     let mut y = image(b, v, &point);
     if x.last() == Some(&0) || y.last() == Some(&0) {
@@ -234,16 +244,7 @@ fn coprime_image(a: &Poly, b: &Poly, v: usize) -> bool {
     trim_mod(&mut y);
     // Euclid over F_p.
     while !y.is_empty() {
-        let inv = powmod(*y.last().expect("nonempty"), P61 - 2);
-        while x.len() >= y.len() && !x.is_empty() {
-            let f = mulmod(*x.last().expect("nonempty"), inv);
-            let shift = x.len() - y.len();
-            for (j, yj) in y.iter().enumerate() {
-                let t = mulmod(f, *yj);
-                x[j + shift] = (x[j + shift] + P61 - t) % P61;
-            }
-            trim_mod(&mut x);
-        }
+        rem_mod(&mut x, &y);
         std::mem::swap(&mut x, &mut y);
     }
     x.len() == 1

@@ -178,7 +178,7 @@ pub struct Limits {
 
 impl Default for Limits {
     fn default() -> Limits {
-        Limits { max_degree: 100, max_terms: 200_000, max_bits: 20_000, max_work: 20_000_000 }
+        Limits { max_degree: 100, max_terms: 50_000, max_bits: 20_000, max_work: 20_000_000 }
     }
 }
 
@@ -245,6 +245,22 @@ impl Field {
     }
 
     fn ppow(&self, a: &Poly, e: u32) -> Result<Poly> {
+        // The number of terms of a^e is at most C(e + t − 1, t − 1) for t terms,
+        // and at most ∏ (e·deg_v + 1): refuse before computing what cannot fit.
+        let t = a.len() as f64;
+        let mut multinomial = 1f64;
+        for i in 1..(a.len().max(1) as u64) {
+            multinomial *= (e as f64 + i as f64) / i as f64;
+            if multinomial > 1e12 {
+                break;
+            }
+        }
+        let d = a.degrees();
+        let box_bound: f64 = (0..MAX_VARS).map(|i| (e as f64) * d.exp(i) as f64 + 1.0).product();
+        let bound = multinomial.min(box_bound);
+        if t > 1.0 && bound > self.limits.max_terms as f64 {
+            return Err(limit(format!("a power with up to {bound:.0} terms exceeds the limit of {} terms", self.limits.max_terms)));
+        }
         let mut acc = Poly::int(1);
         for _ in 0..e {
             acc = self.pmul(&acc, a)?;

@@ -1,7 +1,7 @@
 //! `canonode classify`: singular points, exponents and the class of an equation.
 
 use super::values::parse_assignments;
-use super::{emit, report, Failure, Format, InputArgs};
+use super::{run_command, Failure, Format, InputArgs};
 use crate::algebra::GRat;
 use crate::analysis::numeric::{evaluate, Values};
 use crate::error::{Error, ErrorKind};
@@ -67,17 +67,9 @@ pub(crate) fn parse_choices(text: Option<&str>) -> Result<crate::analysis::canon
 }
 
 pub(crate) fn run(a: &ClassifyArgs) -> u8 {
-    let src = match a.input.read() {
-        Ok(s) => s,
-        Err(f) => return fail(&f, None, a),
-    };
-    match compute(a, &src) {
-        Ok(text) => match emit(&text) {
-            Ok(()) => 0,
-            Err(f) => fail(&f, Some(&src), a),
-        },
-        Err(f) => fail(&f, Some(&src), a),
-    }
+    let mut extra: Vec<(String, String)> = a.at.iter().map(|t| ("--at".to_string(), t.clone())).collect();
+    extra.extend(a.exponents.iter().map(|t| ("--exponents".to_string(), t.clone())));
+    run_command(&a.input, &extra, |src| compute(a, src))
 }
 
 fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
@@ -195,14 +187,4 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
             t
         }
     })
-}
-
-fn fail(f: &Failure, src: Option<&super::Source>, a: &ClassifyArgs) -> u8 {
-    let mut extra: Vec<(String, String)> = a.at.iter().map(|t| ("--at".to_string(), t.clone())).collect();
-    extra.extend(a.exponents.iter().map(|t| ("--exponents".to_string(), t.clone())));
-    let (msg, code) = report(f, src, Some(&a.input), &extra);
-    if !msg.is_empty() {
-        eprintln!("{msg}");
-    }
-    code
 }

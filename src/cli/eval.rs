@@ -1,7 +1,7 @@
 //! `canonode eval`: Q evaluated exactly at a point, printed in double precision.
 
 use super::values::{fmt_complex, parse_assignments};
-use super::{emit, report, Failure, Format, InputArgs};
+use super::{run_command, Failure, Format, InputArgs};
 use crate::algebra::GRat;
 use crate::error::{Error, ErrorKind};
 use clap::Args;
@@ -20,23 +20,14 @@ pub(crate) struct EvalArgs {
 }
 
 pub(crate) fn run(a: &EvalArgs) -> u8 {
-    let src = match a.input.read() {
-        Ok(s) => s,
-        Err(f) => return fail(&f, None, a),
-    };
-    match compute(a, &src) {
-        Ok((re, im)) => {
-            let text = match a.format {
-                Format::Json => format!("{}\n", serde_json::json!({ "Q": [re, im] })),
-                _ => format!("Q = {}\n", fmt_complex(re, im)),
-            };
-            match emit(&text) {
-                Ok(()) => 0,
-                Err(f) => fail(&f, Some(&src), a),
-            }
-        }
-        Err(f) => fail(&f, Some(&src), a),
-    }
+    let extra = [("--at".to_string(), a.at.clone())];
+    run_command(&a.input, &extra, |src| {
+        let (re, im) = compute(a, src)?;
+        Ok(match a.format {
+            Format::Json => format!("{}\n", serde_json::json!({ "Q": [re, im] })),
+            _ => format!("Q = {}\n", fmt_complex(re, im)),
+        })
+    })
 }
 
 fn compute(a: &EvalArgs, src: &super::Source) -> Result<(f64, f64), Failure> {
@@ -73,12 +64,4 @@ fn compute(a: &EvalArgs, src: &super::Source) -> Result<(f64, f64), Failure> {
             .in_option("--at")
     })?;
     Ok(q.to_f64())
-}
-
-fn fail(f: &Failure, src: Option<&super::Source>, a: &EvalArgs) -> u8 {
-    let (msg, code) = report(f, src, Some(&a.input), &[("--at".to_string(), a.at.clone())]);
-    if !msg.is_empty() {
-        eprintln!("{msg}");
-    }
-    code
 }

@@ -180,6 +180,27 @@ pub(crate) fn report(f: &Failure, src: Option<&Source>, args: Option<&InputArgs>
     }
 }
 
+/// The shape every subcommand shares: read the input, compute the text,
+/// print it; on failure render the error against the text it points into
+/// (the input or one of the `extra` option values) and return its status.
+pub(crate) fn run_command(input: &InputArgs, extra: &[(String, String)], compute: impl FnOnce(&Source) -> Result<String, Failure>) -> u8 {
+    let fail = |f: &Failure, src: Option<&Source>| -> u8 {
+        let (msg, code) = report(f, src, Some(input), extra);
+        if !msg.is_empty() {
+            eprintln!("{msg}");
+        }
+        code
+    };
+    let src = match input.read() {
+        Ok(s) => s,
+        Err(f) => return fail(&f, None),
+    };
+    match compute(&src).and_then(|text| emit(&text)) {
+        Ok(()) => 0,
+        Err(f) => fail(&f, Some(&src)),
+    }
+}
+
 /// Writes to stdout; a closed pipe ends the program quietly.
 pub(crate) fn emit(text: &str) -> Result<(), Failure> {
     let mut out = std::io::stdout().lock();

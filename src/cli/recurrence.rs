@@ -1,6 +1,6 @@
 //! `canonode recurrence`: the series recurrence about a regular singular point.
 
-use super::{emit, report, Failure, Format, InputArgs};
+use super::{run_command, Failure, Format, InputArgs};
 use crate::algebra::print::{poly_text, Style};
 use clap::Args;
 
@@ -28,17 +28,10 @@ pub(crate) struct RecurrenceArgs {
 }
 
 pub(crate) fn run(a: &RecurrenceArgs) -> u8 {
-    let src = match a.input.read() {
-        Ok(s) => s,
-        Err(f) => return fail(&f, None, a),
-    };
-    match compute(a, &src) {
-        Ok(text) => match emit(&text) {
-            Ok(()) => 0,
-            Err(f) => fail(&f, Some(&src), a),
-        },
-        Err(f) => fail(&f, Some(&src), a),
-    }
+    let mut extra = vec![("--about".to_string(), a.about.clone())];
+    extra.extend(a.series.iter().map(|t| ("--series".to_string(), t.clone())));
+    extra.extend(a.exponents.iter().map(|t| ("--exponents".to_string(), t.clone())));
+    run_command(&a.input, &extra, |src| compute(a, src))
 }
 
 fn compute(a: &RecurrenceArgs, src: &super::Source) -> Result<String, Failure> {
@@ -90,15 +83,4 @@ fn shift_text(n: &str, d: i64) -> String {
         d if d > 0 => format!("{n}+{d}"),
         d => format!("{n}-{}", -d),
     }
-}
-
-fn fail(f: &Failure, src: Option<&super::Source>, a: &RecurrenceArgs) -> u8 {
-    let mut extra = vec![("--about".to_string(), a.about.clone())];
-    extra.extend(a.series.iter().map(|t| ("--series".to_string(), t.clone())));
-    extra.extend(a.exponents.iter().map(|t| ("--exponents".to_string(), t.clone())));
-    let (msg, code) = report(f, src, Some(&a.input), &extra);
-    if !msg.is_empty() {
-        eprintln!("{msg}");
-    }
-    code
 }

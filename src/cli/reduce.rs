@@ -1,6 +1,6 @@
 //! `canonode reduce`: prints the derivation of the normal form.
 
-use super::{emit, report, Failure, Format, InputArgs};
+use super::{run_command, Format, InputArgs};
 use clap::Args;
 
 /// Arguments of `reduce`.
@@ -14,33 +14,15 @@ pub(crate) struct ReduceArgs {
 }
 
 pub(crate) fn run(a: &ReduceArgs) -> u8 {
-    let src = match a.input.read() {
-        Ok(s) => s,
-        Err(f) => return fail(&f, None, a),
-    };
-    let result = crate::ode::reduce(&src.input(), &a.input.options());
-    let red = match result {
-        Ok(r) => r,
-        Err(e) => return fail(&Failure::Lib(e), Some(&src), a),
-    };
-    let text = match a.format {
-        Format::Text => crate::emit::reduction_text(&red, &src.name),
-        Format::Latex => crate::emit::reduction_latex(&red),
-        Format::Json => format!("{}\n", serde_json::to_string_pretty(&crate::emit::reduction_json(&red)).unwrap_or_default()),
-    };
-    if !red.ode.inferred.is_empty() && a.format != Format::Text {
-        eprintln!("note: inferred parameters: {}", red.ode.inferred.join(", "));
-    }
-    match emit(&text) {
-        Ok(()) => 0,
-        Err(f) => fail(&f, Some(&src), a),
-    }
-}
-
-fn fail(f: &Failure, src: Option<&super::Source>, a: &ReduceArgs) -> u8 {
-    let (msg, code) = report(f, src, Some(&a.input), &[]);
-    if !msg.is_empty() {
-        eprintln!("{msg}");
-    }
-    code
+    run_command(&a.input, &[], |src| {
+        let red = crate::ode::reduce(&src.input(), &a.input.options())?;
+        if !red.ode.inferred.is_empty() && a.format != Format::Text {
+            eprintln!("note: inferred parameters: {}", red.ode.inferred.join(", "));
+        }
+        Ok(match a.format {
+            Format::Text => crate::emit::reduction_text(&red, &src.name),
+            Format::Latex => crate::emit::reduction_latex(&red),
+            Format::Json => format!("{}\n", serde_json::to_string_pretty(&crate::emit::reduction_json(&red)).unwrap_or_default()),
+        })
+    })
 }
