@@ -33,4 +33,5 @@ pub mod emit;
 pub mod error;
 pub mod ode;
 pub mod series;
+pub mod solve;
 pub mod syntax;

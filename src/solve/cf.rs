@@ -1,0 +1,439 @@
+//! Continued fractions on three-term recurrences (E. W. Leaver, Proc. R.
+//! Soc. Lond. A 402 (1985) 285): the recurrence derived by `series` is
+//! evaluated numerically in (n, ω), the n-th inversion of its continued
+//! fraction is the mode condition for overtone n, and the tail beyond the
+//! truncation depth is the large-n expansion of a_{n+1}/a_n in powers of
+//! n^(−1/2) (H.-P. Nollert, Phys. Rev. D 47 (1993) 5253), solved here order
+//! by order from the recurrence itself. Roots are found with Muller's method.
+
+use crate::algebra::{GRat, RatFunc};
+use crate::error::{Error, ErrorKind, Result};
+use crate::series::Recurrence;
+use num_complex::Complex64;
+
+/// A polynomial Σ c[a][b] nᵃ ωᵇ with complex coefficients.
+#[derive(Clone, Debug, Default)]
+pub struct NPoly {
+    /// c[a][b] multiplies nᵃ ωᵇ.
+    pub c: Vec<Vec<Complex64>>,
+}
+
+impl NPoly {
+    /// The coefficients of nᵃ at ω (a = 0, 1, …).
+    pub fn at_omega(&self, w: Complex64) -> Vec<Complex64> {
+        self.c
+            .iter()
+            .map(|row| {
+                let mut acc = Complex64::new(0.0, 0.0);
+                for c in row.iter().rev() {
+                    acc = acc * w + c;
+                }
+                acc
+            })
+            .collect()
+    }
+}
+
+/// A recurrence Σⱼ cⱼ(n, ω) a_{n+1−j} = 0 with numeric coefficients.
+#[derive(Clone, Debug)]
+pub struct NumRecurrence {
+    /// cⱼ, j = 0..k−1.
+    pub terms: Vec<NPoly>,
+}
+
+/// Substitutes numeric values for every parameter except the frequency
+/// (field index `freq`) in an exact recurrence. `values` is indexed like the
+/// recurrence's field (entry 0, n, and entry `freq` are ignored).
+pub fn try_numeric(rec: &Recurrence, values: &[GRat], freq: usize) -> Result<NumRecurrence> {
+    let mut terms = Vec::new();
+    for c in &rec.coeffs {
+        if !c.den_factors().is_empty() {
+            return Err(Error::new(ErrorKind::Internal, "a recurrence coefficient is not a polynomial"));
+        }
+        let scale = c.scale().to_f64();
+        let mut p = NPoly::default();
+        for (m, coeff) in c.num().terms() {
+            let mut v = Complex64::new(coeff.re.to_f64(), coeff.im.to_f64()) / scale;
+            for (i, x) in values.iter().enumerate() {
+                if i == 0 || i == freq {
+                    continue;
+                }
+                let e = m.exp(i);
+                if e > 0 {
+                    let (re, im) = x.to_f64();
+                    v *= Complex64::new(re, im).powu(e);
+                }
+            }
+            let (a, b) = (m.exp(0) as usize, m.exp(freq) as usize);
+            if p.c.len() <= a {
+                p.c.resize(a + 1, Vec::new());
+            }
+            if p.c[a].len() <= b {
+                p.c[a].resize(b + 1, Complex64::new(0.0, 0.0));
+            }
+            p.c[a][b] += v;
+        }
+        terms.push(p);
+    }
+    Ok(NumRecurrence { terms })
+}
+
+/// The recurrence's three coefficients as polynomials in n at a given ω.
+struct Three {
+    a: Vec<Complex64>,
+    b: Vec<Complex64>,
+    g: Vec<Complex64>,
+}
+
+fn poly_n(c: &[Complex64], n: f64) -> Complex64 {
+    let mut acc = Complex64::new(0.0, 0.0);
+    for x in c.iter().rev() {
+        acc = acc * n + x;
+    }
+    acc
+}
+
+/// Truncated power series in x = n^(−1/2).
+fn ser_mul(a: &[Complex64], b: &[Complex64], n: usize) -> Vec<Complex64> {
+    let mut out = vec![Complex64::new(0.0, 0.0); n];
+    for (i, x) in a.iter().enumerate().take(n) {
+        for (j, y) in b.iter().enumerate() {
+            if i + j < n {
+                out[i + j] += x * y;
+            }
+        }
+    }
+    out
+}
+
+/// The series of n²·p(n)/n^deg… written in x = n^(−1/2): Σ pᵢ nⁱ / n² = Σ pᵢ x^(2(2−i)).
+fn scaled(p: &[Complex64], n: usize) -> Vec<Complex64> {
+    let mut out = vec![Complex64::new(0.0, 0.0); n];
+    for (i, c) in p.iter().enumerate() {
+        if i <= 2 {
+            let k = 2 * (2 - i);
+            if k < n {
+                out[k] += c;
+            }
+        }
+    }
+    out
+}
+
+/// The residual series of α rₙ r_{n−1} + β r_{n−1} + γ = 0 (divided by n²)
+/// for rₙ = Σ C_k x^k, r_{n−1} = Σ C_k x^k (1 − x²)^(−k/2).
+fn residual(t: &Three, c: &[Complex64], n: usize) -> Vec<Complex64> {
+    let r = {
+        let mut v = c.to_vec();
+        v.resize(n, Complex64::new(0.0, 0.0));
+        v
+    };
+    let mut rt = vec![Complex64::new(0.0, 0.0); n];
+    for (k, ck) in c.iter().enumerate() {
+        // (1 − x²)^(−k/2) = Σ_j binom(−k/2, j) (−1)^j x^(2j)
+        let mut coef = 1.0f64;
+        let mut j = 0usize;
+        while k + 2 * j < n {
+            rt[k + 2 * j] += ck * coef;
+            coef *= (k as f64 / 2.0 + j as f64) / (j as f64 + 1.0);
+            j += 1;
+        }
+    }
+    let (a, b, g) = (scaled(&t.a, n), scaled(&t.b, n), scaled(&t.g, n));
+    let rr = ser_mul(&r, &rt, n);
+    let mut e = ser_mul(&a, &rr, n);
+    let br = ser_mul(&b, &rt, n);
+    for i in 0..n {
+        e[i] += br[i] + g[i];
+    }
+    e
+}
+
+/// The large-n expansion of the minimal solution's ratio a_{n+1}/a_n,
+/// C₀ + C₁ n^(−1/2) + C₂ n^(−1) + …, solved order by order (Nollert 1993).
+fn tail_coefficients(t: &Three, k: usize) -> Option<Vec<Complex64>> {
+    let deg = |p: &[Complex64]| p.iter().rposition(|c| c.norm() > 0.0);
+    if deg(&t.a)? != 2 || deg(&t.g).unwrap_or(0) > 2 || deg(&t.b).unwrap_or(0) > 2 {
+        return None;
+    }
+    let (a2, b2, c2) = (t.a[2], t.b.get(2).copied().unwrap_or_default(), t.g.get(2).copied().unwrap_or_default());
+    let disc = (b2 * b2 - 4.0 * a2 * c2).sqrt();
+    let r1 = (-b2 + disc) / (2.0 * a2);
+    let r2 = (-b2 - disc) / (2.0 * a2);
+    let degenerate = disc.norm() <= 1e-9 * (b2.norm() + a2.norm());
+    let n = k + 3;
+    let mut c = vec![if r1.norm() <= r2.norm() { r1 } else { r2 }];
+    if degenerate {
+        c[0] = -b2 / (2.0 * a2);
+        // Order 2 is quadratic in C₁: fit it from three values.
+        let e = |x: Complex64| {
+            let v = residual(t, &[c[0], x], n);
+            v[2]
+        };
+        let (e0, e1, em) = (e(Complex64::new(0.0, 0.0)), e(Complex64::new(1.0, 0.0)), e(Complex64::new(-1.0, 0.0)));
+        let qa = (e1 + em) / 2.0 - e0;
+        let qb = (e1 - em) / 2.0;
+        if qa.norm() == 0.0 {
+            return None;
+        }
+        let d = (qb * qb - 4.0 * qa * e0).sqrt();
+        let s1 = (-qb + d) / (2.0 * qa);
+        let s2 = (-qb - d) / (2.0 * qa);
+        // The minimal solution decays: Re(C₁/C₀) < 0.
+        c.push(if (s1 / c[0]).re < (s2 / c[0]).re { s1 } else { s2 });
+    }
+    while c.len() < k {
+        // The newest unknown enters its order linearly.
+        let idx = c.len();
+        let order = if degenerate { idx + 1 } else { idx };
+        if order >= n {
+            break;
+        }
+        let mut c0 = c.clone();
+        c0.push(Complex64::new(0.0, 0.0));
+        let mut c1 = c.clone();
+        c1.push(Complex64::new(1.0, 0.0));
+        let e0 = residual(t, &c0, n)[order];
+        let e1 = residual(t, &c1, n)[order];
+        let slope = e1 - e0;
+        if slope.norm() == 0.0 {
+            c.push(Complex64::new(0.0, 0.0));
+        } else {
+            c.push(-e0 / slope);
+        }
+    }
+    Some(c)
+}
+
+/// Why a root search stopped.
+#[derive(Clone, Debug, PartialEq)]
+pub enum StopReason {
+    /// The root changed by less than the tolerance between two depths.
+    Converged,
+    /// The iteration limit of the root finder was reached.
+    RootIterations,
+    /// The continued fraction kept changing up to the largest depth.
+    DepthLimit,
+    /// The recurrence is not of the form the continued fraction needs.
+    NotThreeTerm,
+    /// The function could not be evaluated (a zero denominator).
+    Singular,
+}
+
+/// The evidence for one root.
+#[derive(Clone, Debug)]
+pub struct CfRoot {
+    /// The frequency found (meaningful only when `converged`).
+    pub omega: Complex64,
+    /// True when the root converged to the tolerance.
+    pub converged: bool,
+    /// The final truncation depth.
+    pub depth: usize,
+    /// |ω(2N) − ω(N)| at the final depth.
+    pub depth_change: f64,
+    /// |f(ω)| at the root, relative to |β_k|.
+    pub residual: f64,
+    /// Root-finder iterations at the final depth.
+    pub iterations: usize,
+    /// Why the search stopped.
+    pub stop: StopReason,
+    /// Which inversion was used.
+    pub inversion: usize,
+}
+
+/// The k-th inversion of the continued fraction at ω with truncation depth N,
+/// divided by β_k; `None` where a denominator vanishes.
+pub fn cf_function(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<Complex64> {
+    if rec.terms.len() != 3 {
+        return None;
+    }
+    let t = Three { a: rec.terms[0].at_omega(w), b: rec.terms[1].at_omega(w), g: rec.terms[2].at_omega(w) };
+    let depth = depth.max(k + 2);
+    let tail = tail_coefficients(&t, 6);
+    let n_f = depth as f64;
+    let mut r = match &tail {
+        Some(c) => {
+            let x = n_f.powf(-0.5);
+            let mut acc = Complex64::new(0.0, 0.0);
+            for (i, ci) in c.iter().enumerate() {
+                acc += ci * x.powi(i as i32);
+            }
+            acc
+        }
+        None => Complex64::new(0.0, 0.0),
+    };
+    // Downward: r_{n−1} = −γ_n / (β_n + α_n r_n) for n = N … k+1.
+    for n in ((k + 1)..=depth).rev() {
+        let nf = n as f64;
+        let den = poly_n(&t.b, nf) + poly_n(&t.a, nf) * r;
+        if den.norm() == 0.0 {
+            return None;
+        }
+        r = -poly_n(&t.g, nf) / den;
+    }
+    // Upward: r_n = −(β_n + γ_n / r_{n−1}) / α_n from 1/r_{−1} = 0.
+    let mut inv_prev = Complex64::new(0.0, 0.0); // 1/r_{n−1}
+    for n in 0..k {
+        let nf = n as f64;
+        let an = poly_n(&t.a, nf);
+        if an.norm() == 0.0 {
+            return None;
+        }
+        let rn = -(poly_n(&t.b, nf) + poly_n(&t.g, nf) * inv_prev) / an;
+        if rn.norm() == 0.0 {
+            return None;
+        }
+        inv_prev = 1.0 / rn;
+    }
+    let kf = k as f64;
+    let bk = poly_n(&t.b, kf);
+    let f = bk + poly_n(&t.a, kf) * r + poly_n(&t.g, kf) * inv_prev;
+    Some(if bk.norm() > 0.0 { f / bk } else { f })
+}
+
+/// Muller's method on `f` from a seed; returns (root, iterations, converged).
+fn muller(f: &dyn Fn(Complex64) -> Option<Complex64>, seed: Complex64, tol: f64, max_iter: usize) -> (Complex64, usize, bool) {
+    let h = Complex64::new(1e-3, 0.0) * seed.norm().max(1e-3);
+    let mut x = [seed - h, seed + h, seed];
+    let mut y = [Complex64::new(0.0, 0.0); 3];
+    for i in 0..3 {
+        match f(x[i]) {
+            Some(v) => y[i] = v,
+            None => return (seed, 0, false),
+        }
+    }
+    for it in 1..=max_iter {
+        let (h1, h2) = (x[1] - x[0], x[2] - x[1]);
+        let (d1, d2) = ((y[1] - y[0]) / h1, (y[2] - y[1]) / h2);
+        let a = (d2 - d1) / (h2 + h1);
+        let b = a * h2 + d2;
+        let c = y[2];
+        let disc = (b * b - 4.0 * a * c).sqrt();
+        let den = if (b + disc).norm() > (b - disc).norm() { b + disc } else { b - disc };
+        let dx = if den.norm() == 0.0 { Complex64::new(1e-6, 0.0) } else { -2.0 * c / den };
+        let xn = x[2] + dx;
+        let Some(yn) = f(xn) else { return (x[2], it, false) };
+        x = [x[1], x[2], xn];
+        y = [y[1], y[2], yn];
+        if dx.norm() <= tol * xn.norm().max(1e-300) {
+            return (xn, it, true);
+        }
+        if !xn.re.is_finite() || !xn.im.is_finite() {
+            return (xn, it, false);
+        }
+    }
+    (x[2], max_iter, false)
+}
+
+/// Finds the root of the k-th inversion near `seed`, doubling the depth
+/// from `depth0` until the root changes by less than `tol` (relative), up to
+/// `max_depth`.
+pub fn find_root(rec: &NumRecurrence, k: usize, seed: Complex64, tol: f64, depth0: usize, max_depth: usize) -> CfRoot {
+    let fail = |stop: StopReason| CfRoot {
+        omega: seed,
+        converged: false,
+        depth: 0,
+        depth_change: f64::NAN,
+        residual: f64::NAN,
+        iterations: 0,
+        stop,
+        inversion: k,
+    };
+    if rec.terms.len() != 3 {
+        return fail(StopReason::NotThreeTerm);
+    }
+    let mut depth = depth0.max(k + 10);
+    let mut w = seed;
+    let mut prev: Option<Complex64> = None;
+    let inner_tol = (tol * 1e-2).max(1e-15);
+    loop {
+        let f = |x: Complex64| cf_function(rec, x, k, depth);
+        let (root, iters, ok) = muller(&f, w, inner_tol, 200);
+        if !ok {
+            let mut r = fail(StopReason::RootIterations);
+            r.omega = root;
+            r.depth = depth;
+            r.iterations = iters;
+            return r;
+        }
+        if let Some(p) = prev {
+            let change = (root - p).norm();
+            if change <= tol * root.norm() {
+                let res = cf_function(rec, root, k, depth).map(|v| v.norm()).unwrap_or(f64::NAN);
+                return CfRoot {
+                    omega: root,
+                    converged: true,
+                    depth,
+                    depth_change: change,
+                    residual: res,
+                    iterations: iters,
+                    stop: StopReason::Converged,
+                    inversion: k,
+                };
+            }
+            if depth * 2 > max_depth {
+                return CfRoot {
+                    omega: root,
+                    converged: false,
+                    depth,
+                    depth_change: change,
+                    residual: f64::NAN,
+                    iterations: iters,
+                    stop: StopReason::DepthLimit,
+                    inversion: k,
+                };
+            }
+        }
+        prev = Some(root);
+        w = root;
+        depth *= 2;
+    }
+}
+
+/// A value free of the variable, numerically, when every parameter has one.
+pub fn eval_const(r: &RatFunc, values: &[GRat]) -> Option<Complex64> {
+    let v = r.eval(values)?;
+    let (re, im) = v.to_f64();
+    Some(Complex64::new(re, im))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::algebra::Rat;
+    use crate::analysis::canonical::Choices;
+    use crate::ode::{reduce, Input, ReduceOptions};
+
+    fn rw_recurrence(s: i64, l: i64) -> NumRecurrence {
+        let src = "var r\nparam M, omega, l, s\nlet f = 1 - 2*M/r\node f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0\n";
+        let red = reduce(&Input::Program(src), &ReduceOptions::default()).unwrap();
+        let choices = Choices { picks: vec![("2*M".into(), 2), ("inf".into(), 1)] };
+        let rec = crate::series::recurrence(&red, "2*M", None, &choices, false).unwrap();
+        let g = |x: i64| GRat::real(Rat::int(x.into()));
+        try_numeric(&rec, &[g(0), g(1), g(0), g(l), g(s)], 2).unwrap()
+    }
+
+    #[test]
+    fn schwarzschild_fundamental_modes_leaver_1985() {
+        // Leaver 1985; Berti, Cardoso & Starinets 2009 tables (M = 1).
+        for (s, l, n, want) in [
+            (2, 2, 0, Complex64::new(0.37367168, -0.08896232)),
+            (2, 2, 1, Complex64::new(0.34671100, -0.27391488)),
+            (2, 2, 2, Complex64::new(0.30105345, -0.47827698)),
+            (2, 2, 3, Complex64::new(0.25150496, -0.70514820)),
+            (2, 3, 0, Complex64::new(0.59944329, -0.09270305)),
+            (0, 0, 0, Complex64::new(0.11045494, -0.10489572)),
+            (0, 1, 0, Complex64::new(0.29293613, -0.09765999)),
+            (0, 2, 0, Complex64::new(0.48364387, -0.09675878)),
+            (1, 1, 0, Complex64::new(0.24826326, -0.09248772)),
+        ] {
+            let rec = rw_recurrence(s, l);
+            let seed = want * Complex64::new(1.03, 0.0);
+            let root = find_root(&rec, n, seed, 1e-11, 40, 1 << 16);
+            assert!(root.converged, "s={s} l={l} n={n}: {root:?}");
+            // The published values carry 8 decimals: agreement to half a unit in the last place.
+            let (dre, dim) = ((root.omega.re - want.re).abs(), (root.omega.im - want.im).abs());
+            assert!(dre <= 5.1e-9 && dim <= 5.1e-9, "s={s} l={l} n={n}: got {} want {want} (depth {})", root.omega, root.depth);
+        }
+    }
+}
