@@ -7,6 +7,7 @@ pub(crate) mod diagnostic;
 mod eval;
 mod recurrence;
 mod reduce;
+mod spectrum;
 mod values;
 
 use crate::error::{Error, ErrorKind, Origin};
@@ -34,6 +35,8 @@ enum Command {
     Classify(classify::ClassifyArgs),
     /// The series recurrence about a regular singular point (Frobenius/Jaffé-type ansatz).
     Recurrence(recurrence::RecurrenceArgs),
+    /// Quasinormal-mode frequencies by the continued fraction, with convergence evidence.
+    Spectrum(spectrum::SpectrumArgs),
 }
 
 /// Output formats.
@@ -144,6 +147,11 @@ impl InputArgs {
         }
     }
 
+    /// The frequency parameter named with --frequency.
+    pub(crate) fn frequency_name(&self) -> Option<String> {
+        self.frequency.clone()
+    }
+
     /// The text a command-line option's error points into.
     pub(crate) fn option_text(&self, option: &str) -> Option<String> {
         match option {
@@ -244,5 +252,6 @@ fn run(cli: Cli) -> u8 {
         Command::Eval(a) => eval::run(&a),
         Command::Classify(a) => classify::run(&a),
         Command::Recurrence(a) => recurrence::run(&a),
+        Command::Spectrum(a) => spectrum::run(&a),
     }
 }

@@ -218,6 +218,22 @@ pub enum StopReason {
     NotThreeTerm,
     /// The function could not be evaluated (a zero denominator).
     Singular,
+    /// A root was found but rejected, with the reason.
+    Rejected(String),
+}
+
+impl StopReason {
+    /// The reason in words.
+    pub fn text(&self) -> String {
+        match self {
+            StopReason::Converged => "converged".into(),
+            StopReason::RootIterations => "the root finder did not converge within its iteration limit".into(),
+            StopReason::DepthLimit => "the continued fraction kept changing up to the largest depth".into(),
+            StopReason::NotThreeTerm => "the recurrence does not have three terms".into(),
+            StopReason::Singular => "the continued fraction could not be evaluated (a zero denominator)".into(),
+            StopReason::Rejected(why) => why.clone(),
+        }
+    }
 }
 
 /// The evidence for one root.

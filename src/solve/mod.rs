@@ -5,3 +5,88 @@
 
 pub mod cf;
 pub mod wkb;
+
+pub mod integrate;
+pub mod spectrum;
+
+use crate::algebra::{Field, GRat, Poly, RatFunc};
+use crate::error::{Error, ErrorKind, Result};
+pub use cf::NPoly;
+
+/// The equation A(z) y'' + B(z) y' + C(z) y = 0 with A, B, C polynomials in z
+/// whose coefficients are polynomials in the frequency ω (an [`NPoly`] in
+/// (z, ω): `c[i][j]` multiplies zⁱ ωʲ), every other parameter substituted.
+#[derive(Clone, Debug)]
+pub struct NumOde {
+    /// Coefficient of y''.
+    pub a: NPoly,
+    /// Coefficient of y'.
+    pub b: NPoly,
+    /// Coefficient of y.
+    pub c: NPoly,
+}
+
+impl NPoly {
+    /// The value at (x, ω).
+    pub fn eval(&self, x: num_complex::Complex64, w: num_complex::Complex64) -> num_complex::Complex64 {
+        let mut acc = num_complex::Complex64::new(0.0, 0.0);
+        for c in self.at_omega(w).iter().rev() {
+            acc = acc * x + c;
+        }
+        acc
+    }
+}
+
+/// A polynomial (in all variables, coefficients in Q(i)) as an [`NPoly`] in
+/// (variable 0, variable `freq`) with the other variables at `values`.
+pub fn try_npoly(p: &Poly, scale: f64, values: &[GRat], freq: usize) -> NPoly {
+    use num_complex::Complex64;
+    let mut out = NPoly::default();
+    for (m, coeff) in p.terms() {
+        let mut v = Complex64::new(coeff.re.to_f64(), coeff.im.to_f64()) / scale;
+        for (i, x) in values.iter().enumerate() {
+            if i == 0 || i == freq {
+                continue;
+            }
+            let e = m.exp(i);
+            if e > 0 {
+                let (re, im) = x.to_f64();
+                v *= Complex64::new(re, im).powu(e);
+            }
+        }
+        let (a, b) = (m.exp(0) as usize, m.exp(freq) as usize);
+        if out.c.len() <= a {
+            out.c.resize(a + 1, Vec::new());
+        }
+        if out.c[a].len() <= b {
+            out.c[a].resize(b + 1, Complex64::new(0.0, 0.0));
+        }
+        out.c[a][b] += v;
+    }
+    out
+}
+
+/// y'' + p y' + q y = 0 cleared of denominators and made numeric except in ω.
+/// Denominator factors may depend on ω only through a constant factor.
+pub fn try_num_ode(k: &Field, p: &RatFunc, q: &RatFunc, values: &[GRat], freq: usize) -> Result<NumOde> {
+    // A = lcm of the denominators of p and q (factor lists are coprime within each).
+    let mut a = Poly::int(1);
+    for r in [p, q] {
+        let d = r.den_expanded();
+        let g = crate::algebra::gcd(&a, &d).ok_or_else(|| Error::new(ErrorKind::Limit, "a gcd grew too large"))?;
+        a = a.mul(&d.div_exact(&g).ok_or_else(|| Error::new(ErrorKind::Internal, "gcd does not divide"))?);
+    }
+    let ar = RatFunc::from_poly(a.clone());
+    let pb = k.mul(p, &ar)?;
+    let qc = k.mul(q, &ar)?;
+    for r in [&pb, &qc] {
+        if !r.den_factors().is_empty() {
+            return Err(Error::new(ErrorKind::Internal, "clearing denominators left a denominator"));
+        }
+    }
+    Ok(NumOde {
+        a: try_npoly(&a, 1.0, values, freq),
+        b: try_npoly(pb.num(), pb.scale().to_f64(), values, freq),
+        c: try_npoly(qc.num(), qc.scale().to_f64(), values, freq),
+    })
+}

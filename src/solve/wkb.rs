@@ -280,6 +280,9 @@ mod tests {
     fn third_order_matches_the_published_gravitational_modes() {
         let w = schwarzschild(2, 2, 0).wkb3;
         assert!((w.re - 0.3732).abs() < 5e-5 && (w.im + 0.0892).abs() < 5e-5, "l = 2: {w}");
+        // The first overtone exercises the α-dependence of Λ and Ω: 0.3460 − 0.2749i (Iyer 1987, from memory).
+        let w = schwarzschild(2, 2, 1).wkb3;
+        assert!((w.re - 0.3460).abs() < 5e-5 && (w.im + 0.2749).abs() < 5e-5, "l = 2, n = 1: {w}");
         let w = schwarzschild(3, 2, 0).wkb3;
         let leaver = Complex64::new(0.59944, -0.09270);
         assert!((w - leaver).norm() < 5e-3 * leaver.norm(), "l = 3: {w}");

@@ -1,0 +1,227 @@
+//! `canonode spectrum`: quasinormal modes by the continued fraction, with
+//! convergence evidence for every overtone.
+
+use super::values::{fmt_complex, parse_assignments, parse_complex};
+use super::{run_command, Failure, InputArgs};
+use crate::algebra::GRat;
+use crate::error::{Error, ErrorKind};
+use crate::solve::spectrum::{qnm_modes, SpectrumOptions};
+use clap::{Args, ValueEnum};
+use num_complex::Complex64;
+
+/// Output formats of `spectrum`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub(crate) enum SpecFormat {
+    /// A table with the evidence.
+    Text,
+    /// JSON (schema in `src/cli/spectrum.rs`).
+    Json,
+    /// One line per mode.
+    Csv,
+}
+
+/// Methods.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub(crate) enum Method {
+    /// The continued fraction when the recurrence allows it.
+    Auto,
+    /// Leaver's continued fraction.
+    Cf,
+}
+
+/// Arguments of `spectrum`.
+#[derive(Args, Debug)]
+pub(crate) struct SpectrumArgs {
+    #[command(flatten)]
+    input: InputArgs,
+    /// The boundary problem.
+    #[arg(long = "boundary", value_enum, default_value = "qnm")]
+    boundary: super::classify::BoundaryArg,
+    /// Values of every parameter except the frequency, e.g. 'M=1,l=2,s=2'.
+    #[arg(long = "at", value_name = "NAME=VALUE,...")]
+    at: String,
+    /// Overtones, a range 'A..B' (inclusive) or one number.
+    #[arg(long = "overtones", value_name = "A..B", default_value = "0")]
+    overtones: String,
+    /// The method.
+    #[arg(long = "method", value_enum, default_value = "auto")]
+    method: Method,
+    /// A seed for the lowest overtone, e.g. '0.37-0.09i'.
+    #[arg(long = "guess", value_name = "VALUE")]
+    guess: Option<String>,
+    /// Relative tolerance on ω.
+    #[arg(long = "tol", default_value_t = 1e-10)]
+    tol: f64,
+    /// Output format.
+    #[arg(long = "format", value_enum, default_value = "text")]
+    format: SpecFormat,
+}
+
+fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
+    Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, len)).in_option(option).into()
+}
+
+pub(crate) fn run(a: &SpectrumArgs) -> u8 {
+    let mut extra = vec![("--at".to_string(), a.at.clone()), ("--overtones".to_string(), a.overtones.clone())];
+    extra.extend(a.guess.iter().map(|g| ("--guess".to_string(), g.clone())));
+    run_command(&a.input, &extra, |src| compute(a, src))
+}
+
+fn parse_overtones(t: &str) -> Option<(u32, u32)> {
+    match t.split_once("..") {
+        Some((x, y)) => {
+            let (x, y) = (x.trim().parse().ok()?, y.trim().parse().ok()?);
+            (x <= y && y - x <= 200).then_some((x, y))
+        }
+        None => t.trim().parse().ok().map(|x| (x, x)),
+    }
+}
+
+fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
+    if a.boundary == super::classify::BoundaryArg::Bound {
+        return Err(Error::new(ErrorKind::Usage, "bound states (--boundary bound) are not computed by this version: only quasinormal modes").into());
+    }
+    if !(a.tol > 0.0 && a.tol < 1e-2) {
+        return Err(Error::new(ErrorKind::Usage, format!("--tol {} is not a sensible relative tolerance (between 0 and 1e-2)", a.tol)).into());
+    }
+    let red = crate::ode::reduce(&src.input(), &a.input.options())?;
+    let k = &red.field;
+    let names = k.names();
+    let fname = a.input_frequency().or_else(|| ["omega", "ω", "w"].iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
+    let Some(fname) = fname else {
+        return Err(Error::new(ErrorKind::Usage, "no frequency parameter: name it with --frequency").into());
+    };
+    let Some(freq) = names.iter().skip(1).position(|n| *n == fname).map(|i| i + 1) else {
+        return Err(Error::new(ErrorKind::Usage, format!("'{fname}' is not a parameter of the equation")).in_option("--frequency").into());
+    };
+    let values = parse_assignments(&a.at, "--at")?;
+    let mut point = vec![GRat::zero(); names.len()];
+    let mut given = vec![false; names.len()];
+    given[0] = true;
+    given[freq] = true;
+    for (n, v, span) in &values {
+        match names.iter().skip(1).position(|x| x == n) {
+            Some(i) if i + 1 == freq => {
+                return Err(Error::new(ErrorKind::Usage, format!("'{n}' is the frequency being solved for; give a seed with --guess instead"))
+                    .at(*span)
+                    .in_option("--at")
+                    .into())
+            }
+            Some(i) => {
+                point[i + 1] = v.clone();
+                given[i + 1] = true;
+            }
+            None => return Err(Error::new(ErrorKind::Usage, format!("'{n}' is not a parameter of the equation")).at(*span).in_option("--at").into()),
+        }
+    }
+    let missing: Vec<&str> = names.iter().zip(&given).filter(|(_, g)| !**g).map(|(n, _)| n.as_str()).collect();
+    if !missing.is_empty() {
+        return Err(usage(format!("no value given for {}", missing.join(", ")), "--at", a.at.len()));
+    }
+    let Some(overtones) = parse_overtones(&a.overtones) else {
+        return Err(usage("expected an overtone number or a range such as 0..7", "--overtones", a.overtones.len()));
+    };
+    let guess = match &a.guess {
+        Some(g) => Some(parse_complex(g).ok_or_else(|| usage(format!("'{g}' is not a complex number"), "--guess", g.len()))?),
+        None => None,
+    }
+    .map(|g| {
+        let (re, im) = g.to_f64();
+        Complex64::new(re, im)
+    });
+    let opts = SpectrumOptions { freq, values: point, overtones, tol: a.tol, guess, seeds: Vec::new() };
+    let estimate = |_n: u32| -> Option<(Complex64, String)> { None };
+    let (modes, setup) = qnm_modes(&red, &opts, &estimate)?;
+    let method = "continued fraction (Leaver 1985; tail after Nollert 1993)";
+    Ok(match a.format {
+        SpecFormat::Json => {
+            let ms: Vec<serde_json::Value> = modes
+                .iter()
+                .map(|m| {
+                    let r = &m.root;
+                    serde_json::json!({
+                        "n": m.n,
+                        "omega": if r.converged { serde_json::json!([r.omega.re, r.omega.im]) } else { serde_json::Value::Null },
+                        "converged": r.converged,
+                        "reason": if r.converged { serde_json::Value::Null } else { serde_json::Value::String(r.stop.text()) },
+                        "method": "cf",
+                        "evidence": {
+                            "inversion": r.inversion,
+                            "depth": r.depth,
+                            "change_on_doubling": r.depth_change,
+                            "residual": r.residual,
+                            "iterations": r.iterations,
+                            "seed": [m.seed.0.re, m.seed.0.im],
+                            "seed_from": m.seed.1,
+                        },
+                        "check": serde_json::Value::Null,
+                    })
+                })
+                .collect();
+            let v = serde_json::json!({
+                "frequency": fname,
+                "boundary": "qnm",
+                "horizon": setup.horizon,
+                "ansatz": setup.ansatz,
+                "choices": setup.choices,
+                "recurrence_terms": setup.terms,
+                "method": method,
+                "modes": ms,
+            });
+            format!("{}\n", serde_json::to_string_pretty(&v).unwrap_or_default())
+        }
+        SpecFormat::Csv => {
+            let mut o = String::from("n,re,im,converged,method,depth,change_on_doubling,residual\n");
+            for m in &modes {
+                let r = &m.root;
+                if r.converged {
+                    o.push_str(&format!(
+                        "{},{:.17e},{:.17e},true,cf,{},{:.3e},{:.3e}\n",
+                        m.n, r.omega.re, r.omega.im, r.depth, r.depth_change, r.residual
+                    ));
+                } else {
+                    o.push_str(&format!("{},,,false,cf,{},,\n", m.n, r.depth));
+                }
+            }
+            o
+        }
+        SpecFormat::Text => {
+            let mut o = String::new();
+            o.push_str(&format!("quasinormal modes of {} ({fname}), time dependence e^(-i*{fname}*t)\n", src.name));
+            o.push_str(&format!("  series about {} = {}: {}\n", red.var, setup.horizon, setup.ansatz));
+            for c in &setup.choices {
+                o.push_str(&format!("  choice: {c}\n"));
+            }
+            o.push_str(&format!("  method: {method}, {}-term recurrence, n-th inversion for overtone n\n\n", setup.terms));
+            o.push_str("  n  omega                                        evidence\n");
+            for m in &modes {
+                let r = &m.root;
+                if r.converged {
+                    o.push_str(&format!(
+                        "  {:<2} {:<44} depth {}, change on doubling {:.1e}, residual {:.1e}\n",
+                        m.n,
+                        fmt_complex(r.omega.re, r.omega.im),
+                        r.depth,
+                        r.depth_change,
+                        r.residual
+                    ));
+                } else {
+                    o.push_str(&format!(
+                        "  {:<2} NOT CONVERGED: {} (seed {} from {})\n",
+                        m.n,
+                        r.stop.text(),
+                        fmt_complex(m.seed.0.re, m.seed.0.im),
+                        m.seed.1
+                    ));
+                }
+            }
+            o
+        }
+    })
+}
+
+impl SpectrumArgs {
+    fn input_frequency(&self) -> Option<String> {
+        self.input.frequency_name()
+    }
+}

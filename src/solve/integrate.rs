@@ -1,0 +1,1 @@
+//! Direct integration of the equation between its ends (being written).
