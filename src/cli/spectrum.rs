@@ -27,6 +27,10 @@ pub(crate) enum Method {
     Auto,
     /// Leaver's continued fraction.
     Cf,
+    /// Third-order WKB estimates (Iyer & Will 1987).
+    Wkb,
+    /// The eikonal (first-order) estimate from the peak of the potential.
+    Eikonal,
 }
 
 /// Arguments of `spectrum`.
@@ -130,9 +134,29 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         Complex64::new(re, im)
     });
     let opts = SpectrumOptions { freq, values: point, overtones, tol: a.tol, guess, seeds: Vec::new() };
-    let estimate = |_n: u32| -> Option<(Complex64, String)> { None };
+    let (rec_probe, setup0) = crate::solve::spectrum::qnm_recurrence(&red, &opts)?;
+    drop(rec_probe);
+    let estimates = crate::solve::spectrum::barrier_estimates(&red, &opts, setup0.horizon_value).ok();
+    if matches!(a.method, Method::Wkb | Method::Eikonal) {
+        let Some(est) = &estimates else {
+            return Err(Error::new(
+                ErrorKind::Usage,
+                "no potential barrier could be built for WKB: the equation has no rational tortoise coordinate",
+            )
+            .into());
+        };
+        return Ok(estimate_report(a, &fname, src, overtones, est));
+    }
+    let estimate = |n: u32| -> Option<(Complex64, String)> {
+        estimates.as_ref().and_then(|e| e(n)).map(|(_, w3)| (w3, "third-order WKB (Iyer & Will 1987)".to_string()))
+    };
     let (modes, setup) = qnm_modes(&red, &opts, &estimate)?;
-    let method = "continued fraction (Leaver 1985; tail after Nollert 1993)";
+    let check = |n: u32| estimates.as_ref().and_then(|e| e(n)).map(|(_, w3)| w3);
+    let method = if modes.iter().any(|m| m.method == "terminating") {
+        "exact termination of the series (the recurrence has two terms)"
+    } else {
+        "continued fraction (Leaver 1985; tail after Nollert 1993)"
+    };
     Ok(match a.format {
         SpecFormat::Json => {
             let ms: Vec<serde_json::Value> = modes
@@ -144,7 +168,7 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
                         "omega": if r.converged { serde_json::json!([r.omega.re, r.omega.im]) } else { serde_json::Value::Null },
                         "converged": r.converged,
                         "reason": if r.converged { serde_json::Value::Null } else { serde_json::Value::String(r.stop.text()) },
-                        "method": "cf",
+                        "method": m.method,
                         "evidence": {
                             "inversion": r.inversion,
                             "depth": r.depth,
@@ -154,7 +178,10 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
                             "seed": [m.seed.0.re, m.seed.0.im],
                             "seed_from": m.seed.1,
                         },
-                        "check": serde_json::Value::Null,
+                        "check": match check(m.n) {
+                            Some(w) => serde_json::json!({"method": "wkb3", "omega": [w.re, w.im], "note": "third-order WKB: an approximation, agreement to a few digits expected"}),
+                            None => serde_json::Value::Null,
+                        },
                     })
                 })
                 .collect();
@@ -196,7 +223,14 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
             o.push_str("  n  omega                                        evidence\n");
             for m in &modes {
                 let r = &m.root;
-                if r.converged {
+                if r.converged && m.method == "terminating" {
+                    o.push_str(&format!(
+                        "  {:<2} {:<44} exact condition c1(n, ω) = 0, residual {:.1e}\n",
+                        m.n,
+                        fmt_complex(r.omega.re, r.omega.im),
+                        r.residual
+                    ));
+                } else if r.converged {
                     o.push_str(&format!(
                         "  {:<2} {:<44} depth {}, change on doubling {:.1e}, residual {:.1e}\n",
                         m.n,
@@ -214,6 +248,9 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
                         m.seed.1
                     ));
                 }
+                if let (true, Some(w)) = (r.converged && m.method == "cf", check(m.n)) {
+                    o.push_str(&format!("     check: third-order WKB {}  (approximate)\n", fmt_complex(w.re, w.im)));
+                }
             }
             o
         }
@@ -223,5 +260,65 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
 impl SpectrumArgs {
     fn input_frequency(&self) -> Option<String> {
         self.input.frequency_name()
+    }
+}
+
+fn estimate_report(
+    a: &SpectrumArgs,
+    fname: &str,
+    src: &super::Source,
+    overtones: (u32, u32),
+    est: &dyn Fn(u32) -> Option<(Complex64, Complex64)>,
+) -> String {
+    let wkb = a.method == Method::Wkb;
+    let name = if wkb {
+        "third-order WKB (Schutz & Will 1985; Iyer & Will 1987)"
+    } else {
+        "eikonal estimate √V₀ − i(n + ½)√(−V₀''/(2V₀)) (Schutz & Will 1985)"
+    };
+    let rows: Vec<(u32, Option<Complex64>)> = (overtones.0..=overtones.1).map(|n| (n, est(n).map(|(e, w)| if wkb { w } else { e }))).collect();
+    match a.format {
+        SpecFormat::Json => {
+            let ms: Vec<serde_json::Value> = rows
+                .iter()
+                .map(|(n, w)| {
+                    serde_json::json!({
+                        "n": n,
+                        "omega": w.map(|w| serde_json::json!([w.re, w.im])).unwrap_or(serde_json::Value::Null),
+                        "converged": w.is_some(),
+                        "reason": if w.is_some() { serde_json::Value::Null } else { serde_json::Value::String("no barrier estimate".into()) },
+                        "method": if wkb { "wkb" } else { "eikonal" },
+                        "evidence": {"note": "an analytic approximation from the peak of the potential, not an iterated eigenvalue"},
+                        "check": serde_json::Value::Null,
+                    })
+                })
+                .collect();
+            format!(
+                "{}\n",
+                serde_json::to_string_pretty(&serde_json::json!({"frequency": fname, "boundary": "qnm", "method": name, "modes": ms}))
+                    .unwrap_or_default()
+            )
+        }
+        SpecFormat::Csv => {
+            let mut o = String::from("n,re,im,converged,method\n");
+            for (n, w) in rows {
+                match w {
+                    Some(w) => o.push_str(&format!("{n},{:.17e},{:.17e},true,{}\n", w.re, w.im, if wkb { "wkb" } else { "eikonal" })),
+                    None => o.push_str(&format!("{n},,,false,{}\n", if wkb { "wkb" } else { "eikonal" })),
+                }
+            }
+            o
+        }
+        SpecFormat::Text => {
+            let mut o =
+                format!("estimates of the quasinormal modes of {} ({fname}): {name}\n  approximations, not converged eigenvalues\n\n", src.name);
+            for (n, w) in rows {
+                match w {
+                    Some(w) => o.push_str(&format!("  {n:<2} {}\n", fmt_complex(w.re, w.im))),
+                    None => o.push_str(&format!("  {n:<2} no estimate (no barrier peak found)\n")),
+                }
+            }
+            o
+        }
     }
 }

@@ -41,6 +41,8 @@ pub struct Mode {
     pub root: CfRoot,
     /// The seed it started from, and where the seed came from.
     pub seed: (Complex64, String),
+    /// The method: "cf" (continued fraction) or "terminating" (exact termination condition).
+    pub method: &'static str,
 }
 
 /// What the computation set up, for the report.
@@ -48,6 +50,8 @@ pub struct Mode {
 pub struct Setup {
     /// The horizon's location as text.
     pub horizon: String,
+    /// Its numeric location at the given values.
+    pub horizon_value: f64,
     /// The recurrence's ansatz and choices.
     pub ansatz: String,
     /// Exponent choices made.
@@ -88,16 +92,19 @@ pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate:
             }
         }
     }
-    let Some((_, horizon)) = best else {
+    let Some((horizon_value, horizon)) = best else {
         return Err(usage("no horizon-like regular point with an exact location: the continued fraction needs one (roots of higher-degree factors are not supported yet)"));
     };
-    if !an.points.iter().any(|p| matches!(p.place, Place::Infinity) && p.kind == Kind::Irregular) {
-        return Err(usage("infinity is not an irregular point: the quasinormal-mode continued fraction expects one"));
-    }
+    let inf_irregular = an.points.iter().any(|p| matches!(p.place, Place::Infinity) && p.kind == Kind::Irregular);
     let choices = Choices { picks };
-    let rec = crate::series::recurrence(red, &horizon, None, &choices, false)?;
+    // With an irregular point at infinity, Leaver's Möbius series; otherwise
+    // a plain Frobenius series about the horizon carrying the chosen
+    // exponents of the other regular points, whose termination is the mode condition.
+    let series = if inf_irregular { None } else { Some(format!("u={} - ({horizon})", red.var)) };
+    let rec = crate::series::recurrence(red, &horizon, series.as_deref(), &choices, false)?;
     let setup = Setup {
         horizon: horizon.clone(),
+        horizon_value,
         ansatz: format!("{} = {} * Σ a_n u^n, {}", rec.function, rec.prefactor, rec.series),
         choices: said,
         terms: rec.coeffs.len(),
@@ -108,6 +115,11 @@ pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate:
 /// Computes the quasinormal modes by the continued fraction.
 pub fn qnm_modes(red: &Reduction, opts: &SpectrumOptions, first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>) -> Result<(Vec<Mode>, Setup)> {
     let (rec, setup) = qnm_recurrence(red, opts)?;
+    if rec.coeffs.len() == 2 {
+        let num = try_numeric(&rec, &opts.values, opts.freq)?;
+        let modes = (opts.overtones.0..=opts.overtones.1).map(|n| terminating_mode(&num, n)).collect();
+        return Ok((modes, setup));
+    }
     if rec.coeffs.len() != 3 {
         return Err(usage(format!(
             "the recurrence about {} has {} terms; the continued fraction here needs three (reduction of longer recurrences is not implemented yet)",
@@ -143,7 +155,77 @@ pub fn qnm_modes(red: &Reduction, opts: &SpectrumOptions, first_estimate: &dyn F
                 root.omega.re, root.omega.im
             ));
         }
-        modes.push(Mode { n, root, seed });
+        modes.push(Mode { n, root, seed, method: "cf" });
     }
     Ok((modes, setup))
+}
+
+/// A two-term recurrence c₀(n) a_{n+1} + c₁(n) a_n = 0 terminates after a_N
+/// exactly when c₁(N; ω) = 0: a polynomial condition on ω whose roots in the
+/// lower right quadrant are the modes (the series is then a polynomial and
+/// has the chosen exponents at both ends).
+fn terminating_mode(num: &super::cf::NumRecurrence, n: u32) -> Mode {
+    let c1 = &num.terms[1];
+    // Coefficients in ω at this n: Σ_a c[a][b] nᵃ.
+    let nb = c1.c.iter().map(|r| r.len()).max().unwrap_or(0);
+    let mut coeffs = vec![Complex64::new(0.0, 0.0); nb];
+    for (a, row) in c1.c.iter().enumerate() {
+        for (b, c) in row.iter().enumerate() {
+            coeffs[b] += c * (n as f64).powi(a as i32);
+        }
+    }
+    let roots = crate::analysis::numeric::try_roots(&coeffs).unwrap_or_default();
+    let pick =
+        roots.iter().copied().filter(|w| w.im < 0.0 && w.re >= 0.0).max_by(|a, b| a.re.partial_cmp(&b.re).unwrap_or(std::cmp::Ordering::Equal));
+    let eval = |w: Complex64| coeffs.iter().rev().fold(Complex64::new(0.0, 0.0), |acc, c| acc * w + c);
+    let scale = coeffs.iter().map(|c| c.norm()).fold(0.0, f64::max).max(1e-300);
+    let root = match pick {
+        Some(w) => CfRoot {
+            omega: w,
+            converged: true,
+            depth: 0,
+            depth_change: 0.0,
+            residual: eval(w).norm() / scale,
+            iterations: 0,
+            stop: StopReason::Converged,
+            inversion: n as usize,
+        },
+        None => CfRoot {
+            omega: Complex64::new(f64::NAN, f64::NAN),
+            converged: false,
+            depth: 0,
+            depth_change: f64::NAN,
+            residual: f64::NAN,
+            iterations: 0,
+            stop: StopReason::Rejected(format!("the termination condition for overtone {n} has no root with Re ω ≥ 0 and Im ω < 0")),
+            inversion: n as usize,
+        },
+    };
+    Mode { n, root, seed: (Complex64::new(0.0, 0.0), "exact termination condition (no seed)".into()), method: "terminating" }
+}
+
+/// First estimates from the Schrödinger form: dx/dz = h with h² the
+/// coefficient of ω² in q (the tortoise coordinate of these wave equations,
+/// common practice), V = ω² − W free of ω, barrier searched outside the
+/// outermost horizon. Returns a function giving (eikonal, third-order WKB)
+/// for overtone n (Schutz & Will 1985; Iyer & Will 1987).
+pub fn barrier_estimates<'a>(
+    red: &'a Reduction,
+    opts: &'a SpectrumOptions,
+    horizon: f64,
+) -> Result<impl Fn(u32) -> Option<(Complex64, Complex64)> + 'a> {
+    let k = &red.field;
+    let w = k.var(opts.freq);
+    // q = q₀ + q₁ ω + q₂ ω²: q₂ = ½ ∂²q/∂ω².
+    let d2 = k.deriv(&k.deriv(&red.q, opts.freq)?, opts.freq)?;
+    let q2 = k.mul(&d2, &crate::algebra::RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero")))?;
+    if k.deriv(&q2, opts.freq)? != crate::algebra::RatFunc::zero() {
+        return Err(usage("q is not quadratic in the frequency: no tortoise coordinate from it"));
+    }
+    let Some(h) = k.sqrt_exact(&q2)? else {
+        return Err(usage("the coefficient of the frequency squared is not a perfect square: no rational tortoise coordinate"));
+    };
+    let _ = w;
+    let (_, v) = crate::ode::schrodinger(k, &red.p, &red.q, &h, Some(opts.freq))?;
+    Ok(move |n: u32| super::wkb::try_barrier(k, &v, &h, &opts.values, Some(opts.freq), (horizon, f64::INFINITY), n).ok().map(|b| (b.eikonal, b.wkb3)))
 }

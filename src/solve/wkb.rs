@@ -12,7 +12,7 @@
 //! 3621). Both are approximations whose error falls with the multipole
 //! number; they seed the exact spectral solvers, they do not replace them.
 
-use crate::algebra::{Field, GRat, Poly, RatFunc};
+use crate::algebra::{Field, GRat, Int, Poly, Rat, RatFunc};
 use crate::analysis::numeric::try_roots;
 use crate::error::{Error, ErrorKind, Result};
 use num_complex::Complex64;
@@ -98,17 +98,16 @@ fn usage(msg: impl Into<String>) -> Error {
 
 /// Substitutes every parameter's value exactly, leaving a function of z alone.
 fn specialise(field: &Field, r: &RatFunc, values: &[GRat], freq: Option<usize>, what: &str) -> Result<RatFunc> {
-    let names = field.names();
     let mut out = r.clone();
-    for i in 1..names.len() {
+    for (i, name) in field.names().iter().enumerate().skip(1) {
         if !out.uses_var(i) {
             continue;
         }
         if Some(i) == freq {
-            return Err(usage(format!("{what} depends on the frequency {}; the WKB formulas here need V and dx/dz free of it", names[i])));
+            return Err(usage(format!("{what} depends on the frequency {}; the WKB formulas here need V and dx/dz free of it", name)));
         }
         let Some(x) = values.get(i) else {
-            return Err(usage(format!("no value was given for the parameter {}", names[i])));
+            return Err(usage(format!("no value was given for the parameter {name}")));
         };
         out = field.compose(&out, i, &RatFunc::constant(x))?;
     }
@@ -116,12 +115,12 @@ fn specialise(field: &Field, r: &RatFunc, values: &[GRat], freq: Option<usize>, 
 }
 
 /// The coefficients of a polynomial in z alone, low degree first, as doubles divided by `scale`.
-fn coeffs(p: &Poly, scale: &crate::algebra::Int) -> Result<Vec<Complex64>> {
+fn coeffs(p: &Poly, scale: &Int) -> Result<Vec<Complex64>> {
     let mut out = Vec::new();
     for c in p.to_univariate(0) {
         let g = c.as_constant().ok_or_else(|| Error::new(ErrorKind::Internal, "a coefficient still depends on a parameter"))?;
-        let re = crate::algebra::Rat::new(g.re, scale.clone()).map(|r| r.to_f64());
-        let im = crate::algebra::Rat::new(g.im, scale.clone()).map(|r| r.to_f64());
+        let re = Rat::new(g.re, scale.clone()).map(|r| r.to_f64());
+        let im = Rat::new(g.im, scale.clone()).map(|r| r.to_f64());
         match (re, im) {
             (Some(re), Some(im)) if re.is_finite() && im.is_finite() => out.push(Complex64::new(re, im)),
             _ => return Err(Error::new(ErrorKind::Limit, "a coefficient of the potential does not fit in double precision")),
@@ -143,7 +142,7 @@ struct NumRat {
 
 impl NumRat {
     fn new(r: &RatFunc) -> Result<NumRat> {
-        let one = crate::algebra::Int::from(1);
+        let one = Int::from(1);
         let num = coeffs(r.num(), r.scale())?;
         let den = r.den_factors().iter().map(|(f, e)| Ok((coeffs(f.poly(), &one)?, *e))).collect::<Result<_>>()?;
         Ok(NumRat { num, den })
@@ -186,7 +185,7 @@ fn peak(field: &Field, v: &RatFunc, tower: &[NumRat], (a, b): (f64, f64)) -> Res
         if v2.re >= 0.0 {
             continue;
         }
-        if best.map_or(true, |(_, vb)| v0.re > vb) {
+        if best.is_none_or(|(_, vb)| v0.re > vb) {
             best = Some((z, v0.re));
         }
     }
@@ -223,7 +222,7 @@ fn wkb3(v0: Complex64, d: &[Complex64; 5], alpha: f64) -> Complex64 {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::algebra::{Limits, Rat};
+    use crate::algebra::Limits;
 
     fn int(k: i64) -> RatFunc {
         RatFunc::rat(&Rat::int(k.into()))
