@@ -51,7 +51,7 @@ pub(crate) struct SpectrumArgs {
     #[arg(long = "method", value_enum, default_value = "auto")]
     method: Method,
     /// A seed for the lowest overtone, e.g. '0.37-0.09i'.
-    #[arg(long = "guess", value_name = "VALUE")]
+    #[arg(long = "guess", value_name = "VALUE", allow_hyphen_values = true)]
     guess: Option<String>,
     /// Relative tolerance on ω.
     #[arg(long = "tol", default_value_t = 1e-10)]

@@ -1,0 +1,131 @@
+//! Checks of `spectrum` against published quasinormal modes and exact
+//! spectra. Each check names its source; values recalled from memory say so.
+
+use serde_json::Value;
+use std::process::Command;
+
+fn run(args: &[&str]) -> (Value, i32, String) {
+    let out = Command::new(env!("CARGO_BIN_EXE_canonode")).args(args).current_dir(env!("CARGO_MANIFEST_DIR")).output().expect("binary runs");
+    let code = out.status.code().unwrap_or(-1);
+    let stderr = String::from_utf8_lossy(&out.stderr).to_string();
+    let v = serde_json::from_slice(&out.stdout).unwrap_or(Value::Null);
+    (v, code, stderr)
+}
+
+fn modes(sample: &str, at: &str, overtones: &str, extra: &[&str]) -> Vec<Value> {
+    let path = format!("samples/{sample}.ode");
+    let mut args = vec!["spectrum", path.as_str(), "--at", at, "--overtones", overtones, "--format", "json"];
+    args.extend_from_slice(extra);
+    let (v, code, err) = run(&args);
+    assert_eq!(code, 0, "{args:?}: {err}");
+    v["modes"].as_array().expect("modes").clone()
+}
+
+fn omega(m: &Value) -> (f64, f64) {
+    assert_eq!(m["converged"], true, "mode not converged: {m}");
+    (m["omega"][0].as_f64().unwrap(), m["omega"][1].as_f64().unwrap())
+}
+
+#[test]
+fn schwarzschild_continued_fraction_eight_digits() {
+    // Leaver 1985; Berti, Cardoso & Starinets 2009 tables (M = 1), 8 decimals:
+    // agreement to half a unit in the last place.
+    let cases: &[(&str, &str, &[(f64, f64)])] = &[
+        ("M=1,l=2,s=2", "0..3", &[(0.37367168, -0.08896232), (0.34671100, -0.27391488), (0.30105345, -0.47827698), (0.25150496, -0.70514820)]),
+        ("M=1,l=3,s=2", "0", &[(0.59944329, -0.09270305)]),
+        ("M=1,l=0,s=0", "0", &[(0.11045494, -0.10489572)]),
+        ("M=1,l=1,s=0", "0", &[(0.29293613, -0.09765999)]),
+        ("M=1,l=2,s=0", "0", &[(0.48364387, -0.09675878)]),
+        ("M=1,l=1,s=1", "0", &[(0.24826326, -0.09248772)]),
+    ];
+    for (at, ov, want) in cases {
+        let ms = modes("regge_wheeler", at, ov, &[]);
+        for (m, w) in ms.iter().zip(want.iter()) {
+            let (re, im) = omega(m);
+            assert!((re - w.0).abs() <= 5.1e-9 && (im - w.1).abs() <= 5.1e-9, "{at} n={}: {re} {im} vs {w:?}", m["n"]);
+            assert_eq!(m["method"], "cf");
+            assert!(m["evidence"]["depth"].as_u64().unwrap() >= 64);
+            assert!(m["evidence"]["change_on_doubling"].as_f64().unwrap() < 1e-9);
+        }
+    }
+}
+
+#[test]
+fn schwarzschild_higher_overtones_stay_converged() {
+    // s = l = 2, n = 4..7 (Leaver 1985 lists them; here: converged, in the
+    // lower half plane, damping increasing with n).
+    let ms = modes("regge_wheeler", "M=1,l=2,s=2", "0..7", &[]);
+    let mut last = 0.0;
+    for m in &ms {
+        let (re, im) = omega(m);
+        assert!(re > 0.0 && im < last, "n={}: {re} {im}", m["n"]);
+        last = im;
+    }
+    // n = 7 from Leaver 1985 (from memory): about 0.0928 − 1.7038i.
+    let (re, im) = omega(&ms[7]);
+    assert!((re - 0.0928).abs() < 5e-4 && (im + 1.7038).abs() < 5e-4, "{re} {im}");
+}
+
+#[test]
+fn poschl_teller_barrier_exact() {
+    // Ferrari & Mashhoon 1984: ω = √(V0 − α²/4) − iα(n + ½) for V0/cosh²(αx),
+    // here through u = tanh(αx).
+    for (v0, a) in [(1.0f64, 0.5f64), (2.0, 0.3)] {
+        let at = format!("V0={v0},alpha={a}");
+        let ms = modes("poschl_teller", &at, "0..4", &[]);
+        for m in &ms {
+            let n = m["n"].as_f64().unwrap();
+            let (re, im) = omega(m);
+            let (wr, wi) = ((v0 - a * a / 4.0).sqrt(), -a * (n + 0.5));
+            assert!((re - wr).abs() < 1e-12 && (im - wi).abs() < 1e-12, "V0={v0} α={a} n={n}: {re} {im}");
+        }
+    }
+}
+
+#[test]
+fn eikonal_and_wkb_estimates() {
+    // Eikonal limit: Re ω/(l + ½) → Ω_c and −Im ω/(n + ½) → λ with
+    // Ω_c = λ = 1/(3√3 M) (textbook; Cardoso et al. 2009).
+    let (v, code, err) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=60,s=2", "--method", "eikonal", "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    let m = &v["modes"][0];
+    let (re, im) = (m["omega"][0].as_f64().unwrap(), m["omega"][1].as_f64().unwrap());
+    let lam = 1.0 / (3.0 * 3f64.sqrt());
+    assert!((re / 60.5 - lam).abs() / lam < 1e-3 && (-im / 0.5 - lam).abs() / lam < 1e-3, "{re} {im}");
+    // Third-order WKB for s = l = 2, n = 0 near 0.3732 − 0.0892i (Iyer 1987, from memory).
+    let (v, _, _) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--method", "wkb", "--format", "json"]);
+    let m = &v["modes"][0];
+    let (re, im) = (m["omega"][0].as_f64().unwrap(), m["omega"][1].as_f64().unwrap());
+    assert!((re - 0.3732).abs() < 5e-5 && (im + 0.0892).abs() < 5e-5, "{re} {im}");
+}
+
+#[test]
+fn unconverged_is_reported_not_a_number() {
+    // A seed far from every mode with a tiny depth budget cannot converge
+    // within the iteration limit or lands in the wrong quadrant: the output
+    // must then say so and carry no number.
+    let (v, code, _) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--guess", "-3+40i", "--format", "json"]);
+    assert_eq!(code, 0);
+    let m = &v["modes"][0];
+    if m["converged"] == false {
+        assert!(m["omega"].is_null());
+        assert!(m["reason"].is_string());
+    } else {
+        let (re, im) = omega(m);
+        assert!(re > 0.0 && im < 0.0);
+    }
+}
+
+#[test]
+fn bad_spectrum_requests_are_usage_errors() {
+    for args in [
+        vec!["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2"],
+        vec!["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2,omega=1"],
+        vec!["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--overtones", "3..1"],
+        vec!["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--tol", "0"],
+    ] {
+        let (_, code, err) = run(&args);
+        assert_eq!(code, 2, "{args:?}: {err}");
+        assert!(err.contains("error:"), "{err}");
+    }
+}
