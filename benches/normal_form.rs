@@ -16,5 +16,63 @@ fn bench(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(benches, bench);
+/// Schwarzschild s = 2, l = 2, overtones 0..7 to 1e-10 by the continued
+/// fraction, from a reduced equation (the compute the README reports).
+fn bench_spectrum(c: &mut Criterion) {
+    use canonode::algebra::{GRat, Rat};
+    use canonode::solve::spectrum::{barrier_estimates, qnm_modes, qnm_recurrence, SpectrumOptions};
+    let path = format!("{}/samples/regge_wheeler.ode", env!("CARGO_MANIFEST_DIR"));
+    let text = std::fs::read_to_string(&path).expect("sample exists");
+    let red = reduce(&Input::Program(&text), &ReduceOptions::default()).expect("reduces");
+    let g = |x: i64| GRat::real(Rat::int(x.into()));
+    let opts = SpectrumOptions { freq: 2, values: vec![g(0), g(1), g(0), g(2), g(2)], overtones: (0, 7), tol: 1e-10, guess: None, seeds: Vec::new() };
+    let (_, setup) = qnm_recurrence(&red, &opts).expect("recurrence");
+    let seeds: Vec<_> = {
+        let est = barrier_estimates(&red, &opts, setup.horizon_value).expect("barrier");
+        (0..2).filter_map(|n| est(n).map(|(_, w)| w)).collect()
+    };
+    let opts = SpectrumOptions { seeds, ..opts.clone() };
+    c.bench_function("spectrum/schwarzschild_l2_n0-7_cf", |b| {
+        b.iter(|| {
+            let none = |_n: u32| None;
+            let (modes, _) = qnm_modes(&red, &opts, &none).expect("modes");
+            assert!(modes.iter().all(|m| m.root.converged));
+            modes
+        })
+    });
+}
+
+/// The numeric part alone: the continued fractions of overtones 0..7 on
+/// the already derived recurrence, each seeded from the previous ones.
+fn bench_cf_only(c: &mut Criterion) {
+    use canonode::algebra::{GRat, Rat};
+    use canonode::solve::cf::{find_root, try_numeric};
+    use canonode::solve::spectrum::{qnm_recurrence, SpectrumOptions};
+    use num_complex::Complex64;
+    let path = format!("{}/samples/regge_wheeler.ode", env!("CARGO_MANIFEST_DIR"));
+    let text = std::fs::read_to_string(&path).expect("sample exists");
+    let red = reduce(&Input::Program(&text), &ReduceOptions::default()).expect("reduces");
+    let g = |x: i64| GRat::real(Rat::int(x.into()));
+    let opts = SpectrumOptions { freq: 2, values: vec![g(0), g(1), g(0), g(2), g(2)], overtones: (0, 7), tol: 1e-10, guess: None, seeds: Vec::new() };
+    let (rec, _) = qnm_recurrence(&red, &opts).expect("recurrence");
+    let num = try_numeric(&rec, &opts.values, 2).expect("numeric");
+    c.bench_function("cf/schwarzschild_l2_n0-7", |b| {
+        b.iter(|| {
+            let mut found: Vec<Complex64> = Vec::new();
+            for n in 0..8usize {
+                let seed = match found.len() {
+                    0 => Complex64::new(0.3732, -0.0892),
+                    1 => Complex64::new(0.3460, -0.2749),
+                    k => found[k - 1] * 2.0 - found[k - 2],
+                };
+                let r = find_root(&num, n, seed, 1e-10, 64, 1 << 17);
+                assert!(r.converged);
+                found.push(r.omega);
+            }
+            found
+        })
+    });
+}
+
+criterion_group!(benches, bench, bench_spectrum, bench_cf_only);
 criterion_main!(benches);

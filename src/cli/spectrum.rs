@@ -27,6 +27,8 @@ pub(crate) enum Method {
     Auto,
     /// Leaver's continued fraction.
     Cf,
+    /// Direct integration between the ends (Frobenius series, asymptotic series, Taylor continuation).
+    Integrate,
     /// Third-order WKB estimates (Iyer & Will 1987).
     Wkb,
     /// The eikonal (first-order) estimate from the peak of the potential.
@@ -150,8 +152,41 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     let estimate = |n: u32| -> Option<(Complex64, String)> {
         estimates.as_ref().and_then(|e| e(n)).map(|(_, w3)| (w3, "third-order WKB (Iyer & Will 1987)".to_string()))
     };
-    let (modes, setup) = qnm_modes(&red, &opts, &estimate)?;
-    let check = |n: u32| estimates.as_ref().and_then(|e| e(n)).map(|(_, w3)| w3);
+    let (mut modes, setup) = qnm_modes(&red, &opts, &estimate)?;
+    let wkb = |n: u32| estimates.as_ref().and_then(|e| e(n)).map(|(_, w3)| w3);
+    // The independent check: direct integration, seeded 1e-4 away from the
+    // continued-fraction root (or, with --method integrate, from the seed).
+    let integ = crate::solve::spectrum::integration_check(&red, &opts, &setup).ok();
+    let mut checks: Vec<Option<crate::solve::integrate::IntRoot>> = Vec::new();
+    for m in modes.iter_mut() {
+        let Some(f) = &integ else {
+            checks.push(None);
+            continue;
+        };
+        if m.method != "cf" {
+            checks.push(None);
+            continue;
+        }
+        if a.method == Method::Integrate {
+            let r = f(m.seed.0);
+            m.root.omega = r.omega;
+            m.root.converged = r.converged;
+            m.root.residual = r.residual;
+            m.root.iterations = r.iterations;
+            m.root.depth = 0;
+            m.root.depth_change = f64::NAN;
+            if !r.converged {
+                m.root.stop = crate::solve::cf::StopReason::Rejected(r.reason.clone());
+            }
+            m.method = "integrate";
+            checks.push(None);
+        } else if m.root.converged {
+            checks.push(Some(f(m.root.omega * Complex64::new(1.0 + 1e-4, 1e-4))));
+        } else {
+            checks.push(None);
+        }
+    }
+    let check = |i: usize| checks.get(i).and_then(|c| c.as_ref());
     let method = if modes.iter().any(|m| m.method == "terminating") {
         "exact termination of the series (the recurrence has two terms)"
     } else {
@@ -161,7 +196,8 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         SpecFormat::Json => {
             let ms: Vec<serde_json::Value> = modes
                 .iter()
-                .map(|m| {
+                .enumerate()
+                .map(|(i, m)| {
                     let r = &m.root;
                     serde_json::json!({
                         "n": m.n,
@@ -178,8 +214,18 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
                             "seed": [m.seed.0.re, m.seed.0.im],
                             "seed_from": m.seed.1,
                         },
-                        "check": match check(m.n) {
-                            Some(w) => serde_json::json!({"method": "wkb3", "omega": [w.re, w.im], "note": "third-order WKB: an approximation, agreement to a few digits expected"}),
+                        "check": match check(i) {
+                            Some(c) if c.converged => serde_json::json!({
+                                "method": "integrate",
+                                "omega": [c.omega.re, c.omega.im],
+                                "agreement": (c.omega - r.omega).norm() / r.omega.norm(),
+                                "residual": c.residual,
+                            }),
+                            Some(c) => serde_json::json!({"method": "integrate", "omega": serde_json::Value::Null, "reason": c.reason}),
+                            None => serde_json::Value::Null,
+                        },
+                        "estimate": match wkb(m.n) {
+                            Some(w) => serde_json::json!({"method": "wkb3", "omega": [w.re, w.im]}),
                             None => serde_json::Value::Null,
                         },
                     })
@@ -221,7 +267,7 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
             }
             o.push_str(&format!("  method: {method}, {}-term recurrence, n-th inversion for overtone n\n\n", setup.terms));
             o.push_str("  n  omega                                        evidence\n");
-            for m in &modes {
+            for (i, m) in modes.iter().enumerate() {
                 let r = &m.root;
                 if r.converged && m.method == "terminating" {
                     o.push_str(&format!(
@@ -232,9 +278,10 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
                     ));
                 } else if r.converged {
                     o.push_str(&format!(
-                        "  {:<2} {:<44} depth {}, change on doubling {:.1e}, residual {:.1e}\n",
+                        "  {:<2} {:<44} [{}] depth {}, change on doubling {:.1e}, residual {:.1e}\n",
                         m.n,
                         fmt_complex(r.omega.re, r.omega.im),
+                        m.method,
                         r.depth,
                         r.depth_change,
                         r.residual
@@ -248,8 +295,17 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
                         m.seed.1
                     ));
                 }
-                if let (true, Some(w)) = (r.converged && m.method == "cf", check(m.n)) {
-                    o.push_str(&format!("     check: third-order WKB {}  (approximate)\n", fmt_complex(w.re, w.im)));
+                match check(i) {
+                    Some(c) if c.converged => o.push_str(&format!(
+                        "     check: direct integration {}, agreement {:.1e}\n",
+                        fmt_complex(c.omega.re, c.omega.im),
+                        (c.omega - r.omega).norm() / r.omega.norm()
+                    )),
+                    Some(c) => o.push_str(&format!("     check: direct integration did not converge: {}\n", c.reason)),
+                    None => {}
+                }
+                if let (true, Some(w)) = (r.converged, wkb(m.n)) {
+                    o.push_str(&format!("     estimate: third-order WKB {}\n", fmt_complex(w.re, w.im)));
                 }
             }
             o

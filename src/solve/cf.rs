@@ -166,10 +166,7 @@ fn tail_coefficients(t: &Three, k: usize) -> Option<Vec<Complex64>> {
     if degenerate {
         c[0] = -b2 / (2.0 * a2);
         // Order 2 is quadratic in C₁: fit it from three values.
-        let e = |x: Complex64| {
-            let v = residual(t, &[c[0], x], n);
-            v[2]
-        };
+        let e = |x: Complex64| residual(t, &[c[0], x], 3)[2];
         let (e0, e1, em) = (e(Complex64::new(0.0, 0.0)), e(Complex64::new(1.0, 0.0)), e(Complex64::new(-1.0, 0.0)));
         let qa = (e1 + em) / 2.0 - e0;
         let qb = (e1 - em) / 2.0;
@@ -193,8 +190,9 @@ fn tail_coefficients(t: &Three, k: usize) -> Option<Vec<Complex64>> {
         c0.push(Complex64::new(0.0, 0.0));
         let mut c1 = c.clone();
         c1.push(Complex64::new(1.0, 0.0));
-        let e0 = residual(t, &c0, n)[order];
-        let e1 = residual(t, &c1, n)[order];
+        // Only the series up to this order is needed.
+        let e0 = residual(t, &c0, order + 1)[order];
+        let e1 = residual(t, &c1, order + 1)[order];
         let slope = e1 - e0;
         if slope.norm() == 0.0 {
             c.push(Complex64::new(0.0, 0.0));
@@ -265,7 +263,7 @@ pub fn cf_function(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) ->
     }
     let t = Three { a: rec.terms[0].at_omega(w), b: rec.terms[1].at_omega(w), g: rec.terms[2].at_omega(w) };
     let depth = depth.max(k + 2);
-    let tail = tail_coefficients(&t, 6);
+    let tail = tail_coefficients(&t, 10);
     let n_f = depth as f64;
     let mut r = match &tail {
         Some(c) => {
@@ -282,7 +280,7 @@ pub fn cf_function(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) ->
     for n in ((k + 1)..=depth).rev() {
         let nf = n as f64;
         let den = poly_n(&t.b, nf) + poly_n(&t.a, nf) * r;
-        if den.norm() == 0.0 {
+        if den.re == 0.0 && den.im == 0.0 {
             return None;
         }
         r = -poly_n(&t.g, nf) / den;
@@ -292,11 +290,11 @@ pub fn cf_function(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) ->
     for n in 0..k {
         let nf = n as f64;
         let an = poly_n(&t.a, nf);
-        if an.norm() == 0.0 {
+        if an.re == 0.0 && an.im == 0.0 {
             return None;
         }
         let rn = -(poly_n(&t.b, nf) + poly_n(&t.g, nf) * inv_prev) / an;
-        if rn.norm() == 0.0 {
+        if rn.re == 0.0 && rn.im == 0.0 {
             return None;
         }
         inv_prev = 1.0 / rn;
@@ -308,8 +306,8 @@ pub fn cf_function(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) ->
 }
 
 /// Muller's method on `f` from a seed; returns (root, iterations, converged).
-fn muller(f: &dyn Fn(Complex64) -> Option<Complex64>, seed: Complex64, tol: f64, max_iter: usize) -> (Complex64, usize, bool) {
-    let h = Complex64::new(1e-3, 0.0) * seed.norm().max(1e-3);
+fn muller(f: &dyn Fn(Complex64) -> Option<Complex64>, seed: Complex64, spread: f64, tol: f64, max_iter: usize) -> (Complex64, usize, bool) {
+    let h = Complex64::new(spread, 0.0) * seed.norm().max(1e-3);
     let mut x = [seed - h, seed + h, seed];
     let mut y = [Complex64::new(0.0, 0.0); 3];
     for i in 0..3 {
@@ -361,10 +359,13 @@ pub fn find_root(rec: &NumRecurrence, k: usize, seed: Complex64, tol: f64, depth
     let mut depth = depth0.max(k + 10);
     let mut w = seed;
     let mut prev: Option<Complex64> = None;
-    let inner_tol = (tol * 1e-2).max(1e-15);
+    let inner_tol = (tol * 0.1).max(1e-15);
+    // The first search starts from a spread of 1e-3 around the seed; later
+    // ones, at doubled depth, from a spread of the size of the last change.
+    let mut spread = 1e-3;
     loop {
         let f = |x: Complex64| cf_function(rec, x, k, depth);
-        let (root, iters, ok) = muller(&f, w, inner_tol, 200);
+        let (root, iters, ok) = muller(&f, w, spread, inner_tol, 200);
         if !ok {
             let mut r = fail(StopReason::RootIterations);
             r.omega = root;
@@ -399,6 +400,11 @@ pub fn find_root(rec: &NumRecurrence, k: usize, seed: Complex64, tol: f64, depth
                     inversion: k,
                 };
             }
+        }
+        if let Some(p) = prev {
+            spread = ((root - p).norm() / root.norm().max(1e-300) * 10.0).clamp(1e-9, 1e-3);
+        } else {
+            spread = 1e-6;
         }
         prev = Some(root);
         w = root;

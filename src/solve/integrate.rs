@@ -1,1 +1,843 @@
-//! Direct integration of the equation between its ends (being written).
+//! Direct integration of the equation between its two ends: the check of a
+//! quasinormal mode that involves no recurrence. At a frequency ω the
+//! solution that is the Frobenius series with the chosen (ingoing) exponent
+//! at the horizon is summed at a matching point on the real axis near the
+//! horizon; the solution given by the chosen (outgoing) asymptotic series at
+//! infinity is evaluated far out on a ray into the complex plane, where it is
+//! recessive, and continued inwards to the same point. Their normalised
+//! Wronskian there vanishes exactly at a mode. Continuation is by local
+//! Taylor series generated from the equation itself (analytic continuation,
+//! common practice), roots are found with Muller's method (D. E. Muller,
+//! Math. Tables Aids Comput. 10 (1956) 208), and every root is found twice,
+//! with standard and with refined integration parameters, so that the change
+//! between the two is part of the evidence.
+
+use crate::analysis::numeric::try_roots;
+use crate::solve::NumOde;
+use num_complex::Complex64;
+use std::f64::consts::PI;
+
+const ZERO: Complex64 = Complex64::new(0.0, 0.0);
+const ONE: Complex64 = Complex64::new(1.0, 0.0);
+
+/// Relative size below which a series term counts as negligible.
+const TERM_EPS: f64 = 1e-17;
+/// The mismatch carries rounding near 1e-15, so a root cannot be located more
+/// finely than this (relative); smaller tolerances are raised to it.
+const TOL_FLOOR: f64 = 1e-13;
+/// A converged root must make the normalised mismatch (of order one away
+/// from modes) at least this small.
+const RESIDUAL_MAX: f64 = 1e-6;
+/// Muller iterations per search.
+const MAX_ITER: usize = 100;
+/// Taylor steps per evaluation of the mismatch.
+const MAX_STEPS: usize = 20_000;
+
+/// What is known about the two ends, as functions of ω (built by the caller
+/// from the exact analysis).
+pub struct Ends<'a> {
+    /// The horizon z_h: a real zero of A that is a regular singular point,
+    /// the largest real singular point of the equation.
+    pub horizon: f64,
+    /// The chosen (ingoing) exponent ρ_h(ω) of the unknown at the horizon:
+    /// y ~ (z − z_h)^ρ_h.
+    pub rho_h: &'a dyn Fn(Complex64) -> Complex64,
+    /// μ(ω) of the chosen (outgoing) branch at z = ∞ (irregular, rank 1):
+    /// y ~ exp(μ z) z^ν (1 + Σ d_k z^(−k)).
+    pub mu: &'a dyn Fn(Complex64) -> Complex64,
+    /// ν(ω) of the same branch. It is checked against the equation; the
+    /// branch of z^ν only fixes a constant factor, which the normalised
+    /// mismatch does not see.
+    pub nu: &'a dyn Fn(Complex64) -> Complex64,
+}
+
+/// Evidence of one integration root.
+#[derive(Clone, Debug)]
+pub struct IntRoot {
+    /// The frequency found (the last iterate when not converged).
+    pub omega: Complex64,
+    /// True when the Muller steps fell below the tolerance with standard and
+    /// with refined integration, the two roots agree to the tolerance, and
+    /// the normalised mismatch at the root is small.
+    pub converged: bool,
+    /// |mismatch| at `omega` (refined integration when available; NaN when
+    /// it could not be evaluated).
+    pub residual: f64,
+    /// Muller iterations, both passes together.
+    pub iterations: usize,
+    /// Taylor steps of the last evaluation of the mismatch.
+    pub steps: usize,
+    /// |ω(refined) − ω(standard)| (NaN when the second pass did not run).
+    pub change: f64,
+    /// Why the search stopped, in words.
+    pub reason: String,
+}
+
+/// The mismatch function: the Wronskian y_h y_∞' − y_h' y_∞ between the
+/// solution that is the Frobenius series at the horizon with exponent ρ_h and
+/// the solution given by the asymptotic series at infinity, at the matching
+/// point z_h + d/3 on the real axis (d the distance from the horizon to the
+/// nearest other zero of A), divided by |y_h||y_∞'| + |y_h'||y_∞| so that it
+/// is free of both normalisations (|mismatch| ≤ 1). Zero at a mode. `None`
+/// where it cannot be evaluated: the ends do not fit the equation at this ω
+/// (ρ_h not an exponent, μ or ν not those of a branch, a resonant exponent
+/// difference), a zero of A lies between the complex path and the real axis,
+/// or a series did not converge.
+pub fn mismatch(ode: &NumOde, ends: &Ends, w: Complex64) -> Option<Complex64> {
+    evaluate(ode, ends, w, &STANDARD).ok().map(|(v, _)| v)
+}
+
+/// Muller's root of [`mismatch`] from `seed` to relative tolerance `tol`
+/// (raised to 1e-13 when smaller, since the mismatch carries rounding near
+/// 1e-15). The search runs twice — with the standard integration parameters,
+/// then from that root with refined ones (matching point at z_h + 0.4 d,
+/// shorter steps, farther end point) — and converges only when both passes do, they agree
+/// to `tol`, and the normalised mismatch at the root is below 1e-6.
+pub fn find_root(ode: &NumOde, ends: &Ends, seed: Complex64, tol: f64) -> IntRoot {
+    find_root_with(ode, ends, seed, tol, MAX_ITER)
+}
+
+/// [`find_root`] with an explicit Muller iteration limit per pass.
+fn find_root_with(ode: &NumOde, ends: &Ends, seed: Complex64, tol: f64, max_iter: usize) -> IntRoot {
+    let tol = if tol.is_finite() && tol > TOL_FLOOR { tol } else { TOL_FLOOR };
+    let fail = |omega: Complex64, iterations: usize, change: f64, reason: String| {
+        let (residual, steps) = match evaluate(ode, ends, omega, &STANDARD) {
+            Ok((v, s)) => (v.norm(), s),
+            Err(_) => (f64::NAN, 0),
+        };
+        IntRoot { omega, converged: false, residual, iterations, steps, change, reason }
+    };
+    let standard = |w: Complex64| evaluate(ode, ends, w, &STANDARD).map(|e| e.0);
+    let (r1, it1, stop1) = muller(&standard, seed, tol, max_iter);
+    if let Err(e) = stop1 {
+        return fail(r1, it1, f64::NAN, e);
+    }
+    // The second pass changes every discretisation choice at once; the
+    // root's movement bounds the integration error actually committed.
+    let refined = |w: Complex64| evaluate(ode, ends, w, &REFINED).map(|e| e.0);
+    let (r2, it2, stop2) = muller(&refined, r1, tol, max_iter);
+    if let Err(e) = stop2 {
+        return fail(r2, it1 + it2, f64::NAN, format!("with refined integration: {e}"));
+    }
+    let change = (r2 - r1).norm();
+    let (residual, steps) = match evaluate(ode, ends, r2, &REFINED) {
+        Ok((v, s)) => (v.norm(), s),
+        Err(e) => return fail(r2, it1 + it2, change, format!("the mismatch cannot be evaluated at the root: {e}")),
+    };
+    let rel = change / r2.norm().max(f64::MIN_POSITIVE);
+    let agree = change <= tol * r2.norm();
+    let small = residual <= RESIDUAL_MAX;
+    let reason = if agree && small {
+        format!(
+            "converged: Muller steps below {tol:.1e} (relative); standard and refined integration agree to {rel:.1e}; normalised mismatch {residual:.1e}"
+        )
+    } else if !agree {
+        format!("the root moved by {rel:.1e} (relative) between standard and refined integration, more than the tolerance {tol:.1e}")
+    } else {
+        format!("the normalised mismatch at the root is {residual:.1e}, above {RESIDUAL_MAX:.0e}: not a zero of the mismatch")
+    };
+    IntRoot { omega: r2, converged: agree && small, residual, iterations: it1 + it2, steps, change, reason }
+}
+
+/// The discretisation choices of one evaluation of the mismatch.
+struct Params {
+    /// Offset of the start and matching point from the horizon, as a
+    /// fraction of the distance to the nearest other zero of A (the
+    /// Frobenius series' radius).
+    start_fraction: f64,
+    /// Taylor step as a fraction of the distance to the nearest zero of A.
+    step_fraction: f64,
+    /// Taylor step at most this many units of 1/|μ − μ'|, the length over
+    /// which the two branches at infinity change by a factor e relative to
+    /// each other.
+    phase_step: f64,
+    /// Wanted size of the other branch's contamination, carried from the far
+    /// point to the matching point.
+    far_target: f64,
+}
+
+const STANDARD: Params = Params { start_fraction: 1.0 / 3.0, step_fraction: 0.5, phase_step: 4.0, far_target: 1e-17 };
+const REFINED: Params = Params { start_fraction: 0.4, step_fraction: 0.3, phase_step: 2.0, far_target: 1e-20 };
+
+/// A, B, C at one ω, low degree first, exact trailing zeros removed.
+struct Coeffs {
+    a: Vec<Complex64>,
+    b: Vec<Complex64>,
+    c: Vec<Complex64>,
+}
+
+impl Coeffs {
+    fn at(ode: &NumOde, w: Complex64) -> Result<Coeffs, String> {
+        let trim = |mut v: Vec<Complex64>| {
+            while v.last() == Some(&ZERO) {
+                v.pop();
+            }
+            v
+        };
+        let k = Coeffs { a: trim(ode.a.at_omega(w)), b: trim(ode.b.at_omega(w)), c: trim(ode.c.at_omega(w)) };
+        if k.a.is_empty() {
+            return Err(format!("the coefficient of y'' vanishes identically at ω = {w}"));
+        }
+        if k.a.iter().chain(&k.b).chain(&k.c).any(|x| !finite(*x)) {
+            return Err(format!("the coefficients are not finite at ω = {w}"));
+        }
+        Ok(k)
+    }
+}
+
+fn finite(x: Complex64) -> bool {
+    x.re.is_finite() && x.im.is_finite()
+}
+
+/// Coefficients of p(z₀ + t) in powers of t by repeated synthetic division
+/// (the Taylor shift, common practice).
+fn shift(p: &[Complex64], z0: Complex64) -> Vec<Complex64> {
+    let mut q = p.to_vec();
+    let n = q.len();
+    for i in 0..n {
+        for j in (i..n.saturating_sub(1)).rev() {
+            let next = q[j + 1];
+            q[j] += z0 * next;
+        }
+    }
+    q
+}
+
+/// A bound on the size of each shifted coefficient's terms (the shift of
+/// |p| by |z₀|): a computed coefficient far below it is zero up to rounding.
+fn shift_bound(p: &[Complex64], z0: f64) -> Vec<f64> {
+    let abs: Vec<Complex64> = p.iter().map(|x| Complex64::new(x.norm(), 0.0)).collect();
+    shift(&abs, Complex64::new(z0.abs(), 0.0)).iter().map(|x| x.re).collect()
+}
+
+/// v[j] with zero outside the stored range.
+fn get(v: &[Complex64], j: isize) -> Complex64 {
+    if j >= 0 && (j as usize) < v.len() {
+        v[j as usize]
+    } else {
+        ZERO
+    }
+}
+
+/// The equation's local structure at the horizon.
+struct Horizon {
+    z: f64,
+    /// Order of the zero of A at the horizon.
+    m: usize,
+    /// A, B, C in powers of t = z − z_h, with the coefficients that a regular
+    /// singular point requires to vanish set to exactly zero.
+    a: Vec<Complex64>,
+    b: Vec<Complex64>,
+    c: Vec<Complex64>,
+    /// The other zeros of A.
+    others: Vec<Complex64>,
+    /// Distance from the horizon to the nearest other zero of A (∞ when none).
+    d: f64,
+}
+
+fn horizon(k: &Coeffs, zh: f64) -> Result<Horizon, String> {
+    if !zh.is_finite() {
+        return Err("the horizon is not a finite number".into());
+    }
+    let z0 = Complex64::new(zh, 0.0);
+    let (mut a, mut b, mut c) = (shift(&k.a, z0), shift(&k.b, z0), shift(&k.c, z0));
+    let (ea, eb, ec) = (shift_bound(&k.a, zh), shift_bound(&k.b, zh), shift_bound(&k.c, zh));
+    // The horizon is exact in the analysis but reaches us in floating point:
+    // a coefficient that is a tiny fraction of its own terms is a zero.
+    let zero = |x: Complex64, bound: f64| x.norm() <= 1e-9 * bound;
+    let m = (0..a.len()).find(|&j| !zero(a[j], ea[j])).ok_or("A vanishes at every point")?;
+    if m == 0 {
+        return Err(format!("the horizon z = {zh} is not a zero of A"));
+    }
+    // A regular singular point: B vanishes to order m − 1 and C to order m − 2 at least.
+    for (v, e, order, name) in [(&mut b, &eb, m - 1, "B"), (&mut c, &ec, m.saturating_sub(2), "C")] {
+        for j in 0..order.min(v.len()) {
+            if !zero(v[j], e[j]) {
+                return Err(format!("the horizon z = {zh} is not a regular singular point ({name} does not vanish to order {order})"));
+            }
+            v[j] = ZERO;
+        }
+    }
+    for x in a.iter_mut().take(m) {
+        *x = ZERO;
+    }
+    // Deflating by t^m leaves the other zeros, free of the splitting a
+    // multiple root suffers in a companion matrix.
+    let others: Vec<Complex64> = try_roots(&a[m..]).ok_or("the zeros of A cannot be computed")?.into_iter().map(|t| t + z0).collect();
+    let d = others.iter().map(|r| (r - z0).norm()).fold(f64::INFINITY, f64::min);
+    if d == 0.0 {
+        return Err("another zero of A coincides with the horizon".into());
+    }
+    Ok(Horizon { z: zh, m, a, b, c, others, d })
+}
+
+/// y and y' of t^ρ Σ c_k t^k (c₀ = 1, t = z − z_h) at t = δ > 0, summed until
+/// the terms fall below 1e-17 of the sum.
+fn frobenius(h: &Horizon, rho: Complex64, delta: f64) -> Result<(Complex64, Complex64), String> {
+    let m = h.m as isize;
+    // Scaled to τ = t/δ: coefficients become those of Â = A(δτ), B̂ = δ B(δτ),
+    // Ĉ = δ² C(δτ), and c_k δ^k stay of order one or below.
+    let scale = |v: &[Complex64], extra: i32| -> Vec<Complex64> { v.iter().enumerate().map(|(i, x)| x * delta.powi(i as i32 + extra)).collect() };
+    let (sa, sb, sc) = (scale(&h.a, 0), scale(&h.b, 1), scale(&h.c, 2));
+    // Substituting t^(ρ+k) into A y'' + B y' + C y collects, at t^(ρ+n+m−2),
+    // Σ_k e_k T(n, k) = 0 with T(n, k) built from the shifted coefficients.
+    let t = |n: usize, k: usize| {
+        let j = (n - k) as isize;
+        let s = rho + k as f64;
+        get(&sa, j + m) * s * (s - 1.0) + get(&sb, j + m - 1) * s + get(&sc, j + m - 2)
+    };
+    let size = |n: usize| {
+        let s = (rho + n as f64).norm();
+        get(&sa, m).norm() * s * (s + 1.0) + get(&sb, m - 1).norm() * s + get(&sc, m - 2).norm()
+    };
+    // The indicial polynomial must vanish at ρ_h, or the caller's exponent
+    // belongs to another function than this equation's unknown.
+    let p0 = t(0, 0);
+    if p0.norm() > 1e-8 * size(0) {
+        return Err(format!("ρ_h = {rho} is not an exponent at the horizon (indicial polynomial {:.1e} relative)", p0.norm() / size(0)));
+    }
+    let span = (sa.len() as isize - m).max(sb.len() as isize - m + 1).max(sc.len() as isize - m + 2).max(1) as usize;
+    let mut e = vec![ONE];
+    let (mut s, mut ds) = (ONE, rho);
+    let mut quiet = 0;
+    for n in 1..4000 {
+        let diag = t(n, n);
+        // A root of the indicial polynomial at ρ_h + n: the series with ρ_h
+        // is not determined (a logarithm or a free coefficient).
+        if diag.norm() <= 1e-12 * size(n) {
+            return Err(format!("the exponents at the horizon differ by the integer {n}: the Frobenius series with ρ_h = {rho} is not unique"));
+        }
+        let mut acc = ZERO;
+        for (k, ek) in e.iter().enumerate().skip(n.saturating_sub(span)) {
+            acc += ek * t(n, k);
+        }
+        let en = -acc / diag;
+        if !finite(en) {
+            return Err("the Frobenius coefficients overflow".into());
+        }
+        e.push(en);
+        s += en;
+        ds += en * (rho + n as f64);
+        let term = en.norm() * (1.0 + (rho + n as f64).norm());
+        // `span` quiet terms in a row: the recursion cannot revive after that many zeros.
+        quiet = if term <= TERM_EPS * (s.norm() + ds.norm()) { quiet + 1 } else { 0 };
+        if quiet >= span {
+            // δ > 0 is real, so δ^ρ = exp(ρ ln δ) needs no branch choice.
+            let f = (rho * delta.ln()).exp();
+            return Ok((f * s, f * ds / delta));
+        }
+    }
+    Err(format!("the Frobenius series at the horizon did not converge at t = {delta}"))
+}
+
+/// The asymptotic series of the chosen branch at infinity.
+struct Far {
+    mu: Complex64,
+    nu: Complex64,
+    /// The other branch exp(μ' z) z^ν' (for the contamination estimate).
+    mu2: Complex64,
+    nu2: Complex64,
+    /// With y = e^{μz} u the equation reads A u'' + F u' + E u = 0, where
+    /// F = 2μA + B and E = μ²A + μB + C (coefficients of z^j).
+    e: Vec<Complex64>,
+    f: Vec<Complex64>,
+    a: Vec<Complex64>,
+    /// deg A.
+    n: usize,
+}
+
+impl Far {
+    fn new(k: &Coeffs, mu: Complex64, nu: Complex64) -> Result<Far, String> {
+        let n = k.a.len() - 1;
+        if k.b.len() > n + 1 || k.c.len() > n + 1 {
+            return Err("z = ∞ is not of the rank-1 form the asymptotic series needs (deg B or deg C exceeds deg A)".into());
+        }
+        let g = |v: &[Complex64], j: usize| v.get(j).copied().unwrap_or(ZERO);
+        let (an, bn, cn) = (k.a[n], g(&k.b, n), g(&k.c, n));
+        // The leading order of e^{μz} z^ν in the equation: a_N μ² + b_N μ + c_N = 0.
+        let chr = an * mu * mu + bn * mu + cn;
+        if chr.norm() > 1e-9 * (an.norm() * mu.norm_sqr() + bn.norm() * mu.norm() + cn.norm()) {
+            return Err(format!("μ = {mu} is not a root of the characteristic equation at infinity"));
+        }
+        let mu2 = -bn / an - mu;
+        if (mu - mu2).norm() <= 1e-9 * (mu.norm() + mu2.norm()) {
+            return Err(format!("the two exponential factors at infinity coincide (μ = {mu}): z = ∞ is not of rank 1 at this ω"));
+        }
+        let build = |mu: Complex64| {
+            let mut e: Vec<Complex64> = (0..=n).map(|j| mu * mu * g(&k.a, j) + mu * g(&k.b, j) + g(&k.c, j)).collect();
+            // Zero by the characteristic equation (checked above); exact zero keeps the recursion triangular.
+            e[n] = ZERO;
+            let f: Vec<Complex64> = (0..=n).map(|j| 2.0 * mu * g(&k.a, j) + g(&k.b, j)).collect();
+            (e, f)
+        };
+        let (e, f) = build(mu);
+        // The next order fixes ν: E_{N−1} + F_N ν = 0.
+        let e1 = get(&e, n as isize - 1);
+        if (e1 + f[n] * nu).norm() > 1e-8 * (e1.norm() + f[n].norm() * (1.0 + nu.norm())) {
+            return Err(format!("ν = {nu} is not the power of z of the branch with μ = {mu} (expected {})", -e1 / f[n]));
+        }
+        let (e2, f2) = build(mu2);
+        let nu2 = -get(&e2, n as isize - 1) / f2[n];
+        Ok(Far { mu, nu, mu2, nu2, e, f, a: k.a.clone(), n })
+    }
+
+    /// y / (e^{μz} z^ν) and y' / (e^{μz} z^ν) at z by optimal truncation
+    /// (stop at the smallest term), with the relative truncation error. The
+    /// common factor e^{μz} z^ν is left out: the normalised mismatch does not
+    /// see it, and leaving it out keeps far values free of overflow.
+    fn eval(&self, z: Complex64) -> (Complex64, Complex64, f64) {
+        let n = self.n as isize;
+        let zi = 1.0 / z;
+        // d_n (E_{N−1} + F_N (ν − n)) = −Σ_{k<n} d_k T(n, k), j = n − k, with
+        // T = E_{N−1−j} + F_{N−j} (ν − k) + A_{N+1−j} (ν − k)(ν − k − 1);
+        // terms t_k = d_k z^(−k) are built directly so nothing overflows.
+        let span = self.n + 1;
+        let mut zp = vec![ONE];
+        for j in 1..=span {
+            let prev = zp[j - 1];
+            zp.push(prev * zi);
+        }
+        let mut terms = vec![ONE];
+        let mut sum = ONE;
+        let mut best = 1.0f64;
+        for m in 1..600usize {
+            let nu_m = self.nu - m as f64;
+            let den = get(&self.e, n - 1) + get(&self.f, n) * nu_m;
+            if den.norm() == 0.0 {
+                break;
+            }
+            let mut acc = ZERO;
+            for (k, tk) in terms.iter().enumerate().skip(m.saturating_sub(span)) {
+                let j = (m - k) as isize;
+                let s = self.nu - k as f64;
+                let tt = get(&self.e, n - 1 - j) + get(&self.f, n - j) * s + get(&self.a, n + 1 - j) * s * (s - 1.0);
+                acc += tk * zp[m - k] * tt;
+            }
+            let tm = -acc / den;
+            if !finite(tm) {
+                break;
+            }
+            terms.push(tm);
+            sum += tm;
+            best = best.min(tm.norm());
+            // Converged outright, or clearly past the smallest term.
+            if tm.norm() <= TERM_EPS * sum.norm() || tm.norm() > 1e3 * best {
+                break;
+            }
+        }
+        // Truncate before the window of terms whose largest member is smallest:
+        // one accidentally tiny term must not pass for the optimal cut.
+        let w = span.min(terms.len());
+        let mut cut = terms.len() - 1;
+        let mut err = f64::INFINITY;
+        for i in 1..terms.len() {
+            let hi = terms[i..(i + w).min(terms.len())].iter().map(|x| x.norm()).fold(0.0, f64::max);
+            if hi < err {
+                err = hi;
+                cut = i;
+            }
+        }
+        let (mut y, mut dy) = (ZERO, ZERO);
+        for (k, tk) in terms.iter().enumerate().take(cut) {
+            y += tk;
+            dy += tk * (self.mu + (self.nu - k as f64) * zi);
+        }
+        let rel = if y.norm() > 0.0 { err / y.norm() } else { f64::INFINITY };
+        (y, dy, rel)
+    }
+}
+
+/// One Taylor step of A y'' + B y' + C y = 0 from z₀ to z₀ + h; `None` when
+/// the series does not settle within the term limit (the step is too long).
+fn taylor_step(k: &Coeffs, z0: Complex64, h: Complex64, y: Complex64, dy: Complex64) -> Option<(Complex64, Complex64)> {
+    // In τ with z = z₀ + hτ: Â(τ) Y'' + h B̂ Y' + h² Ĉ Y = 0 with u_k = y_k h^k.
+    let scale = |v: &[Complex64], extra: i32| -> Vec<Complex64> {
+        let s = shift(v, z0);
+        let mut p = h.powi(extra);
+        s.iter()
+            .map(|x| {
+                let out = x * p;
+                p *= h;
+                out
+            })
+            .collect()
+    };
+    let (sa, sb, sc) = (scale(&k.a, 0), scale(&k.b, 1), scale(&k.c, 2));
+    let a0 = *sa.first()?;
+    if a0.norm() == 0.0 {
+        return None;
+    }
+    let span = sa.len().max(sb.len() + 1).max(sc.len() + 2);
+    let mut u = vec![y, h * dy];
+    let (mut s, mut ds) = (u[0] + u[1], u[1]);
+    let mut big = u[0].norm().max(2.0 * u[1].norm());
+    let mut quiet = 0;
+    for n in 0..250usize {
+        // Coefficient of τ^n: Σ_i Â_i (n−i+2)(n−i+1) u_{n−i+2} + B̂_i (n−i+1) u_{n−i+1} + Ĉ_i u_{n−i} = 0.
+        let mut acc = ZERO;
+        for (i, ai) in sa.iter().enumerate().skip(1).take(n + 1) {
+            let j = n + 2 - i;
+            acc += ai * ((j * (j - 1)) as f64) * u[j];
+        }
+        for (i, bi) in sb.iter().enumerate().take(n + 1) {
+            let j = n + 1 - i;
+            acc += bi * (j as f64) * u[j];
+        }
+        for (i, ci) in sc.iter().enumerate().take(n + 1) {
+            acc += ci * u[n - i];
+        }
+        let next = -acc / (a0 * (((n + 2) * (n + 1)) as f64));
+        if !finite(next) {
+            return None;
+        }
+        u.push(next);
+        let kf = (n + 2) as f64;
+        s += next;
+        ds += next * kf;
+        let term = next.norm() * (kf + 1.0);
+        big = big.max(term);
+        quiet = if term <= TERM_EPS * big { quiet + 1 } else { 0 };
+        if quiet >= span {
+            return Some((s, ds / h));
+        }
+    }
+    None
+}
+
+/// Continues (y, y') along the straight segment `from` → `to` by Taylor
+/// steps, each a fraction of the distance to the nearest zero of A (so well
+/// inside the series' disc of convergence) and at most `hcap` long.
+#[allow(clippy::too_many_arguments)]
+fn continue_along(
+    k: &Coeffs,
+    roots: &[Complex64],
+    from: Complex64,
+    to: Complex64,
+    mut y: Complex64,
+    mut dy: Complex64,
+    p: &Params,
+    hcap: f64,
+    steps: &mut usize,
+) -> Result<(Complex64, Complex64), String> {
+    let total = (to - from).norm();
+    if total == 0.0 {
+        return Ok((y, dy));
+    }
+    let dir = (to - from) / total;
+    let mut done = 0.0;
+    while done < total {
+        let z = from + dir * done;
+        let dist = roots.iter().map(|r| (z - r).norm()).fold(f64::INFINITY, f64::min);
+        if dist == 0.0 {
+            return Err(format!("the path meets a zero of A at {z}"));
+        }
+        let mut len = (p.step_fraction * dist).min(hcap);
+        let mut halvings = 0;
+        loop {
+            // A remainder of a few ulps is not a step of its own.
+            let last = len >= (total - done) * (1.0 - 1e-9);
+            // The last step lands on `to` exactly, not on an accumulated sum.
+            let h = if last { to - z } else { dir * len };
+            if h.norm() == 0.0 {
+                done = total;
+                break;
+            }
+            if let Some((y1, dy1)) = taylor_step(k, z, h, y, dy) {
+                y = y1;
+                dy = dy1;
+                done = if last { total } else { done + len };
+                break;
+            }
+            halvings += 1;
+            len = len.min(total - done) / 2.0;
+            if halvings > 30 {
+                return Err(format!("the Taylor series does not converge near z = {z}"));
+            }
+        }
+        *steps += 1;
+        if *steps > MAX_STEPS {
+            return Err(format!("more than {MAX_STEPS} Taylor steps"));
+        }
+        if !finite(y) || !finite(dy) {
+            return Err(format!("the solution overflowed near z = {z}"));
+        }
+    }
+    Ok((y, dy))
+}
+
+/// The normalised Wronskian at ω with the given discretisation, and the
+/// number of Taylor steps it took.
+fn evaluate(ode: &NumOde, ends: &Ends, w: Complex64, p: &Params) -> Result<(Complex64, usize), String> {
+    if !finite(w) {
+        return Err("ω is not finite".into());
+    }
+    let k = Coeffs::at(ode, w)?;
+    let (rho, mu, nu) = ((ends.rho_h)(w), (ends.mu)(w), (ends.nu)(w));
+    if !finite(rho) || !finite(mu) || !finite(nu) {
+        return Err(format!("the exponents are not finite at ω = {w}"));
+    }
+    let hz = horizon(&k, ends.horizon)?;
+    let far = Far::new(&k, mu, nu)?;
+    let zh = hz.z;
+    // The length scale of the finite singular structure.
+    let d = if hz.d.is_finite() { hz.d } else { 1.0 + zh.abs() };
+    // The matching point is the Frobenius start point itself: the horizon
+    // solution there is a convergent series, with no integration. Its place
+    // decides the conditioning: beyond the potential barrier every solution
+    // aligns with the outgoing branch as Im ω < 0 grows, nearer the horizon
+    // with the ingoing one, and the mismatch of a non-mode shrinks like
+    // e^(−2|Im ω| Δr*) on either side. A third of the way to the nearest
+    // other zero of A sits in the balanced region for the Schwarzschild
+    // family (r = 8M/3, just inside the barrier at 3M): the mismatch beside
+    // the l = 2 overtones n = 0…7 stays between 0.1 and 0.4, where a match at
+    // 6M falls to 1e-11 by n = 7.
+    let z_m = Complex64::new(zh + p.start_fraction * d, 0.0);
+    // The ray from z_m along which the chosen branch is most recessive:
+    // Re((μ − μ') e^{iθ}) = −|μ − μ'|. Relative recessiveness, not the decay
+    // of e^{μz} alone, is what singles the branch out. For a QNM (Im ω < 0)
+    // the outgoing branch grows along the real axis, so θ leaves it; |θ| is
+    // kept below 0.85π so the ray never turns back onto the singular points.
+    let dmu = far.mu - far.mu2;
+    let mut theta = PI - dmu.arg();
+    if theta > PI {
+        theta -= 2.0 * PI;
+    }
+    let theta = theta.clamp(-0.85 * PI, 0.85 * PI);
+    let ray = Complex64::from_polar(1.0, theta);
+    // The branch is defined by its behaviour on the real axis; turning the
+    // path to the ray is harmless only if no singular point lies in the
+    // wedge between them (which includes the real axis beyond z_m).
+    for r in &hz.others {
+        let v = r - z_m;
+        let ang = v.arg();
+        let in_wedge = if theta >= 0.0 { ang >= -1e-9 && ang <= theta + 1e-9 } else { ang <= 1e-9 && ang >= theta - 1e-9 };
+        if v.norm() == 0.0 || in_wedge {
+            return Err(format!("the zero {r} of A lies between the integration path and the real axis beyond the horizon"));
+        }
+    }
+    let mut roots = hz.others.clone();
+    roots.push(Complex64::new(zh, 0.0));
+    let hcap = p.phase_step / dmu.norm();
+    let mut steps = 0;
+
+    let (yh, dyh) = frobenius(&hz, rho, z_m.re - zh)?;
+
+    // The far point: where the asymptotic series' own error, carried inwards
+    // to z_m, has been damped below the target. Integrating inwards is the
+    // stable direction for a recessive solution: any admixture of the other
+    // branch at z_f shrinks by |(y_out/y_in)(z_f) / (y_out/y_in)(z_m)|.
+    let mut r = (4.0 / dmu.norm()).max(d);
+    let mut start = None;
+    for _ in 0..120 {
+        let zf = z_m + ray * r;
+        let (y, dy, err) = far.eval(zf);
+        // ln(z_f/z_m) on the principal branch is the change of ln z along the
+        // straight path, which subtends less than π at the origin.
+        let damp = (dmu * (zf - z_m)).re + ((far.nu - far.nu2) * (zf / z_m).ln()).re;
+        if err <= 1e-6 && err.ln() + damp <= p.far_target.ln() {
+            start = Some((zf, y, dy));
+            break;
+        }
+        r *= 1.25;
+    }
+    let (zf, yf, dyf) = start.ok_or("the asymptotic series at infinity does not reach the wanted accuracy on the ray")?;
+    let (yi, dyi) = continue_along(&k, &roots, zf, z_m, yf, dyf, p, hcap, &mut steps)?;
+
+    // Matching near the horizon rather than at z_f: at z_f the horizon
+    // solution is dominated by the other branch unless the mode condition
+    // holds to roundoff, so a normalisation there would hide the zero.
+    let wr = yh * dyi - dyh * yi;
+    let norm = yh.norm() * dyi.norm() + dyh.norm() * yi.norm();
+    if !(norm > 0.0 && norm.is_finite() && finite(wr)) {
+        return Err("the Wronskian cannot be normalised at the matching point".into());
+    }
+    Ok((wr / norm, steps))
+}
+
+/// A mismatch function as the root finder sees it: a value or the reason there is none.
+type Mismatch<'f> = &'f dyn Fn(Complex64) -> Result<Complex64, String>;
+
+/// Muller's method from a seed; returns the last iterate, the iterations
+/// used, and `Err` with the reason when it did not converge. Steps are
+/// capped at half the iterate's size, and halved where the function cannot
+/// be evaluated, so the iteration stays where the mismatch is defined.
+fn muller(f: Mismatch, seed: Complex64, tol: f64, max_iter: usize) -> (Complex64, usize, Result<(), String>) {
+    let h = Complex64::new(1e-3 * seed.norm().max(1e-3), 0.0);
+    let mut x = [seed - h, seed + h, seed];
+    let mut y = [ZERO; 3];
+    for i in 0..3 {
+        match f(x[i]) {
+            Ok(v) => y[i] = v,
+            Err(e) => return (seed, 0, Err(format!("the mismatch cannot be evaluated at the start point {}: {e}", x[i]))),
+        }
+    }
+    for it in 1..=max_iter {
+        let (h1, h2) = (x[1] - x[0], x[2] - x[1]);
+        let (d1, d2) = ((y[1] - y[0]) / h1, (y[2] - y[1]) / h2);
+        let a = (d2 - d1) / (h2 + h1);
+        let b = a * h2 + d2;
+        let c = y[2];
+        let disc = (b * b - 4.0 * a * c).sqrt();
+        let den = if (b + disc).norm() > (b - disc).norm() { b + disc } else { b - disc };
+        let mut dx = if den.norm() == 0.0 { h * 1e-3 } else { -2.0 * c / den };
+        if !finite(dx) {
+            return (x[2], it, Err("the Muller step is not finite (the mismatch is locally flat)".into()));
+        }
+        let cap = 0.5 * x[2].norm().max(1e-3);
+        if dx.norm() > cap {
+            dx *= cap / dx.norm();
+        }
+        let mut tries = 0;
+        let (xn, yn) = loop {
+            let xn = x[2] + dx;
+            match f(xn) {
+                Ok(v) => break (xn, v),
+                Err(e) => {
+                    tries += 1;
+                    if tries > 8 {
+                        return (x[2], it, Err(format!("the mismatch cannot be evaluated near {xn}: {e}")));
+                    }
+                    dx *= 0.5;
+                }
+            }
+        };
+        x = [x[1], x[2], xn];
+        y = [y[1], y[2], yn];
+        if dx.norm() <= tol * xn.norm() || yn == ZERO {
+            return (xn, it, Ok(()));
+        }
+    }
+    (x[2], max_iter, Err(format!("no convergence within {max_iter} Muller iterations")))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::algebra::{GRat, Rat};
+    use crate::ode::{reduce, Input, ReduceOptions};
+
+    /// The Regge–Wheeler equation (spin s, multipole l) with M = 1, from the
+    /// sample text the continued-fraction tests use.
+    fn rw(s: i64, l: i64) -> NumOde {
+        let src = "var r\nparam M, omega, l, s\nlet f = 1 - 2*M/r\node f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0\n";
+        let red = reduce(&Input::Program(src), &ReduceOptions::default()).unwrap();
+        let g = |x: i64| GRat::real(Rat::int(x.into()));
+        crate::solve::try_num_ode(&red.field, &red.p, &red.q, &[g(0), g(1), g(0), g(l), g(s)], 2).unwrap()
+    }
+
+    // Schwarzschild ends with M = 1 (textbook): the surface gravity is
+    // κ = 1/(4M), so ingoing y ~ e^{−iωr*} ~ (r − 2M)^(−2iMω) at the horizon;
+    // r* = r + 2M ln(r/2M − 1), so outgoing y ~ e^{iωr*} ~ e^{iωr} r^(2iMω).
+    fn rho_h(w: Complex64) -> Complex64 {
+        Complex64::new(0.0, -2.0) * w
+    }
+    fn mu(w: Complex64) -> Complex64 {
+        Complex64::i() * w
+    }
+    fn nu(w: Complex64) -> Complex64 {
+        Complex64::new(0.0, 2.0) * w
+    }
+    fn ends() -> Ends<'static> {
+        Ends { horizon: 2.0, rho_h: &rho_h, mu: &mu, nu: &nu }
+    }
+
+    #[test]
+    fn schwarzschild_modes_by_integration_leaver_1985() {
+        // Leaver, Proc. R. Soc. Lond. A 402 (1985) 285; Berti, Cardoso &
+        // Starinets, Class. Quantum Grav. 26 (2009) 163001 tables (M = 1).
+        for (s, l, want) in [
+            (2, 2, Complex64::new(0.37367168, -0.08896232)),
+            (2, 2, Complex64::new(0.34671100, -0.27391488)),
+            (0, 0, Complex64::new(0.11045494, -0.10489572)),
+            (2, 3, Complex64::new(0.59944329, -0.09270305)),
+        ] {
+            let ode = rw(s, l);
+            // Seeded 2% away, off the ray through the mode.
+            let seed = want * (ONE + Complex64::from_polar(0.02, 0.7));
+            let root = find_root(&ode, &ends(), seed, 1e-11);
+            assert!(root.converged, "s={s} l={l} {want}: {root:?}");
+            let rel = (root.omega - want).norm() / want.norm();
+            assert!(rel <= 1e-6, "s={s} l={l}: got {} want {want}", root.omega);
+            // The tables carry 8 decimals: agreement to half a unit in the last place.
+            assert!((root.omega.re - want.re).abs() <= 5.1e-9 && (root.omega.im - want.im).abs() <= 5.1e-9, "s={s} l={l}: {}", root.omega);
+        }
+    }
+
+    #[test]
+    fn agrees_with_the_continued_fraction_on_overtones() {
+        // Two methods that share nothing after the exact reduction: the
+        // Leaver continued fraction of the cf module (on the recurrence at the
+        // horizon) and this integration. Regge–Wheeler s = 2, l = 2, n = 0…7.
+        let src = "var r\nparam M, omega, l, s\nlet f = 1 - 2*M/r\node f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0\n";
+        let red = reduce(&Input::Program(src), &ReduceOptions::default()).unwrap();
+        let choices = crate::analysis::canonical::Choices { picks: vec![("2*M".into(), 2), ("inf".into(), 1)] };
+        let rec = crate::series::recurrence(&red, "2*M", None, &choices, false).unwrap();
+        let g = |x: i64| GRat::real(Rat::int(x.into()));
+        let rec = crate::solve::cf::try_numeric(&rec, &[g(0), g(1), g(0), g(2), g(2)], 2).unwrap();
+        let ode = rw(2, 2);
+        // Seeds for the continued fraction step down the overtone ladder (spacing ≈ −i/(4M)·…).
+        let mut seed = Complex64::new(0.37, -0.09);
+        for n in 0..8 {
+            let cf = crate::solve::cf::find_root(&rec, n, seed, 1e-12, 40, 1 << 16);
+            assert!(cf.converged, "n={n}: {cf:?}");
+            seed = cf.omega + Complex64::new(-0.03, -0.24);
+            let root = find_root(&ode, &ends(), cf.omega * (ONE + Complex64::from_polar(0.02, 0.7)), 1e-11);
+            assert!(root.converged, "n={n}: {root:?}");
+            let rel = (root.omega - cf.omega).norm() / cf.omega.norm();
+            assert!(rel <= 1e-10, "n={n}: cf {} integration {}", cf.omega, root.omega);
+        }
+    }
+
+    #[test]
+    fn mismatch_vanishes_at_the_mode_and_not_beside_it() {
+        // s = 2, l = 2, n = 0 (Leaver 1985).
+        let ode = rw(2, 2);
+        let root = find_root(&ode, &ends(), Complex64::new(0.37, -0.09), 1e-11);
+        assert!(root.converged, "{root:?}");
+        let at = mismatch(&ode, &ends(), root.omega).unwrap();
+        let beside = mismatch(&ode, &ends(), root.omega * 1.02).unwrap();
+        assert!(at.norm() <= 1e-10, "{at}");
+        assert!(beside.norm() >= 1e-3, "{beside}");
+    }
+
+    #[test]
+    fn far_seeds_do_not_panic_and_report_honestly() {
+        let ode = rw(2, 2);
+        for seed in [Complex64::new(3.0, -3.0), Complex64::new(0.01, -5.0), Complex64::new(20.0, 0.1), Complex64::new(-0.5, 2.0)] {
+            let root = find_root(&ode, &ends(), seed, 1e-10);
+            assert!(!root.reason.is_empty());
+            if root.converged {
+                // A claimed root must be a zero of the mismatch on its own evaluation.
+                let m = mismatch(&ode, &ends(), root.omega).expect("evaluable at a converged root");
+                assert!(m.norm() <= 1e-8 && root.residual <= RESIDUAL_MAX, "seed {seed}: {root:?}");
+            }
+        }
+    }
+
+    #[test]
+    fn unconverged_searches_say_so() {
+        let ode = rw(2, 2);
+        // At ω = 0 both branches at infinity have μ = 0: nothing to match.
+        let root = find_root(&ode, &ends(), Complex64::new(0.0, 0.0), 1e-10);
+        assert!(!root.converged);
+        assert!(root.reason.contains("coincide"), "{}", root.reason);
+        // One Muller iteration cannot reach 1e-10 from a seed 2% away.
+        let root = find_root_with(&ode, &ends(), Complex64::new(0.38, -0.09), 1e-10, 1);
+        assert!(!root.converged);
+        assert!(root.reason.contains("Muller iterations"), "{}", root.reason);
+    }
+
+    #[test]
+    fn ends_that_do_not_fit_the_equation_are_refused() {
+        let ode = rw(2, 2);
+        let w = Complex64::new(0.37, -0.09);
+        let wrong_nu = |w: Complex64| Complex64::new(0.0, 1.0) * w;
+        let wrong_rho = |_: Complex64| Complex64::new(0.3, 0.0);
+        // The outgoing exponent at the horizon is an exponent too (a different solution), so it is accepted.
+        let out_rho = |w: Complex64| Complex64::new(0.0, 2.0) * w;
+        assert!(mismatch(&ode, &Ends { nu: &wrong_nu, ..ends() }, w).is_none());
+        assert!(mismatch(&ode, &Ends { rho_h: &wrong_rho, ..ends() }, w).is_none());
+        assert!(mismatch(&ode, &Ends { horizon: 3.0, ..ends() }, w).is_none());
+        assert!(mismatch(&ode, &Ends { rho_h: &out_rho, ..ends() }, w).is_some());
+    }
+}

@@ -58,6 +58,8 @@ pub struct Setup {
     pub choices: Vec<String>,
     /// Number of terms of the recurrence.
     pub terms: usize,
+    /// The exponent and branch picks (point label, 1-based choice).
+    pub picks: Vec<(String, usize)>,
 }
 
 fn usage(msg: impl Into<String>) -> Error {
@@ -96,7 +98,7 @@ pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate:
         return Err(usage("no horizon-like regular point with an exact location: the continued fraction needs one (roots of higher-degree factors are not supported yet)"));
     };
     let inf_irregular = an.points.iter().any(|p| matches!(p.place, Place::Infinity) && p.kind == Kind::Irregular);
-    let choices = Choices { picks };
+    let choices = Choices { picks: picks.clone() };
     // With an irregular point at infinity, Leaver's Möbius series; otherwise
     // a plain Frobenius series about the horizon carrying the chosen
     // exponents of the other regular points, whose termination is the mode condition.
@@ -108,6 +110,7 @@ pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate:
         ansatz: format!("{} = {} * Σ a_n u^n, {}", rec.function, rec.prefactor, rec.series),
         choices: said,
         terms: rec.coeffs.len(),
+        picks,
     };
     Ok((rec, setup))
 }
@@ -151,7 +154,7 @@ pub fn qnm_modes(red: &Reduction, opts: &SpectrumOptions, first_estimate: &dyn F
             // A root in the wrong quadrant is not the mode that was asked for.
             root.converged = false;
             root.stop = StopReason::Rejected(format!(
-                "the root {:.8}{:+.8}i is not in the lower right quadrant (Re ω > 0, Im ω < 0)",
+                "the root {:.6e}{:+.6e}i is not in the lower right quadrant (Re ω > 0, Im ω < 0)",
                 root.omega.re, root.omega.im
             ));
         }
@@ -228,4 +231,74 @@ pub fn barrier_estimates<'a>(
     let _ = w;
     let (_, v) = crate::ode::schrodinger(k, &red.p, &red.q, &h, Some(opts.freq))?;
     Ok(move |n: u32| super::wkb::try_barrier(k, &v, &h, &opts.values, Some(opts.freq), (horizon, f64::INFINITY), n).ok().map(|b| (b.eikonal, b.wkb3)))
+}
+
+/// A rational function of the parameters as a function of ω alone (the
+/// other parameters at their values), for numeric use.
+fn in_omega(r: &crate::algebra::RatFunc, opts: &SpectrumOptions) -> (super::NPoly, super::NPoly) {
+    let num = super::try_npoly(r.num(), r.scale().to_f64(), &opts.values, opts.freq);
+    let den = super::try_npoly(&r.den_expanded(), 1.0, &opts.values, opts.freq);
+    (num, den)
+}
+
+fn eval_in_omega(f: &(super::NPoly, super::NPoly), w: Complex64) -> Complex64 {
+    let z = Complex64::new(0.0, 0.0);
+    f.0.eval(z, w) / f.1.eval(z, w)
+}
+
+/// The independent check by direct integration (Frobenius series at the
+/// horizon, asymptotic series at infinity, Taylor continuation between
+/// them): a root finder seeded by the caller, with the ends built from the
+/// same exponent choices as the continued fraction.
+pub fn integration_check<'a>(
+    red: &'a Reduction,
+    opts: &'a SpectrumOptions,
+    setup: &Setup,
+) -> Result<impl Fn(Complex64) -> super::integrate::IntRoot + 'a> {
+    let k = &red.field;
+    let an = analyse(red)?;
+    let ode = super::try_num_ode(k, &red.p, &red.q, &opts.values, opts.freq)?;
+    let find = |label: &str| setup.picks.iter().find(|(p, _)| p == label).map(|(_, c)| c - 1);
+    let text = |at: &crate::algebra::RatFunc| ratfunc_text(at, k.names(), Style::Text);
+    let hp = an
+        .points
+        .iter()
+        .find(|p| matches!(&p.place, Place::Point { at, .. } if text(at) == setup.horizon))
+        .ok_or_else(|| usage("the horizon is not among the singular points"))?;
+    let hi = find(&setup.horizon).ok_or_else(|| usage("no exponent was picked at the horizon"))?;
+    let e = hp.unknown_exponents.get(hi).cloned().ok_or_else(|| usage("no exponent at the horizon"))?;
+    let center = crate::analysis::ext_base(&e.center).ok_or_else(|| usage("the horizon exponent is not in the parameter field"))?;
+    let rho_exact = match (&e.root, e.sign) {
+        (_, 0) => center,
+        (Some(r), sg) => {
+            let r = crate::analysis::ext_base(r).ok_or_else(|| usage("the horizon exponent is not in the parameter field"))?;
+            k.add(&center, &k.mul(&crate::algebra::RatFunc::rat(&Rat::new((sg as i64).into(), 2.into()).expect("nonzero")), &r)?)?
+        }
+        (None, _) => return Err(usage("the horizon exponent is not exact: the integration check needs it")),
+    };
+    let inf = an.points.iter().find(|p| matches!(p.place, Place::Infinity)).expect("infinity listed");
+    let bi = find("∞").ok_or_else(|| usage("no branch was picked at infinity"))?;
+    let f = inf.formal.get(bi).ok_or_else(|| usage("no formal solution at infinity"))?;
+    let mu_exact = f
+        .exponent
+        .iter()
+        .find(|(pw, _)| pw.is_integer() && pw.numer().is_one())
+        .map(|(_, c)| c.clone())
+        .ok_or_else(|| usage("infinity is not of rank 1"))?;
+    if f.exponent.len() != 1 {
+        return Err(usage("infinity is not of rank 1: the integration check needs exp(μz) z^ν"));
+    }
+    let p1 = crate::analysis::p_at_infinity_pub(k, &red.p)?;
+    // ν of the unknown = ρ of ψ − p₁/2 (the prefactor's power at infinity).
+    let nu_exact = k.sub(&f.rho, &k.mul(&crate::algebra::RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero")), &p1)?)?;
+    let (rho, mu, nu) = (in_omega(&rho_exact, opts), in_omega(&mu_exact, opts), in_omega(&nu_exact, opts));
+    let horizon = setup.horizon_value;
+    let tol = opts.tol;
+    Ok(move |seed: Complex64| {
+        let rf = |w: Complex64| eval_in_omega(&rho, w);
+        let mf = |w: Complex64| eval_in_omega(&mu, w);
+        let nf = |w: Complex64| eval_in_omega(&nu, w);
+        let ends = super::integrate::Ends { horizon, rho_h: &rf, mu: &mf, nu: &nf };
+        super::integrate::find_root(&ode, &ends, seed, (tol * 10.0).max(1e-12))
+    })
 }
