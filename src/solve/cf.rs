@@ -83,6 +83,16 @@ struct Three {
     a: Vec<Complex64>,
     b: Vec<Complex64>,
     g: Vec<Complex64>,
+    sa: Ser,
+    sb: Ser,
+    sg: Ser,
+}
+
+impl Three {
+    fn new(a: Vec<Complex64>, b: Vec<Complex64>, g: Vec<Complex64>) -> Three {
+        let (sa, sb, sg) = (scaled(&a), scaled(&b), scaled(&g));
+        Three { a, b, g, sa, sb, sg }
+    }
 }
 
 fn poly_n(c: &[Complex64], n: f64) -> Complex64 {
@@ -93,43 +103,43 @@ fn poly_n(c: &[Complex64], n: f64) -> Complex64 {
     acc
 }
 
-/// Truncated power series in x = n^(−1/2).
-fn ser_mul(a: &[Complex64], b: &[Complex64], n: usize) -> Vec<Complex64> {
-    let mut out = vec![Complex64::new(0.0, 0.0); n];
-    for (i, x) in a.iter().enumerate().take(n) {
-        for (j, y) in b.iter().enumerate() {
-            if i + j < n {
-                out[i + j] += x * y;
-            }
+/// Length of the fixed series buffers (orders kept in the tail expansion + 3).
+const SER: usize = 16;
+
+type Ser = [Complex64; SER];
+
+const ZERO: Complex64 = Complex64::new(0.0, 0.0);
+
+/// Truncated product of two series up to order n − 1.
+fn ser_mul(a: &Ser, b: &Ser, n: usize) -> Ser {
+    let mut out = [ZERO; SER];
+    for i in 0..n {
+        if a[i] == ZERO {
+            continue;
+        }
+        for j in 0..(n - i) {
+            out[i + j] += a[i] * b[j];
         }
     }
     out
 }
 
-/// The series of n²·p(n)/n^deg… written in x = n^(−1/2): Σ pᵢ nⁱ / n² = Σ pᵢ x^(2(2−i)).
-fn scaled(p: &[Complex64], n: usize) -> Vec<Complex64> {
-    let mut out = vec![Complex64::new(0.0, 0.0); n];
-    for (i, c) in p.iter().enumerate() {
-        if i <= 2 {
-            let k = 2 * (2 - i);
-            if k < n {
-                out[k] += c;
-            }
-        }
+/// Σ pᵢ nⁱ / n² written in x = n^(−1/2): Σ pᵢ x^(2(2−i)).
+fn scaled(p: &[Complex64]) -> Ser {
+    let mut out = [ZERO; SER];
+    for (i, c) in p.iter().enumerate().take(3) {
+        out[2 * (2 - i)] += c;
     }
     out
 }
 
-/// The residual series of α rₙ r_{n−1} + β r_{n−1} + γ = 0 (divided by n²)
-/// for rₙ = Σ C_k x^k, r_{n−1} = Σ C_k x^k (1 − x²)^(−k/2).
-fn residual(t: &Three, c: &[Complex64], n: usize) -> Vec<Complex64> {
-    let r = {
-        let mut v = c.to_vec();
-        v.resize(n, Complex64::new(0.0, 0.0));
-        v
-    };
-    let mut rt = vec![Complex64::new(0.0, 0.0); n];
-    for (k, ck) in c.iter().enumerate() {
+/// The residual series (orders 0..n−1) of α rₙ r_{n−1} + β r_{n−1} + γ = 0
+/// divided by n², for rₙ = Σ C_k x^k, r_{n−1} = Σ C_k x^k (1 − x²)^(−k/2).
+fn residual(t: &Three, c: &[Complex64], n: usize) -> Ser {
+    let mut r = [ZERO; SER];
+    let mut rt = [ZERO; SER];
+    for (k, ck) in c.iter().enumerate().take(n) {
+        r[k] = *ck;
         // (1 − x²)^(−k/2) = Σ_j binom(−k/2, j) (−1)^j x^(2j)
         let mut coef = 1.0f64;
         let mut j = 0usize;
@@ -139,12 +149,11 @@ fn residual(t: &Three, c: &[Complex64], n: usize) -> Vec<Complex64> {
             j += 1;
         }
     }
-    let (a, b, g) = (scaled(&t.a, n), scaled(&t.b, n), scaled(&t.g, n));
     let rr = ser_mul(&r, &rt, n);
-    let mut e = ser_mul(&a, &rr, n);
-    let br = ser_mul(&b, &rt, n);
+    let mut e = ser_mul(&t.sa, &rr, n);
+    let br = ser_mul(&t.sb, &rt, n);
     for i in 0..n {
-        e[i] += br[i] + g[i];
+        e[i] += br[i] + t.sg[i];
     }
     e
 }
@@ -179,26 +188,29 @@ fn tail_coefficients(t: &Three, k: usize) -> Option<Vec<Complex64>> {
         // The minimal solution decays: Re(C₁/C₀) < 0.
         c.push(if (s1 / c[0]).re < (s2 / c[0]).re { s1 } else { s2 });
     }
+    // The newest unknown enters its order linearly, always with the same
+    // slope (2α₂C₀ + β₂, or 2α₂C₁ when the leading root is double).
+    let mut slope: Option<Complex64> = None;
     while c.len() < k {
-        // The newest unknown enters its order linearly.
         let idx = c.len();
         let order = if degenerate { idx + 1 } else { idx };
-        if order >= n {
+        if order >= n || order >= SER {
             break;
         }
         let mut c0 = c.clone();
-        c0.push(Complex64::new(0.0, 0.0));
-        let mut c1 = c.clone();
-        c1.push(Complex64::new(1.0, 0.0));
-        // Only the series up to this order is needed.
+        c0.push(ZERO);
         let e0 = residual(t, &c0, order + 1)[order];
-        let e1 = residual(t, &c1, order + 1)[order];
-        let slope = e1 - e0;
-        if slope.norm() == 0.0 {
-            c.push(Complex64::new(0.0, 0.0));
-        } else {
-            c.push(-e0 / slope);
-        }
+        let sl = match slope {
+            Some(s) => s,
+            None => {
+                let mut c1 = c.clone();
+                c1.push(Complex64::new(1.0, 0.0));
+                let s = residual(t, &c1, order + 1)[order] - e0;
+                slope = Some(s);
+                s
+            }
+        };
+        c.push(if sl == ZERO { ZERO } else { -e0 / sl });
     }
     Some(c)
 }
@@ -261,7 +273,7 @@ pub fn cf_function(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) ->
     if rec.terms.len() != 3 {
         return None;
     }
-    let t = Three { a: rec.terms[0].at_omega(w), b: rec.terms[1].at_omega(w), g: rec.terms[2].at_omega(w) };
+    let t = Three::new(rec.terms[0].at_omega(w), rec.terms[1].at_omega(w), rec.terms[2].at_omega(w));
     let depth = depth.max(k + 2);
     let tail = tail_coefficients(&t, 10);
     let n_f = depth as f64;
