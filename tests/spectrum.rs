@@ -151,3 +151,56 @@ fn direct_integration_agrees_with_the_continued_fraction() {
     assert_eq!(ms[0]["method"], "integrate");
     assert!((re - 0.48364387).abs() < 1e-6 && (im + 0.09675878).abs() < 1e-6, "{re} {im}");
 }
+
+fn bound(program_or_sample: &str, at: &str, overtones: &str) -> Vec<Value> {
+    let path = if program_or_sample.ends_with(".ode") {
+        program_or_sample.to_string()
+    } else {
+        let dir = std::env::temp_dir().join(format!("canonode-bound-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let p = dir.join(format!("b{}.ode", program_or_sample.len()));
+        std::fs::write(&p, program_or_sample).unwrap();
+        p.to_string_lossy().to_string()
+    };
+    let (v, code, err) = run(&["spectrum", &path, "--boundary", "bound", "--at", at, "--overtones", overtones, "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    v["modes"].as_array().unwrap().clone()
+}
+
+#[test]
+fn hydrogen_levels() {
+    // Hydrogen-like radial equation: E = −Z²/(2n²), n = n_r + l + 1 (textbook).
+    for (z, l) in [(1.0f64, 0u32), (2.0, 1), (1.0, 2)] {
+        let ms = bound("samples/hydrogen_radial.ode", &format!("Z={z},l={l}"), "0..2");
+        for m in &ms {
+            let nr = m["n"].as_u64().unwrap() as f64;
+            let n = nr + l as f64 + 1.0;
+            let (re, im) = omega(m);
+            let want = -z * z / (2.0 * n * n);
+            assert!((re - want).abs() < 1e-9 * want.abs().max(1.0) && im.abs() < 1e-9, "Z={z} l={l} n={n}: {re}");
+            assert_eq!(m["method"], "collocation");
+        }
+    }
+}
+
+#[test]
+fn oscillator_levels() {
+    // ψ'' + (2E − x²)ψ = 0: E = n + ½ (textbook).
+    let ms = bound("samples/harmonic_oscillator.ode", "", "0..5");
+    for m in &ms {
+        let n = m["n"].as_f64().unwrap();
+        let (re, _) = omega(m);
+        assert!((re - (n + 0.5)).abs() < 1e-9, "n={n}: {re}");
+    }
+}
+
+#[test]
+fn poschl_teller_well_levels() {
+    // The well −U/cosh²(αx) in u = tanh(αx): E_n = −α²(s − n)², s(s + 1) = U/α²
+    // (Landau & Lifshitz, Quantum Mechanics §23, from memory); U = 6, α = 1: −4, −1.
+    let prog = "var u\nparam V0, alpha, E\nlet g = 1 - u^2\nunknown phi\node alpha^2*g*(g*phi')' + (E - V0*g)*phi = 0\n";
+    let ms = bound(prog, "V0=-6,alpha=1", "0..1");
+    let (e0, _) = omega(&ms[0]);
+    let (e1, _) = omega(&ms[1]);
+    assert!((e0 + 4.0).abs() < 1e-9 && (e1 + 1.0).abs() < 1e-9, "{e0} {e1}");
+}

@@ -84,16 +84,14 @@ fn parse_overtones(t: &str) -> Option<(u32, u32)> {
 }
 
 fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
-    if a.boundary == super::classify::BoundaryArg::Bound {
-        return Err(Error::new(ErrorKind::Usage, "bound states (--boundary bound) are not computed by this version: only quasinormal modes").into());
-    }
     if !(a.tol > 0.0 && a.tol < 1e-2) {
         return Err(Error::new(ErrorKind::Usage, format!("--tol {} is not a sensible relative tolerance (between 0 and 1e-2)", a.tol)).into());
     }
     let red = crate::ode::reduce(&src.input(), &a.input.options())?;
     let k = &red.field;
     let names = k.names();
-    let fname = a.input_frequency().or_else(|| ["omega", "ω", "w"].iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
+    let defaults: &[&str] = if a.boundary == super::classify::BoundaryArg::Bound { &["E", "omega", "ω", "w"] } else { &["omega", "ω", "w"] };
+    let fname = a.input_frequency().or_else(|| defaults.iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
     let Some(fname) = fname else {
         return Err(Error::new(ErrorKind::Usage, "no frequency parameter: name it with --frequency").into());
     };
@@ -135,6 +133,9 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         let (re, im) = g.to_f64();
         Complex64::new(re, im)
     });
+    if a.boundary == super::classify::BoundaryArg::Bound {
+        return bound_states(a, &red, &fname, freq, point, overtones, src);
+    }
     let opts = SpectrumOptions { freq, values: point, overtones, tol: a.tol, guess, seeds: Vec::new() };
     let (rec_probe, setup0) = crate::solve::spectrum::qnm_recurrence(&red, &opts)?;
     drop(rec_probe);
@@ -377,4 +378,128 @@ fn estimate_report(
             o
         }
     }
+}
+
+/// Bound states by collocation on the interval between the real singular
+/// points (or the half line / line when infinity is the only other end).
+fn bound_states(
+    a: &SpectrumArgs,
+    red: &crate::ode::Reduction,
+    fname: &str,
+    freq: usize,
+    point: Vec<GRat>,
+    overtones: (u32, u32),
+    src: &super::Source,
+) -> Result<String, Failure> {
+    use crate::analysis::{Kind, Place};
+    use crate::solve::collocation::{try_bound_states, Domain};
+    let k = &red.field;
+    let an = crate::analysis::analyse(red)?;
+    let vals = crate::analysis::numeric::Values::new(point.clone());
+    let mut ends: Vec<f64> = Vec::new();
+    for p in &an.points {
+        if p.kind == Kind::Ordinary {
+            continue;
+        }
+        if let Place::Point { at, .. } = &p.place {
+            if let Some(z) = vals.ratfunc(at) {
+                if z.im.abs() < 1e-12 {
+                    ends.push(z.re);
+                }
+            }
+        }
+    }
+    ends.sort_by(|x, y| x.partial_cmp(y).unwrap_or(std::cmp::Ordering::Equal));
+    let domain = match ends.as_slice() {
+        [] => Domain::Line,
+        [a0] => Domain::HalfLine(*a0),
+        [.., x, y] => Domain::Finite(*x, *y),
+    };
+    let scale = 4.0;
+    // The continuum edge −lim Q₀/Q₁ at an infinite end (none on a finite interval).
+    let threshold = match domain {
+        Domain::Finite(..) => f64::INFINITY,
+        _ => {
+            let q1 = k.deriv(&red.normal.q, freq)?;
+            let q0 = k.compose(&red.normal.q, freq, &crate::algebra::RatFunc::zero())?;
+            let big = crate::algebra::GRat::real(crate::algebra::Rat::int(1_000_000_000.into()));
+            let mut p = point.clone();
+            p[0] = big;
+            match (q0.eval(&p), q1.eval(&p)) {
+                (Some(x), Some(y)) => {
+                    let (xr, _) = x.to_f64();
+                    let (yr, _) = y.to_f64();
+                    let t = -xr / yr;
+                    if t.abs() > 1e6 {
+                        f64::INFINITY
+                    } else {
+                        (t * 1e6).round() / 1e6 + 0.0
+                    }
+                }
+                _ => f64::INFINITY,
+            }
+        }
+    };
+    let count = overtones.1 as usize + 1;
+    let states = try_bound_states(k, &red.normal.q, freq, &point, domain, scale, count, a.tol.max(1e-13), threshold)?;
+    let dom_text = match domain {
+        Domain::Finite(x, y) => format!("({x}, {y})"),
+        Domain::HalfLine(x) => format!("({x}, ∞)"),
+        Domain::Line => "(−∞, ∞)".to_string(),
+    };
+    let rows: Vec<&crate::solve::collocation::BoundState> = states.iter().filter(|s| s.n >= overtones.0).collect();
+    Ok(match a.format {
+        SpecFormat::Json => {
+            let ms: Vec<serde_json::Value> = rows
+                .iter()
+                .map(|s| {
+                    serde_json::json!({
+                        "n": s.n,
+                        "omega": if s.converged { serde_json::json!([s.value.re, s.value.im]) } else { serde_json::Value::Null },
+                        "converged": s.converged,
+                        "reason": if s.converged { serde_json::Value::Null } else { serde_json::Value::String("the eigenvalue kept changing when the points were doubled (or fewer bound states exist below the continuum)".into()) },
+                        "method": "collocation",
+                        "evidence": {"points": s.points, "change_on_doubling": s.change, "domain": dom_text},
+                        "check": serde_json::Value::Null,
+                    })
+                })
+                .collect();
+            format!("{}\n", serde_json::to_string_pretty(&serde_json::json!({"frequency": fname, "boundary": "bound", "domain": dom_text, "continuum": if threshold.is_finite() { serde_json::json!(threshold) } else { serde_json::Value::Null }, "method": "Chebyshev collocation (Boyd 2001)", "modes": ms})).unwrap_or_default())
+        }
+        SpecFormat::Csv => {
+            let mut o = String::from("n,re,im,converged,method,points,change_on_doubling\n");
+            for s in rows {
+                if s.converged {
+                    o.push_str(&format!("{},{:.17e},{:.17e},true,collocation,{},{:.3e}\n", s.n, s.value.re, s.value.im, s.points, s.change));
+                } else {
+                    o.push_str(&format!("{},,,false,collocation,{},\n", s.n, s.points));
+                }
+            }
+            o
+        }
+        SpecFormat::Text => {
+            let mut o = format!("bound states of {} in {fname} on {dom_text}: Chebyshev collocation with ψ = 0 at both ends (Boyd 2001)\n", src.name);
+            if threshold.is_finite() {
+                o.push_str(&format!("  continuum above {fname} = {threshold}\n"));
+            }
+            o.push('\n');
+            for s in rows {
+                if s.converged {
+                    o.push_str(&format!(
+                        "  {:<2} {:<44} points {}, change on doubling {:.1e}\n",
+                        s.n,
+                        fmt_complex(s.value.re, s.value.im),
+                        s.points,
+                        s.change
+                    ));
+                } else {
+                    o.push_str(&format!(
+                        "  {:<2} NOT CONVERGED: the eigenvalue kept changing when the points were doubled (there may be fewer bound states)\n",
+                        s.n
+                    ));
+                }
+            }
+            o
+        }
+    })
 }

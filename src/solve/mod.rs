@@ -4,6 +4,7 @@
 //! into the exact layer.
 
 pub mod cf;
+pub mod collocation;
 pub mod wkb;
 
 pub mod integrate;

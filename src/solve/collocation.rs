@@ -1,0 +1,187 @@
+//! Bound states by spectral collocation: the normal form ψ'' + Q ψ = 0 with
+//! Q = Q₀ + E·Q₁ linear in the spectral parameter E becomes
+//! −ψ'' − Q₀ψ = E Q₁ ψ on Chebyshev points of a mapped interval, with ψ = 0
+//! at both ends (the normalisable solutions vanish there), and nalgebra's
+//! eigenvalues give the spectrum (J. P. Boyd, Chebyshev and Fourier Spectral
+//! Methods, 2001; L. N. Trefethen, Spectral Methods in MATLAB, 2000, for the
+//! differentiation matrix). Each eigenvalue is accepted when it changes by
+//! less than the tolerance between N and 2N points.
+
+use crate::algebra::{Field, GRat, RatFunc};
+use crate::error::{Error, ErrorKind, Result};
+use nalgebra::DMatrix;
+use num_complex::Complex64;
+
+/// The interval of the variable.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Domain {
+    /// (a, b), both finite.
+    Finite(f64, f64),
+    /// (a, ∞).
+    HalfLine(f64),
+    /// (−∞, ∞).
+    Line,
+}
+
+/// One bound state.
+#[derive(Clone, Debug)]
+pub struct BoundState {
+    /// Its number, from the lowest.
+    pub n: u32,
+    /// The eigenvalue E.
+    pub value: Complex64,
+    /// True when it changed by less than the tolerance on doubling the points.
+    pub converged: bool,
+    /// |E(2N) − E(N)|.
+    pub change: f64,
+    /// Collocation points of the final grid.
+    pub points: usize,
+}
+
+fn usage(msg: impl Into<String>) -> Error {
+    Error::new(ErrorKind::Usage, msg)
+}
+
+/// Chebyshev points x_j = cos(πj/N) and the differentiation matrix (Trefethen 2000, `cheb`).
+fn cheb(n: usize) -> (Vec<f64>, DMatrix<f64>) {
+    let x: Vec<f64> = (0..=n).map(|j| (std::f64::consts::PI * j as f64 / n as f64).cos()).collect();
+    let c = |j: usize| if j == 0 || j == n { 2.0 } else { 1.0 } * if j % 2 == 0 { 1.0 } else { -1.0 };
+    let mut d = DMatrix::<f64>::zeros(n + 1, n + 1);
+    for i in 0..=n {
+        for j in 0..=n {
+            if i != j {
+                d[(i, j)] = c(i) / c(j) / (x[i] - x[j]);
+            }
+        }
+    }
+    for i in 0..=n {
+        let s: f64 = (0..=n).filter(|&j| j != i).map(|j| d[(i, j)]).sum();
+        d[(i, i)] = -s;
+    }
+    (x, d)
+}
+
+/// z = g(x) on (−1, 1) with g' and g''.
+fn map(domain: Domain, scale: f64, x: f64) -> (f64, f64, f64) {
+    match domain {
+        Domain::Finite(a, b) => ((a + b) / 2.0 + (b - a) / 2.0 * x, (b - a) / 2.0, 0.0),
+        // z = a + L (1 + x)/(1 − x)
+        Domain::HalfLine(a) => {
+            let d = 1.0 - x;
+            (a + scale * (1.0 + x) / d, 2.0 * scale / (d * d), 4.0 * scale / (d * d * d))
+        }
+        // z = L x / √(1 − x²)
+        Domain::Line => {
+            let s = 1.0 - x * x;
+            (scale * x / s.sqrt(), scale / s.powf(1.5), 3.0 * scale * x / s.powf(2.5))
+        }
+    }
+}
+
+/// Evaluates a rational function of (z, parameters) at z with every other
+/// variable at `values` (exact coefficients, double evaluation).
+struct Eval {
+    num: super::NPoly,
+    den: super::NPoly,
+}
+
+impl Eval {
+    fn new(r: &RatFunc, values: &[GRat], eig: usize) -> Eval {
+        Eval { num: super::try_npoly(r.num(), r.scale().to_f64(), values, eig), den: super::try_npoly(&r.den_expanded(), 1.0, values, eig) }
+    }
+    fn at(&self, z: f64) -> Complex64 {
+        let zc = Complex64::new(z, 0.0);
+        let w = Complex64::new(0.0, 0.0);
+        self.num.eval(zc, w) / self.den.eval(zc, w)
+    }
+}
+
+fn eigenvalues(q0: &Eval, q1: &Eval, domain: Domain, scale: f64, n: usize) -> Option<Vec<Complex64>> {
+    let (x, d) = cheb(n);
+    let d2 = &d * &d;
+    let m = n - 1; // interior points 1..n−1 (ψ = 0 at x = ±1)
+    let mut a = DMatrix::<Complex64>::zeros(m, m);
+    for i in 1..n {
+        let (z, g1, g2) = map(domain, scale, x[i]);
+        let w = q1.at(z);
+        if w.norm() == 0.0 || !w.re.is_finite() {
+            return None;
+        }
+        let q = q0.at(z);
+        for j in 1..n {
+            // ψ_zz = (ψ_xx − (g''/g') ψ_x)/g'²
+            let dzz = (d2[(i, j)] - g2 / g1 * d[(i, j)]) / (g1 * g1);
+            let mut v = Complex64::new(-dzz, 0.0);
+            if i == j {
+                v -= q;
+            }
+            a[(i - 1, j - 1)] = v / w;
+        }
+    }
+    let mut ev: Vec<Complex64> = a.schur().eigenvalues()?.iter().copied().collect();
+    ev.retain(|e| e.re.is_finite() && e.im.is_finite());
+    ev.sort_by(|p, q| p.re.partial_cmp(&q.re).unwrap_or(std::cmp::Ordering::Equal));
+    Some(ev)
+}
+
+/// The lowest `count` eigenvalues E of −ψ'' − Q₀ψ = E Q₁ψ below `threshold`
+/// (the continuum edge; +∞ when there is none), with convergence evidence.
+/// `q` is the normal form's Q, `eig` the field index of E, `scale` the map's
+/// length scale for infinite intervals.
+#[allow(clippy::too_many_arguments)]
+pub fn try_bound_states(
+    k: &Field,
+    q: &RatFunc,
+    eig: usize,
+    values: &[GRat],
+    domain: Domain,
+    scale: f64,
+    count: usize,
+    tol: f64,
+    threshold: f64,
+) -> Result<Vec<BoundState>> {
+    let q1 = k.deriv(q, eig)?;
+    if !k.deriv(&q1, eig)?.is_zero() {
+        return Err(usage("Q is not linear in the spectral parameter: collocation here needs Q = Q₀ + E·Q₁"));
+    }
+    if q1.is_zero() {
+        return Err(usage("Q does not depend on the spectral parameter"));
+    }
+    let mut at0 = values.to_vec();
+    at0[eig] = GRat::zero();
+    let q0 = k.compose(q, eig, &RatFunc::zero())?;
+    let (e0, e1) = (Eval::new(&q0, &at0, eig), Eval::new(&q1, &at0, eig));
+    let below =
+        |v: Vec<Complex64>| -> Vec<Complex64> { v.into_iter().filter(|e| e.re < threshold && e.im.abs() <= 1e-6 * e.re.abs().max(1.0)).collect() };
+    let mut n = 48usize;
+    let mut prev = below(
+        eigenvalues(&e0, &e1, domain, scale, n)
+            .ok_or_else(|| usage("the collocation matrix could not be formed (a weight vanishes inside the interval)"))?,
+    );
+    let mut out: Vec<Option<BoundState>> = vec![None; count];
+    while n <= 384 {
+        let m = n * 2;
+        let Some(next) = eigenvalues(&e0, &e1, domain, scale, m).map(below) else { break };
+        for (i, slot) in out.iter_mut().enumerate() {
+            if slot.as_ref().is_some_and(|s| s.converged) {
+                continue;
+            }
+            if let (Some(a), Some(b)) = (prev.get(i), next.get(i)) {
+                let change = (a - b).norm();
+                *slot = Some(BoundState { n: i as u32, value: *b, converged: change <= tol * b.norm().max(1e-300), change, points: m + 1 });
+            }
+        }
+        if out.iter().all(|s| s.as_ref().is_some_and(|s| s.converged)) {
+            break;
+        }
+        prev = next;
+        n = m;
+    }
+    Ok(out
+        .into_iter()
+        .enumerate()
+        .map(|(i, s)| {
+            s.unwrap_or(BoundState { n: i as u32, value: Complex64::new(f64::NAN, f64::NAN), converged: false, change: f64::NAN, points: n + 1 })
+        })
+        .collect())
+}
