@@ -55,6 +55,9 @@ pub struct Canonical {
 pub struct Choices {
     /// (point text as printed, e.g. "0", "2*M", "inf"; 1-based choice).
     pub picks: Vec<(String, usize)>,
+    /// Exponents given outright (point text, value), used before `picks`:
+    /// for a point whose exponents are only exact modulo a relation.
+    pub values: Vec<(String, RatFunc)>,
 }
 
 impl Choices {

@@ -90,6 +90,25 @@ fn den_in_var(r: &RatFunc) -> Poly {
 
 /// Derives the recurrence about the point printed as `about`.
 pub fn recurrence(red: &Reduction, about: &str, series: Option<&str>, choices: &Choices, normal: bool) -> Result<Recurrence> {
+    recurrence_mod(red, about, series, choices, normal, None, &[])
+}
+
+/// [`recurrence`] whose coefficients are finally reduced modulo a monic
+/// polynomial in one variable (`(index, F)`): the relation F(θ) = 0 of a
+/// root θ that was adjoined as a symbol.
+/// With `modf` set, the finite factors of the prefactor are only the
+/// expansion point (its exponent given in `choices.values`) and `extra`
+/// (location, exponent, label): the analysis of the rewritten equation
+/// is trusted only at the expansion point, the pole and infinity.
+fn recurrence_mod(
+    red: &Reduction,
+    about: &str,
+    series: Option<&str>,
+    choices: &Choices,
+    normal: bool,
+    modf: Option<(usize, Poly)>,
+    extra: &[(RatFunc, RatFunc, String)],
+) -> Result<Recurrence> {
     let k = &red.field;
     let zero = RatFunc::zero();
     let (p, q) = if normal { (zero.clone(), red.normal.q.clone()) } else { (red.p.clone(), red.q.clone()) };
@@ -169,12 +188,24 @@ pub fn recurrence(red: &Reduction, about: &str, series: Option<&str>, choices: &
         text.push(format!("{}^{}", wrap(rt(k, &zm)), wrap(rt(k, rho))));
         Ok(())
     };
+    for (at, rho, label) in extra {
+        said.push(format!("at {} = {label}: exponent {} of the unknown (from the original equation)", red.var, rt(k, rho)));
+        add_power(k, at, rho, &mut l, &mut text, &mut total_power)?;
+    }
     for (at, sp) in std::iter::once(&(zh.clone(), hp)).chain(others.iter().copied()) {
-        if z2.as_ref() == Some(at) || sp.kind != Kind::Regular {
+        if modf.is_some() && *at != zh {
+            continue;
+        }
+        if z2.as_ref() == Some(at) || (sp.kind != Kind::Regular && *at != zh) {
+            continue;
+        }
+        let label = rt(k, at);
+        if let Some((_, v)) = choices.values.iter().find(|(p, _)| norm(p) == norm(&label)) {
+            said.push(format!("at {} = {label}: exponent {} (given)", red.var, rt(k, v)));
+            add_power(k, at, v, &mut l, &mut text, &mut total_power)?;
             continue;
         }
         let values: Vec<Option<RatFunc>> = sp.unknown_exponents.iter().map(|e| exponent_value(k, e)).collect();
-        let label = rt(k, at);
         let Some(i) = pick(&label, &values) else {
             return Err(usage(format!(
                 "the exponents at {} = {label} are not exact; choose the point's exponent with --exponents or expand elsewhere",
@@ -283,6 +314,21 @@ pub fn recurrence(red: &Reduction, about: &str, series: Option<&str>, choices: &
         }
         ps.push((s, t));
     }
+    // Clear parameter denominators (common to all P_s), then reduce modulo
+    // the root's relation, before deciding which coefficients vanish.
+    let mut lden = Poly::int(1);
+    for (_, c) in &ps {
+        let d = c.den_expanded().mul_int(c.scale());
+        let g = gcd(&lden, &d).ok_or_else(|| Error::new(ErrorKind::Limit, "a gcd grew too large"))?;
+        lden = lden.mul(&d.div_exact(&g).ok_or_else(|| Error::new(ErrorKind::Internal, "gcd does not divide"))?);
+    }
+    let lr = RatFunc::from_poly(lden);
+    let mut ps: Vec<(usize, RatFunc)> = ps.into_iter().map(|(s, c)| Ok((s, kn.mul(&c, &lr)?))).collect::<Result<_>>()?;
+    if let Some((t, f)) = &modf {
+        for (_, c) in ps.iter_mut() {
+            *c = RatFunc::from_poly(rem_monic(c.num(), *t, f)?);
+        }
+    }
     let Some(smin) = ps.iter().position(|(_, t)| !t.is_zero()) else {
         return Err(Error::new(ErrorKind::Internal, "the recurrence is empty"));
     };
@@ -293,15 +339,6 @@ pub fn recurrence(red: &Reduction, about: &str, series: Option<&str>, choices: &
     for (_, t) in &ps[smin..=slast] {
         coeffs.push(kn.compose(t, 0, &shift)?);
     }
-    // Clear parameter denominators and the integer content.
-    let mut lden = Poly::int(1);
-    for c in &coeffs {
-        let d = c.den_expanded().mul_int(c.scale());
-        let g = gcd(&lden, &d).ok_or_else(|| Error::new(ErrorKind::Limit, "a gcd grew too large"))?;
-        lden = lden.mul(&d.div_exact(&g).ok_or_else(|| Error::new(ErrorKind::Internal, "gcd does not divide"))?);
-    }
-    let lr = RatFunc::from_poly(lden);
-    let mut coeffs: Vec<RatFunc> = coeffs.iter().map(|c| kn.mul(c, &lr)).collect::<Result<_>>()?;
     let content = coeffs.iter().fold(Int::ZERO, |g, c| g.gcd(&c.num().content_int()));
     if !content.is_zero() && !content.is_one() {
         let inv = RatFunc::rat(&Rat::new(Int::ONE, content).expect("nonzero"));
@@ -345,4 +382,93 @@ fn parse_mobius(red: &Reduction, text: &str, zh: &RatFunc) -> Result<(Option<Rat
     let g = ku.div(&ku.sub(&ku.mul(&d, &uu)?, &b)?, &ku.sub(&a, &ku.mul(&c, &uu)?)?)?;
     let z2 = if c.is_zero() { None } else { Some(k.neg(&k.div(&d, &c)?)) };
     Ok((z2, g))
+}
+
+/// The remainder of `p` modulo a polynomial `f` monic in variable `t`.
+fn rem_monic(p: &Poly, t: usize, f: &Poly) -> Result<Poly> {
+    let fu = f.to_univariate(t);
+    let df = fu.len() - 1;
+    let mut pu = p.to_univariate(t);
+    while pu.len() > df {
+        let lead = pu.pop().expect("nonempty");
+        let shift = pu.len() - df;
+        for (j, fj) in fu.iter().enumerate().take(df) {
+            pu[shift + j] = pu[shift + j].sub(&lead.mul(fj));
+        }
+    }
+    Ok(Poly::from_univariate(t, &pu))
+}
+
+/// The recurrence about a root θ of a monic quadratic factor F of the
+/// denominators: θ is adjoined as a new symbol, F is replaced by
+/// (z − θ)(z − θ') with θ' = −F₁ − θ, the exponent at θ (`rho`, a polynomial
+/// in θ, exact modulo F) is given, and the coefficients are reduced modulo
+/// F(θ). The result's field has the extra symbol `theta_name` last.
+pub fn recurrence_at_root(red: &Reduction, f: &Poly, rho: &UPoly, theta_name: &str, choices: &Choices) -> Result<Recurrence> {
+    let k = &red.field;
+    let fu = f.to_univariate(0);
+    if fu.len() != 3 || !fu[2].is_one() {
+        return Err(usage("the expansion point must be a root of a monic quadratic factor"));
+    }
+    let mut names = k.names().to_vec();
+    if names.len() >= crate::algebra::MAX_VARS {
+        return Err(Error::new(ErrorKind::Limit, "too many symbols to adjoin the root"));
+    }
+    names.push(theta_name.to_string());
+    let t = names.len() - 1;
+    let kt = Field::new(names, k.limits().clone())?;
+    let theta = kt.var(t);
+    let theta2 = kt.sub(&kt.neg(&RatFunc::from_poly(fu[1].clone())), &theta)?;
+    let z = kt.var(0);
+    let split = kt.mul(&kt.sub(&z, &theta)?, &kt.sub(&z, &theta2)?)?;
+    let fr = RatFunc::from_poly(f.clone());
+    let swap = |r: &RatFunc| -> Result<RatFunc> {
+        let e = r.den_factors().iter().find(|(g, _)| g.poly() == f).map(|(_, e)| *e).unwrap_or(0) as i64;
+        if e == 0 {
+            return Ok(r.clone());
+        }
+        kt.div(&kt.mul(r, &kt.pow(&fr, e)?)?, &kt.pow(&split, e)?)
+    };
+    let (p, q) = (swap(&red.p)?, swap(&red.q)?);
+    let normal = crate::ode::normal_form(&kt, &p, &q)?;
+    let ode = crate::ode::LinearOde {
+        field: Field::new(kt.names().to_vec(), k.limits().clone())?,
+        var: red.var.clone(),
+        unknown: red.ode.unknown.clone(),
+        params: kt.names()[1..].to_vec(),
+        inferred: Vec::new(),
+        p: p.clone(),
+        q: q.clone(),
+        lets: Vec::new(),
+    };
+    let red2 = Reduction { ode, field: kt, var: red.var.clone(), p, q, normal, change: None, schrodinger: None };
+    let k2 = &red2.field;
+    let mut rho_r = RatFunc::zero();
+    for (j, c) in rho.coeffs.iter().enumerate() {
+        rho_r = k2.add(&rho_r, &k2.mul(c, &k2.pow(&k2.var(t), j as i64)?)?)?;
+    }
+    let label = theta_name.to_string();
+    let mut ch = choices.clone();
+    ch.values.push((label.clone(), rho_r));
+    // The other singular points of the original equation keep an exact
+    // exponent of the unknown (its exponent 0 when it has one).
+    let an0 = crate::analysis::analyse(red)?;
+    let mut extra = Vec::new();
+    for sp in &an0.points {
+        if let Place::Point { at, .. } = &sp.place {
+            let values: Vec<Option<RatFunc>> = sp.unknown_exponents.iter().map(|e| exponent_value(k, e)).collect();
+            let pick = values.iter().position(|v| v.as_ref().is_some_and(RatFunc::is_zero)).or_else(|| values.iter().position(Option::is_some));
+            if let Some(i) = pick {
+                let rho = values[i].clone().expect("picked exact");
+                if !rho.is_zero() {
+                    extra.push((at.clone(), rho, rt(k, at)));
+                }
+            }
+        }
+    }
+    // θ' is the Möbius pole; its power follows from the branch at infinity.
+    let other = rt(k2, &theta2);
+    let series = format!("u=({} - {label})/({} - ({other}))", red.var, red.var);
+    let modf = Some((t, f.to_univariate(0).iter().enumerate().fold(Poly::zero(), |acc, (j, c)| acc.add(&c.mul(&Poly::var(t).pow(j as u32))))));
+    recurrence_mod(&red2, &label, Some(&series), &ch, false, modf, &extra)
 }

@@ -60,6 +60,9 @@ pub struct Setup {
     pub terms: usize,
     /// The exponent and branch picks (point label, 1-based choice).
     pub picks: Vec<(String, usize)>,
+    /// When the horizon is a root θ of a quadratic factor: the factor, θ's
+    /// value and the index of the chosen exponent.
+    pub theta: Option<(crate::algebra::Poly, f64, usize)>,
 }
 
 fn usage(msg: impl Into<String>) -> Error {
@@ -76,29 +79,45 @@ pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate:
     let labels = label(&an, opts.freq, &point, true);
     let text = |p: &crate::analysis::SingularPoint| match &p.place {
         Place::Point { at, .. } => ratfunc_text(at, k.names(), Style::Text),
-        _ => "∞".to_string(),
+        Place::Roots(_) => "θ".to_string(),
+        Place::Infinity => "∞".to_string(),
     };
     let (picks, said) = boundary_choices(&an, Some(&labels), Boundary::Qnm, &point, text);
     // The outermost labelled regular point with an exact location.
     let vals = crate::analysis::numeric::Values::new(point.clone());
     let mut best: Option<(f64, String)> = None;
+    let mut best_root: Option<(f64, usize)> = None;
     for (i, p) in an.points.iter().enumerate() {
         if p.kind != Kind::Regular || labels.per_point[i].iter().all(Option::is_none) {
             continue;
         }
-        if let Place::Point { at, .. } = &p.place {
-            if let Some(z) = vals.ratfunc(at) {
-                if best.as_ref().is_none_or(|(b, _)| z.re > *b) {
-                    best = Some((z.re, ratfunc_text(at, k.names(), Style::Text)));
+        match &p.place {
+            Place::Point { at, .. } => {
+                if let Some(z) = vals.ratfunc(at) {
+                    if best.as_ref().is_none_or(|(b, _)| z.re > *b) {
+                        best = Some((z.re, ratfunc_text(at, k.names(), Style::Text)));
+                    }
                 }
             }
+            Place::Roots(f) => {
+                // The outermost real root of the factor (the labels were decided there).
+                if let Some(z) = vals.roots(f).and_then(|r| r.into_iter().filter(|z| z.im.abs() < 1e-10 * z.re.abs().max(1.0)).last()) {
+                    if best_root.is_none_or(|(b, _)| z.re > b) {
+                        best_root = Some((z.re, i));
+                    }
+                }
+            }
+            Place::Infinity => {}
         }
     }
+    if let Some((zr, i)) = best_root.filter(|(zr, _)| best.as_ref().is_none_or(|(b, _)| *zr > *b)) {
+        return root_recurrence(red, &an, i, zr, &picks, said);
+    }
     let Some((horizon_value, horizon)) = best else {
-        return Err(usage("no horizon-like regular point with an exact location: the continued fraction needs one (roots of higher-degree factors are not supported yet)"));
+        return Err(usage("no horizon-like regular point: the quasinormal-mode series needs one"));
     };
     let inf_irregular = an.points.iter().any(|p| matches!(p.place, Place::Infinity) && p.kind == Kind::Irregular);
-    let choices = Choices { picks: picks.clone() };
+    let choices = Choices { picks: picks.clone(), values: Vec::new() };
     // With an irregular point at infinity, Leaver's Möbius series; otherwise
     // a plain Frobenius series about the horizon carrying the chosen
     // exponents of the other regular points, whose termination is the mode condition.
@@ -111,14 +130,66 @@ pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate:
         choices: said,
         terms: rec.coeffs.len(),
         picks,
+        theta: None,
     };
     Ok((rec, setup))
+}
+
+/// The recurrence about the outer root θ of an irreducible quadratic factor
+/// (e.g. r₊ of r² − 2Mr + a²): θ is adjoined as a symbol and the result
+/// reduced modulo its relation; `Setup::theta` carries its numeric value.
+fn root_recurrence(red: &Reduction, an: &crate::analysis::Analysis, i: usize, zr: f64, picks: &[(String, usize)], said: Vec<String>) -> Result<(crate::series::Recurrence, Setup)> {
+    let p = &an.points[i];
+    let Place::Roots(f) = &p.place else { return Err(Error::new(ErrorKind::Internal, "not a root point")) };
+    let k = &red.field;
+    let j = picks.iter().find(|(l, _)| l == "θ").map(|(_, c)| c - 1).ok_or_else(|| usage("no ingoing exponent was found at the horizon"))?;
+    let e = p.unknown_exponents.get(j).ok_or_else(|| usage("no exponent at the horizon"))?;
+    let Some(root) = &e.root else {
+        return Err(usage("the horizon exponents are not exact in the root's field: the series needs them"));
+    };
+    let half = crate::algebra::RatFunc::rat(&Rat::new((e.sign as i64).into(), 2.into()).expect("nonzero"));
+    let rho = e.center.add(k, &root.scale(k, &half)?)?;
+    let choices = Choices { picks: picks.iter().filter(|(l, _)| l != "θ").cloned().collect(), values: Vec::new() };
+    let mut name = "θ".to_string();
+    while k.names().contains(&name) {
+        name.push('_');
+    }
+    let rec = crate::series::recurrence_at_root(red, f, &rho, &name, &choices)?;
+    let setup = Setup {
+        horizon: format!("{name} ≈ {zr:.15}, the outer root of {}", crate::algebra::print::poly_text(f, &crate::algebra::Int::ONE, k.names(), Style::Text)),
+        horizon_value: zr,
+        ansatz: format!("{} = {} * Σ a_n u^n, {}", rec.function, rec.prefactor, rec.series),
+        choices: said,
+        terms: rec.coeffs.len(),
+        picks: picks.to_vec(),
+        theta: Some((f.clone(), zr, j)),
+    };
+    Ok((rec, setup))
+}
+
+/// An exact rational equal to a double (its binary value).
+pub fn exact_double(x: f64) -> GRat {
+    let (m, e) = if x == 0.0 {
+        (0i64, 0i32)
+    } else {
+        let bits = x.to_bits();
+        let exp = ((bits >> 52) & 0x7ff) as i32;
+        let frac = (bits & ((1u64 << 52) - 1)) as i64;
+        let (mant, e2) = if exp == 0 { (frac, -1074) } else { (frac | (1i64 << 52), exp - 1075) };
+        (if x < 0.0 { -mant } else { mant }, e2)
+    };
+    let r = if e >= 0 {
+        Rat::int(crate::algebra::Int::from(m).mul(&crate::algebra::Int::from(2).pow(e as u32)))
+    } else {
+        Rat::new(crate::algebra::Int::from(m), crate::algebra::Int::from(2).pow((-e) as u32)).expect("nonzero")
+    };
+    GRat::real(r)
 }
 
 /// Computes the quasinormal modes by the continued fraction.
 pub fn qnm_modes(red: &Reduction, opts: &SpectrumOptions, first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>) -> Result<(Vec<Mode>, Setup)> {
     let (rec, setup) = qnm_recurrence(red, opts)?;
-    if rec.coeffs.len() == 2 {
+    if rec.coeffs.len() == 2 && setup.theta.is_none() {
         let num = try_numeric(&rec, &opts.values, opts.freq)?;
         let modes = (opts.overtones.0..=opts.overtones.1).map(|n| terminating_mode(&num, n)).collect();
         return Ok((modes, setup));
@@ -130,8 +201,12 @@ pub fn qnm_modes(red: &Reduction, opts: &SpectrumOptions, first_estimate: &dyn F
             rec.coeffs.len()
         )));
     }
-    // The recurrence's field is (n, params…): the same indices as the equation's.
-    let num = try_numeric(&rec, &opts.values, opts.freq)?;
+    // The recurrence's field is (n, params…[, θ]): the equation's indices, θ last.
+    let mut values = opts.values.clone();
+    if let Some((_, zr, _)) = &setup.theta {
+        values.push(exact_double(*zr));
+    }
+    let num = try_numeric(&rec, &values, opts.freq)?;
     let mut modes: Vec<Mode> = Vec::new();
     for n in opts.overtones.0..=opts.overtones.1 {
         let idx = (n - opts.overtones.0) as usize;
@@ -260,21 +335,35 @@ pub fn integration_check<'a>(
     let ode = super::try_num_ode(k, &red.p, &red.q, &opts.values, opts.freq)?;
     let find = |label: &str| setup.picks.iter().find(|(p, _)| p == label).map(|(_, c)| c - 1);
     let text = |at: &crate::algebra::RatFunc| ratfunc_text(at, k.names(), Style::Text);
-    let hp = an
-        .points
-        .iter()
-        .find(|p| matches!(&p.place, Place::Point { at, .. } if text(at) == setup.horizon))
-        .ok_or_else(|| usage("the horizon is not among the singular points"))?;
-    let hi = find(&setup.horizon).ok_or_else(|| usage("no exponent was picked at the horizon"))?;
-    let e = hp.unknown_exponents.get(hi).cloned().ok_or_else(|| usage("no exponent at the horizon"))?;
-    let center = crate::analysis::ext_base(&e.center).ok_or_else(|| usage("the horizon exponent is not in the parameter field"))?;
-    let rho_exact = match (&e.root, e.sign) {
-        (_, 0) => center,
-        (Some(r), sg) => {
-            let r = crate::analysis::ext_base(r).ok_or_else(|| usage("the horizon exponent is not in the parameter field"))?;
-            k.add(&center, &k.mul(&crate::algebra::RatFunc::rat(&Rat::new((sg as i64).into(), 2.into()).expect("nonzero")), &r)?)?
+    // ρ_h(ω) as a list of coefficients of θ^j (one coefficient for a linear point).
+    let (rho_parts, theta_value): (Vec<crate::algebra::RatFunc>, f64) = match &setup.theta {
+        None => {
+            let hp = an
+                .points
+                .iter()
+                .find(|p| matches!(&p.place, Place::Point { at, .. } if text(at) == setup.horizon))
+                .ok_or_else(|| usage("the horizon is not among the singular points"))?;
+            let hi = find(&setup.horizon).ok_or_else(|| usage("no exponent was picked at the horizon"))?;
+            let e = hp.unknown_exponents.get(hi).cloned().ok_or_else(|| usage("no exponent at the horizon"))?;
+            let center = crate::analysis::ext_base(&e.center).ok_or_else(|| usage("the horizon exponent is not in the parameter field"))?;
+            let rho_exact = match (&e.root, e.sign) {
+                (_, 0) => center,
+                (Some(r), sg) => {
+                    let r = crate::analysis::ext_base(r).ok_or_else(|| usage("the horizon exponent is not in the parameter field"))?;
+                    k.add(&center, &k.mul(&crate::algebra::RatFunc::rat(&Rat::new((sg as i64).into(), 2.into()).expect("nonzero")), &r)?)?
+                }
+                (None, _) => return Err(usage("the horizon exponent is not exact: the integration check needs it")),
+            };
+            (vec![rho_exact], 0.0)
         }
-        (None, _) => return Err(usage("the horizon exponent is not exact: the integration check needs it")),
+        Some((f, zr, j)) => {
+            let hp = an.points.iter().find(|p| matches!(&p.place, Place::Roots(g) if g == f)).ok_or_else(|| usage("the horizon factor is not among the singular points"))?;
+            let e = hp.unknown_exponents.get(*j).cloned().ok_or_else(|| usage("no exponent at the horizon"))?;
+            let root = e.root.clone().ok_or_else(|| usage("the horizon exponent is not exact"))?;
+            let half = crate::algebra::RatFunc::rat(&Rat::new((e.sign as i64).into(), 2.into()).expect("nonzero"));
+            let rho = e.center.add(k, &root.scale(k, &half)?)?;
+            (rho.coeffs, *zr)
+        }
     };
     let inf = an.points.iter().find(|p| matches!(p.place, Place::Infinity)).expect("infinity listed");
     let bi = find("∞").ok_or_else(|| usage("no branch was picked at infinity"))?;
@@ -291,11 +380,12 @@ pub fn integration_check<'a>(
     let p1 = crate::analysis::p_at_infinity_pub(k, &red.p)?;
     // ν of the unknown = ρ of ψ − p₁/2 (the prefactor's power at infinity).
     let nu_exact = k.sub(&f.rho, &k.mul(&crate::algebra::RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero")), &p1)?)?;
-    let (rho, mu, nu) = (in_omega(&rho_exact, opts), in_omega(&mu_exact, opts), in_omega(&nu_exact, opts));
+    let rho: Vec<_> = rho_parts.iter().map(|c| in_omega(c, opts)).collect();
+    let (mu, nu) = (in_omega(&mu_exact, opts), in_omega(&nu_exact, opts));
     let horizon = setup.horizon_value;
     let tol = opts.tol;
     Ok(move |seed: Complex64| {
-        let rf = |w: Complex64| eval_in_omega(&rho, w);
+        let rf = |w: Complex64| rho.iter().rev().fold(Complex64::new(0.0, 0.0), |acc, c| acc * theta_value + eval_in_omega(c, w));
         let mf = |w: Complex64| eval_in_omega(&mu, w);
         let nf = |w: Complex64| eval_in_omega(&nu, w);
         let ends = super::integrate::Ends { horizon, rho_h: &rf, mu: &mf, nu: &nf };
