@@ -133,6 +133,8 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         let (re, im) = g.to_f64();
         Complex64::new(re, im)
     });
+    // Exact values for every other parameter: horizons often become rational points.
+    let red = crate::solve::spectrum::substitute(&red, &point, freq)?;
     if a.boundary == super::classify::BoundaryArg::Bound {
         return bound_states(a, &red, &fname, freq, point, overtones, src);
     }

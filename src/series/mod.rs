@@ -403,13 +403,18 @@ fn rem_monic(p: &Poly, t: usize, f: &Poly) -> Result<Poly> {
 /// denominators: θ is adjoined as a new symbol, F is replaced by
 /// (z − θ)(z − θ') with θ' = −F₁ − θ, the exponent at θ (`rho`, a polynomial
 /// in θ, exact modulo F) is given, and the coefficients are reduced modulo
-/// F(θ). The result's field has the extra symbol `theta_name` last.
+/// F(θ). The result's field has the extra symbol `theta_name` last: it
+/// stands for φ = c₂θ (c₂ the leading coefficient of F), which is θ itself
+/// when F is monic.
 pub fn recurrence_at_root(red: &Reduction, f: &Poly, rho: &UPoly, theta_name: &str, choices: &Choices) -> Result<Recurrence> {
     let k = &red.field;
     let fu = f.to_univariate(0);
-    if fu.len() != 3 || !fu[2].is_one() {
-        return Err(usage("the expansion point must be a root of a monic quadratic factor"));
+    if fu.len() != 3 {
+        return Err(usage("the expansion point must be a root of a quadratic factor"));
     }
+    // With F = c₂z² + c₁z + c₀ the adjoined symbol is φ = c₂θ, a root of the
+    // monic φ² + c₁φ + c₀c₂ (so that reduction needs no division).
+    let c2 = RatFunc::from_poly(fu[2].clone());
     let mut names = k.names().to_vec();
     if names.len() >= crate::algebra::MAX_VARS {
         return Err(Error::new(ErrorKind::Limit, "too many symbols to adjoin the root"));
@@ -417,10 +422,10 @@ pub fn recurrence_at_root(red: &Reduction, f: &Poly, rho: &UPoly, theta_name: &s
     names.push(theta_name.to_string());
     let t = names.len() - 1;
     let kt = Field::new(names, k.limits().clone())?;
-    let theta = kt.var(t);
-    let theta2 = kt.sub(&kt.neg(&RatFunc::from_poly(fu[1].clone())), &theta)?;
+    let theta = kt.div(&kt.var(t), &c2)?;
+    let theta2 = kt.sub(&kt.neg(&kt.div(&RatFunc::from_poly(fu[1].clone()), &c2)?), &theta)?;
     let z = kt.var(0);
-    let split = kt.mul(&kt.sub(&z, &theta)?, &kt.sub(&z, &theta2)?)?;
+    let split = kt.mul(&c2, &kt.mul(&kt.sub(&z, &theta)?, &kt.sub(&z, &theta2)?)?)?;
     let fr = RatFunc::from_poly(f.clone());
     let swap = |r: &RatFunc| -> Result<RatFunc> {
         let e = r.den_factors().iter().find(|(g, _)| g.poly() == f).map(|(_, e)| *e).unwrap_or(0) as i64;
@@ -443,11 +448,12 @@ pub fn recurrence_at_root(red: &Reduction, f: &Poly, rho: &UPoly, theta_name: &s
     };
     let red2 = Reduction { ode, field: kt, var: red.var.clone(), p, q, normal, change: None, schrodinger: None };
     let k2 = &red2.field;
+    let theta_r = k2.div(&k2.var(t), &c2)?;
     let mut rho_r = RatFunc::zero();
     for (j, c) in rho.coeffs.iter().enumerate() {
-        rho_r = k2.add(&rho_r, &k2.mul(c, &k2.pow(&k2.var(t), j as i64)?)?)?;
+        rho_r = k2.add(&rho_r, &k2.mul(c, &k2.pow(&theta_r, j as i64)?)?)?;
     }
-    let label = theta_name.to_string();
+    let label = rt(k2, &theta_r);
     let mut ch = choices.clone();
     ch.values.push((label.clone(), rho_r));
     // The other singular points of the original equation keep an exact
@@ -468,7 +474,10 @@ pub fn recurrence_at_root(red: &Reduction, f: &Poly, rho: &UPoly, theta_name: &s
     }
     // θ' is the Möbius pole; its power follows from the branch at infinity.
     let other = rt(k2, &theta2);
-    let series = format!("u=({} - {label})/({} - ({other}))", red.var, red.var);
-    let modf = Some((t, f.to_univariate(0).iter().enumerate().fold(Poly::zero(), |acc, (j, c)| acc.add(&c.mul(&Poly::var(t).pow(j as u32))))));
+    let here = rt(k2, &theta);
+    let series = format!("u=({} - ({here}))/({} - ({other}))", red.var, red.var);
+    let phi = Poly::var(t);
+    let relation = phi.pow(2).add(&fu[1].mul(&phi)).add(&fu[0].mul(&fu[2]));
+    let modf = Some((t, relation));
     recurrence_mod(&red2, &label, Some(&series), &ch, false, modf, &extra)
 }

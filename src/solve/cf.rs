@@ -270,6 +270,9 @@ pub struct CfRoot {
 /// The k-th inversion of the continued fraction at ω with truncation depth N,
 /// divided by β_k; `None` where a denominator vanishes.
 pub fn cf_function(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<Complex64> {
+    if rec.terms.len() > 3 {
+        return cf_function_reduced(rec, w, k, depth);
+    }
     if rec.terms.len() != 3 {
         return None;
     }
@@ -314,6 +317,70 @@ pub fn cf_function(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) ->
     let kf = k as f64;
     let bk = poly_n(&t.b, kf);
     let f = bk + poly_n(&t.a, kf) * r + poly_n(&t.g, kf) * inv_prev;
+    Some(if bk.norm() > 0.0 { f / bk } else { f })
+}
+
+/// The k-th inversion for a recurrence of more than three terms: Gaussian
+/// elimination of the lowest-index term, one term at a time, down to three
+/// (E. W. Leaver, Phys. Rev. D 41 (1990) 2986), then the three-term
+/// continued fraction on the reduced coefficients, with a tail from the
+/// reduced recurrence at the truncation depth (r ≈ r_N ≈ r_{N−1}).
+fn cf_function_reduced(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<Complex64> {
+    let depth = depth.max(k + 2);
+    let kk = rec.terms.len();
+    let polys: Vec<Vec<Complex64>> = rec.terms.iter().map(|t| t.at_omega(w)).collect();
+    // c[n][j] for n = 0..=depth+1.
+    let mut c: Vec<Vec<Complex64>> = (0..=depth + 1).map(|n| polys.iter().map(|p| poly_n(p, n as f64)).collect()).collect();
+    let mut terms = kk;
+    while terms > 3 {
+        let last = terms - 1;
+        let mut reduced: Vec<Vec<Complex64>> = Vec::with_capacity(c.len());
+        for n in 0..c.len() {
+            let mut row: Vec<Complex64> = c[n][..last].to_vec();
+            // The eliminated term multiplies a_{n+1−last}: zero for n < last − 1.
+            if n + 1 >= last && n > 0 {
+                let prev: &Vec<Complex64> = &reduced[n - 1];
+                let piv = prev[last - 1];
+                if piv.re == 0.0 && piv.im == 0.0 {
+                    return None;
+                }
+                let f = c[n][last] / piv;
+                for j in 1..last {
+                    row[j] -= f * prev[j - 1];
+                }
+            }
+            reduced.push(row);
+        }
+        c = reduced;
+        terms -= 1;
+    }
+    let (al, be, ga) = (|n: usize| c[n][0], |n: usize| c[n][1], |n: usize| c[n][2]);
+    // Tail: α r² + β r + γ = 0 at the depth, the root of smaller modulus.
+    let (a2, b2, g2) = (al(depth), be(depth), ga(depth));
+    let disc = (b2 * b2 - 4.0 * a2 * g2).sqrt();
+    let (r1, r2) = ((-b2 + disc) / (2.0 * a2), (-b2 - disc) / (2.0 * a2));
+    let mut r = if r1.norm() <= r2.norm() { r1 } else { r2 };
+    for n in ((k + 1)..=depth).rev() {
+        let den = be(n) + al(n) * r;
+        if den.re == 0.0 && den.im == 0.0 {
+            return None;
+        }
+        r = -ga(n) / den;
+    }
+    let mut inv_prev = Complex64::new(0.0, 0.0);
+    for n in 0..k {
+        let an = al(n);
+        if an.re == 0.0 && an.im == 0.0 {
+            return None;
+        }
+        let rn = -(be(n) + ga(n) * inv_prev) / an;
+        if rn.re == 0.0 && rn.im == 0.0 {
+            return None;
+        }
+        inv_prev = 1.0 / rn;
+    }
+    let bk = be(k);
+    let f = bk + al(k) * r + ga(k) * inv_prev;
     Some(if bk.norm() > 0.0 { f / bk } else { f })
 }
 
@@ -365,7 +432,7 @@ pub fn find_root(rec: &NumRecurrence, k: usize, seed: Complex64, tol: f64, depth
         stop,
         inversion: k,
     };
-    if rec.terms.len() != 3 {
+    if rec.terms.len() < 3 {
         return fail(StopReason::NotThreeTerm);
     }
     let mut depth = depth0.max(k + 10);

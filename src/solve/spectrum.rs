@@ -138,7 +138,14 @@ pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate:
 /// The recurrence about the outer root θ of an irreducible quadratic factor
 /// (e.g. r₊ of r² − 2Mr + a²): θ is adjoined as a symbol and the result
 /// reduced modulo its relation; `Setup::theta` carries its numeric value.
-fn root_recurrence(red: &Reduction, an: &crate::analysis::Analysis, i: usize, zr: f64, picks: &[(String, usize)], said: Vec<String>) -> Result<(crate::series::Recurrence, Setup)> {
+fn root_recurrence(
+    red: &Reduction,
+    an: &crate::analysis::Analysis,
+    i: usize,
+    zr: f64,
+    picks: &[(String, usize)],
+    said: Vec<String>,
+) -> Result<(crate::series::Recurrence, Setup)> {
     let p = &an.points[i];
     let Place::Roots(f) = &p.place else { return Err(Error::new(ErrorKind::Internal, "not a root point")) };
     let k = &red.field;
@@ -156,7 +163,10 @@ fn root_recurrence(red: &Reduction, an: &crate::analysis::Analysis, i: usize, zr
     }
     let rec = crate::series::recurrence_at_root(red, f, &rho, &name, &choices)?;
     let setup = Setup {
-        horizon: format!("{name} ≈ {zr:.15}, the outer root of {}", crate::algebra::print::poly_text(f, &crate::algebra::Int::ONE, k.names(), Style::Text)),
+        horizon: format!(
+            "{name} ≈ {zr:.15}, the outer root of {}",
+            crate::algebra::print::poly_text(f, &crate::algebra::Int::ONE, k.names(), Style::Text)
+        ),
         horizon_value: zr,
         ansatz: format!("{} = {} * Σ a_n u^n, {}", rec.function, rec.prefactor, rec.series),
         choices: said,
@@ -194,17 +204,16 @@ pub fn qnm_modes(red: &Reduction, opts: &SpectrumOptions, first_estimate: &dyn F
         let modes = (opts.overtones.0..=opts.overtones.1).map(|n| terminating_mode(&num, n)).collect();
         return Ok((modes, setup));
     }
-    if rec.coeffs.len() != 3 {
-        return Err(usage(format!(
-            "the recurrence about {} has {} terms; the continued fraction here needs three (reduction of longer recurrences is not implemented yet)",
-            setup.horizon,
-            rec.coeffs.len()
-        )));
+    if rec.coeffs.len() < 3 {
+        return Err(usage(format!("the recurrence about {} has {} terms: no continued fraction", setup.horizon, rec.coeffs.len())));
     }
     // The recurrence's field is (n, params…[, θ]): the equation's indices, θ last.
     let mut values = opts.values.clone();
-    if let Some((_, zr, _)) = &setup.theta {
-        values.push(exact_double(*zr));
+    if let Some((f, zr, _)) = &setup.theta {
+        // The adjoined symbol is φ = c₂θ.
+        let c2 = f.to_univariate(0).get(2).cloned().unwrap_or_else(|| crate::algebra::Poly::int(1));
+        let c2v = crate::algebra::RatFunc::from_poly(c2).eval(&opts.values).map(|g| g.to_f64().0).unwrap_or(1.0);
+        values.push(exact_double(*zr * c2v));
     }
     let num = try_numeric(&rec, &values, opts.freq)?;
     let mut modes: Vec<Mode> = Vec::new();
@@ -357,7 +366,11 @@ pub fn integration_check<'a>(
             (vec![rho_exact], 0.0)
         }
         Some((f, zr, j)) => {
-            let hp = an.points.iter().find(|p| matches!(&p.place, Place::Roots(g) if g == f)).ok_or_else(|| usage("the horizon factor is not among the singular points"))?;
+            let hp = an
+                .points
+                .iter()
+                .find(|p| matches!(&p.place, Place::Roots(g) if g == f))
+                .ok_or_else(|| usage("the horizon factor is not among the singular points"))?;
             let e = hp.unknown_exponents.get(*j).cloned().ok_or_else(|| usage("no exponent at the horizon"))?;
             let root = e.root.clone().ok_or_else(|| usage("the horizon exponent is not exact"))?;
             let half = crate::algebra::RatFunc::rat(&Rat::new((e.sign as i64).into(), 2.into()).expect("nonzero"));
@@ -391,4 +404,33 @@ pub fn integration_check<'a>(
         let ends = super::integrate::Ends { horizon, rho_h: &rf, mu: &mf, nu: &nf };
         super::integrate::find_root(&ode, &ends, seed, (tol * 10.0).max(1e-12))
     })
+}
+
+/// The reduction with every parameter except the frequency replaced by its
+/// exact value: factors of the denominators then often split over Q (a
+/// horizon becomes a rational point), and what stays symbolic is only ω.
+pub fn substitute(red: &Reduction, values: &[GRat], freq: usize) -> Result<Reduction> {
+    let k = &red.field;
+    let (mut p, mut q) = (red.p.clone(), red.q.clone());
+    for (i, v) in values.iter().enumerate().skip(1) {
+        if i == freq {
+            continue;
+        }
+        let c = crate::algebra::RatFunc::constant(v);
+        p = k.compose(&p, i, &c)?;
+        q = k.compose(&q, i, &c)?;
+    }
+    let kf = crate::algebra::Field::new(k.names().to_vec(), k.limits().clone())?;
+    let normal = crate::ode::normal_form(&kf, &p, &q)?;
+    let ode = crate::ode::LinearOde {
+        field: crate::algebra::Field::new(k.names().to_vec(), k.limits().clone())?,
+        var: red.var.clone(),
+        unknown: red.ode.unknown.clone(),
+        params: red.ode.params.clone(),
+        inferred: Vec::new(),
+        p: p.clone(),
+        q: q.clone(),
+        lets: Vec::new(),
+    };
+    Ok(Reduction { ode, field: kf, var: red.var.clone(), p, q, normal, change: None, schrodinger: None })
 }
