@@ -223,3 +223,41 @@ fn charged_black_hole_scalar_agrees_by_two_methods() {
         }
     }
 }
+
+#[test]
+fn scan_with_shards_and_plot() {
+    // The charged-black-hole scalar over q: every point converged, the
+    // integration check beside it, shards that partition the grid, and an
+    // SVG plot written (its content is not compared).
+    let dir = std::env::temp_dir().join(format!("canonode-scan-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let svg = dir.join("rn.svg");
+    let svg_s = svg.to_string_lossy().to_string();
+    let out = Command::new(env!("CARGO_BIN_EXE_canonode"))
+        .args(["scan", "samples/reissner_nordstrom_scalar.ode", "--vary", "q=0:0.9:0.3", "--at", "M=1,l=2", "--format", "json", "--plot", &svg_s])
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let pts = v["points"].as_array().unwrap();
+    assert_eq!(pts.len(), 4);
+    for p in pts {
+        let m = &p["modes"][0];
+        let (re, im) = omega(m);
+        let c = &m["check"]["omega"];
+        let (cre, cim) = (c[0].as_f64().unwrap(), c[1].as_f64().unwrap());
+        assert!(((re - cre).powi(2) + (im - cim).powi(2)).sqrt() < 1e-8 * (re * re + im * im).sqrt(), "{p}");
+    }
+    assert!(std::fs::read_to_string(&svg).unwrap().starts_with("<svg"));
+    let csv = |k: &str| {
+        let o = Command::new(env!("CARGO_BIN_EXE_canonode"))
+            .args(["scan", "samples/reissner_nordstrom_scalar.ode", "--vary", "q=0:0.9:0.3", "--at", "M=1,l=2", "--no-check", "--shard", k])
+            .current_dir(env!("CARGO_MANIFEST_DIR"))
+            .output()
+            .unwrap();
+        assert!(o.status.success());
+        String::from_utf8(o.stdout).unwrap().lines().skip(1).map(|l| l.split(',').next().unwrap().to_string()).collect::<Vec<_>>()
+    };
+    assert_eq!([csv("1/2"), csv("2/2")].concat(), vec!["0", "0.3", "0.6", "0.9"]);
+}

@@ -7,6 +7,7 @@ pub(crate) mod diagnostic;
 mod eval;
 mod recurrence;
 mod reduce;
+mod scan;
 mod spectrum;
 mod values;
 
@@ -37,6 +38,8 @@ enum Command {
     Recurrence(recurrence::RecurrenceArgs),
     /// Quasinormal-mode frequencies by the continued fraction, with convergence evidence.
     Spectrum(spectrum::SpectrumArgs),
+    /// Quasinormal modes over a grid of one parameter (parallel, continuation, shards, plot).
+    Scan(scan::ScanArgs),
 }
 
 /// Output formats.
@@ -253,5 +256,6 @@ fn run(cli: Cli) -> u8 {
         Command::Classify(a) => classify::run(&a),
         Command::Recurrence(a) => recurrence::run(&a),
         Command::Spectrum(a) => spectrum::run(&a),
+        Command::Scan(a) => scan::run(&a),
     }
 }

@@ -8,6 +8,7 @@ pub mod collocation;
 pub mod wkb;
 
 pub mod integrate;
+pub mod scan;
 pub mod spectrum;
 
 use crate::algebra::{Field, GRat, Poly, RatFunc};

@@ -1,0 +1,192 @@
+//! Parameter scans of quasinormal modes: every grid point is solved with the
+//! parameters substituted exactly, in parallel (rayon) over contiguous
+//! chunks of the grid, each mode followed from its neighbour within a chunk
+//! (continuation: the previous point's mode seeds the next). A grid can be
+//! split into shards for separate processes or cluster jobs.
+
+use super::spectrum::{integration_check, qnm_modes, qnm_recurrence, substitute, Mode, SpectrumOptions};
+use crate::algebra::{GRat, Rat};
+use crate::error::Result;
+use crate::ode::Reduction;
+use num_complex::Complex64;
+use rayon::prelude::*;
+
+/// The result at one grid point.
+#[derive(Clone, Debug)]
+pub struct ScanPoint {
+    /// Position in the full grid.
+    pub index: usize,
+    /// The varied parameter's value.
+    pub value: f64,
+    /// The modes (empty when the point failed), each with its integration check.
+    pub modes: Vec<(Mode, Option<Complex64>)>,
+    /// Why the point failed, when it did.
+    pub error: Option<String>,
+}
+
+/// The grid a:b:step as exact rationals (a, a + step, … ≤ b).
+pub fn grid(a: &Rat, b: &Rat, step: &Rat) -> Option<Vec<Rat>> {
+    if step.is_zero() || step.numer().is_negative() {
+        return None;
+    }
+    let mut out = Vec::new();
+    let mut x = a.clone();
+    while x.sub(b).numer().signum() <= 0 {
+        out.push(x.clone());
+        x = x.add(step);
+        if out.len() > 100_000 {
+            return None;
+        }
+    }
+    Some(out)
+}
+
+/// The indices of shard `k` (1-based) of `n` over a grid of `len` points: contiguous blocks.
+pub fn shard(len: usize, k: usize, n: usize) -> std::ops::Range<usize> {
+    let start = len * (k - 1) / n;
+    let end = len * k / n;
+    start..end
+}
+
+/// Solves every point of `grid[range]` for parameter `vary` (field index).
+/// `make` derives the reduction (once per worker: exact fields are not
+/// shared between threads); `progress` is called once per finished point.
+pub fn scan(
+    make: &(dyn Fn() -> Result<Reduction> + Sync),
+    base: &SpectrumOptions,
+    vary: usize,
+    grid: &[Rat],
+    range: std::ops::Range<usize>,
+    check: bool,
+    progress: &(dyn Fn() + Sync),
+) -> Vec<ScanPoint> {
+    let idx: Vec<usize> = range.collect();
+    let threads = rayon::current_num_threads().max(1);
+    let chunk = idx.len().div_ceil(threads).max(1);
+    let chunks: Vec<&[usize]> = idx.chunks(chunk).collect();
+    let mut out: Vec<ScanPoint> = chunks
+        .par_iter()
+        .flat_map_iter(|c| {
+            let mut prev: Option<Vec<Complex64>> = None;
+            let mut res = Vec::new();
+            let red = match make() {
+                Ok(r) => r,
+                Err(e) => {
+                    return c
+                        .iter()
+                        .map(|&i| ScanPoint { index: i, value: grid[i].to_f64(), modes: Vec::new(), error: Some(e.message.clone()) })
+                        .collect::<Vec<_>>();
+                }
+            };
+            for &i in c.iter() {
+                let p = solve_point(&red, base, vary, &grid[i], i, prev.as_deref(), check);
+                if p.error.is_none() && p.modes.iter().all(|(m, _)| m.root.converged) {
+                    prev = Some(p.modes.iter().map(|(m, _)| m.root.omega).collect());
+                }
+                progress();
+                res.push(p);
+            }
+            res
+        })
+        .collect();
+    out.sort_by_key(|p| p.index);
+    out
+}
+
+fn solve_point(
+    red: &Reduction,
+    base: &SpectrumOptions,
+    vary: usize,
+    value: &Rat,
+    index: usize,
+    seeds: Option<&[Complex64]>,
+    check: bool,
+) -> ScanPoint {
+    let mut opts = base.clone();
+    opts.values[vary] = GRat::real(value.clone());
+    if let Some(s) = seeds {
+        opts.seeds = s.to_vec();
+    }
+    let run = || -> Result<Vec<(Mode, Option<Complex64>)>> {
+        let r = substitute(red, &opts.values, opts.freq)?;
+        let (_, setup) = qnm_recurrence(&r, &opts)?;
+        let est = super::spectrum::barrier_estimates(&r, &opts, setup.horizon_value).ok();
+        let first = |n: u32| est.as_ref().and_then(|e| e(n)).map(|(_, w)| (w, "third-order WKB".to_string()));
+        let (modes, setup) = qnm_modes(&r, &opts, &first)?;
+        let integ = if check { integration_check(&r, &opts, &setup).ok() } else { None };
+        Ok(modes
+            .into_iter()
+            .map(|m| {
+                let c = match (&integ, m.root.converged) {
+                    (Some(f), true) => {
+                        let c = f(m.root.omega * Complex64::new(1.0 + 1e-4, 1e-4));
+                        c.converged.then_some(c.omega)
+                    }
+                    _ => None,
+                };
+                (m, c)
+            })
+            .collect())
+    };
+    match run() {
+        Ok(modes) => ScanPoint { index, value: value.to_f64(), modes, error: None },
+        Err(e) => ScanPoint { index, value: value.to_f64(), modes: Vec::new(), error: Some(e.message) },
+    }
+}
+
+/// Writes an SVG plot: the modes in the complex plane, and Re ω and Im ω
+/// against the varied parameter, one series per method (continued fraction,
+/// direct integration).
+pub fn plot_svg(path: &std::path::Path, points: &[ScanPoint], param: &str, freq: &str) -> std::result::Result<(), String> {
+    use plotters::prelude::*;
+    let root = SVGBackend::new(path, (1200, 500)).into_drawing_area();
+    root.fill(&WHITE).map_err(|e| e.to_string())?;
+    let areas = root.split_evenly((1, 3));
+    let series = |f: &dyn Fn(&ScanPoint, &(Mode, Option<Complex64>)) -> Option<(f64, f64)>| -> Vec<(f64, f64)> {
+        points.iter().flat_map(|p| p.modes.iter().filter_map(move |m| f(p, m))).collect()
+    };
+    let cf_plane = series(&|_, (m, _)| m.root.converged.then_some((m.root.omega.re, m.root.omega.im)));
+    let int_plane = series(&|_, (_, c)| c.map(|c| (c.re, c.im)));
+    let cf_re = series(&|p, (m, _)| m.root.converged.then_some((p.value, m.root.omega.re)));
+    let int_re = series(&|p, (_, c)| c.map(|c| (p.value, c.re)));
+    let cf_im = series(&|p, (m, _)| m.root.converged.then_some((p.value, m.root.omega.im)));
+    let int_im = series(&|p, (_, c)| c.map(|c| (p.value, c.im)));
+    let range = |v: &[(f64, f64)], axis: usize| -> (f64, f64) {
+        let it = v.iter().map(|p| if axis == 0 { p.0 } else { p.1 });
+        let (lo, hi) = it.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| (a.min(x), b.max(x)));
+        if !lo.is_finite() {
+            return (0.0, 1.0);
+        }
+        let pad = ((hi - lo) * 0.08).max(1e-6);
+        (lo - pad, hi + pad)
+    };
+    let panels: [(&str, &str, &str, &Vec<(f64, f64)>, &Vec<(f64, f64)>); 3] = [
+        ("modes in the complex plane", "Re ω", "Im ω", &cf_plane, &int_plane),
+        ("Re ω", param, "Re ω", &cf_re, &int_re),
+        ("Im ω", param, "Im ω", &cf_im, &int_im),
+    ];
+    for (area, (title, xl, yl, cf, int)) in areas.iter().zip(panels) {
+        let (x0, x1) = range(cf, 0);
+        let (y0, y1) = range(cf, 1);
+        let mut chart = ChartBuilder::on(area)
+            .caption(format!("{title} ({freq})"), ("sans-serif", 18))
+            .margin(12)
+            .x_label_area_size(36)
+            .y_label_area_size(56)
+            .build_cartesian_2d(x0..x1, y0..y1)
+            .map_err(|e| e.to_string())?;
+        chart.configure_mesh().x_desc(xl).y_desc(yl).draw().map_err(|e| e.to_string())?;
+        chart
+            .draw_series(cf.iter().map(|p| Circle::new(*p, 4, BLUE.filled())))
+            .map_err(|e| e.to_string())?
+            .label("continued fraction")
+            .legend(|(x, y)| Circle::new((x, y), 4, BLUE.filled()));
+        chart
+            .draw_series(int.iter().map(|p| Cross::new(*p, 5, RED.stroke_width(1))))
+            .map_err(|e| e.to_string())?
+            .label("direct integration")
+            .legend(|(x, y)| Cross::new((x, y), 5, RED.stroke_width(1)));
+        chart.configure_series_labels().background_style(WHITE.mix(0.8)).border_style(BLACK).draw().map_err(|e| e.to_string())?;
+    }
+    root.present().map_err(|e| e.to_string())
+}
