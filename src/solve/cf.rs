@@ -50,30 +50,7 @@ pub fn try_numeric(rec: &Recurrence, values: &[GRat], freq: usize) -> Result<Num
         if !c.den_factors().is_empty() {
             return Err(Error::new(ErrorKind::Internal, "a recurrence coefficient is not a polynomial"));
         }
-        let scale = c.scale().to_f64();
-        let mut p = NPoly::default();
-        for (m, coeff) in c.num().terms() {
-            let mut v = Complex64::new(coeff.re.to_f64(), coeff.im.to_f64()) / scale;
-            for (i, x) in values.iter().enumerate() {
-                if i == 0 || i == freq {
-                    continue;
-                }
-                let e = m.exp(i);
-                if e > 0 {
-                    let (re, im) = x.to_f64();
-                    v *= Complex64::new(re, im).powu(e);
-                }
-            }
-            let (a, b) = (m.exp(0) as usize, m.exp(freq) as usize);
-            if p.c.len() <= a {
-                p.c.resize(a + 1, Vec::new());
-            }
-            if p.c[a].len() <= b {
-                p.c[a].resize(b + 1, Complex64::new(0.0, 0.0));
-            }
-            p.c[a][b] += v;
-        }
-        terms.push(p);
+        terms.push(super::try_npoly(c.num(), c.scale().to_f64(), values, freq));
     }
     Ok(NumRecurrence { terms })
 }
