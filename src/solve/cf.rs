@@ -361,40 +361,6 @@ fn cf_function_reduced(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize
     Some(if bk.norm() > 0.0 { f / bk } else { f })
 }
 
-/// Muller's method on `f` from a seed; returns (root, iterations, converged).
-fn muller(f: &dyn Fn(Complex64) -> Option<Complex64>, seed: Complex64, spread: f64, tol: f64, max_iter: usize) -> (Complex64, usize, bool) {
-    let h = Complex64::new(spread, 0.0) * seed.norm().max(1e-3);
-    let mut x = [seed - h, seed + h, seed];
-    let mut y = [Complex64::new(0.0, 0.0); 3];
-    for i in 0..3 {
-        match f(x[i]) {
-            Some(v) => y[i] = v,
-            None => return (seed, 0, false),
-        }
-    }
-    for it in 1..=max_iter {
-        let (h1, h2) = (x[1] - x[0], x[2] - x[1]);
-        let (d1, d2) = ((y[1] - y[0]) / h1, (y[2] - y[1]) / h2);
-        let a = (d2 - d1) / (h2 + h1);
-        let b = a * h2 + d2;
-        let c = y[2];
-        let disc = (b * b - 4.0 * a * c).sqrt();
-        let den = if (b + disc).norm() > (b - disc).norm() { b + disc } else { b - disc };
-        let dx = if den.norm() == 0.0 { Complex64::new(1e-6, 0.0) } else { -2.0 * c / den };
-        let xn = x[2] + dx;
-        let Some(yn) = f(xn) else { return (x[2], it, false) };
-        x = [x[1], x[2], xn];
-        y = [y[1], y[2], yn];
-        if dx.norm() <= tol * xn.norm().max(1e-300) {
-            return (xn, it, true);
-        }
-        if !xn.re.is_finite() || !xn.im.is_finite() {
-            return (xn, it, false);
-        }
-    }
-    (x[2], max_iter, false)
-}
-
 /// Finds the root of the k-th inversion near `seed`, doubling the depth
 /// from `depth0` until the root changes by less than `tol` (relative), up to
 /// `max_depth`.
@@ -420,8 +386,9 @@ pub fn find_root(rec: &NumRecurrence, k: usize, seed: Complex64, tol: f64, depth
     // ones, at doubled depth, from a spread of the size of the last change.
     let mut spread = 1e-3;
     loop {
-        let f = |x: Complex64| cf_function(rec, x, k, depth);
-        let (root, iters, ok) = muller(&f, w, spread, inner_tol, 200);
+        let f = |x: Complex64| cf_function(rec, x, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string());
+        let (root, iters, stop) = super::roots::muller(&f, w, spread, inner_tol, 200);
+        let ok = stop.is_ok();
         if !ok {
             let mut r = fail(StopReason::RootIterations);
             r.omega = root;

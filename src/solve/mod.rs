@@ -8,6 +8,7 @@ pub mod collocation;
 pub mod wkb;
 
 pub mod integrate;
+pub mod roots;
 pub mod scan;
 pub mod spectrum;
 

@@ -1,0 +1,70 @@
+//! Complex root finding shared by the numerical methods: Muller's method
+//! (D. E. Muller, Math. Tables Aids Comput. 10 (1956) 208) with a step cap
+//! and step halving where the function cannot be evaluated, reporting why it
+//! stopped.
+
+use num_complex::Complex64;
+
+const ZERO: Complex64 = Complex64::new(0.0, 0.0);
+
+fn finite(z: Complex64) -> bool {
+    z.re.is_finite() && z.im.is_finite()
+}
+
+/// Muller's method from `seed` (start points ± `spread`·|seed|) to relative
+/// tolerance `tol`; returns the last iterate, the iterations used, and Ok or
+/// the reason it stopped.
+pub fn muller(
+    f: &dyn Fn(Complex64) -> Result<Complex64, String>,
+    seed: Complex64,
+    spread: f64,
+    tol: f64,
+    max_iter: usize,
+) -> (Complex64, usize, Result<(), String>) {
+    let h = Complex64::new(spread * seed.norm().max(1e-3), 0.0);
+    let mut x = [seed - h, seed + h, seed];
+    let mut y = [ZERO; 3];
+    for i in 0..3 {
+        match f(x[i]) {
+            Ok(v) => y[i] = v,
+            Err(e) => return (seed, 0, Err(format!("the function cannot be evaluated at the start point {}: {e}", x[i]))),
+        }
+    }
+    for it in 1..=max_iter {
+        let (h1, h2) = (x[1] - x[0], x[2] - x[1]);
+        let (d1, d2) = ((y[1] - y[0]) / h1, (y[2] - y[1]) / h2);
+        let a = (d2 - d1) / (h2 + h1);
+        let b = a * h2 + d2;
+        let c = y[2];
+        let disc = (b * b - 4.0 * a * c).sqrt();
+        let den = if (b + disc).norm() > (b - disc).norm() { b + disc } else { b - disc };
+        let mut dx = if den.norm() == 0.0 { h * 1e-3 } else { -2.0 * c / den };
+        if !finite(dx) {
+            return (x[2], it, Err("the Muller step is not finite (the function is locally flat)".into()));
+        }
+        let cap = 0.5 * x[2].norm().max(1e-3);
+        if dx.norm() > cap {
+            dx *= cap / dx.norm();
+        }
+        let mut tries = 0;
+        let (xn, yn) = loop {
+            let xn = x[2] + dx;
+            match f(xn) {
+                Ok(v) => break (xn, v),
+                Err(e) => {
+                    tries += 1;
+                    if tries > 8 {
+                        return (x[2], it, Err(format!("the function cannot be evaluated near {xn}: {e}")));
+                    }
+                    dx *= 0.5;
+                }
+            }
+        };
+        x = [x[1], x[2], xn];
+        y = [y[1], y[2], yn];
+        if dx.norm() <= tol * xn.norm() || yn == ZERO {
+            return (xn, it, Ok(()));
+        }
+    }
+    (x[2], max_iter, Err(format!("no convergence within {max_iter} Muller iterations")))
+}
