@@ -261,3 +261,19 @@ fn scan_with_shards_and_plot() {
     };
     assert_eq!([csv("1/2"), csv("2/2")].concat(), vec!["0", "0.3", "0.6", "0.9"]);
 }
+
+#[test]
+fn demo_background_reduces_to_schwarzschild_and_agrees_by_two_methods() {
+    // The invented demo at h = 0 is Schwarzschild: the l = 2 scalar mode
+    // 0.48364387 − 0.09675878i (Leaver 1985); at h > 0 (invented, no
+    // published value) the continued fraction and direct integration agree.
+    let ms = modes("demo_tamarind_halo", "M=1,h=0,l=2", "0", &[]);
+    let (re, im) = omega(&ms[0]);
+    assert!((re - 0.48364387).abs() <= 5.1e-9 && (im + 0.09675878).abs() <= 5.1e-9, "{re} {im}");
+    for h in ["0.3", "1"] {
+        let ms = modes("demo_tamarind_halo", &format!("M=1,h={h},l=2"), "0..1", &[]);
+        for m in &ms {
+            assert!(m["check"]["agreement"].as_f64().unwrap() < 1e-8, "h={h}: {m}");
+        }
+    }
+}

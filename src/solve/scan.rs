@@ -186,7 +186,13 @@ pub fn plot_svg(path: &std::path::Path, points: &[ScanPoint], param: &str, freq:
             .map_err(|e| e.to_string())?
             .label("direct integration")
             .legend(|(x, y)| Cross::new((x, y), 5, RED.stroke_width(1)));
-        chart.configure_series_labels().background_style(WHITE.mix(0.8)).border_style(BLACK).draw().map_err(|e| e.to_string())?;
+        chart
+            .configure_series_labels()
+            .position(SeriesLabelPosition::UpperRight)
+            .background_style(WHITE.mix(0.8))
+            .border_style(BLACK)
+            .draw()
+            .map_err(|e| e.to_string())?;
     }
     root.present().map_err(|e| e.to_string())
 }

@@ -121,7 +121,37 @@ pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate:
     // With an irregular point at infinity, Leaver's Möbius series; otherwise
     // a plain Frobenius series about the horizon carrying the chosen
     // exponents of the other regular points, whose termination is the mode condition.
-    let series = if inf_irregular { None } else { Some(format!("u={} - ({horizon})", red.var)) };
+    // With several other finite points, the Möbius pole z₂ is the one that
+    // keeps every other singular point outside |u| ≤ 1 (so that the series
+    // converges up to u = 1, i.e. infinity), the farthest outside possible.
+    let others: Vec<(crate::algebra::RatFunc, Complex64)> = an
+        .points
+        .iter()
+        .filter(|p| p.kind != Kind::Ordinary)
+        .filter_map(|p| match &p.place {
+            Place::Point { at, .. } if ratfunc_text(at, k.names(), Style::Text) != horizon => vals.ratfunc(at).map(|z| (at.clone(), z)),
+            _ => None,
+        })
+        .collect();
+    let zh = Complex64::new(horizon_value, 0.0);
+    let pole = if inf_irregular && others.len() >= 2 {
+        others
+            .iter()
+            .map(|(at, z2)| {
+                let worst = others.iter().filter(|(b, _)| b != at).map(|(_, p)| ((*p - *z2) / (*p - zh)).norm()).fold(0.0, f64::max);
+                (worst, at.clone())
+            })
+            .filter(|(w, _)| *w < 1.0)
+            .min_by(|a, b| a.0.partial_cmp(&b.0).unwrap_or(std::cmp::Ordering::Equal))
+            .map(|(_, at)| at)
+    } else {
+        None
+    };
+    let series = match (&pole, inf_irregular) {
+        (Some(z2), _) => Some(format!("u=({} - ({horizon}))/({} - ({}))", red.var, red.var, ratfunc_text(z2, k.names(), Style::Text))),
+        (None, true) => None,
+        (None, false) => Some(format!("u={} - ({horizon})", red.var)),
+    };
     let rec = crate::series::recurrence(red, &horizon, series.as_deref(), &choices, false)?;
     let setup = Setup {
         horizon: horizon.clone(),
