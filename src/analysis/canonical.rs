@@ -157,16 +157,6 @@ struct Prepared {
     choices: Vec<String>,
 }
 
-fn exponent_value(k: &Field, e: &Exponent) -> Option<RatFunc> {
-    let c = super::ext::Ext::as_base(&e.center)?;
-    if e.sign == 0 {
-        return Some(c);
-    }
-    let r = super::ext::Ext::as_base(e.root.as_ref()?)?;
-    let h = k.mul(&rat(e.sign as i64, 2), &r).ok()?;
-    k.add(&c, &h).ok()
-}
-
 impl<'a> Ctx<'a> {
     fn new_field(&self, identity: bool) -> Result<(Field, String)> {
         let mut names = self.k0.names().to_vec();
@@ -200,7 +190,7 @@ impl<'a> Ctx<'a> {
                 (Place::Roots(_), _) => return Ok(None),
                 (Place::Point { at, .. }, Kind::Regular) => {
                     let label = labels.iter().find(|(v, _)| v == at).map(|(_, s)| s.clone()).unwrap_or_else(|| rt(&k, at));
-                    let values: Vec<Option<RatFunc>> = sp.unknown_exponents.iter().map(|e| exponent_value(&k, e)).collect();
+                    let values: Vec<Option<RatFunc>> = sp.unknown_exponents.iter().map(|e| e.exact_value(&k)).collect();
                     let Some(pick) = self.pick(&label, &values) else { return Ok(None) };
                     let rho = values[pick].clone().expect("picked an exact exponent");
                     choices.push(format!(

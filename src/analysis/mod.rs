@@ -74,6 +74,22 @@ pub struct Exponent {
     pub radicand: UPoly,
 }
 
+impl Exponent {
+    /// c + (sign/2)·√R as a polynomial in θ, when the root is exact.
+    pub fn in_extension(&self, k: &Field) -> Result<Option<UPoly>> {
+        if self.sign == 0 {
+            return Ok(Some(self.center.clone()));
+        }
+        let Some(root) = &self.root else { return Ok(None) };
+        let half = RatFunc::rat(&Rat::new((self.sign as i64).into(), 2.into()).expect("nonzero"));
+        Ok(Some(self.center.add(k, &root.scale(k, &half)?)?))
+    }
+    /// The exponent as an element of the parameter field, when it is exact there.
+    pub fn exact_value(&self, k: &Field) -> Option<RatFunc> {
+        Ext::as_base(&self.in_extension(k).ok()??)
+    }
+}
+
 /// Whether a regular point with an integer exponent difference is apparent.
 #[derive(Clone, Debug)]
 pub enum Apparent {
@@ -261,11 +277,6 @@ fn expand_at_infinity(k: &Field, q: &RatFunc, n: usize) -> Result<(i64, Vec<RatF
 /// The coefficient p₁ of 1/z in p at infinity (after its polynomial part).
 pub fn p_at_infinity_pub(k: &Field, p: &RatFunc) -> Result<RatFunc> {
     p_at_infinity(k, p)
-}
-
-/// An element of the point's field free of θ, when it is one.
-pub fn ext_base(a: &UPoly) -> Option<RatFunc> {
-    Ext::as_base(a)
 }
 
 fn p_at_infinity(k: &Field, p: &RatFunc) -> Result<RatFunc> {

@@ -5,7 +5,7 @@ use super::values::{fmt_complex, parse_assignments, parse_complex};
 use super::{run_command, Failure, InputArgs};
 use crate::algebra::GRat;
 use crate::error::{Error, ErrorKind};
-use crate::solve::spectrum::{qnm_modes, SpectrumOptions};
+use crate::solve::spectrum::SpectrumOptions;
 use clap::{Args, ValueEnum};
 use num_complex::Complex64;
 
@@ -139,8 +139,7 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         return bound_states(a, &red, &fname, freq, point, overtones, src);
     }
     let opts = SpectrumOptions { freq, values: point, overtones, tol: a.tol, guess, seeds: Vec::new() };
-    let (rec_probe, setup0) = crate::solve::spectrum::qnm_recurrence(&red, &opts)?;
-    drop(rec_probe);
+    let (rec, setup0) = crate::solve::spectrum::qnm_recurrence(&red, &opts)?;
     let estimates = crate::solve::spectrum::barrier_estimates(&red, &opts, setup0.horizon_value).ok();
     if matches!(a.method, Method::Wkb | Method::Eikonal) {
         let Some(est) = &estimates else {
@@ -155,7 +154,7 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     let estimate = |n: u32| -> Option<(Complex64, String)> {
         estimates.as_ref().and_then(|e| e(n)).map(|(_, w3)| (w3, "third-order WKB (Iyer & Will 1987)".to_string()))
     };
-    let (mut modes, setup) = qnm_modes(&red, &opts, &estimate)?;
+    let (mut modes, setup) = crate::solve::spectrum::qnm_modes_from(&rec, setup0.clone(), &opts, &estimate)?;
     let wkb = |n: u32| estimates.as_ref().and_then(|e| e(n)).map(|(_, w3)| w3);
     // The independent check: direct integration, seeded 1e-4 away from the
     // continued-fraction root (or, with --method integrate, from the seed).

@@ -55,15 +55,6 @@ fn usage(msg: impl Into<String>) -> Error {
     Error::new(ErrorKind::Usage, msg)
 }
 
-fn exponent_value(k: &Field, e: &crate::analysis::Exponent) -> Option<RatFunc> {
-    let c = crate::analysis::ext_base(&e.center)?;
-    if e.sign == 0 {
-        return Some(c);
-    }
-    let r = crate::analysis::ext_base(e.root.as_ref()?)?;
-    k.add(&c, &k.mul(&rat(e.sign as i64, 2), &r).ok()?).ok()
-}
-
 /// The polynomial (in the variable) expanded denominator of `r`, and `r`
 /// times it as a dense polynomial in the variable.
 fn upoly_times(k: &Field, r: &RatFunc, d: &Poly) -> Result<UPoly> {
@@ -205,7 +196,7 @@ fn recurrence_mod(
             add_power(k, at, v, &mut l, &mut text, &mut total_power)?;
             continue;
         }
-        let values: Vec<Option<RatFunc>> = sp.unknown_exponents.iter().map(|e| exponent_value(k, e)).collect();
+        let values: Vec<Option<RatFunc>> = sp.unknown_exponents.iter().map(|e| e.exact_value(k)).collect();
         let Some(i) = pick(&label, &values) else {
             return Err(usage(format!(
                 "the exponents at {} = {label} are not exact; choose the point's exponent with --exponents or expand elsewhere",
@@ -247,7 +238,7 @@ fn recurrence_mod(
         inf_power = Some(rho);
     } else if inf.kind == Kind::Regular {
         // y ~ z^(−ρ∞) for the chosen exponent ρ∞ at infinity (in t = 1/z).
-        let values: Vec<Option<RatFunc>> = inf.unknown_exponents.iter().map(|e| exponent_value(k, e)).collect();
+        let values: Vec<Option<RatFunc>> = inf.unknown_exponents.iter().map(|e| e.exact_value(k)).collect();
         if let Some(i) = pick("∞", &values) {
             let rho = values[i].clone().expect("picked exact");
             said.push(format!("at {} = ∞: exponent {} in 1/{} (number {})", red.var, rt(k, &rho), red.var, i + 1));
@@ -462,7 +453,7 @@ pub fn recurrence_at_root(red: &Reduction, f: &Poly, rho: &UPoly, theta_name: &s
     let mut extra = Vec::new();
     for sp in &an0.points {
         if let Place::Point { at, .. } = &sp.place {
-            let values: Vec<Option<RatFunc>> = sp.unknown_exponents.iter().map(|e| exponent_value(k, e)).collect();
+            let values: Vec<Option<RatFunc>> = sp.unknown_exponents.iter().map(|e| e.exact_value(k)).collect();
             let pick = values.iter().position(|v| v.as_ref().is_some_and(RatFunc::is_zero)).or_else(|| values.iter().position(Option::is_some));
             if let Some(i) = pick {
                 let rho = values[i].clone().expect("picked exact");

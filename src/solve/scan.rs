@@ -4,7 +4,7 @@
 //! (continuation: the previous point's mode seeds the next). A grid can be
 //! split into shards for separate processes or cluster jobs.
 
-use super::spectrum::{integration_check, qnm_modes, qnm_recurrence, substitute, Mode, SpectrumOptions};
+use super::spectrum::{integration_check, qnm_modes_from, qnm_recurrence, substitute, Mode, SpectrumOptions};
 use crate::algebra::{GRat, Rat};
 use crate::error::Result;
 use crate::ode::Reduction;
@@ -109,10 +109,10 @@ fn solve_point(
     }
     let run = || -> Result<Vec<(Mode, Option<Complex64>)>> {
         let r = substitute(red, &opts.values, opts.freq)?;
-        let (_, setup) = qnm_recurrence(&r, &opts)?;
+        let (rec, setup) = qnm_recurrence(&r, &opts)?;
         let est = super::spectrum::barrier_estimates(&r, &opts, setup.horizon_value).ok();
         let first = |n: u32| est.as_ref().and_then(|e| e(n)).map(|(_, w)| (w, "third-order WKB".to_string()));
-        let (modes, setup) = qnm_modes(&r, &opts, &first)?;
+        let (modes, setup) = qnm_modes_from(&rec, setup, &opts, &first)?;
         let integ = if check { integration_check(&r, &opts, &setup).ok() } else { None };
         Ok(modes
             .into_iter()

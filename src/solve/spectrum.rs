@@ -181,11 +181,9 @@ fn root_recurrence(
     let k = &red.field;
     let j = picks.iter().find(|(l, _)| l == "θ").map(|(_, c)| c - 1).ok_or_else(|| usage("no ingoing exponent was found at the horizon"))?;
     let e = p.unknown_exponents.get(j).ok_or_else(|| usage("no exponent at the horizon"))?;
-    let Some(root) = &e.root else {
+    let Some(rho) = e.in_extension(k)? else {
         return Err(usage("the horizon exponents are not exact in the root's field: the series needs them"));
     };
-    let half = crate::algebra::RatFunc::rat(&Rat::new((e.sign as i64).into(), 2.into()).expect("nonzero"));
-    let rho = e.center.add(k, &root.scale(k, &half)?)?;
     let choices = Choices { picks: picks.iter().filter(|(l, _)| l != "θ").cloned().collect(), values: Vec::new() };
     let mut name = "θ".to_string();
     while k.names().contains(&name) {
@@ -229,6 +227,16 @@ pub fn exact_double(x: f64) -> GRat {
 /// Computes the quasinormal modes by the continued fraction.
 pub fn qnm_modes(red: &Reduction, opts: &SpectrumOptions, first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>) -> Result<(Vec<Mode>, Setup)> {
     let (rec, setup) = qnm_recurrence(red, opts)?;
+    qnm_modes_from(&rec, setup, opts, first_estimate)
+}
+
+/// [`qnm_modes`] on a recurrence already derived by [`qnm_recurrence`].
+pub fn qnm_modes_from(
+    rec: &crate::series::Recurrence,
+    setup: Setup,
+    opts: &SpectrumOptions,
+    first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
+) -> Result<(Vec<Mode>, Setup)> {
     if rec.coeffs.len() == 2 && setup.theta.is_none() {
         let num = try_numeric(&rec, &opts.values, opts.freq)?;
         let modes = (opts.overtones.0..=opts.overtones.1).map(|n| terminating_mode(&num, n)).collect();
@@ -384,15 +392,8 @@ pub fn integration_check<'a>(
                 .ok_or_else(|| usage("the horizon is not among the singular points"))?;
             let hi = find(&setup.horizon).ok_or_else(|| usage("no exponent was picked at the horizon"))?;
             let e = hp.unknown_exponents.get(hi).cloned().ok_or_else(|| usage("no exponent at the horizon"))?;
-            let center = crate::analysis::ext_base(&e.center).ok_or_else(|| usage("the horizon exponent is not in the parameter field"))?;
-            let rho_exact = match (&e.root, e.sign) {
-                (_, 0) => center,
-                (Some(r), sg) => {
-                    let r = crate::analysis::ext_base(r).ok_or_else(|| usage("the horizon exponent is not in the parameter field"))?;
-                    k.add(&center, &k.mul(&crate::algebra::RatFunc::rat(&Rat::new((sg as i64).into(), 2.into()).expect("nonzero")), &r)?)?
-                }
-                (None, _) => return Err(usage("the horizon exponent is not exact: the integration check needs it")),
-            };
+            let rho_exact =
+                e.exact_value(k).ok_or_else(|| usage("the horizon exponent is not exact in the parameter field: the integration check needs it"))?;
             (vec![rho_exact], 0.0)
         }
         Some((f, zr, j)) => {
@@ -402,9 +403,7 @@ pub fn integration_check<'a>(
                 .find(|p| matches!(&p.place, Place::Roots(g) if g == f))
                 .ok_or_else(|| usage("the horizon factor is not among the singular points"))?;
             let e = hp.unknown_exponents.get(*j).cloned().ok_or_else(|| usage("no exponent at the horizon"))?;
-            let root = e.root.clone().ok_or_else(|| usage("the horizon exponent is not exact"))?;
-            let half = crate::algebra::RatFunc::rat(&Rat::new((e.sign as i64).into(), 2.into()).expect("nonzero"));
-            let rho = e.center.add(k, &root.scale(k, &half)?)?;
+            let rho = e.in_extension(k)?.ok_or_else(|| usage("the horizon exponent is not exact"))?;
             (rho.coeffs, *zr)
         }
     };
