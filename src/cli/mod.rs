@@ -114,32 +114,39 @@ impl InputArgs {
         if let Some(eq) = &self.equation {
             return Ok(Source { name: "<equation>".into(), text: eq.clone(), inline_var: Some(self.var.clone()) });
         }
-        let file = self.file.clone().unwrap_or_else(|| "-".into());
-        let limit = crate::syntax::ParseLimits::default().max_bytes as u64;
-        let mut bytes = Vec::new();
-        let res = if file == "-" {
-            std::io::stdin().take(limit + 1).read_to_end(&mut bytes)
-        } else {
-            std::fs::File::open(&file).and_then(|f| f.take(limit + 1).read_to_end(&mut bytes))
-        };
-        if let Err(e) = res {
-            return Err(Failure::Plain(format!("{file}: error: cannot read the file: {e}"), 2));
-        }
-        let name = if file == "-" { "<stdin>".to_string() } else { file };
-        if bytes.len() as u64 > limit {
-            return Err(Failure::Plain(format!("{name}: error: the input is larger than the limit of {limit} bytes"), 2));
-        }
-        match String::from_utf8(bytes) {
-            Ok(text) => Ok(Source { name, text, inline_var: None }),
-            Err(e) => {
-                let at = e.utf8_error().valid_up_to();
-                let text = String::from_utf8_lossy(e.as_bytes()).into_owned();
-                let err = Error::new(ErrorKind::Syntax, "the input is not valid UTF-8").at(crate::syntax::Span::new(at, at + 1));
-                Err(Failure::Plain(diagnostic::render(&err, &name, &text).trim_end().to_string(), 2))
-            }
+        read_source(&self.file.clone().unwrap_or_else(|| "-".into()))
+    }
+}
+
+/// Reads an input file ('-' for standard input): size-limited, UTF-8 checked.
+pub(crate) fn read_source(file: &str) -> Result<Source, Failure> {
+    let file = file.to_string();
+    let limit = crate::syntax::ParseLimits::default().max_bytes as u64;
+    let mut bytes = Vec::new();
+    let res = if file == "-" {
+        std::io::stdin().take(limit + 1).read_to_end(&mut bytes)
+    } else {
+        std::fs::File::open(&file).and_then(|f| f.take(limit + 1).read_to_end(&mut bytes))
+    };
+    if let Err(e) = res {
+        return Err(Failure::Plain(format!("{file}: error: cannot read the file: {e}"), 2));
+    }
+    let name = if file == "-" { "<stdin>".to_string() } else { file };
+    if bytes.len() as u64 > limit {
+        return Err(Failure::Plain(format!("{name}: error: the input is larger than the limit of {limit} bytes"), 2));
+    }
+    match String::from_utf8(bytes) {
+        Ok(text) => Ok(Source { name, text, inline_var: None }),
+        Err(e) => {
+            let at = e.utf8_error().valid_up_to();
+            let text = String::from_utf8_lossy(e.as_bytes()).into_owned();
+            let err = Error::new(ErrorKind::Syntax, "the input is not valid UTF-8").at(crate::syntax::Span::new(at, at + 1));
+            Err(Failure::Plain(diagnostic::render(&err, &name, &text).trim_end().to_string(), 2))
         }
     }
+}
 
+impl InputArgs {
     pub(crate) fn options(&self) -> ReduceOptions {
         ReduceOptions {
             subst: self.subst.clone(),

@@ -61,6 +61,18 @@ pub(crate) struct SpectrumArgs {
     /// Output format.
     #[arg(long = "format", value_enum, default_value = "text")]
     format: SpecFormat,
+    /// An angular equation sharing the separation constant (e.g. the spin-weighted spheroidal equation for Kerr).
+    #[arg(long = "couple", value_name = "ANGULAR_FILE")]
+    couple: Option<String>,
+    /// A link between the equations, 'NAME = EXPR' (repeatable), e.g. 'lam = A + c^2 - 2*a*m*omega' and 'c = a*omega'.
+    #[arg(long = "link", value_name = "NAME = EXPR", requires = "couple")]
+    link: Vec<String>,
+    /// Which angular eigenvalue: 0 is the lowest (for the spin-weighted spheroidal equation l − max(|m|, |s|)).
+    #[arg(long = "angular-index", value_name = "J", default_value_t = 0, requires = "couple")]
+    angular_index: usize,
+    /// A first value of the angular eigenvalue (default: from the terminating series where the linked parameters vanish).
+    #[arg(long = "angular-guess", value_name = "VALUE", allow_hyphen_values = true, requires = "couple")]
+    angular_guess: Option<String>,
 }
 
 fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
@@ -70,6 +82,9 @@ fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
 pub(crate) fn run(a: &SpectrumArgs) -> u8 {
     let mut extra = vec![("--at".to_string(), a.at.clone()), ("--overtones".to_string(), a.overtones.clone())];
     extra.extend(a.guess.iter().map(|g| ("--guess".to_string(), g.clone())));
+    extra.extend(a.angular_guess.iter().map(|g| ("--angular-guess".to_string(), g.clone())));
+    // A failing link is reported against its own text.
+    extra.extend(a.link.iter().enumerate().map(|(i, l)| (link_option(i), l.clone())));
     run_command(&a.input, &extra, |src| compute(a, src))
 }
 
@@ -103,7 +118,33 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     let mut given = vec![false; names.len()];
     given[0] = true;
     given[freq] = true;
+    let angular = match &a.couple {
+        Some(path) => Some(read_angular(path)?),
+        None => None,
+    };
+    let links = match &angular {
+        Some((_, ared)) => parse_links(a, k, &ared.field)?,
+        None => Vec::new(),
+    };
+    for l in links.iter().filter(|l| !l.angular) {
+        if let Some(i) = names.iter().position(|x| *x == l.target) {
+            if i == freq {
+                return Err(Error::new(ErrorKind::Usage, format!("'{}' is the frequency being solved for: it cannot be linked", l.target)).into());
+            }
+            given[i] = true;
+        }
+    }
     for (n, v, span) in &values {
+        let in_angular = angular.as_ref().is_some_and(|(_, ared)| ared.field.names()[1..].contains(n));
+        if in_angular && !names[1..].contains(n) {
+            continue;
+        }
+        if links.iter().any(|l| l.target == *n) {
+            return Err(Error::new(ErrorKind::Usage, format!("'{n}' is set by a --link; it cannot also have a value"))
+                .at(*span)
+                .in_option("--at")
+                .into());
+        }
         match names.iter().skip(1).position(|x| x == n) {
             Some(i) if i + 1 == freq => {
                 return Err(Error::new(ErrorKind::Usage, format!("'{n}' is the frequency being solved for; give a seed with --guess instead"))
@@ -133,6 +174,10 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         let (re, im) = g.to_f64();
         Complex64::new(re, im)
     });
+    if let Some((asrc, ared)) = &angular {
+        let opts = SpectrumOptions { freq, values: point.clone(), overtones, tol: a.tol, guess, seeds: Vec::new() };
+        return coupled(a, src, &red, opts, &fname, &values, &links, asrc, ared);
+    }
     // Exact values for every other parameter: horizons often become rational points.
     let red = crate::solve::spectrum::substitute(&red, &point, freq)?;
     if a.boundary == super::classify::BoundaryArg::Bound {
@@ -188,13 +233,30 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
             checks.push(None);
         }
     }
+    Ok(render(a, &fname, src, &red.var, &setup, &modes, &checks, &wkb, &[]))
+}
+
+/// The report of quasinormal modes in the chosen format; `coupled` holds
+/// the angular evidence of each mode of a coupled solve (empty otherwise).
+#[allow(clippy::too_many_arguments)]
+fn render(
+    a: &SpectrumArgs,
+    fname: &str,
+    src: &super::Source,
+    var: &str,
+    setup: &crate::solve::spectrum::Setup,
+    modes: &[crate::solve::spectrum::Mode],
+    checks: &[Option<crate::solve::integrate::IntRoot>],
+    wkb: &dyn Fn(u32) -> Option<Complex64>,
+    coupled: &[Option<crate::solve::coupled::CoupledValue>],
+) -> String {
     let check = |i: usize| checks.get(i).and_then(|c| c.as_ref());
     let method = if modes.iter().any(|m| m.method == "terminating") {
         "exact termination of the series (the recurrence has two terms)"
     } else {
         "continued fraction (Leaver 1985; tail after Nollert 1993)"
     };
-    Ok(match a.format {
+    match a.format {
         SpecFormat::Json => {
             let ms: Vec<serde_json::Value> = modes
                 .iter()
@@ -230,6 +292,16 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
                             Some(w) => serde_json::json!({"method": "wkb3", "omega": [w.re, w.im]}),
                             None => serde_json::Value::Null,
                         },
+                        "coupled": match coupled.get(i).and_then(|c| c.as_ref()) {
+                            Some(c) => serde_json::json!({
+                                "eigenvalue": c.eigen_name,
+                                "value": [c.root.omega.re, c.root.omega.im],
+                                "depth": c.root.depth,
+                                "change_on_doubling": c.root.depth_change,
+                                "links": c.links.iter().map(|(n, v)| (n.clone(), serde_json::json!([v.re, v.im]))).collect::<serde_json::Map<_, _>>(),
+                            }),
+                            None => serde_json::Value::Null,
+                        },
                     })
                 })
                 .collect();
@@ -247,7 +319,7 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         }
         SpecFormat::Csv => {
             let mut o = String::from("n,re,im,converged,method,depth,change_on_doubling,residual\n");
-            for m in &modes {
+            for m in modes {
                 let r = &m.root;
                 if r.converged {
                     o.push_str(&format!(
@@ -263,7 +335,7 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         SpecFormat::Text => {
             let mut o = String::new();
             o.push_str(&format!("quasinormal modes of {} ({fname}), time dependence e^(-i*{fname}*t)\n", src.name));
-            o.push_str(&format!("  series about {} = {}: {}\n", red.var, setup.horizon, setup.ansatz));
+            o.push_str(&format!("  series about {} = {}: {}\n", var, setup.horizon, setup.ansatz));
             for c in &setup.choices {
                 o.push_str(&format!("  choice: {c}\n"));
             }
@@ -306,13 +378,24 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
                     Some(c) => o.push_str(&format!("     check: direct integration did not converge: {}\n", c.reason)),
                     None => {}
                 }
+                if let Some(c) = coupled.get(i).and_then(|c| c.as_ref()) {
+                    let links: Vec<String> = c.links.iter().map(|(n, v)| format!("{n} = {}", fmt_complex(v.re, v.im))).collect();
+                    o.push_str(&format!(
+                        "     angular: {} = {} (continued fraction, depth {}, change on doubling {:.1e}); {}\n",
+                        c.eigen_name,
+                        fmt_complex(c.root.omega.re, c.root.omega.im),
+                        c.root.depth,
+                        c.root.depth_change,
+                        links.join(", ")
+                    ));
+                }
                 if let (true, Some(w)) = (r.converged, wkb(m.n)) {
                     o.push_str(&format!("     estimate: third-order WKB {}\n", fmt_complex(w.re, w.im)));
                 }
             }
             o
         }
-    })
+    }
 }
 
 impl SpectrumArgs {
@@ -502,5 +585,168 @@ fn bound_states(
             }
             o
         }
+    })
+}
+
+/// The option name a link's errors are rendered against.
+fn link_option(i: usize) -> String {
+    if i == 0 {
+        "--link".to_string()
+    } else {
+        format!("--link #{}", i + 1)
+    }
+}
+
+/// Reads and reduces the angular equation of `--couple`; its errors are
+/// rendered against its own text.
+fn read_angular(path: &str) -> Result<(super::Source, crate::ode::Reduction), Failure> {
+    let src = super::read_source(path)?;
+    match crate::ode::reduce(&src.input(), &crate::ode::ReduceOptions::default()) {
+        Ok(r) => Ok((src, r)),
+        Err(e) => {
+            let (msg, code) = super::report(&Failure::Lib(e), Some(&src), None, &[]);
+            Err(Failure::Plain(msg, code))
+        }
+    }
+}
+
+/// Parses every `--link` over the joint names of the two equations.
+fn parse_links(
+    a: &SpectrumArgs,
+    radial: &crate::algebra::Field,
+    angular: &crate::algebra::Field,
+) -> Result<Vec<crate::solve::coupled::Link>, Failure> {
+    if a.link.is_empty() {
+        return Err(Error::new(ErrorKind::Usage, "--couple needs at least one --link tying the separation constant to the angular eigenvalue").into());
+    }
+    let names = crate::solve::coupled::joint_names(radial, angular);
+    let joint = crate::algebra::Field::new(names, radial.limits().clone())?;
+    let mut out: Vec<crate::solve::coupled::Link> = Vec::new();
+    for (i, text) in a.link.iter().enumerate() {
+        let l = crate::solve::coupled::try_link(text, &joint, radial, angular).map_err(|e| e.in_option(&link_option(i)))?;
+        if out.iter().any(|o| o.target == l.target) {
+            return Err(Error::new(ErrorKind::Usage, format!("'{}' is linked twice", l.target)).in_option(&link_option(i)).into());
+        }
+        out.push(l);
+    }
+    Ok(out)
+}
+
+/// Quasinormal modes of a radial equation coupled to an angular one.
+#[allow(clippy::too_many_arguments)]
+fn coupled(
+    a: &SpectrumArgs,
+    src: &super::Source,
+    red: &crate::ode::Reduction,
+    mut opts: SpectrumOptions,
+    fname: &str,
+    values: &[(String, GRat, crate::syntax::Span)],
+    links: &[crate::solve::coupled::Link],
+    asrc: &super::Source,
+    ared: &crate::ode::Reduction,
+) -> Result<String, Failure> {
+    use crate::solve::coupled::{try_angular, Coupling};
+    if !matches!(a.method, Method::Auto | Method::Cf) {
+        return Err(Error::new(
+            ErrorKind::Usage,
+            "a coupled solve uses the continued fraction (--method auto or cf); direct integration runs as its check",
+        )
+        .in_option("--method")
+        .into());
+    }
+    let k = &red.field;
+    let names = crate::solve::coupled::joint_names(k, &ared.field);
+    // Fixed joint values: --at for both equations.
+    let mut fixed: Vec<Option<Complex64>> = vec![None; names.len()];
+    for (n, v, _) in values {
+        if let Some(i) = names.iter().position(|x| x == n) {
+            let (re, im) = v.to_f64();
+            fixed[i] = Some(Complex64::new(re, im));
+        }
+    }
+    // The angular side: known values, linked parameters, the eigenvalue.
+    let an = ared.field.names();
+    let known: Vec<Option<GRat>> = an.iter().map(|n| values.iter().find(|(x, _, _)| x == n).map(|(_, v, _)| v.clone())).collect();
+    let linked: Vec<usize> = (1..an.len()).filter(|i| links.iter().any(|l| l.angular && l.target == an[*i])).collect();
+    let joint_of: Vec<usize> = an.iter().map(|n| names.iter().position(|x| x == n).unwrap_or(0)).collect();
+    let mut angular = try_angular(ared, &known, &linked, a.angular_index, joint_of).map_err(|e| {
+        let (msg, code) = super::report(&Failure::Lib(e), Some(asrc), None, &[]);
+        Failure::Plain(msg, code)
+    })?;
+    if let Some(g) = &a.angular_guess {
+        let v = parse_complex(g).ok_or_else(|| usage(format!("'{g}' is not a complex number"), "--angular-guess", g.len()))?;
+        let (re, im) = v.to_f64();
+        angular.seed = Some((Complex64::new(re, im), "--angular-guess".into()));
+    }
+    if fixed.iter().enumerate().any(|(i, v)| v.is_none() && names[i] == angular.eigen_name) {
+        // The eigenvalue is solved for, never fixed; nothing to do.
+    }
+    let radial_links: Vec<usize> = links.iter().filter(|l| !l.angular).filter_map(|l| k.names().iter().position(|x| *x == l.target)).collect();
+    if radial_links.is_empty() {
+        return Err(Error::new(ErrorKind::Usage, "no --link sets a parameter of the radial equation: the separation constant must be linked").into());
+    }
+    let mut keep = radial_links.clone();
+    keep.push(opts.freq);
+    let red = crate::solve::spectrum::substitute_keeping(red, &opts.values, &keep)?;
+    let coupling = Coupling { names, links: links.to_vec(), angular, fixed, freq: opts.freq };
+    let (rec, setup) = crate::solve::spectrum::qnm_recurrence(&red, &opts)?;
+    let none = |_: u32| None;
+    let pairs = crate::solve::coupled::coupled_modes(&coupling, &rec, &setup, &opts, &red.field, &none)?;
+    let (modes, evidence): (Vec<_>, Vec<_>) = pairs.into_iter().unzip();
+    // The check: direct integration of the radial equation with the
+    // separation constant fixed at its linked value at the mode.
+    let mut checks = Vec::new();
+    for (m, e) in modes.iter().zip(&evidence) {
+        let Some(e) = e.as_ref().filter(|_| m.root.converged) else {
+            checks.push(None);
+            continue;
+        };
+        for (n, v) in &e.links {
+            if let Some(i) = k.names().iter().position(|x| x == n) {
+                opts.values[i] = GRat { re: crate::solve::spectrum::exact_double(v.re).re, im: crate::solve::spectrum::exact_double(v.im).re };
+            }
+        }
+        let check = crate::solve::spectrum::integration_check(&red, &opts, &setup).ok().map(|f| f(m.root.omega * Complex64::new(1.0 + 1e-4, 1e-4)));
+        checks.push(check);
+    }
+    let nowkb = |_: u32| None;
+    let text = render(a, fname, src, &red.var, &setup, &modes, &checks, &nowkb, &evidence);
+    let ang = &coupling.angular;
+    let link_text: Vec<String> = a.link.iter().map(|l| l.trim().to_string()).collect();
+    let about = format!(
+        "angular eigenvalue {} of {} on ({}, {}): continued fraction about {}, inversion {} (eigenvalue number {} from the lowest), links: {}",
+        ang.eigen_name,
+        asrc.name,
+        ang.ends.0,
+        ang.ends.1,
+        ang.ends.0,
+        ang.index,
+        ang.index,
+        link_text.join("; ")
+    );
+    Ok(match a.format {
+        SpecFormat::Text => {
+            let (first, rest) = text.split_once('\n').unwrap_or((&text, ""));
+            let mut o = format!("{first}\n  coupled: {about}\n");
+            for c in &ang.choices {
+                o.push_str(&format!("  angular choice: {c}\n"));
+            }
+            if let Some((_, from)) = &ang.seed {
+                o.push_str(&format!("  angular seed: {from}\n"));
+            }
+            o.push_str(rest);
+            o
+        }
+        SpecFormat::Json => match serde_json::from_str::<serde_json::Value>(&text) {
+            Ok(serde_json::Value::Object(mut m)) => {
+                m.insert(
+                    "coupling".into(),
+                    serde_json::json!({"angular": asrc.name, "eigenvalue": ang.eigen_name, "index": ang.index, "about": ang.ends.0, "choices": ang.choices, "links": link_text}),
+                );
+                format!("{}\n", serde_json::to_string_pretty(&serde_json::Value::Object(m)).unwrap_or_default())
+            }
+            _ => text,
+        },
+        SpecFormat::Csv => text,
     })
 }

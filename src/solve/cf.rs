@@ -45,12 +45,24 @@ pub struct NumRecurrence {
 /// (field index `freq`) in an exact recurrence. `values` is indexed like the
 /// recurrence's field (entry 0, n, and entry `freq` are ignored).
 pub fn try_numeric(rec: &Recurrence, values: &[GRat], freq: usize) -> Result<NumRecurrence> {
+    let vals: Vec<Complex64> = values
+        .iter()
+        .map(|x| {
+            let (re, im) = x.to_f64();
+            Complex64::new(re, im)
+        })
+        .collect();
+    try_numeric_at(rec, &vals, freq)
+}
+
+/// [`try_numeric`] with the other parameters at complex double values.
+pub fn try_numeric_at(rec: &Recurrence, values: &[Complex64], freq: usize) -> Result<NumRecurrence> {
     let mut terms = Vec::new();
     for c in &rec.coeffs {
         if !c.den_factors().is_empty() {
             return Err(Error::new(ErrorKind::Internal, "a recurrence coefficient is not a polynomial"));
         }
-        terms.push(super::try_npoly(c.num(), c.scale().to_f64(), values, freq));
+        terms.push(super::npoly_at(c.num(), c.scale().to_f64(), values, freq));
     }
     Ok(NumRecurrence { terms })
 }
@@ -365,6 +377,40 @@ fn cf_function_reduced(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize
 /// from `depth0` until the root changes by less than `tol` (relative), up to
 /// `max_depth`.
 pub fn find_root(rec: &NumRecurrence, k: usize, seed: Complex64, tol: f64, depth0: usize, max_depth: usize) -> CfRoot {
+    if rec.terms.len() < 3 {
+        return CfRoot {
+            omega: seed,
+            converged: false,
+            depth: 0,
+            depth_change: f64::NAN,
+            residual: f64::NAN,
+            iterations: 0,
+            stop: StopReason::NotThreeTerm,
+            inversion: k,
+        };
+    }
+    find_root_by(
+        &|w, depth| cf_function(rec, w, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string()),
+        k,
+        seed,
+        tol,
+        depth0,
+        max_depth,
+    )
+}
+
+/// [`find_root`] on any function of (ω, truncation depth): the k-th
+/// inversion of a continued fraction whose coefficients themselves depend on
+/// ω through another solve (coupled equations). An `Err` names why the
+/// function could not be evaluated.
+pub fn find_root_by(
+    f_at: &dyn Fn(Complex64, usize) -> std::result::Result<Complex64, String>,
+    k: usize,
+    seed: Complex64,
+    tol: f64,
+    depth0: usize,
+    max_depth: usize,
+) -> CfRoot {
     let fail = |stop: StopReason| CfRoot {
         omega: seed,
         converged: false,
@@ -375,9 +421,6 @@ pub fn find_root(rec: &NumRecurrence, k: usize, seed: Complex64, tol: f64, depth
         stop,
         inversion: k,
     };
-    if rec.terms.len() < 3 {
-        return fail(StopReason::NotThreeTerm);
-    }
     let mut depth = depth0.max(k + 10);
     let mut w = seed;
     let mut prev: Option<Complex64> = None;
@@ -386,11 +429,10 @@ pub fn find_root(rec: &NumRecurrence, k: usize, seed: Complex64, tol: f64, depth
     // ones, at doubled depth, from a spread of the size of the last change.
     let mut spread = 1e-3;
     loop {
-        let f = |x: Complex64| cf_function(rec, x, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string());
+        let f = |x: Complex64| f_at(x, depth);
         let (root, iters, stop) = super::roots::muller(&f, w, spread, inner_tol, 200);
-        let ok = stop.is_ok();
-        if !ok {
-            let mut r = fail(StopReason::RootIterations);
+        if let Err(why) = stop {
+            let mut r = fail(if why.starts_with("no convergence") { StopReason::RootIterations } else { StopReason::Rejected(why) });
             r.omega = root;
             r.depth = depth;
             r.iterations = iters;
@@ -399,7 +441,7 @@ pub fn find_root(rec: &NumRecurrence, k: usize, seed: Complex64, tol: f64, depth
         if let Some(p) = prev {
             let change = (root - p).norm();
             if change <= tol * root.norm() {
-                let res = cf_function(rec, root, k, depth).map(|v| v.norm()).unwrap_or(f64::NAN);
+                let res = f_at(root, depth).map(|v| v.norm()).unwrap_or(f64::NAN);
                 return CfRoot {
                     omega: root,
                     converged: true,

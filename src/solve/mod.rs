@@ -5,6 +5,7 @@
 
 pub mod cf;
 pub mod collocation;
+pub mod coupled;
 pub mod wkb;
 
 pub mod integrate;
@@ -43,6 +44,19 @@ impl NPoly {
 /// A polynomial (in all variables, coefficients in Q(i)) as an [`NPoly`] in
 /// (variable 0, variable `freq`) with the other variables at `values`.
 pub fn try_npoly(p: &Poly, scale: f64, values: &[GRat], freq: usize) -> NPoly {
+    let vals: Vec<num_complex::Complex64> = values
+        .iter()
+        .map(|x| {
+            let (re, im) = x.to_f64();
+            num_complex::Complex64::new(re, im)
+        })
+        .collect();
+    npoly_at(p, scale, &vals, freq)
+}
+
+/// [`try_npoly`] with the other variables at complex double values (as a
+/// coupled solve needs, where a separation constant is known only numerically).
+pub fn npoly_at(p: &Poly, scale: f64, values: &[num_complex::Complex64], freq: usize) -> NPoly {
     use num_complex::Complex64;
     let mut out = NPoly::default();
     for (m, coeff) in p.terms() {
@@ -53,8 +67,7 @@ pub fn try_npoly(p: &Poly, scale: f64, values: &[GRat], freq: usize) -> NPoly {
             }
             let e = m.exp(i);
             if e > 0 {
-                let (re, im) = x.to_f64();
-                v *= Complex64::new(re, im).powu(e);
+                v *= x.powu(e);
             }
         }
         let (a, b) = (m.exp(0) as usize, m.exp(freq) as usize);
@@ -67,6 +80,27 @@ pub fn try_npoly(p: &Poly, scale: f64, values: &[GRat], freq: usize) -> NPoly {
         out.c[a][b] += v;
     }
     out
+}
+
+/// The value of a rational function with every variable at a complex
+/// double; `None` where the denominator vanishes.
+pub fn eval_at(r: &RatFunc, values: &[num_complex::Complex64]) -> Option<num_complex::Complex64> {
+    let poly = |p: &Poly| {
+        let mut acc = num_complex::Complex64::new(0.0, 0.0);
+        for (m, c) in p.terms() {
+            let mut v = num_complex::Complex64::new(c.re.to_f64(), c.im.to_f64());
+            for (i, x) in values.iter().enumerate() {
+                let e = m.exp(i);
+                if e > 0 {
+                    v *= x.powu(e);
+                }
+            }
+            acc += v;
+        }
+        acc
+    };
+    let den = poly(&r.den_expanded()) * r.scale().to_f64();
+    (den.norm() > 0.0).then(|| poly(r.num()) / den)
 }
 
 /// y'' + p y' + q y = 0 cleared of denominators and made numeric except in ω.

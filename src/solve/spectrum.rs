@@ -185,16 +185,23 @@ fn root_recurrence(
         return Err(usage("the horizon exponents are not exact in the root's field: the series needs them"));
     };
     let choices = Choices { picks: picks.iter().filter(|(l, _)| l != "θ").cloned().collect(), values: Vec::new() };
-    let mut name = "θ".to_string();
+    // The adjoined symbol stands for φ = c₂θ (θ itself when F is monic).
+    let c2 = f.to_univariate(0).get(2).cloned().unwrap_or_else(|| crate::algebra::Poly::int(1));
+    let monic = c2 == crate::algebra::Poly::int(1);
+    let mut name = if monic { "θ" } else { "φ" }.to_string();
     while k.names().contains(&name) {
         name.push('_');
     }
     let rec = crate::series::recurrence_at_root(red, f, &rho, &name, &choices)?;
+    let ftext = crate::algebra::print::poly_text(f, &crate::algebra::Int::ONE, k.names(), Style::Text);
+    let horizon = if monic {
+        format!("{name} ≈ {zr:.15}, the outer root of {ftext}")
+    } else {
+        let c2text = crate::algebra::print::poly_text(&c2, &crate::algebra::Int::ONE, k.names(), Style::Text);
+        format!("θ ≈ {zr:.15}, the outer root of {ftext}, written with {name} = {c2text}*θ")
+    };
     let setup = Setup {
-        horizon: format!(
-            "{name} ≈ {zr:.15}, the outer root of {}",
-            crate::algebra::print::poly_text(f, &crate::algebra::Int::ONE, k.names(), Style::Text)
-        ),
+        horizon,
         horizon_value: zr,
         ansatz: format!("{} = {} * Σ a_n u^n, {}", rec.function, rec.prefactor, rec.series),
         choices: said,
@@ -245,7 +252,15 @@ pub fn qnm_modes_from(
     if rec.coeffs.len() < 3 {
         return Err(usage(format!("the recurrence about {} has {} terms: no continued fraction", setup.horizon, rec.coeffs.len())));
     }
-    // The recurrence's field is (n, params…[, θ]): the equation's indices, θ last.
+    let num = try_numeric(rec, &recurrence_values(&setup, opts), opts.freq)?;
+    let modes = overtones(opts, first_estimate, &|n, seed| find_root(&num, n as usize, seed, opts.tol, 64, 1 << 17))?;
+    Ok((modes, setup))
+}
+
+/// The values of the recurrence's field: the equation's parameters at their
+/// values (the recurrence's field is (n, params…[, θ]), the equation's
+/// indices, θ last), and the adjoined root's value when there is one.
+pub fn recurrence_values(setup: &Setup, opts: &SpectrumOptions) -> Vec<GRat> {
     let mut values = opts.values.clone();
     if let Some((f, zr, _)) = &setup.theta {
         // The adjoined symbol is φ = c₂θ.
@@ -253,7 +268,18 @@ pub fn qnm_modes_from(
         let c2v = crate::algebra::RatFunc::from_poly(c2).eval(&opts.values).map(|g| g.to_f64().0).unwrap_or(1.0);
         values.push(exact_double(*zr * c2v));
     }
-    let num = try_numeric(&rec, &values, opts.freq)?;
+    values
+}
+
+/// Overtone by overtone: a seed for each (given, extrapolated from the two
+/// previous overtones, a first estimate, or below the previous one), the
+/// root from `solve`, and the rejection of roots outside the lower right
+/// quadrant.
+pub fn overtones(
+    opts: &SpectrumOptions,
+    first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
+    solve: &dyn Fn(u32, Complex64) -> CfRoot,
+) -> Result<Vec<Mode>> {
     let mut modes: Vec<Mode> = Vec::new();
     for n in opts.overtones.0..=opts.overtones.1 {
         let idx = (n - opts.overtones.0) as usize;
@@ -271,7 +297,7 @@ pub fn qnm_modes_from(
         } else {
             return Err(usage(format!("no seed for overtone {n}: give --guess")));
         };
-        let mut root = find_root(&num, n as usize, seed.0, opts.tol, 64, 1 << 17);
+        let mut root = solve(n, seed.0);
         if root.converged && (root.omega.im > 0.0 || root.omega.re < 0.0) {
             // A root in the wrong quadrant is not the mode that was asked for.
             root.converged = false;
@@ -280,9 +306,21 @@ pub fn qnm_modes_from(
                 root.omega.re, root.omega.im
             ));
         }
+        if root.converged {
+            // The n-th inversion is best conditioned at overtone n, but a poor
+            // seed can still land on another overtone's root: never report
+            // one mode twice.
+            if let Some(prev) = modes.iter().find(|m| m.root.converged && (m.root.omega - root.omega).norm() <= 1e-8 * root.omega.norm()) {
+                root.converged = false;
+                root.stop = StopReason::Rejected(format!(
+                    "the root {:.6e}{:+.6e}i is overtone {}'s again (the seed led to a mode already found); give seeds with --guess",
+                    root.omega.re, root.omega.im, prev.n
+                ));
+            }
+        }
         modes.push(Mode { n, root, seed, method: "cf" });
     }
-    Ok((modes, setup))
+    Ok(modes)
 }
 
 /// A two-term recurrence c₀(n) a_{n+1} + c₁(n) a_n = 0 terminates after a_N
@@ -439,10 +477,16 @@ pub fn integration_check<'a>(
 /// exact value: factors of the denominators then often split over Q (a
 /// horizon becomes a rational point), and what stays symbolic is only ω.
 pub fn substitute(red: &Reduction, values: &[GRat], freq: usize) -> Result<Reduction> {
+    substitute_keeping(red, values, &[freq])
+}
+
+/// [`substitute`] keeping every parameter in `keep` symbolic (the frequency,
+/// and a separation constant that a coupled solve fixes numerically later).
+pub fn substitute_keeping(red: &Reduction, values: &[GRat], keep: &[usize]) -> Result<Reduction> {
     let k = &red.field;
     let (mut p, mut q) = (red.p.clone(), red.q.clone());
     for (i, v) in values.iter().enumerate().skip(1) {
-        if i == freq {
+        if keep.contains(&i) {
             continue;
         }
         let c = crate::algebra::RatFunc::constant(v);
@@ -462,4 +506,35 @@ pub fn substitute(red: &Reduction, values: &[GRat], freq: usize) -> Result<Reduc
         lets: Vec::new(),
     };
     Ok(Reduction { ode, field: kf, var: red.var.clone(), p, q, normal, change: None, schrodinger: None })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn root(w: Complex64) -> CfRoot {
+        CfRoot { omega: w, converged: true, depth: 64, depth_change: 0.0, residual: 0.0, iterations: 1, stop: StopReason::Converged, inversion: 0 }
+    }
+
+    #[test]
+    fn the_same_root_for_two_overtones_is_rejected_the_second_time() {
+        let opts =
+            SpectrumOptions { freq: 1, values: Vec::new(), overtones: (0, 2), tol: 1e-10, guess: Some(Complex64::new(0.4, -0.1)), seeds: Vec::new() };
+        let none = |_: u32| None;
+        // A solver that always lands on the same mode, then on a new one.
+        let modes = overtones(&opts, &none, &|n, _| root(if n < 2 { Complex64::new(0.37, -0.09) } else { Complex64::new(0.30, -0.48) })).unwrap();
+        assert!(modes[0].root.converged);
+        assert!(!modes[1].root.converged, "{:?}", modes[1].root);
+        assert!(modes[1].root.stop.text().contains("overtone 0's again"));
+        assert!(modes[2].root.converged);
+    }
+
+    #[test]
+    fn roots_outside_the_lower_right_quadrant_are_rejected() {
+        let opts =
+            SpectrumOptions { freq: 1, values: Vec::new(), overtones: (0, 0), tol: 1e-10, guess: Some(Complex64::new(0.4, -0.1)), seeds: Vec::new() };
+        let none = |_: u32| None;
+        let modes = overtones(&opts, &none, &|_, _| root(Complex64::new(0.37, 0.09))).unwrap();
+        assert!(!modes[0].root.converged && modes[0].root.stop.text().contains("lower right quadrant"));
+    }
 }

@@ -1,0 +1,439 @@
+//! Coupled separated equations: a radial equation whose separation constant
+//! is fixed by the eigenvalue of an angular equation that itself depends on
+//! the frequency (Kerr: the Teukolsky radial equation and the spin-weighted
+//! spheroidal equation, E. W. Leaver, Proc. R. Soc. Lond. A 402 (1985) 285).
+//!
+//! The user names the coupling with links `NAME = EXPR`: a link whose target
+//! is a parameter of the angular equation (the spheroidicity `c = a*omega`)
+//! is evaluated from the radial parameters and the frequency; a link whose
+//! target is a parameter of the radial equation (the separation constant
+//! `lam = A + a^2*omega^2 - 2*a*m*omega`) may also use the angular
+//! eigenvalue. The one angular parameter left without a value is the
+//! eigenvalue. At every trial frequency the angular eigenvalue is found by
+//! its own continued fraction (a series about one regular end with the
+//! regular exponents at both ends, the n-th inversion for the n-th
+//! eigenvalue), then the radial continued fraction is evaluated with the
+//! linked separation constant: one complex function of ω whose root is the
+//! mode, as in Leaver 1985.
+
+use super::cf::{cf_function, find_root, find_root_by, try_numeric_at, CfRoot};
+use super::spectrum::{Mode, Setup, SpectrumOptions};
+use crate::algebra::print::{ratfunc_text, Style};
+use crate::algebra::{Field, GRat, RatFunc};
+use crate::analysis::canonical::Choices;
+use crate::analysis::labels::{boundary_choices, Boundary};
+use crate::analysis::{analyse, Kind, Place};
+use crate::error::{Error, ErrorKind, Result};
+use crate::ode::Reduction;
+use crate::series::Recurrence;
+use num_complex::Complex64;
+use std::cell::RefCell;
+
+fn usage(msg: impl Into<String>) -> Error {
+    Error::new(ErrorKind::Usage, msg)
+}
+
+/// One link `target = expr`, the expression in the joint field.
+#[derive(Clone, Debug)]
+pub struct Link {
+    /// The parameter the link sets.
+    pub target: String,
+    /// Its expression over the joint names (index 0 is unused).
+    pub expr: RatFunc,
+    /// True when the target is a parameter of the angular equation.
+    pub angular: bool,
+}
+
+/// The angular eigenvalue problem: its exact recurrence about one regular
+/// end, and how to evaluate it numerically.
+#[derive(Debug)]
+pub struct Angular {
+    /// The recurrence (field (n, angular params…)).
+    pub rec: Recurrence,
+    /// Field index of the eigenvalue in the angular equation's field.
+    pub eigen: usize,
+    /// The eigenvalue's name.
+    pub eigen_name: String,
+    /// Which eigenvalue (the inversion of the continued fraction): 0 is the lowest.
+    pub index: usize,
+    /// The interval's ends, as text.
+    pub ends: (String, String),
+    /// Sentences saying which exponents were chosen.
+    pub choices: Vec<String>,
+    /// For each angular parameter: its joint index (the eigenvalue and
+    /// fixed ones included).
+    pub joint_of: Vec<usize>,
+    /// A first value of the eigenvalue where every linked angular parameter
+    /// is 0, or given by the user.
+    pub seed: Option<(Complex64, String)>,
+}
+
+/// Everything a coupled solve needs besides the radial recurrence.
+#[derive(Debug)]
+pub struct Coupling {
+    /// The joint names: the radial variable, the radial parameters, then
+    /// the angular parameters the radial equation does not have.
+    pub names: Vec<String>,
+    /// The links, in the order given.
+    pub links: Vec<Link>,
+    /// The angular problem.
+    pub angular: Angular,
+    /// Numeric values of every joint name that has a fixed value.
+    pub fixed: Vec<Option<Complex64>>,
+    /// Joint index of the radial frequency.
+    pub freq: usize,
+}
+
+/// The angular evidence of one mode.
+#[derive(Clone, Debug)]
+pub struct CoupledValue {
+    /// The eigenvalue's name.
+    pub eigen_name: String,
+    /// The angular continued-fraction root at the mode's frequency.
+    pub root: CfRoot,
+    /// The value of every link's target at the mode's frequency.
+    pub links: Vec<(String, Complex64)>,
+}
+
+/// The joint names of a radial and an angular equation.
+pub fn joint_names(radial: &Field, angular: &Field) -> Vec<String> {
+    let mut names = radial.names().to_vec();
+    for n in angular.names().iter().skip(1) {
+        if !names[1..].contains(n) {
+            names.push(n.clone());
+        }
+    }
+    names
+}
+
+/// Parses a link `NAME = EXPR` over the joint names; spans are byte offsets
+/// into `text`.
+pub fn try_link(text: &str, joint: &Field, radial: &Field, angular: &Field) -> Result<Link> {
+    let Some(eq) = text.find('=') else {
+        return Err(usage("expected a link NAME = EXPR, e.g. 'lam = A + c^2 - 2*a*m*omega'").at(crate::syntax::Span::new(0, text.len())));
+    };
+    let target = text[..eq].trim().to_string();
+    let tspan = crate::syntax::Span::new(0, eq);
+    let in_radial = radial.names()[1..].contains(&target);
+    let in_angular = angular.names()[1..].contains(&target);
+    let angular_side = match (in_radial, in_angular) {
+        (true, false) => false,
+        (false, true) => true,
+        (true, true) => {
+            return Err(usage(format!("'{target}' is a parameter of both equations: a link sets a parameter of one of them")).at(tspan));
+        }
+        (false, false) => return Err(usage(format!("'{target}' is a parameter of neither equation")).at(tspan)),
+    };
+    let body = &text[eq + 1..];
+    let limits = crate::syntax::ParseLimits::default();
+    let shift = |mut e: Error| {
+        if let Some(s) = e.span {
+            e.span = Some(crate::syntax::Span::new(s.start + eq + 1, s.end + eq + 1));
+        }
+        e
+    };
+    let expr = crate::syntax::parse_expr(body, &limits).map_err(shift)?;
+    let expr = crate::ode::lower_rational(joint, joint.names(), &[], &expr).map_err(shift)?;
+    if expr.uses_var(0) {
+        return Err(usage(format!("a link may not depend on the variable {}", joint.names()[0])).at(crate::syntax::Span::new(eq + 1, text.len())));
+    }
+    Ok(Link { target, expr, angular: angular_side })
+}
+
+/// Sets up the angular eigenvalue problem: known parameters substituted
+/// exactly, linked ones and the eigenvalue kept, the regular exponents at
+/// both ends of the interval between the two real regular points, the first
+/// branch at an irregular infinity, and the series about the lower end.
+pub fn try_angular(red: &Reduction, known: &[Option<GRat>], linked: &[usize], index: usize, joint_of: Vec<usize>) -> Result<Angular> {
+    let k = &red.field;
+    let free: Vec<usize> = (1..k.names().len()).filter(|i| known[*i].is_none() && !linked.contains(i)).collect();
+    let eigen = match free.as_slice() {
+        [e] => *e,
+        [] => return Err(usage("every parameter of the angular equation has a value: one must be left free as its eigenvalue")),
+        many => {
+            let names: Vec<&str> = many.iter().map(|i| k.names()[*i].as_str()).collect();
+            return Err(usage(format!(
+                "the angular equation has {} parameters without a value ({}): give all but its eigenvalue with --at or --link",
+                many.len(),
+                names.join(", ")
+            )));
+        }
+    };
+    let mut values: Vec<GRat> = known.iter().map(|v| v.clone().unwrap_or_else(GRat::zero)).collect();
+    let mut keep = linked.to_vec();
+    keep.push(eigen);
+    let red = super::spectrum::substitute_keeping(red, &values, &keep)?;
+    let k = &red.field;
+    let an = analyse(&red)?;
+    // Exponent choices do not depend on the kept parameters once the known
+    // ones are in; decide them at a generic value of the kept ones.
+    for (j, i) in keep.iter().enumerate() {
+        values[*i] = GRat::real(crate::algebra::Rat::new((j as i64 + 3).into(), 7.into()).expect("nonzero"));
+    }
+    let text = |p: &crate::analysis::SingularPoint| match &p.place {
+        Place::Point { at, .. } => ratfunc_text(at, k.names(), Style::Text),
+        Place::Roots(_) => "θ".to_string(),
+        Place::Infinity => "∞".to_string(),
+    };
+    let (picks, said) = boundary_choices(&an, None, Boundary::Bound, &values, text);
+    let vals = crate::analysis::numeric::Values::new(values.clone());
+    let mut ends: Vec<(f64, String)> = an
+        .points
+        .iter()
+        .filter(|p| p.kind == Kind::Regular)
+        .filter_map(|p| match &p.place {
+            Place::Point { at, .. } => vals.ratfunc(at).filter(|z| z.im.abs() < 1e-12).map(|z| (z.re, ratfunc_text(at, k.names(), Style::Text))),
+            _ => None,
+        })
+        .collect();
+    ends.sort_by(|a, b| a.0.partial_cmp(&b.0).unwrap_or(std::cmp::Ordering::Equal));
+    if ends.len() != 2 {
+        return Err(usage(format!(
+            "the angular equation has {} real regular singular points: the angular eigenvalue needs exactly two, the ends of its interval",
+            ends.len()
+        )));
+    }
+    let mut picks: Vec<(String, usize)> = picks.into_iter().filter(|(l, _)| ends.iter().any(|(_, t)| t == l)).collect();
+    let mut choices = said.into_iter().filter(|c| ends.iter().any(|(_, t)| c.starts_with(&format!("at {t}:")))).collect::<Vec<_>>();
+    if an.points.iter().any(|p| matches!(p.place, Place::Infinity) && p.kind == Kind::Irregular) {
+        // Either exponential branch gives a series convergent at the far end
+        // when it is the minimal solution; the first is Leaver's e^(+cx).
+        picks.push(("∞".into(), 1));
+        choices.push("at ∞: the first exponential branch (the series decides the behaviour at the far end)".into());
+    }
+    let (lo, hi) = (ends[0].1.clone(), ends[1].1.clone());
+    let series = format!("u={} - ({lo})", red.var);
+    let rec = crate::series::recurrence(&red, &lo, Some(&series), &Choices { picks, values: Vec::new() }, false)?;
+    if rec.coeffs.len() < 3 {
+        return Err(usage(format!("the angular recurrence about {lo} has {} terms: no continued fraction for its eigenvalue", rec.coeffs.len())));
+    }
+    let eigen_name = k.names()[eigen].clone();
+    let mut ang = Angular { rec, eigen, eigen_name, index, ends: (lo, hi), choices, joint_of, seed: None };
+    // Where every linked parameter is 0 the recurrence often terminates (the
+    // spheroidal equation at c = 0 has polynomial eigenfunctions): the
+    // eigenvalue is then the root of c₁(index; λ) = 0.
+    let mut base: Vec<Complex64> = known.iter().map(|v| v.as_ref().map(to_c).unwrap_or_default()).collect();
+    for i in linked {
+        base[*i] = Complex64::new(0.0, 0.0);
+    }
+    let num = try_numeric_at(&ang.rec, &base, eigen)?;
+    let vanishes = num.terms[2..].iter().all(|t| t.c.iter().flatten().all(|c| c.norm() == 0.0));
+    if vanishes {
+        let c1 = &num.terms[1];
+        let nb = c1.c.iter().map(|r| r.len()).max().unwrap_or(0);
+        let mut coeffs = vec![Complex64::new(0.0, 0.0); nb];
+        for (a, row) in c1.c.iter().enumerate() {
+            for (b, c) in row.iter().enumerate() {
+                coeffs[b] += c * (index as f64).powi(a as i32);
+            }
+        }
+        while coeffs.last().is_some_and(|c| c.norm() == 0.0) {
+            coeffs.pop();
+        }
+        if coeffs.len() == 2 {
+            ang.seed = Some((-coeffs[0] / coeffs[1], "the terminating series where the linked parameters vanish".into()));
+        }
+    }
+    Ok(ang)
+}
+
+impl Angular {
+    /// The eigenvalue by the continued fraction (inversion `index`) with the
+    /// angular parameters at `values` (indexed like the angular equation's
+    /// field; the eigenvalue's entry is ignored), from `seed`.
+    pub fn eigenvalue_at(&self, values: &[Complex64], seed: Complex64, tol: f64) -> CfRoot {
+        match try_numeric_at(&self.rec, values, self.eigen) {
+            Ok(num) => find_root(&num, self.index, seed, tol, 16, 1 << 14),
+            Err(e) => CfRoot {
+                omega: seed,
+                converged: false,
+                depth: 0,
+                depth_change: f64::NAN,
+                residual: f64::NAN,
+                iterations: 0,
+                stop: super::cf::StopReason::Rejected(e.message),
+                inversion: self.index,
+            },
+        }
+    }
+}
+
+fn to_c(g: &GRat) -> Complex64 {
+    let (re, im) = g.to_f64();
+    Complex64::new(re, im)
+}
+
+/// The numeric evaluation of a coupled system at trial frequencies, with
+/// the last angular eigenvalue kept for continuation.
+pub struct Evaluator<'a> {
+    coupling: &'a Coupling,
+    /// The radial recurrence and its base values (θ appended).
+    rec: &'a Recurrence,
+    radial_values: Vec<Complex64>,
+    radial_freq: usize,
+    /// Joint index → radial field index, for the radial link targets.
+    radial_of: Vec<Option<usize>>,
+    last: RefCell<Option<(Vec<Complex64>, Complex64)>>,
+    tol: f64,
+}
+
+impl<'a> Evaluator<'a> {
+    /// An evaluator for the radial recurrence `rec` (derived with the
+    /// separation constant symbolic) and the radial values of `opts`.
+    pub fn new(coupling: &'a Coupling, rec: &'a Recurrence, setup: &Setup, opts: &SpectrumOptions, radial: &Field) -> Evaluator<'a> {
+        let radial_values: Vec<Complex64> = super::spectrum::recurrence_values(setup, opts).iter().map(to_c).collect();
+        let radial_of = coupling.names.iter().map(|n| radial.names().iter().skip(1).position(|x| x == n).map(|i| i + 1)).collect();
+        Evaluator { coupling, rec, radial_values, radial_freq: opts.freq, radial_of, last: RefCell::new(None), tol: opts.tol }
+    }
+
+    /// The joint values at ω before the angular solve: fixed values, ω and
+    /// the angular links.
+    fn joint_at(&self, w: Complex64) -> std::result::Result<Vec<Complex64>, String> {
+        let c = self.coupling;
+        let mut v: Vec<Complex64> = c.fixed.iter().map(|x| x.unwrap_or_default()).collect();
+        v[c.freq] = w;
+        for l in c.links.iter().filter(|l| l.angular) {
+            let x = super::eval_at(&l.expr, &v).ok_or_else(|| format!("the link for {} has a zero denominator at ω = {w}", l.target))?;
+            let i = c.names.iter().position(|n| *n == l.target).expect("link target is a joint name");
+            v[i] = x;
+        }
+        Ok(v)
+    }
+
+    /// The angular eigenvalue with the linked parameters at `joint`,
+    /// continued from the last value found (or from the seed where the
+    /// linked parameters vanish) in steps small enough to stay on one branch.
+    fn eigenvalue(&self, joint: &[Complex64]) -> CfRoot {
+        let ang = &self.coupling.angular;
+        let targets: Vec<Complex64> = ang.joint_of.iter().map(|j| joint[*j]).collect();
+        let linked: Vec<usize> = self
+            .coupling
+            .links
+            .iter()
+            .filter(|l| l.angular)
+            .map(|l| self.coupling.names.iter().position(|n| *n == l.target).expect("joint name"))
+            .collect();
+        let start: (Vec<Complex64>, Complex64) = match self.last.borrow().clone() {
+            Some(s) => s,
+            None => {
+                let Some((seed, _)) = &ang.seed else {
+                    return CfRoot {
+                        omega: Complex64::new(f64::NAN, f64::NAN),
+                        converged: false,
+                        depth: 0,
+                        depth_change: f64::NAN,
+                        residual: f64::NAN,
+                        iterations: 0,
+                        stop: super::cf::StopReason::Rejected(format!(
+                            "no first value of the angular eigenvalue {}: give --angular-guess",
+                            ang.eigen_name
+                        )),
+                        inversion: ang.index,
+                    };
+                };
+                let mut zero = targets.clone();
+                for (a, j) in zero.iter_mut().zip(&ang.joint_of) {
+                    if linked.contains(j) {
+                        *a = Complex64::new(0.0, 0.0);
+                    }
+                }
+                (zero, *seed)
+            }
+        };
+        // Steps of at most 0.25 in every linked parameter.
+        let dist = start.0.iter().zip(&targets).map(|(a, b)| (a - b).norm()).fold(0.0, f64::max);
+        let steps = ((dist / 0.25).ceil() as usize).clamp(1, 400);
+        let mut a = start.1;
+        let mut root = None;
+        for s in 1..=steps {
+            let t = s as f64 / steps as f64;
+            let at: Vec<Complex64> = start.0.iter().zip(&targets).map(|(x, y)| x + (y - x) * t).collect();
+            let r = self.angular_root(&at, a);
+            if !r.converged {
+                return r;
+            }
+            a = r.omega;
+            root = Some(r);
+        }
+        let root = root.expect("at least one step");
+        *self.last.borrow_mut() = Some((targets, root.omega));
+        root
+    }
+
+    fn angular_root(&self, angular_values: &[Complex64], seed: Complex64) -> CfRoot {
+        self.coupling.angular.eigenvalue_at(angular_values, seed, (self.tol * 1e-3).max(1e-13))
+    }
+
+    /// The joint values at ω after the angular solve (the eigenvalue and the
+    /// radial links filled in), with the angular root.
+    pub fn values_at(&self, w: Complex64) -> std::result::Result<(Vec<Complex64>, CfRoot), String> {
+        let c = self.coupling;
+        let mut v = self.joint_at(w)?;
+        let root = self.eigenvalue(&v);
+        if !root.converged {
+            return Err(format!("the angular eigenvalue {} did not converge at ω = {w}: {}", c.angular.eigen_name, root.stop.text()));
+        }
+        v[c.angular.joint_of[c.angular.eigen]] = root.omega;
+        for l in c.links.iter().filter(|l| !l.angular) {
+            let x = super::eval_at(&l.expr, &v).ok_or_else(|| format!("the link for {} has a zero denominator at ω = {w}", l.target))?;
+            let i = c.names.iter().position(|n| *n == l.target).expect("link target is a joint name");
+            v[i] = x;
+        }
+        Ok((v, root))
+    }
+
+    /// The radial continued fraction's k-th inversion at ω with the linked
+    /// separation constant.
+    pub fn radial(&self, w: Complex64, k: usize, depth: usize) -> std::result::Result<Complex64, String> {
+        let (v, _) = self.values_at(w)?;
+        let mut vals = self.radial_values.clone();
+        for (j, r) in self.radial_of.iter().enumerate() {
+            if let Some(r) = r {
+                if *r != self.radial_freq && self.coupling.fixed[j].is_none() {
+                    vals[*r] = v[j];
+                }
+            }
+        }
+        let num = try_numeric_at(self.rec, &vals, self.radial_freq).map_err(|e| e.message)?;
+        cf_function(&num, w, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string())
+    }
+
+    /// The evidence at a mode: the angular root and every link's value.
+    pub fn evidence(&self, w: Complex64) -> Option<CoupledValue> {
+        let (v, root) = self.values_at(w).ok()?;
+        let links = self
+            .coupling
+            .links
+            .iter()
+            .map(|l| (l.target.clone(), v[self.coupling.names.iter().position(|n| *n == l.target).expect("joint name")]))
+            .collect();
+        Some(CoupledValue { eigen_name: self.coupling.angular.eigen_name.clone(), root, links })
+    }
+}
+
+/// The coupled modes, overtone by overtone: the radial continued fraction's
+/// root with the separation constant linked to the angular eigenvalue at
+/// every trial frequency.
+pub fn coupled_modes(
+    coupling: &Coupling,
+    rec: &Recurrence,
+    setup: &Setup,
+    opts: &SpectrumOptions,
+    radial: &Field,
+    first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
+) -> Result<Vec<(Mode, Option<CoupledValue>)>> {
+    if rec.coeffs.len() < 3 {
+        return Err(usage(format!("the radial recurrence about {} has {} terms: no continued fraction", setup.horizon, rec.coeffs.len())));
+    }
+    let ev = Evaluator::new(coupling, rec, setup, opts, radial);
+    let modes = super::spectrum::overtones(opts, first_estimate, &|n, seed| {
+        find_root_by(&|w, depth| ev.radial(w, n as usize, depth), n as usize, seed, opts.tol, 64, 1 << 17)
+    })?;
+    Ok(modes
+        .into_iter()
+        .map(|m| {
+            let e = if m.root.converged { ev.evidence(m.root.omega) } else { None };
+            (m, e)
+        })
+        .collect())
+}
