@@ -292,7 +292,7 @@ pub fn overtones(
             (a + (a - b), "extrapolated from the two previous overtones".to_string())
         } else if let Some(e) = first_estimate(n) {
             e
-        } else if let Some(last) = modes.last().filter(|m| m.root.converged) {
+        } else if let Some(last) = modes.iter().rev().find(|m| m.root.converged) {
             (last.root.omega - Complex64::new(0.0, 2.0 * last.root.omega.im.abs().max(0.05)), "below the previous overtone".to_string())
         } else {
             return Err(usage(format!("no seed for overtone {n}: give --guess")));
