@@ -260,6 +260,28 @@ fn scan_with_shards_and_plot() {
         String::from_utf8(o.stdout).unwrap().lines().skip(1).map(|l| l.split(',').next().unwrap().to_string()).collect::<Vec<_>>()
     };
     assert_eq!([csv("1/2"), csv("2/2")].concat(), vec!["0", "0.3", "0.6", "0.9"]);
+    // A PNG plot: a real image of the declared size (1200 × 500, in the IHDR chunk).
+    let png = dir.join("rn.png");
+    let o = Command::new(env!("CARGO_BIN_EXE_canonode"))
+        .args(["scan", "samples/reissner_nordstrom_scalar.ode", "--vary", "q=0:0.9:0.3", "--at", "M=1,l=2", "--no-check", "--plot"])
+        .arg(&png)
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let bytes = std::fs::read(&png).unwrap();
+    assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
+    assert_eq!(u32::from_be_bytes(bytes[16..20].try_into().unwrap()), 1200);
+    assert_eq!(u32::from_be_bytes(bytes[20..24].try_into().unwrap()), 500);
+    // Another extension is refused before any work is done.
+    let o = Command::new(env!("CARGO_BIN_EXE_canonode"))
+        .args(["scan", "samples/reissner_nordstrom_scalar.ode", "--vary", "q=0:0.9:0.3", "--at", "M=1,l=2", "--plot", "x.gif"])
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("SVG or PNG"));
+    std::fs::remove_dir_all(&dir).ok();
 }
 
 #[test]

@@ -5,7 +5,7 @@ use super::values::parse_assignments;
 use super::{run_command, Failure, InputArgs};
 use crate::algebra::{GRat, Rat};
 use crate::error::{Error, ErrorKind};
-use crate::solve::scan::{grid, plot_svg, scan, shard};
+use crate::solve::scan::{grid, plot, scan, shard};
 use crate::solve::spectrum::SpectrumOptions;
 use clap::{Args, ValueEnum};
 use std::io::IsTerminal;
@@ -36,8 +36,8 @@ pub(crate) struct ScanArgs {
     /// Only part K of N of the grid (contiguous blocks), e.g. '2/4'.
     #[arg(long = "shard", value_name = "K/N")]
     shard: Option<String>,
-    /// Write a plot (SVG) of the scanned modes.
-    #[arg(long = "plot", value_name = "FILE.svg")]
+    /// Write a plot of the scanned modes, SVG or PNG by the extension.
+    #[arg(long = "plot", value_name = "FILE.svg|FILE.png")]
     plot: Option<String>,
     /// Skip the direct-integration check at every point.
     #[arg(long = "no-check")]
@@ -61,6 +61,13 @@ fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
 }
 
 fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
+    // Checked before any work, so that a long scan is never lost to a bad file name.
+    if let Some(path) = &a.plot {
+        let lower = path.to_ascii_lowercase();
+        if !(lower.ends_with(".svg") || lower.ends_with(".png")) {
+            return Err(usage("the plot is written as SVG or PNG: give FILE.svg or FILE.png", "--plot", path.len()));
+        }
+    }
     let red = crate::ode::reduce(&src.input(), &a.input.options())?;
     let names = red.field.names().to_vec();
     let fname = a.input.frequency_name().or_else(|| ["omega", "ω", "w"].iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
@@ -132,10 +139,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
         b.finish_and_clear();
     }
     if let Some(path) = &a.plot {
-        if !path.ends_with(".svg") {
-            return Err(usage("the plot is written as SVG: give a FILE.svg", "--plot", path.len()));
-        }
-        plot_svg(std::path::Path::new(path), &points, vname, &fname)
+        plot(std::path::Path::new(path), &points, vname, &fname)
             .map_err(|e| Failure::Plain(format!("error: cannot write the plot {path}: {e}"), 1))?;
     }
     Ok(match a.format {

@@ -475,55 +475,10 @@ fn bound_states(
     overtones: (u32, u32),
     src: &super::Source,
 ) -> Result<String, Failure> {
-    use crate::analysis::{Kind, Place};
-    use crate::solve::collocation::{try_bound_states, Domain};
+    use crate::solve::collocation::{bound_problem, try_bound_states, Domain};
     let k = &red.field;
-    let an = crate::analysis::analyse(red)?;
-    let vals = crate::analysis::numeric::Values::new(point.clone());
-    let mut ends: Vec<f64> = Vec::new();
-    for p in &an.points {
-        if p.kind == Kind::Ordinary {
-            continue;
-        }
-        if let Place::Point { at, .. } = &p.place {
-            if let Some(z) = vals.ratfunc(at) {
-                if z.im.abs() < 1e-12 {
-                    ends.push(z.re);
-                }
-            }
-        }
-    }
-    ends.sort_by(|x, y| x.partial_cmp(y).unwrap_or(std::cmp::Ordering::Equal));
-    let domain = match ends.as_slice() {
-        [] => Domain::Line,
-        [a0] => Domain::HalfLine(*a0),
-        [.., x, y] => Domain::Finite(*x, *y),
-    };
+    let (domain, threshold) = bound_problem(red, freq, &point)?;
     let scale = 4.0;
-    // The continuum edge −lim Q₀/Q₁ at an infinite end (none on a finite interval).
-    let threshold = match domain {
-        Domain::Finite(..) => f64::INFINITY,
-        _ => {
-            let q1 = k.deriv(&red.normal.q, freq)?;
-            let q0 = k.compose(&red.normal.q, freq, &crate::algebra::RatFunc::zero())?;
-            let big = crate::algebra::GRat::real(crate::algebra::Rat::int(1_000_000_000.into()));
-            let mut p = point.clone();
-            p[0] = big;
-            match (q0.eval(&p), q1.eval(&p)) {
-                (Some(x), Some(y)) => {
-                    let (xr, _) = x.to_f64();
-                    let (yr, _) = y.to_f64();
-                    let t = -xr / yr;
-                    if t.abs() > 1e6 {
-                        f64::INFINITY
-                    } else {
-                        (t * 1e6).round() / 1e6 + 0.0
-                    }
-                }
-                _ => f64::INFINITY,
-            }
-        }
-    };
     let count = overtones.1 as usize + 1;
     let states = try_bound_states(k, &red.normal.q, freq, &point, domain, scale, count, a.tol.max(1e-13), threshold)?;
     let dom_text = match domain {

@@ -185,3 +185,57 @@ pub fn try_bound_states(
         })
         .collect())
 }
+
+/// The interval of a bound-state problem and its continuum edge: the
+/// interval runs between the two largest real singular points (a half line
+/// from the only one, the whole line when there is none); at an infinite
+/// end the continuum starts at −lim Q₀/Q₁ for Q = Q₀ + E·Q₁ (infinite on a
+/// finite interval, or when the limit is not finite).
+pub fn bound_problem(red: &crate::ode::Reduction, freq: usize, point: &[GRat]) -> Result<(Domain, f64)> {
+    use crate::analysis::{Kind, Place};
+    let k = &red.field;
+    let an = crate::analysis::analyse(red)?;
+    let vals = crate::analysis::numeric::Values::new(point.to_vec());
+    let mut ends: Vec<f64> = Vec::new();
+    for p in &an.points {
+        if p.kind == Kind::Ordinary {
+            continue;
+        }
+        if let Place::Point { at, .. } = &p.place {
+            if let Some(z) = vals.ratfunc(at) {
+                if z.im.abs() < 1e-12 {
+                    ends.push(z.re);
+                }
+            }
+        }
+    }
+    ends.sort_by(|x, y| x.partial_cmp(y).unwrap_or(std::cmp::Ordering::Equal));
+    let domain = match ends.as_slice() {
+        [] => Domain::Line,
+        [a0] => Domain::HalfLine(*a0),
+        [.., x, y] => Domain::Finite(*x, *y),
+    };
+    let threshold = match domain {
+        Domain::Finite(..) => f64::INFINITY,
+        _ => {
+            let q1 = k.deriv(&red.normal.q, freq)?;
+            let q0 = k.compose(&red.normal.q, freq, &crate::algebra::RatFunc::zero())?;
+            // The limit at a large real point, rounded to 6 decimals so that
+            // a rational edge prints as itself.
+            let mut p = point.to_vec();
+            p[0] = GRat::real(crate::algebra::Rat::int(1_000_000_000.into()));
+            match (q0.eval(&p), q1.eval(&p)) {
+                (Some(x), Some(y)) => {
+                    let t = -x.to_f64().0 / y.to_f64().0;
+                    if t.abs() > 1e6 {
+                        f64::INFINITY
+                    } else {
+                        (t * 1e6).round() / 1e6 + 0.0
+                    }
+                }
+                _ => f64::INFINITY,
+            }
+        }
+    };
+    Ok((domain, threshold))
+}

@@ -134,12 +134,35 @@ fn solve_point(
     }
 }
 
-/// Writes an SVG plot: the modes in the complex plane, and Re ω and Im ω
-/// against the varied parameter, one series per method (continued fraction,
-/// direct integration).
-pub fn plot_svg(path: &std::path::Path, points: &[ScanPoint], param: &str, freq: &str) -> std::result::Result<(), String> {
+/// The font of the plots' text, compiled in so that a plot looks the same
+/// on every machine (DejaVu Sans; its licence is in `src/solve/font/`).
+static FONT: &[u8] = include_bytes!("font/DejaVuSans.ttf");
+
+/// Writes a plot, SVG or PNG by the file's extension: the modes in the
+/// complex plane, and Re ω and Im ω against the varied parameter, one series
+/// per method (continued fraction, direct integration).
+pub fn plot(path: &std::path::Path, points: &[ScanPoint], param: &str, freq: &str) -> std::result::Result<(), String> {
     use plotters::prelude::*;
-    let root = SVGBackend::new(path, (1200, 500)).into_drawing_area();
+    static REGISTER: std::sync::Once = std::sync::Once::new();
+    REGISTER.call_once(|| {
+        // The font is a constant of the build: failure here is a packaging bug.
+        plotters::style::register_font("sans-serif", FontStyle::Normal, FONT).map_err(|_| ()).expect("the built-in font is valid");
+    });
+    let ext = path.extension().and_then(|e| e.to_str()).map(|e| e.to_ascii_lowercase());
+    match ext.as_deref() {
+        Some("svg") => draw(SVGBackend::new(path, (1200, 500)).into_drawing_area(), points, param, freq),
+        Some("png") => draw(BitMapBackend::new(path, (1200, 500)).into_drawing_area(), points, param, freq),
+        _ => Err("the plot is written as SVG or PNG: give FILE.svg or FILE.png".into()),
+    }
+}
+
+fn draw<DB: plotters::prelude::DrawingBackend>(
+    root: plotters::drawing::DrawingArea<DB, plotters::coord::Shift>,
+    points: &[ScanPoint],
+    param: &str,
+    freq: &str,
+) -> std::result::Result<(), String> {
+    use plotters::prelude::*;
     root.fill(&WHITE).map_err(|e| e.to_string())?;
     let areas = root.split_evenly((1, 3));
     let series = |f: &dyn Fn(&ScanPoint, &(Mode, Option<Complex64>)) -> Option<(f64, f64)>| -> Vec<(f64, f64)> {
@@ -158,7 +181,12 @@ pub fn plot_svg(path: &std::path::Path, points: &[ScanPoint], param: &str, freq:
             return (0.0, 1.0);
         }
         let pad = ((hi - lo) * 0.08).max(1e-6);
-        (lo - pad, hi + pad)
+        // Room at the top for the legend (upper right), so it hides no point.
+        if axis == 1 {
+            (lo - pad, hi + 4.0 * pad)
+        } else {
+            (lo - pad, hi + pad)
+        }
     };
     let panels: [(&str, &str, &str, &Vec<(f64, f64)>, &Vec<(f64, f64)>); 3] = [
         ("modes in the complex plane", "Re ω", "Im ω", &cf_plane, &int_plane),
