@@ -152,7 +152,7 @@ fn difference_text(k: &Field, p: &SingularPoint) -> Value {
     }
 }
 
-fn where_text(k: &Field, var: &str, p: &SingularPoint, s: Style) -> String {
+pub(crate) fn where_text(k: &Field, var: &str, p: &SingularPoint, s: Style) -> String {
     match &p.place {
         Place::Point { at, .. } => format!("{var} = {}", rf(k, at, s)),
         Place::Roots(f) => format!("{var} = θ, a root of {}", poly_text(f, &Int::ONE, k.names(), s)),
@@ -160,7 +160,7 @@ fn where_text(k: &Field, var: &str, p: &SingularPoint, s: Style) -> String {
     }
 }
 
-fn formal_text(k: &Field, var: &str, p: &SingularPoint) -> Vec<String> {
+pub(crate) fn formal_text(k: &Field, var: &str, p: &SingularPoint) -> Vec<String> {
     let x = match &p.place {
         Place::Point { at, .. } => crate::emit::report::shifted(var, &rf(k, at, Style::Text), Style::Text),
         _ => var.to_string(),
@@ -211,7 +211,7 @@ fn formal_text(k: &Field, var: &str, p: &SingularPoint) -> Vec<String> {
         .collect()
 }
 
-fn apparent_fields(k: &Field, a: &Apparent) -> (&'static str, Option<String>) {
+pub(crate) fn apparent_fields(k: &Field, a: &Apparent) -> (&'static str, Option<String>) {
     match a {
         Apparent::NotApplicable => ("not applicable", None),
         Apparent::Yes => ("yes", None),
