@@ -63,8 +63,8 @@ pub const HEADER: &str = "canonode-derivation 1";
 pub const VERSION_KEY: &str = "tool.version";
 
 /// How the recorded recurrence is chosen; written into each record.
-pub const RECURRENCE_RULE: &str = "about the first finite regular singular point at an exact location, in the default series variable, \
-with the default exponents (the unknown's exponent 0 where it has one, else the first exact one; the first listed branch at an irregular point at infinity)";
+pub const RECURRENCE_RULE: &str = "about the first finite regular singular point at an exact location where one exists, \
+in the default series variable, with the default exponents (the unknown's exponent 0 where it has one, else the first exact one; the first listed branch at an irregular point at infinity)";
 
 /// The value of an option that was not given. It cannot be confused with a
 /// given value: no expression or name of the input language contains a space
@@ -133,7 +133,9 @@ impl Record {
     pub fn parse(text: &str) -> Result<Record> {
         let mut lines = line_spans(text);
         let Some((first, span)) = lines.next() else {
-            return Err(Error::new(ErrorKind::Record, "the record is empty").note(format!("a record starts with the line '{HEADER}'")));
+            return Err(Error::new(ErrorKind::Record, "the record is empty")
+                .at(Span::new(0, 0))
+                .note(format!("a record starts with the line '{HEADER}'")));
         };
         if first != HEADER {
             let (name, _) = HEADER.rsplit_once(' ').expect("the header has a version");
@@ -350,30 +352,38 @@ fn analysis_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result<(
 fn recurrence_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result<()> {
     let k = &red.field;
     rec.push("recurrence.rule", RECURRENCE_RULE)?;
-    let about = an.points.iter().find_map(|p| match &p.place {
-        Place::Point { at, .. } if p.kind == Kind::Regular => Some((p, ratfunc_text(at, k.names(), Style::Text))),
-        _ => None,
-    });
-    let Some((point, at)) = about else {
-        return rec.push("recurrence.none", "the equation has no finite regular singular point at an exact location");
-    };
-    rec.push("recurrence.about", where_text(k, &red.var, point, Style::Text))?;
-    let r = match crate::series::recurrence(red, &at, None, &crate::analysis::canonical::Choices::default(), false) {
-        Ok(r) => r,
-        // A recurrence that does not exist here is part of the derivation, not a failure.
-        Err(e) if e.is_bad_input() => return rec.push("recurrence.none", e.message),
-        Err(e) => return Err(e),
-    };
-    rec.push("recurrence.series", &r.series)?;
-    rec.push("recurrence.ansatz", r.ansatz_text())?;
-    for (j, c) in r.choices.iter().enumerate() {
-        rec.push(format!("recurrence.choice[{}]", j + 1), c)?;
+    let mut why_not = Vec::new();
+    for p in &an.points {
+        let Place::Point { at, .. } = &p.place else { continue };
+        if p.kind != Kind::Regular {
+            continue;
+        }
+        let about = ratfunc_text(at, k.names(), Style::Text);
+        let r = match crate::series::recurrence(red, &about, None, &crate::analysis::canonical::Choices::default(), false) {
+            Ok(r) => r,
+            // A recurrence that does not exist about this point is part of the derivation, not a failure.
+            Err(e) if e.is_bad_input() => {
+                why_not.push(format!("about {}: {}", where_text(k, &red.var, p, Style::Text), e.message));
+                continue;
+            }
+            Err(e) => return Err(e),
+        };
+        rec.push("recurrence.about", where_text(k, &red.var, p, Style::Text))?;
+        rec.push("recurrence.series", &r.series)?;
+        rec.push("recurrence.ansatz", r.ansatz_text())?;
+        for (j, c) in r.choices.iter().enumerate() {
+            rec.push(format!("recurrence.choice[{}]", j + 1), c)?;
+        }
+        rec.push("recurrence.equation", r.equation_text())?;
+        for j in 0..r.coeffs.len() {
+            rec.push(format!("recurrence.c[{j}]"), r.coefficient_text(j))?;
+        }
+        return Ok(());
     }
-    rec.push("recurrence.equation", r.equation_text())?;
-    for j in 0..r.coeffs.len() {
-        rec.push(format!("recurrence.c[{j}]"), r.coefficient_text(j))?;
+    if why_not.is_empty() {
+        why_not.push("the equation has no finite regular singular point at an exact location".to_string());
     }
-    Ok(())
+    rec.push("recurrence.none", why_not.join("; "))
 }
 
 /// What changed between a recorded and a recomputed derivation.
