@@ -10,62 +10,17 @@ use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 
 /// Macros of LaTeX itself and amsmath/amssymb that the fragments may use.
-const ALLOWED_MACROS: &[&str] = &[
-    "frac",
-    "tfrac",
-    "sqrt",
-    "left",
-    "right",
-    "text",
-    "mathrm",
-    "begin",
-    "end",
-    "quad",
-    "qquad",
-    "in",
-    "infty",
-    "to",
-    "prod",
-    "Big",
-    // Greek letters (what `latex_name` produces).
-    "alpha",
-    "beta",
-    "gamma",
-    "delta",
-    "epsilon",
-    "varepsilon",
-    "zeta",
-    "eta",
-    "theta",
-    "vartheta",
-    "iota",
-    "kappa",
-    "lambda",
-    "mu",
-    "nu",
-    "xi",
-    "pi",
-    "rho",
-    "sigma",
-    "tau",
-    "upsilon",
-    "phi",
-    "varphi",
-    "chi",
-    "psi",
-    "omega",
-    "Gamma",
-    "Delta",
-    "Theta",
-    "Lambda",
-    "Xi",
-    "Pi",
-    "Sigma",
-    "Upsilon",
-    "Phi",
-    "Psi",
-    "Omega",
-];
+const ALLOWED_MACROS: &[&str] =
+    &["frac", "tfrac", "sqrt", "left", "right", "text", "mathrm", "begin", "end", "quad", "qquad", "in", "infty", "to", "prod", "Big"];
+
+/// LaTeX's own Greek-letter macros (every lower-case letter with its `var` forms, and the
+/// upper-case letters that differ from Latin ones; common practice).
+const GREEK_MACROS: &str = "alpha beta gamma delta epsilon varepsilon zeta eta theta vartheta iota kappa lambda mu nu xi pi varpi rho varrho \
+    sigma varsigma tau upsilon phi varphi chi psi omega Gamma Delta Theta Lambda Xi Pi Sigma Upsilon Phi Psi Omega";
+
+fn allowed_macro(name: &str) -> bool {
+    ALLOWED_MACROS.contains(&name) || GREEK_MACROS.split_whitespace().any(|g| g == name)
+}
 
 /// Control symbols: thin space, space, line break, braces as characters, underscore.
 const ALLOWED_SYMBOLS: &[char] = &[',', ' ', '\\', '{', '}', '_'];
@@ -108,7 +63,7 @@ fn structure(tex: &str) -> Vec<String> {
                     continue;
                 }
                 let name = &tex[start..j];
-                if !ALLOWED_MACROS.contains(&name) {
+                if !allowed_macro(name) {
                     problems.push(format!("macro \\{name} is not in the allowed list"));
                 }
                 match name {
