@@ -37,6 +37,8 @@ pub enum ErrorKind {
     Limit,
     /// A command-line value (`--at`, `--subst`, ...) that cannot be used.
     Usage,
+    /// A derivation record (`.deriv` file) that does not follow its format.
+    Record,
     /// A failure of canonode itself, not of the input.
     Internal,
 }

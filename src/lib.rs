@@ -35,3 +35,5 @@ pub mod ode;
 pub mod series;
 pub mod solve;
 pub mod syntax;
+
+pub use emit::record;

@@ -293,12 +293,15 @@ fn is_compound(p: &Poly) -> bool {
     }
 }
 
-/// The factored denominator `∏ fᵢ^eᵢ` (without the integer scale).
-pub fn den_text(r: &RatFunc, names: &[String], style: Style) -> String {
+/// The factors `fᵢ^eᵢ` of the denominator, parenthesised where needed; with
+/// `bare_single` a lone factor to the first power is left bare (it stands
+/// alone in a LaTeX `\frac`).
+fn den_factor_texts(r: &RatFunc, names: &[String], style: Style, bare_single: bool) -> Vec<String> {
+    let lone = bare_single && r.den_factors().len() == 1 && r.den_factors()[0].1 == 1;
     let mut parts = Vec::new();
     for (f, e) in r.den_factors() {
         let t = poly_text(f.poly(), &Int::ONE, names, style);
-        let t = if is_compound(f.poly()) {
+        let t = if is_compound(f.poly()) && !lone {
             match style {
                 Style::Text => format!("({t})"),
                 Style::Latex => format!("\\left({t}\\right)"),
@@ -312,6 +315,12 @@ pub fn den_text(r: &RatFunc, names: &[String], style: Style) -> String {
             (Style::Latex, e) => format!("{t}^{{{e}}}"),
         });
     }
+    parts
+}
+
+/// The factored denominator `∏ fᵢ^eᵢ` (without the integer scale).
+pub fn den_text(r: &RatFunc, names: &[String], style: Style) -> String {
+    let parts = den_factor_texts(r, names, style, false);
     if parts.is_empty() {
         return "1".to_string();
     }
@@ -321,16 +330,37 @@ pub fn den_text(r: &RatFunc, names: &[String], style: Style) -> String {
     }
 }
 
-/// A rational function as `N/D` (text) or `\frac{N}{D}` (LaTeX), with `N`
-/// carrying rational coefficients and `D` primitive and factored.
-pub fn ratfunc_text(r: &RatFunc, names: &[String], style: Style) -> String {
-    let n = poly_text(r.num(), r.scale(), names, style);
-    if r.den_factors().is_empty() {
-        return n;
+/// `\frac{N}{D}` as a physicist writes it: N with integer coefficients, the
+/// integer scale in front of the factored D (no fractions inside fractions),
+/// and the sign of a one-term numerator in front.
+fn ratfunc_latex(r: &RatFunc, names: &[String]) -> String {
+    let mut num = poly_text(r.num(), &Int::ONE, names, Style::Latex);
+    let mut sign = "";
+    if r.num().len() == 1 {
+        if let Some(rest) = num.strip_prefix('-') {
+            num = rest.to_string();
+            sign = "-";
+        }
     }
-    let d = den_text(r, names, style);
+    let mut den = Vec::new();
+    if !r.scale().is_one() {
+        den.push(r.scale().to_string());
+    }
+    den.extend(den_factor_texts(r, names, Style::Latex, r.scale().is_one()));
+    format!("{sign}\\frac{{{num}}}{{{}}}", den.join(" "))
+}
+
+/// A rational function as `N/D` (text), with `N` carrying rational
+/// coefficients and `D` primitive and factored, or as `\frac{N}{D}` (LaTeX)
+/// with the integer scale moved into `D`.
+pub fn ratfunc_text(r: &RatFunc, names: &[String], style: Style) -> String {
+    if r.den_factors().is_empty() {
+        return poly_text(r.num(), r.scale(), names, style);
+    }
     match style {
         Style::Text => {
+            let n = poly_text(r.num(), r.scale(), names, style);
+            let d = den_text(r, names, style);
             let n = if r.num().len() > 1 { format!("({n})") } else { n };
             let d = if r.den_factors().len() > 1 || (r.den_factors()[0].1 == 1 && is_compound(r.den_factors()[0].0.poly())) {
                 if r.den_factors().len() == 1 {
@@ -343,7 +373,7 @@ pub fn ratfunc_text(r: &RatFunc, names: &[String], style: Style) -> String {
             };
             format!("{n}/{d}")
         }
-        Style::Latex => format!("\\frac{{{n}}}{{{d}}}"),
+        Style::Latex => ratfunc_latex(r, names),
     }
 }
 
@@ -372,6 +402,13 @@ mod tests {
         let f = k.sub(&r, &k.mul(&two, &m).unwrap()).unwrap();
         let q = k.div(&k.add(&k.mul(&r, &r).unwrap(), &m).unwrap(), &k.mul(&k.mul(&f, &f).unwrap(), &k.mul(&r, &two).unwrap()).unwrap()).unwrap();
         assert_eq!(ratfunc_text(&q, &names, Style::Text), "(1/2*r^2 + 1/2*M)/(r*(r - 2*M)^2)");
+        // LaTeX: integer coefficients over the scale times the factors, no fraction inside a fraction.
+        assert_eq!(ratfunc_text(&q, &names, Style::Latex), "\\frac{r^{2} + M}{2 r \\left(r - 2 M\\right)^{2}}");
+        // A lone factor needs no parentheses; the sign of a one-term numerator goes in front.
+        let minus_m = k.div(&k.neg(&m), &k.mul(&two, &f).unwrap()).unwrap();
+        assert_eq!(ratfunc_text(&minus_m, &names, Style::Latex), "-\\frac{M}{2 \\left(r - 2 M\\right)}");
+        let over_f = k.div(&m, &f).unwrap();
+        assert_eq!(ratfunc_text(&over_f, &names, Style::Latex), "\\frac{M}{r - 2 M}");
         assert_eq!(latex_name("omega"), "\\omega");
         assert_eq!(latex_name("r_h"), "r_{h}");
         assert_eq!(latex_name("lam"), "\\lambda");

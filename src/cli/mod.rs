@@ -2,9 +2,11 @@
 //! terminal or chooses an exit status. Each subcommand is one file with a
 //! `run` function; this file holds the argument definitions shared by them.
 
+mod check;
 mod classify;
 pub(crate) mod diagnostic;
 mod eval;
+mod record;
 mod recurrence;
 mod reduce;
 mod scan;
@@ -40,6 +42,10 @@ enum Command {
     Spectrum(spectrum::SpectrumArgs),
     /// Quasinormal modes over a grid of one parameter (parallel, continuation, shards, plot).
     Scan(scan::ScanArgs),
+    /// Write a derivation record (plain text, one field a line) to commit beside a paper's code.
+    Record(record::RecordArgs),
+    /// Re-derive derivation records from their sources and show what changed as a unified diff.
+    Check(check::CheckArgs),
 }
 
 /// Output formats.
@@ -264,5 +270,7 @@ fn run(cli: Cli) -> u8 {
         Command::Recurrence(a) => recurrence::run(&a),
         Command::Spectrum(a) => spectrum::run(&a),
         Command::Scan(a) => scan::run(&a),
+        Command::Record(a) => record::run(&a),
+        Command::Check(a) => check::run(&a),
     }
 }

@@ -1,7 +1,6 @@
 //! `canonode recurrence`: the series recurrence about a regular singular point.
 
 use super::{run_command, Failure, Format, InputArgs};
-use crate::algebra::print::{poly_text, Style};
 use clap::Args;
 
 /// Arguments of `recurrence`.
@@ -44,20 +43,18 @@ fn compute(a: &RecurrenceArgs, src: &super::Source) -> Result<String, Failure> {
             e
         }
     })?;
-    let k = &rec.field;
-    let coeff = |c: &crate::algebra::RatFunc| poly_text(c.num(), c.scale(), k.names(), Style::Text);
-    let n = &k.names()[0];
+    let n = rec.index();
     Ok(match a.format {
         Format::Json => {
             let v = serde_json::json!({
                 "function": rec.function,
-                "ansatz": format!("{} = {} * sum(a[{n}]*u^{n})", rec.function, rec.prefactor),
+                "ansatz": rec.ansatz_text(),
                 "prefactor": rec.prefactor,
                 "series": rec.series,
                 "choices": rec.choices,
                 "terms": rec.coeffs.len(),
                 "index": n,
-                "coefficients": rec.coeffs.iter().enumerate().map(|(j, c)| serde_json::json!({"multiplies": shift_text(n, 1 - j as i64), "coefficient": coeff(c)})).collect::<Vec<_>>(),
+                "coefficients": (0..rec.coeffs.len()).map(|j| serde_json::json!({"multiplies": rec.subscript(j), "coefficient": rec.coefficient_text(j)})).collect::<Vec<_>>(),
             });
             format!("{}\n", serde_json::to_string_pretty(&v).unwrap_or_default())
         }
@@ -67,20 +64,11 @@ fn compute(a: &RecurrenceArgs, src: &super::Source) -> Result<String, Failure> {
             for c in &rec.choices {
                 o.push_str(&format!("  choice    {c}\n"));
             }
-            let terms: Vec<String> = (0..rec.coeffs.len()).map(|j| format!("c{j}({n})*a[{}]", shift_text(n, 1 - j as i64))).collect();
-            o.push_str(&format!("\n{}-term recurrence   {} = 0   ({n} ≥ 0, a[{n}] = 0 for {n} < 0)\n", rec.coeffs.len(), terms.join(" + ")));
-            for (j, c) in rec.coeffs.iter().enumerate() {
-                o.push_str(&format!("  c{j}({n}) = {}\n", coeff(c)));
+            o.push_str(&format!("\n{}-term recurrence   {}   ({n} ≥ 0, a[{n}] = 0 for {n} < 0)\n", rec.coeffs.len(), rec.equation_text()));
+            for j in 0..rec.coeffs.len() {
+                o.push_str(&format!("  c{j}({n}) = {}\n", rec.coefficient_text(j)));
             }
             o
         }
     })
-}
-
-fn shift_text(n: &str, d: i64) -> String {
-    match d {
-        0 => n.to_string(),
-        d if d > 0 => format!("{n}+{d}"),
-        d => format!("{n}-{}", -d),
-    }
 }

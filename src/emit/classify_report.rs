@@ -46,6 +46,8 @@ pub fn class_name(id: &str) -> String {
         "reduced-doubly-confluent-heun" => "reduced doubly confluent Heun".into(),
         "doubly-reduced-doubly-confluent-heun" => "doubly reduced doubly confluent Heun".into(),
         "fuchsian" => "Fuchsian".into(),
+        "whittaker" => "Whittaker".into(),
+        "bessel" => "Bessel".into(),
         other => other.replace('-', " "),
     }
 }
@@ -152,7 +154,7 @@ fn difference_text(k: &Field, p: &SingularPoint) -> Value {
     }
 }
 
-fn where_text(k: &Field, var: &str, p: &SingularPoint, s: Style) -> String {
+pub(crate) fn where_text(k: &Field, var: &str, p: &SingularPoint, s: Style) -> String {
     match &p.place {
         Place::Point { at, .. } => format!("{var} = {}", rf(k, at, s)),
         Place::Roots(f) => format!("{var} = θ, a root of {}", poly_text(f, &Int::ONE, k.names(), s)),
@@ -160,7 +162,7 @@ fn where_text(k: &Field, var: &str, p: &SingularPoint, s: Style) -> String {
     }
 }
 
-fn formal_text(k: &Field, var: &str, p: &SingularPoint) -> Vec<String> {
+pub(crate) fn formal_text(k: &Field, var: &str, p: &SingularPoint) -> Vec<String> {
     let x = match &p.place {
         Place::Point { at, .. } => crate::emit::report::shifted(var, &rf(k, at, Style::Text), Style::Text),
         _ => var.to_string(),
@@ -211,7 +213,7 @@ fn formal_text(k: &Field, var: &str, p: &SingularPoint) -> Vec<String> {
         .collect()
 }
 
-fn apparent_fields(k: &Field, a: &Apparent) -> (&'static str, Option<String>) {
+pub(crate) fn apparent_fields(k: &Field, a: &Apparent) -> (&'static str, Option<String>) {
     match a {
         Apparent::NotApplicable => ("not applicable", None),
         Apparent::Yes => ("yes", None),
@@ -430,10 +432,13 @@ fn param_latex(k: &Field, p: &Param) -> String {
         Param::Exact(r) => rf(k, r, Style::Latex),
         Param::Radical(c, r) => {
             let root = format!("\\sqrt{{{}}}", rf(k, r, Style::Latex));
-            if *c == RatFunc::one() {
-                root
-            } else {
-                format!("\\left({}\\right){root}", rf(k, c, Style::Latex))
+            let c = rf(k, c, Style::Latex);
+            match c.as_str() {
+                "1" => root,
+                "-1" => format!("-{root}"),
+                // A sum needs parentheses; a product or fraction stands as it is.
+                _ if c[1..].contains(" + ") || c[1..].contains(" - ") => format!("\\left({c}\\right){root}"),
+                _ => format!("{c}\\,{root}"),
             }
         }
         Param::Root(e) => exponent_text(k, e, Style::Latex),
@@ -457,22 +462,22 @@ pub fn analysis_latex(k: &Field, var: &str, a: &Analysis, canonical: Option<&Can
             Place::Infinity => format!("{v} = \\infty"),
         };
         let rank = if p.rank.is_zero() { String::new() } else { format!(", rank ${}$", p.rank) };
-        let mut row = format!("&{wher}: && \\text{{{}{rank}}}", p.kind.word());
+        rows.push(format!("&{wher}: && \\text{{{}{rank}}}", p.kind.word()));
+        // One row per set of exponents, under the kind: long exponents stay readable.
         if p.kind != crate::analysis::Kind::Irregular && !p.exponents.is_empty() {
             let e: Vec<String> = p.exponents.iter().map(|e| exponent_text(k, e, s)).collect();
-            row.push_str(&format!(" && \\rho_\\psi \\in \\{{{}\\}}", e.join(",\\ ")));
+            rows.push(format!("&&& \\rho_\\psi \\in \\{{{}\\}}", e.join(",\\ ")));
         }
         if !p.unknown_exponents.is_empty() {
             let e: Vec<String> = p.unknown_exponents.iter().map(|e| exponent_text(k, e, s)).collect();
-            row.push_str(&format!(" && \\rho \\in \\{{{}\\}}", e.join(",\\ ")));
+            rows.push(format!("&&& \\rho \\in \\{{{}\\}}", e.join(",\\ ")));
         }
-        rows.push(row);
     }
     if let Some(c) = canonical {
         rows.push(format!("&\\text{{canonical form: {} ({})}}", class_name(&c.form), c.source));
-        let ps: Vec<String> = c.parameters.iter().map(|(n, p)| format!("{} = {}", crate::algebra::print::latex_name(n), param_latex(k, p))).collect();
-        if !ps.is_empty() {
-            rows.push(format!("&{}", ps.join(",\\quad ")));
+        // One parameter a row, under the form's name, ready to paste.
+        for (n, p) in &c.parameters {
+            rows.push(format!("&&& {} = {}", crate::algebra::print::latex_name(n), param_latex(k, p)));
         }
     }
     format!("\\begin{{align*}}\n{}\n\\end{{align*}}\n", rows.join(" \\\\\n"))

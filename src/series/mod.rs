@@ -35,6 +35,42 @@ pub struct Recurrence {
     pub function: String,
 }
 
+impl Recurrence {
+    /// The name of the summation index (n, or n_ when n is a parameter).
+    pub fn index(&self) -> &str {
+        &self.field.names()[0]
+    }
+
+    /// The subscript of the coefficient that cⱼ multiplies: `n+1`, `n`, `n-1`, …
+    pub fn subscript(&self, j: usize) -> String {
+        let n = self.index();
+        match 1 - j as i64 {
+            0 => n.to_string(),
+            d if d > 0 => format!("{n}+{d}"),
+            d => format!("{n}-{}", -d),
+        }
+    }
+
+    /// cⱼ(n) as text in the input language.
+    pub fn coefficient_text(&self, j: usize) -> String {
+        let c = &self.coeffs[j];
+        crate::algebra::print::poly_text(c.num(), c.scale(), self.field.names(), Style::Text)
+    }
+
+    /// The ansatz in the input language: `y = prefactor * sum(a[n]*u^n)`.
+    pub fn ansatz_text(&self) -> String {
+        let n = self.index();
+        format!("{} = {} * sum(a[{n}]*u^{n})", self.function, self.prefactor)
+    }
+
+    /// The recurrence itself: `c0(n)*a[n+1] + c1(n)*a[n] + … = 0`.
+    pub fn equation_text(&self) -> String {
+        let n = self.index();
+        let terms: Vec<String> = (0..self.coeffs.len()).map(|j| format!("c{j}({n})*a[{}]", self.subscript(j))).collect();
+        format!("{} = 0", terms.join(" + "))
+    }
+}
+
 fn rat(n: i64, d: i64) -> RatFunc {
     RatFunc::rat(&Rat::new(n.into(), d.into()).expect("nonzero"))
 }

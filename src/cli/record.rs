@@ -1,0 +1,89 @@
+//! `canonode record`: writes the derivation record of an equation file (see
+//! `emit::record`), to stdout or to a `.deriv` file whose source path is then
+//! written relative to the record's directory.
+
+use super::{emit, report, Failure, InputArgs};
+use clap::Args;
+use std::path::{Component, Path, PathBuf};
+
+/// Arguments of `record`.
+#[derive(Args, Debug)]
+pub(crate) struct RecordArgs {
+    #[command(flatten)]
+    input: InputArgs,
+    /// Write the record to this file (conventionally FILE.deriv) instead of stdout;
+    /// the source path in it is then relative to the file's directory.
+    #[arg(short = 'o', long = "output", value_name = "FILE.deriv")]
+    output: Option<String>,
+}
+
+pub(crate) fn run(a: &RecordArgs) -> u8 {
+    let fail = |f: &Failure, src: Option<&super::Source>| -> u8 {
+        let (msg, code) = report(f, src, Some(&a.input), &[]);
+        if !msg.is_empty() {
+            eprintln!("{msg}");
+        }
+        code
+    };
+    if a.input.equation.is_some() || a.input.file.as_deref() == Some("-") {
+        let msg = "error: a record names the file it was derived from: give an equation file, not -e or standard input";
+        return fail(&Failure::Plain(msg.into(), 2), None);
+    }
+    let src = match a.input.read() {
+        Ok(s) => s,
+        Err(f) => return fail(&f, None),
+    };
+    let path = match &a.output {
+        Some(out) => match relative_to_output(&src.name, out) {
+            Ok(p) => p,
+            Err(f) => return fail(&f, None),
+        },
+        None => src.name.replace(std::path::MAIN_SEPARATOR, "/"),
+    };
+    let rec = match crate::record::derive(&src.text, &path, &a.input.options()) {
+        Ok(r) => r,
+        Err(e) => return fail(&e.into(), Some(&src)),
+    };
+    let text = rec.render();
+    let done = match &a.output {
+        Some(out) => write_file(out, &text),
+        None => emit(&text),
+    };
+    match done {
+        Ok(()) => 0,
+        Err(f) => fail(&f, Some(&src)),
+    }
+}
+
+/// The path of `source` as seen from the directory of `output`, with `/`
+/// separators, so that `check` finds the source wherever the two are moved together.
+fn relative_to_output(source: &str, output: &str) -> Result<String, Failure> {
+    let cannot = |what: &str, p: &Path, e: std::io::Error| Failure::Plain(format!("{}: error: cannot resolve the {what}: {e}", p.display()), 2);
+    let src = Path::new(source).canonicalize().map_err(|e| cannot("source path", Path::new(source), e))?;
+    let out_dir = match Path::new(output).parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let dir = out_dir.canonicalize().map_err(|e| cannot("output directory", &out_dir, e))?;
+    let (s, d): (Vec<Component>, Vec<Component>) = (src.components().collect(), dir.components().collect());
+    let common = s.iter().zip(&d).take_while(|(a, b)| a == b).count();
+    let mut parts: Vec<String> = vec!["..".to_string(); d.len() - common];
+    for c in &s[common..] {
+        match c.as_os_str().to_str() {
+            Some(t) => parts.push(t.to_string()),
+            None => return Err(Failure::Plain(format!("{source}: error: the source path is not valid UTF-8"), 2)),
+        }
+    }
+    Ok(parts.join("/"))
+}
+
+/// Writes `text` to `path` through a temporary file beside it, so that a
+/// failed write never leaves a truncated record in place of a good one.
+fn write_file(path: &str, text: &str) -> Result<(), Failure> {
+    let tmp = format!("{path}.tmp{}", std::process::id());
+    let res = std::fs::write(&tmp, text).and_then(|_| std::fs::rename(&tmp, path));
+    res.map_err(|e| {
+        let _ = std::fs::remove_file(&tmp);
+        Failure::Plain(format!("{path}: error: cannot write the record: {e}"), 1)
+    })
+}

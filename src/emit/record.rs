@@ -1,0 +1,456 @@
+//! Derivation records: a plain-text, line-oriented, deterministic account of
+//! one derivation (normal form, singular points, class, canonical
+//! parameters, a series recurrence) that can be committed beside the code
+//! of a paper and re-checked later, by `canonode check` or in a test.
+//!
+//! A record is a header line [`HEADER`] and then one field per line,
+//! `key: value`. Multi-valued things have indexed keys (`point[2].exponent[1]`,
+//! `recurrence.c[0]`), so a changed value is named by its key. Every value is
+//! exact text in the input language, produced by the same printers as the
+//! `reduce` and `classify` reports. Blank lines and lines starting with `#`
+//! are ignored when a record is read. The field `tool.version` is
+//! informational: [`compare`] reports a different version but does not count
+//! it as a change.
+//!
+//! The source file is named by `source.path` (relative to the record's
+//! directory, with `/` separators) and pinned by `source.sha256`, the SHA-256
+//! of its bytes; `option.*` hold the options of the reduction. The recurrence
+//! follows a fixed rule, stated in the record ([`RECURRENCE_RULE`]).
+//!
+//! ```
+//! use canonode::ode::ReduceOptions;
+//! use canonode::record::{compare, derive, Record};
+//!
+//! // DLMF 10.2.1, Bessel's equation.
+//! let src = "var z\nparam nu\node z^2*w'' + z*w' + (z^2 - nu^2)*w = 0\n";
+//! let rec = derive(src, "bessel.ode", &ReduceOptions::default()).unwrap();
+//! // Its normal form is Q = 1 + (1/4 − ν²)/z² (DLMF 10.2.1).
+//! assert_eq!(rec.get("normal.Q"), Some("(z^2 - nu^2 + 1/4)/z^2"));
+//! // One regular point at z = 0 with exponents ±ν, and rank 1 at ∞.
+//! assert_eq!(rec.get("class"), Some("confluent-hypergeometric"));
+//! assert_eq!(rec.get("point[1].at"), Some("z = 0"));
+//! assert_eq!(rec.get("point[1].exponent[1]"), Some("nu"));
+//! assert_eq!(rec.get("point[1].exponent[2]"), Some("-nu"));
+//! assert_eq!(rec.get("point[2].rank"), Some("1"));
+//!
+//! // The rendered text reads back to the same record.
+//! let text = rec.render();
+//! assert!(text.starts_with("canonode-derivation 1\n"));
+//! let again = Record::parse(&text).unwrap();
+//! assert!(compare(&again, &rec).holds());
+//! // For a snapshot test (insta::assert_snapshot!) the version line is left out.
+//! assert!(!rec.render_derivation().contains("tool.version"));
+//!
+//! // Changing a coefficient changes the derivation, and the diff names it.
+//! let changed = "var z\nparam nu\node z^2*w'' + 2*z*w' + (z^2 - nu^2)*w = 0\n";
+//! let rec2 = derive(changed, "bessel.ode", &ReduceOptions::default()).unwrap();
+//! let cmp = compare(&rec, &rec2);
+//! assert!(!cmp.holds());
+//! assert!(cmp.changed.iter().any(|k| k == "standard.p"));
+//! assert!(cmp.diff.contains("-standard.p: 1/z\n+standard.p: 2/z\n"));
+//! ```
+
+use super::classify_report::{apparent_fields, exponent_text, formal_text, param_text, where_text};
+use super::report::prefactor_text;
+use crate::algebra::print::{ratfunc_text, Style};
+use crate::analysis::{Analysis, Kind, Place};
+use crate::error::{Error, ErrorKind, Result};
+use crate::ode::{ReduceOptions, Reduction};
+use crate::syntax::Span;
+
+/// The first line of every record: the format's name and version.
+pub const HEADER: &str = "canonode-derivation 1";
+
+/// The key of the (informational, not compared) tool version.
+pub const VERSION_KEY: &str = "tool.version";
+
+/// How the recorded recurrence is chosen; written into each record.
+pub const RECURRENCE_RULE: &str = "about the first finite regular singular point at an exact location where one exists, \
+in the default series variable, with the default exponents (the unknown's exponent 0 where it has one, else the first exact one; the first listed branch at an irregular point at infinity)";
+
+/// The value of an option that was not given. It cannot be confused with a
+/// given value: no expression or name of the input language contains a space
+/// between two names.
+const NOT_GIVEN: &str = "(not given)";
+
+/// One `key: value` line.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Entry {
+    /// The field's name, e.g. `point[1].kind`.
+    pub key: String,
+    /// Its value, one line of text.
+    pub value: String,
+    /// Where the value stands in the text the record was read from (`None` for a computed record).
+    pub span: Option<Span>,
+}
+
+/// A derivation record: its fields in order.
+#[derive(Clone, Debug, Default)]
+pub struct Record {
+    entries: Vec<Entry>,
+    /// The length of the text the record was read from: errors about a missing field point there.
+    end: usize,
+}
+
+impl Record {
+    /// The fields in order.
+    pub fn entries(&self) -> &[Entry] {
+        &self.entries
+    }
+
+    /// The value of a field.
+    pub fn get(&self, key: &str) -> Option<&str> {
+        self.entry(key).map(|e| e.value.as_str())
+    }
+
+    fn entry(&self, key: &str) -> Option<&Entry> {
+        self.entries.iter().find(|e| e.key == key)
+    }
+
+    fn push(&mut self, key: impl Into<String>, value: impl Into<String>) -> Result<()> {
+        let (key, value) = (key.into(), value.into());
+        if value.contains('\n') || value.contains('\r') {
+            return Err(Error::new(ErrorKind::Internal, format!("the record field {key} would span more than one line")));
+        }
+        self.entries.push(Entry { key, value, span: None });
+        Ok(())
+    }
+
+    /// The record as text: the header, then `key: value` lines.
+    pub fn render(&self) -> String {
+        let mut o = format!("{HEADER}\n");
+        for e in &self.entries {
+            o.push_str(&e.key);
+            o.push(':');
+            if !e.value.is_empty() {
+                o.push(' ');
+                o.push_str(&e.value);
+            }
+            o.push('\n');
+        }
+        o
+    }
+
+    /// The record as text without the `tool.version` line: the derivation
+    /// alone, for snapshot tests that must survive an upgrade of canonode.
+    pub fn render_derivation(&self) -> String {
+        let mut r = self.clone();
+        r.entries.retain(|e| e.key != VERSION_KEY);
+        r.render()
+    }
+
+    /// Reads a record. Errors are [`ErrorKind::Record`] with a span into `text`.
+    pub fn parse(text: &str) -> Result<Record> {
+        let mut lines = line_spans(text);
+        let Some((first, span)) = lines.next() else {
+            return Err(Error::new(ErrorKind::Record, "the record is empty")
+                .at(Span::new(0, 0))
+                .note(format!("a record starts with the line '{HEADER}'")));
+        };
+        if first != HEADER {
+            let (name, _) = HEADER.rsplit_once(' ').expect("the header has a version");
+            let msg = match first.strip_prefix(name).and_then(|r| r.strip_prefix(' ')) {
+                Some(v) => format!("record format version {v} is not supported (this canonode reads version 1)"),
+                None => "not a derivation record: the first line is not the format's header".to_string(),
+            };
+            return Err(Error::new(ErrorKind::Record, msg).at(span).note(format!("a record starts with the line '{HEADER}'")));
+        }
+        let mut rec = Record { entries: Vec::new(), end: text.len() };
+        for (line, span) in lines {
+            if line.trim().is_empty() || line.starts_with('#') {
+                continue;
+            }
+            let Some((key, rest)) = line.split_once(':') else {
+                return Err(Error::new(ErrorKind::Record, "expected 'key: value'").at(span));
+            };
+            if key.is_empty() || !key.chars().all(|c| c.is_ascii_alphanumeric() || "._-[]".contains(c)) {
+                let end = span.start + key.len().max(1);
+                return Err(Error::new(ErrorKind::Record, format!("'{key}' is not a field name"))
+                    .at(Span::new(span.start, end.min(span.end)))
+                    .note("field names are letters, digits and . _ - [ ]"));
+            }
+            if let Some(prev) = rec.entry(key) {
+                let line_no = prev.span.map(|s| text[..s.start].matches('\n').count() + 1).unwrap_or(0);
+                return Err(Error::new(ErrorKind::Record, format!("the field {key} appears twice"))
+                    .at(Span::new(span.start, span.start + key.len()))
+                    .note(format!("first on line {line_no}")));
+            }
+            let value = rest.strip_prefix(' ').unwrap_or(rest);
+            let start = span.end - value.len();
+            rec.entries.push(Entry { key: key.to_string(), value: value.to_string(), span: Some(Span::new(start, span.end)) });
+        }
+        Ok(rec)
+    }
+
+    /// A required field, or an error pointing at the end of the text.
+    fn required(&self, key: &str) -> Result<&Entry> {
+        self.entry(key).ok_or_else(|| {
+            Error::new(ErrorKind::Record, format!("the record has no field {key}"))
+                .at(Span::new(self.end, self.end))
+                .note("write the record with `canonode record`")
+        })
+    }
+
+    /// The source file as named in the record (relative to the record's directory).
+    pub fn source_path(&self) -> Result<&str> {
+        let e = self.required("source.path")?;
+        if e.value.trim().is_empty() {
+            return Err(Error::new(ErrorKind::Record, "the source path is empty").or_at(e.span.unwrap_or(Span::new(0, 0))));
+        }
+        Ok(&e.value)
+    }
+
+    /// Where a field's value stands in the text the record was read from.
+    pub fn span(&self, key: &str) -> Option<Span> {
+        self.entry(key).and_then(|e| e.span)
+    }
+
+    /// The options of the recorded reduction.
+    pub fn options(&self) -> Result<ReduceOptions> {
+        let text = |key: &str| -> Result<Option<String>> {
+            let e = self.required(key)?;
+            Ok(if e.value == NOT_GIVEN { None } else { Some(e.value.clone()) })
+        };
+        let inf = self.required("option.at-infinity")?;
+        let at_infinity = match inf.value.as_str() {
+            "yes" => true,
+            "no" => false,
+            other => {
+                let mut err = Error::new(ErrorKind::Record, format!("'{other}' is not yes or no"));
+                if let Some(s) = inf.span {
+                    err = err.at(s);
+                }
+                return Err(err);
+            }
+        };
+        let opts = ReduceOptions {
+            subst: text("option.subst")?,
+            at_infinity,
+            dxdz: text("option.dxdz")?,
+            frequency: text("option.frequency")?,
+            ..ReduceOptions::default()
+        };
+        if opts.at_infinity && opts.subst.is_some() {
+            let mut err = Error::new(ErrorKind::Record, "option.subst and option.at-infinity cannot both be given");
+            if let Some(s) = inf.span {
+                err = err.at(s);
+            }
+            return Err(err);
+        }
+        Ok(opts)
+    }
+}
+
+/// The lines of `text` (without line breaks) with their byte spans.
+fn line_spans(text: &str) -> impl Iterator<Item = (&str, Span)> {
+    let mut start = 0;
+    text.split_inclusive('\n').map(move |raw| {
+        let line = raw.trim_end_matches('\n').trim_end_matches('\r');
+        let span = Span::new(start, start + line.len());
+        start += raw.len();
+        (line, span)
+    })
+}
+
+/// The SHA-256 of `bytes` in lower-case hexadecimal.
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    use sha2::Digest;
+    sha2::Sha256::digest(bytes).iter().map(|b| format!("{b:02x}")).collect()
+}
+
+/// Derives the record of the program `source` (a whole file in the input
+/// language), named `source_path` in the record, reduced with `opts`.
+pub fn derive(source: &str, source_path: &str, opts: &ReduceOptions) -> Result<Record> {
+    let red = crate::ode::reduce(&crate::ode::Input::Program(source), opts)?;
+    let mut rec = Record::default();
+    let given = |o: &Option<String>| o.clone().unwrap_or_else(|| NOT_GIVEN.to_string());
+    rec.push(VERSION_KEY, env!("CARGO_PKG_VERSION"))?;
+    rec.push("source.path", source_path)?;
+    rec.push("source.sha256", sha256_hex(source.as_bytes()))?;
+    rec.push("option.subst", given(&opts.subst))?;
+    rec.push("option.at-infinity", if opts.at_infinity { "yes" } else { "no" })?;
+    rec.push("option.dxdz", given(&opts.dxdz))?;
+    rec.push("option.frequency", given(&opts.frequency))?;
+    reduction_fields(&mut rec, &red)?;
+    let an = crate::analysis::analyse(&red)?;
+    analysis_fields(&mut rec, &red, &an)?;
+    recurrence_fields(&mut rec, &red, &an)?;
+    Ok(rec)
+}
+
+fn reduction_fields(rec: &mut Record, red: &Reduction) -> Result<()> {
+    let s = Style::Text;
+    let names = red.field.names();
+    let rt = |x| ratfunc_text(x, names, s);
+    rec.push("variable", &red.var)?;
+    rec.push("unknown", &red.ode.unknown)?;
+    rec.push("parameters", if red.ode.params.is_empty() { "(none)".to_string() } else { red.ode.params.join(", ") })?;
+    if let Some(c) = &red.change {
+        rec.push("change.map", format!("{} = {}", c.old_var, rt(&c.g)))?;
+        rec.push("change.schwarzian", rt(&c.schwarzian))?;
+    }
+    rec.push("standard.p", rt(&red.p))?;
+    rec.push("standard.q", rt(&red.q))?;
+    rec.push("normal.Q", rt(&red.normal.q))?;
+    rec.push("normal.prefactor", prefactor_text(red, &red.normal.prefactor, s))?;
+    if let Some(sch) = &red.schrodinger {
+        rec.push("schrodinger.dxdz", rt(&sch.dxdz))?;
+        rec.push("schrodinger.frequency", sch.frequency.clone().unwrap_or_else(|| "(none)".into()))?;
+        rec.push("schrodinger.V", rt(&sch.v))?;
+    }
+    Ok(())
+}
+
+fn analysis_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result<()> {
+    let s = Style::Text;
+    let k = &red.field;
+    rec.push("class", &an.class)?;
+    rec.push("class.reason", &an.reason)?;
+    for (i, n) in an.notes.iter().enumerate() {
+        rec.push(format!("class.note[{}]", i + 1), n)?;
+    }
+    for (i, p) in an.points.iter().enumerate() {
+        let key = |f: &str| format!("point[{}].{f}", i + 1);
+        rec.push(key("at"), where_text(k, &red.var, p, s))?;
+        rec.push(key("kind"), p.kind.word())?;
+        rec.push(key("pole-order"), p.pole_order.to_string())?;
+        rec.push(key("rank"), p.rank.to_string())?;
+        if p.removable {
+            rec.push(key("removable"), "yes: Q is regular here, only the prefactor is singular")?;
+        }
+        if p.kind != Kind::Irregular {
+            for (j, e) in p.exponents.iter().enumerate() {
+                rec.push(key(&format!("psi-exponent[{}]", j + 1)), exponent_text(k, e, s))?;
+            }
+        }
+        for (j, e) in p.unknown_exponents.iter().enumerate() {
+            rec.push(key(&format!("exponent[{}]", j + 1)), exponent_text(k, e, s))?;
+        }
+        if let Some(n) = p.integer_difference {
+            rec.push(key("integer-difference"), n.to_string())?;
+            let (word, cond) = apparent_fields(k, &p.apparent);
+            rec.push(
+                key("apparent"),
+                match cond {
+                    Some(c) => format!("{word} ({c})"),
+                    None => word.to_string(),
+                },
+            )?;
+        }
+        for (j, f) in formal_text(k, &red.var, p).iter().enumerate() {
+            rec.push(key(&format!("formal[{}]", j + 1)), format!("psi ~ {f}"))?;
+        }
+    }
+    match crate::analysis::canonical(red, an, &crate::analysis::canonical::Choices::default())? {
+        Some(c) => {
+            rec.push("canonical.form", &c.form)?;
+            rec.push("canonical.source", &c.source)?;
+            rec.push("canonical.map", &c.map)?;
+            rec.push("canonical.prefactor", &c.prefactor)?;
+            for (j, ch) in c.choices.iter().enumerate() {
+                rec.push(format!("canonical.choice[{}]", j + 1), ch)?;
+            }
+            for (n, p) in &c.parameters {
+                rec.push(format!("canonical.param[{n}]"), param_text(k, p))?;
+            }
+        }
+        None => rec.push("canonical.none", "no canonical form is reached for this class and configuration")?,
+    }
+    Ok(())
+}
+
+fn recurrence_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result<()> {
+    let k = &red.field;
+    rec.push("recurrence.rule", RECURRENCE_RULE)?;
+    let mut why_not = Vec::new();
+    for p in &an.points {
+        let Place::Point { at, .. } = &p.place else { continue };
+        if p.kind != Kind::Regular {
+            continue;
+        }
+        let about = ratfunc_text(at, k.names(), Style::Text);
+        let r = match crate::series::recurrence(red, &about, None, &crate::analysis::canonical::Choices::default(), false) {
+            Ok(r) => r,
+            // A recurrence that does not exist about this point is part of the derivation, not a failure.
+            Err(e) if e.is_bad_input() => {
+                why_not.push(format!("about {}: {}", where_text(k, &red.var, p, Style::Text), e.message));
+                continue;
+            }
+            Err(e) => return Err(e),
+        };
+        rec.push("recurrence.about", where_text(k, &red.var, p, Style::Text))?;
+        rec.push("recurrence.series", &r.series)?;
+        rec.push("recurrence.ansatz", r.ansatz_text())?;
+        for (j, c) in r.choices.iter().enumerate() {
+            rec.push(format!("recurrence.choice[{}]", j + 1), c)?;
+        }
+        rec.push("recurrence.equation", r.equation_text())?;
+        for j in 0..r.coeffs.len() {
+            rec.push(format!("recurrence.c[{j}]"), r.coefficient_text(j))?;
+        }
+        return Ok(());
+    }
+    if why_not.is_empty() {
+        why_not.push("the equation has no finite regular singular point at an exact location".to_string());
+    }
+    rec.push("recurrence.none", why_not.join("; "))
+}
+
+/// What changed between a recorded and a recomputed derivation.
+#[derive(Clone, Debug, Default)]
+pub struct Comparison {
+    /// The keys whose value differs, was added or was removed (in record order; never the version).
+    pub changed: Vec<String>,
+    /// A unified diff of the two records (the version line left out of the comparison); empty when they hold.
+    pub diff: String,
+    /// (recorded, recomputed) tool versions, when they differ.
+    pub version: Option<(String, String)>,
+}
+
+impl Comparison {
+    /// True when the derivation is unchanged (a different tool version alone does not count).
+    pub fn holds(&self) -> bool {
+        self.changed.is_empty()
+    }
+}
+
+/// Compares a recorded derivation with a recomputed one; the diff is labelled
+/// `recorded` and `recomputed`. See [`compare_named`] for other labels.
+pub fn compare(recorded: &Record, recomputed: &Record) -> Comparison {
+    compare_named(recorded, recomputed, "recorded", "recomputed")
+}
+
+/// [`compare`] with the labels of the diff's `---` and `+++` lines.
+pub fn compare_named(recorded: &Record, recomputed: &Record, old_label: &str, new_label: &str) -> Comparison {
+    let mut changed = Vec::new();
+    for e in recorded.entries.iter().filter(|e| e.key != VERSION_KEY) {
+        if recomputed.get(&e.key) != Some(e.value.as_str()) {
+            changed.push(e.key.clone());
+        }
+    }
+    for e in recomputed.entries.iter().filter(|e| e.key != VERSION_KEY) {
+        if recorded.entry(&e.key).is_none() {
+            changed.push(e.key.clone());
+        }
+    }
+    let (old_v, new_v) = (recorded.get(VERSION_KEY), recomputed.get(VERSION_KEY));
+    let version = match (old_v, new_v) {
+        (a, b) if a == b => None,
+        (a, b) => Some((a.unwrap_or("(none)").to_string(), b.unwrap_or("(none)").to_string())),
+    };
+    let diff = if changed.is_empty() {
+        String::new()
+    } else {
+        // The recomputed text carries the recorded version so that the diff
+        // shows only the derivation.
+        let mut same_version = recomputed.clone();
+        same_version.entries.retain(|e| e.key != VERSION_KEY);
+        if let Some(pos) = recorded.entries.iter().position(|e| e.key == VERSION_KEY) {
+            let v = recorded.entries[pos].clone();
+            same_version.entries.insert(pos.min(same_version.entries.len()), Entry { span: None, ..v });
+        }
+        let (a, b) = (recorded.render(), same_version.render());
+        similar::TextDiff::from_lines(&a, &b).unified_diff().context_radius(2).header(old_label, new_label).to_string()
+    };
+    Comparison { changed, diff, version }
+}
