@@ -442,3 +442,47 @@ fn spheroidal_eigenvalue_by_its_continued_fraction_matches_collocation() {
         assert!((a.re - colloc[j]).abs() < 1e-10 * colloc[j] && a.im.abs() < 1e-10, "j={j}: {a} vs collocation {}", colloc[j]);
     }
 }
+
+#[test]
+fn kerr_scan_over_the_spin_follows_the_mode() {
+    // The coupled solve on a grid of a/M, each point seeded by its
+    // neighbour: a = 0 is Schwarzschild and a = 0.9 Leaver 1985's
+    // 0.67161 − 0.06487i (as in the coupled spectrum test above), with the
+    // direct-integration check beside every point.
+    let out = Command::new(env!("CARGO_BIN_EXE_canonode"))
+        .args([
+            "scan",
+            "samples/teukolsky_radial.ode",
+            "--vary",
+            "a=0:0.9:0.3",
+            "--at",
+            "M=1,m=2,s=-2",
+            "--guess",
+            "0.37-0.09i",
+            "--couple",
+            "samples/spheroidal_spin_weighted.ode",
+            "--link",
+            "lam = A + a^2*omega^2 - 2*a*m*omega",
+            "--link",
+            "c = a*omega",
+            "--format",
+            "json",
+        ])
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let pts = v["points"].as_array().unwrap();
+    assert_eq!(pts.len(), 4);
+    let w0 = omega(&pts[0]["modes"][0]);
+    assert!((w0.0 - 0.37367168).abs() < 5.1e-9 && (w0.1 + 0.08896232).abs() < 5.1e-9, "{w0:?}");
+    let w9 = omega(&pts[3]["modes"][0]);
+    assert!((w9.0 - 0.67161).abs() < 5e-6 && (w9.1 + 0.06487).abs() < 5e-6, "{w9:?}");
+    for p in pts {
+        let m = &p["modes"][0];
+        let (re, im) = omega(m);
+        let c = &m["check"]["omega"];
+        assert!((c[0].as_f64().unwrap() - re).abs() + (c[1].as_f64().unwrap() - im).abs() < 1e-9, "{p}");
+    }
+}

@@ -5,7 +5,7 @@ use super::values::parse_assignments;
 use super::{run_command, Failure, InputArgs};
 use crate::algebra::{GRat, Rat};
 use crate::error::{Error, ErrorKind};
-use crate::solve::scan::{grid, plot, scan, shard};
+use crate::solve::scan::{grid, plot, scan, shard, single_point, PointSolver};
 use crate::solve::spectrum::SpectrumOptions;
 use clap::{Args, ValueEnum};
 use std::io::IsTerminal;
@@ -48,11 +48,18 @@ pub(crate) struct ScanArgs {
     /// Output format.
     #[arg(long = "format", value_enum, default_value = "csv")]
     format: ScanFormat,
+    /// A seed for the lowest overtone at the first grid point, e.g. '0.37-0.09i' (later points follow their neighbour).
+    #[arg(long = "guess", value_name = "VALUE", allow_hyphen_values = true)]
+    guess: Option<String>,
+    #[command(flatten)]
+    couple: super::spectrum::CoupleArgs,
 }
 
 pub(crate) fn run(a: &ScanArgs) -> u8 {
     let mut extra = vec![("--vary".to_string(), a.vary.clone()), ("--at".to_string(), a.at.clone())];
     extra.extend(a.shard.iter().map(|s| ("--shard".to_string(), s.clone())));
+    extra.extend(a.guess.iter().map(|g| ("--guess".to_string(), g.clone())));
+    extra.extend(a.couple.option_texts());
     run_command(&a.input, &extra, |src| compute(a, src))
 }
 
@@ -93,7 +100,30 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     given[0] = true;
     given[freq] = true;
     given[vary] = true;
+    let coupled = a.couple.read(&red.field)?;
+    let links = coupled.as_ref().map(|c| c.2.clone()).unwrap_or_default();
+    for l in links.iter().filter(|l| !l.angular) {
+        if let Some(i) = names.iter().position(|x| *x == l.target) {
+            if i == freq || i == vary {
+                return Err(Error::new(ErrorKind::Usage, format!("'{}' is solved for or varied: it cannot be linked", l.target)).into());
+            }
+            given[i] = true;
+        }
+    }
+    // Values of the angular equation's own parameters (not the radial one's).
+    let mut angular_at: Vec<(String, GRat)> = Vec::new();
     for (n, v, span) in parse_assignments(&a.at, "--at")? {
+        if links.iter().any(|l| l.target == n) {
+            return Err(Error::new(ErrorKind::Usage, format!("'{n}' is set by a --link; it cannot also have a value"))
+                .at(span)
+                .in_option("--at")
+                .into());
+        }
+        let angular_only = coupled.as_ref().is_some_and(|c| c.1.field.names()[1..].contains(&n)) && !names[1..].contains(&n);
+        if angular_only {
+            angular_at.push((n, v));
+            continue;
+        }
         match names.iter().skip(1).position(|x| *x == n) {
             Some(i) if i + 1 != freq && i + 1 != vary => {
                 point[i + 1] = v;
@@ -124,7 +154,40 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
             }
         }
     };
-    let base = SpectrumOptions { freq, values: point, overtones: (o0, o1), tol: a.tol, guess: None, seeds: Vec::new() };
+    let guess = match &a.guess {
+        Some(g) => {
+            let v = super::values::parse_complex(g).ok_or_else(|| usage(format!("'{g}' is not a complex number"), "--guess", g.len()))?;
+            let (re, im) = v.to_f64();
+            Some(num_complex::Complex64::new(re, im))
+        }
+        None => None,
+    };
+    let angular_guess = match &a.couple.angular_guess {
+        Some(g) => {
+            let v = super::values::parse_complex(g).ok_or_else(|| usage(format!("'{g}' is not a complex number"), "--angular-guess", g.len()))?;
+            let (re, im) = v.to_f64();
+            Some(num_complex::Complex64::new(re, im))
+        }
+        None => None,
+    };
+    let base = SpectrumOptions { freq, values: point, overtones: (o0, o1), tol: a.tol, guess, seeds: Vec::new() };
+    // A coupled scan sets its angular problem up at the first point here, so
+    // that a bad angular equation is reported against its own text before
+    // any work starts.
+    if let Some((asrc, ared, _)) = &coupled {
+        let mut first = base.clone();
+        first.values[vary] = GRat::real(g[range.start.min(g.len() - 1)].clone());
+        crate::solve::coupled::try_coupling(
+            &red.field,
+            ared,
+            &links,
+            &fixed_values(&names, &first, &angular_at, &links),
+            freq,
+            a.couple.angular_index,
+            angular_guess,
+        )
+        .map_err(|e| super::spectrum::angular_failure(e, asrc))?;
+    }
     let total = range.len() as u64;
     let bar = if std::io::stderr().is_terminal() { Some(indicatif::ProgressBar::new(total)) } else { None };
     let tick = || {
@@ -133,7 +196,32 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
         }
     };
     let opts = a.input.options();
-    let make = || crate::ode::reduce(&src.input(), &opts);
+    let angular_text = coupled.as_ref().map(|c| c.0.text.clone());
+    let index = a.couple.angular_index;
+    let make = || -> crate::error::Result<PointSolver<'_>> {
+        let red = crate::ode::reduce(&src.input(), &opts)?;
+        match &angular_text {
+            None => Ok(Box::new(move |o: &SpectrumOptions, check: bool| single_point(&red, o, check))),
+            Some(text) => {
+                let ared = crate::ode::reduce(&crate::ode::Input::Program(text), &crate::ode::ReduceOptions::default())?;
+                let (names, links, at) = (names.clone(), links.clone(), angular_at.clone());
+                Ok(Box::new(move |o: &SpectrumOptions, check: bool| {
+                    let c = crate::solve::coupled::try_coupling(
+                        &red.field,
+                        &ared,
+                        &links,
+                        &fixed_values(&names, o, &at, &links),
+                        o.freq,
+                        index,
+                        angular_guess,
+                    )?;
+                    let none = |_: u32| None;
+                    let (_, modes) = crate::solve::coupled::coupled_spectrum(&red, &c, o, check, &none)?;
+                    Ok(modes.into_iter().map(|m| (m.mode, m.check.filter(|c| c.converged).map(|c| c.omega))).collect())
+                }))
+            }
+        }
+    };
     let points = scan(&make, &base, vary, &g, range, !a.no_check, &tick);
     if let Some(b) = &bar {
         b.finish_and_clear();
@@ -187,4 +275,19 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
             )
         }
     })
+}
+
+/// The fixed values of a coupled point: the radial parameters at the
+/// point's values (not the frequency, not the linked ones) and the angular
+/// equation's own.
+fn fixed_values(names: &[String], o: &SpectrumOptions, angular_at: &[(String, GRat)], links: &[crate::solve::coupled::Link]) -> Vec<(String, GRat)> {
+    let mut out: Vec<(String, GRat)> = names
+        .iter()
+        .enumerate()
+        .skip(1)
+        .filter(|(i, n)| *i != o.freq && !links.iter().any(|l| l.target == **n))
+        .map(|(i, n)| (n.clone(), o.values[i].clone()))
+        .collect();
+    out.extend(angular_at.iter().cloned());
+    out
 }

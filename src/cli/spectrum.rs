@@ -61,18 +61,46 @@ pub(crate) struct SpectrumArgs {
     /// Output format.
     #[arg(long = "format", value_enum, default_value = "text")]
     format: SpecFormat,
+    #[command(flatten)]
+    couple: CoupleArgs,
+}
+
+/// A second equation sharing a separation constant (shared by `spectrum` and `scan`).
+#[derive(Args, Debug)]
+pub(crate) struct CoupleArgs {
     /// An angular equation sharing the separation constant (e.g. the spin-weighted spheroidal equation for Kerr).
     #[arg(long = "couple", value_name = "ANGULAR_FILE")]
-    couple: Option<String>,
+    pub(crate) couple: Option<String>,
     /// A link between the equations, 'NAME = EXPR' (repeatable), e.g. 'lam = A + c^2 - 2*a*m*omega' and 'c = a*omega'.
     #[arg(long = "link", value_name = "NAME = EXPR", requires = "couple")]
-    link: Vec<String>,
+    pub(crate) link: Vec<String>,
     /// Which angular eigenvalue: 0 is the lowest (for the spin-weighted spheroidal equation l − max(|m|, |s|)).
     #[arg(long = "angular-index", value_name = "J", default_value_t = 0, requires = "couple")]
-    angular_index: usize,
+    pub(crate) angular_index: usize,
     /// A first value of the angular eigenvalue (default: from the terminating series where the linked parameters vanish).
     #[arg(long = "angular-guess", value_name = "VALUE", allow_hyphen_values = true, requires = "couple")]
-    angular_guess: Option<String>,
+    pub(crate) angular_guess: Option<String>,
+}
+
+impl CoupleArgs {
+    /// The option values a coupled solve's errors may point into.
+    pub(crate) fn option_texts(&self) -> Vec<(String, String)> {
+        let mut extra: Vec<(String, String)> = self.angular_guess.iter().map(|g| ("--angular-guess".to_string(), g.clone())).collect();
+        // A failing link is reported against its own text.
+        extra.extend(self.link.iter().enumerate().map(|(i, l)| (link_option(i), l.clone())));
+        extra
+    }
+
+    /// The angular equation and the parsed links, when `--couple` is given.
+    pub(crate) fn read(
+        &self,
+        radial: &crate::algebra::Field,
+    ) -> Result<Option<(super::Source, crate::ode::Reduction, Vec<crate::solve::coupled::Link>)>, Failure> {
+        let Some(path) = &self.couple else { return Ok(None) };
+        let (asrc, ared) = read_angular(path)?;
+        let links = parse_links(self, radial, &ared.field)?;
+        Ok(Some((asrc, ared, links)))
+    }
 }
 
 fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
@@ -82,9 +110,7 @@ fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
 pub(crate) fn run(a: &SpectrumArgs) -> u8 {
     let mut extra = vec![("--at".to_string(), a.at.clone()), ("--overtones".to_string(), a.overtones.clone())];
     extra.extend(a.guess.iter().map(|g| ("--guess".to_string(), g.clone())));
-    extra.extend(a.angular_guess.iter().map(|g| ("--angular-guess".to_string(), g.clone())));
-    // A failing link is reported against its own text.
-    extra.extend(a.link.iter().enumerate().map(|(i, l)| (link_option(i), l.clone())));
+    extra.extend(a.couple.option_texts());
     run_command(&a.input, &extra, |src| compute(a, src))
 }
 
@@ -118,14 +144,9 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     let mut given = vec![false; names.len()];
     given[0] = true;
     given[freq] = true;
-    let angular = match &a.couple {
-        Some(path) => Some(read_angular(path)?),
-        None => None,
-    };
-    let links = match &angular {
-        Some((_, ared)) => parse_links(a, k, &ared.field)?,
-        None => Vec::new(),
-    };
+    let coupled_input = a.couple.read(k)?;
+    let links = coupled_input.as_ref().map(|c| c.2.clone()).unwrap_or_default();
+    let angular = coupled_input.as_ref().map(|c| (&c.0, &c.1));
     for l in links.iter().filter(|l| !l.angular) {
         if let Some(i) = names.iter().position(|x| *x == l.target) {
             if i == freq {
@@ -174,7 +195,7 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         let (re, im) = g.to_f64();
         Complex64::new(re, im)
     });
-    if let Some((asrc, ared)) = &angular {
+    if let Some((asrc, ared)) = angular {
         let opts = SpectrumOptions { freq, values: point.clone(), overtones, tol: a.tol, guess, seeds: Vec::new() };
         return coupled(a, src, &red, opts, &fname, &values, &links, asrc, ared);
     }
@@ -566,11 +587,7 @@ fn read_angular(path: &str) -> Result<(super::Source, crate::ode::Reduction), Fa
 }
 
 /// Parses every `--link` over the joint names of the two equations.
-fn parse_links(
-    a: &SpectrumArgs,
-    radial: &crate::algebra::Field,
-    angular: &crate::algebra::Field,
-) -> Result<Vec<crate::solve::coupled::Link>, Failure> {
+fn parse_links(a: &CoupleArgs, radial: &crate::algebra::Field, angular: &crate::algebra::Field) -> Result<Vec<crate::solve::coupled::Link>, Failure> {
     if a.link.is_empty() {
         return Err(Error::new(ErrorKind::Usage, "--couple needs at least one --link tying the separation constant to the angular eigenvalue").into());
     }
@@ -593,14 +610,13 @@ fn coupled(
     a: &SpectrumArgs,
     src: &super::Source,
     red: &crate::ode::Reduction,
-    mut opts: SpectrumOptions,
+    opts: SpectrumOptions,
     fname: &str,
     values: &[(String, GRat, crate::syntax::Span)],
     links: &[crate::solve::coupled::Link],
     asrc: &super::Source,
     ared: &crate::ode::Reduction,
 ) -> Result<String, Failure> {
-    use crate::solve::coupled::{try_angular, Coupling};
     if !matches!(a.method, Method::Auto | Method::Cf) {
         return Err(Error::new(
             ErrorKind::Usage,
@@ -609,65 +625,26 @@ fn coupled(
         .in_option("--method")
         .into());
     }
-    let k = &red.field;
-    let names = crate::solve::coupled::joint_names(k, &ared.field);
-    // Fixed joint values: --at for both equations.
-    let mut fixed: Vec<Option<Complex64>> = vec![None; names.len()];
-    for (n, v, _) in values {
-        if let Some(i) = names.iter().position(|x| x == n) {
-            let (re, im) = v.to_f64();
-            fixed[i] = Some(Complex64::new(re, im));
-        }
+    let guess = match &a.couple.angular_guess {
+        Some(g) => Some(parse_complex(g).ok_or_else(|| usage(format!("'{g}' is not a complex number"), "--angular-guess", g.len()))?),
+        None => None,
     }
-    // The angular side: known values, linked parameters, the eigenvalue.
-    let an = ared.field.names();
-    let known: Vec<Option<GRat>> = an.iter().map(|n| values.iter().find(|(x, _, _)| x == n).map(|(_, v, _)| v.clone())).collect();
-    let linked: Vec<usize> = (1..an.len()).filter(|i| links.iter().any(|l| l.angular && l.target == an[*i])).collect();
-    let joint_of: Vec<usize> = an.iter().map(|n| names.iter().position(|x| x == n).unwrap_or(0)).collect();
-    let mut angular = try_angular(ared, &known, &linked, a.angular_index, joint_of).map_err(|e| {
-        let (msg, code) = super::report(&Failure::Lib(e), Some(asrc), None, &[]);
-        Failure::Plain(msg, code)
-    })?;
-    if let Some(g) = &a.angular_guess {
-        let v = parse_complex(g).ok_or_else(|| usage(format!("'{g}' is not a complex number"), "--angular-guess", g.len()))?;
+    .map(|v| {
         let (re, im) = v.to_f64();
-        angular.seed = Some((Complex64::new(re, im), "--angular-guess".into()));
-    }
-    if fixed.iter().enumerate().any(|(i, v)| v.is_none() && names[i] == angular.eigen_name) {
-        // The eigenvalue is solved for, never fixed; nothing to do.
-    }
-    let radial_links: Vec<usize> = links.iter().filter(|l| !l.angular).filter_map(|l| k.names().iter().position(|x| *x == l.target)).collect();
-    if radial_links.is_empty() {
-        return Err(Error::new(ErrorKind::Usage, "no --link sets a parameter of the radial equation: the separation constant must be linked").into());
-    }
-    let mut keep = radial_links.clone();
-    keep.push(opts.freq);
-    let red = crate::solve::spectrum::substitute_keeping(red, &opts.values, &keep)?;
-    let coupling = Coupling { names, links: links.to_vec(), angular, fixed, freq: opts.freq };
-    let (rec, setup) = crate::solve::spectrum::qnm_recurrence(&red, &opts)?;
+        Complex64::new(re, im)
+    });
+    let fixed: Vec<(String, GRat)> = values.iter().map(|(n, v, _)| (n.clone(), v.clone())).collect();
+    let coupling = crate::solve::coupled::try_coupling(&red.field, ared, links, &fixed, opts.freq, a.couple.angular_index, guess)
+        .map_err(|e| angular_failure(e, asrc))?;
     let none = |_: u32| None;
-    let pairs = crate::solve::coupled::coupled_modes(&coupling, &rec, &setup, &opts, &red.field, &none)?;
-    let (modes, evidence): (Vec<_>, Vec<_>) = pairs.into_iter().unzip();
-    // The check: direct integration of the radial equation with the
-    // separation constant fixed at its linked value at the mode.
-    let mut checks = Vec::new();
-    for (m, e) in modes.iter().zip(&evidence) {
-        let Some(e) = e.as_ref().filter(|_| m.root.converged) else {
-            checks.push(None);
-            continue;
-        };
-        for (n, v) in &e.links {
-            if let Some(i) = k.names().iter().position(|x| x == n) {
-                opts.values[i] = GRat { re: crate::solve::spectrum::exact_double(v.re).re, im: crate::solve::spectrum::exact_double(v.im).re };
-            }
-        }
-        let check = crate::solve::spectrum::integration_check(&red, &opts, &setup).ok().map(|f| f(m.root.omega * Complex64::new(1.0 + 1e-4, 1e-4)));
-        checks.push(check);
-    }
+    let (setup, found) = crate::solve::coupled::coupled_spectrum(red, &coupling, &opts, true, &none)?;
+    let modes: Vec<_> = found.iter().map(|c| c.mode.clone()).collect();
+    let checks: Vec<_> = found.iter().map(|c| c.check.clone()).collect();
+    let evidence: Vec<_> = found.iter().map(|c| c.angular.clone()).collect();
     let nowkb = |_: u32| None;
     let text = render(a, fname, src, &red.var, &setup, &modes, &checks, &nowkb, &evidence);
     let ang = &coupling.angular;
-    let link_text: Vec<String> = a.link.iter().map(|l| l.trim().to_string()).collect();
+    let link_text: Vec<String> = a.couple.link.iter().map(|l| l.trim().to_string()).collect();
     let about = format!(
         "angular eigenvalue {} of {} on ({}, {}): continued fraction about {}, inversion {} (eigenvalue number {} from the lowest), links: {}",
         ang.eigen_name,
@@ -704,4 +681,10 @@ fn coupled(
         },
         SpecFormat::Csv => text,
     })
+}
+
+/// An error of the angular equation, rendered against its own text.
+pub(crate) fn angular_failure(e: Error, asrc: &super::Source) -> Failure {
+    let (msg, code) = super::report(&Failure::Lib(e), Some(asrc), None, &[]);
+    Failure::Plain(msg, code)
 }

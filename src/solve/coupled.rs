@@ -437,3 +437,85 @@ pub fn coupled_modes(
         })
         .collect())
 }
+
+/// The coupling at given parameter values: `values` are the fixed values of
+/// either equation's parameters (`--at`), `freq` the radial frequency's
+/// index in `radial`, `index` which angular eigenvalue, `guess` a first
+/// value of it (else the terminating series where the linked parameters
+/// vanish).
+pub fn try_coupling(
+    radial: &Field,
+    angular: &Reduction,
+    links: &[Link],
+    values: &[(String, GRat)],
+    freq: usize,
+    index: usize,
+    guess: Option<Complex64>,
+) -> Result<Coupling> {
+    let names = joint_names(radial, &angular.field);
+    let mut fixed: Vec<Option<Complex64>> = vec![None; names.len()];
+    for (n, v) in values {
+        if let Some(i) = names.iter().position(|x| x == n) {
+            fixed[i] = Some(to_c(v));
+        }
+    }
+    let an = angular.field.names();
+    let known: Vec<Option<GRat>> = an.iter().map(|n| values.iter().find(|(x, _)| x == n).map(|(_, v)| v.clone())).collect();
+    let linked: Vec<usize> = (1..an.len()).filter(|i| links.iter().any(|l| l.angular && l.target == an[*i])).collect();
+    let joint_of: Vec<usize> = an.iter().map(|n| names.iter().position(|x| x == n).unwrap_or(0)).collect();
+    let mut ang = try_angular(angular, &known, &linked, index, joint_of)?;
+    if let Some(g) = guess {
+        ang.seed = Some((g, "--angular-guess".into()));
+    }
+    if !links.iter().any(|l| !l.angular) {
+        return Err(usage("no --link sets a parameter of the radial equation: the separation constant must be linked"));
+    }
+    Ok(Coupling { names, links: links.to_vec(), angular: ang, fixed, freq })
+}
+
+/// One mode of a coupled solve with its evidence.
+#[derive(Clone, Debug)]
+pub struct CoupledMode {
+    /// The radial root.
+    pub mode: Mode,
+    /// The angular eigenvalue and the links' values at the mode.
+    pub angular: Option<CoupledValue>,
+    /// Direct integration of the radial equation with the linked values held fixed.
+    pub check: Option<super::integrate::IntRoot>,
+}
+
+/// The coupled spectrum from the radial reduction (parameters symbolic):
+/// the known values substituted exactly, the linked ones kept, the
+/// recurrence derived, the modes solved, and (with `check`) each checked by
+/// direct integration at its linked values.
+pub fn coupled_spectrum(
+    red: &Reduction,
+    coupling: &Coupling,
+    opts: &SpectrumOptions,
+    check: bool,
+    first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
+) -> Result<(Setup, Vec<CoupledMode>)> {
+    let k = &red.field;
+    let mut keep: Vec<usize> = coupling.links.iter().filter(|l| !l.angular).filter_map(|l| k.names().iter().position(|x| *x == l.target)).collect();
+    keep.push(opts.freq);
+    let red = super::spectrum::substitute_keeping(red, &opts.values, &keep)?;
+    let (rec, setup) = super::spectrum::qnm_recurrence(&red, opts)?;
+    let pairs = coupled_modes(coupling, &rec, &setup, opts, &red.field, first_estimate)?;
+    let mut out = Vec::new();
+    for (mode, angular) in pairs {
+        let check = match (&angular, check && mode.root.converged) {
+            (Some(e), true) => {
+                let mut o = opts.clone();
+                for (n, v) in &e.links {
+                    if let Some(i) = k.names().iter().position(|x| x == n) {
+                        o.values[i] = GRat { re: super::spectrum::exact_double(v.re).re, im: super::spectrum::exact_double(v.im).re };
+                    }
+                }
+                super::spectrum::integration_check(&red, &o, &setup).ok().map(|f| f(mode.root.omega * Complex64::new(1.0 + 1e-4, 1e-4)))
+            }
+            _ => None,
+        };
+        out.push(CoupledMode { mode, angular, check });
+    }
+    Ok((setup, out))
+}

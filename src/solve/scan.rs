@@ -48,11 +48,19 @@ pub fn shard(len: usize, k: usize, n: usize) -> std::ops::Range<usize> {
     start..end
 }
 
+/// The modes at one grid point, each with its integration check.
+pub type PointModes = Vec<(Mode, Option<Complex64>)>;
+
+/// A worker's solver for one grid point: the options carry the point's
+/// parameter values and the seeds from its neighbour; the flag asks for
+/// the integration check.
+pub type PointSolver<'a> = Box<dyn Fn(&SpectrumOptions, bool) -> Result<PointModes> + 'a>;
+
 /// Solves every point of `grid[range]` for parameter `vary` (field index).
-/// `make` derives the reduction (once per worker: exact fields are not
-/// shared between threads); `progress` is called once per finished point.
-pub fn scan(
-    make: &(dyn Fn() -> Result<Reduction> + Sync),
+/// `make` builds a solver once per worker (exact fields are not shared
+/// between threads); `progress` is called once per finished point.
+pub fn scan<'a>(
+    make: &(dyn Fn() -> Result<PointSolver<'a>> + Sync),
     base: &SpectrumOptions,
     vary: usize,
     grid: &[Rat],
@@ -69,7 +77,7 @@ pub fn scan(
         .flat_map_iter(|c| {
             let mut prev: Option<Vec<Complex64>> = None;
             let mut res = Vec::new();
-            let red = match make() {
+            let solver = match make() {
                 Ok(r) => r,
                 Err(e) => {
                     return c
@@ -79,7 +87,16 @@ pub fn scan(
                 }
             };
             for &i in c.iter() {
-                let p = solve_point(&red, base, vary, &grid[i], i, prev.as_deref(), check);
+                let mut opts = base.clone();
+                opts.values[vary] = GRat::real(grid[i].clone());
+                if let Some(s) = &prev {
+                    opts.seeds = s.clone();
+                    opts.guess = None;
+                }
+                let p = match solver(&opts, check) {
+                    Ok(modes) => ScanPoint { index: i, value: grid[i].to_f64(), modes, error: None },
+                    Err(e) => ScanPoint { index: i, value: grid[i].to_f64(), modes: Vec::new(), error: Some(e.message) },
+                };
                 if p.error.is_none() && p.modes.iter().all(|(m, _)| m.root.converged) {
                     prev = Some(p.modes.iter().map(|(m, _)| m.root.omega).collect());
                 }
@@ -93,45 +110,29 @@ pub fn scan(
     out
 }
 
-fn solve_point(
-    red: &Reduction,
-    base: &SpectrumOptions,
-    vary: usize,
-    value: &Rat,
-    index: usize,
-    seeds: Option<&[Complex64]>,
-    check: bool,
-) -> ScanPoint {
-    let mut opts = base.clone();
-    opts.values[vary] = GRat::real(value.clone());
-    if let Some(s) = seeds {
-        opts.seeds = s.to_vec();
-    }
-    let run = || -> Result<Vec<(Mode, Option<Complex64>)>> {
-        let r = substitute(red, &opts.values, opts.freq)?;
-        let (rec, setup) = qnm_recurrence(&r, &opts)?;
-        let est = super::spectrum::barrier_estimates(&r, &opts, setup.horizon_value).ok();
-        let first = |n: u32| est.as_ref().and_then(|e| e(n)).map(|(_, w)| (w, "third-order WKB".to_string()));
-        let (modes, setup) = qnm_modes_from(&rec, setup, &opts, &first)?;
-        let integ = if check { integration_check(&r, &opts, &setup).ok() } else { None };
-        Ok(modes
-            .into_iter()
-            .map(|m| {
-                let c = match (&integ, m.root.converged) {
-                    (Some(f), true) => {
-                        let c = f(m.root.omega * Complex64::new(1.0 + 1e-4, 1e-4));
-                        c.converged.then_some(c.omega)
-                    }
-                    _ => None,
-                };
-                (m, c)
-            })
-            .collect())
-    };
-    match run() {
-        Ok(modes) => ScanPoint { index, value: value.to_f64(), modes, error: None },
-        Err(e) => ScanPoint { index, value: value.to_f64(), modes: Vec::new(), error: Some(e.message) },
-    }
+/// The modes of one equation at one grid point: parameters substituted
+/// exactly, the recurrence derived, seeds from third-order WKB when no
+/// neighbour gave them, the integration check when asked.
+pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Result<PointModes> {
+    let r = substitute(red, &opts.values, opts.freq)?;
+    let (rec, setup) = qnm_recurrence(&r, opts)?;
+    let est = super::spectrum::barrier_estimates(&r, opts, setup.horizon_value).ok();
+    let first = |n: u32| est.as_ref().and_then(|e| e(n)).map(|(_, w)| (w, "third-order WKB".to_string()));
+    let (modes, setup) = qnm_modes_from(&rec, setup, opts, &first)?;
+    let integ = if check { integration_check(&r, opts, &setup).ok() } else { None };
+    Ok(modes
+        .into_iter()
+        .map(|m| {
+            let c = match (&integ, m.root.converged) {
+                (Some(f), true) => {
+                    let c = f(m.root.omega * Complex64::new(1.0 + 1e-4, 1e-4));
+                    c.converged.then_some(c.omega)
+                }
+                _ => None,
+            };
+            (m, c)
+        })
+        .collect())
 }
 
 /// The font of the plots' text, compiled in so that a plot looks the same
