@@ -143,6 +143,43 @@ fn options_are_recorded_and_rechecked() {
 }
 
 #[test]
+fn requested_recurrence_is_recorded_and_rechecked() {
+    // The quasinormal-mode recurrence of Regge–Wheeler about the horizon
+    // (ingoing exponent, outgoing branch) is Leaver 1985's: with 2M = 1 and
+    // ρ = −iω, α_n = n² + (2ρ + 2)n + 2ρ + 1, i.e. n² + (2 − 4iMω)n + 1 − 4iMω.
+    let dir = temp_dir("about");
+    std::fs::copy(root().join("samples/regge_wheeler.ode"), dir.join("rw.ode")).expect("copied");
+    let r = run_in(&dir, &["record", "rw.ode", "--about", "2*M", "--exponents", "2*M=2,inf=1", "-o", "rw.deriv"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let text = std::fs::read_to_string(dir.join("rw.deriv")).expect("written");
+    let rec = Record::parse(&text).expect("a record");
+    assert_eq!(rec.get("option.about"), Some("2*M"));
+    assert_eq!(rec.get("option.exponents"), Some("2*M=2,inf=1"));
+    assert_eq!(rec.get("recurrence.about"), Some("r = 2*M"));
+    let c0 = rec.get("recurrence.c[0]").expect("three terms");
+    assert!(same(c0, "n^2 + (2 - 4*I*M*omega)*n + 1 - 4*I*M*omega"), "c0 = {c0}");
+    let c = run_in(&dir, &["check", "rw.deriv"]);
+    assert_eq!((c.code, c.stdout.as_str()), (0, "rw.deriv: holds\n"), "{}", c.stderr);
+    // The request is part of the record: asking for the other exponent at
+    // the horizon in the record changes the recurrence, and check names it.
+    std::fs::write(dir.join("rw.deriv"), text.replace("option.exponents: 2*M=2,inf=1", "option.exponents: 2*M=1,inf=1")).expect("edited");
+    let c = run_in(&dir, &["check", "rw.deriv"]);
+    assert_eq!(c.code, 1, "{}{}", c.stdout, c.stderr);
+    let changed = changed_fields(&c.stdout);
+    assert!(changed.iter().any(|f| f == "recurrence.c[0]"), "{changed:?}");
+    // A choice that does not exist is bad input, located in the record's line.
+    std::fs::write(dir.join("rw.deriv"), text.replace("option.exponents: 2*M=2,inf=1", "option.exponents: 2*M=7")).expect("edited");
+    let c = run_in(&dir, &["check", "rw.deriv"]);
+    assert_eq!(c.code, 2, "{}{}", c.stdout, c.stderr);
+    assert!(c.stderr.contains("rw.deriv:11:") && c.stderr.contains("choice 7 does not exist"), "{}", c.stderr);
+    // And on the command line, against the option's text.
+    let r = run_in(&dir, &["record", "rw.ode", "--about", "2*M", "--exponents", "2*M=7"]);
+    assert_eq!(r.code, 2);
+    assert!(r.stderr.starts_with("--exponents:1:1: error: choice 7"), "{}", r.stderr);
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
 fn changed_coefficient_is_caught_and_named() {
     let dir = temp_dir("changed");
     let eqs = dir.join("eqs");

@@ -61,6 +61,33 @@ pub struct Choices {
 }
 
 impl Choices {
+    /// Reads `POINT=CHOICE,…` (e.g. `2*M=2,inf=1`): a point as printed and
+    /// the 1-based exponent (or branch) to keep there. Spans are byte ranges
+    /// of `text`.
+    pub fn parse(text: &str) -> crate::error::Result<Choices> {
+        use crate::error::{Error, ErrorKind};
+        let mut c = Choices::default();
+        let mut start = 0;
+        for piece in text.split(',') {
+            let span = crate::syntax::Span::new(start, start + piece.len());
+            start += piece.len() + 1;
+            if piece.trim().is_empty() {
+                continue;
+            }
+            let Some((pt, ch)) = piece.rsplit_once('=') else {
+                return Err(Error::new(ErrorKind::Usage, "expected POINT=CHOICE, e.g. 0=2 or inf=1").at(span));
+            };
+            let Ok(n) = ch.trim().parse::<usize>() else {
+                return Err(Error::new(ErrorKind::Usage, format!("'{}' is not a choice: write 1 or 2", ch.trim())).at(span));
+            };
+            if n != 1 && n != 2 {
+                return Err(Error::new(ErrorKind::Usage, format!("choice {n} does not exist: each point has exponents 1 and 2")).at(span));
+            }
+            c.picks.push((pt.trim().to_string(), n));
+        }
+        Ok(c)
+    }
+
     fn get(&self, label: &str) -> Option<usize> {
         let norm = |s: &str| s.chars().filter(|c| !c.is_whitespace()).collect::<String>();
         let l = norm(label);

@@ -4,7 +4,7 @@
 //! internal failure), 2 on bad input (an unreadable or malformed record, a
 //! missing source); every file is checked and reported.
 
-use super::{diagnostic, emit, Failure, InputArgs};
+use super::{diagnostic, emit, Failure};
 use crate::error::{Error, ErrorKind, Origin};
 use crate::record::{compare_named, Record};
 use clap::Args;
@@ -38,9 +38,7 @@ pub(crate) fn run(a: &CheckArgs) -> u8 {
 
 /// Reads a file with the same limits and UTF-8 check as an equation file.
 fn read(path: &str) -> Result<super::Source, Failure> {
-    let args =
-        InputArgs { file: Some(path.to_string()), equation: None, var: String::new(), subst: None, at_infinity: false, dxdz: None, frequency: None };
-    args.read()
+    super::read_source(path)
 }
 
 fn plain(f: Failure) -> (String, u8) {
@@ -72,7 +70,7 @@ fn check_one(file: &str) -> Result<u8, (String, u8)> {
         against_record(&e)
     })?;
     let opts = recorded.options().map_err(|e| against_record(&e))?;
-    let recomputed = crate::record::derive(&source.text, rel, &opts).map_err(|e| match &e.origin {
+    let recomputed = crate::record::derive_with(&source.text, rel, &opts, &recorded.recurrence_request()).map_err(|e| match &e.origin {
         // A recorded option's value that no longer works: point into the record's line.
         Origin::Option(o) => {
             let key = format!("option.{}", o.trim_start_matches('-'));

@@ -37,33 +37,10 @@ pub(crate) enum BoundaryArg {
 }
 
 pub(crate) fn parse_choices(text: Option<&str>) -> Result<crate::analysis::canonical::Choices, Failure> {
-    let mut c = crate::analysis::canonical::Choices::default();
-    let Some(text) = text else { return Ok(c) };
-    let mut start = 0;
-    for piece in text.split(',') {
-        let span = crate::syntax::Span::new(start, start + piece.len());
-        start += piece.len() + 1;
-        if piece.trim().is_empty() {
-            continue;
-        }
-        let Some((pt, ch)) = piece.rsplit_once('=') else {
-            return Err(Error::new(ErrorKind::Usage, "expected POINT=CHOICE, e.g. 0=2 or inf=1").at(span).in_option("--exponents").into());
-        };
-        let Ok(n) = ch.trim().parse::<usize>() else {
-            return Err(Error::new(ErrorKind::Usage, format!("'{}' is not a choice: write 1 or 2", ch.trim()))
-                .at(span)
-                .in_option("--exponents")
-                .into());
-        };
-        if n != 1 && n != 2 {
-            return Err(Error::new(ErrorKind::Usage, format!("choice {n} does not exist: each point has exponents 1 and 2"))
-                .at(span)
-                .in_option("--exponents")
-                .into());
-        }
-        c.picks.push((pt.trim().to_string(), n));
+    match text {
+        Some(t) => Ok(crate::analysis::canonical::Choices::parse(t).map_err(|e| e.in_option("--exponents"))?),
+        None => Ok(crate::analysis::canonical::Choices::default()),
     }
-    Ok(c)
 }
 
 pub(crate) fn run(a: &ClassifyArgs) -> u8 {

@@ -15,11 +15,24 @@ pub(crate) struct RecordArgs {
     /// the source path in it is then relative to the file's directory.
     #[arg(short = 'o', long = "output", value_name = "FILE.deriv")]
     output: Option<String>,
+    /// Record the recurrence about this point (as printed, e.g. '2*M') instead of the default rule.
+    #[arg(long = "about", value_name = "POINT")]
+    about: Option<String>,
+    /// The series variable of that recurrence, 'u=EXPR' (as `recurrence --series`).
+    #[arg(long = "series", value_name = "u=EXPR", requires = "about")]
+    series: Option<String>,
+    /// Exponent choices of that recurrence, POINT=CHOICE,… (as `recurrence --exponents`).
+    #[arg(long = "exponents", value_name = "POINT=CHOICE,...", requires = "about")]
+    exponents: Option<String>,
 }
 
 pub(crate) fn run(a: &RecordArgs) -> u8 {
+    let extra: Vec<(String, String)> = [("--about", &a.about), ("--series", &a.series), ("--exponents", &a.exponents)]
+        .iter()
+        .filter_map(|(n, v)| v.as_ref().map(|v| (n.to_string(), v.clone())))
+        .collect();
     let fail = |f: &Failure, src: Option<&super::Source>| -> u8 {
-        let (msg, code) = report(f, src, Some(&a.input), &[]);
+        let (msg, code) = report(f, src, Some(&a.input), &extra);
         if !msg.is_empty() {
             eprintln!("{msg}");
         }
@@ -40,7 +53,8 @@ pub(crate) fn run(a: &RecordArgs) -> u8 {
         },
         None => src.name.replace(std::path::MAIN_SEPARATOR, "/"),
     };
-    let rec = match crate::record::derive(&src.text, &path, &a.input.options()) {
+    let req = crate::record::RecurrenceRequest { about: a.about.clone(), series: a.series.clone(), exponents: a.exponents.clone() };
+    let rec = match crate::record::derive_with(&src.text, &path, &a.input.options(), &req) {
         Ok(r) => r,
         Err(e) => return fail(&e.into(), Some(&src)),
     };

@@ -205,6 +205,12 @@ impl Record {
         self.entry(key).and_then(|e| e.span)
     }
 
+    /// The recorded recurrence request (absent keys: the default rule).
+    pub fn recurrence_request(&self) -> RecurrenceRequest {
+        let opt = |key: &str| self.get(key).filter(|v| *v != NOT_GIVEN).map(str::to_string);
+        RecurrenceRequest { about: opt("option.about"), series: opt("option.series"), exponents: opt("option.exponents") }
+    }
+
     /// The options of the recorded reduction.
     pub fn options(&self) -> Result<ReduceOptions> {
         let text = |key: &str| -> Result<Option<String>> {
@@ -258,9 +264,30 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
     sha2::Sha256::digest(bytes).iter().map(|b| format!("{b:02x}")).collect()
 }
 
+/// Which recurrence a record holds: by default the rule
+/// [`RECURRENCE_RULE`]; with `about`, the series about that point, in the
+/// series variable `series` (e.g. `u=(r-2*M)/r`) when given, with the
+/// exponent choices `exponents` (`POINT=CHOICE,…`, as `recurrence` takes).
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct RecurrenceRequest {
+    /// The expansion point as printed (e.g. `2*M`).
+    pub about: Option<String>,
+    /// The series variable, `u=EXPR`.
+    pub series: Option<String>,
+    /// Exponent choices, `POINT=CHOICE,…`.
+    pub exponents: Option<String>,
+}
+
 /// Derives the record of the program `source` (a whole file in the input
 /// language), named `source_path` in the record, reduced with `opts`.
 pub fn derive(source: &str, source_path: &str, opts: &ReduceOptions) -> Result<Record> {
+    derive_with(source, source_path, opts, &RecurrenceRequest::default())
+}
+
+/// [`derive`] with the recurrence chosen by `req`; the request is written
+/// into the record (`option.about`, `option.series`, `option.exponents`) so
+/// that `check` recomputes the same one.
+pub fn derive_with(source: &str, source_path: &str, opts: &ReduceOptions, req: &RecurrenceRequest) -> Result<Record> {
     let red = crate::ode::reduce(&crate::ode::Input::Program(source), opts)?;
     let mut rec = Record::default();
     let given = |o: &Option<String>| o.clone().unwrap_or_else(|| NOT_GIVEN.to_string());
@@ -271,10 +298,18 @@ pub fn derive(source: &str, source_path: &str, opts: &ReduceOptions) -> Result<R
     rec.push("option.at-infinity", if opts.at_infinity { "yes" } else { "no" })?;
     rec.push("option.dxdz", given(&opts.dxdz))?;
     rec.push("option.frequency", given(&opts.frequency))?;
+    if req.about.is_some() {
+        rec.push("option.about", given(&req.about))?;
+        rec.push("option.series", given(&req.series))?;
+        rec.push("option.exponents", given(&req.exponents))?;
+    }
     reduction_fields(&mut rec, &red)?;
     let an = crate::analysis::analyse(&red)?;
     analysis_fields(&mut rec, &red, &an)?;
-    recurrence_fields(&mut rec, &red, &an)?;
+    match &req.about {
+        None => recurrence_fields(&mut rec, &red, &an)?,
+        Some(about) => requested_recurrence(&mut rec, &red, about, req)?,
+    }
     Ok(rec)
 }
 
@@ -359,6 +394,32 @@ fn analysis_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result<(
     Ok(())
 }
 
+/// The recurrence the user asked for; its failure is an error (the request
+/// names a point or choices that do not fit the equation).
+fn requested_recurrence(rec: &mut Record, red: &Reduction, about: &str, req: &RecurrenceRequest) -> Result<()> {
+    let choices = match &req.exponents {
+        Some(t) => crate::analysis::canonical::Choices::parse(t).map_err(|e| e.in_option("--exponents"))?,
+        None => crate::analysis::canonical::Choices::default(),
+    };
+    let r = crate::series::recurrence(red, about, req.series.as_deref(), &choices, false)?;
+    rec.push("recurrence.rule", "as requested (option.about, option.series, option.exponents)")?;
+    recurrence_lines(rec, &format!("{} = {about}", red.var), &r)
+}
+
+fn recurrence_lines(rec: &mut Record, about: &str, r: &crate::series::Recurrence) -> Result<()> {
+    rec.push("recurrence.about", about)?;
+    rec.push("recurrence.series", &r.series)?;
+    rec.push("recurrence.ansatz", r.ansatz_text())?;
+    for (j, c) in r.choices.iter().enumerate() {
+        rec.push(format!("recurrence.choice[{}]", j + 1), c)?;
+    }
+    rec.push("recurrence.equation", r.equation_text())?;
+    for j in 0..r.coeffs.len() {
+        rec.push(format!("recurrence.c[{j}]"), r.coefficient_text(j))?;
+    }
+    Ok(())
+}
+
 fn recurrence_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result<()> {
     let k = &red.field;
     rec.push("recurrence.rule", RECURRENCE_RULE)?;
@@ -378,17 +439,7 @@ fn recurrence_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result
             }
             Err(e) => return Err(e),
         };
-        rec.push("recurrence.about", where_text(k, &red.var, p, Style::Text))?;
-        rec.push("recurrence.series", &r.series)?;
-        rec.push("recurrence.ansatz", r.ansatz_text())?;
-        for (j, c) in r.choices.iter().enumerate() {
-            rec.push(format!("recurrence.choice[{}]", j + 1), c)?;
-        }
-        rec.push("recurrence.equation", r.equation_text())?;
-        for j in 0..r.coeffs.len() {
-            rec.push(format!("recurrence.c[{j}]"), r.coefficient_text(j))?;
-        }
-        return Ok(());
+        return recurrence_lines(rec, &where_text(k, &red.var, p, Style::Text), &r);
     }
     if why_not.is_empty() {
         why_not.push("the equation has no finite regular singular point at an exact location".to_string());
