@@ -384,6 +384,8 @@ fn coupled_requests_with_bad_links_are_usage_errors() {
         ("nope = A", "neither equation"),
         ("lam = A + r", "may not depend on the variable"),
         ("lam = A + undefined_name", "unknown name"),
+        ("omega = A", "cannot be linked"),
+        ("lam = 1/(a - a)", "division by zero"),
     ] {
         let mut args: Vec<&str> = base.to_vec();
         args.extend(["--link", link, "--link", "c = a*omega"]);
@@ -397,6 +399,18 @@ fn coupled_requests_with_bad_links_are_usage_errors() {
     let (_, code, err) = run(&args);
     assert_eq!(code, 2, "{err}");
     assert!(err.contains("without a value (c, A)"), "{err}");
+    // An angular file that cannot be read, or does not parse, is named.
+    let mut args: Vec<&str> = base[..6].to_vec();
+    args.extend(["--couple", "samples/no_such_angular.ode", "--link", "lam = A"]);
+    let (_, code, err) = run(&args);
+    assert_eq!(code, 2);
+    assert!(err.contains("no_such_angular.ode") && err.contains("cannot read"), "{err}");
+    // An angular equation without two regular ends has no interval for its eigenvalue.
+    let mut args: Vec<&str> = base[..6].to_vec();
+    args.extend(["--couple", "samples/bessel.ode", "--link", "lam = nu"]);
+    let (_, code, err) = run(&args);
+    assert_eq!(code, 2);
+    assert!(err.contains("samples/bessel.ode") && err.contains("exactly two"), "{err}");
 }
 
 #[test]

@@ -102,10 +102,13 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     given[vary] = true;
     let coupled = a.couple.read(&red.field)?;
     let links = coupled.as_ref().map(|c| c.2.clone()).unwrap_or_default();
-    for l in links.iter().filter(|l| !l.angular) {
+    for (j, l) in links.iter().enumerate().filter(|(_, l)| !l.angular) {
         if let Some(i) = names.iter().position(|x| *x == l.target) {
             if i == freq || i == vary {
-                return Err(Error::new(ErrorKind::Usage, format!("'{}' is solved for or varied: it cannot be linked", l.target)).into());
+                return Err(Error::new(ErrorKind::Usage, format!("'{}' is solved for or varied: it cannot be linked", l.target))
+                    .at(crate::syntax::Span::new(0, l.target.len()))
+                    .in_option(&super::spectrum::link_option(j))
+                    .into());
             }
             given[i] = true;
         }

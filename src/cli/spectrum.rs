@@ -147,10 +147,13 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     let coupled_input = a.couple.read(k)?;
     let links = coupled_input.as_ref().map(|c| c.2.clone()).unwrap_or_default();
     let angular = coupled_input.as_ref().map(|c| (&c.0, &c.1));
-    for l in links.iter().filter(|l| !l.angular) {
+    for (j, l) in links.iter().enumerate().filter(|(_, l)| !l.angular) {
         if let Some(i) = names.iter().position(|x| *x == l.target) {
             if i == freq {
-                return Err(Error::new(ErrorKind::Usage, format!("'{}' is the frequency being solved for: it cannot be linked", l.target)).into());
+                return Err(Error::new(ErrorKind::Usage, format!("'{}' is the frequency being solved for: it cannot be linked", l.target))
+                    .at(crate::syntax::Span::new(0, l.target.len()))
+                    .in_option(&link_option(j))
+                    .into());
             }
             given[i] = true;
         }
@@ -565,7 +568,7 @@ fn bound_states(
 }
 
 /// The option name a link's errors are rendered against.
-fn link_option(i: usize) -> String {
+pub(crate) fn link_option(i: usize) -> String {
     if i == 0 {
         "--link".to_string()
     } else {
