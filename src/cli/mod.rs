@@ -4,6 +4,7 @@
 
 mod classify;
 pub(crate) mod diagnostic;
+mod emit;
 mod eval;
 mod recurrence;
 mod reduce;
@@ -40,6 +41,8 @@ enum Command {
     Spectrum(spectrum::SpectrumArgs),
     /// Quasinormal modes over a grid of one parameter (parallel, continuation, shards, plot).
     Scan(scan::ScanArgs),
+    /// C or Rust source evaluating Q, the potential and recurrence coefficients (verified exactly).
+    Emit(emit::EmitArgs),
 }
 
 /// Output formats.
@@ -257,5 +260,6 @@ fn run(cli: Cli) -> u8 {
         Command::Recurrence(a) => recurrence::run(&a),
         Command::Spectrum(a) => spectrum::run(&a),
         Command::Scan(a) => scan::run(&a),
+        Command::Emit(a) => emit::run(&a),
     }
 }
