@@ -18,7 +18,8 @@ fn bench(c: &mut Criterion) {
     let params = red.field.names()[1..].to_vec();
     let np = params.len();
     let functions = vec![FunctionSpec { kind: FunctionKind::Q, field: &red.field, outputs: vec![red.normal.q.clone()], about: vec![] }];
-    let req = CodeRequest { lang: Lang::C, prefix: "teuk".into(), source: path.clone(), params, functions, skipped: vec![], limits: Default::default() };
+    let req =
+        CodeRequest { lang: Lang::C, prefix: "teuk".into(), source: path.clone(), params, functions, skipped: vec![], limits: Default::default() };
     let mut code = emit_code(&req).expect("emits").text;
     code.push_str(&format!(
         "\nvoid teuk_q_ptr(const double *z, const double *p, double *out)\n{{\n    double complex pc[{np}];\n    for (int i = 0; i < {np}; i++) pc[i] = p[2*i] + p[2*i+1]*I;\n    double complex v = teuk_q(z[0] + z[1]*I, pc);\n    out[0] = creal(v);\n    out[1] = cimag(v);\n}}\n"

@@ -153,7 +153,21 @@ fn run_rust(dir: &Path, code: &str, prefix: &str, call: Call, pts: &[Vec<(f64, f
     for rlib in num_complex_rlibs() {
         let ext = format!("num_complex={}", rlib.display());
         let out = Command::new("rustc")
-            .args(["--edition", "2021", "-D", "warnings", "--crate-type", "rlib", "--crate-name", "emitted", "emitted.rs", "-L", &deps, "--extern", &ext])
+            .args([
+                "--edition",
+                "2021",
+                "-D",
+                "warnings",
+                "--crate-type",
+                "rlib",
+                "--crate-name",
+                "emitted",
+                "emitted.rs",
+                "-L",
+                &deps,
+                "--extern",
+                &ext,
+            ])
             .current_dir(dir)
             .output()
             .unwrap();
@@ -171,7 +185,9 @@ fn run_rust(dir: &Path, code: &str, prefix: &str, call: Call, pts: &[Vec<(f64, f
         let ps: Vec<String> = x[1..].iter().map(|v| c(*v)).collect();
         m.push_str(&format!("    let p: [Complex64; {np}] = [{}];\n", ps.join(", ")));
         match call {
-            Call::Value(f) => m.push_str(&format!("    {{ let v = emitted::{prefix}_{f}({}, &p); println!(\"{{:.17e}} {{:.17e}}\", v.re, v.im); }}\n", c(x[0]))),
+            Call::Value(f) => {
+                m.push_str(&format!("    {{ let v = emitted::{prefix}_{f}({}, &p); println!(\"{{:.17e}} {{:.17e}}\", v.re, v.im); }}\n", c(x[0])))
+            }
             Call::Recurrence(_) => m.push_str(&format!(
                 "    for v in emitted::{prefix}_recurrence({}, &p) {{ println!(\"{{:.17e}} {{:.17e}}\", v.re, v.im); }}\n",
                 c(x[0])
@@ -182,7 +198,23 @@ fn run_rust(dir: &Path, code: &str, prefix: &str, call: Call, pts: &[Vec<(f64, f
     std::fs::write(dir.join("main.rs"), m).unwrap();
     run_checked(
         Command::new("rustc")
-            .args(["--edition", "2021", "-D", "warnings", "main.rs", "-o", "main_rs", "-L", &deps, "-L", ".", "--extern", &ext, "--extern", "emitted=libemitted.rlib"])
+            .args([
+                "--edition",
+                "2021",
+                "-D",
+                "warnings",
+                "main.rs",
+                "-o",
+                "main_rs",
+                "-L",
+                &deps,
+                "-L",
+                ".",
+                "--extern",
+                &ext,
+                "--extern",
+                "emitted=libemitted.rlib",
+            ])
             .current_dir(dir),
         "rustc main.rs",
     );
