@@ -32,6 +32,7 @@ pub mod cli;
 pub mod emit;
 pub mod error;
 pub mod ode;
+pub mod present;
 pub mod series;
 pub mod solve;
 pub mod syntax;

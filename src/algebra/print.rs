@@ -212,7 +212,7 @@ fn sum_text(terms: &[(GRat, Mono)], names: &[String], style: Style) -> String {
 }
 
 /// Coefficients as Gaussian rationals `c / scale`.
-fn scaled_terms(p: &Poly, scale: &Int) -> Vec<(GRat, Mono)> {
+pub(crate) fn scaled_terms(p: &Poly, scale: &Int) -> Vec<(GRat, Mono)> {
     p.terms()
         .iter()
         .map(|(m, c)| {

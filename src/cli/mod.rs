@@ -5,6 +5,7 @@
 mod check;
 mod classify;
 pub(crate) mod diagnostic;
+mod emit;
 mod eval;
 mod record;
 mod recurrence;
@@ -46,6 +47,8 @@ enum Command {
     Record(record::RecordArgs),
     /// Re-derive derivation records from their sources and show what changed as a unified diff.
     Check(check::CheckArgs),
+    /// C or Rust source evaluating Q, the potential and recurrence coefficients (verified exactly).
+    Emit(emit::EmitArgs),
 }
 
 /// Output formats.
@@ -272,5 +275,6 @@ fn run(cli: Cli) -> u8 {
         Command::Scan(a) => scan::run(&a),
         Command::Record(a) => record::run(&a),
         Command::Check(a) => check::run(&a),
+        Command::Emit(a) => emit::run(&a),
     }
 }

@@ -11,6 +11,16 @@ pub(crate) struct RecurrenceArgs {
     /// The expansion point, as `classify` prints it (e.g. '2*M').
     #[arg(long = "about", value_name = "POINT")]
     about: String,
+    #[command(flatten)]
+    series: SeriesArgs,
+    /// Output format (text or json).
+    #[arg(long = "format", value_enum, default_value = "text")]
+    format: Format,
+}
+
+/// How the series is set up (shared with `emit`).
+#[derive(Args, Debug)]
+pub(crate) struct SeriesArgs {
     /// The series variable, a Möbius map vanishing at the point: 'u=(r - 2*M)/r'
     /// (default: u = (z − z_h)/(z − z₂) with z₂ the other finite singular point).
     #[arg(long = "series", value_name = "u=MOBIUS")]
@@ -21,28 +31,39 @@ pub(crate) struct RecurrenceArgs {
     /// Expand the normal-form ψ instead of the unknown.
     #[arg(long = "normal")]
     normal: bool,
-    /// Output format (text or json).
-    #[arg(long = "format", value_enum, default_value = "text")]
-    format: Format,
+}
+
+impl SeriesArgs {
+    /// The option texts errors may point into, with `--about`'s.
+    pub(crate) fn option_texts(&self, about: &str) -> Vec<(String, String)> {
+        let mut extra = vec![("--about".to_string(), about.to_string())];
+        extra.extend(self.series.iter().map(|t| ("--series".to_string(), t.clone())));
+        extra.extend(self.exponents.iter().map(|t| ("--exponents".to_string(), t.clone())));
+        extra
+    }
+
+    /// The recurrence about `about` with these choices.
+    pub(crate) fn derive(&self, red: &crate::ode::Reduction, about: &str) -> Result<crate::series::Recurrence, Failure> {
+        let choices = super::classify::parse_choices(self.exponents.as_deref())?;
+        let rec = crate::series::recurrence(red, about, self.series.as_deref(), &choices, self.normal).map_err(|e| {
+            if e.origin == crate::error::Origin::Option("--about".into()) && e.span.is_none() {
+                e.at(crate::syntax::Span::new(0, about.len()))
+            } else {
+                e
+            }
+        })?;
+        Ok(rec)
+    }
 }
 
 pub(crate) fn run(a: &RecurrenceArgs) -> u8 {
-    let mut extra = vec![("--about".to_string(), a.about.clone())];
-    extra.extend(a.series.iter().map(|t| ("--series".to_string(), t.clone())));
-    extra.extend(a.exponents.iter().map(|t| ("--exponents".to_string(), t.clone())));
+    let extra = a.series.option_texts(&a.about);
     run_command(&a.input, &extra, |src| compute(a, src))
 }
 
 fn compute(a: &RecurrenceArgs, src: &super::Source) -> Result<String, Failure> {
     let red = crate::ode::reduce(&src.input(), &a.input.options())?;
-    let choices = super::classify::parse_choices(a.exponents.as_deref())?;
-    let rec = crate::series::recurrence(&red, &a.about, a.series.as_deref(), &choices, a.normal).map_err(|e| {
-        if e.origin == crate::error::Origin::Option("--about".into()) && e.span.is_none() {
-            e.at(crate::syntax::Span::new(0, a.about.len()))
-        } else {
-            e
-        }
-    })?;
+    let rec = a.series.derive(&red, &a.about)?;
     let n = rec.index();
     Ok(match a.format {
         Format::Json => {

@@ -1,9 +1,10 @@
 //! The `emit` stage: turns derivations into documents — the plain-text
-//! derivation, LaTeX for papers, JSON with a stable schema and
-//! derivation records to commit and re-check. Pure
+//! derivation, LaTeX for papers, JSON with a stable schema, derivation
+//! records to commit and re-check, and C/Rust evaluators ([`code`]). Pure
 //! functions from values to strings; only the CLI writes them anywhere.
 
 mod classify_report;
+pub mod code;
 pub mod record;
 pub(crate) mod report;
 

@@ -1,0 +1,173 @@
+//! `canonode emit`: C or Rust source evaluating Q, the Schrödinger potential
+//! and the recurrence coefficients in complex double precision, each form
+//! verified exactly before it is written; `--stats` prints operation counts.
+
+use super::recurrence::SeriesArgs;
+use super::{run_command, Failure, InputArgs};
+use crate::emit::code::{emit_code, prefix_from_source, CodeRequest, FunctionKind, FunctionSpec, Lang};
+use clap::{Args, ValueEnum};
+
+/// Target languages.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub(crate) enum LangArg {
+    /// Rust with num_complex::Complex64.
+    Rust,
+    /// C99 with double complex.
+    C,
+}
+
+/// What to emit.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub(crate) enum WhatArg {
+    /// Q of the normal form.
+    Q,
+    /// The Schrödinger potential V (needs --dxdz).
+    Potential,
+    /// The recurrence coefficients (needs --about).
+    Recurrence,
+    /// Everything available; the output says what was skipped.
+    All,
+}
+
+/// Arguments of `emit`.
+#[derive(Args, Debug)]
+pub(crate) struct EmitArgs {
+    #[command(flatten)]
+    input: InputArgs,
+    /// The language of the source.
+    #[arg(long = "lang", value_enum)]
+    lang: LangArg,
+    /// Which functions.
+    #[arg(long = "what", value_enum, default_value = "q")]
+    what: WhatArg,
+    /// Prefix of every emitted name (default: from the file name).
+    #[arg(long = "name", value_name = "PREFIX")]
+    name: Option<String>,
+    /// Write the source to FILE instead of standard output.
+    #[arg(short = 'o', long = "output", value_name = "FILE")]
+    output: Option<String>,
+    /// Print operation counts (emitted, plain Horner, naive) instead of the source
+    /// (the source is still written when -o is given).
+    #[arg(long = "stats")]
+    stats: bool,
+    /// The expansion point of the recurrence, as `classify` prints it.
+    #[arg(long = "about", value_name = "POINT")]
+    about: Option<String>,
+    #[command(flatten)]
+    series: SeriesArgs,
+}
+
+pub(crate) fn run(a: &EmitArgs) -> u8 {
+    let extra = a.series.option_texts(a.about.as_deref().unwrap_or(""));
+    run_command(&a.input, &extra, |src| compute(a, src))
+}
+
+fn compute(a: &EmitArgs, src: &super::Source) -> Result<String, Failure> {
+    let needs = |what: &str, option: &str| Failure::Plain(format!("error: --what {what} needs {option}"), 2);
+    if a.what == WhatArg::Potential && a.input.dxdz.is_none() {
+        return Err(needs("potential", "--dxdz EXPR (dx/dz of the Schrödinger form, e.g. '1/f')"));
+    }
+    if a.what == WhatArg::Recurrence && a.about.is_none() {
+        return Err(needs("recurrence", "--about POINT (the expansion point, as `classify` prints it)"));
+    }
+    let prefix = a.name.clone().unwrap_or_else(|| prefix_from_source(&src.name));
+    if !crate::emit::code::valid_prefix(&prefix) {
+        return Err(Failure::Plain(
+            format!("error: --name '{prefix}' is not an identifier: use ASCII letters, digits and _, not starting with a digit"),
+            2,
+        ));
+    }
+    let red = crate::ode::reduce(&src.input(), &a.input.options())?;
+    let var = red.var.clone();
+    let mut functions = Vec::new();
+    let mut skipped = Vec::new();
+    let want = |w: WhatArg| a.what == w || a.what == WhatArg::All;
+    if want(WhatArg::Q) {
+        functions.push(FunctionSpec {
+            kind: FunctionKind::Q,
+            field: &red.field,
+            outputs: vec![red.normal.q.clone()],
+            about: vec![format!("Q of the normal form psi'' + Q psi = 0 of {}, at z = {var} (the equation's variable):", src.name)],
+        });
+    }
+    if want(WhatArg::Potential) {
+        match &red.schrodinger {
+            Some(s) => functions.push(FunctionSpec {
+                kind: FunctionKind::Potential,
+                field: &red.field,
+                outputs: vec![s.v.clone()],
+                about: vec![format!(
+                    "The potential V of phi_xx + ({}^2 - V) phi = 0 with dx/d{var} = {}, at z = {var}:",
+                    s.frequency.as_deref().unwrap_or("omega"),
+                    a.input.dxdz.as_deref().unwrap_or("")
+                )],
+            }),
+            None => skipped.push("the potential (give --dxdz EXPR)".to_string()),
+        }
+    }
+    let rec = match (&a.about, want(WhatArg::Recurrence)) {
+        (Some(about), true) => Some(a.series.derive(&red, about)?),
+        (None, true) => {
+            skipped.push("the recurrence coefficients (give --about POINT)".to_string());
+            None
+        }
+        _ => None,
+    };
+    if let Some(rec) = &rec {
+        let n = &rec.field.names()[0];
+        let k = rec.coeffs.len();
+        functions.push(FunctionSpec {
+            kind: FunctionKind::Recurrence,
+            field: &rec.field,
+            outputs: rec.coeffs.clone(),
+            about: vec![
+                format!(
+                    "The {k}-term recurrence sum_j c[j]({n}) a[{n}+1-j] = 0 for {} = {} * sum a[{n}] u^{n}, {}.",
+                    rec.function, rec.prefactor, rec.series
+                ),
+                format!("Choices: {}. The argument n is {n}.", rec.choices.join("; ")),
+            ],
+        });
+    }
+    let lang = match a.lang {
+        LangArg::C => Lang::C,
+        LangArg::Rust => Lang::Rust,
+    };
+    let params = red.field.names()[1..].to_vec();
+    let req = CodeRequest { lang, prefix, source: src.name.clone(), params, functions, skipped, limits: Default::default() };
+    let out = emit_code(&req)?;
+    if let Some(path) = &a.output {
+        std::fs::write(path, &out.text).map_err(|e| Failure::Plain(format!("{path}: error: cannot write the file: {e}"), 1))?;
+    }
+    if a.stats {
+        let mut s = String::from("function    form            mul  (const)  add  div  total  flops\n");
+        for (kind, ch) in &out.choices {
+            for (form, c) in [("naive", ch.naive), ("plain Horner", ch.horner), ("emitted", ch.emitted)] {
+                s.push_str(&format!(
+                    "{:<11} {:<14} {:>4} {:>8} {:>4} {:>4} {:>6} {:>6}\n",
+                    kind.suffix(),
+                    form,
+                    c.mul,
+                    c.scale,
+                    c.add,
+                    c.div,
+                    c.total(),
+                    c.flops()
+                ));
+            }
+            s.push_str(&format!(
+                "  ({}: chosen {}; e-graph {} nodes, {} iterations, stop: {})\n",
+                kind.suffix(),
+                ch.origin,
+                ch.egraph_nodes,
+                ch.iterations,
+                ch.stop
+            ));
+        }
+        return Ok(s);
+    }
+    if a.output.is_some() {
+        return Ok(String::new());
+    }
+    Ok(out.text)
+}

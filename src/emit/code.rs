@@ -1,0 +1,461 @@
+//! C and Rust source for evaluating exact rational functions in complex
+//! double precision: Q(z; params), the Schrödinger potential and the
+//! recurrence coefficients. The evaluation form comes from
+//! [`crate::present::choose`] (verified exactly there); this file only turns
+//! its straight-line program into text: one local per shared step, the
+//! parameters read from `p[i]` into locals whose names are sanitised so that
+//! any parameter name gives valid, warning-free code.
+//!
+//! Entry points: C `double complex PREFIX_q(double complex z, const double complex p[])`,
+//! Rust `pub fn PREFIX_q(z: Complex64, p: &[Complex64]) -> Complex64`, the same
+//! for `PREFIX_potential`, and `PREFIX_recurrence(n, p, c)` (C, filling
+//! `c[0..PREFIX_RECURRENCE_TERMS]`) / `PREFIX_recurrence(n, p) -> [Complex64; K]` (Rust).
+
+use crate::algebra::print::{ratfunc_text, Style};
+use crate::algebra::{Field, GRat, Rat, RatFunc};
+use crate::error::{Error, ErrorKind, Result};
+use crate::present::{choose, Choice, Program, SearchLimits, Step};
+
+/// The target language.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Lang {
+    /// C99 with `double complex` from `<complex.h>`.
+    C,
+    /// Rust with `num_complex::Complex64`.
+    Rust,
+}
+
+/// What a function evaluates.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum FunctionKind {
+    /// Q of the normal form ψ'' + Qψ = 0, at z.
+    Q,
+    /// The potential V of the Schrödinger form, at z.
+    Potential,
+    /// The recurrence coefficients c_j(n).
+    Recurrence,
+}
+
+impl FunctionKind {
+    /// The suffix of the function's name.
+    pub fn suffix(self) -> &'static str {
+        match self {
+            FunctionKind::Q => "q",
+            FunctionKind::Potential => "potential",
+            FunctionKind::Recurrence => "recurrence",
+        }
+    }
+}
+
+/// One function to emit.
+pub struct FunctionSpec<'a> {
+    /// What it is.
+    pub kind: FunctionKind,
+    /// The field of `outputs`: variable 0 is the argument (z or n), then the parameters in order.
+    pub field: &'a Field,
+    /// The exact values computed, one for Q and V, k for a k-term recurrence.
+    pub outputs: Vec<RatFunc>,
+    /// Lines of explanation for the doc comment (the exact expressions are added).
+    pub about: Vec<String>,
+}
+
+/// A request: the functions, the name prefix and where the equation came from.
+pub struct CodeRequest<'a> {
+    /// The language.
+    pub lang: Lang,
+    /// The prefix of every name (an ASCII identifier).
+    pub prefix: String,
+    /// The source file (or `<stdin>`, `<equation>`) named in comments.
+    pub source: String,
+    /// The parameter names, in the order of `p`.
+    pub params: Vec<String>,
+    /// The functions.
+    pub functions: Vec<FunctionSpec<'a>>,
+    /// Notes on what was not emitted and why.
+    pub skipped: Vec<String>,
+    /// Bounds on the e-graph runs.
+    pub limits: SearchLimits,
+}
+
+/// The emitted source and the choice made for each function.
+pub struct Emitted {
+    /// The source text.
+    pub text: String,
+    /// Per function: its kind and the chosen program with its counts.
+    pub choices: Vec<(FunctionKind, Choice)>,
+}
+
+/// True for an ASCII identifier usable as a name prefix.
+pub fn valid_prefix(s: &str) -> bool {
+    let mut c = s.chars();
+    matches!(c.next(), Some(ch) if ch.is_ascii_alphabetic() || ch == '_') && c.all(|ch| ch.is_ascii_alphanumeric() || ch == '_')
+}
+
+/// A prefix made from a file name: its stem with every other character replaced by `_`.
+pub fn prefix_from_source(source: &str) -> String {
+    let stem = std::path::Path::new(source).file_stem().and_then(|s| s.to_str()).unwrap_or("");
+    let mut out: String = stem.chars().map(|c| if c.is_ascii_alphanumeric() { c.to_ascii_lowercase() } else { '_' }).collect();
+    if !out.starts_with(|c: char| c.is_ascii_alphabetic()) {
+        out.insert_str(0, "ode_");
+    }
+    out
+}
+
+/// Local names for the parameters: `p_` and an ASCII form of the name
+/// (letters, digits and `_` kept, a Greek letter spelled out, anything else
+/// as its code point); names that collide get the parameter's position
+/// appended. The `p_` prefix keeps them clear of keywords, of `I`, and of
+/// the argument, output and temporary names (`z`, `n`, `p`, `c`, `tK`).
+pub fn param_locals(params: &[String]) -> Vec<String> {
+    let ascii = |name: &str| -> String {
+        let mut s = String::new();
+        for ch in name.chars() {
+            if ch.is_ascii_alphanumeric() || ch == '_' {
+                s.push(ch);
+            } else {
+                let l = crate::algebra::print::latex_name(&ch.to_string());
+                match l.strip_prefix('\\') {
+                    Some(word) if word.chars().all(|c| c.is_ascii_alphabetic()) => s.push_str(word),
+                    _ => s.push_str(&format!("u{:x}", ch as u32)),
+                }
+            }
+        }
+        format!("p_{s}")
+    };
+    let mut out: Vec<String> = Vec::new();
+    for (i, p) in params.iter().enumerate() {
+        let mut n = ascii(p);
+        while out.contains(&n) {
+            n = format!("{n}_{}", i + 1);
+        }
+        out.push(n);
+    }
+    out
+}
+
+/// The double nearest to `r` (ties to even), checked exactly against its neighbours.
+pub fn nearest_double(r: &Rat) -> Result<f64> {
+    let d = r.to_f64();
+    if !d.is_finite() {
+        return Err(Error::new(ErrorKind::Limit, format!("the constant {r} is outside the range of double precision")));
+    }
+    let dist = |x: f64| {
+        let e = crate::solve::spectrum::exact_double(x).re.sub(r);
+        e.mul(&e)
+    };
+    let mut best = d;
+    for cand in [d.next_down(), d.next_up()] {
+        if !cand.is_finite() {
+            continue;
+        }
+        let diff = dist(cand).sub(&dist(best));
+        let even = cand.to_bits() & 1 == 0;
+        if diff.numer().is_negative() || (diff.is_zero() && even) {
+            best = cand;
+        }
+    }
+    Ok(best)
+}
+
+/// A double as a source literal of both languages with 17 significant digits
+/// (an integer value as `N.0`).
+fn literal(x: f64) -> String {
+    if x == x.trunc() && x.abs() < 1e15 {
+        format!("{x:.1}")
+    } else {
+        format!("{x:.16e}")
+    }
+}
+
+struct Printer<'a> {
+    lang: Lang,
+    prog: &'a Program,
+    names: Vec<String>,
+    consts: Vec<(f64, f64)>,
+    temps: Vec<Option<String>>,
+}
+
+impl Printer<'_> {
+    fn prec(&self, i: usize) -> u8 {
+        if self.temps[i].is_some() {
+            return 9;
+        }
+        match self.prog.steps[i] {
+            Step::Var(_) | Step::Const(_) => 9,
+            Step::Add(..) | Step::Sub(..) => 1,
+            Step::Mul(..) | Step::Div(..) => 2,
+            Step::Neg(_) => 3,
+        }
+    }
+    fn operand(&self, i: usize, min: u8) -> String {
+        let t = self.expr(i, false);
+        if self.prec(i) < min {
+            format!("({t})")
+        } else {
+            t
+        }
+    }
+    fn constant(&self, k: usize) -> String {
+        let (re, im) = self.consts[k];
+        match (self.lang, im == 0.0, re == 0.0) {
+            (_, true, _) => literal(re),
+            (Lang::C, false, true) => format!("({}*I)", literal(im)),
+            (Lang::C, false, false) => format!("({} + {}*I)", literal(re), literal(im)),
+            (Lang::Rust, false, _) => format!("Complex64::new({}, {})", literal(re), literal(im)),
+        }
+    }
+    /// The text of step `i`; `top` when it is the whole right side of a definition.
+    fn expr(&self, i: usize, top: bool) -> String {
+        if !top {
+            if let Some(t) = &self.temps[i] {
+                return t.clone();
+            }
+        }
+        match &self.prog.steps[i] {
+            Step::Var(v) => self.names[*v].clone(),
+            Step::Const(k) => self.constant(*k),
+            Step::Add(a, b) => format!("{} + {}", self.operand(*a, 1), self.operand(*b, 2)),
+            Step::Sub(a, b) => format!("{} - {}", self.operand(*a, 1), self.operand(*b, 2)),
+            Step::Mul(a, b) => format!("{} * {}", self.operand(*a, 2), self.operand(*b, 3)),
+            Step::Div(a, b) => format!("{} / {}", self.operand(*a, 2), self.operand(*b, 3)),
+            Step::Neg(a) => format!("-{}", self.operand(*a, 3)),
+        }
+    }
+    /// True when the step's value is a real double in Rust (built from real constants only).
+    fn is_real(&self, i: usize) -> bool {
+        match &self.prog.steps[i] {
+            Step::Var(_) => false,
+            Step::Const(k) => self.consts[*k].1 == 0.0,
+            Step::Add(a, b) | Step::Sub(a, b) | Step::Mul(a, b) | Step::Div(a, b) => self.is_real(*a) && self.is_real(*b),
+            Step::Neg(a) => self.is_real(*a),
+        }
+    }
+}
+
+fn wrap_comment(prefix: &str, text: &str, width: usize) -> Vec<String> {
+    let mut lines = Vec::new();
+    let mut cur = String::new();
+    for word in text.split(' ') {
+        if !cur.is_empty() && cur.chars().count() + word.chars().count() + 1 > width {
+            lines.push(format!("{prefix}{cur}"));
+            cur = String::from("    ");
+        } else if !cur.is_empty() && cur != "    " {
+            cur.push(' ');
+        }
+        cur.push_str(word);
+    }
+    if !cur.trim().is_empty() {
+        lines.push(format!("{prefix}{cur}"));
+    }
+    lines
+}
+
+fn string_literal(s: &str) -> String {
+    let mut o = String::from("\"");
+    for ch in s.chars() {
+        match ch {
+            '"' => o.push_str("\\\""),
+            '\\' => o.push_str("\\\\"),
+            c => o.push(c),
+        }
+    }
+    o.push('"');
+    o
+}
+
+fn counts_line(ch: &Choice) -> String {
+    let c = ch.emitted;
+    format!(
+        "cost: {} mul ({} by a real constant), {} add/sub, {} div = {} real flops; form: {}; e-graph: {} nodes, {} iterations, stop: {}",
+        c.mul,
+        c.scale,
+        c.add,
+        c.div,
+        c.flops(),
+        ch.origin,
+        ch.egraph_nodes,
+        ch.iterations,
+        ch.stop
+    )
+}
+
+/// Emits the requested functions.
+pub fn emit_code(req: &CodeRequest<'_>) -> Result<Emitted> {
+    if !valid_prefix(&req.prefix) {
+        return Err(
+            Error::new(ErrorKind::Usage, format!("'{}' is not a valid name prefix: use ASCII letters, digits and _", req.prefix)).in_option("--name")
+        );
+    }
+    let locals = param_locals(&req.params);
+    let (c, rust) = (req.lang == Lang::C, req.lang == Lang::Rust);
+    let cm = "//";
+    let upper = req.prefix.to_ascii_uppercase();
+    let mut o = String::new();
+    o.push_str(&format!("{cm} Evaluators generated by canonode from {} (complex double precision).\n", req.source));
+    o.push_str(&format!("{cm} Every function takes the parameters as p[i] in this order:\n"));
+    for (i, p) in req.params.iter().enumerate() {
+        o.push_str(&format!("{cm}   p[{i}] = {p}\n"));
+    }
+    if req.params.is_empty() {
+        o.push_str(&format!("{cm}   (none: p is not read)\n"));
+    }
+    for s in &req.skipped {
+        o.push_str(&format!("{cm} Not emitted: {s}\n"));
+    }
+    o.push_str(&format!("{cm} Each form was checked to equal the exact canonical value before emission.\n\n"));
+    if c {
+        o.push_str("#include <complex.h>\n\n");
+        o.push_str(&format!("#define {upper}_PARAM_COUNT {}\n", req.params.len()));
+        let list: Vec<String> = req.params.iter().map(|p| string_literal(p)).collect();
+        o.push_str(&format!("#define {upper}_PARAM_NAMES {{{}}}\n", list.join(", ")));
+    } else {
+        o.push_str("use num_complex::Complex64;\n\n");
+        o.push_str("/// The parameter names, in the order of `p`.\n");
+        let list: Vec<String> = req.params.iter().map(|p| string_literal(p)).collect();
+        o.push_str(&format!("pub const {upper}_PARAMS: [&str; {}] = [{}];\n", req.params.len(), list.join(", ")));
+    }
+    let mut choices = Vec::new();
+    for f in &req.functions {
+        if f.field.names().len() != req.params.len() + 1 || f.field.names()[1..] != req.params[..] {
+            return Err(Error::new(ErrorKind::Internal, "a function's field does not hold the parameters in the file's order"));
+        }
+        let ch = choose(f.field, &f.outputs, &req.limits)?;
+        let arg = if f.kind == FunctionKind::Recurrence { "n" } else { "z" };
+        let mut names = vec![arg.to_string()];
+        names.extend(locals.iter().cloned());
+        let prog = &ch.program;
+        let mut consts = Vec::with_capacity(prog.consts.len());
+        for g in &prog.consts {
+            consts.push(grat_doubles(g)?);
+        }
+        let uses = prog.uses();
+        let mut temps = vec![None; prog.steps.len()];
+        let mut k = 0;
+        for (i, s) in prog.steps.iter().enumerate() {
+            if uses[i] >= 2 && !matches!(s, Step::Var(_) | Step::Const(_)) {
+                temps[i] = Some(format!("t{k}"));
+                k += 1;
+            }
+        }
+        let pr = Printer { lang: req.lang, prog, names, consts, temps };
+        let fname = format!("{}_{}", req.prefix, f.kind.suffix());
+        let doc = if c { "//" } else { "///" };
+        o.push('\n');
+        for a in &f.about {
+            for l in wrap_comment(&format!("{doc} "), a, 100) {
+                o.push_str(&l);
+                o.push('\n');
+            }
+        }
+        for (j, r) in f.outputs.iter().enumerate() {
+            let lhs = match f.kind {
+                FunctionKind::Q => "Q".to_string(),
+                FunctionKind::Potential => "V".to_string(),
+                FunctionKind::Recurrence => format!("c[{j}]"),
+            };
+            let text = format!("{lhs} = {}", ratfunc_text(r, f.field.names(), Style::Text));
+            for l in wrap_comment(&format!("{doc}   "), &text, 100) {
+                o.push_str(&l);
+                o.push('\n');
+            }
+        }
+        o.push_str(&format!("{doc} Source: {}. {}\n", req.source, counts_line(&ch)));
+        let used: Vec<bool> = (0..req.params.len() + 1).map(|v| prog.steps.iter().any(|s| *s == Step::Var(v))).collect();
+        let terms = f.outputs.len();
+        if c {
+            match f.kind {
+                FunctionKind::Recurrence => {
+                    o.push_str(&format!("#define {upper}_RECURRENCE_TERMS {terms}\n"));
+                    o.push_str(&format!("void {fname}(double complex n, const double complex p[], double complex c[])\n{{\n"));
+                }
+                _ => o.push_str(&format!("double complex {fname}(double complex z, const double complex p[])\n{{\n")),
+            }
+        } else {
+            match f.kind {
+                FunctionKind::Recurrence => {
+                    o.push_str(&format!("pub const {upper}_RECURRENCE_TERMS: usize = {terms};\n\n"));
+                    o.push_str(&format!("{doc} Returns the {terms} coefficients c[j] (in the order above).\n"));
+                    o.push_str(&format!("#[allow(non_snake_case)]\npub fn {fname}(n: Complex64, p: &[Complex64]) -> [Complex64; {terms}] {{\n"));
+                }
+                _ => o.push_str(&format!("#[allow(non_snake_case)]\npub fn {fname}(z: Complex64, p: &[Complex64]) -> Complex64 {{\n")),
+            }
+        }
+        if !used[0] {
+            o.push_str(&if c { format!("    (void){arg};\n") } else { format!("    let _ = {arg};\n") });
+        }
+        if !used[1..].iter().any(|u| *u) {
+            o.push_str(if c { "    (void)p;\n" } else { "    let _ = p;\n" });
+        }
+        for (i, l) in locals.iter().enumerate() {
+            if used[i + 1] {
+                if c {
+                    o.push_str(&format!("    const double complex {l} = p[{i}];\n"));
+                } else {
+                    o.push_str(&format!("    let {l} = p[{i}];\n"));
+                }
+            }
+        }
+        for (i, t) in pr.temps.iter().enumerate() {
+            if let Some(t) = t {
+                let rhs = pr.expr(i, true);
+                if c {
+                    o.push_str(&format!("    const double complex {t} = {rhs};\n"));
+                } else if pr.is_real(i) {
+                    o.push_str(&format!("    let {t}: f64 = {rhs};\n"));
+                } else {
+                    o.push_str(&format!("    let {t} = {rhs};\n"));
+                }
+            }
+        }
+        let out_text = |i: usize| -> String {
+            let e = pr.expr(i, true);
+            if rust && pr.is_real(i) {
+                format!("Complex64::from({e})")
+            } else {
+                e
+            }
+        };
+        match (f.kind, c) {
+            (FunctionKind::Recurrence, true) => {
+                for (j, &i) in prog.outputs.iter().enumerate() {
+                    o.push_str(&format!("    c[{j}] = {};\n", out_text(i)));
+                }
+            }
+            (FunctionKind::Recurrence, false) => {
+                let items: Vec<String> = prog.outputs.iter().map(|&i| format!("        {},\n", out_text(i))).collect();
+                o.push_str(&format!("    [\n{}    ]\n", items.concat()));
+            }
+            (_, true) => o.push_str(&format!("    return {};\n", out_text(prog.outputs[0]))),
+            (_, false) => o.push_str(&format!("    {}\n", out_text(prog.outputs[0]))),
+        }
+        o.push_str("}\n");
+        choices.push((f.kind, ch));
+    }
+    Ok(Emitted { text: o, choices })
+}
+
+fn grat_doubles(g: &GRat) -> Result<(f64, f64)> {
+    Ok((nearest_double(&g.re)?, nearest_double(&g.im)?))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn hostile_names_become_distinct_locals() {
+        let names: Vec<String> = ["int", "I", "re", "λ", "lambda", "p_lambda", "fn"].iter().map(|s| s.to_string()).collect();
+        let l = param_locals(&names);
+        assert_eq!(l, ["p_int", "p_I", "p_re", "p_lambda", "p_lambda_5", "p_p_lambda", "p_fn"]);
+    }
+
+    #[test]
+    fn doubles_are_nearest() {
+        // 1/3 and 1/10 as Python's float() rounds them (IEEE 754 round to nearest, common practice).
+        let third = Rat::new(1.into(), 3.into()).unwrap();
+        assert_eq!(nearest_double(&third).unwrap(), 1.0 / 3.0);
+        assert_eq!(nearest_double(&Rat::new(1.into(), 10.into()).unwrap()).unwrap(), 0.1);
+        assert_eq!(literal(0.1), "1.0000000000000001e-1");
+        assert_eq!(literal(-2.0), "-2.0");
+    }
+}
