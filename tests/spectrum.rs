@@ -21,6 +21,13 @@ fn modes(sample: &str, at: &str, overtones: &str, extra: &[&str]) -> Vec<Value> 
     v["modes"].as_array().expect("modes").clone()
 }
 
+/// The `points` of a successful `scan … --format json`.
+fn scan_points(args: &[&str]) -> Vec<Value> {
+    let (v, code, err) = run(args);
+    assert_eq!(code, 0, "{args:?}: {err}");
+    v["points"].as_array().expect("points").clone()
+}
+
 fn omega(m: &Value) -> (f64, f64) {
     assert_eq!(m["converged"], true, "mode not converged: {m}");
     (m["omega"][0].as_f64().unwrap(), m["omega"][1].as_f64().unwrap())
@@ -233,14 +240,18 @@ fn scan_with_shards_and_plot() {
     std::fs::create_dir_all(&dir).unwrap();
     let svg = dir.join("rn.svg");
     let svg_s = svg.to_string_lossy().to_string();
-    let out = Command::new(env!("CARGO_BIN_EXE_canonode"))
-        .args(["scan", "samples/reissner_nordstrom_scalar.ode", "--vary", "q=0:0.9:0.3", "--at", "M=1,l=2", "--format", "json", "--plot", &svg_s])
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .output()
-        .unwrap();
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
-    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
-    let pts = v["points"].as_array().unwrap();
+    let pts = scan_points(&[
+        "scan",
+        "samples/reissner_nordstrom_scalar.ode",
+        "--vary",
+        "q=0:0.9:0.3",
+        "--at",
+        "M=1,l=2",
+        "--format",
+        "json",
+        "--plot",
+        &svg_s,
+    ]);
     assert_eq!(pts.len(), 4);
     for p in pts {
         let m = &p["modes"][0];
@@ -300,23 +311,14 @@ fn demo_background_reduces_to_schwarzschild_and_agrees_by_two_methods() {
     }
 }
 
+/// The Kerr coupling of the Teukolsky radial and spin-weighted spheroidal
+/// samples (Teukolsky 1973: λ = A + a²ω² − 2amω, c = aω).
+const KERR_COUPLING: &[&str] =
+    &["--couple", "samples/spheroidal_spin_weighted.ode", "--link", "lam = A + a^2*omega^2 - 2*a*m*omega", "--link", "c = a*omega"];
+
 fn kerr(a: &str, overtones: &str, guess: &str) -> Vec<Value> {
     let at = format!("M=1,a={a},m=2,s=-2");
-    modes(
-        "teukolsky_radial",
-        &at,
-        overtones,
-        &[
-            "--couple",
-            "samples/spheroidal_spin_weighted.ode",
-            "--link",
-            "lam = A + a^2*omega^2 - 2*a*m*omega",
-            "--link",
-            "c = a*omega",
-            "--guess",
-            guess,
-        ],
-    )
+    modes("teukolsky_radial", &at, overtones, &[KERR_COUPLING, &["--guess", guess]].concat())
 }
 
 #[test]
@@ -463,31 +465,13 @@ fn kerr_scan_over_the_spin_follows_the_mode() {
     // neighbour: a = 0 is Schwarzschild and a = 0.9 Leaver 1985's
     // 0.67161 − 0.06487i (as in the coupled spectrum test above), with the
     // direct-integration check beside every point.
-    let out = Command::new(env!("CARGO_BIN_EXE_canonode"))
-        .args([
-            "scan",
-            "samples/teukolsky_radial.ode",
-            "--vary",
-            "a=0:0.9:0.3",
-            "--at",
-            "M=1,m=2,s=-2",
-            "--guess",
-            "0.37-0.09i",
-            "--couple",
-            "samples/spheroidal_spin_weighted.ode",
-            "--link",
-            "lam = A + a^2*omega^2 - 2*a*m*omega",
-            "--link",
-            "c = a*omega",
-            "--format",
-            "json",
-        ])
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .output()
-        .unwrap();
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
-    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
-    let pts = v["points"].as_array().unwrap();
+    let pts = scan_points(
+        &["scan", "samples/teukolsky_radial.ode", "--vary", "a=0:0.9:0.3", "--at", "M=1,m=2,s=-2", "--guess", "0.37-0.09i", "--format", "json"]
+            .iter()
+            .chain(KERR_COUPLING)
+            .copied()
+            .collect::<Vec<_>>(),
+    );
     assert_eq!(pts.len(), 4);
     let w0 = omega(&pts[0]["modes"][0]);
     assert!((w0.0 - 0.37367168).abs() < 5.1e-9 && (w0.1 + 0.08896232).abs() < 5.1e-9, "{w0:?}");

@@ -19,6 +19,21 @@ pub struct NPoly {
 }
 
 impl NPoly {
+    /// The coefficients of ωᵇ at n (b = 0, 1, …), trailing exact zeros removed.
+    pub fn at_n(&self, n: f64) -> Vec<Complex64> {
+        let nb = self.c.iter().map(|r| r.len()).max().unwrap_or(0);
+        let mut coeffs = vec![Complex64::new(0.0, 0.0); nb];
+        for (a, row) in self.c.iter().enumerate() {
+            for (b, c) in row.iter().enumerate() {
+                coeffs[b] += c * n.powi(a as i32);
+            }
+        }
+        while coeffs.last().is_some_and(|c| c.norm() == 0.0) {
+            coeffs.pop();
+        }
+        coeffs
+    }
+
     /// The coefficients of nᵃ at ω (a = 0, 1, …).
     pub fn at_omega(&self, w: Complex64) -> Vec<Complex64> {
         self.c
@@ -256,6 +271,13 @@ pub struct CfRoot {
     pub inversion: usize,
 }
 
+impl CfRoot {
+    /// A search that stopped before any root, at `seed`, for inversion `k`.
+    pub fn failed(seed: Complex64, k: usize, stop: StopReason) -> CfRoot {
+        CfRoot { omega: seed, converged: false, depth: 0, depth_change: f64::NAN, residual: f64::NAN, iterations: 0, stop, inversion: k }
+    }
+}
+
 /// The k-th inversion of the continued fraction at ω with truncation depth N,
 /// divided by β_k; `None` where a denominator vanishes.
 pub fn cf_function(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<Complex64> {
@@ -378,16 +400,7 @@ fn cf_function_reduced(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize
 /// `max_depth`.
 pub fn find_root(rec: &NumRecurrence, k: usize, seed: Complex64, tol: f64, depth0: usize, max_depth: usize) -> CfRoot {
     if rec.terms.len() < 3 {
-        return CfRoot {
-            omega: seed,
-            converged: false,
-            depth: 0,
-            depth_change: f64::NAN,
-            residual: f64::NAN,
-            iterations: 0,
-            stop: StopReason::NotThreeTerm,
-            inversion: k,
-        };
+        return CfRoot::failed(seed, k, StopReason::NotThreeTerm);
     }
     find_root_by(
         &|w, depth| cf_function(rec, w, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string()),
@@ -411,16 +424,7 @@ pub fn find_root_by(
     depth0: usize,
     max_depth: usize,
 ) -> CfRoot {
-    let fail = |stop: StopReason| CfRoot {
-        omega: seed,
-        converged: false,
-        depth: 0,
-        depth_change: f64::NAN,
-        residual: f64::NAN,
-        iterations: 0,
-        stop,
-        inversion: k,
-    };
+    let fail = |stop: StopReason| CfRoot::failed(seed, k, stop);
     let mut depth = depth0.max(k + 10);
     let mut w = seed;
     let mut prev: Option<Complex64> = None;

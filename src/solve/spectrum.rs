@@ -328,15 +328,8 @@ pub fn overtones(
 /// lower right quadrant are the modes (the series is then a polynomial and
 /// has the chosen exponents at both ends).
 fn terminating_mode(num: &super::cf::NumRecurrence, n: u32) -> Mode {
-    let c1 = &num.terms[1];
-    // Coefficients in ω at this n: Σ_a c[a][b] nᵃ.
-    let nb = c1.c.iter().map(|r| r.len()).max().unwrap_or(0);
-    let mut coeffs = vec![Complex64::new(0.0, 0.0); nb];
-    for (a, row) in c1.c.iter().enumerate() {
-        for (b, c) in row.iter().enumerate() {
-            coeffs[b] += c * (n as f64).powi(a as i32);
-        }
-    }
+    // Coefficients in ω at this n.
+    let coeffs = num.terms[1].at_n(n as f64);
     let roots = crate::analysis::numeric::try_roots(&coeffs).unwrap_or_default();
     let pick =
         roots.iter().copied().filter(|w| w.im < 0.0 && w.re >= 0.0).max_by(|a, b| a.re.partial_cmp(&b.re).unwrap_or(std::cmp::Ordering::Equal));
@@ -353,16 +346,11 @@ fn terminating_mode(num: &super::cf::NumRecurrence, n: u32) -> Mode {
             stop: StopReason::Converged,
             inversion: n as usize,
         },
-        None => CfRoot {
-            omega: Complex64::new(f64::NAN, f64::NAN),
-            converged: false,
-            depth: 0,
-            depth_change: f64::NAN,
-            residual: f64::NAN,
-            iterations: 0,
-            stop: StopReason::Rejected(format!("the termination condition for overtone {n} has no root with Re ω ≥ 0 and Im ω < 0")),
-            inversion: n as usize,
-        },
+        None => CfRoot::failed(
+            Complex64::new(f64::NAN, f64::NAN),
+            n as usize,
+            StopReason::Rejected(format!("the termination condition for overtone {n} has no root with Re ω ≥ 0 and Im ω < 0")),
+        ),
     };
     Mode { n, root, seed: (Complex64::new(0.0, 0.0), "exact termination condition (no seed)".into()), method: "terminating" }
 }
