@@ -649,16 +649,31 @@ fn evaluate(ode: &NumOde, ends: &Ends, w: Complex64, p: &Params) -> Result<(Comp
     // Matching near the horizon rather than at z_f: at z_f the horizon
     // solution is dominated by the other branch unless the mode condition
     // holds to roundoff, so a normalisation there would hide the zero.
-    Ok((normalised_wronskian((yh, dyh), (yi, dyi))?, steps))
+    Ok((normalised_wronskian((yh, dyh), (yi, dyi), Norm::Products)?, steps))
 }
 
-/// The Wronskian y₁ y₂' − y₁' y₂ divided by |y₁||y₂'| + |y₁'||y₂|: free of
-/// both normalisations, at most 1 in size, zero when the two solutions are
+/// How a Wronskian is made free of the solutions' normalisations.
+#[derive(Clone, Copy)]
+pub(super) enum Norm {
+    /// By |y₁||y₂'| + |y₁'||y₂|: what the quasinormal search uses.
+    Products,
+    /// By |(y₁, y₁')| |(y₂, y₂')|: the sine of the angle between the two
+    /// vectors. For real solutions the product norm is exactly ±1 wherever
+    /// the two logarithmic derivatives differ in sign, a plateau on which
+    /// Muller cannot move; the sine varies smoothly with the trial value.
+    Vectors,
+}
+
+/// The Wronskian y₁ y₂' − y₁' y₂ divided by the chosen norm: free of both
+/// normalisations, at most 1 in size, zero when the two solutions are
 /// proportional.
-pub(super) fn normalised_wronskian(one: (Complex64, Complex64), two: (Complex64, Complex64)) -> Result<Complex64, String> {
+pub(super) fn normalised_wronskian(one: (Complex64, Complex64), two: (Complex64, Complex64), by: Norm) -> Result<Complex64, String> {
     let ((y1, d1), (y2, d2)) = (one, two);
     let wr = y1 * d2 - d1 * y2;
-    let norm = y1.norm() * d2.norm() + d1.norm() * y2.norm();
+    let norm = match by {
+        Norm::Products => y1.norm() * d2.norm() + d1.norm() * y2.norm(),
+        Norm::Vectors => (y1.norm_sqr() + d1.norm_sqr()).sqrt() * (y2.norm_sqr() + d2.norm_sqr()).sqrt(),
+    };
     if !(norm > 0.0 && norm.is_finite() && finite(wr)) {
         return Err("the Wronskian cannot be normalised at the matching point".into());
     }

@@ -140,7 +140,7 @@ fn evaluate(ode: &NumOde, domain: Domain, e: Complex64, p: &Params) -> std::resu
     };
     let one = solution(left, &hl)?;
     let two = solution(right, &hr)?;
-    Ok((integrate::normalised_wronskian(one, two)?, steps))
+    Ok((integrate::normalised_wronskian(one, two, integrate::Norm::Vectors)?, steps))
 }
 
 /// The solution with the larger exponent at the regular end `h`, summed as
@@ -205,11 +205,73 @@ mod tests {
         try_bound_ode(&red.field, &red.normal.q, &vals, eig).unwrap()
     }
 
+    const OSCILLATOR: &str = "var x\nparam E\node psi'' + (2*E - x^2)*psi = 0\n";
+
+    fn state(value: f64, neighbours: &[f64]) -> BoundState {
+        let c = |x: f64| Complex64::new(x, 0.0);
+        BoundState { n: 0, value: c(value), converged: true, change: 0.0, points: 0, neighbours: neighbours.iter().map(|x| c(*x)).collect() }
+    }
+
     #[test]
-    fn debug_print() {
-        let o = ode("var x\nparam E\node psi'' + (2*E - x^2)*psi = 0\n", &[]);
-        for e in [0.3, 0.45, 0.5, 0.55, 0.7] {
-            eprintln!("{e}: {:?}", evaluate(&o, Domain::Line, Complex64::new(e, 0.0), &integrate::STANDARD));
+    fn oscillator_mismatch_vanishes_at_n_plus_half_and_not_beside() {
+        // ψ'' + (2E − x²)ψ = 0: bound states at E = n + ½ (textbook).
+        let o = ode(OSCILLATOR, &[]);
+        for n in 0..4 {
+            let e = n as f64 + 0.5;
+            let at = mismatch(&o, Domain::Line, Complex64::new(e, 0.0)).unwrap();
+            let beside = mismatch(&o, Domain::Line, Complex64::new(e + 0.1, 0.0)).unwrap();
+            assert!(at.norm() <= 1e-10, "n={n}: {at}");
+            assert!(beside.norm() >= 1e-2, "n={n}: {beside}");
+        }
+    }
+
+    #[test]
+    fn riccati_start_has_the_oscillator_power() {
+        // The decaying branch at +∞ is exp(−x²/2) x^(E − ½) (DLMF 12.9.1 with
+        // z = √2 x, a = −E); at −∞ it is the same function of |x|.
+        let o = ode(OSCILLATOR, &[]);
+        let e = Complex64::new(1.3, 0.0);
+        for dir in [1.0, -1.0] {
+            let l = Leading::new(&Coeffs::at(&o, e).unwrap(), dir).unwrap();
+            assert_eq!(l.rank, 2);
+            let (u0, u1) = l.mu_nu();
+            assert!((u0 + 1.0).norm() < 1e-15 && u1.norm() < 1e-15, "{u0} {u1}");
+            assert!((l.gap(Complex64::new(2.0, 0.0)) - 4.0).abs() < 1e-14);
+        }
+    }
+
+    #[test]
+    fn hydrogen_refinement_from_a_rough_seed() {
+        // −u''/2 + (l(l+1)/(2r²) − Z/r)u = Eu: E = −Z²/(2n²) (textbook); Z = 1, l = 1, n = 2.
+        let src = "var r\nparam Z, l, E\node -u''/2 + (l*(l + 1)/(2*r^2) - Z/r)*u = E*u\n";
+        let o = ode(src, &[1, 1]);
+        match refine(&o, Domain::HalfLine(0.0), &state(-0.12, &[-0.0555]), 1e-12) {
+            BoundCheck::Agrees(r) => assert!((r.omega.re + 0.125).abs() < 1e-12 && r.omega.im.abs() < 1e-12, "{r:?}"),
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn a_refinement_on_a_neighbour_is_not_a_check() {
+        // Seeded between the oscillator's E = ½ and E = 3/2, with both as the
+        // neighbouring collocation values: wherever it lands is nearer one of them.
+        let o = ode(OSCILLATOR, &[]);
+        match refine(&o, Domain::Line, &state(1.1, &[0.5, 1.5]), 1e-12) {
+            BoundCheck::Elsewhere(r, v) => assert!((r.omega - v).norm() < 1e-9, "{r:?} {v}"),
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn unsupported_ends_say_so() {
+        // A linear potential: z = ∞ of rank 3/2. A quartic one: rank 3.
+        for (src, rank) in [("var r\nparam E\node u'' + (2*E - 2*r - 2/r^2)*u = 0\n", "3/2"), ("var x\nparam E\node u'' + (2*E - x^4)*u = 0\n", "3")] {
+            let o = ode(src, &[]);
+            let domain = if rank == "3" { Domain::Line } else { Domain::HalfLine(0.0) };
+            match refine(&o, domain, &state(2.0, &[]), 1e-12) {
+                BoundCheck::Unavailable(why) => assert!(why.contains(&format!("rank {rank}")), "{why}"),
+                other => panic!("{other:?}"),
+            }
         }
     }
 }
