@@ -173,14 +173,8 @@ pub fn try_bound_states(
             if let (Some(a), Some(b)) = (prev.get(i), next.get(i)) {
                 let change = (a - b).norm();
                 let neighbours = [i.checked_sub(1), Some(i + 1)].into_iter().flatten().filter_map(|j| next.get(j).copied()).collect();
-                *slot = Some(BoundState {
-                    n: i as u32,
-                    value: *b,
-                    converged: change <= tol * b.norm().max(1e-300),
-                    change,
-                    points: m + 1,
-                    neighbours,
-                });
+                *slot =
+                    Some(BoundState { n: i as u32, value: *b, converged: change <= tol * b.norm().max(1e-300), change, points: m + 1, neighbours });
             }
         }
         if out.iter().all(|s| s.as_ref().is_some_and(|s| s.converged)) {

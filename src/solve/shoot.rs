@@ -168,7 +168,14 @@ fn from_regular(
 /// The solution that decays towards z = `dir`·∞, at z_m: the asymptotic
 /// series at rank 1, the Riccati expansion's start at rank 2, continued
 /// inwards along the real axis.
-fn from_far(k: &Coeffs, dir: f64, z_m: f64, roots: &[Complex64], p: &Params, steps: &mut usize) -> std::result::Result<(Complex64, Complex64), String> {
+fn from_far(
+    k: &Coeffs,
+    dir: f64,
+    z_m: f64,
+    roots: &[Complex64],
+    p: &Params,
+    steps: &mut usize,
+) -> std::result::Result<(Complex64, Complex64), String> {
     let lead = Leading::new(k, dir)?;
     let (zm, ray) = (Complex64::new(z_m, 0.0), Complex64::new(dir, 0.0));
     // The branches part by a factor e over a length r with |u − u'| r^R ~ 1;
@@ -265,7 +272,8 @@ mod tests {
     #[test]
     fn unsupported_ends_say_so() {
         // A linear potential: z = ∞ of rank 3/2. A quartic one: rank 3.
-        for (src, rank) in [("var r\nparam E\node u'' + (2*E - 2*r - 2/r^2)*u = 0\n", "3/2"), ("var x\nparam E\node u'' + (2*E - x^4)*u = 0\n", "3")] {
+        for (src, rank) in [("var r\nparam E\node u'' + (2*E - 2*r - 2/r^2)*u = 0\n", "3/2"), ("var x\nparam E\node u'' + (2*E - x^4)*u = 0\n", "3")]
+        {
             let o = ode(src, &[]);
             let domain = if rank == "3" { Domain::Line } else { Domain::HalfLine(0.0) };
             match refine(&o, domain, &state(2.0, &[]), 1e-12) {
