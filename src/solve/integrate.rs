@@ -839,7 +839,7 @@ impl Leading {
         let terms: Vec<Complex64> = self.u.iter().enumerate().map(|(j, c)| c * z.powi(r - 1 - j as i32)).collect();
         // Terms of one parity may vanish (an even Q), so the window spans R
         // terms, and only windows of terms actually computed count.
-        let (cut, err) = optimal_cut(&terms, (self.rank + 1)..(terms.len() + 1 - self.rank), self.rank);
+        let (cut, err) = optimal_cut(&terms, (self.rank + 1)..(terms.len() + 1).saturating_sub(self.rank), self.rank);
         let sum: Complex64 = terms[..cut].iter().sum();
         (ONE, sum, err / self.gap(z))
     }
