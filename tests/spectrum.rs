@@ -330,10 +330,9 @@ fn kerr_fundamental_mode_coupled_to_the_spheroidal_eigenvalue() {
     // The same modes to seven digits, 0.4641230 − 0.0856388i and
     // 0.6716142 − 0.0648692i (Berti, Cardoso & Starinets 2009 tables, from
     // memory): agreement to 1e-6, i.e. six significant digits.
-    for (a, guess, want, seven) in [
-        ("0.5", "0.46-0.085i", (0.46412, -0.08564), (0.4641230, -0.0856388)),
-        ("0.9", "0.67-0.065i", (0.67161, -0.06487), (0.6716142, -0.0648692)),
-    ] {
+    for (a, guess, want, seven) in
+        [("0.5", "0.46-0.085i", (0.46412, -0.08564), (0.4641230, -0.0856388)), ("0.9", "0.67-0.065i", (0.67161, -0.06487), (0.6716142, -0.0648692))]
+    {
         let ms = kerr(a, "0", guess);
         let (re, im) = omega(&ms[0]);
         assert!((re - want.0).abs() <= 5e-6 && (im - want.1).abs() <= 5e-6, "a={a}: {re} {im} vs {want:?}");
@@ -489,4 +488,83 @@ fn kerr_scan_over_the_spin_follows_the_mode() {
         let c = &m["check"]["omega"];
         assert!((c[0].as_f64().unwrap() - re).abs() + (c[1].as_f64().unwrap() - im).abs() < 1e-9, "{p}");
     }
+}
+
+/// The shooting check of a bound state: its value, asserting it ran.
+fn shooting(m: &Value) -> f64 {
+    let c = &m["check"];
+    assert_eq!(c["method"], "shooting", "{m}");
+    assert!(c["agreement"].as_f64().unwrap() < 1e-9, "{m}");
+    assert!(c["omega"][1].as_f64().unwrap().abs() < 1e-12, "{m}");
+    c["omega"][0].as_f64().unwrap()
+}
+
+#[test]
+fn bound_states_are_checked_by_shooting() {
+    // Hydrogen-like E = −Z²/(2n²), n = n_r + l + 1; oscillator E = n + ½
+    // (textbook): the refinement by shooting, an end-to-end second method,
+    // agrees with the exact values to 1e-9.
+    for (z, l) in [(1.0f64, 0u32), (2.0, 1)] {
+        for m in &bound("samples/hydrogen_radial.ode", &format!("Z={z},l={l}"), "0..2") {
+            let n = m["n"].as_f64().unwrap() + l as f64 + 1.0;
+            let want = -z * z / (2.0 * n * n);
+            assert!((shooting(m) - want).abs() < 1e-9, "Z={z} l={l} n={n}: {m}");
+        }
+    }
+    for m in &bound("samples/harmonic_oscillator.ode", "", "0..5") {
+        let n = m["n"].as_f64().unwrap();
+        assert!((shooting(m) - (n + 0.5)).abs() < 1e-9, "n={n}: {m}");
+    }
+    // The Pöschl–Teller well of `poschl_teller_well_levels` (Landau &
+    // Lifshitz §23, from memory): E = −4, −1; two regular ends at u = ±1.
+    let prog = "var u\nparam V0, alpha, E\nlet g = 1 - u^2\nunknown phi\node alpha^2*g*(g*phi')' + (E - V0*g)*phi = 0\n";
+    let ms = bound(prog, "V0=-6,alpha=1", "0..1");
+    assert!((shooting(&ms[0]) + 4.0).abs() < 1e-9 && (shooting(&ms[1]) + 1.0).abs() < 1e-9, "{ms:?}");
+}
+
+#[test]
+fn bound_states_without_a_second_method_say_so() {
+    // A linear confining potential: z = ∞ of rank 3/2, which the shooting
+    // does not handle. The collocation value stands alone, marked as such.
+    let prog = "var r\nparam E\node u'' + (2*E - 2*r - 2/r^2)*u = 0\n";
+    let ms = bound(prog, "", "0");
+    omega(&ms[0]);
+    assert_eq!(ms[0]["check"], Value::Null, "{}", ms[0]);
+    assert!(ms[0]["no_check"].as_str().unwrap().starts_with("no second method for this end type"), "{}", ms[0]);
+    let dir = std::env::temp_dir().join(format!("canonode-nocheck-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("linear.ode");
+    std::fs::write(&path, prog).unwrap();
+    let out = Command::new(env!("CARGO_BIN_EXE_canonode"))
+        .args(["spectrum", path.to_str().unwrap(), "--boundary", "bound", "--at", "", "--overtones", "0"])
+        .output()
+        .unwrap();
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("check: no second method for this end type (z = ∞ has Poincaré rank 3/2"), "{text}");
+    // Where it runs, the text carries the shooting value and the agreement.
+    let out = Command::new(env!("CARGO_BIN_EXE_canonode"))
+        .args(["spectrum", "samples/harmonic_oscillator.ode", "--boundary", "bound", "--at", "", "--overtones", "0"])
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .unwrap();
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("     check: shooting 0.5") && text.contains("agreement"), "{text}");
+}
+
+#[test]
+fn collocation_is_a_bound_state_method_only() {
+    let osc = ["spectrum", "samples/harmonic_oscillator.ode", "--boundary", "bound", "--at", "", "--format", "json"];
+    let (plain, code, err) = run(&osc);
+    assert_eq!(code, 0, "{err}");
+    let (explicit, code, err) = run(&[&osc[..], &["--method", "collocation"]].concat());
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(plain, explicit);
+    for m in ["cf", "wkb", "eikonal", "integrate"] {
+        let (_, code, err) = run(&[&osc[..], &["--method", m]].concat());
+        assert_eq!(code, 2, "{m}: {err}");
+        assert!(err.contains("--boundary bound computes bound states by collocation"), "{m}: {err}");
+    }
+    let (_, code, err) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--method", "collocation"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("--method collocation computes bound states"), "{err}");
 }

@@ -33,6 +33,8 @@ pub(crate) enum Method {
     Wkb,
     /// The eikonal (first-order) estimate from the peak of the potential.
     Eikonal,
+    /// Chebyshev collocation (bound states; the default there), each eigenvalue checked by shooting.
+    Collocation,
 }
 
 /// Arguments of `spectrum`.
@@ -206,6 +208,14 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     let red = crate::solve::spectrum::substitute(&red, &point, freq)?;
     if a.boundary == super::classify::BoundaryArg::Bound {
         return bound_states(a, &red, &fname, freq, point, overtones, src);
+    }
+    if a.method == Method::Collocation {
+        return Err(Error::new(
+            ErrorKind::Usage,
+            "--method collocation computes bound states (with --boundary bound); quasinormal modes use auto, cf, integrate, wkb or eikonal",
+        )
+        .in_option("--method")
+        .into());
     }
     let opts = SpectrumOptions { freq, values: point, overtones, tol: a.tol, guess, seeds: Vec::new() };
     let (rec, setup0) = crate::solve::spectrum::qnm_recurrence(&red, &opts)?;
@@ -489,7 +499,8 @@ fn estimate_report(
 }
 
 /// Bound states by collocation on the interval between the real singular
-/// points (or the half line / line when infinity is the only other end).
+/// points (or the half line / line when infinity is the only other end),
+/// each converged eigenvalue refined by shooting as its check.
 fn bound_states(
     a: &SpectrumArgs,
     red: &crate::ode::Reduction,
@@ -500,6 +511,16 @@ fn bound_states(
     src: &super::Source,
 ) -> Result<String, Failure> {
     use crate::solve::collocation::{bound_problem, try_bound_states, Domain};
+    use crate::solve::shoot::{refine, try_bound_ode, BoundCheck};
+    if !matches!(a.method, Method::Auto | Method::Collocation) {
+        let name = a.method.to_possible_value().map(|v| v.get_name().to_string()).unwrap_or_default();
+        return Err(Error::new(
+            ErrorKind::Usage,
+            format!("--boundary bound computes bound states by collocation (--method auto or collocation), not by '{name}'; shooting runs as the check of every eigenvalue"),
+        )
+        .in_option("--method")
+        .into());
+    }
     let k = &red.field;
     let (domain, threshold) = bound_problem(red, freq, &point)?;
     let scale = 4.0;
@@ -511,11 +532,58 @@ fn bound_states(
         Domain::Line => "(−∞, ∞)".to_string(),
     };
     let rows: Vec<&crate::solve::collocation::BoundState> = states.iter().filter(|s| s.n >= overtones.0).collect();
+    // The second method: Muller on the shooting mismatch, seeded by each
+    // converged collocation value (the value itself stays primary).
+    let ode = try_bound_ode(k, &red.normal.q, &point, freq);
+    let checks: Vec<Option<BoundCheck>> = rows
+        .iter()
+        .map(|s| {
+            s.converged.then(|| match &ode {
+                Ok(o) => refine(o, domain, s, a.tol.max(1e-12)),
+                Err(e) => BoundCheck::Unavailable(e.to_string()),
+            })
+        })
+        .collect();
+    let agreement = |r: &crate::solve::integrate::IntRoot, s: &crate::solve::collocation::BoundState| {
+        (r.omega - s.value).norm() / s.value.norm().max(f64::MIN_POSITIVE)
+    };
+    let elsewhere = |r: &crate::solve::integrate::IntRoot, v: &Complex64| {
+        format!(
+            "the refinement converged on {}, nearer the neighbouring collocation eigenvalue {} than its seed: another state",
+            fmt_complex(r.omega.re, r.omega.im),
+            fmt_complex(v.re, v.im)
+        )
+    };
     Ok(match a.format {
         SpecFormat::Json => {
             let ms: Vec<serde_json::Value> = rows
                 .iter()
-                .map(|s| {
+                .zip(&checks)
+                .map(|(s, c)| {
+                    let check = match c {
+                        Some(BoundCheck::Agrees(r)) => serde_json::json!({
+                            "method": "shooting",
+                            "omega": [r.omega.re, r.omega.im],
+                            "agreement": agreement(r, s),
+                            "residual": r.residual,
+                            "change_on_refinement": r.change,
+                        }),
+                        Some(BoundCheck::Unconverged(r)) => {
+                            serde_json::json!({"method": "shooting", "omega": serde_json::Value::Null, "agreement": serde_json::Value::Null, "reason": r.reason})
+                        }
+                        Some(BoundCheck::Elsewhere(r, v)) => serde_json::json!({
+                            "method": "shooting",
+                            "omega": serde_json::Value::Null,
+                            "agreement": serde_json::Value::Null,
+                            "reason": elsewhere(r, v),
+                            "landed": [r.omega.re, r.omega.im],
+                        }),
+                        Some(BoundCheck::Unavailable(_)) | None => serde_json::Value::Null,
+                    };
+                    let no_check = match c {
+                        Some(BoundCheck::Unavailable(why)) => serde_json::Value::String(format!("no second method for this end type: {why}")),
+                        _ => serde_json::Value::Null,
+                    };
                     serde_json::json!({
                         "n": s.n,
                         "omega": if s.converged { serde_json::json!([s.value.re, s.value.im]) } else { serde_json::Value::Null },
@@ -523,19 +591,24 @@ fn bound_states(
                         "reason": if s.converged { serde_json::Value::Null } else { serde_json::Value::String("the eigenvalue kept changing when the points were doubled (or fewer bound states exist below the continuum)".into()) },
                         "method": "collocation",
                         "evidence": {"points": s.points, "change_on_doubling": s.change, "domain": dom_text},
-                        "check": serde_json::Value::Null,
+                        "check": check,
+                        "no_check": no_check,
                     })
                 })
                 .collect();
             format!("{}\n", serde_json::to_string_pretty(&serde_json::json!({"frequency": fname, "boundary": "bound", "domain": dom_text, "continuum": if threshold.is_finite() { serde_json::json!(threshold) } else { serde_json::Value::Null }, "method": "Chebyshev collocation (Boyd 2001)", "modes": ms})).unwrap_or_default())
         }
         SpecFormat::Csv => {
-            let mut o = String::from("n,re,im,converged,method,points,change_on_doubling\n");
-            for s in rows {
+            let mut o = String::from("n,re,im,converged,method,points,change_on_doubling,check_re,check_im,agreement\n");
+            for (s, c) in rows.iter().zip(&checks) {
+                let check = match c {
+                    Some(BoundCheck::Agrees(r)) => format!("{:.17e},{:.17e},{:.3e}", r.omega.re, r.omega.im, agreement(r, s)),
+                    _ => ",,".to_string(),
+                };
                 if s.converged {
-                    o.push_str(&format!("{},{:.17e},{:.17e},true,collocation,{},{:.3e}\n", s.n, s.value.re, s.value.im, s.points, s.change));
+                    o.push_str(&format!("{},{:.17e},{:.17e},true,collocation,{},{:.3e},{check}\n", s.n, s.value.re, s.value.im, s.points, s.change));
                 } else {
-                    o.push_str(&format!("{},,,false,collocation,{},\n", s.n, s.points));
+                    o.push_str(&format!("{},,,false,collocation,{},,{check}\n", s.n, s.points));
                 }
             }
             o
@@ -545,8 +618,9 @@ fn bound_states(
             if threshold.is_finite() {
                 o.push_str(&format!("  continuum above {fname} = {threshold}\n"));
             }
+            o.push_str("  check: shooting from both ends (Frobenius / asymptotic series, Taylor continuation), Muller seeded by each eigenvalue\n");
             o.push('\n');
-            for s in rows {
+            for (s, c) in rows.iter().zip(&checks) {
                 if s.converged {
                     o.push_str(&format!(
                         "  {:<2} {:<44} points {}, change on doubling {:.1e}\n",
@@ -560,6 +634,15 @@ fn bound_states(
                         "  {:<2} NOT CONVERGED: the eigenvalue kept changing when the points were doubled (there may be fewer bound states)\n",
                         s.n
                     ));
+                }
+                match c {
+                    Some(BoundCheck::Agrees(r)) => {
+                        o.push_str(&format!("     check: shooting {}, agreement {:.1e}\n", fmt_complex(r.omega.re, r.omega.im), agreement(r, s)))
+                    }
+                    Some(BoundCheck::Unconverged(r)) => o.push_str(&format!("     check: shooting did not converge: {}\n", r.reason)),
+                    Some(BoundCheck::Elsewhere(r, v)) => o.push_str(&format!("     check: NOT A CHECK: {}\n", elsewhere(r, v))),
+                    Some(BoundCheck::Unavailable(why)) => o.push_str(&format!("     check: no second method for this end type ({why})\n")),
+                    None => {}
                 }
             }
             o

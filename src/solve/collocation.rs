@@ -36,6 +36,10 @@ pub struct BoundState {
     pub change: f64,
     /// Collocation points of the final grid.
     pub points: usize,
+    /// The eigenvalues just below and just above this one on the final grid
+    /// (converged or not): where a refinement by another method would have
+    /// landed on a different state.
+    pub neighbours: Vec<Complex64>,
 }
 
 fn usage(msg: impl Into<String>) -> Error {
@@ -168,7 +172,9 @@ pub fn try_bound_states(
             }
             if let (Some(a), Some(b)) = (prev.get(i), next.get(i)) {
                 let change = (a - b).norm();
-                *slot = Some(BoundState { n: i as u32, value: *b, converged: change <= tol * b.norm().max(1e-300), change, points: m + 1 });
+                let neighbours = [i.checked_sub(1), Some(i + 1)].into_iter().flatten().filter_map(|j| next.get(j).copied()).collect();
+                *slot =
+                    Some(BoundState { n: i as u32, value: *b, converged: change <= tol * b.norm().max(1e-300), change, points: m + 1, neighbours });
             }
         }
         if out.iter().all(|s| s.as_ref().is_some_and(|s| s.converged)) {
@@ -181,7 +187,14 @@ pub fn try_bound_states(
         .into_iter()
         .enumerate()
         .map(|(i, s)| {
-            s.unwrap_or(BoundState { n: i as u32, value: Complex64::new(f64::NAN, f64::NAN), converged: false, change: f64::NAN, points: n + 1 })
+            s.unwrap_or(BoundState {
+                n: i as u32,
+                value: Complex64::new(f64::NAN, f64::NAN),
+                converged: false,
+                change: f64::NAN,
+                points: n + 1,
+                neighbours: Vec::new(),
+            })
         })
         .collect())
 }

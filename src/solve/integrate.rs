@@ -29,7 +29,7 @@ const TOL_FLOOR: f64 = 1e-13;
 /// from modes) at least this small.
 const RESIDUAL_MAX: f64 = 1e-6;
 /// Muller iterations per search.
-const MAX_ITER: usize = 100;
+pub(super) const MAX_ITER: usize = 100;
 /// Taylor steps per evaluation of the mismatch.
 const MAX_STEPS: usize = 20_000;
 
@@ -99,28 +99,38 @@ pub fn find_root(ode: &NumOde, ends: &Ends, seed: Complex64, tol: f64) -> IntRoo
 
 /// [`find_root`] with an explicit Muller iteration limit per pass.
 fn find_root_with(ode: &NumOde, ends: &Ends, seed: Complex64, tol: f64, max_iter: usize) -> IntRoot {
+    find_root_by(&|w, p| evaluate(ode, ends, w, p), seed, tol, max_iter)
+}
+
+/// One evaluation of a normalised mismatch at a trial value with the given
+/// discretisation: the value and the Taylor steps it took, or why there is none.
+pub(super) type Evaluator<'f> = &'f dyn Fn(Complex64, &Params) -> Result<(Complex64, usize), String>;
+
+/// The two-pass Muller search of [`find_root`] on any normalised mismatch
+/// (the quasinormal one here, the bound-state one of `shoot`).
+pub(super) fn find_root_by(eval: Evaluator, seed: Complex64, tol: f64, max_iter: usize) -> IntRoot {
     let tol = if tol.is_finite() && tol > TOL_FLOOR { tol } else { TOL_FLOOR };
     let fail = |omega: Complex64, iterations: usize, change: f64, reason: String| {
-        let (residual, steps) = match evaluate(ode, ends, omega, &STANDARD) {
+        let (residual, steps) = match eval(omega, &STANDARD) {
             Ok((v, s)) => (v.norm(), s),
             Err(_) => (f64::NAN, 0),
         };
         IntRoot { omega, converged: false, residual, iterations, steps, change, reason }
     };
-    let standard = |w: Complex64| evaluate(ode, ends, w, &STANDARD).map(|e| e.0);
+    let standard = |w: Complex64| eval(w, &STANDARD).map(|e| e.0);
     let (r1, it1, stop1) = muller(&standard, seed, tol, max_iter);
     if let Err(e) = stop1 {
         return fail(r1, it1, f64::NAN, e);
     }
     // The second pass changes every discretisation choice at once; the
     // root's movement bounds the integration error actually committed.
-    let refined = |w: Complex64| evaluate(ode, ends, w, &REFINED).map(|e| e.0);
+    let refined = |w: Complex64| eval(w, &REFINED).map(|e| e.0);
     let (r2, it2, stop2) = muller(&refined, r1, tol, max_iter);
     if let Err(e) = stop2 {
         return fail(r2, it1 + it2, f64::NAN, format!("with refined integration: {e}"));
     }
     let change = (r2 - r1).norm();
-    let (residual, steps) = match evaluate(ode, ends, r2, &REFINED) {
+    let (residual, steps) = match eval(r2, &REFINED) {
         Ok((v, s)) => (v.norm(), s),
         Err(e) => return fail(r2, it1 + it2, change, format!("the mismatch cannot be evaluated at the root: {e}")),
     };
@@ -140,34 +150,34 @@ fn find_root_with(ode: &NumOde, ends: &Ends, seed: Complex64, tol: f64, max_iter
 }
 
 /// The discretisation choices of one evaluation of the mismatch.
-struct Params {
+pub(super) struct Params {
     /// Offset of the start and matching point from the horizon, as a
     /// fraction of the distance to the nearest other zero of A (the
     /// Frobenius series' radius).
-    start_fraction: f64,
+    pub(super) start_fraction: f64,
     /// Taylor step as a fraction of the distance to the nearest zero of A.
-    step_fraction: f64,
+    pub(super) step_fraction: f64,
     /// Taylor step at most this many units of 1/|μ − μ'|, the length over
     /// which the two branches at infinity change by a factor e relative to
     /// each other.
-    phase_step: f64,
+    pub(super) phase_step: f64,
     /// Wanted size of the other branch's contamination, carried from the far
     /// point to the matching point.
-    far_target: f64,
+    pub(super) far_target: f64,
 }
 
-const STANDARD: Params = Params { start_fraction: 1.0 / 3.0, step_fraction: 0.5, phase_step: 4.0, far_target: 1e-17 };
+pub(super) const STANDARD: Params = Params { start_fraction: 1.0 / 3.0, step_fraction: 0.5, phase_step: 4.0, far_target: 1e-17 };
 const REFINED: Params = Params { start_fraction: 0.4, step_fraction: 0.3, phase_step: 2.0, far_target: 1e-20 };
 
 /// A, B, C at one ω, low degree first, exact trailing zeros removed.
-struct Coeffs {
-    a: Vec<Complex64>,
-    b: Vec<Complex64>,
-    c: Vec<Complex64>,
+pub(super) struct Coeffs {
+    pub(super) a: Vec<Complex64>,
+    pub(super) b: Vec<Complex64>,
+    pub(super) c: Vec<Complex64>,
 }
 
 impl Coeffs {
-    fn at(ode: &NumOde, w: Complex64) -> Result<Coeffs, String> {
+    pub(super) fn at(ode: &NumOde, w: Complex64) -> Result<Coeffs, String> {
         let trim = |mut v: Vec<Complex64>| {
             while v.last() == Some(&ZERO) {
                 v.pop();
@@ -219,9 +229,10 @@ fn get(v: &[Complex64], j: isize) -> Complex64 {
     }
 }
 
-/// The equation's local structure at the horizon.
-struct Horizon {
-    z: f64,
+/// The equation's local structure at a regular singular point on the real
+/// axis (the horizon of a quasinormal problem, a finite end of a bound-state one).
+pub(super) struct Horizon {
+    pub(super) z: f64,
     /// Order of the zero of A at the horizon.
     m: usize,
     /// A, B, C in powers of t = z − z_h, with the coefficients that a regular
@@ -230,12 +241,12 @@ struct Horizon {
     b: Vec<Complex64>,
     c: Vec<Complex64>,
     /// The other zeros of A.
-    others: Vec<Complex64>,
+    pub(super) others: Vec<Complex64>,
     /// Distance from the horizon to the nearest other zero of A (∞ when none).
-    d: f64,
+    pub(super) d: f64,
 }
 
-fn horizon(k: &Coeffs, zh: f64) -> Result<Horizon, String> {
+pub(super) fn horizon(k: &Coeffs, zh: f64) -> Result<Horizon, String> {
     if !zh.is_finite() {
         return Err("the horizon is not a finite number".into());
     }
@@ -271,9 +282,30 @@ fn horizon(k: &Coeffs, zh: f64) -> Result<Horizon, String> {
     Ok(Horizon { z: zh, m, a, b, c, others, d })
 }
 
-/// y and y' of t^ρ Σ c_k t^k (c₀ = 1, t = z − z_h) at t = δ > 0, summed until
-/// the terms fall below 1e-17 of the sum.
-fn frobenius(h: &Horizon, rho: Complex64, delta: f64) -> Result<(Complex64, Complex64), String> {
+impl Horizon {
+    /// The root of the indicial polynomial A_m ρ(ρ − 1) + B_{m−1} ρ + C_{m−2}
+    /// with the larger real part: the exponent of the solution that is
+    /// smallest at the point (the normalisable one at a bound-state end). Its
+    /// series never meets the other root, so it is always unique.
+    pub(super) fn larger_exponent(&self) -> Complex64 {
+        let m = self.m as isize;
+        let (a, b, c) = (get(&self.a, m), get(&self.b, m - 1), get(&self.c, m - 2));
+        // a ρ² + (b − a) ρ + c = 0; the square root's sign is chosen by the real part below.
+        let s = ((b - a) * (b - a) - 4.0 * a * c).sqrt();
+        let (r1, r2) = ((a - b + s) / (2.0 * a), (a - b - s) / (2.0 * a));
+        if r1.re >= r2.re {
+            r1
+        } else {
+            r2
+        }
+    }
+}
+
+/// y and y' of t^ρ Σ c_k t^k (c₀ = 1, t = z − z_h) at t = δ ≠ 0, summed until
+/// the terms fall below 1e-17 of the sum. For δ < 0 (a point left of z_h)
+/// the factor t^ρ is taken as |t|^ρ: the constant e^{iπρ} between the two is
+/// a normalisation, which the normalised mismatch does not see.
+pub(super) fn frobenius(h: &Horizon, rho: Complex64, delta: f64) -> Result<(Complex64, Complex64), String> {
     let m = h.m as isize;
     // Scaled to τ = t/δ: coefficients become those of Â = A(δτ), B̂ = δ B(δτ),
     // Ĉ = δ² C(δτ), and c_k δ^k stay of order one or below.
@@ -322,8 +354,8 @@ fn frobenius(h: &Horizon, rho: Complex64, delta: f64) -> Result<(Complex64, Comp
         // `span` quiet terms in a row: the recursion cannot revive after that many zeros.
         quiet = if term <= TERM_EPS * (s.norm() + ds.norm()) { quiet + 1 } else { 0 };
         if quiet >= span {
-            // δ > 0 is real, so δ^ρ = exp(ρ ln δ) needs no branch choice.
-            let f = (rho * delta.ln()).exp();
+            // |δ|^ρ = exp(ρ ln|δ|) with a real logarithm needs no branch choice.
+            let f = (rho * delta.abs().ln()).exp();
             return Ok((f * s, f * ds / delta));
         }
     }
@@ -331,9 +363,9 @@ fn frobenius(h: &Horizon, rho: Complex64, delta: f64) -> Result<(Complex64, Comp
 }
 
 /// The asymptotic series of the chosen branch at infinity.
-struct Far {
-    mu: Complex64,
-    nu: Complex64,
+pub(super) struct Far {
+    pub(super) mu: Complex64,
+    pub(super) nu: Complex64,
     /// The other branch exp(μ' z) z^ν' (for the contamination estimate).
     mu2: Complex64,
     nu2: Complex64,
@@ -347,7 +379,7 @@ struct Far {
 }
 
 impl Far {
-    fn new(k: &Coeffs, mu: Complex64, nu: Complex64) -> Result<Far, String> {
+    pub(super) fn new(k: &Coeffs, mu: Complex64, nu: Complex64) -> Result<Far, String> {
         let n = k.a.len() - 1;
         if k.b.len() > n + 1 || k.c.len() > n + 1 {
             return Err("z = ∞ is not of the rank-1 form the asymptotic series needs (deg B or deg C exceeds deg A)".into());
@@ -427,16 +459,7 @@ impl Far {
         }
         // Truncate before the window of terms whose largest member is smallest:
         // one accidentally tiny term must not pass for the optimal cut.
-        let w = span.min(terms.len());
-        let mut cut = terms.len() - 1;
-        let mut err = f64::INFINITY;
-        for i in 1..terms.len() {
-            let hi = terms[i..(i + w).min(terms.len())].iter().map(|x| x.norm()).fold(0.0, f64::max);
-            if hi < err {
-                err = hi;
-                cut = i;
-            }
-        }
+        let (cut, err) = optimal_cut(&terms, 1..terms.len(), span);
         let (mut y, mut dy) = (ZERO, ZERO);
         for (k, tk) in terms.iter().enumerate().take(cut) {
             y += tk;
@@ -508,7 +531,7 @@ fn taylor_step(k: &Coeffs, z0: Complex64, h: Complex64, y: Complex64, dy: Comple
 /// steps, each a fraction of the distance to the nearest zero of A (so well
 /// inside the series' disc of convergence) and at most `hcap` long.
 #[allow(clippy::too_many_arguments)]
-fn continue_along(
+pub(super) fn continue_along(
     k: &Coeffs,
     roots: &[Complex64],
     from: Complex64,
@@ -617,41 +640,227 @@ fn evaluate(ode: &NumOde, ends: &Ends, w: Complex64, p: &Params) -> Result<(Comp
     }
     let mut roots = hz.others.clone();
     roots.push(Complex64::new(zh, 0.0));
-    let hcap = p.phase_step / dmu.norm();
     let mut steps = 0;
 
     let (yh, dyh) = frobenius(&hz, rho, z_m.re - zh)?;
 
-    // The far point: where the asymptotic series' own error, carried inwards
-    // to z_m, has been damped below the target. Integrating inwards is the
-    // stable direction for a recessive solution: any admixture of the other
-    // branch at z_f shrinks by |(y_out/y_in)(z_f) / (y_out/y_in)(z_m)|.
-    let mut r = (4.0 / dmu.norm()).max(d);
-    let mut start = None;
-    for _ in 0..120 {
-        let zf = z_m + ray * r;
-        let (y, dy, err) = far.eval(zf);
-        // ln(z_f/z_m) on the principal branch is the change of ln z along the
-        // straight path, which subtends less than π at the origin.
-        let damp = (dmu * (zf - z_m)).re + ((far.nu - far.nu2) * (zf / z_m).ln()).re;
-        if err <= 1e-6 && err.ln() + damp <= p.far_target.ln() {
-            start = Some((zf, y, dy));
-            break;
-        }
-        r *= 1.25;
-    }
-    let (zf, yf, dyf) = start.ok_or("the asymptotic series at infinity does not reach the wanted accuracy on the ray")?;
-    let (yi, dyi) = continue_along(&k, &roots, zf, z_m, yf, dyf, p, hcap, &mut steps)?;
+    let (yi, dyi) = from_infinity(&k, &Asymptote::Series(&far), &roots, z_m, ray, (4.0 / dmu.norm()).max(d), z_m, p, &mut steps)?;
 
     // Matching near the horizon rather than at z_f: at z_f the horizon
     // solution is dominated by the other branch unless the mode condition
     // holds to roundoff, so a normalisation there would hide the zero.
-    let wr = yh * dyi - dyh * yi;
-    let norm = yh.norm() * dyi.norm() + dyh.norm() * yi.norm();
+    Ok((normalised_wronskian((yh, dyh), (yi, dyi), Norm::Products)?, steps))
+}
+
+/// How a Wronskian is made free of the solutions' normalisations.
+#[derive(Clone, Copy)]
+pub(super) enum Norm {
+    /// By |y₁||y₂'| + |y₁'||y₂|: what the quasinormal search uses.
+    Products,
+    /// By |(y₁, y₁')| |(y₂, y₂')|: the sine of the angle between the two
+    /// vectors. For real solutions the product norm is exactly ±1 wherever
+    /// the two logarithmic derivatives differ in sign, a plateau on which
+    /// Muller cannot move; the sine varies smoothly with the trial value.
+    Vectors,
+}
+
+/// The Wronskian y₁ y₂' − y₁' y₂ divided by the chosen norm: free of both
+/// normalisations, at most 1 in size, zero when the two solutions are
+/// proportional.
+pub(super) fn normalised_wronskian(one: (Complex64, Complex64), two: (Complex64, Complex64), by: Norm) -> Result<Complex64, String> {
+    let ((y1, d1), (y2, d2)) = (one, two);
+    let wr = y1 * d2 - d1 * y2;
+    let norm = match by {
+        Norm::Products => y1.norm() * d2.norm() + d1.norm() * y2.norm(),
+        Norm::Vectors => (y1.norm_sqr() + d1.norm_sqr()).sqrt() * (y2.norm_sqr() + d2.norm_sqr()).sqrt(),
+    };
     if !(norm > 0.0 && norm.is_finite() && finite(wr)) {
         return Err("the Wronskian cannot be normalised at the matching point".into());
     }
-    Ok((wr / norm, steps))
+    Ok(wr / norm)
+}
+
+/// The start data of the recessive branch far out: the full asymptotic
+/// series at a rank-1 point, or the Riccati expansion's logarithmic
+/// derivative at a point of higher rank.
+pub(super) enum Asymptote<'a> {
+    /// The series of [`Far`].
+    Series(&'a Far),
+    /// The logarithmic derivative of [`Leading`].
+    Leading(&'a Leading),
+}
+
+impl Asymptote<'_> {
+    /// y, y' (up to a common factor) at z and the relative size of the
+    /// other branch they carry.
+    fn eval(&self, z: Complex64) -> (Complex64, Complex64, f64) {
+        match self {
+            Asymptote::Series(f) => f.eval(z),
+            Asymptote::Leading(l) => l.eval(z),
+        }
+    }
+
+    /// |u − u'| at z: the rate at which the two branches part. A Taylor
+    /// step is at most `phase_step` units of its inverse long.
+    fn gap(&self, z: Complex64) -> f64 {
+        match self {
+            Asymptote::Series(f) => (f.mu - f.mu2).norm(),
+            Asymptote::Leading(l) => l.gap(z),
+        }
+    }
+
+    /// ln of the factor by which an admixture of the other branch at z_f
+    /// shrinks, relative to the chosen one, on the way in to z_r.
+    fn damping(&self, zf: Complex64, zr: Complex64) -> f64 {
+        // ln(z_f/z_r) on the principal branch is the change of ln z along the
+        // straight path, which subtends less than π at the origin.
+        match self {
+            Asymptote::Series(f) => ((f.mu - f.mu2) * (zf - zr)).re + ((f.nu - f.nu2) * (zf / zr).ln()).re,
+            Asymptote::Leading(l) => {
+                let r = l.rank;
+                let gap = |z: Complex64| -> Complex64 { (0..r).map(|j| (l.u[j] - l.other[j]) * z.powi((r - j) as i32) / (r - j) as f64).sum() };
+                (gap(zf) - gap(zr) + (l.u[r] - l.other[r]) * (zf / zr).ln()).re
+            }
+        }
+    }
+}
+
+/// The recessive solution at z_m, started on the ray z_m + r·`ray` from the
+/// asymptotic data and continued inwards. The far point is where the start
+/// data's own error, carried inwards to `z_ref`, has been damped below the
+/// target (the search starts at r = `r0`); Taylor steps are at most
+/// `phase_step` units of 1/|u − u'| at z_f long. Integrating inwards is the stable
+/// direction for a recessive solution: any admixture of the other branch at
+/// z_f shrinks by |(y_out/y_in)(z_f) / (y_out/y_in)(z_ref)|.
+#[allow(clippy::too_many_arguments)]
+pub(super) fn from_infinity(
+    k: &Coeffs,
+    asym: &Asymptote,
+    roots: &[Complex64],
+    z_m: Complex64,
+    ray: Complex64,
+    r0: f64,
+    z_ref: Complex64,
+    p: &Params,
+    steps: &mut usize,
+) -> Result<(Complex64, Complex64), String> {
+    let mut r = r0;
+    for _ in 0..120 {
+        let zf = z_m + ray * r;
+        let (y, dy, err) = asym.eval(zf);
+        if err <= 1e-6 && err.ln() + asym.damping(zf, z_ref) <= p.far_target.ln() {
+            return continue_along(k, roots, zf, z_m, y, dy, p, p.phase_step / asym.gap(zf), steps);
+        }
+        r *= 1.25;
+    }
+    Err("the asymptotic series at infinity does not reach the wanted accuracy on the ray".into())
+}
+
+/// Terms kept of the Riccati expansion at infinity.
+const LEADING_TERMS: usize = 24;
+
+/// The Riccati expansion at z = ∞ of a normal form A ψ'' + C ψ = 0 (no ψ'
+/// term) whose point at infinity has integer Poincaré rank R ≥ 1:
+/// u = ψ'/ψ = Σ_j u_j z^(R−1−j), solved order by order from
+/// u' + u² + C/A = 0 (common practice), for the branch that decays along the
+/// real direction asked for and for the other one. ψ ~ exp(Σ_{j<R} u_j
+/// z^(R−j)/(R−j)) z^(u_R), so at rank 1 u₀ = μ and u₁ = ν of [`Far`].
+pub(super) struct Leading {
+    /// The Poincaré rank R.
+    pub(super) rank: usize,
+    u: Vec<Complex64>,
+    other: Vec<Complex64>,
+}
+
+impl Leading {
+    /// The decaying branch along `dir` (+1 towards +∞, −1 towards −∞).
+    pub(super) fn new(k: &Coeffs, dir: f64) -> Result<Leading, String> {
+        if !k.b.is_empty() {
+            return Err("the Riccati expansion at infinity is written for the normal form (no y' term)".into());
+        }
+        let n = k.a.len() - 1;
+        let m = k.c.len().checked_sub(1).ok_or("the equation has no y term: z = ∞ is not irregular")?;
+        if m < n || (m - n) % 2 == 1 {
+            // Twice the rank is deg C − deg A + 2 (negative: a regular or ordinary point).
+            let twice = m as i64 - n as i64 + 2;
+            let rank = if twice % 2 == 0 { (twice / 2).to_string() } else { format!("{twice}/2") };
+            return Err(format!("z = ∞ has Poincaré rank {rank}; the asymptotic start needs an integer rank ≥ 1"));
+        }
+        let rank = (m - n) / 2 + 1;
+        // C/A = Σ_j q_j z^(2R−2−j), by division from the leading terms down.
+        let mut q: Vec<Complex64> = Vec::with_capacity(LEADING_TERMS);
+        for j in 0..LEADING_TERMS {
+            let mut v = if j <= m { k.c[m - j] } else { ZERO };
+            for i in 1..=j.min(n) {
+                v -= k.a[n - i] * q[j - i];
+            }
+            q.push(v / k.a[n]);
+        }
+        let u0 = (-q[0]).sqrt();
+        // The exponent's leading term u₀ z^R / R decays along dir when Re(u₀ dir^R) < 0.
+        let lead = if rank % 2 == 1 { u0 * dir } else { u0 };
+        if lead.re.abs() <= 1e-9 * u0.norm() {
+            return Err("neither branch at infinity decays along the real axis at this value (the continuum)".into());
+        }
+        let u0 = if lead.re < 0.0 { u0 } else { -u0 };
+        // The coefficient of z^(2R−2−j): Σ_{i+l=j} u_i u_l + (2R−1−j) u_{j−R} + q_j = 0.
+        let solve = |u0: Complex64| {
+            let mut u = vec![u0];
+            for j in 1..LEADING_TERMS {
+                let mut acc = q[j];
+                if j >= rank {
+                    acc += u[j - rank] * (2.0 * rank as f64 - 1.0 - j as f64);
+                }
+                for i in 1..j {
+                    acc += u[i] * u[j - i];
+                }
+                u.push(-acc / (2.0 * u0));
+            }
+            u
+        };
+        Ok(Leading { rank, u: solve(u0), other: solve(-u0) })
+    }
+
+    /// μ and ν of the chosen branch (rank 1: ψ ~ exp(μz) z^ν).
+    pub(super) fn mu_nu(&self) -> (Complex64, Complex64) {
+        (self.u[0], self.u[1])
+    }
+
+    /// |u − u'| at z from the leading terms: the rate at which the two branches part.
+    pub(super) fn gap(&self, z: Complex64) -> f64 {
+        ((self.u[0] - self.other[0]) * z.powi(self.rank as i32 - 1)).norm()
+    }
+
+    /// (1, u(z)) truncated before its smallest term beyond z^(−1), and that
+    /// term's size over |u − u'|: the admixture of the other branch the start
+    /// data carry.
+    fn eval(&self, z: Complex64) -> (Complex64, Complex64, f64) {
+        let r = self.rank as i32;
+        let terms: Vec<Complex64> = self.u.iter().enumerate().map(|(j, c)| c * z.powi(r - 1 - j as i32)).collect();
+        // Terms of one parity may vanish (an even Q), so the window spans R
+        // terms, and only windows of terms actually computed count.
+        let (cut, err) = optimal_cut(&terms, (self.rank + 1)..(terms.len() + 1).saturating_sub(self.rank), self.rank);
+        let sum: Complex64 = terms[..cut].iter().sum();
+        (ONE, sum, err / self.gap(z))
+    }
+}
+
+/// Where to truncate an asymptotic series of `terms` (at an index in
+/// `range`): before the window of `w` terms whose largest member is smallest,
+/// so that one accidentally tiny term does not pass for the optimal cut;
+/// with that largest size as the error.
+fn optimal_cut(terms: &[Complex64], range: std::ops::Range<usize>, w: usize) -> (usize, f64) {
+    let w = w.clamp(1, terms.len().max(1));
+    let mut cut = terms.len() - 1;
+    let mut err = f64::INFINITY;
+    for i in range {
+        let hi = terms[i..(i + w).min(terms.len())].iter().map(|x| x.norm()).fold(0.0, f64::max);
+        if hi < err {
+            err = hi;
+            cut = i;
+        }
+    }
+    (cut, err)
 }
 
 /// A mismatch function as the root finder sees it: a value or the reason there is none.

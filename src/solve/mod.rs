@@ -11,6 +11,7 @@ pub mod wkb;
 pub mod integrate;
 pub mod roots;
 pub mod scan;
+pub mod shoot;
 pub mod spectrum;
 
 use crate::algebra::{Field, GRat, Poly, RatFunc};
