@@ -321,7 +321,8 @@ fn op_counts_meet_their_targets() {
     // Teukolsky radial equation a large factor fewer operations than the naive form.
     for f in samples() {
         let red = reduced(&f, None);
-        let ch = canonode::present::choose(&red.field, std::slice::from_ref(&red.normal.q), &Default::default()).unwrap();
+        let named: Vec<_> = red.ode.lets.iter().map(|(_, v)| v.clone()).collect();
+        let ch = canonode::present::choose(&red.field, std::slice::from_ref(&red.normal.q), &named, &Default::default()).unwrap();
         assert!(ch.emitted.flops() <= ch.horner.flops() && ch.emitted.total() <= ch.horner.total(), "{}: {ch:?}", f.display());
         assert_eq!(ch.program.to_ratfuncs(&red.field).unwrap(), vec![red.normal.q.clone()]);
         if f.ends_with("teukolsky_radial.ode") {

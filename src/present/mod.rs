@@ -280,8 +280,11 @@ pub struct Choice {
 }
 
 /// Chooses an evaluation program for `outputs` (rational functions in `k`)
-/// and checks it exactly against them.
-pub fn choose(k: &Field, outputs: &[RatFunc], limits: &SearchLimits) -> Result<Choice> {
+/// and checks it exactly against them. `named` are the user's named
+/// subexpressions (a file's `let`s, in `k`): the numerators that involve the
+/// variable may become atoms, each computed once, over which the outputs
+/// are rewritten (an empty list skips that seed).
+pub fn choose(k: &Field, outputs: &[RatFunc], named: &[RatFunc], limits: &SearchLimits) -> Result<Choice> {
     let mut consts = Consts::default();
     let build = |shape: Shape, consts: &mut Consts| {
         let mut b = Builder::new(consts);
@@ -294,16 +297,22 @@ pub fn choose(k: &Field, outputs: &[RatFunc], limits: &SearchLimits) -> Result<C
     let greedy_z = build(Shape::Greedy(true), &mut consts);
     let greedy = build(Shape::Greedy(false), &mut consts);
     let adic = build(Shape::Adic, &mut consts);
+    let atoms = over_atoms(outputs, named, k.names().len(), &mut consts);
     let real: Vec<bool> = consts.list.iter().map(|c| c.im.is_zero()).collect();
-    let run = egraph::run(&[adic.clone(), greedy_z.clone(), greedy.clone(), horner.clone()], &real, limits);
+    let mut seeds = vec![adic.clone(), greedy_z.clone(), greedy.clone(), horner.clone()];
+    seeds.extend(atoms.iter().cloned());
+    let run = egraph::run(&seeds, &real, limits);
     let lowered = |e: &egg::RecExpr<Op>| Program::from_expr(e, &consts.list);
-    let candidates = [
+    let mut candidates = vec![
         ("e-graph extraction", lowered(&run.best)),
         ("Horner in the denominator's factor", lowered(&adic)),
         ("greedy Horner, variable first", lowered(&greedy_z)),
         ("greedy Horner", lowered(&greedy)),
         ("plain Horner", lowered(&horner)),
     ];
+    if let Some(a) = &atoms {
+        candidates.push(("Horner over the named subexpressions", lowered(a)));
+    }
     let (origin, program) = candidates
         .into_iter()
         .min_by_key(|(_, p)| {
@@ -332,6 +341,27 @@ pub fn choose(k: &Field, outputs: &[RatFunc], limits: &SearchLimits) -> Result<C
     })
 }
 
+/// The cheapest (as a DAG) of the seeds over the named polynomials' atoms
+/// ([`seed::atom_plans`]), or `None` when there are none or every plan ran
+/// out of its reduction budget.
+fn over_atoms(outputs: &[RatFunc], named: &[RatFunc], base: usize, consts: &mut Consts) -> Option<egg::RecExpr<Op>> {
+    let polys: Vec<crate::algebra::Poly> = named.iter().map(|r| r.num().clone()).collect();
+    let mut best: Option<((u64, u64), egg::RecExpr<Op>)> = None;
+    for plan in seed::atom_plans(&polys, base) {
+        let mut b = Builder::new(consts);
+        if b.over_atoms(outputs, &plan).is_none() {
+            continue;
+        }
+        let expr = b.expr;
+        let c = Program::from_expr(&expr, &consts.list).dag_count();
+        let key = (c.flops(), c.total());
+        if best.as_ref().is_none_or(|(k, _)| key < *k) {
+            best = Some((key, expr));
+        }
+    }
+    best.map(|(_, e)| e)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -342,7 +372,7 @@ mod tests {
         // DLMF 15.10.1 (Gauss), normal form.
         let src = "var z\nparam a, b, c\node z*(1 - z)*w'' + (c - (a + b + 1)*z)*w' - a*b*w = 0\n";
         let r = reduce(&Input::Program(src), &ReduceOptions::default()).unwrap();
-        let ch = choose(&r.field, std::slice::from_ref(&r.normal.q), &SearchLimits::default()).unwrap();
+        let ch = choose(&r.field, std::slice::from_ref(&r.normal.q), &[], &SearchLimits::default()).unwrap();
         assert_eq!(ch.program.to_ratfuncs(&r.field).unwrap(), vec![r.normal.q.clone()]);
         assert!(ch.emitted.flops() <= ch.horner.flops() && ch.horner.flops() <= ch.naive.flops(), "{ch:?}");
     }
