@@ -318,7 +318,8 @@ fn hostile_parameter_names_still_compile_and_match() {
 #[test]
 fn op_counts_meet_their_targets() {
     // Emitted ≤ plain Horner on every sample (flops and operation count); on the
-    // Teukolsky radial equation a large factor fewer operations than the naive form.
+    // Teukolsky radial equation (its lets Delta and K as building blocks) at least 3 times
+    // fewer operations than the naive form.
     for f in samples() {
         let red = reduced(&f, None);
         let named: Vec<_> = red.ode.lets.iter().map(|(_, v)| v.clone()).collect();
@@ -326,7 +327,7 @@ fn op_counts_meet_their_targets() {
         assert!(ch.emitted.flops() <= ch.horner.flops() && ch.emitted.total() <= ch.horner.total(), "{}: {ch:?}", f.display());
         assert_eq!(ch.program.to_ratfuncs(&red.field).unwrap(), vec![red.normal.q.clone()]);
         if f.ends_with("teukolsky_radial.ode") {
-            assert!(2 * ch.emitted.total() <= ch.naive.total(), "teukolsky: {} vs naive {}", ch.emitted.total(), ch.naive.total());
+            assert!(3 * ch.emitted.total() <= ch.naive.total(), "teukolsky: {} vs naive {}", ch.emitted.total(), ch.naive.total());
         }
     }
 }

@@ -1,7 +1,11 @@
 //! Starting forms of a rational function for the e-graph and for the
 //! baselines of `--stats`: the naive expanded form, plain Horner in the
-//! variable, and a greedy multivariate Horner scheme that pulls out common
-//! constants and monomials and keeps the denominator factored.
+//! variable, a greedy multivariate Horner scheme that pulls out common
+//! constants and monomials and keeps the denominator factored, and forms
+//! over atoms: named polynomials (a file's `let`s) standing for new
+//! variables, the outputs reduced modulo `atom = polynomial` in an
+//! elimination order, optionally in a shifted variable (bounded; a plan
+//! whose reduction grows too large is dropped).
 
 use super::egraph::{Leaf, Op};
 use crate::algebra::{GInt, GRat, Int, Mono, Poly, Rat, RatFunc, MAX_VARS};
@@ -344,10 +348,11 @@ impl<'c> Builder<'c> {
     /// greedy form in the original variable. `None` when a reduction runs
     /// out of its budget.
     pub(crate) fn over_atoms(&mut self, outputs: &[RatFunc], plan: &AtomPlan) -> Option<Id> {
-        let mut atoms = Vec::with_capacity(plan.atoms.len());
-        for p in &plan.atoms {
-            let s = self.greedy(&scaled_terms(p, &Int::ONE), true);
-            atoms.push(self.resolve(s));
+        // Only the atoms of the plan's relations are built (the others would be dead steps).
+        let mut atoms = Vec::with_capacity(plan.relations.len());
+        for r in &plan.relations {
+            let s = self.greedy(&scaled_terms(&plan.atoms[r.atom - plan.base], &Int::ONE), true);
+            atoms.push((r.atom, self.resolve(s)));
         }
         if let Some(c) = &plan.shift {
             let z = self.var(0);
@@ -356,8 +361,8 @@ impl<'c> Builder<'c> {
             let x = self.resolve(x);
             self.subst.insert(0, x);
         }
-        for (i, id) in atoms.into_iter().enumerate() {
-            self.subst.insert(plan.base + i, id);
+        for (v, id) in atoms {
+            self.subst.insert(v, id);
         }
         let mut budget = REDUCE_STEPS;
         let items = self.atom_outputs(outputs, plan, &mut budget);
@@ -408,6 +413,7 @@ pub(crate) struct Relation {
     lead: Mono,
     lead_coeff: GInt,
     rel: Poly,
+    atom: usize,
 }
 
 impl Relation {
@@ -420,7 +426,7 @@ impl Relation {
         }
         // Atom variables come after every variable of p, so the lead of P − Y is that of P.
         let rel = p.sub(&Poly::var(atom));
-        Some(Relation { lead, lead_coeff, rel })
+        Some(Relation { lead, lead_coeff, rel, atom })
     }
 }
 
@@ -511,13 +517,14 @@ fn scaled_terms(p: &Poly, scale: &Int) -> Terms {
 
 /// At most this many named polynomials become atoms (the first in the file's order).
 const MAX_ATOMS: usize = 4;
-/// Every order of the relations is tried up to this many atoms, else only the default order.
+/// Every subset of the atoms in every order is tried up to this many atoms, else only all in the default order.
 const MAX_PERMUTED: usize = 3;
 
 /// The atom plans tried for the named polynomials `named` (in the field's
-/// variables, the first `base` of them): the relations in every order when
-/// there are few (the default first: the leading monomial of highest degree
-/// in variable 0, then of highest total degree), each without a shift and
+/// variables, the first `base` of them): the relations of every subset of
+/// the atoms in every order when there are few (the default first: all
+/// atoms, the leading monomial of highest degree in variable 0, then of
+/// highest total degree, first), each without a shift and
 /// with each shift to the vertex −b/(2a) of a named polynomial quadratic in
 /// variable 0 with a constant leading coefficient a (when the quotient is
 /// exact), each with greedy Horner taking variable 0 first or not.
@@ -551,7 +558,13 @@ pub(crate) fn atom_plans(named: &[Poly], base: usize) -> Vec<AtomPlan> {
         let lead = atoms[i].lead().map(|(m, _)| *m).unwrap_or(Mono::ONE);
         (std::cmp::Reverse(lead.exp(0)), std::cmp::Reverse(lead.total_degree()), i)
     });
-    let orders = if atoms.len() <= MAX_PERMUTED { permutations(&default) } else { vec![default] };
+    let orders = if atoms.len() <= MAX_PERMUTED {
+        let mut all = arrangements(&default);
+        all.sort_by_key(|o| std::cmp::Reverse(o.len()));
+        all
+    } else {
+        vec![default]
+    };
     let mut plans = Vec::new();
     for shift in &shifts {
         let moved: Vec<Poly> = atoms.iter().map(|p| shift.as_ref().map_or_else(|| p.clone(), |c| shift_var0(p, c))).collect();
@@ -565,15 +578,14 @@ pub(crate) fn atom_plans(named: &[Poly], base: usize) -> Vec<AtomPlan> {
     plans
 }
 
-/// Every ordering of `items`, `items` itself first, then in lexicographic order of positions.
-fn permutations(items: &[usize]) -> Vec<Vec<usize>> {
-    if items.len() <= 1 {
-        return vec![items.to_vec()];
-    }
+/// Every ordering of every nonempty subset of `items`, in lexicographic
+/// order of positions (so the orderings of all of `items` begin with `items` itself).
+fn arrangements(items: &[usize]) -> Vec<Vec<usize>> {
     let mut out = Vec::new();
     for (j, &first) in items.iter().enumerate() {
         let rest: Vec<usize> = items.iter().enumerate().filter(|(i, _)| *i != j).map(|(_, &x)| x).collect();
-        for mut tail in permutations(&rest) {
+        out.push(vec![first]);
+        for mut tail in arrangements(&rest) {
             tail.insert(0, first);
             out.push(tail);
         }
