@@ -17,7 +17,13 @@ fn bench(c: &mut Criterion) {
     let red = reduce(&Input::Program(&text), &ReduceOptions::default()).expect("reduces");
     let params = red.field.names()[1..].to_vec();
     let np = params.len();
-    let functions = vec![FunctionSpec { kind: FunctionKind::Q, field: &red.field, outputs: vec![red.normal.q.clone()], about: vec![] }];
+    let functions = vec![FunctionSpec {
+        kind: FunctionKind::Q,
+        field: &red.field,
+        outputs: vec![red.normal.q.clone()],
+        about: vec![],
+        named: red.ode.lets.iter().map(|(_, v)| v.clone()).collect(),
+    }];
     let req =
         CodeRequest { lang: Lang::C, prefix: "teuk".into(), source: path.clone(), params, functions, skipped: vec![], limits: Default::default() };
     let mut code = emit_code(&req).expect("emits").text;

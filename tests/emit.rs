@@ -318,14 +318,16 @@ fn hostile_parameter_names_still_compile_and_match() {
 #[test]
 fn op_counts_meet_their_targets() {
     // Emitted ≤ plain Horner on every sample (flops and operation count); on the
-    // Teukolsky radial equation a large factor fewer operations than the naive form.
+    // Teukolsky radial equation (its lets Delta and K as building blocks) at least 3 times
+    // fewer operations than the naive form.
     for f in samples() {
         let red = reduced(&f, None);
-        let ch = canonode::present::choose(&red.field, std::slice::from_ref(&red.normal.q), &Default::default()).unwrap();
+        let named: Vec<_> = red.ode.lets.iter().map(|(_, v)| v.clone()).collect();
+        let ch = canonode::present::choose(&red.field, std::slice::from_ref(&red.normal.q), &named, &Default::default()).unwrap();
         assert!(ch.emitted.flops() <= ch.horner.flops() && ch.emitted.total() <= ch.horner.total(), "{}: {ch:?}", f.display());
         assert_eq!(ch.program.to_ratfuncs(&red.field).unwrap(), vec![red.normal.q.clone()]);
         if f.ends_with("teukolsky_radial.ode") {
-            assert!(2 * ch.emitted.total() <= ch.naive.total(), "teukolsky: {} vs naive {}", ch.emitted.total(), ch.naive.total());
+            assert!(3 * ch.emitted.total() <= ch.naive.total(), "teukolsky: {} vs naive {}", ch.emitted.total(), ch.naive.total());
         }
     }
 }

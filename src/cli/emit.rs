@@ -79,6 +79,8 @@ fn compute(a: &EmitArgs, src: &super::Source) -> Result<String, Failure> {
     }
     let red = crate::ode::reduce(&src.input(), &a.input.options())?;
     let var = red.var.clone();
+    // The file's `let`s are building blocks in the file's own variable only, not after a change of variable.
+    let named: Vec<_> = if red.change.is_none() { red.ode.lets.iter().map(|(_, v)| v.clone()).collect() } else { Vec::new() };
     let mut functions = Vec::new();
     let mut skipped = Vec::new();
     let want = |w: WhatArg| a.what == w || a.what == WhatArg::All;
@@ -88,6 +90,7 @@ fn compute(a: &EmitArgs, src: &super::Source) -> Result<String, Failure> {
             field: &red.field,
             outputs: vec![red.normal.q.clone()],
             about: vec![format!("Q of the normal form psi'' + Q psi = 0 of {}, at z = {var} (the equation's variable):", src.name)],
+            named: named.clone(),
         });
     }
     if want(WhatArg::Potential) {
@@ -101,6 +104,7 @@ fn compute(a: &EmitArgs, src: &super::Source) -> Result<String, Failure> {
                     s.frequency.as_deref().unwrap_or("omega"),
                     a.input.dxdz.as_deref().unwrap_or("")
                 )],
+                named: named.clone(),
             }),
             None => skipped.push("the potential (give --dxdz EXPR)".to_string()),
         }
@@ -127,6 +131,7 @@ fn compute(a: &EmitArgs, src: &super::Source) -> Result<String, Failure> {
                 ),
                 format!("Choices: {}. The argument n is {n}.", rec.choices.join("; ")),
             ],
+            named: Vec::new(),
         });
     }
     let lang = match a.lang {

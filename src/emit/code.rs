@@ -57,6 +57,8 @@ pub struct FunctionSpec<'a> {
     pub outputs: Vec<RatFunc>,
     /// Lines of explanation for the doc comment (the exact expressions are added).
     pub about: Vec<String>,
+    /// Named subexpressions in `field` (the file's `let`s) the form may be built on.
+    pub named: Vec<RatFunc>,
 }
 
 /// A request: the functions, the name prefix and where the equation came from.
@@ -319,7 +321,7 @@ pub fn emit_code(req: &CodeRequest<'_>) -> Result<Emitted> {
         if f.field.names().len() != req.params.len() + 1 || f.field.names()[1..] != req.params[..] {
             return Err(Error::new(ErrorKind::Internal, "a function's field does not hold the parameters in the file's order"));
         }
-        let ch = choose(f.field, &f.outputs, &req.limits)?;
+        let ch = choose(f.field, &f.outputs, &f.named, &req.limits)?;
         let arg = if f.kind == FunctionKind::Recurrence { "n" } else { "z" };
         let mut names = vec![arg.to_string()];
         names.extend(locals.iter().cloned());
