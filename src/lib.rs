@@ -6,13 +6,20 @@
 //! y'' + p y' + q y = 0 with exact coefficients, and derives the Liouville
 //! normal form ψ'' + Q ψ = 0 with Q = q − p'/2 − p²/4, the prefactor
 //! y = exp(−½∫p) ψ, the principal parts of Q at its poles, changes of
-//! variable and the Schrödinger form.
+//! variable and the Schrödinger form; then the singular points, exponents,
+//! class and canonical parameters, series recurrences, spectra with
+//! independent checks, verified C and Rust evaluators, and derivation
+//! records that can be re-checked.
 //!
 //! The pipeline runs one way: [`syntax`] (text → syntax tree), [`ode`]
 //! (lowering, normal form, changes of variable; built on the exact
-//! [`algebra`] layer), [`emit`] (text, LaTeX, JSON), and the binary's
-//! `cli`. Every value is exact; floating point appears only when a value is
-//! finally printed as a number.
+//! [`algebra`] layer), [`analysis`] (singular points, class, canonical
+//! forms), [`series`] (recurrences), [`solve`] (numerics: continued
+//! fractions, integration, WKB, collocation, coupled equations, scans),
+//! [`present`] (evaluation forms by e-graph extraction), [`emit`] (text,
+//! LaTeX, JSON, code, [`record`]s), and the binary's `cli`. The exact
+//! layer is the single source of truth: floating point starts in `solve`
+//! and in printed numbers, and never feeds back.
 //!
 //! ```
 //! use canonode::ode::{reduce, Input, ReduceOptions};
