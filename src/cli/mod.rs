@@ -39,9 +39,9 @@ enum Command {
     Classify(classify::ClassifyArgs),
     /// The series recurrence about a regular singular point (Frobenius/Jaffé-type ansatz).
     Recurrence(recurrence::RecurrenceArgs),
-    /// Quasinormal-mode frequencies by the continued fraction, with convergence evidence.
+    /// Quasinormal modes (continued fraction, checked by direct integration), bound states, coupled equations.
     Spectrum(spectrum::SpectrumArgs),
-    /// Quasinormal modes over a grid of one parameter (parallel, continuation, shards, plot).
+    /// Quasinormal modes over a grid of one parameter (parallel, continuation, shards, SVG/PNG plot).
     Scan(scan::ScanArgs),
     /// Write a derivation record (plain text, one field a line) to commit beside a paper's code.
     Record(record::RecordArgs),
