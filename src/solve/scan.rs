@@ -72,42 +72,80 @@ pub fn scan<'a>(
     let threads = rayon::current_num_threads().max(1);
     let chunk = idx.len().div_ceil(threads).max(1);
     let chunks: Vec<&[usize]> = idx.chunks(chunk).collect();
-    let mut out: Vec<ScanPoint> = chunks
-        .par_iter()
-        .flat_map_iter(|c| {
-            let mut prev: Option<Vec<Complex64>> = None;
-            let mut res = Vec::new();
-            let solver = match make() {
-                Ok(r) => r,
-                Err(e) => {
-                    return c
-                        .iter()
-                        .map(|&i| ScanPoint { index: i, value: grid[i].to_f64(), modes: Vec::new(), error: Some(e.message.clone()) })
-                        .collect::<Vec<_>>();
-                }
-            };
-            for &i in c.iter() {
-                let mut opts = base.clone();
-                opts.values[vary] = GRat::real(grid[i].clone());
-                if let Some(s) = &prev {
-                    opts.seeds = s.clone();
-                    opts.guess = None;
-                }
-                let p = match solver(&opts, check) {
-                    Ok(modes) => ScanPoint { index: i, value: grid[i].to_f64(), modes, error: None },
-                    Err(e) => ScanPoint { index: i, value: grid[i].to_f64(), modes: Vec::new(), error: Some(e.message) },
-                };
-                if p.error.is_none() && p.modes.iter().all(|(m, _)| m.root.converged) {
-                    prev = Some(p.modes.iter().map(|(m, _)| m.root.omega).collect());
-                }
-                progress();
-                res.push(p);
+    let run_chunk = |c: &[usize], start: Option<Vec<Complex64>>, tick: bool| -> Vec<ScanPoint> {
+        let solver = match make() {
+            Ok(r) => r,
+            Err(e) => {
+                return c
+                    .iter()
+                    .map(|&i| ScanPoint { index: i, value: grid[i].to_f64(), modes: Vec::new(), error: Some(e.message.clone()) })
+                    .collect();
             }
-            res
-        })
-        .collect();
+        };
+        let mut prev = start;
+        let mut res = Vec::new();
+        for &i in c.iter() {
+            let mut opts = base.clone();
+            opts.values[vary] = GRat::real(grid[i].clone());
+            if let Some(s) = &prev {
+                opts.seeds = s.clone();
+                opts.guess = None;
+            }
+            let p = match solver(&opts, check) {
+                Ok(modes) => ScanPoint { index: i, value: grid[i].to_f64(), modes, error: None },
+                Err(e) => ScanPoint { index: i, value: grid[i].to_f64(), modes: Vec::new(), error: Some(e.message) },
+            };
+            if let Some(w) = converged(&p) {
+                prev = Some(w);
+            }
+            if tick {
+                progress();
+            }
+            res.push(p);
+        }
+        res
+    };
+    let mut parts: Vec<Vec<ScanPoint>> = chunks.par_iter().map(|c| run_chunk(c, None, true)).collect();
+    // Every chunk but the first started without a neighbour. Where its first
+    // point does not continue the previous chunk (not converged, or far from
+    // the extrapolation of the previous chunk's last two points), the chunk
+    // is solved again, point by point, from the previous chunk's end, so that
+    // a scan never silently jumps to another mode at a chunk boundary.
+    for k in 1..parts.len() {
+        let (before, after) = parts.split_at_mut(k);
+        let prev_chunk = &before[k - 1];
+        let Some(last) = prev_chunk.last().and_then(converged) else { continue };
+        let second = prev_chunk.len().checked_sub(2).and_then(|i| converged(&prev_chunk[i]));
+        if !continues(&last, second.as_deref(), after[0].first().and_then(converged).as_deref()) {
+            after[0] = run_chunk(chunks[k], Some(last), false);
+        }
+    }
+    let mut out: Vec<ScanPoint> = parts.into_iter().flatten().collect();
     out.sort_by_key(|p| p.index);
     out
+}
+
+/// The modes of a point when every one converged.
+fn converged(p: &ScanPoint) -> Option<Vec<Complex64>> {
+    (p.error.is_none() && !p.modes.is_empty() && p.modes.iter().all(|(m, _)| m.root.converged))
+        .then(|| p.modes.iter().map(|(m, _)| m.root.omega).collect())
+}
+
+/// True when `next` continues `last` (with `second` the point before it):
+/// each mode within three steps of the linear extrapolation (or within 10⁻³
+/// relative when there is no previous step to measure).
+fn continues(last: &[Complex64], second: Option<&[Complex64]>, next: Option<&[Complex64]>) -> bool {
+    let Some(next) = next else { return false };
+    if next.len() != last.len() {
+        return false;
+    }
+    last.iter().enumerate().all(|(n, a)| {
+        let (predicted, room) = match second.and_then(|s| s.get(n)) {
+            Some(b) => (a + (a - b), 3.0 * (a - b).norm()),
+            None => (*a, 0.0),
+        };
+        (next[n] - predicted).norm() <= room.max(1e-3 * a.norm())
+    })
 }
 
 /// The modes of one equation at one grid point: parameters substituted
@@ -224,4 +262,55 @@ fn draw<DB: plotters::prelude::DrawingBackend>(
             .map_err(|e| e.to_string())?;
     }
     root.present().map_err(|e| e.to_string())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::solve::cf::{CfRoot, StopReason};
+
+    fn mode(w: Complex64) -> (Mode, Option<Complex64>) {
+        let root = CfRoot {
+            omega: w,
+            converged: true,
+            depth: 64,
+            depth_change: 0.0,
+            residual: 0.0,
+            iterations: 1,
+            stop: StopReason::Converged,
+            inversion: 0,
+        };
+        (Mode { n: 0, root, seed: (w, "test".into()), method: "cf" }, None)
+    }
+
+    #[test]
+    fn a_chunk_that_starts_on_another_mode_is_solved_again_from_its_neighbour() {
+        // A solver with two branches: seeded by a neighbour it follows the
+        // mode ω = 0.4 + 0.1v − 0.1i; without a seed, past v = 0.5, it lands
+        // on another mode (as a root finder from a far guess can).
+        let make = || -> Result<PointSolver<'static>> {
+            Ok(Box::new(|o: &SpectrumOptions, _| {
+                let v = o.values[1].to_f64().0;
+                let right = Complex64::new(0.4 + 0.1 * v, -0.1);
+                Ok(vec![mode(if o.seeds.is_empty() && v > 0.5 { Complex64::new(0.3, -0.5) } else { right })])
+            }))
+        };
+        let base = SpectrumOptions { freq: 2, values: vec![GRat::zero(); 3], overtones: (0, 0), tol: 1e-10, guess: None, seeds: Vec::new() };
+        let g = grid(&Rat::zero(), &Rat::one(), &Rat::new(1.into(), 10.into()).unwrap()).unwrap();
+        let pool = rayon::ThreadPoolBuilder::new().num_threads(2).build().unwrap();
+        let pts = pool.install(|| scan(&make, &base, 1, &g, 0..g.len(), false, &|| {}));
+        assert_eq!(pts.len(), 11);
+        for p in &pts {
+            let w = p.modes[0].0.root.omega;
+            assert!((w - Complex64::new(0.4 + 0.1 * p.value, -0.1)).norm() < 1e-12, "at {}: {w}", p.value);
+        }
+    }
+
+    #[test]
+    fn continuation_test_accepts_smooth_steps_and_rejects_jumps() {
+        let c = |re: f64, im: f64| vec![Complex64::new(re, im)];
+        assert!(continues(&c(0.5, -0.1), Some(&c(0.49, -0.1)), Some(&c(0.511, -0.1))));
+        assert!(!continues(&c(0.5, -0.1), Some(&c(0.49, -0.1)), Some(&c(0.3, -0.5))));
+        assert!(!continues(&c(0.5, -0.1), None, None));
+    }
 }
