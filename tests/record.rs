@@ -143,6 +143,22 @@ fn options_are_recorded_and_rechecked() {
 }
 
 #[test]
+fn a_horizon_at_a_quadratic_root_gets_its_recurrence() {
+    // The Teukolsky radial equation's singular points r± are the roots of
+    // Δ = r² − 2Mr + a², irreducible over Q(M, a): the record adjoins r₊ = θ
+    // and holds the three-term recurrence of Leaver 1985 (Kerr radial
+    // series in u = (r − r₊)/(r − r₋)), free of the common factor of the
+    // parameters.
+    let src = std::fs::read_to_string(root().join("samples/teukolsky_radial.ode")).expect("sample");
+    let rec = derive(&src, "teukolsky_radial.ode", &ReduceOptions::default()).expect("derived");
+    assert_eq!(rec.get("recurrence.about"), Some("r = θ, a root of r^2 - 2*M*r + a^2"));
+    assert_eq!(rec.get("recurrence.series"), Some("u=(r - (θ))/(r - (2*M - θ))"));
+    assert_eq!(rec.get("recurrence.equation"), Some("c0(n)*a[n+1] + c1(n)*a[n] + c2(n)*a[n-1] = 0"));
+    let c0 = rec.get("recurrence.c[0]").expect("c0");
+    assert!(c0.starts_with("(M^2 - a^2)*n^2"), "{c0}");
+}
+
+#[test]
 fn requested_recurrence_is_recorded_and_rechecked() {
     // The quasinormal-mode recurrence of Regge–Wheeler about the horizon
     // (ingoing exponent, outgoing branch) is Leaver 1985's: with 2M = 1 and

@@ -66,7 +66,8 @@ pub const VERSION_KEY: &str = "tool.version";
 
 /// How the recorded recurrence is chosen; written into each record.
 pub const RECURRENCE_RULE: &str = "about the first finite regular singular point at an exact location where one exists, \
-in the default series variable, with the default exponents (the unknown's exponent 0 where it has one, else the first exact one; the first listed branch at an irregular point at infinity)";
+in the default series variable, with the default exponents (the unknown's exponent 0 where it has one, else the first exact one; the first listed branch at an irregular point at infinity); \
+failing that, about a regular root θ of an irreducible quadratic factor, adjoined as a symbol, with its first exact exponent";
 
 /// The value of an option that was not given. It cannot be confused with a
 /// given value: no expression or name of the input language contains a space
@@ -441,8 +442,32 @@ fn recurrence_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result
         };
         return recurrence_lines(rec, &where_text(k, &red.var, p, Style::Text), &r);
     }
+    // No exact point: a regular root θ of an irreducible quadratic factor,
+    // adjoined as a symbol (its first exact exponent), as for a horizon r₊.
+    for p in &an.points {
+        let Place::Roots(f) = &p.place else { continue };
+        if p.kind != Kind::Regular || f.to_univariate(0).len() != 3 {
+            continue;
+        }
+        let Some((j, rho)) = p.unknown_exponents.iter().enumerate().find_map(|(j, e)| e.in_extension(k).ok().flatten().map(|r| (j, r))) else {
+            why_not.push(format!("about {}: no exponent is exact in the root's field", where_text(k, &red.var, p, Style::Text)));
+            continue;
+        };
+        let mut name = "θ".to_string();
+        while k.names().contains(&name) {
+            name.push('_');
+        }
+        match crate::series::recurrence_at_root(red, f, &rho, &name, &crate::analysis::canonical::Choices::default()) {
+            Ok(r) => {
+                rec.push("recurrence.exponent", format!("number {} at {}", j + 1, where_text(k, &red.var, p, Style::Text)))?;
+                return recurrence_lines(rec, &where_text(k, &red.var, p, Style::Text), &r);
+            }
+            Err(e) if e.is_bad_input() => why_not.push(format!("about {}: {}", where_text(k, &red.var, p, Style::Text), e.message)),
+            Err(e) => return Err(e),
+        }
+    }
     if why_not.is_empty() {
-        why_not.push("the equation has no finite regular singular point at an exact location".to_string());
+        why_not.push("the equation has no finite regular singular point at an exact location or at a root of a quadratic factor".to_string());
     }
     rec.push("recurrence.none", why_not.join("; "))
 }

@@ -371,6 +371,25 @@ fn recurrence_mod(
         let inv = RatFunc::rat(&Rat::new(Int::ONE, content).expect("nonzero"));
         coeffs = coeffs.iter().map(|c| kn.mul(c, &inv)).collect::<Result<_>>()?;
     }
+    // A common factor of the parameters alone (e.g. (M² − a²)³ after the
+    // exponents at a quadratic root were cleared of their denominators)
+    // multiplies the whole recurrence and is divided out; factors with n or
+    // with an adjoined root are kept.
+    if coeffs.iter().all(|c| c.den_factors().is_empty()) {
+        let mut g = coeffs[0].num().clone();
+        for c in &coeffs[1..] {
+            match gcd(&g, c.num()) {
+                Some(x) => g = x,
+                None => break,
+            }
+        }
+        let adjoined = modf.as_ref().is_some_and(|(t, _)| g.uses_var(*t));
+        if (1..crate::algebra::MAX_VARS).any(|i| g.uses_var(i)) && !g.uses_var(0) && !adjoined {
+            if let Some(divided) = coeffs.iter().map(|c| c.num().div_exact(&g).map(RatFunc::from_poly)).collect::<Option<Vec<_>>>() {
+                coeffs = divided;
+            }
+        }
+    }
     let function = if normal { "ψ".to_string() } else { red.ode.unknown.clone() };
     let prefactor = if text.is_empty() { "1".to_string() } else { text.join("*") };
     Ok(Recurrence { field: kn, coeffs, prefactor, series: series_text, choices: said, function })
