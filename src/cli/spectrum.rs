@@ -1,5 +1,33 @@
-//! `canonode spectrum`: quasinormal modes by the continued fraction, with
-//! convergence evidence for every overtone.
+//! `canonode spectrum`: quasinormal modes by the continued fraction (alone
+//! or coupled to an angular equation), bound states by collocation, with
+//! convergence evidence and a second method for every value.
+//!
+//! JSON output (stable; tests read it). Every document has `frequency` (the
+//! parameter solved for), `boundary` ("qnm" or "bound"), `method` (words)
+//! and `modes`, a list of objects with:
+//! - `n` — overtone (or level) number;
+//! - `omega` — [re, im], or null when not converged;
+//! - `converged` — bool; `reason` — why not (null when converged);
+//! - `method` — "cf", "terminating", "integrate", "wkb", "eikonal" or
+//!   "collocation";
+//! - `evidence` — for "cf": `inversion`, `depth`, `change_on_doubling`,
+//!   `residual`, `iterations`, `seed` [re, im], `seed_from`; for
+//!   "collocation": `points`, `change_on_doubling`, `domain`; for the
+//!   estimates: `note`;
+//! - `check` — the second method, or null: {`method`: "integrate" or
+//!   "shooting", `omega` [re, im] or null with `reason`, `agreement`
+//!   (relative), `residual`, and for shooting `change_on_refinement`};
+//!   bound states add `no_check` (why no second method ran, or null);
+//! - quasinormal modes add `estimate` ({`method`: "wkb3", `omega`} or null)
+//!   and `coupled` (null, or for `--couple`: `eigenvalue` (its name),
+//!   `value` [re, im], `depth`, `change_on_doubling`, and `links`, each
+//!   linked parameter's value [re, im] at the mode).
+//!
+//! Quasinormal-mode documents from the continued fraction also carry
+//! `horizon`, `ansatz`, `choices` and `recurrence_terms`; coupled ones a
+//! `coupling` object (`angular` file, `eigenvalue`, `index`, `about`,
+//! `choices`, `links`); bound-state documents `domain` and `continuum` (the
+//! edge, or null on a finite interval).
 
 use super::values::{fmt_complex, parse_assignments, parse_complex};
 use super::{run_command, Failure, InputArgs};
