@@ -796,3 +796,46 @@ fn regression_gcd_swell_in_normal_form() {
         assert!(stats.ok == 1 || stats.errors.get("Limit") == Some(&1), "expected a result or a limit error");
     }
 }
+
+#[test]
+fn links_between_equations_never_panic() {
+    // Random link texts over the Teukolsky/spheroidal joint names (and
+    // junk): each is a link or a located error, never a panic; every link's
+    // expression is free of the radial variable.
+    use canonode::ode::{reduce, Input, ReduceOptions};
+    let read = |p: &str| std::fs::read_to_string(format!("{}/samples/{p}", env!("CARGO_MANIFEST_DIR"))).unwrap();
+    let (rs, as_) = (read("teukolsky_radial.ode"), read("spheroidal_spin_weighted.ode"));
+    let radial = reduce(&Input::Program(&rs), &ReduceOptions::default()).unwrap();
+    let angular = reduce(&Input::Program(&as_), &ReduceOptions::default()).unwrap();
+    let names = canonode::solve::coupled::joint_names(&radial.field, &angular.field);
+    let joint = canonode::algebra::Field::new(names, radial.field.limits().clone()).unwrap();
+    let targets = ["lam", "c", "A", "omega", "r", "x", "", "lam lam", "λ"];
+    let mut rng = Rng::new(0x5EED_1111);
+    let (mut ok, mut err) = (0, 0);
+    for _ in 0..400 {
+        let body =
+            if rng.chance(70) { grammatical(&mut rng, 3).replace('y', "A").replace('f', "omega").replace('k', "m") } else { soup(&mut rng).text };
+        let text = match rng.below(4) {
+            0 => body.clone(),
+            _ => format!("{} = {body}", rng.pick(&targets)),
+        };
+        let res = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+            canonode::solve::coupled::try_link(&text, &joint, &radial.field, &angular.field)
+        }));
+        match res {
+            Ok(Ok(l)) => {
+                assert!(!l.expr.uses_var(0), "{text}");
+                ok += 1;
+            }
+            Ok(Err(e)) => {
+                if let Some(s) = e.span {
+                    assert!(s.start <= s.end && s.end <= text.len(), "span {s:?} outside '{text}'");
+                }
+                err += 1;
+            }
+            Err(_) => panic!("try_link panicked on {text:?}"),
+        }
+    }
+    // The generator reaches both outcomes.
+    assert!(ok > 10 && err > 10, "{ok} links, {err} errors");
+}
