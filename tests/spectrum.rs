@@ -568,3 +568,43 @@ fn collocation_is_a_bound_state_method_only() {
     assert_eq!(code, 2, "{err}");
     assert!(err.contains("--method collocation computes bound states"), "{err}");
 }
+
+#[test]
+fn spheroidal_eigenvalue_mirror_symmetry_and_counter_rotating_kerr_mode() {
+    // A_{s,l,−m}(c) = A_{s,l,m}(−c) for the spin-weighted spheroidal
+    // equation (x → −x maps one onto the other; common practice). Regression:
+    // with m = −2 the series point x = −1 has a double exponent and β₀
+    // vanishes beside the eigenvalue; the undivided continued fraction is
+    // needed there.
+    use canonode::algebra::{GRat, Rat};
+    use canonode::ode::{reduce, Input, ReduceOptions};
+    let src = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/spheroidal_spin_weighted.ode")).unwrap();
+    let red = reduce(&Input::Program(&src), &ReduceOptions::default()).unwrap();
+    let names = red.field.names().to_vec();
+    let idx = |n: &str| names.iter().position(|x| x == n).unwrap();
+    let eigen = |m: i64, c: num_complex::Complex64| {
+        let mut known: Vec<Option<GRat>> = vec![None; names.len()];
+        known[idx("s")] = Some(GRat::real(Rat::int((-2).into())));
+        known[idx("m")] = Some(GRat::real(Rat::int(m.into())));
+        let ang = canonode::solve::coupled::try_angular(&red, &known, &[idx("c")], 0, (0..names.len()).collect()).unwrap();
+        let mut a = ang.seed.clone().unwrap().0;
+        let mut vals = vec![num(0.0, 0.0); names.len()];
+        vals[idx("s")] = num(-2.0, 0.0);
+        vals[idx("m")] = num(m as f64, 0.0);
+        for step in 1..=8 {
+            vals[idx("c")] = c * (step as f64 / 8.0);
+            let r = ang.eigenvalue_at(&vals, a, 1e-13);
+            assert!(r.converged, "m={m} step {step}: {r:?}");
+            a = r.omega;
+        }
+        a
+    };
+    let c = num(0.45, -0.12);
+    let (plus, minus) = (eigen(2, -c), eigen(-2, c));
+    assert!((plus - minus).norm() < 1e-11, "{plus} vs {minus}");
+    // The counter-rotating l = 2, m = −2 mode converges and its radial check agrees.
+    let ms = modes("teukolsky_radial", "M=1,a=0.7,m=-2,s=-2", "0", &[KERR_COUPLING, &["--guess", "0.35-0.09i"]].concat());
+    let (re, im) = omega(&ms[0]);
+    assert!(re > 0.0 && re < 0.3737 && im < 0.0, "{re} {im}");
+    assert!(ms[0]["check"]["agreement"].as_f64().unwrap() < 1e-10);
+}

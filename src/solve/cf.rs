@@ -281,8 +281,20 @@ impl CfRoot {
 /// The k-th inversion of the continued fraction at ω with truncation depth N,
 /// divided by β_k; `None` where a denominator vanishes.
 pub fn cf_function(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<Complex64> {
+    cf_parts(rec, w, k, depth).map(|(f, bk)| if bk.norm() > 0.0 { f / bk } else { f })
+}
+
+/// The k-th inversion itself, not divided by β_k: for an eigenvalue where
+/// β_k vanishes next to the root (an angular eigenvalue near the point where
+/// the series terminates), where the divided form has a pole beside its zero.
+pub fn cf_function_unscaled(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<Complex64> {
+    cf_parts(rec, w, k, depth).map(|(f, _)| f)
+}
+
+/// The k-th inversion f and β_k.
+fn cf_parts(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<(Complex64, Complex64)> {
     if rec.terms.len() > 3 {
-        return cf_function_reduced(rec, w, k, depth);
+        return cf_parts_reduced(rec, w, k, depth);
     }
     if rec.terms.len() != 3 {
         return None;
@@ -328,7 +340,7 @@ pub fn cf_function(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) ->
     let kf = k as f64;
     let bk = poly_n(&t.b, kf);
     let f = bk + poly_n(&t.a, kf) * r + poly_n(&t.g, kf) * inv_prev;
-    Some(if bk.norm() > 0.0 { f / bk } else { f })
+    Some((f, bk))
 }
 
 /// The k-th inversion for a recurrence of more than three terms: Gaussian
@@ -336,7 +348,7 @@ pub fn cf_function(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) ->
 /// (E. W. Leaver, Phys. Rev. D 41 (1990) 2986), then the three-term
 /// continued fraction on the reduced coefficients, with a tail from the
 /// reduced recurrence at the truncation depth (r ≈ r_N ≈ r_{N−1}).
-fn cf_function_reduced(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<Complex64> {
+fn cf_parts_reduced(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<(Complex64, Complex64)> {
     let depth = depth.max(k + 2);
     let kk = rec.terms.len();
     let polys: Vec<Vec<Complex64>> = rec.terms.iter().map(|t| t.at_omega(w)).collect();
@@ -392,7 +404,7 @@ fn cf_function_reduced(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize
     }
     let bk = be(k);
     let f = bk + al(k) * r + ga(k) * inv_prev;
-    Some(if bk.norm() > 0.0 { f / bk } else { f })
+    Some((f, bk))
 }
 
 /// Finds the root of the k-th inversion near `seed`, doubling the depth

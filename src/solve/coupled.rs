@@ -16,7 +16,7 @@
 //! linked separation constant: one complex function of ω whose root is the
 //! mode, as in Leaver 1985.
 
-use super::cf::{cf_function, find_root, find_root_by, try_numeric_at, CfRoot};
+use super::cf::{cf_function, cf_function_unscaled, find_root_by, try_numeric_at, CfRoot};
 use super::spectrum::{Mode, Setup, SpectrumOptions};
 use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::{Field, GRat, RatFunc};
@@ -243,7 +243,14 @@ impl Angular {
     /// field; the eigenvalue's entry is ignored), from `seed`.
     pub fn eigenvalue_at(&self, values: &[Complex64], seed: Complex64, tol: f64) -> CfRoot {
         match try_numeric_at(&self.rec, values, self.eigen) {
-            Ok(num) => find_root(&num, self.index, seed, tol, 16, 1 << 14),
+            // Undivided: β_k vanishes at the terminating point the
+            // continuation starts from, next to the root.
+            Ok(num) => {
+                let f = |w: Complex64, depth: usize| {
+                    cf_function_unscaled(&num, w, self.index, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string())
+                };
+                find_root_by(&f, self.index, seed, tol, 16, 1 << 14)
+            }
             Err(e) => CfRoot {
                 omega: seed,
                 converged: false,
