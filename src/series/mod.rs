@@ -376,11 +376,17 @@ fn recurrence_mod(
     // multiplies the whole recurrence and is divided out; factors with n or
     // with an adjoined root are kept.
     if coeffs.iter().all(|c| c.den_factors().is_empty()) {
-        let mut g = coeffs[0].num().clone();
-        for c in &coeffs[1..] {
-            match gcd(&g, c.num()) {
+        // A real common factor divides the real and the imaginary part of
+        // every coefficient (the gcd works over Q).
+        let parts: Vec<Poly> = coeffs.iter().flat_map(|c| [c.num().re(), c.num().im()]).filter(|p| !p.is_zero()).collect();
+        let mut g = parts.first().cloned().unwrap_or_else(|| Poly::int(1));
+        for p in parts.iter().skip(1) {
+            match gcd(&g, p) {
                 Some(x) => g = x,
-                None => break,
+                None => {
+                    g = Poly::int(1);
+                    break;
+                }
             }
         }
         let adjoined = modf.as_ref().is_some_and(|(t, _)| g.uses_var(*t));
