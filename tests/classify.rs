@@ -295,3 +295,22 @@ fn hypergeometric_reached_by_a_moebius_map() {
         assert!(p["difference"].is_string(), "{p}");
     }
 }
+
+#[test]
+fn kerr_radial_recurrence_about_the_adjoined_horizon_is_three_term() {
+    // Leaver 1985: the Teukolsky radial equation in u = (r − r₊)/(r − r₋)
+    // with the ingoing exponent at r₊ and the outgoing branch at ∞ gives a
+    // three-term recurrence. r± are the roots of r² − 2Mr + a² (irreducible
+    // over Q(M, a)); `--about θ` adjoins r₊ = θ, r₋ = 2M − θ.
+    let v = run(&["recurrence", "samples/teukolsky_radial.ode", "--about", "θ", "--exponents", "θ=2,inf=1", "--format", "json"]);
+    assert_eq!(v["terms"], 3, "{v}");
+    assert_eq!(v["series"], "u=(r - (θ))/(r - (2*M - θ))");
+    // A fixed series variable: --series is refused about θ.
+    let out = Command::new(env!("CARGO_BIN_EXE_canonode"))
+        .args(["recurrence", "samples/teukolsky_radial.ode", "--about", "θ", "--series", "u=r"])
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("series variable is fixed"));
+}

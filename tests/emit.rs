@@ -298,6 +298,24 @@ fn regge_wheeler_recurrence_about_the_horizon_matches_exact_values() {
 }
 
 #[test]
+fn kerr_recurrence_about_the_adjoined_horizon_matches_exact_values() {
+    // The Teukolsky radial equation's horizon r₊ is a root θ of r² − 2Mr + a²:
+    // `--about θ` adjoins it (θ is the last parameter) and the three-term
+    // recurrence of Leaver 1985 (ingoing at r₊, outgoing at ∞) is emitted
+    // and compared with the exact coefficients at random points, θ included.
+    let f = Path::new(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/teukolsky_radial.ode"));
+    let red = reduced(f, None);
+    let choices = canonode::analysis::canonical::Choices { picks: vec![("θ".into(), 2), ("inf".into(), 1)], ..Default::default() };
+    let root = canonode::series::recurrence_about_root(&red, &choices).unwrap();
+    let rec = root.rec;
+    assert_eq!((rec.coeffs.len(), root.exponent), (3, 1));
+    assert_eq!(root.meaning, "θ, a root of r^2 - 2*M*r + a^2");
+    assert_eq!(rec.field.names().last().map(String::as_str), Some("θ"));
+    let args = ["--what", "recurrence", "--about", "θ", "--exponents", "θ=2,inf=1"];
+    check(f.to_str().unwrap(), &args, Call::Recurrence(rec.coeffs.len()), &rec.coeffs, rec.field.names().len(), "kerr-recurrence");
+}
+
+#[test]
 fn hostile_parameter_names_still_compile_and_match() {
     // Keywords of C and Rust, num-complex's field name re, a Greek letter and a name
     // that sanitises like it (λ and lambda), Greek capital iota (no ASCII spelling, it

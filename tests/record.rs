@@ -156,6 +156,22 @@ fn a_horizon_at_a_quadratic_root_gets_its_recurrence() {
     assert_eq!(rec.get("recurrence.equation"), Some("c0(n)*a[n+1] + c1(n)*a[n] + c2(n)*a[n-1] = 0"));
     let c0 = rec.get("recurrence.c[0]").expect("c0");
     assert!(c0.starts_with("(M^2 - a^2)*n^2"), "{c0}");
+    // Asked for by name, with the ingoing exponent: recorded and re-checked.
+    let dir = temp_dir("theta");
+    std::fs::copy(root().join("samples/teukolsky_radial.ode"), dir.join("k.ode")).expect("copied");
+    let r = run_in(&dir, &["record", "k.ode", "--about", "θ", "--exponents", "θ=2,inf=1", "-o", "k.deriv"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let text = std::fs::read_to_string(dir.join("k.deriv")).expect("written");
+    assert!(text.contains("recurrence.about: r = θ, a root of r^2 - 2*M*r + a^2\n"), "{text}");
+    assert!(text.contains("recurrence.choice[1]: at r = θ: exponent (-I*M^2*omega*θ"), "{text}");
+    let c = run_in(&dir, &["check", "k.deriv"]);
+    assert_eq!((c.code, c.stdout.as_str()), (0, "k.deriv: holds\n"), "{}", c.stderr);
+    // An equation without such a root says so (exit 2, naming --about).
+    std::fs::copy(root().join("samples/regge_wheeler.ode"), dir.join("rw.ode")).expect("copied");
+    let r = run_in(&dir, &["record", "rw.ode", "--about", "θ"]);
+    assert_eq!(r.code, 2);
+    assert!(r.stderr.contains("--about") && r.stderr.contains("no regular singular point is a root"), "{}", r.stderr);
+    std::fs::remove_dir_all(&dir).ok();
 }
 
 #[test]

@@ -130,7 +130,16 @@ fn compute(a: &EmitArgs, src: &super::Source) -> Result<String, Failure> {
                     rec.function, rec.prefactor, rec.series
                 ),
                 format!("Choices: {}. The argument n is {n}.", rec.choices.join("; ")),
-            ],
+            ]
+            .into_iter()
+            .chain((rec.field.names().len() > red.field.names().len()).then(|| {
+                let t = rec.field.names().last().expect("θ");
+                format!(
+                    "{t} = p[{}] is the adjoined root the series is about (canonode classify names its polynomial): pass its value.",
+                    rec.field.names().len() - 2
+                )
+            }))
+            .collect(),
             named: Vec::new(),
         });
     }
@@ -138,7 +147,11 @@ fn compute(a: &EmitArgs, src: &super::Source) -> Result<String, Failure> {
         LangArg::C => Lang::C,
         LangArg::Rust => Lang::Rust,
     };
-    let params = red.field.names()[1..].to_vec();
+    // A recurrence about an adjoined root θ takes θ as the last parameter.
+    let params = match &rec {
+        Some(r) if r.field.names().len() > red.field.names().len() => r.field.names()[1..].to_vec(),
+        _ => red.field.names()[1..].to_vec(),
+    };
     let req = CodeRequest { lang, prefix, source: src.name.clone(), params, functions, skipped, limits: Default::default() };
     let out = emit_code(&req)?;
     if let Some(path) = &a.output {

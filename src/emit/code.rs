@@ -318,7 +318,10 @@ pub fn emit_code(req: &CodeRequest<'_>) -> Result<Emitted> {
     }
     let mut choices = Vec::new();
     for f in &req.functions {
-        if f.field.names().len() != req.params.len() + 1 || f.field.names()[1..] != req.params[..] {
+        // A function's field holds the parameters in the file's order; a
+        // recurrence about an adjoined root holds θ after them (the last p).
+        let own = f.field.names().len().saturating_sub(1);
+        if own > req.params.len() || f.field.names()[1..] != req.params[..own] {
             return Err(Error::new(ErrorKind::Internal, "a function's field does not hold the parameters in the file's order"));
         }
         let ch = choose(f.field, &f.outputs, &f.named, &req.limits)?;

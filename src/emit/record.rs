@@ -402,8 +402,12 @@ fn requested_recurrence(rec: &mut Record, red: &Reduction, about: &str, req: &Re
         Some(t) => crate::analysis::canonical::Choices::parse(t).map_err(|e| e.in_option("--exponents"))?,
         None => crate::analysis::canonical::Choices::default(),
     };
-    let r = crate::series::recurrence(red, about, req.series.as_deref(), &choices, false)?;
     rec.push("recurrence.rule", "as requested (option.about, option.series, option.exponents)")?;
+    if crate::series::names_root(about) {
+        let r = crate::series::recurrence_about_root(red, &choices)?;
+        return recurrence_lines(rec, &format!("{} = {}", red.var, r.meaning), &r.rec);
+    }
+    let r = crate::series::recurrence(red, about, req.series.as_deref(), &choices, false)?;
     recurrence_lines(rec, &format!("{} = {about}", red.var), &r)
 }
 
@@ -444,23 +448,11 @@ fn recurrence_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result
     }
     // No exact point: a regular root θ of an irreducible quadratic factor,
     // adjoined as a symbol (its first exact exponent), as for a horizon r₊.
-    for p in &an.points {
-        let Place::Roots(f) = &p.place else { continue };
-        if p.kind != Kind::Regular || f.to_univariate(0).len() != 3 {
-            continue;
-        }
-        let Some((j, rho)) = p.unknown_exponents.iter().enumerate().find_map(|(j, e)| e.in_extension(k).ok().flatten().map(|r| (j, r))) else {
-            why_not.push(format!("about {}: no exponent is exact in the root's field", where_text(k, &red.var, p, Style::Text)));
-            continue;
-        };
-        let mut name = "θ".to_string();
-        while k.names().contains(&name) {
-            name.push('_');
-        }
-        match crate::series::recurrence_at_root(red, f, &rho, &name, &crate::analysis::canonical::Choices::default()) {
+    if let Some(p) = an.points.iter().find(|p| matches!(&p.place, Place::Roots(f) if f.to_univariate(0).len() == 3) && p.kind == Kind::Regular) {
+        match crate::series::recurrence_about_root(red, &crate::analysis::canonical::Choices::default()) {
             Ok(r) => {
-                rec.push("recurrence.exponent", format!("number {} at {}", j + 1, where_text(k, &red.var, p, Style::Text)))?;
-                return recurrence_lines(rec, &where_text(k, &red.var, p, Style::Text), &r);
+                rec.push("recurrence.exponent", format!("number {} at {}", r.exponent + 1, where_text(k, &red.var, p, Style::Text)))?;
+                return recurrence_lines(rec, &format!("{} = {}", red.var, r.meaning), &r.rec);
             }
             Err(e) if e.is_bad_input() => why_not.push(format!("about {}: {}", where_text(k, &red.var, p, Style::Text), e.message)),
             Err(e) => return Err(e),

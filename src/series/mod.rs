@@ -451,6 +451,79 @@ fn rem_monic(p: &Poly, t: usize, f: &Poly) -> Result<Poly> {
     Ok(Poly::from_univariate(t, &pu))
 }
 
+/// True when `about` names the adjoined root θ of a quadratic factor
+/// (`θ` or `theta`), as `--about` accepts it.
+pub fn names_root(about: &str) -> bool {
+    matches!(about.trim(), "θ" | "theta")
+}
+
+/// The symbol adjoined for a root θ of the quadratic `f` (in `k`'s variable
+/// 0) and what it stands for: θ itself when `f` is monic, else φ = c₂θ
+/// (c₂ the leading coefficient), the symbol [`recurrence_at_root`] uses; a
+/// name already taken gets a trailing `_`.
+pub fn root_symbol(k: &Field, f: &Poly) -> (String, String) {
+    let c2 = f.to_univariate(0).get(2).cloned().unwrap_or_else(|| Poly::int(1));
+    let monic = c2 == Poly::int(1);
+    let mut name = if monic { "θ" } else { "φ" }.to_string();
+    while k.names().contains(&name) {
+        name.push('_');
+    }
+    let ftext = crate::algebra::print::poly_text(f, &Int::ONE, k.names(), Style::Text);
+    let what = if monic {
+        format!("{name}, a root of {ftext}")
+    } else {
+        let c2text = crate::algebra::print::poly_text(&c2, &Int::ONE, k.names(), Style::Text);
+        format!("{name} = {c2text}*θ, θ a root of {ftext}")
+    };
+    (name, what)
+}
+
+/// A recurrence about an adjoined root, with what the symbol stands for.
+#[derive(Debug)]
+pub struct RootRecurrence {
+    /// The recurrence; its field has the symbol last.
+    pub rec: Recurrence,
+    /// The exponent used at the root (0-based, in the listed order).
+    pub exponent: usize,
+    /// The adjoined symbol (θ, or φ = c₂θ for a non-monic factor).
+    pub symbol: String,
+    /// What the symbol stands for, in words and the factor's text.
+    pub meaning: String,
+}
+
+/// The recurrence about the first regular singular point that is a root θ
+/// of an irreducible quadratic factor (a horizon r₊ of r² − 2Mr + a²),
+/// adjoined as a symbol (see [`root_symbol`]) placed last in the
+/// recurrence's field. The exponent there is chosen by `choices` at the
+/// label "θ" (1-based), else the first exact one.
+pub fn recurrence_about_root(red: &Reduction, choices: &Choices) -> Result<RootRecurrence> {
+    let k = &red.field;
+    let an = crate::analysis::analyse(red)?;
+    let mut why = Vec::new();
+    for p in &an.points {
+        let Place::Roots(f) = &p.place else { continue };
+        if p.kind != Kind::Regular || f.to_univariate(0).len() != 3 {
+            continue;
+        }
+        let exact: Vec<Option<UPoly>> = p.unknown_exponents.iter().map(|e| e.in_extension(k).ok().flatten()).collect();
+        let pick = match choices.picks.iter().find(|(l, _)| names_root(l)) {
+            Some((_, c)) => Some(c - 1).filter(|j| exact.get(*j).is_some_and(Option::is_some)),
+            None => exact.iter().position(Option::is_some),
+        };
+        let Some(j) = pick else {
+            why.push("the chosen exponent at θ is not exact in the root's field".to_string());
+            continue;
+        };
+        let rho = exact[j].clone().expect("picked exact");
+        let (symbol, meaning) = root_symbol(k, f);
+        let others = Choices { picks: choices.picks.iter().filter(|(l, _)| !names_root(l)).cloned().collect(), values: choices.values.clone() };
+        let rec = recurrence_at_root(red, f, &rho, &symbol, &others)?;
+        return Ok(RootRecurrence { rec, exponent: j, symbol, meaning });
+    }
+    let msg = if why.is_empty() { "no regular singular point is a root of an irreducible quadratic factor".to_string() } else { why.join("; ") };
+    Err(usage(msg).in_option("--about"))
+}
+
 /// The recurrence about a root θ of a monic quadratic factor F of the
 /// denominators: θ is adjoined as a new symbol, F is replaced by
 /// (z − θ)(z − θ') with θ' = −F₁ − θ, the exponent at θ (`rho`, a polynomial

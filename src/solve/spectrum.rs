@@ -186,20 +186,9 @@ fn root_recurrence(
     };
     let choices = Choices { picks: picks.iter().filter(|(l, _)| l != "θ").cloned().collect(), values: Vec::new() };
     // The adjoined symbol stands for φ = c₂θ (θ itself when F is monic).
-    let c2 = f.to_univariate(0).get(2).cloned().unwrap_or_else(|| crate::algebra::Poly::int(1));
-    let monic = c2 == crate::algebra::Poly::int(1);
-    let mut name = if monic { "θ" } else { "φ" }.to_string();
-    while k.names().contains(&name) {
-        name.push('_');
-    }
+    let (name, meaning) = crate::series::root_symbol(k, f);
     let rec = crate::series::recurrence_at_root(red, f, &rho, &name, &choices)?;
-    let ftext = crate::algebra::print::poly_text(f, &crate::algebra::Int::ONE, k.names(), Style::Text);
-    let horizon = if monic {
-        format!("{name} ≈ {zr:.15}, the outer root of {ftext}")
-    } else {
-        let c2text = crate::algebra::print::poly_text(&c2, &crate::algebra::Int::ONE, k.names(), Style::Text);
-        format!("θ ≈ {zr:.15}, the outer root of {ftext}, written with {name} = {c2text}*θ")
-    };
+    let horizon = format!("θ ≈ {zr:.15}, the outer real root; the formulas use {meaning}");
     let setup = Setup {
         horizon,
         horizon_value: zr,
