@@ -187,15 +187,7 @@ struct Prepared {
 impl<'a> Ctx<'a> {
     fn new_field(&self, identity: bool) -> Result<(Field, String)> {
         let mut names = self.k0.names().to_vec();
-        let x = if identity {
-            self.var.clone()
-        } else {
-            let mut x = "x".to_string();
-            while names.contains(&x) {
-                x.push('_');
-            }
-            x
-        };
+        let x = if identity { self.var.clone() } else { crate::ode::fresh_name("x", &names) };
         names[0] = x.clone();
         Ok((Field::new(names, self.k0.limits().clone())?, x))
     }
@@ -667,15 +659,6 @@ fn bessel_prefactor(k: &Field, pf: &crate::ode::Prefactor, z0: &RatFunc) -> Resu
     Ok(format!("{t}  (up to a constant)"))
 }
 
-/// A name for the new variable that no symbol of the field uses.
-fn fresh(k: &Field) -> String {
-    let mut x = "x".to_string();
-    while k.names().contains(&x) {
-        x.push('_');
-    }
-    x
-}
-
 /// The image of z under x = (z − a)/λ.
 fn kx_map(k: &Field, z: &RatFunc, a: &RatFunc, lam: &RatFunc) -> Result<RatFunc> {
     k.div(&k.sub(z, a)?, lam)
@@ -745,7 +728,7 @@ pub fn whittaker_form(
         None => Param::Radical(RatFunc::one(), mu2.clone()),
     };
     let shift_text = if z0.is_zero() { var.to_string() } else { format!("{var} - {}", wrap(rt(k0, &z0))) };
-    let x = fresh(k0);
+    let x = crate::ode::fresh_name("x", k0.names());
     let scaled = |l: &RatFunc| if *l == RatFunc::one() { x.clone() } else { format!("{}*{x}", wrap(rt(k0, l))) };
     if a1.is_zero() {
         // Bessel: Q̃(x) = 1 + (1/4 − ν²)/x² after λ² = 1/q∞.
@@ -789,7 +772,7 @@ pub fn whittaker_form(
 /// Airy (DLMF 9.2.1, w'' = x w) and parabolic cylinder (DLMF 12.2.2,
 /// w'' − (x²/4 + a) w = 0) forms of a polynomial Q of degree 1 or 2.
 pub fn polynomial_q_form(k0: &Field, var: &str, qn: &RatFunc, prefactor: &str) -> Result<Option<Canonical>> {
-    let x = fresh(k0);
+    let x = crate::ode::fresh_name("x", k0.names());
     let Some(u) = as_upoly(k0, qn)? else { return Ok(None) };
     match u.degree() {
         Some(1) => {

@@ -115,8 +115,9 @@ pub fn lower(input: &Input<'_>, limits: &Limits, parse_limits: &ParseLimits) -> 
     }
 }
 
-/// A fresh name not among `taken`, starting from `want`.
-fn fresh_name(want: &str, taken: &[String]) -> String {
+/// A fresh name not among `taken`, starting from `want` (a trailing `_`
+/// added until it is free): the one way new symbols are named.
+pub(crate) fn fresh_name(want: &str, taken: &[String]) -> String {
     let mut name = want.to_string();
     while taken.iter().any(|t| *t == name) {
         name.push('_');

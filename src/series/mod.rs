@@ -172,10 +172,7 @@ fn recurrence_mod(
     // The series variable u and its inverse z = g(u).
     let others: Vec<&(RatFunc, &crate::analysis::SingularPoint)> = finite.iter().filter(|(at, _)| *at != zh).collect();
     let mut unames = k.names().to_vec();
-    let mut u = "u".to_string();
-    while unames.contains(&u) {
-        u.push('_');
-    }
+    let u = crate::ode::fresh_name("u", &unames);
     unames[0] = u.clone();
     let ku = Field::new(unames, k.limits().clone())?;
     let (z2, g, series_text) = match series {
@@ -310,11 +307,7 @@ fn recurrence_mod(
     // P_s(m) = A_s (m+2−s)(m+1−s) + B_{s−1}(m+2−s) + C_{s−2}.
     let smax = [au.coeffs.len(), bu.coeffs.len() + 1, cu.coeffs.len() + 2].into_iter().max().unwrap_or(0);
     let mut names = k.names().to_vec();
-    let mut n_name = "n".to_string();
-    while names.contains(&n_name) {
-        n_name.push('_');
-    }
-    names[0] = n_name;
+    names[0] = crate::ode::fresh_name("n", &names);
     let kn = Field::new(names, k.limits().clone())?;
     let nvar = kn.var(0);
     let mut ps: Vec<(usize, RatFunc)> = Vec::new();
@@ -423,11 +416,7 @@ fn parse_mobius(red: &Reduction, text: &str, zh: &RatFunc) -> Result<(Option<Rat
         return Err(usage("the series variable must vanish at the expansion point").in_option(opt));
     }
     let mut unames = k.names().to_vec();
-    let mut u = "u".to_string();
-    while unames.contains(&u) {
-        u.push('_');
-    }
-    unames[0] = u;
+    unames[0] = crate::ode::fresh_name("u", &unames);
     let ku = Field::new(unames, k.limits().clone())?;
     let uu = ku.var(0);
     // z = (d u − b)/(a − c u)
@@ -464,10 +453,7 @@ pub fn names_root(about: &str) -> bool {
 pub fn root_symbol(k: &Field, f: &Poly) -> (String, String) {
     let c2 = f.to_univariate(0).get(2).cloned().unwrap_or_else(|| Poly::int(1));
     let monic = c2 == Poly::int(1);
-    let mut name = if monic { "θ" } else { "φ" }.to_string();
-    while k.names().contains(&name) {
-        name.push('_');
-    }
+    let name = crate::ode::fresh_name(if monic { "θ" } else { "φ" }, k.names());
     let ftext = crate::algebra::print::poly_text(f, &Int::ONE, k.names(), Style::Text);
     let what = if monic {
         format!("{name}, a root of {ftext}")
