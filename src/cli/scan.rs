@@ -157,22 +157,8 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
             }
         }
     };
-    let guess = match &a.guess {
-        Some(g) => {
-            let v = super::values::parse_complex(g).ok_or_else(|| usage(format!("'{g}' is not a complex number"), "--guess", g.len()))?;
-            let (re, im) = v.to_f64();
-            Some(num_complex::Complex64::new(re, im))
-        }
-        None => None,
-    };
-    let angular_guess = match &a.couple.angular_guess {
-        Some(g) => {
-            let v = super::values::parse_complex(g).ok_or_else(|| usage(format!("'{g}' is not a complex number"), "--angular-guess", g.len()))?;
-            let (re, im) = v.to_f64();
-            Some(num_complex::Complex64::new(re, im))
-        }
-        None => None,
-    };
+    let guess = super::values::parse_seed(a.guess.as_deref(), "--guess")?;
+    let angular_guess = super::values::parse_seed(a.couple.angular_guess.as_deref(), "--angular-guess")?;
     let base = SpectrumOptions { freq, values: point, overtones: (o0, o1), tol: a.tol, guess, seeds: Vec::new() };
     // A coupled scan sets its angular problem up at the first point here, so
     // that a bad angular equation is reported against its own text before

@@ -29,7 +29,7 @@
 //! `choices`, `links`); bound-state documents `domain` and `continuum` (the
 //! edge, or null on a finite interval).
 
-use super::values::{fmt_complex, parse_assignments, parse_complex};
+use super::values::{fmt_complex, parse_assignments};
 use super::{run_command, Failure, InputArgs};
 use crate::algebra::GRat;
 use crate::error::{Error, ErrorKind};
@@ -220,14 +220,7 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     let Some(overtones) = parse_overtones(&a.overtones) else {
         return Err(usage("expected an overtone number or a range such as 0..7", "--overtones", a.overtones.len()));
     };
-    let guess = match &a.guess {
-        Some(g) => Some(parse_complex(g).ok_or_else(|| usage(format!("'{g}' is not a complex number"), "--guess", g.len()))?),
-        None => None,
-    }
-    .map(|g| {
-        let (re, im) = g.to_f64();
-        Complex64::new(re, im)
-    });
+    let guess = super::values::parse_seed(a.guess.as_deref(), "--guess")?;
     if let Some((asrc, ared)) = angular {
         let opts = SpectrumOptions { freq, values: point.clone(), overtones, tol: a.tol, guess, seeds: Vec::new() };
         return coupled(a, src, &red, opts, &fname, &values, &links, asrc, ared);
@@ -739,14 +732,7 @@ fn coupled(
         .in_option("--method")
         .into());
     }
-    let guess = match &a.couple.angular_guess {
-        Some(g) => Some(parse_complex(g).ok_or_else(|| usage(format!("'{g}' is not a complex number"), "--angular-guess", g.len()))?),
-        None => None,
-    }
-    .map(|v| {
-        let (re, im) = v.to_f64();
-        Complex64::new(re, im)
-    });
+    let guess = super::values::parse_seed(a.couple.angular_guess.as_deref(), "--angular-guess")?;
     let fixed: Vec<(String, GRat)> = values.iter().map(|(n, v, _)| (n.clone(), v.clone())).collect();
     let coupling = crate::solve::coupled::try_coupling(&red.field, ared, links, &fixed, opts.freq, a.couple.angular_index, guess)
         .map_err(|e| angular_failure(e, asrc))?;

@@ -5,6 +5,16 @@ use crate::algebra::{GRat, Rat};
 use crate::error::{Error, ErrorKind, Result};
 use crate::syntax::Span;
 
+/// A complex double given to `option` (a seed such as `--guess`), read
+/// exactly by [`parse_complex`] and rounded once; `None` when not given.
+pub(crate) fn parse_seed(text: Option<&str>, option: &str) -> Result<Option<num_complex::Complex64>> {
+    let Some(t) = text else { return Ok(None) };
+    let v = parse_complex(t)
+        .ok_or_else(|| Error::new(ErrorKind::Usage, format!("'{t}' is not a complex number")).at(Span::new(0, t.len().max(1))).in_option(option))?;
+    let (re, im) = v.to_f64();
+    Ok(Some(num_complex::Complex64::new(re, im)))
+}
+
 /// Parses `a`, `bi`, `a+bi`, `a-bi` (also with `I`, `*i`, or a bare `i`) exactly.
 pub(crate) fn parse_complex(text: &str) -> Option<GRat> {
     let t: String = text.chars().filter(|c| !c.is_whitespace()).collect();
