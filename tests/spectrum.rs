@@ -406,6 +406,13 @@ fn coupled_requests_with_bad_links_are_usage_errors() {
     let (_, code, err) = run(&args);
     assert_eq!(code, 2, "{err}");
     assert!(err.contains("without a value (c, A)"), "{err}");
+    // A linked angular parameter cannot also be given a value.
+    let mut args: Vec<&str> = base.to_vec();
+    args[3] = "M=1,a=0.5,m=2,s=-2,c=0.3";
+    args.extend(["--link", "lam = A + a^2*omega^2 - 2*a*m*omega", "--link", "c = a*omega"]);
+    let (_, code, err) = run(&args);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("'c' is set by a --link"), "{err}");
     // An angular file that cannot be read, or does not parse, is named.
     let mut args: Vec<&str> = base[..6].to_vec();
     args.extend(["--couple", "samples/no_such_angular.ode", "--link", "lam = A"]);

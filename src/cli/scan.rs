@@ -102,28 +102,13 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     given[vary] = true;
     let coupled = a.couple.read(&red.field)?;
     let links = coupled.as_ref().map(|c| c.2.clone()).unwrap_or_default();
-    for (j, l) in links.iter().enumerate().filter(|(_, l)| !l.angular) {
-        if let Some(i) = names.iter().position(|x| *x == l.target) {
-            if i == freq || i == vary {
-                return Err(Error::new(ErrorKind::Usage, format!("'{}' is solved for or varied: it cannot be linked", l.target))
-                    .at(crate::syntax::Span::new(0, l.target.len()))
-                    .in_option(&super::spectrum::link_option(j))
-                    .into());
-            }
-            given[i] = true;
-        }
+    for i in super::spectrum::linked_radial(&links, &names, &[freq, vary], "solved for or varied")? {
+        given[i] = true;
     }
     // Values of the angular equation's own parameters (not the radial one's).
     let mut angular_at: Vec<(String, GRat)> = Vec::new();
     for (n, v, span) in parse_assignments(&a.at, "--at")? {
-        if links.iter().any(|l| l.target == n) {
-            return Err(Error::new(ErrorKind::Usage, format!("'{n}' is set by a --link; it cannot also have a value"))
-                .at(span)
-                .in_option("--at")
-                .into());
-        }
-        let angular_only = coupled.as_ref().is_some_and(|c| c.1.field.names()[1..].contains(&n)) && !names[1..].contains(&n);
-        if angular_only {
+        if super::spectrum::for_angular_only(&n, span, &links, &names, coupled.as_ref().map(|c| c.1.field.names()))? {
             angular_at.push((n, v));
             continue;
         }

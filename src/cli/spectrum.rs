@@ -177,27 +177,12 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     let coupled_input = a.couple.read(k)?;
     let links = coupled_input.as_ref().map(|c| c.2.clone()).unwrap_or_default();
     let angular = coupled_input.as_ref().map(|c| (&c.0, &c.1));
-    for (j, l) in links.iter().enumerate().filter(|(_, l)| !l.angular) {
-        if let Some(i) = names.iter().position(|x| *x == l.target) {
-            if i == freq {
-                return Err(Error::new(ErrorKind::Usage, format!("'{}' is the frequency being solved for: it cannot be linked", l.target))
-                    .at(crate::syntax::Span::new(0, l.target.len()))
-                    .in_option(&link_option(j))
-                    .into());
-            }
-            given[i] = true;
-        }
+    for i in linked_radial(&links, names, &[freq], "the frequency being solved for")? {
+        given[i] = true;
     }
     for (n, v, span) in &values {
-        let in_angular = angular.as_ref().is_some_and(|(_, ared)| ared.field.names()[1..].contains(n));
-        if in_angular && !names[1..].contains(n) {
+        if for_angular_only(n, *span, &links, names, angular.map(|(_, ared)| ared.field.names()))? {
             continue;
-        }
-        if links.iter().any(|l| l.target == *n) {
-            return Err(Error::new(ErrorKind::Usage, format!("'{n}' is set by a --link; it cannot also have a value"))
-                .at(*span)
-                .in_option("--at")
-                .into());
         }
         match names.iter().skip(1).position(|x| x == n) {
             Some(i) if i + 1 == freq => {
@@ -669,6 +654,40 @@ fn bound_states(
             o
         }
     })
+}
+
+/// The radial parameters that links set; a link may not set one of
+/// `solved` (`what` says what they are).
+pub(crate) fn linked_radial(links: &[crate::solve::coupled::Link], names: &[String], solved: &[usize], what: &str) -> Result<Vec<usize>, Failure> {
+    let mut out = Vec::new();
+    for (j, l) in links.iter().enumerate().filter(|(_, l)| !l.angular) {
+        if let Some(i) = names.iter().position(|x| *x == l.target) {
+            if solved.contains(&i) {
+                return Err(Error::new(ErrorKind::Usage, format!("'{}' is {what}: it cannot be linked", l.target))
+                    .at(crate::syntax::Span::new(0, l.target.len()))
+                    .in_option(&link_option(j))
+                    .into());
+            }
+            out.push(i);
+        }
+    }
+    Ok(out)
+}
+
+/// True when an `--at` name is a parameter of the angular equation only
+/// (its value goes there); an error when a link sets it.
+pub(crate) fn for_angular_only(
+    n: &str,
+    span: crate::syntax::Span,
+    links: &[crate::solve::coupled::Link],
+    names: &[String],
+    angular_names: Option<&[String]>,
+) -> Result<bool, Failure> {
+    if links.iter().any(|l| l.target == n) {
+        return Err(Error::new(ErrorKind::Usage, format!("'{n}' is set by a --link; it cannot also have a value")).at(span).in_option("--at").into());
+    }
+    let n = n.to_string();
+    Ok(angular_names.is_some_and(|a| a[1..].contains(&n)) && !names[1..].contains(&n))
 }
 
 /// The option name a link's errors are rendered against.
