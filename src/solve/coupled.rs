@@ -42,6 +42,8 @@ pub struct Link {
     pub expr: RatFunc,
     /// True when the target is a parameter of the angular equation.
     pub angular: bool,
+    /// The target's index among the joint names.
+    pub slot: usize,
 }
 
 /// The angular eigenvalue problem: its exact recurrence about one regular
@@ -137,7 +139,8 @@ pub fn try_link(text: &str, joint: &Field, radial: &Field, angular: &Field) -> R
     if expr.uses_var(0) {
         return Err(usage(format!("a link may not depend on the variable {}", joint.names()[0])).at(crate::syntax::Span::new(eq + 1, text.len())));
     }
-    Ok(Link { target, expr, angular: angular_side })
+    let slot = joint.names().iter().position(|n| *n == target).expect("a parameter of either equation is a joint name");
+    Ok(Link { target, expr, angular: angular_side, slot })
 }
 
 /// Sets up the angular eigenvalue problem: known parameters substituted
@@ -301,8 +304,7 @@ impl<'a> Evaluator<'a> {
         v[c.freq] = w;
         for l in c.links.iter().filter(|l| l.angular) {
             let x = super::eval_at(&l.expr, &v).ok_or_else(|| format!("the link for {} has a zero denominator at ω = {w}", l.target))?;
-            let i = c.names.iter().position(|n| *n == l.target).expect("link target is a joint name");
-            v[i] = x;
+            v[l.slot] = x;
         }
         Ok(v)
     }
@@ -313,13 +315,6 @@ impl<'a> Evaluator<'a> {
     fn eigenvalue(&self, joint: &[Complex64]) -> CfRoot {
         let ang = &self.coupling.angular;
         let targets: Vec<Complex64> = ang.joint_of.iter().map(|j| joint[*j]).collect();
-        let linked: Vec<usize> = self
-            .coupling
-            .links
-            .iter()
-            .filter(|l| l.angular)
-            .map(|l| self.coupling.names.iter().position(|n| *n == l.target).expect("joint name"))
-            .collect();
         let start: (Vec<Complex64>, Complex64) = match self.last.borrow().clone() {
             Some(s) => s,
             None => {
@@ -340,7 +335,7 @@ impl<'a> Evaluator<'a> {
                 };
                 let mut zero = targets.clone();
                 for (a, j) in zero.iter_mut().zip(&ang.joint_of) {
-                    if linked.contains(j) {
+                    if self.coupling.links.iter().any(|l| l.angular && l.slot == *j) {
                         *a = Complex64::new(0.0, 0.0);
                     }
                 }
@@ -383,8 +378,7 @@ impl<'a> Evaluator<'a> {
         v[c.angular.joint_of[c.angular.eigen]] = root.omega;
         for l in c.links.iter().filter(|l| !l.angular) {
             let x = super::eval_at(&l.expr, &v).ok_or_else(|| format!("the link for {} has a zero denominator at ω = {w}", l.target))?;
-            let i = c.names.iter().position(|n| *n == l.target).expect("link target is a joint name");
-            v[i] = x;
+            v[l.slot] = x;
         }
         Ok((v, root))
     }
@@ -408,12 +402,7 @@ impl<'a> Evaluator<'a> {
     /// The evidence at a mode: the angular root and every link's value.
     pub fn evidence(&self, w: Complex64) -> Option<CoupledValue> {
         let (v, root) = self.values_at(w).ok()?;
-        let links = self
-            .coupling
-            .links
-            .iter()
-            .map(|l| (l.target.clone(), v[self.coupling.names.iter().position(|n| *n == l.target).expect("joint name")]))
-            .collect();
+        let links = self.coupling.links.iter().map(|l| (l.target.clone(), v[l.slot])).collect();
         Some(CoupledValue { eigen_name: self.coupling.angular.eigen_name.clone(), root, links })
     }
 }
