@@ -478,36 +478,40 @@ pub struct RootRecurrence {
 }
 
 /// The recurrence about the first regular singular point that is a root θ
-/// of an irreducible quadratic factor (a horizon r₊ of r² − 2Mr + a²),
-/// adjoined as a symbol (see [`root_symbol`]) placed last in the
-/// recurrence's field. The exponent there is chosen by `choices` at the
-/// label "θ" (1-based), else the first exact one.
+/// of an irreducible quadratic factor (a horizon r₊ of r² − 2Mr + a²): see
+/// [`recurrence_about_point`].
 pub fn recurrence_about_root(red: &Reduction, choices: &Choices) -> Result<RootRecurrence> {
-    let k = &red.field;
     let an = crate::analysis::analyse(red)?;
-    let mut why = Vec::new();
-    for p in &an.points {
-        let Place::Roots(f) = &p.place else { continue };
-        if p.kind != Kind::Regular || f.to_univariate(0).len() != 3 {
-            continue;
-        }
-        let exact: Vec<Option<UPoly>> = p.unknown_exponents.iter().map(|e| e.in_extension(k).ok().flatten()).collect();
-        let pick = match choices.picks.iter().find(|(l, _)| names_root(l)) {
-            Some((_, c)) => Some(c - 1).filter(|j| exact.get(*j).is_some_and(Option::is_some)),
-            None => exact.iter().position(Option::is_some),
-        };
-        let Some(j) = pick else {
-            why.push("the chosen exponent at θ is not exact in the root's field".to_string());
-            continue;
-        };
-        let rho = exact[j].clone().expect("picked exact");
-        let (symbol, meaning) = root_symbol(k, f);
-        let others = Choices { picks: choices.picks.iter().filter(|(l, _)| !names_root(l)).cloned().collect(), values: choices.values.clone() };
-        let rec = recurrence_at_root(red, f, &rho, &symbol, &others)?;
-        return Ok(RootRecurrence { rec, exponent: j, symbol, meaning });
+    let found = an.points.iter().find(|p| p.kind == Kind::Regular && matches!(&p.place, Place::Roots(f) if f.to_univariate(0).len() == 3));
+    match found {
+        Some(p) => recurrence_about_point(red, p, choices).map_err(|e| if e.is_bad_input() && e.span.is_none() { e.in_option("--about") } else { e }),
+        None => Err(usage("no regular singular point is a root of an irreducible quadratic factor").in_option("--about")),
     }
-    let msg = if why.is_empty() { "no regular singular point is a root of an irreducible quadratic factor".to_string() } else { why.join("; ") };
-    Err(usage(msg).in_option("--about"))
+}
+
+/// The recurrence about the singular point `p`, a root θ of an irreducible
+/// quadratic factor, adjoined as a symbol (see [`root_symbol`]) placed last
+/// in the recurrence's field. The exponent there is chosen by `choices` at
+/// the label "θ" (1-based), else the first exact one.
+pub fn recurrence_about_point(red: &Reduction, p: &crate::analysis::SingularPoint, choices: &Choices) -> Result<RootRecurrence> {
+    let k = &red.field;
+    let Place::Roots(f) = &p.place else { return Err(Error::new(ErrorKind::Internal, "not a root of a factor")) };
+    if f.to_univariate(0).len() != 3 {
+        return Err(usage("the expansion point must be a root of a quadratic factor"));
+    }
+    let exact: Vec<Option<UPoly>> = p.unknown_exponents.iter().map(|e| e.in_extension(k).ok().flatten()).collect();
+    let pick = match choices.picks.iter().find(|(l, _)| names_root(l)) {
+        Some((_, c)) => Some(c - 1).filter(|j| exact.get(*j).is_some_and(Option::is_some)),
+        None => exact.iter().position(Option::is_some),
+    };
+    let Some(j) = pick else {
+        return Err(usage("the chosen exponent at θ is not exact in the root's field: the series needs it"));
+    };
+    let rho = exact[j].clone().expect("picked exact");
+    let (symbol, meaning) = root_symbol(k, f);
+    let others = Choices { picks: choices.picks.iter().filter(|(l, _)| !names_root(l)).cloned().collect(), values: choices.values.clone() };
+    let rec = recurrence_at_root(red, f, &rho, &symbol, &others)?;
+    Ok(RootRecurrence { rec, exponent: j, symbol, meaning })
 }
 
 /// The recurrence about a root θ of a monic quadratic factor F of the

@@ -178,16 +178,11 @@ fn root_recurrence(
 ) -> Result<(crate::series::Recurrence, Setup)> {
     let p = &an.points[i];
     let Place::Roots(f) = &p.place else { return Err(Error::new(ErrorKind::Internal, "not a root point")) };
-    let k = &red.field;
-    let j = picks.iter().find(|(l, _)| l == "θ").map(|(_, c)| c - 1).ok_or_else(|| usage("no ingoing exponent was found at the horizon"))?;
-    let e = p.unknown_exponents.get(j).ok_or_else(|| usage("no exponent at the horizon"))?;
-    let Some(rho) = e.in_extension(k)? else {
-        return Err(usage("the horizon exponents are not exact in the root's field: the series needs them"));
-    };
-    let choices = Choices { picks: picks.iter().filter(|(l, _)| l != "θ").cloned().collect(), values: Vec::new() };
-    // The adjoined symbol stands for φ = c₂θ (θ itself when F is monic).
-    let (name, meaning) = crate::series::root_symbol(k, f);
-    let rec = crate::series::recurrence_at_root(red, f, &rho, &name, &choices)?;
+    if !picks.iter().any(|(l, _)| l == "θ") {
+        return Err(usage("no ingoing exponent was found at the horizon"));
+    }
+    let root = crate::series::recurrence_about_point(red, p, &Choices { picks: picks.to_vec(), values: Vec::new() })?;
+    let (rec, j, meaning) = (root.rec, root.exponent, root.meaning);
     let horizon = format!("θ ≈ {zr:.15}, the outer real root; the formulas use {meaning}");
     let setup = Setup {
         horizon,
