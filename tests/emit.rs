@@ -41,33 +41,25 @@ fn canonode(args: &[&str]) -> (i32, String, String) {
     (out.status.code().unwrap_or(-1), String::from_utf8_lossy(&out.stdout).into_owned(), String::from_utf8_lossy(&out.stderr).into_owned())
 }
 
-/// Deterministic pseudo-random dyadic rationals k/16, |k| ≤ 48 (exact as doubles, so
-/// the compiled code and the exact evaluation see the same point).
-struct Rng(u64);
+mod common;
+use common::Rng;
 
-impl Rng {
-    fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
-        self.0 >> 33
-    }
-    fn dyadic(&mut self) -> Rat {
-        let k = (self.next() % 97) as i64 - 48;
-        Rat::new(Int::from(k), Int::from(16)).unwrap()
-    }
-    fn point(&mut self, n: usize) -> Vec<GRat> {
-        (0..n).map(|_| GRat { re: self.dyadic(), im: self.dyadic() }).collect()
-    }
+/// A deterministic pseudo-random point of dyadic rationals k/16, |k| ≤ 48 (exact
+/// as doubles, so the compiled code and the exact evaluation see the same point).
+fn random_point(rng: &mut Rng, n: usize) -> Vec<GRat> {
+    let mut dyadic = || Rat::new(Int::from(rng.range(-48, 48)), Int::from(16)).unwrap();
+    (0..n).map(|_| GRat { re: dyadic(), im: dyadic() }).collect()
 }
 
 /// Points where every output is finite and not tiny or huge (away from poles and zeros).
 fn points(outputs: &[RatFunc], nvars: usize, count: usize, seed: u64) -> Vec<(Vec<GRat>, Vec<(f64, f64)>)> {
-    let mut rng = Rng(seed);
+    let mut rng = Rng::new(seed);
     let mut out = Vec::new();
     let mut tries = 0;
     while out.len() < count {
         tries += 1;
         assert!(tries < 10_000, "no usable points");
-        let x = rng.point(nvars);
+        let x = random_point(&mut rng, nvars);
         let vals: Option<Vec<(f64, f64)>> = outputs.iter().map(|r| r.eval(&x).map(|v| v.to_f64())).collect();
         let Some(vals) = vals else { continue };
         if vals.iter().all(|(a, b)| (a.hypot(*b)) > 1e-6 && a.hypot(*b) < 1e12) {

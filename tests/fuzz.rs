@@ -21,42 +21,14 @@ use std::path::Path;
 use std::sync::mpsc;
 use std::time::{Duration, Instant};
 
+mod common;
+use common::Rng;
+
 /// A case taking longer than this is reported as a hang.
 const HANG_BOUND: Duration = Duration::from_secs(5);
 
 /// The stack of each worker thread; the binary uses a large one for the same reason.
 const STACK: usize = 256 << 20;
-
-/// xorshift64* (Vigna), enough for test-case generation.
-struct Rng(u64);
-
-impl Rng {
-    fn new(seed: u64) -> Rng {
-        Rng(seed.max(1))
-    }
-    fn next(&mut self) -> u64 {
-        let mut x = self.0;
-        x ^= x >> 12;
-        x ^= x << 25;
-        x ^= x >> 27;
-        self.0 = x;
-        x.wrapping_mul(0x2545_F491_4F6C_DD1D)
-    }
-    /// Uniform in 0..n (n > 0).
-    fn below(&mut self, n: usize) -> usize {
-        (self.next() % n as u64) as usize
-    }
-    /// Uniform in lo..=hi.
-    fn range(&mut self, lo: i64, hi: i64) -> i64 {
-        lo + (self.next() % (hi - lo + 1) as u64) as i64
-    }
-    fn chance(&mut self, percent: usize) -> bool {
-        self.below(100) < percent
-    }
-    fn pick<'a, T>(&mut self, items: &'a [T]) -> &'a T {
-        &items[self.below(items.len())]
-    }
-}
 
 /// One input to `reduce`.
 #[derive(Clone, Debug)]
@@ -242,7 +214,7 @@ const PRELUDES: &[&str] = &["", "", "var r\n", "var r\nparam a, M\n", "var z\npa
 fn grammatical(rng: &mut Rng, depth: u32) -> String {
     const ATOMS: &[&str] =
         &["r", "r", "a", "M", "y", "y", "f", "k", "I", "1", "2", "0", "0.5", "1e-3", "7/3", "1e30", "1e-300", "(r - r)", "(2*M - r)"];
-    if depth == 0 || rng.chance(20) {
+    if depth == 0 || rng.chance(20, 100) {
         let atom = rng.pick(ATOMS).to_string();
         return match rng.below(6) {
             0 => format!("{atom}'"),
@@ -268,26 +240,26 @@ fn grammatical(rng: &mut Rng, depth: u32) -> String {
 /// A program around grammatical expressions, with statements in a random order and number.
 fn grammatical_program(rng: &mut Rng) -> Case {
     let mut lines: Vec<String> = vec!["var r".into(), "param a, M".into()];
-    if rng.chance(60) {
+    if rng.chance(60, 100) {
         lines.push(format!("let f = {}", grammatical(rng, 3)));
     }
-    if rng.chance(10) {
+    if rng.chance(10, 100) {
         lines.push(rng.pick(&["unknown y", "unknown f", "var x", "param a", "let g = f", "unknown z"]).to_string());
     }
     let depth = rng.range(1, 5) as u32;
     let lhs = grammatical(rng, depth);
-    let rhs = if rng.chance(70) { "0".to_string() } else { grammatical(rng, 3) };
+    let rhs = if rng.chance(70, 100) { "0".to_string() } else { grammatical(rng, 3) };
     lines.push(format!("ode {}y'' + {lhs} = {rhs}", rng.pick(&["", "f*", "r*", "(r - 2*M)*", "0*"])));
-    if rng.chance(20) {
+    if rng.chance(20, 100) {
         let i = rng.below(lines.len());
         let j = rng.below(lines.len());
         lines.swap(i, j);
     }
-    Case::program("grammatical".into(), lines.join(if rng.chance(10) { ";" } else { "\n" }))
+    Case::program("grammatical".into(), lines.join(if rng.chance(10, 100) { ";" } else { "\n" }))
 }
 
 fn soup(rng: &mut Rng) -> Case {
-    if rng.chance(40) {
+    if rng.chance(40, 100) {
         return grammatical_program(rng);
     }
     let mut s = rng.pick(PRELUDES).to_string();
@@ -296,7 +268,7 @@ fn soup(rng: &mut Rng) -> Case {
     let mut body = String::new();
     for _ in 0..n {
         body.push_str(*rng.pick(TOKENS));
-        if rng.chance(30) {
+        if rng.chance(30, 100) {
             body.push(' ');
         }
     }
@@ -311,7 +283,7 @@ fn soup(rng: &mut Rng) -> Case {
         // A let of soup, then a plausible ode using it.
         _ => s.push_str(&format!("let g = {body}\node y'' + g*y = 0\n")),
     }
-    if rng.chance(15) {
+    if rng.chance(15, 100) {
         // The same soup as an inline equation.
         return Case { label: "soup/inline".into(), text: body, inline_var: Some("r".into()), at_infinity: false };
     }
@@ -455,7 +427,7 @@ fn mutation_case(rng: &mut Rng, name: &str, text: &str) -> Case {
         ops.push(mutate(rng, &mut tokens));
     }
     let mut case = Case::program(format!("{name} [{}]", ops.join(", ")), tokens.concat());
-    case.at_infinity = rng.chance(10);
+    case.at_infinity = rng.chance(10, 100);
     case
 }
 
@@ -487,7 +459,7 @@ impl E {
                     } else {
                         n.to_string()
                     }
-                } else if *d == 4 && rng.chance(50) {
+                } else if *d == 4 && rng.chance(50, 100) {
                     // An exact decimal: n/4 with two digits.
                     let v = *n as f64 / 4.0;
                     if v < 0.0 {
@@ -587,7 +559,7 @@ fn nonzero(rng: &mut Rng, nsyms: usize) -> E {
 
 /// Any expression (possibly identically zero), with nonzero denominators.
 fn any(rng: &mut Rng, nsyms: usize, depth: u32) -> E {
-    if depth == 0 || rng.chance(25) {
+    if depth == 0 || rng.chance(25, 100) {
         return match rng.below(3) {
             0 => E::Num(rng.range(-9, 9), *rng.pick(&[1, 1, 2, 3, 4])),
             _ => E::Sym(rng.below(nsyms)),
@@ -813,8 +785,11 @@ fn links_between_equations_never_panic() {
     let mut rng = Rng::new(0x5EED_1111);
     let (mut ok, mut err) = (0, 0);
     for _ in 0..400 {
-        let body =
-            if rng.chance(70) { grammatical(&mut rng, 3).replace('y', "A").replace('f', "omega").replace('k', "m") } else { soup(&mut rng).text };
+        let body = if rng.chance(70, 100) {
+            grammatical(&mut rng, 3).replace('y', "A").replace('f', "omega").replace('k', "m")
+        } else {
+            soup(&mut rng).text
+        };
         let text = match rng.below(4) {
             0 => body.clone(),
             _ => format!("{} = {body}", rng.pick(&targets)),

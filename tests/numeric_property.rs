@@ -23,40 +23,9 @@ use canonode::error::ErrorKind;
 use canonode::ode::{reduce, Input, ReduceOptions};
 use num_complex::Complex64;
 
-// ------------------------------------------------------------------------
 // Deterministic PRNG (xorshift64*, Vigna 2016; common practice).
-// ------------------------------------------------------------------------
-
-struct Rng(u64);
-
-impl Rng {
-    fn next(&mut self) -> u64 {
-        let mut x = self.0;
-        x ^= x >> 12;
-        x ^= x << 25;
-        x ^= x >> 27;
-        self.0 = x;
-        x.wrapping_mul(0x2545_f491_4f6c_dd1d)
-    }
-    /// Uniform in lo..=hi.
-    fn range(&mut self, lo: i64, hi: i64) -> i64 {
-        lo + (self.next() % ((hi - lo + 1) as u64)) as i64
-    }
-    fn nonzero(&mut self, lo: i64, hi: i64) -> i64 {
-        loop {
-            let v = self.range(lo, hi);
-            if v != 0 {
-                return v;
-            }
-        }
-    }
-    fn chance(&mut self, num: u64, den: u64) -> bool {
-        self.next() % den < num
-    }
-    fn pick<'a, T>(&mut self, items: &'a [T]) -> &'a T {
-        &items[(self.next() % items.len() as u64) as usize]
-    }
-}
+mod common;
+use common::Rng;
 
 // ------------------------------------------------------------------------
 // Truncated Taylor series in the variable: c[k] is the k-th coefficient.
@@ -481,7 +450,7 @@ const CASES: usize = 200;
 const POINTS: usize = 3;
 
 fn run_cases() -> Outcome {
-    let mut rng = Rng(0x9e37_79b9_7f4a_7c15);
+    let mut rng = Rng::new(0x9e37_79b9_7f4a_7c15);
     let mut out = Outcome { failures: Vec::new(), limit_errors: Vec::new(), checked_cases: 0, checked_points: 0 };
     for index in 0..CASES {
         let case = make_case(&mut rng, index);
