@@ -427,6 +427,35 @@ fn coupled_requests_with_bad_links_are_usage_errors() {
     assert!(err.contains("samples/bessel.ode") && err.contains("exactly two"), "{err}");
 }
 
+/// The j-th eigenvalue A of the spin-weighted spheroidal sample with spin
+/// weight s and azimuthal number m, by the coupled solve's angular continued
+/// fraction: its exact value at c = 0 (the terminating series) and its value
+/// at `c`, reached in 8 continuation steps, each asserted converged.
+fn spheroidal_eigenvalue(s: i64, m: i64, j: usize, c: num_complex::Complex64) -> (num_complex::Complex64, num_complex::Complex64) {
+    use canonode::algebra::{GRat, Rat};
+    use canonode::ode::{reduce, Input, ReduceOptions};
+    let src = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/spheroidal_spin_weighted.ode")).unwrap();
+    let red = reduce(&Input::Program(&src), &ReduceOptions::default()).unwrap();
+    let names = red.field.names().to_vec();
+    let idx = |n: &str| names.iter().position(|x| x == n).unwrap();
+    let mut known: Vec<Option<GRat>> = vec![None; names.len()];
+    known[idx("s")] = Some(GRat::real(Rat::int(s.into())));
+    known[idx("m")] = Some(GRat::real(Rat::int(m.into())));
+    let ang = canonode::solve::coupled::try_angular(&red, &known, &[idx("c")], j, (0..names.len()).collect()).unwrap();
+    let seed = ang.seed.clone().expect("terminating at c = 0").0;
+    let mut vals = vec![num(0.0, 0.0); names.len()];
+    vals[idx("s")] = num(s as f64, 0.0);
+    vals[idx("m")] = num(m as f64, 0.0);
+    let mut a = seed;
+    for step in 1..=8 {
+        vals[idx("c")] = c * (step as f64 / 8.0);
+        let r = ang.eigenvalue_at(&vals, a, 1e-13);
+        assert!(r.converged, "s={s} m={m} j={j} step {step}: {r:?}");
+        a = r.omega;
+    }
+    (seed, a)
+}
+
 #[test]
 fn spheroidal_eigenvalue_by_its_continued_fraction_matches_collocation() {
     // The angular eigenvalue of the coupled solve, alone: the spin-weighted
@@ -435,15 +464,6 @@ fn spheroidal_eigenvalue_by_its_continued_fraction_matches_collocation() {
     // eigenvalues λ₁,₁ = 2.195548…, λ₁,₂ = 6.424699… (Abramowitz & Stegun
     // table 21.1, from memory) are computed here independently by Chebyshev
     // collocation on the same equation written out by hand.
-    use canonode::algebra::{GRat, Rat};
-    use canonode::ode::{reduce, Input, ReduceOptions};
-    let src = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/spheroidal_spin_weighted.ode")).unwrap();
-    let red = reduce(&Input::Program(&src), &ReduceOptions::default()).unwrap();
-    let names = red.field.names().to_vec();
-    let idx = |n: &str| names.iter().position(|x| x == n).unwrap();
-    let mut known: Vec<Option<GRat>> = vec![None; names.len()];
-    known[idx("s")] = Some(GRat::zero());
-    known[idx("m")] = Some(GRat::real(Rat::int(1.into())));
     let prolate = "var x\nparam A\node ((1 - x^2)*S')' + (A - x^2 - 1/(1 - x^2))*S = 0\n";
     let path = std::env::temp_dir().join(format!("canonode_prolate_{}.ode", std::process::id()));
     std::fs::write(&path, prolate).unwrap();
@@ -454,19 +474,10 @@ fn spheroidal_eigenvalue_by_its_continued_fraction_matches_collocation() {
     let colloc: Vec<f64> = v["modes"].as_array().unwrap().iter().map(|m| omega(m).0).collect();
     assert!((colloc[0] - 2.195548).abs() < 1e-6 && (colloc[1] - 6.424699).abs() < 1e-6, "{colloc:?}");
     for j in 0..3 {
-        let ang = canonode::solve::coupled::try_angular(&red, &known, &[idx("c")], j, (0..names.len()).collect()).unwrap();
         // From the exact Legendre value at c = 0, continued to c = i in steps.
-        let mut a = ang.seed.clone().expect("terminating at c = 0").0;
+        let (seed, a) = spheroidal_eigenvalue(0, 1, j, num(0.0, 1.0));
         let l = (j + 1) as f64;
-        assert!((a.re - l * (l + 1.0)).abs() < 1e-12 && a.im.abs() < 1e-12, "c = 0: {a}");
-        let mut vals = vec![num(0.0, 0.0); names.len()];
-        for step in 1..=8 {
-            vals[idx("c")] = num(0.0, step as f64 / 8.0);
-            vals[idx("m")] = num(1.0, 0.0);
-            let r = ang.eigenvalue_at(&vals, a, 1e-13);
-            assert!(r.converged, "j={j} step {step}: {r:?}");
-            a = r.omega;
-        }
+        assert!((seed.re - l * (l + 1.0)).abs() < 1e-12 && seed.im.abs() < 1e-12, "c = 0: {seed}");
         assert!((a.re - colloc[j]).abs() < 1e-10 * colloc[j] && a.im.abs() < 1e-10, "j={j}: {a} vs collocation {}", colloc[j]);
     }
 }
@@ -583,31 +594,8 @@ fn spheroidal_eigenvalue_mirror_symmetry_and_counter_rotating_kerr_mode() {
     // with m = −2 the series point x = −1 has a double exponent and β₀
     // vanishes beside the eigenvalue; the undivided continued fraction is
     // needed there.
-    use canonode::algebra::{GRat, Rat};
-    use canonode::ode::{reduce, Input, ReduceOptions};
-    let src = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/spheroidal_spin_weighted.ode")).unwrap();
-    let red = reduce(&Input::Program(&src), &ReduceOptions::default()).unwrap();
-    let names = red.field.names().to_vec();
-    let idx = |n: &str| names.iter().position(|x| x == n).unwrap();
-    let eigen = |m: i64, c: num_complex::Complex64| {
-        let mut known: Vec<Option<GRat>> = vec![None; names.len()];
-        known[idx("s")] = Some(GRat::real(Rat::int((-2).into())));
-        known[idx("m")] = Some(GRat::real(Rat::int(m.into())));
-        let ang = canonode::solve::coupled::try_angular(&red, &known, &[idx("c")], 0, (0..names.len()).collect()).unwrap();
-        let mut a = ang.seed.clone().unwrap().0;
-        let mut vals = vec![num(0.0, 0.0); names.len()];
-        vals[idx("s")] = num(-2.0, 0.0);
-        vals[idx("m")] = num(m as f64, 0.0);
-        for step in 1..=8 {
-            vals[idx("c")] = c * (step as f64 / 8.0);
-            let r = ang.eigenvalue_at(&vals, a, 1e-13);
-            assert!(r.converged, "m={m} step {step}: {r:?}");
-            a = r.omega;
-        }
-        a
-    };
     let c = num(0.45, -0.12);
-    let (plus, minus) = (eigen(2, -c), eigen(-2, c));
+    let (plus, minus) = (spheroidal_eigenvalue(-2, 2, 0, -c).1, spheroidal_eigenvalue(-2, -2, 0, c).1);
     assert!((plus - minus).norm() < 1e-11, "{plus} vs {minus}");
     // The counter-rotating l = 2, m = −2 mode converges and its radial check agrees.
     let ms = modes("teukolsky_radial", "M=1,a=0.7,m=-2,s=-2", "0", &[KERR_COUPLING, &["--guess", "0.35-0.09i"]].concat());
