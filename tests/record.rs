@@ -94,10 +94,15 @@ fn digest_is_sha256_of_the_source_bytes() {
     assert_eq!(rec.get("source.sha256"), Some(canonode::record::sha256_hex(text.as_bytes()).as_str()));
 }
 
+/// The record of `samples/NAME` with default options.
+fn sample_record(name: &str) -> Record {
+    let text = std::fs::read_to_string(root().join("samples").join(name)).expect("the sample");
+    derive(&text, name, &ReduceOptions::default()).unwrap_or_else(|e| panic!("{name}: {}", e.message))
+}
+
 #[test]
 fn record_contents_of_published_equations() {
-    let text = std::fs::read_to_string(root().join("samples/regge_wheeler.ode")).expect("the sample");
-    let rec = derive(&text, "regge_wheeler.ode", &ReduceOptions::default()).expect("Regge–Wheeler derives");
+    let rec = sample_record("regge_wheeler.ode");
     // Regge–Wheeler is a confluent Heun equation: regular points r = 0, 2M and rank 1 at ∞
     // (common practice; DLMF 31.12.1 for the form).
     assert_eq!(rec.get("class"), Some("confluent-heun"));
@@ -149,8 +154,7 @@ fn a_horizon_at_a_quadratic_root_gets_its_recurrence() {
     // and holds the three-term recurrence of Leaver 1985 (Kerr radial
     // series in u = (r − r₊)/(r − r₋)), free of the common factor of the
     // parameters.
-    let src = std::fs::read_to_string(root().join("samples/teukolsky_radial.ode")).expect("sample");
-    let rec = derive(&src, "teukolsky_radial.ode", &ReduceOptions::default()).expect("derived");
+    let rec = sample_record("teukolsky_radial.ode");
     assert_eq!(rec.get("recurrence.about"), Some("r = θ, a root of r^2 - 2*M*r + a^2"));
     assert_eq!(rec.get("recurrence.series"), Some("u=(r - (θ))/(r - (2*M - θ))"));
     assert_eq!(rec.get("recurrence.equation"), Some("c0(n)*a[n+1] + c1(n)*a[n] + c2(n)*a[n-1] = 0"));
