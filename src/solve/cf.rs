@@ -278,23 +278,16 @@ impl CfRoot {
     }
 }
 
-/// The k-th inversion of the continued fraction at ω with truncation depth N,
-/// divided by β_k; `None` where a denominator vanishes.
-pub fn cf_function(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<Complex64> {
-    cf_parts(rec, w, k, depth).map(|(f, bk)| if bk.norm() > 0.0 { f / bk } else { f })
-}
-
-/// The k-th inversion itself, not divided by β_k: for an eigenvalue where
-/// β_k vanishes next to the root (an angular eigenvalue near the point where
-/// the series terminates), where the divided form has a pole beside its zero.
-pub fn cf_function_unscaled(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<Complex64> {
-    cf_parts(rec, w, k, depth).map(|(f, _)| f)
-}
-
-/// The k-th inversion f and β_k.
-fn cf_parts(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<(Complex64, Complex64)> {
+/// The k-th inversion of the continued fraction at ω with truncation depth
+/// N, f = β_k + α_k r_k + γ_k / r_{k−1} (its zeros are the eigenvalues), and
+/// β_k, the scale its residual is reported against; `None` where a
+/// denominator vanishes. The root is sought on f itself, not on f/β_k:
+/// β_k can vanish next to a root (an angular eigenvalue continued from the
+/// point where its series terminates), where the quotient has a pole beside
+/// its zero.
+pub fn inversion(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<(Complex64, Complex64)> {
     if rec.terms.len() > 3 {
-        return cf_parts_reduced(rec, w, k, depth);
+        return inversion_reduced(rec, w, k, depth);
     }
     if rec.terms.len() != 3 {
         return None;
@@ -348,7 +341,7 @@ fn cf_parts(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option
 /// (E. W. Leaver, Phys. Rev. D 41 (1990) 2986), then the three-term
 /// continued fraction on the reduced coefficients, with a tail from the
 /// reduced recurrence at the truncation depth (r ≈ r_N ≈ r_{N−1}).
-fn cf_parts_reduced(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<(Complex64, Complex64)> {
+fn inversion_reduced(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<(Complex64, Complex64)> {
     let depth = depth.max(k + 2);
     let kk = rec.terms.len();
     let polys: Vec<Vec<Complex64>> = rec.terms.iter().map(|t| t.at_omega(w)).collect();
@@ -415,7 +408,7 @@ pub fn find_root(rec: &NumRecurrence, k: usize, seed: Complex64, tol: f64, depth
         return CfRoot::failed(seed, k, StopReason::NotThreeTerm);
     }
     find_root_by(
-        &|w, depth| cf_function(rec, w, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string()),
+        &|w, depth| inversion(rec, w, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string()),
         k,
         seed,
         tol,
@@ -424,12 +417,13 @@ pub fn find_root(rec: &NumRecurrence, k: usize, seed: Complex64, tol: f64, depth
     )
 }
 
-/// [`find_root`] on any function of (ω, truncation depth): the k-th
-/// inversion of a continued fraction whose coefficients themselves depend on
-/// ω through another solve (coupled equations). An `Err` names why the
-/// function could not be evaluated.
+/// [`find_root`] on any function of (ω, truncation depth) giving the value
+/// whose root is sought and the scale its residual is reported against (as
+/// [`inversion`] does): the k-th inversion of a continued fraction whose
+/// coefficients themselves depend on ω through another solve (coupled
+/// equations). An `Err` names why the function could not be evaluated.
 pub fn find_root_by(
-    f_at: &dyn Fn(Complex64, usize) -> std::result::Result<Complex64, String>,
+    f_at: &dyn Fn(Complex64, usize) -> std::result::Result<(Complex64, Complex64), String>,
     k: usize,
     seed: Complex64,
     tol: f64,
@@ -445,7 +439,7 @@ pub fn find_root_by(
     // ones, at doubled depth, from a spread of the size of the last change.
     let mut spread = 1e-3;
     loop {
-        let f = |x: Complex64| f_at(x, depth);
+        let f = |x: Complex64| f_at(x, depth).map(|(v, _)| v);
         let (root, iters, stop) = super::roots::muller(&f, w, spread, inner_tol, 200);
         if let Err(why) = stop {
             let mut r = fail(if why.starts_with("no convergence") { StopReason::RootIterations } else { StopReason::Rejected(why) });
@@ -457,7 +451,7 @@ pub fn find_root_by(
         if let Some(p) = prev {
             let change = (root - p).norm();
             if change <= tol * root.norm() {
-                let res = f_at(root, depth).map(|v| v.norm()).unwrap_or(f64::NAN);
+                let res = f_at(root, depth).map(|(v, scale)| if scale.norm() > 0.0 { (v / scale).norm() } else { v.norm() }).unwrap_or(f64::NAN);
                 return CfRoot {
                     omega: root,
                     converged: true,

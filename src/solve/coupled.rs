@@ -16,7 +16,7 @@
 //! linked separation constant: one complex function of ω whose root is the
 //! mode, as in Leaver 1985.
 
-use super::cf::{cf_function, cf_function_unscaled, find_root_by, try_numeric_at, CfRoot};
+use super::cf::{find_root, find_root_by, inversion, try_numeric_at, CfRoot};
 use super::spectrum::{Mode, Setup, SpectrumOptions};
 use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::{Field, GRat, RatFunc};
@@ -246,14 +246,7 @@ impl Angular {
     /// field; the eigenvalue's entry is ignored), from `seed`.
     pub fn eigenvalue_at(&self, values: &[Complex64], seed: Complex64, tol: f64) -> CfRoot {
         match try_numeric_at(&self.rec, values, self.eigen) {
-            // Undivided: β_k vanishes at the terminating point the
-            // continuation starts from, next to the root.
-            Ok(num) => {
-                let f = |w: Complex64, depth: usize| {
-                    cf_function_unscaled(&num, w, self.index, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string())
-                };
-                find_root_by(&f, self.index, seed, tol, 16, 1 << 14)
-            }
+            Ok(num) => find_root(&num, self.index, seed, tol, 16, 1 << 14),
             Err(e) => CfRoot {
                 omega: seed,
                 converged: false,
@@ -384,8 +377,8 @@ impl<'a> Evaluator<'a> {
     }
 
     /// The radial continued fraction's k-th inversion at ω with the linked
-    /// separation constant.
-    pub fn radial(&self, w: Complex64, k: usize, depth: usize) -> std::result::Result<Complex64, String> {
+    /// separation constant, with β_k (as [`inversion`]).
+    pub fn radial(&self, w: Complex64, k: usize, depth: usize) -> std::result::Result<(Complex64, Complex64), String> {
         let (v, _) = self.values_at(w)?;
         let mut vals = self.radial_values.clone();
         for (j, r) in self.radial_of.iter().enumerate() {
@@ -396,7 +389,7 @@ impl<'a> Evaluator<'a> {
             }
         }
         let num = try_numeric_at(self.rec, &vals, self.radial_freq).map_err(|e| e.message)?;
-        cf_function(&num, w, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string())
+        inversion(&num, w, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string())
     }
 
     /// The evidence at a mode: the angular root and every link's value.
