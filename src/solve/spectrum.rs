@@ -63,6 +63,9 @@ pub struct Setup {
     /// When the horizon is a root θ of a quadratic factor: the factor, θ's
     /// value and the index of the chosen exponent.
     pub theta: Option<(crate::algebra::Poly, f64, usize)>,
+    /// The analysis the choices were made from (the integration check reads
+    /// the same exponents and formal solutions).
+    pub analysis: crate::analysis::Analysis,
 }
 
 fn usage(msg: impl Into<String>) -> Error {
@@ -111,7 +114,7 @@ pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate:
         }
     }
     if let Some((zr, i)) = best_root.filter(|(zr, _)| best.as_ref().is_none_or(|(b, _)| *zr > *b)) {
-        return root_recurrence(red, &an, i, zr, &picks, said);
+        return root_recurrence(red, an, i, zr, &picks, said);
     }
     let Some((horizon_value, horizon)) = best else {
         return Err(usage("no horizon-like regular point: the quasinormal-mode series needs one"));
@@ -161,6 +164,7 @@ pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate:
         terms: rec.coeffs.len(),
         picks,
         theta: None,
+        analysis: an,
     };
     Ok((rec, setup))
 }
@@ -170,7 +174,7 @@ pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate:
 /// reduced modulo its relation; `Setup::theta` carries its numeric value.
 fn root_recurrence(
     red: &Reduction,
-    an: &crate::analysis::Analysis,
+    an: crate::analysis::Analysis,
     i: usize,
     zr: f64,
     picks: &[(String, usize)],
@@ -192,6 +196,7 @@ fn root_recurrence(
         terms: rec.coeffs.len(),
         picks: picks.to_vec(),
         theta: Some((f.clone(), zr, j)),
+        analysis: an.clone(),
     };
     Ok((rec, setup))
 }
@@ -388,7 +393,7 @@ pub fn integration_check<'a>(
     setup: &Setup,
 ) -> Result<impl Fn(Complex64) -> super::integrate::IntRoot + 'a> {
     let k = &red.field;
-    let an = analyse(red)?;
+    let an = &setup.analysis;
     let ode = super::try_num_ode(k, &red.p, &red.q, &opts.values, opts.freq)?;
     let find = |label: &str| setup.picks.iter().find(|(p, _)| p == label).map(|(_, c)| c - 1);
     let text = |at: &crate::algebra::RatFunc| ratfunc_text(at, k.names(), Style::Text);
