@@ -33,6 +33,7 @@ use super::values::{fmt_complex, parse_assignments};
 use super::{run_command, Failure, InputArgs};
 use crate::algebra::GRat;
 use crate::error::{Error, ErrorKind};
+use crate::solve::boundary::{Condition, Location, SpectrumKind};
 use crate::solve::spectrum::SpectrumOptions;
 use clap::{Args, ValueEnum};
 use num_complex::Complex64;
@@ -46,6 +47,17 @@ pub(crate) enum SpecFormat {
     Json,
     /// One line per mode.
     Csv,
+}
+
+/// Kinds of spectrum.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub(crate) enum ProblemArg {
+    /// Quasinormal modes: the wave leaves the domain through both ends (ingoing at horizons, outgoing at an irregular infinity, normalisable at a regular boundary).
+    Qnm,
+    /// Bound states: normalisable at both ends (real eigenvalues).
+    Bound,
+    /// Quasi-bound states: ingoing at the horizon, decaying at an irregular infinity (massive fields).
+    QuasiBound,
 }
 
 /// Methods.
@@ -72,7 +84,13 @@ pub(crate) struct SpectrumArgs {
     input: InputArgs,
     /// The boundary problem.
     #[arg(long = "boundary", value_enum, default_value = "qnm")]
-    boundary: super::classify::BoundaryArg,
+    boundary: ProblemArg,
+    /// The two ends of the domain and their conditions, 'LEFT..RIGHT', each end
+    /// a number (a real singular point, matched numerically) or 'inf', with an
+    /// optional ':CONDITION' (into, out-of, outgoing, decaying, normalisable,
+    /// slower); default: from the outermost horizon to the next singular end outward.
+    #[arg(long = "ends", value_name = "LEFT..RIGHT", allow_hyphen_values = true)]
+    ends: Option<String>,
     /// Values of every parameter except the frequency, e.g. 'M=1,l=2,s=2'.
     #[arg(long = "at", value_name = "NAME=VALUE,...")]
     at: String,
@@ -161,8 +179,17 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     let red = crate::ode::reduce(&src.input(), &a.input.options())?;
     let k = &red.field;
     let names = k.names();
-    let defaults: &[&str] = if a.boundary == super::classify::BoundaryArg::Bound { &["E", "omega", "ω", "w"] } else { &["omega", "ω", "w"] };
-    let fname = a.input_frequency().or_else(|| defaults.iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
+    let defaults: &[&str] = if a.boundary == ProblemArg::Bound { &["E", "omega", "ω", "w"] } else { &["omega", "ω", "w"] };
+    // The spectral parameter: named by --frequency, or the one parameter
+    // without a value in --at (any name), or a conventional name.
+    let inferred = if a.couple.couple.is_none() {
+        let given: Vec<String> = parse_assignments(&a.at, "--at")?.into_iter().map(|(n, _, _)| n).collect();
+        let open: Vec<&String> = names.iter().skip(1).filter(|n| !given.contains(n)).collect();
+        (open.len() == 1).then(|| open[0].clone())
+    } else {
+        None
+    };
+    let fname = a.input_frequency().or(inferred).or_else(|| defaults.iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
     let Some(fname) = fname else {
         return Err(Error::new(ErrorKind::Usage, "no frequency parameter: name it with --frequency").into());
     };
@@ -212,7 +239,7 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     }
     // Exact values for every other parameter: horizons often become rational points.
     let red = crate::solve::spectrum::substitute(&red, &point, freq)?;
-    if a.boundary == super::classify::BoundaryArg::Bound {
+    if a.boundary == ProblemArg::Bound {
         return bound_states(a, &red, &fname, freq, point, overtones, src);
     }
     if a.method == Method::Collocation {
@@ -223,9 +250,198 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         .in_option("--method")
         .into());
     }
+    let kind = if a.boundary == ProblemArg::QuasiBound { SpectrumKind::QuasiBound } else { SpectrumKind::Quasinormal };
+    let given_ends = match &a.ends {
+        Some(t) => Some(parse_ends(t)?),
+        None => None,
+    };
+    let problem = crate::solve::boundary::try_problem(&red.field, &red.normal.q, &point, freq, kind, given_ends);
+    // The exact continued-fraction route covers a horizon and an irregular
+    // infinity with the default conditions; every other problem (and one the
+    // exact route cannot set up) goes to direct integration between its ends.
+    let classic = kind == SpectrumKind::Quasinormal
+        && a.ends.is_none()
+        && problem.as_ref().map_or(true, |bp| {
+            bp.ends[0].nature == crate::solve::boundary::Nature::Horizon && bp.ends[1].nature == crate::solve::boundary::Nature::IrregularRank1
+        });
     let opts = SpectrumOptions { freq, values: point, overtones, tol: a.tol, guess, seeds: Vec::new() };
-    let (rec, setup0) = crate::solve::spectrum::qnm_recurrence(&red, &opts)?;
-    let estimates = crate::solve::spectrum::barrier_estimates(&red, &opts, setup0.horizon_value).ok();
+    if classic {
+        match classic_qnm(a, src, &red, &opts, &fname) {
+            Err(Failure::Lib(e)) if e.kind == ErrorKind::Usage && problem.is_ok() && a.method == Method::Auto => {
+                let bp = problem?;
+                let note = format!("the continued fraction could not be set up ({}); direct integration between the ends instead", e.message);
+                return Ok(between_ends(a, src, &red.var, &bp, &opts, &fname, Some(note)));
+            }
+            other => return other,
+        }
+    }
+    if !matches!(a.method, Method::Auto | Method::Integrate) {
+        return Err(Error::new(
+            ErrorKind::Usage,
+            "this boundary problem is solved by direct integration between its ends: use --method auto or integrate",
+        )
+        .in_option("--method")
+        .into());
+    }
+    let bp = problem?;
+    Ok(between_ends(a, src, &red.var, &bp, &opts, &fname, None))
+}
+
+/// Reads `--ends 'LEFT[:COND]..RIGHT[:COND]'`.
+fn parse_ends(text: &str) -> Result<[(Location, Option<Condition>); 2], Failure> {
+    let bad = |msg: String| -> Failure { usage(msg, "--ends", text.len()) };
+    let Some((l, r)) = text.split_once("..") else {
+        return Err(bad("expected LEFT..RIGHT, e.g. '2..inf:outgoing'".into()));
+    };
+    let one = |part: &str| -> Result<(Location, Option<Condition>), Failure> {
+        let (place, cond) = match part.split_once(':') {
+            Some((p, c)) => (p.trim(), Some(c.trim())),
+            None => (part.trim(), None),
+        };
+        let location = match place {
+            "inf" | "infinity" | "∞" => Location::Infinity,
+            _ => {
+                let v = super::values::parse_complex(place).ok_or_else(|| bad(format!("'{place}' is not a number or 'inf'")))?;
+                let (re, im) = v.to_f64();
+                if im != 0.0 || !re.is_finite() {
+                    return Err(bad(format!("'{place}' is not a finite real number")));
+                }
+                Location::At(re)
+            }
+        };
+        let condition = match cond {
+            Some(c) => Some(
+                Condition::from_name(c)
+                    .ok_or_else(|| bad(format!("'{c}' is not a condition (into, out-of, outgoing, decaying, normalisable, slower)")))?,
+            ),
+            None => None,
+        };
+        Ok((location, condition))
+    };
+    Ok([one(l)?, one(r)?])
+}
+
+/// Modes by direct integration between the ends of a boundary problem.
+#[allow(clippy::too_many_arguments)]
+fn between_ends(
+    a: &SpectrumArgs,
+    src: &super::Source,
+    var: &str,
+    bp: &crate::solve::boundary::BoundaryProblem,
+    opts: &SpectrumOptions,
+    fname: &str,
+    note: Option<String>,
+) -> String {
+    let modes = crate::solve::ends::modes(bp, opts.overtones, opts.guess, opts.tol);
+    let what = match (bp.ends[1].condition, a.boundary) {
+        (Condition::Decaying, _) | (_, ProblemArg::QuasiBound) => "quasi-bound states",
+        _ => "quasinormal modes",
+    };
+    let method = "direct integration between the ends (Frobenius series at regular ends, asymptotic series at an irregular infinity, Taylor continuation; Muller roots)";
+    let end_text = |e: &crate::solve::boundary::End| {
+        format!("{} = {}: {}; condition: {}", var, crate::solve::boundary::location_text(e.location), e.found, e.condition.words())
+    };
+    let numbering = if opts.guess.is_none() && bp.ends[1].condition != Condition::Decaying {
+        Some("no --guess: the modes are the distinct roots reached from a scan of the complex plane, numbered by |Im ω|; a mode the scan missed would shift the numbering")
+    } else {
+        None
+    };
+    match a.format {
+        SpecFormat::Json => {
+            let ms: Vec<serde_json::Value> = modes
+                .iter()
+                .map(|m| {
+                    let r = &m.root;
+                    serde_json::json!({
+                        "n": m.n,
+                        "omega": if r.converged { serde_json::json!([r.omega.re, r.omega.im]) } else { serde_json::Value::Null },
+                        "converged": r.converged,
+                        "reason": if r.converged { serde_json::Value::Null } else { serde_json::Value::String(r.reason.clone()) },
+                        "method": "integrate",
+                        "evidence": {
+                            "change_on_refinement": if r.change.is_finite() { serde_json::json!(r.change) } else { serde_json::Value::Null },
+                            "residual": if r.residual.is_finite() { serde_json::json!(r.residual) } else { serde_json::Value::Null },
+                            "iterations": r.iterations,
+                            "seed": [m.seed.omega.re, m.seed.omega.im],
+                            "seed_from": m.seed.from,
+                        },
+                        "check": serde_json::Value::Null,
+                    })
+                })
+                .collect();
+            let ends: Vec<serde_json::Value> = bp
+                .ends
+                .iter()
+                .map(|e| {
+                    serde_json::json!({
+                        "at": match e.location { Location::At(z) => serde_json::json!(z), Location::Infinity => serde_json::json!("inf") },
+                        "found": e.found,
+                        "condition": e.condition.name(),
+                    })
+                })
+                .collect();
+            let v = serde_json::json!({
+                "frequency": fname,
+                "boundary": if what == "quasi-bound states" { "quasi-bound" } else { "qnm" },
+                "ends": ends,
+                "notes": bp.notes.iter().cloned().chain(note.clone()).chain(numbering.map(String::from)).collect::<Vec<_>>(),
+                "method": method,
+                "modes": ms,
+            });
+            format!("{}\n", serde_json::to_string_pretty(&v).unwrap_or_default())
+        }
+        SpecFormat::Csv => {
+            let mut o = String::from("n,re,im,converged,method,change_on_refinement,residual,reason\n");
+            for m in &modes {
+                let r = &m.root;
+                if r.converged {
+                    o.push_str(&format!("{},{:.17e},{:.17e},true,integrate,{:.3e},{:.3e},\n", m.n, r.omega.re, r.omega.im, r.change, r.residual));
+                } else {
+                    o.push_str(&format!("{},,,false,integrate,,,\"{}\"\n", m.n, r.reason.replace('"', "'")));
+                }
+            }
+            o
+        }
+        SpecFormat::Text => {
+            let mut o = String::new();
+            o.push_str(&format!("{what} of {} ({fname}), time dependence e^(-i*{fname}*t)\n", src.name));
+            o.push_str(&format!("  left end:  {}\n", end_text(&bp.ends[0])));
+            o.push_str(&format!("  right end: {}\n", end_text(&bp.ends[1])));
+            for n in bp.notes.iter().chain(note.iter()) {
+                o.push_str(&format!("  note: {n}\n"));
+            }
+            if let Some(n) = numbering {
+                o.push_str(&format!("  note: {n}\n"));
+            }
+            o.push_str(&format!("  method: {method}\n"));
+            o.push_str("  no second method runs on this boundary problem yet: the evidence is the agreement of standard and refined integration\n\n");
+            o.push_str("  n  omega                                        evidence\n");
+            for m in &modes {
+                let r = &m.root;
+                if r.converged {
+                    o.push_str(&format!(
+                        "  {:<2} {:<44} [integrate] change on refinement {:.1e}, residual {:.1e}\n",
+                        m.n,
+                        fmt_complex(r.omega.re, r.omega.im),
+                        r.change,
+                        r.residual
+                    ));
+                } else {
+                    o.push_str(&format!("  {:<2} NOT CONVERGED: {} (seed from {})\n", m.n, r.reason, m.seed.from));
+                }
+            }
+            o
+        }
+    }
+}
+
+/// Quasinormal modes by the exact recurrence's continued fraction, checked
+/// by direct integration (a horizon and an irregular infinity).
+fn classic_qnm(a: &SpectrumArgs, src: &super::Source, red: &crate::ode::Reduction, opts: &SpectrumOptions, fname: &str) -> Result<String, Failure> {
+    let opts = opts.clone();
+    let overtones = opts.overtones;
+    let (rec, setup0) = crate::solve::spectrum::qnm_recurrence(red, &opts)?;
+    let estimates = crate::solve::spectrum::barrier_estimates(red, &opts, setup0.horizon_value).ok();
     if matches!(a.method, Method::Wkb | Method::Eikonal) {
         let Some(est) = &estimates else {
             return Err(Error::new(
@@ -273,7 +489,7 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
             checks.push(None);
         }
     }
-    Ok(render(a, &fname, src, &red.var, &setup, &modes, &checks, &wkb, &[]))
+    Ok(render(a, fname, src, &red.var, &setup, &modes, &checks, &wkb, &[]))
 }
 
 /// The report of quasinormal modes in the chosen format; `coupled` holds

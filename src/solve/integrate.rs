@@ -283,16 +283,22 @@ pub(super) fn horizon(k: &Coeffs, zh: f64) -> Result<Horizon, String> {
 }
 
 impl Horizon {
+    /// The two roots of the indicial polynomial A_m ρ(ρ − 1) + B_{m−1} ρ + C_{m−2}
+    /// (principal square root of the discriminant; callers choose by their condition).
+    pub(super) fn exponents(&self) -> [Complex64; 2] {
+        let m = self.m as isize;
+        let (a, b, c) = (get(&self.a, m), get(&self.b, m - 1), get(&self.c, m - 2));
+        // a ρ² + (b − a) ρ + c = 0.
+        let s = ((b - a) * (b - a) - 4.0 * a * c).sqrt();
+        [(a - b + s) / (2.0 * a), (a - b - s) / (2.0 * a)]
+    }
+
     /// The root of the indicial polynomial A_m ρ(ρ − 1) + B_{m−1} ρ + C_{m−2}
     /// with the larger real part: the exponent of the solution that is
     /// smallest at the point (the normalisable one at a bound-state end). Its
     /// series never meets the other root, so it is always unique.
     pub(super) fn larger_exponent(&self) -> Complex64 {
-        let m = self.m as isize;
-        let (a, b, c) = (get(&self.a, m), get(&self.b, m - 1), get(&self.c, m - 2));
-        // a ρ² + (b − a) ρ + c = 0; the square root's sign is chosen by the real part below.
-        let s = ((b - a) * (b - a) - 4.0 * a * c).sqrt();
-        let (r1, r2) = ((a - b + s) / (2.0 * a), (a - b - s) / (2.0 * a));
+        let [r1, r2] = self.exponents();
         if r1.re >= r2.re {
             r1
         } else {

@@ -8,6 +8,8 @@ pub mod collocation;
 pub mod coupled;
 pub mod wkb;
 
+pub mod boundary;
+pub mod ends;
 pub mod integrate;
 pub mod roots;
 pub mod scan;

@@ -1,0 +1,440 @@
+//! Boundary problems as data: the spectral parameter, the two ends of the
+//! domain and the condition imposed at each, located numerically at the
+//! given parameter values from the exact normal form ψ'' + Q ψ = 0.
+//!
+//! The ends are singular points of Q: real roots of its denominator's exact
+//! factors (of any degree: a cubic's roots are found numerically and said
+//! to be so) and the point at infinity. An end whose exponents depend on the
+//! spectral parameter behaves as a horizon (the tortoise coordinate runs
+//! off to ±∞ there); one whose exponents do not is a regular boundary (a
+//! centre, an anti-de Sitter boundary, the end of an angular interval).
+//!
+//! The default domain is the one a physicist would pick (DESIGN.md,
+//! "Boundary problems on every background"): from the outermost black-hole
+//! horizon to the next singular end outward. When infinity is irregular
+//! (asymptotically flat, massless or massive) that is infinity; when it is a
+//! regular point the sign of the potential V = ω² − Q/h² (h² the coefficient
+//! of ω² in Q) beyond the outermost horizon decides: V > 0 there is an
+//! anti-de Sitter boundary (the domain reaches it), V < 0 a region beyond a
+//! cosmological horizon (the domain ends at that horizon and starts at the
+//! next singular point inward: a black-hole horizon, or a centre).
+
+use crate::algebra::{Field, GRat, RatFunc};
+use crate::analysis::numeric::try_roots;
+use crate::error::{Error, ErrorKind, Result};
+use crate::solve::NumOde;
+use num_complex::Complex64;
+
+/// What kind of spectrum is sought.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum SpectrumKind {
+    /// Quasinormal modes: waves leave the domain through both ends.
+    Quasinormal,
+    /// Quasi-bound states: waves leave through horizons and decay at an
+    /// irregular infinity (massive fields).
+    QuasiBound,
+}
+
+/// Where an end lies.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Location {
+    /// A finite real point (numeric value at the given parameters).
+    At(f64),
+    /// The point at infinity.
+    Infinity,
+}
+
+/// The local nature of an end at the given parameter values.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Nature {
+    /// A regular singular point whose exponents depend on the spectral
+    /// parameter: a horizon.
+    Horizon,
+    /// A regular singular (or ordinary) point whose exponents do not depend
+    /// on the spectral parameter: a centre, an anti-de Sitter boundary, an
+    /// angular end.
+    Regular,
+    /// Infinity as an irregular point of Poincaré rank 1.
+    IrregularRank1,
+}
+
+/// The condition imposed at an end. Matched exhaustively wherever an end is
+/// used, so a new condition shows the compiler every place it touches.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Condition {
+    /// The wave leaves the domain through this horizon (black-hole horizon:
+    /// "ingoing"; cosmological horizon: "outgoing into it"). With e^(−iωt),
+    /// the exponent whose ω-derivative has the negative imaginary part.
+    IntoHorizon,
+    /// The wave comes out of this horizon (the other exponent).
+    OutOfHorizon,
+    /// At an irregular infinity: the branch e^(μz) with Im μ of the sign of
+    /// Re ω (e^(+ikr), Re k > 0 for Re ω > 0).
+    Outgoing,
+    /// At an irregular infinity: the branch with Re μ < 0 (quasi-bound states).
+    Decaying,
+    /// At a regular boundary: the exponent with the larger real part (regular
+    /// at a centre, the normalisable fall-off at an anti-de Sitter boundary).
+    Normalisable,
+    /// At a regular boundary: the exponent with the smaller real part
+    /// (the slower fall-off; a Neumann-type condition).
+    SlowerFallOff,
+}
+
+impl Condition {
+    /// The condition in words, as printed.
+    pub fn words(self) -> &'static str {
+        match self {
+            Condition::IntoHorizon => "the wave leaves the domain through the horizon (ingoing)",
+            Condition::OutOfHorizon => "the wave comes out of the horizon",
+            Condition::Outgoing => "outgoing, e^(+ikz) with Re k of the sign of Re ω",
+            Condition::Decaying => "decaying, e^(μz) with Re μ < 0",
+            Condition::Normalisable => "normalisable: the exponent with the larger real part",
+            Condition::SlowerFallOff => "the exponent with the smaller real part",
+        }
+    }
+
+    /// The short name used by `--ends` and in JSON.
+    pub fn name(self) -> &'static str {
+        match self {
+            Condition::IntoHorizon => "into",
+            Condition::OutOfHorizon => "out-of",
+            Condition::Outgoing => "outgoing",
+            Condition::Decaying => "decaying",
+            Condition::Normalisable => "normalisable",
+            Condition::SlowerFallOff => "slower",
+        }
+    }
+
+    /// The condition named `text` (one of [`Condition::name`]).
+    pub fn from_name(text: &str) -> Option<Condition> {
+        [Condition::IntoHorizon, Condition::OutOfHorizon, Condition::Outgoing, Condition::Decaying, Condition::Normalisable, Condition::SlowerFallOff]
+            .into_iter()
+            .find(|c| c.name() == text)
+    }
+
+    /// Whether the condition can be imposed at an end of this nature.
+    pub fn fits(self, nature: Nature) -> bool {
+        match self {
+            Condition::IntoHorizon | Condition::OutOfHorizon => nature == Nature::Horizon,
+            Condition::Outgoing | Condition::Decaying => nature == Nature::IrregularRank1,
+            Condition::Normalisable | Condition::SlowerFallOff => nature != Nature::IrregularRank1,
+        }
+    }
+}
+
+/// One end of the domain.
+#[derive(Clone, Debug)]
+pub struct End {
+    /// Where it lies.
+    pub location: Location,
+    /// Its nature at the given values.
+    pub nature: Nature,
+    /// The condition imposed there.
+    pub condition: Condition,
+    /// How it was found, in words (e.g. "the largest real root of the cubic factor …").
+    pub found: String,
+}
+
+/// A singular point of Q on the real axis at the given values.
+#[derive(Clone, Debug)]
+pub struct RealPoint {
+    /// Its location.
+    pub z: f64,
+    /// Its nature.
+    pub nature: Nature,
+    /// The exact factor it is a root of, as text, and the factor's degree.
+    pub factor: (String, u32),
+}
+
+/// A boundary problem at given parameter values: the numeric equation
+/// A ψ'' + C ψ = 0 (the normal form cleared of denominators, numeric except
+/// in the spectral parameter) and the two ends with their conditions.
+#[derive(Clone, Debug)]
+pub struct BoundaryProblem {
+    /// Field index of the spectral parameter.
+    pub freq: usize,
+    /// The normal form as a numeric equation in (z, ω).
+    pub ode: NumOde,
+    /// The left and the right end (left < right on the real axis).
+    pub ends: [End; 2],
+    /// Every zero of A (the finite singular points, complex in general).
+    pub zeros: Vec<Complex64>,
+    /// The real singular points, sorted.
+    pub real_points: Vec<RealPoint>,
+    /// A frequency scale: the surface gravity κ of the first horizon end
+    /// (|dρ/dω| = 1/(2κ)), or 1 when no end is a horizon.
+    pub scale: f64,
+    /// What was chosen and why, in words (printed with the result).
+    pub notes: Vec<String>,
+}
+
+fn usage(msg: impl Into<String>) -> Error {
+    Error::new(ErrorKind::Usage, msg)
+}
+
+/// Coefficients of a univariate numeric polynomial (low degree first) with
+/// the top zeros dropped.
+fn trim(mut v: Vec<Complex64>) -> Vec<Complex64> {
+    while v.last().is_some_and(|c| c.norm() == 0.0) {
+        v.pop();
+    }
+    v
+}
+
+/// The two exponents of ψ at a finite point z₀ of the numeric normal form at
+/// ω, from the indicial equation ρ(ρ − 1) + q₀ = 0 with q₀ = lim (z − z₀)² C/A;
+/// `None` when z₀ is an irregular point (the pole of C/A exceeds 2).
+pub fn exponents_at(ode: &NumOde, z0: f64, w: Complex64) -> Option<[Complex64; 2]> {
+    let a = trim(ode.a.at_omega(w));
+    let c = trim(ode.c.at_omega(w));
+    let x0 = Complex64::new(z0, 0.0);
+    let (sa, sc) = (taylor(&a, x0), taylor(&c, x0));
+    let scale_a = sa.iter().map(|x| x.norm()).fold(0.0, f64::max).max(f64::MIN_POSITIVE);
+    let m = sa.iter().position(|x| x.norm() > 1e-9 * scale_a)?;
+    // Pole order of C/A at z₀ is m − ord(C).
+    let scale_c = sc.iter().map(|x| x.norm()).fold(0.0, f64::max);
+    let oc = sc.iter().position(|x| x.norm() > 1e-9 * scale_c.max(f64::MIN_POSITIVE)).unwrap_or(usize::MAX);
+    if oc != usize::MAX && m > oc + 2 {
+        return None;
+    }
+    let q0 = if m >= 2 && oc != usize::MAX && oc <= m - 2 { sc[m - 2] / sa[m] } else { Complex64::new(0.0, 0.0) };
+    let s = (Complex64::new(0.25, 0.0) - q0).sqrt();
+    Some([Complex64::new(0.5, 0.0) + s, Complex64::new(0.5, 0.0) - s])
+}
+
+/// Taylor coefficients of p about x₀ (synthetic division).
+pub(crate) fn taylor(p: &[Complex64], x0: Complex64) -> Vec<Complex64> {
+    let mut q = p.to_vec();
+    let n = q.len();
+    for i in 0..n {
+        for j in (i..n.saturating_sub(1)).rev() {
+            let next = q[j + 1];
+            q[j] += x0 * next;
+        }
+    }
+    q
+}
+
+/// d/dω of each exponent at a finite point, by pairing the exponents at ω
+/// and at ω + ε (the exponents are analytic in ω away from coincidences).
+pub fn exponent_slopes(ode: &NumOde, z0: f64, w: Complex64) -> Option<([Complex64; 2], [Complex64; 2])> {
+    let eps = 1e-6 * w.norm().max(1e-3);
+    let e0 = exponents_at(ode, z0, w)?;
+    let e1 = exponents_at(ode, z0, w + eps)?;
+    let direct = (e1[0] - e0[0]).norm() + (e1[1] - e0[1]).norm();
+    let crossed = (e1[1] - e0[0]).norm() + (e1[0] - e0[1]).norm();
+    let e1 = if direct <= crossed { e1 } else { [e1[1], e1[0]] };
+    Some((e0, [(e1[0] - e0[0]) / eps, (e1[1] - e0[1]) / eps]))
+}
+
+/// Whether the exponents at z₀ depend on ω (checked at two real values).
+fn is_horizon(ode: &NumOde, z0: f64) -> bool {
+    let ws = [Complex64::new(0.37, 0.0), Complex64::new(1.13, 0.0)];
+    let (Some(a), Some(b)) = (exponents_at(ode, z0, ws[0]), exponents_at(ode, z0, ws[1])) else { return false };
+    let d = (a[0] - a[1]).norm().max((b[0] - b[1]).norm());
+    ((a[0] - a[1]).norm() - (b[0] - b[1]).norm()).abs() > 1e-7 * (1.0 + d)
+}
+
+/// The degree in z of the numeric coefficient polynomials (max over ω powers)
+/// and the ω-degree.
+fn z_degree(p: &super::NPoly) -> Option<usize> {
+    p.c.iter().rposition(|row| row.iter().any(|c| c.norm() > 0.0))
+}
+
+/// Builds the boundary problem from a reduction whose parameters other than
+/// the spectral one are already substituted (see `spectrum::substitute`):
+/// finds the real singular points, decides each one's nature, and picks the
+/// default domain and conditions, or the `given` ends (left, right) with
+/// their conditions when the caller names them.
+pub fn try_problem(
+    field: &Field,
+    q: &RatFunc,
+    values: &[GRat],
+    freq: usize,
+    kind: SpectrumKind,
+    given: Option<[(Location, Option<Condition>); 2]>,
+) -> Result<BoundaryProblem> {
+    let ode = super::try_num_ode(field, &RatFunc::zero(), q, values, freq)?;
+    if ode.a.c.iter().any(|row| row.len() > 1 && row[1..].iter().any(|c| c.norm() > 0.0)) {
+        return Err(usage("the denominator of Q depends on the spectral parameter: the ends would move with it"));
+    }
+    let names = field.names();
+    // Real roots of each exact denominator factor, with the factor they come from.
+    let mut real_points: Vec<RealPoint> = Vec::new();
+    let mut zeros: Vec<Complex64> = Vec::new();
+    for (f, _) in q.den_factors() {
+        let coeffs: Vec<Complex64> = {
+            let np = super::try_npoly(f.poly(), 1.0, values, freq);
+            trim(np.c.iter().map(|row| row.first().copied().unwrap_or_default()).collect())
+        };
+        let deg = coeffs.len().saturating_sub(1);
+        if deg == 0 {
+            continue;
+        }
+        let roots = try_roots(&coeffs).ok_or_else(|| usage("the singular points could not be located numerically"))?;
+        let text = crate::algebra::print::poly_text(f.poly(), &crate::algebra::Int::from(1), names, crate::algebra::print::Style::Text);
+        for r in roots {
+            zeros.push(r);
+            if r.im.abs() <= 1e-9 * r.re.abs().max(1.0) {
+                real_points.push(RealPoint { z: r.re, nature: Nature::Regular, factor: (text.clone(), deg as u32) });
+            }
+        }
+    }
+    real_points.sort_by(|a, b| a.z.total_cmp(&b.z));
+    for p in real_points.iter_mut() {
+        let w = Complex64::new(0.7, 0.0);
+        if exponents_at(&ode, p.z, w).is_none() {
+            return Err(usage(format!("z = {} is an irregular singular point: an end there is not supported yet", p.z)));
+        }
+        if is_horizon(&ode, p.z) {
+            p.nature = Nature::Horizon;
+        }
+    }
+    // Infinity: deg C − deg A decides (C/A ~ z^d).
+    let (da, dc) = (z_degree(&ode.a).unwrap_or(0) as isize, z_degree(&ode.c).map(|d| d as isize).unwrap_or(isize::MIN / 2));
+    let d = dc - da;
+    let inf_nature = if d <= -2 {
+        Some(Nature::Regular)
+    } else if d == 0 {
+        Some(Nature::IrregularRank1)
+    } else {
+        None
+    };
+    let mut notes = Vec::new();
+    let describe = |p: &RealPoint| -> String {
+        let what = match p.nature {
+            Nature::Horizon => "horizon",
+            Nature::Regular => "regular boundary",
+            Nature::IrregularRank1 => "irregular point",
+        };
+        if p.factor.1 == 1 {
+            format!("z = {} ({what}, the root of {})", fmt(p.z), p.factor.0)
+        } else {
+            format!("z ≈ {} ({what}, a real root of {} of degree {}, located numerically)", fmt(p.z), p.factor.0, p.factor.1)
+        }
+    };
+    let find_point = |z: f64| real_points.iter().find(|p| (p.z - z).abs() <= 1e-9 * z.abs().max(1.0));
+    let ends: [(Location, Nature, String); 2] = match given {
+        Some(g) => {
+            let mut out = Vec::new();
+            for (loc, _) in g.iter() {
+                match loc {
+                    Location::Infinity => {
+                        let n = inf_nature
+                            .ok_or_else(|| usage(format!("infinity has Poincaré rank {} here: not supported as an end yet", d as f64 / 2.0 + 1.0)))?;
+                        out.push((Location::Infinity, n, "z = ∞ (given)".to_string()));
+                    }
+                    Location::At(z) => {
+                        let p = find_point(*z).ok_or_else(|| usage(format!("z = {z} is not a real singular point of Q at these values")))?;
+                        out.push((Location::At(p.z), p.nature, format!("{} (given)", describe(p))));
+                    }
+                }
+            }
+            [out[0].clone(), out[1].clone()]
+        }
+        None => {
+            let horizons: Vec<&RealPoint> = real_points.iter().filter(|p| p.nature == Nature::Horizon).collect();
+            let Some(outer) = horizons.last() else {
+                return Err(usage("no horizon: the equation has no real singular point whose exponents depend on the spectral parameter (give the ends with --ends)"));
+            };
+            let inf = inf_nature.ok_or_else(|| {
+                usage(format!("infinity has Poincaré rank {}: not supported as an end yet (give the ends with --ends)", d as f64 / 2.0 + 1.0))
+            })?;
+            let inner = real_points.iter().rev().find(|p| p.z < outer.z - 1e-9 * outer.z.abs().max(1.0));
+            // Beyond a cosmological horizon the potential turns negative; inside
+            // it (between it and the next singular point inward) it is positive.
+            let beyond_is_static = match (inf, inner) {
+                (Nature::IrregularRank1, _) | (_, None) => true,
+                (_, Some(inner)) => {
+                    let gap = outer.z - inner.z;
+                    !(potential_at(&ode, inner.z + 0.5 * gap) > 0.0 && potential_at(&ode, outer.z + 0.5 * gap) < 0.0)
+                }
+            };
+            if beyond_is_static {
+                notes.push("the domain runs from the outermost horizon to infinity".to_string());
+                [(Location::At(outer.z), Nature::Horizon, describe(outer)), (Location::Infinity, inf, "z = ∞".to_string())]
+            } else {
+                // The outermost horizon is cosmological: the domain lies inside it.
+                let Some(inner) = inner else { return Err(Error::new(ErrorKind::Internal, "no inner end")) };
+                notes.push(
+                    "the potential is negative beyond the outermost horizon: it is a cosmological horizon, and the domain lies inside it".to_string(),
+                );
+                [(Location::At(inner.z), inner.nature, describe(inner)), (Location::At(outer.z), Nature::Horizon, describe(outer))]
+            }
+        }
+    };
+    let mut out: Vec<End> = Vec::new();
+    for (i, (loc, nature, found)) in ends.iter().enumerate() {
+        let wanted = given.as_ref().and_then(|g| g[i].1);
+        let condition = match wanted {
+            Some(c) => {
+                if !c.fits(*nature) {
+                    return Err(usage(format!("the condition '{}' does not fit {found}", c.name())));
+                }
+                c
+            }
+            None => match nature {
+                Nature::Horizon => Condition::IntoHorizon,
+                Nature::Regular => Condition::Normalisable,
+                Nature::IrregularRank1 => match kind {
+                    SpectrumKind::Quasinormal => Condition::Outgoing,
+                    SpectrumKind::QuasiBound => Condition::Decaying,
+                },
+            },
+        };
+        out.push(End { location: *loc, nature: *nature, condition, found: found.clone() });
+    }
+    let [left, right]: [End; 2] = out.try_into().map_err(|_| Error::new(ErrorKind::Internal, "two ends expected"))?;
+    if let (Location::At(a), Location::At(b)) = (left.location, right.location) {
+        if a >= b {
+            return Err(usage("the left end must lie below the right end"));
+        }
+    }
+    if left.location == Location::Infinity {
+        return Err(usage("infinity can only be the right end"));
+    }
+    let scale = [&left, &right]
+        .iter()
+        .find_map(|e| match (e.location, e.nature) {
+            (Location::At(z), Nature::Horizon) => {
+                let (_, s) = exponent_slopes(&ode, z, Complex64::new(0.5, 0.0))?;
+                let k = 1.0 / (2.0 * s[0].norm());
+                k.is_finite().then_some(k)
+            }
+            _ => None,
+        })
+        .unwrap_or(1.0);
+    Ok(BoundaryProblem { freq, ode, ends: [left, right], zeros, real_points, scale, notes })
+}
+
+/// V = ω² − Q/h² at a real point x (h² the coefficient of ω² in Q, so
+/// V = −Q₀/Q₂ with Q₀ the ω-free part); 0 where h² vanishes.
+fn potential_at(ode: &NumOde, x: f64) -> f64 {
+    let at =
+        |j: usize| -> f64 { ode.c.c.iter().rev().fold(Complex64::new(0.0, 0.0), |acc, row| acc * x + row.get(j).copied().unwrap_or_default()).re };
+    let (q0, q2) = (at(0), at(2));
+    if q2 == 0.0 {
+        return 0.0;
+    }
+    -q0 / q2
+}
+
+/// A double with up to 12 significant digits, for notes.
+fn fmt(x: f64) -> String {
+    let s = format!("{x:.12}");
+    let s = s.trim_end_matches('0').trim_end_matches('.').to_string();
+    if s == "-0" {
+        "0".into()
+    } else {
+        s
+    }
+}
+
+/// The right end's location in words.
+pub fn location_text(l: Location) -> String {
+    match l {
+        Location::At(z) => fmt(z),
+        Location::Infinity => "∞".into(),
+    }
+}

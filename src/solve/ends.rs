@@ -1,0 +1,440 @@
+//! Direct integration on any [`BoundaryProblem`]: the solution obeying the
+//! condition at each end is built there — a Frobenius series at a finite
+//! regular end, a Frobenius series in t = 1/z at a regular infinity, the
+//! asymptotic series of the chosen branch at an irregular infinity of rank 1
+//! — and continued by Taylor steps to a common matching point, where their
+//! normalised Wronskian vanishes exactly at an eigenvalue. Exponents are
+//! chosen at every trial ω from the numeric local data, by the condition:
+//! at a horizon the one whose ω-derivative has the more negative imaginary
+//! part (the wave leaves the domain, e^(−iωt)), at a regular boundary by the
+//! real part, at an irregular infinity by the sign of Im μ or Re μ.
+//!
+//! Roots come from the two-pass Muller search of `integrate` (standard,
+//! then refined discretisation; the change between them is evidence). Seeds
+//! come from the caller, from the hydrogen-like estimate at an irregular
+//! infinity (quasi-bound states), or from a bounded scan of the mismatch over
+//! a window of the complex plane scaled by the horizon's surface gravity.
+
+use super::boundary::{BoundaryProblem, Condition, Location, Nature};
+use super::integrate::{self, Asymptote, Coeffs, Far, IntRoot, Norm, Params};
+use num_complex::Complex64;
+use std::f64::consts::PI;
+
+const ZERO: Complex64 = Complex64::new(0.0, 0.0);
+
+/// The exponent at a finite end obeying `cond`, from the local data at ω
+/// (and at ω + ε for the horizon conditions).
+fn pick_exponent(ode: &super::NumOde, k: &Coeffs, h: &integrate::Horizon, z: f64, cond: Condition, w: Complex64) -> Result<Complex64, String> {
+    let [r1, r2] = h.exponents();
+    match cond {
+        Condition::Normalisable => Ok(if r1.re >= r2.re { r1 } else { r2 }),
+        Condition::SlowerFallOff => Ok(if r1.re < r2.re { r1 } else { r2 }),
+        Condition::IntoHorizon | Condition::OutOfHorizon => {
+            let eps = 1e-6 * w.norm().max(1e-3);
+            let k2 = Coeffs::at(ode, w + eps)?;
+            let h2 = integrate::horizon(&k2, z)?;
+            let [s1, s2] = h2.exponents();
+            let (s1, s2) = if (s1 - r1).norm() + (s2 - r2).norm() <= (s2 - r1).norm() + (s1 - r2).norm() { (s1, s2) } else { (s2, s1) };
+            let (d1, d2) = ((s1 - r1) / eps, (s2 - r2) / eps);
+            let _ = k;
+            let into = if d1.im <= d2.im { r1 } else { r2 };
+            let out = if d1.im <= d2.im { r2 } else { r1 };
+            Ok(if cond == Condition::IntoHorizon { into } else { out })
+        }
+        Condition::Outgoing | Condition::Decaying => Err("an irregular-infinity condition at a finite end".into()),
+    }
+}
+
+/// The equation in t = 1/z: with y(z) = Y(t), A(1/t)(t⁴Y'' + 2t³Y') − B(1/t)t²Y' + C(1/t)Y = 0,
+/// cleared by t^D and by the common power of t.
+fn at_infinity_chart(k: &Coeffs) -> Coeffs {
+    let d = k.a.len().max(k.b.len()).max(k.c.len()).saturating_sub(1);
+    let rev = |v: &[Complex64]| -> Vec<Complex64> { (0..=d).map(|j| v.get(d - j).copied().unwrap_or(ZERO)).collect() };
+    let (ra, rb, rc) = (rev(&k.a), rev(&k.b), rev(&k.c));
+    let mut a = vec![ZERO; d + 5];
+    let mut b = vec![ZERO; d + 5];
+    let mut c = vec![ZERO; d + 5];
+    for j in 0..=d {
+        a[j + 4] += ra[j];
+        b[j + 3] += 2.0 * ra[j];
+        b[j + 2] -= rb[j];
+        c[j] += rc[j];
+    }
+    let order = |v: &[Complex64]| v.iter().position(|x| x.norm() > 0.0).unwrap_or(usize::MAX);
+    let s = order(&a).min(order(&b)).min(order(&c));
+    let cut = |v: Vec<Complex64>| -> Vec<Complex64> {
+        let mut out: Vec<Complex64> = v.into_iter().skip(s).collect();
+        while out.last().is_some_and(|x| x.norm() == 0.0) {
+            out.pop();
+        }
+        out
+    };
+    Coeffs { a: cut(a), b: cut(b), c: cut(c) }
+}
+
+/// The branch at an irregular infinity of rank 1 obeying `cond`: (μ, ν, μ')
+/// with y ~ e^(μz) z^ν and μ' the other branch's rate.
+fn far_branch(k: &Coeffs, cond: Condition, w: Complex64) -> Result<(Complex64, Complex64, Complex64), String> {
+    let n = k.a.len() - 1;
+    let g = |v: &[Complex64], j: usize| v.get(j).copied().unwrap_or(ZERO);
+    let (an, bn, cn) = (k.a[n], g(&k.b, n), g(&k.c, n));
+    let s = (bn * bn - 4.0 * an * cn).sqrt();
+    let (m1, m2) = ((-bn + s) / (2.0 * an), (-bn - s) / (2.0 * an));
+    let sign = if w.re < 0.0 { -1.0 } else { 1.0 };
+    let (mu, other) = match cond {
+        Condition::Outgoing => {
+            if m1.im * sign >= m2.im * sign {
+                (m1, m2)
+            } else {
+                (m2, m1)
+            }
+        }
+        Condition::Decaying => {
+            if m1.re <= m2.re {
+                (m1, m2)
+            } else {
+                (m2, m1)
+            }
+        }
+        _ => return Err("a finite-end condition at an irregular infinity".into()),
+    };
+    // ν from the next order: E_{N−1} + F_N ν = 0, E = μ²A + μB + C, F = 2μA + B.
+    let e1 = mu * mu * g(&k.a, n - 1) + mu * g(&k.b, n - 1) + g(&k.c, n - 1);
+    let f = 2.0 * mu * an + bn;
+    if f.norm() == 0.0 {
+        return Err("the two exponential factors at infinity coincide".into());
+    }
+    Ok((mu, -e1 / f, other))
+}
+
+/// The direction from z_m along which the chosen branch is most recessive
+/// relative to the other, kept clear of the singular points.
+fn recessive_ray(dmu: Complex64, z_m: Complex64, zeros: &[Complex64]) -> Result<Complex64, String> {
+    let mut theta = PI - dmu.arg();
+    if theta > PI {
+        theta -= 2.0 * PI;
+    }
+    let theta = theta.clamp(-0.85 * PI, 0.85 * PI);
+    for r in zeros {
+        let v = r - z_m;
+        let ang = v.arg();
+        let in_wedge = if theta >= 0.0 { ang >= -1e-9 && ang <= theta + 1e-9 } else { ang <= 1e-9 && ang >= theta - 1e-9 };
+        if v.norm() == 0.0 || in_wedge {
+            return Err(format!("the zero {r} of A lies between the integration path and the real axis beyond the matching point"));
+        }
+    }
+    Ok(Complex64::from_polar(1.0, theta))
+}
+
+/// The normalised Wronskian of the two end solutions at ω, and the Taylor
+/// steps it took.
+fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64, usize), String> {
+    if !(w.re.is_finite() && w.im.is_finite()) {
+        return Err("ω is not finite".into());
+    }
+    let k = Coeffs::at(&bp.ode, w)?;
+    let [left, right] = &bp.ends;
+    let Location::At(a) = left.location else { return Err("the left end must be finite".into()) };
+    let hl = integrate::horizon(&k, a)?;
+    let rho_l = pick_exponent(&bp.ode, &k, &hl, a, left.condition, w)?;
+    let dl = if hl.d.is_finite() { hl.d } else { 1.0 + a.abs() };
+    let z_m = a + p.start_fraction * dl;
+    let (yl, dyl) = integrate::frobenius(&hl, rho_l, z_m - a)?;
+    let zm = Complex64::new(z_m, 0.0);
+    let mut steps = 0;
+    let (yr, dyr) = match (right.location, right.nature) {
+        (Location::At(b), _) => {
+            let hr = integrate::horizon(&k, b)?;
+            let rho_r = pick_exponent(&bp.ode, &k, &hr, b, right.condition, w)?;
+            let dr = if hr.d.is_finite() { hr.d } else { 1.0 + b.abs() };
+            let delta = (p.start_fraction * dr).min(0.5 * (b - z_m));
+            let (y, dy) = integrate::frobenius(&hr, rho_r, -delta)?;
+            let from = Complex64::new(b - delta, 0.0);
+            integrate::continue_along(&k, &bp.zeros, from, zm, y, dy, p, f64::INFINITY, &mut steps)?
+        }
+        (Location::Infinity, Nature::Regular | Nature::Horizon) => {
+            let kt = at_infinity_chart(&k);
+            let ht = integrate::horizon(&kt, 0.0)?;
+            let [r1, r2] = ht.exponents();
+            let rho = match right.condition {
+                Condition::Normalisable => {
+                    if r1.re >= r2.re {
+                        r1
+                    } else {
+                        r2
+                    }
+                }
+                Condition::SlowerFallOff => {
+                    if r1.re < r2.re {
+                        r1
+                    } else {
+                        r2
+                    }
+                }
+                other => return Err(format!("the condition '{}' does not fit a regular infinity", other.name())),
+            };
+            let dt = if ht.d.is_finite() { ht.d } else { 1.0 };
+            // Start where 1/t lies beyond the matching point.
+            let delta = (p.start_fraction * dt).min(0.5 / z_m.abs().max(1e-300));
+            let (y, dyt) = integrate::frobenius(&ht, rho, delta)?;
+            let from = Complex64::new(1.0 / delta, 0.0);
+            // dy/dz = −t² dY/dt.
+            let dy = -delta * delta * dyt;
+            integrate::continue_along(&k, &bp.zeros, from, zm, y, dy, p, f64::INFINITY, &mut steps)?
+        }
+        (Location::Infinity, Nature::IrregularRank1) => {
+            let (mu, nu, mu2) = far_branch(&k, right.condition, w)?;
+            let far = Far::new(&k, mu, nu)?;
+            let ray = recessive_ray(mu - mu2, zm, &bp.zeros)?;
+            let d = dl.max(1.0);
+            integrate::from_infinity(&k, &Asymptote::Series(&far), &bp.zeros, zm, ray, (4.0 / (mu - mu2).norm()).max(d), zm, p, &mut steps)?
+        }
+    };
+    Ok((integrate::normalised_wronskian((yl, dyl), (yr, dyr), Norm::Products)?, steps))
+}
+
+/// The normalised mismatch at ω with the standard discretisation (zero at
+/// an eigenvalue); `None` where it cannot be evaluated.
+pub fn mismatch(bp: &BoundaryProblem, w: Complex64) -> Option<Complex64> {
+    evaluate(bp, w, &integrate::STANDARD).ok().map(|(v, _)| v)
+}
+
+/// The eigenvalue nearest the seed by the two-pass Muller search.
+pub fn find_root(bp: &BoundaryProblem, seed: Complex64, tol: f64) -> IntRoot {
+    integrate::find_root_by(&|w, p| evaluate(bp, w, p), seed, tol, integrate::MAX_ITER)
+}
+
+/// Where a seed came from.
+#[derive(Clone, Debug)]
+pub struct Seed {
+    /// The value.
+    pub omega: Complex64,
+    /// Its origin, in words.
+    pub from: String,
+}
+
+/// Grid size of the seed scan (points along Re ω and along Im ω).
+const SCAN_RE: usize = 28;
+const SCAN_IM_PER_MODE: usize = 10;
+
+/// Seeds by a bounded scan of |mismatch| over the window
+/// Re ω ∈ (0, 4κ], Im ω ∈ [−(2.5(count)+1)κ, 0) (κ the problem's frequency
+/// scale): the local minima of |mismatch| below 0.5, best first. The scan
+/// evaluates at most `SCAN_RE × SCAN_IM_PER_MODE × (count + 1)` points.
+pub fn scan_seeds(bp: &BoundaryProblem, count: usize) -> Vec<Seed> {
+    let s = bp.scale;
+    let ni = SCAN_IM_PER_MODE * (count + 1);
+    let (re_max, im_min) = (4.0 * s, -(2.5 * count as f64 + 1.5) * s);
+    let at = |i: usize, j: usize| Complex64::new(re_max * (i as f64 + 0.5) / SCAN_RE as f64, im_min * (j as f64 + 0.5) / ni as f64);
+    let vals: Vec<Vec<f64>> =
+        (0..SCAN_RE).map(|i| (0..ni).map(|j| mismatch(bp, at(i, j)).map(|m| m.norm()).unwrap_or(f64::INFINITY)).collect()).collect();
+    let mut minima: Vec<(f64, Complex64)> = Vec::new();
+    for i in 0..SCAN_RE {
+        for j in 0..ni {
+            let v = vals[i][j];
+            if !(v < 0.5) {
+                continue;
+            }
+            let mut lowest = true;
+            for di in -1i64..=1 {
+                for dj in -1i64..=1 {
+                    if di == 0 && dj == 0 {
+                        continue;
+                    }
+                    let (x, y) = (i as i64 + di, j as i64 + dj);
+                    if x >= 0 && y >= 0 && (x as usize) < SCAN_RE && (y as usize) < ni && vals[x as usize][y as usize] < v {
+                        lowest = false;
+                    }
+                }
+            }
+            if lowest {
+                minima.push((v, at(i, j)));
+            }
+        }
+    }
+    minima.sort_by(|a, b| a.0.total_cmp(&b.0));
+    minima.into_iter().map(|(_, w)| Seed { omega: w, from: "a minimum of the mismatch on a scan of the complex plane".into() }).collect()
+}
+
+/// Seeds for quasi-bound states at an irregular infinity from the
+/// hydrogen-like balance of Q ≈ A₀ + A₁/z + A₂/z² there:
+/// A₁/(2√(−A₀)) = n + ½ + √(¼ − A₂) (the Coulomb problem, common practice),
+/// solved for real ω by bisection on (0, ω_edge) where A₀(ω_edge) = 0.
+pub fn hydrogenic_seed(bp: &BoundaryProblem, n: u32) -> Option<Seed> {
+    let coef = |w: f64| -> Option<[Complex64; 3]> {
+        let k = Coeffs::at(&bp.ode, Complex64::new(w, 0.0)).ok()?;
+        let na = k.a.len() - 1;
+        let g = |v: &[Complex64], j: isize| if j >= 0 { v.get(j as usize).copied().unwrap_or(ZERO) } else { ZERO };
+        // C/A = Σ q_j z^(−j): long division from the top.
+        let an = k.a[na];
+        let mut q = [ZERO; 3];
+        let mut rem: Vec<Complex64> = (0..=na).map(|j| g(&k.c, j as isize)).collect();
+        for (j, qj) in q.iter_mut().enumerate() {
+            let top = na as isize - j as isize;
+            if top < 0 {
+                break;
+            }
+            *qj = rem[top as usize] / an;
+            for i in 0..=na {
+                let idx = i as isize - j as isize;
+                if idx >= 0 {
+                    rem[idx as usize] -= *qj * g(&k.a, i as isize);
+                }
+            }
+        }
+        Some(q)
+    };
+    let f = |w: f64| -> Option<f64> {
+        let [a0, a1, a2] = coef(w)?;
+        let kappa = (-a0).sqrt();
+        if kappa.re <= 0.0 {
+            return None;
+        }
+        Some((a1 / (2.0 * kappa)).re - (n as f64 + 0.5 + (0.25 - a2).sqrt().re))
+    };
+    // The continuum edge: A₀(ω) = 0 with A₀ increasing in ω (A₀ = ω² − μ²).
+    let a0 = |w: f64| coef(w).map(|q| q[0].re);
+    let mut hi = bp.scale.max(1e-3);
+    for _ in 0..80 {
+        if a0(hi)? > 0.0 {
+            break;
+        }
+        hi *= 2.0;
+    }
+    if a0(hi)? <= 0.0 || a0(0.0)? >= 0.0 {
+        return None;
+    }
+    let mut lo = 0.0;
+    for _ in 0..100 {
+        let mid = 0.5 * (lo + hi);
+        if a0(mid)? > 0.0 {
+            hi = mid;
+        } else {
+            lo = mid;
+        }
+    }
+    let edge = lo;
+    // f → +∞ at the edge (κ → 0); find where it crosses zero below the edge.
+    let (mut a, mut b) = (edge * 1e-3, edge * (1.0 - 1e-12));
+    let (fa, fb) = (f(a)?, f(b)?);
+    if fa.signum() == fb.signum() {
+        return None;
+    }
+    for _ in 0..200 {
+        let m = 0.5 * (a + b);
+        let fm = f(m)?;
+        if fm.signum() == fa.signum() {
+            a = m;
+        } else {
+            b = m;
+        }
+    }
+    Some(Seed { omega: Complex64::new(0.5 * (a + b), -1e-9 * edge), from: "the hydrogen-like estimate at infinity".into() })
+}
+
+/// One eigenvalue of a boundary problem with its evidence.
+#[derive(Clone, Debug)]
+pub struct EndMode {
+    /// The overtone (position in the order of |Im ω| among those found, or
+    /// the level for quasi-bound states).
+    pub n: u32,
+    /// The root and its evidence (two integration passes).
+    pub root: IntRoot,
+    /// Where its seed came from.
+    pub seed: Seed,
+}
+
+/// Why a mode is not reported as found.
+fn reject(mut r: IntRoot, why: String) -> IntRoot {
+    r.converged = false;
+    r.reason = why;
+    r
+}
+
+/// Solves the overtones `lo..=hi` of a boundary problem: from `guess` for the
+/// lowest one when given (then each next one from the two before it, or from
+/// the scan), from the hydrogen-like estimate for quasi-bound states, and
+/// otherwise from the scan of the mismatch, numbering the distinct roots
+/// found by |Im ω|. Every loop is bounded (the scan's grid, Muller's
+/// iteration limit, at most 4(hi + 1) + 8 seeds tried).
+pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64>, tol: f64) -> Vec<EndMode> {
+    let quasi_bound = bp.ends[1].condition == Condition::Decaying;
+    let mut out: Vec<EndMode> = Vec::new();
+    if quasi_bound && guess.is_none() {
+        for n in lo..=hi {
+            let Some(seed) = hydrogenic_seed(bp, n) else {
+                let failed = IntRoot {
+                    omega: Complex64::new(f64::NAN, f64::NAN),
+                    converged: false,
+                    residual: f64::NAN,
+                    iterations: 0,
+                    steps: 0,
+                    change: f64::NAN,
+                    reason: "no hydrogen-like estimate at infinity: give --guess".into(),
+                };
+                out.push(EndMode { n, root: failed, seed: Seed { omega: ZERO, from: "none".into() } });
+                continue;
+            };
+            let r = find_root(bp, seed.omega, tol);
+            out.push(EndMode { n, root: r, seed });
+        }
+        return out;
+    }
+    if let Some(g) = guess {
+        for n in lo..=hi {
+            let seed = if n == lo {
+                Seed { omega: g, from: "--guess".into() }
+            } else if out.len() >= 2 && out.iter().rev().take(2).all(|m| m.root.converged) {
+                let (a, b) = (out[out.len() - 1].root.omega, out[out.len() - 2].root.omega);
+                Seed { omega: a + (a - b), from: "extrapolated from the two previous overtones".into() }
+            } else if let Some(last) = out.iter().rev().find(|m| m.root.converged) {
+                let w = last.root.omega;
+                Seed { omega: w - Complex64::new(0.0, 2.0 * w.im.abs().max(0.05 * bp.scale)), from: "below the previous overtone".into() }
+            } else {
+                Seed { omega: g, from: "--guess".into() }
+            };
+            let mut r = find_root(bp, seed.omega, tol);
+            if r.converged {
+                if let Some(prev) = out.iter().find(|m| m.root.converged && (m.root.omega - r.omega).norm() <= 1e-8 * r.omega.norm()) {
+                    let why = format!("the root is overtone {}'s again (the seed led to a mode already found)", prev.n);
+                    r = reject(r, why);
+                }
+            }
+            out.push(EndMode { n, root: r, seed });
+        }
+        return out;
+    }
+    // No guess: every distinct root reached from the scan's minima.
+    let want = hi as usize + 1;
+    let seeds = scan_seeds(bp, want);
+    let mut found: Vec<(IntRoot, Seed)> = Vec::new();
+    for seed in seeds.into_iter().take(4 * want + 8) {
+        let r = find_root(bp, seed.omega, tol);
+        if !r.converged || r.omega.im >= 0.0 || r.omega.re < -1e-12 * r.omega.norm() {
+            continue;
+        }
+        if found.iter().any(|(f, _)| (f.omega - r.omega).norm() <= 1e-7 * r.omega.norm().max(1e-300)) {
+            continue;
+        }
+        found.push((r, seed));
+    }
+    found.sort_by(|a, b| a.0.omega.im.abs().total_cmp(&b.0.omega.im.abs()));
+    for n in lo..=hi {
+        match found.get(n as usize) {
+            Some((r, s)) => out.push(EndMode { n, root: r.clone(), seed: s.clone() }),
+            None => {
+                let failed = IntRoot {
+                    omega: Complex64::new(f64::NAN, f64::NAN),
+                    converged: false,
+                    residual: f64::NAN,
+                    iterations: 0,
+                    steps: 0,
+                    change: f64::NAN,
+                    reason: format!("only {} distinct modes were found in the scanned window: give --guess", found.len()),
+                };
+                out.push(EndMode { n, root: failed, seed: Seed { omega: ZERO, from: "none".into() } });
+            }
+        }
+    }
+    out
+}
