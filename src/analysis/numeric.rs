@@ -37,7 +37,7 @@ impl Values {
     pub fn roots(&self, f: &Poly) -> Option<Vec<Complex64>> {
         let u = UPoly::from_poly(f);
         let c: Vec<Complex64> = u.coeffs.iter().map(|x| self.ratfunc(x)).collect::<Option<_>>()?;
-        try_roots(&c)
+        try_roots(&c).ok()
     }
     /// An exponent's value at θ.
     pub fn exponent(&self, e: &Exponent, theta: Complex64) -> Option<Complex64> {
@@ -53,15 +53,71 @@ impl Values {
     }
 }
 
-/// Roots of Σ c_k z^k (low degree first) by companion-matrix eigenvalues and Newton polishing.
-pub fn try_roots(c: &[Complex64]) -> Option<Vec<Complex64>> {
-    let n = c.len().checked_sub(1)?;
+/// Why a polynomial root search gave no roots.
+#[derive(Clone, Debug, PartialEq)]
+pub enum RootsStop {
+    /// No coefficients, or the leading coefficient is zero.
+    ZeroLeading,
+    /// A coefficient is not finite.
+    NotFinite,
+    /// Neither the QR iteration on the companion matrix nor the simultaneous
+    /// (Aberth–Ehrlich) iteration converged within its limit.
+    IterationLimit {
+        /// The QR iterations spent.
+        qr: usize,
+        /// The simultaneous iterations spent.
+        simultaneous: usize,
+    },
+}
+
+impl std::fmt::Display for RootsStop {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            RootsStop::ZeroLeading => write!(f, "the leading coefficient vanishes"),
+            RootsStop::NotFinite => write!(f, "a coefficient is not finite"),
+            RootsStop::IterationLimit { qr, simultaneous } => write!(
+                f,
+                "no convergence within {qr} QR iterations on the companion matrix nor {simultaneous} simultaneous (Aberth–Ehrlich) iterations"
+            ),
+        }
+    }
+}
+
+/// The QR iteration budget of an n × n eigenvalue problem: 40 iterations
+/// per eigenvalue, more than the 30 a converging Francis iteration needs
+/// (common practice, as in LAPACK's xHSEQR).
+pub(crate) fn qr_limit(n: usize) -> usize {
+    40 * n.max(1)
+}
+
+/// The eigenvalues of a square complex matrix by nalgebra's Schur
+/// decomposition with an iteration limit (its unlimited form cycles on some
+/// matrices, e.g. companion matrices with roots of equal modulus); when the
+/// limit is reached the transpose (same eigenvalues, different iteration)
+/// is tried once. `None` when both stop at the limit.
+pub(crate) fn try_eigenvalues(m: &DMatrix<Complex64>) -> Option<Vec<Complex64>> {
+    let limit = qr_limit(m.nrows());
+    let eig = |a: DMatrix<Complex64>| a.try_schur(f64::EPSILON, limit).and_then(|s| s.eigenvalues());
+    let v = eig(m.clone()).or_else(|| eig(m.transpose()))?;
+    Some(v.iter().copied().collect())
+}
+
+/// Roots of Σ c_k z^k (low degree first): companion-matrix eigenvalues
+/// (QR with an iteration limit), falling back to the Aberth–Ehrlich
+/// simultaneous iteration (O. Aberth, Math. Comp. 27 (1973) 339) with its
+/// own limit, then polished by Newton's method. The error says why no
+/// roots were found.
+pub fn try_roots(c: &[Complex64]) -> Result<Vec<Complex64>, RootsStop> {
+    let n = c.len().checked_sub(1).ok_or(RootsStop::ZeroLeading)?;
+    if c.iter().any(|x| !(x.re.is_finite() && x.im.is_finite())) {
+        return Err(RootsStop::NotFinite);
+    }
     if n == 0 {
-        return Some(Vec::new());
+        return Ok(Vec::new());
     }
     let lead = c[n];
     if lead.norm() == 0.0 {
-        return None;
+        return Err(RootsStop::ZeroLeading);
     }
     let mut m = DMatrix::<Complex64>::zeros(n, n);
     for i in 1..n {
@@ -70,7 +126,6 @@ pub fn try_roots(c: &[Complex64]) -> Option<Vec<Complex64>> {
     for i in 0..n {
         m[(i, n - 1)] = -c[i] / lead;
     }
-    let eig = m.schur().eigenvalues()?;
     let eval = |z: Complex64| -> (Complex64, Complex64) {
         let mut p = Complex64::new(0.0, 0.0);
         let mut d = Complex64::new(0.0, 0.0);
@@ -79,6 +134,10 @@ pub fn try_roots(c: &[Complex64]) -> Option<Vec<Complex64>> {
             p = p * z + c[k];
         }
         (p, d)
+    };
+    let eig = match try_eigenvalues(&m) {
+        Some(e) => e,
+        None => aberth(c, &eval).ok_or(RootsStop::IterationLimit { qr: 2 * qr_limit(n), simultaneous: ABERTH_LIMIT })?,
     };
     let mut roots: Vec<Complex64> = eig
         .iter()
@@ -90,6 +149,9 @@ pub fn try_roots(c: &[Complex64]) -> Option<Vec<Complex64>> {
                     break;
                 }
                 let step = p / d;
+                if !(step.re.is_finite() && step.im.is_finite()) {
+                    break;
+                }
                 z -= step;
                 if step.norm() <= 1e-16 * z.norm().max(1.0) {
                     break;
@@ -98,11 +160,58 @@ pub fn try_roots(c: &[Complex64]) -> Option<Vec<Complex64>> {
             z
         })
         .collect();
+    if roots.iter().any(|z| !(z.re.is_finite() && z.im.is_finite())) {
+        return Err(RootsStop::NotFinite);
+    }
     // Deterministic order: by real part, then imaginary part.
     roots.sort_by(|a, b| {
         a.re.partial_cmp(&b.re).unwrap_or(std::cmp::Ordering::Equal).then(a.im.partial_cmp(&b.im).unwrap_or(std::cmp::Ordering::Equal))
     });
-    Some(roots)
+    Ok(roots)
+}
+
+/// The iteration limit of [`aberth`].
+const ABERTH_LIMIT: usize = 500;
+
+/// The Aberth–Ehrlich simultaneous iteration for all roots of Σ c_k z^k,
+/// started on a circle of the Fujiwara radius; `None` when the corrections
+/// do not fall below 4 ulp of every root (or the residual below
+/// the rounding bound) within [`ABERTH_LIMIT`] sweeps.
+fn aberth(c: &[Complex64], eval: &dyn Fn(Complex64) -> (Complex64, Complex64)) -> Option<Vec<Complex64>> {
+    let n = c.len() - 1;
+    let lead = c[n].norm();
+    let radius = (0..n).map(|k| 2.0 * (c[k].norm() / lead).powf(1.0 / (n - k) as f64)).fold(0.0, f64::max).max(1e-3);
+    if !radius.is_finite() {
+        return None;
+    }
+    let mut z: Vec<Complex64> = (0..n).map(|k| Complex64::from_polar(radius, std::f64::consts::TAU * k as f64 / n as f64 + 0.4)).collect();
+    for _ in 0..ABERTH_LIMIT {
+        let mut done = true;
+        for i in 0..n {
+            let (p, d) = eval(z[i]);
+            // Converged to rounding: |p(z)| within the backward-error bound
+            // of Horner's rule (common practice for polynomial roots).
+            let r = z[i].norm();
+            let bound = c.iter().rev().fold(0.0, |acc, x| acc * r + x.norm()) * 8.0 * (n as f64 + 1.0) * f64::EPSILON;
+            if p.norm() <= bound {
+                continue;
+            }
+            let ratio = p / d;
+            let sum: Complex64 = (0..n).filter(|&j| j != i).map(|j| 1.0 / (z[i] - z[j])).sum();
+            let w = ratio / (1.0 - ratio * sum);
+            if !(w.re.is_finite() && w.im.is_finite()) {
+                return None;
+            }
+            z[i] -= w;
+            if w.norm() > 4.0 * f64::EPSILON * z[i].norm().max(f64::MIN_POSITIVE) {
+                done = false;
+            }
+        }
+        if done {
+            return Some(z);
+        }
+    }
+    None
 }
 
 /// Numeric data of one point (a linear point, one root of a factor, or infinity).

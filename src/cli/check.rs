@@ -25,7 +25,7 @@ pub(crate) fn run(a: &CheckArgs) -> u8 {
             Ok(code) => code,
             Err((msg, code)) => {
                 if !msg.is_empty() {
-                    eprintln!("{}", msg.trim_end());
+                    super::err_line(msg.trim_end());
                 }
                 code
             }

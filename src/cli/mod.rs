@@ -214,7 +214,7 @@ pub(crate) fn run_command(input: &InputArgs, extra: &[(String, String)], compute
     let fail = |f: &Failure, src: Option<&Source>| -> u8 {
         let (msg, code) = report(f, src, Some(input), extra);
         if !msg.is_empty() {
-            eprintln!("{msg}");
+            err_line(&msg);
         }
         code
     };
@@ -228,8 +228,44 @@ pub(crate) fn run_command(input: &InputArgs, extra: &[(String, String)], compute
     }
 }
 
+thread_local! {
+    /// Standard output and error of an in-process run ([`run_captured`]);
+    /// `None` when they go to the terminal.
+    static CAPTURE: std::cell::RefCell<Option<(String, String)>> = const { std::cell::RefCell::new(None) };
+}
+
+/// True while an in-process run captures the output on this thread.
+pub(crate) fn capturing() -> bool {
+    CAPTURE.with(|c| c.borrow().is_some())
+}
+
+/// Writes a message and a newline to standard error (or the capture).
+pub(crate) fn err_line(msg: &str) {
+    let captured = CAPTURE.with(|c| match c.borrow_mut().as_mut() {
+        Some((_, err)) => {
+            err.push_str(msg);
+            err.push('\n');
+            true
+        }
+        None => false,
+    });
+    if !captured {
+        eprintln!("{msg}");
+    }
+}
+
 /// Writes to stdout; a closed pipe ends the program quietly.
 pub(crate) fn emit(text: &str) -> Result<(), Failure> {
+    let captured = CAPTURE.with(|c| match c.borrow_mut().as_mut() {
+        Some((out, _)) => {
+            out.push_str(text);
+            true
+        }
+        None => false,
+    });
+    if captured {
+        return Ok(());
+    }
     let mut out = std::io::stdout().lock();
     match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
         Ok(()) => Ok(()),
@@ -263,6 +299,49 @@ pub fn main_with_args(args: Vec<OsString>) -> ExitCode {
         }
     };
     ExitCode::from(code)
+}
+
+/// What an in-process run printed, and its exit status.
+#[derive(Clone, Debug, Default)]
+pub struct Captured {
+    /// The exit status (0 success, 1 internal failure or a changed record, 2 bad input).
+    pub code: u8,
+    /// Everything written to standard output.
+    pub stdout: String,
+    /// Everything written to standard error.
+    pub stderr: String,
+}
+
+/// Runs the program on the given arguments (the first is the program name)
+/// on the calling thread and returns what it printed: the same work and
+/// messages as the binary, for tests that drive every subcommand in
+/// process. Files named by the arguments are still read and written. The
+/// caller provides a thread with a large stack when the input may nest
+/// deeply, as the binary does.
+pub fn run_captured(args: Vec<OsString>) -> Captured {
+    let cli = match Cli::try_parse_from(args) {
+        Ok(c) => c,
+        Err(e) => {
+            let code = if e.use_stderr() { 2 } else { 0 };
+            let text = e.render().to_string();
+            let (stdout, stderr) = if code == 0 { (text, String::new()) } else { (String::new(), text) };
+            return Captured { code, stdout, stderr };
+        }
+    };
+    CAPTURE.with(|c| *c.borrow_mut() = Some((String::new(), String::new())));
+    // The capture is taken back even when the command panics, so that a
+    // later run on this thread prints normally.
+    struct Reset;
+    impl Drop for Reset {
+        fn drop(&mut self) {
+            let _ = CAPTURE.try_with(|c| c.borrow_mut().take());
+        }
+    }
+    let reset = Reset;
+    let code = run(cli);
+    let (stdout, stderr) = CAPTURE.with(|c| c.borrow_mut().take()).unwrap_or_default();
+    drop(reset);
+    Captured { code, stdout, stderr }
 }
 
 fn run(cli: Cli) -> u8 {

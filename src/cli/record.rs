@@ -34,7 +34,7 @@ pub(crate) fn run(a: &RecordArgs) -> u8 {
     let fail = |f: &Failure, src: Option<&super::Source>| -> u8 {
         let (msg, code) = report(f, src, Some(&a.input), &extra);
         if !msg.is_empty() {
-            eprintln!("{msg}");
+            super::err_line(&msg);
         }
         code
     };

@@ -163,7 +163,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
         .map_err(|e| super::spectrum::angular_failure(e, asrc))?;
     }
     let total = range.len() as u64;
-    let bar = if std::io::stderr().is_terminal() { Some(indicatif::ProgressBar::new(total)) } else { None };
+    let bar = if std::io::stderr().is_terminal() && !super::capturing() { Some(indicatif::ProgressBar::new(total)) } else { None };
     let tick = || {
         if let Some(b) = &bar {
             b.inc(1);

@@ -810,7 +810,7 @@ fn bound_states(
                         "n": s.n,
                         "omega": if s.converged { serde_json::json!([s.value.re, s.value.im]) } else { serde_json::Value::Null },
                         "converged": s.converged,
-                        "reason": if s.converged { serde_json::Value::Null } else { serde_json::Value::String("the eigenvalue kept changing when the points were doubled (or fewer bound states exist below the continuum)".into()) },
+                        "reason": if s.converged { serde_json::Value::Null } else { serde_json::Value::String(s.reason.clone().unwrap_or_default()) },
                         "method": "collocation",
                         "evidence": {"points": s.points, "change_on_doubling": s.change, "domain": dom_text},
                         "check": check,
@@ -852,10 +852,7 @@ fn bound_states(
                         s.change
                     ));
                 } else {
-                    o.push_str(&format!(
-                        "  {:<2} NOT CONVERGED: the eigenvalue kept changing when the points were doubled (there may be fewer bound states)\n",
-                        s.n
-                    ));
+                    o.push_str(&format!("  {:<2} NOT CONVERGED: {}\n", s.n, s.reason.as_deref().unwrap_or_default()));
                 }
                 match c {
                     Some(BoundCheck::Agrees(r)) => {

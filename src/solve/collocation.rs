@@ -40,7 +40,12 @@ pub struct BoundState {
     /// (converged or not): where a refinement by another method would have
     /// landed on a different state.
     pub neighbours: Vec<Complex64>,
+    /// Why it did not converge (None when it did).
+    pub reason: Option<String>,
 }
+
+/// The reason of an eigenvalue that kept changing.
+const KEPT_CHANGING: &str = "the eigenvalue kept changing when the points were doubled (or fewer bound states exist below the continuum)";
 
 fn usage(msg: impl Into<String>) -> Error {
     Error::new(ErrorKind::Usage, msg)
@@ -100,7 +105,25 @@ impl Eval {
     }
 }
 
-fn eigenvalues(q0: &Eval, q1: &Eval, domain: Domain, scale: f64, n: usize) -> Option<Vec<Complex64>> {
+/// Why the eigenvalues of one collocation grid are missing.
+#[derive(Clone, Debug, PartialEq)]
+enum GridStop {
+    /// The weight Q₁ vanishes or is not finite at a collocation point.
+    Weight,
+    /// The QR iteration reached its limit.
+    IterationLimit(usize),
+}
+
+impl GridStop {
+    fn text(&self) -> String {
+        match self {
+            GridStop::Weight => "the collocation matrix could not be formed (a weight vanishes inside the interval)".into(),
+            GridStop::IterationLimit(k) => format!("the eigenvalue iteration did not converge within {k} QR iterations"),
+        }
+    }
+}
+
+fn eigenvalues(q0: &Eval, q1: &Eval, domain: Domain, scale: f64, n: usize) -> std::result::Result<Vec<Complex64>, GridStop> {
     let (x, d) = cheb(n);
     let d2 = &d * &d;
     let m = n - 1; // interior points 1..n−1 (ψ = 0 at x = ±1)
@@ -108,8 +131,8 @@ fn eigenvalues(q0: &Eval, q1: &Eval, domain: Domain, scale: f64, n: usize) -> Op
     for i in 1..n {
         let (z, g1, g2) = map(domain, scale, x[i]);
         let w = q1.at(z);
-        if w.norm() == 0.0 || !w.re.is_finite() {
-            return None;
+        if w.norm() == 0.0 || !w.re.is_finite() || !w.im.is_finite() {
+            return Err(GridStop::Weight);
         }
         let q = q0.at(z);
         for j in 1..n {
@@ -122,10 +145,10 @@ fn eigenvalues(q0: &Eval, q1: &Eval, domain: Domain, scale: f64, n: usize) -> Op
             a[(i - 1, j - 1)] = v / w;
         }
     }
-    let mut ev: Vec<Complex64> = a.schur().eigenvalues()?.iter().copied().collect();
+    let mut ev = crate::analysis::numeric::try_eigenvalues(&a).ok_or(GridStop::IterationLimit(2 * crate::analysis::numeric::qr_limit(m)))?;
     ev.retain(|e| e.re.is_finite() && e.im.is_finite());
     ev.sort_by(|p, q| p.re.partial_cmp(&q.re).unwrap_or(std::cmp::Ordering::Equal));
-    Some(ev)
+    Ok(ev)
 }
 
 /// The lowest `count` eigenvalues E of −ψ'' − Q₀ψ = E Q₁ψ below `threshold`
@@ -158,14 +181,18 @@ pub fn try_bound_states(
     let below =
         |v: Vec<Complex64>| -> Vec<Complex64> { v.into_iter().filter(|e| e.re < threshold && e.im.abs() <= 1e-6 * e.re.abs().max(1.0)).collect() };
     let mut n = 48usize;
-    let mut prev = below(
-        eigenvalues(&e0, &e1, domain, scale, n)
-            .ok_or_else(|| usage("the collocation matrix could not be formed (a weight vanishes inside the interval)"))?,
-    );
+    let mut prev = below(eigenvalues(&e0, &e1, domain, scale, n).map_err(|e| usage(e.text()))?);
     let mut out: Vec<Option<BoundState>> = vec![None; count];
+    let mut stop: Option<String> = None;
     while n <= 384 {
         let m = n * 2;
-        let Some(next) = eigenvalues(&e0, &e1, domain, scale, m).map(below) else { break };
+        let next = match eigenvalues(&e0, &e1, domain, scale, m) {
+            Ok(v) => below(v),
+            Err(e) => {
+                stop = Some(e.text());
+                break;
+            }
+        };
         for (i, slot) in out.iter_mut().enumerate() {
             if slot.as_ref().is_some_and(|s| s.converged) {
                 continue;
@@ -173,8 +200,10 @@ pub fn try_bound_states(
             if let (Some(a), Some(b)) = (prev.get(i), next.get(i)) {
                 let change = (a - b).norm();
                 let neighbours = [i.checked_sub(1), Some(i + 1)].into_iter().flatten().filter_map(|j| next.get(j).copied()).collect();
-                *slot =
-                    Some(BoundState { n: i as u32, value: *b, converged: change <= tol * b.norm().max(1e-300), change, points: m + 1, neighbours });
+                let finite = b.re.is_finite() && b.im.is_finite() && change.is_finite();
+                let converged = finite && change <= tol * b.norm().max(1e-300);
+                let reason = (!converged).then(|| KEPT_CHANGING.to_string());
+                *slot = Some(BoundState { n: i as u32, value: *b, converged, change, points: m + 1, neighbours, reason });
             }
         }
         if out.iter().all(|s| s.as_ref().is_some_and(|s| s.converged)) {
@@ -187,14 +216,19 @@ pub fn try_bound_states(
         .into_iter()
         .enumerate()
         .map(|(i, s)| {
-            s.unwrap_or(BoundState {
+            let mut s = s.unwrap_or(BoundState {
                 n: i as u32,
                 value: Complex64::new(f64::NAN, f64::NAN),
                 converged: false,
                 change: f64::NAN,
                 points: n + 1,
                 neighbours: Vec::new(),
-            })
+                reason: Some(KEPT_CHANGING.to_string()),
+            });
+            if let (false, Some(why)) = (s.converged, &stop) {
+                s.reason = Some(why.clone());
+            }
+            s
         })
         .collect())
 }

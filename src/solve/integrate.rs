@@ -274,7 +274,8 @@ pub(super) fn horizon(k: &Coeffs, zh: f64) -> Result<Horizon, String> {
     }
     // Deflating by t^m leaves the other zeros, free of the splitting a
     // multiple root suffers in a companion matrix.
-    let others: Vec<Complex64> = try_roots(&a[m..]).ok_or("the zeros of A cannot be computed")?.into_iter().map(|t| t + z0).collect();
+    let others: Vec<Complex64> =
+        try_roots(&a[m..]).map_err(|e| format!("the zeros of A cannot be computed: {e}"))?.into_iter().map(|t| t + z0).collect();
     let d = others.iter().map(|r| (r - z0).norm()).fold(f64::INFINITY, f64::min);
     if d == 0.0 {
         return Err("another zero of A coincides with the horizon".into());

@@ -117,7 +117,7 @@ fn evaluate(ode: &NumOde, domain: Domain, e: Complex64, p: &Params) -> std::resu
     // The zeros of A, exact at a regular end (the deflated others beside it).
     let roots: Vec<Complex64> = match (&hl, &hr) {
         (Some(h), _) | (None, Some(h)) => h.others.iter().copied().chain([Complex64::new(h.z, 0.0)]).collect(),
-        (None, None) => crate::analysis::numeric::try_roots(&k.a).ok_or("the zeros of A cannot be computed")?,
+        (None, None) => crate::analysis::numeric::try_roots(&k.a).map_err(|e| format!("the zeros of A cannot be computed: {e}"))?,
     };
     // The matching point: a Frobenius start's distance from the (left)
     // finite end, as for a horizon, or that many units from the origin on
@@ -216,7 +216,15 @@ mod tests {
 
     fn state(value: f64, neighbours: &[f64]) -> BoundState {
         let c = |x: f64| Complex64::new(x, 0.0);
-        BoundState { n: 0, value: c(value), converged: true, change: 0.0, points: 0, neighbours: neighbours.iter().map(|x| c(*x)).collect() }
+        BoundState {
+            n: 0,
+            value: c(value),
+            converged: true,
+            change: 0.0,
+            points: 0,
+            neighbours: neighbours.iter().map(|x| c(*x)).collect(),
+            reason: None,
+        }
     }
 
     #[test]

@@ -168,7 +168,7 @@ fn peak(field: &Field, v: &RatFunc, tower: &[NumRat], (a, b): (f64, f64)) -> Res
     // points are exactly the numerator's roots; differentiating in z rather
     // than x keeps the zeros of 1/h (horizons) out of the candidate list.
     let c = coeffs(dv.num(), dv.scale())?;
-    let roots = try_roots(&c).ok_or_else(|| Error::new(ErrorKind::Internal, "the eigenvalue solver failed on the critical points of V"))?;
+    let roots = try_roots(&c).map_err(|e| Error::new(ErrorKind::Limit, format!("the critical points of V cannot be computed: {e}")))?;
     let mut critical = 0;
     let mut best: Option<(f64, f64)> = None;
     for r in roots {

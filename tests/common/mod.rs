@@ -46,3 +46,53 @@ impl Rng {
         &items[self.below(items.len())]
     }
 }
+
+/// Runs `canonode ARGS…` in process on a thread with a large stack (as the
+/// binary does) and returns what it printed; `None` when it did not finish
+/// within `bound` (a hang detector, not a timing assertion: the bound is
+/// generous). A panic is re-raised with the arguments.
+pub fn run_bounded(args: &[&str], bound: std::time::Duration) -> Option<canonode::cli::Captured> {
+    let mut argv: Vec<std::ffi::OsString> = vec!["canonode".into()];
+    argv.extend(args.iter().map(|a| std::ffi::OsString::from(*a)));
+    let (tx, rx) = std::sync::mpsc::channel();
+    let handle = std::thread::Builder::new()
+        .stack_size(256 << 20)
+        .spawn(move || {
+            let _ = tx.send(canonode::cli::run_captured(argv));
+        })
+        .expect("a worker thread");
+    match rx.recv_timeout(bound) {
+        Ok(c) => {
+            let _ = handle.join();
+            Some(c)
+        }
+        Err(std::sync::mpsc::RecvTimeoutError::Timeout) => None,
+        Err(std::sync::mpsc::RecvTimeoutError::Disconnected) => {
+            let msg = match handle.join() {
+                Err(p) => p.downcast_ref::<String>().cloned().or_else(|| p.downcast_ref::<&str>().map(|s| s.to_string())).unwrap_or_default(),
+                Ok(()) => String::new(),
+            };
+            panic!("PANIC {msg:?} in canonode {args:?}")
+        }
+    }
+}
+
+/// The first non-finite number printed in `text` (`NaN`, `inf`, `-inf`,
+/// `inf` as the imaginary part `…+infi`), with its context; prose words such
+/// as "infinity" or "inferred" do not count.
+pub fn non_finite(text: &str) -> Option<String> {
+    let b = text.as_bytes();
+    let alpha = |i: usize| b.get(i).is_some_and(|c| c.is_ascii_alphabetic());
+    for (i, _) in text.match_indices("NaN").chain(text.match_indices("nan")).chain(text.match_indices("inf")) {
+        let len = 3;
+        let before = i > 0 && alpha(i - 1);
+        // `infi` (an infinite imaginary part) counts; `infinity`, `infinite`, `inferred` do not.
+        let after = alpha(i + len) && !(b.get(i + len) == Some(&b'i') && !alpha(i + len + 1));
+        if !before && !after {
+            let lo = text.floor_char_boundary(i.saturating_sub(60));
+            let hi = text.ceil_char_boundary((i + 60).min(text.len()));
+            return Some(text[lo..hi].to_string());
+        }
+    }
+    None
+}
