@@ -603,3 +603,108 @@ fn spheroidal_eigenvalue_mirror_symmetry_and_counter_rotating_kerr_mode() {
     assert!(re > 0.0 && re < 0.3737 && im < 0.0, "{re} {im}");
     assert!(ms[0]["check"]["agreement"].as_f64().unwrap() < 1e-10);
 }
+
+/// `spectrum FILE --at AT --format json` plus `extra`, from any path.
+fn modes_of(path: &str, at: &str, extra: &[&str]) -> (Value, Vec<Value>) {
+    let mut args = vec!["spectrum", path, "--at", at, "--format", "json"];
+    args.extend_from_slice(extra);
+    let (v, code, err) = run(&args);
+    assert_eq!(code, 0, "{args:?}: {err}");
+    let ms = v["modes"].as_array().expect("modes").clone();
+    (v, ms)
+}
+
+#[test]
+fn schwarzschild_anti_de_sitter_modes_with_a_normalisable_boundary() {
+    // Horowitz & Hubeny, Phys. Rev. D 62 (2000) 024027, massless scalar,
+    // l = 0, L = 1 (from memory): r₊ = 1 → 2.7982 − 2.6712i, r₊ = 10 →
+    // 18.607 − 26.642i. M = (r₊ + r₊³)/2 puts the horizon at r₊; no guess.
+    for (m, want) in [("1", (2.7982f64, -2.6712f64)), ("505", (18.607, -26.642))] {
+        let at = format!("M={m},L=1,l=0");
+        let (v, ms) = modes_of("tests/boundary/schwarzschild_ads_scalar.ode", &at, &[]);
+        assert_eq!(v["ends"][1]["at"], "inf");
+        assert_eq!(v["ends"][1]["condition"], "normalisable");
+        assert_eq!(v["ends"][0]["condition"], "into");
+        let (re, im) = omega(&ms[0]);
+        let tol = 6e-5 * want.0.abs().max(1.0) * if m == "505" { 10.0 } else { 1.0 };
+        assert!((re - want.0).abs() <= tol && (im - want.1).abs() <= tol, "r+ from M={m}: {re} {im} vs {want:?}");
+    }
+}
+
+#[test]
+fn btz_modes_are_exact() {
+    // Birmingham, Sachs & Solodukhin, Phys. Rev. Lett. 88 (2002) 151301:
+    // ω = ±k − 2i r₊(n + 1) for a massless scalar, L = 1. The spectral
+    // parameter here is named `freq` and inferred as the one without a value.
+    for (rp, k, n) in [(1.0, 1.0, 0u32), (1.5, 2.0, 0), (1.5, 2.0, 1)] {
+        let at = format!("rp={rp},k={k}");
+        let (want_re, want_im) = (k, -2.0 * rp * (n as f64 + 1.0));
+        let guess = format!("{}{:+}i", want_re * 1.03, want_im * 0.97);
+        let (v, ms) = modes_of("tests/boundary/btz_scalar.ode", &at, &["--guess", &guess]);
+        assert_eq!(v["frequency"], "freq");
+        let (re, im) = omega(&ms[0]);
+        assert!((re - want_re).abs() <= 1e-9 && (im - want_im).abs() <= 1e-9, "rp={rp} k={k} n={n}: {re} {im}");
+    }
+}
+
+#[test]
+fn schwarzschild_de_sitter_domain_lies_between_the_two_horizons() {
+    // Kottler metric (sample): the black-hole and cosmological horizons are
+    // two real roots of one cubic; the domain is between them, ingoing at
+    // both. Against Schwarzschild l = 1 (0.29293613 − 0.09765999i, Leaver
+    // 1985 / Berti, Cardoso & Starinets 2009) a positive Λ lowers both Re ω
+    // and |Im ω| (common practice).
+    let (v, ms) = modes_of("samples/schwarzschild_de_sitter_scalar.ode", "M=1,Lambda=0.02,l=1", &[]);
+    let ends = v["ends"].as_array().unwrap();
+    let (a, b) = (ends[0]["at"].as_f64().unwrap(), ends[1]["at"].as_f64().unwrap());
+    // Roots of r³ − 150 r + 300 (3/Λ = 150, 6M/Λ = 300).
+    for r in [a, b] {
+        assert!((r * r * r - 150.0 * r + 300.0).abs() < 1e-8, "{r}");
+    }
+    assert!(a > 2.0 && a < 2.1 && b > 11.0 && b < 11.1, "{a} {b}");
+    assert_eq!(ends[0]["condition"], "into");
+    assert_eq!(ends[1]["condition"], "into");
+    let (re, im) = omega(&ms[0]);
+    assert!(re < 0.29293613 && re > 0.2 && im < 0.0 && im > -0.09765999, "{re} {im}");
+    assert!(ms[0]["evidence"]["change_on_refinement"].as_f64().unwrap() < 1e-10);
+}
+
+#[test]
+fn massive_scalar_quasi_bound_states_are_hydrogen_like() {
+    // For small Mμ the quasi-bound states approach the hydrogenic levels
+    // ω ≈ μ(1 − (Mμ)²/(2(l + n + 1)²)) and decay slowly (Detweiler, Phys.
+    // Rev. D 22 (1980) 2323); the branch at infinity decays, Re √(μ² − ω²) > 0.
+    for (mu, l, n) in [(0.05f64, 0, 0u32), (0.1, 0, 0), (0.1, 0, 1)] {
+        let at = format!("M=1,mu={mu},l={l}");
+        let ov = n.to_string();
+        let (v, ms) = modes_of("tests/boundary/massive_scalar_schwarzschild.ode", &at, &["--boundary", "quasi-bound", "--overtones", &ov]);
+        assert_eq!(v["ends"][1]["condition"], "decaying");
+        let (re, im) = omega(&ms[0]);
+        let hyd = mu * (1.0 - (mu * mu) / (2.0 * ((l as f64) + n as f64 + 1.0).powi(2)));
+        // The next correction is of relative order (Mμ)⁴ (common practice).
+        assert!((re - hyd).abs() <= 10.0 * mu.powi(4) * mu, "μ={mu} l={l} n={n}: {re} vs {hyd}");
+        assert!(im < 0.0 && im.abs() < 1e-3 * re, "{im}");
+    }
+}
+
+#[test]
+fn ends_option_errors_name_the_option() {
+    let (_, code, err) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--ends", "2..nowhere"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("--ends") && err.contains("nowhere"), "{err}");
+    let (_, code, err) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--ends", "2:sideways..inf"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("not a condition"), "{err}");
+    let (_, code, err) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--ends", "3..inf"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("not a real singular point"), "{err}");
+}
+
+#[test]
+fn schwarzschild_by_integration_between_given_ends_matches_the_continued_fraction() {
+    // The same boundary problem named by hand: horizon r = 2M ingoing,
+    // infinity outgoing; Leaver 1985 (8 decimals, see above).
+    let (_, ms) = modes_of("samples/regge_wheeler.ode", "M=1,l=2,s=2", &["--ends", "2:into..inf:outgoing", "--guess", "0.37-0.09i"]);
+    let (re, im) = omega(&ms[0]);
+    assert!((re - 0.37367168).abs() <= 5.1e-9 && (im + 0.08896232).abs() <= 5.1e-9, "{re} {im}");
+}

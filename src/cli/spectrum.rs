@@ -255,14 +255,16 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         Some(t) => Some(parse_ends(t)?),
         None => None,
     };
-    let problem = crate::solve::boundary::try_problem(&red.field, &red.normal.q, &point, freq, kind, given_ends);
-    // The exact continued-fraction route covers a horizon and an irregular
-    // infinity with the default conditions; every other problem (and one the
-    // exact route cannot set up) goes to direct integration between its ends.
+    let problem = crate::solve::boundary::try_problem(&red.field, &red.normal.q, &red.q, &point, freq, kind, given_ends);
+    // The exact recurrence route (continued fraction or terminating series)
+    // covers problems from a horizon that do not end at a regular infinity,
+    // with the default conditions; every other problem (and one the exact
+    // route cannot set up) goes to direct integration between its ends.
     let classic = kind == SpectrumKind::Quasinormal
         && a.ends.is_none()
         && problem.as_ref().map_or(true, |bp| {
-            bp.ends[0].nature == crate::solve::boundary::Nature::Horizon && bp.ends[1].nature == crate::solve::boundary::Nature::IrregularRank1
+            use crate::solve::boundary::Nature;
+            bp.ends[0].nature == Nature::Horizon && !(bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::Regular)
         });
     let opts = SpectrumOptions { freq, values: point, overtones, tol: a.tol, guess, seeds: Vec::new() };
     if classic {
@@ -339,7 +341,7 @@ fn between_ends(
     };
     let method = "direct integration between the ends (Frobenius series at regular ends, asymptotic series at an irregular infinity, Taylor continuation; Muller roots)";
     let end_text = |e: &crate::solve::boundary::End| {
-        format!("{} = {}: {}; condition: {}", var, crate::solve::boundary::location_text(e.location), e.found, e.condition.words())
+        format!("{} = {} ({}); condition: {}", var, crate::solve::boundary::location_text(e.location), e.found, e.condition.words())
     };
     let numbering = if opts.guess.is_none() && bp.ends[1].condition != Condition::Decaying {
         Some("no --guess: the modes are the distinct roots reached from a scan of the complex plane, numbered by |Im ω|; a mode the scan missed would shift the numbering")

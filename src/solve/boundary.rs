@@ -13,8 +13,8 @@
 //! "Boundary problems on every background"): from the outermost black-hole
 //! horizon to the next singular end outward. When infinity is irregular
 //! (asymptotically flat, massless or massive) that is infinity; when it is a
-//! regular point the sign of the potential V = ω² − Q/h² (h² the coefficient
-//! of ω² in Q) beyond the outermost horizon decides: V > 0 there is an
+//! regular point the sign of the potential V = ω² − q/h² of the equation as
+//! written (h² the coefficient of ω² in q) inside and beyond the outermost horizon decides: V > 0 there is an
 //! anti-de Sitter boundary (the domain reaches it), V < 0 a region beyond a
 //! cosmological horizon (the domain ends at that horizon and starts at the
 //! next singular point inward: a black-hole horizon, or a centre).
@@ -250,12 +250,16 @@ fn z_degree(p: &super::NPoly) -> Option<usize> {
 pub fn try_problem(
     field: &Field,
     q: &RatFunc,
+    unknown_q: &RatFunc,
     values: &[GRat],
     freq: usize,
     kind: SpectrumKind,
     given: Option<[(Location, Option<Condition>); 2]>,
 ) -> Result<BoundaryProblem> {
     let ode = super::try_num_ode(field, &RatFunc::zero(), q, values, freq)?;
+    // The unknown's own coefficient of y: its ω-free part against its ω²
+    // part is the potential as the equation was written (sign of f·W).
+    let unknown = super::try_num_ode(field, &RatFunc::zero(), unknown_q, values, freq)?;
     if ode.a.c.iter().any(|row| row.len() > 1 && row[1..].iter().any(|c| c.norm() > 0.0)) {
         return Err(usage("the denominator of Q depends on the spectral parameter: the ends would move with it"));
     }
@@ -272,7 +276,7 @@ pub fn try_problem(
         if deg == 0 {
             continue;
         }
-        let roots = try_roots(&coeffs).ok_or_else(|| usage("the singular points could not be located numerically"))?;
+        let roots = try_roots(&coeffs).map_err(|e| usage(format!("the singular points could not be located numerically: {e}")))?;
         let text = crate::algebra::print::poly_text(f.poly(), &crate::algebra::Int::from(1), names, crate::algebra::print::Style::Text);
         for r in roots {
             zeros.push(r);
@@ -309,9 +313,9 @@ pub fn try_problem(
             Nature::IrregularRank1 => "irregular point",
         };
         if p.factor.1 == 1 {
-            format!("z = {} ({what}, the root of {})", fmt(p.z), p.factor.0)
+            format!("{what}, the root of {}", p.factor.0)
         } else {
-            format!("z ≈ {} ({what}, a real root of {} of degree {}, located numerically)", fmt(p.z), p.factor.0, p.factor.1)
+            format!("{what}, a real root of {} (degree {}), located numerically", p.factor.0, p.factor.1)
         }
     };
     let find_point = |z: f64| real_points.iter().find(|p| (p.z - z).abs() <= 1e-9 * z.abs().max(1.0));
@@ -323,11 +327,11 @@ pub fn try_problem(
                     Location::Infinity => {
                         let n = inf_nature
                             .ok_or_else(|| usage(format!("infinity has Poincaré rank {} here: not supported as an end yet", d as f64 / 2.0 + 1.0)))?;
-                        out.push((Location::Infinity, n, "z = ∞ (given)".to_string()));
+                        out.push((Location::Infinity, n, "infinity, given".to_string()));
                     }
                     Location::At(z) => {
                         let p = find_point(*z).ok_or_else(|| usage(format!("z = {z} is not a real singular point of Q at these values")))?;
-                        out.push((Location::At(p.z), p.nature, format!("{} (given)", describe(p))));
+                        out.push((Location::At(p.z), p.nature, format!("{}, given", describe(p))));
                     }
                 }
             }
@@ -347,13 +351,38 @@ pub fn try_problem(
             let beyond_is_static = match (inf, inner) {
                 (Nature::IrregularRank1, _) | (_, None) => true,
                 (_, Some(inner)) => {
+                    // Two readings of the potential: of the equation as written and of
+                    // its normal form. One that sees a cosmological horizon (positive
+                    // inside, negative beyond) decides unless the other sees the opposite.
                     let gap = outer.z - inner.z;
-                    !(potential_at(&ode, inner.z + 0.5 * gap) > 0.0 && potential_at(&ode, outer.z + 0.5 * gap) < 0.0)
+                    let says = |eq: &NumOde| {
+                        let (mid, beyond) = (potential_at(eq, inner.z + 0.5 * gap), potential_at(eq, outer.z + 0.5 * gap));
+                        (mid > 0.0 && beyond < 0.0, mid < 0.0 && beyond > 0.0)
+                    };
+                    let ((ia, ea), (ib, eb)) = (says(&unknown), says(&ode));
+                    let interior = (ia && !eb) || (ib && !ea);
+                    if !(ia || ea || ib || eb) || (ia && eb) || (ib && ea) {
+                        notes.push(
+                            "the sign of the potential does not tell whether the outermost horizon bounds a static region reaching infinity or is a cosmological horizon: taken as the former (name the ends with --ends otherwise)"
+                                .to_string(),
+                        );
+                    }
+                    !interior
                 }
             };
             if beyond_is_static {
                 notes.push("the domain runs from the outermost horizon to infinity".to_string());
-                [(Location::At(outer.z), Nature::Horizon, describe(outer)), (Location::Infinity, inf, "z = ∞".to_string())]
+                [
+                    (Location::At(outer.z), Nature::Horizon, describe(outer)),
+                    (
+                        Location::Infinity,
+                        inf,
+                        match inf {
+                            Nature::IrregularRank1 => "irregular point of rank 1".to_string(),
+                            _ => "regular boundary".to_string(),
+                        },
+                    ),
+                ]
             } else {
                 // The outermost horizon is cosmological: the domain lies inside it.
                 let Some(inner) = inner else { return Err(Error::new(ErrorKind::Internal, "no inner end")) };
@@ -408,8 +437,9 @@ pub fn try_problem(
     Ok(BoundaryProblem { freq, ode, ends: [left, right], zeros, real_points, scale, notes })
 }
 
-/// V = ω² − Q/h² at a real point x (h² the coefficient of ω² in Q, so
-/// V = −Q₀/Q₂ with Q₀ the ω-free part); 0 where h² vanishes.
+/// V = ω² − q/h² at a real point x of y'' + p y' + q y = 0 (h² the
+/// coefficient of ω² in q, so V = −q₀/q₂ with q₀ the ω-free part), the
+/// potential as the equation was written; 0 where h² vanishes.
 fn potential_at(ode: &NumOde, x: f64) -> f64 {
     let at =
         |j: usize| -> f64 { ode.c.c.iter().rev().fold(Complex64::new(0.0, 0.0), |acc, row| acc * x + row.get(j).copied().unwrap_or_default()).re };
