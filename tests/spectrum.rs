@@ -667,6 +667,16 @@ fn schwarzschild_de_sitter_domain_lies_between_the_two_horizons() {
     let (re, im) = omega(&ms[0]);
     assert!(re < 0.29293613 && re > 0.2 && im < 0.0 && im > -0.09765999, "{re} {im}");
     assert!(ms[0]["evidence"]["change_on_refinement"].as_f64().unwrap() < 1e-10);
+    // As Λ → 0 the mode tends to Schwarzschild's, monotonically.
+    let mut last = (re, im);
+    for lam in ["0.005", "0.001"] {
+        let at = format!("M=1,Lambda={lam},l=1");
+        let (_, ms) = modes_of("samples/schwarzschild_de_sitter_scalar.ode", &at, &["--guess", "0.29-0.097i"]);
+        let (re, im) = omega(&ms[0]);
+        assert!(re > last.0 && im < last.1 && re < 0.29293613 && im > -0.09765999, "Λ={lam}: {re} {im} after {last:?}");
+        last = (re, im);
+    }
+    assert!((last.0 - 0.29293613).abs() < 2e-3 && (last.1 + 0.09765999).abs() < 1e-3, "{last:?}");
 }
 
 #[test]

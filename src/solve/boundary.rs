@@ -13,11 +13,15 @@
 //! "Boundary problems on every background"): from the outermost black-hole
 //! horizon to the next singular end outward. When infinity is irregular
 //! (asymptotically flat, massless or massive) that is infinity; when it is a
-//! regular point the sign of the potential V = ω² − q/h² of the equation as
-//! written (h² the coefficient of ω² in q) inside and beyond the outermost horizon decides: V > 0 there is an
-//! anti-de Sitter boundary (the domain reaches it), V < 0 a region beyond a
-//! cosmological horizon (the domain ends at that horizon and starts at the
-//! next singular point inward: a black-hole horizon, or a centre).
+//! regular point, two neighbouring horizons are a black-hole and a
+//! cosmological horizon (de Sitter: the domain lies between them); a single
+//! outer horizon over a centre is cosmological when the potential
+//! V = ω² − q/h² (h² the coefficient of ω² in q) is positive inside it and
+//! negative beyond (the de Sitter static patch), and otherwise the black
+//! hole's, with an anti-de Sitter boundary at infinity. The equation alone
+//! cannot always tell these apart (flipping the sign of f changes only the
+//! sign of the angular and mass terms), so the choice is printed and
+//! `--ends` overrides it.
 
 use crate::algebra::{Field, GRat, RatFunc};
 use crate::analysis::numeric::try_roots;
@@ -351,19 +355,16 @@ pub fn try_problem(
             let beyond_is_static = match (inf, inner) {
                 (Nature::IrregularRank1, _) | (_, None) => true,
                 (_, Some(inner)) => {
-                    // Two readings of the potential: of the equation as written and of
-                    // its normal form. One that sees a cosmological horizon (positive
-                    // inside, negative beyond) decides unless the other sees the opposite.
+                    // Two horizons next to each other with a regular infinity beyond:
+                    // a black-hole and a cosmological horizon (de Sitter). Otherwise the
+                    // potential decides: positive inside and negative beyond the outer
+                    // horizon (as written, or in normal form) marks a cosmological one.
                     let gap = outer.z - inner.z;
-                    let says = |eq: &NumOde| {
-                        let (mid, beyond) = (potential_at(eq, inner.z + 0.5 * gap), potential_at(eq, outer.z + 0.5 * gap));
-                        (mid > 0.0 && beyond < 0.0, mid < 0.0 && beyond > 0.0)
-                    };
-                    let ((ia, ea), (ib, eb)) = (says(&unknown), says(&ode));
-                    let interior = (ia && !eb) || (ib && !ea);
-                    if !(ia || ea || ib || eb) || (ia && eb) || (ib && ea) {
+                    let says = |eq: &NumOde| potential_at(eq, inner.z + 0.5 * gap) > 0.0 && potential_at(eq, outer.z + 0.5 * gap) < 0.0;
+                    let interior = inner.nature == Nature::Horizon || says(&unknown) || says(&ode);
+                    if inner.nature == Nature::Horizon {
                         notes.push(
-                            "the sign of the potential does not tell whether the outermost horizon bounds a static region reaching infinity or is a cosmological horizon: taken as the former (name the ends with --ends otherwise)"
+                            "two horizons with a regular infinity beyond: taken as a black-hole and a cosmological horizon (for the inner and outer horizons of an anti-de Sitter black hole name the ends with --ends)"
                                 .to_string(),
                         );
                     }

@@ -138,18 +138,23 @@ fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64
     let hl = integrate::horizon(&k, a)?;
     let rho_l = pick_exponent(&bp.ode, &k, &hl, a, left.condition, w)?;
     let dl = if hl.d.is_finite() { hl.d } else { 1.0 + a.abs() };
-    let z_m = a + p.start_fraction * dl;
-    let (yl, dyl) = integrate::frobenius(&hl, rho_l, z_m - a)?;
-    let zm = Complex64::new(z_m, 0.0);
+    let z_l = a + p.start_fraction * dl;
+    let (yl, dyl) = integrate::frobenius(&hl, rho_l, z_l - a)?;
+    let zl = Complex64::new(z_l, 0.0);
     let mut steps = 0;
+    let (mut yl, mut dyl) = (yl, dyl);
     let (yr, dyr) = match (right.location, right.nature) {
         (Location::At(b), _) => {
             let hr = integrate::horizon(&k, b)?;
             let rho_r = pick_exponent(&bp.ode, &k, &hr, b, right.condition, w)?;
             let dr = if hr.d.is_finite() { hr.d } else { 1.0 + b.abs() };
-            let delta = (p.start_fraction * dr).min(0.5 * (b - z_m));
+            let delta = (p.start_fraction * dr).min(0.5 * (b - z_l));
             let (y, dy) = integrate::frobenius(&hr, rho_r, -delta)?;
             let from = Complex64::new(b - delta, 0.0);
+            // Each solution grows towards its own end, so each is carried half
+            // way: the match is between the two start points.
+            let zm = Complex64::new(0.5 * (z_l + b - delta), 0.0);
+            (yl, dyl) = integrate::continue_along(&k, &bp.zeros, zl, zm, yl, dyl, p, f64::INFINITY, &mut steps)?;
             integrate::continue_along(&k, &bp.zeros, from, zm, y, dy, p, f64::INFINITY, &mut steps)?
         }
         (Location::Infinity, Nature::Regular | Nature::Horizon) => {
@@ -175,19 +180,19 @@ fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64
             };
             let dt = if ht.d.is_finite() { ht.d } else { 1.0 };
             // Start where 1/t lies beyond the matching point.
-            let delta = (p.start_fraction * dt).min(0.5 / z_m.abs().max(1e-300));
+            let delta = (p.start_fraction * dt).min(0.5 / z_l.abs().max(1e-300));
             let (y, dyt) = integrate::frobenius(&ht, rho, delta)?;
             let from = Complex64::new(1.0 / delta, 0.0);
             // dy/dz = −t² dY/dt.
             let dy = -delta * delta * dyt;
-            integrate::continue_along(&k, &bp.zeros, from, zm, y, dy, p, f64::INFINITY, &mut steps)?
+            integrate::continue_along(&k, &bp.zeros, from, zl, y, dy, p, f64::INFINITY, &mut steps)?
         }
         (Location::Infinity, Nature::IrregularRank1) => {
             let (mu, nu, mu2) = far_branch(&k, right.condition, w)?;
             let far = Far::new(&k, mu, nu)?;
-            let ray = recessive_ray(mu - mu2, zm, &bp.zeros)?;
+            let ray = recessive_ray(mu - mu2, zl, &bp.zeros)?;
             let d = dl.max(1.0);
-            integrate::from_infinity(&k, &Asymptote::Series(&far), &bp.zeros, zm, ray, (4.0 / (mu - mu2).norm()).max(d), zm, p, &mut steps)?
+            integrate::from_infinity(&k, &Asymptote::Series(&far), &bp.zeros, zl, ray, (4.0 / (mu - mu2).norm()).max(d), zl, p, &mut steps)?
         }
     };
     Ok((integrate::normalised_wronskian((yl, dyl), (yr, dyr), Norm::Products)?, steps))
