@@ -718,3 +718,37 @@ fn schwarzschild_by_integration_between_given_ends_matches_the_continued_fractio
     let (re, im) = omega(&ms[0]);
     assert!((re - 0.37367168).abs() <= 5.1e-9 && (im + 0.08896232).abs() <= 5.1e-9, "{re} {im}");
 }
+
+#[test]
+fn schwarzschild_overtones_past_the_algebraically_special_frequency() {
+    // Leaver 1985 (from memory), s = l = 2, M = 1: n = 9…12 lie past the
+    // algebraically special frequency −2i (Chandrasekhar), where n = 8 sits
+    // and the horizon exponents differ by the integer 8. Overtones found from
+    // a seed meant for a later one are filed under their own number.
+    let ms = modes("regge_wheeler", "M=1,l=2,s=2", "0..12", &[]);
+    let want = [(9, 0.0633, -2.3026), (10, 0.0766, -2.5608), (11, 0.0826, -2.8154), (12, 0.0857, -3.0687)];
+    for (n, re_w, im_w) in want {
+        let (re, im) = omega(&ms[n]);
+        assert!((re - re_w).abs() < 1e-4 && (im - im_w).abs() < 1e-4, "n={n}: {re} {im}");
+    }
+    // No overtone is reported twice and Im ω decreases with n.
+    let conv: Vec<(f64, f64)> = ms.iter().filter(|m| m["converged"] == true).map(omega).collect();
+    for w in conv.windows(2) {
+        assert!(w[1].1 < w[0].1, "{conv:?}");
+    }
+    // The upper half-plane WKB estimate is flagged, never used.
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_canonode"))
+        .args(["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--overtones", "0..9"])
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .unwrap();
+    let text = String::from_utf8_lossy(&out.stdout);
+    let mut flagged = 0;
+    for line in text.lines().filter(|l| l.contains("estimate: third-order WKB")) {
+        let value = line.split("WKB ").nth(1).and_then(|v| v.split(' ').next()).unwrap_or("");
+        let upper = value.len() > 1 && value[1..].contains('+');
+        flagged += usize::from(upper);
+        assert!(!upper || line.contains("upper half-plane"), "{line}");
+    }
+    assert!(flagged >= 1, "third-order WKB leaves the lower half-plane by n = 7 (see the n = 7 estimate): {text}");
+}

@@ -648,7 +648,12 @@ fn render(
                     ));
                 }
                 if let (true, Some(w)) = (r.converged, wkb(m.n)) {
-                    o.push_str(&format!("     estimate: third-order WKB {}\n", fmt_complex(w.re, w.im)));
+                    let warn = if w.im >= 0.0 {
+                        " (upper half-plane: not a decaying mode; the WKB series has failed here and the value was not used)"
+                    } else {
+                        ""
+                    };
+                    o.push_str(&format!("     estimate: third-order WKB {}{warn}\n", fmt_complex(w.re, w.im)));
                 }
             }
             o

@@ -276,10 +276,22 @@ pub fn overtones(
             (*s, "given".to_string())
         } else if n == opts.overtones.0 && opts.guess.is_some() {
             (opts.guess.expect("checked"), "--guess".to_string())
-        } else if modes.len() >= 2 && modes.iter().rev().take(2).all(|m| m.root.converged) {
-            let (a, b) = (modes[modes.len() - 1].root.omega, modes[modes.len() - 2].root.omega);
-            (a + (a - b), "extrapolated from the two previous overtones".to_string())
-        } else if let Some(e) = first_estimate(n) {
+        } else if let Some((a, b)) = last_two_converged(&modes) {
+            // Linear in the overtone number from the two nearest converged
+            // overtones (a failed one in between is stepped over).
+            let (span, ahead) = (f64::from(a.n - b.n), f64::from(n - a.n));
+            let (wa, wb) = (a.root.omega, b.root.omega);
+            // Im ω linear in n; Re ω geometric while it shrinks, so that a seed
+            // past a slowly vanishing real part stays in the right half-plane.
+            let re = if wa.re > 0.0 && wb.re > 0.0 && wa.re < wb.re {
+                wa.re * (wa.re / wb.re).powf(ahead / span)
+            } else {
+                wa.re + (wa.re - wb.re) * ahead / span
+            };
+            let w = Complex64::new(re, wa.im + (wa.im - wb.im) * ahead / span);
+            (w, format!("extrapolated from overtones {} and {}", b.n, a.n))
+        } else if let Some(e) = first_estimate(n).filter(|(w, _)| w.im < 0.0) {
+            // An estimate in the upper half-plane is not a decaying mode: never a seed.
             e
         } else if let Some(last) = modes.iter().rev().find(|m| m.root.converged) {
             (last.root.omega - Complex64::new(0.0, 2.0 * last.root.omega.im.abs().max(0.05)), "below the previous overtone".to_string())
@@ -287,6 +299,18 @@ pub fn overtones(
             return Err(usage(format!("no seed for overtone {n}: give --guess")));
         };
         let mut root = solve(n, seed.0);
+        // A root in the left half-plane is the mirror −ω̄ of a mode when the
+        // equation is real: start again from the mirror image.
+        if root.converged && root.omega.re < 0.0 && root.omega.im < 0.0 {
+            let again = solve(n, -root.omega.conj());
+            if again.converged && again.omega.re >= 0.0 {
+                root = again;
+            }
+        }
+        // A real part below zero by rounding only (a purely imaginary mode) is zero.
+        if root.converged && root.omega.re < 0.0 && root.omega.re.abs() <= 1e3 * f64::EPSILON * root.omega.norm() {
+            root.omega.re = 0.0;
+        }
         if root.converged && (root.omega.im > 0.0 || root.omega.re < 0.0) {
             // A root in the wrong quadrant is not the mode that was asked for.
             root.converged = false;
@@ -307,9 +331,61 @@ pub fn overtones(
                 ));
             }
         }
+        // The overtone a root belongs to, by the spacing in Im ω of the two
+        // nearest converged overtones below it: a seed past a missed overtone
+        // can land on the missed one, which must not be reported under n.
+        let mut seed = seed;
+        for _retry in 0..2 {
+            let Some(m) = overtone_by_spacing(&modes, &root).filter(|&m| m != n) else { break };
+            let why = format!(
+                "the root {:.6e}{:+.6e}i is overtone {m} by the spacing in Im ω of the overtones below it, not overtone {n}",
+                root.omega.re, root.omega.im
+            );
+            match modes.iter_mut().find(|x| x.n == m && !x.root.converged) {
+                Some(slot) if m < n => {
+                    // The missed overtone is found: file it there and try n again
+                    // from the updated extrapolation.
+                    slot.root = root.clone();
+                    slot.seed = (seed.0, format!("{} (the search for overtone {n})", seed.1));
+                    let Some((a, b)) = last_two_converged(&modes) else { break };
+                    let step = (a.root.omega - b.root.omega) / f64::from(a.n - b.n);
+                    let w = a.root.omega + step * f64::from(n - a.n);
+                    seed = (Complex64::new(w.re.max(0.25 * a.root.omega.re), w.im), format!("extrapolated from overtones {} and {}", b.n, a.n));
+                    root = solve(n, seed.0);
+                }
+                _ => {
+                    root.converged = false;
+                    root.stop = StopReason::Rejected(why);
+                    break;
+                }
+            }
+        }
         modes.push(Mode { n, root, seed, method: "cf" });
     }
     Ok(modes)
+}
+
+/// The overtone number of a converged root from the two nearest converged
+/// overtones below it, when their spacing in |Im ω| is positive.
+fn overtone_by_spacing(modes: &[Mode], root: &CfRoot) -> Option<u32> {
+    if !root.converged {
+        return None;
+    }
+    let (a, b) = last_two_converged(modes)?;
+    let spacing = (a.root.omega.im.abs() - b.root.omega.im.abs()) / f64::from(a.n - b.n);
+    if !(spacing > 0.0) || root.omega.im.abs() <= a.root.omega.im.abs() {
+        return None;
+    }
+    let steps = ((root.omega.im.abs() - a.root.omega.im.abs()) / spacing).round();
+    (steps >= 1.0 && steps < 1e4).then(|| a.n + steps as u32)
+}
+
+/// The last two converged modes found (the later one first).
+fn last_two_converged(modes: &[Mode]) -> Option<(&Mode, &Mode)> {
+    let mut it = modes.iter().rev().filter(|m| m.root.converged);
+    let a = it.next()?;
+    let b = it.next()?;
+    Some((a, b))
 }
 
 /// A two-term recurrence c₀(n) a_{n+1} + c₁(n) a_n = 0 terminates after a_N
