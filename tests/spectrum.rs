@@ -752,3 +752,20 @@ fn schwarzschild_overtones_past_the_algebraically_special_frequency() {
     }
     assert!(flagged >= 1, "third-order WKB leaves the lower half-plane by n = 7 (see the n = 7 estimate): {text}");
 }
+
+#[test]
+fn fractions_in_values_and_any_name_for_the_spectral_parameter() {
+    // Mω is invariant (Leaver 1985, M = 1: 0.37367168 − 0.08896232i), so
+    // M = 1/2 doubles ω; the value 1/2 is read exactly.
+    let ms = modes("regge_wheeler", "M=1/2,l=2,s=2", "0", &[]);
+    let (re, im) = omega(&ms[0]);
+    assert!((re - 2.0 * 0.37367168).abs() < 2e-8 && (im + 2.0 * 0.08896232).abs() < 2e-8, "{re} {im}");
+    // An inline equation whose frequency is called `om`: the one parameter
+    // without a value is the spectral parameter.
+    let eq_full = "(1-2*M/r)*((1-2*M/r)*y')' + (om^2 - (1-2*M/r)*(l*(l+1)/r^2 - 6*M/r^3))*y = 0";
+    let (v, code, err) = run(&["spectrum", "-e", eq_full, "--var", "r", "--at", "M=1,l=2", "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(v["frequency"], "om");
+    let (re, im) = omega(&v["modes"][0]);
+    assert!((re - 0.37367168).abs() < 5.1e-9 && (im + 0.08896232).abs() < 5.1e-9, "{re} {im}");
+}

@@ -31,7 +31,11 @@ pub(crate) fn parse_complex(text: &str) -> Option<GRat> {
             Some(b) => (true, b),
             None => (false, s.strip_prefix('+').unwrap_or(s)),
         };
-        let r = Rat::parse_decimal(body)?;
+        // A fraction of two decimals (`13/4`, `1/3`) is exact too.
+        let r = match body.split_once('/') {
+            Some((n, d)) => Rat::parse_decimal(n)?.div(&Rat::parse_decimal(d)?)?,
+            None => Rat::parse_decimal(body)?,
+        };
         Some(if neg { r.neg() } else { r })
     };
     // The split between real and imaginary parts: the last sign not after an exponent mark.
@@ -74,7 +78,7 @@ pub(crate) fn parse_assignments(text: &str, option: &str) -> Result<Vec<(String,
         let value = &piece[eq + 1..];
         let vspan = Span::new(span.start + eq + 1, span.end);
         let Some(v) = parse_complex(value) else {
-            return Err(Error::new(ErrorKind::Usage, format!("'{}' is not a number (write e.g. 3.1, 2e-3, 0.37-0.089i)", value.trim()))
+            return Err(Error::new(ErrorKind::Usage, format!("'{}' is not a number (write e.g. 3.1, 2e-3, 13/4, 0.37-0.089i)", value.trim()))
                 .at(vspan)
                 .in_option(option));
         };
