@@ -1,0 +1,66 @@
+"""The GIL is released while the library works, and Ctrl-C interrupts a
+long computation. No timing is asserted here (speed is measured by
+python/bench/bench.py and reported in the README)."""
+
+import _thread
+import pathlib
+import threading
+
+import numpy as np
+import pytest
+
+import canonode
+
+RW = pathlib.Path("samples/regge_wheeler.ode")
+DEMO = pathlib.Path("samples/demo_tamarind_halo.ode")
+
+
+def test_two_threads_give_the_sequential_results():
+    jobs = [dict(at={"M": 1, "l": 2, "s": 2}, overtones=(0, 3)), dict(at={"M": 1, "l": 3, "s": 2}, overtones=(0, 3))]
+    alone = [canonode.spectrum(RW, **j).omega for j in jobs]
+    out = [None, None]
+
+    def work(i):
+        out[i] = canonode.spectrum(RW, **jobs[i]).omega
+
+    ts = [threading.Thread(target=work, args=(i,)) for i in range(2)]
+    for t in ts:
+        t.start()
+    for t in ts:
+        t.join()
+    for a, b in zip(alone, out):
+        assert np.array_equal(a, b)
+
+
+def test_python_runs_while_the_library_works():
+    # If the call held the GIL, this thread could not run at all until it returned.
+    done = threading.Event()
+    ticks = []
+
+    def count():
+        while not done.is_set():
+            ticks.append(1)
+            done.wait(0.001)
+
+    t = threading.Thread(target=count)
+    before = len(ticks)
+    t.start()
+    try:
+        canonode.spectrum(RW, at={"M": 1, "l": 2, "s": 2}, overtones=(0, 7))
+        during = len(ticks)
+    finally:
+        done.set()
+        t.join()
+    assert during - before > 3
+
+
+def test_ctrl_c_interrupts_a_long_scan():
+    # A scan of 400 points runs for many seconds; the simulated Ctrl-C
+    # (the SIGINT handler of the main thread) arrives after a moment.
+    timer = threading.Timer(0.5, _thread.interrupt_main)
+    timer.start()
+    try:
+        with pytest.raises(KeyboardInterrupt):
+            canonode.scan(DEMO, "h", np.linspace(0, 2, 400), at={"M": 1, "l": 2}, overtones=(0, 2))
+    finally:
+        timer.cancel()
