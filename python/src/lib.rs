@@ -35,7 +35,7 @@ use std::sync::{mpsc, Arc};
 use std::time::{Duration, Instant};
 
 pyo3::create_exception!(
-    _native,
+    canonode,
     InputError,
     PyValueError,
     "Bad input: the message is the located diagnostic (source:line:column, the line, carets); `.line` and `.column` are 1-based (None without a place), `.source` names the text they refer to."
@@ -518,6 +518,9 @@ fn emit(py: Python<'_>, input: InputTuple, lang: String, what: String, prefix: O
                 }),
                 None => skipped.push("the potential (give --dxdz EXPR)".to_string()),
             }
+        }
+        if what == "all" {
+            skipped.push("the recurrence coefficients (give --about POINT)".to_string());
         }
         let req = CodeRequest {
             lang,

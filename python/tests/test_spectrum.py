@@ -47,8 +47,8 @@ def test_methods_match_the_command_line(method):
 
 
 def test_bound_states_match_the_command_line():
-    s = canonode.spectrum(pathlib.Path("samples/hydrogen_radial.ode"), at={"l": 0}, overtones=(0, 2), boundary="bound")
-    doc = cli_json("spectrum", "samples/hydrogen_radial.ode", "--at", "l=0", "--overtones", "0..2", "--boundary", "bound")
+    s = canonode.spectrum(pathlib.Path("samples/hydrogen_radial.ode"), at={"Z": 1, "l": 0}, overtones=(0, 2), boundary="bound")
+    doc = cli_json("spectrum", "samples/hydrogen_radial.ode", "--at", "Z=1,l=0", "--overtones", "0..2", "--boundary", "bound")
     assert s.json == doc
     assert s.boundary == "bound"
 
