@@ -16,16 +16,14 @@ Bad input raises :class:`InputError` (a ``ValueError``) with ``.line``,
 ``.column`` and the located message with carets; a mode that did not
 converge is ``nan`` in ``.omega`` with its reason in ``.modes[i].reason``.
 
-NumPy is imported only when an array is made, so ``import canonode`` stays fast.
+NumPy (and every other module not needed to call the library) is imported
+only when first used, so ``import canonode`` stays fast.
 """
 
 from __future__ import annotations
 
-import html as _html
 import numbers as _numbers
 import os as _os
-import re as _re
-from fractions import Fraction as _Fraction
 
 from . import _native
 from ._native import InputError
@@ -83,7 +81,7 @@ def _parts(value):
     if isinstance(value, _numbers.Integral):
         t = str(int(value))
         return t, t, "0"
-    if isinstance(value, _Fraction):
+    if isinstance(value, _numbers.Rational):
         t = f"{value.numerator}/{value.denominator}"
         return t, t, "0"
     if isinstance(value, _numbers.Real):
@@ -128,6 +126,12 @@ def _np():
     import numpy
 
     return numpy
+
+
+def _esc(text):
+    import html
+
+    return html.escape(str(text))
 
 
 def _complex(pair):
@@ -200,6 +204,8 @@ class Reduction:
 
 def _text_to_sympy(text, names):
     """An expression of the input language (``*``, ``^``, ``I``, names) in sympy."""
+    import re
+
     import sympy
 
     local = {"I": sympy.I}
@@ -208,7 +214,7 @@ def _text_to_sympy(text, names):
     # keyword or a sympy function (lambda, E, S, beta …) stays a symbol.
     for i, n in enumerate(sorted(names, key=len, reverse=True)):
         token = f"_cn{i}_"
-        body = _re.sub(rf"(?<![\w]){_re.escape(n)}(?![\w])", token, body)
+        body = re.sub(rf"(?<![\w]){re.escape(n)}(?![\w])", token, body)
         local[token] = sympy.Symbol(n)
     return sympy.sympify(body.replace("^", "**"), locals=local)
 
@@ -246,7 +252,9 @@ class SingularPoint:
         self.value = _complex(d["value"])
         self.kind = d["kind"]
         self.pole_order = d["pole_order"]
-        self.rank = _Fraction(d["rank"]) if d["rank"] is not None else None
+        from fractions import Fraction
+
+        self.rank = Fraction(d["rank"]) if d["rank"] is not None else None
         self.exponents = [e["exact"] for e in d["exponents"]]
         self.exponent_values = [_complex(e["value"]) for e in d["exponents"]]
         self.unknown_exponents = [e["exact"] for e in d["unknown_exponents"]]
@@ -286,14 +294,14 @@ class Classification:
             rows.append(
                 "<tr>"
                 + "".join(
-                    f"<td>{_html.escape(str(c))}</td>"
+                    f"<td>{_esc(str(c))}</td>"
                     for c in (p.where, p.kind, p.rank if p.rank is not None else "", p.pole_order, ex)
                 )
                 + "</tr>"
             )
         head = "".join(f"<th>{h}</th>" for h in ("point", "kind", "rank", "pole order", "exponents of ψ"))
         return (
-            f"<p><b>{_html.escape(self.class_name)}</b> ({_html.escape(self.class_id)})</p>"
+            f"<p><b>{_esc(self.class_name)}</b> ({_esc(self.class_id)})</p>"
             f"<table><thead><tr>{head}</tr></thead><tbody>{''.join(rows)}</tbody></table>"
         )
 
@@ -380,10 +388,10 @@ class Spectrum:
                 ev = f"{m.method}" + (f", check {chk['method']} agrees to {agree:.1e}" if agree is not None else "")
             else:
                 w, ev = "not converged", m.reason or ""
-            rows.append(f"<tr><td>{m.n}</td><td>{_html.escape(w)}</td><td>{_html.escape(ev)}</td></tr>")
+            rows.append(f"<tr><td>{m.n}</td><td>{_esc(w)}</td><td>{_esc(ev)}</td></tr>")
         return (
-            f"<p>{_html.escape(self.method)}</p><table><thead><tr><th>n</th>"
-            f"<th>{_html.escape(self.frequency)}</th><th>evidence</th></tr></thead><tbody>{''.join(rows)}</tbody></table>"
+            f"<p>{_esc(self.method)}</p><table><thead><tr><th>n</th>"
+            f"<th>{_esc(self.frequency)}</th><th>evidence</th></tr></thead><tbody>{''.join(rows)}</tbody></table>"
         )
 
     def __len__(self):
@@ -499,9 +507,9 @@ class Scan(dict):
         np = _np()
         bad = int((~self["converged"]).sum())
         return (
-            f"<p>scan of {_html.escape(self.frequency)} over {_html.escape(self.parameter)}: "
+            f"<p>scan of {_esc(self.frequency)} over {_esc(self.parameter)}: "
             f"{len(self['value'])} points × {len(self['n'])} overtones, {bad} not converged "
-            f"({_html.escape(self.parameter)} from {np.min(self['value']):.6g} to {np.max(self['value']):.6g})</p>"
+            f"({_esc(self.parameter)} from {np.min(self['value']):.6g} to {np.max(self['value']):.6g})</p>"
         )
 
     def __repr__(self):

@@ -64,3 +64,24 @@ def test_ctrl_c_interrupts_a_long_scan():
             canonode.scan(DEMO, "h", np.linspace(0, 2, 400), at={"M": 1, "l": 2}, overtones=(0, 2))
     finally:
         timer.cancel()
+
+
+def _lowest(at):
+    return canonode.spectrum(RW, at=at).omega[0]
+
+
+def test_process_pools_and_pickling():
+    import concurrent.futures
+    import pickle
+
+    ats = [{"M": 1, "l": 2, "s": 2}, {"M": 1, "l": 3, "s": 2}]
+    with concurrent.futures.ProcessPoolExecutor(max_workers=2) as pool:
+        got = list(pool.map(_lowest, ats))
+    assert got == [_lowest(a) for a in ats]
+    s = canonode.spectrum(RW, at=ats[0])
+    assert np.array_equal(pickle.loads(pickle.dumps(s)).omega, s.omega)
+    try:
+        canonode.reduce("var z\node w'' + * = 0\n")
+    except canonode.InputError as e:
+        back = pickle.loads(pickle.dumps(e))
+        assert (back.line, back.column, str(back)) == (e.line, e.column, str(e))
