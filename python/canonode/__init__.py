@@ -415,6 +415,10 @@ def spectrum(
     at_infinity=False,
     dxdz=None,
     frequency=None,
+    couple=None,
+    link=(),
+    angular_index=0,
+    angular_guess=None,
 ) -> Spectrum:
     """Quasinormal modes (``boundary="qnm"``) or bound states (``"bound"``).
 
@@ -424,9 +428,24 @@ def spectrum(
     fraction), ``"integrate"``, ``"wkb"``, ``"eikonal"`` or
     ``"collocation"`` (bound states); ``guess``: a seed for the lowest
     overtone; ``tol``: relative tolerance on the frequency.
+
+    ``couple``: an angular equation (text or path) sharing the separation
+    constant, with ``link``: one or more ``"NAME = EXPR"`` (e.g.
+    ``"lam = A + a^2*omega^2 - 2*a*m*omega"`` and ``"c = a*omega"`` for
+    Kerr), ``angular_index`` (0: the lowest angular eigenvalue) and
+    ``angular_guess``; ``at`` then also holds the angular equation's own
+    parameters.
     """
     inp = _input(equation, var, subst, at_infinity, dxdz, frequency)
-    raw = _native.spectrum(inp, _values(at), _overtones(overtones), method, boundary, _seed(guess), float(tol))
+    links = [link] if isinstance(link, str) else [str(x) for x in link]
+    if couple is None:
+        if links or angular_guess is not None:
+            raise ValueError("spectrum: link= and angular_guess= need couple= (the angular equation)")
+        coupled = None
+    else:
+        atext, aname = _source(couple)
+        coupled = (atext, aname if aname != "<input>" else "<couple>", links, int(angular_index), _seed(angular_guess))
+    raw = _native.spectrum(inp, _values(at), _overtones(overtones), method, boundary, _seed(guess), float(tol), coupled)
     return Spectrum(raw)
 
 

@@ -139,6 +139,10 @@ def spectrum(
     at_infinity: bool = ...,
     dxdz: Optional[str] = ...,
     frequency: Optional[str] = ...,
+    couple: Optional[Text] = ...,
+    link: Union[str, Iterable[str]] = ...,
+    angular_index: int = ...,
+    angular_guess: Optional[complex] = ...,
 ) -> Spectrum: ...
 def scan(
     equation: Text,

@@ -62,6 +62,11 @@ pub(crate) struct Spec {
 }
 
 impl Spec {
+    /// A whole program with the default options.
+    pub fn program(text: String, name: String) -> Spec {
+        Spec { text, name, var: None, subst: None, at_infinity: false, dxdz: None, frequency: None }
+    }
+
     fn from_tuple(t: InputTuple) -> Spec {
         let (text, name, var, subst, at_infinity, dxdz, frequency) = t;
         Spec { text, name, var, subst, at_infinity, dxdz, frequency }
@@ -562,7 +567,7 @@ fn record(
 #[pyfunction]
 fn record_source(py: Python<'_>, record_text: String, record_name: String) -> PyResult<String> {
     run(py, move |_| {
-        let spec = Spec::from_tuple((record_text, record_name, None, None, false, None, None));
+        let spec = Spec::program(record_text, record_name);
         let rec = canonode::record::Record::parse(&spec.text).map_err(|e| fail(&e, &spec, &[]))?;
         Ok(rec.source_path().map_err(|e| fail(&e, &spec, &[]))?.to_string())
     })
@@ -578,11 +583,11 @@ fn check(
     source_name: String,
 ) -> PyResult<(bool, Vec<String>, String, Option<String>)> {
     run(py, move |_| {
-        let rspec = Spec::from_tuple((record_text, record_name.clone(), None, None, false, None, None));
+        let rspec = Spec::program(record_text, record_name.clone());
         let recorded = canonode::record::Record::parse(&rspec.text).map_err(|e| fail(&e, &rspec, &[]))?;
         let rel = recorded.source_path().map_err(|e| fail(&e, &rspec, &[]))?.to_string();
         let opts = recorded.options().map_err(|e| fail(&e, &rspec, &[]))?;
-        let sspec = Spec::from_tuple((source_text, source_name.clone(), None, None, false, None, None));
+        let sspec = Spec::program(source_text, source_name.clone());
         let recomputed =
             canonode::record::derive_with(&sspec.text, &rel, &opts, &recorded.recurrence_request()).map_err(|e| fail(&e, &sspec, &[]))?;
         let cmp = canonode::record::compare_named(
@@ -596,10 +601,13 @@ fn check(
     })
 }
 
+/// The angular side of a coupled spectrum: (text, name, links, index, guess).
+type CoupleTuple = (String, String, Vec<String>, usize, Option<(String, String)>);
+
 /// `spectrum`: the JSON document of `canonode spectrum --format json`, the
 /// modes as a complex array (NaN where not converged) and the library time.
 #[pyfunction]
-#[pyo3(signature = (input, at, overtones, method, boundary, guess, tol))]
+#[pyo3(signature = (input, at, overtones, method, boundary, guess, tol, couple=None))]
 #[allow(clippy::too_many_arguments)]
 fn spectrum(
     py: Python<'_>,
@@ -610,11 +618,13 @@ fn spectrum(
     boundary: String,
     guess: Option<(String, String)>,
     tol: f64,
+    couple: Option<CoupleTuple>,
 ) -> PyResult<PyObject> {
     let spec = Spec::from_tuple(input);
+    let couple = couple.map(|(text, name, links, index, guess)| workflows::Couple { text, name, links, index, guess });
     let (doc, omega, secs) = run(py, move |_| {
         let t0 = Instant::now();
-        let req = workflows::Request { at, overtones, method, boundary, guess, tol };
+        let req = workflows::Request { at, overtones, method, boundary, guess, tol, couple };
         let doc = workflows::spectrum(&spec, &req)?;
         let secs = t0.elapsed().as_secs_f64();
         let omega = workflows::omegas(&doc);
@@ -646,7 +656,7 @@ fn scan(
 ) -> PyResult<PyObject> {
     let spec = Spec::from_tuple(input);
     let doc = run(py, move |cancel| {
-        let req = workflows::Request { at, overtones, method: "auto".into(), boundary: "qnm".into(), guess, tol };
+        let req = workflows::Request { at, overtones, method: "auto".into(), boundary: "qnm".into(), guess, tol, couple: None };
         workflows::scan(&spec, &req, &vary, &values, check, cancel)
     })?;
     to_py(py, &doc)

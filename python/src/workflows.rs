@@ -3,14 +3,17 @@
 //! the same JSON documents (schemas in `src/cli/spectrum.rs` and
 //! `src/cli/scan.rs` of the root crate) as values, never as text.
 //!
-//! Coupled (radial–angular) solves are not offered here yet.
+//! A radial equation coupled to an angular one (`couple=`, `link=`) is
+//! solved as `canonode spectrum --couple … --link …` solves it.
 
 use crate::{fail, point_from, read_values, usage, Fail, Spec, Values};
 use canonode::algebra::{GRat, Rat};
 use canonode::error::{Error, ErrorKind};
 use canonode::solve::cf::StopReason;
+use canonode::solve::coupled::{CoupledValue, Link};
 use canonode::solve::integrate::IntRoot;
 use canonode::solve::spectrum::{Mode, Setup, SpectrumOptions};
+use canonode::syntax::Span;
 use num_complex::Complex64;
 use serde_json::{json, Value};
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -29,6 +32,22 @@ pub struct Request {
     pub guess: Option<(String, String)>,
     /// Relative tolerance on ω.
     pub tol: f64,
+    /// An angular equation sharing the separation constant.
+    pub couple: Option<Couple>,
+}
+
+/// The angular side of a coupled solve.
+pub struct Couple {
+    /// The angular equation (a program) and its display name.
+    pub text: String,
+    /// Its display name.
+    pub name: String,
+    /// The links `NAME = EXPR` between the two equations.
+    pub links: Vec<String>,
+    /// Which angular eigenvalue (0 the lowest).
+    pub index: usize,
+    /// A first value of the angular eigenvalue (exact decimal parts).
+    pub guess: Option<(String, String)>,
 }
 
 fn pair(w: Complex64) -> Value {
@@ -64,22 +83,24 @@ fn frequency(spec: &Spec, names: &[String], bound: bool) -> Result<(usize, Strin
     }
 }
 
-fn seed(spec: &Spec, guess: &Option<(String, String)>) -> Result<Option<Complex64>, Fail> {
+fn seed(spec: &Spec, guess: &Option<(String, String)>, kw: &str) -> Result<Option<Complex64>, Fail> {
     let Some((re, im)) = guess else { return Ok(None) };
     let parse = |t: &str| crate::exact_real(t).map(|r| r.to_f64());
     match (parse(re), parse(im)) {
         (Some(a), Some(b)) => Ok(Some(Complex64::new(a, b))),
         _ => {
             let shown = format!("{re}+{im}i");
-            Err(usage(format!("'{shown}' is not a complex number"), "guess", spec, &[("guess".into(), shown.clone())], None))
+            Err(usage(format!("'{shown}' is not a complex number"), kw, spec, &[(kw.into(), shown.clone())], None))
         }
     }
 }
 
 /// The options of a spectrum at the given values; the frequency (and the
-/// indices in `also`) take no value.
-fn options(spec: &Spec, req: &Request, names: &[String], freq: usize, also: &[usize]) -> Result<SpectrumOptions, Fail> {
+/// indices in `also`) take no value, names in `elsewhere` (an angular
+/// equation's own parameters) are left out.
+fn options(spec: &Spec, req: &Request, names: &[String], freq: usize, also: &[usize], elsewhere: &[String]) -> Result<SpectrumOptions, Fail> {
     let (text, vals) = read_values(&req.at, "at", spec)?;
+    let vals: Vec<_> = vals.into_iter().filter(|(n, _, _)| !elsewhere.contains(n)).collect();
     let mut skip = vec![freq];
     skip.extend_from_slice(also);
     let not_here = |i: usize| {
@@ -109,7 +130,7 @@ fn options(spec: &Spec, req: &Request, names: &[String], freq: usize, also: &[us
             None,
         ));
     }
-    Ok(SpectrumOptions { freq, values: p.values, overtones: req.overtones, tol: req.tol, guess: seed(spec, &req.guess)?, seeds: Vec::new() })
+    Ok(SpectrumOptions { freq, values: p.values, overtones: req.overtones, tol: req.tol, guess: seed(spec, &req.guess, "guess")?, seeds: Vec::new() })
 }
 
 /// A spectrum: the document of `canonode spectrum --format json`.
@@ -141,7 +162,19 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
         ));
     }
     let (freq, fname) = frequency(spec, &names, bound)?;
-    let opts = options(spec, req, &names, freq, &[])?;
+    if let Some(c) = &req.couple {
+        if bound || !matches!(req.method.as_str(), "auto" | "cf") {
+            return Err(usage(
+                "a coupled solve finds quasinormal modes by the continued fraction (method 'auto' or 'cf'); direct integration runs as its check",
+                "method",
+                spec,
+                &[("method".into(), req.method.clone())],
+                None,
+            ));
+        }
+        return coupled(spec, req, c, &red, &fname, freq);
+    }
+    let opts = options(spec, req, &names, freq, &[], &[])?;
     let red = canonode::solve::spectrum::substitute(&red, &opts.values, freq).map_err(lib)?;
     let method_usage = |msg: &str| usage(msg, "method", spec, &[("method".into(), req.method.clone())], None);
     if bound {
@@ -199,11 +232,11 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
             checks.push(None);
         }
     }
-    Ok(qnm_doc(&fname, &setup, &modes, &checks, &wkb))
+    Ok(qnm_doc(&fname, &setup, &modes, &checks, &wkb, &[]))
 }
 
 /// One mode as the command line's JSON writes it.
-fn mode_json(m: &Mode, check: Option<&IntRoot>, wkb: Option<Complex64>) -> Value {
+fn mode_json(m: &Mode, check: Option<&IntRoot>, wkb: Option<Complex64>, coupled: Option<&CoupledValue>) -> Value {
     let r = &m.root;
     json!({
         "n": m.n,
@@ -229,17 +262,37 @@ fn mode_json(m: &Mode, check: Option<&IntRoot>, wkb: Option<Complex64>) -> Value
             Some(w) => json!({"method": "wkb3", "omega": pair(w)}),
             None => Value::Null,
         },
-        "coupled": Value::Null,
+        "coupled": match coupled {
+            Some(c) => json!({
+                "eigenvalue": c.eigen_name,
+                "value": pair(c.root.omega),
+                "depth": c.root.depth,
+                "change_on_doubling": c.root.depth_change,
+                "links": c.links.iter().map(|(n, v)| (n.clone(), pair(*v))).collect::<serde_json::Map<_, _>>(),
+            }),
+            None => Value::Null,
+        },
     })
 }
 
-fn qnm_doc(fname: &str, setup: &Setup, modes: &[Mode], checks: &[Option<IntRoot>], wkb: &dyn Fn(u32) -> Option<Complex64>) -> Value {
+fn qnm_doc(
+    fname: &str,
+    setup: &Setup,
+    modes: &[Mode],
+    checks: &[Option<IntRoot>],
+    wkb: &dyn Fn(u32) -> Option<Complex64>,
+    coupled: &[Option<CoupledValue>],
+) -> Value {
     let method = if modes.iter().any(|m| m.method == "terminating") {
         "exact termination of the series (the recurrence has two terms)"
     } else {
         "continued fraction (Leaver 1985; tail after Nollert 1993)"
     };
-    let ms: Vec<Value> = modes.iter().enumerate().map(|(i, m)| mode_json(m, checks.get(i).and_then(|c| c.as_ref()), wkb(m.n))).collect();
+    let ms: Vec<Value> = modes
+        .iter()
+        .enumerate()
+        .map(|(i, m)| mode_json(m, checks.get(i).and_then(|c| c.as_ref()), wkb(m.n), coupled.get(i).and_then(|c| c.as_ref())))
+        .collect();
     json!({
         "frequency": fname,
         "boundary": "qnm",
@@ -371,7 +424,7 @@ pub fn scan(spec: &Spec, req: &Request, vary: &str, values: &Values, check: bool
     if grid.is_empty() || grid.len() > 100_000 {
         return Err(usage("give between 1 and 100000 values", "values", spec, &[("values".into(), vtext)], None));
     }
-    let base = options(spec, req, &names, freq, &[vi])?;
+    let base = options(spec, req, &names, freq, &[vi], &[])?;
     let opts = spec.options();
     let make = || -> canonode::error::Result<canonode::solve::scan::PointSolver<'_>> {
         let red = canonode::ode::reduce(&spec.input(), &opts)?;
@@ -406,4 +459,66 @@ pub fn scan(spec: &Spec, req: &Request, vary: &str, values: &Values, check: bool
         })
         .collect();
     Ok(json!({"parameter": vary, "frequency": fname, "points": pts}))
+}
+
+/// Quasinormal modes of a radial equation whose separation constant is
+/// linked to an angular eigenvalue (as `canonode spectrum --couple`): the
+/// document of the plain solve with each mode's angular evidence and a
+/// `coupling` object. Errors of the angular equation point into its text,
+/// those of a link into that link (keyword `link[i]`).
+fn coupled(spec: &Spec, req: &Request, c: &Couple, red: &canonode::ode::Reduction, fname: &str, freq: usize) -> Result<Value, Fail> {
+    let lib = |e: Error| fail(&e, spec, &[]);
+    let aspec = Spec::program(c.text.clone(), c.name.clone());
+    let ared = canonode::ode::reduce(&aspec.input(), &aspec.options()).map_err(|e| fail(&e, &aspec, &[]))?;
+    let names = red.field.names().to_vec();
+    if c.links.is_empty() {
+        return Err(usage("couple= needs at least one link= tying the separation constant to the angular eigenvalue", "link", spec, &[], None));
+    }
+    let joint_names = canonode::solve::coupled::joint_names(&red.field, &ared.field);
+    let joint = canonode::algebra::Field::new(joint_names, red.field.limits().clone()).map_err(lib)?;
+    let mut links: Vec<Link> = Vec::new();
+    for (i, text) in c.links.iter().enumerate() {
+        let kw = format!("link[{i}]");
+        let extra = [(kw.clone(), text.clone())];
+        let l = canonode::solve::coupled::try_link(text, &joint, &red.field, &ared.field)
+            .map_err(|e| fail(&e.in_option(&format!("--{kw}")), spec, &extra))?;
+        if links.iter().any(|o| o.target == l.target) {
+            return Err(usage(format!("'{}' is linked twice", l.target), &kw, spec, &extra, None));
+        }
+        if names.iter().position(|n| *n == l.target) == Some(freq) {
+            let span = Span::new(0, l.target.len().max(1));
+            return Err(usage(format!("'{}' is the frequency being solved for: it cannot be linked", l.target), &kw, spec, &extra, Some(span)));
+        }
+        links.push(l);
+    }
+    let linked: Vec<usize> = links.iter().filter(|l| !l.angular).filter_map(|l| names.iter().position(|n| *n == l.target)).collect();
+    let (at_text, vals) = read_values(&req.at, "at", spec)?;
+    for (n, _, span) in &vals {
+        if links.iter().any(|l| l.target == *n) {
+            return Err(usage(
+                format!("'{n}' is set by a link; it cannot also have a value"),
+                "at",
+                spec,
+                &[("at".into(), at_text.clone())],
+                Some(*span),
+            ));
+        }
+    }
+    let angular_only: Vec<String> = ared.field.names()[1..].iter().filter(|n| !names[1..].contains(n)).cloned().collect();
+    let opts = options(spec, req, &names, freq, &linked, &angular_only)?;
+    let fixed: Vec<(String, GRat)> = vals.iter().map(|(n, v, _)| (n.clone(), v.clone())).collect();
+    let guess = seed(spec, &c.guess, "angular_guess")?;
+    let coupling =
+        canonode::solve::coupled::try_coupling(&red.field, &ared, &links, &fixed, freq, c.index, guess).map_err(|e| fail(&e, &aspec, &[]))?;
+    let none = |_: u32| None;
+    let (setup, found) = canonode::solve::coupled::coupled_spectrum(red, &coupling, &opts, true, &none).map_err(lib)?;
+    let modes: Vec<Mode> = found.iter().map(|f| f.mode.clone()).collect();
+    let checks: Vec<Option<IntRoot>> = found.iter().map(|f| f.check.clone()).collect();
+    let evidence: Vec<Option<CoupledValue>> = found.iter().map(|f| f.angular.clone()).collect();
+    let mut doc = qnm_doc(fname, &setup, &modes, &checks, &|_| None, &evidence);
+    let ang = &coupling.angular;
+    let link_text: Vec<String> = c.links.iter().map(|l| l.trim().to_string()).collect();
+    doc["coupling"] =
+        json!({"angular": c.name, "eigenvalue": ang.eigen_name, "index": ang.index, "about": ang.ends.0, "choices": ang.choices, "links": link_text});
+    Ok(doc)
 }

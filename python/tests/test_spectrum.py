@@ -76,3 +76,34 @@ def test_display():
     s = canonode.spectrum(RW, at={"M": 1, "l": 2, "s": 2}, overtones=1)
     assert "<table>" in s._repr_html_() and "0.34671" in s._repr_html_()
     assert s.seconds > 0
+
+
+KERR = dict(
+    couple=pathlib.Path("samples/spheroidal_spin_weighted.ode"),
+    link=["lam = A + a^2*omega^2 - 2*a*m*omega", "c = a*omega"],
+)
+KERR_CLI = ["--couple", "samples/spheroidal_spin_weighted.ode", "--link", "lam = A + a^2*omega^2 - 2*a*m*omega", "--link", "c = a*omega"]
+
+
+def test_kerr_coupled_matches_the_command_line_and_leaver():
+    # Leaver 1985, table for s = −2, l = m = 2, n = 0 (M = 1): a = 0.9 →
+    # 0.67161 − 0.06487i (as tests/spectrum.rs), through the Teukolsky
+    # radial equation coupled to the spin-weighted spheroidal eigenvalue.
+    s = canonode.spectrum(pathlib.Path("samples/teukolsky_radial.ode"), at={"M": 1, "a": 0.9, "m": 2, "s": -2}, guess=0.67 - 0.065j, **KERR)
+    doc = cli_json("spectrum", "samples/teukolsky_radial.ode", "--at", "M=1,a=0.9,m=2,s=-2", "--guess", "0.67-0.065i", *KERR_CLI)
+    assert s.json == doc
+    assert abs(s.omega[0].real - 0.67161) <= 5e-6 and abs(s.omega[0].imag + 0.06487) <= 5e-6
+    assert s.modes[0].json["coupled"]["eigenvalue"] == "A"
+
+
+def test_bad_links_point_into_the_link():
+    with pytest.raises(canonode.InputError) as e:
+        canonode.spectrum(
+            pathlib.Path("samples/teukolsky_radial.ode"),
+            at={"M": 1, "a": 0.9, "m": 2, "s": -2},
+            couple=KERR["couple"],
+            link=["lam = A + a^2*omega^2 - 2*a*m*omega", "c = a*)"],
+        )
+    assert e.value.source == "link[1]" and "^" in str(e.value)
+    with pytest.raises(ValueError):
+        canonode.spectrum(RW, at={"M": 1, "l": 2, "s": 2}, link="lam = 1")
