@@ -21,20 +21,22 @@ if ! python3 -m venv "$venv" >/dev/null 2>&1; then
     python3 -m venv "$venv"
 fi
 py="$venv/bin/python"
+# maturin (the build backend, run without build isolation) and the
+# notebook's kernel are this environment's.
+export PATH="$venv/bin:$PATH"
 
 echo "== build and test tools (PyPI)"
 "$py" -m pip install --quiet --disable-pip-version-check --upgrade pip
-"$py" -m pip install --quiet --disable-pip-version-check maturin numpy pytest sympy nbclient nbformat ipykernel matplotlib
+"$py" -m pip install --quiet --disable-pip-version-check maturin numpy pytest sympy nbclient nbformat ipykernel matplotlib pandas
 
 echo "== the command-line binary the tests compare against"
 cargo build --release --quiet
 
 echo "== the package (pip install ./python: maturin, release profile)"
-# The build's own target directory is kept between runs (python/target).
-CARGO_TARGET_DIR="$root/python/target" "$py" -m pip install --quiet --disable-pip-version-check --no-build-isolation ./python
+# The root's target directory: the dependencies shared with the binary
+# (same release profile) are not compiled twice.
+CARGO_TARGET_DIR="$root/target" "$py" -m pip install --quiet --disable-pip-version-check --no-build-isolation ./python
 
 echo "== pytest"
-# The notebook's kernel is this environment's Python.
-export PATH="$venv/bin:$PATH"
 export MPLBACKEND=Agg
 CANONODE_BIN="$root/target/release/canonode" "$py" -m pytest -q python/tests
