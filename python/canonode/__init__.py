@@ -175,8 +175,8 @@ class Reduction:
         shape of ``z``; ``nan`` where Q has a pole."""
         np = _np()
         za = np.asarray(z, dtype=np.complex128)
-        flat = np.ascontiguousarray(za.ravel())
-        out = _native.q_at(self._inp, _values(params), flat).reshape(za.shape)
+        raw = _native.q_at(self._inp, _values(params), np.ascontiguousarray(za.ravel()).tobytes())
+        out = np.frombuffer(raw, dtype=np.complex128).reshape(za.shape).copy()
         return out[()] if out.ndim == 0 else out
 
     def symbols(self):
@@ -367,9 +367,9 @@ class Spectrum:
 
     def __init__(self, raw):
         self.json = raw["json"]
-        self.omega = raw["omega"]
         self.seconds = raw["seconds"]
         self.modes = [Mode(m) for m in self.json["modes"]]
+        self.omega = _np().array([m.omega for m in self.modes], dtype=complex)
         self.frequency = self.json["frequency"]
         self.boundary = self.json["boundary"]
         self.method = self.json["method"]

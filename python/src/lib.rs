@@ -3,7 +3,10 @@
 //! library on a worker thread (with the command line's large stack, so deep
 //! but within-limit input cannot overflow it) while the calling thread waits
 //! with the GIL released, and returns plain Python values (dicts, lists,
-//! NumPy arrays) that `canonode/__init__.py` wraps in result objects.
+//! bytes) that `canonode/__init__.py` wraps in result objects. Arrays cross
+//! as the raw bytes of complex128 (NumPy views them without copying or
+//! parsing), so the extension needs no NumPy crate and links no BLAS-like
+//! kernels that would make its floating point differ from the binary's.
 //!
 //! Waiting happens in 50 ms slices; between slices the caller checks for
 //! signals, so Ctrl-C in a notebook raises `KeyboardInterrupt` at once. The
@@ -24,10 +27,9 @@ use canonode::error::{Error, ErrorKind, Origin};
 use canonode::ode::{Input, ReduceOptions};
 use canonode::syntax::Span;
 use num_complex::Complex64;
-use numpy::{PyArray1, PyReadonlyArray1};
 use pyo3::exceptions::{PyRuntimeError, PyValueError};
 use pyo3::prelude::*;
-use pyo3::types::{PyDict, PyList};
+use pyo3::types::{PyBytes, PyDict, PyList};
 use pyo3::IntoPyObjectExt;
 use serde_json::Value;
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -342,12 +344,19 @@ fn reduce(py: Python<'_>, input: InputTuple) -> PyResult<PyObject> {
     to_py(py, &v)
 }
 
-/// `Q_at`: Q of the normal form at every z (a 1-d complex array) with the
-/// parameters at `values`; NaN where Q has a pole.
+/// `Q_at`: Q of the normal form at every z (the native-endian bytes of a
+/// complex128 array) with the parameters at `values`; the same layout back,
+/// NaN where Q has a pole.
 #[pyfunction]
-fn q_at<'py>(py: Python<'py>, input: InputTuple, values: Values, z: PyReadonlyArray1<'py, Complex64>) -> PyResult<Bound<'py, PyArray1<Complex64>>> {
+fn q_at<'py>(py: Python<'py>, input: InputTuple, values: Values, z: &[u8]) -> PyResult<Bound<'py, PyBytes>> {
     let spec = Spec::from_tuple(input);
-    let zs: Vec<Complex64> = z.as_slice()?.to_vec();
+    let zs: Vec<Complex64> = z
+        .chunks_exact(16)
+        .map(|c| {
+            let part = |b: &[u8]| f64::from_ne_bytes(b.try_into().expect("8 bytes"));
+            Complex64::new(part(&c[..8]), part(&c[8..]))
+        })
+        .collect();
     let out = run(py, move |_| {
         let red = canonode::ode::reduce(&spec.input(), &spec.options()).map_err(|e| fail(&e, &spec, &[]))?;
         let names = red.field.names().to_vec();
@@ -358,15 +367,16 @@ fn q_at<'py>(py: Python<'py>, input: InputTuple, values: Values, z: PyReadonlyAr
             return Err(usage(format!("no value given for {}", p.missing.join(", ")), "params", &spec, &extra, None));
         }
         let mut at: Vec<Complex64> = p.values.iter().map(|g| g.to_f64()).map(|(re, im)| Complex64::new(re, im)).collect();
-        Ok(zs
-            .iter()
-            .map(|&zv| {
-                at[0] = zv;
-                canonode::solve::eval_at(&red.normal.q, &at).unwrap_or(Complex64::new(f64::NAN, f64::NAN))
-            })
-            .collect::<Vec<_>>())
+        let mut bytes = Vec::with_capacity(zs.len() * 16);
+        for &zv in &zs {
+            at[0] = zv;
+            let q = canonode::solve::eval_at(&red.normal.q, &at).unwrap_or(Complex64::new(f64::NAN, f64::NAN));
+            bytes.extend_from_slice(&q.re.to_ne_bytes());
+            bytes.extend_from_slice(&q.im.to_ne_bytes());
+        }
+        Ok(bytes)
     })?;
-    Ok(PyArray1::from_vec(py, out))
+    Ok(PyBytes::new(py, &out))
 }
 
 /// `classify`: the JSON document of `canonode classify --format json` with
@@ -604,8 +614,8 @@ fn check(
 /// The angular side of a coupled spectrum: (text, name, links, index, guess).
 type CoupleTuple = (String, String, Vec<String>, usize, Option<(String, String)>);
 
-/// `spectrum`: the JSON document of `canonode spectrum --format json`, the
-/// modes as a complex array (NaN where not converged) and the library time.
+/// `spectrum`: the JSON document of `canonode spectrum --format json` and
+/// the time the library spent.
 #[pyfunction]
 #[pyo3(signature = (input, at, overtones, method, boundary, guess, tol, couple=None))]
 #[allow(clippy::too_many_arguments)]
@@ -622,17 +632,14 @@ fn spectrum(
 ) -> PyResult<PyObject> {
     let spec = Spec::from_tuple(input);
     let couple = couple.map(|(text, name, links, index, guess)| workflows::Couple { text, name, links, index, guess });
-    let (doc, omega, secs) = run(py, move |_| {
+    let (doc, secs) = run(py, move |_| {
         let t0 = Instant::now();
         let req = workflows::Request { at, overtones, method, boundary, guess, tol, couple };
         let doc = workflows::spectrum(&spec, &req)?;
-        let secs = t0.elapsed().as_secs_f64();
-        let omega = workflows::omegas(&doc);
-        Ok((doc, omega, secs))
+        Ok((doc, t0.elapsed().as_secs_f64()))
     })?;
     let out = PyDict::new(py);
     out.set_item("json", to_py(py, &doc)?)?;
-    out.set_item("omega", PyArray1::from_vec(py, omega))?;
     out.set_item("seconds", secs)?;
     Ok(out.into_any().unbind())
 }

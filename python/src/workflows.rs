@@ -54,22 +54,6 @@ fn pair(w: Complex64) -> Value {
     json!([w.re, w.im])
 }
 
-/// The modes' ω from a spectrum document, NaN where there is none.
-pub fn omegas(doc: &Value) -> Vec<Complex64> {
-    let nan = Complex64::new(f64::NAN, f64::NAN);
-    doc["modes"]
-        .as_array()
-        .map(|ms| {
-            ms.iter()
-                .map(|m| match (m["omega"][0].as_f64(), m["omega"][1].as_f64()) {
-                    (Some(re), Some(im)) => Complex64::new(re, im),
-                    _ => nan,
-                })
-                .collect()
-        })
-        .unwrap_or_default()
-}
-
 /// The frequency parameter's field index and name: the one named, else the defaults of the boundary problem.
 fn frequency(spec: &Spec, names: &[String], bound: bool) -> Result<(usize, String), Fail> {
     let defaults: &[&str] = if bound { &["E", "omega", "ω", "w"] } else { &["omega", "ω", "w"] };
