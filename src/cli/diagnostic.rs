@@ -41,6 +41,14 @@ pub fn render(error: &Error, name: &str, source: &str) -> String {
     out
 }
 
+/// The 1-based line and column (in characters) where `span` starts in
+/// `source`, clamped as [`render`] clamps it (for callers that report the
+/// place themselves, such as the Python package's `InputError`).
+pub fn line_column(source: &str, span: crate::syntax::Span) -> (usize, usize) {
+    let place = Place::locate(source, span.start, span.end);
+    (place.line, place.column)
+}
+
 /// A span resolved to a line of the source.
 struct Place {
     /// 1-based line number.

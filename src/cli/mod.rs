@@ -4,7 +4,7 @@
 
 mod check;
 mod classify;
-pub(crate) mod diagnostic;
+pub mod diagnostic;
 mod emit;
 mod eval;
 mod record;
