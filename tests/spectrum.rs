@@ -100,10 +100,66 @@ fn eikonal_and_wkb_estimates() {
     let lam = 1.0 / (3.0 * 3f64.sqrt());
     assert!((re / 60.5 - lam).abs() / lam < 1e-3 && (-im / 0.5 - lam).abs() / lam < 1e-3, "{re} {im}");
     // Third-order WKB for s = l = 2, n = 0 near 0.3732 − 0.0892i (Iyer 1987, from memory).
-    let (v, _, _) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--method", "wkb", "--format", "json"]);
+    let (v, _, _) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--method", "wkb", "--wkb-order", "3", "--format", "json"]);
     let m = &v["modes"][0];
     let (re, im) = (m["omega"][0].as_f64().unwrap(), m["omega"][1].as_f64().unwrap());
     assert!((re - 0.3732).abs() < 5e-5 && (im + 0.0892).abs() < 5e-5, "{re} {im}");
+    // The eikonal limit from the l² part of the potential: Ω_c = λ = 1/(3√3 M) exactly (textbook).
+    let (v, code, err) =
+        run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--method", "eikonal", "--eikonal-param", "l", "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    assert!((v["eikonal_limit"]["omega_c"].as_f64().unwrap() - lam).abs() < 1e-14, "{v}");
+    assert!((v["eikonal_limit"]["lyapunov"].as_f64().unwrap() - lam).abs() < 1e-14, "{v}");
+    assert!((v["modes"][0]["omega"][0].as_f64().unwrap() - 2.5 * lam).abs() < 1e-14);
+}
+
+#[test]
+fn wkb_to_high_order_against_the_continued_fraction() {
+    // Schwarzschild s = l = 2: the continued fraction (Leaver 1985, checked above to 8 digits) against
+    // the WKB series of every order to 12 and its Padé value: the error falls with the order up to the
+    // optimal truncation, and Padé [6/6] beats every partial sum.
+    let cf = modes("regge_wheeler", "M=1,l=2,s=2", "0", &[]);
+    let exact = omega(&cf[0]);
+    let (v, code, err) =
+        run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--method", "wkb", "--wkb-order", "12", "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(v["order"], 12);
+    let ev = &v["modes"][0]["evidence"];
+    let dist = |w: &Value| ((w[0].as_f64().unwrap() - exact.0).powi(2) + (w[1].as_f64().unwrap() - exact.1).powi(2)).sqrt();
+    let orders = ev["orders"].as_array().unwrap();
+    let errs: Vec<f64> = orders.iter().map(|o| dist(&o["omega"])).collect();
+    assert!(errs[0] > errs[1] && errs[1] > errs[2] && errs[2] > errs[5], "{errs:?}");
+    let opt = ev["optimal_order"].as_u64().unwrap() as usize;
+    assert!(errs[opt - 1] < errs[2], "optimal order {opt}: {errs:?}");
+    let pade = dist(&ev["pade"]["omega"]);
+    assert!(pade < errs.iter().cloned().fold(f64::INFINITY, f64::min), "Padé {pade} vs {errs:?}");
+    assert!(pade <= 5.0 * ev["pade"]["spread"].as_f64().unwrap(), "the spread must estimate the error: {pade} {ev}");
+    assert_eq!(ev["pade"]["approximant"], "[6/6]");
+    assert_eq!(v["modes"][0]["wrong_half_plane"], false);
+    // Pöschl–Teller barrier, where the exact modes are known (Ferrari & Mashhoon 1984): order 12 to 1e-8.
+    let (v, code, err) = run(&[
+        "spectrum",
+        "samples/poschl_teller.ode",
+        "--at",
+        "V0=1,alpha=0.5",
+        "--method",
+        "wkb",
+        "--wkb-order",
+        "12",
+        "--overtones",
+        "0..2",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    for m in v["modes"].as_array().unwrap() {
+        let n = m["n"].as_f64().unwrap();
+        let w = &m["omega"];
+        assert!((w[0].as_f64().unwrap() - 0.9375f64.sqrt()).abs() < 1e-8 && (w[1].as_f64().unwrap() + 0.5 * (n + 0.5)).abs() < 1e-8, "{m}");
+        // The spread between neighbouring orders bounds the true error here.
+        let e = ((w[0].as_f64().unwrap() - 0.9375f64.sqrt()).powi(2) + (w[1].as_f64().unwrap() + 0.5 * (n + 0.5)).powi(2)).sqrt();
+        assert!(e <= m["evidence"]["spread"].as_f64().unwrap(), "{e} {m}");
+    }
 }
 
 #[test]

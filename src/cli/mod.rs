@@ -13,6 +13,7 @@ mod reduce;
 mod scan;
 mod spectrum;
 mod values;
+mod wkb_report;
 
 use crate::error::{Error, ErrorKind, Origin};
 use crate::ode::{Input, ReduceOptions};

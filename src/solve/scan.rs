@@ -149,13 +149,13 @@ fn continues(last: &[Complex64], second: Option<&[Complex64]>, next: Option<&[Co
 }
 
 /// The modes of one equation at one grid point: parameters substituted
-/// exactly, the recurrence derived, seeds from third-order WKB when no
+/// exactly, the recurrence derived, seeds from WKB (wkb::SEED_ORDER) when no
 /// neighbour gave them, the integration check when asked.
 pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Result<PointModes> {
     let r = substitute(red, &opts.values, opts.freq)?;
     let (rec, setup) = qnm_recurrence(&r, opts)?;
-    let est = super::spectrum::barrier_estimates(&r, opts, setup.horizon_value).ok();
-    let first = |n: u32| est.as_ref().and_then(|e| e(n)).map(|(_, w)| (w, "third-order WKB".to_string()));
+    let est = super::spectrum::barrier_estimates(&r, opts, setup.horizon_value, super::wkb::SEED_ORDER).ok();
+    let first = |n: u32| est.as_ref().and_then(|e| e(n)).and_then(|b| b.series.seed());
     let (modes, setup) = qnm_modes_from(&rec, setup, opts, &first)?;
     let integ = if check { integration_check(&r, opts, &setup).ok() } else { None };
     Ok(modes
