@@ -11,6 +11,7 @@ mod record;
 mod recurrence;
 mod reduce;
 mod scan;
+mod scatter;
 mod spectrum;
 mod values;
 mod wkb_report;
@@ -44,6 +45,8 @@ enum Command {
     Spectrum(spectrum::SpectrumArgs),
     /// Quasinormal modes over a grid of one parameter (parallel, continuation, shards, SVG/PNG plot).
     Scan(scan::ScanArgs),
+    /// Transmission and reflection (greybody factors) at real frequencies, absorption cross-sections (parallel, streamed).
+    Scatter(scatter::ScatterArgs),
     /// Write a derivation record (plain text, one field a line) to commit beside a paper's code.
     Record(record::RecordArgs),
     /// Re-derive derivation records from their sources and show what changed as a unified diff.
@@ -274,6 +277,7 @@ fn run(cli: Cli) -> u8 {
         Command::Recurrence(a) => recurrence::run(&a),
         Command::Spectrum(a) => spectrum::run(&a),
         Command::Scan(a) => scan::run(&a),
+        Command::Scatter(a) => scatter::run(&a),
         Command::Record(a) => record::run(&a),
         Command::Check(a) => check::run(&a),
         Command::Emit(a) => emit::run(&a),

@@ -167,7 +167,7 @@ pub(super) struct Params {
 }
 
 pub(super) const STANDARD: Params = Params { start_fraction: 1.0 / 3.0, step_fraction: 0.5, phase_step: 4.0, far_target: 1e-17 };
-const REFINED: Params = Params { start_fraction: 0.4, step_fraction: 0.3, phase_step: 2.0, far_target: 1e-20 };
+pub(super) const REFINED: Params = Params { start_fraction: 0.4, step_fraction: 0.3, phase_step: 2.0, far_target: 1e-20 };
 
 /// A, B, C at one ω, low degree first, exact trailing zeros removed.
 pub(super) struct Coeffs {
@@ -366,9 +366,10 @@ pub(super) fn frobenius(h: &Horizon, rho: Complex64, delta: f64) -> Result<(Comp
 pub(super) struct Far {
     pub(super) mu: Complex64,
     pub(super) nu: Complex64,
-    /// The other branch exp(μ' z) z^ν' (for the contamination estimate).
-    mu2: Complex64,
-    nu2: Complex64,
+    /// The other branch exp(μ' z) z^ν' (for the contamination estimate, and
+    /// the second branch of a scattering decomposition).
+    pub(super) mu2: Complex64,
+    pub(super) nu2: Complex64,
     /// With y = e^{μz} u the equation reads A u'' + F u' + E u = 0, where
     /// F = 2μA + B and E = μ²A + μB + C (coefficients of z^j).
     e: Vec<Complex64>,

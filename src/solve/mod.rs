@@ -11,6 +11,7 @@ pub mod wkb;
 pub mod integrate;
 pub mod roots;
 pub mod scan;
+pub mod scatter;
 pub mod shoot;
 pub mod spectrum;
 

@@ -380,13 +380,13 @@ pub fn barrier_estimates<'a>(
 
 /// A rational function of the parameters as a function of ω alone (the
 /// other parameters at their values), for numeric use.
-fn in_omega(r: &crate::algebra::RatFunc, opts: &SpectrumOptions) -> (super::NPoly, super::NPoly) {
+pub(super) fn in_omega(r: &crate::algebra::RatFunc, opts: &SpectrumOptions) -> (super::NPoly, super::NPoly) {
     let num = super::try_npoly(r.num(), r.scale().to_f64(), &opts.values, opts.freq);
     let den = super::try_npoly(&r.den_expanded(), 1.0, &opts.values, opts.freq);
     (num, den)
 }
 
-fn eval_in_omega(f: &(super::NPoly, super::NPoly), w: Complex64) -> Complex64 {
+pub(super) fn eval_in_omega(f: &(super::NPoly, super::NPoly), w: Complex64) -> Complex64 {
     let z = Complex64::new(0.0, 0.0);
     f.0.eval(z, w) / f.1.eval(z, w)
 }
