@@ -225,7 +225,7 @@ fn header(f: ScatterFormat, fname: &str, near: &str, far: &str, sum: Option<&(St
             let s = sum.map(|(p, a, b)| json!({"param": p, "from": a, "to": b})).unwrap_or(Value::Null);
             let lead = json!({"frequency": fname, "near": near, "far": far, "sum": s}).to_string();
             // The object is left open: the points follow as they are computed.
-            format!("{},\n\"points\": [\n", lead.trim_end_matches('}'))
+            format!("{},\n\"points\": [\n", lead.strip_suffix('}').unwrap_or(&lead))
         }
         ScatterFormat::Csv => {
             let mut h = String::from("omega,transmission,reflection,flux_error,matching_change");

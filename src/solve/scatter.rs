@@ -10,7 +10,10 @@
 //! second regular singular point with its two Frobenius branches. The branch
 //! picked there for the modes (leaving the barrier) is the reflected wave, the
 //! other one the incident wave. At a real ω the near solution y_h is summed
-//! near its end and continued by Taylor steps to a matching point z_m; each far
+//! near its end and continued by Taylor steps to a matching point z_m beyond
+//! the barrier (past the outermost point where the normal form's Q < 0 at a
+//! regular-infinity end; the far branches' own start point at a regular far
+//! end), so that it crosses the barrier in the stable direction; each far
 //! branch is started where it is recessive (at ∞: on the ray where it is
 //! smallest relative to the other, as in `integrate.rs`) and continued to
 //! z_m; there y_h = a·u_in + b·u_out by a 2 × 2 solve.
@@ -193,8 +196,16 @@ fn evaluate(pb: &Problem, w: f64, p: &Params) -> std::result::Result<(f64, f64, 
             let far = Far::new(&k, eval_in_omega(mu, wc), eval_in_omega(nu, wc))?;
             let inc = Far::new(&k, far.mu2, far.nu2)?;
             let d = if hz.d.is_finite() { hz.d } else { 1.0 + pb.near.abs() };
-            let z_m = Complex64::new(pb.near + p.start_fraction * d, 0.0);
-            let yh = frobenius(&hz, rho, z_m.re - pb.near)?;
+            // Match beyond the barrier, where both far branches oscillate: continuing them
+            // inwards through a forbidden region would leave both dominated by one solution.
+            let s1 = pb.near + p.start_fraction * d;
+            let z_m = match outermost_forbidden(&k, s1, d) {
+                Some(zf) => pb.near + (zf - pb.near) * (1.0 + 1.5 * p.start_fraction),
+                None => s1,
+            };
+            let z_m = Complex64::new(z_m, 0.0);
+            let y1 = frobenius(&hz, rho, s1 - pb.near)?;
+            let yh = continue_along(&k, &roots, Complex64::new(s1, 0.0), z_m, y1.0, y1.1, p, d, &mut steps)?;
             let mut branch = |f: &Far| -> std::result::Result<(Complex64, Complex64), String> {
                 // The ray on which this branch is most recessive relative to the other (as in integrate.rs).
                 let dmu = f.mu - f.mu2;
@@ -225,7 +236,9 @@ fn evaluate(pb: &Problem, w: f64, p: &Params) -> std::result::Result<(f64, f64, 
             // Start each series well inside its disc, match at a point between them.
             let s1 = pb.near + dir * p.start_fraction * hz.d.min(len);
             let s2 = at - dir * p.start_fraction * hf.d.min(len);
-            let z_m = pb.near + dir * len * (0.5 + (p.start_fraction - 1.0 / 3.0));
+            // Matching where the far branches start: y_h is carried across the
+            // barrier in the stable direction, the far branches not at all.
+            let z_m = s2;
             let hcap = len / 8.0;
             let zc = |x: f64| Complex64::new(x, 0.0);
             let y1 = frobenius(&hz, rho, s1 - pb.near)?;
@@ -259,6 +272,42 @@ fn evaluate(pb: &Problem, w: f64, p: &Params) -> std::result::Result<(f64, f64, 
         return Err("the transmission or reflection coefficient is not finite".into());
     }
     Ok((t2, r2, err, z_m, steps))
+}
+
+/// Q = C/A − (B/A)²/4 − (B/A)'/2 of the normal form at a real z (its real part).
+fn normal_q(k: &Coeffs, z: f64) -> f64 {
+    let zc = Complex64::new(z, 0.0);
+    let ev = |p: &[Complex64]| p.iter().rev().fold(Complex64::new(0.0, 0.0), |acc, c| acc * zc + c);
+    let dv = |p: &[Complex64]| p.iter().enumerate().skip(1).rev().fold(Complex64::new(0.0, 0.0), |acc, (i, c)| acc * zc + c * i as f64);
+    let (a, b, c, da, db) = (ev(&k.a), ev(&k.b), ev(&k.c), dv(&k.a), dv(&k.b));
+    let pp = b / a;
+    let dp = (db * a - b * da) / (a * a);
+    (c / a - pp * pp / 4.0 - dp / 2.0).re
+}
+
+/// The outermost point of a geometric scan outwards from `s1` (ratio 1.1 in the
+/// distance from it, out to 10⁶ d) where Q < 0: the far edge of the barrier
+/// at this frequency; `None` when Q ≥ 0 on the whole scan or still negative at its end.
+fn outermost_forbidden(k: &Coeffs, s1: f64, d: f64) -> Option<f64> {
+    let mut last = None;
+    let mut r = 0.0;
+    let mut step = d / 16.0;
+    let mut negative_at_end = false;
+    while r <= 1e6 * d {
+        let z = s1 + r;
+        let q = normal_q(k, z);
+        negative_at_end = q.is_finite() && q < 0.0;
+        if negative_at_end {
+            last = Some(z);
+        }
+        r += step;
+        step *= 1.1;
+    }
+    if negative_at_end {
+        None
+    } else {
+        last
+    }
 }
 
 /// The scattering data at ω: both discretisations, the refined values reported.
