@@ -9,6 +9,7 @@ pub mod coupled;
 pub mod wkb;
 
 pub mod integrate;
+pub mod modefn;
 pub mod roots;
 pub mod scan;
 pub mod scatter;

@@ -19,14 +19,14 @@ use num_complex::Complex64;
 
 /// One end of the interval, as the shooting sees it.
 #[derive(Clone, Copy, Debug)]
-enum End {
+pub(super) enum End {
     /// A finite end: it must be a regular singular point.
     Regular(f64),
     /// z → ±∞ along the real axis (the sign given).
     Infinite(f64),
 }
 
-fn ends(domain: Domain) -> [End; 2] {
+pub(super) fn ends(domain: Domain) -> [End; 2] {
     match domain {
         Domain::Finite(a, b) => [End::Regular(a), End::Regular(b)],
         Domain::HalfLine(a) => [End::Regular(a), End::Infinite(1.0)],
@@ -146,7 +146,7 @@ fn evaluate(ode: &NumOde, domain: Domain, e: Complex64, p: &Params) -> std::resu
 /// The solution with the larger exponent at the regular end `h`, summed as
 /// its Frobenius series a fraction of the way to the nearest other zero of A
 /// (at most to z_m) and continued along the real axis to z_m.
-fn from_regular(
+pub(super) fn from_regular(
     k: &Coeffs,
     h: &Horizon,
     z_m: f64,
@@ -168,7 +168,7 @@ fn from_regular(
 /// The solution that decays towards z = `dir`·∞, at z_m: the asymptotic
 /// series at rank 1, the Riccati expansion's start at rank 2, continued
 /// inwards along the real axis.
-fn from_far(
+pub(super) fn from_far(
     k: &Coeffs,
     dir: f64,
     z_m: f64,
