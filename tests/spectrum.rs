@@ -659,3 +659,52 @@ fn spheroidal_eigenvalue_mirror_symmetry_and_counter_rotating_kerr_mode() {
     assert!(re > 0.0 && re < 0.3737 && im < 0.0, "{re} {im}");
     assert!(ms[0]["check"]["agreement"].as_f64().unwrap() < 1e-10);
 }
+
+#[test]
+fn mode_functions_are_written_normalised() {
+    // Hydrogen (Z = 1, l = 0): u₁₀ = 2r e^{−r} and u₂₀ = (r/√2)(1 − r/2) e^{−r/2}, normalised
+    // (textbook, e.g. Landau & Lifshitz, Quantum Mechanics §36, from memory), to 1e-10.
+    let dir = std::env::temp_dir().join(format!("canonode-modes-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("h.json");
+    let (_, code, err) = run(&[
+        "spectrum",
+        "samples/hydrogen_radial.ode",
+        "--boundary",
+        "bound",
+        "--at",
+        "Z=1,l=0",
+        "--overtones",
+        "0..1",
+        "--mode-functions",
+        path.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v: Value = serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
+    let exact: [&dyn Fn(f64) -> f64; 2] = [&|r| 2.0 * r * (-r).exp(), &|r| r / 2f64.sqrt() * (1.0 - r / 2.0) * (-r / 2.0).exp()];
+    for (m, f) in v["modes"].as_array().unwrap().iter().zip(exact) {
+        assert!(m["error"].is_null(), "{m}");
+        let pts = m["points"].as_array().unwrap();
+        assert!(pts.len() > 100);
+        for p in pts {
+            let (r, re, im) = (p[0].as_f64().unwrap(), p[1].as_f64().unwrap(), p[2].as_f64().unwrap());
+            assert!((re - f(r)).abs() < 1e-10 && im.abs() < 1e-10, "n = {}: r = {r}: {re} vs {}", m["n"], f(r));
+        }
+    }
+    // Quasinormal modes: the unknown from the horizon, finite samples out to the reach asked.
+    let path = dir.join("q.csv");
+    let (_, code, err) =
+        run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--mode-functions", path.to_str().unwrap(), "--mode-reach", "10"]);
+    assert_eq!(code, 0, "{err}");
+    let text = std::fs::read_to_string(&path).unwrap();
+    let lines: Vec<&str> = text.lines().collect();
+    assert_eq!(lines[0], "n,omega_re,omega_im,z,re,im");
+    assert_eq!(lines.len(), 401);
+    let last: Vec<f64> = lines[400].split(',').map(|x| x.parse().unwrap()).collect();
+    assert!((last[3] - 12.0).abs() < 1e-12 && last[4].is_finite() && last[5].is_finite(), "{}", lines[400]);
+    // A file type other than CSV or JSON is refused before any work.
+    let (_, code, err) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--mode-functions", "x.txt"]);
+    assert_eq!(code, 2);
+    assert!(err.contains("--mode-functions"), "{err}");
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -7,6 +7,7 @@ mod classify;
 pub(crate) mod diagnostic;
 mod emit;
 mod eval;
+mod mode_file;
 mod record;
 mod recurrence;
 mod reduce;

@@ -100,6 +100,13 @@ pub(crate) struct SpectrumArgs {
     /// Ω_c and λ from the part of V growing like its square.
     #[arg(long = "eikonal-param", value_name = "NAME")]
     pub(crate) eikonal_param: Option<String>,
+    /// Write every converged mode's function to FILE.csv or FILE.json: bound states normalised
+    /// (∫|ψ|² = 1), quasinormal modes with unit leading coefficient at the horizon.
+    #[arg(long = "mode-functions", value_name = "FILE")]
+    pub(crate) mode_functions: Option<String>,
+    /// With --mode-functions for quasinormal modes: how far from the horizon to sample (default 20 times its distance to the next singular point).
+    #[arg(long = "mode-reach", value_name = "DISTANCE")]
+    pub(crate) mode_reach: Option<f64>,
 }
 
 /// A second equation sharing a separation constant (shared by `spectrum` and `scan`).
@@ -164,6 +171,9 @@ fn parse_overtones(t: &str) -> Option<(u32, u32)> {
 fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     if !(a.tol > 0.0 && a.tol < 1e-2) {
         return Err(Error::new(ErrorKind::Usage, format!("--tol {} is not a sensible relative tolerance (between 0 and 1e-2)", a.tol)).into());
+    }
+    if let Some(p) = &a.mode_functions {
+        super::mode_file::check_path(p)?;
     }
     let red = crate::ode::reduce(&src.input(), &a.input.options())?;
     let k = &red.field;
@@ -286,6 +296,20 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         } else {
             checks.push(None);
         }
+    }
+    if let Some(path) = &a.mode_functions {
+        // The unknown itself, from the horizon's Frobenius series with unit leading coefficient.
+        let pb = crate::solve::scatter::problem(&red, &opts, &setup)?;
+        let fs: Vec<super::mode_file::ModeFunction> = modes
+            .iter()
+            .filter(|m| m.root.converged)
+            .map(|m| {
+                let w = m.root.omega;
+                let rho = pb.rho_at(w);
+                (m.n, w, crate::solve::modefn::horizon_mode_function(&pb.ode, pb.near, rho, w, a.mode_reach, 400))
+            })
+            .collect();
+        super::mode_file::write(path, &red.var, "the unknown, with unit leading coefficient of its Frobenius series at the horizon", &fs)?;
     }
     Ok(render(a, &fname, src, &red.var, &setup, &modes, &checks, &wkb, &[]))
 }
@@ -504,6 +528,27 @@ fn bound_states(
             })
         })
         .collect();
+    if let (Some(path), Ok(o)) = (&a.mode_functions, &ode) {
+        // The normal form's ψ at the refined (shooting) value where it agrees, else the collocation value.
+        let fs: Vec<super::mode_file::ModeFunction> = rows
+            .iter()
+            .zip(&checks)
+            .filter(|(s, _)| s.converged)
+            .map(|(s, c)| {
+                let e = match c {
+                    Some(BoundCheck::Agrees(r)) => r.omega,
+                    _ => s.value,
+                };
+                (s.n, e, crate::solve::modefn::bound_mode_function(o, domain, e, 24))
+            })
+            .collect();
+        super::mode_file::write(
+            path,
+            &red.var,
+            "the normal form's psi, with the integral of |psi|^2 equal to 1, real and positive next to the first end",
+            &fs,
+        )?;
+    }
     let agreement = |r: &crate::solve::integrate::IntRoot, s: &crate::solve::collocation::BoundState| {
         (r.omega - s.value).norm() / s.value.norm().max(f64::MIN_POSITIVE)
     };

@@ -175,11 +175,16 @@ pub fn bound_mode_function(ode: &NumOde, domain: Domain, e: Complex64, panels: u
 
 /// The solution of a quasinormal mode (or any ω) that is the Frobenius series
 /// (z − z_h)^ρ (1 + Σ c_k (z − z_h)^k) at the horizon, continued along the
-/// real axis from the horizon to z_h + `reach`; `points` equally spaced samples (weights zero).
-pub fn horizon_mode_function(ode: &NumOde, horizon: f64, rho: Complex64, w: Complex64, reach: f64, points: usize) -> Result<Samples, String> {
+/// real axis from the horizon to z_h + `reach` (default 20 times the distance
+/// to the nearest other singular point); `points` equally spaced samples (weights zero).
+pub fn horizon_mode_function(ode: &NumOde, horizon: f64, rho: Complex64, w: Complex64, reach: Option<f64>, points: usize) -> Result<Samples, String> {
     let k = Coeffs::at(ode, w)?;
     let p = &STANDARD;
     let h = integrate::horizon(&k, horizon)?;
+    let reach = reach.unwrap_or(20.0 * if h.d.is_finite() { h.d } else { 1.0 });
+    if !(reach.is_finite() && reach != 0.0) {
+        return Err("the reach must be a finite non-zero distance".into());
+    }
     let mut roots = h.others.clone();
     roots.push(Complex64::new(horizon, 0.0));
     let near = if h.d.is_finite() { p.start_fraction * h.d } else { reach };

@@ -88,6 +88,13 @@ pub struct Problem {
     pub far_label: String,
 }
 
+impl Problem {
+    /// ρ(ω) of the ingoing solution at the near end.
+    pub fn rho_at(&self, w: Complex64) -> Complex64 {
+        eval_in_omega(&self.rho, w)
+    }
+}
+
 fn usage(msg: impl Into<String>) -> Error {
     Error::new(ErrorKind::Usage, msg)
 }
