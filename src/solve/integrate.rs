@@ -621,29 +621,8 @@ fn evaluate(ode: &NumOde, ends: &Ends, w: Complex64, p: &Params) -> Result<(Comp
     // the l = 2 overtones n = 0…7 stays between 0.1 and 0.4, where a match at
     // 6M falls to 1e-11 by n = 7.
     let z_m = Complex64::new(zh + p.start_fraction * d, 0.0);
-    // The ray from z_m along which the chosen branch is most recessive:
-    // Re((μ − μ') e^{iθ}) = −|μ − μ'|. Relative recessiveness, not the decay
-    // of e^{μz} alone, is what singles the branch out. For a QNM (Im ω < 0)
-    // the outgoing branch grows along the real axis, so θ leaves it; |θ| is
-    // kept below 0.85π so the ray never turns back onto the singular points.
+    let ray = recessive_ray(&far, &hz.others, z_m)?;
     let dmu = far.mu - far.mu2;
-    let mut theta = PI - dmu.arg();
-    if theta > PI {
-        theta -= 2.0 * PI;
-    }
-    let theta = theta.clamp(-0.85 * PI, 0.85 * PI);
-    let ray = Complex64::from_polar(1.0, theta);
-    // The branch is defined by its behaviour on the real axis; turning the
-    // path to the ray is harmless only if no singular point lies in the
-    // wedge between them (which includes the real axis beyond z_m).
-    for r in &hz.others {
-        let v = r - z_m;
-        let ang = v.arg();
-        let in_wedge = if theta >= 0.0 { ang >= -1e-9 && ang <= theta + 1e-9 } else { ang <= 1e-9 && ang >= theta - 1e-9 };
-        if v.norm() == 0.0 || in_wedge {
-            return Err(format!("the zero {r} of A lies between the integration path and the real axis beyond the horizon"));
-        }
-    }
     let mut roots = hz.others.clone();
     roots.push(Complex64::new(zh, 0.0));
     let mut steps = 0;
@@ -656,6 +635,32 @@ fn evaluate(ode: &NumOde, ends: &Ends, w: Complex64, p: &Params) -> Result<(Comp
     // solution is dominated by the other branch unless the mode condition
     // holds to roundoff, so a normalisation there would hide the zero.
     Ok((normalised_wronskian((yh, dyh), (yi, dyi), Norm::Products)?, steps))
+}
+
+/// The ray from z_m along which the branch of `far` is most recessive:
+/// Re((μ − μ') e^{iθ}) = −|μ − μ'|. Relative recessiveness, not the decay
+/// of e^{μz} alone, is what singles the branch out. For a QNM (Im ω < 0)
+/// the outgoing branch grows along the real axis, so θ leaves it; |θ| is
+/// kept below 0.85π so the ray never turns back onto the singular points.
+/// The branch is defined by its behaviour on the real axis; turning the
+/// path to the ray is harmless only if none of the zeros `others` of A lies
+/// in the wedge between them (which includes the real axis beyond z_m).
+pub(super) fn recessive_ray(far: &Far, others: &[Complex64], z_m: Complex64) -> Result<Complex64, String> {
+    let dmu = far.mu - far.mu2;
+    let mut theta = PI - dmu.arg();
+    if theta > PI {
+        theta -= 2.0 * PI;
+    }
+    let theta = theta.clamp(-0.85 * PI, 0.85 * PI);
+    for r in others {
+        let v = r - z_m;
+        let ang = v.arg();
+        let in_wedge = if theta >= 0.0 { ang >= -1e-9 && ang <= theta + 1e-9 } else { ang <= 1e-9 && ang >= theta - 1e-9 };
+        if v.norm() == 0.0 || in_wedge {
+            return Err(format!("the zero {r} of A lies between the integration path and the real axis beyond the horizon"));
+        }
+    }
+    Ok(Complex64::from_polar(1.0, theta))
 }
 
 /// How a Wronskian is made free of the solutions' normalisations.

@@ -11,7 +11,7 @@
 
 use super::collocation::Domain;
 use super::integrate::{self, Coeffs, Params, STANDARD};
-use super::shoot::{ends, from_far, End};
+use super::shoot::{end_structure, ends, from_far, End};
 use super::NumOde;
 use num_complex::Complex64;
 
@@ -120,15 +120,7 @@ pub fn bound_mode_function(ode: &NumOde, domain: Domain, e: Complex64, panels: u
     let k = Coeffs::at(ode, e)?;
     let p = &STANDARD;
     let [left, right] = ends(domain);
-    let local = |end: End| match end {
-        End::Regular(z) => integrate::horizon(&k, z).map(Some),
-        End::Infinite(_) => Ok(None),
-    };
-    let (hl, hr) = (local(left)?, local(right)?);
-    let roots: Vec<Complex64> = match (&hl, &hr) {
-        (Some(h), _) | (None, Some(h)) => h.others.iter().copied().chain([Complex64::new(h.z, 0.0)]).collect(),
-        (None, None) => crate::analysis::numeric::try_roots(&k.a).ok_or("the zeros of A cannot be computed")?,
-    };
+    let (hl, _, roots) = end_structure(&k, domain)?;
     // The matching point and length scale of the shooting check (not the middle: see shoot.rs).
     let (z_m, scale) = match domain {
         Domain::Finite(a, b) => (a + p.start_fraction * (b - a), (b - a) / 8.0),
@@ -210,21 +202,8 @@ pub fn horizon_mode_function(ode: &NumOde, horizon: f64, rho: Complex64, w: Comp
 
 #[cfg(test)]
 mod tests {
+    use super::super::shoot::tests::ode;
     use super::*;
-    use crate::algebra::{GRat, Rat};
-    use crate::ode::{reduce, Input, ReduceOptions};
-
-    /// The numeric normal form of `src` with the spectral parameter `E`, other parameters in order.
-    fn ode(src: &str, values: &[i64]) -> NumOde {
-        let red = reduce(&Input::Program(src), &ReduceOptions::default()).unwrap();
-        let names = red.field.names().to_vec();
-        let eig = names.iter().position(|n| n == "E").unwrap();
-        let mut vals = vec![GRat::zero(); names.len()];
-        for (i, v) in (1..names.len()).filter(|&i| i != eig).zip(values) {
-            vals[i] = GRat::real(Rat::int((*v).into()));
-        }
-        super::super::shoot::try_bound_ode(&red.field, &red.normal.q, &vals, eig).unwrap()
-    }
 
     fn check(samples: &Samples, exact: &dyn Fn(f64) -> f64, what: &str) {
         let norm: f64 = samples.iter().map(|(_, y, w)| w * y.norm_sqr()).sum();

@@ -36,7 +36,7 @@
 //! with the matching point moved and finer steps (the refined parameters of
 //! `integrate.rs`); the change of |T|² is `matching_change`.
 
-use super::integrate::{continue_along, frobenius, from_infinity, horizon, Asymptote, Coeffs, Far, Params, REFINED, STANDARD};
+use super::integrate::{continue_along, frobenius, from_infinity, horizon, recessive_ray, Asymptote, Coeffs, Far, Params, REFINED, STANDARD};
 use super::spectrum::{eval_in_omega, in_omega, Setup, SpectrumOptions};
 use super::{NPoly, NumOde};
 use crate::algebra::print::{ratfunc_text, Style};
@@ -214,23 +214,8 @@ fn evaluate(pb: &Problem, w: f64, p: &Params) -> std::result::Result<(f64, f64, 
             let y1 = frobenius(&hz, rho, s1 - pb.near)?;
             let yh = continue_along(&k, &roots, Complex64::new(s1, 0.0), z_m, y1.0, y1.1, p, d, &mut steps)?;
             let mut branch = |f: &Far| -> std::result::Result<(Complex64, Complex64), String> {
-                // The ray on which this branch is most recessive relative to the other (as in integrate.rs).
-                let dmu = f.mu - f.mu2;
-                let mut theta = PI - dmu.arg();
-                if theta > PI {
-                    theta -= 2.0 * PI;
-                }
-                let theta = theta.clamp(-0.85 * PI, 0.85 * PI);
-                let ray = Complex64::from_polar(1.0, theta);
-                for r in &hz.others {
-                    let v = r - z_m;
-                    let ang = v.arg();
-                    let inside = if theta >= 0.0 { ang >= -1e-9 && ang <= theta + 1e-9 } else { ang <= 1e-9 && ang >= theta - 1e-9 };
-                    if v.norm() == 0.0 || inside {
-                        return Err(format!("the zero {r} of A lies between the path to infinity and the real axis"));
-                    }
-                }
-                from_infinity(&k, &Asymptote::Series(f), &roots, z_m, ray, (4.0 / dmu.norm()).max(d), z_m, p, &mut steps)
+                let ray = recessive_ray(f, &hz.others, z_m)?;
+                from_infinity(&k, &Asymptote::Series(f), &roots, z_m, ray, (4.0 / (f.mu - f.mu2).norm()).max(d), z_m, p, &mut steps)
             };
             let u_out = branch(&far)?;
             let u_in = branch(&inc)?;

@@ -109,16 +109,7 @@ fn evaluate(ode: &NumOde, domain: Domain, e: Complex64, p: &Params) -> std::resu
     }
     let k = Coeffs::at(ode, e)?;
     let [left, right] = ends(domain);
-    let local = |end: End| match end {
-        End::Regular(z) => integrate::horizon(&k, z).map(Some),
-        End::Infinite(_) => Ok(None),
-    };
-    let (hl, hr) = (local(left)?, local(right)?);
-    // The zeros of A, exact at a regular end (the deflated others beside it).
-    let roots: Vec<Complex64> = match (&hl, &hr) {
-        (Some(h), _) | (None, Some(h)) => h.others.iter().copied().chain([Complex64::new(h.z, 0.0)]).collect(),
-        (None, None) => crate::analysis::numeric::try_roots(&k.a).ok_or("the zeros of A cannot be computed")?,
-    };
+    let (hl, hr, roots) = end_structure(&k, domain)?;
     // The matching point: a Frobenius start's distance from the (left)
     // finite end, as for a horizon, or that many units from the origin on
     // the whole line. Never the middle: for an even potential the two
@@ -141,6 +132,23 @@ fn evaluate(ode: &NumOde, domain: Domain, e: Complex64, p: &Params) -> std::resu
     let one = solution(left, &hl)?;
     let two = solution(right, &hr)?;
     Ok((integrate::normalised_wronskian(one, two, integrate::Norm::Vectors)?, steps))
+}
+
+/// The local structure at each regular end (`None` at an infinite one) and
+/// the zeros of A, exact at a regular end (the deflated others beside it).
+#[allow(clippy::type_complexity)]
+pub(super) fn end_structure(k: &Coeffs, domain: Domain) -> std::result::Result<(Option<Horizon>, Option<Horizon>, Vec<Complex64>), String> {
+    let [left, right] = ends(domain);
+    let local = |end: End| match end {
+        End::Regular(z) => integrate::horizon(k, z).map(Some),
+        End::Infinite(_) => Ok(None),
+    };
+    let (hl, hr) = (local(left)?, local(right)?);
+    let roots: Vec<Complex64> = match (&hl, &hr) {
+        (Some(h), _) | (None, Some(h)) => h.others.iter().copied().chain([Complex64::new(h.z, 0.0)]).collect(),
+        (None, None) => crate::analysis::numeric::try_roots(&k.a).ok_or("the zeros of A cannot be computed")?,
+    };
+    Ok((hl, hr, roots))
 }
 
 /// The solution with the larger exponent at the regular end `h`, summed as
@@ -196,12 +204,13 @@ pub(super) fn from_far(
 }
 
 #[cfg(test)]
-mod tests {
+pub(super) mod tests {
     use super::*;
     use crate::ode::{reduce, Input, ReduceOptions};
 
-    /// The numeric normal form of `src` with the spectral parameter `E` last.
-    fn ode(src: &str, values: &[i64]) -> NumOde {
+    /// The numeric normal form of `src` with the spectral parameter `E` last
+    /// (shared with the mode-function tests).
+    pub(in crate::solve) fn ode(src: &str, values: &[i64]) -> NumOde {
         let red = reduce(&Input::Program(src), &ReduceOptions::default()).unwrap();
         let names = red.field.names().to_vec();
         let eig = names.iter().position(|n| n == "E").unwrap();
