@@ -22,6 +22,9 @@ const NODES: usize = 8;
 /// quadrature weight of each sample (zero where the sample is not a node).
 pub type Samples = Vec<(f64, Complex64, f64)>;
 
+/// One end's samples and (y, y') at the matching point.
+type Piece = (Samples, (Complex64, Complex64));
+
 /// The Gauss–Legendre nodes and weights on (−1, 1) (eigenvalues of the
 /// Jacobi matrix, G. H. Golub and J. H. Welsch, Math. Comp. 23 (1969) 221).
 fn gauss_legendre(n: usize) -> Vec<(f64, f64)> {
@@ -57,15 +60,7 @@ fn nodes(a: f64, b: f64, panels: usize) -> Vec<(f64, f64)> {
 /// the end (or a cut far out) and z_m; returns the samples ordered from the
 /// end towards z_m and (y, y') at z_m.
 #[allow(clippy::too_many_arguments)]
-fn piece(
-    k: &Coeffs,
-    end: End,
-    z_m: f64,
-    roots: &[Complex64],
-    p: &Params,
-    panels: usize,
-    scale: f64,
-) -> Result<(Vec<(f64, Complex64, f64)>, (Complex64, Complex64)), String> {
+fn piece(k: &Coeffs, end: End, z_m: f64, roots: &[Complex64], p: &Params, panels: usize, scale: f64) -> Result<Piece, String> {
     let mut steps = 0;
     match end {
         End::Regular(z) => {
@@ -132,7 +127,7 @@ pub fn bound_mode_function(ode: &NumOde, domain: Domain, e: Complex64, panels: u
         Domain::Line => (p.start_fraction, 1.0),
     };
     // Each piece scaled by its size at z_m first, so that no sum overflows.
-    let unit = |(pc, y): (Vec<(f64, Complex64, f64)>, (Complex64, Complex64))| {
+    let unit = |(pc, y): Piece| {
         let s = y.0.norm().max(y.1.norm());
         let s = if s > 0.0 && s.is_finite() { 1.0 / s } else { 1.0 };
         (pc.into_iter().map(|(x, v, w)| (x, v * s, w)).collect::<Vec<_>>(), (y.0 * s, y.1 * s))
