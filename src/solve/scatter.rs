@@ -130,11 +130,14 @@ pub fn problem(red: &Reduction, opts: &SpectrumOptions, setup: &Setup) -> Result
     }
     let ode = super::try_num_ode(k, &red.p, &red.q, &opts.values, opts.freq)?;
     let (_, rho) = point_exponent(red, setup, &setup.horizon, false)?;
-    let far_label = setup
-        .picks
+    // Infinity when it is an end of the problem, else the other picked point
+    // (a pick inside the horizon, such as an inner horizon, is not an end).
+    let labels: Vec<&String> = setup.picks.iter().map(|(l, _)| l).filter(|l| **l != setup.horizon).collect();
+    let far_label = labels
         .iter()
-        .map(|(l, _)| l.clone())
-        .find(|l| *l != setup.horizon)
+        .find(|l| l.as_str() == "∞")
+        .or_else(|| labels.first())
+        .map(|l| l.to_string())
         .ok_or_else(|| usage("the problem has only one end: no far end to scatter to"))?;
     let vals: Vec<Complex64> = opts.values.iter().map(|g| g.to_f64()).map(|(re, im)| Complex64::new(re, im)).collect();
     let far = if far_label == "∞" {
