@@ -8,14 +8,16 @@
 //! per frequency, each with `omega`, `transmission` (|T|², the greybody
 //! factor: transmitted over incident flux), `reflection` (|R|²),
 //! `flux_error` (|R|² + |T|² − 1), `matching_change` (change of |T|² when the
-//! matching point is moved), `superradiant` (|R|² > 1) and `error` (null, or
+//! matching point is moved), `superradiant` (|R|² > 1), `wkb_transmission`
+//! (the second method: the WKB barrier transmission at `--wkb-order`,
+//! meaningful near and above the barrier top; null without a barrier) and `error` (null, or
 //! why this frequency has no value; the numbers are then null). With
 //! `--sum-l`, `transmission`, `reflection`, `flux_error` and
 //! `matching_change` are those of the lowest multipole, and each point adds
 //! `cross_section` (σ = Σ (2l + 1) π |T_l|²/ω²) and `partial`, a list of
 //! {`l`, `transmission`, `reflection`, `flux_error`, `matching_change`,
 //! `cross_section_term`, `error`}.
-//! CSV: `omega,transmission,reflection,flux_error,matching_change,error`
+//! CSV: `omega,transmission,reflection,flux_error,matching_change,wkb_transmission,error`
 //! (and `cross_section` before `error` with `--sum-l`; the partial terms as
 //! `T_l` columns).
 
@@ -61,6 +63,9 @@ pub(crate) struct ScatterArgs {
     /// Output format.
     #[arg(long = "format", value_enum, default_value = "text")]
     format: ScatterFormat,
+    /// The WKB order of the second method (the barrier-top transmission formula; 1..=80).
+    #[arg(long = "wkb-order", value_name = "N", default_value_t = 6)]
+    wkb_order: usize,
     /// Write a plot (|T|² and |R|², or σ with --sum-l, against ω), SVG or PNG by the extension.
     #[arg(long = "plot", value_name = "FILE.svg|FILE.png")]
     plot: Option<String>,
@@ -155,7 +160,14 @@ fn compute(a: &ScatterArgs, src: &super::Source) -> Result<String, Failure> {
         Some((_, l0, l1)) => (l0..=l1).collect(),
         None => vec![0],
     };
+    if !(1..=crate::solve::wkb::MAX_ORDER).contains(&a.wkb_order) {
+        return Err(Error::new(ErrorKind::Usage, format!("the WKB order must lie in 1..={}", crate::solve::wkb::MAX_ORDER))
+            .in_option("--wkb-order")
+            .into());
+    }
     let mut problems: Vec<(i64, Problem)> = Vec::new();
+    // The barrier's Taylor series for the WKB transmission, per multipole (None without a barrier).
+    let mut barriers: Vec<Option<Vec<num_complex::Complex64>>> = Vec::new();
     for &l in &ls {
         let mut values = point.clone();
         if let Some((li, ..)) = sum {
@@ -165,6 +177,8 @@ fn compute(a: &ScatterArgs, src: &super::Source) -> Result<String, Failure> {
         let r = crate::solve::spectrum::substitute(&red, &opts.values, freq)?;
         let (_, setup) = crate::solve::spectrum::qnm_recurrence(&r, &opts)?;
         problems.push((l, problem(&r, &opts, &setup)?));
+        let est = crate::solve::spectrum::barrier_estimates(&r, &opts, setup.horizon_value, a.wkb_order).ok();
+        barriers.push(est.and_then(|e| e(0)).map(|b| b.taylor));
     }
     let (near, far) = (problems[0].1.near_label.clone(), problems[0].1.far_label.clone());
     let freqs: Vec<f64> = grid.iter().map(|r| r.to_f64()).collect();
@@ -176,7 +190,13 @@ fn compute(a: &ScatterArgs, src: &super::Source) -> Result<String, Failure> {
     let mut rows: Vec<Row> = Vec::with_capacity(freqs.len());
     for (bi, block) in freqs.chunks(BLOCK).enumerate() {
         let jobs: Vec<(usize, usize)> = (0..block.len()).flat_map(|i| (0..problems.len()).map(move |j| (i, j))).collect();
-        let results: Vec<Result<Scattering, String>> = jobs.par_iter().map(|&(i, j)| scatter_at(&problems[j].1, block[i])).collect();
+        let results: Vec<Result<Scattering, String>> = jobs
+            .par_iter()
+            .map(|&(i, j)| {
+                let wkb = barriers[j].as_ref().and_then(|t| crate::solve::wkb::wkb_transmission(t, block[i] * block[i], a.wkb_order));
+                scatter_at(&problems[j].1, block[i]).map(|s| Scattering { wkb_transmission: wkb, ..s })
+            })
+            .collect();
         let mut text = String::new();
         for (i, &w) in block.iter().enumerate() {
             let per: Vec<(i64, Result<Scattering, String>)> =
@@ -228,7 +248,7 @@ fn header(f: ScatterFormat, fname: &str, near: &str, far: &str, sum: Option<&(St
             format!("{},\n\"points\": [\n", lead.strip_suffix('}').unwrap_or(&lead))
         }
         ScatterFormat::Csv => {
-            let mut h = String::from("omega,transmission,reflection,flux_error,matching_change");
+            let mut h = String::from("omega,transmission,reflection,flux_error,matching_change,wkb_transmission");
             if sum.is_some() {
                 h.push_str(",cross_section");
                 for l in ls {
@@ -262,9 +282,10 @@ fn num(x: f64) -> Value {
 fn fields(r: &Result<Scattering, String>) -> Value {
     match r {
         Ok(s) => json!({"transmission": num(s.transmission), "reflection": num(s.reflection), "flux_error": num(s.flux_error),
-            "matching_change": num(s.matching_change), "superradiant": s.reflection > 1.0, "error": Value::Null}),
+            "matching_change": num(s.matching_change), "superradiant": s.reflection > 1.0,
+            "wkb_transmission": s.wkb_transmission.map(num).unwrap_or(Value::Null), "error": Value::Null}),
         Err(e) => json!({"transmission": Value::Null, "reflection": Value::Null, "flux_error": Value::Null,
-            "matching_change": Value::Null, "superradiant": Value::Null, "error": e}),
+            "matching_change": Value::Null, "superradiant": Value::Null, "wkb_transmission": Value::Null, "error": e}),
     }
 }
 
@@ -308,8 +329,16 @@ fn row_text(f: ScatterFormat, w: f64, per: &[(i64, Result<Scattering, String>)],
         ScatterFormat::Csv => {
             let g = |x: f64| if x.is_finite() { format!("{x:.17e}") } else { String::new() };
             let mut line = match &per[0].1 {
-                Ok(s) => format!("{},{},{},{},{}", g(w), g(s.transmission), g(s.reflection), g(s.flux_error), g(s.matching_change)),
-                Err(_) => format!("{},,,,", g(w)),
+                Ok(s) => format!(
+                    "{},{},{},{},{},{}",
+                    g(w),
+                    g(s.transmission),
+                    g(s.reflection),
+                    g(s.flux_error),
+                    g(s.matching_change),
+                    s.wkb_transmission.map(g).unwrap_or_default()
+                ),
+                Err(_) => format!("{},,,,,", g(w)),
             };
             if summed {
                 line.push_str(&format!(",{}", sigma(w, per).map(g).unwrap_or_default()));

@@ -182,6 +182,9 @@ pub struct Scattering {
     pub matching_point: f64,
     /// Taylor steps of the refined evaluation.
     pub steps: usize,
+    /// The second method where it applies: the WKB transmission at the barrier
+    /// (`wkb::wkb_transmission`), meaningful near and above the barrier top; `None` when not computed.
+    pub wkb_transmission: Option<f64>,
 }
 
 /// (|T|², |R|², flux error, matching point, steps) at ω with one set of discretisation parameters.
@@ -309,7 +312,16 @@ fn outermost_forbidden(k: &Coeffs, s1: f64, d: f64) -> Option<f64> {
 pub fn scatter_at(pb: &Problem, w: f64) -> std::result::Result<Scattering, String> {
     let (t1, ..) = evaluate(pb, w, &STANDARD)?;
     let (t2, r2, err, z_m, steps) = evaluate(pb, w, &REFINED)?;
-    Ok(Scattering { omega: w, transmission: t2, reflection: r2, flux_error: err, matching_change: (t2 - t1).abs(), matching_point: z_m, steps })
+    Ok(Scattering {
+        omega: w,
+        transmission: t2,
+        reflection: r2,
+        flux_error: err,
+        matching_change: (t2 - t1).abs(),
+        matching_point: z_m,
+        steps,
+        wkb_transmission: None,
+    })
 }
 
 /// σ = Σ_l (2l + 1) π T_l / ω² (the absorption cross-section of a scalar
