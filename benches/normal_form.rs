@@ -28,8 +28,8 @@ fn bench_spectrum(c: &mut Criterion) {
     let opts = SpectrumOptions { freq: 2, values: vec![g(0), g(1), g(0), g(2), g(2)], overtones: (0, 7), tol: 1e-10, guess: None, seeds: Vec::new() };
     let (_, setup) = qnm_recurrence(&red, &opts).expect("recurrence");
     let seeds: Vec<_> = {
-        let est = barrier_estimates(&red, &opts, setup.horizon_value).expect("barrier");
-        (0..2).filter_map(|n| est(n).map(|(_, w)| w)).collect()
+        let est = barrier_estimates(&red, &opts, setup.horizon_value, canonode::solve::wkb::SEED_ORDER).expect("barrier");
+        (0..2).filter_map(|n| est(n).and_then(|b| b.series.seed()).map(|(w, _)| w)).collect()
     };
     let opts = SpectrumOptions { seeds, ..opts.clone() };
     c.bench_function("spectrum/schwarzschild_l2_n0-7_cf", |b| {

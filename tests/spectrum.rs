@@ -100,10 +100,66 @@ fn eikonal_and_wkb_estimates() {
     let lam = 1.0 / (3.0 * 3f64.sqrt());
     assert!((re / 60.5 - lam).abs() / lam < 1e-3 && (-im / 0.5 - lam).abs() / lam < 1e-3, "{re} {im}");
     // Third-order WKB for s = l = 2, n = 0 near 0.3732 − 0.0892i (Iyer 1987, from memory).
-    let (v, _, _) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--method", "wkb", "--format", "json"]);
+    let (v, _, _) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--method", "wkb", "--wkb-order", "3", "--format", "json"]);
     let m = &v["modes"][0];
     let (re, im) = (m["omega"][0].as_f64().unwrap(), m["omega"][1].as_f64().unwrap());
     assert!((re - 0.3732).abs() < 5e-5 && (im + 0.0892).abs() < 5e-5, "{re} {im}");
+    // The eikonal limit from the l² part of the potential: Ω_c = λ = 1/(3√3 M) exactly (textbook).
+    let (v, code, err) =
+        run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--method", "eikonal", "--eikonal-param", "l", "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    assert!((v["eikonal_limit"]["omega_c"].as_f64().unwrap() - lam).abs() < 1e-14, "{v}");
+    assert!((v["eikonal_limit"]["lyapunov"].as_f64().unwrap() - lam).abs() < 1e-14, "{v}");
+    assert!((v["modes"][0]["omega"][0].as_f64().unwrap() - 2.5 * lam).abs() < 1e-14);
+}
+
+#[test]
+fn wkb_to_high_order_against_the_continued_fraction() {
+    // Schwarzschild s = l = 2: the continued fraction (Leaver 1985, checked above to 8 digits) against
+    // the WKB series of every order to 12 and its Padé value: the error falls with the order up to the
+    // optimal truncation, and Padé [6/6] beats every partial sum.
+    let cf = modes("regge_wheeler", "M=1,l=2,s=2", "0", &[]);
+    let exact = omega(&cf[0]);
+    let (v, code, err) =
+        run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--method", "wkb", "--wkb-order", "12", "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(v["order"], 12);
+    let ev = &v["modes"][0]["evidence"];
+    let dist = |w: &Value| ((w[0].as_f64().unwrap() - exact.0).powi(2) + (w[1].as_f64().unwrap() - exact.1).powi(2)).sqrt();
+    let orders = ev["orders"].as_array().unwrap();
+    let errs: Vec<f64> = orders.iter().map(|o| dist(&o["omega"])).collect();
+    assert!(errs[0] > errs[1] && errs[1] > errs[2] && errs[2] > errs[5], "{errs:?}");
+    let opt = ev["optimal_order"].as_u64().unwrap() as usize;
+    assert!(errs[opt - 1] < errs[2], "optimal order {opt}: {errs:?}");
+    let pade = dist(&ev["pade"]["omega"]);
+    assert!(pade < errs.iter().cloned().fold(f64::INFINITY, f64::min), "Padé {pade} vs {errs:?}");
+    assert!(pade <= 5.0 * ev["pade"]["spread"].as_f64().unwrap(), "the spread must estimate the error: {pade} {ev}");
+    assert_eq!(ev["pade"]["approximant"], "[6/6]");
+    assert_eq!(v["modes"][0]["wrong_half_plane"], false);
+    // Pöschl–Teller barrier, where the exact modes are known (Ferrari & Mashhoon 1984): order 12 to 1e-8.
+    let (v, code, err) = run(&[
+        "spectrum",
+        "samples/poschl_teller.ode",
+        "--at",
+        "V0=1,alpha=0.5",
+        "--method",
+        "wkb",
+        "--wkb-order",
+        "12",
+        "--overtones",
+        "0..2",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    for m in v["modes"].as_array().unwrap() {
+        let n = m["n"].as_f64().unwrap();
+        let w = &m["omega"];
+        assert!((w[0].as_f64().unwrap() - 0.9375f64.sqrt()).abs() < 1e-8 && (w[1].as_f64().unwrap() + 0.5 * (n + 0.5)).abs() < 1e-8, "{m}");
+        // The spread between neighbouring orders bounds the true error here.
+        let e = ((w[0].as_f64().unwrap() - 0.9375f64.sqrt()).powi(2) + (w[1].as_f64().unwrap() + 0.5 * (n + 0.5)).powi(2)).sqrt();
+        assert!(e <= m["evidence"]["spread"].as_f64().unwrap(), "{e} {m}");
+    }
 }
 
 #[test]
@@ -738,14 +794,14 @@ fn schwarzschild_overtones_past_the_algebraically_special_frequency() {
     }
     // The upper half-plane WKB estimate is flagged, never used.
     let out = std::process::Command::new(env!("CARGO_BIN_EXE_canonode"))
-        .args(["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--overtones", "0..9"])
+        .args(["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--overtones", "0..9", "--wkb-order", "3"])
         .current_dir(env!("CARGO_MANIFEST_DIR"))
         .output()
         .unwrap();
     let text = String::from_utf8_lossy(&out.stdout);
     let mut flagged = 0;
-    for line in text.lines().filter(|l| l.contains("estimate: third-order WKB")) {
-        let value = line.split("WKB ").nth(1).and_then(|v| v.split(' ').next()).unwrap_or("");
+    for line in text.lines().filter(|l| l.contains("estimate: WKB order 3")) {
+        let value = line.split("order 3 ").nth(1).and_then(|v| v.split(' ').next()).unwrap_or("");
         let upper = value.len() > 1 && value[1..].contains('+');
         flagged += usize::from(upper);
         assert!(!upper || line.contains("upper half-plane"), "{line}");
@@ -768,4 +824,53 @@ fn fractions_in_values_and_any_name_for_the_spectral_parameter() {
     assert_eq!(v["frequency"], "om");
     let (re, im) = omega(&v["modes"][0]);
     assert!((re - 0.37367168).abs() < 5.1e-9 && (im + 0.08896232).abs() < 5.1e-9, "{re} {im}");
+}
+
+#[test]
+fn mode_functions_are_written_normalised() {
+    // Hydrogen (Z = 1, l = 0): u₁₀ = 2r e^{−r} and u₂₀ = (r/√2)(1 − r/2) e^{−r/2}, normalised
+    // (textbook, e.g. Landau & Lifshitz, Quantum Mechanics §36, from memory), to 1e-10.
+    let dir = std::env::temp_dir().join(format!("canonode-modes-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("h.json");
+    let (_, code, err) = run(&[
+        "spectrum",
+        "samples/hydrogen_radial.ode",
+        "--boundary",
+        "bound",
+        "--at",
+        "Z=1,l=0",
+        "--overtones",
+        "0..1",
+        "--mode-functions",
+        path.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v: Value = serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
+    let exact: [&dyn Fn(f64) -> f64; 2] = [&|r| 2.0 * r * (-r).exp(), &|r| r / 2f64.sqrt() * (1.0 - r / 2.0) * (-r / 2.0).exp()];
+    for (m, f) in v["modes"].as_array().unwrap().iter().zip(exact) {
+        assert!(m["error"].is_null(), "{m}");
+        let pts = m["points"].as_array().unwrap();
+        assert!(pts.len() > 100);
+        for p in pts {
+            let (r, re, im) = (p[0].as_f64().unwrap(), p[1].as_f64().unwrap(), p[2].as_f64().unwrap());
+            assert!((re - f(r)).abs() < 1e-10 && im.abs() < 1e-10, "n = {}: r = {r}: {re} vs {}", m["n"], f(r));
+        }
+    }
+    // Quasinormal modes: the unknown from the horizon, finite samples out to the reach asked.
+    let path = dir.join("q.csv");
+    let (_, code, err) =
+        run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--mode-functions", path.to_str().unwrap(), "--mode-reach", "10"]);
+    assert_eq!(code, 0, "{err}");
+    let text = std::fs::read_to_string(&path).unwrap();
+    let lines: Vec<&str> = text.lines().collect();
+    assert_eq!(lines[0], "n,omega_re,omega_im,z,re,im");
+    assert_eq!(lines.len(), 401);
+    let last: Vec<f64> = lines[400].split(',').map(|x| x.parse().unwrap()).collect();
+    assert!((last[3] - 12.0).abs() < 1e-12 && last[4].is_finite() && last[5].is_finite(), "{}", lines[400]);
+    // A file type other than CSV or JSON is refused before any work.
+    let (_, code, err) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--mode-functions", "x.txt"]);
+    assert_eq!(code, 2);
+    assert!(err.contains("--mode-functions"), "{err}");
+    std::fs::remove_dir_all(&dir).ok();
 }

@@ -7,12 +7,15 @@ mod classify;
 pub mod diagnostic;
 mod emit;
 mod eval;
+mod mode_file;
 mod record;
 mod recurrence;
 mod reduce;
 mod scan;
+mod scatter;
 mod spectrum;
 mod values;
+mod wkb_report;
 
 use crate::error::{Error, ErrorKind, Origin};
 use crate::ode::{Input, ReduceOptions};
@@ -43,6 +46,8 @@ enum Command {
     Spectrum(spectrum::SpectrumArgs),
     /// Quasinormal modes over a grid of one parameter (parallel, continuation, shards, SVG/PNG plot).
     Scan(scan::ScanArgs),
+    /// Transmission and reflection (greybody factors) at real frequencies, absorption cross-sections (parallel, streamed).
+    Scatter(scatter::ScatterArgs),
     /// Write a derivation record (plain text, one field a line) to commit beside a paper's code.
     Record(record::RecordArgs),
     /// Re-derive derivation records from their sources and show what changed as a unified diff.
@@ -352,6 +357,7 @@ fn run(cli: Cli) -> u8 {
         Command::Recurrence(a) => recurrence::run(&a),
         Command::Spectrum(a) => spectrum::run(&a),
         Command::Scan(a) => scan::run(&a),
+        Command::Scatter(a) => scatter::run(&a),
         Command::Record(a) => record::run(&a),
         Command::Check(a) => check::run(&a),
         Command::Emit(a) => emit::run(&a),

@@ -18,7 +18,7 @@
 //!   "shooting", `omega` [re, im] or null with `reason`, `agreement`
 //!   (relative), `residual`, and for shooting `change_on_refinement`};
 //!   bound states add `no_check` (why no second method ran, or null);
-//! - quasinormal modes add `estimate` ({`method`: "wkb3", `omega`} or null)
+//! - quasinormal modes add `estimate` ({`method`: "wkb", `order`, `omega`} or null)
 //!   and `coupled` (null, or for `--couple`: `eigenvalue` (its name),
 //!   `value` [re, im], `depth`, `change_on_doubling`, and `links`, each
 //!   linked parameter's value [re, im] at the mode).
@@ -69,7 +69,7 @@ pub(crate) enum Method {
     Cf,
     /// Direct integration between the ends (Frobenius series, asymptotic series, Taylor continuation).
     Integrate,
-    /// Third-order WKB estimates (Iyer & Will 1987).
+    /// WKB estimates to the order of --wkb-order, with Padé resummation.
     Wkb,
     /// The eikonal (first-order) estimate from the peak of the potential.
     Eikonal,
@@ -111,6 +111,20 @@ pub(crate) struct SpectrumArgs {
     format: SpecFormat,
     #[command(flatten)]
     couple: CoupleArgs,
+    /// The WKB order of the barrier-top estimates (1..=80; orders 1–3 are the Schutz–Will and Iyer–Will formulas).
+    #[arg(long = "wkb-order", value_name = "N", default_value_t = 6)]
+    pub(crate) wkb_order: usize,
+    /// With --method eikonal: the parameter whose large values give the eikonal limit (e.g. the multipole index l):
+    /// Ω_c and λ from the part of V growing like its square.
+    #[arg(long = "eikonal-param", value_name = "NAME")]
+    pub(crate) eikonal_param: Option<String>,
+    /// Write every converged mode's function to FILE.csv or FILE.json: bound states normalised
+    /// (∫|ψ|² = 1), quasinormal modes with unit leading coefficient at the horizon.
+    #[arg(long = "mode-functions", value_name = "FILE")]
+    pub(crate) mode_functions: Option<String>,
+    /// With --mode-functions for quasinormal modes: how far from the horizon to sample (default 20 times its distance to the next singular point).
+    #[arg(long = "mode-reach", value_name = "DISTANCE")]
+    pub(crate) mode_reach: Option<f64>,
 }
 
 /// A second equation sharing a separation constant (shared by `spectrum` and `scan`).
@@ -176,6 +190,9 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     if !(a.tol > 0.0 && a.tol < 1e-2) {
         return Err(Error::new(ErrorKind::Usage, format!("--tol {} is not a sensible relative tolerance (between 0 and 1e-2)", a.tol)).into());
     }
+    if let Some(p) = &a.mode_functions {
+        super::mode_file::check_path(p)?;
+    }
     let red = crate::ode::reduce(&src.input(), &a.input.options())?;
     let k = &red.field;
     let names = k.names();
@@ -237,6 +254,8 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         let opts = SpectrumOptions { freq, values: point.clone(), overtones, tol: a.tol, guess, seeds: Vec::new() };
         return coupled(a, src, &red, opts, &fname, &values, &links, asrc, ared);
     }
+    // The eikonal limit keeps its large parameter symbolic.
+    let eikonal = super::wkb_report::eikonal_reduction(a.method == Method::Eikonal, a.eikonal_param.as_deref(), &red, &point, freq)?;
     // Exact values for every other parameter: horizons often become rational points.
     let red = crate::solve::spectrum::substitute(&red, &point, freq)?;
     if a.boundary == ProblemArg::Bound {
@@ -268,7 +287,7 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         });
     let opts = SpectrumOptions { freq, values: point, overtones, tol: a.tol, guess, seeds: Vec::new() };
     if classic {
-        match classic_qnm(a, src, &red, &opts, &fname) {
+        match classic_qnm(a, src, &red, &opts, &fname, eikonal) {
             Err(Failure::Lib(e)) if e.kind == ErrorKind::Usage && problem.is_ok() && a.method == Method::Auto => {
                 let bp = problem?;
                 let note = format!("the continued fraction could not be set up ({}); direct integration between the ends instead", e.message);
@@ -439,11 +458,23 @@ fn between_ends(
 
 /// Quasinormal modes by the exact recurrence's continued fraction, checked
 /// by direct integration (a horizon and an irregular infinity).
-fn classic_qnm(a: &SpectrumArgs, src: &super::Source, red: &crate::ode::Reduction, opts: &SpectrumOptions, fname: &str) -> Result<String, Failure> {
+fn classic_qnm(
+    a: &SpectrumArgs,
+    src: &super::Source,
+    red: &crate::ode::Reduction,
+    opts: &SpectrumOptions,
+    fname: &str,
+    eikonal: Option<(&str, usize, crate::ode::Reduction)>,
+) -> Result<String, Failure> {
     let opts = opts.clone();
     let overtones = opts.overtones;
     let (rec, setup0) = crate::solve::spectrum::qnm_recurrence(red, &opts)?;
-    let estimates = crate::solve::spectrum::barrier_estimates(red, &opts, setup0.horizon_value).ok();
+    if !(1..=crate::solve::wkb::MAX_ORDER).contains(&a.wkb_order) {
+        return Err(Error::new(ErrorKind::Usage, format!("the WKB order must lie in 1..={}", crate::solve::wkb::MAX_ORDER))
+            .in_option("--wkb-order")
+            .into());
+    }
+    let estimates = crate::solve::spectrum::barrier_estimates(red, &opts, setup0.horizon_value, a.wkb_order).ok();
     if matches!(a.method, Method::Wkb | Method::Eikonal) {
         let Some(est) = &estimates else {
             return Err(Error::new(
@@ -452,13 +483,13 @@ fn classic_qnm(a: &SpectrumArgs, src: &super::Source, red: &crate::ode::Reductio
             )
             .into());
         };
-        return Ok(estimate_report(a, &fname, src, overtones, est));
+        let q = super::wkb_report::WkbRequest { wkb: a.method == Method::Wkb, format: a.format, order: a.wkb_order, overtones, eikonal };
+        return super::wkb_report::render(&q, &fname, src, &opts, setup0.horizon_value, est);
     }
-    let estimate = |n: u32| -> Option<(Complex64, String)> {
-        estimates.as_ref().and_then(|e| e(n)).map(|(_, w3)| (w3, "third-order WKB (Iyer & Will 1987)".to_string()))
-    };
+    // Seeds only from estimates in the lower half-plane (wkb.rs: WkbSeries::seed).
+    let estimate = |n: u32| -> Option<(Complex64, String)> { estimates.as_ref().and_then(|e| e(n)).and_then(|b| b.series.seed()) };
     let (mut modes, setup) = crate::solve::spectrum::qnm_modes_from(&rec, setup0.clone(), &opts, &estimate)?;
-    let wkb = |n: u32| estimates.as_ref().and_then(|e| e(n)).map(|(_, w3)| w3);
+    let wkb = |n: u32| estimates.as_ref().and_then(|e| e(n)).map(|b| b.series.omega());
     // The independent check: direct integration, seeded 1e-4 away from the
     // continued-fraction root (or, with --method integrate, from the seed).
     let integ = crate::solve::spectrum::integration_check(&red, &opts, &setup).ok();
@@ -490,6 +521,20 @@ fn classic_qnm(a: &SpectrumArgs, src: &super::Source, red: &crate::ode::Reductio
         } else {
             checks.push(None);
         }
+    }
+    if let Some(path) = &a.mode_functions {
+        // The unknown itself, from the horizon's Frobenius series with unit leading coefficient.
+        let pb = crate::solve::scatter::problem(red, &opts, &setup)?;
+        let fs: Vec<super::mode_file::ModeFunction> = modes
+            .iter()
+            .filter(|m| m.root.converged)
+            .map(|m| {
+                let w = m.root.omega;
+                let rho = pb.rho_at(w);
+                (m.n, w, crate::solve::modefn::horizon_mode_function(&pb.ode, pb.near, rho, w, a.mode_reach, 400))
+            })
+            .collect();
+        super::mode_file::write(path, &red.var, "the unknown, with unit leading coefficient of its Frobenius series at the horizon", &fs)?;
     }
     Ok(render(a, fname, src, &red.var, &setup, &modes, &checks, &wkb, &[]))
 }
@@ -547,7 +592,7 @@ fn render(
                             None => serde_json::Value::Null,
                         },
                         "estimate": match wkb(m.n) {
-                            Some(w) => serde_json::json!({"method": "wkb3", "omega": [w.re, w.im]}),
+                            Some(w) => serde_json::json!({"method": "wkb", "order": a.wkb_order, "omega": [w.re, w.im]}),
                             None => serde_json::Value::Null,
                         },
                         "coupled": match coupled.get(i).and_then(|c| c.as_ref()) {
@@ -653,7 +698,7 @@ fn render(
                     } else {
                         ""
                     };
-                    o.push_str(&format!("     estimate: third-order WKB {}{warn}\n", fmt_complex(w.re, w.im)));
+                    o.push_str(&format!("     estimate: WKB order {} {}{warn}\n", a.wkb_order, fmt_complex(w.re, w.im)));
                 }
             }
             o
@@ -664,66 +709,6 @@ fn render(
 impl SpectrumArgs {
     fn input_frequency(&self) -> Option<String> {
         self.input.frequency_name()
-    }
-}
-
-fn estimate_report(
-    a: &SpectrumArgs,
-    fname: &str,
-    src: &super::Source,
-    overtones: (u32, u32),
-    est: &dyn Fn(u32) -> Option<(Complex64, Complex64)>,
-) -> String {
-    let wkb = a.method == Method::Wkb;
-    let name = if wkb {
-        "third-order WKB (Schutz & Will 1985; Iyer & Will 1987)"
-    } else {
-        "eikonal estimate √V₀ − i(n + ½)√(−V₀''/(2V₀)) (Schutz & Will 1985)"
-    };
-    let rows: Vec<(u32, Option<Complex64>)> = (overtones.0..=overtones.1).map(|n| (n, est(n).map(|(e, w)| if wkb { w } else { e }))).collect();
-    match a.format {
-        SpecFormat::Json => {
-            let ms: Vec<serde_json::Value> = rows
-                .iter()
-                .map(|(n, w)| {
-                    serde_json::json!({
-                        "n": n,
-                        "omega": w.map(|w| serde_json::json!([w.re, w.im])).unwrap_or(serde_json::Value::Null),
-                        "converged": w.is_some(),
-                        "reason": if w.is_some() { serde_json::Value::Null } else { serde_json::Value::String("no barrier estimate".into()) },
-                        "method": if wkb { "wkb" } else { "eikonal" },
-                        "evidence": {"note": "an analytic approximation from the peak of the potential, not an iterated eigenvalue"},
-                        "check": serde_json::Value::Null,
-                    })
-                })
-                .collect();
-            format!(
-                "{}\n",
-                serde_json::to_string_pretty(&serde_json::json!({"frequency": fname, "boundary": "qnm", "method": name, "modes": ms}))
-                    .unwrap_or_default()
-            )
-        }
-        SpecFormat::Csv => {
-            let mut o = String::from("n,re,im,converged,method\n");
-            for (n, w) in rows {
-                match w {
-                    Some(w) => o.push_str(&format!("{n},{:.17e},{:.17e},true,{}\n", w.re, w.im, if wkb { "wkb" } else { "eikonal" })),
-                    None => o.push_str(&format!("{n},,,false,{}\n", if wkb { "wkb" } else { "eikonal" })),
-                }
-            }
-            o
-        }
-        SpecFormat::Text => {
-            let mut o =
-                format!("estimates of the quasinormal modes of {} ({fname}): {name}\n  approximations, not converged eigenvalues\n\n", src.name);
-            for (n, w) in rows {
-                match w {
-                    Some(w) => o.push_str(&format!("  {n:<2} {}\n", fmt_complex(w.re, w.im))),
-                    None => o.push_str(&format!("  {n:<2} no estimate (no barrier peak found)\n")),
-                }
-            }
-            o
-        }
     }
 }
 
@@ -773,6 +758,27 @@ fn bound_states(
             })
         })
         .collect();
+    if let (Some(path), Ok(o)) = (&a.mode_functions, &ode) {
+        // The normal form's ψ at the refined (shooting) value where it agrees, else the collocation value.
+        let fs: Vec<super::mode_file::ModeFunction> = rows
+            .iter()
+            .zip(&checks)
+            .filter(|(s, _)| s.converged)
+            .map(|(s, c)| {
+                let e = match c {
+                    Some(BoundCheck::Agrees(r)) => r.omega,
+                    _ => s.value,
+                };
+                (s.n, e, crate::solve::modefn::bound_mode_function(o, domain, e, 24))
+            })
+            .collect();
+        super::mode_file::write(
+            path,
+            &red.var,
+            "the normal form's psi, with the integral of |psi|^2 equal to 1, real and positive next to the first end",
+            &fs,
+        )?;
+    }
     let agreement = |r: &crate::solve::integrate::IntRoot, s: &crate::solve::collocation::BoundState| {
         (r.omega - s.value).norm() / s.value.norm().max(f64::MIN_POSITIVE)
     };

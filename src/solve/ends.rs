@@ -18,7 +18,6 @@
 use super::boundary::{BoundaryProblem, Condition, Location, Nature};
 use super::integrate::{self, Asymptote, Coeffs, Far, IntRoot, Norm, Params};
 use num_complex::Complex64;
-use std::f64::consts::PI;
 
 const ZERO: Complex64 = Complex64::new(0.0, 0.0);
 
@@ -72,28 +71,28 @@ fn at_infinity_chart(k: &Coeffs) -> Coeffs {
     Coeffs { a: cut(a), b: cut(b), c: cut(c) }
 }
 
-/// The branch at an irregular infinity of rank 1 obeying `cond`: (μ, ν, μ')
-/// with y ~ e^(μz) z^ν and μ' the other branch's rate.
-fn far_branch(k: &Coeffs, cond: Condition, w: Complex64) -> Result<(Complex64, Complex64, Complex64), String> {
+/// The branch at an irregular infinity of rank 1 obeying `cond`: (μ, ν)
+/// with y ~ e^(μz) z^ν.
+fn far_branch(k: &Coeffs, cond: Condition, w: Complex64) -> Result<(Complex64, Complex64), String> {
     let n = k.a.len() - 1;
     let g = |v: &[Complex64], j: usize| v.get(j).copied().unwrap_or(ZERO);
     let (an, bn, cn) = (k.a[n], g(&k.b, n), g(&k.c, n));
     let s = (bn * bn - 4.0 * an * cn).sqrt();
     let (m1, m2) = ((-bn + s) / (2.0 * an), (-bn - s) / (2.0 * an));
     let sign = if w.re < 0.0 { -1.0 } else { 1.0 };
-    let (mu, other) = match cond {
+    let mu = match cond {
         Condition::Outgoing => {
             if m1.im * sign >= m2.im * sign {
-                (m1, m2)
+                m1
             } else {
-                (m2, m1)
+                m2
             }
         }
         Condition::Decaying => {
             if m1.re <= m2.re {
-                (m1, m2)
+                m1
             } else {
-                (m2, m1)
+                m2
             }
         }
         _ => return Err("a finite-end condition at an irregular infinity".into()),
@@ -104,26 +103,7 @@ fn far_branch(k: &Coeffs, cond: Condition, w: Complex64) -> Result<(Complex64, C
     if f.norm() == 0.0 {
         return Err("the two exponential factors at infinity coincide".into());
     }
-    Ok((mu, -e1 / f, other))
-}
-
-/// The direction from z_m along which the chosen branch is most recessive
-/// relative to the other, kept clear of the singular points.
-fn recessive_ray(dmu: Complex64, z_m: Complex64, zeros: &[Complex64]) -> Result<Complex64, String> {
-    let mut theta = PI - dmu.arg();
-    if theta > PI {
-        theta -= 2.0 * PI;
-    }
-    let theta = theta.clamp(-0.85 * PI, 0.85 * PI);
-    for r in zeros {
-        let v = r - z_m;
-        let ang = v.arg();
-        let in_wedge = if theta >= 0.0 { ang >= -1e-9 && ang <= theta + 1e-9 } else { ang <= 1e-9 && ang >= theta - 1e-9 };
-        if v.norm() == 0.0 || in_wedge {
-            return Err(format!("the zero {r} of A lies between the integration path and the real axis beyond the matching point"));
-        }
-    }
-    Ok(Complex64::from_polar(1.0, theta))
+    Ok((mu, -e1 / f))
 }
 
 /// The normalised Wronskian of the two end solutions at ω, and the Taylor
@@ -188,11 +168,11 @@ fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64
             integrate::continue_along(&k, &bp.zeros, from, zl, y, dy, p, f64::INFINITY, &mut steps)?
         }
         (Location::Infinity, Nature::IrregularRank1) => {
-            let (mu, nu, mu2) = far_branch(&k, right.condition, w)?;
+            let (mu, nu) = far_branch(&k, right.condition, w)?;
             let far = Far::new(&k, mu, nu)?;
-            let ray = recessive_ray(mu - mu2, zl, &bp.zeros)?;
+            let ray = integrate::recessive_ray(&far, &bp.zeros, zl)?;
             let d = dl.max(1.0);
-            integrate::from_infinity(&k, &Asymptote::Series(&far), &bp.zeros, zl, ray, (4.0 / (mu - mu2).norm()).max(d), zl, p, &mut steps)?
+            integrate::from_infinity(&k, &Asymptote::Series(&far), &bp.zeros, zl, ray, (4.0 / (far.mu - far.mu2).norm()).max(d), zl, p, &mut steps)?
         }
     };
     Ok((integrate::normalised_wronskian((yl, dyl), (yr, dyr), Norm::Products)?, steps))

@@ -167,7 +167,7 @@ pub(super) struct Params {
 }
 
 pub(super) const STANDARD: Params = Params { start_fraction: 1.0 / 3.0, step_fraction: 0.5, phase_step: 4.0, far_target: 1e-17 };
-const REFINED: Params = Params { start_fraction: 0.4, step_fraction: 0.3, phase_step: 2.0, far_target: 1e-20 };
+pub(super) const REFINED: Params = Params { start_fraction: 0.4, step_fraction: 0.3, phase_step: 2.0, far_target: 1e-20 };
 
 /// A, B, C at one ω, low degree first, exact trailing zeros removed.
 pub(super) struct Coeffs {
@@ -373,9 +373,10 @@ pub(super) fn frobenius(h: &Horizon, rho: Complex64, delta: f64) -> Result<(Comp
 pub(super) struct Far {
     pub(super) mu: Complex64,
     pub(super) nu: Complex64,
-    /// The other branch exp(μ' z) z^ν' (for the contamination estimate).
-    mu2: Complex64,
-    nu2: Complex64,
+    /// The other branch exp(μ' z) z^ν' (for the contamination estimate, and
+    /// the second branch of a scattering decomposition).
+    pub(super) mu2: Complex64,
+    pub(super) nu2: Complex64,
     /// With y = e^{μz} u the equation reads A u'' + F u' + E u = 0, where
     /// F = 2μA + B and E = μ²A + μB + C (coefficients of z^j).
     e: Vec<Complex64>,
@@ -627,29 +628,8 @@ fn evaluate(ode: &NumOde, ends: &Ends, w: Complex64, p: &Params) -> Result<(Comp
     // the l = 2 overtones n = 0…7 stays between 0.1 and 0.4, where a match at
     // 6M falls to 1e-11 by n = 7.
     let z_m = Complex64::new(zh + p.start_fraction * d, 0.0);
-    // The ray from z_m along which the chosen branch is most recessive:
-    // Re((μ − μ') e^{iθ}) = −|μ − μ'|. Relative recessiveness, not the decay
-    // of e^{μz} alone, is what singles the branch out. For a QNM (Im ω < 0)
-    // the outgoing branch grows along the real axis, so θ leaves it; |θ| is
-    // kept below 0.85π so the ray never turns back onto the singular points.
+    let ray = recessive_ray(&far, &hz.others, z_m)?;
     let dmu = far.mu - far.mu2;
-    let mut theta = PI - dmu.arg();
-    if theta > PI {
-        theta -= 2.0 * PI;
-    }
-    let theta = theta.clamp(-0.85 * PI, 0.85 * PI);
-    let ray = Complex64::from_polar(1.0, theta);
-    // The branch is defined by its behaviour on the real axis; turning the
-    // path to the ray is harmless only if no singular point lies in the
-    // wedge between them (which includes the real axis beyond z_m).
-    for r in &hz.others {
-        let v = r - z_m;
-        let ang = v.arg();
-        let in_wedge = if theta >= 0.0 { ang >= -1e-9 && ang <= theta + 1e-9 } else { ang <= 1e-9 && ang >= theta - 1e-9 };
-        if v.norm() == 0.0 || in_wedge {
-            return Err(format!("the zero {r} of A lies between the integration path and the real axis beyond the horizon"));
-        }
-    }
     let mut roots = hz.others.clone();
     roots.push(Complex64::new(zh, 0.0));
     let mut steps = 0;
@@ -662,6 +642,32 @@ fn evaluate(ode: &NumOde, ends: &Ends, w: Complex64, p: &Params) -> Result<(Comp
     // solution is dominated by the other branch unless the mode condition
     // holds to roundoff, so a normalisation there would hide the zero.
     Ok((normalised_wronskian((yh, dyh), (yi, dyi), Norm::Products)?, steps))
+}
+
+/// The ray from z_m along which the branch of `far` is most recessive:
+/// Re((μ − μ') e^{iθ}) = −|μ − μ'|. Relative recessiveness, not the decay
+/// of e^{μz} alone, is what singles the branch out. For a QNM (Im ω < 0)
+/// the outgoing branch grows along the real axis, so θ leaves it; |θ| is
+/// kept below 0.85π so the ray never turns back onto the singular points.
+/// The branch is defined by its behaviour on the real axis; turning the
+/// path to the ray is harmless only if none of the zeros `others` of A lies
+/// in the wedge between them (which includes the real axis beyond z_m).
+pub(super) fn recessive_ray(far: &Far, others: &[Complex64], z_m: Complex64) -> Result<Complex64, String> {
+    let dmu = far.mu - far.mu2;
+    let mut theta = PI - dmu.arg();
+    if theta > PI {
+        theta -= 2.0 * PI;
+    }
+    let theta = theta.clamp(-0.85 * PI, 0.85 * PI);
+    for r in others {
+        let v = r - z_m;
+        let ang = v.arg();
+        let in_wedge = if theta >= 0.0 { ang >= -1e-9 && ang <= theta + 1e-9 } else { ang <= 1e-9 && ang >= theta - 1e-9 };
+        if v.norm() == 0.0 || in_wedge {
+            return Err(format!("the zero {r} of A lies between the integration path and the real axis beyond the horizon"));
+        }
+    }
+    Ok(Complex64::from_polar(1.0, theta))
 }
 
 /// How a Wronskian is made free of the solutions' normalisations.

@@ -11,8 +11,10 @@ pub mod wkb;
 pub mod boundary;
 pub mod ends;
 pub mod integrate;
+pub mod modefn;
 pub mod roots;
 pub mod scan;
+pub mod scatter;
 pub mod shoot;
 pub mod spectrum;
 

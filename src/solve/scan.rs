@@ -149,13 +149,13 @@ fn continues(last: &[Complex64], second: Option<&[Complex64]>, next: Option<&[Co
 }
 
 /// The modes of one equation at one grid point: parameters substituted
-/// exactly, the recurrence derived, seeds from third-order WKB when no
+/// exactly, the recurrence derived, seeds from WKB (wkb::SEED_ORDER) when no
 /// neighbour gave them, the integration check when asked.
 pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Result<PointModes> {
     let r = substitute(red, &opts.values, opts.freq)?;
     let (rec, setup) = qnm_recurrence(&r, opts)?;
-    let est = super::spectrum::barrier_estimates(&r, opts, setup.horizon_value).ok();
-    let first = |n: u32| est.as_ref().and_then(|e| e(n)).map(|(_, w)| (w, "third-order WKB".to_string()));
+    let est = super::spectrum::barrier_estimates(&r, opts, setup.horizon_value, super::wkb::SEED_ORDER).ok();
+    let first = |n: u32| est.as_ref().and_then(|e| e(n)).and_then(|b| b.series.seed());
     let (modes, setup) = qnm_modes_from(&rec, setup, opts, &first)?;
     let integ = if check { integration_check(&r, opts, &setup).ok() } else { None };
     Ok(modes
@@ -177,16 +177,21 @@ pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Res
 /// on every machine (DejaVu Sans; its licence is in `src/solve/font/`).
 static FONT: &[u8] = include_bytes!("font/DejaVuSans.ttf");
 
+/// Registers the built-in font as "sans-serif" for plotters (once per process).
+pub(crate) fn register_font() {
+    static REGISTER: std::sync::Once = std::sync::Once::new();
+    REGISTER.call_once(|| {
+        // The font is a constant of the build: failure here is a packaging bug.
+        plotters::style::register_font("sans-serif", plotters::style::FontStyle::Normal, FONT).map_err(|_| ()).expect("the built-in font is valid");
+    });
+}
+
 /// Writes a plot, SVG or PNG by the file's extension: the modes in the
 /// complex plane, and Re ω and Im ω against the varied parameter, one series
 /// per method (continued fraction, direct integration).
 pub fn plot(path: &std::path::Path, points: &[ScanPoint], param: &str, freq: &str) -> std::result::Result<(), String> {
     use plotters::prelude::*;
-    static REGISTER: std::sync::Once = std::sync::Once::new();
-    REGISTER.call_once(|| {
-        // The font is a constant of the build: failure here is a packaging bug.
-        plotters::style::register_font("sans-serif", FontStyle::Normal, FONT).map_err(|_| ()).expect("the built-in font is valid");
-    });
+    register_font();
     let ext = path.extension().and_then(|e| e.to_str()).map(|e| e.to_ascii_lowercase());
     match ext.as_deref() {
         Some("svg") => draw(SVGBackend::new(path, (1200, 500)).into_drawing_area(), points, param, freq),

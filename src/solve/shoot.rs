@@ -19,14 +19,14 @@ use num_complex::Complex64;
 
 /// One end of the interval, as the shooting sees it.
 #[derive(Clone, Copy, Debug)]
-enum End {
+pub(super) enum End {
     /// A finite end: it must be a regular singular point.
     Regular(f64),
     /// z → ±∞ along the real axis (the sign given).
     Infinite(f64),
 }
 
-fn ends(domain: Domain) -> [End; 2] {
+pub(super) fn ends(domain: Domain) -> [End; 2] {
     match domain {
         Domain::Finite(a, b) => [End::Regular(a), End::Regular(b)],
         Domain::HalfLine(a) => [End::Regular(a), End::Infinite(1.0)],
@@ -109,16 +109,7 @@ fn evaluate(ode: &NumOde, domain: Domain, e: Complex64, p: &Params) -> std::resu
     }
     let k = Coeffs::at(ode, e)?;
     let [left, right] = ends(domain);
-    let local = |end: End| match end {
-        End::Regular(z) => integrate::horizon(&k, z).map(Some),
-        End::Infinite(_) => Ok(None),
-    };
-    let (hl, hr) = (local(left)?, local(right)?);
-    // The zeros of A, exact at a regular end (the deflated others beside it).
-    let roots: Vec<Complex64> = match (&hl, &hr) {
-        (Some(h), _) | (None, Some(h)) => h.others.iter().copied().chain([Complex64::new(h.z, 0.0)]).collect(),
-        (None, None) => crate::analysis::numeric::try_roots(&k.a).map_err(|e| format!("the zeros of A cannot be computed: {e}"))?,
-    };
+    let (hl, hr, roots) = end_structure(&k, domain)?;
     // The matching point: a Frobenius start's distance from the (left)
     // finite end, as for a horizon, or that many units from the origin on
     // the whole line. Never the middle: for an even potential the two
@@ -143,10 +134,27 @@ fn evaluate(ode: &NumOde, domain: Domain, e: Complex64, p: &Params) -> std::resu
     Ok((integrate::normalised_wronskian(one, two, integrate::Norm::Vectors)?, steps))
 }
 
+/// The local structure at each regular end (`None` at an infinite one) and
+/// the zeros of A, exact at a regular end (the deflated others beside it).
+#[allow(clippy::type_complexity)]
+pub(super) fn end_structure(k: &Coeffs, domain: Domain) -> std::result::Result<(Option<Horizon>, Option<Horizon>, Vec<Complex64>), String> {
+    let [left, right] = ends(domain);
+    let local = |end: End| match end {
+        End::Regular(z) => integrate::horizon(k, z).map(Some),
+        End::Infinite(_) => Ok(None),
+    };
+    let (hl, hr) = (local(left)?, local(right)?);
+    let roots: Vec<Complex64> = match (&hl, &hr) {
+        (Some(h), _) | (None, Some(h)) => h.others.iter().copied().chain([Complex64::new(h.z, 0.0)]).collect(),
+        (None, None) => crate::analysis::numeric::try_roots(&k.a).map_err(|e| format!("the zeros of A cannot be computed: {e}"))?,
+    };
+    Ok((hl, hr, roots))
+}
+
 /// The solution with the larger exponent at the regular end `h`, summed as
 /// its Frobenius series a fraction of the way to the nearest other zero of A
 /// (at most to z_m) and continued along the real axis to z_m.
-fn from_regular(
+pub(super) fn from_regular(
     k: &Coeffs,
     h: &Horizon,
     z_m: f64,
@@ -168,7 +176,7 @@ fn from_regular(
 /// The solution that decays towards z = `dir`·∞, at z_m: the asymptotic
 /// series at rank 1, the Riccati expansion's start at rank 2, continued
 /// inwards along the real axis.
-fn from_far(
+pub(super) fn from_far(
     k: &Coeffs,
     dir: f64,
     z_m: f64,
@@ -196,12 +204,13 @@ fn from_far(
 }
 
 #[cfg(test)]
-mod tests {
+pub(super) mod tests {
     use super::*;
     use crate::ode::{reduce, Input, ReduceOptions};
 
-    /// The numeric normal form of `src` with the spectral parameter `E` last.
-    fn ode(src: &str, values: &[i64]) -> NumOde {
+    /// The numeric normal form of `src` with the spectral parameter `E` last
+    /// (shared with the mode-function tests).
+    pub(in crate::solve) fn ode(src: &str, values: &[i64]) -> NumOde {
         let red = reduce(&Input::Program(src), &ReduceOptions::default()).unwrap();
         let names = red.field.names().to_vec();
         let eig = names.iter().position(|n| n == "E").unwrap();

@@ -420,18 +420,11 @@ fn terminating_mode(num: &super::cf::NumRecurrence, n: u32) -> Mode {
     Mode { n, root, seed: (Complex64::new(0.0, 0.0), "exact termination condition (no seed)".into()), method: "terminating" }
 }
 
-/// First estimates from the Schrödinger form: dx/dz = h with h² the
+/// The Schrödinger form used by the barrier estimates: dx/dz = h with h² the
 /// coefficient of ω² in q (the tortoise coordinate of these wave equations,
-/// common practice), V = ω² − W free of ω, barrier searched outside the
-/// outermost horizon. Returns a function giving (eikonal, third-order WKB)
-/// for overtone n (Schutz & Will 1985; Iyer & Will 1987).
-pub fn barrier_estimates<'a>(
-    red: &'a Reduction,
-    opts: &'a SpectrumOptions,
-    horizon: f64,
-) -> Result<impl Fn(u32) -> Option<(Complex64, Complex64)> + 'a> {
+/// common practice) and V = ω² − W free of ω. Returns (V, h).
+pub fn barrier_potential(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate::algebra::RatFunc, crate::algebra::RatFunc)> {
     let k = &red.field;
-    let w = k.var(opts.freq);
     // q = q₀ + q₁ ω + q₂ ω²: q₂ = ½ ∂²q/∂ω².
     let d2 = k.deriv(&k.deriv(&red.q, opts.freq)?, opts.freq)?;
     let q2 = k.mul(&d2, &crate::algebra::RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero")))?;
@@ -441,20 +434,35 @@ pub fn barrier_estimates<'a>(
     let Some(h) = k.sqrt_exact(&q2)? else {
         return Err(usage("the coefficient of the frequency squared is not a perfect square: no rational tortoise coordinate"));
     };
-    let _ = w;
     let (_, v) = crate::ode::schrodinger(k, &red.p, &red.q, &h, Some(opts.freq))?;
-    Ok(move |n: u32| super::wkb::try_barrier(k, &v, &h, &opts.values, Some(opts.freq), (horizon, f64::INFINITY), n).ok().map(|b| (b.eikonal, b.wkb3)))
+    Ok((v, h))
+}
+
+/// First estimates from the barrier top of [`barrier_potential`], searched
+/// beyond the horizon (then below it): a function giving the estimates of
+/// overtone n to WKB order `order` (eikonal, the series and its Padé values;
+/// see `wkb.rs`).
+pub fn barrier_estimates<'a>(
+    red: &'a Reduction,
+    opts: &'a SpectrumOptions,
+    horizon: f64,
+    order: usize,
+) -> Result<impl Fn(u32) -> Option<super::wkb::BarrierEstimate> + 'a> {
+    let (v, h) = barrier_potential(red, opts)?;
+    // The barrier lies beyond the horizon; when the variable runs the other way (z → −∞ or a second end below), below it.
+    let at = move |n: u32, d: (f64, f64)| super::wkb::try_barrier(&red.field, &v, &h, &opts.values, Some(opts.freq), d, n, order).ok();
+    Ok(move |n: u32| at(n, (horizon, f64::INFINITY)).or_else(|| at(n, (f64::NEG_INFINITY, horizon))))
 }
 
 /// A rational function of the parameters as a function of ω alone (the
 /// other parameters at their values), for numeric use.
-fn in_omega(r: &crate::algebra::RatFunc, opts: &SpectrumOptions) -> (super::NPoly, super::NPoly) {
+pub(super) fn in_omega(r: &crate::algebra::RatFunc, opts: &SpectrumOptions) -> (super::NPoly, super::NPoly) {
     let num = super::try_npoly(r.num(), r.scale().to_f64(), &opts.values, opts.freq);
     let den = super::try_npoly(&r.den_expanded(), 1.0, &opts.values, opts.freq);
     (num, den)
 }
 
-fn eval_in_omega(f: &(super::NPoly, super::NPoly), w: Complex64) -> Complex64 {
+pub(super) fn eval_in_omega(f: &(super::NPoly, super::NPoly), w: Complex64) -> Complex64 {
     let z = Complex64::new(0.0, 0.0);
     f.0.eval(z, w) / f.1.eval(z, w)
 }

@@ -1,0 +1,386 @@
+//! Scattering at real frequencies: transmission and reflection coefficients
+//! (greybody factors) of a potential barrier between two ends of the
+//! equation, and the absorption cross-section summed over a multipole index.
+//!
+//! The ends are those of the quasinormal-mode problem (`spectrum.rs` picks
+//! them from the analysis): the near end is a regular singular point (a
+//! horizon, or a regular end) where the solution is the Frobenius series with
+//! the ingoing exponent; the far end is either z = ∞ of Poincaré rank 1, with
+//! the branches exp(μz) z^ν (1 + Σ d_k z^(−k)) (asymptotic series), or a
+//! second regular singular point with its two Frobenius branches. The branch
+//! picked there for the modes (leaving the barrier) is the reflected wave, the
+//! other one the incident wave. At a real ω the near solution y_h is summed
+//! near its end and continued by Taylor steps to a matching point z_m beyond
+//! the barrier (past the outermost point where the normal form's Q < 0 at a
+//! regular-infinity end; the far branches' own start point at a regular far
+//! end), so that it crosses the barrier in the stable direction; each far
+//! branch is started where it is recessive (at ∞: on the ray where it is
+//! smallest relative to the other, as in `integrate.rs`) and continued to
+//! z_m; there y_h = a·u_in + b·u_out by a 2 × 2 solve.
+//!
+//! Fluxes. For real coefficients the conjugate of a solution is a solution,
+//! and J[y] = Im(ȳ y') e^{∫B/A} is constant (the Wronskian of y and ȳ, common
+//! practice). All fluxes are taken at z_m, where the weight e^{∫B/A} is one
+//! common factor, so it cancels from the ratios:
+//! transmission |T|² = J[y_h] / (|a|² J[u_in]) (the transmitted over the
+//! incident flux: the greybody factor), reflection |R|² = |b|² |J[u_out]| /
+//! (|a|² |J[u_in]|). Neither depends on how the branches are normalised.
+//! Since the two far branches are computed independently, the identity
+//! |R|² + |T|² = 1 holds only as far as they are truly each other's complex
+//! conjugates (the cross term of J vanishes); `flux_error` = |R|² + |T|² − 1
+//! is its measure. For a rotating background the horizon's ingoing wave
+//! carries the flux of e^{−i(ω − mΩ_H)r*}, so this transmission is
+//! ((ω − mΩ_H)/ω) times the amplitude ratio |1/A_in|²: the generalised
+//! identity needs no Ω_H, and a negative transmission (|R|² > 1) is
+//! superradiance, reported as a result. The whole evaluation is repeated
+//! with the matching point moved and finer steps (the refined parameters of
+//! `integrate.rs`); the change of |T|² is `matching_change`.
+
+use super::integrate::{continue_along, frobenius, from_infinity, horizon, recessive_ray, Asymptote, Coeffs, Far, Params, REFINED, STANDARD};
+use super::spectrum::{eval_in_omega, in_omega, Setup, SpectrumOptions};
+use super::{NPoly, NumOde};
+use crate::algebra::print::{ratfunc_text, Style};
+use crate::algebra::{Rat, RatFunc};
+use crate::analysis::Place;
+use crate::error::{Error, ErrorKind, Result};
+use crate::ode::Reduction;
+use num_complex::Complex64;
+use std::f64::consts::PI;
+
+/// A function of ω alone: numerator and denominator.
+type InOmega = (NPoly, NPoly);
+
+/// The far end of the scattering problem.
+#[derive(Clone, Debug)]
+pub enum FarEnd {
+    /// z = ∞ of rank 1: μ(ω), ν(ω) of the reflected branch (the incident one follows from the equation).
+    Infinity {
+        /// μ of the reflected branch.
+        mu: InOmega,
+        /// ν of the reflected branch.
+        nu: InOmega,
+    },
+    /// A regular singular point: its place and the exponents of the reflected and the incident branch.
+    Point {
+        /// The point.
+        at: f64,
+        /// Exponent of the reflected branch (the one picked for the modes).
+        out: InOmega,
+        /// Exponent of the incident branch (the other one).
+        inc: InOmega,
+    },
+}
+
+/// Everything a frequency needs, numeric only (shared by the worker threads).
+#[derive(Clone, Debug)]
+pub struct Problem {
+    /// The equation A y'' + B y' + C y = 0 with the parameters substituted.
+    pub ode: NumOde,
+    /// The near end (regular singular) and its ingoing exponent.
+    pub near: f64,
+    /// ρ(ω) of the ingoing solution at the near end.
+    pub rho: InOmega,
+    /// The far end.
+    pub far: FarEnd,
+    /// The near end's label, as text.
+    pub near_label: String,
+    /// The far end's label, as text.
+    pub far_label: String,
+}
+
+impl Problem {
+    /// ρ(ω) of the ingoing solution at the near end.
+    pub fn rho_at(&self, w: Complex64) -> Complex64 {
+        eval_in_omega(&self.rho, w)
+    }
+}
+
+fn usage(msg: impl Into<String>) -> Error {
+    Error::new(ErrorKind::Usage, msg)
+}
+
+/// The exact exponent picked (or, with `other`, not picked) at a finite point labelled `label`.
+fn point_exponent(red: &Reduction, setup: &Setup, label: &str, other: bool) -> Result<(RatFunc, RatFunc)> {
+    let k = &red.field;
+    let an = &setup.analysis;
+    let text = |at: &RatFunc| ratfunc_text(at, k.names(), Style::Text);
+    let (at, pt) = an
+        .points
+        .iter()
+        .find_map(|p| match &p.place {
+            Place::Point { at, .. } if text(at) == label => Some((at.clone(), p)),
+            _ => None,
+        })
+        .ok_or_else(|| usage(format!("the end {label} is not a singular point of a linear factor")))?;
+    let pick = setup.picks.iter().find(|(p, _)| p == label).map(|(_, c)| c - 1).ok_or_else(|| usage(format!("no exponent was picked at {label}")))?;
+    if pt.unknown_exponents.len() != 2 {
+        return Err(usage(format!("the end {label} does not have two exponents")));
+    }
+    let i = if other { 1 - pick.min(1) } else { pick };
+    let e = pt.unknown_exponents[i].exact_value(k).ok_or_else(|| usage(format!("the exponent at {label} is not exact in the parameters")))?;
+    Ok((at, e))
+}
+
+/// Builds the scattering problem from the quasinormal-mode choices (`setup`)
+/// of an equation whose parameters other than ω are substituted (`red`).
+pub fn problem(red: &Reduction, opts: &SpectrumOptions, setup: &Setup) -> Result<Problem> {
+    let k = &red.field;
+    if setup.theta.is_some() {
+        return Err(usage("the horizon is a root of an irreducible quadratic factor: scattering needs it at a rational point"));
+    }
+    let ode = super::try_num_ode(k, &red.p, &red.q, &opts.values, opts.freq)?;
+    let (_, rho) = point_exponent(red, setup, &setup.horizon, false)?;
+    // Infinity when it is an end of the problem, else the other picked point
+    // (a pick inside the horizon, such as an inner horizon, is not an end).
+    let labels: Vec<&String> = setup.picks.iter().map(|(l, _)| l).filter(|l| **l != setup.horizon).collect();
+    let far_label = labels
+        .iter()
+        .find(|l| l.as_str() == "∞")
+        .or_else(|| labels.first())
+        .map(|l| l.to_string())
+        .ok_or_else(|| usage("the problem has only one end: no far end to scatter to"))?;
+    let vals: Vec<Complex64> = opts.values.iter().map(|g| g.to_f64()).map(|(re, im)| Complex64::new(re, im)).collect();
+    let far = if far_label == "∞" {
+        let an = &setup.analysis;
+        let inf = an.points.iter().find(|p| matches!(p.place, Place::Infinity)).ok_or_else(|| usage("infinity is not listed"))?;
+        let bi = setup.picks.iter().find(|(p, _)| p == "∞").map(|(_, c)| c - 1).ok_or_else(|| usage("no branch was picked at infinity"))?;
+        let f = inf.formal.get(bi).ok_or_else(|| usage("no formal solution at infinity"))?;
+        if f.exponent.len() != 1 {
+            return Err(usage("infinity is not of rank 1: scattering needs the branches exp(μz) z^ν"));
+        }
+        let mu = f.exponent.iter().find(|(pw, _)| pw.is_integer() && pw.numer().is_one()).map(|(_, c)| c.clone());
+        let mu = mu.ok_or_else(|| usage("infinity is not of rank 1"))?;
+        let p1 = crate::analysis::p_at_infinity_pub(k, &red.p)?;
+        // ν of the unknown = ρ of ψ − p₁/2 (the prefactor's power at infinity).
+        let nu = k.sub(&f.rho, &k.mul(&RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero")), &p1)?)?;
+        FarEnd::Infinity { mu: in_omega(&mu, opts), nu: in_omega(&nu, opts) }
+    } else {
+        let (at, out) = point_exponent(red, setup, &far_label, false)?;
+        let (_, inc) = point_exponent(red, setup, &far_label, true)?;
+        let at = super::eval_at(&at, &vals)
+            .filter(|z| z.im == 0.0 && z.re.is_finite())
+            .ok_or_else(|| usage(format!("the end {far_label} is not real")))?;
+        FarEnd::Point { at: at.re, out: in_omega(&out, opts), inc: in_omega(&inc, opts) }
+    };
+    Ok(Problem { ode, near: setup.horizon_value, rho: in_omega(&rho, opts), far, near_label: setup.horizon.clone(), far_label })
+}
+
+/// The scattering data at one real frequency.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Scattering {
+    /// The frequency.
+    pub omega: f64,
+    /// |T|²: transmitted over incident flux (the greybody factor; negative under superradiance).
+    pub transmission: f64,
+    /// |R|²: reflected over incident flux.
+    pub reflection: f64,
+    /// |R|² + |T|² − 1.
+    pub flux_error: f64,
+    /// |Δ|T|²| when the matching point is moved and the steps refined.
+    pub matching_change: f64,
+    /// Where the matching point was (refined evaluation).
+    pub matching_point: f64,
+    /// Taylor steps of the refined evaluation.
+    pub steps: usize,
+    /// The second method where it applies: the WKB transmission at the barrier
+    /// (`wkb::wkb_transmission`), meaningful near and above the barrier top; `None` when not computed.
+    pub wkb_transmission: Option<f64>,
+}
+
+/// (|T|², |R|², flux error, matching point, steps) at ω with one set of discretisation parameters.
+fn evaluate(pb: &Problem, w: f64, p: &Params) -> std::result::Result<(f64, f64, f64, f64, usize), String> {
+    if !(w.is_finite() && w != 0.0) {
+        return Err("the frequency must be finite and non-zero".into());
+    }
+    let wc = Complex64::new(w, 0.0);
+    let k = Coeffs::at(&pb.ode, wc)?;
+    // Flux conservation needs real coefficients.
+    let big = k.a.iter().chain(&k.b).chain(&k.c).map(|x| x.norm()).fold(0.0, f64::max);
+    if k.a.iter().chain(&k.b).chain(&k.c).any(|x| x.im.abs() > 1e-14 * big) {
+        return Err("the equation is not real at this frequency: its fluxes are not conserved".into());
+    }
+    let rho = eval_in_omega(&pb.rho, wc);
+    let hz = horizon(&k, pb.near)?;
+    let mut roots = hz.others.clone();
+    roots.push(Complex64::new(pb.near, 0.0));
+    let mut steps = 0;
+    let (z_m, (yh, dyh), u_out, u_in) = match &pb.far {
+        FarEnd::Infinity { mu, nu } => {
+            let far = Far::new(&k, eval_in_omega(mu, wc), eval_in_omega(nu, wc))?;
+            let inc = Far::new(&k, far.mu2, far.nu2)?;
+            let d = if hz.d.is_finite() { hz.d } else { 1.0 + pb.near.abs() };
+            // Match beyond the barrier, where both far branches oscillate: continuing them
+            // inwards through a forbidden region would leave both dominated by one solution.
+            let s1 = pb.near + p.start_fraction * d;
+            let z_m = match outermost_forbidden(&k, s1, d) {
+                Some(zf) => pb.near + (zf - pb.near) * (1.0 + 1.5 * p.start_fraction),
+                None => s1,
+            };
+            let z_m = Complex64::new(z_m, 0.0);
+            let y1 = frobenius(&hz, rho, s1 - pb.near)?;
+            let yh = continue_along(&k, &roots, Complex64::new(s1, 0.0), z_m, y1.0, y1.1, p, d, &mut steps)?;
+            let mut branch = |f: &Far| -> std::result::Result<(Complex64, Complex64), String> {
+                let ray = recessive_ray(f, &hz.others, z_m)?;
+                from_infinity(&k, &Asymptote::Series(f), &roots, z_m, ray, (4.0 / (f.mu - f.mu2).norm()).max(d), z_m, p, &mut steps)
+            };
+            let u_out = branch(&far)?;
+            let u_in = branch(&inc)?;
+            (z_m.re, yh, u_out, u_in)
+        }
+        FarEnd::Point { at, out, inc } => {
+            let hf = horizon(&k, *at)?;
+            let len = (at - pb.near).abs();
+            let dir = (at - pb.near).signum();
+            // Start each series well inside its disc, match at a point between them.
+            let s1 = pb.near + dir * p.start_fraction * hz.d.min(len);
+            let s2 = at - dir * p.start_fraction * hf.d.min(len);
+            // Matching where the far branches start: y_h is carried across the
+            // barrier in the stable direction, the far branches not at all.
+            let z_m = s2;
+            let hcap = len / 8.0;
+            let zc = |x: f64| Complex64::new(x, 0.0);
+            let y1 = frobenius(&hz, rho, s1 - pb.near)?;
+            let yh = continue_along(&k, &roots, zc(s1), zc(z_m), y1.0, y1.1, p, hcap, &mut steps)?;
+            let mut at_far = |e: &InOmega| -> std::result::Result<(Complex64, Complex64), String> {
+                let y = frobenius(&hf, eval_in_omega(e, wc), s2 - at)?;
+                continue_along(&k, &roots, zc(s2), zc(z_m), y.0, y.1, p, hcap, &mut steps)
+            };
+            let u_out = at_far(out)?;
+            let u_in = at_far(inc)?;
+            (z_m, yh, u_out, u_in)
+        }
+    };
+    let wr = |a: (Complex64, Complex64), b: (Complex64, Complex64)| a.0 * b.1 - a.1 * b.0;
+    let w0 = wr(u_in, u_out);
+    if w0.norm() == 0.0 || !(w0.re.is_finite() && w0.im.is_finite()) {
+        return Err("the two far branches are not independent at the matching point".into());
+    }
+    let y = (yh, dyh);
+    let a = wr(y, u_out) / w0;
+    let b = wr(u_in, y) / w0;
+    let flux = |u: (Complex64, Complex64)| (u.0.conj() * u.1).im;
+    let (jh, jin, jout) = (flux(y), flux(u_in), flux(u_out));
+    if jin == 0.0 || !jin.is_finite() {
+        return Err("the incident branch carries no flux at this frequency".into());
+    }
+    let t2 = jh / (a.norm_sqr() * jin);
+    let r2 = -b.norm_sqr() * jout / (a.norm_sqr() * jin);
+    let err = t2 + r2 - 1.0;
+    if !(t2.is_finite() && r2.is_finite()) {
+        return Err("the transmission or reflection coefficient is not finite".into());
+    }
+    Ok((t2, r2, err, z_m, steps))
+}
+
+/// Q = C/A − (B/A)²/4 − (B/A)'/2 of the normal form at a real z (its real part).
+fn normal_q(k: &Coeffs, z: f64) -> f64 {
+    let zc = Complex64::new(z, 0.0);
+    let ev = |p: &[Complex64]| p.iter().rev().fold(Complex64::new(0.0, 0.0), |acc, c| acc * zc + c);
+    let dv = |p: &[Complex64]| p.iter().enumerate().skip(1).rev().fold(Complex64::new(0.0, 0.0), |acc, (i, c)| acc * zc + c * i as f64);
+    let (a, b, c, da, db) = (ev(&k.a), ev(&k.b), ev(&k.c), dv(&k.a), dv(&k.b));
+    let pp = b / a;
+    let dp = (db * a - b * da) / (a * a);
+    (c / a - pp * pp / 4.0 - dp / 2.0).re
+}
+
+/// The outermost point of a geometric scan outwards from `s1` (ratio 1.1 in the
+/// distance from it, out to 10⁶ d) where Q < 0: the far edge of the barrier
+/// at this frequency; `None` when Q ≥ 0 on the whole scan or still negative at its end.
+fn outermost_forbidden(k: &Coeffs, s1: f64, d: f64) -> Option<f64> {
+    let mut last = None;
+    let mut r = 0.0;
+    let mut step = d / 16.0;
+    let mut negative_at_end = false;
+    while r <= 1e6 * d {
+        let z = s1 + r;
+        let q = normal_q(k, z);
+        negative_at_end = q.is_finite() && q < 0.0;
+        if negative_at_end {
+            last = Some(z);
+        }
+        r += step;
+        step *= 1.1;
+    }
+    if negative_at_end {
+        None
+    } else {
+        last
+    }
+}
+
+/// The scattering data at ω: both discretisations, the refined values reported.
+pub fn scatter_at(pb: &Problem, w: f64) -> std::result::Result<Scattering, String> {
+    let (t1, ..) = evaluate(pb, w, &STANDARD)?;
+    let (t2, r2, err, z_m, steps) = evaluate(pb, w, &REFINED)?;
+    Ok(Scattering {
+        omega: w,
+        transmission: t2,
+        reflection: r2,
+        flux_error: err,
+        matching_change: (t2 - t1).abs(),
+        matching_point: z_m,
+        steps,
+        wkb_transmission: None,
+    })
+}
+
+/// σ = Σ_l (2l + 1) π T_l / ω² (the absorption cross-section of a scalar
+/// wave, common practice), from the transmission of each multipole.
+pub fn cross_section(omega: f64, terms: &[(i64, f64)]) -> f64 {
+    terms.iter().map(|(l, t)| (2 * l + 1) as f64 * PI * t / (omega * omega)).sum()
+}
+
+/// Writes a plot, SVG or PNG by the file's extension: each curve (name,
+/// points (ω, value)) against ω.
+pub fn plot(path: &std::path::Path, title: &str, ylabel: &str, curves: &[(String, Vec<(f64, f64)>)]) -> std::result::Result<(), String> {
+    use plotters::prelude::*;
+    super::scan::register_font();
+    let ext = path.extension().and_then(|e| e.to_str()).map(|e| e.to_ascii_lowercase());
+    match ext.as_deref() {
+        Some("svg") => draw(SVGBackend::new(path, (900, 560)).into_drawing_area(), title, ylabel, curves),
+        Some("png") => draw(BitMapBackend::new(path, (900, 560)).into_drawing_area(), title, ylabel, curves),
+        _ => Err("the plot is written as SVG or PNG: give FILE.svg or FILE.png".into()),
+    }
+}
+
+fn draw<DB: plotters::prelude::DrawingBackend>(
+    root: plotters::drawing::DrawingArea<DB, plotters::coord::Shift>,
+    title: &str,
+    ylabel: &str,
+    curves: &[(String, Vec<(f64, f64)>)],
+) -> std::result::Result<(), String> {
+    use plotters::prelude::*;
+    root.fill(&WHITE).map_err(|e| e.to_string())?;
+    let all = curves.iter().flat_map(|c| c.1.iter());
+    let (x0, x1, y0, y1) = all.fold((f64::INFINITY, f64::NEG_INFINITY, f64::INFINITY, f64::NEG_INFINITY), |(a, b, c, d), p| {
+        (a.min(p.0), b.max(p.0), c.min(p.1), d.max(p.1))
+    });
+    let (x0, x1) = if x0.is_finite() { (x0, x1.max(x0 + 1e-9)) } else { (0.0, 1.0) };
+    let (y0, y1) = if y0.is_finite() { (y0, y1.max(y0 + 1e-9)) } else { (0.0, 1.0) };
+    let pad = (y1 - y0) * 0.08;
+    let mut chart = ChartBuilder::on(&root)
+        .caption(title, ("sans-serif", 18))
+        .margin(14)
+        .x_label_area_size(40)
+        .y_label_area_size(64)
+        .build_cartesian_2d(x0..x1, (y0 - pad)..(y1 + 3.0 * pad))
+        .map_err(|e| e.to_string())?;
+    chart.configure_mesh().x_desc("ω").y_desc(ylabel).draw().map_err(|e| e.to_string())?;
+    let colours = [BLUE, RED, GREEN, MAGENTA, CYAN, BLACK];
+    for (i, (name, pts)) in curves.iter().enumerate() {
+        let c = colours[i % colours.len()];
+        chart
+            .draw_series(LineSeries::new(pts.iter().copied(), c.stroke_width(2)))
+            .map_err(|e| e.to_string())?
+            .label(name.as_str())
+            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], c.stroke_width(2)));
+    }
+    chart
+        .configure_series_labels()
+        .position(SeriesLabelPosition::UpperRight)
+        .background_style(WHITE.mix(0.8))
+        .border_style(BLACK)
+        .draw()
+        .map_err(|e| e.to_string())?;
+    root.present().map_err(|e| e.to_string())
+}
