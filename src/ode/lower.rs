@@ -7,7 +7,7 @@
 use super::quasi::{Atoms, Quasi};
 use crate::algebra::{Field, GRat, Limits, Rat, RatFunc};
 use crate::error::{Error, ErrorKind, Result};
-use crate::syntax::{BinOp, Expr, ExprKind, Program, Span, Statement};
+use crate::syntax::{BinOp, Expr, ExprKind, Ident, Program, Span, Statement};
 use std::collections::BTreeMap;
 
 /// The highest derivative order tracked while lowering (the equation itself
@@ -151,9 +151,16 @@ pub fn lower_program(program: &Program, mode: NameMode, limits: &Limits) -> Resu
         }
         None => {
             let mut primed = Vec::new();
-            collect_primed(lhs, &mut primed);
-            collect_primed(rhs, &mut primed);
+            collect_primed(lhs, &mut primed, &known);
+            collect_primed(rhs, &mut primed, &known);
             primed.retain(|(n, _)| !known(n));
+            if primed.is_empty() {
+                // Only bracketed expressions are differentiated, as in
+                // d/dx(x*w) or (x*w)': the unknown is among their names.
+                collect_differentiated(lhs, false, &mut primed);
+                collect_differentiated(rhs, false, &mut primed);
+                primed.retain(|(n, _)| !known(n));
+            }
             primed.dedup_by(|a, b| a.0 == b.0);
             let mut names: Vec<(String, Span)> = Vec::new();
             for p in primed {
@@ -223,18 +230,44 @@ pub fn lower_program(program: &Program, mode: NameMode, limits: &Limits) -> Resu
     Ok(LinearOde { field, var, unknown, params: param_names, inferred, p, q, lets: lets_out })
 }
 
-fn collect_primed(e: &Expr, out: &mut Vec<(String, Span)>) {
+/// Names that carry a derivative: primed names and Leibniz derivatives of a
+/// name. `known` tells declared names, so that a quotient `dA/dB` of two
+/// declared names is skipped.
+fn collect_primed(e: &Expr, out: &mut Vec<(String, Span)>, known: &dyn Fn(&str) -> bool) {
     match &e.kind {
         ExprKind::Prime(inner, _) => {
             if let ExprKind::Name(n) = &inner.kind {
                 out.push((n.clone(), inner.span));
             }
-            collect_primed(inner, out);
+            collect_primed(inner, out, known);
         }
-        ExprKind::Neg(a) | ExprKind::Sqrt(a) => collect_primed(a, out),
+        ExprKind::Derivative { body, wrt, order } => match &body.kind {
+            ExprKind::Name(n) => {
+                if !(*order == 1 && known(&format!("d{n}")) && known(&format!("d{}", wrt.name))) {
+                    out.push((n.clone(), body.span));
+                }
+            }
+            _ => collect_primed(body, out, known),
+        },
+        ExprKind::Neg(a) | ExprKind::Sqrt(a) => collect_primed(a, out, known),
         ExprKind::Binary(_, a, b) => {
-            collect_primed(a, out);
-            collect_primed(b, out);
+            collect_primed(a, out, known);
+            collect_primed(b, out, known);
+        }
+        _ => {}
+    }
+}
+
+/// Every name inside a differentiated expression (`inside` once below a
+/// prime or a Leibniz derivative).
+fn collect_differentiated(e: &Expr, inside: bool, out: &mut Vec<(String, Span)>) {
+    match &e.kind {
+        ExprKind::Name(n) if inside => out.push((n.clone(), e.span)),
+        ExprKind::Prime(a, _) | ExprKind::Derivative { body: a, .. } => collect_differentiated(a, true, out),
+        ExprKind::Neg(a) | ExprKind::Sqrt(a) => collect_differentiated(a, inside, out),
+        ExprKind::Binary(_, a, b) => {
+            collect_differentiated(a, inside, out);
+            collect_differentiated(b, inside, out);
         }
         _ => {}
     }
@@ -243,13 +276,22 @@ fn collect_primed(e: &Expr, out: &mut Vec<(String, Span)>) {
 fn collect_names(e: &Expr, out: &mut Vec<(String, Span)>) {
     match &e.kind {
         ExprKind::Name(n) => out.push((n.clone(), e.span)),
-        ExprKind::Prime(a, _) | ExprKind::Neg(a) | ExprKind::Sqrt(a) => collect_names(a, out),
+        ExprKind::Prime(a, _) | ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Derivative { body: a, .. } => collect_names(a, out),
         ExprKind::Binary(_, a, b) => {
             collect_names(a, out);
             collect_names(b, out);
         }
         _ => {}
     }
+}
+
+/// A Leibniz derivative must be taken with respect to the equation's variable.
+fn check_wrt(wrt: &Ident, var: &str) -> Result<()> {
+    if wrt.name == var {
+        return Ok(());
+    }
+    Err(err(ErrorKind::Structure, format!("a derivative with respect to '{}', but the equation's variable is '{var}'", wrt.name), wrt.span)
+        .note(format!("derivatives are taken with respect to the variable: write d/d{var}, or make '{}' the variable", wrt.name)))
 }
 
 /// Splits a sum into its top-level terms with signs.
@@ -476,12 +518,41 @@ impl<'a> Lowerer<'a> {
                 let v = self.expr(a)?;
                 self.deriv(&v, *n, e.span)
             }
+            ExprKind::Derivative { body, wrt, order } => {
+                if let Some(quotient) = self.leibniz_as_quotient(body, wrt, *order) {
+                    return quotient;
+                }
+                check_wrt(wrt, self.var)?;
+                let v = self.expr(body)?;
+                self.deriv(&v, *order, e.span)
+            }
             ExprKind::Sqrt(a) => {
                 let x = self.expr(a)?;
                 let half = Value::constant(Quasi::rat(RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("2 is nonzero"))));
                 self.pow(&x, &half, a.span, a.span, e.span)
             }
         }
+    }
+
+    /// `dA/dB` written between two declared names that begin with `d` (and
+    /// not with respect to the variable) is their quotient, as before
+    /// Leibniz forms were read.
+    fn leibniz_as_quotient(&self, body: &Expr, wrt: &Ident, order: u32) -> Option<Result<Value>> {
+        let ExprKind::Name(n) = &body.kind else { return None };
+        if order != 1 || wrt.name == self.var {
+            return None;
+        }
+        let (top, bottom) = (format!("d{n}"), format!("d{}", wrt.name));
+        let top_span = Span::new(body.span.start.saturating_sub(1), body.span.end);
+        let bottom_span = Span::new(wrt.span.start.saturating_sub(1), wrt.span.end);
+        let (Ok(x), Ok(y)) = (self.name(&top, top_span), self.name(&bottom, bottom_span)) else { return None };
+        Some((|| {
+            if !y.is_linear_free() {
+                return Err(err(ErrorKind::Nonlinear, format!("the unknown '{}' appears in a denominator", self.unknown), bottom_span));
+            }
+            let inv = self.atoms.inv(&self.field, &y.free, bottom_span)?;
+            self.mul(&x, &Value::constant(inv), top_span.to(bottom_span))
+        })())
     }
 
     fn name(&self, n: &str, span: Span) -> Result<Value> {
@@ -577,6 +648,14 @@ pub(crate) fn lower_rational(field: &Field, names: &[String], lets: &[(String, R
             ExprKind::Prime(a, n) => {
                 let mut v = go(field, names, lets, atoms, a)?;
                 for _ in 0..*n {
+                    v = atoms.deriv(field, &v)?;
+                }
+                v
+            }
+            ExprKind::Derivative { body, wrt, order } => {
+                check_wrt(wrt, &names[0])?;
+                let mut v = go(field, names, lets, atoms, body)?;
+                for _ in 0..*order {
                     v = atoms.deriv(field, &v)?;
                 }
                 v

@@ -107,11 +107,45 @@ pub fn lower(input: &Input<'_>, limits: &Limits, parse_limits: &ParseLimits) -> 
         }
         Input::Inline { equation, var } => {
             let (lhs, rhs, span) = syntax::parse_equation(equation, parse_limits)?;
-            let program = Program {
-                statements: vec![Statement::Var(Ident { name: var.to_string(), span: Span::new(0, 0) }), Statement::Ode { lhs, rhs, span }],
-            };
+            let var = inline_variable(var, &[&lhs, &rhs]);
+            let program = Program { statements: vec![Statement::Var(Ident { name: var, span: Span::new(0, 0) }), Statement::Ode { lhs, rhs, span }] };
             lower_program(&program, NameMode::Infer, limits)
         }
+    }
+}
+
+/// The variable of an inline equation: the one named (by `--var` or its
+/// default) when it occurs, otherwise the one name all Leibniz derivatives
+/// are taken with respect to, when there is exactly one.
+fn inline_variable(named: &str, exprs: &[&syntax::Expr]) -> String {
+    let mut names = Vec::new();
+    let mut wrt = Vec::new();
+    for e in exprs {
+        collect_expr_names(e, &mut names);
+        collect_wrt(e, &mut wrt);
+    }
+    wrt.sort();
+    wrt.dedup();
+    if names.iter().any(|n| n == named) || wrt.len() != 1 {
+        return named.to_string();
+    }
+    wrt.remove(0)
+}
+
+/// The names Leibniz derivatives are taken with respect to.
+pub(crate) fn collect_wrt(e: &syntax::Expr, out: &mut Vec<String>) {
+    use syntax::ExprKind;
+    match &e.kind {
+        ExprKind::Derivative { body, wrt, .. } => {
+            out.push(wrt.name.clone());
+            collect_wrt(body, out);
+        }
+        ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Prime(a, _) => collect_wrt(a, out),
+        ExprKind::Binary(_, a, b) => {
+            collect_wrt(a, out);
+            collect_wrt(b, out);
+        }
+        _ => {}
     }
 }
 
@@ -232,7 +266,7 @@ fn collect_expr_names(e: &syntax::Expr, out: &mut Vec<String>) {
     use syntax::ExprKind;
     match &e.kind {
         ExprKind::Name(n) => out.push(n.clone()),
-        ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Prime(a, _) => collect_expr_names(a, out),
+        ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Prime(a, _) | ExprKind::Derivative { body: a, .. } => collect_expr_names(a, out),
         ExprKind::Binary(_, a, b) => {
             collect_expr_names(a, out);
             collect_expr_names(b, out);

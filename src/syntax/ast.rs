@@ -106,4 +106,15 @@ pub enum ExprKind {
     Prime(Box<Expr>, u32),
     /// `sqrt(e)`.
     Sqrt(Box<Expr>),
+    /// A Leibniz derivative: `dR/dr`, `d^2R/dr^2` (the body is the name) or
+    /// `d/dr(e)`, `d^2/dr^2(e)` (the body is the bracketed expression), of the
+    /// given order with respect to the name `wrt`.
+    Derivative {
+        /// What is differentiated.
+        body: Box<Expr>,
+        /// The name after the lower `d`.
+        wrt: Ident,
+        /// How many times.
+        order: u32,
+    },
 }
