@@ -74,6 +74,9 @@ pub(crate) struct InputArgs {
     /// The independent variable of an inline equation.
     #[arg(long = "var", value_name = "NAME", default_value = "z", requires = "equation")]
     var: String,
+    /// Read the input as LaTeX mathematics (implied by a file name ending in .tex).
+    #[arg(long = "latex")]
+    latex: bool,
     /// Change the variable: OLD=EXPR, with EXPR rational in a new variable (e.g. 'z=1/t').
     #[arg(long = "subst", value_name = "OLD=EXPR", conflicts_with = "at_infinity")]
     subst: Option<String>,
@@ -93,13 +96,16 @@ pub(crate) struct Source {
     pub name: String,
     pub text: String,
     pub inline_var: Option<String>,
+    /// True when the text is LaTeX mathematics.
+    pub latex: bool,
 }
 
 impl Source {
     pub(crate) fn input(&self) -> Input<'_> {
-        match &self.inline_var {
-            Some(v) => Input::Inline { equation: &self.text, var: v },
-            None => Input::Program(&self.text),
+        match (&self.inline_var, self.latex) {
+            (_, true) => Input::Latex(&self.text),
+            (Some(v), false) => Input::Inline { equation: &self.text, var: v },
+            (None, false) => Input::Program(&self.text),
         }
     }
 }
@@ -121,9 +127,11 @@ impl From<Error> for Failure {
 impl InputArgs {
     pub(crate) fn read(&self) -> Result<Source, Failure> {
         if let Some(eq) = &self.equation {
-            return Ok(Source { name: "<equation>".into(), text: eq.clone(), inline_var: Some(self.var.clone()) });
+            return Ok(Source { name: "<equation>".into(), text: eq.clone(), inline_var: Some(self.var.clone()), latex: self.latex });
         }
-        read_source(&self.file.clone().unwrap_or_else(|| "-".into()))
+        let mut src = read_source(&self.file.clone().unwrap_or_else(|| "-".into()))?;
+        src.latex |= self.latex;
+        Ok(src)
     }
 }
 
@@ -145,7 +153,10 @@ pub(crate) fn read_source(file: &str) -> Result<Source, Failure> {
         return Err(Failure::Plain(format!("{name}: error: the input is larger than the limit of {limit} bytes"), 2));
     }
     match String::from_utf8(bytes) {
-        Ok(text) => Ok(Source { name, text, inline_var: None }),
+        Ok(text) => {
+            let latex = name.ends_with(".tex");
+            Ok(Source { name, text, inline_var: None, latex })
+        }
         Err(e) => {
             let at = e.utf8_error().valid_up_to();
             let text = String::from_utf8_lossy(e.as_bytes()).into_owned();

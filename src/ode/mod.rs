@@ -23,6 +23,9 @@ use crate::syntax::{self, Ident, ParseLimits, Program, Span, Statement};
 pub enum Input<'a> {
     /// A whole program (a file or stdin): every name must be declared.
     Program(&'a str),
+    /// LaTeX mathematics (`grammar/latex.md`): definitions become lets, the
+    /// variable comes from the derivatives, other names become parameters.
+    Latex(&'a str),
     /// A bare equation `LHS = RHS` in the named variable; other names become parameters.
     Inline {
         /// The equation text.
@@ -104,6 +107,10 @@ pub fn lower(input: &Input<'_>, limits: &Limits, parse_limits: &ParseLimits) -> 
         Input::Program(src) => {
             let program = syntax::parse_program(src, parse_limits)?;
             lower_program(&program, NameMode::Strict, limits)
+        }
+        Input::Latex(src) => {
+            let program = syntax::parse_latex(src, parse_limits)?;
+            lower_program(&program, NameMode::Infer, limits)
         }
         Input::Inline { equation, var } => {
             let (lhs, rhs, span) = syntax::parse_equation(equation, parse_limits)?;
