@@ -49,3 +49,92 @@ fn declared_d_names_divide() {
 fn canonode(args: &[&str]) -> std::process::Output {
     Command::new(env!("CARGO_BIN_EXE_canonode")).current_dir(env!("CARGO_MANIFEST_DIR")).args(args).output().expect("the binary runs")
 }
+
+/// Names a twin spells differently from its `.ode` file (the LaTeX letter → the file's name).
+const RENAMES: &[(&str, &str)] = &[("lambda", "lam"), ("V_0", "V0")];
+
+/// Q of a LaTeX text re-expressed over the names and order of `ode_src`'s field: the
+/// printed Q (the input language) is read back as `y'' + Q y = 0` in a program that
+/// declares the `.ode` file's variable and parameters.
+fn latex_q_in(ode_src: &str, tex: &str) -> (canonode::algebra::RatFunc, canonode::algebra::RatFunc) {
+    let ode = reduce(&Input::Program(ode_src), &ReduceOptions::default()).unwrap_or_else(|e| panic!("{e:?}"));
+    let red = reduce(&Input::Latex(tex), &ReduceOptions::default()).unwrap_or_else(|e| panic!("{tex}: {e:?}"));
+    assert_eq!(red.var, ode.var, "the twin's variable");
+    let mut names = vec![red.var.clone()];
+    names.extend(red.ode.params.iter().cloned());
+    let q = canonode::algebra::print::ratfunc_text(&red.normal.q, &names, canonode::algebra::print::Style::Text);
+    let mut program = format!("var {}\n", ode.var);
+    if !ode.ode.params.is_empty() {
+        program.push_str(&format!("param {}\n", ode.ode.params.join(", ")));
+    }
+    for p in &red.ode.params {
+        if let Some((_, to)) = RENAMES.iter().find(|(from, _)| from == p) {
+            program.push_str(&format!("let {p} = {to}\n"));
+        } else {
+            assert!(ode.ode.params.contains(p), "the twin has a parameter '{p}' the file does not");
+        }
+    }
+    program.push_str(&format!("ode y__'' + ({q})*y__ = 0\n"));
+    let back = reduce(&Input::Program(&program), &ReduceOptions::default()).unwrap_or_else(|e| panic!("{program}: {e:?}"));
+    (back.normal.q, ode.normal.q)
+}
+
+/// Every sample has a LaTeX twin (typed as its source prints it, see each file's
+/// comment) whose normal form equals the `.ode` one exactly.
+#[test]
+fn every_sample_has_a_latex_twin_with_the_same_q() {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("samples");
+    let mut samples: Vec<_> =
+        std::fs::read_dir(&dir).unwrap().map(|e| e.unwrap().path()).filter(|p| p.extension().is_some_and(|e| e == "ode")).collect();
+    samples.sort();
+    assert!(samples.len() >= 19);
+    for ode_path in samples {
+        let tex_path = ode_path.with_extension("tex");
+        let ode_src = std::fs::read_to_string(&ode_path).unwrap();
+        let tex = std::fs::read_to_string(&tex_path).unwrap_or_else(|_| panic!("{} has no LaTeX twin", ode_path.display()));
+        let (from_tex, from_ode) = latex_q_in(&ode_src, &tex);
+        assert!(from_tex == from_ode, "{}: the twin's Q differs", tex_path.display());
+    }
+}
+
+/// The comparison can fail: a twin with one sign changed has another Q.
+#[test]
+fn a_wrong_twin_differs() {
+    let ode = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/bessel.ode")).unwrap();
+    let (a, b) = latex_q_in(&ode, r"z^{2}\frac{d^{2}w}{dz^{2}} + z\frac{dw}{dz} + (z^{2} + \nu^{2})w = 0");
+    assert!(a != b);
+}
+
+fn class_of_latex(tex: &str) -> String {
+    let out = canonode(&["classify", "--latex", "-e", tex, "--format", "json"]);
+    assert!(out.status.success(), "{tex}: {}", String::from_utf8_lossy(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    v["class"].as_str().unwrap().to_string()
+}
+
+/// DLMF forms typed as DLMF prints them give their known classes (class
+/// table of the project's design notes; DLMF chapters cited per case).
+#[test]
+fn dlmf_forms_as_latex_give_their_classes() {
+    let cases = [
+        // DLMF 10.2.1 (Bessel): regular at 0, rank 1 at ∞.
+        (r"z^{2}\frac{d^{2}w}{dz^{2}}+z\frac{dw}{dz}+(z^{2}-\nu^{2})w=0", "confluent-hypergeometric"),
+        // DLMF 15.10.1 (Gauss): three regular points.
+        (r"z(1-z)\frac{d^{2}w}{dz^{2}}+\left(c-(a+b+1)z\right)\frac{dw}{dz}-abw=0", "hypergeometric"),
+        // DLMF 31.2.1 (general Heun) with the Fuchs relation left free: four regular points.
+        (
+            r"\frac{d^{2}w}{dz^{2}}+\left(\frac{\gamma}{z}+\frac{\delta}{z-1}+\frac{\epsilon}{z-a}\right)\frac{dw}{dz}+\frac{\alpha\beta z-q}{z(z-1)(z-a)}w=0",
+            "general-heun",
+        ),
+        // DLMF 31.12.1 (confluent Heun).
+        (
+            r"\frac{d^{2}w}{dz^{2}}+\left(\frac{\gamma}{z}+\frac{\delta}{z-1}+\epsilon\right)\frac{dw}{dz}+\frac{\alpha z-q}{z(z-1)}w=0",
+            "confluent-heun",
+        ),
+        // DLMF 30.2.1 (spheroidal wave equation): regular at ±1, rank 1 at ∞.
+        (r"\frac{d}{dz}\left((1-z^{2})\frac{dw}{dz}\right)+\left(\lambda+\gamma^{2}(1-z^{2})-\frac{\mu^{2}}{1-z^{2}}\right)w=0", "confluent-heun"),
+    ];
+    for (tex, class) in cases {
+        assert_eq!(class_of_latex(tex), class, "{tex}");
+    }
+}

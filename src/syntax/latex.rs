@@ -192,6 +192,8 @@ fn tokens(src: &str) -> Result<Vec<Tok>> {
                             }
                         }
                     }
+                    // Definitions are often written with ≡ or ≔.
+                    "equiv" | "coloneqq" => out.push(Tok { t: T::Equals, span }),
                     _ => out.push(Tok { t: T::Cmd(name.to_string()), span }),
                 }
                 continue;
@@ -221,6 +223,11 @@ fn tokens(src: &str) -> Result<Vec<Tok>> {
             '*' => out.push(one(T::Star)),
             '/' => out.push(one(T::Slash)),
             '=' => out.push(one(T::Equals)),
+            ':' if src[i + 1..].starts_with('=') => {
+                out.push(Tok { t: T::Equals, span: Span::new(i, i + 2) });
+                i += 2;
+                continue;
+            }
             ',' => out.push(one(T::Comma)),
             '.' => out.push(one(T::Period)),
             '\'' | '\u{2032}' => {
@@ -1155,8 +1162,8 @@ fn resolve_applications(e: &mut Expr, var: &str, functions: &BTreeSet<String>, a
                 if let (ExprKind::Name(arg), Some(head)) = (&b.kind, head_name(a)) {
                     if arg == var {
                         if !functions.contains(&head) {
-                            return Err(syntax(format!("'{}' reads as a function of {var}, but '{head}' is not defined", head), e.span)
-                                .note(format!("define it ({head}({var}) = …) or write the product with a space: {head}\\,{var}")));
+                            return Err(syntax(format!("'{head}({var})' reads as a function of {var}, but '{head}' is not defined"), e.span)
+                                .note(format!("define it ({head}({var}) = …) or write the product as {head}\\cdot {var}")));
                         }
                         let ExprKind::Binary(_, a, _) = std::mem::replace(&mut e.kind, ExprKind::Imag) else { unreachable!("matched above") };
                         let a = *a;
@@ -1280,21 +1287,27 @@ pub(super) fn parse(src: &str, limits: &ParseLimits) -> Result<Program> {
             first.clone()
         }
         None => {
-            // Primes only: the variable is the argument of the unknown, R(r) or R''(r).
+            // Primes only: the variable is the argument of the unknown, R(r)
+            // or R''(r), else of a defined function, f(r).
             let mut arg = None;
-            for side in [&ode.lhs, &ode.rhs] {
+            let mut def_arg = None;
+            for side in [&ode.lhs, &ode.rhs].into_iter().chain(defs.iter().flat_map(|(_, r)| [&r.lhs, &r.rhs])) {
                 walk(side, &mut |e| {
                     if let ExprKind::Binary(BinOp::Mul, a, b) = &e.kind {
-                        if applications.contains(&e.span) && arg.is_none() {
+                        if applications.contains(&e.span) {
                             if let (Some(h), ExprKind::Name(x)) = (head_name(a), &b.kind) {
+                                let found = Some(Ident { name: x.clone(), span: b.span });
                                 if carried.iter().any(|(n, _)| *n == h) {
-                                    arg = Some(Ident { name: x.clone(), span: b.span });
+                                    arg = arg.take().or(found);
+                                } else if def_names.contains(&h) {
+                                    def_arg = def_arg.take().or(found);
                                 }
                             }
                         }
                     }
                 });
             }
+            let arg = arg.or(def_arg);
             match arg {
                 Some(a) => a,
                 None => {
@@ -1383,4 +1396,122 @@ fn definition_order(defs: &[(Ident, Relation)]) -> Result<Vec<usize>> {
         }
     }
     Ok(order)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::{parse_latex, ParseLimits};
+    use super::*;
+
+    fn shape(src: &str) -> Vec<String> {
+        let p = parse_latex(src, &ParseLimits::default()).unwrap_or_else(|e| panic!("{src}: {e:?}"));
+        p.statements
+            .iter()
+            .map(|s| match s {
+                Statement::Var(v) => format!("var {}", v.name),
+                Statement::Let { name, value } => format!("let {} = {}", name.name, &src[value.span.start..value.span.end]),
+                Statement::Ode { lhs, rhs, .. } => format!("ode {} = {}", &src[lhs.span.start..lhs.span.end], &src[rhs.span.start..rhs.span.end]),
+                other => format!("{other:?}"),
+            })
+            .collect()
+    }
+
+    #[test]
+    fn definitions_come_first_in_dependency_order() {
+        let src = "V(r) = f(r)\\frac{1}{r}, \\quad R'' + (\\omega^2 - V)R = 0 \\quad f(r) = 1 - \\frac{2M}{r}";
+        let src = src.replace("\\\\", "\\");
+        let got = shape(&src);
+        assert_eq!(got[0], "var r");
+        assert!(got[1].starts_with("let f = "), "{got:?}");
+        assert!(got[2].starts_with("let V = "), "{got:?}");
+        assert!(got[3].starts_with("ode R''"), "{got:?}");
+    }
+
+    #[test]
+    fn subscripts_are_part_of_names() {
+        let src = r"\frac{d^2R}{dr_*^2} + (r - r_+)(r - r_{-})M_1 R = 0";
+        let p = parse_latex(src, &ParseLimits::default()).unwrap();
+        let Statement::Var(v) = &p.statements[0] else { panic!() };
+        assert_eq!(v.name, "r_star");
+        let mut names = Vec::new();
+        if let Statement::Ode { lhs, .. } = &p.statements[1] {
+            walk(lhs, &mut |e| {
+                if let ExprKind::Name(n) = &e.kind {
+                    names.push(n.clone());
+                }
+            });
+        }
+        assert!(names.contains(&"r_plus".to_string()) && names.contains(&"r_minus".to_string()) && names.contains(&"M_1".to_string()), "{names:?}");
+    }
+
+    #[test]
+    fn cycles_and_limits_are_errors() {
+        let e = parse_latex(r"R''(x) + a R = 0, a = b, b = a", &ParseLimits::default()).unwrap_err();
+        assert_eq!(e.kind, ErrorKind::Structure);
+        let deep = format!("R'' + {}x{} R = 0", "(".repeat(5000), ")".repeat(5000));
+        let e = parse_latex(&deep, &ParseLimits::default()).unwrap_err();
+        assert_eq!(e.kind, ErrorKind::Limit);
+    }
+
+    /// Random LaTeX-like text never panics, and every error points into the text.
+    #[test]
+    fn random_text_never_panics() {
+        const PIECES: &[&str] = &[
+            "\\frac",
+            "{",
+            "}",
+            "(",
+            ")",
+            "[",
+            "]",
+            "\\left(",
+            "\\right)",
+            "d",
+            "R",
+            "r",
+            "^",
+            "_",
+            "2",
+            "'",
+            "=",
+            ",",
+            "+",
+            "-",
+            "\\partial",
+            "\\mathrm{d}",
+            "\\omega",
+            "\\sqrt",
+            "i",
+            "/",
+            "\\cdot",
+            " ",
+            "\n",
+            "\\quad",
+            "f",
+            "\\Delta",
+            ".",
+            "\\ell",
+            "%",
+            "\\",
+        ];
+        let mut state = 0x2545_f491_4f6c_dd1du64;
+        for _ in 0..3000 {
+            let mut text = String::new();
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            let len = (state % 40) as usize;
+            for _ in 0..len {
+                state ^= state << 13;
+                state ^= state >> 7;
+                state ^= state << 17;
+                text.push_str(PIECES[(state % PIECES.len() as u64) as usize]);
+            }
+            if let Err(e) = parse_latex(&text, &ParseLimits::default()) {
+                if let Some(s) = e.span {
+                    assert!(s.start <= s.end && s.end <= text.len(), "{text:?}: {e:?}");
+                }
+            }
+        }
+    }
 }

@@ -134,7 +134,7 @@ fn stray_char_note(c: char) -> Option<&'static str> {
         '\u{2070}' | '\u{b9}' | '\u{b2}' | '\u{b3}' | '\u{2074}'..='\u{207b}' => "write powers with '^', e.g. r^2 or r^-1",
         '[' | ']' | '{' | '}' => "only '(' and ')' group expressions",
         '_' => "a name starts with a letter",
-        '\\' => "LaTeX commands are not understood: write names such as omega or \u{3c9} directly",
+        '\\' => "LaTeX is read from a .tex file or with --latex; in this language write names such as omega or \u{3c9} directly",
         '.' => "a number needs a digit next to its '.', e.g. 0.5 or .5",
         _ => return None,
     })
