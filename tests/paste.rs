@@ -45,7 +45,6 @@ fn declared_d_names_divide() {
     assert_eq!(a, b);
 }
 
-#[allow(dead_code)]
 fn canonode(args: &[&str]) -> std::process::Output {
     Command::new(env!("CARGO_BIN_EXE_canonode")).current_dir(env!("CARGO_MANIFEST_DIR")).args(args).output().expect("the binary runs")
 }
@@ -137,4 +136,37 @@ fn dlmf_forms_as_latex_give_their_classes() {
     for (tex, class) in cases {
         assert_eq!(class_of_latex(tex), class, "{tex}");
     }
+}
+
+/// Inline-form hygiene: a leading minus in -e, the names inferred printed by
+/// every command, a warning when --var does not occur, `j` in values, the
+/// hint for `i` in a file (hydrogen form of Landau & Lifshitz §36, from memory).
+#[test]
+fn inline_hygiene() {
+    let eq = "-u''/2 + (l*(l+1)/(2*r^2) - Z/r)*u = E*u";
+    for cmd in ["reduce", "classify"] {
+        let out = canonode(&[cmd, "-e", eq]);
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(err.contains("inferred parameters: l, r, Z, E"), "{cmd}: {err}");
+        assert!(err.contains("did you mean --var r?"), "{cmd}: {err}");
+    }
+    let out = canonode(&["classify", "-e", eq, "--var", "r"]);
+    assert!(out.status.success());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("note: variable r, unknown u, inferred parameters: l, Z, E") && !err.contains("warning"), "{err}");
+
+    let j = canonode(&["eval", "-e", "y'' + (x - E)*y = 0", "--var", "x", "--at", "x=1,E=0.3-0.1j"]);
+    let i = canonode(&["eval", "-e", "y'' + (x - E)*y = 0", "--var", "x", "--at", "x=1,E=0.3-0.1i"]);
+    assert!(j.status.success(), "{}", String::from_utf8_lossy(&j.stderr));
+    assert_eq!(j.stdout, i.stdout);
+    assert!(String::from_utf8_lossy(&j.stderr).contains("note: variable x, unknown y, inferred parameters: E"));
+
+    let dir = std::env::temp_dir().join(format!("canonode-paste-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = dir.join("i.ode");
+    std::fs::write(&file, "var x\nparam E\node y'' + (E + i*x)*y = 0\n").unwrap();
+    let out = canonode(&["reduce", file.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("the imaginary unit is written I"));
+    std::fs::remove_dir_all(&dir).ok();
 }

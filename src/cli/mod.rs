@@ -69,7 +69,7 @@ pub(crate) struct InputArgs {
     #[arg(value_name = "FILE", required_unless_present = "equation")]
     file: Option<String>,
     /// An inline equation 'LHS = RHS' instead of a file; undeclared names become parameters.
-    #[arg(short = 'e', long = "equation", value_name = "EQUATION", conflicts_with = "file")]
+    #[arg(short = 'e', long = "equation", value_name = "EQUATION", conflicts_with = "file", allow_hyphen_values = true)]
     equation: Option<String>,
     /// The independent variable of an inline equation.
     #[arg(long = "var", value_name = "NAME", default_value = "z", requires = "equation")]
@@ -167,6 +167,18 @@ pub(crate) fn read_source(file: &str) -> Result<Source, Failure> {
 }
 
 impl InputArgs {
+    /// The reduction every command starts from, with the notes a user of the
+    /// inline or LaTeX form needs on stderr: the names taken as parameters,
+    /// and a warning when the variable does not occur in the coefficients
+    /// while a parameter looks like it could be the variable.
+    pub(crate) fn reduce(&self, src: &Source) -> Result<crate::ode::Reduction, Failure> {
+        let red = crate::ode::reduce(&src.input(), &self.options())?;
+        for line in inference_notes(&red, src.inline_var.is_some() || src.latex) {
+            eprintln!("{line}");
+        }
+        Ok(red)
+    }
+
     pub(crate) fn options(&self) -> ReduceOptions {
         ReduceOptions {
             subst: self.subst.clone(),
@@ -192,6 +204,32 @@ impl InputArgs {
             _ => None,
         }
     }
+}
+
+/// The notes on inferred names for an input whose names were inferred.
+pub(crate) fn inference_notes(red: &crate::ode::Reduction, inferred_input: bool) -> Vec<String> {
+    let mut out = Vec::new();
+    if !inferred_input {
+        return out;
+    }
+    if !red.ode.inferred.is_empty() {
+        out.push(format!("note: variable {}, unknown {}, inferred parameters: {}", red.ode.var, red.ode.unknown, red.ode.inferred.join(", ")));
+    } else {
+        out.push(format!("note: variable {}, unknown {}", red.ode.var, red.ode.unknown));
+    }
+    if !red.ode.p.uses_var(0) && !red.ode.q.uses_var(0) {
+        // Names physicists use for a variable, most common first.
+        const LIKELY: &[&str] = &["r", "x", "z", "t", "u", "rs", "r_star", "rho", "theta", "zeta", "y", "s"];
+        let candidate = LIKELY.iter().find(|n| red.ode.inferred.iter().any(|p| p == *n));
+        match candidate {
+            Some(c) => out.push(format!(
+                "warning: the variable '{}' does not occur in the coefficients, while '{c}' is taken as a parameter: did you mean --var {c}?",
+                red.ode.var
+            )),
+            None => out.push(format!("warning: the variable '{}' does not occur in the coefficients: they are constants", red.ode.var)),
+        }
+    }
+    out
 }
 
 /// Renders a failure for stderr and gives its exit status.

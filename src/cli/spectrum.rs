@@ -158,7 +158,7 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     if !(a.tol > 0.0 && a.tol < 1e-2) {
         return Err(Error::new(ErrorKind::Usage, format!("--tol {} is not a sensible relative tolerance (between 0 and 1e-2)", a.tol)).into());
     }
-    let red = crate::ode::reduce(&src.input(), &a.input.options())?;
+    let red = a.input.reduce(src)?;
     let k = &red.field;
     let names = k.names();
     let defaults: &[&str] = if a.boundary == super::classify::BoundaryArg::Bound { &["E", "omega", "ω", "w"] } else { &["omega", "ω", "w"] };

@@ -568,8 +568,11 @@ impl<'a> Lowerer<'a> {
         if n == self.unknown {
             return Ok(Value { free: Quasi::zero(), lin: vec![Quasi::rat(RatFunc::one())] });
         }
-        Err(err(ErrorKind::UnknownName, format!("unknown name '{n}'"), span)
-            .note("declare it with 'param', define it with 'let' before this line, or check the spelling"))
+        let error = err(ErrorKind::UnknownName, format!("unknown name '{n}'"), span);
+        if n == "i" || n == "j" {
+            return Err(error.note("the imaginary unit is written I"));
+        }
+        Err(error.note("declare it with 'param', define it with 'let' before this line, or check the spelling"))
     }
 
     fn pow(&mut self, base: &Value, exp: &Value, bspan: Span, espan: Span, span: Span) -> Result<Value> {
