@@ -170,3 +170,71 @@ fn inline_hygiene() {
     assert!(String::from_utf8_lossy(&out.stderr).contains("the imaginary unit is written I"));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// Bound-state energies from `spectrum --boundary bound` on an equation as written.
+fn levels(args: &[&str], at: &str) -> Vec<f64> {
+    let mut all = vec!["spectrum", "--boundary", "bound", "--frequency", "E", "--at", at, "--overtones", "0..2", "--format", "json"];
+    all.extend_from_slice(args);
+    let out = canonode(&all);
+    assert!(out.status.success(), "{args:?}: {}", String::from_utf8_lossy(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let got: Vec<f64> = v["modes"].as_array().unwrap().iter().map(|m| m["omega"][0].as_f64().unwrap()).collect();
+    assert_eq!(got.len(), 3, "{v}");
+    got
+}
+
+/// The Pöschl–Teller well −ν(ν+1)/cosh²x (ħ = 2m = 1): E_n = −(ν − n)²
+/// (Landau & Lifshitz, Quantum Mechanics §23, from memory), from the
+/// equation as written, inline and as LaTeX; the map is printed.
+#[test]
+fn poschl_teller_well_as_written() {
+    let inline = levels(&["-e", "psi'' + (E + nu*(nu+1)/cosh(x)^2)*psi = 0", "--var", "x"], "nu=3");
+    let tex = levels(&["--latex", "-e", r"\frac{d^{2}\psi}{dx^{2}} + \left(E + \frac{\nu(\nu+1)}{\cosh^{2}x}\right)\psi = 0"], "nu=3");
+    for got in [inline, tex] {
+        for (n, e) in got.iter().enumerate() {
+            let want = -(3.0 - n as f64).powi(2);
+            assert!((e - want).abs() < 1e-9, "n={n}: {e} vs {want}");
+        }
+    }
+    let out = canonode(&["classify", "-e", "psi'' + (E + nu*(nu+1)*sech(x)^2)*psi = 0", "--var", "x"]);
+    assert!(String::from_utf8_lossy(&out.stderr).contains("change of variable u = tanh(x)"), "{}", String::from_utf8_lossy(&out.stderr));
+}
+
+/// The Morse well D(e^{−2x} − 2e^{−x}) (ħ = 2m = 1, unit width):
+/// E_n = −(√D − n − ½)² (textbook, e.g. Landau & Lifshitz §23 problem 4, from memory).
+#[test]
+fn morse_well_as_written() {
+    let got = levels(&["--latex", "-e", r"-\frac{d^{2}\psi}{dx^{2}} + D\left(e^{-2x} - 2e^{-x}\right)\psi = E\psi"], "D=9");
+    for (n, e) in got.iter().enumerate() {
+        let want = -(3.0 - n as f64 - 0.5).powi(2);
+        assert!((e - want).abs() < 1e-8, "n={n}: {e} vs {want}");
+    }
+}
+
+/// Mathieu's equation as DLMF 28.2.1 prints it becomes, by ζ = e^{2ix}, the
+/// sample in ζ exactly (samples/mathieu_exponential.ode); the class is the same.
+#[test]
+fn mathieu_as_written_is_the_exponential_sample() {
+    let sample = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/mathieu_exponential.ode")).unwrap();
+    let (from_tex, from_ode) = latex_q_in(&sample, r"\frac{d^{2}w}{dx^{2}} + (a - 2q\cos 2x)w = 0");
+    assert!(from_tex == from_ode);
+    let inline = reduce(&Input::Inline { equation: "w'' + (a - 2*q*cos(2*x))*w = 0", var: "x" }, &ReduceOptions::default()).unwrap();
+    let ode = reduce(&Input::Program(&sample), &ReduceOptions::default()).unwrap();
+    assert!(inline.normal.q == ode.normal.q);
+    assert_eq!(class_of_latex(r"\frac{d^{2}w}{dz^{2}} + (a - 2q\cos 2z)w = 0"), "doubly-reduced-doubly-confluent-heun");
+}
+
+/// A map named with --map is used as given (no tanh form), and x itself cannot remain.
+#[test]
+fn named_map_and_what_cannot_be_mapped() {
+    let out = canonode(&["classify", "-e", "psi'' + (E + V*exp(-2*a*x))*psi = 0", "--var", "x", "--map", "s=exp(-a*x)"]);
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(out.status.success(), "{err}");
+    assert!(err.contains("change of variable s = exp(-a*x)"), "{err}");
+    let out = canonode(&["classify", "-e", "psi'' + (E + x*exp(x))*psi = 0", "--var", "x"]);
+    assert_eq!(out.status.code(), Some(2));
+    let out = canonode(&["classify", "-e", "psi'' + (E + exp(x) + cos(x))*psi = 0", "--var", "x"]);
+    assert_eq!(out.status.code(), Some(2));
+    let out = canonode(&["classify", "-e", "psi'' + (E + exp(x) + exp(sqrt(2)*x))*psi = 0", "--var", "x"]);
+    assert_eq!(out.status.code(), Some(2));
+}

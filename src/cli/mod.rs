@@ -86,6 +86,9 @@ pub(crate) struct InputArgs {
     /// dx/dz for the Schrödinger form, in the equation's variable (e.g. '1/f' for the tortoise coordinate).
     #[arg(long = "dxdz", value_name = "EXPR")]
     dxdz: Option<String>,
+    /// Name the change of variable for exp/sinh/cosh/tanh/sech/sin/cos/tan coefficients: NEW=exp(ARG), e.g. 'zeta=exp(2*alpha*x)'.
+    #[arg(long = "map", value_name = "NEW=exp(ARG)")]
+    map: Option<String>,
     /// The frequency parameter ω in V = ω² − W (default: omega, ω or w when declared).
     #[arg(long = "frequency", value_name = "NAME")]
     frequency: Option<String>,
@@ -172,9 +175,21 @@ impl InputArgs {
     /// and a warning when the variable does not occur in the coefficients
     /// while a parameter looks like it could be the variable.
     pub(crate) fn reduce(&self, src: &Source) -> Result<crate::ode::Reduction, Failure> {
-        let red = crate::ode::reduce(&src.input(), &self.options())?;
+        let opts = self.options();
+        let red = crate::ode::reduce(&src.input(), &opts)?;
         for line in inference_notes(&red, src.inline_var.is_some() || src.latex) {
             eprintln!("{line}");
+        }
+        if ["exp", "sin", "cos", "tan", "sech", "e^"].iter().any(|f| src.text.contains(f)) {
+            // The map that made transcendental coefficients rational, if one did
+            // (lowered again: the reduction has no place for it).
+            if let Ok((ode, Some(map))) = crate::ode::lower_mapped(&src.input(), &opts.limits, &opts.parse_limits, opts.map.as_deref()) {
+                eprintln!(
+                    "note: change of variable {} (transcendental coefficients made rational; the equation is in {})",
+                    crate::ode::exp_map_text(&map, &ode),
+                    map.new_var
+                );
+            }
         }
         Ok(red)
     }
@@ -185,6 +200,7 @@ impl InputArgs {
             at_infinity: self.at_infinity,
             dxdz: self.dxdz.clone(),
             frequency: self.frequency.clone(),
+            map: self.map.clone(),
             ..ReduceOptions::default()
         }
     }
@@ -201,6 +217,7 @@ impl InputArgs {
             "--at-infinity" => Some(String::new()),
             "--dxdz" => self.dxdz.clone(),
             "--frequency" => self.frequency.clone(),
+            "--map" => self.map.clone(),
             _ => None,
         }
     }

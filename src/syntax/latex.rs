@@ -13,7 +13,7 @@
 //! respect to (or the argument of the unknown, `R(r)`); every other name is
 //! left for the lowering stage to take as a parameter.
 
-use super::{BinOp, Expr, ExprKind, Ident, ParseLimits, Program, Span, Statement};
+use super::{BinOp, Expr, ExprKind, Func, Ident, ParseLimits, Program, Span, Statement};
 use crate::error::{Error, ErrorKind, Result};
 use std::collections::BTreeSet;
 
@@ -91,7 +91,7 @@ const IGNORED: &[&str] = &[
 ];
 
 /// Transcendental functions, named in the message that they are not read here.
-const FUNCTIONS: &[&str] = &["exp", "sin", "cos", "tan", "sinh", "cosh", "tanh", "sech", "csch", "coth", "cot", "sec", "csc", "log", "ln"];
+const FUNCTIONS: &[&str] = &["csch", "coth", "cot", "sec", "csc", "log", "ln"];
 
 #[derive(Clone, Debug, PartialEq)]
 enum T {
@@ -777,7 +777,11 @@ impl<'a> Reader<'a> {
                     return Ok(Node { expr: Expr { kind: ExprKind::Imag, span }, height: 0 });
                 }
                 if *c == 'e' && self.peek().map(|t| &t.t) == Some(&T::Caret) {
-                    return Err(transcendental("e^{…}", span));
+                    // Euler's number: e^{…} is exp(…).
+                    self.pos += 1;
+                    let arg = self.superscript()?;
+                    let s = span.to(arg.expr.span);
+                    return self.node(ExprKind::Call(Func::Exp, Box::new(arg.expr)), s, arg.height);
                 }
                 self.name_at(c.to_string(), span)
             }
@@ -849,11 +853,41 @@ impl<'a> Reader<'a> {
                 if word == "i" {
                     return Ok(Node { expr: Expr { kind: ExprKind::Imag, span: span.to(end) }, height: 0 });
                 }
+                if word == "e" && self.peek().map(|t| &t.t) == Some(&T::Caret) {
+                    self.pos += 1;
+                    let arg = self.superscript()?;
+                    let s = span.to(arg.expr.span);
+                    return self.node(ExprKind::Call(Func::Exp, Box::new(arg.expr)), s, arg.height);
+                }
+                if let Some(f) = Func::of(&word) {
+                    return self.function(f, span.to(end));
+                }
                 self.name_at(word, span.to(end))
             }
+            f if Func::of(f).is_some() => self.function(Func::of(f).expect("checked"), span),
             f if FUNCTIONS.contains(&f) => Err(transcendental(&format!("\\{f}"), span)),
             "prime" => Err(syntax("a prime goes in a superscript: R^{\\prime}, or write R'", span)),
             _ => Err(unknown_command(name, span)),
+        }
+    }
+
+    /// `\cosh^2(\alpha x)`, `\cos 2z`, `\exp(…)`: a function with an optional
+    /// power written on it, of a bracketed argument or of the product after it.
+    fn function(&mut self, f: Func, span: Span) -> Result<Node> {
+        let mut power = None;
+        if self.peek().map(|t| &t.t) == Some(&T::Caret) {
+            self.pos += 1;
+            power = Some(self.superscript()?);
+        }
+        if !self.starts_factor() {
+            return Err(syntax(format!("\\{} needs an argument", f.name()), span));
+        }
+        let arg = if self.peek().map(|t| &t.t) == Some(&T::Open('(')) { self.atom()? } else { self.product()? };
+        let s = span.to(arg.expr.span);
+        let call = self.node(ExprKind::Call(f, Box::new(arg.expr)), s, arg.height)?;
+        match power {
+            Some(p) => self.binary(BinOp::Pow, call, p),
+            None => Ok(call),
         }
     }
 
@@ -1113,9 +1147,12 @@ fn unknown_command(name: &str, span: Span) -> Error {
 }
 
 fn transcendental(what: &str, span: Span) -> Error {
-    Error::new(ErrorKind::NotRational, format!("{what} is not a rational function: transcendental coefficients are not read from LaTeX"))
-        .at(span)
-        .note("change the variable by hand (e.g. ζ = e^{αx}) and write the equation in it")
+    Error::new(
+        ErrorKind::NotRational,
+        format!("{what} is not read: of the transcendental functions only exp, sinh, cosh, tanh, sech, sin, cos and tan are"),
+    )
+    .at(span)
+    .note("write it through those (e.g. \\coth = \\cosh/\\sinh), or change the variable by hand")
 }
 
 /// One relation read: its two sides and where it was written.
@@ -1143,7 +1180,9 @@ fn walk<'e>(e: &'e Expr, f: &mut dyn FnMut(&'e Expr)) {
     while let Some(e) = stack.pop() {
         f(e);
         match &e.kind {
-            ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Prime(a, _) | ExprKind::Derivative { body: a, .. } => stack.push(a),
+            ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Prime(a, _) | ExprKind::Call(_, a) | ExprKind::Derivative { body: a, .. } => {
+                stack.push(a)
+            }
             ExprKind::Binary(_, a, b) => {
                 stack.push(b);
                 stack.push(a);
@@ -1175,7 +1214,9 @@ fn resolve_applications(e: &mut Expr, var: &str, functions: &BTreeSet<String>, a
             }
         }
         match &mut e.kind {
-            ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Prime(a, _) | ExprKind::Derivative { body: a, .. } => stack.push(a),
+            ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Prime(a, _) | ExprKind::Call(_, a) | ExprKind::Derivative { body: a, .. } => {
+                stack.push(a)
+            }
             ExprKind::Binary(_, a, b) => {
                 stack.push(b);
                 stack.push(a);

@@ -5,7 +5,7 @@
 //! deeply parenthesised, can grow the machine stack. Operator precedence lives
 //! in [`binding`] alone.
 
-use super::{BinOp, Expr, ExprKind, Ident, ParseLimits, Program, Span, Statement};
+use super::{BinOp, Expr, ExprKind, Func, Ident, ParseLimits, Program, Span, Statement};
 use crate::error::{Error, ErrorKind, Result};
 use nom::branch::alt;
 use nom::bytes::complete::{take_till, take_while};
@@ -54,6 +54,7 @@ enum Keyword {
     Ode,
     Sqrt,
     Imag,
+    Function(Func),
 }
 
 impl Keyword {
@@ -66,13 +67,13 @@ impl Keyword {
             "ode" => Keyword::Ode,
             "sqrt" => Keyword::Sqrt,
             "I" => Keyword::Imag,
-            _ => return None,
+            f => Keyword::Function(Func::of(f)?),
         })
     }
 
     /// True for the words that begin a statement; these also end an expression.
     fn starts_statement(self) -> bool {
-        !matches!(self, Keyword::Sqrt | Keyword::Imag)
+        !matches!(self, Keyword::Sqrt | Keyword::Imag | Keyword::Function(_))
     }
 }
 
@@ -314,6 +315,8 @@ enum Pending {
 enum Call {
     /// `sqrt(`, written from `start`.
     Sqrt { start: usize },
+    /// `exp(`, `cosh(`, …, written from `start`.
+    Function { start: usize, func: Func },
     /// `d/dx(` or `d^n/dx^n(`, written from `start`; `wrt` spans the name x.
     Deriv { start: usize, wrt: Span, order: u32 },
 }
@@ -529,6 +532,7 @@ impl<'a> Parser<'a> {
         match keyword {
             Keyword::Imag => error.note("'I' is the imaginary unit"),
             Keyword::Sqrt => error.note("'sqrt' is the square root, written sqrt(x)"),
+            Keyword::Function(f) => error.note(format!("'{}' is a function, written {}(x)", f.name(), f.name())),
             _ => error,
         }
     }
@@ -615,12 +619,16 @@ impl<'a> Parser<'a> {
                 Tok::Ident => match self.keyword(t) {
                     None => ExprKind::Name(self.text(t.span).to_string()),
                     Some(Keyword::Imag) => ExprKind::Imag,
-                    Some(Keyword::Sqrt) => {
+                    Some(keyword @ (Keyword::Sqrt | Keyword::Function(_))) => {
                         let paren = self.bump()?;
                         if paren.tok != Tok::LParen {
-                            return Err(self.syntax(format!("expected '(' after 'sqrt', found {}", self.found(paren)), paren.span));
+                            return Err(self.syntax(format!("expected '(' after '{}', found {}", self.text(t.span), self.found(paren)), paren.span));
                         }
-                        self.push(st, Pending::Open { paren: paren.span, call: Some(Call::Sqrt { start: t.span.start }) }, paren.span)?;
+                        let call = match keyword {
+                            Keyword::Function(func) => Call::Function { start: t.span.start, func },
+                            _ => Call::Sqrt { start: t.span.start },
+                        };
+                        self.push(st, Pending::Open { paren: paren.span, call: Some(call) }, paren.span)?;
                         *after = Some(paren);
                         continue;
                     }
@@ -917,6 +925,10 @@ impl<'a> Parser<'a> {
                 let height = inner.height;
                 self.node(ExprKind::Sqrt(Box::new(inner.expr)), Span::new(start, at.end), height)?
             }
+            Some(Call::Function { start, func }) => {
+                let height = inner.height;
+                self.node(ExprKind::Call(func, Box::new(inner.expr)), Span::new(start, at.end), height)?
+            }
             Some(Call::Deriv { start, wrt, order }) => {
                 let height = inner.height;
                 let mut body = inner.expr;
@@ -1006,6 +1018,7 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
             }
             ExprKind::Prime(a, n) => format!("(d{n} {})", sexp(a)),
             ExprKind::Sqrt(a) => format!("(sqrt {})", sexp(a)),
+            ExprKind::Call(f, a) => format!("({} {})", f.name(), sexp(a)),
             ExprKind::Derivative { body, wrt, order } => format!("(D{order}/{} {})", wrt.name, sexp(body)),
         }
     }
@@ -1029,6 +1042,7 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
             }
             ExprKind::Prime(a, n) => format!("({}){}", print(a), "'".repeat(*n as usize)),
             ExprKind::Sqrt(a) => format!("sqrt({})", print(a)),
+            ExprKind::Call(f, a) => format!("{}({})", f.name(), print(a)),
             ExprKind::Derivative { body, wrt, order } => format!("d^{order}/d{}^{order}({})", wrt.name, print(body)),
         }
     }
@@ -1036,7 +1050,7 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
     fn children(e: &Expr) -> Vec<&Expr> {
         match &e.kind {
             ExprKind::Number(_) | ExprKind::Imag | ExprKind::Name(_) => vec![],
-            ExprKind::Neg(a) | ExprKind::Prime(a, _) | ExprKind::Sqrt(a) | ExprKind::Derivative { body: a, .. } => vec![a],
+            ExprKind::Neg(a) | ExprKind::Prime(a, _) | ExprKind::Sqrt(a) | ExprKind::Call(_, a) | ExprKind::Derivative { body: a, .. } => vec![a],
             ExprKind::Binary(_, a, b) => vec![a, b],
         }
     }
