@@ -71,6 +71,8 @@ struct Lowerer<'a> {
     /// The exponential map in force, when the equation has transcendental
     /// coefficients: field variable 0 is then ζ = e^(c·x), not x.
     map: Option<&'a Chain>,
+    /// Declared coordinates X with d/dX = factor · d/d(var).
+    coords: Vec<(String, Value)>,
 }
 
 /// The exponential change of variable ζ = e^(c·x) while lowering: `c` is
@@ -165,6 +167,13 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
                 }
                 unknown = Some((id.name.clone(), id.span));
             }
+            Statement::Coordinate { top, bottom, .. } => {
+                for id in [top, bottom] {
+                    if let Some((what, _)) = declared(&id.name, &params, &None, &let_names) {
+                        return Err(err(ErrorKind::Structure, format!("'{}' is already declared as {what}", id.name), id.span));
+                    }
+                }
+            }
             Statement::Ode { lhs, rhs, span } => {
                 if ode.is_some() {
                     return Err(err(ErrorKind::Structure, "a second 'ode' statement: a file holds one equation", *span));
@@ -239,7 +248,7 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
     if mode == NameMode::Infer {
         let mut names = Vec::new();
         for st in &program.statements {
-            if let Statement::Let { value, .. } = st {
+            if let Statement::Let { value, .. } | Statement::Coordinate { rate: value, .. } = st {
                 collect_names(value, &mut names);
             }
         }
@@ -267,7 +276,16 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
     collect_calls(lhs, &mut calls);
     collect_calls(rhs, &mut calls);
     let lower_with = |field: Field, map: Option<&Chain>| -> Result<(Field, RatFunc, RatFunc, Vec<(String, RatFunc)>)> {
-        let mut lw = Lowerer { field, atoms: Atoms::default(), lets: BTreeMap::new(), params: &param_names, var: &var, unknown: &unknown, map };
+        let mut lw = Lowerer {
+            field,
+            atoms: Atoms::default(),
+            lets: BTreeMap::new(),
+            params: &param_names,
+            var: &var,
+            unknown: &unknown,
+            map,
+            coords: Vec::new(),
+        };
         let mut lets_out = Vec::new();
         for st in &program.statements {
             if let Statement::Let { name, value } = st {
@@ -276,6 +294,11 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
                     lets_out.push((name.name.clone(), r));
                 }
                 lw.lets.insert(name.name.clone(), (v, name.span));
+            }
+        }
+        for st in &program.statements {
+            if let Statement::Coordinate { top, bottom, rate, span } = st {
+                lw.coordinate(top, bottom, rate, *span)?;
             }
         }
         let (p, q) = lw.equation(lhs, rhs, ode_span)?;
@@ -676,6 +699,34 @@ impl<'a> Lowerer<'a> {
         Ok(v)
     }
 
+    /// A coordinate declaration dX/dV = rate with V the variable (or dV/dX =
+    /// rate): d/dX = (1/rate) d/dV (or rate · d/dV).
+    fn coordinate(&mut self, top: &Ident, bottom: &Ident, rate: &Expr, span: Span) -> Result<()> {
+        let v = self.expr(rate)?;
+        if !v.is_linear_free() {
+            return Err(err(ErrorKind::Nonlinear, format!("the unknown '{}' appears in a coordinate's rate", self.unknown), rate.span));
+        }
+        let (name, factor) = if bottom.name == self.var && top.name != self.var {
+            if v.free.is_zero() {
+                return Err(err(ErrorKind::DivisionByZero, "the rate of the coordinate is identically zero", rate.span));
+            }
+            (top.name.clone(), Value::constant(self.atoms.inv(&self.field, &v.free, rate.span)?))
+        } else if top.name == self.var && bottom.name != self.var {
+            (bottom.name.clone(), v)
+        } else {
+            return Err(err(
+                ErrorKind::Structure,
+                format!("a coordinate is declared against the variable '{}': dX/d{0} = … or d{0}/dX = …", self.var),
+                span,
+            ));
+        };
+        if self.coords.iter().any(|(n, _)| *n == name) {
+            return Err(err(ErrorKind::Structure, format!("the coordinate '{name}' is declared twice"), span));
+        }
+        self.coords.push((name, factor));
+        Ok(())
+    }
+
     /// d/dx of a coefficient: d/dζ times dζ/dx = c ζ under an exponential map.
     fn dx(&self, a: &Quasi) -> Result<Quasi> {
         let k = self.k();
@@ -806,6 +857,15 @@ impl<'a> Lowerer<'a> {
             ExprKind::Derivative { body, wrt, order } => {
                 if let Some(quotient) = self.leibniz_as_quotient(body, wrt, *order) {
                     return quotient;
+                }
+                if let Some(factor) = self.coords.iter().find(|(n, _)| *n == wrt.name).map(|(_, f)| f.clone()) {
+                    // d/dX = factor · d/d(var), applied `order` times.
+                    let mut v = self.expr(body)?;
+                    for _ in 0..*order {
+                        let d = self.deriv(&v, 1, e.span)?;
+                        v = self.mul(&factor, &d, e.span)?;
+                    }
+                    return Ok(v);
                 }
                 check_wrt(wrt, self.var)?;
                 let v = self.expr(body)?;

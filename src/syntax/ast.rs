@@ -54,6 +54,19 @@ pub enum Statement {
     },
     /// `unknown NAME`: names the unknown function explicitly.
     Unknown(Ident),
+    /// `dX/dV = EXPR`: a second coordinate related to the variable, written
+    /// either way round (`drs/dr = 1/f` or `dr/drs = f`); derivatives with
+    /// respect to it are then read through the chain rule.
+    Coordinate {
+        /// The name above (X in dX/dV).
+        top: Ident,
+        /// The name below (V in dX/dV).
+        bottom: Ident,
+        /// dX/dV.
+        rate: Expr,
+        /// The whole statement.
+        span: Span,
+    },
     /// `ode LHS = RHS`.
     Ode {
         /// Left-hand side.

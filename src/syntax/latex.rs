@@ -1266,7 +1266,15 @@ pub(super) fn parse(src: &str, limits: &ParseLimits) -> Result<Program> {
     // Definitions: a lone name (or f(x)) on the left; the rest is the equation.
     let mut defs: Vec<(Ident, Relation)> = Vec::new();
     let mut equations: Vec<Relation> = Vec::new();
+    // Coordinates: `\frac{dr_*}{dr} = \frac{1}{f}`, a first derivative of a lone name.
+    let mut coords: Vec<(Ident, Ident, Relation)> = Vec::new();
     for rel in read {
+        if let ExprKind::Derivative { body, wrt, order: 1 } = &rel.lhs.kind {
+            if let (ExprKind::Name(top), false) = (&body.kind, has_derivative(&rel.rhs)) {
+                coords.push((Ident { name: top.clone(), span: body.span }, wrt.clone(), rel));
+                continue;
+            }
+        }
         match definition_name(&rel.lhs, &applications) {
             Some(name) if !has_derivative(&rel.lhs) => {
                 if let Some((first, _)) = defs.iter().find(|(d, _)| d.name == name.name) {
@@ -1318,6 +1326,19 @@ pub(super) fn parse(src: &str, limits: &ParseLimits) -> Result<Program> {
                 wrts.push(wrt.clone());
             }
         });
+    }
+    // A declared coordinate the equation differentiates by is not the variable:
+    // the other name of its declaration is.
+    let mut coordinate_var = None;
+    for (top, bottom, _) in &coords {
+        let (new, other) = if wrts.iter().any(|w| w.name == top.name) { (top, bottom) } else { (bottom, top) };
+        wrts.retain(|w| w.name != new.name);
+        coordinate_var.get_or_insert_with(|| other.clone());
+    }
+    if wrts.is_empty() {
+        if let Some(v) = coordinate_var {
+            wrts.push(v);
+        }
     }
     let var = match wrts.first() {
         Some(first) => {
@@ -1371,6 +1392,10 @@ pub(super) fn parse(src: &str, limits: &ParseLimits) -> Result<Program> {
         }
         resolve_applications(&mut rel.rhs, &var.name, &functions, &applications)?;
         statements.push(Statement::Let { name, value: rel.rhs });
+    }
+    for (top, bottom, mut rel) in coords {
+        resolve_applications(&mut rel.rhs, &var.name, &functions, &applications)?;
+        statements.push(Statement::Coordinate { top, bottom, rate: rel.rhs, span: rel.span });
     }
     let mut ode = ode;
     resolve_applications(&mut ode.lhs, &var.name, &functions, &applications)?;

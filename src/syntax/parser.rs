@@ -485,6 +485,23 @@ impl<'a> Parser<'a> {
                 let span = first.span.to(rhs.span);
                 Ok(Statement::Ode { lhs, rhs, span })
             }
+            None if first.tok == Tok::Ident && self.text(first.span).starts_with('d') => {
+                // `dX/dV = EXPR`: a coordinate declaration.
+                let Some(Leibniz::Leaf(Expr { kind: ExprKind::Derivative { body, wrt, order: 1 }, .. })) = self.leibniz(first)? else {
+                    return Err(
+                        self.syntax(format!("expected a statement (var, param, let, unknown or ode), found {}", self.found(first)), first.span)
+                    );
+                };
+                let ExprKind::Name(top) = body.kind else { return Err(internal("a Leibniz leaf without a name")) };
+                let eq = self.bump()?;
+                if eq.tok != Tok::Equals {
+                    return Err(self.syntax(format!("expected '=' after d{top}/d{}, found {}", wrt.name, self.found(eq)), eq.span));
+                }
+                self.skip_newlines()?;
+                let rate = self.expr(Some(eq))?;
+                let span = first.span.to(rate.span);
+                Ok(Statement::Coordinate { top: Ident { name: top, span: body.span }, bottom: wrt, rate, span })
+            }
             _ => Err(self
                 .syntax(format!("expected a statement (var, param, let, unknown or ode), found {}", self.found(first)), first.span)
                 .note("an equation is written as: ode LHS = RHS")),
@@ -1617,6 +1634,10 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
         for s in &p.statements {
             match s {
                 Statement::Let { value, .. } => check_spans(src, value),
+                Statement::Coordinate { rate, span, .. } => {
+                    check_spans(src, rate);
+                    assert!(rate.span.end == span.end);
+                }
                 Statement::Ode { lhs, rhs, span } => {
                     check_spans(src, lhs);
                     check_spans(src, rhs);
