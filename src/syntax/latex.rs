@@ -442,62 +442,59 @@ impl<'a> Reader<'a> {
 
     /// expr = [sign] term { (+|-) term }
     fn expr(&mut self) -> Result<Node> {
-        let mut acc = self.signed_term()?;
-        while let Some(t) = self.peek() {
-            let op = match t.t {
-                T::Plus => BinOp::Add,
-                T::Minus => BinOp::Sub,
-                _ => break,
-            };
+        let first = self.signed(Self::term)?;
+        self.chain(
+            first,
+            |t| match t {
+                T::Plus => Some(BinOp::Add),
+                T::Minus => Some(BinOp::Sub),
+                _ => None,
+            },
+            |r| r.signed(Self::term),
+        )
+    }
+
+    /// term = product { (* | \cdot | \times | /) [sign] product }
+    fn term(&mut self) -> Result<Node> {
+        let first = self.product()?;
+        self.chain(
+            first,
+            |t| match t {
+                T::Star => Some(BinOp::Mul),
+                T::Cmd(c) if c == "cdot" || c == "times" => Some(BinOp::Mul),
+                T::Slash => Some(BinOp::Div),
+                _ => None,
+            },
+            |r| r.signed(Self::product),
+        )
+    }
+
+    /// Left-associative operators between operands.
+    fn chain(&mut self, first: Node, op_of: fn(&T) -> Option<BinOp>, operand: fn(&mut Self) -> Result<Node>) -> Result<Node> {
+        let mut acc = first;
+        while let Some(op) = self.peek().and_then(|t| op_of(&t.t)) {
             self.pos += 1;
-            let rhs = self.term()?;
+            let rhs = operand(self)?;
             acc = self.binary(op, acc, rhs)?;
         }
         Ok(acc)
     }
 
-    fn signed_term(&mut self) -> Result<Node> {
+    /// An operand with an optional leading sign.
+    fn signed(&mut self, operand: fn(&mut Self) -> Result<Node>) -> Result<Node> {
         match self.peek().map(|t| (&t.t, t.span)) {
             Some((T::Minus, s)) => {
                 self.pos += 1;
-                let inner = self.term()?;
+                let inner = operand(self)?;
                 let span = s.to(inner.expr.span);
                 self.node(ExprKind::Neg(Box::new(inner.expr)), span, inner.height)
             }
             Some((T::Plus, _)) => {
                 self.pos += 1;
-                self.term()
+                operand(self)
             }
-            _ => self.term(),
+            _ => operand(self),
         }
-    }
-
-    /// term = product { (* | \cdot | \times | /) [sign] product }
-    fn term(&mut self) -> Result<Node> {
-        let mut acc = self.product()?;
-        while let Some(t) = self.peek() {
-            let op = match &t.t {
-                T::Star => BinOp::Mul,
-                T::Cmd(c) if c == "cdot" || c == "times" => BinOp::Mul,
-                T::Slash => BinOp::Div,
-                _ => break,
-            };
-            self.pos += 1;
-            let rhs = self.signed_product()?;
-            acc = self.binary(op, acc, rhs)?;
-        }
-        Ok(acc)
-    }
-
-    fn signed_product(&mut self) -> Result<Node> {
-        if let Some(Tok { t: T::Minus, span }) = self.peek() {
-            let span = *span;
-            self.pos += 1;
-            let inner = self.product()?;
-            let s = span.to(inner.expr.span);
-            return self.node(ExprKind::Neg(Box::new(inner.expr)), s, inner.height);
-        }
-        self.product()
     }
 
     /// True when the next token can start a factor (for juxtaposition).
