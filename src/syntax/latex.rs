@@ -725,25 +725,8 @@ impl<'a> Reader<'a> {
         };
         let Some(t) = self.peek() else { return Err(syntax("expected a subscript after '_'", self.end_span())) };
         if t.t == T::Open('{') {
-            let open = t.span;
-            let mut k = self.pos + 1;
-            let mut text = String::new();
-            while let Some(t) = self.toks.get(k) {
-                if t.t == T::Close('}') {
-                    break;
-                }
-                match piece(t, self.src) {
-                    Some(p) => text.push_str(&p),
-                    None => return Err(syntax("a subscript is part of a name: letters, digits, +, - or *", t.span)),
-                }
-                k += 1;
-            }
-            let Some(close) = self.toks.get(k) else { return Err(syntax("unbalanced braces: '{' is never closed", open)) };
-            if text.is_empty() {
-                return Err(syntax("an empty subscript", open.to(close.span)));
-            }
-            self.pos = k + 1;
-            return Ok((text, close.span));
+            let src = self.src;
+            return self.braced_word(|t| piece(t, src), "a subscript is part of a name: letters, digits, +, - or *", "an empty subscript");
         }
         match piece(t, self.src) {
             Some(p) => {
@@ -898,24 +881,45 @@ impl<'a> Reader<'a> {
         if t.t != T::Open('{') {
             return Err(syntax("expected '{' and a name", t.span));
         }
+        let src = self.src;
         let open = t.span;
+        let (word, close) = self.braced_word(
+            |t| match &t.t {
+                T::Letter(c) => Some(c.to_string()),
+                T::Number => Some(src[t.span.start..t.span.end].to_string()),
+                _ => None,
+            },
+            "an upright name holds letters and digits only",
+            "an empty name",
+        )?;
+        if !word.starts_with(char::is_alphabetic) {
+            return Err(syntax("an upright name starts with a letter", open.to(close)));
+        }
+        Ok((word, close))
+    }
+
+    /// The text of a braced group at the current `{`, each token turned into
+    /// text by `piece`; returns it with the closing brace's span.
+    fn braced_word(&mut self, piece: impl Fn(&Tok) -> Option<String>, bad: &str, empty: &str) -> Result<(String, Span)> {
+        let open = self.here();
         let mut k = self.pos + 1;
-        let mut word = String::new();
+        let mut text = String::new();
         while let Some(t) = self.toks.get(k) {
-            match &t.t {
-                T::Letter(c) => word.push(*c),
-                T::Number if !word.is_empty() => word.push_str(self.text(t.span)),
-                T::Close('}') => break,
-                _ => return Err(syntax("an upright name holds letters and digits only", t.span)),
+            if t.t == T::Close('}') {
+                break;
+            }
+            match piece(t) {
+                Some(p) => text.push_str(&p),
+                None => return Err(syntax(bad, t.span)),
             }
             k += 1;
         }
         let Some(close) = self.toks.get(k) else { return Err(syntax("unbalanced braces: '{' is never closed", open)) };
-        if word.is_empty() {
-            return Err(syntax("an empty name", open.to(close.span)));
+        if text.is_empty() {
+            return Err(syntax(empty, open.to(close.span)));
         }
         self.pos = k + 1;
-        Ok((word, close.span))
+        Ok((text, close.span))
     }
 
     /// The token range of a braced group starting at `k` (its `{`): (inner start, close index).
