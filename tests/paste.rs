@@ -260,3 +260,52 @@ fn regge_wheeler_in_the_tortoise_coordinate() {
     let bad = "var r\nparam M\nlet f = 1 - 2*M/r\ndrs/dq = 1/f\node d^2y/drs^2 + y = 0\n";
     assert!(reduce(&Input::Program(bad), &ReduceOptions::default()).is_err());
 }
+
+/// Mutated LaTeX twins (characters deleted, doubled or inserted) never panic
+/// through the whole reduction, and every error points into the text.
+#[test]
+fn mutated_latex_never_panics() {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("samples");
+    let mut twins: Vec<_> =
+        std::fs::read_dir(&dir).unwrap().map(|e| e.unwrap().path()).filter(|p| p.extension().is_some_and(|e| e == "tex")).collect();
+    twins.sort();
+    let mut state = 0x9e37_79b9_7f4a_7c15u64;
+    let mut next = move |n: usize| {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        (state % n.max(1) as u64) as usize
+    };
+    const INSERTS: &[&str] = &["{", "}", "\\", "^", "_", "(", ")", "\\frac", "d", "=", ",", "'", "\\left(", "\\right)", "e^{", "\\cosh", "/"];
+    for path in twins {
+        let text = std::fs::read_to_string(&path).unwrap();
+        let chars: Vec<char> = text.chars().collect();
+        for _ in 0..60 {
+            let mut c = chars.clone();
+            for _ in 0..1 + next(3) {
+                let at = next(c.len());
+                match next(3) {
+                    0 => {
+                        let len = 1 + next(4);
+                        c.drain(at..(at + len).min(c.len()));
+                    }
+                    1 => {
+                        let ch = c.get(at).copied().unwrap_or(' ');
+                        c.insert(at, ch);
+                    }
+                    _ => {
+                        for (k, ch) in INSERTS[next(INSERTS.len())].chars().enumerate() {
+                            c.insert((at + k).min(c.len()), ch);
+                        }
+                    }
+                }
+            }
+            let mutated: String = c.into_iter().collect();
+            if let Err(e) = reduce(&Input::Latex(&mutated), &ReduceOptions::default()) {
+                if let Some(s) = e.span {
+                    assert!(s.start <= s.end && s.end <= mutated.len() && mutated.is_char_boundary(s.start), "{mutated:?}: {e:?}");
+                }
+            }
+        }
+    }
+}
