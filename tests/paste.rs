@@ -161,6 +161,10 @@ fn inline_hygiene() {
     assert_eq!(j.stdout, i.stdout);
     assert!(String::from_utf8_lossy(&j.stderr).contains("note: variable x, unknown y, inferred parameters: E"));
 
+    let out = canonode(&["classify", "-e", "psi'' + (omega^2 - V(r))*psi = 0", "--var", "r"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("define it with 'let V = …'"), "{}", String::from_utf8_lossy(&out.stderr));
+
     let dir = std::env::temp_dir().join(format!("canonode-paste-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     let file = dir.join("i.ode");

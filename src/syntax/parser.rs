@@ -989,6 +989,11 @@ impl<'a> Parser<'a> {
             self.syntax(format!("implicit multiplication is not supported: write '{}*{}'", shown(self.text(left)), shown(right)), left.to(next.span));
         if self.prev.is_some_and(|p| p.tok == Tok::Number) && right.starts_with(['e', 'E']) {
             error.note("a power of ten needs digits after the 'e', e.g. 1e-3")
+        } else if self.prev.is_some_and(|p| p.tok == Tok::Ident) && next.tok == Tok::LParen {
+            let name = self.prev.map_or("", |p| self.text(p.span));
+            error.note(format!(
+                "if '{name}(…)' is a function of the variable, define it with 'let {name} = …' (or read LaTeX with --latex, where f(r) is allowed)"
+            ))
         } else {
             error
         }
