@@ -29,33 +29,48 @@ fn expected_kind(stem: &str) -> ErrorKind {
         .unwrap_or_else(|| panic!("tests/bad/{stem}.ode: the name starts with no known prefix"))
 }
 
+/// The same for LaTeX: every `tests/bad/*.tex` (first line `% exercises: …`)
+/// read as LaTeX, by the library and by the binary (a `.tex` file is LaTeX).
+#[test]
+fn bad_latex_inputs() {
+    insta::glob!("bad/*.tex", |path| {
+        let out = check_corpus_file(path, ".tex", "% exercises: ", |t| Input::Latex(t));
+        insta::assert_snapshot!(out);
+    });
+}
+
+/// Runs one corpus file through the library (an error of the kind its name
+/// promises, located in the text) and the binary (exit 2, nothing on stdout, a
+/// diagnostic naming the file); returns what to snapshot.
+fn check_corpus_file(path: &Path, ext: &str, comment: &str, input: fn(&str) -> Input<'_>) -> String {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let name = path.file_name().and_then(|n| n.to_str()).expect("a UTF-8 file name");
+    let stem = name.trim_end_matches(ext);
+    let text = std::fs::read_to_string(path).expect("a readable corpus file");
+    assert!(text.starts_with(comment), "{name}: the file must start with a '{comment}...' comment");
+    let err = match reduce(&input(&text), &ReduceOptions::default()) {
+        Ok(_) => panic!("{name}: reduced without error"),
+        Err(e) => e,
+    };
+    assert!(err.is_bad_input(), "{name}: an internal error: {err:?}");
+    assert_eq!(err.kind, expected_kind(stem), "{name}: {}", err.message);
+    if let Some(span) = err.span {
+        assert!(span.start <= span.end && span.end <= text.len(), "{name}: span {span:?} outside the text");
+    }
+    let rel = format!("tests/bad/{name}");
+    let out = Command::new(env!("CARGO_BIN_EXE_canonode")).current_dir(root).args(["reduce", &rel]).output().expect("the binary runs");
+    let stderr = String::from_utf8(out.stderr).expect("UTF-8 on stderr");
+    assert_eq!(out.status.code(), Some(2), "{name}: {stderr}");
+    assert!(out.stdout.is_empty(), "{name}: printed on stdout");
+    assert!(stderr.starts_with(&format!("{rel}:")), "{name}: the diagnostic does not start with the file name: {stderr}");
+    let shown = format!("{stderr}[exit status {}]", out.status.code().unwrap_or(-1));
+    shown
+}
+
 #[test]
 fn bad_inputs() {
-    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
     insta::glob!("bad/*.ode", |path| {
-        let name = path.file_name().and_then(|n| n.to_str()).expect("a UTF-8 file name");
-        let stem = name.trim_end_matches(".ode");
-        let text = std::fs::read_to_string(path).expect("a readable corpus file");
-        assert!(text.starts_with("# exercises: "), "{name}: the file must start with a '# exercises: ...' comment");
-
-        // The library: an error of the kind the name promises, blamed on the input.
-        let err = match reduce(&Input::Program(&text), &ReduceOptions::default()) {
-            Ok(_) => panic!("{name}: reduced without error"),
-            Err(e) => e,
-        };
-        assert!(err.is_bad_input(), "{name}: an internal error: {err:?}");
-        assert_eq!(err.kind, expected_kind(stem), "{name}: {}", err.message);
-        if let Some(span) = err.span {
-            assert!(span.start <= span.end && span.end <= text.len(), "{name}: span {span:?} outside the text");
-        }
-
-        // The binary: exit status 2, nothing on stdout, and the diagnostic.
-        let rel = format!("tests/bad/{name}");
-        let out = Command::new(env!("CARGO_BIN_EXE_canonode")).current_dir(root).args(["reduce", &rel]).output().expect("the binary runs");
-        let stderr = String::from_utf8(out.stderr).expect("UTF-8 on stderr");
-        assert_eq!(out.status.code(), Some(2), "{name}: {stderr}");
-        assert!(out.stdout.is_empty(), "{name}: printed on stdout");
-        assert!(stderr.starts_with(&format!("{rel}:")), "{name}: the diagnostic does not start with the file name: {stderr}");
-        insta::assert_snapshot!(format!("{stderr}[exit status {}]", out.status.code().unwrap_or(-1)));
+        let out = check_corpus_file(path, ".ode", "# exercises: ", |t| Input::Program(t));
+        insta::assert_snapshot!(out);
     });
 }

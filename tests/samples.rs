@@ -204,7 +204,7 @@ fn inline_bessel_infers_its_parameter() {
     assert!(r.stdout.contains("inferred      nu"), "the inferred parameter is not shown:\n{}", r.stdout);
     insta::assert_snapshot!(r.snapshot());
     let json = run_ok(&["reduce", "-e", eq, "--var", "z", "--format", "json"], None);
-    assert_eq!(json.stderr, "note: inferred parameters: nu\n");
+    assert_eq!(json.stderr, "note: variable z, unknown w, inferred parameters: nu\n");
     // DLMF 10.2.1: Q = 1 + (1/4 - nu^2)/z^2.
     let got = eval_q(&["-e", eq, "--var", "z", "--at", "z=2,nu=3"]);
     assert_close(got, Complex64::new(1.0 + (0.25 - 9.0) / 4.0, 0.0), "inline Bessel");

@@ -50,7 +50,7 @@ pub(crate) fn run(a: &ClassifyArgs) -> u8 {
 }
 
 fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
-    let red = crate::ode::reduce(&src.input(), &a.input.options())?;
+    let red = a.input.reduce(src)?;
     let an = crate::analysis::analyse(&red)?;
     let k = &red.field;
     let mut values_point = None;

@@ -77,7 +77,7 @@ fn compute(a: &EmitArgs, src: &super::Source) -> Result<String, Failure> {
             2,
         ));
     }
-    let red = crate::ode::reduce(&src.input(), &a.input.options())?;
+    let red = a.input.reduce(src)?;
     let var = red.var.clone();
     // The file's `let`s are building blocks in the file's own variable only, not after a change of variable.
     let named: Vec<_> = if red.change.is_none() { red.ode.lets.iter().map(|(_, v)| v.clone()).collect() } else { Vec::new() };

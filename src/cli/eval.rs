@@ -32,7 +32,7 @@ pub(crate) fn run(a: &EvalArgs) -> u8 {
 
 fn compute(a: &EvalArgs, src: &super::Source) -> Result<(f64, f64), Failure> {
     let values = parse_assignments(&a.at, "--at")?;
-    let red = crate::ode::reduce(&src.input(), &a.input.options())?;
+    let red = a.input.reduce(src)?;
     let names = red.field.names();
     let mut point = vec![GRat::zero(); names.len()];
     let mut given = vec![false; names.len()];

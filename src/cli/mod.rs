@@ -74,11 +74,14 @@ pub(crate) struct InputArgs {
     #[arg(value_name = "FILE", required_unless_present = "equation")]
     file: Option<String>,
     /// An inline equation 'LHS = RHS' instead of a file; undeclared names become parameters.
-    #[arg(short = 'e', long = "equation", value_name = "EQUATION", conflicts_with = "file")]
+    #[arg(short = 'e', long = "equation", value_name = "EQUATION", conflicts_with = "file", allow_hyphen_values = true)]
     equation: Option<String>,
     /// The independent variable of an inline equation.
     #[arg(long = "var", value_name = "NAME", default_value = "z", requires = "equation")]
     var: String,
+    /// Read the input as LaTeX mathematics (implied by a file name ending in .tex).
+    #[arg(long = "latex")]
+    latex: bool,
     /// Change the variable: OLD=EXPR, with EXPR rational in a new variable (e.g. 'z=1/t').
     #[arg(long = "subst", value_name = "OLD=EXPR", conflicts_with = "at_infinity")]
     subst: Option<String>,
@@ -88,6 +91,9 @@ pub(crate) struct InputArgs {
     /// dx/dz for the Schrödinger form, in the equation's variable (e.g. '1/f' for the tortoise coordinate).
     #[arg(long = "dxdz", value_name = "EXPR")]
     dxdz: Option<String>,
+    /// Name the change of variable for exp/sinh/cosh/tanh/sech/sin/cos/tan coefficients: NEW=exp(ARG), e.g. 'zeta=exp(2*alpha*x)'.
+    #[arg(long = "map", value_name = "NEW=exp(ARG)")]
+    map: Option<String>,
     /// The frequency parameter ω in V = ω² − W (default: omega, ω or w when declared).
     #[arg(long = "frequency", value_name = "NAME")]
     frequency: Option<String>,
@@ -98,13 +104,16 @@ pub(crate) struct Source {
     pub name: String,
     pub text: String,
     pub inline_var: Option<String>,
+    /// True when the text is LaTeX mathematics.
+    pub latex: bool,
 }
 
 impl Source {
     pub(crate) fn input(&self) -> Input<'_> {
-        match &self.inline_var {
-            Some(v) => Input::Inline { equation: &self.text, var: v },
-            None => Input::Program(&self.text),
+        match (&self.inline_var, self.latex) {
+            (_, true) => Input::Latex(&self.text),
+            (Some(v), false) => Input::Inline { equation: &self.text, var: v },
+            (None, false) => Input::Program(&self.text),
         }
     }
 }
@@ -126,9 +135,11 @@ impl From<Error> for Failure {
 impl InputArgs {
     pub(crate) fn read(&self) -> Result<Source, Failure> {
         if let Some(eq) = &self.equation {
-            return Ok(Source { name: "<equation>".into(), text: eq.clone(), inline_var: Some(self.var.clone()) });
+            return Ok(Source { name: "<equation>".into(), text: eq.clone(), inline_var: Some(self.var.clone()), latex: self.latex });
         }
-        read_source(&self.file.clone().unwrap_or_else(|| "-".into()))
+        let mut src = read_source(&self.file.clone().unwrap_or_else(|| "-".into()))?;
+        src.latex |= self.latex;
+        Ok(src)
     }
 }
 
@@ -150,7 +161,10 @@ pub(crate) fn read_source(file: &str) -> Result<Source, Failure> {
         return Err(Failure::Plain(format!("{name}: error: the input is larger than the limit of {limit} bytes"), 2));
     }
     match String::from_utf8(bytes) {
-        Ok(text) => Ok(Source { name, text, inline_var: None }),
+        Ok(text) => {
+            let latex = name.ends_with(".tex");
+            Ok(Source { name, text, inline_var: None, latex })
+        }
         Err(e) => {
             let at = e.utf8_error().valid_up_to();
             let text = String::from_utf8_lossy(e.as_bytes()).into_owned();
@@ -161,12 +175,37 @@ pub(crate) fn read_source(file: &str) -> Result<Source, Failure> {
 }
 
 impl InputArgs {
+    /// The reduction every command starts from, with the notes a user of the
+    /// inline or LaTeX form needs on stderr: the names taken as parameters,
+    /// and a warning when the variable does not occur in the coefficients
+    /// while a parameter looks like it could be the variable.
+    pub(crate) fn reduce(&self, src: &Source) -> Result<crate::ode::Reduction, Failure> {
+        let opts = self.options();
+        let red = crate::ode::reduce(&src.input(), &opts)?;
+        for line in inference_notes(&red, src.inline_var.is_some() || src.latex) {
+            eprintln!("{line}");
+        }
+        if ["exp", "sin", "cos", "tan", "sech", "e^"].iter().any(|f| src.text.contains(f)) {
+            // The map that made transcendental coefficients rational, if one did
+            // (lowered again: the reduction has no place for it).
+            if let Ok((ode, Some(map))) = crate::ode::lower_mapped(&src.input(), &opts.limits, &opts.parse_limits, opts.map.as_deref()) {
+                eprintln!(
+                    "note: change of variable {} (transcendental coefficients made rational; the equation is in {})",
+                    crate::ode::exp_map_text(&map, &ode),
+                    map.new_var
+                );
+            }
+        }
+        Ok(red)
+    }
+
     pub(crate) fn options(&self) -> ReduceOptions {
         ReduceOptions {
             subst: self.subst.clone(),
             at_infinity: self.at_infinity,
             dxdz: self.dxdz.clone(),
             frequency: self.frequency.clone(),
+            map: self.map.clone(),
             ..ReduceOptions::default()
         }
     }
@@ -183,9 +222,36 @@ impl InputArgs {
             "--at-infinity" => Some(String::new()),
             "--dxdz" => self.dxdz.clone(),
             "--frequency" => self.frequency.clone(),
+            "--map" => self.map.clone(),
             _ => None,
         }
     }
+}
+
+/// The notes on inferred names for an input whose names were inferred.
+pub(crate) fn inference_notes(red: &crate::ode::Reduction, inferred_input: bool) -> Vec<String> {
+    let mut out = Vec::new();
+    if !inferred_input {
+        return out;
+    }
+    if !red.ode.inferred.is_empty() {
+        out.push(format!("note: variable {}, unknown {}, inferred parameters: {}", red.ode.var, red.ode.unknown, red.ode.inferred.join(", ")));
+    } else {
+        out.push(format!("note: variable {}, unknown {}", red.ode.var, red.ode.unknown));
+    }
+    if !red.ode.p.uses_var(0) && !red.ode.q.uses_var(0) {
+        // Names physicists use for a variable, most common first.
+        const LIKELY: &[&str] = &["r", "x", "z", "t", "u", "rs", "r_star", "rho", "theta", "zeta", "y", "s"];
+        let candidate = LIKELY.iter().find(|n| red.ode.inferred.iter().any(|p| p == *n));
+        match candidate {
+            Some(c) => out.push(format!(
+                "warning: the variable '{}' does not occur in the coefficients, while '{c}' is taken as a parameter: did you mean --var {c}?",
+                red.ode.var
+            )),
+            None => out.push(format!("warning: the variable '{}' does not occur in the coefficients: they are constants", red.ode.var)),
+        }
+    }
+    out
 }
 
 /// Renders a failure for stderr and gives its exit status.

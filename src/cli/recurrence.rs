@@ -71,7 +71,7 @@ pub(crate) fn run(a: &RecurrenceArgs) -> u8 {
 }
 
 fn compute(a: &RecurrenceArgs, src: &super::Source) -> Result<String, Failure> {
-    let red = crate::ode::reduce(&src.input(), &a.input.options())?;
+    let red = a.input.reduce(src)?;
     let rec = a.series.derive(&red, &a.about)?;
     let n = rec.index();
     Ok(match a.format {

@@ -15,10 +15,7 @@ pub(crate) struct ReduceArgs {
 
 pub(crate) fn run(a: &ReduceArgs) -> u8 {
     run_command(&a.input, &[], |src| {
-        let red = crate::ode::reduce(&src.input(), &a.input.options())?;
-        if !red.ode.inferred.is_empty() && a.format != Format::Text {
-            super::err_line(&format!("note: inferred parameters: {}", red.ode.inferred.join(", ")));
-        }
+        let red = a.input.reduce(src)?;
         Ok(match a.format {
             Format::Text => crate::emit::reduction_text(&red, &src.name),
             Format::Latex => crate::emit::reduction_latex(&red),

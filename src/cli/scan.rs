@@ -75,7 +75,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
             return Err(usage("the plot is written as SVG or PNG: give FILE.svg or FILE.png", "--plot", path.len()));
         }
     }
-    let red = crate::ode::reduce(&src.input(), &a.input.options())?;
+    let red = a.input.reduce(src)?;
     let names = red.field.names().to_vec();
     let fname = a.input.frequency_name().or_else(|| ["omega", "ω", "w"].iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
     let Some(fname) = fname else { return Err(Error::new(ErrorKind::Usage, "no frequency parameter: name it with --frequency").into()) };

@@ -193,7 +193,7 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     if let Some(p) = &a.mode_functions {
         super::mode_file::check_path(p)?;
     }
-    let red = crate::ode::reduce(&src.input(), &a.input.options())?;
+    let red = a.input.reduce(src)?;
     let k = &red.field;
     let names = k.names();
     let defaults: &[&str] = if a.boundary == ProblemArg::Bound { &["E", "omega", "ω", "w"] } else { &["omega", "ω", "w"] };

@@ -15,14 +15,14 @@ pub(crate) fn parse_seed(text: Option<&str>, option: &str) -> Result<Option<num_
     Ok(Some(num_complex::Complex64::new(re, im)))
 }
 
-/// Parses `a`, `bi`, `a+bi`, `a-bi` (also with `I`, `*i`, or a bare `i`) exactly.
+/// Parses `a`, `bi`, `a+bi`, `a-bi` (also with `I`, `j` as engineers write it, `*i`, or a bare `i`) exactly.
 pub(crate) fn parse_complex(text: &str) -> Option<GRat> {
     let t: String = text.chars().filter(|c| !c.is_whitespace()).collect();
     if t.is_empty() {
         return None;
     }
     let imag_suffix = |s: &str| -> Option<String> {
-        let s = s.strip_suffix(['i', 'I'])?;
+        let s = s.strip_suffix(['i', 'I', 'j'])?;
         let s = s.strip_suffix('*').unwrap_or(s);
         Some(if s.is_empty() || s == "+" || s == "-" { format!("{s}1") } else { s.to_string() })
     };

@@ -7,7 +7,7 @@
 use super::quasi::{Atoms, Quasi};
 use crate::algebra::{Field, GRat, Limits, Rat, RatFunc};
 use crate::error::{Error, ErrorKind, Result};
-use crate::syntax::{BinOp, Expr, ExprKind, Program, Span, Statement};
+use crate::syntax::{BinOp, Expr, ExprKind, Func, Ident, Program, Span, Statement};
 use std::collections::BTreeMap;
 
 /// The highest derivative order tracked while lowering (the equation itself
@@ -68,6 +68,43 @@ struct Lowerer<'a> {
     params: &'a [String],
     var: &'a str,
     unknown: &'a str,
+    /// The exponential map in force, when the equation has transcendental
+    /// coefficients: field variable 0 is then ζ = e^(c·x), not x.
+    map: Option<&'a Chain>,
+    /// Declared coordinates X with d/dX = factor · d/d(var).
+    coords: Vec<(String, Value)>,
+}
+
+/// The exponential change of variable ζ = e^(c·x) while lowering: `c` is
+/// free of the variable; `slopes` holds each function argument's slope a
+/// (the argument is a·x), found by the argument's span.
+struct Chain {
+    c: RatFunc,
+    slopes: Vec<(Span, RatFunc)>,
+}
+
+/// A change of variable ζ = e^(c·x) that made transcendental coefficients rational.
+#[derive(Clone, Debug)]
+pub struct ExpMap {
+    /// The variable the equation was written in (x).
+    pub old_var: String,
+    /// The new variable (ζ).
+    pub new_var: String,
+    /// c in ζ = e^(c·x), in the new field (free of the variable; may hold I).
+    pub c: RatFunc,
+    /// True when the equation was then carried to u = (ζ − 1)/(ζ + 1) =
+    /// tanh(c·x/2), which has no more singular points and maps the real line
+    /// onto (−1, 1).
+    pub tanh: bool,
+}
+
+/// A map asked for by name: `NEW=exp(ARG)` with ARG a multiple of the variable.
+#[derive(Clone, Debug)]
+pub struct MapRequest {
+    /// The new variable's name.
+    pub new_var: String,
+    /// The exponent ARG (spans into the request's text).
+    pub exponent: Expr,
 }
 
 fn err(kind: ErrorKind, msg: impl Into<String>, span: Span) -> Error {
@@ -76,6 +113,15 @@ fn err(kind: ErrorKind, msg: impl Into<String>, span: Span) -> Error {
 
 /// Lowers a parsed program.
 pub fn lower_program(program: &Program, mode: NameMode, limits: &Limits) -> Result<LinearOde> {
+    lower_program_mapped(program, mode, limits, None).map(|(ode, _)| ode)
+}
+
+/// Lowers a parsed program whose coefficients may hold exp, sinh, cosh,
+/// tanh, sech (or sin, cos, tan) of multiples of the variable: those are made
+/// rational by ζ = e^(c·x) (the requested map, or the first of c = 2g, g —
+/// g the common step of the arguments, times i for trigonometric ones — that
+/// leaves no fractional power), and the result is the equation in ζ.
+pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, request: Option<&MapRequest>) -> Result<(LinearOde, Option<ExpMap>)> {
     let mut var: Option<(String, Span)> = None;
     let mut params: Vec<(String, Span)> = Vec::new();
     let mut unknown: Option<(String, Span)> = None;
@@ -121,6 +167,13 @@ pub fn lower_program(program: &Program, mode: NameMode, limits: &Limits) -> Resu
                 }
                 unknown = Some((id.name.clone(), id.span));
             }
+            Statement::Coordinate { top, bottom, .. } => {
+                for id in [top, bottom] {
+                    if let Some((what, _)) = declared(&id.name, &params, &None, &let_names) {
+                        return Err(err(ErrorKind::Structure, format!("'{}' is already declared as {what}", id.name), id.span));
+                    }
+                }
+            }
             Statement::Ode { lhs, rhs, span } => {
                 if ode.is_some() {
                     return Err(err(ErrorKind::Structure, "a second 'ode' statement: a file holds one equation", *span));
@@ -151,9 +204,16 @@ pub fn lower_program(program: &Program, mode: NameMode, limits: &Limits) -> Resu
         }
         None => {
             let mut primed = Vec::new();
-            collect_primed(lhs, &mut primed);
-            collect_primed(rhs, &mut primed);
+            collect_primed(lhs, &mut primed, &known);
+            collect_primed(rhs, &mut primed, &known);
             primed.retain(|(n, _)| !known(n));
+            if primed.is_empty() {
+                // Only bracketed expressions are differentiated, as in
+                // d/dx(x*w) or (x*w)': the unknown is among their names.
+                collect_differentiated(lhs, false, &mut primed);
+                collect_differentiated(rhs, false, &mut primed);
+                primed.retain(|(n, _)| !known(n));
+            }
             primed.dedup_by(|a, b| a.0 == b.0);
             let mut names: Vec<(String, Span)> = Vec::new();
             for p in primed {
@@ -188,7 +248,7 @@ pub fn lower_program(program: &Program, mode: NameMode, limits: &Limits) -> Resu
     if mode == NameMode::Infer {
         let mut names = Vec::new();
         for st in &program.statements {
-            if let Statement::Let { value, .. } = st {
+            if let Statement::Let { value, .. } | Statement::Coordinate { rate: value, .. } = st {
                 collect_names(value, &mut names);
             }
         }
@@ -206,35 +266,251 @@ pub fn lower_program(program: &Program, mode: NameMode, limits: &Limits) -> Resu
     let param_names: Vec<String> = params.iter().map(|(n, _)| n.clone()).collect();
     let mut names = vec![var.clone()];
     names.extend(param_names.iter().cloned());
-    let field = Field::new(names, limits.clone()).map_err(|e| e.or_at(params.last().map(|p| p.1).unwrap_or(ode_span)))?;
-    let mut lw = Lowerer { field, atoms: Atoms::default(), lets: BTreeMap::new(), params: &param_names, var: &var, unknown: &unknown };
-    let mut lets_out = Vec::new();
+    let field = Field::new(names.clone(), limits.clone()).map_err(|e| e.or_at(params.last().map(|p| p.1).unwrap_or(ode_span)))?;
+    let mut calls = Vec::new();
     for st in &program.statements {
-        if let Statement::Let { name, value } = st {
-            let v = lw.expr(value)?;
-            if let (true, Some(r)) = (v.is_linear_free(), v.free.as_rat()) {
-                lets_out.push((name.name.clone(), r));
-            }
-            lw.lets.insert(name.name.clone(), (v, name.span));
+        if let Statement::Let { value, .. } = st {
+            collect_calls(value, &mut calls);
         }
     }
-    let (p, q) = lw.equation(lhs, rhs, ode_span)?;
-    let Lowerer { field, .. } = lw;
-    Ok(LinearOde { field, var, unknown, params: param_names, inferred, p, q, lets: lets_out })
+    collect_calls(lhs, &mut calls);
+    collect_calls(rhs, &mut calls);
+    let lower_with = |field: Field, map: Option<&Chain>| -> Result<(Field, RatFunc, RatFunc, Vec<(String, RatFunc)>)> {
+        let mut lw = Lowerer {
+            field,
+            atoms: Atoms::default(),
+            lets: BTreeMap::new(),
+            params: &param_names,
+            var: &var,
+            unknown: &unknown,
+            map,
+            coords: Vec::new(),
+        };
+        let mut lets_out = Vec::new();
+        for st in &program.statements {
+            if let Statement::Let { name, value } = st {
+                let v = lw.expr(value)?;
+                if let (true, Some(r)) = (v.is_linear_free(), v.free.as_rat()) {
+                    lets_out.push((name.name.clone(), r));
+                }
+                lw.lets.insert(name.name.clone(), (v, name.span));
+            }
+        }
+        for st in &program.statements {
+            if let Statement::Coordinate { top, bottom, rate, span } = st {
+                lw.coordinate(top, bottom, rate, *span)?;
+            }
+        }
+        let (p, q) = lw.equation(lhs, rhs, ode_span)?;
+        Ok((lw.field, p, q, lets_out))
+    };
+    if calls.is_empty() && request.is_none() {
+        let (field, p, q, lets) = lower_with(field, None)?;
+        return Ok((LinearOde { field, var, unknown, params: param_names, inferred, p, q, lets }, None));
+    }
+    // The slope a of every argument a·x.
+    let mut slopes = Vec::new();
+    let mut trig: Option<(bool, Span)> = None;
+    for (func, arg, span) in &calls {
+        let a = linear_slope(&field, &names, arg)?;
+        match trig {
+            Some((t, first)) if t != func.is_trigonometric() => {
+                return Err(err(
+                    ErrorKind::NotRational,
+                    "hyperbolic (or exponential) and trigonometric functions together: no one change of variable makes both rational",
+                    *span,
+                )
+                .note(format!("the first kind was written at byte {}", first.start)))
+            }
+            None => trig = Some((func.is_trigonometric(), *span)),
+            _ => {}
+        }
+        slopes.push((arg.span, a));
+    }
+    let i_unit = RatFunc::constant(&GRat { re: Rat::zero(), im: Rat::one() });
+    let candidates: Vec<RatFunc> = match request {
+        Some(req) => vec![linear_slope(&field, &names, &req.exponent).map_err(|e| e.in_option("--map"))?],
+        None => {
+            let g = common_step(&field, &slopes)?;
+            let unit = if trig.is_some_and(|(t, _)| t) { field.mul(&g, &i_unit)? } else { g };
+            let two = RatFunc::rat(&Rat::int(2.into()));
+            vec![field.mul(&two, &unit)?, unit]
+        }
+    };
+    let new_var = match request {
+        Some(req) => {
+            if names.contains(&req.new_var) {
+                return Err(Error::new(ErrorKind::Usage, format!("'{}' is already a name of the equation", req.new_var)).in_option("--map"));
+            }
+            req.new_var.clone()
+        }
+        None => super::fresh_name("zeta", &names),
+    };
+    let mut new_names = vec![new_var.clone()];
+    new_names.extend(param_names.iter().cloned());
+    let mut last = None;
+    for (n, c) in candidates.iter().enumerate() {
+        let nf = Field::new(new_names.clone(), limits.clone())?;
+        let chain = Chain { c: c.clone(), slopes: slopes.clone() };
+        match lower_with(nf, Some(&chain)) {
+            Ok((nf, px, qx, lets)) => {
+                // d/dx = h d/dζ with h = c ζ: y'' + (h'/h + p_x/h) y' + q_x/h² y = 0.
+                let zeta = nf.var(0);
+                let h = nf.mul(c, &zeta)?;
+                let p = nf.add(&nf.inv(&zeta)?, &nf.div(&px, &h)?)?;
+                let q = nf.div(&qx, &nf.mul(&h, &h)?)?;
+                let real = c.as_constant().is_none_or(|k| k.im.is_zero()) && c.is_real();
+                if request.is_none() && real {
+                    // u = (ζ − 1)/(ζ + 1) = tanh(c x/2), kept when it has no more singular points.
+                    let u_name = super::fresh_name("u", &names);
+                    let mut u_names = vec![u_name.clone()];
+                    u_names.extend(param_names.iter().cloned());
+                    let tf = Field::new(u_names, limits.clone())?;
+                    let u = tf.var(0);
+                    let one = RatFunc::one();
+                    let g = tf.div(&tf.add(&one, &u)?, &tf.sub(&one, &u)?)?;
+                    let (pu, qu) = super::transform::change_variable(&tf, &p, &q, &g)?;
+                    if singular_count(&tf, &pu, &qu)? <= singular_count(&nf, &p, &q)? {
+                        let map = ExpMap { old_var: var.clone(), new_var: u_name.clone(), c: c.clone(), tanh: true };
+                        let ode = LinearOde {
+                            field: tf,
+                            var: u_name,
+                            unknown: unknown.clone(),
+                            params: param_names.clone(),
+                            inferred: inferred.clone(),
+                            p: pu,
+                            q: qu,
+                            lets: Vec::new(),
+                        };
+                        return Ok((ode, Some(map)));
+                    }
+                }
+                let map = ExpMap { old_var: var.clone(), new_var: new_var.clone(), c: c.clone(), tanh: false };
+                let ode = LinearOde {
+                    field: nf,
+                    var: new_var.clone(),
+                    unknown: unknown.clone(),
+                    params: param_names.clone(),
+                    inferred: inferred.clone(),
+                    p,
+                    q,
+                    lets,
+                };
+                return Ok((ode, Some(map)));
+            }
+            Err(e) if e.kind == ErrorKind::NotRational && n + 1 < candidates.len() => last = Some(e),
+            Err(e) => return Err(e),
+        }
+    }
+    Err(last.unwrap_or_else(|| Error::new(ErrorKind::Internal, "no candidate map")))
 }
 
-fn collect_primed(e: &Expr, out: &mut Vec<(String, Span)>) {
+/// The number of singular points of y'' + p y' + q y = 0, infinity included
+/// (an irreducible factor of degree n counts n): the measure by which the
+/// simpler of two forms is chosen.
+fn singular_count(field: &Field, p: &RatFunc, q: &RatFunc) -> Result<usize> {
+    let qn = super::normal::normal_q(field, p, q)?;
+    let finite: usize = qn.den_factors().iter().map(|(f, _)| f.poly().degree(0) as usize).sum();
+    let d = i64::from(qn.num().degree(0)) - i64::from(qn.den_expanded().degree(0));
+    Ok(finite + usize::from(!qn.is_zero() && d >= -3))
+}
+
+/// Every transcendental call: (function, argument, span of the call).
+fn collect_calls<'e>(e: &'e Expr, out: &mut Vec<(Func, &'e Expr, Span)>) {
+    match &e.kind {
+        ExprKind::Call(f, a) => {
+            out.push((*f, a, e.span));
+            collect_calls(a, out);
+        }
+        ExprKind::Prime(a, _) | ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Derivative { body: a, .. } => collect_calls(a, out),
+        ExprKind::Binary(_, a, b) => {
+            collect_calls(a, out);
+            collect_calls(b, out);
+        }
+        _ => {}
+    }
+}
+
+/// The slope a of an argument that must be a·x (a free of x, no constant term).
+fn linear_slope(field: &Field, names: &[String], arg: &Expr) -> Result<RatFunc> {
+    let v = lower_rational(field, names, &[], arg)?;
+    let a = field.deriv(&v, 0)?;
+    if a.uses_var(0) || a.is_zero() {
+        return Err(err(ErrorKind::NotRational, format!("the argument must be a nonzero multiple of '{}' (linear in it)", names[0]), arg.span));
+    }
+    let rest = field.sub(&v, &field.mul(&a, &field.var(0))?)?;
+    if !rest.is_zero() {
+        return Err(err(ErrorKind::NotRational, format!("the argument has a constant part besides its multiple of '{}'", names[0]), arg.span)
+            .note(format!("shift the variable first so that every argument is a multiple of '{}'", names[0])));
+    }
+    Ok(a)
+}
+
+/// The largest step g with every slope an integer multiple of it (the first slope's sign).
+fn common_step(field: &Field, slopes: &[(Span, RatFunc)]) -> Result<RatFunc> {
+    let Some((_, first)) = slopes.first() else { return Err(Error::new(ErrorKind::Internal, "no slopes")) };
+    let mut num = crate::algebra::Int::from(0);
+    let mut den = crate::algebra::Int::from(1);
+    for (span, a) in slopes {
+        let ratio = field.div(a, first)?.as_constant().filter(|c| c.im.is_zero()).ok_or_else(|| {
+            err(
+                ErrorKind::NotRational,
+                "arguments that are not rational multiples of one another: no one change of variable makes them all rational",
+                *span,
+            )
+        })?;
+        num = num.gcd(ratio.re.numer());
+        let d = ratio.re.denom();
+        den = den.mul(d).div_exact(&den.gcd(d)).unwrap_or_else(|| den.mul(d));
+    }
+    let step = Rat::new(num, den).ok_or_else(|| Error::new(ErrorKind::Internal, "zero denominator"))?;
+    field.mul(first, &RatFunc::rat(&step))
+}
+
+/// The error for a transcendental function where no map is in force.
+fn transcendental_here(f: Func, span: Span) -> Error {
+    err(ErrorKind::NotRational, format!("{}(…) is not rational here", f.name()), span)
+        .note("transcendental functions are read in the equation and its lets, where a change of variable makes them rational")
+}
+
+/// Names that carry a derivative: primed names and Leibniz derivatives of a
+/// name. `known` tells declared names, so that a quotient `dA/dB` of two
+/// declared names is skipped.
+fn collect_primed(e: &Expr, out: &mut Vec<(String, Span)>, known: &dyn Fn(&str) -> bool) {
     match &e.kind {
         ExprKind::Prime(inner, _) => {
             if let ExprKind::Name(n) = &inner.kind {
                 out.push((n.clone(), inner.span));
             }
-            collect_primed(inner, out);
+            collect_primed(inner, out, known);
         }
-        ExprKind::Neg(a) | ExprKind::Sqrt(a) => collect_primed(a, out),
+        ExprKind::Derivative { body, wrt, order } => match &body.kind {
+            ExprKind::Name(n) => {
+                if !(*order == 1 && known(&format!("d{n}")) && known(&format!("d{}", wrt.name))) {
+                    out.push((n.clone(), body.span));
+                }
+            }
+            _ => collect_primed(body, out, known),
+        },
+        ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Call(_, a) => collect_primed(a, out, known),
         ExprKind::Binary(_, a, b) => {
-            collect_primed(a, out);
-            collect_primed(b, out);
+            collect_primed(a, out, known);
+            collect_primed(b, out, known);
+        }
+        _ => {}
+    }
+}
+
+/// Every name inside a differentiated expression (`inside` once below a
+/// prime or a Leibniz derivative).
+fn collect_differentiated(e: &Expr, inside: bool, out: &mut Vec<(String, Span)>) {
+    match &e.kind {
+        ExprKind::Name(n) if inside => out.push((n.clone(), e.span)),
+        ExprKind::Prime(a, _) | ExprKind::Derivative { body: a, .. } => collect_differentiated(a, true, out),
+        ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Call(_, a) => collect_differentiated(a, inside, out),
+        ExprKind::Binary(_, a, b) => {
+            collect_differentiated(a, inside, out);
+            collect_differentiated(b, inside, out);
         }
         _ => {}
     }
@@ -243,13 +519,24 @@ fn collect_primed(e: &Expr, out: &mut Vec<(String, Span)>) {
 fn collect_names(e: &Expr, out: &mut Vec<(String, Span)>) {
     match &e.kind {
         ExprKind::Name(n) => out.push((n.clone(), e.span)),
-        ExprKind::Prime(a, _) | ExprKind::Neg(a) | ExprKind::Sqrt(a) => collect_names(a, out),
+        ExprKind::Prime(a, _) | ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Call(_, a) | ExprKind::Derivative { body: a, .. } => {
+            collect_names(a, out)
+        }
         ExprKind::Binary(_, a, b) => {
             collect_names(a, out);
             collect_names(b, out);
         }
         _ => {}
     }
+}
+
+/// A Leibniz derivative must be taken with respect to the equation's variable.
+fn check_wrt(wrt: &Ident, var: &str) -> Result<()> {
+    if wrt.name == var {
+        return Ok(());
+    }
+    Err(err(ErrorKind::Structure, format!("a derivative with respect to '{}', but the equation's variable is '{var}'", wrt.name), wrt.span)
+        .note(format!("derivatives are taken with respect to the variable: write d/d{var}, or make '{}' the variable", wrt.name)))
 }
 
 /// Splits a sum into its top-level terms with signs.
@@ -388,13 +675,13 @@ impl<'a> Lowerer<'a> {
         let k = self.k();
         let mut v = a.clone();
         for _ in 0..times {
-            let free = self.atoms.deriv(k, &v.free)?;
+            let free = self.dx(&v.free)?;
             let mut lin: Vec<Quasi> = vec![Quasi::zero(); v.lin.len() + 1];
             for (i, c) in v.lin.iter().enumerate() {
                 if c.is_zero() {
                     continue;
                 }
-                lin[i] = lin[i].add(k, &self.atoms.deriv(k, c)?)?;
+                lin[i] = lin[i].add(k, &self.dx(c)?)?;
                 lin[i + 1] = lin[i + 1].add(k, c)?;
             }
             while matches!(lin.last(), Some(c) if c.is_zero()) {
@@ -410,6 +697,96 @@ impl<'a> Lowerer<'a> {
             v = Value { free, lin };
         }
         Ok(v)
+    }
+
+    /// A coordinate declaration dX/dV = rate with V the variable (or dV/dX =
+    /// rate): d/dX = (1/rate) d/dV (or rate · d/dV).
+    fn coordinate(&mut self, top: &Ident, bottom: &Ident, rate: &Expr, span: Span) -> Result<()> {
+        let v = self.expr(rate)?;
+        if !v.is_linear_free() {
+            return Err(err(ErrorKind::Nonlinear, format!("the unknown '{}' appears in a coordinate's rate", self.unknown), rate.span));
+        }
+        let (name, factor) = if bottom.name == self.var && top.name != self.var {
+            if v.free.is_zero() {
+                return Err(err(ErrorKind::DivisionByZero, "the rate of the coordinate is identically zero", rate.span));
+            }
+            (top.name.clone(), Value::constant(self.atoms.inv(&self.field, &v.free, rate.span)?))
+        } else if top.name == self.var && bottom.name != self.var {
+            (bottom.name.clone(), v)
+        } else {
+            return Err(err(
+                ErrorKind::Structure,
+                format!("a coordinate is declared against the variable '{}': dX/d{0} = … or d{0}/dX = …", self.var),
+                span,
+            ));
+        };
+        if self.coords.iter().any(|(n, _)| *n == name) {
+            return Err(err(ErrorKind::Structure, format!("the coordinate '{name}' is declared twice"), span));
+        }
+        self.coords.push((name, factor));
+        Ok(())
+    }
+
+    /// d/dx of a coefficient: d/dζ times dζ/dx = c ζ under an exponential map.
+    fn dx(&self, a: &Quasi) -> Result<Quasi> {
+        let k = self.k();
+        let d = self.atoms.deriv(k, a)?;
+        match self.map {
+            None => Ok(d),
+            Some(chain) => self.atoms.mul(k, &d, &Quasi::rat(k.mul(&chain.c, &k.var(0))?)),
+        }
+    }
+
+    /// exp, sinh, … of a·x under the map ζ = e^(c·x): with E = ζ^κ,
+    /// κ = a/c (i·a/c for sin, cos, tan), exp = E, sinh = (E² − 1)/(2E),
+    /// cosh = (E² + 1)/(2E), tanh = (E² − 1)/(E² + 1), sech = 2E/(E² + 1),
+    /// sin = sinh/i, cos = cosh, tan = tanh/i.
+    fn call(&mut self, f: Func, arg: &Expr, span: Span) -> Result<Value> {
+        let Some(chain) = self.map else { return Err(transcendental_here(f, span)) };
+        let k = &self.field;
+        let Some((_, a)) = chain.slopes.iter().find(|(s, _)| *s == arg.span) else {
+            return Err(Error::new(ErrorKind::Internal, "an argument without its slope"));
+        };
+        let i_unit = RatFunc::constant(&GRat { re: Rat::zero(), im: Rat::one() });
+        let a = if f.is_trigonometric() { k.mul(a, &i_unit)? } else { a.clone() };
+        let kappa = k.div(&a, &chain.c)?;
+        if !kappa.as_constant().is_some_and(|c| c.im.is_zero()) {
+            return Err(err(ErrorKind::NotRational, format!("{}(…) is not a power of the map's variable", f.name()), span));
+        }
+        let zeta = Quasi::rat(k.var(0));
+        let e1 = self.atoms.pow(k, &zeta, &kappa, span)?;
+        let e2 = self.atoms.pow(k, &zeta, &k.add(&kappa, &kappa)?, span)?;
+        let one = Quasi::rat(RatFunc::one());
+        let half = Quasi::rat(RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero")));
+        let minus = e2.add(k, &one.neg(k))?;
+        let plus = e2.add(k, &one)?;
+        let inv_i = Quasi::rat(k.neg(&i_unit));
+        let v = match f {
+            Func::Exp => e1,
+            Func::Sinh | Func::Sin | Func::Cosh | Func::Cos => {
+                let top = if matches!(f, Func::Sinh | Func::Sin) { minus } else { plus };
+                let inv_e1 = self.atoms.inv(k, &e1, span)?;
+                let v = self.atoms.mul(k, &self.atoms.mul(k, &top, &inv_e1)?, &half)?;
+                if f == Func::Sin {
+                    self.atoms.mul(k, &v, &inv_i)?
+                } else {
+                    v
+                }
+            }
+            Func::Tanh | Func::Tan => {
+                let v = self.atoms.mul(k, &minus, &self.atoms.inv(k, &plus, span)?)?;
+                if f == Func::Tan {
+                    self.atoms.mul(k, &v, &inv_i)?
+                } else {
+                    v
+                }
+            }
+            Func::Sech => {
+                let two = Quasi::rat(RatFunc::rat(&Rat::int(2.into())));
+                self.atoms.mul(k, &self.atoms.mul(k, &two, &e1)?, &self.atoms.inv(k, &plus, span)?)?
+            }
+        };
+        Ok(Value::constant(v))
     }
 
     fn expr(&mut self, e: &Expr) -> Result<Value> {
@@ -476,6 +853,24 @@ impl<'a> Lowerer<'a> {
                 let v = self.expr(a)?;
                 self.deriv(&v, *n, e.span)
             }
+            ExprKind::Call(f, arg) => self.call(*f, arg, e.span),
+            ExprKind::Derivative { body, wrt, order } => {
+                if let Some(quotient) = self.leibniz_as_quotient(body, wrt, *order) {
+                    return quotient;
+                }
+                if let Some(factor) = self.coords.iter().find(|(n, _)| *n == wrt.name).map(|(_, f)| f.clone()) {
+                    // d/dX = factor · d/d(var), applied `order` times.
+                    let mut v = self.expr(body)?;
+                    for _ in 0..*order {
+                        let d = self.deriv(&v, 1, e.span)?;
+                        v = self.mul(&factor, &d, e.span)?;
+                    }
+                    return Ok(v);
+                }
+                check_wrt(wrt, self.var)?;
+                let v = self.expr(body)?;
+                self.deriv(&v, *order, e.span)
+            }
             ExprKind::Sqrt(a) => {
                 let x = self.expr(a)?;
                 let half = Value::constant(Quasi::rat(RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("2 is nonzero"))));
@@ -484,8 +879,36 @@ impl<'a> Lowerer<'a> {
         }
     }
 
+    /// `dA/dB` written between two declared names that begin with `d` (and
+    /// not with respect to the variable) is their quotient, as before
+    /// Leibniz forms were read.
+    fn leibniz_as_quotient(&self, body: &Expr, wrt: &Ident, order: u32) -> Option<Result<Value>> {
+        let ExprKind::Name(n) = &body.kind else { return None };
+        if order != 1 || wrt.name == self.var {
+            return None;
+        }
+        let (top, bottom) = (format!("d{n}"), format!("d{}", wrt.name));
+        let top_span = Span::new(body.span.start.saturating_sub(1), body.span.end);
+        let bottom_span = Span::new(wrt.span.start.saturating_sub(1), wrt.span.end);
+        let (Ok(x), Ok(y)) = (self.name(&top, top_span), self.name(&bottom, bottom_span)) else { return None };
+        Some((|| {
+            if !y.is_linear_free() {
+                return Err(err(ErrorKind::Nonlinear, format!("the unknown '{}' appears in a denominator", self.unknown), bottom_span));
+            }
+            let inv = self.atoms.inv(&self.field, &y.free, bottom_span)?;
+            self.mul(&x, &Value::constant(inv), top_span.to(bottom_span))
+        })())
+    }
+
     fn name(&self, n: &str, span: Span) -> Result<Value> {
         if n == self.var {
+            if self.map.is_some() {
+                return Err(err(
+                    ErrorKind::NotRational,
+                    format!("'{n}' itself occurs besides the transcendental functions: the change of variable that makes them rational leaves it a logarithm"),
+                    span,
+                ));
+            }
             return Ok(Value::constant(Quasi::rat(self.field.var(0))));
         }
         if let Some(i) = self.params.iter().position(|p| p == n) {
@@ -497,8 +920,11 @@ impl<'a> Lowerer<'a> {
         if n == self.unknown {
             return Ok(Value { free: Quasi::zero(), lin: vec![Quasi::rat(RatFunc::one())] });
         }
-        Err(err(ErrorKind::UnknownName, format!("unknown name '{n}'"), span)
-            .note("declare it with 'param', define it with 'let' before this line, or check the spelling"))
+        let error = err(ErrorKind::UnknownName, format!("unknown name '{n}'"), span);
+        if n == "i" || n == "j" {
+            return Err(error.note("the imaginary unit is written I"));
+        }
+        Err(error.note("declare it with 'param', define it with 'let' before this line, or check the spelling"))
     }
 
     fn pow(&mut self, base: &Value, exp: &Value, bspan: Span, espan: Span, span: Span) -> Result<Value> {
@@ -577,6 +1003,15 @@ pub(crate) fn lower_rational(field: &Field, names: &[String], lets: &[(String, R
             ExprKind::Prime(a, n) => {
                 let mut v = go(field, names, lets, atoms, a)?;
                 for _ in 0..*n {
+                    v = atoms.deriv(field, &v)?;
+                }
+                v
+            }
+            ExprKind::Call(f, _) => return Err(transcendental_here(*f, e.span)),
+            ExprKind::Derivative { body, wrt, order } => {
+                check_wrt(wrt, &names[0])?;
+                let mut v = go(field, names, lets, atoms, body)?;
+                for _ in 0..*order {
                     v = atoms.deriv(field, &v)?;
                 }
                 v

@@ -7,7 +7,7 @@ mod normal;
 mod quasi;
 mod transform;
 
-pub use lower::{lower_program, LinearOde, NameMode};
+pub use lower::{lower_program, lower_program_mapped, ExpMap, LinearOde, MapRequest, NameMode};
 pub use normal::{linear_root, normal_form, normal_q, prefactor, principal_parts, NormalForm, Prefactor, PrincipalPart};
 pub use transform::{change_variable, schrodinger, schwarzian, transform_q};
 
@@ -23,6 +23,9 @@ use crate::syntax::{self, Ident, ParseLimits, Program, Span, Statement};
 pub enum Input<'a> {
     /// A whole program (a file or stdin): every name must be declared.
     Program(&'a str),
+    /// LaTeX mathematics (`grammar/latex.md`): definitions become lets, the
+    /// variable comes from the derivatives, other names become parameters.
+    Latex(&'a str),
     /// A bare equation `LHS = RHS` in the named variable; other names become parameters.
     Inline {
         /// The equation text.
@@ -43,6 +46,8 @@ pub struct ReduceOptions {
     pub dxdz: Option<String>,
     /// The name of the frequency parameter ω in V = ω² − W.
     pub frequency: Option<String>,
+    /// `NEW=exp(ARG)`: the change of variable that makes transcendental coefficients rational, named by the user.
+    pub map: Option<String>,
     /// Bounds on exact computations.
     pub limits: Limits,
     /// Bounds on parsing.
@@ -100,18 +105,117 @@ pub struct Reduction {
 
 /// Parses and lowers an input into a linear ODE.
 pub fn lower(input: &Input<'_>, limits: &Limits, parse_limits: &ParseLimits) -> Result<LinearOde> {
+    lower_mapped(input, limits, parse_limits, None).map(|(ode, _)| ode)
+}
+
+/// Parses and lowers an input, making transcendental coefficients rational
+/// by an exponential change of variable (the one `map` names, `NEW=exp(ARG)`,
+/// or the automatic choice); returns the map that was applied.
+pub fn lower_mapped(input: &Input<'_>, limits: &Limits, parse_limits: &ParseLimits, map: Option<&str>) -> Result<(LinearOde, Option<ExpMap>)> {
+    let request = map.map(|m| map_request(m, parse_limits)).transpose()?;
+    let request = request.as_ref();
     match input {
         Input::Program(src) => {
             let program = syntax::parse_program(src, parse_limits)?;
-            lower_program(&program, NameMode::Strict, limits)
+            lower_program_mapped(&program, NameMode::Strict, limits, request)
+        }
+        Input::Latex(src) => {
+            let program = syntax::parse_latex(src, parse_limits)?;
+            lower_program_mapped(&program, NameMode::Infer, limits, request)
         }
         Input::Inline { equation, var } => {
             let (lhs, rhs, span) = syntax::parse_equation(equation, parse_limits)?;
-            let program = Program {
-                statements: vec![Statement::Var(Ident { name: var.to_string(), span: Span::new(0, 0) }), Statement::Ode { lhs, rhs, span }],
-            };
-            lower_program(&program, NameMode::Infer, limits)
+            let var = inline_variable(var, &[&lhs, &rhs]);
+            let program = Program { statements: vec![Statement::Var(Ident { name: var, span: Span::new(0, 0) }), Statement::Ode { lhs, rhs, span }] };
+            lower_program_mapped(&program, NameMode::Infer, limits, request)
         }
+    }
+}
+
+/// Reads `NEW=exp(ARG)` (the `--map` option).
+fn map_request(text: &str, parse_limits: &ParseLimits) -> Result<MapRequest> {
+    let usage =
+        || Error::new(ErrorKind::Usage, "expected NEW=exp(ARG), e.g. zeta=exp(2*alpha*x)").in_option("--map").at(Span::new(0, text.len().max(1)));
+    let eq = text.find('=').ok_or_else(usage)?;
+    let name = text[..eq].trim();
+    if name.is_empty() || !name.chars().next().is_some_and(char::is_alphabetic) || !name.chars().all(|c| c.is_alphanumeric() || c == '_') {
+        return Err(usage());
+    }
+    let offset = eq + 1;
+    let expr = syntax::parse_expr(&text[offset..], parse_limits).map_err(|e| shift(e, offset).in_option("--map"))?;
+    let syntax::ExprKind::Call(syntax::Func::Exp, arg) = expr.kind else { return Err(usage()) };
+    let mut exponent = *arg;
+    shift_expr(&mut exponent, offset);
+    Ok(MapRequest { new_var: name.to_string(), exponent })
+}
+
+/// Moves every span of an expression by `offset` bytes.
+fn shift_expr(e: &mut syntax::Expr, offset: usize) {
+    use syntax::ExprKind;
+    e.span = Span::new(e.span.start + offset, e.span.end + offset);
+    match &mut e.kind {
+        ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Prime(a, _) | ExprKind::Call(_, a) => shift_expr(a, offset),
+        ExprKind::Derivative { body, wrt, .. } => {
+            wrt.span = Span::new(wrt.span.start + offset, wrt.span.end + offset);
+            shift_expr(body, offset);
+        }
+        ExprKind::Binary(_, a, b) => {
+            shift_expr(a, offset);
+            shift_expr(b, offset);
+        }
+        _ => {}
+    }
+}
+
+/// The map as text: `zeta = exp(c*x)` in the input language.
+pub fn exp_map_text(map: &ExpMap, ode: &LinearOde) -> String {
+    let mut names = vec![map.new_var.clone()];
+    names.extend(ode.params.iter().cloned());
+    let half = RatFunc::rat(&crate::algebra::Rat::new(1.into(), 2.into()).expect("nonzero"));
+    let c = if map.tanh { ode.field.mul(&map.c, &half).unwrap_or_else(|_| map.c.clone()) } else { map.c.clone() };
+    let c = crate::algebra::print::ratfunc_text(&c, &names, crate::algebra::print::Style::Text);
+    let function = if map.tanh { "tanh" } else { "exp" };
+    let times = match c.as_str() {
+        "1" => String::new(),
+        "-1" => "-".to_string(),
+        _ if c.contains(['+', '/']) || c[1..].contains('-') => format!("({c})*"),
+        _ => format!("{c}*"),
+    };
+    format!("{} = {function}({times}{})", map.new_var, map.old_var)
+}
+
+/// The variable of an inline equation: the one named (by `--var` or its
+/// default) when it occurs, otherwise the one name all Leibniz derivatives
+/// are taken with respect to, when there is exactly one.
+fn inline_variable(named: &str, exprs: &[&syntax::Expr]) -> String {
+    let mut names = Vec::new();
+    let mut wrt = Vec::new();
+    for e in exprs {
+        collect_expr_names(e, &mut names);
+        collect_wrt(e, &mut wrt);
+    }
+    wrt.sort();
+    wrt.dedup();
+    if names.iter().any(|n| n == named) || wrt.len() != 1 {
+        return named.to_string();
+    }
+    wrt.remove(0)
+}
+
+/// The names Leibniz derivatives are taken with respect to.
+pub(crate) fn collect_wrt(e: &syntax::Expr, out: &mut Vec<String>) {
+    use syntax::ExprKind;
+    match &e.kind {
+        ExprKind::Derivative { body, wrt, .. } => {
+            out.push(wrt.name.clone());
+            collect_wrt(body, out);
+        }
+        ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Prime(a, _) | ExprKind::Call(_, a) => collect_wrt(a, out),
+        ExprKind::Binary(_, a, b) => {
+            collect_wrt(a, out);
+            collect_wrt(b, out);
+        }
+        _ => {}
     }
 }
 
@@ -127,7 +231,7 @@ pub(crate) fn fresh_name(want: &str, taken: &[String]) -> String {
 
 /// The whole `reduce` derivation: lower, optionally change variable, normal form, Schrödinger form.
 pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
-    let ode = lower(input, &opts.limits, &opts.parse_limits)?;
+    let (ode, _) = lower_mapped(input, &opts.limits, &opts.parse_limits, opts.map.as_deref())?;
     let mut names: Vec<String> = vec![ode.var.clone()];
     names.extend(ode.params.iter().cloned());
     let mut field = Field::new(names.clone(), opts.limits.clone())?;
@@ -232,7 +336,9 @@ fn collect_expr_names(e: &syntax::Expr, out: &mut Vec<String>) {
     use syntax::ExprKind;
     match &e.kind {
         ExprKind::Name(n) => out.push(n.clone()),
-        ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Prime(a, _) => collect_expr_names(a, out),
+        ExprKind::Neg(a) | ExprKind::Sqrt(a) | ExprKind::Prime(a, _) | ExprKind::Call(_, a) | ExprKind::Derivative { body: a, .. } => {
+            collect_expr_names(a, out)
+        }
         ExprKind::Binary(_, a, b) => {
             collect_expr_names(a, out);
             collect_expr_names(b, out);

@@ -54,6 +54,19 @@ pub enum Statement {
     },
     /// `unknown NAME`: names the unknown function explicitly.
     Unknown(Ident),
+    /// `dX/dV = EXPR`: a second coordinate related to the variable, written
+    /// either way round (`drs/dr = 1/f` or `dr/drs = f`); derivatives with
+    /// respect to it are then read through the chain rule.
+    Coordinate {
+        /// The name above (X in dX/dV).
+        top: Ident,
+        /// The name below (V in dX/dV).
+        bottom: Ident,
+        /// dX/dV.
+        rate: Expr,
+        /// The whole statement.
+        span: Span,
+    },
     /// `ode LHS = RHS`.
     Ode {
         /// Left-hand side.
@@ -89,6 +102,62 @@ pub enum BinOp {
     Pow,
 }
 
+/// Transcendental functions of one argument, read so that a change of
+/// variable can make them rational.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Func {
+    /// `exp`
+    Exp,
+    /// `sinh`
+    Sinh,
+    /// `cosh`
+    Cosh,
+    /// `tanh`
+    Tanh,
+    /// `sech`
+    Sech,
+    /// `sin`
+    Sin,
+    /// `cos`
+    Cos,
+    /// `tan`
+    Tan,
+}
+
+impl Func {
+    /// The function a name stands for.
+    pub fn of(name: &str) -> Option<Func> {
+        Some(match name {
+            "exp" => Func::Exp,
+            "sinh" => Func::Sinh,
+            "cosh" => Func::Cosh,
+            "tanh" => Func::Tanh,
+            "sech" => Func::Sech,
+            "sin" => Func::Sin,
+            "cos" => Func::Cos,
+            "tan" => Func::Tan,
+            _ => return None,
+        })
+    }
+    /// The name as written in the input language.
+    pub fn name(self) -> &'static str {
+        match self {
+            Func::Exp => "exp",
+            Func::Sinh => "sinh",
+            Func::Cosh => "cosh",
+            Func::Tanh => "tanh",
+            Func::Sech => "sech",
+            Func::Sin => "sin",
+            Func::Cos => "cos",
+            Func::Tan => "tan",
+        }
+    }
+    /// True for sin, cos and tan.
+    pub fn is_trigonometric(self) -> bool {
+        matches!(self, Func::Sin | Func::Cos | Func::Tan)
+    }
+}
+
 /// The kinds of expression.
 #[derive(Clone, Debug, PartialEq)]
 pub enum ExprKind {
@@ -106,4 +175,17 @@ pub enum ExprKind {
     Prime(Box<Expr>, u32),
     /// `sqrt(e)`.
     Sqrt(Box<Expr>),
+    /// `exp(e)`, `cosh(e)`, …: a transcendental function of a linear argument.
+    Call(Func, Box<Expr>),
+    /// A Leibniz derivative: `dR/dr`, `d^2R/dr^2` (the body is the name) or
+    /// `d/dr(e)`, `d^2/dr^2(e)` (the body is the bracketed expression), of the
+    /// given order with respect to the name `wrt`.
+    Derivative {
+        /// What is differentiated.
+        body: Box<Expr>,
+        /// The name after the lower `d`.
+        wrt: Ident,
+        /// How many times.
+        order: u32,
+    },
 }

@@ -8,9 +8,11 @@
 //! input's size.
 
 mod ast;
+mod latex;
 mod parser;
 
 pub use ast::*;
+pub use latex::GREEK_LETTERS;
 
 use crate::error::{Error, ErrorKind, Result};
 
@@ -55,6 +57,15 @@ pub fn parse_expr(src: &str, limits: &ParseLimits) -> Result<Expr> {
 pub fn parse_equation(src: &str, limits: &ParseLimits) -> Result<(Expr, Expr, Span)> {
     check_size(src, limits)?;
     parser::Parser::new(src, limits).lone_equation()
+}
+
+/// Reads LaTeX mathematics (the subset of `grammar/latex.md`) into a
+/// program: a `var` statement for the variable the derivatives name, a `let`
+/// for each definition (ordered so that each uses only earlier ones) and the
+/// `ode`. Other names are left undeclared, to be taken as parameters.
+pub fn parse_latex(src: &str, limits: &ParseLimits) -> Result<Program> {
+    check_size(src, limits)?;
+    latex::parse(src, limits)
 }
 
 /// Rejects an input longer than `limits.max_bytes` before any work is done,

@@ -5,7 +5,7 @@
 //! deeply parenthesised, can grow the machine stack. Operator precedence lives
 //! in [`binding`] alone.
 
-use super::{BinOp, Expr, ExprKind, Ident, ParseLimits, Program, Span, Statement};
+use super::{BinOp, Expr, ExprKind, Func, Ident, ParseLimits, Program, Span, Statement};
 use crate::error::{Error, ErrorKind, Result};
 use nom::branch::alt;
 use nom::bytes::complete::{take_till, take_while};
@@ -54,6 +54,7 @@ enum Keyword {
     Ode,
     Sqrt,
     Imag,
+    Function(Func),
 }
 
 impl Keyword {
@@ -66,13 +67,13 @@ impl Keyword {
             "ode" => Keyword::Ode,
             "sqrt" => Keyword::Sqrt,
             "I" => Keyword::Imag,
-            _ => return None,
+            f => Keyword::Function(Func::of(f)?),
         })
     }
 
     /// True for the words that begin a statement; these also end an expression.
     fn starts_statement(self) -> bool {
-        !matches!(self, Keyword::Sqrt | Keyword::Imag)
+        !matches!(self, Keyword::Sqrt | Keyword::Imag | Keyword::Function(_))
     }
 }
 
@@ -134,7 +135,7 @@ fn stray_char_note(c: char) -> Option<&'static str> {
         '\u{2070}' | '\u{b9}' | '\u{b2}' | '\u{b3}' | '\u{2074}'..='\u{207b}' => "write powers with '^', e.g. r^2 or r^-1",
         '[' | ']' | '{' | '}' => "only '(' and ')' group expressions",
         '_' => "a name starts with a letter",
-        '\\' => "LaTeX commands are not understood: write names such as omega or \u{3c9} directly",
+        '\\' => "LaTeX is read from a .tex file or with --latex; in this language write names such as omega or \u{3c9} directly",
         '.' => "a number needs a digit next to its '.', e.g. 0.5 or .5",
         _ => return None,
     })
@@ -158,6 +159,7 @@ fn quote(text: &str) -> String {
 }
 
 /// Cuts the text into tokens on demand, skipping blanks and comments.
+#[derive(Clone)]
 struct Lexer<'a> {
     src: &'a str,
     pos: usize,
@@ -301,11 +303,30 @@ fn binary_op(tok: Tok) -> Option<BinOp> {
 #[derive(Clone, Copy, Debug)]
 enum Pending {
     Op(Operator, Span),
-    /// An open parenthesis; `sqrt_start` is where `sqrt` was written if it is a call.
+    /// An open parenthesis; `call` is what it is the argument of, if anything.
     Open {
         paren: Span,
-        sqrt_start: Option<usize>,
+        call: Option<Call>,
     },
+}
+
+/// What an open parenthesis is the argument of.
+#[derive(Clone, Copy, Debug)]
+enum Call {
+    /// `sqrt(`, written from `start`.
+    Sqrt { start: usize },
+    /// `exp(`, `cosh(`, …, written from `start`.
+    Function { start: usize, func: Func },
+    /// `d/dx(` or `d^n/dx^n(`, written from `start`; `wrt` spans the name x.
+    Deriv { start: usize, wrt: Span, order: u32 },
+}
+
+/// A Leibniz form read ahead at an operand.
+enum Leibniz {
+    /// `dR/dr` or `d^nR/dr^n`: a finished operand.
+    Leaf(Expr),
+    /// `d/dr` or `d^n/dr^n` followed by `(`, which has been read.
+    Operator { paren: Span, call: Call },
 }
 
 impl Pending {
@@ -464,6 +485,23 @@ impl<'a> Parser<'a> {
                 let span = first.span.to(rhs.span);
                 Ok(Statement::Ode { lhs, rhs, span })
             }
+            None if first.tok == Tok::Ident && self.text(first.span).starts_with('d') => {
+                // `dX/dV = EXPR`: a coordinate declaration.
+                let Some(Leibniz::Leaf(Expr { kind: ExprKind::Derivative { body, wrt, order: 1 }, .. })) = self.leibniz(first)? else {
+                    return Err(
+                        self.syntax(format!("expected a statement (var, param, let, unknown or ode), found {}", self.found(first)), first.span)
+                    );
+                };
+                let ExprKind::Name(top) = body.kind else { return Err(internal("a Leibniz leaf without a name")) };
+                let eq = self.bump()?;
+                if eq.tok != Tok::Equals {
+                    return Err(self.syntax(format!("expected '=' after d{top}/d{}, found {}", wrt.name, self.found(eq)), eq.span));
+                }
+                self.skip_newlines()?;
+                let rate = self.expr(Some(eq))?;
+                let span = first.span.to(rate.span);
+                Ok(Statement::Coordinate { top: Ident { name: top, span: body.span }, bottom: wrt, rate, span })
+            }
             _ => Err(self
                 .syntax(format!("expected a statement (var, param, let, unknown or ode), found {}", self.found(first)), first.span)
                 .note("an equation is written as: ode LHS = RHS")),
@@ -511,6 +549,7 @@ impl<'a> Parser<'a> {
         match keyword {
             Keyword::Imag => error.note("'I' is the imaginary unit"),
             Keyword::Sqrt => error.note("'sqrt' is the square root, written sqrt(x)"),
+            Keyword::Function(f) => error.note(format!("'{}' is a function, written {}(x)", f.name(), f.name())),
             _ => error,
         }
     }
@@ -576,24 +615,44 @@ impl<'a> Parser<'a> {
     fn operand(&mut self, st: &mut Stacks, after: &mut Option<Token>) -> Result<()> {
         loop {
             let t = self.bump()?;
+            if t.tok == Tok::Ident && self.text(t.span).starts_with('d') {
+                match self.leibniz(t)? {
+                    Some(Leibniz::Leaf(expr)) => {
+                        let span = expr.span;
+                        let node = self.node(expr.kind, span, 0)?;
+                        st.operands.push(node);
+                        return Ok(());
+                    }
+                    Some(Leibniz::Operator { paren, call }) => {
+                        self.push(st, Pending::Open { paren, call: Some(call) }, paren)?;
+                        *after = self.prev;
+                        continue;
+                    }
+                    None => {}
+                }
+            }
             let leaf = match t.tok {
                 Tok::Number => ExprKind::Number(self.text(t.span).to_string()),
                 Tok::Ident => match self.keyword(t) {
                     None => ExprKind::Name(self.text(t.span).to_string()),
                     Some(Keyword::Imag) => ExprKind::Imag,
-                    Some(Keyword::Sqrt) => {
+                    Some(keyword @ (Keyword::Sqrt | Keyword::Function(_))) => {
                         let paren = self.bump()?;
                         if paren.tok != Tok::LParen {
-                            return Err(self.syntax(format!("expected '(' after 'sqrt', found {}", self.found(paren)), paren.span));
+                            return Err(self.syntax(format!("expected '(' after '{}', found {}", self.text(t.span), self.found(paren)), paren.span));
                         }
-                        self.push(st, Pending::Open { paren: paren.span, sqrt_start: Some(t.span.start) }, paren.span)?;
+                        let call = match keyword {
+                            Keyword::Function(func) => Call::Function { start: t.span.start, func },
+                            _ => Call::Sqrt { start: t.span.start },
+                        };
+                        self.push(st, Pending::Open { paren: paren.span, call: Some(call) }, paren.span)?;
                         *after = Some(paren);
                         continue;
                     }
                     Some(keyword) => return Err(self.reserved(t, keyword)),
                 },
                 Tok::LParen => {
-                    self.push(st, Pending::Open { paren: t.span, sqrt_start: None }, t.span)?;
+                    self.push(st, Pending::Open { paren: t.span, call: None }, t.span)?;
                     *after = Some(t);
                     continue;
                 }
@@ -608,6 +667,101 @@ impl<'a> Parser<'a> {
             };
             st.operands.push(Node { expr: Expr { kind: leaf, span: t.span }, height: 0 });
             return Ok(());
+        }
+    }
+
+    /// Reads a Leibniz derivative starting at the name `first` (which begins
+    /// with `d`): `dR/dr`, `d^2R/dr^2`, `d/dr(`, `d^2/dr^2(`. Anything else
+    /// leaves the input untouched and returns `None`. A form that is clearly
+    /// meant (both differentials read) but whose orders disagree is an error.
+    fn leibniz(&mut self, first: Token) -> Result<Option<Leibniz>> {
+        let saved = (self.lexer.clone(), self.peeked, self.prev);
+        match self.try_leibniz(first) {
+            Ok(Ok(Some(form))) => Ok(Some(form)),
+            Ok(Err(bad)) => Err(bad),
+            // Not a Leibniz form (or a token error further on, which the
+            // ordinary reading will meet and report in its own words).
+            Ok(Ok(None)) | Err(_) => {
+                (self.lexer, self.peeked, self.prev) = saved;
+                Ok(None)
+            }
+        }
+    }
+
+    /// The look-ahead of [`Parser::leibniz`]: the outer error is a token
+    /// error, the inner one a Leibniz form written wrongly.
+    fn try_leibniz(&mut self, first: Token) -> Result<Result<Option<Leibniz>>> {
+        let name = self.text(first.span);
+        // The order written as `^n` after a `d`, when there is one.
+        let order_after = |p: &mut Self| -> Result<Option<(u32, Span)>> {
+            if p.peek()?.tok != Tok::Caret {
+                return Ok(None);
+            }
+            p.bump()?;
+            let n = p.bump()?;
+            if n.tok != Tok::Number {
+                return Ok(Some((0, n.span)));
+            }
+            Ok(Some((p.text(n.span).parse::<u32>().unwrap_or(0), n.span)))
+        };
+        let (order, body) = if name == "d" {
+            let order = match order_after(self)? {
+                None => 1,
+                Some((0, _)) => return Ok(Ok(None)),
+                Some((n, _)) => n,
+            };
+            let t = self.peek()?;
+            let body = if t.tok == Tok::Ident && self.keyword(t).is_none() {
+                self.bump()?;
+                Some(t)
+            } else {
+                None
+            };
+            (order, body)
+        } else {
+            let body = Token { tok: Tok::Ident, span: Span::new(first.span.start + 1, first.span.end) };
+            (1, Some(body))
+        };
+        if self.bump()?.tok != Tok::Slash {
+            return Ok(Ok(None));
+        }
+        let den = self.bump()?;
+        let den_text = self.text(den.span);
+        if den.tok != Tok::Ident || den_text.len() < 2 || !den_text.starts_with('d') || self.keyword(den).is_some() {
+            return Ok(Ok(None));
+        }
+        let wrt = Span::new(den.span.start + 1, den.span.end);
+        let den_order = match order_after(self)? {
+            None => 1,
+            Some((0, _)) => return Ok(Ok(None)),
+            Some((n, _)) => n,
+        };
+        if den_order != order {
+            let end = self.prev.map_or(den.span, |p| p.span);
+            return Ok(Err(self
+                .syntax(
+                    format!("the orders of the derivative do not match: d^{order} above, d{}^{den_order} below", self.text(wrt)),
+                    first.span.to(end),
+                )
+                .note("write d^2y/dx^2 for a second derivative")));
+        }
+        match body {
+            Some(body) => {
+                let end = self.prev.map_or(den.span, |p| p.span);
+                let body = Expr { kind: ExprKind::Name(self.text(body.span).to_string()), span: body.span };
+                let wrt = Ident { name: self.text(wrt).to_string(), span: wrt };
+                let kind = ExprKind::Derivative { body: Box::new(body), wrt, order };
+                Ok(Ok(Some(Leibniz::Leaf(Expr { kind, span: first.span.to(end) }))))
+            }
+            None => {
+                let paren = self.bump()?;
+                if paren.tok != Tok::LParen {
+                    return Ok(Err(self
+                        .syntax(format!("expected '(' after d/d{}, found {}", self.text(wrt), self.found(paren)), paren.span)
+                        .note("the derivative applies to a bracketed expression: d/dr(r^2*y')")));
+                }
+                Ok(Ok(Some(Leibniz::Operator { paren: paren.span, call: Call::Deriv { start: first.span.start, wrt, order } })))
+            }
         }
     }
 
@@ -777,16 +931,27 @@ impl<'a> Parser<'a> {
         while let Some(Pending::Op(..)) = st.ops.last() {
             self.reduce_top(st)?;
         }
-        let Some(Pending::Open { paren, sqrt_start }) = st.ops.pop() else {
+        let Some(Pending::Open { paren, call }) = st.ops.pop() else {
             return Err(internal("no open parenthesis"));
         };
         st.opens -= 1;
         st.nesting -= 1;
         let inner = Self::pop_operand(st)?;
-        let node = match sqrt_start {
-            Some(start) => {
+        let node = match call {
+            Some(Call::Sqrt { start }) => {
                 let height = inner.height;
                 self.node(ExprKind::Sqrt(Box::new(inner.expr)), Span::new(start, at.end), height)?
+            }
+            Some(Call::Function { start, func }) => {
+                let height = inner.height;
+                self.node(ExprKind::Call(func, Box::new(inner.expr)), Span::new(start, at.end), height)?
+            }
+            Some(Call::Deriv { start, wrt, order }) => {
+                let height = inner.height;
+                let mut body = inner.expr;
+                body.span = paren.to(at);
+                let wrt = Ident { name: self.text(wrt).to_string(), span: wrt };
+                self.node(ExprKind::Derivative { body: Box::new(body), wrt, order }, Span::new(start, at.end), height)?
             }
             None => {
                 let mut inner = inner;
@@ -824,6 +989,11 @@ impl<'a> Parser<'a> {
             self.syntax(format!("implicit multiplication is not supported: write '{}*{}'", shown(self.text(left)), shown(right)), left.to(next.span));
         if self.prev.is_some_and(|p| p.tok == Tok::Number) && right.starts_with(['e', 'E']) {
             error.note("a power of ten needs digits after the 'e', e.g. 1e-3")
+        } else if self.prev.is_some_and(|p| p.tok == Tok::Ident) && next.tok == Tok::LParen {
+            let name = self.prev.map_or("", |p| self.text(p.span));
+            error.note(format!(
+                "if '{name}(…)' is a function of the variable, define it with 'let {name} = …' (or read LaTeX with --latex, where f(r) is allowed)"
+            ))
         } else {
             error
         }
@@ -870,6 +1040,8 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
             }
             ExprKind::Prime(a, n) => format!("(d{n} {})", sexp(a)),
             ExprKind::Sqrt(a) => format!("(sqrt {})", sexp(a)),
+            ExprKind::Call(f, a) => format!("({} {})", f.name(), sexp(a)),
+            ExprKind::Derivative { body, wrt, order } => format!("(D{order}/{} {})", wrt.name, sexp(body)),
         }
     }
 
@@ -892,13 +1064,15 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
             }
             ExprKind::Prime(a, n) => format!("({}){}", print(a), "'".repeat(*n as usize)),
             ExprKind::Sqrt(a) => format!("sqrt({})", print(a)),
+            ExprKind::Call(f, a) => format!("{}({})", f.name(), print(a)),
+            ExprKind::Derivative { body, wrt, order } => format!("d^{order}/d{}^{order}({})", wrt.name, print(body)),
         }
     }
 
     fn children(e: &Expr) -> Vec<&Expr> {
         match &e.kind {
             ExprKind::Number(_) | ExprKind::Imag | ExprKind::Name(_) => vec![],
-            ExprKind::Neg(a) | ExprKind::Prime(a, _) | ExprKind::Sqrt(a) => vec![a],
+            ExprKind::Neg(a) | ExprKind::Prime(a, _) | ExprKind::Sqrt(a) | ExprKind::Call(_, a) | ExprKind::Derivative { body: a, .. } => vec![a],
             ExprKind::Binary(_, a, b) => vec![a, b],
         }
     }
@@ -1026,6 +1200,30 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
              (* (* (* (* 2 I) s) (- r M)) K)) Delta) (* (* (* (* 4 I) s) omega) r)) lam) R))"
         );
         check_spans(src, lhs);
+    }
+
+    #[test]
+    fn leibniz_derivatives() {
+        assert_eq!(shape("dR/dr"), "(D1/r R)");
+        assert_eq!(shape("d^2R/dr^2 + 2/r*dR/dr"), "(+ (D2/r R) (* (/ 2 r) (D1/r R)))");
+        assert_eq!(shape("d/dr(r^2*dR/dr)"), "(D1/r (* (^ r 2) (D1/r R)))");
+        assert_eq!(shape("d^2/dx^2(f*y)"), "(D2/x (* f y))");
+        assert_eq!(shape("(dR/dr)^2"), "(^ (D1/r R) 2)");
+        // Not Leibniz forms: ordinary names and quotients.
+        assert_eq!(shape("delta/d"), "(/ delta d)");
+        assert_eq!(shape("d/x"), "(/ d x)");
+        assert_eq!(shape("d*(dx)"), "(* d dx)");
+        let src = "x*d^2R/dr^3";
+        let e = parse_expr(src, &limits()).unwrap_err();
+        assert!(e.message.starts_with("the orders of the derivative do not match"), "{e:?}");
+        assert_eq!(text(src, e.span.unwrap()), "d^2R/dr^3");
+        assert!(parse_expr("dR/dr^2", &limits()).unwrap_err().message.starts_with("the orders"));
+        let src = "d/dr y";
+        let e = parse_expr(src, &limits()).unwrap_err();
+        assert_eq!(text(src, e.span.unwrap()), "y");
+        let src = "1 + d/dr(r*y)";
+        let Expr { kind: ExprKind::Binary(_, _, d), .. } = expr(src) else { panic!() };
+        assert_eq!(text(src, d.span), "d/dr(r*y)");
     }
 
     #[test]
@@ -1441,6 +1639,10 @@ ode f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0
         for s in &p.statements {
             match s {
                 Statement::Let { value, .. } => check_spans(src, value),
+                Statement::Coordinate { rate, span, .. } => {
+                    check_spans(src, rate);
+                    assert!(rate.span.end == span.end);
+                }
                 Statement::Ode { lhs, rhs, span } => {
                     check_spans(src, lhs);
                     check_spans(src, rhs);

@@ -1,0 +1,315 @@
+//! Equations pasted as written: Leibniz derivatives in the input language,
+//! LaTeX from papers (every sample's LaTeX twin, DLMF forms), and the
+//! inline-form hygiene. Each check compares canonical forms exactly
+//! (`RatFunc` equality is mathematical equality).
+
+use canonode::ode::{reduce, Input, ReduceOptions};
+use std::process::Command;
+
+fn normal_q(input: &Input<'_>) -> (Vec<String>, String) {
+    let red = reduce(input, &ReduceOptions::default()).unwrap_or_else(|e| panic!("{input:?}: {e:?}"));
+    let mut names = vec![red.var.clone()];
+    names.extend(red.ode.params.iter().cloned());
+    let q = canonode::algebra::print::ratfunc_text(&red.normal.q, &names, canonode::algebra::print::Style::Text);
+    (names, q)
+}
+
+/// Leibniz forms mean the same as primes (common practice: d/dr(f dR/dr) = (f R')').
+#[test]
+fn leibniz_forms_equal_primes() {
+    let cases = [
+        (
+            "var r\nparam M, omega, l\nlet f = 1 - 2*M/r\node f*(f*y')' + (omega^2 - f*l*(l+1)/r^2)*y = 0",
+            "var r\nparam M, omega, l\nlet f = 1 - 2*M/r\node f*d/dr(f*dy/dr) + (omega^2 - f*l*(l+1)/r^2)*y = 0",
+        ),
+        ("var x\nparam E\node psi'' + (2*E - x^2)*psi = 0", "var x\nparam E\node d^2psi/dx^2 + (2*E - x^2)*psi = 0"),
+        ("var x\nparam a\node (x^2*w')' + a*w = 0", "var x\nparam a\node d^2/dx^2(x^2*w) - d/dx(2*x*w) + a*w = 0"),
+    ];
+    for (primes, leibniz) in cases {
+        assert_eq!(normal_q(&Input::Program(primes)), normal_q(&Input::Program(leibniz)), "{leibniz}");
+    }
+}
+
+/// Inline, the variable comes from the derivatives when `--var` names nothing in the equation.
+#[test]
+fn inline_variable_from_the_derivatives() {
+    let (names, _) = normal_q(&Input::Inline { equation: "d/dr(r^2*dR/dr) + (E*r^2 - l*(l+1))*R = 0", var: "z" });
+    assert_eq!(names, ["r", "E", "l"]);
+}
+
+/// Quotients of declared names that begin with d stay quotients.
+#[test]
+fn declared_d_names_divide() {
+    let a = normal_q(&Input::Program("var x\nparam da, db\node y'' + da/db*y = 0"));
+    let b = normal_q(&Input::Program("var x\nparam da, db\node y'' + (da)/(db)*y = 0"));
+    assert_eq!(a, b);
+}
+
+fn canonode(args: &[&str]) -> std::process::Output {
+    Command::new(env!("CARGO_BIN_EXE_canonode")).current_dir(env!("CARGO_MANIFEST_DIR")).args(args).output().expect("the binary runs")
+}
+
+/// Names a twin spells differently from its `.ode` file (the LaTeX letter → the file's name).
+const RENAMES: &[(&str, &str)] = &[("lambda", "lam"), ("V_0", "V0")];
+
+/// Q of a LaTeX text re-expressed over the names and order of `ode_src`'s field: the
+/// printed Q (the input language) is read back as `y'' + Q y = 0` in a program that
+/// declares the `.ode` file's variable and parameters.
+fn latex_q_in(ode_src: &str, tex: &str) -> (canonode::algebra::RatFunc, canonode::algebra::RatFunc) {
+    let ode = reduce(&Input::Program(ode_src), &ReduceOptions::default()).unwrap_or_else(|e| panic!("{e:?}"));
+    let red = reduce(&Input::Latex(tex), &ReduceOptions::default()).unwrap_or_else(|e| panic!("{tex}: {e:?}"));
+    assert_eq!(red.var, ode.var, "the twin's variable");
+    let mut names = vec![red.var.clone()];
+    names.extend(red.ode.params.iter().cloned());
+    let q = canonode::algebra::print::ratfunc_text(&red.normal.q, &names, canonode::algebra::print::Style::Text);
+    let mut program = format!("var {}\n", ode.var);
+    if !ode.ode.params.is_empty() {
+        program.push_str(&format!("param {}\n", ode.ode.params.join(", ")));
+    }
+    for p in &red.ode.params {
+        if let Some((_, to)) = RENAMES.iter().find(|(from, _)| from == p) {
+            program.push_str(&format!("let {p} = {to}\n"));
+        } else {
+            assert!(ode.ode.params.contains(p), "the twin has a parameter '{p}' the file does not");
+        }
+    }
+    program.push_str(&format!("ode y__'' + ({q})*y__ = 0\n"));
+    let back = reduce(&Input::Program(&program), &ReduceOptions::default()).unwrap_or_else(|e| panic!("{program}: {e:?}"));
+    (back.normal.q, ode.normal.q)
+}
+
+/// Every sample has a LaTeX twin (typed as its source prints it, see each file's
+/// comment) whose normal form equals the `.ode` one exactly.
+#[test]
+fn every_sample_has_a_latex_twin_with_the_same_q() {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("samples");
+    let mut samples: Vec<_> =
+        std::fs::read_dir(&dir).unwrap().map(|e| e.unwrap().path()).filter(|p| p.extension().is_some_and(|e| e == "ode")).collect();
+    samples.sort();
+    assert!(samples.len() >= 19);
+    for ode_path in samples {
+        let tex_path = ode_path.with_extension("tex");
+        let ode_src = std::fs::read_to_string(&ode_path).unwrap();
+        let tex = std::fs::read_to_string(&tex_path).unwrap_or_else(|_| panic!("{} has no LaTeX twin", ode_path.display()));
+        let (from_tex, from_ode) = latex_q_in(&ode_src, &tex);
+        assert!(from_tex == from_ode, "{}: the twin's Q differs", tex_path.display());
+    }
+}
+
+/// The comparison can fail: a twin with one sign changed has another Q.
+#[test]
+fn a_wrong_twin_differs() {
+    let ode = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/bessel.ode")).unwrap();
+    let (a, b) = latex_q_in(&ode, r"z^{2}\frac{d^{2}w}{dz^{2}} + z\frac{dw}{dz} + (z^{2} + \nu^{2})w = 0");
+    assert!(a != b);
+}
+
+fn class_of_latex(tex: &str) -> String {
+    let out = canonode(&["classify", "--latex", "-e", tex, "--format", "json"]);
+    assert!(out.status.success(), "{tex}: {}", String::from_utf8_lossy(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    v["class"].as_str().unwrap().to_string()
+}
+
+/// DLMF forms typed as DLMF prints them give their known classes (class
+/// table of the project's design notes; DLMF chapters cited per case).
+#[test]
+fn dlmf_forms_as_latex_give_their_classes() {
+    let cases = [
+        // DLMF 10.2.1 (Bessel): regular at 0, rank 1 at ∞.
+        (r"z^{2}\frac{d^{2}w}{dz^{2}}+z\frac{dw}{dz}+(z^{2}-\nu^{2})w=0", "confluent-hypergeometric"),
+        // DLMF 15.10.1 (Gauss): three regular points.
+        (r"z(1-z)\frac{d^{2}w}{dz^{2}}+\left(c-(a+b+1)z\right)\frac{dw}{dz}-abw=0", "hypergeometric"),
+        // DLMF 31.2.1 (general Heun) with the Fuchs relation left free: four regular points.
+        (
+            r"\frac{d^{2}w}{dz^{2}}+\left(\frac{\gamma}{z}+\frac{\delta}{z-1}+\frac{\epsilon}{z-a}\right)\frac{dw}{dz}+\frac{\alpha\beta z-q}{z(z-1)(z-a)}w=0",
+            "general-heun",
+        ),
+        // DLMF 31.12.1 (confluent Heun).
+        (
+            r"\frac{d^{2}w}{dz^{2}}+\left(\frac{\gamma}{z}+\frac{\delta}{z-1}+\epsilon\right)\frac{dw}{dz}+\frac{\alpha z-q}{z(z-1)}w=0",
+            "confluent-heun",
+        ),
+        // DLMF 30.2.1 (spheroidal wave equation): regular at ±1, rank 1 at ∞.
+        (r"\frac{d}{dz}\left((1-z^{2})\frac{dw}{dz}\right)+\left(\lambda+\gamma^{2}(1-z^{2})-\frac{\mu^{2}}{1-z^{2}}\right)w=0", "confluent-heun"),
+    ];
+    for (tex, class) in cases {
+        assert_eq!(class_of_latex(tex), class, "{tex}");
+    }
+}
+
+/// Inline-form hygiene: a leading minus in -e, the names inferred printed by
+/// every command, a warning when --var does not occur, `j` in values, the
+/// hint for `i` in a file (hydrogen form of Landau & Lifshitz §36, from memory).
+#[test]
+fn inline_hygiene() {
+    let eq = "-u''/2 + (l*(l+1)/(2*r^2) - Z/r)*u = E*u";
+    for cmd in ["reduce", "classify"] {
+        let out = canonode(&[cmd, "-e", eq]);
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(err.contains("inferred parameters: l, r, Z, E"), "{cmd}: {err}");
+        assert!(err.contains("did you mean --var r?"), "{cmd}: {err}");
+    }
+    let out = canonode(&["classify", "-e", eq, "--var", "r"]);
+    assert!(out.status.success());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("note: variable r, unknown u, inferred parameters: l, Z, E") && !err.contains("warning"), "{err}");
+
+    let j = canonode(&["eval", "-e", "y'' + (x - E)*y = 0", "--var", "x", "--at", "x=1,E=0.3-0.1j"]);
+    let i = canonode(&["eval", "-e", "y'' + (x - E)*y = 0", "--var", "x", "--at", "x=1,E=0.3-0.1i"]);
+    assert!(j.status.success(), "{}", String::from_utf8_lossy(&j.stderr));
+    assert_eq!(j.stdout, i.stdout);
+    assert!(String::from_utf8_lossy(&j.stderr).contains("note: variable x, unknown y, inferred parameters: E"));
+
+    let out = canonode(&["classify", "-e", "psi'' + (omega^2 - V(r))*psi = 0", "--var", "r"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("define it with 'let V = …'"), "{}", String::from_utf8_lossy(&out.stderr));
+
+    let dir = std::env::temp_dir().join(format!("canonode-paste-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = dir.join("i.ode");
+    std::fs::write(&file, "var x\nparam E\node y'' + (E + i*x)*y = 0\n").unwrap();
+    let out = canonode(&["reduce", file.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("the imaginary unit is written I"));
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// Bound-state energies from `spectrum --boundary bound` on an equation as written.
+fn levels(args: &[&str], at: &str) -> Vec<f64> {
+    let mut all = vec!["spectrum", "--boundary", "bound", "--frequency", "E", "--at", at, "--overtones", "0..2", "--format", "json"];
+    all.extend_from_slice(args);
+    let out = canonode(&all);
+    assert!(out.status.success(), "{args:?}: {}", String::from_utf8_lossy(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let got: Vec<f64> = v["modes"].as_array().unwrap().iter().map(|m| m["omega"][0].as_f64().unwrap()).collect();
+    assert_eq!(got.len(), 3, "{v}");
+    got
+}
+
+/// The Pöschl–Teller well −ν(ν+1)/cosh²x (ħ = 2m = 1): E_n = −(ν − n)²
+/// (Landau & Lifshitz, Quantum Mechanics §23, from memory), from the
+/// equation as written, inline and as LaTeX; the map is printed.
+#[test]
+fn poschl_teller_well_as_written() {
+    let inline = levels(&["-e", "psi'' + (E + nu*(nu+1)/cosh(x)^2)*psi = 0", "--var", "x"], "nu=3");
+    let tex = levels(&["--latex", "-e", r"\frac{d^{2}\psi}{dx^{2}} + \left(E + \frac{\nu(\nu+1)}{\cosh^{2}x}\right)\psi = 0"], "nu=3");
+    for got in [inline, tex] {
+        for (n, e) in got.iter().enumerate() {
+            let want = -(3.0 - n as f64).powi(2);
+            assert!((e - want).abs() < 1e-9, "n={n}: {e} vs {want}");
+        }
+    }
+    let out = canonode(&["classify", "-e", "psi'' + (E + nu*(nu+1)*sech(x)^2)*psi = 0", "--var", "x"]);
+    assert!(String::from_utf8_lossy(&out.stderr).contains("change of variable u = tanh(x)"), "{}", String::from_utf8_lossy(&out.stderr));
+}
+
+/// The Morse well D(e^{−2x} − 2e^{−x}) (ħ = 2m = 1, unit width):
+/// E_n = −(√D − n − ½)² (textbook, e.g. Landau & Lifshitz §23 problem 4, from memory).
+#[test]
+fn morse_well_as_written() {
+    let got = levels(&["--latex", "-e", r"-\frac{d^{2}\psi}{dx^{2}} + D\left(e^{-2x} - 2e^{-x}\right)\psi = E\psi"], "D=9");
+    for (n, e) in got.iter().enumerate() {
+        let want = -(3.0 - n as f64 - 0.5).powi(2);
+        assert!((e - want).abs() < 1e-8, "n={n}: {e} vs {want}");
+    }
+}
+
+/// Mathieu's equation as DLMF 28.2.1 prints it becomes, by ζ = e^{2ix}, the
+/// sample in ζ exactly (samples/mathieu_exponential.ode); the class is the same.
+#[test]
+fn mathieu_as_written_is_the_exponential_sample() {
+    let sample = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/mathieu_exponential.ode")).unwrap();
+    let (from_tex, from_ode) = latex_q_in(&sample, r"\frac{d^{2}w}{dx^{2}} + (a - 2q\cos 2x)w = 0");
+    assert!(from_tex == from_ode);
+    let inline = reduce(&Input::Inline { equation: "w'' + (a - 2*q*cos(2*x))*w = 0", var: "x" }, &ReduceOptions::default()).unwrap();
+    let ode = reduce(&Input::Program(&sample), &ReduceOptions::default()).unwrap();
+    assert!(inline.normal.q == ode.normal.q);
+    assert_eq!(class_of_latex(r"\frac{d^{2}w}{dz^{2}} + (a - 2q\cos 2z)w = 0"), "doubly-reduced-doubly-confluent-heun");
+}
+
+/// A map named with --map is used as given (no tanh form), and x itself cannot remain.
+#[test]
+fn named_map_and_what_cannot_be_mapped() {
+    let out = canonode(&["classify", "-e", "psi'' + (E + V*exp(-2*a*x))*psi = 0", "--var", "x", "--map", "s=exp(-a*x)"]);
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(out.status.success(), "{err}");
+    assert!(err.contains("change of variable s = exp(-a*x)"), "{err}");
+    let out = canonode(&["classify", "-e", "psi'' + (E + x*exp(x))*psi = 0", "--var", "x"]);
+    assert_eq!(out.status.code(), Some(2));
+    let out = canonode(&["classify", "-e", "psi'' + (E + exp(x) + cos(x))*psi = 0", "--var", "x"]);
+    assert_eq!(out.status.code(), Some(2));
+    let out = canonode(&["classify", "-e", "psi'' + (E + exp(x) + exp(sqrt(2)*x))*psi = 0", "--var", "x"]);
+    assert_eq!(out.status.code(), Some(2));
+}
+
+/// The Regge–Wheeler equation in the tortoise coordinate, d²ψ/dr*² + (ω² − V)ψ = 0
+/// with dr*/dr = 1/f declared (Regge & Wheeler 1957; Berti, Cardoso & Starinets
+/// 2009, from memory), in both languages, gives exactly the Q of the r-form sample.
+#[test]
+fn regge_wheeler_in_the_tortoise_coordinate() {
+    let sample = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/regge_wheeler.ode")).unwrap();
+    let ode = reduce(&Input::Program(&sample), &ReduceOptions::default()).unwrap();
+    for declaration in ["drs/dr = 1/f", "dr/drs = f"] {
+        let program = format!(
+            "var r\nparam M, omega, l, s\nlet f = 1 - 2*M/r\n{declaration}\node d^2y/drs^2 + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0\n"
+        );
+        let red = reduce(&Input::Program(&program), &ReduceOptions::default()).unwrap_or_else(|e| panic!("{declaration}: {e:?}"));
+        assert!(red.normal.q == ode.normal.q, "{declaration}");
+    }
+    let tex = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/regge_wheeler_tortoise.tex")).unwrap();
+    let (from_tex, from_ode) = latex_q_in(&sample, &tex);
+    assert!(from_tex == from_ode);
+    // A coordinate must be declared against the variable.
+    let bad = "var r\nparam M\nlet f = 1 - 2*M/r\ndrs/dq = 1/f\node d^2y/drs^2 + y = 0\n";
+    assert!(reduce(&Input::Program(bad), &ReduceOptions::default()).is_err());
+}
+
+/// Mutated LaTeX twins (characters deleted, doubled or inserted) never panic
+/// through the whole reduction, and every error points into the text.
+#[test]
+fn mutated_latex_never_panics() {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("samples");
+    let mut twins: Vec<_> =
+        std::fs::read_dir(&dir).unwrap().map(|e| e.unwrap().path()).filter(|p| p.extension().is_some_and(|e| e == "tex")).collect();
+    twins.sort();
+    let mut state = 0x9e37_79b9_7f4a_7c15u64;
+    let mut next = move |n: usize| {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        (state % n.max(1) as u64) as usize
+    };
+    const INSERTS: &[&str] = &["{", "}", "\\", "^", "_", "(", ")", "\\frac", "d", "=", ",", "'", "\\left(", "\\right)", "e^{", "\\cosh", "/"];
+    for path in twins {
+        let text = std::fs::read_to_string(&path).unwrap();
+        let chars: Vec<char> = text.chars().collect();
+        for _ in 0..60 {
+            let mut c = chars.clone();
+            for _ in 0..1 + next(3) {
+                let at = next(c.len());
+                match next(3) {
+                    0 => {
+                        let len = 1 + next(4);
+                        c.drain(at..(at + len).min(c.len()));
+                    }
+                    1 => {
+                        let ch = c.get(at).copied().unwrap_or(' ');
+                        c.insert(at, ch);
+                    }
+                    _ => {
+                        for (k, ch) in INSERTS[next(INSERTS.len())].chars().enumerate() {
+                            c.insert((at + k).min(c.len()), ch);
+                        }
+                    }
+                }
+            }
+            let mutated: String = c.into_iter().collect();
+            if let Err(e) = reduce(&Input::Latex(&mutated), &ReduceOptions::default()) {
+                if let Some(s) = e.span {
+                    assert!(s.start <= s.end && s.end <= mutated.len() && mutated.is_char_boundary(s.start), "{mutated:?}: {e:?}");
+                }
+            }
+        }
+    }
+}
