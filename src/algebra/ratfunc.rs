@@ -239,6 +239,10 @@ impl Field {
         if a.len().saturating_mul(b.len()) > self.limits.max_work {
             return Err(limit(format!("a product of polynomials with {} and {} terms is too large", a.len(), b.len())));
         }
+        let words = super::budget::words(a.max_bits(), b.max_bits());
+        if !super::budget::charge((a.len() as u64).saturating_mul(b.len() as u64).saturating_mul(words)) {
+            return Err(super::budget::exceeded());
+        }
         let p = a.mul(b);
         self.check_poly(&p)?;
         Ok(p)
@@ -269,7 +273,13 @@ impl Field {
     }
 
     fn pgcd(&self, a: &Poly, b: &Poly) -> Result<Poly> {
-        gcd(a, b).ok_or_else(|| limit("a polynomial gcd grew beyond the exponent range"))
+        gcd(a, b).ok_or_else(|| {
+            if super::budget::charge(0) {
+                limit("a polynomial gcd grew beyond the exponent range")
+            } else {
+                super::budget::exceeded()
+            }
+        })
     }
 
     /// Rewrites two factor lists over one pairwise coprime base.

@@ -7,6 +7,7 @@ mod classify;
 pub(crate) mod diagnostic;
 mod emit;
 mod eval;
+mod options;
 mod record;
 mod recurrence;
 mod reduce;
@@ -222,7 +223,12 @@ pub(crate) fn run_command(input: &InputArgs, extra: &[(String, String)], compute
         Ok(s) => s,
         Err(f) => return fail(&f, None),
     };
-    match compute(&src).and_then(|text| emit(&text)) {
+    // The exact work of one command is bounded (a limit error, not minutes of arithmetic).
+    let computed = crate::algebra::budget::with_budget(crate::algebra::budget::DEFAULT_BUDGET, || {
+        let r = compute(&src);
+        r
+    });
+    match computed.and_then(|text| emit(&text)) {
         Ok(()) => 0,
         Err(f) => fail(&f, Some(&src)),
     }
