@@ -966,7 +966,8 @@ fn command_args(rng: &mut Rng, file: &str, var: &str, params: &[String], dir: &P
 }
 
 /// What a command run must never do: hang, panic (both caught by
-/// `run_bounded`), fail internally, or print a non-finite number.
+/// `run_bounded`), fail internally, or print a non-finite number as a
+/// result.
 fn command_problem(args: &[String], c: &canonode::cli::Captured) -> Option<String> {
     if c.code == 1 && args[0] != "check" {
         return Some(format!("exit 1 (internal failure): {}", c.stderr.trim_end()));
@@ -977,10 +978,9 @@ fn command_problem(args: &[String], c: &canonode::cli::Captured) -> Option<Strin
     if c.stderr.contains("internal failure") {
         return Some(format!("internal failure: {}", c.stderr.trim_end()));
     }
-    for text in [&c.stdout, &c.stderr] {
-        if let Some(ctx) = common::non_finite(text) {
-            return Some(format!("non-finite number printed: …{ctx}…"));
-        }
+    // Results go to stdout; stderr may quote the user's own text ('NaN' is not a number).
+    if let Some(ctx) = common::non_finite(&c.stdout) {
+        return Some(format!("non-finite number printed: …{ctx}…"));
     }
     None
 }

@@ -12,15 +12,24 @@ use common::{non_finite, run_bounded};
 /// Generous: a hang detector for a test build, not a timing assertion.
 const BOUND: Duration = Duration::from_secs(60);
 
-/// Runs a command; fails on a hang, a panic or a non-finite number in the output.
+/// Runs a command; fails on a hang, a panic or a non-finite number in the
+/// output (the results; messages may quote the user's own text).
 fn run(args: &[&str]) -> canonode::cli::Captured {
     let c = run_bounded(args, BOUND).unwrap_or_else(|| panic!("HANG (> {BOUND:?}): canonode {args:?}"));
-    for text in [&c.stdout, &c.stderr] {
-        if let Some(ctx) = non_finite(text) {
-            panic!("non-finite number printed by canonode {args:?}: …{ctx}…\n{text}");
-        }
+    if let Some(ctx) = non_finite(&c.stdout) {
+        panic!("non-finite number printed by canonode {args:?}: …{ctx}…\n{}", c.stdout);
     }
     c
+}
+
+/// A fresh scratch directory holding one file `name` with `text`; returns
+/// the directory (to remove) and the file's path.
+fn scratch(tag: &str, name: &str, text: &str) -> (std::path::PathBuf, String) {
+    let dir = std::env::temp_dir().join(format!("canonode-robust-{tag}-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join(name);
+    std::fs::write(&path, text).unwrap();
+    (dir, path.to_string_lossy().into_owned())
 }
 
 fn sample(name: &str) -> String {
@@ -203,11 +212,7 @@ fn regression_classify_printed_non_finite_values() {
 
 #[test]
 fn regression_a_newline_in_the_source_path_broke_the_emitted_code() {
-    let dir = std::env::temp_dir().join(format!("canonode-robust-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    let path = dir.join("eq\nint broken = ;\\");
-    std::fs::write(&path, "var z\nparam a\node w'' + a*z*w = 0\n").unwrap();
-    let p = path.to_string_lossy().into_owned();
+    let (dir, p) = scratch("path", "eq\nint broken = ;\\", "var z\nparam a\node w'' + a*z*w = 0\n");
     for lang in ["c", "rust"] {
         let c = run(&["emit", &p, "--lang", lang, "--name", "airy"]);
         assert_eq!(c.code, 0, "{}", c.stderr);
@@ -219,5 +224,17 @@ fn regression_a_newline_in_the_source_path_broke_the_emitted_code() {
     let c = run(&["record", &p]);
     assert_eq!(c.code, 2, "{}{}", c.stdout, c.stderr);
     assert!(c.stderr.contains("control character"), "{}", c.stderr);
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+#[test]
+fn regression_a_far_resonance_made_the_no_logarithm_check_quadratic() {
+    // Found by the command fuzz: with b = −40 the exponent difference at
+    // z = −3 is a large integer, and the Frobenius check ran for minutes.
+    let (dir, p) = scratch("res", "eq.ode", "var z\nparam a, b, nu\node (-1/7)*(z - (-6/2))*1/((z^2 + 3))*w'' + b^2*w' + a^3*w = 0\n");
+    let c = run(&["spectrum", &p, "--frequency", "a", "--tol", "1e-8", "--overtones", "1", "--at", "b=-40,nu=1"]);
+    assert_eq!(c.code, 2, "{}", c.stdout);
+    let c = run(&["classify", &p, "--at", "b=-40,nu=1,a=1"]);
+    assert_eq!(c.code, 0, "{}", c.stderr);
     let _ = std::fs::remove_dir_all(&dir);
 }
