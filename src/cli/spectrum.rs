@@ -615,16 +615,17 @@ fn bound_states(
             format!("{}\n", serde_json::to_string_pretty(&serde_json::json!({"frequency": fname, "boundary": "bound", "domain": dom_text, "continuum": if threshold.is_finite() { serde_json::json!(threshold) } else { serde_json::Value::Null }, "method": "Chebyshev collocation (Boyd 2001)", "modes": ms})).unwrap_or_default())
         }
         SpecFormat::Csv => {
-            let mut o = String::from("n,re,im,converged,method,points,change_on_doubling,check_re,check_im,agreement\n");
+            let mut o = String::from("n,re,im,converged,method,points,change_on_doubling,check_re,check_im,agreement,reason\n");
             for (s, c) in rows.iter().zip(&checks) {
                 let check = match c {
                     Some(BoundCheck::Agrees(r)) => format!("{:.17e},{:.17e},{:.3e}", r.omega.re, r.omega.im, agreement(r, s)),
                     _ => ",,".to_string(),
                 };
                 if s.converged {
-                    o.push_str(&format!("{},{:.17e},{:.17e},true,collocation,{},{:.3e},{check}\n", s.n, s.value.re, s.value.im, s.points, s.change));
+                    o.push_str(&format!("{},{:.17e},{:.17e},true,collocation,{},{:.3e},{check},\n", s.n, s.value.re, s.value.im, s.points, s.change));
                 } else {
-                    o.push_str(&format!("{},,,false,collocation,{},,{check}\n", s.n, s.points));
+                    let why = s.reason.as_deref().unwrap_or_default().replace('"', "'");
+                    o.push_str(&format!("{},,,false,collocation,{},,{check},\"{why}\"\n", s.n, s.points));
                 }
             }
             o

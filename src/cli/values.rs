@@ -113,7 +113,8 @@ pub(crate) fn fmt17(x: f64) -> String {
         return "0".to_string();
     }
     if !x.is_finite() {
-        return format!("{x}");
+        // Never printed as a number: callers report such values as a status.
+        return "(not finite)".to_string();
     }
     let s = format!("{:.16e}", x);
     let (mant, exp) = s.split_once('e').expect("exponent form");
