@@ -238,3 +238,14 @@ fn regression_a_far_resonance_made_the_no_logarithm_check_quadratic() {
     assert_eq!(c.code, 0, "{}", c.stderr);
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn regression_collocation_on_a_mapped_oscillator_took_half_a_minute() {
+    // Found by the command fuzz: the oscillator in t = 1/x never converges,
+    // and the doubling went on to 769 points (dense complex eigenvalue
+    // problems of 10 s and more); the grid now stops at 384 points.
+    let c = run(&["spectrum", &sample("harmonic_oscillator.ode"), "--subst", "x=1/t", "--boundary", "bound", "--at", "", "--format", "csv"]);
+    assert_eq!(c.code, 0, "{}", c.stderr);
+    let row = c.stdout.lines().nth(1).expect("a row");
+    assert!(row.contains(",false,") && row.contains("kept changing"), "{}", c.stdout);
+}
