@@ -14,10 +14,10 @@ thread_local! {
 }
 
 /// The default budget of one command's exact work, in weighted term
-/// products: about a second of arithmetic (at roughly 80 ns a unit, as
-/// measured on the samples); the Teukolsky sample's record, the largest
-/// derivation of the samples, spends half of it.
-pub const DEFAULT_BUDGET: u64 = 12_000_000;
+/// products: about a second of arithmetic (measured: the Teukolsky
+/// sample's record, the largest derivation of the samples, spends 6·10⁶
+/// units in 0.5 s; big-integer work runs at about 15 ns a unit).
+pub const DEFAULT_BUDGET: u64 = 15_000_000;
 
 /// Runs `f` with a budget of `units` term products for the exact work on
 /// this thread; nested calls keep the outer budget. Returns `f`'s value.
@@ -40,9 +40,12 @@ pub fn with_budget<T>(units: u64, f: impl FnOnce() -> T) -> T {
 }
 
 /// The cost of one product of coefficients of `a` and `b` bits, in
-/// machine-word products (schoolbook), at least 1.
+/// machine-word products (schoolbook, big integers weighed more), at least 1.
 pub(crate) fn words(a: u64, b: u64) -> u64 {
-    a.div_ceil(64).max(1).saturating_mul(b.div_ceil(64).max(1))
+    // A coefficient past the machine-word fast path of `Int` costs an
+    // allocation and a big-integer product: weigh it as four words more.
+    let w = |bits: u64| if bits <= 62 { 1 } else { 4 + bits.div_ceil(64) };
+    w(a).saturating_mul(w(b))
 }
 
 /// Charges `n` term products; false once the open budget is spent (always

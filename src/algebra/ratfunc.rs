@@ -315,6 +315,12 @@ impl Field {
         let mut base = base;
         while k < base.len() {
             while exps[k] > 0 {
+                // A trial division costs about as much as the product it undoes.
+                let (n, d) = (&num, &base[k].poly);
+                let units = (n.len() as u64).saturating_mul(d.len() as u64).saturating_mul(super::budget::words(n.max_bits(), d.max_bits()));
+                if !super::budget::charge(units) {
+                    return Err(super::budget::exceeded());
+                }
                 match num.div_exact(&base[k].poly) {
                     Some(q) => {
                         num = q;
