@@ -814,3 +814,258 @@ fn links_between_equations_never_panic() {
     // The generator reaches both outcomes.
     assert!(ok > 10 && err > 10, "{ok} links, {err} errors");
 }
+
+// ---------------------------------------------------------------- (d) commands with random options
+
+/// A command case taking longer than this is reported as a hang (generous:
+/// a spectrum in a test build takes well under a second).
+const COMMAND_BOUND: Duration = Duration::from_secs(30);
+
+/// The variable and parameter names declared by a program (`var`, `param` lines).
+fn declared(text: &str) -> (String, Vec<String>) {
+    let mut var = "z".to_string();
+    let mut params = Vec::new();
+    for line in text.lines() {
+        if let Some(v) = line.strip_prefix("var ") {
+            var = v.trim().to_string();
+        } else if let Some(p) = line.strip_prefix("param ") {
+            params.extend(p.split(',').map(|s| s.trim().to_string()).filter(|s| !s.is_empty()));
+        }
+    }
+    (var, params)
+}
+
+/// Values for options: ordinary ones most of the time, hostile ones (huge,
+/// tiny, non-numbers, empty) otherwise.
+fn value(rng: &mut Rng) -> String {
+    if rng.chance(80, 100) {
+        let n = rng.range(1, 9);
+        let d = *rng.pick(&[1, 2, 4, 10]);
+        let v = if rng.chance(1, 5) { format!("-{n}/{d}") } else { format!("{}", n as f64 / d as f64) };
+        v.replace("/1", "")
+    } else {
+        rng.pick(&["0", "1e300", "1e-300", "1e308", "1e100000", "0.37-0.09i", "abc", "", "-0", "1e99999", "NaN", "inf"]).to_string()
+    }
+}
+
+/// `name=value,…` for some of `names`.
+fn assignments(rng: &mut Rng, names: &[String]) -> String {
+    let mut parts = Vec::new();
+    for n in names {
+        if rng.chance(9, 10) {
+            parts.push(format!("{n}={}", value(rng)));
+        }
+    }
+    if rng.chance(1, 20) {
+        parts.push(format!("bogus={}", value(rng)));
+    }
+    parts.join(",")
+}
+
+/// One random command line over an equation file with the given names; `dir`
+/// is a scratch directory for outputs.
+fn command_args(rng: &mut Rng, file: &str, var: &str, params: &[String], dir: &Path) -> Vec<String> {
+    let s = |x: &str| x.to_string();
+    let freq = ["omega", "E", "w", "a", "nu"].iter().find(|f| params.iter().any(|p| p == *f)).map(|f| f.to_string());
+    let others: Vec<String> = params.iter().filter(|p| Some(*p) != freq.as_ref()).cloned().collect();
+    let cmd = *rng.pick(&["reduce", "eval", "classify", "recurrence", "spectrum", "scan", "emit", "record"]);
+    let mut a = vec![s(cmd), s(file)];
+    let pick = |rng: &mut Rng, v: &[&str]| rng.pick(v).to_string();
+    if rng.chance(1, 8) {
+        a.push(s("--subst"));
+        a.push(pick(rng, &[&format!("{var}=1/t"), &format!("{var}=2*t+1"), &format!("{var}=a/(1-t)"), &format!("{var}="), "q=1/t"]));
+    } else if rng.chance(1, 12) {
+        a.push(s("--at-infinity"));
+    }
+    if let (Some(f), true) = (&freq, rng.chance(1, 6)) {
+        a.push(s("--frequency"));
+        a.push(f.clone());
+    }
+    match cmd {
+        "eval" => {
+            let mut names = vec![var.to_string()];
+            names.extend(params.iter().cloned());
+            a.push(s("--at"));
+            a.push(assignments(rng, &names));
+        }
+        "classify" => {
+            if rng.chance(1, 2) {
+                a.push(s("--at"));
+                a.push(assignments(rng, params));
+            }
+            if rng.chance(1, 3) {
+                a.push(s("--boundary"));
+                a.push(pick(rng, &["qnm", "bound"]));
+            }
+            a.push(s("--format"));
+            a.push(pick(rng, &["text", "json", "latex"]));
+        }
+        "recurrence" | "emit" | "record" => {
+            if rng.chance(1, 4) {
+                a.push(s("--about"));
+                a.push(pick(rng, &["0", "1", "2*M", "∞", "theta", "xyz"]));
+            }
+            match cmd {
+                "emit" => {
+                    a.push(s("--lang"));
+                    a.push(pick(rng, &["c", "rust"]));
+                    a.push(s("--what"));
+                    a.push(pick(rng, &["q", "potential", "recurrence"]));
+                }
+                "record" => {
+                    a.push(s("-o"));
+                    a.push(dir.join(format!("r{}.deriv", rng.below(4))).to_string_lossy().into_owned());
+                }
+                _ => {}
+            }
+        }
+        "spectrum" | "scan" => {
+            a.push(s("--tol"));
+            a.push(if rng.chance(9, 10) { pick(rng, &["1e-8", "1e-10", "1e-6"]) } else { pick(rng, &["1e300", "0", "NaN", "abc", "1e-20"]) });
+            a.push(s("--overtones"));
+            a.push(if rng.chance(9, 10) { pick(rng, &["0", "0..1", "1"]) } else { pick(rng, &["4294967295", "3..1", "", "0..300", "x"]) });
+            if rng.chance(1, 3) {
+                a.push(s("--guess"));
+                a.push(pick(rng, &["0.37-0.09i", "1", "5-5i", "1e100000", "abc", "-0.5i"]));
+            }
+            if cmd == "spectrum" {
+                if rng.chance(1, 3) {
+                    a.push(s("--boundary"));
+                    a.push(pick(rng, &["qnm", "bound"]));
+                }
+                a.push(s("--method"));
+                a.push(pick(rng, &["auto", "cf", "integrate", "wkb", "eikonal", "collocation"]));
+                a.push(s("--at"));
+                a.push(assignments(rng, &others));
+            } else {
+                let (vary, rest) = if others.is_empty() {
+                    (s("q"), Vec::new())
+                } else {
+                    let i = rng.below(others.len());
+                    (others[i].clone(), others.iter().enumerate().filter(|(j, _)| *j != i).map(|(_, n)| n.clone()).collect())
+                };
+                let vary = if rng.chance(1, 20) { freq.clone().unwrap_or(vary) } else { vary };
+                a.push(s("--vary"));
+                a.push(format!("{vary}={}", pick(rng, &["1:1.2:0.1", "0.5:0.1:0.1", "1:2:0.5:7", "1:1:0", "2:1:0.1", "0.1:0.3:0.1", "a:b:c"])));
+                a.push(s("--at"));
+                a.push(assignments(rng, &rest));
+                if rng.chance(1, 6) {
+                    a.push(s("--plot"));
+                    a.push(pick(rng, &["/nonexistent-dir/p.svg", "plot.txt"]).replace("plot.txt", &dir.join("p.svg").to_string_lossy()));
+                }
+                if rng.chance(1, 2) {
+                    a.push(s("--no-check"));
+                }
+            }
+            a.push(s("--format"));
+            a.push(pick(rng, if cmd == "scan" { &["csv", "json"] } else { &["text", "json", "csv"] }));
+        }
+        _ => {}
+    }
+    a
+}
+
+/// What a command run must never do: hang, panic (both caught by
+/// `run_bounded`), fail internally, or print a non-finite number as a
+/// result.
+fn command_problem(args: &[String], c: &canonode::cli::Captured) -> Option<String> {
+    if c.code == 1 && args[0] != "check" {
+        return Some(format!("exit 1 (internal failure): {}", c.stderr.trim_end()));
+    }
+    if c.code > 2 {
+        return Some(format!("exit {}", c.code));
+    }
+    if c.stderr.contains("internal failure") {
+        return Some(format!("internal failure: {}", c.stderr.trim_end()));
+    }
+    // Results go to stdout; stderr may quote the user's own text ('NaN' is not a number).
+    if let Some(ctx) = common::non_finite(&c.stdout) {
+        return Some(format!("non-finite number printed: …{ctx}…"));
+    }
+    None
+}
+
+/// Runs `cases` random command lines from `seed`; a record written by a
+/// case is then checked with `check`. Returns the cases run.
+fn run_commands(seed: u64, cases: usize) -> usize {
+    let mut rng = Rng::new(seed);
+    let dir = std::env::temp_dir().join(format!("canonode-fuzz-{}-{seed}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("a scratch directory");
+    let samples = samples();
+    let started = Instant::now();
+    let mut failures = Vec::new();
+    let mut codes = [0usize; 3];
+    let mut run = 0;
+    for i in 0..cases {
+        // A sample file, a random well-formed equation, or a mutated sample.
+        let (file, text) = match rng.below(3) {
+            0 => {
+                let (name, text) = rng.pick(&samples).clone();
+                (Path::new(env!("CARGO_MANIFEST_DIR")).join("samples").join(name), text)
+            }
+            1 => {
+                let (case, _) = wellformed(&mut rng);
+                let p = dir.join(format!("eq{}.ode", i % 4));
+                std::fs::write(&p, &case.text).expect("a scratch file");
+                (p, case.text)
+            }
+            _ => {
+                let (name, text) = rng.pick(&samples).clone();
+                let case = mutation_case(&mut rng, &name, &text);
+                let p = dir.join(format!("eq{}.ode", i % 4));
+                std::fs::write(&p, &case.text).expect("a scratch file");
+                (p, case.text)
+            }
+        };
+        let (var, params) = declared(&text);
+        let args = command_args(&mut rng, &file.to_string_lossy(), &var, &params, &dir);
+        let argv: Vec<&str> = args.iter().map(String::as_str).collect();
+        run += 1;
+        let Some(c) = common::run_bounded(&argv, COMMAND_BOUND) else {
+            panic!("HANG (> {COMMAND_BOUND:?}): canonode {args:?}\n{}", excerpt(&text));
+        };
+        codes[(c.code as usize).min(2)] += 1;
+        if let Some(p) = command_problem(&args, &c) {
+            failures.push(format!("{p}\n  canonode {args:?}\n  input {}", excerpt(&text)));
+        }
+        if args[0] == "record" && c.code == 0 {
+            let out = args.iter().position(|x| x == "-o").map(|i| args[i + 1].clone()).expect("-o");
+            run += 1;
+            let c = common::run_bounded(&["check", &out], COMMAND_BOUND).unwrap_or_else(|| panic!("HANG: canonode check {out}"));
+            if c.code != 0 {
+                failures.push(format!("check of a fresh record exited {}: {}\n  after canonode {args:?}", c.code, c.stderr.trim_end()));
+            }
+        }
+    }
+    let _ = std::fs::remove_dir_all(&dir);
+    eprintln!(
+        "fuzz commands: {run} runs in {:.1} s ({:.0} runs/s): {} ok, {} exit 2",
+        started.elapsed().as_secs_f64(),
+        run as f64 / started.elapsed().as_secs_f64().max(1e-9),
+        codes[0],
+        codes[2]
+    );
+    for f in failures.iter().take(10) {
+        eprintln!("FAILURE {f}");
+    }
+    assert!(failures.is_empty(), "{} failing command cases (first ones above)", failures.len());
+    run
+}
+
+#[test]
+fn commands() {
+    run_commands(0xC0FF_EE00_D15E_A5E5, 60);
+}
+
+#[test]
+#[ignore = "a long soak; run with cargo test --release --test fuzz -- --ignored commands_soak"]
+fn commands_soak() {
+    // CANONODE_FUZZ_CASES sets the number of command lines (default 10⁶).
+    let cases = std::env::var("CANONODE_FUZZ_CASES").ok().and_then(|s| s.parse().ok()).unwrap_or(1_000_000usize);
+    let mut done = 0;
+    let mut seed = 1u64;
+    while done < cases {
+        done += run_commands(seed.wrapping_mul(0x9E37_79B9_7F4A_7C15), (cases - done).min(10_000));
+        seed += 1;
+    }
+}

@@ -48,12 +48,15 @@ thread_local! {
 const WORK_BUDGET: u64 = 30_000_000;
 
 /// Charges `n` units of work; false once the budget is spent.
-fn charge(n: u64) -> bool {
-    WORK.with(|w| {
+/// `words` is the cost of one coefficient product in machine-word
+/// products, charged to the command's budget ([`super::budget`]).
+fn charge(n: u64, words: u64) -> bool {
+    let own = WORK.with(|w| {
         let v = w.get().saturating_add(n);
         w.set(v);
         v <= WORK_BUDGET
-    })
+    });
+    own && super::budget::charge(n.saturating_mul(words))
 }
 
 fn gcd_top(a: &Poly, b: &Poly) -> Option<Poly> {
@@ -311,7 +314,10 @@ fn prem(a: &[Poly], b: &[Poly]) -> Option<Vec<Poly>> {
         }
         let rt: u64 = r.iter().map(|c| c.len() as u64).sum();
         let bt: u64 = b.iter().map(|c| c.len() as u64).sum();
-        if !charge(rt * lb.len() as u64 + lr.len() as u64 * bt) {
+        let rbits = r.iter().map(Poly::max_bits).max().unwrap_or(0);
+        let bbits = b.iter().map(Poly::max_bits).max().unwrap_or(0);
+        let words = super::budget::words(rbits, lb.max_bits().max(bbits).max(lr.max_bits()));
+        if !charge(rt * lb.len() as u64 + lr.len() as u64 * bt, words) {
             return None;
         }
         for c in r.iter_mut() {

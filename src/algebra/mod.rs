@@ -3,6 +3,7 @@
 //! denominators. It never sees a floating-point number; everything above it
 //! treats it as the single source of truth.
 
+pub mod budget;
 mod gcd;
 mod int;
 mod poly;

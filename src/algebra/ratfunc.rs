@@ -239,6 +239,10 @@ impl Field {
         if a.len().saturating_mul(b.len()) > self.limits.max_work {
             return Err(limit(format!("a product of polynomials with {} and {} terms is too large", a.len(), b.len())));
         }
+        let words = super::budget::words(a.max_bits(), b.max_bits());
+        if !super::budget::charge((a.len() as u64).saturating_mul(b.len() as u64).saturating_mul(words)) {
+            return Err(super::budget::exceeded());
+        }
         let p = a.mul(b);
         self.check_poly(&p)?;
         Ok(p)
@@ -269,7 +273,13 @@ impl Field {
     }
 
     fn pgcd(&self, a: &Poly, b: &Poly) -> Result<Poly> {
-        gcd(a, b).ok_or_else(|| limit("a polynomial gcd grew beyond the exponent range"))
+        gcd(a, b).ok_or_else(|| {
+            if super::budget::charge(0) {
+                limit("a polynomial gcd grew beyond the exponent range")
+            } else {
+                super::budget::exceeded()
+            }
+        })
     }
 
     /// Rewrites two factor lists over one pairwise coprime base.
@@ -305,6 +315,12 @@ impl Field {
         let mut base = base;
         while k < base.len() {
             while exps[k] > 0 {
+                // A trial division costs about as much as the product it undoes.
+                let (n, d) = (&num, &base[k].poly);
+                let units = (n.len() as u64).saturating_mul(d.len() as u64).saturating_mul(super::budget::words(n.max_bits(), d.max_bits()));
+                if !super::budget::charge(units) {
+                    return Err(super::budget::exceeded());
+                }
                 match num.div_exact(&base[k].poly) {
                     Some(q) => {
                         num = q;

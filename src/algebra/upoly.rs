@@ -179,9 +179,11 @@ impl UPoly {
         }
         let d0inv = k.inv(&d0)?;
         let mut out: Vec<RatFunc> = Vec::with_capacity(n);
+        // Only the coefficients of d up to its degree contribute.
+        let deg = d.coeffs.len().saturating_sub(1);
         for j in 0..n {
             let mut s = self.coeff(j);
-            for (i, o) in out.iter().enumerate() {
+            for (i, o) in out.iter().enumerate().skip(j.saturating_sub(deg)) {
                 let dj = d.coeff(j - i);
                 if !dj.is_zero() {
                     s = k.sub(&s, &k.mul(o, &dj)?)?;

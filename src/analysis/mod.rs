@@ -186,6 +186,10 @@ fn integer_of(root: &Option<UPoly>) -> Option<i64> {
     }
 }
 
+/// The largest integer exponent difference whose no-logarithm condition is
+/// checked (the check's work grows with its square).
+pub const MAX_RESONANCE: u64 = 200;
+
 /// Frobenius check at a resonance: with Q = Σ a_j w^j (j ≥ −2) and the
 /// smaller exponent ρ₁, the recursion c_m [(ρ₁+m)(ρ₁+m−1) + a₋₂] = −Σ a₋₂₊ᵢ c_{m−i}
 /// is consistent at m = n (the integer difference) iff its right side vanishes.
@@ -364,6 +368,12 @@ fn finite_point(k: &Field, p: &RatFunc, q: &RatFunc, f: &Poly, order: u32) -> Re
             integer_difference = integer_of(&root);
             if let Some(n) = integer_difference {
                 apparent = match (&ext, idx) {
+                    // The check costs O(n²) field operations: a resonance
+                    // beyond the bound is reported, not checked.
+                    _ if n.unsigned_abs() > MAX_RESONANCE => Apparent::Unchecked(format!(
+                        "the integer exponent difference {} is beyond the checked range (at most {MAX_RESONANCE})",
+                        n.unsigned_abs()
+                    )),
                     (None, Some(i)) => {
                         let (_, c) = laurent_at(k, q, i, n.unsigned_abs() as usize + 1)?.expect("linear factor");
                         apparent_check(k, &c, n)?

@@ -19,11 +19,12 @@ impl Values {
     pub fn new(point: Vec<GRat>) -> Values {
         Values { point }
     }
-    /// A rational function free of the variable, evaluated; `None` at a pole.
+    /// A rational function free of the variable, evaluated; `None` at a
+    /// pole or where the value is beyond double precision.
     pub fn ratfunc(&self, r: &RatFunc) -> Option<Complex64> {
         let v = r.eval(&self.point)?;
         let (re, im) = v.to_f64();
-        Some(Complex64::new(re, im))
+        (re.is_finite() && im.is_finite()).then_some(Complex64::new(re, im))
     }
     /// A polynomial in θ with coefficients free of the variable, at θ.
     pub fn upoly(&self, u: &UPoly, theta: Complex64) -> Option<Complex64> {
@@ -31,7 +32,7 @@ impl Values {
         for c in u.coeffs.iter().rev() {
             acc = acc * theta + self.ratfunc(c)?;
         }
-        Some(acc)
+        (acc.re.is_finite() && acc.im.is_finite()).then_some(acc)
     }
     /// The roots of a polynomial in the variable at these parameter values.
     pub fn roots(&self, f: &Poly) -> Option<Vec<Complex64>> {
@@ -49,7 +50,8 @@ impl Values {
             Some(r) => self.upoly(r, theta)?,
             None => self.upoly(&e.radicand, theta)?.sqrt(),
         };
-        Some(c + 0.5 * e.sign as f64 * s)
+        let v = c + 0.5 * e.sign as f64 * s;
+        (v.re.is_finite() && v.im.is_finite()).then_some(v)
     }
 }
 

@@ -70,7 +70,10 @@ fn check_one(file: &str) -> Result<u8, (String, u8)> {
         against_record(&e)
     })?;
     let opts = recorded.options().map_err(|e| against_record(&e))?;
-    let recomputed = crate::record::derive_with(&source.text, rel, &opts, &recorded.recurrence_request()).map_err(|e| match &e.origin {
+    let recomputed = crate::algebra::budget::with_budget(crate::algebra::budget::DEFAULT_BUDGET, || {
+        crate::record::derive_with(&source.text, rel, &opts, &recorded.recurrence_request())
+    })
+    .map_err(|e| match &e.origin {
         // A recorded option's value that no longer works: point into the record's line.
         Origin::Option(o) => {
             let key = format!("option.{}", o.trim_start_matches('-'));

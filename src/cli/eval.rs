@@ -63,5 +63,12 @@ fn compute(a: &EvalArgs, src: &super::Source) -> Result<(f64, f64), Failure> {
             .at(crate::syntax::Span::new(0, a.at.len()))
             .in_option("--at")
     })?;
-    Ok(q.to_f64())
+    let (re, im) = q.to_f64();
+    if !(re.is_finite() && im.is_finite()) {
+        return Err(Error::new(ErrorKind::Limit, "Q at this point is beyond double precision (its magnitude exceeds about 1.8e308)")
+            .at(crate::syntax::Span::new(0, a.at.len()))
+            .in_option("--at")
+            .into());
+    }
+    Ok((re, im))
 }

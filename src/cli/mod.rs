@@ -8,6 +8,7 @@ pub mod diagnostic;
 mod emit;
 mod eval;
 mod mode_file;
+mod options;
 mod record;
 mod recurrence;
 mod reduce;
@@ -293,7 +294,12 @@ pub(crate) fn run_command(input: &InputArgs, extra: &[(String, String)], compute
         Ok(s) => s,
         Err(f) => return fail(&f, None),
     };
-    match compute(&src).and_then(|text| emit(&text)) {
+    // The exact work of one command is bounded (a limit error, not minutes of arithmetic).
+    let computed = crate::algebra::budget::with_budget(crate::algebra::budget::DEFAULT_BUDGET, || {
+        let r = compute(&src);
+        r
+    });
+    match computed.and_then(|text| emit(&text)) {
         Ok(()) => 0,
         Err(f) => fail(&f, Some(&src)),
     }

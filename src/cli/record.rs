@@ -54,7 +54,17 @@ pub(crate) fn run(a: &RecordArgs) -> u8 {
         None => src.name.replace(std::path::MAIN_SEPARATOR, "/"),
     };
     let req = crate::record::RecurrenceRequest { about: a.about.clone(), series: a.series.clone(), exponents: a.exponents.clone() };
-    let rec = match crate::record::derive_with(&src.text, &path, &a.input.options(), &req) {
+    if let Some(out) = &a.output {
+        // Checked before the derivation, so that no work is lost to a bad path.
+        if let Err(f) = super::options::writable(out, "--output") {
+            return fail(&f, None);
+        }
+    }
+    let derived = crate::algebra::budget::with_budget(crate::algebra::budget::DEFAULT_BUDGET, || {
+        let r = crate::record::derive_with(&src.text, &path, &a.input.options(), &req);
+        r
+    });
+    let rec = match derived {
         Ok(r) => r,
         Err(e) => return fail(&e.into(), Some(&src)),
     };

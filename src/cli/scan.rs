@@ -3,9 +3,9 @@
 
 use super::values::parse_assignments;
 use super::{run_command, Failure, InputArgs};
-use crate::algebra::{GRat, Rat};
+use crate::algebra::GRat;
 use crate::error::{Error, ErrorKind};
-use crate::solve::scan::{grid, plot, scan, shard, single_point, PointSolver};
+use crate::solve::scan::{plot, scan, shard, single_point, PointSolver};
 use crate::solve::spectrum::SpectrumOptions;
 use clap::{Args, ValueEnum};
 use std::io::IsTerminal;
@@ -68,13 +68,20 @@ fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
 }
 
 fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
-    // Checked before any work, so that a long scan is never lost to a bad file name.
+    // Checked before any work (the same rules as in `spectrum`), so that a
+    // long scan is never lost to a bad option or file name.
     if let Some(path) = &a.plot {
         let lower = path.to_ascii_lowercase();
         if !(lower.ends_with(".svg") || lower.ends_with(".png")) {
             return Err(usage("the plot is written as SVG or PNG: give FILE.svg or FILE.png", "--plot", path.len()));
         }
+        super::options::writable(path, "--plot")?;
     }
+    let tol = super::options::tolerance(a.tol)?;
+    let (o0, o1) = super::options::overtones(&a.overtones)?;
+    let index = super::options::angular_index(a.couple.angular_index)?;
+    let guess = super::values::parse_seed(a.guess.as_deref(), "--guess")?;
+    let angular_guess = super::values::parse_seed(a.couple.angular_guess.as_deref(), "--angular-guess")?;
     let red = a.input.reduce(src)?;
     let names = red.field.names().to_vec();
     let fname = a.input.frequency_name().or_else(|| ["omega", "ω", "w"].iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
@@ -82,19 +89,8 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     let Some(freq) = names.iter().skip(1).position(|n| *n == fname).map(|i| i + 1) else {
         return Err(Error::new(ErrorKind::Usage, format!("'{fname}' is not a parameter")).in_option("--frequency").into());
     };
-    let Some((vname, spec)) = a.vary.split_once('=') else { return Err(usage("expected NAME=A:B:STEP", "--vary", a.vary.len())) };
-    let vname = vname.trim();
-    let Some(vary) = names.iter().skip(1).position(|n| n == vname).map(|i| i + 1) else {
-        return Err(usage(format!("'{vname}' is not a parameter of the equation"), "--vary", a.vary.len()));
-    };
-    let parts: Vec<Option<Rat>> = spec
-        .split(':')
-        .map(|t| Rat::parse_decimal(t.trim()).or_else(|| Rat::parse_decimal(t.trim().trim_start_matches('-')).map(|r| r.neg())))
-        .collect();
-    let (Some(Some(x0)), Some(Some(x1)), Some(Some(dx))) = (parts.first(), parts.get(1), parts.get(2)) else {
-        return Err(usage("expected NAME=A:B:STEP with exact decimals", "--vary", a.vary.len()));
-    };
-    let Some(g) = grid(x0, x1, dx) else { return Err(usage("the grid is empty, too long or has a non-positive step", "--vary", a.vary.len())) };
+    let (vname, vary, g) = super::options::vary(&a.vary, &names, freq)?;
+    let vname = vname.as_str();
     let mut point = vec![GRat::zero(); names.len()];
     let mut given = vec![false; names.len()];
     given[0] = true;
@@ -124,14 +120,6 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     if !missing.is_empty() {
         return Err(usage(format!("no value given for {}", missing.join(", ")), "--at", a.at.len()));
     }
-    let overtones = match a.overtones.split_once("..") {
-        Some((x, y)) => (x.trim().parse().ok(), y.trim().parse().ok()),
-        None => (a.overtones.trim().parse().ok(), a.overtones.trim().parse().ok()),
-    };
-    let (Some(o0), Some(o1)) = overtones else { return Err(usage("expected an overtone number or A..B", "--overtones", a.overtones.len())) };
-    if o0 > o1 || o1 - o0 > 50 {
-        return Err(usage("expected an overtone range A..B with A ≤ B", "--overtones", a.overtones.len()));
-    }
     let range = match &a.shard {
         None => 0..g.len(),
         Some(s) => {
@@ -142,15 +130,13 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
             }
         }
     };
-    let guess = super::values::parse_seed(a.guess.as_deref(), "--guess")?;
-    let angular_guess = super::values::parse_seed(a.couple.angular_guess.as_deref(), "--angular-guess")?;
-    let base = SpectrumOptions { freq, values: point, overtones: (o0, o1), tol: a.tol, guess, seeds: Vec::new() };
+    let base = SpectrumOptions { freq, values: point, overtones: (o0, o1), tol, guess, seeds: Vec::new() };
     // A coupled scan sets its angular problem up at the first point here, so
     // that a bad angular equation is reported against its own text before
     // any work starts.
     if let Some((asrc, ared, _)) = &coupled {
         let mut first = base.clone();
-        first.values[vary] = GRat::real(g[range.start.min(g.len() - 1)].clone());
+        first.values[vary] = GRat::real(g[range.start].clone());
         crate::solve::coupled::try_coupling(
             &red.field,
             ared,
@@ -171,7 +157,6 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     };
     let opts = a.input.options();
     let angular_text = coupled.as_ref().map(|c| c.0.text.clone());
-    let index = a.couple.angular_index;
     let make = || -> crate::error::Result<PointSolver<'_>> {
         let red = crate::ode::reduce(&src.input(), &opts)?;
         match &angular_text {

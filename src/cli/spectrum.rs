@@ -94,7 +94,7 @@ pub(crate) struct SpectrumArgs {
     /// Values of every parameter except the frequency, e.g. 'M=1,l=2,s=2'.
     #[arg(long = "at", value_name = "NAME=VALUE,...")]
     at: String,
-    /// Overtones, a range 'A..B' (inclusive) or one number.
+    /// Overtones, a range 'A..B' (inclusive) or one number (numbers up to 200, at most 51 in one run).
     #[arg(long = "overtones", value_name = "A..B", default_value = "0")]
     overtones: String,
     /// The method.
@@ -136,7 +136,7 @@ pub(crate) struct CoupleArgs {
     /// A link between the equations, 'NAME = EXPR' (repeatable), e.g. 'lam = A + c^2 - 2*a*m*omega' and 'c = a*omega'.
     #[arg(long = "link", value_name = "NAME = EXPR", requires = "couple")]
     pub(crate) link: Vec<String>,
-    /// Which angular eigenvalue: 0 is the lowest (for the spin-weighted spheroidal equation l − max(|m|, |s|)).
+    /// Which angular eigenvalue: 0 is the lowest (for the spin-weighted spheroidal equation l − max(|m|, |s|)); at most 100.
     #[arg(long = "angular-index", value_name = "J", default_value_t = 0, requires = "couple")]
     pub(crate) angular_index: usize,
     /// A first value of the angular eigenvalue (default: from the terminating series where the linked parameters vanish).
@@ -176,20 +176,13 @@ pub(crate) fn run(a: &SpectrumArgs) -> u8 {
     run_command(&a.input, &extra, |src| compute(a, src))
 }
 
-fn parse_overtones(t: &str) -> Option<(u32, u32)> {
-    match t.split_once("..") {
-        Some((x, y)) => {
-            let (x, y) = (x.trim().parse().ok()?, y.trim().parse().ok()?);
-            (x <= y && y - x <= 200).then_some((x, y))
-        }
-        None => t.trim().parse().ok().map(|x| (x, x)),
-    }
-}
-
 fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
-    if !(a.tol > 0.0 && a.tol < 1e-2) {
-        return Err(Error::new(ErrorKind::Usage, format!("--tol {} is not a sensible relative tolerance (between 0 and 1e-2)", a.tol)).into());
-    }
+    // Options are checked before any work (the same rules as in `scan`).
+    super::options::tolerance(a.tol)?;
+    let overtones = super::options::overtones(&a.overtones)?;
+    super::options::angular_index(a.couple.angular_index)?;
+    let guess = super::values::parse_seed(a.guess.as_deref(), "--guess")?;
+    super::values::parse_seed(a.couple.angular_guess.as_deref(), "--angular-guess")?;
     if let Some(p) = &a.mode_functions {
         super::mode_file::check_path(p)?;
     }
@@ -246,10 +239,6 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     if !missing.is_empty() {
         return Err(usage(format!("no value given for {}", missing.join(", ")), "--at", a.at.len()));
     }
-    let Some(overtones) = parse_overtones(&a.overtones) else {
-        return Err(usage("expected an overtone number or a range such as 0..7", "--overtones", a.overtones.len()));
-    };
-    let guess = super::values::parse_seed(a.guess.as_deref(), "--guess")?;
     if let Some((asrc, ared)) = angular {
         let opts = SpectrumOptions { freq, values: point.clone(), overtones, tol: a.tol, guess, seeds: Vec::new() };
         return coupled(a, src, &red, opts, &fname, &values, &links, asrc, ared);
@@ -539,6 +528,15 @@ fn classic_qnm(
     Ok(render(a, fname, src, &red.var, &setup, &modes, &checks, &wkb, &[]))
 }
 
+/// A JSON number, or null when it is not finite.
+fn finite_or_null(x: f64) -> serde_json::Value {
+    if x.is_finite() {
+        serde_json::json!(x)
+    } else {
+        serde_json::Value::Null
+    }
+}
+
 /// The report of quasinormal modes in the chosen format; `coupled` holds
 /// the angular evidence of each mode of a coupled solve (empty otherwise).
 #[allow(clippy::too_many_arguments)]
@@ -556,6 +554,8 @@ fn render(
     let check = |i: usize| checks.get(i).and_then(|c| c.as_ref());
     let method = if modes.iter().any(|m| m.method == "terminating") {
         "exact termination of the series (the recurrence has two terms)"
+    } else if !modes.is_empty() && modes.iter().all(|m| m.method == "integrate") {
+        "direct integration (Frobenius series at the horizon, asymptotic series at the far end, Taylor continuation), seeded by the continued fraction's estimates"
     } else {
         "continued fraction (Leaver 1985; tail after Nollert 1993)"
     };
@@ -575,8 +575,8 @@ fn render(
                         "evidence": {
                             "inversion": r.inversion,
                             "depth": r.depth,
-                            "change_on_doubling": r.depth_change,
-                            "residual": r.residual,
+                            "change_on_doubling": finite_or_null(r.depth_change),
+                            "residual": finite_or_null(r.residual),
                             "iterations": r.iterations,
                             "seed": [m.seed.0.re, m.seed.0.im],
                             "seed_from": m.seed.1,
@@ -621,16 +621,24 @@ fn render(
             format!("{}\n", serde_json::to_string_pretty(&v).unwrap_or_default())
         }
         SpecFormat::Csv => {
-            let mut o = String::from("n,re,im,converged,method,depth,change_on_doubling,residual\n");
+            let mut o = String::from("n,re,im,converged,method,depth,change_on_doubling,residual,reason\n");
+            let num = |x: f64| if x.is_finite() { format!("{x:.3e}") } else { String::new() };
             for m in modes {
                 let r = &m.root;
+                // Direct integration has no depth: its columns stay empty.
+                let depth = if m.method == "integrate" { String::new() } else { r.depth.to_string() };
                 if r.converged {
                     o.push_str(&format!(
-                        "{},{:.17e},{:.17e},true,cf,{},{:.3e},{:.3e}\n",
-                        m.n, r.omega.re, r.omega.im, r.depth, r.depth_change, r.residual
+                        "{},{:.17e},{:.17e},true,{},{depth},{},{},\n",
+                        m.n,
+                        r.omega.re,
+                        r.omega.im,
+                        m.method,
+                        num(r.depth_change),
+                        num(r.residual)
                     ));
                 } else {
-                    o.push_str(&format!("{},,,false,cf,{},,\n", m.n, r.depth));
+                    o.push_str(&format!("{},,,false,{},{depth},,,\"{}\"\n", m.n, m.method, r.stop.text().replace('"', "'")));
                 }
             }
             o
@@ -653,6 +661,8 @@ fn render(
                         fmt_complex(r.omega.re, r.omega.im),
                         r.residual
                     ));
+                } else if r.converged && m.method == "integrate" {
+                    o.push_str(&format!("  {:<2} {:<44} [integrate] residual {:.1e}\n", m.n, fmt_complex(r.omega.re, r.omega.im), r.residual));
                 } else if r.converged {
                     o.push_str(&format!(
                         "  {:<2} {:<44} [{}] depth {}, change on doubling {:.1e}, residual {:.1e}\n",
@@ -834,16 +844,17 @@ fn bound_states(
             format!("{}\n", serde_json::to_string_pretty(&serde_json::json!({"frequency": fname, "boundary": "bound", "domain": dom_text, "continuum": if threshold.is_finite() { serde_json::json!(threshold) } else { serde_json::Value::Null }, "method": "Chebyshev collocation (Boyd 2001)", "modes": ms})).unwrap_or_default())
         }
         SpecFormat::Csv => {
-            let mut o = String::from("n,re,im,converged,method,points,change_on_doubling,check_re,check_im,agreement\n");
+            let mut o = String::from("n,re,im,converged,method,points,change_on_doubling,check_re,check_im,agreement,reason\n");
             for (s, c) in rows.iter().zip(&checks) {
                 let check = match c {
                     Some(BoundCheck::Agrees(r)) => format!("{:.17e},{:.17e},{:.3e}", r.omega.re, r.omega.im, agreement(r, s)),
                     _ => ",,".to_string(),
                 };
                 if s.converged {
-                    o.push_str(&format!("{},{:.17e},{:.17e},true,collocation,{},{:.3e},{check}\n", s.n, s.value.re, s.value.im, s.points, s.change));
+                    o.push_str(&format!("{},{:.17e},{:.17e},true,collocation,{},{:.3e},{check},\n", s.n, s.value.re, s.value.im, s.points, s.change));
                 } else {
-                    o.push_str(&format!("{},,,false,collocation,{},,{check}\n", s.n, s.points));
+                    let why = s.reason.as_deref().unwrap_or_default().replace('"', "'");
+                    o.push_str(&format!("{},,,false,collocation,{},,{check},\"{why}\"\n", s.n, s.points));
                 }
             }
             o

@@ -9,13 +9,38 @@ use crate::syntax::Span;
 /// exactly by [`parse_complex`] and rounded once; `None` when not given.
 pub(crate) fn parse_seed(text: Option<&str>, option: &str) -> Result<Option<num_complex::Complex64>> {
     let Some(t) = text else { return Ok(None) };
-    let v = parse_complex(t)
-        .ok_or_else(|| Error::new(ErrorKind::Usage, format!("'{t}' is not a complex number")).at(Span::new(0, t.len().max(1))).in_option(option))?;
+    let v = read_value(t).map_err(|m| Error::new(ErrorKind::Usage, m).at(Span::new(0, t.len().max(1))).in_option(option))?;
     let (re, im) = v.to_f64();
     Ok(Some(num_complex::Complex64::new(re, im)))
 }
 
-/// Parses `a`, `bi`, `a+bi`, `a-bi` (also with `I`, `j` as engineers write it, `*i`, or a bare `i`) exactly.
+/// The largest magnitude of a value given on the command line: double
+/// precision with room for a few products.
+const MAX_MAGNITUDE: f64 = 1e300;
+/// The smallest magnitude of a nonzero value given on the command line.
+const MIN_MAGNITUDE: f64 = 1e-300;
+/// The longest value given on the command line, in characters.
+const MAX_VALUE_CHARS: usize = 400;
+
+/// Reads one complex value of an option exactly, bounded in length and
+/// magnitude (so that exact arithmetic on it stays cheap and its double is
+/// finite); the error message says what is wrong.
+pub(crate) fn read_value(text: &str) -> std::result::Result<GRat, String> {
+    let t = text.trim();
+    if t.chars().count() > MAX_VALUE_CHARS {
+        return Err(format!("the value is longer than {MAX_VALUE_CHARS} characters"));
+    }
+    let v = parse_complex(t).ok_or_else(|| format!("'{t}' is not a number (write e.g. 3.1, 2e-3, 13/4, 0.37-0.089i)"))?;
+    for part in [&v.re, &v.im] {
+        let x = part.to_f64().abs();
+        if !part.is_zero() && !(MIN_MAGNITUDE..=MAX_MAGNITUDE).contains(&x) {
+            return Err(format!("'{t}' is out of range: values are 0 or between 1e-300 and 1e300 in magnitude"));
+        }
+    }
+    Ok(v)
+}
+
+/// Parses `a`, `bi`, `a+bi`, `a-bi` (also with `I`, `j` as engineers write it, `*i`, or a bare `i`) exactly; parts may be fractions (`13/4`).
 pub(crate) fn parse_complex(text: &str) -> Option<GRat> {
     let t: String = text.chars().filter(|c| !c.is_whitespace()).collect();
     if t.is_empty() {
@@ -77,11 +102,7 @@ pub(crate) fn parse_assignments(text: &str, option: &str) -> Result<Vec<(String,
         let name = piece[..eq].trim().to_string();
         let value = &piece[eq + 1..];
         let vspan = Span::new(span.start + eq + 1, span.end);
-        let Some(v) = parse_complex(value) else {
-            return Err(Error::new(ErrorKind::Usage, format!("'{}' is not a number (write e.g. 3.1, 2e-3, 13/4, 0.37-0.089i)", value.trim()))
-                .at(vspan)
-                .in_option(option));
-        };
+        let v = read_value(value).map_err(|m| Error::new(ErrorKind::Usage, m).at(vspan).in_option(option))?;
         if out.iter().any(|(n, _, _)| *n == name) {
             return Err(Error::new(ErrorKind::Usage, format!("'{name}' is given twice")).at(span).in_option(option));
         }
@@ -96,7 +117,8 @@ pub(crate) fn fmt17(x: f64) -> String {
         return "0".to_string();
     }
     if !x.is_finite() {
-        return format!("{x}");
+        // Never printed as a number: callers report such values as a status.
+        return "(not finite)".to_string();
     }
     let s = format!("{:.16e}", x);
     let (mant, exp) = s.split_once('e').expect("exponent form");

@@ -376,12 +376,14 @@ pub(crate) fn param_text(k: &Field, p: &Param) -> String {
 }
 
 /// Numeric value of a canonical parameter (principal branch for radicals).
+/// `None` where it is not finite in double precision.
 pub(crate) fn param_value(vals: &crate::analysis::numeric::Values, p: &Param) -> Option<num_complex::Complex64> {
-    match p {
+    let v = match p {
         Param::Exact(r) => vals.ratfunc(r),
         Param::Radical(c, r) => Some(vals.ratfunc(c)? * vals.ratfunc(r)?.sqrt()),
         Param::Root(e) => vals.exponent(e, num_complex::Complex64::new(0.0, 0.0)),
-    }
+    }?;
+    (v.re.is_finite() && v.im.is_finite()).then_some(v)
 }
 
 /// The canonical form as text lines.

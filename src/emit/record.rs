@@ -110,8 +110,11 @@ impl Record {
 
     fn push(&mut self, key: impl Into<String>, value: impl Into<String>) -> Result<()> {
         let (key, value) = (key.into(), value.into());
-        if value.contains('\n') || value.contains('\r') {
-            return Err(Error::new(ErrorKind::Internal, format!("the record field {key} would span more than one line")));
+        // A record is one field a line: text from the user (the source
+        // path, option values) with a control character is refused, never
+        // copied raw.
+        if value.chars().any(|c| c.is_control() || c == '\u{2028}' || c == '\u{2029}') {
+            return Err(Error::new(ErrorKind::Usage, format!("the record field {key} would contain a control character (a line break?): {value:?}")));
         }
         self.entries.push(Entry { key, value, span: None });
         Ok(())

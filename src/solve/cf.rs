@@ -452,6 +452,13 @@ pub fn find_root_by(
             let change = (root - p).norm();
             if change <= tol * root.norm() {
                 let res = f_at(root, depth).map(|(v, scale)| if scale.norm() > 0.0 { (v / scale).norm() } else { v.norm() }).unwrap_or(f64::NAN);
+                if !(root.re.is_finite() && root.im.is_finite() && res.is_finite()) {
+                    let mut r = fail(StopReason::Rejected("the root or its residual is not finite in double precision".into()));
+                    r.omega = root;
+                    r.depth = depth;
+                    r.iterations = iters;
+                    return r;
+                }
                 return CfRoot {
                     omega: root,
                     converged: true,

@@ -1,0 +1,137 @@
+//! Validation of the options several subcommands share, done once before
+//! any work starts: the same rules and messages in every subcommand, each
+//! error naming its option (and pointing into its text where it can).
+
+use super::Failure;
+use crate::algebra::Rat;
+use crate::error::{Error, ErrorKind};
+use crate::syntax::Span;
+
+/// The largest overtone (or level) number: the n-th inversion of the
+/// continued fraction costs work growing with n, and no published table
+/// goes further.
+pub(crate) const MAX_OVERTONE: u32 = 200;
+
+/// The most overtones one run may ask for (A..B with B − A below this).
+pub(crate) const MAX_OVERTONE_COUNT: u32 = 51;
+
+/// The largest angular eigenvalue index (`--angular-index`): the angular
+/// continued fraction's inversion grows with the index.
+pub(crate) const MAX_ANGULAR_INDEX: usize = 100;
+
+/// The most points of a `--vary` grid.
+pub(crate) const MAX_GRID_POINTS: usize = 100_000;
+
+fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
+    Error::new(ErrorKind::Usage, msg).at(Span::new(0, len.max(1))).in_option(option).into()
+}
+
+/// `--tol`: a relative tolerance strictly between 0 and 10⁻².
+pub(crate) fn tolerance(tol: f64) -> Result<f64, Failure> {
+    if tol.is_finite() && tol > 0.0 && tol < 1e-2 {
+        Ok(tol)
+    } else {
+        Err(Error::new(ErrorKind::Usage, format!("{tol:e} is not a sensible relative tolerance (between 0 and 1e-2)")).in_option("--tol").into())
+    }
+}
+
+/// `--overtones`: one number or an inclusive range `A..B` with
+/// A ≤ B ≤ [`MAX_OVERTONE`] and at most [`MAX_OVERTONE_COUNT`] overtones.
+pub(crate) fn overtones(text: &str) -> Result<(u32, u32), Failure> {
+    let bad = |msg: &str| usage(msg, "--overtones", text.len());
+    let num = |t: &str| -> Result<u32, Failure> {
+        let t = t.trim();
+        if t.is_empty() || !t.bytes().all(|b| b.is_ascii_digit()) {
+            return Err(bad("expected an overtone number or a range such as 0..7"));
+        }
+        match t.parse::<u32>() {
+            Ok(n) if n <= MAX_OVERTONE => Ok(n),
+            _ => Err(bad(&format!("overtone numbers go up to {MAX_OVERTONE}"))),
+        }
+    };
+    let (a, b) = match text.split_once("..") {
+        Some((x, y)) => (num(x)?, num(y)?),
+        None => {
+            let n = num(text)?;
+            (n, n)
+        }
+    };
+    if a > b {
+        return Err(bad("expected a range A..B with A ≤ B"));
+    }
+    if b - a >= MAX_OVERTONE_COUNT {
+        return Err(bad(&format!("at most {MAX_OVERTONE_COUNT} overtones in one run")));
+    }
+    Ok((a, b))
+}
+
+/// `--angular-index`: at most [`MAX_ANGULAR_INDEX`].
+pub(crate) fn angular_index(j: usize) -> Result<usize, Failure> {
+    if j <= MAX_ANGULAR_INDEX {
+        Ok(j)
+    } else {
+        Err(usage(format!("angular indices go up to {MAX_ANGULAR_INDEX}"), "--angular-index", j.to_string().len()))
+    }
+}
+
+/// `--vary NAME=A:B:STEP`: exactly three exact decimals with STEP > 0 and
+/// A ≤ B, at most [`MAX_GRID_POINTS`] points; NAME must be a parameter of
+/// the equation (`names`, index 0 the variable) other than the frequency
+/// (index `freq`). Returns the name, its field index and the grid.
+pub(crate) fn vary(text: &str, names: &[String], freq: usize) -> Result<(String, usize, Vec<Rat>), Failure> {
+    let bad = |msg: &str| usage(msg, "--vary", text.len());
+    let Some((vname, spec)) = text.split_once('=') else { return Err(bad("expected NAME=A:B:STEP")) };
+    let vname = vname.trim();
+    let Some(vary) = names.iter().skip(1).position(|n| n == vname).map(|i| i + 1) else {
+        return Err(bad(&format!("'{vname}' is not a parameter of the equation")));
+    };
+    if vary == freq {
+        return Err(bad(&format!("'{vname}' is the frequency being solved for; vary another parameter")));
+    }
+    let fields: Vec<&str> = spec.split(':').collect();
+    if fields.len() != 3 {
+        return Err(bad(&format!("expected NAME=A:B:STEP (three fields), found {} field{}", fields.len(), if fields.len() == 1 { "" } else { "s" })));
+    }
+    let mut parts = Vec::new();
+    for f in fields {
+        match super::values::read_value(f) {
+            Ok(v) if v.im.is_zero() => parts.push(v.re),
+            Ok(_) => return Err(bad(&format!("'{}' is not real", f.trim()))),
+            Err(m) => return Err(bad(&m)),
+        }
+    }
+    let (x0, x1, dx) = (&parts[0], &parts[1], &parts[2]);
+    if dx.is_zero() || dx.numer().is_negative() {
+        return Err(bad("the step must be positive"));
+    }
+    if x0.sub(x1).numer().signum() > 0 {
+        return Err(bad("the grid is empty: its start is above its end"));
+    }
+    // The count is bounded before the grid is built.
+    let count = x1.sub(x0).div(dx).map(|q| q.to_f64()).unwrap_or(f64::INFINITY);
+    if !(count < MAX_GRID_POINTS as f64) {
+        return Err(bad(&format!("the grid has more than {MAX_GRID_POINTS} points")));
+    }
+    let g = crate::solve::scan::grid(x0, x1, dx).ok_or_else(|| bad(&format!("the grid has more than {MAX_GRID_POINTS} points")))?;
+    Ok((vname.to_string(), vary, g))
+}
+
+/// An output path (`--plot`, `-o`) checked writable before the work starts:
+/// an existing file is opened for writing (not truncated), a new one is
+/// created and removed again.
+pub(crate) fn writable(path: &str, option: &str) -> Result<(), Failure> {
+    let p = std::path::Path::new(path);
+    let fail = |e: std::io::Error| Failure::Plain(format!("{option}: error: cannot write {path:?}: {e}"), 2);
+    if path.is_empty() {
+        return Err(Failure::Plain(format!("{option}: error: the path is empty"), 2));
+    }
+    if p.is_dir() {
+        return Err(Failure::Plain(format!("{option}: error: {path:?} is a directory"), 2));
+    }
+    let existed = p.exists();
+    std::fs::OpenOptions::new().write(true).create(true).truncate(false).open(p).map_err(fail)?;
+    if !existed {
+        let _ = std::fs::remove_file(p);
+    }
+    Ok(())
+}
