@@ -314,3 +314,22 @@ fn kerr_radial_recurrence_about_the_adjoined_horizon_is_three_term() {
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("series variable is fixed"));
 }
+
+#[test]
+fn horizon_choices_at_roots_of_higher_degree_carry_their_own_name() {
+    // The horizons of Schwarzschild–de Sitter (roots of a cubic, Kottler 1918)
+    // and of Kerr (r± roots of Δ = r² − 2Mr + a², Teukolsky 1973): the
+    // ingoing choice is made at θ, never reported "at ∞"; infinity keeps its
+    // own (outgoing) choice where it is irregular.
+    for (sample, inf_choice) in [("schwarzschild_de_sitter_scalar", false), ("teukolsky_radial", true)] {
+        let out = Command::new(env!("CARGO_BIN_EXE_canonode"))
+            .args(["classify", &format!("samples/{sample}.ode"), "--boundary", "qnm"])
+            .current_dir(env!("CARGO_MANIFEST_DIR"))
+            .output()
+            .unwrap();
+        let text = String::from_utf8_lossy(&out.stdout);
+        assert!(text.contains("at θ: the ingoing exponent"), "{sample}: {text}");
+        assert!(!text.contains("at ∞: the ingoing"), "{sample}: {text}");
+        assert_eq!(text.contains("at ∞: the outgoing branch"), inf_choice, "{sample}: {text}");
+    }
+}

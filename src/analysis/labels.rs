@@ -76,12 +76,12 @@ pub fn label(a: &Analysis, freq: usize, point: &[GRat], given: bool) -> Labels {
             Kind::Regular => {
                 let theta = match &p.place {
                     Place::Point { at, .. } => v0.ratfunc(at),
-                    Place::Roots(f) => v0.roots(f).and_then(|r| r.last().copied()),
+                    Place::Roots(f) => outer_root(&v0, f),
                     Place::Infinity => Some(Complex64::new(0.0, 0.0)),
                 };
                 let theta1 = match &p.place {
                     Place::Point { at, .. } => v1.ratfunc(at),
-                    Place::Roots(f) => v1.roots(f).and_then(|r| r.last().copied()),
+                    Place::Roots(f) => outer_root(&v1, f),
                     Place::Infinity => Some(Complex64::new(0.0, 0.0)),
                 };
                 let ds: Vec<Option<f64>> = p
@@ -145,6 +145,16 @@ pub enum Boundary {
     Bound,
 }
 
+/// The root of a factor at which a root point's local data are read: the
+/// largest real root (the outermost horizon of a horizon polynomial), or the
+/// root with the largest real part when none is real.
+fn outer_root(v: &Values, f: &crate::algebra::Poly) -> Option<Complex64> {
+    let roots = v.roots(f)?;
+    let real = |z: &&Complex64| z.im.abs() <= 1e-9 * z.re.abs().max(1.0);
+    let pick = |it: &mut dyn Iterator<Item = &Complex64>| it.copied().max_by(|a, b| a.re.total_cmp(&b.re));
+    pick(&mut roots.iter().filter(real)).or_else(|| pick(&mut roots.iter()))
+}
+
 /// Exponent choices (1-based, by point label as printed) for a boundary
 /// problem, and a sentence per point saying what was picked.
 pub fn boundary_choices(
@@ -176,7 +186,8 @@ pub fn boundary_choices(
             (Boundary::Bound, Kind::Regular) => {
                 let theta = match &p.place {
                     Place::Point { at, .. } => v.ratfunc(at),
-                    _ => Some(Complex64::new(0.0, 0.0)),
+                    Place::Roots(f) => outer_root(&v, f),
+                    Place::Infinity => Some(Complex64::new(0.0, 0.0)),
                 };
                 let re: Vec<f64> =
                     p.unknown_exponents.iter().map(|e| theta.and_then(|t| v.exponent(e, t)).map(|z| z.re).unwrap_or(f64::NAN)).collect();

@@ -111,7 +111,9 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
         let kind = if b == BoundaryArg::Qnm { crate::analysis::labels::Boundary::Qnm } else { crate::analysis::labels::Boundary::Bound };
         let text = |p: &crate::analysis::SingularPoint| match &p.place {
             crate::analysis::Place::Point { at, .. } => crate::algebra::print::ratfunc_text(at, k.names(), crate::algebra::print::Style::Text),
-            _ => "∞".to_string(),
+            // A root of a factor of higher degree is named θ, as `--exponents` and `--about` name it.
+            crate::analysis::Place::Roots(_) => "θ".to_string(),
+            crate::analysis::Place::Infinity => "∞".to_string(),
         };
         let (picks, said) = crate::analysis::labels::boundary_choices(&an, labels.as_ref(), kind, &label_point, text);
         for (p, c) in picks {
