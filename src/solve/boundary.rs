@@ -193,7 +193,7 @@ pub fn exponents_at(ode: &NumOde, z0: f64, w: Complex64) -> Option<[Complex64; 2
     let a = trim(ode.a.at_omega(w));
     let c = trim(ode.c.at_omega(w));
     let x0 = Complex64::new(z0, 0.0);
-    let (sa, sc) = (taylor(&a, x0), taylor(&c, x0));
+    let (sa, sc) = (super::integrate::shift(&a, x0), super::integrate::shift(&c, x0));
     let scale_a = sa.iter().map(|x| x.norm()).fold(0.0, f64::max).max(f64::MIN_POSITIVE);
     let m = sa.iter().position(|x| x.norm() > 1e-9 * scale_a)?;
     // Pole order of C/A at z₀ is m − ord(C).
@@ -205,19 +205,6 @@ pub fn exponents_at(ode: &NumOde, z0: f64, w: Complex64) -> Option<[Complex64; 2
     let q0 = if m >= 2 && oc != usize::MAX && oc <= m - 2 { sc[m - 2] / sa[m] } else { Complex64::new(0.0, 0.0) };
     let s = (Complex64::new(0.25, 0.0) - q0).sqrt();
     Some([Complex64::new(0.5, 0.0) + s, Complex64::new(0.5, 0.0) - s])
-}
-
-/// Taylor coefficients of p about x₀ (synthetic division).
-pub(crate) fn taylor(p: &[Complex64], x0: Complex64) -> Vec<Complex64> {
-    let mut q = p.to_vec();
-    let n = q.len();
-    for i in 0..n {
-        for j in (i..n.saturating_sub(1)).rev() {
-            let next = q[j + 1];
-            q[j] += x0 * next;
-        }
-    }
-    q
 }
 
 /// d/dω of each exponent at a finite point, by pairing the exponents at ω

@@ -329,6 +329,20 @@ pub struct EndMode {
     pub seed: Seed,
 }
 
+/// Overtone n with no root to report, and why (no number is attached).
+fn unfound(n: u32, reason: String) -> EndMode {
+    let root = IntRoot {
+        omega: Complex64::new(f64::NAN, f64::NAN),
+        converged: false,
+        residual: f64::NAN,
+        iterations: 0,
+        steps: 0,
+        change: f64::NAN,
+        reason,
+    };
+    EndMode { n, root, seed: Seed { omega: ZERO, from: "none".into() } }
+}
+
 /// Why a mode is not reported as found.
 fn reject(mut r: IntRoot, why: String) -> IntRoot {
     r.converged = false;
@@ -348,16 +362,7 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
     if quasi_bound && guess.is_none() {
         for n in lo..=hi {
             let Some(seed) = hydrogenic_seed(bp, n) else {
-                let failed = IntRoot {
-                    omega: Complex64::new(f64::NAN, f64::NAN),
-                    converged: false,
-                    residual: f64::NAN,
-                    iterations: 0,
-                    steps: 0,
-                    change: f64::NAN,
-                    reason: "no hydrogen-like estimate at infinity: give --guess".into(),
-                };
-                out.push(EndMode { n, root: failed, seed: Seed { omega: ZERO, from: "none".into() } });
+                out.push(unfound(n, "no hydrogen-like estimate at infinity: give --guess".into()));
                 continue;
             };
             let r = find_root(bp, seed.omega, tol);
@@ -407,18 +412,7 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
     for n in lo..=hi {
         match found.get(n as usize) {
             Some((r, s)) => out.push(EndMode { n, root: r.clone(), seed: s.clone() }),
-            None => {
-                let failed = IntRoot {
-                    omega: Complex64::new(f64::NAN, f64::NAN),
-                    converged: false,
-                    residual: f64::NAN,
-                    iterations: 0,
-                    steps: 0,
-                    change: f64::NAN,
-                    reason: format!("only {} distinct modes were found in the scanned window: give --guess", found.len()),
-                };
-                out.push(EndMode { n, root: failed, seed: Seed { omega: ZERO, from: "none".into() } });
-            }
+            None => out.push(unfound(n, format!("only {} distinct modes were found in the scanned window: give --guess", found.len()))),
         }
     }
     out

@@ -201,7 +201,7 @@ fn finite(x: Complex64) -> bool {
 
 /// Coefficients of p(z₀ + t) in powers of t by repeated synthetic division
 /// (the Taylor shift, common practice).
-fn shift(p: &[Complex64], z0: Complex64) -> Vec<Complex64> {
+pub(super) fn shift(p: &[Complex64], z0: Complex64) -> Vec<Complex64> {
     let mut q = p.to_vec();
     let n = q.len();
     for i in 0..n {
