@@ -175,7 +175,7 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
         ));
     }
     let (rec, setup0) = canonode::solve::spectrum::qnm_recurrence(&red, &opts).map_err(lib)?;
-    let estimates = canonode::solve::spectrum::barrier_estimates(&red, &opts, setup0.horizon_value).ok();
+    let estimates = canonode::solve::spectrum::barrier_estimates(&red, &opts, setup0.horizon_value, WKB_ORDER).ok();
     if matches!(req.method.as_str(), "wkb" | "eikonal") {
         let Some(est) = &estimates else {
             return Err(lib(Error::new(
@@ -183,11 +183,13 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
                 "no potential barrier could be built for WKB: the equation has no rational tortoise coordinate",
             )));
         };
-        return Ok(estimate_doc(req.method == "wkb", &fname, opts.overtones, est));
+        let pairs = |n: u32| est(n).map(|b| (b.eikonal, b.series.omega()));
+        return Ok(estimate_doc(req.method == "wkb", &fname, opts.overtones, &pairs));
     }
-    let estimate = |n: u32| estimates.as_ref().and_then(|e| e(n)).map(|(_, w3)| (w3, "third-order WKB (Iyer & Will 1987)".to_string()));
+    // Seeds only from estimates in the lower half-plane (as the command line).
+    let estimate = |n: u32| estimates.as_ref().and_then(|e| e(n)).and_then(|b| b.series.seed());
     let (mut modes, setup) = canonode::solve::spectrum::qnm_modes_from(&rec, setup0.clone(), &opts, &estimate).map_err(lib)?;
-    let wkb = |n: u32| estimates.as_ref().and_then(|e| e(n)).map(|(_, w3)| w3);
+    let wkb = |n: u32| estimates.as_ref().and_then(|e| e(n)).map(|b| b.series.omega());
     let integ = canonode::solve::spectrum::integration_check(&red, &opts, &setup).ok();
     let mut checks: Vec<Option<IntRoot>> = Vec::new();
     for m in modes.iter_mut() {
@@ -288,6 +290,9 @@ fn qnm_doc(
         "modes": ms,
     })
 }
+
+/// The WKB order of seeds and estimates (the command line's default).
+const WKB_ORDER: usize = 6;
 
 fn estimate_doc(wkb: bool, fname: &str, overtones: (u32, u32), est: &dyn Fn(u32) -> Option<(Complex64, Complex64)>) -> Value {
     let name = if wkb {
