@@ -28,6 +28,17 @@
 //! `coupling` object (`angular` file, `eigenvalue`, `index`, `about`,
 //! `choices`, `links`); bound-state documents `domain` and `continuum` (the
 //! edge, or null on a finite interval).
+//!
+//! Documents of direct integration between the ends of a boundary problem
+//! (`solve::boundary`, `solve::ends`: de Sitter, anti-de Sitter, massive
+//! fields, `--ends`) have `boundary` "qnm" or "quasi-bound", `ends` (two
+//! objects: `at` — the location, a number or "inf" —, `found` — how the end
+//! was located, in words —, `condition` — "into", "out-of", "outgoing",
+//! "decaying", "normalisable" or "slower"), `notes` (every choice made, in
+//! words), `method`, and `modes` with `method` "integrate", `evidence`
+//! {`change_on_refinement` (null when not run), `residual` (null when not
+//! evaluated), `iterations`, `seed`, `seed_from`} and `check` null (no
+//! second method on these problems yet).
 
 use super::values::{fmt_complex, parse_assignments};
 use super::{run_command, Failure, InputArgs};
