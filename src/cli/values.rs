@@ -111,58 +111,7 @@ pub(crate) fn parse_assignments(text: &str, option: &str) -> Result<Vec<(String,
     Ok(out)
 }
 
-/// A double with 17 significant digits, positional for moderate exponents.
-pub(crate) fn fmt17(x: f64) -> String {
-    if x == 0.0 {
-        return "0".to_string();
-    }
-    if !x.is_finite() {
-        // Never printed as a number: callers report such values as a status.
-        return "(not finite)".to_string();
-    }
-    let s = format!("{:.16e}", x);
-    let (mant, exp) = s.split_once('e').expect("exponent form");
-    let exp: i32 = exp.parse().expect("integer exponent");
-    let neg = mant.starts_with('-');
-    let digits: String = mant.chars().filter(|c| c.is_ascii_digit()).collect();
-    let body = if (-5..17).contains(&exp) {
-        if exp >= 0 {
-            let e = exp as usize + 1;
-            let (ip, fp) = digits.split_at(e.min(digits.len()));
-            let fp = fp.trim_end_matches('0');
-            if fp.is_empty() {
-                ip.to_string()
-            } else {
-                format!("{ip}.{fp}")
-            }
-        } else {
-            let zeros = "0".repeat((-exp - 1) as usize);
-            format!("0.{zeros}{}", digits.trim_end_matches('0'))
-        }
-    } else {
-        let (d0, rest) = digits.split_at(1);
-        let rest = rest.trim_end_matches('0');
-        if rest.is_empty() {
-            format!("{d0}e{exp}")
-        } else {
-            format!("{d0}.{rest}e{exp}")
-        }
-    };
-    if neg {
-        format!("-{body}")
-    } else {
-        body
-    }
-}
-
-/// A complex number as `a+bi` / `a-bi` with 17 significant digits.
-pub(crate) fn fmt_complex(re: f64, im: f64) -> String {
-    if im == 0.0 {
-        return fmt17(re);
-    }
-    let sign = if im < 0.0 { '-' } else { '+' };
-    format!("{}{}{}i", fmt17(re), sign, fmt17(im.abs()))
-}
+pub(crate) use crate::emit::numbers::fmt_complex;
 
 #[cfg(test)]
 mod tests {
@@ -182,9 +131,9 @@ mod tests {
 
     #[test]
     fn seventeen_digits() {
-        assert_eq!(fmt17(0.1), "0.10000000000000001");
-        assert_eq!(fmt17(2.0), "2");
-        assert_eq!(fmt17(-1.5e-9), "-1.5e-9");
+        assert_eq!(crate::emit::numbers::fmt17(0.1), "0.10000000000000001");
+        assert_eq!(crate::emit::numbers::fmt17(2.0), "2");
+        assert_eq!(crate::emit::numbers::fmt17(-1.5e-9), "-1.5e-9");
         assert_eq!(fmt_complex(0.25, -0.5), "0.25-0.5i");
     }
 }
