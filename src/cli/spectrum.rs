@@ -58,7 +58,6 @@
 use super::values::parse_assignments;
 use super::{run_command, Failure, InputArgs};
 use crate::error::{Error, ErrorKind, Origin};
-use crate::solve::boundary::{Condition, Location};
 use crate::solve::request::{CoupleRequest, Method as LibMethod, Problem, SpectrumRequest, ANGULAR_ORIGIN};
 use clap::{Args, ValueEnum};
 use num_complex::Complex64;
@@ -211,7 +210,7 @@ fn request(a: &SpectrumArgs, overtones: (u32, u32), guess: Option<Complex64>, co
             ProblemArg::QuasiBound => Problem::QuasiBound,
         },
         ends: match &a.ends {
-            Some(t) => Some(parse_ends(t)?),
+            Some(t) => Some(crate::solve::boundary::parse_ends(t).map_err(|e| e.in_option("--ends"))?),
             None => None,
         },
         frequency: a.input.frequency_name(),
@@ -282,39 +281,6 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     })
 }
 
-/// Reads `--ends 'LEFT[:COND]..RIGHT[:COND]'`.
-fn parse_ends(text: &str) -> Result<[(Location, Option<Condition>); 2], Failure> {
-    let bad = |msg: String| -> Failure { usage(msg, "--ends", text.len()) };
-    let Some((l, r)) = text.split_once("..") else {
-        return Err(bad("expected LEFT..RIGHT, e.g. '2..inf:outgoing'".into()));
-    };
-    let one = |part: &str| -> Result<(Location, Option<Condition>), Failure> {
-        let (place, cond) = match part.split_once(':') {
-            Some((p, c)) => (p.trim(), Some(c.trim())),
-            None => (part.trim(), None),
-        };
-        let location = match place {
-            "inf" | "infinity" | "∞" => Location::Infinity,
-            _ => {
-                let v = super::values::parse_complex(place).ok_or_else(|| bad(format!("'{place}' is not a number or 'inf'")))?;
-                let (re, im) = v.to_f64();
-                if im != 0.0 || !re.is_finite() {
-                    return Err(bad(format!("'{place}' is not a finite real number")));
-                }
-                Location::At(re)
-            }
-        };
-        let condition = match cond {
-            Some(c) => Some(
-                Condition::from_name(c)
-                    .ok_or_else(|| bad(format!("'{c}' is not a condition (into, out-of, outgoing, decaying, normalisable, slower)")))?,
-            ),
-            None => None,
-        };
-        Ok((location, condition))
-    };
-    Ok([one(l)?, one(r)?])
-}
 
 pub(crate) use crate::solve::request::{for_angular_only, link_option, linked_radial};
 
