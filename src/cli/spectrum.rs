@@ -24,7 +24,9 @@
 //!   linked parameter's value [re, im] at the mode).
 //!
 //! Quasinormal-mode documents from the continued fraction also carry
-//! `horizon`, `ansatz`, `choices` and `recurrence_terms`; coupled ones a
+//! `horizon`, `ansatz`, `choices`, `recurrence_terms` and `notes` (words:
+//! a mode sought or found next to a frequency where the recurrence's
+//! leading coefficient vanishes, e.g. the algebraically special one); coupled ones a
 //! `coupling` object (`angular` file, `eigenvalue`, `index`, `about`,
 //! `choices`, `links`); bound-state documents `domain` and `continuum` (the
 //! edge, or null on a finite interval).

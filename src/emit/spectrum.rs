@@ -129,6 +129,7 @@ fn recurrence_json(fname: &str, b: &RecurrenceReport) -> Value {
         "ansatz": setup.ansatz,
         "choices": setup.choices,
         "recurrence_terms": setup.terms,
+        "notes": b.notes,
         "method": recurrence_method(b),
         "modes": ms,
     });
@@ -193,6 +194,9 @@ fn recurrence_text(fname: &str, var: &str, source: &str, b: &RecurrenceReport) -
     o.push_str(&format!("  series about {} = {}: {}\n", var, setup.horizon, setup.ansatz));
     for c in &setup.choices {
         o.push_str(&format!("  choice: {c}\n"));
+    }
+    for n in &b.notes {
+        o.push_str(&format!("  note: {n}\n"));
     }
     o.push_str(&format!("  method: {}, {}-term recurrence, n-th inversion for overtone n\n\n", recurrence_method(b), setup.terms));
     o.push_str("  n  omega                                        evidence\n");

@@ -126,6 +126,8 @@ pub struct RecurrenceReport {
     pub wkb_order: usize,
     /// For a coupled solve: the angular evidence per mode, the angular problem and the links as given.
     pub coupled: Option<CoupledReport>,
+    /// Warnings about single modes, in words (a mode at a point where the recurrence degenerates).
+    pub notes: Vec<String>,
 }
 
 /// The angular side of a coupled solve, for the report.
@@ -415,6 +417,7 @@ fn recurrence_route(
     let estimate = |n: u32| -> Option<(Complex64, String)> { estimates.as_ref().and_then(|e| e(n)).and_then(|b| b.series.seed()) };
     let (mut modes, setup) = super::spectrum::qnm_modes_from(&rec, setup0.clone(), opts, &estimate)?;
     let wkb = modes.iter().map(|m| estimates.as_ref().and_then(|e| e(m.n)).map(|b| b.series.omega())).collect();
+    let notes = super::spectrum::degenerate_notes(&rec, &setup, opts, &modes);
     // The independent check: direct integration, seeded 1e-4 away from the
     // continued-fraction root (or, with Method::Integrate, from the seed).
     let integ = super::spectrum::integration_check(red, opts, &setup).ok();
@@ -456,7 +459,7 @@ fn recurrence_route(
         }
         None => None,
     };
-    Ok((Body::Recurrence(RecurrenceReport { setup, modes, checks, wkb, wkb_order: req.wkb_order, coupled: None }), functions))
+    Ok((Body::Recurrence(RecurrenceReport { setup, modes, checks, wkb, wkb_order: req.wkb_order, coupled: None, notes }), functions))
 }
 
 /// Bound states by collocation on the interval between the real singular
@@ -527,6 +530,7 @@ fn coupled(red: &Reduction, req: &SpectrumRequest, c: &CoupleRequest, opts: &Spe
             links: c.link_texts.iter().map(|t| t.trim().to_string()).collect(),
             values: found.iter().map(|c| c.angular.clone()).collect(),
         }),
+        notes: Vec::new(),
     })
 }
 
