@@ -886,3 +886,46 @@ fn mode_functions_are_written_normalised() {
     assert!(err.contains("--mode-functions"), "{err}");
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn mathieu_characteristic_values_from_the_exponents_at_both_ends() {
+    // The Mathieu equation y'' + (a − 2q cos 2x) y = 0 in w = cos x: its
+    // solutions analytic in w at both ends (exponent 0 at w = ±1) are the
+    // ce_n, those with exponent ½ at both ends the se_n. DLMF §28.17 tables
+    // (from memory), q = 1: a₀ = −0.45513860, a₁ = 1.85910807, b₁ = −0.11024882, b₂ = 3.91702477.
+    let eq = "(1-w^2)*y'' - w*y' + (a - 2*q*(2*w^2-1))*y = 0";
+    let ask = |ends: &str| {
+        let (v, code, err) = run(&["spectrum", "-e", eq, "--var", "w", "--at", "q=1", "--boundary", "bound", "--ends", ends, "--overtones", "0..1", "--format", "json"]);
+        assert_eq!(code, 0, "{err}");
+        assert_eq!(v["boundary"], "bound");
+        let ms = v["modes"].as_array().unwrap().clone();
+        ms.iter().map(|m| omega(m)).collect::<Vec<_>>()
+    };
+    let a = ask("-1:slower..1:slower");
+    let b = ask("-1:normalisable..1:normalisable");
+    for ((re, im), want) in a.iter().chain(&b).zip([-0.45513860, 1.85910807, -0.11024882, 3.91702477]) {
+        assert!((re - want).abs() < 1e-7 && im.abs() < 1e-12, "{re} {im} vs {want}");
+    }
+}
+
+#[test]
+fn prolate_spheroidal_eigenvalue_with_exponent_zero_at_both_ends() {
+    // ((1 − x²)S')' + (λ − c²x²)S = 0 on (−1, 1), S regular at both ends
+    // (both exponents 0: the solution without a logarithm). Abramowitz &
+    // Stegun table 21.1 (from memory): λ₀₀(c = 1) = 0.319000.
+    let (v, code, err) = run(&[
+        "spectrum", "-e", "((1-x^2)*S')' + (lam - c^2*x^2)*S = 0", "--var", "x", "--at", "c=1", "--boundary", "bound", "--ends", "-1:slower..1:slower", "--format", "json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let (re, im) = omega(&v["modes"][0]);
+    assert!((re - 0.319000).abs() < 5e-7 && im.abs() < 1e-12, "{re} {im}");
+    // c → 0 is Legendre's l(l + 1) (exact): 0, 2, 6.
+    let (v, code, err) = run(&[
+        "spectrum", "-e", "((1-x^2)*S')' + (lam - c^2*x^2)*S = 0", "--var", "x", "--at", "c=0", "--boundary", "bound", "--ends", "-1:slower..1:slower", "--overtones", "0..2", "--format", "json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    for (i, want) in [0.0, 2.0, 6.0].iter().enumerate() {
+        let (re, _) = omega(&v["modes"][i]);
+        assert!((re - want).abs() < 1e-9, "l={i}: {re}");
+    }
+}

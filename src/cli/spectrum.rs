@@ -33,7 +33,9 @@
 //!
 //! Documents of direct integration between the ends of a boundary problem
 //! (`solve::boundary`, `solve::ends`: de Sitter, anti-de Sitter, massive
-//! fields, `--ends`) have `boundary` "qnm" or "quasi-bound", `ends` (two
+//! fields, `--ends`; with `--boundary bound --ends …` real eigenvalue
+//! problems such as angular equations) have `boundary` "qnm",
+//! "quasi-bound" or "bound", `ends` (two
 //! objects: `at` — the location, a number or "inf" —, `found` — how the end
 //! was located, in words —, `condition` — "into", "out-of", "outgoing",
 //! "decaying", "normalisable" or "slower"), `notes` (every choice made, in

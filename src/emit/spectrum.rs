@@ -5,7 +5,7 @@
 
 use super::numbers::fmt_complex;
 use crate::solve::boundary::{location_text, End, Location};
-use crate::solve::request::{Body, BoundReport, EndsReport, EstimateReport, RecurrenceReport, SpectrumReport};
+use crate::solve::request::{Body, Problem, BoundReport, EndsReport, EstimateReport, RecurrenceReport, SpectrumReport};
 use crate::solve::shoot::BoundCheck;
 use crate::solve::wkb::in_lower_half_plane;
 use num_complex::Complex64;
@@ -287,7 +287,7 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
         .collect();
     json!({
         "frequency": fname,
-        "boundary": if b.quasi_bound { "quasi-bound" } else { "qnm" },
+        "boundary": match b.spectrum { Problem::Quasinormal => "qnm", Problem::QuasiBound => "quasi-bound", Problem::Bound => "bound" },
         "ends": ends,
         "notes": ends_notes(b),
         "method": ENDS_METHOD,
@@ -309,10 +309,13 @@ fn ends_csv(b: &EndsReport) -> String {
 }
 
 fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
-    let what = if b.quasi_bound { "quasi-bound states" } else { "quasinormal modes" };
     let end_text = |e: &End| format!("{} = {} ({}); condition: {}", var, location_text(e.location), e.found, e.condition.words());
     let mut o = String::new();
-    o.push_str(&format!("{what} of {source} ({fname}), time dependence e^(-i*{fname}*t)\n"));
+    match b.spectrum {
+        Problem::Quasinormal => o.push_str(&format!("quasinormal modes of {source} ({fname}), time dependence e^(-i*{fname}*t)\n")),
+        Problem::QuasiBound => o.push_str(&format!("quasi-bound states of {source} ({fname}), time dependence e^(-i*{fname}*t)\n")),
+        Problem::Bound => o.push_str(&format!("eigenvalues {fname} of {source} (a real eigenvalue problem between the ends)\n")),
+    }
     o.push_str(&format!("  left end:  {}\n", end_text(&b.problem.ends[0])));
     o.push_str(&format!("  right end: {}\n", end_text(&b.problem.ends[1])));
     for n in ends_notes(b) {
@@ -320,7 +323,7 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
     }
     o.push_str(&format!("  method: {ENDS_METHOD}\n"));
     o.push_str("  no second method runs on this boundary problem yet: the evidence is the agreement of standard and refined integration\n\n");
-    o.push_str("  n  omega                                        evidence\n");
+    o.push_str(&format!("  n  {fname:<44} evidence\n"));
     for m in &b.modes {
         let r = &m.root;
         if r.converged {

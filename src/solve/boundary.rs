@@ -37,6 +37,9 @@ pub enum SpectrumKind {
     /// Quasi-bound states: waves leave through horizons and decay at an
     /// irregular infinity (massive fields).
     QuasiBound,
+    /// Bound states and other real eigenvalue problems (angular equations,
+    /// wells): the solution is normalisable or regular at both ends.
+    Bound,
 }
 
 /// Where an end lies.
@@ -171,6 +174,8 @@ pub struct BoundaryProblem {
     pub scale: f64,
     /// What was chosen and why, in words (printed with the result).
     pub notes: Vec<String>,
+    /// The kind of spectrum sought.
+    pub kind: SpectrumKind,
 }
 
 fn usage(msg: impl Into<String>) -> Error {
@@ -396,7 +401,7 @@ pub fn try_problem(
                 Nature::Regular => Condition::Normalisable,
                 Nature::IrregularRank1 => match kind {
                     SpectrumKind::Quasinormal => Condition::Outgoing,
-                    SpectrumKind::QuasiBound => Condition::Decaying,
+                    SpectrumKind::QuasiBound | SpectrumKind::Bound => Condition::Decaying,
                 },
             },
         };
@@ -422,7 +427,7 @@ pub fn try_problem(
             _ => None,
         })
         .unwrap_or(1.0);
-    Ok(BoundaryProblem { freq, ode, ends: [left, right], zeros, real_points, scale, notes })
+    Ok(BoundaryProblem { freq, ode, ends: [left, right], zeros, real_points, scale, notes, kind })
 }
 
 /// V = ω² − q/h² at a real point x of y'' + p y' + q y = 0 (h² the

@@ -15,7 +15,7 @@
 //! infinity (quasi-bound states), or from a bounded scan of the mismatch over
 //! a window of the complex plane scaled by the horizon's surface gravity.
 
-use super::boundary::{BoundaryProblem, Condition, Location, Nature};
+use super::boundary::{BoundaryProblem, Condition, Location, Nature, SpectrumKind};
 use super::integrate::{self, Asymptote, Coeffs, Far, IntRoot, Norm, Params};
 use num_complex::Complex64;
 
@@ -123,6 +123,11 @@ fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64
     let zl = Complex64::new(z_l, 0.0);
     let mut steps = 0;
     let (mut yl, mut dyl) = (yl, dyl);
+    // Between two finite ends the match is by the vector norm: with the
+    // product norm the mismatch of a mirror-symmetric problem (matched at its
+    // centre) is ±1 everywhere and jumps at the eigenvalues instead of
+    // passing through zero.
+    let mut norm = Norm::Products;
     let (yr, dyr) = match (right.location, right.nature) {
         (Location::At(b), _) => {
             let hr = integrate::horizon(&k, b)?;
@@ -135,6 +140,7 @@ fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64
             // way: the match is between the two start points.
             let zm = Complex64::new(0.5 * (z_l + b - delta), 0.0);
             (yl, dyl) = integrate::continue_along(&k, &bp.zeros, zl, zm, yl, dyl, p, f64::INFINITY, &mut steps)?;
+            norm = Norm::Vectors;
             integrate::continue_along(&k, &bp.zeros, from, zm, y, dy, p, f64::INFINITY, &mut steps)?
         }
         (Location::Infinity, Nature::Regular | Nature::Horizon) => {
@@ -175,7 +181,7 @@ fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64
             integrate::from_infinity(&k, &Asymptote::Series(&far), &bp.zeros, zl, ray, (4.0 / (far.mu - far.mu2).norm()).max(d), zl, p, &mut steps)?
         }
     };
-    Ok((integrate::normalised_wronskian((yl, dyl), (yr, dyr), Norm::Products)?, steps))
+    Ok((integrate::normalised_wronskian((yl, dyl), (yr, dyr), norm)?, steps))
 }
 
 /// The normalised mismatch at ω with the standard discretisation (zero at
@@ -239,6 +245,50 @@ pub fn scan_seeds(bp: &BoundaryProblem, count: usize) -> Vec<Seed> {
     }
     minima.sort_by(|a, b| a.0.total_cmp(&b.0));
     minima.into_iter().map(|(_, w)| Seed { omega: w, from: "a minimum of the mismatch on a scan of the complex plane".into() }).collect()
+}
+
+/// Points of the real-axis scan of a real eigenvalue problem per round.
+const SCAN_REAL: usize = 240;
+/// Rounds of the real-axis scan (the half-width grows fourfold each round).
+const SCAN_REAL_ROUNDS: usize = 5;
+
+/// The lowest real eigenvalues of a real problem ([`SpectrumKind::Bound`]):
+/// local minima of |mismatch| on a grid over [−L, L] (L = 4κ, 16κ, … up to
+/// five rounds, κ the problem's scale), each polished by the two-pass Muller
+/// search and kept when it converges to a real value; sorted ascending,
+/// distinct. Stops when `want` are found or the rounds are spent; the second
+/// value is the half-width reached.
+fn real_axis_roots(bp: &BoundaryProblem, want: usize, tol: f64) -> (Vec<(IntRoot, Seed)>, f64) {
+    let mut found: Vec<(IntRoot, Seed)> = Vec::new();
+    let mut half = 4.0 * bp.scale;
+    for round in 0..SCAN_REAL_ROUNDS {
+        if round > 0 {
+            half *= 4.0;
+        }
+        let at = |i: usize| -half + 2.0 * half * (i as f64 + 0.5) / SCAN_REAL as f64;
+        let vals: Vec<f64> = (0..SCAN_REAL).map(|i| mismatch(bp, Complex64::new(at(i), 0.0)).map(|m| m.norm()).unwrap_or(f64::INFINITY)).collect();
+        for i in 0..SCAN_REAL {
+            let left = if i > 0 { vals[i - 1] } else { f64::INFINITY };
+            let right = if i + 1 < SCAN_REAL { vals[i + 1] } else { f64::INFINITY };
+            if !(vals[i] < 0.5 && vals[i] <= left && vals[i] <= right) {
+                continue;
+            }
+            let seed = Seed { omega: Complex64::new(at(i), 0.0), from: format!("a minimum of the mismatch on a scan of the real axis over [−{half:.3e}, {half:.3e}]") };
+            let r = find_root(bp, seed.omega, tol);
+            if !r.converged || r.omega.im.abs() > 1e-8 * r.omega.norm().max(1.0) {
+                continue;
+            }
+            if found.iter().any(|(f, _)| (f.omega - r.omega).norm() <= 1e-7 * r.omega.norm().max(1e-3)) {
+                continue;
+            }
+            found.push((r, seed));
+        }
+        if found.len() >= want {
+            break;
+        }
+    }
+    found.sort_by(|a, b| a.0.omega.re.total_cmp(&b.0.omega.re));
+    (found, half)
 }
 
 /// Seeds for quasi-bound states at an irregular infinity from the
@@ -357,8 +407,21 @@ fn reject(mut r: IntRoot, why: String) -> IntRoot {
 /// found by |Im ω|. Every loop is bounded (the scan's grid, Muller's
 /// iteration limit, at most 4(hi + 1) + 8 seeds tried).
 pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64>, tol: f64) -> Vec<EndMode> {
-    let quasi_bound = bp.ends[1].condition == Condition::Decaying;
+    let quasi_bound = bp.ends[1].condition == Condition::Decaying && bp.kind != SpectrumKind::Bound;
     let mut out: Vec<EndMode> = Vec::new();
+    if bp.kind == SpectrumKind::Bound && guess.is_none() {
+        let (found, half) = real_axis_roots(bp, hi as usize + 1, tol);
+        for n in lo..=hi {
+            match found.get(n as usize) {
+                Some((r, s)) => out.push(EndMode { n, root: r.clone(), seed: s.clone() }),
+                None => out.push(unfound(
+                    n,
+                    format!("only {} distinct real eigenvalues were found in [−{half:.3e}, {half:.3e}]: give --guess", found.len()),
+                )),
+            }
+        }
+        return out;
+    }
     if quasi_bound && guess.is_none() {
         for n in lo..=hi {
             let Some(seed) = hydrogenic_seed(bp, n) else {
@@ -379,7 +442,12 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
                 Seed { omega: a + (a - b), from: "extrapolated from the two previous overtones".into() }
             } else if let Some(last) = out.iter().rev().find(|m| m.root.converged) {
                 let w = last.root.omega;
-                Seed { omega: w - Complex64::new(0.0, 2.0 * w.im.abs().max(0.05 * bp.scale)), from: "below the previous overtone".into() }
+                if bp.kind == SpectrumKind::Bound {
+                    // Real eigenvalues grow with their number.
+                    Seed { omega: w + w.norm().max(bp.scale), from: "above the previous eigenvalue".into() }
+                } else {
+                    Seed { omega: w - Complex64::new(0.0, 2.0 * w.im.abs().max(0.05 * bp.scale)), from: "below the previous overtone".into() }
+                }
             } else {
                 Seed { omega: g, from: "--guess".into() }
             };

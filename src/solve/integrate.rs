@@ -135,7 +135,7 @@ pub(super) fn find_root_by(eval: Evaluator, seed: Complex64, tol: f64, max_iter:
         Err(e) => return fail(r2, it1 + it2, change, format!("the mismatch cannot be evaluated at the root: {e}")),
     };
     let rel = change / r2.norm().max(f64::MIN_POSITIVE);
-    let agree = change <= tol * r2.norm();
+    let agree = change <= tol * r2.norm().max(super::roots::ABSOLUTE_BELOW);
     let small = residual <= RESIDUAL_MAX;
     let reason = if agree && small {
         format!(

@@ -154,8 +154,8 @@ pub struct EndsReport {
     pub note: Option<String>,
     /// The numbering caveat when the modes come from a scan of the plane.
     pub numbering: Option<&'static str>,
-    /// Quasi-bound states (decaying at the far end) rather than quasinormal modes.
-    pub quasi_bound: bool,
+    /// Which spectrum: quasinormal modes, quasi-bound states (decaying at the far end) or real eigenvalues.
+    pub spectrum: Problem,
 }
 
 /// Bound states by collocation, each checked by shooting.
@@ -328,7 +328,7 @@ pub fn spectrum(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport
     let eikonal = eikonal_reduction(req, red, &point, freq)?;
     // Exact values for every other parameter: horizons often become rational points.
     let red = super::spectrum::substitute(red, &point, freq)?;
-    if req.problem == Problem::Bound {
+    if req.problem == Problem::Bound && req.ends.is_none() {
         let (b, f) = bound_states(&red, req, &opts)?;
         return Ok(report(Body::Bound(b), f));
     }
@@ -337,7 +337,11 @@ pub fn spectrum(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport
             "--method collocation computes bound states (with --boundary bound); quasinormal modes use auto, cf, integrate, wkb or eikonal",
         ));
     }
-    let kind = if req.problem == Problem::QuasiBound { SpectrumKind::QuasiBound } else { SpectrumKind::Quasinormal };
+    let kind = match req.problem {
+        Problem::Quasinormal => SpectrumKind::Quasinormal,
+        Problem::QuasiBound => SpectrumKind::QuasiBound,
+        Problem::Bound => SpectrumKind::Bound,
+    };
     let problem = super::boundary::try_problem(&red.field, &red.normal.q, &red.q, &point, freq, kind, req.ends);
     // The exact recurrence route covers problems from a horizon that do not
     // end at a regular infinity, with the default conditions.
@@ -361,7 +365,11 @@ pub fn spectrum(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport
     if !matches!(req.method, Method::Auto | Method::Integrate) {
         return Err(method_error("this boundary problem is solved by direct integration between its ends: use --method auto or integrate"));
     }
-    Ok(report(Body::Ends(between_ends(problem?, req, &opts, None)), None))
+    let bp = problem?;
+    if kind == SpectrumKind::Bound && bp.ends.iter().any(|e| e.nature == super::boundary::Nature::Horizon) {
+        return Err(usage("a bound-state problem between given ends cannot end at a horizon (its exponents depend on the eigenvalue): use --boundary qnm or quasi-bound").in_option("--ends"));
+    }
+    Ok(report(Body::Ends(between_ends(bp, req, &opts, None)), None))
 }
 
 /// With an eikonal parameter: its name, index and the equation with every
@@ -380,11 +388,18 @@ fn eikonal_reduction(req: &SpectrumRequest, red: &Reduction, point: &[GRat], fre
 /// Modes by direct integration between the ends of a boundary problem.
 fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptions, note: Option<String>) -> EndsReport {
     let modes = super::ends::modes(&bp, opts.overtones, opts.guess, opts.tol);
-    let quasi_bound = bp.ends[1].condition == Condition::Decaying || req.problem == Problem::QuasiBound;
-    let numbering = (opts.guess.is_none() && bp.ends[1].condition != Condition::Decaying).then_some(
-        "no --guess: the modes are the distinct roots reached from a scan of the complex plane, numbered by |Im ω|; a mode the scan missed would shift the numbering",
-    );
-    EndsReport { problem: bp, modes, note, numbering, quasi_bound }
+    let spectrum = match req.problem {
+        Problem::Bound => Problem::Bound,
+        _ if bp.ends[1].condition == Condition::Decaying => Problem::QuasiBound,
+        p => p,
+    };
+    let numbering = match spectrum {
+        _ if opts.guess.is_some() => None,
+        Problem::Bound => Some("no --guess: the eigenvalues are the distinct real roots reached from a scan of the real axis, numbered upward; an eigenvalue below the scanned range would shift the numbering"),
+        Problem::Quasinormal => Some("no --guess: the modes are the distinct roots reached from a scan of the complex plane, numbered by |Im ω|; a mode the scan missed would shift the numbering"),
+        Problem::QuasiBound => None,
+    };
+    EndsReport { problem: bp, modes, note, numbering, spectrum }
 }
 
 /// Quasinormal modes by the exact recurrence's continued fraction, checked

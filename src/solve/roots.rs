@@ -13,6 +13,11 @@ fn finite(z: Complex64) -> bool {
 
 /// Muller's method from `seed` (start points ± `spread`·|seed|) to relative
 /// tolerance `tol`; returns the last iterate, the iterations used, and Ok or
+/// Below this magnitude the root finders' relative tolerance becomes
+/// absolute (tol × 1e-3), so that a root at zero (a zero eigenvalue) can
+/// converge.
+pub const ABSOLUTE_BELOW: f64 = 1e-3;
+
 /// the reason it stopped.
 pub fn muller(
     f: &dyn Fn(Complex64) -> Result<Complex64, String>,
@@ -62,7 +67,7 @@ pub fn muller(
         };
         x = [x[1], x[2], xn];
         y = [y[1], y[2], yn];
-        if dx.norm() <= tol * xn.norm() || yn == ZERO {
+        if dx.norm() <= tol * xn.norm().max(ABSOLUTE_BELOW) || yn == ZERO {
             return (xn, it, Ok(()));
         }
     }
