@@ -21,15 +21,14 @@
 //! (and `cross_section` before `error` with `--sum-l`; the partial terms as
 //! `T_l` columns).
 
-use super::values::{fmt_complex, parse_assignments};
+use super::values::parse_assignments;
 use super::{emit, run_command, Failure, InputArgs};
-use crate::algebra::{GRat, Rat};
-use crate::error::{Error, ErrorKind};
-use crate::solve::scatter::{cross_section, problem, scatter_at, Problem, Scattering};
-use crate::solve::spectrum::SpectrumOptions;
+use crate::algebra::Rat;
+use crate::emit::scatter::{footer, header, row_text, Format};
+use crate::error::{Error, ErrorKind, Origin};
+use crate::solve::scatter::{row_cross_section, scatter_setup, ScatterRequest, ScatterRow, Scattering};
 use clap::{Args, ValueEnum};
 use rayon::prelude::*;
-use serde_json::{json, Value};
 use std::io::IsTerminal;
 
 /// Output formats of `scatter`.
@@ -85,9 +84,6 @@ pub(crate) fn run(a: &ScatterArgs) -> u8 {
 /// Frequencies computed (in parallel) before each block is written.
 const BLOCK: usize = 32;
 
-/// One frequency's results: one entry per multipole.
-type Row = (f64, Vec<(i64, Result<Scattering, String>)>);
-
 fn compute(a: &ScatterArgs, src: &super::Source) -> Result<String, Failure> {
     if let Some(path) = &a.plot {
         let lower = path.to_ascii_lowercase();
@@ -96,12 +92,6 @@ fn compute(a: &ScatterArgs, src: &super::Source) -> Result<String, Failure> {
         }
     }
     let red = crate::ode::reduce(&src.input(), &a.input.options())?;
-    let names = red.field.names().to_vec();
-    let fname = a.input.frequency_name().or_else(|| ["omega", "ω", "w"].iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
-    let Some(fname) = fname else { return Err(Error::new(ErrorKind::Usage, "no frequency parameter: name it with --frequency").into()) };
-    let Some(freq) = names.iter().skip(1).position(|n| *n == fname).map(|i| i + 1) else {
-        return Err(Error::new(ErrorKind::Usage, format!("'{fname}' is not a parameter")).in_option("--frequency").into());
-    };
     // The frequency grid.
     let parts: Vec<Option<Rat>> = a.omega.split(':').map(|t| Rat::parse_decimal(t.trim())).collect();
     let (Some(Some(w0)), Some(Some(w1)), Some(Some(dw)), 3) = (parts.first(), parts.get(1), parts.get(2), parts.len()) else {
@@ -118,91 +108,41 @@ fn compute(a: &ScatterArgs, src: &super::Source) -> Result<String, Failure> {
         None => None,
         Some(t) => {
             let r = t.split_once("..").and_then(|(x, y)| Some((x.trim().parse::<i64>().ok()?, y.trim().parse::<i64>().ok()?)));
-            let Some((l0, l1)) = r.filter(|(x, y)| 0 <= *x && x <= y && y - x <= 200) else {
+            let Some((l0, l1)) = r else {
                 return Err(usage("expected a multipole range A..B with 0 ≤ A ≤ B (at most 200 terms)", "--sum-l", t.len()));
             };
-            let Some(li) = names.iter().skip(1).position(|n| *n == a.multipole).map(|i| i + 1).filter(|i| *i != freq) else {
-                return Err(Error::new(ErrorKind::Usage, format!("'{}' is not a parameter of the equation other than the frequency", a.multipole))
-                    .in_option("--multipole")
-                    .into());
-            };
-            Some((li, l0, l1))
+            Some((a.multipole.clone(), l0, l1))
         }
     };
-    let mut point = vec![GRat::zero(); names.len()];
-    let mut given = vec![false; names.len()];
-    given[0] = true;
-    given[freq] = true;
-    if let Some((li, ..)) = sum {
-        given[li] = true;
-    }
-    for (n, v, span) in parse_assignments(&a.at, "--at")? {
-        match names.iter().skip(1).position(|x| *x == n).map(|i| i + 1) {
-            Some(i) if i == freq => {
-                return Err(Error::new(ErrorKind::Usage, format!("'{n}' is the frequency: give it with --omega")).at(span).in_option("--at").into())
-            }
-            Some(i) if sum.is_some_and(|s| s.0 == i) => {
-                return Err(Error::new(ErrorKind::Usage, format!("'{n}' is summed by --sum-l")).at(span).in_option("--at").into())
-            }
-            Some(i) => {
-                point[i] = v;
-                given[i] = true;
-            }
-            None => return Err(Error::new(ErrorKind::Usage, format!("'{n}' is not a parameter of the equation")).at(span).in_option("--at").into()),
-        }
-    }
-    let missing: Vec<&str> = names.iter().zip(&given).filter(|(_, g)| !**g).map(|(n, _)| n.as_str()).collect();
-    if !missing.is_empty() {
-        return Err(usage(format!("no value given for {}", missing.join(", ")), "--at", a.at.len()));
-    }
-    // One problem per multipole, set up exactly (the ends and exponents from the analysis).
-    let ls: Vec<i64> = match sum {
-        Some((_, l0, l1)) => (l0..=l1).collect(),
-        None => vec![0],
+    let req = ScatterRequest { frequency: a.input.frequency_name(), values: parse_assignments(&a.at, "--at")?, sum, wkb_order: a.wkb_order };
+    let setup = scatter_setup(&red, &req).map_err(|e| match &e.origin {
+        // An option error without a place points at the whole option.
+        Origin::Option(o) if e.span.is_none() && o == "--at" => usage(e.message.clone(), "--at", a.at.len()),
+        Origin::Option(o) if e.span.is_none() && o == "--sum-l" => usage(e.message.clone(), "--sum-l", a.sum_l.as_deref().unwrap_or("").len()),
+        _ => Failure::from(e),
+    })?;
+    let format = match a.format {
+        ScatterFormat::Text => Format::Text,
+        ScatterFormat::Json => Format::Json,
+        ScatterFormat::Csv => Format::Csv,
     };
-    if !(1..=crate::solve::wkb::MAX_ORDER).contains(&a.wkb_order) {
-        return Err(Error::new(ErrorKind::Usage, format!("the WKB order must lie in 1..={}", crate::solve::wkb::MAX_ORDER))
-            .in_option("--wkb-order")
-            .into());
-    }
-    let mut problems: Vec<(i64, Problem)> = Vec::new();
-    // The barrier's Taylor series for the WKB transmission, per multipole (None without a barrier).
-    let mut barriers: Vec<Option<Vec<num_complex::Complex64>>> = Vec::new();
-    for &l in &ls {
-        let mut values = point.clone();
-        if let Some((li, ..)) = sum {
-            values[li] = GRat::real(Rat::int(l.into()));
-        }
-        let opts = SpectrumOptions { freq, values, overtones: (0, 0), tol: 1e-10, guess: None, seeds: Vec::new() };
-        let r = crate::solve::spectrum::substitute(&red, &opts.values, freq)?;
-        let (_, setup) = crate::solve::spectrum::qnm_recurrence(&r, &opts)?;
-        problems.push((l, problem(&r, &opts, &setup)?));
-        let est = crate::solve::spectrum::barrier_estimates(&r, &opts, setup.horizon_value, a.wkb_order).ok();
-        barriers.push(est.and_then(|e| e(0)).map(|b| b.taylor));
-    }
-    let (near, far) = (problems[0].1.near_label.clone(), problems[0].1.far_label.clone());
+    let ls = setup.multipoles();
     let freqs: Vec<f64> = grid.iter().map(|r| r.to_f64()).collect();
     let bar =
         if std::io::stderr().is_terminal() && freqs.len() * ls.len() > 200 { Some(indicatif::ProgressBar::new(freqs.len() as u64)) } else { None };
-    let summed = sum.map(|(li, l0, l1)| (names[li].clone(), l0, l1));
+    let summed = setup.sum.is_some();
     // Header, then blocks as they finish.
-    emit(&header(a.format, &fname, &near, &far, summed.as_ref(), &ls))?;
-    let mut rows: Vec<Row> = Vec::with_capacity(freqs.len());
+    emit(&header(format, &setup.frequency, &setup.near, &setup.far, setup.sum.as_ref(), &ls))?;
+    let mut rows: Vec<ScatterRow> = Vec::with_capacity(freqs.len());
+    let np = setup.len();
     for (bi, block) in freqs.chunks(BLOCK).enumerate() {
-        let jobs: Vec<(usize, usize)> = (0..block.len()).flat_map(|i| (0..problems.len()).map(move |j| (i, j))).collect();
-        let results: Vec<Result<Scattering, String>> = jobs
-            .par_iter()
-            .map(|&(i, j)| {
-                let wkb = barriers[j].as_ref().and_then(|t| crate::solve::wkb::wkb_transmission(t, block[i] * block[i], a.wkb_order));
-                scatter_at(&problems[j].1, block[i]).map(|s| Scattering { wkb_transmission: wkb, ..s })
-            })
-            .collect();
+        let jobs: Vec<(usize, usize)> = (0..block.len()).flat_map(|i| (0..np).map(move |j| (i, j))).collect();
+        let results: Vec<Result<Scattering, String>> = jobs.par_iter().map(|&(i, j)| setup.at(j, block[i])).collect();
         let mut text = String::new();
         for (i, &w) in block.iter().enumerate() {
-            let per: Vec<(i64, Result<Scattering, String>)> =
-                (0..problems.len()).map(|j| (problems[j].0, results[i * problems.len() + j].clone())).collect();
+            let per: Vec<(i64, Result<Scattering, String>)> = (0..np).map(|j| (ls[j], results[i * np + j].clone())).collect();
             let first = bi == 0 && i == 0;
-            text.push_str(&row_text(a.format, w, &per, summed.is_some(), first));
+            text.push_str(&row_text(format, w, &per, summed, first));
             rows.push((w, per));
         }
         emit(&text)?;
@@ -213,187 +153,22 @@ fn compute(a: &ScatterArgs, src: &super::Source) -> Result<String, Failure> {
     if let Some(b) = &bar {
         b.finish_and_clear();
     }
-    let mut tail = footer(a.format, &rows, summed.is_some());
+    let mut tail = footer(format, &rows, summed);
     if let Some(path) = &a.plot {
-        let curves: Vec<(String, Vec<(f64, f64)>)> = if summed.is_some() {
-            vec![("σ".to_string(), rows.iter().filter_map(|(w, per)| sigma(*w, per).map(|s| (*w, s))).collect())]
+        let curves: Vec<(String, Vec<(f64, f64)>)> = if summed {
+            vec![("σ".to_string(), rows.iter().filter_map(|(w, per)| row_cross_section(*w, per).map(|s| (*w, s))).collect())]
         } else {
             let pick = |f: &dyn Fn(&Scattering) -> f64| -> Vec<(f64, f64)> {
                 rows.iter().filter_map(|(w, per)| per[0].1.as_ref().ok().map(|s| (*w, f(s)))).collect()
             };
             vec![("|T|²".to_string(), pick(&|s| s.transmission)), ("|R|²".to_string(), pick(&|s| s.reflection))]
         };
-        let (title, ylabel) = if summed.is_some() { ("absorption cross-section", "σ") } else { ("transmission and reflection", "|T|², |R|²") };
+        let (title, ylabel) = if summed { ("absorption cross-section", "σ") } else { ("transmission and reflection", "|T|², |R|²") };
         crate::solve::scatter::plot(std::path::Path::new(path), &format!("{title} ({})", src.name), ylabel, &curves)
             .map_err(|e| Failure::Plain(format!("error: cannot write the plot {path}: {e}"), 1))?;
-        if a.format == ScatterFormat::Text {
+        if format == Format::Text {
             tail.push_str(&format!("plot written to {path}\n"));
         }
     }
     Ok(tail)
-}
-
-/// σ at ω when every multipole has a value.
-fn sigma(w: f64, per: &[(i64, Result<Scattering, String>)]) -> Option<f64> {
-    let terms: Option<Vec<(i64, f64)>> = per.iter().map(|(l, r)| r.as_ref().ok().map(|s| (*l, s.transmission))).collect();
-    terms.map(|t| cross_section(w, &t))
-}
-
-fn header(f: ScatterFormat, fname: &str, near: &str, far: &str, sum: Option<&(String, i64, i64)>, ls: &[i64]) -> String {
-    match f {
-        ScatterFormat::Json => {
-            let s = sum.map(|(p, a, b)| json!({"param": p, "from": a, "to": b})).unwrap_or(Value::Null);
-            let lead = json!({"frequency": fname, "near": near, "far": far, "sum": s}).to_string();
-            // The object is left open: the points follow as they are computed.
-            format!("{},\n\"points\": [\n", lead.strip_suffix('}').unwrap_or(&lead))
-        }
-        ScatterFormat::Csv => {
-            let mut h = String::from("omega,transmission,reflection,flux_error,matching_change,wkb_transmission");
-            if sum.is_some() {
-                h.push_str(",cross_section");
-                for l in ls {
-                    h.push_str(&format!(",T_{l}"));
-                }
-            }
-            h.push_str(",error\n");
-            h
-        }
-        ScatterFormat::Text => {
-            let mut h = format!(
-                "scattering from {far} onto the barrier, transmitted into {near} ({fname} real)\n  |T|² transmitted/incident flux (greybody factor), |R|² reflected/incident; flux error |R|² + |T|² − 1; change of |T|² with the matching point moved\n\n"
-            );
-            match sum {
-                Some((p, a, b)) => h.push_str(&format!("  {:<24} {:<24} {}\n", fname, format!("σ (sum {p} = {a}..{b})"), "largest flux error")),
-                None => h.push_str(&format!("  {:<24} {:<24} {:<24} {:<10} {}\n", fname, "|T|²", "|R|²", "flux err", "match change")),
-            }
-            h
-        }
-    }
-}
-
-fn num(x: f64) -> Value {
-    if x.is_finite() {
-        json!(x)
-    } else {
-        Value::Null
-    }
-}
-
-fn fields(r: &Result<Scattering, String>) -> Value {
-    match r {
-        Ok(s) => json!({"transmission": num(s.transmission), "reflection": num(s.reflection), "flux_error": num(s.flux_error),
-            "matching_change": num(s.matching_change), "superradiant": s.reflection > 1.0,
-            "wkb_transmission": s.wkb_transmission.map(num).unwrap_or(Value::Null), "error": Value::Null}),
-        Err(e) => json!({"transmission": Value::Null, "reflection": Value::Null, "flux_error": Value::Null,
-            "matching_change": Value::Null, "superradiant": Value::Null, "wkb_transmission": Value::Null, "error": e}),
-    }
-}
-
-fn row_text(f: ScatterFormat, w: f64, per: &[(i64, Result<Scattering, String>)], summed: bool, first: bool) -> String {
-    match f {
-        ScatterFormat::Json => {
-            let mut o = fields(&per[0].1);
-            o.as_object_mut().map(|m| m.insert("omega".into(), json!(w)));
-            if summed {
-                let partial: Vec<Value> = per
-                    .iter()
-                    .map(|(l, r)| {
-                        let mut p = fields(r);
-                        if let Some(m) = p.as_object_mut() {
-                            m.insert("l".into(), json!(l));
-                            m.insert(
-                                "cross_section_term".into(),
-                                r.as_ref().ok().map(|s| num(cross_section(w, &[(*l, s.transmission)]))).unwrap_or(Value::Null),
-                            );
-                        }
-                        p
-                    })
-                    .collect();
-                if let Some(m) = o.as_object_mut() {
-                    m.insert("cross_section".into(), sigma(w, per).map(num).unwrap_or(Value::Null));
-                    m.insert("partial".into(), Value::Array(partial));
-                }
-            }
-            // Keys in a fixed order: omega first.
-            let mut ordered = serde_json::Map::new();
-            ordered.insert("omega".into(), json!(w));
-            if let Some(m) = o.as_object() {
-                for (k, v) in m {
-                    if k != "omega" {
-                        ordered.insert(k.clone(), v.clone());
-                    }
-                }
-            }
-            format!("{}{}", if first { "  " } else { ",\n  " }, Value::Object(ordered))
-        }
-        ScatterFormat::Csv => {
-            let g = |x: f64| if x.is_finite() { format!("{x:.17e}") } else { String::new() };
-            let mut line = match &per[0].1 {
-                Ok(s) => format!(
-                    "{},{},{},{},{},{}",
-                    g(w),
-                    g(s.transmission),
-                    g(s.reflection),
-                    g(s.flux_error),
-                    g(s.matching_change),
-                    s.wkb_transmission.map(g).unwrap_or_default()
-                ),
-                Err(_) => format!("{},,,,,", g(w)),
-            };
-            if summed {
-                line.push_str(&format!(",{}", sigma(w, per).map(g).unwrap_or_default()));
-                for (_, r) in per {
-                    line.push_str(&format!(",{}", r.as_ref().map(|s| g(s.transmission)).unwrap_or_default()));
-                }
-            }
-            let errs: Vec<String> =
-                per.iter().filter_map(|(l, r)| r.as_ref().err().map(|e| if summed { format!("l={l}: {e}") } else { e.clone() })).collect();
-            line.push_str(&format!(",\"{}\"\n", errs.join("; ").replace('"', "'")));
-            line
-        }
-        ScatterFormat::Text => {
-            let wt = fmt_complex(w, 0.0);
-            if summed {
-                let worst = per.iter().filter_map(|(_, r)| r.as_ref().ok().map(|s| s.flux_error.abs())).fold(0.0, f64::max);
-                match sigma(w, per) {
-                    Some(s) => format!("  {wt:<24} {:<24} {worst:.1e}\n", fmt_complex(s, 0.0)),
-                    None => {
-                        let e: Vec<String> = per.iter().filter_map(|(l, r)| r.as_ref().err().map(|e| format!("l = {l}: {e}"))).collect();
-                        format!("  {wt:<24} no value: {}\n", e.join("; "))
-                    }
-                }
-            } else {
-                match &per[0].1 {
-                    Ok(s) => {
-                        let mark = if s.reflection > 1.0 { "  superradiant" } else { "" };
-                        format!(
-                            "  {wt:<24} {:<24} {:<24} {:<10} {:.1e}{mark}\n",
-                            fmt_complex(s.transmission, 0.0),
-                            fmt_complex(s.reflection, 0.0),
-                            format!("{:.1e}", s.flux_error),
-                            s.matching_change
-                        )
-                    }
-                    Err(e) => format!("  {wt:<24} no value: {e}\n"),
-                }
-            }
-        }
-    }
-}
-
-fn footer(f: ScatterFormat, rows: &[Row], summed: bool) -> String {
-    let worst = rows.iter().flat_map(|(_, per)| per.iter().filter_map(|(_, r)| r.as_ref().ok().map(|s| s.flux_error.abs()))).fold(0.0, f64::max);
-    let failed = rows.iter().filter(|(_, per)| per.iter().any(|(_, r)| r.is_err())).count();
-    match f {
-        ScatterFormat::Json => "\n]}\n".to_string(),
-        ScatterFormat::Csv => String::new(),
-        ScatterFormat::Text => {
-            let mut o = format!("\n{} frequencies; largest flux error {worst:.1e}", rows.len());
-            if failed > 0 {
-                o.push_str(&format!("; {failed} without a value{}", if summed { " for some multipole" } else { "" }));
-            }
-            o.push('\n');
-            o
-        }
-    }
 }

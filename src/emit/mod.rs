@@ -7,6 +7,7 @@ mod classify_report;
 pub mod code;
 pub mod numbers;
 pub mod record;
+pub mod scatter;
 pub mod spectrum;
 pub(crate) mod report;
 

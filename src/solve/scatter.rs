@@ -40,7 +40,7 @@ use super::integrate::{continue_along, frobenius, from_infinity, horizon, recess
 use super::spectrum::{eval_in_omega, in_omega, Setup, SpectrumOptions};
 use super::{NPoly, NumOde};
 use crate::algebra::print::{ratfunc_text, Style};
-use crate::algebra::{Rat, RatFunc};
+use crate::algebra::{GRat, Rat, RatFunc};
 use crate::analysis::Place;
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::Reduction;
@@ -384,3 +384,143 @@ fn draw<DB: plotters::prelude::DrawingBackend>(
         .map_err(|e| e.to_string())?;
     root.present().map_err(|e| e.to_string())
 }
+
+/// What a scattering computation is asked for besides the equation.
+#[derive(Debug)]
+pub struct ScatterRequest {
+    /// The frequency's name when given; else a conventional name.
+    pub frequency: Option<String>,
+    /// Values of the other parameters (name, exact value, span in the caller's text).
+    pub values: Vec<(String, GRat, crate::syntax::Span)>,
+    /// The multipole parameter summed for the cross-section, and its range (inclusive).
+    pub sum: Option<(String, i64, i64)>,
+    /// The WKB order of the second method.
+    pub wkb_order: usize,
+}
+
+/// The problems of a scattering computation, set up once: one per
+/// multipole (one alone without a sum), with the barrier's Taylor series for
+/// the WKB transmission where there is a barrier.
+#[derive(Debug)]
+pub struct ScatterSetup {
+    /// The frequency's name.
+    pub frequency: String,
+    /// The near end (a horizon or regular end), as text.
+    pub near: String,
+    /// The far end, as text.
+    pub far: String,
+    /// The summed multipole parameter's name and range, when summing.
+    pub sum: Option<(String, i64, i64)>,
+    /// Multipole value (0 without a sum), problem, barrier Taylor series.
+    problems: Vec<(i64, Problem, Option<Vec<Complex64>>)>,
+    wkb_order: usize,
+}
+
+/// One frequency's results: one entry per multipole.
+pub type ScatterRow = (f64, Vec<(i64, std::result::Result<Scattering, String>)>);
+
+/// Sets up the scattering problems of a request (the ends and exponents
+/// from the exact analysis, every parameter substituted).
+pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSetup> {
+    let usage = |m: String| Error::new(ErrorKind::Usage, m);
+    let names = red.field.names().to_vec();
+    let fname = req.frequency.clone().or_else(|| ["omega", "ω", "w"].iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
+    let Some(fname) = fname else { return Err(usage("no frequency parameter: name it with --frequency".into())) };
+    let Some(freq) = names.iter().skip(1).position(|n| *n == fname).map(|i| i + 1) else {
+        return Err(usage(format!("'{fname}' is not a parameter")).in_option("--frequency"));
+    };
+    if !(1..=super::wkb::MAX_ORDER).contains(&req.wkb_order) {
+        return Err(usage(format!("the WKB order must lie in 1..={}", super::wkb::MAX_ORDER)).in_option("--wkb-order"));
+    }
+    let sum = match &req.sum {
+        None => None,
+        Some((name, l0, l1)) => {
+            if !(0 <= *l0 && l0 <= l1 && l1 - l0 <= 200) {
+                return Err(usage("expected a multipole range A..B with 0 ≤ A ≤ B (at most 200 terms)".into()).in_option("--sum-l"));
+            }
+            let Some(li) = names.iter().skip(1).position(|n| n == name).map(|i| i + 1).filter(|i| *i != freq) else {
+                return Err(usage(format!("'{name}' is not a parameter of the equation other than the frequency")).in_option("--multipole"));
+            };
+            Some((li, *l0, *l1))
+        }
+    };
+    let mut point = vec![GRat::zero(); names.len()];
+    let mut given = vec![false; names.len()];
+    given[0] = true;
+    given[freq] = true;
+    if let Some((li, ..)) = sum {
+        given[li] = true;
+    }
+    for (n, v, span) in &req.values {
+        match names.iter().skip(1).position(|x| x == n).map(|i| i + 1) {
+            Some(i) if i == freq => return Err(usage(format!("'{n}' is the frequency: give it with --omega")).at(*span).in_option("--at")),
+            Some(i) if sum.is_some_and(|s| s.0 == i) => return Err(usage(format!("'{n}' is summed by --sum-l")).at(*span).in_option("--at")),
+            Some(i) => {
+                point[i] = v.clone();
+                given[i] = true;
+            }
+            None => return Err(usage(format!("'{n}' is not a parameter of the equation")).at(*span).in_option("--at")),
+        }
+    }
+    let missing: Vec<&str> = names.iter().zip(&given).filter(|(_, g)| !**g).map(|(n, _)| n.as_str()).collect();
+    if !missing.is_empty() {
+        // No span: the caller points at the whole of its value list.
+        return Err(usage(format!("no value given for {}", missing.join(", "))).in_option("--at"));
+    }
+    let ls: Vec<i64> = match sum {
+        Some((_, l0, l1)) => (l0..=l1).collect(),
+        None => vec![0],
+    };
+    let mut problems = Vec::new();
+    for &l in &ls {
+        let mut values = point.clone();
+        if let Some((li, ..)) = sum {
+            values[li] = GRat::real(Rat::int(l.into()));
+        }
+        let opts = SpectrumOptions { freq, values, overtones: (0, 0), tol: 1e-10, guess: None, seeds: Vec::new() };
+        let r = super::spectrum::substitute(red, &opts.values, freq)?;
+        let (_, setup) = super::spectrum::qnm_recurrence(&r, &opts)?;
+        let pb = problem(&r, &opts, &setup)?;
+        let est = super::spectrum::barrier_estimates(&r, &opts, setup.horizon_value, req.wkb_order).ok();
+        problems.push((l, pb, est.and_then(|e| e(0)).map(|b| b.taylor)));
+    }
+    let (near, far) = (problems[0].1.near_label.clone(), problems[0].1.far_label.clone());
+    Ok(ScatterSetup { frequency: fname, near, far, sum: sum.map(|(li, l0, l1)| (names[li].clone(), l0, l1)), problems, wkb_order: req.wkb_order })
+}
+
+impl ScatterSetup {
+    /// The multipoles (0 alone without a sum).
+    pub fn multipoles(&self) -> Vec<i64> {
+        self.problems.iter().map(|p| p.0).collect()
+    }
+
+    /// The number of problems (one per multipole).
+    pub fn len(&self) -> usize {
+        self.problems.len()
+    }
+
+    /// True when there is no problem (never, after a successful set-up).
+    pub fn is_empty(&self) -> bool {
+        self.problems.is_empty()
+    }
+
+    /// The scattering data of problem `j` at the real frequency `w`, with the
+    /// WKB transmission beside it where there is a barrier.
+    pub fn at(&self, j: usize, w: f64) -> std::result::Result<Scattering, String> {
+        let (_, pb, barrier) = &self.problems[j];
+        let wkb = barrier.as_ref().and_then(|t| super::wkb::wkb_transmission(t, w * w, self.wkb_order));
+        scatter_at(pb, w).map(|s| Scattering { wkb_transmission: wkb, ..s })
+    }
+
+    /// Every multipole at `w`.
+    pub fn row(&self, w: f64) -> ScatterRow {
+        (w, (0..self.problems.len()).map(|j| (self.problems[j].0, self.at(j, w))).collect())
+    }
+}
+
+/// σ at ω when every multipole has a value.
+pub fn row_cross_section(w: f64, per: &[(i64, std::result::Result<Scattering, String>)]) -> Option<f64> {
+    let terms: Option<Vec<(i64, f64)>> = per.iter().map(|(l, r)| r.as_ref().ok().map(|s| (*l, s.transmission))).collect();
+    terms.map(|t| cross_section(w, &t))
+}
+
