@@ -36,6 +36,7 @@ __all__ = [
     "classify",
     "spectrum",
     "scan",
+    "scatter",
     "emit",
     "record",
     "check",
@@ -572,6 +573,76 @@ def scan(
     ot = _overtones(overtones)
     doc = _native.scan(inp, str(vary), vals, _values(at), ot, bool(check), _seed(guess), float(tol))
     return Scan(doc, ot)
+
+
+# --------------------------------------------------------------------------
+# scatter
+
+
+class Scattering(dict):
+    """Scattering data at real frequencies as a dict of NumPy arrays:
+    ``"omega"``, ``"transmission"`` (|T|², the greybody factor),
+    ``"reflection"`` (|R|²), ``"flux_error"`` (|R|² + |T|² − 1, the check),
+    ``"matching_change"``, ``"wkb_transmission"`` (the second method, nan
+    without a barrier) and, with ``sum_l``, ``"cross_section"``; nan where a
+    frequency has no value (``errors`` says why). ``json``: the document of
+    ``canonode scatter --format json``.
+    """
+
+    def __init__(self, doc):
+        np = _np()
+        self.json = doc
+        pts = doc["points"]
+        f = lambda k: np.array([p.get(k) if p.get(k) is not None else np.nan for p in pts], dtype=float)
+        super().__init__(
+            omega=f("omega"),
+            transmission=f("transmission"),
+            reflection=f("reflection"),
+            flux_error=f("flux_error"),
+            matching_change=f("matching_change"),
+            wkb_transmission=f("wkb_transmission"),
+        )
+        if doc["sum"] is not None:
+            self["cross_section"] = f("cross_section")
+        self.errors = [p["error"] for p in pts]
+        self.frequency = doc["frequency"]
+        self.near, self.far = doc["near"], doc["far"]
+
+    def to_pandas(self):
+        import pandas
+
+        return pandas.DataFrame({k: v for k, v in self.items()})
+
+    def __repr__(self):
+        return f"<canonode.Scattering {self.frequency} from {self.far} into {self.near}: {len(self['omega'])} frequencies>"
+
+
+def scatter(
+    equation,
+    at,
+    omega,
+    *,
+    sum_l=None,
+    multipole="l",
+    wkb_order=6,
+    var=None,
+    subst=None,
+    at_infinity=False,
+    dxdz=None,
+    frequency=None,
+) -> Scattering:
+    """Transmission and reflection at real frequencies (greybody factors).
+
+    ``omega``: ``(start, stop, step)``, each taken exactly as its shortest
+    decimal (as ``--omega START:STOP:STEP``); ``at``: every other parameter;
+    ``sum_l``: ``(first, last)`` multipoles of ``multipole`` summed into the
+    absorption cross-section. Ctrl-C stops before the next frequency.
+    """
+    inp = _input(equation, var, subst, at_infinity, dxdz, frequency)
+    start, stop, step = omega
+    grid = tuple(_parts(x)[0] for x in (start, stop, step))
+    s = None if sum_l is None else (str(multipole), int(sum_l[0]), int(sum_l[1]))
+    return Scattering(_native.scatter(inp, _values(at), grid, s, int(wkb_order)))
 
 
 # --------------------------------------------------------------------------

@@ -161,6 +161,28 @@ def scan(
     dxdz: Optional[str] = ...,
     frequency: Optional[str] = ...,
 ) -> Scan: ...
+class Scattering(Dict[str, Any]):
+    json: Dict[str, Any]
+    errors: List[Optional[str]]
+    frequency: str
+    near: str
+    far: str
+    def to_pandas(self) -> Any: ...
+
+def scatter(
+    equation: Text,
+    at: Mapping[str, Number],
+    omega: Tuple[Number, Number, Number],
+    *,
+    sum_l: Optional[Tuple[int, int]] = ...,
+    multipole: str = ...,
+    wkb_order: int = ...,
+    var: Optional[str] = ...,
+    subst: Optional[str] = ...,
+    at_infinity: bool = ...,
+    dxdz: Optional[str] = ...,
+    frequency: Optional[str] = ...,
+) -> Scattering: ...
 def emit(
     text: Text,
     lang: str = ...,

@@ -670,6 +670,23 @@ fn scan(
     to_py(py, &doc)
 }
 
+/// `scatter`: the JSON document of `canonode scatter --format json`;
+/// Ctrl-C stops it before the next frequency.
+#[pyfunction]
+#[pyo3(signature = (input, at, omega, sum_l, wkb_order))]
+fn scatter(
+    py: Python<'_>,
+    input: InputTuple,
+    at: Values,
+    omega: (String, String, String),
+    sum_l: Option<(String, i64, i64)>,
+    wkb_order: usize,
+) -> PyResult<PyObject> {
+    let spec = Spec::from_tuple(input);
+    let doc = run(py, move |cancel| workflows::scatter(&spec, &at, &omega, sum_l, wkb_order, cancel))?;
+    to_py(py, &doc)
+}
+
 /// The Python module.
 #[pymodule]
 fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
@@ -680,6 +697,7 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(classify, m)?)?;
     m.add_function(wrap_pyfunction!(spectrum, m)?)?;
     m.add_function(wrap_pyfunction!(scan, m)?)?;
+    m.add_function(wrap_pyfunction!(scatter, m)?)?;
     m.add_function(wrap_pyfunction!(emit, m)?)?;
     m.add_function(wrap_pyfunction!(record, m)?)?;
     m.add_function(wrap_pyfunction!(record_source, m)?)?;

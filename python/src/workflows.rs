@@ -310,3 +310,46 @@ fn couple_request(spec: &Spec, red: &canonode::ode::Reduction, c: &Couple) -> Re
     };
     Ok((aspec, req))
 }
+
+/// Scattering data at real frequencies: the document of `canonode scatter
+/// --format json`, from the same library set-up (`solve::scatter`) and the
+/// same renderer (`emit::scatter`). `omega` is (start, stop, step) as exact
+/// decimal text; Ctrl-C stops it before the next frequency.
+pub fn scatter(
+    spec: &Spec,
+    at: &Values,
+    omega: &(String, String, String),
+    sum: Option<(String, i64, i64)>,
+    wkb_order: usize,
+    cancel: &AtomicBool,
+) -> Result<Value, Fail> {
+    let lib = |e: Error| fail(&e, spec, &[]);
+    let red = canonode::ode::reduce(&spec.input(), &spec.options()).map_err(lib)?;
+    let shown = format!("{}:{}:{}", omega.0, omega.1, omega.2);
+    let bad_grid = |m: &str| usage(m, "omega", spec, &[("omega".into(), shown.clone())], None);
+    let parts: Vec<Option<Rat>> = [&omega.0, &omega.1, &omega.2].iter().map(|t| Rat::parse_decimal(t.trim())).collect();
+    let (Some(w0), Some(w1), Some(dw)) = (&parts[0], &parts[1], &parts[2]) else {
+        return Err(bad_grid("expected (start, stop, step) with exact non-negative decimals"));
+    };
+    let grid = match canonode::solve::scan::grid(w0, w1, dw) {
+        Some(g) if !g.is_empty() => g,
+        _ => return Err(bad_grid("the frequency grid is empty, too long or has a non-positive step")),
+    };
+    let (at_text, values) = read_values(at, "at", spec)?;
+    let req = canonode::solve::scatter::ScatterRequest { frequency: spec.frequency.clone(), values, sum, wkb_order };
+    let setup = canonode::solve::scatter::scatter_setup(&red, &req).map_err(|e| match &e.origin {
+        Origin::Option(o) if o == "--at" && e.span.is_none() => usage(e.message.clone(), "at", spec, &[("at".into(), at_text.clone())], None),
+        _ => fail(&e, spec, &[("at".into(), at_text.clone())]),
+    })?;
+    let mut points = Vec::with_capacity(grid.len());
+    for w in grid.iter().map(|r| r.to_f64()) {
+        if cancel.load(Ordering::SeqCst) {
+            return Err(lib(Error::new(ErrorKind::Usage, "interrupted")));
+        }
+        let (w, per) = setup.row(w);
+        points.push(canonode::emit::scatter::point_json(w, &per, setup.sum.is_some()));
+    }
+    let mut doc = canonode::emit::scatter::head_json(&setup.frequency, &setup.near, &setup.far, setup.sum.as_ref());
+    doc["points"] = Value::Array(points);
+    Ok(doc)
+}

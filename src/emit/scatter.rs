@@ -23,8 +23,7 @@ pub enum Format {
 pub fn header(f: Format, fname: &str, near: &str, far: &str, sum: Option<&(String, i64, i64)>, ls: &[i64]) -> String {
     match f {
         Format::Json => {
-            let s = sum.map(|(p, a, b)| json!({"param": p, "from": a, "to": b})).unwrap_or(Value::Null);
-            let lead = json!({"frequency": fname, "near": near, "far": far, "sum": s}).to_string();
+            let lead = head_json(fname, near, far, sum).to_string();
             // The object is left open: the points follow as they are computed.
             format!("{},\n\"points\": [\n", lead.strip_suffix('}').unwrap_or(&lead))
         }
@@ -74,41 +73,7 @@ pub fn fields(r: &Result<Scattering, String>) -> Value {
 /// One frequency's line(s); `first` for the first point of a JSON document.
 pub fn row_text(f: Format, w: f64, per: &[(i64, Result<Scattering, String>)], summed: bool, first: bool) -> String {
     match f {
-        Format::Json => {
-            let mut o = fields(&per[0].1);
-            o.as_object_mut().map(|m| m.insert("omega".into(), json!(w)));
-            if summed {
-                let partial: Vec<Value> = per
-                    .iter()
-                    .map(|(l, r)| {
-                        let mut p = fields(r);
-                        if let Some(m) = p.as_object_mut() {
-                            m.insert("l".into(), json!(l));
-                            m.insert(
-                                "cross_section_term".into(),
-                                r.as_ref().ok().map(|s| num(cross_section(w, &[(*l, s.transmission)]))).unwrap_or(Value::Null),
-                            );
-                        }
-                        p
-                    })
-                    .collect();
-                if let Some(m) = o.as_object_mut() {
-                    m.insert("cross_section".into(), row_cross_section(w, per).map(num).unwrap_or(Value::Null));
-                    m.insert("partial".into(), Value::Array(partial));
-                }
-            }
-            // Keys in a fixed order: omega first.
-            let mut ordered = serde_json::Map::new();
-            ordered.insert("omega".into(), json!(w));
-            if let Some(m) = o.as_object() {
-                for (k, v) in m {
-                    if k != "omega" {
-                        ordered.insert(k.clone(), v.clone());
-                    }
-                }
-            }
-            format!("{}{}", if first { "  " } else { ",\n  " }, Value::Object(ordered))
-        }
+        Format::Json => format!("{}{}", if first { "  " } else { ",\n  " }, point_json(w, per, summed)),
         Format::Csv => {
             let g = |x: f64| if x.is_finite() { format!("{x:.17e}") } else { String::new() };
             let mut line = match &per[0].1 {
@@ -180,4 +145,47 @@ pub fn footer(f: Format, rows: &[ScatterRow], summed: bool) -> String {
             o
         }
     }
+}
+
+/// One frequency as the JSON document's point.
+pub fn point_json(w: f64, per: &[(i64, Result<Scattering, String>)], summed: bool) -> Value {
+    let mut o = fields(&per[0].1);
+    o.as_object_mut().map(|m| m.insert("omega".into(), json!(w)));
+    if summed {
+        let partial: Vec<Value> = per
+            .iter()
+            .map(|(l, r)| {
+                let mut p = fields(r);
+                if let Some(m) = p.as_object_mut() {
+                    m.insert("l".into(), json!(l));
+                    m.insert(
+                        "cross_section_term".into(),
+                        r.as_ref().ok().map(|s| num(cross_section(w, &[(*l, s.transmission)]))).unwrap_or(Value::Null),
+                    );
+                }
+                p
+            })
+            .collect();
+        if let Some(m) = o.as_object_mut() {
+            m.insert("cross_section".into(), row_cross_section(w, per).map(num).unwrap_or(Value::Null));
+            m.insert("partial".into(), Value::Array(partial));
+        }
+    }
+    // Keys in a fixed order: omega first.
+    let mut ordered = serde_json::Map::new();
+    ordered.insert("omega".into(), json!(w));
+    if let Some(m) = o.as_object() {
+        for (k, v) in m {
+            if k != "omega" {
+                ordered.insert(k.clone(), v.clone());
+            }
+        }
+    }
+    Value::Object(ordered)
+}
+
+/// The JSON document's head (everything but the points).
+pub fn head_json(fname: &str, near: &str, far: &str, sum: Option<&(String, i64, i64)>) -> Value {
+    let s = sum.map(|(p, a, b)| json!({"param": p, "from": a, "to": b})).unwrap_or(Value::Null);
+    json!({"frequency": fname, "near": near, "far": far, "sum": s})
 }
