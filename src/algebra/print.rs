@@ -349,6 +349,36 @@ pub fn gint_text(c: &GInt) -> String {
     grat_text(&c.to_grat(), Style::Text)
 }
 
+/// `(z - z0)` for printing, with `z` alone when z0 = 0 and `z + c` for z0 = −c.
+pub fn shifted(v: &str, at: &str, style: Style) -> String {
+    let simple = |t: &str| !t.contains(" + ") && !t.contains(" - ");
+    let (l, r) = match style {
+        Style::Text => ("(", ")"),
+        Style::Latex => ("\\left(", "\\right)"),
+    };
+    if at == "0" {
+        v.to_string()
+    } else if let Some(neg) = at.strip_prefix('-').filter(|t| simple(t)) {
+        format!("{l}{v} + {neg}{r}")
+    } else if simple(at) {
+        format!("{l}{v} - {at}{r}")
+    } else {
+        format!("{l}{v} - {l}{at}{r}{r}")
+    }
+}
+
+/// `s` in parentheses unless it is a single name or number.
+pub fn wrap(s: String, style: Style) -> String {
+    if s.chars().all(|c| c.is_alphanumeric() || c == '_' || c == '\\' || c == '{' || c == '}') {
+        s
+    } else {
+        match style {
+            Style::Text => format!("({s})"),
+            Style::Latex => format!("\\left({s}\\right)"),
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

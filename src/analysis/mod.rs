@@ -456,7 +456,7 @@ fn infinity_point(k: &Field, q: &RatFunc, p: &RatFunc) -> Result<SingularPoint> 
 /// The canonical form of the analysed equation, when its class has one here.
 pub fn canonical(red: &Reduction, an: &Analysis, choices: &canonical::Choices) -> Result<Option<canonical::Canonical>> {
     let k = &red.field;
-    let pf = crate::emit::report::prefactor_text(red, &red.normal.prefactor, crate::algebra::print::Style::Text);
+    let pf = crate::ode::prefactor_text(&red.var, red.field.names(), &red.normal.prefactor, crate::algebra::print::Style::Text);
     match an.class.as_str() {
         "confluent-hypergeometric" => canonical::whittaker_form(k, &red.var, &red.normal.q, &an.points, &red.normal.prefactor, &pf),
         "airy" | "parabolic-cylinder" => canonical::polynomial_q_form(k, &red.var, &red.normal.q, &pf),

@@ -164,7 +164,7 @@ pub(crate) fn where_text(k: &Field, var: &str, p: &SingularPoint, s: Style) -> S
 
 pub(crate) fn formal_text(k: &Field, var: &str, p: &SingularPoint) -> Vec<String> {
     let x = match &p.place {
-        Place::Point { at, .. } => crate::emit::report::shifted(var, &rf(k, at, Style::Text), Style::Text),
+        Place::Point { at, .. } => crate::algebra::print::shifted(var, &rf(k, at, Style::Text), Style::Text),
         _ => var.to_string(),
     };
     if p.formal.is_empty() && p.kind == crate::analysis::Kind::Irregular {

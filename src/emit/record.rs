@@ -51,7 +51,6 @@
 //! ```
 
 use super::classify_report::{apparent_fields, exponent_text, formal_text, param_text, where_text};
-use super::report::prefactor_text;
 use crate::algebra::print::{ratfunc_text, Style};
 use crate::analysis::{Analysis, Kind, Place};
 use crate::error::{Error, ErrorKind, Result};
@@ -331,7 +330,7 @@ fn reduction_fields(rec: &mut Record, red: &Reduction) -> Result<()> {
     rec.push("standard.p", rt(&red.p))?;
     rec.push("standard.q", rt(&red.q))?;
     rec.push("normal.Q", rt(&red.normal.q))?;
-    rec.push("normal.prefactor", prefactor_text(red, &red.normal.prefactor, s))?;
+    rec.push("normal.prefactor", crate::ode::prefactor_text(&red.var, red.field.names(), &red.normal.prefactor, s))?;
     if let Some(sch) = &red.schrodinger {
         rec.push("schrodinger.dxdz", rt(&sch.dxdz))?;
         rec.push("schrodinger.frequency", sch.frequency.clone().unwrap_or_else(|| "(none)".into()))?;

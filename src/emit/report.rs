@@ -14,7 +14,7 @@
 
 use crate::algebra::print::{den_text, poly_text, ratfunc_text, Style};
 use crate::algebra::{Int, Poly, RatFunc};
-use crate::ode::{Prefactor, Reduction};
+use crate::ode::Reduction;
 use serde_json::{json, Value};
 
 fn names(r: &Reduction) -> Vec<String> {
@@ -27,79 +27,6 @@ fn rt(r: &Reduction, x: &RatFunc, style: Style) -> String {
 
 fn pt(r: &Reduction, x: &Poly, style: Style) -> String {
     poly_text(x, &Int::ONE, &names(r), style)
-}
-
-fn wrap(s: String, style: Style) -> String {
-    if s.chars().all(|c| c.is_alphanumeric() || c == '_' || c == '\\' || c == '{' || c == '}') {
-        s
-    } else {
-        match style {
-            Style::Text => format!("({s})"),
-            Style::Latex => format!("\\left({s}\\right)"),
-        }
-    }
-}
-
-/// `(z - z0)` for printing, with `z` alone when z0 = 0 and `z + c` for z0 = −c.
-pub(crate) fn shifted(v: &str, at: &str, style: Style) -> String {
-    let simple = |t: &str| !t.contains(" + ") && !t.contains(" - ");
-    let (l, r) = match style {
-        Style::Text => ("(", ")"),
-        Style::Latex => ("\\left(", "\\right)"),
-    };
-    if at == "0" {
-        v.to_string()
-    } else if let Some(neg) = at.strip_prefix('-').filter(|t| simple(t)) {
-        format!("{l}{v} + {neg}{r}")
-    } else if simple(at) {
-        format!("{l}{v} - {at}{r}")
-    } else {
-        format!("{l}{v} - {l}{at}{r}{r}")
-    }
-}
-
-/// The prefactor as one expression: y = (this) · ψ.
-pub(crate) fn prefactor_text(r: &Reduction, pf: &Prefactor, style: Style) -> String {
-    let mut parts = Vec::new();
-    for (f, e) in &pf.powers {
-        let base = wrap(pt(r, f, style), style);
-        let ex = rt(r, e, style);
-        parts.push(match style {
-            Style::Text => format!("{base}^{}", wrap(ex, style)),
-            Style::Latex => format!("{base}^{{{ex}}}"),
-        });
-    }
-    if !pf.exponential.is_zero() {
-        let ex = rt(r, &pf.exponential, style);
-        parts.push(match style {
-            Style::Text => format!("exp({ex})"),
-            Style::Latex => format!("e^{{{ex}}}"),
-        });
-    }
-    let var = match style {
-        Style::Text => r.var.clone(),
-        Style::Latex => crate::algebra::print::latex_name(&r.var),
-    };
-    for (f, e, a) in &pf.unevaluated {
-        let ft = pt(r, f, style);
-        let num = rt(r, a, style);
-        let theta = match style {
-            Style::Text => "θ",
-            Style::Latex => "\\theta",
-        };
-        parts.push(match (style, e) {
-            (Style::Text, 1) => format!("prod[θ root of {ft}]((({var}) - θ)^(-R(θ)/(2*F'(θ))), R = {num}, F = {ft})"),
-            (Style::Text, e) => format!("exp(-1/2*integral(part of p at the roots of ({ft})^{e}; R = {num}))"),
-            (Style::Latex, _) => format!("\\prod_{{{theta}:\\,{ft}=0}} ({var} - {theta})^{{-R({theta})/(2F'({theta}))}}\\Big|_{{R = {num}}}"),
-        });
-    }
-    if parts.is_empty() {
-        return "1".to_string();
-    }
-    match style {
-        Style::Text => parts.join("*"),
-        Style::Latex => parts.join(" "),
-    }
 }
 
 fn principal_rows(r: &Reduction, style: Style) -> Vec<(String, Vec<(i64, String)>)> {
@@ -143,11 +70,11 @@ pub fn reduction_text(r: &Reduction, source_name: &str) -> String {
         for (at, cs) in rows {
             o.push_str(&format!("  at {v} = {at}:\n"));
             for (pw, c) in cs {
-                o.push_str(&format!("    {}^({pw}):  {c}\n", shifted(v, &at, s)));
+                o.push_str(&format!("    {}^({pw}):  {c}\n", crate::algebra::print::shifted(v, &at, s)));
             }
         }
     }
-    o.push_str(&format!("\nprefactor   P = exp(-1/2*integral(p)) = {}\n", prefactor_text(r, &r.normal.prefactor, s)));
+    o.push_str(&format!("\nprefactor   P = exp(-1/2*integral(p)) = {}\n", crate::ode::prefactor_text(&r.var, r.field.names(), &r.normal.prefactor, s)));
     if let Some(sch) = &r.schrodinger {
         o.push_str(&format!("\nSchrödinger form   d²φ/dx² + (ω² − V)*φ = 0,   dx/d{v} = {}\n", rt(r, &sch.dxdz, s)));
         match &sch.frequency {
@@ -174,10 +101,10 @@ pub fn reduction_latex(r: &Reduction) -> String {
     lines.push(format!("{u}'' + p\\,{u}' + q\\,{u} &= 0, \\qquad ' = \\frac{{d}}{{d{v}}}"));
     lines.push(format!("p &= {}", rt(r, &r.p, s)));
     lines.push(format!("q &= {}", rt(r, &r.q, s)));
-    lines.push(format!("{u} &= {}\\,\\psi, \\qquad \\psi'' + Q\\,\\psi = 0", prefactor_text(r, &r.normal.prefactor, s)));
+    lines.push(format!("{u} &= {}\\,\\psi, \\qquad \\psi'' + Q\\,\\psi = 0", crate::ode::prefactor_text(&r.var, r.field.names(), &r.normal.prefactor, s)));
     lines.push(format!("Q &= {}", rt(r, &r.normal.q, s)));
     for (at, cs) in principal_rows(r, s) {
-        let terms: Vec<String> = cs.iter().map(|(pw, c)| format!("\\left({c}\\right){}^{{{pw}}}", shifted(&v, &at, s))).collect();
+        let terms: Vec<String> = cs.iter().map(|(pw, c)| format!("\\left({c}\\right){}^{{{pw}}}", crate::algebra::print::shifted(&v, &at, s))).collect();
         lines.push(format!("Q &= {} + O(1) \\quad ({v} \\to {at})", terms.join(" + ")));
     }
     if let Some(sch) = &r.schrodinger {
@@ -230,7 +157,7 @@ pub fn reduction_json(r: &Reduction) -> Value {
             "denominator_factors": factors,
             "principal_parts": principal,
         },
-        "prefactor": {"text": prefactor_text(r, pf, s), "powers": powers, "exponential": rt(r, &pf.exponential, s), "unevaluated": unev},
+        "prefactor": {"text": crate::ode::prefactor_text(&r.var, r.field.names(), pf, s), "powers": powers, "exponential": rt(r, &pf.exponential, s), "unevaluated": unev},
         "schrodinger": schrod,
     })
 }

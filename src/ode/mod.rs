@@ -8,7 +8,7 @@ mod quasi;
 mod transform;
 
 pub use lower::{lower_program, lower_program_mapped, ExpMap, LinearOde, MapRequest, NameMode};
-pub use normal::{linear_root, normal_form, normal_q, prefactor, principal_parts, NormalForm, Prefactor, PrincipalPart};
+pub use normal::{linear_root, normal_form, normal_q, prefactor, prefactor_text, principal_parts, NormalForm, Prefactor, PrincipalPart};
 pub use transform::{change_variable, schrodinger, schwarzian, transform_q};
 
 pub(crate) use lower::lower_rational;

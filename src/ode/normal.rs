@@ -216,3 +216,50 @@ pub fn prefactor(k: &Field, p: &RatFunc) -> Result<Prefactor> {
     let exponential = k.mul(&minus_half, &integral)?;
     Ok(Prefactor { powers, exponential, unevaluated })
 }
+
+/// The prefactor as one expression: y = (this) · ψ.
+pub fn prefactor_text(var_name: &str, names: &[String], pf: &Prefactor, style: crate::algebra::print::Style) -> String {
+    use crate::algebra::print::Style;
+    let pt = |x: &crate::algebra::Poly| crate::algebra::print::poly_text(x, &crate::algebra::Int::ONE, names, style);
+    let rt = |x: &RatFunc| crate::algebra::print::ratfunc_text(x, names, style);
+    let mut parts = Vec::new();
+    for (f, e) in &pf.powers {
+        let base = crate::algebra::print::wrap(pt(f), style);
+        let ex = rt(e);
+        parts.push(match style {
+            Style::Text => format!("{base}^{}", crate::algebra::print::wrap(ex, style)),
+            Style::Latex => format!("{base}^{{{ex}}}"),
+        });
+    }
+    if !pf.exponential.is_zero() {
+        let ex = rt(&pf.exponential);
+        parts.push(match style {
+            Style::Text => format!("exp({ex})"),
+            Style::Latex => format!("e^{{{ex}}}"),
+        });
+    }
+    let var = match style {
+        Style::Text => var_name.to_string(),
+        Style::Latex => crate::algebra::print::latex_name(var_name),
+    };
+    for (f, e, a) in &pf.unevaluated {
+        let ft = pt(f);
+        let num = rt(a);
+        let theta = match style {
+            Style::Text => "θ",
+            Style::Latex => "\\theta",
+        };
+        parts.push(match (style, e) {
+            (Style::Text, 1) => format!("prod[θ root of {ft}]((({var}) - θ)^(-R(θ)/(2*F'(θ))), R = {num}, F = {ft})"),
+            (Style::Text, e) => format!("exp(-1/2*integral(part of p at the roots of ({ft})^{e}; R = {num}))"),
+            (Style::Latex, _) => format!("\\prod_{{{theta}:\\,{ft}=0}} ({var} - {theta})^{{-R({theta})/(2F'({theta}))}}\\Big|_{{R = {num}}}"),
+        });
+    }
+    if parts.is_empty() {
+        return "1".to_string();
+    }
+    match style {
+        Style::Text => parts.join("*"),
+        Style::Latex => parts.join(" "),
+    }
+}

@@ -190,10 +190,10 @@ fn recurrence_mod(
                 Some(z2) => {
                     // u = (z − z_h)/(z − z₂)  ⇔  z = (z_h − z₂ u)/(1 − u)
                     let g = ku.div(&ku.sub(&zh, &ku.mul(z2, &uu)?)?, &ku.sub(&RatFunc::one(), &uu)?)?;
-                    let sh = |at: &RatFunc| crate::emit::report::shifted(&red.var, &rt(k, at), Style::Text);
+                    let sh = |at: &RatFunc| crate::algebra::print::shifted(&red.var, &rt(k, at), Style::Text);
                     (Some(z2.clone()), g, format!("{u} = {}/{}", sh(&zh), sh(z2)))
                 }
-                None => (None, ku.add(&zh, &uu)?, format!("{u} = {}", crate::emit::report::shifted(&red.var, &rt(k, &zh), Style::Text))),
+                None => (None, ku.add(&zh, &uu)?, format!("{u} = {}", crate::algebra::print::shifted(&red.var, &rt(k, &zh), Style::Text))),
             }
         }
     };

@@ -436,7 +436,7 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
     if let Some(g) = guess {
         for n in lo..=hi {
             let seed = if n == lo {
-                Seed { omega: g, from: "--guess".into() }
+                Seed { omega: g, from: "the given guess".into() }
             } else if out.len() >= 2 && out.iter().rev().take(2).all(|m| m.root.converged) {
                 let (a, b) = (out[out.len() - 1].root.omega, out[out.len() - 2].root.omega);
                 Seed { omega: a + (a - b), from: "extrapolated from the two previous overtones".into() }
@@ -449,7 +449,7 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
                     Seed { omega: w - Complex64::new(0.0, 2.0 * w.im.abs().max(0.05 * bp.scale)), from: "below the previous overtone".into() }
                 }
             } else {
-                Seed { omega: g, from: "--guess".into() }
+                Seed { omega: g, from: "the given guess".into() }
             };
             let mut r = find_root(bp, seed.omega, tol);
             if r.converged {

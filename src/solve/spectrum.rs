@@ -275,7 +275,7 @@ pub fn overtones(
         let seed = if let Some(s) = opts.seeds.get(idx) {
             (*s, "given".to_string())
         } else if n == opts.overtones.0 && opts.guess.is_some() {
-            (opts.guess.expect("checked"), "--guess".to_string())
+            (opts.guess.expect("checked"), "the given guess".to_string())
         } else if let Some((a, b)) = last_two_converged(&modes) {
             // Linear in the overtone number from the two nearest converged
             // overtones (a failed one in between is stepped over).

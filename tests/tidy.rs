@@ -1,0 +1,158 @@
+//! The invariants of DEVELOPERS.md, checked on the source text so that a
+//! change that breaks one fails here, with the file and line named:
+//!
+//! - only `cli` (and the thin binary) prints;
+//! - the pipeline's stages import only from earlier stages (data flows one
+//!   way: syntax, algebra, ode, analysis, series, solve, present, emit, cli);
+//! - the exact layer (`algebra`) holds floats only in its documented exits
+//!   (the conversions `to_f64` and the term-count estimate of the work
+//!   limit), counted so the number cannot grow unseen;
+//! - command-line option names (`"--name"`) appear outside `cli` only in the
+//!   files listed below, each of which must still hold one (a ratchet: when a
+//!   file is cleaned, it leaves the list).
+
+use std::path::{Path, PathBuf};
+
+/// The pipeline's stages in order; a stage may import from itself and from earlier ones.
+const STAGES: &[&str] = &["syntax", "algebra", "ode", "analysis", "series", "solve", "present", "emit", "cli"];
+
+/// Library files that still name command-line options in their errors
+/// (debt: the option text should be named by `cli` alone).
+const OPTION_NAMES_ALLOWED: &[&str] = &[
+    "src/ode/mod.rs",
+    "src/ode/lower.rs",
+    "src/series/mod.rs",
+    "src/emit/record.rs",
+    "src/emit/code.rs",
+    "src/solve/request.rs",
+    "src/solve/scatter.rs",
+    "src/solve/coupled.rs",
+];
+
+/// Lines mentioning `f64` allowed per file of the exact layer (tests excluded).
+const FLOATS_IN_ALGEBRA: &[(&str, usize)] = &[("src/algebra/int.rs", 11), ("src/algebra/rational.rs", 6), ("src/algebra/ratfunc.rs", 5)];
+
+fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+fn rust_files(dir: &Path, out: &mut Vec<PathBuf>) {
+    let Ok(entries) = std::fs::read_dir(dir) else { return };
+    let mut entries: Vec<_> = entries.flatten().map(|e| e.path()).collect();
+    entries.sort();
+    for p in entries {
+        if p.is_dir() {
+            rust_files(&p, out);
+        } else if p.extension().is_some_and(|e| e == "rs") {
+            out.push(p);
+        }
+    }
+}
+
+/// The file's lines before its unit-test module, with their numbers,
+/// comments dropped (a line comment, a doc comment).
+fn code_lines(path: &Path) -> Vec<(usize, String)> {
+    let text = std::fs::read_to_string(path).unwrap_or_default();
+    let mut out = Vec::new();
+    for (i, line) in text.lines().enumerate() {
+        if line.trim_start().starts_with("#[cfg(test)]") {
+            break;
+        }
+        let code = match line.find("//") {
+            // A `//` inside a string literal is rare in these files; the
+            // checks below look for tokens that are not in URLs.
+            Some(j) => &line[..j],
+            None => line,
+        };
+        if !code.trim().is_empty() {
+            out.push((i + 1, code.to_string()));
+        }
+    }
+    out
+}
+
+fn rel(path: &Path) -> String {
+    path.strip_prefix(root()).unwrap_or(path).to_string_lossy().replace('\\', "/")
+}
+
+fn library_files() -> Vec<PathBuf> {
+    let mut files = Vec::new();
+    rust_files(&root().join("src"), &mut files);
+    files
+}
+
+#[test]
+fn only_the_command_line_prints() {
+    let mut bad = Vec::new();
+    for f in library_files() {
+        let r = rel(&f);
+        if r.starts_with("src/cli/") || r == "src/main.rs" {
+            continue;
+        }
+        for (n, line) in code_lines(&f) {
+            for mac in ["println!", "print!(", "eprintln!", "eprint!(", "dbg!("] {
+                if line.contains(mac) {
+                    bad.push(format!("{r}:{n}: {}", line.trim()));
+                }
+            }
+        }
+    }
+    assert!(bad.is_empty(), "printing outside src/cli:\n{}", bad.join("\n"));
+}
+
+#[test]
+fn stages_import_only_from_earlier_stages() {
+    let mut bad = Vec::new();
+    for f in library_files() {
+        let r = rel(&f);
+        let Some(stage) = STAGES.iter().position(|s| r.starts_with(&format!("src/{s}/"))) else { continue };
+        for (n, line) in code_lines(&f) {
+            for (later, name) in STAGES.iter().enumerate().skip(stage + 1) {
+                if line.contains(&format!("crate::{name}::")) || line.contains(&format!("crate::{name};")) {
+                    bad.push(format!("{r}:{n}: the stage '{}' uses the later stage '{name}' ({later}): {}", STAGES[stage], line.trim()));
+                }
+            }
+        }
+    }
+    assert!(bad.is_empty(), "imports against the flow of the pipeline:\n{}", bad.join("\n"));
+}
+
+#[test]
+fn the_exact_layer_keeps_floats_to_its_exits() {
+    let mut bad = Vec::new();
+    let mut files = Vec::new();
+    rust_files(&root().join("src/algebra"), &mut files);
+    for f in files {
+        let r = rel(&f);
+        let count = code_lines(&f).iter().filter(|(_, l)| l.contains("f64") || l.contains("f32")).count();
+        let allowed = FLOATS_IN_ALGEBRA.iter().find(|(p, _)| *p == r).map_or(0, |(_, c)| *c);
+        if count > allowed {
+            bad.push(format!("{r}: {count} lines with floats, at most {allowed} (the documented exits)"));
+        }
+    }
+    assert!(bad.is_empty(), "floats in the exact layer beyond its documented exits:\n{}", bad.join("\n"));
+}
+
+#[test]
+fn option_names_stay_in_the_command_line() {
+    let mut bad = Vec::new();
+    let mut seen = std::collections::BTreeSet::new();
+    for f in library_files() {
+        let r = rel(&f);
+        if r.starts_with("src/cli/") || r == "src/main.rs" {
+            continue;
+        }
+        for (n, line) in code_lines(&f) {
+            let has = line.match_indices("\"--").any(|(i, _)| line[i + 3..].chars().next().is_some_and(|c| c.is_ascii_lowercase()));
+            if has {
+                seen.insert(r.clone());
+                if !OPTION_NAMES_ALLOWED.contains(&r.as_str()) {
+                    bad.push(format!("{r}:{n}: {}", line.trim()));
+                }
+            }
+        }
+    }
+    assert!(bad.is_empty(), "option names outside src/cli (name them in cli, or, as a last resort, list the file):\n{}", bad.join("\n"));
+    let stale: Vec<&&str> = OPTION_NAMES_ALLOWED.iter().filter(|p| !seen.contains(**p)).collect();
+    assert!(stale.is_empty(), "these files no longer name options: take them off OPTION_NAMES_ALLOWED: {stale:?}");
+}
