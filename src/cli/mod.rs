@@ -13,6 +13,7 @@ mod record;
 mod recurrence;
 mod reduce;
 mod scan;
+mod table;
 mod scatter;
 mod spectrum;
 mod values;
@@ -45,7 +46,7 @@ enum Command {
     Recurrence(recurrence::RecurrenceArgs),
     /// Quasinormal modes (continued fraction, checked by direct integration), bound states, coupled equations.
     Spectrum(spectrum::SpectrumArgs),
-    /// Quasinormal modes over a grid of one parameter (parallel, continuation, shards, SVG/PNG plot).
+    /// Quasinormal modes over a survey of one or more parameters (parallel, continuation, streamed tables, resume, shards, SVG/PNG plot).
     Scan(scan::ScanArgs),
     /// Transmission and reflection (greybody factors) at real frequencies, absorption cross-sections (parallel, streamed).
     Scatter(scatter::ScatterArgs),
