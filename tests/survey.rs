@@ -175,6 +175,83 @@ fn a_killed_survey_resumed_gives_the_uninterrupted_table() {
 }
 
 #[test]
+fn four_shards_merged_equal_the_whole_run_and_bad_sets_are_reported() {
+    let d = dir("shards");
+    let whole = rows(&ok(&survey_args(&[])));
+    let shard = |k: usize| -> String {
+        let f = path(&d.join(format!("part{k}.csv")));
+        // Shards 1 and 2 from Slurm's variables (an array 0-3), 3 from Grid
+        // Engine's (1-4), 4 given by hand.
+        let env: Vec<(&str, String)> = match k {
+            1 | 2 => vec![("SLURM_ARRAY_TASK_ID", (k - 1).to_string()), ("SLURM_ARRAY_TASK_MIN", "0".into()), ("SLURM_ARRAY_TASK_COUNT", "4".into())],
+            3 => vec![("SGE_TASK_ID", "3".into()), ("SGE_TASK_FIRST", "1".into()), ("SGE_TASK_LAST", "4".into()), ("SGE_TASK_STEPSIZE", "1".into())],
+            _ => Vec::new(),
+        };
+        let spec = if k == 4 { "4/4".to_string() } else { "auto".to_string() };
+        let env: Vec<(&str, &str)> = env.iter().map(|(a, b)| (*a, b.as_str())).collect();
+        let o = canonode(&survey_args(&["--shard", &spec, "-o", &f]), &env);
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        assert!(std::fs::read_to_string(&f).unwrap().contains(&format!("shard={k}/4")));
+        f
+    };
+    let parts: Vec<String> = (1..=4).map(shard).collect();
+    let merged = path(&d.join("merged.csv"));
+    let mut args = vec!["merge"];
+    args.extend(parts.iter().rev().map(|s| s.as_str()));
+    args.extend(["-o", &merged]);
+    let o = canonode(&args, &[]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let m = rows(&std::fs::read_to_string(&merged).unwrap());
+    assert_eq!(m.len(), whole.len());
+    for (x, y) in m.iter().zip(&whole) {
+        assert_eq!((x.0, &x.1, x.2), (y.0, &y.1, y.2));
+        assert!(close((x.3, x.4), (y.3, y.4)), "{x:?} {y:?}");
+    }
+    let merge_err = |files: &[&str]| -> String {
+        let mut a = vec!["merge"];
+        a.extend_from_slice(files);
+        let o = canonode(&a, &[]);
+        assert_eq!(o.status.code(), Some(1), "{files:?}");
+        assert!(o.stdout.is_empty());
+        String::from_utf8_lossy(&o.stderr).to_string()
+    };
+    // A missing shard.
+    let e = merge_err(&[&parts[0], &parts[1], &parts[3]]);
+    assert!(e.contains("points 19..27 (9 points) are missing") && e.contains("a shard is missing"), "{e}");
+    // 38 points (2 multipoles × 19 charges) in shards 0..9, 9..19, 19..28, 28..38.
+    // A point twice: the last point of shard 2 copied into shard 3.
+    let dup = path(&d.join("dup.csv"));
+    let two = std::fs::read_to_string(&parts[1]).unwrap();
+    let last_point: Vec<&str> = two.lines().rev().take(2).collect();
+    let mut three = std::fs::read_to_string(&parts[2]).unwrap();
+    let cut = three.find("\n19,").unwrap() + 1;
+    three.insert_str(cut, &format!("{}\n{}\n", last_point[1], last_point[0]));
+    std::fs::write(&dup, three.replace("rows=19..28", "rows=18..28")).unwrap();
+    let e = merge_err(&[&parts[0], &parts[1], &dup, &parts[3]]);
+    assert!(e.contains("point 18 is there twice"), "{e}");
+    // A jump to another mode at the first point of shard 4 (its fundamental
+    // replaced by the first overtone's value).
+    let jump = path(&d.join("jump.csv"));
+    let four = std::fs::read_to_string(&parts[3]).unwrap();
+    let mut lines: Vec<String> = four.lines().map(String::from).collect();
+    let n1: Vec<String> = lines[3].split(',').map(String::from).collect();
+    let mut n0: Vec<String> = lines[2].split(',').map(String::from).collect();
+    n0[4] = n1[4].clone();
+    n0[5] = n1[5].clone();
+    lines[2] = n0.join(",");
+    std::fs::write(&jump, lines.join("\n") + "\n").unwrap();
+    let e = merge_err(&[&parts[0], &parts[1], &parts[2], &jump]);
+    assert!(e.contains("jump at point 28") && e.contains("l=2, q=0.45"), "{e}");
+    // Tables of different surveys are not merged.
+    let other = path(&d.join("other.csv"));
+    ok(&["scan", RN, "--vary", "l=1:2:1", "--vary", "q=0:0.9:0.05", "--at", "M=1", "--no-check", "--shard", "4/4", "-o", &other]);
+    let o = canonode(&["merge", &parts[0], &parts[1], &parts[2], &other], &[]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("another survey"));
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
 fn bad_surveys_are_refused_before_any_work() {
     let d = dir("bad");
     let f = d.join("p.txt");

@@ -7,6 +7,7 @@ mod classify;
 pub mod diagnostic;
 mod emit;
 mod eval;
+mod merge;
 mod mode_file;
 mod options;
 mod record;
@@ -48,6 +49,8 @@ enum Command {
     Spectrum(spectrum::SpectrumArgs),
     /// Quasinormal modes over a survey of one or more parameters (parallel, continuation, streamed tables, resume, shards, SVG/PNG plot).
     Scan(scan::ScanArgs),
+    /// Put the tables of a sharded scan back into one, checking that every point is there once and the modes continue across the shards.
+    Merge(merge::MergeArgs),
     /// Transmission and reflection (greybody factors) at real frequencies, absorption cross-sections (parallel, streamed).
     Scatter(scatter::ScatterArgs),
     /// Write a derivation record (plain text, one field a line) to commit beside a paper's code.
@@ -430,6 +433,7 @@ fn run(cli: Cli) -> u8 {
         Command::Recurrence(a) => recurrence::run(&a),
         Command::Spectrum(a) => spectrum::run(&a),
         Command::Scan(a) => scan::run(&a),
+        Command::Merge(a) => merge::run(&a),
         Command::Scatter(a) => scatter::run(&a),
         Command::Record(a) => record::run(&a),
         Command::Check(a) => check::run(&a),
