@@ -284,3 +284,49 @@ fn bad_surveys_are_refused_before_any_work() {
     assert!(String::from_utf8_lossy(&o.stdout).contains("shard=2/3 rows=2..4"), "{}", String::from_utf8_lossy(&o.stdout));
     std::fs::remove_dir_all(&d).ok();
 }
+
+/// The Kerr coupling of the Teukolsky radial and spin-weighted spheroidal
+/// samples (Teukolsky 1973: λ = A + a²ω² − 2amω, c = aω).
+const KERR: [&str; 6] = ["--couple", "samples/spheroidal_spin_weighted.ode", "--link", "lam = A + a^2*omega^2 - 2*a*m*omega", "--link", "c = a*omega"];
+
+#[test]
+fn tables_carry_the_checks_and_the_angular_eigenvalue() {
+    // `spectrum --format csv`: the direct-integration check beside each
+    // mode, as in `scan`, and every line as long as the header.
+    let csv = ok(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--overtones", "0..1", "--format", "csv"]);
+    let mut lines = csv.lines();
+    let head: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let col = |name: &str| head.iter().position(|c| *c == name).unwrap_or_else(|| panic!("no column {name}: {head:?}"));
+    for l in lines {
+        let f: Vec<&str> = l.split(',').collect();
+        assert_eq!(f.len(), head.len(), "{l}");
+        let (re, im): (f64, f64) = (f[col("re")].parse().unwrap(), f[col("im")].parse().unwrap());
+        let (cre, cim): (f64, f64) = (f[col("check_re")].parse().unwrap(), f[col("check_im")].parse().unwrap());
+        assert!(close((cre, cim), (re, im)) || ((cre - re).hypot(cim - im) < 1e-8), "{l}");
+        assert!(f[col("agreement")].parse::<f64>().unwrap() < 1e-8);
+    }
+    // A coupled scan over the spin: the angular eigenvalue in its own
+    // columns (CSV) and key (JSON lines). At a = 0 it is the spin-weighted
+    // spherical value l(l+1) − s(s+1) = 4 for l = 2, s = −2 (Teukolsky &
+    // Press 1974's convention, from memory), and it agrees with `spectrum`'s
+    // `coupled.value` at a = 0.3.
+    let mut args = vec!["scan", "samples/teukolsky_radial.ode", "--vary", "a=0:0.3:0.3", "--at", "M=1,m=2,s=-2", "--guess", "0.37-0.09i", "--no-check"];
+    args.extend(KERR);
+    let table = ok(&args);
+    let mut lines = table.lines().skip(1);
+    let head: Vec<&str> = lines.next().unwrap().split(',').collect();
+    assert_eq!(&head[head.len() - 3..], &["angular_re", "angular_im", "reason"]);
+    let rows: Vec<Vec<String>> = lines.map(|l| l.split(',').map(String::from).collect()).collect();
+    let a0: (f64, f64) = (rows[0][head.len() - 3].parse().unwrap(), rows[0][head.len() - 2].parse().unwrap());
+    assert!((a0.0 - 4.0).abs() < 1e-10 && a0.1.abs() < 1e-10, "{a0:?}");
+    let mut sargs = vec!["spectrum", "samples/teukolsky_radial.ode", "--at", "M=1,a=0.3,m=2,s=-2", "--guess", "0.42-0.088i", "--format", "json"];
+    sargs.extend(KERR);
+    let doc: serde_json::Value = serde_json::from_str(&ok(&sargs)).unwrap();
+    let want = &doc["modes"][0]["coupled"]["value"];
+    let got: (f64, f64) = (rows[1][head.len() - 3].parse().unwrap(), rows[1][head.len() - 2].parse().unwrap());
+    assert!(close(got, (want[0].as_f64().unwrap(), want[1].as_f64().unwrap())), "{got:?} against {want}");
+    args.extend(["--format", "jsonl"]);
+    let lines: Vec<serde_json::Value> = ok(&args).lines().map(|l| serde_json::from_str(l).unwrap()).collect();
+    assert_eq!(lines[0]["angular"], true);
+    assert!((lines[1]["modes"][0]["angular"][0].as_f64().unwrap() - 4.0).abs() < 1e-10);
+}

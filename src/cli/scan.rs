@@ -207,6 +207,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
         rows: range.clone(),
         parameters: vnames.clone(),
         frequency: fname.clone(),
+        angular: coupled.is_some(),
     };
     // The output: standard output, or a file (new, or resumed from its last complete point).
     let mut done: Vec<Trail> = Vec::new();
@@ -270,7 +271,9 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
                     )?;
                     let none = |_: u32| None;
                     let (_, modes) = crate::solve::coupled::coupled_spectrum(&red, &c, o, check, &none)?;
-                    Ok(modes.into_iter().map(|m| (m.mode, m.check.filter(|c| c.converged).map(|c| c.omega))).collect())
+                    let angular = modes.iter().map(|m| m.angular.as_ref().filter(|a| a.root.converged).map(|a| a.root.omega)).collect();
+                    let modes = modes.into_iter().map(|m| (m.mode, m.check.filter(|c| c.converged).map(|c| c.omega))).collect();
+                    Ok(crate::solve::scan::SolvedPoint { modes, angular })
                 }))
             }
         }
@@ -284,7 +287,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
             b.inc(1);
         }
         if let Some(l) = layout {
-            let text = point_text(&p, l, &vnames);
+            let text = point_text(&p, l, &header);
             let written = match &mut file {
                 Some(f) => f.write_all(text.as_bytes()).map_err(|e| Failure::Plain(format!("error: cannot write the table: {e}"), 1)),
                 None => super::emit(&text),
@@ -323,7 +326,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     if layout.is_some() {
         return Ok(String::new());
     }
-    let pts: Vec<serde_json::Value> = kept.iter().map(|p| point_json(p, &vnames, vnames.len() > 1)).collect();
+    let pts: Vec<serde_json::Value> = kept.iter().map(|p| point_json(p, &header, vnames.len() > 1)).collect();
     let doc = if vnames.len() > 1 {
         serde_json::json!({"parameters": vnames, "frequency": fname, "points": pts})
     } else {

@@ -632,15 +632,29 @@ fn render(
             format!("{}\n", serde_json::to_string_pretty(&v).unwrap_or_default())
         }
         SpecFormat::Csv => {
-            let mut o = String::from("n,re,im,converged,method,depth,change_on_doubling,residual,reason\n");
+            // The check columns as in `scan` (the direct integration's root
+            // and its relative agreement), and for a coupled problem the
+            // angular eigenvalue at the mode.
+            let with_angular = coupled.iter().any(|c| c.is_some());
+            let mut o = String::from("n,re,im,converged,method,depth,change_on_doubling,residual,check_re,check_im,agreement,");
+            o.push_str(if with_angular { "angular_re,angular_im,reason\n" } else { "reason\n" });
             let num = |x: f64| if x.is_finite() { format!("{x:.3e}") } else { String::new() };
-            for m in modes {
+            for (i, m) in modes.iter().enumerate() {
                 let r = &m.root;
                 // Direct integration has no depth: its columns stay empty.
                 let depth = if m.method == "integrate" { String::new() } else { r.depth.to_string() };
+                let checked = match check(i) {
+                    Some(c) if c.converged && r.converged => format!("{:.17e},{:.17e},{}", c.omega.re, c.omega.im, num((c.omega - r.omega).norm() / r.omega.norm())),
+                    _ => ",,".to_string(),
+                };
+                let angular = match (with_angular, coupled.get(i).and_then(|c| c.as_ref())) {
+                    (false, _) => String::new(),
+                    (true, Some(c)) if r.converged => format!("{:.17e},{:.17e},", c.root.omega.re, c.root.omega.im),
+                    (true, _) => ",,".to_string(),
+                };
                 if r.converged {
                     o.push_str(&format!(
-                        "{},{:.17e},{:.17e},true,{},{depth},{},{},\n",
+                        "{},{:.17e},{:.17e},true,{},{depth},{},{},{checked},{angular}\n",
                         m.n,
                         r.omega.re,
                         r.omega.im,
@@ -649,7 +663,7 @@ fn render(
                         num(r.residual)
                     ));
                 } else {
-                    o.push_str(&format!("{},,,false,{},{depth},,,\"{}\"\n", m.n, m.method, r.stop.text().replace('"', "'")));
+                    o.push_str(&format!("{},,,false,{},{depth},,,{checked},{angular}\"{}\"\n", m.n, m.method, r.stop.text().replace('"', "'")));
                 }
             }
             o

@@ -9,9 +9,11 @@
 //! check_im,reason`, then one line per point and overtone (one line with
 //! `n` empty for a point that failed). JSON lines: a first object
 //! {`survey`, `points`, `shard` [K, S], `rows` [A, B], `parameters`,
-//! `frequency`}, then one object per point {`index`, `values` {name:
-//! value}, `error`, `modes` [{`n`, `omega`, `converged`, `reason`,
-//! `check`}]}. `index` is the position in the survey's walk; `survey`
+//! `frequency`, `angular`}, then one object per point {`index`, `values`
+//! {name: value}, `error`, `modes` [{`n`, `omega`, `converged`, `reason`,
+//! `check`, and for a coupled problem `angular`}]}. A coupled problem's CSV
+//! has the columns `angular_re,angular_im` (the angular eigenvalue at the
+//! mode) before `reason`. `index` is the position in the survey's walk; `survey`
 //! identifies the equation and every option that changes a number, so
 //! that tables of different surveys are never mixed.
 
@@ -44,6 +46,8 @@ pub(crate) struct Header {
     pub parameters: Vec<String>,
     /// The frequency's name.
     pub frequency: String,
+    /// True for a coupled problem: each mode carries the angular eigenvalue.
+    pub angular: bool,
 }
 
 /// One point read back from a table.
@@ -68,7 +72,7 @@ impl Header {
     pub(crate) fn text(&self, layout: Layout) -> String {
         match layout {
             Layout::Csv => format!(
-                "# canonode scan survey={} points={} shard={}/{} rows={}..{} frequency={}\nindex,{},n,re,im,converged,check_re,check_im,reason\n",
+                "# canonode scan survey={} points={} shard={}/{} rows={}..{} frequency={}\nindex,{},n,re,im,converged,check_re,check_im,{}reason\n",
                 self.survey,
                 self.points,
                 self.shard.0,
@@ -76,7 +80,8 @@ impl Header {
                 self.rows.start,
                 self.rows.end,
                 self.frequency,
-                self.parameters.join(",")
+                self.parameters.join(","),
+                if self.angular { "angular_re,angular_im," } else { "" }
             ),
             Layout::Lines => format!(
                 "{}\n",
@@ -87,6 +92,7 @@ impl Header {
                     "rows": [self.rows.start, self.rows.end],
                     "parameters": self.parameters,
                     "frequency": self.frequency,
+                    "angular": self.angular,
                 })
             ),
         }
@@ -100,48 +106,62 @@ fn num(x: f64) -> String {
 }
 
 /// The text of one point.
-pub(crate) fn point_text(p: &ScanPoint, layout: Layout, names: &[String]) -> String {
+pub(crate) fn point_text(p: &ScanPoint, layout: Layout, h: &Header) -> String {
     match layout {
         Layout::Csv => {
             let vals: Vec<String> = p.values.iter().map(|v| v.to_string()).collect();
             let lead = format!("{},{}", p.index, vals.join(","));
+            let none = if h.angular { ",," } else { "" };
             let mut o = String::new();
             if let Some(e) = &p.error {
-                o.push_str(&format!("{lead},,,,false,,,\"{}\"\n", e.replace('"', "'")));
+                o.push_str(&format!("{lead},,,,false,,,{none}\"{}\"\n", e.replace('"', "'")));
             }
-            for (m, c) in &p.modes {
+            for (k, (m, c)) in p.modes.iter().enumerate() {
                 let r = &m.root;
                 let (cre, cim) = c.map(|c| (num(c.re), num(c.im))).unwrap_or_default();
+                let angular = match p.angular.get(k).copied().flatten() {
+                    Some(a) if h.angular => format!("{},{},", num(a.re), num(a.im)),
+                    _ => none.to_string(),
+                };
                 if r.converged {
-                    o.push_str(&format!("{lead},{},{},{},true,{cre},{cim},\n", m.n, num(r.omega.re), num(r.omega.im)));
+                    o.push_str(&format!("{lead},{},{},{},true,{cre},{cim},{angular}\n", m.n, num(r.omega.re), num(r.omega.im)));
                 } else {
-                    o.push_str(&format!("{lead},{},,,false,,,\"{}\"\n", m.n, r.stop.text().replace('"', "'")));
+                    o.push_str(&format!("{lead},{},,,false,,,{none}\"{}\"\n", m.n, r.stop.text().replace('"', "'")));
                 }
             }
             o
         }
-        Layout::Lines => format!("{}\n", point_json(p, names, true)),
+        Layout::Lines => format!("{}\n", point_json(p, h, true)),
     }
 }
 
 /// A point as JSON: `values` as an object of the parameters (`keyed`) or
-/// the single `value` of a one-parameter scan's document.
-pub(crate) fn point_json(p: &ScanPoint, names: &[String], keyed: bool) -> Value {
+/// the single `value` of a one-parameter scan's document; each mode of a
+/// coupled problem with its `angular` eigenvalue.
+pub(crate) fn point_json(p: &ScanPoint, h: &Header, keyed: bool) -> Value {
     let ms: Vec<Value> = p
         .modes
         .iter()
-        .map(|(m, c)| {
-            json!({
+        .enumerate()
+        .map(|(k, (m, c))| {
+            let mut v = json!({
                 "n": m.n,
                 "omega": if m.root.converged { json!([m.root.omega.re, m.root.omega.im]) } else { Value::Null },
                 "converged": m.root.converged,
                 "reason": if m.root.converged { Value::Null } else { Value::String(m.root.stop.text()) },
                 "check": c.map(|c| json!({"method": "integrate", "omega": [c.re, c.im]})),
-            })
+            });
+            if h.angular {
+                v["angular"] = match p.angular.get(k).copied().flatten() {
+                    Some(a) if m.root.converged => json!([a.re, a.im]),
+                    _ => Value::Null,
+                };
+            }
+            v
         })
         .collect();
     if keyed {
-        let values: serde_json::Map<String, Value> = names.iter().zip(&p.values).map(|(n, v)| (n.clone(), json!(v))).collect();
+        let values: serde_json::Map<String, Value> = h.parameters.iter().zip(&p.values).map(|(n, v)| (n.clone(), json!(v))).collect();
         json!({"index": p.index, "values": values, "error": p.error, "modes": ms})
     } else {
         json!({"index": p.index, "value": p.value, "error": p.error, "modes": ms})
@@ -203,10 +223,12 @@ fn read_csv(path: &str, text: &str, overtones: Option<usize>, bad: &dyn Fn(usize
     };
     let Some((_, columns, true)) = ls.get(1).copied() else { return Err(bad(2, "the column names are missing")) };
     let cols: Vec<&str> = columns.split(',').collect();
-    if cols.len() < 9 || cols[0] != "index" || cols[cols.len() - 7..] != ["n", "re", "im", "converged", "check_re", "check_im", "reason"] {
+    let angular = cols.len() >= 11 && cols[cols.len() - 3..] == ["angular_re", "angular_im", "reason"];
+    let tail: &[&str] = if angular { &["n", "re", "im", "converged", "check_re", "check_im", "angular_re", "angular_im", "reason"] } else { &["n", "re", "im", "converged", "check_re", "check_im", "reason"] };
+    if cols.len() < tail.len() + 2 || cols[0] != "index" || cols[cols.len() - tail.len()..] != *tail {
         return Err(bad(2, "unexpected column names"));
     }
-    let np = cols.len() - 8;
+    let np = cols.len() - tail.len() - 1;
     let rows_range = pair("rows", "..")?;
     let header = Header {
         survey: get("survey")?.to_string(),
@@ -215,6 +237,7 @@ fn read_csv(path: &str, text: &str, overtones: Option<usize>, bad: &dyn Fn(usize
         rows: rows_range.0..rows_range.1,
         parameters: cols[1..1 + np].iter().map(|s| s.to_string()).collect(),
         frequency: get("frequency")?.to_string(),
+        angular,
     };
     let _ = path;
     let mut rows: Vec<Row> = Vec::new();
@@ -309,6 +332,7 @@ fn read_lines(text: &str, bad: &dyn Fn(usize, &str) -> Failure) -> Result<Table,
             rows: uint(&h["rows"][0])?..uint(&h["rows"][1])?,
             parameters: h["parameters"].as_array()?.iter().map(|p| p.as_str().map(str::to_string)).collect::<Option<Vec<_>>>()?,
             frequency: h["frequency"].as_str()?.to_string(),
+            angular: h["angular"].as_bool()?,
         })
     })()
     .ok_or_else(|| bad(1, "the header lacks survey, points, shard, rows, parameters or frequency (not a table written by canonode scan)"))?;

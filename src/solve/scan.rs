@@ -33,6 +33,8 @@ pub struct ScanPoint {
     pub values: Vec<f64>,
     /// The modes (empty when the point failed), each with its integration check.
     pub modes: Vec<(Mode, Option<Complex64>)>,
+    /// For a coupled problem, the angular eigenvalue at each mode (empty otherwise).
+    pub angular: Vec<Option<Complex64>>,
     /// Why the point failed, when it did.
     pub error: Option<String>,
 }
@@ -137,7 +139,23 @@ pub type PointModes = Vec<(Mode, Option<Complex64>)>;
 /// A worker's solver for one grid point: the options carry the point's
 /// parameter values and the seeds from its neighbour; the flag asks for
 /// the integration check.
-pub type PointSolver<'a> = Box<dyn Fn(&SpectrumOptions, bool) -> Result<PointModes> + 'a>;
+pub type PointSolver<'a> = Box<dyn Fn(&SpectrumOptions, bool) -> Result<SolvedPoint> + 'a>;
+
+/// What a point solver gives: the modes with their checks, and for a
+/// coupled problem the angular eigenvalue at each mode.
+#[derive(Clone, Debug)]
+pub struct SolvedPoint {
+    /// The modes, each with its integration check.
+    pub modes: PointModes,
+    /// The angular eigenvalue at each mode (empty when not coupled).
+    pub angular: Vec<Option<Complex64>>,
+}
+
+impl From<PointModes> for SolvedPoint {
+    fn from(modes: PointModes) -> SolvedPoint {
+        SolvedPoint { modes, angular: Vec::new() }
+    }
+}
 
 /// What a finished point leaves for the continuation: its modes when every
 /// one converged. A resumed survey is given these for the points it
@@ -196,9 +214,17 @@ fn run_chunk(
             return;
         }
         let values: Vec<f64> = walk.points[i].iter().map(|x| x.to_f64()).collect();
-        let point = |modes, error| ScanPoint { index: i, value: values.first().copied().unwrap_or(f64::NAN), values: values.clone(), modes, error };
+        let point = |solved: SolvedPoint, error| ScanPoint {
+            index: i,
+            value: values.first().copied().unwrap_or(f64::NAN),
+            values: values.clone(),
+            modes: solved.modes,
+            angular: solved.angular,
+            error,
+        };
+        let failed = || SolvedPoint::from(Vec::new());
         let p = match solver {
-            Err(e) => point(Vec::new(), Some(e.message.clone())),
+            Err(e) => point(failed(), Some(e.message.clone())),
             Ok(solve) => {
                 let mut opts = base.clone();
                 for (f, x) in walk.fields.iter().zip(&walk.points[i]) {
@@ -209,8 +235,8 @@ fn run_chunk(
                     opts.guess = None;
                 }
                 match solve(&opts, check) {
-                    Ok(modes) => point(modes, None),
-                    Err(e) => point(Vec::new(), Some(e.message)),
+                    Ok(solved) => point(solved, None),
+                    Err(e) => point(failed(), Some(e.message)),
                 }
             }
         };
@@ -248,7 +274,7 @@ pub fn survey<'a>(
     // Each pass of the walk starts afresh too: its first point does not
     // continue the previous pass's last.
     let pass = walk.pass.max(1);
-    let rooted = |i: usize| i == rs || i % pass == 0;
+    let rooted = |i: usize| i == rs || i.is_multiple_of(pass);
     let mut tasks = Vec::new();
     let mut cs = rs;
     while cs < range.end {
@@ -482,11 +508,19 @@ fn continues(last: &[Complex64], second: Option<&[Complex64]>, next: Option<&[Co
 /// The modes of one equation at one grid point: parameters substituted
 /// exactly, the recurrence derived, seeds from WKB (wkb::SEED_ORDER) when no
 /// neighbour gave them, the integration check when asked.
-pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Result<PointModes> {
+pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Result<SolvedPoint> {
     let r = substitute(red, &opts.values, opts.freq)?;
     let (rec, setup) = qnm_recurrence(&r, opts)?;
-    let est = super::spectrum::barrier_estimates(&r, opts, setup.horizon_value, super::wkb::SEED_ORDER).ok();
-    let first = |n: u32| est.as_ref().and_then(|e| e(n)).and_then(|b| b.series.seed());
+    // The WKB estimates are set up only when a seed is asked for: a point
+    // continued from its neighbour has its seeds already.
+    let est = std::cell::OnceCell::new();
+    let horizon = setup.horizon_value;
+    let first = |n: u32| {
+        est.get_or_init(|| super::spectrum::barrier_estimates(&r, opts, horizon, super::wkb::SEED_ORDER).ok())
+            .as_ref()
+            .and_then(|e| e(n))
+            .and_then(|b| b.series.seed())
+    };
     let (modes, setup) = qnm_modes_from(&rec, setup, opts, &first)?;
     let integ = if check { integration_check(&r, opts, &setup).ok() } else { None };
     Ok(modes
@@ -501,7 +535,8 @@ pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Res
             };
             (m, c)
         })
-        .collect())
+        .collect::<PointModes>()
+        .into())
 }
 
 /// The font of the plots' text, compiled in so that a plot looks the same
@@ -628,7 +663,7 @@ mod tests {
             Ok(Box::new(|o: &SpectrumOptions, _| {
                 let v = o.values[1].to_f64().0;
                 let right = Complex64::new(0.4 + 0.1 * v, -0.1);
-                Ok(vec![mode(if o.seeds.is_empty() && v > 0.5 { Complex64::new(0.3, -0.5) } else { right })])
+                Ok(vec![mode(if o.seeds.is_empty() && v > 0.5 { Complex64::new(0.3, -0.5) } else { right })].into())
             }))
         };
         let base = SpectrumOptions { freq: 2, values: vec![GRat::zero(); 3], overtones: (0, 0), tol: 1e-10, guess: None, seeds: Vec::new() };
@@ -651,7 +686,7 @@ mod tests {
             Ok(Box::new(|o: &SpectrumOptions, _| {
                 let v = o.values[1].to_f64().0;
                 let seed = o.seeds.first().copied().unwrap_or(Complex64::new(0.0, 0.0));
-                Ok(vec![mode(Complex64::new(0.4 + 0.1 * v + 1e-13 * seed.re, -0.1))])
+                Ok(vec![mode(Complex64::new(0.4 + 0.1 * v + 1e-13 * seed.re, -0.1))].into())
             }))
         };
         let base = SpectrumOptions { freq: 2, values: vec![GRat::zero(); 3], overtones: (0, 0), tol: 1e-10, guess: None, seeds: Vec::new() };
@@ -696,9 +731,9 @@ mod tests {
                 // An unconverged point in the middle of a pass.
                 let mut m = mode(Complex64::new(0.0, 0.0));
                 m.0.root.converged = false;
-                return Ok(vec![m]);
+                return Ok(vec![m].into());
             }
-            Ok(vec![mode(Complex64::new(0.4 + 0.1 * x + y + 1e-13 * seed.re, -0.1 + 1e-13 * seed.im))])
+            Ok(vec![mode(Complex64::new(0.4 + 0.1 * x + y + 1e-13 * seed.re, -0.1 + 1e-13 * seed.im))].into())
         }))
     }
 
