@@ -218,6 +218,13 @@ fn four_shards_merged_equal_the_whole_run_and_bad_sets_are_reported() {
     // A missing shard.
     let e = merge_err(&[&parts[0], &parts[1], &parts[3]]);
     assert!(e.contains("points 19..27 (9 points) are missing") && e.contains("a shard is missing"), "{e}");
+    // A shard killed while it wrote its last point (half a line): that
+    // point counts as missing, and the file is named.
+    let killed = path(&d.join("killed.csv"));
+    let two = std::fs::read_to_string(&parts[1]).unwrap();
+    std::fs::write(&killed, &two[..two.len() - 25]).unwrap();
+    let e = merge_err(&[&parts[0], &killed, &parts[2], &parts[3]]);
+    assert!(e.contains("point 18 is missing") && e.contains("killed.csv (shard 2/4) stops before them"), "{e}");
     // 38 points (2 multipoles × 19 charges) in shards 0..9, 9..19, 19..28, 28..38.
     // A point twice: the last point of shard 2 copied into shard 3.
     let dup = path(&d.join("dup.csv"));

@@ -290,9 +290,17 @@ fn read_csv(path: &str, text: &str, overtones: Option<usize>, bad: &dyn Fn(usize
     }
     // The last point is complete when the file ends after its last line
     // and it has every overtone (or it failed).
+    // A line cut off (a kill while a point was written) that may belong to
+    // the last point means that point is incomplete too.
+    let partial = ls.last().filter(|l| !l.2).map(|l| l.1);
     if let Some(c) = cur {
         let end = ls.iter().rev().find(|l| l.2).map(|l| l.0 + l.1.len() + 1).unwrap_or(text.len());
-        if c.4 || overtones.is_none_or(|n| c.3.len() == n) {
+        let index = c.0.to_string();
+        let cut = partial.is_some_and(|p| match p.split_once(',') {
+            Some((lead, _)) => lead == index,
+            None => index.starts_with(p),
+        });
+        if !cut && (c.4 || overtones.is_none_or(|n| c.3.len() == n)) {
             finish(c, end, &mut rows);
             complete_len = end;
         }
