@@ -274,7 +274,6 @@ fn bad_surveys_are_refused_before_any_work() {
         (vec!["--vary", "q=0:1:0.0001", "--vary", "l=0:100:0.1", "--at", "M=1"], "more than"),
         (vec!["--vary", "q=0:0.5:0.1", "--at", "M=1,l=2", "--shard", "auto"], "no job-array variable"),
         (vec!["--vary", "q=0:0.5:0.1", "--at", "M=1,l=2", "--shard", "7/9"], "1 ≤ K ≤ N ≤ 6"),
-        (vec!["--vary", "q=0:0.5:0.1", "--vary", "l=2:3:1", "--at", "M=1", "--plot", "x.svg"], "one varied parameter"),
         (vec!["--vary", "q=0:0.5:0.1", "--at", "M=1,l=2", "--format", "json", "-o", "x.json", "--resume"], "streamed table"),
     ] {
         let mut a = vec!["scan", RN];
@@ -336,4 +335,19 @@ fn tables_carry_the_checks_and_the_angular_eigenvalue() {
     let lines: Vec<serde_json::Value> = ok(&args).lines().map(|l| serde_json::from_str(l).unwrap()).collect();
     assert_eq!(lines[0]["angular"], true);
     assert!((lines[1]["modes"][0]["angular"][0].as_f64().unwrap() - 4.0).abs() < 1e-10);
+}
+
+#[test]
+fn a_two_parameter_survey_is_plotted_one_colour_per_pass() {
+    // The plot of a charge × multipole survey: one series per multipole
+    // (named in the legend), the check over them, the fixed parameters in
+    // the titles. Only the presence of these texts is checked, not the picture.
+    let d = dir("plot");
+    let svg = d.join("rn.svg");
+    ok(&["scan", RN, "--vary", "l=1:2:1", "--vary", "q=0:0.6:0.3", "--at", "M=1", "--plot", &path(&svg)]);
+    let text = std::fs::read_to_string(&svg).unwrap();
+    for want in ["l=1", "l=2", "direct integration", "(omega; M=1)"] {
+        assert!(text.contains(want), "no {want:?} in the plot");
+    }
+    std::fs::remove_dir_all(&d).ok();
 }

@@ -166,9 +166,6 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
             (crate::solve::scan::shard(walk.len(), k, n), (k, n))
         }
     };
-    if a.plot.is_some() && walk.fields.len() > 1 {
-        return Err(usage("plots are drawn for one varied parameter; scan each line of the grid separately to plot it", "--plot", a.plot.as_ref().map_or(1, |p| p.len())));
-    }
     if a.stop_after == Some(0) {
         return Err(usage("--stop-after takes at least one point", "--stop-after", 1));
     }
@@ -321,7 +318,9 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
         super::err_line(&format!("note: stopped after {fresh} new points as asked (--stop-after); the next is point {next}{how}"));
     }
     if let Some(path) = &a.plot {
-        plot(std::path::Path::new(path), &kept, &vnames[0], &fname).map_err(|e| Failure::Plain(format!("error: cannot write the plot {path}: {e}"), 1))?;
+        // The fixed parameters in the titles, as given.
+        let fixed = a.at.split(',').map(str::trim).filter(|t| !t.is_empty()).collect::<Vec<_>>().join(", ");
+        plot(std::path::Path::new(path), &kept, &vnames, &fname, &fixed).map_err(|e| Failure::Plain(format!("error: cannot write the plot {path}: {e}"), 1))?;
     }
     if layout.is_some() {
         return Ok(String::new());

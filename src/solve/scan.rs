@@ -553,37 +553,58 @@ pub(crate) fn register_font() {
 }
 
 /// Writes a plot, SVG or PNG by the file's extension: the modes in the
-/// complex plane, and Re ω and Im ω against the varied parameter, one series
-/// per method (continued fraction, direct integration).
-pub fn plot(path: &std::path::Path, points: &[ScanPoint], param: &str, freq: &str) -> std::result::Result<(), String> {
+/// complex plane, and Re ω and Im ω against the last varied parameter
+/// (`params`, the survey's varied parameters), one series per method
+/// (continued fraction, direct integration). A survey of several
+/// parameters gets one colour per pass (a value of the other parameters,
+/// in the legend); `fixed` (the fixed parameters as text) goes in the titles.
+pub fn plot(path: &std::path::Path, points: &[ScanPoint], params: &[String], freq: &str, fixed: &str) -> std::result::Result<(), String> {
     use plotters::prelude::*;
     register_font();
     let ext = path.extension().and_then(|e| e.to_str()).map(|e| e.to_ascii_lowercase());
     match ext.as_deref() {
-        Some("svg") => draw(SVGBackend::new(path, (1200, 500)).into_drawing_area(), points, param, freq),
-        Some("png") => draw(BitMapBackend::new(path, (1200, 500)).into_drawing_area(), points, param, freq),
+        Some("svg") => draw(SVGBackend::new(path, (1200, 500)).into_drawing_area(), points, params, freq, fixed),
+        Some("png") => draw(BitMapBackend::new(path, (1200, 500)).into_drawing_area(), points, params, freq, fixed),
         _ => Err("the plot is written as SVG or PNG: give FILE.svg or FILE.png".into()),
     }
 }
 
+/// The points of a plot's series: (x, y) pairs.
+type Series = Vec<(f64, f64)>;
+
 fn draw<DB: plotters::prelude::DrawingBackend>(
     root: plotters::drawing::DrawingArea<DB, plotters::coord::Shift>,
     points: &[ScanPoint],
-    param: &str,
+    params: &[String],
     freq: &str,
+    fixed: &str,
 ) -> std::result::Result<(), String> {
     use plotters::prelude::*;
     root.fill(&WHITE).map_err(|e| e.to_string())?;
     let areas = root.split_evenly((1, 3));
-    let series = |f: &dyn Fn(&ScanPoint, &(Mode, Option<Complex64>)) -> Option<(f64, f64)>| -> Vec<(f64, f64)> {
-        points.iter().flat_map(|p| p.modes.iter().filter_map(move |m| f(p, m))).collect()
-    };
-    let cf_plane = series(&|_, (m, _)| m.root.converged.then_some((m.root.omega.re, m.root.omega.im)));
-    let int_plane = series(&|_, (_, c)| c.map(|c| (c.re, c.im)));
-    let cf_re = series(&|p, (m, _)| m.root.converged.then_some((p.value, m.root.omega.re)));
-    let int_re = series(&|p, (_, c)| c.map(|c| (p.value, c.re)));
-    let cf_im = series(&|p, (m, _)| m.root.converged.then_some((p.value, m.root.omega.im)));
-    let int_im = series(&|p, (_, c)| c.map(|c| (p.value, c.im)));
+    // The passes: points with the same values of all but the last parameter.
+    let mut groups: Vec<(Vec<f64>, Vec<&ScanPoint>)> = Vec::new();
+    for p in points {
+        let key = p.values[..p.values.len().saturating_sub(1)].to_vec();
+        match groups.iter_mut().find(|(k, _)| *k == key) {
+            Some(g) => g.1.push(p),
+            None => groups.push((key, vec![p])),
+        }
+    }
+    let several = groups.len() > 1 || params.len() > 1;
+    // The abscissa: the last varied parameter.
+    fn x(p: &ScanPoint) -> f64 {
+        p.values.last().copied().unwrap_or(p.value)
+    }
+    type Pick = dyn Fn(&ScanPoint, &(Mode, Option<Complex64>)) -> Option<(f64, f64)>;
+    let series = |g: &[&ScanPoint], f: &Pick| -> Series { g.iter().flat_map(|p| p.modes.iter().filter_map(move |m| f(p, m))).collect() };
+    let cf_pick: [&Pick; 3] = [
+        &|_, (m, _)| m.root.converged.then_some((m.root.omega.re, m.root.omega.im)),
+        &|p, (m, _)| m.root.converged.then_some((x(p), m.root.omega.re)),
+        &|p, (m, _)| m.root.converged.then_some((x(p), m.root.omega.im)),
+    ];
+    let int_pick: [&Pick; 3] = [&|_, (_, c)| c.map(|c| (c.re, c.im)), &|p, (_, c)| c.map(|c| (x(p), c.re)), &|p, (_, c)| c.map(|c| (x(p), c.im))];
+    let entries = if several { groups.len() + 1 } else { 2 };
     let range = |v: &[(f64, f64)], axis: usize| -> (f64, f64) {
         let it = v.iter().map(|p| if axis == 0 { p.0 } else { p.1 });
         let (lo, hi) = it.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| (a.min(x), b.max(x)));
@@ -593,37 +614,47 @@ fn draw<DB: plotters::prelude::DrawingBackend>(
         let pad = ((hi - lo) * 0.08).max(1e-6);
         // Room at the top for the legend (upper right), so it hides no point.
         if axis == 1 {
-            (lo - pad, hi + 4.0 * pad)
+            (lo - pad, hi + if several { 2.0 + 1.5 * entries as f64 } else { 4.0 } * pad)
         } else {
             (lo - pad, hi + pad)
         }
     };
-    let panels: [(&str, &str, &str, &Vec<(f64, f64)>, &Vec<(f64, f64)>); 3] = [
-        ("modes in the complex plane", "Re ω", "Im ω", &cf_plane, &int_plane),
-        ("Re ω", param, "Re ω", &cf_re, &int_re),
-        ("Im ω", param, "Im ω", &cf_im, &int_im),
-    ];
-    for (area, (title, xl, yl, cf, int)) in areas.iter().zip(panels) {
-        let (x0, x1) = range(cf, 0);
-        let (y0, y1) = range(cf, 1);
+    let param = params.last().map(String::as_str).unwrap_or("");
+    let context = if fixed.is_empty() { freq.to_string() } else { format!("{freq}; {fixed}") };
+    let panels: [(&str, &str, &str); 3] = [("modes in the complex plane", "Re ω", "Im ω"), ("Re ω", param, "Re ω"), ("Im ω", param, "Im ω")];
+    for (k, (area, (title, xl, yl))) in areas.iter().zip(panels).enumerate() {
+        let all: Series = series(&points.iter().collect::<Vec<_>>(), cf_pick[k]);
+        let (x0, x1) = range(&all, 0);
+        let (y0, y1) = range(&all, 1);
         let mut chart = ChartBuilder::on(area)
-            .caption(format!("{title} ({freq})"), ("sans-serif", 18))
+            .caption(format!("{title} ({context})"), ("sans-serif", 18))
             .margin(12)
             .x_label_area_size(36)
             .y_label_area_size(56)
             .build_cartesian_2d(x0..x1, y0..y1)
             .map_err(|e| e.to_string())?;
         chart.configure_mesh().x_desc(xl).y_desc(yl).draw().map_err(|e| e.to_string())?;
+        for (g, (key, members)) in groups.iter().enumerate() {
+            let colour = if several { Palette99::pick(g).to_rgba() } else { BLUE.to_rgba() };
+            let label = if several {
+                params.iter().zip(key).map(|(n, v)| format!("{n}={v}")).collect::<Vec<_>>().join(", ")
+            } else {
+                "continued fraction".to_string()
+            };
+            chart
+                .draw_series(series(members, cf_pick[k]).into_iter().map(move |p| Circle::new(p, 4, colour.filled())))
+                .map_err(|e| e.to_string())?
+                .label(label)
+                .legend(move |(x, y)| Circle::new((x, y), 4, colour.filled()));
+        }
+        // The check over the results, in one colour, with one legend entry.
+        let int: Series = series(&points.iter().collect::<Vec<_>>(), int_pick[k]);
+        let cross = if several { BLACK } else { RED };
         chart
-            .draw_series(cf.iter().map(|p| Circle::new(*p, 4, BLUE.filled())))
-            .map_err(|e| e.to_string())?
-            .label("continued fraction")
-            .legend(|(x, y)| Circle::new((x, y), 4, BLUE.filled()));
-        chart
-            .draw_series(int.iter().map(|p| Cross::new(*p, 5, RED.stroke_width(1))))
+            .draw_series(int.into_iter().map(move |p| Cross::new(p, 5, cross.stroke_width(1))))
             .map_err(|e| e.to_string())?
             .label("direct integration")
-            .legend(|(x, y)| Cross::new((x, y), 5, RED.stroke_width(1)));
+            .legend(move |(x, y)| Cross::new((x, y), 5, cross.stroke_width(1)));
         chart
             .configure_series_labels()
             .position(SeriesLabelPosition::UpperRight)
