@@ -635,26 +635,46 @@ fn draw<DB: plotters::prelude::DrawingBackend>(
             .map_err(|e| e.to_string())?;
         chart.configure_mesh().x_desc(xl).y_desc(yl).draw().map_err(|e| e.to_string())?;
         for (g, (key, members)) in groups.iter().enumerate() {
-            let colour = if several { Palette99::pick(g).to_rgba() } else { BLUE.to_rgba() };
+            // Pale enough for the check's crosses to show on top.
+            let colour = if several { Palette99::pick(g).mix(0.55) } else { BLUE.mix(0.45) };
             let label = if several {
                 params.iter().zip(key).map(|(n, v)| format!("{n}={v}")).collect::<Vec<_>>().join(", ")
             } else {
                 "continued fraction".to_string()
             };
             chart
-                .draw_series(series(members, cf_pick[k]).into_iter().map(move |p| Circle::new(p, 4, colour.filled())))
+                .draw_series(series(members, cf_pick[k]).into_iter().map(move |p| Circle::new(p, 6, colour.filled())))
                 .map_err(|e| e.to_string())?
                 .label(label)
-                .legend(move |(x, y)| Circle::new((x, y), 4, colour.filled()));
+                .legend(move |(x, y)| Circle::new((x, y), 6, colour.filled()));
         }
+        // Each overtone named beside its last converged point.
+        let mut names: Vec<((f64, f64), String)> = Vec::new();
+        for (_, members) in &groups {
+            let mut last: Vec<(u32, (f64, f64))> = Vec::new();
+            for p in members {
+                for m in &p.modes {
+                    if let Some(xy) = cf_pick[k](p, m) {
+                        match last.iter_mut().find(|(n, _)| *n == m.0.n) {
+                            Some(l) => l.1 = xy,
+                            None => last.push((m.0.n, xy)),
+                        }
+                    }
+                }
+            }
+            names.extend(last.into_iter().map(|(n, xy)| (xy, format!("n={n}"))));
+        }
+        chart
+            .draw_series(names.into_iter().map(|(xy, t)| EmptyElement::at(xy) + Text::new(t, (-12, -20), ("sans-serif", 13).into_font())))
+            .map_err(|e| e.to_string())?;
         // The check over the results, in one colour, with one legend entry.
         let int: Series = series(&points.iter().collect::<Vec<_>>(), int_pick[k]);
         let cross = if several { BLACK } else { RED };
         chart
-            .draw_series(int.into_iter().map(move |p| Cross::new(p, 5, cross.stroke_width(1))))
+            .draw_series(int.into_iter().map(move |p| Cross::new(p, 3, cross.stroke_width(2))))
             .map_err(|e| e.to_string())?
             .label("direct integration")
-            .legend(move |(x, y)| Cross::new((x, y), 5, cross.stroke_width(1)));
+            .legend(move |(x, y)| Cross::new((x, y), 3, cross.stroke_width(2)));
         chart
             .configure_series_labels()
             .position(SeriesLabelPosition::UpperRight)
