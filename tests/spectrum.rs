@@ -324,7 +324,8 @@ fn scan_with_shards_and_plot() {
             .output()
             .unwrap();
         assert!(o.status.success());
-        String::from_utf8(o.stdout).unwrap().lines().skip(1).map(|l| l.split(',').next().unwrap().to_string()).collect::<Vec<_>>()
+        // A header comment, the column names, then `index,q,…` per point.
+        String::from_utf8(o.stdout).unwrap().lines().skip(2).map(|l| l.split(',').nth(1).unwrap().to_string()).collect::<Vec<_>>()
     };
     assert_eq!([csv("1/2"), csv("2/2")].concat(), vec!["0", "0.3", "0.6", "0.9"]);
     // A PNG plot: a real image of the declared size (1200 × 500, in the IHDR chunk).

@@ -7,12 +7,14 @@ mod classify;
 pub mod diagnostic;
 mod emit;
 mod eval;
+mod merge;
 mod mode_file;
 mod options;
 mod record;
 mod recurrence;
 mod reduce;
 mod scan;
+mod table;
 mod scatter;
 mod spectrum;
 mod values;
@@ -44,8 +46,10 @@ enum Command {
     Recurrence(recurrence::RecurrenceArgs),
     /// Quasinormal modes (continued fraction, checked by direct integration), bound states, coupled equations.
     Spectrum(spectrum::SpectrumArgs),
-    /// Quasinormal modes over a grid of one parameter (parallel, continuation, shards, SVG/PNG plot).
+    /// Quasinormal modes over a survey of one or more parameters (parallel, continuation, streamed tables, resume, shards, SVG/PNG plot).
     Scan(scan::ScanArgs),
+    /// Put the tables of a sharded scan back into one, checking that every point is there once and the modes continue across the shards.
+    Merge(merge::MergeArgs),
     /// Transmission and reflection (greybody factors) at real frequencies, absorption cross-sections (parallel, streamed).
     Scatter(scatter::ScatterArgs),
     /// Write a derivation record (plain text, one field a line) to commit beside a paper's code.
@@ -428,6 +432,7 @@ fn run(cli: Cli) -> u8 {
         Command::Recurrence(a) => recurrence::run(&a),
         Command::Spectrum(a) => spectrum::run(&a),
         Command::Scan(a) => scan::run(&a),
+        Command::Merge(a) => merge::run(&a),
         Command::Scatter(a) => scatter::run(&a),
         Command::Record(a) => record::run(&a),
         Command::Check(a) => check::run(&a),

@@ -135,3 +135,69 @@ pub(crate) fn writable(path: &str, option: &str) -> Result<(), Failure> {
     }
     Ok(())
 }
+
+/// `--shard K/N`, `auto` or `auto/N`: shard K (1-based) of N over a walk
+/// of `len` points, 1 ≤ K ≤ N ≤ `len`. `auto` takes K and N from the
+/// job-array variables of a batch scheduler (`env` looks a variable up):
+/// Slurm (`SLURM_ARRAY_TASK_ID`, `_MIN`, `_STEP`, `_COUNT`), Grid Engine
+/// (`SGE_TASK_ID`, `_FIRST`, `_LAST`, `_STEPSIZE`) or AWS Batch
+/// (`AWS_BATCH_JOB_ARRAY_INDEX` from 0, `AWS_BATCH_JOB_ARRAY_SIZE`);
+/// `auto/N` takes only K, also from LSF (`LSB_JOBINDEX`), PBS
+/// (`PBS_ARRAY_INDEX`, Torque's `PBS_ARRAYID`), numbered from 1, or a
+/// Kubernetes indexed job (`JOB_COMPLETION_INDEX`, from 0).
+pub(crate) fn shard(text: &str, len: usize, env: &dyn Fn(&str) -> Option<String>) -> Result<(usize, usize), Failure> {
+    let bad = |msg: String| usage(msg, "--shard", text.len());
+    let int = |v: &str| -> Result<i64, Failure> {
+        let t = env(v).unwrap_or_default();
+        t.trim().parse().map_err(|_| bad(format!("the job-array variable {v} is {t:?}, not a whole number")))
+    };
+    let set = |v: &str| env(v).is_some_and(|t| !t.trim().is_empty() && t.trim() != "undefined");
+    // (K, N when the scheduler says it, the variable read)
+    let from_env = || -> Result<(i64, Option<i64>, &'static str), Failure> {
+        if set("SLURM_ARRAY_TASK_ID") {
+            let step = if set("SLURM_ARRAY_TASK_STEP") { int("SLURM_ARRAY_TASK_STEP")?.max(1) } else { 1 };
+            let min = if set("SLURM_ARRAY_TASK_MIN") { int("SLURM_ARRAY_TASK_MIN")? } else { 0 };
+            let n = if set("SLURM_ARRAY_TASK_COUNT") { Some(int("SLURM_ARRAY_TASK_COUNT")?) } else { None };
+            return Ok(((int("SLURM_ARRAY_TASK_ID")? - min) / step + 1, n, "SLURM_ARRAY_TASK_ID"));
+        }
+        if set("SGE_TASK_ID") {
+            let step = if set("SGE_TASK_STEPSIZE") { int("SGE_TASK_STEPSIZE")?.max(1) } else { 1 };
+            let first = if set("SGE_TASK_FIRST") { int("SGE_TASK_FIRST")? } else { 1 };
+            let n = if set("SGE_TASK_LAST") { Some((int("SGE_TASK_LAST")? - first) / step + 1) } else { None };
+            return Ok(((int("SGE_TASK_ID")? - first) / step + 1, n, "SGE_TASK_ID"));
+        }
+        if set("AWS_BATCH_JOB_ARRAY_INDEX") {
+            let n = if set("AWS_BATCH_JOB_ARRAY_SIZE") { Some(int("AWS_BATCH_JOB_ARRAY_SIZE")?) } else { None };
+            return Ok((int("AWS_BATCH_JOB_ARRAY_INDEX")? + 1, n, "AWS_BATCH_JOB_ARRAY_INDEX"));
+        }
+        for v in ["LSB_JOBINDEX", "PBS_ARRAY_INDEX", "PBS_ARRAYID"] {
+            // LSF sets LSB_JOBINDEX to 0 outside a job array.
+            if set(v) && !(v == "LSB_JOBINDEX" && int(v)? == 0) {
+                return Ok((int(v)?, None, v));
+            }
+        }
+        if set("JOB_COMPLETION_INDEX") {
+            return Ok((int("JOB_COMPLETION_INDEX")? + 1, None, "JOB_COMPLETION_INDEX"));
+        }
+        Err(bad("no job-array variable is set (SLURM_ARRAY_TASK_ID, SGE_TASK_ID, AWS_BATCH_JOB_ARRAY_INDEX, LSB_JOBINDEX, PBS_ARRAY_INDEX, PBS_ARRAYID, JOB_COMPLETION_INDEX): give K/N".into()))
+    };
+    let number = |t: &str| -> Result<i64, Failure> { t.trim().parse().map_err(|_| bad("expected K/N, auto or auto/N (e.g. 2/4)".into())) };
+    let (k, n, source) = match text.trim().split_once('/') {
+        None if text.trim() == "auto" => {
+            let (k, n, v) = from_env()?;
+            let Some(n) = n else { return Err(bad(format!("{v} gives the index but not the count of the job array: write --shard auto/N"))) };
+            (k, n, Some(v))
+        }
+        Some((k, n)) if k.trim() == "auto" => {
+            let (k, _, v) = from_env()?;
+            (k, number(n)?, Some(v))
+        }
+        Some((k, n)) => (number(k)?, number(n)?, None),
+        None => return Err(bad("expected K/N, auto or auto/N (e.g. 2/4)".into())),
+    };
+    if k < 1 || k > n || n < 1 || n as usize > len.max(1) {
+        let from = source.map(|v| format!(" (K from {v})")).unwrap_or_default();
+        return Err(bad(format!("shard {k}/{n}{from}: expected 1 ≤ K ≤ N ≤ {}, the number of points", len.max(1))));
+    }
+    Ok((k as usize, n as usize))
+}

@@ -1,11 +1,17 @@
-//! `canonode scan`: quasinormal modes over a grid of one parameter, in
-//! parallel, with continuation, a progress bar, shards and a plot.
+//! `canonode scan`: quasinormal modes over a survey — one parameter, a
+//! tensor grid of several (`--vary` given more than once) or the points of
+//! a file (`--points`) — in parallel, with continuation, a progress bar,
+//! shards (also from a batch scheduler's job-array variables), a plot, and
+//! tables streamed point by point (`src/cli/table.rs`) that a killed run
+//! can `--resume`.
 
+use super::table::{point_json, point_text, Header, Layout};
 use super::values::parse_assignments;
 use super::{run_command, Failure, InputArgs};
-use crate::algebra::GRat;
+use crate::algebra::{GRat, Rat};
 use crate::error::{Error, ErrorKind};
-use crate::solve::scan::{plot, scan, shard, single_point, PointSolver};
+use crate::solve::scan::{plot, single_point, survey, Flow, PointSolver, ScanPoint, SurveyEnd, Trail, Walk};
+use std::io::Write;
 use crate::solve::spectrum::SpectrumOptions;
 use clap::{Args, ValueEnum};
 use std::io::IsTerminal;
@@ -13,9 +19,11 @@ use std::io::IsTerminal;
 /// Output formats of `scan`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
 pub(crate) enum ScanFormat {
-    /// One line per grid point and overtone.
+    /// One line per point and overtone, streamed (layout at the top of `src/cli/table.rs`).
     Csv,
-    /// JSON: `points` [{`index`, `value`, `error`, `modes` [{`n`, `omega`, `converged`, `reason`, `check`}]}].
+    /// JSON lines: a header object, then one object per point, streamed.
+    Jsonl,
+    /// One JSON document at the end: {`parameter`, `frequency`, `points` [{`index`, `value`, `error`, `modes` [{`n`, `omega`, `converged`, `reason`, `check`}]}]} (with several parameters `parameters` and each point's `values`).
     Json,
 }
 
@@ -24,18 +32,30 @@ pub(crate) enum ScanFormat {
 pub(crate) struct ScanArgs {
     #[command(flatten)]
     input: InputArgs,
-    /// The parameter and its grid, NAME=START:STOP:STEP (exact decimals), e.g. 'q=0:0.9:0.05'.
-    #[arg(long = "vary", value_name = "NAME=A:B:STEP")]
-    vary: String,
+    /// A parameter and its grid, NAME=START:STOP:STEP (exact decimals), e.g. 'q=0:0.9:0.05'; given again, a tensor grid walked as a snake (the first slowest).
+    #[arg(long = "vary", value_name = "NAME=A:B:STEP", required_unless_present = "points")]
+    vary: Vec<String>,
+    /// A file of points instead of --vary: a line of parameter names, then one line of values per point (commas or spaces; '#' starts a comment), solved in the file's order.
+    #[arg(long = "points", value_name = "FILE", conflicts_with = "vary")]
+    points: Option<String>,
     /// Values of the other parameters (not the frequency, not the varied one).
     #[arg(long = "at", value_name = "NAME=VALUE,...", default_value = "")]
     at: String,
     /// Overtones, 'A..B' or one number.
     #[arg(long = "overtones", value_name = "A..B", default_value = "0")]
     overtones: String,
-    /// Only part K of N of the grid (contiguous blocks), e.g. '2/4'.
-    #[arg(long = "shard", value_name = "K/N")]
+    /// Only part K of N of the survey (contiguous blocks), e.g. '2/4'; 'auto' reads K and N from a job array (Slurm, Grid Engine, AWS Batch), 'auto/N' reads K (also LSF, PBS, Kubernetes).
+    #[arg(long = "shard", value_name = "K/N|auto|auto/N")]
     shard: Option<String>,
+    /// Write the table to FILE (streamed: each point as it is finished) instead of standard output.
+    #[arg(short = 'o', long = "output", value_name = "FILE")]
+    output: Option<String>,
+    /// Continue the table in --output FILE from where a killed or stopped run left it.
+    #[arg(long = "resume", requires = "output")]
+    resume: bool,
+    /// Stop after N new points (a later run with --resume goes on).
+    #[arg(long = "stop-after", value_name = "N")]
+    stop_after: Option<usize>,
     /// Write a plot of the scanned modes, SVG or PNG by the extension.
     #[arg(long = "plot", value_name = "FILE.svg|FILE.png")]
     plot: Option<String>,
@@ -56,7 +76,8 @@ pub(crate) struct ScanArgs {
 }
 
 pub(crate) fn run(a: &ScanArgs) -> u8 {
-    let mut extra = vec![("--vary".to_string(), a.vary.clone()), ("--at".to_string(), a.at.clone())];
+    let mut extra: Vec<(String, String)> = a.vary.iter().map(|v| ("--vary".to_string(), v.clone())).collect();
+    extra.push(("--at".to_string(), a.at.clone()));
     extra.extend(a.shard.iter().map(|s| ("--shard".to_string(), s.clone())));
     extra.extend(a.guess.iter().map(|g| ("--guess".to_string(), g.clone())));
     extra.extend(a.couple.option_texts());
@@ -89,16 +110,34 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     let Some(freq) = names.iter().skip(1).position(|n| *n == fname).map(|i| i + 1) else {
         return Err(Error::new(ErrorKind::Usage, format!("'{fname}' is not a parameter")).in_option("--frequency").into());
     };
-    let (vname, vary, g) = super::options::vary(&a.vary, &names, freq)?;
-    let vname = vname.as_str();
+    let walk = match &a.points {
+        Some(path) => points_file(path, &names, freq)?,
+        None => {
+            let mut axes: Vec<(usize, Vec<Rat>)> = Vec::new();
+            for v in &a.vary {
+                let (vname, field, g) = super::options::vary(v, &names, freq)?;
+                if axes.iter().any(|(f, _)| *f == field) {
+                    return Err(usage(format!("'{vname}' is varied twice"), "--vary", v.len()));
+                }
+                axes.push((field, g));
+            }
+            let max = super::options::MAX_GRID_POINTS;
+            Walk::tensor(&axes, max).ok_or_else(|| usage(format!("the grid has more than {max} points"), "--vary", a.vary.last().map_or(1, |v| v.len())))?
+        }
+    };
+    let vnames: Vec<String> = walk.fields.iter().map(|&f| names[f].clone()).collect();
     let mut point = vec![GRat::zero(); names.len()];
     let mut given = vec![false; names.len()];
     given[0] = true;
     given[freq] = true;
-    given[vary] = true;
+    for &f in &walk.fields {
+        given[f] = true;
+    }
     let coupled = a.couple.read(&red.field)?;
     let links = coupled.as_ref().map(|c| c.2.clone()).unwrap_or_default();
-    for i in super::spectrum::linked_radial(&links, &names, &[freq, vary], "solved for or varied")? {
+    let mut solved = vec![freq];
+    solved.extend(&walk.fields);
+    for i in super::spectrum::linked_radial(&links, &names, &solved, "solved for or varied")? {
         given[i] = true;
     }
     // Values of the angular equation's own parameters (not the radial one's).
@@ -109,7 +148,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
             continue;
         }
         match names.iter().skip(1).position(|x| *x == n) {
-            Some(i) if i + 1 != freq && i + 1 != vary => {
+            Some(i) if i + 1 != freq && !walk.fields.contains(&(i + 1)) => {
                 point[i + 1] = v;
                 given[i + 1] = true;
             }
@@ -120,23 +159,33 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     if !missing.is_empty() {
         return Err(usage(format!("no value given for {}", missing.join(", ")), "--at", a.at.len()));
     }
-    let range = match &a.shard {
-        None => 0..g.len(),
+    let (range, part) = match &a.shard {
+        None => (0..walk.len(), (1, 1)),
         Some(s) => {
-            let kn: Vec<Option<usize>> = s.split('/').map(|t| t.trim().parse().ok()).collect();
-            match kn.as_slice() {
-                [Some(k), Some(n)] if *k >= 1 && *k <= *n && *n <= g.len().max(1) => shard(g.len(), *k, *n),
-                _ => return Err(usage("expected K/N with 1 ≤ K ≤ N ≤ the number of grid points", "--shard", s.len())),
-            }
+            let (k, n) = super::options::shard(s, walk.len(), &|v| std::env::var(v).ok())?;
+            (crate::solve::scan::shard(walk.len(), k, n), (k, n))
         }
     };
+    if a.stop_after == Some(0) {
+        return Err(usage("--stop-after takes at least one point", "--stop-after", 1));
+    }
+    let layout = match a.format {
+        ScanFormat::Csv => Some(Layout::Csv),
+        ScanFormat::Jsonl => Some(Layout::Lines),
+        ScanFormat::Json => None,
+    };
+    if a.resume && layout.is_none() {
+        return Err(usage("--resume continues a streamed table: use --format csv or jsonl", "--format", 4));
+    }
     let base = SpectrumOptions { freq, values: point, overtones: (o0, o1), tol, guess, seeds: Vec::new() };
     // A coupled scan sets its angular problem up at the first point here, so
     // that a bad angular equation is reported against its own text before
     // any work starts.
-    if let Some((asrc, ared, _)) = &coupled {
+    if let (Some((asrc, ared, _)), Some(first_point)) = (&coupled, walk.points.get(range.start)) {
         let mut first = base.clone();
-        first.values[vary] = GRat::real(g[range.start].clone());
+        for (f, x) in walk.fields.iter().zip(first_point) {
+            first.values[*f] = GRat::real(x.clone());
+        }
         crate::solve::coupled::try_coupling(
             &red.field,
             ared,
@@ -148,13 +197,56 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
         )
         .map_err(|e| super::spectrum::angular_failure(e, asrc))?;
     }
-    let total = range.len() as u64;
-    let bar = if std::io::stderr().is_terminal() && !super::capturing() { Some(indicatif::ProgressBar::new(total)) } else { None };
-    let tick = || {
-        if let Some(b) = &bar {
-            b.inc(1);
-        }
+    let header = Header {
+        survey: survey_id(a, src, &walk),
+        points: walk.len(),
+        shard: part,
+        rows: range.clone(),
+        parameters: vnames.clone(),
+        frequency: fname.clone(),
+        angular: coupled.is_some(),
     };
+    // The output: standard output, or a file (new, or resumed from its last complete point).
+    let mut done: Vec<Trail> = Vec::new();
+    let mut file: Option<std::fs::File> = None;
+    if let Some(path) = &a.output {
+        let exists = std::path::Path::new(path).exists();
+        if exists && !a.resume {
+            return Err(Failure::Plain(format!("-o: error: {path:?} exists: add --resume to continue it, or remove it"), 2));
+        }
+        let mut start_over = true;
+        if a.resume && exists {
+            let text = super::table::read_file(path)?;
+            if !text.is_empty() {
+                let t = super::table::read(path, &text, Some((o1 - o0 + 1) as usize))?;
+                check_resumable(path, &t, &header, layout)?;
+                done = t.rows.iter().map(|r| r.trail.clone()).collect();
+                let f = std::fs::OpenOptions::new().write(true).open(path).map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 2))?;
+                f.set_len(t.complete_len as u64).map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 2))?;
+                start_over = false;
+            }
+        }
+        super::options::writable(path, "-o")?;
+        let mut f = std::fs::OpenOptions::new()
+            .create(true)
+            .append(true)
+            .open(path)
+            .map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 2))?;
+        if start_over {
+            if let Some(l) = layout {
+                f.write_all(header.text(l).as_bytes()).map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 1))?;
+            }
+        }
+        file = Some(f);
+    } else if let Some(l) = layout {
+        super::emit(&header.text(l))?;
+    }
+    if done.len() >= range.len() {
+        super::err_line(&format!("note: the table already holds all {} points", range.len()));
+        return Ok(String::new());
+    }
+    let total = (range.len() - done.len()) as u64;
+    let bar = if std::io::stderr().is_terminal() && !super::capturing() { Some(indicatif::ProgressBar::new(total)) } else { None };
     let opts = a.input.options();
     let angular_text = coupled.as_ref().map(|c| c.0.text.clone());
     let make = || -> crate::error::Result<PointSolver<'_>> {
@@ -176,64 +268,174 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
                     )?;
                     let none = |_: u32| None;
                     let (_, modes) = crate::solve::coupled::coupled_spectrum(&red, &c, o, check, &none)?;
-                    Ok(modes.into_iter().map(|m| (m.mode, m.check.filter(|c| c.converged).map(|c| c.omega))).collect())
+                    let angular = modes.iter().map(|m| m.angular.as_ref().filter(|a| a.root.converged).map(|a| a.root.omega)).collect();
+                    let modes = modes.into_iter().map(|m| (m.mode, m.check.filter(|c| c.converged).map(|c| c.omega))).collect();
+                    Ok(crate::solve::scan::SolvedPoint { modes, angular })
                 }))
             }
         }
     };
-    let points = scan(&make, &base, vary, &g, range, !a.no_check, &tick);
+    let keep = a.plot.is_some() || layout.is_none();
+    let mut kept: Vec<ScanPoint> = Vec::new();
+    let mut failure: Option<Failure> = None;
+    let mut fresh = 0usize;
+    let end = survey(&make, &base, &walk, range.clone(), !a.no_check, &done, &mut |p| {
+        if let Some(b) = &bar {
+            b.inc(1);
+        }
+        if let Some(l) = layout {
+            let text = point_text(&p, l, &header);
+            let written = match &mut file {
+                Some(f) => f.write_all(text.as_bytes()).map_err(|e| Failure::Plain(format!("error: cannot write the table: {e}"), 1)),
+                None => super::emit(&text),
+            };
+            if let Err(f) = written {
+                failure = Some(f);
+                return Flow::Stop;
+            }
+        }
+        if keep {
+            kept.push(p);
+        }
+        fresh += 1;
+        if a.stop_after.is_some_and(|n| fresh >= n) {
+            Flow::Stop
+        } else {
+            Flow::Go
+        }
+    });
     if let Some(b) = &bar {
         b.finish_and_clear();
     }
-    if let Some(path) = &a.plot {
-        plot(std::path::Path::new(path), &points, vname, &fname)
-            .map_err(|e| Failure::Plain(format!("error: cannot write the plot {path}: {e}"), 1))?;
+    if let Some(f) = failure {
+        return Err(f);
     }
-    Ok(match a.format {
-        ScanFormat::Csv => {
-            let mut o = format!("{vname},n,re,im,converged,check_re,check_im,reason\n");
-            for p in &points {
-                if let Some(e) = &p.error {
-                    o.push_str(&format!("{},,,,false,,,\"{}\"\n", p.value, e.replace('"', "'")));
+    if let SurveyEnd::Stopped { next } = end {
+        let how = match &a.output {
+            Some(path) => format!("; `-o {path} --resume` with the same options goes on"),
+            None => String::new(),
+        };
+        super::err_line(&format!("note: stopped after {fresh} new points as asked (--stop-after); the next is point {next}{how}"));
+    }
+    if let Some(path) = &a.plot {
+        // The fixed parameters in the titles, as given.
+        let fixed = a.at.split(',').map(str::trim).filter(|t| !t.is_empty()).collect::<Vec<_>>().join(", ");
+        plot(std::path::Path::new(path), &kept, &vnames, &fname, &fixed).map_err(|e| Failure::Plain(format!("error: cannot write the plot {path}: {e}"), 1))?;
+    }
+    if layout.is_some() {
+        return Ok(String::new());
+    }
+    let pts: Vec<serde_json::Value> = kept.iter().map(|p| point_json(p, &header, vnames.len() > 1)).collect();
+    let doc = if vnames.len() > 1 {
+        serde_json::json!({"parameters": vnames, "frequency": fname, "points": pts})
+    } else {
+        serde_json::json!({"parameter": vnames[0], "frequency": fname, "points": pts})
+    };
+    let text = format!("{}\n", serde_json::to_string_pretty(&doc).unwrap_or_default());
+    match (&mut file, &a.output) {
+        (Some(f), Some(path)) => {
+            f.write_all(text.as_bytes()).map_err(|e| Failure::Plain(format!("error: cannot write {path:?}: {e}"), 1))?;
+            Ok(String::new())
+        }
+        _ => Ok(text),
+    }
+}
+
+/// Refuses to resume a table of another survey, shard or format, or one
+/// whose points are not the first ones of its rows in order.
+fn check_resumable(path: &str, t: &super::table::Table, header: &Header, layout: Option<Layout>) -> Result<(), Failure> {
+    let bad = |msg: String| Failure::Plain(format!("{path}: error: cannot resume: {msg}"), 2);
+    if Some(t.layout) != layout {
+        return Err(bad("the file is in the other format (--format csv or jsonl)".into()));
+    }
+    if t.header.survey != header.survey || t.header.points != header.points || t.header.parameters != header.parameters {
+        return Err(bad(format!("the file is the table of another survey (survey={}, this one is survey={}): the equation or an option that changes the numbers differs", t.header.survey, header.survey)));
+    }
+    if t.header.shard != header.shard || t.header.rows != header.rows {
+        return Err(bad(format!("the file holds shard {}/{} (points {}..{}), this run is shard {}/{}", t.header.shard.0, t.header.shard.1, t.header.rows.start, t.header.rows.end, header.shard.0, header.shard.1)));
+    }
+    for (k, r) in t.rows.iter().enumerate() {
+        if r.index != header.rows.start + k {
+            return Err(bad(format!("line {}: point {} where point {} was expected (the points must run in walk order)", r.line, r.index, header.rows.start + k)));
+        }
+    }
+    Ok(())
+}
+
+/// The identity of a survey: the SHA-256 (first 16 hex digits) of the
+/// equation's text and of every option that changes a number (not the
+/// shard, output, format or plot), so that tables of different surveys are
+/// never resumed or merged together.
+fn survey_id(a: &ScanArgs, src: &super::Source, walk: &Walk) -> String {
+    let mut input = a.input.clone();
+    input.file = None;
+    let points: Vec<String> = walk.points.iter().map(|p| p.iter().map(|x| x.to_string()).collect::<Vec<_>>().join(",")).collect();
+    let key = format!(
+        "{}\u{0}{:?}\u{0}{:?}\u{0}{}\u{0}{}\u{0}{}\u{0}{}\u{0}{:e}\u{0}{:?}\u{0}{:?}\u{0}{:?}",
+        src.text,
+        input,
+        walk.fields,
+        points.join(";"),
+        a.at,
+        a.overtones,
+        a.no_check,
+        a.tol,
+        a.guess,
+        a.couple.option_texts(),
+        src.latex
+    );
+    crate::emit::record::sha256_hex(key.as_bytes())[..16].to_string()
+}
+
+/// Reads `--points FILE`: a line of parameter names, then one point a
+/// line (commas or whitespace between exact real decimals; '#' starts a
+/// comment). Errors name the file, line and column.
+fn points_file(path: &str, names: &[String], freq: usize) -> Result<Walk, Failure> {
+    let src = super::read_source(path)?;
+    let bad = |line: usize, msg: String| Failure::Plain(format!("{}:{line}: error: {msg}", src.name), 2);
+    let mut fields: Vec<usize> = Vec::new();
+    let mut points: Vec<Vec<Rat>> = Vec::new();
+    for (k, raw) in src.text.lines().enumerate() {
+        let line = raw.split('#').next().unwrap_or("").trim();
+        if line.is_empty() {
+            continue;
+        }
+        let words: Vec<&str> = line.split(|c: char| c == ',' || c.is_whitespace()).filter(|w| !w.is_empty()).collect();
+        if fields.is_empty() {
+            for w in &words {
+                let Some(f) = names.iter().skip(1).position(|n| n == w).map(|i| i + 1) else {
+                    return Err(bad(k + 1, format!("'{w}' is not a parameter of the equation (the first line names the varied parameters)")));
+                };
+                if f == freq {
+                    return Err(bad(k + 1, format!("'{w}' is the frequency being solved for; vary another parameter")));
                 }
-                for (m, c) in &p.modes {
-                    let r = &m.root;
-                    let (cre, cim) = c.map(|c| (format!("{:.17e}", c.re), format!("{:.17e}", c.im))).unwrap_or_default();
-                    if r.converged {
-                        o.push_str(&format!("{},{},{:.17e},{:.17e},true,{cre},{cim},\n", p.value, m.n, r.omega.re, r.omega.im));
-                    } else {
-                        o.push_str(&format!("{},{},,,false,,,\"{}\"\n", p.value, m.n, r.stop.text().replace('"', "'")));
-                    }
+                if fields.contains(&f) {
+                    return Err(bad(k + 1, format!("'{w}' is named twice")));
                 }
+                fields.push(f);
             }
-            o
+            continue;
         }
-        ScanFormat::Json => {
-            let pts: Vec<serde_json::Value> = points
-                .iter()
-                .map(|p| {
-                    let ms: Vec<serde_json::Value> = p
-                        .modes
-                        .iter()
-                        .map(|(m, c)| {
-                            serde_json::json!({
-                                "n": m.n,
-                                "omega": if m.root.converged { serde_json::json!([m.root.omega.re, m.root.omega.im]) } else { serde_json::Value::Null },
-                                "converged": m.root.converged,
-                                "reason": if m.root.converged { serde_json::Value::Null } else { serde_json::Value::String(m.root.stop.text()) },
-                                "check": c.map(|c| serde_json::json!({"method": "integrate", "omega": [c.re, c.im]})),
-                            })
-                        })
-                        .collect();
-                    serde_json::json!({"index": p.index, "value": p.value, "error": p.error, "modes": ms})
-                })
-                .collect();
-            format!(
-                "{}\n",
-                serde_json::to_string_pretty(&serde_json::json!({"parameter": vname, "frequency": fname, "points": pts})).unwrap_or_default()
-            )
+        if words.len() != fields.len() {
+            return Err(bad(k + 1, format!("expected {} values, found {}", fields.len(), words.len())));
         }
-    })
+        let mut p = Vec::new();
+        for w in words {
+            match super::values::read_value(w) {
+                Ok(v) if v.im.is_zero() => p.push(v.re),
+                Ok(_) => return Err(bad(k + 1, format!("'{w}' is not real"))),
+                Err(m) => return Err(bad(k + 1, m)),
+            }
+        }
+        points.push(p);
+        if points.len() > super::options::MAX_GRID_POINTS {
+            return Err(bad(k + 1, format!("more than {} points", super::options::MAX_GRID_POINTS)));
+        }
+    }
+    if points.is_empty() {
+        return Err(Failure::Plain(format!("{}: error: no points (a line of parameter names, then one line of values per point)", src.name), 2));
+    }
+    Ok(Walk::list(fields, points))
 }
 
 /// The fixed values of a coupled point: the radial parameters at the

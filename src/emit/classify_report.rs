@@ -4,7 +4,8 @@
 //! `class_name` (prose), `reason`, `notes` [text], `variable`, `parameters`,
 //! `singular_points` [{`where` (exact text), `infinity` (bool), `value`
 //! ([re, im] or null), `kind` ("ordinary" | "regular" | "irregular"),
-//! `pole_order`, `rank` (text such as "1/2"), `exponents` and
+//! `pole_order` (integer), `rank` (a number: an integer, or a half-integer
+//! such as 1.5), `rank_text` (the exact text, "3/2"), `exponents` and
 //! `unknown_exponents` ([{`exact`, `value`}]; `value` is [re, im] or null),
 //! `difference` (the exponent difference as exact text, or null at an
 //! irregular point), `integer_difference` (integer or null), `apparent` ("yes" | "no" |
@@ -330,7 +331,9 @@ pub fn analysis_json(k: &Field, var: &str, params: &[String], a: &Analysis, nume
                 "value": c2(np.and_then(|n| n.value)),
                 "kind": p.kind.word(),
                 "pole_order": p.pole_order,
-                "rank": p.rank.to_string(),
+                // A number (rank is a multiple of 1/2, exact as a double), and the exact text beside it.
+                "rank": if p.rank.is_integer() { json!(p.rank.to_f64() as i64) } else { json!(p.rank.to_f64()) },
+                "rank_text": p.rank.to_string(),
                 "exponents": ex(&p.exponents, np.map(|n| &n.exponents)),
                 "unknown_exponents": ex(&p.unknown_exponents, np.map(|n| &n.unknown_exponents)),
                 "difference": difference_text(k, p),

@@ -144,15 +144,31 @@ fn recurrence_json(fname: &str, b: &RecurrenceReport) -> Value {
 }
 
 fn recurrence_csv(b: &RecurrenceReport) -> String {
-    let mut o = String::from("n,re,im,converged,method,depth,change_on_doubling,residual,reason\n");
+    // The check columns as in `scan` (the direct integration's root and its
+    // relative agreement), and for a coupled problem the angular eigenvalue
+    // at the mode.
+    let with_angular = b.coupled.is_some();
+    let mut o = String::from("n,re,im,converged,method,depth,change_on_doubling,residual,check_re,check_im,agreement,");
+    o.push_str(if with_angular { "angular_re,angular_im,reason\n" } else { "reason\n" });
     let num = |x: f64| if x.is_finite() { format!("{x:.3e}") } else { String::new() };
-    for m in &b.modes {
+    for (i, m) in b.modes.iter().enumerate() {
         let r = &m.root;
         // Direct integration has no depth: its columns stay empty.
         let depth = if m.method == "integrate" { String::new() } else { r.depth.to_string() };
+        let checked = match b.checks.get(i).and_then(|c| c.as_ref()) {
+            Some(c) if c.converged && r.converged => {
+                format!("{:.17e},{:.17e},{}", c.omega.re, c.omega.im, num((c.omega - r.omega).norm() / r.omega.norm()))
+            }
+            _ => ",,".to_string(),
+        };
+        let angular = match (with_angular, b.coupled.as_ref().and_then(|c| c.values.get(i)).and_then(|c| c.as_ref())) {
+            (false, _) => String::new(),
+            (true, Some(c)) if r.converged => format!("{:.17e},{:.17e},", c.root.omega.re, c.root.omega.im),
+            (true, _) => ",,".to_string(),
+        };
         if r.converged {
             o.push_str(&format!(
-                "{},{:.17e},{:.17e},true,{},{depth},{},{},\n",
+                "{},{:.17e},{:.17e},true,{},{depth},{},{},{checked},{angular}\n",
                 m.n,
                 r.omega.re,
                 r.omega.im,
@@ -161,7 +177,7 @@ fn recurrence_csv(b: &RecurrenceReport) -> String {
                 num(r.residual)
             ));
         } else {
-            o.push_str(&format!("{},,,false,{},{depth},,,\"{}\"\n", m.n, m.method, r.stop.text().replace('"', "'")));
+            o.push_str(&format!("{},,,false,{},{depth},,,{checked},{angular}\"{}\"\n", m.n, m.method, r.stop.text().replace('"', "'")));
         }
     }
     o

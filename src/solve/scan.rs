@@ -1,27 +1,112 @@
-//! Parameter scans of quasinormal modes: every grid point is solved with the
-//! parameters substituted exactly, in parallel (rayon) over contiguous
-//! chunks of the grid, each mode followed from its neighbour within a chunk
-//! (continuation: the previous point's mode seeds the next). A grid can be
-//! split into shards for separate processes or cluster jobs.
+//! Parameter surveys of quasinormal modes: every point is solved with the
+//! parameters substituted exactly. A survey is a [`Walk`]: the points in
+//! the order they are solved, one parameter (a line), a tensor grid of
+//! several walked as a snake (so that consecutive points are neighbours in
+//! the grid), or any list of points. The walk is cut into chunks fixed by
+//! its length alone (never by the thread count, so that the digits do not
+//! depend on it); chunks run in parallel, each mode followed from its
+//! neighbour within a chunk (continuation: the previous point's modes seed
+//! the next), and a chunk whose first point does not continue the chunk
+//! before it is solved again from that chunk's end. Points reach the
+//! caller in walk order, each as soon as it is final, so that a table
+//! written from them keeps all that finished when the run is killed, and a
+//! run can start again from such a table ([`survey`]'s `done`) and give
+//! the same numbers as one that was never interrupted. A walk can be split
+//! into shards for separate processes or cluster jobs.
 
 use super::spectrum::{integration_check, qnm_modes_from, qnm_recurrence, substitute, Mode, SpectrumOptions};
 use crate::algebra::{GRat, Rat};
 use crate::error::Result;
 use crate::ode::Reduction;
 use num_complex::Complex64;
-use rayon::prelude::*;
+use std::collections::VecDeque;
+use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 
-/// The result at one grid point.
+/// The result at one point of a survey.
 #[derive(Clone, Debug)]
 pub struct ScanPoint {
-    /// Position in the full grid.
+    /// Position in the survey's walk (the row order of its table).
     pub index: usize,
-    /// The varied parameter's value.
+    /// The first varied parameter's value.
     pub value: f64,
+    /// Every varied parameter's value, in the order of [`Walk::fields`].
+    pub values: Vec<f64>,
     /// The modes (empty when the point failed), each with its integration check.
     pub modes: Vec<(Mode, Option<Complex64>)>,
+    /// For a coupled problem, the angular eigenvalue at each mode (empty otherwise).
+    pub angular: Vec<Option<Complex64>>,
     /// Why the point failed, when it did.
     pub error: Option<String>,
+}
+
+/// The points of a survey in the order they are solved.
+#[derive(Clone, Debug)]
+pub struct Walk {
+    /// Field indices of the varied parameters.
+    pub fields: Vec<usize>,
+    /// Each point's values of the varied parameters, in the order of `fields`.
+    pub points: Vec<Vec<Rat>>,
+    /// The length of one pass along the last axis of a tensor grid (the
+    /// whole walk for a line or a list): a step from one pass to the next
+    /// changes another parameter, often by much (a multipole index), so
+    /// each pass starts afresh instead of from its neighbour.
+    pub pass: usize,
+}
+
+impl Walk {
+    /// One parameter (field index `field`) over `grid`, in its order.
+    pub fn line(field: usize, grid: &[Rat]) -> Walk {
+        Walk { fields: vec![field], points: grid.iter().map(|x| vec![x.clone()]).collect(), pass: grid.len().max(1) }
+    }
+
+    /// The tensor grid of `axes` (field index, values), walked as a snake:
+    /// the first axis slowest, every later one forth and back in turn, so
+    /// that consecutive points differ by one step of one parameter. `None`
+    /// when the grid has more than `max` points or an axis is empty.
+    pub fn tensor(axes: &[(usize, Vec<Rat>)], max: usize) -> Option<Walk> {
+        let sizes: Vec<usize> = axes.iter().map(|(_, v)| v.len()).collect();
+        let mut total = 1usize;
+        for &n in &sizes {
+            total = total.checked_mul(n).filter(|&t| t <= max && n > 0)?;
+        }
+        let points = (0..total).map(|s| snake(&sizes, s).iter().zip(axes).map(|(&i, (_, v))| v[i].clone()).collect()).collect();
+        Some(Walk { fields: axes.iter().map(|(f, _)| *f).collect(), points, pass: sizes.last().copied().unwrap_or(1).max(1) })
+    }
+
+    /// The number of points.
+    pub fn len(&self) -> usize {
+        self.points.len()
+    }
+
+    /// A list of points, solved in its order (one pass).
+    pub fn list(fields: Vec<usize>, points: Vec<Vec<Rat>>) -> Walk {
+        let pass = points.len().max(1);
+        Walk { fields, points, pass }
+    }
+
+    /// True when the walk has no point.
+    pub fn is_empty(&self) -> bool {
+        self.points.is_empty()
+    }
+}
+
+/// The per-axis indices of position `s` of the snake walk over a grid of
+/// `sizes`: the walk of the later axes runs backwards after every odd
+/// index of an earlier one.
+pub fn snake(sizes: &[usize], s: usize) -> Vec<usize> {
+    let mut rest: usize = sizes.iter().product();
+    let mut t = s;
+    let mut out = Vec::with_capacity(sizes.len());
+    for &n in sizes {
+        rest /= n.max(1);
+        let i = t / rest.max(1);
+        t %= rest.max(1);
+        if i % 2 == 1 {
+            t = rest - 1 - t;
+        }
+        out.push(i);
+    }
+    out
 }
 
 /// The grid a:b:step as exact rationals (a, a + step, … ≤ b).
@@ -54,11 +139,281 @@ pub type PointModes = Vec<(Mode, Option<Complex64>)>;
 /// A worker's solver for one grid point: the options carry the point's
 /// parameter values and the seeds from its neighbour; the flag asks for
 /// the integration check.
-pub type PointSolver<'a> = Box<dyn Fn(&SpectrumOptions, bool) -> Result<PointModes> + 'a>;
+pub type PointSolver<'a> = Box<dyn Fn(&SpectrumOptions, bool) -> Result<SolvedPoint> + 'a>;
 
-/// Solves every point of `grid[range]` for parameter `vary` (field index).
-/// `make` builds a solver once per worker (exact fields are not shared
-/// between threads); `progress` is called once per finished point.
+/// What a point solver gives: the modes with their checks, and for a
+/// coupled problem the angular eigenvalue at each mode.
+#[derive(Clone, Debug)]
+pub struct SolvedPoint {
+    /// The modes, each with its integration check.
+    pub modes: PointModes,
+    /// The angular eigenvalue at each mode (empty when not coupled).
+    pub angular: Vec<Option<Complex64>>,
+}
+
+impl From<PointModes> for SolvedPoint {
+    fn from(modes: PointModes) -> SolvedPoint {
+        SolvedPoint { modes, angular: Vec::new() }
+    }
+}
+
+/// What a finished point leaves for the continuation: its modes when every
+/// one converged. A resumed survey is given these for the points it
+/// already has.
+pub type Trail = Option<Vec<Complex64>>;
+
+/// What the consumer of a survey's points says after each one.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Flow {
+    /// Go on to the next point.
+    Go,
+    /// Stop here (the points given so far are all the survey delivers).
+    Stop,
+}
+
+/// How a survey ended.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum SurveyEnd {
+    /// Every point of the range was delivered.
+    Finished,
+    /// The consumer stopped the survey; `next` is the first point not delivered.
+    Stopped {
+        /// The walk position the survey would have delivered next.
+        next: usize,
+    },
+}
+
+/// A chunk still to be solved: walk positions `from..to`, and how it starts.
+struct Task {
+    from: usize,
+    to: usize,
+    /// `None`: from no neighbour (the result is final only if it continues
+    /// the chunk before); `Some(seed)`: from the given seeds, or from none
+    /// at the start of the range or of a pass (final as it is).
+    given: Option<Trail>,
+}
+
+/// Solves walk positions `positions` in order with one solver, from the
+/// seeds `start` (when given), each point continuing the last converged
+/// one; `go` is asked before each point and `out` takes each result
+/// (returning false to stop).
+#[allow(clippy::too_many_arguments)]
+fn run_chunk(
+    solver: &Result<PointSolver<'_>>,
+    base: &SpectrumOptions,
+    walk: &Walk,
+    check: bool,
+    positions: std::ops::Range<usize>,
+    start: Trail,
+    go: &dyn Fn() -> bool,
+    out: &mut dyn FnMut(ScanPoint) -> bool,
+) {
+    let mut prev = start;
+    for i in positions {
+        if !go() {
+            return;
+        }
+        let values: Vec<f64> = walk.points[i].iter().map(|x| x.to_f64()).collect();
+        let point = |solved: SolvedPoint, error| ScanPoint {
+            index: i,
+            value: values.first().copied().unwrap_or(f64::NAN),
+            values: values.clone(),
+            modes: solved.modes,
+            angular: solved.angular,
+            error,
+        };
+        let failed = || SolvedPoint::from(Vec::new());
+        let p = match solver {
+            Err(e) => point(failed(), Some(e.message.clone())),
+            Ok(solve) => {
+                let mut opts = base.clone();
+                for (f, x) in walk.fields.iter().zip(&walk.points[i]) {
+                    opts.values[*f] = GRat::real(x.clone());
+                }
+                if let Some(s) = &prev {
+                    opts.seeds = s.clone();
+                    opts.guess = None;
+                }
+                match solve(&opts, check) {
+                    Ok(solved) => point(solved, None),
+                    Err(e) => point(failed(), Some(e.message)),
+                }
+            }
+        };
+        if let Some(w) = converged(&p) {
+            prev = Some(w);
+        }
+        if !out(p) {
+            return;
+        }
+    }
+}
+
+/// Solves the points `range` of `walk` and hands each to `sink` on the
+/// calling thread, in walk order, as soon as it is final. `make` builds a
+/// solver once per worker thread (exact fields are not shared between
+/// threads; as many workers as rayon's current thread count). `done` is
+/// the continuation state of the first points of the range, already
+/// solved by an earlier run: the survey goes on after them exactly as an
+/// uninterrupted run would.
+pub fn survey<'a>(
+    make: &(dyn Fn() -> Result<PointSolver<'a>> + Sync),
+    base: &SpectrumOptions,
+    walk: &Walk,
+    range: std::ops::Range<usize>,
+    check: bool,
+    done: &[Trail],
+    sink: &mut dyn FnMut(ScanPoint) -> Flow,
+) -> SurveyEnd {
+    let rs = range.start;
+    let resume = (rs + done.len()).min(range.end);
+    let len = chunk_len(walk.len());
+    let mut trail: Vec<Trail> = done[..resume - rs].to_vec();
+    // Chunks at multiples of `len` in the whole walk, cut at the range's
+    // ends, so that a shard continues its points as the whole run does.
+    // Each pass of the walk starts afresh too: its first point does not
+    // continue the previous pass's last.
+    let pass = walk.pass.max(1);
+    let rooted = |i: usize| i == rs || i.is_multiple_of(pass);
+    let mut tasks = Vec::new();
+    let mut cs = rs;
+    while cs < range.end {
+        let ce = ((cs / len + 1) * len).min((cs / pass + 1) * pass).min(range.end);
+        if ce > resume {
+            let given = if cs < resume {
+                // Part of the chunk is done: it goes on from its last
+                // converged point; with none, from where the chunk started
+                // (from the chunk before when that one ended converged:
+                // an unconverged first point never continues it).
+                Some(trail[cs - rs..].iter().rev().find_map(|t| t.clone()).or_else(|| (!rooted(cs)).then(|| trail[cs - rs - 1].clone()).flatten()))
+            } else if rooted(cs) {
+                Some(None)
+            } else {
+                None
+            };
+            tasks.push(Task { from: cs.max(resume), to: ce, given });
+        }
+        cs = ce;
+    }
+    let stop = AtomicBool::new(false);
+    let dropped: Vec<AtomicBool> = tasks.iter().map(|_| AtomicBool::new(false)).collect();
+    let next = AtomicUsize::new(0);
+    let threads = rayon::current_num_threads().clamp(1, tasks.len().max(1));
+    let (tx, rx) = std::sync::mpsc::channel::<(usize, ScanPoint)>();
+    std::thread::scope(|scope| {
+        let mut workers = 0;
+        for _ in 0..threads {
+            let tx = tx.clone();
+            let (tasks, stop, dropped, next) = (&tasks, &stop, &dropped, &next);
+            let work = move || {
+                let solver = make();
+                loop {
+                    let t = next.fetch_add(1, Ordering::SeqCst);
+                    let Some(task) = tasks.get(t) else { break };
+                    let go = || !stop.load(Ordering::SeqCst) && !dropped[t].load(Ordering::SeqCst);
+                    let mut sent = true;
+                    run_chunk(&solver, base, walk, check, task.from..task.to, task.given.clone().flatten(), &go, &mut |p| {
+                        sent = tx.send((t, p)).is_ok();
+                        sent
+                    });
+                    if !sent || stop.load(Ordering::SeqCst) {
+                        break;
+                    }
+                }
+            };
+            // The exact work nests deeply on some inputs: a large stack, as the command line's.
+            if std::thread::Builder::new().stack_size(256 << 20).spawn_scoped(scope, work).is_ok() {
+                workers += 1;
+            }
+        }
+        drop(tx);
+        let mut buffers: Vec<VecDeque<ScanPoint>> = tasks.iter().map(|_| VecDeque::new()).collect();
+        let mut own: Option<Result<PointSolver<'a>>> = None;
+        // The next result of task `t`, waiting for the workers (or, with
+        // none running, solving the task here).
+        let take = |t: usize, buffers: &mut Vec<VecDeque<ScanPoint>>, own: &mut Option<Result<PointSolver<'a>>>| -> Option<ScanPoint> {
+            while buffers[t].is_empty() {
+                match rx.recv() {
+                    Ok((k, p)) => buffers[k].push_back(p),
+                    Err(_) if workers == 0 => {
+                        let solver = own.get_or_insert_with(make);
+                        let task = &tasks[t];
+                        let b = &mut buffers[t];
+                        run_chunk(solver, base, walk, check, task.from..task.to, task.given.clone().flatten(), &|| true, &mut |p| {
+                            b.push_back(p);
+                            true
+                        });
+                        if b.is_empty() {
+                            return None;
+                        }
+                    }
+                    Err(_) => return None,
+                }
+            }
+            buffers[t].pop_front()
+        };
+        'tasks: for (t, task) in tasks.iter().enumerate() {
+            let at = |i: usize| -> Trail { i.checked_sub(rs).and_then(|k| trail.get(k).cloned()).flatten() };
+            let again = match &task.given {
+                None => match at(task.from - 1) {
+                    Some(last) => {
+                        if let Some(first) = take(t, &mut buffers, &mut own) {
+                            let second = if task.from >= rs + 2 && !rooted(task.from - 1) { at(task.from - 2) } else { None };
+                            let ok = continues(&last, second.as_deref(), converged(&first).as_deref());
+                            buffers[t].push_front(first);
+                            (!ok).then_some(last)
+                        } else {
+                            None
+                        }
+                    }
+                    None => None,
+                },
+                _ => None,
+            };
+            // Hands a final point on; false when the consumer stops.
+            let mut deliver = |p: ScanPoint, trail: &mut Vec<Trail>| -> bool {
+                trail.push(converged(&p));
+                sink(p) == Flow::Go
+            };
+            match again {
+                None => {
+                    for _ in task.from..task.to {
+                        let Some(p) = take(t, &mut buffers, &mut own) else { break 'tasks };
+                        if !deliver(p, &mut trail) {
+                            break 'tasks;
+                        }
+                    }
+                }
+                Some(seed) => {
+                    // The chunk started on another mode: solved again here,
+                    // point by point, from the chunk before.
+                    dropped[t].store(true, Ordering::SeqCst);
+                    buffers[t].clear();
+                    let solver = own.get_or_insert_with(make);
+                    let mut go_on = true;
+                    run_chunk(solver, base, walk, check, task.from..task.to, Some(seed), &|| true, &mut |p| {
+                        go_on = deliver(p, &mut trail);
+                        go_on
+                    });
+                    if !go_on {
+                        break 'tasks;
+                    }
+                }
+            }
+        }
+        stop.store(true, Ordering::SeqCst);
+        let next = rs + trail.len();
+        if next >= range.end {
+            SurveyEnd::Finished
+        } else {
+            SurveyEnd::Stopped { next }
+        }
+    })
+}
+
+/// Solves every point of `grid[range]` for parameter `vary` (field index)
+/// and returns them in grid order: [`survey`] over a line, with
+/// `progress` called once per finished point.
 pub fn scan<'a>(
     make: &(dyn Fn() -> Result<PointSolver<'a>> + Sync),
     base: &SpectrumOptions,
@@ -68,75 +423,69 @@ pub fn scan<'a>(
     check: bool,
     progress: &(dyn Fn() + Sync),
 ) -> Vec<ScanPoint> {
-    let idx: Vec<usize> = range.collect();
-    // The chunks depend on the grid alone, never on the number of threads,
-    // so that every point is continued from the same neighbour (and gives
-    // the same digits) however the work is spread.
-    let chunks: Vec<&[usize]> = idx.chunks(chunk_len(grid.len())).collect();
-    let run_chunk = |c: &[usize], start: Option<Vec<Complex64>>, tick: bool| -> Vec<ScanPoint> {
-        let solver = match make() {
-            Ok(r) => r,
-            Err(e) => {
-                return c
-                    .iter()
-                    .map(|&i| ScanPoint { index: i, value: grid[i].to_f64(), modes: Vec::new(), error: Some(e.message.clone()) })
-                    .collect();
-            }
-        };
-        let mut prev = start;
-        let mut res = Vec::new();
-        for &i in c.iter() {
-            let mut opts = base.clone();
-            opts.values[vary] = GRat::real(grid[i].clone());
-            if let Some(s) = &prev {
-                opts.seeds = s.clone();
-                opts.guess = None;
-            }
-            let p = match solver(&opts, check) {
-                Ok(modes) => ScanPoint { index: i, value: grid[i].to_f64(), modes, error: None },
-                Err(e) => ScanPoint { index: i, value: grid[i].to_f64(), modes: Vec::new(), error: Some(e.message) },
-            };
-            if let Some(w) = converged(&p) {
-                prev = Some(w);
-            }
-            if tick {
-                progress();
-            }
-            res.push(p);
-        }
-        res
-    };
-    let mut parts: Vec<Vec<ScanPoint>> = chunks.par_iter().map(|c| run_chunk(c, None, true)).collect();
-    // Every chunk but the first started without a neighbour. Where its first
-    // point does not continue the previous chunk (not converged, or far from
-    // the extrapolation of the previous chunk's last two points), the chunk
-    // is solved again, point by point, from the previous chunk's end, so that
-    // a scan never silently jumps to another mode at a chunk boundary.
-    for k in 1..parts.len() {
-        let (before, after) = parts.split_at_mut(k);
-        let prev_chunk = &before[k - 1];
-        let Some(last) = prev_chunk.last().and_then(converged) else { continue };
-        let second = prev_chunk.len().checked_sub(2).and_then(|i| converged(&prev_chunk[i]));
-        if !continues(&last, second.as_deref(), after[0].first().and_then(converged).as_deref()) {
-            after[0] = run_chunk(chunks[k], Some(last), false);
-        }
-    }
-    let mut out: Vec<ScanPoint> = parts.into_iter().flatten().collect();
-    out.sort_by_key(|p| p.index);
+    let mut out = Vec::new();
+    survey(make, base, &Walk::line(vary, grid), range, check, &[], &mut |p| {
+        progress();
+        out.push(p);
+        Flow::Go
+    });
     out
 }
 
-/// The length of the chunks a grid of `len` points is split into: at most
-/// 16 chunks (enough for the cores of a workstation), at least 8 points
-/// each, so that most points continue a neighbour.
+/// The length of the chunks a walk of `len` points is cut into: about 16
+/// chunks (enough for the cores of a workstation), at least 8 points each
+/// so that most points continue a neighbour, at most 48 so that a killed
+/// run loses little finished work and the workers stay busy.
 fn chunk_len(len: usize) -> usize {
-    len.div_ceil(16).max(8)
+    len.div_ceil(16).clamp(8, 48)
 }
 
 /// The modes of a point when every one converged.
 fn converged(p: &ScanPoint) -> Option<Vec<Complex64>> {
     (p.error.is_none() && !p.modes.is_empty() && p.modes.iter().all(|(m, _)| m.root.converged))
         .then(|| p.modes.iter().map(|(m, _)| m.root.omega).collect())
+}
+
+/// How the modes on the two sides of a boundary of the walk (two files of
+/// a sharded survey) meet.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Join {
+    /// The point after the boundary continues the ones before it (or the
+    /// other way round).
+    Continues,
+    /// A jump: the modes after the boundary are not on the line of the
+    /// ones before it (another mode, or a root finder that lost its mode).
+    Jumps,
+    /// Not judged: a side did not converge, or the walk turns at the
+    /// boundary (no straight line of three points to extrapolate along).
+    Unjudged,
+}
+
+/// A point of a survey as a boundary check sees it: its parameter values
+/// and its continuation state.
+pub type Seen<'a> = (&'a [f64], &'a Trail);
+
+/// Whether the modes continue across the boundary between `a` (with `b`
+/// before it) and `c` (with `d` after it): the chunk-boundary test of
+/// [`survey`], extrapolated along whichever side lies on a straight,
+/// evenly stepped line through the boundary.
+pub fn join(b: Option<Seen<'_>>, a: Seen<'_>, c: Seen<'_>, d: Option<Seen<'_>>) -> Join {
+    let (Some(wa), Some(wc)) = (a.1, c.1) else { return Join::Unjudged };
+    let even = |x: &[f64], y: &[f64], z: &[f64]| -> bool {
+        let scale = x.iter().chain(y).chain(z).fold(0.0f64, |m, v| m.max(v.abs())).max(1e-300);
+        x.len() == y.len() && y.len() == z.len() && x.iter().zip(y).zip(z).all(|((x, y), z)| ((y - x) - (z - y)).abs() <= 1e-9 * scale)
+    };
+    if let Some((vb, Some(wb))) = b {
+        if even(vb, a.0, c.0) {
+            return if continues(wa, Some(wb), Some(wc)) { Join::Continues } else { Join::Jumps };
+        }
+    }
+    if let Some((vd, Some(wd))) = d {
+        if even(a.0, c.0, vd) {
+            return if continues(wc, Some(wd), Some(wa)) { Join::Continues } else { Join::Jumps };
+        }
+    }
+    Join::Unjudged
 }
 
 /// True when `next` continues `last` (with `second` the point before it):
@@ -159,11 +508,19 @@ fn continues(last: &[Complex64], second: Option<&[Complex64]>, next: Option<&[Co
 /// The modes of one equation at one grid point: parameters substituted
 /// exactly, the recurrence derived, seeds from WKB (wkb::SEED_ORDER) when no
 /// neighbour gave them, the integration check when asked.
-pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Result<PointModes> {
+pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Result<SolvedPoint> {
     let r = substitute(red, &opts.values, opts.freq)?;
     let (rec, setup) = qnm_recurrence(&r, opts)?;
-    let est = super::spectrum::barrier_estimates(&r, opts, setup.horizon_value, super::wkb::SEED_ORDER).ok();
-    let first = |n: u32| est.as_ref().and_then(|e| e(n)).and_then(|b| b.series.seed());
+    // The WKB estimates are set up only when a seed is asked for: a point
+    // continued from its neighbour has its seeds already.
+    let est = std::cell::OnceCell::new();
+    let horizon = setup.horizon_value;
+    let first = |n: u32| {
+        est.get_or_init(|| super::spectrum::barrier_estimates(&r, opts, horizon, super::wkb::SEED_ORDER).ok())
+            .as_ref()
+            .and_then(|e| e(n))
+            .and_then(|b| b.series.seed())
+    };
     let (modes, setup) = qnm_modes_from(&rec, setup, opts, &first)?;
     let integ = if check { integration_check(&r, opts, &setup).ok() } else { None };
     Ok(modes
@@ -178,7 +535,8 @@ pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Res
             };
             (m, c)
         })
-        .collect())
+        .collect::<PointModes>()
+        .into())
 }
 
 /// The font of the plots' text, compiled in so that a plot looks the same
@@ -195,37 +553,58 @@ pub(crate) fn register_font() {
 }
 
 /// Writes a plot, SVG or PNG by the file's extension: the modes in the
-/// complex plane, and Re ω and Im ω against the varied parameter, one series
-/// per method (continued fraction, direct integration).
-pub fn plot(path: &std::path::Path, points: &[ScanPoint], param: &str, freq: &str) -> std::result::Result<(), String> {
+/// complex plane, and Re ω and Im ω against the last varied parameter
+/// (`params`, the survey's varied parameters), one series per method
+/// (continued fraction, direct integration). A survey of several
+/// parameters gets one colour per pass (a value of the other parameters,
+/// in the legend); `fixed` (the fixed parameters as text) goes in the titles.
+pub fn plot(path: &std::path::Path, points: &[ScanPoint], params: &[String], freq: &str, fixed: &str) -> std::result::Result<(), String> {
     use plotters::prelude::*;
     register_font();
     let ext = path.extension().and_then(|e| e.to_str()).map(|e| e.to_ascii_lowercase());
     match ext.as_deref() {
-        Some("svg") => draw(SVGBackend::new(path, (1200, 500)).into_drawing_area(), points, param, freq),
-        Some("png") => draw(BitMapBackend::new(path, (1200, 500)).into_drawing_area(), points, param, freq),
+        Some("svg") => draw(SVGBackend::new(path, (1200, 500)).into_drawing_area(), points, params, freq, fixed),
+        Some("png") => draw(BitMapBackend::new(path, (1200, 500)).into_drawing_area(), points, params, freq, fixed),
         _ => Err("the plot is written as SVG or PNG: give FILE.svg or FILE.png".into()),
     }
 }
 
+/// The points of a plot's series: (x, y) pairs.
+type Series = Vec<(f64, f64)>;
+
 fn draw<DB: plotters::prelude::DrawingBackend>(
     root: plotters::drawing::DrawingArea<DB, plotters::coord::Shift>,
     points: &[ScanPoint],
-    param: &str,
+    params: &[String],
     freq: &str,
+    fixed: &str,
 ) -> std::result::Result<(), String> {
     use plotters::prelude::*;
     root.fill(&WHITE).map_err(|e| e.to_string())?;
     let areas = root.split_evenly((1, 3));
-    let series = |f: &dyn Fn(&ScanPoint, &(Mode, Option<Complex64>)) -> Option<(f64, f64)>| -> Vec<(f64, f64)> {
-        points.iter().flat_map(|p| p.modes.iter().filter_map(move |m| f(p, m))).collect()
-    };
-    let cf_plane = series(&|_, (m, _)| m.root.converged.then_some((m.root.omega.re, m.root.omega.im)));
-    let int_plane = series(&|_, (_, c)| c.map(|c| (c.re, c.im)));
-    let cf_re = series(&|p, (m, _)| m.root.converged.then_some((p.value, m.root.omega.re)));
-    let int_re = series(&|p, (_, c)| c.map(|c| (p.value, c.re)));
-    let cf_im = series(&|p, (m, _)| m.root.converged.then_some((p.value, m.root.omega.im)));
-    let int_im = series(&|p, (_, c)| c.map(|c| (p.value, c.im)));
+    // The passes: points with the same values of all but the last parameter.
+    let mut groups: Vec<(Vec<f64>, Vec<&ScanPoint>)> = Vec::new();
+    for p in points {
+        let key = p.values[..p.values.len().saturating_sub(1)].to_vec();
+        match groups.iter_mut().find(|(k, _)| *k == key) {
+            Some(g) => g.1.push(p),
+            None => groups.push((key, vec![p])),
+        }
+    }
+    let several = groups.len() > 1 || params.len() > 1;
+    // The abscissa: the last varied parameter.
+    fn x(p: &ScanPoint) -> f64 {
+        p.values.last().copied().unwrap_or(p.value)
+    }
+    type Pick = dyn Fn(&ScanPoint, &(Mode, Option<Complex64>)) -> Option<(f64, f64)>;
+    let series = |g: &[&ScanPoint], f: &Pick| -> Series { g.iter().flat_map(|p| p.modes.iter().filter_map(move |m| f(p, m))).collect() };
+    let cf_pick: [&Pick; 3] = [
+        &|_, (m, _)| m.root.converged.then_some((m.root.omega.re, m.root.omega.im)),
+        &|p, (m, _)| m.root.converged.then_some((x(p), m.root.omega.re)),
+        &|p, (m, _)| m.root.converged.then_some((x(p), m.root.omega.im)),
+    ];
+    let int_pick: [&Pick; 3] = [&|_, (_, c)| c.map(|c| (c.re, c.im)), &|p, (_, c)| c.map(|c| (x(p), c.re)), &|p, (_, c)| c.map(|c| (x(p), c.im))];
+    let entries = if several { groups.len() + 1 } else { 2 };
     let range = |v: &[(f64, f64)], axis: usize| -> (f64, f64) {
         let it = v.iter().map(|p| if axis == 0 { p.0 } else { p.1 });
         let (lo, hi) = it.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| (a.min(x), b.max(x)));
@@ -235,37 +614,67 @@ fn draw<DB: plotters::prelude::DrawingBackend>(
         let pad = ((hi - lo) * 0.08).max(1e-6);
         // Room at the top for the legend (upper right), so it hides no point.
         if axis == 1 {
-            (lo - pad, hi + 4.0 * pad)
+            (lo - pad, hi + if several { 2.0 + 1.5 * entries as f64 } else { 4.0 } * pad)
         } else {
             (lo - pad, hi + pad)
         }
     };
-    let panels: [(&str, &str, &str, &Vec<(f64, f64)>, &Vec<(f64, f64)>); 3] = [
-        ("modes in the complex plane", "Re ω", "Im ω", &cf_plane, &int_plane),
-        ("Re ω", param, "Re ω", &cf_re, &int_re),
-        ("Im ω", param, "Im ω", &cf_im, &int_im),
-    ];
-    for (area, (title, xl, yl, cf, int)) in areas.iter().zip(panels) {
-        let (x0, x1) = range(cf, 0);
-        let (y0, y1) = range(cf, 1);
+    let param = params.last().map(String::as_str).unwrap_or("");
+    let context = if fixed.is_empty() { freq.to_string() } else { format!("{freq}; {fixed}") };
+    let panels: [(&str, &str, &str); 3] = [("modes in the complex plane", "Re ω", "Im ω"), ("Re ω", param, "Re ω"), ("Im ω", param, "Im ω")];
+    for (k, (area, (title, xl, yl))) in areas.iter().zip(panels).enumerate() {
+        let all: Series = series(&points.iter().collect::<Vec<_>>(), cf_pick[k]);
+        let (x0, x1) = range(&all, 0);
+        let (y0, y1) = range(&all, 1);
         let mut chart = ChartBuilder::on(area)
-            .caption(format!("{title} ({freq})"), ("sans-serif", 18))
+            .caption(format!("{title} ({context})"), ("sans-serif", 18))
             .margin(12)
             .x_label_area_size(36)
             .y_label_area_size(56)
             .build_cartesian_2d(x0..x1, y0..y1)
             .map_err(|e| e.to_string())?;
         chart.configure_mesh().x_desc(xl).y_desc(yl).draw().map_err(|e| e.to_string())?;
+        for (g, (key, members)) in groups.iter().enumerate() {
+            // Pale enough for the check's crosses to show on top.
+            let colour = if several { Palette99::pick(g).mix(0.55) } else { BLUE.mix(0.45) };
+            let label = if several {
+                params.iter().zip(key).map(|(n, v)| format!("{n}={v}")).collect::<Vec<_>>().join(", ")
+            } else {
+                "continued fraction".to_string()
+            };
+            chart
+                .draw_series(series(members, cf_pick[k]).into_iter().map(move |p| Circle::new(p, 6, colour.filled())))
+                .map_err(|e| e.to_string())?
+                .label(label)
+                .legend(move |(x, y)| Circle::new((x, y), 6, colour.filled()));
+        }
+        // Each overtone named beside its last converged point.
+        let mut names: Vec<((f64, f64), String)> = Vec::new();
+        for (_, members) in &groups {
+            let mut last: Vec<(u32, (f64, f64))> = Vec::new();
+            for p in members {
+                for m in &p.modes {
+                    if let Some(xy) = cf_pick[k](p, m) {
+                        match last.iter_mut().find(|(n, _)| *n == m.0.n) {
+                            Some(l) => l.1 = xy,
+                            None => last.push((m.0.n, xy)),
+                        }
+                    }
+                }
+            }
+            names.extend(last.into_iter().map(|(n, xy)| (xy, format!("n={n}"))));
+        }
         chart
-            .draw_series(cf.iter().map(|p| Circle::new(*p, 4, BLUE.filled())))
-            .map_err(|e| e.to_string())?
-            .label("continued fraction")
-            .legend(|(x, y)| Circle::new((x, y), 4, BLUE.filled()));
+            .draw_series(names.into_iter().map(|(xy, t)| EmptyElement::at(xy) + Text::new(t, (-12, -20), ("sans-serif", 13).into_font())))
+            .map_err(|e| e.to_string())?;
+        // The check over the results, in one colour, with one legend entry.
+        let int: Series = series(&points.iter().collect::<Vec<_>>(), int_pick[k]);
+        let cross = if several { BLACK } else { RED };
         chart
-            .draw_series(int.iter().map(|p| Cross::new(*p, 5, RED.stroke_width(1))))
+            .draw_series(int.into_iter().map(move |p| Cross::new(p, 3, cross.stroke_width(2))))
             .map_err(|e| e.to_string())?
             .label("direct integration")
-            .legend(|(x, y)| Cross::new((x, y), 5, RED.stroke_width(1)));
+            .legend(move |(x, y)| Cross::new((x, y), 3, cross.stroke_width(2)));
         chart
             .configure_series_labels()
             .position(SeriesLabelPosition::UpperRight)
@@ -305,7 +714,7 @@ mod tests {
             Ok(Box::new(|o: &SpectrumOptions, _| {
                 let v = o.values[1].to_f64().0;
                 let right = Complex64::new(0.4 + 0.1 * v, -0.1);
-                Ok(vec![mode(if o.seeds.is_empty() && v > 0.5 { Complex64::new(0.3, -0.5) } else { right })])
+                Ok(vec![mode(if o.seeds.is_empty() && v > 0.5 { Complex64::new(0.3, -0.5) } else { right })].into())
             }))
         };
         let base = SpectrumOptions { freq: 2, values: vec![GRat::zero(); 3], overtones: (0, 0), tol: 1e-10, guess: None, seeds: Vec::new() };
@@ -328,7 +737,7 @@ mod tests {
             Ok(Box::new(|o: &SpectrumOptions, _| {
                 let v = o.values[1].to_f64().0;
                 let seed = o.seeds.first().copied().unwrap_or(Complex64::new(0.0, 0.0));
-                Ok(vec![mode(Complex64::new(0.4 + 0.1 * v + 1e-13 * seed.re, -0.1))])
+                Ok(vec![mode(Complex64::new(0.4 + 0.1 * v + 1e-13 * seed.re, -0.1))].into())
             }))
         };
         let base = SpectrumOptions { freq: 2, values: vec![GRat::zero(); 3], overtones: (0, 0), tol: 1e-10, guess: None, seeds: Vec::new() };
@@ -340,6 +749,104 @@ mod tests {
         let one = run(1);
         assert_eq!(one, run(2));
         assert_eq!(one, run(3));
+    }
+
+    #[test]
+    fn the_snake_walk_steps_one_neighbour_at_a_time() {
+        // Every point of a 3 × 4 × 5 grid once, consecutive points one step
+        // of one axis apart.
+        let sizes = [3, 4, 5];
+        let idx: Vec<Vec<usize>> = (0..60).map(|s| snake(&sizes, s)).collect();
+        let mut seen = std::collections::HashSet::new();
+        for w in &idx {
+            assert!(w.iter().zip(&sizes).all(|(i, n)| i < n) && seen.insert(w.clone()));
+        }
+        for p in idx.windows(2) {
+            let d: usize = p[0].iter().zip(&p[1]).map(|(a, b)| a.abs_diff(*b)).sum();
+            assert_eq!(d, 1, "{:?} → {:?}", p[0], p[1]);
+        }
+        assert_eq!(&idx[..7], &[vec![0, 0, 0], vec![0, 0, 1], vec![0, 0, 2], vec![0, 0, 3], vec![0, 0, 4], vec![0, 1, 4], vec![0, 1, 3]]);
+        let axes: Vec<(usize, Vec<Rat>)> = sizes.iter().enumerate().map(|(k, &n)| (k + 1, (0..n).map(|i| Rat::int((i as i64).into())).collect())).collect();
+        let w = Walk::tensor(&axes, 100).unwrap();
+        assert_eq!((w.len(), w.pass), (60, 5));
+        assert!(Walk::tensor(&axes, 59).is_none());
+    }
+
+    /// A solver whose last digits depend on its seeds (as a root finder's
+    /// do), over parameters 1 and 2.
+    fn seed_sensitive() -> Result<PointSolver<'static>> {
+        Ok(Box::new(|o: &SpectrumOptions, _| {
+            let (x, y) = (o.values[1].to_f64().0, o.values[2].to_f64().0);
+            let seed = o.seeds.first().copied().unwrap_or(Complex64::new(0.0, 0.0));
+            if x > 0.35 && x < 0.45 && y == 1.0 {
+                // An unconverged point in the middle of a pass.
+                let mut m = mode(Complex64::new(0.0, 0.0));
+                m.0.root.converged = false;
+                return Ok(vec![m].into());
+            }
+            Ok(vec![mode(Complex64::new(0.4 + 0.1 * x + y + 1e-13 * seed.re, -0.1 + 1e-13 * seed.im))].into())
+        }))
+    }
+
+    #[test]
+    fn a_survey_resumed_at_any_point_gives_the_uninterrupted_digits() {
+        let base = SpectrumOptions { freq: 3, values: vec![GRat::zero(); 4], overtones: (0, 0), tol: 1e-10, guess: None, seeds: Vec::new() };
+        let tenth = Rat::new(1.into(), 10.into()).unwrap();
+        let xs = grid(&Rat::zero(), &Rat::int(3.into()), &tenth).unwrap();
+        let ys = vec![Rat::zero(), Rat::one()];
+        let walk = Walk::tensor(&[(2, ys), (1, xs)], 1000).unwrap();
+        let n = walk.len();
+        let run = |range: std::ops::Range<usize>, done: &[Trail], stop: Option<usize>| -> (Vec<ScanPoint>, SurveyEnd) {
+            let mut out = Vec::new();
+            let end = survey(&seed_sensitive, &base, &walk, range, false, done, &mut |p| {
+                out.push(p);
+                if stop.is_some_and(|k| out.len() >= k) {
+                    Flow::Stop
+                } else {
+                    Flow::Go
+                }
+            });
+            (out, end)
+        };
+        let omegas = |v: &[ScanPoint]| -> Vec<Option<Complex64>> { v.iter().map(|p| p.modes[0].0.root.converged.then_some(p.modes[0].0.root.omega)).collect() };
+        let (whole, end) = run(0..n, &[], None);
+        assert_eq!(end, SurveyEnd::Finished);
+        assert_eq!(whole.iter().map(|p| p.index).collect::<Vec<_>>(), (0..n).collect::<Vec<_>>());
+        for cut in [1, 7, 8, 9, 30, 31, 36, 47, 60] {
+            let (first, end) = run(0..n, &[], Some(cut));
+            assert_eq!(end, SurveyEnd::Stopped { next: cut });
+            let done: Vec<Trail> = first.iter().map(converged).collect();
+            let (rest, _) = run(0..n, &done, None);
+            assert_eq!(rest.first().map(|p| p.index), Some(cut));
+            let joined: Vec<ScanPoint> = first.into_iter().chain(rest).collect();
+            assert_eq!(omegas(&joined), omegas(&whole), "cut at {cut}");
+        }
+        // A shard resumed the same way.
+        let (first, _) = run(20..50, &[], Some(13));
+        let done: Vec<Trail> = first.iter().map(converged).collect();
+        let (rest, _) = run(20..50, &done, None);
+        let (shard, _) = run(20..50, &[], None);
+        assert_eq!(omegas(&first.into_iter().chain(rest).collect::<Vec<_>>()), omegas(&shard));
+    }
+
+    #[test]
+    fn joins_are_judged_along_a_straight_side() {
+        let t = |re: f64| -> Trail { Some(vec![Complex64::new(re, -0.1)]) };
+        let (b, a, c, d) = (t(0.50), t(0.51), t(0.52), t(0.53));
+        let (vb, va, vc, vd) = ([0.0, 1.0], [0.0, 2.0], [0.0, 3.0], [0.0, 4.0]);
+        assert_eq!(join(Some((&vb, &b)), (&va, &a), (&vc, &c), Some((&vd, &d))), Join::Continues);
+        let jumped = t(0.9);
+        assert_eq!(join(Some((&vb, &b)), (&va, &a), (&vc, &jumped), Some((&vd, &d))), Join::Jumps);
+        // A turn on the left: judged from the right (where the whole shard
+        // followed the other mode).
+        let vb2 = [1.0, 2.0];
+        let (jumped_next, smooth_next) = (t(0.91), t(0.53));
+        assert_eq!(join(Some((&vb2, &b)), (&va, &a), (&vc, &jumped), Some((&vd, &jumped_next))), Join::Jumps);
+        assert_eq!(join(Some((&vb2, &b)), (&va, &a), (&vc, &c), Some((&vd, &smooth_next))), Join::Continues);
+        // Turns on both sides, or an unconverged side: not judged.
+        let vd2 = [1.0, 3.0];
+        assert_eq!(join(Some((&vb2, &b)), (&va, &a), (&vc, &jumped), Some((&vd2, &d))), Join::Unjudged);
+        assert_eq!(join(Some((&vb, &b)), (&va, &None), (&vc, &c), Some((&vd, &d))), Join::Unjudged);
     }
 
     #[test]

@@ -1,0 +1,353 @@
+//! Surveys: tensor grids and files of points, tables streamed point by
+//! point, resumed after a stop or a kill, sharded (also from job-array
+//! variables) and merged back with their checks. The physics is that of
+//! the Reissner–Nordström sample (charged black hole, scalar field); the
+//! expected tables are the ones the same program computes by the plain
+//! one-parameter scan and by an uninterrupted run (consistency checks;
+//! the modes themselves are checked against published values in
+//! tests/spectrum.rs).
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+const RN: &str = "samples/reissner_nordstrom_scalar.ode";
+
+fn canonode(args: &[&str], env: &[(&str, &str)]) -> Output {
+    let mut c = Command::new(env!("CARGO_BIN_EXE_canonode"));
+    c.args(args).current_dir(env!("CARGO_MANIFEST_DIR"));
+    for (k, v) in env {
+        c.env(k, v);
+    }
+    c.output().expect("binary runs")
+}
+
+fn ok(args: &[&str]) -> String {
+    let o = canonode(args, &[]);
+    assert!(o.status.success(), "{args:?}: {}", String::from_utf8_lossy(&o.stderr));
+    String::from_utf8(o.stdout).unwrap()
+}
+
+/// A fresh directory for one test's files.
+fn dir(name: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("canonode-survey-{name}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    std::fs::create_dir_all(&d).unwrap();
+    d
+}
+
+fn path(p: &Path) -> String {
+    p.to_string_lossy().to_string()
+}
+
+/// The data lines of a CSV table: (index, parameter values, n, re, im).
+fn rows(csv: &str) -> Vec<(usize, Vec<f64>, u32, f64, f64)> {
+    let mut lines = csv.lines();
+    assert!(lines.next().unwrap().starts_with("# canonode scan survey="), "{csv}");
+    let cols: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let np = cols.len() - 8;
+    lines
+        .map(|l| {
+            let f: Vec<&str> = l.split(',').collect();
+            assert_eq!(f[np + 4], "true", "unconverged: {l}");
+            let num = |s: &str| s.parse::<f64>().unwrap();
+            (f[0].parse().unwrap(), f[1..=np].iter().map(|s| num(s)).collect(), f[np + 1].parse().unwrap(), num(f[np + 2]), num(f[np + 3]))
+        })
+        .collect()
+}
+
+fn close(a: (f64, f64), b: (f64, f64)) -> bool {
+    ((a.0 - b.0).powi(2) + (a.1 - b.1).powi(2)).sqrt() <= 1e-10 * (b.0 * b.0 + b.1 * b.1).sqrt()
+}
+
+#[test]
+fn a_two_parameter_survey_equals_the_one_parameter_scans_it_contains() {
+    // Charge q × multipole index l, two overtones: every point of the
+    // tensor grid (walked as a snake) equals the plain scan over q at that
+    // l, to 1e-10 relative.
+    let grid = ok(&["scan", RN, "--vary", "q=0:0.8:0.1", "--vary", "l=1:3:1", "--at", "M=1", "--overtones", "0..1", "--no-check"]);
+    let pts = rows(&grid);
+    assert_eq!(pts.len(), 9 * 3 * 2);
+    // The walk: l runs forth and back as q steps, so neighbours are neighbours in the grid.
+    let walk: Vec<(f64, f64)> = pts.iter().filter(|r| r.2 == 0).map(|r| (r.1[0], r.1[1])).collect();
+    assert_eq!(&walk[..6], &[(0.0, 1.0), (0.0, 2.0), (0.0, 3.0), (0.1, 3.0), (0.1, 2.0), (0.1, 1.0)]);
+    for (k, r) in pts.iter().enumerate() {
+        assert_eq!(r.0, k / 2, "rows in walk order");
+    }
+    for l in ["1", "2", "3"] {
+        let line = rows(&ok(&["scan", RN, "--vary", "q=0:0.8:0.1", "--at", &format!("M=1,l={l}"), "--overtones", "0..1", "--no-check"]));
+        assert_eq!(line.len(), 18);
+        for (_, v, n, re, im) in line {
+            let twin = pts.iter().find(|r| r.1 == vec![v[0], l.parse().unwrap()] && r.2 == n).expect("the point is in the survey");
+            assert!(close((twin.3, twin.4), (re, im)), "q={} l={l} n={n}: {:?} against {:?}", v[0], (twin.3, twin.4), (re, im));
+        }
+    }
+    // The same points from a file, in the file's order, give the same numbers.
+    let d = dir("points");
+    let f = d.join("points.txt");
+    std::fs::write(&f, "# q and l\nq, l\n0.3 2\n0.4, 2\n0.4 3\n").unwrap();
+    let filed = rows(&ok(&["scan", RN, "--points", &path(&f), "--at", "M=1", "--overtones", "0..1", "--no-check"]));
+    assert_eq!(filed.len(), 6);
+    for (_, v, n, re, im) in filed {
+        let twin = pts.iter().find(|r| (r.1[0] - v[0]).abs() < 1e-15 && r.1[1] == v[1] && r.2 == n).unwrap();
+        assert!(close((twin.3, twin.4), (re, im)), "{v:?}");
+    }
+    std::fs::remove_dir_all(&d).ok();
+}
+
+// The long axis last: the walk runs along it, so that most shard boundaries
+// lie on a straight stretch where the continuity can be judged.
+const SURVEY: [&str; 9] = ["--vary", "l=1:2:1", "--vary", "q=0:0.9:0.05", "--at", "M=1", "--overtones", "0..1", "--no-check"];
+
+fn survey_args<'a>(extra: &[&'a str]) -> Vec<&'a str> {
+    let mut a = vec!["scan", RN];
+    a.extend_from_slice(&SURVEY);
+    a.extend_from_slice(extra);
+    a
+}
+
+#[test]
+fn a_stopped_survey_resumed_gives_the_uninterrupted_table() {
+    let d = dir("resume");
+    for format in ["csv", "jsonl"] {
+        let full = d.join(format!("full.{format}"));
+        let part = d.join(format!("part.{format}"));
+        let (full_s, part_s) = (path(&full), path(&part));
+        let o = canonode(&survey_args(&["--format", format, "-o", &full_s]), &[]);
+        assert!(o.status.success() && o.stdout.is_empty(), "{}", String::from_utf8_lossy(&o.stderr));
+        // A point budget stops the run part-way; the table holds exactly those points.
+        let o = canonode(&survey_args(&["--format", format, "-o", &part_s, "--stop-after", "9"]), &[]);
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        assert!(String::from_utf8_lossy(&o.stderr).contains("--resume"), "{}", String::from_utf8_lossy(&o.stderr));
+        let text = std::fs::read_to_string(&part).unwrap();
+        assert!(text.len() < std::fs::read_to_string(&full).unwrap().len());
+        // A kill while a point was being written leaves half a line: cut one.
+        std::fs::write(&part, &text[..text.len() - 25]).unwrap();
+        // Without --resume an existing table is not overwritten.
+        let o = canonode(&survey_args(&["--format", format, "-o", &part_s]), &[]);
+        assert_eq!(o.status.code(), Some(2));
+        assert!(String::from_utf8_lossy(&o.stderr).contains("--resume"));
+        ok(&survey_args(&["--format", format, "-o", &part_s, "--resume"]));
+        assert_eq!(std::fs::read_to_string(&part).unwrap(), std::fs::read_to_string(&full).unwrap(), "{format}");
+        // Resuming a finished table does nothing.
+        ok(&survey_args(&["--format", format, "-o", &part_s, "--resume"]));
+        assert_eq!(std::fs::read_to_string(&part).unwrap(), std::fs::read_to_string(&full).unwrap());
+        // A table of another survey (here another tolerance) is not resumed.
+        let o = canonode(&survey_args(&["--format", format, "-o", &part_s, "--resume", "--tol", "1e-9"]), &[]);
+        assert_eq!(o.status.code(), Some(2));
+        assert!(String::from_utf8_lossy(&o.stderr).contains("another survey"), "{}", String::from_utf8_lossy(&o.stderr));
+    }
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn a_killed_survey_resumed_gives_the_uninterrupted_table() {
+    // The process is killed (SIGKILL on Unix) once part of its table is
+    // on disk; the resumed table equals an uninterrupted run's to 1e-10
+    // (in fact to the last digit: the same points continue the same
+    // neighbours).
+    let d = dir("kill");
+    let full = d.join("full.csv");
+    let part = d.join("part.csv");
+    let args = |out: &Path| {
+        let mut a: Vec<String> = ["scan", RN, "--vary", "q=0:0.9:0.025", "--vary", "l=1:3:1", "--at", "M=1", "--overtones", "0..1"].iter().map(|s| s.to_string()).collect();
+        a.extend(["-o".to_string(), path(out)]);
+        a
+    };
+    let o = Command::new(env!("CARGO_BIN_EXE_canonode")).args(args(&full)).current_dir(env!("CARGO_MANIFEST_DIR")).output().unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let mut child = Command::new(env!("CARGO_BIN_EXE_canonode")).args(args(&part)).current_dir(env!("CARGO_MANIFEST_DIR")).spawn().unwrap();
+    let started = std::time::Instant::now();
+    while std::fs::read_to_string(&part).map(|t| t.lines().count()).unwrap_or(0) < 20 && started.elapsed().as_secs() < 60 {
+        std::thread::sleep(std::time::Duration::from_millis(2));
+    }
+    child.kill().unwrap();
+    child.wait().unwrap();
+    let kept = std::fs::read_to_string(&part).unwrap();
+    let o = Command::new(env!("CARGO_BIN_EXE_canonode")).args(args(&part)).arg("--resume").current_dir(env!("CARGO_MANIFEST_DIR")).output().unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let (a, b) = (rows(&std::fs::read_to_string(&part).unwrap()), rows(&std::fs::read_to_string(&full).unwrap()));
+    assert_eq!(a.len(), b.len(), "kept {} lines before the kill", kept.lines().count());
+    for (x, y) in a.iter().zip(&b) {
+        assert_eq!((x.0, &x.1, x.2), (y.0, &y.1, y.2));
+        assert!(close((x.3, x.4), (y.3, y.4)), "{x:?} {y:?}");
+    }
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn four_shards_merged_equal_the_whole_run_and_bad_sets_are_reported() {
+    let d = dir("shards");
+    let whole = rows(&ok(&survey_args(&[])));
+    let shard = |k: usize| -> String {
+        let f = path(&d.join(format!("part{k}.csv")));
+        // Shards 1 and 2 from Slurm's variables (an array 0-3), 3 from Grid
+        // Engine's (1-4), 4 given by hand.
+        let env: Vec<(&str, String)> = match k {
+            1 | 2 => vec![("SLURM_ARRAY_TASK_ID", (k - 1).to_string()), ("SLURM_ARRAY_TASK_MIN", "0".into()), ("SLURM_ARRAY_TASK_COUNT", "4".into())],
+            3 => vec![("SGE_TASK_ID", "3".into()), ("SGE_TASK_FIRST", "1".into()), ("SGE_TASK_LAST", "4".into()), ("SGE_TASK_STEPSIZE", "1".into())],
+            _ => Vec::new(),
+        };
+        let spec = if k == 4 { "4/4".to_string() } else { "auto".to_string() };
+        let env: Vec<(&str, &str)> = env.iter().map(|(a, b)| (*a, b.as_str())).collect();
+        let o = canonode(&survey_args(&["--shard", &spec, "-o", &f]), &env);
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        assert!(std::fs::read_to_string(&f).unwrap().contains(&format!("shard={k}/4")));
+        f
+    };
+    let parts: Vec<String> = (1..=4).map(shard).collect();
+    let merged = path(&d.join("merged.csv"));
+    let mut args = vec!["merge"];
+    args.extend(parts.iter().rev().map(|s| s.as_str()));
+    args.extend(["-o", &merged]);
+    let o = canonode(&args, &[]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let m = rows(&std::fs::read_to_string(&merged).unwrap());
+    assert_eq!(m.len(), whole.len());
+    for (x, y) in m.iter().zip(&whole) {
+        assert_eq!((x.0, &x.1, x.2), (y.0, &y.1, y.2));
+        assert!(close((x.3, x.4), (y.3, y.4)), "{x:?} {y:?}");
+    }
+    let merge_err = |files: &[&str]| -> String {
+        let mut a = vec!["merge"];
+        a.extend_from_slice(files);
+        let o = canonode(&a, &[]);
+        assert_eq!(o.status.code(), Some(1), "{files:?}");
+        assert!(o.stdout.is_empty());
+        String::from_utf8_lossy(&o.stderr).to_string()
+    };
+    // A missing shard.
+    let e = merge_err(&[&parts[0], &parts[1], &parts[3]]);
+    assert!(e.contains("points 19..27 (9 points) are missing") && e.contains("a shard is missing"), "{e}");
+    // A shard killed while it wrote its last point (half a line): that
+    // point counts as missing, and the file is named.
+    let killed = path(&d.join("killed.csv"));
+    let two = std::fs::read_to_string(&parts[1]).unwrap();
+    std::fs::write(&killed, &two[..two.len() - 25]).unwrap();
+    let e = merge_err(&[&parts[0], &killed, &parts[2], &parts[3]]);
+    assert!(e.contains("point 18 is missing") && e.contains("killed.csv (shard 2/4) stops before them"), "{e}");
+    // 38 points (2 multipoles × 19 charges) in shards 0..9, 9..19, 19..28, 28..38.
+    // A point twice: the last point of shard 2 copied into shard 3.
+    let dup = path(&d.join("dup.csv"));
+    let two = std::fs::read_to_string(&parts[1]).unwrap();
+    let last_point: Vec<&str> = two.lines().rev().take(2).collect();
+    let mut three = std::fs::read_to_string(&parts[2]).unwrap();
+    let cut = three.find("\n19,").unwrap() + 1;
+    three.insert_str(cut, &format!("{}\n{}\n", last_point[1], last_point[0]));
+    std::fs::write(&dup, three.replace("rows=19..28", "rows=18..28")).unwrap();
+    let e = merge_err(&[&parts[0], &parts[1], &dup, &parts[3]]);
+    assert!(e.contains("point 18 is there twice"), "{e}");
+    // A jump to another mode at the first point of shard 4 (its fundamental
+    // replaced by the first overtone's value).
+    let jump = path(&d.join("jump.csv"));
+    let four = std::fs::read_to_string(&parts[3]).unwrap();
+    let mut lines: Vec<String> = four.lines().map(String::from).collect();
+    let n1: Vec<String> = lines[3].split(',').map(String::from).collect();
+    let mut n0: Vec<String> = lines[2].split(',').map(String::from).collect();
+    n0[4] = n1[4].clone();
+    n0[5] = n1[5].clone();
+    lines[2] = n0.join(",");
+    std::fs::write(&jump, lines.join("\n") + "\n").unwrap();
+    let e = merge_err(&[&parts[0], &parts[1], &parts[2], &jump]);
+    assert!(e.contains("jump at point 28") && e.contains("l=2, q=0.45"), "{e}");
+    // Tables of different surveys are not merged.
+    let other = path(&d.join("other.csv"));
+    ok(&["scan", RN, "--vary", "l=1:2:1", "--vary", "q=0:0.9:0.05", "--at", "M=1", "--no-check", "--shard", "4/4", "-o", &other]);
+    let o = canonode(&["merge", &parts[0], &parts[1], &parts[2], &other], &[]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("another survey"));
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn bad_surveys_are_refused_before_any_work() {
+    let d = dir("bad");
+    let f = d.join("p.txt");
+    let fs = path(&f);
+    for (text, why) in [("q l\n0.1\n", "expected 2 values"), ("x\n0.1\n", "'x' is not a parameter"), ("q\n0.1i\n", "not real"), ("q\n", "no points"), ("omega\n1\n", "frequency")] {
+        std::fs::write(&f, text).unwrap();
+        let o = canonode(&["scan", RN, "--points", &fs, "--at", "M=1,l=2"], &[]);
+        assert_eq!(o.status.code(), Some(2), "{text}");
+        assert!(String::from_utf8_lossy(&o.stderr).contains(why), "{text}: {}", String::from_utf8_lossy(&o.stderr));
+    }
+    for (args, why) in [
+        (vec!["--vary", "q=0:0.5:0.1", "--vary", "q=0:1:0.5", "--at", "M=1,l=2"], "varied twice"),
+        (vec!["--vary", "q=0:1:0.0001", "--vary", "l=0:100:0.1", "--at", "M=1"], "more than"),
+        (vec!["--vary", "q=0:0.5:0.1", "--at", "M=1,l=2", "--shard", "auto"], "no job-array variable"),
+        (vec!["--vary", "q=0:0.5:0.1", "--at", "M=1,l=2", "--shard", "7/9"], "1 ≤ K ≤ N ≤ 6"),
+        (vec!["--vary", "q=0:0.5:0.1", "--at", "M=1,l=2", "--format", "json", "-o", "x.json", "--resume"], "streamed table"),
+    ] {
+        let mut a = vec!["scan", RN];
+        a.extend(args.iter());
+        let o = canonode(&a, &[]);
+        assert_eq!(o.status.code(), Some(2), "{args:?}");
+        assert!(String::from_utf8_lossy(&o.stderr).contains(why), "{args:?}: {}", String::from_utf8_lossy(&o.stderr));
+    }
+    // A scheduler that gives the index only needs the count.
+    let o = canonode(&["scan", RN, "--vary", "q=0:0.5:0.1", "--at", "M=1,l=2", "--no-check", "--shard", "auto"], &[("PBS_ARRAY_INDEX", "2")]);
+    assert!(String::from_utf8_lossy(&o.stderr).contains("auto/N"), "{}", String::from_utf8_lossy(&o.stderr));
+    let o = canonode(&["scan", RN, "--vary", "q=0:0.5:0.1", "--at", "M=1,l=2", "--no-check", "--shard", "auto/3"], &[("PBS_ARRAY_INDEX", "2")]);
+    assert!(o.status.success());
+    assert!(String::from_utf8_lossy(&o.stdout).contains("shard=2/3 rows=2..4"), "{}", String::from_utf8_lossy(&o.stdout));
+    std::fs::remove_dir_all(&d).ok();
+}
+
+/// The Kerr coupling of the Teukolsky radial and spin-weighted spheroidal
+/// samples (Teukolsky 1973: λ = A + a²ω² − 2amω, c = aω).
+const KERR: [&str; 6] = ["--couple", "samples/spheroidal_spin_weighted.ode", "--link", "lam = A + a^2*omega^2 - 2*a*m*omega", "--link", "c = a*omega"];
+
+#[test]
+fn tables_carry_the_checks_and_the_angular_eigenvalue() {
+    // `spectrum --format csv`: the direct-integration check beside each
+    // mode, as in `scan`, and every line as long as the header.
+    let csv = ok(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--overtones", "0..1", "--format", "csv"]);
+    let mut lines = csv.lines();
+    let head: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let col = |name: &str| head.iter().position(|c| *c == name).unwrap_or_else(|| panic!("no column {name}: {head:?}"));
+    for l in lines {
+        let f: Vec<&str> = l.split(',').collect();
+        assert_eq!(f.len(), head.len(), "{l}");
+        let (re, im): (f64, f64) = (f[col("re")].parse().unwrap(), f[col("im")].parse().unwrap());
+        let (cre, cim): (f64, f64) = (f[col("check_re")].parse().unwrap(), f[col("check_im")].parse().unwrap());
+        assert!(close((cre, cim), (re, im)) || ((cre - re).hypot(cim - im) < 1e-8), "{l}");
+        assert!(f[col("agreement")].parse::<f64>().unwrap() < 1e-8);
+    }
+    // A coupled scan over the spin: the angular eigenvalue in its own
+    // columns (CSV) and key (JSON lines). At a = 0 it is the spin-weighted
+    // spherical value l(l+1) − s(s+1) = 4 for l = 2, s = −2 (Teukolsky &
+    // Press 1974's convention, from memory), and it agrees with `spectrum`'s
+    // `coupled.value` at a = 0.3.
+    let mut args = vec!["scan", "samples/teukolsky_radial.ode", "--vary", "a=0:0.3:0.3", "--at", "M=1,m=2,s=-2", "--guess", "0.37-0.09i", "--no-check"];
+    args.extend(KERR);
+    let table = ok(&args);
+    let mut lines = table.lines().skip(1);
+    let head: Vec<&str> = lines.next().unwrap().split(',').collect();
+    assert_eq!(&head[head.len() - 3..], &["angular_re", "angular_im", "reason"]);
+    let rows: Vec<Vec<String>> = lines.map(|l| l.split(',').map(String::from).collect()).collect();
+    let a0: (f64, f64) = (rows[0][head.len() - 3].parse().unwrap(), rows[0][head.len() - 2].parse().unwrap());
+    assert!((a0.0 - 4.0).abs() < 1e-10 && a0.1.abs() < 1e-10, "{a0:?}");
+    let mut sargs = vec!["spectrum", "samples/teukolsky_radial.ode", "--at", "M=1,a=0.3,m=2,s=-2", "--guess", "0.42-0.088i", "--format", "json"];
+    sargs.extend(KERR);
+    let doc: serde_json::Value = serde_json::from_str(&ok(&sargs)).unwrap();
+    let want = &doc["modes"][0]["coupled"]["value"];
+    let got: (f64, f64) = (rows[1][head.len() - 3].parse().unwrap(), rows[1][head.len() - 2].parse().unwrap());
+    assert!(close(got, (want[0].as_f64().unwrap(), want[1].as_f64().unwrap())), "{got:?} against {want}");
+    args.extend(["--format", "jsonl"]);
+    let lines: Vec<serde_json::Value> = ok(&args).lines().map(|l| serde_json::from_str(l).unwrap()).collect();
+    assert_eq!(lines[0]["angular"], true);
+    assert!((lines[1]["modes"][0]["angular"][0].as_f64().unwrap() - 4.0).abs() < 1e-10);
+}
+
+#[test]
+fn a_two_parameter_survey_is_plotted_one_colour_per_pass() {
+    // The plot of a charge × multipole survey: one series per multipole
+    // (named in the legend), the check over them, the fixed parameters in
+    // the titles. Only the presence of these texts is checked, not the picture.
+    let d = dir("plot");
+    let svg = d.join("rn.svg");
+    ok(&["scan", RN, "--vary", "l=1:2:1", "--vary", "q=0:0.6:0.3", "--at", "M=1", "--plot", &path(&svg)]);
+    let text = std::fs::read_to_string(&svg).unwrap();
+    for want in ["l=1", "l=2", "direct integration", "(omega; M=1)"] {
+        assert!(text.contains(want), "no {want:?} in the plot");
+    }
+    std::fs::remove_dir_all(&d).ok();
+}
