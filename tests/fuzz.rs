@@ -167,7 +167,7 @@ fn run_case(stats: &mut Stats, case: Case, property: Option<Oracle>, must_reduce
     };
     let took = start.elapsed();
     let _ = handle.join();
-    if stats.slowest.as_ref().map_or(true, |(d, _, _)| took > *d) {
+    if stats.slowest.as_ref().is_none_or(|(d, _, _)| took > *d) {
         stats.slowest = Some((took, case.label.clone(), case.text.clone()));
     }
     if outcome.checked {
@@ -267,7 +267,7 @@ fn soup(rng: &mut Rng) -> Case {
     let n = rng.range(1, 40) as usize;
     let mut body = String::new();
     for _ in 0..n {
-        body.push_str(*rng.pick(TOKENS));
+        body.push_str(*rng.pick(TOKENS)); // `pick` is generic: the explicit deref picks the `str`
         if rng.chance(30, 100) {
             body.push(' ');
         }

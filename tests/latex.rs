@@ -87,10 +87,8 @@ fn structure(tex: &str) -> Vec<String> {
                             }
                         }
                     }
-                    "text" => {
-                        if b.get(j) == Some(&b'{') {
-                            text_depth.push(braces.len() + 1);
-                        }
+                    "text" if b.get(j) == Some(&b'{') => {
+                        text_depth.push(braces.len() + 1);
                     }
                     _ => {}
                 }

@@ -18,6 +18,7 @@
 //! |Δ| ≤ 1e-9 · (|q| + |p'|/2 + |p|²/4), so that a cancellation in Q at a
 //! random point does not count against the double-precision route.
 
+#![allow(clippy::needless_range_loop)] // index loops over fixed-size coefficient tables
 use canonode::algebra::{GRat, Int, Rat};
 use canonode::error::ErrorKind;
 use canonode::ode::{reduce, Input, ReduceOptions};

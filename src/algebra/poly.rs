@@ -44,6 +44,7 @@ impl Mono {
         Mono((self.0 & !(0xffu128 << s)) | ((e as u128) << s))
     }
     /// The product. Callers check degree bounds first (see `Field`).
+    #[allow(clippy::should_implement_trait)] // a method of the packed exponents, not `*` on monomials in general
     pub fn mul(self, o: Mono) -> Mono {
         let r = self.0 + o.0;
         debug_assert!(r & HIGH == 0, "monomial exponent overflow");
@@ -243,7 +244,7 @@ impl Poly {
     }
     /// Builds a polynomial from terms in any order, merging duplicates.
     pub fn from_terms(mut terms: Vec<(Mono, GInt)>) -> Poly {
-        terms.sort_unstable_by(|a, b| b.0.cmp(&a.0));
+        terms.sort_unstable_by_key(|t| std::cmp::Reverse(t.0));
         let mut out: Vec<(Mono, GInt)> = Vec::with_capacity(terms.len());
         for (m, c) in terms {
             match out.last_mut() {
@@ -272,6 +273,10 @@ impl Poly {
     /// Number of terms.
     pub fn len(&self) -> usize {
         self.terms.len()
+    }
+    /// True when there is no term (the zero polynomial).
+    pub fn is_empty(&self) -> bool {
+        self.terms.is_empty()
     }
     /// True for the zero polynomial.
     pub fn is_zero(&self) -> bool {

@@ -250,7 +250,7 @@ fn is_compound(p: &Poly) -> bool {
         return true;
     }
     match p.terms().first() {
-        Some((m, c)) => !c.re.is_zero() && !c.im.is_zero() || (!m.is_one() && !(c.re.abs().is_one() || c.im.abs().is_one())),
+        Some((m, c)) => (!c.re.is_zero() && !c.im.is_zero()) || !(m.is_one() || c.re.abs().is_one() || c.im.abs().is_one()),
         None => false,
     }
 }

@@ -183,6 +183,12 @@ impl Default for Limits {
 }
 
 /// The field Q(i)(variables): names of the variables, limits, and a cache of
+/// Factors with their multiplicities, in canonical order.
+pub type Factors = Vec<(Arc<Factor>, u32)>;
+
+/// The union of two factor lists and each side's exponents over it.
+type CommonBase = (Vec<Arc<Factor>>, Vec<u32>, Vec<u32>);
+
 /// known denominator factors used as hints when a new denominator is split.
 #[derive(Debug)]
 pub struct Field {
@@ -283,7 +289,7 @@ impl Field {
     }
 
     /// Rewrites two factor lists over one pairwise coprime base.
-    fn common_base(&self, a: &[(Arc<Factor>, u32)], b: &[(Arc<Factor>, u32)]) -> Result<(Vec<Arc<Factor>>, Vec<u32>, Vec<u32>)> {
+    fn common_base(&self, a: &[(Arc<Factor>, u32)], b: &[(Arc<Factor>, u32)]) -> Result<CommonBase> {
         let mut r = Refiner::default();
         let ia: Vec<(usize, u32)> = a.iter().map(|(f, e)| (r.id_of(f.clone()), *e)).collect();
         let ib: Vec<(usize, u32)> = b.iter().map(|(f, e)| (r.id_of(f.clone()), *e)).collect();
@@ -457,10 +463,8 @@ impl Field {
             return Ok(RatFunc::one());
         }
         let e32 = u32::try_from(e).map_err(|_| limit(format!("exponent {e} is too large")))?;
-        if e32 > self.limits.max_degree {
-            if a.as_constant().is_none() {
-                return Err(limit(format!("exponent {e} exceeds the degree limit of {}", self.limits.max_degree)));
-            }
+        if e32 > self.limits.max_degree && a.as_constant().is_none() {
+            return Err(limit(format!("exponent {e} exceeds the degree limit of {}", self.limits.max_degree)));
         }
         // Powers of a canonical value stay canonical: no factor can appear.
         let num = self.ppow(&a.num, e32)?;
@@ -552,7 +556,7 @@ impl Field {
     /// Splits a real polynomial into a signed integer content and pairwise
     /// coprime factors with multiplicities: monomial content, known factors
     /// (hints), square-free parts.
-    pub fn factorize(&self, p: &Poly) -> Result<(Int, Vec<(Arc<Factor>, u32)>)> {
+    pub fn factorize(&self, p: &Poly) -> Result<(Int, Factors)> {
         debug_assert!(p.is_real());
         let c0 = p.content_int();
         let mut rest = p.div_exact_int(&c0).expect("content divides");

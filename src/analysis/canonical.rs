@@ -109,6 +109,9 @@ fn rat(n: i64, d: i64) -> RatFunc {
     RatFunc::rat(&Rat::new(n.into(), d.into()).expect("nonzero"))
 }
 
+/// The image of an expression in the canonical variable under the map found.
+type Image<'a> = Box<dyn Fn(&RatFunc) -> Result<RatFunc> + 'a>;
+
 fn wrap(s: String) -> String {
     if s.chars().all(|c| c.is_alphanumeric() || c == '_') {
         s
@@ -403,7 +406,7 @@ pub fn canonical_form(
             let identity = !mobius && a.is_zero() && lam == RatFunc::one();
             let (kx, _) = ctx.new_field(identity)?;
             let xv = kx.var(0);
-            let (g, img): (RatFunc, Box<dyn Fn(&RatFunc) -> Result<RatFunc> + '_>) = if mobius {
+            let (g, img): (RatFunc, Image<'_>) = if mobius {
                 // x = ((z − z0)/(z − z∞))·((z1 − z∞)/(z1 − z0)); inverse z = (x z∞ (z1 − z0) − z0 (z1 − z∞))/(x (z1 − z0) − (z1 − z∞)).
                 let zi = z0s.last().expect("a last point").clone();
                 let d10 = lam.clone();
@@ -451,14 +454,14 @@ pub fn canonical_form(
                     let (alpha, beta) = root_pair(k, &s, &prod)?;
                     let mut params = vec![("a".to_string(), alpha), ("b".to_string(), beta)];
                     params.push(("c".to_string(), Param::Exact(c)));
-                    return Ok(Some(finish(
+                    Ok(Some(finish(
                         pr,
                         "hypergeometric",
                         "DLMF 15.10.1",
                         "x(1 − x) w'' + (c − (a + b + 1) x) w' − a b w = 0",
                         params,
                         vec!["the template was rebuilt from the parameters and equals the transformed equation exactly".into()],
-                    )));
+                    )))
                 }
                 "general-heun" if n_fin == 3 => {
                     let av = img(&z0s[2])?;
@@ -485,7 +488,7 @@ pub fn canonical_form(
                         ("delta".to_string(), Param::Exact(delta)),
                         ("epsilon".to_string(), Param::Exact(eps)),
                     ];
-                    return Ok(Some(finish(
+                    Ok(Some(finish(
                         pr,
                         "general-heun",
                         "DLMF 31.2.1",
@@ -495,7 +498,7 @@ pub fn canonical_form(
                             "the template was rebuilt from the parameters and equals the transformed equation exactly".into(),
                             "Fuchs relation α + β + 1 = γ + δ + ε holds (α, β are the exponents at ∞)".into(),
                         ],
-                    )));
+                    )))
                 }
                 "confluent-heun" if n_fin == 2 && inf_kind == Kind::Irregular => {
                     let gamma = residue(k, &pr.pw, &RatFunc::zero())?;
@@ -516,16 +519,16 @@ pub fn canonical_form(
                         ("delta".to_string(), Param::Exact(delta)),
                         ("epsilon".to_string(), Param::Exact(e)),
                     ];
-                    return Ok(Some(finish(
+                    Ok(Some(finish(
                         pr,
                         "confluent-heun",
                         "DLMF 31.12.1",
                         "w'' + (γ/x + δ/(x − 1) + ε) w' + (α x − q)/(x(x − 1)) w = 0",
                         params,
                         vec!["the template was rebuilt from the parameters and equals the transformed equation exactly".into()],
-                    )));
+                    )))
                 }
-                _ => return Ok(None),
+                _ => Ok(None),
             }
         }
         "doubly-confluent-heun" | "biconfluent-heun" | "triconfluent-heun" => {

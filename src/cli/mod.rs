@@ -299,8 +299,7 @@ pub(crate) fn run_command(input: &InputArgs, extra: &[(String, String)], compute
     };
     // The exact work of one command is bounded (a limit error, not minutes of arithmetic).
     let computed = crate::algebra::budget::with_budget(crate::algebra::budget::DEFAULT_BUDGET, || {
-        let r = compute(&src);
-        r
+        compute(&src)
     });
     match computed.and_then(|text| emit(&text)) {
         Ok(()) => 0,

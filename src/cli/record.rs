@@ -61,8 +61,7 @@ pub(crate) fn run(a: &RecordArgs) -> u8 {
         }
     }
     let derived = crate::algebra::budget::with_budget(crate::algebra::budget::DEFAULT_BUDGET, || {
-        let r = crate::record::derive_with(&src.text, &path, &a.input.options(), &req);
-        r
+        crate::record::derive_with(&src.text, &path, &a.input.options(), &req)
     });
     let rec = match derived {
         Ok(r) => r,

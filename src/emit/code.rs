@@ -386,7 +386,7 @@ pub fn emit_code(req: &CodeRequest<'_>) -> Result<Emitted> {
             }
         }
         o.push_str(&format!("{doc} Source: {}. {}\n", comment_safe(&req.source), counts_line(&ch)));
-        let used: Vec<bool> = (0..req.params.len() + 1).map(|v| prog.steps.iter().any(|s| *s == Step::Var(v))).collect();
+        let used: Vec<bool> = (0..req.params.len() + 1).map(|v| prog.steps.contains(&Step::Var(v))).collect();
         let terms = f.outputs.len();
         if c {
             match f.kind {

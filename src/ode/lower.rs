@@ -120,6 +120,9 @@ pub fn lower_program(program: &Program, mode: NameMode, limits: &Limits) -> Resu
 /// tanh, sech (or sin, cos, tan) of multiples of the variable: those are made
 /// rational by ζ = e^(c·x) (the requested map, or the first of c = 2g, g —
 /// g the common step of the arguments, times i for trigonometric ones — that
+/// The field, p and q of a lowered equation, and the coordinate statements met.
+type Lowered = (Field, RatFunc, RatFunc, Vec<(String, RatFunc)>);
+
 /// leaves no fractional power), and the result is the equation in ζ.
 pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, request: Option<&MapRequest>) -> Result<(LinearOde, Option<ExpMap>)> {
     let mut var: Option<(String, Span)> = None;
@@ -275,7 +278,7 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
     }
     collect_calls(lhs, &mut calls);
     collect_calls(rhs, &mut calls);
-    let lower_with = |field: Field, map: Option<&Chain>| -> Result<(Field, RatFunc, RatFunc, Vec<(String, RatFunc)>)> {
+    let lower_with = |field: Field, map: Option<&Chain>| -> Result<Lowered> {
         let mut lw = Lowerer {
             field,
             atoms: Atoms::default(),

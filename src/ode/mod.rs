@@ -223,7 +223,7 @@ pub(crate) fn collect_wrt(e: &syntax::Expr, out: &mut Vec<String>) {
 /// added until it is free): the one way new symbols are named.
 pub(crate) fn fresh_name(want: &str, taken: &[String]) -> String {
     let mut name = want.to_string();
-    while taken.iter().any(|t| *t == name) {
+    while taken.contains(&name) {
         name.push('_');
     }
     name

@@ -87,7 +87,7 @@ pub fn non_finite(text: &str) -> Option<String> {
         let len = 3;
         let before = i > 0 && alpha(i - 1);
         // `infi` (an infinite imaginary part) counts; `infinity`, `infinite`, `inferred` do not.
-        let after = alpha(i + len) && !(b.get(i + len) == Some(&b'i') && !alpha(i + len + 1));
+        let after = alpha(i + len) && (b.get(i + len) != Some(&b'i') || alpha(i + len + 1));
         if !before && !after {
             let lo = text.floor_char_boundary(i.saturating_sub(60));
             let hi = text.ceil_char_boundary((i + 60).min(text.len()));
