@@ -12,6 +12,7 @@ mod options;
 mod record;
 mod recurrence;
 mod reduce;
+mod region;
 mod scan;
 mod scatter;
 mod spectrum;

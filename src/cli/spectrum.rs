@@ -114,6 +114,13 @@ pub(crate) struct SpectrumArgs {
     /// A seed for the lowest overtone, e.g. '0.37-0.09i'.
     #[arg(long = "guess", value_name = "VALUE", allow_hyphen_values = true)]
     guess: Option<String>,
+    /// Every mode in a rectangle of the complex plane, 'RE0..RE1,IM0..IM1' (no --guess needed): found by the
+    /// global spectral method, each polished by the continued fraction or direct integration and checked by the other.
+    #[arg(long = "region", value_name = "RE0..RE1,IM0..IM1", allow_hyphen_values = true)]
+    pub(crate) region: Option<String>,
+    /// With --region: intervals of the global method's coarser Chebyshev grid (the finer one has half as many again).
+    #[arg(long = "grid", value_name = "N", default_value_t = crate::solve::global::DEFAULT_GRID)]
+    pub(crate) grid: usize,
     /// Relative tolerance on ω.
     #[arg(long = "tol", default_value_t = 1e-10)]
     tol: f64,
@@ -286,8 +293,20 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
             bp.ends[0].nature == Nature::Horizon && !(bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::Regular)
         });
     let opts = SpectrumOptions { freq, values: point, overtones, tol: a.tol, guess, seeds: Vec::new() };
+    if let Some(text) = &a.region {
+        return super::region::region_modes(text, a.grid, a.format, &src.name, &red, &problem?, &opts, &fname, classic);
+    }
     if classic {
         match classic_qnm(a, src, &red, &opts, &fname, eikonal) {
+            // No estimate seeds an overtone: the global spectral method does.
+            Err(Failure::Lib(e)) if opts.guess.is_none() && e.message.starts_with(crate::solve::spectrum::NO_SEED) && problem.is_ok() => {
+                let seeds = problem.as_ref().map(|bp| super::region::spectral_seeds(bp, opts.overtones)).unwrap_or_default();
+                if seeds.is_empty() {
+                    return Err(Failure::Lib(e));
+                }
+                let opts = SpectrumOptions { seeds, ..opts.clone() };
+                return classic_qnm(a, src, &red, &opts, &fname, None);
+            }
             Err(Failure::Lib(e)) if e.kind == ErrorKind::Usage && problem.is_ok() && a.method == Method::Auto => {
                 let bp = problem?;
                 let note = format!("the continued fraction could not be set up ({}); direct integration between the ends instead", e.message);
