@@ -177,6 +177,11 @@ pub(crate) fn region_modes(
         scale,
         sp.dropped
     );
+    let method = if bp.ends[1].nature == crate::solve::boundary::Nature::IrregularRank1 {
+        format!("{method}; for the lower half-plane the ray to the irregular infinity is turned by ±{:.2}π into the complex plane (complex scaling), so that the outgoing solution is the recessive one along it", global::TURN / std::f64::consts::PI)
+    } else {
+        method
+    };
     let mirror_note = "a mode with Re ω < 0 at −ω̄ of another is its mirror image: listed right after its partner, with the partner's number";
     let re_ = |v: f64| fmt_num(v);
     let region_text = format!("Re {fname} in [{}, {}], Im {fname} in [{}, {}]", re_(region.re.0), re_(region.re.1), re_(region.im.0), re_(region.im.1));

@@ -28,7 +28,8 @@ pub struct SpectrumOptions {
     pub tol: f64,
     /// A seed for the lowest overtone asked for.
     pub guess: Option<Complex64>,
-    /// Further seeds, one per overtone, used before any other estimate.
+    /// Seeds from the global spectral method ([`super::global`]), one per
+    /// overtone from the lowest asked for, used before any other estimate.
     pub seeds: Vec<Complex64>,
 }
 
@@ -289,7 +290,7 @@ pub fn overtones(
     for n in opts.overtones.0..=opts.overtones.1 {
         let idx = (n - opts.overtones.0) as usize;
         let seed = if let Some(s) = opts.seeds.get(idx) {
-            (*s, "given".to_string())
+            (*s, "the global spectral method (an eigenvalue two Chebyshev grids agree on)".to_string())
         } else if n == opts.overtones.0 && opts.guess.is_some() {
             (opts.guess.expect("checked"), "--guess".to_string())
         } else if let Some((a, b)) = last_two_converged(&modes) {
