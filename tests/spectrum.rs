@@ -787,6 +787,18 @@ fn schwarzschild_overtones_past_the_algebraically_special_frequency() {
         let (re, im) = omega(&ms[n]);
         assert!((re - re_w).abs() < 1e-4 && (im - im_w).abs() < 1e-4, "n={n}: {re} {im}");
     }
+    // n = 8 sits at Ω = −i(l − 1)l(l + 1)(l + 2)/12 = −2i (M = 1; Chandrasekhar):
+    // where it is not converged, the report says plainly that it was sought
+    // next to the point where the recurrence degenerates (k = 7, exponents
+    // differing by 8), never a bare failure.
+    if ms[8]["converged"] != true {
+        let (v, code, err) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--overtones", "0..12", "--format", "json"]);
+        assert_eq!(code, 0, "{err}");
+        let notes: Vec<String> = v["notes"].as_array().unwrap().iter().map(|n| n.as_str().unwrap().to_string()).collect();
+        assert!(notes.iter().any(|n| n.starts_with("overtone 8") && n.contains("-2.000000i") && n.contains("k = 7") && n.contains("integer 8")), "{notes:?}");
+        // Only the mode next to the point is flagged.
+        assert_eq!(notes.len(), 1, "{notes:?}");
+    }
     // No overtone is reported twice and Im ω decreases with n.
     let conv: Vec<(f64, f64)> = ms.iter().filter(|m| m["converged"] == true).map(omega).collect();
     for w in conv.windows(2) {

@@ -419,8 +419,10 @@ def spectrum(
     link=(),
     angular_index=0,
     angular_guess=None,
+    ends=None,
 ) -> Spectrum:
-    """Quasinormal modes (``boundary="qnm"``) or bound states (``"bound"``).
+    """Quasinormal modes (``boundary="qnm"``), bound states (``"bound"``) or
+    quasi-bound states of massive fields (``"quasi-bound"``).
 
     ``at``: values of every parameter except the frequency, e.g.
     ``{"M": 1, "l": 2, "s": 2}``; ``overtones``: an int, a ``range`` or a
@@ -435,6 +437,11 @@ def spectrum(
     Kerr), ``angular_index`` (0: the lowest angular eigenvalue) and
     ``angular_guess``; ``at`` then also holds the angular equation's own
     parameters.
+
+    ``ends``: the two ends of the boundary problem and their conditions,
+    ``"LEFT[:COND]..RIGHT[:COND]"`` as the command line's ``--ends`` (e.g.
+    ``"1..inf:normalisable"``); by default they follow from the roles of the
+    singular points, and the document's ``notes`` say which were chosen.
     """
     inp = _input(equation, var, subst, at_infinity, dxdz, frequency)
     links = [link] if isinstance(link, str) else [str(x) for x in link]
@@ -445,7 +452,7 @@ def spectrum(
     else:
         atext, aname = _source(couple)
         coupled = (atext, aname if aname != "<input>" else "<couple>", links, int(angular_index), _seed(angular_guess))
-    raw = _native.spectrum(inp, _values(at), _overtones(overtones), method, boundary, _seed(guess), float(tol), coupled)
+    raw = _native.spectrum(inp, _values(at), _overtones(overtones), method, boundary, _seed(guess), float(tol), coupled, ends)
     return Spectrum(raw)
 
 

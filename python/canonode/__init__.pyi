@@ -143,6 +143,7 @@ def spectrum(
     link: Union[str, Iterable[str]] = ...,
     angular_index: int = ...,
     angular_guess: Optional[complex] = ...,
+    ends: Optional[str] = ...,
 ) -> Spectrum: ...
 def scan(
     equation: Text,

@@ -617,7 +617,7 @@ type CoupleTuple = (String, String, Vec<String>, usize, Option<(String, String)>
 /// `spectrum`: the JSON document of `canonode spectrum --format json` and
 /// the time the library spent.
 #[pyfunction]
-#[pyo3(signature = (input, at, overtones, method, boundary, guess, tol, couple=None))]
+#[pyo3(signature = (input, at, overtones, method, boundary, guess, tol, couple=None, ends=None))]
 #[allow(clippy::too_many_arguments)]
 fn spectrum(
     py: Python<'_>,
@@ -629,12 +629,13 @@ fn spectrum(
     guess: Option<(String, String)>,
     tol: f64,
     couple: Option<CoupleTuple>,
+    ends: Option<String>,
 ) -> PyResult<PyObject> {
     let spec = Spec::from_tuple(input);
     let couple = couple.map(|(text, name, links, index, guess)| workflows::Couple { text, name, links, index, guess });
     let (doc, secs) = run(py, move |_| {
         let t0 = Instant::now();
-        let req = workflows::Request { at, overtones, method, boundary, guess, tol, couple };
+        let req = workflows::Request { at, overtones, method, boundary, guess, tol, couple, ends };
         let doc = workflows::spectrum(&spec, &req)?;
         Ok((doc, t0.elapsed().as_secs_f64()))
     })?;
@@ -663,7 +664,7 @@ fn scan(
 ) -> PyResult<PyObject> {
     let spec = Spec::from_tuple(input);
     let doc = run(py, move |cancel| {
-        let req = workflows::Request { at, overtones, method: "auto".into(), boundary: "qnm".into(), guess, tol, couple: None };
+        let req = workflows::Request { at, overtones, method: "auto".into(), boundary: "qnm".into(), guess, tol, couple: None, ends: None };
         workflows::scan(&spec, &req, &vary, &values, check, cancel)
     })?;
     to_py(py, &doc)

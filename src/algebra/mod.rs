@@ -16,5 +16,5 @@ pub use gcd::{gcd, primitive, squarefree_in, surely_irreducible};
 pub use int::Int;
 pub use poly::{GInt, Mono, Poly, MAX_EXP, MAX_VARS};
 pub use ratfunc::{Factor, Field, Limits, RatFunc};
-pub use rational::{GRat, Rat};
+pub use rational::{parse_complex, GRat, Rat};
 pub use upoly::UPoly;

@@ -181,6 +181,52 @@ impl GRat {
     }
 }
 
+/// Parses `a`, `bi`, `a+bi`, `a-bi` (also with `I`, `j` as engineers write it, `*i`, or a bare `i`) exactly; parts may be fractions (`13/4`).
+pub fn parse_complex(text: &str) -> Option<GRat> {
+    let t: String = text.chars().filter(|c| !c.is_whitespace()).collect();
+    if t.is_empty() {
+        return None;
+    }
+    let imag_suffix = |s: &str| -> Option<String> {
+        let s = s.strip_suffix(['i', 'I', 'j'])?;
+        let s = s.strip_suffix('*').unwrap_or(s);
+        Some(if s.is_empty() || s == "+" || s == "-" { format!("{s}1") } else { s.to_string() })
+    };
+    let signed = |s: &str| -> Option<Rat> {
+        let (neg, body) = match s.strip_prefix('-') {
+            Some(b) => (true, b),
+            None => (false, s.strip_prefix('+').unwrap_or(s)),
+        };
+        // A fraction of two decimals (`13/4`, `1/3`) is exact too.
+        let r = match body.split_once('/') {
+            Some((n, d)) => Rat::parse_decimal(n)?.div(&Rat::parse_decimal(d)?)?,
+            None => Rat::parse_decimal(body)?,
+        };
+        Some(if neg { r.neg() } else { r })
+    };
+    // The split between real and imaginary parts: the last sign not after an exponent mark.
+    let bytes = t.as_bytes();
+    let mut split = None;
+    for i in (1..bytes.len()).rev() {
+        if (bytes[i] == b'+' || bytes[i] == b'-') && !matches!(bytes[i - 1], b'e' | b'E') {
+            split = Some(i);
+            break;
+        }
+    }
+    if let Some(im) = imag_suffix(&t) {
+        match split {
+            Some(i) => {
+                let re = signed(&t[..i])?;
+                let im = signed(imag_suffix(&t[i..])?.as_str())?;
+                Some(GRat { re, im })
+            }
+            None => Some(GRat { re: Rat::zero(), im: signed(&im)? }),
+        }
+    } else {
+        Some(GRat::real(signed(&t)?))
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

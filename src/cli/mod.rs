@@ -17,7 +17,6 @@ mod scan;
 mod scatter;
 mod spectrum;
 mod values;
-mod wkb_report;
 
 use crate::error::{Error, ErrorKind, Origin};
 use crate::ode::{Input, ReduceOptions};

@@ -1,16 +1,13 @@
 //! `spectrum --region`: every mode in a rectangle of the complex plane,
 //! found with no seed by the global spectral method, each polished by the
 //! continued fraction (where the recurrence allows it) or by direct
-//! integration, and checked by the other; and the spectral seeds that
-//! `spectrum` falls back on when no other seed exists.
+//! integration, and checked by the other.
 
 use super::spectrum::SpecFormat;
 use super::values::fmt_complex;
 use super::Failure;
 use crate::error::{Error, ErrorKind};
-use crate::solve::boundary::BoundaryProblem;
 use crate::solve::global::{self, Region};
-use crate::solve::spectrum::SpectrumOptions;
 use num_complex::Complex64;
 
 fn bad(msg: String) -> Failure {
@@ -36,16 +33,6 @@ pub(crate) fn parse_region(text: &str) -> Result<Region, Failure> {
         Ok((lo, hi))
     };
     Ok(Region { re: range(re, "real")?, im: range(im, "imaginary")? })
-}
-
-/// Seeds from the global spectral method for overtones lo..=hi: its
-/// eigenvalues in the lower right quadrant by |Im ω| (as many as it found).
-pub(crate) fn spectral_seeds(bp: &BoundaryProblem, (lo, hi): (u32, u32)) -> Vec<Complex64> {
-    let sigma = Complex64::new(0.6, -0.8) * bp.scale;
-    let Ok(sp) = global::try_spectral(bp, global::DEFAULT_GRID, global::DEFAULT_PERSIST, sigma, global::TURN) else { return Vec::new() };
-    let lower: Vec<Complex64> =
-        sp.values.iter().map(|v| v.omega).filter(|w| w.im < 0.0 && w.re >= -1e-8 * w.norm().max(bp.scale)).collect();
-    lower.into_iter().skip(lo as usize).take((hi - lo + 1) as usize).collect()
 }
 
 /// How a mode relates to the others in the report.
@@ -83,20 +70,19 @@ struct Row {
     check_note: Option<String>,
 }
 
-/// Every mode of `bp` in the region `text`, as a report.
-#[allow(clippy::too_many_arguments)]
+/// Every mode in the region `text`, as a report.
 pub(crate) fn region_modes(
     text: &str,
     grid: usize,
     format: SpecFormat,
     src_name: &str,
     red: &crate::ode::Reduction,
-    bp: &BoundaryProblem,
-    opts: &SpectrumOptions,
-    fname: &str,
-    classic: bool,
+    req: &crate::solve::request::SpectrumRequest,
 ) -> Result<String, Failure> {
     let region = parse_region(text)?;
+    let setup = crate::solve::request::region_setup(red, req)?;
+    let (red, bp, opts, classic) = (&setup.red, &setup.problem, &setup.opts, setup.classic);
+    let fname = setup.frequency.as_str();
     let (sp, found, rejected) = global::modes_in(bp, region, grid, opts.tol)?;
     let cf = if classic { crate::solve::spectrum::cf_polisher(red, opts).ok() } else { None };
     let scale = bp.scale;

@@ -1,7 +1,7 @@
 //! Reading of command-line values: `name=value` lists whose values are exact
 //! complex decimals such as `0.37-0.089i`.
 
-use crate::algebra::{GRat, Rat};
+use crate::algebra::GRat;
 use crate::error::{Error, ErrorKind, Result};
 use crate::syntax::Span;
 
@@ -40,51 +40,7 @@ pub(crate) fn read_value(text: &str) -> std::result::Result<GRat, String> {
     Ok(v)
 }
 
-/// Parses `a`, `bi`, `a+bi`, `a-bi` (also with `I`, `j` as engineers write it, `*i`, or a bare `i`) exactly; parts may be fractions (`13/4`).
-pub(crate) fn parse_complex(text: &str) -> Option<GRat> {
-    let t: String = text.chars().filter(|c| !c.is_whitespace()).collect();
-    if t.is_empty() {
-        return None;
-    }
-    let imag_suffix = |s: &str| -> Option<String> {
-        let s = s.strip_suffix(['i', 'I', 'j'])?;
-        let s = s.strip_suffix('*').unwrap_or(s);
-        Some(if s.is_empty() || s == "+" || s == "-" { format!("{s}1") } else { s.to_string() })
-    };
-    let signed = |s: &str| -> Option<Rat> {
-        let (neg, body) = match s.strip_prefix('-') {
-            Some(b) => (true, b),
-            None => (false, s.strip_prefix('+').unwrap_or(s)),
-        };
-        // A fraction of two decimals (`13/4`, `1/3`) is exact too.
-        let r = match body.split_once('/') {
-            Some((n, d)) => Rat::parse_decimal(n)?.div(&Rat::parse_decimal(d)?)?,
-            None => Rat::parse_decimal(body)?,
-        };
-        Some(if neg { r.neg() } else { r })
-    };
-    // The split between real and imaginary parts: the last sign not after an exponent mark.
-    let bytes = t.as_bytes();
-    let mut split = None;
-    for i in (1..bytes.len()).rev() {
-        if (bytes[i] == b'+' || bytes[i] == b'-') && !matches!(bytes[i - 1], b'e' | b'E') {
-            split = Some(i);
-            break;
-        }
-    }
-    if let Some(im) = imag_suffix(&t) {
-        match split {
-            Some(i) => {
-                let re = signed(&t[..i])?;
-                let im = signed(imag_suffix(&t[i..])?.as_str())?;
-                Some(GRat { re, im })
-            }
-            None => Some(GRat { re: Rat::zero(), im: signed(&im)? }),
-        }
-    } else {
-        Some(GRat::real(signed(&t)?))
-    }
-}
+pub(crate) use crate::algebra::parse_complex;
 
 /// Parses `name=value,name=value,...`; spans point into `text`.
 pub(crate) fn parse_assignments(text: &str, option: &str) -> Result<Vec<(String, GRat, Span)>> {
@@ -111,62 +67,12 @@ pub(crate) fn parse_assignments(text: &str, option: &str) -> Result<Vec<(String,
     Ok(out)
 }
 
-/// A double with 17 significant digits, positional for moderate exponents.
-pub(crate) fn fmt17(x: f64) -> String {
-    if x == 0.0 {
-        return "0".to_string();
-    }
-    if !x.is_finite() {
-        // Never printed as a number: callers report such values as a status.
-        return "(not finite)".to_string();
-    }
-    let s = format!("{:.16e}", x);
-    let (mant, exp) = s.split_once('e').expect("exponent form");
-    let exp: i32 = exp.parse().expect("integer exponent");
-    let neg = mant.starts_with('-');
-    let digits: String = mant.chars().filter(|c| c.is_ascii_digit()).collect();
-    let body = if (-5..17).contains(&exp) {
-        if exp >= 0 {
-            let e = exp as usize + 1;
-            let (ip, fp) = digits.split_at(e.min(digits.len()));
-            let fp = fp.trim_end_matches('0');
-            if fp.is_empty() {
-                ip.to_string()
-            } else {
-                format!("{ip}.{fp}")
-            }
-        } else {
-            let zeros = "0".repeat((-exp - 1) as usize);
-            format!("0.{zeros}{}", digits.trim_end_matches('0'))
-        }
-    } else {
-        let (d0, rest) = digits.split_at(1);
-        let rest = rest.trim_end_matches('0');
-        if rest.is_empty() {
-            format!("{d0}e{exp}")
-        } else {
-            format!("{d0}.{rest}e{exp}")
-        }
-    };
-    if neg {
-        format!("-{body}")
-    } else {
-        body
-    }
-}
-
-/// A complex number as `a+bi` / `a-bi` with 17 significant digits.
-pub(crate) fn fmt_complex(re: f64, im: f64) -> String {
-    if im == 0.0 {
-        return fmt17(re);
-    }
-    let sign = if im < 0.0 { '-' } else { '+' };
-    format!("{}{}{}i", fmt17(re), sign, fmt17(im.abs()))
-}
+pub(crate) use crate::emit::numbers::fmt_complex;
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::algebra::Rat;
 
     #[test]
     fn complex_values() {
@@ -182,9 +88,9 @@ mod tests {
 
     #[test]
     fn seventeen_digits() {
-        assert_eq!(fmt17(0.1), "0.10000000000000001");
-        assert_eq!(fmt17(2.0), "2");
-        assert_eq!(fmt17(-1.5e-9), "-1.5e-9");
+        assert_eq!(crate::emit::numbers::fmt17(0.1), "0.10000000000000001");
+        assert_eq!(crate::emit::numbers::fmt17(2.0), "2");
+        assert_eq!(crate::emit::numbers::fmt17(-1.5e-9), "-1.5e-9");
         assert_eq!(fmt_complex(0.25, -0.5), "0.25-0.5i");
     }
 }

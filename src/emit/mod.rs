@@ -5,7 +5,9 @@
 
 mod classify_report;
 pub mod code;
+pub mod numbers;
 pub mod record;
+pub mod spectrum;
 pub(crate) mod report;
 
 pub use classify_report::{analysis_json, analysis_latex, analysis_text, canonical_json, canonical_text, class_name};

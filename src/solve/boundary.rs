@@ -449,6 +449,43 @@ fn fmt(x: f64) -> String {
     }
 }
 
+/// Reads the two ends of a boundary problem written `LEFT[:COND]..RIGHT[:COND]`,
+/// each end a real number (a singular point, matched numerically) or `inf`,
+/// each condition a [`Condition::name`]; errors span the whole text (the
+/// caller says which option or argument it was).
+pub fn parse_ends(text: &str) -> Result<[(Location, Option<Condition>); 2]> {
+    let bad = |msg: String| Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, text.len()));
+    let Some((l, r)) = text.split_once("..") else {
+        return Err(bad("expected LEFT..RIGHT, e.g. '2..inf:outgoing'".into()));
+    };
+    let one = |part: &str| -> Result<(Location, Option<Condition>)> {
+        let (place, cond) = match part.split_once(':') {
+            Some((p, c)) => (p.trim(), Some(c.trim())),
+            None => (part.trim(), None),
+        };
+        let location = match place {
+            "inf" | "infinity" | "∞" => Location::Infinity,
+            _ => {
+                let v = crate::algebra::parse_complex(place).ok_or_else(|| bad(format!("'{place}' is not a number or 'inf'")))?;
+                let (re, im) = v.to_f64();
+                if im != 0.0 || !re.is_finite() {
+                    return Err(bad(format!("'{place}' is not a finite real number")));
+                }
+                Location::At(re)
+            }
+        };
+        let condition = match cond {
+            Some(c) => Some(
+                Condition::from_name(c)
+                    .ok_or_else(|| bad(format!("'{c}' is not a condition (into, out-of, outgoing, decaying, normalisable, slower)")))?,
+            ),
+            None => None,
+        };
+        Ok((location, condition))
+    };
+    Ok([one(l)?, one(r)?])
+}
+
 /// The right end's location in words.
 pub fn location_text(l: Location) -> String {
     match l {

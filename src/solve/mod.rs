@@ -17,6 +17,7 @@ pub mod roots;
 pub mod scan;
 pub mod scatter;
 pub mod shoot;
+pub mod request;
 pub mod spectrum;
 
 use crate::algebra::{Field, GRat, Poly, RatFunc};

@@ -586,6 +586,69 @@ pub fn substitute_keeping(red: &Reduction, values: &[GRat], keep: &[usize]) -> R
     Ok(Reduction { ode, field: kf, var: red.var.clone(), p, q, normal, change: None, schrodinger: None })
 }
 
+/// A frequency where the recurrence's leading coefficient c₀(k; ω) (the
+/// coefficient of a_{k+1}) vanishes: there the continued fraction is
+/// singular (a zero denominator), and the exponents of the series' ansatz at
+/// the expansion point differ by the integer k + 1 when c₀ is the indicial
+/// polynomial shifted by k, as for a horizon.
+#[derive(Clone, Debug, PartialEq)]
+pub struct DegeneratePoint {
+    /// The frequency.
+    pub omega: Complex64,
+    /// The index k with c₀(k; ω) = 0.
+    pub k: u32,
+}
+
+/// The degenerate points of the recurrence (roots in ω of c₀(k; ω) for
+/// k = 0, 1, …, `kmax`) within `radius` of `w`, nearest first.
+pub fn degenerate_points_near(num: &super::cf::NumRecurrence, w: Complex64, radius: f64, kmax: u32) -> Vec<DegeneratePoint> {
+    let mut out: Vec<DegeneratePoint> = Vec::new();
+    for k in 0..=kmax {
+        let coeffs = num.terms[0].at_n(f64::from(k));
+        for r in crate::analysis::numeric::try_roots(&coeffs).unwrap_or_default() {
+            if (r - w).norm() <= radius {
+                out.push(DegeneratePoint { omega: r, k });
+            }
+        }
+    }
+    out.sort_by(|a, b| (a.omega - w).norm().partial_cmp(&(b.omega - w).norm()).unwrap_or(std::cmp::Ordering::Equal));
+    out
+}
+
+/// Plain words for every mode that failed next to a degenerate point of the
+/// recurrence, or converged onto one: where it is, and why the continued
+/// fraction cannot settle the mode there. A mode "next to" a point is within
+/// a tenth of its own damping |Im ω| (failed modes, judged at the seed) or
+/// within 1e-3 |ω| (converged ones).
+pub fn degenerate_notes(rec: &crate::series::Recurrence, setup: &Setup, opts: &SpectrumOptions, modes: &[Mode]) -> Vec<String> {
+    let Ok(num) = try_numeric(rec, &recurrence_values(setup, opts), opts.freq) else { return Vec::new() };
+    if num.terms.is_empty() {
+        return Vec::new();
+    }
+    let mut notes = Vec::new();
+    for m in modes.iter().filter(|m| m.method == "cf") {
+        let (at, radius) = if m.root.converged {
+            (m.root.omega, 1e-3 * m.root.omega.norm())
+        } else {
+            (m.seed.0, 0.1 * m.seed.0.im.abs().max(1e-3))
+        };
+        // The index k runs as far as the series could reach within the
+        // depths the continued fraction uses (bounded).
+        let Some(p) = degenerate_points_near(&num, at, radius, 4096).into_iter().next() else { continue };
+        let status = if m.root.converged { "converged within 1e-3 of" } else { "was sought next to" };
+        notes.push(format!(
+            "overtone {} {status} ω = {}, where the recurrence's leading coefficient vanishes at k = {} (the exponents of the ansatz at the expansion point {} differ by the integer {} there): the continued fraction is singular at that point and the series solution can change its character (a logarithm, or a solution starting at a_{}); a mode at or next to it is a special case the methods here do not settle — treat it with care (for the Regge–Wheeler and Zerilli equations the algebraically special frequency is such a point; Maassen van den Brink 2000)",
+            m.n,
+            format!("{:.6}{:+.6}i", p.omega.re, p.omega.im),
+            p.k,
+            setup.horizon,
+            p.k + 1,
+            p.k + 1
+        ));
+    }
+    notes
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

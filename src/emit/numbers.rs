@@ -1,0 +1,55 @@
+//! Numbers as canonode prints them: doubles with 17 significant digits,
+//! complex values as `a+bi`. One place, used by every report.
+
+/// A double with 17 significant digits, positional for moderate exponents.
+pub fn fmt17(x: f64) -> String {
+    if x == 0.0 {
+        return "0".to_string();
+    }
+    if !x.is_finite() {
+        // Never printed as a number: callers report such values as a status.
+        return "(not finite)".to_string();
+    }
+    let s = format!("{:.16e}", x);
+    let (mant, exp) = s.split_once('e').expect("exponent form");
+    let exp: i32 = exp.parse().expect("integer exponent");
+    let neg = mant.starts_with('-');
+    let digits: String = mant.chars().filter(|c| c.is_ascii_digit()).collect();
+    let body = if (-5..17).contains(&exp) {
+        if exp >= 0 {
+            let e = exp as usize + 1;
+            let (ip, fp) = digits.split_at(e.min(digits.len()));
+            let fp = fp.trim_end_matches('0');
+            if fp.is_empty() {
+                ip.to_string()
+            } else {
+                format!("{ip}.{fp}")
+            }
+        } else {
+            let zeros = "0".repeat((-exp - 1) as usize);
+            format!("0.{zeros}{}", digits.trim_end_matches('0'))
+        }
+    } else {
+        let (d0, rest) = digits.split_at(1);
+        let rest = rest.trim_end_matches('0');
+        if rest.is_empty() {
+            format!("{d0}e{exp}")
+        } else {
+            format!("{d0}.{rest}e{exp}")
+        }
+    };
+    if neg {
+        format!("-{body}")
+    } else {
+        body
+    }
+}
+
+/// A complex number as `a+bi` / `a-bi` with 17 significant digits.
+pub fn fmt_complex(re: f64, im: f64) -> String {
+    if im == 0.0 {
+        return fmt17(re);
+    }
+    let sign = if im < 0.0 { '-' } else { '+' };
+    format!("{}{}{}i", fmt17(re), sign, fmt17(im.abs()))
+}

@@ -1,0 +1,570 @@
+//! The documents of a spectrum computation: a [`SpectrumReport`] as JSON
+//! (schema documented in `src/cli/spectrum.rs` and `src/cli/wkb_report.rs`),
+//! CSV (one line per mode) and text (a table with the evidence). The command
+//! line and the Python package both render reports here.
+
+use super::numbers::fmt_complex;
+use crate::solve::boundary::{location_text, End, Location};
+use crate::solve::request::{Body, BoundReport, EndsReport, EstimateReport, RecurrenceReport, SpectrumReport};
+use crate::solve::shoot::BoundCheck;
+use crate::solve::wkb::in_lower_half_plane;
+use num_complex::Complex64;
+use serde_json::{json, Value};
+
+fn pair(w: Complex64) -> Value {
+    json!([w.re, w.im])
+}
+
+fn opt_pair(w: Option<Complex64>) -> Value {
+    w.map(pair).unwrap_or(Value::Null)
+}
+
+/// A JSON number, or null when it is not finite.
+fn finite_or_null(x: f64) -> Value {
+    if x.is_finite() {
+        json!(x)
+    } else {
+        Value::Null
+    }
+}
+
+fn opt_num(x: Option<f64>) -> Value {
+    x.map(finite_or_null).unwrap_or(Value::Null)
+}
+
+/// The report as its JSON document.
+pub fn json(r: &SpectrumReport) -> Value {
+    match &r.body {
+        Body::Recurrence(b) => recurrence_json(&r.frequency, b),
+        Body::Ends(b) => ends_json(&r.frequency, b),
+        Body::Bound(b) => bound_json(&r.frequency, b),
+        Body::Estimates(b) => estimates_json(&r.frequency, b),
+    }
+}
+
+/// The report as CSV, one line per mode.
+pub fn csv(r: &SpectrumReport) -> String {
+    match &r.body {
+        Body::Recurrence(b) => recurrence_csv(b),
+        Body::Ends(b) => ends_csv(b),
+        Body::Bound(b) => bound_csv(b),
+        Body::Estimates(b) => estimates_csv(b),
+    }
+}
+
+/// The report as a text table with the evidence; `source` names the equation.
+pub fn text(r: &SpectrumReport, source: &str) -> String {
+    match &r.body {
+        Body::Recurrence(b) => recurrence_text(&r.frequency, &r.var, source, b),
+        Body::Ends(b) => ends_text(&r.frequency, &r.var, source, b),
+        Body::Bound(b) => bound_text(&r.frequency, source, b),
+        Body::Estimates(b) => estimates_text(&r.frequency, source, b),
+    }
+}
+
+fn recurrence_method(b: &RecurrenceReport) -> &'static str {
+    if b.modes.iter().any(|m| m.method == "terminating") {
+        "exact termination of the series (the recurrence has two terms)"
+    } else if !b.modes.is_empty() && b.modes.iter().all(|m| m.method == "integrate") {
+        "direct integration (Frobenius series at the horizon, asymptotic series at the far end, Taylor continuation), seeded by the continued fraction's estimates"
+    } else {
+        "continued fraction (Leaver 1985; tail after Nollert 1993)"
+    }
+}
+
+fn recurrence_json(fname: &str, b: &RecurrenceReport) -> Value {
+    let ms: Vec<Value> = b
+        .modes
+        .iter()
+        .enumerate()
+        .map(|(i, m)| {
+            let r = &m.root;
+            json!({
+                "n": m.n,
+                "omega": if r.converged { pair(r.omega) } else { Value::Null },
+                "converged": r.converged,
+                "reason": if r.converged { Value::Null } else { Value::String(r.stop.text()) },
+                "method": m.method,
+                "evidence": {
+                    "inversion": r.inversion,
+                    "depth": r.depth,
+                    "change_on_doubling": finite_or_null(r.depth_change),
+                    "residual": finite_or_null(r.residual),
+                    "iterations": r.iterations,
+                    "seed": pair(m.seed.0),
+                    "seed_from": m.seed.1,
+                },
+                "check": match b.checks.get(i).and_then(|c| c.as_ref()) {
+                    Some(c) if c.converged => json!({
+                        "method": "integrate",
+                        "omega": pair(c.omega),
+                        "agreement": (c.omega - r.omega).norm() / r.omega.norm(),
+                        "residual": c.residual,
+                    }),
+                    Some(c) => json!({"method": "integrate", "omega": Value::Null, "reason": c.reason}),
+                    None => Value::Null,
+                },
+                "estimate": match b.wkb.get(i).copied().flatten() {
+                    Some(w) => json!({"method": "wkb", "order": b.wkb_order, "omega": pair(w)}),
+                    None => Value::Null,
+                },
+                "coupled": match b.coupled.as_ref().and_then(|c| c.values.get(i)).and_then(|c| c.as_ref()) {
+                    Some(c) => json!({
+                        "eigenvalue": c.eigen_name,
+                        "value": pair(c.root.omega),
+                        "depth": c.root.depth,
+                        "change_on_doubling": c.root.depth_change,
+                        "links": c.links.iter().map(|(n, v)| (n.clone(), pair(*v))).collect::<serde_json::Map<_, _>>(),
+                    }),
+                    None => Value::Null,
+                },
+            })
+        })
+        .collect();
+    let setup = &b.setup;
+    let mut doc = json!({
+        "frequency": fname,
+        "boundary": "qnm",
+        "horizon": setup.horizon,
+        "ansatz": setup.ansatz,
+        "choices": setup.choices,
+        "recurrence_terms": setup.terms,
+        "notes": b.notes,
+        "method": recurrence_method(b),
+        "modes": ms,
+    });
+    if let (Some(c), Value::Object(m)) = (&b.coupled, &mut doc) {
+        let ang = &c.angular;
+        m.insert(
+            "coupling".into(),
+            json!({"angular": c.name, "eigenvalue": ang.eigen_name, "index": ang.index, "about": ang.ends.0, "choices": ang.choices, "links": c.links}),
+        );
+    }
+    doc
+}
+
+fn recurrence_csv(b: &RecurrenceReport) -> String {
+    let mut o = String::from("n,re,im,converged,method,depth,change_on_doubling,residual,reason\n");
+    let num = |x: f64| if x.is_finite() { format!("{x:.3e}") } else { String::new() };
+    for m in &b.modes {
+        let r = &m.root;
+        // Direct integration has no depth: its columns stay empty.
+        let depth = if m.method == "integrate" { String::new() } else { r.depth.to_string() };
+        if r.converged {
+            o.push_str(&format!(
+                "{},{:.17e},{:.17e},true,{},{depth},{},{},\n",
+                m.n,
+                r.omega.re,
+                r.omega.im,
+                m.method,
+                num(r.depth_change),
+                num(r.residual)
+            ));
+        } else {
+            o.push_str(&format!("{},,,false,{},{depth},,,\"{}\"\n", m.n, m.method, r.stop.text().replace('"', "'")));
+        }
+    }
+    o
+}
+
+fn recurrence_text(fname: &str, var: &str, source: &str, b: &RecurrenceReport) -> String {
+    let setup = &b.setup;
+    let mut o = String::new();
+    o.push_str(&format!("quasinormal modes of {source} ({fname}), time dependence e^(-i*{fname}*t)\n"));
+    if let Some(c) = &b.coupled {
+        let ang = &c.angular;
+        o.push_str(&format!(
+            "  coupled: angular eigenvalue {} of {} on ({}, {}): continued fraction about {}, inversion {} (eigenvalue number {} from the lowest), links: {}\n",
+            ang.eigen_name,
+            c.name,
+            ang.ends.0,
+            ang.ends.1,
+            ang.ends.0,
+            ang.index,
+            ang.index,
+            c.links.join("; ")
+        ));
+        for ch in &ang.choices {
+            o.push_str(&format!("  angular choice: {ch}\n"));
+        }
+        if let Some((_, from)) = &ang.seed {
+            o.push_str(&format!("  angular seed: {from}\n"));
+        }
+    }
+    o.push_str(&format!("  series about {} = {}: {}\n", var, setup.horizon, setup.ansatz));
+    for c in &setup.choices {
+        o.push_str(&format!("  choice: {c}\n"));
+    }
+    for n in &b.notes {
+        o.push_str(&format!("  note: {n}\n"));
+    }
+    o.push_str(&format!("  method: {}, {}-term recurrence, n-th inversion for overtone n\n\n", recurrence_method(b), setup.terms));
+    o.push_str("  n  omega                                        evidence\n");
+    for (i, m) in b.modes.iter().enumerate() {
+        let r = &m.root;
+        let w = fmt_complex(r.omega.re, r.omega.im);
+        if r.converged && m.method == "terminating" {
+            o.push_str(&format!("  {:<2} {:<44} exact condition c1(n, ω) = 0, residual {:.1e}\n", m.n, w, r.residual));
+        } else if r.converged && m.method == "integrate" {
+            o.push_str(&format!("  {:<2} {:<44} [integrate] residual {:.1e}\n", m.n, w, r.residual));
+        } else if r.converged {
+            o.push_str(&format!(
+                "  {:<2} {:<44} [{}] depth {}, change on doubling {:.1e}, residual {:.1e}\n",
+                m.n, w, m.method, r.depth, r.depth_change, r.residual
+            ));
+        } else {
+            o.push_str(&format!("  {:<2} NOT CONVERGED: {} (seed {} from {})\n", m.n, r.stop.text(), fmt_complex(m.seed.0.re, m.seed.0.im), m.seed.1));
+        }
+        match b.checks.get(i).and_then(|c| c.as_ref()) {
+            Some(c) if c.converged => o.push_str(&format!(
+                "     check: direct integration {}, agreement {:.1e}\n",
+                fmt_complex(c.omega.re, c.omega.im),
+                (c.omega - r.omega).norm() / r.omega.norm()
+            )),
+            Some(c) => o.push_str(&format!("     check: direct integration did not converge: {}\n", c.reason)),
+            None => {}
+        }
+        if let Some(c) = b.coupled.as_ref().and_then(|c| c.values.get(i)).and_then(|c| c.as_ref()) {
+            let links: Vec<String> = c.links.iter().map(|(n, v)| format!("{n} = {}", fmt_complex(v.re, v.im))).collect();
+            o.push_str(&format!(
+                "     angular: {} = {} (continued fraction, depth {}, change on doubling {:.1e}); {}\n",
+                c.eigen_name,
+                fmt_complex(c.root.omega.re, c.root.omega.im),
+                c.root.depth,
+                c.root.depth_change,
+                links.join(", ")
+            ));
+        }
+        if let (true, Some(w)) = (r.converged, b.wkb.get(i).copied().flatten()) {
+            let warn = if w.im >= 0.0 { " (upper half-plane: not a decaying mode; the WKB series has failed here and the value was not used)" } else { "" };
+            o.push_str(&format!("     estimate: WKB order {} {}{warn}\n", b.wkb_order, fmt_complex(w.re, w.im)));
+        }
+    }
+    o
+}
+
+const ENDS_METHOD: &str =
+    "direct integration between the ends (Frobenius series at regular ends, asymptotic series at an irregular infinity, Taylor continuation; Muller roots)";
+
+fn ends_notes(b: &EndsReport) -> Vec<String> {
+    b.problem.notes.iter().cloned().chain(b.note.clone()).chain(b.numbering.map(String::from)).collect()
+}
+
+fn ends_json(fname: &str, b: &EndsReport) -> Value {
+    let ms: Vec<Value> = b
+        .modes
+        .iter()
+        .map(|m| {
+            let r = &m.root;
+            json!({
+                "n": m.n,
+                "omega": if r.converged { pair(r.omega) } else { Value::Null },
+                "converged": r.converged,
+                "reason": if r.converged { Value::Null } else { Value::String(r.reason.clone()) },
+                "method": "integrate",
+                "evidence": {
+                    "change_on_refinement": finite_or_null(r.change),
+                    "residual": finite_or_null(r.residual),
+                    "iterations": r.iterations,
+                    "seed": pair(m.seed.omega),
+                    "seed_from": m.seed.from,
+                },
+                "check": Value::Null,
+            })
+        })
+        .collect();
+    let ends: Vec<Value> = b
+        .problem
+        .ends
+        .iter()
+        .map(|e| {
+            json!({
+                "at": match e.location { Location::At(z) => json!(z), Location::Infinity => json!("inf") },
+                "found": e.found,
+                "condition": e.condition.name(),
+            })
+        })
+        .collect();
+    json!({
+        "frequency": fname,
+        "boundary": if b.quasi_bound { "quasi-bound" } else { "qnm" },
+        "ends": ends,
+        "notes": ends_notes(b),
+        "method": ENDS_METHOD,
+        "modes": ms,
+    })
+}
+
+fn ends_csv(b: &EndsReport) -> String {
+    let mut o = String::from("n,re,im,converged,method,change_on_refinement,residual,reason\n");
+    for m in &b.modes {
+        let r = &m.root;
+        if r.converged {
+            o.push_str(&format!("{},{:.17e},{:.17e},true,integrate,{:.3e},{:.3e},\n", m.n, r.omega.re, r.omega.im, r.change, r.residual));
+        } else {
+            o.push_str(&format!("{},,,false,integrate,,,\"{}\"\n", m.n, r.reason.replace('"', "'")));
+        }
+    }
+    o
+}
+
+fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
+    let what = if b.quasi_bound { "quasi-bound states" } else { "quasinormal modes" };
+    let end_text = |e: &End| format!("{} = {} ({}); condition: {}", var, location_text(e.location), e.found, e.condition.words());
+    let mut o = String::new();
+    o.push_str(&format!("{what} of {source} ({fname}), time dependence e^(-i*{fname}*t)\n"));
+    o.push_str(&format!("  left end:  {}\n", end_text(&b.problem.ends[0])));
+    o.push_str(&format!("  right end: {}\n", end_text(&b.problem.ends[1])));
+    for n in ends_notes(b) {
+        o.push_str(&format!("  note: {n}\n"));
+    }
+    o.push_str(&format!("  method: {ENDS_METHOD}\n"));
+    o.push_str("  no second method runs on this boundary problem yet: the evidence is the agreement of standard and refined integration\n\n");
+    o.push_str("  n  omega                                        evidence\n");
+    for m in &b.modes {
+        let r = &m.root;
+        if r.converged {
+            o.push_str(&format!(
+                "  {:<2} {:<44} [integrate] change on refinement {:.1e}, residual {:.1e}\n",
+                m.n,
+                fmt_complex(r.omega.re, r.omega.im),
+                r.change,
+                r.residual
+            ));
+        } else {
+            o.push_str(&format!("  {:<2} NOT CONVERGED: {} (seed from {})\n", m.n, r.reason, m.seed.from));
+        }
+    }
+    o
+}
+
+fn domain_text(b: &BoundReport) -> String {
+    use crate::solve::collocation::Domain;
+    match b.domain {
+        Domain::Finite(x, y) => format!("({x}, {y})"),
+        Domain::HalfLine(x) => format!("({x}, ∞)"),
+        Domain::Line => "(−∞, ∞)".to_string(),
+    }
+}
+
+fn bound_agreement(r: &crate::solve::integrate::IntRoot, s: &crate::solve::collocation::BoundState) -> f64 {
+    (r.omega - s.value).norm() / s.value.norm().max(f64::MIN_POSITIVE)
+}
+
+fn bound_elsewhere(r: &crate::solve::integrate::IntRoot, v: &Complex64) -> String {
+    format!(
+        "the refinement converged on {}, nearer the neighbouring collocation eigenvalue {} than its seed: another state",
+        fmt_complex(r.omega.re, r.omega.im),
+        fmt_complex(v.re, v.im)
+    )
+}
+
+fn bound_json(fname: &str, b: &BoundReport) -> Value {
+    let dom = domain_text(b);
+    let ms: Vec<Value> = b
+        .states
+        .iter()
+        .zip(&b.checks)
+        .map(|(s, c)| {
+            let check = match c {
+                Some(BoundCheck::Agrees(r)) => json!({
+                    "method": "shooting",
+                    "omega": pair(r.omega),
+                    "agreement": bound_agreement(r, s),
+                    "residual": r.residual,
+                    "change_on_refinement": r.change,
+                }),
+                Some(BoundCheck::Unconverged(r)) => json!({"method": "shooting", "omega": Value::Null, "agreement": Value::Null, "reason": r.reason}),
+                Some(BoundCheck::Elsewhere(r, v)) => json!({
+                    "method": "shooting",
+                    "omega": Value::Null,
+                    "agreement": Value::Null,
+                    "reason": bound_elsewhere(r, v),
+                    "landed": pair(r.omega),
+                }),
+                Some(BoundCheck::Unavailable(_)) | None => Value::Null,
+            };
+            let no_check = match c {
+                Some(BoundCheck::Unavailable(why)) => Value::String(format!("no second method for this end type: {why}")),
+                _ => Value::Null,
+            };
+            json!({
+                "n": s.n,
+                "omega": if s.converged { pair(s.value) } else { Value::Null },
+                "converged": s.converged,
+                "reason": if s.converged { Value::Null } else { Value::String(s.reason.clone().unwrap_or_default()) },
+                "method": "collocation",
+                "evidence": {"points": s.points, "change_on_doubling": s.change, "domain": dom},
+                "check": check,
+                "no_check": no_check,
+            })
+        })
+        .collect();
+    json!({"frequency": fname, "boundary": "bound", "domain": dom, "continuum": finite_or_null(b.threshold), "method": "Chebyshev collocation (Boyd 2001)", "modes": ms})
+}
+
+fn bound_csv(b: &BoundReport) -> String {
+    let mut o = String::from("n,re,im,converged,method,points,change_on_doubling,check_re,check_im,agreement,reason\n");
+    for (s, c) in b.states.iter().zip(&b.checks) {
+        let check = match c {
+            Some(BoundCheck::Agrees(r)) => format!("{:.17e},{:.17e},{:.3e}", r.omega.re, r.omega.im, bound_agreement(r, s)),
+            _ => ",,".to_string(),
+        };
+        if s.converged {
+            o.push_str(&format!("{},{:.17e},{:.17e},true,collocation,{},{:.3e},{check},\n", s.n, s.value.re, s.value.im, s.points, s.change));
+        } else {
+            let why = s.reason.as_deref().unwrap_or_default().replace('"', "'");
+            o.push_str(&format!("{},,,false,collocation,{},,{check},\"{why}\"\n", s.n, s.points));
+        }
+    }
+    o
+}
+
+fn bound_text(fname: &str, source: &str, b: &BoundReport) -> String {
+    let mut o = format!("bound states of {source} in {fname} on {}: Chebyshev collocation with ψ = 0 at both ends (Boyd 2001)\n", domain_text(b));
+    if b.threshold.is_finite() {
+        o.push_str(&format!("  continuum above {fname} = {}\n", b.threshold));
+    }
+    o.push_str("  check: shooting from both ends (Frobenius / asymptotic series, Taylor continuation), Muller seeded by each eigenvalue\n");
+    o.push('\n');
+    for (s, c) in b.states.iter().zip(&b.checks) {
+        if s.converged {
+            o.push_str(&format!("  {:<2} {:<44} points {}, change on doubling {:.1e}\n", s.n, fmt_complex(s.value.re, s.value.im), s.points, s.change));
+        } else {
+            o.push_str(&format!("  {:<2} NOT CONVERGED: {}\n", s.n, s.reason.as_deref().unwrap_or_default()));
+        }
+        match c {
+            Some(BoundCheck::Agrees(r)) => {
+                o.push_str(&format!("     check: shooting {}, agreement {:.1e}\n", fmt_complex(r.omega.re, r.omega.im), bound_agreement(r, s)))
+            }
+            Some(BoundCheck::Unconverged(r)) => o.push_str(&format!("     check: shooting did not converge: {}\n", r.reason)),
+            Some(BoundCheck::Elsewhere(r, v)) => o.push_str(&format!("     check: NOT A CHECK: {}\n", bound_elsewhere(r, v))),
+            Some(BoundCheck::Unavailable(why)) => o.push_str(&format!("     check: no second method for this end type ({why})\n")),
+            None => {}
+        }
+    }
+    o
+}
+
+/// The value an estimate row reports.
+fn estimate_value(b: &EstimateReport, n: u32, e: &crate::solve::wkb::BarrierEstimate) -> Complex64 {
+    match (&b.limit, b.wkb) {
+        (_, true) => e.series.omega(),
+        (Some((_, lim, l)), false) => lim.omega(*l, n),
+        (None, false) => e.eikonal,
+    }
+}
+
+fn estimates_name(b: &EstimateReport) -> String {
+    match (b.wkb, &b.limit) {
+        (true, _) => format!("WKB to order {} about the barrier top (orders 1–3: Schutz & Will 1985, Iyer & Will 1987), Padé-resummed", b.order),
+        (false, Some((p, ..))) => format!("eikonal limit Ω_c({p} + ½) − i(n + ½)λ from the part of V growing like {p}²"),
+        (false, None) => "eikonal estimate √V₀ − i(n + ½)√(−V₀''/(2V₀)) (Schutz & Will 1985)".to_string(),
+    }
+}
+
+fn estimates_method(b: &EstimateReport) -> &'static str {
+    if b.wkb {
+        "wkb"
+    } else {
+        "eikonal"
+    }
+}
+
+fn estimates_json(fname: &str, b: &EstimateReport) -> Value {
+    let method = estimates_method(b);
+    let note = "an analytic approximation from the peak of the potential, not an iterated eigenvalue";
+    let ms: Vec<Value> = b
+        .rows
+        .iter()
+        .map(|(n, e)| {
+            let Some(e) = e else {
+                return json!({"n": n, "omega": Value::Null, "converged": false, "reason": "no barrier estimate",
+                    "method": method, "wrong_half_plane": false, "evidence": Value::Null, "check": Value::Null});
+            };
+            let w = estimate_value(b, *n, e);
+            let s = &e.series;
+            let evidence = if b.wkb {
+                let (p, ps) = s.pade_at(s.order());
+                let orders: Vec<Value> = (1..=s.order())
+                    .map(|k| json!({"order": k, "omega": pair(s.partial[k - 1]), "spread": opt_num(s.spread(k)), "pade": opt_pair(s.pade_at(k).0)}))
+                    .collect();
+                json!({
+                    "note": note,
+                    "pade": {"approximant": format!("[{}/{}]", s.order().div_ceil(2), s.order() / 2), "omega": opt_pair(p), "spread": opt_num(ps)},
+                    "spread": opt_num(s.spread(s.order())),
+                    "optimal_order": s.optimal().map(|o| json!(o.0)).unwrap_or(Value::Null),
+                    "orders": orders,
+                })
+            } else {
+                json!({"note": note})
+            };
+            json!({"n": n, "omega": pair(w), "converged": true, "reason": Value::Null, "method": method,
+                "wrong_half_plane": !in_lower_half_plane(w), "evidence": evidence, "check": Value::Null})
+        })
+        .collect();
+    let lim = match &b.limit {
+        Some((p, e, _)) => json!({"param": p, "omega_c": e.omega_c, "lyapunov": e.lyapunov, "peak": e.peak}),
+        None => Value::Null,
+    };
+    json!({"frequency": fname, "boundary": "qnm", "method": estimates_name(b), "order": if b.wkb { json!(b.order) } else { Value::Null },
+        "eikonal_limit": lim, "modes": ms})
+}
+
+fn estimates_csv(b: &EstimateReport) -> String {
+    let method = estimates_method(b);
+    let mut o = String::from("n,re,im,converged,method,wrong_half_plane,spread,pade_re,pade_im\n");
+    for (n, e) in &b.rows {
+        match e {
+            Some(e) => {
+                let w = estimate_value(b, *n, e);
+                let (p, _) = e.series.pade_at(e.series.order());
+                let (sp, p) = if b.wkb { (e.series.spread(b.order), p) } else { (None, None) };
+                let f = |x: Option<f64>| x.filter(|x| x.is_finite()).map(|x| format!("{x:.17e}")).unwrap_or_default();
+                o.push_str(&format!(
+                    "{n},{:.17e},{:.17e},true,{method},{},{},{},{}\n",
+                    w.re,
+                    w.im,
+                    !in_lower_half_plane(w),
+                    f(sp),
+                    f(p.map(|p| p.re)),
+                    f(p.map(|p| p.im))
+                ));
+            }
+            None => o.push_str(&format!("{n},,,false,{method},false,,,\n")),
+        }
+    }
+    o
+}
+
+fn estimates_text(fname: &str, source: &str, b: &EstimateReport) -> String {
+    let mut o = format!("estimates of the quasinormal modes of {source} ({fname}): {}\n  approximations, not converged eigenvalues\n", estimates_name(b));
+    if let Some((p, e, _)) = &b.limit {
+        o.push_str(&format!("  Ω_c = {}, λ = {} (maximum of lim V/{p}² at {})\n", fmt_complex(e.omega_c, 0.0), fmt_complex(e.lyapunov, 0.0), e.peak));
+    }
+    o.push('\n');
+    for (n, e) in &b.rows {
+        let Some(e) = e else {
+            o.push_str(&format!("  {n:<2} no estimate (no barrier peak found)\n"));
+            continue;
+        };
+        let w = estimate_value(b, *n, e);
+        let mark = if in_lower_half_plane(w) { "" } else { "  [upper half-plane: not a decaying mode, not used as a seed]" };
+        o.push_str(&format!("  {n:<2} {}{mark}\n", fmt_complex(w.re, w.im)));
+        if b.wkb {
+            let s = &e.series;
+            if let Some(sp) = s.spread(s.order()) {
+                o.push_str(&format!("     change from order {}: {sp:.2e}\n", s.order() - 1));
+            }
+            if let (Some(p), ps) = s.pade_at(s.order()) {
+                let m = if in_lower_half_plane(p) { "" } else { "  [upper half-plane]" };
+                let ps = ps.map(|x| format!(" (change from order {}: {x:.2e})", s.order() - 1)).unwrap_or_default();
+                o.push_str(&format!("     Padé [{}/{}]: {}{ps}{m}\n", s.order().div_ceil(2), s.order() / 2, fmt_complex(p.re, p.im)));
+            }
+            if let Some((k, wk, sp)) = s.optimal() {
+                o.push_str(&format!("     least change between orders at order {k}: {} ({sp:.2e})\n", fmt_complex(wk.re, wk.im)));
+            }
+        }
+    }
+    o
+}

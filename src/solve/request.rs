@@ -1,0 +1,592 @@
+//! The spectrum workflow as one library call: a [`SpectrumRequest`] (what
+//! was asked: the kind of spectrum, the ends, the parameter values, the
+//! overtones, the method) goes in, a [`SpectrumReport`] (what was found,
+//! with every piece of evidence and every choice made) comes out. The
+//! command line and the Python package both call [`spectrum`] and render its
+//! report with `emit::spectrum`, so their documents cannot drift apart.
+//!
+//! Method dispatch: bound states go to collocation (checked by shooting);
+//! quasinormal modes from a horizon that do not end at a regular infinity go
+//! to the exact recurrence's continued fraction (checked by direct
+//! integration), or to WKB / eikonal estimates when asked; every other
+//! boundary problem (de Sitter, anti-de Sitter, massive fields, `ends`) goes
+//! to direct integration between its ends, as does a problem whose
+//! continued fraction cannot be set up.
+
+use super::boundary::{BoundaryProblem, Condition, Location, SpectrumKind};
+use super::collocation::{BoundState, Domain};
+use super::coupled::{Angular, CoupledValue, Link};
+use super::ends::EndMode;
+use super::integrate::IntRoot;
+use super::modefn::Samples;
+use super::shoot::BoundCheck;
+use super::spectrum::{Mode, Setup, SpectrumOptions};
+use super::wkb::{BarrierEstimate, EikonalLimit};
+use crate::algebra::GRat;
+use crate::error::{Error, ErrorKind, Result};
+use crate::ode::Reduction;
+use crate::syntax::Span;
+use num_complex::Complex64;
+
+/// Which spectrum.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Problem {
+    /// Quasinormal modes: the wave leaves the domain through both ends.
+    Quasinormal,
+    /// Bound states: normalisable at both ends (real eigenvalues).
+    Bound,
+    /// Quasi-bound states: into the horizon, decaying at an irregular infinity.
+    QuasiBound,
+}
+
+/// Which method.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Method {
+    /// The continued fraction when the recurrence allows it, else direct integration; collocation for bound states.
+    Auto,
+    /// The continued fraction.
+    Cf,
+    /// Direct integration between the ends.
+    Integrate,
+    /// WKB estimates at the barrier top, Padé-resummed.
+    Wkb,
+    /// The eikonal (first-order) estimate.
+    Eikonal,
+    /// Chebyshev collocation (bound states).
+    Collocation,
+}
+
+/// The angular side of a coupled solve (a separation constant shared by two equations).
+#[derive(Debug)]
+pub struct CoupleRequest {
+    /// The angular equation, reduced.
+    pub angular: Reduction,
+    /// Its display name (a file name).
+    pub name: String,
+    /// The links between the equations, parsed.
+    pub links: Vec<Link>,
+    /// The links' texts as given (for the report).
+    pub link_texts: Vec<String>,
+    /// Which angular eigenvalue (0 the lowest).
+    pub index: usize,
+    /// A first value of the angular eigenvalue.
+    pub guess: Option<Complex64>,
+}
+
+/// What a spectrum computation is asked for besides the equation.
+#[derive(Debug)]
+pub struct SpectrumRequest {
+    /// The kind of spectrum.
+    pub problem: Problem,
+    /// The two ends and, optionally, their conditions (default: from the roles of the singular points).
+    pub ends: Option<[(Location, Option<Condition>); 2]>,
+    /// The spectral parameter when named; else the one parameter without a value, else a conventional name.
+    pub frequency: Option<String>,
+    /// Values of the other parameters: name, exact value, and the span of the assignment in the caller's text.
+    pub values: Vec<(String, GRat, Span)>,
+    /// Overtones, inclusive.
+    pub overtones: (u32, u32),
+    /// The method.
+    pub method: Method,
+    /// A seed for the lowest overtone.
+    pub guess: Option<Complex64>,
+    /// Relative tolerance on the eigenvalue.
+    pub tol: f64,
+    /// The WKB order of the barrier-top estimates.
+    pub wkb_order: usize,
+    /// With [`Method::Eikonal`]: the parameter whose large values give the eikonal limit.
+    pub eikonal_param: Option<String>,
+    /// Compute each converged mode's function; `Some(reach)` with an optional sampling reach for quasinormal modes.
+    pub mode_functions: Option<Option<f64>>,
+    /// An angular equation sharing the separation constant.
+    pub couple: Option<CoupleRequest>,
+}
+
+/// Each converged mode's function, sampled on the real axis.
+#[derive(Debug)]
+pub struct ModeFunctions {
+    /// How the functions are normalised, in words.
+    pub normalisation: &'static str,
+    /// Overtone, eigenvalue and samples (or why there are none).
+    pub modes: Vec<(u32, Complex64, std::result::Result<Samples, String>)>,
+}
+
+/// Quasinormal modes from the exact recurrence (continued fraction or a terminating series).
+#[derive(Debug)]
+pub struct RecurrenceReport {
+    /// The series set-up: horizon, ansatz, choices.
+    pub setup: Setup,
+    /// One mode per overtone asked for.
+    pub modes: Vec<Mode>,
+    /// The second method (direct integration) per mode, where it ran.
+    pub checks: Vec<Option<IntRoot>>,
+    /// The WKB estimate per mode (shown beside the result; used as a seed only in the lower half-plane).
+    pub wkb: Vec<Option<Complex64>>,
+    /// The WKB order of those estimates.
+    pub wkb_order: usize,
+    /// For a coupled solve: the angular evidence per mode, the angular problem and the links as given.
+    pub coupled: Option<CoupledReport>,
+    /// Warnings about single modes, in words (a mode at a point where the recurrence degenerates).
+    pub notes: Vec<String>,
+}
+
+/// The angular side of a coupled solve, for the report.
+#[derive(Debug)]
+pub struct CoupledReport {
+    /// The angular equation's name.
+    pub name: String,
+    /// The angular problem solved at each frequency.
+    pub angular: Angular,
+    /// The links as given.
+    pub links: Vec<String>,
+    /// The angular eigenvalue and linked values at each mode.
+    pub values: Vec<Option<CoupledValue>>,
+}
+
+/// Modes by direct integration between the ends of a boundary problem.
+#[derive(Debug)]
+pub struct EndsReport {
+    /// The boundary problem.
+    pub problem: BoundaryProblem,
+    /// One mode per overtone asked for.
+    pub modes: Vec<EndMode>,
+    /// Why this route was taken, when another was tried first.
+    pub note: Option<String>,
+    /// The numbering caveat when the modes come from a scan of the plane.
+    pub numbering: Option<&'static str>,
+    /// Quasi-bound states (decaying at the far end) rather than quasinormal modes.
+    pub quasi_bound: bool,
+}
+
+/// Bound states by collocation, each checked by shooting.
+#[derive(Debug)]
+pub struct BoundReport {
+    /// The interval.
+    pub domain: Domain,
+    /// The edge of the continuum (infinite on a finite interval).
+    pub threshold: f64,
+    /// The states asked for.
+    pub states: Vec<BoundState>,
+    /// The shooting check of each converged state.
+    pub checks: Vec<Option<BoundCheck>>,
+}
+
+/// Barrier-top estimates (WKB or eikonal), not iterated eigenvalues.
+#[derive(Debug)]
+pub struct EstimateReport {
+    /// WKB (else eikonal).
+    pub wkb: bool,
+    /// The WKB order.
+    pub order: usize,
+    /// With an eikonal parameter: its name, the limit and the parameter's value.
+    pub limit: Option<(String, EikonalLimit, f64)>,
+    /// The estimate of each overtone, when a barrier peak was found.
+    pub rows: Vec<(u32, Option<BarrierEstimate>)>,
+}
+
+/// What was found, by which route.
+#[derive(Debug)]
+pub enum Body {
+    /// The exact recurrence's continued fraction (or termination).
+    Recurrence(RecurrenceReport),
+    /// Direct integration between the ends of a boundary problem.
+    Ends(EndsReport),
+    /// Collocation for bound states.
+    Bound(BoundReport),
+    /// WKB or eikonal estimates.
+    Estimates(EstimateReport),
+}
+
+/// The result of [`spectrum`].
+#[derive(Debug)]
+pub struct SpectrumReport {
+    /// The spectral parameter's name.
+    pub frequency: String,
+    /// The independent variable's name.
+    pub var: String,
+    /// The findings.
+    pub body: Body,
+    /// The mode functions, when asked for.
+    pub mode_functions: Option<ModeFunctions>,
+}
+
+fn usage(msg: impl Into<String>) -> Error {
+    Error::new(ErrorKind::Usage, msg)
+}
+
+fn method_error(msg: &str) -> Error {
+    usage(msg).in_option("--method")
+}
+
+/// The spectral parameter's field index and name: named, else the one
+/// parameter without a value (uncoupled solves), else a conventional name.
+fn frequency(red: &Reduction, req: &SpectrumRequest) -> Result<(usize, String)> {
+    let names = red.field.names();
+    let defaults: &[&str] = if req.problem == Problem::Bound { &["E", "omega", "ω", "w"] } else { &["omega", "ω", "w"] };
+    let inferred = if req.couple.is_none() {
+        let open: Vec<&String> = names.iter().skip(1).filter(|n| !req.values.iter().any(|(g, _, _)| g == *n)).collect();
+        (open.len() == 1).then(|| open[0].clone())
+    } else {
+        None
+    };
+    let fname = req.frequency.clone().or(inferred).or_else(|| defaults.iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
+    let Some(fname) = fname else {
+        return Err(usage("no frequency parameter: name it with --frequency"));
+    };
+    let Some(freq) = names.iter().skip(1).position(|n| *n == fname).map(|i| i + 1) else {
+        return Err(usage(format!("'{fname}' is not a parameter of the equation")).in_option("--frequency"));
+    };
+    Ok((freq, fname))
+}
+
+/// The radial parameters that links set; a link may not set one of
+/// `solved` (`what` says what they are).
+pub fn linked_radial(links: &[Link], names: &[String], solved: &[usize], what: &str) -> Result<Vec<usize>> {
+    let mut out = Vec::new();
+    for (j, l) in links.iter().enumerate().filter(|(_, l)| !l.angular) {
+        if let Some(i) = names.iter().position(|x| *x == l.target) {
+            if solved.contains(&i) {
+                return Err(usage(format!("'{}' is {what}: it cannot be linked", l.target)).at(Span::new(0, l.target.len())).in_option(&link_option(j)));
+            }
+            out.push(i);
+        }
+    }
+    Ok(out)
+}
+
+/// True when a value's name is a parameter of the angular equation only
+/// (its value goes there); an error when a link sets it.
+pub fn for_angular_only(n: &str, span: Span, links: &[Link], names: &[String], angular_names: Option<&[String]>) -> Result<bool> {
+    if links.iter().any(|l| l.target == n) {
+        return Err(usage(format!("'{n}' is set by a --link; it cannot also have a value")).at(span).in_option("--at"));
+    }
+    let n = n.to_string();
+    Ok(angular_names.is_some_and(|a| a[1..].contains(&n)) && !names[1..].contains(&n))
+}
+
+/// The option name a link's errors are rendered against.
+pub fn link_option(i: usize) -> String {
+    if i == 0 {
+        "--link".to_string()
+    } else {
+        format!("--link #{}", i + 1)
+    }
+}
+
+/// The exact point: a value for every parameter but the frequency (and
+/// those that links set), or an error naming what is missing.
+fn point(red: &Reduction, req: &SpectrumRequest, freq: usize) -> Result<Vec<GRat>> {
+    let names = red.field.names();
+    let mut point = vec![GRat::zero(); names.len()];
+    let mut given = vec![false; names.len()];
+    given[0] = true;
+    given[freq] = true;
+    let links: &[Link] = req.couple.as_ref().map_or(&[], |c| &c.links);
+    for i in linked_radial(links, names, &[freq], "the frequency being solved for")? {
+        given[i] = true;
+    }
+    let angular_names = req.couple.as_ref().map(|c| c.angular.field.names());
+    for (n, v, span) in &req.values {
+        if for_angular_only(n, *span, links, names, angular_names)? {
+            continue;
+        }
+        match names.iter().skip(1).position(|x| x == n) {
+            Some(i) if i + 1 == freq => {
+                return Err(usage(format!("'{n}' is the frequency being solved for; give a seed with --guess instead")).at(*span).in_option("--at"))
+            }
+            Some(i) => {
+                point[i + 1] = v.clone();
+                given[i + 1] = true;
+            }
+            None => return Err(usage(format!("'{n}' is not a parameter of the equation")).at(*span).in_option("--at")),
+        }
+    }
+    let missing: Vec<&str> = names.iter().zip(&given).filter(|(_, g)| !**g).map(|(n, _)| n.as_str()).collect();
+    if !missing.is_empty() {
+        // No span: the caller points at the whole of its value list.
+        return Err(usage(format!("no value given for {}", missing.join(", "))).in_option("--at"));
+    }
+    Ok(point)
+}
+
+/// Computes the spectrum a request asks for.
+pub fn spectrum(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
+    if !(1..=super::wkb::MAX_ORDER).contains(&req.wkb_order) {
+        return Err(usage(format!("the WKB order must lie in 1..={}", super::wkb::MAX_ORDER)).in_option("--wkb-order"));
+    }
+    let (freq, fname) = frequency(red, req)?;
+    let point = point(red, req, freq)?;
+    let opts = SpectrumOptions { freq, values: point.clone(), overtones: req.overtones, tol: req.tol, guess: req.guess, seeds: Vec::new() };
+    let report = |body: Body, mode_functions: Option<ModeFunctions>| SpectrumReport { frequency: fname.clone(), var: red.var.clone(), body, mode_functions };
+    if let Some(c) = &req.couple {
+        if req.problem != Problem::Quasinormal || !matches!(req.method, Method::Auto | Method::Cf) {
+            return Err(method_error("a coupled solve uses the continued fraction (--method auto or cf); direct integration runs as its check"));
+        }
+        return Ok(report(Body::Recurrence(coupled(red, req, c, &opts)?), None));
+    }
+    // The eikonal limit keeps its large parameter symbolic.
+    let eikonal = eikonal_reduction(req, red, &point, freq)?;
+    // Exact values for every other parameter: horizons often become rational points.
+    let red = super::spectrum::substitute(red, &point, freq)?;
+    if req.problem == Problem::Bound {
+        let (b, f) = bound_states(&red, req, &opts)?;
+        return Ok(report(Body::Bound(b), f));
+    }
+    if req.method == Method::Collocation {
+        return Err(method_error(
+            "--method collocation computes bound states (with --boundary bound); quasinormal modes use auto, cf, integrate, wkb or eikonal",
+        ));
+    }
+    let (problem, classic) = boundary_problem(&red, req, &point, freq);
+    if classic {
+        match recurrence_route(&red, req, &opts, eikonal) {
+            // No estimate seeds an overtone: the global spectral method does.
+            Err(e) if opts.guess.is_none() && e.message.starts_with(super::spectrum::NO_SEED) && problem.is_ok() => {
+                let seeds = problem.as_ref().map(|bp| super::global::seeds(bp, opts.overtones)).unwrap_or_default();
+                if seeds.is_empty() {
+                    return Err(e);
+                }
+                let opts = SpectrumOptions { seeds, ..opts.clone() };
+                let (body, f) = recurrence_route(&red, req, &opts, None)?;
+                return Ok(report(body, f));
+            }
+            Err(e) if e.kind == ErrorKind::Usage && problem.is_ok() && req.method == Method::Auto => {
+                let bp = problem?;
+                let note = format!("the continued fraction could not be set up ({}); direct integration between the ends instead", e.message);
+                return Ok(report(Body::Ends(between_ends(bp, req, &opts, Some(note))), None));
+            }
+            Err(e) => return Err(e),
+            Ok((body, f)) => return Ok(report(body, f)),
+        }
+    }
+    if !matches!(req.method, Method::Auto | Method::Integrate) {
+        return Err(method_error("this boundary problem is solved by direct integration between its ends: use --method auto or integrate"));
+    }
+    Ok(report(Body::Ends(between_ends(problem?, req, &opts, None)), None))
+}
+
+/// The boundary problem of a (substituted) reduction, and whether the exact
+/// recurrence route applies: it covers quasinormal modes from a horizon that
+/// do not end at a regular infinity, with the default conditions.
+fn boundary_problem(red: &Reduction, req: &SpectrumRequest, point: &[GRat], freq: usize) -> (Result<BoundaryProblem>, bool) {
+    let kind = if req.problem == Problem::QuasiBound { SpectrumKind::QuasiBound } else { SpectrumKind::Quasinormal };
+    let problem = super::boundary::try_problem(&red.field, &red.normal.q, &red.q, point, freq, kind, req.ends);
+    let classic = kind == SpectrumKind::Quasinormal
+        && req.ends.is_none()
+        && problem.as_ref().map_or(true, |bp| {
+            use super::boundary::Nature;
+            bp.ends[0].nature == Nature::Horizon && !(bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::Regular)
+        });
+    (problem, classic)
+}
+
+/// What the global spectral method over a region works on.
+pub struct RegionSetup {
+    /// The reduction with every parameter but the frequency substituted.
+    pub red: Reduction,
+    /// The frequency's name.
+    pub frequency: String,
+    /// The options (frequency index, values, tolerance).
+    pub opts: SpectrumOptions,
+    /// The boundary problem.
+    pub problem: BoundaryProblem,
+    /// Whether the exact recurrence (continued fraction) applies.
+    pub classic: bool,
+}
+
+/// The set-up of [`spectrum`] for a search over a region of the complex
+/// plane (quasinormal modes and quasi-bound states; no coupled solve).
+pub fn region_setup(red: &Reduction, req: &SpectrumRequest) -> Result<RegionSetup> {
+    if req.couple.is_some() || req.problem == Problem::Bound {
+        return Err(usage("--region searches quasinormal modes and quasi-bound states of one equation (no --couple, no --boundary bound)").in_option("--region"));
+    }
+    let (freq, frequency) = frequency(red, req)?;
+    let point = point(red, req, freq)?;
+    let opts = SpectrumOptions { freq, values: point.clone(), overtones: req.overtones, tol: req.tol, guess: None, seeds: Vec::new() };
+    let red = super::spectrum::substitute(red, &point, freq)?;
+    let (problem, classic) = boundary_problem(&red, req, &point, freq);
+    Ok(RegionSetup { problem: problem?, red, frequency, opts, classic })
+}
+
+/// With an eikonal parameter: its name, index and the equation with every
+/// other parameter but it and the frequency substituted.
+fn eikonal_reduction(req: &SpectrumRequest, red: &Reduction, point: &[GRat], freq: usize) -> Result<Option<(String, usize, Reduction)>> {
+    let Some(name) = &req.eikonal_param else { return Ok(None) };
+    if req.method != Method::Eikonal {
+        return Err(usage("--eikonal-param belongs with --method eikonal").in_option("--eikonal-param"));
+    }
+    let Some(i) = red.field.names().iter().skip(1).position(|n| n == name).map(|i| i + 1).filter(|i| *i != freq) else {
+        return Err(usage(format!("'{name}' is not a parameter of the equation other than the frequency")).in_option("--eikonal-param"));
+    };
+    Ok(Some((name.clone(), i, super::spectrum::substitute_keeping(red, point, &[freq, i])?)))
+}
+
+/// Modes by direct integration between the ends of a boundary problem.
+fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptions, note: Option<String>) -> EndsReport {
+    let modes = super::ends::modes(&bp, opts.overtones, opts.guess, opts.tol);
+    let quasi_bound = bp.ends[1].condition == Condition::Decaying || req.problem == Problem::QuasiBound;
+    let numbering = (opts.guess.is_none() && bp.ends[1].condition != Condition::Decaying).then_some(
+        "no --guess: the modes are the distinct roots reached from a scan of the complex plane, numbered by |Im ω|; a mode the scan missed would shift the numbering",
+    );
+    EndsReport { problem: bp, modes, note, numbering, quasi_bound }
+}
+
+/// Quasinormal modes by the exact recurrence's continued fraction, checked
+/// by direct integration; or the barrier-top estimates when asked for.
+fn recurrence_route(
+    red: &Reduction,
+    req: &SpectrumRequest,
+    opts: &SpectrumOptions,
+    eikonal: Option<(String, usize, Reduction)>,
+) -> Result<(Body, Option<ModeFunctions>)> {
+    let (rec, setup0) = super::spectrum::qnm_recurrence(red, opts)?;
+    let estimates = super::spectrum::barrier_estimates(red, opts, setup0.horizon_value, req.wkb_order).ok();
+    if matches!(req.method, Method::Wkb | Method::Eikonal) {
+        let Some(est) = &estimates else {
+            return Err(usage("no potential barrier could be built for WKB: the equation has no rational tortoise coordinate"));
+        };
+        let limit = match eikonal {
+            Some((name, i, ered)) => {
+                let (v, h) = super::spectrum::barrier_potential(&ered, opts)?;
+                let e = super::wkb::try_eikonal_limit(&ered.field, &v, &h, &opts.values, Some(opts.freq), (setup0.horizon_value, f64::INFINITY), i)
+                    .map_err(|e| e.in_option("--eikonal-param"))?;
+                Some((name, e, opts.values[i].to_f64().0))
+            }
+            None => None,
+        };
+        let rows = (opts.overtones.0..=opts.overtones.1).map(|n| (n, est(n))).collect();
+        return Ok((Body::Estimates(EstimateReport { wkb: req.method == Method::Wkb, order: req.wkb_order, limit, rows }), None));
+    }
+    // Seeds only from estimates in the lower half-plane (wkb.rs: WkbSeries::seed).
+    let estimate = |n: u32| -> Option<(Complex64, String)> { estimates.as_ref().and_then(|e| e(n)).and_then(|b| b.series.seed()) };
+    let (mut modes, setup) = super::spectrum::qnm_modes_from(&rec, setup0.clone(), opts, &estimate)?;
+    let wkb = modes.iter().map(|m| estimates.as_ref().and_then(|e| e(m.n)).map(|b| b.series.omega())).collect();
+    let notes = super::spectrum::degenerate_notes(&rec, &setup, opts, &modes);
+    // The independent check: direct integration, seeded 1e-4 away from the
+    // continued-fraction root (or, with Method::Integrate, from the seed).
+    let integ = super::spectrum::integration_check(red, opts, &setup).ok();
+    let mut checks: Vec<Option<IntRoot>> = Vec::new();
+    for m in modes.iter_mut() {
+        let check = match &integ {
+            Some(f) if m.method == "cf" && req.method == Method::Integrate => {
+                let r = f(m.seed.0);
+                m.root.omega = r.omega;
+                m.root.converged = r.converged;
+                m.root.residual = r.residual;
+                m.root.iterations = r.iterations;
+                m.root.depth = 0;
+                m.root.depth_change = f64::NAN;
+                if !r.converged {
+                    m.root.stop = super::cf::StopReason::Rejected(r.reason.clone());
+                }
+                m.method = "integrate";
+                None
+            }
+            Some(f) if m.method == "cf" && m.root.converged => Some(f(m.root.omega * Complex64::new(1.0 + 1e-4, 1e-4))),
+            _ => None,
+        };
+        checks.push(check);
+    }
+    let functions = match req.mode_functions {
+        Some(reach) => {
+            // The unknown itself, from the horizon's Frobenius series with unit leading coefficient.
+            let pb = super::scatter::problem(red, opts, &setup)?;
+            let fs = modes
+                .iter()
+                .filter(|m| m.root.converged)
+                .map(|m| {
+                    let w = m.root.omega;
+                    (m.n, w, super::modefn::horizon_mode_function(&pb.ode, pb.near, pb.rho_at(w), w, reach, 400))
+                })
+                .collect();
+            Some(ModeFunctions { normalisation: "the unknown, with unit leading coefficient of its Frobenius series at the horizon", modes: fs })
+        }
+        None => None,
+    };
+    Ok((Body::Recurrence(RecurrenceReport { setup, modes, checks, wkb, wkb_order: req.wkb_order, coupled: None, notes }), functions))
+}
+
+/// Bound states by collocation on the interval between the real singular
+/// points (or the half line / line when infinity is the only other end),
+/// each converged eigenvalue refined by shooting as its check.
+fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) -> Result<(BoundReport, Option<ModeFunctions>)> {
+    use super::collocation::{bound_problem, try_bound_states};
+    use super::shoot::{refine, try_bound_ode};
+    if !matches!(req.method, Method::Auto | Method::Collocation) {
+        return Err(method_error(
+            "--boundary bound computes bound states by collocation (--method auto or collocation); shooting runs as the check of every eigenvalue",
+        ));
+    }
+    let k = &red.field;
+    let (domain, threshold) = bound_problem(red, opts.freq, &opts.values)?;
+    let count = opts.overtones.1 as usize + 1;
+    let states = try_bound_states(k, &red.normal.q, opts.freq, &opts.values, domain, 4.0, count, opts.tol.max(1e-13), threshold)?;
+    let states: Vec<BoundState> = states.into_iter().filter(|s| s.n >= opts.overtones.0).collect();
+    // The second method: Muller on the shooting mismatch, seeded by each
+    // converged collocation value (the value itself stays primary).
+    let ode = try_bound_ode(k, &red.normal.q, &opts.values, opts.freq);
+    let checks: Vec<Option<BoundCheck>> = states
+        .iter()
+        .map(|s| {
+            s.converged.then(|| match &ode {
+                Ok(o) => refine(o, domain, s, opts.tol.max(1e-12)),
+                Err(e) => BoundCheck::Unavailable(e.to_string()),
+            })
+        })
+        .collect();
+    let functions = match (&req.mode_functions, &ode) {
+        (Some(_), Ok(o)) => {
+            // The normal form's ψ at the refined (shooting) value where it agrees, else the collocation value.
+            let fs = states
+                .iter()
+                .zip(&checks)
+                .filter(|(s, _)| s.converged)
+                .map(|(s, c)| {
+                    let e = match c {
+                        Some(BoundCheck::Agrees(r)) => r.omega,
+                        _ => s.value,
+                    };
+                    (s.n, e, super::modefn::bound_mode_function(o, domain, e, 24))
+                })
+                .collect();
+            Some(ModeFunctions { normalisation: "the normal form's psi, with the integral of |psi|^2 equal to 1, real and positive next to the first end", modes: fs })
+        }
+        _ => None,
+    };
+    Ok((BoundReport { domain, threshold, states, checks }, functions))
+}
+
+/// Quasinormal modes of a radial equation coupled to an angular one.
+fn coupled(red: &Reduction, req: &SpectrumRequest, c: &CoupleRequest, opts: &SpectrumOptions) -> Result<RecurrenceReport> {
+    let fixed: Vec<(String, GRat)> = req.values.iter().map(|(n, v, _)| (n.clone(), v.clone())).collect();
+    let coupling = super::coupled::try_coupling(&red.field, &c.angular, &c.links, &fixed, opts.freq, c.index, c.guess).map_err(in_angular)?;
+    let none = |_: u32| None;
+    let (setup, found) = super::coupled::coupled_spectrum(red, &coupling, opts, true, &none)?;
+    Ok(RecurrenceReport {
+        setup,
+        modes: found.iter().map(|c| c.mode.clone()).collect(),
+        checks: found.iter().map(|c| c.check.clone()).collect(),
+        wkb: found.iter().map(|_| None).collect(),
+        wkb_order: req.wkb_order,
+        coupled: Some(CoupledReport {
+            name: c.name.clone(),
+            angular: coupling.angular,
+            links: c.link_texts.iter().map(|t| t.trim().to_string()).collect(),
+            values: found.iter().map(|c| c.angular.clone()).collect(),
+        }),
+        notes: Vec::new(),
+    })
+}
+
+/// The marker of an error in the angular equation's own text: the caller
+/// renders errors whose origin is this option against that text.
+pub const ANGULAR_ORIGIN: &str = "--couple";
+
+/// Marks an error of the angular equation (its span points into that equation's text).
+fn in_angular(e: Error) -> Error {
+    if e.origin == crate::error::Origin::Input {
+        e.in_option(ANGULAR_ORIGIN)
+    } else {
+        e
+    }
+}
