@@ -170,7 +170,8 @@ pub(crate) fn region_modes(
     };
     let mirror_note = "a mode with Re ω < 0 at −ω̄ of another is its mirror image: listed right after its partner, with the partner's number";
     let re_ = |v: f64| fmt_num(v);
-    let region_text = format!("Re {fname} in [{}, {}], Im {fname} in [{}, {}]", re_(region.re.0), re_(region.re.1), re_(region.im.0), re_(region.im.1));
+    let region_text =
+        format!("Re {fname} in [{}, {}], Im {fname} in [{}, {}]", re_(region.re.0), re_(region.re.1), re_(region.im.0), re_(region.im.1));
     match format {
         SpecFormat::Json => {
             let ms: Vec<serde_json::Value> = rows
@@ -192,8 +193,7 @@ pub(crate) fn region_modes(
                     })
                 })
                 .collect();
-            let rej: Vec<serde_json::Value> =
-                rejected.iter().map(|(w, why)| serde_json::json!({"spectral": [w.re, w.im], "reason": why})).collect();
+            let rej: Vec<serde_json::Value> = rejected.iter().map(|(w, why)| serde_json::json!({"spectral": [w.re, w.im], "reason": why})).collect();
             let v = serde_json::json!({
                 "frequency": fname,
                 "region": {"re": [region.re.0, region.re.1], "im": [region.im.0, region.im.1]},
@@ -205,7 +205,8 @@ pub(crate) fn region_modes(
             Ok(format!("{}\n", serde_json::to_string_pretty(&v).unwrap_or_default()))
         }
         SpecFormat::Csv => {
-            let mut o = String::from("family,n,mirror_of,re,im,found_by,spectral_re,spectral_im,polished_by,polish_distance,check_method,check_difference\n");
+            let mut o =
+                String::from("family,n,mirror_of,re,im,found_by,spectral_re,spectral_im,polished_by,polish_distance,check_method,check_difference\n");
             for r in &rows {
                 let (cm, cd) = match r.check {
                     Some((m, w)) => (m.to_string(), format!("{:.3e}", (w - r.omega).norm())),
@@ -248,7 +249,9 @@ pub(crate) fn region_modes(
             if rows.is_empty() {
                 o.push_str("  no modes in this region\n");
             } else {
-                o.push_str("  family            n  omega                                        found (spectral)  polished by  check by the other method\n");
+                o.push_str(
+                    "  family            n  omega                                        found (spectral)  polished by  check by the other method\n",
+                );
                 for r in &rows {
                     let label = match r.mirror_of {
                         Some(_) => "  mirror".to_string(),

@@ -164,12 +164,7 @@ impl Affine {
 
 /// Fits v(ω) = c₀ + c₁ω through two real frequencies and checks it at a
 /// third, complex one against `both` (the two branches there).
-fn fit(
-    scale: f64,
-    pick: &dyn Fn(Complex64) -> Option<Complex64>,
-    both: &dyn Fn(Complex64) -> Option<[Complex64; 2]>,
-    what: &str,
-) -> Result<Affine> {
+fn fit(scale: f64, pick: &dyn Fn(Complex64) -> Option<Complex64>, both: &dyn Fn(Complex64) -> Option<[Complex64; 2]>, what: &str) -> Result<Affine> {
     let (w1, w2, w3) = (cx(0.6 * scale), cx(1.4 * scale), Complex64::new(0.9, -0.7) * scale);
     let no = || usage(format!("{what} could not be evaluated"));
     let (v1, v2) = (pick(w1).ok_or_else(no)?, pick(w2).ok_or_else(no)?);
@@ -472,8 +467,9 @@ fn grid_eigenvalues(r: &Remainder, n: usize, sigma: Complex64) -> Result<Vec<Com
     }
     let t = &a - &b * sigma;
     let kmat = t.lu().solve(&b).ok_or_else(|| grid_failure(n, "the shifted matrix is singular (the shift is an eigenvalue)"))?;
-    let theta = crate::analysis::numeric::try_eigenvalues(&kmat)
-        .ok_or_else(|| grid_failure(n, &format!("the eigenvalue iteration stopped at its limit of {} steps", crate::analysis::numeric::qr_limit(size))))?;
+    let theta = crate::analysis::numeric::try_eigenvalues(&kmat).ok_or_else(|| {
+        grid_failure(n, &format!("the eigenvalue iteration stopped at its limit of {} steps", crate::analysis::numeric::qr_limit(size)))
+    })?;
     let top = theta.iter().map(|t| t.norm()).fold(0.0, f64::max);
     Ok(theta
         .into_iter()
@@ -579,11 +575,8 @@ pub const TURN: f64 = 0.6 * std::f64::consts::PI;
 /// (with the negative imaginary axis) turned by +TURN, the lower left one by −TURN.
 fn sectors(bp: &BoundaryProblem) -> Vec<(f64, Region)> {
     let big = 1e300;
-    let (up, right, left) = (
-        Region { re: (-big, big), im: (0.0, big) },
-        Region { re: (0.0, big), im: (-big, 0.0) },
-        Region { re: (-big, 0.0), im: (-big, 0.0) },
-    );
+    let (up, right, left) =
+        (Region { re: (-big, big), im: (0.0, big) }, Region { re: (0.0, big), im: (-big, 0.0) }, Region { re: (-big, 0.0), im: (-big, 0.0) });
     if bp.ends[1].nature == Nature::IrregularRank1 && bp.ends[1].location == Location::Infinity {
         vec![(0.0, up), (TURN, right), (-TURN, left)]
     } else {

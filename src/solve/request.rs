@@ -398,7 +398,8 @@ pub struct RegionSetup {
 /// plane (quasinormal modes and quasi-bound states; no coupled solve).
 pub fn region_setup(red: &Reduction, req: &SpectrumRequest) -> Result<RegionSetup> {
     if req.couple.is_some() || req.problem == Problem::Bound {
-        return Err(usage("--region searches quasinormal modes and quasi-bound states of one equation (no --couple, no --boundary bound)").in_option("--region"));
+        return Err(usage("--region searches quasinormal modes and quasi-bound states of one equation (no --couple, no --boundary bound)")
+            .in_option("--region"));
     }
     let (freq, frequency) = frequency(red, req)?;
     let point = point(red, req, freq)?;
