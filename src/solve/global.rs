@@ -22,7 +22,11 @@
 //! polynomial eigenvalue problem. Its companion linearisation A z = ω B z
 //! (z = (v, ωv, …)) is solved by shift and invert, (A − σB)⁻¹B z = z/(ω − σ),
 //! with nalgebra's LU and Schur decompositions (infinite eigenvalues of the
-//! pencil go to 0 and are dropped). An eigenvalue is kept only when the grid
+//! pencil go to 0 and are dropped). nalgebra, already a dependency, has no
+//! QZ for the pencil; shift and invert about a point where the pencil is well
+//! conditioned (in the part of the plane being solved, where the complex
+//! scaling below makes the unwanted solutions non-smooth) needs none, and
+//! adds no crate to the build. An eigenvalue is kept only when the grid
 //! of N and of ⌊3N/2⌋ intervals both have it, to the stated tolerance,
 //! each as the other's nearest: eigenvalues of the discretisation that are
 //! not eigenvalues of the problem move when the grid changes and never
