@@ -169,6 +169,7 @@ pub(crate) fn region_modes(
         method
     };
     let mirror_note = "a mode with Re ω < 0 at −ω̄ of another is its mirror image: listed right after its partner, with the partner's number";
+    let depth_note = "in double precision the discretised problem is very non-normal and only the least damped modes persist on both grids: a region reaching deep into the lower half-plane may hold further, more damped modes that are not listed (ask for them with --overtones)";
     let re_ = |v: f64| fmt_num(v);
     let region_text =
         format!("Re {fname} in [{}, {}], Im {fname} in [{}, {}]", re_(region.re.0), re_(region.re.1), re_(region.im.0), re_(region.im.1));
@@ -198,7 +199,7 @@ pub(crate) fn region_modes(
                 "frequency": fname,
                 "region": {"re": [region.re.0, region.re.1], "im": [region.im.0, region.im.1]},
                 "method": method,
-                "notes": bp.notes.iter().cloned().chain(std::iter::once(mirror_note.to_string())).collect::<Vec<_>>(),
+                "notes": bp.notes.iter().cloned().chain([mirror_note.to_string(), depth_note.to_string()]).collect::<Vec<_>>(),
                 "modes": ms,
                 "not_confirmed": rej,
             });
@@ -245,7 +246,8 @@ pub(crate) fn region_modes(
                 o.push_str(&format!("  note: {n}\n"));
             }
             o.push_str(&format!("  found by: {method}\n"));
-            o.push_str(&format!("  note: {mirror_note}\n\n"));
+            o.push_str(&format!("  note: {mirror_note}\n"));
+            o.push_str(&format!("  note: {depth_note}\n\n"));
             if rows.is_empty() {
                 o.push_str("  no modes in this region\n");
             } else {
