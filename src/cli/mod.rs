@@ -13,6 +13,7 @@ mod options;
 mod record;
 mod recurrence;
 mod reduce;
+mod region;
 mod scan;
 mod table;
 mod scatter;

@@ -131,6 +131,13 @@ pub(crate) struct SpectrumArgs {
     /// A seed for the lowest overtone, e.g. '0.37-0.09i'.
     #[arg(long = "guess", value_name = "VALUE", allow_hyphen_values = true)]
     guess: Option<String>,
+    /// Every mode in a rectangle of the complex plane, 'RE0..RE1,IM0..IM1' (no --guess needed): found by the
+    /// global spectral method, each polished by the continued fraction or direct integration and checked by the other.
+    #[arg(long = "region", value_name = "RE0..RE1,IM0..IM1", allow_hyphen_values = true)]
+    pub(crate) region: Option<String>,
+    /// With --region: intervals of the global method's coarser Chebyshev grid (the finer one has half as many again).
+    #[arg(long = "grid", value_name = "N", default_value_t = crate::solve::global::DEFAULT_GRID)]
+    pub(crate) grid: usize,
     /// Relative tolerance on ω.
     #[arg(long = "tol", default_value_t = 1e-10)]
     tol: f64,
@@ -264,6 +271,9 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         None => (None, None),
     };
     let req = request(a, overtones, guess, couple)?;
+    if let Some(text) = &a.region {
+        return super::region::region_modes(text, a.grid, a.format, &src.name, &red, &req);
+    }
     let report = crate::solve::request::spectrum(&red, &req).map_err(|e| match (&e.origin, &asrc) {
         // Errors of the angular equation are rendered against its own text.
         (Origin::Option(o), Some(asrc)) if o == ANGULAR_ORIGIN => {

@@ -57,7 +57,7 @@ fn usage(msg: impl Into<String>) -> Error {
 }
 
 /// Chebyshev points x_j = cos(πj/N) and the differentiation matrix (Trefethen 2000, `cheb`).
-fn cheb(n: usize) -> (Vec<f64>, DMatrix<f64>) {
+pub(super) fn cheb(n: usize) -> (Vec<f64>, DMatrix<f64>) {
     let x: Vec<f64> = (0..=n).map(|j| (std::f64::consts::PI * j as f64 / n as f64).cos()).collect();
     let c = |j: usize| if j == 0 || j == n { 2.0 } else { 1.0 } * if j.is_multiple_of(2) { 1.0 } else { -1.0 };
     let mut d = DMatrix::<f64>::zeros(n + 1, n + 1);

@@ -73,7 +73,7 @@ fn at_infinity_chart(k: &Coeffs) -> Coeffs {
 
 /// The branch at an irregular infinity of rank 1 obeying `cond`: (μ, ν)
 /// with y ~ e^(μz) z^ν.
-fn far_branch(k: &Coeffs, cond: Condition, w: Complex64) -> Result<(Complex64, Complex64), String> {
+pub(super) fn far_branch(k: &Coeffs, cond: Condition, w: Complex64) -> Result<(Complex64, Complex64), String> {
     let n = k.a.len() - 1;
     let g = |v: &[Complex64], j: usize| v.get(j).copied().unwrap_or(ZERO);
     let (an, bn, cn) = (k.a[n], g(&k.b, n), g(&k.c, n));

@@ -10,6 +10,7 @@ pub mod wkb;
 
 pub mod boundary;
 pub mod ends;
+pub mod global;
 pub mod integrate;
 pub mod modefn;
 pub mod roots;

@@ -337,22 +337,20 @@ pub fn spectrum(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport
             "--method collocation computes bound states (with --boundary bound); quasinormal modes use auto, cf, integrate, wkb or eikonal",
         ));
     }
-    let kind = match req.problem {
-        Problem::Quasinormal => SpectrumKind::Quasinormal,
-        Problem::QuasiBound => SpectrumKind::QuasiBound,
-        Problem::Bound => SpectrumKind::Bound,
-    };
-    let problem = super::boundary::try_problem(&red.field, &red.normal.q, &red.q, &point, freq, kind, req.ends);
-    // The exact recurrence route covers problems from a horizon that do not
-    // end at a regular infinity, with the default conditions.
-    let classic = kind == SpectrumKind::Quasinormal
-        && req.ends.is_none()
-        && problem.as_ref().map_or(true, |bp| {
-            use super::boundary::Nature;
-            bp.ends[0].nature == Nature::Horizon && !(bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::Regular)
-        });
+    let kind = spectrum_kind(req.problem);
+    let (problem, classic) = boundary_problem(&red, req, &point, freq);
     if classic {
         match recurrence_route(&red, req, &opts, eikonal) {
+            // No estimate seeds an overtone: the global spectral method does.
+            Err(e) if opts.guess.is_none() && e.message.starts_with(super::spectrum::NO_SEED) && problem.is_ok() => {
+                let seeds = problem.as_ref().map(|bp| super::global::seeds(bp, opts.overtones)).unwrap_or_default();
+                if seeds.is_empty() {
+                    return Err(e);
+                }
+                let opts = SpectrumOptions { seeds, ..opts.clone() };
+                let (body, f) = recurrence_route(&red, req, &opts, None)?;
+                return Ok(report(body, f));
+            }
             Err(e) if e.kind == ErrorKind::Usage && problem.is_ok() && req.method == Method::Auto => {
                 let bp = problem?;
                 let note = format!("the continued fraction could not be set up ({}); direct integration between the ends instead", e.message);
@@ -370,6 +368,59 @@ pub fn spectrum(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport
         return Err(usage("a bound-state problem between given ends cannot end at a horizon (its exponents depend on the eigenvalue): use --boundary qnm or quasi-bound").in_option("--ends"));
     }
     Ok(report(Body::Ends(between_ends(bp, req, &opts, None)), None))
+}
+
+/// The boundary problem of a (substituted) reduction, and whether the exact
+/// recurrence route applies: it covers quasinormal modes from a horizon that
+/// do not end at a regular infinity, with the default conditions.
+fn boundary_problem(red: &Reduction, req: &SpectrumRequest, point: &[GRat], freq: usize) -> (Result<BoundaryProblem>, bool) {
+    let kind = spectrum_kind(req.problem);
+    let problem = super::boundary::try_problem(&red.field, &red.normal.q, &red.q, point, freq, kind, req.ends);
+    let classic = kind == SpectrumKind::Quasinormal
+        && req.ends.is_none()
+        && problem.as_ref().map_or(true, |bp| {
+            use super::boundary::Nature;
+            bp.ends[0].nature == Nature::Horizon && !(bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::Regular)
+        });
+    (problem, classic)
+}
+
+/// The boundary problem's kind of spectrum for a requested one.
+fn spectrum_kind(p: Problem) -> SpectrumKind {
+    match p {
+        Problem::Quasinormal => SpectrumKind::Quasinormal,
+        Problem::QuasiBound => SpectrumKind::QuasiBound,
+        Problem::Bound => SpectrumKind::Bound,
+    }
+}
+
+/// What the global spectral method over a region works on.
+pub struct RegionSetup {
+    /// The reduction with every parameter but the frequency substituted.
+    pub red: Reduction,
+    /// The frequency's name.
+    pub frequency: String,
+    /// The options (frequency index, values, tolerance).
+    pub opts: SpectrumOptions,
+    /// The boundary problem.
+    pub problem: BoundaryProblem,
+    /// Whether the exact recurrence (continued fraction) applies.
+    pub classic: bool,
+}
+
+/// The set-up of [`spectrum`] for a search over a region of the complex
+/// plane (quasinormal modes and quasi-bound states; no coupled solve).
+pub fn region_setup(red: &Reduction, req: &SpectrumRequest) -> Result<RegionSetup> {
+    if req.couple.is_some() || req.problem == Problem::Bound {
+        return Err(usage("--region searches quasinormal modes and quasi-bound states of one equation (no --couple, no --boundary bound)")
+            .in_option("--region"));
+    }
+    let (freq, frequency) = frequency(red, req)?;
+    let point = point(red, req, freq)?;
+    let opts = SpectrumOptions { freq, values: point.clone(), overtones: req.overtones, tol: req.tol, guess: None, seeds: Vec::new() };
+    let red = super::spectrum::substitute(red, &point, freq)?;
+    let (problem, classic) = boundary_problem(&red, req, &point, freq);
+    Ok(RegionSetup { problem: problem?, red, frequency, opts, classic })
 }
 
 /// With an eikonal parameter: its name, index and the equation with every

@@ -28,7 +28,8 @@ pub struct SpectrumOptions {
     pub tol: f64,
     /// A seed for the lowest overtone asked for.
     pub guess: Option<Complex64>,
-    /// Further seeds, one per overtone, used before any other estimate.
+    /// Seeds from the global spectral method ([`super::global`]), one per
+    /// overtone from the lowest asked for, used before any other estimate.
     pub seeds: Vec<Complex64>,
 }
 
@@ -246,6 +247,22 @@ pub fn qnm_modes_from(
     Ok((modes, setup))
 }
 
+/// A continued-fraction root finder on the quasinormal-mode recurrence of
+/// `red` (the recurrence and exponent choices of [`qnm_modes`]): from a seed
+/// and the overtone whose inversion to use, the root nearest the seed.
+pub fn cf_polisher(red: &Reduction, opts: &SpectrumOptions) -> Result<impl Fn(u32, Complex64) -> CfRoot> {
+    let (rec, setup) = qnm_recurrence(red, opts)?;
+    if rec.coeffs.len() < 3 {
+        return Err(usage(format!("the recurrence about {} has {} terms: no continued fraction", setup.horizon, rec.coeffs.len())));
+    }
+    let num = try_numeric(&rec, &recurrence_values(&setup, opts), opts.freq)?;
+    let tol = opts.tol;
+    Ok(move |n: u32, seed: Complex64| find_root(&num, n as usize, seed, tol, 64, 1 << 17))
+}
+
+/// The start of the error of [`overtones`] when an overtone has no seed.
+pub const NO_SEED: &str = "no seed for overtone";
+
 /// The values of the recurrence's field: the equation's parameters at their
 /// values (the recurrence's field is (n, params…[, θ]), the equation's
 /// indices, θ last), and the adjoined root's value when there is one.
@@ -273,7 +290,7 @@ pub fn overtones(
     for n in opts.overtones.0..=opts.overtones.1 {
         let idx = (n - opts.overtones.0) as usize;
         let seed = if let Some(s) = opts.seeds.get(idx) {
-            (*s, "given".to_string())
+            (*s, "the global spectral method (an eigenvalue two Chebyshev grids agree on)".to_string())
         } else if n == opts.overtones.0 && opts.guess.is_some() {
             (opts.guess.expect("checked"), "the given guess".to_string())
         } else if let Some((a, b)) = last_two_converged(&modes) {
@@ -296,7 +313,7 @@ pub fn overtones(
         } else if let Some(last) = modes.iter().rev().find(|m| m.root.converged) {
             (last.root.omega - Complex64::new(0.0, 2.0 * last.root.omega.im.abs().max(0.05)), "below the previous overtone".to_string())
         } else {
-            return Err(usage(format!("no seed for overtone {n}: give --guess")));
+            return Err(usage(format!("{NO_SEED} {n}: give --guess")));
         };
         let mut root = solve(n, seed.0);
         // A root in the left half-plane is the mirror −ω̄ of a mode when the

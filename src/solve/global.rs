@@ -1,0 +1,688 @@
+//! Every eigenvalue in a region at once, with no seed: a global spectral
+//! method on any [`BoundaryProblem`].
+//!
+//! The behaviour chosen at each end is factored out of ψ with its
+//! ω-dependence: the exponent ρ(ω) at a finite end, the power σ at a regular
+//! infinity, and e^(μ(ω) z) z^ν(ω) at an irregular infinity of rank 1. Each
+//! must be affine in ω (the exponents of horizons and of massless fields
+//! are); otherwise the method says so and stops. The domain is mapped onto
+//! x ∈ [−1, 1]: linearly between two finite ends, and by the Möbius map
+//! z = a + L(1 + x)/(1 − x) from a finite end to infinity, with L the
+//! distance from a to the nearest other singular point, so that the
+//! auxiliary point c = a − L, where the power at infinity is anchored
+//! ((z − c)^(σ − ρ)), is sent to x = ∞ and adds no singularity to the
+//! remainder φ. The equation for φ is cleared of denominators exactly (as
+//! polynomials in x whose coefficients are polynomials in ω) and the common
+//! factors that vanish at the two ends are divided out, so that the
+//! equation stays non-trivial there and itself selects the regular
+//! remainder (the other solution is not smooth at the end).
+//!
+//! Chebyshev collocation on the Gauss–Lobatto points (L. N. Trefethen,
+//! Spectral Methods in MATLAB, 2000) then gives Σ_d ω^d M_d v = 0, a
+//! polynomial eigenvalue problem. Its companion linearisation A z = ω B z
+//! (z = (v, ωv, …)) is solved by shift and invert, (A − σB)⁻¹B z = z/(ω − σ),
+//! with nalgebra's LU and Schur decompositions (infinite eigenvalues of the
+//! pencil go to 0 and are dropped). nalgebra, already a dependency, has no
+//! QZ for the pencil; shift and invert about a point where the pencil is well
+//! conditioned (in the part of the plane being solved, where the complex
+//! scaling below makes the unwanted solutions non-smooth) needs none, and
+//! adds no crate to the build. An eigenvalue is kept only when the grid
+//! of N and of ⌊3N/2⌋ intervals both have it, to the stated tolerance,
+//! each as the other's nearest: eigenvalues of the discretisation that are
+//! not eigenvalues of the problem move when the grid changes and never
+//! reach the output. Each kept value can then be polished by direct
+//! integration between the ends ([`super::ends::find_root`]).
+
+use super::boundary::{exponent_slopes, exponents_at, BoundaryProblem, Condition, Location, Nature};
+use super::integrate::{Coeffs, IntRoot};
+use crate::error::{Error, ErrorKind, Result};
+use nalgebra::DMatrix;
+use num_complex::Complex64;
+
+const ZERO: Complex64 = Complex64::new(0.0, 0.0);
+
+fn usage(msg: impl Into<String>) -> Error {
+    Error::new(ErrorKind::Usage, msg)
+}
+
+fn cx(x: f64) -> Complex64 {
+    Complex64::new(x, 0.0)
+}
+
+/// A polynomial in one variable s whose coefficients are polynomials in ω:
+/// `0[i][j]` multiplies sⁱ ωʲ.
+#[derive(Clone, Debug, Default)]
+struct Bi(Vec<Vec<Complex64>>);
+
+impl Bi {
+    /// A polynomial in s with coefficients free of ω (low degree first).
+    fn in_s(c: &[Complex64]) -> Bi {
+        Bi(c.iter().map(|x| vec![*x]).collect())
+    }
+    /// v₀ + v₁ω, constant in s.
+    fn affine(v: Affine) -> Bi {
+        Bi(vec![vec![v.c0, v.c1]])
+    }
+    fn get(&self, i: usize, j: usize) -> Complex64 {
+        self.0.get(i).and_then(|r| r.get(j)).copied().unwrap_or(ZERO)
+    }
+    fn deg_s(&self) -> usize {
+        self.0.len().saturating_sub(1)
+    }
+    fn deg_w(&self) -> usize {
+        self.0.iter().map(|r| r.len()).max().unwrap_or(1).saturating_sub(1)
+    }
+    fn add(&self, o: &Bi) -> Bi {
+        let (ns, nw) = (self.0.len().max(o.0.len()), self.deg_w().max(o.deg_w()) + 1);
+        Bi((0..ns).map(|i| (0..nw).map(|j| self.get(i, j) + o.get(i, j)).collect()).collect())
+    }
+    fn mul(&self, o: &Bi) -> Bi {
+        if self.0.is_empty() || o.0.is_empty() {
+            return Bi::default();
+        }
+        let (ns, nw) = (self.deg_s() + o.deg_s() + 1, self.deg_w() + o.deg_w() + 1);
+        let mut out = vec![vec![ZERO; nw]; ns];
+        for (i, r) in self.0.iter().enumerate() {
+            for (j, x) in r.iter().enumerate() {
+                for (k, q) in o.0.iter().enumerate() {
+                    for (l, y) in q.iter().enumerate() {
+                        out[i + k][j + l] += x * y;
+                    }
+                }
+            }
+        }
+        Bi(out)
+    }
+    fn scale(&self, k: Complex64) -> Bi {
+        Bi(self.0.iter().map(|r| r.iter().map(|x| x * k).collect()).collect())
+    }
+    /// d/ds.
+    fn deriv(&self) -> Bi {
+        Bi(self.0.iter().enumerate().skip(1).map(|(i, r)| r.iter().map(|x| x * i as f64).collect()).collect())
+    }
+    /// sᵏ · self.
+    fn shift_up(&self, k: usize) -> Bi {
+        let nw = self.deg_w() + 1;
+        let mut v = vec![vec![ZERO; nw]; k];
+        v.extend(self.0.iter().cloned());
+        Bi(v)
+    }
+    /// self(g(s)) for g free of ω (Horner).
+    fn compose(&self, g: &Bi) -> Bi {
+        let mut acc = Bi::default();
+        for r in self.0.iter().rev() {
+            acc = acc.mul(g).add(&Bi(vec![r.clone()]));
+        }
+        acc
+    }
+    /// The largest coefficient's modulus.
+    fn size(&self) -> f64 {
+        self.0.iter().flatten().map(|x| x.norm()).fold(0.0, f64::max)
+    }
+    /// The coefficients of ωʲ at s.
+    fn at(&self, s: f64) -> Vec<Complex64> {
+        let nw = self.deg_w() + 1;
+        (0..nw).map(|j| self.0.iter().rev().fold(ZERO, |acc, r| acc * s + r.get(j).copied().unwrap_or(ZERO))).collect()
+    }
+    /// The quotient by (s − s₀) and the largest remainder (one per ω power).
+    #[allow(clippy::needless_range_loop)]
+    fn divide(&self, s0: f64) -> (Bi, f64) {
+        let nw = self.deg_w() + 1;
+        let n = self.0.len();
+        if n == 0 {
+            return (Bi::default(), 0.0);
+        }
+        let mut q = vec![vec![ZERO; nw]; n.saturating_sub(1)];
+        let mut rem = 0.0f64;
+        for j in 0..nw {
+            let mut carry = ZERO;
+            for i in (0..n).rev() {
+                let v = self.get(i, j) + carry * s0;
+                if i == 0 {
+                    rem = rem.max(v.norm());
+                } else {
+                    q[i - 1][j] = v;
+                }
+                carry = v;
+            }
+        }
+        (Bi(q), rem)
+    }
+}
+
+/// A quantity affine in ω: c₀ + c₁ω.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Affine {
+    /// The value at ω = 0.
+    pub c0: Complex64,
+    /// The slope.
+    pub c1: Complex64,
+}
+
+impl Affine {
+    /// The value at ω.
+    pub fn at(self, w: Complex64) -> Complex64 {
+        self.c0 + self.c1 * w
+    }
+}
+
+/// Fits v(ω) = c₀ + c₁ω through two real frequencies and checks it at a
+/// third, complex one against `both` (the two branches there).
+fn fit(scale: f64, pick: &dyn Fn(Complex64) -> Option<Complex64>, both: &dyn Fn(Complex64) -> Option<[Complex64; 2]>, what: &str) -> Result<Affine> {
+    let (w1, w2, w3) = (cx(0.6 * scale), cx(1.4 * scale), Complex64::new(0.9, -0.7) * scale);
+    let no = || usage(format!("{what} could not be evaluated"));
+    let (v1, v2) = (pick(w1).ok_or_else(no)?, pick(w2).ok_or_else(no)?);
+    let c1 = (v2 - v1) / (w2 - w1);
+    let f = Affine { c0: v1 - c1 * w1, c1 };
+    let pred = f.at(w3);
+    let [a, b] = both(w3).ok_or_else(no)?;
+    let off = (a - pred).norm().min((b - pred).norm());
+    if off.is_nan() || off > 1e-7 * (1.0 + pred.norm()) {
+        return Err(usage(format!(
+            "{what} is not affine in the spectral parameter (off by {off:.1e} at a test value): the global spectral method needs it affine"
+        )));
+    }
+    Ok(f)
+}
+
+/// The behaviour factored out at the ends.
+#[derive(Clone, Debug)]
+pub struct Factors {
+    /// The exponent at the left end.
+    pub left: Affine,
+    /// The exponent (finite right end) or the power σ of z at infinity.
+    pub right: Affine,
+    /// μ of e^(μz) at an irregular infinity.
+    pub exp_rate: Option<Affine>,
+    /// The map in words.
+    pub map: String,
+}
+
+/// The exponent at a finite end z₀ obeying `cond` at the real frequency w.
+fn finite_pick(bp: &BoundaryProblem, z0: f64, cond: Condition, w: Complex64) -> Option<Complex64> {
+    match cond {
+        Condition::IntoHorizon | Condition::OutOfHorizon => {
+            let (e, s) = exponent_slopes(&bp.ode, z0, w)?;
+            let into = if s[0].im <= s[1].im { 0 } else { 1 };
+            Some(if cond == Condition::IntoHorizon { e[into] } else { e[1 - into] })
+        }
+        Condition::Normalisable | Condition::SlowerFallOff => {
+            let e = exponents_at(&bp.ode, z0, w)?;
+            let big = if e[0].re >= e[1].re { 0 } else { 1 };
+            Some(if cond == Condition::Normalisable { e[big] } else { e[1 - big] })
+        }
+        Condition::Outgoing | Condition::Decaying => None,
+    }
+}
+
+/// The powers σ of ψ ~ z^σ at a regular infinity: σ(σ − 1) + b σ + q = 0
+/// with b = lim zB/A, q = lim z²C/A.
+fn infinity_powers(bp: &BoundaryProblem, w: Complex64) -> Option<[Complex64; 2]> {
+    let a = bp.ode.a.at_omega(w);
+    let da = a.iter().rposition(|x| x.norm() > 0.0)?;
+    let top = a[da];
+    let b = bp.ode.b.at_omega(w);
+    let c = bp.ode.c.at_omega(w);
+    let bb = if da >= 1 { b.get(da - 1).copied().unwrap_or(ZERO) / top } else { ZERO };
+    let q = if da >= 2 { c.get(da - 2).copied().unwrap_or(ZERO) / top } else { ZERO };
+    // σ² + (b − 1)σ + q = 0
+    let s = ((bb - 1.0) * (bb - 1.0) - 4.0 * q).sqrt();
+    Some([(-(bb - 1.0) + s) / 2.0, (-(bb - 1.0) - s) / 2.0])
+}
+
+/// Factors out the chosen behaviour at both ends (each affine in ω).
+pub fn factors(bp: &BoundaryProblem) -> Result<Factors> {
+    let s = bp.scale;
+    let [left, right] = &bp.ends;
+    let Location::At(a) = left.location else { return Err(usage("the left end must be finite")) };
+    let lp = |w: Complex64| finite_pick(bp, a, left.condition, w);
+    let lb = |w: Complex64| exponents_at(&bp.ode, a, w);
+    let lf = fit(s, &lp, &lb, "the exponent at the left end")?;
+    let (rf, mu, map) = match (right.location, right.nature) {
+        (Location::At(b), _) => {
+            let rp = |w: Complex64| finite_pick(bp, b, right.condition, w);
+            let rb = |w: Complex64| exponents_at(&bp.ode, b, w);
+            (fit(s, &rp, &rb, "the exponent at the right end")?, None, format!("z = {a} + ({b} − {a})(1 + x)/2"))
+        }
+        (Location::Infinity, Nature::Regular | Nature::Horizon) => {
+            let slower = match right.condition {
+                Condition::Normalisable => false,
+                Condition::SlowerFallOff => true,
+                other => return Err(usage(format!("the condition '{}' does not fit a regular infinity", other.name()))),
+            };
+            // ψ ~ z^σ = t^(−σ): the normalisable fall-off has the larger −σ.
+            let pick = |w: Complex64| {
+                let [p, q] = infinity_powers(bp, w)?;
+                let p_first = (-p).re >= (-q).re;
+                Some(if p_first != slower { p } else { q })
+            };
+            let both = |w: Complex64| infinity_powers(bp, w);
+            (fit(s, &pick, &both, "the power at infinity")?, None, String::new())
+        }
+        (Location::Infinity, Nature::IrregularRank1) => {
+            let cond = right.condition;
+            let branch = |w: Complex64| Coeffs::at(&bp.ode, w).ok().and_then(|k| super::ends::far_branch(&k, cond, w).ok());
+            let mu_pick = |w: Complex64| branch(w).map(|b| b.0);
+            let nu_pick = |w: Complex64| branch(w).map(|b| b.1);
+            let mu_both = |w: Complex64| branch(w).map(|b| [b.0, b.0]);
+            let nu_both = |w: Complex64| branch(w).map(|b| [b.1, b.1]);
+            let mu = fit(s, &mu_pick, &mu_both, "the exponential rate μ at infinity")?;
+            let nu = fit(s, &nu_pick, &nu_both, "the power ν at infinity")?;
+            (nu, Some(mu), String::new())
+        }
+    };
+    let map = if map.is_empty() {
+        let l = anchor_length(bp, a);
+        format!("z = {a} + {l}(1 + x)/(1 − x), the power at infinity anchored at z = {}", a - l)
+    } else {
+        map
+    };
+    Ok(Factors { left: lf, right: rf, exp_rate: mu, map })
+}
+
+/// L of the Möbius map from a finite end a to infinity: the distance from a
+/// to the nearest other zero of A (max(|a|, 1) when there is none).
+fn anchor_length(bp: &BoundaryProblem, a: f64) -> f64 {
+    let near = bp.zeros.iter().map(|z| (z - a).norm()).filter(|d| *d > 1e-9 * a.abs().max(1.0)).fold(f64::INFINITY, f64::min);
+    if near.is_finite() {
+        near
+    } else {
+        a.abs().max(1.0)
+    }
+}
+
+/// The equation for the remainder φ in the collocation variable s:
+/// c₂ φ_xx + c₁ φ_x + c₀ φ = 0 with each c a polynomial in (s, ω), and x(s).
+struct Remainder {
+    c: [Bi; 3],
+    /// s at a collocation point x.
+    s_of_x: fn(f64) -> f64,
+}
+
+fn s_is_x(x: f64) -> f64 {
+    x
+}
+fn s_is_one_minus_x(x: f64) -> f64 {
+    1.0 - x
+}
+
+/// The remainder's coefficients, s(x), and s at the two ends.
+type Chart = ([Bi; 3], fn(f64) -> f64, [f64; 2]);
+
+fn remainder(bp: &BoundaryProblem, f: &Factors, theta: f64) -> Result<Remainder> {
+    let [left, right] = &bp.ends;
+    let Location::At(a) = left.location else { return Err(usage("the left end must be finite")) };
+    let lin = |root: Complex64| Bi::in_s(&[-root, cx(1.0)]); // z − root
+    let (aa, bb, cc) = (Bi(bp.ode.a.c.clone()), Bi(bp.ode.b.c.clone()), Bi(bp.ode.c.c.clone()));
+    // S' = N₁/D₁ (logarithmic derivative of the factored behaviour).
+    let (d1, n1, anchor) = match right.location {
+        Location::At(b) => {
+            let d1 = lin(cx(a)).mul(&lin(cx(b)));
+            let n1 = Bi::affine(f.left).mul(&lin(cx(b))).add(&Bi::affine(f.right).mul(&lin(cx(a))));
+            (d1, n1, None)
+        }
+        Location::Infinity => {
+            // At an irregular infinity the ray runs at the angle θ (complex scaling).
+            let turn = if f.exp_rate.is_some() { Complex64::from_polar(1.0, theta) } else { cx(1.0) };
+            let l = turn * anchor_length(bp, a);
+            let c = a - l;
+            let d1 = lin(cx(a)).mul(&lin(c));
+            let rest = Affine { c0: f.right.c0 - f.left.c0, c1: f.right.c1 - f.left.c1 };
+            let mut n1 = Bi::affine(f.left).mul(&lin(c)).add(&Bi::affine(rest).mul(&lin(cx(a))));
+            if let Some(mu) = f.exp_rate {
+                n1 = n1.add(&Bi::affine(mu).mul(&d1));
+            }
+            (d1, n1, Some((c, l)))
+        }
+    };
+    let d1sq = d1.mul(&d1);
+    let p2 = aa.mul(&d1sq);
+    let p1 = aa.mul(&n1.mul(&d1)).scale(cx(2.0)).add(&bb.mul(&d1sq));
+    let inner = n1.deriv().mul(&d1).add(&n1.mul(&d1.deriv()).scale(cx(-1.0))).add(&n1.mul(&n1));
+    let p0 = aa.mul(&inner).add(&bb.mul(&n1.mul(&d1))).add(&cc.mul(&d1sq));
+    let (mut c, s_of_x, ends): Chart = match anchor {
+        None => {
+            let Location::At(b) = right.location else { return Err(Error::new(ErrorKind::Internal, "finite right end expected")) };
+            let (m, h) = ((a + b) / 2.0, (b - a) / 2.0);
+            let g = Bi::in_s(&[cx(m), cx(h)]);
+            ([p2.compose(&g).scale(cx(1.0 / (h * h))), p1.compose(&g).scale(cx(1.0 / h)), p0.compose(&g)], s_is_x, [-1.0, 1.0])
+        }
+        Some((c0, l)) => {
+            // s = t = 1 − x, z = (c t + 2L)/t; P(z) tⁿ = Σ p_k (c t + 2L)^k t^(n−k).
+            let lift = |p: &Bi| -> (Bi, usize) {
+                let n = p.deg_s();
+                let ct = Bi::in_s(&[2.0 * l, c0]);
+                let mut acc = Bi::default();
+                let mut pow = Bi::in_s(&[cx(1.0)]);
+                for k in 0..=n {
+                    let row = Bi(vec![p.0[k].clone()]);
+                    acc = acc.add(&row.mul(&pow).shift_up(n - k));
+                    pow = pow.mul(&ct);
+                }
+                (acc, n)
+            };
+            let ((r2, n2), (r1, n1d), (r0, n0)) = (lift(&p2), lift(&p1), lift(&p0));
+            let m = (n2 as isize - 3).max(n1d as isize - 2).max(n0 as isize).max(0) as usize;
+            let c2 = r2.shift_up(m + 4 - n2).scale(1.0 / (4.0 * l * l));
+            let c1 = r2.shift_up(m + 3 - n2).scale(-1.0 / (2.0 * l * l)).add(&r1.shift_up(m + 2 - n1d).scale(1.0 / (2.0 * l)));
+            let c0p = r0.shift_up(m - n0);
+            ([c2, c1, c0p], s_is_one_minus_x, [2.0, 0.0])
+        }
+    };
+    // Divide out the factors common to the three coefficients at each end.
+    for s0 in ends {
+        for _ in 0..64 {
+            let size = c.iter().map(|p| p.size()).fold(0.0, f64::max);
+            if size == 0.0 {
+                return Err(usage("the equation for the remainder vanishes identically"));
+            }
+            let vanish = c.iter().all(|p| p.at(s0).iter().all(|v| v.norm() <= 1e-9 * size));
+            if !vanish {
+                break;
+            }
+            let mut worst = 0.0f64;
+            let next: Vec<Bi> = c
+                .iter()
+                .map(|p| {
+                    let (q, r) = p.divide(s0);
+                    worst = worst.max(r);
+                    q
+                })
+                .collect();
+            c = [next[0].clone(), next[1].clone(), next[2].clone()];
+        }
+    }
+    Ok(Remainder { c, s_of_x })
+}
+
+/// Why a grid gave no eigenvalues.
+fn grid_failure(n: usize, why: &str) -> Error {
+    usage(format!("the collocation problem on {n} intervals could not be solved: {why}"))
+}
+
+/// The eigenvalues of the collocation problem on `n` intervals, by shift
+/// and invert about σ.
+fn grid_eigenvalues(r: &Remainder, n: usize, sigma: Complex64) -> Result<Vec<Complex64>> {
+    let (x, d) = super::collocation::cheb(n);
+    let d2 = &d * &d;
+    let np = n + 1;
+    let k = r.c.iter().map(|p| p.deg_w()).max().unwrap_or(0);
+    if k == 0 {
+        return Err(usage("the equation does not depend on the spectral parameter"));
+    }
+    let mut m: Vec<DMatrix<Complex64>> = vec![DMatrix::zeros(np, np); k + 1];
+    for j in 0..np {
+        let s = (r.s_of_x)(x[j]);
+        let vals: Vec<Vec<Complex64>> = r.c.iter().map(|p| p.at(s)).collect();
+        let mut big = 0.0f64;
+        for (deg, md) in m.iter_mut().enumerate() {
+            let g = |i: usize| vals[i].get(deg).copied().unwrap_or(ZERO);
+            let (c2, c1, c0) = (g(0), g(1), g(2));
+            for col in 0..np {
+                let mut v = c2 * d2[(j, col)] + c1 * d[(j, col)];
+                if col == j {
+                    v += c0;
+                }
+                md[(j, col)] = v;
+                big = big.max(v.norm());
+            }
+        }
+        if !(big > 0.0 && big.is_finite()) {
+            return Err(grid_failure(n, "a collocation row vanishes or is not finite"));
+        }
+        for md in m.iter_mut() {
+            for col in 0..np {
+                md[(j, col)] /= big;
+            }
+        }
+    }
+    // ω = γ ω̃ with γ balancing the first and last coefficient matrices
+    // (a better conditioned companion form); the eigenvalues are scaled back.
+    let fro = |x: &DMatrix<Complex64>| x.iter().map(|v| v.norm_sqr()).sum::<f64>().sqrt();
+    let (n0, nk) = (fro(&m[0]), fro(&m[k]));
+    let gamma = if n0 > 0.0 && nk > 0.0 { (n0 / nk).powf(1.0 / k as f64) } else { 1.0 };
+    for (deg, md) in m.iter_mut().enumerate() {
+        *md *= cx(gamma.powi(deg as i32));
+    }
+    let sigma = sigma / gamma;
+    let size = k * np;
+    let mut a = DMatrix::<Complex64>::zeros(size, size);
+    let mut b = DMatrix::<Complex64>::zeros(size, size);
+    for blk in 0..k {
+        if blk + 1 < k {
+            for i in 0..np {
+                a[(blk * np + i, (blk + 1) * np + i)] = cx(1.0);
+                b[(blk * np + i, blk * np + i)] = cx(1.0);
+            }
+        }
+    }
+    let last = (k - 1) * np;
+    for (deg, md) in m.iter().enumerate().take(k) {
+        for i in 0..np {
+            for j in 0..np {
+                a[(last + i, deg * np + j)] = -md[(i, j)];
+            }
+        }
+    }
+    for i in 0..np {
+        for j in 0..np {
+            b[(last + i, last + j)] = m[k][(i, j)];
+        }
+    }
+    let t = &a - &b * sigma;
+    let kmat = t.lu().solve(&b).ok_or_else(|| grid_failure(n, "the shifted matrix is singular (the shift is an eigenvalue)"))?;
+    let theta = crate::analysis::numeric::try_eigenvalues(&kmat).ok_or_else(|| {
+        grid_failure(n, &format!("the eigenvalue iteration stopped at its limit of {} steps", crate::analysis::numeric::qr_limit(size)))
+    })?;
+    let top = theta.iter().map(|t| t.norm()).fold(0.0, f64::max);
+    Ok(theta
+        .into_iter()
+        .filter(|t| t.norm() > 1e-13 * top)
+        .map(|t| (sigma + 1.0 / t) * gamma)
+        .filter(|w| w.re.is_finite() && w.im.is_finite())
+        .collect())
+}
+
+/// One eigenvalue kept by the global method.
+#[derive(Clone, Copy, Debug)]
+pub struct SpectralValue {
+    /// The eigenvalue on the finer grid.
+    pub omega: Complex64,
+    /// |ω(⌊3N/2⌋) − ω(N)|.
+    pub change: f64,
+}
+
+/// What the global method found.
+#[derive(Clone, Debug)]
+pub struct Spectral {
+    /// The eigenvalues found on both grids, by |Im ω| then Re ω.
+    pub values: Vec<SpectralValue>,
+    /// The two grids (numbers of intervals).
+    pub grids: (usize, usize),
+    /// Eigenvalues of the finer grid that did not persist (dropped).
+    pub dropped: usize,
+    /// The degree in ω of the polynomial eigenvalue problem.
+    pub degree: usize,
+    /// The tolerance of persistence (relative to max(|ω|, scale)).
+    pub tol: f64,
+    /// The factored behaviour and the map.
+    pub factors: Factors,
+}
+
+/// The default grid (intervals) of the global method.
+pub const DEFAULT_GRID: usize = 48;
+/// The default persistence tolerance.
+pub const DEFAULT_PERSIST: f64 = 1e-5;
+
+/// Every eigenvalue of the boundary problem that the grids of `n` and
+/// ⌊3n/2⌋ intervals agree on to `tol`·max(|ω|, scale), shifting about
+/// `sigma` (a point near the region of interest, not an eigenvalue).
+pub fn try_spectral(bp: &BoundaryProblem, n: usize, tol: f64, sigma: Complex64, theta: f64) -> Result<Spectral> {
+    if !(8..=400).contains(&n) {
+        return Err(usage(format!("the grid must have 8 to 400 intervals, not {n}")));
+    }
+    let f = factors(bp)?;
+    let r = remainder(bp, &f, theta)?;
+    let n2 = n + n / 2;
+    let coarse = grid_eigenvalues(&r, n, sigma)?;
+    let fine = grid_eigenvalues(&r, n2, sigma)?;
+    let nearest = |w: Complex64, set: &[Complex64]| -> Option<(usize, f64)> {
+        set.iter().enumerate().map(|(i, v)| (i, (v - w).norm())).min_by(|p, q| p.1.total_cmp(&q.1))
+    };
+    let mut values = Vec::new();
+    for w in &fine {
+        let Some((i, dist)) = nearest(*w, &coarse) else { continue };
+        if dist.is_nan() || dist > tol * w.norm().max(bp.scale) {
+            continue;
+        }
+        // Mutual: the coarse value's nearest fine value is this one.
+        if nearest(coarse[i], &fine).is_some_and(|(_, back)| back < dist) {
+            continue;
+        }
+        values.push(SpectralValue { omega: *w, change: dist });
+    }
+    values.sort_by(|p, q| p.omega.im.abs().total_cmp(&q.omega.im.abs()).then(p.omega.re.total_cmp(&q.omega.re)));
+    let degree = r.c.iter().map(|p| p.deg_w()).max().unwrap_or(0);
+    Ok(Spectral { dropped: fine.len() - values.len(), values, grids: (n, n2), degree, tol, factors: f })
+}
+
+/// A rectangle of the complex plane.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Region {
+    /// Re ω from, to.
+    pub re: (f64, f64),
+    /// Im ω from, to.
+    pub im: (f64, f64),
+}
+
+impl Region {
+    /// Whether ω lies in the closed rectangle.
+    pub fn contains(&self, w: Complex64) -> bool {
+        w.re >= self.re.0 && w.re <= self.re.1 && w.im >= self.im.0 && w.im <= self.im.1
+    }
+    /// A shift for the inversion: inside the rectangle, off its symmetry lines.
+    pub fn shift(&self) -> Complex64 {
+        Complex64::new(self.re.0 + 0.5377 * (self.re.1 - self.re.0), self.im.1.max(0.0) + 0.6143 * (self.im.1 - self.im.0))
+    }
+}
+
+/// The angle by which the ray to an irregular infinity is turned into the
+/// complex z-plane for eigenvalues in the lower half-plane (complex
+/// scaling): along it the wanted outgoing solution is the recessive one, so
+/// the unwanted one is not smooth in the compactified coordinate and the
+/// collocation problem stays well conditioned. Turning by more than π/2
+/// covers the negative imaginary axis as well.
+pub const TURN: f64 = 0.6 * std::f64::consts::PI;
+
+/// The parts of the plane solved separately, with the turn of the ray for
+/// each: the upper half-plane on the real axis, the lower right quadrant
+/// (with the negative imaginary axis) turned by +TURN, the lower left one by −TURN.
+fn sectors(bp: &BoundaryProblem) -> Vec<(f64, Region)> {
+    let big = 1e300;
+    let (up, right, left) =
+        (Region { re: (-big, big), im: (0.0, big) }, Region { re: (0.0, big), im: (-big, 0.0) }, Region { re: (-big, 0.0), im: (-big, 0.0) });
+    if bp.ends[1].nature == Nature::IrregularRank1 && bp.ends[1].location == Location::Infinity {
+        vec![(0.0, up), (TURN, right), (-TURN, left)]
+    } else {
+        vec![(0.0, Region { re: (-big, big), im: (-big, big) })]
+    }
+}
+
+impl Region {
+    /// The overlap with another rectangle, if any.
+    fn clip(&self, o: &Region) -> Option<Region> {
+        let re = (self.re.0.max(o.re.0), self.re.1.min(o.re.1));
+        let im = (self.im.0.max(o.im.0), self.im.1.min(o.im.1));
+        (re.0 < re.1 && im.0 < im.1).then_some(Region { re, im })
+    }
+}
+
+/// Every eigenvalue of the global method in `region`, part by part of the
+/// plane (see [`TURN`]), merged and sorted by |Im ω|.
+pub fn spectral_in(bp: &BoundaryProblem, region: Region, n: usize, tol: f64) -> Result<Spectral> {
+    let mut out: Option<Spectral> = None;
+    for (theta, part) in sectors(bp) {
+        let Some(r) = region.clip(&part) else { continue };
+        let sp = try_spectral(bp, n, tol, r.shift(), theta)?;
+        let keep: Vec<SpectralValue> = sp.values.iter().copied().filter(|v| r.contains(v.omega)).collect();
+        match &mut out {
+            None => out = Some(Spectral { values: keep, ..sp }),
+            Some(o) => {
+                o.values.extend(keep);
+                o.dropped += sp.dropped;
+            }
+        }
+    }
+    let mut sp = out.ok_or_else(|| usage("the region is empty"))?;
+    sp.values.sort_by(|p, q| p.omega.im.abs().total_cmp(&q.omega.im.abs()).then(p.omega.re.total_cmp(&q.omega.re)));
+    Ok(sp)
+}
+
+/// What [`modes_in`] returns: the spectral result, the confirmed modes, and
+/// the spectral values that were not confirmed with the reason.
+pub type Confirmed = (Spectral, Vec<Found>, Vec<(Complex64, String)>);
+
+/// Seeds for overtones lo..=hi: the eigenvalues of the global method in the
+/// lower right quadrant (the negative imaginary axis included) by |Im ω|,
+/// as many as it found (none when it cannot run on the problem).
+pub fn seeds(bp: &BoundaryProblem, (lo, hi): (u32, u32)) -> Vec<Complex64> {
+    let sigma = Complex64::new(0.6, -0.8) * bp.scale;
+    let Ok(sp) = try_spectral(bp, DEFAULT_GRID, DEFAULT_PERSIST, sigma, TURN) else { return Vec::new() };
+    let lower = sp.values.iter().map(|v| v.omega).filter(|w| w.im < 0.0 && w.re >= -1e-8 * w.norm().max(bp.scale));
+    lower.skip(lo as usize).take((hi - lo + 1) as usize).collect()
+}
+
+/// A mode found by the global method and polished by direct integration.
+#[derive(Clone, Debug)]
+pub struct Found {
+    /// The spectral eigenvalue.
+    pub spectral: SpectralValue,
+    /// The root of the mismatch between the ends, seeded there.
+    pub polished: IntRoot,
+}
+
+/// The eigenvalues of the global method in `region`, each polished by
+/// direct integration between the ends; a value whose polish did not
+/// converge, or moved more than 100 × the persistence tolerance (the
+/// integration landed on another root), or repeats a mode already found,
+/// is not returned but listed in the third result with its reason.
+pub fn modes_in(bp: &BoundaryProblem, region: Region, n: usize, tol: f64) -> Result<Confirmed> {
+    let sp = spectral_in(bp, region, n, DEFAULT_PERSIST)?;
+    let mut found: Vec<Found> = Vec::new();
+    let mut rejected = Vec::new();
+    for v in sp.values.iter() {
+        let r = super::ends::find_root(bp, v.omega, tol);
+        let reach = 100.0 * sp.tol * v.omega.norm().max(bp.scale);
+        if !r.converged {
+            rejected.push((v.omega, format!("direct integration from it did not converge: {}", r.reason)));
+        } else if (r.omega - v.omega).norm() > reach {
+            rejected.push((v.omega, format!("direct integration from it moved to {} (farther than {reach:.1e})", fmt_c(r.omega))));
+        } else if found.iter().any(|f| (f.polished.omega - r.omega).norm() <= 1e-8 * r.omega.norm().max(bp.scale)) {
+            rejected.push((v.omega, "it polishes to a mode already found".into()));
+        } else {
+            found.push(Found { spectral: *v, polished: r });
+        }
+    }
+    Ok((sp, found, rejected))
+}
+
+fn fmt_c(w: Complex64) -> String {
+    format!("{:.8}{:+.8}i", w.re, w.im)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn polynomial_helpers() {
+        // (s − 2)(s + 1) = s² − s − 2, divided by (s − 2) leaves s + 1, no remainder.
+        let p = Bi::in_s(&[cx(-2.0), cx(1.0)]).mul(&Bi::in_s(&[cx(1.0), cx(1.0)]));
+        assert_eq!(p.at(3.0)[0], cx(4.0));
+        let (q, r) = p.divide(2.0);
+        assert!(r < 1e-15);
+        assert_eq!(q.at(5.0)[0], cx(6.0));
+        // (s + 1)∘(2s) = 2s + 1
+        assert_eq!(Bi::in_s(&[cx(1.0), cx(1.0)]).compose(&Bi::in_s(&[ZERO, cx(2.0)])).at(1.5)[0], cx(4.0));
+    }
+}

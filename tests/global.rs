@@ -1,0 +1,133 @@
+//! Checks of the global spectral method (`spectrum --region`, and the
+//! seeds `spectrum` takes from it when no estimate exists) against
+//! published quasinormal modes. Each check names its source; values
+//! recalled from memory say so.
+
+use serde_json::Value;
+use std::process::Command;
+
+fn run(args: &[&str]) -> (Value, i32, String) {
+    let out = Command::new(env!("CARGO_BIN_EXE_canonode")).args(args).current_dir(env!("CARGO_MANIFEST_DIR")).output().expect("binary runs");
+    let code = out.status.code().unwrap_or(-1);
+    let stderr = String::from_utf8_lossy(&out.stderr).to_string();
+    let v = serde_json::from_slice(&out.stdout).unwrap_or(Value::Null);
+    (v, code, stderr)
+}
+
+/// The report of `spectrum PATH --at AT --region REGION --format json`.
+fn region(path: &str, at: &str, rect: &str) -> Value {
+    let reg = format!("--region={rect}");
+    let args = ["spectrum", path, "--at", at, reg.as_str(), "--format", "json"];
+    let (v, code, err) = run(&args);
+    assert_eq!(code, 0, "{args:?}: {err}");
+    v
+}
+
+fn c(v: &Value) -> (f64, f64) {
+    (v[0].as_f64().unwrap(), v[1].as_f64().unwrap())
+}
+
+#[test]
+fn schwarzschild_lowest_modes_with_no_guess_are_leavers() {
+    // Leaver 1985; Berti, Cardoso & Starinets 2009 tables, s = l = 2, M = 1,
+    // 8 decimals (the values tests/spectrum.rs checks the continued fraction
+    // against): every mode in the region, none missing, none spurious.
+    let want = [(0.37367168, -0.08896232), (0.34671100, -0.27391488), (0.30105345, -0.47827698), (0.25150496, -0.70514820)];
+    let v = region("samples/regge_wheeler.ode", "M=1,l=2,s=2", "-1..1,-0.8..0");
+    let ms = v["modes"].as_array().unwrap();
+    // Each mode and its mirror image −ω̄ (the equation is real).
+    assert_eq!(ms.len(), 2 * want.len(), "{ms:#?}");
+    for (n, w) in want.iter().enumerate() {
+        let m = &ms[2 * n];
+        assert_eq!(m["family"], "oscillating");
+        assert_eq!(m["n"], n as u64);
+        assert!(m["mirror_of"].is_null());
+        let (re, im) = c(&m["omega"]);
+        assert!((re - w.0).abs() <= 5.1e-9 && (im - w.1).abs() <= 5.1e-9, "n={n}: {re} {im} vs {w:?}");
+        assert_eq!(m["found_by"], "spectral");
+        assert_eq!(m["polished_by"], "cf");
+        // The spectral value alone is close already; the other method agrees.
+        assert!(m["polish_distance"].as_f64().unwrap() < 1e-4, "{m}");
+        assert_eq!(m["check"]["method"], "integrate");
+        assert!(m["check"]["difference"].as_f64().unwrap() < 1e-8, "{m}");
+        let mirror = &ms[2 * n + 1];
+        assert_eq!(mirror["mirror_of"], n as u64);
+        let (mre, mim) = c(&mirror["omega"]);
+        assert!((mre + re).abs() < 1e-8 && (mim - im).abs() < 1e-8, "{mirror}");
+    }
+    assert!(v["not_confirmed"].as_array().unwrap().is_empty(), "{}", v["not_confirmed"]);
+}
+
+#[test]
+fn a_stable_black_hole_has_no_mode_in_the_upper_half_plane() {
+    // Schwarzschild is linearly stable (Regge & Wheeler 1957; Vishveshwara
+    // 1970): no mode with Im ω > 0. Likewise Schwarzschild–anti-de Sitter.
+    for (path, at) in [("samples/regge_wheeler.ode", "M=1,l=2,s=2"), ("tests/boundary/schwarzschild_ads_scalar.ode", "M=1,L=1,l=0")] {
+        let v = region(path, at, "-3..3,0.01..3");
+        assert!(v["modes"].as_array().unwrap().is_empty(), "{path}: {}", v["modes"]);
+    }
+    let args = ["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--region=-3..3,0.01..3"];
+    let out = Command::new(env!("CARGO_BIN_EXE_canonode")).args(args).current_dir(env!("CARGO_MANIFEST_DIR")).output().unwrap();
+    assert!(String::from_utf8_lossy(&out.stdout).contains("no modes in this region"));
+}
+
+#[test]
+fn schwarzschild_anti_de_sitter_with_no_guess() {
+    // Horowitz & Hubeny, Phys. Rev. D 62 (2000) 024027, massless scalar,
+    // l = 0, L = 1, r₊ = 1 (M = 1): 2.7982 − 2.6712i (from memory). No
+    // recurrence here: polished by direct integration.
+    let v = region("tests/boundary/schwarzschild_ads_scalar.ode", "M=1,L=1,l=0", "0..10,-4..0");
+    let m = &v["modes"][0];
+    let (re, im) = c(&m["omega"]);
+    assert!((re - 2.7982).abs() < 6e-5 && (im + 2.6712).abs() < 6e-5, "{re} {im}");
+    assert_eq!(m["polished_by"], "integrate");
+    assert!(m["polish_distance"].as_f64().unwrap() < 1e-3);
+}
+
+#[test]
+fn charged_field_modes_are_not_mirror_images() {
+    // A charged scalar breaks ω → −ω̄: the modes with Re ω < 0 form their own
+    // family. At e = 0 the field is neutral, and the fundamental mode is the
+    // continued fraction's for the neutral sample (two programs, one value).
+    let v = region("tests/boundary/charged_scalar_reissner_nordstrom.ode", "M=1,Q=0.5,e=0.3,l=1", "-1..1,-0.4..0");
+    let ms = v["modes"].as_array().unwrap();
+    let fam = |f: &str| ms.iter().filter(|m| m["family"] == f).count();
+    assert_eq!(fam("oscillating"), 2, "{ms:#?}");
+    assert_eq!(fam("negative frequency"), 2, "{ms:#?}");
+    assert!(ms.iter().all(|m| m["mirror_of"].is_null()));
+    let (p, n) = (c(&ms[0]["omega"]), c(&ms.iter().find(|m| m["family"] == "negative frequency").unwrap()["omega"]));
+    assert!((p.0 + n.0).abs() > 1e-2, "{p:?} {n:?}");
+    let neutral = region("tests/boundary/charged_scalar_reissner_nordstrom.ode", "M=1,Q=0.5,e=0,l=1", "0..1,-0.2..0");
+    let (re, im) = c(&neutral["modes"][0]["omega"]);
+    let args = ["spectrum", "samples/reissner_nordstrom_scalar.ode", "--at", "M=1,q=0.5,l=1", "--format", "json"];
+    let (cf, code, err) = run(&args);
+    assert_eq!(code, 0, "{err}");
+    let (cre, cim) = c(&cf["modes"][0]["omega"]);
+    assert!((re - cre).abs() < 1e-9 && (im - cim).abs() < 1e-9, "{re} {im} vs {cre} {cim}");
+}
+
+#[test]
+fn the_spectral_method_seeds_when_no_estimate_exists() {
+    // The Teukolsky radial equation at a = 0 with λ = l(l+1) − s(s+1) = 4
+    // (s = −2, l = 2) has no barrier to seed from; its modes are
+    // Schwarzschild's, 0.37367168 − 0.08896232i and 0.34671100 − 0.27391488i
+    // (Leaver 1985).
+    let args = ["spectrum", "samples/teukolsky_radial.ode", "--at", "M=1,a=0,m=2,s=-2,lam=4", "--overtones", "0..1", "--format", "json"];
+    let (v, code, err) = run(&args);
+    assert_eq!(code, 0, "{err}");
+    for (m, w) in v["modes"].as_array().unwrap().iter().zip([(0.37367168, -0.08896232), (0.34671100, -0.27391488)]) {
+        let (re, im) = c(&m["omega"]);
+        assert!((re - w.0).abs() <= 5.1e-9 && (im - w.1).abs() <= 5.1e-9, "{re} {im}");
+        assert!(m["evidence"]["seed_from"].as_str().unwrap().contains("global spectral method"), "{m}");
+    }
+}
+
+#[test]
+fn bad_regions_are_usage_errors() {
+    for r in ["1..0,-1..0", "0..1", "0..1,a..b", "0..1,-1"] {
+        let reg = format!("--region={r}");
+        let (_, code, err) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", reg.as_str()]);
+        assert_eq!(code, 2, "{r}: {err}");
+        assert!(err.contains("--region"), "{err}");
+    }
+}
