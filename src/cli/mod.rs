@@ -4,6 +4,7 @@
 
 mod check;
 mod classify;
+mod closed_report;
 pub mod diagnostic;
 mod emit;
 mod eval;

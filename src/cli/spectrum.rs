@@ -257,9 +257,13 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     // The eikonal limit keeps its large parameter symbolic.
     let eikonal = super::wkb_report::eikonal_reduction(a.method == Method::Eikonal, a.eikonal_param.as_deref(), &red, &point, freq)?;
     // Exact values for every other parameter: horizons often become rational points.
-    let red = crate::solve::spectrum::substitute(&red, &point, freq)?;
+    let symbolic = red;
+    let red = crate::solve::spectrum::substitute(&symbolic, &point, freq)?;
+    let values = point.clone();
+    let mut closed = super::closed_report::ClosedRequest { field: &symbolic.field, q: &symbolic.normal.q, freq, point: &values, ends: None, overtones };
     if a.boundary == ProblemArg::Bound {
-        return bound_states(a, &red, &fname, freq, point, overtones, src);
+        closed.ends = crate::solve::collocation::bound_problem(&red, freq, &point).ok().and_then(|(d, _)| super::closed_report::bound_ends(d));
+        return bound_states(a, &red, &fname, freq, point, overtones, src).map(|out| super::closed_report::attach(&closed, a.format, out));
     }
     if a.method == Method::Collocation {
         return Err(Error::new(
@@ -275,6 +279,8 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         None => None,
     };
     let problem = crate::solve::boundary::try_problem(&red.field, &red.normal.q, &red.q, &point, freq, kind, given_ends);
+    closed.ends = problem.as_ref().ok().map(super::closed_report::problem_ends);
+    let closed = &closed;
     // The exact recurrence route (continued fraction or terminating series)
     // covers problems from a horizon that do not end at a regular infinity,
     // with the default conditions; every other problem (and one the exact
@@ -291,9 +297,9 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
             Err(Failure::Lib(e)) if e.kind == ErrorKind::Usage && problem.is_ok() && a.method == Method::Auto => {
                 let bp = problem?;
                 let note = format!("the continued fraction could not be set up ({}); direct integration between the ends instead", e.message);
-                return Ok(between_ends(a, src, &red.var, &bp, &opts, &fname, Some(note)));
+                return Ok(super::closed_report::attach(closed, a.format, between_ends(a, src, &red.var, &bp, &opts, &fname, Some(note))));
             }
-            other => return other,
+            other => return other.map(|out| super::closed_report::attach(closed, a.format, out)),
         }
     }
     if !matches!(a.method, Method::Auto | Method::Integrate) {
@@ -305,7 +311,7 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         .into());
     }
     let bp = problem?;
-    Ok(between_ends(a, src, &red.var, &bp, &opts, &fname, None))
+    Ok(super::closed_report::attach(closed, a.format, between_ends(a, src, &red.var, &bp, &opts, &fname, None)))
 }
 
 /// Reads `--ends 'LEFT[:COND]..RIGHT[:COND]'`.
