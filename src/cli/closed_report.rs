@@ -13,6 +13,9 @@ use crate::solve::closed::{derive, ClosedForm, EndPick, Outcome};
 use num_complex::Complex64;
 use serde_json::{json, Value};
 
+/// How near a numeric mode must lie to an exact value to count as its check.
+const CHECK_NEAR: f64 = 1e-6;
+
 /// What the closed form is derived from: the exact normal form with every
 /// parameter symbolic, and the ends the numeric route used.
 pub(crate) struct ClosedRequest<'a> {
@@ -28,6 +31,41 @@ pub(crate) struct ClosedRequest<'a> {
     pub ends: Option<[EndPick; 2]>,
     /// The overtones asked for.
     pub overtones: (u32, u32),
+}
+
+/// The document of `--method exact`: the closed form alone, its values as the modes.
+pub(crate) fn exact_only(req: &ClosedRequest, format: SpecFormat, fname: &str, boundary: &str) -> Result<String, super::Failure> {
+    let outcome = match req.ends {
+        None => Outcome::NotClosed("the domain is the whole line (both ends at the same point at infinity)".into()),
+        Some(ends) => derive(req.field, req.q, req.freq, req.point, &ends)?,
+    };
+    let c = match outcome {
+        Outcome::Closed(c) => c,
+        Outcome::NotClosed(why) => {
+            return Err(crate::error::Error::new(crate::error::ErrorKind::Usage, format!("no closed form for this problem: {why}")).in_option("--method").into())
+        }
+    };
+    let mut modes = Vec::new();
+    for (i, f) in c.families.iter().enumerate() {
+        for (n, w) in values_of(&c, f, req) {
+            modes.push((i + 1, n, w));
+        }
+    }
+    Ok(match format {
+        SpecFormat::Json => {
+            let ms: Vec<Value> = modes.iter().map(|(fam, n, w)| json!({"n": n, "family": fam, "omega": [w.re, w.im], "converged": true, "reason": Value::Null, "method": "exact", "evidence": Value::Null, "check": Value::Null})).collect();
+            let doc = json!({"frequency": fname, "boundary": boundary, "method": "exact", "modes": ms, "closed_form": families_json(&c, req, &[]), "closed_form_note": Value::Null});
+            format!("{}\n", serde_json::to_string_pretty(&doc).unwrap_or_default())
+        }
+        SpecFormat::Csv => {
+            let mut s = "n,family,re,im,method\n".to_string();
+            for (fam, n, w) in &modes {
+                s.push_str(&format!("{n},{fam},{:?},{:?},exact\n", w.re, w.im));
+            }
+            s
+        }
+        SpecFormat::Text => format!("{} of {fname} from the closed form (no numeric check: --method exact)\n{}", boundary, families_text(&c, req)),
+    })
 }
 
 /// The ends of a bound-state domain: normalisable (decaying) at both.
@@ -120,7 +158,8 @@ fn families_json(c: &ClosedForm, req: &ClosedRequest, numeric: &[(u64, Complex64
             let values: Vec<Value> = values_of(c, f, req)
                 .into_iter()
                 .map(|(n, w)| {
-                    let check = nearest(w, numeric).map_or(Value::Null, |(mn, mw, method)| {
+                    // The numeric mode of this run at this value, if any (relative distance ≤ 1e-6).
+                    let check = nearest(w, numeric).filter(|(_, mw, _)| (mw - w).norm() <= CHECK_NEAR * w.norm().max(1.0)).map_or(Value::Null, |(mn, mw, method)| {
                         json!({"method": method, "n": mn, "omega": [mw.re, mw.im], "agreement": (mw - w).norm() / w.norm().max(1e-300)})
                     });
                     json!({"n": n, "omega": [w.re, w.im], "method": "exact", "check": check})

@@ -86,6 +86,8 @@ pub(crate) enum Method {
     Eikonal,
     /// Chebyshev collocation (bound states; the default there), each eigenvalue checked by shooting.
     Collocation,
+    /// The closed form alone (hypergeometric and confluent hypergeometric problems): exact expressions and their values, no numeric check.
+    Exact,
 }
 
 /// Arguments of `spectrum`.
@@ -263,6 +265,9 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     let mut closed = super::closed_report::ClosedRequest { field: &symbolic.field, q: &symbolic.normal.q, freq, point: &values, ends: None, overtones };
     if a.boundary == ProblemArg::Bound {
         closed.ends = crate::solve::collocation::bound_problem(&red, freq, &point).ok().and_then(|(d, _)| super::closed_report::bound_ends(d));
+        if a.method == Method::Exact {
+            return super::closed_report::exact_only(&closed, a.format, &fname, "bound");
+        }
         return bound_states(a, &red, &fname, freq, point, overtones, src).map(|out| super::closed_report::attach(&closed, a.format, out));
     }
     if a.method == Method::Collocation {
@@ -280,6 +285,9 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     };
     let problem = crate::solve::boundary::try_problem(&red.field, &red.normal.q, &red.q, &point, freq, kind, given_ends);
     closed.ends = problem.as_ref().ok().map(super::closed_report::problem_ends);
+    if a.method == Method::Exact {
+        return super::closed_report::exact_only(&closed, a.format, &fname, if kind == SpectrumKind::QuasiBound { "quasi-bound" } else { "qnm" });
+    }
     let closed = &closed;
     // The exact recurrence route (continued fraction or terminating series)
     // covers problems from a horizon that do not end at a regular infinity,
