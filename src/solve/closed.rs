@@ -140,13 +140,7 @@ pub fn derive(k: &Field, q: &RatFunc, freq: usize, values: &[GRat], ends: &[EndP
     let mut reasons = Vec::new();
     for (fold, mobius) in [(false, false), (true, false), (false, true), (true, true)] {
         let Some(setup) = transformed(&cx, q, [pos[0], pos[1]], interior, fold, mobius)? else { continue };
-        if std::env::var("CANONODE_DEBUG_CLOSED").is_ok() {
-            eprintln!("Q = {}", print::ratfunc_text(&setup.q, cx.k.names(), print::Style::Text));
-        }
         let tried = attempt(&cx, &setup, conds).unwrap_or_else(|e| Err(format!("{}: the derivation stopped: {}", setup.words_or_plain(), e.message)));
-        if std::env::var("CANONODE_DEBUG_CLOSED").is_ok() {
-            eprintln!("{fold} {mobius} {:?}", tried.as_ref().err());
-        }
         match tried {
             Ok((families, mut route)) if !families.is_empty() => {
                 route.push_str(&setup.words);
