@@ -70,7 +70,20 @@ fn cx(re: f64, im: f64) -> Complex64 {
 fn hydrogen() {
     // E = −Z²/(2(n + l + 1)²) (textbook, e.g. Landau & Lifshitz §36, from memory).
     for (z, l) in [(1.0f64, 0u32), (2.0, 1), (1.5, 2)] {
-        let doc = run(&["spectrum", "samples/hydrogen_radial.ode", "--boundary", "bound", "--at", &format!("Z={z},l={l}"), "--overtones", "0..2", "--tol", "1e-12", "--format", "json"]);
+        let doc = run(&[
+            "spectrum",
+            "samples/hydrogen_radial.ode",
+            "--boundary",
+            "bound",
+            "--at",
+            &format!("Z={z},l={l}"),
+            "--overtones",
+            "0..2",
+            "--tol",
+            "1e-12",
+            "--format",
+            "json",
+        ]);
         let want: Vec<Complex64> = (0..3).map(|n| cx(-z * z / (2.0 * (n as f64 + l as f64 + 1.0).powi(2)), 0.0)).collect();
         assert_eq!(agree(&doc, &want), 3, "Z={z} l={l}");
         assert_eq!(doc["closed_form"]["families"][0]["expression"], "-1/2*Z^2/(l + n + 1)^2");
@@ -82,8 +95,23 @@ fn three_dimensional_oscillator() {
     // ψ'' + (2E − r² − l(l+1)/r²)ψ = 0: E = 2n + l + 3/2 (textbook, from memory); folded by x = r².
     for l in [1u32, 2, 3] {
         let doc = run(&[
-            "spectrum", "-e", "psi'' + (2*E - r^2 - l*(l+1)/r^2)*psi = 0", "--var", "r", "--frequency", "E", "--boundary", "bound", "--at", &format!("l={l}"),
-            "--overtones", "0..2", "--tol", "1e-12", "--format", "json",
+            "spectrum",
+            "-e",
+            "psi'' + (2*E - r^2 - l*(l+1)/r^2)*psi = 0",
+            "--var",
+            "r",
+            "--frequency",
+            "E",
+            "--boundary",
+            "bound",
+            "--at",
+            &format!("l={l}"),
+            "--overtones",
+            "0..2",
+            "--tol",
+            "1e-12",
+            "--format",
+            "json",
         ]);
         let want: Vec<Complex64> = (0..3).map(|n| cx(2.0 * n as f64 + l as f64 + 1.5, 0.0)).collect();
         assert_eq!(agree(&doc, &want), 3, "l={l}");
@@ -96,8 +124,22 @@ fn morse_well() {
     // (P. M. Morse, Phys. Rev. 34 (1929) 57).
     for d in [9.0f64, 12.25, 16.0] {
         let doc = run(&[
-            "spectrum", "--latex", "-e", r"-\frac{d^{2}\psi}{dx^{2}} + D\left(e^{-2x} - 2e^{-x}\right)\psi = E\psi", "--frequency", "E", "--boundary", "bound",
-            "--at", &format!("D={d}"), "--overtones", "0..2", "--tol", "1e-12", "--format", "json",
+            "spectrum",
+            "--latex",
+            "-e",
+            r"-\frac{d^{2}\psi}{dx^{2}} + D\left(e^{-2x} - 2e^{-x}\right)\psi = E\psi",
+            "--frequency",
+            "E",
+            "--boundary",
+            "bound",
+            "--at",
+            &format!("D={d}"),
+            "--overtones",
+            "0..2",
+            "--tol",
+            "1e-12",
+            "--format",
+            "json",
         ]);
         let levels = ((d.sqrt() - 0.5).ceil() as u32).min(3);
         let want: Vec<Complex64> = (0..levels).map(|n| cx(-(d.sqrt() - n as f64 - 0.5).powi(2), 0.0)).collect();
@@ -120,7 +162,20 @@ fn poschl_teller_well() {
     std::fs::write(&path, prog).unwrap();
     for (nu, alpha) in [(2.0f64, 1.0f64), (3.0, 1.0), (2.0, 0.7)] {
         let v0 = -alpha * alpha * nu * (nu + 1.0);
-        let doc = run(&["spectrum", path.to_str().unwrap(), "--boundary", "bound", "--at", &format!("V0={v0},alpha={alpha}"), "--overtones", "0..1", "--tol", "1e-12", "--format", "json"]);
+        let doc = run(&[
+            "spectrum",
+            path.to_str().unwrap(),
+            "--boundary",
+            "bound",
+            "--at",
+            &format!("V0={v0},alpha={alpha}"),
+            "--overtones",
+            "0..1",
+            "--tol",
+            "1e-12",
+            "--format",
+            "json",
+        ]);
         let want: Vec<Complex64> = (0..2).map(|n| cx(-alpha * alpha * (nu - n as f64).powi(2), 0.0)).collect();
         assert_eq!(agree(&doc, &want), 2, "ν={nu} α={alpha}");
     }
@@ -149,7 +204,18 @@ fn btz() {
     // direct integration from a seed near the fundamental mode.
     for (rp, k) in [(1.0f64, 1.0f64), (1.5, 2.0), (0.7, 0.3)] {
         let guess = format!("{}{:+}i", k * 1.03, -2.0 * rp * 0.97);
-        let doc = run(&["spectrum", "tests/boundary/btz_scalar.ode", "--at", &format!("rp={rp},k={k}"), "--guess", &guess, "--tol", "1e-12", "--format", "json"]);
+        let doc = run(&[
+            "spectrum",
+            "tests/boundary/btz_scalar.ode",
+            "--at",
+            &format!("rp={rp},k={k}"),
+            "--guess",
+            &guess,
+            "--tol",
+            "1e-12",
+            "--format",
+            "json",
+        ]);
         let want = [cx(k, -2.0 * rp), cx(-k, -2.0 * rp)];
         assert_eq!(agree(&doc, &want), 1, "rp={rp} k={k}");
         let fams = doc["closed_form"]["families"].as_array().unwrap();
@@ -173,8 +239,20 @@ fn de_sitter_static_patch() {
             let w0 = cx(0.0, -(l + delta));
             let guess = format!("0.003{:+}i", w0.im * 1.004);
             let doc = run(&[
-                "spectrum", "tests/boundary/de_sitter_static_scalar.ode", "--at", &format!("l={l},m={m}"), "--ends", "0..1", "--guess", &guess, "--tol", "1e-12",
-                "--overtones", "0", "--format", "json",
+                "spectrum",
+                "tests/boundary/de_sitter_static_scalar.ode",
+                "--at",
+                &format!("l={l},m={m}"),
+                "--ends",
+                "0..1",
+                "--guess",
+                &guess,
+                "--tol",
+                "1e-12",
+                "--overtones",
+                "0",
+                "--format",
+                "json",
             ]);
             let want: Vec<Complex64> = (0..1).map(|n| cx(0.0, -(l + delta + 2.0 * n as f64))).collect();
             assert_eq!(agree(&doc, &want), 1, "l={l} m={m} Δ={delta}");
@@ -188,12 +266,40 @@ fn global_anti_de_sitter() {
     // normalisable fall-off Δ = 3). The closed form in ω, and the same
     // problem in E = ω² solved by collocation as the numeric check.
     for l in [1u32, 2, 3] {
-        let doc = run(&["spectrum", "tests/boundary/ads4_global_scalar.ode", "--at", &format!("l={l}"), "--ends", "0..inf", "--method", "exact", "--overtones", "0..2", "--format", "json"]);
+        let doc = run(&[
+            "spectrum",
+            "tests/boundary/ads4_global_scalar.ode",
+            "--at",
+            &format!("l={l}"),
+            "--ends",
+            "0..inf",
+            "--method",
+            "exact",
+            "--overtones",
+            "0..2",
+            "--format",
+            "json",
+        ]);
         let want: Vec<Complex64> = (0..3).map(|n| cx(l as f64 + 3.0 + 2.0 * n as f64, 0.0)).collect();
         agree(&doc, &want);
         let doc = run(&[
-            "spectrum", "--boundary", "bound", "-e", "(1+r^2)*((1+r^2)*u')' + (E - (1+r^2)*(l*(l+1)/r^2 + 2))*u = 0", "--var", "r", "--frequency", "E", "--at",
-            &format!("l={l}"), "--overtones", "0..2", "--tol", "1e-12", "--format", "json",
+            "spectrum",
+            "--boundary",
+            "bound",
+            "-e",
+            "(1+r^2)*((1+r^2)*u')' + (E - (1+r^2)*(l*(l+1)/r^2 + 2))*u = 0",
+            "--var",
+            "r",
+            "--frequency",
+            "E",
+            "--at",
+            &format!("l={l}"),
+            "--overtones",
+            "0..2",
+            "--tol",
+            "1e-12",
+            "--format",
+            "json",
         ]);
         let want: Vec<Complex64> = want.iter().map(|w| w * w).collect();
         assert_eq!(agree(&doc, &want), 3, "l={l}");

@@ -42,7 +42,9 @@ pub(crate) fn exact_only(req: &ClosedRequest, format: SpecFormat, fname: &str, b
     let c = match outcome {
         Outcome::Closed(c) => c,
         Outcome::NotClosed(why) => {
-            return Err(crate::error::Error::new(crate::error::ErrorKind::Usage, format!("no closed form for this problem: {why}")).in_option("--method").into())
+            return Err(crate::error::Error::new(crate::error::ErrorKind::Usage, format!("no closed form for this problem: {why}"))
+                .in_option("--method")
+                .into())
         }
     };
     let mut modes = Vec::new();
@@ -64,7 +66,14 @@ pub(crate) fn exact_only(req: &ClosedRequest, format: SpecFormat, fname: &str, b
             }
             s
         }
-        SpecFormat::Text => format!("{} of {fname} from the closed form (no numeric check: --method exact)\n{}", boundary, families_text(&c, req)),
+        SpecFormat::Text => {
+            let what = match boundary {
+                "bound" => "bound states",
+                "quasi-bound" => "quasi-bound states",
+                _ => "quasinormal modes",
+            };
+            format!("{what} in {fname} from the closed form alone (--method exact: no numeric check)\n{}", families_text(&c, req))
+        }
     })
 }
 
@@ -146,7 +155,7 @@ fn values_of(c: &ClosedForm, f: &crate::solve::closed::Family, req: &ClosedReque
     (req.overtones.0..=req.overtones.1).filter_map(|n| c.value(f, req.point, n).map(|w| (n, w))).collect()
 }
 
-fn nearest<'a>(w: Complex64, numeric: &'a [(u64, Complex64, String)]) -> Option<&'a (u64, Complex64, String)> {
+fn nearest(w: Complex64, numeric: &[(u64, Complex64, String)]) -> Option<&(u64, Complex64, String)> {
     numeric.iter().min_by(|a, b| (a.1 - w).norm().total_cmp(&(b.1 - w).norm()))
 }
 

@@ -39,6 +39,22 @@
 //! {`change_on_refinement` (null when not run), `residual` (null when not
 //! evaluated), `iterations`, `seed`, `seed_from`} and `check` null (no
 //! second method on these problems yet).
+//!
+//! Every text and JSON document (not CSV) also carries the closed form of
+//! `solve::closed` (rendered in `closed_report.rs`): `closed_form` — null
+//! when there is none, with the reason in `closed_form_note` (a Heun-class
+//! problem says so) — or {`route` (the connection formula and the maps, in
+//! words), `families`: [{`family` (the exponent choices and root, in
+//! words), `expression` (the spectral parameter as text in the input
+//! language, in `n` and the parameters), `latex`, `n_range` {`first`,
+//! `last` (null: unbounded; −1: no member at these values), `bound` ("n <
+//! EXPR" when the branch ends the family, or null), `branch` (the branch
+//! condition, or null)}, `values`: [{`n`, `omega` [re, im], `method`
+//! "exact", `check` (null, or the numeric mode of the same run at this
+//! value: {`method`, `n`, `omega`, `agreement` (relative)})}]}]}. With
+//! `--method exact` the document holds only the closed form: `modes` are its
+//! values (`method` "exact", `family` the family's number from 1, `check`
+//! null).
 
 use super::values::{fmt_complex, parse_assignments};
 use super::{run_command, Failure, InputArgs};

@@ -154,10 +154,7 @@ pub fn derive(k: &Field, q: &RatFunc, freq: usize, values: &[GRat], ends: &[EndP
     let heun = an.class.contains("heun");
     let first = reasons.first().cloned().unwrap_or_else(|| "no route applies".into());
     Ok(Outcome::NotClosed(if heun {
-        format!(
-            "{} class ({}): the connection problem between the ends is Heun's, with no Gamma-function closed form; {first}",
-            an.class, an.reason
-        )
+        format!("{} class ({}): the connection problem between the ends is Heun's, with no Gamma-function closed form; {first}", an.class, an.reason)
     } else {
         first
     }))
@@ -335,35 +332,37 @@ fn attempt(cx: &Ctx, setup: &Setup, conds: [Condition; 2]) -> Result<std::result
         let route = "hypergeometric (three regular singular points): ψ = ∏(z − zᵢ)^ρᵢ F(a, b; c; x) with a = ρ_A + ρ_B + ρ_C − 1; the connection coefficient Γ(c)Γ(a + b − c)/(Γ(a)Γ(b)) of the unwanted branch at the far end (DLMF 15.10.21) vanishes at a = −n".to_string();
         return Ok(Ok((families, route)));
     }
-    let finite_regular: Vec<usize> = singular.iter().copied().filter(|&i| an.points[i].kind == Kind::Regular && !matches!(an.points[i].place, Place::Infinity)).collect();
+    let finite_regular: Vec<usize> =
+        singular.iter().copied().filter(|&i| an.points[i].kind == Kind::Regular && !matches!(an.points[i].place, Place::Infinity)).collect();
     let inf = an.points.iter().position(|p| matches!(p.place, Place::Infinity));
-    if !roots && singular.len() == 2 && finite_regular.len() == 1 {
-        if inf.filter(|&i| an.points[i].kind == Kind::Irregular && an.points[i].rank == Rat::int(1.into()) && idx.contains(&i)).is_some() {
-            let reg = finite_regular[0];
-            let j = if idx[0] == reg { 0 } else { 1 };
-            let jinf = 1 - j;
-            let p = match pick_regular(cx, &an.points[reg], conds[j], &mut rad)? {
-                Ok(p) => p,
-                Err(w) => return Ok(Err(w)),
-            };
-            let sigma = match formal_power(cx, &setup.q, conds[jinf], dir, &mut rad)? {
-                Ok(s) => s,
-                Err(w) => return Ok(Err(w)),
-            };
-            // a = ρ_A − σ = −n.
-            let c = k.add(&k.sub(&p.value, &sigma.value)?, &n)?;
-            let label = format!("{}; {}", p.words, sigma.words);
-            let families = match solve(cx, &c, &rad, &label)? {
-                Ok(f) => f,
-                Err(w) => return Ok(Err(w)),
-            };
-            let route = "confluent hypergeometric (one regular point, rank 1 at ∞): ψ = z^ρ e^(μz) M(a, b, −2μz) with a = ρ − σ, ψ ~ e^(μz) z^σ at ∞; the coefficient 1/Γ(a) of the other branch at ∞ (DLMF 13.7.2, 13.2.41) vanishes at a = −n".to_string();
-            return Ok(Ok((families, route)));
-        }
+    if !roots
+        && singular.len() == 2
+        && finite_regular.len() == 1
+        && inf.filter(|&i| an.points[i].kind == Kind::Irregular && an.points[i].rank == Rat::int(1.into()) && idx.contains(&i)).is_some()
+    {
+        let reg = finite_regular[0];
+        let j = if idx[0] == reg { 0 } else { 1 };
+        let jinf = 1 - j;
+        let p = match pick_regular(cx, &an.points[reg], conds[j], &mut rad)? {
+            Ok(p) => p,
+            Err(w) => return Ok(Err(w)),
+        };
+        let sigma = match formal_power(cx, &setup.q, conds[jinf], dir, &mut rad)? {
+            Ok(s) => s,
+            Err(w) => return Ok(Err(w)),
+        };
+        // a = ρ_A − σ = −n.
+        let c = k.add(&k.sub(&p.value, &sigma.value)?, &n)?;
+        let label = format!("{}; {}", p.words, sigma.words);
+        let families = match solve(cx, &c, &rad, &label)? {
+            Ok(f) => f,
+            Err(w) => return Ok(Err(w)),
+        };
+        let route = "confluent hypergeometric (one regular point, rank 1 at ∞): ψ = z^ρ e^(μz) M(a, b, −2μz) with a = ρ − σ, ψ ~ e^(μz) z^σ at ∞; the coefficient 1/Γ(a) of the other branch at ∞ (DLMF 13.7.2, 13.2.41) vanishes at a = −n".to_string();
+        return Ok(Ok((families, route)));
     }
     Ok(Err(format!("{} ({}){}: not of hypergeometric or confluent hypergeometric type between these ends", an.class, an.reason, setup.words)))
 }
-
 
 /// An exponent's pieces as elements of the base field (points with linear factors and ∞).
 fn pieces(e: &Exponent) -> Option<(RatFunc, i8, Option<RatFunc>, RatFunc)> {
@@ -499,7 +498,6 @@ fn pick_regular(cx: &Ctx, p: &SingularPoint, cond: Condition, rad: &mut Radicals
     let Some(i) = chosen else { return Ok(Err("no exponent fits the end condition".into())) };
     let mut p = cands.swap_remove(i);
     p.words = format!("{} ({})", p.words, cond.name());
-    let _ = sign_of;
     Ok(Ok(p))
 }
 
@@ -554,7 +552,11 @@ fn formal_power(cx: &Ctx, q: &RatFunc, cond: Condition, dir: f64, rad: &mut Radi
     let sigma = k.neg(&k.div(&b, &k.mul(&rat(2, 1), &mu)?)?);
     let mu_text = if mu.uses_var(cx.kv) || mu.uses_var(cx.sv) {
         let root = format!("sqrt({})", print::ratfunc_text(&minus_a, k.names(), print::Style::Text));
-        if sign < 0.0 { format!("-{root}") } else { root }
+        if sign < 0.0 {
+            format!("-{root}")
+        } else {
+            root
+        }
     } else {
         print::ratfunc_text(&mu, k.names(), print::Style::Text)
     };
@@ -677,7 +679,10 @@ fn solve(cx: &Ctx, c: &RatFunc, rad: &Radicals, label: &str) -> Result<std::resu
                 let r2 = k.compose(&k.deriv(&k.deriv(r, cx.freq)?, cx.freq)?, cx.freq, &RatFunc::zero())?;
                 let r0 = k.compose(r, cx.freq, &RatFunc::zero())?;
                 let half = k.div(&r2, &rat(2, 1))?;
-                if !root.b.is_zero() || half.uses_var(cx.freq) || !k.deriv(r, cx.freq)?.is_zero() && !k.compose(&k.deriv(r, cx.freq)?, cx.freq, &RatFunc::zero())?.is_zero() {
+                if !root.b.is_zero()
+                    || half.uses_var(cx.freq)
+                    || !k.deriv(r, cx.freq)?.is_zero() && !k.compose(&k.deriv(r, cx.freq)?, cx.freq, &RatFunc::zero())?.is_zero()
+                {
                     return Ok(Err("the spectral radicand is not linear, nor even, in ω".into()));
                 }
                 let rr = k.div(&k.sub(&sq.a, &r0)?, &half)?;
@@ -742,17 +747,14 @@ fn kappa_family(cx: &Ctx, label: String, value: Surd, kappa: Surd) -> Result<Fam
             break;
         }
     }
-    // An exact bound where κ_n is affine in n: κ = c₀ + c₁ n > 0.
+    // An exact bound where κ_n = c₀ + c₁ n + b√r (b, r free of n): n < −(c₀ + b√r)/c₁.
     let mut bound = None;
-    if kappa.b.is_zero() && last.is_some() {
-        let c1 = k.deriv(&kappa.a, cx.nv)?;
-        if !c1.uses_var(cx.nv) && !c1.is_zero() {
-            let c0 = k.compose(&kappa.a, cx.nv, &RatFunc::zero())?;
-            let nu = k.neg(&k.div(&c0, &c1)?);
-            bound = Some((print::ratfunc_text(&nu, names, print::Style::Text), print::ratfunc_text(&nu, names, print::Style::Latex)));
-        }
-    } else if last.is_some() && !kappa.a.uses_var(cx.nv) {
-        // κ = c₀ + b√r with b affine in n is rare; leave the numeric bound.
+    let c1 = k.deriv(&kappa.a, cx.nv)?;
+    let n_free = |x: &RatFunc| !x.uses_var(cx.nv);
+    if last.is_some() && n_free(&c1) && !c1.is_zero() && n_free(&kappa.b) && n_free(&kappa.r) {
+        let c0 = k.compose(&kappa.a, cx.nv, &RatFunc::zero())?;
+        let nu = Surd { a: k.neg(&k.div(&c0, &c1)?), b: k.neg(&k.div(&kappa.b, &c1)?), r: kappa.r.clone() };
+        bound = Some((nu.text(names), nu.latex(names)));
     }
     let range = NRange { last, bound, branch: "Re κ_n > 0 (κ the square root in the exponents that holds the spectral parameter)".into() };
     Ok(Family { label, value, radical: Some(kappa), range })
