@@ -14,6 +14,14 @@ fn run(args: &[&str]) -> Value {
     serde_json::from_slice(&out.stdout).expect("JSON")
 }
 
+/// `spectrum INPUT… --boundary bound --at AT --overtones OV` as JSON, to 1e-12.
+fn bound(input: &[&str], at: &str, overtones: &str) -> Value {
+    let mut args = vec!["spectrum"];
+    args.extend_from_slice(input);
+    args.extend_from_slice(&["--boundary", "bound", "--at", at, "--overtones", overtones, "--tol", "1e-12", "--format", "json"]);
+    run(&args)
+}
+
 fn c(v: &Value) -> Complex64 {
     Complex64::new(v[0].as_f64().unwrap(), v[1].as_f64().unwrap())
 }
@@ -70,20 +78,7 @@ fn cx(re: f64, im: f64) -> Complex64 {
 fn hydrogen() {
     // E = −Z²/(2(n + l + 1)²) (textbook, e.g. Landau & Lifshitz §36, from memory).
     for (z, l) in [(1.0f64, 0u32), (2.0, 1), (1.5, 2)] {
-        let doc = run(&[
-            "spectrum",
-            "samples/hydrogen_radial.ode",
-            "--boundary",
-            "bound",
-            "--at",
-            &format!("Z={z},l={l}"),
-            "--overtones",
-            "0..2",
-            "--tol",
-            "1e-12",
-            "--format",
-            "json",
-        ]);
+        let doc = bound(&["samples/hydrogen_radial.ode"], &format!("Z={z},l={l}"), "0..2");
         let want: Vec<Complex64> = (0..3).map(|n| cx(-z * z / (2.0 * (n as f64 + l as f64 + 1.0).powi(2)), 0.0)).collect();
         assert_eq!(agree(&doc, &want), 3, "Z={z} l={l}");
         assert_eq!(doc["closed_form"]["families"][0]["expression"], "-1/2*Z^2/(l + n + 1)^2");
@@ -94,25 +89,7 @@ fn hydrogen() {
 fn three_dimensional_oscillator() {
     // ψ'' + (2E − r² − l(l+1)/r²)ψ = 0: E = 2n + l + 3/2 (textbook, from memory); folded by x = r².
     for l in [1u32, 2, 3] {
-        let doc = run(&[
-            "spectrum",
-            "-e",
-            "psi'' + (2*E - r^2 - l*(l+1)/r^2)*psi = 0",
-            "--var",
-            "r",
-            "--frequency",
-            "E",
-            "--boundary",
-            "bound",
-            "--at",
-            &format!("l={l}"),
-            "--overtones",
-            "0..2",
-            "--tol",
-            "1e-12",
-            "--format",
-            "json",
-        ]);
+        let doc = bound(&["-e", "psi'' + (2*E - r^2 - l*(l+1)/r^2)*psi = 0", "--var", "r", "--frequency", "E"], &format!("l={l}"), "0..2");
         let want: Vec<Complex64> = (0..3).map(|n| cx(2.0 * n as f64 + l as f64 + 1.5, 0.0)).collect();
         assert_eq!(agree(&doc, &want), 3, "l={l}");
     }
@@ -123,24 +100,11 @@ fn morse_well() {
     // ψ'' + (E − D(e^{−2x} − 2e^{−x}))ψ = 0: E_n = −(√D − n − ½)², n < √D − ½
     // (P. M. Morse, Phys. Rev. 34 (1929) 57).
     for d in [9.0f64, 12.25, 16.0] {
-        let doc = run(&[
-            "spectrum",
-            "--latex",
-            "-e",
-            r"-\frac{d^{2}\psi}{dx^{2}} + D\left(e^{-2x} - 2e^{-x}\right)\psi = E\psi",
-            "--frequency",
-            "E",
-            "--boundary",
-            "bound",
-            "--at",
+        let doc = bound(
+            &["--latex", "-e", r"-\frac{d^{2}\psi}{dx^{2}} + D\left(e^{-2x} - 2e^{-x}\right)\psi = E\psi", "--frequency", "E"],
             &format!("D={d}"),
-            "--overtones",
             "0..2",
-            "--tol",
-            "1e-12",
-            "--format",
-            "json",
-        ]);
+        );
         let levels = ((d.sqrt() - 0.5).ceil() as u32).min(3);
         let want: Vec<Complex64> = (0..levels).map(|n| cx(-(d.sqrt() - n as f64 - 0.5).powi(2), 0.0)).collect();
         assert!(agree(&doc, &want) >= 2, "D={d}");
@@ -162,20 +126,7 @@ fn poschl_teller_well() {
     std::fs::write(&path, prog).unwrap();
     for (nu, alpha) in [(2.0f64, 1.0f64), (3.0, 1.0), (2.0, 0.7)] {
         let v0 = -alpha * alpha * nu * (nu + 1.0);
-        let doc = run(&[
-            "spectrum",
-            path.to_str().unwrap(),
-            "--boundary",
-            "bound",
-            "--at",
-            &format!("V0={v0},alpha={alpha}"),
-            "--overtones",
-            "0..1",
-            "--tol",
-            "1e-12",
-            "--format",
-            "json",
-        ]);
+        let doc = bound(&[path.to_str().unwrap()], &format!("V0={v0},alpha={alpha}"), "0..1");
         let want: Vec<Complex64> = (0..2).map(|n| cx(-alpha * alpha * (nu - n as f64).powi(2), 0.0)).collect();
         assert_eq!(agree(&doc, &want), 2, "ν={nu} α={alpha}");
     }
@@ -282,25 +233,11 @@ fn global_anti_de_sitter() {
         ]);
         let want: Vec<Complex64> = (0..3).map(|n| cx(l as f64 + 3.0 + 2.0 * n as f64, 0.0)).collect();
         agree(&doc, &want);
-        let doc = run(&[
-            "spectrum",
-            "--boundary",
-            "bound",
-            "-e",
-            "(1+r^2)*((1+r^2)*u')' + (E - (1+r^2)*(l*(l+1)/r^2 + 2))*u = 0",
-            "--var",
-            "r",
-            "--frequency",
-            "E",
-            "--at",
+        let doc = bound(
+            &["-e", "(1+r^2)*((1+r^2)*u')' + (E - (1+r^2)*(l*(l+1)/r^2 + 2))*u = 0", "--var", "r", "--frequency", "E"],
             &format!("l={l}"),
-            "--overtones",
             "0..2",
-            "--tol",
-            "1e-12",
-            "--format",
-            "json",
-        ]);
+        );
         let want: Vec<Complex64> = want.iter().map(|w| w * w).collect();
         assert_eq!(agree(&doc, &want), 3, "l={l}");
     }
