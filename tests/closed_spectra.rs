@@ -144,7 +144,9 @@ fn poschl_teller_barrier() {
             }
         }
         assert_eq!(agree(&doc, &want), 3, "V0={v0} α={a}");
-        assert_eq!(doc["closed_form"]["families"].as_array().unwrap().len(), 2);
+        let fams = doc["closed_form"]["families"].as_array().unwrap();
+        assert_eq!(fams.len(), 2);
+        assert_eq!(fams[0]["expression"], "-I*alpha*n - 1/2*I*alpha + 1/2*sqrt(4*V0 - alpha^2)");
     }
 }
 

@@ -156,7 +156,7 @@ pub fn derive(k: &Field, q: &RatFunc, freq: usize, values: &[GRat], ends: &[EndP
     Ok(Outcome::NotClosed(if heun {
         format!("{} class ({}): the connection problem between the ends is Heun's, with no Gamma-function closed form; {first}", an.class, an.reason)
     } else {
-        first
+        format!("{} ({}): {first}", an.class, an.reason)
     }))
 }
 
@@ -779,12 +779,19 @@ impl Surd {
             print::Style::Latex => format!("\\sqrt{{{}}}", t(&self.r)),
         };
         let times = if style == print::Style::Text { "*" } else { " " };
+        // A real or imaginary constant needs no parentheses.
+        let plain = self.b.as_constant().is_some_and(|c| c.re.is_zero() || c.im.is_zero());
         let b = if self.b == RatFunc::one() {
             root
         } else if self.b == crate::algebra::RatFunc::rat(&Rat::int((-1).into())) {
             format!("-{root}")
+        } else if plain {
+            format!("{}{times}{root}", t(&self.b))
         } else {
-            format!("({}){times}{root}", t(&self.b))
+            match style {
+                print::Style::Text => format!("({}){times}{root}", t(&self.b)),
+                print::Style::Latex => format!("\\left({}\\right){times}{root}", t(&self.b)),
+            }
         };
         if self.a.is_zero() {
             b
