@@ -162,9 +162,10 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
         "wkb" => Method::Wkb,
         "eikonal" => Method::Eikonal,
         "collocation" => Method::Collocation,
+        "exact" => Method::Exact,
         m => {
             return Err(usage(
-                format!("'{m}' is not a method: use auto, cf, integrate, wkb, eikonal or collocation"),
+                format!("'{m}' is not a method: use auto, cf, integrate, wkb, eikonal, collocation or exact"),
                 "method",
                 spec,
                 &[("method".into(), m.into())],
@@ -198,6 +199,7 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
         eikonal_param: None,
         mode_functions: None,
         couple,
+        closed_form: true,
     };
     let report = canonode::solve::request::spectrum(&red, &lreq).map_err(|e| match (&e.origin, &aspec) {
         // Errors of the angular equation point into its own text.

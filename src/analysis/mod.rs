@@ -463,3 +463,9 @@ pub fn canonical(red: &Reduction, an: &Analysis, choices: &canonical::Choices) -
         c => canonical::canonical_form(k, &red.var, &red.p, &red.q, c, &an.points, choices),
     }
 }
+
+/// A quantity of a point's extension as an element of the parameter field,
+/// when it is one (constants at a linear factor and at infinity).
+pub fn ext_base(u: &UPoly) -> Option<RatFunc> {
+    Ext::as_base(u)
+}

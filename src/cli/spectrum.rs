@@ -58,6 +58,22 @@
 //! the previous order), `spread` (|ω_N − ω_{N−1}|, the error estimate),
 //! `optimal_order` (the order of least spread) and `orders`, every order's
 //! {`order`, `omega`, `spread`, `pade`}.
+//!
+//! Every text and JSON document (not CSV) also carries the closed form of
+//! `solve::closed` (rendered in `emit::spectrum`): `closed_form` — null
+//! when there is none, with the reason in `closed_form_note` (a Heun-class
+//! problem says so) — or {`route` (the connection formula and the maps, in
+//! words), `families`: [{`family` (the exponent choices and root, in
+//! words), `expression` (the spectral parameter as text in the input
+//! language, in `n` and the parameters), `latex`, `n_range` {`first`,
+//! `last` (null: unbounded; −1: no member at these values), `bound` ("n <
+//! EXPR" when the branch ends the family, or null), `branch` (the branch
+//! condition, or null)}, `values`: [{`n`, `omega` [re, im], `method`
+//! "exact", `check` (null, or the numeric mode of the same run at this
+//! value: {`method`, `n`, `omega`, `agreement` (relative)})}]}]}. With
+//! `--method exact` the document holds only the closed form: `modes` are its
+//! values (`method` "exact", `family` the family's number from 1, `check`
+//! null).
 
 use super::values::parse_assignments;
 use super::{run_command, Failure, InputArgs};
@@ -103,6 +119,8 @@ pub(crate) enum Method {
     Eikonal,
     /// Chebyshev collocation (bound states; the default there), each eigenvalue checked by shooting.
     Collocation,
+    /// The closed form alone (hypergeometric and confluent hypergeometric problems): exact expressions and their values, no numeric check.
+    Exact,
 }
 
 /// Arguments of `spectrum`.
@@ -234,6 +252,7 @@ fn request(a: &SpectrumArgs, overtones: (u32, u32), guess: Option<Complex64>, co
             Method::Wkb => LibMethod::Wkb,
             Method::Eikonal => LibMethod::Eikonal,
             Method::Collocation => LibMethod::Collocation,
+            Method::Exact => LibMethod::Exact,
         },
         guess,
         tol: a.tol,
@@ -241,6 +260,8 @@ fn request(a: &SpectrumArgs, overtones: (u32, u32), guess: Option<Complex64>, co
         eikonal_param: a.eikonal_param.clone(),
         mode_functions: a.mode_functions.as_ref().map(|_| a.mode_reach),
         couple,
+        // The closed form goes into text and JSON (CSV stays one line per mode).
+        closed_form: a.format != SpecFormat::Csv,
     })
 }
 

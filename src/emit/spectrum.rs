@@ -5,7 +5,8 @@
 
 use super::numbers::fmt_complex;
 use crate::solve::boundary::{location_text, End, Location};
-use crate::solve::request::{Body, Problem, BoundReport, EndsReport, EstimateReport, RecurrenceReport, SpectrumReport};
+use crate::solve::closed::ClosedForm;
+use crate::solve::request::{Body, ClosedSection, Problem, BoundReport, EndsReport, EstimateReport, RecurrenceReport, SpectrumReport};
 use crate::solve::shoot::BoundCheck;
 use crate::solve::wkb::in_lower_half_plane;
 use num_complex::Complex64;
@@ -34,12 +35,24 @@ fn opt_num(x: Option<f64>) -> Value {
 
 /// The report as its JSON document.
 pub fn json(r: &SpectrumReport) -> Value {
-    match &r.body {
+    let mut doc = match &r.body {
         Body::Recurrence(b) => recurrence_json(&r.frequency, b),
         Body::Ends(b) => ends_json(&r.frequency, b),
         Body::Bound(b) => bound_json(&r.frequency, b),
         Body::Estimates(b) => estimates_json(&r.frequency, b),
+        Body::Exact => exact_json(r),
+    };
+    let numeric = r.body.converged();
+    let (cf, note) = match &r.closed {
+        ClosedSection::Found { form, values } => (closed_json(form, values, &numeric), Value::Null),
+        ClosedSection::None(why) => (Value::Null, json!(why)),
+        ClosedSection::NotAsked => return doc,
+    };
+    if let Value::Object(m) = &mut doc {
+        m.insert("closed_form".into(), cf);
+        m.insert("closed_form_note".into(), note);
     }
+    doc
 }
 
 /// The report as CSV, one line per mode.
@@ -49,17 +62,133 @@ pub fn csv(r: &SpectrumReport) -> String {
         Body::Ends(b) => ends_csv(b),
         Body::Bound(b) => bound_csv(b),
         Body::Estimates(b) => estimates_csv(b),
+        Body::Exact => exact_csv(r),
     }
 }
 
 /// The report as a text table with the evidence; `source` names the equation.
 pub fn text(r: &SpectrumReport, source: &str) -> String {
-    match &r.body {
+    let mut o = match &r.body {
         Body::Recurrence(b) => recurrence_text(&r.frequency, &r.var, source, b),
         Body::Ends(b) => ends_text(&r.frequency, &r.var, source, b),
         Body::Bound(b) => bound_text(&r.frequency, source, b),
         Body::Estimates(b) => estimates_text(&r.frequency, source, b),
+        Body::Exact => format!(
+            "{} in {} from the closed form alone (--method exact: no numeric check)\n",
+            match r.problem {
+                Problem::Bound => "bound states",
+                Problem::QuasiBound => "quasi-bound states",
+                Problem::Quasinormal => "quasinormal modes",
+            },
+            r.frequency
+        ),
+    };
+    match &r.closed {
+        ClosedSection::Found { form, values } => o.push_str(&closed_text(&r.frequency, form, values)),
+        ClosedSection::None(why) => o.push_str(&format!("\nclosed form: none ({why})\n")),
+        ClosedSection::NotAsked => {}
     }
+    o
+}
+
+/// How near a numeric mode must lie to an exact value to count as its check (relative).
+const CLOSED_CHECK_NEAR: f64 = 1e-6;
+
+fn boundary_name(p: Problem) -> &'static str {
+    match p {
+        Problem::Quasinormal => "qnm",
+        Problem::QuasiBound => "quasi-bound",
+        Problem::Bound => "bound",
+    }
+}
+
+/// The values of every family, numbered: (family from 1, n, value).
+fn exact_values(r: &SpectrumReport) -> Vec<(usize, u32, Complex64)> {
+    let ClosedSection::Found { values, .. } = &r.closed else { return Vec::new() };
+    values.iter().enumerate().flat_map(|(i, vs)| vs.iter().map(move |(n, w)| (i + 1, *n, *w))).collect()
+}
+
+fn exact_json(r: &SpectrumReport) -> Value {
+    let ms: Vec<Value> = exact_values(r)
+        .iter()
+        .map(|(fam, n, w)| {
+            json!({"n": n, "family": fam, "omega": pair(*w), "converged": true, "reason": Value::Null, "method": "exact", "evidence": Value::Null, "check": Value::Null})
+        })
+        .collect();
+    json!({"frequency": r.frequency, "boundary": boundary_name(r.problem), "method": "exact", "modes": ms})
+}
+
+fn exact_csv(r: &SpectrumReport) -> String {
+    let mut s = "n,family,re,im,method\n".to_string();
+    for (fam, n, w) in exact_values(r) {
+        s.push_str(&format!("{n},{fam},{:.17e},{:.17e},exact\n", w.re, w.im));
+    }
+    s
+}
+
+fn closed_range_json(f: &crate::solve::closed::Family) -> Value {
+    let last = match f.range.last {
+        Some(u32::MAX) => json!(-1),
+        Some(l) => json!(l),
+        None => Value::Null,
+    };
+    json!({
+        "first": 0,
+        "last": last,
+        "bound": f.range.bound.as_ref().map(|(t, _)| format!("n < {t}")),
+        "branch": if f.range.branch.is_empty() { Value::Null } else { json!(f.range.branch) },
+    })
+}
+
+fn closed_json(form: &ClosedForm, values: &[Vec<(u32, Complex64)>], numeric: &[(u32, Complex64, &'static str)]) -> Value {
+    let fams: Vec<Value> = form
+        .families
+        .iter()
+        .zip(values)
+        .map(|(f, vs)| {
+            let values: Vec<Value> = vs
+                .iter()
+                .map(|(n, w)| {
+                    // The numeric mode of this run at this value, if any.
+                    let near = numeric.iter().min_by(|a, b| (a.1 - w).norm().total_cmp(&(b.1 - w).norm()));
+                    let check = near.filter(|(_, mw, _)| (mw - w).norm() <= CLOSED_CHECK_NEAR * w.norm().max(1.0)).map_or(Value::Null, |(mn, mw, method)| {
+                        json!({"method": method, "n": mn, "omega": pair(*mw), "agreement": (mw - w).norm() / w.norm().max(1e-300)})
+                    });
+                    json!({"n": n, "omega": pair(*w), "method": "exact", "check": check})
+                })
+                .collect();
+            json!({
+                "family": f.label,
+                "expression": f.value.text(&form.names),
+                "latex": f.value.latex(&form.names),
+                "n_range": closed_range_json(f),
+                "values": values,
+            })
+        })
+        .collect();
+    json!({"route": form.route, "families": fams})
+}
+
+fn closed_text(fname: &str, form: &ClosedForm, values: &[Vec<(u32, Complex64)>]) -> String {
+    let mut s = format!("\nclosed form ({})\n", form.route);
+    for (i, (f, vs)) in form.families.iter().zip(values).enumerate() {
+        s.push_str(&format!("  family {}: {}\n", i + 1, f.label));
+        s.push_str(&format!("    {fname} = {}\n", f.value.text(&form.names)));
+        let range = match (f.range.last, &f.range.bound) {
+            (Some(u32::MAX), _) => "no member at these values".to_string(),
+            (Some(l), Some((b, _))) => format!("0 <= n < {b}  (n <= {l} at these values)"),
+            (Some(l), None) => format!("0 <= n <= {l} at these values"),
+            (None, _) => "n = 0, 1, 2, ...".to_string(),
+        };
+        s.push_str(&format!("    n: {range}\n"));
+        if !f.range.branch.is_empty() {
+            s.push_str(&format!("    branch: {}\n", f.range.branch));
+        }
+        for (n, w) in vs {
+            s.push_str(&format!("    n = {n}: {}  (exact)\n", fmt_complex(w.re, w.im)));
+        }
+    }
+    s
 }
 
 fn recurrence_method(b: &RecurrenceReport) -> &'static str {

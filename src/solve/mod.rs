@@ -9,6 +9,7 @@ pub mod coupled;
 pub mod wkb;
 
 pub mod boundary;
+pub mod closed;
 pub mod ends;
 pub mod global;
 pub mod integrate;

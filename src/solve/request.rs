@@ -54,6 +54,8 @@ pub enum Method {
     Eikonal,
     /// Chebyshev collocation (bound states).
     Collocation,
+    /// The closed form alone (hypergeometric and confluent hypergeometric problems): exact values, no numeric check.
+    Exact,
 }
 
 /// The angular side of a coupled solve (a separation constant shared by two equations).
@@ -100,6 +102,8 @@ pub struct SpectrumRequest {
     pub mode_functions: Option<Option<f64>>,
     /// An angular equation sharing the separation constant.
     pub couple: Option<CoupleRequest>,
+    /// Derive the closed form of a solvable problem beside the numeric modes (a few milliseconds).
+    pub closed_form: bool,
 }
 
 /// Each converged mode's function, sampled on the real axis.
@@ -195,6 +199,8 @@ pub enum Body {
     Bound(BoundReport),
     /// WKB or eikonal estimates.
     Estimates(EstimateReport),
+    /// The closed form alone (`Method::Exact`).
+    Exact,
 }
 
 /// The result of [`spectrum`].
@@ -208,6 +214,26 @@ pub struct SpectrumReport {
     pub body: Body,
     /// The mode functions, when asked for.
     pub mode_functions: Option<ModeFunctions>,
+    /// The exact spectrum of a solvable problem (`solve::closed`), or why there is none.
+    pub closed: ClosedSection,
+    /// The kind of spectrum asked for.
+    pub problem: Problem,
+}
+
+/// The closed-form part of a report.
+#[derive(Debug)]
+pub enum ClosedSection {
+    /// A closed form, with each family's values at the overtones asked for.
+    Found {
+        /// The families and their exact expressions.
+        form: super::closed::ClosedForm,
+        /// Per family: (n, value) for the overtones asked for that the family has.
+        values: Vec<Vec<(u32, Complex64)>>,
+    },
+    /// None, with the reason (a Heun-class problem says so).
+    None(String),
+    /// Not derived (CSV output of a numeric route, or a coupled solve).
+    NotAsked,
 }
 
 fn usage(msg: impl Into<String>) -> Error {
@@ -309,15 +335,110 @@ fn point(red: &Reduction, req: &SpectrumRequest, freq: usize) -> Result<Vec<GRat
     Ok(point)
 }
 
-/// Computes the spectrum a request asks for.
+/// Computes the spectrum a request asks for: the numeric route's modes with
+/// their evidence and, when asked, the closed form of a solvable problem
+/// (each exact value checked against the numeric modes by the renderer).
 pub fn spectrum(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
+    if req.method == Method::Exact {
+        return exact_only(red, req);
+    }
+    let mut report = numeric(red, req)?;
+    if req.closed_form && req.couple.is_none() {
+        let (freq, _) = frequency(red, req)?;
+        let point = point(red, req, freq)?;
+        let ends = match &report.body {
+            Body::Bound(b) => bound_ends(b.domain),
+            Body::Ends(e) => Some(problem_ends(&e.problem)),
+            Body::Recurrence(_) | Body::Estimates(_) | Body::Exact => {
+                let sub = super::spectrum::substitute(red, &point, freq)?;
+                boundary_problem(&sub, req, &point, freq).0.ok().map(|bp| problem_ends(&bp))
+            }
+        };
+        report.closed = closed_section(red, req, freq, &point, ends);
+    }
+    Ok(report)
+}
+
+/// The ends of a bound-state domain for the closed form: normalisable at both.
+fn bound_ends(domain: Domain) -> Option<[super::closed::EndPick; 2]> {
+    let pick = |location| super::closed::EndPick { location, condition: Condition::Normalisable };
+    match domain {
+        Domain::Finite(a, b) => Some([pick(Location::At(a)), pick(Location::At(b))]),
+        Domain::HalfLine(a) => Some([pick(Location::At(a)), pick(Location::Infinity)]),
+        Domain::Line => None,
+    }
+}
+
+/// The ends of a boundary problem for the closed form.
+fn problem_ends(bp: &BoundaryProblem) -> [super::closed::EndPick; 2] {
+    bp.ends.clone().map(|e| super::closed::EndPick { location: e.location, condition: e.condition })
+}
+
+/// The closed form on the symbolic equation between `ends`, with its values at the overtones asked for.
+fn closed_section(red: &Reduction, req: &SpectrumRequest, freq: usize, point: &[GRat], ends: Option<[super::closed::EndPick; 2]>) -> ClosedSection {
+    let Some(ends) = ends else {
+        return ClosedSection::None("the domain is the whole line (both ends at the same point at infinity)".into());
+    };
+    match super::closed::derive(&red.field, &red.normal.q, freq, point, &ends) {
+        Ok(super::closed::Outcome::Closed(form)) => {
+            let values = form
+                .families
+                .iter()
+                .map(|f| (req.overtones.0..=req.overtones.1).filter_map(|n| form.value(f, point, n).map(|w| (n, w))).collect())
+                .collect();
+            ClosedSection::Found { form, values }
+        }
+        Ok(super::closed::Outcome::NotClosed(why)) => ClosedSection::None(why),
+        Err(e) => ClosedSection::None(format!("the derivation stopped: {}", e.message)),
+    }
+}
+
+/// `Method::Exact`: the closed form alone, an error when there is none.
+fn exact_only(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
+    let (freq, fname) = frequency(red, req)?;
+    let point = point(red, req, freq)?;
+    let sub = super::spectrum::substitute(red, &point, freq)?;
+    let ends = if req.problem == Problem::Bound && req.ends.is_none() {
+        super::collocation::bound_problem(&sub, freq, &point).ok().and_then(|(d, _)| bound_ends(d))
+    } else {
+        Some(problem_ends(&boundary_problem(&sub, req, &point, freq).0?))
+    };
+    let closed = closed_section(red, req, freq, &point, ends);
+    if let ClosedSection::None(why) = &closed {
+        return Err(method_error(&format!("no closed form for this problem: {why}")));
+    }
+    Ok(SpectrumReport { frequency: fname, var: red.var.clone(), body: Body::Exact, mode_functions: None, closed, problem: req.problem })
+}
+
+impl Body {
+    /// The converged modes of the numeric route: (n, value, method).
+    pub fn converged(&self) -> Vec<(u32, Complex64, &'static str)> {
+        match self {
+            Body::Recurrence(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, m.method)).collect(),
+            Body::Ends(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, "integrate")).collect(),
+            Body::Bound(b) => b.states.iter().filter(|s| s.converged).map(|s| (s.n, s.value, "collocation")).collect(),
+            Body::Estimates(_) | Body::Exact => Vec::new(),
+        }
+    }
+}
+
+/// The numeric route of [`spectrum`].
+fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
     if !(1..=super::wkb::MAX_ORDER).contains(&req.wkb_order) {
         return Err(usage(format!("the WKB order must lie in 1..={}", super::wkb::MAX_ORDER)).in_option("--wkb-order"));
     }
     let (freq, fname) = frequency(red, req)?;
     let point = point(red, req, freq)?;
     let opts = SpectrumOptions { freq, values: point.clone(), overtones: req.overtones, tol: req.tol, guess: req.guess, seeds: Vec::new() };
-    let report = |body: Body, mode_functions: Option<ModeFunctions>| SpectrumReport { frequency: fname.clone(), var: red.var.clone(), body, mode_functions };
+    let report =
+        |body: Body, mode_functions: Option<ModeFunctions>| SpectrumReport {
+        frequency: fname.clone(),
+        var: red.var.clone(),
+        body,
+        mode_functions,
+        closed: ClosedSection::NotAsked,
+        problem: req.problem,
+    };
     if let Some(c) = &req.couple {
         if req.problem != Problem::Quasinormal || !matches!(req.method, Method::Auto | Method::Cf) {
             return Err(method_error("a coupled solve uses the continued fraction (--method auto or cf); direct integration runs as its check"));

@@ -1,0 +1,255 @@
+//! Closed-form spectra (`spectrum`'s `closed_form`): each family's exact
+//! expression evaluated against the published formula (source beside each)
+//! and against the numeric modes of the same run (collocation, the
+//! terminating recurrence or direct integration) to ≥ 10 digits, at several
+//! parameter points.
+
+use num_complex::Complex64;
+use serde_json::Value;
+use std::process::Command;
+
+fn run(args: &[&str]) -> Value {
+    let out = Command::new(env!("CARGO_BIN_EXE_canonode")).args(args).current_dir(env!("CARGO_MANIFEST_DIR")).output().expect("binary runs");
+    assert!(out.status.success(), "{args:?}: {}", String::from_utf8_lossy(&out.stderr));
+    serde_json::from_slice(&out.stdout).expect("JSON")
+}
+
+/// `spectrum INPUT… --boundary bound --at AT --overtones OV` as JSON, to 1e-12.
+fn bound(input: &[&str], at: &str, overtones: &str) -> Value {
+    let mut args = vec!["spectrum"];
+    args.extend_from_slice(input);
+    args.extend_from_slice(&["--boundary", "bound", "--at", at, "--overtones", overtones, "--tol", "1e-12", "--format", "json"]);
+    run(&args)
+}
+
+fn c(v: &Value) -> Complex64 {
+    Complex64::new(v[0].as_f64().unwrap(), v[1].as_f64().unwrap())
+}
+
+/// Every exact value of every family: (family index, n, ω).
+fn exact(doc: &Value) -> Vec<(usize, u64, Complex64)> {
+    let fams = doc["closed_form"]["families"].as_array().unwrap_or_else(|| panic!("no closed form: {}", doc["closed_form_note"]));
+    let mut out = Vec::new();
+    for (i, f) in fams.iter().enumerate() {
+        for x in f["values"].as_array().unwrap() {
+            assert_eq!(x["method"], "exact");
+            out.push((i, x["n"].as_u64().unwrap(), c(&x["omega"])));
+        }
+    }
+    out
+}
+
+fn close(a: Complex64, b: Complex64, rel: f64) -> bool {
+    (a - b).norm() <= rel * b.norm().max(1.0)
+}
+
+/// The formula's values are among the exact ones (1e-12), and every
+/// converged numeric mode of the run is an exact value to 1e-10, which
+/// the document's own `check` also records; returns how many numeric modes matched.
+fn agree(doc: &Value, want: &[Complex64]) -> usize {
+    let ex = exact(doc);
+    for w in want {
+        assert!(ex.iter().any(|(_, _, e)| close(*e, *w, 1e-12)), "formula value {w} not among {ex:?}");
+    }
+    let mut matched = 0;
+    for m in doc["modes"].as_array().unwrap() {
+        if m["converged"] != true {
+            continue;
+        }
+        let w = c(&m["omega"]);
+        assert!(ex.iter().any(|(_, _, e)| close(w, *e, 1e-10)), "numeric mode {w} ({}) is no exact value: {ex:?}", m["method"]);
+        matched += 1;
+    }
+    for f in doc["closed_form"]["families"].as_array().unwrap() {
+        for x in f["values"].as_array().unwrap() {
+            if let Some(a) = x["check"]["agreement"].as_f64() {
+                assert!(a <= 1e-10, "{x}");
+            }
+        }
+    }
+    matched
+}
+
+fn cx(re: f64, im: f64) -> Complex64 {
+    Complex64::new(re, im)
+}
+
+#[test]
+fn hydrogen() {
+    // E = −Z²/(2(n + l + 1)²) (textbook, e.g. Landau & Lifshitz §36, from memory).
+    for (z, l) in [(1.0f64, 0u32), (2.0, 1), (1.5, 2)] {
+        let doc = bound(&["samples/hydrogen_radial.ode"], &format!("Z={z},l={l}"), "0..2");
+        let want: Vec<Complex64> = (0..3).map(|n| cx(-z * z / (2.0 * (n as f64 + l as f64 + 1.0).powi(2)), 0.0)).collect();
+        assert_eq!(agree(&doc, &want), 3, "Z={z} l={l}");
+        assert_eq!(doc["closed_form"]["families"][0]["expression"], "-1/2*Z^2/(l + n + 1)^2");
+    }
+}
+
+#[test]
+fn three_dimensional_oscillator() {
+    // ψ'' + (2E − r² − l(l+1)/r²)ψ = 0: E = 2n + l + 3/2 (textbook, from memory); folded by x = r².
+    for l in [1u32, 2, 3] {
+        let doc = bound(&["-e", "psi'' + (2*E - r^2 - l*(l+1)/r^2)*psi = 0", "--var", "r", "--frequency", "E"], &format!("l={l}"), "0..2");
+        let want: Vec<Complex64> = (0..3).map(|n| cx(2.0 * n as f64 + l as f64 + 1.5, 0.0)).collect();
+        assert_eq!(agree(&doc, &want), 3, "l={l}");
+    }
+}
+
+#[test]
+fn morse_well() {
+    // ψ'' + (E − D(e^{−2x} − 2e^{−x}))ψ = 0: E_n = −(√D − n − ½)², n < √D − ½
+    // (P. M. Morse, Phys. Rev. 34 (1929) 57).
+    for d in [9.0f64, 12.25, 16.0] {
+        let doc = bound(
+            &["--latex", "-e", r"-\frac{d^{2}\psi}{dx^{2}} + D\left(e^{-2x} - 2e^{-x}\right)\psi = E\psi", "--frequency", "E"],
+            &format!("D={d}"),
+            "0..2",
+        );
+        let levels = ((d.sqrt() - 0.5).ceil() as u32).min(3);
+        let want: Vec<Complex64> = (0..levels).map(|n| cx(-(d.sqrt() - n as f64 - 0.5).powi(2), 0.0)).collect();
+        assert!(agree(&doc, &want) >= 2, "D={d}");
+        // The family ends where √D − n − ½ changes sign.
+        let fam = &doc["closed_form"]["families"][0];
+        assert_eq!(fam["n_range"]["last"].as_u64().unwrap(), ((d.sqrt() - 0.5).ceil() as u64) - 1, "{fam}");
+    }
+}
+
+#[test]
+fn poschl_teller_well() {
+    // α² g (g φ')' + (E − V0 g) φ = 0 with g = 1 − u², u = tanh(αx): the well
+    // V0/cosh²(αx), V0 = −α²ν(ν + 1): E_n = −α²(ν − n)², n < ν (Landau &
+    // Lifshitz §23, from memory; with α = 1, E_n = −(ν − n)²).
+    let prog = "var u\nparam V0, alpha, E\nlet g = 1 - u^2\nunknown phi\node alpha^2*g*(g*phi')' + (E - V0*g)*phi = 0\n";
+    let dir = std::env::temp_dir().join(format!("canonode-closed-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("well.ode");
+    std::fs::write(&path, prog).unwrap();
+    for (nu, alpha) in [(2.0f64, 1.0f64), (3.0, 1.0), (2.0, 0.7)] {
+        let v0 = -alpha * alpha * nu * (nu + 1.0);
+        let doc = bound(&[path.to_str().unwrap()], &format!("V0={v0},alpha={alpha}"), "0..1");
+        let want: Vec<Complex64> = (0..2).map(|n| cx(-alpha * alpha * (nu - n as f64).powi(2), 0.0)).collect();
+        assert_eq!(agree(&doc, &want), 2, "ν={nu} α={alpha}");
+    }
+}
+
+#[test]
+fn poschl_teller_barrier() {
+    // ω = ±√(V0 − α²/4) − iα(n + ½) (V. Ferrari & B. Mashhoon, Phys. Rev. D 30 (1984) 295).
+    for (v0, a) in [(1.0f64, 0.5f64), (2.0, 0.3), (3.7, 1.1)] {
+        let doc = run(&["spectrum", "samples/poschl_teller.ode", "--at", &format!("V0={v0},alpha={a}"), "--overtones", "0..2", "--format", "json"]);
+        let mut want = Vec::new();
+        for n in 0..3 {
+            for s in [1.0, -1.0] {
+                want.push(cx(s * (v0 - a * a / 4.0).sqrt(), -a * (n as f64 + 0.5)));
+            }
+        }
+        assert_eq!(agree(&doc, &want), 3, "V0={v0} α={a}");
+        let fams = doc["closed_form"]["families"].as_array().unwrap();
+        assert_eq!(fams.len(), 2);
+        assert_eq!(fams[0]["expression"], "-I*alpha*n - 1/2*I*alpha + 1/2*sqrt(4*V0 - alpha^2)");
+    }
+}
+
+#[test]
+fn btz() {
+    // ω = ±k − 2i r₊(n + 1), massless scalar, L = 1 (D. Birmingham, I. Sachs &
+    // S. N. Solodukhin, Phys. Rev. Lett. 88 (2002) 151301); numeric check by
+    // direct integration from a seed near the fundamental mode.
+    for (rp, k) in [(1.0f64, 1.0f64), (1.5, 2.0), (0.7, 0.3)] {
+        let guess = format!("{}{:+}i", k * 1.03, -2.0 * rp * 0.97);
+        let doc = run(&[
+            "spectrum",
+            "tests/boundary/btz_scalar.ode",
+            "--at",
+            &format!("rp={rp},k={k}"),
+            "--guess",
+            &guess,
+            "--tol",
+            "1e-12",
+            "--format",
+            "json",
+        ]);
+        let want = [cx(k, -2.0 * rp), cx(-k, -2.0 * rp)];
+        assert_eq!(agree(&doc, &want), 1, "rp={rp} k={k}");
+        let fams = doc["closed_form"]["families"].as_array().unwrap();
+        assert!(fams.iter().any(|f| f["expression"] == "-2*I*rp*n - 2*I*rp + k"), "{fams:?}");
+    }
+}
+
+#[test]
+fn de_sitter_static_patch() {
+    // Derived here from the hypergeometric solution: with x = r², the
+    // regular solution is R = x^(l/2) (1 − x)^(−iω/2) F(a, b; l + 3/2; x),
+    // a = (l + Δ₊ − iω)/2, b = (l + Δ₋ − iω)/2, Δ± = 3/2 ± √(9/4 − m²) (the
+    // indicial exponents at ∞ of the massive wave equation); the term
+    // (1 − x)^(c − a − b) = (1 − x)^(iω) would come out of the horizon, and its
+    // coefficient Γ(c)Γ(a + b − c)/(Γ(a)Γ(b)) (DLMF 15.10.21) vanishes iff
+    // a = −n or b = −n: ω = −i(l + Δ± + 2n). Numeric check: direct
+    // integration from a seed near each family's fundamental mode.
+    for (l, m) in [(1.0f64, 1.0f64), (2.0, 0.5), (3.0, 1.2)] {
+        let d = (2.25 - m * m).sqrt();
+        for delta in [1.5 + d, 1.5 - d] {
+            let w0 = cx(0.0, -(l + delta));
+            let guess = format!("0.003{:+}i", w0.im * 1.004);
+            let doc = run(&[
+                "spectrum",
+                "tests/boundary/de_sitter_static_scalar.ode",
+                "--at",
+                &format!("l={l},m={m}"),
+                "--ends",
+                "0..1",
+                "--guess",
+                &guess,
+                "--tol",
+                "1e-12",
+                "--overtones",
+                "0",
+                "--format",
+                "json",
+            ]);
+            let want: Vec<Complex64> = (0..1).map(|n| cx(0.0, -(l + delta + 2.0 * n as f64))).collect();
+            assert_eq!(agree(&doc, &want), 1, "l={l} m={m} Δ={delta}");
+        }
+    }
+}
+
+#[test]
+fn global_anti_de_sitter() {
+    // Massless scalar in global AdS₄, L = 1: ω = l + 3 + 2n (exact; the
+    // normalisable fall-off Δ = 3). The closed form in ω, and the same
+    // problem in E = ω² solved by collocation as the numeric check.
+    for l in [1u32, 2, 3] {
+        let doc = run(&[
+            "spectrum",
+            "tests/boundary/ads4_global_scalar.ode",
+            "--at",
+            &format!("l={l}"),
+            "--ends",
+            "0..inf",
+            "--method",
+            "exact",
+            "--overtones",
+            "0..2",
+            "--format",
+            "json",
+        ]);
+        let want: Vec<Complex64> = (0..3).map(|n| cx(l as f64 + 3.0 + 2.0 * n as f64, 0.0)).collect();
+        agree(&doc, &want);
+        let doc = bound(
+            &["-e", "(1+r^2)*((1+r^2)*u')' + (E - (1+r^2)*(l*(l+1)/r^2 + 2))*u = 0", "--var", "r", "--frequency", "E"],
+            &format!("l={l}"),
+            "0..2",
+        );
+        let want: Vec<Complex64> = want.iter().map(|w| w * w).collect();
+        assert_eq!(agree(&doc, &want), 3, "l={l}");
+    }
+}
+
+#[test]
+fn heun_class_problems_say_so() {
+    // Schwarzschild (Regge–Wheeler) is confluent Heun: no closed form, said plainly.
+    let doc = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--format", "json"]);
+    assert!(doc["closed_form"].is_null());
+    let note = doc["closed_form_note"].as_str().unwrap();
+    assert!(note.contains("heun") && note.contains("Heun's"), "{note}");
+}
