@@ -52,7 +52,10 @@ fn random_point(rng: &mut Rng, n: usize) -> Vec<GRat> {
 }
 
 /// Points where every output is finite and not tiny or huge (away from poles and zeros).
-fn points(outputs: &[RatFunc], nvars: usize, count: usize, seed: u64) -> Vec<(Vec<GRat>, Vec<(f64, f64)>)> {
+/// A parameter point and the expected outputs there.
+type Sample = (Vec<GRat>, Vec<(f64, f64)>);
+
+fn points(outputs: &[RatFunc], nvars: usize, count: usize, seed: u64) -> Vec<Sample> {
     let mut rng = Rng::new(seed);
     let mut out = Vec::new();
     let mut tries = 0;

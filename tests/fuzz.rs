@@ -267,7 +267,8 @@ fn soup(rng: &mut Rng) -> Case {
     let n = rng.range(1, 40) as usize;
     let mut body = String::new();
     for _ in 0..n {
-        body.push_str(*rng.pick(TOKENS)); // `pick` is generic: the explicit deref picks the `str`
+        let token: &&str = rng.pick(TOKENS);
+        body.push_str(token);
         if rng.chance(30, 100) {
             body.push(' ');
         }

@@ -248,9 +248,12 @@ fn exact_real(t: &str) -> Option<Rat> {
 /// is exactly the decimal the command line would be given).
 pub(crate) type Values = Vec<(String, String, String, String)>;
 
+/// One value: the name, the exact value, its span in the values' text.
+pub(crate) type Assignment = (String, GRat, Span);
+
 /// The values as `name=value` text (what errors point into, keyword `kw`)
 /// and each value exact with the span of its entry.
-pub(crate) fn read_values(values: &Values, kw: &str, spec: &Spec) -> Result<(String, Vec<(String, GRat, Span)>), Fail> {
+pub(crate) fn read_values(values: &Values, kw: &str, spec: &Spec) -> Result<(String, Vec<Assignment>), Fail> {
     let mut text = String::new();
     let mut spans = Vec::new();
     for (n, shown, _, _) in values {

@@ -287,7 +287,7 @@ pub fn derive(source: &str, source_path: &str, opts: &ReduceOptions) -> Result<R
     derive_with(source, source_path, opts, &RecurrenceRequest::default())
 }
 
-/// [`derive`] with the recurrence chosen by `req`; the request is written
+/// [`derive()`] with the recurrence chosen by `req`; the request is written
 /// into the record (`option.about`, `option.series`, `option.exponents`) so
 /// that `check` recomputes the same one.
 pub fn derive_with(source: &str, source_path: &str, opts: &ReduceOptions, req: &RecurrenceRequest) -> Result<Record> {

@@ -11,10 +11,10 @@ use crate::error::{Error, ErrorKind, Result};
 use crate::series::Recurrence;
 use num_complex::Complex64;
 
-/// A polynomial Σ c[a][b] nᵃ ωᵇ with complex coefficients.
+/// A polynomial Σ `c[a][b]` nᵃ ωᵇ with complex coefficients.
 #[derive(Clone, Debug, Default)]
 pub struct NPoly {
-    /// c[a][b] multiplies nᵃ ωᵇ.
+    /// `c[a][b]` multiplies nᵃ ωᵇ.
     pub c: Vec<Vec<Complex64>>,
 }
 

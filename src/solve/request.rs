@@ -188,8 +188,9 @@ pub struct EstimateReport {
     pub rows: Vec<(u32, Option<BarrierEstimate>)>,
 }
 
-/// What was found, by which route.
+/// What was found, by which route (one report per call: the variants' sizes do not matter).
 #[derive(Debug)]
+#[allow(clippy::large_enum_variant)]
 pub enum Body {
     /// The exact recurrence's continued fraction (or termination).
     Recurrence(RecurrenceReport),

@@ -19,12 +19,12 @@
 //! z_m; there y_h = a·u_in + b·u_out by a 2 × 2 solve.
 //!
 //! Fluxes. For real coefficients the conjugate of a solution is a solution,
-//! and J[y] = Im(ȳ y') e^{∫B/A} is constant (the Wronskian of y and ȳ, common
+//! and `J[y]` = Im(ȳ y') e^{∫B/A} is constant (the Wronskian of y and ȳ, common
 //! practice). All fluxes are taken at z_m, where the weight e^{∫B/A} is one
 //! common factor, so it cancels from the ratios:
-//! transmission |T|² = J[y_h] / (|a|² J[u_in]) (the transmitted over the
-//! incident flux: the greybody factor), reflection |R|² = |b|² |J[u_out]| /
-//! (|a|² |J[u_in]|). Neither depends on how the branches are normalised.
+//! transmission |T|² = `J[y_h] / (|a|² J[u_in])` (the transmitted over the
+//! incident flux: the greybody factor), reflection |R|² =
+//! `|b|² |J[u_out]| / (|a|² |J[u_in]|)`. Neither depends on how the branches are normalised.
 //! Since the two far branches are computed independently, the identity
 //! |R|² + |T|² = 1 holds only as far as they are truly each other's complex
 //! conjugates (the cross term of J vanishes); `flux_error` = |R|² + |T|² − 1

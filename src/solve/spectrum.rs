@@ -105,7 +105,7 @@ pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate:
             }
             Place::Roots(f) => {
                 // The outermost real root of the factor (the labels were decided there).
-                if let Some(z) = vals.roots(f).and_then(|r| r.into_iter().filter(|z| z.im.abs() < 1e-10 * z.re.abs().max(1.0)).last()) {
+                if let Some(z) = vals.roots(f).and_then(|r| r.into_iter().rfind(|z| z.im.abs() < 1e-10 * z.re.abs().max(1.0))) {
                     if best_root.is_none_or(|(b, _)| z.re > b) {
                         best_root = Some((z.re, i));
                     }
@@ -235,7 +235,7 @@ pub fn qnm_modes_from(
     first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
 ) -> Result<(Vec<Mode>, Setup)> {
     if rec.coeffs.len() == 2 && setup.theta.is_none() {
-        let num = try_numeric(&rec, &opts.values, opts.freq)?;
+        let num = try_numeric(rec, &opts.values, opts.freq)?;
         let modes = (opts.overtones.0..=opts.overtones.1).map(|n| terminating_mode(&num, n)).collect();
         return Ok((modes, setup));
     }
@@ -291,8 +291,8 @@ pub fn overtones(
         let idx = (n - opts.overtones.0) as usize;
         let seed = if let Some(s) = opts.seeds.get(idx) {
             (*s, "the global spectral method (an eigenvalue two Chebyshev grids agree on)".to_string())
-        } else if n == opts.overtones.0 && opts.guess.is_some() {
-            (opts.guess.expect("checked"), "the given guess".to_string())
+        } else if let Some(g) = opts.guess.filter(|_| n == opts.overtones.0) {
+            (g, "the given guess".to_string())
         } else if let Some((a, b)) = last_two_converged(&modes) {
             // Linear in the overtone number from the two nearest converged
             // overtones (a failed one in between is stepped over).
@@ -394,7 +394,7 @@ fn overtone_by_spacing(modes: &[Mode], root: &CfRoot) -> Option<u32> {
         return None;
     }
     let steps = ((root.omega.im.abs() - a.root.omega.im.abs()) / spacing).round();
-    (steps >= 1.0 && steps < 1e4).then(|| a.n + steps as u32)
+    (1.0..1e4).contains(&steps).then(|| a.n + steps as u32)
 }
 
 /// The last two converged modes found (the later one first).
@@ -637,9 +637,10 @@ pub fn degenerate_notes(rec: &crate::series::Recurrence, setup: &Setup, opts: &S
         let Some(p) = degenerate_points_near(&num, at, radius, 4096).into_iter().next() else { continue };
         let status = if m.root.converged { "converged within 1e-3 of" } else { "was sought next to" };
         notes.push(format!(
-            "overtone {} {status} ω = {}, where the recurrence's leading coefficient vanishes at k = {} (the exponents of the ansatz at the expansion point {} differ by the integer {} there): the continued fraction is singular at that point and the series solution can change its character (a logarithm, or a solution starting at a_{}); a mode at or next to it is a special case the methods here do not settle — treat it with care (for the Regge–Wheeler and Zerilli equations the algebraically special frequency is such a point; Maassen van den Brink 2000)",
+            "overtone {} {status} ω = {:.6}{:+.6}i, where the recurrence's leading coefficient vanishes at k = {} (the exponents of the ansatz at the expansion point {} differ by the integer {} there): the continued fraction is singular at that point and the series solution can change its character (a logarithm, or a solution starting at a_{}); a mode at or next to it is a special case the methods here do not settle — treat it with care (for the Regge–Wheeler and Zerilli equations the algebraically special frequency is such a point; Maassen van den Brink 2000)",
             m.n,
-            format!("{:.6}{:+.6}i", p.omega.re, p.omega.im),
+            p.omega.re,
+            p.omega.im,
             p.k,
             setup.horizon,
             p.k + 1,
