@@ -99,20 +99,7 @@ fn options(spec: &Spec, req: &Request, names: &[String], freq: usize, also: &[us
     if !p.missing.is_empty() {
         return Err(usage(format!("no value given for {}", p.missing.join(", ")), "at", spec, &[("at".into(), text)], None));
     }
-    if req.overtones.0 > req.overtones.1 || req.overtones.1 - req.overtones.0 > 200 {
-        let shown = format!("{}..{}", req.overtones.0, req.overtones.1);
-        return Err(usage("expected overtones A..B with A ≤ B and at most 200 of them", "overtones", spec, &[("overtones".into(), shown)], None));
-    }
-    if !(req.tol > 0.0 && req.tol < 1e-2) {
-        let shown = format!("{}", req.tol);
-        return Err(usage(
-            format!("tol={shown} is not a sensible relative tolerance (between 0 and 1e-2)"),
-            "tol",
-            spec,
-            &[("tol".into(), shown.clone())],
-            None,
-        ));
-    }
+    check_numbers(spec, req)?;
     Ok(SpectrumOptions { freq, values: p.values, overtones: req.overtones, tol: req.tol, guess: seed(spec, &req.guess, "guess")?, seeds: Vec::new() })
 }
 
