@@ -799,7 +799,10 @@ fn schwarzschild_overtones_past_the_algebraically_special_frequency() {
         let (v, code, err) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--overtones", "0..12", "--format", "json"]);
         assert_eq!(code, 0, "{err}");
         let notes: Vec<String> = v["notes"].as_array().unwrap().iter().map(|n| n.as_str().unwrap().to_string()).collect();
-        assert!(notes.iter().any(|n| n.starts_with("overtone 8") && n.contains("-2.000000i") && n.contains("k = 7") && n.contains("integer 8")), "{notes:?}");
+        assert!(
+            notes.iter().any(|n| n.starts_with("overtone 8") && n.contains("-2.000000i") && n.contains("k = 7") && n.contains("integer 8")),
+            "{notes:?}"
+        );
         // Only the mode next to the point is flagged.
         assert_eq!(notes.len(), 1, "{notes:?}");
     }
@@ -899,7 +902,23 @@ fn mathieu_characteristic_values_from_the_exponents_at_both_ends() {
     // (from memory), q = 1: a₀ = −0.45513860, a₁ = 1.85910807, b₁ = −0.11024882, b₂ = 3.91702477.
     let eq = "(1-w^2)*y'' - w*y' + (a - 2*q*(2*w^2-1))*y = 0";
     let ask = |ends: &str| {
-        let (v, code, err) = run(&["spectrum", "-e", eq, "--var", "w", "--at", "q=1", "--boundary", "bound", "--ends", ends, "--overtones", "0..1", "--format", "json"]);
+        let (v, code, err) = run(&[
+            "spectrum",
+            "-e",
+            eq,
+            "--var",
+            "w",
+            "--at",
+            "q=1",
+            "--boundary",
+            "bound",
+            "--ends",
+            ends,
+            "--overtones",
+            "0..1",
+            "--format",
+            "json",
+        ]);
         assert_eq!(code, 0, "{err}");
         assert_eq!(v["boundary"], "bound");
         let ms = v["modes"].as_array().unwrap().clone();
@@ -918,14 +937,40 @@ fn prolate_spheroidal_eigenvalue_with_exponent_zero_at_both_ends() {
     // (both exponents 0: the solution without a logarithm). Abramowitz &
     // Stegun table 21.1 (from memory): λ₀₀(c = 1) = 0.319000.
     let (v, code, err) = run(&[
-        "spectrum", "-e", "((1-x^2)*S')' + (lam - c^2*x^2)*S = 0", "--var", "x", "--at", "c=1", "--boundary", "bound", "--ends", "-1:slower..1:slower", "--format", "json",
+        "spectrum",
+        "-e",
+        "((1-x^2)*S')' + (lam - c^2*x^2)*S = 0",
+        "--var",
+        "x",
+        "--at",
+        "c=1",
+        "--boundary",
+        "bound",
+        "--ends",
+        "-1:slower..1:slower",
+        "--format",
+        "json",
     ]);
     assert_eq!(code, 0, "{err}");
     let (re, im) = omega(&v["modes"][0]);
     assert!((re - 0.319000).abs() < 5e-7 && im.abs() < 1e-12, "{re} {im}");
     // c → 0 is Legendre's l(l + 1) (exact): 0, 2, 6.
     let (v, code, err) = run(&[
-        "spectrum", "-e", "((1-x^2)*S')' + (lam - c^2*x^2)*S = 0", "--var", "x", "--at", "c=0", "--boundary", "bound", "--ends", "-1:slower..1:slower", "--overtones", "0..2", "--format", "json",
+        "spectrum",
+        "-e",
+        "((1-x^2)*S')' + (lam - c^2*x^2)*S = 0",
+        "--var",
+        "x",
+        "--at",
+        "c=0",
+        "--boundary",
+        "bound",
+        "--ends",
+        "-1:slower..1:slower",
+        "--overtones",
+        "0..2",
+        "--format",
+        "json",
     ]);
     assert_eq!(code, 0, "{err}");
     for (i, want) in [0.0, 2.0, 6.0].iter().enumerate() {

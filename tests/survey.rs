@@ -149,7 +149,10 @@ fn a_killed_survey_resumed_gives_the_uninterrupted_table() {
     let full = d.join("full.csv");
     let part = d.join("part.csv");
     let args = |out: &Path| {
-        let mut a: Vec<String> = ["scan", RN, "--vary", "q=0:0.9:0.025", "--vary", "l=1:3:1", "--at", "M=1", "--overtones", "0..1"].iter().map(|s| s.to_string()).collect();
+        let mut a: Vec<String> = ["scan", RN, "--vary", "q=0:0.9:0.025", "--vary", "l=1:3:1", "--at", "M=1", "--overtones", "0..1"]
+            .iter()
+            .map(|s| s.to_string())
+            .collect();
         a.extend(["-o".to_string(), path(out)]);
         a
     };
@@ -263,7 +266,13 @@ fn bad_surveys_are_refused_before_any_work() {
     let d = dir("bad");
     let f = d.join("p.txt");
     let fs = path(&f);
-    for (text, why) in [("q l\n0.1\n", "expected 2 values"), ("x\n0.1\n", "'x' is not a parameter"), ("q\n0.1i\n", "not real"), ("q\n", "no points"), ("omega\n1\n", "frequency")] {
+    for (text, why) in [
+        ("q l\n0.1\n", "expected 2 values"),
+        ("x\n0.1\n", "'x' is not a parameter"),
+        ("q\n0.1i\n", "not real"),
+        ("q\n", "no points"),
+        ("omega\n1\n", "frequency"),
+    ] {
         std::fs::write(&f, text).unwrap();
         let o = canonode(&["scan", RN, "--points", &fs, "--at", "M=1,l=2"], &[]);
         assert_eq!(o.status.code(), Some(2), "{text}");
@@ -293,7 +302,8 @@ fn bad_surveys_are_refused_before_any_work() {
 
 /// The Kerr coupling of the Teukolsky radial and spin-weighted spheroidal
 /// samples (Teukolsky 1973: λ = A + a²ω² − 2amω, c = aω).
-const KERR: [&str; 6] = ["--couple", "samples/spheroidal_spin_weighted.ode", "--link", "lam = A + a^2*omega^2 - 2*a*m*omega", "--link", "c = a*omega"];
+const KERR: [&str; 6] =
+    ["--couple", "samples/spheroidal_spin_weighted.ode", "--link", "lam = A + a^2*omega^2 - 2*a*m*omega", "--link", "c = a*omega"];
 
 #[test]
 fn tables_carry_the_checks_and_the_angular_eigenvalue() {
@@ -316,7 +326,8 @@ fn tables_carry_the_checks_and_the_angular_eigenvalue() {
     // spherical value l(l+1) − s(s+1) = 4 for l = 2, s = −2 (Teukolsky &
     // Press 1974's convention, from memory), and it agrees with `spectrum`'s
     // `coupled.value` at a = 0.3.
-    let mut args = vec!["scan", "samples/teukolsky_radial.ode", "--vary", "a=0:0.3:0.3", "--at", "M=1,m=2,s=-2", "--guess", "0.37-0.09i", "--no-check"];
+    let mut args =
+        vec!["scan", "samples/teukolsky_radial.ode", "--vary", "a=0:0.3:0.3", "--at", "M=1,m=2,s=-2", "--guess", "0.37-0.09i", "--no-check"];
     args.extend(KERR);
     let table = ok(&args);
     let mut lines = table.lines().skip(1);

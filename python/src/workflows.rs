@@ -289,14 +289,8 @@ fn couple_request(spec: &Spec, red: &canonode::ode::Reduction, c: &Couple) -> Re
         links.push(l);
     }
     let guess = seed(spec, &c.guess, "angular_guess")?;
-    let req = canonode::solve::request::CoupleRequest {
-        angular: ared,
-        name: c.name.clone(),
-        links,
-        link_texts: c.links.clone(),
-        index: c.index,
-        guess,
-    };
+    let req =
+        canonode::solve::request::CoupleRequest { angular: ared, name: c.name.clone(), links, link_texts: c.links.clone(), index: c.index, guess };
     Ok((aspec, req))
 }
 

@@ -76,7 +76,10 @@ fn merge(a: &MergeArgs) -> Result<(), Failure> {
     for (f, (path, t)) in tables.iter().enumerate() {
         for (k, r) in t.rows.iter().enumerate() {
             if r.index >= n || !t.header.rows.contains(&r.index) {
-                problems.push(format!("{path}:{}: point {} is outside the points {}..{} of its shard", r.line, r.index, t.header.rows.start, t.header.rows.end));
+                problems.push(format!(
+                    "{path}:{}: point {} is outside the points {}..{} of its shard",
+                    r.line, r.index, t.header.rows.start, t.header.rows.end
+                ));
                 continue;
             }
             match owner[r.index] {
@@ -116,7 +119,9 @@ fn merge(a: &MergeArgs) -> Result<(), Failure> {
     for (s, e) in &missing {
         let which = tables.iter().find(|(_, t)| t.header.rows.start <= *s && *s < t.header.rows.end);
         let why = match which {
-            Some((path, t)) => format!("{path} (shard {}/{}) stops before them: a run that did not finish (go on with --resume)", t.header.shard.0, t.header.shard.1),
+            Some((path, t)) => {
+                format!("{path} (shard {}/{}) stops before them: a run that did not finish (go on with --resume)", t.header.shard.0, t.header.shard.1)
+            }
             None => "no file given holds them: a shard is missing".to_string(),
         };
         let what = if e - s == 1 { format!("point {s} is missing") } else { format!("points {s}..{} ({} points) are missing", e - 1, e - s) };
@@ -139,7 +144,9 @@ fn merge(a: &MergeArgs) -> Result<(), Failure> {
                     let r = row(i).expect("owned");
                     let path = tables[c_.0].0;
                     let show = |t: &crate::solve::scan::Trail| {
-                        t.as_ref().map(|w| w.iter().map(|z| super::values::fmt_complex(z.re, z.im)).collect::<Vec<_>>().join(", ")).unwrap_or_default()
+                        t.as_ref()
+                            .map(|w| w.iter().map(|z| super::values::fmt_complex(z.re, z.im)).collect::<Vec<_>>().join(", "))
+                            .unwrap_or_default()
                     };
                     problems.push(format!(
                         "{path}:{}: the modes jump at point {i} ({}), the first of its file: {} after {} at point {} — another mode; solve that shard again from a --guess near the neighbour's value",

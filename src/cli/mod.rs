@@ -15,9 +15,9 @@ mod recurrence;
 mod reduce;
 mod region;
 mod scan;
-mod table;
 mod scatter;
 mod spectrum;
+mod table;
 mod values;
 
 use crate::error::{Error, ErrorKind, Origin};
@@ -299,9 +299,7 @@ pub(crate) fn run_command(input: &InputArgs, extra: &[(String, String)], compute
         Err(f) => return fail(&f, None),
     };
     // The exact work of one command is bounded (a limit error, not minutes of arithmetic).
-    let computed = crate::algebra::budget::with_budget(crate::algebra::budget::DEFAULT_BUDGET, || {
-        compute(&src)
-    });
+    let computed = crate::algebra::budget::with_budget(crate::algebra::budget::DEFAULT_BUDGET, || compute(&src));
     match computed.and_then(|text| emit(&text)) {
         Ok(()) => 0,
         Err(f) => fail(&f, Some(&src)),

@@ -11,10 +11,10 @@ use super::{run_command, Failure, InputArgs};
 use crate::algebra::{GRat, Rat};
 use crate::error::{Error, ErrorKind};
 use crate::solve::scan::{plot, single_point, survey, Flow, PointSolver, ScanPoint, SurveyEnd, Trail, Walk};
-use std::io::Write;
 use crate::solve::spectrum::SpectrumOptions;
 use clap::{Args, ValueEnum};
 use std::io::IsTerminal;
+use std::io::Write;
 
 /// Output formats of `scan`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
@@ -122,7 +122,8 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
                 axes.push((field, g));
             }
             let max = super::options::MAX_GRID_POINTS;
-            Walk::tensor(&axes, max).ok_or_else(|| usage(format!("the grid has more than {max} points"), "--vary", a.vary.last().map_or(1, |v| v.len())))?
+            Walk::tensor(&axes, max)
+                .ok_or_else(|| usage(format!("the grid has more than {max} points"), "--vary", a.vary.last().map_or(1, |v| v.len())))?
         }
     };
     let vnames: Vec<String> = walk.fields.iter().map(|&f| names[f].clone()).collect();
@@ -221,7 +222,10 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
                 let t = super::table::read(path, &text, Some((o1 - o0 + 1) as usize))?;
                 check_resumable(path, &t, &header, layout)?;
                 done = t.rows.iter().map(|r| r.trail.clone()).collect();
-                let f = std::fs::OpenOptions::new().write(true).open(path).map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 2))?;
+                let f = std::fs::OpenOptions::new()
+                    .write(true)
+                    .open(path)
+                    .map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 2))?;
                 f.set_len(t.complete_len as u64).map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 2))?;
                 start_over = false;
             }
@@ -320,7 +324,8 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     if let Some(path) = &a.plot {
         // The fixed parameters in the titles, as given.
         let fixed = a.at.split(',').map(str::trim).filter(|t| !t.is_empty()).collect::<Vec<_>>().join(", ");
-        plot(std::path::Path::new(path), &kept, &vnames, &fname, &fixed).map_err(|e| Failure::Plain(format!("error: cannot write the plot {path}: {e}"), 1))?;
+        plot(std::path::Path::new(path), &kept, &vnames, &fname, &fixed)
+            .map_err(|e| Failure::Plain(format!("error: cannot write the plot {path}: {e}"), 1))?;
     }
     if layout.is_some() {
         return Ok(String::new());
@@ -349,14 +354,25 @@ fn check_resumable(path: &str, t: &super::table::Table, header: &Header, layout:
         return Err(bad("the file is in the other format (--format csv or jsonl)".into()));
     }
     if t.header.survey != header.survey || t.header.points != header.points || t.header.parameters != header.parameters {
-        return Err(bad(format!("the file is the table of another survey (survey={}, this one is survey={}): the equation or an option that changes the numbers differs", t.header.survey, header.survey)));
+        return Err(bad(format!(
+            "the file is the table of another survey (survey={}, this one is survey={}): the equation or an option that changes the numbers differs",
+            t.header.survey, header.survey
+        )));
     }
     if t.header.shard != header.shard || t.header.rows != header.rows {
-        return Err(bad(format!("the file holds shard {}/{} (points {}..{}), this run is shard {}/{}", t.header.shard.0, t.header.shard.1, t.header.rows.start, t.header.rows.end, header.shard.0, header.shard.1)));
+        return Err(bad(format!(
+            "the file holds shard {}/{} (points {}..{}), this run is shard {}/{}",
+            t.header.shard.0, t.header.shard.1, t.header.rows.start, t.header.rows.end, header.shard.0, header.shard.1
+        )));
     }
     for (k, r) in t.rows.iter().enumerate() {
         if r.index != header.rows.start + k {
-            return Err(bad(format!("line {}: point {} where point {} was expected (the points must run in walk order)", r.line, r.index, header.rows.start + k)));
+            return Err(bad(format!(
+                "line {}: point {} where point {} was expected (the points must run in walk order)",
+                r.line,
+                r.index,
+                header.rows.start + k
+            )));
         }
     }
     Ok(())

@@ -316,7 +316,6 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     })
 }
 
-
 pub(crate) use crate::solve::request::{for_angular_only, link_option, linked_radial};
 
 /// Reads and reduces the angular equation of `--couple`; its errors are

@@ -224,7 +224,11 @@ fn read_csv(path: &str, text: &str, overtones: Option<usize>, bad: &dyn Fn(usize
     let Some((_, columns, true)) = ls.get(1).copied() else { return Err(bad(2, "the column names are missing")) };
     let cols: Vec<&str> = columns.split(',').collect();
     let angular = cols.len() >= 11 && cols[cols.len() - 3..] == ["angular_re", "angular_im", "reason"];
-    let tail: &[&str] = if angular { &["n", "re", "im", "converged", "check_re", "check_im", "angular_re", "angular_im", "reason"] } else { &["n", "re", "im", "converged", "check_re", "check_im", "reason"] };
+    let tail: &[&str] = if angular {
+        &["n", "re", "im", "converged", "check_re", "check_im", "angular_re", "angular_im", "reason"]
+    } else {
+        &["n", "re", "im", "converged", "check_re", "check_im", "reason"]
+    };
     if cols.len() < tail.len() + 2 || cols[0] != "index" || cols[cols.len() - tail.len()..] != *tail {
         return Err(bad(2, "unexpected column names"));
     }
@@ -361,9 +365,15 @@ fn read_lines(text: &str, bad: &dyn Fn(usize, &str) -> Failure) -> Result<Table,
                 _ => None,
             })
             .collect();
-        let trail = (v["error"].is_null() && !omegas.is_empty() && omegas.iter().all(|o| o.is_some())).then(|| omegas.iter().flatten().copied().collect());
+        let trail =
+            (v["error"].is_null() && !omegas.is_empty() && omegas.iter().all(|o| o.is_some())).then(|| omegas.iter().flatten().copied().collect());
         let end = at + line.len() + 1;
-        let values = header.parameters.iter().map(|p| v["values"][p].as_f64()).collect::<Option<Vec<f64>>>().ok_or_else(|| bad(k + 1, "the point lacks the values of the parameters"))?;
+        let values = header
+            .parameters
+            .iter()
+            .map(|p| v["values"][p].as_f64())
+            .collect::<Option<Vec<f64>>>()
+            .ok_or_else(|| bad(k + 1, "the point lacks the values of the parameters"))?;
         rows.push(Row { index, text: format!("{line}\n"), values, trail, modes: omegas.len(), line: k + 1 });
         complete_len = end;
     }
@@ -378,7 +388,9 @@ pub(crate) fn read_file(path: &str) -> Result<String, Failure> {
     use std::io::Read;
     let fail = |msg: String| Failure::Plain(format!("{path}: error: {msg}"), 2);
     let mut bytes = Vec::new();
-    std::fs::File::open(path).and_then(|f| f.take(MAX_TABLE_BYTES + 1).read_to_end(&mut bytes)).map_err(|e| fail(format!("cannot read the file: {e}")))?;
+    std::fs::File::open(path)
+        .and_then(|f| f.take(MAX_TABLE_BYTES + 1).read_to_end(&mut bytes))
+        .map_err(|e| fail(format!("cannot read the file: {e}")))?;
     if bytes.len() as u64 > MAX_TABLE_BYTES {
         return Err(fail(format!("the file is larger than {MAX_TABLE_BYTES} bytes")));
     }

@@ -7,9 +7,9 @@ mod classify_report;
 pub mod code;
 pub mod numbers;
 pub mod record;
+pub(crate) mod report;
 pub mod scatter;
 pub mod spectrum;
-pub(crate) mod report;
 
 pub use classify_report::{analysis_json, analysis_latex, analysis_text, canonical_json, canonical_text, class_name};
 pub use report::{reduction_json, reduction_latex, reduction_text};

@@ -74,7 +74,10 @@ pub fn reduction_text(r: &Reduction, source_name: &str) -> String {
             }
         }
     }
-    o.push_str(&format!("\nprefactor   P = exp(-1/2*integral(p)) = {}\n", crate::ode::prefactor_text(&r.var, r.field.names(), &r.normal.prefactor, s)));
+    o.push_str(&format!(
+        "\nprefactor   P = exp(-1/2*integral(p)) = {}\n",
+        crate::ode::prefactor_text(&r.var, r.field.names(), &r.normal.prefactor, s)
+    ));
     if let Some(sch) = &r.schrodinger {
         o.push_str(&format!("\nSchrödinger form   d²φ/dx² + (ω² − V)*φ = 0,   dx/d{v} = {}\n", rt(r, &sch.dxdz, s)));
         match &sch.frequency {
@@ -101,10 +104,14 @@ pub fn reduction_latex(r: &Reduction) -> String {
     lines.push(format!("{u}'' + p\\,{u}' + q\\,{u} &= 0, \\qquad ' = \\frac{{d}}{{d{v}}}"));
     lines.push(format!("p &= {}", rt(r, &r.p, s)));
     lines.push(format!("q &= {}", rt(r, &r.q, s)));
-    lines.push(format!("{u} &= {}\\,\\psi, \\qquad \\psi'' + Q\\,\\psi = 0", crate::ode::prefactor_text(&r.var, r.field.names(), &r.normal.prefactor, s)));
+    lines.push(format!(
+        "{u} &= {}\\,\\psi, \\qquad \\psi'' + Q\\,\\psi = 0",
+        crate::ode::prefactor_text(&r.var, r.field.names(), &r.normal.prefactor, s)
+    ));
     lines.push(format!("Q &= {}", rt(r, &r.normal.q, s)));
     for (at, cs) in principal_rows(r, s) {
-        let terms: Vec<String> = cs.iter().map(|(pw, c)| format!("\\left({c}\\right){}^{{{pw}}}", crate::algebra::print::shifted(&v, &at, s))).collect();
+        let terms: Vec<String> =
+            cs.iter().map(|(pw, c)| format!("\\left({c}\\right){}^{{{pw}}}", crate::algebra::print::shifted(&v, &at, s))).collect();
         lines.push(format!("Q &= {} + O(1) \\quad ({v} \\to {at})", terms.join(" + ")));
     }
     if let Some(sch) = &r.schrodinger {

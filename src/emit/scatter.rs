@@ -18,7 +18,6 @@ pub enum Format {
     Csv,
 }
 
-
 /// The document's head, written before any point.
 pub fn header(f: Format, fname: &str, near: &str, far: &str, sum: Option<&(String, i64, i64)>, ls: &[i64]) -> String {
     match f {

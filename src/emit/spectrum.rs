@@ -6,7 +6,7 @@
 use super::numbers::fmt_complex;
 use crate::solve::boundary::{location_text, End, Location};
 use crate::solve::closed::ClosedForm;
-use crate::solve::request::{Body, ClosedSection, Problem, BoundReport, EndsReport, EstimateReport, RecurrenceReport, SpectrumReport};
+use crate::solve::request::{Body, BoundReport, ClosedSection, EndsReport, EstimateReport, Problem, RecurrenceReport, SpectrumReport};
 use crate::solve::shoot::BoundCheck;
 use crate::solve::wkb::in_lower_half_plane;
 use num_complex::Complex64;
@@ -358,7 +358,13 @@ fn recurrence_text(fname: &str, var: &str, source: &str, b: &RecurrenceReport) -
                 m.n, w, m.method, r.depth, r.depth_change, r.residual
             ));
         } else {
-            o.push_str(&format!("  {:<2} NOT CONVERGED: {} (seed {} from {})\n", m.n, r.stop.text(), fmt_complex(m.seed.0.re, m.seed.0.im), m.seed.1));
+            o.push_str(&format!(
+                "  {:<2} NOT CONVERGED: {} (seed {} from {})\n",
+                m.n,
+                r.stop.text(),
+                fmt_complex(m.seed.0.re, m.seed.0.im),
+                m.seed.1
+            ));
         }
         match b.checks.get(i).and_then(|c| c.as_ref()) {
             Some(c) if c.converged => o.push_str(&format!(
@@ -381,7 +387,8 @@ fn recurrence_text(fname: &str, var: &str, source: &str, b: &RecurrenceReport) -
             ));
         }
         if let (true, Some(w)) = (r.converged, b.wkb.get(i).copied().flatten()) {
-            let warn = if w.im >= 0.0 { " (upper half-plane: not a decaying mode; the WKB series has failed here and the value was not used)" } else { "" };
+            let warn =
+                if w.im >= 0.0 { " (upper half-plane: not a decaying mode; the WKB series has failed here and the value was not used)" } else { "" };
             o.push_str(&format!("     estimate: WKB order {} {}{warn}\n", b.wkb_order, fmt_complex(w.re, w.im)));
         }
     }
@@ -577,7 +584,13 @@ fn bound_text(fname: &str, source: &str, b: &BoundReport) -> String {
     o.push('\n');
     for (s, c) in b.states.iter().zip(&b.checks) {
         if s.converged {
-            o.push_str(&format!("  {:<2} {:<44} points {}, change on doubling {:.1e}\n", s.n, fmt_complex(s.value.re, s.value.im), s.points, s.change));
+            o.push_str(&format!(
+                "  {:<2} {:<44} points {}, change on doubling {:.1e}\n",
+                s.n,
+                fmt_complex(s.value.re, s.value.im),
+                s.points,
+                s.change
+            ));
         } else {
             o.push_str(&format!("  {:<2} NOT CONVERGED: {}\n", s.n, s.reason.as_deref().unwrap_or_default()));
         }
@@ -686,7 +699,8 @@ fn estimates_csv(b: &EstimateReport) -> String {
 }
 
 fn estimates_text(fname: &str, source: &str, b: &EstimateReport) -> String {
-    let mut o = format!("estimates of the quasinormal modes of {source} ({fname}): {}\n  approximations, not converged eigenvalues\n", estimates_name(b));
+    let mut o =
+        format!("estimates of the quasinormal modes of {source} ({fname}): {}\n  approximations, not converged eigenvalues\n", estimates_name(b));
     if let Some((p, e, _)) = &b.limit {
         o.push_str(&format!("  Ω_c = {}, λ = {} (maximum of lim V/{p}² at {})\n", fmt_complex(e.omega_c, 0.0), fmt_complex(e.lyapunov, 0.0), e.peak));
     }

@@ -273,7 +273,10 @@ fn real_axis_roots(bp: &BoundaryProblem, want: usize, tol: f64) -> (Vec<(IntRoot
             if !(vals[i] < 0.5 && vals[i] <= left && vals[i] <= right) {
                 continue;
             }
-            let seed = Seed { omega: Complex64::new(at(i), 0.0), from: format!("a minimum of the mismatch on a scan of the real axis over [−{half:.3e}, {half:.3e}]") };
+            let seed = Seed {
+                omega: Complex64::new(at(i), 0.0),
+                from: format!("a minimum of the mismatch on a scan of the real axis over [−{half:.3e}, {half:.3e}]"),
+            };
             let r = find_root(bp, seed.omega, tol);
             if !r.converged || r.omega.im.abs() > 1e-8 * r.omega.norm().max(1.0) {
                 continue;

@@ -14,11 +14,11 @@ pub mod ends;
 pub mod global;
 pub mod integrate;
 pub mod modefn;
+pub mod request;
 pub mod roots;
 pub mod scan;
 pub mod scatter;
 pub mod shoot;
-pub mod request;
 pub mod spectrum;
 
 use crate::algebra::{Field, GRat, Poly, RatFunc};

@@ -273,7 +273,9 @@ pub fn linked_radial(links: &[Link], names: &[String], solved: &[usize], what: &
     for (j, l) in links.iter().enumerate().filter(|(_, l)| !l.angular) {
         if let Some(i) = names.iter().position(|x| *x == l.target) {
             if solved.contains(&i) {
-                return Err(usage(format!("'{}' is {what}: it cannot be linked", l.target)).at(Span::new(0, l.target.len())).in_option(&link_option(j)));
+                return Err(usage(format!("'{}' is {what}: it cannot be linked", l.target))
+                    .at(Span::new(0, l.target.len()))
+                    .in_option(&link_option(j)));
             }
             out.push(i);
         }
@@ -431,8 +433,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
     let (freq, fname) = frequency(red, req)?;
     let point = point(red, req, freq)?;
     let opts = SpectrumOptions { freq, values: point.clone(), overtones: req.overtones, tol: req.tol, guess: req.guess, seeds: Vec::new() };
-    let report =
-        |body: Body, mode_functions: Option<ModeFunctions>| SpectrumReport {
+    let report = |body: Body, mode_functions: Option<ModeFunctions>| SpectrumReport {
         frequency: fname.clone(),
         var: red.var.clone(),
         body,
@@ -693,7 +694,10 @@ fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) 
                     (s.n, e, super::modefn::bound_mode_function(o, domain, e, 24))
                 })
                 .collect();
-            Some(ModeFunctions { normalisation: "the normal form's psi, with the integral of |psi|^2 equal to 1, real and positive next to the first end", modes: fs })
+            Some(ModeFunctions {
+                normalisation: "the normal form's psi, with the integral of |psi|^2 equal to 1, real and positive next to the first end",
+                modes: fs,
+            })
         }
         _ => None,
     };

@@ -766,7 +766,8 @@ mod tests {
             assert_eq!(d, 1, "{:?} → {:?}", p[0], p[1]);
         }
         assert_eq!(&idx[..7], &[vec![0, 0, 0], vec![0, 0, 1], vec![0, 0, 2], vec![0, 0, 3], vec![0, 0, 4], vec![0, 1, 4], vec![0, 1, 3]]);
-        let axes: Vec<(usize, Vec<Rat>)> = sizes.iter().enumerate().map(|(k, &n)| (k + 1, (0..n).map(|i| Rat::int((i as i64).into())).collect())).collect();
+        let axes: Vec<(usize, Vec<Rat>)> =
+            sizes.iter().enumerate().map(|(k, &n)| (k + 1, (0..n).map(|i| Rat::int((i as i64).into())).collect())).collect();
         let w = Walk::tensor(&axes, 100).unwrap();
         assert_eq!((w.len(), w.pass), (60, 5));
         assert!(Walk::tensor(&axes, 59).is_none());
@@ -808,7 +809,9 @@ mod tests {
             });
             (out, end)
         };
-        let omegas = |v: &[ScanPoint]| -> Vec<Option<Complex64>> { v.iter().map(|p| p.modes[0].0.root.converged.then_some(p.modes[0].0.root.omega)).collect() };
+        let omegas = |v: &[ScanPoint]| -> Vec<Option<Complex64>> {
+            v.iter().map(|p| p.modes[0].0.root.converged.then_some(p.modes[0].0.root.omega)).collect()
+        };
         let (whole, end) = run(0..n, &[], None);
         assert_eq!(end, SurveyEnd::Finished);
         assert_eq!(whole.iter().map(|p| p.index).collect::<Vec<_>>(), (0..n).collect::<Vec<_>>());

@@ -523,4 +523,3 @@ pub fn row_cross_section(w: f64, per: &[(i64, std::result::Result<Scattering, St
     let terms: Option<Vec<(i64, f64)>> = per.iter().map(|(l, r)| r.as_ref().ok().map(|s| (*l, s.transmission))).collect();
     terms.map(|t| cross_section(w, &t))
 }
-

@@ -627,11 +627,7 @@ pub fn degenerate_notes(rec: &crate::series::Recurrence, setup: &Setup, opts: &S
     }
     let mut notes = Vec::new();
     for m in modes.iter().filter(|m| m.method == "cf") {
-        let (at, radius) = if m.root.converged {
-            (m.root.omega, 1e-3 * m.root.omega.norm())
-        } else {
-            (m.seed.0, 0.1 * m.seed.0.im.abs().max(1e-3))
-        };
+        let (at, radius) = if m.root.converged { (m.root.omega, 1e-3 * m.root.omega.norm()) } else { (m.seed.0, 0.1 * m.seed.0.im.abs().max(1e-3)) };
         // The index k runs as far as the series could reach within the
         // depths the continued fraction uses (bounded).
         let Some(p) = degenerate_points_near(&num, at, radius, 4096).into_iter().next() else { continue };
