@@ -27,7 +27,7 @@
 //! and which members satisfy the branch.
 
 use crate::algebra::{print, Field, GRat, Rat, RatFunc};
-use crate::analysis::{analyse_equation, Exponent, Kind, Place, SingularPoint};
+use crate::analysis::{analyse_equation, Analysis, Exponent, Kind, Place, SingularPoint};
 use crate::error::Result;
 use crate::solve::boundary::{Condition, Location};
 use num_complex::Complex64;
@@ -138,9 +138,19 @@ pub fn derive(k: &Field, q: &RatFunc, freq: usize, values: &[GRat], ends: &[EndP
     };
     let conds = [ends[0].condition, ends[1].condition];
     let mut reasons = Vec::new();
+    // The analysis of the equation as given, done once: the first attempt,
+    // the search for an irregular point to move and the final reason use it.
+    let plain = analyse_equation(k, &RatFunc::zero(), q)?;
     for (fold, mobius) in [(false, false), (true, false), (false, true), (true, true)] {
-        let Some(setup) = transformed(&cx, q, [pos[0], pos[1]], interior, fold, mobius)? else { continue };
-        let tried = attempt(&cx, &setup, conds).unwrap_or_else(|e| Err(format!("{}: the derivation stopped: {}", setup.words_or_plain(), e.message)));
+        let Some(setup) = transformed(&cx, q, &plain, [pos[0], pos[1]], interior, fold, mobius)? else { continue };
+        let owned;
+        let an = if fold || mobius {
+            owned = analyse_equation(cx.k, &RatFunc::zero(), &setup.q)?;
+            &owned
+        } else {
+            &plain
+        };
+        let tried = attempt(&cx, &setup, an, conds).unwrap_or_else(|e| Err(format!("{}: the derivation stopped: {}", setup.words_or_plain(), e.message)));
         match tried {
             Ok((families, mut route)) if !families.is_empty() => {
                 route.push_str(&setup.words);
@@ -150,7 +160,7 @@ pub fn derive(k: &Field, q: &RatFunc, freq: usize, values: &[GRat], ends: &[EndP
             Err(why) => reasons.push(why),
         }
     }
-    let an = analyse_equation(k, &RatFunc::zero(), q)?;
+    let an = plain;
     let heun = an.class.contains("heun");
     let first = reasons.first().cloned().unwrap_or_else(|| "no route applies".into());
     Ok(Outcome::NotClosed(if heun {
@@ -205,7 +215,7 @@ fn rat(n: i64, d: i64) -> RatFunc {
 
 /// Q after the fold x = z² (Q even, the domain on one side of 0) and/or the
 /// Möbius map w = 1/(z − z₁) of the one finite irregular point z₁.
-fn transformed(cx: &Ctx, q: &RatFunc, pos: [Option<f64>; 2], interior: f64, fold: bool, mobius: bool) -> Result<Option<Setup>> {
+fn transformed(cx: &Ctx, q: &RatFunc, plain: &Analysis, pos: [Option<f64>; 2], interior: f64, fold: bool, mobius: bool) -> Result<Option<Setup>> {
     let k = cx.k;
     let z = k.var(0);
     let mut q = q.clone();
@@ -236,7 +246,13 @@ fn transformed(cx: &Ctx, q: &RatFunc, pos: [Option<f64>; 2], interior: f64, fold
         words.push_str("; folded by x = z² (the equation is even in z)");
     }
     if mobius {
-        let an = analyse_equation(k, &RatFunc::zero(), &q)?;
+        let folded;
+        let an = if fold {
+            folded = analyse_equation(k, &RatFunc::zero(), &q)?;
+            &folded
+        } else {
+            plain
+        };
         let irregular: Vec<&SingularPoint> = an.points.iter().filter(|p| p.kind == Kind::Irregular).collect();
         let [p] = irregular.as_slice() else { return Ok(None) };
         let Place::Point { at, .. } = &p.place else { return Ok(None) };
@@ -274,9 +290,8 @@ struct Radicals {
     spectral: Option<RatFunc>,
 }
 
-fn attempt(cx: &Ctx, setup: &Setup, conds: [Condition; 2]) -> Result<std::result::Result<(Vec<Family>, String), String>> {
+fn attempt(cx: &Ctx, setup: &Setup, an: &Analysis, conds: [Condition; 2]) -> Result<std::result::Result<(Vec<Family>, String), String>> {
     let k = cx.k;
-    let an = analyse_equation(k, &RatFunc::zero(), &setup.q)?;
     let singular: Vec<usize> = (0..an.points.len()).filter(|&i| an.points[i].kind != Kind::Ordinary).collect();
     // Match the ends to singular points.
     let mut idx = [usize::MAX; 2];
