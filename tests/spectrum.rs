@@ -978,3 +978,30 @@ fn prolate_spheroidal_eigenvalue_with_exponent_zero_at_both_ends() {
         assert!((re - want).abs() < 1e-9, "l={i}: {re}");
     }
 }
+
+#[test]
+fn boundary_problems_are_checked_by_the_global_spectral_method() {
+    // Schwarzschild–de Sitter, l = 1, Λ = 0.02 (M = 1): direct integration
+    // and the global spectral method, two independent discretisations, agree
+    // to better than 8 digits (the requirement for a second method).
+    let (v, code, err) = run(&["spectrum", "samples/schwarzschild_de_sitter_scalar.ode", "--at", "M=1,Lambda=0.02,l=1", "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    let c = &v["modes"][0]["check"];
+    assert_eq!(c["method"], "spectral", "{v}");
+    assert!(c["agreement"].as_f64().unwrap() < 1e-8, "{c}");
+    // A massive field's exponent at infinity is not affine in ω: no second
+    // method, said so, and no check invented.
+    let (v, code, err) = run(&[
+        "spectrum",
+        "tests/boundary/massive_scalar_schwarzschild.ode",
+        "--at",
+        "M=1,mu=0.1,l=0",
+        "--boundary",
+        "quasi-bound",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(v["check_method"].as_str().unwrap().starts_with("no second method ran"), "{v}");
+    assert!(v["modes"][0]["check"].is_null());
+}

@@ -41,8 +41,11 @@
 //! "decaying", "normalisable" or "slower"), `notes` (every choice made, in
 //! words), `method`, and `modes` with `method` "integrate", `evidence`
 //! {`change_on_refinement` (null when not run), `residual` (null when not
-//! evaluated), `iterations`, `seed`, `seed_from`} and `check` null (no
-//! second method on these problems yet).
+//! evaluated), `iterations`, `seed`, `seed_from`} and `check`: the second
+//! method, the global spectral method's eigenvalue nearest the mode —
+//! {`method` "spectral", `omega` [re, im], `agreement` (relative)}, or with
+//! `omega` null and a `reason` —, or null when the mode did not converge or
+//! no second method ran; `check_method` says which ran, or why none did.
 //!
 //! The estimates of `--method wkb` and `--method eikonal` (barrier-top
 //! estimates, not iterated eigenvalues) have their own document.

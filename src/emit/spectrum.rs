@@ -406,7 +406,8 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
     let ms: Vec<Value> = b
         .modes
         .iter()
-        .map(|m| {
+        .enumerate()
+        .map(|(i, m)| {
             let r = &m.root;
             json!({
                 "n": m.n,
@@ -421,7 +422,13 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
                     "seed": pair(m.seed.omega),
                     "seed_from": m.seed.from,
                 },
-                "check": Value::Null,
+                "check": match b.checks.get(i).and_then(|c| c.as_ref()) {
+                    Some(c) => match c.omega {
+                        Some(w) => json!({"method": "spectral", "omega": pair(w), "agreement": finite_or_null(c.agreement)}),
+                        None => json!({"method": "spectral", "omega": Value::Null, "reason": c.reason}),
+                    },
+                    None => Value::Null,
+                },
             })
         })
         .collect();
@@ -443,6 +450,7 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
         "ends": ends,
         "notes": ends_notes(b),
         "method": ENDS_METHOD,
+        "check_method": b.check_note,
         "modes": ms,
     })
 }
@@ -474,9 +482,9 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
         o.push_str(&format!("  note: {n}\n"));
     }
     o.push_str(&format!("  method: {ENDS_METHOD}\n"));
-    o.push_str("  no second method runs on this boundary problem yet: the evidence is the agreement of standard and refined integration\n\n");
+    o.push_str(&format!("  {}\n\n", b.check_note));
     o.push_str(&format!("  n  {fname:<44} evidence\n"));
-    for m in &b.modes {
+    for (i, m) in b.modes.iter().enumerate() {
         let r = &m.root;
         if r.converged {
             o.push_str(&format!(
@@ -486,6 +494,15 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
                 r.change,
                 r.residual
             ));
+            match b.checks.get(i).and_then(|c| c.as_ref()) {
+                Some(c) => match c.omega {
+                    Some(w) => {
+                        o.push_str(&format!("     check: global spectral method {}, agreement {:.1e}\n", fmt_complex(w.re, w.im), c.agreement))
+                    }
+                    None => o.push_str(&format!("     check: none: {}\n", c.reason)),
+                },
+                None => {}
+            }
         } else {
             o.push_str(&format!("  {:<2} NOT CONVERGED: {} (seed from {})\n", m.n, r.reason, m.seed.from));
         }

@@ -150,7 +150,8 @@ pub fn derive(k: &Field, q: &RatFunc, freq: usize, values: &[GRat], ends: &[EndP
         } else {
             &plain
         };
-        let tried = attempt(&cx, &setup, an, conds).unwrap_or_else(|e| Err(format!("{}: the derivation stopped: {}", setup.words_or_plain(), e.message)));
+        let tried =
+            attempt(&cx, &setup, an, conds).unwrap_or_else(|e| Err(format!("{}: the derivation stopped: {}", setup.words_or_plain(), e.message)));
         match tried {
             Ok((families, mut route)) if !families.is_empty() => {
                 route.push_str(&setup.words);

@@ -160,6 +160,21 @@ pub struct EndsReport {
     pub numbering: Option<&'static str>,
     /// Which spectrum: quasinormal modes, quasi-bound states (decaying at the far end) or real eigenvalues.
     pub spectrum: Problem,
+    /// The second method per mode (None where the mode did not converge or no second method ran).
+    pub checks: Vec<Option<SpectralCheck>>,
+    /// What the second method was, or why none ran, in words.
+    pub check_note: String,
+}
+
+/// The global spectral method's eigenvalue beside a mode found by direct integration.
+#[derive(Clone, Debug)]
+pub struct SpectralCheck {
+    /// The spectral eigenvalue, when one lies near the mode.
+    pub omega: Option<Complex64>,
+    /// |spectral − mode| / |mode| (NaN without a value).
+    pub agreement: f64,
+    /// Why there is no value (empty with one).
+    pub reason: String,
 }
 
 /// Bound states by collocation, each checked by shooting.
@@ -573,7 +588,65 @@ fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptio
         Problem::Quasinormal => Some("no --guess: the modes are the distinct roots reached from a scan of the complex plane, numbered by |Im ω|; a mode the scan missed would shift the numbering"),
         Problem::QuasiBound => None,
     };
-    EndsReport { problem: bp, modes, note, numbering, spectrum }
+    let (checks, check_note) = spectral_checks(&bp, &modes);
+    EndsReport { problem: bp, modes, note, numbering, spectrum, checks, check_note }
+}
+
+/// The second method on a boundary problem solved by direct integration:
+/// one solve of the global spectral method (`solve::global`) over a
+/// rectangle around the converged modes, and for each mode the spectral
+/// eigenvalue nearest it, accepted within 1e-4 × max(|ω|, scale) (the
+/// spectral values persist between its two grids to 1e-5 of that). When the
+/// method cannot run on the problem (an exponent not affine in ω: a massive
+/// field), the note says why and no mode has a check.
+fn spectral_checks(bp: &BoundaryProblem, modes: &[EndMode]) -> (Vec<Option<SpectralCheck>>, String) {
+    use super::global::{spectral_in, Region, DEFAULT_GRID, DEFAULT_PERSIST};
+    let found: Vec<Complex64> = modes.iter().filter(|m| m.root.converged).map(|m| m.root.omega).collect();
+    if found.is_empty() {
+        return (modes.iter().map(|_| None).collect(), "no mode converged: no second method ran".into());
+    }
+    let pad = 0.25 * found.iter().map(|w| w.norm()).fold(bp.scale, f64::max);
+    let (re0, re1) = found.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), w| (a.min(w.re), b.max(w.re)));
+    let (im0, im1) = found.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), w| (a.min(w.im), b.max(w.im)));
+    // Stay on the side of the real axis the modes are on (the global method
+    // solves the half-planes separately at an irregular infinity).
+    let top = if im1 < 0.0 { (im1 + pad).min(-1e-9 * pad) } else { im1 + pad };
+    let region = Region { re: (re0 - pad, re1 + pad), im: (im0 - pad, top) };
+    let sp = match spectral_in(bp, region, DEFAULT_GRID, DEFAULT_PERSIST) {
+        Ok(sp) => sp,
+        Err(e) => {
+            return (modes.iter().map(|_| None).collect(), format!("no second method ran: the global spectral method does not apply ({})", e.message))
+        }
+    };
+    let checks = modes
+        .iter()
+        .map(|m| {
+            if !m.root.converged {
+                return None;
+            }
+            let w = m.root.omega;
+            let near = sp.values.iter().min_by(|a, b| (a.omega - w).norm().total_cmp(&(b.omega - w).norm()));
+            let reach = 1e-4 * w.norm().max(bp.scale);
+            Some(match near {
+                Some(v) if (v.omega - w).norm() <= reach => {
+                    SpectralCheck { omega: Some(v.omega), agreement: (v.omega - w).norm() / w.norm().max(f64::MIN_POSITIVE), reason: String::new() }
+                }
+                _ => SpectralCheck {
+                    omega: None,
+                    agreement: f64::NAN,
+                    reason: format!(
+                        "the global spectral method has no eigenvalue within {reach:.1e} of this mode (grids {} and {}; it resolves the least damped modes only)",
+                        sp.grids.0, sp.grids.1
+                    ),
+                },
+            })
+        })
+        .collect();
+    let words = format!(
+        "second method: the global spectral method (Chebyshev collocation of the remainder after the ends' behaviour, grids {} and {} agreeing to {:.0e}), its eigenvalue nearest each mode",
+        sp.grids.0, sp.grids.1, sp.tol
+    );
+    (checks, words)
 }
 
 /// Quasinormal modes by the exact recurrence's continued fraction, checked
