@@ -494,14 +494,13 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
                 r.change,
                 r.residual
             ));
-            match b.checks.get(i).and_then(|c| c.as_ref()) {
-                Some(c) => match c.omega {
+            if let Some(c) = b.checks.get(i).and_then(|c| c.as_ref()) {
+                match c.omega {
                     Some(w) => {
                         o.push_str(&format!("     check: global spectral method {}, agreement {:.1e}\n", fmt_complex(w.re, w.im), c.agreement))
                     }
                     None => o.push_str(&format!("     check: none: {}\n", c.reason)),
-                },
-                None => {}
+                }
             }
         } else {
             o.push_str(&format!("  {:<2} NOT CONVERGED: {} (seed from {})\n", m.n, r.reason, m.seed.from));
