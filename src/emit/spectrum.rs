@@ -8,6 +8,7 @@ use crate::solve::boundary::{location_text, End, Location};
 use crate::solve::closed::ClosedForm;
 use crate::solve::request::{Body, BoundReport, ClosedSection, EndsReport, EstimateReport, Problem, RecurrenceReport, SpectrumReport};
 use crate::solve::shoot::BoundCheck;
+use crate::solve::spectrum::ModeMethod;
 use crate::solve::wkb::in_lower_half_plane;
 use num_complex::Complex64;
 use serde_json::{json, Value};
@@ -192,9 +193,9 @@ fn closed_text(fname: &str, form: &ClosedForm, values: &[Vec<(u32, Complex64)>])
 }
 
 fn recurrence_method(b: &RecurrenceReport) -> &'static str {
-    if b.modes.iter().any(|m| m.method == "terminating") {
+    if b.modes.iter().any(|m| m.method == ModeMethod::Terminating) {
         "exact termination of the series (the recurrence has two terms)"
-    } else if !b.modes.is_empty() && b.modes.iter().all(|m| m.method == "integrate") {
+    } else if !b.modes.is_empty() && b.modes.iter().all(|m| m.method == ModeMethod::Integrate) {
         "direct integration (Frobenius series at the horizon, asymptotic series at the far end, Taylor continuation), seeded by the continued fraction's estimates"
     } else {
         "continued fraction (Leaver 1985; tail after Nollert 1993)"
@@ -213,7 +214,7 @@ fn recurrence_json(fname: &str, b: &RecurrenceReport) -> Value {
                 "omega": if r.converged { pair(r.omega) } else { Value::Null },
                 "converged": r.converged,
                 "reason": if r.converged { Value::Null } else { Value::String(r.stop.text()) },
-                "method": m.method,
+                "method": m.method.tag(),
                 "evidence": {
                     "inversion": r.inversion,
                     "depth": r.depth,
@@ -283,7 +284,7 @@ fn recurrence_csv(b: &RecurrenceReport) -> String {
     for (i, m) in b.modes.iter().enumerate() {
         let r = &m.root;
         // Direct integration has no depth: its columns stay empty.
-        let depth = if m.method == "integrate" { String::new() } else { r.depth.to_string() };
+        let depth = if m.method == ModeMethod::Integrate { String::new() } else { r.depth.to_string() };
         let checked = match b.checks.get(i).and_then(|c| c.as_ref()) {
             Some(c) if c.converged && r.converged => {
                 format!("{:.17e},{:.17e},{}", c.omega.re, c.omega.im, num((c.omega - r.omega).norm() / r.omega.norm()))
@@ -301,12 +302,12 @@ fn recurrence_csv(b: &RecurrenceReport) -> String {
                 m.n,
                 r.omega.re,
                 r.omega.im,
-                m.method,
+                m.method.tag(),
                 num(r.depth_change),
                 num(r.residual)
             ));
         } else {
-            o.push_str(&format!("{},,,false,{},{depth},,,{checked},{angular}\"{}\"\n", m.n, m.method, r.stop.text().replace('"', "'")));
+            o.push_str(&format!("{},,,false,{},{depth},,,{checked},{angular}\"{}\"\n", m.n, m.method.tag(), r.stop.text().replace('"', "'")));
         }
     }
     o
@@ -348,14 +349,19 @@ fn recurrence_text(fname: &str, var: &str, source: &str, b: &RecurrenceReport) -
     for (i, m) in b.modes.iter().enumerate() {
         let r = &m.root;
         let w = fmt_complex(r.omega.re, r.omega.im);
-        if r.converged && m.method == "terminating" {
+        if r.converged && m.method == ModeMethod::Terminating {
             o.push_str(&format!("  {:<2} {:<44} exact condition c1(n, ω) = 0, residual {:.1e}\n", m.n, w, r.residual));
-        } else if r.converged && m.method == "integrate" {
+        } else if r.converged && m.method == ModeMethod::Integrate {
             o.push_str(&format!("  {:<2} {:<44} [integrate] residual {:.1e}\n", m.n, w, r.residual));
         } else if r.converged {
             o.push_str(&format!(
                 "  {:<2} {:<44} [{}] depth {}, change on doubling {:.1e}, residual {:.1e}\n",
-                m.n, w, m.method, r.depth, r.depth_change, r.residual
+                m.n,
+                w,
+                m.method.tag(),
+                r.depth,
+                r.depth_change,
+                r.residual
             ));
         } else {
             o.push_str(&format!(

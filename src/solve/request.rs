@@ -20,7 +20,7 @@ use super::ends::EndMode;
 use super::integrate::IntRoot;
 use super::modefn::Samples;
 use super::shoot::BoundCheck;
-use super::spectrum::{Mode, Setup, SpectrumOptions};
+use super::spectrum::{Mode, ModeMethod, Setup, SpectrumOptions};
 use super::wkb::{BarrierEstimate, EikonalLimit};
 use crate::algebra::GRat;
 use crate::error::{Error, ErrorKind, Result};
@@ -432,7 +432,7 @@ impl Body {
     /// The converged modes of the numeric route: (n, value, method).
     pub fn converged(&self) -> Vec<(u32, Complex64, &'static str)> {
         match self {
-            Body::Recurrence(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, m.method)).collect(),
+            Body::Recurrence(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, m.method.tag())).collect(),
             Body::Ends(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, "integrate")).collect(),
             Body::Bound(b) => b.states.iter().filter(|s| s.converged).map(|s| (s.n, s.value, "collocation")).collect(),
             Body::Estimates(_) | Body::Exact => Vec::new(),
@@ -686,7 +686,7 @@ fn recurrence_route(
     let mut checks: Vec<Option<IntRoot>> = Vec::new();
     for m in modes.iter_mut() {
         let check = match &integ {
-            Some(f) if m.method == "cf" && req.method == Method::Integrate => {
+            Some(f) if m.method == ModeMethod::ContinuedFraction && req.method == Method::Integrate => {
                 let r = f(m.seed.0);
                 m.root.omega = r.omega;
                 m.root.converged = r.converged;
@@ -697,10 +697,10 @@ fn recurrence_route(
                 if !r.converged {
                     m.root.stop = super::cf::StopReason::Rejected(r.reason.clone());
                 }
-                m.method = "integrate";
+                m.method = ModeMethod::Integrate;
                 None
             }
-            Some(f) if m.method == "cf" && m.root.converged => Some(f(m.root.omega * Complex64::new(1.0 + 1e-4, 1e-4))),
+            Some(f) if m.method == ModeMethod::ContinuedFraction && m.root.converged => Some(f(m.root.omega * Complex64::new(1.0 + 1e-4, 1e-4))),
             _ => None,
         };
         checks.push(check);

@@ -702,7 +702,7 @@ mod tests {
             stop: StopReason::Converged,
             inversion: 0,
         };
-        (Mode { n: 0, root, seed: (w, "test".into()), method: "cf" }, None)
+        (Mode { n: 0, root, seed: (w, "test".into()), method: crate::solve::spectrum::ModeMethod::ContinuedFraction }, None)
     }
 
     #[test]

@@ -33,6 +33,28 @@ pub struct SpectrumOptions {
     pub seeds: Vec<Complex64>,
 }
 
+/// How a mode's value was obtained (a closed set: every use is a `match`).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum ModeMethod {
+    /// The continued fraction of the exact recurrence.
+    ContinuedFraction,
+    /// The exact termination condition of a two-term recurrence.
+    Terminating,
+    /// Direct integration between the ends.
+    Integrate,
+}
+
+impl ModeMethod {
+    /// The tag in documents: "cf", "terminating" or "integrate".
+    pub fn tag(self) -> &'static str {
+        match self {
+            ModeMethod::ContinuedFraction => "cf",
+            ModeMethod::Terminating => "terminating",
+            ModeMethod::Integrate => "integrate",
+        }
+    }
+}
+
 /// One mode and the evidence for it.
 #[derive(Clone, Debug)]
 pub struct Mode {
@@ -42,8 +64,8 @@ pub struct Mode {
     pub root: CfRoot,
     /// The seed it started from, and where the seed came from.
     pub seed: (Complex64, String),
-    /// The method: "cf" (continued fraction) or "terminating" (exact termination condition).
-    pub method: &'static str,
+    /// How the value was obtained.
+    pub method: ModeMethod,
 }
 
 /// What the computation set up, for the report.
@@ -377,7 +399,7 @@ pub fn overtones(
                 }
             }
         }
-        modes.push(Mode { n, root, seed, method: "cf" });
+        modes.push(Mode { n, root, seed, method: ModeMethod::ContinuedFraction });
     }
     Ok(modes)
 }
@@ -434,7 +456,7 @@ fn terminating_mode(num: &super::cf::NumRecurrence, n: u32) -> Mode {
             StopReason::Rejected(format!("the termination condition for overtone {n} has no root with Re ω ≥ 0 and Im ω < 0")),
         ),
     };
-    Mode { n, root, seed: (Complex64::new(0.0, 0.0), "exact termination condition (no seed)".into()), method: "terminating" }
+    Mode { n, root, seed: (Complex64::new(0.0, 0.0), "exact termination condition (no seed)".into()), method: ModeMethod::Terminating }
 }
 
 /// The Schrödinger form used by the barrier estimates: dx/dz = h with h² the
@@ -626,7 +648,7 @@ pub fn degenerate_notes(rec: &crate::series::Recurrence, setup: &Setup, opts: &S
         return Vec::new();
     }
     let mut notes = Vec::new();
-    for m in modes.iter().filter(|m| m.method == "cf") {
+    for m in modes.iter().filter(|m| m.method == ModeMethod::ContinuedFraction) {
         let (at, radius) = if m.root.converged { (m.root.omega, 1e-3 * m.root.omega.norm()) } else { (m.seed.0, 0.1 * m.seed.0.im.abs().max(1e-3)) };
         // The index k runs as far as the series could reach within the
         // depths the continued fraction uses (bounded).
