@@ -360,21 +360,28 @@ pub fn spectrum(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport
     if req.method == Method::Exact {
         return exact_only(red, req);
     }
-    let mut report = numeric(red, req)?;
+    let Numeric { mut report, freq, point, ends } = numeric(red, req)?;
     if req.closed_form && req.couple.is_none() {
-        let (freq, _) = frequency(red, req)?;
-        let point = point(red, req, freq)?;
         let ends = match &report.body {
             Body::Bound(b) => bound_ends(b.domain),
             Body::Ends(e) => Some(problem_ends(&e.problem)),
-            Body::Recurrence(_) | Body::Estimates(_) | Body::Exact => {
-                let sub = super::spectrum::substitute(red, &point, freq)?;
-                boundary_problem(&sub, req, &point, freq).0.ok().map(|bp| problem_ends(&bp))
-            }
+            Body::Recurrence(_) | Body::Estimates(_) | Body::Exact => ends,
         };
         report.closed = closed_section(red, req, freq, &point, ends);
     }
     Ok(report)
+}
+
+/// What the numeric route found, with what the closed form needs from its
+/// set-up (so that nothing is derived twice).
+struct Numeric {
+    report: SpectrumReport,
+    /// The spectral parameter's index.
+    freq: usize,
+    /// The exact point.
+    point: Vec<GRat>,
+    /// The ends of the route's boundary problem, when it set one up.
+    ends: Option<[super::closed::EndPick; 2]>,
 }
 
 /// The ends of a bound-state domain for the closed form: normalisable at both.
@@ -441,26 +448,31 @@ impl Body {
 }
 
 /// The numeric route of [`spectrum`].
-fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
+fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
     if !(1..=super::wkb::MAX_ORDER).contains(&req.wkb_order) {
         return Err(usage(format!("the WKB order must lie in 1..={}", super::wkb::MAX_ORDER)).in_option("--wkb-order"));
     }
     let (freq, fname) = frequency(red, req)?;
     let point = point(red, req, freq)?;
     let opts = SpectrumOptions { freq, values: point.clone(), overtones: req.overtones, tol: req.tol, guess: req.guess, seeds: Vec::new() };
-    let report = |body: Body, mode_functions: Option<ModeFunctions>| SpectrumReport {
-        frequency: fname.clone(),
-        var: red.var.clone(),
-        body,
-        mode_functions,
-        closed: ClosedSection::NotAsked,
-        problem: req.problem,
+    let done = |body: Body, mode_functions: Option<ModeFunctions>, ends: Option<[super::closed::EndPick; 2]>| Numeric {
+        report: SpectrumReport {
+            frequency: fname.clone(),
+            var: red.var.clone(),
+            body,
+            mode_functions,
+            closed: ClosedSection::NotAsked,
+            problem: req.problem,
+        },
+        freq,
+        point: point.clone(),
+        ends,
     };
     if let Some(c) = &req.couple {
         if req.problem != Problem::Quasinormal || !matches!(req.method, Method::Auto | Method::Cf) {
             return Err(method_error("a coupled solve uses the continued fraction (--method auto or cf); direct integration runs as its check"));
         }
-        return Ok(report(Body::Recurrence(coupled(red, req, c, &opts)?), None));
+        return Ok(done(Body::Recurrence(coupled(red, req, c, &opts)?), None, None));
     }
     // The eikonal limit keeps its large parameter symbolic.
     let eikonal = eikonal_reduction(req, red, &point, freq)?;
@@ -468,7 +480,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
     let red = super::spectrum::substitute(red, &point, freq)?;
     if req.problem == Problem::Bound && req.ends.is_none() {
         let (b, f) = bound_states(&red, req, &opts)?;
-        return Ok(report(Body::Bound(b), f));
+        return Ok(done(Body::Bound(b), f, None));
     }
     if req.method == Method::Collocation {
         return Err(method_error(
@@ -477,6 +489,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
     }
     let kind = spectrum_kind(req.problem);
     let (problem, classic) = boundary_problem(&red, req, &point, freq);
+    let ends = problem.as_ref().ok().map(problem_ends);
     if classic {
         match recurrence_route(&red, req, &opts, eikonal) {
             // No estimate seeds an overtone: the global spectral method does.
@@ -487,15 +500,15 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
                 }
                 let opts = SpectrumOptions { seeds, ..opts.clone() };
                 let (body, f) = recurrence_route(&red, req, &opts, None)?;
-                return Ok(report(body, f));
+                return Ok(done(body, f, ends));
             }
             Err(e) if e.kind == ErrorKind::Usage && problem.is_ok() && req.method == Method::Auto => {
                 let bp = problem?;
                 let note = format!("the continued fraction could not be set up ({}); direct integration between the ends instead", e.message);
-                return Ok(report(Body::Ends(between_ends(bp, req, &opts, Some(note))), None));
+                return Ok(done(Body::Ends(between_ends(bp, req, &opts, Some(note))), None, None));
             }
             Err(e) => return Err(e),
-            Ok((body, f)) => return Ok(report(body, f)),
+            Ok((body, f)) => return Ok(done(body, f, ends)),
         }
     }
     if !matches!(req.method, Method::Auto | Method::Integrate) {
@@ -505,7 +518,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
     if kind == SpectrumKind::Bound && bp.ends.iter().any(|e| e.nature == super::boundary::Nature::Horizon) {
         return Err(usage("a bound-state problem between given ends cannot end at a horizon (its exponents depend on the eigenvalue): use --boundary qnm or quasi-bound").in_option("--ends"));
     }
-    Ok(report(Body::Ends(between_ends(bp, req, &opts, None)), None))
+    Ok(done(Body::Ends(between_ends(bp, req, &opts, None)), None, None))
 }
 
 /// The boundary problem of a (substituted) reduction, and whether the exact
