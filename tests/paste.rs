@@ -228,6 +228,103 @@ fn mathieu_as_written_is_the_exponential_sample() {
     assert_eq!(class_of_latex(r"\frac{d^{2}w}{dz^{2}} + (a - 2q\cos 2z)w = 0"), "doubly-reduced-doubly-confluent-heun");
 }
 
+/// The characteristic values of `spectrum` on a periodic equation as written
+/// (the default problem when the coefficients are trigonometric): (value,
+/// parity, index within the parity, multiplier, check agreement) per place.
+fn characteristic(args: &[&str], at: &str, overtones: &str) -> Vec<(f64, Option<String>, Option<u64>, f64, f64)> {
+    let mut all = vec!["spectrum", "--at", at, "--overtones", overtones, "--format", "json"];
+    all.extend_from_slice(args);
+    let out = canonode(&all);
+    assert!(out.status.success(), "{args:?}: {}", String::from_utf8_lossy(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["boundary"], "periodic", "{v}");
+    v["modes"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|m| {
+            assert_eq!(m["converged"], true, "{m}");
+            assert_eq!(m["check"]["method"], "monodromy");
+            (
+                m["omega"][0].as_f64().unwrap(),
+                m["family"]["parity"].as_str().map(String::from),
+                m["family"]["index"].as_u64(),
+                m["family"]["multiplier"].as_f64().unwrap(),
+                m["check"]["agreement"].as_f64().unwrap_or(f64::NAN),
+            )
+        })
+        .collect()
+}
+
+/// Mathieu's characteristic values from the equation as DLMF 28.2.1 prints
+/// it, with no hand substitution: a₀, b₁, a₁, b₂, a₂, b₃ at q = 1 and a₀…a₂
+/// at q = 5 (Abramowitz & Stegun table 20.1 / DLMF §28.17, from memory, 8
+/// decimals), each confirmed by the monodromy to 1e-10; the even/odd labels
+/// and periods (π for a₀, b₂, a₂; 2π for b₁, a₁, b₃) as DLMF 28.2(vi) has them.
+#[test]
+fn mathieu_characteristic_values_as_written() {
+    let want_q1 = [
+        (-0.45513860, "even", 0, 1.0),
+        (-0.11024882, "odd", 1, -1.0),
+        (1.85910807, "even", 1, -1.0),
+        (3.91702477, "odd", 2, 1.0),
+        (4.37130098, "even", 2, 1.0),
+        (9.04773926, "odd", 3, -1.0),
+    ];
+    let inline = characteristic(&["-e", "y'' + (a - 2*q*cos(2*x))*y = 0", "--var", "x"], "q=1", "0..5");
+    let tex = characteristic(&["--latex", "-e", r"\frac{d^{2}w}{dx^{2}} + (a - 2q\cos 2x)w = 0"], "q=1", "0..5");
+    for got in [inline, tex] {
+        assert_eq!(got.len(), want_q1.len());
+        for (g, w) in got.iter().zip(want_q1) {
+            assert!((g.0 - w.0).abs() < 5.1e-9, "{g:?} vs {w:?}");
+            assert_eq!((g.1.as_deref(), g.2, g.3), (Some(w.1), Some(w.2), w.3), "{g:?}");
+            assert!(g.4 < 1e-10, "monodromy check: {g:?}");
+        }
+    }
+    let want_q5 = [-5.80004602, -5.79008060, 1.85818754, 2.09946045, 7.44910974];
+    let got = characteristic(&["-e", "y'' + (a - 2*q*cos(2*x))*y = 0", "--var", "x"], "q=5", "0..4");
+    for (g, w) in got.iter().zip(want_q5) {
+        assert!((g.0 - w).abs() < 5.1e-9, "{g:?} vs {w}");
+    }
+}
+
+/// The same characteristic values phrased otherwise: with cos² (cos 2x =
+/// 2cos²x − 1, so a → a + q … exactly the same operator), with a named map
+/// ζ = e^{ix} (the coefficients then hold only even powers: the least period
+/// π is found), and shifted in phase, q cos 2x + p sin 2x = √(q² + p²) cos(2x − φ)
+/// (no parity then, the same values at √(q² + p²) = 1; exact).
+#[test]
+fn periodic_values_phrased_otherwise() {
+    let base = characteristic(&["-e", "y'' + (a - 2*q*cos(2*x))*y = 0", "--var", "x"], "q=1", "0..4");
+    let squared = characteristic(&["-e", "y'' + (a + 2*q - 4*q*cos(x)^2)*y = 0", "--var", "x"], "q=1", "0..4");
+    let named = characteristic(&["-e", "y'' + (a + 2*q - 4*q*cos(x)^2)*y = 0", "--var", "x", "--map", "z=exp(I*x)"], "q=1", "0..4");
+    let shifted = characteristic(&["-e", "y'' + (a - 2*q*cos(2*x) - 2*p*sin(2*x))*y = 0", "--var", "x"], "q=3/5,p=4/5", "0..4");
+    for other in [&squared, &named, &shifted] {
+        for (g, b) in other.iter().zip(&base) {
+            assert!((g.0 - b.0).abs() < 1e-11, "{g:?} vs {b:?}");
+            assert_eq!(g.3, b.3, "multiplier: {g:?} vs {b:?}");
+        }
+    }
+    assert!(shifted.iter().all(|g| g.1.is_none()), "no parity without the symmetry: {shifted:?}");
+    // q = 0: a = n² exactly (y = cos nx, sin nx), n² doubly for n ≥ 1 (exact).
+    let free = characteristic(&["-e", "y'' + (a - 2*q*cos(2*x))*y = 0", "--var", "x"], "q=0", "0..6");
+    for (g, w) in free.iter().zip([0.0, 1.0, 1.0, 4.0, 4.0, 9.0, 9.0]) {
+        assert!((g.0 - w).abs() < 1e-12, "{g:?} vs {w}");
+    }
+}
+
+/// A periodic problem is refused, with the reason, where it does not apply.
+#[test]
+fn periodic_problem_where_it_does_not_apply() {
+    // Real exponential coefficients are not periodic in real x.
+    let out = canonode(&["spectrum", "-e", "psi'' + (E - D*(exp(-2*x) - 2*exp(-x)))*psi = 0", "--var", "x", "--at", "D=9", "--boundary", "periodic"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("not periodic"), "{}", String::from_utf8_lossy(&out.stderr));
+    // Ends and seeds mean nothing for it.
+    let out = canonode(&["spectrum", "-e", "y'' + (a - 2*q*cos(2*x))*y = 0", "--var", "x", "--at", "q=1", "--guess", "1"]);
+    assert_eq!(out.status.code(), Some(2));
+}
+
 /// A map named with --map is used as given (no tanh form), and x itself cannot remain.
 #[test]
 fn named_map_and_what_cannot_be_mapped() {

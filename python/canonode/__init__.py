@@ -408,7 +408,7 @@ def spectrum(
     overtones=0,
     *,
     method="auto",
-    boundary="qnm",
+    boundary=None,
     guess=None,
     tol=1e-10,
     var=None,
@@ -422,8 +422,12 @@ def spectrum(
     angular_guess=None,
     ends=None,
 ) -> Spectrum:
-    """Quasinormal modes (``boundary="qnm"``), bound states (``"bound"``) or
-    quasi-bound states of massive fields (``"quasi-bound"``).
+    """Quasinormal modes (``boundary="qnm"``), bound states (``"bound"``),
+    quasi-bound states of massive fields (``"quasi-bound"``) or the
+    characteristic values of periodic coefficients (``"periodic"``: Mathieu,
+    Hill; solutions of period T and 2T, with their parity). By default:
+    ``"periodic"`` when the coefficients are trigonometric in the real
+    variable, else ``"qnm"``.
 
     ``at``: values of every parameter except the frequency, e.g.
     ``{"M": 1, "l": 2, "s": 2}``; ``overtones``: an int, a ``range`` or a

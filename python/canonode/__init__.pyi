@@ -131,7 +131,7 @@ def spectrum(
     overtones: Overtones = ...,
     *,
     method: str = ...,
-    boundary: str = ...,
+    boundary: Optional[str] = ...,
     guess: Optional[complex] = ...,
     tol: float = ...,
     var: Optional[str] = ...,

@@ -628,7 +628,7 @@ fn spectrum(
     at: Values,
     overtones: (u32, u32),
     method: String,
-    boundary: String,
+    boundary: Option<String>,
     guess: Option<(String, String)>,
     tol: f64,
     couple: Option<CoupleTuple>,
@@ -667,7 +667,7 @@ fn scan(
 ) -> PyResult<PyObject> {
     let spec = Spec::from_tuple(input);
     let doc = run(py, move |cancel| {
-        let req = workflows::Request { at, overtones, method: "auto".into(), boundary: "qnm".into(), guess, tol, couple: None, ends: None };
+        let req = workflows::Request { at, overtones, method: "auto".into(), boundary: Some("qnm".into()), guess, tol, couple: None, ends: None };
         workflows::scan(&spec, &req, &vary, &values, check, cancel)
     })?;
     to_py(py, &doc)

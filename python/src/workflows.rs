@@ -23,8 +23,9 @@ pub struct Request {
     pub overtones: (u32, u32),
     /// "auto", "cf", "integrate", "wkb", "eikonal" or "collocation".
     pub method: String,
-    /// "qnm" or "bound".
-    pub boundary: String,
+    /// "qnm", "bound", "quasi-bound" or "periodic"; None: periodic when the
+    /// coefficients are trigonometric in the real variable, else "qnm".
+    pub boundary: Option<String>,
     /// A seed for the lowest overtone (exact decimal parts).
     pub guess: Option<(String, String)>,
     /// Relative tolerance on ω.
@@ -128,13 +129,15 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
     use canonode::solve::request::{Method, Problem, SpectrumRequest, ANGULAR_ORIGIN};
     let lib = |e: Error| fail(&e, spec, &[]);
     let red = canonode::ode::reduce(&spec.input(), &spec.options()).map_err(lib)?;
-    let problem = match req.boundary.as_str() {
-        "qnm" => Problem::Quasinormal,
-        "bound" => Problem::Bound,
-        "quasi-bound" | "quasi_bound" => Problem::QuasiBound,
-        b => {
+    let problem = match req.boundary.as_deref() {
+        None => Problem::natural(&red),
+        Some("qnm") => Problem::Quasinormal,
+        Some("bound") => Problem::Bound,
+        Some("quasi-bound" | "quasi_bound") => Problem::QuasiBound,
+        Some("periodic") => Problem::Periodic,
+        Some(b) => {
             return Err(usage(
-                format!("'{b}' is not a boundary problem: use 'qnm', 'bound' or 'quasi-bound'"),
+                format!("'{b}' is not a boundary problem: use 'qnm', 'bound', 'quasi-bound' or 'periodic'"),
                 "boundary",
                 spec,
                 &[("boundary".into(), b.into())],

@@ -190,16 +190,12 @@ impl InputArgs {
         for line in inference_notes(&red, src.inline_var.is_some() || src.latex) {
             eprintln!("{line}");
         }
-        if ["exp", "sin", "cos", "tan", "sech", "e^"].iter().any(|f| src.text.contains(f)) {
-            // The map that made transcendental coefficients rational, if one did
-            // (lowered again: the reduction has no place for it).
-            if let Ok((ode, Some(map))) = crate::ode::lower_mapped(&src.input(), &opts.limits, &opts.parse_limits, opts.map.as_deref()) {
-                eprintln!(
-                    "note: change of variable {} (transcendental coefficients made rational; the equation is in {})",
-                    crate::ode::exp_map_text(&map, &ode),
-                    map.new_var
-                );
-            }
+        if let Some(map) = &red.map {
+            eprintln!(
+                "note: change of variable {} (transcendental coefficients made rational; the equation is in {})",
+                crate::ode::exp_map_text(map, &red.ode),
+                map.new_var
+            );
         }
         Ok(red)
     }

@@ -47,6 +47,18 @@
 //! `omega` null and a `reason` —, or null when the mode did not converge or
 //! no second method ran; `check_method` says which ran, or why none did.
 //!
+//! Documents of periodic problems (`--boundary periodic`, the default when
+//! the coefficients are trigonometric in the real variable) have `boundary`
+//! "periodic", `variable` (the one the equation was written in), `period`
+//! (T, or null when the equation was given in ζ itself), `map` (text or
+//! null), `symmetric` (whether parities were separated), `method` (words),
+//! and `modes` ascending by real part, each with `method` "truncation",
+//! `family` {`multiplier` 1 (period T) or −1 (sign change over T),
+//! `parity` "even"/"odd"/null, `index` (rank within the parity, even from 0,
+//! odd from 1; null without parity)}, `evidence` {`change_on_truncation`,
+//! `truncation` [K, 3K/2]} and `check` {`method` "monodromy", `omega` or
+//! null with `reason`, `agreement`, `residual`, `change_on_refinement`}.
+//!
 //! The estimates of `--method wkb` and `--method eikonal` (barrier-top
 //! estimates, not iterated eigenvalues) have their own document.
 //!
@@ -105,6 +117,9 @@ pub(crate) enum ProblemArg {
     Bound,
     /// Quasi-bound states: ingoing at the horizon, decaying at an irregular infinity (massive fields).
     QuasiBound,
+    /// Characteristic values of periodic coefficients (Mathieu, Hill): solutions of period T and 2T
+    /// (the default when the coefficients are trigonometric in the real variable).
+    Periodic,
 }
 
 /// Methods.
@@ -131,9 +146,10 @@ pub(crate) enum Method {
 pub(crate) struct SpectrumArgs {
     #[command(flatten)]
     input: InputArgs,
-    /// The boundary problem.
-    #[arg(long = "boundary", value_enum, default_value = "qnm")]
-    boundary: ProblemArg,
+    /// The boundary problem (default: periodic when the coefficients are trigonometric in the real
+    /// variable, else qnm).
+    #[arg(long = "boundary", value_enum)]
+    boundary: Option<ProblemArg>,
     /// The two ends of the domain and their conditions, 'LEFT..RIGHT', each end
     /// a number (a real singular point, matched numerically) or 'inf', with an
     /// optional ':CONDITION' (into, out-of, outgoing, decaying, normalisable,
@@ -233,13 +249,21 @@ pub(crate) fn run(a: &SpectrumArgs) -> u8 {
 }
 
 /// The library's request from the arguments (option text parsed here, once).
-fn request(a: &SpectrumArgs, overtones: (u32, u32), guess: Option<Complex64>, couple: Option<CoupleRequest>) -> Result<SpectrumRequest, Failure> {
+fn request(
+    a: &SpectrumArgs,
+    red: &crate::ode::Reduction,
+    overtones: (u32, u32),
+    guess: Option<Complex64>,
+    couple: Option<CoupleRequest>,
+) -> Result<SpectrumRequest, Failure> {
     let values = parse_assignments(&a.at, "--at")?;
     Ok(SpectrumRequest {
         problem: match a.boundary {
-            ProblemArg::Qnm => Problem::Quasinormal,
-            ProblemArg::Bound => Problem::Bound,
-            ProblemArg::QuasiBound => Problem::QuasiBound,
+            None => Problem::natural(red),
+            Some(ProblemArg::Qnm) => Problem::Quasinormal,
+            Some(ProblemArg::Bound) => Problem::Bound,
+            Some(ProblemArg::QuasiBound) => Problem::QuasiBound,
+            Some(ProblemArg::Periodic) => Problem::Periodic,
         },
         ends: match &a.ends {
             Some(t) => Some(crate::solve::boundary::parse_ends(t).map_err(|e| e.in_option("--ends"))?),
@@ -294,7 +318,7 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         }
         None => (None, None),
     };
-    let req = request(a, overtones, guess, couple)?;
+    let req = request(a, &red, overtones, guess, couple)?;
     if let Some(text) = &a.region {
         return super::region::region_modes(text, a.grid, a.format, &src.name, &red, &req);
     }

@@ -3,10 +3,13 @@
 //! CSV (one line per mode) and text (a table with the evidence). The command
 //! line and the Python package both render reports here.
 
-use super::numbers::fmt_complex;
+use super::numbers::{fmt_complex, pi_multiple};
 use crate::solve::boundary::{location_text, End, Location};
 use crate::solve::closed::ClosedForm;
-use crate::solve::request::{Body, BoundReport, ClosedSection, EndsReport, EstimateReport, Problem, RecurrenceReport, SpectrumReport};
+use crate::solve::periodic::{Floquet, PeriodicMode};
+use crate::solve::request::{
+    Body, BoundReport, ClosedSection, EndsReport, EstimateReport, PeriodicReport, Problem, RecurrenceReport, SpectrumReport,
+};
 use crate::solve::shoot::BoundCheck;
 use crate::solve::spectrum::ModeMethod;
 use crate::solve::wkb::in_lower_half_plane;
@@ -42,6 +45,7 @@ pub fn json(r: &SpectrumReport) -> Value {
         Body::Bound(b) => bound_json(&r.frequency, b),
         Body::Estimates(b) => estimates_json(&r.frequency, b),
         Body::Exact => exact_json(r),
+        Body::Periodic(b) => periodic_json(&r.frequency, b),
     };
     let numeric = r.body.converged();
     let (cf, note) = match &r.closed {
@@ -64,6 +68,7 @@ pub fn csv(r: &SpectrumReport) -> String {
         Body::Bound(b) => bound_csv(b),
         Body::Estimates(b) => estimates_csv(b),
         Body::Exact => exact_csv(r),
+        Body::Periodic(b) => periodic_csv(b),
     }
 }
 
@@ -74,12 +79,14 @@ pub fn text(r: &SpectrumReport, source: &str) -> String {
         Body::Ends(b) => ends_text(&r.frequency, &r.var, source, b),
         Body::Bound(b) => bound_text(&r.frequency, source, b),
         Body::Estimates(b) => estimates_text(&r.frequency, source, b),
+        Body::Periodic(b) => periodic_text(&r.frequency, source, b),
         Body::Exact => format!(
             "{} in {} from the closed form alone (--method exact: no numeric check)\n",
             match r.problem {
                 Problem::Bound => "bound states",
                 Problem::QuasiBound => "quasi-bound states",
                 Problem::Quasinormal => "quasinormal modes",
+                Problem::Periodic => "characteristic values",
             },
             r.frequency
         ),
@@ -100,6 +107,7 @@ fn boundary_name(p: Problem) -> &'static str {
         Problem::Quasinormal => "qnm",
         Problem::QuasiBound => "quasi-bound",
         Problem::Bound => "bound",
+        Problem::Periodic => "periodic",
     }
 }
 
@@ -452,7 +460,7 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
         .collect();
     json!({
         "frequency": fname,
-        "boundary": match b.spectrum { Problem::Quasinormal => "qnm", Problem::QuasiBound => "quasi-bound", Problem::Bound => "bound" },
+        "boundary": boundary_name(b.spectrum),
         "ends": ends,
         "notes": ends_notes(b),
         "method": ENDS_METHOD,
@@ -480,7 +488,7 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
     match b.spectrum {
         Problem::Quasinormal => o.push_str(&format!("quasinormal modes of {source} ({fname}), time dependence e^(-i*{fname}*t)\n")),
         Problem::QuasiBound => o.push_str(&format!("quasi-bound states of {source} ({fname}), time dependence e^(-i*{fname}*t)\n")),
-        Problem::Bound => o.push_str(&format!("eigenvalues {fname} of {source} (a real eigenvalue problem between the ends)\n")),
+        Problem::Bound | Problem::Periodic => o.push_str(&format!("eigenvalues {fname} of {source} (a real eigenvalue problem between the ends)\n")),
     }
     o.push_str(&format!("  left end:  {}\n", end_text(&b.problem.ends[0])));
     o.push_str(&format!("  right end: {}\n", end_text(&b.problem.ends[1])));
@@ -750,5 +758,145 @@ fn estimates_text(fname: &str, source: &str, b: &EstimateReport) -> String {
             }
         }
     }
+    o
+}
+
+/// The method of periodic problems, in words.
+const PERIODIC_METHOD: &str = "the Floquet-Laurent series y = sum c_k zeta^(k+nu) truncated to |k| <= K and 3K/2 (a value kept only when both agree); check: the monodromy over one period, integrated around zeta = 0, its root polished from each value";
+
+/// A periodic value's family in words: "even, period T" etc.
+fn periodic_family(m: &PeriodicMode, period: Option<f64>) -> String {
+    let span = match (m.floquet, period) {
+        (Floquet::Periodic, Some(t)) => format!("period {}", pi_multiple(t)),
+        (Floquet::Antiperiodic, Some(t)) => format!("period {} (sign change over {})", pi_multiple(2.0 * t), pi_multiple(t)),
+        (Floquet::Periodic, None) => "single-valued".to_string(),
+        (Floquet::Antiperiodic, None) => "sign change per turn".to_string(),
+    };
+    match (m.parity, m.index) {
+        (Some(p), Some(i)) => format!("{} #{i}, {span}", p.tag()),
+        _ => span,
+    }
+}
+
+fn periodic_check_json(m: &PeriodicMode) -> Value {
+    let c = &m.check;
+    json!({
+        "method": "monodromy",
+        "omega": if c.converged { pair(c.omega) } else { Value::Null },
+        "agreement": finite_or_null(m.agreement),
+        "residual": finite_or_null(c.residual),
+        "change_on_refinement": finite_or_null(c.change),
+        "reason": if c.converged { Value::Null } else { Value::String(c.reason.clone()) },
+    })
+}
+
+fn periodic_json(fname: &str, b: &PeriodicReport) -> Value {
+    let s = &b.solution;
+    let mut ms: Vec<(u32, Value)> = s
+        .modes
+        .iter()
+        .map(|m| {
+            (
+                m.n,
+                json!({
+                    "n": m.n,
+                    "omega": pair(m.value),
+                    "converged": true,
+                    "reason": Value::Null,
+                    "method": "truncation",
+                    "family": {
+                        "multiplier": m.floquet.multiplier(),
+                        "parity": m.parity.map(|p| p.tag()),
+                        "index": m.index,
+                    },
+                    "evidence": {"change_on_truncation": finite_or_null(m.change), "truncation": [s.truncation.0, s.truncation.1]},
+                    "check": periodic_check_json(m),
+                }),
+            )
+        })
+        .collect();
+    ms.extend(s.missing.iter().map(|x| {
+        (x.n, json!({"n": x.n, "omega": Value::Null, "converged": false, "reason": x.reason, "method": "truncation", "family": Value::Null, "evidence": Value::Null, "check": Value::Null}))
+    }));
+    ms.sort_by_key(|(n, _)| *n);
+    json!({
+        "frequency": fname,
+        "boundary": "periodic",
+        "variable": b.written_var,
+        "period": opt_num(b.period),
+        "map": b.map,
+        "symmetric": s.symmetric,
+        "method": PERIODIC_METHOD,
+        "modes": ms.into_iter().map(|(_, v)| v).collect::<Vec<_>>(),
+    })
+}
+
+fn periodic_csv(b: &PeriodicReport) -> String {
+    let mut rows: Vec<(u32, String)> = Vec::new();
+    for m in &b.solution.modes {
+        let parity = m.parity.map_or("", |p| p.tag());
+        let index = m.index.map(|i| i.to_string()).unwrap_or_default();
+        let (cre, cim) =
+            if m.check.converged { (format!("{:.17e}", m.check.omega.re), format!("{:.17e}", m.check.omega.im)) } else { Default::default() };
+        let agreement = if m.agreement.is_finite() { format!("{:.3e}", m.agreement) } else { String::new() };
+        let reason = if m.check.converged { String::new() } else { format!("\"check: {}\"", m.check.reason.replace('"', "'")) };
+        rows.push((
+            m.n,
+            format!(
+                "{},{:.17e},{:.17e},true,truncation,{},{parity},{index},{:.3e},{cre},{cim},{agreement},{reason}\n",
+                m.n,
+                m.value.re,
+                m.value.im,
+                m.floquet.multiplier(),
+                m.change
+            ),
+        ));
+    }
+    for x in &b.solution.missing {
+        rows.push((x.n, format!("{},,,false,truncation,,,,,,,,\"{}\"\n", x.n, x.reason.replace('"', "'"))));
+    }
+    rows.sort_by_key(|(n, _)| *n);
+    let mut o = String::from("n,re,im,converged,method,multiplier,parity,index,change_on_truncation,check_re,check_im,agreement,reason\n");
+    o.extend(rows.into_iter().map(|(_, r)| r));
+    o
+}
+
+fn periodic_text(fname: &str, source: &str, b: &PeriodicReport) -> String {
+    let s = &b.solution;
+    let mut o = format!("characteristic values {fname} of {source}: coefficients periodic in {}", b.written_var);
+    match (b.period, &b.map) {
+        (Some(t), Some(map)) => o.push_str(&format!(" with period T = {} ({map})\n", pi_multiple(t))),
+        _ => o.push_str(" (the equation in its own variable: solutions single-valued or changing sign once around 0)\n"),
+    }
+    o.push_str(&format!("  solutions with y({x} + T) = y({x}) and y({x} + T) = -y({x})", x = b.written_var));
+    if s.symmetric {
+        o.push_str(&format!(
+            "; the equation is symmetric under {x} -> -{x}: even solutions numbered from #0, odd from #1, each ascending (for Mathieu's equation with real q: a_n and b_n, DLMF 28.2(vi))",
+            x = b.written_var
+        ));
+    }
+    o.push_str(&format!("\n  method: {PERIODIC_METHOD} (K = {}, {})\n\n", s.truncation.0, s.truncation.1));
+    o.push_str(&format!("  n  {fname:<26} solution\n"));
+    let mut rows: Vec<(u32, String)> = Vec::new();
+    for m in &s.modes {
+        let mut r = format!(
+            "  {:<2} {:<26} {}, truncation change {:.1e}\n",
+            m.n,
+            fmt_complex(m.value.re, m.value.im),
+            periodic_family(m, b.period),
+            m.change
+        );
+        if m.check.converged {
+            r.push_str(&format!("     check: monodromy {}, agreement {:.1e}\n", fmt_complex(m.check.omega.re, m.check.omega.im), m.agreement));
+        } else {
+            r.push_str(&format!("     check: the monodromy root did not converge (UNCONFIRMED): {}\n", m.check.reason));
+        }
+        rows.push((m.n, r));
+    }
+    for x in &s.missing {
+        rows.push((x.n, format!("  {:<2} NOT CONVERGED: {}\n", x.n, x.reason)));
+    }
+    rows.sort_by_key(|(n, _)| *n);
+    o.extend(rows.into_iter().map(|(_, r)| r));
     o
 }

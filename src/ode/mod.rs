@@ -101,6 +101,10 @@ pub struct Reduction {
     pub change: Option<Change>,
     /// The Schrödinger form, when dx/dz was given.
     pub schrodinger: Option<Schrodinger>,
+    /// The change of variable that made transcendental coefficients
+    /// rational, when one was applied while lowering (the equation is then in
+    /// its new variable).
+    pub map: Option<ExpMap>,
 }
 
 /// Parses and lowers an input into a linear ODE.
@@ -231,7 +235,7 @@ pub(crate) fn fresh_name(want: &str, taken: &[String]) -> String {
 
 /// The whole `reduce` derivation: lower, optionally change variable, normal form, Schrödinger form.
 pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
-    let (ode, _) = lower_mapped(input, &opts.limits, &opts.parse_limits, opts.map.as_deref())?;
+    let (ode, map) = lower_mapped(input, &opts.limits, &opts.parse_limits, opts.map.as_deref())?;
     let mut names: Vec<String> = vec![ode.var.clone()];
     names.extend(ode.params.iter().cloned());
     let mut field = Field::new(names.clone(), opts.limits.clone())?;
@@ -322,7 +326,7 @@ pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
         let dep = freq_idx.is_some_and(|i| v.uses_var(i));
         schrod = Some(Schrodinger { dxdz: h, w, v, frequency: freq_name, v_depends_on_frequency: dep });
     }
-    Ok(Reduction { ode, field, var, p, q, normal, change, schrodinger: schrod })
+    Ok(Reduction { ode, field, var, p, q, normal, change, schrodinger: schrod, map })
 }
 
 fn shift(mut e: Error, offset: usize) -> Error {

@@ -436,6 +436,22 @@ fn grid_eigenvalues(r: &Remainder, n: usize, sigma: Complex64) -> Result<Vec<Com
             }
         }
     }
+    pencil_eigenvalues(m, sigma).map_err(|why| grid_failure(n, &why))
+}
+
+/// The eigenvalues ω of the polynomial eigenvalue problem Σ_d ω^d M_d v = 0
+/// (`m[d]` = M_d, square, at least two of them): ω is scaled to balance the
+/// first and last matrices, the companion linearisation A z = ω B z
+/// (z = (v, ωv, …)) is solved by shift and invert about σ (nalgebra's LU and
+/// a bounded Schur iteration), infinite eigenvalues of the pencil are
+/// dropped. The error says why there are none (σ an eigenvalue, the
+/// iteration at its limit).
+pub(crate) fn pencil_eigenvalues(mut m: Vec<DMatrix<Complex64>>, sigma: Complex64) -> std::result::Result<Vec<Complex64>, String> {
+    let k = m.len().saturating_sub(1);
+    if k == 0 {
+        return Err("the problem does not depend on the spectral parameter".into());
+    }
+    let np = m[0].nrows();
     // ω = γ ω̃ with γ balancing the first and last coefficient matrices
     // (a better conditioned companion form); the eigenvalues are scaled back.
     let fro = |x: &DMatrix<Complex64>| x.iter().map(|v| v.norm_sqr()).sum::<f64>().sqrt();
@@ -470,10 +486,9 @@ fn grid_eigenvalues(r: &Remainder, n: usize, sigma: Complex64) -> Result<Vec<Com
         }
     }
     let t = &a - &b * sigma;
-    let kmat = t.lu().solve(&b).ok_or_else(|| grid_failure(n, "the shifted matrix is singular (the shift is an eigenvalue)"))?;
-    let theta = crate::analysis::numeric::try_eigenvalues(&kmat).ok_or_else(|| {
-        grid_failure(n, &format!("the eigenvalue iteration stopped at its limit of {} steps", crate::analysis::numeric::qr_limit(size)))
-    })?;
+    let kmat = t.lu().solve(&b).ok_or("the shifted matrix is singular (the shift is an eigenvalue)")?;
+    let theta = crate::analysis::numeric::try_eigenvalues(&kmat)
+        .ok_or_else(|| format!("the eigenvalue iteration stopped at its limit of {} steps", crate::analysis::numeric::qr_limit(size)))?;
     let top = theta.iter().map(|t| t.norm()).fold(0.0, f64::max);
     Ok(theta
         .into_iter()
@@ -526,24 +541,32 @@ pub fn try_spectral(bp: &BoundaryProblem, n: usize, tol: f64, sigma: Complex64, 
     let n2 = n + n / 2;
     let coarse = grid_eigenvalues(&r, n, sigma)?;
     let fine = grid_eigenvalues(&r, n2, sigma)?;
+    let mut values = persisting(&coarse, &fine, tol, bp.scale);
+    values.sort_by(|p, q| p.omega.im.abs().total_cmp(&q.omega.im.abs()).then(p.omega.re.total_cmp(&q.omega.re)));
+    let degree = r.c.iter().map(|p| p.deg_w()).max().unwrap_or(0);
+    Ok(Spectral { dropped: fine.len() - values.len(), values, grids: (n, n2), degree, tol, factors: f })
+}
+
+/// The eigenvalues of the finer discretisation that the coarser one has
+/// too, to `tol`·max(|ω|, `scale`), each as the other's nearest: the rest
+/// moved with the discretisation and are not eigenvalues of the problem.
+pub(crate) fn persisting(coarse: &[Complex64], fine: &[Complex64], tol: f64, scale: f64) -> Vec<SpectralValue> {
     let nearest = |w: Complex64, set: &[Complex64]| -> Option<(usize, f64)> {
         set.iter().enumerate().map(|(i, v)| (i, (v - w).norm())).min_by(|p, q| p.1.total_cmp(&q.1))
     };
     let mut values = Vec::new();
-    for w in &fine {
-        let Some((i, dist)) = nearest(*w, &coarse) else { continue };
-        if dist.is_nan() || dist > tol * w.norm().max(bp.scale) {
+    for w in fine {
+        let Some((i, dist)) = nearest(*w, coarse) else { continue };
+        if dist.is_nan() || dist > tol * w.norm().max(scale) {
             continue;
         }
         // Mutual: the coarse value's nearest fine value is this one.
-        if nearest(coarse[i], &fine).is_some_and(|(_, back)| back < dist) {
+        if nearest(coarse[i], fine).is_some_and(|(_, back)| back < dist) {
             continue;
         }
         values.push(SpectralValue { omega: *w, change: dist });
     }
-    values.sort_by(|p, q| p.omega.im.abs().total_cmp(&q.omega.im.abs()).then(p.omega.re.total_cmp(&q.omega.re)));
-    let degree = r.c.iter().map(|p| p.deg_w()).max().unwrap_or(0);
-    Ok(Spectral { dropped: fine.len() - values.len(), values, grids: (n, n2), degree, tol, factors: f })
+    values
 }
 
 /// A rectangle of the complex plane.

@@ -37,6 +37,25 @@ pub enum Problem {
     Bound,
     /// Quasi-bound states: into the horizon, decaying at an irregular infinity.
     QuasiBound,
+    /// Characteristic values of periodic coefficients: solutions of period
+    /// T or 2T in the variable the equation was written in.
+    Periodic,
+}
+
+impl Problem {
+    /// The problem a physicist means when none is named: characteristic
+    /// values when the coefficients are periodic in the real variable (a
+    /// trigonometric map ζ = e^(iκx) made them rational), quasinormal modes
+    /// otherwise.
+    pub fn natural(red: &Reduction) -> Problem {
+        // Any parameter values serve to tell an imaginary exponent from a real one.
+        let ones = vec![Complex64::new(1.0, 0.0); red.field.names().len()];
+        if matches!(super::periodic::trigonometric_kappa(red, &ones), Ok(Some(_))) {
+            Problem::Periodic
+        } else {
+            Problem::Quasinormal
+        }
+    }
 }
 
 /// Which method.
@@ -217,6 +236,22 @@ pub enum Body {
     Estimates(EstimateReport),
     /// The closed form alone (`Method::Exact`).
     Exact,
+    /// Characteristic values of a periodic problem.
+    Periodic(PeriodicReport),
+}
+
+/// Characteristic values of a periodic problem (`solve::periodic`).
+#[derive(Debug)]
+pub struct PeriodicReport {
+    /// The period T in the variable the equation was written in (None when
+    /// the equation was given in ζ itself: one turn about ζ = 0).
+    pub period: Option<f64>,
+    /// The map ζ = e^(iκx), as text, when one was applied.
+    pub map: Option<String>,
+    /// The variable the equation was written in (x), or the equation's variable.
+    pub written_var: String,
+    /// The values and their evidence.
+    pub solution: super::periodic::PeriodicSolution,
 }
 
 /// The result of [`spectrum`].
@@ -366,8 +401,12 @@ pub fn spectrum(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport
             Body::Bound(b) => bound_ends(b.domain),
             Body::Ends(e) => Some(problem_ends(&e.problem)),
             Body::Recurrence(_) | Body::Estimates(_) | Body::Exact => ends,
+            Body::Periodic(_) => None,
         };
-        report.closed = closed_section(red, req, freq, &point, ends);
+        report.closed = match report.body {
+            Body::Periodic(_) => ClosedSection::None("closed forms are derived for problems between two ends, not for periodic ones".into()),
+            _ => closed_section(red, req, freq, &point, ends),
+        };
     }
     Ok(report)
 }
@@ -442,6 +481,7 @@ impl Body {
             Body::Recurrence(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, m.method.tag())).collect(),
             Body::Ends(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, "integrate")).collect(),
             Body::Bound(b) => b.states.iter().filter(|s| s.converged).map(|s| (s.n, s.value, "collocation")).collect(),
+            Body::Periodic(b) => b.solution.modes.iter().map(|m| (m.n, m.value, "truncation")).collect(),
             Body::Estimates(_) | Body::Exact => Vec::new(),
         }
     }
@@ -477,6 +517,9 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
     // The eikonal limit keeps its large parameter symbolic.
     let eikonal = eikonal_reduction(req, red, &point, freq)?;
     // Exact values for every other parameter: horizons often become rational points.
+    if req.problem == Problem::Periodic {
+        return Ok(done(Body::Periodic(periodic(red, req, &point, freq)?), None, None));
+    }
     let red = super::spectrum::substitute(red, &point, freq)?;
     if req.problem == Problem::Bound && req.ends.is_none() {
         let (b, f) = bound_states(&red, req, &opts)?;
@@ -541,8 +584,31 @@ fn spectrum_kind(p: Problem) -> SpectrumKind {
     match p {
         Problem::Quasinormal => SpectrumKind::Quasinormal,
         Problem::QuasiBound => SpectrumKind::QuasiBound,
-        Problem::Bound => SpectrumKind::Bound,
+        Problem::Bound | Problem::Periodic => SpectrumKind::Bound,
     }
+}
+
+/// Characteristic values of a periodic problem: the equation in ζ (after the
+/// trigonometric map, or as given) made numeric except in the spectral
+/// parameter and handed to `solve::periodic`.
+fn periodic(red: &Reduction, req: &SpectrumRequest, point: &[GRat], freq: usize) -> Result<PeriodicReport> {
+    if req.method != Method::Auto {
+        return Err(method_error("a periodic problem is solved by the truncated Laurent series, checked by the monodromy: use --method auto"));
+    }
+    if req.ends.is_some() || req.guess.is_some() {
+        return Err(usage(
+            "a periodic problem has no ends and needs no seed: every characteristic value comes from one truncated eigenvalue problem",
+        ));
+    }
+    let values: Vec<Complex64> = point.iter().map(|v| v.to_f64()).map(|(re, im)| Complex64::new(re, im)).collect();
+    let kappa = super::periodic::trigonometric_kappa(red, &values)?;
+    let sub = super::spectrum::substitute(red, point, freq)?;
+    let ode = super::try_num_ode(&sub.field, &sub.p, &sub.q, point, freq)?;
+    let solution = super::periodic::solve(&ode, req.overtones, req.tol)?;
+    let map = red.map.as_ref().map(|m| crate::ode::exp_map_text(m, &red.ode));
+    let written_var = red.map.as_ref().map_or_else(|| red.var.clone(), |m| m.old_var.clone());
+    let period = kappa.map(|k| 2.0 * std::f64::consts::PI / (k.abs() * solution.step as f64));
+    Ok(PeriodicReport { period, map, written_var, solution })
 }
 
 /// What the global spectral method over a region works on.
@@ -597,7 +663,7 @@ fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptio
     };
     let numbering = match spectrum {
         _ if opts.guess.is_some() => None,
-        Problem::Bound => Some("no --guess: the eigenvalues are the distinct real roots reached from a scan of the real axis, numbered upward; an eigenvalue below the scanned range would shift the numbering"),
+        Problem::Bound | Problem::Periodic => Some("no --guess: the eigenvalues are the distinct real roots reached from a scan of the real axis, numbered upward; an eigenvalue below the scanned range would shift the numbering"),
         Problem::Quasinormal => Some("no --guess: the modes are the distinct roots reached from a scan of the complex plane, numbered by |Im ω|; a mode the scan missed would shift the numbering"),
         Problem::QuasiBound => None,
     };

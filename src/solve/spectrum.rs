@@ -605,7 +605,7 @@ pub fn substitute_keeping(red: &Reduction, values: &[GRat], keep: &[usize]) -> R
         q: q.clone(),
         lets: Vec::new(),
     };
-    Ok(Reduction { ode, field: kf, var: red.var.clone(), p, q, normal, change: None, schrodinger: None })
+    Ok(Reduction { ode, field: kf, var: red.var.clone(), p, q, normal, change: None, schrodinger: None, map: red.map.clone() })
 }
 
 /// A frequency where the recurrence's leading coefficient c₀(k; ω) (the

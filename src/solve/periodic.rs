@@ -1,0 +1,412 @@
+//! Periodic problems: the characteristic values of an equation whose
+//! coefficients are periodic in a real variable x (Mathieu, Whittaker–Hill,
+//! Ince, Hill's equation with a trigonometric-polynomial potential).
+//!
+//! After the map ζ = e^(iκx) that made the coefficients rational
+//! (`ode::ExpMap`), one period T = 2π/|κ| of x is one turn of ζ about 0, and
+//! the equation A y'' + B y' + C y = 0 in ζ has polynomial coefficients with
+//! A = a_d ζ^d (singular points at 0 and ∞ only). A solution with
+//! y(x + T) = ρ y(x) and ρ = e^(2πiν) is a Laurent series
+//! y = Σ_k c_k ζ^(k+ν) (Floquet's theorem, common practice); ν = 0 gives the
+//! solutions of period T, ν = ½ those of period 2T (y(x + T) = −y(x)).
+//! Inserting the series gives the two-sided recurrence
+//! Σ_s T_s(k + d − s + ν) c_(k+d−s) = 0 with
+//! T_s(κ) = a_s κ(κ − 1) + b_(s−1) κ + c_(s−2), whose coefficients are
+//! polynomials in the spectral parameter λ. Truncated to |k| ≤ K it is a
+//! polynomial eigenvalue problem in λ (solved with the global method's
+//! pencil solver); a value is kept only when the truncations K and 3K/2
+//! agree on it. Where the equation is symmetric under x → −x
+//! (k + ν → −(k + ν)), the even and odd solutions are separated exactly by
+//! splitting the truncated problem into its two invariant blocks.
+//!
+//! Second method: the monodromy. The equation is integrated once around
+//! ζ = 0 (Taylor steps along a square through ζ = ±1, ±i, homotopic to one
+//! period of the real x-axis) from two independent initial values; the
+//! characteristic values are the roots in λ of det(M(λ) − ρ), polished from
+//! each truncation value by the same two-pass Muller search as direct
+//! integration (standard, then refined steps).
+
+use super::global::{pencil_eigenvalues, persisting};
+use super::integrate::{continue_along, find_root_by, Coeffs, IntRoot, Params, MAX_ITER};
+use super::NumOde;
+use crate::error::{Error, ErrorKind, Result};
+use nalgebra::DMatrix;
+use num_complex::Complex64;
+
+const ZERO: Complex64 = Complex64::new(0.0, 0.0);
+
+/// The smallest truncation |k| ≤ K of the Laurent series.
+const MIN_TRUNCATION: usize = 20;
+
+/// Below this relative imaginary part a value of a real problem is real.
+const REAL_SNAP: f64 = 1e-11;
+
+/// The two Floquet multipliers of real periodic problems.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Floquet {
+    /// y(x + T) = y(x): ν = 0.
+    Periodic,
+    /// y(x + T) = −y(x) (period 2T): ν = ½.
+    Antiperiodic,
+}
+
+impl Floquet {
+    /// The Floquet exponent ν of y = Σ c_k ζ^(k+ν).
+    pub fn nu(self) -> f64 {
+        match self {
+            Floquet::Periodic => 0.0,
+            Floquet::Antiperiodic => 0.5,
+        }
+    }
+    /// The multiplier ρ = y(x + T)/y(x).
+    pub fn multiplier(self) -> f64 {
+        match self {
+            Floquet::Periodic => 1.0,
+            Floquet::Antiperiodic => -1.0,
+        }
+    }
+}
+
+/// Parity of a solution under x → −x, where the equation has that symmetry.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Parity {
+    /// y(−x) = y(x) (cosine-like).
+    Even,
+    /// y(−x) = −y(x) (sine-like).
+    Odd,
+}
+
+impl Parity {
+    /// The word used in reports.
+    pub fn tag(self) -> &'static str {
+        match self {
+            Parity::Even => "even",
+            Parity::Odd => "odd",
+        }
+    }
+}
+
+/// One characteristic value.
+#[derive(Clone, Debug)]
+pub struct PeriodicMode {
+    /// Its place in the whole list, ascending by real part (then imaginary part).
+    pub n: u32,
+    /// The value from the finer truncation.
+    pub value: Complex64,
+    /// |value(3K/2) − value(K)|.
+    pub change: f64,
+    /// The multiplier of its solution.
+    pub floquet: Floquet,
+    /// The solution's parity, where the equation is symmetric under x → −x.
+    pub parity: Option<Parity>,
+    /// With a parity: its rank among the values of that parity, in ascending
+    /// order, counted from 0 for even and from 1 for odd solutions (for
+    /// Mathieu's equation with real q these are the a_n and b_n of DLMF §28.2(vi)).
+    pub index: Option<u32>,
+    /// The monodromy root polished from `value`.
+    pub check: IntRoot,
+    /// |check − value| / max(|value|, 10⁻³) (NaN when the check did not converge).
+    pub agreement: f64,
+}
+
+/// An overtone asked for that has no value, and why.
+#[derive(Clone, Debug)]
+pub struct Missing {
+    /// The place asked for.
+    pub n: u32,
+    /// Why there is no value.
+    pub reason: String,
+}
+
+/// What the periodic solver found.
+#[derive(Clone, Debug)]
+pub struct PeriodicSolution {
+    /// The truncations |k| ≤ K of the two solves.
+    pub truncation: (usize, usize),
+    /// Whether the equation is symmetric under x → −x (parities separated).
+    pub symmetric: bool,
+    /// The degree of the recurrence's coefficients in the spectral parameter.
+    pub degree: usize,
+    /// g: the coefficients hold only powers ζ^(g·m), the least period is T/g
+    /// (T the period of the map).
+    pub step: usize,
+    /// The values asked for, ascending.
+    pub modes: Vec<PeriodicMode>,
+    /// Places asked for beyond the values that persisted.
+    pub missing: Vec<Missing>,
+}
+
+fn usage(msg: impl Into<String>) -> Error {
+    Error::new(ErrorKind::Usage, msg)
+}
+
+/// The coefficients of A, B, C as (ζ power, λ power) tables, and the power d of A = a_d ζ^d.
+struct Laurent {
+    /// `t[s][e]`: the coefficient of λ^e in T_s, as a polynomial in κ: [c₀, c₁, c₂] (constant, κ, κ²).
+    t: Vec<Vec<[Complex64; 3]>>,
+    d: usize,
+    degree: usize,
+    /// The step g of the powers present: the coefficients (in the θ form)
+    /// hold only powers ζ^(g·m), so that the least period is T/g.
+    step: usize,
+    /// Whether every coefficient is real (the values of a real problem are
+    /// real or in conjugate pairs).
+    real: bool,
+}
+
+impl Laurent {
+    fn new(ode: &NumOde) -> Result<Laurent> {
+        let nonzero = |row: &Vec<Complex64>| row.iter().any(|x| *x != ZERO);
+        let powers: Vec<usize> = (0..ode.a.c.len()).filter(|&i| nonzero(&ode.a.c[i])).collect();
+        let [d] = powers[..] else {
+            return Err(usage(
+                "a periodic problem needs coefficients that are trigonometric polynomials: after the map, the coefficient of y'' must be a single power of the new variable (no singular point besides 0 and ∞)",
+            ));
+        };
+        if ode.a.c[d].iter().skip(1).any(|x| *x != ZERO) {
+            return Err(usage("the coefficient of y'' depends on the spectral parameter: a periodic problem needs it free of it"));
+        }
+        let get = |p: &super::NPoly, i: isize, e: usize| -> Complex64 {
+            if i < 0 {
+                return ZERO;
+            }
+            p.c.get(i as usize).and_then(|r| r.get(e)).copied().unwrap_or(ZERO)
+        };
+        let degree = [&ode.a, &ode.b, &ode.c].iter().flat_map(|p| p.c.iter().map(|r| r.len())).max().unwrap_or(1).saturating_sub(1);
+        if degree == 0 {
+            return Err(usage("the equation does not depend on the spectral parameter"));
+        }
+        let s_max = (ode.a.c.len().saturating_sub(1)).max(ode.b.c.len()).max(ode.c.c.len() + 1);
+        let t = (0..=s_max as isize)
+            .map(|s| {
+                (0..=degree)
+                    .map(|e| {
+                        // a_s κ(κ − 1) + b_(s−1) κ + c_(s−2) = a_s κ² + (b_(s−1) − a_s) κ + c_(s−2).
+                        let (a, b, c) = (get(&ode.a, s, e), get(&ode.b, s - 1, e), get(&ode.c, s - 2, e));
+                        [c, b - a, a]
+                    })
+                    .collect()
+            })
+            .collect();
+        let real = [&ode.a, &ode.b, &ode.c].iter().all(|p| p.c.iter().flatten().all(|x| x.im == 0.0));
+        let t: Vec<Vec<[Complex64; 3]>> = t;
+        let step = t.iter().enumerate().filter(|(_, row)| row.iter().flatten().any(|x| *x != ZERO)).map(|(s, _)| s.abs_diff(d)).fold(0, gcd);
+        Ok(Laurent { t, d, degree, real, step: step.max(1) })
+    }
+
+    /// A value of a real problem whose imaginary part is rounding (the shift
+    /// of the pencil is complex) made real; others unchanged.
+    fn snap(&self, w: Complex64) -> Complex64 {
+        if self.real && w.im.abs() <= REAL_SNAP * w.re.abs().max(1.0) {
+            Complex64::new(w.re, 0.0)
+        } else {
+            w
+        }
+    }
+
+    /// The matrices M_e of the recurrence truncated to k in `lo..=hi` (rows scaled to unit diagonal growth).
+    fn matrices(&self, nu: f64, lo: i64, hi: i64) -> Vec<DMatrix<Complex64>> {
+        let size = (hi - lo + 1) as usize;
+        let mut m = vec![DMatrix::<Complex64>::zeros(size, size); self.degree + 1];
+        for r in 0..size {
+            let k = lo + r as i64;
+            let scale = 1.0 / (1.0 + (k as f64 + nu).powi(2));
+            for col in 0..size {
+                let j = lo + col as i64;
+                let g = self.step as i64;
+                let s = self.d as i64 + g * (k - j);
+                if s < 0 || s as usize >= self.t.len() {
+                    continue;
+                }
+                let kappa = (j as f64 + nu) * g as f64;
+                for (e, c) in self.t[s as usize].iter().enumerate() {
+                    m[e][(r, col)] = (c[0] + c[1] * kappa + c[2] * kappa * kappa) * scale;
+                }
+            }
+        }
+        m
+    }
+}
+
+fn gcd(a: usize, b: usize) -> usize {
+    if b == 0 {
+        a
+    } else {
+        gcd(b, a % b)
+    }
+}
+
+/// The index range of a truncation: symmetric under k → −k − 2ν.
+fn range(k: usize, f: Floquet) -> (i64, i64) {
+    match f {
+        Floquet::Periodic => (-(k as i64), k as i64),
+        Floquet::Antiperiodic => (-(k as i64) - 1, k as i64),
+    }
+}
+
+/// Whether every matrix commutes with the reflection k → −k − 2ν (rows and
+/// columns reversed, as the range is symmetric).
+fn symmetric(m: &[DMatrix<Complex64>]) -> bool {
+    m.iter().all(|x| {
+        let n = x.nrows();
+        let top = x.iter().map(|v| v.norm()).fold(0.0, f64::max);
+        (0..n).all(|i| (0..n).all(|j| (x[(i, j)] - x[(n - 1 - i, n - 1 - j)]).norm() <= 1e-13 * top))
+    })
+}
+
+/// The block of each matrix on the even (odd) vectors of the reflection.
+fn block(m: &[DMatrix<Complex64>], parity: Parity) -> Vec<DMatrix<Complex64>> {
+    let n = m[0].nrows();
+    let h = std::f64::consts::FRAC_1_SQRT_2;
+    let sign = match parity {
+        Parity::Even => 1.0,
+        Parity::Odd => -1.0,
+    };
+    // Basis: (e_i ± e_(n−1−i))/√2 for i < n − 1 − i, and e_mid for the even block.
+    let mut basis: Vec<Vec<(usize, f64)>> = (0..n / 2).map(|i| vec![(i, h), (n - 1 - i, sign * h)]).collect();
+    if n % 2 == 1 && parity == Parity::Even {
+        basis.push(vec![(n / 2, 1.0)]);
+    }
+    m.iter()
+        .map(|x| {
+            DMatrix::from_fn(basis.len(), basis.len(), |r, c| {
+                let mut acc = ZERO;
+                for &(i, u) in &basis[r] {
+                    for &(j, v) in &basis[c] {
+                        acc += x[(i, j)] * u * v;
+                    }
+                }
+                acc
+            })
+        })
+        .collect()
+}
+
+/// A shift for the pencil: off the real axis, where real problems have no value.
+const SHIFT: Complex64 = Complex64::new(0.123_456_789, 0.987_654_321);
+
+/// One family's values (a multiplier, a parity or none) at truncation K.
+fn family_values(l: &Laurent, k: usize, f: Floquet, parity: Option<Parity>) -> Result<Vec<Complex64>> {
+    let (lo, hi) = range(k, f);
+    let m = l.matrices(f.nu(), lo, hi);
+    let m = match parity {
+        Some(p) => block(&m, p),
+        None => m,
+    };
+    pencil_eigenvalues(m, SHIFT).map_err(|why| usage(format!("the truncated problem (|k| ≤ {k}) could not be solved: {why}")))
+}
+
+/// The normalised monodromy mismatch det(M − ρ)/(1 + |tr M| + |det M|) (ρ = ±1)
+/// at λ over the least period (ζ from 1 to e^(2πi/g), four chords), in the
+/// state (y, ζ y') that the rotation ζ → e^(2πi/g) ζ leaves alone, and the
+/// Taylor steps it took.
+fn monodromy(ode: &NumOde, step: usize, lambda: Complex64, rho: f64, p: &Params) -> std::result::Result<(Complex64, usize), String> {
+    let k = Coeffs::at(ode, lambda)?;
+    let roots = [ZERO];
+    let turn = 2.0 * std::f64::consts::PI / step as f64;
+    let corners: Vec<Complex64> = (0..=4).map(|j| Complex64::from_polar(1.0, turn * j as f64 / 4.0)).collect();
+    let end = corners[4];
+    let mut steps = 0;
+    let mut columns = [(ZERO, ZERO); 2];
+    for (start, col) in [(Complex64::new(1.0, 0.0), ZERO), (ZERO, Complex64::new(1.0, 0.0))].into_iter().zip(columns.iter_mut()) {
+        let (mut y, mut dy) = start;
+        for w in corners.windows(2) {
+            (y, dy) = continue_along(&k, &roots, w[0], w[1], y, dy, p, 1.0, &mut steps)?;
+        }
+        *col = (y, end * dy);
+    }
+    let rho = Complex64::new(rho, 0.0);
+    let (m00, m10, m01, m11) = (columns[0].0, columns[0].1, columns[1].0, columns[1].1);
+    // det(M − ρ) = ρ² − ρ tr M + det M, measured against the size of its
+    // terms (a product of entries of M − ρ can vanish at a root when the
+    // starting values are a solution of the family, e.g. an even one).
+    let (tr, det_m) = (m00 + m11, m00 * m11 - m01 * m10);
+    let det = rho * rho - rho * tr + det_m;
+    let norm = 1.0 + tr.norm() + det_m.norm();
+    if !(norm > 0.0 && norm.is_finite()) {
+        return Err(format!("the monodromy matrix is not finite at {lambda}"));
+    }
+    Ok((det / norm, steps))
+}
+
+/// The characteristic values at places `overtones` (inclusive) of the list
+/// ascending by real part, each checked by the monodromy, for the equation
+/// in ζ (`ode`, numeric except in the spectral parameter) with polynomial
+/// coefficients and A a single power of ζ; `tol` is the relative tolerance
+/// on the values (the truncations must agree to it, and the check converges to it).
+pub fn solve(ode: &NumOde, overtones: (u32, u32), tol: f64) -> Result<PeriodicSolution> {
+    let l = Laurent::new(ode)?;
+    let k1 = MIN_TRUNCATION + overtones.1 as usize / 2;
+    let k2 = k1 + k1 / 2;
+    let sym = symmetric(&l.matrices(0.0, -(k1 as i64), k1 as i64)) && symmetric(&l.matrices(0.5, -(k1 as i64) - 1, k1 as i64));
+    let parities: Vec<Option<Parity>> = if sym { vec![Some(Parity::Even), Some(Parity::Odd)] } else { vec![None] };
+    let tol = tol.max(1e-13);
+    let mut all: Vec<(Complex64, f64, Floquet, Option<Parity>)> = Vec::new();
+    for f in [Floquet::Periodic, Floquet::Antiperiodic] {
+        for &p in &parities {
+            let coarse = family_values(&l, k1, f, p)?;
+            let fine = family_values(&l, k2, f, p)?;
+            all.extend(persisting(&coarse, &fine, tol, 1.0).into_iter().map(|v| (l.snap(v.omega), v.change, f, p)));
+        }
+    }
+    all.sort_by(|a, b| a.0.re.total_cmp(&b.0.re).then(a.0.im.total_cmp(&b.0.im)));
+    // Rank within each parity: even from 0, odd from 1.
+    let mut next = [0u32, 1u32];
+    let ranked: Vec<Option<u32>> = all
+        .iter()
+        .map(|(_, _, _, p)| {
+            p.map(|p| {
+                let slot = &mut next[usize::from(p == Parity::Odd)];
+                *slot += 1;
+                *slot - 1
+            })
+        })
+        .collect();
+    let mut modes = Vec::new();
+    let mut missing = Vec::new();
+    for n in overtones.0..=overtones.1 {
+        let Some(&(value, change, floquet, parity)) = all.get(n as usize) else {
+            missing.push(Missing {
+                n,
+                reason: format!("the truncations |k| ≤ {k1} and {k2} agree on only {} characteristic values (to {tol:.0e})", all.len()),
+            });
+            continue;
+        };
+        let rho = floquet.multiplier();
+        let mut check = find_root_by(&|w, p| monodromy(ode, l.step, w, rho, p), value, tol, MAX_ITER);
+        check.omega = l.snap(check.omega);
+        let agreement = if check.converged { (check.omega - value).norm() / value.norm().max(super::roots::ABSOLUTE_BELOW) } else { f64::NAN };
+        modes.push(PeriodicMode { n, value, change, floquet, parity, index: ranked[n as usize], check, agreement });
+    }
+    Ok(PeriodicSolution { truncation: (k1, k2), symmetric: sym, degree: l.degree, step: l.step, modes, missing })
+}
+
+/// κ of the trigonometric map ζ = e^(iκx) that made the coefficients
+/// rational, at parameter values `values` (indexed like the reduction's
+/// field; the variable's entry is not read): `Ok(None)` when no map was
+/// applied (the equation is in ζ as given), an error when the map's exponent
+/// is not imaginary there (the coefficients are not periodic in real x) or
+/// the variable was changed again after the map.
+pub fn trigonometric_kappa(red: &crate::ode::Reduction, values: &[Complex64]) -> Result<Option<f64>> {
+    let Some(map) = &red.map else { return Ok(None) };
+    if red.change.is_some() {
+        return Err(usage(format!(
+            "a periodic problem is posed in the variable of the map {} = e^(c·{}); the equation was carried to another variable after it",
+            map.new_var, map.old_var
+        )));
+    }
+    let not_periodic = || {
+        usage(format!(
+            "the coefficients are not periodic in real {}: the map {} = e^(c·{}) has c not imaginary",
+            map.old_var, map.new_var, map.old_var
+        ))
+    };
+    if map.tanh {
+        return Err(not_periodic());
+    }
+    let c = super::eval_at(&map.c, values).ok_or_else(not_periodic)?;
+    if !(c.im.is_finite() && c.im != 0.0) || c.re.abs() > 1e-14 * c.im.abs() {
+        return Err(not_periodic());
+    }
+    Ok(Some(c.im))
+}
