@@ -228,10 +228,13 @@ fn mathieu_as_written_is_the_exponential_sample() {
     assert_eq!(class_of_latex(r"\frac{d^{2}w}{dz^{2}} + (a - 2q\cos 2z)w = 0"), "doubly-reduced-doubly-confluent-heun");
 }
 
+/// One characteristic value: (value, parity, index, multiplier, agreement).
+type Characteristic = (f64, Option<String>, Option<u64>, f64, f64);
+
 /// The characteristic values of `spectrum` on a periodic equation as written
 /// (the default problem when the coefficients are trigonometric): (value,
 /// parity, index within the parity, multiplier, check agreement) per place.
-fn characteristic(args: &[&str], at: &str, overtones: &str) -> Vec<(f64, Option<String>, Option<u64>, f64, f64)> {
+fn characteristic(args: &[&str], at: &str, overtones: &str) -> Vec<Characteristic> {
     let mut all = vec!["spectrum", "--at", at, "--overtones", overtones, "--format", "json"];
     all.extend_from_slice(args);
     let out = canonode(&all);

@@ -60,7 +60,7 @@ pub fn pi_multiple(x: f64) -> String {
     let r = x / std::f64::consts::PI;
     for q in 1..=12u32 {
         let p = (r * f64::from(q)).round();
-        if p >= 1.0 && p <= 1e6 && (r * f64::from(q) - p).abs() <= 1e-12 * p.max(1.0) {
+        if (1.0..=1e6).contains(&p) && (r * f64::from(q) - p).abs() <= 1e-12 * p.max(1.0) {
             let g = (1..=q).rev().find(|d| q % d == 0 && p % f64::from(*d) == 0.0).unwrap_or(1);
             let (p, q) = (p / f64::from(g), q / g);
             let head = if p == 1.0 { "π".to_string() } else { format!("{p}π") };
