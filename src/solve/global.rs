@@ -215,6 +215,14 @@ fn finite_pick(bp: &BoundaryProblem, z0: f64, cond: Condition, w: Complex64) -> 
     }
 }
 
+/// The exponent at a finite end z₀ obeying `cond`, affine in ω (fitted
+/// and checked at a third frequency, as [`factors`] does).
+pub(crate) fn end_exponent(bp: &BoundaryProblem, z0: f64, cond: Condition) -> Result<Affine> {
+    let pick = |w: Complex64| finite_pick(bp, z0, cond, w);
+    let both = |w: Complex64| exponents_at(&bp.ode, z0, w);
+    fit(bp.scale, &pick, &both, "the exponent at an end")
+}
+
 /// The powers σ of ψ ~ z^σ at a regular infinity: σ(σ − 1) + b σ + q = 0
 /// with b = lim zB/A, q = lim z²C/A.
 fn infinity_powers(bp: &BoundaryProblem, w: Complex64) -> Option<[Complex64; 2]> {

@@ -165,6 +165,49 @@ pub fn problem(red: &Reduction, opts: &SpectrumOptions, setup: &Setup) -> Result
     Ok(Problem { ode, near: setup.horizon_value, rho: in_omega(&rho, opts), far, near_label: setup.horizon.clone(), far_label })
 }
 
+/// An affine function of ω as a rational function of ω alone.
+fn affine_in_omega(a: super::global::Affine) -> InOmega {
+    (NPoly { c: vec![vec![a.c0, a.c1]] }, NPoly { c: vec![vec![Complex64::new(1.0, 0.0)]] })
+}
+
+/// The scattering problem on the typed boundary problem of the normal form
+/// (`boundary::try_problem`: ends located numerically as roots of factors of
+/// any degree, exponents fitted affine in ω), for horizons the exact route
+/// cannot place at a rational point (e.g. Kerr's r₊ = M + √(M² − a²)). ψ of
+/// the normal form scatters as the unknown does: the fluxes are compared at
+/// one point.
+fn problem_between_ends(red: &Reduction, opts: &SpectrumOptions) -> Result<Problem> {
+    use super::boundary::{location_text, Condition, Location, Nature, SpectrumKind};
+    let bp = super::boundary::try_problem(&red.field, &red.normal.q, &red.q, &opts.values, opts.freq, SpectrumKind::Quasinormal, None)?;
+    let [near, far] = &bp.ends;
+    let Location::At(z0) = near.location else { return Err(usage("the near end must be a finite point")) };
+    if near.condition != Condition::IntoHorizon {
+        return Err(usage("the near end is not a horizon: scattering needs the ingoing solution there"));
+    }
+    let rho = super::global::end_exponent(&bp, z0, Condition::IntoHorizon)?;
+    let far_end = match (far.location, far.nature) {
+        (Location::Infinity, Nature::IrregularRank1) => {
+            let f = super::global::factors(&bp)?;
+            let mu = f.exp_rate.ok_or_else(|| usage("no exponential rate at infinity"))?;
+            FarEnd::Infinity { mu: affine_in_omega(mu), nu: affine_in_omega(f.right) }
+        }
+        (Location::At(z1), Nature::Horizon) => FarEnd::Point {
+            at: z1,
+            out: affine_in_omega(super::global::end_exponent(&bp, z1, Condition::IntoHorizon)?),
+            inc: affine_in_omega(super::global::end_exponent(&bp, z1, Condition::OutOfHorizon)?),
+        },
+        _ => return Err(usage("the far end is neither an irregular infinity nor a horizon: no incident and reflected waves there")),
+    };
+    Ok(Problem {
+        ode: bp.ode.clone(),
+        near: z0,
+        rho: affine_in_omega(rho),
+        far: far_end,
+        near_label: format!("{} ({})", location_text(near.location), near.found),
+        far_label: location_text(far.location),
+    })
+}
+
 /// The scattering data at one real frequency.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Scattering {
@@ -479,9 +522,14 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
         }
         let opts = SpectrumOptions { freq, values, overtones: (0, 0), tol: 1e-10, guess: None, seeds: Vec::new() };
         let r = super::spectrum::substitute(red, &opts.values, freq)?;
-        let (_, setup) = super::spectrum::qnm_recurrence(&r, &opts)?;
-        let pb = problem(&r, &opts, &setup)?;
-        let est = super::spectrum::barrier_estimates(&r, &opts, setup.horizon_value, req.wkb_order).ok();
+        let exact = super::spectrum::qnm_recurrence(&r, &opts).and_then(|(_, setup)| problem(&r, &opts, &setup));
+        let pb = match exact {
+            Ok(pb) => pb,
+            // The exact route cannot place the horizon (or set up at all): the typed boundary problem can.
+            Err(e) => problem_between_ends(&r, &opts)
+                .map_err(|e2| Error::new(e.kind, format!("{}; between the located ends: {}", e.message, e2.message)))?,
+        };
+        let est = super::spectrum::barrier_estimates(&r, &opts, pb.near, req.wkb_order).ok();
         problems.push((l, pb, est.and_then(|e| e(0)).map(|b| b.taylor)));
     }
     let (near, far) = (problems[0].1.near_label.clone(), problems[0].1.far_label.clone());
