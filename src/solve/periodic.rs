@@ -38,6 +38,9 @@ const ZERO: Complex64 = Complex64::new(0.0, 0.0);
 /// The smallest truncation |k| ≤ K of the Laurent series.
 const MIN_TRUNCATION: usize = 20;
 
+/// The largest coarse truncation (the finer one is half as large again).
+const MAX_TRUNCATION: usize = 200;
+
 /// Below this relative imaginary part a value of a real problem is real.
 const REAL_SNAP: f64 = 1e-11;
 
@@ -89,7 +92,7 @@ impl Parity {
 /// One characteristic value.
 #[derive(Clone, Debug)]
 pub struct PeriodicMode {
-    /// Its place in the whole list, ascending by real part (then imaginary part).
+    /// Its place in the list: ascending real part (then imaginary part), or by modulus first when the spectral parameter enters as a higher power.
     pub n: u32,
     /// The value from the finer truncation.
     pub value: Complex64,
@@ -194,14 +197,29 @@ impl Laurent {
         Ok(Laurent { t, d, degree, real, step: step.max(1) })
     }
 
-    /// A value of a real problem whose imaginary part is rounding (the shift
-    /// of the pencil is complex) made real; others unchanged.
-    fn snap(&self, w: Complex64) -> Complex64 {
-        if self.real && w.im.abs() <= REAL_SNAP * w.re.abs().max(1.0) {
-            Complex64::new(w.re, 0.0)
+    /// The order of the report: ascending real part (then imaginary part)
+    /// when the parameter enters linearly; by modulus first when it enters
+    /// as a higher power (ω² problems: the pairs ±ω together).
+    fn order(&self, a: Complex64, b: Complex64) -> std::cmp::Ordering {
+        let by_re = a.re.total_cmp(&b.re).then(a.im.total_cmp(&b.im));
+        if self.degree == 1 {
+            by_re
         } else {
-            w
+            a.norm().total_cmp(&b.norm()).then(by_re)
         }
+    }
+
+    /// A value of a real problem whose real or imaginary part is rounding
+    /// (below 10⁻¹¹ of its size; the shift of the pencil is complex) made
+    /// exactly zero; values of complex problems unchanged.
+    fn snap(&self, w: Complex64) -> Complex64 {
+        if !self.real {
+            return w;
+        }
+        let size = w.norm().max(1.0);
+        let re = if w.re.abs() <= REAL_SNAP * size { 0.0 } else { w.re };
+        let im = if w.im.abs() <= REAL_SNAP * size { 0.0 } else { w.im };
+        Complex64::new(re, im)
     }
 
     /// The matrices M_e of the recurrence truncated to k in `lo..=hi` (rows scaled to unit diagonal growth).
@@ -336,26 +354,39 @@ fn monodromy(ode: &NumOde, step: usize, lambda: Complex64, rho: f64, p: &Params)
 /// on the values (the truncations must agree to it, and the check converges to it).
 pub fn solve(ode: &NumOde, overtones: (u32, u32), tol: f64) -> Result<PeriodicSolution> {
     let l = Laurent::new(ode)?;
-    let k1 = MIN_TRUNCATION + overtones.1 as usize / 2;
-    let k2 = k1 + k1 / 2;
+    let tol = tol.max(1e-13);
+    let mut k1 = MIN_TRUNCATION + overtones.1 as usize / 2;
     let sym = symmetric(&l.matrices(0.0, -(k1 as i64), k1 as i64)) && symmetric(&l.matrices(0.5, -(k1 as i64) - 1, k1 as i64));
     let parities: Vec<Option<Parity>> = if sym { vec![Some(Parity::Even), Some(Parity::Odd)] } else { vec![None] };
-    let tol = tol.max(1e-13);
-    let mut all: Vec<(Complex64, f64, Floquet, Option<Parity>)> = Vec::new();
-    for f in [Floquet::Periodic, Floquet::Antiperiodic] {
-        for &p in &parities {
-            let coarse = family_values(&l, k1, f, p)?;
-            let fine = family_values(&l, k2, f, p)?;
-            all.extend(persisting(&coarse, &fine, tol, 1.0).into_iter().map(|v| (l.snap(v.omega), v.change, f, p)));
+    // Values in order until the first one the two truncations do not agree
+    // on: a value left out further down would shift the numbering. The
+    // truncation doubles while too few are resolved, up to its bound.
+    let (all, k2) = loop {
+        let k2 = k1 + k1 / 2;
+        let mut fine: Vec<(Complex64, Option<f64>, Floquet, Option<Parity>)> = Vec::new();
+        for f in [Floquet::Periodic, Floquet::Antiperiodic] {
+            for &p in &parities {
+                let coarse = family_values(&l, k1, f, p)?;
+                let values = family_values(&l, k2, f, p)?;
+                let kept = persisting(&coarse, &values, tol, 1.0);
+                fine.extend(values.iter().map(|w| (*w, kept.iter().find(|v| v.omega == *w).map(|v| v.change), f, p)));
+            }
         }
-    }
-    all.sort_by(|a, b| a.0.re.total_cmp(&b.0.re).then(a.0.im.total_cmp(&b.0.im)));
-    // Rank within each parity: even from 0, odd from 1.
+        fine.sort_by(|a, b| l.order(a.0, b.0));
+        let resolved: Vec<(Complex64, f64, Floquet, Option<Parity>)> =
+            fine.iter().map_while(|(w, change, f, p)| change.map(|c| (l.snap(*w), c, *f, *p))).collect();
+        if resolved.len() > overtones.1 as usize || 2 * k1 > MAX_TRUNCATION {
+            break (resolved, k2);
+        }
+        k1 *= 2;
+    };
+    // Rank within each parity: even from 0, odd from 1 (for a parameter
+    // entering linearly; a higher power pairs the values and has no rank).
     let mut next = [0u32, 1u32];
     let ranked: Vec<Option<u32>> = all
         .iter()
         .map(|(_, _, _, p)| {
-            p.map(|p| {
+            p.filter(|_| l.degree == 1).map(|p| {
                 let slot = &mut next[usize::from(p == Parity::Odd)];
                 *slot += 1;
                 *slot - 1
@@ -368,7 +399,10 @@ pub fn solve(ode: &NumOde, overtones: (u32, u32), tol: f64) -> Result<PeriodicSo
         let Some(&(value, change, floquet, parity)) = all.get(n as usize) else {
             missing.push(Missing {
                 n,
-                reason: format!("the truncations |k| ≤ {k1} and {k2} agree on only {} characteristic values (to {tol:.0e})", all.len()),
+                reason: format!(
+                    "the truncations |k| ≤ {k1} and {k2} agree on only the first {} characteristic values (to {tol:.0e}); the truncation is at its bound",
+                    all.len()
+                ),
             });
             continue;
         };
