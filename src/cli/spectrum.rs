@@ -149,6 +149,11 @@ pub(crate) struct SpectrumArgs {
     /// The method.
     #[arg(long = "method", value_enum, default_value = "auto")]
     method: Method,
+    /// Polynomial solutions of degree N (or the lowest degree possible at the given values, 'lowest'):
+    /// the conditions on the parameters for the Taylor series about a regular singular point to stop
+    /// (Heun-class problems; --method exact gives the lowest whenever there is no closed form).
+    #[arg(long = "polynomial-degree", value_name = "N|lowest")]
+    polynomial_degree: Option<String>,
     /// A seed for the lowest overtone, e.g. '0.37-0.09i'.
     #[arg(long = "guess", value_name = "VALUE", allow_hyphen_values = true)]
     guess: Option<String>,
@@ -228,6 +233,7 @@ fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
 pub(crate) fn run(a: &SpectrumArgs) -> u8 {
     let mut extra = vec![("--at".to_string(), a.at.clone()), ("--overtones".to_string(), a.overtones.clone())];
     extra.extend(a.guess.iter().map(|g| ("--guess".to_string(), g.clone())));
+    extra.extend(a.polynomial_degree.iter().map(|g| ("--polynomial-degree".to_string(), g.clone())));
     extra.extend(a.couple.option_texts());
     run_command(&a.input, &extra, |src| compute(a, src))
 }
@@ -265,6 +271,20 @@ fn request(a: &SpectrumArgs, overtones: (u32, u32), guess: Option<Complex64>, co
         couple,
         // The closed form goes into text and JSON (CSV stays one line per mode).
         closed_form: a.format != SpecFormat::Csv,
+        polynomial: match a.polynomial_degree.as_deref() {
+            None => None,
+            Some("lowest") => Some(crate::solve::polynomial::Degree::Lowest),
+            Some(t) => match t.trim().parse::<u32>() {
+                Ok(n) if n <= crate::solve::polynomial::MAX_DEGREE => Some(crate::solve::polynomial::Degree::Exactly(n)),
+                _ => {
+                    return Err(usage(
+                        format!("expected a degree 0..={} or 'lowest'", crate::solve::polynomial::MAX_DEGREE),
+                        "--polynomial-degree",
+                        t.len(),
+                    ))
+                }
+            },
+        },
     })
 }
 

@@ -4,8 +4,10 @@
 //! line and the Python package both render reports here.
 
 use super::numbers::fmt_complex;
+use crate::algebra::print::Style;
 use crate::solve::boundary::{location_text, End, Location};
 use crate::solve::closed::ClosedForm;
+use crate::solve::polynomial::PolynomialSolutions;
 use crate::solve::request::{Body, BoundReport, ClosedSection, EndsReport, EstimateReport, Problem, RecurrenceReport, SpectrumReport};
 use crate::solve::shoot::BoundCheck;
 use crate::solve::spectrum::ModeMethod;
@@ -44,6 +46,14 @@ pub fn json(r: &SpectrumReport) -> Value {
         Body::Exact => exact_json(r),
     };
     let numeric = r.body.converged();
+    if let (Some(p), Value::Object(m)) = (&r.polynomial, &mut doc) {
+        let (v, note) = match p {
+            Ok(p) => (polynomial_json(p), Value::Null),
+            Err(why) => (Value::Null, json!(why)),
+        };
+        m.insert("polynomial_solutions".into(), v);
+        m.insert("polynomial_solutions_note".into(), note);
+    }
     let (cf, note) = match &r.closed {
         ClosedSection::Found { form, values } => (closed_json(form, values, &numeric), Value::Null),
         ClosedSection::None(why) => (Value::Null, json!(why)),
@@ -54,6 +64,55 @@ pub fn json(r: &SpectrumReport) -> Value {
         m.insert("closed_form_note".into(), note);
     }
     doc
+}
+
+fn polynomial_json(p: &PolynomialSolutions) -> Value {
+    let both = |r: &crate::algebra::RatFunc| json!({"expression": p.show(r, Style::Text), "latex": p.show(r, Style::Latex)});
+    let roots: Vec<Value> =
+        p.roots.as_ref().map_or(Vec::new(), |rs| rs.iter().map(|c| json!({"value": pair(c.value), "residual": opt_num(c.residual)})).collect());
+    json!({
+        "about": p.about,
+        "ansatz": p.ansatz,
+        "series": p.series,
+        "degree": p.degree,
+        "degree_from": p.chosen,
+        "termination": {
+            "general": both(&p.general),
+            "at_degree": p.termination.as_ref().map(|t| both(&t.last)),
+            "holds": p.holds(),
+        },
+        "condition": p.termination.as_ref().map(|t| both(&t.determinant)),
+        "condition_note": p.symbolic_note,
+        "spectral": p.spectral,
+        "at_values": both(&p.at_values),
+        "roots": roots,
+        "roots_note": p.roots.as_ref().err(),
+    })
+}
+
+fn polynomial_text(p: &PolynomialSolutions) -> String {
+    let t = |r: &crate::algebra::RatFunc| p.show(r, Style::Text);
+    let mut s = format!("\npolynomial solutions of degree N = {} ({})\n", p.degree, p.chosen);
+    s.push_str(&format!("  ansatz: {}, {}, Taylor series about {}\n", p.ansatz, p.series, p.about));
+    s.push_str(&format!("  the series stops at degree N where {} = 0", t(&p.general)));
+    s.push_str(if p.holds() { " (holds at these values)\n" } else { " (does not hold at these values)\n" });
+    match (&p.termination, &p.symbolic_note) {
+        (Some(tm), _) => s.push_str(&format!("  and, at N = {}: {} = 0\n", p.degree, t(&tm.determinant))),
+        (None, Some(why)) => s.push_str(&format!("  (the determinant {why})\n")),
+        (None, None) => {}
+    }
+    s.push_str(&format!("  at these values: {} = 0\n", t(&p.at_values)));
+    match &p.roots {
+        Ok(rs) => {
+            for c in rs {
+                let check =
+                    c.residual.map_or("no check (a leading coefficient vanishes)".to_string(), |r| format!("series stops: last equation {r:.1e}"));
+                s.push_str(&format!("  {} = {}  ({check})\n", p.spectral, fmt_complex(c.value.re, c.value.im)));
+            }
+        }
+        Err(why) => s.push_str(&format!("  no roots: {why}\n")),
+    }
+    s
 }
 
 /// The report as CSV, one line per mode.
@@ -74,6 +133,9 @@ pub fn text(r: &SpectrumReport, source: &str) -> String {
         Body::Ends(b) => ends_text(&r.frequency, &r.var, source, b),
         Body::Bound(b) => bound_text(&r.frequency, source, b),
         Body::Estimates(b) => estimates_text(&r.frequency, source, b),
+        Body::Exact if matches!(r.closed, ClosedSection::None(_)) => {
+            format!("no closed form in {}: polynomial solutions only (--method exact)\n", r.frequency)
+        }
         Body::Exact => format!(
             "{} in {} from the closed form alone (--method exact: no numeric check)\n",
             match r.problem {
@@ -88,6 +150,11 @@ pub fn text(r: &SpectrumReport, source: &str) -> String {
         ClosedSection::Found { form, values } => o.push_str(&closed_text(&r.frequency, form, values)),
         ClosedSection::None(why) => o.push_str(&format!("\nclosed form: none ({why})\n")),
         ClosedSection::NotAsked => {}
+    }
+    match &r.polynomial {
+        Some(Ok(p)) => o.push_str(&polynomial_text(p)),
+        Some(Err(why)) => o.push_str(&format!("\npolynomial solutions: none ({why})\n")),
+        None => {}
     }
     o
 }

@@ -14,6 +14,7 @@ pub mod ends;
 pub mod global;
 pub mod integrate;
 pub mod modefn;
+pub mod polynomial;
 pub mod request;
 pub mod roots;
 pub mod scan;
