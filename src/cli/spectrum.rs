@@ -107,6 +107,17 @@ pub(crate) enum ProblemArg {
     QuasiBound,
 }
 
+impl ProblemArg {
+    /// The library's kind of spectrum.
+    pub(crate) fn problem(self) -> Problem {
+        match self {
+            ProblemArg::Qnm => Problem::Quasinormal,
+            ProblemArg::Bound => Problem::Bound,
+            ProblemArg::QuasiBound => Problem::QuasiBound,
+        }
+    }
+}
+
 /// Methods.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
 pub(crate) enum Method {
@@ -242,11 +253,7 @@ pub(crate) fn run(a: &SpectrumArgs) -> u8 {
 fn request(a: &SpectrumArgs, overtones: (u32, u32), guess: Option<Complex64>, couple: Option<CoupleRequest>) -> Result<SpectrumRequest, Failure> {
     let values = parse_assignments(&a.at, "--at")?;
     Ok(SpectrumRequest {
-        problem: match a.boundary {
-            ProblemArg::Qnm => Problem::Quasinormal,
-            ProblemArg::Bound => Problem::Bound,
-            ProblemArg::QuasiBound => Problem::QuasiBound,
-        },
+        problem: a.boundary.problem(),
         ends: match &a.ends {
             Some(t) => Some(crate::solve::boundary::parse_ends(t).map_err(|e| e.in_option("--ends"))?),
             None => None,

@@ -162,11 +162,13 @@ pub fn text(r: &SpectrumReport, source: &str) -> String {
 /// How near a numeric mode must lie to an exact value to count as its check (relative).
 const CLOSED_CHECK_NEAR: f64 = 1e-6;
 
-fn boundary_name(p: Problem) -> &'static str {
-    match p {
-        Problem::Quasinormal => "qnm",
-        Problem::QuasiBound => "quasi-bound",
-        Problem::Bound => "bound",
+/// A family's range of n in words (text reports and derivation records).
+pub fn range_text(f: &crate::solve::closed::Family) -> String {
+    match (f.range.last, &f.range.bound) {
+        (Some(u32::MAX), _) => "no member at these values".to_string(),
+        (Some(l), Some((b, _))) => format!("0 <= n < {b}  (n <= {l} at these values)"),
+        (Some(l), None) => format!("0 <= n <= {l} at these values"),
+        (None, _) => "n = 0, 1, 2, ...".to_string(),
     }
 }
 
@@ -183,7 +185,7 @@ fn exact_json(r: &SpectrumReport) -> Value {
             json!({"n": n, "family": fam, "omega": pair(*w), "converged": true, "reason": Value::Null, "method": "exact", "evidence": Value::Null, "check": Value::Null})
         })
         .collect();
-    json!({"frequency": r.frequency, "boundary": boundary_name(r.problem), "method": "exact", "modes": ms})
+    json!({"frequency": r.frequency, "boundary": r.problem.tag(), "method": "exact", "modes": ms})
 }
 
 fn exact_csv(r: &SpectrumReport) -> String {
@@ -242,13 +244,7 @@ fn closed_text(fname: &str, form: &ClosedForm, values: &[Vec<(u32, Complex64)>])
     for (i, (f, vs)) in form.families.iter().zip(values).enumerate() {
         s.push_str(&format!("  family {}: {}\n", i + 1, f.label));
         s.push_str(&format!("    {fname} = {}\n", f.value.text(&form.names)));
-        let range = match (f.range.last, &f.range.bound) {
-            (Some(u32::MAX), _) => "no member at these values".to_string(),
-            (Some(l), Some((b, _))) => format!("0 <= n < {b}  (n <= {l} at these values)"),
-            (Some(l), None) => format!("0 <= n <= {l} at these values"),
-            (None, _) => "n = 0, 1, 2, ...".to_string(),
-        };
-        s.push_str(&format!("    n: {range}\n"));
+        s.push_str(&format!("    n: {}\n", range_text(f)));
         if !f.range.branch.is_empty() {
             s.push_str(&format!("    branch: {}\n", f.range.branch));
         }

@@ -39,6 +39,22 @@ pub enum Problem {
     QuasiBound,
 }
 
+impl Problem {
+    /// The short name used by `--boundary`, in JSON and in derivation records.
+    pub fn tag(self) -> &'static str {
+        match self {
+            Problem::Quasinormal => "qnm",
+            Problem::QuasiBound => "quasi-bound",
+            Problem::Bound => "bound",
+        }
+    }
+
+    /// The problem named `text` (one of [`Problem::tag`]).
+    pub fn from_tag(text: &str) -> Option<Problem> {
+        [Problem::Quasinormal, Problem::QuasiBound, Problem::Bound].into_iter().find(|p| p.tag() == text)
+    }
+}
+
 /// Which method.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Method {
@@ -437,8 +453,16 @@ fn closed_section(red: &Reduction, req: &SpectrumRequest, freq: usize, point: &[
     }
 }
 
-/// `Method::Exact`: the closed form alone, an error when there is none.
-fn exact_only(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
+/// What the closed form alone needs: the spectral parameter, the exact
+/// point, and the ends (`Err`: no boundary problem could be set up).
+struct ExactSetup {
+    freq: usize,
+    fname: String,
+    point: Vec<GRat>,
+    ends: Result<Option<[super::closed::EndPick; 2]>>,
+}
+
+fn exact_setup(red: &Reduction, req: &SpectrumRequest) -> Result<ExactSetup> {
     let (freq, fname) = frequency(red, req)?;
     let point = point(red, req, freq)?;
     let sub = super::spectrum::substitute(red, &point, freq)?;
@@ -447,6 +471,20 @@ fn exact_only(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> 
     } else {
         boundary_problem(&sub, req, &point, freq).0.map(|bp| Some(problem_ends(&bp)))
     };
+    Ok(ExactSetup { freq, fname, point, ends })
+}
+
+/// The closed form of the request's problem alone, with the ends found as
+/// `Method::Exact` finds them, and the spectral parameter's name (derivation
+/// records use it; no numeric route runs).
+pub fn closed_form(red: &Reduction, req: &SpectrumRequest) -> Result<(String, ClosedSection)> {
+    let ExactSetup { freq, fname, point, ends } = exact_setup(red, req)?;
+    Ok((fname, closed_section(red, req, freq, &point, ends?)))
+}
+
+/// `Method::Exact`: the closed form alone, an error when there is none.
+fn exact_only(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
+    let ExactSetup { freq, fname, point, ends } = exact_setup(red, req)?;
     // With no closed form, the polynomial solutions of the lowest degree when none is asked for.
     let lowest = req.polynomial.unwrap_or(super::polynomial::Degree::Lowest);
     let (closed, polynomial) = match ends {
