@@ -77,6 +77,22 @@
 //! `--method exact` the document holds only the closed form: `modes` are its
 //! values (`method` "exact", `family` the family's number from 1, `check`
 //! null).
+//!
+//! With `--polynomial-degree N|lowest`, and with `--method exact` whenever
+//! there is no closed form, the text and JSON documents also carry the
+//! polynomial solutions of `solve::polynomial`: `polynomial_solutions` —
+//! null with the reason in `polynomial_solutions_note`, or {`about` (the
+//! expansion point), `ansatz`, `series` (u = …), `degree` (N), `degree_from`
+//! (asked, or the lowest admissible, in words), `termination` {`general`
+//! (γ_{N+1} with N symbolic, as {`expression`, `latex`}), `at_degree` (at this
+//! N, or null beyond the symbolic limit), `holds` (it vanishes at the given
+//! values)}, `condition` (the determinant of the first N + 1 equations with
+//! every parameter symbolic, {`expression`, `latex`}, or null with the reason
+//! in `condition_note`), `spectral` (the parameter solved for), `at_values`
+//! (the determinant at the given values, a polynomial in it), `roots`:
+//! [{`value` [re, im], `residual` (the last equation relative to its terms
+//! with a_0 = 1, or null)}], `roots_note` (why there are none, or null)}.
+//! With `--method exact` and no closed form `modes` is empty.
 
 use super::values::parse_assignments;
 use super::{run_command, Failure, InputArgs};

@@ -15,7 +15,10 @@
 //! The source file is named by `source.path` (relative to the record's
 //! directory, with `/` separators) and pinned by `source.sha256`, the SHA-256
 //! of its bytes; `option.*` hold the options of the reduction. The recurrence
-//! follows a fixed rule, stated in the record ([`RECURRENCE_RULE`]).
+//! follows a fixed rule, stated in the record ([`RECURRENCE_RULE`]). A record
+//! written with a spectral set-up ([`derive_spectral`]) ends with the
+//! closed-form spectrum of that boundary problem (`closed.*`), which
+//! `check` derives again and compares as text like every other field.
 //!
 //! ```
 //! use canonode::ode::ReduceOptions;
