@@ -58,6 +58,10 @@ fn general_heun_degree_zero_is_q_zero() {
     let p = section("samples/heun_general.ode", "a=2,alpha=0,beta=3,gamma=1,delta=1/2,epsilon=1/3", &[]);
     assert_eq!(p["degree"], 0);
     assert_eq!(p["termination"]["at_degree"]["expression"], "alpha*beta");
+    // The text report names the class and gives the same condition.
+    let out = run(&["spectrum", "samples/heun_general.ode", "--method", "exact", "--at", "a=2,alpha=0,beta=3,gamma=1,delta=1/2,epsilon=1/3"]);
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("heun class") && text.contains("polynomial solutions of degree N = 0") && text.contains("q = 0"), "{text}");
     assert_eq!(p["termination"]["holds"], true);
     let cond = p["condition"]["expression"].as_str().unwrap();
     assert!(cond == "q" || cond == "-q", "{cond}");

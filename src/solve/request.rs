@@ -495,7 +495,11 @@ fn exact_only(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> 
         }
         // No boundary problem: the polynomial solutions alone, else the error.
         Err(e) => match polynomial_section(red, freq, &point, lowest) {
-            Ok(p) => (ClosedSection::None(format!("no boundary problem: {}", e.message)), Some(Ok(p))),
+            Ok(p) => {
+                let class =
+                    crate::analysis::analyse(red).map(|a| format!("; the equation is of {} class ({})", a.class, a.reason)).unwrap_or_default();
+                (ClosedSection::None(format!("no boundary problem: {}{class}", e.message)), Some(Ok(p)))
+            }
             Err(why) if req.polynomial.is_some() => return Err(e.note(format!("polynomial solutions: {why}"))),
             Err(_) => return Err(e),
         },
