@@ -334,3 +334,63 @@ fn bad_records() {
         insta::assert_snapshot!(format!("{}[exit status {}]", c.stderr, c.code));
     });
 }
+
+#[test]
+fn closed_form_is_recorded_and_rederived() {
+    // Hydrogen, E = −Z²/(2(n + l + 1)²) (textbook, e.g. Landau & Lifshitz
+    // §36, from memory), and the Pöschl–Teller barrier, ω = ±√(V0 − α²/4) −
+    // iα(n + ½) (V. Ferrari & B. Mashhoon, Phys. Rev. D 30 (1984) 295).
+    let dir = temp_dir("closed");
+    for f in ["hydrogen_radial.ode", "poschl_teller.ode"] {
+        std::fs::copy(root().join("samples").join(f), dir.join(f)).expect("copied");
+    }
+    let r = run_in(&dir, &["record", "hydrogen_radial.ode", "--at", "Z=1,l=0", "--boundary", "bound", "-o", "h.deriv"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let text = std::fs::read_to_string(dir.join("h.deriv")).expect("written");
+    let rec = Record::parse(&text).expect("a record");
+    assert_eq!(rec.get("option.boundary"), Some("bound"));
+    assert_eq!(rec.get("option.at"), Some("Z=1,l=0"));
+    assert_eq!(rec.get("closed.frequency"), Some("E"));
+    assert_eq!(rec.get("closed.end[1]"), Some("0 (normalisable)"));
+    assert_eq!(rec.get("closed.end[2]"), Some("∞ (normalisable)"));
+    let e = rec.get("closed.family[1].expression").expect("a family");
+    assert!(same(e, "-Z^2/(2*(n + l + 1)^2)"), "{e}");
+    assert_eq!(rec.get("closed.family[1].n"), Some("n = 0, 1, 2, ..."));
+    assert!(rec.get("closed.family[2].expression").is_none());
+    let c = run_in(&dir, &["check", "h.deriv"]);
+    assert_eq!((c.code, c.stdout.as_str()), (0, "h.deriv: holds\n"), "{}", c.stderr);
+
+    let r = run_in(&dir, &["record", "poschl_teller.ode", "--at", "V0=1,alpha=1/2", "-o", "p.deriv"]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let ptext = std::fs::read_to_string(dir.join("p.deriv")).expect("written");
+    let prec = Record::parse(&ptext).expect("a record");
+    assert_eq!(prec.get("option.boundary"), Some("qnm"));
+    let fams: Vec<&str> = (1..=2).map(|i| prec.get(&format!("closed.family[{i}].expression")).expect("two families")).collect();
+    for (f, s) in fams.iter().zip(["", "-"]) {
+        assert!(same(f, &format!("{s}sqrt(4*V0 - alpha^2)/2 - I*alpha*(n + 1/2)")), "{f}");
+    }
+    let c = run_in(&dir, &["check", "p.deriv"]);
+    assert_eq!((c.code, c.stdout.as_str()), (0, "p.deriv: holds\n"), "{}", c.stderr);
+
+    // A tampered expression: check re-derives the right one and says so.
+    let tampered = text.replace(&format!("closed.family[1].expression: {e}"), "closed.family[1].expression: -1/2*Z^2/(l + n + 2)^2");
+    assert_ne!(tampered, text);
+    std::fs::write(dir.join("h.deriv"), &tampered).expect("edited");
+    let c = run_in(&dir, &["check", "h.deriv"]);
+    assert_eq!(c.code, 1, "{}{}", c.stdout, c.stderr);
+    assert_eq!(changed_fields(&c.stdout), vec!["closed.family[1].expression".to_string()]);
+    assert!(c.stdout.contains("the closed-form spectrum re-derived does not match the recorded one"), "{}", c.stdout);
+    assert!(c.stdout.contains("-closed.family[1].expression: -1/2*Z^2/(l + n + 2)^2\n"), "{}", c.stdout);
+    assert!(c.stdout.contains(&format!("+closed.family[1].expression: {e}\n")), "{}", c.stdout);
+    // A tampered set-up: the other values re-derive another range, and a
+    // bad kind of spectrum is bad input located in the record.
+    std::fs::write(dir.join("h.deriv"), text.replace("option.boundary: bound", "option.boundary: sideways")).expect("edited");
+    let c = run_in(&dir, &["check", "h.deriv"]);
+    assert_eq!(c.code, 2, "{}{}", c.stdout, c.stderr);
+    assert!(c.stderr.contains("h.deriv:") && c.stderr.contains("'sideways' is not a kind of spectrum"), "{}", c.stderr);
+    std::fs::write(dir.join("h.deriv"), text.replace("option.at: Z=1,l=0", "option.at: Z=1,l=zero")).expect("edited");
+    let c = run_in(&dir, &["check", "h.deriv"]);
+    assert_eq!(c.code, 2, "{}{}", c.stdout, c.stderr);
+    assert!(c.stderr.contains("h.deriv:"), "{}", c.stderr);
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -190,6 +190,7 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
         mode_functions: None,
         couple,
         closed_form: true,
+        polynomial: None,
     };
     let report = canonode::solve::request::spectrum(&red, &lreq).map_err(|e| match (&e.origin, &aspec) {
         // Errors of the angular equation point into its own text.

@@ -70,8 +70,19 @@ fn check_one(file: &str) -> Result<u8, (String, u8)> {
         against_record(&e)
     })?;
     let opts = recorded.options().map_err(|e| against_record(&e))?;
+    let spectral = recorded.spectral_texts().map_err(|e| against_record(&e))?;
     let recomputed = crate::algebra::budget::with_budget(crate::algebra::budget::DEFAULT_BUDGET, || {
-        crate::record::derive_with(&source.text, rel, &opts, &recorded.recurrence_request())
+        // The recorded values are read as `record --at` read them.
+        let setup = match spectral {
+            Some(t) => Some(crate::record::SpectralSetup {
+                problem: t.problem,
+                values: super::values::parse_assignments(&t.at, "--at")?,
+                ends: t.ends,
+                at: t.at,
+            }),
+            None => None,
+        };
+        crate::record::derive_spectral(&source.text, rel, &opts, &recorded.recurrence_request(), setup.as_ref())
     })
     .map_err(|e| match &e.origin {
         // A recorded option's value that no longer works: point into the record's line.
@@ -98,6 +109,10 @@ fn check_one(file: &str) -> Result<u8, (String, u8)> {
         0
     } else {
         out.push_str(&format!("{file}: changed: {}\n", cmp.changed.join(", ")));
+        let closed: Vec<&str> = cmp.changed.iter().filter(|k| k.starts_with("closed.")).map(String::as_str).collect();
+        if !closed.is_empty() {
+            out.push_str(&format!("{file}: the closed-form spectrum re-derived does not match the recorded one ({})\n", closed.join(", ")));
+        }
         out.push_str(&cmp.diff);
         if !cmp.diff.ends_with('\n') {
             out.push('\n');

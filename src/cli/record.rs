@@ -24,13 +24,24 @@ pub(crate) struct RecordArgs {
     /// Exponent choices of that recurrence, POINT=CHOICE,… (as `recurrence --exponents`).
     #[arg(long = "exponents", value_name = "POINT=CHOICE,...", requires = "about")]
     exponents: Option<String>,
+    /// Record the closed-form spectrum too, for these values of every parameter except the
+    /// spectral one (as `spectrum --at`); they pick the exponents and branches.
+    #[arg(long = "at", value_name = "NAME=VALUE,...")]
+    at: Option<String>,
+    /// With --at: the kind of spectrum (as `spectrum --boundary`).
+    #[arg(long = "boundary", value_enum, default_value = "qnm", requires = "at")]
+    boundary: super::spectrum::ProblemArg,
+    /// With --at: the two ends and their conditions (as `spectrum --ends`).
+    #[arg(long = "ends", value_name = "LEFT..RIGHT", allow_hyphen_values = true, requires = "at")]
+    ends: Option<String>,
 }
 
 pub(crate) fn run(a: &RecordArgs) -> u8 {
-    let extra: Vec<(String, String)> = [("--about", &a.about), ("--series", &a.series), ("--exponents", &a.exponents)]
-        .iter()
-        .filter_map(|(n, v)| v.as_ref().map(|v| (n.to_string(), v.clone())))
-        .collect();
+    let extra: Vec<(String, String)> =
+        [("--about", &a.about), ("--series", &a.series), ("--exponents", &a.exponents), ("--at", &a.at), ("--ends", &a.ends)]
+            .iter()
+            .filter_map(|(n, v)| v.as_ref().map(|v| (n.to_string(), v.clone())))
+            .collect();
     let fail = |f: &Failure, src: Option<&super::Source>| -> u8 {
         let (msg, code) = report(f, src, Some(&a.input), &extra);
         if !msg.is_empty() {
@@ -60,8 +71,15 @@ pub(crate) fn run(a: &RecordArgs) -> u8 {
             return fail(&f, None);
         }
     }
+    let spectral = match &a.at {
+        Some(at) => match super::values::parse_assignments(at, "--at") {
+            Ok(values) => Some(crate::record::SpectralSetup { problem: a.boundary.problem(), ends: a.ends.clone(), at: at.clone(), values }),
+            Err(e) => return fail(&e.into(), Some(&src)),
+        },
+        None => None,
+    };
     let derived = crate::algebra::budget::with_budget(crate::algebra::budget::DEFAULT_BUDGET, || {
-        crate::record::derive_with(&src.text, &path, &a.input.options(), &req)
+        crate::record::derive_spectral(&src.text, &path, &a.input.options(), &req, spectral.as_ref())
     });
     let rec = match derived {
         Ok(r) => r,

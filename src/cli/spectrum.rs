@@ -89,6 +89,22 @@
 //! `--method exact` the document holds only the closed form: `modes` are its
 //! values (`method` "exact", `family` the family's number from 1, `check`
 //! null).
+//!
+//! With `--polynomial-degree N|lowest`, and with `--method exact` whenever
+//! there is no closed form, the text and JSON documents also carry the
+//! polynomial solutions of `solve::polynomial`: `polynomial_solutions` —
+//! null with the reason in `polynomial_solutions_note`, or {`about` (the
+//! expansion point), `ansatz`, `series` (u = …), `degree` (N), `degree_from`
+//! (asked, or the lowest admissible, in words), `termination` {`general`
+//! (γ_{N+1} with N symbolic, as {`expression`, `latex`}), `at_degree` (at this
+//! N, or null beyond the symbolic limit), `holds` (it vanishes at the given
+//! values)}, `condition` (the determinant of the first N + 1 equations with
+//! every parameter symbolic, {`expression`, `latex`}, or null with the reason
+//! in `condition_note`), `spectral` (the parameter solved for), `at_values`
+//! (the determinant at the given values, a polynomial in it), `roots`:
+//! [{`value` [re, im], `residual` (the last equation relative to its terms
+//! with a_0 = 1, or null)}], `roots_note` (why there are none, or null)}.
+//! With `--method exact` and no closed form `modes` is empty.
 
 use super::values::parse_assignments;
 use super::{run_command, Failure, InputArgs};
@@ -120,6 +136,18 @@ pub(crate) enum ProblemArg {
     /// Characteristic values of periodic coefficients (Mathieu, Hill): solutions of period T and 2T
     /// (the default when the coefficients are trigonometric in the real variable).
     Periodic,
+}
+
+impl ProblemArg {
+    /// The library's kind of spectrum.
+    pub(crate) fn problem(self) -> Problem {
+        match self {
+            ProblemArg::Qnm => Problem::Quasinormal,
+            ProblemArg::Bound => Problem::Bound,
+            ProblemArg::QuasiBound => Problem::QuasiBound,
+            ProblemArg::Periodic => Problem::Periodic,
+        }
+    }
 }
 
 /// Methods.
@@ -165,6 +193,11 @@ pub(crate) struct SpectrumArgs {
     /// The method.
     #[arg(long = "method", value_enum, default_value = "auto")]
     method: Method,
+    /// Polynomial solutions of degree N (or the lowest degree possible at the given values, 'lowest'):
+    /// the conditions on the parameters for the Taylor series about a regular singular point to stop
+    /// (Heun-class problems; --method exact gives the lowest whenever there is no closed form).
+    #[arg(long = "polynomial-degree", value_name = "N|lowest")]
+    polynomial_degree: Option<String>,
     /// A seed for the lowest overtone, e.g. '0.37-0.09i'.
     #[arg(long = "guess", value_name = "VALUE", allow_hyphen_values = true)]
     guess: Option<String>,
@@ -244,6 +277,7 @@ fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
 pub(crate) fn run(a: &SpectrumArgs) -> u8 {
     let mut extra = vec![("--at".to_string(), a.at.clone()), ("--overtones".to_string(), a.overtones.clone())];
     extra.extend(a.guess.iter().map(|g| ("--guess".to_string(), g.clone())));
+    extra.extend(a.polynomial_degree.iter().map(|g| ("--polynomial-degree".to_string(), g.clone())));
     extra.extend(a.couple.option_texts());
     run_command(&a.input, &extra, |src| compute(a, src))
 }
@@ -258,13 +292,7 @@ fn request(
 ) -> Result<SpectrumRequest, Failure> {
     let values = parse_assignments(&a.at, "--at")?;
     Ok(SpectrumRequest {
-        problem: match a.boundary {
-            None => Problem::natural(red),
-            Some(ProblemArg::Qnm) => Problem::Quasinormal,
-            Some(ProblemArg::Bound) => Problem::Bound,
-            Some(ProblemArg::QuasiBound) => Problem::QuasiBound,
-            Some(ProblemArg::Periodic) => Problem::Periodic,
-        },
+        problem: a.boundary.map_or_else(|| Problem::natural(red), ProblemArg::problem),
         ends: match &a.ends {
             Some(t) => Some(crate::solve::boundary::parse_ends(t).map_err(|e| e.in_option("--ends"))?),
             None => None,
@@ -289,6 +317,20 @@ fn request(
         couple,
         // The closed form goes into text and JSON (CSV stays one line per mode).
         closed_form: a.format != SpecFormat::Csv,
+        polynomial: match a.polynomial_degree.as_deref() {
+            None => None,
+            Some("lowest") => Some(crate::solve::polynomial::Degree::Lowest),
+            Some(t) => match t.trim().parse::<u32>() {
+                Ok(n) if n <= crate::solve::polynomial::MAX_DEGREE => Some(crate::solve::polynomial::Degree::Exactly(n)),
+                _ => {
+                    return Err(usage(
+                        format!("expected a degree 0..={} or 'lowest'", crate::solve::polynomial::MAX_DEGREE),
+                        "--polynomial-degree",
+                        t.len(),
+                    ))
+                }
+            },
+        },
     })
 }
 

@@ -15,7 +15,10 @@
 //! The source file is named by `source.path` (relative to the record's
 //! directory, with `/` separators) and pinned by `source.sha256`, the SHA-256
 //! of its bytes; `option.*` hold the options of the reduction. The recurrence
-//! follows a fixed rule, stated in the record ([`RECURRENCE_RULE`]).
+//! follows a fixed rule, stated in the record ([`RECURRENCE_RULE`]). A record
+//! written with a spectral set-up ([`derive_spectral`]) ends with the
+//! closed-form spectrum of that boundary problem (`closed.*`), which
+//! `check` derives again and compares as text like every other field.
 //!
 //! ```
 //! use canonode::ode::ReduceOptions;
@@ -52,9 +55,11 @@
 
 use super::classify_report::{apparent_fields, exponent_text, formal_text, param_text, where_text};
 use crate::algebra::print::{ratfunc_text, Style};
+use crate::algebra::GRat;
 use crate::analysis::{Analysis, Kind, Place};
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::{ReduceOptions, Reduction};
+use crate::solve::request::{ClosedSection, Method, Problem, SpectrumRequest};
 use crate::syntax::Span;
 
 /// The first line of every record: the format's name and version.
@@ -214,6 +219,21 @@ impl Record {
         RecurrenceRequest { about: opt("option.about"), series: opt("option.series"), exponents: opt("option.exponents") }
     }
 
+    /// The recorded spectral set-up, when the record holds a closed form.
+    pub fn spectral_texts(&self) -> Result<Option<SpectralTexts>> {
+        let Some(b) = self.entry("option.boundary") else { return Ok(None) };
+        let Some(problem) = Problem::from_tag(&b.value) else {
+            let mut err = Error::new(ErrorKind::Record, format!("'{}' is not a kind of spectrum (qnm, bound, quasi-bound)", b.value));
+            if let Some(s) = b.span {
+                err = err.at(s);
+            }
+            return Err(err);
+        };
+        let ends = self.required("option.ends")?;
+        let at = self.required("option.at")?;
+        Ok(Some(SpectralTexts { problem, ends: (ends.value != NOT_GIVEN).then(|| ends.value.clone()), at: at.value.clone() }))
+    }
+
     /// The options of the recorded reduction.
     pub fn options(&self) -> Result<ReduceOptions> {
         let text = |key: &str| -> Result<Option<String>> {
@@ -281,6 +301,33 @@ pub struct RecurrenceRequest {
     pub exponents: Option<String>,
 }
 
+/// The spectral problem whose closed form a record holds (`record --at`,
+/// `--boundary`, `--ends`): written into the record as `option.boundary`,
+/// `option.ends` and `option.at`, so that `check` derives it again.
+#[derive(Clone, Debug)]
+pub struct SpectralSetup {
+    /// The kind of spectrum.
+    pub problem: Problem,
+    /// The ends as `spectrum --ends` takes them, when given.
+    pub ends: Option<String>,
+    /// The values of the other parameters as given (`NAME=VALUE,…`).
+    pub at: String,
+    /// The same values, read (name, exact value, span in `at`).
+    pub values: Vec<(String, GRat, Span)>,
+}
+
+/// The recorded spectral set-up's texts: (`option.boundary`, `option.ends`,
+/// `option.at`), when the record holds a closed form.
+#[derive(Clone, Debug)]
+pub struct SpectralTexts {
+    /// The kind of spectrum.
+    pub problem: Problem,
+    /// The ends, when given.
+    pub ends: Option<String>,
+    /// The values' text.
+    pub at: String,
+}
+
 /// Derives the record of the program `source` (a whole file in the input
 /// language), named `source_path` in the record, reduced with `opts`.
 pub fn derive(source: &str, source_path: &str, opts: &ReduceOptions) -> Result<Record> {
@@ -291,6 +338,22 @@ pub fn derive(source: &str, source_path: &str, opts: &ReduceOptions) -> Result<R
 /// into the record (`option.about`, `option.series`, `option.exponents`) so
 /// that `check` recomputes the same one.
 pub fn derive_with(source: &str, source_path: &str, opts: &ReduceOptions, req: &RecurrenceRequest) -> Result<Record> {
+    derive_spectral(source, source_path, opts, req, None)
+}
+
+/// [`derive_with`] and, with `spectral`, the closed-form spectrum of that
+/// problem (`solve::closed`, as `spectrum --method exact` derives it):
+/// `closed.frequency`, `closed.route`, `closed.end[i]` (location and
+/// condition), and per family `closed.family[i].label`, `.expression` (the
+/// exact text in n and the parameters), `.n` (its range) and `.branch`; or
+/// `closed.none` with the reason.
+pub fn derive_spectral(
+    source: &str,
+    source_path: &str,
+    opts: &ReduceOptions,
+    req: &RecurrenceRequest,
+    spectral: Option<&SpectralSetup>,
+) -> Result<Record> {
     let red = crate::ode::reduce(&crate::ode::Input::Program(source), opts)?;
     let mut rec = Record::default();
     let given = |o: &Option<String>| o.clone().unwrap_or_else(|| NOT_GIVEN.to_string());
@@ -313,7 +376,58 @@ pub fn derive_with(source: &str, source_path: &str, opts: &ReduceOptions, req: &
         None => recurrence_fields(&mut rec, &red, &an)?,
         Some(about) => requested_recurrence(&mut rec, &red, about, req)?,
     }
+    if let Some(setup) = spectral {
+        closed_fields(&mut rec, &red, opts, setup)?;
+    }
     Ok(rec)
+}
+
+/// The closed-form section of a record.
+fn closed_fields(rec: &mut Record, red: &Reduction, opts: &ReduceOptions, setup: &SpectralSetup) -> Result<()> {
+    rec.push("option.boundary", setup.problem.tag())?;
+    rec.push("option.ends", setup.ends.clone().unwrap_or_else(|| NOT_GIVEN.to_string()))?;
+    rec.push("option.at", &setup.at)?;
+    let ends = match &setup.ends {
+        Some(t) => Some(crate::solve::boundary::parse_ends(t).map_err(|e| e.in_option("--ends"))?),
+        None => None,
+    };
+    let req = SpectrumRequest {
+        problem: setup.problem,
+        ends,
+        frequency: opts.frequency.clone(),
+        values: setup.values.clone(),
+        overtones: (0, 0),
+        method: Method::Exact,
+        guess: None,
+        tol: 1e-10,
+        wkb_order: 1,
+        eikonal_param: None,
+        mode_functions: None,
+        couple: None,
+        closed_form: true,
+        polynomial: None,
+    };
+    let (fname, section) = crate::solve::request::closed_form(red, &req)?;
+    rec.push("closed.frequency", fname)?;
+    let form = match section {
+        ClosedSection::Found { form, .. } => form,
+        ClosedSection::None(why) => return rec.push("closed.none", why),
+        ClosedSection::NotAsked => return rec.push("closed.none", "not derived"),
+    };
+    rec.push("closed.route", &form.route)?;
+    for (i, e) in form.ends.iter().enumerate() {
+        rec.push(format!("closed.end[{}]", i + 1), format!("{} ({})", crate::solve::boundary::location_text(e.location), e.condition.name()))?;
+    }
+    for (i, f) in form.families.iter().enumerate() {
+        let key = |s: &str| format!("closed.family[{}].{s}", i + 1);
+        rec.push(key("label"), &f.label)?;
+        rec.push(key("expression"), f.value.text(&form.names))?;
+        rec.push(key("n"), crate::emit::spectrum::range_text(f))?;
+        if !f.range.branch.is_empty() {
+            rec.push(key("branch"), &f.range.branch)?;
+        }
+    }
+    Ok(())
 }
 
 fn reduction_fields(rec: &mut Record, red: &Reduction) -> Result<()> {

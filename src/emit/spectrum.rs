@@ -4,9 +4,11 @@
 //! line and the Python package both render reports here.
 
 use super::numbers::{fmt_complex, pi_multiple};
+use crate::algebra::print::Style;
 use crate::solve::boundary::{location_text, End, Location};
 use crate::solve::closed::ClosedForm;
 use crate::solve::periodic::{Floquet, PeriodicMode};
+use crate::solve::polynomial::PolynomialSolutions;
 use crate::solve::request::{
     Body, BoundReport, ClosedSection, EndsReport, EstimateReport, PeriodicReport, Problem, RecurrenceReport, SpectrumReport,
 };
@@ -48,6 +50,14 @@ pub fn json(r: &SpectrumReport) -> Value {
         Body::Periodic(b) => periodic_json(&r.frequency, b),
     };
     let numeric = r.body.converged();
+    if let (Some(p), Value::Object(m)) = (&r.polynomial, &mut doc) {
+        let (v, note) = match p {
+            Ok(p) => (polynomial_json(p), Value::Null),
+            Err(why) => (Value::Null, json!(why)),
+        };
+        m.insert("polynomial_solutions".into(), v);
+        m.insert("polynomial_solutions_note".into(), note);
+    }
     let (cf, note) = match &r.closed {
         ClosedSection::Found { form, values } => (closed_json(form, values, &numeric), Value::Null),
         ClosedSection::None(why) => (Value::Null, json!(why)),
@@ -58,6 +68,55 @@ pub fn json(r: &SpectrumReport) -> Value {
         m.insert("closed_form_note".into(), note);
     }
     doc
+}
+
+fn polynomial_json(p: &PolynomialSolutions) -> Value {
+    let both = |r: &crate::algebra::RatFunc| json!({"expression": p.show(r, Style::Text), "latex": p.show(r, Style::Latex)});
+    let roots: Vec<Value> =
+        p.roots.as_ref().map_or(Vec::new(), |rs| rs.iter().map(|c| json!({"value": pair(c.value), "residual": opt_num(c.residual)})).collect());
+    json!({
+        "about": p.about,
+        "ansatz": p.ansatz,
+        "series": p.series,
+        "degree": p.degree,
+        "degree_from": p.chosen,
+        "termination": {
+            "general": both(&p.general),
+            "at_degree": p.termination.as_ref().map(|t| both(&t.last)),
+            "holds": p.holds(),
+        },
+        "condition": p.termination.as_ref().map(|t| both(&t.determinant)),
+        "condition_note": p.symbolic_note,
+        "spectral": p.spectral,
+        "at_values": both(&p.at_values),
+        "roots": roots,
+        "roots_note": p.roots.as_ref().err(),
+    })
+}
+
+fn polynomial_text(p: &PolynomialSolutions) -> String {
+    let t = |r: &crate::algebra::RatFunc| p.show(r, Style::Text);
+    let mut s = format!("\npolynomial solutions of degree N = {} ({})\n", p.degree, p.chosen);
+    s.push_str(&format!("  ansatz: {}, {}, Taylor series about {}\n", p.ansatz, p.series, p.about));
+    s.push_str(&format!("  the series stops at degree N where {} = 0", t(&p.general)));
+    s.push_str(if p.holds() { " (holds at these values)\n" } else { " (does not hold at these values)\n" });
+    match (&p.termination, &p.symbolic_note) {
+        (Some(tm), _) => s.push_str(&format!("  and, at N = {}: {} = 0\n", p.degree, t(&tm.determinant))),
+        (None, Some(why)) => s.push_str(&format!("  (the determinant {why})\n")),
+        (None, None) => {}
+    }
+    s.push_str(&format!("  at these values: {} = 0\n", t(&p.at_values)));
+    match &p.roots {
+        Ok(rs) => {
+            for c in rs {
+                let check =
+                    c.residual.map_or("no check (a leading coefficient vanishes)".to_string(), |r| format!("series stops: last equation {r:.1e}"));
+                s.push_str(&format!("  {} = {}  ({check})\n", p.spectral, fmt_complex(c.value.re, c.value.im)));
+            }
+        }
+        Err(why) => s.push_str(&format!("  no roots: {why}\n")),
+    }
+    s
 }
 
 /// The report as CSV, one line per mode.
@@ -80,6 +139,9 @@ pub fn text(r: &SpectrumReport, source: &str) -> String {
         Body::Bound(b) => bound_text(&r.frequency, source, b),
         Body::Estimates(b) => estimates_text(&r.frequency, source, b),
         Body::Periodic(b) => periodic_text(&r.frequency, source, b),
+        Body::Exact if matches!(r.closed, ClosedSection::None(_)) => {
+            format!("no closed form in {}: polynomial solutions only (--method exact)\n", r.frequency)
+        }
         Body::Exact => format!(
             "{} in {} from the closed form alone (--method exact: no numeric check)\n",
             match r.problem {
@@ -96,18 +158,24 @@ pub fn text(r: &SpectrumReport, source: &str) -> String {
         ClosedSection::None(why) => o.push_str(&format!("\nclosed form: none ({why})\n")),
         ClosedSection::NotAsked => {}
     }
+    match &r.polynomial {
+        Some(Ok(p)) => o.push_str(&polynomial_text(p)),
+        Some(Err(why)) => o.push_str(&format!("\npolynomial solutions: none ({why})\n")),
+        None => {}
+    }
     o
 }
 
 /// How near a numeric mode must lie to an exact value to count as its check (relative).
 const CLOSED_CHECK_NEAR: f64 = 1e-6;
 
-fn boundary_name(p: Problem) -> &'static str {
-    match p {
-        Problem::Quasinormal => "qnm",
-        Problem::QuasiBound => "quasi-bound",
-        Problem::Bound => "bound",
-        Problem::Periodic => "periodic",
+/// A family's range of n in words (text reports and derivation records).
+pub fn range_text(f: &crate::solve::closed::Family) -> String {
+    match (f.range.last, &f.range.bound) {
+        (Some(u32::MAX), _) => "no member at these values".to_string(),
+        (Some(l), Some((b, _))) => format!("0 <= n < {b}  (n <= {l} at these values)"),
+        (Some(l), None) => format!("0 <= n <= {l} at these values"),
+        (None, _) => "n = 0, 1, 2, ...".to_string(),
     }
 }
 
@@ -124,7 +192,7 @@ fn exact_json(r: &SpectrumReport) -> Value {
             json!({"n": n, "family": fam, "omega": pair(*w), "converged": true, "reason": Value::Null, "method": "exact", "evidence": Value::Null, "check": Value::Null})
         })
         .collect();
-    json!({"frequency": r.frequency, "boundary": boundary_name(r.problem), "method": "exact", "modes": ms})
+    json!({"frequency": r.frequency, "boundary": r.problem.tag(), "method": "exact", "modes": ms})
 }
 
 fn exact_csv(r: &SpectrumReport) -> String {
@@ -183,13 +251,7 @@ fn closed_text(fname: &str, form: &ClosedForm, values: &[Vec<(u32, Complex64)>])
     for (i, (f, vs)) in form.families.iter().zip(values).enumerate() {
         s.push_str(&format!("  family {}: {}\n", i + 1, f.label));
         s.push_str(&format!("    {fname} = {}\n", f.value.text(&form.names)));
-        let range = match (f.range.last, &f.range.bound) {
-            (Some(u32::MAX), _) => "no member at these values".to_string(),
-            (Some(l), Some((b, _))) => format!("0 <= n < {b}  (n <= {l} at these values)"),
-            (Some(l), None) => format!("0 <= n <= {l} at these values"),
-            (None, _) => "n = 0, 1, 2, ...".to_string(),
-        };
-        s.push_str(&format!("    n: {range}\n"));
+        s.push_str(&format!("    n: {}\n", range_text(f)));
         if !f.range.branch.is_empty() {
             s.push_str(&format!("    branch: {}\n", f.range.branch));
         }
@@ -460,7 +522,7 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
         .collect();
     json!({
         "frequency": fname,
-        "boundary": boundary_name(b.spectrum),
+        "boundary": b.spectrum.tag(),
         "ends": ends,
         "notes": ends_notes(b),
         "method": ENDS_METHOD,

@@ -596,3 +596,46 @@ pub fn recurrence_at_root(red: &Reduction, f: &Poly, rho: &UPoly, theta_name: &s
     let modf = Some((t, relation));
     recurrence_mod(&red2, &label, Some(&series), &ch, false, modf, &extra)
 }
+
+/// What a three-term recurrence α_n a_{n+1} + β_n a_n + γ_n a_{n−1} = 0
+/// (a_{−1} = 0) needs for its series to stop at degree N: with
+/// a_{N+1} = a_{N+2} = 0 the equation at n = N + 1 leaves γ_{N+1} a_N = 0,
+/// and the equations n = 0..N for a_0..a_N are a tridiagonal system whose
+/// determinant must vanish (DLMF 31.5 for Heun's equation, where it is a
+/// polynomial of degree N + 1 in the accessory parameter).
+#[derive(Debug, Clone)]
+pub struct Termination {
+    /// The degree N.
+    pub degree: u32,
+    /// γ_{N+1}, which must vanish (in the recurrence's field, free of n).
+    pub last: RatFunc,
+    /// The determinant of the first N + 1 equations (free of n).
+    pub determinant: RatFunc,
+}
+
+/// Coefficients c_j(n) (field variable 0 is n) at the index n = `at`.
+pub fn coefficients_at(k: &Field, coeffs: &[RatFunc], at: i64) -> Result<Vec<RatFunc>> {
+    let n = RatFunc::rat(&Rat::int(at.into()));
+    coeffs.iter().map(|c| k.compose(c, 0, &n)).collect()
+}
+
+/// The conditions for the series of a three-term recurrence (coefficients
+/// c_0, c_1, c_2 = α, β, γ in `k`, variable 0 the index n) to stop at
+/// degree `degree` ([`Termination`]); the determinant by the continuant
+/// recursion D_k = β_k D_{k−1} − α_{k−1} γ_k D_{k−2} (D_{−1} = 1, D_0 = β_0).
+pub fn termination(k: &Field, coeffs: &[RatFunc], degree: u32) -> Result<Termination> {
+    if coeffs.len() != 3 {
+        return Err(usage(format!("the recurrence has {} terms: the termination condition here is that of three terms", coeffs.len())));
+    }
+    // (D_{j−2}, D_{j−1}), starting from (D_{−2}, D_{−1}) = (0, 1); α_{−1} = 0.
+    let (mut before, mut det) = (RatFunc::zero(), RatFunc::one());
+    let mut prev_alpha = RatFunc::zero();
+    for j in 0..=degree as i64 {
+        let c = coefficients_at(k, coeffs, j)?;
+        let next = k.sub(&k.mul(&c[1], &det)?, &k.mul(&k.mul(&prev_alpha, &c[2])?, &before)?)?;
+        before = std::mem::replace(&mut det, next);
+        prev_alpha = c[0].clone();
+    }
+    let last = coefficients_at(k, coeffs, degree as i64 + 1)?.swap_remove(2);
+    Ok(Termination { degree, last, determinant: det })
+}

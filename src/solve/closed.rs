@@ -87,6 +87,8 @@ pub struct ClosedForm {
     pub n_index: usize,
     /// The families.
     pub families: Vec<Family>,
+    /// The ends of the boundary problem it was derived for.
+    pub ends: [EndPick; 2],
 }
 
 /// The outcome of the derivation.
@@ -155,7 +157,7 @@ pub fn derive(k: &Field, q: &RatFunc, freq: usize, values: &[GRat], ends: &[EndP
         match tried {
             Ok((families, mut route)) if !families.is_empty() => {
                 route.push_str(&setup.words);
-                return Ok(Outcome::Closed(ClosedForm { route, names, n_index: base, families }));
+                return Ok(Outcome::Closed(ClosedForm { route, names, n_index: base, families, ends: *ends }));
             }
             Ok(_) => reasons.push(format!("{}: no family satisfies the branch at these values", setup.words_or_plain())),
             Err(why) => reasons.push(why),

@@ -15,6 +15,7 @@ pub mod global;
 pub mod integrate;
 pub mod modefn;
 pub mod periodic;
+pub mod polynomial;
 pub mod request;
 pub mod roots;
 pub mod scan;

@@ -58,6 +58,23 @@ impl Problem {
     }
 }
 
+impl Problem {
+    /// The short name used by `--boundary`, in JSON and in derivation records.
+    pub fn tag(self) -> &'static str {
+        match self {
+            Problem::Quasinormal => "qnm",
+            Problem::QuasiBound => "quasi-bound",
+            Problem::Bound => "bound",
+            Problem::Periodic => "periodic",
+        }
+    }
+
+    /// The problem named `text` (one of [`Problem::tag`]).
+    pub fn from_tag(text: &str) -> Option<Problem> {
+        [Problem::Quasinormal, Problem::QuasiBound, Problem::Bound, Problem::Periodic].into_iter().find(|p| p.tag() == text)
+    }
+}
+
 /// Which method.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Method {
@@ -123,6 +140,10 @@ pub struct SpectrumRequest {
     pub couple: Option<CoupleRequest>,
     /// Derive the closed form of a solvable problem beside the numeric modes (a few milliseconds).
     pub closed_form: bool,
+    /// Derive the condition for polynomial solutions of this degree
+    /// (`solve::polynomial`); `--method exact` derives the lowest one
+    /// whenever there is no closed form.
+    pub polynomial: Option<super::polynomial::Degree>,
 }
 
 /// Each converged mode's function, sampled on the real axis.
@@ -269,6 +290,8 @@ pub struct SpectrumReport {
     pub closed: ClosedSection,
     /// The kind of spectrum asked for.
     pub problem: Problem,
+    /// The polynomial solutions, when derived: the section, or why there is none.
+    pub polynomial: Option<std::result::Result<super::polynomial::PolynomialSolutions, String>>,
 }
 
 /// The closed-form part of a report.
@@ -408,7 +431,20 @@ pub fn spectrum(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport
             _ => closed_section(red, req, freq, &point, ends),
         };
     }
+    if let Some(degree) = req.polynomial {
+        report.polynomial = Some(polynomial_section(red, freq, &point, degree));
+    }
     Ok(report)
+}
+
+/// The polynomial solutions of the symbolic equation, or why there are none.
+fn polynomial_section(
+    red: &Reduction,
+    freq: usize,
+    point: &[GRat],
+    degree: super::polynomial::Degree,
+) -> std::result::Result<super::polynomial::PolynomialSolutions, String> {
+    super::polynomial::derive(red, freq, point, degree).unwrap_or_else(|e| Err(format!("the derivation stopped: {}", e.message)))
 }
 
 /// What the numeric route found, with what the closed form needs from its
@@ -457,21 +493,65 @@ fn closed_section(red: &Reduction, req: &SpectrumRequest, freq: usize, point: &[
     }
 }
 
-/// `Method::Exact`: the closed form alone, an error when there is none.
-fn exact_only(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
+/// What the closed form alone needs: the spectral parameter, the exact
+/// point, and the ends (`Err`: no boundary problem could be set up).
+struct ExactSetup {
+    freq: usize,
+    fname: String,
+    point: Vec<GRat>,
+    ends: Result<Option<[super::closed::EndPick; 2]>>,
+}
+
+fn exact_setup(red: &Reduction, req: &SpectrumRequest) -> Result<ExactSetup> {
     let (freq, fname) = frequency(red, req)?;
     let point = point(red, req, freq)?;
     let sub = super::spectrum::substitute(red, &point, freq)?;
     let ends = if req.problem == Problem::Bound && req.ends.is_none() {
-        super::collocation::bound_problem(&sub, freq, &point).ok().and_then(|(d, _)| bound_ends(d))
+        Ok(super::collocation::bound_problem(&sub, freq, &point).ok().and_then(|(d, _)| bound_ends(d)))
     } else {
-        Some(problem_ends(&boundary_problem(&sub, req, &point, freq).0?))
+        boundary_problem(&sub, req, &point, freq).0.map(|bp| Some(problem_ends(&bp)))
     };
-    let closed = closed_section(red, req, freq, &point, ends);
-    if let ClosedSection::None(why) = &closed {
-        return Err(method_error(&format!("no closed form for this problem: {why}")));
+    Ok(ExactSetup { freq, fname, point, ends })
+}
+
+/// The closed form of the request's problem alone, with the ends found as
+/// `Method::Exact` finds them, and the spectral parameter's name (derivation
+/// records use it; no numeric route runs).
+pub fn closed_form(red: &Reduction, req: &SpectrumRequest) -> Result<(String, ClosedSection)> {
+    let ExactSetup { freq, fname, point, ends } = exact_setup(red, req)?;
+    Ok((fname, closed_section(red, req, freq, &point, ends?)))
+}
+
+/// `Method::Exact`: the closed form alone, an error when there is none.
+fn exact_only(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
+    let ExactSetup { freq, fname, point, ends } = exact_setup(red, req)?;
+    // With no closed form, the polynomial solutions of the lowest degree when none is asked for.
+    let lowest = req.polynomial.unwrap_or(super::polynomial::Degree::Lowest);
+    let (closed, polynomial) = match ends {
+        Ok(ends) => {
+            let closed = closed_section(red, req, freq, &point, ends);
+            let degree = if matches!(closed, ClosedSection::None(_)) { Some(lowest) } else { req.polynomial };
+            (closed, degree.map(|d| polynomial_section(red, freq, &point, d)))
+        }
+        // No boundary problem: the polynomial solutions alone, else the error.
+        Err(e) => match polynomial_section(red, freq, &point, lowest) {
+            Ok(p) => {
+                let class =
+                    crate::analysis::analyse(red).map(|a| format!("; the equation is of {} class ({})", a.class, a.reason)).unwrap_or_default();
+                (ClosedSection::None(format!("no boundary problem: {}{class}", e.message)), Some(Ok(p)))
+            }
+            Err(why) if req.polynomial.is_some() => return Err(e.note(format!("polynomial solutions: {why}"))),
+            Err(_) => return Err(e),
+        },
+    };
+    if let (ClosedSection::None(why), None | Some(Err(_))) = (&closed, &polynomial) {
+        let extra = match &polynomial {
+            Some(Err(p)) => format!("; polynomial solutions: {p}"),
+            _ => String::new(),
+        };
+        return Err(method_error(&format!("no closed form for this problem: {why}{extra}")));
     }
-    Ok(SpectrumReport { frequency: fname, var: red.var.clone(), body: Body::Exact, mode_functions: None, closed, problem: req.problem })
+    Ok(SpectrumReport { frequency: fname, var: red.var.clone(), body: Body::Exact, mode_functions: None, closed, problem: req.problem, polynomial })
 }
 
 impl Body {
@@ -503,6 +583,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
             mode_functions,
             closed: ClosedSection::NotAsked,
             problem: req.problem,
+            polynomial: None,
         },
         freq,
         point: point.clone(),
