@@ -532,6 +532,9 @@ pub fn analysis_latex(k: &Field, var: &str, unknown: &str, a: &Analysis, canonic
         for ch in &c.checks {
             doc.prose(&format!("check: {ch}"));
         }
+    } else {
+        doc.group();
+        doc.prose("canonical form: none reached for this class and configuration");
     }
     doc.finish()
 }

@@ -177,7 +177,8 @@ impl Meter<'_> {
     }
 }
 
-/// Width of `\text{…}` content: about one unit a character, math inside `$…$` measured as math.
+/// Width of `\text{…}` content: about one unit a character (a roman letter
+/// of 10 pt is 4.4–5 pt wide, a capital up to 7.5 pt), math inside `$…$` measured as math.
 fn text_width(t: &str) -> f64 {
     let mut w = 0.0;
     for (k, piece) in t.split('$').enumerate() {
@@ -203,7 +204,7 @@ fn text_width(t: &str) -> f64 {
                 } else if c == ' ' || c == 'i' || c == 'l' || c == '.' || c == ',' {
                     w += 0.6;
                 } else {
-                    w += 1.05;
+                    w += 0.95;
                 }
             }
         }
@@ -711,6 +712,12 @@ fn span_latex(w: &str) -> Option<String> {
     while start > 0 && balance(&w[start..end]) < 0 {
         start -= 1;
     }
+    // A word of prose at either end would be read as a name: `exponent -2*x` is not a difference.
+    let wordy = |t: &str| t.len() > 1 && t.chars().all(|c| c.is_ascii_alphabetic());
+    let words: Vec<&str> = w.split(' ').collect();
+    if words.len() > 1 && (wordy(words[0].trim_start_matches('(')) || wordy(words[words.len() - 1].trim_end_matches([',', ':', ';', '.', ')']))) {
+        return None;
+    }
     for (a, b) in [(0, plain_end), (start, end)] {
         let core = &w[a..b];
         let call = core.find('(').is_some_and(|i| i > 0 && core[..i].chars().all(|c| c.is_ascii_alphabetic()) && core.ends_with(')'));
@@ -770,6 +777,9 @@ fn plain_latex(t: &str) -> String {
 
 /// Binding strength of an expression when printed (higher binds tighter).
 fn prec(e: &Expr) -> u8 {
+    if leading_minus(e) {
+        return 2;
+    }
     match &e.kind {
         ExprKind::Binary(BinOp::Add | BinOp::Sub, ..) => 1,
         ExprKind::Neg(_) => 2,
@@ -778,6 +788,14 @@ fn prec(e: &Expr) -> u8 {
         ExprKind::Binary(BinOp::Pow, ..) => 5,
         ExprKind::Number(n) if n.contains(['e', 'E']) => 3,
         _ => 6,
+    }
+}
+
+/// A product whose first factor is negated (`-2*x`): printed as `-2 x`, binding like a negation.
+fn leading_minus(e: &Expr) -> bool {
+    match &e.kind {
+        ExprKind::Binary(BinOp::Mul, a, _) => matches!(a.kind, ExprKind::Neg(_)) || leading_minus(a),
+        _ => false,
     }
 }
 
@@ -798,12 +816,23 @@ fn tree_latex(e: &Expr) -> String {
         ExprKind::Neg(x) => format!("-{}", sub(x, 3)),
         ExprKind::Binary(op, a, b) => match op {
             BinOp::Add => match &b.kind {
-                ExprKind::Neg(x) => format!("{} - {}", tree_latex(a), sub(x, 2)),
-                _ => format!("{} + {}", tree_latex(a), tree_latex(b)),
+                ExprKind::Neg(x) => format!("{} - {}", tree_latex(a), sub(x, 3)),
+                _ => {
+                    let r = tree_latex(b);
+                    match r.strip_prefix('-') {
+                        Some(rest) => format!("{} - {rest}", tree_latex(a)),
+                        None => format!("{} + {r}", tree_latex(a)),
+                    }
+                }
             },
-            BinOp::Sub => format!("{} - {}", tree_latex(a), sub(b, 2)),
+            BinOp::Sub => format!("{} - {}", tree_latex(a), sub(b, 3)),
             BinOp::Mul => {
-                let l = sub(a, 3);
+                // A negated first factor gives its sign to the product.
+                let l = match &a.kind {
+                    ExprKind::Neg(x) => format!("-{}", sub(x, 3)),
+                    _ if leading_minus(a) => tree_latex(a),
+                    _ => sub(a, 3),
+                };
                 let r = sub(b, 3);
                 // A number after a factor needs a visible product.
                 if r.starts_with(|c: char| c.is_ascii_digit()) {
@@ -880,6 +909,7 @@ mod tests {
         assert_eq!(expr_latex("x^(s + 1)*(x - 1)^(-2*I*M*omega)*exp(2*I*M*omega*x)").as_deref(), Some("x^{s + 1} \\left(x - 1\\right)^{-2 i M \\omega} e^{2 i M \\omega x}"));
         assert_eq!(expr_latex("(1/2*r - M)/r").as_deref(), Some("\\frac{\\frac{1}{2} r - M}{r}"));
         assert_eq!(equation_latex("u = -2*x + 1"), Some(("u".to_string(), "-2 x + 1".to_string())));
+        assert_eq!(expr_latex("x^(-2*I*M*omega) - -3*y + -2*z").as_deref(), Some("x^{-2 i M \\omega} - \\left(-3 y\\right) - 2 z"));
         assert_eq!(expr_latex("not an (expression"), None);
     }
 
@@ -888,6 +918,7 @@ mod tests {
         assert_eq!(prose_latex("rank 1 at ∞, x^(1/2) w_1"), "rank 1 at $\\infty$, $x^{\\frac{1}{2}}$ w\\_1");
         assert_eq!(prose_latex("at 2*M: exponent -2*I*omega (as asked)"), "at $2 M$: exponent $-2 i \\omega$ (as asked)");
         assert_eq!(prose_latex("a^(b c"), "a\\^{}(b c");
+        assert_eq!(prose_latex("exponent -2*I*omega of"), "exponent $-2 i \\omega$ of");
         assert_eq!(prose_latex("λ = √(−1)"), "$\\lambda$ = $\\surd$($-$1)");
     }
 }
