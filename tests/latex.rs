@@ -15,9 +15,42 @@ use std::process::{Command, Stdio};
 
 /// Macros of LaTeX itself and amsmath/amssymb that the fragments may use.
 const ALLOWED_MACROS: &[&str] = &[
-    "frac", "tfrac", "sqrt", "left", "right", "text", "mathrm", "begin", "end", "quad", "qquad", "in", "infty", "to", "prod", "sum", "big", "Big",
-    "times", "cdot", "approx", "le", "ge", "ne", "surd", "sim", "backslash", "dots", "displaybreak", "operatorname", "sinh", "cosh", "tanh",
-    "sin", "cos", "tan",
+    "frac",
+    "tfrac",
+    "sqrt",
+    "left",
+    "right",
+    "text",
+    "mathrm",
+    "begin",
+    "end",
+    "quad",
+    "qquad",
+    "in",
+    "infty",
+    "to",
+    "prod",
+    "sum",
+    "big",
+    "Big",
+    "times",
+    "cdot",
+    "approx",
+    "le",
+    "ge",
+    "ne",
+    "surd",
+    "sim",
+    "backslash",
+    "dots",
+    "displaybreak",
+    "operatorname",
+    "sinh",
+    "cosh",
+    "tanh",
+    "sin",
+    "cos",
+    "tan",
 ];
 
 /// LaTeX's own Greek-letter macros (every lower-case letter with its `var` forms, and the
@@ -288,7 +321,10 @@ fn latex_fragments_compile_and_fit_the_page() {
         );
         let found = log_problems(&probe, 1.0);
         assert!(found.iter().any(|p| p.case == "wide" && p.what.contains("Overfull \\hbox")), "an over-wide row was not reported: {found:?}");
-        assert!(found.iter().any(|p| p.case == "undefined" && p.what.contains("Undefined control sequence")), "an undefined macro was not reported: {found:?}");
+        assert!(
+            found.iter().any(|p| p.case == "undefined" && p.what.contains("Undefined control sequence")),
+            "an undefined macro was not reported: {found:?}"
+        );
         let log = compile_all(&dir, &fragments);
         for p in log_problems(&log, 1.0) {
             let tex = fragments.iter().find(|(n, _)| *n == p.case).map(|(_, t)| t.as_str()).unwrap_or("");

@@ -254,9 +254,12 @@ fn skip_balanced(s: &str, i: usize) -> Option<usize> {
     None
 }
 
+/// A term of a sum with its sign: `""` (a first term without one), `"+"` or `"-"`.
+pub type Term = (&'static str, String);
+
 /// The top-level terms of a sum printed with ` + ` / ` - ` between terms and an
 /// optional leading `-`: (sign, term) with sign `""`, `"+"` or `"-"`.
-pub fn terms(s: &str) -> Vec<(&'static str, String)> {
+pub fn terms(s: &str) -> Vec<Term> {
     let s = s.trim();
     let b = s.as_bytes();
     let mut out = Vec::new();
@@ -299,11 +302,14 @@ pub fn terms(s: &str) -> Vec<(&'static str, String)> {
 
 /// The pieces of an over-wide term that can be broken inside: (before, the
 /// inner sum's terms, after), so that `before + inner + after` is the term.
-fn opening(term: &str) -> Option<(String, Vec<(&'static str, String)>, String)> {
+fn opening(term: &str) -> Option<(String, Vec<Term>, String)> {
     let delims = |inner: &str| if inner.contains("\\frac") { ("\\Big(", "\\Big)") } else { ("\\big(", "\\big)") };
     // A fraction with a sum in the numerator: (1/D)·(N broken).
     if term.starts_with("\\frac{") {
         let num_end = skip_balanced(term, 5)?;
+        if term.as_bytes().get(num_end) != Some(&b'{') {
+            return None;
+        }
         let den_end = skip_balanced(term, num_end)?;
         if den_end == term.len() {
             let num = &term[6..num_end - 1];
@@ -365,7 +371,7 @@ fn signed(sign: &str, term: &str, first: bool) -> String {
 
 /// Breaks `terms` into chunks each at most `avail` wide where possible; a
 /// chunk starts with its sign, and a row may end after any chunk.
-fn chunks(parts: &[(&'static str, String)], avail: f64, first: bool) -> Vec<String> {
+fn chunks(parts: &[Term], avail: f64, first: bool) -> Vec<String> {
     let mut out = Vec::new();
     for (k, (sign, term)) in parts.iter().enumerate() {
         let is_first = first && k == 0;
@@ -677,8 +683,9 @@ pub fn prose_latex(t: &str) -> String {
     let mut out: Vec<String> = Vec::new();
     let mut i = 0;
     while i < words.len() {
-        // The longest run of words from here that is one expression or equation.
-        let found = (i..words.len()).rev().find_map(|j| span_latex(&words[i..=j].join(" ")).map(|m| (j, m)));
+        // The longest run of words from here (at most MAX_SPAN_WORDS) that is one expression or equation.
+        let last = (i + MAX_SPAN_WORDS).min(words.len());
+        let found = (i..last).rev().find_map(|j| span_latex(&words[i..=j].join(" ")).map(|m| (j, m)));
         match found {
             Some((j, m)) => {
                 out.push(m);
@@ -693,6 +700,10 @@ pub fn prose_latex(t: &str) -> String {
     // Adjacent math pieces ("$a$$b$") merge.
     out.join(" ").replace("$$", "")
 }
+
+/// The most words one expression in a sentence may span (longer ones stay
+/// text): bounds the parsing work of a sentence to linear in its length.
+const MAX_SPAN_WORDS: usize = 80;
 
 /// Words of a sentence as `$…$` math when they are an expression (or an
 /// equation of two) of the input language with an operator — a product, a
@@ -906,7 +917,10 @@ mod tests {
 
     #[test]
     fn input_language_to_latex() {
-        assert_eq!(expr_latex("x^(s + 1)*(x - 1)^(-2*I*M*omega)*exp(2*I*M*omega*x)").as_deref(), Some("x^{s + 1} \\left(x - 1\\right)^{-2 i M \\omega} e^{2 i M \\omega x}"));
+        assert_eq!(
+            expr_latex("x^(s + 1)*(x - 1)^(-2*I*M*omega)*exp(2*I*M*omega*x)").as_deref(),
+            Some("x^{s + 1} \\left(x - 1\\right)^{-2 i M \\omega} e^{2 i M \\omega x}")
+        );
         assert_eq!(expr_latex("(1/2*r - M)/r").as_deref(), Some("\\frac{\\frac{1}{2} r - M}{r}"));
         assert_eq!(equation_latex("u = -2*x + 1"), Some(("u".to_string(), "-2 x + 1".to_string())));
         assert_eq!(expr_latex("x^(-2*I*M*omega) - -3*y + -2*z").as_deref(), Some("x^{-2 i M \\omega} - \\left(-3 y\\right) - 2 z"));

@@ -4,13 +4,13 @@
 //! functions from values to strings; only the CLI writes them anywhere.
 
 mod classify_report;
-pub mod latex;
 pub mod code;
+pub mod latex;
 pub mod numbers;
 pub mod record;
 pub(crate) mod report;
 pub mod scatter;
 pub mod spectrum;
 
-pub use classify_report::{analysis_json, analysis_latex, BoundaryPicks, analysis_text, canonical_json, canonical_text, class_name};
+pub use classify_report::{analysis_json, analysis_latex, analysis_text, canonical_json, canonical_text, class_name, BoundaryPicks};
 pub use report::{recurrence_latex, reduction_json, reduction_latex, reduction_text, value_latex};

@@ -155,10 +155,7 @@ pub fn recurrence_latex(rec: &crate::series::Recurrence) -> String {
     }
     doc.group();
     let k = rec.coeffs.len();
-    doc.math(format!(
-        "\\sum_{{j=0}}^{{{}}} c_{{j}}({n})\\, a_{{{n}+1-j}} = 0, \\qquad {n} \\ge 0,\\ a_{{{n}}} = 0 \\text{{ for }} {n} < 0",
-        k - 1
-    ));
+    doc.math(format!("\\sum_{{j=0}}^{{{}}} c_{{j}}({n})\\, a_{{{n}+1-j}} = 0, \\qquad {n} \\ge 0,\\ a_{{{n}}} = 0 \\text{{ for }} {n} < 0", k - 1));
     for (j, c) in rec.coeffs.iter().enumerate() {
         doc.eq(format!("c_{{{j}}}({n})"), poly_text(c.num(), c.scale(), rec.field.names(), Style::Latex));
     }
