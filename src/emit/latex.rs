@@ -525,7 +525,9 @@ impl Align {
         let mut cur = String::new();
         for it in items {
             if !cur.is_empty() && width(&cur) + width(it) + 1.0 > LINE_BUDGET - 2.0 * INDENT {
-                self.rows.push(Row::Math(std::mem::take(&mut cur) + ","));
+                self.rows.push(Row::Math(std::mem::replace(&mut cur, "\\qquad ".to_string()) + ","));
+                cur.push_str(it);
+                continue;
             }
             if !cur.is_empty() {
                 cur.push_str(",\\ ");
@@ -705,10 +707,10 @@ pub fn prose_latex(t: &str) -> String {
 /// text): bounds the parsing work of a sentence to linear in its length.
 const MAX_SPAN_WORDS: usize = 80;
 
-/// Words of a sentence as `$…$` math when they are an expression (or an
-/// equation of two) of the input language with an operator — a product, a
-/// power or a call: `2*M`, `x^2`, `exp(x)`; a lone quotient such as `γ/x`
-/// may be prose. Punctuation around them stays text.
+/// Words of a sentence as `$…$` math when they are an equation of two
+/// expressions of the input language (`r = 2*M`), or an expression with an
+/// operator — a product, a power or a call: `2*M`, `x^2`, `exp(x)`; a lone
+/// quotient such as `γ/x` may be prose. Punctuation around them stays text.
 fn span_latex(w: &str) -> Option<String> {
     // Either the words with trailing punctuation as text, or also without
     // their outer parentheses (as many as leave the rest balanced).
@@ -732,7 +734,9 @@ fn span_latex(w: &str) -> Option<String> {
     for (a, b) in [(0, plain_end), (start, end)] {
         let core = &w[a..b];
         let call = core.find('(').is_some_and(|i| i > 0 && core[..i].chars().all(|c| c.is_ascii_alphabetic()) && core.ends_with(')'));
-        if !(core.contains(['*', '^']) || call) || core.contains(['∞', '…']) {
+        // An equation of two expressions (`r = 2*M`) is math too.
+        let equation = core.contains(" = ") && core.matches('=').count() == 1;
+        if !(core.contains(['*', '^']) || call || equation) || core.contains(['∞', '…']) {
             continue;
         }
         let m = match (expr_latex(core), equation_latex(core)) {
@@ -931,6 +935,7 @@ mod tests {
     fn prose_is_escaped() {
         assert_eq!(prose_latex("rank 1 at ∞, x^(1/2) w_1"), "rank 1 at $\\infty$, $x^{\\frac{1}{2}}$ w\\_1");
         assert_eq!(prose_latex("at 2*M: exponent -2*I*omega (as asked)"), "at $2 M$: exponent $-2 i \\omega$ (as asked)");
+        assert_eq!(prose_latex("at r = 0: exponent s + 1 of"), "at $r = 0$: exponent s + 1 of");
         assert_eq!(prose_latex("a^(b c"), "a\\^{}(b c");
         assert_eq!(prose_latex("exponent -2*I*omega of"), "exponent $-2 i \\omega$ of");
         assert_eq!(prose_latex("λ = √(−1)"), "$\\lambda$ = $\\surd$($-$1)");

@@ -124,12 +124,14 @@ pub fn reduction_latex(r: &Reduction) -> String {
 /// value in double precision.
 pub fn value_latex(point: &[(String, crate::algebra::GRat)], re: f64, im: f64) -> String {
     let mut doc = super::latex::Align::new();
-    let items: Vec<String> = point
+    let mut items: Vec<String> = point
         .iter()
         .map(|(n, v)| format!("{} = {}", crate::algebra::print::latex_name(n), crate::algebra::print::grat_text(v, Style::Latex)))
         .collect();
+    if let Some(first) = items.first_mut() {
+        *first = format!("\\text{{at }} {first}");
+    }
     doc.rel("Q", "\\approx", super::numbers::latex_complex(re, im), "");
-    doc.prose("at");
     doc.list(&items);
     doc.finish()
 }
