@@ -475,7 +475,9 @@ fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, bound
     if let Some(c) = &canon {
         text.push_str(&canonode::emit::canonical_text(k, &red.ode.unknown, c, vals.as_ref()));
     }
-    Ok(serde_json::json!({"json": v, "text": text, "latex": canonode::emit::analysis_latex(k, &red.var, &an, canon.as_ref())}))
+    let picks = kind.map(|b| canonode::emit::BoundaryPicks { kind: if b == Boundary::Qnm { "quasinormal modes" } else { "bound states" }, choices: &said });
+    let latex = canonode::emit::analysis_latex(k, &red.var, &red.ode.unknown, &an, canon.as_ref(), picks.as_ref());
+    Ok(serde_json::json!({"json": v, "text": text, "latex": latex}))
 }
 
 /// `emit`: C or Rust source evaluating Q (and the potential when `dxdz` is given).

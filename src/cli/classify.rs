@@ -143,7 +143,10 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
             );
             format!("{}\n", serde_json::to_string_pretty(&v).unwrap_or_default())
         }
-        Format::Latex => crate::emit::analysis_latex(k, &red.var, &an, canon.as_ref()),
+        Format::Latex => {
+            let picks = bname.map(|kind| crate::emit::BoundaryPicks { kind, choices: &boundary_said });
+            crate::emit::analysis_latex(k, &red.var, &red.ode.unknown, &an, canon.as_ref(), picks.as_ref())
+        }
         _ => {
             let mut t = crate::emit::analysis_text(k, &red.var, &an, numeric.as_deref(), labels.as_ref());
             if let Some(n) = bname {

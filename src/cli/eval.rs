@@ -14,7 +14,7 @@ pub(crate) struct EvalArgs {
     /// The point: a value for the variable and every parameter, e.g. 'r=3.1,M=1,omega=0.37-0.089i'.
     #[arg(long = "at", value_name = "NAME=VALUE,...")]
     at: String,
-    /// Output format (text or json).
+    /// Output format.
     #[arg(long = "format", value_enum, default_value = "text")]
     format: Format,
 }
@@ -22,15 +22,19 @@ pub(crate) struct EvalArgs {
 pub(crate) fn run(a: &EvalArgs) -> u8 {
     let extra = [("--at".to_string(), a.at.clone())];
     run_command(&a.input, &extra, |src| {
-        let (re, im) = compute(a, src)?;
+        let (point, re, im) = compute(a, src)?;
         Ok(match a.format {
             Format::Json => format!("{}\n", serde_json::json!({ "Q": [re, im] })),
-            _ => format!("Q = {}\n", fmt_complex(re, im)),
+            Format::Latex => crate::emit::value_latex(&point, re, im),
+            Format::Text => format!("Q = {}\n", fmt_complex(re, im)),
         })
     })
 }
 
-fn compute(a: &EvalArgs, src: &super::Source) -> Result<(f64, f64), Failure> {
+/// The point (names in the equation's order with their exact values) and Q there.
+type Evaluated = (Vec<(String, GRat)>, f64, f64);
+
+fn compute(a: &EvalArgs, src: &super::Source) -> Result<Evaluated, Failure> {
     let values = parse_assignments(&a.at, "--at")?;
     let red = a.input.reduce(src)?;
     let names = red.field.names();
@@ -70,5 +74,5 @@ fn compute(a: &EvalArgs, src: &super::Source) -> Result<(f64, f64), Failure> {
             .in_option("--at")
             .into());
     }
-    Ok((re, im))
+    Ok((names.iter().cloned().zip(point).collect(), re, im))
 }

@@ -14,7 +14,7 @@ pub(crate) struct RecurrenceArgs {
     about: String,
     #[command(flatten)]
     series: SeriesArgs,
-    /// Output format (text or json).
+    /// Output format.
     #[arg(long = "format", value_enum, default_value = "text")]
     format: Format,
 }
@@ -88,7 +88,8 @@ fn compute(a: &RecurrenceArgs, src: &super::Source) -> Result<String, Failure> {
             });
             format!("{}\n", serde_json::to_string_pretty(&v).unwrap_or_default())
         }
-        _ => {
+        Format::Latex => crate::emit::recurrence_latex(&rec),
+        Format::Text => {
             let mut o = String::new();
             o.push_str(&format!("ansatz      {} = {} * Σ a_{n} u^{n},   {}\n", rec.function, rec.prefactor, rec.series));
             for c in &rec.choices {

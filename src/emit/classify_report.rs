@@ -450,12 +450,23 @@ fn param_latex(k: &Field, p: &Param) -> String {
     }
 }
 
-/// The classification as a LaTeX fragment (amsmath `align*`): the class, each
-/// singular point with its kind and exponents, and the canonical parameters.
-pub fn analysis_latex(k: &Field, var: &str, a: &Analysis, canonical: Option<&Canonical>) -> String {
+/// A boundary problem's exponent picks, as `classify --boundary` reports them.
+pub struct BoundaryPicks<'a> {
+    /// The problem in words ("quasinormal modes").
+    pub kind: &'a str,
+    /// One sentence a point ("at 2*M: the ingoing exponent (number 2)").
+    pub choices: &'a [String],
+}
+
+/// The classification as a LaTeX fragment (amsmath `align*`, rows that fit
+/// the page): the class, each singular point with its kind and exponents
+/// (one a row), the boundary choices, and the canonical form: its equation,
+/// the map, the prefactor, the choices made, the parameters and the checks.
+pub fn analysis_latex(k: &Field, var: &str, unknown: &str, a: &Analysis, canonical: Option<&Canonical>, boundary: Option<&BoundaryPicks>) -> String {
     let s = Style::Latex;
     let v = crate::algebra::print::latex_name(var);
-    let mut rows = vec![format!("&\\text{{{} equation: {}}}", class_name(&a.class), a.reason.replace('∞', "$\\infty$"))];
+    let mut doc = super::latex::Align::new();
+    doc.prose(&format!("{} equation: {}", class_name(&a.class), a.reason));
     for p in &a.points {
         let wher = match &p.place {
             Place::Point { at, .. } => format!("{v} = {}", rf(k, at, s)),
@@ -467,23 +478,63 @@ pub fn analysis_latex(k: &Field, var: &str, a: &Analysis, canonical: Option<&Can
             Place::Infinity => format!("{v} = \\infty"),
         };
         let rank = if p.rank.is_zero() { String::new() } else { format!(", rank ${}$", p.rank) };
-        rows.push(format!("&{wher}: && \\text{{{}{rank}}}", p.kind.word()));
-        // One row per set of exponents, under the kind: long exponents stay readable.
-        if p.kind != crate::analysis::Kind::Irregular && !p.exponents.is_empty() {
-            let e: Vec<String> = p.exponents.iter().map(|e| exponent_text(k, e, s)).collect();
-            rows.push(format!("&&& \\rho_\\psi \\in \\{{{}\\}}", e.join(",\\ ")));
+        doc.group();
+        doc.math(format!("{wher}\\text{{: {}{rank}}}", p.kind.word()));
+        let psi: &[Exponent] = if p.kind == crate::analysis::Kind::Irregular { &[] } else { &p.exponents };
+        for (name, sub, list) in [("\\rho_{\\psi}", "\\psi,", psi), ("\\rho", "", &p.unknown_exponents[..])] {
+            let texts: Vec<String> = list.iter().map(|e| exponent_text(k, e, s)).collect();
+            let set = format!("\\{{{}\\}}", texts.join(",\\ "));
+            if texts.is_empty() {
+                continue;
+            }
+            if super::latex::width(&set) + 8.0 <= super::latex::LINE_BUDGET {
+                doc.rel(name, "\\in", set, "");
+            } else {
+                // One exponent a row: long exponents are broken like any sum.
+                for (j, t) in texts.into_iter().enumerate() {
+                    doc.eq(format!("\\rho_{{{sub}{}}}", j + 1), t);
+                }
+            }
         }
-        if !p.unknown_exponents.is_empty() {
-            let e: Vec<String> = p.unknown_exponents.iter().map(|e| exponent_text(k, e, s)).collect();
-            rows.push(format!("&&& \\rho \\in \\{{{}\\}}", e.join(",\\ ")));
+    }
+    if let Some(b) = boundary {
+        doc.group();
+        doc.prose(&format!("boundary conditions for {}:", b.kind));
+        for c in b.choices {
+            doc.prose(c);
+        }
+        if b.choices.is_empty() {
+            doc.prose("no point could be labelled");
         }
     }
     if let Some(c) = canonical {
-        rows.push(format!("&\\text{{canonical form: {} ({})}}", class_name(&c.form), c.source));
-        // One parameter a row, under the form's name, ready to paste.
-        for (n, p) in &c.parameters {
-            rows.push(format!("&&& {} = {}", crate::algebra::print::latex_name(n), param_latex(k, p)));
+        doc.group();
+        doc.prose(&format!("canonical form: {} ({}): {}", class_name(&c.form), c.source, c.equation));
+        match super::latex::equation_latex(&c.map) {
+            Some((l, r)) => doc.rel(l, "=", r, "\\quad\\text{(the map)}"),
+            None => doc.prose(&format!("map: {}", c.map)),
         }
+        // The prefactor: an expression, then an optional note after two spaces.
+        let (expr, note) = c.prefactor.split_once("  ").unwrap_or((&c.prefactor, ""));
+        let u = crate::algebra::print::latex_name(unknown);
+        let note = if note.is_empty() { String::new() } else { format!(" \\quad\\text{{{}}}", super::latex::prose_latex(note)) };
+        match super::latex::expr_latex(expr) {
+            Some(t) if t == "1" => doc.prose(&format!("prefactor: none (the unknown {unknown} is the canonical function)")),
+            Some(t) => doc.rel(u, "=", format!("{t}\\, w"), &note),
+            None => doc.prose(&format!("prefactor: {unknown} = {} * w", c.prefactor)),
+        }
+        for ch in &c.choices {
+            doc.prose(&format!("choice: {ch}"));
+        }
+        for (n, p) in &c.parameters {
+            doc.eq(crate::algebra::print::latex_name(n), param_latex(k, p));
+        }
+        for ch in &c.checks {
+            doc.prose(&format!("check: {ch}"));
+        }
+    } else {
+        doc.group();
+        doc.prose("canonical form: none reached for this class and configuration");
     }
-    format!("\\begin{{align*}}\n{}\n\\end{{align*}}\n", rows.join(" \\\\\n"))
+    doc.finish()
 }

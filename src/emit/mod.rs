@@ -5,11 +5,12 @@
 
 mod classify_report;
 pub mod code;
+pub mod latex;
 pub mod numbers;
 pub mod record;
 pub(crate) mod report;
 pub mod scatter;
 pub mod spectrum;
 
-pub use classify_report::{analysis_json, analysis_latex, analysis_text, canonical_json, canonical_text, class_name};
-pub use report::{reduction_json, reduction_latex, reduction_text};
+pub use classify_report::{analysis_json, analysis_latex, analysis_text, canonical_json, canonical_text, class_name, BoundaryPicks};
+pub use report::{recurrence_latex, reduction_json, reduction_latex, reduction_text, value_latex};

@@ -69,3 +69,21 @@ pub fn pi_multiple(x: f64) -> String {
     }
     fmt17(x)
 }
+
+/// A double as LaTeX: [`fmt17`] with an exponent written `\times 10^{n}`.
+pub fn latex17(x: f64) -> String {
+    let t = fmt17(x);
+    match t.split_once('e') {
+        Some((m, e)) => format!("{m}\\times 10^{{{e}}}"),
+        None => t,
+    }
+}
+
+/// A complex number as LaTeX, `a + b\,i` with 17 significant digits.
+pub fn latex_complex(re: f64, im: f64) -> String {
+    if im == 0.0 {
+        return latex17(re);
+    }
+    let sign = if im < 0.0 { '-' } else { '+' };
+    format!("{} {sign} {}\\,i", latex17(re), latex17(im.abs()))
+}

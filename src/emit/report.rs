@@ -92,33 +92,76 @@ pub fn reduction_text(r: &Reduction, source_name: &str) -> String {
     o
 }
 
-/// The derivation as a LaTeX fragment (an `align*` environment, amsmath).
+/// The derivation as a LaTeX fragment (an `align*` environment, amsmath),
+/// long right-hand sides broken over rows to fit the page (see [`super::latex`]).
 pub fn reduction_latex(r: &Reduction) -> String {
     let s = Style::Latex;
     let u = crate::algebra::print::latex_name(&r.ode.unknown);
     let v = crate::algebra::print::latex_name(&r.var);
-    let mut lines = Vec::new();
+    let mut doc = super::latex::Align::new();
     if let Some(c) = &r.change {
-        lines.push(format!("{} &= {}", crate::algebra::print::latex_name(&c.old_var), rt(r, &c.g, s)));
+        doc.eq(crate::algebra::print::latex_name(&c.old_var), rt(r, &c.g, s));
     }
-    lines.push(format!("{u}'' + p\\,{u}' + q\\,{u} &= 0, \\qquad ' = \\frac{{d}}{{d{v}}}"));
-    lines.push(format!("p &= {}", rt(r, &r.p, s)));
-    lines.push(format!("q &= {}", rt(r, &r.q, s)));
-    lines.push(format!(
-        "{u} &= {}\\,\\psi, \\qquad \\psi'' + Q\\,\\psi = 0",
-        crate::ode::prefactor_text(&r.var, r.field.names(), &r.normal.prefactor, s)
-    ));
-    lines.push(format!("Q &= {}", rt(r, &r.normal.q, s)));
+    doc.math(format!("{u}'' + p\\,{u}' + q\\,{u} = 0, \\qquad ' = \\frac{{d}}{{d{v}}}"));
+    doc.eq("p", rt(r, &r.p, s));
+    doc.eq("q", rt(r, &r.q, s));
+    doc.math(format!("\\psi'' + Q\\,\\psi = 0, \\qquad {u} = P\\,\\psi"));
+    doc.eq("P", crate::ode::prefactor_text(&r.var, r.field.names(), &r.normal.prefactor, s));
+    doc.eq("Q", rt(r, &r.normal.q, s));
     for (at, cs) in principal_rows(r, s) {
         let terms: Vec<String> =
             cs.iter().map(|(pw, c)| format!("\\left({c}\\right){}^{{{pw}}}", crate::algebra::print::shifted(&v, &at, s))).collect();
-        lines.push(format!("Q &= {} + O(1) \\quad ({v} \\to {at})", terms.join(" + ")));
+        doc.rel("Q", "=", format!("{} + O(1)", terms.join(" + ")), &format!(" \\quad ({v} \\to {at})"));
     }
     if let Some(sch) = &r.schrodinger {
-        lines.push(format!("\\frac{{dx}}{{d{v}}} &= {}", rt(r, &sch.dxdz, s)));
-        lines.push(format!("V &= {}", rt(r, &sch.v, s)));
+        doc.eq(format!("\\frac{{dx}}{{d{v}}}"), rt(r, &sch.dxdz, s));
+        doc.eq("V", rt(r, &sch.v, s));
     }
-    format!("\\begin{{align*}}\n{}\n\\end{{align*}}\n", lines.join(" \\\\\n"))
+    doc.finish()
+}
+
+/// `Q` at a point as a LaTeX fragment: the point (exact values), then the
+/// value in double precision.
+pub fn value_latex(point: &[(String, crate::algebra::GRat)], re: f64, im: f64) -> String {
+    let mut doc = super::latex::Align::new();
+    let mut items: Vec<String> = point
+        .iter()
+        .map(|(n, v)| format!("{} = {}", crate::algebra::print::latex_name(n), crate::algebra::print::grat_text(v, Style::Latex)))
+        .collect();
+    if let Some(first) = items.first_mut() {
+        *first = format!("\\text{{at }} {first}");
+    }
+    doc.rel("Q", "\\approx", super::numbers::latex_complex(re, im), "");
+    doc.list(&items);
+    doc.finish()
+}
+
+/// A recurrence as a LaTeX fragment: the ansatz, the series variable, the
+/// choices, the recurrence and each coefficient (long ones broken over rows).
+pub fn recurrence_latex(rec: &crate::series::Recurrence) -> String {
+    let n = crate::algebra::print::latex_name(rec.index());
+    let f = crate::algebra::print::latex_name(&rec.function);
+    let mut doc = super::latex::Align::new();
+    let sum = format!("\\sum_{{{n}=0}}^{{\\infty}} a_{{{n}}} u^{{{n}}}");
+    match super::latex::expr_latex(&rec.prefactor) {
+        Some(p) if p == "1" => doc.eq(f, sum),
+        Some(p) => doc.eq(f, format!("{p} {sum}")),
+        None => doc.prose(&format!("{} = {} * Σ a_n u^n", rec.function, rec.prefactor)),
+    }
+    match super::latex::equation_latex(&rec.series) {
+        Some((l, r)) => doc.eq(l, r),
+        None => doc.prose(&rec.series),
+    }
+    for c in &rec.choices {
+        doc.prose(&format!("choice: {c}"));
+    }
+    doc.group();
+    let k = rec.coeffs.len();
+    doc.math(format!("\\sum_{{j=0}}^{{{}}} c_{{j}}({n})\\, a_{{{n}+1-j}} = 0, \\qquad {n} \\ge 0,\\ a_{{{n}}} = 0 \\text{{ for }} {n} < 0", k - 1));
+    for (j, c) in rec.coeffs.iter().enumerate() {
+        doc.eq(format!("c_{{{j}}}({n})"), poly_text(c.num(), c.scale(), rec.field.names(), Style::Latex));
+    }
+    doc.finish()
 }
 
 /// The derivation as JSON (schema in the module documentation).
