@@ -337,7 +337,8 @@ class Mode:
     """One mode: ``n``, ``omega`` (complex, nan when not converged),
     ``converged``, ``reason`` (why not, else None), ``method``, ``evidence``
     (dict: depth, change on doubling, residual, seed …), ``check`` (the
-    second method's result, dict or None), ``estimate`` (WKB, dict or None)."""
+    second method's result, dict or None), ``estimate`` (WKB, dict or None),
+    ``family`` (periodic problems: multiplier, parity and index, else None)."""
 
     def __init__(self, d):
         self.json = d
@@ -349,6 +350,7 @@ class Mode:
         self.evidence = d["evidence"]
         self.check = d.get("check")
         self.estimate = d.get("estimate")
+        self.family = d.get("family")
 
     def __repr__(self):
         if self.converged:

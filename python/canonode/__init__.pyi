@@ -74,6 +74,7 @@ class Mode:
     evidence: Dict[str, Any]
     check: Optional[Dict[str, Any]]
     estimate: Optional[Dict[str, Any]]
+    family: Optional[Dict[str, Any]]
 
 class Spectrum:
     json: Dict[str, Any]

@@ -152,3 +152,17 @@ def test_ends_are_given_as_on_the_command_line():
     with pytest.raises(canonode.InputError, match="nowhere") as e:
         canonode.spectrum(RW, at={"M": 1, "l": 2, "s": 2}, ends="2..nowhere")
     assert e.value.source == "ends"
+
+
+def test_periodic_characteristic_values_as_written():
+    # Mathieu's equation as DLMF 28.2.1 prints it: the periodic problem is the
+    # default for trigonometric coefficients. a0, b1, a1 at q = 1 (Abramowitz &
+    # Stegun table 20.1, from memory, 8 decimals), as in tests/paste.rs.
+    eq = "y'' + (a - 2*q*cos(2*x))*y = 0"
+    s = canonode.spectrum(eq, at={"q": 1}, overtones=range(0, 3), var="x")
+    doc = cli_json("spectrum", "-e", eq, "--var", "x", "--at", "q=1", "--overtones", "0..2")
+    assert s.json == doc
+    assert s.boundary == "periodic"
+    for got, want in zip(s.omega, [-0.45513860, -0.11024882, 1.85910807]):
+        assert abs(got.real - want) < 5.1e-9 and got.imag == 0.0
+    assert [m.family["parity"] for m in s.modes] == ["even", "odd", "even"]

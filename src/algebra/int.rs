@@ -201,6 +201,14 @@ impl Int {
         }
     }
     /// From a machine integer.
+    /// The value as an `i64`, when it fits (the exact conversion: no float on the way).
+    pub fn to_i64(&self) -> Option<i64> {
+        match self {
+            Int::Small(v) => Some(*v),
+            Int::Big(_) => None,
+        }
+    }
+    /// The value from an `i64`.
     pub fn from_i64(v: i64) -> Int {
         Int::Small(v)
     }

@@ -116,6 +116,19 @@ impl Rat {
     }
 }
 
+impl PartialOrd for Rat {
+    fn partial_cmp(&self, o: &Rat) -> Option<std::cmp::Ordering> {
+        Some(self.cmp(o))
+    }
+}
+
+impl Ord for Rat {
+    /// The exact order: a/b < c/d ⇔ ad < cb (denominators are positive).
+    fn cmp(&self, o: &Rat) -> std::cmp::Ordering {
+        self.num.mul(&o.den).cmp(&o.num.mul(&self.den))
+    }
+}
+
 impl fmt::Display for Rat {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         if self.den.is_one() {

@@ -245,7 +245,9 @@ impl<'a> Ctx<'a> {
                         let xm = k.sub(&k.var(0), at)?;
                         let mut e = e_p.clone();
                         for (pw, c) in &f.exponent {
-                            let n = pw.numer().to_f64() as i64;
+                            let n = pw.numer().to_i64().ok_or_else(|| {
+                                crate::error::Error::new(crate::error::ErrorKind::Limit, "a power of the formal solution's exponent is too large")
+                            })?;
                             e = k.add(&e, &k.mul(c, &k.pow(&xm, n)?)?)?;
                         }
                         let shift = match idx {
@@ -283,7 +285,9 @@ impl<'a> Ctx<'a> {
                         }
                         let mut e = e_p.clone();
                         for (pw, c) in &f.exponent {
-                            let n = pw.numer().to_f64() as i64;
+                            let n = pw.numer().to_i64().ok_or_else(|| {
+                                crate::error::Error::new(crate::error::ErrorKind::Limit, "a power of the formal solution's exponent is too large")
+                            })?;
                             e = k.add(&e, &k.mul(c, &k.pow(&k.var(0), n)?)?)?;
                         }
                         cands.push((e, RatFunc::zero()));

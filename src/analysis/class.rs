@@ -39,7 +39,7 @@ pub fn classify_points(points: &[SingularPoint]) -> (String, String, Vec<String>
     let one = Rat::one();
     let r = |n: i64| Rat::int(n.into());
     let mut ranks: Vec<Rat> = irregular.iter().map(|(x, _)| x.clone()).collect();
-    ranks.sort_by(|a, b| a.to_f64().partial_cmp(&b.to_f64()).unwrap_or(std::cmp::Ordering::Equal));
+    ranks.sort();
     let class = match (regular, ranks.as_slice()) {
         (2, []) => "euler",
         (3, []) => "hypergeometric",

@@ -180,7 +180,7 @@ fn integer_of(root: &Option<UPoly>) -> Option<i64> {
     let r = root.as_ref()?;
     let c = Ext::as_base(r)?.as_constant()?;
     if c.im.is_zero() && c.re.is_integer() && c.re.numer().bits() < 32 {
-        Some(c.re.numer().to_f64() as i64)
+        c.re.numer().to_i64()
     } else {
         None
     }

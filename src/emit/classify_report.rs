@@ -332,7 +332,7 @@ pub fn analysis_json(k: &Field, var: &str, params: &[String], a: &Analysis, nume
                 "kind": p.kind.word(),
                 "pole_order": p.pole_order,
                 // A number (rank is a multiple of 1/2, exact as a double), and the exact text beside it.
-                "rank": if p.rank.is_integer() { json!(p.rank.to_f64() as i64) } else { json!(p.rank.to_f64()) },
+                "rank": match p.rank.numer().to_i64().filter(|_| p.rank.is_integer()) { Some(n) => json!(n), None => json!(p.rank.to_f64()) },
                 "rank_text": p.rank.to_string(),
                 "exponents": ex(&p.exponents, np.map(|n| &n.exponents)),
                 "unknown_exponents": ex(&p.unknown_exponents, np.map(|n| &n.unknown_exponents)),

@@ -120,7 +120,7 @@ impl Atoms {
             }
             if let Some(c) = e.as_constant() {
                 if c.im.is_zero() && c.re.is_integer() {
-                    let n = c.re.numer().to_f64() as i64;
+                    let n = c.re.numer().to_i64().ok_or_else(|| Error::new(ErrorKind::Limit, "an exponent is too large"))?;
                     factor = k.mul(&factor, &k.pow(&self.atoms[id].base, n)?)?;
                     continue;
                 }
@@ -198,14 +198,15 @@ impl Atoms {
                 if n.bits() > 16 {
                     return Err(Error::new(ErrorKind::Limit, format!("exponent {n} is too large")).at(span));
                 }
-                let n = n.to_f64() as i64;
+                let n = n.to_i64().ok_or_else(|| Error::new(ErrorKind::Limit, format!("exponent {n} is too large")).at(span))?;
                 return self.int_pow(k, a, n, span);
             }
             // An exact square root of a rational function, where one exists.
             if c.im.is_zero() && c.re.denom() == &crate::algebra::Int::from(2) {
                 if let Some(r) = a.as_rat() {
                     if let Some(root) = k.sqrt_exact(&r)? {
-                        return self.int_pow(k, &Quasi::rat(root), c.re.numer().to_f64() as i64, span);
+                        let n = c.re.numer().to_i64().ok_or_else(|| Error::new(ErrorKind::Limit, "an exponent is too large").at(span))?;
+                        return self.int_pow(k, &Quasi::rat(root), n, span);
                     }
                 }
             }

@@ -254,7 +254,7 @@ fn recurrence_mod(
             }
             let mut e = ep.clone();
             for (pw, c) in &f.exponent {
-                let n = pw.numer().to_f64() as i64;
+                let n = pw.numer().to_i64().ok_or_else(|| Error::new(ErrorKind::Limit, "a power of the formal solution's exponent is too large"))?;
                 e = k.add(&e, &k.mul(c, &k.pow(&z, n)?)?)?;
             }
             // The unknown's power at ∞: ρ_ψ − p₁/2.
