@@ -462,6 +462,18 @@ pub fn try_coupling(
     Ok(Coupling { names, links: links.to_vec(), angular: ang, fixed, freq })
 }
 
+/// The radial reduction with the known values substituted exactly (the
+/// linked parameters and the frequency kept), and its quasinormal-mode
+/// recurrence with the set-up.
+pub fn radial_recurrence(red: &Reduction, coupling: &Coupling, opts: &SpectrumOptions) -> Result<(Reduction, (Recurrence, Setup))> {
+    let k = &red.field;
+    let mut keep: Vec<usize> = coupling.links.iter().filter(|l| !l.angular).filter_map(|l| k.names().iter().position(|x| *x == l.target)).collect();
+    keep.push(opts.freq);
+    let red = super::spectrum::substitute_keeping(red, &opts.values, &keep)?;
+    let rs = super::spectrum::qnm_recurrence(&red, opts)?;
+    Ok((red, rs))
+}
+
 /// One mode of a coupled solve with its evidence.
 #[derive(Clone, Debug)]
 pub struct CoupledMode {
@@ -484,12 +496,24 @@ pub fn coupled_spectrum(
     check: bool,
     first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
 ) -> Result<(Setup, Vec<CoupledMode>)> {
+    let (red, (rec, setup)) = radial_recurrence(red, coupling, opts)?;
+    let out = coupled_solve(&red, &rec, &setup, coupling, opts, check, first_estimate)?;
+    Ok((setup, out))
+}
+
+/// [`coupled_spectrum`] on a radial reduction (`red`, substituted as far as
+/// it is) and its recurrence already derived.
+pub fn coupled_solve(
+    red: &Reduction,
+    rec: &Recurrence,
+    setup: &Setup,
+    coupling: &Coupling,
+    opts: &SpectrumOptions,
+    check: bool,
+    first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
+) -> Result<Vec<CoupledMode>> {
     let k = &red.field;
-    let mut keep: Vec<usize> = coupling.links.iter().filter(|l| !l.angular).filter_map(|l| k.names().iter().position(|x| *x == l.target)).collect();
-    keep.push(opts.freq);
-    let red = super::spectrum::substitute_keeping(red, &opts.values, &keep)?;
-    let (rec, setup) = super::spectrum::qnm_recurrence(&red, opts)?;
-    let pairs = coupled_modes(coupling, &rec, &setup, opts, &red.field, first_estimate)?;
+    let pairs = coupled_modes(coupling, rec, setup, opts, &red.field, first_estimate)?;
     let mut out = Vec::new();
     for (mode, angular) in pairs {
         let check = match (&angular, check && mode.root.converged) {
@@ -500,11 +524,11 @@ pub fn coupled_spectrum(
                         o.values[i] = GRat { re: super::spectrum::exact_double(v.re).re, im: super::spectrum::exact_double(v.im).re };
                     }
                 }
-                super::spectrum::integration_check(&red, &o, &setup).ok().map(|f| f(mode.root.omega * Complex64::new(1.0 + 1e-4, 1e-4)))
+                super::spectrum::integration_check(red, &o, setup).ok().map(|f| f(mode.root.omega * Complex64::new(1.0 + 1e-4, 1e-4)))
             }
             _ => None,
         };
         out.push(CoupledMode { mode, angular, check });
     }
-    Ok((setup, out))
+    Ok(out)
 }

@@ -145,6 +145,8 @@ pub struct CoupledReport {
     pub links: Vec<String>,
     /// The angular eigenvalue and linked values at each mode.
     pub values: Vec<Option<CoupledValue>>,
+    /// With no seed given: the continuation from the uncoupled limit.
+    pub path: Option<super::continuation::Path>,
 }
 
 /// Modes by direct integration between the ends of a boundary problem.
@@ -793,9 +795,19 @@ fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) 
 /// Quasinormal modes of a radial equation coupled to an angular one.
 fn coupled(red: &Reduction, req: &SpectrumRequest, c: &CoupleRequest, opts: &SpectrumOptions) -> Result<RecurrenceReport> {
     let fixed: Vec<(String, GRat)> = req.values.iter().map(|(n, v, _)| (n.clone(), v.clone())).collect();
-    let coupling = super::coupled::try_coupling(&red.field, &c.angular, &c.links, &fixed, opts.freq, c.index, c.guess).map_err(in_angular)?;
+    let mut coupling = super::coupled::try_coupling(&red.field, &c.angular, &c.links, &fixed, opts.freq, c.index, c.guess).map_err(in_angular)?;
     let none = |_: u32| None;
-    let (setup, found) = super::coupled::coupled_spectrum(red, &coupling, opts, true, &none)?;
+    let (setup, found, path) = match opts.guess {
+        Some(_) => {
+            let (setup, found) = super::coupled::coupled_spectrum(red, &coupling, opts, true, &none)?;
+            (setup, found, None)
+        }
+        // No seed: from the uncoupled limit, continued in the coupling parameter.
+        None => {
+            let (setup, found, path) = super::continuation::continued_spectrum(red, &mut coupling, opts, true)?;
+            (setup, found, Some(path))
+        }
+    };
     Ok(RecurrenceReport {
         setup,
         modes: found.iter().map(|c| c.mode.clone()).collect(),
@@ -807,6 +819,7 @@ fn coupled(red: &Reduction, req: &SpectrumRequest, c: &CoupleRequest, opts: &Spe
             angular: coupling.angular,
             links: c.link_texts.iter().map(|t| t.trim().to_string()).collect(),
             values: found.iter().map(|c| c.angular.clone()).collect(),
+            path,
         }),
         notes: Vec::new(),
     })
