@@ -271,7 +271,13 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
                         angular_guess,
                     )?;
                     let none = |_: u32| None;
-                    let (_, modes) = crate::solve::coupled::coupled_spectrum(&red, &c, o, check, &none)?;
+                    let modes = if o.seeds.is_empty() && o.guess.is_none() {
+                        // No seed (the first point, or after a failed one): from the uncoupled limit.
+                        let mut c = c;
+                        crate::solve::continuation::continued_spectrum(&red, &mut c, o, check)?.1
+                    } else {
+                        crate::solve::coupled::coupled_spectrum(&red, &c, o, check, &none)?.1
+                    };
                     let angular = modes.iter().map(|m| m.angular.as_ref().filter(|a| a.root.converged).map(|a| a.root.omega)).collect();
                     let modes = modes.into_iter().map(|m| (m.mode, m.check.filter(|c| c.converged).map(|c| c.omega))).collect();
                     Ok(crate::solve::scan::SolvedPoint { modes, angular })

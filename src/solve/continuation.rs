@@ -312,7 +312,7 @@ pub fn continued_spectrum(red: &Reduction, coupling: &mut Coupling, opts: &Spect
                     step *= 2;
                 }
                 // Keep k/2^j in lowest terms of the step size.
-                while step % 2 == 0 && k % 2 == 0 && j > 0 {
+                while step.is_multiple_of(2) && k.is_multiple_of(2) && j > 0 {
                     step /= 2;
                     k /= 2;
                     j -= 1;

@@ -235,7 +235,10 @@ fn run_chunk(
                     opts.guess = None;
                 }
                 match solve(&opts, check) {
-                    Ok(solved) => point(solved, None),
+                    Ok(mut solved) => {
+                        mark_events(&mut solved.modes, prev.as_deref());
+                        point(solved, None)
+                    }
                     Err(e) => point(failed(), Some(e.message)),
                 }
             }
@@ -245,6 +248,33 @@ fn run_chunk(
         }
         if !out(p) {
             return;
+        }
+    }
+}
+
+/// Says what happened to the followed modes at a point: two overtones at
+/// one value have collided (the later one keeps no value), and a mode whose
+/// root finder failed after it converged at the previous point (`prev`)
+/// has disappeared.
+fn mark_events(modes: &mut PointModes, prev: Option<&[Complex64]>) {
+    use super::cf::StopReason;
+    for i in 0..modes.len() {
+        let w = modes[i].0.root.omega;
+        let same = |j: usize, modes: &PointModes| {
+            let r = &modes[j].0.root;
+            r.converged && w.re.is_finite() && w.im.is_finite() && (r.omega - w).norm() <= 1e-8 * w.norm()
+        };
+        if let Some(j) = (0..modes.len()).find(|&j| j != i && (j < i || !modes[i].0.root.converged) && same(j, modes)) {
+            let other = modes[j].0.n;
+            let m = &mut modes[i];
+            m.0.root.converged = false;
+            m.0.root.stop = StopReason::Collided(other);
+            m.1 = None;
+        } else if !modes[i].0.root.converged && prev.is_some_and(|p| p.len() > i) {
+            let r = &mut modes[i].0.root;
+            if !matches!(r.stop, StopReason::Disappeared(_) | StopReason::Collided(_)) {
+                r.stop = StopReason::Disappeared(Box::new(r.stop.clone()));
+            }
         }
     }
 }
@@ -521,7 +551,17 @@ pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Res
             .and_then(|e| e(n))
             .and_then(|b| b.series.seed())
     };
-    let (modes, setup) = qnm_modes_from(&rec, setup, opts, &first)?;
+    let (modes, setup) = match qnm_modes_from(&rec, setup.clone(), opts, &first) {
+        // No estimate seeds an overtone (no barrier): the global spectral method does.
+        Err(e) if e.message.starts_with(super::spectrum::NO_SEED) && opts.seeds.is_empty() && opts.guess.is_none() => {
+            let (seeds, _) = super::continuation::uncoupled_seeds(&r, opts);
+            if seeds.is_empty() {
+                return Err(e);
+            }
+            qnm_modes_from(&rec, setup, &SpectrumOptions { seeds, ..opts.clone() }, &first)?
+        }
+        other => other?,
+    };
     let integ = if check { integration_check(&r, opts, &setup).ok() } else { None };
     Ok(modes
         .into_iter()
@@ -850,6 +890,30 @@ mod tests {
         let vd2 = [1.0, 3.0];
         assert_eq!(join(Some((&vb2, &b)), (&va, &a), (&vc, &jumped), Some((&vd2, &d))), Join::Unjudged);
         assert_eq!(join(Some((&vb, &b)), (&va, &None), (&vc, &c), Some((&vd, &d))), Join::Unjudged);
+    }
+
+    #[test]
+    fn collisions_and_disappearances_are_reported_not_printed_as_values() {
+        let w = Complex64::new(0.5, -0.1);
+        let mut two = vec![mode(w), mode(w)];
+        two[1].0.n = 1;
+        two[1].1 = Some(w);
+        mark_events(&mut two, Some(&[w, w]));
+        assert!(two[0].0.root.converged);
+        assert!(!two[1].0.root.converged && two[1].1.is_none());
+        assert_eq!(two[1].0.root.stop, StopReason::Collided(0));
+        assert!(two[1].0.root.stop.text().starts_with("collided with overtone 0"));
+        // A root finder that failed where the mode was followed from a neighbour.
+        let mut lost = vec![mode(w)];
+        lost[0].0.root.converged = false;
+        lost[0].0.root.stop = StopReason::RootIterations;
+        let mut first = lost.clone();
+        mark_events(&mut lost, Some(&[w]));
+        assert!(matches!(&lost[0].0.root.stop, StopReason::Disappeared(b) if **b == StopReason::RootIterations));
+        assert!(lost[0].0.root.stop.text().starts_with("disappeared along the scan"));
+        // With no neighbour it stays the root finder's own failure.
+        mark_events(&mut first, None);
+        assert_eq!(first[0].0.root.stop, StopReason::RootIterations);
     }
 
     #[test]
