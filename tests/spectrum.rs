@@ -1069,3 +1069,36 @@ fn boundary_problems_are_checked_by_the_global_spectral_method() {
     assert!(v["check_method"].as_str().unwrap().starts_with("no second method ran"), "{v}");
     assert!(v["modes"][0]["check"].is_null());
 }
+
+#[test]
+fn spectrum_plots_the_modes_in_the_complex_plane() {
+    // --region: the modes polished by the continued fraction and confirmed
+    // by direct integration are filled circles; their mirrors −ω̄, polished
+    // by integration alone, open squares; every mode labelled, the fixed
+    // parameters in the title.
+    let dir = std::env::temp_dir().join(format!("canonode-spectrum-plot-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let svg = dir.join("modes.svg");
+    let path = svg.to_string_lossy().to_string();
+    let (_, code, err) =
+        run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--region=-1..1,-1..0", "--format", "json", "--plot", &path]);
+    assert_eq!(code, 0, "{err}");
+    let text = std::fs::read_to_string(&svg).unwrap();
+    assert!(text.contains("modes in the complex plane (omega; M=1, l=2, s=2)"), "title");
+    assert!(text.contains("n=0 (mirror)") && text.contains("n=3"), "labels");
+    assert!(text.contains("confirmed by a second method") && text.contains("one method only"));
+    // A coupled solve without a guess, PNG.
+    let png = dir.join("kerr.png");
+    let ppath = png.to_string_lossy().to_string();
+    let at = "M=1,a=0.5,m=2,s=-2";
+    let mut args = vec!["spectrum", "samples/teukolsky_radial.ode", "--at", at, "--overtones", "0..1", "--format", "json", "--plot", ppath.as_str()];
+    args.extend_from_slice(KERR_COUPLING);
+    let (_, code, err) = run(&args);
+    assert_eq!(code, 0, "{err}");
+    assert!(std::fs::read(&png).unwrap().starts_with(b"\x89PNG"));
+    // The path is checked before any work.
+    let (doc, code, err) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--plot", "modes.pdf"]);
+    assert_eq!(code, 2);
+    assert!(err.contains("--plot") && err.contains("SVG or PNG") && doc.is_null(), "{err}");
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -449,6 +449,49 @@ impl Body {
     }
 }
 
+/// Two methods agree on a mode when they differ by at most this, relative.
+pub const CONFIRMED: f64 = 1e-6;
+
+impl SpectrumReport {
+    /// The converged modes for a picture of the complex plane: each
+    /// labelled by its number, and whether a second method confirmed it
+    /// (agreeing to [`CONFIRMED`]).
+    pub fn plane_modes(&self) -> Vec<super::scan::PlaneMode> {
+        let near = |a: Complex64, b: Complex64| (a - b).norm() <= CONFIRMED * b.norm().max(f64::MIN_POSITIVE);
+        let mode = |n: u32, omega: Complex64, confirmed: bool| super::scan::PlaneMode { label: format!("n={n}"), omega, confirmed };
+        match &self.body {
+            Body::Recurrence(b) => b
+                .modes
+                .iter()
+                .enumerate()
+                .filter(|(_, m)| m.root.converged)
+                .map(|(i, m)| {
+                    let ok = b.checks.get(i).and_then(|c| c.as_ref()).is_some_and(|c| c.converged && near(c.omega, m.root.omega));
+                    mode(m.n, m.root.omega, ok)
+                })
+                .collect(),
+            Body::Ends(b) => b
+                .modes
+                .iter()
+                .enumerate()
+                .filter(|(_, m)| m.root.converged)
+                .map(|(i, m)| {
+                    let ok = b.checks.get(i).and_then(|c| c.as_ref()).and_then(|c| c.omega).is_some_and(|w| near(w, m.root.omega));
+                    mode(m.n, m.root.omega, ok)
+                })
+                .collect(),
+            Body::Bound(b) => b
+                .states
+                .iter()
+                .zip(&b.checks)
+                .filter(|(s, _)| s.converged)
+                .map(|(s, c)| mode(s.n, s.value, matches!(c, Some(super::shoot::BoundCheck::Agrees(r)) if near(r.omega, s.value))))
+                .collect(),
+            Body::Estimates(_) | Body::Exact => Vec::new(),
+        }
+    }
+}
+
 /// The numeric route of [`spectrum`].
 fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
     if !(1..=super::wkb::MAX_ORDER).contains(&req.wkb_order) {

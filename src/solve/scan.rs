@@ -599,14 +599,107 @@ pub(crate) fn register_font() {
 /// parameters gets one colour per pass (a value of the other parameters,
 /// in the legend); `fixed` (the fixed parameters as text) goes in the titles.
 pub fn plot(path: &std::path::Path, points: &[ScanPoint], params: &[String], freq: &str, fixed: &str) -> std::result::Result<(), String> {
+    struct Survey<'a>(&'a [ScanPoint], &'a [String], &'a str, &'a str);
+    impl Figure for Survey<'_> {
+        fn draw<DB: plotters::prelude::DrawingBackend>(&self, root: Area<DB>) -> std::result::Result<(), String> {
+            draw(root, self.0, self.1, self.2, self.3)
+        }
+    }
+    write_figure(path, (1200, 500), &Survey(points, params, freq, fixed))
+}
+
+/// A drawing area of plotters.
+type Area<DB> = plotters::drawing::DrawingArea<DB, plotters::coord::Shift>;
+
+/// A picture that can be drawn on any plotters backend.
+trait Figure {
+    fn draw<DB: plotters::prelude::DrawingBackend>(&self, root: Area<DB>) -> std::result::Result<(), String>;
+}
+
+/// Writes a figure as SVG or PNG by the file's extension, `size` pixels,
+/// with the built-in font.
+fn write_figure<F: Figure>(path: &std::path::Path, size: (u32, u32), fig: &F) -> std::result::Result<(), String> {
     use plotters::prelude::*;
     register_font();
     let ext = path.extension().and_then(|e| e.to_str()).map(|e| e.to_ascii_lowercase());
     match ext.as_deref() {
-        Some("svg") => draw(SVGBackend::new(path, (1200, 500)).into_drawing_area(), points, params, freq, fixed),
-        Some("png") => draw(BitMapBackend::new(path, (1200, 500)).into_drawing_area(), points, params, freq, fixed),
+        Some("svg") => fig.draw(SVGBackend::new(path, size).into_drawing_area()),
+        Some("png") => fig.draw(BitMapBackend::new(path, size).into_drawing_area()),
         _ => Err("the plot is written as SVG or PNG: give FILE.svg or FILE.png".into()),
     }
+}
+
+/// The range of an axis over `values`, padded by 8 % (at least 1e-6), with
+/// `top` times the padding again above (room for a legend).
+fn axis_range(values: impl Iterator<Item = f64>, top: f64) -> (f64, f64) {
+    let (lo, hi) = values.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| (a.min(x), b.max(x)));
+    if !lo.is_finite() {
+        return (0.0, 1.0);
+    }
+    let pad = ((hi - lo) * 0.08).max(1e-6);
+    (lo - pad, hi + (1.0 + top) * pad)
+}
+
+/// One mode of a spectrum in the complex plane.
+#[derive(Clone, Debug)]
+pub struct PlaneMode {
+    /// Its label (the overtone, e.g. "n=0").
+    pub label: String,
+    /// The value.
+    pub omega: Complex64,
+    /// Whether a second method confirmed it.
+    pub confirmed: bool,
+}
+
+/// Writes the modes of a spectrum in the complex plane (Re ω across, Im ω
+/// up), SVG or PNG by the extension: filled circles for the modes a second
+/// method confirmed, open squares for the others, each labelled; `fixed`
+/// (the fixed parameters as text) goes in the title.
+pub fn plot_plane(path: &std::path::Path, modes: &[PlaneMode], freq: &str, fixed: &str) -> std::result::Result<(), String> {
+    struct Plane<'a>(&'a [PlaneMode], &'a str, &'a str);
+    impl Figure for Plane<'_> {
+        fn draw<DB: plotters::prelude::DrawingBackend>(&self, root: Area<DB>) -> std::result::Result<(), String> {
+            use plotters::prelude::*;
+            let (modes, freq, fixed) = (self.0, self.1, self.2);
+            root.fill(&WHITE).map_err(|e| e.to_string())?;
+            let (x0, x1) = axis_range(modes.iter().map(|m| m.omega.re), 0.0);
+            let (y0, y1) = axis_range(modes.iter().map(|m| m.omega.im), 4.0);
+            let context = if fixed.is_empty() { freq.to_string() } else { format!("{freq}; {fixed}") };
+            let mut chart = ChartBuilder::on(&root)
+                .caption(format!("modes in the complex plane ({context})"), ("sans-serif", 18))
+                .margin(12)
+                .x_label_area_size(36)
+                .y_label_area_size(64)
+                .build_cartesian_2d(x0..x1, y0..y1)
+                .map_err(|e| e.to_string())?;
+            chart.configure_mesh().x_desc(format!("Re {freq}")).y_desc(format!("Im {freq}")).draw().map_err(|e| e.to_string())?;
+            let at = |m: &PlaneMode| (m.omega.re, m.omega.im);
+            let sure: Vec<(f64, f64)> = modes.iter().filter(|m| m.confirmed).map(at).collect();
+            let single: Vec<(f64, f64)> = modes.iter().filter(|m| !m.confirmed).map(at).collect();
+            chart
+                .draw_series(sure.into_iter().map(|p| Circle::new(p, 6, BLUE.filled())))
+                .map_err(|e| e.to_string())?
+                .label("confirmed by a second method")
+                .legend(|(x, y)| Circle::new((x, y), 6, BLUE.filled()));
+            chart
+                .draw_series(single.into_iter().map(|p| EmptyElement::at(p) + Rectangle::new([(-6, -6), (6, 6)], RED.stroke_width(2))))
+                .map_err(|e| e.to_string())?
+                .label("one method only")
+                .legend(|(x, y)| Rectangle::new([(x - 6, y - 6), (x + 6, y + 6)], RED.stroke_width(2)));
+            chart
+                .draw_series(modes.iter().map(|m| EmptyElement::at(at(m)) + Text::new(m.label.clone(), (8, -18), ("sans-serif", 13).into_font())))
+                .map_err(|e| e.to_string())?;
+            chart
+                .configure_series_labels()
+                .position(SeriesLabelPosition::UpperRight)
+                .background_style(WHITE.mix(0.8))
+                .border_style(BLACK)
+                .draw()
+                .map_err(|e| e.to_string())?;
+            root.present().map_err(|e| e.to_string())
+        }
+    }
+    write_figure(path, (800, 600), &Plane(modes, freq, fixed))
 }
 
 /// The points of a plot's series: (x, y) pairs.
@@ -646,17 +739,11 @@ fn draw<DB: plotters::prelude::DrawingBackend>(
     let int_pick: [&Pick; 3] = [&|_, (_, c)| c.map(|c| (c.re, c.im)), &|p, (_, c)| c.map(|c| (x(p), c.re)), &|p, (_, c)| c.map(|c| (x(p), c.im))];
     let entries = if several { groups.len() + 1 } else { 2 };
     let range = |v: &[(f64, f64)], axis: usize| -> (f64, f64) {
-        let it = v.iter().map(|p| if axis == 0 { p.0 } else { p.1 });
-        let (lo, hi) = it.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| (a.min(x), b.max(x)));
-        if !lo.is_finite() {
-            return (0.0, 1.0);
-        }
-        let pad = ((hi - lo) * 0.08).max(1e-6);
         // Room at the top for the legend (upper right), so it hides no point.
         if axis == 1 {
-            (lo - pad, hi + if several { 2.0 + 1.5 * entries as f64 } else { 4.0 } * pad)
+            axis_range(v.iter().map(|p| p.1), if several { 1.0 + 1.5 * entries as f64 } else { 3.0 })
         } else {
-            (lo - pad, hi + pad)
+            axis_range(v.iter().map(|p| p.0), 0.0)
         }
     };
     let param = params.last().map(String::as_str).unwrap_or("");
