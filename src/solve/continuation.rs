@@ -410,16 +410,7 @@ fn unreached(
     let why = format!("no seed: the continuation in {} from 0 {}; give --guess", path.parameter, path.stop.text());
     let modes = (opts.overtones.0..=opts.overtones.1)
         .map(|n| {
-            let root = CfRoot {
-                omega: Complex64::new(f64::NAN, f64::NAN),
-                converged: false,
-                depth: 0,
-                depth_change: f64::NAN,
-                residual: f64::NAN,
-                iterations: 0,
-                stop: StopReason::Rejected(why.clone()),
-                inversion: n as usize,
-            };
+            let root = CfRoot::failed(Complex64::new(f64::NAN, f64::NAN), n as usize, StopReason::Rejected(why.clone()));
             let mode = Mode { n, root, seed: (Complex64::new(f64::NAN, f64::NAN), "none".into()), method: ModeMethod::ContinuedFraction };
             CoupledMode { mode, angular: None, check: None }
         })

@@ -247,16 +247,7 @@ impl Angular {
     pub fn eigenvalue_at(&self, values: &[Complex64], seed: Complex64, tol: f64) -> CfRoot {
         match try_numeric_at(&self.rec, values, self.eigen) {
             Ok(num) => find_root(&num, self.index, seed, tol, 16, 1 << 14),
-            Err(e) => CfRoot {
-                omega: seed,
-                converged: false,
-                depth: 0,
-                depth_change: f64::NAN,
-                residual: f64::NAN,
-                iterations: 0,
-                stop: super::cf::StopReason::Rejected(e.message),
-                inversion: self.index,
-            },
+            Err(e) => CfRoot::failed(seed, self.index, super::cf::StopReason::Rejected(e.message)),
         }
     }
 }
@@ -312,19 +303,8 @@ impl<'a> Evaluator<'a> {
             Some(s) => s,
             None => {
                 let Some((seed, _)) = &ang.seed else {
-                    return CfRoot {
-                        omega: Complex64::new(f64::NAN, f64::NAN),
-                        converged: false,
-                        depth: 0,
-                        depth_change: f64::NAN,
-                        residual: f64::NAN,
-                        iterations: 0,
-                        stop: super::cf::StopReason::Rejected(format!(
-                            "no first value of the angular eigenvalue {}: give --angular-guess",
-                            ang.eigen_name
-                        )),
-                        inversion: ang.index,
-                    };
+                    let why = format!("no first value of the angular eigenvalue {}: give --angular-guess", ang.eigen_name);
+                    return CfRoot::failed(Complex64::new(f64::NAN, f64::NAN), ang.index, super::cf::StopReason::Rejected(why));
                 };
                 let mut zero = targets.clone();
                 for (a, j) in zero.iter_mut().zip(&ang.joint_of) {

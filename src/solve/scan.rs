@@ -629,6 +629,21 @@ fn write_figure<F: Figure>(path: &std::path::Path, size: (u32, u32), fig: &F) ->
     }
 }
 
+/// Draws a chart's legend in its upper right corner, on a pale ground.
+pub(crate) fn legend<'a, DB: plotters::prelude::DrawingBackend + 'a, CT: plotters::coord::CoordTranslate>(
+    chart: &mut plotters::chart::ChartContext<'a, DB, CT>,
+) -> std::result::Result<(), String> {
+    use plotters::prelude::*;
+    chart
+        .configure_series_labels()
+        .position(SeriesLabelPosition::UpperRight)
+        .background_style(WHITE.mix(0.8))
+        .border_style(BLACK)
+        .draw()
+        .map(|_| ())
+        .map_err(|e| e.to_string())
+}
+
 /// The range of an axis over `values`, padded by 8 % (at least 1e-6), with
 /// `top` times the padding again above (room for a legend).
 fn axis_range(values: impl Iterator<Item = f64>, top: f64) -> (f64, f64) {
@@ -689,13 +704,7 @@ pub fn plot_plane(path: &std::path::Path, modes: &[PlaneMode], freq: &str, fixed
             chart
                 .draw_series(modes.iter().map(|m| EmptyElement::at(at(m)) + Text::new(m.label.clone(), (8, -18), ("sans-serif", 13).into_font())))
                 .map_err(|e| e.to_string())?;
-            chart
-                .configure_series_labels()
-                .position(SeriesLabelPosition::UpperRight)
-                .background_style(WHITE.mix(0.8))
-                .border_style(BLACK)
-                .draw()
-                .map_err(|e| e.to_string())?;
+            legend(&mut chart)?;
             root.present().map_err(|e| e.to_string())
         }
     }
@@ -802,13 +811,7 @@ fn draw<DB: plotters::prelude::DrawingBackend>(
             .map_err(|e| e.to_string())?
             .label("direct integration")
             .legend(move |(x, y)| Cross::new((x, y), 3, cross.stroke_width(2)));
-        chart
-            .configure_series_labels()
-            .position(SeriesLabelPosition::UpperRight)
-            .background_style(WHITE.mix(0.8))
-            .border_style(BLACK)
-            .draw()
-            .map_err(|e| e.to_string())?;
+        legend(&mut chart)?;
     }
     root.present().map_err(|e| e.to_string())
 }
