@@ -362,3 +362,37 @@ fn a_two_parameter_survey_is_plotted_one_colour_per_pass() {
     }
     std::fs::remove_dir_all(&d).ok();
 }
+
+#[test]
+fn scans_need_no_guess_at_their_first_point() {
+    // A coupled scan over the spin with no --guess: the first point starts
+    // from the uncoupled limit (a = 0) and is continued in a; a = 0.9 gives
+    // 0.67161 − 0.06487i (Leaver 1985; Berti, Cardoso & Will 2006, from
+    // memory; M = 1, s = −2, l = m = 2, n = 0).
+    let mut args = vec!["scan", "samples/teukolsky_radial.ode", "--vary", "a=0.8:0.9:0.1", "--at", "M=1,m=2,s=-2", "--no-check", "--format", "json"];
+    args.extend(KERR);
+    let doc: serde_json::Value = serde_json::from_str(&ok(&args)).unwrap();
+    let m = &doc["points"][1]["modes"][0];
+    assert_eq!(m["converged"], true, "{m}");
+    let w = (m["omega"][0].as_f64().unwrap(), m["omega"][1].as_f64().unwrap());
+    assert!((w.0 - 0.67161).abs() < 5e-6 && (w.1 + 0.06487).abs() < 5e-6, "{w:?}");
+    // An uncoupled equation without a barrier (the Teukolsky radial
+    // equation at a fixed separation constant): the global spectral method
+    // seeds the first point. a = 0, λ = 4 is Schwarzschild s = 2, l = 2
+    // (Leaver 1985: 0.37367168 − 0.08896232i).
+    let doc: serde_json::Value = serde_json::from_str(&ok(&[
+        "scan",
+        "samples/teukolsky_radial.ode",
+        "--vary",
+        "m=0:0.1:0.1",
+        "--at",
+        "M=1,a=0,s=-2,lam=4",
+        "--no-check",
+        "--format",
+        "json",
+    ]))
+    .unwrap();
+    let m = &doc["points"][0]["modes"][0];
+    let w = (m["omega"][0].as_f64().unwrap(), m["omega"][1].as_f64().unwrap());
+    assert!((w.0 - 0.37367168).abs() < 5e-9 && (w.1 + 0.08896232).abs() < 5e-9, "{w:?}");
+}

@@ -119,6 +119,18 @@ pub(crate) fn vary(text: &str, names: &[String], freq: usize) -> Result<(String,
 /// An output path (`--plot`, `-o`) checked writable before the work starts:
 /// an existing file is opened for writing (not truncated), a new one is
 /// created and removed again.
+/// A `--plot` path: FILE.svg or FILE.png, writable (checked before any work).
+pub(crate) fn plot_path(path: &str) -> Result<(), Failure> {
+    let lower = path.to_ascii_lowercase();
+    if !(lower.ends_with(".svg") || lower.ends_with(".png")) {
+        return Err(crate::error::Error::new(crate::error::ErrorKind::Usage, "the plot is written as SVG or PNG: give FILE.svg or FILE.png")
+            .at(crate::syntax::Span::new(0, path.len().max(1)))
+            .in_option("--plot")
+            .into());
+    }
+    writable(path, "--plot")
+}
+
 pub(crate) fn writable(path: &str, option: &str) -> Result<(), Failure> {
     let p = std::path::Path::new(path);
     let fail = |e: std::io::Error| Failure::Plain(format!("{option}: error: cannot write {path:?}: {e}"), 2);

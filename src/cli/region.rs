@@ -8,6 +8,7 @@ use super::values::fmt_complex;
 use super::Failure;
 use crate::error::{Error, ErrorKind};
 use crate::solve::global::{self, Region};
+use crate::solve::scan::PlaneMode;
 use num_complex::Complex64;
 
 fn bad(msg: String) -> Failure {
@@ -78,7 +79,7 @@ pub(crate) fn region_modes(
     src_name: &str,
     red: &crate::ode::Reduction,
     req: &crate::solve::request::SpectrumRequest,
-) -> Result<String, Failure> {
+) -> Result<(String, Vec<PlaneMode>, String), Failure> {
     let region = parse_region(text)?;
     let setup = crate::solve::request::region_setup(red, req)?;
     let (red, bp, opts, classic) = (&setup.red, &setup.problem, &setup.opts, setup.classic);
@@ -173,7 +174,22 @@ pub(crate) fn region_modes(
     let re_ = |v: f64| fmt_num(v);
     let region_text =
         format!("Re {fname} in [{}, {}], Im {fname} in [{}, {}]", re_(region.re.0), re_(region.re.1), re_(region.im.0), re_(region.im.1));
-    match format {
+    // For --plot: each mode with its number (a mirror and a purely imaginary
+    // mode say so), confirmed when the other method agreed.
+    let plane: Vec<PlaneMode> = rows
+        .iter()
+        .map(|r| {
+            let label = match (r.mirror_of, r.family) {
+                (Some(m), _) => format!("n={m} (mirror)"),
+                (None, Family::PurelyImaginary) => format!("n={} (imaginary)", r.n),
+                (None, Family::NegativeFrequency) => format!("n={} (Re<0)", r.n),
+                (None, Family::Oscillating) => format!("n={}", r.n),
+            };
+            let confirmed = r.check.is_some_and(|(_, w)| (w - r.omega).norm() <= crate::solve::request::CONFIRMED * r.omega.norm().max(scale));
+            PlaneMode { label, omega: r.omega, confirmed }
+        })
+        .collect();
+    let text = match format {
         SpecFormat::Json => {
             let ms: Vec<serde_json::Value> = rows
                 .iter()
@@ -203,7 +219,7 @@ pub(crate) fn region_modes(
                 "modes": ms,
                 "not_confirmed": rej,
             });
-            Ok(format!("{}\n", serde_json::to_string_pretty(&v).unwrap_or_default()))
+            format!("{}\n", serde_json::to_string_pretty(&v).unwrap_or_default())
         }
         SpecFormat::Csv => {
             let mut o =
@@ -228,7 +244,7 @@ pub(crate) fn region_modes(
                     cd
                 ));
             }
-            Ok(o)
+            o
         }
         SpecFormat::Text => {
             let mut o = String::new();
@@ -278,9 +294,10 @@ pub(crate) fn region_modes(
             for (w, why) in &rejected {
                 o.push_str(&format!("  not a confirmed mode: spectral value {} ({why})\n", fmt_complex(w.re, w.im)));
             }
-            Ok(o)
+            o
         }
-    }
+    };
+    Ok((text, plane, fname.to_string()))
 }
 
 /// A number for the region's description.

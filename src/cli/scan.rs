@@ -80,6 +80,7 @@ pub(crate) fn run(a: &ScanArgs) -> u8 {
     extra.push(("--at".to_string(), a.at.clone()));
     extra.extend(a.shard.iter().map(|s| ("--shard".to_string(), s.clone())));
     extra.extend(a.guess.iter().map(|g| ("--guess".to_string(), g.clone())));
+    extra.extend(a.plot.iter().map(|p| ("--plot".to_string(), p.clone())));
     extra.extend(a.couple.option_texts());
     run_command(&a.input, &extra, |src| compute(a, src))
 }
@@ -92,11 +93,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     // Checked before any work (the same rules as in `spectrum`), so that a
     // long scan is never lost to a bad option or file name.
     if let Some(path) = &a.plot {
-        let lower = path.to_ascii_lowercase();
-        if !(lower.ends_with(".svg") || lower.ends_with(".png")) {
-            return Err(usage("the plot is written as SVG or PNG: give FILE.svg or FILE.png", "--plot", path.len()));
-        }
-        super::options::writable(path, "--plot")?;
+        super::options::plot_path(path)?;
     }
     let tol = super::options::tolerance(a.tol)?;
     let (o0, o1) = super::options::overtones(&a.overtones)?;
@@ -271,7 +268,13 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
                         angular_guess,
                     )?;
                     let none = |_: u32| None;
-                    let (_, modes) = crate::solve::coupled::coupled_spectrum(&red, &c, o, check, &none)?;
+                    let modes = if o.seeds.is_empty() && o.guess.is_none() {
+                        // No seed (the first point, or after a failed one): from the uncoupled limit.
+                        let mut c = c;
+                        crate::solve::continuation::continued_spectrum(&red, &mut c, o, check)?.1
+                    } else {
+                        crate::solve::coupled::coupled_spectrum(&red, &c, o, check, &none)?.1
+                    };
                     let angular = modes.iter().map(|m| m.angular.as_ref().filter(|a| a.root.converged).map(|a| a.root.omega)).collect();
                     let modes = modes.into_iter().map(|m| (m.mode, m.check.filter(|c| c.converged).map(|c| c.omega))).collect();
                     Ok(crate::solve::scan::SolvedPoint { modes, angular })

@@ -211,6 +211,9 @@ pub(crate) struct SpectrumArgs {
     /// Relative tolerance on ω.
     #[arg(long = "tol", default_value_t = 1e-10)]
     tol: f64,
+    /// Write a picture of the modes found in the complex plane, SVG or PNG by the extension (a second method's confirmation marked).
+    #[arg(long = "plot", value_name = "FILE.svg|FILE.png")]
+    pub(crate) plot: Option<String>,
     /// Output format.
     #[arg(long = "format", value_enum, default_value = "text")]
     format: SpecFormat,
@@ -278,6 +281,7 @@ pub(crate) fn run(a: &SpectrumArgs) -> u8 {
     let mut extra = vec![("--at".to_string(), a.at.clone()), ("--overtones".to_string(), a.overtones.clone())];
     extra.extend(a.guess.iter().map(|g| ("--guess".to_string(), g.clone())));
     extra.extend(a.polynomial_degree.iter().map(|g| ("--polynomial-degree".to_string(), g.clone())));
+    extra.extend(a.plot.iter().map(|p| ("--plot".to_string(), p.clone())));
     extra.extend(a.couple.option_texts());
     run_command(&a.input, &extra, |src| compute(a, src))
 }
@@ -344,6 +348,9 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     if let Some(p) = &a.mode_functions {
         super::mode_file::check_path(p)?;
     }
+    if let Some(p) = &a.plot {
+        super::options::plot_path(p)?;
+    }
     let red = a.input.reduce(src)?;
     let coupled_input = a.couple.read(&red.field)?;
     let (asrc, couple) = match coupled_input {
@@ -362,7 +369,9 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     };
     let req = request(a, &red, overtones, guess, couple)?;
     if let Some(text) = &a.region {
-        return super::region::region_modes(text, a.grid, a.format, &src.name, &red, &req);
+        let (out, modes, fname) = super::region::region_modes(text, a.grid, a.format, &src.name, &red, &req)?;
+        write_plot(a, &fname, &modes)?;
+        return Ok(out);
     }
     let report = crate::solve::request::spectrum(&red, &req).map_err(|e| match (&e.origin, &asrc) {
         // Errors of the angular equation are rendered against its own text.
@@ -378,11 +387,20 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     if let (Some(path), Some(f)) = (&a.mode_functions, &report.mode_functions) {
         super::mode_file::write(path, &red.var, f.normalisation, &f.modes)?;
     }
+    write_plot(a, &report.frequency, &report.plane_modes())?;
     Ok(match a.format {
         SpecFormat::Json => format!("{}\n", serde_json::to_string_pretty(&crate::emit::spectrum::json(&report)).unwrap_or_default()),
         SpecFormat::Csv => crate::emit::spectrum::csv(&report),
         SpecFormat::Text => crate::emit::spectrum::text(&report, &src.name),
     })
+}
+
+/// With `--plot`: the modes in the complex plane, the fixed parameters in the title.
+fn write_plot(a: &SpectrumArgs, freq: &str, modes: &[crate::solve::scan::PlaneMode]) -> Result<(), Failure> {
+    let Some(path) = &a.plot else { return Ok(()) };
+    let fixed = a.at.split(',').map(str::trim).filter(|t| !t.is_empty()).collect::<Vec<_>>().join(", ");
+    crate::solve::scan::plot_plane(std::path::Path::new(path), modes, freq, &fixed)
+        .map_err(|e| Failure::Plain(format!("error: cannot write the plot {path}: {e}"), 1))
 }
 
 pub(crate) use crate::solve::request::{for_angular_only, link_option, linked_radial};

@@ -339,8 +339,45 @@ fn recurrence_json(fname: &str, b: &RecurrenceReport) -> Value {
             "coupling".into(),
             json!({"angular": c.name, "eigenvalue": ang.eigen_name, "index": ang.index, "about": ang.ends.0, "choices": ang.choices, "links": c.links}),
         );
+        if let Some(p) = &c.path {
+            m.insert("continuation".into(), path_json(p));
+        }
     }
     doc
+}
+
+/// The continuation from the uncoupled limit of a coupled solve without a seed.
+fn path_json(p: &crate::solve::continuation::Path) -> Value {
+    json!({
+        "parameter": p.parameter,
+        "from": 0,
+        "to": pair(p.target),
+        "reached": p.reached,
+        "steps_accepted": p.accepted,
+        "steps_rejected": p.rejected,
+        "omega_path_length": p.length,
+        "uncoupled_modes": p.start.iter().map(|w| opt_pair(*w)).collect::<Vec<_>>(),
+        "uncoupled_seeds_from": p.start_from,
+        "stop": p.stop.text(),
+    })
+}
+
+fn path_text(p: &crate::solve::continuation::Path) -> String {
+    let start: Vec<String> = p.start.iter().map(|w| w.map_or("not converged".into(), |w| fmt_complex(w.re, w.im))).collect();
+    let lengths: Vec<String> = p.length.iter().map(|l| format!("{l:.3e}")).collect();
+    // The value as given (shortest text of the double), not 17 digits.
+    let target = if p.target.im == 0.0 { format!("{}", p.target.re) } else { format!("{}{:+}i", p.target.re, p.target.im) };
+    format!(
+        "  continuation (no --guess): in {} from 0 to {}: {} steps accepted, {} rejected, path length in ω {} (per overtone); {}; uncoupled modes {} (seeds from {})\n",
+        p.parameter,
+        target,
+        p.accepted,
+        p.rejected,
+        lengths.join(", "),
+        p.stop.text(),
+        start.join(", "),
+        p.start_from
+    )
 }
 
 fn recurrence_csv(b: &RecurrenceReport) -> String {
@@ -406,6 +443,9 @@ fn recurrence_text(fname: &str, var: &str, source: &str, b: &RecurrenceReport) -
         if let Some((_, from)) = &ang.seed {
             o.push_str(&format!("  angular seed: {from}\n"));
         }
+        if let Some(p) = &c.path {
+            o.push_str(&path_text(p));
+        }
     }
     o.push_str(&format!("  series about {} = {}: {}\n", var, setup.horizon, setup.ansatz));
     for c in &setup.choices {
@@ -434,13 +474,8 @@ fn recurrence_text(fname: &str, var: &str, source: &str, b: &RecurrenceReport) -
                 r.residual
             ));
         } else {
-            o.push_str(&format!(
-                "  {:<2} NOT CONVERGED: {} (seed {} from {})\n",
-                m.n,
-                r.stop.text(),
-                fmt_complex(m.seed.0.re, m.seed.0.im),
-                m.seed.1
-            ));
+            let seed = if m.seed.0.is_nan() { String::new() } else { format!(" (seed {} from {})", fmt_complex(m.seed.0.re, m.seed.0.im), m.seed.1) };
+            o.push_str(&format!("  {:<2} NOT CONVERGED: {}{seed}\n", m.n, r.stop.text()));
         }
         match b.checks.get(i).and_then(|c| c.as_ref()) {
             Some(c) if c.converged => o.push_str(&format!(

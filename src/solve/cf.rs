@@ -234,6 +234,12 @@ pub enum StopReason {
     Singular,
     /// A root was found but rejected, with the reason.
     Rejected(String),
+    /// Along a scan: the root coincides with the one of this other overtone
+    /// (two followed modes met, or one root finder jumped to the other's mode).
+    Collided(u32),
+    /// Along a scan: the mode converged at the previous point and its root
+    /// finder failed here, with the failure.
+    Disappeared(Box<StopReason>),
 }
 
 impl StopReason {
@@ -246,6 +252,12 @@ impl StopReason {
             StopReason::NotThreeTerm => "the recurrence does not have three terms".into(),
             StopReason::Singular => "the continued fraction could not be evaluated (a zero denominator)".into(),
             StopReason::Rejected(why) => why.clone(),
+            StopReason::Collided(n) => format!(
+                "collided with overtone {n}: both converge to the same value here (the two modes meet, or the root finder jumped to the other mode); no value is reported for this one"
+            ),
+            StopReason::Disappeared(why) => {
+                format!("disappeared along the scan: the mode followed from the previous point was not found here ({})", why.text())
+            }
         }
     }
 }

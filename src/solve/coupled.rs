@@ -247,16 +247,7 @@ impl Angular {
     pub fn eigenvalue_at(&self, values: &[Complex64], seed: Complex64, tol: f64) -> CfRoot {
         match try_numeric_at(&self.rec, values, self.eigen) {
             Ok(num) => find_root(&num, self.index, seed, tol, 16, 1 << 14),
-            Err(e) => CfRoot {
-                omega: seed,
-                converged: false,
-                depth: 0,
-                depth_change: f64::NAN,
-                residual: f64::NAN,
-                iterations: 0,
-                stop: super::cf::StopReason::Rejected(e.message),
-                inversion: self.index,
-            },
+            Err(e) => CfRoot::failed(seed, self.index, super::cf::StopReason::Rejected(e.message)),
         }
     }
 }
@@ -312,19 +303,8 @@ impl<'a> Evaluator<'a> {
             Some(s) => s,
             None => {
                 let Some((seed, _)) = &ang.seed else {
-                    return CfRoot {
-                        omega: Complex64::new(f64::NAN, f64::NAN),
-                        converged: false,
-                        depth: 0,
-                        depth_change: f64::NAN,
-                        residual: f64::NAN,
-                        iterations: 0,
-                        stop: super::cf::StopReason::Rejected(format!(
-                            "no first value of the angular eigenvalue {}: give --angular-guess",
-                            ang.eigen_name
-                        )),
-                        inversion: ang.index,
-                    };
+                    let why = format!("no first value of the angular eigenvalue {}: give --angular-guess", ang.eigen_name);
+                    return CfRoot::failed(Complex64::new(f64::NAN, f64::NAN), ang.index, super::cf::StopReason::Rejected(why));
                 };
                 let mut zero = targets.clone();
                 for (a, j) in zero.iter_mut().zip(&ang.joint_of) {
@@ -462,6 +442,18 @@ pub fn try_coupling(
     Ok(Coupling { names, links: links.to_vec(), angular: ang, fixed, freq })
 }
 
+/// The radial reduction with the known values substituted exactly (the
+/// linked parameters and the frequency kept), and its quasinormal-mode
+/// recurrence with the set-up.
+pub fn radial_recurrence(red: &Reduction, coupling: &Coupling, opts: &SpectrumOptions) -> Result<(Reduction, (Recurrence, Setup))> {
+    let k = &red.field;
+    let mut keep: Vec<usize> = coupling.links.iter().filter(|l| !l.angular).filter_map(|l| k.names().iter().position(|x| *x == l.target)).collect();
+    keep.push(opts.freq);
+    let red = super::spectrum::substitute_keeping(red, &opts.values, &keep)?;
+    let rs = super::spectrum::qnm_recurrence(&red, opts)?;
+    Ok((red, rs))
+}
+
 /// One mode of a coupled solve with its evidence.
 #[derive(Clone, Debug)]
 pub struct CoupledMode {
@@ -484,12 +476,24 @@ pub fn coupled_spectrum(
     check: bool,
     first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
 ) -> Result<(Setup, Vec<CoupledMode>)> {
+    let (red, (rec, setup)) = radial_recurrence(red, coupling, opts)?;
+    let out = coupled_solve(&red, &rec, &setup, coupling, opts, check, first_estimate)?;
+    Ok((setup, out))
+}
+
+/// [`coupled_spectrum`] on a radial reduction (`red`, substituted as far as
+/// it is) and its recurrence already derived.
+pub fn coupled_solve(
+    red: &Reduction,
+    rec: &Recurrence,
+    setup: &Setup,
+    coupling: &Coupling,
+    opts: &SpectrumOptions,
+    check: bool,
+    first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
+) -> Result<Vec<CoupledMode>> {
     let k = &red.field;
-    let mut keep: Vec<usize> = coupling.links.iter().filter(|l| !l.angular).filter_map(|l| k.names().iter().position(|x| *x == l.target)).collect();
-    keep.push(opts.freq);
-    let red = super::spectrum::substitute_keeping(red, &opts.values, &keep)?;
-    let (rec, setup) = super::spectrum::qnm_recurrence(&red, opts)?;
-    let pairs = coupled_modes(coupling, &rec, &setup, opts, &red.field, first_estimate)?;
+    let pairs = coupled_modes(coupling, rec, setup, opts, &red.field, first_estimate)?;
     let mut out = Vec::new();
     for (mode, angular) in pairs {
         let check = match (&angular, check && mode.root.converged) {
@@ -500,11 +504,11 @@ pub fn coupled_spectrum(
                         o.values[i] = GRat { re: super::spectrum::exact_double(v.re).re, im: super::spectrum::exact_double(v.im).re };
                     }
                 }
-                super::spectrum::integration_check(&red, &o, &setup).ok().map(|f| f(mode.root.omega * Complex64::new(1.0 + 1e-4, 1e-4)))
+                super::spectrum::integration_check(red, &o, setup).ok().map(|f| f(mode.root.omega * Complex64::new(1.0 + 1e-4, 1e-4)))
             }
             _ => None,
         };
         out.push(CoupledMode { mode, angular, check });
     }
-    Ok((setup, out))
+    Ok(out)
 }

@@ -10,6 +10,7 @@ pub mod wkb;
 
 pub mod boundary;
 pub mod closed;
+pub mod continuation;
 pub mod ends;
 pub mod global;
 pub mod integrate;

@@ -185,6 +185,8 @@ pub struct CoupledReport {
     pub links: Vec<String>,
     /// The angular eigenvalue and linked values at each mode.
     pub values: Vec<Option<CoupledValue>>,
+    /// With no seed given: the continuation from the uncoupled limit.
+    pub path: Option<super::continuation::Path>,
 }
 
 /// Modes by direct integration between the ends of a boundary problem.
@@ -567,6 +569,50 @@ impl Body {
     }
 }
 
+/// Two methods agree on a mode when they differ by at most this, relative.
+pub const CONFIRMED: f64 = 1e-6;
+
+impl SpectrumReport {
+    /// The converged modes for a picture of the complex plane: each
+    /// labelled by its number, and whether a second method confirmed it
+    /// (agreeing to [`CONFIRMED`]).
+    pub fn plane_modes(&self) -> Vec<super::scan::PlaneMode> {
+        let near = |a: Complex64, b: Complex64| (a - b).norm() <= CONFIRMED * b.norm().max(f64::MIN_POSITIVE);
+        let mode = |n: u32, omega: Complex64, confirmed: bool| super::scan::PlaneMode { label: format!("n={n}"), omega, confirmed };
+        match &self.body {
+            Body::Recurrence(b) => b
+                .modes
+                .iter()
+                .enumerate()
+                .filter(|(_, m)| m.root.converged)
+                .map(|(i, m)| {
+                    let ok = b.checks.get(i).and_then(|c| c.as_ref()).is_some_and(|c| c.converged && near(c.omega, m.root.omega));
+                    mode(m.n, m.root.omega, ok)
+                })
+                .collect(),
+            Body::Ends(b) => b
+                .modes
+                .iter()
+                .enumerate()
+                .filter(|(_, m)| m.root.converged)
+                .map(|(i, m)| {
+                    let ok = b.checks.get(i).and_then(|c| c.as_ref()).and_then(|c| c.omega).is_some_and(|w| near(w, m.root.omega));
+                    mode(m.n, m.root.omega, ok)
+                })
+                .collect(),
+            Body::Bound(b) => b
+                .states
+                .iter()
+                .zip(&b.checks)
+                .filter(|(s, _)| s.converged)
+                .map(|(s, c)| mode(s.n, s.value, matches!(c, Some(super::shoot::BoundCheck::Agrees(r)) if near(r.omega, s.value))))
+                .collect(),
+            Body::Periodic(b) => b.solution.modes.iter().map(|m| mode(m.n, m.value, m.check.converged && near(m.check.omega, m.value))).collect(),
+            Body::Estimates(_) | Body::Exact => Vec::new(),
+        }
+    }
+}
+
 /// The numeric route of [`spectrum`].
 fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
     if !(1..=super::wkb::MAX_ORDER).contains(&req.wkb_order) {
@@ -940,9 +986,19 @@ fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) 
 /// Quasinormal modes of a radial equation coupled to an angular one.
 fn coupled(red: &Reduction, req: &SpectrumRequest, c: &CoupleRequest, opts: &SpectrumOptions) -> Result<RecurrenceReport> {
     let fixed: Vec<(String, GRat)> = req.values.iter().map(|(n, v, _)| (n.clone(), v.clone())).collect();
-    let coupling = super::coupled::try_coupling(&red.field, &c.angular, &c.links, &fixed, opts.freq, c.index, c.guess).map_err(in_angular)?;
+    let mut coupling = super::coupled::try_coupling(&red.field, &c.angular, &c.links, &fixed, opts.freq, c.index, c.guess).map_err(in_angular)?;
     let none = |_: u32| None;
-    let (setup, found) = super::coupled::coupled_spectrum(red, &coupling, opts, true, &none)?;
+    let (setup, found, path) = match opts.guess {
+        Some(_) => {
+            let (setup, found) = super::coupled::coupled_spectrum(red, &coupling, opts, true, &none)?;
+            (setup, found, None)
+        }
+        // No seed: from the uncoupled limit, continued in the coupling parameter.
+        None => {
+            let (setup, found, path) = super::continuation::continued_spectrum(red, &mut coupling, opts, true)?;
+            (setup, found, Some(path))
+        }
+    };
     Ok(RecurrenceReport {
         setup,
         modes: found.iter().map(|c| c.mode.clone()).collect(),
@@ -954,6 +1010,7 @@ fn coupled(red: &Reduction, req: &SpectrumRequest, c: &CoupleRequest, opts: &Spe
             angular: coupling.angular,
             links: c.link_texts.iter().map(|t| t.trim().to_string()).collect(),
             values: found.iter().map(|c| c.angular.clone()).collect(),
+            path,
         }),
         notes: Vec::new(),
     })

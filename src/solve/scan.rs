@@ -235,7 +235,10 @@ fn run_chunk(
                     opts.guess = None;
                 }
                 match solve(&opts, check) {
-                    Ok(solved) => point(solved, None),
+                    Ok(mut solved) => {
+                        mark_events(&mut solved.modes, prev.as_deref());
+                        point(solved, None)
+                    }
                     Err(e) => point(failed(), Some(e.message)),
                 }
             }
@@ -245,6 +248,33 @@ fn run_chunk(
         }
         if !out(p) {
             return;
+        }
+    }
+}
+
+/// Says what happened to the followed modes at a point: two overtones at
+/// one value have collided (the later one keeps no value), and a mode whose
+/// root finder failed after it converged at the previous point (`prev`)
+/// has disappeared.
+fn mark_events(modes: &mut PointModes, prev: Option<&[Complex64]>) {
+    use super::cf::StopReason;
+    for i in 0..modes.len() {
+        let w = modes[i].0.root.omega;
+        let same = |j: usize, modes: &PointModes| {
+            let r = &modes[j].0.root;
+            r.converged && w.re.is_finite() && w.im.is_finite() && (r.omega - w).norm() <= 1e-8 * w.norm()
+        };
+        if let Some(j) = (0..modes.len()).find(|&j| j != i && (j < i || !modes[i].0.root.converged) && same(j, modes)) {
+            let other = modes[j].0.n;
+            let m = &mut modes[i];
+            m.0.root.converged = false;
+            m.0.root.stop = StopReason::Collided(other);
+            m.1 = None;
+        } else if !modes[i].0.root.converged && prev.is_some_and(|p| p.len() > i) {
+            let r = &mut modes[i].0.root;
+            if !matches!(r.stop, StopReason::Disappeared(_) | StopReason::Collided(_)) {
+                r.stop = StopReason::Disappeared(Box::new(r.stop.clone()));
+            }
         }
     }
 }
@@ -521,7 +551,17 @@ pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Res
             .and_then(|e| e(n))
             .and_then(|b| b.series.seed())
     };
-    let (modes, setup) = qnm_modes_from(&rec, setup, opts, &first)?;
+    let (modes, setup) = match qnm_modes_from(&rec, setup.clone(), opts, &first) {
+        // No estimate seeds an overtone (no barrier): the global spectral method does.
+        Err(e) if e.message.starts_with(super::spectrum::NO_SEED) && opts.seeds.is_empty() && opts.guess.is_none() => {
+            let (seeds, _) = super::continuation::uncoupled_seeds(&r, opts);
+            if seeds.is_empty() {
+                return Err(e);
+            }
+            qnm_modes_from(&rec, setup, &SpectrumOptions { seeds, ..opts.clone() }, &first)?
+        }
+        other => other?,
+    };
     let integ = if check { integration_check(&r, opts, &setup).ok() } else { None };
     Ok(modes
         .into_iter()
@@ -559,14 +599,116 @@ pub(crate) fn register_font() {
 /// parameters gets one colour per pass (a value of the other parameters,
 /// in the legend); `fixed` (the fixed parameters as text) goes in the titles.
 pub fn plot(path: &std::path::Path, points: &[ScanPoint], params: &[String], freq: &str, fixed: &str) -> std::result::Result<(), String> {
+    struct Survey<'a>(&'a [ScanPoint], &'a [String], &'a str, &'a str);
+    impl Figure for Survey<'_> {
+        fn draw<DB: plotters::prelude::DrawingBackend>(&self, root: Area<DB>) -> std::result::Result<(), String> {
+            draw(root, self.0, self.1, self.2, self.3)
+        }
+    }
+    write_figure(path, (1200, 500), &Survey(points, params, freq, fixed))
+}
+
+/// A drawing area of plotters.
+type Area<DB> = plotters::drawing::DrawingArea<DB, plotters::coord::Shift>;
+
+/// A picture that can be drawn on any plotters backend.
+trait Figure {
+    fn draw<DB: plotters::prelude::DrawingBackend>(&self, root: Area<DB>) -> std::result::Result<(), String>;
+}
+
+/// Writes a figure as SVG or PNG by the file's extension, `size` pixels,
+/// with the built-in font.
+fn write_figure<F: Figure>(path: &std::path::Path, size: (u32, u32), fig: &F) -> std::result::Result<(), String> {
     use plotters::prelude::*;
     register_font();
     let ext = path.extension().and_then(|e| e.to_str()).map(|e| e.to_ascii_lowercase());
     match ext.as_deref() {
-        Some("svg") => draw(SVGBackend::new(path, (1200, 500)).into_drawing_area(), points, params, freq, fixed),
-        Some("png") => draw(BitMapBackend::new(path, (1200, 500)).into_drawing_area(), points, params, freq, fixed),
+        Some("svg") => fig.draw(SVGBackend::new(path, size).into_drawing_area()),
+        Some("png") => fig.draw(BitMapBackend::new(path, size).into_drawing_area()),
         _ => Err("the plot is written as SVG or PNG: give FILE.svg or FILE.png".into()),
     }
+}
+
+/// Draws a chart's legend in its upper right corner, on a pale ground.
+pub(crate) fn legend<'a, DB: plotters::prelude::DrawingBackend + 'a, CT: plotters::coord::CoordTranslate>(
+    chart: &mut plotters::chart::ChartContext<'a, DB, CT>,
+) -> std::result::Result<(), String> {
+    use plotters::prelude::*;
+    chart
+        .configure_series_labels()
+        .position(SeriesLabelPosition::UpperRight)
+        .background_style(WHITE.mix(0.8))
+        .border_style(BLACK)
+        .draw()
+        .map(|_| ())
+        .map_err(|e| e.to_string())
+}
+
+/// The range of an axis over `values`, padded by 8 % (at least 1e-6), with
+/// `top` times the padding again above (room for a legend).
+fn axis_range(values: impl Iterator<Item = f64>, top: f64) -> (f64, f64) {
+    let (lo, hi) = values.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| (a.min(x), b.max(x)));
+    if !lo.is_finite() {
+        return (0.0, 1.0);
+    }
+    let pad = ((hi - lo) * 0.08).max(1e-6);
+    (lo - pad, hi + (1.0 + top) * pad)
+}
+
+/// One mode of a spectrum in the complex plane.
+#[derive(Clone, Debug)]
+pub struct PlaneMode {
+    /// Its label (the overtone, e.g. "n=0").
+    pub label: String,
+    /// The value.
+    pub omega: Complex64,
+    /// Whether a second method confirmed it.
+    pub confirmed: bool,
+}
+
+/// Writes the modes of a spectrum in the complex plane (Re ω across, Im ω
+/// up), SVG or PNG by the extension: filled circles for the modes a second
+/// method confirmed, open squares for the others, each labelled; `fixed`
+/// (the fixed parameters as text) goes in the title.
+pub fn plot_plane(path: &std::path::Path, modes: &[PlaneMode], freq: &str, fixed: &str) -> std::result::Result<(), String> {
+    struct Plane<'a>(&'a [PlaneMode], &'a str, &'a str);
+    impl Figure for Plane<'_> {
+        fn draw<DB: plotters::prelude::DrawingBackend>(&self, root: Area<DB>) -> std::result::Result<(), String> {
+            use plotters::prelude::*;
+            let (modes, freq, fixed) = (self.0, self.1, self.2);
+            root.fill(&WHITE).map_err(|e| e.to_string())?;
+            let (x0, x1) = axis_range(modes.iter().map(|m| m.omega.re), 0.0);
+            let (y0, y1) = axis_range(modes.iter().map(|m| m.omega.im), 4.0);
+            let context = if fixed.is_empty() { freq.to_string() } else { format!("{freq}; {fixed}") };
+            let mut chart = ChartBuilder::on(&root)
+                .caption(format!("modes in the complex plane ({context})"), ("sans-serif", 18))
+                .margin(12)
+                .x_label_area_size(36)
+                .y_label_area_size(64)
+                .build_cartesian_2d(x0..x1, y0..y1)
+                .map_err(|e| e.to_string())?;
+            chart.configure_mesh().x_desc(format!("Re {freq}")).y_desc(format!("Im {freq}")).draw().map_err(|e| e.to_string())?;
+            let at = |m: &PlaneMode| (m.omega.re, m.omega.im);
+            let sure: Vec<(f64, f64)> = modes.iter().filter(|m| m.confirmed).map(at).collect();
+            let single: Vec<(f64, f64)> = modes.iter().filter(|m| !m.confirmed).map(at).collect();
+            chart
+                .draw_series(sure.into_iter().map(|p| Circle::new(p, 6, BLUE.filled())))
+                .map_err(|e| e.to_string())?
+                .label("confirmed by a second method")
+                .legend(|(x, y)| Circle::new((x, y), 6, BLUE.filled()));
+            chart
+                .draw_series(single.into_iter().map(|p| EmptyElement::at(p) + Rectangle::new([(-6, -6), (6, 6)], RED.stroke_width(2))))
+                .map_err(|e| e.to_string())?
+                .label("one method only")
+                .legend(|(x, y)| Rectangle::new([(x - 6, y - 6), (x + 6, y + 6)], RED.stroke_width(2)));
+            chart
+                .draw_series(modes.iter().map(|m| EmptyElement::at(at(m)) + Text::new(m.label.clone(), (8, -18), ("sans-serif", 13).into_font())))
+                .map_err(|e| e.to_string())?;
+            legend(&mut chart)?;
+            root.present().map_err(|e| e.to_string())
+        }
+    }
+    write_figure(path, (800, 600), &Plane(modes, freq, fixed))
 }
 
 /// The points of a plot's series: (x, y) pairs.
@@ -606,17 +748,11 @@ fn draw<DB: plotters::prelude::DrawingBackend>(
     let int_pick: [&Pick; 3] = [&|_, (_, c)| c.map(|c| (c.re, c.im)), &|p, (_, c)| c.map(|c| (x(p), c.re)), &|p, (_, c)| c.map(|c| (x(p), c.im))];
     let entries = if several { groups.len() + 1 } else { 2 };
     let range = |v: &[(f64, f64)], axis: usize| -> (f64, f64) {
-        let it = v.iter().map(|p| if axis == 0 { p.0 } else { p.1 });
-        let (lo, hi) = it.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| (a.min(x), b.max(x)));
-        if !lo.is_finite() {
-            return (0.0, 1.0);
-        }
-        let pad = ((hi - lo) * 0.08).max(1e-6);
         // Room at the top for the legend (upper right), so it hides no point.
         if axis == 1 {
-            (lo - pad, hi + if several { 2.0 + 1.5 * entries as f64 } else { 4.0 } * pad)
+            axis_range(v.iter().map(|p| p.1), if several { 1.0 + 1.5 * entries as f64 } else { 3.0 })
         } else {
-            (lo - pad, hi + pad)
+            axis_range(v.iter().map(|p| p.0), 0.0)
         }
     };
     let param = params.last().map(String::as_str).unwrap_or("");
@@ -675,13 +811,7 @@ fn draw<DB: plotters::prelude::DrawingBackend>(
             .map_err(|e| e.to_string())?
             .label("direct integration")
             .legend(move |(x, y)| Cross::new((x, y), 3, cross.stroke_width(2)));
-        chart
-            .configure_series_labels()
-            .position(SeriesLabelPosition::UpperRight)
-            .background_style(WHITE.mix(0.8))
-            .border_style(BLACK)
-            .draw()
-            .map_err(|e| e.to_string())?;
+        legend(&mut chart)?;
     }
     root.present().map_err(|e| e.to_string())
 }
@@ -850,6 +980,30 @@ mod tests {
         let vd2 = [1.0, 3.0];
         assert_eq!(join(Some((&vb2, &b)), (&va, &a), (&vc, &jumped), Some((&vd2, &d))), Join::Unjudged);
         assert_eq!(join(Some((&vb, &b)), (&va, &None), (&vc, &c), Some((&vd, &d))), Join::Unjudged);
+    }
+
+    #[test]
+    fn collisions_and_disappearances_are_reported_not_printed_as_values() {
+        let w = Complex64::new(0.5, -0.1);
+        let mut two = vec![mode(w), mode(w)];
+        two[1].0.n = 1;
+        two[1].1 = Some(w);
+        mark_events(&mut two, Some(&[w, w]));
+        assert!(two[0].0.root.converged);
+        assert!(!two[1].0.root.converged && two[1].1.is_none());
+        assert_eq!(two[1].0.root.stop, StopReason::Collided(0));
+        assert!(two[1].0.root.stop.text().starts_with("collided with overtone 0"));
+        // A root finder that failed where the mode was followed from a neighbour.
+        let mut lost = vec![mode(w)];
+        lost[0].0.root.converged = false;
+        lost[0].0.root.stop = StopReason::RootIterations;
+        let mut first = lost.clone();
+        mark_events(&mut lost, Some(&[w]));
+        assert!(matches!(&lost[0].0.root.stop, StopReason::Disappeared(b) if **b == StopReason::RootIterations));
+        assert!(lost[0].0.root.stop.text().starts_with("disappeared along the scan"));
+        // With no neighbour it stays the root finder's own failure.
+        mark_events(&mut first, None);
+        assert_eq!(first[0].0.root.stop, StopReason::RootIterations);
     }
 
     #[test]

@@ -418,13 +418,7 @@ fn draw<DB: plotters::prelude::DrawingBackend>(
             .label(name.as_str())
             .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], c.stroke_width(2)));
     }
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::UpperRight)
-        .background_style(WHITE.mix(0.8))
-        .border_style(BLACK)
-        .draw()
-        .map_err(|e| e.to_string())?;
+    super::scan::legend(&mut chart)?;
     root.present().map_err(|e| e.to_string())
 }
 
