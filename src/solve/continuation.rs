@@ -14,7 +14,7 @@
 //! accepted when every overtone converged and moved from its prediction by
 //! at most [`MAX_CORRECTION`] of its size; the step then grows (doubles when
 //! the correction was small), else it is halved and tried again. The loop
-//! is bounded by [`MAX_ATTEMPTS`] solves and [`MIN_STEP`], and the report
+//! is bounded by [`MAX_ATTEMPTS`] solves and a smallest step of 2^−[`MIN_STEP_LOG2`], and the report
 //! says why it stopped.
 
 use super::cf::{CfRoot, StopReason};
