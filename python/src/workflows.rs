@@ -323,7 +323,7 @@ pub fn scatter(
         _ => return Err(bad_grid("the frequency grid is empty, too long or has a non-positive step")),
     };
     let (at_text, values) = read_values(at, "at", spec)?;
-    let req = canonode::solve::scatter::ScatterRequest { frequency: spec.frequency.clone(), values, sum, wkb_order };
+    let req = canonode::solve::scatter::ScatterRequest { frequency: spec.frequency.clone(), values, sum, wkb_order, couple: None };
     let setup = canonode::solve::scatter::scatter_setup(&red, &req).map_err(|e| match &e.origin {
         Origin::Option(o) if o == "--at" && e.span.is_none() => usage(e.message.clone(), "at", spec, &[("at".into(), at_text.clone())], None),
         _ => fail(&e, spec, &[("at".into(), at_text.clone())]),

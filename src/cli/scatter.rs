@@ -68,6 +68,8 @@ pub(crate) struct ScatterArgs {
     /// Write a plot (|T|² and |R|², or σ with --sum-l, against ω), SVG or PNG by the extension.
     #[arg(long = "plot", value_name = "FILE.svg|FILE.png")]
     plot: Option<String>,
+    #[command(flatten)]
+    couple: super::spectrum::CoupleArgs,
 }
 
 fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
@@ -78,6 +80,7 @@ pub(crate) fn run(a: &ScatterArgs) -> u8 {
     let mut extra = vec![("--at".to_string(), a.at.clone()), ("--omega".to_string(), a.omega.clone())];
     extra.extend(a.sum_l.iter().map(|s| ("--sum-l".to_string(), s.clone())));
     extra.extend(a.plot.iter().map(|s| ("--plot".to_string(), s.clone())));
+    extra.extend(a.couple.option_texts());
     run_command(&a.input, &extra, |src| compute(a, src))
 }
 
@@ -114,7 +117,17 @@ fn compute(a: &ScatterArgs, src: &super::Source) -> Result<String, Failure> {
             Some((a.multipole.clone(), l0, l1))
         }
     };
-    let req = ScatterRequest { frequency: a.input.frequency_name(), values: parse_assignments(&a.at, "--at")?, sum, wkb_order: a.wkb_order };
+    super::options::angular_index(a.couple.angular_index)?;
+    let angular_guess = super::values::parse_seed(a.couple.angular_guess.as_deref(), "--angular-guess")?;
+    let couple = a.couple.read(&red.field)?.map(|(asrc, ared, links)| crate::solve::request::CoupleRequest {
+        angular: ared,
+        name: asrc.name.clone(),
+        links,
+        link_texts: a.couple.link.clone(),
+        index: a.couple.angular_index,
+        guess: angular_guess,
+    });
+    let req = ScatterRequest { frequency: a.input.frequency_name(), values: parse_assignments(&a.at, "--at")?, sum, wkb_order: a.wkb_order, couple };
     let setup = scatter_setup(&red, &req).map_err(|e| match &e.origin {
         // An option error without a place points at the whole option.
         Origin::Option(o) if e.span.is_none() && o == "--at" => usage(e.message.clone(), "--at", a.at.len()),

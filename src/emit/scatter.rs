@@ -61,9 +61,16 @@ fn num(x: f64) -> Value {
 /// One multipole's values as JSON fields.
 pub fn fields(r: &Result<Scattering, String>) -> Value {
     match r {
-        Ok(s) => json!({"transmission": num(s.transmission), "reflection": num(s.reflection), "flux_error": num(s.flux_error),
-            "matching_change": num(s.matching_change), "superradiant": s.reflection > 1.0,
-            "wkb_transmission": s.wkb_transmission.map(num).unwrap_or(Value::Null), "error": Value::Null}),
+        Ok(s) => {
+            let mut v = json!({"transmission": num(s.transmission), "reflection": num(s.reflection), "flux_error": num(s.flux_error),
+                "matching_change": num(s.matching_change), "superradiant": s.reflection > 1.0,
+                "wkb_transmission": s.wkb_transmission.map(num).unwrap_or(Value::Null), "error": Value::Null});
+            if !s.linked.is_empty() {
+                let linked: serde_json::Map<String, Value> = s.linked.iter().map(|(n, x)| (n.clone(), json!([x.re, x.im]))).collect();
+                v.as_object_mut().map(|m| m.insert("linked".into(), Value::Object(linked)));
+            }
+            v
+        }
         Err(e) => json!({"transmission": Value::Null, "reflection": Value::Null, "flux_error": Value::Null,
             "matching_change": Value::Null, "superradiant": Value::Null, "wkb_transmission": Value::Null, "error": e}),
     }

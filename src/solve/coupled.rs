@@ -257,27 +257,22 @@ fn to_c(g: &GRat) -> Complex64 {
     Complex64::new(re, im)
 }
 
-/// The numeric evaluation of a coupled system at trial frequencies, with
-/// the last angular eigenvalue kept for continuation.
-pub struct Evaluator<'a> {
+/// The angular eigenvalue along trial frequencies: the joint values at ω
+/// with the angular eigenvalue solved (continued from the last value, or
+/// from the seed where the linked parameters vanish) and the radial links
+/// filled in. A fresh track at each ω gives values independent of the order
+/// the frequencies are visited in.
+pub struct AngularTrack<'a> {
     coupling: &'a Coupling,
-    /// The radial recurrence and its base values (θ appended).
-    rec: &'a Recurrence,
-    radial_values: Vec<Complex64>,
-    radial_freq: usize,
-    /// Joint index → radial field index, for the radial link targets.
-    radial_of: Vec<Option<usize>>,
     last: RefCell<Option<(Vec<Complex64>, Complex64)>>,
     tol: f64,
 }
 
-impl<'a> Evaluator<'a> {
-    /// An evaluator for the radial recurrence `rec` (derived with the
-    /// separation constant symbolic) and the radial values of `opts`.
-    pub fn new(coupling: &'a Coupling, rec: &'a Recurrence, setup: &Setup, opts: &SpectrumOptions, radial: &Field) -> Evaluator<'a> {
-        let radial_values: Vec<Complex64> = super::spectrum::recurrence_values(setup, opts).iter().map(to_c).collect();
-        let radial_of = coupling.names.iter().map(|n| radial.names().iter().skip(1).position(|x| x == n).map(|i| i + 1)).collect();
-        Evaluator { coupling, rec, radial_values, radial_freq: opts.freq, radial_of, last: RefCell::new(None), tol: opts.tol }
+impl<'a> AngularTrack<'a> {
+    /// A track with nothing solved yet; `tol` is the radial tolerance (the
+    /// angular one is a thousandth of it, at least 1e-13).
+    pub fn new(coupling: &'a Coupling, tol: f64) -> AngularTrack<'a> {
+        AngularTrack { coupling, last: RefCell::new(None), tol }
     }
 
     /// The joint values at ω before the angular solve: fixed values, ω and
@@ -354,6 +349,34 @@ impl<'a> Evaluator<'a> {
             v[l.slot] = x;
         }
         Ok((v, root))
+    }
+}
+
+/// The numeric evaluation of a coupled system at trial frequencies, with
+/// the last angular eigenvalue kept for continuation.
+pub struct Evaluator<'a> {
+    coupling: &'a Coupling,
+    /// The radial recurrence and its base values (θ appended).
+    rec: &'a Recurrence,
+    radial_values: Vec<Complex64>,
+    radial_freq: usize,
+    /// Joint index → radial field index, for the radial link targets.
+    radial_of: Vec<Option<usize>>,
+    track: AngularTrack<'a>,
+}
+
+impl<'a> Evaluator<'a> {
+    /// An evaluator for the radial recurrence `rec` (derived with the
+    /// separation constant symbolic) and the radial values of `opts`.
+    pub fn new(coupling: &'a Coupling, rec: &'a Recurrence, setup: &Setup, opts: &SpectrumOptions, radial: &Field) -> Evaluator<'a> {
+        let radial_values: Vec<Complex64> = super::spectrum::recurrence_values(setup, opts).iter().map(to_c).collect();
+        let radial_of = coupling.names.iter().map(|n| radial.names().iter().skip(1).position(|x| x == n).map(|i| i + 1)).collect();
+        Evaluator { coupling, rec, radial_values, radial_freq: opts.freq, radial_of, track: AngularTrack::new(coupling, opts.tol) }
+    }
+
+    /// The joint values at ω after the angular solve, with the angular root ([`AngularTrack::values_at`]).
+    pub fn values_at(&self, w: Complex64) -> std::result::Result<(Vec<Complex64>, CfRoot), String> {
+        self.track.values_at(w)
     }
 
     /// The radial continued fraction's k-th inversion at ω with the linked

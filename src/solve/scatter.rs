@@ -228,6 +228,9 @@ pub struct Scattering {
     /// The second method where it applies: the WKB transmission at the barrier
     /// (`wkb::wkb_transmission`), meaningful near and above the barrier top; `None` when not computed.
     pub wkb_transmission: Option<f64>,
+    /// With a coupled angular equation: the angular eigenvalue, then each
+    /// radial link's target (the separation constant) at this frequency.
+    pub linked: Vec<(String, Complex64)>,
 }
 
 /// (|T|², |R|², flux error, matching point, steps) at ω with one set of discretisation parameters.
@@ -364,6 +367,7 @@ pub fn scatter_at(pb: &Problem, w: f64) -> std::result::Result<Scattering, Strin
         matching_point: z_m,
         steps,
         wkb_transmission: None,
+        linked: Vec::new(),
     })
 }
 
@@ -433,6 +437,8 @@ pub struct ScatterRequest {
     pub sum: Option<(String, i64, i64)>,
     /// The WKB order of the second method.
     pub wkb_order: usize,
+    /// An angular equation sharing the separation constant, solved at every frequency.
+    pub couple: Option<super::request::CoupleRequest>,
 }
 
 /// The problems of a scattering computation, set up once: one per
@@ -451,6 +457,58 @@ pub struct ScatterSetup {
     /// Multipole value (0 without a sum), problem, barrier Taylor series.
     problems: Vec<(i64, Problem, Option<Vec<Complex64>>)>,
     wkb_order: usize,
+    /// With a coupled angular equation: what each frequency's problem is
+    /// built from (behind a lock: the exact layer's caches are not shared
+    /// between threads, so coupled frequencies run one at a time).
+    coupled: Option<std::sync::Mutex<CoupledScatter>>,
+}
+
+/// A scattering problem whose separation constant comes from an angular
+/// equation at each frequency (Kerr: the spheroidal eigenvalue at c = aω).
+#[derive(Debug)]
+struct CoupledScatter {
+    coupling: super::coupled::Coupling,
+    /// The radial reduction with every fixed value substituted (the frequency and the linked parameters kept).
+    red: Reduction,
+    /// The exact point (the linked parameters are filled in at each frequency).
+    point: Vec<GRat>,
+    /// (joint index, radial field index) of each radial link target.
+    slots: Vec<(usize, usize)>,
+    freq: usize,
+}
+
+/// The scattering problem of a (substituted) reduction: the exact route's
+/// ends and exponents, else the typed boundary problem's.
+fn problem_at(r: &Reduction, opts: &SpectrumOptions) -> Result<Problem> {
+    let exact = super::spectrum::qnm_recurrence(r, opts).and_then(|(_, setup)| problem(r, opts, &setup));
+    match exact {
+        Ok(pb) => Ok(pb),
+        // The exact route cannot place the horizon (or set up at all): the typed boundary problem can.
+        Err(e) => problem_between_ends(r, opts).map_err(|e2| Error::new(e.kind, format!("{}; between the located ends: {}", e.message, e2.message))),
+    }
+}
+
+impl CoupledScatter {
+    /// The scattering data at ω with the linked parameters from the angular
+    /// eigenvalue there (solved afresh from the uncoupled value, so every
+    /// frequency's result is independent of the others).
+    fn at(&self, w: f64) -> std::result::Result<Scattering, String> {
+        let track = super::coupled::AngularTrack::new(&self.coupling, 1e-10);
+        let (v, root) = track.values_at(Complex64::new(w, 0.0))?;
+        let mut values = self.point.clone();
+        let mut linked = vec![(self.coupling.angular.eigen_name.clone(), root.omega)];
+        for &(j, i) in &self.slots {
+            let x = v[j];
+            values[i] = GRat { re: super::spectrum::exact_double(x.re).re, im: super::spectrum::exact_double(x.im).re };
+            linked.push((self.coupling.names[j].clone(), x));
+        }
+        let opts = SpectrumOptions { freq: self.freq, values, overtones: (0, 0), tol: 1e-10, guess: None, seeds: Vec::new() };
+        let r = super::spectrum::substitute(&self.red, &opts.values, self.freq).map_err(|e| e.message)?;
+        let pb = problem_at(&r, &opts).map_err(|e| e.message)?;
+        let mut s = scatter_at(&pb, w)?;
+        s.linked = linked;
+        Ok(s)
+    }
 }
 
 /// One frequency's results: one entry per multipole.
@@ -488,7 +546,20 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
     if let Some((li, ..)) = sum {
         given[li] = true;
     }
+    if req.couple.is_some() && sum.is_some() {
+        return Err(usage("a sum over multipoles with a coupled angular equation is not available: scatter one multipole at a time".into())
+            .in_option("--sum-l"));
+    }
+    let links: &[super::coupled::Link] = req.couple.as_ref().map_or(&[], |c| &c.links);
+    let linked = super::request::linked_radial(links, &names, &[freq], "the frequency")?;
+    for &i in &linked {
+        given[i] = true;
+    }
+    let angular_names = req.couple.as_ref().map(|c| c.angular.field.names());
     for (n, v, span) in &req.values {
+        if super::request::for_angular_only(n, *span, links, &names, angular_names)? {
+            continue;
+        }
         match names.iter().skip(1).position(|x| x == n).map(|i| i + 1) {
             Some(i) if i == freq => return Err(usage(format!("'{n}' is the frequency: give it with --omega")).at(*span).in_option("--at")),
             Some(i) if sum.is_some_and(|s| s.0 == i) => return Err(usage(format!("'{n}' is summed by --sum-l")).at(*span).in_option("--at")),
@@ -508,6 +579,18 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
         Some((_, l0, l1)) => (l0..=l1).collect(),
         None => vec![0],
     };
+    let coupled = match &req.couple {
+        None => None,
+        Some(c) => {
+            let given_values: Vec<(String, GRat)> = req.values.iter().map(|(n, v, _)| (n.clone(), v.clone())).collect();
+            let coupling = super::coupled::try_coupling(&red.field, &c.angular, &c.links, &given_values, freq, c.index, c.guess)?;
+            let mut keep = linked.clone();
+            keep.push(freq);
+            let kept = super::spectrum::substitute_keeping(red, &point, &keep)?;
+            let slots = linked.iter().filter_map(|&i| coupling.names.iter().position(|n| *n == names[i]).map(|j| (j, i))).collect();
+            Some(std::sync::Mutex::new(CoupledScatter { coupling, red: kept, point: point.clone(), slots, freq }))
+        }
+    };
     let mut problems = Vec::new();
     for &l in &ls {
         let mut values = point.clone();
@@ -515,19 +598,22 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
             values[li] = GRat::real(Rat::int(l.into()));
         }
         let opts = SpectrumOptions { freq, values, overtones: (0, 0), tol: 1e-10, guess: None, seeds: Vec::new() };
+        // With a coupling the linked parameters stand at 0 here: the ends and their names do not depend on them.
         let r = super::spectrum::substitute(red, &opts.values, freq)?;
-        let exact = super::spectrum::qnm_recurrence(&r, &opts).and_then(|(_, setup)| problem(&r, &opts, &setup));
-        let pb = match exact {
-            Ok(pb) => pb,
-            // The exact route cannot place the horizon (or set up at all): the typed boundary problem can.
-            Err(e) => problem_between_ends(&r, &opts)
-                .map_err(|e2| Error::new(e.kind, format!("{}; between the located ends: {}", e.message, e2.message)))?,
-        };
+        let pb = problem_at(&r, &opts)?;
         let est = super::spectrum::barrier_estimates(&r, &opts, pb.near, req.wkb_order).ok();
         problems.push((l, pb, est.and_then(|e| e(0)).map(|b| b.taylor)));
     }
     let (near, far) = (problems[0].1.near_label.clone(), problems[0].1.far_label.clone());
-    Ok(ScatterSetup { frequency: fname, near, far, sum: sum.map(|(li, l0, l1)| (names[li].clone(), l0, l1)), problems, wkb_order: req.wkb_order })
+    Ok(ScatterSetup {
+        frequency: fname,
+        near,
+        far,
+        sum: sum.map(|(li, l0, l1)| (names[li].clone(), l0, l1)),
+        problems,
+        wkb_order: req.wkb_order,
+        coupled,
+    })
 }
 
 impl ScatterSetup {
@@ -549,6 +635,9 @@ impl ScatterSetup {
     /// The scattering data of problem `j` at the real frequency `w`, with the
     /// WKB transmission beside it where there is a barrier.
     pub fn at(&self, j: usize, w: f64) -> std::result::Result<Scattering, String> {
+        if let Some(c) = &self.coupled {
+            return c.lock().map_err(|_| "a coupled frequency failed on another thread".to_string())?.at(w);
+        }
         let (_, pb, barrier) = &self.problems[j];
         let wkb = barrier.as_ref().and_then(|t| super::wkb::wkb_transmission(t, w * w, self.wkb_order));
         scatter_at(pb, w).map(|s| Scattering { wkb_transmission: wkb, ..s })
