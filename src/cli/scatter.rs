@@ -16,7 +16,9 @@
 //! `matching_change` are those of the lowest multipole, and each point adds
 //! `cross_section` (σ = Σ (2l + 1) π |T_l|²/ω²) and `partial`, a list of
 //! {`l`, `transmission`, `reflection`, `flux_error`, `matching_change`,
-//! `cross_section_term`, `error`}.
+//! `cross_section_term`, `error`}. With `--couple`, each point with a value
+//! adds `linked`: {the angular eigenvalue's name and each radial link
+//! target's name: [re, im]} at that frequency.
 //! CSV: `omega,transmission,reflection,flux_error,matching_change,wkb_transmission,error`
 //! (and `cross_section` before `error` with `--sum-l`; the partial terms as
 //! `T_l` columns).
