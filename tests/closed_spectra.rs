@@ -96,6 +96,25 @@ fn three_dimensional_oscillator() {
 }
 
 #[test]
+fn oscillator_on_the_whole_line() {
+    // ψ'' + (2E/ħω − x²)ψ = 0 on (−∞, ∞) in units ħ = m = ω = 1: E = k + ½ (textbook);
+    // the even levels (k = 2n) and the odd ones (k = 2n + 1) as two families, each from
+    // the half-line with ψ'(0) = 0 or ψ(0) = 0, checked against collocation on the line.
+    for w2 in ["1", "4"] {
+        let doc = bound(&["-e", "psi'' + (2*E - w2*x^2)*psi = 0", "--var", "x", "--frequency", "E"], &format!("w2={w2}"), "0..3");
+        let w: f64 = w2.parse::<f64>().unwrap().sqrt();
+        let want: Vec<Complex64> = (0..4).map(|k| cx(w * (k as f64 + 0.5), 0.0)).collect();
+        assert_eq!(agree(&doc, &want), 4, "w2={w2}: {}", doc["closed_form_note"]);
+        let fams = doc["closed_form"]["families"].as_array().unwrap();
+        assert_eq!(fams.len(), 2);
+        assert!(fams[0]["family"].as_str().unwrap().starts_with("even") && fams[1]["family"].as_str().unwrap().starts_with("odd"));
+    }
+    // An odd potential term: no half-line reduction, said so.
+    let doc = bound(&["-e", "psi'' + (2*E - x^2 - x^3/10)*psi = 0", "--var", "x", "--frequency", "E"], "", "0");
+    assert!(doc["closed_form"].is_null(), "{}", doc["closed_form"]);
+}
+
+#[test]
 fn morse_well() {
     // ψ'' + (E − D(e^{−2x} − 2e^{−x}))ψ = 0: E_n = −(√D − n − ½)², n < √D − ½
     // (P. M. Morse, Phys. Rev. 34 (1929) 57).

@@ -478,9 +478,7 @@ fn problem_ends(bp: &BoundaryProblem) -> [super::closed::EndPick; 2] {
 
 /// The closed form on the symbolic equation between `ends`, with its values at the overtones asked for.
 fn closed_section(red: &Reduction, req: &SpectrumRequest, freq: usize, point: &[GRat], ends: Option<[super::closed::EndPick; 2]>) -> ClosedSection {
-    let Some(ends) = ends else {
-        return ClosedSection::None("the domain is the whole line (both ends at the same point at infinity)".into());
-    };
+    let Some(ends) = ends else { return whole_line(red, req, freq, point) };
     match super::closed::derive(&red.field, &red.normal.q, freq, point, &ends) {
         Ok(super::closed::Outcome::Closed(form)) => {
             let values = form
@@ -492,6 +490,65 @@ fn closed_section(red: &Reduction, req: &SpectrumRequest, freq: usize, point: &[
         }
         Ok(super::closed::Outcome::NotClosed(why)) => ClosedSection::None(why),
         Err(e) => ClosedSection::None(format!("the derivation stopped: {}", e.message)),
+    }
+}
+
+/// The closed form of a bound-state problem on the whole line whose Q is
+/// even in x: the even states are those of the half-line x > 0 with
+/// ψ'(0) = 0 (the smaller exponent at x = 0 after the fold x = z²), the odd
+/// ones with ψ(0) = 0, and by the oscillation theorem the whole line's
+/// levels alternate even, odd, even, … (overtone k = 2n + parity; common
+/// practice). Each family keeps its own n.
+fn whole_line(red: &Reduction, req: &SpectrumRequest, freq: usize, point: &[GRat]) -> ClosedSection {
+    use super::closed::{derive, EndPick, Outcome};
+    let k = &red.field;
+    let q = &red.normal.q;
+    let minus_x = k.neg(&k.var(0));
+    let even = k.compose(q, 0, &minus_x).is_ok_and(|r| r == *q);
+    if !even {
+        return ClosedSection::None("the domain is the whole line and Q is not even in the variable: no half-line closed form applies".into());
+    }
+    let half = |cond| {
+        [EndPick { location: Location::At(0.0), condition: cond }, EndPick { location: Location::Infinity, condition: Condition::Normalisable }]
+    };
+    let mut merged: Option<super::closed::ClosedForm> = None;
+    let mut values = Vec::new();
+    for (parity, cond, word) in [(0u32, Condition::SlowerFallOff, "even"), (1, Condition::Normalisable, "odd")] {
+        let form = match derive(k, q, freq, point, &half(cond)) {
+            Ok(Outcome::Closed(form)) => form,
+            Ok(Outcome::NotClosed(why)) => return ClosedSection::None(format!("the whole line, {word} states on x > 0: {why}")),
+            Err(e) => return ClosedSection::None(format!("the whole line, {word} states: the derivation stopped: {}", e.message)),
+        };
+        for f in &form.families {
+            let vs = (req.overtones.0..=req.overtones.1)
+                .filter(|o| o % 2 == parity)
+                .filter_map(|o| form.value(f, point, o / 2).map(|w| (o / 2, w)))
+                .collect::<Vec<_>>();
+            values.push(vs);
+        }
+        let relabelled: Vec<_> = form
+            .families
+            .iter()
+            .cloned()
+            .map(|mut f| {
+                f.label = format!("{word} states ({}); overtone 2n{}", f.label, if parity == 1 { " + 1" } else { "" });
+                f
+            })
+            .collect();
+        match &mut merged {
+            None => {
+                let mut m = form.clone();
+                m.route =
+                    format!("the whole line, Q even: the half-line x > 0 with ψ'(0) = 0 (even states) and ψ(0) = 0 (odd states); {}", form.route);
+                m.families = relabelled;
+                merged = Some(m);
+            }
+            Some(m) => m.families.extend(relabelled),
+        }
+    }
+    match merged {
+        Some(form) => ClosedSection::Found { form, values },
+        None => ClosedSection::None("no family".into()),
     }
 }
 
