@@ -839,7 +839,9 @@ fn eikonal_reduction(req: &SpectrumRequest, red: &Reduction, point: &[GRat], fre
 
 /// Modes by direct integration between the ends of a boundary problem.
 fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptions, note: Option<String>) -> EndsReport {
-    let modes = super::ends::modes(&bp, opts.overtones, opts.guess, opts.tol);
+    let seeded = (opts.guess.is_none() && req.problem == Problem::Quasinormal).then(|| spectral_seeded(&bp, opts)).flatten();
+    let from_spectral = seeded.is_some();
+    let modes = seeded.unwrap_or_else(|| super::ends::modes(&bp, opts.overtones, opts.guess, opts.tol));
     let spectrum = match req.problem {
         Problem::Bound => Problem::Bound,
         _ if bp.ends[1].condition == Condition::Decaying => Problem::QuasiBound,
@@ -847,12 +849,35 @@ fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptio
     };
     let numbering = match spectrum {
         _ if opts.guess.is_some() => None,
+        Problem::Quasinormal if from_spectral => Some("no --guess: the modes are the global spectral method's eigenvalues in the lower right quadrant, numbered by |Im ω|, each polished by direct integration"),
         Problem::Bound | Problem::Periodic => Some("no --guess: the eigenvalues are the distinct real roots reached from a scan of the real axis, numbered upward; an eigenvalue below the scanned range would shift the numbering"),
         Problem::Quasinormal => Some("no --guess: the modes are the distinct roots reached from a scan of the complex plane, numbered by |Im ω|; a mode the scan missed would shift the numbering"),
         Problem::QuasiBound => None,
     };
     let (checks, check_note) = spectral_checks(&bp, &modes);
     EndsReport { problem: bp, modes, note, numbering, spectrum, checks, check_note }
+}
+
+/// Quasinormal modes with no guess seeded by the global spectral method
+/// (its eigenvalues in the lower right quadrant by |Im ω|), each polished by
+/// direct integration; `None` (the plane scan decides instead) when it does
+/// not give every overtone asked for or a polish fails or repeats a mode.
+fn spectral_seeded(bp: &BoundaryProblem, opts: &SpectrumOptions) -> Option<Vec<EndMode>> {
+    let (lo, hi) = opts.overtones;
+    let seeds = super::global::seeds(bp, (lo, hi));
+    if seeds.len() != (hi - lo + 1) as usize {
+        return None;
+    }
+    let mut out: Vec<EndMode> = Vec::new();
+    for (n, s) in (lo..=hi).zip(seeds) {
+        let root = super::ends::find_root(bp, s, opts.tol);
+        let repeat = out.iter().any(|m| (m.root.omega - root.omega).norm() <= 1e-8 * root.omega.norm());
+        if !root.converged || repeat {
+            return None;
+        }
+        out.push(EndMode { n, root, seed: super::ends::Seed { omega: s, from: "the global spectral method".into() } });
+    }
+    Some(out)
 }
 
 /// The second method on a boundary problem solved by direct integration:
@@ -863,7 +888,7 @@ fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptio
 /// method cannot run on the problem (an exponent not affine in ω: a massive
 /// field), the note says why and no mode has a check.
 fn spectral_checks(bp: &BoundaryProblem, modes: &[EndMode]) -> (Vec<Option<SpectralCheck>>, String) {
-    use super::global::{spectral_in, Region, DEFAULT_GRID, DEFAULT_PERSIST};
+    use super::global::{spectral_in, Region, DEFAULT_PERSIST, SEED_GRIDS};
     let found: Vec<Complex64> = modes.iter().filter(|m| m.root.converged).map(|m| m.root.omega).collect();
     if found.is_empty() {
         return (modes.iter().map(|_| None).collect(), "no mode converged: no second method ran".into());
@@ -875,12 +900,26 @@ fn spectral_checks(bp: &BoundaryProblem, modes: &[EndMode]) -> (Vec<Option<Spect
     // solves the half-planes separately at an irregular infinity).
     let top = if im1 < 0.0 { (im1 + pad).min(-1e-9 * pad) } else { im1 + pad };
     let region = Region { re: (re0 - pad, re1 + pad), im: (im0 - pad, top) };
-    let sp = match spectral_in(bp, region, DEFAULT_GRID, DEFAULT_PERSIST) {
-        Ok(sp) => sp,
-        Err(e) => {
-            return (modes.iter().map(|_| None).collect(), format!("no second method ran: the global spectral method does not apply ({})", e.message))
+    // The coarser grid first: kept when it has an eigenvalue near every
+    // converged mode, else the finer one decides.
+    let mut sp = None;
+    for n in SEED_GRIDS {
+        let s = match spectral_in(bp, region, n, DEFAULT_PERSIST) {
+            Ok(s) => s,
+            Err(e) => {
+                return (
+                    modes.iter().map(|_| None).collect(),
+                    format!("no second method ran: the global spectral method does not apply ({})", e.message),
+                )
+            }
+        };
+        let all = found.iter().all(|w| s.values.iter().any(|v| (v.omega - w).norm() <= 1e-4 * w.norm().max(bp.scale)));
+        sp = Some(s);
+        if all {
+            break;
         }
-    };
+    }
+    let Some(sp) = sp else { return (modes.iter().map(|_| None).collect(), "no second method ran: no grid".into()) };
     let checks = modes
         .iter()
         .map(|m| {
