@@ -404,6 +404,17 @@ class Spectrum:
         return f"<canonode.Spectrum {self.boundary} {self.frequency}: {list(self.omega)}>"
 
 
+def _coupled(couple, link, angular_index, angular_guess):
+    """The angular side of a coupled solve for the native call, or None."""
+    links = [link] if isinstance(link, str) else [str(x) for x in link]
+    if couple is None:
+        if links or angular_guess is not None:
+            raise ValueError("link= and angular_guess= need couple= (the angular equation)")
+        return None
+    atext, aname = _source(couple)
+    return (atext, aname if aname != "<input>" else "<couple>", links, int(angular_index), _seed(angular_guess))
+
+
 def spectrum(
     equation,
     at,
@@ -451,14 +462,7 @@ def spectrum(
     singular points, and the document's ``notes`` say which were chosen.
     """
     inp = _input(equation, var, subst, at_infinity, dxdz, frequency)
-    links = [link] if isinstance(link, str) else [str(x) for x in link]
-    if couple is None:
-        if links or angular_guess is not None:
-            raise ValueError("spectrum: link= and angular_guess= need couple= (the angular equation)")
-        coupled = None
-    else:
-        atext, aname = _source(couple)
-        coupled = (atext, aname if aname != "<input>" else "<couple>", links, int(angular_index), _seed(angular_guess))
+    coupled = _coupled(couple, link, angular_index, angular_guess)
     raw = _native.spectrum(inp, _values(at), _overtones(overtones), method, boundary, _seed(guess), float(tol), coupled, ends)
     return Spectrum(raw)
 
@@ -636,19 +640,27 @@ def scatter(
     at_infinity=False,
     dxdz=None,
     frequency=None,
+    couple=None,
+    link=(),
+    angular_index=0,
+    angular_guess=None,
 ) -> Scattering:
     """Transmission and reflection at real frequencies (greybody factors).
 
     ``omega``: ``(start, stop, step)``, each taken exactly as its shortest
     decimal (as ``--omega START:STOP:STEP``); ``at``: every other parameter;
     ``sum_l``: ``(first, last)`` multipoles of ``multipole`` summed into the
-    absorption cross-section. Ctrl-C stops before the next frequency.
+    absorption cross-section. ``couple``, ``link``, ``angular_index``,
+    ``angular_guess``: an angular equation sharing the separation constant,
+    solved at every frequency (as in :func:`spectrum`; Kerr superradiance
+    with the spheroidal eigenvalue). Ctrl-C stops before the next frequency.
     """
     inp = _input(equation, var, subst, at_infinity, dxdz, frequency)
     start, stop, step = omega
     grid = tuple(_parts(x)[0] for x in (start, stop, step))
     s = None if sum_l is None else (str(multipole), int(sum_l[0]), int(sum_l[1]))
-    return Scattering(_native.scatter(inp, _values(at), grid, s, int(wkb_order)))
+    coupled = _coupled(couple, link, angular_index, angular_guess)
+    return Scattering(_native.scatter(inp, _values(at), grid, s, int(wkb_order), coupled))
 
 
 # --------------------------------------------------------------------------

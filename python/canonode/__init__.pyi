@@ -183,6 +183,10 @@ def scatter(
     at_infinity: bool = ...,
     dxdz: Optional[str] = ...,
     frequency: Optional[str] = ...,
+    couple: Optional[Text] = ...,
+    link: Union[str, Iterable[str]] = ...,
+    angular_index: int = ...,
+    angular_guess: Optional[complex] = ...,
 ) -> Scattering: ...
 def emit(
     text: Text,

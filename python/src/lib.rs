@@ -678,7 +678,7 @@ fn scan(
 /// `scatter`: the JSON document of `canonode scatter --format json`;
 /// Ctrl-C stops it before the next frequency.
 #[pyfunction]
-#[pyo3(signature = (input, at, omega, sum_l, wkb_order))]
+#[pyo3(signature = (input, at, omega, sum_l, wkb_order, couple=None))]
 fn scatter(
     py: Python<'_>,
     input: InputTuple,
@@ -686,9 +686,11 @@ fn scatter(
     omega: (String, String, String),
     sum_l: Option<(String, i64, i64)>,
     wkb_order: usize,
+    couple: Option<CoupleTuple>,
 ) -> PyResult<PyObject> {
     let spec = Spec::from_tuple(input);
-    let doc = run(py, move |cancel| workflows::scatter(&spec, &at, &omega, sum_l, wkb_order, cancel))?;
+    let couple = couple.map(|(text, name, links, index, guess)| workflows::Couple { text, name, links, index, guess });
+    let doc = run(py, move |cancel| workflows::scatter(&spec, &at, &omega, sum_l, wkb_order, couple.as_ref(), cancel))?;
     to_py(py, &doc)
 }
 

@@ -308,6 +308,7 @@ pub fn scatter(
     omega: &(String, String, String),
     sum: Option<(String, i64, i64)>,
     wkb_order: usize,
+    couple: Option<&Couple>,
     cancel: &AtomicBool,
 ) -> Result<Value, Fail> {
     let lib = |e: Error| fail(&e, spec, &[]);
@@ -323,8 +324,21 @@ pub fn scatter(
         _ => return Err(bad_grid("the frequency grid is empty, too long or has a non-positive step")),
     };
     let (at_text, values) = read_values(at, "at", spec)?;
-    let req = canonode::solve::scatter::ScatterRequest { frequency: spec.frequency.clone(), values, sum, wkb_order, couple: None };
+    let (aspec, couple) = match couple {
+        Some(c) => {
+            let (aspec, cr) = couple_request(spec, &red, c)?;
+            (Some(aspec), Some(cr))
+        }
+        None => (None, None),
+    };
+    let req = canonode::solve::scatter::ScatterRequest { frequency: spec.frequency.clone(), values, sum, wkb_order, couple };
     let setup = canonode::solve::scatter::scatter_setup(&red, &req).map_err(|e| match &e.origin {
+        // Errors of the angular equation point into its own text.
+        Origin::Option(o) if o == canonode::solve::request::ANGULAR_ORIGIN && aspec.is_some() => {
+            let mut e = e;
+            e.origin = Origin::Input;
+            fail(&e, aspec.as_ref().expect("checked"), &[])
+        }
         Origin::Option(o) if o == "--at" && e.span.is_none() => usage(e.message.clone(), "at", spec, &[("at".into(), at_text.clone())], None),
         _ => fail(&e, spec, &[("at".into(), at_text.clone())]),
     })?;

@@ -49,3 +49,24 @@ def test_bad_grid_is_an_input_error():
     with pytest.raises(canonode.InputError, match="start, stop, step") as e:
         canonode.scatter(RW, at={"M": 1, "l": 2, "s": 2}, omega=(0.5, 0.1, -0.1))
     assert e.value.source == "omega"
+
+
+def test_coupled_scatter_matches_the_command_line():
+    # Kerr scalar a = 0.99, l = m = 1, the separation constant from the
+    # spheroidal eigenvalue at each frequency (as tests/scatter.rs):
+    # superradiant below mΩ_H, about 0.4 % at the peak (Brito, Cardoso & Pani, from memory).
+    links = ["lam = A + a^2*omega^2 - 2*a*m*omega", "c = a*omega"]
+    s = canonode.scatter(
+        pathlib.Path("samples/teukolsky_radial.ode"),
+        at={"M": 1, "a": 0.99, "m": 1, "s": 0},
+        omega=("0.36", "0.40", "0.02"),
+        couple=pathlib.Path("samples/spheroidal_spin_weighted.ode"),
+        link=links,
+    )
+    doc = cli_json(
+        "scatter", "samples/teukolsky_radial.ode", "--at", "M=1,a=0.99,m=1,s=0",
+        "--couple", "samples/spheroidal_spin_weighted.ode", "--link", links[0], "--link", links[1],
+        "--omega", "0.36:0.40:0.02",
+    )
+    assert s.json["points"] == doc["points"]
+    assert all(t < 0 for t in s["transmission"]) and 0.003 < max(s["reflection"]) - 1 < 0.0045
