@@ -8,6 +8,7 @@ pub mod code;
 pub mod latex;
 pub mod numbers;
 pub mod record;
+pub mod region;
 pub(crate) mod report;
 pub mod scatter;
 pub mod spectrum;

@@ -17,6 +17,7 @@ pub mod integrate;
 pub mod modefn;
 pub mod periodic;
 pub mod polynomial;
+pub mod region;
 pub mod request;
 pub mod roots;
 pub mod scan;

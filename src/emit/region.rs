@@ -1,0 +1,144 @@
+//! The documents of a region search (`solve::region::RegionReport`): JSON
+//! (schema at the top of `src/cli/spectrum.rs`: the modes also carry the
+//! keys of a spectrum document — `converged`, `reason`, `method`,
+//! `evidence` — so one reader serves both), CSV and text. The command line
+//! and the Python package both render here.
+
+use super::numbers::fmt_complex;
+use crate::solve::region::RegionReport;
+use serde_json::{json, Value};
+
+/// A number for the region's description.
+fn fmt_num(x: f64) -> String {
+    let s = format!("{x}");
+    if s == "-0" {
+        "0".into()
+    } else {
+        s
+    }
+}
+
+/// The report as its JSON document.
+pub fn json(r: &RegionReport) -> Value {
+    let ms: Vec<Value> = r
+        .rows
+        .iter()
+        .map(|m| {
+            let spectral = json!([m.spectral.omega.re, m.spectral.omega.im]);
+            let distance = (m.omega - m.spectral.omega).norm();
+            json!({
+                "family": m.family.name(),
+                "n": m.n,
+                "mirror_of": m.mirror_of,
+                "omega": [m.omega.re, m.omega.im],
+                "converged": true,
+                "reason": Value::Null,
+                "method": m.polished_by,
+                "found_by": "spectral",
+                "spectral": spectral,
+                "spectral_change": m.spectral.change,
+                "polished_by": m.polished_by,
+                "polish_distance": distance,
+                "evidence": {"found_by": "spectral", "spectral": spectral, "spectral_change": m.spectral.change, "polish_distance": distance},
+                "check": m.check.map(|(k, w)| json!({"method": k, "omega": [w.re, w.im], "difference": (w - m.omega).norm()})),
+                "check_note": m.check_note,
+            })
+        })
+        .collect();
+    let rej: Vec<Value> = r.rejected.iter().map(|(w, why)| json!({"spectral": [w.re, w.im], "reason": why})).collect();
+    json!({
+        "frequency": r.frequency,
+        "boundary": "qnm",
+        "region": {"re": [r.region.re.0, r.region.re.1], "im": [r.region.im.0, r.region.im.1]},
+        "method": r.method,
+        "notes": r.problem_notes.iter().chain(&r.notes).cloned().collect::<Vec<_>>(),
+        "modes": ms,
+        "not_confirmed": rej,
+    })
+}
+
+/// The report as CSV, one line per mode.
+pub fn csv(r: &RegionReport) -> String {
+    let mut o = String::from("family,n,mirror_of,re,im,found_by,spectral_re,spectral_im,polished_by,polish_distance,check_method,check_difference\n");
+    for m in &r.rows {
+        let (cm, cd) = match m.check {
+            Some((k, w)) => (k.to_string(), format!("{:.3e}", (w - m.omega).norm())),
+            None => (String::new(), String::new()),
+        };
+        o.push_str(&format!(
+            "{},{},{},{:.17e},{:.17e},spectral,{:.17e},{:.17e},{},{:.3e},{},{}\n",
+            m.family.name(),
+            m.n,
+            m.mirror_of.map(|x| x.to_string()).unwrap_or_default(),
+            m.omega.re,
+            m.omega.im,
+            m.spectral.omega.re,
+            m.spectral.omega.im,
+            m.polished_by,
+            (m.omega - m.spectral.omega).norm(),
+            cm,
+            cd
+        ));
+    }
+    o
+}
+
+/// The report as text; `src_name` names the equation.
+pub fn text(r: &RegionReport, src_name: &str) -> String {
+    let fname = &r.frequency;
+    let region_text = format!(
+        "Re {fname} in [{}, {}], Im {fname} in [{}, {}]",
+        fmt_num(r.region.re.0),
+        fmt_num(r.region.re.1),
+        fmt_num(r.region.im.0),
+        fmt_num(r.region.im.1)
+    );
+    let mut o = String::new();
+    o.push_str(&format!("modes of {src_name} ({fname}) in the region {region_text}, time dependence e^(-i*{fname}*t)\n"));
+    for (side, e) in ["left end: ", "right end:"].iter().zip(r.ends.iter()) {
+        o.push_str(&format!(
+            "  {side} {} = {} ({}); condition: {}\n",
+            r.var,
+            crate::solve::boundary::location_text(e.location),
+            e.found,
+            e.condition.words()
+        ));
+    }
+    for n in &r.problem_notes {
+        o.push_str(&format!("  note: {n}\n"));
+    }
+    o.push_str(&format!("  found by: {}\n", r.method));
+    for n in &r.notes {
+        o.push_str(&format!("  note: {n}\n"));
+    }
+    o.push('\n');
+    if r.rows.is_empty() {
+        o.push_str("  no modes in this region\n");
+    } else {
+        o.push_str("  family            n  omega                                        found (spectral)  polished by  check by the other method\n");
+        for m in &r.rows {
+            let label = match m.mirror_of {
+                Some(_) => "  mirror".to_string(),
+                None => m.family.name().to_string(),
+            };
+            let check = match (m.check, &m.check_note) {
+                (Some((k, w)), _) => format!("{k}: differs by {:.1e}", (w - m.omega).norm()),
+                (None, Some(note)) => format!("none ({note})"),
+                (None, None) => "none".to_string(),
+            };
+            o.push_str(&format!(
+                "  {:<17} {:<2} {:<44} moved {:.1e}  {:<11}  {}\n",
+                label,
+                m.n,
+                fmt_complex(m.omega.re, m.omega.im),
+                (m.omega - m.spectral.omega).norm(),
+                m.polished_by,
+                check
+            ));
+        }
+    }
+    for (w, why) in &r.rejected {
+        o.push_str(&format!("  not a confirmed mode: spectral value {} ({why})\n", fmt_complex(w.re, w.im)));
+    }
+    o
+}
