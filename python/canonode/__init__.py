@@ -434,6 +434,8 @@ def spectrum(
     angular_index=0,
     angular_guess=None,
     ends=None,
+    region=None,
+    grid=48,
 ) -> Spectrum:
     """Quasinormal modes (``boundary="qnm"``), bound states (``"bound"``),
     quasi-bound states of massive fields (``"quasi-bound"``) or the
@@ -460,10 +462,16 @@ def spectrum(
     ``"LEFT[:COND]..RIGHT[:COND]"`` as the command line's ``--ends`` (e.g.
     ``"1..inf:normalisable"``); by default they follow from the roles of the
     singular points, and the document's ``notes`` say which were chosen.
+
+    ``region``: ``(re_from, re_to, im_from, im_to)``: every mode in that
+    rectangle with no guess (the global spectral method on ``grid``
+    intervals, each mode polished and checked; as ``--region``); the modes
+    then carry ``family`` and ``mirror_of`` in their ``json``.
     """
     inp = _input(equation, var, subst, at_infinity, dxdz, frequency)
     coupled = _coupled(couple, link, angular_index, angular_guess)
-    raw = _native.spectrum(inp, _values(at), _overtones(overtones), method, boundary, _seed(guess), float(tol), coupled, ends)
+    box = None if region is None else (tuple(float(x) for x in region), int(grid))
+    raw = _native.spectrum(inp, _values(at), _overtones(overtones), method, boundary, _seed(guess), float(tol), coupled, ends, box)
     return Spectrum(raw)
 
 

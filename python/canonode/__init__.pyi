@@ -145,6 +145,8 @@ def spectrum(
     angular_index: int = ...,
     angular_guess: Optional[complex] = ...,
     ends: Optional[str] = ...,
+    region: Optional[Tuple[float, float, float, float]] = ...,
+    grid: int = ...,
 ) -> Spectrum: ...
 def scan(
     equation: Text,

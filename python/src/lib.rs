@@ -622,7 +622,7 @@ type CoupleTuple = (String, String, Vec<String>, usize, Option<(String, String)>
 /// `spectrum`: the JSON document of `canonode spectrum --format json` and
 /// the time the library spent.
 #[pyfunction]
-#[pyo3(signature = (input, at, overtones, method, boundary, guess, tol, couple=None, ends=None))]
+#[pyo3(signature = (input, at, overtones, method, boundary, guess, tol, couple=None, ends=None, region=None))]
 #[allow(clippy::too_many_arguments)]
 fn spectrum(
     py: Python<'_>,
@@ -635,12 +635,13 @@ fn spectrum(
     tol: f64,
     couple: Option<CoupleTuple>,
     ends: Option<String>,
+    region: Option<((f64, f64, f64, f64), usize)>,
 ) -> PyResult<PyObject> {
     let spec = Spec::from_tuple(input);
     let couple = couple.map(|(text, name, links, index, guess)| workflows::Couple { text, name, links, index, guess });
     let (doc, secs) = run(py, move |_| {
         let t0 = Instant::now();
-        let req = workflows::Request { at, overtones, method, boundary, guess, tol, couple, ends };
+        let req = workflows::Request { at, overtones, method, boundary, guess, tol, couple, ends, region };
         let doc = workflows::spectrum(&spec, &req)?;
         Ok((doc, t0.elapsed().as_secs_f64()))
     })?;
@@ -669,7 +670,7 @@ fn scan(
 ) -> PyResult<PyObject> {
     let spec = Spec::from_tuple(input);
     let doc = run(py, move |cancel| {
-        let req = workflows::Request { at, overtones, method: "auto".into(), boundary: Some("qnm".into()), guess, tol, couple: None, ends: None };
+        let req = workflows::Request { at, overtones, method: "auto".into(), boundary: Some("qnm".into()), guess, tol, couple: None, ends: None, region: None };
         workflows::scan(&spec, &req, &vary, &values, check, cancel)
     })?;
     to_py(py, &doc)

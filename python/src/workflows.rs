@@ -34,6 +34,8 @@ pub struct Request {
     pub couple: Option<Couple>,
     /// The two ends and their conditions, `LEFT[:COND]..RIGHT[:COND]`.
     pub ends: Option<String>,
+    /// Every mode in the rectangle (Re from, to, Im from, to) and the global method's grid.
+    pub region: Option<((f64, f64, f64, f64), usize)>,
 }
 
 /// The angular side of a coupled solve.
@@ -192,6 +194,14 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
         closed_form: true,
         polynomial: None,
     };
+    if let Some(((r0, r1, i0, i1), grid)) = req.region {
+        if !(r0 < r1 && i0 < i1 && [r0, r1, i0, i1].iter().all(|x| x.is_finite())) {
+            return Err(usage("region= is (re_from, re_to, im_from, im_to) with finite numbers, each range non-empty", "region", spec, &[], None));
+        }
+        let region = canonode::solve::global::Region { re: (r0, r1), im: (i0, i1) };
+        let report = canonode::solve::region::region_modes(&red, &lreq, region, grid).map_err(|e| fail(&e, spec, &[("at".into(), at_text.clone())]))?;
+        return Ok(canonode::emit::region::json(&report));
+    }
     let report = canonode::solve::request::spectrum(&red, &lreq).map_err(|e| match (&e.origin, &aspec) {
         // Errors of the angular equation point into its own text.
         (Origin::Option(o), Some(aspec)) if o == ANGULAR_ORIGIN => {

@@ -166,3 +166,15 @@ def test_periodic_characteristic_values_as_written():
     for got, want in zip(s.omega, [-0.45513860, -0.11024882, 1.85910807]):
         assert abs(got.real - want) < 5.1e-9 and got.imag == 0.0
     assert [m.family["parity"] for m in s.modes] == ["even", "odd", "even"]
+
+
+def test_region_matches_the_command_line():
+    # Every mode in a rectangle with no guess (as `spectrum --region`):
+    # Schwarzschild s = l = 2, n = 0 and 1 (Leaver 1985, as tests/global.rs).
+    s = canonode.spectrum(RW, at={"M": 1, "l": 2, "s": 2}, region=(0, 1, -0.4, 0))
+    doc = cli_json("spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--region=0..1,-0.4..0")
+    assert s.json == doc
+    assert abs(s.omega[0] - (0.37367168 - 0.08896232j)) < 1e-7 and abs(s.omega[1] - (0.34671100 - 0.27391488j)) < 1e-7
+    assert s.modes[0].json["family"] == "oscillating"
+    with pytest.raises(canonode.InputError):
+        canonode.spectrum(RW, at={"M": 1, "l": 2, "s": 2}, region=(1, 0, -0.4, 0))
