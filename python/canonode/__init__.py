@@ -675,13 +675,30 @@ def scatter(
 # emit, record, check
 
 
-def emit(text, lang="c", *, what="q", name=None, var=None, subst=None, at_infinity=False, dxdz=None, frequency=None) -> str:
+def emit(
+    text,
+    lang="c",
+    *,
+    what="q",
+    name=None,
+    about=None,
+    series=None,
+    exponents=None,
+    var=None,
+    subst=None,
+    at_infinity=False,
+    dxdz=None,
+    frequency=None,
+) -> str:
     """C (``lang="c"``) or Rust (``"rust"``) source evaluating Q
     (``what="q"``), the Schrödinger potential (``"potential"``, needs
-    ``dxdz=``) or both (``"all"``), each form verified exactly; ``name`` is
-    the prefix of the emitted functions (default: from the file name)."""
+    ``dxdz=``), the recurrence coefficients (``"recurrence"``, needs
+    ``about=``, the expansion point as classify prints it, with
+    ``series=`` and ``exponents=`` as for :func:`record`) or all of them
+    (``"all"``), each form verified exactly; ``name`` is the prefix of the
+    emitted functions (default: from the file name)."""
     inp = _input(text, var, subst, at_infinity, dxdz, frequency)
-    return _native.emit(inp, lang, what, name)
+    return _native.emit(inp, lang, what, name, about, series, exponents)
 
 
 def record(source, *, path=None, about=None, series=None, exponents=None, subst=None, at_infinity=False, dxdz=None, frequency=None) -> str:

@@ -475,28 +475,49 @@ fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, bound
     if let Some(c) = &canon {
         text.push_str(&canonode::emit::canonical_text(k, &red.ode.unknown, c, vals.as_ref()));
     }
-    let picks = kind.map(|b| canonode::emit::BoundaryPicks { kind: if b == Boundary::Qnm { "quasinormal modes" } else { "bound states" }, choices: &said });
+    let picks =
+        kind.map(|b| canonode::emit::BoundaryPicks { kind: if b == Boundary::Qnm { "quasinormal modes" } else { "bound states" }, choices: &said });
     let latex = canonode::emit::analysis_latex(k, &red.var, &red.ode.unknown, &an, canon.as_ref(), picks.as_ref());
     Ok(serde_json::json!({"json": v, "text": text, "latex": latex}))
 }
 
-/// `emit`: C or Rust source evaluating Q (and the potential when `dxdz` is given).
+/// `emit`: C or Rust source evaluating Q, the potential (with `dxdz`) or
+/// the recurrence coefficients (with `about`), as `canonode emit`.
 #[pyfunction]
-#[pyo3(signature = (input, lang, what, prefix))]
-fn emit(py: Python<'_>, input: InputTuple, lang: String, what: String, prefix: Option<String>) -> PyResult<String> {
-    use canonode::emit::code::{emit_code, CodeRequest, FunctionKind, FunctionSpec, Lang};
+#[pyo3(signature = (input, lang, what, prefix, about=None, series=None, exponents=None))]
+#[allow(clippy::too_many_arguments)]
+fn emit(
+    py: Python<'_>,
+    input: InputTuple,
+    lang: String,
+    what: String,
+    prefix: Option<String>,
+    about: Option<String>,
+    series: Option<String>,
+    exponents: Option<String>,
+) -> PyResult<String> {
+    use canonode::emit::code::{emit_code, emit_functions, CodeRequest, EmitWhat, Lang};
     let spec = Spec::from_tuple(input);
     run(py, move |_| {
         let prefix = prefix.unwrap_or_else(|| canonode::emit::code::prefix_from_source(&spec.name));
-        let extra = [("lang".to_string(), lang.clone()), ("what".to_string(), what.clone()), ("name".to_string(), prefix.clone())];
+        let mut extra = vec![("lang".to_string(), lang.clone()), ("what".to_string(), what.clone()), ("name".to_string(), prefix.clone())];
+        extra.extend(
+            [("about", &about), ("series", &series), ("exponents", &exponents)]
+                .iter()
+                .filter_map(|(n, v)| v.as_ref().map(|v| (n.to_string(), v.clone()))),
+        );
         let lang = match lang.as_str() {
             "c" | "C" => Lang::C,
             "rust" | "Rust" => Lang::Rust,
             _ => return Err(usage(format!("'{lang}' is not a target language: use 'c' or 'rust'"), "lang", &spec, &extra, None)),
         };
-        if !matches!(what.as_str(), "q" | "potential" | "all") {
-            return Err(usage(format!("'{what}' cannot be emitted here: use 'q', 'potential' or 'all'"), "what", &spec, &extra, None));
-        }
+        let want = match what.as_str() {
+            "q" => EmitWhat::Q,
+            "potential" => EmitWhat::Potential,
+            "recurrence" => EmitWhat::Recurrence,
+            "all" => EmitWhat::All,
+            _ => return Err(usage(format!("'{what}' cannot be emitted: use 'q', 'potential', 'recurrence' or 'all'"), "what", &spec, &extra, None)),
+        };
         if !canonode::emit::code::valid_prefix(&prefix) {
             return Err(usage(
                 format!("'{prefix}' is not an identifier: use ASCII letters, digits and _, not starting with a digit"),
@@ -507,50 +528,25 @@ fn emit(py: Python<'_>, input: InputTuple, lang: String, what: String, prefix: O
             ));
         }
         let red = canonode::ode::reduce(&spec.input(), &spec.options()).map_err(|e| fail(&e, &spec, &[]))?;
-        if what == "potential" && red.schrodinger.is_none() {
+        if want == EmitWhat::Potential && red.schrodinger.is_none() {
             return Err(usage("what='potential' needs dxdz= (dx/dz of the Schrödinger form, e.g. '1/f')", "what", &spec, &extra, None));
         }
-        let var = red.var.clone();
-        let named: Vec<_> = if red.change.is_none() { red.ode.lets.iter().map(|(_, v)| v.clone()).collect() } else { Vec::new() };
-        let mut functions = Vec::new();
-        let mut skipped = Vec::new();
-        if what != "potential" {
-            functions.push(FunctionSpec {
-                kind: FunctionKind::Q,
-                field: &red.field,
-                outputs: vec![red.normal.q.clone()],
-                about: vec![format!("Q of the normal form psi'' + Q psi = 0 of {}, at z = {var} (the equation's variable):", spec.name)],
-                named: named.clone(),
-            });
+        if want == EmitWhat::Recurrence && about.is_none() {
+            return Err(usage("what='recurrence' needs about= (the expansion point, as classify prints it)", "what", &spec, &extra, None));
         }
-        if what != "q" {
-            match &red.schrodinger {
-                Some(s) => functions.push(FunctionSpec {
-                    kind: FunctionKind::Potential,
-                    field: &red.field,
-                    outputs: vec![s.v.clone()],
-                    about: vec![format!(
-                        "The potential V of phi_xx + ({}^2 - V) phi = 0 with dx/d{var} = {}, at z = {var}:",
-                        s.frequency.as_deref().unwrap_or("omega"),
-                        spec.option_text("--dxdz").unwrap_or_default()
-                    )],
-                    named,
-                }),
-                None => skipped.push("the potential (give --dxdz EXPR)".to_string()),
+        let rec = match (&about, matches!(want, EmitWhat::Recurrence | EmitWhat::All)) {
+            (Some(p), true) => {
+                let choices = match &exponents {
+                    Some(t) => canonode::analysis::canonical::Choices::parse(t).map_err(|e| fail(&e.in_option("--exponents"), &spec, &extra))?,
+                    None => canonode::analysis::canonical::Choices::default(),
+                };
+                Some(canonode::series::requested(&red, p, series.as_deref(), &choices, false).map_err(|e| fail(&e, &spec, &extra))?)
             }
-        }
-        if what == "all" {
-            skipped.push("the recurrence coefficients (give --about POINT)".to_string());
-        }
-        let req = CodeRequest {
-            lang,
-            prefix,
-            source: spec.name.clone(),
-            params: red.field.names()[1..].to_vec(),
-            functions,
-            skipped,
-            limits: Default::default(),
+            _ => None,
         };
+        let dxdz = spec.option_text("--dxdz");
+        let (functions, skipped, params) = emit_functions(&red, &spec.name, dxdz.as_deref(), want, rec.as_ref());
+        let req = CodeRequest { lang, prefix, source: spec.name.clone(), params, functions, skipped, limits: Default::default() };
         Ok(emit_code(&req).map_err(|e| fail(&e, &spec, &[]))?.text)
     })
 }
@@ -670,7 +666,17 @@ fn scan(
 ) -> PyResult<PyObject> {
     let spec = Spec::from_tuple(input);
     let doc = run(py, move |cancel| {
-        let req = workflows::Request { at, overtones, method: "auto".into(), boundary: Some("qnm".into()), guess, tol, couple: None, ends: None, region: None };
+        let req = workflows::Request {
+            at,
+            overtones,
+            method: "auto".into(),
+            boundary: Some("qnm".into()),
+            guess,
+            tol,
+            couple: None,
+            ends: None,
+            region: None,
+        };
         workflows::scan(&spec, &req, &vary, &values, check, cancel)
     })?;
     to_py(py, &doc)

@@ -199,7 +199,8 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
             return Err(usage("region= is (re_from, re_to, im_from, im_to) with finite numbers, each range non-empty", "region", spec, &[], None));
         }
         let region = canonode::solve::global::Region { re: (r0, r1), im: (i0, i1) };
-        let report = canonode::solve::region::region_modes(&red, &lreq, region, grid).map_err(|e| fail(&e, spec, &[("at".into(), at_text.clone())]))?;
+        let report =
+            canonode::solve::region::region_modes(&red, &lreq, region, grid).map_err(|e| fail(&e, spec, &[("at".into(), at_text.clone())]))?;
         return Ok(canonode::emit::region::json(&report));
     }
     let report = canonode::solve::request::spectrum(&red, &lreq).map_err(|e| match (&e.origin, &aspec) {

@@ -21,6 +21,19 @@ def test_emit_potential_matches_the_command_line():
     assert canonode.emit(pathlib.Path("samples/regge_wheeler.ode"), "c", what="all", dxdz="1/f", name="rw") == out
 
 
+def test_emit_recurrence_matches_the_command_line():
+    # The recurrence coefficients (Leaver's three-term recurrence about the horizon), and all at once.
+    for lang in ("c", "rust"):
+        out, _ = cli("emit", "samples/regge_wheeler.ode", "--lang", lang, "--what", "recurrence", "--about", "2*M", "--exponents", "2*M=2,inf=1")
+        got = canonode.emit(pathlib.Path("samples/regge_wheeler.ode"), lang, what="recurrence", about="2*M", exponents="2*M=2,inf=1")
+        assert got == out
+    out, _ = cli("emit", "samples/regge_wheeler.ode", "--what", "all", "--dxdz", "1/f", "--about", "2*M", "--exponents", "2*M=2,inf=1")
+    got = canonode.emit(pathlib.Path("samples/regge_wheeler.ode"), what="all", dxdz="1/f", about="2*M", exponents="2*M=2,inf=1")
+    assert got == out
+    with pytest.raises(canonode.InputError, match="about"):
+        canonode.emit(pathlib.Path("samples/regge_wheeler.ode"), what="recurrence")
+
+
 def test_emit_errors():
     with pytest.raises(canonode.InputError, match="not an identifier"):
         canonode.emit(pathlib.Path("samples/bessel.ode"), "c", name="1x")

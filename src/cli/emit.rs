@@ -4,7 +4,7 @@
 
 use super::recurrence::SeriesArgs;
 use super::{run_command, Failure, InputArgs};
-use crate::emit::code::{emit_code, prefix_from_source, CodeRequest, FunctionKind, FunctionSpec, Lang};
+use crate::emit::code::{emit_code, emit_functions, prefix_from_source, CodeRequest, EmitWhat, Lang};
 use clap::{Args, ValueEnum};
 
 /// Target languages.
@@ -78,79 +78,20 @@ fn compute(a: &EmitArgs, src: &super::Source) -> Result<String, Failure> {
         ));
     }
     let red = a.input.reduce(src)?;
-    let var = red.var.clone();
-    // The file's `let`s are building blocks in the file's own variable only, not after a change of variable.
-    let named: Vec<_> = if red.change.is_none() { red.ode.lets.iter().map(|(_, v)| v.clone()).collect() } else { Vec::new() };
-    let mut functions = Vec::new();
-    let mut skipped = Vec::new();
-    let want = |w: WhatArg| a.what == w || a.what == WhatArg::All;
-    if want(WhatArg::Q) {
-        functions.push(FunctionSpec {
-            kind: FunctionKind::Q,
-            field: &red.field,
-            outputs: vec![red.normal.q.clone()],
-            about: vec![format!("Q of the normal form psi'' + Q psi = 0 of {}, at z = {var} (the equation's variable):", src.name)],
-            named: named.clone(),
-        });
-    }
-    if want(WhatArg::Potential) {
-        match &red.schrodinger {
-            Some(s) => functions.push(FunctionSpec {
-                kind: FunctionKind::Potential,
-                field: &red.field,
-                outputs: vec![s.v.clone()],
-                about: vec![format!(
-                    "The potential V of phi_xx + ({}^2 - V) phi = 0 with dx/d{var} = {}, at z = {var}:",
-                    s.frequency.as_deref().unwrap_or("omega"),
-                    a.input.dxdz.as_deref().unwrap_or("")
-                )],
-                named: named.clone(),
-            }),
-            None => skipped.push("the potential (give --dxdz EXPR)".to_string()),
-        }
-    }
-    let rec = match (&a.about, want(WhatArg::Recurrence)) {
+    let rec = match (&a.about, matches!(a.what, WhatArg::Recurrence | WhatArg::All)) {
         (Some(about), true) => Some(a.series.derive(&red, about)?),
-        (None, true) => {
-            skipped.push("the recurrence coefficients (give --about POINT)".to_string());
-            None
-        }
         _ => None,
     };
-    if let Some(rec) = &rec {
-        let n = &rec.field.names()[0];
-        let k = rec.coeffs.len();
-        functions.push(FunctionSpec {
-            kind: FunctionKind::Recurrence,
-            field: &rec.field,
-            outputs: rec.coeffs.clone(),
-            about: vec![
-                format!(
-                    "The {k}-term recurrence sum_j c[j]({n}) a[{n}+1-j] = 0 for {} = {} * sum a[{n}] u^{n}, {}.",
-                    rec.function, rec.prefactor, rec.series
-                ),
-                format!("Choices: {}. The argument n is {n}.", rec.choices.join("; ")),
-            ]
-            .into_iter()
-            .chain((rec.field.names().len() > red.field.names().len()).then(|| {
-                let t = rec.field.names().last().expect("θ");
-                format!(
-                    "{t} = p[{}] is the adjoined root the series is about (canonode classify names its polynomial): pass its value.",
-                    rec.field.names().len() - 2
-                )
-            }))
-            .collect(),
-            named: Vec::new(),
-        });
-    }
+    let what = match a.what {
+        WhatArg::Q => EmitWhat::Q,
+        WhatArg::Potential => EmitWhat::Potential,
+        WhatArg::Recurrence => EmitWhat::Recurrence,
+        WhatArg::All => EmitWhat::All,
+    };
+    let (functions, skipped, params) = emit_functions(&red, &src.name, a.input.dxdz.as_deref(), what, rec.as_ref());
     let lang = match a.lang {
         LangArg::C => Lang::C,
         LangArg::Rust => Lang::Rust,
-    };
-    // A recurrence about an adjoined root θ takes θ as the last parameter.
-    let params = match &rec {
-        Some(r) if r.field.names().len() > red.field.names().len() => r.field.names()[1..].to_vec(),
-        _ => red.field.names()[1..].to_vec(),
     };
     let req = CodeRequest { lang, prefix, source: src.name.clone(), params, functions, skipped, limits: Default::default() };
     let out = emit_code(&req)?;

@@ -1,7 +1,6 @@
 //! `canonode recurrence`: the series recurrence about a regular singular point.
 
 use super::{run_command, Failure, Format, InputArgs};
-use crate::error::{Error, ErrorKind};
 use clap::Args;
 
 /// Arguments of `recurrence`.
@@ -46,15 +45,7 @@ impl SeriesArgs {
     /// The recurrence about `about` with these choices.
     pub(crate) fn derive(&self, red: &crate::ode::Reduction, about: &str) -> Result<crate::series::Recurrence, Failure> {
         let choices = super::classify::parse_choices(self.exponents.as_deref())?;
-        if crate::series::names_root(about) {
-            if self.series.is_some() || self.normal {
-                return Err(Error::new(ErrorKind::Usage, "about θ the series variable is fixed (u = (z − θ)/(z − θ')) and the unknown is expanded")
-                    .in_option("--about")
-                    .into());
-            }
-            return Ok(crate::series::recurrence_about_root(red, &choices)?.rec);
-        }
-        let rec = crate::series::recurrence(red, about, self.series.as_deref(), &choices, self.normal).map_err(|e| {
+        let rec = crate::series::requested(red, about, self.series.as_deref(), &choices, self.normal).map_err(|e| {
             if e.origin == crate::error::Origin::Option("--about".into()) && e.span.is_none() {
                 e.at(crate::syntax::Span::new(0, about.len()))
             } else {

@@ -491,3 +491,90 @@ mod tests {
         assert_eq!(literal(-2.0), "-2.0");
     }
 }
+
+/// What an emit request asks for.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum EmitWhat {
+    /// Q of the normal form.
+    Q,
+    /// The Schrödinger potential (needs dx/dz).
+    Potential,
+    /// The recurrence coefficients (needs a recurrence).
+    Recurrence,
+    /// Everything available; what is missing is listed as skipped.
+    All,
+}
+
+/// The functions of an emit request, what was skipped and why, and the
+/// parameter list of every entry point — the one assembly the command line
+/// and the Python package share. `dxdz` is the Schrödinger form's dx/dz as
+/// the user gave it (for the comment), `rec` the recurrence when one was
+/// derived.
+pub fn emit_functions<'a>(
+    red: &'a crate::ode::Reduction,
+    source: &str,
+    dxdz: Option<&str>,
+    what: EmitWhat,
+    rec: Option<&'a crate::series::Recurrence>,
+) -> (Vec<FunctionSpec<'a>>, Vec<String>, Vec<String>) {
+    let var = &red.var;
+    // The file's `let`s are building blocks in the file's own variable only, not after a change of variable.
+    let named: Vec<_> = if red.change.is_none() { red.ode.lets.iter().map(|(_, v)| v.clone()).collect() } else { Vec::new() };
+    let want = |w: EmitWhat| what == w || what == EmitWhat::All;
+    let mut functions = Vec::new();
+    let mut skipped = Vec::new();
+    if want(EmitWhat::Q) {
+        functions.push(FunctionSpec {
+            kind: FunctionKind::Q,
+            field: &red.field,
+            outputs: vec![red.normal.q.clone()],
+            about: vec![format!("Q of the normal form psi'' + Q psi = 0 of {source}, at z = {var} (the equation's variable):")],
+            named: named.clone(),
+        });
+    }
+    if want(EmitWhat::Potential) {
+        match &red.schrodinger {
+            Some(s) => functions.push(FunctionSpec {
+                kind: FunctionKind::Potential,
+                field: &red.field,
+                outputs: vec![s.v.clone()],
+                about: vec![format!(
+                    "The potential V of phi_xx + ({}^2 - V) phi = 0 with dx/d{var} = {}, at z = {var}:",
+                    s.frequency.as_deref().unwrap_or("omega"),
+                    dxdz.unwrap_or("")
+                )],
+                named: named.clone(),
+            }),
+            None => skipped.push("the potential (give dx/dz)".to_string()),
+        }
+    }
+    match (rec, want(EmitWhat::Recurrence)) {
+        (Some(rec), true) => {
+            let n = &rec.field.names()[0];
+            let k = rec.coeffs.len();
+            let mut about = vec![
+                format!(
+                    "The {k}-term recurrence sum_j c[j]({n}) a[{n}+1-j] = 0 for {} = {} * sum a[{n}] u^{n}, {}.",
+                    rec.function, rec.prefactor, rec.series
+                ),
+                format!("Choices: {}. The argument n is {n}.", rec.choices.join("; ")),
+            ];
+            if rec.field.names().len() > red.field.names().len() {
+                let t = rec.field.names().last().expect("θ");
+                about.push(format!(
+                    "{t} = p[{}] is the adjoined root the series is about (canonode classify names its polynomial): pass its value.",
+                    rec.field.names().len() - 2
+                ));
+            }
+            functions.push(FunctionSpec { kind: FunctionKind::Recurrence, field: &rec.field, outputs: rec.coeffs.clone(), about, named: Vec::new() });
+        }
+        (None, true) => skipped.push("the recurrence coefficients (give the expansion point)".to_string()),
+        _ => {}
+    }
+    // A recurrence about an adjoined root θ takes θ as the last parameter.
+    let params = match rec {
+        Some(r) if r.field.names().len() > red.field.names().len() => r.field.names()[1..].to_vec(),
+        _ => red.field.names()[1..].to_vec(),
+    };
+    (functions, skipped, params)
+}

@@ -446,6 +446,20 @@ pub fn names_root(about: &str) -> bool {
     matches!(about.trim(), "θ" | "theta")
 }
 
+/// The recurrence a user asked for: about a point as printed, or about the
+/// root θ of an irreducible quadratic (whose series variable is fixed), with
+/// an optional series variable `u=EXPR`, exponent choices and the normal form's
+/// ψ expanded instead of the unknown.
+pub fn requested(red: &Reduction, about: &str, series: Option<&str>, choices: &Choices, normal: bool) -> Result<Recurrence> {
+    if names_root(about) {
+        if series.is_some() || normal {
+            return Err(usage("about θ the series variable is fixed (u = (z − θ)/(z − θ')) and the unknown is expanded").in_option("--about"));
+        }
+        return Ok(recurrence_about_root(red, choices)?.rec);
+    }
+    recurrence(red, about, series, choices, normal)
+}
+
 /// The symbol adjoined for a root θ of the quadratic `f` (in `k`'s variable
 /// 0) and what it stands for: θ itself when `f` is monic, else φ = c₂θ
 /// (c₂ the leading coefficient), the symbol [`recurrence_at_root`] uses; a
