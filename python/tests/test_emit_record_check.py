@@ -27,7 +27,7 @@ def test_emit_recurrence_matches_the_command_line():
         out, _ = cli("emit", "samples/regge_wheeler.ode", "--lang", lang, "--what", "recurrence", "--about", "2*M", "--exponents", "2*M=2,inf=1")
         got = canonode.emit(pathlib.Path("samples/regge_wheeler.ode"), lang, what="recurrence", about="2*M", exponents="2*M=2,inf=1")
         assert got == out
-    out, _ = cli("emit", "samples/regge_wheeler.ode", "--what", "all", "--dxdz", "1/f", "--about", "2*M", "--exponents", "2*M=2,inf=1")
+    out, _ = cli("emit", "samples/regge_wheeler.ode", "--lang", "c", "--what", "all", "--dxdz=1/f", "--about", "2*M", "--exponents", "2*M=2,inf=1")
     got = canonode.emit(pathlib.Path("samples/regge_wheeler.ode"), what="all", dxdz="1/f", about="2*M", exponents="2*M=2,inf=1")
     assert got == out
     with pytest.raises(canonode.InputError, match="about"):
