@@ -208,6 +208,20 @@ fn kerr_scalar_is_superradiant_below_m_omega_h() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// `scatter` of the Kerr scalar (s = 0, l = m = 1, a = 0.99M) coupled to the spheroidal equation.
+const KERR_COUPLED: &[&str] = &[
+    "scatter",
+    "samples/teukolsky_radial.ode",
+    "--at",
+    "M=1,a=0.99,m=1,s=0",
+    "--couple",
+    "samples/spheroidal_spin_weighted.ode",
+    "--link",
+    "lam = A + a^2*omega^2 - 2*a*m*omega",
+    "--link",
+    "c = a*omega",
+];
+
 /// A Kerr scalar (s = 0, l = m = 1, a = 0.99M) with the separation constant
 /// from the spheroidal eigenvalue solved at every frequency (`--couple`):
 /// superradiant exactly below mΩ_H, the peak amplification about 0.4 %
@@ -217,20 +231,7 @@ fn kerr_scalar_is_superradiant_below_m_omega_h() {
 /// second-order result, e.g. Abramowitz & Stegun 21.7, from memory).
 #[test]
 fn kerr_scalar_superradiance_with_the_spheroidal_eigenvalue() {
-    let pts = points(&[
-        "scatter",
-        "samples/teukolsky_radial.ode",
-        "--at",
-        "M=1,a=0.99,m=1,s=0",
-        "--couple",
-        "samples/spheroidal_spin_weighted.ode",
-        "--link",
-        "lam = A + a^2*omega^2 - 2*a*m*omega",
-        "--link",
-        "c = a*omega",
-        "--omega",
-        "0.05:0.6:0.025",
-    ]);
+    let pts = points(&[KERR_COUPLED, &["--omega", "0.05:0.6:0.025"]].concat());
     let omega_h = 0.99 / (2.0 * (1.0 + (1.0f64 - 0.99 * 0.99).sqrt()));
     let mut peak: f64 = 0.0;
     for p in &pts {
@@ -244,21 +245,6 @@ fn kerr_scalar_superradiance_with_the_spheroidal_eigenvalue() {
     }
     assert!(peak > 0.003 && peak < 0.0045, "largest amplification {peak}");
     // A sum over multipoles needs one angular problem per multipole: refused.
-    let (_, code, err) = run(&[
-        "scatter",
-        "samples/teukolsky_radial.ode",
-        "--at",
-        "M=1,a=0.99,m=1,s=0",
-        "--couple",
-        "samples/spheroidal_spin_weighted.ode",
-        "--link",
-        "lam = A + a^2*omega^2 - 2*a*m*omega",
-        "--link",
-        "c = a*omega",
-        "--omega",
-        "0.1:0.2:0.1",
-        "--sum-l",
-        "1..2",
-    ]);
+    let (_, code, err) = run(&[KERR_COUPLED, &["--omega", "0.1:0.2:0.1", "--sum-l", "1..2"]].concat());
     assert_eq!(code, 2, "{err}");
 }

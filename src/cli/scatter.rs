@@ -121,14 +121,7 @@ fn compute(a: &ScatterArgs, src: &super::Source) -> Result<String, Failure> {
     };
     super::options::angular_index(a.couple.angular_index)?;
     let angular_guess = super::values::parse_seed(a.couple.angular_guess.as_deref(), "--angular-guess")?;
-    let couple = a.couple.read(&red.field)?.map(|(asrc, ared, links)| crate::solve::request::CoupleRequest {
-        angular: ared,
-        name: asrc.name.clone(),
-        links,
-        link_texts: a.couple.link.clone(),
-        index: a.couple.angular_index,
-        guess: angular_guess,
-    });
+    let couple = a.couple.request(&red.field, angular_guess)?.map(|(_, c)| c);
     let req = ScatterRequest { frequency: a.input.frequency_name(), values: parse_assignments(&a.at, "--at")?, sum, wkb_order: a.wkb_order, couple };
     let setup = scatter_setup(&red, &req).map_err(|e| match &e.origin {
         // An option error without a place points at the whole option.

@@ -261,6 +261,19 @@ impl CoupleArgs {
         extra
     }
 
+    /// The library's request for the angular side (its source beside it),
+    /// when `--couple` is given; `guess` is the parsed `--angular-guess`.
+    pub(crate) fn request(
+        &self,
+        radial: &crate::algebra::Field,
+        guess: Option<Complex64>,
+    ) -> Result<Option<(super::Source, CoupleRequest)>, Failure> {
+        Ok(self.read(radial)?.map(|(asrc, ared, links)| {
+            let c = CoupleRequest { angular: ared, name: asrc.name.clone(), links, link_texts: self.link.clone(), index: self.angular_index, guess };
+            (asrc, c)
+        }))
+    }
+
     /// The angular equation and the parsed links, when `--couple` is given.
     pub(crate) fn read(
         &self,
@@ -352,19 +365,8 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
         super::options::plot_path(p)?;
     }
     let red = a.input.reduce(src)?;
-    let coupled_input = a.couple.read(&red.field)?;
-    let (asrc, couple) = match coupled_input {
-        Some((asrc, ared, links)) => {
-            let c = CoupleRequest {
-                angular: ared,
-                name: asrc.name.clone(),
-                links,
-                link_texts: a.couple.link.clone(),
-                index: a.couple.angular_index,
-                guess: angular_guess,
-            };
-            (Some(asrc), Some(c))
-        }
+    let (asrc, couple) = match a.couple.request(&red.field, angular_guess)? {
+        Some((asrc, c)) => (Some(asrc), Some(c)),
         None => (None, None),
     };
     let req = request(a, &red, overtones, guess, couple)?;
