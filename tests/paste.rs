@@ -309,6 +309,17 @@ fn periodic_values_phrased_otherwise() {
         }
     }
     assert!(shifted.iter().all(|g| g.1.is_none()), "no parity without the symmetry: {shifted:?}");
+    // An argument a·x + b is a translation of the variable: cos(2x + 1/3) has Mathieu's values
+    // (exact), the map names the shift, and arguments shifted differently are refused at their place.
+    let phase = characteristic(&["-e", "y'' + (a - 2*q*cos(2*x + 1/3))*y = 0", "--var", "x"], "q=1", "0..4");
+    for (g, b) in phase.iter().zip(&base) {
+        assert!((g.0 - b.0).abs() < 1e-11 && g.3 == b.3, "{g:?} vs {b:?}");
+    }
+    let out = canonode(&["classify", "-e", "y'' + (a - 2*q*cos(2*x + 1/3))*y = 0", "--var", "x"]);
+    assert!(String::from_utf8_lossy(&out.stderr).contains("zeta = exp(2*I*(x + 1/6))"), "{}", String::from_utf8_lossy(&out.stderr));
+    let out = canonode(&["classify", "-e", "y'' + (a - cos(2*x + 1/3) - sin(2*x))*y = 0", "--var", "x"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("shifted by different amounts"));
     // q = 0: a = n² exactly (y = cos nx, sin nx), n² doubly for n ≥ 1 (exact).
     let free = characteristic(&["-e", "y'' + (a - 2*q*cos(2*x))*y = 0", "--var", "x"], "q=0", "0..6");
     for (g, w) in free.iter().zip([0.0, 1.0, 1.0, 4.0, 4.0, 9.0, 9.0]) {

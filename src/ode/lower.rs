@@ -96,6 +96,9 @@ pub struct ExpMap {
     /// tanh(c·x/2), which has no more singular points and maps the real line
     /// onto (−1, 1).
     pub tanh: bool,
+    /// x₀ of ζ = e^(c(x − x₀)) when the arguments were written a·x + b (in the
+    /// old field, free of x; zero otherwise).
+    pub shift: RatFunc,
 }
 
 /// A map asked for by name: `NEW=exp(ARG)` with ARG a multiple of the variable.
@@ -313,9 +316,11 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
     }
     // The slope a of every argument a·x.
     let mut slopes = Vec::new();
+    let mut shifts = Vec::new();
     let mut trig: Option<(bool, Span)> = None;
     for (func, arg, span) in &calls {
-        let a = linear_slope(&field, &names, arg)?;
+        let (a, x0) = linear_slope(&field, &names, arg)?;
+        shifts.push((arg.span, x0));
         match trig {
             Some((t, first)) if t != func.is_trigonometric() => {
                 return Err(err(
@@ -332,7 +337,11 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
     }
     let i_unit = RatFunc::constant(&GRat { re: Rat::zero(), im: Rat::one() });
     let candidates: Vec<RatFunc> = match request {
-        Some(req) => vec![linear_slope(&field, &names, &req.exponent).map_err(|e| e.in_option("--map"))?],
+        Some(req) => {
+            let (a, x0) = linear_slope(&field, &names, &req.exponent).map_err(|e| e.in_option("--map"))?;
+            shifts.push((req.exponent.span, x0));
+            vec![a]
+        }
         None => {
             let g = common_step(&field, &slopes)?;
             let unit = if trig.is_some_and(|(t, _)| t) { field.mul(&g, &i_unit)? } else { g };
@@ -340,6 +349,7 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
             vec![field.mul(&two, &unit)?, unit]
         }
     };
+    let shift = common_shift(&field, &names, &shifts)?;
     let new_var = match request {
         Some(req) => {
             if names.contains(&req.new_var) {
@@ -374,7 +384,7 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
                     let g = tf.div(&tf.add(&one, &u)?, &tf.sub(&one, &u)?)?;
                     let (pu, qu) = super::transform::change_variable(&tf, &p, &q, &g)?;
                     if singular_count(&tf, &pu, &qu)? <= singular_count(&nf, &p, &q)? {
-                        let map = ExpMap { old_var: var.clone(), new_var: u_name.clone(), c: c.clone(), tanh: true };
+                        let map = ExpMap { old_var: var.clone(), new_var: u_name.clone(), c: c.clone(), tanh: true, shift: shift.clone() };
                         let ode = LinearOde {
                             field: tf,
                             var: u_name,
@@ -388,7 +398,7 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
                         return Ok((ode, Some(map)));
                     }
                 }
-                let map = ExpMap { old_var: var.clone(), new_var: new_var.clone(), c: c.clone(), tanh: false };
+                let map = ExpMap { old_var: var.clone(), new_var: new_var.clone(), c: c.clone(), tanh: false, shift: shift.clone() };
                 let ode = LinearOde {
                     field: nf,
                     var: new_var.clone(),
@@ -434,19 +444,36 @@ fn collect_calls<'e>(e: &'e Expr, out: &mut Vec<(Func, &'e Expr, Span)>) {
     }
 }
 
-/// The slope a of an argument that must be a·x (a free of x, no constant term).
-fn linear_slope(field: &Field, names: &[String], arg: &Expr) -> Result<RatFunc> {
+/// The slope a and the shift x₀ of an argument that must be a·(x − x₀)
+/// (a free of x and nonzero, x₀ free of x).
+fn linear_slope(field: &Field, names: &[String], arg: &Expr) -> Result<(RatFunc, RatFunc)> {
     let v = lower_rational(field, names, &[], arg)?;
     let a = field.deriv(&v, 0)?;
     if a.uses_var(0) || a.is_zero() {
         return Err(err(ErrorKind::NotRational, format!("the argument must be a nonzero multiple of '{}' (linear in it)", names[0]), arg.span));
     }
     let rest = field.sub(&v, &field.mul(&a, &field.var(0))?)?;
-    if !rest.is_zero() {
-        return Err(err(ErrorKind::NotRational, format!("the argument has a constant part besides its multiple of '{}'", names[0]), arg.span)
-            .note(format!("shift the variable first so that every argument is a multiple of '{}'", names[0])));
+    let shift = field.neg(&field.div(&rest, &a)?);
+    Ok((a, shift))
+}
+
+/// The one shift x₀ every argument a·(x − x₀) shares (zero when none has a
+/// constant part): with it the map is ζ = e^(c(x − x₀)), a translation of
+/// the variable; different shifts have no common map.
+fn common_shift(field: &Field, names: &[String], shifts: &[(Span, RatFunc)]) -> Result<RatFunc> {
+    let Some((_, first)) = shifts.first() else { return Ok(RatFunc::zero()) };
+    for (span, x0) in shifts {
+        if field.sub(x0, first)?.is_zero() {
+            continue;
+        }
+        return Err(err(
+            ErrorKind::NotRational,
+            format!("the arguments are shifted by different amounts along '{}': no one change of variable makes them all rational", names[0]),
+            *span,
+        )
+        .note(format!("write every argument as a multiple of the same '{} − x0'", names[0])));
     }
-    Ok(a)
+    Ok(first.clone())
 }
 
 /// The largest step g with every slope an integer multiple of it (the first slope's sign).

@@ -185,7 +185,15 @@ pub fn exp_map_text(map: &ExpMap, ode: &LinearOde) -> String {
         _ if c.contains(['+', '/']) || c[1..].contains('-') => format!("({c})*"),
         _ => format!("{c}*"),
     };
-    format!("{} = {function}({times}{})", map.new_var, map.old_var)
+    let mut old_names = vec![map.old_var.clone()];
+    old_names.extend(ode.params.iter().cloned());
+    let x0 = crate::algebra::print::ratfunc_text(&map.shift, &old_names, crate::algebra::print::Style::Text);
+    let arg = crate::algebra::print::shifted(&map.old_var, &x0, crate::algebra::print::Style::Text);
+    let arg = match (times.is_empty(), arg.strip_prefix('(').and_then(|a| a.strip_suffix(')'))) {
+        (true, Some(inner)) => inner.to_string(),
+        _ => arg,
+    };
+    format!("{} = {function}({times}{arg})", map.new_var)
 }
 
 /// The variable of an inline equation: the one named (by `--var` or its
