@@ -35,6 +35,26 @@ fn finite_or_null(x: f64) -> Value {
     }
 }
 
+/// A mode object: `n`, `omega` (null unless the value stands), `converged`,
+/// `reason` (null when it stands), `method`, then `rest`'s keys in order —
+/// the one place a mode's value and status are written.
+fn mode_json(n: u32, value: Result<Complex64, String>, method: &str, rest: Value) -> Value {
+    let (omega, converged, reason) = match value {
+        Ok(w) => (pair(w), true, Value::Null),
+        Err(why) => (Value::Null, false, Value::String(why)),
+    };
+    let mut m = serde_json::Map::new();
+    m.insert("n".into(), json!(n));
+    m.insert("omega".into(), omega);
+    m.insert("converged".into(), json!(converged));
+    m.insert("reason".into(), reason);
+    m.insert("method".into(), json!(method));
+    if let Value::Object(r) = rest {
+        m.extend(r);
+    }
+    Value::Object(m)
+}
+
 fn opt_num(x: Option<f64>) -> Value {
     x.map(finite_or_null).unwrap_or(Value::Null)
 }
@@ -279,12 +299,8 @@ fn recurrence_json(fname: &str, b: &RecurrenceReport) -> Value {
         .enumerate()
         .map(|(i, m)| {
             let r = &m.root;
-            json!({
-                "n": m.n,
-                "omega": if r.converged { pair(r.omega) } else { Value::Null },
-                "converged": r.converged,
-                "reason": if r.converged { Value::Null } else { Value::String(r.stop.text()) },
-                "method": m.method.tag(),
+            let value = if r.converged { Ok(r.omega) } else { Err(r.stop.text()) };
+            let rest = json!({
                 "evidence": {
                     "inversion": r.inversion,
                     "depth": r.depth,
@@ -318,7 +334,8 @@ fn recurrence_json(fname: &str, b: &RecurrenceReport) -> Value {
                     }),
                     None => Value::Null,
                 },
-            })
+            });
+            mode_json(m.n, value, m.method.tag(), rest)
         })
         .collect();
     let setup = &b.setup;
@@ -520,12 +537,8 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
         .enumerate()
         .map(|(i, m)| {
             let r = &m.root;
-            json!({
-                "n": m.n,
-                "omega": if r.converged { pair(r.omega) } else { Value::Null },
-                "converged": r.converged,
-                "reason": if r.converged { Value::Null } else { Value::String(r.reason.clone()) },
-                "method": "integrate",
+            let value = if r.converged { Ok(r.omega) } else { Err(r.reason.clone()) };
+            let rest = json!({
                 "evidence": {
                     "change_on_refinement": finite_or_null(r.change),
                     "residual": finite_or_null(r.residual),
@@ -540,7 +553,8 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
                     },
                     None => Value::Null,
                 },
-            })
+            });
+            mode_json(m.n, value, "integrate", rest)
         })
         .collect();
     let ends: Vec<Value> = b
@@ -893,27 +907,21 @@ fn periodic_json(fname: &str, b: &PeriodicReport) -> Value {
         .modes
         .iter()
         .map(|m| {
-            (
-                m.n,
-                json!({
-                    "n": m.n,
-                    "omega": pair(m.value),
-                    "converged": true,
-                    "reason": Value::Null,
-                    "method": "truncation",
-                    "family": {
-                        "multiplier": m.floquet.multiplier(),
-                        "parity": m.parity.map(|p| p.tag()),
-                        "index": m.index,
-                    },
-                    "evidence": {"change_on_truncation": finite_or_null(m.change), "truncation": [s.truncation.0, s.truncation.1]},
-                    "check": periodic_check_json(m),
-                }),
-            )
+            let rest = json!({
+                "family": {
+                    "multiplier": m.floquet.multiplier(),
+                    "parity": m.parity.map(|p| p.tag()),
+                    "index": m.index,
+                },
+                "evidence": {"change_on_truncation": finite_or_null(m.change), "truncation": [s.truncation.0, s.truncation.1]},
+                "check": periodic_check_json(m),
+            });
+            (m.n, mode_json(m.n, Ok(m.value), "truncation", rest))
         })
         .collect();
     ms.extend(s.missing.iter().map(|x| {
-        (x.n, json!({"n": x.n, "omega": Value::Null, "converged": false, "reason": x.reason, "method": "truncation", "family": Value::Null, "evidence": Value::Null, "check": Value::Null}))
+        let rest = json!({"family": Value::Null, "evidence": Value::Null, "check": Value::Null});
+        (x.n, mode_json(x.n, Err(x.reason.clone()), "truncation", rest))
     }));
     ms.sort_by_key(|(n, _)| *n);
     json!({
