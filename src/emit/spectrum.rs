@@ -548,8 +548,8 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
                 },
                 "check": match b.checks.get(i).and_then(|c| c.as_ref()) {
                     Some(c) => match c.omega {
-                        Some(w) => json!({"method": "spectral", "omega": pair(w), "agreement": finite_or_null(c.agreement)}),
-                        None => json!({"method": "spectral", "omega": Value::Null, "reason": c.reason}),
+                        Some(w) => json!({"method": c.method.tag(), "omega": pair(w), "agreement": finite_or_null(c.agreement)}),
+                        None => json!({"method": c.method.tag(), "omega": Value::Null, "reason": c.reason}),
                     },
                     None => Value::Null,
                 },
@@ -621,9 +621,7 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
             ));
             if let Some(c) = b.checks.get(i).and_then(|c| c.as_ref()) {
                 match c.omega {
-                    Some(w) => {
-                        o.push_str(&format!("     check: global spectral method {}, agreement {:.1e}\n", fmt_complex(w.re, w.im), c.agreement))
-                    }
+                    Some(w) => o.push_str(&format!("     check: {} {}, agreement {:.1e}\n", c.method.words(), fmt_complex(w.re, w.im), c.agreement)),
                     None => o.push_str(&format!("     check: none: {}\n", c.reason)),
                 }
             }

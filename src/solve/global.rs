@@ -115,6 +115,10 @@ impl Bi {
         }
         acc
     }
+    /// The polynomial in s at one value of ω (a single ω column).
+    fn collapse(&self, w: Complex64) -> Bi {
+        Bi(self.0.iter().map(|r| vec![r.iter().rev().fold(ZERO, |acc, x| acc * w + x)]).collect())
+    }
     /// The largest coefficient's modulus.
     fn size(&self) -> f64 {
         self.0.iter().flatten().map(|x| x.norm()).fold(0.0, f64::max)
@@ -241,16 +245,35 @@ fn infinity_powers(bp: &BoundaryProblem, w: Complex64) -> Option<[Complex64; 2]>
 /// Factors out the chosen behaviour at both ends (each affine in ω).
 pub fn factors(bp: &BoundaryProblem) -> Result<Factors> {
     let s = bp.scale;
+    build_factors(bp, &|pick, both, what| fit(s, pick, both, what))
+}
+
+/// The behaviour at both ends frozen at one trial value ω: each exponent,
+/// power or rate evaluated there, whatever its dependence on ω (a square
+/// root for a massive field), as a constant.
+fn frozen_factors(bp: &BoundaryProblem, w: Complex64) -> Result<Factors> {
+    build_factors(bp, &|pick, _, what| {
+        let v = pick(w).filter(|v| v.re.is_finite() && v.im.is_finite());
+        v.map(|c0| Affine { c0, c1: ZERO }).ok_or_else(|| usage(format!("{what} could not be evaluated at {}", fmt_c(w))))
+    })
+}
+
+/// One end quantity as a function of ω: from its pick (the branch the
+/// condition chooses), both branches, and its name in words.
+type Shape<'a> = &'a dyn Fn(&dyn Fn(Complex64) -> Option<Complex64>, &dyn Fn(Complex64) -> Option<[Complex64; 2]>, &str) -> Result<Affine>;
+
+/// The behaviour at both ends, each quantity given its ω-dependence by `shape`.
+fn build_factors(bp: &BoundaryProblem, shape: Shape) -> Result<Factors> {
     let [left, right] = &bp.ends;
     let Location::At(a) = left.location else { return Err(usage("the left end must be finite")) };
     let lp = |w: Complex64| finite_pick(bp, a, left.condition, w);
     let lb = |w: Complex64| exponents_at(&bp.ode, a, w);
-    let lf = fit(s, &lp, &lb, "the exponent at the left end")?;
+    let lf = shape(&lp, &lb, "the exponent at the left end")?;
     let (rf, mu, map) = match (right.location, right.nature) {
         (Location::At(b), _) => {
             let rp = |w: Complex64| finite_pick(bp, b, right.condition, w);
             let rb = |w: Complex64| exponents_at(&bp.ode, b, w);
-            (fit(s, &rp, &rb, "the exponent at the right end")?, None, format!("z = {a} + ({b} − {a})(1 + x)/2"))
+            (shape(&rp, &rb, "the exponent at the right end")?, None, format!("z = {a} + ({b} − {a})(1 + x)/2"))
         }
         (Location::Infinity, Nature::Regular | Nature::Horizon) => {
             let slower = match right.condition {
@@ -265,7 +288,7 @@ pub fn factors(bp: &BoundaryProblem) -> Result<Factors> {
                 Some(if p_first != slower { p } else { q })
             };
             let both = |w: Complex64| infinity_powers(bp, w);
-            (fit(s, &pick, &both, "the power at infinity")?, None, String::new())
+            (shape(&pick, &both, "the power at infinity")?, None, String::new())
         }
         (Location::Infinity, Nature::IrregularRank1) => {
             let cond = right.condition;
@@ -274,8 +297,8 @@ pub fn factors(bp: &BoundaryProblem) -> Result<Factors> {
             let nu_pick = |w: Complex64| branch(w).map(|b| b.1);
             let mu_both = |w: Complex64| branch(w).map(|b| [b.0, b.0]);
             let nu_both = |w: Complex64| branch(w).map(|b| [b.1, b.1]);
-            let mu = fit(s, &mu_pick, &mu_both, "the exponential rate μ at infinity")?;
-            let nu = fit(s, &nu_pick, &nu_both, "the power ν at infinity")?;
+            let mu = shape(&mu_pick, &mu_both, "the exponential rate μ at infinity")?;
+            let nu = shape(&nu_pick, &nu_both, "the power ν at infinity")?;
             (nu, Some(mu), String::new())
         }
     };
@@ -317,7 +340,11 @@ fn s_is_one_minus_x(x: f64) -> f64 {
 /// The remainder's coefficients, s(x), and s at the two ends.
 type Chart = ([Bi; 3], fn(f64) -> f64, [f64; 2]);
 
-fn remainder(bp: &BoundaryProblem, f: &Factors, theta: f64) -> Result<Remainder> {
+/// The remainder's equation; at an infinite right end the map's length is
+/// the anchor length times `stretch` (≥ 1). With `at`, the equation at that
+/// one value of ω (the factors frozen there), so that the factors vanishing
+/// at the ends are those of the value, not of every power of ω.
+fn remainder(bp: &BoundaryProblem, f: &Factors, theta: f64, stretch: f64, at: Option<Complex64>) -> Result<Remainder> {
     let [left, right] = &bp.ends;
     let Location::At(a) = left.location else { return Err(usage("the left end must be finite")) };
     let lin = |root: Complex64| Bi::in_s(&[-root, cx(1.0)]); // z − root
@@ -332,7 +359,7 @@ fn remainder(bp: &BoundaryProblem, f: &Factors, theta: f64) -> Result<Remainder>
         Location::Infinity => {
             // At an irregular infinity the ray runs at the angle θ (complex scaling).
             let turn = if f.exp_rate.is_some() { Complex64::from_polar(1.0, theta) } else { cx(1.0) };
-            let l = turn * anchor_length(bp, a);
+            let l = turn * anchor_length(bp, a) * stretch;
             let c = a - l;
             let d1 = lin(cx(a)).mul(&lin(c));
             let rest = Affine { c0: f.right.c0 - f.left.c0, c1: f.right.c1 - f.left.c1 };
@@ -377,6 +404,9 @@ fn remainder(bp: &BoundaryProblem, f: &Factors, theta: f64) -> Result<Remainder>
             ([c2, c1, c0p], s_is_one_minus_x, [2.0, 0.0])
         }
     };
+    if let Some(w) = at {
+        c = [c[0].collapse(w), c[1].collapse(w), c[2].collapse(w)];
+    }
     // Divide out the factors common to the three coefficients at each end.
     for s0 in ends {
         for _ in 0..64 {
@@ -411,13 +441,20 @@ fn grid_failure(n: usize, why: &str) -> Error {
 /// The eigenvalues of the collocation problem on `n` intervals, by shift
 /// and invert about σ.
 fn grid_eigenvalues(r: &Remainder, n: usize, sigma: Complex64) -> Result<Vec<Complex64>> {
+    if r.c.iter().map(|p| p.deg_w()).max().unwrap_or(0) == 0 {
+        return Err(usage("the equation does not depend on the spectral parameter"));
+    }
+    let m = grid_matrices(r, n)?;
+    pencil_eigenvalues(m, sigma).map_err(|why| grid_failure(n, &why))
+}
+
+/// The collocation matrices M_d of Σ_d ω^d M_d v = 0 on `n` intervals, each
+/// row scaled to unit largest entry.
+fn grid_matrices(r: &Remainder, n: usize) -> Result<Vec<DMatrix<Complex64>>> {
     let (x, d) = super::collocation::cheb(n);
     let d2 = &d * &d;
     let np = n + 1;
     let k = r.c.iter().map(|p| p.deg_w()).max().unwrap_or(0);
-    if k == 0 {
-        return Err(usage("the equation does not depend on the spectral parameter"));
-    }
     let mut m: Vec<DMatrix<Complex64>> = vec![DMatrix::zeros(np, np); k + 1];
     for j in 0..np {
         let s = (r.s_of_x)(x[j]);
@@ -444,7 +481,7 @@ fn grid_eigenvalues(r: &Remainder, n: usize, sigma: Complex64) -> Result<Vec<Com
             }
         }
     }
-    pencil_eigenvalues(m, sigma).map_err(|why| grid_failure(n, &why))
+    Ok(m)
 }
 
 /// The eigenvalues ω of the polynomial eigenvalue problem Σ_d ω^d M_d v = 0
@@ -545,7 +582,7 @@ pub fn try_spectral(bp: &BoundaryProblem, n: usize, tol: f64, sigma: Complex64, 
         return Err(usage(format!("the grid must have 8 to 400 intervals, not {n}")));
     }
     let f = factors(bp)?;
-    let r = remainder(bp, &f, theta)?;
+    let r = remainder(bp, &f, theta, 1.0, None)?;
     let n2 = n + n / 2;
     let coarse = grid_eigenvalues(&r, n, sigma)?;
     let fine = grid_eigenvalues(&r, n2, sigma)?;
@@ -708,6 +745,134 @@ pub fn modes_in(bp: &BoundaryProblem, region: Region, n: usize, tol: f64) -> Res
         }
     }
     Ok((sp, found, rejected))
+}
+
+/// A root of the collocation problem with the ends' behaviour frozen at
+/// each trial value (see [`collocation_root`]).
+#[derive(Clone, Debug)]
+pub struct CollocationRoot {
+    /// The root on the finer grid (the last iterate when not converged).
+    pub omega: Complex64,
+    /// True when both grids' searches converged and their roots agree.
+    pub converged: bool,
+    /// |ω(finer grid) − ω(coarser grid)| (NaN when a search failed).
+    pub change: f64,
+    /// The two grids (numbers of intervals) of the last attempt.
+    pub grids: (usize, usize),
+    /// Why the search stopped, in words.
+    pub reason: String,
+}
+
+/// The coarser grids [`collocation_root`] tries in turn (each with ⌊3N/2⌋).
+pub const ROOT_GRIDS: [usize; 4] = [32, 48, 72, 108];
+
+/// Muller iterations per grid in [`collocation_root`].
+const ROOT_ITER: usize = 40;
+
+/// A fixed vector of unit-modulus entries for the bordering (deterministic,
+/// with no structure the collocation matrix could be orthogonal to).
+fn border(np: usize, a: f64, b: f64) -> nalgebra::DVector<Complex64> {
+    nalgebra::DVector::from_fn(np, |i, _| Complex64::from_polar(1.0, a * i as f64 + b))
+}
+
+/// The bordered scalar g(ω) = −1/(cᵀA(ω)⁻¹b) of the collocation matrix A(ω)
+/// on `n` intervals, with the ends' behaviour frozen at ω: zero exactly where
+/// A(ω) is singular, analytic in ω where the behaviour is.
+fn bordered(bp: &BoundaryProblem, n: usize, theta: f64, stretch: f64, w: Complex64) -> std::result::Result<Complex64, String> {
+    let f = frozen_factors(bp, w).map_err(|e| e.message)?;
+    let r = remainder(bp, &f, theta, stretch, Some(w)).map_err(|e| e.message)?;
+    let a = grid_matrices(&r, n).map_err(|e| e.message)?.swap_remove(0);
+    let np = n + 1;
+    let Some(y) = a.lu().solve(&border(np, 0.7, 0.3)) else { return Ok(ZERO) };
+    let d = border(np, 1.9, 1.1).iter().zip(y.iter()).fold(ZERO, |acc, (c, y)| acc + c * y);
+    let g = -1.0 / d;
+    if g.re.is_finite() && g.im.is_finite() {
+        Ok(g)
+    } else {
+        Err("the bordered collocation system is not finite".into())
+    }
+}
+
+/// An eigenvalue by Chebyshev collocation where the behaviour at the ends
+/// is not affine in ω (e^(−√(μ² − ω²) z) of a massive field, say), so that
+/// the global method's polynomial eigenvalue problem cannot be formed: at
+/// each trial ω the behaviour chosen at both ends is evaluated and factored
+/// out, the remainder's collocation matrix A(ω) formed as in [`try_spectral`],
+/// and the root of the bordered scalar −1/(cᵀA(ω)⁻¹b) (fixed vectors b, c;
+/// the bordering technique, common practice) found by Muller's method from
+/// `seed`. The grids N and ⌊3N/2⌋ must give the same root to
+/// `agree` × max(|ω|, scale); N runs through [`ROOT_GRIDS`] until they do,
+/// and the result says why it stopped.
+pub fn collocation_root(bp: &BoundaryProblem, seed: Complex64, agree: f64) -> CollocationRoot {
+    let right = &bp.ends[1];
+    let theta = match (right.location, right.nature, right.condition) {
+        (Location::Infinity, Nature::IrregularRank1, Condition::Outgoing) if seed.im < 0.0 => {
+            if seed.re >= 0.0 {
+                TURN
+            } else {
+                -TURN
+            }
+        }
+        _ => 0.0,
+    };
+    // A slowly decaying or growing exponential (a quasi-bound state near
+    // threshold) lives far out: the map is stretched to the geometric mean
+    // of the anchor length and the decay length 1/|μ| at the seed, so that
+    // both the end region and the far region are resolved.
+    let stretch = match (right.location, frozen_factors(bp, seed)) {
+        (Location::Infinity, Ok(Factors { exp_rate: Some(mu), .. })) => {
+            let Location::At(a) = bp.ends[0].location else {
+                return CollocationRoot {
+                    omega: seed,
+                    converged: false,
+                    change: f64::NAN,
+                    grids: (0, 0),
+                    reason: "the left end must be finite".into(),
+                };
+            };
+            let l0 = anchor_length(bp, a);
+            (1.0 / (mu.c0.norm() * l0)).sqrt().clamp(1.0, 1e3)
+        }
+        _ => 1.0,
+    };
+    let tol = 1e-3 * agree;
+    let root = |n: usize, from: Complex64| {
+        let g = |w: Complex64| bordered(bp, n, theta, stretch, w);
+        super::roots::muller(&g, from, 1e-4, tol, ROOT_ITER)
+    };
+    let mut last = CollocationRoot { omega: seed, converged: false, change: f64::NAN, grids: (0, 0), reason: "no grid was tried".into() };
+    for n in ROOT_GRIDS {
+        let n2 = n + n / 2;
+        let (w1, _, s1) = root(n, seed);
+        if let Err(e) = s1 {
+            last = CollocationRoot { omega: w1, converged: false, change: f64::NAN, grids: (n, n2), reason: format!("grid {n}: {e}") };
+            continue;
+        }
+        let (w2, _, s2) = root(n2, w1);
+        if let Err(e) = s2 {
+            last = CollocationRoot { omega: w2, converged: false, change: f64::NAN, grids: (n, n2), reason: format!("grid {n2}: {e}") };
+            continue;
+        }
+        let change = (w2 - w1).norm();
+        let reach = agree * w2.norm().max(bp.scale);
+        if change <= reach {
+            return CollocationRoot {
+                omega: w2,
+                converged: true,
+                change,
+                grids: (n, n2),
+                reason: format!("grids {n} and {n2} agree to {change:.1e}"),
+            };
+        }
+        last = CollocationRoot {
+            omega: w2,
+            converged: false,
+            change,
+            grids: (n, n2),
+            reason: format!("grids {n} and {n2} differ by {change:.1e} (more than {reach:.1e}) at the finest grid tried"),
+        };
+    }
+    last
 }
 
 fn fmt_c(w: Complex64) -> String {

@@ -208,9 +208,38 @@ pub struct EndsReport {
     pub check_note: String,
 }
 
-/// The global spectral method's eigenvalue beside a mode found by direct integration.
+/// The second method beside direct integration between the ends.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum CheckMethod {
+    /// The global spectral method's eigenvalue nearest the mode.
+    Spectral,
+    /// The root of the collocation problem with the ends' behaviour frozen
+    /// at each trial value, from the mode (exponents not affine in ω).
+    Collocation,
+}
+
+impl CheckMethod {
+    /// The tag in documents.
+    pub fn tag(self) -> &'static str {
+        match self {
+            CheckMethod::Spectral => "spectral",
+            CheckMethod::Collocation => "collocation",
+        }
+    }
+    /// The method in words.
+    pub fn words(self) -> &'static str {
+        match self {
+            CheckMethod::Spectral => "global spectral method",
+            CheckMethod::Collocation => "collocation root",
+        }
+    }
+}
+
+/// The second method's value beside a mode found by direct integration.
 #[derive(Clone, Debug)]
 pub struct SpectralCheck {
+    /// Which second method.
+    pub method: CheckMethod,
     /// The spectral eigenvalue, when one lies near the mode.
     pub omega: Option<Complex64>,
     /// |spectral − mode| / |mode| (NaN without a value).
@@ -902,6 +931,9 @@ fn spectral_checks(bp: &BoundaryProblem, modes: &[EndMode]) -> (Vec<Option<Spect
     let region = Region { re: (re0 - pad, re1 + pad), im: (im0 - pad, top) };
     // The coarser grid first: kept when it has an eigenvalue near every
     // converged mode, else the finer one decides.
+    if let Err(e) = super::global::factors(bp) {
+        return collocation_checks(bp, modes, &e.message);
+    }
     let mut sp = None;
     for n in SEED_GRIDS {
         let s = match spectral_in(bp, region, n, DEFAULT_PERSIST) {
@@ -931,9 +963,10 @@ fn spectral_checks(bp: &BoundaryProblem, modes: &[EndMode]) -> (Vec<Option<Spect
             let reach = 1e-4 * w.norm().max(bp.scale);
             Some(match near {
                 Some(v) if (v.omega - w).norm() <= reach => {
-                    SpectralCheck { omega: Some(v.omega), agreement: (v.omega - w).norm() / w.norm().max(f64::MIN_POSITIVE), reason: String::new() }
+                    SpectralCheck { method: CheckMethod::Spectral, omega: Some(v.omega), agreement: (v.omega - w).norm() / w.norm().max(f64::MIN_POSITIVE), reason: String::new() }
                 }
                 _ => SpectralCheck {
+                    method: CheckMethod::Spectral,
                     omega: None,
                     agreement: f64::NAN,
                     reason: format!(
@@ -947,6 +980,47 @@ fn spectral_checks(bp: &BoundaryProblem, modes: &[EndMode]) -> (Vec<Option<Spect
     let words = format!(
         "second method: the global spectral method (Chebyshev collocation of the remainder after the ends' behaviour, grids {} and {} agreeing to {:.0e}), its eigenvalue nearest each mode",
         sp.grids.0, sp.grids.1, sp.tol
+    );
+    (checks, words)
+}
+
+/// The second method where the global one cannot be formed (`why`): for
+/// each converged mode, the root of the collocation problem with the ends'
+/// behaviour frozen at each trial value, from the mode
+/// ([`super::global::collocation_root`], grids agreeing to 1e-9).
+fn collocation_checks(bp: &BoundaryProblem, modes: &[EndMode], why: &str) -> (Vec<Option<SpectralCheck>>, String) {
+    const AGREE: f64 = 1e-9;
+    let mut grids = (0, 0);
+    let checks = modes
+        .iter()
+        .map(|m| {
+            if !m.root.converged {
+                return None;
+            }
+            let w = m.root.omega;
+            let r = super::global::collocation_root(bp, w, AGREE);
+            grids = grids.max(r.grids);
+            let reach = 1e-4 * w.norm().max(bp.scale);
+            Some(if r.converged && (r.omega - w).norm() <= reach {
+                SpectralCheck {
+                    method: CheckMethod::Collocation,
+                    omega: Some(r.omega),
+                    agreement: (r.omega - w).norm() / w.norm().max(f64::MIN_POSITIVE),
+                    reason: String::new(),
+                }
+            } else {
+                let reason = if r.converged {
+                    format!("the collocation root from this mode is {:.10}{:+.10}i, farther than {reach:.1e}: another mode", r.omega.re, r.omega.im)
+                } else {
+                    format!("the collocation root did not converge: {}", r.reason)
+                };
+                SpectralCheck { method: CheckMethod::Collocation, omega: None, agreement: f64::NAN, reason }
+            })
+        })
+        .collect();
+    let words = format!(
+        "second method: Chebyshev collocation with the ends' behaviour evaluated at each trial value (the global method's polynomial problem cannot be formed: {why}), the root of its bordered determinant from each mode, grids up to {} and {} agreeing to {AGREE:.0e}",
+        grids.0, grids.1
     );
     (checks, words)
 }
