@@ -396,3 +396,44 @@ fn scans_need_no_guess_at_their_first_point() {
     let w = (m["omega"][0].as_f64().unwrap(), m["omega"][1].as_f64().unwrap());
     assert!((w.0 - 0.37367168).abs() < 5e-9 && (w.1 + 0.08896232).abs() < 5e-9, "{w:?}");
 }
+
+#[test]
+fn a_survey_equals_the_exact_derivation_at_each_point() {
+    // The survey derives its recurrence once with M and q symbolic and
+    // only evaluates it per point; `spectrum` substitutes each point
+    // exactly and derives again. The two must agree (1e-10 relative) at
+    // generic points (the horizon a root of an irreducible quadratic), at
+    // q = 0 (r² − 2Mr + q² splits: solved exactly in the survey too) and
+    // where M² − q² is a rational square (M = 0.5, q = 0.3: r₊ = 0.9).
+    let out = ok(&["scan", RN, "--vary", "M=0.5:0.7:0.1", "--vary", "q=0:0.3:0.1", "--at", "l=2", "--no-check"]);
+    let got = rows(&out);
+    assert_eq!(got.len(), 12);
+    for (_, v, _, re, im) in got {
+        let at = format!("M={},q={},l=2", v[0], v[1]);
+        let doc: serde_json::Value = serde_json::from_str(&ok(&["spectrum", RN, "--at", &at, "--format", "json", "--tol", "1e-12"])).unwrap();
+        let w = &doc["modes"][0]["omega"];
+        let want = (w[0].as_f64().unwrap(), w[1].as_f64().unwrap());
+        let d = ((re - want.0).powi(2) + (im - want.1).powi(2)).sqrt() / (want.0.powi(2) + want.1.powi(2)).sqrt();
+        assert!(d < 1e-10, "at {at}: ({re}, {im}) against {want:?}");
+    }
+}
+
+#[test]
+fn a_two_parameter_grid_is_drawn_as_colour_maps() {
+    // Colour maps of Re ω and Im ω over the grid, the axes named, the
+    // "no value" colour explained in the legend. Only the presence of
+    // these texts is checked, not the picture.
+    let d = dir("map");
+    let svg = d.join("map.svg");
+    ok(&["scan", RN, "--vary", "M=0.5:0.9:0.1", "--vary", "q=0:0.2:0.05", "--at", "l=2", "--no-check", "--plot", &path(&svg)]);
+    let text = std::fs::read_to_string(&svg).unwrap();
+    for want in ["Re omega, n=0 (omega; l=2)", "Im omega, n=0", "no value (the mode did not converge, or the point failed): 0 at n=0, of 25 points"] {
+        assert!(text.contains(want), "no {want:?} in the map");
+    }
+    // Asked for on a survey of one parameter: refused before any work.
+    let o = canonode(&["scan", RN, "--vary", "q=0:0.2:0.1", "--at", "M=1,l=2", "--plot", &path(&d.join("x.svg")), "--plot-style", "map"], &[]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("a colour map needs a grid of exactly two --vary parameters"));
+    assert!(!d.join("x.svg").exists());
+    std::fs::remove_dir_all(&d).ok();
+}

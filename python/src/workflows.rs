@@ -247,11 +247,13 @@ pub fn scan(spec: &Spec, req: &Request, vary: &str, values: &Values, check: bool
     let opts = spec.options();
     let make = || -> canonode::error::Result<canonode::solve::scan::PointSolver<'_>> {
         let red = canonode::ode::reduce(&spec.input(), &opts)?;
+        // The command line's own point solver, so that the digits are its.
+        let solve = canonode::solve::scan::survey_solver(red, &[vi]);
         Ok(Box::new(move |o: &SpectrumOptions, check: bool| {
             if cancel.load(Ordering::SeqCst) {
                 return Err(Error::new(ErrorKind::Usage, "interrupted"));
             }
-            canonode::solve::scan::single_point(&red, o, check)
+            solve(o, check)
         }))
     };
     let len = grid.len();

@@ -77,6 +77,8 @@ fn compute(a: &RecurrenceArgs, src: &super::Source) -> Result<String, Failure> {
                 "index": n,
                 "coefficients": (0..rec.coeffs.len()).map(|j| serde_json::json!({"multiplies": rec.subscript(j), "coefficient": rec.coefficient_text(j)})).collect::<Vec<_>>(),
             });
+            // Each expression with its LaTeX beside it (`coefficient`, `coefficient_latex`).
+            let v = crate::emit::latex::with_latex(v, &["ansatz", "prefactor", "series", "coefficient"]);
             format!("{}\n", serde_json::to_string_pretty(&v).unwrap_or_default())
         }
         Format::Latex => crate::emit::recurrence_latex(&rec),

@@ -7,7 +7,7 @@ use super::spectrum::SpecFormat;
 use super::Failure;
 use crate::error::{Error, ErrorKind};
 use crate::solve::global::Region;
-use crate::solve::scan::PlaneMode;
+use crate::solve::plot::PlaneMode;
 
 fn bad(msg: String) -> Failure {
     Error::new(ErrorKind::Usage, msg).in_option("--region").into()

@@ -10,7 +10,8 @@ use super::values::parse_assignments;
 use super::{run_command, Failure, InputArgs};
 use crate::algebra::{GRat, Rat};
 use crate::error::{Error, ErrorKind};
-use crate::solve::scan::{plot, single_point, survey, Flow, PointSolver, ScanPoint, SurveyEnd, Trail, Walk};
+use crate::solve::plot::{plot_map, plot_survey};
+use crate::solve::scan::{survey, survey_solver, Flow, PointSolver, ScanPoint, SurveyEnd, Trail, Walk};
 use crate::solve::spectrum::SpectrumOptions;
 use clap::{Args, ValueEnum};
 use std::io::IsTerminal;
@@ -25,6 +26,17 @@ pub(crate) enum ScanFormat {
     Jsonl,
     /// One JSON document at the end: {`parameter`, `frequency`, `points` [{`index`, `value`, `error`, `modes` [{`n`, `omega`, `converged`, `reason`, `check`}]}]} (with several parameters `parameters` and each point's `values`).
     Json,
+}
+
+/// How `scan --plot` draws a survey.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub(crate) enum PlotStyle {
+    /// Colour maps for a grid of two --vary parameters with at least 5 values each, curves otherwise.
+    Auto,
+    /// Re ω and Im ω against the last varied parameter, one colour per value of the others.
+    Curves,
+    /// Colour maps of Re ω and Im ω over a grid of two --vary parameters, one row per overtone.
+    Map,
 }
 
 /// Arguments of `scan`.
@@ -59,6 +71,9 @@ pub(crate) struct ScanArgs {
     /// Write a plot of the scanned modes, SVG or PNG by the extension.
     #[arg(long = "plot", value_name = "FILE.svg|FILE.png")]
     plot: Option<String>,
+    /// How --plot draws the survey.
+    #[arg(long = "plot-style", value_enum, default_value = "auto", requires = "plot")]
+    plot_style: PlotStyle,
     /// Skip the direct-integration check at every point.
     #[arg(long = "no-check")]
     no_check: bool,
@@ -81,6 +96,9 @@ pub(crate) fn run(a: &ScanArgs) -> u8 {
     extra.extend(a.shard.iter().map(|s| ("--shard".to_string(), s.clone())));
     extra.extend(a.guess.iter().map(|g| ("--guess".to_string(), g.clone())));
     extra.extend(a.plot.iter().map(|p| ("--plot".to_string(), p.clone())));
+    if a.plot_style == PlotStyle::Map {
+        extra.push(("--plot-style".to_string(), "map".to_string()));
+    }
     extra.extend(a.couple.option_texts());
     run_command(&a.input, &extra, |src| compute(a, src))
 }
@@ -124,6 +142,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
         }
     };
     let vnames: Vec<String> = walk.fields.iter().map(|&f| names[f].clone()).collect();
+    let map = map_style(a, &walk)?;
     let mut point = vec![GRat::zero(); names.len()];
     let mut given = vec![false; names.len()];
     given[0] = true;
@@ -250,10 +269,11 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     let bar = if std::io::stderr().is_terminal() && !super::capturing() { Some(indicatif::ProgressBar::new(total)) } else { None };
     let opts = a.input.options();
     let angular_text = coupled.as_ref().map(|c| c.0.text.clone());
+    let fields = walk.fields.clone();
     let make = || -> crate::error::Result<PointSolver<'_>> {
         let red = crate::ode::reduce(&src.input(), &opts)?;
         match &angular_text {
-            None => Ok(Box::new(move |o: &SpectrumOptions, check: bool| single_point(&red, o, check))),
+            None => Ok(survey_solver(red, &fields)),
             Some(text) => {
                 let ared = crate::ode::reduce(&crate::ode::Input::Program(text), &crate::ode::ReduceOptions::default())?;
                 let (names, links, at) = (names.clone(), links.clone(), angular_at.clone());
@@ -327,7 +347,8 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     if let Some(path) = &a.plot {
         // The fixed parameters in the titles, as given.
         let fixed = a.at.split(',').map(str::trim).filter(|t| !t.is_empty()).collect::<Vec<_>>().join(", ");
-        plot(std::path::Path::new(path), &kept, &vnames, &fname, &fixed)
+        let draw = if map { plot_map } else { plot_survey };
+        draw(std::path::Path::new(path), &kept, &vnames, &fname, &fixed)
             .map_err(|e| Failure::Plain(format!("error: cannot write the plot {path}: {e}"), 1))?;
     }
     if layout.is_some() {
@@ -346,6 +367,27 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
             Ok(String::new())
         }
         _ => Ok(text),
+    }
+}
+
+/// Whether `--plot` draws colour maps: asked for with `--plot-style map`
+/// (refused, before any work, unless the survey is a grid of two `--vary`
+/// parameters), or chosen by `auto` for such a grid with at least 5 values
+/// on each axis (fewer make a poor map and clear curves).
+fn map_style(a: &ScanArgs, walk: &Walk) -> Result<bool, Failure> {
+    let grid2 = a.points.is_none() && a.vary.len() == 2;
+    let sizes = || -> (usize, usize) {
+        let distinct = |k: usize| walk.points.iter().map(|p| p[k].clone()).collect::<std::collections::BTreeSet<_>>().len();
+        (distinct(0), distinct(1))
+    };
+    match a.plot_style {
+        PlotStyle::Curves => Ok(false),
+        PlotStyle::Auto => Ok(a.plot.is_some() && grid2 && {
+            let (x, y) = sizes();
+            x >= 5 && y >= 5
+        }),
+        PlotStyle::Map if grid2 => Ok(true),
+        PlotStyle::Map => Err(usage("a colour map needs a grid of exactly two --vary parameters", "--plot-style", 3)),
     }
 }
 

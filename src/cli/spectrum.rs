@@ -398,10 +398,10 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
 }
 
 /// With `--plot`: the modes in the complex plane, the fixed parameters in the title.
-fn write_plot(a: &SpectrumArgs, freq: &str, modes: &[crate::solve::scan::PlaneMode]) -> Result<(), Failure> {
+fn write_plot(a: &SpectrumArgs, freq: &str, modes: &[crate::solve::plot::PlaneMode]) -> Result<(), Failure> {
     let Some(path) = &a.plot else { return Ok(()) };
     let fixed = a.at.split(',').map(str::trim).filter(|t| !t.is_empty()).collect::<Vec<_>>().join(", ");
-    crate::solve::scan::plot_plane(std::path::Path::new(path), modes, freq, &fixed)
+    crate::solve::plot::plot_plane(std::path::Path::new(path), modes, freq, &fixed)
         .map_err(|e| Failure::Plain(format!("error: cannot write the plot {path}: {e}"), 1))
 }
 

@@ -18,6 +18,11 @@
 //! `branch_note` (text or null), `labels_basis` (text or null), `canonical`
 //! (null or the object of [`canonical_json`]), `boundary` (null or
 //! {`kind`, `choices` [text]}), `methods` [{`method`, `reason`, `source`}].
+//! Every expression (`where`, `exact`, `difference`, `apparent_condition`,
+//! `formal_solutions`, and the canonical form's `equation`, `map`,
+//! `prefactor` and parameters' `exact`) is followed by its LaTeX (math
+//! mode) under the same name with `_latex` appended (null beside null, an
+//! array beside an array), as in every JSON document (`emit::latex::with_latex`).
 //! At infinity exponents refer to t = 1/z: those of the normal form in t
 //! (ψ̃ = t·ψ up to a constant) and of the unknown as a function of t.
 
@@ -349,7 +354,7 @@ pub fn analysis_json(k: &Field, var: &str, params: &[String], a: &Analysis, nume
             }));
         }
     }
-    json!({
+    let doc = json!({
         "class": a.class,
         "class_name": class_name(&a.class),
         "reason": a.reason,
@@ -359,8 +364,12 @@ pub fn analysis_json(k: &Field, var: &str, params: &[String], a: &Analysis, nume
         "singular_points": pts,
         "branch_note": if numeric.is_some() && has_inexact_root(a) { Value::String(BRANCH_NOTE.into()) } else { Value::Null },
         "labels_basis": labels.map(|l| Value::String(l.basis.clone())).unwrap_or(Value::Null),
-    })
+    });
+    super::latex::with_latex(doc, CLASSIFY_EXPRESSIONS)
 }
+
+/// The members of `classify`'s JSON that hold expressions (each gets its LaTeX beside it).
+const CLASSIFY_EXPRESSIONS: &[&str] = &["where", "exact", "difference", "apparent_condition", "formal_solutions", "equation", "map", "prefactor"];
 
 /// A canonical parameter as exact text.
 pub(crate) fn param_text(k: &Field, p: &Param) -> String {
@@ -420,7 +429,7 @@ pub fn canonical_json(k: &Field, c: &Canonical, vals: Option<&crate::analysis::n
     for (n, p) in &c.parameters {
         params.insert(n.clone(), json!({"exact": param_text(k, p), "value": c2(vals.and_then(|v| param_value(v, p)))}));
     }
-    json!({
+    let doc = json!({
         "form": c.form,
         "source": c.source,
         "equation": c.equation,
@@ -429,7 +438,8 @@ pub fn canonical_json(k: &Field, c: &Canonical, vals: Option<&crate::analysis::n
         "choices": c.choices,
         "checks": c.checks,
         "parameters": Value::Object(params),
-    })
+    });
+    super::latex::with_latex(doc, CLASSIFY_EXPRESSIONS)
 }
 
 fn param_latex(k: &Field, p: &Param) -> String {

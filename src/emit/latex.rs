@@ -886,6 +886,55 @@ pub fn equation_latex(text: &str) -> Option<(String, String)> {
     Some((expr_latex(l)?, expr_latex(r)?))
 }
 
+/// Math-mode LaTeX for a text field of a JSON document: an expression
+/// ([`expr_latex`]), an equation `a = b` ([`equation_latex`]), else prose
+/// as `\text{…}` ([`prose_latex`]).
+pub fn field_latex(text: &str) -> String {
+    if let Some(e) = expr_latex(text) {
+        return e;
+    }
+    if let Some((l, r)) = equation_latex(text) {
+        return format!("{l} = {r}");
+    }
+    format!("\\text{{{}}}", prose_latex(text))
+}
+
+/// A JSON document with the LaTeX of its expressions beside them: every
+/// member named in `keys` whose value is a string (or null, or an array of
+/// strings) gets a sibling `NAME_latex` right after it with the
+/// [`field_latex`] of each string (null for null), at any depth. The
+/// convention of every JSON document that carries expressions.
+pub fn with_latex(doc: serde_json::Value, keys: &[&str]) -> serde_json::Value {
+    use serde_json::Value;
+    match doc {
+        Value::Object(m) => {
+            let mut out = serde_json::Map::new();
+            for (k, v) in m {
+                let tex = if keys.contains(&k.as_str()) {
+                    match &v {
+                        Value::String(t) => Some(Value::String(field_latex(t))),
+                        Value::Null => Some(Value::Null),
+                        Value::Array(a) if a.iter().all(Value::is_string) => {
+                            Some(Value::Array(a.iter().map(|t| Value::String(field_latex(t.as_str().unwrap_or_default()))).collect()))
+                        }
+                        _ => None,
+                    }
+                } else {
+                    None
+                };
+                let name = format!("{k}_latex");
+                out.insert(k, with_latex(v, keys));
+                if let Some(t) = tex {
+                    out.insert(name, t);
+                }
+            }
+            Value::Object(out)
+        }
+        Value::Array(a) => Value::Array(a.into_iter().map(|v| with_latex(v, keys)).collect()),
+        other => other,
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -10,7 +10,10 @@
 //! `exponent`}], `exponential`, `unevaluated` [{`factor`, `power`,
 //! `numerator`}]}, `schrodinger` (null or {`dxdz`, `frequency`, `W`, `V`,
 //! `V_depends_on_frequency`}). Every expression is text in the input
-//! language, so it can be pasted back into a file.
+//! language, so it can be pasted back into a file, and is followed by its
+//! LaTeX (math mode) under the same name with `_latex` appended (`Q`,
+//! `Q_latex`; null beside null), the convention of every JSON document
+//! (`emit::latex::with_latex`).
 
 use crate::algebra::print::{den_text, poly_text, ratfunc_text, Style};
 use crate::algebra::{Int, Poly, RatFunc};
@@ -193,7 +196,7 @@ pub fn reduction_json(r: &Reduction) -> Value {
         }
         None => Value::Null,
     };
-    json!({
+    let doc = json!({
         "variable": r.var,
         "unknown": r.ode.unknown,
         "parameters": r.ode.params,
@@ -209,5 +212,27 @@ pub fn reduction_json(r: &Reduction) -> Value {
         },
         "prefactor": {"text": crate::ode::prefactor_text(&r.var, r.field.names(), pf, s), "powers": powers, "exponential": rt(r, &pf.exponential, s), "unevaluated": unev},
         "schrodinger": schrod,
-    })
+    });
+    super::latex::with_latex(doc, REDUCE_EXPRESSIONS)
 }
+
+/// The members of `reduce`'s JSON that hold expressions (each gets its LaTeX beside it).
+const REDUCE_EXPRESSIONS: &[&str] = &[
+    "p",
+    "q",
+    "Q",
+    "numerator",
+    "denominator",
+    "factor",
+    "at",
+    "coefficient",
+    "text",
+    "base",
+    "exponent",
+    "exponential",
+    "map",
+    "schwarzian",
+    "dxdz",
+    "W",
+    "V",
+];

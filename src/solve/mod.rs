@@ -16,6 +16,7 @@ pub mod global;
 pub mod integrate;
 pub mod modefn;
 pub mod periodic;
+pub mod plot;
 pub mod polynomial;
 pub mod region;
 pub mod request;

@@ -7,8 +7,8 @@
 
 use super::boundary::End;
 use super::global::{self, Region, SpectralValue};
+use super::plot::PlaneMode;
 use super::request::{region_setup, SpectrumRequest, CONFIRMED};
-use super::scan::PlaneMode;
 use crate::error::Result;
 use crate::ode::Reduction;
 use num_complex::Complex64;

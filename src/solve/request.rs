@@ -662,9 +662,9 @@ impl SpectrumReport {
     /// The converged modes for a picture of the complex plane: each
     /// labelled by its number, and whether a second method confirmed it
     /// (agreeing to [`CONFIRMED`]).
-    pub fn plane_modes(&self) -> Vec<super::scan::PlaneMode> {
+    pub fn plane_modes(&self) -> Vec<super::plot::PlaneMode> {
         let near = |a: Complex64, b: Complex64| (a - b).norm() <= CONFIRMED * b.norm().max(f64::MIN_POSITIVE);
-        let mode = |n: u32, omega: Complex64, confirmed: bool| super::scan::PlaneMode { label: format!("n={n}"), omega, confirmed };
+        let mode = |n: u32, omega: Complex64, confirmed: bool| super::plot::PlaneMode { label: format!("n={n}"), omega, confirmed };
         match &self.body {
             Body::Recurrence(b) => b
                 .modes

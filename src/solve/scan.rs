@@ -14,10 +14,11 @@
 //! the same numbers as one that was never interrupted. A walk can be split
 //! into shards for separate processes or cluster jobs.
 
-use super::spectrum::{integration_check, qnm_modes_from, qnm_recurrence, substitute, Mode, SpectrumOptions};
+use super::spectrum::{integration_check, qnm_modes_from, qnm_recurrence, substitute, Mode, QnmChoice, RootUse, Setup, SpectrumOptions};
 use crate::algebra::{GRat, Rat};
 use crate::error::Result;
 use crate::ode::Reduction;
+use crate::series::Recurrence;
 use num_complex::Complex64;
 use std::collections::VecDeque;
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
@@ -541,28 +542,42 @@ fn continues(last: &[Complex64], second: Option<&[Complex64]>, next: Option<&[Co
 pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Result<SolvedPoint> {
     let r = substitute(red, &opts.values, opts.freq)?;
     let (rec, setup) = qnm_recurrence(&r, opts)?;
+    modes_at(red, Some(&r), &rec, setup, opts, check)
+}
+
+/// The modes at a point from its recurrence and set-up; `sub` is the
+/// equation with the point's values substituted, made from `red` only when
+/// a seed estimate or the check needs it.
+fn modes_at(red: &Reduction, sub: Option<&Reduction>, rec: &Recurrence, setup: Setup, opts: &SpectrumOptions, check: bool) -> Result<SolvedPoint> {
+    let made = std::cell::OnceCell::new();
+    let r = || -> Result<&Reduction> {
+        match sub {
+            Some(r) => Ok(r),
+            None => made.get_or_init(|| substitute(red, &opts.values, opts.freq)).as_ref().map_err(Clone::clone),
+        }
+    };
     // The WKB estimates are set up only when a seed is asked for: a point
     // continued from its neighbour has its seeds already.
     let est = std::cell::OnceCell::new();
     let horizon = setup.horizon_value;
     let first = |n: u32| {
-        est.get_or_init(|| super::spectrum::barrier_estimates(&r, opts, horizon, super::wkb::SEED_ORDER).ok())
+        est.get_or_init(|| r().ok().and_then(|r| super::spectrum::barrier_estimates(r, opts, horizon, super::wkb::SEED_ORDER).ok()))
             .as_ref()
             .and_then(|e| e(n))
             .and_then(|b| b.series.seed())
     };
-    let (modes, setup) = match qnm_modes_from(&rec, setup.clone(), opts, &first) {
+    let (modes, setup) = match qnm_modes_from(rec, setup.clone(), opts, &first) {
         // No estimate seeds an overtone (no barrier): the global spectral method does.
         Err(e) if e.message.starts_with(super::spectrum::NO_SEED) && opts.seeds.is_empty() && opts.guess.is_none() => {
-            let (seeds, _) = super::continuation::uncoupled_seeds(&r, opts);
+            let (seeds, _) = super::continuation::uncoupled_seeds(r()?, opts);
             if seeds.is_empty() {
                 return Err(e);
             }
-            qnm_modes_from(&rec, setup, &SpectrumOptions { seeds, ..opts.clone() }, &first)?
+            qnm_modes_from(rec, setup, &SpectrumOptions { seeds, ..opts.clone() }, &first)?
         }
         other => other?,
     };
-    let integ = if check { integration_check(&r, opts, &setup).ok() } else { None };
+    let integ = if check { integration_check(r()?, opts, &setup).ok() } else { None };
     Ok(modes
         .into_iter()
         .map(|m| {
@@ -579,241 +594,156 @@ pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Res
         .into())
 }
 
-/// The font of the plots' text, compiled in so that a plot looks the same
-/// on every machine (DejaVu Sans; its licence is in `src/solve/font/`).
-static FONT: &[u8] = include_bytes!("font/DejaVuSans.ttf");
-
-/// Registers the built-in font as "sans-serif" for plotters (once per process).
-pub(crate) fn register_font() {
-    static REGISTER: std::sync::Once = std::sync::Once::new();
-    REGISTER.call_once(|| {
-        // The font is a constant of the build: failure here is a packaging bug.
-        plotters::style::register_font("sans-serif", plotters::style::FontStyle::Normal, FONT).map_err(|_| ()).expect("the built-in font is valid");
-    });
-}
-
-/// Writes a plot, SVG or PNG by the file's extension: the modes in the
-/// complex plane, and Re ω and Im ω against the last varied parameter
-/// (`params`, the survey's varied parameters), one series per method
-/// (continued fraction, direct integration). A survey of several
-/// parameters gets one colour per pass (a value of the other parameters,
-/// in the legend); `fixed` (the fixed parameters as text) goes in the titles.
-pub fn plot(path: &std::path::Path, points: &[ScanPoint], params: &[String], freq: &str, fixed: &str) -> std::result::Result<(), String> {
-    struct Survey<'a>(&'a [ScanPoint], &'a [String], &'a str, &'a str);
-    impl Figure for Survey<'_> {
-        fn draw<DB: plotters::prelude::DrawingBackend>(&self, root: Area<DB>) -> std::result::Result<(), String> {
-            draw(root, self.0, self.1, self.2, self.3)
+/// The point solver of a survey of one equation (uncoupled): the
+/// recurrence is derived once with the varied parameters (`varied`, field
+/// indices) kept symbolic, and at each point only made numeric — the
+/// exact substitution and derivation at every point were most of a
+/// survey's time. A point where that derivation would not be the one of
+/// the point itself ([`Symbolic::at`]: a singular point moves onto
+/// another, a quadratic factor splits over Q, a numerator cancels a
+/// pole, other exponent or horizon picks) is solved exactly as
+/// [`single_point`] does, and so is every point when the symbolic
+/// derivation fails.
+pub fn survey_solver<'a>(red: Reduction, varied: &[usize]) -> PointSolver<'a> {
+    let sym = std::cell::OnceCell::new();
+    let varied = varied.to_vec();
+    Box::new(move |o: &SpectrumOptions, check: bool| {
+        let s: &Option<Symbolic> = sym.get_or_init(|| Symbolic::new(&red, o, &varied));
+        match s.as_ref().and_then(|s| s.at(o)) {
+            Some((rec, setup)) => modes_at(&red, None, rec, setup, o, check),
+            None => single_point(&red, o, check),
         }
-    }
-    write_figure(path, (1200, 500), &Survey(points, params, freq, fixed))
+    })
 }
 
-/// A drawing area of plotters.
-type Area<DB> = plotters::drawing::DrawingArea<DB, plotters::coord::Shift>;
-
-/// A picture that can be drawn on any plotters backend.
-trait Figure {
-    fn draw<DB: plotters::prelude::DrawingBackend>(&self, root: Area<DB>) -> std::result::Result<(), String>;
+/// A survey's equation with the fixed parameters substituted and the
+/// varied ones symbolic, its analysis, and the recurrence derived from the
+/// first point where the structure is generic.
+struct Symbolic {
+    red: Reduction,
+    an: crate::analysis::Analysis,
+    /// The varied parameters' field indices.
+    varied: Vec<usize>,
+    /// The denominator factors of p, q and Q (each in z and the varied parameters).
+    factors: Vec<crate::algebra::Poly>,
+    /// The numerators of p, q and Q.
+    numerators: Vec<crate::algebra::Poly>,
+    /// The recurrence and the choice it was derived from (`None` when the derivation failed).
+    derived: std::cell::OnceCell<Option<(QnmChoice, Recurrence, RootUse)>>,
 }
 
-/// Writes a figure as SVG or PNG by the file's extension, `size` pixels,
-/// with the built-in font.
-fn write_figure<F: Figure>(path: &std::path::Path, size: (u32, u32), fig: &F) -> std::result::Result<(), String> {
-    use plotters::prelude::*;
-    register_font();
-    let ext = path.extension().and_then(|e| e.to_str()).map(|e| e.to_ascii_lowercase());
-    match ext.as_deref() {
-        Some("svg") => fig.draw(SVGBackend::new(path, size).into_drawing_area()),
-        Some("png") => fig.draw(BitMapBackend::new(path, size).into_drawing_area()),
-        _ => Err("the plot is written as SVG or PNG: give FILE.svg or FILE.png".into()),
-    }
-}
-
-/// Draws a chart's legend in its upper right corner, on a pale ground.
-pub(crate) fn legend<'a, DB: plotters::prelude::DrawingBackend + 'a, CT: plotters::coord::CoordTranslate>(
-    chart: &mut plotters::chart::ChartContext<'a, DB, CT>,
-) -> std::result::Result<(), String> {
-    use plotters::prelude::*;
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::UpperRight)
-        .background_style(WHITE.mix(0.8))
-        .border_style(BLACK)
-        .draw()
-        .map(|_| ())
-        .map_err(|e| e.to_string())
-}
-
-/// The range of an axis over `values`, padded by 8 % (at least 1e-6), with
-/// `top` times the padding again above (room for a legend).
-fn axis_range(values: impl Iterator<Item = f64>, top: f64) -> (f64, f64) {
-    let (lo, hi) = values.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| (a.min(x), b.max(x)));
-    if !lo.is_finite() {
-        return (0.0, 1.0);
-    }
-    let pad = ((hi - lo) * 0.08).max(1e-6);
-    (lo - pad, hi + (1.0 + top) * pad)
-}
-
-/// One mode of a spectrum in the complex plane.
-#[derive(Clone, Debug)]
-pub struct PlaneMode {
-    /// Its label (the overtone, e.g. "n=0").
-    pub label: String,
-    /// The value.
-    pub omega: Complex64,
-    /// Whether a second method confirmed it.
-    pub confirmed: bool,
-}
-
-/// Writes the modes of a spectrum in the complex plane (Re ω across, Im ω
-/// up), SVG or PNG by the extension: filled circles for the modes a second
-/// method confirmed, open squares for the others, each labelled; `fixed`
-/// (the fixed parameters as text) goes in the title.
-pub fn plot_plane(path: &std::path::Path, modes: &[PlaneMode], freq: &str, fixed: &str) -> std::result::Result<(), String> {
-    struct Plane<'a>(&'a [PlaneMode], &'a str, &'a str);
-    impl Figure for Plane<'_> {
-        fn draw<DB: plotters::prelude::DrawingBackend>(&self, root: Area<DB>) -> std::result::Result<(), String> {
-            use plotters::prelude::*;
-            let (modes, freq, fixed) = (self.0, self.1, self.2);
-            root.fill(&WHITE).map_err(|e| e.to_string())?;
-            let (x0, x1) = axis_range(modes.iter().map(|m| m.omega.re), 0.0);
-            let (y0, y1) = axis_range(modes.iter().map(|m| m.omega.im), 4.0);
-            let context = if fixed.is_empty() { freq.to_string() } else { format!("{freq}; {fixed}") };
-            let mut chart = ChartBuilder::on(&root)
-                .caption(format!("modes in the complex plane ({context})"), ("sans-serif", 18))
-                .margin(12)
-                .x_label_area_size(36)
-                .y_label_area_size(64)
-                .build_cartesian_2d(x0..x1, y0..y1)
-                .map_err(|e| e.to_string())?;
-            chart.configure_mesh().x_desc(format!("Re {freq}")).y_desc(format!("Im {freq}")).draw().map_err(|e| e.to_string())?;
-            let at = |m: &PlaneMode| (m.omega.re, m.omega.im);
-            let sure: Vec<(f64, f64)> = modes.iter().filter(|m| m.confirmed).map(at).collect();
-            let single: Vec<(f64, f64)> = modes.iter().filter(|m| !m.confirmed).map(at).collect();
-            chart
-                .draw_series(sure.into_iter().map(|p| Circle::new(p, 6, BLUE.filled())))
-                .map_err(|e| e.to_string())?
-                .label("confirmed by a second method")
-                .legend(|(x, y)| Circle::new((x, y), 6, BLUE.filled()));
-            chart
-                .draw_series(single.into_iter().map(|p| EmptyElement::at(p) + Rectangle::new([(-6, -6), (6, 6)], RED.stroke_width(2))))
-                .map_err(|e| e.to_string())?
-                .label("one method only")
-                .legend(|(x, y)| Rectangle::new([(x - 6, y - 6), (x + 6, y + 6)], RED.stroke_width(2)));
-            chart
-                .draw_series(modes.iter().map(|m| EmptyElement::at(at(m)) + Text::new(m.label.clone(), (8, -18), ("sans-serif", 13).into_font())))
-                .map_err(|e| e.to_string())?;
-            legend(&mut chart)?;
-            root.present().map_err(|e| e.to_string())
-        }
-    }
-    write_figure(path, (800, 600), &Plane(modes, freq, fixed))
-}
-
-/// The points of a plot's series: (x, y) pairs.
-type Series = Vec<(f64, f64)>;
-
-fn draw<DB: plotters::prelude::DrawingBackend>(
-    root: plotters::drawing::DrawingArea<DB, plotters::coord::Shift>,
-    points: &[ScanPoint],
-    params: &[String],
-    freq: &str,
-    fixed: &str,
-) -> std::result::Result<(), String> {
-    use plotters::prelude::*;
-    root.fill(&WHITE).map_err(|e| e.to_string())?;
-    let areas = root.split_evenly((1, 3));
-    // The passes: points with the same values of all but the last parameter.
-    let mut groups: Vec<(Vec<f64>, Vec<&ScanPoint>)> = Vec::new();
-    for p in points {
-        let key = p.values[..p.values.len().saturating_sub(1)].to_vec();
-        match groups.iter_mut().find(|(k, _)| *k == key) {
-            Some(g) => g.1.push(p),
-            None => groups.push((key, vec![p])),
-        }
-    }
-    let several = groups.len() > 1 || params.len() > 1;
-    // The abscissa: the last varied parameter.
-    fn x(p: &ScanPoint) -> f64 {
-        p.values.last().copied().unwrap_or(p.value)
-    }
-    type Pick = dyn Fn(&ScanPoint, &(Mode, Option<Complex64>)) -> Option<(f64, f64)>;
-    let series = |g: &[&ScanPoint], f: &Pick| -> Series { g.iter().flat_map(|p| p.modes.iter().filter_map(move |m| f(p, m))).collect() };
-    let cf_pick: [&Pick; 3] = [
-        &|_, (m, _)| m.root.converged.then_some((m.root.omega.re, m.root.omega.im)),
-        &|p, (m, _)| m.root.converged.then_some((x(p), m.root.omega.re)),
-        &|p, (m, _)| m.root.converged.then_some((x(p), m.root.omega.im)),
-    ];
-    let int_pick: [&Pick; 3] = [&|_, (_, c)| c.map(|c| (c.re, c.im)), &|p, (_, c)| c.map(|c| (x(p), c.re)), &|p, (_, c)| c.map(|c| (x(p), c.im))];
-    let entries = if several { groups.len() + 1 } else { 2 };
-    let range = |v: &[(f64, f64)], axis: usize| -> (f64, f64) {
-        // Room at the top for the legend (upper right), so it hides no point.
-        if axis == 1 {
-            axis_range(v.iter().map(|p| p.1), if several { 1.0 + 1.5 * entries as f64 } else { 3.0 })
-        } else {
-            axis_range(v.iter().map(|p| p.0), 0.0)
-        }
-    };
-    let param = params.last().map(String::as_str).unwrap_or("");
-    let context = if fixed.is_empty() { freq.to_string() } else { format!("{freq}; {fixed}") };
-    let panels: [(&str, &str, &str); 3] = [("modes in the complex plane", "Re ω", "Im ω"), ("Re ω", param, "Re ω"), ("Im ω", param, "Im ω")];
-    for (k, (area, (title, xl, yl))) in areas.iter().zip(panels).enumerate() {
-        let all: Series = series(&points.iter().collect::<Vec<_>>(), cf_pick[k]);
-        let (x0, x1) = range(&all, 0);
-        let (y0, y1) = range(&all, 1);
-        let mut chart = ChartBuilder::on(area)
-            .caption(format!("{title} ({context})"), ("sans-serif", 18))
-            .margin(12)
-            .x_label_area_size(36)
-            .y_label_area_size(56)
-            .build_cartesian_2d(x0..x1, y0..y1)
-            .map_err(|e| e.to_string())?;
-        chart.configure_mesh().x_desc(xl).y_desc(yl).draw().map_err(|e| e.to_string())?;
-        for (g, (key, members)) in groups.iter().enumerate() {
-            // Pale enough for the check's crosses to show on top.
-            let colour = if several { Palette99::pick(g).mix(0.55) } else { BLUE.mix(0.45) };
-            let label = if several {
-                params.iter().zip(key).map(|(n, v)| format!("{n}={v}")).collect::<Vec<_>>().join(", ")
-            } else {
-                "continued fraction".to_string()
-            };
-            chart
-                .draw_series(series(members, cf_pick[k]).into_iter().map(move |p| Circle::new(p, 6, colour.filled())))
-                .map_err(|e| e.to_string())?
-                .label(label)
-                .legend(move |(x, y)| Circle::new((x, y), 6, colour.filled()));
-        }
-        // Each overtone named beside its last converged point.
-        let mut names: Vec<((f64, f64), String)> = Vec::new();
-        for (_, members) in &groups {
-            let mut last: Vec<(u32, (f64, f64))> = Vec::new();
-            for p in members {
-                for m in &p.modes {
-                    if let Some(xy) = cf_pick[k](p, m) {
-                        match last.iter_mut().find(|(n, _)| *n == m.0.n) {
-                            Some(l) => l.1 = xy,
-                            None => last.push((m.0.n, xy)),
-                        }
-                    }
+impl Symbolic {
+    fn new(red: &Reduction, o: &SpectrumOptions, varied: &[usize]) -> Option<Symbolic> {
+        let mut keep = varied.to_vec();
+        keep.push(o.freq);
+        let sym = super::spectrum::substitute_keeping(red, &o.values, &keep).ok()?;
+        let an = crate::analysis::analyse(&sym).ok()?;
+        let mut factors: Vec<crate::algebra::Poly> = Vec::new();
+        for r in [&sym.p, &sym.q, &sym.normal.q] {
+            for (f, _) in r.den_factors() {
+                if !factors.contains(f.poly()) {
+                    factors.push(f.poly().clone());
                 }
             }
-            names.extend(last.into_iter().map(|(n, xy)| (xy, format!("n={n}"))));
         }
-        chart
-            .draw_series(names.into_iter().map(|(xy, t)| EmptyElement::at(xy) + Text::new(t, (-12, -20), ("sans-serif", 13).into_font())))
-            .map_err(|e| e.to_string())?;
-        // The check over the results, in one colour, with one legend entry.
-        let int: Series = series(&points.iter().collect::<Vec<_>>(), int_pick[k]);
-        let cross = if several { BLACK } else { RED };
-        chart
-            .draw_series(int.into_iter().map(move |p| Cross::new(p, 3, cross.stroke_width(2))))
-            .map_err(|e| e.to_string())?
-            .label("direct integration")
-            .legend(move |(x, y)| Cross::new((x, y), 3, cross.stroke_width(2)));
-        legend(&mut chart)?;
+        // Factors that hold the frequency are not judged here: every point is solved exactly.
+        if factors.iter().any(|f| f.uses_var(o.freq)) {
+            return None;
+        }
+        let numerators = vec![sym.p.num().clone(), sym.q.num().clone(), sym.normal.q.num().clone()];
+        Some(Symbolic { red: sym, an, varied: varied.to_vec(), factors, numerators, derived: std::cell::OnceCell::new() })
     }
-    root.present().map_err(|e| e.to_string())
+
+    /// The recurrence and set-up at the options' values, when the symbolic
+    /// derivation is the one of the point: every denominator factor keeps
+    /// its degree in z and stays irreducible over Q (no quadratic with a
+    /// rational square discriminant, none of higher degree), no two share
+    /// a root, no numerator vanishes at one's roots for every frequency,
+    /// and the numeric choices (exponent picks, horizon, series) are the
+    /// same as where the recurrence was derived.
+    fn at(&self, o: &SpectrumOptions) -> Option<(&Recurrence, Setup)> {
+        let values = &o.values;
+        let z = |p: &crate::algebra::Poly| -> Vec<GRat> { p.to_univariate(0).iter().map(|c| c.eval(values)).collect() };
+        let mut evaluated = Vec::with_capacity(self.factors.len());
+        for f in &self.factors {
+            let u = trim(z(f));
+            if u.len() != f.to_univariate(0).len() || u.len() > 3 || u.iter().any(|c| !c.im.is_zero()) {
+                return None;
+            }
+            if u.len() == 3 {
+                let disc = u[1].re.mul(&u[1].re).sub(&u[0].re.mul(&u[2].re).mul(&Rat::int(4.into())));
+                if disc.is_zero() || (disc.numer().abs().sqrt_exact().is_some() && disc.denom().sqrt_exact().is_some()) {
+                    return None;
+                }
+            }
+            evaluated.push(u);
+        }
+        for (i, a) in evaluated.iter().enumerate() {
+            if evaluated[..i].iter().any(|b| ugcd_degree(a, b) > 0) {
+                return None;
+            }
+            for n in &self.numerators {
+                // The numerator's coefficient of each power of ω, in z.
+                let mut g = a.clone();
+                for c in n.to_univariate(o.freq) {
+                    g = ugcd(&g, &trim(z(&c)));
+                    if g.len() <= 1 {
+                        break;
+                    }
+                }
+                if g.len() > 1 {
+                    return None;
+                }
+            }
+        }
+        let choice = super::spectrum::qnm_choice(&self.red, &self.an, o).ok()?;
+        let (first, rec, root) = self
+            .derived
+            .get_or_init(|| {
+                let (rec, root) = super::spectrum::qnm_derive(&self.red, &self.an, &choice).ok()?;
+                Some((choice.clone(), rec, root))
+            })
+            .as_ref()?;
+        if !first.same_derivation(&choice) || rec.coeffs.len() < 3 || self.varied.is_empty() {
+            return None;
+        }
+        Some((rec, super::spectrum::qnm_setup(rec, root.clone(), self.an.clone(), choice)))
+    }
+}
+
+/// A univariate polynomial (coefficients from the constant up) without
+/// its zero leading coefficients.
+fn trim(mut u: Vec<GRat>) -> Vec<GRat> {
+    while u.last().is_some_and(GRat::is_zero) {
+        u.pop();
+    }
+    u
+}
+
+/// The gcd of two univariate polynomials over Q(i) (coefficients from the
+/// constant up; empty for zero), up to a constant, by Euclid's algorithm.
+fn ugcd(a: &[GRat], b: &[GRat]) -> Vec<GRat> {
+    let (mut a, mut b) = (trim(a.to_vec()), trim(b.to_vec()));
+    while !b.is_empty() {
+        // a mod b
+        let lead = b.last().expect("nonzero").clone();
+        while a.len() >= b.len() {
+            let Some(f) = a.last().expect("nonzero").div(&lead) else { return vec![GRat::one()] };
+            let shift = a.len() - b.len();
+            for (k, c) in b.iter().enumerate() {
+                a[shift + k] = a[shift + k].sub(&f.mul(c));
+            }
+            a.pop();
+            a = trim(a);
+        }
+        std::mem::swap(&mut a, &mut b);
+    }
+    a
+}
+
+/// The degree of the gcd of two univariate polynomials over Q(i).
+fn ugcd_degree(a: &[GRat], b: &[GRat]) -> usize {
+    ugcd(a, b).len().saturating_sub(1)
 }
 
 #[cfg(test)]

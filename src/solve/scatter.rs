@@ -380,50 +380,7 @@ pub fn cross_section(omega: f64, terms: &[(i64, f64)]) -> f64 {
 /// Writes a plot, SVG or PNG by the file's extension: each curve (name,
 /// points (ω, value)) against ω.
 pub fn plot(path: &std::path::Path, title: &str, ylabel: &str, curves: &[(String, Vec<(f64, f64)>)]) -> std::result::Result<(), String> {
-    use plotters::prelude::*;
-    super::scan::register_font();
-    let ext = path.extension().and_then(|e| e.to_str()).map(|e| e.to_ascii_lowercase());
-    match ext.as_deref() {
-        Some("svg") => draw(SVGBackend::new(path, (900, 560)).into_drawing_area(), title, ylabel, curves),
-        Some("png") => draw(BitMapBackend::new(path, (900, 560)).into_drawing_area(), title, ylabel, curves),
-        _ => Err("the plot is written as SVG or PNG: give FILE.svg or FILE.png".into()),
-    }
-}
-
-fn draw<DB: plotters::prelude::DrawingBackend>(
-    root: plotters::drawing::DrawingArea<DB, plotters::coord::Shift>,
-    title: &str,
-    ylabel: &str,
-    curves: &[(String, Vec<(f64, f64)>)],
-) -> std::result::Result<(), String> {
-    use plotters::prelude::*;
-    root.fill(&WHITE).map_err(|e| e.to_string())?;
-    let all = curves.iter().flat_map(|c| c.1.iter());
-    let (x0, x1, y0, y1) = all.fold((f64::INFINITY, f64::NEG_INFINITY, f64::INFINITY, f64::NEG_INFINITY), |(a, b, c, d), p| {
-        (a.min(p.0), b.max(p.0), c.min(p.1), d.max(p.1))
-    });
-    let (x0, x1) = if x0.is_finite() { (x0, x1.max(x0 + 1e-9)) } else { (0.0, 1.0) };
-    let (y0, y1) = if y0.is_finite() { (y0, y1.max(y0 + 1e-9)) } else { (0.0, 1.0) };
-    let pad = (y1 - y0) * 0.08;
-    let mut chart = ChartBuilder::on(&root)
-        .caption(title, ("sans-serif", 18))
-        .margin(14)
-        .x_label_area_size(40)
-        .y_label_area_size(64)
-        .build_cartesian_2d(x0..x1, (y0 - pad)..(y1 + 3.0 * pad))
-        .map_err(|e| e.to_string())?;
-    chart.configure_mesh().x_desc("ω").y_desc(ylabel).draw().map_err(|e| e.to_string())?;
-    let colours = [BLUE, RED, GREEN, MAGENTA, CYAN, BLACK];
-    for (i, (name, pts)) in curves.iter().enumerate() {
-        let c = colours[i % colours.len()];
-        chart
-            .draw_series(LineSeries::new(pts.iter().copied(), c.stroke_width(2)))
-            .map_err(|e| e.to_string())?
-            .label(name.as_str())
-            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], c.stroke_width(2)));
-    }
-    super::scan::legend(&mut chart)?;
-    root.present().map_err(|e| e.to_string())
+    super::plot::plot_curves(path, title, "ω", ylabel, curves)
 }
 
 /// What a scattering computation is asked for besides the equation.

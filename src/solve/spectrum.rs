@@ -98,17 +98,77 @@ fn usage(msg: impl Into<String>) -> Error {
 /// Picks the horizon (outermost regular point whose exponents depend on ω)
 /// and derives the quasinormal-mode recurrence about it.
 pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate::series::Recurrence, Setup)> {
-    let k = &red.field;
     let an = analyse(red)?;
+    let choice = qnm_choice(red, &an, opts)?;
+    let (rec, root) = qnm_derive(red, &an, &choice)?;
+    let setup = qnm_setup(&rec, root, an, choice);
+    Ok((rec, setup))
+}
+
+/// Where the quasinormal-mode series is expanded, as chosen at the values.
+#[derive(Clone, Debug)]
+pub enum HorizonChoice {
+    /// A point rational in the parameters: its text, its value, and the
+    /// series variable (`None`: Leaver's default about it).
+    Point {
+        /// The point's exact text.
+        text: String,
+        /// Its value.
+        value: f64,
+        /// The series variable, e.g. "u=(r - (2*M))/(r - (0))".
+        series: Option<String>,
+    },
+    /// The outer real root of the irreducible factor of singular point `index`.
+    Root {
+        /// The index of the singular point in the analysis.
+        index: usize,
+        /// The root's value.
+        value: f64,
+    },
+}
+
+/// The numeric decisions behind a quasinormal-mode recurrence at the
+/// values of [`SpectrumOptions`]: the exponent and branch picks, and the
+/// horizon. The exact derivation ([`qnm_derive`]) depends only on the
+/// discrete part of it ([`QnmChoice::same_derivation`]), so that a
+/// recurrence derived with some parameters symbolic serves every point
+/// where the same choice is made.
+#[derive(Clone, Debug)]
+pub struct QnmChoice {
+    /// The exponent and branch picks (point label, 1-based choice).
+    pub picks: Vec<(String, usize)>,
+    /// The picks in words.
+    pub said: Vec<String>,
+    /// The horizon.
+    pub horizon: HorizonChoice,
+}
+
+impl QnmChoice {
+    /// True when `other` leads to the same exact derivation (the same
+    /// picks, the same horizon and series), whatever the numeric values.
+    pub fn same_derivation(&self, other: &QnmChoice) -> bool {
+        self.picks == other.picks
+            && match (&self.horizon, &other.horizon) {
+                (HorizonChoice::Point { text: a, series: sa, .. }, HorizonChoice::Point { text: b, series: sb, .. }) => a == b && sa == sb,
+                (HorizonChoice::Root { index: a, .. }, HorizonChoice::Root { index: b, .. }) => a == b,
+                _ => false,
+            }
+    }
+}
+
+/// The numeric decisions of [`qnm_recurrence`] at the options' values
+/// (the analysis `an` of `red`).
+pub fn qnm_choice(red: &Reduction, an: &crate::analysis::Analysis, opts: &SpectrumOptions) -> Result<QnmChoice> {
+    let k = &red.field;
     let mut point = opts.values.clone();
     point[opts.freq] = GRat::real(Rat::new(1.into(), 2.into()).expect("nonzero"));
-    let labels = label(&an, opts.freq, &point, true);
+    let labels = label(an, opts.freq, &point, true);
     let text = |p: &crate::analysis::SingularPoint| match &p.place {
         Place::Point { at, .. } => ratfunc_text(at, k.names(), Style::Text),
         Place::Roots(_) => "θ".to_string(),
         Place::Infinity => "∞".to_string(),
     };
-    let (picks, said) = boundary_choices(&an, Some(&labels), Boundary::Qnm, &point, text);
+    let (picks, said) = boundary_choices(an, Some(&labels), Boundary::Qnm, &point, text);
     // The outermost labelled regular point with an exact location.
     let vals = crate::analysis::numeric::Values::new(point.clone());
     let mut best: Option<(f64, String)> = None;
@@ -137,13 +197,12 @@ pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate:
         }
     }
     if let Some((zr, i)) = best_root.filter(|(zr, _)| best.as_ref().is_none_or(|(b, _)| *zr > *b)) {
-        return root_recurrence(red, an, i, zr, &picks, said);
+        return Ok(QnmChoice { picks, said, horizon: HorizonChoice::Root { index: i, value: zr } });
     }
     let Some((horizon_value, horizon)) = best else {
         return Err(usage("no horizon-like regular point: the quasinormal-mode series needs one"));
     };
     let inf_irregular = an.points.iter().any(|p| matches!(p.place, Place::Infinity) && p.kind == Kind::Irregular);
-    let choices = Choices { picks: picks.clone(), values: Vec::new() };
     // With an irregular point at infinity, Leaver's Möbius series; otherwise
     // a plain Frobenius series about the horizon carrying the chosen
     // exponents of the other regular points, whose termination is the mode condition.
@@ -178,50 +237,44 @@ pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate:
         (None, true) => None,
         (None, false) => Some(format!("u={} - ({horizon})", red.var)),
     };
-    let rec = crate::series::recurrence(red, &horizon, series.as_deref(), &choices, false)?;
-    let setup = Setup {
-        horizon: horizon.clone(),
-        horizon_value,
-        ansatz: format!("{} = {} * Σ a_n u^n, {}", rec.function, rec.prefactor, rec.series),
-        choices: said,
-        terms: rec.coeffs.len(),
-        picks,
-        theta: None,
-        analysis: an,
-    };
-    Ok((rec, setup))
+    Ok(QnmChoice { picks, said, horizon: HorizonChoice::Point { text: horizon, value: horizon_value, series } })
 }
 
-/// The recurrence about the outer root θ of an irreducible quadratic factor
-/// (e.g. r₊ of r² − 2Mr + a²): θ is adjoined as a symbol and the result
-/// reduced modulo its relation; `Setup::theta` carries its numeric value.
-fn root_recurrence(
-    red: &Reduction,
-    an: crate::analysis::Analysis,
-    i: usize,
-    zr: f64,
-    picks: &[(String, usize)],
-    said: Vec<String>,
-) -> Result<(crate::series::Recurrence, Setup)> {
-    let p = &an.points[i];
-    let Place::Roots(f) = &p.place else { return Err(Error::new(ErrorKind::Internal, "not a root point")) };
-    if !picks.iter().any(|(l, _)| l == "θ") {
-        return Err(usage("no ingoing exponent was found at the horizon"));
+/// About an adjoined root: the exponent used there (0-based) and what the
+/// symbol stands for.
+pub type RootUse = Option<(usize, String)>;
+
+/// The exact recurrence of a [`QnmChoice`] (only its discrete part matters).
+pub fn qnm_derive(red: &Reduction, an: &crate::analysis::Analysis, choice: &QnmChoice) -> Result<(crate::series::Recurrence, RootUse)> {
+    let choices = Choices { picks: choice.picks.clone(), values: Vec::new() };
+    match &choice.horizon {
+        HorizonChoice::Point { text, series, .. } => Ok((crate::series::recurrence(red, text, series.as_deref(), &choices, false)?, None)),
+        HorizonChoice::Root { index, .. } => {
+            if !choice.picks.iter().any(|(l, _)| l == "θ") {
+                return Err(usage("no ingoing exponent was found at the horizon"));
+            }
+            let root = crate::series::recurrence_about_point(red, &an.points[*index], &choices)?;
+            Ok((root.rec, Some((root.exponent, root.meaning))))
+        }
     }
-    let root = crate::series::recurrence_about_point(red, p, &Choices { picks: picks.to_vec(), values: Vec::new() })?;
-    let (rec, j, meaning) = (root.rec, root.exponent, root.meaning);
-    let horizon = format!("θ ≈ {zr:.15}, the outer real root; the formulas use {meaning}");
-    let setup = Setup {
-        horizon,
-        horizon_value: zr,
-        ansatz: format!("{} = {} * Σ a_n u^n, {}", rec.function, rec.prefactor, rec.series),
-        choices: said,
-        terms: rec.coeffs.len(),
-        picks: picks.to_vec(),
-        theta: Some((f.clone(), zr, j)),
-        analysis: an.clone(),
+}
+
+/// The [`Setup`] of a recurrence derived by [`qnm_derive`] from `choice`
+/// (whose numeric values it reports).
+pub fn qnm_setup(rec: &crate::series::Recurrence, root: RootUse, an: crate::analysis::Analysis, choice: QnmChoice) -> Setup {
+    let ansatz = format!("{} = {} * Σ a_n u^n, {}", rec.function, rec.prefactor, rec.series);
+    let (horizon, horizon_value, theta) = match choice.horizon {
+        HorizonChoice::Point { text, value, .. } => (text, value, None),
+        HorizonChoice::Root { index, value } => {
+            let (j, meaning) = root.unwrap_or_default();
+            let theta = match &an.points[index].place {
+                Place::Roots(f) => Some((f.clone(), value, j)),
+                _ => None,
+            };
+            (format!("θ ≈ {value:.15}, the outer real root; the formulas use {meaning}"), value, theta)
+        }
     };
-    Ok((rec, setup))
+    Setup { horizon, horizon_value, ansatz, choices: choice.said, terms: rec.coeffs.len(), picks: choice.picks, theta, analysis: an }
 }
 
 /// An exact rational equal to a double (its binary value).
