@@ -711,6 +711,72 @@ pub fn plot_plane(path: &std::path::Path, modes: &[PlaneMode], freq: &str, fixed
     write_figure(path, (800, 600), &Plane(modes, freq, fixed))
 }
 
+/// One sampled function of a mode-function picture.
+#[derive(Clone, Debug)]
+pub struct Curve {
+    /// The legend's text.
+    pub label: String,
+    /// The colour's number (one per overtone).
+    pub colour: usize,
+    /// Draw as points (the second method) rather than a line.
+    pub marks: bool,
+    /// (z, Re ψ, Im ψ).
+    pub points: Vec<(f64, f64, f64)>,
+}
+
+/// Writes a picture of mode functions, SVG or PNG by the extension: Re ψ
+/// against the variable `var`, and Im ψ in a second panel when it is not
+/// negligible (above 1e-12 of the largest |Re ψ|).
+pub fn plot_functions(path: &std::path::Path, var: &str, title: &str, curves: &[Curve]) -> std::result::Result<(), String> {
+    struct Functions<'a>(&'a [Curve], &'a str, &'a str);
+    impl Figure for Functions<'_> {
+        fn draw<DB: plotters::prelude::DrawingBackend>(&self, root: Area<DB>) -> std::result::Result<(), String> {
+            use plotters::prelude::*;
+            let (curves, var, title) = (self.0, self.1, self.2);
+            root.fill(&WHITE).map_err(|e| e.to_string())?;
+            let big_re = curves.iter().flat_map(|c| c.points.iter().map(|p| p.1.abs())).fold(0.0, f64::max);
+            let big_im = curves.iter().flat_map(|c| c.points.iter().map(|p| p.2.abs())).fold(0.0, f64::max);
+            let parts: Vec<(&str, usize)> = if big_im > 1e-12 * big_re { vec![("Re", 1), ("Im", 2)] } else { vec![("Re", 1)] };
+            let areas = root.titled(title, ("sans-serif", 18)).map_err(|e| e.to_string())?.split_evenly((parts.len(), 1));
+            let (x0, x1) = axis_range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.0)), 0.0);
+            let colours = [BLUE, RED, GREEN, MAGENTA, CYAN, BLACK];
+            for (area, (name, k)) in areas.iter().zip(parts) {
+                let pick = |p: &(f64, f64, f64)| if k == 1 { p.1 } else { p.2 };
+                let (y0, y1) = axis_range(curves.iter().flat_map(|c| c.points.iter().map(pick)), 3.0);
+                let mut chart = ChartBuilder::on(area)
+                    .margin(12)
+                    .x_label_area_size(36)
+                    .y_label_area_size(72)
+                    .build_cartesian_2d(x0..x1, y0..y1)
+                    .map_err(|e| e.to_string())?;
+                chart.configure_mesh().x_desc(var).y_desc(format!("{name} ψ")).draw().map_err(|e| e.to_string())?;
+                for c in curves {
+                    let colour = colours[c.colour % colours.len()];
+                    let pts = c.points.iter().map(|p| (p.0, pick(p)));
+                    if c.marks {
+                        // About 60 marks along the curve, so that the line under them stays visible.
+                        let every = (c.points.len() / 60).max(1);
+                        chart
+                            .draw_series(pts.step_by(every).map(|p| Circle::new(p, 3, colour.stroke_width(1))))
+                            .map_err(|e| e.to_string())?
+                            .label(c.label.as_str())
+                            .legend(move |(x, y)| Circle::new((x + 9, y), 3, colour.stroke_width(1)));
+                    } else {
+                        chart
+                            .draw_series(LineSeries::new(pts, colour.stroke_width(2)))
+                            .map_err(|e| e.to_string())?
+                            .label(c.label.as_str())
+                            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2)));
+                    }
+                }
+                legend(&mut chart)?;
+            }
+            root.present().map_err(|e| e.to_string())
+        }
+    }
+    write_figure(path, (900, 700), &Functions(curves, var, title))
+}
+
 /// The points of a plot's series: (x, y) pairs.
 type Series = Vec<(f64, f64)>;
 
