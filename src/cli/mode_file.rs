@@ -97,5 +97,6 @@ pub(crate) fn plot(path: &str, var: &str, title: &str, modes: &[ModeFunction]) -
     };
     let curves: Vec<Curve> =
         modes.iter().flat_map(|m| [curve(m.n, &m.first, false), m.second.as_ref().and_then(|s| curve(m.n, s, true))]).flatten().collect();
-    plot_functions(std::path::Path::new(path), var, title, &curves).map_err(|e| Failure::Plain(format!("error: cannot write the plot {path}: {e}"), 1))
+    plot_functions(std::path::Path::new(path), var, title, &curves)
+        .map_err(|e| Failure::Plain(format!("error: cannot write the plot {path}: {e}"), 1))
 }

@@ -1089,7 +1089,8 @@ fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) 
     let k = &red.field;
     let (domain, threshold) = bound_problem(red, opts.freq, &opts.values)?;
     let count = opts.overtones.1 as usize + 1;
-    let states = try_bound_states(k, &red.normal.q, opts.freq, &opts.values, domain, super::collocation::SCALE, count, opts.tol.max(1e-13), threshold)?;
+    let states =
+        try_bound_states(k, &red.normal.q, opts.freq, &opts.values, domain, super::collocation::SCALE, count, opts.tol.max(1e-13), threshold)?;
     let states: Vec<BoundState> = states.into_iter().filter(|s| s.n >= opts.overtones.0).collect();
     // The second method: Muller on the shooting mismatch, seeded by each
     // converged collocation value (the value itself stays primary).

@@ -625,15 +625,7 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
         problems.push((l, pb, est.and_then(|e| e(0)).map(|b| b.taylor)));
     }
     let (near, far) = (problems[0].1.near_label.clone(), problems[0].1.far_label.clone());
-    Ok(ScatterSetup {
-        frequency: fname,
-        near,
-        far,
-        sum: req.sum.clone(),
-        problems,
-        wkb_order: req.wkb_order,
-        coupled,
-    })
+    Ok(ScatterSetup { frequency: fname, near, far, sum: req.sum.clone(), problems, wkb_order: req.wkb_order, coupled })
 }
 
 impl ScatterSetup {
