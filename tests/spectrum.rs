@@ -909,6 +909,72 @@ fn fractions_in_values_and_any_name_for_the_spectral_parameter() {
     assert!((re - 0.37367168).abs() < 5.1e-9 && (im + 0.08896232).abs() < 5.1e-9, "{re} {im}");
 }
 
+/// Both methods' functions where two ran: a bound state's shooting
+/// function and the collocation eigenvector (interpolated to the same
+/// samples) each match the hydrogen closed forms u₁₀ = 2r e^{−r},
+/// u₂₀ = (r/√2)(1 − r/2) e^{−r/2} (textbook, e.g. Landau & Lifshitz,
+/// Quantum Mechanics §36, from memory) and each other to 1e-8; the output
+/// reports the largest difference; `--mode-plot` draws them.
+#[test]
+fn both_methods_mode_functions_agree_and_are_drawn() {
+    let dir = std::env::temp_dir().join(format!("canonode-overlay-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let (file, pic) = (dir.join("h.json"), dir.join("h.svg"));
+    let (v, code, err) = run(&[
+        "spectrum",
+        "samples/hydrogen_radial.ode",
+        "--boundary",
+        "bound",
+        "--at",
+        "Z=1,l=0",
+        "--overtones",
+        "0..1",
+        "--mode-functions",
+        file.to_str().unwrap(),
+        "--mode-plot",
+        pic.to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let summary = v["mode_functions"]["modes"].as_array().unwrap();
+    assert_eq!(summary.len(), 2);
+    for m in summary {
+        assert_eq!(m["method"], "shooting");
+        assert_eq!(m["check"]["method"], "collocation");
+        assert!(m["largest_difference"].as_f64().unwrap() < 1e-8, "{m}");
+    }
+    let doc: Value = serde_json::from_str(&std::fs::read_to_string(&file).unwrap()).unwrap();
+    let exact: [&dyn Fn(f64) -> f64; 2] = [&|r| 2.0 * r * (-r).exp(), &|r| r / 2f64.sqrt() * (1.0 - r / 2.0) * (-r / 2.0).exp()];
+    for (m, f) in doc["modes"].as_array().unwrap().iter().zip(exact) {
+        let (a, b) = (m["points"].as_array().unwrap(), m["check"]["points"].as_array().unwrap());
+        assert_eq!(a.len(), b.len());
+        assert!(m["check"]["error"].is_null() && m["largest_difference"].as_f64().unwrap() < 1e-8, "{}", m["largest_difference"]);
+        for p in b {
+            let (r, re, im) = (p[0].as_f64().unwrap(), p[1].as_f64().unwrap(), p[2].as_f64().unwrap());
+            assert!((re - f(r)).abs() < 1e-8 && im.abs() < 1e-8, "collocation, n = {}: r = {r}: {re} vs {}", m["n"], f(r));
+        }
+    }
+    let svg = std::fs::read_to_string(&pic).unwrap();
+    assert!(svg.contains("n = 1 (collocation)") && svg.contains("Re ψ"), "the picture names the curves");
+    // Quasinormal modes: the continued fraction's function and direct integration's agree; the text says by how much.
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_canonode"))
+        .args(["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--mode-plot", pic.to_str().unwrap(), "--mode-reach", "10"])
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .unwrap();
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(out.status.success());
+    let line = text.lines().find(|l| l.contains("direct integration: largest difference")).unwrap_or_else(|| panic!("{text}"));
+    let d: f64 = line.split("difference ").nth(1).unwrap().split(' ').next().unwrap().parse().unwrap();
+    assert!(d < 1e-6, "{line}");
+    // A picture other than SVG or PNG is refused before any work.
+    let (_, code, err) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--mode-plot", "x.pdf"]);
+    assert_eq!(code, 2);
+    assert!(err.contains("--mode-plot"), "{err}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
 #[test]
 fn mode_functions_are_written_normalised() {
     // Hydrogen (Z = 1, l = 0): u₁₀ = 2r e^{−r} and u₂₀ = (r/√2)(1 − r/2) e^{−r/2}, normalised
@@ -947,10 +1013,14 @@ fn mode_functions_are_written_normalised() {
     assert_eq!(code, 0, "{err}");
     let text = std::fs::read_to_string(&path).unwrap();
     let lines: Vec<&str> = text.lines().collect();
-    assert_eq!(lines[0], "n,omega_re,omega_im,z,re,im");
-    assert_eq!(lines.len(), 401);
-    let last: Vec<f64> = lines[400].split(',').map(|x| x.parse().unwrap()).collect();
-    assert!((last[3] - 12.0).abs() < 1e-12 && last[4].is_finite() && last[5].is_finite(), "{}", lines[400]);
+    assert_eq!(lines[0], "n,method,omega_re,omega_im,z,re,im");
+    // The continued fraction's function, then direct integration's at its own frequency.
+    assert_eq!(lines.len(), 801);
+    assert!(lines[400].starts_with("0,cf,") && lines[401].starts_with("0,integrate,"), "{}", lines[401]);
+    for line in [lines[400], lines[800]] {
+        let last: Vec<f64> = line.split(',').skip(2).map(|x| x.parse().unwrap()).collect();
+        assert!((last[2] - 12.0).abs() < 1e-12 && last[3].is_finite() && last[4].is_finite(), "{line}");
+    }
     // A file type other than CSV or JSON is refused before any work.
     let (_, code, err) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--mode-functions", "x.txt"]);
     assert_eq!(code, 2);

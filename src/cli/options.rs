@@ -121,14 +121,19 @@ pub(crate) fn vary(text: &str, names: &[String], freq: usize) -> Result<(String,
 /// created and removed again.
 /// A `--plot` path: FILE.svg or FILE.png, writable (checked before any work).
 pub(crate) fn plot_path(path: &str) -> Result<(), Failure> {
+    picture_path(path, "--plot")
+}
+
+/// A picture's path given with `option`: SVG or PNG, writable.
+pub(crate) fn picture_path(path: &str, option: &str) -> Result<(), Failure> {
     let lower = path.to_ascii_lowercase();
     if !(lower.ends_with(".svg") || lower.ends_with(".png")) {
         return Err(crate::error::Error::new(crate::error::ErrorKind::Usage, "the plot is written as SVG or PNG: give FILE.svg or FILE.png")
             .at(crate::syntax::Span::new(0, path.len().max(1)))
-            .in_option("--plot")
+            .in_option(option)
             .into());
     }
-    writable(path, "--plot")
+    writable(path, option)
 }
 
 pub(crate) fn writable(path: &str, option: &str) -> Result<(), Failure> {

@@ -18,7 +18,9 @@
 //! {`l`, `transmission`, `reflection`, `flux_error`, `matching_change`,
 //! `cross_section_term`, `error`}. With `--couple`, each point with a value
 //! adds `linked`: {the angular eigenvalue's name and each radial link
-//! target's name: [re, im]} at that frequency.
+//! target's name: [re, im]} at that frequency (with `--sum-l`, each partial
+//! term has its own `linked`: the multipole l is the angular eigenvalue
+//! numbered `--angular-index` + (l − A)).
 //! CSV: `omega,transmission,reflection,flux_error,matching_change,wkb_transmission,error`
 //! (and `cross_section` before `error` with `--sum-l`; the partial terms as
 //! `T_l` columns).
@@ -55,7 +57,8 @@ pub(crate) struct ScatterArgs {
     /// Real frequencies START:STOP:STEP (exact decimals), e.g. '0.05:1:0.05'.
     #[arg(long = "omega", value_name = "A:B:STEP")]
     omega: String,
-    /// Sum the absorption cross-section over the multipole range A..B (inclusive).
+    /// Sum the absorption cross-section over the multipole range A..B (inclusive); with --couple the
+    /// multipole l is the angular eigenvalue numbered --angular-index + (l − A).
     #[arg(long = "sum-l", value_name = "A..B")]
     sum_l: Option<String>,
     /// The multipole parameter summed by --sum-l.

@@ -227,10 +227,15 @@ pub(crate) struct SpectrumArgs {
     #[arg(long = "eikonal-param", value_name = "NAME")]
     pub(crate) eikonal_param: Option<String>,
     /// Write every converged mode's function to FILE.csv or FILE.json: bound states normalised
-    /// (∫|ψ|² = 1), quasinormal modes with unit leading coefficient at the horizon.
+    /// (∫|ψ|² = 1), quasinormal modes with unit leading coefficient at the horizon; where a second method ran,
+    /// its function too (a `method` column), and the largest difference between the two in the output.
     #[arg(long = "mode-functions", value_name = "FILE")]
     pub(crate) mode_functions: Option<String>,
-    /// With --mode-functions for quasinormal modes: how far from the horizon to sample (default 20 times its distance to the next singular point).
+    /// Draw every converged mode's function (Re ψ, and Im ψ where it is not negligible) against the variable,
+    /// SVG or PNG by the extension: one colour per overtone, the second method's function as points on the first's line.
+    #[arg(long = "mode-plot", value_name = "FILE.svg|FILE.png")]
+    pub(crate) mode_plot: Option<String>,
+    /// With --mode-functions or --mode-plot for quasinormal modes: how far from the horizon to sample (default 20 times its distance to the next singular point).
     #[arg(long = "mode-reach", value_name = "DISTANCE")]
     pub(crate) mode_reach: Option<f64>,
 }
@@ -295,6 +300,7 @@ pub(crate) fn run(a: &SpectrumArgs) -> u8 {
     extra.extend(a.guess.iter().map(|g| ("--guess".to_string(), g.clone())));
     extra.extend(a.polynomial_degree.iter().map(|g| ("--polynomial-degree".to_string(), g.clone())));
     extra.extend(a.plot.iter().map(|p| ("--plot".to_string(), p.clone())));
+    extra.extend(a.mode_plot.iter().map(|p| ("--mode-plot".to_string(), p.clone())));
     extra.extend(a.couple.option_texts());
     run_command(&a.input, &extra, |src| compute(a, src))
 }
@@ -330,7 +336,7 @@ fn request(
         tol: a.tol,
         wkb_order: a.wkb_order,
         eikonal_param: a.eikonal_param.clone(),
-        mode_functions: a.mode_functions.as_ref().map(|_| a.mode_reach),
+        mode_functions: (a.mode_functions.is_some() || a.mode_plot.is_some()).then_some(a.mode_reach),
         couple,
         // The closed form goes into text and JSON (CSV stays one line per mode).
         closed_form: a.format != SpecFormat::Csv,
@@ -364,6 +370,9 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     if let Some(p) = &a.plot {
         super::options::plot_path(p)?;
     }
+    if let Some(p) = &a.mode_plot {
+        super::options::picture_path(p, "--mode-plot")?;
+    }
     let red = a.input.reduce(src)?;
     let (asrc, couple) = match a.couple.request(&red.field, angular_guess)? {
         Some((asrc, c)) => (Some(asrc), Some(c)),
@@ -388,6 +397,9 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     })?;
     if let (Some(path), Some(f)) = (&a.mode_functions, &report.mode_functions) {
         super::mode_file::write(path, &red.var, f.normalisation, &f.modes)?;
+    }
+    if let (Some(path), Some(f)) = (&a.mode_plot, &report.mode_functions) {
+        super::mode_file::plot(path, &red.var, &format!("mode functions ({})", src.name), &f.modes)?;
     }
     write_plot(a, &report.frequency, &report.plane_modes())?;
     Ok(match a.format {

@@ -10,7 +10,8 @@ use crate::solve::closed::ClosedForm;
 use crate::solve::periodic::{Floquet, PeriodicMode};
 use crate::solve::polynomial::PolynomialSolutions;
 use crate::solve::request::{
-    Body, BoundReport, ClosedSection, EndsReport, EstimateReport, PeriodicReport, Problem, RecurrenceReport, SpectrumReport,
+    Body, BoundReport, ClosedSection, EndsReport, EstimateReport, MethodFunction, ModeFunctions, PeriodicReport, Problem, RecurrenceReport,
+    SpectrumReport,
 };
 use crate::solve::shoot::BoundCheck;
 use crate::solve::spectrum::ModeMethod;
@@ -70,6 +71,9 @@ pub fn json(r: &SpectrumReport) -> Value {
         Body::Periodic(b) => periodic_json(&r.frequency, b),
     };
     let numeric = r.body.converged();
+    if let (Some(f), Value::Object(m)) = (&r.mode_functions, &mut doc) {
+        m.insert("mode_functions".into(), mode_functions_json(f));
+    }
     if let (Some(p), Value::Object(m)) = (&r.polynomial, &mut doc) {
         let (v, note) = match p {
             Ok(p) => (polynomial_json(p), Value::Null),
@@ -183,7 +187,61 @@ pub fn text(r: &SpectrumReport, source: &str) -> String {
         Some(Err(why)) => o.push_str(&format!("\npolynomial solutions: none ({why})\n")),
         None => {}
     }
+    if let Some(f) = &r.mode_functions {
+        o.push_str(&mode_functions_text(&r.frequency, f));
+    }
     o
+}
+
+/// A mode-function method tag in words.
+pub fn method_words(tag: &str) -> &'static str {
+    match tag {
+        "cf" => "continued fraction",
+        "terminating" => "terminating series",
+        "integrate" => "direct integration",
+        "shooting" => "shooting",
+        "collocation" => "collocation",
+        _ => "another method",
+    }
+}
+
+/// The mode functions' summary (the samples go to their own file): each
+/// mode's methods and the largest difference between their functions.
+fn mode_functions_json(f: &ModeFunctions) -> Value {
+    let one = |m: &MethodFunction| json!({"method": m.method, "omega": pair(m.value), "error": m.samples.as_ref().err()});
+    let modes: Vec<Value> = f
+        .modes
+        .iter()
+        .map(|m| {
+            let mut v = one(&m.first);
+            v["n"] = json!(m.n);
+            v["check"] = m.second.as_ref().map_or(Value::Null, one);
+            v["largest_difference"] = opt_num(m.difference);
+            v
+        })
+        .collect();
+    json!({"normalisation": f.normalisation, "modes": modes})
+}
+
+fn mode_functions_text(freq: &str, f: &ModeFunctions) -> String {
+    let mut s = format!("\nmode functions ({}):\n", f.normalisation);
+    for m in &f.modes {
+        let w = m.first.value;
+        s.push_str(&format!("  {:>3}  {} at {freq} = {}", m.n, method_words(m.first.method), fmt_complex(w.re, w.im)));
+        match &m.first.samples {
+            Ok(p) => s.push_str(&format!(", {} samples\n", p.len())),
+            Err(why) => s.push_str(&format!(": NO FUNCTION ({why})\n")),
+        }
+        match (&m.second, m.difference) {
+            (Some(c), Some(d)) => s.push_str(&format!("       {}: largest difference {d:.1e} (relative to max |ψ|)\n", method_words(c.method))),
+            (Some(c), None) => match &c.samples {
+                Err(why) => s.push_str(&format!("       {}: NO FUNCTION ({why})\n", method_words(c.method))),
+                Ok(_) => s.push_str(&format!("       {}: not compared\n", method_words(c.method))),
+            },
+            (None, _) => s.push_str("       no second method's function\n"),
+        }
+    }
+    s
 }
 
 /// How near a numeric mode must lie to an exact value to count as its check (relative).

@@ -128,7 +128,9 @@ impl GridStop {
     }
 }
 
-fn eigenvalues(q0: &Eval, q1: &Eval, domain: Domain, scale: f64, n: usize) -> std::result::Result<Vec<Complex64>, GridStop> {
+/// The Chebyshev points of a grid of n intervals and the collocation matrix
+/// (−∂²_z − Q₀)/Q₁ on the interior points (ψ = 0 at x = ±1).
+fn matrix(q0: &Eval, q1: &Eval, domain: Domain, scale: f64, n: usize) -> std::result::Result<(Vec<f64>, DMatrix<Complex64>), GridStop> {
     let (x, d) = cheb(n);
     let d2 = &d * &d;
     let m = n - 1; // interior points 1..n−1 (ψ = 0 at x = ±1)
@@ -150,10 +152,104 @@ fn eigenvalues(q0: &Eval, q1: &Eval, domain: Domain, scale: f64, n: usize) -> st
             a[(i - 1, j - 1)] = v / w;
         }
     }
+    Ok((x, a))
+}
+
+fn eigenvalues(q0: &Eval, q1: &Eval, domain: Domain, scale: f64, n: usize) -> std::result::Result<Vec<Complex64>, GridStop> {
+    let (_, a) = matrix(q0, q1, domain, scale, n)?;
+    let m = a.nrows();
     let mut ev = crate::analysis::numeric::try_eigenvalues(&a).ok_or(GridStop::IterationLimit(2 * crate::analysis::numeric::qr_limit(m)))?;
     ev.retain(|e| e.re.is_finite() && e.im.is_finite());
     ev.sort_by(|p, q| p.re.partial_cmp(&q.re).unwrap_or(std::cmp::Ordering::Equal));
     Ok(ev)
+}
+
+/// Q₀ and Q₁ of Q = Q₀ + E·Q₁ at the given values, as evaluators.
+fn split(k: &Field, q: &RatFunc, eig: usize, values: &[GRat]) -> Result<(Eval, Eval)> {
+    let q1 = k.deriv(q, eig)?;
+    if !k.deriv(&q1, eig)?.is_zero() {
+        return Err(usage("Q is not linear in the spectral parameter: collocation here needs Q = Q₀ + E·Q₁"));
+    }
+    if q1.is_zero() {
+        return Err(usage("Q does not depend on the spectral parameter"));
+    }
+    let mut at0 = values.to_vec();
+    at0[eig] = GRat::zero();
+    let q0 = k.compose(q, eig, &RatFunc::zero())?;
+    Ok((Eval::new(&q0, &at0, eig), Eval::new(&q1, &at0, eig)))
+}
+
+/// The length scale of the collocation map on infinite intervals.
+pub const SCALE: f64 = 4.0;
+
+/// The inverse of `map`: x ∈ [−1, 1] with g(x) = z.
+fn unmap(domain: Domain, scale: f64, z: f64) -> f64 {
+    let x = match domain {
+        Domain::Finite(a, b) => (2.0 * z - a - b) / (b - a),
+        Domain::HalfLine(a) => (z - a - scale) / (z - a + scale),
+        Domain::Line => z / (scale * scale + z * z).sqrt(),
+    };
+    x.clamp(-1.0, 1.0)
+}
+
+/// The collocation eigenfunction (the normal form's ψ, unnormalised) of the
+/// eigenvalue `e` on the grid of `points` Chebyshev points (the grid the
+/// eigenvalue converged on), evaluated at each z of `at`: the null vector of
+/// the collocation matrix shifted to `e` by inverse iteration (four solves),
+/// ψ = 0 at the ends, interpolated by the barycentric formula in the mapped
+/// variable (J.-P. Berrut and L. N. Trefethen, SIAM Rev. 46 (2004) 501,
+/// eq. 5.4). An independent construction of the function that shooting
+/// builds from the ends (`modefn::bound_mode_function`).
+#[allow(clippy::too_many_arguments)]
+pub fn try_eigenfunction(
+    k: &Field,
+    q: &RatFunc,
+    eig: usize,
+    values: &[GRat],
+    domain: Domain,
+    scale: f64,
+    points: usize,
+    e: Complex64,
+    at: &[f64],
+) -> Result<Vec<Complex64>> {
+    if !(4..=MAX_POINTS + 1).contains(&points) {
+        return Err(usage(format!("a collocation grid of {points} points is outside 4..={}", MAX_POINTS + 1)));
+    }
+    let (e0, e1) = split(k, q, eig, values)?;
+    let n = points - 1;
+    let (x, a) = matrix(&e0, &e1, domain, scale, n).map_err(|g| usage(g.text()))?;
+    let m = a.nrows();
+    // Shifted a little off the eigenvalue so that the solve stays finite.
+    let shift = e + Complex64::new(1e-10 * e.norm().max(1.0), 0.0);
+    let lu = (a - DMatrix::<Complex64>::identity(m, m) * shift).lu();
+    let mut v = nalgebra::DVector::<Complex64>::from_element(m, Complex64::new(1.0, 0.0));
+    for _ in 0..4 {
+        let next = lu.solve(&v).ok_or_else(|| usage("the shifted collocation matrix is singular"))?;
+        let size = next.iter().map(|c| c.norm()).fold(0.0, f64::max);
+        if !(size > 0.0 && size.is_finite()) {
+            return Err(usage("inverse iteration for the collocation eigenfunction did not stay finite"));
+        }
+        v = next / Complex64::new(size, 0.0);
+    }
+    // Values at every Chebyshev point, zero at the ends.
+    let f: Vec<Complex64> = (0..=n).map(|j| if j == 0 || j == n { Complex64::new(0.0, 0.0) } else { v[j - 1] }).collect();
+    let weight = |j: usize| if j == 0 || j == n { 0.5 } else { 1.0 } * if j.is_multiple_of(2) { 1.0 } else { -1.0 };
+    Ok(at
+        .iter()
+        .map(|&z| {
+            let t = unmap(domain, scale, z);
+            if let Some(j) = x.iter().position(|xj| *xj == t) {
+                return f[j];
+            }
+            let (mut num, mut den) = (Complex64::new(0.0, 0.0), 0.0);
+            for j in 0..=n {
+                let c = weight(j) / (t - x[j]);
+                num += f[j] * c;
+                den += c;
+            }
+            num / den
+        })
+        .collect())
 }
 
 /// The lowest `count` eigenvalues E of −ψ'' − Q₀ψ = E Q₁ψ below `threshold`
@@ -172,17 +268,7 @@ pub fn try_bound_states(
     tol: f64,
     threshold: f64,
 ) -> Result<Vec<BoundState>> {
-    let q1 = k.deriv(q, eig)?;
-    if !k.deriv(&q1, eig)?.is_zero() {
-        return Err(usage("Q is not linear in the spectral parameter: collocation here needs Q = Q₀ + E·Q₁"));
-    }
-    if q1.is_zero() {
-        return Err(usage("Q does not depend on the spectral parameter"));
-    }
-    let mut at0 = values.to_vec();
-    at0[eig] = GRat::zero();
-    let q0 = k.compose(q, eig, &RatFunc::zero())?;
-    let (e0, e1) = (Eval::new(&q0, &at0, eig), Eval::new(&q1, &at0, eig));
+    let (e0, e1) = split(k, q, eig, values)?;
     let below =
         |v: Vec<Complex64>| -> Vec<Complex64> { v.into_iter().filter(|e| e.re < threshold && e.im.abs() <= 1e-6 * e.re.abs().max(1.0)).collect() };
     let mut n = 48usize;

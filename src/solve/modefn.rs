@@ -160,6 +160,23 @@ pub fn bound_mode_function(ode: &NumOde, domain: Domain, e: Complex64, panels: u
     Ok(all)
 }
 
+/// Another construction's values `v` of the function sampled in `like` (at
+/// the same z), normalised with the same quadrature weights (∫|ψ|² = 1) and
+/// turned to the same phase (the overlap ∫ ψ̄ ψ_like real and positive), so
+/// that the two can be compared sample by sample.
+pub fn normalised_like(like: &Samples, v: Vec<Complex64>) -> Result<Samples, String> {
+    if v.len() != like.len() {
+        return Err("the second function has a different number of samples".into());
+    }
+    let norm: f64 = like.iter().zip(&v).map(|(s, y)| s.2 * y.norm_sqr()).sum();
+    let overlap: Complex64 = like.iter().zip(&v).map(|(s, y)| y.conj() * s.1 * s.2).sum();
+    if !(norm > 0.0 && norm.is_finite() && overlap.norm() > 0.0) {
+        return Err("the second function has no finite norm or is orthogonal to the first".into());
+    }
+    let f = overlap / overlap.norm() / norm.sqrt();
+    Ok(like.iter().zip(v).map(|(s, y)| (s.0, y * f, s.2)).collect())
+}
+
 /// The solution of a quasinormal mode (or any ω) that is the Frobenius series
 /// (z − z_h)^ρ (1 + Σ c_k (z − z_h)^k) at the horizon, continued along the
 /// real axis from the horizon to z_h + `reach` (default 20 times the distance
@@ -230,6 +247,49 @@ mod tests {
         // Positive next to the first end u = −1, where u(1 − u²) is negative: the sign flips.
         let s = bound_mode_function(&o, Domain::Finite(-1.0, 1.0), Complex64::new(-1.0, 0.0), 16).unwrap();
         check(&s, &|u| -(105.0f64 / 16.0).sqrt() * u * (1.0 - u * u), "first excited state");
+    }
+
+    /// The collocation eigenvector of state `n` on the shooting function's samples, normalised alike.
+    fn collocation_like(src: &str, values: &[i64], domain: Domain, n: usize, shot: &Samples) -> Samples {
+        use crate::ode::{reduce, Input, ReduceOptions};
+        let red = reduce(&Input::Program(src), &ReduceOptions::default()).unwrap();
+        let names = red.field.names().to_vec();
+        let eig = names.iter().position(|x| x == "E").unwrap();
+        let mut vals = vec![crate::algebra::GRat::zero(); names.len()];
+        for (i, v) in (1..names.len()).filter(|&i| i != eig).zip(values) {
+            vals[i] = crate::algebra::GRat::real(crate::algebra::Rat::int((*v).into()));
+        }
+        let k = &red.field;
+        let scale = super::super::collocation::SCALE;
+        let states = super::super::collocation::try_bound_states(k, &red.normal.q, eig, &vals, domain, scale, n + 1, 1e-13, f64::INFINITY).unwrap();
+        let s = &states[n];
+        assert!(s.converged, "{s:?}");
+        let zs: Vec<f64> = shot.iter().map(|p| p.0).collect();
+        let v = super::super::collocation::try_eigenfunction(k, &red.normal.q, eig, &vals, domain, scale, s.points, s.value, &zs).unwrap();
+        normalised_like(shot, v).unwrap()
+    }
+
+    // The second construction (collocation eigenvector, interpolated and normalised like the shooting function)
+    // against the same closed forms: hydrogen as above to 1e-8; the Pöschl–Teller well's ψ ∝ (1 − u²)^{3/2}
+    // has branch points at the ends, where Chebyshev interpolation converges only algebraically: to 1e-5.
+    #[test]
+    fn collocation_eigenfunctions_are_the_closed_forms_too() {
+        let pt = "var u\nparam V0, E\nlet g = 1 - u^2\nunknown phi\node g*(g*phi')' + (E - V0*g)*phi = 0\n";
+        let o = ode(pt, &[-6]);
+        let worst = |a: &Samples, f: &dyn Fn(f64) -> f64| a.iter().map(|(x, y, _)| (y - f(*x)).norm()).fold(0.0, f64::max);
+        for (n, e, f) in [
+            (0, -4.0, &(|u: f64| (35.0f64 / 32.0).sqrt() * (1.0 - u * u).powf(1.5)) as &dyn Fn(f64) -> f64),
+            (1, -1.0, &|u: f64| -(105.0f64 / 16.0).sqrt() * u * (1.0 - u * u)),
+        ] {
+            let shot = bound_mode_function(&o, Domain::Finite(-1.0, 1.0), Complex64::new(e, 0.0), 16).unwrap();
+            let col = collocation_like(pt, &[-6], Domain::Finite(-1.0, 1.0), n, &shot);
+            assert!(worst(&col, f) < 1e-5, "Pöschl–Teller state {n}: {}", worst(&col, f));
+        }
+        let h = "var r\nparam Z, l, E\node -u''/2 + (l*(l + 1)/(2*r^2) - Z/r)*u = E*u\n";
+        let shot = bound_mode_function(&ode(h, &[1, 1]), Domain::HalfLine(0.0), Complex64::new(-0.125, 0.0), 24).unwrap();
+        let col = collocation_like(h, &[1, 1], Domain::HalfLine(0.0), 0, &shot);
+        let f = |r: f64| r * r * (-r / 2.0).exp() / (2.0 * 6f64.sqrt());
+        assert!(worst(&col, &f) < 1e-8, "hydrogen 2p: {}", worst(&col, &f));
     }
 
     // The oscillator ψ'' + (2E − x²)ψ = 0: ψ₀ = π^{−1/4} e^{−x²/2} (textbook).

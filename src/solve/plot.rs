@@ -54,6 +54,8 @@ pub(crate) enum Mark {
     Cross(RGBAColor),
     /// An open square.
     Square(RGBAColor),
+    /// An open circle (a second method's samples over a curve).
+    Ring(RGBAColor),
     /// A line segment (a curve).
     Line(RGBAColor),
     /// A filled square (a colour of a colour map).
@@ -109,6 +111,7 @@ pub(crate) fn with_legend<DB: DrawingBackend>(root: &Area<DB>, entries: &[(Mark,
                 Mark::Dot(col) => strip.draw(&Circle::new(c, 6, col.filled())),
                 Mark::Cross(col) => strip.draw(&Cross::new(c, 4, col.stroke_width(2))),
                 Mark::Square(col) => strip.draw(&Rectangle::new([(c.0 - 6, c.1 - 6), (c.0 + 6, c.1 + 6)], col.stroke_width(2))),
+                Mark::Ring(col) => strip.draw(&Circle::new(c, 4, col.stroke_width(1))),
                 Mark::Line(col) => strip.draw(&PathElement::new(vec![(c.0 - 10, c.1), (c.0 + 12, c.1)], col.stroke_width(2))),
                 Mark::Swatch(col) => strip.draw(&Rectangle::new([(c.0 - 8, c.1 - 7), (c.0 + 8, c.1 + 7)], col.filled())),
             }
@@ -223,6 +226,68 @@ pub fn plot_curves(path: &std::path::Path, title: &str, xlabel: &str, ylabel: &s
         }
     }
     write_figure(path, (900, 560), &Curves(title, xlabel, ylabel, curves))
+}
+
+/// One sampled function of a mode-function picture.
+#[derive(Clone, Debug)]
+pub struct Curve {
+    /// The legend's text.
+    pub label: String,
+    /// The colour's number (one per overtone).
+    pub colour: usize,
+    /// Draw as points (the second method) rather than a line.
+    pub marks: bool,
+    /// (z, Re ψ, Im ψ).
+    pub points: Vec<(f64, f64, f64)>,
+}
+
+/// Writes a picture of mode functions, SVG or PNG by the extension: Re ψ
+/// against the variable `var`, and Im ψ in a second panel when it is not
+/// negligible (above 1e-12 of the largest |Re ψ|); the legend below the charts.
+pub fn plot_functions(path: &std::path::Path, var: &str, title: &str, curves: &[Curve]) -> Result<(), String> {
+    struct Functions<'a>(&'a [Curve], &'a str, &'a str);
+    impl Figure for Functions<'_> {
+        fn draw<DB: DrawingBackend>(&self, root: Area<DB>) -> Result<(), String> {
+            let (curves, var, title) = (self.0, self.1, self.2);
+            root.fill(&WHITE).map_err(|e| e.to_string())?;
+            let colours = [BLUE, RED, GREEN, MAGENTA, CYAN, BLACK];
+            let colour = |c: &Curve| colours[c.colour % colours.len()];
+            let entries: Vec<(Mark, String)> = curves
+                .iter()
+                .map(|c| (if c.marks { Mark::Ring(colour(c).to_rgba()) } else { Mark::Line(colour(c).to_rgba()) }, c.label.clone()))
+                .collect();
+            let area = with_legend(&root, &entries)?;
+            let big_re = curves.iter().flat_map(|c| c.points.iter().map(|p| p.1.abs())).fold(0.0, f64::max);
+            let big_im = curves.iter().flat_map(|c| c.points.iter().map(|p| p.2.abs())).fold(0.0, f64::max);
+            let parts: Vec<(&str, usize)> = if big_im > 1e-12 * big_re { vec![("Re", 1), ("Im", 2)] } else { vec![("Re", 1)] };
+            let areas = area.titled(title, ("sans-serif", 18)).map_err(|e| e.to_string())?.split_evenly((parts.len(), 1));
+            let (x0, x1) = axis_range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.0)), 0.0);
+            for (part, (name, k)) in areas.iter().zip(parts) {
+                let pick = |p: &(f64, f64, f64)| if k == 1 { p.1 } else { p.2 };
+                let (y0, y1) = axis_range(curves.iter().flat_map(|c| c.points.iter().map(pick)), 0.0);
+                let mut chart = ChartBuilder::on(part)
+                    .margin(12)
+                    .x_label_area_size(36)
+                    .y_label_area_size(72)
+                    .build_cartesian_2d(x0..x1, y0..y1)
+                    .map_err(|e| e.to_string())?;
+                chart.configure_mesh().x_desc(var).y_desc(format!("{name} ψ")).draw().map_err(|e| e.to_string())?;
+                for c in curves {
+                    let col = colour(c);
+                    let pts = c.points.iter().map(|p| (p.0, pick(p)));
+                    if c.marks {
+                        // About 60 marks along the curve, so that the line under them stays visible.
+                        let every = (c.points.len() / 60).max(1);
+                        chart.draw_series(pts.step_by(every).map(|p| Circle::new(p, 3, col.stroke_width(1)))).map_err(|e| e.to_string())?;
+                    } else {
+                        chart.draw_series(LineSeries::new(pts, col.stroke_width(2))).map_err(|e| e.to_string())?;
+                    }
+                }
+            }
+            root.present().map_err(|e| e.to_string())
+        }
+    }
+    write_figure(path, (900, 700), &Functions(curves, var, title))
 }
 
 /// The points of a plot's series: (x, y) pairs.

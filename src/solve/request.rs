@@ -151,8 +151,50 @@ pub struct SpectrumRequest {
 pub struct ModeFunctions {
     /// How the functions are normalised, in words.
     pub normalisation: &'static str,
-    /// Overtone, eigenvalue and samples (or why there are none).
-    pub modes: Vec<(u32, Complex64, std::result::Result<Samples, String>)>,
+    /// One entry per converged mode.
+    pub modes: Vec<ModeFunction>,
+}
+
+/// One mode's function, with the second method's beside it where two methods ran.
+#[derive(Debug)]
+pub struct ModeFunction {
+    /// Overtone (or level) number.
+    pub n: u32,
+    /// The function of the mode's value by its method.
+    pub first: MethodFunction,
+    /// The function by the second method (its own value, or its own
+    /// construction), on the same samples; `None` where no second method ran.
+    pub second: Option<MethodFunction>,
+    /// The largest difference between the two functions over the samples,
+    /// relative to the largest |ψ| of the first (`None` without a second
+    /// function, or when either has no samples).
+    pub difference: Option<f64>,
+}
+
+/// A function by one method.
+#[derive(Debug)]
+pub struct MethodFunction {
+    /// The method, as a tag: "cf", "terminating", "integrate", "shooting" or "collocation".
+    pub method: &'static str,
+    /// The eigenvalue (or frequency) it was computed at.
+    pub value: Complex64,
+    /// The samples, or why there are none.
+    pub samples: std::result::Result<Samples, String>,
+}
+
+impl ModeFunction {
+    /// A mode's function, the second method's beside it, and their largest relative difference.
+    pub fn new(n: u32, first: MethodFunction, second: Option<MethodFunction>) -> ModeFunction {
+        let difference = match (&first.samples, second.as_ref().map(|s| &s.samples)) {
+            (Ok(a), Some(Ok(b))) if a.len() == b.len() => {
+                let big = a.iter().map(|s| s.1.norm()).fold(0.0, f64::max);
+                let d = a.iter().zip(b).map(|(x, y)| (x.1 - y.1).norm()).fold(0.0, f64::max);
+                (big > 0.0 && d.is_finite()).then(|| d / big)
+            }
+            _ => None,
+        };
+        ModeFunction { n, first, second, difference }
+    }
 }
 
 /// Quasinormal modes from the exact recurrence (continued fraction or a terminating series).
@@ -1085,12 +1127,19 @@ fn recurrence_route(
         Some(reach) => {
             // The unknown itself, from the horizon's Frobenius series with unit leading coefficient.
             let pb = super::scatter::problem(red, opts, &setup)?;
+            let at = |method: &'static str, w: Complex64| MethodFunction {
+                method,
+                value: w,
+                samples: super::modefn::horizon_mode_function(&pb.ode, pb.near, pb.rho_at(w), w, reach, 400),
+            };
+            // The second method's function at its own frequency, where the check converged.
             let fs = modes
                 .iter()
-                .filter(|m| m.root.converged)
-                .map(|m| {
-                    let w = m.root.omega;
-                    (m.n, w, super::modefn::horizon_mode_function(&pb.ode, pb.near, pb.rho_at(w), w, reach, 400))
+                .zip(&checks)
+                .filter(|(m, _)| m.root.converged)
+                .map(|(m, c)| {
+                    let second = c.as_ref().filter(|r| r.converged).map(|r| at(ModeMethod::Integrate.tag(), r.omega));
+                    ModeFunction::new(m.n, at(m.method.tag(), m.root.omega), second)
                 })
                 .collect();
             Some(ModeFunctions { normalisation: "the unknown, with unit leading coefficient of its Frobenius series at the horizon", modes: fs })
@@ -1114,7 +1163,8 @@ fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) 
     let k = &red.field;
     let (domain, threshold) = bound_problem(red, opts.freq, &opts.values)?;
     let count = opts.overtones.1 as usize + 1;
-    let states = try_bound_states(k, &red.normal.q, opts.freq, &opts.values, domain, 4.0, count, opts.tol.max(1e-13), threshold)?;
+    let states =
+        try_bound_states(k, &red.normal.q, opts.freq, &opts.values, domain, super::collocation::SCALE, count, opts.tol.max(1e-13), threshold)?;
     let states: Vec<BoundState> = states.into_iter().filter(|s| s.n >= opts.overtones.0).collect();
     // The second method: Muller on the shooting mismatch, seeded by each
     // converged collocation value (the value itself stays primary).
@@ -1140,7 +1190,26 @@ fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) 
                         Some(BoundCheck::Agrees(r)) => r.omega,
                         _ => s.value,
                     };
-                    (s.n, e, super::modefn::bound_mode_function(o, domain, e, 24))
+                    let first = MethodFunction { method: "shooting", value: e, samples: super::modefn::bound_mode_function(o, domain, e, 24) };
+                    // The collocation eigenvector of the same state, on the same samples.
+                    let second = first.samples.as_ref().ok().map(|shot| MethodFunction {
+                        method: "collocation",
+                        value: s.value,
+                        samples: super::collocation::try_eigenfunction(
+                            k,
+                            &red.normal.q,
+                            opts.freq,
+                            &opts.values,
+                            domain,
+                            super::collocation::SCALE,
+                            s.points,
+                            s.value,
+                            &shot.iter().map(|p| p.0).collect::<Vec<_>>(),
+                        )
+                        .map_err(|e| e.message)
+                        .and_then(|v| super::modefn::normalised_like(shot, v)),
+                    });
+                    ModeFunction::new(s.n, first, second)
                 })
                 .collect();
             Some(ModeFunctions {

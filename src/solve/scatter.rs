@@ -415,9 +415,10 @@ pub struct ScatterSetup {
     problems: Vec<(i64, Problem, Option<Vec<Complex64>>)>,
     wkb_order: usize,
     /// With a coupled angular equation: what each frequency's problem is
-    /// built from (behind a lock: the exact layer's caches are not shared
-    /// between threads, so coupled frequencies run one at a time).
-    coupled: Option<std::sync::Mutex<CoupledScatter>>,
+    /// built from, one per multipole (each behind a lock: the exact layer's
+    /// caches are not shared between threads, so the frequencies of one
+    /// multipole run one at a time).
+    coupled: Vec<std::sync::Mutex<CoupledScatter>>,
 }
 
 /// A scattering problem whose separation constant comes from an angular
@@ -484,15 +485,22 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
     if !(1..=super::wkb::MAX_ORDER).contains(&req.wkb_order) {
         return Err(usage(format!("the WKB order must lie in 1..={}", super::wkb::MAX_ORDER)).in_option("--wkb-order"));
     }
+    // The summed multipole's index among the radial parameters; with a
+    // coupled angular equation it need not be one (it counts the angular
+    // eigenvalues instead).
     let sum = match &req.sum {
         None => None,
         Some((name, l0, l1)) => {
             if !(0 <= *l0 && l0 <= l1 && l1 - l0 <= 200) {
                 return Err(usage("expected a multipole range A..B with 0 ≤ A ≤ B (at most 200 terms)".into()).in_option("--sum-l"));
             }
-            let Some(li) = names.iter().skip(1).position(|n| n == name).map(|i| i + 1).filter(|i| *i != freq) else {
+            let li = names.iter().skip(1).position(|n| n == name).map(|i| i + 1);
+            if li == Some(freq) {
+                return Err(usage(format!("'{name}' is the frequency: it cannot be summed")).in_option("--multipole"));
+            }
+            if li.is_none() && req.couple.is_none() {
                 return Err(usage(format!("'{name}' is not a parameter of the equation other than the frequency")).in_option("--multipole"));
-            };
+            }
             Some((li, *l0, *l1))
         }
     };
@@ -500,12 +508,8 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
     let mut given = vec![false; names.len()];
     given[0] = true;
     given[freq] = true;
-    if let Some((li, ..)) = sum {
+    if let Some((Some(li), ..)) = sum {
         given[li] = true;
-    }
-    if req.couple.is_some() && sum.is_some() {
-        return Err(usage("a sum over multipoles with a coupled angular equation is not available: scatter one multipole at a time".into())
-            .in_option("--sum-l"));
     }
     let links: &[super::coupled::Link] = req.couple.as_ref().map_or(&[], |c| &c.links);
     let linked = super::request::linked_radial(links, &names, &[freq], "the frequency")?;
@@ -519,7 +523,7 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
         }
         match names.iter().skip(1).position(|x| x == n).map(|i| i + 1) {
             Some(i) if i == freq => return Err(usage(format!("'{n}' is the frequency: give it with --omega")).at(*span).in_option("--at")),
-            Some(i) if sum.is_some_and(|s| s.0 == i) => return Err(usage(format!("'{n}' is summed by --sum-l")).at(*span).in_option("--at")),
+            Some(i) if sum.is_some_and(|s| s.0 == Some(i)) => return Err(usage(format!("'{n}' is summed by --sum-l")).at(*span).in_option("--at")),
             Some(i) => {
                 point[i] = v.clone();
                 given[i] = true;
@@ -536,22 +540,38 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
         Some((_, l0, l1)) => (l0..=l1).collect(),
         None => vec![0],
     };
-    let coupled = match &req.couple {
-        None => None,
-        Some(c) => {
-            let given_values: Vec<(String, GRat)> = req.values.iter().map(|(n, v, _)| (n.clone(), v.clone())).collect();
-            let coupling = super::coupled::try_coupling(&red.field, &c.angular, &c.links, &given_values, freq, c.index, c.guess)?;
+    // With a coupled angular equation, one coupling per multipole: the
+    // multipole l of the sum A..B is the angular eigenvalue numbered
+    // `index` + (l − A) (with the default index 0, l = A is the lowest), and
+    // l is also given to whichever equation has it as a parameter.
+    let mut coupled = Vec::new();
+    if let Some(c) = &req.couple {
+        for &l in &ls {
+            let mut given_values: Vec<(String, GRat)> = req.values.iter().map(|(n, v, _)| (n.clone(), v.clone())).collect();
+            let mut at = point.clone();
+            let mut index = c.index;
+            if let (Some((name, l0, _)), Some((li, ..))) = (&req.sum, sum) {
+                given_values.push((name.clone(), GRat::real(Rat::int(l.into()))));
+                if let Some(li) = li {
+                    at[li] = GRat::real(Rat::int(l.into()));
+                }
+                index += (l - l0) as usize;
+            }
+            if index > 100 {
+                return Err(usage(format!("the multipole {l} needs the angular eigenvalue numbered {index}: at most 100")).in_option("--sum-l"));
+            }
+            let coupling = super::coupled::try_coupling(&red.field, &c.angular, &c.links, &given_values, freq, index, c.guess)?;
             let mut keep = linked.clone();
             keep.push(freq);
-            let kept = super::spectrum::substitute_keeping(red, &point, &keep)?;
+            let kept = super::spectrum::substitute_keeping(red, &at, &keep)?;
             let slots = linked.iter().filter_map(|&i| coupling.names.iter().position(|n| *n == names[i]).map(|j| (j, i))).collect();
-            Some(std::sync::Mutex::new(CoupledScatter { coupling, red: kept, point: point.clone(), slots, freq }))
+            coupled.push(std::sync::Mutex::new(CoupledScatter { coupling, red: kept, point: at, slots, freq }));
         }
-    };
+    }
     let mut problems = Vec::new();
     for &l in &ls {
         let mut values = point.clone();
-        if let Some((li, ..)) = sum {
+        if let Some((Some(li), ..)) = sum {
             values[li] = GRat::real(Rat::int(l.into()));
         }
         let opts = SpectrumOptions { freq, values, overtones: (0, 0), tol: 1e-10, guess: None, seeds: Vec::new() };
@@ -562,15 +582,7 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
         problems.push((l, pb, est.and_then(|e| e(0)).map(|b| b.taylor)));
     }
     let (near, far) = (problems[0].1.near_label.clone(), problems[0].1.far_label.clone());
-    Ok(ScatterSetup {
-        frequency: fname,
-        near,
-        far,
-        sum: sum.map(|(li, l0, l1)| (names[li].clone(), l0, l1)),
-        problems,
-        wkb_order: req.wkb_order,
-        coupled,
-    })
+    Ok(ScatterSetup { frequency: fname, near, far, sum: req.sum.clone(), problems, wkb_order: req.wkb_order, coupled })
 }
 
 impl ScatterSetup {
@@ -592,7 +604,7 @@ impl ScatterSetup {
     /// The scattering data of problem `j` at the real frequency `w`, with the
     /// WKB transmission beside it where there is a barrier.
     pub fn at(&self, j: usize, w: f64) -> std::result::Result<Scattering, String> {
-        if let Some(c) = &self.coupled {
+        if let Some(c) = self.coupled.get(j) {
             return c.lock().map_err(|_| "a coupled frequency failed on another thread".to_string())?.at(w);
         }
         let (_, pb, barrier) = &self.problems[j];
