@@ -383,8 +383,8 @@ fn root_pair(k: &Field, s: &RatFunc, p: &RatFunc) -> Result<(Param, Param)> {
 /// Brings the equation y'' + p y' + q y = 0 (with its analysis) to the
 /// canonical form of its class, when that class has one here: the classes
 /// with regular finite points are mapped by a Möbius or affine map
-/// ([`regular_points_form`]), the Heun classes irregular at ∞ by a shift and
-/// a scale ([`irregular_heun_form`]); each template reader then rebuilds its
+/// (`regular_points_form`), the Heun classes irregular at ∞ by a shift and
+/// a scale (`irregular_heun_form`); each template reader then rebuilds its
 /// template and compares it exactly.
 pub fn canonical_form(
     k0: &Field,
