@@ -377,3 +377,76 @@ fn larger_real_part(k: &Field, v: &Values, place: &Place, e: &[Exponent], point:
     let tie = r.im.is_zero() && r.re <= Rat::zero();
     Ok(Some(if tie || e[0].sign > 0 { 0 } else { 1 }))
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn q(n: i64, d: i64) -> Rat {
+        Rat::new(n.into(), d.into()).expect("nonzero")
+    }
+
+    /// The exact sign of Im(w·i + (s/4)·R₁/√R₀) against the same value in
+    /// double precision with num_complex's principal square root (an
+    /// independent route), on a grid of small Gaussian rationals where the
+    /// double value is far from zero, and on exact zeros.
+    #[test]
+    fn the_exact_sign_agrees_with_complex_arithmetic() {
+        let vals = [-3i64, -2, -1, 0, 1, 2, 5];
+        let mut checked = 0;
+        for &a in &vals {
+            for &b in &vals {
+                if a == 0 && b == 0 {
+                    continue;
+                }
+                for &p in &vals {
+                    for &qq in &vals {
+                        for &w in &[-2i64, 0, 1] {
+                            for s in [1i8, -1] {
+                                let r0 = GRat { re: q(a, 3), im: q(b, 2) };
+                                let r1 = GRat { re: q(p, 1), im: q(qq, 5) };
+                                let wr = q(w, 7);
+                                let exact = im_sign_over_sqrt(&wr, s, &r0, &r1).expect("R₀ ≠ 0");
+                                let z0 = Complex64::new(a as f64 / 3.0, b as f64 / 2.0);
+                                let z1 = Complex64::new(p as f64, qq as f64 / 5.0);
+                                let f = w as f64 / 7.0 + 0.25 * s as f64 * (z1 / z0.sqrt()).im;
+                                if f.abs() > 1e-9 {
+                                    assert_eq!(exact, f.partial_cmp(&0.0).unwrap(), "a={a}/3 b={b}/2 p={p} q={qq}/5 w={w}/7 s={s}");
+                                    checked += 1;
+                                }
+                            }
+                        }
+                    }
+                }
+            }
+        }
+        assert!(checked > 1000);
+        // Exact cancellations: R₀ = −1 (√R₀ = i), R₁ = 4: Im(4/(4i)) = −1, cancelled by w = 1.
+        let r0 = GRat { re: q(-1, 1), im: Rat::zero() };
+        let r1 = GRat { re: q(4, 1), im: Rat::zero() };
+        assert_eq!(im_sign_over_sqrt(&Rat::one(), 1, &r0, &r1), Some(Ordering::Equal));
+        // R₀ = 2i (√R₀ = 1 + i), R₁ = 8: Im(8/(1 + i))/4 = −1, cancelled by w = 1.
+        let r0 = GRat { re: Rat::zero(), im: q(2, 1) };
+        let r1 = GRat { re: q(8, 1), im: Rat::zero() };
+        assert_eq!(im_sign_over_sqrt(&Rat::one(), 1, &r0, &r1), Some(Ordering::Equal));
+        assert_eq!(im_sign_over_sqrt(&Rat::zero(), 1, &GRat::zero(), &r1), None);
+    }
+
+    /// The sign of α + β√D against doubles, and exact zeros (1 − √1, 2 − √4, 3 − 3√1).
+    #[test]
+    fn surd_signs() {
+        for a in -4i64..=4 {
+            for b in -3i64..=3 {
+                for d in [0i64, 1, 2, 3, 5, 9] {
+                    let f = a as f64 + b as f64 * (d as f64).sqrt();
+                    let exact = surd_sign(&q(a, 1), &q(b, 1), &q(d, 1));
+                    if f.abs() > 1e-12 {
+                        assert_eq!(exact, f.partial_cmp(&0.0).unwrap(), "{a} + {b}√{d}");
+                    } else {
+                        assert_eq!(exact, Ordering::Equal, "{a} + {b}√{d}");
+                    }
+                }
+            }
+        }
+    }
+}
