@@ -17,7 +17,8 @@
 //! forms), [`series`] (recurrences), [`solve`] (numerics: continued
 //! fractions, integration, WKB, collocation, coupled equations, scans),
 //! [`present`] (evaluation forms by e-graph extraction), [`emit`] (text,
-//! LaTeX, JSON, code, [`record`]s), and the binary's `cli`. The exact
+//! LaTeX, JSON, code, [`record`]s), and the binary's command line (private;
+//! its entry points are in [`command`]). The exact
 //! layer is the single source of truth: floating point starts in `solve`
 //! and in printed numbers, and never feeds back.
 //!
@@ -35,7 +36,7 @@
 
 pub mod algebra;
 pub mod analysis;
-pub mod cli;
+mod cli;
 pub mod emit;
 pub mod error;
 pub mod ode;
@@ -45,3 +46,13 @@ pub mod solve;
 pub mod syntax;
 
 pub use emit::record;
+
+/// The command line as a library entry point. The `cli` module itself is
+/// private (its argument structures and helpers are not an API); these three
+/// items are public on purpose: the thin binary calls [`command::main_with_args`],
+/// and tests drive every subcommand in process through
+/// [`command::run_captured`], which prints nothing and returns what the
+/// binary would have printed with its exit status.
+pub mod command {
+    pub use crate::cli::{main_with_args, run_captured, Captured};
+}

@@ -969,7 +969,7 @@ fn command_args(rng: &mut Rng, file: &str, var: &str, params: &[String], dir: &P
 /// What a command run must never do: hang, panic (both caught by
 /// `run_bounded`), fail internally, or print a non-finite number as a
 /// result.
-fn command_problem(args: &[String], c: &canonode::cli::Captured) -> Option<String> {
+fn command_problem(args: &[String], c: &canonode::command::Captured) -> Option<String> {
     if c.code == 1 && args[0] != "check" {
         return Some(format!("exit 1 (internal failure): {}", c.stderr.trim_end()));
     }

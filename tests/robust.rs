@@ -2,7 +2,7 @@
 //! within its bound with a result or a located error (exit 2), never a
 //! panic, a hang or a non-finite or unconverged number printed as a result.
 //! Each test is named after what it caught and runs the command in process
-//! (`canonode::cli::run_captured`), as the binary would.
+//! (`canonode::command::run_captured`), as the binary would.
 
 use std::time::Duration;
 
@@ -14,7 +14,7 @@ const BOUND: Duration = Duration::from_secs(60);
 
 /// Runs a command; fails on a hang, a panic or a non-finite number in the
 /// output (the results; messages may quote the user's own text).
-fn run(args: &[&str]) -> canonode::cli::Captured {
+fn run(args: &[&str]) -> canonode::command::Captured {
     let c = run_bounded(args, BOUND).unwrap_or_else(|| panic!("HANG (> {BOUND:?}): canonode {args:?}"));
     if let Some(ctx) = non_finite(&c.stdout) {
         panic!("non-finite number printed by canonode {args:?}: …{ctx}…\n{}", c.stdout);

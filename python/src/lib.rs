@@ -135,10 +135,10 @@ pub(crate) fn fail(e: &Error, spec: &Spec, extra: &[(String, String)]) -> Fail {
             (kw, text)
         }
     };
-    let message = canonode::cli::diagnostic::render(e, &name, &text).trim_end().to_string();
+    let message = canonode::emit::diagnostic::render(e, &name, &text).trim_end().to_string();
     let (line, column) = match e.span {
         Some(s) => {
-            let (l, c) = canonode::cli::diagnostic::line_column(&text, s);
+            let (l, c) = canonode::emit::diagnostic::line_column(&text, s);
             (Some(l), Some(c))
         }
         None => (None, None),
@@ -428,7 +428,7 @@ fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, bound
         None => None,
     };
     let label_point = values_point.clone().unwrap_or_else(|| generic_values(names.len(), freq.unwrap_or(usize::MAX)));
-    let labels = freq.map(|f| label(&an, f, &label_point, values_point.is_some()));
+    let labels = freq.map(|f| label(k, &an, f, &label_point, values_point.is_some())).transpose().map_err(lib)?;
     let kind = match boundary {
         None => None,
         Some("qnm") => Some(Boundary::Qnm),
@@ -450,7 +450,7 @@ fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, bound
             canonode::analysis::Place::Point { at, .. } => ratfunc_text(at, k.names(), Style::Text),
             _ => "∞".to_string(),
         };
-        let (picks, s) = boundary_choices(&an, labels.as_ref(), b, &label_point, text);
+        let canonode::analysis::labels::ExponentPicks { picks, said: s } = boundary_choices(k, &an, labels.as_ref(), b, &label_point, text).map_err(lib)?;
         for (p, c) in picks {
             if !choices.picks.iter().any(|(q, _)| *q == p) {
                 choices.picks.push((p, c));

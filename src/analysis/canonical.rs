@@ -10,7 +10,7 @@
 //! (13.14.1), Bessel (10.2.1), Airy (9.2.1) and parabolic cylinder (12.2.2)
 //! for its normal form.
 
-use super::{analyse_equation, Exponent, Kind, Place, SingularPoint};
+use super::{analyse_equation, Class, Exponent, Form, Kind, Place, SingularPoint};
 use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::{Field, Rat, RatFunc, UPoly};
 use crate::error::Result;
@@ -31,8 +31,8 @@ pub enum Param {
 /// The canonical form reached.
 #[derive(Clone, Debug)]
 pub struct Canonical {
-    /// The form's id (a class id of DESIGN.md, or "whittaker", "bessel").
-    pub form: String,
+    /// The standard form reached.
+    pub form: Form,
     /// The published form, e.g. "DLMF 31.12.1".
     pub source: String,
     /// The equation of the canonical unknown, in words.
@@ -381,13 +381,17 @@ fn root_pair(k: &Field, s: &RatFunc, p: &RatFunc) -> Result<(Param, Param)> {
 }
 
 /// Brings the equation y'' + p y' + q y = 0 (with its analysis) to the
-/// canonical form of its class, when that class has one here.
+/// canonical form of its class, when that class has one here: the classes
+/// with regular finite points are mapped by a Möbius or affine map
+/// (`regular_points_form`), the Heun classes irregular at ∞ by a shift and
+/// a scale (`irregular_heun_form`); each template reader then rebuilds its
+/// template and compares it exactly.
 pub fn canonical_form(
     k0: &Field,
     var: &str,
     p: &RatFunc,
     q: &RatFunc,
-    class: &str,
+    class: Class,
     points: &[SingularPoint],
     choices: &Choices,
 ) -> Result<Option<Canonical>> {
@@ -399,238 +403,313 @@ pub fn canonical_form(
     let inf = points.iter().find(|p| matches!(p.place, Place::Infinity));
     let inf_kind = inf.map(|p| p.kind).unwrap_or(Kind::Ordinary);
     let z0s: Vec<RatFunc> = finite.iter().map(|p| at_of(p)).collect();
-    let label_of = |k: &Field, v: &RatFunc| rt(k, v);
-    match class {
-        "hypergeometric" | "general-heun" | "confluent-heun" if finite.len() >= 2 && (inf_kind != Kind::Ordinary || finite.len() >= 3) => {
-            // z0 → 0, z1 → 1, and, when ∞ is an ordinary point, the last
-            // finite point → ∞ by a Möbius map; otherwise an affine map.
-            let mobius = inf_kind == Kind::Ordinary;
-            let (a, b) = (z0s[0].clone(), z0s[1].clone());
-            let lam = k0.sub(&b, &a)?;
-            let identity = !mobius && a.is_zero() && lam == RatFunc::one();
-            let (kx, _) = ctx.new_field(identity)?;
-            let xv = kx.var(0);
-            let (g, img): (RatFunc, Image<'_>) = if mobius {
-                // x = ((z − z0)/(z − z∞))·((z1 − z∞)/(z1 − z0)); inverse z = (x z∞ (z1 − z0) − z0 (z1 − z∞))/(x (z1 − z0) − (z1 − z∞)).
-                let zi = z0s.last().expect("a last point").clone();
-                let d10 = lam.clone();
-                let d1i = k0.sub(&b, &zi)?;
-                let num = kx.sub(&kx.mul(&kx.mul(&xv, &zi)?, &d10)?, &kx.mul(&a, &d1i)?)?;
-                let den = kx.sub(&kx.mul(&xv, &d10)?, &d1i)?;
-                let g = kx.div(&num, &den)?;
-                let (a2, zi2, d1i2, d102) = (a.clone(), zi.clone(), d1i.clone(), d10.clone());
-                let f = move |z: &RatFunc| -> Result<RatFunc> {
-                    let t = k0.div(&k0.sub(z, &a2)?, &k0.sub(z, &zi2)?)?;
-                    k0.mul(&t, &k0.div(&d1i2, &d102)?)
-                };
-                (g, Box::new(f))
-            } else {
-                let g = kx.add(&a, &kx.mul(&lam, &xv)?)?;
-                let (a2, l2) = (a.clone(), lam.clone());
-                (g, Box::new(move |z: &RatFunc| kx_map(k0, z, &a2, &l2)))
-            };
-            let n_fin = if mobius { finite.len() - 1 } else { finite.len() };
-            let mut labels: Vec<(RatFunc, String)> = Vec::new();
-            for z in z0s.iter().take(n_fin) {
-                labels.push((img(z)?, label_of(k0, z)));
-            }
-            let Some(pr) = ctx.prepare(p, q, &g, identity, &labels)? else { return Ok(None) };
-            let k = &pr.k;
-            let x = k.var(0);
-            let xm1 = k.sub(&x, &RatFunc::one())?;
-            match class {
-                "hypergeometric" if n_fin == 2 => {
-                    let c = residue(k, &pr.pw, &RatFunc::zero())?;
-                    // p_w x(1 − x) = c − (a+b+1) x, q_w x(1 − x) = −ab.
-                    let x1mx = k.mul(&x, &k.sub(&RatFunc::one(), &x)?)?;
-                    let Some(ap) = as_upoly(k, &k.mul(&pr.pw, &x1mx)?)? else { return Ok(None) };
-                    let Some(aq) = as_upoly(k, &k.mul(&pr.qw, &x1mx)?)? else { return Ok(None) };
-                    if ap.degree().unwrap_or(0) > 1 || aq.degree().unwrap_or(0) > 0 {
-                        return Ok(None);
-                    }
-                    let s = k.sub(&k.neg(&ap.coeff(1)), &RatFunc::one())?;
-                    let prod = k.neg(&aq.coeff(0));
-                    let pt = k.div(&k.sub(&c, &k.mul(&k.add(&s, &RatFunc::one())?, &x)?)?, &x1mx)?;
-                    let qt = k.div(&k.neg(&prod), &x1mx)?;
-                    if pt != pr.pw || qt != pr.qw {
-                        return Ok(None);
-                    }
-                    let (alpha, beta) = root_pair(k, &s, &prod)?;
-                    let mut params = vec![("a".to_string(), alpha), ("b".to_string(), beta)];
-                    params.push(("c".to_string(), Param::Exact(c)));
-                    Ok(Some(finish(
-                        pr,
-                        "hypergeometric",
-                        "DLMF 15.10.1",
-                        "x(1 − x) w'' + (c − (a + b + 1) x) w' − a b w = 0",
-                        params,
-                        vec!["the template was rebuilt from the parameters and equals the transformed equation exactly".into()],
-                    )))
-                }
-                "general-heun" if n_fin == 3 => {
-                    let av = img(&z0s[2])?;
-                    let gamma = residue(k, &pr.pw, &RatFunc::zero())?;
-                    let delta = residue(k, &pr.pw, &RatFunc::one())?;
-                    let eps = residue(k, &pr.pw, &av)?;
-                    let xma = k.sub(&x, &av)?;
-                    let pt = k.add(&k.add(&k.div(&gamma, &x)?, &k.div(&delta, &xm1)?)?, &k.div(&eps, &xma)?)?;
-                    let d = k.mul(&k.mul(&x, &xm1)?, &xma)?;
-                    let Some(lq) = as_upoly(k, &k.mul(&pr.qw, &d)?)? else { return Ok(None) };
-                    if pt != pr.pw || lq.degree().unwrap_or(0) > 1 {
-                        return Ok(None);
-                    }
-                    let ab = lq.coeff(1);
-                    let qq = k.neg(&lq.coeff(0));
-                    let s = k.sub(&k.add(&k.add(&gamma, &delta)?, &eps)?, &RatFunc::one())?;
-                    let (alpha, beta) = root_pair(k, &s, &ab)?;
-                    let params = vec![
-                        ("a".to_string(), Param::Exact(av)),
-                        ("q".to_string(), Param::Exact(qq)),
-                        ("alpha".to_string(), alpha),
-                        ("beta".to_string(), beta),
-                        ("gamma".to_string(), Param::Exact(gamma)),
-                        ("delta".to_string(), Param::Exact(delta)),
-                        ("epsilon".to_string(), Param::Exact(eps)),
-                    ];
-                    Ok(Some(finish(
-                        pr,
-                        "general-heun",
-                        "DLMF 31.2.1",
-                        "w'' + (γ/x + δ/(x − 1) + ε/(x − a)) w' + (αβ x − q)/(x(x − 1)(x − a)) w = 0",
-                        params,
-                        vec![
-                            "the template was rebuilt from the parameters and equals the transformed equation exactly".into(),
-                            "Fuchs relation α + β + 1 = γ + δ + ε holds (α, β are the exponents at ∞)".into(),
-                        ],
-                    )))
-                }
-                "confluent-heun" if n_fin == 2 && inf_kind == Kind::Irregular => {
-                    let gamma = residue(k, &pr.pw, &RatFunc::zero())?;
-                    let delta = residue(k, &pr.pw, &RatFunc::one())?;
-                    let rest = k.sub(&k.sub(&pr.pw, &k.div(&gamma, &x)?)?, &k.div(&delta, &xm1)?)?;
-                    let Some(e) = rest.as_constant().map(|c| RatFunc::constant(&c)).or_else(|| (!rest.uses_var(0)).then(|| rest.clone())) else {
-                        return Ok(None);
-                    };
-                    let d = k.mul(&x, &xm1)?;
-                    let Some(lq) = as_upoly(k, &k.mul(&pr.qw, &d)?)? else { return Ok(None) };
-                    if lq.degree().unwrap_or(0) > 1 {
-                        return Ok(None);
-                    }
-                    let params = vec![
-                        ("q".to_string(), Param::Exact(k.neg(&lq.coeff(0)))),
-                        ("alpha".to_string(), Param::Exact(lq.coeff(1))),
-                        ("gamma".to_string(), Param::Exact(gamma)),
-                        ("delta".to_string(), Param::Exact(delta)),
-                        ("epsilon".to_string(), Param::Exact(e)),
-                    ];
-                    Ok(Some(finish(
-                        pr,
-                        "confluent-heun",
-                        "DLMF 31.12.1",
-                        "w'' + (γ/x + δ/(x − 1) + ε) w' + (α x − q)/(x(x − 1)) w = 0",
-                        params,
-                        vec!["the template was rebuilt from the parameters and equals the transformed equation exactly".into()],
-                    )))
-                }
-                _ => Ok(None),
-            }
-        }
-        "doubly-confluent-heun" | "biconfluent-heun" | "triconfluent-heun" => {
-            // Translate the finite point (if any) to 0, then scale so that the
-            // leading coefficient of p_w at ∞ matches the template.
-            let shift = z0s.first().cloned().unwrap_or_else(RatFunc::zero);
-            let (k1, _) = ctx.new_field(shift.is_zero())?;
-            let g1 = k1.add(&shift, &k1.var(0))?;
-            let labels: Vec<(RatFunc, String)> = z0s.iter().map(|z| (k1.sub(z, &shift).unwrap_or_else(|_| z.clone()), label_of(k0, z))).collect();
-            let Some(pr1) = ctx.prepare(p, q, &g1, shift.is_zero(), &labels)? else { return Ok(None) };
-            // Leading behaviour of p_w at ∞: c·x^n with n = 0, 1, 2 for the three forms.
-            let n = match class {
-                "doubly-confluent-heun" => 0,
-                "biconfluent-heun" => 1,
-                _ => 2,
-            };
-            let Some(poly) = as_upoly_part(&pr1.k, &pr1.pw)? else { return Ok(None) };
-            let c = poly.coeff(n);
-            if c.is_zero() || poly.degree() != Some(n) {
-                return Ok(None);
-            }
-            // Template leading coefficient: +1 (31.12.2), −1 (31.12.3), +1 (31.12.4).
-            let target = if class == "biconfluent-heun" { rat(-1, 1) } else { RatFunc::one() };
-            // Scale x → λx: p_w's x^n coefficient becomes λ^(n+1) c.
-            let ratio = k0.div(&target, &c)?;
-            let lam = match n {
-                0 => Some(ratio),
-                1 => k0.sqrt_exact(&ratio)?,
-                _ => (ratio == RatFunc::one()).then(RatFunc::one),
-            };
-            let Some(lam) = lam else { return Ok(None) };
-            let identity = shift.is_zero() && lam == RatFunc::one();
-            let (kx, _) = ctx.new_field(identity)?;
-            let g = kx.add(&shift, &kx.mul(&lam, &kx.var(0))?)?;
-            let mut labels: Vec<(RatFunc, String)> = Vec::new();
-            for z in &z0s {
-                labels.push((kx_map(&kx, z, &shift, &lam)?, label_of(k0, z)));
-            }
-            let Some(pr) = ctx.prepare(p, q, &g, identity, &labels)? else { return Ok(None) };
-            let k = &pr.k;
-            let x = k.var(0);
-            match class {
-                "doubly-confluent-heun" => {
-                    let Some(a) = as_upoly(k, &k.mul(&pr.pw, &k.mul(&x, &x)?)?)? else { return Ok(None) };
-                    let Some(b) = as_upoly(k, &k.mul(&pr.qw, &k.mul(&x, &x)?)?)? else { return Ok(None) };
-                    if a.degree() != Some(2) || a.coeff(2) != RatFunc::one() || b.degree().unwrap_or(0) > 1 {
-                        return Ok(None);
-                    }
-                    let params = exact(k, &pr, vec![("q", k.neg(&b.coeff(0))), ("alpha", b.coeff(1)), ("gamma", a.coeff(1)), ("delta", a.coeff(0))]);
-                    Ok(Some(finish(
-                        pr,
-                        "doubly-confluent-heun",
-                        "DLMF 31.12.2",
-                        "w'' + (δ/x² + γ/x + 1) w' + (α x − q)/x² w = 0",
-                        params,
-                        vec!["the template was rebuilt from the parameters and equals the transformed equation exactly".into()],
-                    )))
-                }
-                "biconfluent-heun" => {
-                    let Some(a) = as_upoly(k, &k.mul(&pr.pw, &x)?)? else { return Ok(None) };
-                    let Some(b) = as_upoly(k, &k.mul(&pr.qw, &x)?)? else { return Ok(None) };
-                    if a.degree() != Some(2) || a.coeff(2) != rat(-1, 1) || b.degree().unwrap_or(0) > 1 {
-                        return Ok(None);
-                    }
-                    let params = exact(
-                        k,
-                        &pr,
-                        vec![("q", k.neg(&b.coeff(0))), ("alpha", b.coeff(1)), ("gamma", k.neg(&a.coeff(0))), ("delta", k.neg(&a.coeff(1)))],
-                    );
-                    Ok(Some(finish(
-                        pr,
-                        "biconfluent-heun",
-                        "DLMF 31.12.3",
-                        "w'' − (γ/x + δ + x) w' + (α x − q)/x w = 0",
-                        params,
-                        vec!["the template was rebuilt from the parameters and equals the transformed equation exactly".into()],
-                    )))
-                }
-                _ => {
-                    let Some(a) = as_upoly(k, &pr.pw)? else { return Ok(None) };
-                    let Some(b) = as_upoly(k, &pr.qw)? else { return Ok(None) };
-                    if a.degree() != Some(2) || a.coeff(2) != RatFunc::one() || !a.coeff(0).is_zero() || b.degree().unwrap_or(0) > 1 {
-                        return Ok(None);
-                    }
-                    let params = exact(k, &pr, vec![("q", k.neg(&b.coeff(0))), ("alpha", b.coeff(1)), ("gamma", a.coeff(1))]);
-                    Ok(Some(finish(
-                        pr,
-                        "triconfluent-heun",
-                        "DLMF 31.12.4",
-                        "w'' + (γ + x) x w' + (α x − q) w = 0",
-                        params,
-                        vec!["the template was rebuilt from the parameters and equals the transformed equation exactly".into()],
-                    )))
-                }
-            }
-        }
-        _ => Ok(None),
+    let template = match class {
+        Class::Hypergeometric => RegularTemplate::Hypergeometric,
+        Class::GeneralHeun => RegularTemplate::GeneralHeun,
+        Class::ConfluentHeun => RegularTemplate::ConfluentHeun,
+        Class::DoublyConfluentHeun => return irregular_heun_form(&ctx, p, q, IrregularHeun::DoublyConfluent, &z0s),
+        Class::BiconfluentHeun => return irregular_heun_form(&ctx, p, q, IrregularHeun::Biconfluent, &z0s),
+        Class::TriconfluentHeun => return irregular_heun_form(&ctx, p, q, IrregularHeun::Triconfluent, &z0s),
+        Class::Euler
+        | Class::ConfluentHypergeometric
+        | Class::ReducedConfluentHypergeometric
+        | Class::ParabolicCylinder
+        | Class::Airy
+        | Class::ReducedConfluentHeun
+        | Class::ReducedDoublyConfluentHeun
+        | Class::DoublyReducedDoublyConfluentHeun
+        | Class::Fuchsian
+        | Class::Irregular => return Ok(None),
+    };
+    if finite.len() >= 2 && (inf_kind != Kind::Ordinary || finite.len() >= 3) {
+        regular_points_form(&ctx, p, q, template, &z0s, inf_kind)
+    } else {
+        Ok(None)
     }
+}
+
+/// The templates read after a Möbius or affine map of the finite points.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum RegularTemplate {
+    Hypergeometric,
+    GeneralHeun,
+    ConfluentHeun,
+}
+
+/// The Heun classes irregular at ∞ with at most one finite point.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum IrregularHeun {
+    DoublyConfluent,
+    Biconfluent,
+    Triconfluent,
+}
+
+/// z₀ → 0, z₁ → 1 and, when ∞ is an ordinary point, the last finite point
+/// → ∞; then the template's reader.
+fn regular_points_form(
+    ctx: &Ctx<'_>,
+    p: &RatFunc,
+    q: &RatFunc,
+    template: RegularTemplate,
+    z0s: &[RatFunc],
+    inf_kind: Kind,
+) -> Result<Option<Canonical>> {
+    let k0 = ctx.k0;
+    // z0 → 0, z1 → 1, and, when ∞ is an ordinary point, the last
+    // finite point → ∞ by a Möbius map; otherwise an affine map.
+    let mobius = inf_kind == Kind::Ordinary;
+    let (a, b) = (z0s[0].clone(), z0s[1].clone());
+    let lam = k0.sub(&b, &a)?;
+    let identity = !mobius && a.is_zero() && lam == RatFunc::one();
+    let (kx, _) = ctx.new_field(identity)?;
+    let xv = kx.var(0);
+    let (g, img): (RatFunc, Image<'_>) = if mobius {
+        // x = ((z − z0)/(z − z∞))·((z1 − z∞)/(z1 − z0)); inverse z = (x z∞ (z1 − z0) − z0 (z1 − z∞))/(x (z1 − z0) − (z1 − z∞)).
+        let zi = z0s.last().expect("a last point").clone();
+        let d10 = lam.clone();
+        let d1i = k0.sub(&b, &zi)?;
+        let num = kx.sub(&kx.mul(&kx.mul(&xv, &zi)?, &d10)?, &kx.mul(&a, &d1i)?)?;
+        let den = kx.sub(&kx.mul(&xv, &d10)?, &d1i)?;
+        let g = kx.div(&num, &den)?;
+        let (a2, zi2, d1i2, d102) = (a.clone(), zi.clone(), d1i.clone(), d10.clone());
+        let f = move |z: &RatFunc| -> Result<RatFunc> {
+            let t = k0.div(&k0.sub(z, &a2)?, &k0.sub(z, &zi2)?)?;
+            k0.mul(&t, &k0.div(&d1i2, &d102)?)
+        };
+        (g, Box::new(f))
+    } else {
+        let g = kx.add(&a, &kx.mul(&lam, &xv)?)?;
+        let (a2, l2) = (a.clone(), lam.clone());
+        (g, Box::new(move |z: &RatFunc| kx_map(k0, z, &a2, &l2)))
+    };
+    let n_fin = if mobius { z0s.len() - 1 } else { z0s.len() };
+    let mut labels: Vec<(RatFunc, String)> = Vec::new();
+    for z in z0s.iter().take(n_fin) {
+        labels.push((img(z)?, rt(k0, z)));
+    }
+    let Some(pr) = ctx.prepare(p, q, &g, identity, &labels)? else { return Ok(None) };
+    match template {
+        RegularTemplate::Hypergeometric if n_fin == 2 => hypergeometric_template(pr),
+        RegularTemplate::GeneralHeun if n_fin == 3 => {
+            let av = img(&z0s[2])?;
+            general_heun_template(pr, av)
+        }
+        RegularTemplate::ConfluentHeun if n_fin == 2 && inf_kind == Kind::Irregular => confluent_heun_template(pr),
+        RegularTemplate::Hypergeometric | RegularTemplate::GeneralHeun | RegularTemplate::ConfluentHeun => Ok(None),
+    }
+}
+
+/// DLMF 15.10.1 read from the mapped equation.
+fn hypergeometric_template(pr: Prepared) -> Result<Option<Canonical>> {
+    let k = &pr.k;
+    let x = k.var(0);
+    let c = residue(k, &pr.pw, &RatFunc::zero())?;
+    // p_w x(1 − x) = c − (a+b+1) x, q_w x(1 − x) = −ab.
+    let x1mx = k.mul(&x, &k.sub(&RatFunc::one(), &x)?)?;
+    let Some(ap) = as_upoly(k, &k.mul(&pr.pw, &x1mx)?)? else { return Ok(None) };
+    let Some(aq) = as_upoly(k, &k.mul(&pr.qw, &x1mx)?)? else { return Ok(None) };
+    if ap.degree().unwrap_or(0) > 1 || aq.degree().unwrap_or(0) > 0 {
+        return Ok(None);
+    }
+    let s = k.sub(&k.neg(&ap.coeff(1)), &RatFunc::one())?;
+    let prod = k.neg(&aq.coeff(0));
+    let pt = k.div(&k.sub(&c, &k.mul(&k.add(&s, &RatFunc::one())?, &x)?)?, &x1mx)?;
+    let qt = k.div(&k.neg(&prod), &x1mx)?;
+    if pt != pr.pw || qt != pr.qw {
+        return Ok(None);
+    }
+    let (alpha, beta) = root_pair(k, &s, &prod)?;
+    let mut params = vec![("a".to_string(), alpha), ("b".to_string(), beta)];
+    params.push(("c".to_string(), Param::Exact(c)));
+    Ok(Some(finish(
+        pr,
+        Form::Of(Class::Hypergeometric),
+        "DLMF 15.10.1",
+        "x(1 − x) w'' + (c − (a + b + 1) x) w' − a b w = 0",
+        params,
+        vec!["the template was rebuilt from the parameters and equals the transformed equation exactly".into()],
+    )))
+}
+
+/// DLMF 31.2.1 read from the mapped equation, with the fourth point at `av`.
+fn general_heun_template(pr: Prepared, av: RatFunc) -> Result<Option<Canonical>> {
+    let k = &pr.k;
+    let x = k.var(0);
+    let xm1 = k.sub(&x, &RatFunc::one())?;
+    let gamma = residue(k, &pr.pw, &RatFunc::zero())?;
+    let delta = residue(k, &pr.pw, &RatFunc::one())?;
+    let eps = residue(k, &pr.pw, &av)?;
+    let xma = k.sub(&x, &av)?;
+    let pt = k.add(&k.add(&k.div(&gamma, &x)?, &k.div(&delta, &xm1)?)?, &k.div(&eps, &xma)?)?;
+    let d = k.mul(&k.mul(&x, &xm1)?, &xma)?;
+    let Some(lq) = as_upoly(k, &k.mul(&pr.qw, &d)?)? else { return Ok(None) };
+    if pt != pr.pw || lq.degree().unwrap_or(0) > 1 {
+        return Ok(None);
+    }
+    let ab = lq.coeff(1);
+    let qq = k.neg(&lq.coeff(0));
+    let s = k.sub(&k.add(&k.add(&gamma, &delta)?, &eps)?, &RatFunc::one())?;
+    let (alpha, beta) = root_pair(k, &s, &ab)?;
+    let params = vec![
+        ("a".to_string(), Param::Exact(av)),
+        ("q".to_string(), Param::Exact(qq)),
+        ("alpha".to_string(), alpha),
+        ("beta".to_string(), beta),
+        ("gamma".to_string(), Param::Exact(gamma)),
+        ("delta".to_string(), Param::Exact(delta)),
+        ("epsilon".to_string(), Param::Exact(eps)),
+    ];
+    Ok(Some(finish(
+        pr,
+        Form::Of(Class::GeneralHeun),
+        "DLMF 31.2.1",
+        "w'' + (γ/x + δ/(x − 1) + ε/(x − a)) w' + (αβ x − q)/(x(x − 1)(x − a)) w = 0",
+        params,
+        vec![
+            "the template was rebuilt from the parameters and equals the transformed equation exactly".into(),
+            "Fuchs relation α + β + 1 = γ + δ + ε holds (α, β are the exponents at ∞)".into(),
+        ],
+    )))
+}
+
+/// DLMF 31.12.1 read from the mapped equation.
+fn confluent_heun_template(pr: Prepared) -> Result<Option<Canonical>> {
+    let k = &pr.k;
+    let x = k.var(0);
+    let xm1 = k.sub(&x, &RatFunc::one())?;
+    let gamma = residue(k, &pr.pw, &RatFunc::zero())?;
+    let delta = residue(k, &pr.pw, &RatFunc::one())?;
+    let rest = k.sub(&k.sub(&pr.pw, &k.div(&gamma, &x)?)?, &k.div(&delta, &xm1)?)?;
+    let Some(e) = rest.as_constant().map(|c| RatFunc::constant(&c)).or_else(|| (!rest.uses_var(0)).then(|| rest.clone())) else {
+        return Ok(None);
+    };
+    let d = k.mul(&x, &xm1)?;
+    let Some(lq) = as_upoly(k, &k.mul(&pr.qw, &d)?)? else { return Ok(None) };
+    if lq.degree().unwrap_or(0) > 1 {
+        return Ok(None);
+    }
+    let params = vec![
+        ("q".to_string(), Param::Exact(k.neg(&lq.coeff(0)))),
+        ("alpha".to_string(), Param::Exact(lq.coeff(1))),
+        ("gamma".to_string(), Param::Exact(gamma)),
+        ("delta".to_string(), Param::Exact(delta)),
+        ("epsilon".to_string(), Param::Exact(e)),
+    ];
+    Ok(Some(finish(
+        pr,
+        Form::Of(Class::ConfluentHeun),
+        "DLMF 31.12.1",
+        "w'' + (γ/x + δ/(x − 1) + ε) w' + (α x − q)/(x(x − 1)) w = 0",
+        params,
+        vec!["the template was rebuilt from the parameters and equals the transformed equation exactly".into()],
+    )))
+}
+
+/// Translates the finite point (if any) to 0, then scales so that the
+/// leading coefficient of p_w at ∞ matches the template; then the
+/// template's reader.
+fn irregular_heun_form(ctx: &Ctx<'_>, p: &RatFunc, q: &RatFunc, class: IrregularHeun, z0s: &[RatFunc]) -> Result<Option<Canonical>> {
+    let k0 = ctx.k0;
+    // Translate the finite point (if any) to 0, then scale so that the
+    // leading coefficient of p_w at ∞ matches the template.
+    let shift = z0s.first().cloned().unwrap_or_else(RatFunc::zero);
+    let (k1, _) = ctx.new_field(shift.is_zero())?;
+    let g1 = k1.add(&shift, &k1.var(0))?;
+    let labels: Vec<(RatFunc, String)> = z0s.iter().map(|z| (k1.sub(z, &shift).unwrap_or_else(|_| z.clone()), rt(k0, z))).collect();
+    let Some(pr1) = ctx.prepare(p, q, &g1, shift.is_zero(), &labels)? else { return Ok(None) };
+    // Leading behaviour of p_w at ∞: c·x^n with n = 0, 1, 2 for the three forms.
+    let n = match class {
+        IrregularHeun::DoublyConfluent => 0,
+        IrregularHeun::Biconfluent => 1,
+        IrregularHeun::Triconfluent => 2,
+    };
+    let Some(poly) = as_upoly_part(&pr1.k, &pr1.pw)? else { return Ok(None) };
+    let c = poly.coeff(n);
+    if c.is_zero() || poly.degree() != Some(n) {
+        return Ok(None);
+    }
+    // Template leading coefficient: +1 (31.12.2), −1 (31.12.3), +1 (31.12.4).
+    let target = if class == IrregularHeun::Biconfluent { rat(-1, 1) } else { RatFunc::one() };
+    // Scale x → λx: p_w's x^n coefficient becomes λ^(n+1) c.
+    let ratio = k0.div(&target, &c)?;
+    let lam = match n {
+        0 => Some(ratio),
+        1 => k0.sqrt_exact(&ratio)?,
+        _ => (ratio == RatFunc::one()).then(RatFunc::one),
+    };
+    let Some(lam) = lam else { return Ok(None) };
+    let identity = shift.is_zero() && lam == RatFunc::one();
+    let (kx, _) = ctx.new_field(identity)?;
+    let g = kx.add(&shift, &kx.mul(&lam, &kx.var(0))?)?;
+    let mut labels: Vec<(RatFunc, String)> = Vec::new();
+    for z in z0s {
+        labels.push((kx_map(&kx, z, &shift, &lam)?, rt(k0, z)));
+    }
+    let Some(pr) = ctx.prepare(p, q, &g, identity, &labels)? else { return Ok(None) };
+    match class {
+        IrregularHeun::DoublyConfluent => doubly_confluent_heun_template(pr),
+        IrregularHeun::Biconfluent => biconfluent_heun_template(pr),
+        IrregularHeun::Triconfluent => triconfluent_heun_template(pr),
+    }
+}
+
+/// DLMF 31.12.2 read from the scaled equation.
+fn doubly_confluent_heun_template(pr: Prepared) -> Result<Option<Canonical>> {
+    let k = &pr.k;
+    let x = k.var(0);
+    let Some(a) = as_upoly(k, &k.mul(&pr.pw, &k.mul(&x, &x)?)?)? else { return Ok(None) };
+    let Some(b) = as_upoly(k, &k.mul(&pr.qw, &k.mul(&x, &x)?)?)? else { return Ok(None) };
+    if a.degree() != Some(2) || a.coeff(2) != RatFunc::one() || b.degree().unwrap_or(0) > 1 {
+        return Ok(None);
+    }
+    let params = exact(k, &pr, vec![("q", k.neg(&b.coeff(0))), ("alpha", b.coeff(1)), ("gamma", a.coeff(1)), ("delta", a.coeff(0))]);
+    Ok(Some(finish(
+        pr,
+        Form::Of(Class::DoublyConfluentHeun),
+        "DLMF 31.12.2",
+        "w'' + (δ/x² + γ/x + 1) w' + (α x − q)/x² w = 0",
+        params,
+        vec!["the template was rebuilt from the parameters and equals the transformed equation exactly".into()],
+    )))
+}
+
+/// DLMF 31.12.3 read from the scaled equation.
+fn biconfluent_heun_template(pr: Prepared) -> Result<Option<Canonical>> {
+    let k = &pr.k;
+    let x = k.var(0);
+    let Some(a) = as_upoly(k, &k.mul(&pr.pw, &x)?)? else { return Ok(None) };
+    let Some(b) = as_upoly(k, &k.mul(&pr.qw, &x)?)? else { return Ok(None) };
+    if a.degree() != Some(2) || a.coeff(2) != rat(-1, 1) || b.degree().unwrap_or(0) > 1 {
+        return Ok(None);
+    }
+    let params = exact(k, &pr, vec![("q", k.neg(&b.coeff(0))), ("alpha", b.coeff(1)), ("gamma", k.neg(&a.coeff(0))), ("delta", k.neg(&a.coeff(1)))]);
+    Ok(Some(finish(
+        pr,
+        Form::Of(Class::BiconfluentHeun),
+        "DLMF 31.12.3",
+        "w'' − (γ/x + δ + x) w' + (α x − q)/x w = 0",
+        params,
+        vec!["the template was rebuilt from the parameters and equals the transformed equation exactly".into()],
+    )))
+}
+
+/// DLMF 31.12.4 read from the scaled equation.
+fn triconfluent_heun_template(pr: Prepared) -> Result<Option<Canonical>> {
+    let k = &pr.k;
+    let Some(a) = as_upoly(k, &pr.pw)? else { return Ok(None) };
+    let Some(b) = as_upoly(k, &pr.qw)? else { return Ok(None) };
+    if a.degree() != Some(2) || a.coeff(2) != RatFunc::one() || !a.coeff(0).is_zero() || b.degree().unwrap_or(0) > 1 {
+        return Ok(None);
+    }
+    let params = exact(k, &pr, vec![("q", k.neg(&b.coeff(0))), ("alpha", b.coeff(1)), ("gamma", a.coeff(1))]);
+    Ok(Some(finish(
+        pr,
+        Form::Of(Class::TriconfluentHeun),
+        "DLMF 31.12.4",
+        "w'' + (γ + x) x w' + (α x − q) w = 0",
+        params,
+        vec!["the template was rebuilt from the parameters and equals the transformed equation exactly".into()],
+    )))
 }
 
 /// P·(z − z₀)^(1/2): the prefactor of the normal form with the power of the
@@ -681,10 +760,10 @@ fn as_upoly_part(k: &Field, r: &RatFunc) -> Result<Option<UPoly>> {
     Ok(num.divrem(k, &den)?.map(|(q, _)| q))
 }
 
-fn finish(pr: Prepared, form: &str, source: &str, equation: &str, parameters: Vec<(String, Param)>, checks: Vec<String>) -> Canonical {
+fn finish(pr: Prepared, form: Form, source: &str, equation: &str, parameters: Vec<(String, Param)>, checks: Vec<String>) -> Canonical {
     let Prepared { k, x, map_text, prefactor, choices, .. } = pr;
     let _ = (&k, &x);
-    Canonical { form: form.into(), source: source.into(), equation: equation.into(), map: map_text, prefactor, parameters, choices, checks }
+    Canonical { form, source: source.into(), equation: equation.into(), map: map_text, prefactor, parameters, choices, checks }
 }
 
 /// Canonical forms of the normal form for the confluent hypergeometric family:
@@ -747,7 +826,7 @@ pub fn whittaker_form(
         let mut choices = vec!["the normal form is matched (the unknown is prefactor · ψ; ψ = x^(1/2) w up to a constant)".to_string()];
         choices.extend(lam_note);
         return Ok(Some(Canonical {
-            form: "bessel".into(),
+            form: Form::Bessel,
             source: "DLMF 10.2.1".into(),
             equation: "x² w'' + x w' + (x² − ν²) w = 0".into(),
             map,
@@ -765,7 +844,7 @@ pub fn whittaker_form(
         None => (format!("{shift_text} = sqrt({})*{x}", rt(k0, &lam2)), Param::Radical(a1.clone(), lam2.clone())),
     };
     Ok(Some(Canonical {
-        form: "whittaker".into(),
+        form: Form::Whittaker,
         source: "DLMF 13.14.1".into(),
         equation: "W'' + (−1/4 + κ/x + (1/4 − μ²)/x²) W = 0".into(),
         map,
@@ -790,7 +869,7 @@ pub fn polynomial_q_form(k0: &Field, var: &str, qn: &RatFunc, prefactor: &str) -
             let lam = if l3 == RatFunc::one() { "1".to_string() } else { format!("({})^(1/3)", rt(k0, &l3)) };
             let shift = if z0.is_zero() { var.to_string() } else { format!("{var} - {}", wrap(rt(k0, &z0))) };
             Ok(Some(Canonical {
-                form: "airy".into(),
+                form: Form::Of(Class::Airy),
                 source: "DLMF 9.2.1".into(),
                 equation: "w'' = x w".into(),
                 map: if lam == "1" && z0.is_zero() {
@@ -818,7 +897,7 @@ pub fn polynomial_q_form(k0: &Field, var: &str, qn: &RatFunc, prefactor: &str) -
             };
             let shift = if z0.is_zero() { var.to_string() } else { format!("{var} - {}", wrap(rt(k0, &z0))) };
             Ok(Some(Canonical {
-                form: "parabolic-cylinder".into(),
+                form: Form::Of(Class::ParabolicCylinder),
                 source: "DLMF 12.2.2".into(),
                 equation: "w'' − (x²/4 + a) w = 0".into(),
                 map: format!("{shift} = {lam_text}*{x}"),

@@ -8,10 +8,13 @@
 //! normalisable ones. The derivatives are taken numerically at given
 //! parameter values, or at a fixed generic point when none are given.
 
+use super::ext::Ext;
 use super::numeric::Values;
-use super::{Analysis, Kind, Place};
-use crate::algebra::{GRat, Rat};
+use super::{Analysis, Exponent, Kind, Place};
+use crate::algebra::{Field, GRat, Poly, Rat, RatFunc, UPoly};
+use crate::error::Result;
 use num_complex::Complex64;
+use std::cmp::Ordering;
 
 /// A label for one local solution.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -61,42 +64,27 @@ pub fn generic_values(nvars: usize, freq: usize) -> Vec<GRat> {
         .collect()
 }
 
-/// Labels for an analysis, with `freq` the field index of ω and `point` the parameter values.
-pub fn label(a: &Analysis, freq: usize, point: &[GRat], given: bool) -> Labels {
-    let h = Rat::new(1.into(), 1_000_000.into()).expect("nonzero");
-    let mut shifted = point.to_vec();
-    shifted[freq] = GRat { re: point[freq].re.add(&point[freq].re.mul(&h)), im: point[freq].im.clone() };
+/// Labels for an analysis, with `freq` the field index of ω and `point` the
+/// parameter values. The decisions are exact where the place is rational
+/// (a point z₀ in the parameter field, or ∞): ∂ρ/∂ω is derived exactly,
+/// evaluated at the Gaussian-rational values, and the sign of its imaginary
+/// part (with a square root of the radicand on the principal branch, as the
+/// numeric values take it) is decided by exact comparisons. At the roots of
+/// a factor of higher degree the derivative is exact in θ but evaluated at
+/// the numeric root.
+pub fn label(k: &Field, a: &Analysis, freq: usize, point: &[GRat], given: bool) -> Result<Labels> {
     let v0 = Values::new(point.to_vec());
-    let v1 = Values::new(shifted.clone());
-    let dw = point[freq].re.mul(&h).to_f64();
     let mut per_point = Vec::new();
     for p in &a.points {
         let mut row = Vec::new();
         match p.kind {
             Kind::Regular => {
-                let theta = match &p.place {
-                    Place::Point { at, .. } => v0.ratfunc(at),
-                    Place::Roots(f) => outer_root(&v0, f),
-                    Place::Infinity => Some(Complex64::new(0.0, 0.0)),
-                };
-                let theta1 = match &p.place {
-                    Place::Point { at, .. } => v1.ratfunc(at),
-                    Place::Roots(f) => outer_root(&v1, f),
-                    Place::Infinity => Some(Complex64::new(0.0, 0.0)),
-                };
-                let ds: Vec<Option<f64>> = p
-                    .unknown_exponents
-                    .iter()
-                    .map(|e| {
-                        let a0 = v0.exponent(e, theta?)?;
-                        let a1 = v1.exponent(e, theta1?)?;
-                        Some(((a1 - a0) / dw).im)
-                    })
-                    .collect();
-                let depends = ds.iter().flatten().any(|d| d.abs() > 1e-6);
+                let ds: Vec<Option<Ordering>> =
+                    p.unknown_exponents.iter().map(|e| im_derivative_sign(k, &v0, &p.place, e, freq, point)).collect::<Result<_>>()?;
+                let depends = ds.iter().flatten().any(|d| *d != Ordering::Equal);
                 for d in &ds {
                     row.push(match (depends, d) {
-                        (true, Some(d)) if *d < 0.0 => Some(Label::Ingoing),
+                        (true, Some(Ordering::Less)) => Some(Label::Ingoing),
                         (true, Some(_)) => Some(Label::Outgoing),
                         _ => None,
                     });
@@ -104,22 +92,22 @@ pub fn label(a: &Analysis, freq: usize, point: &[GRat], given: bool) -> Labels {
             }
             Kind::Irregular => {
                 for f in &p.formal {
-                    let u0 = v0.ratfunc(&f.lead);
-                    let u1 = v1.ratfunc(&f.lead);
-                    let lab = match (u0, u1, &p.place) {
-                        (Some(a0), Some(a1), Place::Infinity) => {
-                            let d = ((a1 - a0) / dw).im;
-                            if d.abs() > 1e-6 {
-                                Some(if d > 0.0 { Label::Outgoing } else { Label::Ingoing })
-                            } else if a0.re < 0.0 {
-                                Some(Label::Decaying)
-                            } else if a0.re > 0.0 {
-                                Some(Label::Growing)
-                            } else {
-                                None
+                    let lab = match &p.place {
+                        Place::Infinity => {
+                            let u0 = f.lead.eval(point);
+                            let du = k.deriv(&f.lead, freq)?.eval(point);
+                            match (u0, du) {
+                                (Some(u0), Some(du)) => match (du.im.cmp(&Rat::zero()), u0.re.cmp(&Rat::zero())) {
+                                    (Ordering::Greater, _) => Some(Label::Outgoing),
+                                    (Ordering::Less, _) => Some(Label::Ingoing),
+                                    (Ordering::Equal, Ordering::Less) => Some(Label::Decaying),
+                                    (Ordering::Equal, Ordering::Greater) => Some(Label::Growing),
+                                    (Ordering::Equal, Ordering::Equal) => None,
+                                },
+                                _ => None,
                             }
                         }
-                        _ => None,
+                        Place::Point { .. } | Place::Roots(_) => None,
                     };
                     row.push(lab);
                 }
@@ -133,7 +121,145 @@ pub fn label(a: &Analysis, freq: usize, point: &[GRat], given: bool) -> Labels {
     } else {
         "decided at a generic point (parameter i = 0.3 + 0.17·i, frequency 1/2); pass --at to decide at your values".to_string()
     };
-    Labels { per_point, basis }
+    Ok(Labels { per_point, basis })
+}
+
+/// A polynomial in θ at θ = `at` (Horner), exactly.
+fn at_place(k: &Field, u: &UPoly, at: &RatFunc) -> Result<RatFunc> {
+    let mut acc = RatFunc::zero();
+    for c in u.coeffs.iter().rev() {
+        acc = k.add(&k.mul(&acc, at)?, c)?;
+    }
+    Ok(acc)
+}
+
+/// The place's location as an element of the parameter field, when it is one
+/// (∞ is read in t = 1/z at t = 0).
+fn rational_place(place: &Place) -> Option<RatFunc> {
+    match place {
+        Place::Point { at, .. } => Some(at.clone()),
+        Place::Infinity => Some(RatFunc::zero()),
+        Place::Roots(_) => None,
+    }
+}
+
+/// The sign of Im ∂ρ/∂ω at the values; `None` where it is not defined there
+/// (a pole, a vanishing radicand, no numeric root).
+fn im_derivative_sign(k: &Field, v: &Values, place: &Place, e: &Exponent, freq: usize, point: &[GRat]) -> Result<Option<Ordering>> {
+    let Some(at) = rational_place(place) else {
+        let Place::Roots(f) = place else { return Ok(None) };
+        return roots_derivative_sign(k, v, f, e, freq);
+    };
+    let center = at_place(k, &e.center, &at)?;
+    let exact = match (e.sign, &e.root) {
+        (0, _) => Some(center.clone()),
+        (s, Some(root)) => {
+            let half = RatFunc::rat(&Rat::new((s as i64).into(), 2.into()).expect("nonzero"));
+            Some(k.add(&center, &k.mul(&half, &at_place(k, root, &at)?)?)?)
+        }
+        (_, None) => None,
+    };
+    if let Some(rho) = exact {
+        return Ok(k.deriv(&rho, freq)?.eval(point).map(|d| d.im.cmp(&Rat::zero())));
+    }
+    // ρ = c + (s/2)√R: ∂ρ/∂ω = c' + (s/4) R'/√R.
+    let radicand = at_place(k, &e.radicand, &at)?;
+    let (Some(dc), Some(r0), Some(r1)) = (k.deriv(&center, freq)?.eval(point), radicand.eval(point), k.deriv(&radicand, freq)?.eval(point)) else {
+        return Ok(None);
+    };
+    Ok(im_sign_over_sqrt(&dc.im, e.sign, &r0, &r1))
+}
+
+/// The sign of Im(w·i + (s/4)·R₁/√R₀) for rational w (the imaginary part of
+/// the centre's derivative), with √R₀ on the principal branch; `None` when
+/// R₀ = 0. With R₀ = a + bi, m = |R₀|, √R₀ = u + iv (u = √((m+a)/2),
+/// v = ±√((m−a)/2) with the sign of b, uv = b/2) and R₁ = p + qi, the value
+/// is w + (s/4)(qu − pv)/m; every comparison below squares away one root at
+/// a time until only α + β√(a² + b²) is left, whose sign is exact.
+fn im_sign_over_sqrt(w: &Rat, s: i8, r0: &GRat, r1: &GRat) -> Option<Ordering> {
+    let (a, b) = (&r0.re, &r0.im);
+    if r0.is_zero() {
+        return None;
+    }
+    let zero = Rat::zero();
+    let two = Rat::int(2.into());
+    let d = a.mul(a).add(&b.mul(b)); // m² > 0
+    let (p, q) = (&r1.re, &r1.im);
+    let (p2, q2) = (p.mul(p), q.mul(q));
+    // The signs of qu and −pv: u = 0 only when b = 0 ≤ −a, v = 0 only when b = 0 ≤ a.
+    let u_zero = b.is_zero() && a < &zero;
+    let v_zero = b.is_zero() && a >= &zero;
+    let v_sign = if b < &zero { Ordering::Less } else { Ordering::Greater };
+    let sa = if u_zero { Ordering::Equal } else { q.cmp(&zero) };
+    let sb = if v_zero { Ordering::Equal } else { times(p.cmp(&zero).reverse(), v_sign) };
+    // (qu)² − (pv)² = ((q² − p²)m + (q² + p²)a)/2.
+    let y = sum_sign(sa, sb, || surd_sign(&q2.add(&p2).mul(a), &q2.sub(&p2), &d));
+    let y = if s < 0 { y.reverse() } else { y };
+    // 4wm + sY: (4wm)² − Y² = 16w²m² − (m(p² + q²)/2 + a(q² − p²)/2 − pqb).
+    let sixteen = Rat::int(16.into());
+    let alpha = sixteen.mul(&w.mul(w)).mul(&d).sub(&a.mul(&q2.sub(&p2)).div(&two)?).add(&p.mul(q).mul(b));
+    let beta = p2.add(&q2).div(&two)?.neg();
+    Some(sum_sign(w.cmp(&zero), y, || surd_sign(&alpha, &beta, &d)))
+}
+
+/// The product of two signs.
+fn times(x: Ordering, y: Ordering) -> Ordering {
+    match (x, y) {
+        (Ordering::Equal, _) | (_, Ordering::Equal) => Ordering::Equal,
+        (x, y) if x == y => Ordering::Greater,
+        _ => Ordering::Less,
+    }
+}
+
+/// The sign of X + Y from their signs and, when they differ, the sign of X² − Y².
+fn sum_sign(x: Ordering, y: Ordering, squares: impl FnOnce() -> Ordering) -> Ordering {
+    match (x, y) {
+        (Ordering::Equal, y) => y,
+        (x, Ordering::Equal) => x,
+        (x, y) if x == y => x,
+        (x, _) => match squares() {
+            Ordering::Greater => x,
+            Ordering::Less => x.reverse(),
+            Ordering::Equal => Ordering::Equal,
+        },
+    }
+}
+
+/// The sign of α + β√D for rational α, β and D ≥ 0.
+fn surd_sign(alpha: &Rat, beta: &Rat, d: &Rat) -> Ordering {
+    let zero = Rat::zero();
+    let sb = if d.is_zero() { Ordering::Equal } else { beta.cmp(&zero) };
+    sum_sign(alpha.cmp(&zero), sb, || alpha.mul(alpha).cmp(&beta.mul(beta).mul(d)))
+}
+
+/// The sign of Im ∂ρ/∂ω at the outer root θ of `f`: the derivative is exact
+/// in Q(params)[θ]/(f) (θ' = −f_ω(θ)/f_z(θ)), its value taken at the numeric
+/// root (the one decision here that is not exact).
+fn roots_derivative_sign(k: &Field, v: &Values, f: &Poly, e: &Exponent, freq: usize) -> Result<Option<Ordering>> {
+    let Some(theta) = outer_root(v, f) else { return Ok(None) };
+    let ext = Ext::new(f);
+    let Some(dtheta) = ext.div(k, &ext.of_poly(k, &f.derivative(freq).neg())?, &ext.of_poly(k, &f.derivative(0))?)? else {
+        return Ok(None);
+    };
+    // d/dω of a polynomial in θ whose coefficients depend on ω.
+    let total = |u: &UPoly| -> Result<UPoly> {
+        let partial = UPoly { coeffs: u.coeffs.iter().map(|c| k.deriv(c, freq)).collect::<Result<_>>()? };
+        ext.reduce(k, &partial.add(k, &ext.mul(k, &u.derivative(k)?, &dtheta)?)?)
+    };
+    let dc = v.upoly(&total(&e.center)?, theta);
+    let d = match (e.sign, &e.root) {
+        (0, _) => dc,
+        (s, Some(root)) => v.upoly(&total(root)?, theta).and_then(|dr| Some(dc? + 0.5 * s as f64 * dr)),
+        (s, None) => {
+            let r0 = v.upoly(&e.radicand, theta);
+            let r1 = v.upoly(&total(&e.radicand)?, theta);
+            match (dc, r0, r1) {
+                (Some(dc), Some(r0), Some(r1)) if r0 != Complex64::new(0.0, 0.0) => Some(dc + 0.25 * s as f64 * r1 / r0.sqrt()),
+                _ => None,
+            }
+        }
+    };
+    Ok(d.and_then(|d| d.im.partial_cmp(&0.0)))
 }
 
 /// The boundary problem whose exponents are picked.
@@ -155,15 +281,25 @@ fn outer_root(v: &Values, f: &crate::algebra::Poly) -> Option<Complex64> {
     pick(&mut roots.iter().filter(real)).or_else(|| pick(&mut roots.iter()))
 }
 
+/// The exponents picked for a boundary problem.
+#[derive(Clone, Debug, Default)]
+pub struct ExponentPicks {
+    /// (point as printed, 1-based exponent number).
+    pub picks: Vec<(String, usize)>,
+    /// A sentence per point saying what was picked.
+    pub said: Vec<String>,
+}
+
 /// Exponent choices (1-based, by point label as printed) for a boundary
 /// problem, and a sentence per point saying what was picked.
 pub fn boundary_choices(
+    k: &Field,
     a: &Analysis,
     labels: Option<&Labels>,
     b: Boundary,
     point: &[GRat],
     point_text: impl Fn(&super::SingularPoint) -> String,
-) -> (Vec<(String, usize)>, Vec<String>) {
+) -> Result<ExponentPicks> {
     let v = Values::new(point.to_vec());
     let mut picks = Vec::new();
     let mut said = Vec::new();
@@ -184,16 +320,7 @@ pub fn boundary_choices(
                 }
             }
             (Boundary::Bound, Kind::Regular) => {
-                let theta = match &p.place {
-                    Place::Point { at, .. } => v.ratfunc(at),
-                    Place::Roots(f) => outer_root(&v, f),
-                    Place::Infinity => Some(Complex64::new(0.0, 0.0)),
-                };
-                let re: Vec<f64> =
-                    p.unknown_exponents.iter().map(|e| theta.and_then(|t| v.exponent(e, t)).map(|z| z.re).unwrap_or(f64::NAN)).collect();
-                if re.len() == 2 && re.iter().all(|x| x.is_finite()) {
-                    // At infinity the larger exponent in t = 1/z is the decaying solution too.
-                    let j = if re[0] >= re[1] { 0 } else { 1 };
+                if let Some(j) = larger_real_part(k, &v, &p.place, &p.unknown_exponents, point)? {
                     picks.push((name.clone(), j + 1));
                     said.push(format!("at {name}: the exponent with the larger real part (number {})", j + 1));
                 }
@@ -207,5 +334,119 @@ pub fn boundary_choices(
             _ => {}
         }
     }
-    (picks, said)
+    Ok(ExponentPicks { picks, said })
+}
+
+/// Which of two exponents has the larger real part at the values (the first
+/// on a tie); at infinity the larger exponent in t = 1/z is the decaying
+/// solution too. Exact at a rational place: two exact exponents are compared
+/// exactly, and c ± ½√R with √R on the principal branch (Re √R ≥ 0, zero only
+/// for a real R ≤ 0) picks the + sign. At the roots of a factor of higher
+/// degree the values are compared at the numeric root.
+fn larger_real_part(k: &Field, v: &Values, place: &Place, e: &[Exponent], point: &[GRat]) -> Result<Option<usize>> {
+    if e.len() != 2 {
+        return Ok(None);
+    }
+    let Some(at) = rational_place(place) else {
+        let Place::Roots(f) = place else { return Ok(None) };
+        let theta = outer_root(v, f);
+        let re: Vec<f64> = e.iter().map(|x| theta.and_then(|t| v.exponent(x, t)).map(|z| z.re).unwrap_or(f64::NAN)).collect();
+        return Ok(re.iter().all(|x| x.is_finite()).then(|| if re[0] >= re[1] { 0 } else { 1 }));
+    };
+    let mut exact = Vec::new();
+    for x in e {
+        let center = at_place(k, &x.center, &at)?;
+        exact.push(match (x.sign, &x.root) {
+            (0, _) => center.eval(point),
+            (s, Some(root)) => {
+                let half = RatFunc::rat(&Rat::new((s as i64).into(), 2.into()).expect("nonzero"));
+                k.add(&center, &k.mul(&half, &at_place(k, root, &at)?)?)?.eval(point)
+            }
+            (_, None) => None,
+        });
+    }
+    if let [Some(r0), Some(r1)] = &exact[..] {
+        return Ok(Some(if r0.re >= r1.re { 0 } else { 1 }));
+    }
+    // c ± ½√R: both defined where R is.
+    let same = e[0].center == e[1].center && e[0].radicand == e[1].radicand && e[0].sign == -e[1].sign && e[0].sign != 0;
+    let Some(r) = at_place(k, &e[0].radicand, &at)?.eval(point) else { return Ok(None) };
+    if !same || at_place(k, &e[0].center, &at)?.eval(point).is_none() {
+        return Ok(None);
+    }
+    let tie = r.im.is_zero() && r.re <= Rat::zero();
+    Ok(Some(if tie || e[0].sign > 0 { 0 } else { 1 }))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn q(n: i64, d: i64) -> Rat {
+        Rat::new(n.into(), d.into()).expect("nonzero")
+    }
+
+    /// The exact sign of Im(w·i + (s/4)·R₁/√R₀) against the same value in
+    /// double precision with num_complex's principal square root (an
+    /// independent route), on a grid of small Gaussian rationals where the
+    /// double value is far from zero, and on exact zeros.
+    #[test]
+    fn the_exact_sign_agrees_with_complex_arithmetic() {
+        let vals = [-3i64, -2, -1, 0, 1, 2, 5];
+        let mut checked = 0;
+        for &a in &vals {
+            for &b in &vals {
+                if a == 0 && b == 0 {
+                    continue;
+                }
+                for &p in &vals {
+                    for &qq in &vals {
+                        for &w in &[-2i64, 0, 1] {
+                            for s in [1i8, -1] {
+                                let r0 = GRat { re: q(a, 3), im: q(b, 2) };
+                                let r1 = GRat { re: q(p, 1), im: q(qq, 5) };
+                                let wr = q(w, 7);
+                                let exact = im_sign_over_sqrt(&wr, s, &r0, &r1).expect("R₀ ≠ 0");
+                                let z0 = Complex64::new(a as f64 / 3.0, b as f64 / 2.0);
+                                let z1 = Complex64::new(p as f64, qq as f64 / 5.0);
+                                let f = w as f64 / 7.0 + 0.25 * s as f64 * (z1 / z0.sqrt()).im;
+                                if f.abs() > 1e-9 {
+                                    assert_eq!(exact, f.partial_cmp(&0.0).unwrap(), "a={a}/3 b={b}/2 p={p} q={qq}/5 w={w}/7 s={s}");
+                                    checked += 1;
+                                }
+                            }
+                        }
+                    }
+                }
+            }
+        }
+        assert!(checked > 1000);
+        // Exact cancellations: R₀ = −1 (√R₀ = i), R₁ = 4: Im(4/(4i)) = −1, cancelled by w = 1.
+        let r0 = GRat { re: q(-1, 1), im: Rat::zero() };
+        let r1 = GRat { re: q(4, 1), im: Rat::zero() };
+        assert_eq!(im_sign_over_sqrt(&Rat::one(), 1, &r0, &r1), Some(Ordering::Equal));
+        // R₀ = 2i (√R₀ = 1 + i), R₁ = 8: Im(8/(1 + i))/4 = −1, cancelled by w = 1.
+        let r0 = GRat { re: Rat::zero(), im: q(2, 1) };
+        let r1 = GRat { re: q(8, 1), im: Rat::zero() };
+        assert_eq!(im_sign_over_sqrt(&Rat::one(), 1, &r0, &r1), Some(Ordering::Equal));
+        assert_eq!(im_sign_over_sqrt(&Rat::zero(), 1, &GRat::zero(), &r1), None);
+    }
+
+    /// The sign of α + β√D against doubles, and exact zeros (1 − √1, 2 − √4, 3 − 3√1).
+    #[test]
+    fn surd_signs() {
+        for a in -4i64..=4 {
+            for b in -3i64..=3 {
+                for d in [0i64, 1, 2, 3, 5, 9] {
+                    let f = a as f64 + b as f64 * (d as f64).sqrt();
+                    let exact = surd_sign(&q(a, 1), &q(b, 1), &q(d, 1));
+                    if f.abs() > 1e-12 {
+                        assert_eq!(exact, f.partial_cmp(&0.0).unwrap(), "{a} + {b}√{d}");
+                    } else {
+                        assert_eq!(exact, Ordering::Equal, "{a} + {b}√{d}");
+                    }
+                }
+            }
+        }
+    }
 }

@@ -1,7 +1,7 @@
 //! Suggested numerical methods, driven by the class and the boundary data,
 //! each with the published source it follows.
 
-use super::{Analysis, Kind, Place};
+use super::{Analysis, Class, Kind, Place};
 
 /// One suggestion.
 #[derive(Clone, Debug)]
@@ -21,28 +21,34 @@ pub fn suggest(a: &Analysis, bound: Option<bool>) -> Vec<Method> {
     let inf_irregular = inf.is_some_and(|p| p.kind == Kind::Irregular);
     let regular_finite = a.points.iter().filter(|p| p.kind == Kind::Regular && !matches!(p.place, Place::Infinity)).count();
     let bound = bound == Some(true);
-    match a.class.as_str() {
-        "confluent-heun" if inf_irregular => out.push(Method {
+    match a.class {
+        Class::ConfluentHeun if inf_irregular => out.push(Method {
             method: "continued fraction",
             reason: "two regular points and rank 1 at ∞: a Jaffé-type series about one regular point in u = (z − z₁)/(z − z₂) gives a three-term recurrence".into(),
             source: "E. W. Leaver, Proc. R. Soc. Lond. A 402 (1985) 285",
         }),
-        "general-heun" | "fuchsian" => out.push(Method {
+        Class::GeneralHeun | Class::Fuchsian => out.push(Method {
             method: "Frobenius series with a continued fraction",
             reason: "regular singular points only: the local series between two points gives a three-term recurrence (Heun) or longer, reduced by Gaussian elimination".into(),
             source: "E. W. Leaver, Phys. Rev. D 41 (1990) 2986",
         }),
-        "hypergeometric" | "confluent-hypergeometric" | "parabolic-cylinder" | "airy" => out.push(Method {
+        Class::Hypergeometric | Class::ConfluentHypergeometric | Class::ParabolicCylinder | Class::Airy => out.push(Method {
             method: "closed form",
             reason: "the equation is of hypergeometric type: its solutions and connection formulas are tabulated".into(),
             source: "DLMF chapters 9, 10, 12, 13, 15",
         }),
-        "doubly-confluent-heun" | "reduced-doubly-confluent-heun" | "doubly-reduced-doubly-confluent-heun" => out.push(Method {
+        Class::DoublyConfluentHeun | Class::ReducedDoublyConfluentHeun | Class::DoublyReducedDoublyConfluentHeun => out.push(Method {
             method: "two-sided Laurent series",
             reason: "irregular points at both ends: a Laurent series in z gives a two-sided recurrence whose solvability fixes a characteristic exponent".into(),
             source: "E. W. Leaver, J. Math. Phys. 27 (1986) 1238",
         }),
-        _ => {}
+        Class::ConfluentHeun
+        | Class::Euler
+        | Class::ReducedConfluentHypergeometric
+        | Class::BiconfluentHeun
+        | Class::TriconfluentHeun
+        | Class::ReducedConfluentHeun
+        | Class::Irregular => {}
     }
     if regular_finite > 0 && inf_irregular && !bound {
         out.push(Method {

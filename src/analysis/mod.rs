@@ -13,7 +13,7 @@ pub mod labels;
 pub mod methods;
 pub mod numeric;
 
-pub use class::classify_points;
+pub use class::{classify_points, Class, Form};
 pub use formal::Formal;
 
 use crate::algebra::{Field, Poly, Rat, RatFunc, UPoly};
@@ -135,8 +135,8 @@ pub struct SingularPoint {
 pub struct Analysis {
     /// Finite points first (sorted by their factor), infinity last.
     pub points: Vec<SingularPoint>,
-    /// The class id of DESIGN.md.
-    pub class: String,
+    /// The class of DESIGN.md's table.
+    pub class: Class,
     /// The one-line reason, e.g. "2 regular + rank 1 at ∞".
     pub reason: String,
     /// Remarks that qualify the class (apparent points present, …).
@@ -457,9 +457,9 @@ fn infinity_point(k: &Field, q: &RatFunc, p: &RatFunc) -> Result<SingularPoint> 
 pub fn canonical(red: &Reduction, an: &Analysis, choices: &canonical::Choices) -> Result<Option<canonical::Canonical>> {
     let k = &red.field;
     let pf = crate::ode::prefactor_text(&red.var, red.field.names(), &red.normal.prefactor, crate::algebra::print::Style::Text);
-    match an.class.as_str() {
-        "confluent-hypergeometric" => canonical::whittaker_form(k, &red.var, &red.normal.q, &an.points, &red.normal.prefactor, &pf),
-        "airy" | "parabolic-cylinder" => canonical::polynomial_q_form(k, &red.var, &red.normal.q, &pf),
+    match an.class {
+        Class::ConfluentHypergeometric => canonical::whittaker_form(k, &red.var, &red.normal.q, &an.points, &red.normal.prefactor, &pf),
+        Class::Airy | Class::ParabolicCylinder => canonical::polynomial_q_form(k, &red.var, &red.normal.q, &pf),
         c => canonical::canonical_form(k, &red.var, &red.p, &red.q, c, &an.points, choices),
     }
 }

@@ -4,7 +4,8 @@
 //! internal failure), 2 on bad input (an unreadable or malformed record, a
 //! missing source); every file is checked and reported.
 
-use super::{diagnostic, emit, Failure};
+use super::{emit, Failure};
+use crate::emit::diagnostic;
 use crate::error::{Error, ErrorKind, Origin};
 use crate::record::{compare_named, Record};
 use clap::Args;

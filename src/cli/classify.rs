@@ -100,7 +100,7 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
         None => None,
     };
     let label_point = values_point.clone().unwrap_or_else(|| crate::analysis::labels::generic_values(k.names().len(), freq.unwrap_or(usize::MAX)));
-    let labels = freq.map(|f| crate::analysis::labels::label(&an, f, &label_point, values_point.is_some()));
+    let labels = freq.map(|f| crate::analysis::labels::label(k, &an, f, &label_point, values_point.is_some())).transpose()?;
     let mut boundary_said = Vec::new();
     if let Some(b) = a.boundary {
         if b == BoundaryArg::Qnm && labels.is_none() {
@@ -115,7 +115,8 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
             crate::analysis::Place::Roots(_) => "θ".to_string(),
             crate::analysis::Place::Infinity => "∞".to_string(),
         };
-        let (picks, said) = crate::analysis::labels::boundary_choices(&an, labels.as_ref(), kind, &label_point, text);
+        let crate::analysis::labels::ExponentPicks { picks, said } =
+            crate::analysis::labels::boundary_choices(k, &an, labels.as_ref(), kind, &label_point, text)?;
         for (p, c) in picks {
             if !choices.picks.iter().any(|(q, _)| *q == p) {
                 choices.picks.push((p, c));

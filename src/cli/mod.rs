@@ -4,7 +4,6 @@
 
 mod check;
 mod classify;
-pub mod diagnostic;
 mod emit;
 mod eval;
 mod merge;
@@ -20,6 +19,7 @@ mod spectrum;
 mod table;
 mod values;
 
+use crate::emit::diagnostic;
 use crate::error::{Error, ErrorKind, Origin};
 use crate::ode::{Input, ReduceOptions};
 use clap::{Args, Parser, Subcommand, ValueEnum};

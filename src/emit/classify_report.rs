@@ -31,30 +31,37 @@ use crate::algebra::{Field, Int, RatFunc, UPoly};
 use crate::analysis::canonical::{Canonical, Param};
 use crate::analysis::labels::Labels;
 use crate::analysis::numeric::NumericPoint;
-use crate::analysis::{Analysis, Apparent, Exponent, Place, SingularPoint};
+use crate::analysis::{Analysis, Apparent, Class, Exponent, Form, Place, SingularPoint};
 use serde_json::{json, Value};
 
-/// The class id in words.
-pub fn class_name(id: &str) -> String {
-    match id {
-        "euler" => "Euler".into(),
-        "hypergeometric" => "hypergeometric (Gauss)".into(),
-        "confluent-hypergeometric" => "confluent hypergeometric".into(),
-        "reduced-confluent-hypergeometric" => "reduced confluent hypergeometric".into(),
-        "parabolic-cylinder" => "parabolic cylinder".into(),
-        "airy" => "Airy".into(),
-        "general-heun" => "general Heun".into(),
-        "confluent-heun" => "confluent Heun".into(),
-        "doubly-confluent-heun" => "doubly confluent Heun".into(),
-        "biconfluent-heun" => "biconfluent Heun".into(),
-        "triconfluent-heun" => "triconfluent Heun".into(),
-        "reduced-confluent-heun" => "reduced confluent Heun".into(),
-        "reduced-doubly-confluent-heun" => "reduced doubly confluent Heun".into(),
-        "doubly-reduced-doubly-confluent-heun" => "doubly reduced doubly confluent Heun".into(),
-        "fuchsian" => "Fuchsian".into(),
-        "whittaker" => "Whittaker".into(),
-        "bessel" => "Bessel".into(),
-        other => other.replace('-', " "),
+/// The class in words.
+pub fn class_name(c: Class) -> &'static str {
+    match c {
+        Class::Euler => "Euler",
+        Class::Hypergeometric => "hypergeometric (Gauss)",
+        Class::ConfluentHypergeometric => "confluent hypergeometric",
+        Class::ReducedConfluentHypergeometric => "reduced confluent hypergeometric",
+        Class::ParabolicCylinder => "parabolic cylinder",
+        Class::Airy => "Airy",
+        Class::GeneralHeun => "general Heun",
+        Class::ConfluentHeun => "confluent Heun",
+        Class::DoublyConfluentHeun => "doubly confluent Heun",
+        Class::BiconfluentHeun => "biconfluent Heun",
+        Class::TriconfluentHeun => "triconfluent Heun",
+        Class::ReducedConfluentHeun => "reduced confluent Heun",
+        Class::ReducedDoublyConfluentHeun => "reduced doubly confluent Heun",
+        Class::DoublyReducedDoublyConfluentHeun => "doubly reduced doubly confluent Heun",
+        Class::Fuchsian => "Fuchsian",
+        Class::Irregular => "irregular",
+    }
+}
+
+/// A canonical form in words.
+pub fn form_name(f: Form) -> &'static str {
+    match f {
+        Form::Of(c) => class_name(c),
+        Form::Whittaker => "Whittaker",
+        Form::Bessel => "Bessel",
     }
 }
 
@@ -245,7 +252,7 @@ fn fmt_c(z: num_complex::Complex64) -> String {
 pub fn analysis_text(k: &Field, var: &str, a: &Analysis, numeric: Option<&[NumericPoint]>, labels: Option<&Labels>) -> String {
     let s = Style::Text;
     let mut o = String::new();
-    o.push_str(&format!("class   {}  ({}: {})\n", a.class, class_name(&a.class), a.reason));
+    o.push_str(&format!("class   {}  ({}: {})\n", a.class, class_name(a.class), a.reason));
     for n in &a.notes {
         o.push_str(&format!("  note: {n}\n"));
     }
@@ -355,8 +362,8 @@ pub fn analysis_json(k: &Field, var: &str, params: &[String], a: &Analysis, nume
         }
     }
     let doc = json!({
-        "class": a.class,
-        "class_name": class_name(&a.class),
+        "class": a.class.id(),
+        "class_name": class_name(a.class),
         "reason": a.reason,
         "notes": a.notes,
         "variable": var,
@@ -401,7 +408,7 @@ pub(crate) fn param_value(vals: &crate::analysis::numeric::Values, p: &Param) ->
 /// The canonical form as text lines.
 pub fn canonical_text(k: &Field, unknown: &str, c: &Canonical, vals: Option<&crate::analysis::numeric::Values>) -> String {
     let mut o = String::new();
-    o.push_str(&format!("\ncanonical form   {} ({}):  {}\n", class_name(&c.form), c.source, c.equation));
+    o.push_str(&format!("\ncanonical form   {} ({}):  {}\n", form_name(c.form), c.source, c.equation));
     o.push_str(&format!("  map          {}\n", c.map));
     if c.prefactor == "1" {
         o.push_str(&format!("  prefactor    none: {unknown} = w\n"));
@@ -430,7 +437,7 @@ pub fn canonical_json(k: &Field, c: &Canonical, vals: Option<&crate::analysis::n
         params.insert(n.clone(), json!({"exact": param_text(k, p), "value": c2(vals.and_then(|v| param_value(v, p)))}));
     }
     let doc = json!({
-        "form": c.form,
+        "form": c.form.id(),
         "source": c.source,
         "equation": c.equation,
         "map": c.map,
@@ -476,7 +483,7 @@ pub fn analysis_latex(k: &Field, var: &str, unknown: &str, a: &Analysis, canonic
     let s = Style::Latex;
     let v = crate::algebra::print::latex_name(var);
     let mut doc = super::latex::Align::new();
-    doc.prose(&format!("{} equation: {}", class_name(&a.class), a.reason));
+    doc.prose(&format!("{} equation: {}", class_name(a.class), a.reason));
     for p in &a.points {
         let wher = match &p.place {
             Place::Point { at, .. } => format!("{v} = {}", rf(k, at, s)),
@@ -519,7 +526,7 @@ pub fn analysis_latex(k: &Field, var: &str, unknown: &str, a: &Analysis, canonic
     }
     if let Some(c) = canonical {
         doc.group();
-        doc.prose(&format!("canonical form: {} ({}): {}", class_name(&c.form), c.source, c.equation));
+        doc.prose(&format!("canonical form: {} ({}): {}", form_name(c.form), c.source, c.equation));
         match super::latex::equation_latex(&c.map) {
             Some((l, r)) => doc.rel(l, "=", r, "\\quad\\text{(the map)}"),
             None => doc.prose(&format!("map: {}", c.map)),

@@ -302,7 +302,8 @@ fn counts_line(ch: &Choice) -> String {
     )
 }
 
-/// Emits the requested functions.
+/// Emits the requested functions: the file's head, then each function's
+/// doc comment, signature and body.
 pub fn emit_code(req: &CodeRequest<'_>) -> Result<Emitted> {
     if !valid_prefix(&req.prefix) {
         return Err(
@@ -310,7 +311,56 @@ pub fn emit_code(req: &CodeRequest<'_>) -> Result<Emitted> {
         );
     }
     let locals = param_locals(&req.params);
-    let (c, rust) = (req.lang == Lang::C, req.lang == Lang::Rust);
+    let mut o = file_head(req);
+    let mut choices = Vec::new();
+    for f in &req.functions {
+        // A function's field holds the parameters in the file's order; a
+        // recurrence about an adjoined root holds θ after them (the last p).
+        let own = f.field.names().len().saturating_sub(1);
+        if own > req.params.len() || f.field.names()[1..] != req.params[..own] {
+            return Err(Error::new(ErrorKind::Internal, "a function's field does not hold the parameters in the file's order"));
+        }
+        let ch = choose(f.field, &f.outputs, &f.named, &req.limits)?;
+        let mut names = vec![f.kind.argument().to_string()];
+        names.extend(locals.iter().cloned());
+        let prog = &ch.program;
+        let mut consts = Vec::with_capacity(prog.consts.len());
+        for g in &prog.consts {
+            consts.push(grat_doubles(g)?);
+        }
+        let pr = Printer { lang: req.lang, prog, names, consts, temps: temporaries(prog) };
+        o.push('\n');
+        o.push_str(&doc_comment(req, f, &ch));
+        o.push_str(&signature(req, f));
+        o.push_str(&body(&pr, &locals, f.kind));
+        choices.push((f.kind, ch));
+    }
+    Ok(Emitted { text: o, choices })
+}
+
+impl Lang {
+    /// The doc-comment marker.
+    fn doc(self) -> &'static str {
+        match self {
+            Lang::C => "//",
+            Lang::Rust => "///",
+        }
+    }
+}
+
+impl FunctionKind {
+    /// The name of the function's argument.
+    fn argument(self) -> &'static str {
+        match self {
+            FunctionKind::Recurrence => "n",
+            FunctionKind::Q | FunctionKind::Potential => "z",
+        }
+    }
+}
+
+/// The file's head: where it came from, the parameter order, what was
+/// skipped, and the language's preamble.
+fn file_head(req: &CodeRequest<'_>) -> String {
     let cm = "//";
     let upper = req.prefix.to_ascii_uppercase();
     let mut o = String::new();
@@ -326,138 +376,141 @@ pub fn emit_code(req: &CodeRequest<'_>) -> Result<Emitted> {
         o.push_str(&format!("{cm} Not emitted: {}\n", comment_safe(s)));
     }
     o.push_str(&format!("{cm} Each form was checked to equal the exact canonical value before emission.\n\n"));
-    if c {
-        o.push_str("#include <complex.h>\n\n");
-        o.push_str(&format!("#define {upper}_PARAM_COUNT {}\n", req.params.len()));
-        let list: Vec<String> = req.params.iter().map(|p| string_literal(p)).collect();
-        o.push_str(&format!("#define {upper}_PARAM_NAMES {{{}}}\n", list.join(", ")));
-    } else {
-        o.push_str("use num_complex::Complex64;\n\n");
-        o.push_str("/// The parameter names, in the order of `p`.\n");
-        let list: Vec<String> = req.params.iter().map(|p| string_literal(p)).collect();
-        o.push_str(&format!("pub const {upper}_PARAMS: [&str; {}] = [{}];\n", req.params.len(), list.join(", ")));
+    let list: Vec<String> = req.params.iter().map(|p| string_literal(p)).collect();
+    match req.lang {
+        Lang::C => {
+            o.push_str("#include <complex.h>\n\n");
+            o.push_str(&format!("#define {upper}_PARAM_COUNT {}\n", req.params.len()));
+            o.push_str(&format!("#define {upper}_PARAM_NAMES {{{}}}\n", list.join(", ")));
+        }
+        Lang::Rust => {
+            o.push_str("use num_complex::Complex64;\n\n");
+            o.push_str("/// The parameter names, in the order of `p`.\n");
+            o.push_str(&format!("pub const {upper}_PARAMS: [&str; {}] = [{}];\n", req.params.len(), list.join(", ")));
+        }
     }
-    let mut choices = Vec::new();
-    for f in &req.functions {
-        // A function's field holds the parameters in the file's order; a
-        // recurrence about an adjoined root holds θ after them (the last p).
-        let own = f.field.names().len().saturating_sub(1);
-        if own > req.params.len() || f.field.names()[1..] != req.params[..own] {
-            return Err(Error::new(ErrorKind::Internal, "a function's field does not hold the parameters in the file's order"));
+    o
+}
+
+/// Names `tK` for the steps used twice or more (not variables or constants).
+fn temporaries(prog: &Program) -> Vec<Option<String>> {
+    let uses = prog.uses();
+    let mut temps = vec![None; prog.steps.len()];
+    let mut k = 0;
+    for (i, s) in prog.steps.iter().enumerate() {
+        if uses[i] >= 2 && !matches!(s, Step::Var(_) | Step::Const(_)) {
+            temps[i] = Some(format!("t{k}"));
+            k += 1;
         }
-        let ch = choose(f.field, &f.outputs, &f.named, &req.limits)?;
-        let arg = if f.kind == FunctionKind::Recurrence { "n" } else { "z" };
-        let mut names = vec![arg.to_string()];
-        names.extend(locals.iter().cloned());
-        let prog = &ch.program;
-        let mut consts = Vec::with_capacity(prog.consts.len());
-        for g in &prog.consts {
-            consts.push(grat_doubles(g)?);
+    }
+    temps
+}
+
+/// The function's doc comment: its explanation, the exact values, the source and the counts.
+fn doc_comment(req: &CodeRequest<'_>, f: &FunctionSpec<'_>, ch: &Choice) -> String {
+    let doc = req.lang.doc();
+    let mut o = String::new();
+    for a in &f.about {
+        for l in wrap_comment(&format!("{doc} "), a, 100) {
+            o.push_str(&l);
+            o.push('\n');
         }
-        let uses = prog.uses();
-        let mut temps = vec![None; prog.steps.len()];
-        let mut k = 0;
-        for (i, s) in prog.steps.iter().enumerate() {
-            if uses[i] >= 2 && !matches!(s, Step::Var(_) | Step::Const(_)) {
-                temps[i] = Some(format!("t{k}"));
-                k += 1;
-            }
-        }
-        let pr = Printer { lang: req.lang, prog, names, consts, temps };
-        let fname = format!("{}_{}", req.prefix, f.kind.suffix());
-        let doc = if c { "//" } else { "///" };
-        o.push('\n');
-        for a in &f.about {
-            for l in wrap_comment(&format!("{doc} "), a, 100) {
-                o.push_str(&l);
-                o.push('\n');
-            }
-        }
-        for (j, r) in f.outputs.iter().enumerate() {
-            let lhs = match f.kind {
-                FunctionKind::Q => "Q".to_string(),
-                FunctionKind::Potential => "V".to_string(),
-                FunctionKind::Recurrence => format!("c[{j}]"),
-            };
-            let text = format!("{lhs} = {}", ratfunc_text(r, f.field.names(), Style::Text));
-            for l in wrap_comment(&format!("{doc}   "), &text, 100) {
-                o.push_str(&l);
-                o.push('\n');
-            }
-        }
-        o.push_str(&format!("{doc} Source: {}. {}\n", comment_safe(&req.source), counts_line(&ch)));
-        let used: Vec<bool> = (0..req.params.len() + 1).map(|v| prog.steps.contains(&Step::Var(v))).collect();
-        let terms = f.outputs.len();
-        if c {
-            match f.kind {
-                FunctionKind::Recurrence => {
-                    o.push_str(&format!("#define {upper}_RECURRENCE_TERMS {terms}\n"));
-                    o.push_str(&format!("void {fname}(double complex n, const double complex p[], double complex c[])\n{{\n"));
-                }
-                _ => o.push_str(&format!("double complex {fname}(double complex z, const double complex p[])\n{{\n")),
-            }
-        } else {
-            match f.kind {
-                FunctionKind::Recurrence => {
-                    o.push_str(&format!("pub const {upper}_RECURRENCE_TERMS: usize = {terms};\n\n"));
-                    o.push_str(&format!("{doc} Returns the {terms} coefficients c[j] (in the order above).\n"));
-                    o.push_str(&format!("#[allow(non_snake_case)]\npub fn {fname}(n: Complex64, p: &[Complex64]) -> [Complex64; {terms}] {{\n"));
-                }
-                _ => o.push_str(&format!("#[allow(non_snake_case)]\npub fn {fname}(z: Complex64, p: &[Complex64]) -> Complex64 {{\n")),
-            }
-        }
-        if !used[0] {
-            o.push_str(&if c { format!("    (void){arg};\n") } else { format!("    let _ = {arg};\n") });
-        }
-        if !used[1..].iter().any(|u| *u) {
-            o.push_str(if c { "    (void)p;\n" } else { "    let _ = p;\n" });
-        }
-        for (i, l) in locals.iter().enumerate() {
-            if used[i + 1] {
-                if c {
-                    o.push_str(&format!("    const double complex {l} = p[{i}];\n"));
-                } else {
-                    o.push_str(&format!("    let {l} = p[{i}];\n"));
-                }
-            }
-        }
-        for (i, t) in pr.temps.iter().enumerate() {
-            if let Some(t) = t {
-                let rhs = pr.expr(i, true);
-                if c {
-                    o.push_str(&format!("    const double complex {t} = {rhs};\n"));
-                } else if pr.is_real(i) {
-                    o.push_str(&format!("    let {t}: f64 = {rhs};\n"));
-                } else {
-                    o.push_str(&format!("    let {t} = {rhs};\n"));
-                }
-            }
-        }
-        let out_text = |i: usize| -> String {
-            let e = pr.expr(i, true);
-            if rust && pr.is_real(i) {
-                format!("Complex64::from({e})")
-            } else {
-                e
-            }
+    }
+    for (j, r) in f.outputs.iter().enumerate() {
+        let lhs = match f.kind {
+            FunctionKind::Q => "Q".to_string(),
+            FunctionKind::Potential => "V".to_string(),
+            FunctionKind::Recurrence => format!("c[{j}]"),
         };
-        match (f.kind, c) {
-            (FunctionKind::Recurrence, true) => {
-                for (j, &i) in prog.outputs.iter().enumerate() {
-                    o.push_str(&format!("    c[{j}] = {};\n", out_text(i)));
-                }
-            }
-            (FunctionKind::Recurrence, false) => {
-                let items: Vec<String> = prog.outputs.iter().map(|&i| format!("        {},\n", out_text(i))).collect();
-                o.push_str(&format!("    [\n{}    ]\n", items.concat()));
-            }
-            (_, true) => o.push_str(&format!("    return {};\n", out_text(prog.outputs[0]))),
-            (_, false) => o.push_str(&format!("    {}\n", out_text(prog.outputs[0]))),
+        let text = format!("{lhs} = {}", ratfunc_text(r, f.field.names(), Style::Text));
+        for l in wrap_comment(&format!("{doc}   "), &text, 100) {
+            o.push_str(&l);
+            o.push('\n');
         }
-        o.push_str("}\n");
-        choices.push((f.kind, ch));
     }
-    Ok(Emitted { text: o, choices })
+    o.push_str(&format!("{doc} Source: {}. {}\n", comment_safe(&req.source), counts_line(ch)));
+    o
+}
+
+/// The function's signature (with the recurrence's term count before it) and its opening brace.
+fn signature(req: &CodeRequest<'_>, f: &FunctionSpec<'_>) -> String {
+    let upper = req.prefix.to_ascii_uppercase();
+    let fname = format!("{}_{}", req.prefix, f.kind.suffix());
+    let terms = f.outputs.len();
+    let doc = req.lang.doc();
+    match (req.lang, f.kind) {
+        (Lang::C, FunctionKind::Recurrence) => format!(
+            "#define {upper}_RECURRENCE_TERMS {terms}\nvoid {fname}(double complex n, const double complex p[], double complex c[])\n{{\n"
+        ),
+        (Lang::C, FunctionKind::Q | FunctionKind::Potential) => format!("double complex {fname}(double complex z, const double complex p[])\n{{\n"),
+        (Lang::Rust, FunctionKind::Recurrence) => format!(
+            "pub const {upper}_RECURRENCE_TERMS: usize = {terms};\n\n{doc} Returns the {terms} coefficients c[j] (in the order above).\n#[allow(non_snake_case)]\npub fn {fname}(n: Complex64, p: &[Complex64]) -> [Complex64; {terms}] {{\n"
+        ),
+        (Lang::Rust, FunctionKind::Q | FunctionKind::Potential) => {
+            format!("#[allow(non_snake_case)]\npub fn {fname}(z: Complex64, p: &[Complex64]) -> Complex64 {{\n")
+        }
+    }
+}
+
+/// The function's body: unused arguments discarded, the parameters read,
+/// the temporaries defined, the value returned; and the closing brace.
+fn body(pr: &Printer<'_>, locals: &[String], kind: FunctionKind) -> String {
+    let prog = pr.prog;
+    let arg = kind.argument();
+    let mut o = String::new();
+    let used: Vec<bool> = (0..locals.len() + 1).map(|v| prog.steps.contains(&Step::Var(v))).collect();
+    if !used[0] {
+        o.push_str(&match pr.lang {
+            Lang::C => format!("    (void){arg};\n"),
+            Lang::Rust => format!("    let _ = {arg};\n"),
+        });
+    }
+    if !used[1..].iter().any(|u| *u) {
+        o.push_str(match pr.lang {
+            Lang::C => "    (void)p;\n",
+            Lang::Rust => "    let _ = p;\n",
+        });
+    }
+    for (i, l) in locals.iter().enumerate() {
+        if used[i + 1] {
+            o.push_str(&match pr.lang {
+                Lang::C => format!("    const double complex {l} = p[{i}];\n"),
+                Lang::Rust => format!("    let {l} = p[{i}];\n"),
+            });
+        }
+    }
+    for (i, t) in pr.temps.iter().enumerate() {
+        if let Some(t) = t {
+            let rhs = pr.expr(i, true);
+            o.push_str(&match (pr.lang, pr.is_real(i)) {
+                (Lang::C, _) => format!("    const double complex {t} = {rhs};\n"),
+                (Lang::Rust, true) => format!("    let {t}: f64 = {rhs};\n"),
+                (Lang::Rust, false) => format!("    let {t} = {rhs};\n"),
+            });
+        }
+    }
+    let out_text = |i: usize| -> String {
+        let e = pr.expr(i, true);
+        match (pr.lang, pr.is_real(i)) {
+            (Lang::Rust, true) => format!("Complex64::from({e})"),
+            (Lang::Rust, false) | (Lang::C, _) => e,
+        }
+    };
+    match (kind, pr.lang) {
+        (FunctionKind::Recurrence, Lang::C) => {
+            for (j, &i) in prog.outputs.iter().enumerate() {
+                o.push_str(&format!("    c[{j}] = {};\n", out_text(i)));
+            }
+        }
+        (FunctionKind::Recurrence, Lang::Rust) => {
+            let items: Vec<String> = prog.outputs.iter().map(|&i| format!("        {},\n", out_text(i))).collect();
+            o.push_str(&format!("    [\n{}    ]\n", items.concat()));
+        }
+        (FunctionKind::Q | FunctionKind::Potential, Lang::C) => o.push_str(&format!("    return {};\n", out_text(prog.outputs[0]))),
+        (FunctionKind::Q | FunctionKind::Potential, Lang::Rust) => o.push_str(&format!("    {}\n", out_text(prog.outputs[0]))),
+    }
+    o.push_str("}\n");
+    o
 }
 
 fn grat_doubles(g: &GRat) -> Result<(f64, f64)> {

@@ -5,6 +5,7 @@
 
 mod classify_report;
 pub mod code;
+pub mod diagnostic;
 pub mod latex;
 pub mod numbers;
 pub mod record;
@@ -13,5 +14,5 @@ pub(crate) mod report;
 pub mod scatter;
 pub mod spectrum;
 
-pub use classify_report::{analysis_json, analysis_latex, analysis_text, canonical_json, canonical_text, class_name, BoundaryPicks};
+pub use classify_report::{analysis_json, analysis_latex, analysis_text, canonical_json, canonical_text, class_name, form_name, BoundaryPicks};
 pub use report::{recurrence_latex, reduction_json, reduction_latex, reduction_text, value_latex};

@@ -456,7 +456,7 @@ fn reduction_fields(rec: &mut Record, red: &Reduction) -> Result<()> {
 fn analysis_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result<()> {
     let s = Style::Text;
     let k = &red.field;
-    rec.push("class", &an.class)?;
+    rec.push("class", an.class.id())?;
     rec.push("class.reason", &an.reason)?;
     for (i, n) in an.notes.iter().enumerate() {
         rec.push(format!("class.note[{}]", i + 1), n)?;
@@ -495,7 +495,7 @@ fn analysis_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result<(
     }
     match crate::analysis::canonical(red, an, &crate::analysis::canonical::Choices::default())? {
         Some(c) => {
-            rec.push("canonical.form", &c.form)?;
+            rec.push("canonical.form", c.form.id())?;
             rec.push("canonical.source", &c.source)?;
             rec.push("canonical.map", &c.map)?;
             rec.push("canonical.prefactor", &c.prefactor)?;

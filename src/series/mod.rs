@@ -14,7 +14,7 @@
 use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::{gcd, Field, Int, Poly, Rat, RatFunc, UPoly};
 use crate::analysis::canonical::Choices;
-use crate::analysis::{analyse_equation, Kind, Place};
+use crate::analysis::{analyse_equation, Kind, Place, SingularPoint};
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::{change_variable, normal_q, prefactor, Reduction};
 
@@ -120,29 +120,105 @@ pub fn recurrence(red: &Reduction, about: &str, series: Option<&str>, choices: &
     recurrence_mod(red, about, series, choices, normal, None, &[])
 }
 
+/// An exponent of the unknown known from the original equation at a point
+/// of the rewritten one (a root adjoined as a symbol hides it from the
+/// rewritten analysis).
+#[derive(Clone, Debug)]
+struct KnownExponent {
+    /// The point.
+    at: RatFunc,
+    /// The exponent of the unknown there.
+    rho: RatFunc,
+    /// The point as printed.
+    label: String,
+}
+
+/// The relation F(t) = 0 (monic in the variable `var`) of a root adjoined as a symbol.
+#[derive(Clone, Debug)]
+struct RootRelation {
+    /// The field index of the adjoined root.
+    var: usize,
+    /// F.
+    poly: Poly,
+}
+
+/// The series variable u: its field (variable 0 is u), the Möbius pole z₂
+/// (when finite), the inverse map z = g(u) and its text.
+struct SeriesVariable {
+    field: Field,
+    pole: Option<RatFunc>,
+    inverse: RatFunc,
+    text: String,
+}
+
+/// The prefactor being built: L = (log prefactor)', its factors as text, and
+/// the sum of the finite powers.
+struct PrefactorParts<'a> {
+    z: RatFunc,
+    k: &'a Field,
+    log_derivative: RatFunc,
+    text: Vec<String>,
+    total_power: RatFunc,
+}
+
+impl PrefactorParts<'_> {
+    /// Multiplies by (z − at)^rho; `count` adds rho to the total power.
+    fn add_power(&mut self, at: &RatFunc, rho: &RatFunc, count: bool) -> Result<()> {
+        let k = self.k;
+        if rho.is_zero() {
+            return Ok(());
+        }
+        let zm = k.sub(&self.z, at)?;
+        self.log_derivative = k.add(&self.log_derivative, &k.div(rho, &zm)?)?;
+        if count {
+            self.total_power = k.add(&self.total_power, rho)?;
+        }
+        self.text.push(format!("{}^{}", wrap(rt(k, &zm)), wrap(rt(k, rho))));
+        Ok(())
+    }
+}
+
+fn norm(s: &str) -> String {
+    s.chars().filter(|c| !c.is_whitespace()).collect()
+}
+
+/// The exponent picked at the point printed `label`: the one the user chose,
+/// else an exact zero, else the first exact one.
+fn pick(choices: &Choices, label: &str, values: &[Option<RatFunc>]) -> Option<usize> {
+    let norm_l = norm(label);
+    if let Some((_, c)) = choices.picks.iter().find(|(p, _)| norm(p) == norm_l) {
+        return values.get(c.checked_sub(1)?)?.as_ref().map(|_| c - 1);
+    }
+    values.iter().position(|v| v.as_ref().is_some_and(RatFunc::is_zero)).or_else(|| values.iter().position(Option::is_some))
+}
+
 /// [`recurrence`] whose coefficients are finally reduced modulo a monic
-/// polynomial in one variable (`(index, F)`): the relation F(θ) = 0 of a
+/// polynomial in one variable (`modf`): the relation F(θ) = 0 of a
 /// root θ that was adjoined as a symbol.
 /// With `modf` set, the finite factors of the prefactor are only the
-/// expansion point (its exponent given in `choices.values`) and `extra`
-/// (location, exponent, label): the analysis of the rewritten equation
-/// is trusted only at the expansion point, the pole and infinity.
+/// expansion point (its exponent given in `choices.values`) and `extra`:
+/// the analysis of the rewritten equation is trusted only at the expansion
+/// point, the pole and infinity.
+///
+/// The steps: the expansion point, the series variable, the prefactor
+/// (finite exponents, the branch at ∞, the power at the pole), the
+/// equation for v = unknown / prefactor in u, its recurrence, and the
+/// recurrence normalised.
 fn recurrence_mod(
     red: &Reduction,
     about: &str,
     series: Option<&str>,
     choices: &Choices,
     normal: bool,
-    modf: Option<(usize, Poly)>,
-    extra: &[(RatFunc, RatFunc, String)],
+    modf: Option<RootRelation>,
+    extra: &[KnownExponent],
 ) -> Result<Recurrence> {
     let k = &red.field;
     let zero = RatFunc::zero();
     let (p, q) = if normal { (zero.clone(), red.normal.q.clone()) } else { (red.p.clone(), red.q.clone()) };
     let qn = normal_q(k, &p, &q)?;
     let an = analyse_equation(k, &p, &qn)?;
-    let norm = |s: &str| s.chars().filter(|c| !c.is_whitespace()).collect::<String>();
-    let finite: Vec<(RatFunc, &crate::analysis::SingularPoint)> = an
+    let finite: Vec<(RatFunc, &SingularPoint)> = an
         .points
         .iter()
         .filter_map(|sp| match &sp.place {
@@ -150,6 +226,46 @@ fn recurrence_mod(
             _ => None,
         })
         .collect();
+    let (zh, hp) = expansion_point(k, &finite, about)?;
+    let others: Vec<&(RatFunc, &SingularPoint)> = finite.iter().filter(|(at, _)| *at != zh).collect();
+    let sv = series_variable(red, series, &zh, &others)?;
+    let mut said = Vec::new();
+    let mut pre = PrefactorParts { z: k.var(0), k, log_derivative: RatFunc::zero(), text: Vec::new(), total_power: RatFunc::zero() };
+    for e in extra {
+        said.push(format!("at {} = {}: exponent {} of the unknown (from the original equation)", red.var, e.label, rt(k, &e.rho)));
+        pre.add_power(&e.at, &e.rho, true)?;
+    }
+    finite_powers(red, choices, (&zh, hp), &others, sv.pole.as_ref(), modf.is_some(), &mut pre, &mut said)?;
+    let inf = an.points.iter().find(|sp| matches!(sp.place, Place::Infinity)).expect("infinity is always listed");
+    let (exp_part, inf_power) = infinity_branch(red, &p, inf, choices, &mut said)?;
+    if let Some(z2) = &sv.pole {
+        let sigma = match &inf_power {
+            Some(pw) => k.sub(pw, &pre.total_power)?,
+            None => RatFunc::zero(),
+        };
+        if inf_power.is_some() {
+            said.push(format!("at {} = {}: power {} so that the total power at ∞ is the chosen branch's", red.var, rt(k, z2), rt(k, &sigma)));
+        }
+        pre.add_power(z2, &sigma, false)?;
+    }
+    let mut l = pre.log_derivative;
+    let mut text = pre.text;
+    if !exp_part.is_zero() {
+        l = k.add(&l, &k.deriv(&exp_part, 0)?)?;
+        text.push(format!("exp({})", rt(k, &exp_part)));
+    }
+    // v = unknown / prefactor: p_v = p + 2L, q_v = q + pL + L' + L².
+    let pv = k.add(&p, &k.mul(&rat(2, 1), &l)?)?;
+    let qv = k.add(&k.add(&q, &k.mul(&p, &l)?)?, &k.add(&k.deriv(&l, 0)?, &k.mul(&l, &l)?)?)?;
+    let (kn, ps) = recurrence_polynomials(k, &sv, &pv, &qv)?;
+    let coeffs = normalised(&kn, ps, modf.as_ref())?;
+    let function = if normal { "ψ".to_string() } else { red.ode.unknown.clone() };
+    let prefactor = if text.is_empty() { "1".to_string() } else { text.join("*") };
+    Ok(Recurrence { field: kn, coeffs, prefactor, series: sv.text, choices: said, function })
+}
+
+/// The singular point printed as `about`, which must be regular.
+fn expansion_point<'a>(k: &Field, finite: &[(RatFunc, &'a SingularPoint)], about: &str) -> Result<(RatFunc, &'a SingularPoint)> {
     let Some((zh, hp)) = finite.iter().find(|(at, _)| norm(&rt(k, at)) == norm(about)).cloned() else {
         let list: Vec<String> = finite.iter().map(|(at, _)| rt(k, at)).collect();
         return Err(
@@ -161,27 +277,24 @@ fn recurrence_mod(
             usage(format!("the point {about} is not a regular singular point: a Frobenius-type series does not start there")).in_option("--about")
         );
     }
-    let mut said = Vec::new();
-    let pick = |label: &str, values: &[Option<RatFunc>]| -> Option<usize> {
-        let norm_l = norm(label);
-        if let Some((_, c)) = choices.picks.iter().find(|(p, _)| norm(p) == norm_l) {
-            return values.get(c.checked_sub(1)?)?.as_ref().map(|_| c - 1);
-        }
-        values.iter().position(|v| v.as_ref().is_some_and(RatFunc::is_zero)).or_else(|| values.iter().position(Option::is_some))
-    };
-    // The series variable u and its inverse z = g(u).
-    let others: Vec<&(RatFunc, &crate::analysis::SingularPoint)> = finite.iter().filter(|(at, _)| *at != zh).collect();
+    Ok((zh, hp))
+}
+
+/// The series variable: the one given as text, else u = (z − z_h)/(z − z₂)
+/// when there is exactly one other finite singular point z₂, else u = z − z_h.
+fn series_variable(red: &Reduction, series: Option<&str>, zh: &RatFunc, others: &[&(RatFunc, &SingularPoint)]) -> Result<SeriesVariable> {
+    let k = &red.field;
     let mut unames = k.names().to_vec();
     let u = crate::ode::fresh_name("u", &unames);
     unames[0] = u.clone();
     let ku = Field::new(unames, k.limits().clone())?;
-    let (z2, g, series_text) = match series {
+    let (pole, inverse, text) = match series {
         Some(text) => {
-            let (z2, g) = parse_mobius(red, text, &zh)?;
+            let (z2, g) = parse_mobius(red, text, zh)?;
             (z2, g, text.to_string())
         }
         None => {
-            let z2 = match others.as_slice() {
+            let z2 = match others {
                 [(z2, _)] => Some(z2.clone()),
                 _ => None,
             };
@@ -189,48 +302,49 @@ fn recurrence_mod(
             match &z2 {
                 Some(z2) => {
                     // u = (z − z_h)/(z − z₂)  ⇔  z = (z_h − z₂ u)/(1 − u)
-                    let g = ku.div(&ku.sub(&zh, &ku.mul(z2, &uu)?)?, &ku.sub(&RatFunc::one(), &uu)?)?;
+                    let g = ku.div(&ku.sub(zh, &ku.mul(z2, &uu)?)?, &ku.sub(&RatFunc::one(), &uu)?)?;
                     let sh = |at: &RatFunc| crate::algebra::print::shifted(&red.var, &rt(k, at), Style::Text);
-                    (Some(z2.clone()), g, format!("{u} = {}/{}", sh(&zh), sh(z2)))
+                    (Some(z2.clone()), g, format!("{u} = {}/{}", sh(zh), sh(z2)))
                 }
-                None => (None, ku.add(&zh, &uu)?, format!("{u} = {}", crate::algebra::print::shifted(&red.var, &rt(k, &zh), Style::Text))),
+                None => (None, ku.add(zh, &uu)?, format!("{u} = {}", crate::algebra::print::shifted(&red.var, &rt(k, zh), Style::Text))),
             }
         }
     };
-    // The prefactor: exponents at z_h and at other regular points (not z₂), exponential at ∞.
-    let z = k.var(0);
-    let mut l = RatFunc::zero();
-    let mut text = Vec::new();
-    let mut total_power = RatFunc::zero();
-    let add_power = |k: &Field, at: &RatFunc, rho: &RatFunc, l: &mut RatFunc, text: &mut Vec<String>, total: &mut RatFunc| -> Result<()> {
-        if rho.is_zero() {
-            return Ok(());
-        }
-        let zm = k.sub(&z, at)?;
-        *l = k.add(l, &k.div(rho, &zm)?)?;
-        *total = k.add(total, rho)?;
-        text.push(format!("{}^{}", wrap(rt(k, &zm)), wrap(rt(k, rho))));
-        Ok(())
-    };
-    for (at, rho, label) in extra {
-        said.push(format!("at {} = {label}: exponent {} of the unknown (from the original equation)", red.var, rt(k, rho)));
-        add_power(k, at, rho, &mut l, &mut text, &mut total_power)?;
-    }
-    for (at, sp) in std::iter::once(&(zh.clone(), hp)).chain(others.iter().copied()) {
-        if modf.is_some() && *at != zh {
+    Ok(SeriesVariable { field: ku, pole, inverse, text })
+}
+
+/// The prefactor's powers at the expansion point and at the other finite
+/// regular points (not the pole; with an adjoined root only the expansion
+/// point): the exponent given, or the one picked.
+#[allow(clippy::too_many_arguments)]
+fn finite_powers(
+    red: &Reduction,
+    choices: &Choices,
+    here: (&RatFunc, &SingularPoint),
+    others: &[&(RatFunc, &SingularPoint)],
+    pole: Option<&RatFunc>,
+    only_here: bool,
+    pre: &mut PrefactorParts<'_>,
+    said: &mut Vec<String>,
+) -> Result<()> {
+    let k = &red.field;
+    let (zh, hp) = here;
+    let first = (zh.clone(), hp);
+    for (at, sp) in std::iter::once(&first).chain(others.iter().copied()) {
+        if only_here && at != zh {
             continue;
         }
-        if z2.as_ref() == Some(at) || (sp.kind != Kind::Regular && *at != zh) {
+        if pole == Some(at) || (sp.kind != Kind::Regular && at != zh) {
             continue;
         }
         let label = rt(k, at);
         if let Some((_, v)) = choices.values.iter().find(|(p, _)| norm(p) == norm(&label)) {
             said.push(format!("at {} = {label}: exponent {} (given)", red.var, rt(k, v)));
-            add_power(k, at, v, &mut l, &mut text, &mut total_power)?;
+            pre.add_power(at, v, true)?;
             continue;
         }
         let values: Vec<Option<RatFunc>> = sp.unknown_exponents.iter().map(|e| e.exact_value(k)).collect();
-        let Some(i) = pick(&label, &values) else {
+        let Some(i) = pick(choices, &label, &values) else {
             return Err(usage(format!(
                 "the exponents at {} = {label} are not exact; choose the point's exponent with --exponents or expand elsewhere",
                 red.var
@@ -238,82 +352,89 @@ fn recurrence_mod(
         };
         let rho = values[i].clone().expect("picked exact");
         said.push(format!("at {} = {label}: exponent {} (number {})", red.var, rt(k, &rho), i + 1));
-        add_power(k, at, &rho, &mut l, &mut text, &mut total_power)?;
+        pre.add_power(at, &rho, true)?;
     }
-    let inf = an.points.iter().find(|sp| matches!(sp.place, Place::Infinity)).expect("infinity is always listed");
-    let mut exp_part = RatFunc::zero();
-    let mut inf_power: Option<RatFunc> = None;
-    if inf.kind == Kind::Irregular {
-        let pf = prefactor(k, &p)?;
-        let ep = crate::analysis::canonical::poly_exp(k, &pf.exponential)?;
-        let p1 = crate::analysis::p_at_infinity_pub(k, &p)?;
-        let mut cands = Vec::new();
-        for f in &inf.formal {
-            if f.exponent.iter().any(|(pw, _)| !pw.is_integer()) {
-                return Err(usage("the formal solutions at ∞ are ramified (half-integer rank): no Jaffé-type prefactor"));
+    Ok(())
+}
+
+/// The branch at ∞: for an irregular ∞ the chosen formal solution's
+/// exponential part and the unknown's power there; for a regular ∞ the
+/// power z^(−ρ∞) of the chosen exponent.
+fn infinity_branch(
+    red: &Reduction,
+    p: &RatFunc,
+    inf: &SingularPoint,
+    choices: &Choices,
+    said: &mut Vec<String>,
+) -> Result<(RatFunc, Option<RatFunc>)> {
+    let k = &red.field;
+    let z = k.var(0);
+    match inf.kind {
+        Kind::Irregular => {
+            let pf = prefactor(k, p)?;
+            let ep = crate::analysis::canonical::poly_exp(k, &pf.exponential)?;
+            let p1 = crate::analysis::p_at_infinity_pub(k, p)?;
+            let mut cands = Vec::new();
+            for f in &inf.formal {
+                if f.exponent.iter().any(|(pw, _)| !pw.is_integer()) {
+                    return Err(usage("the formal solutions at ∞ are ramified (half-integer rank): no Jaffé-type prefactor"));
+                }
+                let mut e = ep.clone();
+                for (pw, c) in &f.exponent {
+                    let n =
+                        pw.numer().to_i64().ok_or_else(|| Error::new(ErrorKind::Limit, "a power of the formal solution's exponent is too large"))?;
+                    e = k.add(&e, &k.mul(c, &k.pow(&z, n)?)?)?;
+                }
+                // The unknown's power at ∞: ρ_ψ − p₁/2.
+                let rho = k.sub(&f.rho, &k.mul(&rat(1, 2), &p1)?)?;
+                cands.push((e, rho));
             }
-            let mut e = ep.clone();
-            for (pw, c) in &f.exponent {
-                let n = pw.numer().to_i64().ok_or_else(|| Error::new(ErrorKind::Limit, "a power of the formal solution's exponent is too large"))?;
-                e = k.add(&e, &k.mul(c, &k.pow(&z, n)?)?)?;
-            }
-            // The unknown's power at ∞: ρ_ψ − p₁/2.
-            let rho = k.sub(&f.rho, &k.mul(&rat(1, 2), &p1)?)?;
-            cands.push((e, rho));
+            let vals: Vec<Option<RatFunc>> = cands.iter().map(|(e, _)| Some(e.clone())).collect();
+            let Some(i) = pick(choices, "∞", &vals).or_else(|| pick(choices, "inf", &vals)) else {
+                return Err(usage("the formal solutions at ∞ have no exact leading coefficient"));
+            };
+            let (e, rho) = cands[i].clone();
+            said.push(format!("at {} = ∞: the branch exp({})*{}^{} (number {})", red.var, rt(k, &e), red.var, wrap(rt(k, &rho)), i + 1));
+            Ok((e, Some(rho)))
         }
-        let vals: Vec<Option<RatFunc>> = cands.iter().map(|(e, _)| Some(e.clone())).collect();
-        let Some(i) = pick("∞", &vals).or_else(|| pick("inf", &vals)) else {
-            return Err(usage("the formal solutions at ∞ have no exact leading coefficient"));
-        };
-        let (e, rho) = cands[i].clone();
-        said.push(format!("at {} = ∞: the branch exp({})*{}^{} (number {})", red.var, rt(k, &e), red.var, wrap(rt(k, &rho)), i + 1));
-        exp_part = e;
-        inf_power = Some(rho);
-    } else if inf.kind == Kind::Regular {
-        // y ~ z^(−ρ∞) for the chosen exponent ρ∞ at infinity (in t = 1/z).
-        let values: Vec<Option<RatFunc>> = inf.unknown_exponents.iter().map(|e| e.exact_value(k)).collect();
-        if let Some(i) = pick("∞", &values) {
-            let rho = values[i].clone().expect("picked exact");
-            said.push(format!("at {} = ∞: exponent {} in 1/{} (number {})", red.var, rt(k, &rho), red.var, i + 1));
-            inf_power = Some(k.neg(&rho));
+        Kind::Regular => {
+            // y ~ z^(−ρ∞) for the chosen exponent ρ∞ at infinity (in t = 1/z).
+            let values: Vec<Option<RatFunc>> = inf.unknown_exponents.iter().map(|e| e.exact_value(k)).collect();
+            let power = match pick(choices, "∞", &values) {
+                Some(i) => {
+                    let rho = values[i].clone().expect("picked exact");
+                    said.push(format!("at {} = ∞: exponent {} in 1/{} (number {})", red.var, rt(k, &rho), red.var, i + 1));
+                    Some(k.neg(&rho))
+                }
+                None => None,
+            };
+            Ok((RatFunc::zero(), power))
         }
+        Kind::Ordinary => Ok((RatFunc::zero(), None)),
     }
-    if let Some(z2) = &z2 {
-        let sigma = match &inf_power {
-            Some(pw) => k.sub(pw, &total_power)?,
-            None => RatFunc::zero(),
-        };
-        if inf_power.is_some() {
-            said.push(format!("at {} = {}: power {} so that the total power at ∞ is the chosen branch's", red.var, rt(k, z2), rt(k, &sigma)));
-        }
-        let mut dummy = RatFunc::zero();
-        add_power(k, z2, &sigma, &mut l, &mut text, &mut dummy)?;
-    }
-    if !exp_part.is_zero() {
-        l = k.add(&l, &k.deriv(&exp_part, 0)?)?;
-        text.push(format!("exp({})", rt(k, &exp_part)));
-    }
-    // v = unknown / prefactor: p_v = p + 2L, q_v = q + pL + L' + L².
-    let pv = k.add(&p, &k.mul(&rat(2, 1), &l)?)?;
-    let qv = k.add(&k.add(&q, &k.mul(&p, &l)?)?, &k.add(&k.deriv(&l, 0)?, &k.mul(&l, &l)?)?)?;
-    let (pu, qu) = change_variable(&ku, &pv, &qv, &g)?;
-    // Clear denominators: A v'' + B v' + C v = 0 with A, B, C polynomials in u.
+}
+
+/// The equation v'' + p_v v' + q_v v = 0 in u, cleared to A v'' + B v' + C v = 0
+/// with A, B, C polynomials in u, and the recurrence's polynomials
+/// P_s(m) = A_s (m+2−s)(m+1−s) + B_{s−1}(m+2−s) + C_{s−2} in a field whose
+/// variable 0 is the index.
+fn recurrence_polynomials(k: &Field, sv: &SeriesVariable, pv: &RatFunc, qv: &RatFunc) -> Result<(Field, Vec<RatFunc>)> {
+    let ku = &sv.field;
+    let (pu, qu) = change_variable(ku, pv, qv, &sv.inverse)?;
     let (dp, dq) = (den_in_var(&pu), den_in_var(&qu));
     let gg = gcd(&dp, &dq).ok_or_else(|| Error::new(ErrorKind::Limit, "a gcd in the series variable grew too large"))?;
     let a = dp.mul(&dq.div_exact(&gg).ok_or_else(|| Error::new(ErrorKind::Internal, "gcd does not divide"))?);
     let au = UPoly::from_poly(&a);
-    let bu = upoly_times(&ku, &pu, &a)?;
-    let cu = upoly_times(&ku, &qu, &a)?;
-    // P_s(m) = A_s (m+2−s)(m+1−s) + B_{s−1}(m+2−s) + C_{s−2}.
+    let bu = upoly_times(ku, &pu, &a)?;
+    let cu = upoly_times(ku, &qu, &a)?;
     let smax = [au.coeffs.len(), bu.coeffs.len() + 1, cu.coeffs.len() + 2].into_iter().max().unwrap_or(0);
     let mut names = k.names().to_vec();
     names[0] = crate::ode::fresh_name("n", &names);
     let kn = Field::new(names, k.limits().clone())?;
-    let nvar = kn.var(0);
-    let mut ps: Vec<(usize, RatFunc)> = Vec::new();
+    let m = kn.var(0);
+    let mut ps = Vec::new();
     for s in 0..smax {
-        // m = n − 1 + s_min is substituted below; build P_s as a function of m first.
-        let m = nvar.clone();
+        // m = n − 1 + s_min is substituted later; P_s is built as a function of m first.
         let lin = |c: i64| kn.add(&m, &RatFunc::rat(&Rat::int(c.into())));
         let mut t = RatFunc::zero();
         let a_s = au.coeff(s);
@@ -332,31 +453,39 @@ fn recurrence_mod(
                 t = kn.add(&t, &c)?;
             }
         }
-        ps.push((s, t));
+        ps.push(t);
     }
+    Ok((kn, ps))
+}
+
+/// The recurrence's coefficients from the P_s: parameter denominators
+/// cleared, reduced modulo the root's relation, the vanishing ends dropped,
+/// re-indexed so that the first multiplies a_{n+1}, and divided by their
+/// integer content and by a common factor of the parameters alone.
+fn normalised(kn: &Field, ps: Vec<RatFunc>, modf: Option<&RootRelation>) -> Result<Vec<RatFunc>> {
     // Clear parameter denominators (common to all P_s), then reduce modulo
     // the root's relation, before deciding which coefficients vanish.
     let mut lden = Poly::int(1);
-    for (_, c) in &ps {
+    for c in &ps {
         let d = c.den_expanded().mul_int(c.scale());
         let g = gcd(&lden, &d).ok_or_else(|| Error::new(ErrorKind::Limit, "a gcd grew too large"))?;
         lden = lden.mul(&d.div_exact(&g).ok_or_else(|| Error::new(ErrorKind::Internal, "gcd does not divide"))?);
     }
     let lr = RatFunc::from_poly(lden);
-    let mut ps: Vec<(usize, RatFunc)> = ps.into_iter().map(|(s, c)| Ok((s, kn.mul(&c, &lr)?))).collect::<Result<_>>()?;
-    if let Some((t, f)) = &modf {
-        for (_, c) in ps.iter_mut() {
-            *c = RatFunc::from_poly(rem_monic(c.num(), *t, f)?);
+    let mut ps: Vec<RatFunc> = ps.iter().map(|c| kn.mul(c, &lr)).collect::<Result<_>>()?;
+    if let Some(rel) = modf {
+        for c in ps.iter_mut() {
+            *c = RatFunc::from_poly(rem_monic(c.num(), rel.var, &rel.poly)?);
         }
     }
-    let Some(smin) = ps.iter().position(|(_, t)| !t.is_zero()) else {
+    let Some(smin) = ps.iter().position(|t| !t.is_zero()) else {
         return Err(Error::new(ErrorKind::Internal, "the recurrence is empty"));
     };
-    let slast = ps.iter().rposition(|(_, t)| !t.is_zero()).expect("nonempty");
+    let slast = ps.iter().rposition(|t| !t.is_zero()).expect("nonempty");
     // Re-index: m = n − 1 + s_min, so the first coefficient multiplies a_{n+1}.
-    let shift = kn.add(&nvar, &RatFunc::rat(&Rat::int((smin as i64 - 1).into())))?;
+    let shift = kn.add(&kn.var(0), &RatFunc::rat(&Rat::int((smin as i64 - 1).into())))?;
     let mut coeffs = Vec::new();
-    for (_, t) in &ps[smin..=slast] {
+    for t in &ps[smin..=slast] {
         coeffs.push(kn.compose(t, 0, &shift)?);
     }
     let content = coeffs.iter().fold(Int::ZERO, |g, c| g.gcd(&c.num().content_int()));
@@ -382,16 +511,14 @@ fn recurrence_mod(
                 }
             }
         }
-        let adjoined = modf.as_ref().is_some_and(|(t, _)| g.uses_var(*t));
+        let adjoined = modf.is_some_and(|rel| g.uses_var(rel.var));
         if (1..crate::algebra::MAX_VARS).any(|i| g.uses_var(i)) && !g.uses_var(0) && !adjoined {
             if let Some(divided) = coeffs.iter().map(|c| c.num().div_exact(&g).map(RatFunc::from_poly)).collect::<Option<Vec<_>>>() {
                 coeffs = divided;
             }
         }
     }
-    let function = if normal { "ψ".to_string() } else { red.ode.unknown.clone() };
-    let prefactor = if text.is_empty() { "1".to_string() } else { text.join("*") };
-    Ok(Recurrence { field: kn, coeffs, prefactor, series: series_text, choices: said, function })
+    Ok(coeffs)
 }
 
 /// Reads `u=EXPR` with EXPR a Möbius expression in the variable that vanishes
@@ -596,7 +723,7 @@ pub fn recurrence_at_root(red: &Reduction, f: &Poly, rho: &UPoly, theta_name: &s
             if let Some(i) = pick {
                 let rho = values[i].clone().expect("picked exact");
                 if !rho.is_zero() {
-                    extra.push((at.clone(), rho, rt(k, at)));
+                    extra.push(KnownExponent { at: at.clone(), rho, label: rt(k, at) });
                 }
             }
         }
@@ -607,7 +734,7 @@ pub fn recurrence_at_root(red: &Reduction, f: &Poly, rho: &UPoly, theta_name: &s
     let series = format!("u=({} - ({here}))/({} - ({other}))", red.var, red.var);
     let phi = Poly::var(t);
     let relation = phi.pow(2).add(&fu[1].mul(&phi)).add(&fu[0].mul(&fu[2]));
-    let modf = Some((t, relation));
+    let modf = Some(RootRelation { var: t, poly: relation });
     recurrence_mod(&red2, &label, Some(&series), &ch, false, modf, &extra)
 }
 

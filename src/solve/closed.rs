@@ -164,7 +164,7 @@ pub fn derive(k: &Field, q: &RatFunc, freq: usize, values: &[GRat], ends: &[EndP
         }
     }
     let an = plain;
-    let heun = an.class.contains("heun");
+    let heun = an.class.is_heun();
     let first = reasons.first().cloned().unwrap_or_else(|| "no route applies".into());
     Ok(Outcome::NotClosed(if heun {
         format!("{} class ({}): the connection problem between the ends is Heun's, with no Gamma-function closed form; {first}", an.class, an.reason)

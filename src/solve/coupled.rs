@@ -178,7 +178,7 @@ pub fn try_angular(red: &Reduction, known: &[Option<GRat>], linked: &[usize], in
         Place::Roots(_) => "θ".to_string(),
         Place::Infinity => "∞".to_string(),
     };
-    let (picks, said) = boundary_choices(&an, None, Boundary::Bound, &values, text);
+    let crate::analysis::labels::ExponentPicks { picks, said } = boundary_choices(k, &an, None, Boundary::Bound, &values, text)?;
     let vals = crate::analysis::numeric::Values::new(values.clone());
     let mut ends: Vec<(f64, String)> = an
         .points

@@ -9,7 +9,7 @@ use super::cf::{find_root, try_numeric, CfRoot, StopReason};
 use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::{GRat, Rat};
 use crate::analysis::canonical::Choices;
-use crate::analysis::labels::{boundary_choices, label, Boundary};
+use crate::analysis::labels::{boundary_choices, label, Boundary, ExponentPicks};
 use crate::analysis::{analyse, Kind, Place};
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::Reduction;
@@ -162,13 +162,13 @@ pub fn qnm_choice(red: &Reduction, an: &crate::analysis::Analysis, opts: &Spectr
     let k = &red.field;
     let mut point = opts.values.clone();
     point[opts.freq] = GRat::real(Rat::new(1.into(), 2.into()).expect("nonzero"));
-    let labels = label(an, opts.freq, &point, true);
+    let labels = label(k, an, opts.freq, &point, true)?;
     let text = |p: &crate::analysis::SingularPoint| match &p.place {
         Place::Point { at, .. } => ratfunc_text(at, k.names(), Style::Text),
         Place::Roots(_) => "θ".to_string(),
         Place::Infinity => "∞".to_string(),
     };
-    let (picks, said) = boundary_choices(an, Some(&labels), Boundary::Qnm, &point, text);
+    let ExponentPicks { picks, said } = boundary_choices(k, an, Some(&labels), Boundary::Qnm, &point, text)?;
     // The outermost labelled regular point with an exact location.
     let vals = crate::analysis::numeric::Values::new(point.clone());
     let mut best: Option<(f64, String)> = None;

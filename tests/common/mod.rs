@@ -51,14 +51,14 @@ impl Rng {
 /// binary does) and returns what it printed; `None` when it did not finish
 /// within `bound` (a hang detector, not a timing assertion: the bound is
 /// generous). A panic is re-raised with the arguments.
-pub fn run_bounded(args: &[&str], bound: std::time::Duration) -> Option<canonode::cli::Captured> {
+pub fn run_bounded(args: &[&str], bound: std::time::Duration) -> Option<canonode::command::Captured> {
     let mut argv: Vec<std::ffi::OsString> = vec!["canonode".into()];
     argv.extend(args.iter().map(|a| std::ffi::OsString::from(*a)));
     let (tx, rx) = std::sync::mpsc::channel();
     let handle = std::thread::Builder::new()
         .stack_size(256 << 20)
         .spawn(move || {
-            let _ = tx.send(canonode::cli::run_captured(argv));
+            let _ = tx.send(canonode::command::run_captured(argv));
         })
         .expect("a worker thread");
     match rx.recv_timeout(bound) {

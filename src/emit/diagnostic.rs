@@ -1,7 +1,8 @@
 //! Turns a library error into the text a user sees: where it is (name, line,
 //! column), what went wrong, the source line with carets under the offending
-//! text, and any help notes. The library only records byte spans; everything
-//! about lines, columns and display lives here.
+//! text, and any help notes. Errors only record byte spans; everything about
+//! lines, columns and display lives here, shared by the command line and the
+//! Python package.
 
 use crate::error::Error;
 use std::fmt::Write;
