@@ -599,7 +599,7 @@ fn modes_at(red: &Reduction, sub: Option<&Reduction>, rec: &Recurrence, setup: S
 /// indices) kept symbolic, and at each point only made numeric — the
 /// exact substitution and derivation at every point were most of a
 /// survey's time. A point where that derivation would not be the one of
-/// the point itself ([`Symbolic::at`]: a singular point moves onto
+/// the point itself (`Symbolic::at`: a singular point moves onto
 /// another, a quadratic factor splits over Q, a numerator cancels a
 /// pole, other exponent or horizon picks) is solved exactly as
 /// [`single_point`] does, and so is every point when the symbolic
