@@ -4,7 +4,7 @@
 //! against the last varied parameter) or, for a two-parameter grid, as
 //! colour maps of Re ω and Im ω; a spectrum's modes in the complex plane;
 //! the curves of a scattering run. Every legend is drawn in a strip below
-//! the charts ([`with_legend`]), never over the data.
+//! the charts (`with_legend`), never over the data.
 
 use super::scan::ScanPoint;
 use super::spectrum::Mode;
