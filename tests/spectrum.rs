@@ -1191,3 +1191,48 @@ fn spectrum_plots_the_modes_in_the_complex_plane() {
     assert!(err.contains("--plot") && err.contains("SVG or PNG") && doc.is_null(), "{err}");
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn quasi_bound_mode_functions_between_the_ends_by_both_methods() {
+    // A massive scalar's quasi-bound ground state (M = 1, μ = 0.1, l = 0) is
+    // hydrogen-like far out: ψ ∝ r e^(−qr) with q = √(μ² − ω²), whose modulus
+    // peaks at r = 1/q (the hydrogen 1s radial function u = rR, Landau &
+    // Lifshitz §36, from memory; the horizon shifts it by O(M)). The function
+    // from direct integration's value and from the collocation root's value
+    // agree to 1e-8 relative to max |ψ|.
+    let dir = std::env::temp_dir().join(format!("canonode-qb-functions-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("qb.json");
+    let p = path.to_string_lossy().to_string();
+    let (v, code, err) = run(&[
+        "spectrum",
+        "tests/boundary/massive_scalar_schwarzschild.ode",
+        "--at",
+        "M=1,mu=0.1,l=0",
+        "--boundary",
+        "quasi-bound",
+        "--mode-functions",
+        &p,
+        "--mode-reach",
+        "300",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let f = &v["mode_functions"]["modes"][0];
+    assert_eq!(f["check"]["method"], "collocation", "{f}");
+    assert!(f["largest_difference"].as_f64().unwrap() < 1e-8, "{f}");
+    let (re, im) = omega(&v["modes"][0]);
+    let q = (num_complex::Complex64::new(0.01, 0.0) - num_complex::Complex64::new(re, im).powi(2)).sqrt().re;
+    let file: Value = serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
+    let pts = file["modes"][0]["points"].as_array().unwrap();
+    let peak = pts.iter().map(|p| (p[0].as_f64().unwrap(), p[1].as_f64().unwrap().hypot(p[2].as_f64().unwrap()))).fold((0.0, 0.0), |a, b| {
+        if b.1 > a.1 {
+            b
+        } else {
+            a
+        }
+    });
+    assert!((peak.0 - 1.0 / q).abs() < 0.1 / q, "peak at r = {} against 1/q = {}", peak.0, 1.0 / q);
+    let _ = std::fs::remove_dir_all(&dir);
+}

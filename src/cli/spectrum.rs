@@ -235,7 +235,7 @@ pub(crate) struct SpectrumArgs {
     /// SVG or PNG by the extension: one colour per overtone, the second method's function as points on the first's line.
     #[arg(long = "mode-plot", value_name = "FILE.svg|FILE.png")]
     pub(crate) mode_plot: Option<String>,
-    /// With --mode-functions or --mode-plot for quasinormal modes: how far from the horizon to sample (default 20 times its distance to the next singular point).
+    /// With --mode-functions or --mode-plot for quasinormal modes and modes between the ends: how far from the horizon (the left end) to sample (default 20 times its distance to the next singular point; at most 98 % of the way to a finite right end).
     #[arg(long = "mode-reach", value_name = "DISTANCE")]
     pub(crate) mode_reach: Option<f64>,
 }

@@ -201,6 +201,7 @@ pub fn method_words(tag: &str) -> &'static str {
         "integrate" => "direct integration",
         "shooting" => "shooting",
         "collocation" => "collocation",
+        "spectral" => "global spectral method",
         _ => "another method",
     }
 }

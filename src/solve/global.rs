@@ -219,6 +219,13 @@ fn finite_pick(bp: &BoundaryProblem, z0: f64, cond: Condition, w: Complex64) -> 
     }
 }
 
+/// The exponent chosen at the (finite) left end at ω, whatever its
+/// dependence on ω; `None` where it cannot be evaluated.
+pub(crate) fn left_exponent(bp: &BoundaryProblem, w: Complex64) -> Option<Complex64> {
+    let Location::At(a) = bp.ends[0].location else { return None };
+    finite_pick(bp, a, bp.ends[0].condition, w)
+}
+
 /// The exponent at a finite end z₀ obeying `cond`, affine in ω (fitted
 /// and checked at a third frequency, as [`factors`] does).
 pub(crate) fn end_exponent(bp: &BoundaryProblem, z0: f64, cond: Condition) -> Result<Affine> {

@@ -193,7 +193,12 @@ pub fn horizon_mode_function(ode: &NumOde, horizon: f64, rho: Complex64, w: Comp
     roots.push(Complex64::new(horizon, 0.0));
     let near = if h.d.is_finite() { p.start_fraction * h.d } else { reach };
     let mut out = Vec::with_capacity(points);
+    // Samples beyond the series' reach continue from its value at that reach.
     let mut last: Option<(f64, (Complex64, Complex64))> = None;
+    if reach.abs() > near {
+        let x0 = horizon + near.copysign(reach);
+        last = Some((x0, integrate::frobenius(&h, rho, x0 - horizon)?));
+    }
     let mut steps = 0;
     for i in 1..=points {
         let x = horizon + reach * i as f64 / points as f64;

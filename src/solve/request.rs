@@ -174,7 +174,7 @@ pub struct ModeFunction {
 /// A function by one method.
 #[derive(Debug)]
 pub struct MethodFunction {
-    /// The method, as a tag: "cf", "terminating", "integrate", "shooting" or "collocation".
+    /// The method, as a tag: "cf", "terminating", "integrate", "shooting", "collocation" or "spectral".
     pub method: &'static str,
     /// The eigenvalue (or frequency) it was computed at.
     pub value: Complex64,
@@ -803,7 +803,9 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
             Err(e) if e.kind == ErrorKind::Usage && problem.is_ok() && req.method == Method::Auto => {
                 let bp = problem?;
                 let note = format!("the continued fraction could not be set up ({}); direct integration between the ends instead", e.message);
-                return Ok(done(Body::Ends(between_ends(bp, req, &opts, Some(note))), None, None));
+                let report = between_ends(bp, req, &opts, Some(note));
+                let f = ends_functions(req, &report);
+                return Ok(done(Body::Ends(report), f, None));
             }
             Err(e) => return Err(e),
             Ok((body, f)) => return Ok(done(body, f, ends)),
@@ -816,7 +818,42 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
     if kind == SpectrumKind::Bound && bp.ends.iter().any(|e| e.nature == super::boundary::Nature::Horizon) {
         return Err(usage("a bound-state problem between given ends cannot end at a horizon (its exponents depend on the eigenvalue): use --boundary qnm or quasi-bound").in_option("--ends"));
     }
-    Ok(done(Body::Ends(between_ends(bp, req, &opts, None)), None, None))
+    let report = between_ends(bp, req, &opts, None);
+    let f = ends_functions(req, &report);
+    Ok(done(Body::Ends(report), f, None))
+}
+
+/// The mode functions of modes found between the ends, when asked for: the
+/// normal form's ψ from the left end's Frobenius series with the chosen
+/// exponent and unit leading coefficient, continued along the real axis (up
+/// to 98 % of the way to a finite right end); the second method's function
+/// at its own value where its check has one.
+fn ends_functions(req: &SpectrumRequest, r: &EndsReport) -> Option<ModeFunctions> {
+    let reach = req.mode_functions?;
+    let bp = &r.problem;
+    let super::boundary::Location::At(a) = bp.ends[0].location else { return None };
+    let reach = match bp.ends[1].location {
+        super::boundary::Location::At(b) => Some(reach.map_or(0.98 * (b - a), |d| d.min(0.98 * (b - a)))),
+        super::boundary::Location::Infinity => reach,
+    };
+    let at = |method: &'static str, w: Complex64| MethodFunction {
+        method,
+        value: w,
+        samples: super::global::left_exponent(bp, w)
+            .ok_or_else(|| "the exponent at the left end could not be evaluated".to_string())
+            .and_then(|rho| super::modefn::horizon_mode_function(&bp.ode, a, rho, w, reach, 400)),
+    };
+    let modes = r
+        .modes
+        .iter()
+        .zip(&r.checks)
+        .filter(|(m, _)| m.root.converged)
+        .map(|(m, c)| {
+            let second = c.as_ref().and_then(|c| c.omega.map(|w| at(c.method.tag(), w)));
+            ModeFunction::new(m.n, at(ModeMethod::Integrate.tag(), m.root.omega), second)
+        })
+        .collect();
+    Some(ModeFunctions { normalisation: "the normal form's ψ, with unit leading coefficient of its Frobenius series at the left end", modes })
 }
 
 /// The boundary problem of a (substituted) reduction, and whether the exact
@@ -964,6 +1001,9 @@ fn spectral_checks(bp: &BoundaryProblem, modes: &[EndMode]) -> (Vec<Option<Spect
     if found.is_empty() {
         return (modes.iter().map(|_| None).collect(), "no mode converged: no second method ran".into());
     }
+    if let Err(e) = super::global::factors(bp) {
+        return collocation_checks(bp, modes, &e.message);
+    }
     let pad = 0.25 * found.iter().map(|w| w.norm()).fold(bp.scale, f64::max);
     let (re0, re1) = found.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), w| (a.min(w.re), b.max(w.re)));
     let (im0, im1) = found.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), w| (a.min(w.im), b.max(w.im)));
@@ -973,9 +1013,6 @@ fn spectral_checks(bp: &BoundaryProblem, modes: &[EndMode]) -> (Vec<Option<Spect
     let region = Region { re: (re0 - pad, re1 + pad), im: (im0 - pad, top) };
     // The coarser grid first: kept when it has an eigenvalue near every
     // converged mode, else the finer one decides.
-    if let Err(e) = super::global::factors(bp) {
-        return collocation_checks(bp, modes, &e.message);
-    }
     let mut sp = None;
     for n in SEED_GRIDS {
         let s = match spectral_in(bp, region, n, DEFAULT_PERSIST) {
