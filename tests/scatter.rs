@@ -279,3 +279,18 @@ fn coupled_sum_tends_to_the_schwarzschild_cross_section() {
         }
     }
 }
+
+#[test]
+fn an_accidentally_vanishing_asymptotic_term_does_not_stop_the_series() {
+    // Regge–Wheeler s = 0, l = 1, M = 1: at ω = 1/2 one term of the asymptotic series at infinity
+    // vanishes exactly (and nearly so next to it). The series used to stop there, which left
+    // |T|² off by 6e-7 at ω = 0.5 (matching change 8.7e-7) and failed outright at 0.4999999.
+    // `points` asserts the flux identity and a settled matching point at each frequency; |T|²
+    // must also be smooth across the point (its neighbours' mean to 1e-9).
+    let t = |w: &str| {
+        let p = points(&["scatter", "samples/regge_wheeler.ode", "--at", "M=1,s=0,l=1", "--omega", &format!("{w}:{w}:1")]);
+        f(&p[0], "transmission")
+    };
+    let (lo, mid, hi) = (t("0.4999999"), t("0.5"), t("0.5000001"));
+    assert!((mid - 0.5 * (lo + hi)).abs() < 1e-9, "|T|² {lo} {mid} {hi}");
+}

@@ -459,9 +459,17 @@ impl Far {
             }
             terms.push(tm);
             sum += tm;
-            best = best.min(tm.norm());
-            // Converged outright, or clearly past the smallest term.
-            if tm.norm() <= TERM_EPS * sum.norm() || tm.norm() > 1e3 * best {
+            // The smallest term is judged by windows of `span` terms, as the
+            // cut below is: a term that nearly vanishes by accident at this ω
+            // (a factor of the recursion passing through zero) is not the
+            // turn of the series, and stopping there would leave the
+            // truncation error of the terms after it unseen.
+            let window = terms[terms.len().saturating_sub(span)..].iter().map(|x| x.norm()).fold(0.0, f64::max);
+            best = best.min(window);
+            // Converged outright (a whole window negligible: one zero term
+            // of a recursion of several terms is not the end of the series),
+            // or clearly past the smallest term.
+            if window <= TERM_EPS * sum.norm() || tm.norm() > 1e3 * best {
                 break;
             }
         }
