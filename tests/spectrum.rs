@@ -1236,3 +1236,59 @@ fn quasi_bound_mode_functions_between_the_ends_by_both_methods() {
     assert!((peak.0 - 1.0 / q).abs() < 0.1 / q, "peak at r = {} against 1/q = {}", peak.0, 1.0 / q);
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+/// Real eigenvalues between given ends get mode functions normalised like the
+/// bound-state route's (∫|ψ|² = 1, real and positive next to the first end).
+/// Legendre's equation on (−1, 1), normalisable at both ends: E = l(l + 1),
+/// ψ = √(1 − z²) P_l(z) (the normal form's factor), whose norms
+/// ∫(1 − z²) P_l² dz = 4/3, 4/15, 4/21 for l = 0, 1, 2 are integrated by hand
+/// here (DLMF §14.7 and 18.3 for P_l); the second method's function agrees.
+#[test]
+fn eigenvalues_between_given_ends_have_normalised_functions() {
+    let dir = std::env::temp_dir().join(format!("canonode-ends-bound-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("legendre.json");
+    let (v, code, err) = run(&[
+        "spectrum",
+        "-e",
+        "(1-z^2)*y'' - 2*z*y' + (E - m^2/(1-z^2))*y = 0",
+        "--var",
+        "z",
+        "--frequency",
+        "E",
+        "--at",
+        "m=0",
+        "--ends=-1..1",
+        "--boundary",
+        "bound",
+        "--overtones",
+        "0..2",
+        "--mode-functions",
+        path.to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    // E = 0 is checked like the others: the agreement is taken against the problem's scale, not |E| = 0.
+    for m in v["modes"].as_array().unwrap() {
+        assert!(m["check"]["agreement"].as_f64().unwrap() < 1e-9, "{m}");
+    }
+    let doc: Value = serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
+    let exact: [&dyn Fn(f64) -> f64; 3] = [
+        &|z| (0.75f64).sqrt() * (1.0 - z * z).sqrt(),
+        &|z| -(3.75f64).sqrt() * z * (1.0 - z * z).sqrt(),
+        &|z| (5.25f64).sqrt() * 0.5 * (3.0 * z * z - 1.0) * (1.0 - z * z).sqrt(),
+    ];
+    let modes = doc["modes"].as_array().unwrap();
+    assert_eq!(modes.len(), 3);
+    for (m, f) in modes.iter().zip(exact) {
+        assert!(m["error"].is_null() && m["largest_difference"].as_f64().unwrap() < 1e-8, "{m}");
+        let pts = m["points"].as_array().unwrap();
+        assert!(pts.len() > 100);
+        for p in pts {
+            let (z, re, im) = (p[0].as_f64().unwrap(), p[1].as_f64().unwrap(), p[2].as_f64().unwrap());
+            assert!((re - f(z)).abs() < 1e-10 && im.abs() < 1e-10, "l = {}: z = {z}: {re} vs {}", m["n"], f(z));
+        }
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -219,11 +219,12 @@ fn finite_pick(bp: &BoundaryProblem, z0: f64, cond: Condition, w: Complex64) -> 
     }
 }
 
-/// The exponent chosen at the (finite) left end at ω, whatever its
-/// dependence on ω; `None` where it cannot be evaluated.
-pub(crate) fn left_exponent(bp: &BoundaryProblem, w: Complex64) -> Option<Complex64> {
-    let Location::At(a) = bp.ends[0].location else { return None };
-    finite_pick(bp, a, bp.ends[0].condition, w)
+
+/// The exponent chosen at end `i` (0 left, 1 right) at ω where that end is
+/// finite; `None` at an infinite end or where it cannot be evaluated.
+pub(crate) fn end_exponent_at(bp: &BoundaryProblem, i: usize, w: Complex64) -> Option<Complex64> {
+    let Location::At(a) = bp.ends[i].location else { return None };
+    finite_pick(bp, a, bp.ends[i].condition, w)
 }
 
 /// The exponent at a finite end z₀ obeying `cond`, affine in ω (fitted

@@ -60,12 +60,12 @@ fn nodes(a: f64, b: f64, panels: usize) -> Vec<(f64, f64)> {
 /// the end (or a cut far out) and z_m; returns the samples ordered from the
 /// end towards z_m and (y, y') at z_m.
 #[allow(clippy::too_many_arguments)]
-fn piece(k: &Coeffs, end: End, z_m: f64, roots: &[Complex64], p: &Params, panels: usize, scale: f64) -> Result<Piece, String> {
+fn piece(k: &Coeffs, end: End, pick: Option<Complex64>, z_m: f64, roots: &[Complex64], p: &Params, panels: usize, scale: f64) -> Result<Piece, String> {
     let mut steps = 0;
     match end {
         End::Regular(z) => {
             let h = integrate::horizon(k, z)?;
-            let rho = h.larger_exponent();
+            let rho = pick.unwrap_or_else(|| h.larger_exponent());
             let reach = if h.d.is_finite() { p.start_fraction * h.d } else { (z_m - z).abs() };
             let mut out = Vec::new();
             let mut last: Option<(f64, (Complex64, Complex64))> = None;
@@ -112,6 +112,13 @@ fn piece(k: &Coeffs, end: End, z_m: f64, roots: &[Complex64], p: &Params, panels
 /// The eigenfunction of the bound state at `e` on `domain`, sampled and
 /// normalised (∫|ψ|² = 1, real and positive next to the first end).
 pub fn bound_mode_function(ode: &NumOde, domain: Domain, e: Complex64, panels: usize) -> Result<Samples, String> {
+    bound_mode_function_with(ode, domain, [None, None], e, panels)
+}
+
+/// [`bound_mode_function`] with the exponent kept at each finite end given
+/// (`None`: the larger one, the normalisable solution), as a boundary
+/// problem between given ends chooses them (e.g. the slower fall-off).
+pub fn bound_mode_function_with(ode: &NumOde, domain: Domain, picks: [Option<Complex64>; 2], e: Complex64, panels: usize) -> Result<Samples, String> {
     let k = Coeffs::at(ode, e)?;
     let p = &STANDARD;
     let [left, right] = ends(domain);
@@ -132,8 +139,8 @@ pub fn bound_mode_function(ode: &NumOde, domain: Domain, e: Complex64, panels: u
         let s = if s > 0.0 && s.is_finite() { 1.0 / s } else { 1.0 };
         (pc.into_iter().map(|(x, v, w)| (x, v * s, w)).collect::<Vec<_>>(), (y.0 * s, y.1 * s))
     };
-    let (lp, ly) = unit(piece(&k, left, z_m, &roots, p, panels, scale)?);
-    let (mut rp, ry) = unit(piece(&k, right, z_m, &roots, p, panels, scale)?);
+    let (lp, ly) = unit(piece(&k, left, picks[0], z_m, &roots, p, panels, scale)?);
+    let (mut rp, ry) = unit(piece(&k, right, picks[1], z_m, &roots, p, panels, scale)?);
     // Scale the right piece onto the left one at z_m (least squares on (y, y')).
     let den = ry.0.norm_sqr() + ry.1.norm_sqr();
     if den == 0.0 {

@@ -284,7 +284,7 @@ pub struct SpectralCheck {
     pub method: CheckMethod,
     /// The spectral eigenvalue, when one lies near the mode.
     pub omega: Option<Complex64>,
-    /// |spectral − mode| / |mode| (NaN without a value).
+    /// |spectral − mode| / max(|mode|, 10⁻³ × the problem's frequency scale) (NaN without a value).
     pub agreement: f64,
     /// Why there is no value (empty with one).
     pub reason: String,
@@ -831,6 +831,9 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
 fn ends_functions(req: &SpectrumRequest, r: &EndsReport) -> Option<ModeFunctions> {
     let reach = req.mode_functions?;
     let bp = &r.problem;
+    if r.spectrum == Problem::Bound {
+        return Some(bound_ends_functions(r));
+    }
     let super::boundary::Location::At(a) = bp.ends[0].location else { return None };
     let reach = match bp.ends[1].location {
         super::boundary::Location::At(b) => Some(reach.map_or(0.98 * (b - a), |d| d.min(0.98 * (b - a)))),
@@ -839,7 +842,7 @@ fn ends_functions(req: &SpectrumRequest, r: &EndsReport) -> Option<ModeFunctions
     let at = |method: &'static str, w: Complex64| MethodFunction {
         method,
         value: w,
-        samples: super::global::left_exponent(bp, w)
+        samples: super::global::end_exponent_at(bp, 0, w)
             .ok_or_else(|| "the exponent at the left end could not be evaluated".to_string())
             .and_then(|rho| super::modefn::horizon_mode_function(&bp.ode, a, rho, w, reach, 400)),
     };
@@ -854,6 +857,48 @@ fn ends_functions(req: &SpectrumRequest, r: &EndsReport) -> Option<ModeFunctions
         })
         .collect();
     Some(ModeFunctions { normalisation: "the normal form's ψ, with unit leading coefficient of its Frobenius series at the left end", modes })
+}
+
+/// The mode functions of real eigenvalues between given ends: each end's
+/// solution with its chosen exponent (a finite end) or decaying (an infinite
+/// one), joined in the middle and normalised to ∫|ψ|² = 1 over the whole
+/// domain, as the bound-state route's are; the second method's function at
+/// its own value, turned to the same phase.
+fn bound_ends_functions(r: &EndsReport) -> ModeFunctions {
+    let bp = &r.problem;
+    let domain = match (bp.ends[0].location, bp.ends[1].location) {
+        (Location::At(a), Location::At(b)) => Ok(Domain::Finite(a, b)),
+        (Location::At(a), Location::Infinity) => Ok(Domain::HalfLine(a)),
+        _ => Err("the mode function needs a finite left end".to_string()),
+    };
+    let at = |method: &'static str, w: Complex64| MethodFunction {
+        method,
+        value: w,
+        samples: domain.clone().and_then(|d| {
+            let picks = [0, 1].map(|i| super::global::end_exponent_at(bp, i, w));
+            super::modefn::bound_mode_function_with(&bp.ode, d, picks, w, 24)
+        }),
+    };
+    let modes = r
+        .modes
+        .iter()
+        .zip(&r.checks)
+        .filter(|(m, _)| m.root.converged)
+        .map(|(m, c)| {
+            let first = at(ModeMethod::Integrate.tag(), m.root.omega);
+            let second = c.as_ref().and_then(|c| c.omega.map(|w| at(c.method.tag(), w))).map(|mut s| {
+                // Same samples (a finite domain): the same phase as the first.
+                if let (Ok(one), Ok(two)) = (&first.samples, &s.samples) {
+                    if one.len() == two.len() && one.iter().zip(two).all(|(p, q)| p.0 == q.0) {
+                        s.samples = super::modefn::normalised_like(one, two.iter().map(|q| q.1).collect());
+                    }
+                }
+                s
+            });
+            ModeFunction::new(m.n, first, second)
+        })
+        .collect();
+    ModeFunctions { normalisation: "the normal form's psi, with the integral of |psi|^2 equal to 1, real and positive next to the first end", modes }
 }
 
 /// The boundary problem of a (substituted) reduction, and whether the exact
@@ -1042,7 +1087,7 @@ fn spectral_checks(bp: &BoundaryProblem, modes: &[EndMode]) -> (Vec<Option<Spect
             let reach = 1e-4 * w.norm().max(bp.scale);
             Some(match near {
                 Some(v) if (v.omega - w).norm() <= reach => {
-                    SpectralCheck { method: CheckMethod::Spectral, omega: Some(v.omega), agreement: (v.omega - w).norm() / w.norm().max(f64::MIN_POSITIVE), reason: String::new() }
+                    SpectralCheck { method: CheckMethod::Spectral, omega: Some(v.omega), agreement: agreement(v.omega, w, bp.scale), reason: String::new() }
                 }
                 _ => SpectralCheck {
                     method: CheckMethod::Spectral,
@@ -1061,6 +1106,13 @@ fn spectral_checks(bp: &BoundaryProblem, modes: &[EndMode]) -> (Vec<Option<Spect
         sp.grids.0, sp.grids.1, sp.tol
     );
     (checks, words)
+}
+
+/// How far the second method's value `v` lies from the mode `w`, relative to
+/// |w|, or to a thousandth of the problem's frequency scale where |w| is
+/// smaller (an eigenvalue at or next to zero has no relative accuracy).
+fn agreement(v: Complex64, w: Complex64, scale: f64) -> f64 {
+    (v - w).norm() / w.norm().max(1e-3 * scale).max(f64::MIN_POSITIVE)
 }
 
 /// The second method where the global one cannot be formed (`why`): for
@@ -1084,7 +1136,7 @@ fn collocation_checks(bp: &BoundaryProblem, modes: &[EndMode], why: &str) -> (Ve
                 SpectralCheck {
                     method: CheckMethod::Collocation,
                     omega: Some(r.omega),
-                    agreement: (r.omega - w).norm() / w.norm().max(f64::MIN_POSITIVE),
+                    agreement: agreement(r.omega, w, bp.scale),
                     reason: String::new(),
                 }
             } else {
