@@ -1274,11 +1274,9 @@ fn eigenvalues_between_given_ends_have_normalised_functions() {
         assert!(m["check"]["agreement"].as_f64().unwrap() < 1e-9, "{m}");
     }
     let doc: Value = serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
-    let exact: [&dyn Fn(f64) -> f64; 3] = [
-        &|z| (0.75f64).sqrt() * (1.0 - z * z).sqrt(),
-        &|z| -(3.75f64).sqrt() * z * (1.0 - z * z).sqrt(),
-        &|z| (5.25f64).sqrt() * 0.5 * (3.0 * z * z - 1.0) * (1.0 - z * z).sqrt(),
-    ];
+    let exact: [&dyn Fn(f64) -> f64; 3] = [&|z| (0.75f64).sqrt() * (1.0 - z * z).sqrt(), &|z| -(3.75f64).sqrt() * z * (1.0 - z * z).sqrt(), &|z| {
+        (5.25f64).sqrt() * 0.5 * (3.0 * z * z - 1.0) * (1.0 - z * z).sqrt()
+    }];
     let modes = doc["modes"].as_array().unwrap();
     assert_eq!(modes.len(), 3);
     for (m, f) in modes.iter().zip(exact) {
@@ -1289,6 +1287,130 @@ fn eigenvalues_between_given_ends_have_normalised_functions() {
             let (z, re, im) = (p[0].as_f64().unwrap(), p[1].as_f64().unwrap(), p[2].as_f64().unwrap());
             assert!((re - f(z)).abs() < 1e-10 && im.abs() < 1e-10, "l = {}: z = {z}: {re} vs {}", m["n"], f(z));
         }
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// A coupled (rotating) solve writes mode functions too: the radial ψ at each
+/// mode with the linked separation constant held at its value there. At a = 0
+/// the angular eigenvalue is exact, A = l(l + 1) − s(s + 1) = 4 for s = −2,
+/// l = 2 (common practice), so the coupled function must equal the one of the
+/// uncoupled Teukolsky equation at λ = 4 (whose mode is Schwarzschild's
+/// 0.37367168 − 0.08896232i, Leaver 1985); at a = 0.9 the continued
+/// fraction's and direct integration's functions agree.
+#[test]
+fn coupled_solves_write_mode_functions() {
+    use num_complex::Complex64;
+    let dir = std::env::temp_dir().join(format!("canonode-coupled-fn-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let couple = ["--couple", "samples/spheroidal_spin_weighted.ode", "--link", "lam = A + a^2*omega^2 - 2*a*m*omega", "--link", "c = a*omega"];
+    let read = |p: &std::path::Path| -> Value { serde_json::from_str(&std::fs::read_to_string(p).unwrap()).unwrap() };
+    let pts = |m: &Value| -> Vec<(f64, Complex64)> {
+        m["points"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|p| (p[0].as_f64().unwrap(), Complex64::new(p[1].as_f64().unwrap(), p[2].as_f64().unwrap())))
+            .collect()
+    };
+    let (c, u) = (dir.join("coupled.json"), dir.join("uncoupled.json"));
+    let mut args =
+        vec!["spectrum", "samples/teukolsky_radial.ode", "--at", "M=1,a=0,m=2,s=-2", "--mode-functions", c.to_str().unwrap(), "--mode-reach", "10"];
+    args.extend(couple);
+    let (_, code, err) = run(&args);
+    assert_eq!(code, 0, "{err}");
+    let (_, code, err) = run(&[
+        "spectrum",
+        "samples/teukolsky_radial.ode",
+        "--at",
+        "M=1,a=0,m=2,s=-2,lam=4",
+        "--ends",
+        "2..inf",
+        "--mode-functions",
+        u.to_str().unwrap(),
+        "--mode-reach",
+        "10",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let (a, b) = (pts(&read(&c)["modes"][0]), pts(&read(&u)["modes"][0]));
+    assert_eq!(a.len(), b.len());
+    let big = b.iter().map(|p| p.1.norm()).fold(0.0, f64::max);
+    for (x, y) in a.iter().zip(&b) {
+        assert!((x.0 - y.0).abs() < 1e-12 && (x.1 - y.1).norm() < 1e-9 * big, "r = {}: {} vs {}", x.0, x.1, y.1);
+    }
+    let mut args = vec![
+        "spectrum",
+        "samples/teukolsky_radial.ode",
+        "--at",
+        "M=1,a=0.9,m=2,s=-2",
+        "--guess",
+        "0.67-0.065i",
+        "--mode-functions",
+        c.to_str().unwrap(),
+    ];
+    args.extend(couple);
+    let (_, code, err) = run(&args);
+    assert_eq!(code, 0, "{err}");
+    let m = &read(&c)["modes"][0];
+    assert!(m["error"].is_null() && m["largest_difference"].as_f64().unwrap() < 1e-8, "{m}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// Periodic problems write mode functions: the truncated Laurent series'
+/// solution and the equation integrated around the period, each normalised
+/// over one period of the solution (∫|y|² dx = 1). Mathieu's equation
+/// y'' + (a − 2q cos 2x) y = 0 (DLMF 28.2.1): at q = 0 the solutions are
+/// 1 and cos 2x (exact) over the period π; at small q, ce₀ ∝
+/// 1 − (q/2) cos 2x + O(q²) (DLMF 28.6.21, from memory); at q = 1 both methods agree.
+#[test]
+fn periodic_problems_write_mode_functions() {
+    let dir = std::env::temp_dir().join(format!("canonode-periodic-fn-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("mathieu.json");
+    let modes = |q: &str| -> Vec<Value> {
+        let (_, code, err) = run(&[
+            "spectrum",
+            "-e",
+            "y'' + (a - 2*q*cos(2*x))*y = 0",
+            "--var",
+            "x",
+            "--at",
+            &format!("q={q}"),
+            "--overtones",
+            "0..3",
+            "--mode-functions",
+            path.to_str().unwrap(),
+        ]);
+        assert_eq!(code, 0, "{err}");
+        let v: Value = serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
+        v["modes"].as_array().unwrap().clone()
+    };
+    let pts = |m: &Value| -> Vec<(f64, f64, f64)> {
+        m["points"].as_array().unwrap().iter().map(|p| (p[0].as_f64().unwrap(), p[1].as_f64().unwrap(), p[2].as_f64().unwrap())).collect()
+    };
+    let pi = std::f64::consts::PI;
+    let free = modes("0");
+    let ground = pts(&free[0]);
+    assert!(ground.iter().all(|p| (p.1 - 1.0 / pi.sqrt()).abs() < 1e-12 && p.2.abs() < 1e-12), "{:?}", &ground[..3]);
+    // n = 3 is a = 4, period π: cos 2x or sin 2x by its parity, times √(2/π).
+    let four = pts(&free[3]);
+    assert!((four.last().unwrap().0 - pi * (1.0 - 1.0 / four.len() as f64)).abs() < 1e-12);
+    let even = four.iter().all(|p| (p.1 - (2.0 / pi).sqrt() * (2.0 * p.0).cos()).abs() < 1e-10);
+    let odd = four.iter().all(|p| (p.1.abs() - (2.0 / pi).sqrt() * (2.0 * p.0).sin().abs()).abs() < 1e-10);
+    assert!(even || odd, "{:?}", &four[..3]);
+    let small = pts(&modes("1/100")[0]);
+    let y0 = small[0].1;
+    for p in &small {
+        let want = (1.0 - 0.005 * (2.0 * p.0).cos()) / (1.0 - 0.005);
+        assert!((p.1 / y0 - want).abs() < 2e-5, "x = {}: {} vs {want}", p.0, p.1 / y0);
+    }
+    for m in modes("1") {
+        assert_eq!(m["method"], "laurent");
+        assert!(m["largest_difference"].as_f64().unwrap() < 1e-10, "{m}");
+        let p = pts(&m);
+        let period = p[1].0 * p.len() as f64;
+        let norm: f64 = p.iter().map(|s| s.1 * s.1 + s.2 * s.2).sum::<f64>() * period / p.len() as f64;
+        assert!((norm - 1.0).abs() < 1e-12, "norm {norm}");
     }
     std::fs::remove_dir_all(&dir).ok();
 }

@@ -202,6 +202,8 @@ pub fn method_words(tag: &str) -> &'static str {
         "shooting" => "shooting",
         "collocation" => "collocation",
         "spectral" => "global spectral method",
+        "laurent" => "truncated Laurent series",
+        "monodromy" => "integration around the period",
         _ => "another method",
     }
 }

@@ -219,7 +219,6 @@ fn finite_pick(bp: &BoundaryProblem, z0: f64, cond: Condition, w: Complex64) -> 
     }
 }
 
-
 /// The exponent chosen at end `i` (0 left, 1 right) at ω where that end is
 /// finite; `None` at an infinite end or where it cannot be evaluated.
 pub(crate) fn end_exponent_at(bp: &BoundaryProblem, i: usize, w: Complex64) -> Option<Complex64> {

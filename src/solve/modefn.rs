@@ -60,7 +60,16 @@ fn nodes(a: f64, b: f64, panels: usize) -> Vec<(f64, f64)> {
 /// the end (or a cut far out) and z_m; returns the samples ordered from the
 /// end towards z_m and (y, y') at z_m.
 #[allow(clippy::too_many_arguments)]
-fn piece(k: &Coeffs, end: End, pick: Option<Complex64>, z_m: f64, roots: &[Complex64], p: &Params, panels: usize, scale: f64) -> Result<Piece, String> {
+fn piece(
+    k: &Coeffs,
+    end: End,
+    pick: Option<Complex64>,
+    z_m: f64,
+    roots: &[Complex64],
+    p: &Params,
+    panels: usize,
+    scale: f64,
+) -> Result<Piece, String> {
     let mut steps = 0;
     match end {
         End::Regular(z) => {

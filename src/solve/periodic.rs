@@ -28,6 +28,7 @@
 
 use super::global::{pencil_eigenvalues, persisting};
 use super::integrate::{continue_along, find_root_by, Coeffs, IntRoot, Params, MAX_ITER};
+use super::modefn::Samples;
 use super::NumOde;
 use crate::error::{Error, ErrorKind, Result};
 use nalgebra::DMatrix;
@@ -319,6 +320,25 @@ fn family_values(l: &Laurent, k: usize, f: Floquet, parity: Option<Parity>) -> R
 /// state (y, ζ y') that the rotation ζ → e^(2πi/g) ζ leaves alone, and the
 /// Taylor steps it took.
 fn monodromy(ode: &NumOde, step: usize, lambda: Complex64, rho: f64, p: &Params) -> std::result::Result<(Complex64, usize), String> {
+    let (columns, steps) = monodromy_matrix(ode, step, lambda, p)?;
+    let rho = Complex64::new(rho, 0.0);
+    let (m00, m10, m01, m11) = (columns[0].0, columns[0].1, columns[1].0, columns[1].1);
+    // det(M − ρ) = ρ² − ρ tr M + det M, measured against the size of its
+    // terms (a product of entries of M − ρ can vanish at a root when the
+    // starting values are a solution of the family, e.g. an even one).
+    let (tr, det_m) = (m00 + m11, m00 * m11 - m01 * m10);
+    let det = rho * rho - rho * tr + det_m;
+    let norm = 1.0 + tr.norm() + det_m.norm();
+    if !(norm > 0.0 && norm.is_finite()) {
+        return Err(format!("the monodromy matrix is not finite at {lambda}"));
+    }
+    Ok((det / norm, steps))
+}
+
+/// The monodromy over the least period as its two columns: the images of
+/// the states (y, ζ y') = (1, 0) and (0, 1) at ζ = 1 after the turn to
+/// e^(2πi/g) (four chords), and the Taylor steps it took.
+fn monodromy_matrix(ode: &NumOde, step: usize, lambda: Complex64, p: &Params) -> std::result::Result<([(Complex64, Complex64); 2], usize), String> {
     let k = Coeffs::at(ode, lambda)?;
     let roots = [ZERO];
     let turn = 2.0 * std::f64::consts::PI / step as f64;
@@ -333,18 +353,148 @@ fn monodromy(ode: &NumOde, step: usize, lambda: Complex64, rho: f64, p: &Params)
         }
         *col = (y, end * dy);
     }
-    let rho = Complex64::new(rho, 0.0);
-    let (m00, m10, m01, m11) = (columns[0].0, columns[0].1, columns[1].0, columns[1].1);
-    // det(M − ρ) = ρ² − ρ tr M + det M, measured against the size of its
-    // terms (a product of entries of M − ρ can vanish at a root when the
-    // starting values are a solution of the family, e.g. an even one).
-    let (tr, det_m) = (m00 + m11, m00 * m11 - m01 * m10);
-    let det = rho * rho - rho * tr + det_m;
-    let norm = 1.0 + tr.norm() + det_m.norm();
+    Ok((columns, steps))
+}
+
+/// One characteristic value's solution by both methods, sampled at equally
+/// spaced points over one period of the solution (the least period T/g,
+/// twice that for y(x + T/g) = −y(x)) in the written variable x of
+/// ζ = e^(iκx) (`kappa`; 1 when the equation was given in ζ, x then the
+/// angle of ζ), normalised to ∫|y|² dx = 1 over that period (the
+/// trapezoidal rule, exact for these trigonometric sums) and turned real and
+/// positive at the first sample of appreciable size.
+///
+/// First: the Laurent series from the null vector of the finer truncation
+/// at the value (two steps of inverse iteration), projected on the value's
+/// parity. Second: the equation integrated along the unit circle at the
+/// monodromy root, from the eigenvector of the monodromy matrix with the
+/// value's multiplier (for a parity: y'(0) = 0 or y(0) = 0), sampled at the
+/// same points and turned to the first's phase.
+pub fn mode_functions(
+    ode: &NumOde,
+    solution: &PeriodicSolution,
+    mode: &PeriodicMode,
+    kappa: f64,
+    points: usize,
+) -> (std::result::Result<Samples, String>, Option<std::result::Result<Samples, String>>) {
+    let l = match Laurent::new(ode) {
+        Ok(l) => l,
+        Err(e) => return (Err(e.message), None),
+    };
+    let g = l.step as f64;
+    let nu = mode.floquet.nu();
+    let period = 2.0 * std::f64::consts::PI / (kappa.abs() * g) * if mode.floquet == Floquet::Periodic { 1.0 } else { 2.0 };
+    let xs: Vec<f64> = (0..points).map(|i| period * i as f64 / points as f64).collect();
+    let weight = period / points as f64;
+    let first = laurent_vector(&l, solution.truncation.1, mode).map(|(lo, c)| {
+        let v: Vec<Complex64> = xs
+            .iter()
+            .map(|x| c.iter().enumerate().map(|(i, ci)| ci * Complex64::from_polar(1.0, g * ((lo + i as i64) as f64 + nu) * kappa * x)).sum())
+            .collect();
+        v
+    });
+    let first = first.and_then(|v| normalised(&xs, weight, v));
+    let second = mode.check.converged.then(|| {
+        let v = circle_solution(ode, &l, mode, kappa, &xs)?;
+        match &first {
+            Ok(one) => super::modefn::normalised_like(one, v),
+            Err(_) => normalised(&xs, weight, v),
+        }
+    });
+    (first, second)
+}
+
+/// Samples with equal weights, normalised to Σ w |y|² = 1 and turned real and
+/// positive at the first sample above 10⁻⁸ of the largest.
+fn normalised(xs: &[f64], weight: f64, v: Vec<Complex64>) -> std::result::Result<Samples, String> {
+    let norm: f64 = v.iter().map(|y| weight * y.norm_sqr()).sum();
     if !(norm > 0.0 && norm.is_finite()) {
-        return Err(format!("the monodromy matrix is not finite at {lambda}"));
+        return Err("the solution has no finite norm over the period".into());
     }
-    Ok((det / norm, steps))
+    let big = v.iter().map(|y| y.norm()).fold(0.0, f64::max);
+    let first = v.iter().copied().find(|y| y.norm() > 1e-8 * big).unwrap_or(Complex64::new(1.0, 0.0));
+    let f = first.conj() / first.norm() / norm.sqrt();
+    Ok(xs.iter().zip(v).map(|(x, y)| (*x, y * f, weight)).collect())
+}
+
+/// The Laurent coefficients c_k (k from the returned lower index) of the
+/// value's solution: the null vector of the truncated matrix at the value
+/// by inverse iteration, projected on the value's parity.
+fn laurent_vector(l: &Laurent, k: usize, mode: &PeriodicMode) -> std::result::Result<(i64, Vec<Complex64>), String> {
+    let (lo, hi) = range(k, mode.floquet);
+    let ms = l.matrices(mode.floquet.nu(), lo, hi);
+    let n = ms[0].nrows();
+    let mut m = DMatrix::<Complex64>::zeros(n, n);
+    let mut power = Complex64::new(1.0, 0.0);
+    for me in &ms {
+        m += me * power;
+        power *= mode.value;
+    }
+    // A tiny shift keeps the factorisation regular when the value is exact.
+    let top = m.iter().map(|x| x.norm()).fold(0.0, f64::max).max(f64::MIN_POSITIVE);
+    for i in 0..n {
+        m[(i, i)] += Complex64::new(1e-14 * top, 0.0);
+    }
+    let lu = m.lu();
+    let mut v = nalgebra::DVector::<Complex64>::from_fn(n, |i, _| Complex64::new(1.0 + 0.1 * i as f64 / n as f64, 0.0));
+    for _ in 0..2 {
+        v = lu.solve(&v).ok_or("the truncated matrix is singular beyond the shift")?;
+        let s = v.norm();
+        if !(s > 0.0 && s.is_finite()) {
+            return Err("the inverse iteration did not give a finite vector".into());
+        }
+        v /= Complex64::new(s, 0.0);
+    }
+    let mut c: Vec<Complex64> = v.iter().copied().collect();
+    if let Some(p) = mode.parity {
+        // The reflection k → −k − 2ν reverses the symmetric range.
+        let sign = if p == Parity::Even { 1.0 } else { -1.0 };
+        let rev: Vec<Complex64> = c.iter().rev().copied().collect();
+        c = c.iter().zip(rev).map(|(a, b)| (a + b * sign) * 0.5).collect();
+        if c.iter().map(|x| x.norm_sqr()).sum::<f64>() < 1e-12 {
+            return Err(format!("the null vector has no {} part", p.tag()));
+        }
+    }
+    Ok((lo, c))
+}
+
+/// The solution at the monodromy root, integrated along the unit circle
+/// through ζ(x) = e^(iκx) at each sample (chords of the circle), from the
+/// monodromy matrix's eigenvector with the value's multiplier (for a
+/// parity, the state of that parity at x = 0).
+fn circle_solution(ode: &NumOde, l: &Laurent, mode: &PeriodicMode, kappa: f64, xs: &[f64]) -> std::result::Result<Vec<Complex64>, String> {
+    let p = &super::integrate::STANDARD;
+    let lambda = mode.check.omega;
+    let one = Complex64::new(1.0, 0.0);
+    // The state is (y, ζ y') at ζ = 1: y' in x is iκ ζ y'.
+    let start = match mode.parity {
+        Some(Parity::Even) => (one, ZERO),
+        Some(Parity::Odd) => (ZERO, one),
+        None => {
+            let (cols, _) = monodromy_matrix(ode, l.step, lambda, p)?;
+            let rho = Complex64::new(mode.floquet.multiplier(), 0.0);
+            let (m00, m10, m01, m11) = (cols[0].0, cols[0].1, cols[1].0, cols[1].1);
+            let (a, b) = ((m01, rho - m00), (rho - m11, m10));
+            if a.0.norm() + a.1.norm() >= b.0.norm() + b.1.norm() {
+                a
+            } else {
+                b
+            }
+        }
+    };
+    let k = Coeffs::at(ode, lambda)?;
+    let roots = [ZERO];
+    let mut steps = 0;
+    let (mut y, mut dy) = start;
+    let mut at = one;
+    let mut out = Vec::with_capacity(xs.len());
+    for x in xs {
+        let z = Complex64::from_polar(1.0, kappa * x);
+        (y, dy) = continue_along(&k, &roots, at, z, y, dy, p, 0.25, &mut steps)?;
+        at = z;
+        out.push(y);
+    }
+    Ok(out)
 }
 
 /// The characteristic values at places `overtones` (inclusive) of the list

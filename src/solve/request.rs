@@ -767,13 +767,15 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
         if req.problem != Problem::Quasinormal || !matches!(req.method, Method::Auto | Method::Cf) {
             return Err(method_error("a coupled solve uses the continued fraction (--method auto or cf); direct integration runs as its check"));
         }
-        return Ok(done(Body::Recurrence(coupled(red, req, c, &opts)?), None, None));
+        let (report, functions) = coupled(red, req, c, &opts)?;
+        return Ok(done(Body::Recurrence(report), functions, None));
     }
     // The eikonal limit keeps its large parameter symbolic.
     let eikonal = eikonal_reduction(req, red, &point, freq)?;
     // Exact values for every other parameter: horizons often become rational points.
     if req.problem == Problem::Periodic {
-        return Ok(done(Body::Periodic(periodic(red, req, &point, freq)?), None, None));
+        let (report, functions) = periodic(red, req, &point, freq)?;
+        return Ok(done(Body::Periodic(report), functions, None));
     }
     let red = super::spectrum::substitute(red, &point, freq)?;
     if req.problem == Problem::Bound && req.ends.is_none() {
@@ -834,29 +836,78 @@ fn ends_functions(req: &SpectrumRequest, r: &EndsReport) -> Option<ModeFunctions
     if r.spectrum == Problem::Bound {
         return Some(bound_ends_functions(r));
     }
-    let super::boundary::Location::At(a) = bp.ends[0].location else { return None };
-    let reach = match bp.ends[1].location {
-        super::boundary::Location::At(b) => Some(reach.map_or(0.98 * (b - a), |d| d.min(0.98 * (b - a)))),
-        super::boundary::Location::Infinity => reach,
-    };
-    let at = |method: &'static str, w: Complex64| MethodFunction {
-        method,
-        value: w,
-        samples: super::global::end_exponent_at(bp, 0, w)
-            .ok_or_else(|| "the exponent at the left end could not be evaluated".to_string())
-            .and_then(|rho| super::modefn::horizon_mode_function(&bp.ode, a, rho, w, reach, 400)),
-    };
+    let Location::At(_) = bp.ends[0].location else { return None };
     let modes = r
         .modes
         .iter()
         .zip(&r.checks)
         .filter(|(m, _)| m.root.converged)
         .map(|(m, c)| {
-            let second = c.as_ref().and_then(|c| c.omega.map(|w| at(c.method.tag(), w)));
-            ModeFunction::new(m.n, at(ModeMethod::Integrate.tag(), m.root.omega), second)
+            let second = c.as_ref().and_then(|c| c.omega.map(|w| left_end_function(bp, c.method.tag(), w, reach)));
+            ModeFunction::new(m.n, left_end_function(bp, ModeMethod::Integrate.tag(), m.root.omega, reach), second)
         })
         .collect();
     Some(ModeFunctions { normalisation: "the normal form's ψ, with unit leading coefficient of its Frobenius series at the left end", modes })
+}
+
+/// The normal form's ψ at `w` from the left end's Frobenius series with the
+/// chosen exponent and unit leading coefficient, continued along the real
+/// axis out to `reach` (at most 98 % of the way to a finite right end).
+fn left_end_function(bp: &BoundaryProblem, method: &'static str, w: Complex64, reach: Option<f64>) -> MethodFunction {
+    let samples = match (bp.ends[0].location, bp.ends[1].location) {
+        (Location::At(a), right) => {
+            let reach = match right {
+                Location::At(b) => Some(reach.map_or(0.98 * (b - a), |d| d.min(0.98 * (b - a)))),
+                Location::Infinity => reach,
+            };
+            super::global::end_exponent_at(bp, 0, w)
+                .ok_or_else(|| "the exponent at the left end could not be evaluated".to_string())
+                .and_then(|rho| super::modefn::horizon_mode_function(&bp.ode, a, rho, w, reach, 400))
+        }
+        (Location::Infinity, _) => Err("the left end is at infinity: no Frobenius series to start from".to_string()),
+    };
+    MethodFunction { method, value: w, samples }
+}
+
+/// The mode functions of a coupled solve: at each converged mode the radial
+/// equation with the linked parameters held at their values there (the
+/// angular eigenvalue at the mode's frequency), as a typed boundary problem,
+/// and its ψ from the horizon ([`left_end_function`]); direct integration's
+/// function at its own root (same linked values) beside it.
+fn coupled_functions(
+    red: &Reduction,
+    req: &SpectrumRequest,
+    opts: &SpectrumOptions,
+    found: &[super::coupled::CoupledMode],
+    reach: Option<f64>,
+) -> ModeFunctions {
+    let k = &red.field;
+    let modes = found
+        .iter()
+        .filter(|c| c.mode.root.converged)
+        .map(|c| {
+            let w = c.mode.root.omega;
+            let problem = c.angular.as_ref().ok_or_else(|| "no angular eigenvalue at this mode".to_string()).and_then(|e| {
+                let mut values = opts.values.clone();
+                for (n, v) in &e.links {
+                    if let Some(i) = k.names().iter().position(|x| x == n) {
+                        values[i] = GRat { re: super::spectrum::exact_double(v.re).re, im: super::spectrum::exact_double(v.im).re };
+                    }
+                }
+                let sub = super::spectrum::substitute(red, &values, opts.freq).map_err(|e| e.message)?;
+                boundary_problem(&sub, req, &values, opts.freq).0.map_err(|e| e.message)
+            });
+            match problem {
+                Ok(bp) => {
+                    let second =
+                        c.check.as_ref().filter(|r| r.converged).map(|r| left_end_function(&bp, ModeMethod::Integrate.tag(), r.omega, reach));
+                    ModeFunction::new(c.mode.n, left_end_function(&bp, c.mode.method.tag(), w, reach), second)
+                }
+                Err(e) => ModeFunction::new(c.mode.n, MethodFunction { method: c.mode.method.tag(), value: w, samples: Err(e) }, None),
+            }
+        })
+        .collect();
+    ModeFunctions { normalisation: "the normal form's ψ, with unit leading coefficient of its Frobenius series at the left end", modes }
 }
 
 /// The mode functions of real eigenvalues between given ends: each end's
@@ -928,7 +979,7 @@ fn spectrum_kind(p: Problem) -> SpectrumKind {
 /// Characteristic values of a periodic problem: the equation in ζ (after the
 /// trigonometric map, or as given) made numeric except in the spectral
 /// parameter and handed to `solve::periodic`.
-fn periodic(red: &Reduction, req: &SpectrumRequest, point: &[GRat], freq: usize) -> Result<PeriodicReport> {
+fn periodic(red: &Reduction, req: &SpectrumRequest, point: &[GRat], freq: usize) -> Result<(PeriodicReport, Option<ModeFunctions>)> {
     if req.method != Method::Auto {
         return Err(method_error("a periodic problem is solved by the truncated Laurent series, checked by the monodromy: use --method auto"));
     }
@@ -945,7 +996,22 @@ fn periodic(red: &Reduction, req: &SpectrumRequest, point: &[GRat], freq: usize)
     let map = red.map.as_ref().map(|m| crate::ode::exp_map_text(m, &red.ode));
     let written_var = red.map.as_ref().map_or_else(|| red.var.clone(), |m| m.old_var.clone());
     let period = kappa.map(|k| 2.0 * std::f64::consts::PI / (k.abs() * solution.step as f64));
-    Ok(PeriodicReport { period, map, written_var, solution })
+    // Mode functions over one period of each solution in the written
+    // variable (the angle of ζ when the equation was given in ζ).
+    let functions = req.mode_functions.map(|_| ModeFunctions {
+        normalisation:
+            "the unknown over one period of the solution, with the integral of |y|^2 over it equal to 1, real and positive at the first sample",
+        modes: solution
+            .modes
+            .iter()
+            .map(|m| {
+                let (first, second) = super::periodic::mode_functions(&ode, &solution, m, kappa.unwrap_or(1.0), 256);
+                let second = second.map(|samples| MethodFunction { method: "monodromy", value: m.check.omega, samples });
+                ModeFunction::new(m.n, MethodFunction { method: "laurent", value: m.value, samples: first }, second)
+            })
+            .collect(),
+    });
+    Ok((PeriodicReport { period, map, written_var, solution }, functions))
 }
 
 /// What the global spectral method over a region works on.
@@ -1312,7 +1378,7 @@ fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) 
 }
 
 /// Quasinormal modes of a radial equation coupled to an angular one.
-fn coupled(red: &Reduction, req: &SpectrumRequest, c: &CoupleRequest, opts: &SpectrumOptions) -> Result<RecurrenceReport> {
+fn coupled(red: &Reduction, req: &SpectrumRequest, c: &CoupleRequest, opts: &SpectrumOptions) -> Result<(RecurrenceReport, Option<ModeFunctions>)> {
     let fixed: Vec<(String, GRat)> = req.values.iter().map(|(n, v, _)| (n.clone(), v.clone())).collect();
     let mut coupling = super::coupled::try_coupling(&red.field, &c.angular, &c.links, &fixed, opts.freq, c.index, c.guess).map_err(in_angular)?;
     let none = |_: u32| None;
@@ -1327,7 +1393,8 @@ fn coupled(red: &Reduction, req: &SpectrumRequest, c: &CoupleRequest, opts: &Spe
             (setup, found, Some(path))
         }
     };
-    Ok(RecurrenceReport {
+    let functions = req.mode_functions.map(|reach| coupled_functions(red, req, opts, &found, reach));
+    let report = RecurrenceReport {
         setup,
         modes: found.iter().map(|c| c.mode.clone()).collect(),
         checks: found.iter().map(|c| c.check.clone()).collect(),
@@ -1341,7 +1408,8 @@ fn coupled(red: &Reduction, req: &SpectrumRequest, c: &CoupleRequest, opts: &Spe
             path,
         }),
         notes: Vec::new(),
-    })
+    };
+    Ok((report, functions))
 }
 
 /// The marker of an error in the angular equation's own text: the caller
