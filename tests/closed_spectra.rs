@@ -272,3 +272,13 @@ fn heun_class_problems_say_so() {
     let note = doc["closed_form_note"].as_str().unwrap();
     assert!(note.contains("heun") && note.contains("Heun's"), "{note}");
 }
+
+#[test]
+fn closed_forms_carry_their_latex_beside_the_text() {
+    // Hydrogen: E_n = −Z²/(2(l + n + 1)²) (textbook, e.g. Landau & Lifshitz §36); the JSON
+    // gives the expression as text and, in the `NAME_latex` convention, as LaTeX.
+    let doc = run(&["spectrum", "samples/hydrogen_radial.ode", "--at", "Z=1,l=0", "--boundary", "bound", "--method", "exact", "--format", "json"]);
+    let fam = &doc["closed_form"]["families"][0];
+    assert_eq!(fam["expression"], "-1/2*Z^2/(l + n + 1)^2");
+    assert_eq!(fam["expression_latex"], "-\\frac{Z^{2}}{2 \\left(l + n + 1\\right)^{2}}");
+}

@@ -80,7 +80,8 @@
 //! problem says so) — or {`route` (the connection formula and the maps, in
 //! words), `families`: [{`family` (the exponent choices and root, in
 //! words), `expression` (the spectral parameter as text in the input
-//! language, in `n` and the parameters), `latex`, `n_range` {`first`,
+//! language, in `n` and the parameters), `expression_latex` (the same in
+//! LaTeX, the `NAME_latex` convention of every JSON document), `n_range` {`first`,
 //! `last` (null: unbounded; −1: no member at these values), `bound` ("n <
 //! EXPR" when the branch ends the family, or null), `branch` (the branch
 //! condition, or null)}, `values`: [{`n`, `omega` [re, im], `method`
@@ -96,10 +97,10 @@
 //! null with the reason in `polynomial_solutions_note`, or {`about` (the
 //! expansion point), `ansatz`, `series` (u = …), `degree` (N), `degree_from`
 //! (asked, or the lowest admissible, in words), `termination` {`general`
-//! (γ_{N+1} with N symbolic, as {`expression`, `latex`}), `at_degree` (at this
+//! (γ_{N+1} with N symbolic, as {`expression`, `expression_latex`}), `at_degree` (at this
 //! N, or null beyond the symbolic limit), `holds` (it vanishes at the given
 //! values)}, `condition` (the determinant of the first N + 1 equations with
-//! every parameter symbolic, {`expression`, `latex`}, or null with the reason
+//! every parameter symbolic, {`expression`, `expression_latex`}, or null with the reason
 //! in `condition_note`), `spectral` (the parameter solved for), `at_values`
 //! (the determinant at the given values, a polynomial in it), `roots`:
 //! [{`value` [re, im], `residual` (the last equation relative to its terms

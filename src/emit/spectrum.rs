@@ -95,7 +95,7 @@ pub fn json(r: &SpectrumReport) -> Value {
 }
 
 fn polynomial_json(p: &PolynomialSolutions) -> Value {
-    let both = |r: &crate::algebra::RatFunc| json!({"expression": p.show(r, Style::Text), "latex": p.show(r, Style::Latex)});
+    let both = |r: &crate::algebra::RatFunc| json!({"expression": p.show(r, Style::Text), "expression_latex": p.show(r, Style::Latex)});
     let roots: Vec<Value> =
         p.roots.as_ref().map_or(Vec::new(), |rs| rs.iter().map(|c| json!({"value": pair(c.value), "residual": opt_num(c.residual)})).collect());
     json!({
@@ -318,7 +318,7 @@ fn closed_json(form: &ClosedForm, values: &[Vec<(u32, Complex64)>], numeric: &[(
             json!({
                 "family": f.label,
                 "expression": f.value.text(&form.names),
-                "latex": f.value.latex(&form.names),
+                "expression_latex": f.value.latex(&form.names),
                 "n_range": closed_range_json(f),
                 "values": values,
             })
