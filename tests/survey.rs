@@ -430,10 +430,56 @@ fn a_two_parameter_grid_is_drawn_as_colour_maps() {
     for want in ["Re omega, n=0 (omega; l=2)", "Im omega, n=0", "no value (the mode did not converge, or the point failed): 0 at n=0, of 25 points"] {
         assert!(text.contains(want), "no {want:?} in the map");
     }
+    texts_inside(&text);
     // Asked for on a survey of one parameter: refused before any work.
     let o = canonode(&["scan", RN, "--vary", "q=0:0.2:0.1", "--at", "M=1,l=2", "--plot", &path(&d.join("x.svg")), "--plot-style", "map"], &[]);
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("a colour map needs a grid of exactly two --vary parameters"));
     assert!(!d.join("x.svg").exists());
     std::fs::remove_dir_all(&d).ok();
+}
+
+/// The layout of an SVG picture: every text lies inside the picture and
+/// off every coloured rectangle (map cells, colour bars, swatches), judged by
+/// its anchor, its font size and 0.62 em per character.
+fn texts_inside(svg: &str) {
+    let attr = |tag: &str, name: &str| -> Option<String> {
+        let i = tag.find(&format!(" {name}=\""))? + name.len() + 3;
+        Some(tag[i..].split('"').next()?.to_string())
+    };
+    let head = svg.split('>').next().unwrap();
+    let width: f64 = attr(head, "width").unwrap().parse().unwrap();
+    let num = |tag: &str, name: &str| -> f64 { attr(tag, name).unwrap().parse().unwrap() };
+    let rects: Vec<[f64; 4]> = svg
+        .split("<rect")
+        .skip(1)
+        .map(|p| p.split('>').next().unwrap())
+        .filter(|t| !matches!(attr(t, "fill").as_deref(), Some("none" | "#FFFFFF")))
+        .map(|t| [num(t, "x"), num(t, "y"), num(t, "x") + num(t, "width"), num(t, "y") + num(t, "height")])
+        .collect();
+    let mut seen = 0;
+    for part in svg.split("<text").skip(1) {
+        let (tag, rest) = part.split_once('>').unwrap();
+        if tag.contains("rotate(") {
+            continue;
+        }
+        let label = rest.split("</text>").next().unwrap().trim();
+        let x: f64 = attr(tag, "x").unwrap().parse().unwrap();
+        let size: f64 = attr(tag, "font-size").unwrap().parse().unwrap();
+        let w = 0.62 * size * label.chars().count() as f64;
+        let (left, right) = match attr(tag, "text-anchor").as_deref() {
+            Some("middle") => (x - w / 2.0, x + w / 2.0),
+            Some("end") => (x - w, x),
+            _ => (x, x + w),
+        };
+        assert!(left >= 0.0 && right <= width, "{label:?} spans {left:.0}..{right:.0} of a picture {width} wide");
+        let y = num(tag, "y");
+        let (top, bottom) = (y - 0.4 * size, y + 0.4 * size);
+        for r in &rects {
+            let apart = right <= r[0] || left >= r[2] || bottom <= r[1] || top >= r[3];
+            assert!(apart, "{label:?} at {left:.0}..{right:.0} × {top:.0}..{bottom:.0} overlaps the rectangle {r:?}");
+        }
+        seen += 1;
+    }
+    assert!(seen > 10, "only {seen} texts");
 }

@@ -551,11 +551,13 @@ fn draw_map<DB: DrawingBackend>(
                 }))
                 .map_err(|e| e.to_string())?;
             // The colour bar: the scale from lo to hi, labelled on its right.
+            // The labels on the bar's right, left-aligned, so that the
+            // panel's edge is the only bound on their length.
             let mut bar = ChartBuilder::on(&bar_area)
                 .margin_top(10)
                 .margin_bottom(50)
-                .margin_right(16)
-                .y_label_area_size(80)
+                .margin_left(8)
+                .right_y_label_area_size(84)
                 .build_cartesian_2d(0.0..1.0, lo..hi)
                 .map_err(|e| e.to_string())?;
             let steps = 100;
