@@ -577,7 +577,19 @@ fn modes_at(red: &Reduction, sub: Option<&Reduction>, rec: &Recurrence, setup: S
         }
         other => other?,
     };
-    let integ = if check { integration_check(r()?, opts, &setup).ok() } else { None };
+    // With an adjoined rate at infinity, the check is direct integration
+    // between the ends of the boundary problem (the branch there chosen at
+    // each trial ω by the same condition).
+    let integ: Option<Box<dyn Fn(Complex64) -> super::integrate::IntRoot + '_>> = match (check, &setup.rate) {
+        (false, _) => None,
+        (true, Some(_)) => {
+            let r = r()?;
+            super::boundary::try_problem(&r.field, &r.normal.q, &r.q, &opts.values, opts.freq, super::boundary::SpectrumKind::Quasinormal, None)
+                .ok()
+                .map(|bp| Box::new(move |w| super::ends::find_root(&bp, w, opts.tol)) as Box<dyn Fn(Complex64) -> super::integrate::IntRoot + '_>)
+        }
+        (true, None) => integration_check(r()?, opts, &setup).ok().map(|f| Box::new(f) as Box<dyn Fn(Complex64) -> super::integrate::IntRoot + '_>),
+    };
     Ok(modes
         .into_iter()
         .map(|m| {
