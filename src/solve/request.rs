@@ -788,7 +788,8 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
     let kind = spectrum_kind(req.problem);
     let (problem, classic) = boundary_problem(&red, req, &point, freq);
     let ends = problem.as_ref().ok().map(problem_ends);
-    let cf_asked = matches!(req.method, Method::Auto | Method::Cf);
+    // Only a field whose rate at infinity is adjoined has the continued fraction for quasi-bound states.
+    let cf_asked = matches!(req.method, Method::Auto | Method::Cf) && crate::series::rate::needs_rate(&red)?;
     if let Some(bp) = problem.as_ref().ok().filter(|bp| kind == SpectrumKind::QuasiBound && req.ends.is_none() && cf_asked && rated_ends(bp)) {
         // Quasi-bound states from a horizon to an irregular infinity: the
         // continued fraction with the decay rate adjoined, direct integration
