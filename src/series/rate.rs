@@ -38,6 +38,8 @@ pub struct AdjoinedRate {
     pub branch: usize,
     /// What χ stands for and what was substituted, in words.
     pub meaning: String,
+    /// The rewritten equation's analysis.
+    pub analysis: crate::analysis::Analysis,
 }
 
 fn usage(msg: impl Into<String>) -> Error {
@@ -172,7 +174,7 @@ pub fn adjoin_rate(red: &Reduction, freq: usize) -> Result<AdjoinedRate> {
         let name = &k.names()[el.index];
         let sub = if el.power == 1 { name.clone() } else { format!("{name}^2") };
         let meaning = format!("{symbol} = √({ptext}), adjoined as a symbol: {sub} = {} throughout", ratfunc_text(&el.value, kc.names(), Style::Text));
-        return Ok(AdjoinedRate { red: red2, index: chi, symbol, square, eliminated: el.index, branch: b + 1, meaning });
+        return Ok(AdjoinedRate { red: red2, index: chi, symbol, square, eliminated: el.index, branch: b + 1, meaning, analysis: an });
     }
     Err(cannot("but the equation holds each such parameter otherwise as well (or the rewritten one has no formal solution e^(−χz))"))
 }

@@ -296,8 +296,7 @@ pub struct Adjoined {
 /// coefficient, their square root χ is adjoined first (`series::rate`) and
 /// the series carries e^(−χz) there.
 pub fn qnm_derive(red: &Reduction, an: &crate::analysis::Analysis, choice: &QnmChoice) -> Result<(crate::series::Recurrence, Adjoined)> {
-    let needs = an.points.iter().any(|p| matches!(p.place, Place::Infinity) && p.kind == Kind::Irregular && p.formal.is_empty());
-    let adjoined = if needs { Some(crate::series::rate::adjoin_rate(red, choice.freq)?) } else { None };
+    let adjoined = if crate::series::rate::needs_rate(red)? { Some(crate::series::rate::adjoin_rate(red, choice.freq)?) } else { None };
     let mut picks = choice.picks.clone();
     let rate = adjoined.as_ref().map(|a| {
         picks.retain(|(l, _)| l != "∞" && l != "inf");
@@ -318,10 +317,9 @@ pub fn qnm_derive(red: &Reduction, an: &crate::analysis::Analysis, choice: &QnmC
         },
         HorizonChoice::Point { .. } => None,
     };
-    let rewritten = adjoined.as_ref().map(|a| crate::analysis::analyse(&a.red)).transpose()?;
-    let (red, an) = match (&adjoined, &rewritten) {
-        (Some(a), Some(an2)) => (&a.red, an2),
-        _ => (red, an),
+    let (red, an) = match &adjoined {
+        Some(a) => (&a.red, &a.analysis),
+        None => (red, an),
     };
     let choices = Choices { picks, values: Vec::new() };
     match (&choice.horizon, factor) {
