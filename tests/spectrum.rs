@@ -812,7 +812,8 @@ fn massive_scalar_quasi_bound_states_are_hydrogen_like() {
         let at = format!("M=1,mu={mu},l={l}");
         let ov = n.to_string();
         let (v, ms) = modes_of("tests/boundary/massive_scalar_schwarzschild.ode", &at, &["--boundary", "quasi-bound", "--overtones", &ov]);
-        assert_eq!(v["ends"][1]["condition"], "decaying");
+        assert_eq!(v["rate"]["condition"], "decaying", "{v}");
+        assert_eq!(ms[0]["method"], "cf", "{v}");
         let (re, im) = omega(&ms[0]);
         let hyd = mu * (1.0 - (mu * mu) / (2.0 * ((l as f64) + n as f64 + 1.0).powi(2)));
         // The next correction is of relative order (Mμ)⁴ (common practice).
@@ -1125,19 +1126,37 @@ fn boundary_problems_are_checked_by_the_global_spectral_method() {
     assert!(c["agreement"].as_f64().unwrap() < 1e-8, "{c}");
     // A massive field's exponent at infinity, −√(μ² − ω²), is not affine in
     // ω: the polynomial eigenvalue problem cannot be formed, and the second
-    // method is the collocation root with the ends' behaviour evaluated at
-    // each trial value. Both methods agree to better than 8 digits (the
-    // issue's requirement), for quasi-bound states and for the field's
-    // quasinormal modes.
+    // method beside direct integration between given ends (`--ends`) is the
+    // collocation root with the ends' behaviour evaluated at each trial
+    // value. By default the continued fraction with the square root adjoined
+    // solves, checked by direct integration. Each pair agrees to better than
+    // 8 digits relative to |ω| (the requirement), for quasi-bound
+    // states and for the field's quasinormal modes, and the continued
+    // fraction agrees with the collocation root too.
     for (at, boundary) in [("M=1,mu=0.1,l=0", "quasi-bound"), ("M=1,mu=0.3,l=1", "quasi-bound"), ("M=1,mu=0.1,l=1", "qnm")] {
-        let (v, code, err) =
-            run(&["spectrum", "tests/boundary/massive_scalar_schwarzschild.ode", "--at", at, "--boundary", boundary, "--format", "json"]);
+        let args = ["spectrum", "tests/boundary/massive_scalar_schwarzschild.ode", "--at", at, "--boundary", boundary, "--format", "json"];
+        let (v, code, err) = run(&[&args[..], &["--ends", "2..inf"]].concat());
         assert_eq!(code, 0, "{err}");
         assert!(v["check_method"].as_str().unwrap().contains("collocation"), "{v}");
         let c = &v["modes"][0]["check"];
         assert_eq!(c["method"], "collocation", "{at}: {v}");
         assert!(c["agreement"].as_f64().unwrap() < 1e-8, "{at}: {c}");
+        let colloc = (c["omega"][0].as_f64().unwrap(), c["omega"][1].as_f64().unwrap());
+        let (cf, code, err) = run(&args);
+        assert_eq!(code, 0, "{err}");
+        let m = &cf["modes"][0];
+        assert_eq!(m["method"], "cf", "{at}: {cf}");
+        assert_eq!(m["check"]["method"], "integrate", "{at}: {m}");
+        assert!(m["check"]["agreement"].as_f64().unwrap() < 1e-8, "{at}: {m}");
+        let w = omega(m);
+        let off = ((w.0 - colloc.0).powi(2) + (w.1 - colloc.1).powi(2)).sqrt() / w.0.hypot(w.1);
+        assert!(off < 1e-8, "{at}: continued fraction {w:?} against collocation {colloc:?} ({off:.1e})");
     }
+    // The quasinormal mode μ = 0.1, l = 1 is 0.29741566 − 0.09495707i (the
+    // value direct integration gave before the continued fraction existed).
+    let (_, ms) = modes_of("tests/boundary/massive_scalar_schwarzschild.ode", "M=1,mu=0.1,l=1", &["--boundary", "qnm"]);
+    let (re, im) = omega(&ms[0]);
+    assert!((re - 0.29741566).abs() < 5e-9 && (im + 0.09495707).abs() < 5e-9, "{re} {im}");
 }
 
 #[test]
@@ -1150,7 +1169,8 @@ fn massive_scalar_quasinormal_modes_tend_to_the_massless_ones() {
     for mu in [0.1, 0.05, 0.02] {
         let at = format!("M=1,mu={mu},l=1");
         let (v, ms) = modes_of("tests/boundary/massive_scalar_schwarzschild.ode", &at, &["--boundary", "qnm"]);
-        assert_eq!(v["ends"][1]["condition"], "outgoing", "{v}");
+        assert_eq!(v["rate"]["condition"], "outgoing", "{v}");
+        assert_eq!(ms[0]["method"], "cf", "{v}");
         let (re, im) = omega(&ms[0]);
         let off = ((re - 0.29293613).powi(2) + (im + 0.09765999).powi(2)).sqrt();
         assert!(off < 2.0 * mu * mu && off < last, "μ={mu}: {re} {im} ({off})");
@@ -1198,8 +1218,8 @@ fn quasi_bound_mode_functions_between_the_ends_by_both_methods() {
     // hydrogen-like far out: ψ ∝ r e^(−qr) with q = √(μ² − ω²), whose modulus
     // peaks at r = 1/q (the hydrogen 1s radial function u = rR, Landau &
     // Lifshitz §36, from memory; the horizon shifts it by O(M)). The function
-    // from direct integration's value and from the collocation root's value
-    // agree to 1e-8 relative to max |ψ|.
+    // from the continued fraction's value and from direct integration's
+    // value agree to 1e-8 relative to max |ψ|.
     let dir = std::env::temp_dir().join(format!("canonode-qb-functions-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     let path = dir.join("qb.json");
@@ -1220,7 +1240,8 @@ fn quasi_bound_mode_functions_between_the_ends_by_both_methods() {
     ]);
     assert_eq!(code, 0, "{err}");
     let f = &v["mode_functions"]["modes"][0];
-    assert_eq!(f["check"]["method"], "collocation", "{f}");
+    assert_eq!(f["method"], "cf", "{f}");
+    assert_eq!(f["check"]["method"], "integrate", "{f}");
     assert!(f["largest_difference"].as_f64().unwrap() < 1e-8, "{f}");
     let (re, im) = omega(&v["modes"][0]);
     let q = (num_complex::Complex64::new(0.01, 0.0) - num_complex::Complex64::new(re, im).powi(2)).sqrt().re;

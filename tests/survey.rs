@@ -94,6 +94,50 @@ fn a_two_parameter_survey_equals_the_one_parameter_scans_it_contains() {
     std::fs::remove_dir_all(&d).ok();
 }
 
+#[test]
+fn a_massive_survey_equals_its_one_parameter_scans_and_each_point_s_own_derivation() {
+    // A neutral scalar of mass μ on the charged black hole, quasinormal
+    // modes (outgoing at infinity), l = 2, n = 0: the survey over charge ×
+    // field mass runs on the continued fraction with χ = √(μ² − ω²) adjoined
+    // (derived once with q and μ symbolic). Every grid point equals the
+    // plain scan over q at that μ and `spectrum`'s own derivation at the
+    // point, to 1e-10 relative; at μ = 0 the massless sample's modes come
+    // back (the outgoing branch χ = −iω), and the check column is direct
+    // integration between the ends.
+    const MASSIVE: &str = "tests/boundary/massive_scalar_reissner_nordstrom.ode";
+    let grid = rows(&ok(&["scan", MASSIVE, "--vary", "q=0:0.4:0.1", "--vary", "mu=0:0.3:0.1", "--at", "M=1,l=2", "--no-check"]));
+    assert_eq!(grid.len(), 5 * 4);
+    for mu in ["0", "0.1", "0.2", "0.3"] {
+        let m: f64 = mu.parse().unwrap();
+        let line = rows(&ok(&["scan", MASSIVE, "--vary", "q=0:0.4:0.1", "--at", &format!("M=1,l=2,mu={mu}"), "--no-check"]));
+        assert_eq!(line.len(), 5);
+        for (_, v, n, re, im) in line {
+            let twin = grid.iter().find(|r| r.1 == vec![v[0], m] && r.2 == n).expect("the point is in the survey");
+            assert!(close((twin.3, twin.4), (re, im)), "q={} μ={mu}: {:?} against {:?}", v[0], (twin.3, twin.4), (re, im));
+        }
+    }
+    for (_, v, _, re, im) in grid.iter().filter(|r| r.1[0] == 0.3 || r.1[1] == 0.0) {
+        let at = format!("M=1,q={},mu={},l=2", v[0], v[1]);
+        let doc: serde_json::Value = serde_json::from_str(&ok(&["spectrum", MASSIVE, "--at", &at, "--format", "json", "--tol", "1e-12"])).unwrap();
+        assert_eq!(doc["modes"][0]["method"], "cf", "{doc}");
+        let w = &doc["modes"][0]["omega"];
+        assert!(close((*re, *im), (w[0].as_f64().unwrap(), w[1].as_f64().unwrap())), "at {at}: ({re}, {im}) against {w}");
+        if v[1] == 0.0 {
+            let massless: serde_json::Value =
+                serde_json::from_str(&ok(&["spectrum", RN, "--at", &format!("M=1,q={},l=2", v[0]), "--format", "json", "--tol", "1e-12"])).unwrap();
+            let w = &massless["modes"][0]["omega"];
+            assert!(close((*re, *im), (w[0].as_f64().unwrap(), w[1].as_f64().unwrap())), "μ = 0, q = {}: ({re}, {im}) against {w}", v[0]);
+        }
+    }
+    // The check column: direct integration agrees to 1e-8 relative.
+    let checked = ok(&["scan", MASSIVE, "--vary", "mu=0.1:0.2:0.1", "--at", "M=1,q=0.3,l=2"]);
+    for l in checked.lines().skip(2) {
+        let f: Vec<f64> = l.split(',').skip(3).take(5).filter_map(|x| x.parse().ok()).collect();
+        assert_eq!(f.len(), 4, "{l}");
+        assert!(((f[0] - f[2]).powi(2) + (f[1] - f[3]).powi(2)).sqrt() < 1e-8 * f[0].hypot(f[1]), "{l}");
+    }
+}
+
 // The long axis last: the walk runs along it, so that most shard boundaries
 // lie on a straight stretch where the continuity can be judged.
 const SURVEY: [&str; 9] = ["--vary", "l=1:2:1", "--vary", "q=0:0.9:0.05", "--at", "M=1", "--overtones", "0..1", "--no-check"];

@@ -63,7 +63,7 @@ fn opt_num(x: Option<f64>) -> Value {
 /// The report as its JSON document.
 pub fn json(r: &SpectrumReport) -> Value {
     let mut doc = match &r.body {
-        Body::Recurrence(b) => recurrence_json(&r.frequency, b),
+        Body::Recurrence(b) => recurrence_json(&r.frequency, r.problem, b),
         Body::Ends(b) => ends_json(&r.frequency, b),
         Body::Bound(b) => bound_json(&r.frequency, b),
         Body::Estimates(b) => estimates_json(&r.frequency, b),
@@ -158,7 +158,7 @@ pub fn csv(r: &SpectrumReport) -> String {
 /// The report as a text table with the evidence; `source` names the equation.
 pub fn text(r: &SpectrumReport, source: &str) -> String {
     let mut o = match &r.body {
-        Body::Recurrence(b) => recurrence_text(&r.frequency, &r.var, source, b),
+        Body::Recurrence(b) => recurrence_text(&r.frequency, &r.var, source, r.problem, b),
         Body::Ends(b) => ends_text(&r.frequency, &r.var, source, b),
         Body::Bound(b) => bound_text(&r.frequency, source, b),
         Body::Estimates(b) => estimates_text(&r.frequency, source, b),
@@ -353,7 +353,7 @@ fn recurrence_method(b: &RecurrenceReport) -> &'static str {
     }
 }
 
-fn recurrence_json(fname: &str, b: &RecurrenceReport) -> Value {
+fn recurrence_json(fname: &str, problem: Problem, b: &RecurrenceReport) -> Value {
     let ms: Vec<Value> = b
         .modes
         .iter()
@@ -402,7 +402,7 @@ fn recurrence_json(fname: &str, b: &RecurrenceReport) -> Value {
     let setup = &b.setup;
     let mut doc = json!({
         "frequency": fname,
-        "boundary": "qnm",
+        "boundary": problem.tag(),
         "horizon": setup.horizon,
         "ansatz": setup.ansatz,
         "choices": setup.choices,
@@ -420,6 +420,9 @@ fn recurrence_json(fname: &str, b: &RecurrenceReport) -> Value {
         if let Some(p) = &c.path {
             m.insert("continuation".into(), path_json(p));
         }
+    }
+    if let (Some(r), Value::Object(m)) = (&setup.rate, &mut doc) {
+        m.insert("rate".into(), json!({"symbol": r.symbol, "meaning": r.meaning, "condition": r.condition.name()}));
     }
     doc
 }
@@ -498,10 +501,11 @@ fn recurrence_csv(b: &RecurrenceReport) -> String {
     o
 }
 
-fn recurrence_text(fname: &str, var: &str, source: &str, b: &RecurrenceReport) -> String {
+fn recurrence_text(fname: &str, var: &str, source: &str, problem: Problem, b: &RecurrenceReport) -> String {
     let setup = &b.setup;
     let mut o = String::new();
-    o.push_str(&format!("quasinormal modes of {source} ({fname}), time dependence e^(-i*{fname}*t)\n"));
+    let what = if problem == Problem::QuasiBound { "quasi-bound states" } else { "quasinormal modes" };
+    o.push_str(&format!("{what} of {source} ({fname}), time dependence e^(-i*{fname}*t)\n"));
     if let Some(c) = &b.coupled {
         let ang = &c.angular;
         o.push_str(&format!(

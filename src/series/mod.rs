@@ -18,6 +18,8 @@ use crate::analysis::{analyse_equation, Kind, Place, SingularPoint};
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::{change_variable, normal_q, prefactor, Reduction};
 
+pub mod rate;
+
 /// A derived recurrence.
 #[derive(Debug)]
 pub struct Recurrence {

@@ -52,8 +52,69 @@ impl NPoly {
 /// A recurrence Σⱼ cⱼ(n, ω) a_{n+1−j} = 0 with numeric coefficients.
 #[derive(Clone, Debug)]
 pub struct NumRecurrence {
-    /// cⱼ, j = 0..k−1.
+    /// cⱼ, j = 0..k−1 (with an adjoined rate χ, their part free of χ).
     pub terms: Vec<NPoly>,
+    /// An adjoined square root χ(ω) the coefficients also hold.
+    pub rate: Option<NumRate>,
+}
+
+/// The part of a recurrence's coefficients in an adjoined square root χ
+/// (`series::rate`), and χ as a function of ω.
+#[derive(Clone, Debug)]
+pub struct NumRate {
+    /// `powers[j][c]` multiplies χ^(c+1) in cⱼ.
+    pub powers: Vec<Vec<NPoly>>,
+    /// χ(ω).
+    pub branch: RateBranch,
+}
+
+/// χ(ω) with χ² = P(ω): the series carries the formal solution e^(−χz) at
+/// infinity, so −χ is its rate, taken on the branch the end's condition
+/// picks (`ends::pick_rate`, the choice direct integration makes):
+/// decaying, Re χ > 0; outgoing, continuous with the massless e^(+iωz).
+#[derive(Clone, Debug)]
+pub struct RateBranch {
+    /// P's numerator and denominator in ω (the other parameters at their values).
+    pub square: (NPoly, NPoly),
+    /// The condition at infinity.
+    pub condition: super::boundary::Condition,
+}
+
+impl RateBranch {
+    /// χ at ω, `None` where P cannot be evaluated or the condition is not one at infinity.
+    pub fn at(&self, w: Complex64) -> Option<Complex64> {
+        let p = super::spectrum::eval_in_omega(&self.square, w);
+        if !(p.re.is_finite() && p.im.is_finite()) {
+            return None;
+        }
+        let s = p.sqrt();
+        super::ends::pick_rate(self.condition, w, -s, s).ok().map(|rate| -rate)
+    }
+}
+
+impl NumRecurrence {
+    /// The coefficients as polynomials in n at ω (χ at its branch);
+    /// `None` where χ cannot be evaluated.
+    pub fn at_omega(&self, w: Complex64) -> Option<Vec<Vec<Complex64>>> {
+        let mut out: Vec<Vec<Complex64>> = self.terms.iter().map(|t| t.at_omega(w)).collect();
+        if let Some(rate) = &self.rate {
+            let chi = rate.branch.at(w)?;
+            for (j, parts) in rate.powers.iter().enumerate() {
+                let mut power = Complex64::new(1.0, 0.0);
+                for part in parts {
+                    power *= chi;
+                    let v = part.at_omega(w);
+                    if out[j].len() < v.len() {
+                        out[j].resize(v.len(), Complex64::new(0.0, 0.0));
+                    }
+                    for (o, x) in out[j].iter_mut().zip(v) {
+                        *o += power * x;
+                    }
+                }
+            }
+        }
+        Some(out)
+    }
 }
 
 /// Substitutes numeric values for every parameter except the frequency
@@ -79,7 +140,32 @@ pub fn try_numeric_at(rec: &Recurrence, values: &[Complex64], freq: usize) -> Re
         }
         terms.push(super::npoly_at(c.num(), c.scale().to_f64(), values, freq));
     }
-    Ok(NumRecurrence { terms })
+    Ok(NumRecurrence { terms, rate: None })
+}
+
+/// [`try_numeric`] for a recurrence whose field holds an adjoined square
+/// root χ at index `chi` (`series::rate`): each coefficient split by powers
+/// of χ, which is evaluated at each trial ω on `branch`.
+pub fn try_numeric_with_rate(rec: &Recurrence, values: &[GRat], freq: usize, chi: usize, branch: RateBranch) -> Result<NumRecurrence> {
+    let vals: Vec<Complex64> = values
+        .iter()
+        .map(|x| {
+            let (re, im) = x.to_f64();
+            Complex64::new(re, im)
+        })
+        .collect();
+    let mut terms = Vec::new();
+    let mut powers = Vec::new();
+    for c in &rec.coeffs {
+        if !c.den_factors().is_empty() {
+            return Err(Error::new(ErrorKind::Internal, "a recurrence coefficient is not a polynomial"));
+        }
+        let scale = c.scale().to_f64();
+        let mut parts = c.num().to_univariate(chi).into_iter().map(|p| super::npoly_at(&p, scale, &vals, freq));
+        terms.push(parts.next().unwrap_or_default());
+        powers.push(parts.collect());
+    }
+    Ok(NumRecurrence { terms, rate: Some(NumRate { powers, branch }) })
 }
 
 /// The recurrence's three coefficients as polynomials in n at a given ω.
@@ -304,7 +390,8 @@ pub fn inversion(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> O
     if rec.terms.len() != 3 {
         return None;
     }
-    let t = Three::new(rec.terms[0].at_omega(w), rec.terms[1].at_omega(w), rec.terms[2].at_omega(w));
+    let [a, b, g]: [Vec<Complex64>; 3] = rec.at_omega(w)?.try_into().ok()?;
+    let t = Three::new(a, b, g);
     let depth = depth.max(k + 2);
     let tail = tail_coefficients(&t, 10);
     let n_f = depth as f64;
@@ -356,7 +443,7 @@ pub fn inversion(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> O
 fn inversion_reduced(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<(Complex64, Complex64)> {
     let depth = depth.max(k + 2);
     let kk = rec.terms.len();
-    let polys: Vec<Vec<Complex64>> = rec.terms.iter().map(|t| t.at_omega(w)).collect();
+    let polys: Vec<Vec<Complex64>> = rec.at_omega(w)?;
     // c[n][j] for n = 0..=depth+1.
     let mut c: Vec<Vec<Complex64>> = (0..=depth + 1).map(|n| polys.iter().map(|p| poly_n(p, n as f64)).collect()).collect();
     let mut terms = kk;
@@ -527,6 +614,24 @@ mod tests {
         let rec = crate::series::recurrence(&red, "2*M", None, &choices, false).unwrap();
         let g = |x: i64| GRat::real(Rat::int(x.into()));
         try_numeric(&rec, &[g(0), g(1), g(0), g(l), g(s)], 2).unwrap()
+    }
+
+    #[test]
+    fn an_adjoined_rate_takes_the_branch_of_its_condition() {
+        use crate::solve::boundary::Condition;
+        // χ² = μ² − ω² (μ = 0.1): P as a polynomial in ω.
+        let square = |mu: f64| {
+            let num = NPoly { c: vec![vec![Complex64::new(mu * mu, 0.0), Complex64::new(0.0, 0.0), Complex64::new(-1.0, 0.0)]] };
+            let den = NPoly { c: vec![vec![Complex64::new(1.0, 0.0)]] };
+            (num, den)
+        };
+        let w = Complex64::new(0.099, -1e-5);
+        let decaying = RateBranch { square: square(0.1), condition: Condition::Decaying }.at(w).unwrap();
+        assert!(decaying.re > 0.0 && (decaying * decaying - (0.01 - w * w)).norm() < 1e-15);
+        // Outgoing: as μ → 0 the rate −χ tends to the massless e^(+iωz), χ → −iω.
+        let w = Complex64::new(0.3, -0.1);
+        let outgoing = RateBranch { square: square(1e-6), condition: Condition::Outgoing }.at(w).unwrap();
+        assert!((outgoing + Complex64::i() * w).norm() < 1e-9, "{outgoing}");
     }
 
     #[test]

@@ -79,24 +79,7 @@ pub(super) fn far_branch(k: &Coeffs, cond: Condition, w: Complex64) -> Result<(C
     let (an, bn, cn) = (k.a[n], g(&k.b, n), g(&k.c, n));
     let s = (bn * bn - 4.0 * an * cn).sqrt();
     let (m1, m2) = ((-bn + s) / (2.0 * an), (-bn - s) / (2.0 * an));
-    let sign = if w.re < 0.0 { -1.0 } else { 1.0 };
-    let mu = match cond {
-        Condition::Outgoing => {
-            if m1.im * sign >= m2.im * sign {
-                m1
-            } else {
-                m2
-            }
-        }
-        Condition::Decaying => {
-            if m1.re <= m2.re {
-                m1
-            } else {
-                m2
-            }
-        }
-        _ => return Err("a finite-end condition at an irregular infinity".into()),
-    };
+    let mu = pick_rate(cond, w, m1, m2)?;
     // ν from the next order: E_{N−1} + F_N ν = 0, E = μ²A + μB + C, F = 2μA + B.
     let e1 = mu * mu * g(&k.a, n - 1) + mu * g(&k.b, n - 1) + g(&k.c, n - 1);
     let f = 2.0 * mu * an + bn;
@@ -104,6 +87,20 @@ pub(super) fn far_branch(k: &Coeffs, cond: Condition, w: Complex64) -> Result<(C
         return Err("the two exponential factors at infinity coincide".into());
     }
     Ok((mu, -e1 / f))
+}
+
+/// Of the two rates m₁, m₂ of e^(mz) at an irregular infinity, the one the
+/// condition picks at ω: outgoing, Im m of the sign of Re ω (e^(+ikz) with
+/// Re k > 0 for Re ω > 0); decaying, the smaller Re m.
+pub(super) fn pick_rate(cond: Condition, w: Complex64, m1: Complex64, m2: Complex64) -> Result<Complex64, String> {
+    let sign = if w.re < 0.0 { -1.0 } else { 1.0 };
+    match cond {
+        Condition::Outgoing => Ok(if m1.im * sign >= m2.im * sign { m1 } else { m2 }),
+        Condition::Decaying => Ok(if m1.re <= m2.re { m1 } else { m2 }),
+        Condition::IntoHorizon | Condition::OutOfHorizon | Condition::Normalisable | Condition::SlowerFallOff => {
+            Err("a finite-end condition at an irregular infinity".into())
+        }
+    }
 }
 
 /// The normalised Wronskian of the two end solutions at ω, and the Taylor

@@ -777,7 +777,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
         let (report, functions) = periodic(red, req, &point, freq)?;
         return Ok(done(Body::Periodic(report), functions, None));
     }
-    let red = super::spectrum::substitute(red, &point, freq)?;
+    let red = super::spectrum::substitute_for_series(red, &point, &[freq])?;
     if req.problem == Problem::Bound && req.ends.is_none() {
         let (b, f) = bound_states(&red, req, &opts)?;
         return Ok(done(Body::Bound(b), f, None));
@@ -790,8 +790,25 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
     let kind = spectrum_kind(req.problem);
     let (problem, classic) = boundary_problem(&red, req, &point, freq);
     let ends = problem.as_ref().ok().map(problem_ends);
+    // Only a field whose rate at infinity is adjoined has the continued fraction for quasi-bound states.
+    let cf_asked = matches!(req.method, Method::Auto | Method::Cf) && crate::series::rate::needs_rate(&red)?;
+    if let Some(bp) = problem.as_ref().ok().filter(|bp| kind == SpectrumKind::QuasiBound && req.ends.is_none() && cf_asked && rated_ends(bp)) {
+        // Quasi-bound states from a horizon to an irregular infinity: the
+        // continued fraction with the decay rate adjoined, direct integration
+        // between the ends as its check.
+        match recurrence_route(&red, req, &opts, None, Some(bp)) {
+            Ok((body, f)) => return Ok(done(body, f, ends)),
+            Err(e) if req.method == Method::Cf => return Err(e),
+            Err(e) => {
+                let note = format!("the continued fraction could not be set up ({}); direct integration between the ends instead", e.message);
+                let report = between_ends(problem?, req, &opts, Some(note));
+                let f = ends_functions(req, &report);
+                return Ok(done(Body::Ends(report), f, None));
+            }
+        }
+    }
     if classic {
-        match recurrence_route(&red, req, &opts, eikonal) {
+        match recurrence_route(&red, req, &opts, eikonal, problem.as_ref().ok()) {
             // No estimate seeds an overtone: the global spectral method does.
             Err(e) if opts.guess.is_none() && e.message.starts_with(super::spectrum::NO_SEED) && problem.is_ok() => {
                 let seeds = problem.as_ref().map(|bp| super::global::seeds(bp, opts.overtones)).unwrap_or_default();
@@ -799,7 +816,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
                     return Err(e);
                 }
                 let opts = SpectrumOptions { seeds, ..opts.clone() };
-                let (body, f) = recurrence_route(&red, req, &opts, None)?;
+                let (body, f) = recurrence_route(&red, req, &opts, None, problem.as_ref().ok())?;
                 return Ok(done(body, f, ends));
             }
             Err(e) if e.kind == ErrorKind::Usage && problem.is_ok() && req.method == Method::Auto => {
@@ -950,6 +967,13 @@ fn bound_ends_functions(r: &EndsReport) -> ModeFunctions {
         })
         .collect();
     ModeFunctions { normalisation: "the normal form's psi, with the integral of |psi|^2 equal to 1, real and positive next to the first end", modes }
+}
+
+/// True for the ends the recurrence route with an adjoined rate covers: a
+/// horizon on the left, an irregular infinity of rank 1 on the right.
+fn rated_ends(bp: &BoundaryProblem) -> bool {
+    use super::boundary::Nature;
+    bp.ends[0].nature == Nature::Horizon && bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::IrregularRank1
 }
 
 /// The boundary problem of a (substituted) reduction, and whether the exact
@@ -1229,9 +1253,13 @@ fn recurrence_route(
     req: &SpectrumRequest,
     opts: &SpectrumOptions,
     eikonal: Option<(String, usize, Reduction)>,
+    bp: Option<&BoundaryProblem>,
 ) -> Result<(Body, Option<ModeFunctions>)> {
     let (rec, setup0) = super::spectrum::qnm_recurrence(red, opts)?;
-    let estimates = super::spectrum::barrier_estimates(red, opts, setup0.horizon_value, req.wkb_order).ok();
+    let quasi_bound = req.problem == Problem::QuasiBound;
+    let setup0 = if quasi_bound { setup0.decaying()? } else { setup0 };
+    // Quasi-bound states are seeded by the hydrogen-like levels, never by the barrier.
+    let estimates = if quasi_bound { None } else { super::spectrum::barrier_estimates(red, opts, setup0.horizon_value, req.wkb_order).ok() };
     if matches!(req.method, Method::Wkb | Method::Eikonal) {
         let Some(est) = &estimates else {
             return Err(usage("no potential barrier could be built for WKB: the equation has no rational tortoise coordinate"));
@@ -1249,13 +1277,36 @@ fn recurrence_route(
         return Ok((Body::Estimates(EstimateReport { wkb: req.method == Method::Wkb, order: req.wkb_order, limit, rows }), None));
     }
     // Seeds only from estimates in the lower half-plane (wkb.rs: WkbSeries::seed).
-    let estimate = |n: u32| -> Option<(Complex64, String)> { estimates.as_ref().and_then(|e| e(n)).and_then(|b| b.series.seed()) };
-    let (mut modes, setup) = super::spectrum::qnm_modes_from(&rec, setup0.clone(), opts, &estimate)?;
+    let estimate = |n: u32| -> Option<(Complex64, String)> {
+        if quasi_bound {
+            return bp.and_then(|bp| super::ends::hydrogenic_seed(bp, n)).map(|s| (s.omega, s.from));
+        }
+        estimates.as_ref().and_then(|e| e(n)).and_then(|b| b.series.seed())
+    };
+    let (mut modes, setup) = if quasi_bound && opts.guess.is_none() {
+        // Each level from its own hydrogen-like seed (the levels crowd below
+        // the continuum edge, where extrapolation from two levels overshoots).
+        let mut all = Vec::new();
+        for n in opts.overtones.0..=opts.overtones.1 {
+            let one = SpectrumOptions { overtones: (n, n), ..opts.clone() };
+            all.extend(super::spectrum::qnm_modes_from(&rec, setup0.clone(), &one, &estimate)?.0);
+        }
+        (all, setup0.clone())
+    } else {
+        super::spectrum::qnm_modes_from(&rec, setup0.clone(), opts, &estimate)?
+    };
     let wkb = modes.iter().map(|m| estimates.as_ref().and_then(|e| e(m.n)).map(|b| b.series.omega())).collect();
     let notes = super::spectrum::degenerate_notes(&rec, &setup, opts, &modes);
     // The independent check: direct integration, seeded 1e-4 away from the
-    // continued-fraction root (or, with Method::Integrate, from the seed).
-    let integ = super::spectrum::integration_check(red, opts, &setup).ok();
+    // continued-fraction root (or, with Method::Integrate, from the seed);
+    // with an adjoined rate, between the ends of the boundary problem (the
+    // branch at infinity chosen at each trial ω by the same condition).
+    let integ: Option<Box<dyn Fn(Complex64) -> IntRoot + '_>> = match (&setup.rate, bp) {
+        (Some(_), Some(bp)) => Some(Box::new(move |w| super::ends::find_root(bp, w, opts.tol))),
+        (Some(_), None) => None,
+        (None, _) => super::spectrum::integration_check(red, opts, &setup).ok().map(|f| Box::new(f) as Box<dyn Fn(Complex64) -> IntRoot + '_>),
+    };
+    let nudge = if quasi_bound { Complex64::new(1.0 + 1e-7, 0.0) } else { Complex64::new(1.0 + 1e-4, 1e-4) };
     let mut checks: Vec<Option<IntRoot>> = Vec::new();
     for m in modes.iter_mut() {
         let check = match &integ {
@@ -1273,13 +1324,31 @@ fn recurrence_route(
                 m.method = ModeMethod::Integrate;
                 None
             }
-            Some(f) if m.method == ModeMethod::ContinuedFraction && m.root.converged => Some(f(m.root.omega * Complex64::new(1.0 + 1e-4, 1e-4))),
+            // Quasi-bound levels crowd below the continuum edge (spacing ~ (Mμ)²/n³ of ω, Im ω far
+            // smaller): their check starts much nearer the root.
+            Some(f) if m.method == ModeMethod::ContinuedFraction && m.root.converged => Some(f(m.root.omega * nudge)),
             _ => None,
         };
         checks.push(check);
     }
-    let functions = match req.mode_functions {
-        Some(reach) => {
+    let functions = match (req.mode_functions, &setup.rate, bp) {
+        (Some(reach), Some(_), Some(bp)) => {
+            // ψ of the normal form from the horizon's Frobenius series, as between the ends.
+            let fs = modes
+                .iter()
+                .zip(&checks)
+                .filter(|(m, _)| m.root.converged)
+                .map(|(m, c)| {
+                    let second = c.as_ref().filter(|r| r.converged).map(|r| left_end_function(bp, ModeMethod::Integrate.tag(), r.omega, reach));
+                    ModeFunction::new(m.n, left_end_function(bp, m.method.tag(), m.root.omega, reach), second)
+                })
+                .collect();
+            Some(ModeFunctions {
+                normalisation: "the normal form's ψ, with unit leading coefficient of its Frobenius series at the left end",
+                modes: fs,
+            })
+        }
+        (Some(reach), _, _) => {
             // The unknown itself, from the horizon's Frobenius series with unit leading coefficient.
             let pb = super::scatter::problem(red, opts, &setup)?;
             let at = |method: &'static str, w: Complex64| MethodFunction {
@@ -1299,7 +1368,7 @@ fn recurrence_route(
                 .collect();
             Some(ModeFunctions { normalisation: "the unknown, with unit leading coefficient of its Frobenius series at the horizon", modes: fs })
         }
-        None => None,
+        (None, _, _) => None,
     };
     Ok((Body::Recurrence(RecurrenceReport { setup, modes, checks, wkb, wkb_order: req.wkb_order, coupled: None, notes }), functions))
 }

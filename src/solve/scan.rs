@@ -14,7 +14,7 @@
 //! the same numbers as one that was never interrupted. A walk can be split
 //! into shards for separate processes or cluster jobs.
 
-use super::spectrum::{integration_check, qnm_modes_from, qnm_recurrence, substitute, Mode, QnmChoice, RootUse, Setup, SpectrumOptions};
+use super::spectrum::{integration_check, qnm_modes_from, qnm_recurrence, substitute, Adjoined, Mode, QnmChoice, Setup, SpectrumOptions};
 use crate::algebra::{GRat, Rat};
 use crate::error::Result;
 use crate::ode::Reduction;
@@ -540,7 +540,7 @@ fn continues(last: &[Complex64], second: Option<&[Complex64]>, next: Option<&[Co
 /// exactly, the recurrence derived, seeds from WKB (wkb::SEED_ORDER) when no
 /// neighbour gave them, the integration check when asked.
 pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Result<SolvedPoint> {
-    let r = substitute(red, &opts.values, opts.freq)?;
+    let r = super::spectrum::substitute_for_series(red, &opts.values, &[opts.freq])?;
     let (rec, setup) = qnm_recurrence(&r, opts)?;
     modes_at(red, Some(&r), &rec, setup, opts, check)
 }
@@ -577,7 +577,19 @@ fn modes_at(red: &Reduction, sub: Option<&Reduction>, rec: &Recurrence, setup: S
         }
         other => other?,
     };
-    let integ = if check { integration_check(r()?, opts, &setup).ok() } else { None };
+    // With an adjoined rate at infinity, the check is direct integration
+    // between the ends of the boundary problem (the branch there chosen at
+    // each trial ω by the same condition).
+    let integ: Option<Box<dyn Fn(Complex64) -> super::integrate::IntRoot + '_>> = match (check, &setup.rate) {
+        (false, _) => None,
+        (true, Some(_)) => {
+            let r = r()?;
+            super::boundary::try_problem(&r.field, &r.normal.q, &r.q, &opts.values, opts.freq, super::boundary::SpectrumKind::Quasinormal, None)
+                .ok()
+                .map(|bp| Box::new(move |w| super::ends::find_root(&bp, w, opts.tol)) as Box<dyn Fn(Complex64) -> super::integrate::IntRoot + '_>)
+        }
+        (true, None) => integration_check(r()?, opts, &setup).ok().map(|f| Box::new(f) as Box<dyn Fn(Complex64) -> super::integrate::IntRoot + '_>),
+    };
     Ok(modes
         .into_iter()
         .map(|m| {
@@ -629,14 +641,14 @@ struct Symbolic {
     /// The numerators of p, q and Q.
     numerators: Vec<crate::algebra::Poly>,
     /// The recurrence and the choice it was derived from (`None` when the derivation failed).
-    derived: std::cell::OnceCell<Option<(QnmChoice, Recurrence, RootUse)>>,
+    derived: std::cell::OnceCell<Option<(QnmChoice, Recurrence, Adjoined)>>,
 }
 
 impl Symbolic {
     fn new(red: &Reduction, o: &SpectrumOptions, varied: &[usize]) -> Option<Symbolic> {
-        let mut keep = varied.to_vec();
-        keep.push(o.freq);
-        let sym = super::spectrum::substitute_keeping(red, &o.values, &keep).ok()?;
+        let mut keep = vec![o.freq];
+        keep.extend_from_slice(varied);
+        let sym = super::spectrum::substitute_for_series(red, &o.values, &keep).ok()?;
         let an = crate::analysis::analyse(&sym).ok()?;
         let mut factors: Vec<crate::algebra::Poly> = Vec::new();
         for r in [&sym.p, &sym.q, &sym.normal.q] {

@@ -89,6 +89,40 @@ pub struct Setup {
     /// The analysis the choices were made from (the integration check reads
     /// the same exponents and formal solutions).
     pub analysis: crate::analysis::Analysis,
+    /// A square root adjoined at infinity (a massive field's decay rate).
+    pub rate: Option<RateSetup>,
+}
+
+/// A square root χ, χ² = P, adjoined at an irregular infinity
+/// (`series::rate`), and the branch it is evaluated on.
+#[derive(Clone, Debug)]
+pub struct RateSetup {
+    /// χ's name.
+    pub symbol: String,
+    /// χ's index in the recurrence's field (the equation's field length).
+    pub index: usize,
+    /// P in the equation's field.
+    pub square: crate::algebra::RatFunc,
+    /// What χ stands for, in words.
+    pub meaning: String,
+    /// The condition at infinity that picks χ(ω): outgoing for quasinormal
+    /// modes, decaying for quasi-bound states.
+    pub condition: super::boundary::Condition,
+}
+
+impl Setup {
+    /// The set-up for quasi-bound states (decaying at infinity) instead of
+    /// quasinormal modes: only a recurrence with an adjoined rate has the
+    /// choice, since its branch is picked at each trial ω.
+    pub fn decaying(mut self) -> Result<Setup> {
+        match &mut self.rate {
+            Some(r) => {
+                r.condition = super::boundary::Condition::Decaying;
+                Ok(self)
+            }
+            None => Err(usage("the continued fraction for quasi-bound states needs a square root adjoined at ∞ (a massive field)")),
+        }
+    }
 }
 
 fn usage(msg: impl Into<String>) -> Error {
@@ -100,8 +134,8 @@ fn usage(msg: impl Into<String>) -> Error {
 pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate::series::Recurrence, Setup)> {
     let an = analyse(red)?;
     let choice = qnm_choice(red, &an, opts)?;
-    let (rec, root) = qnm_derive(red, &an, &choice)?;
-    let setup = qnm_setup(&rec, root, an, choice);
+    let (rec, adjoined) = qnm_derive(red, &an, &choice)?;
+    let setup = qnm_setup(&rec, adjoined, an, choice);
     Ok((rec, setup))
 }
 
@@ -141,6 +175,8 @@ pub struct QnmChoice {
     pub said: Vec<String>,
     /// The horizon.
     pub horizon: HorizonChoice,
+    /// The spectral parameter's field index.
+    pub freq: usize,
 }
 
 impl QnmChoice {
@@ -197,7 +233,7 @@ pub fn qnm_choice(red: &Reduction, an: &crate::analysis::Analysis, opts: &Spectr
         }
     }
     if let Some((zr, i)) = best_root.filter(|(zr, _)| best.as_ref().is_none_or(|(b, _)| *zr > *b)) {
-        return Ok(QnmChoice { picks, said, horizon: HorizonChoice::Root { index: i, value: zr } });
+        return Ok(QnmChoice { picks, said, horizon: HorizonChoice::Root { index: i, value: zr }, freq: opts.freq });
     }
     let Some((horizon_value, horizon)) = best else {
         return Err(usage("no horizon-like regular point: the quasinormal-mode series needs one"));
@@ -237,32 +273,85 @@ pub fn qnm_choice(red: &Reduction, an: &crate::analysis::Analysis, opts: &Spectr
         (None, true) => None,
         (None, false) => Some(format!("u={} - ({horizon})", red.var)),
     };
-    Ok(QnmChoice { picks, said, horizon: HorizonChoice::Point { text: horizon, value: horizon_value, series } })
+    Ok(QnmChoice { picks, said, horizon: HorizonChoice::Point { text: horizon, value: horizon_value, series }, freq: opts.freq })
 }
 
 /// About an adjoined root: the exponent used there (0-based) and what the
 /// symbol stands for.
 pub type RootUse = Option<(usize, String)>;
 
+/// What a derivation adjoined as symbols: the horizon's root, and a square
+/// root at infinity.
+#[derive(Clone, Debug, Default)]
+pub struct Adjoined {
+    /// About an adjoined root of the horizon's factor.
+    pub root: RootUse,
+    /// The square root adjoined at infinity (its condition is outgoing until
+    /// [`Setup::decaying`] changes it).
+    pub rate: Option<RateSetup>,
+}
+
 /// The exact recurrence of a [`QnmChoice`] (only its discrete part matters).
-pub fn qnm_derive(red: &Reduction, an: &crate::analysis::Analysis, choice: &QnmChoice) -> Result<(crate::series::Recurrence, RootUse)> {
-    let choices = Choices { picks: choice.picks.clone(), values: Vec::new() };
-    match &choice.horizon {
-        HorizonChoice::Point { text, series, .. } => Ok((crate::series::recurrence(red, text, series.as_deref(), &choices, false)?, None)),
-        HorizonChoice::Root { index, .. } => {
+/// When the formal solutions at an irregular infinity have no exact leading
+/// coefficient, their square root χ is adjoined first (`series::rate`) and
+/// the series carries e^(−χz) there.
+pub fn qnm_derive(red: &Reduction, an: &crate::analysis::Analysis, choice: &QnmChoice) -> Result<(crate::series::Recurrence, Adjoined)> {
+    let adjoined = if crate::series::rate::needs_rate(red)? { Some(crate::series::rate::adjoin_rate(red, choice.freq)?) } else { None };
+    let mut picks = choice.picks.clone();
+    let rate = adjoined.as_ref().map(|a| {
+        picks.retain(|(l, _)| l != "∞" && l != "inf");
+        picks.push(("∞".to_string(), a.branch));
+        RateSetup {
+            symbol: a.symbol.clone(),
+            index: a.index,
+            square: a.square.clone(),
+            meaning: a.meaning.clone(),
+            condition: super::boundary::Condition::Outgoing,
+        }
+    });
+    // The horizon's factor, when it is a root of one (found again in the rewritten analysis).
+    let factor = match &choice.horizon {
+        HorizonChoice::Root { index, .. } => match &an.points.get(*index).map(|p| &p.place) {
+            Some(Place::Roots(f)) => Some(f.clone()),
+            _ => return Err(Error::new(ErrorKind::Internal, "the horizon's index is not a root of a factor")),
+        },
+        HorizonChoice::Point { .. } => None,
+    };
+    let (red, an) = match &adjoined {
+        Some(a) => (&a.red, &a.analysis),
+        None => (red, an),
+    };
+    let choices = Choices { picks, values: Vec::new() };
+    match (&choice.horizon, factor) {
+        (HorizonChoice::Point { text, series, .. }, _) => {
+            Ok((crate::series::recurrence(red, text, series.as_deref(), &choices, false)?, Adjoined { root: None, rate }))
+        }
+        (HorizonChoice::Root { .. }, f) => {
             if !choice.picks.iter().any(|(l, _)| l == "θ") {
                 return Err(usage("no ingoing exponent was found at the horizon"));
             }
-            let root = crate::series::recurrence_about_point(red, &an.points[*index], &choices)?;
-            Ok((root.rec, Some((root.exponent, root.meaning))))
+            let found = an.points.iter().position(|p| matches!((&p.place, &f), (Place::Roots(g), Some(f)) if g == f));
+            let Some(i) = found else {
+                return Err(usage("the horizon's factor is not a singular point of the equation with the adjoined square root"));
+            };
+            let root = crate::series::recurrence_about_point(red, &an.points[i], &choices)?;
+            Ok((root.rec, Adjoined { root: Some((root.exponent, root.meaning)), rate }))
         }
     }
 }
 
 /// The [`Setup`] of a recurrence derived by [`qnm_derive`] from `choice`
 /// (whose numeric values it reports).
-pub fn qnm_setup(rec: &crate::series::Recurrence, root: RootUse, an: crate::analysis::Analysis, choice: QnmChoice) -> Setup {
+pub fn qnm_setup(rec: &crate::series::Recurrence, adjoined: Adjoined, an: crate::analysis::Analysis, choice: QnmChoice) -> Setup {
     let ansatz = format!("{} = {} * Σ a_n u^n, {}", rec.function, rec.prefactor, rec.series);
+    let Adjoined { root, rate } = adjoined;
+    let mut said = choice.said;
+    if let Some(r) = &rate {
+        said.push(format!(
+            "at ∞: {}; the ansatz carries the formal solution with leading exponent −{} there, and {}(ω) is evaluated at each trial ω on the branch of the square root that the condition at ∞ picks (outgoing: continuous with the massless outgoing wave; decaying: Re {} > 0)",
+            r.meaning, r.symbol, r.symbol, r.symbol
+        ));
+    }
     let (horizon, horizon_value, theta) = match choice.horizon {
         HorizonChoice::Point { text, value, .. } => (text, value, None),
         HorizonChoice::Root { index, value } => {
@@ -274,7 +363,7 @@ pub fn qnm_setup(rec: &crate::series::Recurrence, root: RootUse, an: crate::anal
             (format!("θ ≈ {value:.15}, the outer real root; the formulas use {meaning}"), value, theta)
         }
     };
-    Setup { horizon, horizon_value, ansatz, choices: choice.said, terms: rec.coeffs.len(), picks: choice.picks, theta, analysis: an }
+    Setup { horizon, horizon_value, ansatz, choices: said, terms: rec.coeffs.len(), picks: choice.picks, theta, analysis: an, rate }
 }
 
 /// An exact rational equal to a double (its binary value).
@@ -309,7 +398,7 @@ pub fn qnm_modes_from(
     opts: &SpectrumOptions,
     first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
 ) -> Result<(Vec<Mode>, Setup)> {
-    if rec.coeffs.len() == 2 && setup.theta.is_none() {
+    if rec.coeffs.len() == 2 && setup.theta.is_none() && setup.rate.is_none() {
         let num = try_numeric(rec, &opts.values, opts.freq)?;
         let modes = (opts.overtones.0..=opts.overtones.1).map(|n| terminating_mode(&num, n)).collect();
         return Ok((modes, setup));
@@ -317,7 +406,7 @@ pub fn qnm_modes_from(
     if rec.coeffs.len() < 3 {
         return Err(usage(format!("the recurrence about {} has {} terms: no continued fraction", setup.horizon, rec.coeffs.len())));
     }
-    let num = try_numeric(rec, &recurrence_values(&setup, opts), opts.freq)?;
+    let num = numeric_recurrence(rec, &setup, opts)?;
     let modes = overtones(opts, first_estimate, &|n, seed| find_root(&num, n as usize, seed, opts.tol, 64, 1 << 17))?;
     Ok((modes, setup))
 }
@@ -330,9 +419,22 @@ pub fn cf_polisher(red: &Reduction, opts: &SpectrumOptions) -> Result<impl Fn(u3
     if rec.coeffs.len() < 3 {
         return Err(usage(format!("the recurrence about {} has {} terms: no continued fraction", setup.horizon, rec.coeffs.len())));
     }
-    let num = try_numeric(&rec, &recurrence_values(&setup, opts), opts.freq)?;
+    let num = numeric_recurrence(&rec, &setup, opts)?;
     let tol = opts.tol;
     Ok(move |n: u32, seed: Complex64| find_root(&num, n as usize, seed, tol, 64, 1 << 17))
+}
+
+/// The recurrence made numeric at the options' values: polynomials in
+/// (n, ω), and in an adjoined rate χ evaluated at each trial ω on its branch.
+pub fn numeric_recurrence(rec: &crate::series::Recurrence, setup: &Setup, opts: &SpectrumOptions) -> Result<super::cf::NumRecurrence> {
+    let values = recurrence_values(setup, opts);
+    match &setup.rate {
+        None => try_numeric(rec, &values, opts.freq),
+        Some(r) => {
+            let branch = super::cf::RateBranch { square: in_omega(&r.square, opts), condition: r.condition };
+            super::cf::try_numeric_with_rate(rec, &values, opts.freq, r.index, branch)
+        }
+    }
 }
 
 /// The start of the error of [`overtones`] when an overtone has no seed.
@@ -343,6 +445,10 @@ pub const NO_SEED: &str = "no seed for overtone";
 /// indices, θ last), and the adjoined root's value when there is one.
 pub fn recurrence_values(setup: &Setup, opts: &SpectrumOptions) -> Vec<GRat> {
     let mut values = opts.values.clone();
+    if setup.rate.is_some() {
+        // χ's place: its value comes from ω at each trial (never this zero).
+        values.push(GRat::zero());
+    }
     if let Some((f, zr, _)) = &setup.theta {
         // The adjoined symbol is φ = c₂θ.
         let c2 = f.to_univariate(0).get(2).cloned().unwrap_or_else(|| crate::algebra::Poly::int(1));
@@ -633,6 +739,16 @@ pub fn substitute(red: &Reduction, values: &[GRat], freq: usize) -> Result<Reduc
     substitute_keeping(red, values, &[freq])
 }
 
+/// [`substitute_keeping`] for the series: a parameter that an adjoined
+/// square root at infinity eliminates (`series::rate`, a field's mass) is
+/// kept symbolic too, so that the derivation can still solve for it.
+pub fn substitute_for_series(red: &Reduction, values: &[GRat], keep: &[usize]) -> Result<Reduction> {
+    let freq = keep.first().copied().unwrap_or(0);
+    let mut keep = keep.to_vec();
+    keep.extend(crate::series::rate::rate_parameter(red, freq)?);
+    substitute_keeping(red, values, &keep)
+}
+
 /// [`substitute`] keeping every parameter in `keep` symbolic (the frequency,
 /// and a separation constant that a coupled solve fixes numerically later).
 pub fn substitute_keeping(red: &Reduction, values: &[GRat], keep: &[usize]) -> Result<Reduction> {
@@ -697,7 +813,8 @@ pub fn degenerate_points_near(num: &super::cf::NumRecurrence, w: Complex64, radi
 /// within 1e-3 |ω| (converged ones).
 pub fn degenerate_notes(rec: &crate::series::Recurrence, setup: &Setup, opts: &SpectrumOptions, modes: &[Mode]) -> Vec<String> {
     let Ok(num) = try_numeric(rec, &recurrence_values(setup, opts), opts.freq) else { return Vec::new() };
-    if num.terms.is_empty() {
+    // With an adjoined rate the leading coefficient holds χ(ω): not a polynomial in ω.
+    if num.terms.is_empty() || setup.rate.is_some() {
         return Vec::new();
     }
     let mut notes = Vec::new();
