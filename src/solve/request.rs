@@ -1155,7 +1155,7 @@ fn recurrence_route(
                 m.method = ModeMethod::Integrate;
                 None
             }
-            Some(f) if m.method == ModeMethod::ContinuedFraction && m.root.converged => Some(f(m.root.omega * Complex64::new(1.0 + 1e-4, 1e-4))),
+            Some(f) if m.method == ModeMethod::ContinuedFraction && m.root.converged => Some(f(super::spectrum::check_seed(m.root.omega))),
             _ => None,
         };
         checks.push(check);
