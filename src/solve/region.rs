@@ -359,9 +359,9 @@ pub fn region_modes(red: &Reduction, req: &SpectrumRequest, region: Region, grid
     let parts: Vec<Region> = match &ladder {
         None => vec![region],
         Some(run) => {
-            ladder_rows(run, region, scale, &mut rows, &mut rejected, &mut unsettled);
+            let partners = ladder_rows(run, region, scale, &mut rows, &mut rejected, &mut unsettled);
             if symmetric {
-                mirror_rows(bp, opts.tol, region, scale, &mut rows, &mut rejected);
+                mirror_rows(bp, opts.tol, region, scale, &partners, &mut rows, &mut rejected);
             }
             methods.push(format!(
                 "the overtone ladder of --overtones: {}; each next overtone seeded by extrapolation from the two below it, polished by the continued fraction (the n-th inversion for overtone n) and checked by direct integration, until the next seed lies below the window",
@@ -391,7 +391,7 @@ pub fn region_modes(red: &Reduction, req: &SpectrumRequest, region: Region, grid
             words = format!("{words}; for the lower half-plane the ray to the irregular infinity is turned by ±{:.2}π into the complex plane (complex scaling), so that the outgoing solution is the recessive one along it", global::TURN / std::f64::consts::PI);
         }
         methods.push(words);
-        if ladder.is_none() {
+        if ladder.is_none() && part.im.0 < 0.0 {
             limits.push("in double precision the discretised problem is very non-normal and only the least damped modes persist on both grids: a region reaching deep into the lower half-plane may hold further, more damped modes that are not listed (ask for them with --overtones)".to_string());
         }
     }
@@ -418,8 +418,18 @@ pub fn region_modes(red: &Reduction, req: &SpectrumRequest, region: Region, grid
 
 /// The ladder's overtones in the window: a row for each confirmed by direct
 /// integration (to [`CONFIRMED`]), a rejection for each that was not, and
-/// the overtones sought in the window that did not converge.
-fn ladder_rows(run: &LadderRun, region: Region, scale: f64, rows: &mut Vec<RegionRow>, rejected: &mut Vec<(Complex64, String)>, unsettled: &mut Vec<Unsettled>) {
+/// the overtones sought in the window that did not converge. Returns every
+/// confirmed overtone with Re ω > 0, in the window or not (their mirrors
+/// may lie in it).
+fn ladder_rows(
+    run: &LadderRun,
+    region: Region,
+    scale: f64,
+    rows: &mut Vec<RegionRow>,
+    rejected: &mut Vec<(Complex64, String)>,
+    unsettled: &mut Vec<Unsettled>,
+) -> Vec<(u32, Complex64)> {
+    let mut confirmed = Vec::new();
     for (m, check) in run.modes.iter().zip(&run.checks) {
         if !m.root.converged {
             if region.contains(m.seed.0) {
@@ -429,11 +439,15 @@ fn ladder_rows(run: &LadderRun, region: Region, scale: f64, rows: &mut Vec<Regio
             continue;
         }
         let w = m.root.omega;
+        let reach = CONFIRMED * w.norm().max(scale);
+        let agreed = check.as_ref().filter(|c| c.converged && (c.omega - w).norm() <= reach);
+        if let (Some(_), true) = (agreed, w.re > 0.0) {
+            confirmed.push((m.n, w));
+        }
         if !region.contains(w) {
             continue;
         }
-        let reach = CONFIRMED * w.norm().max(scale);
-        let Some(c) = check.as_ref().filter(|c| c.converged && (c.omega - w).norm() <= reach) else {
+        let Some(c) = agreed else {
             let why = match check {
                 Some(c) if c.converged => format!("direct integration from beside it converged to {} instead", fmt_c(c.omega)),
                 Some(c) => format!("direct integration from beside it did not converge: {}", c.reason),
@@ -449,15 +463,23 @@ fn ladder_rows(run: &LadderRun, region: Region, scale: f64, rows: &mut Vec<Regio
         let family = if w.re == 0.0 { ModeFamily::PurelyImaginary } else { ModeFamily::Oscillating };
         rows.push(RegionRow { family, n: m.n, mirror_of: None, omega: w, found, seed: m.seed.0, polished_by: "cf", check: Some(("integrate", c.omega)), check_note: None });
     }
+    confirmed
 }
 
-/// The mirror −ω̄ of each oscillating row of the ladder, where it lies in
-/// the window: direct integration from the mirror image, admitted when it
-/// converges there (to [`CONFIRMED`]), checked against the mirrored
-/// continued-fraction value.
-fn mirror_rows(bp: &super::boundary::BoundaryProblem, tol: f64, region: Region, scale: f64, rows: &mut Vec<RegionRow>, rejected: &mut Vec<(Complex64, String)>) {
-    let partners: Vec<(u32, Complex64)> = rows.iter().filter(|r| r.family == ModeFamily::Oscillating && r.mirror_of.is_none()).map(|r| (r.n, r.omega)).collect();
-    for (n, w) in partners {
+/// The mirror −ω̄ of each confirmed overtone of the ladder with Re ω > 0
+/// (`partners`), where it lies in the window: direct integration from the
+/// mirror image, admitted when it converges there (to [`CONFIRMED`]),
+/// checked against the mirrored continued-fraction value.
+fn mirror_rows(
+    bp: &super::boundary::BoundaryProblem,
+    tol: f64,
+    region: Region,
+    scale: f64,
+    partners: &[(u32, Complex64)],
+    rows: &mut Vec<RegionRow>,
+    rejected: &mut Vec<(Complex64, String)>,
+) {
+    for &(n, w) in partners {
         let image = -w.conj();
         if !region.contains(image) {
             continue;
