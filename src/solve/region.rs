@@ -198,7 +198,8 @@ struct LadderRun {
 /// eigenvalues in the lower right quadrant (the coarsest grid of
 /// [`global::SEED_GRIDS`] first, `grid` when fewer than two persist there,
 /// to [`global::SEED_PERSIST`]), then extrapolation, until the next seed
-/// lies below the window by more than half the overtone spacing.
+/// lies below the window by more than half the overtone spacing (see
+/// `beyond` inside).
 fn ladder_run(red: &Reduction, bp: &super::boundary::BoundaryProblem, opts: &SpectrumOptions, region: Region, wkb_order: usize) -> Result<LadderRun> {
     let grid_for = |n: usize| global::lower_right(bp, n, global::SEED_PERSIST);
     let (mut seeds, mut spectral) = grid_for(global::SEED_GRIDS[0])?;
@@ -211,13 +212,20 @@ fn ladder_run(red: &Reduction, bp: &super::boundary::BoundaryProblem, opts: &Spe
     let estimates = if seeds.len() < 2 { super::spectrum::barrier_estimates(red, &opts, setup.horizon_value, wkb_order).ok() } else { None };
     let estimate = |n: u32| estimates.as_ref().and_then(|e| e(n)).and_then(|b| b.series.seed());
     let bottom = region.im.0;
+    // Past the bottom by half a spacing, once the last overtone sought was
+    // settled (or one below the window was): a search for a later overtone
+    // can still land on a missed one in the window, which the ladder files
+    // under its own number; past by three spacings in any case.
     let beyond = |modes: &[Mode], seed: Complex64| {
         let mut conv = modes.iter().rev().filter(|m| m.root.converged);
-        let spacing = match (conv.next(), conv.next()) {
+        let (a, b) = (conv.next(), conv.next());
+        let spacing = match (a, b) {
             (Some(a), Some(b)) => (a.root.omega.im - b.root.omega.im).abs() / f64::from(a.n - b.n),
             _ => 0.0,
         };
-        seed.im < bottom - 0.5 * spacing
+        let settled = modes.last().is_some_and(|m| m.root.converged) || a.is_some_and(|m| m.root.omega.im < bottom);
+        let past = bottom - seed.im;
+        past > 0.5 * spacing && (settled || past > 3.0 * spacing)
     };
     let (modes, end) = super::spectrum::cf_ladder(&rec, &setup, &opts, &estimate, &beyond)?;
     let integ = super::spectrum::integration_check(red, &opts, &setup).ok();
@@ -518,7 +526,7 @@ fn ladder_limits(run: &LadderRun, region: Region, fname: &str) -> Vec<String> {
     }
     match run.end {
         LadderEnd::Beyond(n) => out.push(format!(
-            "the ladder stopped before overtone {n}, whose seed extrapolated from the overtones below lies under the window's bottom Im {fname} = {} by more than half their spacing",
+            "the ladder stopped before overtone {n}, whose seed extrapolated from the overtones below lies under the window's bottom Im {fname} = {} by more than half their spacing: the modes below are outside the window",
             region.im.0
         )),
         LadderEnd::Range => {
