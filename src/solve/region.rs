@@ -346,7 +346,8 @@ pub fn region_modes(red: &Reduction, req: &SpectrumRequest, region: Region, grid
     let big = 1e300;
     let lower = Region { re: (-big, big), im: (-big, 0.0) };
     let symmetric = global::mirror_symmetric(bp);
-    let mut notes = vec!["a mode with Re ω < 0 at −ω̄ of another is its mirror image: listed right after its partner, with the partner's number".to_string()];
+    let mut notes =
+        vec!["a mode with Re ω < 0 at −ω̄ of another is its mirror image: listed right after its partner, with the partner's number".to_string()];
     let ladder = match (classic, region.clip(&lower)) {
         (true, Some(_)) => match ladder_run(red, bp, opts, region, req.wkb_order) {
             Ok(run) => Some(run),
@@ -393,7 +394,11 @@ pub fn region_modes(red: &Reduction, req: &SpectrumRequest, region: Region, grid
         let (sp, found, rej) = global::modes_in(bp, part, grid, opts.tol)?;
         spectral_rows(&found, scale, &mut rows);
         rejected.extend(rej.into_iter().filter(|(w, _)| !rows.iter().any(|r| same(r.omega, *w))));
-        let what = if ladder.is_some() { format!("Re/Im {fname} in [{}, {}] × [{}, {}]: ", part.re.0, part.re.1, part.im.0, part.im.1) } else { String::new() };
+        let what = if ladder.is_some() {
+            format!("Re/Im {fname} in [{}, {}] × [{}, {}]: ", part.re.0, part.re.1, part.im.0, part.im.1)
+        } else {
+            String::new()
+        };
         let mut words = format!("{what}{}", spectral_words(&sp, fname, scale, false));
         if bp.ends[1].nature == super::boundary::Nature::IrregularRank1 {
             words = format!("{words}; for the lower half-plane the ray to the irregular infinity is turned by ±{:.2}π into the complex plane (complex scaling), so that the outgoing solution is the recessive one along it", global::TURN / std::f64::consts::PI);
@@ -469,7 +474,17 @@ fn ladder_rows(
             _ => Finding::Ladder(m.seed.1.clone()),
         };
         let family = if w.re == 0.0 { ModeFamily::PurelyImaginary } else { ModeFamily::Oscillating };
-        rows.push(RegionRow { family, n: m.n, mirror_of: None, omega: w, found, seed: m.seed.0, polished_by: "cf", check: Some(("integrate", c.omega)), check_note: None });
+        rows.push(RegionRow {
+            family,
+            n: m.n,
+            mirror_of: None,
+            omega: w,
+            found,
+            seed: m.seed.0,
+            polished_by: "cf",
+            check: Some(("integrate", c.omega)),
+            check_note: None,
+        });
     }
     confirmed
 }
@@ -518,7 +533,7 @@ fn ladder_limits(run: &LadderRun, region: Region, fname: &str) -> Vec<String> {
     let mut out = Vec::new();
     let deepest = run.seeds.iter().map(|v| v.omega.im).fold(0.0, f64::min);
     if run.seeds.is_empty() {
-        out.push(format!("the global spectral method gave no seed in the lower half-plane; the ladder started from estimates at the potential barrier and follows one family of modes: a mode of another family (a purely imaginary one, say) anywhere in the window is not excluded"));
+        out.push("the global spectral method gave no seed in the lower half-plane; the ladder started from estimates at the potential barrier and follows one family of modes: a mode of another family (a purely imaginary one, say) anywhere in the window is not excluded".to_string());
     } else {
         out.push(format!(
             "the global spectral method resolved the lower half-plane down to Im {fname} = {deepest:.4} (its most damped eigenvalue persisting on both grids); below, the modes are the ladder's, which follows one family: a mode of another family there (a purely imaginary one, say) is not excluded"
