@@ -373,7 +373,7 @@ pub fn region_modes(red: &Reduction, req: &SpectrumRequest, region: Region, grid
                 mirror_rows(bp, opts.tol, region, scale, &partners, &mut rows, &mut rejected);
             }
             methods.push(format!(
-                "the overtone ladder of --overtones: {}; each next overtone seeded by extrapolation from the two below it, polished by the continued fraction (the n-th inversion for overtone n) and checked by direct integration, until the next seed lies below the window",
+                "the overtone ladder (the seeding loop of the overtone spectrum): {}; each next overtone seeded by extrapolation from the two below it, polished by the continued fraction (the n-th inversion for overtone n) and checked by direct integration, until the next seed lies below the window",
                 spectral_words(&run.spectral, fname, scale, true)
             ));
             notes.extend(run.notes.iter().cloned());
