@@ -1,8 +1,14 @@
 //! The documents of a region search (`solve::region::RegionReport`): JSON
-//! (schema at the top of `src/cli/spectrum.rs`: the modes also carry the
-//! keys of a spectrum document — `converged`, `reason`, `method`,
-//! `evidence` — so one reader serves both), CSV and text. The command line
-//! and the Python package both render here.
+//! (`frequency`, `boundary`, `region`, `method`, `notes`, `limits` — what the
+//! search cannot exclude —, `modes`, `unsettled` — overtones sought in the
+//! window and not settled, with `degenerate_point` where the recurrence
+//! degenerates next to them — and `not_confirmed`; each mode has `family`,
+//! `n`, `mirror_of`, `omega`, `found_by` ("spectral", "ladder" or
+//! "mirror"), `spectral` and `spectral_change` (null unless found by the
+//! spectral method), `seed`, `polished_by`, `polish_distance`, `check`,
+//! `check_note`, and also the keys of a spectrum document — `converged`,
+//! `reason`, `method`, `evidence` — so one reader serves both), CSV and
+//! text. The command line and the Python package both render here.
 
 use super::numbers::fmt_complex;
 use crate::solve::region::{Finding, RegionReport};
