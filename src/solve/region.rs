@@ -200,11 +200,18 @@ struct LadderRun {
 /// to [`global::SEED_PERSIST`]), then extrapolation, until the next seed
 /// lies below the window by more than half the overtone spacing (see
 /// `beyond` inside).
-fn ladder_run(red: &Reduction, bp: &super::boundary::BoundaryProblem, opts: &SpectrumOptions, region: Region, wkb_order: usize) -> Result<LadderRun> {
+fn ladder_run(
+    red: &Reduction,
+    bp: &super::boundary::BoundaryProblem,
+    opts: &SpectrumOptions,
+    region: Region,
+    grid: usize,
+    wkb_order: usize,
+) -> Result<LadderRun> {
     let grid_for = |n: usize| global::lower_right(bp, n, global::SEED_PERSIST);
     let (mut seeds, mut spectral) = grid_for(global::SEED_GRIDS[0])?;
-    if seeds.len() < 2 {
-        (seeds, spectral) = grid_for(global::SEED_GRIDS[1])?;
+    if seeds.len() < 2 && grid != global::SEED_GRIDS[0] {
+        (seeds, spectral) = grid_for(grid)?;
     }
     let (rec, setup) = super::spectrum::qnm_recurrence(red, opts)?;
     let opts = SpectrumOptions { overtones: (0, LADDER_LIMIT - 1), seeds: seeds.iter().map(|v| v.omega).collect(), guess: None, ..opts.clone() };
@@ -349,7 +356,7 @@ pub fn region_modes(red: &Reduction, req: &SpectrumRequest, region: Region, grid
     let mut notes =
         vec!["a mode with Re ω < 0 at −ω̄ of another is its mirror image: listed right after its partner, with the partner's number".to_string()];
     let ladder = match (classic, region.clip(&lower)) {
-        (true, Some(_)) => match ladder_run(red, bp, opts, region, req.wkb_order) {
+        (true, Some(_)) => match ladder_run(red, bp, opts, region, grid, req.wkb_order) {
             Ok(run) => Some(run),
             Err(e) => {
                 notes.push(format!("the overtone ladder could not run ({}): every mode comes from the global spectral method", e.message));
