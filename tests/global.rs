@@ -44,18 +44,80 @@ fn schwarzschild_lowest_modes_with_no_guess_are_leavers() {
         assert!(m["mirror_of"].is_null());
         let (re, im) = c(&m["omega"]);
         assert!((re - w.0).abs() <= 5.1e-9 && (im - w.1).abs() <= 5.1e-9, "n={n}: {re} {im} vs {w:?}");
-        assert_eq!(m["found_by"], "spectral");
         assert_eq!(m["polished_by"], "cf");
-        // The spectral value alone is close already; the other method agrees.
-        assert!(m["polish_distance"].as_f64().unwrap() < 1e-4, "{m}");
+        // A spectral value (a seed persisting to 1e-3 on the coarse grids)
+        // is close already; a ladder seed is extrapolated from two overtones.
+        match m["found_by"].as_str().unwrap() {
+            "spectral" => assert!(m["polish_distance"].as_f64().unwrap() < 1e-3, "{m}"),
+            by => assert_eq!(by, "ladder", "{m}"),
+        }
         assert_eq!(m["check"]["method"], "integrate");
         assert!(m["check"]["difference"].as_f64().unwrap() < 1e-8, "{m}");
         let mirror = &ms[2 * n + 1];
         assert_eq!(mirror["mirror_of"], n as u64);
+        assert_eq!(mirror["found_by"], "mirror");
+        assert!(mirror["check"]["difference"].as_f64().unwrap() < 1e-8, "{mirror}");
         let (mre, mim) = c(&mirror["omega"]);
         assert!((mre + re).abs() < 1e-8 && (mim - im).abs() < 1e-8, "{mirror}");
     }
     assert!(v["not_confirmed"].as_array().unwrap().is_empty(), "{}", v["not_confirmed"]);
+}
+
+/// The converged overtones of `spectrum --overtones RANGE` (continued
+/// fraction, no guess): (n, ω).
+fn ladder(path: &str, at: &str, range: &str) -> Vec<(u64, (f64, f64))> {
+    let args = ["spectrum", path, "--at", at, "--overtones", range, "--format", "json"];
+    let (v, code, err) = run(&args);
+    assert_eq!(code, 0, "{args:?}: {err}");
+    v["modes"].as_array().unwrap().iter().filter(|m| m["converged"] == true).map(|m| (m["n"].as_u64().unwrap(), c(&m["omega"]))).collect()
+}
+
+#[test]
+fn a_deep_window_holds_the_twelve_lowest_modes_and_the_special_point() {
+    // Schwarzschild s = l = 2, M = 1, Re ω ∈ [−2, 2], Im ω ∈ [−3.2, 0], no
+    // guess. The overtones 0…12 except 8 (n = 8 sits at the algebraically
+    // special frequency Ω = −i(l − 1)l(l + 1)(l + 2)/12 = −2i, where the
+    // recurrence degenerates; Maassen van den Brink, Phys. Rev. D 62 (2000)
+    // 064009: the Regge–Wheeler equation has no mode at Ω itself, from
+    // memory) equal the continued fraction of `--overtones` to ≥ 8 digits,
+    // each with its mirror −ω̄, and nothing else: no spurious mode.
+    let v = region("samples/regge_wheeler.ode", "M=1,l=2,s=2", "-2..2,-3.2..0");
+    let want = ladder("samples/regge_wheeler.ode", "M=1,l=2,s=2", "0..12");
+    assert_eq!(want.iter().map(|(n, _)| *n).collect::<Vec<_>>(), [0, 1, 2, 3, 4, 5, 6, 7, 9, 10, 11, 12]);
+    let ms = v["modes"].as_array().unwrap();
+    assert_eq!(ms.len(), 2 * want.len(), "{ms:#?}");
+    for (n, w) in &want {
+        let size = w.0.hypot(w.1);
+        let m = ms.iter().find(|m| m["n"] == *n && m["mirror_of"].is_null()).unwrap_or_else(|| panic!("overtone {n} missing"));
+        let (re, im) = c(&m["omega"]);
+        assert!((re - w.0).hypot(im - w.1) <= 1e-8 * size, "n={n}: {re} {im} vs {w:?}");
+        assert_eq!(m["family"], "oscillating");
+        assert_eq!(m["polished_by"], "cf");
+        assert_eq!(m["check"]["method"], "integrate");
+        assert!(m["check"]["difference"].as_f64().unwrap() < 1e-8 * size, "{m}");
+        let mirror = ms.iter().find(|m| m["mirror_of"] == *n).unwrap_or_else(|| panic!("overtone {n}'s mirror missing"));
+        let (mre, mim) = c(&mirror["omega"]);
+        assert!((mre + w.0).hypot(mim - w.1) <= 1e-8 * size, "mirror of {n}: {mre} {mim}");
+    }
+    // The least damped ones come from the spectral method, the rest from the ladder.
+    assert_eq!(ms[0]["found_by"], "spectral");
+    assert_eq!(ms.iter().find(|m| m["n"] == 12 && m["mirror_of"].is_null()).unwrap()["found_by"], "ladder");
+    // n = 0 against Leaver 1985 (Proc. R. Soc. A 402, 285; from memory).
+    let (re, im) = c(&ms[0]["omega"]);
+    assert!((re - 0.37367168).abs() <= 5.1e-9 && (im + 0.08896232).abs() <= 5.1e-9, "{re} {im}");
+    // Overtone 8 is reported at the algebraically special point, with the ladder's note.
+    let un = v["unsettled"].as_array().unwrap();
+    assert_eq!(un.len(), 1, "{un:#?}");
+    assert_eq!(un[0]["n"], 8);
+    let (dre, dim) = c(&un[0]["degenerate_point"]);
+    assert!(dre.abs() < 1e-12 && (dim + 2.0).abs() < 1e-12, "{dre} {dim}");
+    let notes: Vec<&str> = v["notes"].as_array().unwrap().iter().map(|n| n.as_str().unwrap()).collect();
+    assert!(notes.iter().any(|n| n.starts_with("overtone 8 ") && n.contains("algebraically special")), "{notes:#?}");
+    assert!(v["not_confirmed"].as_array().unwrap().is_empty(), "{}", v["not_confirmed"]);
+    // What the search cannot exclude is said: the ladder stopped below the window.
+    let limits: Vec<&str> = v["limits"].as_array().unwrap().iter().map(|n| n.as_str().unwrap()).collect();
+    assert!(limits.iter().any(|l| l.contains("not excluded")), "{limits:#?}");
+    assert!(limits.iter().any(|l| l.contains("stopped before overtone 13") || l.contains("stopped before overtone 14")), "{limits:#?}");
 }
 
 #[test]

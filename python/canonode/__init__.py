@@ -465,8 +465,12 @@ def spectrum(
 
     ``region``: ``(re_from, re_to, im_from, im_to)``: every mode in that
     rectangle with no guess (the global spectral method on ``grid``
-    intervals, each mode polished and checked; as ``--region``); the modes
-    then carry ``family`` and ``mirror_of`` in their ``json``.
+    intervals and, where the recurrence has a continued fraction, the
+    overtone ladder it seeds; each mode polished and checked; as
+    ``--region``); the modes then carry ``family``, ``mirror_of`` and
+    ``found_by`` in their ``json``, and the document says in ``limits``
+    what the search cannot exclude and in ``unsettled`` which overtones
+    were sought and not settled.
     """
     inp = _input(equation, var, subst, at_infinity, dxdz, frequency)
     coupled = _coupled(couple, link, angular_index, angular_guess)

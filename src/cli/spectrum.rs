@@ -203,10 +203,12 @@ pub(crate) struct SpectrumArgs {
     #[arg(long = "guess", value_name = "VALUE", allow_hyphen_values = true)]
     guess: Option<String>,
     /// Every mode in a rectangle of the complex plane, 'RE0..RE1,IM0..IM1' (no --guess needed): found by the
-    /// global spectral method, each polished by the continued fraction or direct integration and checked by the other.
+    /// global spectral method and, where the recurrence has a continued fraction, by the overtone ladder it seeds;
+    /// each polished by the continued fraction or direct integration and checked by the other.
     #[arg(long = "region", value_name = "RE0..RE1,IM0..IM1", allow_hyphen_values = true)]
     pub(crate) region: Option<String>,
-    /// With --region: intervals of the global method's coarser Chebyshev grid (the finer one has half as many again).
+    /// With --region: intervals of the global method's coarser Chebyshev grid (the finer one has half as many again)
+    /// where its eigenvalues are reported after a polish; the overtone ladder's seeds try 20 intervals first.
     #[arg(long = "grid", value_name = "N", default_value_t = crate::solve::global::DEFAULT_GRID)]
     pub(crate) grid: usize,
     /// Relative tolerance on ω.

@@ -527,7 +527,7 @@ pub fn coupled_solve(
                         o.values[i] = GRat { re: super::spectrum::exact_double(v.re).re, im: super::spectrum::exact_double(v.im).re };
                     }
                 }
-                super::spectrum::integration_check(red, &o, setup).ok().map(|f| f(mode.root.omega * Complex64::new(1.0 + 1e-4, 1e-4)))
+                super::spectrum::integration_check(red, &o, setup).ok().map(|f| f(super::spectrum::check_seed(mode.root.omega)))
             }
             _ => None,
         };

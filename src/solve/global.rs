@@ -665,7 +665,7 @@ fn sectors(bp: &BoundaryProblem) -> Vec<(f64, Region)> {
 
 impl Region {
     /// The overlap with another rectangle, if any.
-    fn clip(&self, o: &Region) -> Option<Region> {
+    pub fn clip(&self, o: &Region) -> Option<Region> {
         let re = (self.re.0.max(o.re.0), self.re.1.min(o.re.1));
         let im = (self.im.0.max(o.im.0), self.im.1.min(o.im.1));
         (re.0 < re.1 && im.0 < im.1).then_some(Region { re, im })
@@ -706,18 +706,52 @@ pub const SEED_GRIDS: [usize; 2] = [20, DEFAULT_GRID];
 /// from the first grid of [`SEED_GRIDS`] that gives all of them, else as
 /// many as the default grid found (none when it cannot run on the problem).
 pub fn seeds(bp: &BoundaryProblem, (lo, hi): (u32, u32)) -> Vec<Complex64> {
-    let sigma = Complex64::new(0.6, -0.8) * bp.scale;
     let want = (hi - lo + 1) as usize;
     let mut out = Vec::new();
     for n in SEED_GRIDS {
-        let Ok(sp) = try_spectral(bp, n, DEFAULT_PERSIST, sigma, TURN) else { return Vec::new() };
-        let lower = sp.values.iter().map(|v| v.omega).filter(|w| w.im < 0.0 && w.re >= -1e-8 * w.norm().max(bp.scale));
-        out = lower.skip(lo as usize).take(want).collect();
+        let Ok((lower, _)) = lower_right(bp, n, DEFAULT_PERSIST) else { return Vec::new() };
+        out = lower.iter().map(|v| v.omega).skip(lo as usize).take(want).collect();
         if out.len() == want {
             break;
         }
     }
     out
+}
+
+/// The persistence tolerance of seeds that are then polished and checked
+/// by two other methods (the overtone ladder of a region search): looser
+/// than [`DEFAULT_PERSIST`], since a value that persists only this well is
+/// never reported as it is — only the polish, confirmed by the check, is.
+pub const SEED_PERSIST: f64 = 1e-3;
+
+/// The eigenvalues of the global method in the lower right quadrant (the
+/// negative imaginary axis included), by |Im ω|, on `n` and ⌊3n/2⌋
+/// intervals persisting to `tol`, with the whole result.
+pub fn lower_right(bp: &BoundaryProblem, n: usize, tol: f64) -> Result<(Vec<SpectralValue>, Spectral)> {
+    let sigma = Complex64::new(0.6, -0.8) * bp.scale;
+    let sp = try_spectral(bp, n, tol, sigma, TURN)?;
+    let lower = sp.values.iter().copied().filter(|v| v.omega.im < 0.0 && v.omega.re >= -1e-8 * v.omega.norm().max(bp.scale)).collect();
+    Ok((lower, sp))
+}
+
+/// Whether the equation is unchanged by ω → −ω̄ together with complex
+/// conjugation (real coefficients in z, with ω entering as iω does: the
+/// coefficient of ωʲ real for even j and imaginary for odd j, after one
+/// common phase): then ω is a mode exactly when −ω̄ is, since the ends'
+/// conditions (ingoing, outgoing, normalisable) are mapped onto themselves.
+pub fn mirror_symmetric(bp: &BoundaryProblem) -> bool {
+    let polys = [&bp.ode.a.c, &bp.ode.b.c, &bp.ode.c.c];
+    let all = || polys.iter().flat_map(|p| p.iter().flat_map(|r| r.iter().enumerate()));
+    let Some(top) = all().map(|(_, v)| *v).max_by(|p, q| p.norm().total_cmp(&q.norm())) else { return false };
+    if !(top.norm() > 0.0 && top.norm().is_finite()) {
+        return false;
+    }
+    let phase = top / top.norm();
+    all().all(|(j, v)| {
+        let v = v / phase;
+        let mirrored = if j % 2 == 0 { v.conj() } else { -v.conj() };
+        (mirrored - v).norm() <= 1e-13 * top.norm()
+    })
 }
 
 /// A mode found by the global method and polished by direct integration.

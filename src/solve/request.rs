@@ -1306,7 +1306,7 @@ fn recurrence_route(
         (Some(_), None) => None,
         (None, _) => super::spectrum::integration_check(red, opts, &setup).ok().map(|f| Box::new(f) as Box<dyn Fn(Complex64) -> IntRoot + '_>),
     };
-    let nudge = if quasi_bound { Complex64::new(1.0 + 1e-7, 0.0) } else { Complex64::new(1.0 + 1e-4, 1e-4) };
+    let seed = |w: Complex64| if quasi_bound { w * Complex64::new(1.0 + 1e-7, 0.0) } else { super::spectrum::check_seed(w) };
     let mut checks: Vec<Option<IntRoot>> = Vec::new();
     for m in modes.iter_mut() {
         let check = match &integ {
@@ -1326,7 +1326,7 @@ fn recurrence_route(
             }
             // Quasi-bound levels crowd below the continuum edge (spacing ~ (Mμ)²/n³ of ω, Im ω far
             // smaller): their check starts much nearer the root.
-            Some(f) if m.method == ModeMethod::ContinuedFraction && m.root.converged => Some(f(m.root.omega * nudge)),
+            Some(f) if m.method == ModeMethod::ContinuedFraction && m.root.converged => Some(f(seed(m.root.omega))),
             _ => None,
         };
         checks.push(check);

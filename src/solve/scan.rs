@@ -595,7 +595,7 @@ fn modes_at(red: &Reduction, sub: Option<&Reduction>, rec: &Recurrence, setup: S
         .map(|m| {
             let c = match (&integ, m.root.converged) {
                 (Some(f), true) => {
-                    let c = f(m.root.omega * Complex64::new(1.0 + 1e-4, 1e-4));
+                    let c = f(super::spectrum::check_seed(m.root.omega));
                     c.converged.then_some(c.omega)
                 }
                 _ => None,

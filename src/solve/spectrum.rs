@@ -406,22 +406,40 @@ pub fn qnm_modes_from(
     if rec.coeffs.len() < 3 {
         return Err(usage(format!("the recurrence about {} has {} terms: no continued fraction", setup.horizon, rec.coeffs.len())));
     }
-    let num = numeric_recurrence(rec, &setup, opts)?;
-    let modes = overtones(opts, first_estimate, &|n, seed| find_root(&num, n as usize, seed, opts.tol, 64, 1 << 17))?;
+    let (modes, _) = cf_ladder(rec, &setup, opts, first_estimate, &|_, _| false)?;
     Ok((modes, setup))
 }
 
-/// A continued-fraction root finder on the quasinormal-mode recurrence of
-/// `red` (the recurrence and exponent choices of [`qnm_modes`]): from a seed
-/// and the overtone whose inversion to use, the root nearest the seed.
-pub fn cf_polisher(red: &Reduction, opts: &SpectrumOptions) -> Result<impl Fn(u32, Complex64) -> CfRoot> {
-    let (rec, setup) = qnm_recurrence(red, opts)?;
+/// The overtone ladder of [`overtones`] on the continued fraction of a
+/// recurrence derived by [`qnm_recurrence`] (three terms or more), stopping
+/// early where `beyond` says an extrapolated seed has left the part of the
+/// plane wanted (see [`ladder`]).
+pub fn cf_ladder(
+    rec: &crate::series::Recurrence,
+    setup: &Setup,
+    opts: &SpectrumOptions,
+    first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
+    beyond: &dyn Fn(&[Mode], Complex64) -> bool,
+) -> Result<(Vec<Mode>, LadderEnd)> {
     if rec.coeffs.len() < 3 {
         return Err(usage(format!("the recurrence about {} has {} terms: no continued fraction", setup.horizon, rec.coeffs.len())));
     }
-    let num = numeric_recurrence(&rec, &setup, opts)?;
-    let tol = opts.tol;
-    Ok(move |n: u32, seed: Complex64| find_root(&num, n as usize, seed, tol, 64, 1 << 17))
+    let num = numeric_recurrence(rec, setup, opts)?;
+    ladder(opts, first_estimate, &|n, seed| find_root(&num, n as usize, seed, opts.tol, 64, 1 << 17), beyond)
+}
+
+/// Where the check by direct integration of a continued-fraction root
+/// starts: 1e-4 away from it (relative, in both parts), so that the check
+/// finds the root on its own rather than being handed it.
+pub fn check_seed(w: Complex64) -> Complex64 {
+    w * Complex64::new(1.0 + 1e-4, 1e-4)
+}
+
+/// The tolerance of the check by direct integration for a requested
+/// tolerance `tol` on ω: ten times looser (integration loses about a digit
+/// against the continued fraction), never below 1e-12.
+pub fn check_tol(tol: f64) -> f64 {
+    (tol * 10.0).max(1e-12)
 }
 
 /// The recurrence made numeric at the options' values: polynomials in
@@ -467,9 +485,32 @@ pub fn overtones(
     first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
     solve: &dyn Fn(u32, Complex64) -> CfRoot,
 ) -> Result<Vec<Mode>> {
+    Ok(ladder(opts, first_estimate, solve, &|_, _| false)?.0)
+}
+
+/// Where a ladder of overtones ([`ladder`]) stopped.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum LadderEnd {
+    /// Every overtone of the range was sought.
+    Range,
+    /// The seed of this overtone (not a given one) lay beyond the part of
+    /// the plane wanted, so it was not sought.
+    Beyond(u32),
+}
+
+/// [`overtones`], stopping before an overtone whose seed is neither given
+/// nor a guess and of which `beyond(modes so far, seed)` says that it lies
+/// past the part of the plane wanted (a window's bottom edge, say).
+pub fn ladder(
+    opts: &SpectrumOptions,
+    first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
+    solve: &dyn Fn(u32, Complex64) -> CfRoot,
+    beyond: &dyn Fn(&[Mode], Complex64) -> bool,
+) -> Result<(Vec<Mode>, LadderEnd)> {
     let mut modes: Vec<Mode> = Vec::new();
     for n in opts.overtones.0..=opts.overtones.1 {
         let idx = (n - opts.overtones.0) as usize;
+        let given = idx < opts.seeds.len() || (opts.guess.is_some() && n == opts.overtones.0);
         let seed = if let Some(s) = opts.seeds.get(idx) {
             (*s, "the global spectral method (an eigenvalue two Chebyshev grids agree on)".to_string())
         } else if let Some(g) = opts.guess.filter(|_| n == opts.overtones.0) {
@@ -496,6 +537,9 @@ pub fn overtones(
         } else {
             return Err(usage(format!("{NO_SEED} {n}: give --guess")));
         };
+        if !given && beyond(&modes, seed.0) {
+            return Ok((modes, LadderEnd::Beyond(n)));
+        }
         let mut root = solve(n, seed.0);
         // A root in the left half-plane is the mirror −ω̄ of a mode when the
         // equation is real: start again from the mirror image.
@@ -560,7 +604,7 @@ pub fn overtones(
         }
         modes.push(Mode { n, root, seed, method: ModeMethod::ContinuedFraction });
     }
-    Ok(modes)
+    Ok((modes, LadderEnd::Range))
 }
 
 /// The overtone number of a converged root from the two nearest converged
@@ -728,7 +772,7 @@ pub fn integration_check<'a>(
         let mf = |w: Complex64| eval_in_omega(&mu, w);
         let nf = |w: Complex64| eval_in_omega(&nu, w);
         let ends = super::integrate::Ends { horizon, rho_h: &rf, mu: &mf, nu: &nf };
-        super::integrate::find_root(&ode, &ends, seed, (tol * 10.0).max(1e-12))
+        super::integrate::find_root(&ode, &ends, seed, check_tol(tol))
     })
 }
 
