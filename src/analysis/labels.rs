@@ -12,6 +12,7 @@ use super::ext::Ext;
 use super::numeric::Values;
 use super::{Analysis, Exponent, Kind, Place};
 use crate::algebra::{Field, GRat, Poly, Rat, RatFunc, UPoly};
+use crate::error::RequestInput;
 use crate::error::Result;
 use num_complex::Complex64;
 use std::cmp::Ordering;
@@ -119,7 +120,11 @@ pub fn label(k: &Field, a: &Analysis, freq: usize, point: &[GRat], given: bool) 
     let basis = if given {
         "decided at the given parameter values".to_string()
     } else {
-        "decided at a generic point (parameter i = 0.3 + 0.17·i, frequency 1/2); pass --at to decide at your values".to_string()
+        format!(
+            "decided at a generic point (parameter i = 0.3 + 0.17·i, frequency 1/2); pass {opt_at} to decide at your values",
+            opt_at = RequestInput::At.mention()
+        )
+        .to_string()
     };
     Ok(Labels { per_point, basis })
 }

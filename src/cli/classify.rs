@@ -38,7 +38,7 @@ pub(crate) enum BoundaryArg {
 
 pub(crate) fn parse_choices(text: Option<&str>) -> Result<crate::analysis::canonical::Choices, Failure> {
     match text {
-        Some(t) => Ok(crate::analysis::canonical::Choices::parse(t).map_err(|e| e.in_option("--exponents"))?),
+        Some(t) => Ok(crate::analysis::canonical::Choices::parse(t).map_err(|e| e.in_named("--exponents"))?),
         None => Ok(crate::analysis::canonical::Choices::default()),
     }
 }
@@ -70,7 +70,7 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
                     None => {
                         return Err(Error::new(ErrorKind::Usage, format!("'{n}' is not a parameter of the equation"))
                             .at(*span)
-                            .in_option("--at")
+                            .in_named("--at")
                             .note(format!("the parameters are: {}", names[1..].join(", ")))
                             .into())
                     }
@@ -80,7 +80,7 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
             if !missing.is_empty() {
                 return Err(Error::new(ErrorKind::Usage, format!("no value given for {}", missing.join(", ")))
                     .at(crate::syntax::Span::new(0, text.len()))
-                    .in_option("--at")
+                    .in_named("--at")
                     .into());
             }
             values_point = Some(point.clone());
@@ -95,7 +95,7 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
     let freq = match &freq_name {
         Some(f) => match k.names().iter().skip(1).position(|n| n == f) {
             Some(i) => Some(i + 1),
-            None => return Err(Error::new(ErrorKind::Usage, format!("'{f}' is not a parameter of the equation")).in_option("--frequency").into()),
+            None => return Err(Error::new(ErrorKind::Usage, format!("'{f}' is not a parameter of the equation")).in_named("--frequency").into()),
         },
         None => None,
     };

@@ -10,7 +10,7 @@ use crate::solve::global::Region;
 use crate::solve::plot::PlaneMode;
 
 fn bad(msg: String) -> Failure {
-    Error::new(ErrorKind::Usage, msg).in_option("--region").into()
+    Error::new(ErrorKind::Usage, msg).in_named("--region").into()
 }
 
 /// Reads 'RE0..RE1,IM0..IM1'.

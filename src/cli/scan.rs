@@ -104,7 +104,7 @@ pub(crate) fn run(a: &ScanArgs) -> u8 {
 }
 
 fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
-    Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, len.max(1))).in_option(option).into()
+    Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, len.max(1))).in_named(option).into()
 }
 
 fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
@@ -123,7 +123,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     let fname = a.input.frequency_name().or_else(|| ["omega", "ω", "w"].iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
     let Some(fname) = fname else { return Err(Error::new(ErrorKind::Usage, "no frequency parameter: name it with --frequency").into()) };
     let Some(freq) = names.iter().skip(1).position(|n| *n == fname).map(|i| i + 1) else {
-        return Err(Error::new(ErrorKind::Usage, format!("'{fname}' is not a parameter")).in_option("--frequency").into());
+        return Err(Error::new(ErrorKind::Usage, format!("'{fname}' is not a parameter")).in_named("--frequency").into());
     };
     let walk = match &a.points {
         Some(path) => points_file(path, &names, freq)?,
@@ -169,7 +169,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
                 point[i + 1] = v;
                 given[i + 1] = true;
             }
-            _ => return Err(Error::new(ErrorKind::Usage, format!("'{n}' is not a parameter to fix here")).at(span).in_option("--at").into()),
+            _ => return Err(Error::new(ErrorKind::Usage, format!("'{n}' is not a parameter to fix here")).at(span).in_named("--at").into()),
         }
     }
     let missing: Vec<&str> = names.iter().zip(&given).filter(|(_, g)| !**g).map(|(n, _)| n.as_str()).collect();
@@ -254,7 +254,8 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
             .map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 2))?;
         if start_over {
             if let Some(l) = layout {
-                f.write_all(header.text(l).as_bytes()).map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 1))?;
+                f.write_all(super::named(&header.text(l)).as_bytes())
+                    .map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 1))?;
             }
         }
         file = Some(f);
@@ -313,7 +314,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
         if let Some(l) = layout {
             let text = point_text(&p, l, &header);
             let written = match &mut file {
-                Some(f) => f.write_all(text.as_bytes()).map_err(|e| Failure::Plain(format!("error: cannot write the table: {e}"), 1)),
+                Some(f) => f.write_all(super::named(&text).as_bytes()).map_err(|e| Failure::Plain(format!("error: cannot write the table: {e}"), 1)),
                 None => super::emit(&text),
             };
             if let Err(f) = written {
@@ -363,7 +364,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     let text = format!("{}\n", serde_json::to_string_pretty(&doc).unwrap_or_default());
     match (&mut file, &a.output) {
         (Some(f), Some(path)) => {
-            f.write_all(text.as_bytes()).map_err(|e| Failure::Plain(format!("error: cannot write {path:?}: {e}"), 1))?;
+            f.write_all(super::named(&text).as_bytes()).map_err(|e| Failure::Plain(format!("error: cannot write {path:?}: {e}"), 1))?;
             Ok(String::new())
         }
         _ => Ok(text),

@@ -29,7 +29,7 @@ use super::values::parse_assignments;
 use super::{emit, run_command, Failure, InputArgs};
 use crate::algebra::Rat;
 use crate::emit::scatter::{footer, header, row_text, Format};
-use crate::error::{Error, ErrorKind, Origin};
+use crate::error::{Error, ErrorKind};
 use crate::solve::scatter::{row_cross_section, scatter_setup, ScatterRequest, ScatterRow, Scattering};
 use clap::{Args, ValueEnum};
 use rayon::prelude::*;
@@ -78,7 +78,7 @@ pub(crate) struct ScatterArgs {
 }
 
 fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
-    Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, len.max(1))).in_option(option).into()
+    Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, len.max(1))).in_named(option).into()
 }
 
 pub(crate) fn run(a: &ScatterArgs) -> u8 {
@@ -128,8 +128,10 @@ fn compute(a: &ScatterArgs, src: &super::Source) -> Result<String, Failure> {
     let req = ScatterRequest { frequency: a.input.frequency_name(), values: parse_assignments(&a.at, "--at")?, sum, wkb_order: a.wkb_order, couple };
     let setup = scatter_setup(&red, &req).map_err(|e| match &e.origin {
         // An option error without a place points at the whole option.
-        Origin::Option(o) if e.span.is_none() && o == "--at" => usage(e.message.clone(), "--at", a.at.len()),
-        Origin::Option(o) if e.span.is_none() && o == "--sum-l" => usage(e.message.clone(), "--sum-l", a.sum_l.as_deref().unwrap_or("").len()),
+        _ if e.span.is_none() && super::origin_flag(&e.origin).as_deref() == Some("--at") => usage(e.message.clone(), "--at", a.at.len()),
+        _ if e.span.is_none() && super::origin_flag(&e.origin).as_deref() == Some("--sum-l") => {
+            usage(e.message.clone(), "--sum-l", a.sum_l.as_deref().unwrap_or("").len())
+        }
         _ => Failure::from(e),
     })?;
     let format = match a.format {

@@ -262,7 +262,7 @@ impl CoupleArgs {
     pub(crate) fn option_texts(&self) -> Vec<(String, String)> {
         let mut extra: Vec<(String, String)> = self.angular_guess.iter().map(|g| ("--angular-guess".to_string(), g.clone())).collect();
         // A failing link is reported against its own text.
-        extra.extend(self.link.iter().enumerate().map(|(i, l)| (link_option(i), l.clone())));
+        extra.extend(self.link.iter().enumerate().map(|(i, l)| (super::flag(link_option(i)), l.clone())));
         extra
     }
 
@@ -292,7 +292,7 @@ impl CoupleArgs {
 }
 
 fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
-    Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, len)).in_option(option).into()
+    Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, len)).in_named(option).into()
 }
 
 pub(crate) fn run(a: &SpectrumArgs) -> u8 {
@@ -317,7 +317,7 @@ fn request(
     Ok(SpectrumRequest {
         problem: a.boundary.map_or_else(|| Problem::natural(red), ProblemArg::problem),
         ends: match &a.ends {
-            Some(t) => Some(crate::solve::boundary::parse_ends(t).map_err(|e| e.in_option("--ends"))?),
+            Some(t) => Some(crate::solve::boundary::parse_ends(t).map_err(|e| e.in_named("--ends"))?),
             None => None,
         },
         frequency: a.input.frequency_name(),
@@ -386,13 +386,13 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     }
     let report = crate::solve::request::spectrum(&red, &req).map_err(|e| match (&e.origin, &asrc) {
         // Errors of the angular equation are rendered against its own text.
-        (Origin::Option(o), Some(asrc)) if o == ANGULAR_ORIGIN => {
+        (Origin::Option(o), Some(asrc)) if *o == ANGULAR_ORIGIN => {
             let mut e = e;
             e.origin = Origin::Input;
             angular_failure(e, asrc)
         }
         // An option error without a place points at the whole option.
-        (Origin::Option(o), _) if e.span.is_none() && o == "--at" => usage(e.message.clone(), "--at", a.at.len()),
+        _ if e.span.is_none() && super::origin_flag(&e.origin).as_deref() == Some("--at") => usage(e.message.clone(), "--at", a.at.len()),
         _ => Failure::from(e),
     })?;
     if let (Some(path), Some(f)) = (&a.mode_functions, &report.mode_functions) {
@@ -441,9 +441,9 @@ fn parse_links(a: &CoupleArgs, radial: &crate::algebra::Field, angular: &crate::
     let joint = crate::algebra::Field::new(names, radial.limits().clone())?;
     let mut out: Vec<crate::solve::coupled::Link> = Vec::new();
     for (i, text) in a.link.iter().enumerate() {
-        let l = crate::solve::coupled::try_link(text, &joint, radial, angular).map_err(|e| e.in_option(&link_option(i)))?;
+        let l = crate::solve::coupled::try_link(text, &joint, radial, angular).map_err(|e| e.in_option(link_option(i)))?;
         if out.iter().any(|o| o.target == l.target) {
-            return Err(Error::new(ErrorKind::Usage, format!("'{}' is linked twice", l.target)).in_option(&link_option(i)).into());
+            return Err(Error::new(ErrorKind::Usage, format!("'{}' is linked twice", l.target)).in_option(link_option(i)).into());
         }
         out.push(l);
     }

@@ -13,7 +13,7 @@
 
 use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::{Field, GRat, Rat, RatFunc};
-use crate::error::{Error, ErrorKind, Result};
+use crate::error::{Error, ErrorKind, RequestInput, Result};
 use crate::present::{choose, Choice, Program, SearchLimits, Step};
 
 /// The target language.
@@ -306,9 +306,8 @@ fn counts_line(ch: &Choice) -> String {
 /// doc comment, signature and body.
 pub fn emit_code(req: &CodeRequest<'_>) -> Result<Emitted> {
     if !valid_prefix(&req.prefix) {
-        return Err(
-            Error::new(ErrorKind::Usage, format!("'{}' is not a valid name prefix: use ASCII letters, digits and _", req.prefix)).in_option("--name")
-        );
+        return Err(Error::new(ErrorKind::Usage, format!("'{}' is not a valid name prefix: use ASCII letters, digits and _", req.prefix))
+            .in_option(RequestInput::Name));
     }
     let locals = param_locals(&req.params);
     let mut o = file_head(req);

@@ -6,7 +6,7 @@
 
 use super::quasi::{Atoms, Quasi};
 use crate::algebra::{Field, GRat, Limits, Rat, RatFunc};
-use crate::error::{Error, ErrorKind, Result};
+use crate::error::{Error, ErrorKind, RequestInput, Result};
 use crate::syntax::{BinOp, Expr, ExprKind, Func, Ident, Program, Span, Statement};
 use std::collections::BTreeMap;
 
@@ -338,7 +338,7 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
     let i_unit = RatFunc::constant(&GRat { re: Rat::zero(), im: Rat::one() });
     let candidates: Vec<RatFunc> = match request {
         Some(req) => {
-            let (a, x0) = linear_slope(&field, &names, &req.exponent).map_err(|e| e.in_option("--map"))?;
+            let (a, x0) = linear_slope(&field, &names, &req.exponent).map_err(|e| e.in_option(RequestInput::Map))?;
             shifts.push((req.exponent.span, x0));
             vec![a]
         }
@@ -353,7 +353,7 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
     let new_var = match request {
         Some(req) => {
             if names.contains(&req.new_var) {
-                return Err(Error::new(ErrorKind::Usage, format!("'{}' is already a name of the equation", req.new_var)).in_option("--map"));
+                return Err(Error::new(ErrorKind::Usage, format!("'{}' is already a name of the equation", req.new_var)).in_option(RequestInput::Map));
             }
             req.new_var.clone()
         }

@@ -25,6 +25,7 @@
 
 use crate::algebra::{Field, GRat, RatFunc};
 use crate::analysis::numeric::try_roots;
+use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::solve::NumOde;
 use num_complex::Complex64;
@@ -336,10 +337,14 @@ pub fn try_problem(
         None => {
             let horizons: Vec<&RealPoint> = real_points.iter().filter(|p| p.nature == Nature::Horizon).collect();
             let Some(outer) = horizons.last() else {
-                return Err(usage("no horizon: the equation has no real singular point whose exponents depend on the spectral parameter (give the ends with --ends)"));
+                return Err(usage(format!("no horizon: the equation has no real singular point whose exponents depend on the spectral parameter (give the ends with {opt_ends})", opt_ends = RequestInput::Ends.mention())));
             };
             let inf = inf_nature.ok_or_else(|| {
-                usage(format!("infinity has Poincaré rank {}: not supported as an end yet (give the ends with --ends)", d as f64 / 2.0 + 1.0))
+                usage(format!(
+                    "infinity has Poincaré rank {}: not supported as an end yet (give the ends with {opt_ends})",
+                    d as f64 / 2.0 + 1.0,
+                    opt_ends = RequestInput::Ends.mention()
+                ))
             })?;
             let inner = real_points.iter().rev().find(|p| p.z < outer.z - 1e-9 * outer.z.abs().max(1.0));
             // Beyond a cosmological horizon the potential turns negative; inside
@@ -356,7 +361,7 @@ pub fn try_problem(
                     let interior = inner.nature == Nature::Horizon || says(&unknown) || says(&ode);
                     if inner.nature == Nature::Horizon {
                         notes.push(
-                            "two horizons with a regular infinity beyond: taken as a black-hole and a cosmological horizon (for the inner and outer horizons of an anti-de Sitter black hole name the ends with --ends)"
+                            format!("two horizons with a regular infinity beyond: taken as a black-hole and a cosmological horizon (for the inner and outer horizons of an anti-de Sitter black hole name the ends with {opt_ends})", opt_ends = RequestInput::Ends.mention())
                                 .to_string(),
                         );
                     }

@@ -9,6 +9,7 @@ use super::boundary::End;
 use super::global::{self, Region, SpectralValue};
 use super::plot::PlaneMode;
 use super::request::{region_setup, SpectrumRequest, CONFIRMED};
+use crate::error::RequestInput;
 use crate::error::Result;
 use crate::ode::Reduction;
 use num_complex::Complex64;
@@ -194,7 +195,7 @@ pub fn region_modes(red: &Reduction, req: &SpectrumRequest, region: Region, grid
         method
     };
     let mirror_note = "a mode with Re ω < 0 at −ω̄ of another is its mirror image: listed right after its partner, with the partner's number";
-    let depth_note = "in double precision the discretised problem is very non-normal and only the least damped modes persist on both grids: a region reaching deep into the lower half-plane may hold further, more damped modes that are not listed (ask for them with --overtones)";
+    let depth_note = format!("in double precision the discretised problem is very non-normal and only the least damped modes persist on both grids: a region reaching deep into the lower half-plane may hold further, more damped modes that are not listed (ask for them with {opt_overtones})", opt_overtones = RequestInput::Overtones.mention());
     Ok(RegionReport {
         frequency: fname.to_string(),
         var: red.var.clone(),

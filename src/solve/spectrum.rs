@@ -11,6 +11,7 @@ use crate::algebra::{GRat, Rat};
 use crate::analysis::canonical::Choices;
 use crate::analysis::labels::{boundary_choices, label, Boundary, ExponentPicks};
 use crate::analysis::{analyse, Kind, Place};
+use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::Reduction;
 use num_complex::Complex64;
@@ -388,7 +389,7 @@ pub fn overtones(
         } else if let Some(last) = modes.iter().rev().find(|m| m.root.converged) {
             (last.root.omega - Complex64::new(0.0, 2.0 * last.root.omega.im.abs().max(0.05)), "below the previous overtone".to_string())
         } else {
-            return Err(usage(format!("{NO_SEED} {n}: give --guess")));
+            return Err(usage(format!("{NO_SEED} {n}: give {opt_guess}", opt_guess = RequestInput::Guess.mention())));
         };
         let mut root = solve(n, seed.0);
         // A root in the left half-plane is the mirror −ω̄ of a mode when the
@@ -418,8 +419,11 @@ pub fn overtones(
             if let Some(prev) = modes.iter().find(|m| m.root.converged && (m.root.omega - root.omega).norm() <= 1e-8 * root.omega.norm()) {
                 root.converged = false;
                 root.stop = StopReason::Rejected(format!(
-                    "the root {:.6e}{:+.6e}i is overtone {}'s again (the seed led to a mode already found); give seeds with --guess",
-                    root.omega.re, root.omega.im, prev.n
+                    "the root {:.6e}{:+.6e}i is overtone {}'s again (the seed led to a mode already found); give seeds with {opt_guess}",
+                    root.omega.re,
+                    root.omega.im,
+                    prev.n,
+                    opt_guess = RequestInput::Guess.mention()
                 ));
             }
         }
