@@ -551,7 +551,7 @@ fn emit(
             }
             _ => None,
         };
-        let dxdz = spec.option_text("--dxdz");
+        let dxdz = spec.option_text(&Origin::Option(RequestInput::Dxdz));
         let (functions, skipped, params) = emit_functions(&red, &spec.name, dxdz.as_deref(), want, rec.as_ref());
         let req = CodeRequest { lang, prefix, source: spec.name.clone(), params, functions, skipped, limits: Default::default() };
         Ok(emit_code(&req).map_err(|e| fail(&e, &spec, &[]))?.text)

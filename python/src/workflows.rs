@@ -299,7 +299,7 @@ fn couple_request(spec: &Spec, red: &canonode::ode::Reduction, c: &Couple) -> Re
         let kw = format!("link[{i}]");
         let extra = [(kw.clone(), text.clone())];
         let l = canonode::solve::coupled::try_link(text, &joint, &red.field, &ared.field)
-            .map_err(|e| fail(&e.in_named(kw), spec, &extra))?;
+            .map_err(|e| fail(&e.in_named(&kw), spec, &extra))?;
         if links.iter().any(|o| o.target == l.target) {
             return Err(usage(format!("'{}' is linked twice", l.target), &kw, spec, &extra, None));
         }

@@ -267,8 +267,9 @@ fn roots_derivative_sign(k: &Field, v: &Values, f: &Poly, e: &Exponent, freq: us
     Ok(d.and_then(|d| d.im.partial_cmp(&0.0)))
 }
 
-/// The boundary problem whose exponents are picked.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+/// The boundary problem whose exponents are picked (also the command
+/// line's `classify --boundary` values).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
 pub enum Boundary {
     /// Quasinormal modes: ingoing at horizons, outgoing at infinity.
     Qnm,

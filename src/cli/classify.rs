@@ -3,6 +3,7 @@
 use super::values::parse_assignments;
 use super::{run_command, Failure, Format, InputArgs};
 use crate::algebra::GRat;
+use crate::analysis::labels::Boundary;
 use crate::analysis::numeric::{evaluate, Values};
 use crate::error::{Error, ErrorKind};
 use clap::Args;
@@ -21,19 +22,10 @@ pub(crate) struct ClassifyArgs {
     exponents: Option<String>,
     /// Pick the exponents of a boundary problem: quasinormal modes or bound states.
     #[arg(long = "boundary", value_enum)]
-    boundary: Option<BoundaryArg>,
+    boundary: Option<Boundary>,
     /// Output format.
     #[arg(long = "format", value_enum, default_value = "text")]
     format: Format,
-}
-
-/// Boundary problems.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
-pub(crate) enum BoundaryArg {
-    /// Quasinormal modes: ingoing at horizons, outgoing at infinity.
-    Qnm,
-    /// Bound states: normalisable at both ends.
-    Bound,
 }
 
 pub(crate) fn parse_choices(text: Option<&str>) -> Result<crate::analysis::canonical::Choices, Failure> {
@@ -103,12 +95,12 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
     let labels = freq.map(|f| crate::analysis::labels::label(k, &an, f, &label_point, values_point.is_some())).transpose()?;
     let mut boundary_said = Vec::new();
     if let Some(b) = a.boundary {
-        if b == BoundaryArg::Qnm && labels.is_none() {
+        if b == Boundary::Qnm && labels.is_none() {
             return Err(
                 Error::new(ErrorKind::Usage, "--boundary qnm needs a frequency: name it with --frequency (no parameter is called omega)").into()
             );
         }
-        let kind = if b == BoundaryArg::Qnm { crate::analysis::labels::Boundary::Qnm } else { crate::analysis::labels::Boundary::Bound };
+        let kind = b;
         let text = |p: &crate::analysis::SingularPoint| match &p.place {
             crate::analysis::Place::Point { at, .. } => crate::algebra::print::ratfunc_text(at, k.names(), crate::algebra::print::Style::Text),
             // A root of a factor of higher degree is named θ, as `--exponents` and `--about` name it.
@@ -125,9 +117,9 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
         boundary_said = said;
     }
     let canon = crate::analysis::canonical(&red, &an, &choices)?;
-    let methods = crate::analysis::methods::suggest(&an, a.boundary.map(|b| b == BoundaryArg::Bound));
+    let methods = crate::analysis::methods::suggest(&an, a.boundary.map(|b| b == Boundary::Bound));
     let vals = values_point.map(Values::new);
-    let bname = a.boundary.map(|b| if b == BoundaryArg::Qnm { "quasinormal modes" } else { "bound states" });
+    let bname = a.boundary.map(|b| if b == Boundary::Qnm { "quasinormal modes" } else { "bound states" });
     Ok(match a.format {
         Format::Json => {
             let mut v = crate::emit::analysis_json(k, &red.var, &red.ode.params, &an, numeric.as_deref(), labels.as_ref());

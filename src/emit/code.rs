@@ -16,8 +16,8 @@ use crate::algebra::{Field, GRat, Rat, RatFunc};
 use crate::error::{Error, ErrorKind, RequestInput, Result};
 use crate::present::{choose, Choice, Program, SearchLimits, Step};
 
-/// The target language.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+/// The target language (also the command line's `--lang` values).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
 pub enum Lang {
     /// C99 with `double complex` from `<complex.h>`.
     C,
@@ -544,8 +544,8 @@ mod tests {
     }
 }
 
-/// What an emit request asks for.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+/// What an emit request asks for (also the command line's `--what` values).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
 pub enum EmitWhat {
     /// Q of the normal form.
     Q,

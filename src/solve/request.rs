@@ -29,10 +29,11 @@ use crate::ode::Reduction;
 use crate::syntax::Span;
 use num_complex::Complex64;
 
-/// Which spectrum.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+/// Which spectrum (also the command line's `--boundary` values).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
 pub enum Problem {
     /// Quasinormal modes: the wave leaves the domain through both ends.
+    #[value(name = "qnm")]
     Quasinormal,
     /// Bound states: normalisable at both ends (real eigenvalues).
     Bound,
@@ -76,8 +77,8 @@ impl Problem {
     }
 }
 
-/// Which method.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+/// Which method (also the command line's `--method` values).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
 pub enum Method {
     /// The continued fraction when the recurrence allows it, else direct integration; collocation for bound states.
     Auto,
