@@ -453,11 +453,7 @@ fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, bound
                 "boundary='qnm' needs a frequency: name it with frequency= (no parameter is called omega)",
             )));
         }
-        let text = |p: &canonode::analysis::SingularPoint| match &p.place {
-            canonode::analysis::Place::Point { at, .. } => ratfunc_text(at, k.names(), Style::Text),
-            _ => "∞".to_string(),
-        };
-        let canonode::analysis::labels::ExponentPicks { picks, said: s } = boundary_choices(k, &an, labels.as_ref(), b, &label_point, text).map_err(lib)?;
+        let canonode::analysis::labels::ExponentPicks { picks, said: s } = boundary_choices(k, &an, labels.as_ref(), b, &label_point).map_err(lib)?;
         for (p, c) in picks {
             if !choices.picks.iter().any(|(q, _)| *q == p) {
                 choices.picks.push((p, c));

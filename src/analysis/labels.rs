@@ -267,6 +267,17 @@ fn roots_derivative_sign(k: &Field, v: &Values, f: &Poly, e: &Exponent, freq: us
     Ok(d.and_then(|d| d.im.partial_cmp(&0.0)))
 }
 
+/// A singular point's name in the picks' sentences, as the exponents'
+/// choices (`Choices`) and the expansion point name it: its location,
+/// θ for a root of an irreducible factor of degree ≥ 2, ∞ for infinity.
+pub fn point_name(k: &Field, p: &super::SingularPoint) -> String {
+    match &p.place {
+        Place::Point { at, .. } => crate::algebra::print::ratfunc_text(at, k.names(), crate::algebra::print::Style::Text),
+        Place::Roots(_) => "θ".to_string(),
+        Place::Infinity => "∞".to_string(),
+    }
+}
+
 /// The boundary problem whose exponents are picked (also the command
 /// line's `classify --boundary` values).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
@@ -304,14 +315,13 @@ pub fn boundary_choices(
     labels: Option<&Labels>,
     b: Boundary,
     point: &[GRat],
-    point_text: impl Fn(&super::SingularPoint) -> String,
 ) -> Result<ExponentPicks> {
     let v = Values::new(point.to_vec());
     let mut picks = Vec::new();
     let mut said = Vec::new();
     for (i, p) in a.points.iter().enumerate() {
         let row = labels.map(|l| &l.per_point[i]);
-        let name = point_text(p);
+        let name = point_name(k, p);
         match (b, p.kind) {
             (Boundary::Qnm, Kind::Regular) => {
                 if let Some(j) = row.and_then(|r| r.iter().position(|x| *x == Some(Label::Ingoing))) {

@@ -101,14 +101,8 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
             );
         }
         let kind = b;
-        let text = |p: &crate::analysis::SingularPoint| match &p.place {
-            crate::analysis::Place::Point { at, .. } => crate::algebra::print::ratfunc_text(at, k.names(), crate::algebra::print::Style::Text),
-            // A root of a factor of higher degree is named θ, as `--exponents` and `--about` name it.
-            crate::analysis::Place::Roots(_) => "θ".to_string(),
-            crate::analysis::Place::Infinity => "∞".to_string(),
-        };
         let crate::analysis::labels::ExponentPicks { picks, said } =
-            crate::analysis::labels::boundary_choices(k, &an, labels.as_ref(), kind, &label_point, text)?;
+            crate::analysis::labels::boundary_choices(k, &an, labels.as_ref(), kind, &label_point)?;
         for (p, c) in picks {
             if !choices.picks.iter().any(|(q, _)| *q == p) {
                 choices.picks.push((p, c));

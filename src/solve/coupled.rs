@@ -176,12 +176,7 @@ pub fn try_angular(red: &Reduction, known: &[Option<GRat>], linked: &[usize], in
     for (j, i) in keep.iter().enumerate() {
         values[*i] = GRat::real(crate::algebra::Rat::new((j as i64 + 3).into(), 7.into()).expect("nonzero"));
     }
-    let text = |p: &crate::analysis::SingularPoint| match &p.place {
-        Place::Point { at, .. } => ratfunc_text(at, k.names(), Style::Text),
-        Place::Roots(_) => "θ".to_string(),
-        Place::Infinity => "∞".to_string(),
-    };
-    let crate::analysis::labels::ExponentPicks { picks, said } = boundary_choices(k, &an, None, Boundary::Bound, &values, text)?;
+    let crate::analysis::labels::ExponentPicks { picks, said } = boundary_choices(k, &an, None, Boundary::Bound, &values)?;
     let vals = crate::analysis::numeric::Values::new(values.clone());
     let mut ends: Vec<(f64, String)> = an
         .points

@@ -164,12 +164,7 @@ pub fn qnm_choice(red: &Reduction, an: &crate::analysis::Analysis, opts: &Spectr
     let mut point = opts.values.clone();
     point[opts.freq] = GRat::real(Rat::new(1.into(), 2.into()).expect("nonzero"));
     let labels = label(k, an, opts.freq, &point, true)?;
-    let text = |p: &crate::analysis::SingularPoint| match &p.place {
-        Place::Point { at, .. } => ratfunc_text(at, k.names(), Style::Text),
-        Place::Roots(_) => "θ".to_string(),
-        Place::Infinity => "∞".to_string(),
-    };
-    let ExponentPicks { picks, said } = boundary_choices(k, an, Some(&labels), Boundary::Qnm, &point, text)?;
+    let ExponentPicks { picks, said } = boundary_choices(k, an, Some(&labels), Boundary::Qnm, &point)?;
     // The outermost labelled regular point with an exact location.
     let vals = crate::analysis::numeric::Values::new(point.clone());
     let mut best: Option<(f64, String)> = None;
