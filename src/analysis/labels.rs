@@ -309,13 +309,7 @@ pub struct ExponentPicks {
 
 /// Exponent choices (1-based, by point label as printed) for a boundary
 /// problem, and a sentence per point saying what was picked.
-pub fn boundary_choices(
-    k: &Field,
-    a: &Analysis,
-    labels: Option<&Labels>,
-    b: Boundary,
-    point: &[GRat],
-) -> Result<ExponentPicks> {
+pub fn boundary_choices(k: &Field, a: &Analysis, labels: Option<&Labels>, b: Boundary, point: &[GRat]) -> Result<ExponentPicks> {
     let v = Values::new(point.to_vec());
     let mut picks = Vec::new();
     let mut said = Vec::new();
