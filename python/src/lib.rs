@@ -123,9 +123,11 @@ fn keyword(origin: &Origin) -> String {
     }
 }
 
-/// The library's text with its mentions of inputs spelled as keyword arguments (`guess=`).
+/// The library's text with its mentions of inputs spelled as the command
+/// line spells them: the package's documents and messages are the command
+/// line's, word for word (the tests compare them).
 pub(crate) fn named(text: &str) -> String {
-    canonode::error::name_inputs(text, |r| format!("{}=", r.key()))
+    canonode::error::name_inputs(text, canonode::command::flag)
 }
 
 /// A library error rendered against the text it points into: the input, an

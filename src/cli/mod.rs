@@ -257,7 +257,7 @@ pub(crate) fn inference_notes(red: &crate::ode::Reduction, inferred_input: bool)
 
 /// The command line's option for an input of the request: the one place
 /// that spells the library's inputs as options.
-pub(crate) fn flag(input: RequestInput) -> String {
+pub fn flag(input: RequestInput) -> String {
     let name = match input {
         RequestInput::About => "--about",
         RequestInput::AngularGuess => "--angular-guess",
