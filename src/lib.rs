@@ -48,11 +48,13 @@ pub mod syntax;
 pub use emit::record;
 
 /// The command line as a library entry point. The `cli` module itself is
-/// private (its argument structures and helpers are not an API); these three
+/// private (its argument structures and helpers are not an API); these
 /// items are public on purpose: the thin binary calls [`command::main_with_args`],
 /// and tests drive every subcommand in process through
 /// [`command::run_captured`], which prints nothing and returns what the
-/// binary would have printed with its exit status.
+/// binary would have printed with its exit status; [`command::flag`] spells
+/// an input of the request as its option, for a front end whose texts must
+/// read as the command line's (the Python package's documents).
 pub mod command {
-    pub use crate::cli::{main_with_args, run_captured, Captured};
+    pub use crate::cli::{flag, main_with_args, run_captured, Captured};
 }

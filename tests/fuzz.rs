@@ -108,7 +108,7 @@ fn span_problem(case: &Case, e: &Error) -> Option<String> {
     let text: &str = match &e.origin {
         Origin::Input => &case.text,
         // The only option used here is --at-infinity, whose text the CLI shows as empty.
-        Origin::Option(_) => return None,
+        Origin::Option(_) | Origin::Named(_) => return None,
     };
     if span.start > span.end || span.end > text.len() {
         return Some(format!("span {}..{} outside the text of {} bytes", span.start, span.end, text.len()));

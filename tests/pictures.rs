@@ -16,7 +16,16 @@ fn the_readme_pictures_are_current() {
         .expect("bash runs");
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let mut stale = Vec::new();
-    for name in ["demo_scan.svg", "demo_scan.png", "demo_map.svg", "demo_map.png", "demo_cross_section.svg", "demo_cross_section.png", "demo_modes.svg", "demo_modes.png"] {
+    for name in [
+        "demo_scan.svg",
+        "demo_scan.png",
+        "demo_map.svg",
+        "demo_map.png",
+        "demo_cross_section.svg",
+        "demo_cross_section.png",
+        "demo_modes.svg",
+        "demo_modes.png",
+    ] {
         let drawn = std::fs::read(dir.join(name)).unwrap();
         let committed = std::fs::read(std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("docs").join(name)).unwrap_or_default();
         if drawn != committed {

@@ -23,7 +23,7 @@ mod workflows;
 
 use canonode::algebra::print::{ratfunc_text, Style};
 use canonode::algebra::{GRat, Rat};
-use canonode::error::{Error, ErrorKind, Origin};
+use canonode::error::{Error, ErrorKind, Origin, RequestInput};
 use canonode::ode::{Input, ReduceOptions};
 use canonode::syntax::Span;
 use num_complex::Complex64;
@@ -94,12 +94,12 @@ impl Spec {
     }
 
     /// The text of a keyword argument a library error may point into.
-    fn option_text(&self, option: &str) -> Option<String> {
-        match option {
-            "--subst" => self.subst.clone(),
-            "--dxdz" => self.dxdz.clone(),
-            "--frequency" => self.frequency.clone(),
-            "--at-infinity" => Some(String::new()),
+    fn option_text(&self, origin: &Origin) -> Option<String> {
+        match origin {
+            Origin::Option(RequestInput::Subst) => self.subst.clone(),
+            Origin::Option(RequestInput::Dxdz) => self.dxdz.clone(),
+            Origin::Option(RequestInput::Frequency) => self.frequency.clone(),
+            Origin::Option(RequestInput::AtInfinity) => Some(String::new()),
             _ => None,
         }
     }
@@ -114,11 +114,20 @@ pub(crate) enum Fail {
     Internal(String),
 }
 
-/// The Python keyword argument that a command-line option name stands for.
-fn keyword(option: &str) -> String {
-    let o = option.trim_start_matches('-');
-    let o = o.split(" #").next().unwrap_or(o);
-    o.replace('-', "_")
+/// The Python keyword argument an error's origin names (empty for the input).
+fn keyword(origin: &Origin) -> String {
+    match origin {
+        Origin::Input => String::new(),
+        Origin::Option(r) => r.key().to_string(),
+        Origin::Named(kw) => kw.clone(),
+    }
+}
+
+/// The library's text with its mentions of inputs spelled as the command
+/// line spells them: the package's documents and messages are the command
+/// line's, word for word (the tests compare them).
+pub(crate) fn named(text: &str) -> String {
+    canonode::error::name_inputs(text, canonode::command::flag)
 }
 
 /// A library error rendered against the text it points into: the input, an
@@ -129,13 +138,13 @@ pub(crate) fn fail(e: &Error, spec: &Spec, extra: &[(String, String)]) -> Fail {
     }
     let (name, text) = match &e.origin {
         Origin::Input => (spec.name.clone(), spec.text.clone()),
-        Origin::Option(o) => {
+        o @ (Origin::Option(_) | Origin::Named(_)) => {
             let kw = keyword(o);
             let text = spec.option_text(o).or_else(|| extra.iter().find(|(n, _)| *n == kw).map(|(_, t)| t.clone())).unwrap_or_default();
             (kw, text)
         }
     };
-    let message = canonode::emit::diagnostic::render(e, &name, &text).trim_end().to_string();
+    let message = named(canonode::emit::diagnostic::render(e, &name, &text).trim_end());
     let (line, column) = match e.span {
         Some(s) => {
             let (l, c) = canonode::emit::diagnostic::line_column(&text, s);
@@ -149,7 +158,7 @@ pub(crate) fn fail(e: &Error, spec: &Spec, extra: &[(String, String)]) -> Fail {
 /// A usage error about a keyword argument (its text in `extra`), pointing at `span` (or all of it).
 pub(crate) fn usage(msg: impl Into<String>, kw: &str, spec: &Spec, extra: &[(String, String)], span: Option<Span>) -> Fail {
     let len = extra.iter().find(|(n, _)| n == kw).map(|(_, t)| t.len()).unwrap_or(0);
-    let e = Error::new(ErrorKind::Usage, msg).at(span.unwrap_or(Span::new(0, len.max(1)))).in_option(&format!("--{kw}"));
+    let e = Error::new(ErrorKind::Usage, msg).at(span.unwrap_or(Span::new(0, len.max(1)))).in_named(kw);
     fail(&e, spec, extra)
 }
 
@@ -214,7 +223,7 @@ fn to_py(py: Python<'_>, v: &Value) -> PyResult<PyObject> {
             (_, _, Some(f)) => f.into_py_any(py)?,
             _ => py.None(),
         },
-        Value::String(s) => s.into_py_any(py)?,
+        Value::String(s) => named(s).into_py_any(py)?,
         Value::Array(a) => {
             let items: Vec<PyObject> = a.iter().map(|x| to_py(py, x)).collect::<PyResult<_>>()?;
             PyList::new(py, items)?.into_any().unbind()
@@ -318,7 +327,7 @@ pub(crate) fn point_from(
             None => {
                 let e = Error::new(ErrorKind::Usage, format!("'{n}' is not a parameter of the equation"))
                     .at(*span)
-                    .in_option(&format!("--{kw}"))
+                    .in_named(kw)
                     .note(format!("the parameters are: {}", names[1..].join(", ")));
                 return Err(fail(&e, spec, &extra));
             }
@@ -415,7 +424,7 @@ fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, bound
         None => (None, None),
     };
     let mut choices = match exponents {
-        Some(t) => canonode::analysis::canonical::Choices::parse(t).map_err(|e| lib(e.in_option("--exponents")))?,
+        Some(t) => canonode::analysis::canonical::Choices::parse(t).map_err(|e| lib(e.in_option(RequestInput::Exponents)))?,
         None => Default::default(),
     };
     let freq_name =
@@ -423,7 +432,7 @@ fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, bound
     let freq = match &freq_name {
         Some(f) => match names.iter().skip(1).position(|n| n == f) {
             Some(i) => Some(i + 1),
-            None => return Err(lib(Error::new(ErrorKind::Usage, format!("'{f}' is not a parameter of the equation")).in_option("--frequency"))),
+            None => return Err(lib(Error::new(ErrorKind::Usage, format!("'{f}' is not a parameter of the equation")).in_option(RequestInput::Frequency))),
         },
         None => None,
     };
@@ -446,11 +455,7 @@ fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, bound
                 "boundary='qnm' needs a frequency: name it with frequency= (no parameter is called omega)",
             )));
         }
-        let text = |p: &canonode::analysis::SingularPoint| match &p.place {
-            canonode::analysis::Place::Point { at, .. } => ratfunc_text(at, k.names(), Style::Text),
-            _ => "∞".to_string(),
-        };
-        let canonode::analysis::labels::ExponentPicks { picks, said: s } = boundary_choices(k, &an, labels.as_ref(), b, &label_point, text).map_err(lib)?;
+        let canonode::analysis::labels::ExponentPicks { picks, said: s } = boundary_choices(k, &an, labels.as_ref(), b, &label_point).map_err(lib)?;
         for (p, c) in picks {
             if !choices.picks.iter().any(|(q, _)| *q == p) {
                 choices.picks.push((p, c));
@@ -537,14 +542,14 @@ fn emit(
         let rec = match (&about, matches!(want, EmitWhat::Recurrence | EmitWhat::All)) {
             (Some(p), true) => {
                 let choices = match &exponents {
-                    Some(t) => canonode::analysis::canonical::Choices::parse(t).map_err(|e| fail(&e.in_option("--exponents"), &spec, &extra))?,
+                    Some(t) => canonode::analysis::canonical::Choices::parse(t).map_err(|e| fail(&e.in_option(RequestInput::Exponents), &spec, &extra))?,
                     None => canonode::analysis::canonical::Choices::default(),
                 };
                 Some(canonode::series::requested(&red, p, series.as_deref(), &choices, false).map_err(|e| fail(&e, &spec, &extra))?)
             }
             _ => None,
         };
-        let dxdz = spec.option_text("--dxdz");
+        let dxdz = spec.option_text(&Origin::Option(RequestInput::Dxdz));
         let (functions, skipped, params) = emit_functions(&red, &spec.name, dxdz.as_deref(), want, rec.as_ref());
         let req = CodeRequest { lang, prefix, source: spec.name.clone(), params, functions, skipped, limits: Default::default() };
         Ok(emit_code(&req).map_err(|e| fail(&e, &spec, &[]))?.text)

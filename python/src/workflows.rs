@@ -65,7 +65,7 @@ fn frequency(spec: &Spec, names: &[String], bound: bool) -> Result<(usize, Strin
     };
     match names.iter().skip(1).position(|n| *n == fname) {
         Some(i) => Ok((i + 1, fname)),
-        None => Err(fail(&Error::new(ErrorKind::Usage, format!("'{fname}' is not a parameter of the equation")).in_option("--frequency"), spec, &[])),
+        None => Err(fail(&Error::new(ErrorKind::Usage, format!("'{fname}' is not a parameter of the equation")).in_option(canonode::error::RequestInput::Frequency), spec, &[])),
     }
 }
 
@@ -168,7 +168,7 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
     check_numbers(spec, req)?;
     let (at_text, values) = read_values(&req.at, "at", spec)?;
     let ends = match &req.ends {
-        Some(t) => Some(canonode::solve::boundary::parse_ends(t).map_err(|e| fail(&e.in_option("--ends"), spec, &[("ends".into(), t.clone())]))?),
+        Some(t) => Some(canonode::solve::boundary::parse_ends(t).map_err(|e| fail(&e.in_option(canonode::error::RequestInput::Ends), spec, &[("ends".into(), t.clone())]))?),
         None => None,
     };
     let (aspec, couple) = match &req.couple {
@@ -205,13 +205,13 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
     }
     let report = canonode::solve::request::spectrum(&red, &lreq).map_err(|e| match (&e.origin, &aspec) {
         // Errors of the angular equation point into its own text.
-        (Origin::Option(o), Some(aspec)) if o == ANGULAR_ORIGIN => {
+        (Origin::Option(o), Some(aspec)) if *o == ANGULAR_ORIGIN => {
             let mut e = e;
             e.origin = Origin::Input;
             fail(&e, aspec, &[])
         }
         // An error about the values without a place points at all of them.
-        (Origin::Option(o), _) if o == "--at" && e.span.is_none() => usage(e.message.clone(), "at", spec, &[("at".into(), at_text.clone())], None),
+        (Origin::Option(canonode::error::RequestInput::At), _) if e.span.is_none() => usage(e.message.clone(), "at", spec, &[("at".into(), at_text.clone())], None),
         _ => fail(&e, spec, &[("at".into(), at_text.clone())]),
     })?;
     Ok(canonode::emit::spectrum::json(&report))
@@ -299,7 +299,7 @@ fn couple_request(spec: &Spec, red: &canonode::ode::Reduction, c: &Couple) -> Re
         let kw = format!("link[{i}]");
         let extra = [(kw.clone(), text.clone())];
         let l = canonode::solve::coupled::try_link(text, &joint, &red.field, &ared.field)
-            .map_err(|e| fail(&e.in_option(&format!("--{kw}")), spec, &extra))?;
+            .map_err(|e| fail(&e.in_named(&kw), spec, &extra))?;
         if links.iter().any(|o| o.target == l.target) {
             return Err(usage(format!("'{}' is linked twice", l.target), &kw, spec, &extra, None));
         }
@@ -347,12 +347,12 @@ pub fn scatter(
     let req = canonode::solve::scatter::ScatterRequest { frequency: spec.frequency.clone(), values, sum, wkb_order, couple };
     let setup = canonode::solve::scatter::scatter_setup(&red, &req).map_err(|e| match &e.origin {
         // Errors of the angular equation point into its own text.
-        Origin::Option(o) if o == canonode::solve::request::ANGULAR_ORIGIN && aspec.is_some() => {
+        Origin::Option(o) if *o == canonode::solve::request::ANGULAR_ORIGIN && aspec.is_some() => {
             let mut e = e;
             e.origin = Origin::Input;
             fail(&e, aspec.as_ref().expect("checked"), &[])
         }
-        Origin::Option(o) if o == "--at" && e.span.is_none() => usage(e.message.clone(), "at", spec, &[("at".into(), at_text.clone())], None),
+        Origin::Option(canonode::error::RequestInput::At) if e.span.is_none() => usage(e.message.clone(), "at", spec, &[("at".into(), at_text.clone())], None),
         _ => fail(&e, spec, &[("at".into(), at_text.clone())]),
     })?;
     let mut points = Vec::with_capacity(grid.len());

@@ -38,3 +38,13 @@ def test_regge_wheeler_structure():
 def test_exponent_choices_match_the_command_line():
     c = canonode.classify(pathlib.Path("samples/hypergeometric.ode"), exponents="0=2")
     assert c.json == cli_json("classify", "samples/hypergeometric.ode", "--exponents", "0=2")
+
+
+def test_a_root_of_a_quadratic_factor_is_named_theta():
+    # Reissner–Nordström: the horizons are the roots of r² − 2Mr + q²
+    # (common practice), a factor of degree 2, so the boundary choices name
+    # the point θ, as the command line and `exponents=` do — not ∞.
+    c = canonode.classify(pathlib.Path("samples/reissner_nordstrom_scalar.ode"), boundary="qnm")
+    choices = c.json["boundary"]["choices"]
+    assert choices[0].startswith("at θ:") and choices[1].startswith("at ∞:")
+    assert c.json == cli_json("classify", "samples/reissner_nordstrom_scalar.ode", "--boundary", "qnm")

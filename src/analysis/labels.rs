@@ -12,6 +12,7 @@ use super::ext::Ext;
 use super::numeric::Values;
 use super::{Analysis, Exponent, Kind, Place};
 use crate::algebra::{Field, GRat, Poly, Rat, RatFunc, UPoly};
+use crate::error::RequestInput;
 use crate::error::Result;
 use num_complex::Complex64;
 use std::cmp::Ordering;
@@ -119,7 +120,11 @@ pub fn label(k: &Field, a: &Analysis, freq: usize, point: &[GRat], given: bool) 
     let basis = if given {
         "decided at the given parameter values".to_string()
     } else {
-        "decided at a generic point (parameter i = 0.3 + 0.17·i, frequency 1/2); pass --at to decide at your values".to_string()
+        format!(
+            "decided at a generic point (parameter i = 0.3 + 0.17·i, frequency 1/2); pass {opt_at} to decide at your values",
+            opt_at = RequestInput::At.mention()
+        )
+        .to_string()
     };
     Ok(Labels { per_point, basis })
 }
@@ -262,8 +267,20 @@ fn roots_derivative_sign(k: &Field, v: &Values, f: &Poly, e: &Exponent, freq: us
     Ok(d.and_then(|d| d.im.partial_cmp(&0.0)))
 }
 
-/// The boundary problem whose exponents are picked.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+/// A singular point's name in the picks' sentences, as the exponents'
+/// choices (`Choices`) and the expansion point name it: its location,
+/// θ for a root of an irreducible factor of degree ≥ 2, ∞ for infinity.
+pub fn point_name(k: &Field, p: &super::SingularPoint) -> String {
+    match &p.place {
+        Place::Point { at, .. } => crate::algebra::print::ratfunc_text(at, k.names(), crate::algebra::print::Style::Text),
+        Place::Roots(_) => "θ".to_string(),
+        Place::Infinity => "∞".to_string(),
+    }
+}
+
+/// The boundary problem whose exponents are picked (also the command
+/// line's `classify --boundary` values).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
 pub enum Boundary {
     /// Quasinormal modes: ingoing at horizons, outgoing at infinity.
     Qnm,
@@ -292,20 +309,13 @@ pub struct ExponentPicks {
 
 /// Exponent choices (1-based, by point label as printed) for a boundary
 /// problem, and a sentence per point saying what was picked.
-pub fn boundary_choices(
-    k: &Field,
-    a: &Analysis,
-    labels: Option<&Labels>,
-    b: Boundary,
-    point: &[GRat],
-    point_text: impl Fn(&super::SingularPoint) -> String,
-) -> Result<ExponentPicks> {
+pub fn boundary_choices(k: &Field, a: &Analysis, labels: Option<&Labels>, b: Boundary, point: &[GRat]) -> Result<ExponentPicks> {
     let v = Values::new(point.to_vec());
     let mut picks = Vec::new();
     let mut said = Vec::new();
     for (i, p) in a.points.iter().enumerate() {
         let row = labels.map(|l| &l.per_point[i]);
-        let name = point_text(p);
+        let name = point_name(k, p);
         match (b, p.kind) {
             (Boundary::Qnm, Kind::Regular) => {
                 if let Some(j) = row.and_then(|r| r.iter().position(|x| *x == Some(Label::Ingoing))) {

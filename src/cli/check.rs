@@ -87,7 +87,8 @@ fn check_one(file: &str) -> Result<u8, (String, u8)> {
     })
     .map_err(|e| match &e.origin {
         // A recorded option's value that no longer works: point into the record's line.
-        Origin::Option(o) => {
+        Origin::Option(_) | Origin::Named(_) => {
+            let o = super::origin_flag(&e.origin).unwrap_or_default();
             let key = format!("option.{}", o.trim_start_matches('-'));
             let at = recorded.span(&key);
             let mut moved = Error { origin: Origin::Input, ..e.clone() };

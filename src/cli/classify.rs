@@ -3,6 +3,7 @@
 use super::values::parse_assignments;
 use super::{run_command, Failure, Format, InputArgs};
 use crate::algebra::GRat;
+use crate::analysis::labels::Boundary;
 use crate::analysis::numeric::{evaluate, Values};
 use crate::error::{Error, ErrorKind};
 use clap::Args;
@@ -21,24 +22,15 @@ pub(crate) struct ClassifyArgs {
     exponents: Option<String>,
     /// Pick the exponents of a boundary problem: quasinormal modes or bound states.
     #[arg(long = "boundary", value_enum)]
-    boundary: Option<BoundaryArg>,
+    boundary: Option<Boundary>,
     /// Output format.
     #[arg(long = "format", value_enum, default_value = "text")]
     format: Format,
 }
 
-/// Boundary problems.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
-pub(crate) enum BoundaryArg {
-    /// Quasinormal modes: ingoing at horizons, outgoing at infinity.
-    Qnm,
-    /// Bound states: normalisable at both ends.
-    Bound,
-}
-
 pub(crate) fn parse_choices(text: Option<&str>) -> Result<crate::analysis::canonical::Choices, Failure> {
     match text {
-        Some(t) => Ok(crate::analysis::canonical::Choices::parse(t).map_err(|e| e.in_option("--exponents"))?),
+        Some(t) => Ok(crate::analysis::canonical::Choices::parse(t).map_err(|e| e.in_named("--exponents"))?),
         None => Ok(crate::analysis::canonical::Choices::default()),
     }
 }
@@ -70,7 +62,7 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
                     None => {
                         return Err(Error::new(ErrorKind::Usage, format!("'{n}' is not a parameter of the equation"))
                             .at(*span)
-                            .in_option("--at")
+                            .in_named("--at")
                             .note(format!("the parameters are: {}", names[1..].join(", ")))
                             .into())
                     }
@@ -80,7 +72,7 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
             if !missing.is_empty() {
                 return Err(Error::new(ErrorKind::Usage, format!("no value given for {}", missing.join(", ")))
                     .at(crate::syntax::Span::new(0, text.len()))
-                    .in_option("--at")
+                    .in_named("--at")
                     .into());
             }
             values_point = Some(point.clone());
@@ -95,7 +87,7 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
     let freq = match &freq_name {
         Some(f) => match k.names().iter().skip(1).position(|n| n == f) {
             Some(i) => Some(i + 1),
-            None => return Err(Error::new(ErrorKind::Usage, format!("'{f}' is not a parameter of the equation")).in_option("--frequency").into()),
+            None => return Err(Error::new(ErrorKind::Usage, format!("'{f}' is not a parameter of the equation")).in_named("--frequency").into()),
         },
         None => None,
     };
@@ -103,20 +95,14 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
     let labels = freq.map(|f| crate::analysis::labels::label(k, &an, f, &label_point, values_point.is_some())).transpose()?;
     let mut boundary_said = Vec::new();
     if let Some(b) = a.boundary {
-        if b == BoundaryArg::Qnm && labels.is_none() {
+        if b == Boundary::Qnm && labels.is_none() {
             return Err(
                 Error::new(ErrorKind::Usage, "--boundary qnm needs a frequency: name it with --frequency (no parameter is called omega)").into()
             );
         }
-        let kind = if b == BoundaryArg::Qnm { crate::analysis::labels::Boundary::Qnm } else { crate::analysis::labels::Boundary::Bound };
-        let text = |p: &crate::analysis::SingularPoint| match &p.place {
-            crate::analysis::Place::Point { at, .. } => crate::algebra::print::ratfunc_text(at, k.names(), crate::algebra::print::Style::Text),
-            // A root of a factor of higher degree is named θ, as `--exponents` and `--about` name it.
-            crate::analysis::Place::Roots(_) => "θ".to_string(),
-            crate::analysis::Place::Infinity => "∞".to_string(),
-        };
+        let kind = b;
         let crate::analysis::labels::ExponentPicks { picks, said } =
-            crate::analysis::labels::boundary_choices(k, &an, labels.as_ref(), kind, &label_point, text)?;
+            crate::analysis::labels::boundary_choices(k, &an, labels.as_ref(), kind, &label_point)?;
         for (p, c) in picks {
             if !choices.picks.iter().any(|(q, _)| *q == p) {
                 choices.picks.push((p, c));
@@ -125,9 +111,9 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
         boundary_said = said;
     }
     let canon = crate::analysis::canonical(&red, &an, &choices)?;
-    let methods = crate::analysis::methods::suggest(&an, a.boundary.map(|b| b == BoundaryArg::Bound));
+    let methods = crate::analysis::methods::suggest(&an, a.boundary.map(|b| b == Boundary::Bound));
     let vals = values_point.map(Values::new);
-    let bname = a.boundary.map(|b| if b == BoundaryArg::Qnm { "quasinormal modes" } else { "bound states" });
+    let bname = a.boundary.map(|b| if b == Boundary::Qnm { "quasinormal modes" } else { "bound states" });
     Ok(match a.format {
         Format::Json => {
             let mut v = crate::emit::analysis_json(k, &red.var, &red.ode.params, &an, numeric.as_deref(), labels.as_ref());

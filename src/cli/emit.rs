@@ -5,29 +5,7 @@
 use super::recurrence::SeriesArgs;
 use super::{run_command, Failure, InputArgs};
 use crate::emit::code::{emit_code, emit_functions, prefix_from_source, CodeRequest, EmitWhat, Lang};
-use clap::{Args, ValueEnum};
-
-/// Target languages.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
-pub(crate) enum LangArg {
-    /// Rust with num_complex::Complex64.
-    Rust,
-    /// C99 with double complex.
-    C,
-}
-
-/// What to emit.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
-pub(crate) enum WhatArg {
-    /// Q of the normal form.
-    Q,
-    /// The Schrödinger potential V (needs --dxdz).
-    Potential,
-    /// The recurrence coefficients (needs --about).
-    Recurrence,
-    /// Everything available; the output says what was skipped.
-    All,
-}
+use clap::Args;
 
 /// Arguments of `emit`.
 #[derive(Args, Debug)]
@@ -36,10 +14,10 @@ pub(crate) struct EmitArgs {
     input: InputArgs,
     /// The language of the source.
     #[arg(long = "lang", value_enum)]
-    lang: LangArg,
+    lang: Lang,
     /// Which functions.
     #[arg(long = "what", value_enum, default_value = "q")]
-    what: WhatArg,
+    what: EmitWhat,
     /// Prefix of every emitted name (default: from the file name).
     #[arg(long = "name", value_name = "PREFIX")]
     name: Option<String>,
@@ -64,10 +42,10 @@ pub(crate) fn run(a: &EmitArgs) -> u8 {
 
 fn compute(a: &EmitArgs, src: &super::Source) -> Result<String, Failure> {
     let needs = |what: &str, option: &str| Failure::Plain(format!("error: --what {what} needs {option}"), 2);
-    if a.what == WhatArg::Potential && a.input.dxdz.is_none() {
+    if a.what == EmitWhat::Potential && a.input.dxdz.is_none() {
         return Err(needs("potential", "--dxdz EXPR (dx/dz of the Schrödinger form, e.g. '1/f')"));
     }
-    if a.what == WhatArg::Recurrence && a.about.is_none() {
+    if a.what == EmitWhat::Recurrence && a.about.is_none() {
         return Err(needs("recurrence", "--about POINT (the expansion point, as `classify` prints it)"));
     }
     let prefix = a.name.clone().unwrap_or_else(|| prefix_from_source(&src.name));
@@ -78,22 +56,12 @@ fn compute(a: &EmitArgs, src: &super::Source) -> Result<String, Failure> {
         ));
     }
     let red = a.input.reduce(src)?;
-    let rec = match (&a.about, matches!(a.what, WhatArg::Recurrence | WhatArg::All)) {
+    let rec = match (&a.about, matches!(a.what, EmitWhat::Recurrence | EmitWhat::All)) {
         (Some(about), true) => Some(a.series.derive(&red, about)?),
         _ => None,
     };
-    let what = match a.what {
-        WhatArg::Q => EmitWhat::Q,
-        WhatArg::Potential => EmitWhat::Potential,
-        WhatArg::Recurrence => EmitWhat::Recurrence,
-        WhatArg::All => EmitWhat::All,
-    };
-    let (functions, skipped, params) = emit_functions(&red, &src.name, a.input.dxdz.as_deref(), what, rec.as_ref());
-    let lang = match a.lang {
-        LangArg::C => Lang::C,
-        LangArg::Rust => Lang::Rust,
-    };
-    let req = CodeRequest { lang, prefix, source: src.name.clone(), params, functions, skipped, limits: Default::default() };
+    let (functions, skipped, params) = emit_functions(&red, &src.name, a.input.dxdz.as_deref(), a.what, rec.as_ref());
+    let req = CodeRequest { lang: a.lang, prefix, source: src.name.clone(), params, functions, skipped, limits: Default::default() };
     let out = emit_code(&req)?;
     if let Some(path) = &a.output {
         std::fs::write(path, &out.text).map_err(|e| Failure::Plain(format!("{path}: error: cannot write the file: {e}"), 1))?;

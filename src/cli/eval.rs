@@ -49,7 +49,7 @@ fn compute(a: &EvalArgs, src: &super::Source) -> Result<Evaluated, Failure> {
             None => {
                 return Err(Error::new(ErrorKind::Usage, format!("'{n}' is neither the variable nor a parameter of the equation"))
                     .at(*span)
-                    .in_option("--at")
+                    .in_named("--at")
                     .note(format!("the names are: {}", names.join(", ")))
                     .into())
             }
@@ -59,19 +59,19 @@ fn compute(a: &EvalArgs, src: &super::Source) -> Result<Evaluated, Failure> {
     if !missing.is_empty() {
         return Err(Error::new(ErrorKind::Usage, format!("no value given for {}", missing.join(", ")))
             .at(crate::syntax::Span::new(0, a.at.len()))
-            .in_option("--at")
+            .in_named("--at")
             .into());
     }
     let q = red.normal.q.eval(&point).ok_or_else(|| {
         Error::new(ErrorKind::Usage, "Q has a pole at this point: its denominator vanishes there")
             .at(crate::syntax::Span::new(0, a.at.len()))
-            .in_option("--at")
+            .in_named("--at")
     })?;
     let (re, im) = q.to_f64();
     if !(re.is_finite() && im.is_finite()) {
         return Err(Error::new(ErrorKind::Limit, "Q at this point is beyond double precision (its magnitude exceeds about 1.8e308)")
             .at(crate::syntax::Span::new(0, a.at.len()))
-            .in_option("--at")
+            .in_named("--at")
             .into());
     }
     Ok((names.iter().cloned().zip(point).collect(), re, im))

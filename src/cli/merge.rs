@@ -44,18 +44,70 @@ fn merge(a: &MergeArgs) -> Result<(), Failure> {
     if let Some(path) = &a.output {
         super::options::writable(path, "-o")?;
     }
-    let mut tables = Vec::new();
+    let mut tables: Vec<Shard> = Vec::new();
     for path in &a.files {
         let text = read_file(path)?;
         tables.push((path.as_str(), read(path, &text, None)?));
     }
+    same_survey(&tables)?;
+    let h0 = tables[0].1.header.clone();
+    let n = h0.points;
+    let mut problems: Vec<String> = Vec::new();
+    let owner = owners(&tables, n, &mut problems);
+    let missing = missing_points(&owner);
+    for (s, e) in &missing {
+        let which = tables.iter().find(|(_, t)| t.header.rows.start <= *s && *s < t.header.rows.end);
+        let why = match which {
+            Some((path, t)) => {
+                format!("{path} (shard {}/{}) stops before them: a run that did not finish (go on with --resume)", t.header.shard.0, t.header.shard.1)
+            }
+            None => "no file given holds them: a shard is missing".to_string(),
+        };
+        let what = if e - s == 1 { format!("point {s} is missing") } else { format!("points {s}..{} ({} points) are missing", e - 1, e - s) };
+        problems.push(format!("{what}: {why}"));
+    }
+    let row = |i: usize| -> Option<&Row> { owner.get(i).copied().flatten().map(|(f, k)| &tables[f].1.rows[k]) };
+    let unjudged = if missing.is_empty() { boundaries(&tables, &owner, &mut problems) } else { Vec::new() };
+    if !problems.is_empty() {
+        let more = problems.len().saturating_sub(MAX_LISTED);
+        let mut msg: Vec<String> = problems.iter().take(MAX_LISTED).map(|p| format!("error: {p}")).collect();
+        if more > 0 {
+            msg.push(format!("error: … and {more} more problems"));
+        }
+        msg.push(format!("error: nothing merged ({} files, {} of {n} points present)", tables.len(), owner.iter().filter(|o| o.is_some()).count()));
+        return Err(Failure::Plain(msg.join("\n"), 1));
+    }
+    let header = Header { shard: (1, 1), rows: 0..n, ..h0.clone() };
+    let mut out = header.text(tables[0].1.layout);
+    for i in 0..n {
+        out.push_str(&row(i).expect("every point is present").text);
+    }
+    match &a.output {
+        Some(path) => {
+            let mut f = std::fs::File::create(path).map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 2))?;
+            f.write_all(out.as_bytes()).map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 1))?;
+        }
+        None => emit(&out)?,
+    }
+    err_line(&format!(
+        "merged {} files: all {n} points, each once, the modes continuous across every boundary{}",
+        tables.len(),
+        unjudged_note(&unjudged)
+    ));
+    Ok(())
+}
+
+/// A table of a shard with the path it was read from.
+type Shard<'a> = (&'a str, super::table::Table);
+
+/// Refuses tables of different layouts or of another survey than the first.
+fn same_survey(tables: &[Shard]) -> Result<(), Failure> {
     let (first_path, first) = &tables[0];
-    let layout = first.layout;
-    let h0 = first.header.clone();
+    let h0 = &first.header;
     let mut problems: Vec<String> = Vec::new();
     for (path, t) in &tables[1..] {
         let h = &t.header;
-        if t.layout != layout {
+        if t.layout != first.layout {
             problems.push(format!("{path}: the other format than {first_path} (CSV and JSON lines are not merged together)"));
         } else if h.survey != h0.survey || h.points != h0.points || h.parameters != h0.parameters || h.frequency != h0.frequency {
             problems.push(format!(
@@ -64,15 +116,30 @@ fn merge(a: &MergeArgs) -> Result<(), Failure> {
             ));
         }
     }
-    if !problems.is_empty() {
-        return Err(Failure::Plain(problems.iter().map(|p| format!("error: {p}")).collect::<Vec<_>>().join("\n"), 2));
+    if problems.is_empty() {
+        Ok(())
+    } else {
+        Err(Failure::Plain(problems.iter().map(|p| format!("error: {p}")).collect::<Vec<_>>().join("\n"), 2))
     }
-    let n = h0.points;
-    // Every point exactly once, and of a file that claims it.
+}
+
+/// A run of points held by two files: the points start..end, the two
+/// files' places in the list and their lines at the first point.
+struct HeldTwice {
+    start: usize,
+    end: usize,
+    first_file: usize,
+    second_file: usize,
+    first_line: usize,
+    second_line: usize,
+}
+
+/// For every point, the (file, row) that holds it first; points outside
+/// their shard, points held twice and differing mode counts are problems.
+fn owners(tables: &[Shard], n: usize, problems: &mut Vec<String>) -> Vec<Option<(usize, usize)>> {
     let mut owner: Vec<Option<(usize, usize)>> = vec![None; n];
     let mut modes: Option<(usize, usize, usize)> = None;
-    // (first point, end, first file, second file, their lines at the first point)
-    let mut twice: Vec<(usize, usize, usize, usize, usize, usize)> = Vec::new();
+    let mut twice: Vec<HeldTwice> = Vec::new();
     for (f, (path, t)) in tables.iter().enumerate() {
         for (k, r) in t.rows.iter().enumerate() {
             if r.index >= n || !t.header.rows.contains(&r.index) {
@@ -85,8 +152,15 @@ fn merge(a: &MergeArgs) -> Result<(), Failure> {
             match owner[r.index] {
                 Some((g, j)) => match twice.last_mut() {
                     // Runs of points held twice by the same two files are reported as one range.
-                    Some(t) if t.1 == r.index && t.2 == g && t.3 == f => t.1 = r.index + 1,
-                    _ => twice.push((r.index, r.index + 1, g, f, tables[g].1.rows[j].line, r.line)),
+                    Some(t) if t.end == r.index && t.first_file == g && t.second_file == f => t.end = r.index + 1,
+                    _ => twice.push(HeldTwice {
+                        start: r.index,
+                        end: r.index + 1,
+                        first_file: g,
+                        second_file: f,
+                        first_line: tables[g].1.rows[j].line,
+                        second_line: r.line,
+                    }),
                 },
                 None => owner[r.index] = Some((f, k)),
             }
@@ -102,11 +176,16 @@ fn merge(a: &MergeArgs) -> Result<(), Failure> {
             }
         }
     }
-    for (s, e, g, f, lg, lf) in &twice {
+    for HeldTwice { start: s, end: e, first_file: g, second_file: f, first_line: lg, second_line: lf } in &twice {
         let what = if e - s == 1 { format!("point {s} is") } else { format!("points {s}..{} ({} points) are", e - 1, e - s) };
         let same = if tables[*g].0 == tables[*f].0 { " (the same file given twice?)" } else { "" };
         problems.push(format!("{what} there twice: {}:{lg} and {}:{lf}{same}", tables[*g].0, tables[*f].0));
     }
+    owner
+}
+
+/// The runs start..end of points no file holds.
+fn missing_points(owner: &[Option<(usize, usize)>]) -> Vec<(usize, usize)> {
     let mut missing: Vec<(usize, usize)> = Vec::new();
     for (i, o) in owner.iter().enumerate() {
         if o.is_none() {
@@ -116,85 +195,57 @@ fn merge(a: &MergeArgs) -> Result<(), Failure> {
             }
         }
     }
-    for (s, e) in &missing {
-        let which = tables.iter().find(|(_, t)| t.header.rows.start <= *s && *s < t.header.rows.end);
-        let why = match which {
-            Some((path, t)) => {
-                format!("{path} (shard {}/{}) stops before them: a run that did not finish (go on with --resume)", t.header.shard.0, t.header.shard.1)
-            }
-            None => "no file given holds them: a shard is missing".to_string(),
-        };
-        let what = if e - s == 1 { format!("point {s} is missing") } else { format!("points {s}..{} ({} points) are missing", e - 1, e - s) };
-        problems.push(format!("{what}: {why}"));
-    }
-    // The modes across every boundary between two files.
+    missing
+}
+
+/// The modes across every boundary between two files: a jump is a
+/// problem; returns the points where the continuity is not judged.
+fn boundaries(tables: &[Shard], owner: &[Option<(usize, usize)>], problems: &mut Vec<String>) -> Vec<usize> {
+    let h0 = &tables[0].1.header;
     let row = |i: usize| -> Option<&Row> { owner.get(i).copied().flatten().map(|(f, k)| &tables[f].1.rows[k]) };
     let mut unjudged = Vec::new();
-    if missing.is_empty() {
-        for i in 1..n {
-            let (Some(a_), Some(c_)) = (owner[i - 1], owner[i]) else { continue };
-            if a_.0 == c_.0 {
-                continue;
+    for i in 1..owner.len() {
+        let (Some(a_), Some(c_)) = (owner[i - 1], owner[i]) else { continue };
+        if a_.0 == c_.0 {
+            continue;
+        }
+        let seen = |j: usize| row(j).map(|r| (&r.values[..], &r.trail));
+        let (Some(a), Some(c)) = (seen(i - 1), seen(i)) else { continue };
+        match join(i.checked_sub(2).and_then(seen), a, c, seen(i + 1)) {
+            Join::Continues => {}
+            Join::Jumps => {
+                let r = row(i).expect("owned");
+                let path = tables[c_.0].0;
+                let show = |t: &crate::solve::scan::Trail| {
+                    t.as_ref().map(|w| w.iter().map(|z| super::values::fmt_complex(z.re, z.im)).collect::<Vec<_>>().join(", ")).unwrap_or_default()
+                };
+                problems.push(format!(
+                    "{path}:{}: the modes jump at point {i} ({}), the first of its file: {} after {} at point {} — another mode; solve that shard again from a --guess near the neighbour's value",
+                    r.line,
+                    values_text(h0, &r.values),
+                    show(c.1),
+                    show(a.1),
+                    i - 1
+                ));
             }
-            let seen = |j: usize| row(j).map(|r| (&r.values[..], &r.trail));
-            let (Some(a), Some(c)) = (seen(i - 1), seen(i)) else { continue };
-            match join(i.checked_sub(2).and_then(seen), a, c, seen(i + 1)) {
-                Join::Continues => {}
-                Join::Jumps => {
-                    let r = row(i).expect("owned");
-                    let path = tables[c_.0].0;
-                    let show = |t: &crate::solve::scan::Trail| {
-                        t.as_ref()
-                            .map(|w| w.iter().map(|z| super::values::fmt_complex(z.re, z.im)).collect::<Vec<_>>().join(", "))
-                            .unwrap_or_default()
-                    };
-                    problems.push(format!(
-                        "{path}:{}: the modes jump at point {i} ({}), the first of its file: {} after {} at point {} — another mode; solve that shard again from a --guess near the neighbour's value",
-                        r.line,
-                        values_text(&h0, &r.values),
-                        show(c.1),
-                        show(a.1),
-                        i - 1
-                    ));
-                }
-                Join::Unjudged => unjudged.push(i),
-            }
+            Join::Unjudged => unjudged.push(i),
         }
     }
-    if !problems.is_empty() {
-        let more = problems.len().saturating_sub(MAX_LISTED);
-        let mut msg: Vec<String> = problems.iter().take(MAX_LISTED).map(|p| format!("error: {p}")).collect();
-        if more > 0 {
-            msg.push(format!("error: … and {more} more problems"));
-        }
-        msg.push(format!("error: nothing merged ({} files, {} of {n} points present)", tables.len(), owner.iter().filter(|o| o.is_some()).count()));
-        return Err(Failure::Plain(msg.join("\n"), 1));
+    unjudged
+}
+
+/// The closing note's words on the points whose continuity is not judged.
+fn unjudged_note(unjudged: &[usize]) -> String {
+    if unjudged.is_empty() {
+        return String::new();
     }
-    let header = Header { shard: (1, 1), rows: 0..n, ..h0.clone() };
-    let mut out = header.text(layout);
-    for i in 0..n {
-        out.push_str(&row(i).expect("every point is present").text);
-    }
-    match &a.output {
-        Some(path) => {
-            let mut f = std::fs::File::create(path).map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 2))?;
-            f.write_all(out.as_bytes()).map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 1))?;
-        }
-        None => emit(&out)?,
-    }
-    let note = if unjudged.is_empty() {
-        String::new()
-    } else {
-        let listed: Vec<String> = unjudged.iter().take(MAX_LISTED).map(|i| i.to_string()).collect();
-        let more = if unjudged.len() > MAX_LISTED { format!(" and {} more", unjudged.len() - MAX_LISTED) } else { String::new() };
-        format!(
-            "; the continuity at point{} {}{more} is not judged (a side unconverged, or the walk turns there)",
-            if unjudged.len() == 1 { "" } else { "s" },
-            listed.join(", ")
-        )
-    };
-    err_line(&format!("merged {} files: all {n} points, each once, the modes continuous across every boundary{note}", tables.len()));
-    Ok(())
+    let listed: Vec<String> = unjudged.iter().take(MAX_LISTED).map(|i| i.to_string()).collect();
+    let more = if unjudged.len() > MAX_LISTED { format!(" and {} more", unjudged.len() - MAX_LISTED) } else { String::new() };
+    format!(
+        "; the continuity at point{} {}{more} is not judged (a side unconverged, or the walk turns there)",
+        if unjudged.len() == 1 { "" } else { "s" },
+        listed.join(", ")
+    )
 }
 
 /// `name=value, …` of a point.

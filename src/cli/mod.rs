@@ -20,7 +20,7 @@ mod table;
 mod values;
 
 use crate::emit::diagnostic;
-use crate::error::{Error, ErrorKind, Origin};
+use crate::error::{Error, ErrorKind, Origin, RequestInput};
 use crate::ode::{Input, ReduceOptions};
 use clap::{Args, Parser, Subcommand, ValueEnum};
 use std::ffi::OsString;
@@ -255,6 +255,54 @@ pub(crate) fn inference_notes(red: &crate::ode::Reduction, inferred_input: bool)
     out
 }
 
+/// The command line's option for an input of the request: the one place
+/// that spells the library's inputs as options.
+pub fn flag(input: RequestInput) -> String {
+    let name = match input {
+        RequestInput::About => "--about",
+        RequestInput::AngularGuess => "--angular-guess",
+        RequestInput::At => "--at",
+        RequestInput::AtInfinity => "--at-infinity",
+        RequestInput::Boundary => "--boundary",
+        RequestInput::Couple => "--couple",
+        RequestInput::Dxdz => "--dxdz",
+        RequestInput::EikonalParam => "--eikonal-param",
+        RequestInput::Ends => "--ends",
+        RequestInput::Exponents => "--exponents",
+        RequestInput::Frequency => "--frequency",
+        RequestInput::Guess => "--guess",
+        RequestInput::Latex => "--latex",
+        RequestInput::Link(0) => "--link",
+        RequestInput::Link(i) => return format!("--link #{}", i + 1),
+        RequestInput::Map => "--map",
+        RequestInput::Method => "--method",
+        RequestInput::Multipole => "--multipole",
+        RequestInput::Name => "--name",
+        RequestInput::Omega => "--omega",
+        RequestInput::Overtones => "--overtones",
+        RequestInput::Region => "--region",
+        RequestInput::Series => "--series",
+        RequestInput::Subst => "--subst",
+        RequestInput::SumL => "--sum-l",
+        RequestInput::WkbOrder => "--wkb-order",
+    };
+    name.to_string()
+}
+
+/// The option an error's origin names, if it names one.
+pub(crate) fn origin_flag(origin: &Origin) -> Option<String> {
+    match origin {
+        Origin::Input => None,
+        Origin::Option(r) => Some(flag(*r)),
+        Origin::Named(n) => Some(n.clone()),
+    }
+}
+
+/// The library's text with its mentions of inputs spelled as options.
+pub(crate) fn named(text: &str) -> String {
+    crate::error::name_inputs(text, flag)
+}
+
 /// Renders a failure for stderr and gives its exit status.
 pub(crate) fn report(f: &Failure, src: Option<&Source>, args: Option<&InputArgs>, extra: &[(String, String)]) -> (String, u8) {
     match f {
@@ -266,12 +314,13 @@ pub(crate) fn report(f: &Failure, src: Option<&Source>, args: Option<&InputArgs>
                     Some(s) => diagnostic::render(e, &s.name, &s.text),
                     None => diagnostic::render(e, "<input>", ""),
                 },
-                Origin::Option(o) => {
+                Origin::Option(_) | Origin::Named(_) => {
+                    let o = origin_flag(&e.origin).unwrap_or_default();
                     let t = args
-                        .and_then(|a| a.option_text(o))
-                        .or_else(|| extra.iter().find(|(n, _)| n == o).map(|(_, t)| t.clone()))
+                        .and_then(|a| a.option_text(&o))
+                        .or_else(|| extra.iter().find(|(n, _)| *n == o).map(|(_, t)| t.clone()))
                         .unwrap_or_default();
-                    diagnostic::render(e, o, &t)
+                    diagnostic::render(e, &o, &t)
                 }
             };
             (text.trim_end().to_string(), code)
@@ -315,6 +364,7 @@ pub(crate) fn capturing() -> bool {
 
 /// Writes a message and a newline to standard error (or the capture).
 pub(crate) fn err_line(msg: &str) {
+    let msg = &named(msg);
     let captured = CAPTURE.with(|c| match c.borrow_mut().as_mut() {
         Some((_, err)) => {
             err.push_str(msg);
@@ -330,6 +380,7 @@ pub(crate) fn err_line(msg: &str) {
 
 /// Writes to stdout; a closed pipe ends the program quietly.
 pub(crate) fn emit(text: &str) -> Result<(), Failure> {
+    let text = &named(text);
     let captured = CAPTURE.with(|c| match c.borrow_mut().as_mut() {
         Some((out, _)) => {
             out.push_str(text);

@@ -29,7 +29,7 @@ pub(crate) fn check_path(path: &str) -> Result<(), Failure> {
         Ok(())
     } else {
         Err(crate::error::Error::new(crate::error::ErrorKind::Usage, "the mode functions are written as CSV or JSON: give FILE.csv or FILE.json")
-            .in_option("--mode-functions")
+            .in_named("--mode-functions")
             .into())
     }
 }

@@ -23,7 +23,7 @@ pub(crate) const MAX_ANGULAR_INDEX: usize = 100;
 pub(crate) const MAX_GRID_POINTS: usize = 100_000;
 
 fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
-    Error::new(ErrorKind::Usage, msg).at(Span::new(0, len.max(1))).in_option(option).into()
+    Error::new(ErrorKind::Usage, msg).at(Span::new(0, len.max(1))).in_named(option).into()
 }
 
 /// `--tol`: a relative tolerance strictly between 0 and 10⁻².
@@ -31,7 +31,7 @@ pub(crate) fn tolerance(tol: f64) -> Result<f64, Failure> {
     if tol.is_finite() && tol > 0.0 && tol < 1e-2 {
         Ok(tol)
     } else {
-        Err(Error::new(ErrorKind::Usage, format!("{tol:e} is not a sensible relative tolerance (between 0 and 1e-2)")).in_option("--tol").into())
+        Err(Error::new(ErrorKind::Usage, format!("{tol:e} is not a sensible relative tolerance (between 0 and 1e-2)")).in_named("--tol").into())
     }
 }
 
@@ -130,7 +130,7 @@ pub(crate) fn picture_path(path: &str, option: &str) -> Result<(), Failure> {
     if !(lower.ends_with(".svg") || lower.ends_with(".png")) {
         return Err(crate::error::Error::new(crate::error::ErrorKind::Usage, "the plot is written as SVG or PNG: give FILE.svg or FILE.png")
             .at(crate::syntax::Span::new(0, path.len().max(1)))
-            .in_option(option)
+            .in_named(option)
             .into());
     }
     writable(path, option)

@@ -30,7 +30,7 @@ pub(crate) struct RecordArgs {
     at: Option<String>,
     /// With --at: the kind of spectrum (as `spectrum --boundary`).
     #[arg(long = "boundary", value_enum, default_value = "qnm", requires = "at")]
-    boundary: super::spectrum::ProblemArg,
+    boundary: crate::solve::request::Problem,
     /// With --at: the two ends and their conditions (as `spectrum --ends`).
     #[arg(long = "ends", value_name = "LEFT..RIGHT", allow_hyphen_values = true, requires = "at")]
     ends: Option<String>,
@@ -73,7 +73,7 @@ pub(crate) fn run(a: &RecordArgs) -> u8 {
     }
     let spectral = match &a.at {
         Some(at) => match super::values::parse_assignments(at, "--at") {
-            Ok(values) => Some(crate::record::SpectralSetup { problem: a.boundary.problem(), ends: a.ends.clone(), at: at.clone(), values }),
+            Ok(values) => Some(crate::record::SpectralSetup { problem: a.boundary, ends: a.ends.clone(), at: at.clone(), values }),
             Err(e) => return fail(&e.into(), Some(&src)),
         },
         None => None,

@@ -46,7 +46,7 @@ impl SeriesArgs {
     pub(crate) fn derive(&self, red: &crate::ode::Reduction, about: &str) -> Result<crate::series::Recurrence, Failure> {
         let choices = super::classify::parse_choices(self.exponents.as_deref())?;
         let rec = crate::series::requested(red, about, self.series.as_deref(), &choices, self.normal).map_err(|e| {
-            if e.origin == crate::error::Origin::Option("--about".into()) && e.span.is_none() {
+            if super::origin_flag(&e.origin).as_deref() == Some("--about") && e.span.is_none() {
                 e.at(crate::syntax::Span::new(0, about.len()))
             } else {
                 e

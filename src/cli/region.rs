@@ -3,14 +3,14 @@
 //! continued fraction (where the recurrence allows it) or by direct
 //! integration, and checked by the other.
 
-use super::spectrum::SpecFormat;
 use super::Failure;
+use crate::emit::DocFormat;
 use crate::error::{Error, ErrorKind};
 use crate::solve::global::Region;
 use crate::solve::plot::PlaneMode;
 
 fn bad(msg: String) -> Failure {
-    Error::new(ErrorKind::Usage, msg).in_option("--region").into()
+    Error::new(ErrorKind::Usage, msg).in_named("--region").into()
 }
 
 /// Reads 'RE0..RE1,IM0..IM1'.
@@ -39,7 +39,7 @@ pub(crate) fn parse_region(text: &str) -> Result<Region, Failure> {
 pub(crate) fn region_modes(
     text: &str,
     grid: usize,
-    format: SpecFormat,
+    format: DocFormat,
     src_name: &str,
     red: &crate::ode::Reduction,
     req: &crate::solve::request::SpectrumRequest,
@@ -47,9 +47,9 @@ pub(crate) fn region_modes(
     let region = parse_region(text)?;
     let report = crate::solve::region::region_modes(red, req, region, grid)?;
     let out = match format {
-        SpecFormat::Json => format!("{}\n", serde_json::to_string_pretty(&crate::emit::region::json(&report)).unwrap_or_default()),
-        SpecFormat::Csv => crate::emit::region::csv(&report),
-        SpecFormat::Text => crate::emit::region::text(&report, src_name),
+        DocFormat::Json => format!("{}\n", serde_json::to_string_pretty(&crate::emit::region::json(&report)).unwrap_or_default()),
+        DocFormat::Csv => crate::emit::region::csv(&report),
+        DocFormat::Text => crate::emit::region::text(&report, src_name),
     };
     Ok((out, report.plane_modes(), report.frequency))
 }

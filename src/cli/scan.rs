@@ -104,7 +104,7 @@ pub(crate) fn run(a: &ScanArgs) -> u8 {
 }
 
 fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
-    Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, len.max(1))).in_option(option).into()
+    Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, len.max(1))).in_named(option).into()
 }
 
 fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
@@ -120,62 +120,13 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     let angular_guess = super::values::parse_seed(a.couple.angular_guess.as_deref(), "--angular-guess")?;
     let red = a.input.reduce(src)?;
     let names = red.field.names().to_vec();
-    let fname = a.input.frequency_name().or_else(|| ["omega", "ω", "w"].iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
-    let Some(fname) = fname else { return Err(Error::new(ErrorKind::Usage, "no frequency parameter: name it with --frequency").into()) };
-    let Some(freq) = names.iter().skip(1).position(|n| *n == fname).map(|i| i + 1) else {
-        return Err(Error::new(ErrorKind::Usage, format!("'{fname}' is not a parameter")).in_option("--frequency").into());
-    };
-    let walk = match &a.points {
-        Some(path) => points_file(path, &names, freq)?,
-        None => {
-            let mut axes: Vec<(usize, Vec<Rat>)> = Vec::new();
-            for v in &a.vary {
-                let (vname, field, g) = super::options::vary(v, &names, freq)?;
-                if axes.iter().any(|(f, _)| *f == field) {
-                    return Err(usage(format!("'{vname}' is varied twice"), "--vary", v.len()));
-                }
-                axes.push((field, g));
-            }
-            let max = super::options::MAX_GRID_POINTS;
-            Walk::tensor(&axes, max)
-                .ok_or_else(|| usage(format!("the grid has more than {max} points"), "--vary", a.vary.last().map_or(1, |v| v.len())))?
-        }
-    };
+    let (fname, freq) = frequency_of(a, &names)?;
+    let walk = survey_walk(a, &names, freq)?;
     let vnames: Vec<String> = walk.fields.iter().map(|&f| names[f].clone()).collect();
     let map = map_style(a, &walk)?;
-    let mut point = vec![GRat::zero(); names.len()];
-    let mut given = vec![false; names.len()];
-    given[0] = true;
-    given[freq] = true;
-    for &f in &walk.fields {
-        given[f] = true;
-    }
     let coupled = a.couple.read(&red.field)?;
     let links = coupled.as_ref().map(|c| c.2.clone()).unwrap_or_default();
-    let mut solved = vec![freq];
-    solved.extend(&walk.fields);
-    for i in super::spectrum::linked_radial(&links, &names, &solved, "solved for or varied")? {
-        given[i] = true;
-    }
-    // Values of the angular equation's own parameters (not the radial one's).
-    let mut angular_at: Vec<(String, GRat)> = Vec::new();
-    for (n, v, span) in parse_assignments(&a.at, "--at")? {
-        if super::spectrum::for_angular_only(&n, span, &links, &names, coupled.as_ref().map(|c| c.1.field.names()))? {
-            angular_at.push((n, v));
-            continue;
-        }
-        match names.iter().skip(1).position(|x| *x == n) {
-            Some(i) if i + 1 != freq && !walk.fields.contains(&(i + 1)) => {
-                point[i + 1] = v;
-                given[i + 1] = true;
-            }
-            _ => return Err(Error::new(ErrorKind::Usage, format!("'{n}' is not a parameter to fix here")).at(span).in_option("--at").into()),
-        }
-    }
-    let missing: Vec<&str> = names.iter().zip(&given).filter(|(_, g)| !**g).map(|(n, _)| n.as_str()).collect();
-    if !missing.is_empty() {
-        return Err(usage(format!("no value given for {}", missing.join(", ")), "--at", a.at.len()));
-    }
+    let FixedValues { point, angular_at } = fixed_values_of(a, &names, freq, &walk, &links, coupled.as_ref().map(|c| c.1.field.names()))?;
     let (range, part) = match &a.shard {
         None => (0..walk.len(), (1, 1)),
         Some(s) => {
@@ -199,20 +150,8 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     // that a bad angular equation is reported against its own text before
     // any work starts.
     if let (Some((asrc, ared, _)), Some(first_point)) = (&coupled, walk.points.get(range.start)) {
-        let mut first = base.clone();
-        for (f, x) in walk.fields.iter().zip(first_point) {
-            first.values[*f] = GRat::real(x.clone());
-        }
-        crate::solve::coupled::try_coupling(
-            &red.field,
-            ared,
-            &links,
-            &fixed_values(&names, &first, &angular_at, &links),
-            freq,
-            a.couple.angular_index,
-            angular_guess,
-        )
-        .map_err(|e| super::spectrum::angular_failure(e, asrc))?;
+        let first = AngularCheck { base: &base, fields: &walk.fields, first_point, angular_at: &angular_at, links: &links, names: &names };
+        first.set_up(&red.field, ared, a.couple.angular_index, angular_guess).map_err(|e| super::spectrum::angular_failure(e, asrc))?;
     }
     let header = Header {
         survey: survey_id(a, src, &walk),
@@ -224,43 +163,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
         angular: coupled.is_some(),
     };
     // The output: standard output, or a file (new, or resumed from its last complete point).
-    let mut done: Vec<Trail> = Vec::new();
-    let mut file: Option<std::fs::File> = None;
-    if let Some(path) = &a.output {
-        let exists = std::path::Path::new(path).exists();
-        if exists && !a.resume {
-            return Err(Failure::Plain(format!("-o: error: {path:?} exists: add --resume to continue it, or remove it"), 2));
-        }
-        let mut start_over = true;
-        if a.resume && exists {
-            let text = super::table::read_file(path)?;
-            if !text.is_empty() {
-                let t = super::table::read(path, &text, Some((o1 - o0 + 1) as usize))?;
-                check_resumable(path, &t, &header, layout)?;
-                done = t.rows.iter().map(|r| r.trail.clone()).collect();
-                let f = std::fs::OpenOptions::new()
-                    .write(true)
-                    .open(path)
-                    .map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 2))?;
-                f.set_len(t.complete_len as u64).map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 2))?;
-                start_over = false;
-            }
-        }
-        super::options::writable(path, "-o")?;
-        let mut f = std::fs::OpenOptions::new()
-            .create(true)
-            .append(true)
-            .open(path)
-            .map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 2))?;
-        if start_over {
-            if let Some(l) = layout {
-                f.write_all(header.text(l).as_bytes()).map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 1))?;
-            }
-        }
-        file = Some(f);
-    } else if let Some(l) = layout {
-        super::emit(&header.text(l))?;
-    }
+    let (done, mut file) = open_output(a, &header, layout, (o1 - o0 + 1) as usize)?;
     if done.len() >= range.len() {
         super::err_line(&format!("note: the table already holds all {} points", range.len()));
         return Ok(String::new());
@@ -313,7 +216,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
         if let Some(l) = layout {
             let text = point_text(&p, l, &header);
             let written = match &mut file {
-                Some(f) => f.write_all(text.as_bytes()).map_err(|e| Failure::Plain(format!("error: cannot write the table: {e}"), 1)),
+                Some(f) => f.write_all(super::named(&text).as_bytes()).map_err(|e| Failure::Plain(format!("error: cannot write the table: {e}"), 1)),
                 None => super::emit(&text),
             };
             if let Err(f) = written {
@@ -344,17 +247,181 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
         };
         super::err_line(&format!("note: stopped after {fresh} new points as asked (--stop-after); the next is point {next}{how}"));
     }
+    finish(a, map, &kept, &header, layout, file)
+}
+
+/// A coupled survey's first point, where its angular problem is set up before any work.
+struct AngularCheck<'a> {
+    base: &'a SpectrumOptions,
+    fields: &'a [usize],
+    first_point: &'a [Rat],
+    angular_at: &'a [(String, GRat)],
+    links: &'a [crate::solve::coupled::Link],
+    names: &'a [String],
+}
+
+impl AngularCheck<'_> {
+    /// Sets the angular problem up at the first point (its errors are the angular equation's).
+    fn set_up(
+        &self,
+        radial: &crate::algebra::Field,
+        angular: &crate::ode::Reduction,
+        index: usize,
+        guess: Option<num_complex::Complex64>,
+    ) -> crate::error::Result<()> {
+        let mut first = self.base.clone();
+        for (f, x) in self.fields.iter().zip(self.first_point) {
+            first.values[*f] = GRat::real(x.clone());
+        }
+        let fixed = fixed_values(self.names, &first, self.angular_at, self.links);
+        crate::solve::coupled::try_coupling(radial, angular, self.links, &fixed, first.freq, index, guess).map(|_| ())
+    }
+}
+
+/// The frequency's name and field index: named, or a conventional name.
+fn frequency_of(a: &ScanArgs, names: &[String]) -> Result<(String, usize), Failure> {
+    let fname = a.input.frequency_name().or_else(|| ["omega", "ω", "w"].iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
+    let Some(fname) = fname else { return Err(Error::new(ErrorKind::Usage, "no frequency parameter: name it with --frequency").into()) };
+    let Some(freq) = names.iter().skip(1).position(|n| *n == fname).map(|i| i + 1) else {
+        return Err(Error::new(ErrorKind::Usage, format!("'{fname}' is not a parameter")).in_named("--frequency").into());
+    };
+    Ok((fname, freq))
+}
+
+/// The survey's points: a points file, or the grid of the `--vary` axes.
+fn survey_walk(a: &ScanArgs, names: &[String], freq: usize) -> Result<Walk, Failure> {
+    if let Some(path) = &a.points {
+        return points_file(path, names, freq);
+    }
+    let mut axes: Vec<(usize, Vec<Rat>)> = Vec::new();
+    for v in &a.vary {
+        let (vname, field, g) = super::options::vary(v, names, freq)?;
+        if axes.iter().any(|(f, _)| *f == field) {
+            return Err(usage(format!("'{vname}' is varied twice"), "--vary", v.len()));
+        }
+        axes.push((field, g));
+    }
+    let max = super::options::MAX_GRID_POINTS;
+    Walk::tensor(&axes, max).ok_or_else(|| usage(format!("the grid has more than {max} points"), "--vary", a.vary.last().map_or(1, |v| v.len())))
+}
+
+/// The values fixed over the survey: the radial point (the frequency and
+/// the varied parameters left at 0) and the angular equation's own values.
+struct FixedValues {
+    point: Vec<GRat>,
+    angular_at: Vec<(String, GRat)>,
+}
+
+/// Reads `--at` against the equation: every parameter that is neither
+/// solved for, varied nor linked needs a value.
+fn fixed_values_of(
+    a: &ScanArgs,
+    names: &[String],
+    freq: usize,
+    walk: &Walk,
+    links: &[crate::solve::coupled::Link],
+    angular_names: Option<&[String]>,
+) -> Result<FixedValues, Failure> {
+    let mut point = vec![GRat::zero(); names.len()];
+    let mut given = vec![false; names.len()];
+    given[0] = true;
+    given[freq] = true;
+    for &f in &walk.fields {
+        given[f] = true;
+    }
+    let mut solved = vec![freq];
+    solved.extend(&walk.fields);
+    for i in super::spectrum::linked_radial(links, names, &solved, "solved for or varied")? {
+        given[i] = true;
+    }
+    // Values of the angular equation's own parameters (not the radial one's).
+    let mut angular_at: Vec<(String, GRat)> = Vec::new();
+    for (n, v, span) in parse_assignments(&a.at, "--at")? {
+        if super::spectrum::for_angular_only(&n, span, links, names, angular_names)? {
+            angular_at.push((n, v));
+            continue;
+        }
+        match names.iter().skip(1).position(|x| *x == n) {
+            Some(i) if i + 1 != freq && !walk.fields.contains(&(i + 1)) => {
+                point[i + 1] = v;
+                given[i + 1] = true;
+            }
+            _ => return Err(Error::new(ErrorKind::Usage, format!("'{n}' is not a parameter to fix here")).at(span).in_named("--at").into()),
+        }
+    }
+    let missing: Vec<&str> = names.iter().zip(&given).filter(|(_, g)| !**g).map(|(n, _)| n.as_str()).collect();
+    if !missing.is_empty() {
+        return Err(usage(format!("no value given for {}", missing.join(", ")), "--at", a.at.len()));
+    }
+    Ok(FixedValues { point, angular_at })
+}
+
+/// The table's destination: standard output (the header written), or a
+/// file, new or resumed from its last complete point (`modes` per point);
+/// returns the trails of the points already there and the open file.
+fn open_output(a: &ScanArgs, header: &Header, layout: Option<Layout>, modes: usize) -> Result<(Vec<Trail>, Option<std::fs::File>), Failure> {
+    let mut done: Vec<Trail> = Vec::new();
+    let mut file: Option<std::fs::File> = None;
+    if let Some(path) = &a.output {
+        let exists = std::path::Path::new(path).exists();
+        if exists && !a.resume {
+            return Err(Failure::Plain(format!("-o: error: {path:?} exists: add --resume to continue it, or remove it"), 2));
+        }
+        let mut start_over = true;
+        if a.resume && exists {
+            let text = super::table::read_file(path)?;
+            if !text.is_empty() {
+                let t = super::table::read(path, &text, Some(modes))?;
+                check_resumable(path, &t, header, layout)?;
+                done = t.rows.iter().map(|r| r.trail.clone()).collect();
+                let f = std::fs::OpenOptions::new()
+                    .write(true)
+                    .open(path)
+                    .map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 2))?;
+                f.set_len(t.complete_len as u64).map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 2))?;
+                start_over = false;
+            }
+        }
+        super::options::writable(path, "-o")?;
+        let mut f = std::fs::OpenOptions::new()
+            .create(true)
+            .append(true)
+            .open(path)
+            .map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 2))?;
+        if start_over {
+            if let Some(l) = layout {
+                f.write_all(super::named(&header.text(l)).as_bytes())
+                    .map_err(|e| Failure::Plain(format!("-o: error: cannot write {path:?}: {e}"), 1))?;
+            }
+        }
+        file = Some(f);
+    } else if let Some(l) = layout {
+        super::emit(&header.text(l))?;
+    }
+    Ok((done, file))
+}
+
+/// After the walk: the plot, and the JSON document (to the file or returned).
+fn finish(
+    a: &ScanArgs,
+    map: bool,
+    kept: &[ScanPoint],
+    header: &Header,
+    layout: Option<Layout>,
+    mut file: Option<std::fs::File>,
+) -> Result<String, Failure> {
+    let (vnames, fname) = (&header.parameters, &header.frequency);
     if let Some(path) = &a.plot {
         // The fixed parameters in the titles, as given.
         let fixed = a.at.split(',').map(str::trim).filter(|t| !t.is_empty()).collect::<Vec<_>>().join(", ");
         let draw = if map { plot_map } else { plot_survey };
-        draw(std::path::Path::new(path), &kept, &vnames, &fname, &fixed)
+        draw(std::path::Path::new(path), kept, vnames, fname, &fixed)
             .map_err(|e| Failure::Plain(format!("error: cannot write the plot {path}: {e}"), 1))?;
     }
     if layout.is_some() {
         return Ok(String::new());
     }
-    let pts: Vec<serde_json::Value> = kept.iter().map(|p| point_json(p, &header, vnames.len() > 1)).collect();
+    let pts: Vec<serde_json::Value> = kept.iter().map(|p| point_json(p, header, vnames.len() > 1)).collect();
     let doc = if vnames.len() > 1 {
         serde_json::json!({"parameters": vnames, "frequency": fname, "points": pts})
     } else {
@@ -363,7 +430,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     let text = format!("{}\n", serde_json::to_string_pretty(&doc).unwrap_or_default());
     match (&mut file, &a.output) {
         (Some(f), Some(path)) => {
-            f.write_all(text.as_bytes()).map_err(|e| Failure::Plain(format!("error: cannot write {path:?}: {e}"), 1))?;
+            f.write_all(super::named(&text).as_bytes()).map_err(|e| Failure::Plain(format!("error: cannot write {path:?}: {e}"), 1))?;
             Ok(String::new())
         }
         _ => Ok(text),

@@ -28,23 +28,13 @@
 use super::values::parse_assignments;
 use super::{emit, run_command, Failure, InputArgs};
 use crate::algebra::Rat;
-use crate::emit::scatter::{footer, header, row_text, Format};
-use crate::error::{Error, ErrorKind, Origin};
+use crate::emit::scatter::{footer, header, row_text};
+use crate::emit::DocFormat;
+use crate::error::{Error, ErrorKind};
 use crate::solve::scatter::{row_cross_section, scatter_setup, ScatterRequest, ScatterRow, Scattering};
-use clap::{Args, ValueEnum};
+use clap::Args;
 use rayon::prelude::*;
 use std::io::IsTerminal;
-
-/// Output formats of `scatter`.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
-pub(crate) enum ScatterFormat {
-    /// A table.
-    Text,
-    /// JSON (schema at the top of `src/cli/scatter.rs`), one point per line, streamed.
-    Json,
-    /// One line per frequency.
-    Csv,
-}
 
 /// Arguments of `scatter`.
 #[derive(Args, Debug)]
@@ -66,7 +56,7 @@ pub(crate) struct ScatterArgs {
     multipole: String,
     /// Output format.
     #[arg(long = "format", value_enum, default_value = "text")]
-    format: ScatterFormat,
+    format: DocFormat,
     /// The WKB order of the second method (the barrier-top transmission formula; 1..=80).
     #[arg(long = "wkb-order", value_name = "N", default_value_t = 6)]
     wkb_order: usize,
@@ -78,7 +68,7 @@ pub(crate) struct ScatterArgs {
 }
 
 fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
-    Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, len.max(1))).in_option(option).into()
+    Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, len.max(1))).in_named(option).into()
 }
 
 pub(crate) fn run(a: &ScatterArgs) -> u8 {
@@ -128,15 +118,13 @@ fn compute(a: &ScatterArgs, src: &super::Source) -> Result<String, Failure> {
     let req = ScatterRequest { frequency: a.input.frequency_name(), values: parse_assignments(&a.at, "--at")?, sum, wkb_order: a.wkb_order, couple };
     let setup = scatter_setup(&red, &req).map_err(|e| match &e.origin {
         // An option error without a place points at the whole option.
-        Origin::Option(o) if e.span.is_none() && o == "--at" => usage(e.message.clone(), "--at", a.at.len()),
-        Origin::Option(o) if e.span.is_none() && o == "--sum-l" => usage(e.message.clone(), "--sum-l", a.sum_l.as_deref().unwrap_or("").len()),
+        _ if e.span.is_none() && super::origin_flag(&e.origin).as_deref() == Some("--at") => usage(e.message.clone(), "--at", a.at.len()),
+        _ if e.span.is_none() && super::origin_flag(&e.origin).as_deref() == Some("--sum-l") => {
+            usage(e.message.clone(), "--sum-l", a.sum_l.as_deref().unwrap_or("").len())
+        }
         _ => Failure::from(e),
     })?;
-    let format = match a.format {
-        ScatterFormat::Text => Format::Text,
-        ScatterFormat::Json => Format::Json,
-        ScatterFormat::Csv => Format::Csv,
-    };
+    let format = a.format;
     let ls = setup.multipoles();
     let freqs: Vec<f64> = grid.iter().map(|r| r.to_f64()).collect();
     let bar =
@@ -177,7 +165,7 @@ fn compute(a: &ScatterArgs, src: &super::Source) -> Result<String, Failure> {
         let (title, ylabel) = if summed { ("absorption cross-section", "σ") } else { ("transmission and reflection", "|T|², |R|²") };
         crate::solve::scatter::plot(std::path::Path::new(path), &format!("{title} ({})", src.name), ylabel, &curves)
             .map_err(|e| Failure::Plain(format!("error: cannot write the plot {path}: {e}"), 1))?;
-        if format == Format::Text {
+        if format == DocFormat::Text {
             tail.push_str(&format!("plot written to {path}\n"));
         }
     }

@@ -109,66 +109,11 @@
 
 use super::values::parse_assignments;
 use super::{run_command, Failure, InputArgs};
+use crate::emit::DocFormat;
 use crate::error::{Error, ErrorKind, Origin};
-use crate::solve::request::{CoupleRequest, Method as LibMethod, Problem, SpectrumRequest, ANGULAR_ORIGIN};
-use clap::{Args, ValueEnum};
+use crate::solve::request::{CoupleRequest, Method, Problem, SpectrumRequest, ANGULAR_ORIGIN};
+use clap::Args;
 use num_complex::Complex64;
-
-/// Output formats of `spectrum`.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
-pub(crate) enum SpecFormat {
-    /// A table with the evidence.
-    Text,
-    /// JSON (schema in `src/cli/spectrum.rs`).
-    Json,
-    /// One line per mode.
-    Csv,
-}
-
-/// Kinds of spectrum.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
-pub(crate) enum ProblemArg {
-    /// Quasinormal modes: the wave leaves the domain through both ends (ingoing at horizons, outgoing at an irregular infinity, normalisable at a regular boundary).
-    Qnm,
-    /// Bound states: normalisable at both ends (real eigenvalues).
-    Bound,
-    /// Quasi-bound states: ingoing at the horizon, decaying at an irregular infinity (massive fields).
-    QuasiBound,
-    /// Characteristic values of periodic coefficients (Mathieu, Hill): solutions of period T and 2T
-    /// (the default when the coefficients are trigonometric in the real variable).
-    Periodic,
-}
-
-impl ProblemArg {
-    /// The library's kind of spectrum.
-    pub(crate) fn problem(self) -> Problem {
-        match self {
-            ProblemArg::Qnm => Problem::Quasinormal,
-            ProblemArg::Bound => Problem::Bound,
-            ProblemArg::QuasiBound => Problem::QuasiBound,
-            ProblemArg::Periodic => Problem::Periodic,
-        }
-    }
-}
-
-/// Methods.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
-pub(crate) enum Method {
-    /// The continued fraction when the recurrence allows it.
-    Auto,
-    /// Leaver's continued fraction.
-    Cf,
-    /// Direct integration between the ends (Frobenius series, asymptotic series, Taylor continuation).
-    Integrate,
-    /// WKB estimates to the order of --wkb-order, with Padé resummation.
-    Wkb,
-    /// The eikonal (first-order) estimate from the peak of the potential.
-    Eikonal,
-    /// Chebyshev collocation (bound states; the default there), each eigenvalue checked by shooting.
-    Collocation,
-    /// The closed form alone (hypergeometric and confluent hypergeometric problems): exact expressions and their values, no numeric check.
-    Exact,
-}
 
 /// Arguments of `spectrum`.
 #[derive(Args, Debug)]
@@ -178,7 +123,7 @@ pub(crate) struct SpectrumArgs {
     /// The boundary problem (default: periodic when the coefficients are trigonometric in the real
     /// variable, else qnm).
     #[arg(long = "boundary", value_enum)]
-    boundary: Option<ProblemArg>,
+    boundary: Option<Problem>,
     /// The two ends of the domain and their conditions, 'LEFT..RIGHT', each end
     /// a number (a real singular point, matched numerically) or 'inf', with an
     /// optional ':CONDITION' (into, out-of, outgoing, decaying, normalisable,
@@ -219,7 +164,7 @@ pub(crate) struct SpectrumArgs {
     pub(crate) plot: Option<String>,
     /// Output format.
     #[arg(long = "format", value_enum, default_value = "text")]
-    format: SpecFormat,
+    format: DocFormat,
     #[command(flatten)]
     couple: CoupleArgs,
     /// The WKB order of the barrier-top estimates (1..=80; orders 1–3 are the Schutz–Will and Iyer–Will formulas).
@@ -265,7 +210,7 @@ impl CoupleArgs {
     pub(crate) fn option_texts(&self) -> Vec<(String, String)> {
         let mut extra: Vec<(String, String)> = self.angular_guess.iter().map(|g| ("--angular-guess".to_string(), g.clone())).collect();
         // A failing link is reported against its own text.
-        extra.extend(self.link.iter().enumerate().map(|(i, l)| (link_option(i), l.clone())));
+        extra.extend(self.link.iter().enumerate().map(|(i, l)| (super::flag(link_option(i)), l.clone())));
         extra
     }
 
@@ -295,7 +240,7 @@ impl CoupleArgs {
 }
 
 fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
-    Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, len)).in_option(option).into()
+    Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, len)).in_named(option).into()
 }
 
 pub(crate) fn run(a: &SpectrumArgs) -> u8 {
@@ -318,23 +263,15 @@ fn request(
 ) -> Result<SpectrumRequest, Failure> {
     let values = parse_assignments(&a.at, "--at")?;
     Ok(SpectrumRequest {
-        problem: a.boundary.map_or_else(|| Problem::natural(red), ProblemArg::problem),
+        problem: a.boundary.unwrap_or_else(|| Problem::natural(red)),
         ends: match &a.ends {
-            Some(t) => Some(crate::solve::boundary::parse_ends(t).map_err(|e| e.in_option("--ends"))?),
+            Some(t) => Some(crate::solve::boundary::parse_ends(t).map_err(|e| e.in_named("--ends"))?),
             None => None,
         },
         frequency: a.input.frequency_name(),
         values,
         overtones,
-        method: match a.method {
-            Method::Auto => LibMethod::Auto,
-            Method::Cf => LibMethod::Cf,
-            Method::Integrate => LibMethod::Integrate,
-            Method::Wkb => LibMethod::Wkb,
-            Method::Eikonal => LibMethod::Eikonal,
-            Method::Collocation => LibMethod::Collocation,
-            Method::Exact => LibMethod::Exact,
-        },
+        method: a.method,
         guess,
         tol: a.tol,
         wkb_order: a.wkb_order,
@@ -342,7 +279,7 @@ fn request(
         mode_functions: (a.mode_functions.is_some() || a.mode_plot.is_some()).then_some(a.mode_reach),
         couple,
         // The closed form goes into text and JSON (CSV stays one line per mode).
-        closed_form: a.format != SpecFormat::Csv,
+        closed_form: a.format != DocFormat::Csv,
         polynomial: match a.polynomial_degree.as_deref() {
             None => None,
             Some("lowest") => Some(crate::solve::polynomial::Degree::Lowest),
@@ -389,13 +326,13 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     }
     let report = crate::solve::request::spectrum(&red, &req).map_err(|e| match (&e.origin, &asrc) {
         // Errors of the angular equation are rendered against its own text.
-        (Origin::Option(o), Some(asrc)) if o == ANGULAR_ORIGIN => {
+        (Origin::Option(o), Some(asrc)) if *o == ANGULAR_ORIGIN => {
             let mut e = e;
             e.origin = Origin::Input;
             angular_failure(e, asrc)
         }
         // An option error without a place points at the whole option.
-        (Origin::Option(o), _) if e.span.is_none() && o == "--at" => usage(e.message.clone(), "--at", a.at.len()),
+        _ if e.span.is_none() && super::origin_flag(&e.origin).as_deref() == Some("--at") => usage(e.message.clone(), "--at", a.at.len()),
         _ => Failure::from(e),
     })?;
     if let (Some(path), Some(f)) = (&a.mode_functions, &report.mode_functions) {
@@ -406,9 +343,9 @@ fn compute(a: &SpectrumArgs, src: &super::Source) -> Result<String, Failure> {
     }
     write_plot(a, &report.frequency, &report.plane_modes())?;
     Ok(match a.format {
-        SpecFormat::Json => format!("{}\n", serde_json::to_string_pretty(&crate::emit::spectrum::json(&report)).unwrap_or_default()),
-        SpecFormat::Csv => crate::emit::spectrum::csv(&report),
-        SpecFormat::Text => crate::emit::spectrum::text(&report, &src.name),
+        DocFormat::Json => format!("{}\n", serde_json::to_string_pretty(&crate::emit::spectrum::json(&report)).unwrap_or_default()),
+        DocFormat::Csv => crate::emit::spectrum::csv(&report),
+        DocFormat::Text => crate::emit::spectrum::text(&report, &src.name),
     })
 }
 
@@ -444,9 +381,9 @@ fn parse_links(a: &CoupleArgs, radial: &crate::algebra::Field, angular: &crate::
     let joint = crate::algebra::Field::new(names, radial.limits().clone())?;
     let mut out: Vec<crate::solve::coupled::Link> = Vec::new();
     for (i, text) in a.link.iter().enumerate() {
-        let l = crate::solve::coupled::try_link(text, &joint, radial, angular).map_err(|e| e.in_option(&link_option(i)))?;
+        let l = crate::solve::coupled::try_link(text, &joint, radial, angular).map_err(|e| e.in_option(link_option(i)))?;
         if out.iter().any(|o| o.target == l.target) {
-            return Err(Error::new(ErrorKind::Usage, format!("'{}' is linked twice", l.target)).in_option(&link_option(i)).into());
+            return Err(Error::new(ErrorKind::Usage, format!("'{}' is linked twice", l.target)).in_option(link_option(i)).into());
         }
         out.push(l);
     }

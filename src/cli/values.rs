@@ -9,7 +9,7 @@ use crate::syntax::Span;
 /// exactly by [`parse_complex`] and rounded once; `None` when not given.
 pub(crate) fn parse_seed(text: Option<&str>, option: &str) -> Result<Option<num_complex::Complex64>> {
     let Some(t) = text else { return Ok(None) };
-    let v = read_value(t).map_err(|m| Error::new(ErrorKind::Usage, m).at(Span::new(0, t.len().max(1))).in_option(option))?;
+    let v = read_value(t).map_err(|m| Error::new(ErrorKind::Usage, m).at(Span::new(0, t.len().max(1))).in_named(option))?;
     let (re, im) = v.to_f64();
     Ok(Some(num_complex::Complex64::new(re, im)))
 }
@@ -53,14 +53,14 @@ pub(crate) fn parse_assignments(text: &str, option: &str) -> Result<Vec<(String,
             continue;
         }
         let Some(eq) = piece.find('=') else {
-            return Err(Error::new(ErrorKind::Usage, format!("expected NAME=VALUE, found '{}'", piece.trim())).at(span).in_option(option));
+            return Err(Error::new(ErrorKind::Usage, format!("expected NAME=VALUE, found '{}'", piece.trim())).at(span).in_named(option));
         };
         let name = piece[..eq].trim().to_string();
         let value = &piece[eq + 1..];
         let vspan = Span::new(span.start + eq + 1, span.end);
-        let v = read_value(value).map_err(|m| Error::new(ErrorKind::Usage, m).at(vspan).in_option(option))?;
+        let v = read_value(value).map_err(|m| Error::new(ErrorKind::Usage, m).at(vspan).in_named(option))?;
         if out.iter().any(|(n, _, _)| *n == name) {
-            return Err(Error::new(ErrorKind::Usage, format!("'{name}' is given twice")).at(span).in_option(option));
+            return Err(Error::new(ErrorKind::Usage, format!("'{name}' is given twice")).at(span).in_named(option));
         }
         out.push((name, v, span));
     }

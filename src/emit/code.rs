@@ -13,11 +13,11 @@
 
 use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::{Field, GRat, Rat, RatFunc};
-use crate::error::{Error, ErrorKind, Result};
+use crate::error::{Error, ErrorKind, RequestInput, Result};
 use crate::present::{choose, Choice, Program, SearchLimits, Step};
 
-/// The target language.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+/// The target language (also the command line's `--lang` values).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
 pub enum Lang {
     /// C99 with `double complex` from `<complex.h>`.
     C,
@@ -306,9 +306,8 @@ fn counts_line(ch: &Choice) -> String {
 /// doc comment, signature and body.
 pub fn emit_code(req: &CodeRequest<'_>) -> Result<Emitted> {
     if !valid_prefix(&req.prefix) {
-        return Err(
-            Error::new(ErrorKind::Usage, format!("'{}' is not a valid name prefix: use ASCII letters, digits and _", req.prefix)).in_option("--name")
-        );
+        return Err(Error::new(ErrorKind::Usage, format!("'{}' is not a valid name prefix: use ASCII letters, digits and _", req.prefix))
+            .in_option(RequestInput::Name));
     }
     let locals = param_locals(&req.params);
     let mut o = file_head(req);
@@ -545,8 +544,8 @@ mod tests {
     }
 }
 
-/// What an emit request asks for.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+/// What an emit request asks for (also the command line's `--what` values).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
 pub enum EmitWhat {
     /// Q of the normal form.
     Q,

@@ -57,6 +57,7 @@ use super::classify_report::{apparent_fields, exponent_text, formal_text, param_
 use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::GRat;
 use crate::analysis::{Analysis, Kind, Place};
+use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::{ReduceOptions, Reduction};
 use crate::solve::request::{ClosedSection, Method, Problem, SpectrumRequest};
@@ -97,6 +98,15 @@ pub struct Record {
     end: usize,
 }
 
+/// `text` with its mentions of the request's inputs spelled as the record
+/// format spells them, the same for every front end: two dashes and the
+/// input's key with `-` for `_` (the `option.*` fields name the same inputs
+/// without the dashes). A record is a durable file, so this spelling is part
+/// of its format.
+fn record_spelling(text: &str) -> String {
+    crate::error::name_inputs(text, |r| format!("--{}", r.key().replace('_', "-")))
+}
+
 impl Record {
     /// The fields in order.
     pub fn entries(&self) -> &[Entry] {
@@ -113,7 +123,7 @@ impl Record {
     }
 
     fn push(&mut self, key: impl Into<String>, value: impl Into<String>) -> Result<()> {
-        let (key, value) = (key.into(), value.into());
+        let (key, value) = (key.into(), record_spelling(&value.into()));
         // A record is one field a line: text from the user (the source
         // path, option values) with a control character is refused, never
         // copied raw.
@@ -388,7 +398,7 @@ fn closed_fields(rec: &mut Record, red: &Reduction, opts: &ReduceOptions, setup:
     rec.push("option.ends", setup.ends.clone().unwrap_or_else(|| NOT_GIVEN.to_string()))?;
     rec.push("option.at", &setup.at)?;
     let ends = match &setup.ends {
-        Some(t) => Some(crate::solve::boundary::parse_ends(t).map_err(|e| e.in_option("--ends"))?),
+        Some(t) => Some(crate::solve::boundary::parse_ends(t).map_err(|e| e.in_option(RequestInput::Ends))?),
         None => None,
     };
     let req = SpectrumRequest {
@@ -515,7 +525,7 @@ fn analysis_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result<(
 /// names a point or choices that do not fit the equation).
 fn requested_recurrence(rec: &mut Record, red: &Reduction, about: &str, req: &RecurrenceRequest) -> Result<()> {
     let choices = match &req.exponents {
-        Some(t) => crate::analysis::canonical::Choices::parse(t).map_err(|e| e.in_option("--exponents"))?,
+        Some(t) => crate::analysis::canonical::Choices::parse(t).map_err(|e| e.in_option(RequestInput::Exponents))?,
         None => crate::analysis::canonical::Choices::default(),
     };
     rec.push("recurrence.rule", "as requested (option.about, option.series, option.exponents)")?;

@@ -4,29 +4,19 @@
 //! frequency, end). The command line and the Python package render here.
 
 use super::numbers::fmt_complex;
+use super::DocFormat;
 use crate::solve::scatter::{cross_section, row_cross_section, ScatterRow, Scattering};
 use serde_json::{json, Value};
 
-/// The three formats.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum Format {
-    /// A table.
-    Text,
-    /// One JSON document.
-    Json,
-    /// One line per frequency.
-    Csv,
-}
-
 /// The document's head, written before any point.
-pub fn header(f: Format, fname: &str, near: &str, far: &str, sum: Option<&(String, i64, i64)>, ls: &[i64]) -> String {
+pub fn header(f: DocFormat, fname: &str, near: &str, far: &str, sum: Option<&(String, i64, i64)>, ls: &[i64]) -> String {
     match f {
-        Format::Json => {
+        DocFormat::Json => {
             let lead = head_json(fname, near, far, sum).to_string();
             // The object is left open: the points follow as they are computed.
             format!("{},\n\"points\": [\n", lead.strip_suffix('}').unwrap_or(&lead))
         }
-        Format::Csv => {
+        DocFormat::Csv => {
             let mut h = String::from("omega,transmission,reflection,flux_error,matching_change,wkb_transmission");
             if sum.is_some() {
                 h.push_str(",cross_section");
@@ -37,7 +27,7 @@ pub fn header(f: Format, fname: &str, near: &str, far: &str, sum: Option<&(Strin
             h.push_str(",error\n");
             h
         }
-        Format::Text => {
+        DocFormat::Text => {
             let mut h = format!(
                 "scattering from {far} onto the barrier, transmitted into {near} ({fname} real)\n  |T|² transmitted/incident flux (greybody factor), |R|² reflected/incident; flux error |R|² + |T|² − 1; change of |T|² with the matching point moved\n\n"
             );
@@ -77,10 +67,10 @@ pub fn fields(r: &Result<Scattering, String>) -> Value {
 }
 
 /// One frequency's line(s); `first` for the first point of a JSON document.
-pub fn row_text(f: Format, w: f64, per: &[(i64, Result<Scattering, String>)], summed: bool, first: bool) -> String {
+pub fn row_text(f: DocFormat, w: f64, per: &[(i64, Result<Scattering, String>)], summed: bool, first: bool) -> String {
     match f {
-        Format::Json => format!("{}{}", if first { "  " } else { ",\n  " }, point_json(w, per, summed)),
-        Format::Csv => {
+        DocFormat::Json => format!("{}{}", if first { "  " } else { ",\n  " }, point_json(w, per, summed)),
+        DocFormat::Csv => {
             let g = |x: f64| if x.is_finite() { format!("{x:.17e}") } else { String::new() };
             let mut line = match &per[0].1 {
                 Ok(s) => format!(
@@ -105,7 +95,7 @@ pub fn row_text(f: Format, w: f64, per: &[(i64, Result<Scattering, String>)], su
             line.push_str(&format!(",\"{}\"\n", errs.join("; ").replace('"', "'")));
             line
         }
-        Format::Text => {
+        DocFormat::Text => {
             let wt = fmt_complex(w, 0.0);
             if summed {
                 let worst = per.iter().filter_map(|(_, r)| r.as_ref().ok().map(|s| s.flux_error.abs())).fold(0.0, f64::max);
@@ -136,13 +126,13 @@ pub fn row_text(f: Format, w: f64, per: &[(i64, Result<Scattering, String>)], su
 }
 
 /// The document's end, with a summary in text.
-pub fn footer(f: Format, rows: &[ScatterRow], summed: bool) -> String {
+pub fn footer(f: DocFormat, rows: &[ScatterRow], summed: bool) -> String {
     let worst = rows.iter().flat_map(|(_, per)| per.iter().filter_map(|(_, r)| r.as_ref().ok().map(|s| s.flux_error.abs()))).fold(0.0, f64::max);
     let failed = rows.iter().filter(|(_, per)| per.iter().any(|(_, r)| r.is_err())).count();
     match f {
-        Format::Json => "\n]}\n".to_string(),
-        Format::Csv => String::new(),
-        Format::Text => {
+        DocFormat::Json => "\n]}\n".to_string(),
+        DocFormat::Csv => String::new(),
+        DocFormat::Text => {
             let mut o = format!("\n{} frequencies; largest flux error {worst:.1e}", rows.len());
             if failed > 0 {
                 o.push_str(&format!("; {failed} without a value{}", if summed { " for some multipole" } else { "" }));

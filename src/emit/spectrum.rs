@@ -5,6 +5,7 @@
 
 use super::numbers::{fmt_complex, pi_multiple};
 use crate::algebra::print::Style;
+use crate::error::RequestInput;
 use crate::solve::boundary::{location_text, End, Location};
 use crate::solve::closed::ClosedForm;
 use crate::solve::periodic::{Floquet, PeriodicMode};
@@ -164,17 +165,22 @@ pub fn text(r: &SpectrumReport, source: &str) -> String {
         Body::Estimates(b) => estimates_text(&r.frequency, source, b),
         Body::Periodic(b) => periodic_text(&r.frequency, source, b),
         Body::Exact if matches!(r.closed, ClosedSection::None(_)) => {
-            format!("no closed form in {}: polynomial solutions only (--method exact)\n", r.frequency)
+            format!(
+                "no closed form in {}: polynomial solutions only ({opt_method} exact)\n",
+                r.frequency,
+                opt_method = RequestInput::Method.mention()
+            )
         }
         Body::Exact => format!(
-            "{} in {} from the closed form alone (--method exact: no numeric check)\n",
+            "{} in {} from the closed form alone ({opt_method} exact: no numeric check)\n",
             match r.problem {
                 Problem::Bound => "bound states",
                 Problem::QuasiBound => "quasi-bound states",
                 Problem::Quasinormal => "quasinormal modes",
                 Problem::Periodic => "characteristic values",
             },
-            r.frequency
+            r.frequency,
+            opt_method = RequestInput::Method.mention()
         ),
     };
     match &r.closed {
@@ -449,7 +455,7 @@ fn path_text(p: &crate::solve::continuation::Path) -> String {
     // The value as given (shortest text of the double), not 17 digits.
     let target = if p.target.im == 0.0 { format!("{}", p.target.re) } else { format!("{}{:+}i", p.target.re, p.target.im) };
     format!(
-        "  continuation (no --guess): in {} from 0 to {}: {} steps accepted, {} rejected, path length in ω {} (per overtone); {}; uncoupled modes {} (seeds from {})\n",
+        "  continuation (no {opt_guess}): in {} from 0 to {}: {} steps accepted, {} rejected, path length in ω {} (per overtone); {}; uncoupled modes {} (seeds from {})\n",
         p.parameter,
         target,
         p.accepted,
@@ -457,8 +463,7 @@ fn path_text(p: &crate::solve::continuation::Path) -> String {
         lengths.join(", "),
         p.stop.text(),
         start.join(", "),
-        p.start_from
-    )
+        p.start_from, opt_guess = RequestInput::Guess.mention())
 }
 
 fn recurrence_csv(b: &RecurrenceReport) -> String {
@@ -592,7 +597,7 @@ const ENDS_METHOD: &str =
     "direct integration between the ends (Frobenius series at regular ends, asymptotic series at an irregular infinity, Taylor continuation; Muller roots)";
 
 fn ends_notes(b: &EndsReport) -> Vec<String> {
-    b.problem.notes.iter().cloned().chain(b.note.clone()).chain(b.numbering.map(String::from)).collect()
+    b.problem.notes.iter().cloned().chain(b.note.clone()).chain(b.numbering.clone()).collect()
 }
 
 fn ends_json(fname: &str, b: &EndsReport) -> Value {

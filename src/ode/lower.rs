@@ -6,7 +6,7 @@
 
 use super::quasi::{Atoms, Quasi};
 use crate::algebra::{Field, GRat, Limits, Rat, RatFunc};
-use crate::error::{Error, ErrorKind, Result};
+use crate::error::{Error, ErrorKind, RequestInput, Result};
 use crate::syntax::{BinOp, Expr, ExprKind, Func, Ident, Program, Span, Statement};
 use std::collections::BTreeMap;
 
@@ -119,51 +119,93 @@ pub fn lower_program(program: &Program, mode: NameMode, limits: &Limits) -> Resu
     lower_program_mapped(program, mode, limits, None).map(|(ode, _)| ode)
 }
 
+/// The field, p and q of a lowered equation, and the lets that are constants.
+type Lowered = (Field, RatFunc, RatFunc, Vec<(String, RatFunc)>);
+
 /// Lowers a parsed program whose coefficients may hold exp, sinh, cosh,
 /// tanh, sech (or sin, cos, tan) of multiples of the variable: those are made
 /// rational by ζ = e^(c·x) (the requested map, or the first of c = 2g, g —
 /// g the common step of the arguments, times i for trigonometric ones — that
-/// The field, p and q of a lowered equation, and the coordinate statements met.
-type Lowered = (Field, RatFunc, RatFunc, Vec<(String, RatFunc)>);
-
 /// leaves no fractional power), and the result is the equation in ζ.
 pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, request: Option<&MapRequest>) -> Result<(LinearOde, Option<ExpMap>)> {
+    let mut decl = read_declarations(program)?;
+    let unknown = find_unknown(&decl)?;
+    // Inline mode: undeclared names become parameters, in order of appearance.
+    let inferred = if mode == NameMode::Infer { infer_parameters(program, &mut decl, &unknown) } else { Vec::new() };
+    let param_names: Vec<String> = decl.params.iter().map(|(n, _)| n.clone()).collect();
+    let mut names = vec![decl.var.clone()];
+    names.extend(param_names.iter().cloned());
+    let field = Field::new(names.clone(), limits.clone()).map_err(|e| e.or_at(decl.params.last().map(|p| p.1).unwrap_or(decl.ode_span)))?;
+    let calls = function_calls(program, &decl);
+    let lowering = Lowering { program, param_names, var: decl.var.clone(), unknown, lhs: decl.lhs, rhs: decl.rhs, ode_span: decl.ode_span };
+    if calls.is_empty() && request.is_none() {
+        let (field, p, q, lets) = lowering.lower(field, None)?;
+        let Lowering { var, unknown, param_names, .. } = lowering;
+        return Ok((LinearOde { field, var, unknown, params: param_names, inferred, p, q, lets }, None));
+    }
+    let plan = plan_map(&field, &names, &calls, request)?;
+    lower_through_map(&lowering, &plan, &names, inferred, limits, request.is_some())
+}
+
+/// The statements of a program, checked for their structure: one variable,
+/// one equation, at most one unknown, no name declared twice.
+struct Declarations<'a> {
+    var: String,
+    params: Vec<(String, Span)>,
+    unknown: Option<(String, Span)>,
+    let_names: Vec<(String, Span)>,
+    lhs: &'a Expr,
+    rhs: &'a Expr,
+    ode_span: Span,
+}
+
+impl Declarations<'_> {
+    /// True for the variable, a parameter or a let.
+    fn known(&self, n: &str) -> bool {
+        n == self.var || self.params.iter().any(|(p, _)| p == n) || self.let_names.iter().any(|(l, _)| l == n)
+    }
+}
+
+/// What an earlier statement declared `name` as, and where.
+fn declared(name: &str, params: &[(String, Span)], var: &Option<(String, Span)>, lets: &[(String, Span)]) -> Option<(&'static str, Span)> {
+    params.iter().find(|(n, _)| n == name).map(|(_, s)| ("a parameter", *s)).or_else(|| {
+        var.as_ref()
+            .filter(|(n, _)| n == name)
+            .map(|(_, s)| ("the variable", *s))
+            .or_else(|| lets.iter().find(|(n, _)| n == name).map(|(_, s)| ("a let", *s)))
+    })
+}
+
+/// Reads the program's statements in order into its declarations.
+fn read_declarations(program: &Program) -> Result<Declarations<'_>> {
     let mut var: Option<(String, Span)> = None;
     let mut params: Vec<(String, Span)> = Vec::new();
     let mut unknown: Option<(String, Span)> = None;
     let mut ode: Option<(&Expr, &Expr, Span)> = None;
     let mut let_names: Vec<(String, Span)> = Vec::new();
-    let declared = |name: &str, params: &[(String, Span)], var: &Option<(String, Span)>, lets: &[(String, Span)]| {
-        params.iter().find(|(n, _)| n == name).map(|(_, s)| ("a parameter", *s)).or_else(|| {
-            var.as_ref()
-                .filter(|(n, _)| n == name)
-                .map(|(_, s)| ("the variable", *s))
-                .or_else(|| lets.iter().find(|(n, _)| n == name).map(|(_, s)| ("a let", *s)))
-        })
-    };
+    let twice = |name: &str, what: &str, span: Span| err(ErrorKind::Structure, format!("'{name}' is already declared as {what}"), span);
     for st in &program.statements {
         match st {
             Statement::Var(id) => {
-                if let Some((_, first)) = &var {
-                    let _ = first;
+                if var.is_some() {
                     return Err(err(ErrorKind::Structure, "a second 'var' statement: the equation has one independent variable", id.span));
                 }
                 if let Some((what, _)) = declared(&id.name, &params, &var, &let_names) {
-                    return Err(err(ErrorKind::Structure, format!("'{}' is already declared as {what}", id.name), id.span));
+                    return Err(twice(&id.name, what, id.span));
                 }
                 var = Some((id.name.clone(), id.span));
             }
             Statement::Param(ids) => {
                 for id in ids {
                     if let Some((what, _)) = declared(&id.name, &params, &var, &let_names) {
-                        return Err(err(ErrorKind::Structure, format!("'{}' is already declared as {what}", id.name), id.span));
+                        return Err(twice(&id.name, what, id.span));
                     }
                     params.push((id.name.clone(), id.span));
                 }
             }
             Statement::Let { name, .. } => {
                 if let Some((what, _)) = declared(&name.name, &params, &var, &let_names) {
-                    return Err(err(ErrorKind::Structure, format!("'{}' is already declared as {what}", name.name), name.span));
+                    return Err(twice(&name.name, what, name.span));
                 }
                 let_names.push((name.name.clone(), name.span));
             }
@@ -176,7 +218,7 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
             Statement::Coordinate { top, bottom, .. } => {
                 for id in [top, bottom] {
                     if let Some((what, _)) = declared(&id.name, &params, &None, &let_names) {
-                        return Err(err(ErrorKind::Structure, format!("'{}' is already declared as {what}", id.name), id.span));
+                        return Err(twice(&id.name, what, id.span));
                     }
                 }
             }
@@ -191,109 +233,115 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
     let Some((lhs, rhs, ode_span)) = ode else {
         return Err(Error::new(ErrorKind::Structure, "no 'ode' statement: nothing to reduce").note("write the equation as: ode LHS = RHS"));
     };
-    let (var, _) = match var {
-        Some(v) => v,
-        None => {
-            return Err(Error::new(ErrorKind::Structure, "no 'var' statement: the independent variable is not named")
-                .at(Span::new(ode_span.start, ode_span.start + 3))
-                .note("add a line such as: var r"))
-        }
+    let Some((var, _)) = var else {
+        return Err(Error::new(ErrorKind::Structure, "no 'var' statement: the independent variable is not named")
+            .at(Span::new(ode_span.start, ode_span.start + 3))
+            .note("add a line such as: var r"));
     };
-    // The unknown: explicit, or the one name that carries primes in the equation.
-    let known = |n: &str| n == var || params.iter().any(|(p, _)| p == n) || let_names.iter().any(|(l, _)| l == n);
-    let unknown = match unknown {
-        Some((u, s)) => {
-            if known(&u) {
-                return Err(err(ErrorKind::Structure, format!("the unknown '{u}' is also declared as another name"), s));
-            }
-            u
+    Ok(Declarations { var, params, unknown, let_names, lhs, rhs, ode_span })
+}
+
+/// The unknown: explicit, or the one name that carries primes in the equation.
+fn find_unknown(d: &Declarations) -> Result<String> {
+    let known = |n: &str| d.known(n);
+    if let Some((u, s)) = &d.unknown {
+        if known(u) {
+            return Err(err(ErrorKind::Structure, format!("the unknown '{u}' is also declared as another name"), *s));
         }
-        None => {
-            let mut primed = Vec::new();
-            collect_primed(lhs, &mut primed, &known);
-            collect_primed(rhs, &mut primed, &known);
-            primed.retain(|(n, _)| !known(n));
-            if primed.is_empty() {
-                // Only bracketed expressions are differentiated, as in
-                // d/dx(x*w) or (x*w)': the unknown is among their names.
-                collect_differentiated(lhs, false, &mut primed);
-                collect_differentiated(rhs, false, &mut primed);
-                primed.retain(|(n, _)| !known(n));
-            }
-            primed.dedup_by(|a, b| a.0 == b.0);
-            let mut names: Vec<(String, Span)> = Vec::new();
-            for p in primed {
-                if !names.iter().any(|(n, _)| *n == p.0) {
-                    names.push(p);
-                }
-            }
-            match names.len() {
-                0 => {
-                    return Err(err(
-                        ErrorKind::NotSecondOrder,
-                        "no unknown function: no undeclared name carries a derivative (') in the equation",
-                        ode_span,
-                    )
-                    .note("write the unknown with primes, e.g. y'' + q*y = 0, or name it with: unknown y"))
-                }
-                1 => names.remove(0).0,
-                _ => {
-                    let list: Vec<String> = names.iter().map(|(n, _)| format!("'{n}'")).collect();
-                    return Err(err(
-                        ErrorKind::Structure,
-                        format!("more than one undeclared name carries a derivative: {}", list.join(", ")),
-                        names[1].1,
-                    )
-                    .note("declare the others with 'param' or 'let', or name the unknown with: unknown NAME"));
-                }
-            }
-        }
-    };
-    // Inline mode: undeclared names become parameters, in order of appearance.
-    let mut inferred = Vec::new();
-    if mode == NameMode::Infer {
-        let mut names = Vec::new();
-        for st in &program.statements {
-            if let Statement::Let { value, .. } | Statement::Coordinate { rate: value, .. } = st {
-                collect_names(value, &mut names);
-            }
-        }
-        collect_names(lhs, &mut names);
-        collect_names(rhs, &mut names);
-        let mut new_params = Vec::new();
-        for (n, s) in names {
-            if n != unknown && !known(&n) && !inferred.contains(&n) {
-                new_params.push((n.clone(), s));
-                inferred.push(n);
-            }
-        }
-        params.extend(new_params);
+        return Ok(u.clone());
     }
-    let param_names: Vec<String> = params.iter().map(|(n, _)| n.clone()).collect();
-    let mut names = vec![var.clone()];
-    names.extend(param_names.iter().cloned());
-    let field = Field::new(names.clone(), limits.clone()).map_err(|e| e.or_at(params.last().map(|p| p.1).unwrap_or(ode_span)))?;
+    let mut primed = Vec::new();
+    collect_primed(d.lhs, &mut primed, &known);
+    collect_primed(d.rhs, &mut primed, &known);
+    primed.retain(|(n, _)| !known(n));
+    if primed.is_empty() {
+        // Only bracketed expressions are differentiated, as in
+        // d/dx(x*w) or (x*w)': the unknown is among their names.
+        collect_differentiated(d.lhs, false, &mut primed);
+        collect_differentiated(d.rhs, false, &mut primed);
+        primed.retain(|(n, _)| !known(n));
+    }
+    primed.dedup_by(|a, b| a.0 == b.0);
+    let mut names: Vec<(String, Span)> = Vec::new();
+    for p in primed {
+        if !names.iter().any(|(n, _)| *n == p.0) {
+            names.push(p);
+        }
+    }
+    match names.len() {
+        0 => Err(err(ErrorKind::NotSecondOrder, "no unknown function: no undeclared name carries a derivative (') in the equation", d.ode_span)
+            .note("write the unknown with primes, e.g. y'' + q*y = 0, or name it with: unknown y")),
+        1 => Ok(names.remove(0).0),
+        _ => {
+            let list: Vec<String> = names.iter().map(|(n, _)| format!("'{n}'")).collect();
+            Err(err(ErrorKind::Structure, format!("more than one undeclared name carries a derivative: {}", list.join(", ")), names[1].1)
+                .note("declare the others with 'param' or 'let', or name the unknown with: unknown NAME"))
+        }
+    }
+}
+
+/// Makes the undeclared names (but the unknown) parameters, in order of
+/// appearance, and returns them.
+fn infer_parameters(program: &Program, d: &mut Declarations, unknown: &str) -> Vec<String> {
+    let mut names = Vec::new();
+    for st in &program.statements {
+        if let Statement::Let { value, .. } | Statement::Coordinate { rate: value, .. } = st {
+            collect_names(value, &mut names);
+        }
+    }
+    collect_names(d.lhs, &mut names);
+    collect_names(d.rhs, &mut names);
+    let mut inferred = Vec::new();
+    let mut new_params = Vec::new();
+    for (n, s) in names {
+        if n != unknown && !d.known(&n) && !inferred.contains(&n) {
+            new_params.push((n.clone(), s));
+            inferred.push(n);
+        }
+    }
+    d.params.extend(new_params);
+    inferred
+}
+
+/// The calls of exp, sinh, … in the lets and the equation.
+fn function_calls<'a>(program: &'a Program, d: &Declarations<'a>) -> Vec<(Func, &'a Expr, Span)> {
     let mut calls = Vec::new();
     for st in &program.statements {
         if let Statement::Let { value, .. } = st {
             collect_calls(value, &mut calls);
         }
     }
-    collect_calls(lhs, &mut calls);
-    collect_calls(rhs, &mut calls);
-    let lower_with = |field: Field, map: Option<&Chain>| -> Result<Lowered> {
+    collect_calls(d.lhs, &mut calls);
+    collect_calls(d.rhs, &mut calls);
+    calls
+}
+
+/// The equation's names and text, ready to be lowered into a field.
+struct Lowering<'a> {
+    program: &'a Program,
+    param_names: Vec<String>,
+    var: String,
+    unknown: String,
+    lhs: &'a Expr,
+    rhs: &'a Expr,
+    ode_span: Span,
+}
+
+impl Lowering<'_> {
+    /// The equation lowered into `field`, through the exponential map's chain rule when one is given.
+    fn lower(&self, field: Field, map: Option<&Chain>) -> Result<Lowered> {
         let mut lw = Lowerer {
             field,
             atoms: Atoms::default(),
             lets: BTreeMap::new(),
-            params: &param_names,
-            var: &var,
-            unknown: &unknown,
+            params: &self.param_names,
+            var: &self.var,
+            unknown: &self.unknown,
             map,
             coords: Vec::new(),
         };
         let mut lets_out = Vec::new();
-        for st in &program.statements {
+        for st in &self.program.statements {
             if let Statement::Let { name, value } = st {
                 let v = lw.expr(value)?;
                 if let (true, Some(r)) = (v.is_linear_free(), v.free.as_rat()) {
@@ -302,24 +350,38 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
                 lw.lets.insert(name.name.clone(), (v, name.span));
             }
         }
-        for st in &program.statements {
+        for st in &self.program.statements {
             if let Statement::Coordinate { top, bottom, rate, span } = st {
                 lw.coordinate(top, bottom, rate, *span)?;
             }
         }
-        let (p, q) = lw.equation(lhs, rhs, ode_span)?;
+        let (p, q) = lw.equation(self.lhs, self.rhs, self.ode_span)?;
         Ok((lw.field, p, q, lets_out))
-    };
-    if calls.is_empty() && request.is_none() {
-        let (field, p, q, lets) = lower_with(field, None)?;
-        return Ok((LinearOde { field, var, unknown, params: param_names, inferred, p, q, lets }, None));
     }
+
+    /// The lowered equation as a [`LinearOde`] in `var`.
+    fn ode(&self, (field, p, q, lets): Lowered, var: String, inferred: &[String]) -> LinearOde {
+        LinearOde { field, var, unknown: self.unknown.clone(), params: self.param_names.clone(), inferred: inferred.to_vec(), p, q, lets }
+    }
+}
+
+/// The exponential map to try: the slopes of the arguments, the candidate
+/// constants c of ζ = e^(c·x) in order, the common shift and the new name.
+struct MapPlan {
+    slopes: Vec<(Span, RatFunc)>,
+    candidates: Vec<RatFunc>,
+    shift: RatFunc,
+    new_var: String,
+}
+
+/// The map that makes the calls rational (or the requested one).
+fn plan_map(field: &Field, names: &[String], calls: &[(Func, &Expr, Span)], request: Option<&MapRequest>) -> Result<MapPlan> {
     // The slope a of every argument a·x.
     let mut slopes = Vec::new();
     let mut shifts = Vec::new();
     let mut trig: Option<(bool, Span)> = None;
-    for (func, arg, span) in &calls {
-        let (a, x0) = linear_slope(&field, &names, arg)?;
+    for (func, arg, span) in calls {
+        let (a, x0) = linear_slope(field, names, arg)?;
         shifts.push((arg.span, x0));
         match trig {
             Some((t, first)) if t != func.is_trigonometric() => {
@@ -338,34 +400,47 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
     let i_unit = RatFunc::constant(&GRat { re: Rat::zero(), im: Rat::one() });
     let candidates: Vec<RatFunc> = match request {
         Some(req) => {
-            let (a, x0) = linear_slope(&field, &names, &req.exponent).map_err(|e| e.in_option("--map"))?;
+            let (a, x0) = linear_slope(field, names, &req.exponent).map_err(|e| e.in_option(RequestInput::Map))?;
             shifts.push((req.exponent.span, x0));
             vec![a]
         }
         None => {
-            let g = common_step(&field, &slopes)?;
+            let g = common_step(field, &slopes)?;
             let unit = if trig.is_some_and(|(t, _)| t) { field.mul(&g, &i_unit)? } else { g };
             let two = RatFunc::rat(&Rat::int(2.into()));
             vec![field.mul(&two, &unit)?, unit]
         }
     };
-    let shift = common_shift(&field, &names, &shifts)?;
+    let shift = common_shift(field, names, &shifts)?;
     let new_var = match request {
         Some(req) => {
             if names.contains(&req.new_var) {
-                return Err(Error::new(ErrorKind::Usage, format!("'{}' is already a name of the equation", req.new_var)).in_option("--map"));
+                return Err(Error::new(ErrorKind::Usage, format!("'{}' is already a name of the equation", req.new_var)).in_option(RequestInput::Map));
             }
             req.new_var.clone()
         }
-        None => super::fresh_name("zeta", &names),
+        None => super::fresh_name("zeta", names),
     };
-    let mut new_names = vec![new_var.clone()];
-    new_names.extend(param_names.iter().cloned());
+    Ok(MapPlan { slopes, candidates, shift, new_var })
+}
+
+/// The equation in ζ = e^(c·x) for the first candidate c that lowers (or in
+/// u = tanh(c x/2) when that has no more singular points and no map was requested).
+fn lower_through_map(
+    lowering: &Lowering,
+    plan: &MapPlan,
+    names: &[String],
+    inferred: Vec<String>,
+    limits: &Limits,
+    requested: bool,
+) -> Result<(LinearOde, Option<ExpMap>)> {
+    let mut new_names = vec![plan.new_var.clone()];
+    new_names.extend(lowering.param_names.iter().cloned());
     let mut last = None;
-    for (n, c) in candidates.iter().enumerate() {
+    for (n, c) in plan.candidates.iter().enumerate() {
         let nf = Field::new(new_names.clone(), limits.clone())?;
-        let chain = Chain { c: c.clone(), slopes: slopes.clone() };
-        match lower_with(nf, Some(&chain)) {
+        let chain = Chain { c: c.clone(), slopes: plan.slopes.clone() };
+        match lowering.lower(nf, Some(&chain)) {
             Ok((nf, px, qx, lets)) => {
                 // d/dx = h d/dζ with h = c ζ: y'' + (h'/h + p_x/h) y' + q_x/h² y = 0.
                 let zeta = nf.var(0);
@@ -373,49 +448,47 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
                 let p = nf.add(&nf.inv(&zeta)?, &nf.div(&px, &h)?)?;
                 let q = nf.div(&qx, &nf.mul(&h, &h)?)?;
                 let real = c.as_constant().is_none_or(|k| k.im.is_zero()) && c.is_real();
-                if request.is_none() && real {
-                    // u = (ζ − 1)/(ζ + 1) = tanh(c x/2), kept when it has no more singular points.
-                    let u_name = super::fresh_name("u", &names);
-                    let mut u_names = vec![u_name.clone()];
-                    u_names.extend(param_names.iter().cloned());
-                    let tf = Field::new(u_names, limits.clone())?;
-                    let u = tf.var(0);
-                    let one = RatFunc::one();
-                    let g = tf.div(&tf.add(&one, &u)?, &tf.sub(&one, &u)?)?;
-                    let (pu, qu) = super::transform::change_variable(&tf, &p, &q, &g)?;
-                    if singular_count(&tf, &pu, &qu)? <= singular_count(&nf, &p, &q)? {
-                        let map = ExpMap { old_var: var.clone(), new_var: u_name.clone(), c: c.clone(), tanh: true, shift: shift.clone() };
-                        let ode = LinearOde {
-                            field: tf,
-                            var: u_name,
-                            unknown: unknown.clone(),
-                            params: param_names.clone(),
-                            inferred: inferred.clone(),
-                            p: pu,
-                            q: qu,
-                            lets: Vec::new(),
-                        };
+                if !requested && real {
+                    if let Some((ode, map)) = tanh_form(lowering, plan, c, (&nf, &p, &q), names, &inferred, limits)? {
                         return Ok((ode, Some(map)));
                     }
                 }
-                let map = ExpMap { old_var: var.clone(), new_var: new_var.clone(), c: c.clone(), tanh: false, shift: shift.clone() };
-                let ode = LinearOde {
-                    field: nf,
-                    var: new_var.clone(),
-                    unknown: unknown.clone(),
-                    params: param_names.clone(),
-                    inferred: inferred.clone(),
-                    p,
-                    q,
-                    lets,
-                };
-                return Ok((ode, Some(map)));
+                let map =
+                    ExpMap { old_var: lowering.var.clone(), new_var: plan.new_var.clone(), c: c.clone(), tanh: false, shift: plan.shift.clone() };
+                return Ok((lowering.ode((nf, p, q, lets), plan.new_var.clone(), &inferred), Some(map)));
             }
-            Err(e) if e.kind == ErrorKind::NotRational && n + 1 < candidates.len() => last = Some(e),
+            Err(e) if e.kind == ErrorKind::NotRational && n + 1 < plan.candidates.len() => last = Some(e),
             Err(e) => return Err(e),
         }
     }
     Err(last.unwrap_or_else(|| Error::new(ErrorKind::Internal, "no candidate map")))
+}
+
+/// The equation in u = (ζ − 1)/(ζ + 1) = tanh(c x/2), when it has no more
+/// singular points than the one in ζ (`in_zeta`: its field, p and q).
+fn tanh_form(
+    lowering: &Lowering,
+    plan: &MapPlan,
+    c: &RatFunc,
+    in_zeta: (&Field, &RatFunc, &RatFunc),
+    names: &[String],
+    inferred: &[String],
+    limits: &Limits,
+) -> Result<Option<(LinearOde, ExpMap)>> {
+    let (nf, p, q) = in_zeta;
+    let u_name = super::fresh_name("u", names);
+    let mut u_names = vec![u_name.clone()];
+    u_names.extend(lowering.param_names.iter().cloned());
+    let tf = Field::new(u_names, limits.clone())?;
+    let u = tf.var(0);
+    let one = RatFunc::one();
+    let g = tf.div(&tf.add(&one, &u)?, &tf.sub(&one, &u)?)?;
+    let (pu, qu) = super::transform::change_variable(&tf, p, q, &g)?;
+    if singular_count(&tf, &pu, &qu)? > singular_count(nf, p, q)? {
+        return Ok(None);
+    }
+    let map = ExpMap { old_var: lowering.var.clone(), new_var: u_name.clone(), c: c.clone(), tanh: true, shift: plan.shift.clone() };
+    Ok(Some((lowering.ode((tf, pu, qu, Vec::new()), u_name, inferred), map)))
 }
 
 /// The number of singular points of y'' + p y' + q y = 0, infinity included

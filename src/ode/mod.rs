@@ -15,6 +15,7 @@ pub(crate) use lower::lower_rational;
 pub(crate) use normal::laurent_at;
 
 use crate::algebra::{Field, Limits, RatFunc};
+use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::syntax::{self, Ident, ParseLimits, Program, Span, Statement};
 
@@ -138,15 +139,18 @@ pub fn lower_mapped(input: &Input<'_>, limits: &Limits, parse_limits: &ParseLimi
 
 /// Reads `NEW=exp(ARG)` (the `--map` option).
 fn map_request(text: &str, parse_limits: &ParseLimits) -> Result<MapRequest> {
-    let usage =
-        || Error::new(ErrorKind::Usage, "expected NEW=exp(ARG), e.g. zeta=exp(2*alpha*x)").in_option("--map").at(Span::new(0, text.len().max(1)));
+    let usage = || {
+        Error::new(ErrorKind::Usage, "expected NEW=exp(ARG), e.g. zeta=exp(2*alpha*x)")
+            .in_option(RequestInput::Map)
+            .at(Span::new(0, text.len().max(1)))
+    };
     let eq = text.find('=').ok_or_else(usage)?;
     let name = text[..eq].trim();
     if name.is_empty() || !name.chars().next().is_some_and(char::is_alphabetic) || !name.chars().all(|c| c.is_alphanumeric() || c == '_') {
         return Err(usage());
     }
     let offset = eq + 1;
-    let expr = syntax::parse_expr(&text[offset..], parse_limits).map_err(|e| shift(e, offset).in_option("--map"))?;
+    let expr = syntax::parse_expr(&text[offset..], parse_limits).map_err(|e| shift(e, offset).in_option(RequestInput::Map))?;
     let syntax::ExprKind::Call(syntax::Func::Exp, arg) = expr.kind else { return Err(usage()) };
     let mut exponent = *arg;
     shift_expr(&mut exponent, offset);
@@ -252,25 +256,25 @@ pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
     let mut change = None;
     let subst = if opts.at_infinity {
         let t = fresh_name("t", &names);
-        Some((format!("{}=1/{t}", ode.var), "--at-infinity".to_string(), Some(t)))
+        Some((format!("{}=1/{t}", ode.var), RequestInput::AtInfinity, Some(t)))
     } else {
-        opts.subst.clone().map(|s| (s, "--subst".to_string(), None))
+        opts.subst.clone().map(|s| (s, RequestInput::Subst, None))
     };
     if let Some((text, option, _)) = subst {
         let Some(eq) = text.find('=') else {
             return Err(Error::new(ErrorKind::Usage, format!("expected OLD=EXPR, e.g. {}=1/t", ode.var))
-                .in_option(&option)
+                .in_option(option)
                 .at(Span::new(0, text.len())));
         };
         let (lhs, rhs) = (text[..eq].trim(), &text[eq + 1..]);
         if lhs != ode.var {
             return Err(Error::new(ErrorKind::Usage, format!("the left side must be the equation's variable '{}'", ode.var))
                 .at(Span::new(0, eq))
-                .in_option(&option)
+                .in_option(option)
                 .note(format!("write {}=EXPR with EXPR rational in a new variable", ode.var)));
         }
         let offset = eq + 1;
-        let expr = syntax::parse_expr(rhs, &opts.parse_limits).map_err(|e| shift(e, offset).in_option(&option))?;
+        let expr = syntax::parse_expr(rhs, &opts.parse_limits).map_err(|e| shift(e, offset).in_option(option))?;
         // The new variable: the one name in EXPR that is not a parameter.
         let mut found = Vec::new();
         collect_expr_names(&expr, &mut found);
@@ -287,19 +291,19 @@ pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
                 ),
             )
             .at(Span::new(offset, text.len()))
-            .in_option(&option));
+            .in_option(option));
         }
         let new_var = new_vars.remove(0);
         let mut new_names = vec![new_var.clone()];
         new_names.extend(ode.params.iter().cloned());
         let new_field = Field::new(new_names.clone(), opts.limits.clone())?;
-        let g = lower_rational(&new_field, &new_names, &[], &expr).map_err(|e| shift(e, offset).in_option(&option))?;
+        let g = lower_rational(&new_field, &new_names, &[], &expr).map_err(|e| shift(e, offset).in_option(option))?;
         if !g.uses_var(0) {
             return Err(Error::new(ErrorKind::Usage, "the substitution does not depend on the new variable")
                 .at(Span::new(offset, text.len()))
-                .in_option(&option));
+                .in_option(option));
         }
-        let (pt, qt) = change_variable(&new_field, &p, &q, &g).map_err(|e| e.in_option(&option))?;
+        let (pt, qt) = change_variable(&new_field, &p, &q, &g).map_err(|e| e.in_option(option))?;
         let schw = schwarzian(&new_field, &g)?;
         change = Some(Change { old_var: ode.var.clone(), new_var: new_var.clone(), g, schwarzian: schw });
         p = pt;
@@ -310,7 +314,7 @@ pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
     let normal = normal_form(&field, &p, &q)?;
     let mut schrod = None;
     if let Some(text) = &opts.dxdz {
-        let option = "--dxdz";
+        let option = RequestInput::Dxdz;
         let expr = syntax::parse_expr(text, &opts.parse_limits).map_err(|e| e.in_option(option))?;
         let mut fnames = vec![var.clone()];
         fnames.extend(ode.params.iter().cloned());
@@ -321,13 +325,9 @@ pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
             None => ["omega", "ω", "w"].iter().find(|n| ode.params.iter().any(|p| p == *n)).map(|s| s.to_string()),
         };
         let freq_idx = match &freq_name {
-            Some(f) => Some(
-                ode.params
-                    .iter()
-                    .position(|p| p == f)
-                    .map(|i| i + 1)
-                    .ok_or_else(|| Error::new(ErrorKind::Usage, format!("'{f}' is not a parameter of the equation")).in_option("--frequency"))?,
-            ),
+            Some(f) => Some(ode.params.iter().position(|p| p == f).map(|i| i + 1).ok_or_else(|| {
+                Error::new(ErrorKind::Usage, format!("'{f}' is not a parameter of the equation")).in_option(RequestInput::Frequency)
+            })?),
             None => None,
         };
         let (w, v) = schrodinger(&field, &p, &q, &h, freq_idx)?;

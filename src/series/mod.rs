@@ -15,6 +15,7 @@ use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::{gcd, Field, Int, Poly, Rat, RatFunc, UPoly};
 use crate::analysis::canonical::Choices;
 use crate::analysis::{analyse_equation, Kind, Place, SingularPoint};
+use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::{change_variable, normal_q, prefactor, Reduction};
 
@@ -270,14 +271,12 @@ fn recurrence_mod(
 fn expansion_point<'a>(k: &Field, finite: &[(RatFunc, &'a SingularPoint)], about: &str) -> Result<(RatFunc, &'a SingularPoint)> {
     let Some((zh, hp)) = finite.iter().find(|(at, _)| norm(&rt(k, at)) == norm(about)).cloned() else {
         let list: Vec<String> = finite.iter().map(|(at, _)| rt(k, at)).collect();
-        return Err(
-            usage(format!("'{about}' is not a singular point with an exact location; the points are: {}", list.join(", "))).in_option("--about")
-        );
+        return Err(usage(format!("'{about}' is not a singular point with an exact location; the points are: {}", list.join(", ")))
+            .in_option(RequestInput::About));
     };
     if hp.kind != Kind::Regular {
-        return Err(
-            usage(format!("the point {about} is not a regular singular point: a Frobenius-type series does not start there")).in_option("--about")
-        );
+        return Err(usage(format!("the point {about} is not a regular singular point: a Frobenius-type series does not start there"))
+            .in_option(RequestInput::About));
     }
     Ok((zh, hp))
 }
@@ -348,8 +347,9 @@ fn finite_powers(
         let values: Vec<Option<RatFunc>> = sp.unknown_exponents.iter().map(|e| e.exact_value(k)).collect();
         let Some(i) = pick(choices, &label, &values) else {
             return Err(usage(format!(
-                "the exponents at {} = {label} are not exact; choose the point's exponent with --exponents or expand elsewhere",
-                red.var
+                "the exponents at {} = {label} are not exact; choose the point's exponent with {opt_exponents} or expand elsewhere",
+                red.var,
+                opt_exponents = RequestInput::Exponents.mention()
             )));
         };
         let rho = values[i].clone().expect("picked exact");
@@ -527,7 +527,7 @@ fn normalised(kn: &Field, ps: Vec<RatFunc>, modf: Option<&RootRelation>) -> Resu
 /// at z_h; returns its pole z₂ (if finite) and the inverse map z = g(u).
 fn parse_mobius(red: &Reduction, text: &str, zh: &RatFunc) -> Result<(Option<RatFunc>, RatFunc)> {
     let k = &red.field;
-    let opt = "--series";
+    let opt = RequestInput::Series;
     let Some(eq) = text.find('=') else { return Err(usage("expected u=EXPR, e.g. u=(r - 2*M)/r").in_option(opt)) };
     let expr = crate::syntax::parse_expr(&text[eq + 1..], &crate::syntax::ParseLimits::default()).map_err(|e| e.in_option(opt))?;
     let mut names = vec![red.var.clone()];
@@ -582,7 +582,9 @@ pub fn names_root(about: &str) -> bool {
 pub fn requested(red: &Reduction, about: &str, series: Option<&str>, choices: &Choices, normal: bool) -> Result<Recurrence> {
     if names_root(about) {
         if series.is_some() || normal {
-            return Err(usage("about θ the series variable is fixed (u = (z − θ)/(z − θ')) and the unknown is expanded").in_option("--about"));
+            return Err(
+                usage("about θ the series variable is fixed (u = (z − θ)/(z − θ')) and the unknown is expanded").in_option(RequestInput::About)
+            );
         }
         return Ok(recurrence_about_root(red, choices)?.rec);
     }
@@ -627,8 +629,11 @@ pub fn recurrence_about_root(red: &Reduction, choices: &Choices) -> Result<RootR
     let an = crate::analysis::analyse(red)?;
     let found = an.points.iter().find(|p| p.kind == Kind::Regular && matches!(&p.place, Place::Roots(f) if f.to_univariate(0).len() == 3));
     match found {
-        Some(p) => recurrence_about_point(red, p, choices).map_err(|e| if e.is_bad_input() && e.span.is_none() { e.in_option("--about") } else { e }),
-        None => Err(usage("no regular singular point is a root of an irreducible quadratic factor").in_option("--about")),
+        Some(p) => {
+            recurrence_about_point(red, p, choices)
+                .map_err(|e| if e.is_bad_input() && e.span.is_none() { e.in_option(RequestInput::About) } else { e })
+        }
+        None => Err(usage("no regular singular point is a root of an irreducible quadratic factor").in_option(RequestInput::About)),
     }
 }
 

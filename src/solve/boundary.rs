@@ -25,6 +25,7 @@
 
 use crate::algebra::{Field, GRat, RatFunc};
 use crate::analysis::numeric::try_roots;
+use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::solve::NumOde;
 use num_complex::Complex64;
@@ -259,8 +260,30 @@ pub fn try_problem(
     if ode.a.c.iter().any(|row| row.len() > 1 && row[1..].iter().any(|c| c.norm() > 0.0)) {
         return Err(usage("the denominator of Q depends on the spectral parameter: the ends would move with it"));
     }
+    let (real_points, zeros) = real_singular_points(field, q, &ode, values, freq)?;
+    let infinity = infinity_of(&ode);
+    let mut notes = Vec::new();
+    let ends = match &given {
+        Some(g) => given_ends(g, &real_points, &infinity)?,
+        None => natural_ends(&real_points, &infinity, (&ode, &unknown), &mut notes)?,
+    };
+    let [left, right] = end_conditions(ends, given.as_ref(), kind)?;
+    if let (Location::At(a), Location::At(b)) = (left.location, right.location) {
+        if a >= b {
+            return Err(usage("the left end must lie below the right end"));
+        }
+    }
+    if left.location == Location::Infinity {
+        return Err(usage("infinity can only be the right end"));
+    }
+    let scale = horizon_scale(&ode, [&left, &right]);
+    Ok(BoundaryProblem { freq, ode, ends: [left, right], zeros, real_points, scale, notes, kind })
+}
+
+/// The real roots of each exact denominator factor, with the factor they
+/// come from and their nature (sorted), and every root (real or not).
+fn real_singular_points(field: &Field, q: &RatFunc, ode: &NumOde, values: &[GRat], freq: usize) -> Result<(Vec<RealPoint>, Vec<Complex64>)> {
     let names = field.names();
-    // Real roots of each exact denominator factor, with the factor they come from.
     let mut real_points: Vec<RealPoint> = Vec::new();
     let mut zeros: Vec<Complex64> = Vec::new();
     for (f, _) in q.den_factors() {
@@ -284,114 +307,150 @@ pub fn try_problem(
     real_points.sort_by(|a, b| a.z.total_cmp(&b.z));
     for p in real_points.iter_mut() {
         let w = Complex64::new(0.7, 0.0);
-        if exponents_at(&ode, p.z, w).is_none() {
+        if exponents_at(ode, p.z, w).is_none() {
             return Err(usage(format!("z = {} is an irregular singular point: an end there is not supported yet", p.z)));
         }
-        if is_horizon(&ode, p.z) {
+        if is_horizon(ode, p.z) {
             p.nature = Nature::Horizon;
         }
     }
-    // Infinity: deg C − deg A decides (C/A ~ z^d).
+    Ok((real_points, zeros))
+}
+
+/// Infinity as an end: its nature when supported, and d = deg C − deg A
+/// (C/A ~ z^d), which decides it.
+struct Infinity {
+    nature: Option<Nature>,
+    d: isize,
+}
+
+impl Infinity {
+    /// Its Poincaré rank, for messages.
+    fn rank(&self) -> f64 {
+        self.d as f64 / 2.0 + 1.0
+    }
+}
+
+fn infinity_of(ode: &NumOde) -> Infinity {
     let (da, dc) = (z_degree(&ode.a).unwrap_or(0) as isize, z_degree(&ode.c).map(|d| d as isize).unwrap_or(isize::MIN / 2));
     let d = dc - da;
-    let inf_nature = if d <= -2 {
+    let nature = if d <= -2 {
         Some(Nature::Regular)
     } else if d == 0 {
         Some(Nature::IrregularRank1)
     } else {
         None
     };
-    let mut notes = Vec::new();
-    let describe = |p: &RealPoint| -> String {
-        let what = match p.nature {
-            Nature::Horizon => "horizon",
-            Nature::Regular => "regular boundary",
-            Nature::IrregularRank1 => "irregular point",
-        };
-        if p.factor.1 == 1 {
-            format!("{what}, the root of {}", p.factor.0)
-        } else {
-            format!("{what}, a real root of {} (degree {}), located numerically", p.factor.0, p.factor.1)
-        }
+    Infinity { nature, d }
+}
+
+/// An end found before its condition is chosen: where, what, and how it was found.
+#[derive(Clone)]
+struct FoundEnd {
+    location: Location,
+    nature: Nature,
+    found: String,
+}
+
+/// A real singular point as an end's description.
+fn describe(p: &RealPoint) -> String {
+    let what = match p.nature {
+        Nature::Horizon => "horizon",
+        Nature::Regular => "regular boundary",
+        Nature::IrregularRank1 => "irregular point",
     };
+    if p.factor.1 == 1 {
+        format!("{what}, the root of {}", p.factor.0)
+    } else {
+        format!("{what}, a real root of {} (degree {}), located numerically", p.factor.0, p.factor.1)
+    }
+}
+
+/// The ends as given, each matched to a singular point.
+fn given_ends(given: &[(Location, Option<Condition>); 2], real_points: &[RealPoint], infinity: &Infinity) -> Result<[FoundEnd; 2]> {
     let find_point = |z: f64| real_points.iter().find(|p| (p.z - z).abs() <= 1e-9 * z.abs().max(1.0));
-    let ends: [(Location, Nature, String); 2] = match given {
-        Some(g) => {
-            let mut out = Vec::new();
-            for (loc, _) in g.iter() {
-                match loc {
-                    Location::Infinity => {
-                        let n = inf_nature
-                            .ok_or_else(|| usage(format!("infinity has Poincaré rank {} here: not supported as an end yet", d as f64 / 2.0 + 1.0)))?;
-                        out.push((Location::Infinity, n, "infinity, given".to_string()));
-                    }
-                    Location::At(z) => {
-                        let p = find_point(*z).ok_or_else(|| usage(format!("z = {z} is not a real singular point of Q at these values")))?;
-                        out.push((Location::At(p.z), p.nature, format!("{}, given", describe(p))));
-                    }
-                }
+    let mut out = Vec::new();
+    for (loc, _) in given.iter() {
+        match loc {
+            Location::Infinity => {
+                let n = infinity
+                    .nature
+                    .ok_or_else(|| usage(format!("infinity has Poincaré rank {} here: not supported as an end yet", infinity.rank())))?;
+                out.push(FoundEnd { location: Location::Infinity, nature: n, found: "infinity, given".to_string() });
             }
-            [out[0].clone(), out[1].clone()]
+            Location::At(z) => {
+                let p = find_point(*z).ok_or_else(|| usage(format!("z = {z} is not a real singular point of Q at these values")))?;
+                out.push(FoundEnd { location: Location::At(p.z), nature: p.nature, found: format!("{}, given", describe(p)) });
+            }
         }
-        None => {
-            let horizons: Vec<&RealPoint> = real_points.iter().filter(|p| p.nature == Nature::Horizon).collect();
-            let Some(outer) = horizons.last() else {
-                return Err(usage("no horizon: the equation has no real singular point whose exponents depend on the spectral parameter (give the ends with --ends)"));
-            };
-            let inf = inf_nature.ok_or_else(|| {
-                usage(format!("infinity has Poincaré rank {}: not supported as an end yet (give the ends with --ends)", d as f64 / 2.0 + 1.0))
-            })?;
-            let inner = real_points.iter().rev().find(|p| p.z < outer.z - 1e-9 * outer.z.abs().max(1.0));
-            // Beyond a cosmological horizon the potential turns negative; inside
-            // it (between it and the next singular point inward) it is positive.
-            let beyond_is_static = match (inf, inner) {
-                (Nature::IrregularRank1, _) | (_, None) => true,
-                (_, Some(inner)) => {
-                    // Two horizons next to each other with a regular infinity beyond:
-                    // a black-hole and a cosmological horizon (de Sitter). Otherwise the
-                    // potential decides: positive inside and negative beyond the outer
-                    // horizon (as written, or in normal form) marks a cosmological one.
-                    let gap = outer.z - inner.z;
-                    let says = |eq: &NumOde| potential_at(eq, inner.z + 0.5 * gap) > 0.0 && potential_at(eq, outer.z + 0.5 * gap) < 0.0;
-                    let interior = inner.nature == Nature::Horizon || says(&unknown) || says(&ode);
-                    if inner.nature == Nature::Horizon {
-                        notes.push(
-                            "two horizons with a regular infinity beyond: taken as a black-hole and a cosmological horizon (for the inner and outer horizons of an anti-de Sitter black hole name the ends with --ends)"
-                                .to_string(),
-                        );
-                    }
-                    !interior
-                }
-            };
-            if beyond_is_static {
-                notes.push("the domain runs from the outermost horizon to infinity".to_string());
-                [
-                    (Location::At(outer.z), Nature::Horizon, describe(outer)),
-                    (
-                        Location::Infinity,
-                        inf,
-                        match inf {
-                            Nature::IrregularRank1 => "irregular point of rank 1".to_string(),
-                            _ => "regular boundary".to_string(),
-                        },
-                    ),
-                ]
-            } else {
-                // The outermost horizon is cosmological: the domain lies inside it.
-                let Some(inner) = inner else { return Err(Error::new(ErrorKind::Internal, "no inner end")) };
-                notes.push(
-                    "the potential is negative beyond the outermost horizon: it is a cosmological horizon, and the domain lies inside it".to_string(),
-                );
-                [(Location::At(inner.z), inner.nature, describe(inner)), (Location::At(outer.z), Nature::Horizon, describe(outer))]
+    }
+    Ok([out[0].clone(), out[1].clone()])
+}
+
+/// The ends a physicist means when none are given: from the outermost
+/// horizon to infinity, or, when that horizon is cosmological, from the
+/// next singular point inward to it (`eqs`: the normal form and the
+/// equation as written, whose potentials decide).
+fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &NumOde), notes: &mut Vec<String>) -> Result<[FoundEnd; 2]> {
+    let (ode, unknown) = eqs;
+    let horizons: Vec<&RealPoint> = real_points.iter().filter(|p| p.nature == Nature::Horizon).collect();
+    let Some(outer) = horizons.last() else {
+        return Err(usage(format!(
+            "no horizon: the equation has no real singular point whose exponents depend on the spectral parameter (give the ends with {opt_ends})",
+            opt_ends = RequestInput::Ends.mention()
+        )));
+    };
+    let inf = infinity.nature.ok_or_else(|| {
+        usage(format!(
+            "infinity has Poincaré rank {}: not supported as an end yet (give the ends with {opt_ends})",
+            infinity.rank(),
+            opt_ends = RequestInput::Ends.mention()
+        ))
+    })?;
+    let inner = real_points.iter().rev().find(|p| p.z < outer.z - 1e-9 * outer.z.abs().max(1.0));
+    // Beyond a cosmological horizon the potential turns negative; inside
+    // it (between it and the next singular point inward) it is positive.
+    let beyond_is_static = match (inf, inner) {
+        (Nature::IrregularRank1, _) | (_, None) => true,
+        (_, Some(inner)) => {
+            // Two horizons next to each other with a regular infinity beyond:
+            // a black-hole and a cosmological horizon (de Sitter). Otherwise the
+            // potential decides: positive inside and negative beyond the outer
+            // horizon (as written, or in normal form) marks a cosmological one.
+            let gap = outer.z - inner.z;
+            let says = |eq: &NumOde| potential_at(eq, inner.z + 0.5 * gap) > 0.0 && potential_at(eq, outer.z + 0.5 * gap) < 0.0;
+            let interior = inner.nature == Nature::Horizon || says(unknown) || says(ode);
+            if inner.nature == Nature::Horizon {
+                notes.push(format!("two horizons with a regular infinity beyond: taken as a black-hole and a cosmological horizon (for the inner and outer horizons of an anti-de Sitter black hole name the ends with {opt_ends})", opt_ends = RequestInput::Ends.mention()));
             }
+            !interior
         }
     };
+    let at = |p: &RealPoint| FoundEnd { location: Location::At(p.z), nature: p.nature, found: describe(p) };
+    if beyond_is_static {
+        notes.push("the domain runs from the outermost horizon to infinity".to_string());
+        let found = match inf {
+            Nature::IrregularRank1 => "irregular point of rank 1".to_string(),
+            _ => "regular boundary".to_string(),
+        };
+        Ok([FoundEnd { nature: Nature::Horizon, ..at(outer) }, FoundEnd { location: Location::Infinity, nature: inf, found }])
+    } else {
+        // The outermost horizon is cosmological: the domain lies inside it.
+        let Some(inner) = inner else { return Err(Error::new(ErrorKind::Internal, "no inner end")) };
+        notes.push("the potential is negative beyond the outermost horizon: it is a cosmological horizon, and the domain lies inside it".to_string());
+        Ok([at(inner), FoundEnd { nature: Nature::Horizon, ..at(outer) }])
+    }
+}
+
+/// Each end with its condition: the one given (when it fits the end), else
+/// the problem's natural one.
+fn end_conditions(ends: [FoundEnd; 2], given: Option<&[(Location, Option<Condition>); 2]>, kind: SpectrumKind) -> Result<[End; 2]> {
     let mut out: Vec<End> = Vec::new();
-    for (i, (loc, nature, found)) in ends.iter().enumerate() {
-        let wanted = given.as_ref().and_then(|g| g[i].1);
+    for (i, FoundEnd { location, nature, found }) in ends.into_iter().enumerate() {
+        let wanted = given.and_then(|g| g[i].1);
         let condition = match wanted {
             Some(c) => {
-                if !c.fits(*nature) {
+                if !c.fits(nature) {
                     return Err(usage(format!("the condition '{}' does not fit {found}", c.name())));
                 }
                 c
@@ -405,29 +464,24 @@ pub fn try_problem(
                 },
             },
         };
-        out.push(End { location: *loc, nature: *nature, condition, found: found.clone() });
+        out.push(End { location, nature, condition, found });
     }
-    let [left, right]: [End; 2] = out.try_into().map_err(|_| Error::new(ErrorKind::Internal, "two ends expected"))?;
-    if let (Location::At(a), Location::At(b)) = (left.location, right.location) {
-        if a >= b {
-            return Err(usage("the left end must lie below the right end"));
-        }
-    }
-    if left.location == Location::Infinity {
-        return Err(usage("infinity can only be the right end"));
-    }
-    let scale = [&left, &right]
-        .iter()
+    out.try_into().map_err(|_| Error::new(ErrorKind::Internal, "two ends expected"))
+}
+
+/// The length scale 1/(2|κ|) of the first horizon end (κ its exponent's
+/// slope in ω), 1 without one.
+fn horizon_scale(ode: &NumOde, ends: [&End; 2]) -> f64 {
+    ends.iter()
         .find_map(|e| match (e.location, e.nature) {
             (Location::At(z), Nature::Horizon) => {
-                let (_, s) = exponent_slopes(&ode, z, Complex64::new(0.5, 0.0))?;
+                let (_, s) = exponent_slopes(ode, z, Complex64::new(0.5, 0.0))?;
                 let k = 1.0 / (2.0 * s[0].norm());
                 k.is_finite().then_some(k)
             }
             _ => None,
         })
-        .unwrap_or(1.0);
-    Ok(BoundaryProblem { freq, ode, ends: [left, right], zeros, real_points, scale, notes, kind })
+        .unwrap_or(1.0)
 }
 
 /// V = ω² − q/h² at a real point x of y'' + p y' + q y = 0 (h² the

@@ -21,6 +21,7 @@ use super::cf::{CfRoot, StopReason};
 use super::coupled::{coupled_spectrum, CoupledMode, Coupling};
 use super::spectrum::{exact_double, Mode, ModeMethod, Setup, SpectrumOptions};
 use crate::algebra::{GRat, Int, Rat};
+use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::Reduction;
 use crate::series::Recurrence;
@@ -99,7 +100,11 @@ pub struct Path {
 pub fn coupling_parameter(c: &Coupling) -> Result<usize> {
     let angular_links: Vec<_> = c.links.iter().filter(|l| l.angular).collect();
     if angular_links.is_empty() {
-        return Err(usage("no --link sets a parameter of the angular equation: there is no coupling to switch off; give --guess"));
+        return Err(usage(format!(
+            "no {opt_link} sets a parameter of the angular equation: there is no coupling to switch off; give {opt_guess}",
+            opt_link = RequestInput::Link(0).mention(),
+            opt_guess = RequestInput::Guess.mention()
+        )));
     }
     let candidates: Vec<usize> = (1..c.names.len())
         .filter(|i| *i != c.freq && c.fixed[*i].is_some())
@@ -110,8 +115,9 @@ pub fn coupling_parameter(c: &Coupling) -> Result<usize> {
     zero_first.or(candidates.first().copied()).ok_or_else(|| {
         let targets: Vec<&str> = angular_links.iter().map(|l| l.target.as_str()).collect();
         usage(format!(
-            "no parameter switches the coupling off: none with a value makes every angular link ({}) vanish when it is 0; give --guess",
-            targets.join(", ")
+            "no parameter switches the coupling off: none with a value makes every angular link ({}) vanish when it is 0; give {opt_guess}",
+            targets.join(", "),
+            opt_guess = RequestInput::Guess.mention()
         ))
     })
 }
@@ -407,7 +413,12 @@ fn unreached(
 ) -> Result<(Setup, Vec<CoupledMode>, Path)> {
     let o = at_t(coupling, opts, p, radial, target);
     let (_, (_, setup)) = super::coupled::radial_recurrence(red, coupling, &o)?;
-    let why = format!("no seed: the continuation in {} from 0 {}; give --guess", path.parameter, path.stop.text());
+    let why = format!(
+        "no seed: the continuation in {} from 0 {}; give {opt_guess}",
+        path.parameter,
+        path.stop.text(),
+        opt_guess = RequestInput::Guess.mention()
+    );
     let modes = (opts.overtones.0..=opts.overtones.1)
         .map(|n| {
             let root = CfRoot::failed(Complex64::new(f64::NAN, f64::NAN), n as usize, StopReason::Rejected(why.clone()));

@@ -23,6 +23,7 @@ use crate::algebra::{Field, GRat, RatFunc};
 use crate::analysis::canonical::Choices;
 use crate::analysis::labels::{boundary_choices, Boundary};
 use crate::analysis::{analyse, Kind, Place};
+use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::Reduction;
 use crate::series::Recurrence;
@@ -156,9 +157,11 @@ pub fn try_angular(red: &Reduction, known: &[Option<GRat>], linked: &[usize], in
         many => {
             let names: Vec<&str> = many.iter().map(|i| k.names()[*i].as_str()).collect();
             return Err(usage(format!(
-                "the angular equation has {} parameters without a value ({}): give all but its eigenvalue with --at or --link",
+                "the angular equation has {} parameters without a value ({}): give all but its eigenvalue with {opt_at} or {opt_link}",
                 many.len(),
-                names.join(", ")
+                names.join(", "),
+                opt_at = RequestInput::At.mention(),
+                opt_link = RequestInput::Link(0).mention()
             )));
         }
     };
@@ -173,12 +176,7 @@ pub fn try_angular(red: &Reduction, known: &[Option<GRat>], linked: &[usize], in
     for (j, i) in keep.iter().enumerate() {
         values[*i] = GRat::real(crate::algebra::Rat::new((j as i64 + 3).into(), 7.into()).expect("nonzero"));
     }
-    let text = |p: &crate::analysis::SingularPoint| match &p.place {
-        Place::Point { at, .. } => ratfunc_text(at, k.names(), Style::Text),
-        Place::Roots(_) => "θ".to_string(),
-        Place::Infinity => "∞".to_string(),
-    };
-    let crate::analysis::labels::ExponentPicks { picks, said } = boundary_choices(k, &an, None, Boundary::Bound, &values, text)?;
+    let crate::analysis::labels::ExponentPicks { picks, said } = boundary_choices(k, &an, None, Boundary::Bound, &values)?;
     let vals = crate::analysis::numeric::Values::new(values.clone());
     let mut ends: Vec<(f64, String)> = an
         .points
@@ -298,7 +296,11 @@ impl<'a> AngularTrack<'a> {
             Some(s) => s,
             None => {
                 let Some((seed, _)) = &ang.seed else {
-                    let why = format!("no first value of the angular eigenvalue {}: give --angular-guess", ang.eigen_name);
+                    let why = format!(
+                        "no first value of the angular eigenvalue {}: give {opt_angular_guess}",
+                        ang.eigen_name,
+                        opt_angular_guess = RequestInput::AngularGuess.mention()
+                    );
                     return CfRoot::failed(Complex64::new(f64::NAN, f64::NAN), ang.index, super::cf::StopReason::Rejected(why));
                 };
                 let mut zero = targets.clone();
@@ -457,10 +459,13 @@ pub fn try_coupling(
     let joint_of: Vec<usize> = an.iter().map(|n| names.iter().position(|x| x == n).unwrap_or(0)).collect();
     let mut ang = try_angular(angular, &known, &linked, index, joint_of)?;
     if let Some(g) = guess {
-        ang.seed = Some((g, "--angular-guess".into()));
+        ang.seed = Some((g, RequestInput::AngularGuess.mention()));
     }
     if !links.iter().any(|l| !l.angular) {
-        return Err(usage("no --link sets a parameter of the radial equation: the separation constant must be linked"));
+        return Err(usage(format!(
+            "no {opt_link} sets a parameter of the radial equation: the separation constant must be linked",
+            opt_link = RequestInput::Link(0).mention()
+        )));
     }
     Ok(Coupling { names, links: links.to_vec(), angular: ang, fixed, freq })
 }

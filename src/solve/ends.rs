@@ -17,6 +17,7 @@
 
 use super::boundary::{BoundaryProblem, Condition, Location, Nature, SpectrumKind};
 use super::integrate::{self, Asymptote, Coeffs, Far, IntRoot, Norm, Params};
+use crate::error::RequestInput;
 use num_complex::Complex64;
 
 const ZERO: Complex64 = Complex64::new(0.0, 0.0);
@@ -416,7 +417,11 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
                 Some((r, s)) => out.push(EndMode { n, root: r.clone(), seed: s.clone() }),
                 None => out.push(unfound(
                     n,
-                    format!("only {} distinct real eigenvalues were found in [−{half:.3e}, {half:.3e}]: give --guess", found.len()),
+                    format!(
+                        "only {} distinct real eigenvalues were found in [−{half:.3e}, {half:.3e}]: give {opt_guess}",
+                        found.len(),
+                        opt_guess = RequestInput::Guess.mention()
+                    ),
                 )),
             }
         }
@@ -425,7 +430,7 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
     if quasi_bound && guess.is_none() {
         for n in lo..=hi {
             let Some(seed) = hydrogenic_seed(bp, n) else {
-                out.push(unfound(n, "no hydrogen-like estimate at infinity: give --guess".into()));
+                out.push(unfound(n, format!("no hydrogen-like estimate at infinity: give {opt_guess}", opt_guess = RequestInput::Guess.mention())));
                 continue;
             };
             let r = find_root(bp, seed.omega, tol);
@@ -480,7 +485,14 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
     for n in lo..=hi {
         match found.get(n as usize) {
             Some((r, s)) => out.push(EndMode { n, root: r.clone(), seed: s.clone() }),
-            None => out.push(unfound(n, format!("only {} distinct modes were found in the scanned window: give --guess", found.len()))),
+            None => out.push(unfound(
+                n,
+                format!(
+                    "only {} distinct modes were found in the scanned window: give {opt_guess}",
+                    found.len(),
+                    opt_guess = RequestInput::Guess.mention()
+                ),
+            )),
         }
     }
     out

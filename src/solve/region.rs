@@ -20,6 +20,7 @@ use super::integrate::IntRoot;
 use super::plot::PlaneMode;
 use super::request::{region_setup, SpectrumRequest, CONFIRMED};
 use super::spectrum::{LadderEnd, Mode, SpectrumOptions};
+use crate::error::RequestInput;
 use crate::error::Result;
 use crate::ode::Reduction;
 use num_complex::Complex64;
@@ -412,7 +413,7 @@ pub fn region_modes(red: &Reduction, req: &SpectrumRequest, region: Region, grid
         }
         methods.push(words);
         if ladder.is_none() && part.im.0 < 0.0 {
-            limits.push("in double precision the discretised problem is very non-normal and only the least damped modes persist on both grids: a region reaching deep into the lower half-plane may hold further, more damped modes that are not listed (ask for them with --overtones)".to_string());
+            limits.push(format!("in double precision the discretised problem is very non-normal and only the least damped modes persist on both grids: a region reaching deep into the lower half-plane may hold further, more damped modes that are not listed (ask for them with {})", RequestInput::Overtones.mention()));
         }
     }
     // Partners first, each mirror right after its partner.

@@ -23,15 +23,17 @@ use super::shoot::BoundCheck;
 use super::spectrum::{Mode, ModeMethod, Setup, SpectrumOptions};
 use super::wkb::{BarrierEstimate, EikonalLimit};
 use crate::algebra::GRat;
+use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::Reduction;
 use crate::syntax::Span;
 use num_complex::Complex64;
 
-/// Which spectrum.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+/// Which spectrum (also the command line's `--boundary` values).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
 pub enum Problem {
     /// Quasinormal modes: the wave leaves the domain through both ends.
+    #[value(name = "qnm")]
     Quasinormal,
     /// Bound states: normalisable at both ends (real eigenvalues).
     Bound,
@@ -75,8 +77,8 @@ impl Problem {
     }
 }
 
-/// Which method.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+/// Which method (also the command line's `--method` values).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
 pub enum Method {
     /// The continued fraction when the recurrence allows it, else direct integration; collocation for bound states.
     Auto,
@@ -241,7 +243,7 @@ pub struct EndsReport {
     /// Why this route was taken, when another was tried first.
     pub note: Option<String>,
     /// The numbering caveat when the modes come from a scan of the plane.
-    pub numbering: Option<&'static str>,
+    pub numbering: Option<String>,
     /// Which spectrum: quasinormal modes, quasi-bound states (decaying at the far end) or real eigenvalues.
     pub spectrum: Problem,
     /// The second method per mode (None where the mode did not converge or no second method ran).
@@ -387,8 +389,8 @@ fn usage(msg: impl Into<String>) -> Error {
     Error::new(ErrorKind::Usage, msg)
 }
 
-fn method_error(msg: &str) -> Error {
-    usage(msg).in_option("--method")
+fn method_error(msg: impl Into<String>) -> Error {
+    usage(msg).in_option(RequestInput::Method)
 }
 
 /// The spectral parameter's field index and name: named, else the one
@@ -404,10 +406,10 @@ fn frequency(red: &Reduction, req: &SpectrumRequest) -> Result<(usize, String)> 
     };
     let fname = req.frequency.clone().or(inferred).or_else(|| defaults.iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
     let Some(fname) = fname else {
-        return Err(usage("no frequency parameter: name it with --frequency"));
+        return Err(usage(format!("no frequency parameter: name it with {opt_frequency}", opt_frequency = RequestInput::Frequency.mention())));
     };
     let Some(freq) = names.iter().skip(1).position(|n| *n == fname).map(|i| i + 1) else {
-        return Err(usage(format!("'{fname}' is not a parameter of the equation")).in_option("--frequency"));
+        return Err(usage(format!("'{fname}' is not a parameter of the equation")).in_option(RequestInput::Frequency));
     };
     Ok((freq, fname))
 }
@@ -421,7 +423,7 @@ pub fn linked_radial(links: &[Link], names: &[String], solved: &[usize], what: &
             if solved.contains(&i) {
                 return Err(usage(format!("'{}' is {what}: it cannot be linked", l.target))
                     .at(Span::new(0, l.target.len()))
-                    .in_option(&link_option(j)));
+                    .in_option(link_option(j)));
             }
             out.push(i);
         }
@@ -433,19 +435,17 @@ pub fn linked_radial(links: &[Link], names: &[String], solved: &[usize], what: &
 /// (its value goes there); an error when a link sets it.
 pub fn for_angular_only(n: &str, span: Span, links: &[Link], names: &[String], angular_names: Option<&[String]>) -> Result<bool> {
     if links.iter().any(|l| l.target == n) {
-        return Err(usage(format!("'{n}' is set by a --link; it cannot also have a value")).at(span).in_option("--at"));
+        return Err(usage(format!("'{n}' is set by a {opt_link}; it cannot also have a value", opt_link = RequestInput::Link(0).mention()))
+            .at(span)
+            .in_option(RequestInput::At));
     }
     let n = n.to_string();
     Ok(angular_names.is_some_and(|a| a[1..].contains(&n)) && !names[1..].contains(&n))
 }
 
-/// The option name a link's errors are rendered against.
-pub fn link_option(i: usize) -> String {
-    if i == 0 {
-        "--link".to_string()
-    } else {
-        format!("--link #{}", i + 1)
-    }
+/// The input a link's errors are rendered against.
+pub fn link_option(i: usize) -> RequestInput {
+    RequestInput::Link(i)
 }
 
 /// The exact point: a value for every parameter but the frequency (and
@@ -467,19 +467,24 @@ fn point(red: &Reduction, req: &SpectrumRequest, freq: usize) -> Result<Vec<GRat
         }
         match names.iter().skip(1).position(|x| x == n) {
             Some(i) if i + 1 == freq => {
-                return Err(usage(format!("'{n}' is the frequency being solved for; give a seed with --guess instead")).at(*span).in_option("--at"))
+                return Err(usage(format!(
+                    "'{n}' is the frequency being solved for; give a seed with {opt_guess} instead",
+                    opt_guess = RequestInput::Guess.mention()
+                ))
+                .at(*span)
+                .in_option(RequestInput::At))
             }
             Some(i) => {
                 point[i + 1] = v.clone();
                 given[i + 1] = true;
             }
-            None => return Err(usage(format!("'{n}' is not a parameter of the equation")).at(*span).in_option("--at")),
+            None => return Err(usage(format!("'{n}' is not a parameter of the equation")).at(*span).in_option(RequestInput::At)),
         }
     }
     let missing: Vec<&str> = names.iter().zip(&given).filter(|(_, g)| !**g).map(|(n, _)| n.as_str()).collect();
     if !missing.is_empty() {
         // No span: the caller points at the whole of its value list.
-        return Err(usage(format!("no value given for {}", missing.join(", "))).in_option("--at"));
+        return Err(usage(format!("no value given for {}", missing.join(", "))).in_option(RequestInput::At));
     }
     Ok(point)
 }
@@ -679,7 +684,7 @@ fn exact_only(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> 
             Some(Err(p)) => format!("; polynomial solutions: {p}"),
             _ => String::new(),
         };
-        return Err(method_error(&format!("no closed form for this problem: {why}{extra}")));
+        return Err(method_error(format!("no closed form for this problem: {why}{extra}")));
     }
     Ok(SpectrumReport { frequency: fname, var: red.var.clone(), body: Body::Exact, mode_functions: None, closed, problem: req.problem, polynomial })
 }
@@ -744,7 +749,7 @@ impl SpectrumReport {
 /// The numeric route of [`spectrum`].
 fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
     if !(1..=super::wkb::MAX_ORDER).contains(&req.wkb_order) {
-        return Err(usage(format!("the WKB order must lie in 1..={}", super::wkb::MAX_ORDER)).in_option("--wkb-order"));
+        return Err(usage(format!("the WKB order must lie in 1..={}", super::wkb::MAX_ORDER)).in_option(RequestInput::WkbOrder));
     }
     let (freq, fname) = frequency(red, req)?;
     let point = point(red, req, freq)?;
@@ -765,7 +770,10 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
     };
     if let Some(c) = &req.couple {
         if req.problem != Problem::Quasinormal || !matches!(req.method, Method::Auto | Method::Cf) {
-            return Err(method_error("a coupled solve uses the continued fraction (--method auto or cf); direct integration runs as its check"));
+            return Err(method_error(format!(
+                "a coupled solve uses the continued fraction ({opt_method} auto or cf); direct integration runs as its check",
+                opt_method = RequestInput::Method.mention()
+            )));
         }
         let (report, functions) = coupled(red, req, c, &opts)?;
         return Ok(done(Body::Recurrence(report), functions, None));
@@ -783,9 +791,11 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
         return Ok(done(Body::Bound(b), f, None));
     }
     if req.method == Method::Collocation {
-        return Err(method_error(
-            "--method collocation computes bound states (with --boundary bound); quasinormal modes use auto, cf, integrate, wkb or eikonal",
-        ));
+        return Err(method_error(format!(
+            "{opt_method} collocation computes bound states (with {opt_boundary} bound); quasinormal modes use auto, cf, integrate, wkb or eikonal",
+            opt_method = RequestInput::Method.mention(),
+            opt_boundary = RequestInput::Boundary.mention()
+        )));
     }
     let kind = spectrum_kind(req.problem);
     let (problem, classic) = boundary_problem(&red, req, &point, freq);
@@ -831,11 +841,14 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
         }
     }
     if !matches!(req.method, Method::Auto | Method::Integrate) {
-        return Err(method_error("this boundary problem is solved by direct integration between its ends: use --method auto or integrate"));
+        return Err(method_error(format!(
+            "this boundary problem is solved by direct integration between its ends: use {opt_method} auto or integrate",
+            opt_method = RequestInput::Method.mention()
+        )));
     }
     let bp = problem?;
     if kind == SpectrumKind::Bound && bp.ends.iter().any(|e| e.nature == super::boundary::Nature::Horizon) {
-        return Err(usage("a bound-state problem between given ends cannot end at a horizon (its exponents depend on the eigenvalue): use --boundary qnm or quasi-bound").in_option("--ends"));
+        return Err(usage(format!("a bound-state problem between given ends cannot end at a horizon (its exponents depend on the eigenvalue): use {opt_boundary} qnm or quasi-bound", opt_boundary = RequestInput::Boundary.mention())).in_option(RequestInput::Ends));
     }
     let report = between_ends(bp, req, &opts, None);
     let f = ends_functions(req, &report);
@@ -1005,7 +1018,10 @@ fn spectrum_kind(p: Problem) -> SpectrumKind {
 /// parameter and handed to `solve::periodic`.
 fn periodic(red: &Reduction, req: &SpectrumRequest, point: &[GRat], freq: usize) -> Result<(PeriodicReport, Option<ModeFunctions>)> {
     if req.method != Method::Auto {
-        return Err(method_error("a periodic problem is solved by the truncated Laurent series, checked by the monodromy: use --method auto"));
+        return Err(method_error(format!(
+            "a periodic problem is solved by the truncated Laurent series, checked by the monodromy: use {opt_method} auto",
+            opt_method = RequestInput::Method.mention()
+        )));
     }
     if req.ends.is_some() || req.guess.is_some() {
         return Err(usage(
@@ -1056,8 +1072,13 @@ pub struct RegionSetup {
 /// plane (quasinormal modes and quasi-bound states; no coupled solve).
 pub fn region_setup(red: &Reduction, req: &SpectrumRequest) -> Result<RegionSetup> {
     if req.couple.is_some() || req.problem == Problem::Bound {
-        return Err(usage("--region searches quasinormal modes and quasi-bound states of one equation (no --couple, no --boundary bound)")
-            .in_option("--region"));
+        return Err(usage(format!(
+            "{opt_region} searches quasinormal modes and quasi-bound states of one equation (no {opt_couple}, no {opt_boundary} bound)",
+            opt_region = RequestInput::Region.mention(),
+            opt_couple = RequestInput::Couple.mention(),
+            opt_boundary = RequestInput::Boundary.mention()
+        ))
+        .in_option(RequestInput::Region));
     }
     let (freq, frequency) = frequency(red, req)?;
     let point = point(red, req, freq)?;
@@ -1072,10 +1093,15 @@ pub fn region_setup(red: &Reduction, req: &SpectrumRequest) -> Result<RegionSetu
 fn eikonal_reduction(req: &SpectrumRequest, red: &Reduction, point: &[GRat], freq: usize) -> Result<Option<(String, usize, Reduction)>> {
     let Some(name) = &req.eikonal_param else { return Ok(None) };
     if req.method != Method::Eikonal {
-        return Err(usage("--eikonal-param belongs with --method eikonal").in_option("--eikonal-param"));
+        return Err(usage(format!(
+            "{opt_eikonal_param} belongs with {opt_method} eikonal",
+            opt_eikonal_param = RequestInput::EikonalParam.mention(),
+            opt_method = RequestInput::Method.mention()
+        ))
+        .in_option(RequestInput::EikonalParam));
     }
     let Some(i) = red.field.names().iter().skip(1).position(|n| n == name).map(|i| i + 1).filter(|i| *i != freq) else {
-        return Err(usage(format!("'{name}' is not a parameter of the equation other than the frequency")).in_option("--eikonal-param"));
+        return Err(usage(format!("'{name}' is not a parameter of the equation other than the frequency")).in_option(RequestInput::EikonalParam));
     };
     Ok(Some((name.clone(), i, super::spectrum::substitute_keeping(red, point, &[freq, i])?)))
 }
@@ -1092,9 +1118,9 @@ fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptio
     };
     let numbering = match spectrum {
         _ if opts.guess.is_some() => None,
-        Problem::Quasinormal if from_spectral => Some("no --guess: the modes are the global spectral method's eigenvalues in the lower right quadrant, numbered by |Im ω|, each polished by direct integration"),
-        Problem::Bound | Problem::Periodic => Some("no --guess: the eigenvalues are the distinct real roots reached from a scan of the real axis, numbered upward; an eigenvalue below the scanned range would shift the numbering"),
-        Problem::Quasinormal => Some("no --guess: the modes are the distinct roots reached from a scan of the complex plane, numbered by |Im ω|; a mode the scan missed would shift the numbering"),
+        Problem::Quasinormal if from_spectral => Some(format!("no {opt_guess}: the modes are the global spectral method's eigenvalues in the lower right quadrant, numbered by |Im ω|, each polished by direct integration", opt_guess = RequestInput::Guess.mention())),
+        Problem::Bound | Problem::Periodic => Some(format!("no {opt_guess}: the eigenvalues are the distinct real roots reached from a scan of the real axis, numbered upward; an eigenvalue below the scanned range would shift the numbering", opt_guess = RequestInput::Guess.mention())),
+        Problem::Quasinormal => Some(format!("no {opt_guess}: the modes are the distinct roots reached from a scan of the complex plane, numbered by |Im ω|; a mode the scan missed would shift the numbering", opt_guess = RequestInput::Guess.mention())),
         Problem::QuasiBound => None,
     };
     let (checks, check_note) = spectral_checks(&bp, &modes);
@@ -1268,7 +1294,7 @@ fn recurrence_route(
             Some((name, i, ered)) => {
                 let (v, h) = super::spectrum::barrier_potential(&ered, opts)?;
                 let e = super::wkb::try_eikonal_limit(&ered.field, &v, &h, &opts.values, Some(opts.freq), (setup0.horizon_value, f64::INFINITY), i)
-                    .map_err(|e| e.in_option("--eikonal-param"))?;
+                    .map_err(|e| e.in_option(RequestInput::EikonalParam))?;
                 Some((name, e, opts.values[i].to_f64().0))
             }
             None => None,
@@ -1381,7 +1407,7 @@ fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) 
     use super::shoot::{refine, try_bound_ode};
     if !matches!(req.method, Method::Auto | Method::Collocation) {
         return Err(method_error(
-            "--boundary bound computes bound states by collocation (--method auto or collocation); shooting runs as the check of every eigenvalue",
+            format!("{opt_boundary} bound computes bound states by collocation ({opt_method} auto or collocation); shooting runs as the check of every eigenvalue", opt_boundary = RequestInput::Boundary.mention(), opt_method = RequestInput::Method.mention()),
         ));
     }
     let k = &red.field;
@@ -1482,8 +1508,8 @@ fn coupled(red: &Reduction, req: &SpectrumRequest, c: &CoupleRequest, opts: &Spe
 }
 
 /// The marker of an error in the angular equation's own text: the caller
-/// renders errors whose origin is this option against that text.
-pub const ANGULAR_ORIGIN: &str = "--couple";
+/// renders errors whose origin is this input against that text.
+pub const ANGULAR_ORIGIN: RequestInput = RequestInput::Couple;
 
 /// Marks an error of the angular equation (its span points into that equation's text).
 fn in_angular(e: Error) -> Error {

@@ -280,30 +280,15 @@ fn mark_events(modes: &mut PointModes, prev: Option<&[Complex64]>) {
     }
 }
 
-/// Solves the points `range` of `walk` and hands each to `sink` on the
-/// calling thread, in walk order, as soon as it is final. `make` builds a
-/// solver once per worker thread (exact fields are not shared between
-/// threads; as many workers as rayon's current thread count). `done` is
-/// the continuation state of the first points of the range, already
-/// solved by an earlier run: the survey goes on after them exactly as an
-/// uninterrupted run would.
-pub fn survey<'a>(
-    make: &(dyn Fn() -> Result<PointSolver<'a>> + Sync),
-    base: &SpectrumOptions,
-    walk: &Walk,
-    range: std::ops::Range<usize>,
-    check: bool,
-    done: &[Trail],
-    sink: &mut dyn FnMut(ScanPoint) -> Flow,
-) -> SurveyEnd {
+/// The chunks of `range` still to solve after `resume` (`trail`: the
+/// continuation state of the points rs..resume already solved). Chunks sit
+/// at multiples of the chunk length in the whole walk, cut at the range's
+/// ends, so that a shard continues its points as the whole run does. Each
+/// pass of the walk starts afresh too: its first point does not continue
+/// the previous pass's last.
+fn plan_tasks(walk: &Walk, range: std::ops::Range<usize>, resume: usize, trail: &[Trail]) -> Vec<Task> {
     let rs = range.start;
-    let resume = (rs + done.len()).min(range.end);
     let len = chunk_len(walk.len());
-    let mut trail: Vec<Trail> = done[..resume - rs].to_vec();
-    // Chunks at multiples of `len` in the whole walk, cut at the range's
-    // ends, so that a shard continues its points as the whole run does.
-    // Each pass of the walk starts afresh too: its first point does not
-    // continue the previous pass's last.
     let pass = walk.pass.max(1);
     let rooted = |i: usize| i == rs || i.is_multiple_of(pass);
     let mut tasks = Vec::new();
@@ -326,6 +311,32 @@ pub fn survey<'a>(
         }
         cs = ce;
     }
+    tasks
+}
+
+/// Solves the points `range` of `walk` and hands each to `sink` on the
+/// calling thread, in walk order, as soon as it is final. `make` builds a
+/// solver once per worker thread (exact fields are not shared between
+/// threads; as many workers as rayon's current thread count). `done` is
+/// the continuation state of the first points of the range, already
+/// solved by an earlier run: the survey goes on after them exactly as an
+/// uninterrupted run would.
+pub fn survey<'a>(
+    make: &(dyn Fn() -> Result<PointSolver<'a>> + Sync),
+    base: &SpectrumOptions,
+    walk: &Walk,
+    range: std::ops::Range<usize>,
+    check: bool,
+    done: &[Trail],
+    sink: &mut dyn FnMut(ScanPoint) -> Flow,
+) -> SurveyEnd {
+    let rs = range.start;
+    let resume = (rs + done.len()).min(range.end);
+    let trail: Vec<Trail> = done[..resume - rs].to_vec();
+    let pass = walk.pass.max(1);
+    let rooted = |i: usize| i == rs || i.is_multiple_of(pass);
+    let tasks = plan_tasks(walk, range.clone(), resume, &trail);
+    let mut trail = trail;
     let stop = AtomicBool::new(false);
     let dropped: Vec<AtomicBool> = tasks.iter().map(|_| AtomicBool::new(false)).collect();
     let next = AtomicUsize::new(0);

@@ -42,6 +42,7 @@ use super::{NPoly, NumOde};
 use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::{GRat, Rat, RatFunc};
 use crate::analysis::Place;
+use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::Reduction;
 use num_complex::Complex64;
@@ -478,12 +479,14 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
     let usage = |m: String| Error::new(ErrorKind::Usage, m);
     let names = red.field.names().to_vec();
     let fname = req.frequency.clone().or_else(|| ["omega", "ω", "w"].iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
-    let Some(fname) = fname else { return Err(usage("no frequency parameter: name it with --frequency".into())) };
+    let Some(fname) = fname else {
+        return Err(usage(format!("no frequency parameter: name it with {opt_frequency}", opt_frequency = RequestInput::Frequency.mention())));
+    };
     let Some(freq) = names.iter().skip(1).position(|n| *n == fname).map(|i| i + 1) else {
-        return Err(usage(format!("'{fname}' is not a parameter")).in_option("--frequency"));
+        return Err(usage(format!("'{fname}' is not a parameter")).in_option(RequestInput::Frequency));
     };
     if !(1..=super::wkb::MAX_ORDER).contains(&req.wkb_order) {
-        return Err(usage(format!("the WKB order must lie in 1..={}", super::wkb::MAX_ORDER)).in_option("--wkb-order"));
+        return Err(usage(format!("the WKB order must lie in 1..={}", super::wkb::MAX_ORDER)).in_option(RequestInput::WkbOrder));
     }
     // The summed multipole's index among the radial parameters; with a
     // coupled angular equation it need not be one (it counts the angular
@@ -492,14 +495,14 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
         None => None,
         Some((name, l0, l1)) => {
             if !(0 <= *l0 && l0 <= l1 && l1 - l0 <= 200) {
-                return Err(usage("expected a multipole range A..B with 0 ≤ A ≤ B (at most 200 terms)".into()).in_option("--sum-l"));
+                return Err(usage("expected a multipole range A..B with 0 ≤ A ≤ B (at most 200 terms)".into()).in_option(RequestInput::SumL));
             }
             let li = names.iter().skip(1).position(|n| n == name).map(|i| i + 1);
             if li == Some(freq) {
-                return Err(usage(format!("'{name}' is the frequency: it cannot be summed")).in_option("--multipole"));
+                return Err(usage(format!("'{name}' is the frequency: it cannot be summed")).in_option(RequestInput::Multipole));
             }
             if li.is_none() && req.couple.is_none() {
-                return Err(usage(format!("'{name}' is not a parameter of the equation other than the frequency")).in_option("--multipole"));
+                return Err(usage(format!("'{name}' is not a parameter of the equation other than the frequency")).in_option(RequestInput::Multipole));
             }
             Some((li, *l0, *l1))
         }
@@ -522,19 +525,27 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
             continue;
         }
         match names.iter().skip(1).position(|x| x == n).map(|i| i + 1) {
-            Some(i) if i == freq => return Err(usage(format!("'{n}' is the frequency: give it with --omega")).at(*span).in_option("--at")),
-            Some(i) if sum.is_some_and(|s| s.0 == Some(i)) => return Err(usage(format!("'{n}' is summed by --sum-l")).at(*span).in_option("--at")),
+            Some(i) if i == freq => {
+                return Err(usage(format!("'{n}' is the frequency: give it with {opt_omega}", opt_omega = RequestInput::Omega.mention()))
+                    .at(*span)
+                    .in_option(RequestInput::At))
+            }
+            Some(i) if sum.is_some_and(|s| s.0 == Some(i)) => {
+                return Err(usage(format!("'{n}' is summed by {opt_sum_l}", opt_sum_l = RequestInput::SumL.mention()))
+                    .at(*span)
+                    .in_option(RequestInput::At))
+            }
             Some(i) => {
                 point[i] = v.clone();
                 given[i] = true;
             }
-            None => return Err(usage(format!("'{n}' is not a parameter of the equation")).at(*span).in_option("--at")),
+            None => return Err(usage(format!("'{n}' is not a parameter of the equation")).at(*span).in_option(RequestInput::At)),
         }
     }
     let missing: Vec<&str> = names.iter().zip(&given).filter(|(_, g)| !**g).map(|(n, _)| n.as_str()).collect();
     if !missing.is_empty() {
         // No span: the caller points at the whole of its value list.
-        return Err(usage(format!("no value given for {}", missing.join(", "))).in_option("--at"));
+        return Err(usage(format!("no value given for {}", missing.join(", "))).in_option(RequestInput::At));
     }
     let ls: Vec<i64> = match sum {
         Some((_, l0, l1)) => (l0..=l1).collect(),
@@ -558,7 +569,9 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
                 index += (l - l0) as usize;
             }
             if index > 100 {
-                return Err(usage(format!("the multipole {l} needs the angular eigenvalue numbered {index}: at most 100")).in_option("--sum-l"));
+                return Err(
+                    usage(format!("the multipole {l} needs the angular eigenvalue numbered {index}: at most 100")).in_option(RequestInput::SumL)
+                );
             }
             let coupling = super::coupled::try_coupling(&red.field, &c.angular, &c.links, &given_values, freq, index, c.guess)?;
             let mut keep = linked.clone();

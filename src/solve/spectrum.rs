@@ -11,6 +11,7 @@ use crate::algebra::{GRat, Rat};
 use crate::analysis::canonical::Choices;
 use crate::analysis::labels::{boundary_choices, label, Boundary, ExponentPicks};
 use crate::analysis::{analyse, Kind, Place};
+use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::Reduction;
 use num_complex::Complex64;
@@ -199,12 +200,7 @@ pub fn qnm_choice(red: &Reduction, an: &crate::analysis::Analysis, opts: &Spectr
     let mut point = opts.values.clone();
     point[opts.freq] = GRat::real(Rat::new(1.into(), 2.into()).expect("nonzero"));
     let labels = label(k, an, opts.freq, &point, true)?;
-    let text = |p: &crate::analysis::SingularPoint| match &p.place {
-        Place::Point { at, .. } => ratfunc_text(at, k.names(), Style::Text),
-        Place::Roots(_) => "θ".to_string(),
-        Place::Infinity => "∞".to_string(),
-    };
-    let ExponentPicks { picks, said } = boundary_choices(k, an, Some(&labels), Boundary::Qnm, &point, text)?;
+    let ExponentPicks { picks, said } = boundary_choices(k, an, Some(&labels), Boundary::Qnm, &point)?;
     // The outermost labelled regular point with an exact location.
     let vals = crate::analysis::numeric::Values::new(point.clone());
     let mut best: Option<(f64, String)> = None;
@@ -535,7 +531,7 @@ pub fn ladder(
         } else if let Some(last) = modes.iter().rev().find(|m| m.root.converged) {
             (last.root.omega - Complex64::new(0.0, 2.0 * last.root.omega.im.abs().max(0.05)), "below the previous overtone".to_string())
         } else {
-            return Err(usage(format!("{NO_SEED} {n}: give --guess")));
+            return Err(usage(format!("{NO_SEED} {n}: give {opt_guess}", opt_guess = RequestInput::Guess.mention())));
         };
         if !given && beyond(&modes, seed.0) {
             return Ok((modes, LadderEnd::Beyond(n)));
@@ -568,8 +564,11 @@ pub fn ladder(
             if let Some(prev) = modes.iter().find(|m| m.root.converged && (m.root.omega - root.omega).norm() <= 1e-8 * root.omega.norm()) {
                 root.converged = false;
                 root.stop = StopReason::Rejected(format!(
-                    "the root {:.6e}{:+.6e}i is overtone {}'s again (the seed led to a mode already found); give seeds with --guess",
-                    root.omega.re, root.omega.im, prev.n
+                    "the root {:.6e}{:+.6e}i is overtone {}'s again (the seed led to a mode already found); give seeds with {opt_guess}",
+                    root.omega.re,
+                    root.omega.im,
+                    prev.n,
+                    opt_guess = RequestInput::Guess.mention()
                 ));
             }
         }

@@ -6,6 +6,7 @@
 //! in [`binding`] alone.
 
 use super::{BinOp, Expr, ExprKind, Func, Ident, ParseLimits, Program, Span, Statement};
+use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use nom::branch::alt;
 use nom::bytes::complete::{take_till, take_while};
@@ -130,13 +131,16 @@ fn punct(c: char) -> Option<Tok> {
 }
 
 /// A help note for a character that cannot start a token, when one helps.
-fn stray_char_note(c: char) -> Option<&'static str> {
+fn stray_char_note(c: char) -> Option<String> {
     Some(match c {
-        '\u{2070}' | '\u{b9}' | '\u{b2}' | '\u{b3}' | '\u{2074}'..='\u{207b}' => "write powers with '^', e.g. r^2 or r^-1",
-        '[' | ']' | '{' | '}' => "only '(' and ')' group expressions",
-        '_' => "a name starts with a letter",
-        '\\' => "LaTeX is read from a .tex file or with --latex; in this language write names such as omega or \u{3c9} directly",
-        '.' => "a number needs a digit next to its '.', e.g. 0.5 or .5",
+        '\u{2070}' | '\u{b9}' | '\u{b2}' | '\u{b3}' | '\u{2074}'..='\u{207b}' => "write powers with '^', e.g. r^2 or r^-1".into(),
+        '[' | ']' | '{' | '}' => "only '(' and ')' group expressions".into(),
+        '_' => "a name starts with a letter".into(),
+        '\\' => format!(
+            "LaTeX is read from a .tex file or with {opt_latex}; in this language write names such as omega or \u{3c9} directly",
+            opt_latex = RequestInput::Latex.mention()
+        ),
+        '.' => "a number needs a digit next to its '.', e.g. 0.5 or .5".into(),
         _ => return None,
     })
 }
@@ -992,8 +996,7 @@ impl<'a> Parser<'a> {
         } else if self.prev.is_some_and(|p| p.tok == Tok::Ident) && next.tok == Tok::LParen {
             let name = self.prev.map_or("", |p| self.text(p.span));
             error.note(format!(
-                "if '{name}(…)' is a function of the variable, define it with 'let {name} = …' (or read LaTeX with --latex, where f(r) is allowed)"
-            ))
+                "if '{name}(…)' is a function of the variable, define it with 'let {name} = …' (or read LaTeX with {opt_latex}, where f(r) is allowed)", opt_latex = RequestInput::Latex.mention()))
         } else {
             error
         }
