@@ -121,14 +121,18 @@ impl NumRecurrence {
 /// (field index `freq`) in an exact recurrence. `values` is indexed like the
 /// recurrence's field (entry 0, n, and entry `freq` are ignored).
 pub fn try_numeric(rec: &Recurrence, values: &[GRat], freq: usize) -> Result<NumRecurrence> {
-    let vals: Vec<Complex64> = values
+    try_numeric_at(rec, &complex_values(values), freq)
+}
+
+/// Exact values as complex doubles (the display and numeric exit of the exact layer).
+fn complex_values(values: &[GRat]) -> Vec<Complex64> {
+    values
         .iter()
         .map(|x| {
             let (re, im) = x.to_f64();
             Complex64::new(re, im)
         })
-        .collect();
-    try_numeric_at(rec, &vals, freq)
+        .collect()
 }
 
 /// [`try_numeric`] with the other parameters at complex double values.
@@ -147,13 +151,7 @@ pub fn try_numeric_at(rec: &Recurrence, values: &[Complex64], freq: usize) -> Re
 /// root χ at index `chi` (`series::rate`): each coefficient split by powers
 /// of χ, which is evaluated at each trial ω on `branch`.
 pub fn try_numeric_with_rate(rec: &Recurrence, values: &[GRat], freq: usize, chi: usize, branch: RateBranch) -> Result<NumRecurrence> {
-    let vals: Vec<Complex64> = values
-        .iter()
-        .map(|x| {
-            let (re, im) = x.to_f64();
-            Complex64::new(re, im)
-        })
-        .collect();
+    let vals = complex_values(values);
     let mut terms = Vec::new();
     let mut powers = Vec::new();
     for c in &rec.coeffs {
