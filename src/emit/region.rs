@@ -38,6 +38,7 @@ pub fn json(r: &RegionReport) -> Value {
                 Finding::Spectral(_) => "an eigenvalue of the global spectral method".to_string(),
                 Finding::Ladder(from) => from.clone(),
                 Finding::Mirror => "the mirror image −ω̄ of its partner".to_string(),
+                Finding::SpecialPoint => format!("an algebraically special point of the recurrence, exact (the ladder sought it from {})", fmt_complex(m.seed.re, m.seed.im)),
             };
             json!({
                 "family": m.family.name(),

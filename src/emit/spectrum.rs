@@ -385,6 +385,11 @@ fn recurrence_json(fname: &str, problem: Problem, b: &RecurrenceReport) -> Value
                         "residual": c.residual,
                     }),
                     Some(c) => json!({"method": "integrate", "omega": Value::Null, "reason": c.reason}),
+                    None if m.method == ModeMethod::SpecialPoint && r.converged => json!({
+                        "method": "exact",
+                        "leading_coefficient_index": r.inversion,
+                        "reason": "c0(k, omega) = 0 and the first k + 1 equations close, in exact arithmetic; no numeric check is possible at this point",
+                    }),
                     None => Value::Null,
                 },
                 "estimate": match b.wkb.get(i).copied().flatten() {
@@ -477,7 +482,7 @@ fn recurrence_csv(b: &RecurrenceReport) -> String {
     for (i, m) in b.modes.iter().enumerate() {
         let r = &m.root;
         // Direct integration has no depth: its columns stay empty.
-        let depth = if m.method == ModeMethod::Integrate { String::new() } else { r.depth.to_string() };
+        let depth = if matches!(m.method, ModeMethod::Integrate | ModeMethod::SpecialPoint) { String::new() } else { r.depth.to_string() };
         let checked = match b.checks.get(i).and_then(|c| c.as_ref()) {
             Some(c) if c.converged && r.converged => {
                 format!("{:.17e},{:.17e},{}", c.omega.re, c.omega.im, num((c.omega - r.omega).norm() / r.omega.norm()))
@@ -550,6 +555,15 @@ fn recurrence_text(fname: &str, var: &str, source: &str, problem: Problem, b: &R
             o.push_str(&format!("  {:<2} {:<44} exact condition c1(n, ω) = 0, residual {:.1e}\n", m.n, w, r.residual));
         } else if r.converged && m.method == ModeMethod::Integrate {
             o.push_str(&format!("  {:<2} {:<44} [integrate] residual {:.1e}\n", m.n, w, r.residual));
+        } else if r.converged && m.method == ModeMethod::SpecialPoint {
+            o.push_str(&format!(
+                "  {:<2} {:<44} [special] exact: c0({k}, ω) = 0 and the determinant of the first {} equations is 0 (see the note)\n",
+                m.n,
+                w,
+                r.inversion + 1,
+                k = r.inversion
+            ));
+            o.push_str("     check: exact arithmetic; no numeric check is possible at this point\n");
         } else if r.converged {
             o.push_str(&format!(
                 "  {:<2} {:<44} [{}] depth {}, change on doubling {:.1e}, residual {:.1e}\n",

@@ -1318,11 +1318,19 @@ fn recurrence_route(
             all.extend(super::spectrum::qnm_modes_from(&rec, setup0.clone(), &one, &estimate)?.0);
         }
         (all, setup0.clone())
+    } else if opts.overtones.0 > 0 && opts.guess.is_none() && opts.seeds.is_empty() {
+        // The overtone number is a count from the fundamental: without a
+        // guess the ladder climbs from overtone 0 (a first estimate of a high
+        // overtone can sit nearer another one), and the range asked for is kept.
+        let from_zero = SpectrumOptions { overtones: (0, opts.overtones.1), ..opts.clone() };
+        let (all, setup) = super::spectrum::qnm_modes_from(&rec, setup0.clone(), &from_zero, &estimate)?;
+        (all.into_iter().filter(|m| m.n >= opts.overtones.0).collect(), setup)
     } else {
         super::spectrum::qnm_modes_from(&rec, setup0.clone(), opts, &estimate)?
     };
     let wkb = modes.iter().map(|m| estimates.as_ref().and_then(|e| e(m.n)).map(|b| b.series.omega())).collect();
-    let notes = super::spectrum::degenerate_notes(&rec, &setup, opts, &modes);
+    let mut notes = super::spectrum::settle_special(&rec, &setup, opts, &mut modes)?;
+    notes.extend(super::spectrum::degenerate_notes(&rec, &setup, opts, &modes));
     // The independent check: direct integration, seeded 1e-4 away from the
     // continued-fraction root (or, with Method::Integrate, from the seed);
     // with an adjoined rate, between the ends of the boundary problem (the
@@ -1363,7 +1371,8 @@ fn recurrence_route(
             let fs = modes
                 .iter()
                 .zip(&checks)
-                .filter(|(m, _)| m.root.converged)
+                // At a special point the series' exponent does not fix a function.
+                .filter(|(m, _)| m.root.converged && m.method != ModeMethod::SpecialPoint)
                 .map(|(m, c)| {
                     let second = c.as_ref().filter(|r| r.converged).map(|r| left_end_function(bp, ModeMethod::Integrate.tag(), r.omega, reach));
                     ModeFunction::new(m.n, left_end_function(bp, m.method.tag(), m.root.omega, reach), second)
@@ -1386,7 +1395,8 @@ fn recurrence_route(
             let fs = modes
                 .iter()
                 .zip(&checks)
-                .filter(|(m, _)| m.root.converged)
+                // At a special point the series' exponent does not fix a function.
+                .filter(|(m, _)| m.root.converged && m.method != ModeMethod::SpecialPoint)
                 .map(|(m, c)| {
                     let second = c.as_ref().filter(|r| r.converged).map(|r| at(ModeMethod::Integrate.tag(), r.omega));
                     ModeFunction::new(m.n, at(m.method.tag(), m.root.omega), second)
