@@ -746,7 +746,7 @@ fn schwarzschild_anti_de_sitter_modes_with_a_normalisable_boundary() {
     for (m, want) in [("1", (2.7982f64, -2.6712f64)), ("505", (18.607, -26.642))] {
         let at = format!("M={m},L=1,l=0");
         let (v, ms) = modes_of("tests/boundary/schwarzschild_ads_scalar.ode", &at, &[]);
-        assert_eq!(v["ends"][1]["at"], "inf");
+        assert_eq!(v["ends"][1]["at"], "infinity");
         assert_eq!(v["ends"][1]["condition"], "normalisable");
         assert_eq!(v["ends"][0]["condition"], "into");
         let (re, im) = omega(&ms[0]);

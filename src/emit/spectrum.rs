@@ -647,7 +647,7 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
         .iter()
         .map(|e| {
             json!({
-                "at": match e.location { Location::At(z) => json!(z), Location::Infinity => json!("inf") },
+                "at": match e.location { Location::At(z) => json!(z), Location::Infinity => json!("infinity") },
                 "found": e.found,
                 "condition": e.condition.name(),
             })
