@@ -1063,10 +1063,21 @@ fn commands() {
 fn commands_soak() {
     // CANONODE_FUZZ_CASES sets the number of command lines (default 10⁶).
     let cases = std::env::var("CANONODE_FUZZ_CASES").ok().and_then(|s| s.parse().ok()).unwrap_or(1_000_000usize);
+    // Every batch runs, failing or not, so that one long run shows every
+    // failure; the test fails at the end if any batch did.
     let mut done = 0;
     let mut seed = 1u64;
+    let mut failed = Vec::new();
     while done < cases {
-        done += run_commands(seed.wrapping_mul(0x9E37_79B9_7F4A_7C15), (cases - done).min(10_000));
+        let batch = (cases - done).min(10_000);
+        let s = seed.wrapping_mul(0x9E37_79B9_7F4A_7C15);
+        match std::panic::catch_unwind(|| run_commands(s, batch)) {
+            Ok(_) => {}
+            Err(_) => failed.push(seed),
+        }
+        done += batch;
         seed += 1;
+        eprintln!("soak: {done} command lines, failing batches so far {failed:?}");
     }
+    assert!(failed.is_empty(), "failing batches (seed numbers): {failed:?}");
 }
