@@ -545,7 +545,7 @@ fn emit(
                     Some(t) => canonode::analysis::canonical::Choices::parse(t).map_err(|e| fail(&e.in_option(RequestInput::Exponents), &spec, &extra))?,
                     None => canonode::analysis::canonical::Choices::default(),
                 };
-                Some(canonode::series::requested(&red, p, series.as_deref(), &choices, false).map_err(|e| fail(&e, &spec, &extra))?)
+                Some(canonode::series::requested(&red, p, series.as_deref(), &choices, false, None).map_err(|e| fail(&e, &spec, &extra))?)
             }
             _ => None,
         };
