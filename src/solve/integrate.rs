@@ -30,8 +30,9 @@ const TOL_FLOOR: f64 = 1e-13;
 const RESIDUAL_MAX: f64 = 1e-6;
 /// Muller iterations per search.
 pub(super) const MAX_ITER: usize = 100;
-/// Taylor steps per evaluation of the mismatch.
-const MAX_STEPS: usize = 20_000;
+/// Taylor steps per evaluation of the mismatch (one integration stops
+/// with an error past it).
+pub const MAX_STEPS: usize = 20_000;
 
 /// What is known about the two ends, as functions of ω (built by the caller
 /// from the exact analysis).
