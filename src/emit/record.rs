@@ -21,7 +21,7 @@
 //! `check` derives again and compares as text like every other field.
 //!
 //! ```
-//! use canonode::ode::ReduceOptions;
+//! use canonode::ReduceOptions;
 //! use canonode::record::{compare, derive, Record};
 //!
 //! // DLMF 10.2.1, Bessel's equation.
@@ -503,7 +503,7 @@ fn analysis_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result<(
             rec.push(key(&format!("formal[{}]", j + 1)), format!("psi ~ {f}"))?;
         }
     }
-    match crate::analysis::canonical(red, an, &crate::analysis::canonical::Choices::default())? {
+    match crate::analysis::canonical_form_of(red, an, &crate::analysis::canonical::Choices::default())? {
         Some(c) => {
             rec.push("canonical.form", c.form.id())?;
             rec.push("canonical.source", &c.source)?;

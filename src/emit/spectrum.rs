@@ -11,8 +11,8 @@ use crate::solve::closed::ClosedForm;
 use crate::solve::periodic::{Floquet, PeriodicMode};
 use crate::solve::polynomial::PolynomialSolutions;
 use crate::solve::request::{
-    Body, BoundReport, ClosedSection, EndsReport, EstimateReport, MethodFunction, ModeFunctions, NumericMethod, PeriodicReport, Problem, RecurrenceReport,
-    SpectrumReport,
+    Body, BoundReport, ClosedSection, EndsReport, EstimateReport, MethodFunction, ModeFunctions, NumericMethod, PeriodicReport, Problem,
+    RecurrenceReport, SpectrumReport,
 };
 use crate::solve::shoot::BoundCheck;
 use crate::solve::spectrum::ModeMethod;

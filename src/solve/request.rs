@@ -769,7 +769,7 @@ pub const CONFIRMED: f64 = 1e-6;
 impl SpectrumReport {
     /// The converged modes for a picture of the complex plane: each
     /// labelled by its number, and whether a second method confirmed it
-    /// (agreeing to [`CONFIRMED`]).
+    /// (agreeing to `CONFIRMED`).
     pub fn plane_modes(&self) -> Vec<super::plot::PlaneMode> {
         let near = |a: Complex64, b: Complex64| (a - b).norm() <= CONFIRMED * b.norm().max(f64::MIN_POSITIVE);
         let mode = |n: u32, omega: Complex64, confirmed: bool| super::plot::PlaneMode { label: format!("n={n}"), omega, confirmed };
@@ -990,8 +990,7 @@ fn coupled_functions(
             });
             match problem {
                 Ok(bp) => {
-                    let second =
-                        c.check.as_ref().filter(|r| r.converged).map(|r| left_end_function(&bp, NumericMethod::Integrate, r.omega, reach));
+                    let second = c.check.as_ref().filter(|r| r.converged).map(|r| left_end_function(&bp, NumericMethod::Integrate, r.omega, reach));
                     ModeFunction::new(c.mode.n, left_end_function(&bp, c.mode.method.into(), w, reach), second)
                 }
                 Err(e) => ModeFunction::new(c.mode.n, MethodFunction { method: c.mode.method.into(), value: w, samples: Err(e) }, None),
@@ -1501,7 +1500,8 @@ fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) 
                         Some(BoundCheck::Agrees(r)) => r.omega,
                         _ => s.value,
                     };
-                    let first = MethodFunction { method: NumericMethod::Shooting, value: e, samples: super::modefn::bound_mode_function(o, domain, e, 24) };
+                    let first =
+                        MethodFunction { method: NumericMethod::Shooting, value: e, samples: super::modefn::bound_mode_function(o, domain, e, 24) };
                     // The collocation eigenvector of the same state, on the same samples.
                     let second = first.samples.as_ref().ok().map(|shot| MethodFunction {
                         method: NumericMethod::Collocation,
