@@ -2,7 +2,7 @@
 //! singular structure, exponents, classes and canonical parameters of
 //! DLMF's forms and of the black-hole samples. Each check names its source.
 
-use canonode::ode::{reduce, Input, ReduceOptions};
+use canonode::{reduce, Input, ReduceOptions};
 use serde_json::Value;
 use std::process::Command;
 

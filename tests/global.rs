@@ -115,7 +115,7 @@ fn a_deep_window_holds_the_twelve_lowest_modes_and_the_special_point() {
     assert_eq!(c(&special["omega"]), (0.0, -2.0));
     assert_eq!(
         (special["found_by"].as_str(), special["polished_by"].as_str(), special["family"].as_str()),
-        (Some("special"), Some("exact"), Some("purely imaginary"))
+        (Some("special"), Some("special"), Some("purely imaginary"))
     );
     assert!(special["check"].is_null() && special["check_note"].as_str().unwrap().contains("no numeric check"), "{special}");
     let notes: Vec<&str> = v["notes"].as_array().unwrap().iter().map(|n| n.as_str().unwrap()).collect();

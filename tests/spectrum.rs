@@ -556,8 +556,7 @@ fn coupled_requests_with_bad_links_are_usage_errors() {
 /// fraction: its exact value at c = 0 (the terminating series) and its value
 /// at `c`, reached in 8 continuation steps, each asserted converged.
 fn spheroidal_eigenvalue(s: i64, m: i64, j: usize, c: num_complex::Complex64) -> (num_complex::Complex64, num_complex::Complex64) {
-    use canonode::algebra::{GRat, Rat};
-    use canonode::ode::{reduce, Input, ReduceOptions};
+    use canonode::{reduce, GRat, Input, Rat, ReduceOptions};
     let src = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/spheroidal_spin_weighted.ode")).unwrap();
     let red = reduce(&Input::Program(&src), &ReduceOptions::default()).unwrap();
     let names = red.field.names().to_vec();
@@ -565,7 +564,7 @@ fn spheroidal_eigenvalue(s: i64, m: i64, j: usize, c: num_complex::Complex64) ->
     let mut known: Vec<Option<GRat>> = vec![None; names.len()];
     known[idx("s")] = Some(GRat::real(Rat::int(s.into())));
     known[idx("m")] = Some(GRat::real(Rat::int(m.into())));
-    let ang = canonode::solve::coupled::try_angular(&red, &known, &[idx("c")], j, (0..names.len()).collect()).unwrap();
+    let ang = canonode::numeric::try_angular(&red, &known, &[idx("c")], j, (0..names.len()).collect()).unwrap();
     let seed = ang.seed.clone().expect("terminating at c = 0").0;
     let mut vals = vec![num(0.0, 0.0); names.len()];
     vals[idx("s")] = num(s as f64, 0.0);

@@ -11,8 +11,8 @@ use crate::solve::closed::ClosedForm;
 use crate::solve::periodic::{Floquet, PeriodicMode};
 use crate::solve::polynomial::PolynomialSolutions;
 use crate::solve::request::{
-    Body, BoundReport, ClosedSection, EndsReport, EstimateReport, MethodFunction, ModeFunctions, PeriodicReport, Problem, RecurrenceReport,
-    SpectrumReport,
+    Body, BoundReport, ClosedSection, EndsReport, EstimateReport, MethodFunction, ModeFunctions, NumericMethod, PeriodicReport, Problem,
+    RecurrenceReport, SpectrumReport,
 };
 use crate::solve::shoot::BoundCheck;
 use crate::solve::spectrum::ModeMethod;
@@ -200,24 +200,24 @@ pub fn text(r: &SpectrumReport, source: &str) -> String {
 }
 
 /// A mode-function method tag in words.
-pub fn method_words(tag: &str) -> &'static str {
-    match tag {
-        "cf" => "continued fraction",
-        "terminating" => "terminating series",
-        "integrate" => "direct integration",
-        "shooting" => "shooting",
-        "collocation" => "collocation",
-        "spectral" => "global spectral method",
-        "laurent" => "truncated Laurent series",
-        "monodromy" => "integration around the period",
-        _ => "another method",
+pub fn method_words(method: NumericMethod) -> &'static str {
+    match method {
+        NumericMethod::ContinuedFraction => "continued fraction",
+        NumericMethod::Terminating => "terminating series",
+        NumericMethod::Integrate => "direct integration",
+        NumericMethod::Shooting => "shooting",
+        NumericMethod::Collocation => "collocation",
+        NumericMethod::Spectral => "global spectral method",
+        NumericMethod::Laurent | NumericMethod::Truncation => "truncated Laurent series",
+        NumericMethod::Monodromy => "integration around the period",
+        NumericMethod::SpecialPoint => "exact special point of the recurrence",
     }
 }
 
 /// The mode functions' summary (the samples go to their own file): each
 /// mode's methods and the largest difference between their functions.
 fn mode_functions_json(f: &ModeFunctions) -> Value {
-    let one = |m: &MethodFunction| json!({"method": m.method, "omega": pair(m.value), "error": m.samples.as_ref().err()});
+    let one = |m: &MethodFunction| json!({"method": m.method.tag(), "omega": pair(m.value), "error": m.samples.as_ref().err()});
     let modes: Vec<Value> = f
         .modes
         .iter()
@@ -304,7 +304,7 @@ fn closed_range_json(f: &crate::solve::closed::Family) -> Value {
     })
 }
 
-fn closed_json(form: &ClosedForm, values: &[Vec<(u32, Complex64)>], numeric: &[(u32, Complex64, &'static str)]) -> Value {
+fn closed_json(form: &ClosedForm, values: &[Vec<(u32, Complex64)>], numeric: &[(u32, Complex64, NumericMethod)]) -> Value {
     let fams: Vec<Value> = form
         .families
         .iter()
@@ -316,7 +316,7 @@ fn closed_json(form: &ClosedForm, values: &[Vec<(u32, Complex64)>], numeric: &[(
                     // The numeric mode of this run at this value, if any.
                     let near = numeric.iter().min_by(|a, b| (a.1 - w).norm().total_cmp(&(b.1 - w).norm()));
                     let check = near.filter(|(_, mw, _)| (mw - w).norm() <= CLOSED_CHECK_NEAR * w.norm().max(1.0)).map_or(Value::Null, |(mn, mw, method)| {
-                        json!({"method": method, "n": mn, "omega": pair(*mw), "agreement": (mw - w).norm() / w.norm().max(1e-300)})
+                        json!({"method": method.tag(), "n": mn, "omega": pair(*mw), "agreement": (mw - w).norm() / w.norm().max(1e-300)})
                     });
                     json!({"n": n, "omega": pair(*w), "method": "exact", "check": check})
                 })

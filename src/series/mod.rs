@@ -658,7 +658,7 @@ pub struct RootRecurrence {
 
 /// The recurrence about the first regular singular point that is a root θ
 /// of an irreducible quadratic factor (a horizon r₊ of r² − 2Mr + a²): see
-/// [`recurrence_about_point`].
+/// `recurrence_about_point`.
 pub fn recurrence_about_root(red: &Reduction, choices: &Choices) -> Result<RootRecurrence> {
     let an = crate::analysis::analyse(red)?;
     let found = an.points.iter().find(|p| p.kind == Kind::Regular && matches!(&p.place, Place::Roots(f) if f.to_univariate(0).len() == 3));

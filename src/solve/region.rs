@@ -19,7 +19,7 @@ use super::global::{self, Region, SpectralValue};
 use super::integrate::IntRoot;
 use super::plot::PlaneMode;
 use super::request::{region_setup, SpectrumRequest, CONFIRMED};
-use super::spectrum::{LadderEnd, Mode, SpectrumOptions};
+use super::spectrum::{LadderEnd, Mode, ModeMethod, SpectrumOptions};
 use crate::error::RequestInput;
 use crate::error::Result;
 use crate::ode::Reduction;
@@ -65,10 +65,10 @@ pub struct RegionRow {
     pub found: Finding,
     /// The value the polish started from.
     pub seed: Complex64,
-    /// Which method polished it: "cf" or "integrate".
-    pub polished_by: &'static str,
+    /// Which method polished it: the continued fraction or direct integration.
+    pub polished_by: ModeMethod,
     /// The other method's value, when it ran and converged.
-    pub check: Option<(&'static str, Complex64)>,
+    pub check: Option<(ModeMethod, Complex64)>,
     /// Why there is no check, or what the check compares, in words.
     pub check_note: Option<String>,
 }
@@ -331,7 +331,7 @@ fn spectral_rows(found: &[global::Found], scale: f64, taken: &mut Vec<RegionRow>
             omega: w,
             found: Finding::Spectral(f.spectral),
             seed: f.spectral.omega,
-            polished_by: "integrate",
+            polished_by: ModeMethod::Integrate,
             check: None,
             check_note: Some(note.to_string()),
         });
@@ -480,7 +480,7 @@ fn ladder_rows(
                     omega: w,
                     found: Finding::SpecialPoint,
                     seed: m.seed.0,
-                    polished_by: "exact",
+                    polished_by: super::spectrum::ModeMethod::SpecialPoint,
                     check: None,
                     check_note: Some("exact arithmetic: the recurrence's leading coefficient and the determinant of its first equations vanish here (see the note); no numeric check is possible at this point".to_string()),
                 });
@@ -516,8 +516,8 @@ fn ladder_rows(
             omega: w,
             found,
             seed: m.seed.0,
-            polished_by: "cf",
-            check: Some(("integrate", c.omega)),
+            polished_by: ModeMethod::ContinuedFraction,
+            check: Some((ModeMethod::Integrate, c.omega)),
             check_note: None,
         });
     }
@@ -556,8 +556,8 @@ fn mirror_rows(
             omega: r.omega,
             found: Finding::Mirror,
             seed: image,
-            polished_by: "integrate",
-            check: Some(("cf", image)),
+            polished_by: ModeMethod::Integrate,
+            check: Some((ModeMethod::ContinuedFraction, image)),
             check_note: Some(format!("against the mirror image of overtone {n}'s continued-fraction value")),
         });
     }

@@ -29,7 +29,7 @@ pub struct SpectrumOptions {
     pub tol: f64,
     /// A seed for the lowest overtone asked for.
     pub guess: Option<Complex64>,
-    /// Seeds from the global spectral method ([`super::global`]), one per
+    /// Seeds from the global spectral method (`solve::global`), one per
     /// overtone from the lowest asked for, used before any other estimate.
     pub seeds: Vec<Complex64>,
 }
@@ -683,7 +683,7 @@ pub fn barrier_potential(red: &Reduction, opts: &SpectrumOptions) -> Result<(cra
     Ok((v, h))
 }
 
-/// First estimates from the barrier top of [`barrier_potential`], searched
+/// First estimates from the barrier top of `barrier_potential`, searched
 /// beyond the horizon (then below it): a function giving the estimates of
 /// overtone n to WKB order `order` (eikonal, the series and its Padé values;
 /// see `wkb.rs`).
