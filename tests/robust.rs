@@ -249,3 +249,29 @@ fn regression_collocation_on_a_mapped_oscillator_took_half_a_minute() {
     let row = c.stdout.lines().nth(1).expect("a row");
     assert!(row.contains(",false,") && row.contains("kept changing"), "{}", c.stdout);
 }
+
+#[test]
+fn regression_a_seed_scan_where_nothing_integrates_ran_for_a_minute() {
+    // Schwarzschild–de Sitter with 9ΛM² ≫ 1 has no black-hole horizon; the
+    // end found is a negative root, and no trial frequency integrates. The
+    // seed scan of the complex plane stops at its work limit and says so.
+    let sds = sample("schwarzschild_de_sitter_scalar.ode");
+    let c = run(&["spectrum", &sds, "--tol", "1e-6", "--overtones", "1", "--method", "integrate", "--at", "M=3,Lambda=1.5,l=0.8", "--format", "csv"]);
+    assert_eq!(c.code, 0, "{}", c.stderr);
+    assert!(c.stdout.contains(",false,") && c.stdout.contains("stopped at its work limit"), "{}", c.stdout);
+}
+
+#[test]
+fn regression_exact_work_on_a_scan_s_worker_threads_had_no_budget() {
+    // A value of 1e-300 (an exact rational with a 300-digit denominator) in
+    // a charged black hole seen from infinity: a scan point's exact work now
+    // has the command's budget on whichever thread solves it.
+    let rn = sample("reissner_nordstrom_scalar.ode");
+    let args =
+        ["scan", &rn, "--at-infinity", "--tol", "1e-6", "--overtones", "0", "--guess", "0.37-0.09i", "--vary", "q=1:1.2:0.1", "--at", "M=3,l=1e-300"];
+    let c = run(&args);
+    assert_eq!(c.code, 0, "{}", c.stderr);
+    let rows: Vec<&str> = c.stdout.lines().filter(|l| !l.starts_with('#') && !l.starts_with("index")).collect();
+    assert_eq!(rows.len(), 3, "{}", c.stdout);
+    assert!(rows.iter().all(|l| l.contains(",false,")), "{}", c.stdout);
+}

@@ -1,10 +1,11 @@
 //! The work budget of one exact derivation: every polynomial product and
 //! every gcd step on this thread charges its term products, weighted by
 //! the machine words of the coefficients multiplied, to it while a
-//! budget is open ([`with_budget`]), and an operation that would exceed it
+//! budget is open ([`with_budget`], or [`with_own_budget`] for one point of
+//! a survey, on whichever thread), and an operation that would exceed it
 //! fails with a limit error instead of running on. Without an open budget
-//! (worker threads of a scan, library callers that set none) only the
-//! per-operation limits of [`super::Limits`] and of the gcd apply.
+//! (library callers that set none) only the per-operation limits of
+//! [`super::Limits`] and of the gcd apply.
 
 use std::cell::Cell;
 
@@ -36,6 +37,21 @@ pub fn with_budget<T>(units: u64, f: impl FnOnce() -> T) -> T {
         }
     }
     let _close = Close(outer.is_none());
+    f()
+}
+
+/// Runs `f` with a budget of its own, whatever is open on this thread (the
+/// outer budget is put back afterwards, uncharged): one point of a survey
+/// gets the same budget whichever thread solves it and whatever ran before.
+pub fn with_own_budget<T>(units: u64, f: impl FnOnce() -> T) -> T {
+    let outer = OPEN.with(|o| o.replace(Some((0, units))));
+    struct Restore(Option<(u64, u64)>);
+    impl Drop for Restore {
+        fn drop(&mut self) {
+            let _ = OPEN.try_with(|o| o.set(self.0));
+        }
+    }
+    let _restore = Restore(outer);
     f()
 }
 

@@ -230,7 +230,8 @@ fn run_chunk(
                     opts.seeds = s.clone();
                     opts.guess = None;
                 }
-                match solve(&opts, check) {
+                // Each point's exact work has a budget of its own (the same on any thread).
+                match crate::algebra::budget::with_own_budget(crate::algebra::budget::DEFAULT_BUDGET, || solve(&opts, check)) {
                     Ok(mut solved) => {
                         mark_events(&mut solved.modes, prev.as_deref());
                         point(solved, None)
@@ -343,7 +344,7 @@ pub fn survey<'a>(
             let tx = tx.clone();
             let (tasks, stop, dropped, next) = (&tasks, &stop, &dropped, &next);
             let work = move || {
-                let solver = make();
+                let solver = crate::algebra::budget::with_own_budget(crate::algebra::budget::DEFAULT_BUDGET, make);
                 loop {
                     let t = next.fetch_add(1, Ordering::SeqCst);
                     let Some(task) = tasks.get(t) else { break };
@@ -373,7 +374,7 @@ pub fn survey<'a>(
                 match rx.recv() {
                     Ok((k, p)) => buffers[k].push_back(p),
                     Err(_) if workers == 0 => {
-                        let solver = own.get_or_insert_with(make);
+                        let solver = own.get_or_insert_with(|| crate::algebra::budget::with_own_budget(crate::algebra::budget::DEFAULT_BUDGET, make));
                         let task = &tasks[t];
                         let b = &mut buffers[t];
                         run_chunk(solver, base, walk, check, task.from..task.to, task.given.clone().flatten(), &|| true, &mut |p| {
