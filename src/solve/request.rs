@@ -250,6 +250,24 @@ pub struct EndsReport {
     pub checks: Vec<Option<SpectralCheck>>,
     /// What the second method was, or why none ran, in words.
     pub check_note: String,
+    /// When the numeric series' continued fraction found the modes: its
+    /// set-up and roots, index by index with `modes`, which are then their
+    /// checks by direct integration.
+    pub series: Option<SeriesReport>,
+}
+
+/// The continued fraction of the numeric series between the ends
+/// (`solve::mobius`) that found the modes of an [`EndsReport`].
+#[derive(Debug)]
+pub struct SeriesReport {
+    /// The series variable, the factored behaviour and the convergence radius, in words.
+    pub description: String,
+    /// The convergence radius (min |u| of the other singular points).
+    pub radius: f64,
+    /// The number of terms of the recurrence (reduced to three by Gaussian elimination).
+    pub terms: usize,
+    /// One continued-fraction mode per overtone asked for.
+    pub modes: Vec<Mode>,
 }
 
 /// The second method beside direct integration between the ends.
@@ -694,6 +712,7 @@ impl Body {
     pub fn converged(&self) -> Vec<(u32, Complex64, &'static str)> {
         match self {
             Body::Recurrence(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, m.method.tag())).collect(),
+            Body::Ends(EndsReport { series: Some(s), .. }) => s.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, m.method.tag())).collect(),
             Body::Ends(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, "integrate")).collect(),
             Body::Bound(b) => b.states.iter().filter(|s| s.converged).map(|s| (s.n, s.value, "collocation")).collect(),
             Body::Periodic(b) => b.solution.modes.iter().map(|m| (m.n, m.value, "truncation")).collect(),
@@ -722,6 +741,13 @@ impl SpectrumReport {
                     let ok = b.checks.get(i).and_then(|c| c.as_ref()).is_some_and(|c| c.converged && near(c.omega, m.root.omega));
                     mode(m.n, m.root.omega, ok)
                 })
+                .collect(),
+            Body::Ends(b @ EndsReport { series: Some(s), .. }) => s
+                .modes
+                .iter()
+                .zip(&b.modes)
+                .filter(|(m, _)| m.root.converged)
+                .map(|(m, c)| mode(m.n, m.root.omega, c.root.converged && near(c.root.omega, m.root.omega)))
                 .collect(),
             Body::Ends(b) => b
                 .modes
@@ -829,10 +855,22 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
                 let (body, f) = recurrence_route(&red, req, &opts, None, problem.as_ref().ok())?;
                 return Ok(done(body, f, ends));
             }
-            Err(e) if e.kind == ErrorKind::Usage && problem.is_ok() && req.method == Method::Auto => {
+            Err(e) if e.kind == ErrorKind::Usage && problem.is_ok() && matches!(req.method, Method::Auto | Method::Cf | Method::Integrate) => {
                 let bp = problem?;
-                let note = format!("the continued fraction could not be set up ({}); direct integration between the ends instead", e.message);
-                let report = between_ends(bp, req, &opts, Some(note));
+                let report = match req.method {
+                    Method::Integrate => between_ends(bp, req, &opts, None),
+                    _ => {
+                        let why = format!("the exact recurrence could not be set up ({})", e.message);
+                        match series_between_ends(bp, req, &opts, &red.var, &why) {
+                            Ok(report) => report,
+                            Err((_, s)) if req.method == Method::Cf => return Err(method_error(format!("{why}, and the numeric series cannot be set up either: {}", s.message))),
+                            Err((bp, s)) => {
+                                let note = format!("{why}, nor the numeric series ({}); direct integration between the ends instead", s.message);
+                                between_ends(bp, req, &opts, Some(note))
+                            }
+                        }
+                    }
+                };
                 let f = ends_functions(req, &report);
                 return Ok(done(Body::Ends(report), f, None));
             }
@@ -867,6 +905,20 @@ fn ends_functions(req: &SpectrumRequest, r: &EndsReport) -> Option<ModeFunctions
         return Some(bound_ends_functions(r));
     }
     let Location::At(_) = bp.ends[0].location else { return None };
+    if let Some(s) = &r.series {
+        // The continued fraction's value first, direct integration's beside it.
+        let modes = s
+            .modes
+            .iter()
+            .zip(&r.modes)
+            .filter(|(m, _)| m.root.converged)
+            .map(|(m, c)| {
+                let second = c.root.converged.then(|| left_end_function(bp, ModeMethod::Integrate.tag(), c.root.omega, reach));
+                ModeFunction::new(m.n, left_end_function(bp, m.method.tag(), m.root.omega, reach), second)
+            })
+            .collect();
+        return Some(ModeFunctions { normalisation: "the normal form's ψ, with unit leading coefficient of its Frobenius series at the left end", modes });
+    }
     let modes = r
         .modes
         .iter()
@@ -1124,7 +1176,53 @@ fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptio
         Problem::QuasiBound => None,
     };
     let (checks, check_note) = spectral_checks(&bp, &modes);
-    EndsReport { problem: bp, modes, note, numbering, spectrum, checks, check_note }
+    EndsReport { problem: bp, modes, note, numbering, spectrum, checks, check_note, series: None }
+}
+
+/// Modes by the continued fraction of the numeric series between the ends
+/// (`solve::mobius`), each checked by direct integration seeded 1e-4 away
+/// from its root; seeds from `--guess` or the global spectral method. `why`
+/// says why the exact recurrence did not serve. Gives the problem back with
+/// the reason when the series cannot be set up or has no seed.
+fn series_between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptions, var: &str, why: &str) -> std::result::Result<EndsReport, (BoundaryProblem, Error)> {
+    let s = match super::mobius::series(&bp, var) {
+        Ok(s) => s,
+        Err(e) => return Err((bp, e)),
+    };
+    let mut seeds = if opts.guess.is_none() { super::global::seeds(&bp, opts.overtones) } else { Vec::new() };
+    if seeds.is_empty() && opts.guess.is_none() {
+        // The lowest overtone alone; the ladder extrapolates from it.
+        seeds = super::global::seeds(&bp, (opts.overtones.0, opts.overtones.0));
+    }
+    let from_spectral = !seeds.is_empty();
+    let o = SpectrumOptions { seeds, ..opts.clone() };
+    let solve = |n: u32, seed: Complex64| super::cf::find_root(&s.recurrence, n as usize, seed, opts.tol, 64, 1 << 17);
+    let cf_modes = match super::spectrum::overtones(&o, &|_| None, &solve) {
+        Ok(m) => m,
+        Err(e) => return Err((bp, e)),
+    };
+    let modes: Vec<EndMode> = cf_modes
+        .iter()
+        .map(|m| {
+            if !m.root.converged {
+                return super::ends::unfound(m.n, "not checked: the continued fraction did not converge".into());
+            }
+            let seed = super::spectrum::check_seed(m.root.omega);
+            let root = super::ends::find_root(&bp, seed, opts.tol);
+            EndMode { n: m.n, root, seed: super::ends::Seed { omega: seed, from: "the continued fraction's root, 1e-4 away".into() } }
+        })
+        .collect();
+    let numbering = (from_spectral && req.problem == Problem::Quasinormal).then(|| {
+        format!(
+            "no {opt_guess}: the seeds are the global spectral method's eigenvalues in the lower right quadrant, numbered by |Im ω|",
+            opt_guess = RequestInput::Guess.mention()
+        )
+    });
+    let note = Some(format!("{why}: the continued fraction of a numeric series between the ends instead"));
+    let checks = modes.iter().map(|_| None).collect();
+    let check_note = "second method: direct integration between the ends, from 1e-4 away from each continued-fraction root".to_string();
+    let series = SeriesReport { description: s.description.clone(), radius: s.radius, terms: s.recurrence.terms.len(), modes: cf_modes };
+    Ok(EndsReport { problem: bp, modes, note, numbering, spectrum: req.problem, checks, check_note, series: Some(series) })
 }
 
 /// Quasinormal modes with no guess seeded by the global spectral method
