@@ -756,6 +756,30 @@ fn schwarzschild_anti_de_sitter_modes_with_a_normalisable_boundary() {
 }
 
 #[test]
+fn schwarzschild_anti_de_sitter_by_the_numeric_series_agrees_with_direct_integration() {
+    // The AdS boundary r → ∞ is a regular singular point whose exponents
+    // differ by an integer; with the normalisable one factored out, the
+    // other solution is singular at u = 1, so the series of the mode
+    // converges there and its coefficients are the minimal solution. The
+    // continued fraction finds the modes, direct integration checks each to
+    // 8 digits or better (the requirement). Horowitz & Hubeny, Phys.
+    // Rev. D 62 (2000) 024027, massless scalar, l = 0, L = 1 (from memory):
+    // r₊ = 1 → 2.7982 − 2.6712i, r₊ = 10 → 18.607 − 26.642i, r₊ = 100 →
+    // 184.95 − 266.39i (ω ∝ r₊ for large r₊). M = (r₊ + r₊³)/2.
+    for (m, want) in [("1", (2.7982f64, -2.6712f64)), ("505", (18.607, -26.642)), ("500050", (184.95, -266.39))] {
+        let (v, ms) = modes_of("tests/boundary/schwarzschild_ads_scalar.ode", &format!("M={m},L=1,l=0"), &["--overtones", "0..1"]);
+        assert!(v["series"]["convergence_radius"].as_f64().unwrap() > 1.0, "{v}");
+        for m in &ms {
+            assert_eq!(m["method"], "cf", "{m}");
+            assert!(m["check"]["agreement"].as_f64().unwrap() < 1e-8, "{m}");
+        }
+        let (re, im) = omega(&ms[0]);
+        let tol = 0.5 * 10f64.powi(want.0.log10().floor() as i32 - 4);
+        assert!((re - want.0).abs() <= tol && (im - want.1).abs() <= tol, "M={m}: {re} {im} vs {want:?}");
+    }
+}
+
+#[test]
 fn btz_modes_are_exact() {
     // Birmingham, Sachs & Solodukhin, Phys. Rev. Lett. 88 (2002) 151301:
     // ω = ±k − 2i r₊(n + 1) for a massless scalar, L = 1. The spectral

@@ -878,6 +878,21 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
             Ok((body, f)) => return Ok(done(body, f, ends)),
         }
     }
+    if matches!(req.method, Method::Auto | Method::Cf) && problem.as_ref().is_ok_and(|bp| kind == SpectrumKind::Quasinormal && req.ends.is_none() && horizon_to_regular_infinity(bp)) {
+        // The exact recurrence does not take a regular boundary at infinity
+        // (anti-de Sitter): the numeric series between the ends does.
+        let bp = problem?;
+        let why = "the exact recurrence is not derived for a regular boundary at infinity";
+        let report = match series_between_ends(bp, req, &opts, &red.var, why) {
+            Ok(report) => report,
+            Err((_, s)) if req.method == Method::Cf => return Err(method_error(format!("the numeric series cannot be set up: {}", s.message))),
+            Err((bp, s)) => {
+                between_ends(bp, req, &opts, Some(format!("the numeric series cannot be set up ({}); direct integration between the ends instead", s.message)))
+            }
+        };
+        let f = ends_functions(req, &report);
+        return Ok(done(Body::Ends(report), f, None));
+    }
     if !matches!(req.method, Method::Auto | Method::Integrate) {
         return Err(method_error(format!(
             "this boundary problem is solved by direct integration between its ends: use {opt_method} auto or integrate",
@@ -1039,6 +1054,14 @@ fn bound_ends_functions(r: &EndsReport) -> ModeFunctions {
 fn rated_ends(bp: &BoundaryProblem) -> bool {
     use super::boundary::Nature;
     bp.ends[0].nature == Nature::Horizon && bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::IrregularRank1
+}
+
+/// True for a horizon on the left and a regular boundary at infinity on the
+/// right (an anti-de Sitter black hole), the ends the numeric series takes
+/// where the exact recurrence route does not.
+fn horizon_to_regular_infinity(bp: &BoundaryProblem) -> bool {
+    use super::boundary::Nature;
+    bp.ends[0].nature == Nature::Horizon && bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::Regular
 }
 
 /// The boundary problem of a (substituted) reduction, and whether the exact
@@ -1212,12 +1235,22 @@ fn series_between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &Spectr
             EndMode { n: m.n, root, seed: super::ends::Seed { omega: seed, from: "the continued fraction's root, 1e-4 away".into() } }
         })
         .collect();
-    let numbering = (from_spectral && req.problem == Problem::Quasinormal).then(|| {
-        format!(
+    let given = if from_spectral { o.seeds.len() } else { usize::from(opts.guess.is_some()) };
+    let wanted = (opts.overtones.1 - opts.overtones.0 + 1) as usize;
+    let mut numbering: Vec<String> = Vec::new();
+    if from_spectral {
+        numbering.push(format!(
             "no {opt_guess}: the seeds are the global spectral method's eigenvalues in the lower right quadrant, numbered by |Im ω|",
             opt_guess = RequestInput::Guess.mention()
-        )
-    });
+        ));
+    }
+    if given < wanted {
+        numbering.push(format!(
+            "overtones from {} on were seeded from the overtones below them (extrapolated): a mode skipped between two seeds would shift the numbering of those above it",
+            opts.overtones.0 + given as u32
+        ));
+    }
+    let numbering = (!numbering.is_empty()).then(|| numbering.join("; "));
     let note = Some(format!("{why}: the continued fraction of a numeric series between the ends instead"));
     let checks = modes.iter().map(|_| None).collect();
     let check_note = "second method: direct integration between the ends, from 1e-4 away from each continued-fraction root".to_string();
