@@ -199,7 +199,7 @@ fn fit(scale: f64, pick: &dyn Fn(Complex64) -> Option<Complex64>, both: &dyn Fn(
     let off = (a - pred).norm().min((b - pred).norm());
     if off.is_nan() || off > 1e-7 * (1.0 + pred.norm()) {
         return Err(usage(format!(
-            "{what} is not affine in the spectral parameter (off by {off:.1e} at a test value): the global spectral method needs it affine"
+            "{what} is not affine in the spectral parameter (off by {off:.1e} at a test value): the global spectral method and the numeric series need it affine"
         )));
     }
     Ok(f)

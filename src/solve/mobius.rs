@@ -34,6 +34,14 @@
 //! power-law correction); a recurrence with three terms from the start uses
 //! the tail of [`super::cf`] solved order by order in n^(−1/2), whose odd
 //! orders vanish at a regular far end.
+//!
+//! At an anti-de Sitter boundary (a regular infinity whose exponents differ
+//! by an integer k) the same criterion holds: with the normalisable exponent
+//! factored out, the other solution is (1 − u)^(−k) times a series, with a
+//! logarithm in general — singular at u = 1, its coefficients grow like
+//! n^(k−1) — while the normalisable one is analytic out to R. So the
+//! minimal solution is the mode, and no partial sum of the series at u = 1
+//! is needed (the sum there is what the minimal solution makes converge).
 
 use super::boundary::{BoundaryProblem, Location};
 use super::cf::{NPoly, NumRecurrence};
@@ -106,8 +114,7 @@ impl Map {
     }
 }
 
-/// Where the left end's singular points other than the ends lie, and the
-/// point at infinity when it is not an end: each a possible pole.
+/// The finite singular points other than the two ends (each a possible pole).
 fn others(bp: &BoundaryProblem, z0: f64) -> Vec<Complex64> {
     let near = |x: Complex64, y: Complex64| (x - y).norm() <= 1e-9 * y.norm().max(1.0);
     let mut out: Vec<Complex64> = Vec::new();
@@ -212,6 +219,9 @@ pub fn series(bp: &BoundaryProblem, var: &str) -> Result<MobiusSeries> {
     let mut c = [c2, c1, c0];
     divide_common(&mut c, &[0.0, 1.0])?;
     let recurrence = recurrence_of(&c)?;
+    if recurrence.terms.len() < 3 {
+        return Err(usage(format!("the series' recurrence has {} terms: no continued fraction", recurrence.terms.len())));
+    }
     let pole_text = match pole {
         Pole::At(p) => format!("{var} = {}", text(p)),
         Pole::Infinity => format!("{var} = ∞"),
@@ -274,8 +284,33 @@ fn recurrence_of(c: &[Bi; 3]) -> Result<NumRecurrence> {
         }
         terms.push(out);
     }
-    if terms.len() < 3 {
-        return Err(usage(format!("the series' recurrence has {} terms: no continued fraction", terms.len())));
-    }
     Ok(NumRecurrence { terms, rate: None })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_recurrence_of_the_hypergeometric_equation() {
+        // u(1 − u) v'' + (c − (a + b + 1)u) v' − ab v = 0 (DLMF 15.10.1) with
+        // a = ω, b = 2, c = 3/2: aₙ₊₁/aₙ = (n + a)(n + b)/((n + 1)(n + c))
+        // (DLMF 15.2.1), i.e. (n + 1)(n + c) aₙ₊₁ − (n + a)(n + b) aₙ = 0.
+        let (b, c) = (2.0, 1.5);
+        let c2 = Bi(vec![vec![ZERO], vec![cx(1.0)], vec![cx(-1.0)]]);
+        let c1 = Bi(vec![vec![cx(c)], vec![cx(-(b + 1.0)), cx(-1.0)]]);
+        let c0 = Bi(vec![vec![ZERO, cx(-b)]]);
+        let rec = recurrence_of(&[c2, c1, c0]).unwrap();
+        assert_eq!(rec.terms.len(), 2);
+        let w = Complex64::new(0.3, -0.7);
+        let size = b + 1.0; // the largest coefficient, which the recurrence was divided by
+        for n in 0..5 {
+            let nf = f64::from(n);
+            let got: Vec<Complex64> = rec.terms.iter().map(|t| t.at_n(nf).iter().rev().fold(ZERO, |acc, x| acc * w + x) * size).collect();
+            let want = [Complex64::from((nf + 1.0) * (nf + c)), -(nf + w) * (nf + b)];
+            for (g, x) in got.iter().zip(want) {
+                assert!((g - x).norm() < 1e-12, "n={n}: {got:?} vs {want:?}");
+            }
+        }
+    }
 }
