@@ -11,9 +11,8 @@ use crate::solve::closed::ClosedForm;
 use crate::solve::periodic::{Floquet, PeriodicMode};
 use crate::solve::polynomial::PolynomialSolutions;
 use crate::solve::request::{
-    SeriesReport,
     Body, BoundReport, ClosedSection, EndsReport, EstimateReport, MethodFunction, ModeFunctions, PeriodicReport, Problem, RecurrenceReport,
-    SpectrumReport,
+    SeriesReport, SpectrumReport,
 };
 use crate::solve::shoot::BoundCheck;
 use crate::solve::spectrum::ModeMethod;
@@ -707,7 +706,15 @@ fn ends_csv(b: &EndsReport) -> String {
         for m in &series.modes {
             let r = &m.root;
             if r.converged {
-                o.push_str(&format!("{},{:.17e},{:.17e},true,{},{:.3e},{:.3e},\n", m.n, r.omega.re, r.omega.im, m.method.tag(), r.depth_change, r.residual));
+                o.push_str(&format!(
+                    "{},{:.17e},{:.17e},true,{},{:.3e},{:.3e},\n",
+                    m.n,
+                    r.omega.re,
+                    r.omega.im,
+                    m.method.tag(),
+                    r.depth_change,
+                    r.residual
+                ));
             } else {
                 o.push_str(&format!("{},,,false,{},,,\"{}\"\n", m.n, m.method.tag(), r.stop.text().replace('"', "'")));
             }

@@ -198,7 +198,8 @@ fn text(z: Complex64) -> String {
 pub fn series(bp: &BoundaryProblem, var: &str) -> Result<MobiusSeries> {
     let Location::At(z0) = bp.ends[0].location else { return Err(usage("the left end must be finite")) };
     let f = factors(bp).map_err(|e| usage(format!("the behaviour at the ends cannot be factored out: {}", e.message)))?;
-    let (map, pole, radius, nearest) = best_pole(bp, z0).ok_or_else(|| usage("no point can be sent to u = ∞ (an infinite right end needs another singular point)"))?;
+    let (map, pole, radius, nearest) =
+        best_pole(bp, z0).ok_or_else(|| usage("no point can be sent to u = ∞ (an infinite right end needs another singular point)"))?;
     if radius <= 1.0 + 1e-6 {
         return Err(usage(format!("no Möbius pole puts every other singular point outside the unit disc (best convergence radius {radius:.4})")));
     }
@@ -238,8 +239,11 @@ pub fn series(bp: &BoundaryProblem, var: &str) -> Result<MobiusSeries> {
         Some(z) => format!("{var} = {}", text(z)),
         None => format!("{var} = ∞"),
     };
-    let radius_text =
-        if radius.is_finite() { format!("convergence radius {radius:.6} (set by {limit})") } else { "no other singular point: the series converges everywhere".to_string() };
+    let radius_text = if radius.is_finite() {
+        format!("convergence radius {radius:.6} (set by {limit})")
+    } else {
+        "no other singular point: the series converges everywhere".to_string()
+    };
     let description = format!(
         "ψ = (behaviour chosen at both ends) × Σ aₙ uⁿ, {map_text} (Möbius: the left end → 0, the right end → 1, {pole_text} → ∞); {radius_text}; {}-term recurrence with complex double coefficients",
         recurrence.terms.len()
@@ -275,7 +279,13 @@ fn recurrence_of(c: &[Bi; 3]) -> Result<NumRecurrence> {
         // m = n + e₁ with e₁ = 1 − j; m − 1 = n + e₂.
         let (e1, e2) = (1.0 - j as f64, -(j as f64));
         let mut out = NPoly { c: vec![vec![ZERO; nw]; 3] };
-        let row = |p: &Bi, i: isize| -> Vec<Complex64> { if i >= 0 && live(p, i as usize) { (0..nw).map(|b| p.get(i as usize, b) / size).collect() } else { vec![ZERO; nw] } };
+        let row = |p: &Bi, i: isize| -> Vec<Complex64> {
+            if i >= 0 && live(p, i as usize) {
+                (0..nw).map(|b| p.get(i as usize, b) / size).collect()
+            } else {
+                vec![ZERO; nw]
+            }
+        };
         let (r2, r1, r0) = (row(&c[0], s + 2), row(&c[1], s + 1), row(&c[2], s));
         for b in 0..nw {
             out.c[2][b] += r2[b];

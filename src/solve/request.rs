@@ -712,7 +712,9 @@ impl Body {
     pub fn converged(&self) -> Vec<(u32, Complex64, &'static str)> {
         match self {
             Body::Recurrence(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, m.method.tag())).collect(),
-            Body::Ends(EndsReport { series: Some(s), .. }) => s.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, m.method.tag())).collect(),
+            Body::Ends(EndsReport { series: Some(s), .. }) => {
+                s.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, m.method.tag())).collect()
+            }
             Body::Ends(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, "integrate")).collect(),
             Body::Bound(b) => b.states.iter().filter(|s| s.converged).map(|s| (s.n, s.value, "collocation")).collect(),
             Body::Periodic(b) => b.solution.modes.iter().map(|m| (m.n, m.value, "truncation")).collect(),
@@ -863,8 +865,11 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
                         let why = format!("the exact recurrence could not be set up ({})", e.message);
                         match series_between_ends(bp, req, &opts, &red.var, &why) {
                             Ok(report) => report,
-                            Err((_, s)) if req.method == Method::Cf => return Err(method_error(format!("{why}, and the numeric series cannot be set up either: {}", s.message))),
-                            Err((bp, s)) => {
+                            Err(b) if req.method == Method::Cf => {
+                                return Err(method_error(format!("{why}, and the numeric series cannot be set up either: {}", b.1.message)))
+                            }
+                            Err(b) => {
+                                let (bp, s) = *b;
                                 let note = format!("{why}, nor the numeric series ({}); direct integration between the ends instead", s.message);
                                 between_ends(bp, req, &opts, Some(note))
                             }
@@ -878,16 +883,20 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
             Ok((body, f)) => return Ok(done(body, f, ends)),
         }
     }
-    if matches!(req.method, Method::Auto | Method::Cf) && problem.as_ref().is_ok_and(|bp| kind == SpectrumKind::Quasinormal && req.ends.is_none() && horizon_to_regular_infinity(bp)) {
+    if matches!(req.method, Method::Auto | Method::Cf)
+        && problem.as_ref().is_ok_and(|bp| kind == SpectrumKind::Quasinormal && req.ends.is_none() && horizon_to_regular_infinity(bp))
+    {
         // The exact recurrence does not take a regular boundary at infinity
         // (anti-de Sitter): the numeric series between the ends does.
         let bp = problem?;
         let why = "the exact recurrence is not derived for a regular boundary at infinity";
         let report = match series_between_ends(bp, req, &opts, &red.var, why) {
             Ok(report) => report,
-            Err((_, s)) if req.method == Method::Cf => return Err(method_error(format!("the numeric series cannot be set up: {}", s.message))),
-            Err((bp, s)) => {
-                between_ends(bp, req, &opts, Some(format!("the numeric series cannot be set up ({}); direct integration between the ends instead", s.message)))
+            Err(b) if req.method == Method::Cf => return Err(method_error(format!("the numeric series cannot be set up: {}", b.1.message))),
+            Err(b) => {
+                let (bp, s) = *b;
+                let note = format!("the numeric series cannot be set up ({}); direct integration between the ends instead", s.message);
+                between_ends(bp, req, &opts, Some(note))
             }
         };
         let f = ends_functions(req, &report);
@@ -932,7 +941,10 @@ fn ends_functions(req: &SpectrumRequest, r: &EndsReport) -> Option<ModeFunctions
                 ModeFunction::new(m.n, left_end_function(bp, m.method.tag(), m.root.omega, reach), second)
             })
             .collect();
-        return Some(ModeFunctions { normalisation: "the normal form's ψ, with unit leading coefficient of its Frobenius series at the left end", modes });
+        return Some(ModeFunctions {
+            normalisation: "the normal form's ψ, with unit leading coefficient of its Frobenius series at the left end",
+            modes,
+        });
     }
     let modes = r
         .modes
@@ -1207,10 +1219,16 @@ fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptio
 /// from its root; seeds from `--guess` or the global spectral method. `why`
 /// says why the exact recurrence did not serve. Gives the problem back with
 /// the reason when the series cannot be set up or has no seed.
-fn series_between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptions, var: &str, why: &str) -> std::result::Result<EndsReport, (BoundaryProblem, Error)> {
+fn series_between_ends(
+    bp: BoundaryProblem,
+    req: &SpectrumRequest,
+    opts: &SpectrumOptions,
+    var: &str,
+    why: &str,
+) -> std::result::Result<EndsReport, Box<(BoundaryProblem, Error)>> {
     let s = match super::mobius::series(&bp, var) {
         Ok(s) => s,
-        Err(e) => return Err((bp, e)),
+        Err(e) => return Err(Box::new((bp, e))),
     };
     let mut seeds = if opts.guess.is_none() { super::global::seeds(&bp, opts.overtones) } else { Vec::new() };
     if seeds.is_empty() && opts.guess.is_none() {
@@ -1222,7 +1240,7 @@ fn series_between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &Spectr
     let solve = |n: u32, seed: Complex64| super::cf::find_root(&s.recurrence, n as usize, seed, opts.tol, 64, 1 << 17);
     let cf_modes = match super::spectrum::overtones(&o, &|_| None, &solve) {
         Ok(m) => m,
-        Err(e) => return Err((bp, e)),
+        Err(e) => return Err(Box::new((bp, e))),
     };
     let modes: Vec<EndMode> = cf_modes
         .iter()
