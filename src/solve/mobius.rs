@@ -5,7 +5,7 @@
 //! The behaviour chosen at both ends is factored out of ψ as the global
 //! spectral method does ([`super::global::factors`], each exponent affine in
 //! ω, fitted at two frequencies and checked at a third;
-//! [`super::global::factored`] gives the remainder's equation in z as
+//! `global::factored` gives the remainder's equation in z as
 //! polynomials in (z, ω)). A Möbius variable
 //!
 //! u = (z − z₀)(z₁ − z_p) / ((z − z_p)(z₁ − z₀))
@@ -194,7 +194,8 @@ fn text(z: Complex64) -> String {
 }
 
 /// The numeric series between the ends of `bp` (a finite left end; a finite
-/// right end or infinity), or why it cannot be set up.
+/// right end or infinity), or why it cannot be set up; `var` names the
+/// variable in the description.
 pub fn series(bp: &BoundaryProblem, var: &str) -> Result<MobiusSeries> {
     let Location::At(z0) = bp.ends[0].location else { return Err(usage("the left end must be finite")) };
     let f = factors(bp).map_err(|e| usage(format!("the behaviour at the ends cannot be factored out: {}", e.message)))?;

@@ -1216,7 +1216,7 @@ fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptio
 
 /// Modes by the continued fraction of the numeric series between the ends
 /// (`solve::mobius`), each checked by direct integration seeded 1e-4 away
-/// from its root; seeds from `--guess` or the global spectral method. `why`
+/// from its root; seeds from the guess or the global spectral method. `why`
 /// says why the exact recurrence did not serve. Gives the problem back with
 /// the reason when the series cannot be set up or has no seed.
 fn series_between_ends(
