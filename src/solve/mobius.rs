@@ -43,7 +43,7 @@
 //! minimal solution is the mode, and no partial sum of the series at u = 1
 //! is needed (the sum there is what the minimal solution makes converge).
 
-use super::boundary::{BoundaryProblem, Location};
+use super::boundary::{BoundaryProblem, Location, Nature};
 use super::cf::{NPoly, NumRecurrence};
 use super::global::{divide_common, factored, factors, Bi};
 use crate::error::{Error, ErrorKind, Result};
@@ -240,10 +240,13 @@ pub fn series(bp: &BoundaryProblem, var: &str) -> Result<MobiusSeries> {
         Some(z) => format!("{var} = {}", text(z)),
         None => format!("{var} = ∞"),
     };
-    let radius_text = if radius.is_finite() {
-        format!("convergence radius {radius:.6} (set by {limit})")
-    } else {
-        "no other singular point: the series converges everywhere".to_string()
+    let radius_text = match (radius.is_finite(), bp.ends[1].nature) {
+        // Leaver's condition: the mode's series converges at u = 1 itself, not beyond.
+        (true, Nature::IrregularRank1) => format!(
+            "the other singular points lie at |u| ≥ {radius:.6} (set by {limit}); the far end is irregular, so the mode's series converges up to u = 1"
+        ),
+        (true, _) => format!("convergence radius {radius:.6} (set by {limit})"),
+        (false, _) => "no other singular point".to_string(),
     };
     let description = format!(
         "ψ = (behaviour chosen at both ends) × Σ aₙ uⁿ, {map_text} (Möbius: the left end → 0, the right end → 1, {pole_text} → ∞); {radius_text}; {}-term recurrence with complex double coefficients",
