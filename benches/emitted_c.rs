@@ -4,8 +4,8 @@
 //! passes the complex numbers through pointers, so no complex-number calling
 //! convention is assumed between Rust and C.
 
-use canonode::emit::code::{emit_code, CodeRequest, FunctionKind, FunctionSpec, Lang};
-use canonode::ode::{reduce, Input, ReduceOptions};
+use canonode::code::{emit_code, CodeRequest, FunctionKind, FunctionSpec, Lang};
+use canonode::{reduce, Input, ReduceOptions};
 use criterion::{criterion_group, criterion_main, Criterion};
 use std::hint::black_box;
 

@@ -1,7 +1,7 @@
 //! In-process timing of the exact pipeline (parse, lower, normal form) on
 //! the samples: the figure compared with python-flint in the README.
 
-use canonode::ode::{reduce, Input, ReduceOptions};
+use canonode::{reduce, Input, ReduceOptions};
 use criterion::{criterion_group, criterion_main, Criterion};
 
 fn bench(c: &mut Criterion) {
@@ -19,8 +19,8 @@ fn bench(c: &mut Criterion) {
 /// Schwarzschild s = 2, l = 2, overtones 0..7 to 1e-10 by the continued
 /// fraction, from a reduced equation (the compute the README reports).
 fn bench_spectrum(c: &mut Criterion) {
-    use canonode::algebra::{GRat, Rat};
-    use canonode::solve::spectrum::{barrier_estimates, qnm_modes, qnm_recurrence, SpectrumOptions};
+    use canonode::numeric::{barrier_estimates, qnm_modes, qnm_recurrence, SpectrumOptions};
+    use canonode::{GRat, Rat};
     let path = format!("{}/samples/regge_wheeler.ode", env!("CARGO_MANIFEST_DIR"));
     let text = std::fs::read_to_string(&path).expect("sample exists");
     let red = reduce(&Input::Program(&text), &ReduceOptions::default()).expect("reduces");
@@ -28,7 +28,7 @@ fn bench_spectrum(c: &mut Criterion) {
     let opts = SpectrumOptions { freq: 2, values: vec![g(0), g(1), g(0), g(2), g(2)], overtones: (0, 7), tol: 1e-10, guess: None, seeds: Vec::new() };
     let (_, setup) = qnm_recurrence(&red, &opts).expect("recurrence");
     let seeds: Vec<_> = {
-        let est = barrier_estimates(&red, &opts, setup.horizon_value, canonode::solve::wkb::SEED_ORDER).expect("barrier");
+        let est = barrier_estimates(&red, &opts, setup.horizon_value, canonode::numeric::SEED_ORDER).expect("barrier");
         (0..2).filter_map(|n| est(n).and_then(|b| b.series.seed()).map(|(w, _)| w)).collect()
     };
     let opts = SpectrumOptions { seeds, ..opts.clone() };
@@ -45,9 +45,8 @@ fn bench_spectrum(c: &mut Criterion) {
 /// The numeric part alone: the continued fractions of overtones 0..7 on
 /// the already derived recurrence, each seeded from the previous ones.
 fn bench_cf_only(c: &mut Criterion) {
-    use canonode::algebra::{GRat, Rat};
-    use canonode::solve::cf::{find_root, try_numeric};
-    use canonode::solve::spectrum::{qnm_recurrence, SpectrumOptions};
+    use canonode::numeric::{find_root, qnm_recurrence, try_numeric, SpectrumOptions};
+    use canonode::{GRat, Rat};
     use num_complex::Complex64;
     let path = format!("{}/samples/regge_wheeler.ode", env!("CARGO_MANIFEST_DIR"));
     let text = std::fs::read_to_string(&path).expect("sample exists");

@@ -2,9 +2,8 @@
 //! (Schwarzschild s = 0, l = 0..5, 200 frequencies), the figures behind the
 //! README's whole-process numbers.
 
-use canonode::algebra::{GRat, Rat};
-use canonode::ode::{reduce, Input, ReduceOptions};
-use canonode::solve::spectrum::{barrier_estimates, qnm_recurrence, substitute, SpectrumOptions};
+use canonode::numeric::{barrier_estimates, qnm_recurrence, substitute, SpectrumOptions};
+use canonode::{reduce, GRat, Input, Rat, ReduceOptions};
 use criterion::{criterion_group, criterion_main, Criterion};
 use rayon::prelude::*;
 
@@ -36,7 +35,7 @@ fn bench(c: &mut Criterion) {
             let o = at(l, 0);
             let r = substitute(&red, &o.values, 2).expect("substitutes");
             let (_, setup) = qnm_recurrence(&r, &o).expect("recurrence");
-            canonode::solve::scatter::problem(&r, &o, &setup).expect("problem")
+            canonode::numeric::scatter_problem(&r, &o, &setup).expect("problem")
         })
         .collect();
     let freqs: Vec<f64> = (1..=200).map(|i| 0.005 * i as f64).collect();
@@ -45,7 +44,7 @@ fn bench(c: &mut Criterion) {
     group.bench_function("schwarzschild_s0_l0-5_200_frequencies", |b| {
         b.iter(|| {
             let jobs: Vec<(usize, f64)> = problems.iter().enumerate().flat_map(|(j, _)| freqs.iter().map(move |w| (j, *w))).collect();
-            let out: Vec<_> = jobs.par_iter().map(|(j, w)| canonode::solve::scatter::scatter_at(&problems[*j], *w).expect("scatters")).collect();
+            let out: Vec<_> = jobs.par_iter().map(|(j, w)| canonode::numeric::scatter_at(&problems[*j], *w).expect("scatters")).collect();
             out
         })
     });

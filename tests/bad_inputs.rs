@@ -4,8 +4,7 @@
 //! error, then runs the compiled binary, as a user would, and snapshots what
 //! it prints on stderr together with its exit status.
 
-use canonode::error::ErrorKind;
-use canonode::ode::{reduce, Input, ReduceOptions};
+use canonode::{reduce, ErrorKind, Input, ReduceOptions};
 use std::path::Path;
 use std::process::Command;
 

@@ -2,7 +2,7 @@
 //! singular structure, exponents, classes and canonical parameters of
 //! DLMF's forms and of the black-hole samples. Each check names its source.
 
-use canonode::ode::{reduce, Input, ReduceOptions};
+use canonode::{reduce, Input, ReduceOptions};
 use serde_json::Value;
 use std::process::Command;
 
@@ -255,6 +255,40 @@ fn regge_wheeler_recurrence_matches_leaver() {
     // Up to one overall normalisation λ: c₀ = λα, c₁ = λβ, c₂ = λγ.
     assert!(same(&format!("({}) * ({beta})", c[0]), &format!("({}) * ({alpha})", c[1])), "β/α");
     assert!(same(&format!("({}) * ({gamma})", c[0]), &format!("({}) * ({alpha})", c[2])), "γ/α");
+}
+
+#[test]
+fn a_massive_field_s_recurrence_adjoins_its_decay_rate_and_tends_to_leaver_s() {
+    // A massive scalar on Schwarzschild: at infinity the formal solutions are
+    // e^(±χr) with χ² = μ² − ω², not exact in the parameters, so χ is
+    // adjoined as a symbol (μ² = ω² + χ²). At μ = 0 the outgoing branch is
+    // χ = −iω, and the recurrence must become Leaver's (1985, s = 0, units
+    // 2M = 1, ρ = −iω) for the same ingoing exponent at the horizon.
+    let v = run(&["recurrence", "tests/boundary/massive_scalar_schwarzschild.ode", "--about", "2*M", "--exponents", "2*M=2", "--format", "json"]);
+    assert_eq!(v["terms"], 3);
+    let choices: Vec<&str> = v["choices"].as_array().unwrap().iter().map(|c| c.as_str().unwrap()).collect();
+    assert!(choices.iter().any(|c| c.contains("χ = √(mu^2 - omega^2)") && c.contains("mu^2 = omega^2 + χ^2")), "{choices:?}");
+    let c: Vec<String> = v["coefficients"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|x| x["coefficient"].as_str().unwrap().replace('M', "(1/2)").replace('χ', "(-I*omega)"))
+        .collect();
+    let rho = "(-I*omega)";
+    let alpha = format!("n^2 + (2*{rho} + 2)*n + 2*{rho} + 1");
+    let beta = format!("-(2*n^2 + (8*{rho} + 2)*n + 8*{rho}^2 + 4*{rho} + l*(l + 1) + 1)");
+    let gamma = format!("n^2 + 4*{rho}*n + 4*{rho}^2");
+    assert!(same(&format!("({}) * ({beta})", c[0]), &format!("({}) * ({alpha})", c[1])), "β/α");
+    assert!(same(&format!("({}) * ({gamma})", c[0]), &format!("({}) * ({alpha})", c[2])), "γ/α");
+    // With no parameter named like a frequency, the option names it.
+    let out = Command::new(env!("CARGO_BIN_EXE_canonode"))
+        .args(["recurrence", "-e", "(1-2/r)*((1-2/r)*u')' + (nu^2 - (1-2/r)*(2/r^3 + m^2))*u = 0", "--var", "r", "--about", "2"])
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(err.contains("name the frequency with --frequency"), "{err}");
 }
 
 #[test]

@@ -7,8 +7,7 @@
 //! canonode's parser as the Q of `ψ'' + E ψ = 0` (p = 0, so Q = E exactly);
 //! equality is equality of canonical forms.
 
-use canonode::algebra::RatFunc;
-use canonode::ode::{reduce, schwarzian, transform_q, Input, ReduceOptions, Reduction};
+use canonode::{reduce, schwarzian, transform_q, Input, RatFunc, ReduceOptions, Reduction};
 use std::path::Path;
 
 fn sample(stem: &str) -> String {

@@ -4,8 +4,7 @@
 //! canonical RatFunc) to a relative error of 1e-12 at random points; the op
 //! counts meet their targets; bad requests exit 2.
 
-use canonode::algebra::{GRat, Int, Rat, RatFunc};
-use canonode::ode::{reduce, Input, ReduceOptions, Reduction};
+use canonode::{reduce, GRat, Input, Int, Rat, RatFunc, ReduceOptions, Reduction};
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
@@ -286,8 +285,8 @@ fn regge_wheeler_recurrence_about_the_horizon_matches_exact_values() {
     // The horizon r = 2M with the ingoing exponent and the outgoing branch at infinity (README's example).
     let f = Path::new(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/regge_wheeler.ode"));
     let red = reduced(f, None);
-    let choices = canonode::analysis::canonical::Choices { picks: vec![("2*M".into(), 2), ("inf".into(), 1)], ..Default::default() };
-    let rec = canonode::series::recurrence(&red, "2*M", None, &choices, false).unwrap();
+    let choices = canonode::Choices { picks: vec![("2*M".into(), 2), ("inf".into(), 1)], ..Default::default() };
+    let rec = canonode::recurrence(&red, "2*M", None, &choices, false).unwrap();
     let args = ["--what", "recurrence", "--about", "2*M", "--exponents", "2*M=2,inf=1"];
     check(f.to_str().unwrap(), &args, Call::Recurrence(rec.coeffs.len()), &rec.coeffs, rec.field.names().len(), "rw-recurrence");
 }
@@ -300,8 +299,8 @@ fn kerr_recurrence_about_the_adjoined_horizon_matches_exact_values() {
     // and compared with the exact coefficients at random points, θ included.
     let f = Path::new(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/teukolsky_radial.ode"));
     let red = reduced(f, None);
-    let choices = canonode::analysis::canonical::Choices { picks: vec![("θ".into(), 2), ("inf".into(), 1)], ..Default::default() };
-    let root = canonode::series::recurrence_about_root(&red, &choices).unwrap();
+    let choices = canonode::Choices { picks: vec![("θ".into(), 2), ("inf".into(), 1)], ..Default::default() };
+    let root = canonode::recurrence_about_root(&red, &choices).unwrap();
     let rec = root.rec;
     assert_eq!((rec.coeffs.len(), root.exponent), (3, 1));
     assert_eq!(root.meaning, "θ, a root of r^2 - 2*M*r + a^2");
@@ -336,7 +335,7 @@ fn op_counts_meet_their_targets() {
     for f in samples() {
         let red = reduced(&f, None);
         let named: Vec<_> = red.ode.lets.iter().map(|(_, v)| v.clone()).collect();
-        let ch = canonode::present::choose(&red.field, std::slice::from_ref(&red.normal.q), &named, &Default::default()).unwrap();
+        let ch = canonode::choose(&red.field, std::slice::from_ref(&red.normal.q), &named, &Default::default()).unwrap();
         assert!(ch.emitted.flops() <= ch.horner.flops() && ch.emitted.total() <= ch.horner.total(), "{}: {ch:?}", f.display());
         assert_eq!(ch.program.to_ratfuncs(&red.field).unwrap(), vec![red.normal.q.clone()]);
         if f.ends_with("teukolsky_radial.ode") {

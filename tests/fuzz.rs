@@ -15,8 +15,7 @@
 //! run is sized for a debug build; `soak` (ignored) runs many more cases:
 //! `cargo test --release --test fuzz -- --ignored`.
 
-use canonode::error::{Error, ErrorKind, Origin};
-use canonode::ode::{reduce, Input, ReduceOptions};
+use canonode::{reduce, Error, ErrorKind, Input, Origin, ReduceOptions};
 use std::path::Path;
 use std::sync::mpsc;
 use std::time::{Duration, Instant};
@@ -592,8 +591,8 @@ struct Oracle {
 }
 
 impl Oracle {
-    fn check(&self, red: &canonode::ode::Reduction) -> (Option<String>, bool) {
-        use canonode::algebra::{GRat, Int, Rat};
+    fn check(&self, red: &canonode::Reduction) -> (Option<String>, bool) {
+        use canonode::{GRat, Int, Rat};
         if red.field.names() != self.names.as_slice() {
             return (Some(format!("field names {:?}, expected {:?}", red.field.names(), self.names)), false);
         }
@@ -775,13 +774,13 @@ fn links_between_equations_never_panic() {
     // Random link texts over the Teukolsky/spheroidal joint names (and
     // junk): each is a link or a located error, never a panic; every link's
     // expression is free of the radial variable.
-    use canonode::ode::{reduce, Input, ReduceOptions};
+    use canonode::{reduce, Input, ReduceOptions};
     let read = |p: &str| std::fs::read_to_string(format!("{}/samples/{p}", env!("CARGO_MANIFEST_DIR"))).unwrap();
     let (rs, as_) = (read("teukolsky_radial.ode"), read("spheroidal_spin_weighted.ode"));
     let radial = reduce(&Input::Program(&rs), &ReduceOptions::default()).unwrap();
     let angular = reduce(&Input::Program(&as_), &ReduceOptions::default()).unwrap();
-    let names = canonode::solve::coupled::joint_names(&radial.field, &angular.field);
-    let joint = canonode::algebra::Field::new(names, radial.field.limits().clone()).unwrap();
+    let names = canonode::numeric::joint_names(&radial.field, &angular.field);
+    let joint = canonode::Field::new(names, radial.field.limits().clone()).unwrap();
     let targets = ["lam", "c", "A", "omega", "r", "x", "", "lam lam", "λ"];
     let mut rng = Rng::new(0x5EED_1111);
     let (mut ok, mut err) = (0, 0);
@@ -795,9 +794,8 @@ fn links_between_equations_never_panic() {
             0 => body.clone(),
             _ => format!("{} = {body}", rng.pick(&targets)),
         };
-        let res = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
-            canonode::solve::coupled::try_link(&text, &joint, &radial.field, &angular.field)
-        }));
+        let res =
+            std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| canonode::numeric::try_link(&text, &joint, &radial.field, &angular.field)));
         match res {
             Ok(Ok(l)) => {
                 assert!(!l.expr.uses_var(0), "{text}");
@@ -1063,10 +1061,21 @@ fn commands() {
 fn commands_soak() {
     // CANONODE_FUZZ_CASES sets the number of command lines (default 10⁶).
     let cases = std::env::var("CANONODE_FUZZ_CASES").ok().and_then(|s| s.parse().ok()).unwrap_or(1_000_000usize);
+    // Every batch runs, failing or not, so that one long run shows every
+    // failure; the test fails at the end if any batch did.
     let mut done = 0;
     let mut seed = 1u64;
+    let mut failed = Vec::new();
     while done < cases {
-        done += run_commands(seed.wrapping_mul(0x9E37_79B9_7F4A_7C15), (cases - done).min(10_000));
+        let batch = (cases - done).min(10_000);
+        let s = seed.wrapping_mul(0x9E37_79B9_7F4A_7C15);
+        match std::panic::catch_unwind(|| run_commands(s, batch)) {
+            Ok(_) => {}
+            Err(_) => failed.push(seed),
+        }
+        done += batch;
         seed += 1;
+        eprintln!("soak: {done} command lines, failing batches so far {failed:?}");
     }
+    assert!(failed.is_empty(), "failing batches (seed numbers): {failed:?}");
 }

@@ -76,16 +76,19 @@ fn ladder(path: &str, at: &str, range: &str) -> Vec<(u64, (f64, f64))> {
 fn a_deep_window_holds_the_twelve_lowest_modes_and_the_special_point() {
     // Schwarzschild s = l = 2, M = 1, Re ω ∈ [−2, 2], Im ω ∈ [−3.2, 0], no
     // guess. The overtones 0…12 except 8 (n = 8 sits at the algebraically
-    // special frequency Ω = −i(l − 1)l(l + 1)(l + 2)/12 = −2i, where the
-    // recurrence degenerates; Maassen van den Brink, Phys. Rev. D 62 (2000)
-    // 064009: the Regge–Wheeler equation has no mode at Ω itself, from
-    // memory) equal the continued fraction of `--overtones` to ≥ 8 digits,
-    // each with its mirror −ω̄, and nothing else: no spurious mode.
+    // special frequency Ω = −i(l − 1)l(l + 1)(l + 2)/12 = −2i, Chandrasekhar,
+    // where the recurrence degenerates; Maassen van den Brink, Phys. Rev. D
+    // 62 (2000) 064009: the Regge–Wheeler equation has no mode at Ω itself,
+    // from memory) equal the continued fraction of `--overtones` to ≥ 8
+    // digits, each with its mirror −ω̄; overtone 8 is reported at Ω exactly,
+    // as the special point; and nothing else: no spurious mode.
     let v = region("samples/regge_wheeler.ode", "M=1,l=2,s=2", "-2..2,-3.2..0");
-    let want = ladder("samples/regge_wheeler.ode", "M=1,l=2,s=2", "0..12");
-    assert_eq!(want.iter().map(|(n, _)| *n).collect::<Vec<_>>(), [0, 1, 2, 3, 4, 5, 6, 7, 9, 10, 11, 12]);
+    let all = ladder("samples/regge_wheeler.ode", "M=1,l=2,s=2", "0..12");
+    assert_eq!(all.iter().map(|(n, _)| *n).collect::<Vec<_>>(), (0..=12).collect::<Vec<_>>());
+    assert_eq!(all[8].1, (0.0, -2.0), "the special point is exact");
+    let want: Vec<_> = all.into_iter().filter(|(n, _)| *n != 8).collect();
     let ms = v["modes"].as_array().unwrap();
-    assert_eq!(ms.len(), 2 * want.len(), "{ms:#?}");
+    assert_eq!(ms.len(), 2 * want.len() + 1, "{ms:#?}");
     for (n, w) in &want {
         let size = w.0.hypot(w.1);
         let m = ms.iter().find(|m| m["n"] == *n && m["mirror_of"].is_null()).unwrap_or_else(|| panic!("overtone {n} missing"));
@@ -105,12 +108,16 @@ fn a_deep_window_holds_the_twelve_lowest_modes_and_the_special_point() {
     // n = 0 against Leaver 1985 (Proc. R. Soc. A 402, 285; from memory).
     let (re, im) = c(&ms[0]["omega"]);
     assert!((re - 0.37367168).abs() <= 5.1e-9 && (im + 0.08896232).abs() <= 5.1e-9, "{re} {im}");
-    // Overtone 8 is reported at the algebraically special point, with the ladder's note.
+    // Overtone 8 is reported at the algebraically special point, exactly, with the note.
     let un = v["unsettled"].as_array().unwrap();
-    assert_eq!(un.len(), 1, "{un:#?}");
-    assert_eq!(un[0]["n"], 8);
-    let (dre, dim) = c(&un[0]["degenerate_point"]);
-    assert!(dre.abs() < 1e-12 && (dim + 2.0).abs() < 1e-12, "{dre} {dim}");
+    assert!(un.is_empty(), "{un:#?}");
+    let special = ms.iter().find(|m| m["n"] == 8).expect("overtone 8");
+    assert_eq!(c(&special["omega"]), (0.0, -2.0));
+    assert_eq!(
+        (special["found_by"].as_str(), special["polished_by"].as_str(), special["family"].as_str()),
+        (Some("special"), Some("special"), Some("purely imaginary"))
+    );
+    assert!(special["check"].is_null() && special["check_note"].as_str().unwrap().contains("no numeric check"), "{special}");
     let notes: Vec<&str> = v["notes"].as_array().unwrap().iter().map(|n| n.as_str().unwrap()).collect();
     assert!(notes.iter().any(|n| n.starts_with("overtone 8 ") && n.contains("algebraically special")), "{notes:#?}");
     assert!(v["not_confirmed"].as_array().unwrap().is_empty(), "{}", v["not_confirmed"]);

@@ -19,9 +19,7 @@
 //! random point does not count against the double-precision route.
 
 #![allow(clippy::needless_range_loop)] // index loops over fixed-size coefficient tables
-use canonode::algebra::{GRat, Int, Rat};
-use canonode::error::ErrorKind;
-use canonode::ode::{reduce, Input, ReduceOptions};
+use canonode::{reduce, ErrorKind, GRat, Input, Int, Rat, ReduceOptions};
 use num_complex::Complex64;
 
 // Deterministic PRNG (xorshift64*, Vigna 2016; common practice).

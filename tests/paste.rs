@@ -3,14 +3,14 @@
 //! inline-form hygiene. Each check compares canonical forms exactly
 //! (`RatFunc` equality is mathematical equality).
 
-use canonode::ode::{reduce, Input, ReduceOptions};
+use canonode::{reduce, Input, ReduceOptions};
 use std::process::Command;
 
 fn normal_q(input: &Input<'_>) -> (Vec<String>, String) {
     let red = reduce(input, &ReduceOptions::default()).unwrap_or_else(|e| panic!("{input:?}: {e:?}"));
     let mut names = vec![red.var.clone()];
     names.extend(red.ode.params.iter().cloned());
-    let q = canonode::algebra::print::ratfunc_text(&red.normal.q, &names, canonode::algebra::print::Style::Text);
+    let q = canonode::ratfunc_text(&red.normal.q, &names, canonode::Style::Text);
     (names, q)
 }
 
@@ -55,13 +55,13 @@ const RENAMES: &[(&str, &str)] = &[("lambda", "lam"), ("V_0", "V0")];
 /// Q of a LaTeX text re-expressed over the names and order of `ode_src`'s field: the
 /// printed Q (the input language) is read back as `y'' + Q y = 0` in a program that
 /// declares the `.ode` file's variable and parameters.
-fn latex_q_in(ode_src: &str, tex: &str) -> (canonode::algebra::RatFunc, canonode::algebra::RatFunc) {
+fn latex_q_in(ode_src: &str, tex: &str) -> (canonode::RatFunc, canonode::RatFunc) {
     let ode = reduce(&Input::Program(ode_src), &ReduceOptions::default()).unwrap_or_else(|e| panic!("{e:?}"));
     let red = reduce(&Input::Latex(tex), &ReduceOptions::default()).unwrap_or_else(|e| panic!("{tex}: {e:?}"));
     assert_eq!(red.var, ode.var, "the twin's variable");
     let mut names = vec![red.var.clone()];
     names.extend(red.ode.params.iter().cloned());
-    let q = canonode::algebra::print::ratfunc_text(&red.normal.q, &names, canonode::algebra::print::Style::Text);
+    let q = canonode::ratfunc_text(&red.normal.q, &names, canonode::Style::Text);
     let mut program = format!("var {}\n", ode.var);
     if !ode.ode.params.is_empty() {
         program.push_str(&format!("param {}\n", ode.ode.params.join(", ")));

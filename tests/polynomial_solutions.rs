@@ -5,8 +5,7 @@
 //! 31.12.1–3 and by substituting the terminated series back into the
 //! equation with the exact algebra layer.
 
-use canonode::algebra::print::{ratfunc_text, Style};
-use canonode::algebra::{Field, Limits, Rat, RatFunc};
+use canonode::{ratfunc_text, Field, Limits, Rat, RatFunc, Style};
 use num_complex::Complex64;
 use serde_json::Value;
 use std::process::Command;

@@ -5,8 +5,8 @@
 //! and missing sources (the corpus in `tests/bad/records/`) exit with status 2
 //! and a located message.
 
-use canonode::ode::ReduceOptions;
 use canonode::record::{compare, derive, Record};
+use canonode::ReduceOptions;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
@@ -43,7 +43,7 @@ fn temp_dir(name: &str) -> PathBuf {
 /// functions: y'' + (A − B) y = 0 has Q = 0 exactly iff A = B.
 fn same(a: &str, b: &str) -> bool {
     let eq = format!("y'' + (({a}) - ({b}))*y = 0");
-    match canonode::ode::reduce(&canonode::ode::Input::Inline { equation: &eq, var: "r" }, &ReduceOptions::default()) {
+    match canonode::reduce(&canonode::Input::Inline { equation: &eq, var: "r" }, &ReduceOptions::default()) {
         Ok(r) => r.normal.q.is_zero(),
         Err(e) => panic!("cannot compare '{a}' and '{b}': {}", e.message),
     }

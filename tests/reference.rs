@@ -15,9 +15,7 @@
 //! - Q at the golden's four points (exact decimal coordinates, evaluated
 //!   exactly by canonode and rounded once), to relative 1e-14.
 
-use canonode::algebra::print::{poly_text, Style};
-use canonode::algebra::{GRat, Int, Poly, Rat, RatFunc};
-use canonode::ode::{reduce, Input, ReduceOptions, Reduction};
+use canonode::{poly_text, reduce, GRat, Input, Int, Poly, Rat, RatFunc, ReduceOptions, Reduction, Style};
 use serde_json::Value;
 use std::path::{Path, PathBuf};
 
@@ -162,7 +160,7 @@ fn check_golden(root: &Path, golden_path: &PathBuf) -> Vec<String> {
     if *q != q_ref {
         problems.push(format!(
             "{stem}: Q differs from the reference\n  canonode:  {}\n  reference: ({num})/({den})",
-            canonode::algebra::print::ratfunc_text(q, &names, Style::Text)
+            canonode::ratfunc_text(q, &names, Style::Text)
         ));
     }
 

@@ -53,7 +53,7 @@ fn roots_of_equal_modulus_are_found() {
     // z⁴ − 5 = 0: z = 5^(1/4)·i^k (exact).
     use num_complex::Complex64;
     let c = [Complex64::new(-5.0, 0.0), Complex64::new(0.0, 0.0), Complex64::new(0.0, 0.0), Complex64::new(0.0, 0.0), Complex64::new(1.0, 0.0)];
-    let roots = canonode::analysis::numeric::try_roots(&c).expect("roots");
+    let roots = canonode::numeric::try_roots(&c).expect("roots");
     let r = 5f64.powf(0.25);
     for want in [Complex64::new(-r, 0.0), Complex64::new(0.0, -r), Complex64::new(0.0, r), Complex64::new(r, 0.0)] {
         assert!(roots.iter().any(|z| (z - want).norm() < 1e-12), "{want} not in {roots:?}");
@@ -62,7 +62,7 @@ fn roots_of_equal_modulus_are_found() {
     let mut c = vec![Complex64::new(0.0, 0.0); 9];
     c[0] = Complex64::new(-1.0, 0.0);
     c[8] = Complex64::new(1.0, 0.0);
-    let roots = canonode::analysis::numeric::try_roots(&c).expect("roots");
+    let roots = canonode::numeric::try_roots(&c).expect("roots");
     assert_eq!(roots.len(), 8);
     for z in roots {
         assert!((z.powu(8) - 1.0).norm() < 1e-12, "{z}");

@@ -5,8 +5,7 @@
 //! normal form is known from its source, the value of Q at a point is checked
 //! against that formula, computed here independently in floating point.
 
-use canonode::algebra::{GRat, Int, Rat};
-use canonode::ode::{reduce, Input, ReduceOptions};
+use canonode::{reduce, GRat, Input, Int, Rat, ReduceOptions};
 use num_complex::Complex64;
 use std::io::Write;
 use std::path::Path;

@@ -556,8 +556,7 @@ fn coupled_requests_with_bad_links_are_usage_errors() {
 /// fraction: its exact value at c = 0 (the terminating series) and its value
 /// at `c`, reached in 8 continuation steps, each asserted converged.
 fn spheroidal_eigenvalue(s: i64, m: i64, j: usize, c: num_complex::Complex64) -> (num_complex::Complex64, num_complex::Complex64) {
-    use canonode::algebra::{GRat, Rat};
-    use canonode::ode::{reduce, Input, ReduceOptions};
+    use canonode::{reduce, GRat, Input, Rat, ReduceOptions};
     let src = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/spheroidal_spin_weighted.ode")).unwrap();
     let red = reduce(&Input::Program(&src), &ReduceOptions::default()).unwrap();
     let names = red.field.names().to_vec();
@@ -565,7 +564,7 @@ fn spheroidal_eigenvalue(s: i64, m: i64, j: usize, c: num_complex::Complex64) ->
     let mut known: Vec<Option<GRat>> = vec![None; names.len()];
     known[idx("s")] = Some(GRat::real(Rat::int(s.into())));
     known[idx("m")] = Some(GRat::real(Rat::int(m.into())));
-    let ang = canonode::solve::coupled::try_angular(&red, &known, &[idx("c")], j, (0..names.len()).collect()).unwrap();
+    let ang = canonode::numeric::try_angular(&red, &known, &[idx("c")], j, (0..names.len()).collect()).unwrap();
     let seed = ang.seed.clone().expect("terminating at c = 0").0;
     let mut vals = vec![num(0.0, 0.0); names.len()];
     vals[idx("s")] = num(s as f64, 0.0);
@@ -746,7 +745,7 @@ fn schwarzschild_anti_de_sitter_modes_with_a_normalisable_boundary() {
     for (m, want) in [("1", (2.7982f64, -2.6712f64)), ("505", (18.607, -26.642))] {
         let at = format!("M={m},L=1,l=0");
         let (v, ms) = modes_of("tests/boundary/schwarzschild_ads_scalar.ode", &at, &[]);
-        assert_eq!(v["ends"][1]["at"], "inf");
+        assert_eq!(v["ends"][1]["at"], "infinity");
         assert_eq!(v["ends"][1]["condition"], "normalisable");
         assert_eq!(v["ends"][0]["condition"], "into");
         let (re, im) = omega(&ms[0]);
@@ -953,20 +952,35 @@ fn schwarzschild_overtones_past_the_algebraically_special_frequency() {
         assert!((re - re_w).abs() < 1e-4 && (im - im_w).abs() < 1e-4, "n={n}: {re} {im}");
     }
     // n = 8 sits at Ω = −i(l − 1)l(l + 1)(l + 2)/12 = −2i (M = 1; Chandrasekhar):
-    // where it is not converged, the report says plainly that it was sought
-    // next to the point where the recurrence degenerates (k = 7, exponents
-    // differing by 8), never a bare failure.
-    if ms[8]["converged"] != true {
-        let (v, code, err) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--overtones", "0..12", "--format", "json"]);
-        assert_eq!(code, 0, "{err}");
-        let notes: Vec<String> = v["notes"].as_array().unwrap().iter().map(|n| n.as_str().unwrap().to_string()).collect();
-        assert!(
-            notes.iter().any(|n| n.starts_with("overtone 8") && n.contains("-2.000000i") && n.contains("k = 7") && n.contains("integer 8")),
-            "{notes:?}"
-        );
-        // Only the mode next to the point is flagged.
-        assert_eq!(notes.len(), 1, "{notes:?}");
-    }
+    // reported at Ω exactly, as the algebraically special point (the
+    // recurrence's leading coefficient vanishes at k = 7, the horizon's
+    // exponents differ by 8, and the first 8 equations close exactly), with
+    // a note that says plainly why it needs care (Maassen van den Brink,
+    // Phys. Rev. D 62 (2000) 064009, from memory: no Regge–Wheeler mode at Ω).
+    assert_eq!((ms[8]["converged"].as_bool(), ms[8]["method"].as_str()), (Some(true), Some("special")), "{}", ms[8]);
+    assert_eq!(omega(&ms[8]), (0.0, -2.0));
+    assert_eq!(ms[8]["check"]["method"], "exact");
+    let (v, code, err) = run(&["spectrum", "samples/regge_wheeler.ode", "--at", "M=1,l=2,s=2", "--overtones", "0..12", "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    let notes: Vec<String> = v["notes"].as_array().unwrap().iter().map(|n| n.as_str().unwrap().to_string()).collect();
+    assert!(
+        notes
+            .iter()
+            .any(|n| n.starts_with("overtone 8 is the algebraically special point ω = -2*I") && n.contains("k = 7") && n.contains("integer 8")),
+        "{notes:?}"
+    );
+    // Only the mode at the point is flagged.
+    assert_eq!(notes.len(), 1, "{notes:?}");
+    // Asked alone, overtone 8 is the same point: the ladder counts from the
+    // fundamental (a first estimate of a high overtone can lie nearer another).
+    let alone = modes("regge_wheeler", "M=1,l=2,s=2", "8", &[]);
+    assert_eq!((alone.len(), omega(&alone[0])), (1, (0.0, -2.0)));
+    let ten = modes("regge_wheeler", "M=1,l=2,s=2", "10..11", &[]);
+    assert_eq!(ten.iter().map(omega).collect::<Vec<_>>(), [omega(&ms[10]), omega(&ms[11])]);
+    // Where the recurrence degenerates but the first equations do not close
+    // (s = 1: no algebraically special frequency), nothing is special.
+    let em = modes("regge_wheeler", "M=1,l=2,s=1", "0..12", &[]);
+    assert!(em.iter().all(|m| m["method"] != "special"), "{em:#?}");
     // No overtone is reported twice and Im ω decreases with n.
     let conv: Vec<(f64, f64)> = ms.iter().filter(|m| m["converged"] == true).map(omega).collect();
     for w in conv.windows(2) {

@@ -9,12 +9,19 @@
 //!   limit), counted so the number cannot grow unseen;
 //! - command-line option names (`--name`) appear only in `cli`: the library
 //!   names an input of the request by `error::RequestInput`, and each front
-//!   end spells it (the command line as its option, Python as its keyword).
+//!   end spells it (the command line as its option, Python as its keyword);
+//! - the public surface is the list chosen in `src/lib.rs`: the stage modules
+//!   are private, the only public modules are the facades named in the crate
+//!   documentation, and no `pub use` there re-exports a whole module.
 
 use std::path::{Path, PathBuf};
 
 /// The pipeline's stages in order; a stage may import from itself and from earlier ones.
 const STAGES: &[&str] = &["syntax", "algebra", "ode", "analysis", "series", "solve", "present", "emit", "cli"];
+
+/// The public modules of `src/lib.rs`: facades of chosen `pub use` items,
+/// each named in the crate documentation.
+const FACADES: &[&str] = &["code", "command", "numeric", "record"];
 
 /// Lines mentioning `f64` allowed per file of the exact layer (tests excluded).
 const FLOATS_IN_ALGEBRA: &[(&str, usize)] = &[("src/algebra/int.rs", 11), ("src/algebra/rational.rs", 6), ("src/algebra/ratfunc.rs", 5)];
@@ -152,4 +159,60 @@ fn the_option_check_sees_prose() {
     assert!(names_an_option(r#"usage("give --guess")"#));
     assert!(names_an_option(r#"in_option("--at")"#));
     assert!(!names_an_option("a - -b; x--; // ---- rule"));
+}
+
+/// The paths a `pub use` statement names (after `pub use `), a group
+/// `a::{b, c as d}` expanded, renames and a leading `crate::` dropped.
+fn used_paths(statement: &str) -> Vec<String> {
+    let statement: String = statement.split_whitespace().collect::<Vec<_>>().join(" ");
+    let strip = |p: &str| p.split(" as ").next().unwrap_or(p).trim().trim_start_matches("crate::").to_string();
+    match statement.split_once('{') {
+        Some((head, group)) => {
+            group.trim_end_matches('}').split(',').filter(|x| !x.trim().is_empty()).map(|x| strip(&format!("{head}{}", x.trim()))).collect()
+        }
+        None => vec![strip(&statement)],
+    }
+}
+
+/// True when `path` (`emit::record`) names a module of the crate: a file
+/// `src/emit/record.rs` or a folder with `mod.rs`.
+fn names_a_module(path: &str) -> bool {
+    let file = path.replace("::", "/");
+    root().join(format!("src/{file}.rs")).is_file() || root().join(format!("src/{file}/mod.rs")).is_file()
+}
+
+#[test]
+fn the_public_surface_is_the_curated_list() {
+    let lib = root().join("src/lib.rs");
+    let text = std::fs::read_to_string(&lib).expect("src/lib.rs");
+    let mut bad = Vec::new();
+    let lines = code_lines(&lib);
+    for (n, line) in &lines {
+        let Some(rest) = line.trim_start().strip_prefix("pub mod ") else { continue };
+        let name = rest.trim_end_matches(['{', ';', ' ']).trim();
+        if !FACADES.contains(&name) {
+            bad.push(format!(
+                "src/lib.rs:{n}: 'pub mod {name}' is not one of the facades {FACADES:?} (make the module private and re-export chosen items)"
+            ));
+        } else if !text.contains(&format!("[`{name}`]")) {
+            bad.push(format!("src/lib.rs:{n}: the facade '{name}' is not named in the crate documentation"));
+        }
+    }
+    let code: Vec<String> = lines.into_iter().map(|(_, l)| l).collect();
+    for statement in code.join("\n").split(';') {
+        let Some(i) = statement.find("pub use ") else { continue };
+        for path in used_paths(&statement[i + "pub use ".len()..]) {
+            if names_a_module(&path) {
+                bad.push(format!("src/lib.rs: 'pub use {path}' re-exports a whole module (re-export its chosen items)"));
+            }
+        }
+    }
+    assert!(bad.is_empty(), "the public surface widened:\n{}", bad.join("\n"));
+}
+
+#[test]
+fn the_surface_check_sees_modules() {
+    assert_eq!(used_paths("crate::emit::code::{emit_code, Lang as L}"), ["emit::code::emit_code", "emit::code::Lang"]);
+    assert!(names_a_module("emit::record") && names_a_module("analysis") && names_a_module("analysis::canonical"));
+    assert!(!names_a_module("solve::scan::scan") && !names_a_module("ode::reduce"));
 }

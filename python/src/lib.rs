@@ -21,11 +21,7 @@
 
 mod workflows;
 
-use canonode::algebra::print::{ratfunc_text, Style};
-use canonode::algebra::{GRat, Rat};
-use canonode::error::{Error, ErrorKind, Origin, RequestInput};
-use canonode::ode::{Input, ReduceOptions};
-use canonode::syntax::Span;
+use canonode::{ratfunc_text, Error, ErrorKind, GRat, Input, Origin, Rat, ReduceOptions, RequestInput, Span, Style};
 use num_complex::Complex64;
 use pyo3::exceptions::{PyRuntimeError, PyValueError};
 use pyo3::prelude::*;
@@ -127,7 +123,7 @@ fn keyword(origin: &Origin) -> String {
 /// line spells them: the package's documents and messages are the command
 /// line's, word for word (the tests compare them).
 pub(crate) fn named(text: &str) -> String {
-    canonode::error::name_inputs(text, canonode::command::flag)
+    canonode::name_inputs(text, canonode::command::flag)
 }
 
 /// A library error rendered against the text it points into: the input, an
@@ -144,10 +140,10 @@ pub(crate) fn fail(e: &Error, spec: &Spec, extra: &[(String, String)]) -> Fail {
             (kw, text)
         }
     };
-    let message = named(canonode::emit::diagnostic::render(e, &name, &text).trim_end());
+    let message = named(canonode::render_diagnostic(e, &name, &text).trim_end());
     let (line, column) = match e.span {
         Some(s) => {
-            let (l, c) = canonode::emit::diagnostic::line_column(&text, s);
+            let (l, c) = canonode::line_column(&text, s);
             (Some(l), Some(c))
         }
         None => (None, None),
@@ -343,12 +339,12 @@ pub(crate) fn point_from(
 fn reduce(py: Python<'_>, input: InputTuple) -> PyResult<PyObject> {
     let spec = Spec::from_tuple(input);
     let v = run(py, move |_| {
-        let red = canonode::ode::reduce(&spec.input(), &spec.options()).map_err(|e| fail(&e, &spec, &[]))?;
+        let red = canonode::reduce(&spec.input(), &spec.options()).map_err(|e| fail(&e, &spec, &[]))?;
         let names = red.field.names().to_vec();
         Ok(serde_json::json!({
-            "json": canonode::emit::reduction_json(&red),
-            "text": canonode::emit::reduction_text(&red, &spec.name),
-            "latex": canonode::emit::reduction_latex(&red),
+            "json": canonode::reduction_json(&red),
+            "text": canonode::reduction_text(&red, &spec.name),
+            "latex": canonode::reduction_latex(&red),
             "names": names,
             "Q_latex": ratfunc_text(&red.normal.q, &names, Style::Latex),
         }))
@@ -370,7 +366,7 @@ fn q_at<'py>(py: Python<'py>, input: InputTuple, values: Values, z: &[u8]) -> Py
         })
         .collect();
     let out = run(py, move |_| {
-        let red = canonode::ode::reduce(&spec.input(), &spec.options()).map_err(|e| fail(&e, &spec, &[]))?;
+        let red = canonode::reduce(&spec.input(), &spec.options()).map_err(|e| fail(&e, &spec, &[]))?;
         let names = red.field.names().to_vec();
         let (text, vals) = read_values(&values, "params", &spec)?;
         let p = point_from(&names, &vals, &[], "params", &text, &spec, &|_| None)?;
@@ -382,7 +378,7 @@ fn q_at<'py>(py: Python<'py>, input: InputTuple, values: Values, z: &[u8]) -> Py
         let mut bytes = Vec::with_capacity(zs.len() * 16);
         for &zv in &zs {
             at[0] = zv;
-            let q = canonode::solve::eval_at(&red.normal.q, &at).unwrap_or(Complex64::new(f64::NAN, f64::NAN));
+            let q = canonode::numeric::eval_at(&red.normal.q, &at).unwrap_or(Complex64::new(f64::NAN, f64::NAN));
             bytes.extend_from_slice(&q.re.to_ne_bytes());
             bytes.extend_from_slice(&q.im.to_ne_bytes());
         }
@@ -402,12 +398,12 @@ fn classify(py: Python<'_>, input: InputTuple, at: Option<Values>, exponents: Op
 }
 
 fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, boundary: Option<&str>) -> Result<Value, Fail> {
-    use canonode::analysis::labels::{boundary_choices, generic_values, label, Boundary};
-    use canonode::analysis::numeric::{evaluate, Values as NumValues};
+    use canonode::numeric::{evaluate, Values as NumValues};
+    use canonode::{boundary_choices, generic_values, label, Boundary};
     let extra: Vec<(String, String)> = exponents.iter().map(|t| ("exponents".to_string(), t.to_string())).collect();
     let lib = |e: Error| fail(&e, spec, &extra);
-    let red = canonode::ode::reduce(&spec.input(), &spec.options()).map_err(lib)?;
-    let an = canonode::analysis::analyse(&red).map_err(lib)?;
+    let red = canonode::reduce(&spec.input(), &spec.options()).map_err(lib)?;
+    let an = canonode::analyse(&red).map_err(lib)?;
     let k = &red.field;
     let names = k.names().to_vec();
     let (values_point, numeric) = match at {
@@ -424,7 +420,7 @@ fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, bound
         None => (None, None),
     };
     let mut choices = match exponents {
-        Some(t) => canonode::analysis::canonical::Choices::parse(t).map_err(|e| lib(e.in_option(RequestInput::Exponents)))?,
+        Some(t) => canonode::Choices::parse(t).map_err(|e| lib(e.in_option(RequestInput::Exponents)))?,
         None => Default::default(),
     };
     let freq_name =
@@ -432,7 +428,9 @@ fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, bound
     let freq = match &freq_name {
         Some(f) => match names.iter().skip(1).position(|n| n == f) {
             Some(i) => Some(i + 1),
-            None => return Err(lib(Error::new(ErrorKind::Usage, format!("'{f}' is not a parameter of the equation")).in_option(RequestInput::Frequency))),
+            None => {
+                return Err(lib(Error::new(ErrorKind::Usage, format!("'{f}' is not a parameter of the equation")).in_option(RequestInput::Frequency)))
+            }
         },
         None => None,
     };
@@ -455,7 +453,7 @@ fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, bound
                 "boundary='qnm' needs a frequency: name it with frequency= (no parameter is called omega)",
             )));
         }
-        let canonode::analysis::labels::ExponentPicks { picks, said: s } = boundary_choices(k, &an, labels.as_ref(), b, &label_point).map_err(lib)?;
+        let canonode::ExponentPicks { picks, said: s } = boundary_choices(k, &an, labels.as_ref(), b, &label_point).map_err(lib)?;
         for (p, c) in picks {
             if !choices.picks.iter().any(|(q, _)| *q == p) {
                 choices.picks.push((p, c));
@@ -463,12 +461,12 @@ fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, bound
         }
         said = s;
     }
-    let canon = canonode::analysis::canonical(&red, &an, &choices).map_err(lib)?;
-    let methods = canonode::analysis::methods::suggest(&an, kind.map(|b| b == Boundary::Bound));
+    let canon = canonode::canonical_form_of(&red, &an, &choices).map_err(lib)?;
+    let methods = canonode::suggest(&an, kind.map(|b| b == Boundary::Bound));
     let vals = values_point.map(NumValues::new);
-    let mut v = canonode::emit::analysis_json(k, &red.var, &red.ode.params, &an, numeric.as_deref(), labels.as_ref());
+    let mut v = canonode::analysis_json(k, &red.var, &red.ode.params, &an, numeric.as_deref(), labels.as_ref());
     v["canonical"] = match &canon {
-        Some(c) => canonode::emit::canonical_json(k, c, vals.as_ref()),
+        Some(c) => canonode::canonical_json(k, c, vals.as_ref()),
         None => Value::Null,
     };
     v["boundary"] = match kind {
@@ -476,13 +474,12 @@ fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, bound
         None => Value::Null,
     };
     v["methods"] = Value::Array(methods.iter().map(|m| serde_json::json!({"method": m.method, "reason": m.reason, "source": m.source})).collect());
-    let mut text = canonode::emit::analysis_text(k, &red.var, &an, numeric.as_deref(), labels.as_ref());
+    let mut text = canonode::analysis_text(k, &red.var, &an, numeric.as_deref(), labels.as_ref());
     if let Some(c) = &canon {
-        text.push_str(&canonode::emit::canonical_text(k, &red.ode.unknown, c, vals.as_ref()));
+        text.push_str(&canonode::canonical_text(k, &red.ode.unknown, c, vals.as_ref()));
     }
-    let picks =
-        kind.map(|b| canonode::emit::BoundaryPicks { kind: if b == Boundary::Qnm { "quasinormal modes" } else { "bound states" }, choices: &said });
-    let latex = canonode::emit::analysis_latex(k, &red.var, &red.ode.unknown, &an, canon.as_ref(), picks.as_ref());
+    let picks = kind.map(|b| canonode::BoundaryPicks { kind: if b == Boundary::Qnm { "quasinormal modes" } else { "bound states" }, choices: &said });
+    let latex = canonode::analysis_latex(k, &red.var, &red.ode.unknown, &an, canon.as_ref(), picks.as_ref());
     Ok(serde_json::json!({"json": v, "text": text, "latex": latex}))
 }
 
@@ -501,10 +498,10 @@ fn emit(
     series: Option<String>,
     exponents: Option<String>,
 ) -> PyResult<String> {
-    use canonode::emit::code::{emit_code, emit_functions, CodeRequest, EmitWhat, Lang};
+    use canonode::code::{emit_code, emit_functions, CodeRequest, EmitWhat, Lang};
     let spec = Spec::from_tuple(input);
     run(py, move |_| {
-        let prefix = prefix.unwrap_or_else(|| canonode::emit::code::prefix_from_source(&spec.name));
+        let prefix = prefix.unwrap_or_else(|| canonode::code::prefix_from_source(&spec.name));
         let mut extra = vec![("lang".to_string(), lang.clone()), ("what".to_string(), what.clone()), ("name".to_string(), prefix.clone())];
         extra.extend(
             [("about", &about), ("series", &series), ("exponents", &exponents)]
@@ -523,7 +520,7 @@ fn emit(
             "all" => EmitWhat::All,
             _ => return Err(usage(format!("'{what}' cannot be emitted: use 'q', 'potential', 'recurrence' or 'all'"), "what", &spec, &extra, None)),
         };
-        if !canonode::emit::code::valid_prefix(&prefix) {
+        if !canonode::code::valid_prefix(&prefix) {
             return Err(usage(
                 format!("'{prefix}' is not an identifier: use ASCII letters, digits and _, not starting with a digit"),
                 "name",
@@ -532,7 +529,7 @@ fn emit(
                 None,
             ));
         }
-        let red = canonode::ode::reduce(&spec.input(), &spec.options()).map_err(|e| fail(&e, &spec, &[]))?;
+        let red = canonode::reduce(&spec.input(), &spec.options()).map_err(|e| fail(&e, &spec, &[]))?;
         if want == EmitWhat::Potential && red.schrodinger.is_none() {
             return Err(usage("what='potential' needs dxdz= (dx/dz of the Schrödinger form, e.g. '1/f')", "what", &spec, &extra, None));
         }
@@ -542,10 +539,10 @@ fn emit(
         let rec = match (&about, matches!(want, EmitWhat::Recurrence | EmitWhat::All)) {
             (Some(p), true) => {
                 let choices = match &exponents {
-                    Some(t) => canonode::analysis::canonical::Choices::parse(t).map_err(|e| fail(&e.in_option(RequestInput::Exponents), &spec, &extra))?,
-                    None => canonode::analysis::canonical::Choices::default(),
+                    Some(t) => canonode::Choices::parse(t).map_err(|e| fail(&e.in_option(RequestInput::Exponents), &spec, &extra))?,
+                    None => canonode::Choices::default(),
                 };
-                Some(canonode::series::requested(&red, p, series.as_deref(), &choices, false).map_err(|e| fail(&e, &spec, &extra))?)
+                Some(canonode::requested(&red, p, series.as_deref(), &choices, false, None).map_err(|e| fail(&e, &spec, &extra))?)
             }
             _ => None,
         };

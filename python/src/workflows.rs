@@ -7,10 +7,8 @@
 //! solved as `canonode spectrum --couple … --link …` solves it.
 
 use crate::{fail, point_from, read_values, usage, Fail, Spec, Values};
-use canonode::algebra::{GRat, Rat};
-use canonode::error::{Error, ErrorKind, Origin};
-use canonode::solve::coupled::Link;
-use canonode::solve::spectrum::SpectrumOptions;
+use canonode::numeric::{Link, SpectrumOptions};
+use canonode::{Error, ErrorKind, GRat, Origin, Rat};
 use num_complex::Complex64;
 use serde_json::{json, Value};
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -65,7 +63,11 @@ fn frequency(spec: &Spec, names: &[String], bound: bool) -> Result<(usize, Strin
     };
     match names.iter().skip(1).position(|n| *n == fname) {
         Some(i) => Ok((i + 1, fname)),
-        None => Err(fail(&Error::new(ErrorKind::Usage, format!("'{fname}' is not a parameter of the equation")).in_option(canonode::error::RequestInput::Frequency), spec, &[])),
+        None => Err(fail(
+            &Error::new(ErrorKind::Usage, format!("'{fname}' is not a parameter of the equation")).in_option(canonode::RequestInput::Frequency),
+            spec,
+            &[],
+        )),
     }
 }
 
@@ -128,9 +130,9 @@ fn check_numbers(spec: &Spec, req: &Request) -> Result<(), Fail> {
 /// A spectrum: the document of `canonode spectrum --format json`, from the
 /// same library call (`solve::request::spectrum`) and the same renderer.
 pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
-    use canonode::solve::request::{Method, Problem, SpectrumRequest, ANGULAR_ORIGIN};
+    use canonode::numeric::{Method, Problem, SpectrumRequest, ANGULAR_ORIGIN};
     let lib = |e: Error| fail(&e, spec, &[]);
-    let red = canonode::ode::reduce(&spec.input(), &spec.options()).map_err(lib)?;
+    let red = canonode::reduce(&spec.input(), &spec.options()).map_err(lib)?;
     let problem = match req.boundary.as_deref() {
         None => Problem::natural(&red),
         Some("qnm") => Problem::Quasinormal,
@@ -168,7 +170,9 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
     check_numbers(spec, req)?;
     let (at_text, values) = read_values(&req.at, "at", spec)?;
     let ends = match &req.ends {
-        Some(t) => Some(canonode::solve::boundary::parse_ends(t).map_err(|e| fail(&e.in_option(canonode::error::RequestInput::Ends), spec, &[("ends".into(), t.clone())]))?),
+        Some(t) => Some(
+            canonode::numeric::parse_ends(t).map_err(|e| fail(&e.in_option(canonode::RequestInput::Ends), spec, &[("ends".into(), t.clone())]))?,
+        ),
         None => None,
     };
     let (aspec, couple) = match &req.couple {
@@ -198,12 +202,11 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
         if !(r0 < r1 && i0 < i1 && [r0, r1, i0, i1].iter().all(|x| x.is_finite())) {
             return Err(usage("region= is (re_from, re_to, im_from, im_to) with finite numbers, each range non-empty", "region", spec, &[], None));
         }
-        let region = canonode::solve::global::Region { re: (r0, r1), im: (i0, i1) };
-        let report =
-            canonode::solve::region::region_modes(&red, &lreq, region, grid).map_err(|e| fail(&e, spec, &[("at".into(), at_text.clone())]))?;
-        return Ok(canonode::emit::region::json(&report));
+        let region = canonode::numeric::Region { re: (r0, r1), im: (i0, i1) };
+        let report = canonode::numeric::region_modes(&red, &lreq, region, grid).map_err(|e| fail(&e, spec, &[("at".into(), at_text.clone())]))?;
+        return Ok(canonode::region_json(&report));
     }
-    let report = canonode::solve::request::spectrum(&red, &lreq).map_err(|e| match (&e.origin, &aspec) {
+    let report = canonode::numeric::spectrum(&red, &lreq).map_err(|e| match (&e.origin, &aspec) {
         // Errors of the angular equation point into its own text.
         (Origin::Option(o), Some(aspec)) if *o == ANGULAR_ORIGIN => {
             let mut e = e;
@@ -211,10 +214,12 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
             fail(&e, aspec, &[])
         }
         // An error about the values without a place points at all of them.
-        (Origin::Option(canonode::error::RequestInput::At), _) if e.span.is_none() => usage(e.message.clone(), "at", spec, &[("at".into(), at_text.clone())], None),
+        (Origin::Option(canonode::RequestInput::At), _) if e.span.is_none() => {
+            usage(e.message.clone(), "at", spec, &[("at".into(), at_text.clone())], None)
+        }
         _ => fail(&e, spec, &[("at".into(), at_text.clone())]),
     })?;
-    Ok(canonode::emit::spectrum::json(&report))
+    Ok(canonode::spectrum_json(&report))
 }
 
 /// The WKB order of seeds and estimates (the command line's default).
@@ -223,7 +228,7 @@ const WKB_ORDER: usize = 6;
 /// A scan over the values of `vary`: the document of `canonode scan --format json`.
 pub fn scan(spec: &Spec, req: &Request, vary: &str, values: &Values, check: bool, cancel: &AtomicBool) -> Result<Value, Fail> {
     let lib = |e: Error| fail(&e, spec, &[]);
-    let red = canonode::ode::reduce(&spec.input(), &spec.options()).map_err(lib)?;
+    let red = canonode::reduce(&spec.input(), &spec.options()).map_err(lib)?;
     let names = red.field.names().to_vec();
     let (freq, fname) = frequency(spec, &names, false)?;
     let Some(vi) = names.iter().skip(1).position(|n| n == vary).map(|i| i + 1) else {
@@ -245,10 +250,10 @@ pub fn scan(spec: &Spec, req: &Request, vary: &str, values: &Values, check: bool
     }
     let base = options(spec, req, &names, freq, &[vi], &[])?;
     let opts = spec.options();
-    let make = || -> canonode::error::Result<canonode::solve::scan::PointSolver<'_>> {
-        let red = canonode::ode::reduce(&spec.input(), &opts)?;
+    let make = || -> canonode::Result<canonode::numeric::PointSolver<'_>> {
+        let red = canonode::reduce(&spec.input(), &opts)?;
         // The command line's own point solver, so that the digits are its.
-        let solve = canonode::solve::scan::survey_solver(red, &[vi]);
+        let solve = canonode::numeric::survey_solver(red, &[vi]);
         Ok(Box::new(move |o: &SpectrumOptions, check: bool| {
             if cancel.load(Ordering::SeqCst) {
                 return Err(Error::new(ErrorKind::Usage, "interrupted"));
@@ -259,7 +264,7 @@ pub fn scan(spec: &Spec, req: &Request, vary: &str, values: &Values, check: bool
     let len = grid.len();
     let mut base = base;
     base.values[vi] = GRat::real(grid[0].clone());
-    let points = canonode::solve::scan::scan(&make, &base, vi, &grid, 0..len, check, &|| {});
+    let points = canonode::numeric::scan(&make, &base, vi, &grid, 0..len, check, &|| {});
     let pts: Vec<Value> = points
         .iter()
         .map(|p| {
@@ -285,29 +290,27 @@ pub fn scan(spec: &Spec, req: &Request, vary: &str, values: &Values, check: bool
 /// The angular side of a coupled solve as the library's request: the
 /// angular equation (its errors point into its own text) and the links
 /// (errors of a link point into that link, keyword `link[i]`).
-fn couple_request(spec: &Spec, red: &canonode::ode::Reduction, c: &Couple) -> Result<(Spec, canonode::solve::request::CoupleRequest), Fail> {
+fn couple_request(spec: &Spec, red: &canonode::Reduction, c: &Couple) -> Result<(Spec, canonode::numeric::CoupleRequest), Fail> {
     let lib = |e: Error| fail(&e, spec, &[]);
     let aspec = Spec::program(c.text.clone(), c.name.clone());
-    let ared = canonode::ode::reduce(&aspec.input(), &aspec.options()).map_err(|e| fail(&e, &aspec, &[]))?;
+    let ared = canonode::reduce(&aspec.input(), &aspec.options()).map_err(|e| fail(&e, &aspec, &[]))?;
     if c.links.is_empty() {
         return Err(usage("couple= needs at least one link= tying the separation constant to the angular eigenvalue", "link", spec, &[], None));
     }
-    let joint_names = canonode::solve::coupled::joint_names(&red.field, &ared.field);
-    let joint = canonode::algebra::Field::new(joint_names, red.field.limits().clone()).map_err(lib)?;
+    let joint_names = canonode::numeric::joint_names(&red.field, &ared.field);
+    let joint = canonode::Field::new(joint_names, red.field.limits().clone()).map_err(lib)?;
     let mut links: Vec<Link> = Vec::new();
     for (i, text) in c.links.iter().enumerate() {
         let kw = format!("link[{i}]");
         let extra = [(kw.clone(), text.clone())];
-        let l = canonode::solve::coupled::try_link(text, &joint, &red.field, &ared.field)
-            .map_err(|e| fail(&e.in_named(&kw), spec, &extra))?;
+        let l = canonode::numeric::try_link(text, &joint, &red.field, &ared.field).map_err(|e| fail(&e.in_named(&kw), spec, &extra))?;
         if links.iter().any(|o| o.target == l.target) {
             return Err(usage(format!("'{}' is linked twice", l.target), &kw, spec, &extra, None));
         }
         links.push(l);
     }
     let guess = seed(spec, &c.guess, "angular_guess")?;
-    let req =
-        canonode::solve::request::CoupleRequest { angular: ared, name: c.name.clone(), links, link_texts: c.links.clone(), index: c.index, guess };
+    let req = canonode::numeric::CoupleRequest { angular: ared, name: c.name.clone(), links, link_texts: c.links.clone(), index: c.index, guess };
     Ok((aspec, req))
 }
 
@@ -325,14 +328,14 @@ pub fn scatter(
     cancel: &AtomicBool,
 ) -> Result<Value, Fail> {
     let lib = |e: Error| fail(&e, spec, &[]);
-    let red = canonode::ode::reduce(&spec.input(), &spec.options()).map_err(lib)?;
+    let red = canonode::reduce(&spec.input(), &spec.options()).map_err(lib)?;
     let shown = format!("{}:{}:{}", omega.0, omega.1, omega.2);
     let bad_grid = |m: &str| usage(m, "omega", spec, &[("omega".into(), shown.clone())], None);
     let parts: Vec<Option<Rat>> = [&omega.0, &omega.1, &omega.2].iter().map(|t| Rat::parse_decimal(t.trim())).collect();
     let (Some(w0), Some(w1), Some(dw)) = (&parts[0], &parts[1], &parts[2]) else {
         return Err(bad_grid("expected (start, stop, step) with exact non-negative decimals"));
     };
-    let grid = match canonode::solve::scan::grid(w0, w1, dw) {
+    let grid = match canonode::numeric::grid(w0, w1, dw) {
         Some(g) if !g.is_empty() => g,
         _ => return Err(bad_grid("the frequency grid is empty, too long or has a non-positive step")),
     };
@@ -344,15 +347,17 @@ pub fn scatter(
         }
         None => (None, None),
     };
-    let req = canonode::solve::scatter::ScatterRequest { frequency: spec.frequency.clone(), values, sum, wkb_order, couple };
-    let setup = canonode::solve::scatter::scatter_setup(&red, &req).map_err(|e| match &e.origin {
+    let req = canonode::numeric::ScatterRequest { frequency: spec.frequency.clone(), values, sum, wkb_order, couple };
+    let setup = canonode::numeric::scatter_setup(&red, &req).map_err(|e| match &e.origin {
         // Errors of the angular equation point into its own text.
-        Origin::Option(o) if *o == canonode::solve::request::ANGULAR_ORIGIN && aspec.is_some() => {
+        Origin::Option(o) if *o == canonode::numeric::ANGULAR_ORIGIN && aspec.is_some() => {
             let mut e = e;
             e.origin = Origin::Input;
             fail(&e, aspec.as_ref().expect("checked"), &[])
         }
-        Origin::Option(canonode::error::RequestInput::At) if e.span.is_none() => usage(e.message.clone(), "at", spec, &[("at".into(), at_text.clone())], None),
+        Origin::Option(canonode::RequestInput::At) if e.span.is_none() => {
+            usage(e.message.clone(), "at", spec, &[("at".into(), at_text.clone())], None)
+        }
         _ => fail(&e, spec, &[("at".into(), at_text.clone())]),
     })?;
     let mut points = Vec::with_capacity(grid.len());
@@ -361,9 +366,9 @@ pub fn scatter(
             return Err(lib(Error::new(ErrorKind::Usage, "interrupted")));
         }
         let (w, per) = setup.row(w);
-        points.push(canonode::emit::scatter::point_json(w, &per, setup.sum.is_some()));
+        points.push(canonode::scatter_point_json(w, &per, setup.sum.is_some()));
     }
-    let mut doc = canonode::emit::scatter::head_json(&setup.frequency, &setup.near, &setup.far, setup.sum.as_ref());
+    let mut doc = canonode::scatter_head_json(&setup.frequency, &setup.near, &setup.far, setup.sum.as_ref());
     doc["points"] = Value::Array(points);
     Ok(doc)
 }

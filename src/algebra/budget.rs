@@ -62,7 +62,8 @@ pub(crate) fn charge(n: u64) -> bool {
 }
 
 /// The work spent in the open budget so far (0 without one).
-pub fn spent() -> u64 {
+#[cfg(test)]
+fn spent() -> u64 {
     OPEN.with(|o| o.get().map_or(0, |(s, _)| s))
 }
 

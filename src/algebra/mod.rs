@@ -12,9 +12,9 @@ mod ratfunc;
 mod rational;
 mod upoly;
 
-pub use gcd::{gcd, primitive, squarefree_in, surely_irreducible};
+pub use gcd::{gcd, primitive};
 pub use int::Int;
-pub use poly::{GInt, Mono, Poly, MAX_EXP, MAX_VARS};
-pub use ratfunc::{Factor, Field, Limits, RatFunc};
+pub use poly::{GInt, Mono, Poly, MAX_VARS};
+pub use ratfunc::{Field, Limits, RatFunc};
 pub use rational::{parse_complex, GRat, Rat};
 pub use upoly::UPoly;

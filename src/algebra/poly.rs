@@ -310,11 +310,11 @@ impl Poly {
     pub fn degrees(&self) -> Mono {
         self.terms.iter().fold(Mono::ONE, |d, (m, _)| d.lcm(*m))
     }
-    /// True when `self · o` keeps every exponent within [`MAX_EXP`].
+    /// True when `self · o` keeps every exponent within `MAX_EXP` (127, the packing's limit).
     pub fn fits_mul(&self, o: &Poly) -> bool {
         self.degrees().fits_mul(o.degrees())
     }
-    /// True when `self^e` keeps every exponent within [`MAX_EXP`].
+    /// True when `self^e` keeps every exponent within `MAX_EXP` (127, the packing's limit).
     pub fn fits_pow(&self, e: u32) -> bool {
         let d = self.degrees();
         (0..MAX_VARS).all(|i| d.exp(i) as u64 * e as u64 <= MAX_EXP as u64)

@@ -4,7 +4,7 @@
 //! declaration order; denominators are printed in their factored form.
 
 use super::int::Int;
-use super::poly::{GInt, Mono, Poly, MAX_VARS};
+use super::poly::{Mono, Poly, MAX_VARS};
 use super::ratfunc::RatFunc;
 use super::rational::{GRat, Rat};
 
@@ -342,11 +342,6 @@ pub fn ratfunc_text(r: &RatFunc, names: &[String], style: Style) -> String {
 /// A Gaussian rational as text (`3/2 - 1/4*I`) or LaTeX.
 pub fn grat_text(c: &GRat, style: Style) -> String {
     sum_text(&[(c.clone(), Mono::ONE)], &[], style)
-}
-
-/// A Gaussian integer as text.
-pub fn gint_text(c: &GInt) -> String {
-    grat_text(&c.to_grat(), Style::Text)
 }
 
 /// `(z - z0)` for printing, with `z` alone when z0 = 0 and `z + c` for z0 = −c.

@@ -454,7 +454,7 @@ fn infinity_point(k: &Field, q: &RatFunc, p: &RatFunc) -> Result<SingularPoint> 
 }
 
 /// The canonical form of the analysed equation, when its class has one here.
-pub fn canonical(red: &Reduction, an: &Analysis, choices: &canonical::Choices) -> Result<Option<canonical::Canonical>> {
+pub fn canonical_form_of(red: &Reduction, an: &Analysis, choices: &canonical::Choices) -> Result<Option<canonical::Canonical>> {
     let k = &red.field;
     let pf = crate::ode::prefactor_text(&red.var, red.field.names(), &red.normal.prefactor, crate::algebra::print::Style::Text);
     match an.class {

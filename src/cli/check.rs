@@ -6,8 +6,8 @@
 
 use super::{emit, Failure};
 use crate::emit::diagnostic;
+use crate::emit::record::{compare_named, Record};
 use crate::error::{Error, ErrorKind, Origin};
-use crate::record::{compare_named, Record};
 use clap::Args;
 use std::path::Path;
 
@@ -75,7 +75,7 @@ fn check_one(file: &str) -> Result<u8, (String, u8)> {
     let recomputed = crate::algebra::budget::with_budget(crate::algebra::budget::DEFAULT_BUDGET, || {
         // The recorded values are read as `record --at` read them.
         let setup = match spectral {
-            Some(t) => Some(crate::record::SpectralSetup {
+            Some(t) => Some(crate::emit::record::SpectralSetup {
                 problem: t.problem,
                 values: super::values::parse_assignments(&t.at, "--at")?,
                 ends: t.ends,
@@ -83,7 +83,7 @@ fn check_one(file: &str) -> Result<u8, (String, u8)> {
             }),
             None => None,
         };
-        crate::record::derive_spectral(&source.text, rel, &opts, &recorded.recurrence_request(), setup.as_ref())
+        crate::emit::record::derive_spectral(&source.text, rel, &opts, &recorded.recurrence_request(), setup.as_ref())
     })
     .map_err(|e| match &e.origin {
         // A recorded option's value that no longer works: point into the record's line.

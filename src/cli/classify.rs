@@ -110,7 +110,7 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
         }
         boundary_said = said;
     }
-    let canon = crate::analysis::canonical(&red, &an, &choices)?;
+    let canon = crate::analysis::canonical_form_of(&red, &an, &choices)?;
     let methods = crate::analysis::methods::suggest(&an, a.boundary.map(|b| b == Boundary::Bound));
     let vals = values_point.map(Values::new);
     let bname = a.boundary.map(|b| if b == Boundary::Qnm { "quasinormal modes" } else { "bound states" });

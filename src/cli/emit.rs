@@ -57,7 +57,7 @@ fn compute(a: &EmitArgs, src: &super::Source) -> Result<String, Failure> {
     }
     let red = a.input.reduce(src)?;
     let rec = match (&a.about, matches!(a.what, EmitWhat::Recurrence | EmitWhat::All)) {
-        (Some(about), true) => Some(a.series.derive(&red, about)?),
+        (Some(about), true) => Some(a.series.derive(&red, about, a.input.frequency_index(&red)?)?),
         _ => None,
     };
     let (functions, skipped, params) = emit_functions(&red, &src.name, a.input.dxdz.as_deref(), a.what, rec.as_ref());

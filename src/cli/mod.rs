@@ -216,6 +216,18 @@ impl InputArgs {
         self.frequency.clone()
     }
 
+    /// The field index of the parameter named with --frequency (`None`
+    /// when not given), or an error when it is not a parameter of `red`.
+    pub(crate) fn frequency_index(&self, red: &crate::ode::Reduction) -> Result<Option<usize>, Failure> {
+        let Some(name) = &self.frequency else { return Ok(None) };
+        match red.field.names().iter().skip(1).position(|n| n == name) {
+            Some(i) => Ok(Some(i + 1)),
+            None => Err(crate::error::Error::new(crate::error::ErrorKind::Usage, format!("'{name}' is not a parameter of the equation"))
+                .in_option(crate::error::RequestInput::Frequency)
+                .into()),
+        }
+    }
+
     /// The text a command-line option's error points into.
     pub(crate) fn option_text(&self, option: &str) -> Option<String> {
         match option {

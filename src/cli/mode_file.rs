@@ -39,11 +39,11 @@ fn function_json(f: &MethodFunction) -> Value {
         Ok(s) => (Value::Null, s.iter().map(|(z, y, _)| json!([z, y.re, y.im])).collect::<Vec<_>>()),
         Err(e) => (json!(e), Vec::new()),
     };
-    json!({"method": f.method, "omega": [f.value.re, f.value.im], "error": error, "points": points})
+    json!({"method": f.method.tag(), "omega": [f.value.re, f.value.im], "error": error, "points": points})
 }
 
 fn function_csv(o: &mut String, n: u32, f: &MethodFunction) {
-    let (m, w) = (f.method, f.value);
+    let (m, w) = (f.method.tag(), f.value);
     match &f.samples {
         Ok(s) => {
             for (z, y, _) in s {

@@ -64,7 +64,7 @@ pub(crate) fn run(a: &RecordArgs) -> u8 {
         },
         None => src.name.replace(std::path::MAIN_SEPARATOR, "/"),
     };
-    let req = crate::record::RecurrenceRequest { about: a.about.clone(), series: a.series.clone(), exponents: a.exponents.clone() };
+    let req = crate::emit::record::RecurrenceRequest { about: a.about.clone(), series: a.series.clone(), exponents: a.exponents.clone() };
     if let Some(out) = &a.output {
         // Checked before the derivation, so that no work is lost to a bad path.
         if let Err(f) = super::options::writable(out, "--output") {
@@ -73,13 +73,13 @@ pub(crate) fn run(a: &RecordArgs) -> u8 {
     }
     let spectral = match &a.at {
         Some(at) => match super::values::parse_assignments(at, "--at") {
-            Ok(values) => Some(crate::record::SpectralSetup { problem: a.boundary, ends: a.ends.clone(), at: at.clone(), values }),
+            Ok(values) => Some(crate::emit::record::SpectralSetup { problem: a.boundary, ends: a.ends.clone(), at: at.clone(), values }),
             Err(e) => return fail(&e.into(), Some(&src)),
         },
         None => None,
     };
     let derived = crate::algebra::budget::with_budget(crate::algebra::budget::DEFAULT_BUDGET, || {
-        crate::record::derive_spectral(&src.text, &path, &a.input.options(), &req, spectral.as_ref())
+        crate::emit::record::derive_spectral(&src.text, &path, &a.input.options(), &req, spectral.as_ref())
     });
     let rec = match derived {
         Ok(r) => r,

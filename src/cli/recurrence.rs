@@ -43,9 +43,9 @@ impl SeriesArgs {
     }
 
     /// The recurrence about `about` with these choices.
-    pub(crate) fn derive(&self, red: &crate::ode::Reduction, about: &str) -> Result<crate::series::Recurrence, Failure> {
+    pub(crate) fn derive(&self, red: &crate::ode::Reduction, about: &str, freq: Option<usize>) -> Result<crate::series::Recurrence, Failure> {
         let choices = super::classify::parse_choices(self.exponents.as_deref())?;
-        let rec = crate::series::requested(red, about, self.series.as_deref(), &choices, self.normal).map_err(|e| {
+        let rec = crate::series::requested(red, about, self.series.as_deref(), &choices, self.normal, freq).map_err(|e| {
             if super::origin_flag(&e.origin).as_deref() == Some("--about") && e.span.is_none() {
                 e.at(crate::syntax::Span::new(0, about.len()))
             } else {
@@ -63,7 +63,7 @@ pub(crate) fn run(a: &RecurrenceArgs) -> u8 {
 
 fn compute(a: &RecurrenceArgs, src: &super::Source) -> Result<String, Failure> {
     let red = a.input.reduce(src)?;
-    let rec = a.series.derive(&red, &a.about)?;
+    let rec = a.series.derive(&red, &a.about, a.input.frequency_index(&red)?)?;
     let n = rec.index();
     Ok(match a.format {
         Format::Json => {

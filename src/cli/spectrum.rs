@@ -36,7 +36,7 @@
 //! fields, `--ends`; with `--boundary bound --ends …` real eigenvalue
 //! problems such as angular equations) have `boundary` "qnm",
 //! "quasi-bound" or "bound", `ends` (two
-//! objects: `at` — the location, a number or "inf" —, `found` — how the end
+//! objects: `at` — the location, a number or "infinity" —, `found` — how the end
 //! was located, in words —, `condition` — "into", "out-of", "outgoing",
 //! "decaying", "normalisable" or "slower"), `notes` (every choice made, in
 //! words), `method`, and `modes` with `method` "integrate", `evidence`

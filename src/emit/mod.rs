@@ -26,5 +26,5 @@ pub enum DocFormat {
     Csv,
 }
 
-pub use classify_report::{analysis_json, analysis_latex, analysis_text, canonical_json, canonical_text, class_name, form_name, BoundaryPicks};
+pub use classify_report::{analysis_json, analysis_latex, analysis_text, canonical_json, canonical_text, BoundaryPicks};
 pub use report::{recurrence_latex, reduction_json, reduction_latex, reduction_text, value_latex};

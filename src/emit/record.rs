@@ -1,57 +1,6 @@
-//! Derivation records: a plain-text, line-oriented, deterministic account of
-//! one derivation (normal form, singular points, class, canonical
-//! parameters, a series recurrence) that can be committed beside the code
-//! of a paper and re-checked later, by `canonode check` or in a test.
-//!
-//! A record is a header line [`HEADER`] and then one field per line,
-//! `key: value`. Multi-valued things have indexed keys (`point[2].exponent[1]`,
-//! `recurrence.c[0]`), so a changed value is named by its key. Every value is
-//! exact text in the input language, produced by the same printers as the
-//! `reduce` and `classify` reports. Blank lines and lines starting with `#`
-//! are ignored when a record is read. The field `tool.version` is
-//! informational: [`compare`] reports a different version but does not count
-//! it as a change.
-//!
-//! The source file is named by `source.path` (relative to the record's
-//! directory, with `/` separators) and pinned by `source.sha256`, the SHA-256
-//! of its bytes; `option.*` hold the options of the reduction. The recurrence
-//! follows a fixed rule, stated in the record ([`RECURRENCE_RULE`]). A record
-//! written with a spectral set-up ([`derive_spectral`]) ends with the
-//! closed-form spectrum of that boundary problem (`closed.*`), which
-//! `check` derives again and compares as text like every other field.
-//!
-//! ```
-//! use canonode::ode::ReduceOptions;
-//! use canonode::record::{compare, derive, Record};
-//!
-//! // DLMF 10.2.1, Bessel's equation.
-//! let src = "var z\nparam nu\node z^2*w'' + z*w' + (z^2 - nu^2)*w = 0\n";
-//! let rec = derive(src, "bessel.ode", &ReduceOptions::default()).unwrap();
-//! // Its normal form is Q = 1 + (1/4 − ν²)/z² (DLMF 10.2.1).
-//! assert_eq!(rec.get("normal.Q"), Some("(z^2 - nu^2 + 1/4)/z^2"));
-//! // One regular point at z = 0 with exponents ±ν, and rank 1 at ∞.
-//! assert_eq!(rec.get("class"), Some("confluent-hypergeometric"));
-//! assert_eq!(rec.get("point[1].at"), Some("z = 0"));
-//! assert_eq!(rec.get("point[1].exponent[1]"), Some("nu"));
-//! assert_eq!(rec.get("point[1].exponent[2]"), Some("-nu"));
-//! assert_eq!(rec.get("point[2].rank"), Some("1"));
-//!
-//! // The rendered text reads back to the same record.
-//! let text = rec.render();
-//! assert!(text.starts_with("canonode-derivation 1\n"));
-//! let again = Record::parse(&text).unwrap();
-//! assert!(compare(&again, &rec).holds());
-//! // For a snapshot test (insta::assert_snapshot!) the version line is left out.
-//! assert!(!rec.render_derivation().contains("tool.version"));
-//!
-//! // Changing a coefficient changes the derivation, and the diff names it.
-//! let changed = "var z\nparam nu\node z^2*w'' + 2*z*w' + (z^2 - nu^2)*w = 0\n";
-//! let rec2 = derive(changed, "bessel.ode", &ReduceOptions::default()).unwrap();
-//! let cmp = compare(&rec, &rec2);
-//! assert!(!cmp.holds());
-//! assert!(cmp.changed.iter().any(|k| k == "standard.p"));
-//! assert!(cmp.diff.contains("-standard.p: 1/z\n+standard.p: 2/z\n"));
-//! ```
+//! Derivation records: deriving, rendering, reading and comparing them.
+//! The format (and an example) is documented on the public facade
+//! `canonode::record` in `src/lib.rs`, which re-exports the items here.
 
 use super::classify_report::{apparent_fields, exponent_text, formal_text, param_text, where_text};
 use crate::algebra::print::{ratfunc_text, Style};
@@ -503,7 +452,7 @@ fn analysis_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result<(
             rec.push(key(&format!("formal[{}]", j + 1)), format!("psi ~ {f}"))?;
         }
     }
-    match crate::analysis::canonical(red, an, &crate::analysis::canonical::Choices::default())? {
+    match crate::analysis::canonical_form_of(red, an, &crate::analysis::canonical::Choices::default())? {
         Some(c) => {
             rec.push("canonical.form", c.form.id())?;
             rec.push("canonical.source", &c.source)?;

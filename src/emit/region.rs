@@ -38,6 +38,7 @@ pub fn json(r: &RegionReport) -> Value {
                 Finding::Spectral(_) => "an eigenvalue of the global spectral method".to_string(),
                 Finding::Ladder(from) => from.clone(),
                 Finding::Mirror => "the mirror image −ω̄ of its partner".to_string(),
+                Finding::SpecialPoint => format!("an algebraically special point of the recurrence, exact (the ladder sought it from {})", fmt_complex(m.seed.re, m.seed.im)),
             };
             json!({
                 "family": m.family.name(),
@@ -46,15 +47,15 @@ pub fn json(r: &RegionReport) -> Value {
                 "omega": [m.omega.re, m.omega.im],
                 "converged": true,
                 "reason": Value::Null,
-                "method": m.polished_by,
+                "method": m.polished_by.tag(),
                 "found_by": m.found.tag(),
                 "spectral": spectral,
                 "spectral_change": change,
                 "seed": [m.seed.re, m.seed.im],
-                "polished_by": m.polished_by,
+                "polished_by": m.polished_by.tag(),
                 "polish_distance": distance,
                 "evidence": {"found_by": m.found.tag(), "seed_from": seed_from, "spectral": spectral, "spectral_change": change, "polish_distance": distance},
-                "check": m.check.map(|(k, w)| json!({"method": k, "omega": [w.re, w.im], "difference": (w - m.omega).norm()})),
+                "check": m.check.map(|(k, w)| json!({"method": k.tag(), "omega": [w.re, w.im], "difference": (w - m.omega).norm()})),
                 "check_note": m.check_note,
             })
         })
@@ -91,7 +92,7 @@ pub fn csv(r: &RegionReport) -> String {
     let mut o = String::from("family,n,mirror_of,re,im,found_by,spectral_re,spectral_im,polished_by,polish_distance,check_method,check_difference\n");
     for m in &r.rows {
         let (cm, cd) = match m.check {
-            Some((k, w)) => (k.to_string(), format!("{:.3e}", (w - m.omega).norm())),
+            Some((k, w)) => (k.tag().to_string(), format!("{:.3e}", (w - m.omega).norm())),
             None => (String::new(), String::new()),
         };
         o.push_str(&format!(
@@ -103,7 +104,7 @@ pub fn csv(r: &RegionReport) -> String {
             m.omega.im,
             m.found.tag(),
             m.found.spectral().map(|v| format!("{:.17e},{:.17e}", v.omega.re, v.omega.im)).unwrap_or_else(|| ",".into()),
-            m.polished_by,
+            m.polished_by.tag(),
             (m.omega - m.seed).norm(),
             cm,
             cd
@@ -154,8 +155,8 @@ pub fn text(r: &RegionReport, src_name: &str) -> String {
                 None => m.family.name().to_string(),
             };
             let check = match (m.check, &m.check_note) {
-                (Some((k, w)), None) => format!("{k}: differs by {:.1e}", (w - m.omega).norm()),
-                (Some((k, w)), Some(note)) => format!("{k}: differs by {:.1e} ({note})", (w - m.omega).norm()),
+                (Some((k, w)), None) => format!("{}: differs by {:.1e}", k.tag(), (w - m.omega).norm()),
+                (Some((k, w)), Some(note)) => format!("{}: differs by {:.1e} ({note})", k.tag(), (w - m.omega).norm()),
                 (None, Some(note)) => format!("none ({note})"),
                 (None, None) => "none".to_string(),
             };
@@ -166,7 +167,7 @@ pub fn text(r: &RegionReport, src_name: &str) -> String {
                 fmt_complex(m.omega.re, m.omega.im),
                 m.found.tag(),
                 (m.omega - m.seed).norm(),
-                m.polished_by,
+                m.polished_by.tag(),
                 check
             ));
         }

@@ -96,7 +96,7 @@ pub fn reduction_text(r: &Reduction, source_name: &str) -> String {
 }
 
 /// The derivation as a LaTeX fragment (an `align*` environment, amsmath),
-/// long right-hand sides broken over rows to fit the page (see [`super::latex`]).
+/// long right-hand sides broken over rows to fit the page (the one layout of `emit::latex`).
 pub fn reduction_latex(r: &Reduction) -> String {
     let s = Style::Latex;
     let u = crate::algebra::print::latex_name(&r.ode.unknown);

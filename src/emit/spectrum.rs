@@ -11,8 +11,8 @@ use crate::solve::closed::ClosedForm;
 use crate::solve::periodic::{Floquet, PeriodicMode};
 use crate::solve::polynomial::PolynomialSolutions;
 use crate::solve::request::{
-    Body, BoundReport, ClosedSection, EndsReport, EstimateReport, MethodFunction, ModeFunctions, PeriodicReport, Problem, RecurrenceReport,
-    SeriesReport, SpectrumReport,
+    Body, BoundReport, ClosedSection, EndsReport, EstimateReport, MethodFunction, ModeFunctions, NumericMethod, PeriodicReport, Problem,
+    RecurrenceReport, SeriesReport, SpectrumReport,
 };
 use crate::solve::shoot::BoundCheck;
 use crate::solve::spectrum::ModeMethod;
@@ -200,24 +200,24 @@ pub fn text(r: &SpectrumReport, source: &str) -> String {
 }
 
 /// A mode-function method tag in words.
-pub fn method_words(tag: &str) -> &'static str {
-    match tag {
-        "cf" => "continued fraction",
-        "terminating" => "terminating series",
-        "integrate" => "direct integration",
-        "shooting" => "shooting",
-        "collocation" => "collocation",
-        "spectral" => "global spectral method",
-        "laurent" => "truncated Laurent series",
-        "monodromy" => "integration around the period",
-        _ => "another method",
+pub fn method_words(method: NumericMethod) -> &'static str {
+    match method {
+        NumericMethod::ContinuedFraction => "continued fraction",
+        NumericMethod::Terminating => "terminating series",
+        NumericMethod::Integrate => "direct integration",
+        NumericMethod::Shooting => "shooting",
+        NumericMethod::Collocation => "collocation",
+        NumericMethod::Spectral => "global spectral method",
+        NumericMethod::Laurent | NumericMethod::Truncation => "truncated Laurent series",
+        NumericMethod::Monodromy => "integration around the period",
+        NumericMethod::SpecialPoint => "exact special point of the recurrence",
     }
 }
 
 /// The mode functions' summary (the samples go to their own file): each
 /// mode's methods and the largest difference between their functions.
 fn mode_functions_json(f: &ModeFunctions) -> Value {
-    let one = |m: &MethodFunction| json!({"method": m.method, "omega": pair(m.value), "error": m.samples.as_ref().err()});
+    let one = |m: &MethodFunction| json!({"method": m.method.tag(), "omega": pair(m.value), "error": m.samples.as_ref().err()});
     let modes: Vec<Value> = f
         .modes
         .iter()
@@ -304,7 +304,7 @@ fn closed_range_json(f: &crate::solve::closed::Family) -> Value {
     })
 }
 
-fn closed_json(form: &ClosedForm, values: &[Vec<(u32, Complex64)>], numeric: &[(u32, Complex64, &'static str)]) -> Value {
+fn closed_json(form: &ClosedForm, values: &[Vec<(u32, Complex64)>], numeric: &[(u32, Complex64, NumericMethod)]) -> Value {
     let fams: Vec<Value> = form
         .families
         .iter()
@@ -316,7 +316,7 @@ fn closed_json(form: &ClosedForm, values: &[Vec<(u32, Complex64)>], numeric: &[(
                     // The numeric mode of this run at this value, if any.
                     let near = numeric.iter().min_by(|a, b| (a.1 - w).norm().total_cmp(&(b.1 - w).norm()));
                     let check = near.filter(|(_, mw, _)| (mw - w).norm() <= CLOSED_CHECK_NEAR * w.norm().max(1.0)).map_or(Value::Null, |(mn, mw, method)| {
-                        json!({"method": method, "n": mn, "omega": pair(*mw), "agreement": (mw - w).norm() / w.norm().max(1e-300)})
+                        json!({"method": method.tag(), "n": mn, "omega": pair(*mw), "agreement": (mw - w).norm() / w.norm().max(1e-300)})
                     });
                     json!({"n": n, "omega": pair(*w), "method": "exact", "check": check})
                 })
@@ -385,6 +385,11 @@ fn recurrence_json(fname: &str, problem: Problem, b: &RecurrenceReport) -> Value
                         "residual": c.residual,
                     }),
                     Some(c) => json!({"method": "integrate", "omega": Value::Null, "reason": c.reason}),
+                    None if m.method == ModeMethod::SpecialPoint && r.converged => json!({
+                        "method": "exact",
+                        "leading_coefficient_index": r.inversion,
+                        "reason": "c0(k, omega) = 0 and the first k + 1 equations close, in exact arithmetic; no numeric check is possible at this point",
+                    }),
                     None => Value::Null,
                 },
                 "estimate": match b.wkb.get(i).copied().flatten() {
@@ -477,7 +482,7 @@ fn recurrence_csv(b: &RecurrenceReport) -> String {
     for (i, m) in b.modes.iter().enumerate() {
         let r = &m.root;
         // Direct integration has no depth: its columns stay empty.
-        let depth = if m.method == ModeMethod::Integrate { String::new() } else { r.depth.to_string() };
+        let depth = if matches!(m.method, ModeMethod::Integrate | ModeMethod::SpecialPoint) { String::new() } else { r.depth.to_string() };
         let checked = match b.checks.get(i).and_then(|c| c.as_ref()) {
             Some(c) if c.converged && r.converged => {
                 format!("{:.17e},{:.17e},{}", c.omega.re, c.omega.im, num((c.omega - r.omega).norm() / r.omega.norm()))
@@ -550,6 +555,15 @@ fn recurrence_text(fname: &str, var: &str, source: &str, problem: Problem, b: &R
             o.push_str(&format!("  {:<2} {:<44} exact condition c1(n, ω) = 0, residual {:.1e}\n", m.n, w, r.residual));
         } else if r.converged && m.method == ModeMethod::Integrate {
             o.push_str(&format!("  {:<2} {:<44} [integrate] residual {:.1e}\n", m.n, w, r.residual));
+        } else if r.converged && m.method == ModeMethod::SpecialPoint {
+            o.push_str(&format!(
+                "  {:<2} {:<44} [special] exact: c0({k}, ω) = 0 and the determinant of the first {} equations is 0 (see the note)\n",
+                m.n,
+                w,
+                r.inversion + 1,
+                k = r.inversion
+            ));
+            o.push_str("     check: exact arithmetic; no numeric check is possible at this point\n");
         } else if r.converged {
             o.push_str(&format!(
                 "  {:<2} {:<44} [{}] depth {}, change on doubling {:.1e}, residual {:.1e}\n",
@@ -639,7 +653,7 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
         .iter()
         .map(|e| {
             json!({
-                "at": match e.location { Location::At(z) => json!(z), Location::Infinity => json!("inf") },
+                "at": match e.location { Location::At(z) => json!(z), Location::Infinity => json!("infinity") },
                 "found": e.found,
                 "condition": e.condition.name(),
             })

@@ -114,11 +114,6 @@ fn err(kind: ErrorKind, msg: impl Into<String>, span: Span) -> Error {
     Error::new(kind, msg).at(span)
 }
 
-/// Lowers a parsed program.
-pub fn lower_program(program: &Program, mode: NameMode, limits: &Limits) -> Result<LinearOde> {
-    lower_program_mapped(program, mode, limits, None).map(|(ode, _)| ode)
-}
-
 /// The field, p and q of a lowered equation, and the lets that are constants.
 type Lowered = (Field, RatFunc, RatFunc, Vec<(String, RatFunc)>);
 

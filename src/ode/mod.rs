@@ -7,8 +7,8 @@ mod normal;
 mod quasi;
 mod transform;
 
-pub use lower::{lower_program, lower_program_mapped, ExpMap, LinearOde, MapRequest, NameMode};
-pub use normal::{linear_root, normal_form, normal_q, prefactor, prefactor_text, principal_parts, NormalForm, Prefactor, PrincipalPart};
+pub use lower::{lower_program_mapped, ExpMap, LinearOde, MapRequest, NameMode};
+pub use normal::{linear_root, normal_form, normal_q, prefactor, prefactor_text, NormalForm, Prefactor};
 pub use transform::{change_variable, schrodinger, schwarzian, transform_q};
 
 pub(crate) use lower::lower_rational;
@@ -106,11 +106,6 @@ pub struct Reduction {
     /// rational, when one was applied while lowering (the equation is then in
     /// its new variable).
     pub map: Option<ExpMap>,
-}
-
-/// Parses and lowers an input into a linear ODE.
-pub fn lower(input: &Input<'_>, limits: &Limits, parse_limits: &ParseLimits) -> Result<LinearOde> {
-    lower_mapped(input, limits, parse_limits, None).map(|(ode, _)| ode)
 }
 
 /// Parses and lowers an input, making transcendental coefficients rational

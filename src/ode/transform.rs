@@ -37,7 +37,7 @@ pub fn schwarzian(k: &Field, g: &RatFunc) -> Result<RatFunc> {
 }
 
 /// Q̃ = g'² Q(g) + ½{g, x}: the normal form transformed directly (a check on
-/// [`change_variable`] followed by the normal form).
+/// `change_variable` followed by the normal form).
 pub fn transform_q(k: &Field, q_normal: &RatFunc, g: &RatFunc) -> Result<RatFunc> {
     let g1 = k.deriv(g, 0)?;
     let qg = k.compose(q_normal, 0, g)?;

@@ -579,7 +579,41 @@ pub fn names_root(about: &str) -> bool {
 /// root θ of an irreducible quadratic (whose series variable is fixed), with
 /// an optional series variable `u=EXPR`, exponent choices and the normal form's
 /// ψ expanded instead of the unknown.
-pub fn requested(red: &Reduction, about: &str, series: Option<&str>, choices: &Choices, normal: bool) -> Result<Recurrence> {
+///
+/// When the formal solutions at an irregular infinity have no exact leading
+/// coefficient (a massive field: e^(±√(μ² − ω²) z)), their square root χ is
+/// adjoined first ([`rate::adjoin_rate`], keeping the spectral parameter
+/// `freq` — by default the parameter named omega, ω or w — symbolic), the
+/// series carries e^(−χz) at infinity, and a choice line says what χ
+/// stands for; its branch is the user's to pick when evaluating.
+pub fn requested(red: &Reduction, about: &str, series: Option<&str>, choices: &Choices, normal: bool, freq: Option<usize>) -> Result<Recurrence> {
+    if rate::needs_rate(red)? {
+        let names = red.field.names();
+        let freq = freq.or_else(|| ["omega", "ω", "w"].iter().find_map(|d| names.iter().skip(1).position(|n| n == d).map(|i| i + 1)));
+        let Some(freq) = freq else {
+            return Err(usage(format!(
+                "the formal solutions at ∞ need the square root of a polynomial in the frequency adjoined: name the frequency with {}",
+                RequestInput::Frequency.mention()
+            )));
+        };
+        let a = rate::adjoin_rate(red, freq)?;
+        let mut picks: Vec<(String, usize)> = choices.picks.iter().filter(|(l, _)| l != "∞" && l != "inf" && l != "infinity").cloned().collect();
+        picks.push(("∞".to_string(), a.branch));
+        let adjoined = Choices { picks, values: choices.values.clone() };
+        let mut rec = requested_exact(&a.red, about, series, &adjoined, normal)?;
+        rec.choices.push(format!(
+            "at ∞: {} (the series carries e^(−{s}{v}); pick the branch of {s} when evaluating: Re {s} > 0 decays)",
+            a.meaning,
+            s = a.symbol,
+            v = red.var
+        ));
+        return Ok(rec);
+    }
+    requested_exact(red, about, series, choices, normal)
+}
+
+/// [`requested`] where the leading coefficients at infinity are exact.
+fn requested_exact(red: &Reduction, about: &str, series: Option<&str>, choices: &Choices, normal: bool) -> Result<Recurrence> {
     if names_root(about) {
         if series.is_some() || normal {
             return Err(
@@ -624,7 +658,7 @@ pub struct RootRecurrence {
 
 /// The recurrence about the first regular singular point that is a root θ
 /// of an irreducible quadratic factor (a horizon r₊ of r² − 2Mr + a²): see
-/// [`recurrence_about_point`].
+/// `recurrence_about_point`.
 pub fn recurrence_about_root(red: &Reduction, choices: &Choices) -> Result<RootRecurrence> {
     let an = crate::analysis::analyse(red)?;
     let found = an.points.iter().find(|p| p.kind == Kind::Regular && matches!(&p.place, Place::Roots(f) if f.to_univariate(0).len() == 3));

@@ -6,7 +6,7 @@
 //! n^(−1/2) (H.-P. Nollert, Phys. Rev. D 47 (1993) 5253), solved here order
 //! by order from the recurrence itself. Roots are found with Muller's method.
 
-use crate::algebra::{GRat, RatFunc};
+use crate::algebra::GRat;
 use crate::error::{Error, ErrorKind, Result};
 use crate::series::Recurrence;
 use num_complex::Complex64;
@@ -589,13 +589,6 @@ pub fn find_root_by(
         w = root;
         depth *= 2;
     }
-}
-
-/// A value free of the variable, numerically, when every parameter has one.
-pub fn eval_const(r: &RatFunc, values: &[GRat]) -> Option<Complex64> {
-    let v = r.eval(values)?;
-    let (re, im) = v.to_f64();
-    Some(Complex64::new(re, im))
 }
 
 #[cfg(test)]

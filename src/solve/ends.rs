@@ -206,17 +206,66 @@ pub struct Seed {
 const SCAN_RE: usize = 28;
 const SCAN_IM_PER_MODE: usize = 10;
 
+/// The work limit of one seed scan, in Taylor steps: a point whose
+/// mismatch cannot be evaluated is charged the most one integration may
+/// take ([`integrate::MAX_STEPS`]), so that a problem where integration
+/// fails everywhere stops after about fifty such points (seconds),
+/// while ordinary scans (a few to a few hundred steps a point) never reach it.
+const SCAN_STEP_BUDGET: usize = 1_000_000;
+
+/// Where a seed scan stopped before its grid was done.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ScanCut {
+    /// Points evaluated.
+    pub evaluated: usize,
+    /// Points of the whole grid.
+    pub grid: usize,
+    /// Points where the mismatch could not be evaluated.
+    pub failed: usize,
+}
+
+impl ScanCut {
+    /// In words, for a report.
+    pub fn text(&self) -> String {
+        format!(
+            "the scan of the complex plane stopped at its work limit ({SCAN_STEP_BUDGET} Taylor steps) after {} of its {} points ({} of them could not be integrated)",
+            self.evaluated, self.grid, self.failed
+        )
+    }
+}
+
 /// Seeds by a bounded scan of |mismatch| over the window
 /// Re ω ∈ (0, 4κ], Im ω ∈ [−(2.5(count)+1)κ, 0) (κ the problem's frequency
 /// scale): the local minima of |mismatch| below 0.5, best first. The scan
-/// evaluates at most `SCAN_RE × SCAN_IM_PER_MODE × (count + 1)` points.
-pub fn scan_seeds(bp: &BoundaryProblem, count: usize) -> Vec<Seed> {
+/// evaluates at most `SCAN_RE × SCAN_IM_PER_MODE × (count + 1)` points and
+/// stops at [`SCAN_STEP_BUDGET`] Taylor steps, saying so ([`ScanCut`]).
+pub fn scan_seeds(bp: &BoundaryProblem, count: usize) -> (Vec<Seed>, Option<ScanCut>) {
     let s = bp.scale;
     let ni = SCAN_IM_PER_MODE * (count + 1);
     let (re_max, im_min) = (4.0 * s, -(2.5 * count as f64 + 1.5) * s);
     let at = |i: usize, j: usize| Complex64::new(re_max * (i as f64 + 0.5) / SCAN_RE as f64, im_min * (j as f64 + 0.5) / ni as f64);
-    let vals: Vec<Vec<f64>> =
-        (0..SCAN_RE).map(|i| (0..ni).map(|j| mismatch(bp, at(i, j)).map(|m| m.norm()).unwrap_or(f64::INFINITY)).collect()).collect();
+    let mut vals = vec![vec![f64::INFINITY; ni]; SCAN_RE];
+    let (mut spent, mut evaluated, mut failed) = (0usize, 0usize, 0usize);
+    let mut cut = None;
+    'grid: for (i, row) in vals.iter_mut().enumerate() {
+        for (j, v) in row.iter_mut().enumerate() {
+            if spent > SCAN_STEP_BUDGET {
+                cut = Some(ScanCut { evaluated, grid: SCAN_RE * ni, failed });
+                break 'grid;
+            }
+            evaluated += 1;
+            match evaluate(bp, at(i, j), &integrate::STANDARD) {
+                Ok((m, steps)) => {
+                    spent += steps;
+                    *v = m.norm();
+                }
+                Err(_) => {
+                    spent += integrate::MAX_STEPS;
+                    failed += 1;
+                }
+            }
+        }
+    }
     let mut minima: Vec<(f64, Complex64)> = Vec::new();
     for i in 0..SCAN_RE {
         for j in 0..ni {
@@ -242,7 +291,7 @@ pub fn scan_seeds(bp: &BoundaryProblem, count: usize) -> Vec<Seed> {
         }
     }
     minima.sort_by(|a, b| a.0.total_cmp(&b.0));
-    minima.into_iter().map(|(_, w)| Seed { omega: w, from: "a minimum of the mismatch on a scan of the complex plane".into() }).collect()
+    (minima.into_iter().map(|(_, w)| Seed { omega: w, from: "a minimum of the mismatch on a scan of the complex plane".into() }).collect(), cut)
 }
 
 /// Points of the real-axis scan of a real eigenvalue problem per round.
@@ -469,7 +518,7 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
     }
     // No guess: every distinct root reached from the scan's minima.
     let want = hi as usize + 1;
-    let seeds = scan_seeds(bp, want);
+    let (seeds, cut) = scan_seeds(bp, want);
     let mut found: Vec<(IntRoot, Seed)> = Vec::new();
     for seed in seeds.into_iter().take(4 * want + 8) {
         let r = find_root(bp, seed.omega, tol);
@@ -488,8 +537,9 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
             None => out.push(unfound(
                 n,
                 format!(
-                    "only {} distinct modes were found in the scanned window: give {opt_guess}",
+                    "only {} distinct modes were found in the scanned window{}: give {opt_guess}",
                     found.len(),
+                    cut.as_ref().map(|c| format!(" ({})", c.text())).unwrap_or_default(),
                     opt_guess = RequestInput::Guess.mention()
                 ),
             )),

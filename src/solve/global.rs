@@ -816,8 +816,6 @@ pub struct CollocationRoot {
     pub omega: Complex64,
     /// True when both grids' searches converged and their roots agree.
     pub converged: bool,
-    /// |ω(finer grid) − ω(coarser grid)| (NaN when a search failed).
-    pub change: f64,
     /// The two grids (numbers of intervals) of the last attempt.
     pub grids: (usize, usize),
     /// Why the search stopped, in words.
@@ -883,13 +881,7 @@ pub fn collocation_root(bp: &BoundaryProblem, seed: Complex64, agree: f64) -> Co
     let stretch = match (right.location, frozen_factors(bp, seed)) {
         (Location::Infinity, Ok(Factors { exp_rate: Some(mu), .. })) => {
             let Location::At(a) = bp.ends[0].location else {
-                return CollocationRoot {
-                    omega: seed,
-                    converged: false,
-                    change: f64::NAN,
-                    grids: (0, 0),
-                    reason: "the left end must be finite".into(),
-                };
+                return CollocationRoot { omega: seed, converged: false, grids: (0, 0), reason: "the left end must be finite".into() };
             };
             let l0 = anchor_length(bp, a);
             (1.0 / (mu.c0.norm() * l0)).sqrt().clamp(1.0, 1e3)
@@ -901,34 +893,27 @@ pub fn collocation_root(bp: &BoundaryProblem, seed: Complex64, agree: f64) -> Co
         let g = |w: Complex64| bordered(bp, n, theta, stretch, w);
         super::roots::muller(&g, from, 1e-4, tol, ROOT_ITER)
     };
-    let mut last = CollocationRoot { omega: seed, converged: false, change: f64::NAN, grids: (0, 0), reason: "no grid was tried".into() };
+    let mut last = CollocationRoot { omega: seed, converged: false, grids: (0, 0), reason: "no grid was tried".into() };
     for n in ROOT_GRIDS {
         let n2 = n + n / 2;
         let (w1, _, s1) = root(n, seed);
         if let Err(e) = s1 {
-            last = CollocationRoot { omega: w1, converged: false, change: f64::NAN, grids: (n, n2), reason: format!("grid {n}: {e}") };
+            last = CollocationRoot { omega: w1, converged: false, grids: (n, n2), reason: format!("grid {n}: {e}") };
             continue;
         }
         let (w2, _, s2) = root(n2, w1);
         if let Err(e) = s2 {
-            last = CollocationRoot { omega: w2, converged: false, change: f64::NAN, grids: (n, n2), reason: format!("grid {n2}: {e}") };
+            last = CollocationRoot { omega: w2, converged: false, grids: (n, n2), reason: format!("grid {n2}: {e}") };
             continue;
         }
         let change = (w2 - w1).norm();
         let reach = agree * w2.norm().max(bp.scale);
         if change <= reach {
-            return CollocationRoot {
-                omega: w2,
-                converged: true,
-                change,
-                grids: (n, n2),
-                reason: format!("grids {n} and {n2} agree to {change:.1e}"),
-            };
+            return CollocationRoot { omega: w2, converged: true, grids: (n, n2), reason: format!("grids {n} and {n2} agree to {change:.1e}") };
         }
         last = CollocationRoot {
             omega: w2,
             converged: false,
-            change,
             grids: (n, n2),
             reason: format!("grids {n} and {n2} differ by {change:.1e} (more than {reach:.1e}) at the finest grid tried"),
         };

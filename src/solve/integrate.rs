@@ -30,8 +30,9 @@ const TOL_FLOOR: f64 = 1e-13;
 const RESIDUAL_MAX: f64 = 1e-6;
 /// Muller iterations per search.
 pub(super) const MAX_ITER: usize = 100;
-/// Taylor steps per evaluation of the mismatch.
-const MAX_STEPS: usize = 20_000;
+/// Taylor steps per evaluation of the mismatch (one integration stops
+/// with an error past it).
+pub const MAX_STEPS: usize = 20_000;
 
 /// What is known about the two ends, as functions of ω (built by the caller
 /// from the exact analysis).
@@ -83,11 +84,12 @@ pub struct IntRoot {
 /// (ρ_h not an exponent, μ or ν not those of a branch, a resonant exponent
 /// difference), a zero of A lies between the complex path and the real axis,
 /// or a series did not converge.
-pub fn mismatch(ode: &NumOde, ends: &Ends, w: Complex64) -> Option<Complex64> {
+#[cfg(test)]
+fn mismatch(ode: &NumOde, ends: &Ends, w: Complex64) -> Option<Complex64> {
     evaluate(ode, ends, w, &STANDARD).ok().map(|(v, _)| v)
 }
 
-/// Muller's root of [`mismatch`] from `seed` to relative tolerance `tol`
+/// Muller's root of the normalised mismatch from `seed` to relative tolerance `tol`
 /// (raised to 1e-13 when smaller, since the mismatch carries rounding near
 /// 1e-15). The search runs twice — with the standard integration parameters,
 /// then from that root with refined ones (matching point at z_h + 0.4 d,

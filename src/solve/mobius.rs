@@ -71,12 +71,8 @@ pub enum Pole {
 /// The numeric series between the two ends of a boundary problem.
 #[derive(Clone, Debug)]
 pub struct MobiusSeries {
-    /// The point sent to u = ∞.
-    pub pole: Pole,
     /// min |u| over the other singular points (∞ when there are none).
     pub radius: f64,
-    /// The singular point that sets the radius (`None`: z = ∞, or no other point).
-    pub nearest: Option<Complex64>,
     /// The recurrence for the series' coefficients, numeric in (n, ω).
     pub recurrence: NumRecurrence,
     /// The map, the factored behaviour and the radius, in words (for the report).
@@ -252,7 +248,7 @@ pub fn series(bp: &BoundaryProblem, var: &str) -> Result<MobiusSeries> {
         "ψ = (behaviour chosen at both ends) × Σ aₙ uⁿ, {map_text} (Möbius: the left end → 0, the right end → 1, {pole_text} → ∞); {radius_text}; {}-term recurrence with complex double coefficients",
         recurrence.terms.len()
     );
-    Ok(MobiusSeries { pole, radius, nearest, recurrence, description })
+    Ok(MobiusSeries { radius, recurrence, description })
 }
 
 /// The recurrence Σⱼ cⱼ(n, ω) a_{n+1−j} = 0 of c₂ v'' + c₁ v' + c₀ v = 0 for

@@ -19,7 +19,7 @@ use super::global::{self, Region, SpectralValue};
 use super::integrate::IntRoot;
 use super::plot::PlaneMode;
 use super::request::{region_setup, SpectrumRequest, CONFIRMED};
-use super::spectrum::{LadderEnd, Mode, SpectrumOptions};
+use super::spectrum::{LadderEnd, Mode, ModeMethod, SpectrumOptions};
 use crate::error::RequestInput;
 use crate::error::Result;
 use crate::ode::Reduction;
@@ -65,10 +65,10 @@ pub struct RegionRow {
     pub found: Finding,
     /// The value the polish started from.
     pub seed: Complex64,
-    /// Which method polished it: "cf" or "integrate".
-    pub polished_by: &'static str,
+    /// Which method polished it: the continued fraction or direct integration.
+    pub polished_by: ModeMethod,
     /// The other method's value, when it ran and converged.
-    pub check: Option<(&'static str, Complex64)>,
+    pub check: Option<(ModeMethod, Complex64)>,
     /// Why there is no check, or what the check compares, in words.
     pub check_note: Option<String>,
 }
@@ -83,22 +83,26 @@ pub enum Finding {
     Ladder(String),
     /// Direct integration from −ω̄ of its partner (a mirror-symmetric equation).
     Mirror,
+    /// The ladder's overtone settled at an algebraically special point of
+    /// the recurrence, exactly (`spectrum::SpecialPoint`).
+    SpecialPoint,
 }
 
 impl Finding {
-    /// The tag in documents: "spectral", "ladder" or "mirror".
+    /// The tag in documents: "spectral", "ladder", "mirror" or "special".
     pub fn tag(&self) -> &'static str {
         match self {
             Finding::Spectral(_) => "spectral",
             Finding::Ladder(_) => "ladder",
             Finding::Mirror => "mirror",
+            Finding::SpecialPoint => "special",
         }
     }
     /// The spectral eigenvalue, when the mode was found as one.
     pub fn spectral(&self) -> Option<SpectralValue> {
         match self {
             Finding::Spectral(v) => Some(*v),
-            Finding::Ladder(_) | Finding::Mirror => None,
+            Finding::Ladder(_) | Finding::Mirror | Finding::SpecialPoint => None,
         }
     }
 }
@@ -235,18 +239,25 @@ fn ladder_run(
         let past = bottom - seed.im;
         past > 0.5 * spacing && (settled || past > 3.0 * spacing)
     };
-    let (modes, end) = super::spectrum::cf_ladder(&rec, &setup, &opts, &estimate, &beyond)?;
+    let (mut modes, end) = super::spectrum::cf_ladder(&rec, &setup, &opts, &estimate, &beyond)?;
     let integ = super::spectrum::integration_check(red, &opts, &setup).ok();
+    // The notes on special and degenerate points, for the overtones sought or found in the window.
+    let in_window = |m: &Mode| region.contains(if m.root.converged { m.root.omega } else { m.seed.0 });
+    let mut notes = Vec::new();
+    for m in modes.iter_mut().filter(|m| in_window(m)) {
+        notes.extend(super::spectrum::settle_special(&rec, &setup, &opts, std::slice::from_mut(m))?);
+    }
     let checks = modes
         .iter()
         .map(|m| match &integ {
-            Some(f) if m.root.converged => Some(f(super::spectrum::check_seed(m.root.omega))),
+            Some(f) if m.root.converged && m.method == super::spectrum::ModeMethod::ContinuedFraction => {
+                Some(f(super::spectrum::check_seed(m.root.omega)))
+            }
             _ => None,
         })
         .collect();
-    // The notes on degenerate points, for the overtones sought or found in the window.
-    let inside: Vec<Mode> = modes.iter().filter(|m| region.contains(if m.root.converged { m.root.omega } else { m.seed.0 })).cloned().collect();
-    let notes = super::spectrum::degenerate_notes(&rec, &setup, &opts, &inside);
+    let inside: Vec<Mode> = modes.iter().filter(|m| in_window(m)).cloned().collect();
+    notes.extend(super::spectrum::degenerate_notes(&rec, &setup, &opts, &inside));
     let degenerate = match super::cf::try_numeric(&rec, &super::spectrum::recurrence_values(&setup, &opts), opts.freq) {
         Ok(num) => inside
             .iter()
@@ -320,7 +331,7 @@ fn spectral_rows(found: &[global::Found], scale: f64, taken: &mut Vec<RegionRow>
             omega: w,
             found: Finding::Spectral(f.spectral),
             seed: f.spectral.omega,
-            polished_by: "integrate",
+            polished_by: ModeMethod::Integrate,
             check: None,
             check_note: Some(note.to_string()),
         });
@@ -460,6 +471,22 @@ fn ladder_rows(
             continue;
         }
         let w = m.root.omega;
+        if m.method == super::spectrum::ModeMethod::SpecialPoint {
+            if region.contains(w) {
+                rows.push(RegionRow {
+                    family: if w.re == 0.0 { ModeFamily::PurelyImaginary } else { ModeFamily::Oscillating },
+                    n: m.n,
+                    mirror_of: None,
+                    omega: w,
+                    found: Finding::SpecialPoint,
+                    seed: m.seed.0,
+                    polished_by: super::spectrum::ModeMethod::SpecialPoint,
+                    check: None,
+                    check_note: Some("exact arithmetic: the recurrence's leading coefficient and the determinant of its first equations vanish here (see the note); no numeric check is possible at this point".to_string()),
+                });
+            }
+            continue;
+        }
         let reach = CONFIRMED * w.norm().max(scale);
         let agreed = check.as_ref().filter(|c| c.converged && (c.omega - w).norm() <= reach);
         if let (Some(_), true) = (agreed, w.re > 0.0) {
@@ -489,8 +516,8 @@ fn ladder_rows(
             omega: w,
             found,
             seed: m.seed.0,
-            polished_by: "cf",
-            check: Some(("integrate", c.omega)),
+            polished_by: ModeMethod::ContinuedFraction,
+            check: Some((ModeMethod::Integrate, c.omega)),
             check_note: None,
         });
     }
@@ -529,8 +556,8 @@ fn mirror_rows(
             omega: r.omega,
             found: Finding::Mirror,
             seed: image,
-            polished_by: "integrate",
-            check: Some(("cf", image)),
+            polished_by: ModeMethod::Integrate,
+            check: Some((ModeMethod::ContinuedFraction, image)),
             check_note: Some(format!("against the mirror image of overtone {n}'s continued-fraction value")),
         });
     }

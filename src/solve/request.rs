@@ -173,11 +173,76 @@ pub struct ModeFunction {
     pub difference: Option<f64>,
 }
 
+/// The numeric method that gave a mode's value or its function (a closed
+/// set: every use is a `match`); [`NumericMethod::tag`] is its word in documents.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum NumericMethod {
+    /// The continued fraction of the exact recurrence.
+    ContinuedFraction,
+    /// The exact termination condition of a two-term recurrence.
+    Terminating,
+    /// Direct integration between the ends.
+    Integrate,
+    /// Shooting on a bound state's mismatch.
+    Shooting,
+    /// Chebyshev collocation (an eigenvector, or a collocation root).
+    Collocation,
+    /// The global spectral method.
+    Spectral,
+    /// The periodic route's truncated two-sided Laurent series (its null vector).
+    Laurent,
+    /// The periodic route's truncation, as the method of a characteristic value.
+    Truncation,
+    /// Integration once around the period (the monodromy).
+    Monodromy,
+    /// An algebraically special point of a recurrence, exact.
+    SpecialPoint,
+}
+
+impl NumericMethod {
+    /// The tag in documents ("cf", "terminating", "integrate", "shooting",
+    /// "collocation", "spectral", "laurent", "truncation", "monodromy", "special").
+    pub fn tag(self) -> &'static str {
+        match self {
+            NumericMethod::ContinuedFraction => "cf",
+            NumericMethod::Terminating => "terminating",
+            NumericMethod::Integrate => "integrate",
+            NumericMethod::Shooting => "shooting",
+            NumericMethod::Collocation => "collocation",
+            NumericMethod::Spectral => "spectral",
+            NumericMethod::Laurent => "laurent",
+            NumericMethod::Truncation => "truncation",
+            NumericMethod::Monodromy => "monodromy",
+            NumericMethod::SpecialPoint => "special",
+        }
+    }
+}
+
+impl From<ModeMethod> for NumericMethod {
+    fn from(m: ModeMethod) -> NumericMethod {
+        match m {
+            ModeMethod::ContinuedFraction => NumericMethod::ContinuedFraction,
+            ModeMethod::Terminating => NumericMethod::Terminating,
+            ModeMethod::Integrate => NumericMethod::Integrate,
+            ModeMethod::SpecialPoint => NumericMethod::SpecialPoint,
+        }
+    }
+}
+
+impl From<CheckMethod> for NumericMethod {
+    fn from(m: CheckMethod) -> NumericMethod {
+        match m {
+            CheckMethod::Spectral => NumericMethod::Spectral,
+            CheckMethod::Collocation => NumericMethod::Collocation,
+        }
+    }
+}
+
 /// A function by one method.
 #[derive(Debug)]
 pub struct MethodFunction {
-    /// The method, as a tag: "cf", "terminating", "integrate", "shooting", "collocation" or "spectral".
-    pub method: &'static str,
+    /// The method.
+    pub method: NumericMethod,
     /// The eigenvalue (or frequency) it was computed at.
     pub value: Complex64,
     /// The samples, or why there are none.
@@ -709,15 +774,15 @@ fn exact_only(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> 
 
 impl Body {
     /// The converged modes of the numeric route: (n, value, method).
-    pub fn converged(&self) -> Vec<(u32, Complex64, &'static str)> {
+    pub fn converged(&self) -> Vec<(u32, Complex64, NumericMethod)> {
         match self {
-            Body::Recurrence(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, m.method.tag())).collect(),
+            Body::Recurrence(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, m.method.into())).collect(),
             Body::Ends(EndsReport { series: Some(s), .. }) => {
-                s.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, m.method.tag())).collect()
+                s.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, m.method.into())).collect()
             }
-            Body::Ends(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, "integrate")).collect(),
-            Body::Bound(b) => b.states.iter().filter(|s| s.converged).map(|s| (s.n, s.value, "collocation")).collect(),
-            Body::Periodic(b) => b.solution.modes.iter().map(|m| (m.n, m.value, "truncation")).collect(),
+            Body::Ends(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, NumericMethod::Integrate)).collect(),
+            Body::Bound(b) => b.states.iter().filter(|s| s.converged).map(|s| (s.n, s.value, NumericMethod::Collocation)).collect(),
+            Body::Periodic(b) => b.solution.modes.iter().map(|m| (m.n, m.value, NumericMethod::Truncation)).collect(),
             Body::Estimates(_) | Body::Exact => Vec::new(),
         }
     }
@@ -729,7 +794,7 @@ pub const CONFIRMED: f64 = 1e-6;
 impl SpectrumReport {
     /// The converged modes for a picture of the complex plane: each
     /// labelled by its number, and whether a second method confirmed it
-    /// (agreeing to [`CONFIRMED`]).
+    /// (agreeing to `CONFIRMED`).
     pub fn plane_modes(&self) -> Vec<super::plot::PlaneMode> {
         let near = |a: Complex64, b: Complex64| (a - b).norm() <= CONFIRMED * b.norm().max(f64::MIN_POSITIVE);
         let mode = |n: u32, omega: Complex64, confirmed: bool| super::plot::PlaneMode { label: format!("n={n}"), omega, confirmed };
@@ -937,8 +1002,8 @@ fn ends_functions(req: &SpectrumRequest, r: &EndsReport) -> Option<ModeFunctions
             .zip(&r.modes)
             .filter(|(m, _)| m.root.converged)
             .map(|(m, c)| {
-                let second = c.root.converged.then(|| left_end_function(bp, ModeMethod::Integrate.tag(), c.root.omega, reach));
-                ModeFunction::new(m.n, left_end_function(bp, m.method.tag(), m.root.omega, reach), second)
+                let second = c.root.converged.then(|| left_end_function(bp, NumericMethod::Integrate, c.root.omega, reach));
+                ModeFunction::new(m.n, left_end_function(bp, m.method.into(), m.root.omega, reach), second)
             })
             .collect();
         return Some(ModeFunctions {
@@ -952,8 +1017,8 @@ fn ends_functions(req: &SpectrumRequest, r: &EndsReport) -> Option<ModeFunctions
         .zip(&r.checks)
         .filter(|(m, _)| m.root.converged)
         .map(|(m, c)| {
-            let second = c.as_ref().and_then(|c| c.omega.map(|w| left_end_function(bp, c.method.tag(), w, reach)));
-            ModeFunction::new(m.n, left_end_function(bp, ModeMethod::Integrate.tag(), m.root.omega, reach), second)
+            let second = c.as_ref().and_then(|c| c.omega.map(|w| left_end_function(bp, c.method.into(), w, reach)));
+            ModeFunction::new(m.n, left_end_function(bp, NumericMethod::Integrate, m.root.omega, reach), second)
         })
         .collect();
     Some(ModeFunctions { normalisation: "the normal form's ψ, with unit leading coefficient of its Frobenius series at the left end", modes })
@@ -962,7 +1027,7 @@ fn ends_functions(req: &SpectrumRequest, r: &EndsReport) -> Option<ModeFunctions
 /// The normal form's ψ at `w` from the left end's Frobenius series with the
 /// chosen exponent and unit leading coefficient, continued along the real
 /// axis out to `reach` (at most 98 % of the way to a finite right end).
-fn left_end_function(bp: &BoundaryProblem, method: &'static str, w: Complex64, reach: Option<f64>) -> MethodFunction {
+fn left_end_function(bp: &BoundaryProblem, method: NumericMethod, w: Complex64, reach: Option<f64>) -> MethodFunction {
     let samples = match (bp.ends[0].location, bp.ends[1].location) {
         (Location::At(a), right) => {
             let reach = match right {
@@ -1008,11 +1073,10 @@ fn coupled_functions(
             });
             match problem {
                 Ok(bp) => {
-                    let second =
-                        c.check.as_ref().filter(|r| r.converged).map(|r| left_end_function(&bp, ModeMethod::Integrate.tag(), r.omega, reach));
-                    ModeFunction::new(c.mode.n, left_end_function(&bp, c.mode.method.tag(), w, reach), second)
+                    let second = c.check.as_ref().filter(|r| r.converged).map(|r| left_end_function(&bp, NumericMethod::Integrate, r.omega, reach));
+                    ModeFunction::new(c.mode.n, left_end_function(&bp, c.mode.method.into(), w, reach), second)
                 }
-                Err(e) => ModeFunction::new(c.mode.n, MethodFunction { method: c.mode.method.tag(), value: w, samples: Err(e) }, None),
+                Err(e) => ModeFunction::new(c.mode.n, MethodFunction { method: c.mode.method.into(), value: w, samples: Err(e) }, None),
             }
         })
         .collect();
@@ -1031,7 +1095,7 @@ fn bound_ends_functions(r: &EndsReport) -> ModeFunctions {
         (Location::At(a), Location::Infinity) => Ok(Domain::HalfLine(a)),
         _ => Err("the mode function needs a finite left end".to_string()),
     };
-    let at = |method: &'static str, w: Complex64| MethodFunction {
+    let at = |method: NumericMethod, w: Complex64| MethodFunction {
         method,
         value: w,
         samples: domain.clone().and_then(|d| {
@@ -1045,8 +1109,8 @@ fn bound_ends_functions(r: &EndsReport) -> ModeFunctions {
         .zip(&r.checks)
         .filter(|(m, _)| m.root.converged)
         .map(|(m, c)| {
-            let first = at(ModeMethod::Integrate.tag(), m.root.omega);
-            let second = c.as_ref().and_then(|c| c.omega.map(|w| at(c.method.tag(), w))).map(|mut s| {
+            let first = at(NumericMethod::Integrate, m.root.omega);
+            let second = c.as_ref().and_then(|c| c.omega.map(|w| at(c.method.into(), w))).map(|mut s| {
                 // Same samples (a finite domain): the same phase as the first.
                 if let (Ok(one), Ok(two)) = (&first.samples, &s.samples) {
                     if one.len() == two.len() && one.iter().zip(two).all(|(p, q)| p.0 == q.0) {
@@ -1133,8 +1197,8 @@ fn periodic(red: &Reduction, req: &SpectrumRequest, point: &[GRat], freq: usize)
             .iter()
             .map(|m| {
                 let (first, second) = super::periodic::mode_functions(&ode, &solution, m, kappa.unwrap_or(1.0), 256);
-                let second = second.map(|samples| MethodFunction { method: "monodromy", value: m.check.omega, samples });
-                ModeFunction::new(m.n, MethodFunction { method: "laurent", value: m.value, samples: first }, second)
+                let second = second.map(|samples| MethodFunction { method: NumericMethod::Monodromy, value: m.check.omega, samples });
+                ModeFunction::new(m.n, MethodFunction { method: NumericMethod::Laurent, value: m.value, samples: first }, second)
             })
             .collect(),
     });
@@ -1467,11 +1531,19 @@ fn recurrence_route(
             all.extend(super::spectrum::qnm_modes_from(&rec, setup0.clone(), &one, &estimate)?.0);
         }
         (all, setup0.clone())
+    } else if opts.overtones.0 > 0 && opts.guess.is_none() && opts.seeds.is_empty() {
+        // The overtone number is a count from the fundamental: without a
+        // guess the ladder climbs from overtone 0 (a first estimate of a high
+        // overtone can sit nearer another one), and the range asked for is kept.
+        let from_zero = SpectrumOptions { overtones: (0, opts.overtones.1), ..opts.clone() };
+        let (all, setup) = super::spectrum::qnm_modes_from(&rec, setup0.clone(), &from_zero, &estimate)?;
+        (all.into_iter().filter(|m| m.n >= opts.overtones.0).collect(), setup)
     } else {
         super::spectrum::qnm_modes_from(&rec, setup0.clone(), opts, &estimate)?
     };
     let wkb = modes.iter().map(|m| estimates.as_ref().and_then(|e| e(m.n)).map(|b| b.series.omega())).collect();
-    let notes = super::spectrum::degenerate_notes(&rec, &setup, opts, &modes);
+    let mut notes = super::spectrum::settle_special(&rec, &setup, opts, &mut modes)?;
+    notes.extend(super::spectrum::degenerate_notes(&rec, &setup, opts, &modes));
     // The independent check: direct integration, seeded 1e-4 away from the
     // continued-fraction root (or, with Method::Integrate, from the seed);
     // with an adjoined rate, between the ends of the boundary problem (the
@@ -1512,10 +1584,11 @@ fn recurrence_route(
             let fs = modes
                 .iter()
                 .zip(&checks)
-                .filter(|(m, _)| m.root.converged)
+                // At a special point the series' exponent does not fix a function.
+                .filter(|(m, _)| m.root.converged && m.method != ModeMethod::SpecialPoint)
                 .map(|(m, c)| {
-                    let second = c.as_ref().filter(|r| r.converged).map(|r| left_end_function(bp, ModeMethod::Integrate.tag(), r.omega, reach));
-                    ModeFunction::new(m.n, left_end_function(bp, m.method.tag(), m.root.omega, reach), second)
+                    let second = c.as_ref().filter(|r| r.converged).map(|r| left_end_function(bp, NumericMethod::Integrate, r.omega, reach));
+                    ModeFunction::new(m.n, left_end_function(bp, m.method.into(), m.root.omega, reach), second)
                 })
                 .collect();
             Some(ModeFunctions {
@@ -1526,7 +1599,7 @@ fn recurrence_route(
         (Some(reach), _, _) => {
             // The unknown itself, from the horizon's Frobenius series with unit leading coefficient.
             let pb = super::scatter::problem(red, opts, &setup)?;
-            let at = |method: &'static str, w: Complex64| MethodFunction {
+            let at = |method: NumericMethod, w: Complex64| MethodFunction {
                 method,
                 value: w,
                 samples: super::modefn::horizon_mode_function(&pb.ode, pb.near, pb.rho_at(w), w, reach, 400),
@@ -1535,10 +1608,11 @@ fn recurrence_route(
             let fs = modes
                 .iter()
                 .zip(&checks)
-                .filter(|(m, _)| m.root.converged)
+                // At a special point the series' exponent does not fix a function.
+                .filter(|(m, _)| m.root.converged && m.method != ModeMethod::SpecialPoint)
                 .map(|(m, c)| {
-                    let second = c.as_ref().filter(|r| r.converged).map(|r| at(ModeMethod::Integrate.tag(), r.omega));
-                    ModeFunction::new(m.n, at(m.method.tag(), m.root.omega), second)
+                    let second = c.as_ref().filter(|r| r.converged).map(|r| at(NumericMethod::Integrate, r.omega));
+                    ModeFunction::new(m.n, at(m.method.into(), m.root.omega), second)
                 })
                 .collect();
             Some(ModeFunctions { normalisation: "the unknown, with unit leading coefficient of its Frobenius series at the horizon", modes: fs })
@@ -1589,10 +1663,11 @@ fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) 
                         Some(BoundCheck::Agrees(r)) => r.omega,
                         _ => s.value,
                     };
-                    let first = MethodFunction { method: "shooting", value: e, samples: super::modefn::bound_mode_function(o, domain, e, 24) };
+                    let first =
+                        MethodFunction { method: NumericMethod::Shooting, value: e, samples: super::modefn::bound_mode_function(o, domain, e, 24) };
                     // The collocation eigenvector of the same state, on the same samples.
                     let second = first.samples.as_ref().ok().map(|shot| MethodFunction {
-                        method: "collocation",
+                        method: NumericMethod::Collocation,
                         value: s.value,
                         samples: super::collocation::try_eigenfunction(
                             k,

@@ -84,11 +84,6 @@ impl Walk {
         let pass = points.len().max(1);
         Walk { fields, points, pass }
     }
-
-    /// True when the walk has no point.
-    pub fn is_empty(&self) -> bool {
-        self.points.is_empty()
-    }
 }
 
 /// The per-axis indices of position `s` of the snake walk over a grid of
@@ -454,7 +449,7 @@ pub fn survey<'a>(
 }
 
 /// Solves every point of `grid[range]` for parameter `vary` (field index)
-/// and returns them in grid order: [`survey`] over a line, with
+/// and returns them in grid order: `survey` over a line, with
 /// `progress` called once per finished point.
 pub fn scan<'a>(
     make: &(dyn Fn() -> Result<PointSolver<'a>> + Sync),
@@ -625,7 +620,7 @@ fn modes_at(red: &Reduction, sub: Option<&Reduction>, rec: &Recurrence, setup: S
 /// the point itself (`Symbolic::at`: a singular point moves onto
 /// another, a quadratic factor splits over Q, a numerator cancels a
 /// pole, other exponent or horizon picks) is solved exactly as
-/// [`single_point`] does, and so is every point when the symbolic
+/// `single_point` does, and so is every point when the symbolic
 /// derivation fails.
 pub fn survey_solver<'a>(red: Reduction, varied: &[usize]) -> PointSolver<'a> {
     let sym = std::cell::OnceCell::new();

@@ -58,7 +58,8 @@ pub enum BoundCheck {
 
 /// The normalised mismatch at E (zero at a bound state), `None` where it
 /// cannot be evaluated.
-pub fn mismatch(ode: &NumOde, domain: Domain, e: Complex64) -> Option<Complex64> {
+#[cfg(test)]
+fn mismatch(ode: &NumOde, domain: Domain, e: Complex64) -> Option<Complex64> {
     evaluate(ode, domain, e, &integrate::STANDARD).ok().map(|(v, _)| v)
 }
 

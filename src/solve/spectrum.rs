@@ -29,7 +29,7 @@ pub struct SpectrumOptions {
     pub tol: f64,
     /// A seed for the lowest overtone asked for.
     pub guess: Option<Complex64>,
-    /// Seeds from the global spectral method ([`super::global`]), one per
+    /// Seeds from the global spectral method (`solve::global`), one per
     /// overtone from the lowest asked for, used before any other estimate.
     pub seeds: Vec<Complex64>,
 }
@@ -43,15 +43,19 @@ pub enum ModeMethod {
     Terminating,
     /// Direct integration between the ends.
     Integrate,
+    /// An algebraically special point of the recurrence ([`SpecialPoint`]),
+    /// found and verified in exact arithmetic.
+    SpecialPoint,
 }
 
 impl ModeMethod {
-    /// The tag in documents: "cf", "terminating" or "integrate".
+    /// The tag in documents: "cf", "terminating", "integrate" or "special".
     pub fn tag(self) -> &'static str {
         match self {
             ModeMethod::ContinuedFraction => "cf",
             ModeMethod::Terminating => "terminating",
             ModeMethod::Integrate => "integrate",
+            ModeMethod::SpecialPoint => "special",
         }
     }
 }
@@ -679,7 +683,7 @@ pub fn barrier_potential(red: &Reduction, opts: &SpectrumOptions) -> Result<(cra
     Ok((v, h))
 }
 
-/// First estimates from the barrier top of [`barrier_potential`], searched
+/// First estimates from the barrier top of `barrier_potential`, searched
 /// beyond the horizon (then below it): a function giving the estimates of
 /// overtone n to WKB order `order` (eikonal, the series and its Padé values;
 /// see `wkb.rs`).
@@ -849,6 +853,136 @@ pub fn degenerate_points_near(num: &super::cf::NumRecurrence, w: Complex64, radi
     out
 }
 
+/// An algebraically special point of a three-term recurrence: a frequency
+/// ω* where the leading coefficient c₀(k; ω*) vanishes and the first k + 1
+/// equations close by themselves (the continuant of rows 0…k is zero), both
+/// in exact arithmetic. There the downward continued fraction passes row k
+/// without the tail (row k no longer holds a_{k+1}), so its mode condition
+/// holds at ω* exactly; and a_{k+1} is free, i.e. the solution that starts
+/// at a_{k+1} (the other exponent at the expansion point) can be added to
+/// the series without changing the first k + 1 coefficients: the series'
+/// exponent no longer fixes its solution. Chandrasekhar's algebraically
+/// special frequencies of the Regge–Wheeler and Zerilli equations are such
+/// points (common practice).
+#[derive(Clone, Debug, PartialEq)]
+pub struct SpecialPoint {
+    /// The exact frequency.
+    pub omega: GRat,
+    /// The index k with c₀(k; ω*) = 0.
+    pub k: u32,
+}
+
+/// The exact roots in the variable `v` of `r` (every other variable
+/// substituted) when its numerator is of degree 1, or 2 with a square
+/// discriminant over Q(i); `None` otherwise.
+fn exact_roots(k: &crate::algebra::Field, r: &crate::algebra::RatFunc, v: usize) -> Result<Option<Vec<GRat>>> {
+    use crate::algebra::RatFunc;
+    let c: Vec<RatFunc> = r.num().to_univariate(v).into_iter().map(RatFunc::from_poly).collect();
+    let roots = match c.len() {
+        2 => vec![k.neg(&k.div(&c[0], &c[1])?)],
+        3 => {
+            let disc = k.sub(&k.mul(&c[1], &c[1])?, &k.mul(&RatFunc::rat(&Rat::int(4.into())), &k.mul(&c[0], &c[2])?)?)?;
+            let Some(s) = k.sqrt_exact(&disc)? else { return Ok(None) };
+            let two_a = k.mul(&RatFunc::rat(&Rat::int(2.into())), &c[2])?;
+            let minus_b = k.neg(&c[1]);
+            vec![k.div(&k.add(&minus_b, &s)?, &two_a)?, k.div(&k.sub(&minus_b, &s)?, &two_a)?]
+        }
+        _ => return Ok(None),
+    };
+    Ok(roots.iter().map(RatFunc::as_constant).collect())
+}
+
+/// The algebraically special point ([`SpecialPoint`]) of the exact
+/// recurrence `rec` within `radius` of `near`, at exact `values` (indexed
+/// like the recurrence's field; the spectral parameter's entry `freq` is
+/// ignored). `None` when there is none, when the recurrence does not have
+/// three terms, or when the degenerate point is not exact (roots of
+/// c₀(k; ω) beyond a square root over Q(i)).
+pub fn special_point(rec: &crate::series::Recurrence, values: &[GRat], freq: usize, near: Complex64, radius: f64) -> Result<Option<SpecialPoint>> {
+    if rec.coeffs.len() != 3 {
+        return Ok(None);
+    }
+    let num = try_numeric(rec, values, freq)?;
+    let k = &rec.field;
+    let params: Vec<(usize, GRat)> = (1..values.len().min(k.names().len())).filter(|&i| i != freq).map(|i| (i, values[i].clone())).collect();
+    for p in degenerate_points_near(&num, near, radius, 4096) {
+        let mut at_k = params.clone();
+        at_k.push((0, GRat::real(Rat::int(i64::from(p.k).into()))));
+        let lead = k.substitute_values(&rec.coeffs[0], &at_k)?;
+        let Some(roots) = exact_roots(k, &lead, freq)? else { continue };
+        // The exact root the numeric one approximates.
+        let Some(w) = roots.into_iter().find(|w| {
+            let (re, im) = w.to_f64();
+            (Complex64::new(re, im) - p.omega).norm() <= 1e-8 * p.omega.norm().max(1.0)
+        }) else {
+            continue;
+        };
+        let mut at_w = params.clone();
+        at_w.push((freq, w.clone()));
+        let coeffs = rec.coeffs.iter().map(|c| k.substitute_values(c, &at_w)).collect::<Result<Vec<_>>>()?;
+        let t = crate::series::termination(k, &coeffs, p.k)?;
+        if t.determinant.is_zero() {
+            return Ok(Some(SpecialPoint { omega: w, k: p.k }));
+        }
+    }
+    Ok(None)
+}
+
+/// Settles the overtones of the continued fraction that failed next to (or
+/// converged onto) an algebraically special point of the recurrence
+/// ([`special_point`]): each becomes a mode at the exact point, method
+/// [`ModeMethod::SpecialPoint`], with a note in plain words of what the
+/// point is and why it needs care. Needs exact values: nothing is done with
+/// an adjoined root or rate (their values are not exact).
+pub fn settle_special(rec: &crate::series::Recurrence, setup: &Setup, opts: &SpectrumOptions, modes: &mut [Mode]) -> Result<Vec<String>> {
+    if setup.theta.is_some() || setup.rate.is_some() {
+        return Ok(Vec::new());
+    }
+    let values = recurrence_values(setup, opts);
+    let mut notes = Vec::new();
+    for i in 0..modes.len() {
+        let m = &modes[i];
+        if m.method != ModeMethod::ContinuedFraction {
+            continue;
+        }
+        let (at, radius) = if m.root.converged { (m.root.omega, 1e-3 * m.root.omega.norm()) } else { (m.seed.0, 0.1 * m.seed.0.im.abs().max(1e-3)) };
+        if !(at.re.is_finite() && at.im.is_finite()) {
+            continue;
+        }
+        let Some(sp) = special_point(rec, &values, opts.freq, at, radius)? else { continue };
+        let (re, im) = sp.omega.to_f64();
+        let omega = Complex64::new(re, im);
+        // Another overtone already there: the point is that one's.
+        if modes.iter().enumerate().any(|(j, o)| j != i && o.root.converged && (o.root.omega - omega).norm() <= 1e-8 * omega.norm().max(1.0)) {
+            continue;
+        }
+        let m = &mut modes[i];
+        let was =
+            if m.root.converged { "converged onto it".to_string() } else { format!("the root finder had failed next to it: {}", m.root.stop.text()) };
+        m.root = CfRoot {
+            omega,
+            converged: true,
+            depth: 0,
+            // No doubling: the point is exact.
+            depth_change: f64::NAN,
+            residual: 0.0,
+            iterations: 0,
+            stop: StopReason::Converged,
+            inversion: sp.k as usize,
+        };
+        m.method = ModeMethod::SpecialPoint;
+        notes.push(format!(
+            "overtone {n} is the algebraically special point ω = {w} (exact; {was}): the recurrence's leading coefficient vanishes there at k = {k} (the exponents at the expansion point {h} differ by the integer {k1}) and the first {k1} equations close by themselves (their determinant is 0 in exact arithmetic), so the continued fraction's mode condition holds at this point exactly. The series' exponent does not fix its solution here (the solution that starts at a_{k1} can be added freely), so whether this is a mode of the physical problem depends on how the ingoing condition is continued to this frequency: published tables list it as an overtone, while for the Regge–Wheeler equation Maassen van den Brink (Phys. Rev. D 62 (2000) 064009) finds no mode at it and for the Zerilli equation one that is also totally transmitting. No numeric check is possible at this point; treat it with care",
+            n = m.n,
+            w = crate::algebra::print::grat_text(&sp.omega, Style::Text),
+            k = sp.k,
+            h = setup.horizon,
+            k1 = sp.k + 1,
+        ));
+    }
+    Ok(notes)
+}
+
 /// Plain words for every mode that failed next to a degenerate point of the
 /// recurrence, or converged onto one: where it is, and why the continued
 /// fraction cannot settle the mode there. A mode "next to" a point is within
@@ -884,6 +1018,28 @@ pub fn degenerate_notes(rec: &crate::series::Recurrence, setup: &Setup, opts: &S
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn the_algebraically_special_point_is_found_exactly_and_only_where_the_equations_close() {
+        // Regge–Wheeler, M = 1 (Leaver's recurrence about r = 2M, ingoing,
+        // outgoing at infinity). Ω = −i(l − 1)l(l + 1)(l + 2)/12 (Chandrasekhar;
+        // common practice) is −2i for l = 2 and −10i for l = 3, gravitational
+        // s = 2 only; the recurrence degenerates at −2i (k = 7) for every s,
+        // since the horizon's exponents ±2iω differ by 8 there.
+        let src = "var r\nparam M, omega, l, s\nlet f = 1 - 2*M/r\node f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0\n";
+        let red = crate::ode::reduce(&crate::ode::Input::Program(src), &crate::ode::ReduceOptions::default()).unwrap();
+        let choices = Choices { picks: vec![("2*M".into(), 2), ("inf".into(), 1)], values: Vec::new() };
+        let rec = crate::series::recurrence(&red, "2*M", None, &choices, false).unwrap();
+        let g = |x: i64| GRat::real(Rat::int(x.into()));
+        let at = |l: i64, s: i64, w: f64| special_point(&rec, &[g(0), g(1), g(0), g(l), g(s)], 2, Complex64::new(0.0, w), 0.05).unwrap();
+        assert_eq!(at(2, 2, -2.0), Some(SpecialPoint { omega: GRat { re: Rat::int(0.into()), im: Rat::int((-2).into()) }, k: 7 }));
+        assert_eq!(at(3, 2, -10.0).map(|p| (p.omega.to_f64(), p.k)), Some(((0.0, -10.0), 39)));
+        for (l, s) in [(2, 1), (2, 0), (3, 2)] {
+            assert_eq!(at(l, s, -2.0), None, "l={l} s={s}");
+        }
+        // Away from any degenerate point: nothing.
+        assert_eq!(at(2, 2, -1.0), None);
+    }
 
     fn root(w: Complex64) -> CfRoot {
         CfRoot { omega: w, converged: true, depth: 64, depth_change: 0.0, residual: 0.0, iterations: 1, stop: StopReason::Converged, inversion: 0 }

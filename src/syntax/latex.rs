@@ -1236,8 +1236,25 @@ fn head_name(e: &Expr) -> Option<String> {
     }
 }
 
-/// Reads LaTeX mathematics into a program (see the module documentation).
+/// Reads LaTeX mathematics into a program (see the module documentation),
+/// in steps: the relations read, sorted into definitions, coordinates and
+/// the one equation, the unknown and the variable found, and the program
+/// written with the definitions in the order of their use.
 pub(super) fn parse(src: &str, limits: &ParseLimits) -> Result<Program> {
+    let mut applications = Vec::new();
+    let read = read_relations(src, limits, &mut applications)?;
+    let Sorted { ode, defs, coords } = sort_relations(src, read, &applications)?;
+    let def_names: BTreeSet<String> = defs.iter().map(|(d, _)| d.name.clone()).collect();
+    let carried = unknown_names(&ode, &def_names);
+    let var = variable(&ode, &defs, &coords, &carried, &def_names, &applications)?;
+    let mut functions = def_names;
+    functions.extend(carried.iter().map(|(n, _)| n.clone()));
+    program(var, ode, defs, coords, &functions, &applications)
+}
+
+/// The relations of the text, each read into its two sides; the spans of
+/// products written as `f(x)` are collected in `applications`.
+fn read_relations(src: &str, limits: &ParseLimits, applications: &mut Vec<Span>) -> Result<Vec<Relation>> {
     let toks = tokens(src)?;
     check_balance(&toks)?;
     let rels = relations(toks);
@@ -1247,7 +1264,6 @@ pub(super) fn parse(src: &str, limits: &ParseLimits) -> Result<Program> {
     if rels.len() > limits.max_statements {
         return Err(Error::new(ErrorKind::Limit, format!("more than {} relations", limits.max_statements)).at(rels[limits.max_statements][0].span));
     }
-    let mut applications = Vec::new();
     let mut read = Vec::new();
     for r in &rels {
         let span = r[0].span.to(r[r.len() - 1].span);
@@ -1256,7 +1272,7 @@ pub(super) fn parse(src: &str, limits: &ParseLimits) -> Result<Program> {
                 syntax("a relation without '='", span).note("write the equation as LHS = RHS; separate relations with a comma, \\quad or a new line")
             );
         };
-        let mut reader = Reader { src, toks: r, pos: 0, depth: 0, limits, applications: &mut applications };
+        let mut reader = Reader { src, toks: r, pos: 0, depth: 0, limits, applications: &mut *applications };
         let lhs = reader.sub_expr(0, eq)?;
         if eq + 1 >= r.len() {
             return Err(syntax("nothing after '='", r[eq].span));
@@ -1264,11 +1280,29 @@ pub(super) fn parse(src: &str, limits: &ParseLimits) -> Result<Program> {
         let rhs = reader.sub_expr(eq + 1, r.len())?;
         read.push(Relation { lhs: lhs.expr, rhs: rhs.expr, span });
     }
-    // Definitions: a lone name (or f(x)) on the left; the rest is the equation.
+    Ok(read)
+}
+
+/// A coordinate declaration `\frac{dr_*}{dr} = …`: the differentiated name,
+/// the name it is differentiated by, and the relation.
+type Coordinate = (Ident, Ident, Relation);
+
+/// The relations sorted: the differential equation, the definitions (a
+/// name, or `f(x)`, on the left) and the coordinate declarations.
+struct Sorted {
+    ode: Relation,
+    defs: Vec<(Ident, Relation)>,
+    coords: Vec<Coordinate>,
+}
+
+/// Sorts the relations: a first derivative of a lone name is a coordinate,
+/// a lone name (or f(x)) on the left a definition, the rest the equation;
+/// when every relation looks like a definition, the one with derivatives is
+/// the equation.
+fn sort_relations(src: &str, read: Vec<Relation>, applications: &[Span]) -> Result<Sorted> {
     let mut defs: Vec<(Ident, Relation)> = Vec::new();
     let mut equations: Vec<Relation> = Vec::new();
-    // Coordinates: `\frac{dr_*}{dr} = \frac{1}{f}`, a first derivative of a lone name.
-    let mut coords: Vec<(Ident, Ident, Relation)> = Vec::new();
+    let mut coords: Vec<Coordinate> = Vec::new();
     for rel in read {
         if let ExprKind::Derivative { body, wrt, order: 1 } = &rel.lhs.kind {
             if let (ExprKind::Name(top), false) = (&body.kind, has_derivative(&rel.rhs)) {
@@ -1276,7 +1310,7 @@ pub(super) fn parse(src: &str, limits: &ParseLimits) -> Result<Program> {
                 continue;
             }
         }
-        match definition_name(&rel.lhs, &applications) {
+        match definition_name(&rel.lhs, applications) {
             Some(name) if !has_derivative(&rel.lhs) => {
                 if let Some((first, _)) = defs.iter().find(|(d, _)| d.name == name.name) {
                     return Err(
@@ -1305,8 +1339,11 @@ pub(super) fn parse(src: &str, limits: &ParseLimits) -> Result<Program> {
                 .note("define names as K = …, \\Delta = … or f(r) = …"))
         }
     };
-    // The unknown: the undefined names that carry derivatives in the equation.
-    let def_names: BTreeSet<String> = defs.iter().map(|(d, _)| d.name.clone()).collect();
+    Ok(Sorted { ode, defs, coords })
+}
+
+/// The unknown: the undefined names that carry derivatives in the equation.
+fn unknown_names(ode: &Relation, def_names: &BTreeSet<String>) -> Vec<(String, Span)> {
     let mut carried: Vec<(String, Span)> = Vec::new();
     for side in [&ode.lhs, &ode.rhs] {
         walk(side, &mut |e| match &e.kind {
@@ -1319,7 +1356,20 @@ pub(super) fn parse(src: &str, limits: &ParseLimits) -> Result<Program> {
         });
     }
     carried.retain(|(n, _)| !def_names.contains(n));
-    // The variable: what derivatives are taken with respect to.
+    carried
+}
+
+/// The variable: what derivatives are taken with respect to (a declared
+/// coordinate the equation differentiates by is not the variable: the
+/// other name of its declaration is), else the argument of the unknown.
+fn variable(
+    ode: &Relation,
+    defs: &[(Ident, Relation)],
+    coords: &[Coordinate],
+    carried: &[(String, Span)],
+    def_names: &BTreeSet<String>,
+    applications: &[Span],
+) -> Result<Ident> {
     let mut wrts: Vec<Ident> = Vec::new();
     for side in [&ode.lhs, &ode.rhs].into_iter().chain(defs.iter().flat_map(|(_, r)| [&r.lhs, &r.rhs])) {
         walk(side, &mut |e| {
@@ -1328,10 +1378,8 @@ pub(super) fn parse(src: &str, limits: &ParseLimits) -> Result<Program> {
             }
         });
     }
-    // A declared coordinate the equation differentiates by is not the variable:
-    // the other name of its declaration is.
     let mut coordinate_var = None;
-    for (top, bottom, _) in &coords {
+    for (top, bottom, _) in coords {
         let (new, other) = if wrts.iter().any(|w| w.name == top.name) { (top, bottom) } else { (bottom, top) };
         wrts.retain(|w| w.name != new.name);
         coordinate_var.get_or_insert_with(|| other.clone());
@@ -1341,48 +1389,63 @@ pub(super) fn parse(src: &str, limits: &ParseLimits) -> Result<Program> {
             wrts.push(v);
         }
     }
-    let var = match wrts.first() {
+    match wrts.first() {
         Some(first) => {
             if let Some(other) = wrts.iter().find(|w| w.name != first.name) {
                 return Err(syntax(format!("derivatives with respect to both '{}' and '{}'", first.name, other.name), other.span)
                     .note("an equation has one independent variable"));
             }
-            first.clone()
+            Ok(first.clone())
         }
-        None => {
-            // Primes only: the variable is the argument of the unknown, R(r)
-            // or R''(r), else of a defined function, f(r).
-            let mut arg = None;
-            let mut def_arg = None;
-            for side in [&ode.lhs, &ode.rhs].into_iter().chain(defs.iter().flat_map(|(_, r)| [&r.lhs, &r.rhs])) {
-                walk(side, &mut |e| {
-                    if let ExprKind::Binary(BinOp::Mul, a, b) = &e.kind {
-                        if applications.contains(&e.span) {
-                            if let (Some(h), ExprKind::Name(x)) = (head_name(a), &b.kind) {
-                                let found = Some(Ident { name: x.clone(), span: b.span });
-                                if carried.iter().any(|(n, _)| *n == h) {
-                                    arg = arg.take().or(found);
-                                } else if def_names.contains(&h) {
-                                    def_arg = def_arg.take().or(found);
-                                }
-                            }
+        None => variable_from_arguments(ode, defs, carried, def_names, applications),
+    }
+}
+
+/// Primes only: the variable is the argument of the unknown, R(r) or
+/// R''(r), else of a defined function, f(r).
+fn variable_from_arguments(
+    ode: &Relation,
+    defs: &[(Ident, Relation)],
+    carried: &[(String, Span)],
+    def_names: &BTreeSet<String>,
+    applications: &[Span],
+) -> Result<Ident> {
+    let mut arg = None;
+    let mut def_arg = None;
+    for side in [&ode.lhs, &ode.rhs].into_iter().chain(defs.iter().flat_map(|(_, r)| [&r.lhs, &r.rhs])) {
+        walk(side, &mut |e| {
+            if let ExprKind::Binary(BinOp::Mul, a, b) = &e.kind {
+                if applications.contains(&e.span) {
+                    if let (Some(h), ExprKind::Name(x)) = (head_name(a), &b.kind) {
+                        let found = Some(Ident { name: x.clone(), span: b.span });
+                        if carried.iter().any(|(n, _)| *n == h) {
+                            arg = arg.take().or(found);
+                        } else if def_names.contains(&h) {
+                            def_arg = def_arg.take().or(found);
                         }
                     }
-                });
-            }
-            let arg = arg.or(def_arg);
-            match arg {
-                Some(a) => a,
-                None => {
-                    return Err(syntax("cannot tell the variable: no derivative names it", ode.span)
-                        .note("write the unknown with its argument, e.g. R''(r), or use Leibniz derivatives, \\frac{d^2R}{dr^2}"))
                 }
             }
-        }
-    };
-    let mut functions = def_names.clone();
-    functions.extend(carried.iter().map(|(n, _)| n.clone()));
-    // Definitions in an order where each uses only earlier ones.
+        });
+    }
+    match arg.or(def_arg) {
+        Some(a) => Ok(a),
+        None => Err(syntax("cannot tell the variable: no derivative names it", ode.span)
+            .note("write the unknown with its argument, e.g. R''(r), or use Leibniz derivatives, \\frac{d^2R}{dr^2}")),
+    }
+}
+
+/// The program: the variable, the definitions in an order where each uses
+/// only earlier ones, the coordinates, then the equation, with every `f(x)`
+/// of the variable resolved as an application.
+fn program(
+    var: Ident,
+    mut ode: Relation,
+    defs: Vec<(Ident, Relation)>,
+    coords: Vec<Coordinate>,
+    functions: &BTreeSet<String>,
+    applications: &[Span],
+) -> Result<Program> {
     let order = definition_order(&defs)?;
     let mut statements = vec![Statement::Var(var.clone())];
     let mut slots: Vec<Option<(Ident, Relation)>> = defs.into_iter().map(Some).collect();
@@ -1391,16 +1454,15 @@ pub(super) fn parse(src: &str, limits: &ParseLimits) -> Result<Program> {
         if name.name == var.name {
             return Err(syntax(format!("'{}' is the variable and cannot be defined", name.name), name.span));
         }
-        resolve_applications(&mut rel.rhs, &var.name, &functions, &applications)?;
+        resolve_applications(&mut rel.rhs, &var.name, functions, applications)?;
         statements.push(Statement::Let { name, value: rel.rhs });
     }
     for (top, bottom, mut rel) in coords {
-        resolve_applications(&mut rel.rhs, &var.name, &functions, &applications)?;
+        resolve_applications(&mut rel.rhs, &var.name, functions, applications)?;
         statements.push(Statement::Coordinate { top, bottom, rate: rel.rhs, span: rel.span });
     }
-    let mut ode = ode;
-    resolve_applications(&mut ode.lhs, &var.name, &functions, &applications)?;
-    resolve_applications(&mut ode.rhs, &var.name, &functions, &applications)?;
+    resolve_applications(&mut ode.lhs, &var.name, functions, applications)?;
+    resolve_applications(&mut ode.rhs, &var.name, functions, applications)?;
     statements.push(Statement::Ode { lhs: ode.lhs, rhs: ode.rhs, span: ode.span });
     Ok(Program { statements })
 }
