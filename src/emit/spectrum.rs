@@ -12,7 +12,7 @@ use crate::solve::periodic::{Floquet, PeriodicMode};
 use crate::solve::polynomial::PolynomialSolutions;
 use crate::solve::request::{
     Body, BoundReport, ClosedSection, EndsReport, EstimateReport, MethodFunction, ModeFunctions, NumericMethod, PeriodicReport, Problem,
-    RecurrenceReport, SpectrumReport,
+    RecurrenceReport, SeriesReport, SpectrumReport,
 };
 use crate::solve::shoot::BoundCheck;
 use crate::solve::spectrum::ModeMethod;
@@ -610,6 +610,8 @@ fn recurrence_text(fname: &str, var: &str, source: &str, problem: Problem, b: &R
 const ENDS_METHOD: &str =
     "direct integration between the ends (Frobenius series at regular ends, asymptotic series at an irregular infinity, Taylor continuation; Muller roots)";
 
+const SERIES_METHOD: &str = "continued fraction of a numeric series between the ends (Möbius variable, recurrence reduced to three terms by Gaussian elimination, n-th inversion for overtone n)";
+
 fn ends_notes(b: &EndsReport) -> Vec<String> {
     b.problem.notes.iter().cloned().chain(b.note.clone()).chain(b.numbering.clone()).collect()
 }
@@ -641,6 +643,10 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
             mode_json(m.n, value, "integrate", rest)
         })
         .collect();
+    let ms = match &b.series {
+        Some(series) => series_modes_json(series, b),
+        None => ms,
+    };
     let ends: Vec<Value> = b
         .problem
         .ends
@@ -653,18 +659,82 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
             })
         })
         .collect();
-    json!({
+    let mut doc = json!({
         "frequency": fname,
         "boundary": b.spectrum.tag(),
         "ends": ends,
         "notes": ends_notes(b),
-        "method": ENDS_METHOD,
+        "method": if b.series.is_some() { SERIES_METHOD } else { ENDS_METHOD },
         "check_method": b.check_note,
         "modes": ms,
-    })
+    });
+    if let (Some(series), Value::Object(m)) = (&b.series, &mut doc) {
+        m.insert(
+            "series".into(),
+            json!({"description": series.description, "convergence_radius": finite_or_null(series.radius), "recurrence_terms": series.terms}),
+        );
+    }
+    doc
+}
+
+/// The modes of the numeric series' continued fraction, each with its check
+/// by direct integration (`b.modes`, index by index).
+fn series_modes_json(series: &SeriesReport, b: &EndsReport) -> Vec<Value> {
+    series
+        .modes
+        .iter()
+        .enumerate()
+        .map(|(i, m)| {
+            let r = &m.root;
+            let value = if r.converged { Ok(r.omega) } else { Err(r.stop.text()) };
+            let check = match b.modes.get(i).map(|c| &c.root) {
+                Some(c) if r.converged && c.converged => json!({
+                    "method": "integrate",
+                    "omega": pair(c.omega),
+                    "agreement": (c.omega - r.omega).norm() / r.omega.norm(),
+                    "residual": finite_or_null(c.residual),
+                }),
+                Some(c) if r.converged => json!({"method": "integrate", "omega": Value::Null, "reason": c.reason}),
+                _ => Value::Null,
+            };
+            let rest = json!({
+                "evidence": {
+                    "inversion": r.inversion,
+                    "depth": r.depth,
+                    "change_on_doubling": finite_or_null(r.depth_change),
+                    "residual": finite_or_null(r.residual),
+                    "iterations": r.iterations,
+                    "seed": pair(m.seed.0),
+                    "seed_from": m.seed.1,
+                },
+                "check": check,
+            });
+            mode_json(m.n, value, m.method.tag(), rest)
+        })
+        .collect()
 }
 
 fn ends_csv(b: &EndsReport) -> String {
+    if let Some(series) = &b.series {
+        let mut o = String::from("n,re,im,converged,method,change_on_doubling,residual,reason\n");
+        for m in &series.modes {
+            let r = &m.root;
+            if r.converged {
+                o.push_str(&format!(
+                    "{},{:.17e},{:.17e},true,{},{:.3e},{:.3e},\n",
+                    m.n,
+                    r.omega.re,
+                    r.omega.im,
+                    m.method.tag(),
+                    r.depth_change,
+                    r.residual
+                ));
+            } else {
+                o.push_str(&format!("{},,,false,{},,,\"{}\"\n", m.n, m.method.tag(), r.stop.text().replace('"', "'")));
+            }
+        }
+        return o;
+    }
     let mut o = String::from("n,re,im,converged,method,change_on_refinement,residual,reason\n");
     for m in &b.modes {
         let r = &m.root;
@@ -690,6 +760,14 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
     for n in ends_notes(b) {
         o.push_str(&format!("  note: {n}\n"));
     }
+    if let Some(series) = &b.series {
+        o.push_str(&format!("  method: {SERIES_METHOD}\n"));
+        o.push_str(&format!("  series: {}\n", series.description));
+        o.push_str(&format!("  {}\n\n", b.check_note));
+        o.push_str(&format!("  n  {fname:<44} evidence\n"));
+        o.push_str(&series_rows(series, b));
+        return o;
+    }
     o.push_str(&format!("  method: {ENDS_METHOD}\n"));
     o.push_str(&format!("  {}\n\n", b.check_note));
     o.push_str(&format!("  n  {fname:<44} evidence\n"));
@@ -711,6 +789,38 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
             }
         } else {
             o.push_str(&format!("  {:<2} NOT CONVERGED: {} (seed from {})\n", m.n, r.reason, m.seed.from));
+        }
+    }
+    o
+}
+
+/// The rows of the numeric series' modes, each with its check by direct integration.
+fn series_rows(series: &SeriesReport, b: &EndsReport) -> String {
+    let mut o = String::new();
+    for (i, m) in series.modes.iter().enumerate() {
+        let r = &m.root;
+        if !r.converged {
+            let seed = if m.seed.0.is_nan() { String::new() } else { format!(" (seed {} from {})", fmt_complex(m.seed.0.re, m.seed.0.im), m.seed.1) };
+            o.push_str(&format!("  {:<2} NOT CONVERGED: {}{seed}\n", m.n, r.stop.text()));
+            continue;
+        }
+        o.push_str(&format!(
+            "  {:<2} {:<44} [{}] depth {}, change on doubling {:.1e}, residual {:.1e}\n",
+            m.n,
+            fmt_complex(r.omega.re, r.omega.im),
+            m.method.tag(),
+            r.depth,
+            r.depth_change,
+            r.residual
+        ));
+        match b.modes.get(i).map(|c| &c.root) {
+            Some(c) if c.converged => o.push_str(&format!(
+                "     check: direct integration {}, agreement {:.1e}\n",
+                fmt_complex(c.omega.re, c.omega.im),
+                (c.omega - r.omega).norm() / r.omega.norm()
+            )),
+            Some(c) => o.push_str(&format!("     check: direct integration did not converge: {}\n", c.reason)),
+            None => {}
         }
     }
     o

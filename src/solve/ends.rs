@@ -430,7 +430,7 @@ pub struct EndMode {
 }
 
 /// Overtone n with no root to report, and why (no number is attached).
-fn unfound(n: u32, reason: String) -> EndMode {
+pub(crate) fn unfound(n: u32, reason: String) -> EndMode {
     let root = IntRoot {
         omega: Complex64::new(f64::NAN, f64::NAN),
         converged: false,

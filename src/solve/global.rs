@@ -52,31 +52,31 @@ fn cx(x: f64) -> Complex64 {
 /// A polynomial in one variable s whose coefficients are polynomials in ω:
 /// `0[i][j]` multiplies sⁱ ωʲ.
 #[derive(Clone, Debug, Default)]
-struct Bi(Vec<Vec<Complex64>>);
+pub(crate) struct Bi(pub(crate) Vec<Vec<Complex64>>);
 
 impl Bi {
     /// A polynomial in s with coefficients free of ω (low degree first).
-    fn in_s(c: &[Complex64]) -> Bi {
+    pub(crate) fn in_s(c: &[Complex64]) -> Bi {
         Bi(c.iter().map(|x| vec![*x]).collect())
     }
     /// v₀ + v₁ω, constant in s.
-    fn affine(v: Affine) -> Bi {
+    pub(crate) fn affine(v: Affine) -> Bi {
         Bi(vec![vec![v.c0, v.c1]])
     }
-    fn get(&self, i: usize, j: usize) -> Complex64 {
+    pub(crate) fn get(&self, i: usize, j: usize) -> Complex64 {
         self.0.get(i).and_then(|r| r.get(j)).copied().unwrap_or(ZERO)
     }
-    fn deg_s(&self) -> usize {
+    pub(crate) fn deg_s(&self) -> usize {
         self.0.len().saturating_sub(1)
     }
-    fn deg_w(&self) -> usize {
+    pub(crate) fn deg_w(&self) -> usize {
         self.0.iter().map(|r| r.len()).max().unwrap_or(1).saturating_sub(1)
     }
-    fn add(&self, o: &Bi) -> Bi {
+    pub(crate) fn add(&self, o: &Bi) -> Bi {
         let (ns, nw) = (self.0.len().max(o.0.len()), self.deg_w().max(o.deg_w()) + 1);
         Bi((0..ns).map(|i| (0..nw).map(|j| self.get(i, j) + o.get(i, j)).collect()).collect())
     }
-    fn mul(&self, o: &Bi) -> Bi {
+    pub(crate) fn mul(&self, o: &Bi) -> Bi {
         if self.0.is_empty() || o.0.is_empty() {
             return Bi::default();
         }
@@ -93,44 +93,60 @@ impl Bi {
         }
         Bi(out)
     }
-    fn scale(&self, k: Complex64) -> Bi {
+    pub(crate) fn scale(&self, k: Complex64) -> Bi {
         Bi(self.0.iter().map(|r| r.iter().map(|x| x * k).collect()).collect())
     }
     /// d/ds.
-    fn deriv(&self) -> Bi {
+    pub(crate) fn deriv(&self) -> Bi {
         Bi(self.0.iter().enumerate().skip(1).map(|(i, r)| r.iter().map(|x| x * i as f64).collect()).collect())
     }
     /// sᵏ · self.
-    fn shift_up(&self, k: usize) -> Bi {
+    pub(crate) fn shift_up(&self, k: usize) -> Bi {
         let nw = self.deg_w() + 1;
         let mut v = vec![vec![ZERO; nw]; k];
         v.extend(self.0.iter().cloned());
         Bi(v)
     }
     /// self(g(s)) for g free of ω (Horner).
-    fn compose(&self, g: &Bi) -> Bi {
+    pub(crate) fn compose(&self, g: &Bi) -> Bi {
         let mut acc = Bi::default();
         for r in self.0.iter().rev() {
             acc = acc.mul(g).add(&Bi(vec![r.clone()]));
         }
         acc
     }
+    /// P(g/h) hⁿ with n = deg P, for g and h free of ω: Σ p_k g^k h^(n−k), and n.
+    pub(crate) fn lift(&self, g: &Bi, h: &Bi) -> (Bi, usize) {
+        let n = self.deg_s();
+        let mut acc = Bi::default();
+        let mut pow = Bi::in_s(&[cx(1.0)]);
+        for k in 0..=n {
+            let row = Bi(vec![self.0[k].clone()]);
+            let mut term = row.mul(&pow);
+            for _ in k..n {
+                term = term.mul(h);
+            }
+            acc = acc.add(&term);
+            pow = pow.mul(g);
+        }
+        (acc, n)
+    }
     /// The polynomial in s at one value of ω (a single ω column).
-    fn collapse(&self, w: Complex64) -> Bi {
+    pub(crate) fn collapse(&self, w: Complex64) -> Bi {
         Bi(self.0.iter().map(|r| vec![r.iter().rev().fold(ZERO, |acc, x| acc * w + x)]).collect())
     }
     /// The largest coefficient's modulus.
-    fn size(&self) -> f64 {
+    pub(crate) fn size(&self) -> f64 {
         self.0.iter().flatten().map(|x| x.norm()).fold(0.0, f64::max)
     }
     /// The coefficients of ωʲ at s.
-    fn at(&self, s: f64) -> Vec<Complex64> {
+    pub(crate) fn at(&self, s: f64) -> Vec<Complex64> {
         let nw = self.deg_w() + 1;
         (0..nw).map(|j| self.0.iter().rev().fold(ZERO, |acc, r| acc * s + r.get(j).copied().unwrap_or(ZERO))).collect()
     }
     /// The quotient by (s − s₀) and the largest remainder (one per ω power).
     #[allow(clippy::needless_range_loop)]
-    fn divide(&self, s0: f64) -> (Bi, f64) {
+    pub(crate) fn divide(&self, s0: f64) -> (Bi, f64) {
         let nw = self.deg_w() + 1;
         let n = self.0.len();
         if n == 0 {
@@ -183,7 +199,7 @@ fn fit(scale: f64, pick: &dyn Fn(Complex64) -> Option<Complex64>, both: &dyn Fn(
     let off = (a - pred).norm().min((b - pred).norm());
     if off.is_nan() || off > 1e-7 * (1.0 + pred.norm()) {
         return Err(usage(format!(
-            "{what} is not affine in the spectral parameter (off by {off:.1e} at a test value): the global spectral method needs it affine"
+            "{what} is not affine in the spectral parameter (off by {off:.1e} at a test value): the global spectral method and the numeric series need it affine"
         )));
     }
     Ok(f)
@@ -354,34 +370,16 @@ type Chart = ([Bi; 3], fn(f64) -> f64, [f64; 2]);
 fn remainder(bp: &BoundaryProblem, f: &Factors, theta: f64, stretch: f64, at: Option<Complex64>) -> Result<Remainder> {
     let [left, right] = &bp.ends;
     let Location::At(a) = left.location else { return Err(usage("the left end must be finite")) };
-    let lin = |root: Complex64| Bi::in_s(&[-root, cx(1.0)]); // z − root
-    let (aa, bb, cc) = (Bi(bp.ode.a.c.clone()), Bi(bp.ode.b.c.clone()), Bi(bp.ode.c.c.clone()));
-    // S' = N₁/D₁ (logarithmic derivative of the factored behaviour).
-    let (d1, n1, anchor) = match right.location {
-        Location::At(b) => {
-            let d1 = lin(cx(a)).mul(&lin(cx(b)));
-            let n1 = Bi::affine(f.left).mul(&lin(cx(b))).add(&Bi::affine(f.right).mul(&lin(cx(a))));
-            (d1, n1, None)
-        }
+    // At an irregular infinity the ray runs at the angle θ (complex scaling).
+    let anchor = match right.location {
+        Location::At(_) => None,
         Location::Infinity => {
-            // At an irregular infinity the ray runs at the angle θ (complex scaling).
             let turn = if f.exp_rate.is_some() { Complex64::from_polar(1.0, theta) } else { cx(1.0) };
             let l = turn * anchor_length(bp, a) * stretch;
-            let c = a - l;
-            let d1 = lin(cx(a)).mul(&lin(c));
-            let rest = Affine { c0: f.right.c0 - f.left.c0, c1: f.right.c1 - f.left.c1 };
-            let mut n1 = Bi::affine(f.left).mul(&lin(c)).add(&Bi::affine(rest).mul(&lin(cx(a))));
-            if let Some(mu) = f.exp_rate {
-                n1 = n1.add(&Bi::affine(mu).mul(&d1));
-            }
-            (d1, n1, Some((c, l)))
+            Some((a - l, l))
         }
     };
-    let d1sq = d1.mul(&d1);
-    let p2 = aa.mul(&d1sq);
-    let p1 = aa.mul(&n1.mul(&d1)).scale(cx(2.0)).add(&bb.mul(&d1sq));
-    let inner = n1.deriv().mul(&d1).add(&n1.mul(&d1.deriv()).scale(cx(-1.0))).add(&n1.mul(&n1));
-    let p0 = aa.mul(&inner).add(&bb.mul(&n1.mul(&d1))).add(&cc.mul(&d1sq));
+    let [p2, p1, p0] = factored(bp, f, anchor.map_or(ZERO, |(c, _)| c))?;
     let (mut c, s_of_x, ends): Chart = match anchor {
         None => {
             let Location::At(b) = right.location else { return Err(Error::new(ErrorKind::Internal, "finite right end expected")) };
@@ -391,19 +389,8 @@ fn remainder(bp: &BoundaryProblem, f: &Factors, theta: f64, stretch: f64, at: Op
         }
         Some((c0, l)) => {
             // s = t = 1 − x, z = (c t + 2L)/t; P(z) tⁿ = Σ p_k (c t + 2L)^k t^(n−k).
-            let lift = |p: &Bi| -> (Bi, usize) {
-                let n = p.deg_s();
-                let ct = Bi::in_s(&[2.0 * l, c0]);
-                let mut acc = Bi::default();
-                let mut pow = Bi::in_s(&[cx(1.0)]);
-                for k in 0..=n {
-                    let row = Bi(vec![p.0[k].clone()]);
-                    acc = acc.add(&row.mul(&pow).shift_up(n - k));
-                    pow = pow.mul(&ct);
-                }
-                (acc, n)
-            };
-            let ((r2, n2), (r1, n1d), (r0, n0)) = (lift(&p2), lift(&p1), lift(&p0));
+            let (num, den) = (Bi::in_s(&[2.0 * l, c0]), Bi::in_s(&[ZERO, cx(1.0)]));
+            let ((r2, n2), (r1, n1d), (r0, n0)) = (p2.lift(&num, &den), p1.lift(&num, &den), p0.lift(&num, &den));
             let m = (n2 as isize - 3).max(n1d as isize - 2).max(n0 as isize).max(0) as usize;
             let c2 = r2.shift_up(m + 4 - n2).scale(1.0 / (4.0 * l * l));
             let c1 = r2.shift_up(m + 3 - n2).scale(-1.0 / (2.0 * l * l)).add(&r1.shift_up(m + 2 - n1d).scale(1.0 / (2.0 * l)));
@@ -414,8 +401,49 @@ fn remainder(bp: &BoundaryProblem, f: &Factors, theta: f64, stretch: f64, at: Op
     if let Some(w) = at {
         c = [c[0].collapse(w), c[1].collapse(w), c[2].collapse(w)];
     }
-    // Divide out the factors common to the three coefficients at each end.
-    for s0 in ends {
+    divide_common(&mut c, &ends)?;
+    Ok(Remainder { c, s_of_x })
+}
+
+/// The equation p₂ φ'' + p₁ φ' + p₀ φ = 0 in z (each p a polynomial in
+/// (z, ω)) for φ = ψ / S, S the behaviour `f` factored out at both ends:
+/// (z − a)^ρ_a (z − b)^ρ_b between finite ends, (z − a)^ρ_a (z − c)^(σ − ρ_a)
+/// (and e^(μz) at an irregular infinity) with the anchor c at an infinite
+/// right end.
+pub(crate) fn factored(bp: &BoundaryProblem, f: &Factors, c: Complex64) -> Result<[Bi; 3]> {
+    let [left, right] = &bp.ends;
+    let Location::At(a) = left.location else { return Err(usage("the left end must be finite")) };
+    let lin = |root: Complex64| Bi::in_s(&[-root, cx(1.0)]); // z − root
+    let (aa, bb, cc) = (Bi(bp.ode.a.c.clone()), Bi(bp.ode.b.c.clone()), Bi(bp.ode.c.c.clone()));
+    // S' = N₁/D₁ (logarithmic derivative of the factored behaviour).
+    let (d1, n1) = match right.location {
+        Location::At(b) => {
+            let d1 = lin(cx(a)).mul(&lin(cx(b)));
+            let n1 = Bi::affine(f.left).mul(&lin(cx(b))).add(&Bi::affine(f.right).mul(&lin(cx(a))));
+            (d1, n1)
+        }
+        Location::Infinity => {
+            let d1 = lin(cx(a)).mul(&lin(c));
+            let rest = Affine { c0: f.right.c0 - f.left.c0, c1: f.right.c1 - f.left.c1 };
+            let mut n1 = Bi::affine(f.left).mul(&lin(c)).add(&Bi::affine(rest).mul(&lin(cx(a))));
+            if let Some(mu) = f.exp_rate {
+                n1 = n1.add(&Bi::affine(mu).mul(&d1));
+            }
+            (d1, n1)
+        }
+    };
+    let d1sq = d1.mul(&d1);
+    let p2 = aa.mul(&d1sq);
+    let p1 = aa.mul(&n1.mul(&d1)).scale(cx(2.0)).add(&bb.mul(&d1sq));
+    let inner = n1.deriv().mul(&d1).add(&n1.mul(&d1.deriv()).scale(cx(-1.0))).add(&n1.mul(&n1));
+    let p0 = aa.mul(&inner).add(&bb.mul(&n1.mul(&d1))).add(&cc.mul(&d1sq));
+    Ok([p2, p1, p0])
+}
+
+/// Divides out of the three coefficients the factors (s − s₀) they share at
+/// each of `points`, so that the equation stays non-trivial there.
+pub(crate) fn divide_common(c: &mut [Bi; 3], points: &[f64]) -> Result<()> {
+    for &s0 in points {
         for _ in 0..64 {
             let size = c.iter().map(|p| p.size()).fold(0.0, f64::max);
             if size == 0.0 {
@@ -425,19 +453,11 @@ fn remainder(bp: &BoundaryProblem, f: &Factors, theta: f64, stretch: f64, at: Op
             if !vanish {
                 break;
             }
-            let mut worst = 0.0f64;
-            let next: Vec<Bi> = c
-                .iter()
-                .map(|p| {
-                    let (q, r) = p.divide(s0);
-                    worst = worst.max(r);
-                    q
-                })
-                .collect();
-            c = [next[0].clone(), next[1].clone(), next[2].clone()];
+            let next: Vec<Bi> = c.iter().map(|p| p.divide(s0).0).collect();
+            *c = [next[0].clone(), next[1].clone(), next[2].clone()];
         }
     }
-    Ok(Remainder { c, s_of_x })
+    Ok(())
 }
 
 /// Why a grid gave no eigenvalues.

@@ -315,6 +315,24 @@ pub struct EndsReport {
     pub checks: Vec<Option<SpectralCheck>>,
     /// What the second method was, or why none ran, in words.
     pub check_note: String,
+    /// When the numeric series' continued fraction found the modes: its
+    /// set-up and roots, index by index with `modes`, which are then their
+    /// checks by direct integration.
+    pub series: Option<SeriesReport>,
+}
+
+/// The continued fraction of the numeric series between the ends
+/// (`solve::mobius`) that found the modes of an [`EndsReport`].
+#[derive(Debug)]
+pub struct SeriesReport {
+    /// The series variable, the factored behaviour and the convergence radius, in words.
+    pub description: String,
+    /// The convergence radius (min |u| of the other singular points).
+    pub radius: f64,
+    /// The number of terms of the recurrence (reduced to three by Gaussian elimination).
+    pub terms: usize,
+    /// One continued-fraction mode per overtone asked for.
+    pub modes: Vec<Mode>,
 }
 
 /// The second method beside direct integration between the ends.
@@ -759,6 +777,9 @@ impl Body {
     pub fn converged(&self) -> Vec<(u32, Complex64, NumericMethod)> {
         match self {
             Body::Recurrence(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, m.method.into())).collect(),
+            Body::Ends(EndsReport { series: Some(s), .. }) => {
+                s.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, m.method.into())).collect()
+            }
             Body::Ends(b) => b.modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega, NumericMethod::Integrate)).collect(),
             Body::Bound(b) => b.states.iter().filter(|s| s.converged).map(|s| (s.n, s.value, NumericMethod::Collocation)).collect(),
             Body::Periodic(b) => b.solution.modes.iter().map(|m| (m.n, m.value, NumericMethod::Truncation)).collect(),
@@ -787,6 +808,13 @@ impl SpectrumReport {
                     let ok = b.checks.get(i).and_then(|c| c.as_ref()).is_some_and(|c| c.converged && near(c.omega, m.root.omega));
                     mode(m.n, m.root.omega, ok)
                 })
+                .collect(),
+            Body::Ends(b @ EndsReport { series: Some(s), .. }) => s
+                .modes
+                .iter()
+                .zip(&b.modes)
+                .filter(|(m, _)| m.root.converged)
+                .map(|(m, c)| mode(m.n, m.root.omega, c.root.converged && near(c.root.omega, m.root.omega)))
                 .collect(),
             Body::Ends(b) => b
                 .modes
@@ -894,16 +922,50 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
                 let (body, f) = recurrence_route(&red, req, &opts, None, problem.as_ref().ok())?;
                 return Ok(done(body, f, ends));
             }
-            Err(e) if e.kind == ErrorKind::Usage && problem.is_ok() && req.method == Method::Auto => {
+            Err(e) if e.kind == ErrorKind::Usage && problem.is_ok() && matches!(req.method, Method::Auto | Method::Cf | Method::Integrate) => {
                 let bp = problem?;
-                let note = format!("the continued fraction could not be set up ({}); direct integration between the ends instead", e.message);
-                let report = between_ends(bp, req, &opts, Some(note));
+                let report = match req.method {
+                    Method::Integrate => between_ends(bp, req, &opts, None),
+                    _ => {
+                        let why = format!("the exact recurrence could not be set up ({})", e.message);
+                        match series_between_ends(bp, req, &opts, &red.var, &why) {
+                            Ok(report) => report,
+                            Err(b) if req.method == Method::Cf => {
+                                return Err(method_error(format!("{why}, and the numeric series cannot be set up either: {}", b.1.message)))
+                            }
+                            Err(b) => {
+                                let (bp, s) = *b;
+                                let note = format!("{why}, nor the numeric series ({}); direct integration between the ends instead", s.message);
+                                between_ends(bp, req, &opts, Some(note))
+                            }
+                        }
+                    }
+                };
                 let f = ends_functions(req, &report);
                 return Ok(done(Body::Ends(report), f, None));
             }
             Err(e) => return Err(e),
             Ok((body, f)) => return Ok(done(body, f, ends)),
         }
+    }
+    if matches!(req.method, Method::Auto | Method::Cf)
+        && problem.as_ref().is_ok_and(|bp| kind == SpectrumKind::Quasinormal && req.ends.is_none() && horizon_to_regular_infinity(bp))
+    {
+        // The exact recurrence does not take a regular boundary at infinity
+        // (anti-de Sitter): the numeric series between the ends does.
+        let bp = problem?;
+        let why = "the exact recurrence is not derived for a regular boundary at infinity";
+        let report = match series_between_ends(bp, req, &opts, &red.var, why) {
+            Ok(report) => report,
+            Err(b) if req.method == Method::Cf => return Err(method_error(format!("the numeric series cannot be set up: {}", b.1.message))),
+            Err(b) => {
+                let (bp, s) = *b;
+                let note = format!("the numeric series cannot be set up ({}); direct integration between the ends instead", s.message);
+                between_ends(bp, req, &opts, Some(note))
+            }
+        };
+        let f = ends_functions(req, &report);
+        return Ok(done(Body::Ends(report), f, None));
     }
     if !matches!(req.method, Method::Auto | Method::Integrate) {
         return Err(method_error(format!(
@@ -932,6 +994,23 @@ fn ends_functions(req: &SpectrumRequest, r: &EndsReport) -> Option<ModeFunctions
         return Some(bound_ends_functions(r));
     }
     let Location::At(_) = bp.ends[0].location else { return None };
+    if let Some(s) = &r.series {
+        // The continued fraction's value first, direct integration's beside it.
+        let modes = s
+            .modes
+            .iter()
+            .zip(&r.modes)
+            .filter(|(m, _)| m.root.converged)
+            .map(|(m, c)| {
+                let second = c.root.converged.then(|| left_end_function(bp, NumericMethod::Integrate, c.root.omega, reach));
+                ModeFunction::new(m.n, left_end_function(bp, m.method.into(), m.root.omega, reach), second)
+            })
+            .collect();
+        return Some(ModeFunctions {
+            normalisation: "the normal form's ψ, with unit leading coefficient of its Frobenius series at the left end",
+            modes,
+        });
+    }
     let modes = r
         .modes
         .iter()
@@ -1051,6 +1130,14 @@ fn bound_ends_functions(r: &EndsReport) -> ModeFunctions {
 fn rated_ends(bp: &BoundaryProblem) -> bool {
     use super::boundary::Nature;
     bp.ends[0].nature == Nature::Horizon && bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::IrregularRank1
+}
+
+/// True for a horizon on the left and a regular boundary at infinity on the
+/// right (an anti-de Sitter black hole), the ends the numeric series takes
+/// where the exact recurrence route does not.
+fn horizon_to_regular_infinity(bp: &BoundaryProblem) -> bool {
+    use super::boundary::Nature;
+    bp.ends[0].nature == Nature::Horizon && bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::Regular
 }
 
 /// The boundary problem of a (substituted) reduction, and whether the exact
@@ -1188,7 +1275,69 @@ fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptio
         Problem::QuasiBound => None,
     };
     let (checks, check_note) = spectral_checks(&bp, &modes);
-    EndsReport { problem: bp, modes, note, numbering, spectrum, checks, check_note }
+    EndsReport { problem: bp, modes, note, numbering, spectrum, checks, check_note, series: None }
+}
+
+/// Modes by the continued fraction of the numeric series between the ends
+/// (`solve::mobius`), each checked by direct integration seeded 1e-4 away
+/// from its root; seeds from the guess or the global spectral method. `why`
+/// says why the exact recurrence did not serve. Gives the problem back with
+/// the reason when the series cannot be set up or has no seed.
+fn series_between_ends(
+    bp: BoundaryProblem,
+    req: &SpectrumRequest,
+    opts: &SpectrumOptions,
+    var: &str,
+    why: &str,
+) -> std::result::Result<EndsReport, Box<(BoundaryProblem, Error)>> {
+    let s = match super::mobius::series(&bp, var) {
+        Ok(s) => s,
+        Err(e) => return Err(Box::new((bp, e))),
+    };
+    let mut seeds = if opts.guess.is_none() { super::global::seeds(&bp, opts.overtones) } else { Vec::new() };
+    if seeds.is_empty() && opts.guess.is_none() {
+        // The lowest overtone alone; the ladder extrapolates from it.
+        seeds = super::global::seeds(&bp, (opts.overtones.0, opts.overtones.0));
+    }
+    let from_spectral = !seeds.is_empty();
+    let o = SpectrumOptions { seeds, ..opts.clone() };
+    let solve = |n: u32, seed: Complex64| super::cf::find_root(&s.recurrence, n as usize, seed, opts.tol, 64, 1 << 17);
+    let cf_modes = match super::spectrum::overtones(&o, &|_| None, &solve) {
+        Ok(m) => m,
+        Err(e) => return Err(Box::new((bp, e))),
+    };
+    let modes: Vec<EndMode> = cf_modes
+        .iter()
+        .map(|m| {
+            if !m.root.converged {
+                return super::ends::unfound(m.n, "not checked: the continued fraction did not converge".into());
+            }
+            let seed = super::spectrum::check_seed(m.root.omega);
+            let root = super::ends::find_root(&bp, seed, opts.tol);
+            EndMode { n: m.n, root, seed: super::ends::Seed { omega: seed, from: "the continued fraction's root, 1e-4 away".into() } }
+        })
+        .collect();
+    let given = if from_spectral { o.seeds.len() } else { usize::from(opts.guess.is_some()) };
+    let wanted = (opts.overtones.1 - opts.overtones.0 + 1) as usize;
+    let mut numbering: Vec<String> = Vec::new();
+    if from_spectral {
+        numbering.push(format!(
+            "no {opt_guess}: the seeds are the global spectral method's eigenvalues in the lower right quadrant, numbered by |Im ω|",
+            opt_guess = RequestInput::Guess.mention()
+        ));
+    }
+    if given < wanted {
+        numbering.push(format!(
+            "overtones from {} on were seeded from the overtones below them (extrapolated): a mode skipped between two seeds would shift the numbering of those above it",
+            opts.overtones.0 + given as u32
+        ));
+    }
+    let numbering = (!numbering.is_empty()).then(|| numbering.join("; "));
+    let note = Some(format!("{why}: the continued fraction of a numeric series between the ends instead"));
+    let checks = modes.iter().map(|_| None).collect();
+    let check_note = "second method: direct integration between the ends, from 1e-4 away from each continued-fraction root".to_string();
+    let series = SeriesReport { description: s.description.clone(), radius: s.radius, terms: s.recurrence.terms.len(), modes: cf_modes };
+    Ok(EndsReport { problem: bp, modes, note, numbering, spectrum: req.problem, checks, check_note, series: Some(series) })
 }
 
 /// Quasinormal modes with no guess seeded by the global spectral method
