@@ -582,7 +582,7 @@ pub fn names_root(about: &str) -> bool {
 ///
 /// When the formal solutions at an irregular infinity have no exact leading
 /// coefficient (a massive field: e^(±√(μ² − ω²) z)), their square root χ is
-/// adjoined first ([`rate::adjoin_rate`], keeping the spectral parameter
+/// adjoined first (`rate::adjoin_rate`, keeping the spectral parameter
 /// `freq` — by default the parameter named omega, ω or w — symbolic), the
 /// series carries e^(−χz) at infinity, and a choice line says what χ
 /// stands for; its branch is the user's to pick when evaluating.
