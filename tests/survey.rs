@@ -527,3 +527,45 @@ fn texts_inside(svg: &str) {
     }
     assert!(seen > 10, "only {seen} texts");
 }
+
+#[test]
+fn a_quasi_bound_survey_equals_each_point_s_own_levels() {
+    // A massive scalar's quasi-bound states on Schwarzschild (M = 1, l = 1)
+    // over the field mass: every point equals `spectrum --boundary
+    // quasi-bound` at that mass to 1e-10 relative; the levels are
+    // hydrogen-like, Re ω ≈ μ(1 − (Mμ)²/(2(l + n + 1)²)) (Detweiler, Phys.
+    // Rev. D 22 (1980) 2323, from memory), to a few (Mμ)⁴ at the smallest
+    // masses, and decay (Im ω < 0) ever faster as Mμ grows.
+    const MASSIVE: &str = "tests/boundary/massive_scalar_schwarzschild.ode";
+    let survey = rows(&ok(&[
+        "scan",
+        MASSIVE,
+        "--boundary",
+        "quasi-bound",
+        "--vary",
+        "mu=0.05:0.25:0.05",
+        "--at",
+        "M=1,l=1",
+        "--overtones",
+        "0..1",
+        "--no-check",
+    ]));
+    assert_eq!(survey.len(), 5 * 2);
+    for (_, v, n, re, im) in &survey {
+        let at = format!("M=1,l=1,mu={}", v[0]);
+        let doc: serde_json::Value =
+            serde_json::from_str(&ok(&["spectrum", MASSIVE, "--boundary", "quasi-bound", "--at", &at, "--overtones", "0..1", "--format", "json"]))
+                .unwrap();
+        let w = &doc["modes"][*n as usize]["omega"];
+        assert!(close((*re, *im), (w[0].as_f64().unwrap(), w[1].as_f64().unwrap())), "μ={} n={n}: ({re}, {im}) against {w}", v[0]);
+        let mu = v[0];
+        let hydrogen = mu * (1.0 - mu * mu / (2.0 * f64::from(2 + n).powi(2)));
+        assert!(*im < 0.0 && (re - hydrogen).abs() <= 5.0 * mu.powi(5), "μ={mu} n={n}: {re} against {hydrogen}");
+    }
+    let decay: Vec<f64> = survey.iter().filter(|r| r.2 == 0).map(|r| -r.4).collect();
+    assert!(decay.windows(2).all(|d| d[1] > d[0]), "{decay:?}");
+    // Only the two problems a survey follows are taken.
+    let o = canonode(&["scan", MASSIVE, "--boundary", "bound", "--vary", "mu=0.1:0.2:0.1", "--at", "M=1,l=1"], &[]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--boundary"), "{}", String::from_utf8_lossy(&o.stderr));
+}

@@ -253,7 +253,7 @@ pub fn scan(spec: &Spec, req: &Request, vary: &str, values: &Values, check: bool
     let make = || -> canonode::Result<canonode::numeric::PointSolver<'_>> {
         let red = canonode::reduce(&spec.input(), &opts)?;
         // The command line's own point solver, so that the digits are its.
-        let solve = canonode::numeric::survey_solver(red, &[vi]);
+        let solve = canonode::numeric::survey_solver(red, &[vi], false);
         Ok(Box::new(move |o: &SpectrumOptions, check: bool| {
             if cancel.load(Ordering::SeqCst) {
                 return Err(Error::new(ErrorKind::Usage, "interrupted"));

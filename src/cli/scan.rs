@@ -77,6 +77,10 @@ pub(crate) struct ScanArgs {
     /// Skip the direct-integration check at every point.
     #[arg(long = "no-check")]
     no_check: bool,
+    /// The boundary problem at every point: qnm (the default) or quasi-bound
+    /// (a massive field's states decaying at infinity).
+    #[arg(long = "boundary", value_enum, default_value = "qnm")]
+    boundary: crate::solve::request::Problem,
     /// Relative tolerance on ω.
     #[arg(long = "tol", default_value_t = 1e-10)]
     tol: f64,
@@ -145,6 +149,14 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     if a.resume && layout.is_none() {
         return Err(usage("--resume continues a streamed table: use --format csv or jsonl", "--format", 4));
     }
+    use crate::solve::request::Problem;
+    match (a.boundary, &coupled) {
+        (Problem::Quasinormal, _) | (Problem::QuasiBound, None) => {}
+        (Problem::QuasiBound, Some(_)) => return Err(usage("a coupled scan surveys quasinormal modes only: --boundary qnm", "--boundary", 0)),
+        (Problem::Bound | Problem::Periodic, _) => {
+            return Err(usage("scan surveys quasinormal modes or quasi-bound states: --boundary qnm or quasi-bound", "--boundary", 0))
+        }
+    }
     let base = SpectrumOptions { freq, values: point, overtones: (o0, o1), tol, guess, seeds: Vec::new() };
     // A coupled scan sets its angular problem up at the first point here, so
     // that a bad angular equation is reported against its own text before
@@ -176,7 +188,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     let make = || -> crate::error::Result<PointSolver<'_>> {
         let red = crate::ode::reduce(&src.input(), &opts)?;
         match &angular_text {
-            None => Ok(survey_solver(red, &fields)),
+            None => Ok(survey_solver(red, &fields, a.boundary == crate::solve::request::Problem::QuasiBound)),
             Some(text) => {
                 let ared = crate::ode::reduce(&crate::ode::Input::Program(text), &crate::ode::ReduceOptions::default())?;
                 let (names, links, at) = (names.clone(), links.clone(), angular_at.clone());
@@ -512,6 +524,11 @@ fn survey_id(a: &ScanArgs, src: &super::Source, walk: &Walk) -> String {
         a.couple.option_texts(),
         src.latex
     );
+    // The default problem keeps the identities of earlier tables.
+    let key = match a.boundary {
+        crate::solve::request::Problem::Quasinormal => key,
+        other => format!("{key}\u{0}{}", other.tag()),
+    };
     crate::emit::record::sha256_hex(key.as_bytes())[..16].to_string()
 }
 

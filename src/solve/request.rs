@@ -1522,15 +1522,8 @@ fn recurrence_route(
         }
         estimates.as_ref().and_then(|e| e(n)).and_then(|b| b.series.seed())
     };
-    let (mut modes, setup) = if quasi_bound && opts.guess.is_none() {
-        // Each level from its own hydrogen-like seed (the levels crowd below
-        // the continuum edge, where extrapolation from two levels overshoots).
-        let mut all = Vec::new();
-        for n in opts.overtones.0..=opts.overtones.1 {
-            let one = SpectrumOptions { overtones: (n, n), ..opts.clone() };
-            all.extend(super::spectrum::qnm_modes_from(&rec, setup0.clone(), &one, &estimate)?.0);
-        }
-        (all, setup0.clone())
+    let (mut modes, setup) = if quasi_bound {
+        super::spectrum::quasi_bound_levels(&rec, setup0.clone(), opts, &estimate)?
     } else if opts.overtones.0 > 0 && opts.guess.is_none() && opts.seeds.is_empty() {
         // The overtone number is a count from the fundamental: without a
         // guess the ladder climbs from overtone 0 (a first estimate of a high

@@ -546,16 +546,24 @@ fn continues(last: &[Complex64], second: Option<&[Complex64]>, next: Option<&[Co
 /// The modes of one equation at one grid point: parameters substituted
 /// exactly, the recurrence derived, seeds from WKB (wkb::SEED_ORDER) when no
 /// neighbour gave them, the integration check when asked.
-pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool) -> Result<SolvedPoint> {
+pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool, quasi_bound: bool) -> Result<SolvedPoint> {
     let r = super::spectrum::substitute_for_series(red, &opts.values, &[opts.freq])?;
     let (rec, setup) = qnm_recurrence(&r, opts)?;
-    modes_at(red, Some(&r), &rec, setup, opts, check)
+    modes_at(red, Some(&r), &rec, setup, opts, check, quasi_bound)
 }
 
 /// The modes at a point from its recurrence and set-up; `sub` is the
 /// equation with the point's values substituted, made from `red` only when
 /// a seed estimate or the check needs it.
-fn modes_at(red: &Reduction, sub: Option<&Reduction>, rec: &Recurrence, setup: Setup, opts: &SpectrumOptions, check: bool) -> Result<SolvedPoint> {
+fn modes_at(
+    red: &Reduction,
+    sub: Option<&Reduction>,
+    rec: &Recurrence,
+    setup: Setup,
+    opts: &SpectrumOptions,
+    check: bool,
+    quasi_bound: bool,
+) -> Result<SolvedPoint> {
     let made = std::cell::OnceCell::new();
     let r = || -> Result<&Reduction> {
         match sub {
@@ -563,6 +571,9 @@ fn modes_at(red: &Reduction, sub: Option<&Reduction>, rec: &Recurrence, setup: S
             None => made.get_or_init(|| substitute(red, &opts.values, opts.freq)).as_ref().map_err(Clone::clone),
         }
     };
+    if quasi_bound {
+        return quasi_bound_at(r()?, rec, setup.decaying()?, opts, check);
+    }
     // The WKB estimates are set up only when a seed is asked for: a point
     // continued from its neighbour has its seeds already.
     let est = std::cell::OnceCell::new();
@@ -613,6 +624,35 @@ fn modes_at(red: &Reduction, sub: Option<&Reduction>, rec: &Recurrence, setup: S
         .into())
 }
 
+/// The quasi-bound states at a point (`r` the equation at the point's
+/// values): each level from its own hydrogen-like estimate (or the guess at
+/// a first point), not from the neighbour's values; the check by direct
+/// integration between the ends of the quasi-bound boundary problem.
+fn quasi_bound_at(r: &Reduction, rec: &Recurrence, setup: Setup, opts: &SpectrumOptions, check: bool) -> Result<SolvedPoint> {
+    let bp = super::boundary::try_problem(&r.field, &r.normal.q, &r.q, &opts.values, opts.freq, super::boundary::SpectrumKind::QuasiBound, None)?;
+    let estimate = |n: u32| super::ends::hydrogenic_seed(&bp, n).map(|s| (s.omega, s.from));
+    // The levels' spacing shrinks like (Mμ)²μ/n³ while they move with μ
+    // itself: a neighbour's values are poorer seeds than each point's own
+    // hydrogen-like estimates, which are used at every point.
+    let own = SpectrumOptions { seeds: Vec::new(), guess: if opts.seeds.is_empty() { opts.guess } else { None }, ..opts.clone() };
+    let (modes, _) = super::spectrum::quasi_bound_levels(rec, setup, &own, &estimate)?;
+    Ok(modes
+        .into_iter()
+        .map(|m| {
+            let c = match (check, m.root.converged) {
+                (true, true) => {
+                    // Levels crowd below the continuum edge: the check starts much nearer the root.
+                    let c = super::ends::find_root(&bp, m.root.omega * Complex64::new(1.0 + 1e-7, 0.0), opts.tol);
+                    c.converged.then_some(c.omega)
+                }
+                _ => None,
+            };
+            (m, c)
+        })
+        .collect::<PointModes>()
+        .into())
+}
+
 /// The point solver of a survey of one equation (uncoupled): the
 /// recurrence is derived once with the varied parameters (`varied`, field
 /// indices) kept symbolic, and at each point only made numeric — the
@@ -623,14 +663,19 @@ fn modes_at(red: &Reduction, sub: Option<&Reduction>, rec: &Recurrence, setup: S
 /// pole, other exponent or horizon picks) is solved exactly as
 /// `single_point` does, and so is every point when the symbolic
 /// derivation fails.
-pub fn survey_solver<'a>(red: Reduction, varied: &[usize]) -> PointSolver<'a> {
+///
+/// With `quasi_bound` every point is a massive field's quasi-bound states
+/// (the rate at infinity decaying), each level of a first point seeded by
+/// its own hydrogen-like estimate, and the check runs between the ends of
+/// the quasi-bound boundary problem.
+pub fn survey_solver<'a>(red: Reduction, varied: &[usize], quasi_bound: bool) -> PointSolver<'a> {
     let sym = std::cell::OnceCell::new();
     let varied = varied.to_vec();
     Box::new(move |o: &SpectrumOptions, check: bool| {
         let s: &Option<Symbolic> = sym.get_or_init(|| Symbolic::new(&red, o, &varied));
         match s.as_ref().and_then(|s| s.at(o)) {
-            Some((rec, setup)) => modes_at(&red, None, rec, setup, o, check),
-            None => single_point(&red, o, check),
+            Some((rec, setup)) => modes_at(&red, None, rec, setup, o, check, quasi_bound),
+            None => single_point(&red, o, check, quasi_bound),
         }
     })
 }

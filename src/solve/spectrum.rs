@@ -410,6 +410,28 @@ pub fn qnm_modes_from(
     Ok((modes, setup))
 }
 
+/// Quasi-bound levels by the continued fraction on the decaying branch
+/// (`setup` made [`Setup::decaying`]): with seeds (continued from a
+/// neighbour) or a guess, the ladder as for any overtone; otherwise each
+/// level from its own estimate `first_estimate(n)` (the levels crowd below
+/// the continuum edge, where extrapolation from two levels overshoots).
+pub fn quasi_bound_levels(
+    rec: &crate::series::Recurrence,
+    setup: Setup,
+    opts: &SpectrumOptions,
+    first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
+) -> Result<(Vec<Mode>, Setup)> {
+    if opts.guess.is_some() || !opts.seeds.is_empty() {
+        return qnm_modes_from(rec, setup, opts, first_estimate);
+    }
+    let mut all = Vec::new();
+    for n in opts.overtones.0..=opts.overtones.1 {
+        let one = SpectrumOptions { overtones: (n, n), ..opts.clone() };
+        all.extend(qnm_modes_from(rec, setup.clone(), &one, first_estimate)?.0);
+    }
+    Ok((all, setup))
+}
+
 /// The overtone ladder of [`overtones`] on the continued fraction of a
 /// recurrence derived by [`qnm_recurrence`] (three terms or more), stopping
 /// early where `beyond` says an extrapolated seed has left the part of the
