@@ -1063,8 +1063,11 @@ fn commands_soak() {
     let cases = std::env::var("CANONODE_FUZZ_CASES").ok().and_then(|s| s.parse().ok()).unwrap_or(1_000_000usize);
     // Every batch runs, failing or not, so that one long run shows every
     // failure; the test fails at the end if any batch did.
+    // CANONODE_FUZZ_FIRST_SEED starts at a later batch (batches of 10⁴, seed
+    // k covering the command lines 10⁴(k − 1) … of one long run), so that
+    // two processes can run halves of one soak side by side.
     let mut done = 0;
-    let mut seed = 1u64;
+    let mut seed = std::env::var("CANONODE_FUZZ_FIRST_SEED").ok().and_then(|s| s.parse().ok()).unwrap_or(1u64);
     let mut failed = Vec::new();
     while done < cases {
         let batch = (cases - done).min(10_000);
