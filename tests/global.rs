@@ -143,14 +143,23 @@ fn a_stable_black_hole_has_no_mode_in_the_upper_half_plane() {
 #[test]
 fn schwarzschild_anti_de_sitter_with_no_guess() {
     // Horowitz & Hubeny, Phys. Rev. D 62 (2000) 024027, massless scalar,
-    // l = 0, L = 1, r₊ = 1 (M = 1): 2.7982 − 2.6712i (from memory). No
-    // recurrence here: polished by direct integration.
-    let v = region("tests/boundary/schwarzschild_ads_scalar.ode", "M=1,L=1,l=0", "0..10,-4..0");
-    let m = &v["modes"][0];
-    let (re, im) = c(&m["omega"]);
-    assert!((re - 2.7982).abs() < 6e-5 && (im + 2.6712).abs() < 6e-5, "{re} {im}");
-    assert_eq!(m["polished_by"], "integrate");
-    assert!(m["polish_distance"].as_f64().unwrap() < 1e-3);
+    // l = 0, L = 1, r₊ = 1 (M = 1): 2.7982 − 2.6712i, then 4.7585 − 5.0376i,
+    // 6.7193 − 7.3945i (from memory; the spacing of these modes is nearly
+    // constant). No exact recurrence here: the overtone ladder runs on the
+    // continued fraction of the numeric series between the ends, checked by
+    // direct integration, deeper than the spectral method alone reaches.
+    let v = region("tests/boundary/schwarzschild_ads_scalar.ode", "M=1,L=1,l=0", "0..10,-8..0");
+    let ms = v["modes"].as_array().unwrap();
+    assert_eq!(ms.len(), 3, "{ms:#?}");
+    for (m, (wre, wim)) in ms.iter().zip([(2.7982, -2.6712), (4.7585, -5.0376), (6.7193, -7.3945)]) {
+        let (re, im) = c(&m["omega"]);
+        assert!((re - wre).abs() < 6e-5 && (im - wim).abs() < 6e-5, "{re} {im}");
+        assert_eq!(m["polished_by"], "cf");
+        assert_eq!(m["check"]["method"], "integrate");
+        assert!(m["check"]["difference"].as_f64().unwrap() < 1e-8, "{m}");
+    }
+    let notes: Vec<&str> = v["notes"].as_array().unwrap().iter().map(|n| n.as_str().unwrap()).collect();
+    assert!(notes.iter().any(|n| n.contains("numeric series between the ends")), "{notes:#?}");
 }
 
 #[test]

@@ -21,7 +21,7 @@ use super::plot::PlaneMode;
 use super::request::{region_setup, SpectrumRequest, CONFIRMED};
 use super::spectrum::{LadderEnd, Mode, ModeMethod, SpectrumOptions};
 use crate::error::RequestInput;
-use crate::error::Result;
+use crate::error::{Error, ErrorKind, Result};
 use crate::ode::Reduction;
 use num_complex::Complex64;
 
@@ -213,32 +213,13 @@ fn ladder_run(
     grid: usize,
     wkb_order: usize,
 ) -> Result<LadderRun> {
-    let grid_for = |n: usize| global::lower_right(bp, n, global::SEED_PERSIST);
-    let (mut seeds, mut spectral) = grid_for(global::SEED_GRIDS[0])?;
-    if seeds.len() < 2 && grid != global::SEED_GRIDS[0] {
-        (seeds, spectral) = grid_for(grid)?;
-    }
+    let (seeds, spectral) = ladder_seeds(bp, grid)?;
     let (rec, setup) = super::spectrum::qnm_recurrence(red, opts)?;
     let opts = SpectrumOptions { overtones: (0, LADDER_LIMIT - 1), seeds: seeds.iter().map(|v| v.omega).collect(), guess: None, ..opts.clone() };
     // Barrier estimates start the ladder only where the spectral method gave fewer than two seeds.
     let estimates = if seeds.len() < 2 { super::spectrum::barrier_estimates(red, &opts, setup.horizon_value, wkb_order).ok() } else { None };
     let estimate = |n: u32| estimates.as_ref().and_then(|e| e(n)).and_then(|b| b.series.seed());
-    let bottom = region.im.0;
-    // Past the bottom by half a spacing, once the last overtone sought was
-    // settled (or one below the window was): a search for a later overtone
-    // can still land on a missed one in the window, which the ladder files
-    // under its own number; past by three spacings in any case.
-    let beyond = |modes: &[Mode], seed: Complex64| {
-        let mut conv = modes.iter().rev().filter(|m| m.root.converged);
-        let (a, b) = (conv.next(), conv.next());
-        let spacing = match (a, b) {
-            (Some(a), Some(b)) => (a.root.omega.im - b.root.omega.im).abs() / f64::from(a.n - b.n),
-            _ => 0.0,
-        };
-        let settled = modes.last().is_some_and(|m| m.root.converged) || a.is_some_and(|m| m.root.omega.im < bottom);
-        let past = bottom - seed.im;
-        past > 0.5 * spacing && (settled || past > 3.0 * spacing)
-    };
+    let beyond = |modes: &[Mode], seed: Complex64| past_the_window(region, modes, seed);
     let (mut modes, end) = super::spectrum::cf_ladder(&rec, &setup, &opts, &estimate, &beyond)?;
     let integ = super::spectrum::integration_check(red, &opts, &setup).ok();
     // The notes on special and degenerate points, for the overtones sought or found in the window.
@@ -270,6 +251,65 @@ fn ladder_run(
         Err(_) => Vec::new(),
     };
     Ok(LadderRun { modes, checks, end, spectral, seeds, notes, degenerate })
+}
+
+/// The ladder's seeds: the global method's eigenvalues in the lower right
+/// quadrant, on the coarsest grid of [`global::SEED_GRIDS`] first and on
+/// `grid` when fewer than two persist there.
+fn ladder_seeds(bp: &super::boundary::BoundaryProblem, grid: usize) -> Result<(Vec<SpectralValue>, global::Spectral)> {
+    let grid_for = |n: usize| global::lower_right(bp, n, global::SEED_PERSIST);
+    let (seeds, spectral) = grid_for(global::SEED_GRIDS[0])?;
+    if seeds.len() < 2 && grid != global::SEED_GRIDS[0] {
+        return grid_for(grid);
+    }
+    Ok((seeds, spectral))
+}
+
+/// True when a ladder's next seed lies past the window's bottom by half an
+/// overtone spacing, once the last overtone sought was settled (or one
+/// below the window was): a search for a later overtone can still land on
+/// a missed one in the window, which the ladder files under its own
+/// number; past by three spacings in any case.
+fn past_the_window(region: Region, modes: &[Mode], seed: Complex64) -> bool {
+    let bottom = region.im.0;
+    let mut conv = modes.iter().rev().filter(|m| m.root.converged);
+    let (a, b) = (conv.next(), conv.next());
+    let spacing = match (a, b) {
+        (Some(a), Some(b)) => (a.root.omega.im - b.root.omega.im).abs() / f64::from(a.n - b.n),
+        _ => 0.0,
+    };
+    let settled = modes.last().is_some_and(|m| m.root.converged) || a.is_some_and(|m| m.root.omega.im < bottom);
+    let past = bottom - seed.im;
+    past > 0.5 * spacing && (settled || past > 3.0 * spacing)
+}
+
+/// The ladder on the continued fraction of the numeric series between the
+/// ends (`solve::mobius`), for a problem with no exact recurrence (a horizon
+/// that is a root of a cubic, an anti-de Sitter boundary): the same seeds
+/// and stop as [`ladder_run`], each overtone checked by direct integration.
+fn series_ladder_run(bp: &super::boundary::BoundaryProblem, var: &str, opts: &SpectrumOptions, region: Region, grid: usize) -> Result<LadderRun> {
+    let series = super::mobius::series(bp, var)?;
+    let (seeds, spectral) = ladder_seeds(bp, grid)?;
+    if seeds.is_empty() {
+        return Err(Error::new(ErrorKind::Usage, "the global spectral method gave no seed for the numeric series"));
+    }
+    let opts = SpectrumOptions { overtones: (0, LADDER_LIMIT - 1), seeds: seeds.iter().map(|v| v.omega).collect(), guess: None, ..opts.clone() };
+    let solve = |n: u32, seed: Complex64| super::cf::find_root(&series.recurrence, n as usize, seed, opts.tol, 64, 1 << 17);
+    let beyond = |modes: &[Mode], seed: Complex64| past_the_window(region, modes, seed);
+    let (modes, end) = super::spectrum::ladder(&opts, &|_| None, &solve, &beyond)?;
+    let checks = modes
+        .iter()
+        // Admission asks for agreement to CONFIRMED: the check's own
+        // tolerance a tenth of that (integration loses digits on strongly
+        // damped modes, and a failing check is said as such).
+        .map(|m| {
+            m.root.converged.then(|| {
+                super::ends::find_root(bp, super::spectrum::check_seed(m.root.omega), (0.1 * CONFIRMED).max(super::spectrum::check_tol(opts.tol)))
+            })
+        })
+        .collect();
+    let notes = vec![format!("the continued fraction is that of a numeric series between the ends: {}", series.description)];
+    Ok(LadderRun { modes, checks, end, spectral, seeds, notes, degenerate: Vec::new() })
 }
 
 /// The family of a polished value (`zero_re`: Re ω is zero to the polish's accuracy).
@@ -372,6 +412,14 @@ pub fn region_modes(red: &Reduction, req: &SpectrumRequest, region: Region, grid
             Ok(run) => Some(run),
             Err(e) => {
                 notes.push(format!("the overtone ladder could not run ({}): every mode comes from the global spectral method", e.message));
+                None
+            }
+        },
+        // No exact recurrence: the numeric series between the ends, where it can be set up.
+        (false, Some(_)) if req.problem == super::request::Problem::Quasinormal => match series_ladder_run(bp, &red.var, opts, region, grid) {
+            Ok(run) => Some(run),
+            Err(e) => {
+                notes.push(format!("no continued fraction on this problem ({}): every mode comes from the global spectral method", e.message));
                 None
             }
         },

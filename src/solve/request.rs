@@ -1299,13 +1299,23 @@ fn series_between_ends(
         // The lowest overtone alone; the ladder extrapolates from it.
         seeds = super::global::seeds(&bp, (opts.overtones.0, opts.overtones.0));
     }
+    // Without a guess the overtones are counted from the fundamental: the
+    // ladder climbs from 0 and the range asked for is kept.
+    let climb = opts.guess.is_none() && opts.overtones.0 > 0;
+    if climb {
+        seeds = super::global::seeds(&bp, (0, opts.overtones.1));
+        if seeds.is_empty() {
+            seeds = super::global::seeds(&bp, (0, 0));
+        }
+    }
     let from_spectral = !seeds.is_empty();
-    let o = SpectrumOptions { seeds, ..opts.clone() };
+    let o = SpectrumOptions { seeds, overtones: if climb { (0, opts.overtones.1) } else { opts.overtones }, ..opts.clone() };
     let solve = |n: u32, seed: Complex64| super::cf::find_root(&s.recurrence, n as usize, seed, opts.tol, 64, 1 << 17);
     let cf_modes = match super::spectrum::overtones(&o, &|_| None, &solve) {
-        Ok(m) => m,
+        Ok(m) => m.into_iter().filter(|m| m.n >= opts.overtones.0).collect::<Vec<_>>(),
         Err(e) => return Err(Box::new((bp, e))),
     };
+    let o = SpectrumOptions { seeds: o.seeds.iter().skip(if climb { opts.overtones.0 as usize } else { 0 }).copied().collect(), ..o };
     let modes: Vec<EndMode> = cf_modes
         .iter()
         .map(|m| {
