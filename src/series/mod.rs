@@ -118,9 +118,39 @@ fn den_in_var(r: &RatFunc) -> Poly {
     d
 }
 
-/// Derives the recurrence about the point printed as `about`.
+/// Derives the recurrence about the point printed as `about`, with the
+/// series variable the user wrote (`u=EXPR`) or the default one.
 pub fn recurrence(red: &Reduction, about: &str, series: Option<&str>, choices: &Choices, normal: bool) -> Result<Recurrence> {
-    recurrence_mod(red, about, series, choices, normal, None, &[])
+    let map = series.map_or(SeriesMap::Default, |t| SeriesMap::Given(t.to_string()));
+    recurrence_mod(red, About::Printed(about), &map, choices, normal, None, &[])
+}
+
+/// Derives the recurrence about the finite singular point at `at` (exact),
+/// with the series variable `map`: the typed entry for callers that chose
+/// the point and the variable themselves (no text round trip).
+pub fn recurrence_at(red: &Reduction, at: &RatFunc, map: &SeriesMap, choices: &Choices, normal: bool) -> Result<Recurrence> {
+    recurrence_mod(red, About::At(at), map, choices, normal, None, &[])
+}
+
+/// How the series variable u is chosen.
+#[derive(Clone, Debug, PartialEq)]
+pub enum SeriesMap {
+    /// u = (z − z_h)/(z − z₂) when there is exactly one other finite
+    /// singular point z₂, else u = z − z_h.
+    Default,
+    /// u = z − z_h.
+    Shift,
+    /// u = (z − z_h)/(z − pole), the pole exact.
+    Pole(RatFunc),
+    /// A Möbius map as the user wrote it, `u=EXPR` (read by the expression parser).
+    Given(String),
+}
+
+/// The expansion point: as printed (a user's text), or exact.
+#[derive(Clone, Copy, Debug)]
+enum About<'a> {
+    Printed(&'a str),
+    At(&'a RatFunc),
 }
 
 /// An exponent of the unknown known from the original equation at a point
@@ -209,8 +239,8 @@ fn pick(choices: &Choices, label: &str, values: &[Option<RatFunc>]) -> Option<us
 /// recurrence normalised.
 fn recurrence_mod(
     red: &Reduction,
-    about: &str,
-    series: Option<&str>,
+    about: About<'_>,
+    series: &SeriesMap,
     choices: &Choices,
     normal: bool,
     modf: Option<RootRelation>,
@@ -267,13 +297,22 @@ fn recurrence_mod(
     Ok(Recurrence { field: kn, coeffs, prefactor, series: sv.text, choices: said, function })
 }
 
-/// The singular point printed as `about`, which must be regular.
-fn expansion_point<'a>(k: &Field, finite: &[(RatFunc, &'a SingularPoint)], about: &str) -> Result<(RatFunc, &'a SingularPoint)> {
-    let Some((zh, hp)) = finite.iter().find(|(at, _)| norm(&rt(k, at)) == norm(about)).cloned() else {
+/// The singular point `about`, which must be regular.
+fn expansion_point<'a>(k: &Field, finite: &[(RatFunc, &'a SingularPoint)], about: About<'_>) -> Result<(RatFunc, &'a SingularPoint)> {
+    let found = match about {
+        About::Printed(text) => finite.iter().find(|(at, _)| norm(&rt(k, at)) == norm(text)),
+        About::At(z) => finite.iter().find(|(at, _)| at == z),
+    };
+    let Some((zh, hp)) = found.cloned() else {
         let list: Vec<String> = finite.iter().map(|(at, _)| rt(k, at)).collect();
+        let about = match about {
+            About::Printed(text) => text.to_string(),
+            About::At(z) => rt(k, z),
+        };
         return Err(usage(format!("'{about}' is not a singular point with an exact location; the points are: {}", list.join(", ")))
             .in_option(RequestInput::About));
     };
+    let about = rt(k, &zh);
     if hp.kind != Kind::Regular {
         return Err(usage(format!("the point {about} is not a regular singular point: a Frobenius-type series does not start there"))
             .in_option(RequestInput::About));
@@ -281,22 +320,23 @@ fn expansion_point<'a>(k: &Field, finite: &[(RatFunc, &'a SingularPoint)], about
     Ok((zh, hp))
 }
 
-/// The series variable: the one given as text, else u = (z − z_h)/(z − z₂)
+/// The series variable ([`SeriesMap`]): the one given, else u = (z − z_h)/(z − z₂)
 /// when there is exactly one other finite singular point z₂, else u = z − z_h.
-fn series_variable(red: &Reduction, series: Option<&str>, zh: &RatFunc, others: &[&(RatFunc, &SingularPoint)]) -> Result<SeriesVariable> {
+fn series_variable(red: &Reduction, series: &SeriesMap, zh: &RatFunc, others: &[&(RatFunc, &SingularPoint)]) -> Result<SeriesVariable> {
     let k = &red.field;
     let mut unames = k.names().to_vec();
     let u = crate::ode::fresh_name("u", &unames);
     unames[0] = u.clone();
     let ku = Field::new(unames, k.limits().clone())?;
     let (pole, inverse, text) = match series {
-        Some(text) => {
+        SeriesMap::Given(text) => {
             let (z2, g) = parse_mobius(red, text, zh)?;
             (z2, g, text.to_string())
         }
-        None => {
-            let z2 = match others {
-                [(z2, _)] => Some(z2.clone()),
+        SeriesMap::Default | SeriesMap::Shift | SeriesMap::Pole(_) => {
+            let z2 = match (series, others) {
+                (SeriesMap::Pole(z2), _) => Some(z2.clone()),
+                (SeriesMap::Default, [(z2, _)]) => Some(z2.clone()),
                 _ => None,
             };
             let uu = ku.var(0);
@@ -305,9 +345,21 @@ fn series_variable(red: &Reduction, series: Option<&str>, zh: &RatFunc, others: 
                     // u = (z − z_h)/(z − z₂)  ⇔  z = (z_h − z₂ u)/(1 − u)
                     let g = ku.div(&ku.sub(zh, &ku.mul(z2, &uu)?)?, &ku.sub(&RatFunc::one(), &uu)?)?;
                     let sh = |at: &RatFunc| crate::algebra::print::shifted(&red.var, &rt(k, at), Style::Text);
-                    (Some(z2.clone()), g, format!("{u} = {}/{}", sh(zh), sh(z2)))
+                    // A chosen pole is written in the parenthesised form that
+                    // records and documents have always carried for it.
+                    let text = match series {
+                        SeriesMap::Pole(_) => format!("{u}=({v} - ({}))/({v} - ({}))", rt(k, zh), rt(k, z2), v = red.var),
+                        _ => format!("{u} = {}/{}", sh(zh), sh(z2)),
+                    };
+                    (Some(z2.clone()), g, text)
                 }
-                None => (None, ku.add(zh, &uu)?, format!("{u} = {}", crate::algebra::print::shifted(&red.var, &rt(k, zh), Style::Text))),
+                None => {
+                    let text = match series {
+                        SeriesMap::Shift => format!("{u}={} - ({})", red.var, rt(k, zh)),
+                        _ => format!("{u} = {}", crate::algebra::print::shifted(&red.var, &rt(k, zh), Style::Text)),
+                    };
+                    (None, ku.add(zh, &uu)?, text)
+                }
             }
         }
     };
@@ -770,13 +822,11 @@ pub fn recurrence_at_root(red: &Reduction, f: &Poly, rho: &UPoly, theta_name: &s
         }
     }
     // θ' is the Möbius pole; its power follows from the branch at infinity.
-    let other = rt(k2, &theta2);
-    let here = rt(k2, &theta);
-    let series = format!("u=({} - ({here}))/({} - ({other}))", red.var, red.var);
+    let theta2 = k2.sub(&k2.neg(&k2.div(&RatFunc::from_poly(fu[1].clone()), &c2)?), &theta_r)?;
     let phi = Poly::var(t);
     let relation = phi.pow(2).add(&fu[1].mul(&phi)).add(&fu[0].mul(&fu[2]));
     let modf = Some(RootRelation { var: t, poly: relation });
-    recurrence_mod(&red2, &label, Some(&series), &ch, false, modf, &extra)
+    recurrence_mod(&red2, About::At(&theta_r), &SeriesMap::Pole(theta2), &ch, false, modf, &extra)
 }
 
 /// What a three-term recurrence α_n a_{n+1} + β_n a_n + γ_n a_{n−1} = 0

@@ -154,8 +154,10 @@ pub enum HorizonChoice {
         text: String,
         /// Its value.
         value: f64,
-        /// The series variable, e.g. "u=(r - (2*M))/(r - (0))".
-        series: Option<String>,
+        /// The point, exact.
+        at: crate::algebra::RatFunc,
+        /// The series variable.
+        series: crate::series::SeriesMap,
     },
     /// The outer real root of the irreducible factor of singular point `index`.
     Root {
@@ -207,7 +209,7 @@ pub fn qnm_choice(red: &Reduction, an: &crate::analysis::Analysis, opts: &Spectr
     let ExponentPicks { picks, said } = boundary_choices(k, an, Some(&labels), Boundary::Qnm, &point)?;
     // The outermost labelled regular point with an exact location.
     let vals = crate::analysis::numeric::Values::new(point.clone());
-    let mut best: Option<(f64, String)> = None;
+    let mut best: Option<(f64, String, crate::algebra::RatFunc)> = None;
     let mut best_root: Option<(f64, usize)> = None;
     for (i, p) in an.points.iter().enumerate() {
         if p.kind != Kind::Regular || labels.per_point[i].iter().all(Option::is_none) {
@@ -216,8 +218,8 @@ pub fn qnm_choice(red: &Reduction, an: &crate::analysis::Analysis, opts: &Spectr
         match &p.place {
             Place::Point { at, .. } => {
                 if let Some(z) = vals.ratfunc(at) {
-                    if best.as_ref().is_none_or(|(b, _)| z.re > *b) {
-                        best = Some((z.re, ratfunc_text(at, k.names(), Style::Text)));
+                    if best.as_ref().is_none_or(|(b, _, _)| z.re > *b) {
+                        best = Some((z.re, ratfunc_text(at, k.names(), Style::Text), at.clone()));
                     }
                 }
             }
@@ -232,10 +234,10 @@ pub fn qnm_choice(red: &Reduction, an: &crate::analysis::Analysis, opts: &Spectr
             Place::Infinity => {}
         }
     }
-    if let Some((zr, i)) = best_root.filter(|(zr, _)| best.as_ref().is_none_or(|(b, _)| *zr > *b)) {
+    if let Some((zr, i)) = best_root.filter(|(zr, _)| best.as_ref().is_none_or(|(b, _, _)| *zr > *b)) {
         return Ok(QnmChoice { picks, said, horizon: HorizonChoice::Root { index: i, value: zr }, freq: opts.freq });
     }
-    let Some((horizon_value, horizon)) = best else {
+    let Some((horizon_value, horizon, horizon_at)) = best else {
         return Err(usage("no horizon-like regular point: the quasinormal-mode series needs one"));
     };
     let inf_irregular = an.points.iter().any(|p| matches!(p.place, Place::Infinity) && p.kind == Kind::Irregular);
@@ -250,7 +252,7 @@ pub fn qnm_choice(red: &Reduction, an: &crate::analysis::Analysis, opts: &Spectr
         .iter()
         .filter(|p| p.kind != Kind::Ordinary)
         .filter_map(|p| match &p.place {
-            Place::Point { at, .. } if ratfunc_text(at, k.names(), Style::Text) != horizon => vals.ratfunc(at).map(|z| (at.clone(), z)),
+            Place::Point { at, .. } if *at != horizon_at => vals.ratfunc(at).map(|z| (at.clone(), z)),
             _ => None,
         })
         .collect();
@@ -268,12 +270,12 @@ pub fn qnm_choice(red: &Reduction, an: &crate::analysis::Analysis, opts: &Spectr
     } else {
         None
     };
-    let series = match (&pole, inf_irregular) {
-        (Some(z2), _) => Some(format!("u=({} - ({horizon}))/({} - ({}))", red.var, red.var, ratfunc_text(z2, k.names(), Style::Text))),
-        (None, true) => None,
-        (None, false) => Some(format!("u={} - ({horizon})", red.var)),
+    let series = match (pole, inf_irregular) {
+        (Some(z2), _) => crate::series::SeriesMap::Pole(z2),
+        (None, true) => crate::series::SeriesMap::Default,
+        (None, false) => crate::series::SeriesMap::Shift,
     };
-    Ok(QnmChoice { picks, said, horizon: HorizonChoice::Point { text: horizon, value: horizon_value, series }, freq: opts.freq })
+    Ok(QnmChoice { picks, said, horizon: HorizonChoice::Point { text: horizon, value: horizon_value, at: horizon_at, series }, freq: opts.freq })
 }
 
 /// About an adjoined root: the exponent used there (0-based) and what the
@@ -323,8 +325,8 @@ pub fn qnm_derive(red: &Reduction, an: &crate::analysis::Analysis, choice: &QnmC
     };
     let choices = Choices { picks, values: Vec::new() };
     match (&choice.horizon, factor) {
-        (HorizonChoice::Point { text, series, .. }, _) => {
-            Ok((crate::series::recurrence(red, text, series.as_deref(), &choices, false)?, Adjoined { root: None, rate }))
+        (HorizonChoice::Point { at, series, .. }, _) => {
+            Ok((crate::series::recurrence_at(red, at, series, &choices, false)?, Adjoined { root: None, rate }))
         }
         (HorizonChoice::Root { .. }, f) => {
             if !choice.picks.iter().any(|(l, _)| l == "θ") {
