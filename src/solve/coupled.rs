@@ -178,12 +178,14 @@ pub fn try_angular(red: &Reduction, known: &[Option<GRat>], linked: &[usize], in
     }
     let crate::analysis::labels::ExponentPicks { picks, said } = boundary_choices(k, &an, None, Boundary::Bound, &values)?;
     let vals = crate::analysis::numeric::Values::new(values.clone());
-    let mut ends: Vec<(f64, String)> = an
+    let mut ends: Vec<(f64, String, crate::algebra::RatFunc)> = an
         .points
         .iter()
         .filter(|p| p.kind == Kind::Regular)
         .filter_map(|p| match &p.place {
-            Place::Point { at, .. } => vals.ratfunc(at).filter(|z| z.im.abs() < 1e-12).map(|z| (z.re, ratfunc_text(at, k.names(), Style::Text))),
+            Place::Point { at, .. } => {
+                vals.ratfunc(at).filter(|z| z.im.abs() < 1e-12).map(|z| (z.re, ratfunc_text(at, k.names(), Style::Text), at.clone()))
+            }
             _ => None,
         })
         .collect();
@@ -194,8 +196,8 @@ pub fn try_angular(red: &Reduction, known: &[Option<GRat>], linked: &[usize], in
             ends.len()
         )));
     }
-    let mut picks: Vec<(String, usize)> = picks.into_iter().filter(|(l, _)| ends.iter().any(|(_, t)| t == l)).collect();
-    let mut choices = said.into_iter().filter(|c| ends.iter().any(|(_, t)| c.starts_with(&format!("at {t}:")))).collect::<Vec<_>>();
+    let mut picks: Vec<(String, usize)> = picks.into_iter().filter(|(l, _)| ends.iter().any(|(_, t, _)| t == l)).collect();
+    let mut choices = said.into_iter().filter(|c| ends.iter().any(|(_, t, _)| c.starts_with(&format!("at {t}:")))).collect::<Vec<_>>();
     if an.points.iter().any(|p| matches!(p.place, Place::Infinity) && p.kind == Kind::Irregular) {
         // Either exponential branch gives a series convergent at the far end
         // when it is the minimal solution; the first is Leaver's e^(+cx).
@@ -203,8 +205,7 @@ pub fn try_angular(red: &Reduction, known: &[Option<GRat>], linked: &[usize], in
         choices.push("at ∞: the first exponential branch (the series decides the behaviour at the far end)".into());
     }
     let (lo, hi) = (ends[0].1.clone(), ends[1].1.clone());
-    let series = format!("u={} - ({lo})", red.var);
-    let rec = crate::series::recurrence(&red, &lo, Some(&series), &Choices { picks, values: Vec::new() }, false)?;
+    let rec = crate::series::recurrence_at(&red, &ends[0].2, &crate::series::SeriesMap::Shift, &Choices { picks, values: Vec::new() }, false)?;
     if rec.coeffs.len() < 3 {
         return Err(usage(format!("the angular recurrence about {lo} has {} terms: no continued fraction for its eigenvalue", rec.coeffs.len())));
     }
