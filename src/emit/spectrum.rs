@@ -359,6 +359,21 @@ fn recurrence_method(b: &RecurrenceReport) -> &'static str {
     }
 }
 
+/// The evidence of a continued-fraction root (its inversion, depth, change
+/// on doubling, residual, iterations and seed), as JSON.
+fn cf_evidence(m: &crate::solve::spectrum::Mode) -> Value {
+    let r = &m.root;
+    json!({
+        "inversion": r.inversion,
+        "depth": r.depth,
+        "change_on_doubling": finite_or_null(r.depth_change),
+        "residual": finite_or_null(r.residual),
+        "iterations": r.iterations,
+        "seed": pair(m.seed.0),
+        "seed_from": m.seed.1,
+    })
+}
+
 fn recurrence_json(fname: &str, problem: Problem, b: &RecurrenceReport) -> Value {
     let ms: Vec<Value> = b
         .modes
@@ -368,15 +383,7 @@ fn recurrence_json(fname: &str, problem: Problem, b: &RecurrenceReport) -> Value
             let r = &m.root;
             let value = if r.converged { Ok(r.omega) } else { Err(r.stop.text()) };
             let rest = json!({
-                "evidence": {
-                    "inversion": r.inversion,
-                    "depth": r.depth,
-                    "change_on_doubling": finite_or_null(r.depth_change),
-                    "residual": finite_or_null(r.residual),
-                    "iterations": r.iterations,
-                    "seed": pair(m.seed.0),
-                    "seed_from": m.seed.1,
-                },
+                "evidence": cf_evidence(m),
                 "check": match b.checks.get(i).and_then(|c| c.as_ref()) {
                     Some(c) if c.converged => json!({
                         "method": "integrate",
@@ -698,15 +705,7 @@ fn series_modes_json(series: &SeriesReport, b: &EndsReport) -> Vec<Value> {
                 _ => Value::Null,
             };
             let rest = json!({
-                "evidence": {
-                    "inversion": r.inversion,
-                    "depth": r.depth,
-                    "change_on_doubling": finite_or_null(r.depth_change),
-                    "residual": finite_or_null(r.residual),
-                    "iterations": r.iterations,
-                    "seed": pair(m.seed.0),
-                    "seed_from": m.seed.1,
-                },
+                "evidence": cf_evidence(m),
                 "check": check,
             });
             mode_json(m.n, value, m.method.tag(), rest)
