@@ -852,6 +852,29 @@ fn schwarzschild_de_sitter_domain_lies_between_the_two_horizons() {
 }
 
 #[test]
+fn the_numeric_series_table_carries_the_check_columns() {
+    // The CSV of the series between the ends has the recurrence table's
+    // check columns: direct integration's root and the relative agreement
+    // (Schwarzschild–de Sitter, Λ = 0.02, l = 1, M = 1).
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_canonode"))
+        .args(["spectrum", "samples/schwarzschild_de_sitter_scalar.ode", "--at", "M=1,Lambda=0.02,l=1", "--overtones", "0..1", "--format", "csv"])
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .unwrap();
+    let text = String::from_utf8_lossy(&out.stdout);
+    let mut lines = text.lines();
+    let head: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let col = |name: &str| head.iter().position(|h| *h == name).unwrap_or_else(|| panic!("no column {name}: {head:?}"));
+    let (agree, method) = (col("agreement"), col("method"));
+    let rows: Vec<Vec<&str>> = lines.map(|l| l.split(',').collect()).collect();
+    assert_eq!(rows.len(), 2, "{text}");
+    for r in rows {
+        assert_eq!(r[method], "cf");
+        assert!(r[agree].parse::<f64>().unwrap() < 1e-8, "{text}");
+    }
+}
+
+#[test]
 fn schwarzschild_de_sitter_by_the_numeric_series_agrees_with_direct_integration() {
     // Both horizons are roots of one cubic, so the exact recurrence cannot be
     // set up; the continued fraction of the numeric series in the Möbius

@@ -715,21 +715,29 @@ fn series_modes_json(series: &SeriesReport, b: &EndsReport) -> Vec<Value> {
 
 fn ends_csv(b: &EndsReport) -> String {
     if let Some(series) = &b.series {
-        let mut o = String::from("n,re,im,converged,method,change_on_doubling,residual,reason\n");
-        for m in &series.modes {
+        // The check columns as in the recurrence's table: direct integration's root and its relative agreement.
+        let mut o = String::from("n,re,im,converged,method,change_on_doubling,residual,check_re,check_im,agreement,reason\n");
+        let num = |x: f64| if x.is_finite() { format!("{x:.3e}") } else { String::new() };
+        for (i, m) in series.modes.iter().enumerate() {
             let r = &m.root;
             if r.converged {
+                let checked = match b.modes.get(i).map(|c| &c.root) {
+                    Some(c) if c.converged => {
+                        format!("{:.17e},{:.17e},{}", c.omega.re, c.omega.im, num((c.omega - r.omega).norm() / r.omega.norm()))
+                    }
+                    _ => ",,".to_string(),
+                };
                 o.push_str(&format!(
-                    "{},{:.17e},{:.17e},true,{},{:.3e},{:.3e},\n",
+                    "{},{:.17e},{:.17e},true,{},{},{},{checked},\n",
                     m.n,
                     r.omega.re,
                     r.omega.im,
                     m.method.tag(),
-                    r.depth_change,
-                    r.residual
+                    num(r.depth_change),
+                    num(r.residual)
                 ));
             } else {
-                o.push_str(&format!("{},,,false,{},,,\"{}\"\n", m.n, m.method.tag(), r.stop.text().replace('"', "'")));
+                o.push_str(&format!("{},,,false,{},,,,,,\"{}\"\n", m.n, m.method.tag(), r.stop.text().replace('"', "'")));
             }
         }
         return o;
