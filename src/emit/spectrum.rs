@@ -478,6 +478,20 @@ fn path_text(p: &crate::solve::continuation::Path) -> String {
         p.start_from, opt_guess = RequestInput::Guess.mention())
 }
 
+/// The CSV check columns `check_re,check_im,agreement` of a root `r`:
+/// direct integration's root and their relative agreement, empty unless
+/// both converged (a non-finite agreement left empty).
+fn check_columns(r: &crate::solve::cf::CfRoot, check: Option<&crate::solve::integrate::IntRoot>) -> String {
+    match check {
+        Some(c) if c.converged && r.converged => {
+            let agreement = (c.omega - r.omega).norm() / r.omega.norm();
+            let agreement = if agreement.is_finite() { format!("{agreement:.3e}") } else { String::new() };
+            format!("{:.17e},{:.17e},{agreement}", c.omega.re, c.omega.im)
+        }
+        _ => ",,".to_string(),
+    }
+}
+
 fn recurrence_csv(b: &RecurrenceReport) -> String {
     // The check columns as in `scan` (the direct integration's root and its
     // relative agreement), and for a coupled problem the angular eigenvalue
@@ -490,12 +504,7 @@ fn recurrence_csv(b: &RecurrenceReport) -> String {
         let r = &m.root;
         // Direct integration has no depth: its columns stay empty.
         let depth = if matches!(m.method, ModeMethod::Integrate | ModeMethod::SpecialPoint) { String::new() } else { r.depth.to_string() };
-        let checked = match b.checks.get(i).and_then(|c| c.as_ref()) {
-            Some(c) if c.converged && r.converged => {
-                format!("{:.17e},{:.17e},{}", c.omega.re, c.omega.im, num((c.omega - r.omega).norm() / r.omega.norm()))
-            }
-            _ => ",,".to_string(),
-        };
+        let checked = check_columns(r, b.checks.get(i).and_then(|c| c.as_ref()));
         let angular = match (with_angular, b.coupled.as_ref().and_then(|c| c.values.get(i)).and_then(|c| c.as_ref())) {
             (false, _) => String::new(),
             (true, Some(c)) if r.converged => format!("{:.17e},{:.17e},", c.root.omega.re, c.root.omega.im),
@@ -721,12 +730,7 @@ fn ends_csv(b: &EndsReport) -> String {
         for (i, m) in series.modes.iter().enumerate() {
             let r = &m.root;
             if r.converged {
-                let checked = match b.modes.get(i).map(|c| &c.root) {
-                    Some(c) if c.converged => {
-                        format!("{:.17e},{:.17e},{}", c.omega.re, c.omega.im, num((c.omega - r.omega).norm() / r.omega.norm()))
-                    }
-                    _ => ",,".to_string(),
-                };
+                let checked = check_columns(r, b.modes.get(i).map(|c| &c.root));
                 o.push_str(&format!(
                     "{},{:.17e},{:.17e},true,{},{},{},{checked},\n",
                     m.n,
