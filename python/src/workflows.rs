@@ -171,7 +171,7 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
     let (at_text, values) = read_values(&req.at, "at", spec)?;
     let ends = match &req.ends {
         Some(t) => Some(
-            canonode::numeric::parse_ends(t).map_err(|e| fail(&e.in_option(canonode::RequestInput::Ends), spec, &[("ends".into(), t.clone())]))?,
+            canonode::command::read_ends(t).map_err(|e| fail(&e.in_option(canonode::RequestInput::Ends), spec, &[("ends".into(), t.clone())]))?,
         ),
         None => None,
     };

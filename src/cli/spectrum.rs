@@ -265,7 +265,7 @@ fn request(
     Ok(SpectrumRequest {
         problem: a.boundary.unwrap_or_else(|| Problem::natural(red)),
         ends: match &a.ends {
-            Some(t) => Some(crate::solve::boundary::parse_ends(t).map_err(|e| e.in_named("--ends"))?),
+            Some(t) => Some(super::points::read_ends(t).map_err(|e| e.in_named("--ends"))?),
             None => None,
         },
         frequency: a.input.frequency_name(),

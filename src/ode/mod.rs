@@ -145,7 +145,7 @@ fn map_request(text: &str, parse_limits: &ParseLimits) -> Result<MapRequest> {
         return Err(usage());
     }
     let offset = eq + 1;
-    let expr = syntax::parse_expr(&text[offset..], parse_limits).map_err(|e| shift(e, offset).in_option(RequestInput::Map))?;
+    let expr = syntax::parse_expr(&text[offset..], parse_limits).map_err(|e| e.moved_by(offset).in_option(RequestInput::Map))?;
     let syntax::ExprKind::Call(syntax::Func::Exp, arg) = expr.kind else { return Err(usage()) };
     let mut exponent = *arg;
     shift_expr(&mut exponent, offset);
@@ -240,6 +240,17 @@ pub(crate) fn fresh_name(want: &str, taken: &[String]) -> String {
     name
 }
 
+/// Reads `text`, an expression in the reduced equation's variable and
+/// parameters (and its `let` names), as an exact rational function of the
+/// reduction's field: how a point or a map that a user writes beside an
+/// equation becomes exact. Spans of errors are byte ranges of `text`.
+pub fn read_expression(red: &Reduction, text: &str) -> Result<RatFunc> {
+    let expr = syntax::parse_expr(text, &ParseLimits::default())?;
+    let mut names = vec![red.var.clone()];
+    names.extend(red.ode.params.iter().cloned());
+    lower_rational(&red.field, &names, &red.ode.lets, &expr)
+}
+
 /// The whole `reduce` derivation: lower, optionally change variable, normal form, Schrödinger form.
 pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
     let (ode, map) = lower_mapped(input, &opts.limits, &opts.parse_limits, opts.map.as_deref())?;
@@ -269,7 +280,7 @@ pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
                 .note(format!("write {}=EXPR with EXPR rational in a new variable", ode.var)));
         }
         let offset = eq + 1;
-        let expr = syntax::parse_expr(rhs, &opts.parse_limits).map_err(|e| shift(e, offset).in_option(option))?;
+        let expr = syntax::parse_expr(rhs, &opts.parse_limits).map_err(|e| e.moved_by(offset).in_option(option))?;
         // The new variable: the one name in EXPR that is not a parameter.
         let mut found = Vec::new();
         collect_expr_names(&expr, &mut found);
@@ -292,7 +303,7 @@ pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
         let mut new_names = vec![new_var.clone()];
         new_names.extend(ode.params.iter().cloned());
         let new_field = Field::new(new_names.clone(), opts.limits.clone())?;
-        let g = lower_rational(&new_field, &new_names, &[], &expr).map_err(|e| shift(e, offset).in_option(option))?;
+        let g = lower_rational(&new_field, &new_names, &[], &expr).map_err(|e| e.moved_by(offset).in_option(option))?;
         if !g.uses_var(0) {
             return Err(Error::new(ErrorKind::Usage, "the substitution does not depend on the new variable")
                 .at(Span::new(offset, text.len()))
@@ -330,13 +341,6 @@ pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
         schrod = Some(Schrodinger { dxdz: h, w, v, frequency: freq_name, v_depends_on_frequency: dep });
     }
     Ok(Reduction { ode, field, var, p, q, normal, change, schrodinger: schrod, map })
-}
-
-fn shift(mut e: Error, offset: usize) -> Error {
-    if let Some(s) = e.span {
-        e.span = Some(Span::new(s.start + offset, s.end + offset));
-    }
-    e
 }
 
 fn collect_expr_names(e: &syntax::Expr, out: &mut Vec<String>) {

@@ -43,6 +43,10 @@ pub enum SpectrumKind {
     Bound,
 }
 
+/// Two ends a user gave (left, right), each with the condition there when
+/// one was given.
+pub type GivenEnds = [(Location, Option<Condition>); 2];
+
 /// Where an end lies.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub enum Location {
@@ -251,7 +255,7 @@ pub fn try_problem(
     values: &[GRat],
     freq: usize,
     kind: SpectrumKind,
-    given: Option<[(Location, Option<Condition>); 2]>,
+    given: Option<GivenEnds>,
 ) -> Result<BoundaryProblem> {
     let ode = super::try_num_ode(field, &RatFunc::zero(), q, values, freq)?;
     // The unknown's own coefficient of y: its ω-free part against its ω²
@@ -367,7 +371,7 @@ fn describe(p: &RealPoint) -> String {
 }
 
 /// The ends as given, each matched to a singular point.
-fn given_ends(given: &[(Location, Option<Condition>); 2], real_points: &[RealPoint], infinity: &Infinity) -> Result<[FoundEnd; 2]> {
+fn given_ends(given: &GivenEnds, real_points: &[RealPoint], infinity: &Infinity) -> Result<[FoundEnd; 2]> {
     let find_point = |z: f64| real_points.iter().find(|p| (p.z - z).abs() <= 1e-9 * z.abs().max(1.0));
     let mut out = Vec::new();
     for (loc, _) in given.iter() {
@@ -444,7 +448,7 @@ fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &
 
 /// Each end with its condition: the one given (when it fits the end), else
 /// the problem's natural one.
-fn end_conditions(ends: [FoundEnd; 2], given: Option<&[(Location, Option<Condition>); 2]>, kind: SpectrumKind) -> Result<[End; 2]> {
+fn end_conditions(ends: [FoundEnd; 2], given: Option<&GivenEnds>, kind: SpectrumKind) -> Result<[End; 2]> {
     let mut out: Vec<End> = Vec::new();
     for (i, FoundEnd { location, nature, found }) in ends.into_iter().enumerate() {
         let wanted = given.and_then(|g| g[i].1);
@@ -506,43 +510,6 @@ fn fmt(x: f64) -> String {
     } else {
         s
     }
-}
-
-/// Reads the two ends of a boundary problem written `LEFT[:COND]..RIGHT[:COND]`,
-/// each end a real number (a singular point, matched numerically) or `inf`,
-/// each condition a [`Condition::name`]; errors span the whole text (the
-/// caller says which option or argument it was).
-pub fn parse_ends(text: &str) -> Result<[(Location, Option<Condition>); 2]> {
-    let bad = |msg: String| Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, text.len()));
-    let Some((l, r)) = text.split_once("..") else {
-        return Err(bad("expected LEFT..RIGHT, e.g. '2..inf:outgoing'".into()));
-    };
-    let one = |part: &str| -> Result<(Location, Option<Condition>)> {
-        let (place, cond) = match part.split_once(':') {
-            Some((p, c)) => (p.trim(), Some(c.trim())),
-            None => (part.trim(), None),
-        };
-        let location = match place {
-            "inf" | "infinity" | "∞" => Location::Infinity,
-            _ => {
-                let v = crate::algebra::parse_complex(place).ok_or_else(|| bad(format!("'{place}' is not a number or 'inf'")))?;
-                let (re, im) = v.to_f64();
-                if im != 0.0 || !re.is_finite() {
-                    return Err(bad(format!("'{place}' is not a finite real number")));
-                }
-                Location::At(re)
-            }
-        };
-        let condition = match cond {
-            Some(c) => Some(
-                Condition::from_name(c)
-                    .ok_or_else(|| bad(format!("'{c}' is not a condition (into, out-of, outgoing, decaying, normalisable, slower)")))?,
-            ),
-            None => None,
-        };
-        Ok((location, condition))
-    };
-    Ok([one(l)?, one(r)?])
 }
 
 /// The right end's location in words.

@@ -22,7 +22,7 @@ use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::{Field, GRat, RatFunc};
 use crate::analysis::canonical::Choices;
 use crate::analysis::labels::{boundary_choices, Boundary};
-use crate::analysis::{analyse, Kind, Place};
+use crate::analysis::{analyse, Kind, Place, PointId};
 use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::Reduction;
@@ -129,12 +129,7 @@ pub fn try_link(text: &str, joint: &Field, radial: &Field, angular: &Field) -> R
     };
     let body = &text[eq + 1..];
     let limits = crate::syntax::ParseLimits::default();
-    let shift = |mut e: Error| {
-        if let Some(s) = e.span {
-            e.span = Some(crate::syntax::Span::new(s.start + eq + 1, s.end + eq + 1));
-        }
-        e
-    };
+    let shift = |e: Error| e.moved_by(eq + 1);
     let expr = crate::syntax::parse_expr(body, &limits).map_err(shift)?;
     let expr = crate::ode::lower_rational(joint, joint.names(), &[], &expr).map_err(shift)?;
     if expr.uses_var(0) {
@@ -196,12 +191,12 @@ pub fn try_angular(red: &Reduction, known: &[Option<GRat>], linked: &[usize], in
             ends.len()
         )));
     }
-    let mut picks: Vec<(String, usize)> = picks.into_iter().filter(|(l, _)| ends.iter().any(|(_, t, _)| t == l)).collect();
+    let mut picks: Vec<(PointId, usize)> = picks.into_iter().filter(|(id, _)| ends.iter().any(|(_, _, at)| *id == PointId::At(at.clone()))).collect();
     let mut choices = said.into_iter().filter(|c| ends.iter().any(|(_, t, _)| c.starts_with(&format!("at {t}:")))).collect::<Vec<_>>();
     if an.points.iter().any(|p| matches!(p.place, Place::Infinity) && p.kind == Kind::Irregular) {
         // Either exponential branch gives a series convergent at the far end
         // when it is the minimal solution; the first is Leaver's e^(+cx).
-        picks.push(("∞".into(), 1));
+        picks.push((PointId::Infinity, 1));
         choices.push("at ∞: the first exponential branch (the series decides the behaviour at the far end)".into());
     }
     let (lo, hi) = (ends[0].1.clone(), ends[1].1.clone());

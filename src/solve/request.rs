@@ -119,7 +119,7 @@ pub struct SpectrumRequest {
     /// The kind of spectrum.
     pub problem: Problem,
     /// The two ends and, optionally, their conditions (default: from the roles of the singular points).
-    pub ends: Option<[(Location, Option<Condition>); 2]>,
+    pub ends: Option<super::boundary::GivenEnds>,
     /// The spectral parameter when named; else the one parameter without a value, else a conventional name.
     pub frequency: Option<String>,
     /// Values of the other parameters: name, exact value, and the span of the assignment in the caller's text.
