@@ -527,6 +527,11 @@ fn recurrence_csv(b: &RecurrenceReport) -> String {
     o
 }
 
+/// The head of a table of modes: the overtone, the frequency by its name, the evidence.
+fn table_head(fname: &str) -> String {
+    format!("  n  {fname:<44} evidence\n")
+}
+
 fn recurrence_text(fname: &str, var: &str, source: &str, problem: Problem, b: &RecurrenceReport) -> String {
     let setup = &b.setup;
     let mut o = String::new();
@@ -563,7 +568,7 @@ fn recurrence_text(fname: &str, var: &str, source: &str, problem: Problem, b: &R
         o.push_str(&format!("  note: {n}\n"));
     }
     o.push_str(&format!("  method: {}, {}-term recurrence, n-th inversion for overtone n\n\n", recurrence_method(b), setup.terms));
-    o.push_str("  n  omega                                        evidence\n");
+    o.push_str(&table_head(fname));
     for (i, m) in b.modes.iter().enumerate() {
         let r = &m.root;
         let w = fmt_complex(r.omega.re, r.omega.im);
@@ -775,13 +780,13 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
         o.push_str(&format!("  method: {SERIES_METHOD}\n"));
         o.push_str(&format!("  series: {}\n", series.description));
         o.push_str(&format!("  {}\n\n", b.check_note));
-        o.push_str(&format!("  n  {fname:<44} evidence\n"));
+        o.push_str(&table_head(fname));
         o.push_str(&series_rows(series, b));
         return o;
     }
     o.push_str(&format!("  method: {ENDS_METHOD}\n"));
     o.push_str(&format!("  {}\n\n", b.check_note));
-    o.push_str(&format!("  n  {fname:<44} evidence\n"));
+    o.push_str(&table_head(fname));
     for (i, m) in b.modes.iter().enumerate() {
         let r = &m.root;
         if r.converged {
