@@ -282,3 +282,42 @@ fn closed_forms_carry_their_latex_beside_the_text() {
     assert_eq!(fam["expression"], "-1/2*Z^2/(l + n + 1)^2");
     assert_eq!(fam["expression_latex"], "-\\frac{Z^{2}}{2 \\left(l + n + 1\\right)^{2}}");
 }
+
+#[test]
+fn normal_modes_without_a_horizon_are_numbered_by_frequency() {
+    // Massless scalar in global AdS₄, L = 1: ω = l + 3 + 2n (exact; the same
+    // problem as above). With no horizon and no --ends the natural domain is
+    // from the centre to the boundary; the modes are real and numbered by ω,
+    // in the radial variable r = tan ρ as written with trigonometric
+    // coefficients in ρ (V = l(l + 1)/sin²ρ + 2/cos²ρ for Δ = 3, common
+    // practice), and as a real eigenvalue problem in ω (polynomial: ω²).
+    for l in [1u32, 2, 3] {
+        let at = format!("l={l}");
+        let want: Vec<Complex64> = (0..4).map(|n| cx(l as f64 + 3.0 + 2.0 * n as f64, 0.0)).collect();
+        let docs = [
+            run(&["spectrum", "tests/boundary/ads4_global_scalar.ode", "--at", &at, "--overtones", "0..3", "--format", "json"]),
+            run(&[
+                "spectrum",
+                "-e",
+                "psi'' + (om^2 - l*(l+1)/sin(x)^2 - 2/cos(x)^2)*psi = 0",
+                "--var",
+                "x",
+                "--at",
+                &at,
+                "--overtones",
+                "0..3",
+                "--format",
+                "json",
+            ]),
+            bound(&["tests/boundary/ads4_global_scalar.ode"], &at, "0..3"),
+        ];
+        for doc in &docs {
+            let modes = doc["modes"].as_array().unwrap();
+            assert_eq!(modes.len(), 4, "l={l}: {doc}");
+            for (m, w) in modes.iter().zip(&want) {
+                assert_eq!(m["converged"], true, "l={l}: {m}");
+                assert!(close(c(&m["omega"]), *w, 1e-9), "l={l}: n={} is {} not {w}", m["n"], m["omega"]);
+            }
+        }
+    }
+}

@@ -7,7 +7,7 @@ mod normal;
 mod quasi;
 mod transform;
 
-pub use lower::{lower_program_mapped, ExpMap, LinearOde, MapRequest, NameMode};
+pub use lower::{lower_program_mapped, ExpMap, LinearOde, MapForm, MapRequest, NameMode};
 pub use normal::{linear_root, normal_form, normal_q, prefactor, prefactor_text, NormalForm, Prefactor};
 pub use transform::{change_variable, schrodinger, schwarzian, transform_q};
 
@@ -175,9 +175,17 @@ pub fn exp_map_text(map: &ExpMap, ode: &LinearOde) -> String {
     let mut names = vec![map.new_var.clone()];
     names.extend(ode.params.iter().cloned());
     let half = RatFunc::rat(&crate::algebra::Rat::new(1.into(), 2.into()).expect("nonzero"));
-    let c = if map.tanh { ode.field.mul(&map.c, &half).unwrap_or_else(|_| map.c.clone()) } else { map.c.clone() };
+    // tanh(c x/2); tan(k x/2) with k = c/i = −ic.
+    let minus_half_i = RatFunc::constant(&crate::algebra::GRat {
+        re: crate::algebra::Rat::zero(),
+        im: crate::algebra::Rat::new((-1).into(), 2.into()).expect("nonzero"),
+    });
+    let (c, function) = match map.form {
+        MapForm::Exp => (map.c.clone(), "exp"),
+        MapForm::Tanh => (ode.field.mul(&map.c, &half).unwrap_or_else(|_| map.c.clone()), "tanh"),
+        MapForm::Tan => (ode.field.mul(&map.c, &minus_half_i).unwrap_or_else(|_| map.c.clone()), "tan"),
+    };
     let c = crate::algebra::print::ratfunc_text(&c, &names, crate::algebra::print::Style::Text);
-    let function = if map.tanh { "tanh" } else { "exp" };
     let times = match c.as_str() {
         "1" => String::new(),
         "-1" => "-".to_string(),

@@ -394,16 +394,11 @@ fn given_ends(given: &GivenEnds, real_points: &[RealPoint], infinity: &Infinity)
 /// The ends a physicist means when none are given: from the outermost
 /// horizon to infinity, or, when that horizon is cosmological, from the
 /// next singular point inward to it (`eqs`: the normal form and the
-/// equation as written, whose potentials decide).
+/// equation as written, whose potentials decide); with no horizon, from the
+/// outermost real singular point (a centre) to infinity.
 fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &NumOde), notes: &mut Vec<String>) -> Result<[FoundEnd; 2]> {
     let (ode, unknown) = eqs;
     let horizons: Vec<&RealPoint> = real_points.iter().filter(|p| p.nature == Nature::Horizon).collect();
-    let Some(outer) = horizons.last() else {
-        return Err(usage(format!(
-            "no horizon: the equation has no real singular point whose exponents depend on the spectral parameter (give the ends with {opt_ends})",
-            opt_ends = RequestInput::Ends.mention()
-        )));
-    };
     let inf = infinity.nature.ok_or_else(|| {
         usage(format!(
             "infinity has Poincaré rank {}: not supported as an end yet (give the ends with {opt_ends})",
@@ -411,6 +406,31 @@ fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &
             opt_ends = RequestInput::Ends.mention()
         ))
     })?;
+    let Some(outer) = horizons.last() else {
+        // No horizon (a star, a cavity, global anti-de Sitter): the domain
+        // runs from the outermost real singular point (a centre) to
+        // infinity, and the spectrum is that of the field's normal or
+        // quasinormal modes there.
+        let Some(centre) = real_points.last() else {
+            return Err(usage(format!(
+                "no horizon and no real singular point: the equation has no natural end (give the ends with {opt_ends})",
+                opt_ends = RequestInput::Ends.mention()
+            )));
+        };
+        notes.push(format!(
+            "no horizon (no real singular point whose exponents depend on the spectral parameter): the domain runs from the outermost real singular point, {}, to infinity (name other ends with {opt_ends})",
+            fmt(centre.z),
+            opt_ends = RequestInput::Ends.mention()
+        ));
+        let found = match inf {
+            Nature::IrregularRank1 => "irregular point of rank 1".to_string(),
+            _ => "regular boundary".to_string(),
+        };
+        return Ok([
+            FoundEnd { location: Location::At(centre.z), nature: centre.nature, found: describe(centre) },
+            FoundEnd { location: Location::Infinity, nature: inf, found },
+        ]);
+    };
     let inner = real_points.iter().rev().find(|p| p.z < outer.z - 1e-9 * outer.z.abs().max(1.0));
     // Beyond a cosmological horizon the potential turns negative; inside
     // it (between it and the next singular point inward) it is positive.

@@ -880,8 +880,18 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
     }
     let red = super::spectrum::substitute_for_series(red, &point, &[freq])?;
     if req.problem == Problem::Bound && req.ends.is_none() {
-        let (b, f) = bound_states(&red, req, &opts)?;
-        return Ok(done(Body::Bound(b), f, None));
+        if super::collocation::linear_in(&red.field, &red.normal.q, freq)? || req.method == Method::Collocation {
+            let (b, f) = bound_states(&red, req, &opts)?;
+            return Ok(done(Body::Bound(b), f, None));
+        }
+        // The eigenvalue enters Q polynomially (ω² and ω, a normal-mode
+        // problem written in the frequency): the global spectral method
+        // between the natural ends, polished by direct integration.
+        let bp = super::boundary::try_problem(&red.field, &red.normal.q, &red.q, &point, freq, SpectrumKind::Bound, None)?;
+        let note = "the spectral parameter enters Q beyond linearly: the eigenvalue problem is polynomial, solved between the ends (collocation of Q₀ + E·Q₁ does not apply)".to_string();
+        let report = between_ends(bp, req, &opts, Some(note));
+        let f = ends_functions(req, &report);
+        return Ok(done(Body::Ends(report), f, None));
     }
     if req.method == Method::Collocation {
         return Err(method_error(format!(
@@ -943,6 +953,14 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
                 };
                 let f = ends_functions(req, &report);
                 return Ok(done(Body::Ends(report), f, None));
+            }
+            Err(e) if e.kind == ErrorKind::Usage => {
+                // Neither a series about a horizon nor ends between which to
+                // integrate: the boundary problem's reason says what is missing.
+                return Err(match problem {
+                    Err(p) => p.note(format!("nor can the series about a horizon be set up: {}", e.message)),
+                    Ok(_) => e,
+                });
             }
             Err(e) => return Err(e),
             Ok((body, f)) => return Ok(done(body, f, ends)),
@@ -1259,7 +1277,8 @@ fn eikonal_reduction(req: &SpectrumRequest, red: &Reduction, point: &[GRat], fre
 
 /// Modes by direct integration between the ends of a boundary problem.
 fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptions, note: Option<String>) -> EndsReport {
-    let seeded = (opts.guess.is_none() && req.problem == Problem::Quasinormal).then(|| spectral_seeded(&bp, opts)).flatten();
+    let real = req.problem == Problem::Bound && super::global::polynomial_in_omega(&bp);
+    let seeded = (opts.guess.is_none() && (req.problem == Problem::Quasinormal || real)).then(|| spectral_seeded(&bp, opts, real)).flatten();
     let from_spectral = seeded.is_some();
     let modes = seeded.unwrap_or_else(|| super::ends::modes(&bp, opts.overtones, opts.guess, opts.tol));
     let spectrum = match req.problem {
@@ -1269,7 +1288,8 @@ fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptio
     };
     let numbering = match spectrum {
         _ if opts.guess.is_some() => None,
-        Problem::Quasinormal if from_spectral => Some(format!("no {opt_guess}: the modes are the global spectral method's eigenvalues in the lower right quadrant, numbered by |Im ω|, each polished by direct integration", opt_guess = RequestInput::Guess.mention())),
+        Problem::Bound if from_spectral => Some(format!("no {opt_guess}: the eigenvalues are the global spectral method's real eigenvalues, numbered upward (the non-negative ones when only the square of the parameter enters), each polished by direct integration", opt_guess = RequestInput::Guess.mention())),
+        Problem::Quasinormal if from_spectral => Some(format!("no {opt_guess}: the modes are the global spectral method's eigenvalues in the lower right quadrant, numbered by |Im ω| (real ones, normal modes, by ω), each polished by direct integration", opt_guess = RequestInput::Guess.mention())),
         Problem::Bound | Problem::Periodic => Some(format!("no {opt_guess}: the eigenvalues are the distinct real roots reached from a scan of the real axis, numbered upward; an eigenvalue below the scanned range would shift the numbering", opt_guess = RequestInput::Guess.mention())),
         Problem::Quasinormal => Some(format!("no {opt_guess}: the modes are the distinct roots reached from a scan of the complex plane, numbered by |Im ω|; a mode the scan missed would shift the numbering", opt_guess = RequestInput::Guess.mention())),
         Problem::QuasiBound => None,
@@ -1332,7 +1352,7 @@ fn series_between_ends(
     let mut numbering: Vec<String> = Vec::new();
     if from_spectral {
         numbering.push(format!(
-            "no {opt_guess}: the seeds are the global spectral method's eigenvalues in the lower right quadrant, numbered by |Im ω|",
+            "no {opt_guess}: the seeds are the global spectral method's eigenvalues in the lower right quadrant, numbered by |Im ω| (real ones, normal modes, by ω)",
             opt_guess = RequestInput::Guess.mention()
         ));
     }
@@ -1350,13 +1370,14 @@ fn series_between_ends(
     Ok(EndsReport { problem: bp, modes, note, numbering, spectrum: req.problem, checks, check_note, series: Some(series) })
 }
 
-/// Quasinormal modes with no guess seeded by the global spectral method
-/// (its eigenvalues in the lower right quadrant by |Im ω|), each polished by
-/// direct integration; `None` (the plane scan decides instead) when it does
-/// not give every overtone asked for or a polish fails or repeats a mode.
-fn spectral_seeded(bp: &BoundaryProblem, opts: &SpectrumOptions) -> Option<Vec<EndMode>> {
+/// Modes with no guess seeded by the global spectral method (its
+/// eigenvalues in the lower right quadrant in overtone order, or with `real`
+/// its real eigenvalues upward), each polished by direct integration;
+/// `None` (the scan decides instead) when it does not give every overtone
+/// asked for or a polish fails or repeats a mode.
+fn spectral_seeded(bp: &BoundaryProblem, opts: &SpectrumOptions, real: bool) -> Option<Vec<EndMode>> {
     let (lo, hi) = opts.overtones;
-    let seeds = super::global::seeds(bp, (lo, hi));
+    let seeds = if real { super::global::real_seeds(bp, (lo, hi)) } else { super::global::seeds(bp, (lo, hi)) };
     if seeds.len() != (hi - lo + 1) as usize {
         return None;
     }
@@ -1392,8 +1413,10 @@ fn spectral_checks(bp: &BoundaryProblem, modes: &[EndMode]) -> (Vec<Option<Spect
     let (re0, re1) = found.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), w| (a.min(w.re), b.max(w.re)));
     let (im0, im1) = found.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), w| (a.min(w.im), b.max(w.im)));
     // Stay on the side of the real axis the modes are on (the global method
-    // solves the half-planes separately at an irregular infinity).
-    let top = if im1 < 0.0 { (im1 + pad).min(-1e-9 * pad) } else { im1 + pad };
+    // solves the half-planes separately at an irregular infinity); a mode on
+    // the axis (a normal mode) has its discretised twin on either side.
+    let on_axis = found.iter().any(|w| super::global::nearly_real(*w, bp.scale));
+    let top = if im1 < 0.0 && !on_axis { (im1 + pad).min(-1e-9 * pad) } else { im1 + pad };
     let region = Region { re: (re0 - pad, re1 + pad), im: (im0 - pad, top) };
     // The coarser grid first: kept when it has an eigenvalue near every
     // converged mode, else the finer one decides.
