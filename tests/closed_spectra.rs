@@ -321,3 +321,39 @@ fn normal_modes_without_a_horizon_are_numbered_by_frequency() {
         }
     }
 }
+
+#[test]
+fn de_sitter_static_patch_without_a_guess_starts_from_the_least_damped_mode() {
+    // The two families ω = −i(l + Δ± + 2n) of the test above (derived there
+    // from the hypergeometric solution), l = 1, m = 1/2: Δ₋ = 3/2 − √2 gives
+    // the least damped mode. Without a guess the first three overtones,
+    // numbered by damping, are −i(l + Δ₋), −i(l + Δ₋ + 2), −i(l + Δ₊).
+    let (l, d) = (1.0f64, 2f64.sqrt());
+    let want = [cx(0.0, -(l + 1.5 - d)), cx(0.0, -(l + 1.5 - d + 2.0)), cx(0.0, -(l + 1.5 + d))];
+    let doc = run(&[
+        "spectrum",
+        "tests/boundary/de_sitter_static_scalar.ode",
+        "--at",
+        "l=1,m=1/2",
+        "--ends",
+        "0..1",
+        "--overtones",
+        "0..2",
+        "--format",
+        "json",
+    ]);
+    let modes = doc["modes"].as_array().unwrap();
+    for (m, w) in modes.iter().zip(&want) {
+        assert_eq!(m["converged"], true, "{m}");
+        assert!(close(c(&m["omega"]), *w, 1e-9), "n={}: {} is not {w}", m["n"], m["omega"]);
+    }
+    // Without --ends the horizon is taken as a black hole's; the output says
+    // so and names the ends of the static patch.
+    let out = Command::new(env!("CARGO_BIN_EXE_canonode"))
+        .args(["spectrum", "tests/boundary/de_sitter_static_scalar.ode", "--at", "l=1,m=1/2"])
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .expect("binary runs");
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("a de Sitter static patch), name the ends with --ends 0..1"), "{text}");
+}

@@ -446,6 +446,17 @@ fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &
             let interior = inner.nature == Nature::Horizon || says(unknown) || says(ode);
             if inner.nature == Nature::Horizon {
                 notes.push(format!("two horizons with a regular infinity beyond: taken as a black-hole and a cosmological horizon (for the inner and outer horizons of an anti-de Sitter black hole name the ends with {opt_ends})", opt_ends = RequestInput::Ends.mention()));
+            } else if !interior {
+                // f and −f give the same equation when the potential's
+                // bracket changes sign with them: which side is static is a
+                // choice, said plainly with the command for the other one.
+                notes.push(format!(
+                    "the horizon at {} is taken as a black hole's, with the static region outside it up to the regular boundary at infinity; the equation alone does not decide this (the potential does not change sign across the horizon as a cosmological horizon's does): for a cosmological horizon with the static region inside it (a de Sitter static patch), name the ends with {opt_ends} {}..{}",
+                    fmt(outer.z),
+                    fmt(inner.z),
+                    fmt(outer.z),
+                    opt_ends = RequestInput::Ends.mention()
+                ));
             }
             !interior
         }
