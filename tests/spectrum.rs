@@ -755,6 +755,33 @@ fn schwarzschild_anti_de_sitter_modes_with_a_normalisable_boundary() {
 }
 
 #[test]
+fn btz_ladder_without_a_guess_skips_no_overtone() {
+    // Massless scalar on the non-rotating BTZ black hole (L = 1): with
+    // x = 1 − rp²/r² the radial equation is hypergeometric and the ingoing,
+    // normalisable solution is a polynomial exactly at
+    // ω = ±k − 2i rp (n + 1), n = 0, 1, 2, … (D. Birmingham, I. Sachs &
+    // S. N. Solodukhin, Phys. Rev. Lett. 88 (2002) 151301). Regression: the
+    // ladder from the global method's lone seed stepped to 3 Im ω₀ and so
+    // listed n = 0, 2, 4, … as 0, 1, 2, …; every overtone is now found in
+    // turn, and direct integration confirms them up to n = 4.
+    for (rp, k) in [(1.0f64, 0.5f64), (2.0, 1.5)] {
+        let (_, ms) = modes_of("tests/boundary/btz_scalar.ode", &format!("rp={rp},k={k}"), &["--overtones", "0..5"]);
+        assert_eq!(ms.len(), 6);
+        for (n, m) in ms.iter().enumerate() {
+            assert_eq!(m["n"], n as u64, "{m}");
+            assert_eq!(m["method"], "cf", "{m}");
+            let (re, im) = omega(m);
+            let want = (k, -2.0 * rp * (n as f64 + 1.0));
+            let scale = want.0.hypot(want.1);
+            assert!((re - want.0).abs() <= 1e-10 * scale && (im - want.1).abs() <= 1e-10 * scale, "rp={rp}, k={k}, n={n}: {re} {im} vs {want:?}");
+            if n <= 4 {
+                assert!(m["check"]["agreement"].as_f64().is_some_and(|a| a < 1e-9), "rp={rp}, k={k}, n={n}: {m}");
+            }
+        }
+    }
+}
+
+#[test]
 fn schwarzschild_anti_de_sitter_by_the_numeric_series_agrees_with_direct_integration() {
     // The AdS boundary r → ∞ is a regular singular point whose exponents
     // differ by an integer; with the normalisable one factored out, the

@@ -188,9 +188,36 @@ pub fn mismatch(bp: &BoundaryProblem, w: Complex64) -> Option<Complex64> {
     evaluate(bp, w, &integrate::STANDARD).ok().map(|(v, _)| v)
 }
 
-/// The eigenvalue nearest the seed by the two-pass Muller search.
+/// The eigenvalue nearest the seed by the two-pass Muller search. When
+/// both passes find a root but they disagree, the search is repeated from
+/// that root with the series at the ends summed farther out
+/// ([`integrate::FAR_STANDARD`], [`integrate::FAR_REFINED`]), which
+/// resolves damped overtones the near start cannot; when that fails too,
+/// the reason says how flat the mismatch is at the root, and so how far
+/// rounding alone can move it.
 pub fn find_root(bp: &BoundaryProblem, seed: Complex64, tol: f64) -> IntRoot {
-    integrate::find_root_by(&|w, p| evaluate(bp, w, p), seed, tol, integrate::MAX_ITER)
+    let eval = |w: Complex64, p: &Params| evaluate(bp, w, p);
+    let near = integrate::find_root_by(&eval, seed, tol, integrate::MAX_ITER);
+    if near.converged || !near.change.is_finite() {
+        return near;
+    }
+    let named = "the two integrations with the series at the ends summed at 0.6 and 0.7 of their radii";
+    let far = integrate::find_root_passes(&eval, near.omega, tol, integrate::MAX_ITER, [&integrate::FAR_STANDARD, &integrate::FAR_REFINED], named);
+    if far.converged {
+        let reason = format!("{} (standard and refined integration, with the series summed nearer the ends, disagreed: {})", far.reason, near.reason);
+        return IntRoot { reason, iterations: near.iterations + far.iterations, ..far };
+    }
+    let mut reason = format!("{}; again with the series at the ends summed farther out: {}", near.reason, far.reason);
+    if let Some(slope) = integrate::mismatch_slope(&eval, far.omega, &integrate::FAR_REFINED) {
+        // The mismatch carries rounding near 1e-15 (integrate's tolerance floor).
+        let spread = 1e-15 / slope.max(f64::MIN_POSITIVE);
+        if spread >= 0.1 * tol {
+            reason.push_str(&format!(
+                "; the normalised mismatch changes by only {slope:.1e} per unit relative change of ω at the root, so its rounding (near 1e-15) alone moves the root by about {spread:.0e} relative (tolerance {tol:.1e}): this mode is at or past the limit of what direct integration resolves in double precision"
+            ));
+        }
+    }
+    IntRoot { reason, iterations: near.iterations + far.iterations, ..near }
 }
 
 /// Where a seed came from.

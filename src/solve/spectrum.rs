@@ -532,9 +532,16 @@ pub fn ladder(
     beyond: &dyn Fn(&[Mode], Complex64) -> bool,
 ) -> Result<(Vec<Mode>, LadderEnd)> {
     let mut modes: Vec<Mode> = Vec::new();
+    // Overtones filed from a search between two others (see below): the
+    // given seed that led past them belongs to the overtone after.
+    let mut inserted = 0usize;
     for n in opts.overtones.0..=opts.overtones.1 {
-        let idx = (n - opts.overtones.0) as usize;
+        let idx = (n - opts.overtones.0) as usize - inserted;
         let given = idx < opts.seeds.len() || (opts.guess.is_some() && n == opts.overtones.0);
+        // A step whose seed is not set by the spacing of two overtones (a
+        // given seed after the first, or a guess below a lone overtone) can
+        // pass over a mode unnoticed; it is searched between afterwards.
+        let mut unpaced = n > opts.overtones.0 && idx < opts.seeds.len();
         let seed = if let Some(s) = opts.seeds.get(idx) {
             (*s, "the global spectral method (an eigenvalue two Chebyshev grids agree on)".to_string())
         } else if let Some(g) = opts.guess.filter(|_| n == opts.overtones.0) {
@@ -557,6 +564,7 @@ pub fn ladder(
             // An estimate in the upper half-plane is not a decaying mode: never a seed.
             e
         } else if let Some(last) = modes.iter().rev().find(|m| m.root.converged) {
+            unpaced = true;
             (last.root.omega - Complex64::new(0.0, 2.0 * last.root.omega.im.abs().max(0.05)), "below the previous overtone".to_string())
         } else {
             return Err(usage(format!("{NO_SEED} {n}: give {opt_guess}", opt_guess = RequestInput::Guess.mention())));
@@ -600,10 +608,23 @@ pub fn ladder(
                 ));
             }
         }
+        let mut seed = seed;
+        if unpaced && root.converged {
+            if let Some(prev) = modes.last().filter(|m| m.n + 1 == n && m.root.converged) {
+                let before = root.omega;
+                let (r, s) = root_between(prev.root.omega, root, seed, n, &modes, solve);
+                if r.omega != before {
+                    // The seed's own root lies past this overtone: with a
+                    // given seed, the next overtone starts from it again.
+                    inserted += usize::from(given);
+                }
+                (root, seed) = (r, s);
+            }
+        }
         // The overtone a root belongs to, by the spacing in Im ω of the two
         // nearest converged overtones below it: a seed past a missed overtone
         // can land on the missed one, which must not be reported under n.
-        let mut seed = seed;
+
         for _retry in 0..2 {
             let Some(m) = overtone_by_spacing(&modes, &root).filter(|&m| m != n) else { break };
             let why = format!(
@@ -632,6 +653,59 @@ pub fn ladder(
         modes.push(Mode { n, root, seed, method: ModeMethod::ContinuedFraction });
     }
     Ok((modes, LadderEnd::Range))
+}
+
+/// The most searches [`root_between`] makes between two overtones.
+const BETWEEN_TRIES: usize = 4;
+
+/// The root nearest below the overtone at `prev` when a step of the ladder
+/// was not paced by two overtones: `root` (converged, from `seed`) may lie
+/// past a mode, so the root finder is started half way between `prev` and
+/// `root`; a converged root there (or its mirror −ω̄ in the lower right
+/// quadrant) strictly between the two in Im ω, and not a mode already
+/// found, replaces `root`, and the halving goes on (at most
+/// [`BETWEEN_TRIES`] times) until the start half way leads to no root
+/// between. Overtones are numbered by |Im ω|, so a root between is the
+/// overtone sought. Without this, a lone overtone followed by a blind seed
+/// below it skips every other mode of an evenly spaced ladder whose step
+/// equals the fundamental's |Im ω| (a BTZ black hole), and the spacing
+/// learnt from the wrong pair then keeps the skip.
+fn root_between(
+    prev: Complex64,
+    mut root: CfRoot,
+    mut seed: (Complex64, String),
+    n: u32,
+    modes: &[Mode],
+    solve: &dyn Fn(u32, Complex64) -> CfRoot,
+) -> (CfRoot, (Complex64, String)) {
+    for _ in 0..BETWEEN_TRIES {
+        let gap = prev.im - root.omega.im;
+        if !(gap > 0.0) {
+            break;
+        }
+        let mid = 0.5 * (prev + root.omega);
+        let mut r = solve(n, mid);
+        if r.converged && r.omega.re < 0.0 {
+            let again = solve(n, -r.omega.conj());
+            if again.converged {
+                r = again;
+            }
+        }
+        let margin = 1e-6 * gap;
+        let known = modes.iter().any(|m| m.root.converged && (m.root.omega - r.omega).norm() <= 1e-8 * r.omega.norm());
+        let between = r.omega.im < prev.im - margin && r.omega.im > root.omega.im + margin && r.omega.re >= 0.0;
+        if !(r.converged && between && !known) {
+            break;
+        }
+        seed = (mid, format!("half way between overtone {} and the root {} reached from {}", n - 1, text(root.omega), seed.1));
+        root = r;
+    }
+    (root, seed)
+}
+
+/// A complex number in a seed's description.
+fn text(w: Complex64) -> String {
+    format!("{:.6e}{:+.6e}i", w.re, w.im)
 }
 
 /// The overtone number of a converged root from the two nearest converged
