@@ -778,6 +778,23 @@ fn btz_ladder_without_a_guess_skips_no_overtone() {
                 assert!(m["check"]["agreement"].as_f64().is_some_and(|a| a < 1e-9), "rp={rp}, k={k}, n={n}: {m}");
             }
         }
+        // Direct integration from a guess for the fundamental climbs the
+        // same ladder (its seed below a lone overtone skipped the same way).
+        let guess = format!("{k}-{}i", 2.0 * rp);
+        let (_, ms) = modes_of(
+            "tests/boundary/btz_scalar.ode",
+            &format!("rp={rp},k={k}"),
+            &["--method", "integrate", "--guess", &guess, "--overtones", "0..3"],
+        );
+        for (n, m) in ms.iter().enumerate() {
+            let (re, im) = omega(m);
+            let want = (k, -2.0 * rp * (n as f64 + 1.0));
+            let scale = want.0.hypot(want.1);
+            assert!(
+                (re - want.0).abs() <= 1e-9 * scale && (im - want.1).abs() <= 1e-9 * scale,
+                "integrate, rp={rp}, k={k}, n={n}: {re} {im} vs {want:?}"
+            );
+        }
     }
 }
 

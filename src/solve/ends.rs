@@ -516,7 +516,10 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
     }
     if let Some(g) = guess {
         for n in lo..=hi {
-            let seed = if n == lo {
+            // A seed below a lone overtone is not paced by two overtones: it
+            // can pass over a mode, so the search goes back between afterwards.
+            let unpaced = n > lo && bp.kind != SpectrumKind::Bound && !(out.len() >= 2 && out.iter().rev().take(2).all(|m| m.root.converged));
+            let mut seed = if n == lo {
                 Seed { omega: g, from: "the given guess".into() }
             } else if out.len() >= 2 && out.iter().rev().take(2).all(|m| m.root.converged) {
                 let (a, b) = (out[out.len() - 1].root.omega, out[out.len() - 2].root.omega);
@@ -537,6 +540,18 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
                 if let Some(prev) = out.iter().find(|m| m.root.converged && (m.root.omega - r.omega).norm() <= 1e-8 * r.omega.norm()) {
                     let why = format!("the root is overtone {}'s again (the seed led to a mode already found)", prev.n);
                     r = reject(r, why);
+                }
+            }
+            if let Some(prev) = out.last().filter(|m| unpaced && r.converged && m.n + 1 == n && m.root.converged) {
+                let from = |mid: Complex64| {
+                    let x = find_root(bp, mid, tol);
+                    x.converged.then_some((x.omega, x))
+                };
+                let known = |w: Complex64| out.iter().any(|m| m.root.converged && (m.root.omega - w).norm() <= 1e-8 * w.norm());
+                if let Some((mid, _, x)) = super::roots::root_between(prev.root.omega, r.omega, &from, &known) {
+                    let why = format!("half way between overtone {} and the root reached from {}", n - 1, seed.from);
+                    seed = Seed { omega: mid, from: why };
+                    r = x;
                 }
             }
             out.push(EndMode { n, root: r, seed });

@@ -655,52 +655,32 @@ pub fn ladder(
     Ok((modes, LadderEnd::Range))
 }
 
-/// The most searches [`root_between`] makes between two overtones.
-const BETWEEN_TRIES: usize = 4;
-
-/// The root nearest below the overtone at `prev` when a step of the ladder
-/// was not paced by two overtones: `root` (converged, from `seed`) may lie
-/// past a mode, so the root finder is started half way between `prev` and
-/// `root`; a converged root there (or its mirror −ω̄ in the lower right
-/// quadrant) strictly between the two in Im ω, and not a mode already
-/// found, replaces `root`, and the halving goes on (at most
-/// [`BETWEEN_TRIES`] times) until the start half way leads to no root
-/// between. Overtones are numbered by |Im ω|, so a root between is the
-/// overtone sought. Without this, a lone overtone followed by a blind seed
-/// below it skips every other mode of an evenly spaced ladder whose step
-/// equals the fundamental's |Im ω| (a BTZ black hole), and the spacing
-/// learnt from the wrong pair then keeps the skip.
+/// [`super::roots::root_between`] for the ladder: the n-th inversion from
+/// half way, a root in the left half-plane taken to its mirror −ω̄ (as the
+/// ladder does), the seed's description saying where it came from.
 fn root_between(
     prev: Complex64,
-    mut root: CfRoot,
-    mut seed: (Complex64, String),
+    root: CfRoot,
+    seed: (Complex64, String),
     n: u32,
     modes: &[Mode],
     solve: &dyn Fn(u32, Complex64) -> CfRoot,
 ) -> (CfRoot, (Complex64, String)) {
-    for _ in 0..BETWEEN_TRIES {
-        let gap = prev.im - root.omega.im;
-        if !(gap > 0.0) {
-            break;
-        }
-        let mid = 0.5 * (prev + root.omega);
+    let from = |mid: Complex64| {
         let mut r = solve(n, mid);
         if r.converged && r.omega.re < 0.0 {
-            let again = solve(n, -r.omega.conj());
-            if again.converged {
-                r = again;
-            }
+            r = solve(n, -r.omega.conj());
         }
-        let margin = 1e-6 * gap;
-        let known = modes.iter().any(|m| m.root.converged && (m.root.omega - r.omega).norm() <= 1e-8 * r.omega.norm());
-        let between = r.omega.im < prev.im - margin && r.omega.im > root.omega.im + margin && r.omega.re >= 0.0;
-        if !(r.converged && between && !known) {
-            break;
+        r.converged.then_some((r.omega, r))
+    };
+    let known = |w: Complex64| modes.iter().any(|m| m.root.converged && (m.root.omega - w).norm() <= 1e-8 * w.norm());
+    match super::roots::root_between(prev, root.omega, &from, &known) {
+        Some((mid, _, r)) => {
+            let why = format!("half way between overtone {} and the root {} reached from {}", n - 1, text(root.omega), seed.1);
+            (r, (mid, why))
         }
-        seed = (mid, format!("half way between overtone {} and the root {} reached from {}", n - 1, text(root.omega), seed.1));
-        root = r;
+        None => (root, seed),
     }
-    (root, seed)
 }
 
 /// A complex number in a seed's description.
