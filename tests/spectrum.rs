@@ -765,8 +765,19 @@ fn btz_ladder_without_a_guess_skips_no_overtone() {
     // listed n = 0, 2, 4, … as 0, 1, 2, …; every overtone is now found in
     // turn, and direct integration confirms them up to n = 4.
     for (rp, k) in [(1.0f64, 0.5f64), (2.0, 1.5)] {
-        let (_, ms) = modes_of("tests/boundary/btz_scalar.ode", &format!("rp={rp},k={k}"), &["--overtones", "0..5"]);
+        let (v, ms) = modes_of("tests/boundary/btz_scalar.ode", &format!("rp={rp},k={k}"), &["--overtones", "0..5"]);
         assert_eq!(ms.len(), 6);
+        // The run's own closed form (the family with Re ω = +k) finds each
+        // exact value in the numeric table under the same number.
+        let fam = v["closed_form"]["families"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|f| f["values"][0]["omega"][0].as_f64() > Some(0.0))
+            .expect("a family with Re > 0");
+        for x in fam["values"].as_array().unwrap() {
+            assert_eq!(x["check"]["n"], x["n"], "rp={rp}, k={k}: {x}");
+        }
         for (n, m) in ms.iter().enumerate() {
             assert_eq!(m["n"], n as u64, "{m}");
             assert_eq!(m["method"], "cf", "{m}");
