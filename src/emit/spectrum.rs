@@ -184,7 +184,7 @@ pub fn text(r: &SpectrumReport, source: &str) -> String {
         ),
     };
     match &r.closed {
-        ClosedSection::Found { form, values } => o.push_str(&closed_text(&r.frequency, form, values)),
+        ClosedSection::Found { form, values } => o.push_str(&closed_text(&r.frequency, form, values, &r.body.converged())),
         ClosedSection::None(why) => o.push_str(&format!("\nclosed form: none ({why})\n")),
         ClosedSection::NotAsked => {}
     }
@@ -313,10 +313,8 @@ fn closed_json(form: &ClosedForm, values: &[Vec<(u32, Complex64)>], numeric: &[(
             let values: Vec<Value> = vs
                 .iter()
                 .map(|(n, w)| {
-                    // The numeric mode of this run at this value, if any.
-                    let near = numeric.iter().min_by(|a, b| (a.1 - w).norm().total_cmp(&(b.1 - w).norm()));
-                    let check = near.filter(|(_, mw, _)| (mw - w).norm() <= CLOSED_CHECK_NEAR * w.norm().max(1.0)).map_or(Value::Null, |(mn, mw, method)| {
-                        json!({"method": method.tag(), "n": mn, "omega": pair(*mw), "agreement": (mw - w).norm() / w.norm().max(1e-300)})
+                    let check = closed_check(*w, numeric).map_or(Value::Null, |(mn, mw, method)| {
+                        json!({"method": method.tag(), "n": mn, "omega": pair(mw), "agreement": (mw - w).norm() / w.norm().max(1e-300)})
                     });
                     json!({"n": n, "omega": pair(*w), "method": "exact", "check": check})
                 })
@@ -333,7 +331,14 @@ fn closed_json(form: &ClosedForm, values: &[Vec<(u32, Complex64)>], numeric: &[(
     json!({"route": form.route, "families": fams})
 }
 
-fn closed_text(fname: &str, form: &ClosedForm, values: &[Vec<(u32, Complex64)>]) -> String {
+/// The numeric mode of this run at an exact value (within
+/// [`CLOSED_CHECK_NEAR`]), if any: its number, value and method.
+fn closed_check(w: Complex64, numeric: &[(u32, Complex64, NumericMethod)]) -> Option<(u32, Complex64, NumericMethod)> {
+    let near = numeric.iter().min_by(|a, b| (a.1 - w).norm().total_cmp(&(b.1 - w).norm()));
+    near.filter(|(_, mw, _)| (mw - w).norm() <= CLOSED_CHECK_NEAR * w.norm().max(1.0)).copied()
+}
+
+fn closed_text(fname: &str, form: &ClosedForm, values: &[Vec<(u32, Complex64)>], numeric: &[(u32, Complex64, NumericMethod)]) -> String {
     let mut s = format!("\nclosed form ({})\n", form.route);
     for (i, (f, vs)) in form.families.iter().zip(values).enumerate() {
         s.push_str(&format!("  family {}: {}\n", i + 1, f.label));
@@ -343,7 +348,20 @@ fn closed_text(fname: &str, form: &ClosedForm, values: &[Vec<(u32, Complex64)>])
             s.push_str(&format!("    branch: {}\n", f.range.branch));
         }
         for (n, w) in vs {
-            s.push_str(&format!("    n = {n}: {}  (exact)\n", fmt_complex(w.re, w.im)));
+            // The numeric table's check, and its number when it differs (a
+            // numbering that skipped or inserted a mode shows here).
+            let check = match closed_check(*w, numeric) {
+                Some((mn, mw, _)) => {
+                    let agree = (mw - w).norm() / w.norm().max(1e-300);
+                    if mn == *n {
+                        format!("; the numeric n = {mn} agrees to {agree:.1e}")
+                    } else {
+                        format!("; the numeric table numbers it n = {mn} (agreement {agree:.1e})")
+                    }
+                }
+                None => String::new(),
+            };
+            s.push_str(&format!("    n = {n}: {}  (exact{check})\n", fmt_complex(w.re, w.im)));
         }
     }
     s

@@ -188,9 +188,36 @@ pub fn mismatch(bp: &BoundaryProblem, w: Complex64) -> Option<Complex64> {
     evaluate(bp, w, &integrate::STANDARD).ok().map(|(v, _)| v)
 }
 
-/// The eigenvalue nearest the seed by the two-pass Muller search.
+/// The eigenvalue nearest the seed by the two-pass Muller search. When
+/// both passes find a root but they disagree, the search is repeated from
+/// that root with the series at the ends summed farther out
+/// ([`integrate::FAR_STANDARD`], [`integrate::FAR_REFINED`]), which
+/// resolves damped overtones the near start cannot; when that fails too,
+/// the reason says how flat the mismatch is at the root, and so how far
+/// rounding alone can move it.
 pub fn find_root(bp: &BoundaryProblem, seed: Complex64, tol: f64) -> IntRoot {
-    integrate::find_root_by(&|w, p| evaluate(bp, w, p), seed, tol, integrate::MAX_ITER)
+    let eval = |w: Complex64, p: &Params| evaluate(bp, w, p);
+    let near = integrate::find_root_by(&eval, seed, tol, integrate::MAX_ITER);
+    if near.converged || !near.change.is_finite() {
+        return near;
+    }
+    let named = "the two integrations with the series at the ends summed at 0.6 and 0.7 of their radii";
+    let far = integrate::find_root_passes(&eval, near.omega, tol, integrate::MAX_ITER, [&integrate::FAR_STANDARD, &integrate::FAR_REFINED], named);
+    if far.converged {
+        let reason = format!("{} (standard and refined integration, with the series summed nearer the ends, disagreed: {})", far.reason, near.reason);
+        return IntRoot { reason, iterations: near.iterations + far.iterations, ..far };
+    }
+    let mut reason = format!("{}; again with the series at the ends summed farther out: {}", near.reason, far.reason);
+    if let Some(slope) = integrate::mismatch_slope(&eval, far.omega, &integrate::FAR_REFINED) {
+        // The mismatch carries rounding near 1e-15 (integrate's tolerance floor).
+        let spread = 1e-15 / slope.max(f64::MIN_POSITIVE);
+        if spread >= 0.1 * tol {
+            reason.push_str(&format!(
+                "; the normalised mismatch changes by only {slope:.1e} per unit relative change of ω at the root, so its rounding (near 1e-15) alone moves the root by about {spread:.0e} relative (tolerance {tol:.1e}): this mode is at or past the limit of what direct integration resolves in double precision"
+            ));
+        }
+    }
+    IntRoot { reason, iterations: near.iterations + far.iterations, ..near }
 }
 
 /// Where a seed came from.
@@ -495,7 +522,10 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
     }
     if let Some(g) = guess {
         for n in lo..=hi {
-            let seed = if n == lo {
+            // A seed below a lone overtone is not paced by two overtones: it
+            // can pass over a mode, so the search goes back between afterwards.
+            let unpaced = n > lo && bp.kind != SpectrumKind::Bound && !(out.len() >= 2 && out.iter().rev().take(2).all(|m| m.root.converged));
+            let mut seed = if n == lo {
                 Seed { omega: g, from: "the given guess".into() }
             } else if out.len() >= 2 && out.iter().rev().take(2).all(|m| m.root.converged) {
                 let (a, b) = (out[out.len() - 1].root.omega, out[out.len() - 2].root.omega);
@@ -516,6 +546,18 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
                 if let Some(prev) = out.iter().find(|m| m.root.converged && (m.root.omega - r.omega).norm() <= 1e-8 * r.omega.norm()) {
                     let why = format!("the root is overtone {}'s again (the seed led to a mode already found)", prev.n);
                     r = reject(r, why);
+                }
+            }
+            if let Some(prev) = out.last().filter(|m| unpaced && r.converged && m.n + 1 == n && m.root.converged) {
+                let from = |mid: Complex64| {
+                    let x = find_root(bp, mid, tol);
+                    x.converged.then_some((x.omega, x))
+                };
+                let known = |w: Complex64| out.iter().any(|m| m.root.converged && (m.root.omega - w).norm() <= 1e-8 * w.norm());
+                if let Some((mid, _, x)) = super::roots::root_between(prev.root.omega, r.omega, &from, &known) {
+                    let why = format!("half way between overtone {} and the root reached from {}", n - 1, seed.from);
+                    seed = Seed { omega: mid, from: why };
+                    r = x;
                 }
             }
             out.push(EndMode { n, root: r, seed });

@@ -1358,7 +1358,7 @@ fn series_between_ends(
     }
     if given < wanted {
         numbering.push(format!(
-            "overtones from {} on were seeded from the overtones below them (extrapolated): a mode skipped between two seeds would shift the numbering of those above it",
+            "overtones from {} on were seeded from the overtones below them (extrapolated; a step not set by the spacing of two overtones was searched again from half way back for a mode between): a mode skipped between two seeds would shift the numbering of those above it",
             opts.overtones.0 + given as u32
         ));
     }

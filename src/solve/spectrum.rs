@@ -533,9 +533,16 @@ pub fn ladder(
     beyond: &dyn Fn(&[Mode], Complex64) -> bool,
 ) -> Result<(Vec<Mode>, LadderEnd)> {
     let mut modes: Vec<Mode> = Vec::new();
+    // Overtones filed from a search between two others (see below): the
+    // given seed that led past them belongs to the overtone after.
+    let mut inserted = 0usize;
     for n in opts.overtones.0..=opts.overtones.1 {
-        let idx = (n - opts.overtones.0) as usize;
+        let idx = (n - opts.overtones.0) as usize - inserted;
         let given = idx < opts.seeds.len() || (opts.guess.is_some() && n == opts.overtones.0);
+        // A step whose seed is not set by the spacing of two overtones (a
+        // given seed after the first, or a guess below a lone overtone) can
+        // pass over a mode unnoticed; it is searched between afterwards.
+        let mut unpaced = n > opts.overtones.0 && idx < opts.seeds.len();
         let seed = if let Some(s) = opts.seeds.get(idx) {
             (*s, "the global spectral method (an eigenvalue two Chebyshev grids agree on)".to_string())
         } else if let Some(g) = opts.guess.filter(|_| n == opts.overtones.0) {
@@ -558,6 +565,7 @@ pub fn ladder(
             // An estimate in the upper half-plane is not a decaying mode: never a seed.
             e
         } else if let Some(last) = modes.iter().rev().find(|m| m.root.converged) {
+            unpaced = true;
             (last.root.omega - Complex64::new(0.0, 2.0 * last.root.omega.im.abs().max(0.05)), "below the previous overtone".to_string())
         } else {
             return Err(usage(format!("{NO_SEED} {n}: give {opt_guess}", opt_guess = RequestInput::Guess.mention())));
@@ -601,10 +609,23 @@ pub fn ladder(
                 ));
             }
         }
+        let mut seed = seed;
+        if unpaced && root.converged {
+            if let Some(prev) = modes.last().filter(|m| m.n + 1 == n && m.root.converged) {
+                let before = root.omega;
+                let (r, s) = root_between(prev.root.omega, root, seed, n, &modes, solve);
+                if r.omega != before {
+                    // The seed's own root lies past this overtone: with a
+                    // given seed, the next overtone starts from it again.
+                    inserted += usize::from(given);
+                }
+                (root, seed) = (r, s);
+            }
+        }
         // The overtone a root belongs to, by the spacing in Im ω of the two
         // nearest converged overtones below it: a seed past a missed overtone
         // can land on the missed one, which must not be reported under n.
-        let mut seed = seed;
+
         for _retry in 0..2 {
             let Some(m) = overtone_by_spacing(&modes, &root).filter(|&m| m != n) else { break };
             let why = format!(
@@ -633,6 +654,39 @@ pub fn ladder(
         modes.push(Mode { n, root, seed, method: ModeMethod::ContinuedFraction });
     }
     Ok((modes, LadderEnd::Range))
+}
+
+/// [`super::roots::root_between`] for the ladder: the n-th inversion from
+/// half way, a root in the left half-plane taken to its mirror −ω̄ (as the
+/// ladder does), the seed's description saying where it came from.
+fn root_between(
+    prev: Complex64,
+    root: CfRoot,
+    seed: (Complex64, String),
+    n: u32,
+    modes: &[Mode],
+    solve: &dyn Fn(u32, Complex64) -> CfRoot,
+) -> (CfRoot, (Complex64, String)) {
+    let from = |mid: Complex64| {
+        let mut r = solve(n, mid);
+        if r.converged && r.omega.re < 0.0 {
+            r = solve(n, -r.omega.conj());
+        }
+        r.converged.then_some((r.omega, r))
+    };
+    let known = |w: Complex64| modes.iter().any(|m| m.root.converged && (m.root.omega - w).norm() <= 1e-8 * w.norm());
+    match super::roots::root_between(prev, root.omega, &from, &known) {
+        Some((mid, _, r)) => {
+            let why = format!("half way between overtone {} and the root {} reached from {}", n - 1, text(root.omega), seed.1);
+            (r, (mid, why))
+        }
+        None => (root, seed),
+    }
+}
+
+/// A complex number in a seed's description.
+fn text(w: Complex64) -> String {
+    format!("{:.6e}{:+.6e}i", w.re, w.im)
 }
 
 /// The overtone number of a converged root from the two nearest converged
