@@ -1627,3 +1627,25 @@ fn periodic_problems_write_mode_functions() {
     }
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn eigenvalue_problems_need_no_boundary_or_ends_option() {
+    // With no horizon and the parameter entering linearly, `spectrum` alone
+    // poses the eigenvalue problem a physicist means. Prolate spheroidal
+    // ((1 − x²)S')' + (λ − c²x²)S = 0 on (−1, 1): λ₀₀(c = 1) = 0.319000,
+    // λ₀₁(c = 1) = 2.593084 (Abramowitz & Stegun table 21.1, from memory);
+    // hydrogen, Z = 1, l = 0: E = −1/(2(n + 1)²) (exact).
+    let (v, code, err) =
+        run(&["spectrum", "-e", "((1-x^2)*S')' + (lam - c^2*x^2)*S = 0", "--var", "x", "--at", "c=1", "--overtones", "0..1", "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    let got: Vec<f64> = (0..2).map(|i| omega(&v["modes"][i]).0).collect();
+    assert!((got[0] - 0.319000).abs() < 5e-7 && (got[1] - 2.593084).abs() < 5e-6, "{got:?}");
+    let (v, code, err) = run(&["spectrum", "samples/hydrogen_radial.ode", "--at", "Z=1,l=0", "--overtones", "0..2", "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    for n in 0..3 {
+        let e = omega(&v["modes"][n]).0;
+        let want = -1.0 / (2.0 * ((n + 1) as f64).powi(2));
+        assert!((e - want).abs() < 1e-9, "n={n}: {e} vs {want}");
+    }
+    assert!(v["notes"][0].as_str().is_some_and(|n| n.contains("no horizon")), "{v}");
+}

@@ -922,7 +922,11 @@ fn bound_json(fname: &str, b: &BoundReport) -> Value {
             })
         })
         .collect();
-    json!({"frequency": fname, "boundary": "bound", "domain": dom, "continuum": finite_or_null(b.threshold), "method": "Chebyshev collocation (Boyd 2001)", "modes": ms})
+    let mut v = json!({"frequency": fname, "boundary": "bound", "domain": dom, "continuum": finite_or_null(b.threshold), "method": "Chebyshev collocation (Boyd 2001)", "modes": ms});
+    if !b.notes.is_empty() {
+        v["notes"] = json!(b.notes);
+    }
+    v
 }
 
 fn bound_csv(b: &BoundReport) -> String {
@@ -946,6 +950,9 @@ fn bound_text(fname: &str, source: &str, b: &BoundReport) -> String {
     let mut o = format!("bound states of {source} in {fname} on {}: Chebyshev collocation with ψ = 0 at both ends (Boyd 2001)\n", domain_text(b));
     if b.threshold.is_finite() {
         o.push_str(&format!("  continuum above {fname} = {}\n", b.threshold));
+    }
+    for n in &b.notes {
+        o.push_str(&format!("  note: {n}\n"));
     }
     o.push_str("  check: shooting from both ends (Frobenius / asymptotic series, Taylor continuation), Muller seeded by each eigenvalue\n");
     o.push('\n');

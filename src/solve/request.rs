@@ -298,6 +298,61 @@ pub struct CoupledReport {
     pub path: Option<super::continuation::Path>,
 }
 
+/// Bound states between the natural ends of a real eigenvalue problem:
+/// collocation where the parameter enters linearly (falling back to the
+/// problem between the interval's ends where it does not converge), the
+/// global method between the ends where it enters polynomially. `redirected`:
+/// a default (quasinormal) request on an equation with no horizon, said in a
+/// note.
+fn bound_route(
+    red: &Reduction,
+    req: &SpectrumRequest,
+    opts: &SpectrumOptions,
+    point: &[GRat],
+    freq: usize,
+    redirected: bool,
+) -> Result<(Body, Option<ModeFunctions>)> {
+    let why = redirected.then(|| format!(
+        "no horizon and the spectral parameter enters linearly: solved as a real eigenvalue problem (for quasinormal modes between chosen ends, give {opt_boundary} qnm with {opt_ends})",
+        opt_boundary = RequestInput::Boundary.mention(),
+        opt_ends = RequestInput::Ends.mention()
+    ));
+    let with_why = |note: String| match &why {
+        Some(w) => format!("{w}; {note}"),
+        None => note,
+    };
+    if super::collocation::linear_in(&red.field, &red.normal.q, freq)? || req.method == Method::Collocation {
+        let (b, f) = bound_states(red, req, opts)?;
+        if req.method == Method::Collocation || b.states.iter().all(|st| st.converged) {
+            return Ok((Body::Bound(BoundReport { notes: why.into_iter().collect(), ..b }), f));
+        }
+        // Collocation with ψ = 0 at the ends cannot tell the regular
+        // solution from the logarithmic one where the exponents at an end
+        // coincide (ψ ~ (1 − x)^(1/2) and (1 − x)^(1/2) log(1 − x) both
+        // vanish): the same interval as a problem between its ends, each
+        // end's regular exponent picked, solved by direct integration.
+        let given = match b.domain {
+            Domain::Finite(a, z) => Some([(Location::At(a), None), (Location::At(z), None)]),
+            Domain::HalfLine(a) => Some([(Location::At(a), None), (Location::Infinity, None)]),
+            Domain::Line => None,
+        };
+        let problem = given.map(|g| super::boundary::try_problem(&red.field, &red.normal.q, &red.q, point, freq, SpectrumKind::Bound, Some(g)));
+        let Some(Ok(bp)) = problem else { return Ok((Body::Bound(BoundReport { notes: why.into_iter().collect(), ..b }), f)) };
+        let note = with_why("collocation with ψ = 0 at the ends did not converge on every state asked for: the interval is solved as a problem between its ends (the regular exponent at each), by direct integration".to_string());
+        let report = between_ends_as(bp, Problem::Bound, opts, Some(note));
+        let f = ends_functions(req, &report);
+        return Ok((Body::Ends(report), f));
+    }
+    // The eigenvalue enters Q polynomially (ω² and ω, a normal-mode
+    // problem written in the frequency): the global spectral method
+    // between the natural ends, polished by direct integration.
+    let bp = super::boundary::try_problem(&red.field, &red.normal.q, &red.q, point, freq, SpectrumKind::Bound, None)?;
+    let note = "the spectral parameter enters Q beyond linearly: the eigenvalue problem is polynomial, solved between the ends (collocation of Q₀ + E·Q₁ does not apply)".to_string();
+    let report = between_ends_as(bp, Problem::Bound, opts, Some(note));
+    let f = ends_functions(req, &report);
+    Ok((Body::Ends(report), f))
+}
+
 /// Modes by direct integration between the ends of a boundary problem.
 #[derive(Debug)]
 pub struct EndsReport {
@@ -386,6 +441,9 @@ pub struct BoundReport {
     pub states: Vec<BoundState>,
     /// The shooting check of each converged state.
     pub checks: Vec<Option<BoundCheck>>,
+    /// Why the problem was posed this way, when a default request was read
+    /// as an eigenvalue problem.
+    pub notes: Vec<String>,
 }
 
 /// Barrier-top estimates (WKB or eikonal), not iterated eigenvalues.
@@ -879,19 +937,21 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
         return Ok(done(Body::Periodic(report), functions, None));
     }
     let red = super::spectrum::substitute_for_series(red, &point, &[freq])?;
-    if req.problem == Problem::Bound && req.ends.is_none() {
-        if super::collocation::linear_in(&red.field, &red.normal.q, freq)? || req.method == Method::Collocation {
-            let (b, f) = bound_states(&red, req, &opts)?;
-            return Ok(done(Body::Bound(b), f, None));
-        }
-        // The eigenvalue enters Q polynomially (ω² and ω, a normal-mode
-        // problem written in the frequency): the global spectral method
-        // between the natural ends, polished by direct integration.
-        let bp = super::boundary::try_problem(&red.field, &red.normal.q, &red.q, &point, freq, SpectrumKind::Bound, None)?;
-        let note = "the spectral parameter enters Q beyond linearly: the eigenvalue problem is polynomial, solved between the ends (collocation of Q₀ + E·Q₁ does not apply)".to_string();
-        let report = between_ends(bp, req, &opts, Some(note));
-        let f = ends_functions(req, &report);
-        return Ok(done(Body::Ends(report), f, None));
+    // With no horizon and the parameter entering linearly (an energy or a
+    // separation constant), the problem a default request means is an
+    // eigenvalue problem, not quasinormal modes.
+    let as_bound = req.problem == Problem::Quasinormal
+        && req.ends.is_none()
+        && req.couple.is_none()
+        && req.guess.is_none()
+        && super::collocation::linear_in(&red.field, &red.normal.q, freq)?
+        && super::boundary::try_problem(&red.field, &red.normal.q, &red.q, &point, freq, SpectrumKind::Quasinormal, None)
+            .is_ok_and(|bp| bp.ends.iter().all(|e| e.nature != super::boundary::Nature::Horizon));
+    if (req.problem == Problem::Bound || as_bound) && req.ends.is_none() {
+        let (body, f) = bound_route(&red, req, &opts, &point, freq, as_bound)?;
+        let mut n = done(body, f, None);
+        n.report.problem = Problem::Bound;
+        return Ok(n);
     }
     if req.method == Method::Collocation {
         return Err(method_error(format!(
@@ -1277,11 +1337,17 @@ fn eikonal_reduction(req: &SpectrumRequest, red: &Reduction, point: &[GRat], fre
 
 /// Modes by direct integration between the ends of a boundary problem.
 fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptions, note: Option<String>) -> EndsReport {
-    let real = req.problem == Problem::Bound && super::global::polynomial_in_omega(&bp);
-    let seeded = (opts.guess.is_none() && (req.problem == Problem::Quasinormal || real)).then(|| spectral_seeded(&bp, opts, real)).flatten();
+    between_ends_as(bp, req.problem, opts, note)
+}
+
+/// [`between_ends`] for the kind of spectrum `problem` (the request's, or
+/// the one a default request turned out to be).
+fn between_ends_as(bp: BoundaryProblem, problem: Problem, opts: &SpectrumOptions, note: Option<String>) -> EndsReport {
+    let real = problem == Problem::Bound && super::global::polynomial_in_omega(&bp);
+    let seeded = (opts.guess.is_none() && (problem == Problem::Quasinormal || real)).then(|| spectral_seeded(&bp, opts, real)).flatten();
     let from_spectral = seeded.is_some();
     let modes = seeded.unwrap_or_else(|| super::ends::modes(&bp, opts.overtones, opts.guess, opts.tol));
-    let spectrum = match req.problem {
+    let spectrum = match problem {
         Problem::Bound => Problem::Bound,
         _ if bp.ends[1].condition == Condition::Decaying => Problem::QuasiBound,
         p => p,
@@ -1719,7 +1785,7 @@ fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) 
         }
         _ => None,
     };
-    Ok((BoundReport { domain, threshold, states, checks }, functions))
+    Ok((BoundReport { domain, threshold, states, checks, notes: Vec::new() }, functions))
 }
 
 /// Quasinormal modes of a radial equation coupled to an angular one.
