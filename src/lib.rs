@@ -131,7 +131,7 @@ pub mod numeric {
     pub use crate::solve::request::{spectrum, CoupleRequest, Method, Problem, SpectrumReport, SpectrumRequest, ANGULAR_ORIGIN};
     pub use crate::solve::spectrum::SpectrumOptions;
     // Coupled equations: the joint parameter names, a link, an angular equation.
-    pub use crate::solve::coupled::{joint_names, try_angular, try_link, Link};
+    pub use crate::solve::coupled::{joint_names, try_angular, Link};
     // Boundary problems between given ends.
     pub use crate::solve::boundary::{Condition, GivenEnds, Location};
     // Every mode in a window of the complex plane.
@@ -230,11 +230,11 @@ pub mod record {
 /// an input of the request as its option, for a front end whose texts must
 /// read as the command line's (the Python package's documents); and
 /// [`command::read_point`], [`command::read_choices`], [`command::read_series`],
-/// [`command::read_ends`], [`command::asked_about`], [`command::asked_recurrence`]
+/// [`command::read_ends`], [`command::read_link`], [`command::asked_about`], [`command::asked_recurrence`]
 /// and [`command::derive_record`] read the texts a user writes for points, ends,
 /// exponent choices and series variables into the analysis's identities,
 /// as every front end must read them alike.
 pub mod command {
-    pub use crate::cli::points::{asked_about, asked_recurrence, derive_record, read_choices, read_ends, read_point, read_series};
+    pub use crate::cli::points::{asked_about, asked_recurrence, derive_record, read_choices, read_ends, read_link, read_point, read_series};
     pub use crate::cli::{flag, main_with_args, run_captured, Captured};
 }

@@ -4,7 +4,8 @@
 //! exponent choices (`--exponents POINT=CHOICE,…`), a series variable
 //! (`--series u=EXPR`) and the ends of a boundary problem (`--ends`). The
 //! Python binding and `check`'s re-derivation of records read the same
-//! texts through these functions (re-exported by `canonode::command`).
+//! texts through these functions (re-exported by `canonode::command`), and
+//! a link between coupled equations (`--link NAME = EXPR`) is read here too.
 //!
 //! A point is written as `classify` prints it: an expression in the
 //! equation's variable and parameters (`2*M`, `0`; compared exactly, so
@@ -13,6 +14,7 @@
 //! Errors carry spans into the text read and no origin: the caller says
 //! which input the text was.
 
+use crate::algebra::Field;
 use crate::analysis::canonical::Choices;
 use crate::analysis::{Analysis, Kind, Place, PointId};
 use crate::emit::record::{AskedRecurrence, RecurrenceRequest};
@@ -191,4 +193,34 @@ pub fn read_ends(text: &str) -> Result<GivenEnds> {
         Ok((location, condition))
     };
     Ok([one(l)?, one(r)?])
+}
+
+/// Reads a link `NAME = EXPR` (`--link`) over the joint names of a radial
+/// and an angular equation; spans are byte offsets into `text`.
+pub fn read_link(text: &str, joint: &Field, radial: &Field, angular: &Field) -> Result<crate::solve::coupled::Link> {
+    let Some(eq) = text.find('=') else {
+        return Err(usage("expected a link NAME = EXPR, e.g. 'lam = A + c^2 - 2*a*m*omega'").at(crate::syntax::Span::new(0, text.len())));
+    };
+    let target = text[..eq].trim().to_string();
+    let tspan = crate::syntax::Span::new(0, eq);
+    let in_radial = radial.names()[1..].contains(&target);
+    let in_angular = angular.names()[1..].contains(&target);
+    let angular_side = match (in_radial, in_angular) {
+        (true, false) => false,
+        (false, true) => true,
+        (true, true) => {
+            return Err(usage(format!("'{target}' is a parameter of both equations: a link sets a parameter of one of them")).at(tspan));
+        }
+        (false, false) => return Err(usage(format!("'{target}' is a parameter of neither equation")).at(tspan)),
+    };
+    let body = &text[eq + 1..];
+    let limits = crate::syntax::ParseLimits::default();
+    let shift = |e: Error| e.moved_by(eq + 1);
+    let expr = crate::syntax::parse_expr(body, &limits).map_err(shift)?;
+    let expr = crate::ode::lower_rational(joint, joint.names(), &[], &expr).map_err(shift)?;
+    if expr.uses_var(0) {
+        return Err(usage(format!("a link may not depend on the variable {}", joint.names()[0])).at(crate::syntax::Span::new(eq + 1, text.len())));
+    }
+    let slot = joint.names().iter().position(|n| *n == target).expect("a parameter of either equation is a joint name");
+    Ok(crate::solve::coupled::Link { target, expr, angular: angular_side, slot })
 }

@@ -109,36 +109,6 @@ pub fn joint_names(radial: &Field, angular: &Field) -> Vec<String> {
     names
 }
 
-/// Parses a link `NAME = EXPR` over the joint names; spans are byte offsets
-/// into `text`.
-pub fn try_link(text: &str, joint: &Field, radial: &Field, angular: &Field) -> Result<Link> {
-    let Some(eq) = text.find('=') else {
-        return Err(usage("expected a link NAME = EXPR, e.g. 'lam = A + c^2 - 2*a*m*omega'").at(crate::syntax::Span::new(0, text.len())));
-    };
-    let target = text[..eq].trim().to_string();
-    let tspan = crate::syntax::Span::new(0, eq);
-    let in_radial = radial.names()[1..].contains(&target);
-    let in_angular = angular.names()[1..].contains(&target);
-    let angular_side = match (in_radial, in_angular) {
-        (true, false) => false,
-        (false, true) => true,
-        (true, true) => {
-            return Err(usage(format!("'{target}' is a parameter of both equations: a link sets a parameter of one of them")).at(tspan));
-        }
-        (false, false) => return Err(usage(format!("'{target}' is a parameter of neither equation")).at(tspan)),
-    };
-    let body = &text[eq + 1..];
-    let limits = crate::syntax::ParseLimits::default();
-    let shift = |e: Error| e.moved_by(eq + 1);
-    let expr = crate::syntax::parse_expr(body, &limits).map_err(shift)?;
-    let expr = crate::ode::lower_rational(joint, joint.names(), &[], &expr).map_err(shift)?;
-    if expr.uses_var(0) {
-        return Err(usage(format!("a link may not depend on the variable {}", joint.names()[0])).at(crate::syntax::Span::new(eq + 1, text.len())));
-    }
-    let slot = joint.names().iter().position(|n| *n == target).expect("a parameter of either equation is a joint name");
-    Ok(Link { target, expr, angular: angular_side, slot })
-}
-
 /// Sets up the angular eigenvalue problem: known parameters substituted
 /// exactly, linked ones and the eigenvalue kept, the regular exponents at
 /// both ends of the interval between the two real regular points, the first
