@@ -619,7 +619,12 @@ fn point(red: &Reduction, req: &SpectrumRequest, freq: usize) -> Result<Vec<GRat
                 point[i + 1] = v.clone();
                 given[i + 1] = true;
             }
-            None => return Err(usage(format!("'{n}' is not a parameter of the equation")).at(*span).in_option(RequestInput::At)),
+            None => {
+                return Err(usage(format!("'{n}' is not a parameter of the equation"))
+                    .at(*span)
+                    .in_option(RequestInput::At)
+                    .note(format!("the parameters are: {}", names[1..].join(", "))))
+            }
         }
     }
     let missing: Vec<&str> = names.iter().zip(&given).filter(|(_, g)| !**g).map(|(n, _)| n.as_str()).collect();
