@@ -450,6 +450,10 @@ pub struct SpectrumReport {
     pub problem: Problem,
     /// The polynomial solutions, when derived: the section, or why there is none.
     pub polynomial: Option<std::result::Result<super::polynomial::PolynomialSolutions, String>>,
+    /// When the equation's variable was changed: the map and where the
+    /// ends, decided and solved in the physical variable, lie in the
+    /// written one (`solve::physical`).
+    pub change: Option<super::physical::ChangeReport>,
 }
 
 /// The closed-form part of a report.
@@ -575,7 +579,81 @@ fn point(red: &Reduction, req: &SpectrumRequest, freq: usize) -> Result<Vec<GRat
 /// Computes the spectrum a request asks for: the numeric route's modes with
 /// their evidence and, when asked, the closed form of a solvable problem
 /// (each exact value checked against the numeric modes by the renderer).
+///
+/// When the equation's variable was changed (`--subst`, `--at-infinity`),
+/// the ends, their roles and the domain are decided on the equation in its
+/// physical variable and the spectrum is solved there (`solve::physical`);
+/// the report's `change` says where the ends lie in the written variable.
 pub fn spectrum(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
+    if req.problem != Problem::Periodic {
+        if let Some((phys, chart)) = super::physical::physical(red)? {
+            return physical_spectrum(&phys, &chart, req);
+        }
+    }
+    spectrum_in(red, req)
+}
+
+/// [`spectrum`] on the physical equation `phys` of a changed variable:
+/// ends given in the written variable are carried to the physical one
+/// first, and the ends found are carried back for the report.
+fn physical_spectrum(phys: &Reduction, chart: &super::physical::Chart, req: &SpectrumRequest) -> Result<SpectrumReport> {
+    let (freq, _) = frequency(phys, req)?;
+    let point = point(phys, req, freq)?;
+    let carried = match (&req.ends, &req.couple) {
+        (Some(given), None) => {
+            let Some(ends) = chart.ends_to_physical(given, &point, freq) else {
+                return Err(usage(format!(
+                    "an end given in {} has no real place in {} under {}",
+                    chart.written, chart.physical, chart.map
+                ))
+                .in_option(RequestInput::Ends));
+            };
+            Some(SpectrumRequest {
+                problem: req.problem,
+                ends: Some(ends),
+                frequency: req.frequency.clone(),
+                values: req.values.clone(),
+                overtones: req.overtones,
+                method: req.method,
+                guess: req.guess,
+                tol: req.tol,
+                wkb_order: req.wkb_order,
+                eikonal_param: req.eikonal_param.clone(),
+                mode_functions: req.mode_functions,
+                couple: None,
+                closed_form: req.closed_form,
+                polynomial: req.polynomial,
+            })
+        }
+        _ => None,
+    };
+    let mut report = spectrum_in(phys, carried.as_ref().unwrap_or(req))?;
+    let ends = report_ends(&report);
+    report.change = Some(chart.report(&ends, &point, freq));
+    Ok(report)
+}
+
+/// The ends of the domain a report's modes were found between, left to
+/// right (none for a periodic problem or barrier estimates alone).
+fn report_ends(r: &SpectrumReport) -> Vec<Location> {
+    let closed = || match &r.closed {
+        ClosedSection::Found { form, .. } => form.ends.iter().map(|e| e.location).collect(),
+        _ => Vec::new(),
+    };
+    match &r.body {
+        Body::Recurrence(b) => vec![Location::At(b.setup.horizon_value), Location::Infinity],
+        Body::Ends(e) => e.problem.ends.iter().map(|e| e.location).collect(),
+        Body::Bound(b) => match bound_ends(b.domain) {
+            Some(ends) => ends.iter().map(|e| e.location).collect(),
+            None => vec![Location::Infinity],
+        },
+        Body::Exact => closed(),
+        Body::Estimates(_) | Body::Periodic(_) => Vec::new(),
+    }
+}
+
+/// [`spectrum`] on the equation as it is written.
+fn spectrum_in(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
     if req.method == Method::Exact {
         return exact_only(red, req);
     }
@@ -769,7 +847,16 @@ fn exact_only(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> 
         };
         return Err(method_error(format!("no closed form for this problem: {why}{extra}")));
     }
-    Ok(SpectrumReport { frequency: fname, var: red.var.clone(), body: Body::Exact, mode_functions: None, closed, problem: req.problem, polynomial })
+    Ok(SpectrumReport {
+        frequency: fname,
+        var: red.var.clone(),
+        body: Body::Exact,
+        mode_functions: None,
+        closed,
+        problem: req.problem,
+        polynomial,
+        change: None,
+    })
 }
 
 impl Body {
@@ -856,6 +943,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
             closed: ClosedSection::NotAsked,
             problem: req.problem,
             polynomial: None,
+            change: None,
         },
         freq,
         point: point.clone(),

@@ -1,0 +1,92 @@
+//! A change of variable (`--at-infinity`, `--subst`) does not change a
+//! boundary problem: its ends, their roles (outer horizon, infinity,
+//! ingoing, outgoing) and the domain are decided in the physical variable,
+//! and the spectrum equals the one of the equation as first written. Each
+//! check names its source; values recalled from memory say so.
+
+use canonode::command::run_captured;
+use serde_json::Value;
+
+fn run(args: &[&str]) -> (u8, String, String) {
+    let mut all = vec!["canonode".into()];
+    all.extend(args.iter().map(|a| a.into()));
+    let c = run_captured(all);
+    (c.code, c.stdout, c.stderr)
+}
+
+fn json(args: &[&str]) -> Value {
+    let (code, out, err) = run(args);
+    assert_eq!(code, 0, "{args:?}: {err}");
+    serde_json::from_str(&out).unwrap_or_else(|e| panic!("{args:?}: {e}: {out}"))
+}
+
+/// The first mode's ω, which must have converged.
+fn fundamental(doc: &Value) -> (f64, f64) {
+    let m = &doc["modes"][0];
+    assert_eq!(m["converged"], true, "{doc}");
+    (m["omega"][0].as_f64().expect("re"), m["omega"][1].as_f64().expect("im"))
+}
+
+#[test]
+fn reissner_nordstrom_seen_from_infinity_has_the_same_fundamental() {
+    // Without a change the fundamental (l = 1, q = 0.5, M = 1) is checked by
+    // direct integration in the same run; with r = 1/t the horizon is the
+    // smaller root of the two in t, and r = ∞ the finite point t = 0.
+    let rn = "samples/reissner_nordstrom_scalar.ode";
+    let at = "M=1,q=0.5,l=1";
+    let plain = json(&["spectrum", rn, "--at", at, "--format", "json"]);
+    let (re, im) = fundamental(&plain);
+    let check = &plain["modes"][0]["check"];
+    assert_eq!(check["method"], "integrate", "{plain}");
+    let (cre, cim) = (check["omega"][0].as_f64().unwrap(), check["omega"][1].as_f64().unwrap());
+    assert!((cre - re).abs() < 1e-10 && (cim - im).abs() < 1e-10, "{plain}");
+    let seen = json(&["spectrum", rn, "--at-infinity", "--at", at, "--format", "json"]);
+    let (sre, sim) = fundamental(&seen);
+    assert!((sre - re).abs() <= 1e-10 * re.abs() && (sim - im).abs() <= 1e-10 * re.abs(), "{sre} {sim} vs {re} {im}");
+    // The ends in both variables: r₊ = M + √(M² − q²) is t = 1/r₊, r = ∞ is t = 0.
+    let change = &seen["variable_change"];
+    assert_eq!(change["physical_variable"], "r", "{change}");
+    assert_eq!(change["written_variable"], "t", "{change}");
+    let r_plus = 1.0 + (1.0f64 - 0.25).sqrt();
+    let ends = change["ends"].as_array().expect("ends");
+    assert!((ends[0]["physical"].as_f64().unwrap() - r_plus).abs() < 1e-12, "{change}");
+    assert!((ends[0]["written"].as_f64().unwrap() - 1.0 / r_plus).abs() < 1e-12, "{change}");
+    assert_eq!(ends[1]["physical"], "inf", "{change}");
+    assert!(ends[1]["written"].as_f64().is_some_and(|t| t.abs() < 1e-14), "{change}");
+    // The words say what is true in r: the outer root, chosen ingoing, outgoing at r = ∞.
+    let (_, text, _) = run(&["spectrum", rn, "--at-infinity", "--at", at]);
+    assert!(text.contains("the outer real root") && text.contains("r ≈ 1.866025403784 is t ≈ 0.535898384862"), "{text}");
+    assert!(text.contains("at ∞: the outgoing branch"), "{text}");
+}
+
+#[test]
+fn regge_wheeler_seen_from_infinity_gives_leaver_s_fundamental() {
+    // Leaver 1985 (from memory), Schwarzschild s = 2, l = 2, M = 1:
+    // 0.37367168 − 0.08896232i, to half a unit in the last place.
+    let doc = json(&["spectrum", "samples/regge_wheeler.ode", "--at-infinity", "--at", "s=2,l=2,M=1", "--format", "json"]);
+    let (re, im) = fundamental(&doc);
+    assert!((re - 0.37367168).abs() <= 5.1e-9 && (im + 0.08896232).abs() <= 5.1e-9, "{re} {im}");
+}
+
+#[test]
+fn ends_given_in_the_written_variable_are_carried_to_the_physical_one() {
+    // In t = 1/r the horizon r = 2 is t = 1/2 and infinity is t = 0, written
+    // left to right in t; the map reverses the order, so they become 2..∞ in
+    // r with their conditions. Leaver 1985 (from memory) as above.
+    let args = ["spectrum", "samples/regge_wheeler.ode", "--at-infinity", "--at", "s=2,l=2,M=1", "--ends", "0:outgoing..0.5:into", "--format", "json"];
+    let doc = json(&args);
+    let (re, im) = fundamental(&doc);
+    assert!((re - 0.37367168).abs() <= 5.1e-9 && (im + 0.08896232).abs() <= 5.1e-9, "{re} {im}");
+}
+
+#[test]
+fn a_map_that_is_not_one_to_one_says_where_it_cannot_place_an_end() {
+    // r = x² has two real preimages of the horizon r = 2: the spectrum is
+    // the physical one (Leaver 1985, from memory), the place in x is not guessed.
+    let doc = json(&["spectrum", "samples/regge_wheeler.ode", "--subst", "r=x^2", "--at", "s=2,l=2,M=1", "--format", "json"]);
+    let (re, im) = fundamental(&doc);
+    assert!((re - 0.37367168).abs() <= 5.1e-9 && (im + 0.08896232).abs() <= 5.1e-9, "{re} {im}");
+    let horizon = &doc["variable_change"]["ends"][0];
+    assert!(horizon["written"].is_null(), "{horizon}");
+    assert!(horizon["undecided"].as_str().is_some_and(|s| s.contains("not one-to-one")), "{horizon}");
+}
