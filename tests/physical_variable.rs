@@ -73,7 +73,8 @@ fn ends_given_in_the_written_variable_are_carried_to_the_physical_one() {
     // In t = 1/r the horizon r = 2 is t = 1/2 and infinity is t = 0, written
     // left to right in t; the map reverses the order, so they become 2..∞ in
     // r with their conditions. Leaver 1985 (from memory) as above.
-    let args = ["spectrum", "samples/regge_wheeler.ode", "--at-infinity", "--at", "s=2,l=2,M=1", "--ends", "0:outgoing..0.5:into", "--format", "json"];
+    let args =
+        ["spectrum", "samples/regge_wheeler.ode", "--at-infinity", "--at", "s=2,l=2,M=1", "--ends", "0:outgoing..0.5:into", "--format", "json"];
     let doc = json(&args);
     let (re, im) = fundamental(&doc);
     assert!((re - 0.37367168).abs() <= 5.1e-9 && (im + 0.08896232).abs() <= 5.1e-9, "{re} {im}");

@@ -134,10 +134,14 @@ fn is_real(z: Complex64) -> bool {
 
 impl Chart {
     /// g = N/D at the values: N's and D's coefficients in the written
-    /// variable, or `None` when the map depends on the spectral parameter.
+    /// variable (D with g's integer scale), or `None` when the map depends
+    /// on the spectral parameter.
     fn parts(&self, values: &[GRat], freq: usize) -> Option<(Vec<Complex64>, Vec<Complex64>)> {
         let (num, a) = numeric_coefficients(self.g.num(), values, freq);
         let (den, b) = numeric_coefficients(&self.g.den_expanded(), values, freq);
+        // The positive integer part of the denominator scales g's values, not its roots.
+        let scale = crate::algebra::Rat::int(self.g.scale().clone()).to_f64();
+        let den: Vec<Complex64> = den.into_iter().map(|c| c * scale).collect();
         // The denominator's scale divides the whole fraction: it does not move the roots.
         (!(a || b) && !den.is_empty()).then_some((num, den))
     }
@@ -153,9 +157,8 @@ impl Chart {
         let (poly, at_infinity) = match end {
             Location::At(r0) => {
                 let n = num.len().max(den.len());
-                let p: Vec<Complex64> = (0..n)
-                    .map(|i| num.get(i).copied().unwrap_or_default() - r0 * den.get(i).copied().unwrap_or_default())
-                    .collect();
+                let p: Vec<Complex64> =
+                    (0..n).map(|i| num.get(i).copied().unwrap_or_default() - r0 * den.get(i).copied().unwrap_or_default()).collect();
                 let mut p = p;
                 while p.last().is_some_and(|x| x.norm() <= 1e-14 * (1.0 + r0.abs())) {
                     p.pop();
@@ -216,7 +219,12 @@ impl Chart {
     /// The given ends (in the written variable) carried to the physical
     /// one, left to right there (a map that reverses the order swaps them
     /// with their conditions); `None` when an end has no physical place.
-    pub fn ends_to_physical(&self, given: &[(Location, Option<Condition>); 2], values: &[GRat], freq: usize) -> Option<[(Location, Option<Condition>); 2]> {
+    pub fn ends_to_physical(
+        &self,
+        given: &[(Location, Option<Condition>); 2],
+        values: &[GRat],
+        freq: usize,
+    ) -> Option<[(Location, Option<Condition>); 2]> {
         let a = (self.to_physical(given[0].0, values, freq)?, given[0].1);
         let b = (self.to_physical(given[1].0, values, freq)?, given[1].1);
         let swap = match (a.0, b.0) {
@@ -239,7 +247,7 @@ impl ChangeReport {
     pub fn sentence(&self) -> String {
         let (r, t) = (&self.physical, &self.written);
         let mut s = format!(
-            "the equation is written in {t} with {}; the ends and their roles (outer horizon, infinity, ingoing, outgoing) are decided in {r}, the physical variable, and the spectrum is solved there (it does not depend on the variable)",
+            "the equation is written in {t} with {}; the ends, their roles (outer horizon, infinity, ingoing, outgoing, centre) and the domain are decided in {r}, the physical variable, and the spectrum is solved there (it does not depend on the variable)",
             self.map
         );
         let places: Vec<String> = self
@@ -290,6 +298,9 @@ mod tests {
         let given = [(Location::At(0.0), Some(Condition::Outgoing)), (Location::At(0.5), Some(Condition::IntoHorizon))];
         let ends = c.ends_to_physical(&given, &values, 1).expect("ends");
         assert_eq!(ends, [(Location::At(2.0), Some(Condition::IntoHorizon)), (Location::Infinity, Some(Condition::Outgoing))]);
+        let c = chart("r=1/(2*t)");
+        assert_eq!(c.to_physical(Location::At(0.25), &values, 1), Some(Location::At(2.0)));
+        assert_eq!(c.written_place(Location::At(2.0), &values, 1), WrittenPlace::At(0.25));
         let c = chart("r=t^2");
         assert!(matches!(c.written_place(Location::At(4.0), &values, 1), WrittenPlace::Undecided(_)));
         assert_eq!(c.to_physical(Location::At(-2.0), &values, 1), Some(Location::At(4.0)));

@@ -599,38 +599,38 @@ pub fn spectrum(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport
 fn physical_spectrum(phys: &Reduction, chart: &super::physical::Chart, req: &SpectrumRequest) -> Result<SpectrumReport> {
     let (freq, _) = frequency(phys, req)?;
     let point = point(phys, req, freq)?;
-    let carried = match (&req.ends, &req.couple) {
-        (Some(given), None) => {
-            let Some(ends) = chart.ends_to_physical(given, &point, freq) else {
-                return Err(usage(format!(
-                    "an end given in {} has no real place in {} under {}",
-                    chart.written, chart.physical, chart.map
-                ))
-                .in_option(RequestInput::Ends));
-            };
-            Some(SpectrumRequest {
-                problem: req.problem,
-                ends: Some(ends),
-                frequency: req.frequency.clone(),
-                values: req.values.clone(),
-                overtones: req.overtones,
-                method: req.method,
-                guess: req.guess,
-                tol: req.tol,
-                wkb_order: req.wkb_order,
-                eikonal_param: req.eikonal_param.clone(),
-                mode_functions: req.mode_functions,
-                couple: None,
-                closed_form: req.closed_form,
-                polynomial: req.polynomial,
-            })
-        }
-        _ => None,
-    };
+    let carried = carried_request(chart, req, &point, freq)?;
     let mut report = spectrum_in(phys, carried.as_ref().unwrap_or(req))?;
     let ends = report_ends(&report);
     report.change = Some(chart.report(&ends, &point, freq));
     Ok(report)
+}
+
+/// A request whose ends, given in the written variable of `chart`, are
+/// carried to the physical one (`None`: nothing to carry, the request
+/// serves as it is; a coupled solve does not read the ends).
+fn carried_request(chart: &super::physical::Chart, req: &SpectrumRequest, point: &[GRat], freq: usize) -> Result<Option<SpectrumRequest>> {
+    let (Some(given), None) = (&req.ends, &req.couple) else { return Ok(None) };
+    let Some(ends) = chart.ends_to_physical(given, point, freq) else {
+        return Err(usage(format!("an end given in {} has no real place in {} under {}", chart.written, chart.physical, chart.map))
+            .in_option(RequestInput::Ends));
+    };
+    Ok(Some(SpectrumRequest {
+        problem: req.problem,
+        ends: Some(ends),
+        frequency: req.frequency.clone(),
+        values: req.values.clone(),
+        overtones: req.overtones,
+        method: req.method,
+        guess: req.guess,
+        tol: req.tol,
+        wkb_order: req.wkb_order,
+        eikonal_param: req.eikonal_param.clone(),
+        mode_functions: req.mode_functions,
+        couple: None,
+        closed_form: req.closed_form,
+        polynomial: req.polynomial,
+    }))
 }
 
 /// The ends of the domain a report's modes were found between, left to
@@ -1319,8 +1319,17 @@ pub fn region_setup(red: &Reduction, req: &SpectrumRequest) -> Result<RegionSetu
         ))
         .in_option(RequestInput::Region));
     }
+    // After a change of variable the window's modes are those of the
+    // physical equation, between the ends decided there (`solve::physical`).
+    let physical = super::physical::physical(red)?;
+    let red = physical.as_ref().map_or(red, |(p, _)| p);
     let (freq, frequency) = frequency(red, req)?;
     let point = point(red, req, freq)?;
+    let carried = match &physical {
+        Some((_, chart)) => carried_request(chart, req, &point, freq)?,
+        None => None,
+    };
+    let req = carried.as_ref().unwrap_or(req);
     let opts = SpectrumOptions { freq, values: point.clone(), overtones: req.overtones, tol: req.tol, guess: None, seeds: Vec::new() };
     let red = super::spectrum::substitute(red, &point, freq)?;
     let (problem, classic) = boundary_problem(&red, req, &point, freq);

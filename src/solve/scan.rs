@@ -668,7 +668,16 @@ fn quasi_bound_at(r: &Reduction, rec: &Recurrence, setup: Setup, opts: &Spectrum
 /// (the rate at infinity decaying), each level of a first point seeded by
 /// its own hydrogen-like estimate, and the check runs between the ends of
 /// the quasi-bound boundary problem.
+///
+/// After a change of variable the points are solved on the physical
+/// equation, whose ends and roles decide the modes (`solve::physical`).
 pub fn survey_solver<'a>(red: Reduction, varied: &[usize], quasi_bound: bool) -> PointSolver<'a> {
+    let red = match super::physical::physical(&red) {
+        Ok(Some((phys, _))) => phys,
+        Ok(None) => red,
+        // Every point says why (never solved with the ends of the written variable).
+        Err(e) => return Box::new(move |_: &SpectrumOptions, _: bool| Err(e.clone())),
+    };
     let sym = std::cell::OnceCell::new();
     let varied = varied.to_vec();
     Box::new(move |o: &SpectrumOptions, check: bool| {

@@ -225,7 +225,8 @@ pub fn qnm_choice(red: &Reduction, an: &crate::analysis::Analysis, opts: &Spectr
             }
             Place::Roots(f) => {
                 // The outermost real root of the factor (the labels were decided there).
-                if let Some(z) = vals.roots(f).and_then(|r| r.into_iter().rfind(|z| z.im.abs() < 1e-10 * z.re.abs().max(1.0))) {
+                let outer = crate::analysis::labels::outer_root(&vals, f, an.physical.as_ref());
+                if let Some(z) = outer.filter(|z| z.im.abs() < 1e-10 * z.re.abs().max(1.0)) {
                     if best_root.is_none_or(|(b, _)| z.re > b) {
                         best_root = Some((z.re, i));
                     }
