@@ -91,3 +91,30 @@ fn a_map_that_is_not_one_to_one_says_where_it_cannot_place_an_end() {
     assert!(horizon["written"].is_null(), "{horizon}");
     assert!(horizon["undecided"].as_str().is_some_and(|s| s.contains("not one-to-one")), "{horizon}");
 }
+
+#[test]
+fn classify_seen_from_infinity_picks_the_outer_horizon_and_the_outgoing_wave() {
+    // In t = 1/r the larger root of q²t² − 2Mt + 1 is the inner horizon; the
+    // labels are decided at the outer one, t = 1/r₊, and t = 0 is r = ∞.
+    let rn = "samples/reissner_nordstrom_scalar.ode";
+    let at = "M=1,q=0.5,l=1,omega=0.3";
+    let doc = json(&["classify", rn, "--at-infinity", "--boundary", "qnm", "--at", at, "--format", "json"]);
+    let choices: Vec<&str> = doc["boundary"]["choices"].as_array().expect("choices").iter().filter_map(Value::as_str).collect();
+    assert_eq!(choices, ["at 0 (r = ∞): the outgoing branch (number 2)", "at θ (r ≈ 1.8660254038): the ingoing exponent (number 2)"], "{doc}");
+    // The branch picked at t = 0 is e^(+iω/t) = e^(+iωr): outgoing with e^(−iωt).
+    let zero = &doc["singular_points"][0];
+    assert_eq!(zero["where"], "t = 0", "{zero}");
+    let branch = zero["formal_solutions"][1].as_str().expect("a formal solution");
+    assert!(branch.starts_with("exp(I*omega*t^(-1))"), "{branch}");
+    // At t = 1/r₊ the ingoing exponent of the unknown is −iω/(2κ₊), κ₊ =
+    // (r₊ − r₋)/(2r₊²) the surface gravity (common practice): exponent number 2 there.
+    let (code, text, err) = run(&["classify", rn, "--at-infinity", "--boundary", "qnm", "--at", at]);
+    assert_eq!(code, 0, "{err}");
+    let (rp, rm) = (1.0 + 0.75f64.sqrt(), 1.0 - 0.75f64.sqrt());
+    let kappa = (rp - rm) / (2.0 * rp * rp);
+    let line = text.lines().find(|l| l.trim_start().starts_with(&format!("at {:.10}+0.0000000000i:", 1.0 / rp))).expect("the values at 1/r₊");
+    let second = line.rsplit(", ").next().expect("two exponents");
+    let im: f64 = second.trim().trim_end_matches('i').split_once('-').and_then(|(_, x)| x.parse().ok()).expect("an imaginary part");
+    assert!((im - 0.3 / (2.0 * kappa)).abs() < 1e-9, "{line}");
+    assert!(text.contains("exponents of the unknown:  1 outgoing,  2 ingoing"), "{text}");
+}
