@@ -569,3 +569,36 @@ fn a_quasi_bound_survey_equals_each_point_s_own_levels() {
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("--boundary"), "{}", String::from_utf8_lossy(&o.stderr));
 }
+
+#[test]
+fn a_survey_with_no_exact_recurrence_gives_each_point_s_own_spectrum() {
+    // Schwarzschild–de Sitter: both horizons are roots of a cubic, so no
+    // exact recurrence sets up and the modes come from the continued
+    // fraction of the numeric series between the horizons, as in
+    // `spectrum`. Each point (the first seeded by the global spectral
+    // method, the others by their neighbour) equals that point's own
+    // `spectrum` run, and carries its direct-integration check.
+    let sds = "samples/schwarzschild_de_sitter_scalar.ode";
+    let out = ok(&["scan", sds, "--vary", "Lambda=0.02:0.04:0.01", "--at", "M=1,l=1", "--overtones", "0..1", "--format", "json"]);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let points = v["points"].as_array().expect("points");
+    assert_eq!(points.len(), 3, "{out}");
+    let pair = |x: &serde_json::Value| (x[0].as_f64().unwrap(), x[1].as_f64().unwrap());
+    for p in points {
+        let lambda = p["value"].as_f64().unwrap();
+        let at = format!("M=1,l=1,Lambda={lambda}");
+        let own: serde_json::Value = serde_json::from_str(&ok(&["spectrum", sds, "--at", &at, "--overtones", "0..1", "--format", "json"])).unwrap();
+        assert!(own["series"].is_object(), "{own}");
+        let modes = p["modes"].as_array().expect("modes");
+        assert_eq!(modes.len(), 2, "{p}");
+        for (m, o) in modes.iter().zip(own["modes"].as_array().expect("own modes")) {
+            assert_eq!(m["converged"], true, "{p}");
+            let (w, x) = (pair(&m["omega"]), pair(&o["omega"]));
+            let size = w.0.hypot(w.1);
+            assert!((w.0 - x.0).hypot(w.1 - x.1) <= 1e-10 * size, "Λ = {lambda}: {w:?} vs {x:?}");
+            assert_eq!(m["check"]["method"], "integrate", "{p}");
+            let c = pair(&m["check"]["omega"]);
+            assert!((c.0 - w.0).hypot(c.1 - w.1) <= 1e-9 * size, "Λ = {lambda}: check {c:?} vs {w:?}");
+        }
+    }
+}

@@ -143,7 +143,7 @@ impl Chart {
         let scale = crate::algebra::Rat::int(self.g.scale().clone()).to_f64();
         let den: Vec<Complex64> = den.into_iter().map(|c| c * scale).collect();
         // The denominator's scale divides the whole fraction: it does not move the roots.
-        (!(a || b) && !den.is_empty()).then_some((num, den))
+        (!(a || b || den.is_empty())).then_some((num, den))
     }
 
     /// Where the physical end `end` lies in the written variable: the one

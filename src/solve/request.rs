@@ -1016,7 +1016,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
                     Method::Integrate => between_ends(bp, req, &opts, None),
                     _ => {
                         let why = format!("the exact recurrence could not be set up ({})", e.message);
-                        match series_between_ends(bp, req, &opts, &red.var, &why) {
+                        match series_between_ends(bp, req.problem, &opts, &red.var, &why) {
                             Ok(report) => report,
                             Err(b) if req.method == Method::Cf => {
                                 return Err(method_error(format!("{why}, and the numeric series cannot be set up either: {}", b.1.message)))
@@ -1043,7 +1043,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
         // (anti-de Sitter): the numeric series between the ends does.
         let bp = problem?;
         let why = "the exact recurrence is not derived for a regular boundary at infinity";
-        let report = match series_between_ends(bp, req, &opts, &red.var, why) {
+        let report = match series_between_ends(bp, req.problem, &opts, &red.var, why) {
             Ok(report) => report,
             Err(b) if req.method == Method::Cf => return Err(method_error(format!("the numeric series cannot be set up: {}", b.1.message))),
             Err(b) => {
@@ -1380,9 +1380,9 @@ fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptio
 /// from its root; seeds from the guess or the global spectral method. `why`
 /// says why the exact recurrence did not serve. Gives the problem back with
 /// the reason when the series cannot be set up or has no seed.
-fn series_between_ends(
+pub(crate) fn series_between_ends(
     bp: BoundaryProblem,
-    req: &SpectrumRequest,
+    problem: Problem,
     opts: &SpectrumOptions,
     var: &str,
     why: &str,
@@ -1391,21 +1391,27 @@ fn series_between_ends(
         Ok(s) => s,
         Err(e) => return Err(Box::new((bp, e))),
     };
-    let mut seeds = if opts.guess.is_none() { super::global::seeds(&bp, opts.overtones) } else { Vec::new() };
+    // Seeds given (a survey's neighbour) are used as they are.
+    let neighbour = !opts.seeds.is_empty();
+    let mut seeds = match (neighbour, opts.guess) {
+        (true, _) => opts.seeds.clone(),
+        (false, None) => super::global::seeds(&bp, opts.overtones),
+        (false, Some(_)) => Vec::new(),
+    };
     if seeds.is_empty() && opts.guess.is_none() {
         // The lowest overtone alone; the ladder extrapolates from it.
         seeds = super::global::seeds(&bp, (opts.overtones.0, opts.overtones.0));
     }
     // Without a guess the overtones are counted from the fundamental: the
     // ladder climbs from 0 and the range asked for is kept.
-    let climb = opts.guess.is_none() && opts.overtones.0 > 0;
+    let climb = !neighbour && opts.guess.is_none() && opts.overtones.0 > 0;
     if climb {
         seeds = super::global::seeds(&bp, (0, opts.overtones.1));
         if seeds.is_empty() {
             seeds = super::global::seeds(&bp, (0, 0));
         }
     }
-    let from_spectral = !seeds.is_empty();
+    let from_spectral = !neighbour && !seeds.is_empty();
     let o = SpectrumOptions { seeds, overtones: if climb { (0, opts.overtones.1) } else { opts.overtones }, ..opts.clone() };
     let solve = |n: u32, seed: Complex64| super::cf::find_root(&s.recurrence, n as usize, seed, opts.tol, 64, 1 << 17);
     let cf_modes = match super::spectrum::overtones(&o, &|_| None, &solve) {
@@ -1424,7 +1430,7 @@ fn series_between_ends(
             EndMode { n: m.n, root, seed: super::ends::Seed { omega: seed, from: "the continued fraction's root, 1e-4 away".into() } }
         })
         .collect();
-    let given = if from_spectral { o.seeds.len() } else { usize::from(opts.guess.is_some()) };
+    let given = if from_spectral || neighbour { o.seeds.len() } else { usize::from(opts.guess.is_some()) };
     let wanted = (opts.overtones.1 - opts.overtones.0 + 1) as usize;
     let mut numbering: Vec<String> = Vec::new();
     if from_spectral {
@@ -1444,7 +1450,7 @@ fn series_between_ends(
     let checks = modes.iter().map(|_| None).collect();
     let check_note = "second method: direct integration between the ends, from 1e-4 away from each continued-fraction root".to_string();
     let series = SeriesReport { description: s.description.clone(), radius: s.radius, terms: s.recurrence.terms.len(), modes: cf_modes };
-    Ok(EndsReport { problem: bp, modes, note, numbering, spectrum: req.problem, checks, check_note, series: Some(series) })
+    Ok(EndsReport { problem: bp, modes, note, numbering, spectrum: problem, checks, check_note, series: Some(series) })
 }
 
 /// Quasinormal modes with no guess seeded by the global spectral method

@@ -546,10 +546,50 @@ fn continues(last: &[Complex64], second: Option<&[Complex64]>, next: Option<&[Co
 /// The modes of one equation at one grid point: parameters substituted
 /// exactly, the recurrence derived, seeds from WKB (wkb::SEED_ORDER) when no
 /// neighbour gave them, the integration check when asked.
+///
+/// Where the exact recurrence cannot be set up (ends that are roots of a
+/// cubic, two horizons: Schwarzschild–de Sitter), quasinormal modes come
+/// from the continued fraction of the numeric series between the ends, as
+/// `spectrum` finds them (`series_point`).
 pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool, quasi_bound: bool) -> Result<SolvedPoint> {
     let r = super::spectrum::substitute_for_series(red, &opts.values, &[opts.freq])?;
-    let (rec, setup) = qnm_recurrence(&r, opts)?;
-    modes_at(red, Some(&r), &rec, setup, opts, check, quasi_bound)
+    match qnm_recurrence(&r, opts) {
+        Ok((rec, setup)) => modes_at(red, Some(&r), &rec, setup, opts, check, quasi_bound),
+        Err(e) if e.kind == crate::error::ErrorKind::Usage && !quasi_bound => series_point(&r, opts, check, e),
+        Err(e) => Err(e),
+    }
+}
+
+/// The quasinormal modes at a point (`r` the equation at the point's
+/// values) from the numeric series between the ends of its boundary
+/// problem (`request::series_between_ends`, the route `spectrum` takes
+/// when the exact recurrence does not set up: seeded by the neighbour's
+/// modes, else by the global spectral method), each checked by direct
+/// integration between the ends when `check`; `exact` is why the exact
+/// recurrence did not serve, returned when the series cannot be set up
+/// either.
+fn series_point(r: &Reduction, opts: &SpectrumOptions, check: bool, exact: crate::error::Error) -> Result<SolvedPoint> {
+    let kind = super::boundary::SpectrumKind::Quasinormal;
+    let Ok(bp) = super::boundary::try_problem(&r.field, &r.normal.q, &r.q, &opts.values, opts.freq, kind, None) else { return Err(exact) };
+    let why = format!("the exact recurrence could not be set up ({})", exact.message);
+    let report = match super::request::series_between_ends(bp, super::request::Problem::Quasinormal, opts, &r.var, &why) {
+        Ok(report) => report,
+        Err(b) => return Err(b.1),
+    };
+    let Some(series) = report.series else { return Err(exact) };
+    // The series' modes with their checks (direct integration from 1e-4
+    // away from each root, as in `spectrum`); a check that did not converge
+    // leaves its columns empty.
+    Ok(series
+        .modes
+        .into_iter()
+        .map(|m| {
+            let c =
+                report.modes.iter().find(|e| e.n == m.n).filter(|_| check && m.root.converged).and_then(|e| e.root.converged.then_some(e.root.omega));
+            (m, c)
+        })
+        .collect::<PointModes>()
+        .into())
 }
 
 /// The modes at a point from its recurrence and set-up; `sub` is the
