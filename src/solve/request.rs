@@ -813,7 +813,23 @@ fn exact_setup(red: &Reduction, req: &SpectrumRequest) -> Result<ExactSetup> {
 /// The closed form of the request's problem alone, with the ends found as
 /// `Method::Exact` finds them, and the spectral parameter's name (derivation
 /// records use it; no numeric route runs).
+///
+/// After a change of variable the closed form is the physical equation's,
+/// between the ends decided there, as in [`spectrum`].
 pub fn closed_form(red: &Reduction, req: &SpectrumRequest) -> Result<(String, ClosedSection)> {
+    if req.problem != Problem::Periodic {
+        if let Some((phys, chart)) = super::physical::physical(red)? {
+            let (freq, _) = frequency(&phys, req)?;
+            let point = point(&phys, req, freq)?;
+            let carried = carried_request(&chart, req, &point, freq)?;
+            return closed_form_in(&phys, carried.as_ref().unwrap_or(req));
+        }
+    }
+    closed_form_in(red, req)
+}
+
+/// [`closed_form`] on the equation as it is written.
+fn closed_form_in(red: &Reduction, req: &SpectrumRequest) -> Result<(String, ClosedSection)> {
     let ExactSetup { freq, fname, point, ends } = exact_setup(red, req)?;
     Ok((fname, closed_section(red, req, freq, &point, ends?)))
 }
