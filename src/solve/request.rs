@@ -1239,7 +1239,7 @@ fn rated_ends(bp: &BoundaryProblem) -> bool {
 /// True for a horizon on the left and a regular boundary at infinity on the
 /// right (an anti-de Sitter black hole), the ends the numeric series takes
 /// where the exact recurrence route does not.
-fn horizon_to_regular_infinity(bp: &BoundaryProblem) -> bool {
+pub(crate) fn horizon_to_regular_infinity(bp: &BoundaryProblem) -> bool {
     use super::boundary::Nature;
     bp.ends[0].nature == Nature::Horizon && bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::Regular
 }

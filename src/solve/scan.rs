@@ -555,9 +555,21 @@ pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool, quasi_
     let r = super::spectrum::substitute_for_series(red, &opts.values, &[opts.freq])?;
     match qnm_recurrence(&r, opts) {
         Ok((rec, setup)) => modes_at(red, Some(&r), &rec, setup, opts, check, quasi_bound),
-        Err(e) if e.kind == crate::error::ErrorKind::Usage && !quasi_bound => series_point(&r, opts, check, e),
+        Err(e) if e.kind == crate::error::ErrorKind::Usage && !quasi_bound => {
+            let why = format!("the exact recurrence could not be set up ({})", e.message);
+            series_point(&r, opts, check, &why).map_err(|_| e)
+        }
         Err(e) => Err(e),
     }
+}
+
+/// True when the point's quasinormal-mode problem runs from a horizon to a
+/// regular boundary at infinity (anti-de Sitter), which `spectrum` solves
+/// by the numeric series and never by the exact recurrence.
+fn regular_infinity_point(red: &Reduction, opts: &SpectrumOptions) -> bool {
+    let kind = super::boundary::SpectrumKind::Quasinormal;
+    super::boundary::try_problem(&red.field, &red.normal.q, &red.q, &opts.values, opts.freq, kind, None)
+        .is_ok_and(|bp| super::request::horizon_to_regular_infinity(&bp))
 }
 
 /// The quasinormal modes at a point (`r` the equation at the point's
@@ -565,18 +577,18 @@ pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool, quasi_
 /// problem (`request::series_between_ends`, the route `spectrum` takes
 /// when the exact recurrence does not set up: seeded by the neighbour's
 /// modes, else by the global spectral method), each checked by direct
-/// integration between the ends when `check`; `exact` is why the exact
-/// recurrence did not serve, returned when the series cannot be set up
-/// either.
-fn series_point(r: &Reduction, opts: &SpectrumOptions, check: bool, exact: crate::error::Error) -> Result<SolvedPoint> {
+/// integration between the ends when `check`; `why` says why the exact
+/// recurrence did not serve.
+fn series_point(r: &Reduction, opts: &SpectrumOptions, check: bool, why: &str) -> Result<SolvedPoint> {
     let kind = super::boundary::SpectrumKind::Quasinormal;
-    let Ok(bp) = super::boundary::try_problem(&r.field, &r.normal.q, &r.q, &opts.values, opts.freq, kind, None) else { return Err(exact) };
-    let why = format!("the exact recurrence could not be set up ({})", exact.message);
-    let report = match super::request::series_between_ends(bp, super::request::Problem::Quasinormal, opts, &r.var, &why) {
+    let bp = super::boundary::try_problem(&r.field, &r.normal.q, &r.q, &opts.values, opts.freq, kind, None)?;
+    let report = match super::request::series_between_ends(bp, super::request::Problem::Quasinormal, opts, &r.var, why) {
         Ok(report) => report,
         Err(b) => return Err(b.1),
     };
-    let Some(series) = report.series else { return Err(exact) };
+    let Some(series) = report.series else {
+        return Err(crate::error::Error::new(crate::error::ErrorKind::Internal, "the numeric series gave no modes"));
+    };
     // The series' modes with their checks (direct integration from 1e-4
     // away from each root, as in `spectrum`); a check that did not converge
     // leaves its columns empty.
@@ -721,6 +733,10 @@ pub fn survey_solver<'a>(red: Reduction, varied: &[usize], quasi_bound: bool) ->
     let sym = std::cell::OnceCell::new();
     let varied = varied.to_vec();
     Box::new(move |o: &SpectrumOptions, check: bool| {
+        if !quasi_bound && regular_infinity_point(&red, o) {
+            let r = super::spectrum::substitute_for_series(&red, &o.values, &[o.freq])?;
+            return series_point(&r, o, check, "the exact recurrence is not derived for a regular boundary at infinity");
+        }
         let s: &Option<Symbolic> = sym.get_or_init(|| Symbolic::new(&red, o, &varied));
         match s.as_ref().and_then(|s| s.at(o)) {
             Some((rec, setup)) => modes_at(&red, None, rec, setup, o, check, quasi_bound),
