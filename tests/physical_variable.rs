@@ -118,3 +118,30 @@ fn classify_seen_from_infinity_picks_the_outer_horizon_and_the_outgoing_wave() {
     assert!((im - 0.3 / (2.0 * kappa)).abs() < 1e-9, "{line}");
     assert!(text.contains("exponents of the unknown:  1 outgoing,  2 ingoing"), "{text}");
 }
+
+#[test]
+fn the_library_s_recurrence_of_an_equation_seen_from_infinity_is_the_physical_one() {
+    // `numeric::qnm_modes` on a reduction in t = 1/r: the horizon r = 2M
+    // and the outgoing wave at r = ∞ are picked in r, and the continued
+    // fraction gives Leaver's 1985 fundamental (from memory), s = 2, l = 2, M = 1.
+    use canonode::numeric::{qnm_modes, SpectrumOptions};
+    use canonode::{reduce, GRat, Input, Rat, ReduceOptions};
+    let text = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/regge_wheeler.ode")).expect("sample");
+    let red = reduce(&Input::Program(&text), &ReduceOptions { at_infinity: true, ..ReduceOptions::default() }).expect("reduces");
+    assert_eq!(red.var, "t");
+    let g = |x: i64| GRat::real(Rat::int(x.into()));
+    // The field is (t, M, omega, l, s).
+    let opts = SpectrumOptions {
+        freq: 2,
+        values: vec![g(0), g(1), g(0), g(2), g(2)],
+        overtones: (0, 0),
+        tol: 1e-10,
+        guess: Some(num_complex::Complex64::new(0.37, -0.09)),
+        seeds: Vec::new(),
+    };
+    let (modes, setup) = qnm_modes(&red, &opts, &|_| None).expect("modes");
+    assert_eq!(setup.horizon_value, 2.0, "{}", setup.horizon);
+    assert!(setup.choices.iter().any(|c| c.contains("at ∞: the outgoing branch")), "{:?}", setup.choices);
+    let w = modes[0].root.omega;
+    assert!(modes[0].root.converged && (w.re - 0.37367168).abs() <= 5.1e-9 && (w.im + 0.08896232).abs() <= 5.1e-9, "{w}");
+}

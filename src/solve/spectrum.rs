@@ -135,8 +135,13 @@ fn usage(msg: impl Into<String>) -> Error {
 }
 
 /// Picks the horizon (outermost regular point whose exponents depend on ω)
-/// and derives the quasinormal-mode recurrence about it.
+/// and derives the quasinormal-mode recurrence about it. After a change of
+/// variable both happen on the equation in its physical variable
+/// (`solve::physical`: there the horizon is outermost and infinity is where
+/// the wave goes out), so the recurrence and its set-up are in that variable.
 pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate::series::Recurrence, Setup)> {
+    let physical = super::physical::physical(red)?;
+    let red = physical.as_ref().map_or(red, |(p, _)| p);
     let an = analyse(red)?;
     let choice = qnm_choice(red, &an, opts)?;
     let (rec, adjoined) = qnm_derive(red, &an, &choice)?;
