@@ -145,3 +145,15 @@ fn the_library_s_recurrence_of_an_equation_seen_from_infinity_is_the_physical_on
     let w = modes[0].root.omega;
     assert!(modes[0].root.converged && (w.re - 0.37367168).abs() <= 5.1e-9 && (w.im + 0.08896232).abs() <= 5.1e-9, "{w}");
 }
+
+#[test]
+fn a_region_search_seen_from_infinity_finds_the_physical_mode_and_says_where_the_ends_are() {
+    // Leaver 1985 (from memory): the one mode of Schwarzschild s = 2, l = 2
+    // in the window, found in r; the notes place the ends in t.
+    let args = ["spectrum", "samples/regge_wheeler.ode", "--at-infinity", "--at", "s=2,l=2,M=1", "--region", "0.2..0.5,-0.2..0", "--format", "json"];
+    let doc = json(&args);
+    let notes: Vec<&str> = doc["notes"].as_array().expect("notes").iter().filter_map(Value::as_str).collect();
+    assert!(notes.iter().any(|n| n.starts_with("the equation is written in t with r = 1/t") && n.contains("r ≈ 2 is t ≈ 0.5")), "{notes:?}");
+    let text = doc.to_string();
+    assert!(text.contains("0.373671684"), "{text}");
+}

@@ -1349,7 +1349,13 @@ pub fn region_setup(red: &Reduction, req: &SpectrumRequest) -> Result<RegionSetu
     let opts = SpectrumOptions { freq, values: point.clone(), overtones: req.overtones, tol: req.tol, guess: None, seeds: Vec::new() };
     let red = super::spectrum::substitute(red, &point, freq)?;
     let (problem, classic) = boundary_problem(&red, req, &point, freq);
-    Ok(RegionSetup { problem: problem?, red, frequency, opts, classic })
+    let mut problem = problem?;
+    if let Some((_, chart)) = &physical {
+        // The first note says which variable the ends and words refer to.
+        let ends: Vec<Location> = problem.ends.iter().map(|e| e.location).collect();
+        problem.notes.insert(0, chart.report(&ends, &point, freq).sentence());
+    }
+    Ok(RegionSetup { problem, red, frequency, opts, classic })
 }
 
 /// With an eikonal parameter: its name, index and the equation with every
