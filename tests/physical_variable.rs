@@ -157,3 +157,36 @@ fn a_region_search_seen_from_infinity_finds_the_physical_mode_and_says_where_the
     let text = doc.to_string();
     assert!(text.contains("0.373671684"), "{text}");
 }
+
+#[test]
+fn kerr_seen_from_infinity_coupled_to_its_angular_equation() {
+    // Leaver 1985, s = −2, l = m = 2, n = 0, a/M = 0.5 (also Berti, Cardoso
+    // & Starinets 2009): 0.46412 − 0.08564i, to half a unit in the last
+    // place, with the radial equation written in t = 1/r, in a spectrum
+    // and in a two-point scan.
+    let couple = ["--couple", "samples/spheroidal_spin_weighted.ode", "--link", "lam = A + a^2*omega^2 - 2*a*m*omega", "--link", "c = a*omega"];
+    let mut args =
+        vec!["spectrum", "samples/teukolsky_radial.ode", "--at-infinity", "--at", "M=1,a=0.5,m=2,s=-2", "--guess", "0.46-0.085i", "--format", "json"];
+    args.extend_from_slice(&couple);
+    let (re, im) = fundamental(&json(&args));
+    assert!((re - 0.46412).abs() <= 5e-6 && (im + 0.08564).abs() <= 5e-6, "{re} {im}");
+    let mut args = vec![
+        "scan",
+        "samples/teukolsky_radial.ode",
+        "--at-infinity",
+        "--at",
+        "M=1,m=2,s=-2",
+        "--guess",
+        "0.46-0.085i",
+        "--vary",
+        "a=0.5:0.6:0.1",
+        "--format",
+        "json",
+    ];
+    args.extend_from_slice(&couple);
+    let doc = json(&args);
+    let first = &doc["points"][0]["modes"][0];
+    assert_eq!(first["converged"], true, "{doc}");
+    let (sre, sim) = (first["omega"][0].as_f64().unwrap(), first["omega"][1].as_f64().unwrap());
+    assert!((sre - re).abs() <= 1e-9 && (sim - im).abs() <= 1e-9, "{sre} {sim} vs {re} {im}");
+}
