@@ -243,6 +243,14 @@ impl Error {
         self.span = Some(span);
         self
     }
+    /// The same error with its span (if any) moved `offset` bytes later:
+    /// for an error in a piece of a longer text.
+    pub fn moved_by(mut self, offset: usize) -> Error {
+        if let Some(s) = self.span {
+            self.span = Some(Span::new(s.start + offset, s.end + offset));
+        }
+        self
+    }
     /// The same error with a span only if it has none yet.
     pub fn or_at(mut self, span: Span) -> Error {
         if self.span.is_none() {

@@ -36,16 +36,19 @@
 //!   [`ratfunc_text`] and [`poly_text`] print them in a [`Style`].
 //! - **The equation** — [`reduce`] takes an [`Input`] and [`ReduceOptions`]
 //!   to a [`Reduction`] (standard form, normal form, changes of variable);
-//!   [`schwarzian`] and [`transform_q`] are the changes of variable alone.
-//! - **Analysis** — [`analyse`] gives the singular points ([`Analysis`]);
+//!   [`schwarzian`] and [`transform_q`] are the changes of variable alone;
+//!   [`read_expression`] reads an expression beside the equation exactly.
+//! - **Analysis** — [`analyse`] gives the singular points ([`Analysis`]),
+//!   each with its identity [`PointId`];
 //!   [`canonical_form_of`] the canonical form ([`Canonical`]) under exponent
 //!   [`Choices`]; [`suggest`] the suggested [`SuggestedMethod`]s;
 //!   [`label`] and [`boundary_choices`] the boundary labels and exponent
 //!   picks ([`Boundary`], [`ExponentPicks`]) at values, [`generic_values`]
 //!   when none are given.
-//! - **Series** — [`recurrence`] and [`requested`] derive a [`Recurrence`]
-//!   about a point, [`recurrence_about_root`] about a root of a quadratic
-//!   factor ([`RootRecurrence`]).
+//! - **Series** — [`recurrence_at`] and [`requested`] derive a [`Recurrence`]
+//!   about a point in a series variable ([`SeriesMap`]),
+//!   [`recurrence_about_root`] about a root of a quadratic factor
+//!   ([`RootRecurrence`]).
 //! - **Numerics** — the facade [`numeric`]: the spectrum, region, scattering
 //!   and survey workflows and the pieces benchmarks time.
 //! - **Evaluation forms** — [`choose`] picks the cheapest evaluation form
@@ -96,16 +99,16 @@ pub use algebra::print::{poly_text, ratfunc_text, Style};
 pub use algebra::{Field, GRat, Int, Limits, Poly, Rat, RatFunc};
 
 // The equation.
-pub use ode::{reduce, schwarzian, transform_q, Input, ReduceOptions, Reduction};
+pub use ode::{read_expression, reduce, schwarzian, transform_q, Input, ReduceOptions, Reduction};
 
 // Analysis.
 pub use analysis::canonical::{Canonical, Choices};
 pub use analysis::labels::{boundary_choices, generic_values, label, Boundary, ExponentPicks};
 pub use analysis::methods::{suggest, Method as SuggestedMethod};
-pub use analysis::{analyse, canonical_form_of, Analysis};
+pub use analysis::{analyse, canonical_form_of, Analysis, PointId};
 
 // Series.
-pub use series::{recurrence, recurrence_about_root, requested, Recurrence, RootRecurrence};
+pub use series::{recurrence_about_root, recurrence_at, requested, Recurrence, RootRecurrence, SeriesMap};
 
 // Evaluation forms.
 pub use present::{choose, Choice, SearchLimits};
@@ -128,9 +131,9 @@ pub mod numeric {
     pub use crate::solve::request::{spectrum, CoupleRequest, Method, Problem, SpectrumReport, SpectrumRequest, ANGULAR_ORIGIN};
     pub use crate::solve::spectrum::SpectrumOptions;
     // Coupled equations: the joint parameter names, a link, an angular equation.
-    pub use crate::solve::coupled::{joint_names, try_angular, try_link, Link};
+    pub use crate::solve::coupled::{joint_names, try_angular, Link};
     // Boundary problems between given ends.
-    pub use crate::solve::boundary::{parse_ends, Condition, Location};
+    pub use crate::solve::boundary::{Condition, GivenEnds, Location};
     // Every mode in a window of the complex plane.
     pub use crate::solve::global::Region;
     pub use crate::solve::region::{region_modes, RegionReport};
@@ -175,7 +178,7 @@ pub mod record {
     //! directory, with `/` separators) and pinned by `source.sha256`, the SHA-256
     //! of its bytes; `option.*` hold the options of the reduction. The recurrence
     //! follows a fixed rule, stated in the record ([`RECURRENCE_RULE`]). A record
-    //! written with a spectral set-up ([`derive_spectral`]) ends with the
+    //! written with a spectral set-up ([`Derivation::finish`]) ends with the
     //! closed-form spectrum of that boundary problem (`closed.*`), which
     //! `check` derives again and compares as text like every other field.
     //!
@@ -213,8 +216,8 @@ pub mod record {
     //! ```
 
     pub use crate::emit::record::{
-        compare, compare_named, derive, derive_spectral, derive_with, sha256_hex, Comparison, Entry, Record, RecurrenceRequest, SpectralSetup,
-        HEADER, RECURRENCE_RULE,
+        compare, compare_named, derive, sha256_hex, AskedRecurrence, Comparison, Derivation, Entry, Record, RecurrenceRequest, SpectralSetup, HEADER,
+        RECURRENCE_RULE,
     };
 }
 
@@ -225,7 +228,13 @@ pub mod record {
 /// [`command::run_captured`], which prints nothing and returns what the
 /// binary would have printed with its exit status; [`command::flag`] spells
 /// an input of the request as its option, for a front end whose texts must
-/// read as the command line's (the Python package's documents).
+/// read as the command line's (the Python package's documents); and
+/// [`command::read_point`], [`command::read_choices`], [`command::read_series`],
+/// [`command::read_ends`], [`command::read_link`], [`command::asked_about`], [`command::asked_recurrence`]
+/// and [`command::derive_record`] read the texts a user writes for points, ends,
+/// exponent choices and series variables into the analysis's identities,
+/// as every front end must read them alike.
 pub mod command {
+    pub use crate::cli::points::{asked_about, asked_recurrence, derive_record, read_choices, read_ends, read_link, read_point, read_series};
     pub use crate::cli::{flag, main_with_args, run_captured, Captured};
 }

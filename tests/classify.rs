@@ -367,3 +367,33 @@ fn horizon_choices_at_roots_of_higher_degree_carry_their_own_name() {
         assert_eq!(text.contains("at ∞: the outgoing branch"), inf_choice, "{sample}: {text}");
     }
 }
+
+#[test]
+fn points_are_named_by_their_exact_place_not_their_printed_text() {
+    // The same horizon r = 2M written three ways (and infinity written two
+    // ways) gives the same recurrence byte for byte: points and choices are
+    // read into the analysis's exact places, not matched as text.
+    let args = |about: &str, exps: &str| {
+        run(&["recurrence", "samples/regge_wheeler.ode", "--about", about, "--exponents", exps, "--format", "json"])["coefficients"].clone()
+    };
+    let want = args("2*M", "2*M=2,inf=1");
+    assert_eq!(args("M*2", "M + M=2,∞=1"), want);
+    assert_eq!(args("(4*M)/2", "2*M=2,infinity=1"), want);
+    // A different choice gives a different recurrence (the test can fail).
+    assert_ne!(args("2*M", "2*M=1,inf=1"), want);
+    // A point that is not singular, a choice given twice and an unreadable
+    // point are located inside the option, with exit status 2.
+    let fail = |extra: &[&str]| {
+        let mut a = vec!["recurrence", "samples/regge_wheeler.ode"];
+        a.extend_from_slice(extra);
+        let out = Command::new(env!("CARGO_BIN_EXE_canonode")).args(&a).current_dir(env!("CARGO_MANIFEST_DIR")).output().expect("binary runs");
+        assert_eq!(out.status.code(), Some(2), "{a:?}");
+        String::from_utf8_lossy(&out.stderr).into_owned()
+    };
+    let e = fail(&["--about", "3*M"]);
+    assert!(e.starts_with("--about:1:1: error: '3*M' is not a singular point of the equation; the points are: 0, 2*M, ∞"), "{e}");
+    let e = fail(&["--about", "2*M", "--exponents", "2*M=2,0=1,M*2=1"]);
+    assert!(e.starts_with("--exponents:1:11: error: 'M*2' is chosen twice"), "{e}");
+    let e = fail(&["--about", "2*M", "--exponents", "2*M=2,1/r=1"]);
+    assert!(e.starts_with("--exponents:1:7: error:") && e.contains("is not a singular point"), "{e}");
+}

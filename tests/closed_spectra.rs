@@ -282,3 +282,78 @@ fn closed_forms_carry_their_latex_beside_the_text() {
     assert_eq!(fam["expression"], "-1/2*Z^2/(l + n + 1)^2");
     assert_eq!(fam["expression_latex"], "-\\frac{Z^{2}}{2 \\left(l + n + 1\\right)^{2}}");
 }
+
+#[test]
+fn normal_modes_without_a_horizon_are_numbered_by_frequency() {
+    // Massless scalar in global AdS₄, L = 1: ω = l + 3 + 2n (exact; the same
+    // problem as above). With no horizon and no --ends the natural domain is
+    // from the centre to the boundary; the modes are real and numbered by ω,
+    // in the radial variable r = tan ρ as written with trigonometric
+    // coefficients in ρ (V = l(l + 1)/sin²ρ + 2/cos²ρ for Δ = 3, common
+    // practice), and as a real eigenvalue problem in ω (polynomial: ω²).
+    for l in [1u32, 2, 3] {
+        let at = format!("l={l}");
+        let want: Vec<Complex64> = (0..4).map(|n| cx(l as f64 + 3.0 + 2.0 * n as f64, 0.0)).collect();
+        let docs = [
+            run(&["spectrum", "tests/boundary/ads4_global_scalar.ode", "--at", &at, "--overtones", "0..3", "--format", "json"]),
+            run(&[
+                "spectrum",
+                "-e",
+                "psi'' + (om^2 - l*(l+1)/sin(x)^2 - 2/cos(x)^2)*psi = 0",
+                "--var",
+                "x",
+                "--at",
+                &at,
+                "--overtones",
+                "0..3",
+                "--format",
+                "json",
+            ]),
+            bound(&["tests/boundary/ads4_global_scalar.ode"], &at, "0..3"),
+        ];
+        for doc in &docs {
+            let modes = doc["modes"].as_array().unwrap();
+            assert_eq!(modes.len(), 4, "l={l}: {doc}");
+            for (m, w) in modes.iter().zip(&want) {
+                assert_eq!(m["converged"], true, "l={l}: {m}");
+                assert!(close(c(&m["omega"]), *w, 1e-9), "l={l}: n={} is {} not {w}", m["n"], m["omega"]);
+            }
+        }
+    }
+}
+
+#[test]
+fn de_sitter_static_patch_without_a_guess_starts_from_the_least_damped_mode() {
+    // The two families ω = −i(l + Δ± + 2n) of the test above (derived there
+    // from the hypergeometric solution), l = 1, m = 1/2: Δ₋ = 3/2 − √2 gives
+    // the least damped mode. Without a guess the first three overtones,
+    // numbered by damping, are −i(l + Δ₋), −i(l + Δ₋ + 2), −i(l + Δ₊).
+    let (l, d) = (1.0f64, 2f64.sqrt());
+    let want = [cx(0.0, -(l + 1.5 - d)), cx(0.0, -(l + 1.5 - d + 2.0)), cx(0.0, -(l + 1.5 + d))];
+    let doc = run(&[
+        "spectrum",
+        "tests/boundary/de_sitter_static_scalar.ode",
+        "--at",
+        "l=1,m=1/2",
+        "--ends",
+        "0..1",
+        "--overtones",
+        "0..2",
+        "--format",
+        "json",
+    ]);
+    let modes = doc["modes"].as_array().unwrap();
+    for (m, w) in modes.iter().zip(&want) {
+        assert_eq!(m["converged"], true, "{m}");
+        assert!(close(c(&m["omega"]), *w, 1e-9), "n={}: {} is not {w}", m["n"], m["omega"]);
+    }
+    // Without --ends the horizon is taken as a black hole's; the output says
+    // so and names the ends of the static patch.
+    let out = Command::new(env!("CARGO_BIN_EXE_canonode"))
+        .args(["spectrum", "tests/boundary/de_sitter_static_scalar.ode", "--at", "l=1,m=1/2"])
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .expect("binary runs");
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("a de Sitter static patch), name the ends with --ends 0..1"), "{text}");
+}

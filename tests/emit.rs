@@ -285,8 +285,9 @@ fn regge_wheeler_recurrence_about_the_horizon_matches_exact_values() {
     // The horizon r = 2M with the ingoing exponent and the outgoing branch at infinity (README's example).
     let f = Path::new(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/regge_wheeler.ode"));
     let red = reduced(f, None);
-    let choices = canonode::Choices { picks: vec![("2*M".into(), 2), ("inf".into(), 1)], ..Default::default() };
-    let rec = canonode::recurrence(&red, "2*M", None, &choices, false).unwrap();
+    let an = canonode::analyse(&red).unwrap();
+    let asked = canonode::command::asked_about(&red, &an, "2*M", None, Some("2*M=2,inf=1")).unwrap();
+    let rec = canonode::requested(&red, &asked.about, &asked.series, &asked.choices, false, None).unwrap();
     let args = ["--what", "recurrence", "--about", "2*M", "--exponents", "2*M=2,inf=1"];
     check(f.to_str().unwrap(), &args, Call::Recurrence(rec.coeffs.len()), &rec.coeffs, rec.field.names().len(), "rw-recurrence");
 }
@@ -299,7 +300,8 @@ fn kerr_recurrence_about_the_adjoined_horizon_matches_exact_values() {
     // and compared with the exact coefficients at random points, θ included.
     let f = Path::new(concat!(env!("CARGO_MANIFEST_DIR"), "/samples/teukolsky_radial.ode"));
     let red = reduced(f, None);
-    let choices = canonode::Choices { picks: vec![("θ".into(), 2), ("inf".into(), 1)], ..Default::default() };
+    let an = canonode::analyse(&red).unwrap();
+    let choices = canonode::command::read_choices(&red, &an, "θ=2,inf=1").unwrap();
     let root = canonode::recurrence_about_root(&red, &choices).unwrap();
     let rec = root.rec;
     assert_eq!((rec.coeffs.len(), root.exponent), (3, 1));

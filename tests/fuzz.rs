@@ -795,7 +795,7 @@ fn links_between_equations_never_panic() {
             _ => format!("{} = {body}", rng.pick(&targets)),
         };
         let res =
-            std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| canonode::numeric::try_link(&text, &joint, &radial.field, &angular.field)));
+            std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| canonode::command::read_link(&text, &joint, &radial.field, &angular.field)));
         match res {
             Ok(Ok(l)) => {
                 assert!(!l.expr.uses_var(0), "{text}");
@@ -807,7 +807,7 @@ fn links_between_equations_never_panic() {
                 }
                 err += 1;
             }
-            Err(_) => panic!("try_link panicked on {text:?}"),
+            Err(_) => panic!("read_link panicked on {text:?}"),
         }
     }
     // The generator reaches both outcomes.

@@ -755,6 +755,61 @@ fn schwarzschild_anti_de_sitter_modes_with_a_normalisable_boundary() {
 }
 
 #[test]
+fn btz_ladder_without_a_guess_skips_no_overtone() {
+    // Massless scalar on the non-rotating BTZ black hole (L = 1): with
+    // x = 1 − rp²/r² the radial equation is hypergeometric and the ingoing,
+    // normalisable solution is a polynomial exactly at
+    // ω = ±k − 2i rp (n + 1), n = 0, 1, 2, … (D. Birmingham, I. Sachs &
+    // S. N. Solodukhin, Phys. Rev. Lett. 88 (2002) 151301). Regression: the
+    // ladder from the global method's lone seed stepped to 3 Im ω₀ and so
+    // listed n = 0, 2, 4, … as 0, 1, 2, …; every overtone is now found in
+    // turn, and direct integration confirms them up to n = 4.
+    for (rp, k) in [(1.0f64, 0.5f64), (2.0, 1.5)] {
+        let (v, ms) = modes_of("tests/boundary/btz_scalar.ode", &format!("rp={rp},k={k}"), &["--overtones", "0..5"]);
+        assert_eq!(ms.len(), 6);
+        // The run's own closed form (the family with Re ω = +k) finds each
+        // exact value in the numeric table under the same number.
+        let fam = v["closed_form"]["families"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|f| f["values"][0]["omega"][0].as_f64() > Some(0.0))
+            .expect("a family with Re > 0");
+        for x in fam["values"].as_array().unwrap() {
+            assert_eq!(x["check"]["n"], x["n"], "rp={rp}, k={k}: {x}");
+        }
+        for (n, m) in ms.iter().enumerate() {
+            assert_eq!(m["n"], n as u64, "{m}");
+            assert_eq!(m["method"], "cf", "{m}");
+            let (re, im) = omega(m);
+            let want = (k, -2.0 * rp * (n as f64 + 1.0));
+            let scale = want.0.hypot(want.1);
+            assert!((re - want.0).abs() <= 1e-10 * scale && (im - want.1).abs() <= 1e-10 * scale, "rp={rp}, k={k}, n={n}: {re} {im} vs {want:?}");
+            if n <= 4 {
+                assert!(m["check"]["agreement"].as_f64().is_some_and(|a| a < 1e-9), "rp={rp}, k={k}, n={n}: {m}");
+            }
+        }
+        // Direct integration from a guess for the fundamental climbs the
+        // same ladder (its seed below a lone overtone skipped the same way).
+        let guess = format!("{k}-{}i", 2.0 * rp);
+        let (_, ms) = modes_of(
+            "tests/boundary/btz_scalar.ode",
+            &format!("rp={rp},k={k}"),
+            &["--method", "integrate", "--guess", &guess, "--overtones", "0..3"],
+        );
+        for (n, m) in ms.iter().enumerate() {
+            let (re, im) = omega(m);
+            let want = (k, -2.0 * rp * (n as f64 + 1.0));
+            let scale = want.0.hypot(want.1);
+            assert!(
+                (re - want.0).abs() <= 1e-9 * scale && (im - want.1).abs() <= 1e-9 * scale,
+                "integrate, rp={rp}, k={k}, n={n}: {re} {im} vs {want:?}"
+            );
+        }
+    }
+}
+
+#[test]
 fn schwarzschild_anti_de_sitter_by_the_numeric_series_agrees_with_direct_integration() {
     // The AdS boundary r → ∞ is a regular singular point whose exponents
     // differ by an integer; with the normalisable one factored out, the
@@ -1571,4 +1626,26 @@ fn periodic_problems_write_mode_functions() {
         assert!((norm - 1.0).abs() < 1e-12, "norm {norm}");
     }
     std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn eigenvalue_problems_need_no_boundary_or_ends_option() {
+    // With no horizon and the parameter entering linearly, `spectrum` alone
+    // poses the eigenvalue problem a physicist means. Prolate spheroidal
+    // ((1 − x²)S')' + (λ − c²x²)S = 0 on (−1, 1): λ₀₀(c = 1) = 0.319000,
+    // λ₀₁(c = 1) = 2.593084 (Abramowitz & Stegun table 21.1, from memory);
+    // hydrogen, Z = 1, l = 0: E = −1/(2(n + 1)²) (exact).
+    let (v, code, err) =
+        run(&["spectrum", "-e", "((1-x^2)*S')' + (lam - c^2*x^2)*S = 0", "--var", "x", "--at", "c=1", "--overtones", "0..1", "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    let got: Vec<f64> = (0..2).map(|i| omega(&v["modes"][i]).0).collect();
+    assert!((got[0] - 0.319000).abs() < 5e-7 && (got[1] - 2.593084).abs() < 5e-6, "{got:?}");
+    let (v, code, err) = run(&["spectrum", "samples/hydrogen_radial.ode", "--at", "Z=1,l=0", "--overtones", "0..2", "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    for n in 0..3 {
+        let e = omega(&v["modes"][n]).0;
+        let want = -1.0 / (2.0 * ((n + 1) as f64).powi(2));
+        assert!((e - want).abs() < 1e-9, "n={n}: {e} vs {want}");
+    }
+    assert!(v["notes"][0].as_str().is_some_and(|n| n.contains("no horizon")), "{v}");
 }

@@ -420,7 +420,7 @@ fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, bound
         None => (None, None),
     };
     let mut choices = match exponents {
-        Some(t) => canonode::Choices::parse(t).map_err(|e| lib(e.in_option(RequestInput::Exponents)))?,
+        Some(t) => canonode::command::read_choices(&red, &an, t).map_err(|e| lib(e.in_option(RequestInput::Exponents)))?,
         None => Default::default(),
     };
     let freq_name =
@@ -454,11 +454,7 @@ fn classify_doc(spec: &Spec, at: Option<&Values>, exponents: Option<&str>, bound
             )));
         }
         let canonode::ExponentPicks { picks, said: s } = boundary_choices(k, &an, labels.as_ref(), b, &label_point).map_err(lib)?;
-        for (p, c) in picks {
-            if !choices.picks.iter().any(|(q, _)| *q == p) {
-                choices.picks.push((p, c));
-            }
-        }
+        choices.fill(picks);
         said = s;
     }
     let canon = canonode::canonical_form_of(&red, &an, &choices).map_err(lib)?;
@@ -538,11 +534,10 @@ fn emit(
         }
         let rec = match (&about, matches!(want, EmitWhat::Recurrence | EmitWhat::All)) {
             (Some(p), true) => {
-                let choices = match &exponents {
-                    Some(t) => canonode::Choices::parse(t).map_err(|e| fail(&e.in_option(RequestInput::Exponents), &spec, &extra))?,
-                    None => canonode::Choices::default(),
-                };
-                Some(canonode::requested(&red, p, series.as_deref(), &choices, false, None).map_err(|e| fail(&e, &spec, &extra))?)
+                let an = canonode::analyse(&red).map_err(|e| fail(&e, &spec, &[]))?;
+                let asked = canonode::command::asked_about(&red, &an, p, series.as_deref(), exponents.as_deref())
+                    .map_err(|e| fail(&e, &spec, &extra))?;
+                Some(canonode::requested(&red, &asked.about, &asked.series, &asked.choices, false, None).map_err(|e| fail(&e, &spec, &extra))?)
             }
             _ => None,
         };
@@ -571,7 +566,7 @@ fn record(
             .filter_map(|(n, v)| v.as_ref().map(|v| (n.to_string(), v.clone())))
             .collect();
         let req = canonode::record::RecurrenceRequest { about, series, exponents };
-        let rec = canonode::record::derive_with(&spec.text, &path, &spec.options(), &req).map_err(|e| fail(&e, &spec, &extra))?;
+        let rec = canonode::command::derive_record(&spec.text, &path, &spec.options(), &req, None).map_err(|e| fail(&e, &spec, &extra))?;
         Ok(rec.render())
     })
 }
@@ -602,7 +597,7 @@ fn check(
         let opts = recorded.options().map_err(|e| fail(&e, &rspec, &[]))?;
         let sspec = Spec::program(source_text, source_name.clone());
         let recomputed =
-            canonode::record::derive_with(&sspec.text, &rel, &opts, &recorded.recurrence_request()).map_err(|e| fail(&e, &sspec, &[]))?;
+            canonode::command::derive_record(&sspec.text, &rel, &opts, &recorded.recurrence_request(), None).map_err(|e| fail(&e, &sspec, &[]))?;
         let cmp = canonode::record::compare_named(
             &recorded,
             &recomputed,

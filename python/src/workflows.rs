@@ -171,7 +171,7 @@ pub fn spectrum(spec: &Spec, req: &Request) -> Result<Value, Fail> {
     let (at_text, values) = read_values(&req.at, "at", spec)?;
     let ends = match &req.ends {
         Some(t) => Some(
-            canonode::numeric::parse_ends(t).map_err(|e| fail(&e.in_option(canonode::RequestInput::Ends), spec, &[("ends".into(), t.clone())]))?,
+            canonode::command::read_ends(t).map_err(|e| fail(&e.in_option(canonode::RequestInput::Ends), spec, &[("ends".into(), t.clone())]))?,
         ),
         None => None,
     };
@@ -303,7 +303,7 @@ fn couple_request(spec: &Spec, red: &canonode::Reduction, c: &Couple) -> Result<
     for (i, text) in c.links.iter().enumerate() {
         let kw = format!("link[{i}]");
         let extra = [(kw.clone(), text.clone())];
-        let l = canonode::numeric::try_link(text, &joint, &red.field, &ared.field).map_err(|e| fail(&e.in_named(&kw), spec, &extra))?;
+        let l = canonode::command::read_link(text, &joint, &red.field, &ared.field).map_err(|e| fail(&e.in_named(&kw), spec, &extra))?;
         if links.iter().any(|o| o.target == l.target) {
             return Err(usage(format!("'{}' is linked twice", l.target), &kw, spec, &extra, None));
         }

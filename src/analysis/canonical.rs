@@ -10,7 +10,7 @@
 //! (13.14.1), Bessel (10.2.1), Airy (9.2.1) and parabolic cylinder (12.2.2)
 //! for its normal form.
 
-use super::{analyse_equation, Class, Exponent, Form, Kind, Place, SingularPoint};
+use super::{analyse_equation, Class, Exponent, Form, Kind, Place, PointId, SingularPoint};
 use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::{Field, Rat, RatFunc, UPoly};
 use crate::error::Result;
@@ -51,47 +51,47 @@ pub struct Canonical {
 
 /// Which exponent to keep at a point: by position (1 or 2) in the listed
 /// exponents, or the default (the unknown's exponent 0 when it has one).
+/// Points are named by their identity ([`PointId`]); a front end turns the
+/// text a user wrote into these.
 #[derive(Clone, Debug, Default)]
 pub struct Choices {
-    /// (point text as printed, e.g. "0", "2*M", "inf"; 1-based choice).
-    pub picks: Vec<(String, usize)>,
-    /// Exponents given outright (point text, value), used before `picks`:
+    /// (point, 1-based choice).
+    pub picks: Vec<(PointId, usize)>,
+    /// Exponents given outright (point, value), used before `picks`:
     /// for a point whose exponents are only exact modulo a relation.
-    pub values: Vec<(String, RatFunc)>,
+    pub values: Vec<(PointId, RatFunc)>,
 }
 
 impl Choices {
-    /// Reads `POINT=CHOICE,…` (e.g. `2*M=2,inf=1`): a point as printed and
-    /// the 1-based exponent (or branch) to keep there. Spans are byte ranges
-    /// of `text`.
-    pub fn parse(text: &str) -> crate::error::Result<Choices> {
-        use crate::error::{Error, ErrorKind};
-        let mut c = Choices::default();
-        let mut start = 0;
-        for piece in text.split(',') {
-            let span = crate::syntax::Span::new(start, start + piece.len());
-            start += piece.len() + 1;
-            if piece.trim().is_empty() {
-                continue;
-            }
-            let Some((pt, ch)) = piece.rsplit_once('=') else {
-                return Err(Error::new(ErrorKind::Usage, "expected POINT=CHOICE, e.g. 0=2 or inf=1").at(span));
-            };
-            let Ok(n) = ch.trim().parse::<usize>() else {
-                return Err(Error::new(ErrorKind::Usage, format!("'{}' is not a choice: write 1 or 2", ch.trim())).at(span));
-            };
-            if n != 1 && n != 2 {
-                return Err(Error::new(ErrorKind::Usage, format!("choice {n} does not exist: each point has exponents 1 and 2")).at(span));
-            }
-            c.picks.push((pt.trim().to_string(), n));
-        }
-        Ok(c)
+    /// The 1-based choice at `id`, if one was made.
+    pub fn get(&self, id: &PointId) -> Option<usize> {
+        self.picks.iter().find(|(p, _)| p == id).map(|(_, c)| *c)
     }
 
-    fn get(&self, label: &str) -> Option<usize> {
-        let norm = |s: &str| s.chars().filter(|c| !c.is_whitespace()).collect::<String>();
-        let l = norm(label);
-        self.picks.iter().find(|(p, _)| norm(p) == l || (l == "∞" && (p == "inf" || p == "infinity"))).map(|(_, c)| *c)
+    /// The exponent given outright at `id`, if any.
+    pub fn value(&self, id: &PointId) -> Option<&RatFunc> {
+        self.values.iter().find(|(p, _)| p == id).map(|(_, v)| v)
+    }
+
+    /// Sets the choice at `id`, replacing an earlier one.
+    pub fn set(&mut self, id: PointId, choice: usize) {
+        self.picks.retain(|(p, _)| *p != id);
+        self.picks.push((id, choice));
+    }
+
+    /// Adds `picks` at the points that have no choice yet (a user's choice
+    /// stands over a boundary problem's default).
+    pub fn fill(&mut self, picks: Vec<(PointId, usize)>) {
+        for (p, c) in picks {
+            if self.get(&p).is_none() {
+                self.picks.push((p, c));
+            }
+        }
+    }
+
+    /// These choices without any at `id`.
+    pub fn without(&self, id: &PointId) -> Choices {
+        Choices { picks: self.picks.iter().filter(|(p, _)| p != id).cloned().collect(), values: self.values.clone() }
     }
 }
 
@@ -197,7 +197,7 @@ impl<'a> Ctx<'a> {
 
     /// Maps z = g(x), then multiplies by ∏(x − xᵢ)^ρᵢ at `regular` images and
     /// exp(E) at irregular points (from the formal solutions of the unknown).
-    fn prepare(&self, p: &RatFunc, q: &RatFunc, g: &RatFunc, identity: bool, labels: &[(RatFunc, String)]) -> Result<Option<Prepared>> {
+    fn prepare(&self, p: &RatFunc, q: &RatFunc, g: &RatFunc, identity: bool, labels: &[(RatFunc, RatFunc)]) -> Result<Option<Prepared>> {
         let (k, x) = self.new_field(identity)?;
         let (p1, q1) = change_variable(&k, p, q, g)?;
         let qn = normal_q(&k, &p1, &q1)?;
@@ -211,15 +211,15 @@ impl<'a> Ctx<'a> {
                 (_, Kind::Ordinary) => {}
                 (Place::Roots(_), _) => return Ok(None),
                 (Place::Point { at, .. }, Kind::Regular) => {
-                    let label = labels.iter().find(|(v, _)| v == at).map(|(_, s)| s.clone()).unwrap_or_else(|| rt(&k, at));
+                    let (id, label) = self.original(labels, &k, at);
                     let values: Vec<Option<RatFunc>> = sp.unknown_exponents.iter().map(|e| e.exact_value(&k)).collect();
-                    let Some(pick) = self.pick(&label, &values) else { return Ok(None) };
+                    let Some(pick) = self.pick(&id, &values) else { return Ok(None) };
                     let rho = values[pick].clone().expect("picked an exact exponent");
                     choices.push(format!(
                         "at {} = {label}: exponent {} of the unknown{}",
                         self.var,
                         rt(&k, &rho),
-                        if self.choices.get(&label).is_some() {
+                        if self.choices.get(&id).is_some() {
                             " (as asked)"
                         } else if rho.is_zero() {
                             " (its exponent 0, kept)"
@@ -259,8 +259,8 @@ impl<'a> Ctx<'a> {
                         };
                         cands.push((e, k.add(&f.rho, &shift)?));
                     }
-                    let label = labels.iter().find(|(v, _)| v == at).map(|(_, s)| s.clone()).unwrap_or_else(|| rt(&k, at));
-                    let Some((e, rho)) = self.pick_exp(&label, &cands) else { return Ok(None) };
+                    let (id, label) = self.original(labels, &k, at);
+                    let Some((e, rho)) = self.pick_exp(&id, &cands) else { return Ok(None) };
                     choices.push(format!(
                         "at {} = {label}: the formal solution exp({})*(…)^{} of the unknown",
                         self.var,
@@ -292,7 +292,7 @@ impl<'a> Ctx<'a> {
                         }
                         cands.push((e, RatFunc::zero()));
                     }
-                    let Some((e, _)) = self.pick_exp("∞", &cands) else { return Ok(None) };
+                    let Some((e, _)) = self.pick_exp(&PointId::Infinity, &cands) else { return Ok(None) };
                     choices.push(format!("at {} = ∞: the exponential behaviour exp({}) of the unknown", self.var, rt(&k, &e)));
                     l = k.add(&l, &k.deriv(&e, 0)?)?;
                     if !e.is_zero() {
@@ -308,8 +308,18 @@ impl<'a> Ctx<'a> {
         Ok(Some(Prepared { k, x, map_text, pw, qw, prefactor, choices }))
     }
 
-    fn pick(&self, label: &str, values: &[Option<RatFunc>]) -> Option<usize> {
-        if let Some(c) = self.choices.get(label) {
+    /// The identity and text of the original point that `at` (in the new
+    /// variable) is the image of, by the map's `labels`; `at` itself when it
+    /// is no image.
+    fn original(&self, labels: &[(RatFunc, RatFunc)], k: &Field, at: &RatFunc) -> (PointId, String) {
+        match labels.iter().find(|(v, _)| v == at) {
+            Some((_, z)) => (PointId::At(z.clone()), rt(self.k0, z)),
+            None => (PointId::At(at.clone()), rt(k, at)),
+        }
+    }
+
+    fn pick(&self, id: &PointId, values: &[Option<RatFunc>]) -> Option<usize> {
+        if let Some(c) = self.choices.get(id) {
             return values.get(c.checked_sub(1)?)?.as_ref().map(|_| c - 1);
         }
         if let Some(i) = values.iter().position(|v| v.as_ref().is_some_and(RatFunc::is_zero)) {
@@ -318,8 +328,8 @@ impl<'a> Ctx<'a> {
         values.iter().position(Option::is_some)
     }
 
-    fn pick_exp(&self, label: &str, cands: &[(RatFunc, RatFunc)]) -> Option<(RatFunc, RatFunc)> {
-        if let Some(c) = self.choices.get(label) {
+    fn pick_exp(&self, id: &PointId, cands: &[(RatFunc, RatFunc)]) -> Option<(RatFunc, RatFunc)> {
+        if let Some(c) = self.choices.get(id) {
             return cands.get(c.checked_sub(1)?).cloned();
         }
         cands.iter().find(|(e, r)| e.is_zero() && r.is_zero()).or_else(|| cands.iter().find(|(e, _)| e.is_zero())).or_else(|| cands.first()).cloned()
@@ -483,9 +493,9 @@ fn regular_points_form(
         (g, Box::new(move |z: &RatFunc| kx_map(k0, z, &a2, &l2)))
     };
     let n_fin = if mobius { z0s.len() - 1 } else { z0s.len() };
-    let mut labels: Vec<(RatFunc, String)> = Vec::new();
+    let mut labels: Vec<(RatFunc, RatFunc)> = Vec::new();
     for z in z0s.iter().take(n_fin) {
-        labels.push((img(z)?, rt(k0, z)));
+        labels.push((img(z)?, z.clone()));
     }
     let Some(pr) = ctx.prepare(p, q, &g, identity, &labels)? else { return Ok(None) };
     match template {
@@ -615,7 +625,7 @@ fn irregular_heun_form(ctx: &Ctx<'_>, p: &RatFunc, q: &RatFunc, class: Irregular
     let shift = z0s.first().cloned().unwrap_or_else(RatFunc::zero);
     let (k1, _) = ctx.new_field(shift.is_zero())?;
     let g1 = k1.add(&shift, &k1.var(0))?;
-    let labels: Vec<(RatFunc, String)> = z0s.iter().map(|z| (k1.sub(z, &shift).unwrap_or_else(|_| z.clone()), rt(k0, z))).collect();
+    let labels: Vec<(RatFunc, RatFunc)> = z0s.iter().map(|z| (k1.sub(z, &shift).unwrap_or_else(|_| z.clone()), z.clone())).collect();
     let Some(pr1) = ctx.prepare(p, q, &g1, shift.is_zero(), &labels)? else { return Ok(None) };
     // Leading behaviour of p_w at ∞: c·x^n with n = 0, 1, 2 for the three forms.
     let n = match class {
@@ -641,9 +651,9 @@ fn irregular_heun_form(ctx: &Ctx<'_>, p: &RatFunc, q: &RatFunc, class: Irregular
     let identity = shift.is_zero() && lam == RatFunc::one();
     let (kx, _) = ctx.new_field(identity)?;
     let g = kx.add(&shift, &kx.mul(&lam, &kx.var(0))?)?;
-    let mut labels: Vec<(RatFunc, String)> = Vec::new();
+    let mut labels: Vec<(RatFunc, RatFunc)> = Vec::new();
     for z in z0s {
-        labels.push((kx_map(&kx, z, &shift, &lam)?, rt(k0, z)));
+        labels.push((kx_map(&kx, z, &shift, &lam)?, z.clone()));
     }
     let Some(pr) = ctx.prepare(p, q, &g, identity, &labels)? else { return Ok(None) };
     match class {

@@ -357,11 +357,7 @@ fn roots_derivative_sign(k: &Field, v: &Values, f: &Poly, e: &Exponent, freq: us
 /// choices (`Choices`) and the expansion point name it: its location,
 /// θ for a root of an irreducible factor of degree ≥ 2, ∞ for infinity.
 pub fn point_name(k: &Field, p: &super::SingularPoint) -> String {
-    match &p.place {
-        Place::Point { at, .. } => crate::algebra::print::ratfunc_text(at, k.names(), crate::algebra::print::Style::Text),
-        Place::Roots(_) => "θ".to_string(),
-        Place::Infinity => "∞".to_string(),
-    }
+    p.place.id().text(k.names())
 }
 
 /// The boundary problem whose exponents are picked (also the command
@@ -445,13 +441,13 @@ fn short(z: Complex64) -> String {
 /// The exponents picked for a boundary problem.
 #[derive(Clone, Debug, Default)]
 pub struct ExponentPicks {
-    /// (point as printed, 1-based exponent number).
-    pub picks: Vec<(String, usize)>,
+    /// (point, 1-based exponent number).
+    pub picks: Vec<(super::PointId, usize)>,
     /// A sentence per point saying what was picked.
     pub said: Vec<String>,
 }
 
-/// Exponent choices (1-based, by point label as printed) for a boundary
+/// Exponent choices (1-based, by point) for a boundary
 /// problem, and a sentence per point saying what was picked.
 pub fn boundary_choices(k: &Field, a: &Analysis, labels: Option<&Labels>, b: Boundary, point: &[GRat]) -> Result<ExponentPicks> {
     let v = Values::new(point.to_vec());
@@ -468,25 +464,25 @@ pub fn boundary_choices(k: &Field, a: &Analysis, labels: Option<&Labels>, b: Bou
         match (b, p.kind) {
             (Boundary::Qnm, Kind::Regular) => {
                 if let Some(j) = row.and_then(|r| r.iter().position(|x| *x == Some(Label::Ingoing))) {
-                    picks.push((name.clone(), j + 1));
+                    picks.push((p.place.id(), j + 1));
                     said.push(format!("at {named}: the ingoing exponent (number {})", j + 1));
                 }
             }
             (Boundary::Qnm, Kind::Irregular) => {
                 if let Some(j) = row.and_then(|r| r.iter().position(|x| *x == Some(Label::Outgoing))) {
-                    picks.push((name.clone(), j + 1));
+                    picks.push((p.place.id(), j + 1));
                     said.push(format!("at {named}: the outgoing branch (number {})", j + 1));
                 }
             }
             (Boundary::Bound, Kind::Regular) => {
                 if let Some(j) = larger_real_part(k, &v, &p.place, &p.unknown_exponents, point, a.physical.as_ref())? {
-                    picks.push((name.clone(), j + 1));
+                    picks.push((p.place.id(), j + 1));
                     said.push(format!("at {named}: the exponent with the larger real part (number {})", j + 1));
                 }
             }
             (Boundary::Bound, Kind::Irregular) => {
                 if let Some(j) = row.and_then(|r| r.iter().position(|x| *x == Some(Label::Decaying))) {
-                    picks.push((name.clone(), j + 1));
+                    picks.push((p.place.id(), j + 1));
                     said.push(format!("at {named}: the decaying branch (number {})", j + 1));
                 }
             }

@@ -37,6 +37,48 @@ pub enum Place {
     Infinity,
 }
 
+/// A singular point's identity: its exact place, whatever text prints it.
+///
+/// The picks of exponents ([`canonical::Choices`]), the expansion point of a
+/// series and the ends of a boundary problem name points by this value. It
+/// is the place itself rather than an index into one [`Analysis`] because a
+/// point keeps its place when a derivation analyses a rewritten equation (a
+/// root adjoined as a symbol, a decay rate adjoined at infinity) while its
+/// position in the list of points does not; [`Analysis::index_of`] gives the
+/// index in a given analysis.
+#[derive(Clone, Debug, PartialEq)]
+pub enum PointId {
+    /// z = z₀, exact in the parameters.
+    At(RatFunc),
+    /// The roots θ of this irreducible factor of degree ≥ 2.
+    Roots(Poly),
+    /// z = ∞.
+    Infinity,
+}
+
+impl PointId {
+    /// How the point is named in messages and choices: its location, θ for
+    /// the roots of a factor, ∞ for infinity (`names` are the field's).
+    pub fn text(&self, names: &[String]) -> String {
+        match self {
+            PointId::At(at) => crate::algebra::print::ratfunc_text(at, names, crate::algebra::print::Style::Text),
+            PointId::Roots(_) => "θ".to_string(),
+            PointId::Infinity => "∞".to_string(),
+        }
+    }
+}
+
+impl Place {
+    /// The identity of the point at this place.
+    pub fn id(&self) -> PointId {
+        match self {
+            Place::Point { at, .. } => PointId::At(at.clone()),
+            Place::Roots(f) => PointId::Roots(f.clone()),
+            Place::Infinity => PointId::Infinity,
+        }
+    }
+}
+
 /// Ordinary, regular singular or irregular singular.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Kind {
@@ -165,6 +207,18 @@ impl PhysicalMap {
         let d = v.upoly(&UPoly::from_poly(&self.g.den_expanded()), z)? * Rat::int(self.g.scale().clone()).to_f64();
         let r = n / d;
         (d.norm() > 0.0 && r.re.is_finite() && r.im.is_finite()).then_some(r)
+    }
+}
+
+impl Analysis {
+    /// The position of the point `id` in [`Analysis::points`], if it is one.
+    pub fn index_of(&self, id: &PointId) -> Option<usize> {
+        self.points.iter().position(|p| p.place.id() == *id)
+    }
+
+    /// The singular point `id`, if it is one.
+    pub fn point(&self, id: &PointId) -> Option<&SingularPoint> {
+        self.index_of(id).map(|i| &self.points[i])
     }
 }
 

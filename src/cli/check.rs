@@ -78,12 +78,18 @@ fn check_one(file: &str) -> Result<u8, (String, u8)> {
             Some(t) => Some(crate::emit::record::SpectralSetup {
                 problem: t.problem,
                 values: super::values::parse_assignments(&t.at, "--at")?,
-                ends: t.ends,
+                ends: match t.ends {
+                    Some(text) => {
+                        let e = super::points::read_ends(&text).map_err(|e| e.in_option(crate::error::RequestInput::Ends))?;
+                        Some((text, e))
+                    }
+                    None => None,
+                },
                 at: t.at,
             }),
             None => None,
         };
-        crate::emit::record::derive_spectral(&source.text, rel, &opts, &recorded.recurrence_request(), setup.as_ref())
+        super::points::derive_record(&source.text, rel, &opts, &recorded.recurrence_request(), setup.as_ref())
     })
     .map_err(|e| match &e.origin {
         // A recorded option's value that no longer works: point into the record's line.

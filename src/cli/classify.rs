@@ -28,13 +28,6 @@ pub(crate) struct ClassifyArgs {
     format: Format,
 }
 
-pub(crate) fn parse_choices(text: Option<&str>) -> Result<crate::analysis::canonical::Choices, Failure> {
-    match text {
-        Some(t) => Ok(crate::analysis::canonical::Choices::parse(t).map_err(|e| e.in_named("--exponents"))?),
-        None => Ok(crate::analysis::canonical::Choices::default()),
-    }
-}
-
 pub(crate) fn run(a: &ClassifyArgs) -> u8 {
     let mut extra: Vec<(String, String)> = a.at.iter().map(|t| ("--at".to_string(), t.clone())).collect();
     extra.extend(a.exponents.iter().map(|t| ("--exponents".to_string(), t.clone())));
@@ -80,7 +73,10 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
         }
         None => None,
     };
-    let mut choices = parse_choices(a.exponents.as_deref())?;
+    let mut choices = match &a.exponents {
+        Some(t) => super::points::read_choices(&red, &an, t).map_err(|e| e.in_option(crate::error::RequestInput::Exponents))?,
+        None => crate::analysis::canonical::Choices::default(),
+    };
     // Labels need a frequency: the one named, or omega/ω/w when declared.
     let freq_name =
         a.input.frequency.clone().or_else(|| ["omega", "ω", "w"].iter().find(|n| red.ode.params.iter().any(|p| p == *n)).map(|s| s.to_string()));
@@ -103,11 +99,7 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
         let kind = b;
         let crate::analysis::labels::ExponentPicks { picks, said } =
             crate::analysis::labels::boundary_choices(k, &an, labels.as_ref(), kind, &label_point)?;
-        for (p, c) in picks {
-            if !choices.picks.iter().any(|(q, _)| *q == p) {
-                choices.picks.push((p, c));
-            }
-        }
+        choices.fill(picks);
         boundary_said = said;
     }
     let canon = crate::analysis::canonical_form_of(&red, &an, &choices)?;

@@ -9,6 +9,7 @@ mod eval;
 mod merge;
 mod mode_file;
 mod options;
+pub(crate) mod points;
 mod record;
 mod recurrence;
 mod reduce;

@@ -73,13 +73,22 @@ pub(crate) fn run(a: &RecordArgs) -> u8 {
     }
     let spectral = match &a.at {
         Some(at) => match super::values::parse_assignments(at, "--at") {
-            Ok(values) => Some(crate::emit::record::SpectralSetup { problem: a.boundary, ends: a.ends.clone(), at: at.clone(), values }),
+            Ok(values) => {
+                let ends = match &a.ends {
+                    Some(t) => match super::points::read_ends(t) {
+                        Ok(e) => Some((t.clone(), e)),
+                        Err(e) => return fail(&e.in_named("--ends").into(), Some(&src)),
+                    },
+                    None => None,
+                };
+                Some(crate::emit::record::SpectralSetup { problem: a.boundary, ends, at: at.clone(), values })
+            }
             Err(e) => return fail(&e.into(), Some(&src)),
         },
         None => None,
     };
     let derived = crate::algebra::budget::with_budget(crate::algebra::budget::DEFAULT_BUDGET, || {
-        crate::emit::record::derive_spectral(&src.text, &path, &a.input.options(), &req, spectral.as_ref())
+        super::points::derive_record(&src.text, &path, &a.input.options(), &req, spectral.as_ref())
     });
     let rec = match derived {
         Ok(r) => r,

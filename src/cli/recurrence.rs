@@ -44,8 +44,9 @@ impl SeriesArgs {
 
     /// The recurrence about `about` with these choices.
     pub(crate) fn derive(&self, red: &crate::ode::Reduction, about: &str, freq: Option<usize>) -> Result<crate::series::Recurrence, Failure> {
-        let choices = super::classify::parse_choices(self.exponents.as_deref())?;
-        let rec = crate::series::requested(red, about, self.series.as_deref(), &choices, self.normal, freq).map_err(|e| {
+        let an = crate::analysis::analyse(red)?;
+        let asked = super::points::asked_about(red, &an, about, self.series.as_deref(), self.exponents.as_deref())?;
+        let rec = crate::series::requested(red, &asked.about, &asked.series, &asked.choices, self.normal, freq).map_err(|e| {
             if super::origin_flag(&e.origin).as_deref() == Some("--about") && e.span.is_none() {
                 e.at(crate::syntax::Span::new(0, about.len()))
             } else {

@@ -273,7 +273,7 @@ fn request(
     Ok(SpectrumRequest {
         problem: a.boundary.unwrap_or_else(|| Problem::natural(red)),
         ends: match &a.ends {
-            Some(t) => Some(crate::solve::boundary::parse_ends(t).map_err(|e| e.in_named("--ends"))?),
+            Some(t) => Some(super::points::read_ends(t).map_err(|e| e.in_named("--ends"))?),
             None => None,
         },
         frequency: a.input.frequency_name(),
@@ -389,7 +389,7 @@ fn parse_links(a: &CoupleArgs, radial: &crate::algebra::Field, angular: &crate::
     let joint = crate::algebra::Field::new(names, radial.limits().clone())?;
     let mut out: Vec<crate::solve::coupled::Link> = Vec::new();
     for (i, text) in a.link.iter().enumerate() {
-        let l = crate::solve::coupled::try_link(text, &joint, radial, angular).map_err(|e| e.in_option(link_option(i)))?;
+        let l = super::points::read_link(text, &joint, radial, angular).map_err(|e| e.in_option(link_option(i)))?;
         if out.iter().any(|o| o.target == l.target) {
             return Err(Error::new(ErrorKind::Usage, format!("'{}' is linked twice", l.target)).in_option(link_option(i)).into());
         }

@@ -5,10 +5,11 @@
 use super::classify_report::{apparent_fields, exponent_text, formal_text, param_text, where_text};
 use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::GRat;
-use crate::analysis::{Analysis, Kind, Place};
-use crate::error::RequestInput;
+use crate::analysis::canonical::Choices;
+use crate::analysis::{Analysis, Kind, Place, PointId};
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::{ReduceOptions, Reduction};
+use crate::series::SeriesMap;
 use crate::solve::request::{ClosedSection, Method, Problem, SpectrumRequest};
 use crate::syntax::Span;
 
@@ -246,18 +247,31 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
     sha2::Sha256::digest(bytes).iter().map(|b| format!("{b:02x}")).collect()
 }
 
-/// Which recurrence a record holds: by default the rule
-/// [`RECURRENCE_RULE`]; with `about`, the series about that point, in the
-/// series variable `series` (e.g. `u=(r-2*M)/r`) when given, with the
-/// exponent choices `exponents` (`POINT=CHOICE,…`, as `recurrence` takes).
+/// The texts of the recurrence a user asked a record to hold, as given
+/// (`option.about`, `option.series`, `option.exponents`): absent, the
+/// record holds the rule [`RECURRENCE_RULE`]'s recurrence.
 #[derive(Clone, Debug, Default, PartialEq, Eq)]
 pub struct RecurrenceRequest {
-    /// The expansion point as printed (e.g. `2*M`).
+    /// The expansion point as written (e.g. `2*M`).
     pub about: Option<String>,
     /// The series variable, `u=EXPR`.
     pub series: Option<String>,
     /// Exponent choices, `POINT=CHOICE,…`.
     pub exponents: Option<String>,
+}
+
+/// A recurrence asked for, read against the equation by a front end: the
+/// texts as given (written into the record) and what they name.
+#[derive(Clone, Debug)]
+pub struct AskedRecurrence {
+    /// The texts as given.
+    pub texts: RecurrenceRequest,
+    /// The expansion point.
+    pub about: PointId,
+    /// The series variable.
+    pub series: SeriesMap,
+    /// The exponent choices.
+    pub choices: Choices,
 }
 
 /// The spectral problem whose closed form a record holds (`record --at`,
@@ -267,8 +281,9 @@ pub struct RecurrenceRequest {
 pub struct SpectralSetup {
     /// The kind of spectrum.
     pub problem: Problem,
-    /// The ends as `spectrum --ends` takes them, when given.
-    pub ends: Option<String>,
+    /// The ends when given: as written (`spectrum --ends`'s text, recorded)
+    /// and read.
+    pub ends: Option<(String, crate::solve::boundary::GivenEnds)>,
     /// The values of the other parameters as given (`NAME=VALUE,…`).
     pub at: String,
     /// The same values, read (name, exact value, span in `at`).
@@ -290,66 +305,83 @@ pub struct SpectralTexts {
 /// Derives the record of the program `source` (a whole file in the input
 /// language), named `source_path` in the record, reduced with `opts`.
 pub fn derive(source: &str, source_path: &str, opts: &ReduceOptions) -> Result<Record> {
-    derive_with(source, source_path, opts, &RecurrenceRequest::default())
+    Derivation::start(source, source_path, opts)?.finish(None, None)
 }
 
-/// [`derive()`] with the recurrence chosen by `req`; the request is written
-/// into the record (`option.about`, `option.series`, `option.exponents`) so
-/// that `check` recomputes the same one.
-pub fn derive_with(source: &str, source_path: &str, opts: &ReduceOptions, req: &RecurrenceRequest) -> Result<Record> {
-    derive_spectral(source, source_path, opts, req, None)
+/// A record in the making: the source reduced and analysed, so that a front
+/// end can read the user's texts (an expansion point, exponent choices)
+/// against the equation before the record is finished.
+#[derive(Debug)]
+pub struct Derivation<'a> {
+    source: &'a str,
+    source_path: &'a str,
+    opts: &'a ReduceOptions,
+    red: Reduction,
+    an: Analysis,
 }
 
-/// [`derive_with`] and, with `spectral`, the closed-form spectrum of that
-/// problem (`solve::closed`, as `spectrum --method exact` derives it):
-/// `closed.frequency`, `closed.route`, `closed.end[i]` (location and
-/// condition), and per family `closed.family[i].label`, `.expression` (the
-/// exact text in n and the parameters), `.n` (its range) and `.branch`; or
-/// `closed.none` with the reason.
-pub fn derive_spectral(
-    source: &str,
-    source_path: &str,
-    opts: &ReduceOptions,
-    req: &RecurrenceRequest,
-    spectral: Option<&SpectralSetup>,
-) -> Result<Record> {
-    let red = crate::ode::reduce(&crate::ode::Input::Program(source), opts)?;
-    let mut rec = Record::default();
-    let given = |o: &Option<String>| o.clone().unwrap_or_else(|| NOT_GIVEN.to_string());
-    rec.push(VERSION_KEY, env!("CARGO_PKG_VERSION"))?;
-    rec.push("source.path", source_path)?;
-    rec.push("source.sha256", sha256_hex(source.as_bytes()))?;
-    rec.push("option.subst", given(&opts.subst))?;
-    rec.push("option.at-infinity", if opts.at_infinity { "yes" } else { "no" })?;
-    rec.push("option.dxdz", given(&opts.dxdz))?;
-    rec.push("option.frequency", given(&opts.frequency))?;
-    if req.about.is_some() {
-        rec.push("option.about", given(&req.about))?;
-        rec.push("option.series", given(&req.series))?;
-        rec.push("option.exponents", given(&req.exponents))?;
+impl<'a> Derivation<'a> {
+    /// Reduces and analyses `source` (named `source_path` in the record) with `opts`.
+    pub fn start(source: &'a str, source_path: &'a str, opts: &'a ReduceOptions) -> Result<Derivation<'a>> {
+        let red = crate::ode::reduce(&crate::ode::Input::Program(source), opts)?;
+        let an = crate::analysis::analyse(&red)?;
+        Ok(Derivation { source, source_path, opts, red, an })
     }
-    reduction_fields(&mut rec, &red)?;
-    let an = crate::analysis::analyse(&red)?;
-    analysis_fields(&mut rec, &red, &an)?;
-    match &req.about {
-        None => recurrence_fields(&mut rec, &red, &an)?,
-        Some(about) => requested_recurrence(&mut rec, &red, about, req)?,
+
+    /// The reduction the record is derived from.
+    pub fn reduction(&self) -> &Reduction {
+        &self.red
     }
-    if let Some(setup) = spectral {
-        closed_fields(&mut rec, &red, opts, setup)?;
+
+    /// Its analysis.
+    pub fn analysis(&self) -> &Analysis {
+        &self.an
     }
-    Ok(rec)
+
+    /// The record: with `asked`, the recurrence asked for (its texts written
+    /// as `option.about`, `option.series`, `option.exponents`, so that
+    /// `check` recomputes the same one), else the rule's; with `spectral`,
+    /// the closed-form spectrum of that problem (`solve::closed`, as
+    /// `spectrum --method exact` derives it): `closed.frequency`,
+    /// `closed.route`, `closed.end[i]` (location and condition), and per
+    /// family `closed.family[i].label`, `.expression` (the exact text in n
+    /// and the parameters), `.n` (its range) and `.branch`; or `closed.none`
+    /// with the reason.
+    pub fn finish(&self, asked: Option<&AskedRecurrence>, spectral: Option<&SpectralSetup>) -> Result<Record> {
+        let (red, an, opts) = (&self.red, &self.an, self.opts);
+        let mut rec = Record::default();
+        let given = |o: &Option<String>| o.clone().unwrap_or_else(|| NOT_GIVEN.to_string());
+        rec.push(VERSION_KEY, env!("CARGO_PKG_VERSION"))?;
+        rec.push("source.path", self.source_path)?;
+        rec.push("source.sha256", sha256_hex(self.source.as_bytes()))?;
+        rec.push("option.subst", given(&opts.subst))?;
+        rec.push("option.at-infinity", if opts.at_infinity { "yes" } else { "no" })?;
+        rec.push("option.dxdz", given(&opts.dxdz))?;
+        rec.push("option.frequency", given(&opts.frequency))?;
+        if let Some(a) = asked {
+            rec.push("option.about", given(&a.texts.about))?;
+            rec.push("option.series", given(&a.texts.series))?;
+            rec.push("option.exponents", given(&a.texts.exponents))?;
+        }
+        reduction_fields(&mut rec, red)?;
+        analysis_fields(&mut rec, red, an)?;
+        match asked {
+            None => recurrence_fields(&mut rec, red, an)?,
+            Some(a) => requested_recurrence(&mut rec, red, a)?,
+        }
+        if let Some(setup) = spectral {
+            closed_fields(&mut rec, red, opts, setup)?;
+        }
+        Ok(rec)
+    }
 }
 
 /// The closed-form section of a record.
 fn closed_fields(rec: &mut Record, red: &Reduction, opts: &ReduceOptions, setup: &SpectralSetup) -> Result<()> {
     rec.push("option.boundary", setup.problem.tag())?;
-    rec.push("option.ends", setup.ends.clone().unwrap_or_else(|| NOT_GIVEN.to_string()))?;
+    rec.push("option.ends", setup.ends.as_ref().map_or_else(|| NOT_GIVEN.to_string(), |(t, _)| t.clone()))?;
     rec.push("option.at", &setup.at)?;
-    let ends = match &setup.ends {
-        Some(t) => Some(crate::solve::boundary::parse_ends(t).map_err(|e| e.in_option(RequestInput::Ends))?),
-        None => None,
-    };
+    let ends = setup.ends.as_ref().map(|(_, e)| *e);
     let req = SpectrumRequest {
         problem: setup.problem,
         ends,
@@ -472,17 +504,14 @@ fn analysis_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result<(
 
 /// The recurrence the user asked for; its failure is an error (the request
 /// names a point or choices that do not fit the equation).
-fn requested_recurrence(rec: &mut Record, red: &Reduction, about: &str, req: &RecurrenceRequest) -> Result<()> {
-    let choices = match &req.exponents {
-        Some(t) => crate::analysis::canonical::Choices::parse(t).map_err(|e| e.in_option(RequestInput::Exponents))?,
-        None => crate::analysis::canonical::Choices::default(),
-    };
+fn requested_recurrence(rec: &mut Record, red: &Reduction, asked: &AskedRecurrence) -> Result<()> {
     rec.push("recurrence.rule", "as requested (option.about, option.series, option.exponents)")?;
-    if crate::series::names_root(about) {
-        let r = crate::series::recurrence_about_root(red, &choices)?;
-        return recurrence_lines(rec, &format!("{} = {}", red.var, r.meaning), &r.rec);
-    }
-    let r = crate::series::recurrence(red, about, req.series.as_deref(), &choices, false)?;
+    let r = crate::series::requested(red, &asked.about, &asked.series, &asked.choices, false, None)?;
+    let about = match &asked.about {
+        PointId::Roots(f) => crate::series::root_symbol(&red.field, f).1,
+        PointId::At(at) => asked.texts.about.clone().unwrap_or_else(|| ratfunc_text(at, red.field.names(), Style::Text)),
+        PointId::Infinity => "∞".to_string(),
+    };
     recurrence_lines(rec, &format!("{} = {about}", red.var), &r)
 }
 
@@ -509,8 +538,7 @@ fn recurrence_fields(rec: &mut Record, red: &Reduction, an: &Analysis) -> Result
         if p.kind != Kind::Regular {
             continue;
         }
-        let about = ratfunc_text(at, k.names(), Style::Text);
-        let r = match crate::series::recurrence(red, &about, None, &crate::analysis::canonical::Choices::default(), false) {
+        let r = match crate::series::recurrence_at(red, at, &SeriesMap::Default, &Choices::default(), false) {
             Ok(r) => r,
             // A recurrence that does not exist about this point is part of the derivation, not a failure.
             Err(e) if e.is_bad_input() => {

@@ -219,7 +219,7 @@ pub fn text(r: &SpectrumReport, source: &str) -> String {
         o.insert_str(at, &format!("  variable: {}\n", c.sentence()));
     }
     match &r.closed {
-        ClosedSection::Found { form, values } => o.push_str(&closed_text(&r.frequency, form, values)),
+        ClosedSection::Found { form, values } => o.push_str(&closed_text(&r.frequency, form, values, &r.body.converged())),
         ClosedSection::None(why) => o.push_str(&format!("\nclosed form: none ({why})\n")),
         ClosedSection::NotAsked => {}
     }
@@ -348,10 +348,8 @@ fn closed_json(form: &ClosedForm, values: &[Vec<(u32, Complex64)>], numeric: &[(
             let values: Vec<Value> = vs
                 .iter()
                 .map(|(n, w)| {
-                    // The numeric mode of this run at this value, if any.
-                    let near = numeric.iter().min_by(|a, b| (a.1 - w).norm().total_cmp(&(b.1 - w).norm()));
-                    let check = near.filter(|(_, mw, _)| (mw - w).norm() <= CLOSED_CHECK_NEAR * w.norm().max(1.0)).map_or(Value::Null, |(mn, mw, method)| {
-                        json!({"method": method.tag(), "n": mn, "omega": pair(*mw), "agreement": (mw - w).norm() / w.norm().max(1e-300)})
+                    let check = closed_check(*w, numeric).map_or(Value::Null, |(mn, mw, method)| {
+                        json!({"method": method.tag(), "n": mn, "omega": pair(mw), "agreement": (mw - w).norm() / w.norm().max(1e-300)})
                     });
                     json!({"n": n, "omega": pair(*w), "method": "exact", "check": check})
                 })
@@ -368,7 +366,14 @@ fn closed_json(form: &ClosedForm, values: &[Vec<(u32, Complex64)>], numeric: &[(
     json!({"route": form.route, "families": fams})
 }
 
-fn closed_text(fname: &str, form: &ClosedForm, values: &[Vec<(u32, Complex64)>]) -> String {
+/// The numeric mode of this run at an exact value (within
+/// [`CLOSED_CHECK_NEAR`]), if any: its number, value and method.
+fn closed_check(w: Complex64, numeric: &[(u32, Complex64, NumericMethod)]) -> Option<(u32, Complex64, NumericMethod)> {
+    let near = numeric.iter().min_by(|a, b| (a.1 - w).norm().total_cmp(&(b.1 - w).norm()));
+    near.filter(|(_, mw, _)| (mw - w).norm() <= CLOSED_CHECK_NEAR * w.norm().max(1.0)).copied()
+}
+
+fn closed_text(fname: &str, form: &ClosedForm, values: &[Vec<(u32, Complex64)>], numeric: &[(u32, Complex64, NumericMethod)]) -> String {
     let mut s = format!("\nclosed form ({})\n", form.route);
     for (i, (f, vs)) in form.families.iter().zip(values).enumerate() {
         s.push_str(&format!("  family {}: {}\n", i + 1, f.label));
@@ -378,7 +383,20 @@ fn closed_text(fname: &str, form: &ClosedForm, values: &[Vec<(u32, Complex64)>])
             s.push_str(&format!("    branch: {}\n", f.range.branch));
         }
         for (n, w) in vs {
-            s.push_str(&format!("    n = {n}: {}  (exact)\n", fmt_complex(w.re, w.im)));
+            // The numeric table's check, and its number when it differs (a
+            // numbering that skipped or inserted a mode shows here).
+            let check = match closed_check(*w, numeric) {
+                Some((mn, mw, _)) => {
+                    let agree = (mw - w).norm() / w.norm().max(1e-300);
+                    if mn == *n {
+                        format!("; the numeric n = {mn} agrees to {agree:.1e}")
+                    } else {
+                        format!("; the numeric table numbers it n = {mn} (agreement {agree:.1e})")
+                    }
+                }
+                None => String::new(),
+            };
+            s.push_str(&format!("    n = {n}: {}  (exact{check})\n", fmt_complex(w.re, w.im)));
         }
     }
     s
@@ -562,6 +580,11 @@ fn recurrence_csv(b: &RecurrenceReport) -> String {
     o
 }
 
+/// The head of a table of modes: the overtone, the frequency by its name, the evidence.
+fn table_head(fname: &str) -> String {
+    format!("  n  {fname:<44} evidence\n")
+}
+
 fn recurrence_text(fname: &str, var: &str, source: &str, problem: Problem, b: &RecurrenceReport) -> String {
     let setup = &b.setup;
     let mut o = String::new();
@@ -598,7 +621,7 @@ fn recurrence_text(fname: &str, var: &str, source: &str, problem: Problem, b: &R
         o.push_str(&format!("  note: {n}\n"));
     }
     o.push_str(&format!("  method: {}, {}-term recurrence, n-th inversion for overtone n\n\n", recurrence_method(b), setup.terms));
-    o.push_str("  n  omega                                        evidence\n");
+    o.push_str(&table_head(fname));
     for (i, m) in b.modes.iter().enumerate() {
         let r = &m.root;
         let w = fmt_complex(r.omega.re, r.omega.im);
@@ -810,13 +833,13 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
         o.push_str(&format!("  method: {SERIES_METHOD}\n"));
         o.push_str(&format!("  series: {}\n", series.description));
         o.push_str(&format!("  {}\n\n", b.check_note));
-        o.push_str(&format!("  n  {fname:<44} evidence\n"));
+        o.push_str(&table_head(fname));
         o.push_str(&series_rows(series, b));
         return o;
     }
     o.push_str(&format!("  method: {ENDS_METHOD}\n"));
     o.push_str(&format!("  {}\n\n", b.check_note));
-    o.push_str(&format!("  n  {fname:<44} evidence\n"));
+    o.push_str(&table_head(fname));
     for (i, m) in b.modes.iter().enumerate() {
         let r = &m.root;
         if r.converged {
@@ -934,7 +957,11 @@ fn bound_json(fname: &str, b: &BoundReport) -> Value {
             })
         })
         .collect();
-    json!({"frequency": fname, "boundary": "bound", "domain": dom, "continuum": finite_or_null(b.threshold), "method": "Chebyshev collocation (Boyd 2001)", "modes": ms})
+    let mut v = json!({"frequency": fname, "boundary": "bound", "domain": dom, "continuum": finite_or_null(b.threshold), "method": "Chebyshev collocation (Boyd 2001)", "modes": ms});
+    if !b.notes.is_empty() {
+        v["notes"] = json!(b.notes);
+    }
+    v
 }
 
 fn bound_csv(b: &BoundReport) -> String {
@@ -958,6 +985,9 @@ fn bound_text(fname: &str, source: &str, b: &BoundReport) -> String {
     let mut o = format!("bound states of {source} in {fname} on {}: Chebyshev collocation with ψ = 0 at both ends (Boyd 2001)\n", domain_text(b));
     if b.threshold.is_finite() {
         o.push_str(&format!("  continuum above {fname} = {}\n", b.threshold));
+    }
+    for n in &b.notes {
+        o.push_str(&format!("  note: {n}\n"));
     }
     o.push_str("  check: shooting from both ends (Frobenius / asymptotic series, Taylor continuation), Muller seeded by each eigenvalue\n");
     o.push('\n');

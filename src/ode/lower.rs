@@ -83,6 +83,20 @@ struct Chain {
     slopes: Vec<(Span, RatFunc)>,
 }
 
+/// Which variable the map finally gives: ζ itself, or a half-angle variable
+/// rational in ζ with no more singular points, real on the real x-axis.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum MapForm {
+    /// ζ = e^(c·x).
+    Exp,
+    /// u = (ζ − 1)/(ζ + 1) = tanh(c·x/2), c real: the real line onto (−1, 1).
+    Tanh,
+    /// u = −i(ζ − 1)/(ζ + 1) = tan(k·x/2) with c = ik imaginary: for
+    /// trigonometric coefficients with poles on the real axis (not a
+    /// periodic problem), whose points x = 0 and x = π/k go to u = 0 and ∞.
+    Tan,
+}
+
 /// A change of variable ζ = e^(c·x) that made transcendental coefficients rational.
 #[derive(Clone, Debug)]
 pub struct ExpMap {
@@ -92,10 +106,8 @@ pub struct ExpMap {
     pub new_var: String,
     /// c in ζ = e^(c·x), in the new field (free of the variable; may hold I).
     pub c: RatFunc,
-    /// True when the equation was then carried to u = (ζ − 1)/(ζ + 1) =
-    /// tanh(c·x/2), which has no more singular points and maps the real line
-    /// onto (−1, 1).
-    pub tanh: bool,
+    /// The variable the equation was finally written in.
+    pub form: MapForm,
     /// x₀ of ζ = e^(c(x − x₀)) when the arguments were written a·x + b (in the
     /// old field, free of x; zero otherwise).
     pub shift: RatFunc,
@@ -420,7 +432,9 @@ fn plan_map(field: &Field, names: &[String], calls: &[(Func, &Expr, Span)], requ
 }
 
 /// The equation in ζ = e^(c·x) for the first candidate c that lowers (or in
-/// u = tanh(c x/2) when that has no more singular points and no map was requested).
+/// the half-angle variable tanh(c x/2), or tan(k x/2) for c = ik when the
+/// coefficients have poles on the real axis, when that has no more singular
+/// points and no map was requested).
 fn lower_through_map(
     lowering: &Lowering,
     plan: &MapPlan,
@@ -443,13 +457,26 @@ fn lower_through_map(
                 let p = nf.add(&nf.inv(&zeta)?, &nf.div(&px, &h)?)?;
                 let q = nf.div(&qx, &nf.mul(&h, &h)?)?;
                 let real = c.as_constant().is_none_or(|k| k.im.is_zero()) && c.is_real();
-                if !requested && real {
-                    if let Some((ode, map)) = tanh_form(lowering, plan, c, (&nf, &p, &q), names, &inferred, limits)? {
+                let imaginary = c.as_constant().is_some_and(|k| k.re.is_zero() && !k.im.is_zero());
+                let form = if real {
+                    Some(MapForm::Tanh)
+                } else if imaginary && poles_off_zero(&nf, &p, &q)? {
+                    Some(MapForm::Tan)
+                } else {
+                    None
+                };
+                if let (false, Some(form)) = (requested, form) {
+                    if let Some((ode, map)) = half_angle_form(lowering, plan, c, form, (&nf, &p, &q), names, &inferred, limits)? {
                         return Ok((ode, Some(map)));
                     }
                 }
-                let map =
-                    ExpMap { old_var: lowering.var.clone(), new_var: plan.new_var.clone(), c: c.clone(), tanh: false, shift: plan.shift.clone() };
+                let map = ExpMap {
+                    old_var: lowering.var.clone(),
+                    new_var: plan.new_var.clone(),
+                    c: c.clone(),
+                    form: MapForm::Exp,
+                    shift: plan.shift.clone(),
+                };
                 return Ok((lowering.ode((nf, p, q, lets), plan.new_var.clone(), &inferred), Some(map)));
             }
             Err(e) if e.kind == ErrorKind::NotRational && n + 1 < plan.candidates.len() => last = Some(e),
@@ -459,12 +486,16 @@ fn lower_through_map(
     Err(last.unwrap_or_else(|| Error::new(ErrorKind::Internal, "no candidate map")))
 }
 
-/// The equation in u = (ζ − 1)/(ζ + 1) = tanh(c x/2), when it has no more
-/// singular points than the one in ζ (`in_zeta`: its field, p and q).
-fn tanh_form(
+/// The equation in the half-angle variable of `form` (u = (ζ − 1)/(ζ + 1)
+/// = tanh(c x/2), or u = −i(ζ − 1)/(ζ + 1) = tan(k x/2) for c = ik), when
+/// it has no more singular points than the one in ζ (`in_zeta`: its field,
+/// p and q).
+#[allow(clippy::too_many_arguments)]
+fn half_angle_form(
     lowering: &Lowering,
     plan: &MapPlan,
     c: &RatFunc,
+    form: MapForm,
     in_zeta: (&Field, &RatFunc, &RatFunc),
     names: &[String],
     inferred: &[String],
@@ -475,15 +506,28 @@ fn tanh_form(
     let mut u_names = vec![u_name.clone()];
     u_names.extend(lowering.param_names.iter().cloned());
     let tf = Field::new(u_names, limits.clone())?;
-    let u = tf.var(0);
     let one = RatFunc::one();
-    let g = tf.div(&tf.add(&one, &u)?, &tf.sub(&one, &u)?)?;
+    // ζ = (1 + u)/(1 − u) for tanh; ζ = (1 + iu)/(1 − iu) for tan.
+    let v = match form {
+        MapForm::Tan => tf.mul(&RatFunc::constant(&GRat { re: Rat::zero(), im: Rat::one() }), &tf.var(0))?,
+        MapForm::Tanh | MapForm::Exp => tf.var(0),
+    };
+    let g = tf.div(&tf.add(&one, &v)?, &tf.sub(&one, &v)?)?;
     let (pu, qu) = super::transform::change_variable(&tf, p, q, &g)?;
     if singular_count(&tf, &pu, &qu)? > singular_count(nf, p, q)? {
         return Ok(None);
     }
-    let map = ExpMap { old_var: lowering.var.clone(), new_var: u_name.clone(), c: c.clone(), tanh: true, shift: plan.shift.clone() };
+    let map = ExpMap { old_var: lowering.var.clone(), new_var: u_name.clone(), c: c.clone(), form, shift: plan.shift.clone() };
     Ok(Some((lowering.ode((tf, pu, qu, Vec::new()), u_name, inferred), map)))
+}
+
+/// Whether the equation in ζ has a finite singular point other than ζ = 0
+/// (for trigonometric coefficients: a pole on the real x-axis, so that the
+/// problem is not a periodic one).
+fn poles_off_zero(field: &Field, p: &RatFunc, q: &RatFunc) -> Result<bool> {
+    let qn = super::normal::normal_q(field, p, q)?;
+    let zeta = crate::algebra::Poly::var(0);
+    Ok(qn.den_factors().iter().any(|(f, _)| f.poly().uses_var(0) && *f.poly() != zeta))
 }
 
 /// The number of singular points of y'' + p y' + q y = 0, infinity included

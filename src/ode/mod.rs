@@ -7,7 +7,7 @@ mod normal;
 mod quasi;
 mod transform;
 
-pub use lower::{lower_program_mapped, ExpMap, LinearOde, MapRequest, NameMode};
+pub use lower::{lower_program_mapped, ExpMap, LinearOde, MapForm, MapRequest, NameMode};
 pub use normal::{linear_root, normal_form, normal_q, prefactor, prefactor_text, NormalForm, Prefactor};
 pub use transform::{change_variable, schrodinger, schwarzian, transform_q};
 
@@ -145,7 +145,7 @@ fn map_request(text: &str, parse_limits: &ParseLimits) -> Result<MapRequest> {
         return Err(usage());
     }
     let offset = eq + 1;
-    let expr = syntax::parse_expr(&text[offset..], parse_limits).map_err(|e| shift(e, offset).in_option(RequestInput::Map))?;
+    let expr = syntax::parse_expr(&text[offset..], parse_limits).map_err(|e| e.moved_by(offset).in_option(RequestInput::Map))?;
     let syntax::ExprKind::Call(syntax::Func::Exp, arg) = expr.kind else { return Err(usage()) };
     let mut exponent = *arg;
     shift_expr(&mut exponent, offset);
@@ -175,9 +175,17 @@ pub fn exp_map_text(map: &ExpMap, ode: &LinearOde) -> String {
     let mut names = vec![map.new_var.clone()];
     names.extend(ode.params.iter().cloned());
     let half = RatFunc::rat(&crate::algebra::Rat::new(1.into(), 2.into()).expect("nonzero"));
-    let c = if map.tanh { ode.field.mul(&map.c, &half).unwrap_or_else(|_| map.c.clone()) } else { map.c.clone() };
+    // tanh(c x/2); tan(k x/2) with k = c/i = −ic.
+    let minus_half_i = RatFunc::constant(&crate::algebra::GRat {
+        re: crate::algebra::Rat::zero(),
+        im: crate::algebra::Rat::new((-1).into(), 2.into()).expect("nonzero"),
+    });
+    let (c, function) = match map.form {
+        MapForm::Exp => (map.c.clone(), "exp"),
+        MapForm::Tanh => (ode.field.mul(&map.c, &half).unwrap_or_else(|_| map.c.clone()), "tanh"),
+        MapForm::Tan => (ode.field.mul(&map.c, &minus_half_i).unwrap_or_else(|_| map.c.clone()), "tan"),
+    };
     let c = crate::algebra::print::ratfunc_text(&c, &names, crate::algebra::print::Style::Text);
-    let function = if map.tanh { "tanh" } else { "exp" };
     let times = match c.as_str() {
         "1" => String::new(),
         "-1" => "-".to_string(),
@@ -240,6 +248,17 @@ pub(crate) fn fresh_name(want: &str, taken: &[String]) -> String {
     name
 }
 
+/// Reads `text`, an expression in the reduced equation's variable and
+/// parameters (and its `let` names), as an exact rational function of the
+/// reduction's field: how a point or a map that a user writes beside an
+/// equation becomes exact. Spans of errors are byte ranges of `text`.
+pub fn read_expression(red: &Reduction, text: &str) -> Result<RatFunc> {
+    let expr = syntax::parse_expr(text, &ParseLimits::default())?;
+    let mut names = vec![red.var.clone()];
+    names.extend(red.ode.params.iter().cloned());
+    lower_rational(&red.field, &names, &red.ode.lets, &expr)
+}
+
 /// The whole `reduce` derivation: lower, optionally change variable, normal form, Schrödinger form.
 pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
     let (ode, map) = lower_mapped(input, &opts.limits, &opts.parse_limits, opts.map.as_deref())?;
@@ -269,7 +288,7 @@ pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
                 .note(format!("write {}=EXPR with EXPR rational in a new variable", ode.var)));
         }
         let offset = eq + 1;
-        let expr = syntax::parse_expr(rhs, &opts.parse_limits).map_err(|e| shift(e, offset).in_option(option))?;
+        let expr = syntax::parse_expr(rhs, &opts.parse_limits).map_err(|e| e.moved_by(offset).in_option(option))?;
         // The new variable: the one name in EXPR that is not a parameter.
         let mut found = Vec::new();
         collect_expr_names(&expr, &mut found);
@@ -292,7 +311,7 @@ pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
         let mut new_names = vec![new_var.clone()];
         new_names.extend(ode.params.iter().cloned());
         let new_field = Field::new(new_names.clone(), opts.limits.clone())?;
-        let g = lower_rational(&new_field, &new_names, &[], &expr).map_err(|e| shift(e, offset).in_option(option))?;
+        let g = lower_rational(&new_field, &new_names, &[], &expr).map_err(|e| e.moved_by(offset).in_option(option))?;
         if !g.uses_var(0) {
             return Err(Error::new(ErrorKind::Usage, "the substitution does not depend on the new variable")
                 .at(Span::new(offset, text.len()))
@@ -330,13 +349,6 @@ pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
         schrod = Some(Schrodinger { dxdz: h, w, v, frequency: freq_name, v_depends_on_frequency: dep });
     }
     Ok(Reduction { ode, field, var, p, q, normal, change, schrodinger: schrod, map })
-}
-
-fn shift(mut e: Error, offset: usize) -> Error {
-    if let Some(s) = e.span {
-        e.span = Some(Span::new(s.start + offset, s.end + offset));
-    }
-    e
 }
 
 fn collect_expr_names(e: &syntax::Expr, out: &mut Vec<String>) {

@@ -14,7 +14,7 @@
 use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::{gcd, Field, Int, Poly, Rat, RatFunc, UPoly};
 use crate::analysis::canonical::Choices;
-use crate::analysis::{analyse_equation, Kind, Place, SingularPoint};
+use crate::analysis::{analyse_equation, Kind, Place, PointId, SingularPoint};
 use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::{change_variable, normal_q, prefactor, Reduction};
@@ -118,18 +118,22 @@ fn den_in_var(r: &RatFunc) -> Poly {
     d
 }
 
-/// Derives the recurrence about the point printed as `about`, with the
-/// series variable the user wrote (`u=EXPR`) or the default one.
-pub fn recurrence(red: &Reduction, about: &str, series: Option<&str>, choices: &Choices, normal: bool) -> Result<Recurrence> {
-    let map = series.map_or(SeriesMap::Default, |t| SeriesMap::Given(t.to_string()));
-    recurrence_mod(red, About::Printed(about), &map, choices, normal, None, &[])
-}
-
 /// Derives the recurrence about the finite singular point at `at` (exact),
 /// with the series variable `map`: the typed entry for callers that chose
 /// the point and the variable themselves (no text round trip).
 pub fn recurrence_at(red: &Reduction, at: &RatFunc, map: &SeriesMap, choices: &Choices, normal: bool) -> Result<Recurrence> {
-    recurrence_mod(red, About::At(at), map, choices, normal, None, &[])
+    recurrence_mod(red, at, map, choices, normal, None, &[])
+}
+
+/// The recurrence about the point written `at` with the exponent `picks`
+/// (`inf` for infinity), in the default series variable: the unit tests'
+/// short way to Leaver's recurrences.
+#[cfg(test)]
+pub(crate) fn about_written(red: &Reduction, at: &str, picks: &[(&str, usize)]) -> Recurrence {
+    let read = |t: &str| if t == "inf" { PointId::Infinity } else { PointId::At(crate::ode::read_expression(red, t).expect("a point")) };
+    let choices = Choices { picks: picks.iter().map(|(p, c)| (read(p), *c)).collect(), values: Vec::new() };
+    let PointId::At(z) = read(at) else { panic!("a finite point") };
+    recurrence_at(red, &z, &SeriesMap::Default, &choices, false).expect("the recurrence")
 }
 
 /// How the series variable u is chosen.
@@ -142,15 +146,14 @@ pub enum SeriesMap {
     Shift,
     /// u = (z − z_h)/(z − pole), the pole exact.
     Pole(RatFunc),
-    /// A Möbius map as the user wrote it, `u=EXPR` (read by the expression parser).
-    Given(String),
-}
-
-/// The expansion point: as printed (a user's text), or exact.
-#[derive(Clone, Copy, Debug)]
-enum About<'a> {
-    Printed(&'a str),
-    At(&'a RatFunc),
+    /// A Möbius map u = `map`(z) that the user gave, exact, with the text
+    /// it was written in (shown as the series variable).
+    Given {
+        /// u as an exact function of the equation's variable.
+        map: RatFunc,
+        /// How the user wrote it, e.g. `u=(r - 2*M)/r`.
+        text: String,
+    },
 }
 
 /// An exponent of the unknown known from the original equation at a point
@@ -211,15 +214,10 @@ impl PrefactorParts<'_> {
     }
 }
 
-fn norm(s: &str) -> String {
-    s.chars().filter(|c| !c.is_whitespace()).collect()
-}
-
-/// The exponent picked at the point printed `label`: the one the user chose,
+/// The exponent picked at the point `id`: the one the user chose,
 /// else an exact zero, else the first exact one.
-fn pick(choices: &Choices, label: &str, values: &[Option<RatFunc>]) -> Option<usize> {
-    let norm_l = norm(label);
-    if let Some((_, c)) = choices.picks.iter().find(|(p, _)| norm(p) == norm_l) {
+fn pick(choices: &Choices, id: &PointId, values: &[Option<RatFunc>]) -> Option<usize> {
+    if let Some(c) = choices.get(id) {
         return values.get(c.checked_sub(1)?)?.as_ref().map(|_| c - 1);
     }
     values.iter().position(|v| v.as_ref().is_some_and(RatFunc::is_zero)).or_else(|| values.iter().position(Option::is_some))
@@ -239,7 +237,7 @@ fn pick(choices: &Choices, label: &str, values: &[Option<RatFunc>]) -> Option<us
 /// recurrence normalised.
 fn recurrence_mod(
     red: &Reduction,
-    about: About<'_>,
+    about: &RatFunc,
     series: &SeriesMap,
     choices: &Choices,
     normal: bool,
@@ -298,18 +296,10 @@ fn recurrence_mod(
 }
 
 /// The singular point `about`, which must be regular.
-fn expansion_point<'a>(k: &Field, finite: &[(RatFunc, &'a SingularPoint)], about: About<'_>) -> Result<(RatFunc, &'a SingularPoint)> {
-    let found = match about {
-        About::Printed(text) => finite.iter().find(|(at, _)| norm(&rt(k, at)) == norm(text)),
-        About::At(z) => finite.iter().find(|(at, _)| at == z),
-    };
-    let Some((zh, hp)) = found.cloned() else {
+fn expansion_point<'a>(k: &Field, finite: &[(RatFunc, &'a SingularPoint)], about: &RatFunc) -> Result<(RatFunc, &'a SingularPoint)> {
+    let Some((zh, hp)) = finite.iter().find(|(at, _)| at == about).cloned() else {
         let list: Vec<String> = finite.iter().map(|(at, _)| rt(k, at)).collect();
-        let about = match about {
-            About::Printed(text) => text.to_string(),
-            About::At(z) => rt(k, z),
-        };
-        return Err(usage(format!("'{about}' is not a singular point with an exact location; the points are: {}", list.join(", ")))
+        return Err(usage(format!("'{}' is not a singular point with an exact location; the points are: {}", rt(k, about), list.join(", ")))
             .in_option(RequestInput::About));
     };
     let about = rt(k, &zh);
@@ -329,8 +319,8 @@ fn series_variable(red: &Reduction, series: &SeriesMap, zh: &RatFunc, others: &[
     unames[0] = u.clone();
     let ku = Field::new(unames, k.limits().clone())?;
     let (pole, inverse, text) = match series {
-        SeriesMap::Given(text) => {
-            let (z2, g) = parse_mobius(red, text, zh)?;
+        SeriesMap::Given { map, text } => {
+            let (z2, g) = mobius_inverse(red, map, zh)?;
             (z2, g, text.to_string())
         }
         SeriesMap::Default | SeriesMap::Shift | SeriesMap::Pole(_) => {
@@ -391,13 +381,14 @@ fn finite_powers(
             continue;
         }
         let label = rt(k, at);
-        if let Some((_, v)) = choices.values.iter().find(|(p, _)| norm(p) == norm(&label)) {
+        let id = PointId::At(at.clone());
+        if let Some(v) = choices.value(&id) {
             said.push(format!("at {} = {label}: exponent {} (given)", red.var, rt(k, v)));
             pre.add_power(at, v, true)?;
             continue;
         }
         let values: Vec<Option<RatFunc>> = sp.unknown_exponents.iter().map(|e| e.exact_value(k)).collect();
-        let Some(i) = pick(choices, &label, &values) else {
+        let Some(i) = pick(choices, &id, &values) else {
             return Err(usage(format!(
                 "the exponents at {} = {label} are not exact; choose the point's exponent with {opt_exponents} or expand elsewhere",
                 red.var,
@@ -444,7 +435,7 @@ fn infinity_branch(
                 cands.push((e, rho));
             }
             let vals: Vec<Option<RatFunc>> = cands.iter().map(|(e, _)| Some(e.clone())).collect();
-            let Some(i) = pick(choices, "∞", &vals).or_else(|| pick(choices, "inf", &vals)) else {
+            let Some(i) = pick(choices, &PointId::Infinity, &vals) else {
                 return Err(usage("the formal solutions at ∞ have no exact leading coefficient"));
             };
             let (e, rho) = cands[i].clone();
@@ -454,7 +445,7 @@ fn infinity_branch(
         Kind::Regular => {
             // y ~ z^(−ρ∞) for the chosen exponent ρ∞ at infinity (in t = 1/z).
             let values: Vec<Option<RatFunc>> = inf.unknown_exponents.iter().map(|e| e.exact_value(k)).collect();
-            let power = match pick(choices, "∞", &values) {
+            let power = match pick(choices, &PointId::Infinity, &values) {
                 Some(i) => {
                     let rho = values[i].clone().expect("picked exact");
                     said.push(format!("at {} = ∞: exponent {} in 1/{} (number {})", red.var, rt(k, &rho), red.var, i + 1));
@@ -575,16 +566,11 @@ fn normalised(kn: &Field, ps: Vec<RatFunc>, modf: Option<&RootRelation>) -> Resu
     Ok(coeffs)
 }
 
-/// Reads `u=EXPR` with EXPR a Möbius expression in the variable that vanishes
+/// Checks that u = `m`(z) is a Möbius map (a z + b)/(c z + d) that vanishes
 /// at z_h; returns its pole z₂ (if finite) and the inverse map z = g(u).
-fn parse_mobius(red: &Reduction, text: &str, zh: &RatFunc) -> Result<(Option<RatFunc>, RatFunc)> {
+fn mobius_inverse(red: &Reduction, m: &RatFunc, zh: &RatFunc) -> Result<(Option<RatFunc>, RatFunc)> {
     let k = &red.field;
     let opt = RequestInput::Series;
-    let Some(eq) = text.find('=') else { return Err(usage("expected u=EXPR, e.g. u=(r - 2*M)/r").in_option(opt)) };
-    let expr = crate::syntax::parse_expr(&text[eq + 1..], &crate::syntax::ParseLimits::default()).map_err(|e| e.in_option(opt))?;
-    let mut names = vec![red.var.clone()];
-    names.extend(red.ode.params.iter().cloned());
-    let m = crate::ode::lower_rational(k, &names, &red.ode.lets, &expr).map_err(|e| e.in_option(opt))?;
     // m = (a z + b)/(c z + d).
     let num = UPoly::from_poly(m.num());
     let den_poly = m.den_expanded().mul_int(m.scale());
@@ -593,7 +579,7 @@ fn parse_mobius(red: &Reduction, text: &str, zh: &RatFunc) -> Result<(Option<Rat
         return Err(usage("the series variable must be a Möbius map (a z + b)/(c z + d) of the variable").in_option(opt));
     }
     let (a, b, c, d) = (num.coeff(1), num.coeff(0), den.coeff(1), den.coeff(0));
-    if !k.compose(&m, 0, zh)?.is_zero() {
+    if !k.compose(m, 0, zh)?.is_zero() {
         return Err(usage("the series variable must vanish at the expansion point").in_option(opt));
     }
     let mut unames = k.names().to_vec();
@@ -621,16 +607,11 @@ fn rem_monic(p: &Poly, t: usize, f: &Poly) -> Result<Poly> {
     Ok(Poly::from_univariate(t, &pu))
 }
 
-/// True when `about` names the adjoined root θ of a quadratic factor
-/// (`θ` or `theta`), as `--about` accepts it.
-pub fn names_root(about: &str) -> bool {
-    matches!(about.trim(), "θ" | "theta")
-}
-
-/// The recurrence a user asked for: about a point as printed, or about the
-/// root θ of an irreducible quadratic (whose series variable is fixed), with
-/// an optional series variable `u=EXPR`, exponent choices and the normal form's
-/// ψ expanded instead of the unknown.
+/// The recurrence a user asked for: about the singular point `about` (a
+/// point with an exact location, or a root θ of an irreducible quadratic,
+/// whose series variable is fixed), in the series variable `series`, with
+/// exponent choices, and the normal form's ψ expanded instead of the unknown
+/// when `normal`.
 ///
 /// When the formal solutions at an irregular infinity have no exact leading
 /// coefficient (a massive field: e^(±√(μ² − ω²) z)), their square root χ is
@@ -638,7 +619,7 @@ pub fn names_root(about: &str) -> bool {
 /// `freq` — by default the parameter named omega, ω or w — symbolic), the
 /// series carries e^(−χz) at infinity, and a choice line says what χ
 /// stands for; its branch is the user's to pick when evaluating.
-pub fn requested(red: &Reduction, about: &str, series: Option<&str>, choices: &Choices, normal: bool, freq: Option<usize>) -> Result<Recurrence> {
+pub fn requested(red: &Reduction, about: &PointId, series: &SeriesMap, choices: &Choices, normal: bool, freq: Option<usize>) -> Result<Recurrence> {
     if rate::needs_rate(red)? {
         let names = red.field.names();
         let freq = freq.or_else(|| ["omega", "ω", "w"].iter().find_map(|d| names.iter().skip(1).position(|n| n == d).map(|i| i + 1)));
@@ -649,9 +630,8 @@ pub fn requested(red: &Reduction, about: &str, series: Option<&str>, choices: &C
             )));
         };
         let a = rate::adjoin_rate(red, freq)?;
-        let mut picks: Vec<(String, usize)> = choices.picks.iter().filter(|(l, _)| l != "∞" && l != "inf" && l != "infinity").cloned().collect();
-        picks.push(("∞".to_string(), a.branch));
-        let adjoined = Choices { picks, values: choices.values.clone() };
+        let mut adjoined = choices.without(&PointId::Infinity);
+        adjoined.set(PointId::Infinity, a.branch);
         let mut rec = requested_exact(&a.red, about, series, &adjoined, normal)?;
         rec.choices.push(format!(
             "at ∞: {} (the series carries e^(−{s}{v}); pick the branch of {s} when evaluating: Re {s} > 0 decays)",
@@ -665,16 +645,37 @@ pub fn requested(red: &Reduction, about: &str, series: Option<&str>, choices: &C
 }
 
 /// [`requested`] where the leading coefficients at infinity are exact.
-fn requested_exact(red: &Reduction, about: &str, series: Option<&str>, choices: &Choices, normal: bool) -> Result<Recurrence> {
-    if names_root(about) {
-        if series.is_some() || normal {
-            return Err(
-                usage("about θ the series variable is fixed (u = (z − θ)/(z − θ')) and the unknown is expanded").in_option(RequestInput::About)
-            );
+fn requested_exact(red: &Reduction, about: &PointId, series: &SeriesMap, choices: &Choices, normal: bool) -> Result<Recurrence> {
+    match about {
+        PointId::At(at) => recurrence_at(red, at, series, choices, normal),
+        PointId::Roots(f) => {
+            if *series != SeriesMap::Default || normal {
+                return Err(
+                    usage("about θ the series variable is fixed (u = (z − θ)/(z − θ')) and the unknown is expanded").in_option(RequestInput::About)
+                );
+            }
+            let an = crate::analysis::analyse(red)?;
+            let Some(p) = an.point(about).filter(|p| p.kind == Kind::Regular) else {
+                return Err(usage(format!(
+                    "the roots of {} are not a regular singular point",
+                    crate::algebra::print::poly_text(f, &Int::ONE, red.field.names(), Style::Text)
+                ))
+                .in_option(RequestInput::About));
+            };
+            recurrence_about_point(red, p, choices).map(|r| r.rec).map_err(|e| {
+                if e.is_bad_input() && e.span.is_none() {
+                    e.in_option(RequestInput::About)
+                } else {
+                    e
+                }
+            })
         }
-        return Ok(recurrence_about_root(red, choices)?.rec);
+        PointId::Infinity => Err(usage(format!(
+            "the series is set up about a finite regular singular point, not about ∞: rewrite the equation in 1/z ({}) to expand there",
+            RequestInput::AtInfinity.mention()
+        ))
+        .in_option(RequestInput::About)),
     }
-    recurrence(red, about, series, choices, normal)
 }
 
 /// The symbol adjoined for a root θ of the quadratic `f` (in `k`'s variable
@@ -726,7 +727,7 @@ pub fn recurrence_about_root(red: &Reduction, choices: &Choices) -> Result<RootR
 /// The recurrence about the singular point `p`, a root θ of an irreducible
 /// quadratic factor, adjoined as a symbol (see [`root_symbol`]) placed last
 /// in the recurrence's field. The exponent there is chosen by `choices` at
-/// the label "θ" (1-based), else the first exact one.
+/// its identity (1-based), else the first exact one.
 pub fn recurrence_about_point(red: &Reduction, p: &crate::analysis::SingularPoint, choices: &Choices) -> Result<RootRecurrence> {
     let k = &red.field;
     let Place::Roots(f) = &p.place else { return Err(Error::new(ErrorKind::Internal, "not a root of a factor")) };
@@ -734,8 +735,9 @@ pub fn recurrence_about_point(red: &Reduction, p: &crate::analysis::SingularPoin
         return Err(usage("the expansion point must be a root of a quadratic factor"));
     }
     let exact: Vec<Option<UPoly>> = p.unknown_exponents.iter().map(|e| e.in_extension(k).ok().flatten()).collect();
-    let pick = match choices.picks.iter().find(|(l, _)| names_root(l)) {
-        Some((_, c)) => Some(c - 1).filter(|j| exact.get(*j).is_some_and(Option::is_some)),
+    let id = p.place.id();
+    let pick = match choices.get(&id) {
+        Some(c) => Some(c - 1).filter(|j| exact.get(*j).is_some_and(Option::is_some)),
         None => exact.iter().position(Option::is_some),
     };
     let Some(j) = pick else {
@@ -743,7 +745,7 @@ pub fn recurrence_about_point(red: &Reduction, p: &crate::analysis::SingularPoin
     };
     let rho = exact[j].clone().expect("picked exact");
     let (symbol, meaning) = root_symbol(k, f);
-    let others = Choices { picks: choices.picks.iter().filter(|(l, _)| !names_root(l)).cloned().collect(), values: choices.values.clone() };
+    let others = choices.without(&id);
     let rec = recurrence_at_root(red, f, &rho, &symbol, &others)?;
     Ok(RootRecurrence { rec, exponent: j, symbol, meaning })
 }
@@ -802,9 +804,8 @@ pub fn recurrence_at_root(red: &Reduction, f: &Poly, rho: &UPoly, theta_name: &s
     for (j, c) in rho.coeffs.iter().enumerate() {
         rho_r = k2.add(&rho_r, &k2.mul(c, &k2.pow(&theta_r, j as i64)?)?)?;
     }
-    let label = rt(k2, &theta_r);
     let mut ch = choices.clone();
-    ch.values.push((label.clone(), rho_r));
+    ch.values.push((PointId::At(theta_r.clone()), rho_r));
     // The other singular points of the original equation keep an exact
     // exponent of the unknown (its exponent 0 when it has one).
     let an0 = crate::analysis::analyse(red)?;
@@ -826,7 +827,7 @@ pub fn recurrence_at_root(red: &Reduction, f: &Poly, rho: &UPoly, theta_name: &s
     let phi = Poly::var(t);
     let relation = phi.pow(2).add(&fu[1].mul(&phi)).add(&fu[0].mul(&fu[2]));
     let modf = Some(RootRelation { var: t, poly: relation });
-    recurrence_mod(&red2, About::At(&theta_r), &SeriesMap::Pole(theta2), &ch, false, modf, &extra)
+    recurrence_mod(&red2, &theta_r, &SeriesMap::Pole(theta2), &ch, false, modf, &extra)
 }
 
 /// What a three-term recurrence α_n a_{n+1} + β_n a_n + γ_n a_{n−1} = 0

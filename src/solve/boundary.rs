@@ -43,6 +43,10 @@ pub enum SpectrumKind {
     Bound,
 }
 
+/// Two ends a user gave (left, right), each with the condition there when
+/// one was given.
+pub type GivenEnds = [(Location, Option<Condition>); 2];
+
 /// Where an end lies.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub enum Location {
@@ -251,7 +255,7 @@ pub fn try_problem(
     values: &[GRat],
     freq: usize,
     kind: SpectrumKind,
-    given: Option<[(Location, Option<Condition>); 2]>,
+    given: Option<GivenEnds>,
 ) -> Result<BoundaryProblem> {
     let ode = super::try_num_ode(field, &RatFunc::zero(), q, values, freq)?;
     // The unknown's own coefficient of y: its ω-free part against its ω²
@@ -367,7 +371,7 @@ fn describe(p: &RealPoint) -> String {
 }
 
 /// The ends as given, each matched to a singular point.
-fn given_ends(given: &[(Location, Option<Condition>); 2], real_points: &[RealPoint], infinity: &Infinity) -> Result<[FoundEnd; 2]> {
+fn given_ends(given: &GivenEnds, real_points: &[RealPoint], infinity: &Infinity) -> Result<[FoundEnd; 2]> {
     let find_point = |z: f64| real_points.iter().find(|p| (p.z - z).abs() <= 1e-9 * z.abs().max(1.0));
     let mut out = Vec::new();
     for (loc, _) in given.iter() {
@@ -390,16 +394,11 @@ fn given_ends(given: &[(Location, Option<Condition>); 2], real_points: &[RealPoi
 /// The ends a physicist means when none are given: from the outermost
 /// horizon to infinity, or, when that horizon is cosmological, from the
 /// next singular point inward to it (`eqs`: the normal form and the
-/// equation as written, whose potentials decide).
+/// equation as written, whose potentials decide); with no horizon, from the
+/// outermost real singular point (a centre) to infinity.
 fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &NumOde), notes: &mut Vec<String>) -> Result<[FoundEnd; 2]> {
     let (ode, unknown) = eqs;
     let horizons: Vec<&RealPoint> = real_points.iter().filter(|p| p.nature == Nature::Horizon).collect();
-    let Some(outer) = horizons.last() else {
-        return Err(usage(format!(
-            "no horizon: the equation has no real singular point whose exponents depend on the spectral parameter (give the ends with {opt_ends})",
-            opt_ends = RequestInput::Ends.mention()
-        )));
-    };
     let inf = infinity.nature.ok_or_else(|| {
         usage(format!(
             "infinity has Poincaré rank {}: not supported as an end yet (give the ends with {opt_ends})",
@@ -407,6 +406,31 @@ fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &
             opt_ends = RequestInput::Ends.mention()
         ))
     })?;
+    let Some(outer) = horizons.last() else {
+        // No horizon (a star, a cavity, global anti-de Sitter): the domain
+        // runs from the outermost real singular point (a centre) to
+        // infinity, and the spectrum is that of the field's normal or
+        // quasinormal modes there.
+        let Some(centre) = real_points.last() else {
+            return Err(usage(format!(
+                "no horizon and no real singular point: the equation has no natural end (give the ends with {opt_ends})",
+                opt_ends = RequestInput::Ends.mention()
+            )));
+        };
+        notes.push(format!(
+            "no horizon (no real singular point whose exponents depend on the spectral parameter): the domain runs from the outermost real singular point, {}, to infinity (name other ends with {opt_ends})",
+            fmt(centre.z),
+            opt_ends = RequestInput::Ends.mention()
+        ));
+        let found = match inf {
+            Nature::IrregularRank1 => "irregular point of rank 1".to_string(),
+            _ => "regular boundary".to_string(),
+        };
+        return Ok([
+            FoundEnd { location: Location::At(centre.z), nature: centre.nature, found: describe(centre) },
+            FoundEnd { location: Location::Infinity, nature: inf, found },
+        ]);
+    };
     let inner = real_points.iter().rev().find(|p| p.z < outer.z - 1e-9 * outer.z.abs().max(1.0));
     // Beyond a cosmological horizon the potential turns negative; inside
     // it (between it and the next singular point inward) it is positive.
@@ -422,6 +446,17 @@ fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &
             let interior = inner.nature == Nature::Horizon || says(unknown) || says(ode);
             if inner.nature == Nature::Horizon {
                 notes.push(format!("two horizons with a regular infinity beyond: taken as a black-hole and a cosmological horizon (for the inner and outer horizons of an anti-de Sitter black hole name the ends with {opt_ends})", opt_ends = RequestInput::Ends.mention()));
+            } else if !interior {
+                // f and −f give the same equation when the potential's
+                // bracket changes sign with them: which side is static is a
+                // choice, said plainly with the command for the other one.
+                notes.push(format!(
+                    "the horizon at {} is taken as a black hole's, with the static region outside it up to the regular boundary at infinity; the equation alone does not decide this (the potential does not change sign across the horizon as a cosmological horizon's does): for a cosmological horizon with the static region inside it (a de Sitter static patch), name the ends with {opt_ends} {}..{}",
+                    fmt(outer.z),
+                    fmt(inner.z),
+                    fmt(outer.z),
+                    opt_ends = RequestInput::Ends.mention()
+                ));
             }
             !interior
         }
@@ -444,7 +479,7 @@ fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &
 
 /// Each end with its condition: the one given (when it fits the end), else
 /// the problem's natural one.
-fn end_conditions(ends: [FoundEnd; 2], given: Option<&[(Location, Option<Condition>); 2]>, kind: SpectrumKind) -> Result<[End; 2]> {
+fn end_conditions(ends: [FoundEnd; 2], given: Option<&GivenEnds>, kind: SpectrumKind) -> Result<[End; 2]> {
     let mut out: Vec<End> = Vec::new();
     for (i, FoundEnd { location, nature, found }) in ends.into_iter().enumerate() {
         let wanted = given.and_then(|g| g[i].1);
@@ -506,43 +541,6 @@ fn fmt(x: f64) -> String {
     } else {
         s
     }
-}
-
-/// Reads the two ends of a boundary problem written `LEFT[:COND]..RIGHT[:COND]`,
-/// each end a real number (a singular point, matched numerically) or `inf`,
-/// each condition a [`Condition::name`]; errors span the whole text (the
-/// caller says which option or argument it was).
-pub fn parse_ends(text: &str) -> Result<[(Location, Option<Condition>); 2]> {
-    let bad = |msg: String| Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, text.len()));
-    let Some((l, r)) = text.split_once("..") else {
-        return Err(bad("expected LEFT..RIGHT, e.g. '2..inf:outgoing'".into()));
-    };
-    let one = |part: &str| -> Result<(Location, Option<Condition>)> {
-        let (place, cond) = match part.split_once(':') {
-            Some((p, c)) => (p.trim(), Some(c.trim())),
-            None => (part.trim(), None),
-        };
-        let location = match place {
-            "inf" | "infinity" | "∞" => Location::Infinity,
-            _ => {
-                let v = crate::algebra::parse_complex(place).ok_or_else(|| bad(format!("'{place}' is not a number or 'inf'")))?;
-                let (re, im) = v.to_f64();
-                if im != 0.0 || !re.is_finite() {
-                    return Err(bad(format!("'{place}' is not a finite real number")));
-                }
-                Location::At(re)
-            }
-        };
-        let condition = match cond {
-            Some(c) => Some(
-                Condition::from_name(c)
-                    .ok_or_else(|| bad(format!("'{c}' is not a condition (into, out-of, outgoing, decaying, normalisable, slower)")))?,
-            ),
-            None => None,
-        };
-        Ok((location, condition))
-    };
-    Ok([one(l)?, one(r)?])
 }
 
 /// The right end's location in words.

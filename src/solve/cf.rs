@@ -595,14 +595,12 @@ pub fn find_root_by(
 mod tests {
     use super::*;
     use crate::algebra::Rat;
-    use crate::analysis::canonical::Choices;
     use crate::ode::{reduce, Input, ReduceOptions};
 
     fn rw_recurrence(s: i64, l: i64) -> NumRecurrence {
         let src = "var r\nparam M, omega, l, s\nlet f = 1 - 2*M/r\node f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0\n";
         let red = reduce(&Input::Program(src), &ReduceOptions::default()).unwrap();
-        let choices = Choices { picks: vec![("2*M".into(), 2), ("inf".into(), 1)], values: Vec::new() };
-        let rec = crate::series::recurrence(&red, "2*M", None, &choices, false).unwrap();
+        let rec = crate::series::about_written(&red, "2*M", &[("2*M", 2), ("inf", 1)]);
         let g = |x: i64| GRat::real(Rat::int(x.into()));
         try_numeric(&rec, &[g(0), g(1), g(0), g(l), g(s)], 2).unwrap()
     }

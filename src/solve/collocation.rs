@@ -164,10 +164,17 @@ fn eigenvalues(q0: &Eval, q1: &Eval, domain: Domain, scale: f64, n: usize) -> st
     Ok(ev)
 }
 
+/// Whether Q is linear in the spectral parameter (Q = Q₀ + E·Q₁), as this
+/// collocation needs; otherwise the eigenvalue problem is polynomial and
+/// the global spectral method between the ends takes it.
+pub fn linear_in(k: &Field, q: &RatFunc, eig: usize) -> Result<bool> {
+    Ok(k.deriv(&k.deriv(q, eig)?, eig)?.is_zero())
+}
+
 /// Q₀ and Q₁ of Q = Q₀ + E·Q₁ at the given values, as evaluators.
 fn split(k: &Field, q: &RatFunc, eig: usize, values: &[GRat]) -> Result<(Eval, Eval)> {
     let q1 = k.deriv(q, eig)?;
-    if !k.deriv(&q1, eig)?.is_zero() {
+    if !linear_in(k, q, eig)? {
         return Err(usage("Q is not linear in the spectral parameter: collocation here needs Q = Q₀ + E·Q₁"));
     }
     if q1.is_zero() {

@@ -22,7 +22,7 @@ use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::{Field, GRat, RatFunc};
 use crate::analysis::canonical::Choices;
 use crate::analysis::labels::{boundary_choices, Boundary};
-use crate::analysis::{analyse, Kind, Place};
+use crate::analysis::{analyse, Kind, Place, PointId};
 use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::Reduction;
@@ -109,41 +109,6 @@ pub fn joint_names(radial: &Field, angular: &Field) -> Vec<String> {
     names
 }
 
-/// Parses a link `NAME = EXPR` over the joint names; spans are byte offsets
-/// into `text`.
-pub fn try_link(text: &str, joint: &Field, radial: &Field, angular: &Field) -> Result<Link> {
-    let Some(eq) = text.find('=') else {
-        return Err(usage("expected a link NAME = EXPR, e.g. 'lam = A + c^2 - 2*a*m*omega'").at(crate::syntax::Span::new(0, text.len())));
-    };
-    let target = text[..eq].trim().to_string();
-    let tspan = crate::syntax::Span::new(0, eq);
-    let in_radial = radial.names()[1..].contains(&target);
-    let in_angular = angular.names()[1..].contains(&target);
-    let angular_side = match (in_radial, in_angular) {
-        (true, false) => false,
-        (false, true) => true,
-        (true, true) => {
-            return Err(usage(format!("'{target}' is a parameter of both equations: a link sets a parameter of one of them")).at(tspan));
-        }
-        (false, false) => return Err(usage(format!("'{target}' is a parameter of neither equation")).at(tspan)),
-    };
-    let body = &text[eq + 1..];
-    let limits = crate::syntax::ParseLimits::default();
-    let shift = |mut e: Error| {
-        if let Some(s) = e.span {
-            e.span = Some(crate::syntax::Span::new(s.start + eq + 1, s.end + eq + 1));
-        }
-        e
-    };
-    let expr = crate::syntax::parse_expr(body, &limits).map_err(shift)?;
-    let expr = crate::ode::lower_rational(joint, joint.names(), &[], &expr).map_err(shift)?;
-    if expr.uses_var(0) {
-        return Err(usage(format!("a link may not depend on the variable {}", joint.names()[0])).at(crate::syntax::Span::new(eq + 1, text.len())));
-    }
-    let slot = joint.names().iter().position(|n| *n == target).expect("a parameter of either equation is a joint name");
-    Ok(Link { target, expr, angular: angular_side, slot })
-}
-
 /// Sets up the angular eigenvalue problem: known parameters substituted
 /// exactly, linked ones and the eigenvalue kept, the regular exponents at
 /// both ends of the interval between the two real regular points, the first
@@ -196,12 +161,12 @@ pub fn try_angular(red: &Reduction, known: &[Option<GRat>], linked: &[usize], in
             ends.len()
         )));
     }
-    let mut picks: Vec<(String, usize)> = picks.into_iter().filter(|(l, _)| ends.iter().any(|(_, t, _)| t == l)).collect();
+    let mut picks: Vec<(PointId, usize)> = picks.into_iter().filter(|(id, _)| ends.iter().any(|(_, _, at)| *id == PointId::At(at.clone()))).collect();
     let mut choices = said.into_iter().filter(|c| ends.iter().any(|(_, t, _)| c.starts_with(&format!("at {t}:")))).collect::<Vec<_>>();
     if an.points.iter().any(|p| matches!(p.place, Place::Infinity) && p.kind == Kind::Irregular) {
         // Either exponential branch gives a series convergent at the far end
         // when it is the minimal solution; the first is Leaver's e^(+cx).
-        picks.push(("∞".into(), 1));
+        picks.push((PointId::Infinity, 1));
         choices.push("at ∞: the first exponential branch (the series decides the behaviour at the far end)".into());
     }
     let (lo, hi) = (ends[0].1.clone(), ends[1].1.clone());

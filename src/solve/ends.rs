@@ -188,9 +188,36 @@ pub fn mismatch(bp: &BoundaryProblem, w: Complex64) -> Option<Complex64> {
     evaluate(bp, w, &integrate::STANDARD).ok().map(|(v, _)| v)
 }
 
-/// The eigenvalue nearest the seed by the two-pass Muller search.
+/// The eigenvalue nearest the seed by the two-pass Muller search. When
+/// both passes find a root but they disagree, the search is repeated from
+/// that root with the series at the ends summed farther out
+/// ([`integrate::FAR_STANDARD`], [`integrate::FAR_REFINED`]), which
+/// resolves damped overtones the near start cannot; when that fails too,
+/// the reason says how flat the mismatch is at the root, and so how far
+/// rounding alone can move it.
 pub fn find_root(bp: &BoundaryProblem, seed: Complex64, tol: f64) -> IntRoot {
-    integrate::find_root_by(&|w, p| evaluate(bp, w, p), seed, tol, integrate::MAX_ITER)
+    let eval = |w: Complex64, p: &Params| evaluate(bp, w, p);
+    let near = integrate::find_root_by(&eval, seed, tol, integrate::MAX_ITER);
+    if near.converged || !near.change.is_finite() {
+        return near;
+    }
+    let named = "the two integrations with the series at the ends summed at 0.6 and 0.7 of their radii";
+    let far = integrate::find_root_passes(&eval, near.omega, tol, integrate::MAX_ITER, [&integrate::FAR_STANDARD, &integrate::FAR_REFINED], named);
+    if far.converged {
+        let reason = format!("{} (standard and refined integration, with the series summed nearer the ends, disagreed: {})", far.reason, near.reason);
+        return IntRoot { reason, iterations: near.iterations + far.iterations, ..far };
+    }
+    let mut reason = format!("{}; again with the series at the ends summed farther out: {}", near.reason, far.reason);
+    if let Some(slope) = integrate::mismatch_slope(&eval, far.omega, &integrate::FAR_REFINED) {
+        // The mismatch carries rounding near 1e-15 (integrate's tolerance floor).
+        let spread = 1e-15 / slope.max(f64::MIN_POSITIVE);
+        if spread >= 0.1 * tol {
+            reason.push_str(&format!(
+                "; the normalised mismatch changes by only {slope:.1e} per unit relative change of ω at the root, so its rounding (near 1e-15) alone moves the root by about {spread:.0e} relative (tolerance {tol:.1e}): this mode is at or past the limit of what direct integration resolves in double precision"
+            ));
+        }
+    }
+    IntRoot { reason, iterations: near.iterations + far.iterations, ..near }
 }
 
 /// Where a seed came from.
@@ -234,15 +261,20 @@ impl ScanCut {
     }
 }
 
+/// The scan's window for `count` modes: Re ω in [0, the first], Im ω in
+/// [the second, 0], scaled by the problem's frequency scale.
+fn scan_window(bp: &BoundaryProblem, count: usize) -> (f64, f64) {
+    (4.0 * bp.scale, -(2.5 * count as f64 + 1.5) * bp.scale)
+}
+
 /// Seeds by a bounded scan of |mismatch| over the window
 /// Re ω ∈ (0, 4κ], Im ω ∈ [−(2.5(count)+1)κ, 0) (κ the problem's frequency
 /// scale): the local minima of |mismatch| below 0.5, best first. The scan
 /// evaluates at most `SCAN_RE × SCAN_IM_PER_MODE × (count + 1)` points and
 /// stops at [`SCAN_STEP_BUDGET`] Taylor steps, saying so ([`ScanCut`]).
 pub fn scan_seeds(bp: &BoundaryProblem, count: usize) -> (Vec<Seed>, Option<ScanCut>) {
-    let s = bp.scale;
     let ni = SCAN_IM_PER_MODE * (count + 1);
-    let (re_max, im_min) = (4.0 * s, -(2.5 * count as f64 + 1.5) * s);
+    let (re_max, im_min) = scan_window(bp, count);
     let at = |i: usize, j: usize| Complex64::new(re_max * (i as f64 + 0.5) / SCAN_RE as f64, im_min * (j as f64 + 0.5) / ni as f64);
     let mut vals = vec![vec![f64::INFINITY; ni]; SCAN_RE];
     let (mut spent, mut evaluated, mut failed) = (0usize, 0usize, 0usize);
@@ -453,8 +485,9 @@ fn reject(mut r: IntRoot, why: String) -> IntRoot {
 /// Solves the overtones `lo..=hi` of a boundary problem: from `guess` for the
 /// lowest one when given (then each next one from the two before it, or from
 /// the scan), from the hydrogen-like estimate for quasi-bound states, and
-/// otherwise from the scan of the mismatch, numbering the distinct roots
-/// found by |Im ω|. Every loop is bounded (the scan's grid, Muller's
+/// otherwise from the global spectral method's eigenvalues and the scan of
+/// the mismatch, numbering the distinct roots found in overtone order
+/// (`global::overtone_order`). Every loop is bounded (the scan's grid, Muller's
 /// iteration limit, at most 4(hi + 1) + 8 seeds tried).
 pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64>, tol: f64) -> Vec<EndMode> {
     let quasi_bound = bp.ends[1].condition == Condition::Decaying && bp.kind != SpectrumKind::Bound;
@@ -489,7 +522,10 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
     }
     if let Some(g) = guess {
         for n in lo..=hi {
-            let seed = if n == lo {
+            // A seed below a lone overtone is not paced by two overtones: it
+            // can pass over a mode, so the search goes back between afterwards.
+            let unpaced = n > lo && bp.kind != SpectrumKind::Bound && !(out.len() >= 2 && out.iter().rev().take(2).all(|m| m.root.converged));
+            let mut seed = if n == lo {
                 Seed { omega: g, from: "the given guess".into() }
             } else if out.len() >= 2 && out.iter().rev().take(2).all(|m| m.root.converged) {
                 let (a, b) = (out[out.len() - 1].root.omega, out[out.len() - 2].root.omega);
@@ -512,25 +548,78 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
                     r = reject(r, why);
                 }
             }
+            if let Some(prev) = out.last().filter(|m| unpaced && r.converged && m.n + 1 == n && m.root.converged) {
+                let from = |mid: Complex64| {
+                    let x = find_root(bp, mid, tol);
+                    x.converged.then_some((x.omega, x))
+                };
+                let known = |w: Complex64| out.iter().any(|m| m.root.converged && (m.root.omega - w).norm() <= 1e-8 * w.norm());
+                if let Some((mid, _, x)) = super::roots::root_between(prev.root.omega, r.omega, &from, &known) {
+                    let why = format!("half way between overtone {} and the root reached from {}", n - 1, seed.from);
+                    seed = Seed { omega: mid, from: why };
+                    r = x;
+                }
+            }
             out.push(EndMode { n, root: r, seed });
         }
         return out;
     }
-    // No guess: every distinct root reached from the scan's minima.
+    // No guess: every distinct root reached from the global spectral
+    // method's eigenvalues (as many as persisted; they are the least damped)
+    // and from the scan's minima.
     let want = hi as usize + 1;
-    let (seeds, cut) = scan_seeds(bp, want);
+    let (scanned, cut) = scan_seeds(bp, want);
+    // The same window as the scan's, part by part of the plane.
+    let (re_max, im_min) = scan_window(bp, want);
+    let window = super::global::Region { re: (-super::global::REAL_TOL * re_max, re_max), im: (im_min, super::global::REAL_TOL * re_max) };
+    // Each grid of the seeding persists a different subset of the damped
+    // eigenvalues: the seeds are those of every grid.
+    let spectral: Vec<Seed> = super::global::SEED_GRIDS
+        .iter()
+        .filter_map(|&n| super::global::spectral_in(bp, window, n, super::global::SEED_PERSIST).ok())
+        .flat_map(|sp| sp.values)
+        .map(|v| Seed { omega: v.omega, from: "the global spectral method".into() })
+        .collect();
+    let tries = spectral.len() + 4 * want + 8;
     let mut found: Vec<(IntRoot, Seed)> = Vec::new();
-    for seed in seeds.into_iter().take(4 * want + 8) {
+    let take = |seed: Seed, found: &mut Vec<(IntRoot, Seed)>| {
         let r = find_root(bp, seed.omega, tol);
-        if !r.converged || r.omega.im >= 0.0 || r.omega.re < -1e-12 * r.omega.norm() {
-            continue;
+        let damped = r.omega.im < 0.0 || super::global::nearly_real(r.omega, bp.scale);
+        let new = !found.iter().any(|(f, _)| (f.omega - r.omega).norm() <= 1e-7 * r.omega.norm().max(1e-300));
+        if r.converged && damped && r.omega.re >= -super::global::REAL_TOL * r.omega.norm() && new {
+            found.push((r, seed));
         }
-        if found.iter().any(|(f, _)| (f.omega - r.omega).norm() <= 1e-7 * r.omega.norm().max(1e-300)) {
-            continue;
-        }
-        found.push((r, seed));
+    };
+    for seed in spectral.into_iter().chain(scanned).take(tries) {
+        take(seed, &mut found);
     }
-    found.sort_by(|a, b| a.0.omega.im.abs().total_cmp(&b.0.omega.im.abs()));
+    // Families of overtones are nearly evenly spaced: each pair of modes
+    // with nearly the same real part seeds the next member below them
+    // (a mode the scan passed over between its minima). Bounded: at most
+    // three rounds of at most 4·want seeds, inside the scan's window.
+    for _ in 0..3 {
+        let before = found.len();
+        let mut next: Vec<Seed> = Vec::new();
+        for (i, (a, _)) in found.iter().enumerate() {
+            for (b, _) in found.iter().skip(i + 1) {
+                let (hi_w, lo_w) = if a.omega.im > b.omega.im { (a.omega, b.omega) } else { (b.omega, a.omega) };
+                let step = lo_w - hi_w;
+                let same_family = (step.re).abs() <= 0.1 * step.norm();
+                let seed = lo_w + step;
+                let fresh = !found.iter().any(|(f, _)| (f.omega - seed).norm() <= 0.25 * step.norm());
+                if same_family && fresh && seed.im >= im_min && next.len() < 4 * want {
+                    next.push(Seed { omega: seed, from: "extrapolated along a family of overtones".into() });
+                }
+            }
+        }
+        for seed in next {
+            take(seed, &mut found);
+        }
+        if found.len() == before {
+            break;
+        }
+    }
+    found.sort_by(|a, b| super::global::overtone_order(a.0.omega, b.0.omega, bp.scale));
     for n in lo..=hi {
         match found.get(n as usize) {
             Some((r, s)) => out.push(EndMode { n, root: r.clone(), seed: s.clone() }),

@@ -598,6 +598,25 @@ pub struct Spectral {
 
 /// The default grid (intervals) of the global method.
 pub const DEFAULT_GRID: usize = 48;
+/// Relative size (to max(|ω|, scale)) below which an eigenvalue's imaginary
+/// part is rounding, not damping: a normal mode's discretised eigenvalue
+/// comes out with |Im ω| of 1e-13 of either sign.
+pub const REAL_TOL: f64 = 1e-8;
+
+/// Whether `w` is real up to [`REAL_TOL`].
+pub fn nearly_real(w: Complex64, scale: f64) -> bool {
+    w.im.abs() <= REAL_TOL * w.norm().max(scale)
+}
+
+/// The order in which overtones are numbered: by |Im ω| (the damping,
+/// common practice for quasinormal modes), a real eigenvalue counting as
+/// undamped, and by Re ω among equal damping (so that normal modes, all
+/// real, are numbered by frequency).
+pub fn overtone_order(p: Complex64, q: Complex64, scale: f64) -> std::cmp::Ordering {
+    let damping = |w: Complex64| if nearly_real(w, scale) { 0.0 } else { w.im.abs() };
+    damping(p).total_cmp(&damping(q)).then(p.re.total_cmp(&q.re))
+}
+
 /// The default persistence tolerance.
 pub const DEFAULT_PERSIST: f64 = 1e-5;
 
@@ -614,7 +633,7 @@ pub fn try_spectral(bp: &BoundaryProblem, n: usize, tol: f64, sigma: Complex64, 
     let coarse = grid_eigenvalues(&r, n, sigma)?;
     let fine = grid_eigenvalues(&r, n2, sigma)?;
     let mut values = persisting(&coarse, &fine, tol, bp.scale);
-    values.sort_by(|p, q| p.omega.im.abs().total_cmp(&q.omega.im.abs()).then(p.omega.re.total_cmp(&q.omega.re)));
+    values.sort_by(|p, q| overtone_order(p.omega, q.omega, bp.scale));
     let degree = r.c.iter().map(|p| p.deg_w()).max().unwrap_or(0);
     Ok(Spectral { dropped: fine.len() - values.len(), values, grids: (n, n2), degree, tol, factors: f })
 }
@@ -709,7 +728,7 @@ pub fn spectral_in(bp: &BoundaryProblem, region: Region, n: usize, tol: f64) -> 
         }
     }
     let mut sp = out.ok_or_else(|| usage("the region is empty"))?;
-    sp.values.sort_by(|p, q| p.omega.im.abs().total_cmp(&q.omega.im.abs()).then(p.omega.re.total_cmp(&q.omega.re)));
+    sp.values.sort_by(|p, q| overtone_order(p.omega, q.omega, bp.scale));
     Ok(sp)
 }
 
@@ -722,8 +741,8 @@ pub type Confirmed = (Spectral, Vec<Found>, Vec<(Complex64, String)>);
 pub const SEED_GRIDS: [usize; 2] = [20, DEFAULT_GRID];
 
 /// Seeds for overtones lo..=hi: the eigenvalues of the global method in the
-/// lower right quadrant (the negative imaginary axis included) by |Im ω|,
-/// from the first grid of [`SEED_GRIDS`] that gives all of them, else as
+/// lower right quadrant (the negative imaginary axis and the nearly real
+/// positive axis included) in [`overtone_order`], from the first grid of [`SEED_GRIDS`] that gives all of them, else as
 /// many as the default grid found (none when it cannot run on the problem).
 pub fn seeds(bp: &BoundaryProblem, (lo, hi): (u32, u32)) -> Vec<Complex64> {
     let want = (hi - lo + 1) as usize;
@@ -738,6 +757,46 @@ pub fn seeds(bp: &BoundaryProblem, (lo, hi): (u32, u32)) -> Vec<Complex64> {
     out
 }
 
+/// Seeds for the eigenvalues lo..=hi of a real eigenvalue problem (a
+/// [`SpectrumKind::Bound`](super::boundary::SpectrumKind) problem whose
+/// spectral parameter enters polynomially, such as the normal modes of a
+/// cavity written in ω): the nearly real eigenvalues of the global method,
+/// upward; when the spectrum is symmetric under ω → −ω (the parameter
+/// enters only as ω²), the non-negative ones. From the first grid of
+/// [`SEED_GRIDS`] that gives all of them, else as many as the default grid
+/// found.
+pub fn real_seeds(bp: &BoundaryProblem, (lo, hi): (u32, u32)) -> Vec<Complex64> {
+    let want = (hi - lo + 1) as usize;
+    let even = even_in_omega(bp);
+    let mut out = Vec::new();
+    for n in SEED_GRIDS {
+        let Ok(sp) = try_spectral(bp, n, DEFAULT_PERSIST, Complex64::new(0.6, -0.8) * bp.scale, 0.0) else { return Vec::new() };
+        let mut real: Vec<f64> = sp
+            .values
+            .iter()
+            .filter(|v| nearly_real(v.omega, bp.scale) && (!even || v.omega.re >= -REAL_TOL * bp.scale))
+            .map(|v| v.omega.re)
+            .collect();
+        real.sort_by(f64::total_cmp);
+        out = real.into_iter().skip(lo as usize).take(want).map(|x| Complex64::new(x, 0.0)).collect();
+        if out.len() == want {
+            break;
+        }
+    }
+    out
+}
+
+/// Whether the equation holds ω only in even powers (so that ω and −ω are
+/// eigenvalues together).
+pub fn even_in_omega(bp: &BoundaryProblem) -> bool {
+    [&bp.ode.a, &bp.ode.b, &bp.ode.c].iter().all(|p| p.c.iter().all(|row| row.iter().skip(1).step_by(2).all(|c| c.norm() == 0.0)))
+}
+
+/// Whether ω enters the equation beyond linearly.
+pub fn polynomial_in_omega(bp: &BoundaryProblem) -> bool {
+    [&bp.ode.a, &bp.ode.b, &bp.ode.c].iter().any(|p| p.c.iter().any(|row| row.iter().skip(2).any(|c| c.norm() > 0.0)))
+}
+
 /// The persistence tolerance of seeds that are then polished and checked
 /// by two other methods (the overtone ladder of a region search): looser
 /// than [`DEFAULT_PERSIST`], since a value that persists only this well is
@@ -745,12 +804,18 @@ pub fn seeds(bp: &BoundaryProblem, (lo, hi): (u32, u32)) -> Vec<Complex64> {
 pub const SEED_PERSIST: f64 = 1e-3;
 
 /// The eigenvalues of the global method in the lower right quadrant (the
-/// negative imaginary axis included), by |Im ω|, on `n` and ⌊3n/2⌋
+/// negative imaginary axis and the nearly real positive axis included), in
+/// [`overtone_order`], on `n` and ⌊3n/2⌋
 /// intervals persisting to `tol`, with the whole result.
 pub fn lower_right(bp: &BoundaryProblem, n: usize, tol: f64) -> Result<(Vec<SpectralValue>, Spectral)> {
     let sigma = Complex64::new(0.6, -0.8) * bp.scale;
     let sp = try_spectral(bp, n, tol, sigma, TURN)?;
-    let lower = sp.values.iter().copied().filter(|v| v.omega.im < 0.0 && v.omega.re >= -1e-8 * v.omega.norm().max(bp.scale)).collect();
+    let lower = sp
+        .values
+        .iter()
+        .copied()
+        .filter(|v| (v.omega.im < 0.0 || nearly_real(v.omega, bp.scale)) && v.omega.re >= -REAL_TOL * v.omega.norm().max(bp.scale))
+        .collect();
     Ok((lower, sp))
 }
 

@@ -111,28 +111,35 @@ pub(super) type Evaluator<'f> = &'f dyn Fn(Complex64, &Params) -> Result<(Comple
 /// The two-pass Muller search of [`find_root`] on any normalised mismatch
 /// (the quasinormal one here, the bound-state one of `shoot`).
 pub(super) fn find_root_by(eval: Evaluator, seed: Complex64, tol: f64, max_iter: usize) -> IntRoot {
+    find_root_passes(eval, seed, tol, max_iter, [&STANDARD, &REFINED], "standard and refined integration")
+}
+
+/// The search of [`find_root_by`] with the discretisations of its two
+/// passes given (`named` names the pair in the reasons).
+pub(super) fn find_root_passes(eval: Evaluator, seed: Complex64, tol: f64, max_iter: usize, passes: [&Params; 2], named: &str) -> IntRoot {
+    let [first, second] = passes;
     let tol = if tol.is_finite() && tol > TOL_FLOOR { tol } else { TOL_FLOOR };
     let fail = |omega: Complex64, iterations: usize, change: f64, reason: String| {
-        let (residual, steps) = match eval(omega, &STANDARD) {
+        let (residual, steps) = match eval(omega, first) {
             Ok((v, s)) => (v.norm(), s),
             Err(_) => (f64::NAN, 0),
         };
         IntRoot { omega, converged: false, residual, iterations, steps, change, reason }
     };
-    let standard = |w: Complex64| eval(w, &STANDARD).map(|e| e.0);
+    let standard = |w: Complex64| eval(w, first).map(|e| e.0);
     let (r1, it1, stop1) = muller(&standard, seed, tol, max_iter);
     if let Err(e) = stop1 {
         return fail(r1, it1, f64::NAN, e);
     }
     // The second pass changes every discretisation choice at once; the
     // root's movement bounds the integration error actually committed.
-    let refined = |w: Complex64| eval(w, &REFINED).map(|e| e.0);
+    let refined = |w: Complex64| eval(w, second).map(|e| e.0);
     let (r2, it2, stop2) = muller(&refined, r1, tol, max_iter);
     if let Err(e) = stop2 {
-        return fail(r2, it1 + it2, f64::NAN, format!("with refined integration: {e}"));
+        return fail(r2, it1 + it2, f64::NAN, format!("in the second pass of {named}: {e}"));
     }
     let change = (r2 - r1).norm();
-    let (residual, steps) = match eval(r2, &REFINED) {
+    let (residual, steps) = match eval(r2, second) {
         Ok((v, s)) => (v.norm(), s),
         Err(e) => return fail(r2, it1 + it2, change, format!("the mismatch cannot be evaluated at the root: {e}")),
     };
@@ -140,11 +147,9 @@ pub(super) fn find_root_by(eval: Evaluator, seed: Complex64, tol: f64, max_iter:
     let agree = change <= tol * r2.norm().max(super::roots::ABSOLUTE_BELOW);
     let small = residual <= RESIDUAL_MAX;
     let reason = if agree && small {
-        format!(
-            "converged: Muller steps below {tol:.1e} (relative); standard and refined integration agree to {rel:.1e}; normalised mismatch {residual:.1e}"
-        )
+        format!("converged: Muller steps below {tol:.1e} (relative); {named} agree to {rel:.1e}; normalised mismatch {residual:.1e}")
     } else if !agree {
-        format!("the root moved by {rel:.1e} (relative) between standard and refined integration, more than the tolerance {tol:.1e}")
+        format!("the root moved by {rel:.1e} (relative) between {named}, more than the tolerance {tol:.1e}")
     } else {
         format!("the normalised mismatch at the root is {residual:.1e}, above {RESIDUAL_MAX:.0e}: not a zero of the mismatch")
     };
@@ -170,6 +175,29 @@ pub(super) struct Params {
 
 pub(super) const STANDARD: Params = Params { start_fraction: 1.0 / 3.0, step_fraction: 0.5, phase_step: 4.0, far_target: 1e-17 };
 pub(super) const REFINED: Params = Params { start_fraction: 0.4, step_fraction: 0.3, phase_step: 2.0, far_target: 1e-20 };
+/// [`STANDARD`] and [`REFINED`] with the horizon's Frobenius series summed
+/// farther out (0.6 and 0.7 of its radius). Near a horizon the wanted
+/// (ingoing) solution of a damped mode exceeds the other one by a factor
+/// that grows with the overtone, and the rounding of the value where its
+/// series is summed is an admixture of the other solution of that relative
+/// size: the mode condition is resolved only as finely as the other
+/// solution has grown where the series starts. Starting farther out
+/// resolves higher overtones, at the cost of a slower series.
+pub(super) const FAR_STANDARD: Params = Params { start_fraction: 0.6, ..STANDARD };
+/// The second pass of [`FAR_STANDARD`].
+pub(super) const FAR_REFINED: Params = Params { start_fraction: 0.7, ..REFINED };
+
+/// How much the normalised mismatch changes at ω per unit relative change
+/// of ω (from a step of 1e-6 |ω|), with the discretisation `p`: a root
+/// cannot be located more finely than the rounding of the mismatch (near
+/// 1e-15) divided by this.
+pub(super) fn mismatch_slope(eval: Evaluator, w: Complex64, p: &Params) -> Option<f64> {
+    let h = 1e-6;
+    let (a, _) = eval(w, p).ok()?;
+    let (b, _) = eval(w * (1.0 + h), p).ok()?;
+    let slope = (b - a).norm() / h;
+    slope.is_finite().then_some(slope)
+}
 
 /// A, B, C at one ω, low degree first, exact trailing zeros removed.
 pub(super) struct Coeffs {
@@ -958,8 +986,7 @@ mod tests {
         // horizon) and this integration. Regge–Wheeler s = 2, l = 2, n = 0…7.
         let src = "var r\nparam M, omega, l, s\nlet f = 1 - 2*M/r\node f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0\n";
         let red = reduce(&Input::Program(src), &ReduceOptions::default()).unwrap();
-        let choices = crate::analysis::canonical::Choices { picks: vec![("2*M".into(), 2), ("inf".into(), 1)], values: Vec::new() };
-        let rec = crate::series::recurrence(&red, "2*M", None, &choices, false).unwrap();
+        let rec = crate::series::about_written(&red, "2*M", &[("2*M", 2), ("inf", 1)]);
         let g = |x: i64| GRat::real(Rat::int(x.into()));
         let rec = crate::solve::cf::try_numeric(&rec, &[g(0), g(1), g(0), g(2), g(2)], 2).unwrap();
         let ode = rw(2, 2);

@@ -585,7 +585,7 @@ pub fn trigonometric_kappa(red: &crate::ode::Reduction, values: &[Complex64]) ->
             map.old_var, map.new_var, map.old_var
         ))
     };
-    if map.tanh {
+    if map.form != crate::ode::MapForm::Exp {
         return Err(not_periodic());
     }
     let c = super::eval_at(&map.c, values).ok_or_else(not_periodic)?;

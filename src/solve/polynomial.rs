@@ -16,6 +16,7 @@ use crate::analysis::canonical::Choices;
 use crate::analysis::{Kind, Place};
 use crate::error::Result;
 use crate::ode::Reduction;
+use crate::series::SeriesMap;
 use crate::series::{termination, Termination};
 use num_complex::Complex64;
 
@@ -115,7 +116,8 @@ pub fn derive(red: &Reduction, freq: usize, values: &[GRat], degree: Degree) -> 
         let about = ratfunc_text(at, names, Style::Text);
         let u = crate::ode::fresh_name("u", names);
         let series = format!("{u}={}", crate::algebra::print::shifted(&red.var, &about, Style::Text));
-        let rec = match crate::series::recurrence(red, &about, Some(&series), &Choices::default(), false) {
+        let map = SeriesMap::Given { map: red.field.sub(&red.field.var(0), at)?, text: series };
+        let rec = match crate::series::recurrence_at(red, at, &map, &Choices::default(), false) {
             Ok(r) => r,
             Err(e) => {
                 why.push(format!("about {about}: {}", e.message));

@@ -119,7 +119,7 @@ pub struct SpectrumRequest {
     /// The kind of spectrum.
     pub problem: Problem,
     /// The two ends and, optionally, their conditions (default: from the roles of the singular points).
-    pub ends: Option<[(Location, Option<Condition>); 2]>,
+    pub ends: Option<super::boundary::GivenEnds>,
     /// The spectral parameter when named; else the one parameter without a value, else a conventional name.
     pub frequency: Option<String>,
     /// Values of the other parameters: name, exact value, and the span of the assignment in the caller's text.
@@ -298,6 +298,61 @@ pub struct CoupledReport {
     pub path: Option<super::continuation::Path>,
 }
 
+/// Bound states between the natural ends of a real eigenvalue problem:
+/// collocation where the parameter enters linearly (falling back to the
+/// problem between the interval's ends where it does not converge), the
+/// global method between the ends where it enters polynomially. `redirected`:
+/// a default (quasinormal) request on an equation with no horizon, said in a
+/// note.
+fn bound_route(
+    red: &Reduction,
+    req: &SpectrumRequest,
+    opts: &SpectrumOptions,
+    point: &[GRat],
+    freq: usize,
+    redirected: bool,
+) -> Result<(Body, Option<ModeFunctions>)> {
+    let why = redirected.then(|| format!(
+        "no horizon and the spectral parameter enters linearly: solved as a real eigenvalue problem (for quasinormal modes between chosen ends, give {opt_boundary} qnm with {opt_ends})",
+        opt_boundary = RequestInput::Boundary.mention(),
+        opt_ends = RequestInput::Ends.mention()
+    ));
+    let with_why = |note: String| match &why {
+        Some(w) => format!("{w}; {note}"),
+        None => note,
+    };
+    if super::collocation::linear_in(&red.field, &red.normal.q, freq)? || req.method == Method::Collocation {
+        let (b, f) = bound_states(red, req, opts)?;
+        if req.method == Method::Collocation || b.states.iter().all(|st| st.converged) {
+            return Ok((Body::Bound(BoundReport { notes: why.into_iter().collect(), ..b }), f));
+        }
+        // Collocation with ψ = 0 at the ends cannot tell the regular
+        // solution from the logarithmic one where the exponents at an end
+        // coincide (ψ ~ (1 − x)^(1/2) and (1 − x)^(1/2) log(1 − x) both
+        // vanish): the same interval as a problem between its ends, each
+        // end's regular exponent picked, solved by direct integration.
+        let given = match b.domain {
+            Domain::Finite(a, z) => Some([(Location::At(a), None), (Location::At(z), None)]),
+            Domain::HalfLine(a) => Some([(Location::At(a), None), (Location::Infinity, None)]),
+            Domain::Line => None,
+        };
+        let problem = given.map(|g| super::boundary::try_problem(&red.field, &red.normal.q, &red.q, point, freq, SpectrumKind::Bound, Some(g)));
+        let Some(Ok(bp)) = problem else { return Ok((Body::Bound(BoundReport { notes: why.into_iter().collect(), ..b }), f)) };
+        let note = with_why("collocation with ψ = 0 at the ends did not converge on every state asked for: the interval is solved as a problem between its ends (the regular exponent at each), by direct integration".to_string());
+        let report = between_ends_as(bp, Problem::Bound, opts, Some(note));
+        let f = ends_functions(req, &report);
+        return Ok((Body::Ends(report), f));
+    }
+    // The eigenvalue enters Q polynomially (ω² and ω, a normal-mode
+    // problem written in the frequency): the global spectral method
+    // between the natural ends, polished by direct integration.
+    let bp = super::boundary::try_problem(&red.field, &red.normal.q, &red.q, point, freq, SpectrumKind::Bound, None)?;
+    let note = "the spectral parameter enters Q beyond linearly: the eigenvalue problem is polynomial, solved between the ends (collocation of Q₀ + E·Q₁ does not apply)".to_string();
+    let report = between_ends_as(bp, Problem::Bound, opts, Some(note));
+    let f = ends_functions(req, &report);
+    Ok((Body::Ends(report), f))
+}
+
 /// Modes by direct integration between the ends of a boundary problem.
 #[derive(Debug)]
 pub struct EndsReport {
@@ -386,6 +441,9 @@ pub struct BoundReport {
     pub states: Vec<BoundState>,
     /// The shooting check of each converged state.
     pub checks: Vec<Option<BoundCheck>>,
+    /// Why the problem was posed this way, when a default request was read
+    /// as an eigenvalue problem.
+    pub notes: Vec<String>,
 }
 
 /// Barrier-top estimates (WKB or eikonal), not iterated eigenvalues.
@@ -983,9 +1041,21 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
         return Ok(done(Body::Periodic(report), functions, None));
     }
     let red = super::spectrum::substitute_for_series(red, &point, &[freq])?;
-    if req.problem == Problem::Bound && req.ends.is_none() {
-        let (b, f) = bound_states(&red, req, &opts)?;
-        return Ok(done(Body::Bound(b), f, None));
+    // With no horizon and the parameter entering linearly (an energy or a
+    // separation constant), the problem a default request means is an
+    // eigenvalue problem, not quasinormal modes.
+    let as_bound = req.problem == Problem::Quasinormal
+        && req.ends.is_none()
+        && req.couple.is_none()
+        && req.guess.is_none()
+        && super::collocation::linear_in(&red.field, &red.normal.q, freq)?
+        && super::boundary::try_problem(&red.field, &red.normal.q, &red.q, &point, freq, SpectrumKind::Quasinormal, None)
+            .is_ok_and(|bp| bp.ends.iter().all(|e| e.nature != super::boundary::Nature::Horizon));
+    if (req.problem == Problem::Bound || as_bound) && req.ends.is_none() {
+        let (body, f) = bound_route(&red, req, &opts, &point, freq, as_bound)?;
+        let mut n = done(body, f, None);
+        n.report.problem = Problem::Bound;
+        return Ok(n);
     }
     if req.method == Method::Collocation {
         return Err(method_error(format!(
@@ -1047,6 +1117,14 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
                 };
                 let f = ends_functions(req, &report);
                 return Ok(done(Body::Ends(report), f, None));
+            }
+            Err(e) if e.kind == ErrorKind::Usage => {
+                // Neither a series about a horizon nor ends between which to
+                // integrate: the boundary problem's reason says what is missing.
+                return Err(match problem {
+                    Err(p) => p.note(format!("nor can the series about a horizon be set up: {}", e.message)),
+                    Ok(_) => e,
+                });
             }
             Err(e) => return Err(e),
             Ok((body, f)) => return Ok(done(body, f, ends)),
@@ -1378,17 +1456,25 @@ fn eikonal_reduction(req: &SpectrumRequest, red: &Reduction, point: &[GRat], fre
 
 /// Modes by direct integration between the ends of a boundary problem.
 fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptions, note: Option<String>) -> EndsReport {
-    let seeded = (opts.guess.is_none() && req.problem == Problem::Quasinormal).then(|| spectral_seeded(&bp, opts)).flatten();
+    between_ends_as(bp, req.problem, opts, note)
+}
+
+/// [`between_ends`] for the kind of spectrum `problem` (the request's, or
+/// the one a default request turned out to be).
+fn between_ends_as(bp: BoundaryProblem, problem: Problem, opts: &SpectrumOptions, note: Option<String>) -> EndsReport {
+    let real = problem == Problem::Bound && super::global::polynomial_in_omega(&bp);
+    let seeded = (opts.guess.is_none() && (problem == Problem::Quasinormal || real)).then(|| spectral_seeded(&bp, opts, real)).flatten();
     let from_spectral = seeded.is_some();
     let modes = seeded.unwrap_or_else(|| super::ends::modes(&bp, opts.overtones, opts.guess, opts.tol));
-    let spectrum = match req.problem {
+    let spectrum = match problem {
         Problem::Bound => Problem::Bound,
         _ if bp.ends[1].condition == Condition::Decaying => Problem::QuasiBound,
         p => p,
     };
     let numbering = match spectrum {
         _ if opts.guess.is_some() => None,
-        Problem::Quasinormal if from_spectral => Some(format!("no {opt_guess}: the modes are the global spectral method's eigenvalues in the lower right quadrant, numbered by |Im ω|, each polished by direct integration", opt_guess = RequestInput::Guess.mention())),
+        Problem::Bound if from_spectral => Some(format!("no {opt_guess}: the eigenvalues are the global spectral method's real eigenvalues, numbered upward (the non-negative ones when only the square of the parameter enters), each polished by direct integration", opt_guess = RequestInput::Guess.mention())),
+        Problem::Quasinormal if from_spectral => Some(format!("no {opt_guess}: the modes are the global spectral method's eigenvalues in the lower right quadrant, numbered by |Im ω| (real ones, normal modes, by ω), each polished by direct integration", opt_guess = RequestInput::Guess.mention())),
         Problem::Bound | Problem::Periodic => Some(format!("no {opt_guess}: the eigenvalues are the distinct real roots reached from a scan of the real axis, numbered upward; an eigenvalue below the scanned range would shift the numbering", opt_guess = RequestInput::Guess.mention())),
         Problem::Quasinormal => Some(format!("no {opt_guess}: the modes are the distinct roots reached from a scan of the complex plane, numbered by |Im ω|; a mode the scan missed would shift the numbering", opt_guess = RequestInput::Guess.mention())),
         Problem::QuasiBound => None,
@@ -1457,13 +1543,13 @@ pub(crate) fn series_between_ends(
     let mut numbering: Vec<String> = Vec::new();
     if from_spectral {
         numbering.push(format!(
-            "no {opt_guess}: the seeds are the global spectral method's eigenvalues in the lower right quadrant, numbered by |Im ω|",
+            "no {opt_guess}: the seeds are the global spectral method's eigenvalues in the lower right quadrant, numbered by |Im ω| (real ones, normal modes, by ω)",
             opt_guess = RequestInput::Guess.mention()
         ));
     }
     if given < wanted {
         numbering.push(format!(
-            "overtones from {} on were seeded from the overtones below them (extrapolated): a mode skipped between two seeds would shift the numbering of those above it",
+            "overtones from {} on were seeded from the overtones below them (extrapolated; a step not set by the spacing of two overtones was searched again from half way back for a mode between): a mode skipped between two seeds would shift the numbering of those above it",
             opts.overtones.0 + given as u32
         ));
     }
@@ -1475,13 +1561,14 @@ pub(crate) fn series_between_ends(
     Ok(EndsReport { problem: bp, modes, note, numbering, spectrum: problem, checks, check_note, series: Some(series) })
 }
 
-/// Quasinormal modes with no guess seeded by the global spectral method
-/// (its eigenvalues in the lower right quadrant by |Im ω|), each polished by
-/// direct integration; `None` (the plane scan decides instead) when it does
-/// not give every overtone asked for or a polish fails or repeats a mode.
-fn spectral_seeded(bp: &BoundaryProblem, opts: &SpectrumOptions) -> Option<Vec<EndMode>> {
+/// Modes with no guess seeded by the global spectral method (its
+/// eigenvalues in the lower right quadrant in overtone order, or with `real`
+/// its real eigenvalues upward), each polished by direct integration;
+/// `None` (the scan decides instead) when it does not give every overtone
+/// asked for or a polish fails or repeats a mode.
+fn spectral_seeded(bp: &BoundaryProblem, opts: &SpectrumOptions, real: bool) -> Option<Vec<EndMode>> {
     let (lo, hi) = opts.overtones;
-    let seeds = super::global::seeds(bp, (lo, hi));
+    let seeds = if real { super::global::real_seeds(bp, (lo, hi)) } else { super::global::seeds(bp, (lo, hi)) };
     if seeds.len() != (hi - lo + 1) as usize {
         return None;
     }
@@ -1517,8 +1604,10 @@ fn spectral_checks(bp: &BoundaryProblem, modes: &[EndMode]) -> (Vec<Option<Spect
     let (re0, re1) = found.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), w| (a.min(w.re), b.max(w.re)));
     let (im0, im1) = found.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), w| (a.min(w.im), b.max(w.im)));
     // Stay on the side of the real axis the modes are on (the global method
-    // solves the half-planes separately at an irregular infinity).
-    let top = if im1 < 0.0 { (im1 + pad).min(-1e-9 * pad) } else { im1 + pad };
+    // solves the half-planes separately at an irregular infinity); a mode on
+    // the axis (a normal mode) has its discretised twin on either side.
+    let on_axis = found.iter().any(|w| super::global::nearly_real(*w, bp.scale));
+    let top = if im1 < 0.0 && !on_axis { (im1 + pad).min(-1e-9 * pad) } else { im1 + pad };
     let region = Region { re: (re0 - pad, re1 + pad), im: (im0 - pad, top) };
     // The coarser grid first: kept when it has an eigenvalue near every
     // converged mode, else the finer one decides.
@@ -1821,7 +1910,7 @@ fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) 
         }
         _ => None,
     };
-    Ok((BoundReport { domain, threshold, states, checks }, functions))
+    Ok((BoundReport { domain, threshold, states, checks, notes: Vec::new() }, functions))
 }
 
 /// Quasinormal modes of a radial equation coupled to an angular one.

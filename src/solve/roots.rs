@@ -73,3 +73,45 @@ pub fn muller(
     }
     (x[2], max_iter, Err(format!("no convergence within {max_iter} Muller iterations")))
 }
+
+/// The most searches [`root_between`] makes between two overtones.
+pub const BETWEEN_TRIES: usize = 4;
+
+/// The root nearest below the overtone at `prev` when a step of an overtone
+/// ladder was not paced by two overtones: `root` may lie past a mode, so
+/// `solve` (a converged root in the lower right quadrant, with whatever the
+/// caller keeps of it, or `None`) is started half way between `prev` and
+/// `root`. A root there strictly between the two in Im ω that `known` (the
+/// modes already found) does not hold replaces `root`, and the halving goes
+/// on, at most [`BETWEEN_TRIES`] times, until the start half way leads to
+/// no root between. Overtones are numbered by |Im ω|, so the root between
+/// is the overtone sought. Without this, a lone overtone followed by a
+/// blind seed below it skips every other mode of an evenly spaced ladder
+/// whose step equals the fundamental's |Im ω| (a BTZ black hole), and the
+/// spacing learnt from the wrong pair then keeps the skip. Returns the last
+/// replacement (its start, its value, the caller's root), if any.
+pub fn root_between<R>(
+    prev: Complex64,
+    root: Complex64,
+    solve: &dyn Fn(Complex64) -> Option<(Complex64, R)>,
+    known: &dyn Fn(Complex64) -> bool,
+) -> Option<(Complex64, Complex64, R)> {
+    let mut current = root;
+    let mut found = None;
+    for _ in 0..BETWEEN_TRIES {
+        let gap = prev.im - current.im;
+        if !(gap > 0.0) {
+            break;
+        }
+        let mid = 0.5 * (prev + current);
+        let Some((w, r)) = solve(mid) else { break };
+        let margin = 1e-6 * gap;
+        let between = w.im < prev.im - margin && w.im > current.im + margin && w.re >= 0.0;
+        if !between || known(w) {
+            break;
+        }
+        current = w;
+        found = Some((mid, w, r));
+    }
+    found
+}

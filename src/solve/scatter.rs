@@ -39,9 +39,8 @@
 use super::integrate::{continue_along, frobenius, from_infinity, horizon, recessive_ray, Asymptote, Coeffs, Far, Params, REFINED, STANDARD};
 use super::spectrum::{eval_in_omega, in_omega, Setup, SpectrumOptions};
 use super::{NPoly, NumOde};
-use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::{GRat, Rat, RatFunc};
-use crate::analysis::Place;
+use crate::analysis::{Place, PointId};
 use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::Reduction;
@@ -100,20 +99,15 @@ fn usage(msg: impl Into<String>) -> Error {
     Error::new(ErrorKind::Usage, msg)
 }
 
-/// The exact exponent picked (or, with `other`, not picked) at a finite point labelled `label`.
-fn point_exponent(red: &Reduction, setup: &Setup, label: &str, other: bool) -> Result<(RatFunc, RatFunc)> {
+/// The exact exponent picked (or, with `other`, not picked) at the finite point `id`.
+fn point_exponent(red: &Reduction, setup: &Setup, id: &PointId, other: bool) -> Result<(RatFunc, RatFunc)> {
     let k = &red.field;
-    let an = &setup.analysis;
-    let text = |at: &RatFunc| ratfunc_text(at, k.names(), Style::Text);
-    let (at, pt) = an
-        .points
-        .iter()
-        .find_map(|p| match &p.place {
-            Place::Point { at, .. } if text(at) == label => Some((at.clone(), p)),
-            _ => None,
-        })
-        .ok_or_else(|| usage(format!("the end {label} is not a singular point of a linear factor")))?;
-    let pick = setup.picks.iter().find(|(p, _)| p == label).map(|(_, c)| c - 1).ok_or_else(|| usage(format!("no exponent was picked at {label}")))?;
+    let label = id.text(k.names());
+    let (at, pt) = match (id, setup.analysis.point(id)) {
+        (PointId::At(at), Some(p)) => (at.clone(), p),
+        _ => return Err(usage(format!("the end {label} is not a singular point of a linear factor"))),
+    };
+    let pick = setup.picks.iter().find(|(p, _)| p == id).map(|(_, c)| c - 1).ok_or_else(|| usage(format!("no exponent was picked at {label}")))?;
     if pt.unknown_exponents.len() != 2 {
         return Err(usage(format!("the end {label} does not have two exponents")));
     }
@@ -130,21 +124,23 @@ pub fn problem(red: &Reduction, opts: &SpectrumOptions, setup: &Setup) -> Result
         return Err(usage("the horizon is a root of an irreducible quadratic factor: scattering needs it at a rational point"));
     }
     let ode = super::try_num_ode(k, &red.p, &red.q, &opts.values, opts.freq)?;
-    let (_, rho) = point_exponent(red, setup, &setup.horizon, false)?;
+    let (_, rho) = point_exponent(red, setup, &setup.place, false)?;
     // Infinity when it is an end of the problem, else the other picked point
     // (a pick inside the horizon, such as an inner horizon, is not an end).
-    let labels: Vec<&String> = setup.picks.iter().map(|(l, _)| l).filter(|l| **l != setup.horizon).collect();
-    let far_label = labels
+    let others: Vec<&PointId> = setup.picks.iter().map(|(p, _)| p).filter(|p| **p != setup.place).collect();
+    let far_id = others
         .iter()
-        .find(|l| l.as_str() == "∞")
-        .or_else(|| labels.first())
-        .map(|l| l.to_string())
+        .find(|p| ***p == PointId::Infinity)
+        .or_else(|| others.first())
+        .map(|p| (*p).clone())
         .ok_or_else(|| usage("the problem has only one end: no far end to scatter to"))?;
+    let far_label = far_id.text(k.names());
     let vals: Vec<Complex64> = opts.values.iter().map(|g| g.to_f64()).map(|(re, im)| Complex64::new(re, im)).collect();
-    let far = if far_label == "∞" {
+    let far = if far_id == PointId::Infinity {
         let an = &setup.analysis;
         let inf = an.points.iter().find(|p| matches!(p.place, Place::Infinity)).ok_or_else(|| usage("infinity is not listed"))?;
-        let bi = setup.picks.iter().find(|(p, _)| p == "∞").map(|(_, c)| c - 1).ok_or_else(|| usage("no branch was picked at infinity"))?;
+        let bi =
+            setup.picks.iter().find(|(p, _)| *p == PointId::Infinity).map(|(_, c)| c - 1).ok_or_else(|| usage("no branch was picked at infinity"))?;
         let f = inf.formal.get(bi).ok_or_else(|| usage("no formal solution at infinity"))?;
         if f.exponent.len() != 1 {
             return Err(usage("infinity is not of rank 1: scattering needs the branches exp(μz) z^ν"));
@@ -156,8 +152,8 @@ pub fn problem(red: &Reduction, opts: &SpectrumOptions, setup: &Setup) -> Result
         let nu = k.sub(&f.rho, &k.mul(&RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero")), &p1)?)?;
         FarEnd::Infinity { mu: in_omega(&mu, opts), nu: in_omega(&nu, opts) }
     } else {
-        let (at, out) = point_exponent(red, setup, &far_label, false)?;
-        let (_, inc) = point_exponent(red, setup, &far_label, true)?;
+        let (at, out) = point_exponent(red, setup, &far_id, false)?;
+        let (_, inc) = point_exponent(red, setup, &far_id, true)?;
         let at = super::eval_at(&at, &vals)
             .filter(|z| z.im == 0.0 && z.re.is_finite())
             .ok_or_else(|| usage(format!("the end {far_label} is not real")))?;

@@ -10,7 +10,7 @@ use crate::algebra::print::{ratfunc_text, Style};
 use crate::algebra::{GRat, Rat};
 use crate::analysis::canonical::Choices;
 use crate::analysis::labels::{boundary_choices, label, Boundary, ExponentPicks};
-use crate::analysis::{analyse, Kind, Place};
+use crate::analysis::{analyse, Kind, Place, PointId};
 use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
 use crate::ode::Reduction;
@@ -86,8 +86,10 @@ pub struct Setup {
     pub choices: Vec<String>,
     /// Number of terms of the recurrence.
     pub terms: usize,
-    /// The exponent and branch picks (point label, 1-based choice).
-    pub picks: Vec<(String, usize)>,
+    /// The horizon's identity (a point, or the roots of its factor).
+    pub place: PointId,
+    /// The exponent and branch picks (point, 1-based choice).
+    pub picks: Vec<(PointId, usize)>,
     /// When the horizon is a root θ of a quadratic factor: the factor, θ's
     /// value and the index of the chosen exponent.
     pub theta: Option<(crate::algebra::Poly, f64, usize)>,
@@ -181,8 +183,8 @@ pub enum HorizonChoice {
 /// where the same choice is made.
 #[derive(Clone, Debug)]
 pub struct QnmChoice {
-    /// The exponent and branch picks (point label, 1-based choice).
-    pub picks: Vec<(String, usize)>,
+    /// The exponent and branch picks (point, 1-based choice).
+    pub picks: Vec<(PointId, usize)>,
     /// The picks in words.
     pub said: Vec<String>,
     /// The horizon.
@@ -305,10 +307,9 @@ pub struct Adjoined {
 /// the series carries e^(−χz) there.
 pub fn qnm_derive(red: &Reduction, an: &crate::analysis::Analysis, choice: &QnmChoice) -> Result<(crate::series::Recurrence, Adjoined)> {
     let adjoined = if crate::series::rate::needs_rate(red)? { Some(crate::series::rate::adjoin_rate(red, choice.freq)?) } else { None };
-    let mut picks = choice.picks.clone();
+    let mut choices = Choices { picks: choice.picks.clone(), values: Vec::new() };
     let rate = adjoined.as_ref().map(|a| {
-        picks.retain(|(l, _)| l != "∞" && l != "inf");
-        picks.push(("∞".to_string(), a.branch));
+        choices.set(PointId::Infinity, a.branch);
         RateSetup {
             symbol: a.symbol.clone(),
             index: a.index,
@@ -329,13 +330,12 @@ pub fn qnm_derive(red: &Reduction, an: &crate::analysis::Analysis, choice: &QnmC
         Some(a) => (&a.red, &a.analysis),
         None => (red, an),
     };
-    let choices = Choices { picks, values: Vec::new() };
     match (&choice.horizon, factor) {
         (HorizonChoice::Point { at, series, .. }, _) => {
             Ok((crate::series::recurrence_at(red, at, series, &choices, false)?, Adjoined { root: None, rate }))
         }
         (HorizonChoice::Root { .. }, f) => {
-            if !choice.picks.iter().any(|(l, _)| l == "θ") {
+            if f.as_ref().is_none_or(|f| choices.get(&PointId::Roots(f.clone())).is_none()) {
                 return Err(usage("no ingoing exponent was found at the horizon"));
             }
             let found = an.points.iter().position(|p| matches!((&p.place, &f), (Place::Roots(g), Some(f)) if g == f));
@@ -360,18 +360,19 @@ pub fn qnm_setup(rec: &crate::series::Recurrence, adjoined: Adjoined, an: crate:
             r.meaning, r.symbol, r.symbol, r.symbol
         ));
     }
-    let (horizon, horizon_value, theta) = match choice.horizon {
-        HorizonChoice::Point { text, value, .. } => (text, value, None),
+    let (horizon, horizon_value, theta, place) = match choice.horizon {
+        HorizonChoice::Point { text, value, at, .. } => (text, value, None, PointId::At(at)),
         HorizonChoice::Root { index, value } => {
             let (j, meaning) = root.unwrap_or_default();
             let theta = match &an.points[index].place {
                 Place::Roots(f) => Some((f.clone(), value, j)),
                 _ => None,
             };
-            (format!("θ ≈ {value:.15}, the outer real root; the formulas use {meaning}"), value, theta)
+            let place = an.points[index].place.id();
+            (format!("θ ≈ {value:.15}, the outer real root; the formulas use {meaning}"), value, theta, place)
         }
     };
-    Setup { horizon, horizon_value, ansatz, choices: said, terms: rec.coeffs.len(), picks: choice.picks, theta, analysis: an, rate }
+    Setup { horizon, horizon_value, ansatz, choices: said, terms: rec.coeffs.len(), place, picks: choice.picks, theta, analysis: an, rate }
 }
 
 /// An exact rational equal to a double (its binary value).
@@ -538,9 +539,16 @@ pub fn ladder(
     beyond: &dyn Fn(&[Mode], Complex64) -> bool,
 ) -> Result<(Vec<Mode>, LadderEnd)> {
     let mut modes: Vec<Mode> = Vec::new();
+    // Overtones filed from a search between two others (see below): the
+    // given seed that led past them belongs to the overtone after.
+    let mut inserted = 0usize;
     for n in opts.overtones.0..=opts.overtones.1 {
-        let idx = (n - opts.overtones.0) as usize;
+        let idx = (n - opts.overtones.0) as usize - inserted;
         let given = idx < opts.seeds.len() || (opts.guess.is_some() && n == opts.overtones.0);
+        // A step whose seed is not set by the spacing of two overtones (a
+        // given seed after the first, or a guess below a lone overtone) can
+        // pass over a mode unnoticed; it is searched between afterwards.
+        let mut unpaced = n > opts.overtones.0 && idx < opts.seeds.len();
         let seed = if let Some(s) = opts.seeds.get(idx) {
             (*s, "the global spectral method (an eigenvalue two Chebyshev grids agree on)".to_string())
         } else if let Some(g) = opts.guess.filter(|_| n == opts.overtones.0) {
@@ -563,6 +571,7 @@ pub fn ladder(
             // An estimate in the upper half-plane is not a decaying mode: never a seed.
             e
         } else if let Some(last) = modes.iter().rev().find(|m| m.root.converged) {
+            unpaced = true;
             (last.root.omega - Complex64::new(0.0, 2.0 * last.root.omega.im.abs().max(0.05)), "below the previous overtone".to_string())
         } else {
             return Err(usage(format!("{NO_SEED} {n}: give {opt_guess}", opt_guess = RequestInput::Guess.mention())));
@@ -606,10 +615,23 @@ pub fn ladder(
                 ));
             }
         }
+        let mut seed = seed;
+        if unpaced && root.converged {
+            if let Some(prev) = modes.last().filter(|m| m.n + 1 == n && m.root.converged) {
+                let before = root.omega;
+                let (r, s) = root_between(prev.root.omega, root, seed, n, &modes, solve);
+                if r.omega != before {
+                    // The seed's own root lies past this overtone: with a
+                    // given seed, the next overtone starts from it again.
+                    inserted += usize::from(given);
+                }
+                (root, seed) = (r, s);
+            }
+        }
         // The overtone a root belongs to, by the spacing in Im ω of the two
         // nearest converged overtones below it: a seed past a missed overtone
         // can land on the missed one, which must not be reported under n.
-        let mut seed = seed;
+
         for _retry in 0..2 {
             let Some(m) = overtone_by_spacing(&modes, &root).filter(|&m| m != n) else { break };
             let why = format!(
@@ -638,6 +660,39 @@ pub fn ladder(
         modes.push(Mode { n, root, seed, method: ModeMethod::ContinuedFraction });
     }
     Ok((modes, LadderEnd::Range))
+}
+
+/// [`super::roots::root_between`] for the ladder: the n-th inversion from
+/// half way, a root in the left half-plane taken to its mirror −ω̄ (as the
+/// ladder does), the seed's description saying where it came from.
+fn root_between(
+    prev: Complex64,
+    root: CfRoot,
+    seed: (Complex64, String),
+    n: u32,
+    modes: &[Mode],
+    solve: &dyn Fn(u32, Complex64) -> CfRoot,
+) -> (CfRoot, (Complex64, String)) {
+    let from = |mid: Complex64| {
+        let mut r = solve(n, mid);
+        if r.converged && r.omega.re < 0.0 {
+            r = solve(n, -r.omega.conj());
+        }
+        r.converged.then_some((r.omega, r))
+    };
+    let known = |w: Complex64| modes.iter().any(|m| m.root.converged && (m.root.omega - w).norm() <= 1e-8 * w.norm());
+    match super::roots::root_between(prev, root.omega, &from, &known) {
+        Some((mid, _, r)) => {
+            let why = format!("half way between overtone {} and the root {} reached from {}", n - 1, text(root.omega), seed.1);
+            (r, (mid, why))
+        }
+        None => (root, seed),
+    }
+}
+
+/// A complex number in a seed's description.
+fn text(w: Complex64) -> String {
+    format!("{:.6e}{:+.6e}i", w.re, w.im)
 }
 
 /// The overtone number of a converged root from the two nearest converged
@@ -754,17 +809,12 @@ pub fn integration_check<'a>(
     let k = &red.field;
     let an = &setup.analysis;
     let ode = super::try_num_ode(k, &red.p, &red.q, &opts.values, opts.freq)?;
-    let find = |label: &str| setup.picks.iter().find(|(p, _)| p == label).map(|(_, c)| c - 1);
-    let text = |at: &crate::algebra::RatFunc| ratfunc_text(at, k.names(), Style::Text);
+    let find = |id: &PointId| setup.picks.iter().find(|(p, _)| p == id).map(|(_, c)| c - 1);
     // ρ_h(ω) as a list of coefficients of θ^j (one coefficient for a linear point).
     let (rho_parts, theta_value): (Vec<crate::algebra::RatFunc>, f64) = match &setup.theta {
         None => {
-            let hp = an
-                .points
-                .iter()
-                .find(|p| matches!(&p.place, Place::Point { at, .. } if text(at) == setup.horizon))
-                .ok_or_else(|| usage("the horizon is not among the singular points"))?;
-            let hi = find(&setup.horizon).ok_or_else(|| usage("no exponent was picked at the horizon"))?;
+            let hp = an.point(&setup.place).ok_or_else(|| usage("the horizon is not among the singular points"))?;
+            let hi = find(&setup.place).ok_or_else(|| usage("no exponent was picked at the horizon"))?;
             let e = hp.unknown_exponents.get(hi).cloned().ok_or_else(|| usage("no exponent at the horizon"))?;
             let rho_exact =
                 e.exact_value(k).ok_or_else(|| usage("the horizon exponent is not exact in the parameter field: the integration check needs it"))?;
@@ -782,7 +832,7 @@ pub fn integration_check<'a>(
         }
     };
     let inf = an.points.iter().find(|p| matches!(p.place, Place::Infinity)).expect("infinity listed");
-    let bi = find("∞").ok_or_else(|| usage("no branch was picked at infinity"))?;
+    let bi = find(&PointId::Infinity).ok_or_else(|| usage("no branch was picked at infinity"))?;
     let f = inf.formal.get(bi).ok_or_else(|| usage("no formal solution at infinity"))?;
     let mu_exact = f
         .exponent
@@ -1058,8 +1108,7 @@ mod tests {
         // since the horizon's exponents ±2iω differ by 8 there.
         let src = "var r\nparam M, omega, l, s\nlet f = 1 - 2*M/r\node f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0\n";
         let red = crate::ode::reduce(&crate::ode::Input::Program(src), &crate::ode::ReduceOptions::default()).unwrap();
-        let choices = Choices { picks: vec![("2*M".into(), 2), ("inf".into(), 1)], values: Vec::new() };
-        let rec = crate::series::recurrence(&red, "2*M", None, &choices, false).unwrap();
+        let rec = crate::series::about_written(&red, "2*M", &[("2*M", 2), ("inf", 1)]);
         let g = |x: i64| GRat::real(Rat::int(x.into()));
         let at = |l: i64, s: i64, w: f64| special_point(&rec, &[g(0), g(1), g(0), g(l), g(s)], 2, Complex64::new(0.0, w), 0.05).unwrap();
         assert_eq!(at(2, 2, -2.0), Some(SpecialPoint { omega: GRat { re: Rat::int(0.into()), im: Rat::int((-2).into()) }, k: 7 }));
