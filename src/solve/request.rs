@@ -1102,7 +1102,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
                     Method::Integrate => between_ends(bp, req, &opts, None),
                     _ => {
                         let why = format!("the exact recurrence could not be set up ({})", e.message);
-                        match series_between_ends(bp, req.problem, &opts, &red.var, &why) {
+                        match series_between_ends(bp, req.problem, &opts, &red.var, &why, true) {
                             Ok(report) => report,
                             Err(b) if req.method == Method::Cf => {
                                 return Err(method_error(format!("{why}, and the numeric series cannot be set up either: {}", b.1.message)))
@@ -1137,7 +1137,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
         // (anti-de Sitter): the numeric series between the ends does.
         let bp = problem?;
         let why = "the exact recurrence is not derived for a regular boundary at infinity";
-        let report = match series_between_ends(bp, req.problem, &opts, &red.var, why) {
+        let report = match series_between_ends(bp, req.problem, &opts, &red.var, why, true) {
             Ok(report) => report,
             Err(b) if req.method == Method::Cf => return Err(method_error(format!("the numeric series cannot be set up: {}", b.1.message))),
             Err(b) => {
@@ -1485,15 +1485,17 @@ fn between_ends_as(bp: BoundaryProblem, problem: Problem, opts: &SpectrumOptions
 
 /// Modes by the continued fraction of the numeric series between the ends
 /// (`solve::mobius`), each checked by direct integration seeded 1e-4 away
-/// from its root; seeds from the guess or the global spectral method. `why`
-/// says why the exact recurrence did not serve. Gives the problem back with
-/// the reason when the series cannot be set up or has no seed.
+/// from its root when `check` (a survey may skip it); seeds given (a
+/// survey's neighbour), else from the guess or the global spectral method.
+/// `why` says why the exact recurrence did not serve. Gives the problem
+/// back with the reason when the series cannot be set up or has no seed.
 pub(crate) fn series_between_ends(
     bp: BoundaryProblem,
     problem: Problem,
     opts: &SpectrumOptions,
     var: &str,
     why: &str,
+    check: bool,
 ) -> std::result::Result<EndsReport, Box<(BoundaryProblem, Error)>> {
     let s = match super::mobius::series(&bp, var) {
         Ok(s) => s,
@@ -1532,6 +1534,9 @@ pub(crate) fn series_between_ends(
         .map(|m| {
             if !m.root.converged {
                 return super::ends::unfound(m.n, "not checked: the continued fraction did not converge".into());
+            }
+            if !check {
+                return super::ends::unfound(m.n, "not checked: no check was asked for".into());
             }
             let seed = super::spectrum::check_seed(m.root.omega);
             let root = super::ends::find_root(&bp, seed, opts.tol);

@@ -582,7 +582,7 @@ fn regular_infinity_point(red: &Reduction, opts: &SpectrumOptions) -> bool {
 fn series_point(r: &Reduction, opts: &SpectrumOptions, check: bool, why: &str) -> Result<SolvedPoint> {
     let kind = super::boundary::SpectrumKind::Quasinormal;
     let bp = super::boundary::try_problem(&r.field, &r.normal.q, &r.q, &opts.values, opts.freq, kind, None)?;
-    let report = match super::request::series_between_ends(bp, super::request::Problem::Quasinormal, opts, &r.var, why) {
+    let report = match super::request::series_between_ends(bp, super::request::Problem::Quasinormal, opts, &r.var, why, check) {
         Ok(report) => report,
         Err(b) => return Err(b.1),
     };
