@@ -569,3 +569,47 @@ fn a_quasi_bound_survey_equals_each_point_s_own_levels() {
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("--boundary"), "{}", String::from_utf8_lossy(&o.stderr));
 }
+
+/// Each point of a one-parameter survey `scan FILE --vary VARY --at AT`
+/// (overtones 0 and 1) equals that point's own `spectrum` run to 1e-10,
+/// found by the numeric series between the ends, with its
+/// direct-integration check beside it.
+fn each_point_is_its_own_spectrum(file: &str, vary: &str, at: &str) {
+    let out = ok(&["scan", file, "--vary", vary, "--at", at, "--overtones", "0..1", "--format", "json"]);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let name = v["parameter"].as_str().expect("the parameter").to_string();
+    let points = v["points"].as_array().expect("points");
+    assert_eq!(points.len(), 3, "{out}");
+    let pair = |x: &serde_json::Value| (x[0].as_f64().unwrap(), x[1].as_f64().unwrap());
+    for p in points {
+        let value = p["value"].as_f64().unwrap();
+        let here = format!("{at},{name}={value}");
+        let own: serde_json::Value =
+            serde_json::from_str(&ok(&["spectrum", file, "--at", &here, "--overtones", "0..1", "--format", "json"])).unwrap();
+        assert!(own["series"].is_object(), "{own}");
+        let modes = p["modes"].as_array().expect("modes");
+        assert_eq!(modes.len(), 2, "{p}");
+        for (m, o) in modes.iter().zip(own["modes"].as_array().expect("own modes")) {
+            assert_eq!(m["converged"], true, "{p}");
+            let (w, x) = (pair(&m["omega"]), pair(&o["omega"]));
+            let size = w.0.hypot(w.1);
+            assert!((w.0 - x.0).hypot(w.1 - x.1) <= 1e-10 * size, "{here}: {w:?} vs {x:?}");
+            assert_eq!(m["check"]["method"], "integrate", "{p}");
+            let c = pair(&m["check"]["omega"]);
+            assert!((c.0 - w.0).hypot(c.1 - w.1) <= 1e-9 * size, "{here}: check {c:?} vs {w:?}");
+        }
+    }
+}
+
+#[test]
+fn a_survey_with_no_exact_recurrence_gives_each_point_s_own_spectrum() {
+    // Schwarzschild–de Sitter: both horizons are roots of a cubic, so no
+    // exact recurrence sets up; the first point is seeded by the global
+    // spectral method, the others by their neighbour.
+    each_point_is_its_own_spectrum("samples/schwarzschild_de_sitter_scalar.ode", "Lambda=0.02:0.04:0.01", "M=1,l=1");
+    // Schwarzschild–anti-de Sitter (L = 1, l = 0): a regular boundary at
+    // infinity, which `spectrum` always takes by the numeric series; at
+    // M = 1 (r₊ = 1) the fundamental is Horowitz & Hubeny's 2.7982 − 2.6712i
+    // (Phys. Rev. D 62 (2000) 024027, from memory), checked in tests/spectrum.rs.
+    each_point_is_its_own_spectrum("tests/boundary/schwarzschild_ads_scalar.ode", "M=1:1.2:0.1", "L=1,l=0");
+}

@@ -10,7 +10,7 @@
 
 use super::ext::Ext;
 use super::numeric::Values;
-use super::{Analysis, Exponent, Kind, Place};
+use super::{Analysis, Exponent, Kind, PhysicalMap, Place};
 use crate::algebra::{Field, GRat, Poly, Rat, RatFunc, UPoly};
 use crate::error::RequestInput;
 use crate::error::Result;
@@ -80,8 +80,11 @@ pub fn label(k: &Field, a: &Analysis, freq: usize, point: &[GRat], given: bool) 
         let mut row = Vec::new();
         match p.kind {
             Kind::Regular => {
-                let ds: Vec<Option<Ordering>> =
-                    p.unknown_exponents.iter().map(|e| im_derivative_sign(k, &v0, &p.place, e, freq, point)).collect::<Result<_>>()?;
+                let ds: Vec<Option<Ordering>> = p
+                    .unknown_exponents
+                    .iter()
+                    .map(|e| im_derivative_sign(k, &v0, &p.place, e, freq, point, a.physical.as_ref()))
+                    .collect::<Result<_>>()?;
                 let depends = ds.iter().flatten().any(|d| *d != Ordering::Equal);
                 for d in &ds {
                     row.push(match (depends, d) {
@@ -92,23 +95,17 @@ pub fn label(k: &Field, a: &Analysis, freq: usize, point: &[GRat], given: bool) 
                 }
             }
             Kind::Irregular => {
+                // The physical ∞ seen from here: e^(u₀z) at ∞ itself, or
+                // e^(c/(z − z₀)) ≈ e^((c/R) r) at a simple pole z₀ of the
+                // map r = g(z) with residue R (u₀ = −c, S' = −c (z − z₀)^(−2)).
+                let toward_infinity = physical_infinity(k, a, &p.place, point)?;
                 for f in &p.formal {
-                    let lab = match &p.place {
-                        Place::Infinity => {
-                            let u0 = f.lead.eval(point);
-                            let du = k.deriv(&f.lead, freq)?.eval(point);
-                            match (u0, du) {
-                                (Some(u0), Some(du)) => match (du.im.cmp(&Rat::zero()), u0.re.cmp(&Rat::zero())) {
-                                    (Ordering::Greater, _) => Some(Label::Outgoing),
-                                    (Ordering::Less, _) => Some(Label::Ingoing),
-                                    (Ordering::Equal, Ordering::Less) => Some(Label::Decaying),
-                                    (Ordering::Equal, Ordering::Greater) => Some(Label::Growing),
-                                    (Ordering::Equal, Ordering::Equal) => None,
-                                },
-                                _ => None,
-                            }
+                    let lab = match toward_infinity {
+                        Some(PhysicalInfinity::Itself { flip }) => infinity_label(k, &f.lead, freq, point, flip)?,
+                        Some(PhysicalInfinity::Pole { flip }) if f.lead_power == Rat::int((-2).into()) => {
+                            infinity_label(k, &f.lead, freq, point, flip)?
                         }
-                        Place::Point { .. } | Place::Roots(_) => None,
+                        _ => None,
                     };
                     row.push(lab);
                 }
@@ -117,16 +114,97 @@ pub fn label(k: &Field, a: &Analysis, freq: usize, point: &[GRat], given: bool) 
         }
         per_point.push(row);
     }
+    let physical = a.physical.as_ref().map_or(String::new(), |m| {
+        format!(
+            "; ends named and roots ordered in {}, the physical variable ({} = {})",
+            m.var,
+            m.var,
+            crate::algebra::print::ratfunc_text(&m.g, k.names(), crate::algebra::print::Style::Text)
+        )
+    });
     let basis = if given {
-        "decided at the given parameter values".to_string()
+        format!("decided at the given parameter values{physical}")
     } else {
         format!(
-            "decided at a generic point (parameter i = 0.3 + 0.17·i, frequency 1/2); pass {opt_at} to decide at your values",
+            "decided at a generic point (parameter i = 0.3 + 0.17·i, frequency 1/2); pass {opt_at} to decide at your values{physical}",
             opt_at = RequestInput::At.mention()
         )
-        .to_string()
     };
     Ok(Labels { per_point, basis })
+}
+
+/// Where the physical ∞ lies relative to an irregular point, as the sign
+/// that carries the point's leading coefficient u₀ of S' to the physical
+/// one.
+enum PhysicalInfinity {
+    /// The point is the physical ∞ itself (∞ with no change of variable,
+    /// or a change r ≈ αz there); `flip` when α < 0.
+    Itself {
+        /// Whether the physical coefficient has the opposite sign.
+        flip: bool,
+    },
+    /// The point is a simple pole of the map r = g(z) with a real residue
+    /// R at the values: e^(c/(z − z₀)) ≈ e^((c/R) r), u₀ = −c, so the
+    /// physical coefficient is −u₀/R; `flip` when R > 0.
+    Pole {
+        /// Whether the physical coefficient has the opposite sign.
+        flip: bool,
+    },
+}
+
+/// Whether an irregular point is the physical ∞: without a change of
+/// variable ∞ is; with one, ∞ when g keeps it there (g grows like αz),
+/// else a finite point where g has a simple pole with a real residue.
+/// `None` where the point is not the physical ∞ or that is not decided
+/// exactly at the values.
+fn physical_infinity(k: &Field, a: &Analysis, place: &Place, point: &[GRat]) -> Result<Option<PhysicalInfinity>> {
+    let Some(m) = &a.physical else {
+        return Ok(matches!(place, Place::Infinity).then_some(PhysicalInfinity::Itself { flip: false }));
+    };
+    let (num, den) = (RatFunc::from_poly(m.g.num().clone()), RatFunc::from_poly(m.g.den_expanded()));
+    let scale = GRat::real(Rat::int(m.g.scale().clone()));
+    let real_sign = |x: Option<GRat>| x.filter(|x| x.im.is_zero() && !x.re.is_zero()).map(|x| x.re > Rat::zero());
+    match place {
+        Place::Infinity => {
+            // ∞ stays at ∞ under g only when g grows like αz: α = lc(N)/(scale·lc(D)).
+            let (dn, dd) = (m.g.num().degree(0), m.g.den_expanded().degree(0));
+            if dn != dd + 1 {
+                return Ok(None);
+            }
+            let lc = |p: &Poly| p.to_univariate(0).last().cloned().map(RatFunc::from_poly).and_then(|c| c.eval(point));
+            let alpha = lc(m.g.num()).zip(lc(&m.g.den_expanded())).and_then(|(n, d)| n.div(&d.mul(&scale)));
+            Ok(real_sign(alpha).map(|positive| PhysicalInfinity::Itself { flip: !positive }))
+        }
+        Place::Point { at, .. } => {
+            // A simple pole: D(z₀) = 0 ≠ D'(z₀), N(z₀) ≠ 0; R = N(z₀)/(scale·D'(z₀)).
+            let d0 = k.compose(&den, 0, at)?.eval(point);
+            let d1 = k.compose(&k.deriv(&den, 0)?, 0, at)?.eval(point);
+            let n0 = k.compose(&num, 0, at)?.eval(point);
+            let (Some(d0), Some(d1), Some(n0)) = (d0, d1, n0) else { return Ok(None) };
+            if !d0.is_zero() || d1.is_zero() || n0.is_zero() {
+                return Ok(None);
+            }
+            Ok(real_sign(n0.div(&d1.mul(&scale))).map(|positive| PhysicalInfinity::Pole { flip: positive }))
+        }
+        Place::Roots(_) => Ok(None),
+    }
+}
+
+/// The label of the branch e^(u₀ r) at the physical ∞, from the point's
+/// leading coefficient `lead` (its sign flipped when `flip`): outgoing
+/// where Im ∂u₀/∂ω > 0, ingoing where < 0, else decaying or growing by
+/// Re u₀.
+fn infinity_label(k: &Field, lead: &RatFunc, freq: usize, point: &[GRat], flip: bool) -> Result<Option<Label>> {
+    let (u0, du) = (lead.eval(point), k.deriv(lead, freq)?.eval(point));
+    let (Some(u0), Some(du)) = (u0, du) else { return Ok(None) };
+    let sign = |o: Ordering| if flip { o.reverse() } else { o };
+    Ok(match (sign(du.im.cmp(&Rat::zero())), sign(u0.re.cmp(&Rat::zero()))) {
+        (Ordering::Greater, _) => Some(Label::Outgoing),
+        (Ordering::Less, _) => Some(Label::Ingoing),
+        (Ordering::Equal, Ordering::Less) => Some(Label::Decaying),
+        (Ordering::Equal, Ordering::Greater) => Some(Label::Growing),
+        (Ordering::Equal, Ordering::Equal) => None,
+    })
 }
 
 /// A polynomial in θ at θ = `at` (Horner), exactly.
@@ -150,10 +228,18 @@ fn rational_place(place: &Place) -> Option<RatFunc> {
 
 /// The sign of Im ∂ρ/∂ω at the values; `None` where it is not defined there
 /// (a pole, a vanishing radicand, no numeric root).
-fn im_derivative_sign(k: &Field, v: &Values, place: &Place, e: &Exponent, freq: usize, point: &[GRat]) -> Result<Option<Ordering>> {
+fn im_derivative_sign(
+    k: &Field,
+    v: &Values,
+    place: &Place,
+    e: &Exponent,
+    freq: usize,
+    point: &[GRat],
+    physical: Option<&PhysicalMap>,
+) -> Result<Option<Ordering>> {
     let Some(at) = rational_place(place) else {
         let Place::Roots(f) = place else { return Ok(None) };
-        return roots_derivative_sign(k, v, f, e, freq);
+        return roots_derivative_sign(k, v, f, e, freq, physical);
     };
     let center = at_place(k, &e.center, &at)?;
     let exact = match (e.sign, &e.root) {
@@ -240,8 +326,8 @@ fn surd_sign(alpha: &Rat, beta: &Rat, d: &Rat) -> Ordering {
 /// The sign of Im ∂ρ/∂ω at the outer root θ of `f`: the derivative is exact
 /// in Q(params)[θ]/(f) (θ' = −f_ω(θ)/f_z(θ)), its value taken at the numeric
 /// root (the one decision here that is not exact).
-fn roots_derivative_sign(k: &Field, v: &Values, f: &Poly, e: &Exponent, freq: usize) -> Result<Option<Ordering>> {
-    let Some(theta) = outer_root(v, f) else { return Ok(None) };
+fn roots_derivative_sign(k: &Field, v: &Values, f: &Poly, e: &Exponent, freq: usize, physical: Option<&PhysicalMap>) -> Result<Option<Ordering>> {
+    let Some(theta) = outer_root(v, f, physical) else { return Ok(None) };
     let ext = Ext::new(f);
     let Some(dtheta) = ext.div(k, &ext.of_poly(k, &f.derivative(freq).neg())?, &ext.of_poly(k, &f.derivative(0))?)? else {
         return Ok(None);
@@ -285,13 +371,71 @@ pub enum Boundary {
 }
 
 /// The root of a factor at which a root point's local data are read: the
-/// largest real root (the outermost horizon of a horizon polynomial), or the
-/// root with the largest real part when none is real.
-fn outer_root(v: &Values, f: &crate::algebra::Poly) -> Option<Complex64> {
+/// outermost real root (the outer horizon of a horizon polynomial), or the
+/// root with the largest real part when none is real. Outermost is the
+/// largest in the physical variable: after a change of variable r = g(z)
+/// the real roots are ordered by g (t = 1/r makes the largest root in t
+/// the smallest in r), a root at a pole of g (the physical ∞) last of all.
+pub fn outer_root(v: &Values, f: &crate::algebra::Poly, physical: Option<&PhysicalMap>) -> Option<Complex64> {
     let roots = v.roots(f)?;
     let real = |z: &&Complex64| z.im.abs() <= 1e-9 * z.re.abs().max(1.0);
-    let pick = |it: &mut dyn Iterator<Item = &Complex64>| it.copied().max_by(|a, b| a.re.total_cmp(&b.re));
-    pick(&mut roots.iter().filter(real)).or_else(|| pick(&mut roots.iter()))
+    let place = |z: &Complex64| match physical {
+        None => z.re,
+        Some(m) => m.at(v, *z).map_or(f64::NEG_INFINITY, |r| r.re),
+    };
+    let real_max = roots.iter().filter(real).copied().max_by(|a, b| place(a).total_cmp(&place(b)));
+    real_max.or_else(|| roots.iter().copied().max_by(|a, b| a.re.total_cmp(&b.re)))
+}
+
+/// The physical place of a singular point at the values, for the picks'
+/// sentences after a change of variable: "r = ∞", "r ≈ 1.866"; `None`
+/// without a change.
+fn physical_place(a: &Analysis, p: &Place, v: &Values) -> Option<String> {
+    let m = a.physical.as_ref()?;
+    let z = match p {
+        Place::Point { at, .. } => v.ratfunc(at),
+        Place::Roots(f) => outer_root(v, f, Some(m)),
+        Place::Infinity => {
+            // g(∞): ∞ when g grows there, else the ratio of leading coefficients (0 when it decays).
+            let (dn, dd) = (m.g.num().degree(0), m.g.den_expanded().degree(0));
+            return Some(match dn.cmp(&dd) {
+                Ordering::Greater => format!("{} = ∞", m.var),
+                Ordering::Less => format!("{} = 0", m.var),
+                Ordering::Equal => {
+                    let lc = |p: &Poly| p.to_univariate(0).last().cloned().map(RatFunc::from_poly).and_then(|c| v.ratfunc(&c));
+                    let scale = Rat::int(m.g.scale().clone()).to_f64();
+                    match (lc(m.g.num()), lc(&m.g.den_expanded())) {
+                        (Some(n), Some(d)) => format!("{} ≈ {}", m.var, short(n / (d * scale))),
+                        _ => format!("{} not placed at these values", m.var),
+                    }
+                }
+            });
+        }
+    };
+    Some(match z.map(|z| m.at(v, z)) {
+        Some(Some(r)) => format!("{} ≈ {}", m.var, short(r)),
+        Some(None) => format!("{} = ∞", m.var),
+        None => format!("{} not placed at these values", m.var),
+    })
+}
+
+/// A complex value with up to 10 significant digits, its imaginary part
+/// only when it is not negligible.
+fn short(z: Complex64) -> String {
+    let fmt = |x: f64| {
+        let s = format!("{x:.10}");
+        let s = s.trim_end_matches('0').trim_end_matches('.').to_string();
+        if s == "-0" {
+            "0".to_string()
+        } else {
+            s
+        }
+    };
+    if z.im.abs() <= 1e-9 * z.re.abs().max(1.0) {
+        fmt(z.re)
+    } else {
+        format!("{}{:+}i", fmt(z.re), z.im)
+    }
 }
 
 /// The exponents picked for a boundary problem.
@@ -312,29 +456,34 @@ pub fn boundary_choices(k: &Field, a: &Analysis, labels: Option<&Labels>, b: Bou
     for (i, p) in a.points.iter().enumerate() {
         let row = labels.map(|l| &l.per_point[i]);
         let name = point_name(k, p);
+        // The sentence names the point in the written variable and, after a change of variable, in the physical one.
+        let named = match physical_place(a, &p.place, &v) {
+            Some(there) => format!("{name} ({there})"),
+            None => name.clone(),
+        };
         match (b, p.kind) {
             (Boundary::Qnm, Kind::Regular) => {
                 if let Some(j) = row.and_then(|r| r.iter().position(|x| *x == Some(Label::Ingoing))) {
                     picks.push((p.place.id(), j + 1));
-                    said.push(format!("at {name}: the ingoing exponent (number {})", j + 1));
+                    said.push(format!("at {named}: the ingoing exponent (number {})", j + 1));
                 }
             }
             (Boundary::Qnm, Kind::Irregular) => {
                 if let Some(j) = row.and_then(|r| r.iter().position(|x| *x == Some(Label::Outgoing))) {
                     picks.push((p.place.id(), j + 1));
-                    said.push(format!("at {name}: the outgoing branch (number {})", j + 1));
+                    said.push(format!("at {named}: the outgoing branch (number {})", j + 1));
                 }
             }
             (Boundary::Bound, Kind::Regular) => {
-                if let Some(j) = larger_real_part(k, &v, &p.place, &p.unknown_exponents, point)? {
+                if let Some(j) = larger_real_part(k, &v, &p.place, &p.unknown_exponents, point, a.physical.as_ref())? {
                     picks.push((p.place.id(), j + 1));
-                    said.push(format!("at {name}: the exponent with the larger real part (number {})", j + 1));
+                    said.push(format!("at {named}: the exponent with the larger real part (number {})", j + 1));
                 }
             }
             (Boundary::Bound, Kind::Irregular) => {
                 if let Some(j) = row.and_then(|r| r.iter().position(|x| *x == Some(Label::Decaying))) {
                     picks.push((p.place.id(), j + 1));
-                    said.push(format!("at {name}: the decaying branch (number {})", j + 1));
+                    said.push(format!("at {named}: the decaying branch (number {})", j + 1));
                 }
             }
             _ => {}
@@ -349,13 +498,13 @@ pub fn boundary_choices(k: &Field, a: &Analysis, labels: Option<&Labels>, b: Bou
 /// exactly, and c ± ½√R with √R on the principal branch (Re √R ≥ 0, zero only
 /// for a real R ≤ 0) picks the + sign. At the roots of a factor of higher
 /// degree the values are compared at the numeric root.
-fn larger_real_part(k: &Field, v: &Values, place: &Place, e: &[Exponent], point: &[GRat]) -> Result<Option<usize>> {
+fn larger_real_part(k: &Field, v: &Values, place: &Place, e: &[Exponent], point: &[GRat], physical: Option<&PhysicalMap>) -> Result<Option<usize>> {
     if e.len() != 2 {
         return Ok(None);
     }
     let Some(at) = rational_place(place) else {
         let Place::Roots(f) = place else { return Ok(None) };
-        let theta = outer_root(v, f);
+        let theta = outer_root(v, f, physical);
         let re: Vec<f64> = e.iter().map(|x| theta.and_then(|t| v.exponent(x, t)).map(|z| z.re).unwrap_or(f64::NAN)).collect();
         return Ok(re.iter().all(|x| x.is_finite()).then(|| if re[0] >= re[1] { 0 } else { 1 }));
     };

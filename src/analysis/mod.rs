@@ -183,6 +183,31 @@ pub struct Analysis {
     pub reason: String,
     /// Remarks that qualify the class (apparent points present, …).
     pub notes: Vec<String>,
+    /// The map back to the physical variable when the equation's variable
+    /// was changed: the labels order roots and name ends there.
+    pub physical: Option<PhysicalMap>,
+}
+
+/// A change of variable seen from the analysis: old = g(new), with g in
+/// the analysis' field (variable 0 the new variable).
+#[derive(Clone, Debug)]
+pub struct PhysicalMap {
+    /// The physical (original) variable's name.
+    pub var: String,
+    /// g.
+    pub g: RatFunc,
+}
+
+impl PhysicalMap {
+    /// g at a point z of the written variable at the values; `None` at a
+    /// pole of g (the point maps to the physical ∞) or where a value is
+    /// not finite.
+    pub fn at(&self, v: &numeric::Values, z: num_complex::Complex64) -> Option<num_complex::Complex64> {
+        let n = v.upoly(&UPoly::from_poly(self.g.num()), z)?;
+        let d = v.upoly(&UPoly::from_poly(&self.g.den_expanded()), z)? * Rat::int(self.g.scale().clone()).to_f64();
+        let r = n / d;
+        (d.norm() > 0.0 && r.re.is_finite() && r.im.is_finite()).then_some(r)
+    }
 }
 
 impl Analysis {
@@ -350,7 +375,9 @@ fn p_at_infinity(k: &Field, p: &RatFunc) -> Result<RatFunc> {
 
 /// Analyses a reduction.
 pub fn analyse(red: &Reduction) -> Result<Analysis> {
-    analyse_equation(&red.field, &red.p, &red.normal.q)
+    let mut a = analyse_equation(&red.field, &red.p, &red.normal.q)?;
+    a.physical = red.change.as_ref().map(|c| PhysicalMap { var: c.old_var.clone(), g: c.g.clone() });
+    Ok(a)
 }
 
 /// Analyses y'' + p y' + q y = 0 given p and the normal form's Q.
@@ -368,7 +395,7 @@ pub fn analyse_equation(k: &Field, p: &RatFunc, q: &RatFunc) -> Result<Analysis>
     }
     points.push(infinity_point(k, q, p)?);
     let (class, reason, notes) = classify_points(&points);
-    Ok(Analysis { points, class, reason, notes })
+    Ok(Analysis { points, class, reason, notes, physical: None })
 }
 
 fn finite_point(k: &Field, p: &RatFunc, q: &RatFunc, f: &Poly, order: u32) -> Result<SingularPoint> {

@@ -187,6 +187,9 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     let fields = walk.fields.clone();
     let make = || -> crate::error::Result<PointSolver<'_>> {
         let red = crate::ode::reduce(&src.input(), &opts)?;
+        // After a change of variable every point is solved on the physical
+        // equation, coupled or not (`solve::physical`).
+        let red = crate::solve::physical::physical(&red)?.map_or(red, |(p, _)| p);
         match &angular_text {
             None => Ok(survey_solver(red, &fields, a.boundary == crate::solve::request::Problem::QuasiBound)),
             Some(text) => {

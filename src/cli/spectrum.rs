@@ -23,6 +23,14 @@
 //!   `value` [re, im], `depth`, `change_on_doubling`, and `links`, each
 //!   linked parameter's value [re, im] at the mode).
 //!
+//! After a change of variable (`--subst`, `--at-infinity`) the ends are
+//! decided and the spectrum solved in the physical (original) variable, and
+//! every document carries `variable_change`: {`physical_variable`,
+//! `written_variable`, `map` ("r = 1/t"), `ends` (left to right in the
+//! physical variable, each {`physical`: number or "inf", `written`: number,
+//! "inf" or null, `undecided`: why the place in the written variable cannot
+//! be decided, or null}), `note` (the sentence the text prints)}.
+//!
 //! Quasinormal-mode documents from the continued fraction also carry
 //! `horizon`, `ansatz`, `choices`, `recurrence_terms` and `notes` (words:
 //! a mode sought or found next to a frequency where the recurrence's

@@ -9,6 +9,7 @@ use crate::error::RequestInput;
 use crate::solve::boundary::{location_text, End, Location};
 use crate::solve::closed::ClosedForm;
 use crate::solve::periodic::{Floquet, PeriodicMode};
+use crate::solve::physical::{ChangeReport, WrittenPlace};
 use crate::solve::polynomial::PolynomialSolutions;
 use crate::solve::request::{
     Body, BoundReport, ClosedSection, EndsReport, EstimateReport, MethodFunction, ModeFunctions, NumericMethod, PeriodicReport, Problem,
@@ -72,6 +73,9 @@ pub fn json(r: &SpectrumReport) -> Value {
         Body::Periodic(b) => periodic_json(&r.frequency, b),
     };
     let numeric = r.body.converged();
+    if let (Some(c), Value::Object(m)) = (&r.change, &mut doc) {
+        m.insert("variable_change".into(), change_json(c));
+    }
     if let (Some(f), Value::Object(m)) = (&r.mode_functions, &mut doc) {
         m.insert("mode_functions".into(), mode_functions_json(f));
     }
@@ -93,6 +97,32 @@ pub fn json(r: &SpectrumReport) -> Value {
         m.insert("closed_form_note".into(), note);
     }
     doc
+}
+
+/// A place of the chart's report: a number, "inf", or null when undecided.
+fn place_json(l: Location) -> Value {
+    match l {
+        Location::At(x) => finite_or_null(x),
+        Location::Infinity => json!("inf"),
+    }
+}
+
+/// The change of variable: the map, and each end in both variables (the
+/// written place null with the reason when it cannot be decided).
+fn change_json(c: &ChangeReport) -> Value {
+    let ends: Vec<Value> = c
+        .ends
+        .iter()
+        .map(|e| {
+            let (written, why) = match &e.written {
+                WrittenPlace::At(x) => (finite_or_null(*x), Value::Null),
+                WrittenPlace::Infinity => (json!("inf"), Value::Null),
+                WrittenPlace::Undecided(why) => (Value::Null, json!(why)),
+            };
+            json!({"physical": place_json(e.physical), "written": written, "undecided": why})
+        })
+        .collect();
+    json!({"physical_variable": c.physical, "written_variable": c.written, "map": c.map, "ends": ends, "note": c.sentence()})
 }
 
 fn polynomial_json(p: &PolynomialSolutions) -> Value {
@@ -183,6 +213,11 @@ pub fn text(r: &SpectrumReport, source: &str) -> String {
             opt_method = RequestInput::Method.mention()
         ),
     };
+    if let Some(c) = &r.change {
+        // After the heading line: the variable the ends and words refer to.
+        let at = o.find('\n').map_or(o.len(), |i| i + 1);
+        o.insert_str(at, &format!("  variable: {}\n", c.sentence()));
+    }
     match &r.closed {
         ClosedSection::Found { form, values } => o.push_str(&closed_text(&r.frequency, form, values, &r.body.converged())),
         ClosedSection::None(why) => o.push_str(&format!("\nclosed form: none ({why})\n")),

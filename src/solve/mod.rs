@@ -17,6 +17,7 @@ pub mod integrate;
 pub mod mobius;
 pub mod modefn;
 pub mod periodic;
+pub mod physical;
 pub mod plot;
 pub mod polynomial;
 pub mod region;

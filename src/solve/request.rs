@@ -508,6 +508,10 @@ pub struct SpectrumReport {
     pub problem: Problem,
     /// The polynomial solutions, when derived: the section, or why there is none.
     pub polynomial: Option<std::result::Result<super::polynomial::PolynomialSolutions, String>>,
+    /// When the equation's variable was changed: the map and where the
+    /// ends, decided and solved in the physical variable, lie in the
+    /// written one (`solve::physical`).
+    pub change: Option<super::physical::ChangeReport>,
 }
 
 /// The closed-form part of a report.
@@ -638,7 +642,81 @@ fn point(red: &Reduction, req: &SpectrumRequest, freq: usize) -> Result<Vec<GRat
 /// Computes the spectrum a request asks for: the numeric route's modes with
 /// their evidence and, when asked, the closed form of a solvable problem
 /// (each exact value checked against the numeric modes by the renderer).
+///
+/// When the equation's variable was changed (`--subst`, `--at-infinity`),
+/// the ends, their roles and the domain are decided on the equation in its
+/// physical variable and the spectrum is solved there (`solve::physical`);
+/// the report's `change` says where the ends lie in the written variable.
 pub fn spectrum(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
+    if req.problem != Problem::Periodic {
+        if let Some((phys, chart)) = super::physical::physical(red)? {
+            return physical_spectrum(&phys, &chart, req);
+        }
+    }
+    spectrum_in(red, req)
+}
+
+/// [`spectrum`] on the physical equation `phys` of a changed variable:
+/// ends given in the written variable are carried to the physical one
+/// first, and the ends found are carried back for the report.
+fn physical_spectrum(phys: &Reduction, chart: &super::physical::Chart, req: &SpectrumRequest) -> Result<SpectrumReport> {
+    let (freq, _) = frequency(phys, req)?;
+    let point = point(phys, req, freq)?;
+    let carried = carried_request(chart, req, &point, freq)?;
+    let mut report = spectrum_in(phys, carried.as_ref().unwrap_or(req))?;
+    let ends = report_ends(&report);
+    report.change = Some(chart.report(&ends, &point, freq));
+    Ok(report)
+}
+
+/// A request whose ends, given in the written variable of `chart`, are
+/// carried to the physical one (`None`: nothing to carry, the request
+/// serves as it is; a coupled solve does not read the ends).
+fn carried_request(chart: &super::physical::Chart, req: &SpectrumRequest, point: &[GRat], freq: usize) -> Result<Option<SpectrumRequest>> {
+    let (Some(given), None) = (&req.ends, &req.couple) else { return Ok(None) };
+    let Some(ends) = chart.ends_to_physical(given, point, freq) else {
+        return Err(usage(format!("an end given in {} has no real place in {} under {}", chart.written, chart.physical, chart.map))
+            .in_option(RequestInput::Ends));
+    };
+    Ok(Some(SpectrumRequest {
+        problem: req.problem,
+        ends: Some(ends),
+        frequency: req.frequency.clone(),
+        values: req.values.clone(),
+        overtones: req.overtones,
+        method: req.method,
+        guess: req.guess,
+        tol: req.tol,
+        wkb_order: req.wkb_order,
+        eikonal_param: req.eikonal_param.clone(),
+        mode_functions: req.mode_functions,
+        couple: None,
+        closed_form: req.closed_form,
+        polynomial: req.polynomial,
+    }))
+}
+
+/// The ends of the domain a report's modes were found between, left to
+/// right (none for a periodic problem or barrier estimates alone).
+fn report_ends(r: &SpectrumReport) -> Vec<Location> {
+    let closed = || match &r.closed {
+        ClosedSection::Found { form, .. } => form.ends.iter().map(|e| e.location).collect(),
+        _ => Vec::new(),
+    };
+    match &r.body {
+        Body::Recurrence(b) => vec![Location::At(b.setup.horizon_value), Location::Infinity],
+        Body::Ends(e) => e.problem.ends.iter().map(|e| e.location).collect(),
+        Body::Bound(b) => match bound_ends(b.domain) {
+            Some(ends) => ends.iter().map(|e| e.location).collect(),
+            None => vec![Location::Infinity],
+        },
+        Body::Exact => closed(),
+        Body::Estimates(_) | Body::Periodic(_) => Vec::new(),
+    }
+}
+
+/// [`spectrum`] on the equation as it is written.
+fn spectrum_in(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
     if req.method == Method::Exact {
         return exact_only(red, req);
     }
@@ -798,7 +876,23 @@ fn exact_setup(red: &Reduction, req: &SpectrumRequest) -> Result<ExactSetup> {
 /// The closed form of the request's problem alone, with the ends found as
 /// `Method::Exact` finds them, and the spectral parameter's name (derivation
 /// records use it; no numeric route runs).
+///
+/// After a change of variable the closed form is the physical equation's,
+/// between the ends decided there, as in [`spectrum`].
 pub fn closed_form(red: &Reduction, req: &SpectrumRequest) -> Result<(String, ClosedSection)> {
+    if req.problem != Problem::Periodic {
+        if let Some((phys, chart)) = super::physical::physical(red)? {
+            let (freq, _) = frequency(&phys, req)?;
+            let point = point(&phys, req, freq)?;
+            let carried = carried_request(&chart, req, &point, freq)?;
+            return closed_form_in(&phys, carried.as_ref().unwrap_or(req));
+        }
+    }
+    closed_form_in(red, req)
+}
+
+/// [`closed_form`] on the equation as it is written.
+fn closed_form_in(red: &Reduction, req: &SpectrumRequest) -> Result<(String, ClosedSection)> {
     let ExactSetup { freq, fname, point, ends } = exact_setup(red, req)?;
     Ok((fname, closed_section(red, req, freq, &point, ends?)))
 }
@@ -832,7 +926,16 @@ fn exact_only(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> 
         };
         return Err(method_error(format!("no closed form for this problem: {why}{extra}")));
     }
-    Ok(SpectrumReport { frequency: fname, var: red.var.clone(), body: Body::Exact, mode_functions: None, closed, problem: req.problem, polynomial })
+    Ok(SpectrumReport {
+        frequency: fname,
+        var: red.var.clone(),
+        body: Body::Exact,
+        mode_functions: None,
+        closed,
+        problem: req.problem,
+        polynomial,
+        change: None,
+    })
 }
 
 impl Body {
@@ -919,6 +1022,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
             closed: ClosedSection::NotAsked,
             problem: req.problem,
             polynomial: None,
+            change: None,
         },
         freq,
         point: point.clone(),
@@ -1003,7 +1107,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
                     Method::Integrate => between_ends(bp, req, &opts, None),
                     _ => {
                         let why = format!("the exact recurrence could not be set up ({})", e.message);
-                        match series_between_ends(bp, req, &opts, &red.var, &why) {
+                        match series_between_ends(bp, req.problem, &opts, &red.var, &why, true) {
                             Ok(report) => report,
                             Err(b) if req.method == Method::Cf => {
                                 return Err(method_error(format!("{why}, and the numeric series cannot be set up either: {}", b.1.message)))
@@ -1038,7 +1142,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
         // (anti-de Sitter): the numeric series between the ends does.
         let bp = problem?;
         let why = "the exact recurrence is not derived for a regular boundary at infinity";
-        let report = match series_between_ends(bp, req, &opts, &red.var, why) {
+        let report = match series_between_ends(bp, req.problem, &opts, &red.var, why, true) {
             Ok(report) => report,
             Err(b) if req.method == Method::Cf => return Err(method_error(format!("the numeric series cannot be set up: {}", b.1.message))),
             Err(b) => {
@@ -1218,7 +1322,7 @@ fn rated_ends(bp: &BoundaryProblem) -> bool {
 /// True for a horizon on the left and a regular boundary at infinity on the
 /// right (an anti-de Sitter black hole), the ends the numeric series takes
 /// where the exact recurrence route does not.
-fn horizon_to_regular_infinity(bp: &BoundaryProblem) -> bool {
+pub(crate) fn horizon_to_regular_infinity(bp: &BoundaryProblem) -> bool {
     use super::boundary::Nature;
     bp.ends[0].nature == Nature::Horizon && bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::Regular
 }
@@ -1314,12 +1418,27 @@ pub fn region_setup(red: &Reduction, req: &SpectrumRequest) -> Result<RegionSetu
         ))
         .in_option(RequestInput::Region));
     }
+    // After a change of variable the window's modes are those of the
+    // physical equation, between the ends decided there (`solve::physical`).
+    let physical = super::physical::physical(red)?;
+    let red = physical.as_ref().map_or(red, |(p, _)| p);
     let (freq, frequency) = frequency(red, req)?;
     let point = point(red, req, freq)?;
+    let carried = match &physical {
+        Some((_, chart)) => carried_request(chart, req, &point, freq)?,
+        None => None,
+    };
+    let req = carried.as_ref().unwrap_or(req);
     let opts = SpectrumOptions { freq, values: point.clone(), overtones: req.overtones, tol: req.tol, guess: None, seeds: Vec::new() };
     let red = super::spectrum::substitute(red, &point, freq)?;
     let (problem, classic) = boundary_problem(&red, req, &point, freq);
-    Ok(RegionSetup { problem: problem?, red, frequency, opts, classic })
+    let mut problem = problem?;
+    if let Some((_, chart)) = &physical {
+        // The first note says which variable the ends and words refer to.
+        let ends: Vec<Location> = problem.ends.iter().map(|e| e.location).collect();
+        problem.notes.insert(0, chart.report(&ends, &point, freq).sentence());
+    }
+    Ok(RegionSetup { problem, red, frequency, opts, classic })
 }
 
 /// With an eikonal parameter: its name, index and the equation with every
@@ -1371,35 +1490,43 @@ fn between_ends_as(bp: BoundaryProblem, problem: Problem, opts: &SpectrumOptions
 
 /// Modes by the continued fraction of the numeric series between the ends
 /// (`solve::mobius`), each checked by direct integration seeded 1e-4 away
-/// from its root; seeds from the guess or the global spectral method. `why`
-/// says why the exact recurrence did not serve. Gives the problem back with
-/// the reason when the series cannot be set up or has no seed.
-fn series_between_ends(
+/// from its root when `check` (a survey may skip it); seeds given (a
+/// survey's neighbour), else from the guess or the global spectral method.
+/// `why` says why the exact recurrence did not serve. Gives the problem
+/// back with the reason when the series cannot be set up or has no seed.
+pub(crate) fn series_between_ends(
     bp: BoundaryProblem,
-    req: &SpectrumRequest,
+    problem: Problem,
     opts: &SpectrumOptions,
     var: &str,
     why: &str,
+    check: bool,
 ) -> std::result::Result<EndsReport, Box<(BoundaryProblem, Error)>> {
     let s = match super::mobius::series(&bp, var) {
         Ok(s) => s,
         Err(e) => return Err(Box::new((bp, e))),
     };
-    let mut seeds = if opts.guess.is_none() { super::global::seeds(&bp, opts.overtones) } else { Vec::new() };
+    // Seeds given (a survey's neighbour) are used as they are.
+    let neighbour = !opts.seeds.is_empty();
+    let mut seeds = match (neighbour, opts.guess) {
+        (true, _) => opts.seeds.clone(),
+        (false, None) => super::global::seeds(&bp, opts.overtones),
+        (false, Some(_)) => Vec::new(),
+    };
     if seeds.is_empty() && opts.guess.is_none() {
         // The lowest overtone alone; the ladder extrapolates from it.
         seeds = super::global::seeds(&bp, (opts.overtones.0, opts.overtones.0));
     }
     // Without a guess the overtones are counted from the fundamental: the
     // ladder climbs from 0 and the range asked for is kept.
-    let climb = opts.guess.is_none() && opts.overtones.0 > 0;
+    let climb = !neighbour && opts.guess.is_none() && opts.overtones.0 > 0;
     if climb {
         seeds = super::global::seeds(&bp, (0, opts.overtones.1));
         if seeds.is_empty() {
             seeds = super::global::seeds(&bp, (0, 0));
         }
     }
-    let from_spectral = !seeds.is_empty();
+    let from_spectral = !neighbour && !seeds.is_empty();
     let o = SpectrumOptions { seeds, overtones: if climb { (0, opts.overtones.1) } else { opts.overtones }, ..opts.clone() };
     let solve = |n: u32, seed: Complex64| super::cf::find_root(&s.recurrence, n as usize, seed, opts.tol, 64, 1 << 17);
     let cf_modes = match super::spectrum::overtones(&o, &|_| None, &solve) {
@@ -1413,12 +1540,15 @@ fn series_between_ends(
             if !m.root.converged {
                 return super::ends::unfound(m.n, "not checked: the continued fraction did not converge".into());
             }
+            if !check {
+                return super::ends::unfound(m.n, "not checked: no check was asked for".into());
+            }
             let seed = super::spectrum::check_seed(m.root.omega);
             let root = super::ends::find_root(&bp, seed, opts.tol);
             EndMode { n: m.n, root, seed: super::ends::Seed { omega: seed, from: "the continued fraction's root, 1e-4 away".into() } }
         })
         .collect();
-    let given = if from_spectral { o.seeds.len() } else { usize::from(opts.guess.is_some()) };
+    let given = if from_spectral || neighbour { o.seeds.len() } else { usize::from(opts.guess.is_some()) };
     let wanted = (opts.overtones.1 - opts.overtones.0 + 1) as usize;
     let mut numbering: Vec<String> = Vec::new();
     if from_spectral {
@@ -1438,7 +1568,7 @@ fn series_between_ends(
     let checks = modes.iter().map(|_| None).collect();
     let check_note = "second method: direct integration between the ends, from 1e-4 away from each continued-fraction root".to_string();
     let series = SeriesReport { description: s.description.clone(), radius: s.radius, terms: s.recurrence.terms.len(), modes: cf_modes };
-    Ok(EndsReport { problem: bp, modes, note, numbering, spectrum: req.problem, checks, check_note, series: Some(series) })
+    Ok(EndsReport { problem: bp, modes, note, numbering, spectrum: problem, checks, check_note, series: Some(series) })
 }
 
 /// Modes with no guess seeded by the global spectral method (its

@@ -546,10 +546,62 @@ fn continues(last: &[Complex64], second: Option<&[Complex64]>, next: Option<&[Co
 /// The modes of one equation at one grid point: parameters substituted
 /// exactly, the recurrence derived, seeds from WKB (wkb::SEED_ORDER) when no
 /// neighbour gave them, the integration check when asked.
+///
+/// Where the exact recurrence cannot be set up (ends that are roots of a
+/// cubic, two horizons: Schwarzschild–de Sitter), quasinormal modes come
+/// from the continued fraction of the numeric series between the ends, as
+/// `spectrum` finds them (`series_point`).
 pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool, quasi_bound: bool) -> Result<SolvedPoint> {
     let r = super::spectrum::substitute_for_series(red, &opts.values, &[opts.freq])?;
-    let (rec, setup) = qnm_recurrence(&r, opts)?;
-    modes_at(red, Some(&r), &rec, setup, opts, check, quasi_bound)
+    match qnm_recurrence(&r, opts) {
+        Ok((rec, setup)) => modes_at(red, Some(&r), &rec, setup, opts, check, quasi_bound),
+        Err(e) if e.kind == crate::error::ErrorKind::Usage && !quasi_bound => {
+            let why = format!("the exact recurrence could not be set up ({})", e.message);
+            series_point(&r, opts, check, &why).map_err(|_| e)
+        }
+        Err(e) => Err(e),
+    }
+}
+
+/// True when the point's quasinormal-mode problem runs from a horizon to a
+/// regular boundary at infinity (anti-de Sitter), which `spectrum` solves
+/// by the numeric series and never by the exact recurrence.
+fn regular_infinity_point(red: &Reduction, opts: &SpectrumOptions) -> bool {
+    let kind = super::boundary::SpectrumKind::Quasinormal;
+    super::boundary::try_problem(&red.field, &red.normal.q, &red.q, &opts.values, opts.freq, kind, None)
+        .is_ok_and(|bp| super::request::horizon_to_regular_infinity(&bp))
+}
+
+/// The quasinormal modes at a point (`r` the equation at the point's
+/// values) from the numeric series between the ends of its boundary
+/// problem (`request::series_between_ends`, the route `spectrum` takes
+/// when the exact recurrence does not set up: seeded by the neighbour's
+/// modes, else by the global spectral method), each checked by direct
+/// integration between the ends when `check`; `why` says why the exact
+/// recurrence did not serve.
+fn series_point(r: &Reduction, opts: &SpectrumOptions, check: bool, why: &str) -> Result<SolvedPoint> {
+    let kind = super::boundary::SpectrumKind::Quasinormal;
+    let bp = super::boundary::try_problem(&r.field, &r.normal.q, &r.q, &opts.values, opts.freq, kind, None)?;
+    let report = match super::request::series_between_ends(bp, super::request::Problem::Quasinormal, opts, &r.var, why, check) {
+        Ok(report) => report,
+        Err(b) => return Err(b.1),
+    };
+    let Some(series) = report.series else {
+        return Err(crate::error::Error::new(crate::error::ErrorKind::Internal, "the numeric series gave no modes"));
+    };
+    // The series' modes with their checks (direct integration from 1e-4
+    // away from each root, as in `spectrum`); a check that did not converge
+    // leaves its columns empty.
+    Ok(series
+        .modes
+        .into_iter()
+        .map(|m| {
+            let c =
+                report.modes.iter().find(|e| e.n == m.n).filter(|_| check && m.root.converged).and_then(|e| e.root.converged.then_some(e.root.omega));
+            (m, c)
+        })
+        .collect::<PointModes>()
+        .into())
 }
 
 /// The modes at a point from its recurrence and set-up; `sub` is the
@@ -668,10 +720,23 @@ fn quasi_bound_at(r: &Reduction, rec: &Recurrence, setup: Setup, opts: &Spectrum
 /// (the rate at infinity decaying), each level of a first point seeded by
 /// its own hydrogen-like estimate, and the check runs between the ends of
 /// the quasi-bound boundary problem.
+///
+/// After a change of variable the points are solved on the physical
+/// equation, whose ends and roles decide the modes (`solve::physical`).
 pub fn survey_solver<'a>(red: Reduction, varied: &[usize], quasi_bound: bool) -> PointSolver<'a> {
+    let red = match super::physical::physical(&red) {
+        Ok(Some((phys, _))) => phys,
+        Ok(None) => red,
+        // Every point says why (never solved with the ends of the written variable).
+        Err(e) => return Box::new(move |_: &SpectrumOptions, _: bool| Err(e.clone())),
+    };
     let sym = std::cell::OnceCell::new();
     let varied = varied.to_vec();
     Box::new(move |o: &SpectrumOptions, check: bool| {
+        if !quasi_bound && regular_infinity_point(&red, o) {
+            let r = super::spectrum::substitute_for_series(&red, &o.values, &[o.freq])?;
+            return series_point(&r, o, check, "the exact recurrence is not derived for a regular boundary at infinity");
+        }
         let s: &Option<Symbolic> = sym.get_or_init(|| Symbolic::new(&red, o, &varied));
         match s.as_ref().and_then(|s| s.at(o)) {
             Some((rec, setup)) => modes_at(&red, None, rec, setup, o, check, quasi_bound),

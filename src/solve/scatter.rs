@@ -471,7 +471,14 @@ pub type ScatterRow = (f64, Vec<(i64, std::result::Result<Scattering, String>)>)
 
 /// Sets up the scattering problems of a request (the ends and exponents
 /// from the exact analysis, every parameter substituted).
+///
+/// After a change of variable the set-up is the physical equation's, whose
+/// ends and roles (horizon, infinity) decide the scattering problem
+/// (`solve::physical`).
 pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSetup> {
+    if let Some((phys, _)) = super::physical::physical(red)? {
+        return scatter_setup(&phys, req);
+    }
     let usage = |m: String| Error::new(ErrorKind::Usage, m);
     let names = red.field.names().to_vec();
     let fname = req.frequency.clone().or_else(|| ["omega", "ω", "w"].iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));

@@ -137,8 +137,13 @@ fn usage(msg: impl Into<String>) -> Error {
 }
 
 /// Picks the horizon (outermost regular point whose exponents depend on ω)
-/// and derives the quasinormal-mode recurrence about it.
+/// and derives the quasinormal-mode recurrence about it. After a change of
+/// variable both happen on the equation in its physical variable
+/// (`solve::physical`: there the horizon is outermost and infinity is where
+/// the wave goes out), so the recurrence and its set-up are in that variable.
 pub fn qnm_recurrence(red: &Reduction, opts: &SpectrumOptions) -> Result<(crate::series::Recurrence, Setup)> {
+    let physical = super::physical::physical(red)?;
+    let red = physical.as_ref().map_or(red, |(p, _)| p);
     let an = analyse(red)?;
     let choice = qnm_choice(red, &an, opts)?;
     let (rec, adjoined) = qnm_derive(red, &an, &choice)?;
@@ -227,7 +232,8 @@ pub fn qnm_choice(red: &Reduction, an: &crate::analysis::Analysis, opts: &Spectr
             }
             Place::Roots(f) => {
                 // The outermost real root of the factor (the labels were decided there).
-                if let Some(z) = vals.roots(f).and_then(|r| r.into_iter().rfind(|z| z.im.abs() < 1e-10 * z.re.abs().max(1.0))) {
+                let outer = crate::analysis::labels::outer_root(&vals, f, an.physical.as_ref());
+                if let Some(z) = outer.filter(|z| z.im.abs() < 1e-10 * z.re.abs().max(1.0)) {
                     if best_root.is_none_or(|(b, _)| z.re > b) {
                         best_root = Some((z.re, i));
                     }
