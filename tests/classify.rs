@@ -397,3 +397,27 @@ fn points_are_named_by_their_exact_place_not_their_printed_text() {
     let e = fail(&["--about", "2*M", "--exponents", "2*M=2,1/r=1"]);
     assert!(e.starts_with("--exponents:1:7: error:") && e.contains("is not a singular point"), "{e}");
 }
+
+#[test]
+fn only_points_with_horizon_physics_are_called_ingoing() {
+    // A 5-dimensional Schwarzschild–Tangherlini scalar (f = 1 − r_h²/r²,
+    // V = f(l(l + 2)/r² + 3f/(4r²) + 3f'/(2r)), common practice): r = −r_h
+    // has exponents ±iω/(2κ) like the horizon, but the centre r = 0 lies
+    // between, so it is no horizon of the domain r > r_h. Pöschl–Teller in
+    // u = tanh x keeps both ends u = ±1, nothing between them.
+    let program =
+        "var r\nparam rh, w, l\nlet f = 1 - rh^2/r^2\nlet V = f*(l*(l+2)/r^2 + 3/4*f/r^2 + 3/2*f'/r)\node f*(f*psi')' + (w^2 - V)*psi = 0\n";
+    let v = classify_text(program, &["--boundary", "qnm", "--at", "rh=1,l=0,w=1/2"]);
+    let said: Vec<&str> = v["boundary"]["choices"].as_array().unwrap().iter().map(|c| c.as_str().unwrap()).collect();
+    assert!(said.iter().any(|c| c.starts_with("at rh: the ingoing exponent")), "{said:?}");
+    assert!(said.iter().any(|c| c.starts_with("at -rh: exponent number") && c.contains("not a horizon of the domain")), "{said:?}");
+    assert!(!said.iter().any(|c| c.starts_with("at -rh: the ingoing")), "{said:?}");
+    let out = Command::new(env!("CARGO_BIN_EXE_canonode"))
+        .args(["spectrum", "-e", "psi'' + (w^2 - V0/cosh(x)^2)*psi = 0", "--var", "x", "--at", "V0=1", "--format", "json"])
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .output()
+        .expect("binary runs");
+    let doc: Value = serde_json::from_slice(&out.stdout).expect("JSON");
+    let text = doc.to_string();
+    assert!(text.contains("at 1: the ingoing exponent") && text.contains("at -1: the ingoing exponent"), "{text}");
+}

@@ -453,6 +453,7 @@ pub fn boundary_choices(k: &Field, a: &Analysis, labels: Option<&Labels>, b: Bou
     let v = Values::new(point.to_vec());
     let mut picks = Vec::new();
     let mut said = Vec::new();
+    let beyond = beyond_a_singular_point(a, labels, &v);
     for (i, p) in a.points.iter().enumerate() {
         let row = labels.map(|l| &l.per_point[i]);
         let name = point_name(k, p);
@@ -465,7 +466,14 @@ pub fn boundary_choices(k: &Field, a: &Analysis, labels: Option<&Labels>, b: Bou
             (Boundary::Qnm, Kind::Regular) => {
                 if let Some(j) = row.and_then(|r| r.iter().position(|x| *x == Some(Label::Ingoing))) {
                     picks.push((p.place.id(), j + 1));
-                    said.push(format!("at {named}: the ingoing exponent (number {})", j + 1));
+                    said.push(match beyond[i] {
+                        Some(mid) => format!(
+                            "at {named}: exponent number {} (the one with the ingoing sign; not a horizon of the domain: a singular point, {}, lies between it and the outer horizon)",
+                            j + 1,
+                            short(Complex64::new(mid, 0.0))
+                        ),
+                        None => format!("at {named}: the ingoing exponent (number {})", j + 1),
+                    });
                 }
             }
             (Boundary::Qnm, Kind::Irregular) => {
@@ -490,6 +498,43 @@ pub fn boundary_choices(k: &Field, a: &Analysis, labels: Option<&Labels>, b: Bou
         }
     }
     Ok(ExponentPicks { picks, said })
+}
+
+/// For each point: when it is a real point with a spectral-parameter
+/// dependent exponent lying below the outermost such point with another
+/// real singular point strictly between them (r = −r_h of a
+/// higher-dimensional black hole, r = −1 of de Sitter: beyond the centre
+/// r = 0), that point's location; such a point has no horizon physics for
+/// the domain outside. Decided in the written variable only (after a change
+/// of variable, `None` everywhere).
+fn beyond_a_singular_point(a: &Analysis, labels: Option<&Labels>, v: &Values) -> Vec<Option<f64>> {
+    let none = vec![None; a.points.len()];
+    let Some(labels) = labels else { return none };
+    if a.physical.is_some() {
+        return none;
+    }
+    let real = |z: &Complex64| (z.im.abs() <= 1e-9 * z.re.abs().max(1.0)).then_some(z.re);
+    let located: Vec<Vec<f64>> = a
+        .points
+        .iter()
+        .map(|p| match &p.place {
+            Place::Point { at, .. } => v.ratfunc(at).as_ref().and_then(real).into_iter().collect(),
+            Place::Roots(f) => v.roots(f).unwrap_or_default().iter().filter_map(real).collect(),
+            Place::Infinity => Vec::new(),
+        })
+        .collect();
+    let labelled = |i: usize| labels.per_point.get(i).is_some_and(|r| r.iter().any(Option::is_some));
+    let outer = (0..a.points.len()).filter(|i| labelled(*i)).flat_map(|i| located[i].iter().copied()).fold(f64::NEG_INFINITY, f64::max);
+    (0..a.points.len())
+        .map(|i| {
+            let Place::Point { .. } = a.points[i].place else { return None };
+            let z = *located[i].first()?;
+            if !labelled(i) || z >= outer {
+                return None;
+            }
+            located.iter().flatten().copied().find(|m| *m > z + 1e-9 * z.abs().max(1.0) && *m < outer - 1e-9 * outer.abs().max(1.0))
+        })
+        .collect()
 }
 
 /// Which of two exponents has the larger real part at the values (the first

@@ -206,6 +206,39 @@ impl QnmChoice {
     }
 }
 
+/// The sentences of the picks at finite points other than the horizon
+/// (`horizon`: its place when rational, at the value `at`) when the domain runs from the horizon to an irregular infinity: such a
+/// point lies inside the horizon (or off the real axis), not at an end, so
+/// its pick is a convention of the series — the prefactor's power there is
+/// analytic and non-zero on the whole domain, so either exponent gives the
+/// same modes — and is said so instead of being called ingoing.
+fn outside_the_domain(
+    k: &crate::algebra::Field,
+    picks: &[(PointId, usize)],
+    said: Vec<String>,
+    horizon: Option<&crate::algebra::RatFunc>,
+    at: f64,
+) -> Vec<String> {
+    picks
+        .iter()
+        .zip(said)
+        .map(|((id, j), sentence)| match id {
+            PointId::At(z) if Some(z) != horizon => format!(
+                "at {}: exponent number {j}, a convention of the series (the point is not an end: it lies inside the horizon at {}, and either exponent there gives the same modes)",
+                id.text(k.names()),
+                fmt_value(at)
+            ),
+            _ => sentence,
+        })
+        .collect()
+}
+
+/// A horizon's value for a sentence, to 12 significant digits.
+fn fmt_value(x: f64) -> String {
+    let s = format!("{x:.12}");
+    s.trim_end_matches('0').trim_end_matches('.').to_string()
+}
+
 /// The numeric decisions of [`qnm_recurrence`] at the options' values
 /// (the analysis `an` of `red`).
 pub fn qnm_choice(red: &Reduction, an: &crate::analysis::Analysis, opts: &SpectrumOptions) -> Result<QnmChoice> {
@@ -242,13 +275,15 @@ pub fn qnm_choice(red: &Reduction, an: &crate::analysis::Analysis, opts: &Spectr
             Place::Infinity => {}
         }
     }
+    let inf_irregular = an.points.iter().any(|p| matches!(p.place, Place::Infinity) && p.kind == Kind::Irregular);
     if let Some((zr, i)) = best_root.filter(|(zr, _)| best.as_ref().is_none_or(|(b, _, _)| *zr > *b)) {
+        let said = if inf_irregular { outside_the_domain(k, &picks, said, None, zr) } else { said };
         return Ok(QnmChoice { picks, said, horizon: HorizonChoice::Root { index: i, value: zr }, freq: opts.freq });
     }
     let Some((horizon_value, horizon, horizon_at)) = best else {
         return Err(usage("no horizon-like regular point: the quasinormal-mode series needs one"));
     };
-    let inf_irregular = an.points.iter().any(|p| matches!(p.place, Place::Infinity) && p.kind == Kind::Irregular);
+    let said = if inf_irregular { outside_the_domain(k, &picks, said, Some(&horizon_at), horizon_value) } else { said };
     // With an irregular point at infinity, Leaver's Möbius series; otherwise
     // a plain Frobenius series about the horizon carrying the chosen
     // exponents of the other regular points, whose termination is the mode condition.
