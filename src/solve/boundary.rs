@@ -533,7 +533,7 @@ fn potential_at(ode: &NumOde, x: f64) -> f64 {
 }
 
 /// A double with up to 12 significant digits, for notes.
-fn fmt(x: f64) -> String {
+pub(crate) fn fmt(x: f64) -> String {
     let s = format!("{x:.12}");
     let s = s.trim_end_matches('0').trim_end_matches('.').to_string();
     if s == "-0" {

@@ -226,17 +226,11 @@ fn outside_the_domain(
             PointId::At(z) if Some(z) != horizon => format!(
                 "at {}: exponent number {j}, a convention of the series (the point is not an end: it lies inside the horizon at {}, and either exponent there gives the same modes)",
                 id.text(k.names()),
-                fmt_value(at)
+                super::boundary::fmt(at)
             ),
             _ => sentence,
         })
         .collect()
-}
-
-/// A horizon's value for a sentence, to 12 significant digits.
-fn fmt_value(x: f64) -> String {
-    let s = format!("{x:.12}");
-    s.trim_end_matches('0').trim_end_matches('.').to_string()
 }
 
 /// The numeric decisions of [`qnm_recurrence`] at the options' values
