@@ -357,3 +357,20 @@ fn de_sitter_static_patch_without_a_guess_starts_from_the_least_damped_mode() {
     let text = String::from_utf8_lossy(&out.stdout);
     assert!(text.contains("a de Sitter static patch), name the ends with --ends 0..1"), "{text}");
 }
+
+#[test]
+fn a_centre_that_is_an_ordinary_point_can_be_an_end() {
+    // Global AdS₄, massless scalar, l = 0: Q has no pole at r = 0 (ψ = r·φ is
+    // analytic there), so the centre is an ordinary point; given as an end,
+    // its exponents are 0 and 1 and the regular solution ψ(0) = 0 takes the
+    // larger. ω = l + 3 + 2n = 3, 5, 7, 9 (exact, as above).
+    let doc =
+        run(&["spectrum", "tests/boundary/ads4_global_scalar.ode", "--at", "l=0", "--ends", "0..inf", "--overtones", "0..3", "--format", "json"]);
+    let modes = doc["modes"].as_array().unwrap();
+    assert_eq!(modes.len(), 4, "{doc}");
+    for (n, m) in modes.iter().enumerate() {
+        let want = cx(3.0 + 2.0 * n as f64, 0.0);
+        assert_eq!(m["converged"], true, "{m}");
+        assert!(close(c(&m["omega"]), want, 1e-9), "n={n}: {} not {want}", m["omega"]);
+    }
+}

@@ -382,10 +382,20 @@ fn given_ends(given: &GivenEnds, real_points: &[RealPoint], infinity: &Infinity)
                     .ok_or_else(|| usage(format!("infinity has Poincaré rank {} here: not supported as an end yet", infinity.rank())))?;
                 out.push(FoundEnd { location: Location::Infinity, nature: n, found: "infinity, given".to_string() });
             }
-            Location::At(z) => {
-                let p = find_point(*z).ok_or_else(|| usage(format!("z = {z} is not a real singular point of Q at these values")))?;
-                out.push(FoundEnd { location: Location::At(p.z), nature: p.nature, found: format!("{}, given", describe(p)) });
-            }
+            Location::At(z) => match find_point(*z) {
+                Some(p) => out.push(FoundEnd { location: Location::At(p.z), nature: p.nature, found: format!("{}, given", describe(p)) }),
+                // An ordinary point as an end: a centre where ψ is analytic,
+                // its exponents 0 (ψ(z) ≠ 0, Neumann-like) and 1 (ψ(z) = 0:
+                // regular at the centre of a field whose radial function is
+                // ψ = r·φ).
+                None => out.push(FoundEnd {
+                    location: Location::At(*z),
+                    nature: Nature::Regular,
+                    found:
+                        "an ordinary point of Q, given: exponents 0 and 1, the larger one being ψ = 0 there (Dirichlet), the other ψ' = 0 (Neumann)"
+                            .to_string(),
+                }),
+            },
         }
     }
     Ok([out[0].clone(), out[1].clone()])

@@ -287,11 +287,10 @@ pub(super) fn horizon(k: &Coeffs, zh: f64) -> Result<Horizon, String> {
     // a coefficient that is a tiny fraction of its own terms is a zero.
     let zero = |x: Complex64, bound: f64| x.norm() <= 1e-9 * bound;
     let m = (0..a.len()).find(|&j| !zero(a[j], ea[j])).ok_or("A vanishes at every point")?;
-    if m == 0 {
-        return Err(format!("the horizon z = {zh} is not a zero of A"));
-    }
-    // A regular singular point: B vanishes to order m − 1 and C to order m − 2 at least.
-    for (v, e, order, name) in [(&mut b, &eb, m - 1, "B"), (&mut c, &ec, m.saturating_sub(2), "C")] {
+    // m = 0 is an ordinary point given as an end (a centre where the
+    // solutions are analytic, exponents 0 and 1); otherwise a regular
+    // singular point: B vanishes to order m − 1 and C to order m − 2 at least.
+    for (v, e, order, name) in [(&mut b, &eb, m.saturating_sub(1), "B"), (&mut c, &ec, m.saturating_sub(2), "C")] {
         for j in 0..order.min(v.len()) {
             if !zero(v[j], e[j]) {
                 return Err(format!("the horizon z = {zh} is not a regular singular point ({name} does not vanish to order {order})"));
