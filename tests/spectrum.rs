@@ -1648,5 +1648,21 @@ fn eigenvalue_problems_need_no_boundary_or_ends_option() {
         let want = -1.0 / (2.0 * ((n + 1) as f64).powi(2));
         assert!((e - want).abs() < 1e-9, "n={n}: {e} vs {want}");
     }
-    assert!(v["notes"][0].as_str().is_some_and(|n| n.contains("no horizon")), "{v}");
+    assert!(v["notes"][0].as_str().is_some_and(|n| n.contains("enters linearly")), "{v}");
+}
+
+#[test]
+fn an_energy_is_not_taken_for_a_frequency() {
+    // The Pöschl–Teller well ψ'' + (E + ν(ν + 1) sech²x)ψ = 0, ν = 2: bound
+    // states E = −(ν − n)², n = 0, 1 (exact; e.g. Landau & Lifshitz §23
+    // problem 4, from memory). E enters linearly and the ends' exponents are
+    // ±√(−E)/2: an energy, so `spectrum` alone, with no --at and no
+    // --boundary, solves the eigenvalue problem, each end decaying.
+    let (v, code, err) = run(&["spectrum", "-e", "psi'' + (E + 6/cosh(x)^2)*psi = 0", "--var", "x", "--overtones", "0..1", "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    for (n, want) in [(0usize, -4.0), (1, -1.0)] {
+        let (re, im) = omega(&v["modes"][n]);
+        assert!((re - want).abs() < 1e-10 && im.abs() < 1e-12, "n={n}: {re} {im}");
+    }
+    assert!(v["notes"][0].as_str().is_some_and(|n| n.contains("enters linearly")), "{v}");
 }

@@ -138,8 +138,8 @@ pub(crate) struct SpectrumArgs {
     /// slower); default: from the outermost horizon to the next singular end outward.
     #[arg(long = "ends", value_name = "LEFT..RIGHT", allow_hyphen_values = true)]
     ends: Option<String>,
-    /// Values of every parameter except the frequency, e.g. 'M=1,l=2,s=2'.
-    #[arg(long = "at", value_name = "NAME=VALUE,...")]
+    /// Values of every parameter except the frequency, e.g. 'M=1,l=2,s=2' (none when the frequency is the only one).
+    #[arg(long = "at", value_name = "NAME=VALUE,...", default_value = "")]
     at: String,
     /// Overtones, a range 'A..B' (inclusive) or one number (numbers up to 200, at most 51 in one run).
     #[arg(long = "overtones", value_name = "A..B", default_value = "0")]

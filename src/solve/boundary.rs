@@ -501,7 +501,12 @@ fn end_conditions(ends: [FoundEnd; 2], given: Option<&GivenEnds>, kind: Spectrum
                 c
             }
             None => match nature {
-                Nature::Horizon => Condition::IntoHorizon,
+                Nature::Horizon => match kind {
+                    // A real eigenvalue problem whose exponents depend on the eigenvalue
+                    // (an energy: ±√(−E)): the decaying, larger exponent.
+                    SpectrumKind::Bound => Condition::Normalisable,
+                    SpectrumKind::Quasinormal | SpectrumKind::QuasiBound => Condition::IntoHorizon,
+                },
                 Nature::Regular => Condition::Normalisable,
                 Nature::IrregularRank1 => match kind {
                     SpectrumKind::Quasinormal => Condition::Outgoing,

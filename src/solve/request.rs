@@ -313,7 +313,7 @@ fn bound_route(
     redirected: bool,
 ) -> Result<(Body, Option<ModeFunctions>)> {
     let why = redirected.then(|| format!(
-        "no horizon and the spectral parameter enters linearly: solved as a real eigenvalue problem (for quasinormal modes between chosen ends, give {opt_boundary} qnm with {opt_ends})",
+        "the spectral parameter enters linearly (an energy or a separation constant, not a frequency whose square enters): solved as a real eigenvalue problem (for quasinormal modes between chosen ends, give {opt_boundary} qnm with {opt_ends})",
         opt_boundary = RequestInput::Boundary.mention(),
         opt_ends = RequestInput::Ends.mention()
     ));
@@ -1046,16 +1046,15 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
         return Ok(done(Body::Periodic(report), functions, None));
     }
     let red = super::spectrum::substitute_for_series(red, &point, &[freq])?;
-    // With no horizon and the parameter entering linearly (an energy or a
-    // separation constant), the problem a default request means is an
-    // eigenvalue problem, not quasinormal modes.
+    // A parameter entering Q linearly is an energy or a separation
+    // constant, not a frequency (whose square enters, and whose horizon
+    // exponents ±iω/(2κ) are linear in it): the problem a default request
+    // means is an eigenvalue problem, not quasinormal modes.
     let as_bound = req.problem == Problem::Quasinormal
         && req.ends.is_none()
         && req.couple.is_none()
         && req.guess.is_none()
-        && super::collocation::linear_in(&red.field, &red.normal.q, freq)?
-        && super::boundary::try_problem(&red.field, &red.normal.q, &red.q, &point, freq, SpectrumKind::Quasinormal, None)
-            .is_ok_and(|bp| bp.ends.iter().all(|e| e.nature != super::boundary::Nature::Horizon));
+        && super::collocation::linear_in(&red.field, &red.normal.q, freq)?;
     if (req.problem == Problem::Bound || as_bound) && req.ends.is_none() {
         let (body, f) = bound_route(&red, req, &opts, &point, freq, as_bound)?;
         let mut n = done(body, f, None);
