@@ -977,6 +977,43 @@ fn schwarzschild_de_sitter_by_the_numeric_series_agrees_with_direct_integration(
 }
 
 #[test]
+fn schwarzschild_de_sitter_with_a_rational_horizon_and_a_second_family() {
+    // Λ = 3/125 makes the cosmological horizon the rational point r = 10
+    // (r³ − 125 r + 250 = (r − 10)(r² + 10 r − 25)); the domain is still the
+    // interval between the black-hole horizon −5 + 5√2 and r = 10, solved
+    // by the numeric series and checked by direct integration to 8 digits
+    // (the exact recurrence about one horizon is not used for two).
+    let (v, ms) = modes_of("samples/schwarzschild_de_sitter_scalar.ode", "M=1,Lambda=3/125,l=1", &["--overtones", "0..1"]);
+    let ends = v["ends"].as_array().unwrap();
+    let (a, b) = (ends[0]["at"].as_f64().unwrap(), ends[1]["at"].as_f64().unwrap());
+    assert!((a - (5.0 * 2f64.sqrt() - 5.0)).abs() < 1e-9 && (b - 10.0).abs() < 1e-9, "{a} {b}");
+    for m in &ms {
+        assert_eq!(m["method"], "cf", "{m}");
+        assert!(m["check"]["agreement"].as_f64().unwrap() < 1e-8, "{m}");
+        let (re, im) = omega(m);
+        // Below Schwarzschild's l = 1 modes (Leaver 1985: 0.29293613 −
+        // 0.09765999i, 0.26453 − 0.30608i, from memory), common practice for Λ > 0.
+        assert!(re > 0.15 && re < 0.29293613 && im < 0.0, "{m}");
+    }
+    // Λ = 0.01: the least damped mode is purely imaginary, of the family
+    // set by the cosmological horizon, ω ≈ −i l √(Λ/3) for small Λ (V.
+    // Cardoso, J. L. Costa, K. Destounis, P. Hintz & A. Jansen, Phys. Rev.
+    // Lett. 120 (2018) 031103, from memory). It is listed apart; overtone 0 is the oscillating mode
+    // that tends to Schwarzschild's.
+    let (v, ms) = modes_of("samples/schwarzschild_de_sitter_scalar.ode", "M=1,Lambda=0.01,l=1", &[]);
+    let (re, im) = omega(&ms[0]);
+    assert!(re > 0.25 && re < 0.29293613 && im < -0.09 && im > -0.09765999, "{re} {im}");
+    assert!(ms[0]["check"]["agreement"].as_f64().unwrap() < 1e-8, "{}", ms[0]);
+    let notes = v["notes"].to_string();
+    let at = notes.find("a second family, purely imaginary").unwrap_or_else(|| panic!("{notes}"));
+    let rest = &notes[at..];
+    let colon = rest.find("): ").unwrap() + 3;
+    let value: f64 = rest[colon..].split('i').next().unwrap().parse().unwrap();
+    let de_sitter = -(0.01f64 / 3.0).sqrt();
+    assert!((value - de_sitter).abs() < 2e-3 * de_sitter.abs(), "{value} against {de_sitter}");
+}
+
+#[test]
 fn massive_scalar_quasi_bound_states_are_hydrogen_like() {
     // For small Mμ the quasi-bound states approach the hydrogenic levels
     // ω ≈ μ(1 − (Mμ)²/(2(l + n + 1)²)) and decay slowly (Detweiler, Phys.

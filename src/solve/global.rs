@@ -742,16 +742,24 @@ pub const SEED_GRIDS: [usize; 2] = [20, DEFAULT_GRID];
 
 /// Seeds for overtones lo..=hi: the eigenvalues of the global method in the
 /// lower right quadrant (the negative imaginary axis and the nearly real
-/// positive axis included) in [`overtone_order`], from the first grid of [`SEED_GRIDS`] that gives all of them, else as
-/// many as the default grid found (none when it cannot run on the problem).
+/// positive axis included) in [`overtone_order`], from the first grid and
+/// shift ([`SEED_GRIDS`] × [`SHIFTS`]) that gives all of them, else as many
+/// as the most any gave (none when the method cannot run on the problem).
 pub fn seeds(bp: &BoundaryProblem, (lo, hi): (u32, u32)) -> Vec<Complex64> {
     let want = (hi - lo + 1) as usize;
-    let mut out = Vec::new();
+    let mut out: Vec<Complex64> = Vec::new();
     for n in SEED_GRIDS {
-        let Ok((lower, _)) = lower_right(bp, n, DEFAULT_PERSIST) else { return Vec::new() };
-        out = lower.iter().map(|v| v.omega).skip(lo as usize).take(want).collect();
-        if out.len() == want {
-            break;
+        for shift in SHIFTS {
+            // A grid or shift that resolves nothing persistent is no reason
+            // to skip the next one.
+            let Ok((lower, _)) = lower_right_from(bp, n, DEFAULT_PERSIST, shift) else { continue };
+            let these: Vec<Complex64> = lower.iter().map(|v| v.omega).skip(lo as usize).take(want).collect();
+            if these.len() > out.len() {
+                out = these;
+            }
+            if out.len() == want {
+                return out;
+            }
         }
     }
     out
@@ -770,7 +778,7 @@ pub fn real_seeds(bp: &BoundaryProblem, (lo, hi): (u32, u32)) -> Vec<Complex64> 
     let even = even_in_omega(bp);
     let mut out = Vec::new();
     for n in SEED_GRIDS {
-        let Ok(sp) = try_spectral(bp, n, DEFAULT_PERSIST, Complex64::new(0.6, -0.8) * bp.scale, 0.0) else { return Vec::new() };
+        let Ok(sp) = try_spectral(bp, n, DEFAULT_PERSIST, Complex64::new(0.6, -0.8) * bp.scale, 0.0) else { continue };
         let mut real: Vec<f64> = sp
             .values
             .iter()
@@ -803,13 +811,29 @@ pub fn polynomial_in_omega(bp: &BoundaryProblem) -> bool {
 /// never reported as it is — only the polish, confirmed by the check, is.
 pub const SEED_PERSIST: f64 = 1e-3;
 
+/// The shifts of the inversion, in units of the problem's scale, that
+/// [`lower_right`] tries in turn: one in the lower half-plane among the
+/// least damped modes, and one in the upper half-plane, away from every
+/// mode, for when the first lies so near an eigenvalue of the discretised
+/// problem that nothing persists between the grids (seen on
+/// Schwarzschild–de Sitter).
+pub const SHIFTS: [Complex64; 2] = [Complex64::new(0.6, -0.8), Complex64::new(0.54, 0.61)];
+
 /// The eigenvalues of the global method in the lower right quadrant (the
 /// negative imaginary axis and the nearly real positive axis included), in
-/// [`overtone_order`], on `n` and ⌊3n/2⌋
-/// intervals persisting to `tol`, with the whole result.
+/// [`overtone_order`], on `n` and ⌊3n/2⌋ intervals persisting to `tol`,
+/// with the whole result: from the first of [`SHIFTS`] that gives any.
 pub fn lower_right(bp: &BoundaryProblem, n: usize, tol: f64) -> Result<(Vec<SpectralValue>, Spectral)> {
-    let sigma = Complex64::new(0.6, -0.8) * bp.scale;
-    let sp = try_spectral(bp, n, tol, sigma, TURN)?;
+    let first = lower_right_from(bp, n, tol, SHIFTS[0]);
+    match &first {
+        Ok((lower, _)) if lower.is_empty() => lower_right_from(bp, n, tol, SHIFTS[1]).or(first),
+        _ => first,
+    }
+}
+
+/// [`lower_right`] with the inversion's shift `shift`·scale.
+fn lower_right_from(bp: &BoundaryProblem, n: usize, tol: f64, shift: Complex64) -> Result<(Vec<SpectralValue>, Spectral)> {
+    let sp = try_spectral(bp, n, tol, shift * bp.scale, TURN)?;
     let lower = sp
         .values
         .iter()
@@ -986,7 +1010,8 @@ pub fn collocation_root(bp: &BoundaryProblem, seed: Complex64, agree: f64) -> Co
     last
 }
 
-fn fmt_c(w: Complex64) -> String {
+/// A complex number to 8 decimals, for sentences.
+pub(crate) fn fmt_c(w: Complex64) -> String {
     format!("{:.8}{:+.8}i", w.re, w.im)
 }
 

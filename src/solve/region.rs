@@ -15,6 +15,7 @@
 //! `emit::region`.
 
 use super::boundary::End;
+use super::global::fmt_c;
 use super::global::{self, Region, SpectralValue};
 use super::integrate::IntRoot;
 use super::plot::PlaneMode;
@@ -642,8 +643,4 @@ fn ladder_limits(run: &LadderRun, region: Region, fname: &str) -> Vec<String> {
         }
     }
     out
-}
-
-fn fmt_c(w: Complex64) -> String {
-    format!("{:.8}{:+.8}i", w.re, w.im)
 }

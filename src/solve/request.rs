@@ -1106,7 +1106,8 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
                     Method::Integrate => between_ends(bp, req, &opts, None),
                     _ => {
                         let why = format!("the exact recurrence could not be set up ({})", e.message);
-                        match series_between_ends(bp, req.problem, &opts, &red.var, &why, true) {
+                        let estimate = barrier_seed(&red, &opts, &bp);
+                        match series_between_ends(bp, req.problem, &opts, &red.var, &why, true, &estimate) {
                             Ok(report) => report,
                             Err(b) if req.method == Method::Cf => {
                                 return Err(method_error(format!("{why}, and the numeric series cannot be set up either: {}", b.1.message)))
@@ -1135,17 +1136,33 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
         }
     }
     if matches!(req.method, Method::Auto | Method::Cf)
-        && problem.as_ref().is_ok_and(|bp| kind == SpectrumKind::Quasinormal && req.ends.is_none() && horizon_to_regular_infinity(bp))
+        && problem.as_ref().is_ok_and(|bp| kind == SpectrumKind::Quasinormal && req.ends.is_none() && horizon_to_series_end(bp))
     {
-        // The exact recurrence does not take a regular boundary at infinity
-        // (anti-de Sitter): the numeric series between the ends does.
+        // The exact recurrence about a horizon does not take a regular
+        // boundary at infinity (anti-de Sitter) or a second horizon
+        // (de Sitter): the numeric series between the ends does.
         let bp = problem?;
-        let why = "the exact recurrence is not derived for a regular boundary at infinity";
-        let report = match series_between_ends(bp, req.problem, &opts, &red.var, why, true) {
+        let why = if bp.ends[1].location == Location::Infinity {
+            "the exact recurrence is not derived for a regular boundary at infinity"
+        } else {
+            "the exact recurrence about one horizon does not impose the condition at a second one"
+        };
+        let estimate = barrier_seed(&red, &opts, &bp);
+        let report = match series_between_ends(bp, req.problem, &opts, &red.var, why, true, &estimate) {
             Ok(report) => report,
-            Err(b) if req.method == Method::Cf => return Err(method_error(format!("the numeric series cannot be set up: {}", b.1.message))),
             Err(b) => {
                 let (bp, s) = *b;
+                // Two finite horizons whose series has no continued fraction
+                // (a recurrence of two terms: the modes close exactly, as for
+                // the Pöschl–Teller barrier in tanh x): the exact recurrence
+                // about a horizon, which solves such a recurrence by its
+                // terminating condition, checked by direct integration.
+                if let (Location::At(_), Ok((body, f))) = (bp.ends[1].location, recurrence_route(&red, req, &opts, None, Some(&bp))) {
+                    return Ok(done(body, f, Some(problem_ends(&bp))));
+                }
+                if req.method == Method::Cf {
+                    return Err(method_error(format!("the numeric series cannot be set up: {}", s.message)));
+                }
                 let note = format!("the numeric series cannot be set up ({}); direct integration between the ends instead", s.message);
                 between_ends(bp, req, &opts, Some(note))
             }
@@ -1318,12 +1335,15 @@ fn rated_ends(bp: &BoundaryProblem) -> bool {
     bp.ends[0].nature == Nature::Horizon && bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::IrregularRank1
 }
 
-/// True for a horizon on the left and a regular boundary at infinity on the
-/// right (an anti-de Sitter black hole), the ends the numeric series takes
-/// where the exact recurrence route does not.
-pub(crate) fn horizon_to_regular_infinity(bp: &BoundaryProblem) -> bool {
+/// True for a horizon on the left and a right end that the exact
+/// recurrence about a horizon does not take: a regular boundary at infinity
+/// (an anti-de Sitter black hole) or a second horizon at a finite place (a
+/// black-hole and a cosmological horizon, de Sitter). The numeric series
+/// between the ends (a Möbius variable sending one end to 0, the other to
+/// 1) takes them.
+pub(crate) fn horizon_to_series_end(bp: &BoundaryProblem) -> bool {
     use super::boundary::Nature;
-    bp.ends[0].nature == Nature::Horizon && bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::Regular
+    bp.ends[0].nature == Nature::Horizon && !(bp.ends[1].location == Location::Infinity && bp.ends[1].nature != Nature::Regular)
 }
 
 /// The boundary problem of a (substituted) reduction, and whether the exact
@@ -1336,7 +1356,9 @@ fn boundary_problem(red: &Reduction, req: &SpectrumRequest, point: &[GRat], freq
         && req.ends.is_none()
         && problem.as_ref().map_or(true, |bp| {
             use super::boundary::Nature;
-            bp.ends[0].nature == Nature::Horizon && !(bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::Regular)
+            // Barrier-top estimates need no recurrence: they take the
+            // exact route's barrier on any ends.
+            bp.ends[0].nature == Nature::Horizon && (!horizon_to_series_end(bp) || matches!(req.method, Method::Wkb | Method::Eikonal))
         });
     (problem, classic)
 }
@@ -1500,6 +1522,7 @@ pub(crate) fn series_between_ends(
     var: &str,
     why: &str,
     check: bool,
+    estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
 ) -> std::result::Result<EndsReport, Box<(BoundaryProblem, Error)>> {
     let s = match super::mobius::series(&bp, var) {
         Ok(s) => s,
@@ -1507,31 +1530,53 @@ pub(crate) fn series_between_ends(
     };
     // Seeds given (a survey's neighbour) are used as they are.
     let neighbour = !opts.seeds.is_empty();
-    let mut seeds = match (neighbour, opts.guess) {
-        (true, _) => opts.seeds.clone(),
-        (false, None) => super::global::seeds(&bp, opts.overtones),
-        (false, Some(_)) => Vec::new(),
-    };
-    if seeds.is_empty() && opts.guess.is_none() {
-        // The lowest overtone alone; the ladder extrapolates from it.
-        seeds = super::global::seeds(&bp, (opts.overtones.0, opts.overtones.0));
-    }
     // Without a guess the overtones are counted from the fundamental: the
     // ladder climbs from 0 and the range asked for is kept.
-    let climb = !neighbour && opts.guess.is_none() && opts.overtones.0 > 0;
-    if climb {
-        seeds = super::global::seeds(&bp, (0, opts.overtones.1));
-        if seeds.is_empty() {
-            seeds = super::global::seeds(&bp, (0, 0));
+    let climb = !neighbour && opts.guess.is_none();
+    let mut second: Vec<Complex64> = Vec::new();
+    let seeds = match (neighbour, opts.guess) {
+        (true, _) => opts.seeds.clone(),
+        (false, None) => {
+            // Room for a few modes of a second family among the least damped.
+            let all = super::global::seeds(&bp, (0, opts.overtones.1 + 3));
+            // Two families (oscillating modes, and purely imaginary ones
+            // such as those set by a cosmological horizon) are numbered
+            // apart: the overtone ladder runs on the oscillating one, which
+            // a barrier estimate may seed where the spectral method resolves
+            // none of it; the purely imaginary modes are listed on their own.
+            let (osc, imag): (Vec<Complex64>, Vec<Complex64>) = all.iter().partition(|w| !purely_imaginary(**w, bp.scale));
+            let keep = opts.overtones.1 as usize + 1;
+            if !imag.is_empty() && (!osc.is_empty() || estimate(0).is_some()) {
+                second = imag;
+                osc.into_iter().take(keep).collect()
+            } else {
+                all.into_iter().take(keep).collect()
+            }
         }
-    }
+        (false, Some(_)) => Vec::new(),
+    };
     let from_spectral = !neighbour && !seeds.is_empty();
     let o = SpectrumOptions { seeds, overtones: if climb { (0, opts.overtones.1) } else { opts.overtones }, ..opts.clone() };
     let solve = |n: u32, seed: Complex64| super::cf::find_root(&s.recurrence, n as usize, seed, opts.tol, 64, 1 << 17);
-    let cf_modes = match super::spectrum::overtones(&o, &|_| None, &solve) {
+    // With the families apart, a root of the purely imaginary one is not an
+    // overtone of the oscillating one.
+    let split = !second.is_empty();
+    let ladder_solve = |n: u32, seed: Complex64| {
+        // The inversion best conditioned for a root counts the modes of both
+        // families less damped than it.
+        let below = second.iter().filter(|w| w.im.abs() < seed.im.abs()).count() as u32;
+        let mut r = solve(n + below, seed);
+        if split && r.converged && purely_imaginary(r.omega, bp.scale) {
+            r.converged = false;
+            r.stop = super::cf::StopReason::Rejected(format!("the root {}i belongs to the purely imaginary family, listed apart", r.omega.im));
+        }
+        r
+    };
+    let cf_modes = match super::spectrum::overtones(&o, estimate, &ladder_solve) {
         Ok(m) => m.into_iter().filter(|m| m.n >= opts.overtones.0).collect::<Vec<_>>(),
         Err(e) => return Err(Box::new((bp, e))),
     };
+    let second = second_family(&bp, &second, &solve, opts, check);
     let o = SpectrumOptions { seeds: o.seeds.iter().skip(if climb { opts.overtones.0 as usize } else { 0 }).copied().collect(), ..o };
     let modes: Vec<EndMode> = cf_modes
         .iter()
@@ -1558,16 +1603,83 @@ pub(crate) fn series_between_ends(
     }
     if given < wanted {
         numbering.push(format!(
-            "overtones from {} on were seeded from the overtones below them (extrapolated; a step not set by the spacing of two overtones was searched again from half way back for a mode between): a mode skipped between two seeds would shift the numbering of those above it",
+            "overtones from {} on were seeded by a first estimate or from the overtones below them (extrapolated; a step not set by the spacing of two overtones was searched again from half way back for a mode between): a mode skipped between two seeds would shift the numbering of those above it",
             opts.overtones.0 + given as u32
         ));
     }
+    numbering.extend(second);
     let numbering = (!numbering.is_empty()).then(|| numbering.join("; "));
     let note = Some(format!("{why}: the continued fraction of a numeric series between the ends instead"));
     let checks = modes.iter().map(|_| None).collect();
     let check_note = "second method: direct integration between the ends, from 1e-4 away from each continued-fraction root".to_string();
     let series = SeriesReport { description: s.description.clone(), radius: s.radius, terms: s.recurrence.terms.len(), modes: cf_modes };
     Ok(EndsReport { problem: bp, modes, note, numbering, spectrum: problem, checks, check_note, series: Some(series) })
+}
+
+/// First estimates for the numeric series' overtone ladder: the barrier
+/// top's WKB values (`spectrum::barrier_estimates`, searched beyond the
+/// left end) where the equation has a barrier, those in the lower
+/// half-plane only; `None` for every overtone otherwise.
+pub(crate) fn barrier_seed<'a>(
+    red: &'a Reduction,
+    opts: &'a SpectrumOptions,
+    bp: &BoundaryProblem,
+) -> Box<dyn Fn(u32) -> Option<(Complex64, String)> + 'a> {
+    let Location::At(left) = bp.ends[0].location else { return Box::new(|_| None) };
+    match super::spectrum::barrier_estimates(red, opts, left, super::wkb::SEED_ORDER) {
+        Ok(est) => Box::new(move |n| est(n).and_then(|b| b.series.seed())),
+        Err(_) => Box::new(|_| None),
+    }
+}
+
+/// Whether ω lies on the imaginary axis to within the global method's
+/// resolution of a real part (1e-6 of max(|ω|, the problem's scale)).
+fn purely_imaginary(w: Complex64, scale: f64) -> bool {
+    w.re.abs() <= 1e-6 * w.norm().max(scale)
+}
+
+/// The second family of [`series_between_ends`] (purely imaginary modes
+/// the global method found beside an oscillating family): each solved by
+/// the continued fraction from its spectral value (the k-th inversion for
+/// the k-th of them) and, when `check`, by direct integration from 1e-4
+/// away; in words, for the report's notes (nothing when there is none).
+fn second_family(
+    bp: &BoundaryProblem,
+    seeds: &[Complex64],
+    solve: &dyn Fn(u32, Complex64) -> super::cf::CfRoot,
+    opts: &SpectrumOptions,
+    check: bool,
+) -> Option<String> {
+    if seeds.is_empty() {
+        return None;
+    }
+    let mut found: Vec<Complex64> = Vec::new();
+    let mut words: Vec<String> = Vec::new();
+    for (k, s) in seeds.iter().enumerate() {
+        let root = solve(k as u32, *s);
+        let near = |w: Complex64| (w - root.omega).norm() <= 1e-8 * root.omega.norm().max(bp.scale);
+        if !root.converged || !purely_imaginary(root.omega, bp.scale) || found.iter().any(|w| near(*w)) {
+            words
+                .push(format!("{}i (the global method's value; the continued fraction did not settle on a new purely imaginary root from it)", s.im));
+            continue;
+        }
+        found.push(root.omega);
+        let checked = if check {
+            let r = super::ends::find_root(bp, super::spectrum::check_seed(root.omega), opts.tol);
+            if r.converged {
+                format!("direct integration agrees to {:.1e}", agreement(root.omega, r.omega, bp.scale))
+            } else {
+                "direct integration did not converge from it".to_string()
+            }
+        } else {
+            "not checked".to_string()
+        };
+        words.push(format!("{}i ({checked})", root.omega.im));
+    }
+    Some(format!(
+        "a second family, purely imaginary, is not numbered with the overtones above (the least damped of each family is listed first): {}",
+        words.join(", ")
+    ))
 }
 
 /// Modes with no guess seeded by the global spectral method (its

@@ -564,12 +564,13 @@ pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool, quasi_
 }
 
 /// True when the point's quasinormal-mode problem runs from a horizon to a
-/// regular boundary at infinity (anti-de Sitter), which `spectrum` solves
-/// by the numeric series and never by the exact recurrence.
-fn regular_infinity_point(red: &Reduction, opts: &SpectrumOptions) -> bool {
+/// regular boundary at infinity (anti-de Sitter) or to a second horizon (de
+/// Sitter), which `spectrum` solves by the numeric series and never by the
+/// exact recurrence.
+fn series_end_point(red: &Reduction, opts: &SpectrumOptions) -> bool {
     let kind = super::boundary::SpectrumKind::Quasinormal;
     super::boundary::try_problem(&red.field, &red.normal.q, &red.q, &opts.values, opts.freq, kind, None)
-        .is_ok_and(|bp| super::request::horizon_to_regular_infinity(&bp))
+        .is_ok_and(|bp| super::request::horizon_to_series_end(&bp))
 }
 
 /// The quasinormal modes at a point (`r` the equation at the point's
@@ -582,7 +583,8 @@ fn regular_infinity_point(red: &Reduction, opts: &SpectrumOptions) -> bool {
 fn series_point(r: &Reduction, opts: &SpectrumOptions, check: bool, why: &str) -> Result<SolvedPoint> {
     let kind = super::boundary::SpectrumKind::Quasinormal;
     let bp = super::boundary::try_problem(&r.field, &r.normal.q, &r.q, &opts.values, opts.freq, kind, None)?;
-    let report = match super::request::series_between_ends(bp, super::request::Problem::Quasinormal, opts, &r.var, why, check) {
+    let estimate = super::request::barrier_seed(r, opts, &bp);
+    let report = match super::request::series_between_ends(bp, super::request::Problem::Quasinormal, opts, &r.var, why, check, &estimate) {
         Ok(report) => report,
         Err(b) => return Err(b.1),
     };
@@ -733,7 +735,7 @@ pub fn survey_solver<'a>(red: Reduction, varied: &[usize], quasi_bound: bool) ->
     let sym = std::cell::OnceCell::new();
     let varied = varied.to_vec();
     Box::new(move |o: &SpectrumOptions, check: bool| {
-        if !quasi_bound && regular_infinity_point(&red, o) {
+        if !quasi_bound && series_end_point(&red, o) {
             let r = super::spectrum::substitute_for_series(&red, &o.values, &[o.freq])?;
             return series_point(&r, o, check, "the exact recurrence is not derived for a regular boundary at infinity");
         }

@@ -609,6 +609,17 @@ pub fn ladder(
             return Ok((modes, LadderEnd::Beyond(n)));
         }
         let mut root = solve(n, seed.0);
+        let mut seed = seed;
+        if !root.converged && idx < opts.seeds.len() {
+            // A given seed that leads nowhere (a value of another method that
+            // is not a root here): the first estimate, when there is one.
+            if let Some(e) = first_estimate(n).filter(|(w, _)| w.im < 0.0 && (*w - seed.0).norm() > 1e-6 * w.norm()) {
+                let again = solve(n, e.0);
+                if again.converged {
+                    (root, seed) = (again, (e.0, format!("{} (the seed {} led nowhere)", e.1, text(seed.0))));
+                }
+            }
+        }
         // A root in the left half-plane is the mirror −ω̄ of a mode when the
         // equation is real: start again from the mirror image.
         if root.converged && root.omega.re < 0.0 && root.omega.im < 0.0 {
@@ -644,7 +655,6 @@ pub fn ladder(
                 ));
             }
         }
-        let mut seed = seed;
         if unpaced && root.converged {
             if let Some(prev) = modes.last().filter(|m| m.n + 1 == n && m.root.converged) {
                 let before = root.omega;
