@@ -133,7 +133,7 @@ pub mod numeric {
     // Coupled equations: the joint parameter names, a link, an angular equation.
     pub use crate::solve::coupled::{joint_names, try_angular, Link};
     // Boundary problems between given ends.
-    pub use crate::solve::boundary::{Condition, GivenEnds, Location};
+    pub use crate::solve::boundary::{Condition, GivenEnds, Location, Weight};
     // Every mode in a window of the complex plane.
     pub use crate::solve::global::Region;
     pub use crate::solve::region::{region_modes, RegionReport};

@@ -1013,6 +1013,75 @@ fn schwarzschild_de_sitter_with_a_rational_horizon_and_a_second_family() {
     assert!((value - de_sitter).abs() < 2e-3 * de_sitter.abs(), "{value} against {de_sitter}");
 }
 
+/// Γ(x) for real x not a pole: the Lanczos approximation (g = 7, nine
+/// terms, common practice) with the reflection Γ(x)Γ(1 − x) = π/sin(πx)
+/// below 1/2; about 15 digits.
+fn gamma(x: f64) -> f64 {
+    use std::f64::consts::PI;
+    if x < 0.5 {
+        return PI / ((PI * x).sin() * gamma(1.0 - x));
+    }
+    const C: [f64; 9] = [
+        0.999_999_999_999_809_9,
+        676.520_368_121_885_1,
+        -1_259.139_216_722_402_8,
+        771.323_428_777_653_1,
+        -176.615_029_162_140_6,
+        12.507_343_278_686_905,
+        -0.138_571_095_265_720_12,
+        9.984_369_578_019_572e-6,
+        1.505_632_735_149_311_6e-7,
+    ];
+    let x = x - 1.0;
+    let t = x + 7.5;
+    let sum = C[1..].iter().enumerate().fold(C[0], |acc, (i, c)| acc + c / (x + i as f64 + 1.0));
+    (2.0 * PI).sqrt() * t.powf(x + 0.5) * (-t).exp() * sum
+}
+
+#[test]
+fn a_mixed_condition_at_the_anti_de_sitter_boundary_interpolates_between_the_fall_offs() {
+    // Global AdS₄, L = 1, l = 0, m² = −2.16 (ν = 0.3, Δ± = 3/2 ± ν): the
+    // solution regular at the centre is φ = cos^Δ₊ρ F(a, b; 3/2; sin²ρ),
+    // a = (Δ₊ − ω)/2, b = (Δ₊ + ω)/2, r = tan ρ (common practice). DLMF
+    // 15.8.4 at sin²ρ → 1 gives u = rφ ≈ B t^(Δ₋−1) + A t^(Δ₊−1) in t = 1/r,
+    // with A = Γ(3/2)Γ(−ν)/(Γ(3/2 − a)Γ(3/2 − b)) and B = Γ(3/2)Γ(ν)/(Γ(a)Γ(b)),
+    // each series with unit leading coefficient (the corrections go in t²).
+    // The mixed condition slower + κ·faster is κ = A/B: derived here, not
+    // taken from the program. κ = 0 is the slower fall-off, ω = Δ₋ + 2n,
+    // and κ → ∞ the normalisable one, ω = Δ₊ + 2n.
+    let (nu, dp) = (0.3f64, 1.8f64);
+    let kappa_of = |w: f64| {
+        let (a, b) = ((dp - w) / 2.0, (dp + w) / 2.0);
+        gamma(-nu) * gamma(a) * gamma(b) / (gamma(nu) * gamma(1.5 - a) * gamma(1.5 - b))
+    };
+    let file = "tests/boundary/ads4_global_massive_scalar.ode";
+    for kappa in [0.5f64, 3.0] {
+        let ends = format!("0..inf:mixed={kappa}");
+        let (v, ms) = modes_of(file, "l=0,m2=-2.16", &["--ends", &ends, "--overtones", "0..1"]);
+        assert_eq!(v["ends"][1]["condition"], format!("mixed={kappa}"), "{v}");
+        assert_eq!(ms.len(), 2);
+        for (n, m) in ms.iter().enumerate() {
+            let (re, im) = omega(m);
+            assert!(im.abs() < 1e-10 && re > 1.2 + 2.0 * n as f64 && re < 1.8 + 2.0 * n as f64, "κ={kappa} n={n}: {re} {im}");
+            let k = kappa_of(re);
+            assert!((k - kappa).abs() < 1e-8 * kappa, "κ={kappa} n={n}: ω = {re} gives κ = {k}");
+        }
+    }
+    // The limits: κ = 0 is the slower fall-off exactly.
+    let (_, ms) = modes_of(file, "l=0,m2=-2.16", &["--ends", "0..inf:mixed=0", "--overtones", "0..1"]);
+    for (n, m) in ms.iter().enumerate() {
+        let (re, _) = omega(m);
+        assert!((re - (3.0 - dp + 2.0 * n as f64)).abs() < 1e-10, "n={n}: {re}");
+    }
+    // A mixed condition needs a regular end; a bad weight is located.
+    let (_, code, err) = run(&["spectrum", file, "--at", "l=0,m2=-2.16", "--ends", "0..inf:mixed=x", "--format", "json"]);
+    assert_eq!(code, 2);
+    assert!(err.contains("--ends") && err.contains("weight"), "{err}");
+    let (_, code, err) = run(&["spectrum", "tests/boundary/btz_scalar.ode", "--at", "rp=1,k=0.5", "--ends", "1:mixed=1..inf", "--format", "json"]);
+    assert_eq!(code, 2);
+    assert!(err.contains("does not fit horizon"), "{err}");
+}
+
 #[test]
 fn massive_scalar_quasi_bound_states_are_hydrogen_like() {
     // For small Mμ the quasi-bound states approach the hydrogenic levels

@@ -21,7 +21,7 @@ use crate::emit::record::{AskedRecurrence, RecurrenceRequest};
 use crate::error::{Error, ErrorKind, RequestInput, Result};
 use crate::ode::Reduction;
 use crate::series::SeriesMap;
-use crate::solve::boundary::{Condition, GivenEnds, Location};
+use crate::solve::boundary::{Condition, GivenEnds, Location, Weight};
 use crate::syntax::Span;
 
 fn usage(msg: impl Into<String>) -> Error {
@@ -160,7 +160,8 @@ pub fn derive_record(
 
 /// Reads the two ends of a boundary problem written `LEFT[:COND]..RIGHT[:COND]`,
 /// each end a real number (a singular point, matched numerically) or `inf`,
-/// each condition a condition's name (`Condition::name`); errors span the whole text (the
+/// each condition a condition's name (`Condition::name`, a mixed one with its
+/// weight as `mixed=K`); errors span the whole text (the
 /// caller says which option or argument it was).
 pub fn read_ends(text: &str) -> Result<GivenEnds> {
     let bad = |msg: String| Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, text.len()));
@@ -184,10 +185,19 @@ pub fn read_ends(text: &str) -> Result<GivenEnds> {
             }
         };
         let condition = match cond {
-            Some(c) => Some(
-                Condition::from_name(c)
-                    .ok_or_else(|| bad(format!("'{c}' is not a condition (into, out-of, outgoing, decaying, normalisable, slower)")))?,
-            ),
+            Some(c) => match c.split_once('=') {
+                Some((name, weight)) if name.trim() == Condition::Mixed(Weight(0.0)).name() => {
+                    let w = crate::algebra::parse_complex(weight.trim())
+                        .map(|v| v.to_f64())
+                        .filter(|(re, im)| *im == 0.0 && re.is_finite())
+                        .ok_or_else(|| bad(format!("the weight of '{c}' is not a finite real number (e.g. mixed=0.5)")))?;
+                    Some(Condition::Mixed(Weight(w.0)))
+                }
+                _ => Some(
+                    Condition::from_name(c)
+                        .ok_or_else(|| bad(format!("'{c}' is not a condition (into, out-of, outgoing, decaying, normalisable, slower, mixed=K)")))?,
+                ),
+            },
             None => None,
         };
         Ok((location, condition))

@@ -135,7 +135,8 @@ pub(crate) struct SpectrumArgs {
     /// The two ends of the domain and their conditions, 'LEFT..RIGHT', each end
     /// a number (a real singular point, matched numerically) or 'inf', with an
     /// optional ':CONDITION' (into, out-of, outgoing, decaying, normalisable,
-    /// slower); default: from the outermost horizon to the next singular end outward.
+    /// slower, or mixed=K at a regular end: the slower fall-off plus K times
+    /// the faster); default: from the outermost horizon to the next singular end outward.
     #[arg(long = "ends", value_name = "LEFT..RIGHT", allow_hyphen_values = true)]
     ends: Option<String>,
     /// Values of every parameter except the frequency, e.g. 'M=1,l=2,s=2' (none when the frequency is the only one).

@@ -407,7 +407,7 @@ fn closed_fields(rec: &mut Record, red: &Reduction, opts: &ReduceOptions, setup:
     };
     rec.push("closed.route", &form.route)?;
     for (i, e) in form.ends.iter().enumerate() {
-        rec.push(format!("closed.end[{}]", i + 1), format!("{} ({})", crate::solve::boundary::location_text(e.location), e.condition.name()))?;
+        rec.push(format!("closed.end[{}]", i + 1), format!("{} ({})", crate::solve::boundary::location_text(e.location), e.condition.label()))?;
     }
     for (i, f) in form.families.iter().enumerate() {
         let key = |s: &str| format!("closed.family[{}].{s}", i + 1);

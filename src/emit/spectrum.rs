@@ -729,7 +729,7 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
             json!({
                 "at": match e.location { Location::At(z) => json!(z), Location::Infinity => json!("infinity") },
                 "found": e.found,
-                "condition": e.condition.name(),
+                "condition": e.condition.label(),
             })
         })
         .collect();

@@ -91,7 +91,32 @@ pub enum Condition {
     /// At a regular boundary: the exponent with the smaller real part
     /// (the slower fall-off; a Neumann-type condition).
     SlowerFallOff,
+    /// At a regular boundary with exponents ρ₋ (smaller real part) and ρ₊:
+    /// the solution d^ρ₋(1 + …) + κ d^ρ₊(1 + …), d the distance to the end
+    /// (1/z at infinity), each series with unit leading coefficient — a
+    /// mixed (Robin) condition between [`Condition::SlowerFallOff`] (κ = 0)
+    /// and [`Condition::Normalisable`] (κ → ∞). Only direct integration
+    /// takes it: the other methods factor out a single exponent.
+    Mixed(Weight),
 }
+
+/// The weight κ of a [`Condition::Mixed`], compared by its bits so that a
+/// condition stays `Eq`.
+#[derive(Clone, Copy, Debug)]
+pub struct Weight(pub f64);
+
+impl PartialEq for Weight {
+    fn eq(&self, other: &Self) -> bool {
+        self.0.to_bits() == other.0.to_bits()
+    }
+}
+
+impl Eq for Weight {}
+
+/// Why the methods that factor out one exponent per end (the global
+/// method, the numeric series, closed forms) do not take a mixed condition.
+pub const MIXED_NEEDS_BOTH: &str =
+    "a mixed condition combines both exponents at its end, while the global method, the numeric series and the closed forms each factor out one: direct integration alone takes it";
 
 impl Condition {
     /// The condition in words, as printed.
@@ -103,6 +128,7 @@ impl Condition {
             Condition::Decaying => "decaying, e^(μz) with Re μ < 0",
             Condition::Normalisable => "normalisable: the exponent with the larger real part",
             Condition::SlowerFallOff => "the exponent with the smaller real part",
+            Condition::Mixed(_) => "mixed (Robin): the slower fall-off plus κ times the faster, each with unit leading coefficient in the distance to the end (1/z at infinity)",
         }
     }
 
@@ -115,10 +141,21 @@ impl Condition {
             Condition::Decaying => "decaying",
             Condition::Normalisable => "normalisable",
             Condition::SlowerFallOff => "slower",
+            Condition::Mixed(_) => "mixed",
         }
     }
 
-    /// The condition named `text` (one of [`Condition::name`]).
+    /// The name with its weight, as `--ends` takes it and JSON prints it:
+    /// `mixed=K` for a mixed condition, else [`Condition::name`].
+    pub fn label(self) -> String {
+        match self {
+            Condition::Mixed(Weight(k)) => format!("mixed={k}"),
+            other => other.name().to_string(),
+        }
+    }
+
+    /// The condition named `text` (one of [`Condition::name`]); a mixed
+    /// one is read by its caller, which parses the weight.
     pub fn from_name(text: &str) -> Option<Condition> {
         [Condition::IntoHorizon, Condition::OutOfHorizon, Condition::Outgoing, Condition::Decaying, Condition::Normalisable, Condition::SlowerFallOff]
             .into_iter()
@@ -131,6 +168,7 @@ impl Condition {
             Condition::IntoHorizon | Condition::OutOfHorizon => nature == Nature::Horizon,
             Condition::Outgoing | Condition::Decaying => nature == Nature::IrregularRank1,
             Condition::Normalisable | Condition::SlowerFallOff => nature != Nature::IrregularRank1,
+            Condition::Mixed(_) => nature == Nature::Regular,
         }
     }
 }
@@ -496,7 +534,7 @@ fn end_conditions(ends: [FoundEnd; 2], given: Option<&GivenEnds>, kind: Spectrum
         let condition = match wanted {
             Some(c) => {
                 if !c.fits(nature) {
-                    return Err(usage(format!("the condition '{}' does not fit {found}", c.name())));
+                    return Err(usage(format!("the condition '{}' does not fit {found}", c.label())));
                 }
                 c
             }

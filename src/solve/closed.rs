@@ -512,6 +512,7 @@ fn pick_regular(cx: &Ctx, p: &SingularPoint, cond: Condition, rad: &mut Radicals
             Some(if (re[0] > re[1]) == larger { 0 } else { 1 })
         }
         Condition::Outgoing | Condition::Decaying => return Ok(Err("an irregular condition at a regular end".into())),
+        Condition::Mixed(_) => return Ok(Err(super::boundary::MIXED_NEEDS_BOTH.into())),
     };
     let Some(i) = chosen else { return Ok(Err("no exponent fits the end condition".into())) };
     let mut p = cands.swap_remove(i);

@@ -42,6 +42,36 @@ fn pick_exponent(ode: &super::NumOde, k: &Coeffs, h: &integrate::Horizon, z: f64
             Ok(if cond == Condition::IntoHorizon { into } else { out })
         }
         Condition::Outgoing | Condition::Decaying => Err("an irregular-infinity condition at a finite end".into()),
+        Condition::Mixed(_) => Err("a mixed condition has no single exponent".into()),
+    }
+}
+
+/// y and dy/dz at distance `delta` (signed, z − z_end) from a finite end or,
+/// in t = 1/z, from a regular infinity, obeying `cond`: the Frobenius series
+/// of the chosen exponent, or for a mixed condition the slower fall-off's
+/// series plus κ times the faster one's, each with unit leading coefficient
+/// in the distance |delta|.
+fn end_start(
+    ode: &super::NumOde,
+    k: &Coeffs,
+    h: &integrate::Horizon,
+    z: f64,
+    cond: Condition,
+    w: Complex64,
+    delta: f64,
+) -> Result<(Complex64, Complex64), String> {
+    match cond {
+        Condition::Mixed(super::boundary::Weight(kappa)) => {
+            let [r1, r2] = h.exponents();
+            let (slow, fast) = if r1.re <= r2.re { (r1, r2) } else { (r2, r1) };
+            let (ys, dys) = integrate::frobenius(h, slow, delta)?;
+            let (yf, dyf) = integrate::frobenius(h, fast, delta)?;
+            Ok((ys + kappa * yf, dys + kappa * dyf))
+        }
+        _ => {
+            let rho = pick_exponent(ode, k, h, z, cond, w)?;
+            integrate::frobenius(h, rho, delta)
+        }
     }
 }
 
@@ -98,7 +128,7 @@ pub(super) fn pick_rate(cond: Condition, w: Complex64, m1: Complex64, m2: Comple
     match cond {
         Condition::Outgoing => Ok(if m1.im * sign >= m2.im * sign { m1 } else { m2 }),
         Condition::Decaying => Ok(if m1.re <= m2.re { m1 } else { m2 }),
-        Condition::IntoHorizon | Condition::OutOfHorizon | Condition::Normalisable | Condition::SlowerFallOff => {
+        Condition::IntoHorizon | Condition::OutOfHorizon | Condition::Normalisable | Condition::SlowerFallOff | Condition::Mixed(_) => {
             Err("a finite-end condition at an irregular infinity".into())
         }
     }
@@ -114,10 +144,9 @@ fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64
     let [left, right] = &bp.ends;
     let Location::At(a) = left.location else { return Err("the left end must be finite".into()) };
     let hl = integrate::horizon(&k, a)?;
-    let rho_l = pick_exponent(&bp.ode, &k, &hl, a, left.condition, w)?;
     let dl = if hl.d.is_finite() { hl.d } else { 1.0 + a.abs() };
     let z_l = a + p.start_fraction * dl;
-    let (yl, dyl) = integrate::frobenius(&hl, rho_l, z_l - a)?;
+    let (yl, dyl) = end_start(&bp.ode, &k, &hl, a, left.condition, w, z_l - a)?;
     let zl = Complex64::new(z_l, 0.0);
     let mut steps = 0;
     let (mut yl, mut dyl) = (yl, dyl);
@@ -129,10 +158,9 @@ fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64
     let (yr, dyr) = match (right.location, right.nature) {
         (Location::At(b), _) => {
             let hr = integrate::horizon(&k, b)?;
-            let rho_r = pick_exponent(&bp.ode, &k, &hr, b, right.condition, w)?;
             let dr = if hr.d.is_finite() { hr.d } else { 1.0 + b.abs() };
             let delta = (p.start_fraction * dr).min(0.5 * (b - z_l));
-            let (y, dy) = integrate::frobenius(&hr, rho_r, -delta)?;
+            let (y, dy) = end_start(&bp.ode, &k, &hr, b, right.condition, w, -delta)?;
             let from = Complex64::new(b - delta, 0.0);
             // Each solution grows towards its own end, so each is carried half
             // way: the match is between the two start points.
@@ -144,28 +172,17 @@ fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64
         (Location::Infinity, Nature::Regular | Nature::Horizon) => {
             let kt = at_infinity_chart(&k);
             let ht = integrate::horizon(&kt, 0.0)?;
-            let [r1, r2] = ht.exponents();
-            let rho = match right.condition {
-                Condition::Normalisable => {
-                    if r1.re >= r2.re {
-                        r1
-                    } else {
-                        r2
-                    }
+            match right.condition {
+                Condition::Normalisable | Condition::SlowerFallOff | Condition::Mixed(_) => {}
+                other @ (Condition::IntoHorizon | Condition::OutOfHorizon | Condition::Outgoing | Condition::Decaying) => {
+                    return Err(format!("the condition '{}' does not fit a regular infinity", other.name()))
                 }
-                Condition::SlowerFallOff => {
-                    if r1.re < r2.re {
-                        r1
-                    } else {
-                        r2
-                    }
-                }
-                other => return Err(format!("the condition '{}' does not fit a regular infinity", other.name())),
-            };
+            }
             let dt = if ht.d.is_finite() { ht.d } else { 1.0 };
             // Start where 1/t lies beyond the matching point.
             let delta = (p.start_fraction * dt).min(0.5 / z_l.abs().max(1e-300));
-            let (y, dyt) = integrate::frobenius(&ht, rho, delta)?;
+            // In t = 1/z the larger real part is the faster fall-off, as at a finite end.
+            let (y, dyt) = end_start(&bp.ode, &kt, &ht, 0.0, right.condition, w, delta)?;
             let from = Complex64::new(1.0 / delta, 0.0);
             // dy/dz = −t² dY/dt.
             let dy = -delta * delta * dyt;
@@ -249,15 +266,24 @@ pub struct ScanCut {
     pub grid: usize,
     /// Points where the mismatch could not be evaluated.
     pub failed: usize,
+    /// Whether the scan stopped at its work limit (else it covered the grid).
+    pub stopped: bool,
+    /// Why the first point that failed could not be integrated.
+    pub why: Option<String>,
 }
 
 impl ScanCut {
     /// In words, for a report.
     pub fn text(&self) -> String {
-        format!(
-            "the scan of the complex plane stopped at its work limit ({SCAN_STEP_BUDGET} Taylor steps) after {} of its {} points ({} of them could not be integrated)",
-            self.evaluated, self.grid, self.failed
-        )
+        let why = self.why.as_ref().map(|w| format!(": {w}")).unwrap_or_default();
+        if self.stopped {
+            format!(
+                "the scan of the complex plane stopped at its work limit ({SCAN_STEP_BUDGET} Taylor steps) after {} of its {} points ({} of them could not be integrated{why})",
+                self.evaluated, self.grid, self.failed
+            )
+        } else {
+            format!("{} of the scan's {} points could not be integrated{why}", self.failed, self.grid)
+        }
     }
 }
 
@@ -271,18 +297,20 @@ fn scan_window(bp: &BoundaryProblem, count: usize) -> (f64, f64) {
 /// Re ω ∈ (0, 4κ], Im ω ∈ [−(2.5(count)+1)κ, 0) (κ the problem's frequency
 /// scale): the local minima of |mismatch| below 0.5, best first. The scan
 /// evaluates at most `SCAN_RE × SCAN_IM_PER_MODE × (count + 1)` points and
-/// stops at [`SCAN_STEP_BUDGET`] Taylor steps, saying so ([`ScanCut`]).
+/// stops at [`SCAN_STEP_BUDGET`] Taylor steps; a stop, or points that
+/// could not be integrated, are said with the first reason ([`ScanCut`]).
 pub fn scan_seeds(bp: &BoundaryProblem, count: usize) -> (Vec<Seed>, Option<ScanCut>) {
     let ni = SCAN_IM_PER_MODE * (count + 1);
     let (re_max, im_min) = scan_window(bp, count);
     let at = |i: usize, j: usize| Complex64::new(re_max * (i as f64 + 0.5) / SCAN_RE as f64, im_min * (j as f64 + 0.5) / ni as f64);
     let mut vals = vec![vec![f64::INFINITY; ni]; SCAN_RE];
     let (mut spent, mut evaluated, mut failed) = (0usize, 0usize, 0usize);
-    let mut cut = None;
+    let mut stopped = false;
+    let mut why: Option<String> = None;
     'grid: for (i, row) in vals.iter_mut().enumerate() {
         for (j, v) in row.iter_mut().enumerate() {
             if spent > SCAN_STEP_BUDGET {
-                cut = Some(ScanCut { evaluated, grid: SCAN_RE * ni, failed });
+                stopped = true;
                 break 'grid;
             }
             evaluated += 1;
@@ -291,13 +319,15 @@ pub fn scan_seeds(bp: &BoundaryProblem, count: usize) -> (Vec<Seed>, Option<Scan
                     spent += steps;
                     *v = m.norm();
                 }
-                Err(_) => {
+                Err(e) => {
                     spent += integrate::MAX_STEPS;
                     failed += 1;
+                    why.get_or_insert(e);
                 }
             }
         }
     }
+    let cut = (stopped || failed > 0).then(|| ScanCut { evaluated, grid: SCAN_RE * ni, failed, stopped, why });
     let mut minima: Vec<(f64, Complex64)> = Vec::new();
     for i in 0..SCAN_RE {
         for j in 0..ni {

@@ -231,7 +231,7 @@ fn finite_pick(bp: &BoundaryProblem, z0: f64, cond: Condition, w: Complex64) -> 
             let big = if e[0].re >= e[1].re { 0 } else { 1 };
             Some(if cond == Condition::Normalisable { e[big] } else { e[1 - big] })
         }
-        Condition::Outgoing | Condition::Decaying => None,
+        Condition::Outgoing | Condition::Decaying | Condition::Mixed(_) => None,
     }
 }
 
@@ -288,6 +288,9 @@ type Shape<'a> = &'a dyn Fn(&dyn Fn(Complex64) -> Option<Complex64>, &dyn Fn(Com
 /// The behaviour at both ends, each quantity given its ω-dependence by `shape`.
 fn build_factors(bp: &BoundaryProblem, shape: Shape) -> Result<Factors> {
     let [left, right] = &bp.ends;
+    if bp.ends.iter().any(|e| matches!(e.condition, Condition::Mixed(_))) {
+        return Err(usage(super::boundary::MIXED_NEEDS_BOTH));
+    }
     let Location::At(a) = left.location else { return Err(usage("the left end must be finite")) };
     let lp = |w: Complex64| finite_pick(bp, a, left.condition, w);
     let lb = |w: Complex64| exponents_at(&bp.ode, a, w);

@@ -370,16 +370,26 @@ pub(super) fn frobenius(h: &Horizon, rho: Complex64, delta: f64) -> Result<(Comp
     let mut quiet = 0;
     for n in 1..4000 {
         let diag = t(n, n);
-        // A root of the indicial polynomial at ρ_h + n: the series with ρ_h
-        // is not determined (a logarithm or a free coefficient).
-        if diag.norm() <= 1e-12 * size(n) {
-            return Err(format!("the exponents at the horizon differ by the integer {n}: the Frobenius series with ρ_h = {rho} is not unique"));
-        }
         let mut acc = ZERO;
         for (k, ek) in e.iter().enumerate().skip(n.saturating_sub(span)) {
             acc += ek * t(n, k);
         }
-        let en = -acc / diag;
+        // A root of the indicial polynomial at ρ_h + n: with a nonzero
+        // remainder the solution with ρ_h has a logarithm, and this series
+        // does not exist; with none the coefficient is free, and is set to
+        // zero (no part along the other exponent's leading power: at an
+        // ordinary point, ψ = 1 + O(t²) for ρ_h = 0, so ψ' = 0 there).
+        let en = if diag.norm() <= 1e-12 * size(n) {
+            let scale_acc = e.iter().enumerate().skip(n.saturating_sub(span)).map(|(k, ek)| (ek * t(n, k)).norm()).fold(0.0, f64::max);
+            if acc.norm() > 1e-10 * scale_acc.max(f64::MIN_POSITIVE) {
+                return Err(format!(
+                    "the exponents at the horizon differ by the integer {n} and the solution with ρ_h = {rho} has a logarithm: no Frobenius series starts it"
+                ));
+            }
+            ZERO
+        } else {
+            -acc / diag
+        };
         if !finite(en) {
             return Err("the Frobenius coefficients overflow".into());
         }

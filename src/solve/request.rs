@@ -1718,6 +1718,13 @@ fn spectral_checks(bp: &BoundaryProblem, modes: &[EndMode]) -> (Vec<Option<Spect
     if found.is_empty() {
         return (modes.iter().map(|_| None).collect(), "no mode converged: no second method ran".into());
     }
+    if bp.ends.iter().any(|e| matches!(e.condition, Condition::Mixed(_))) {
+        // No second method factors out a combination of two exponents.
+        return (
+            modes.iter().map(|_| None).collect(),
+            format!("no second method ran: {}; the evidence is the agreement of standard and refined integration", super::boundary::MIXED_NEEDS_BOTH),
+        );
+    }
     if let Err(e) = super::global::factors(bp) {
         return collocation_checks(bp, modes, &e.message);
     }
