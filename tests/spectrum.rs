@@ -1755,6 +1755,18 @@ fn eigenvalue_problems_need_no_boundary_or_ends_option() {
         assert!((e - want).abs() < 1e-9, "n={n}: {e} vs {want}");
     }
     assert!(v["notes"][0].as_str().is_some_and(|n| n.contains("enters linearly")), "{v}");
+    // The three-dimensional oscillator's radial equation at l = 0: r = 0 is
+    // singular for l ≠ 0 only, yet still where the domain ends (u = rR
+    // vanishes there), so E = 2l + 3 + 4n = 3, 7, 11 (exact, textbook), not
+    // the whole line's 1, 3, 5.
+    let (v, code, err) =
+        run(&["spectrum", "-e", "u'' + (E - r^2 - l*(l+1)/r^2)*u = 0", "--var", "r", "--at", "l=0", "--overtones", "0..2", "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    for n in 0..3 {
+        let e = omega(&v["modes"][n]).0;
+        assert!((e - (3.0 + 4.0 * n as f64)).abs() < 1e-9, "n={n}: {e}");
+    }
+    assert!(v["notes"].to_string().contains("singular for other values of the parameters"), "{v}");
 }
 
 #[test]

@@ -106,6 +106,11 @@ pub struct Reduction {
     /// rational, when one was applied while lowering (the equation is then in
     /// its new variable).
     pub map: Option<ExpMap>,
+    /// After parameter values were substituted: Q of the normal form with
+    /// its parameters still symbolic. Its singular points are those of the
+    /// family of equations; one that a value makes ordinary (r = 0 of a
+    /// radial equation at l = 0) is still where the domain ends.
+    pub family: Option<RatFunc>,
 }
 
 /// Parses and lowers an input, making transcendental coefficients rational
@@ -348,7 +353,7 @@ pub fn reduce(input: &Input<'_>, opts: &ReduceOptions) -> Result<Reduction> {
         let dep = freq_idx.is_some_and(|i| v.uses_var(i));
         schrod = Some(Schrodinger { dxdz: h, w, v, frequency: freq_name, v_depends_on_frequency: dep });
     }
-    Ok(Reduction { ode, field, var, p, q, normal, change, schrodinger: schrod, map })
+    Ok(Reduction { ode, field, var, p, q, normal, change, schrodinger: schrod, map, family: None })
 }
 
 fn collect_expr_names(e: &syntax::Expr, out: &mut Vec<String>) {

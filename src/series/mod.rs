@@ -797,7 +797,7 @@ pub fn recurrence_at_root(red: &Reduction, f: &Poly, rho: &UPoly, theta_name: &s
         q: q.clone(),
         lets: Vec::new(),
     };
-    let red2 = Reduction { ode, field: kt, var: red.var.clone(), p, q, normal, change: None, schrodinger: None, map: None };
+    let red2 = Reduction { ode, field: kt, var: red.var.clone(), p, q, normal, change: None, schrodinger: None, map: None, family: None };
     let k2 = &red2.field;
     let theta_r = k2.div(&k2.var(t), &c2)?;
     let mut rho_r = RatFunc::zero();

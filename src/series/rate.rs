@@ -193,7 +193,7 @@ fn rewritten(red: &Reduction, kc: &Field, p: RatFunc, q: RatFunc) -> Result<Redu
         lets: Vec::new(),
     };
     let field = Field::new(kc.names().to_vec(), kc.limits().clone())?;
-    Ok(Reduction { ode, field, var: red.var.clone(), p, q, normal, change: None, schrodinger: None, map: None })
+    Ok(Reduction { ode, field, var: red.var.clone(), p, q, normal, change: None, schrodinger: None, map: None, family: None })
 }
 
 #[cfg(test)]

@@ -27,6 +27,7 @@ use crate::algebra::{Field, GRat, RatFunc};
 use crate::analysis::numeric::try_roots;
 use crate::error::RequestInput;
 use crate::error::{Error, ErrorKind, Result};
+use crate::ode::Reduction;
 use crate::solve::NumOde;
 use num_complex::Complex64;
 
@@ -195,6 +196,10 @@ pub struct RealPoint {
     pub nature: Nature,
     /// The exact factor it is a root of, as text, and the factor's degree.
     pub factor: (String, u32),
+    /// A singular point of the family of equations (the parameters
+    /// symbolic) at which these values leave Q without a pole: an ordinary
+    /// point, exponents 0 and 1.
+    pub ordinary: bool,
 }
 
 /// A boundary problem at given parameter values: the numeric equation
@@ -286,15 +291,8 @@ fn z_degree(p: &super::NPoly) -> Option<usize> {
 /// finds the real singular points, decides each one's nature, and picks the
 /// default domain and conditions, or the `given` ends (left, right) with
 /// their conditions when the caller names them.
-pub fn try_problem(
-    field: &Field,
-    q: &RatFunc,
-    unknown_q: &RatFunc,
-    values: &[GRat],
-    freq: usize,
-    kind: SpectrumKind,
-    given: Option<GivenEnds>,
-) -> Result<BoundaryProblem> {
+pub fn try_problem(red: &Reduction, values: &[GRat], freq: usize, kind: SpectrumKind, given: Option<GivenEnds>) -> Result<BoundaryProblem> {
+    let (field, q, unknown_q) = (&red.field, &red.normal.q, &red.q);
     let ode = super::try_num_ode(field, &RatFunc::zero(), q, values, freq)?;
     // The unknown's own coefficient of y: its ω-free part against its ω²
     // part is the potential as the equation was written (sign of f·W).
@@ -302,7 +300,7 @@ pub fn try_problem(
     if ode.a.c.iter().any(|row| row.len() > 1 && row[1..].iter().any(|c| c.norm() > 0.0)) {
         return Err(usage("the denominator of Q depends on the spectral parameter: the ends would move with it"));
     }
-    let (real_points, zeros) = real_singular_points(field, q, &ode, values, freq)?;
+    let (real_points, zeros) = real_singular_points(field, q, red.family.as_ref(), &ode, values, freq)?;
     let infinity = infinity_of(&ode);
     let mut notes = Vec::new();
     let ends = match &given {
@@ -322,13 +320,38 @@ pub fn try_problem(
     Ok(BoundaryProblem { freq, ode, ends: [left, right], zeros, real_points, scale, notes, kind })
 }
 
+/// The real points where the family of equations is singular but these
+/// values leave Q without a pole (see [`RealPoint::ordinary`]): ends for any
+/// method that picks its interval from the singular points.
+pub(crate) fn ordinary_family_points(red: &Reduction, values: &[GRat], freq: usize) -> Result<Vec<f64>> {
+    if red.family.is_none() {
+        return Ok(Vec::new());
+    }
+    let ode = super::try_num_ode(&red.field, &RatFunc::zero(), &red.normal.q, values, freq)?;
+    let (points, _) = real_singular_points(&red.field, &red.normal.q, red.family.as_ref(), &ode, values, freq)?;
+    Ok(points.iter().filter(|p| p.ordinary).map(|p| p.z).collect())
+}
+
 /// The real roots of each exact denominator factor, with the factor they
-/// come from and their nature (sorted), and every root (real or not).
-fn real_singular_points(field: &Field, q: &RatFunc, ode: &NumOde, values: &[GRat], freq: usize) -> Result<(Vec<RealPoint>, Vec<Complex64>)> {
+/// come from and their nature (sorted), and every root (real or not); then
+/// the real roots of the family's factors (`family`, Q with its parameters
+/// symbolic) that are not among them: points these values make ordinary.
+fn real_singular_points(
+    field: &Field,
+    q: &RatFunc,
+    family: Option<&RatFunc>,
+    ode: &NumOde,
+    values: &[GRat],
+    freq: usize,
+) -> Result<(Vec<RealPoint>, Vec<Complex64>)> {
     let names = field.names();
     let mut real_points: Vec<RealPoint> = Vec::new();
     let mut zeros: Vec<Complex64> = Vec::new();
-    for (f, _) in q.den_factors() {
+    let own = q.den_factors();
+    let count = own.len();
+    let extra = family.map(|f| f.den_factors()).unwrap_or_default();
+    for (i, (f, _)) in own.iter().chain(extra.iter()).enumerate() {
+        let ordinary = i >= count;
         let coeffs: Vec<Complex64> = {
             let np = super::try_npoly(f.poly(), 1.0, values, freq);
             trim(np.c.iter().map(|row| row.first().copied().unwrap_or_default()).collect())
@@ -340,14 +363,23 @@ fn real_singular_points(field: &Field, q: &RatFunc, ode: &NumOde, values: &[GRat
         let roots = try_roots(&coeffs).map_err(|e| usage(format!("the singular points could not be located numerically: {e}")))?;
         let text = crate::algebra::print::poly_text(f.poly(), &crate::algebra::Int::from(1), names, crate::algebra::print::Style::Text);
         for r in roots {
+            let real = r.im.abs() <= 1e-9 * r.re.abs().max(1.0);
+            if ordinary {
+                // Only a real point the equation at these values lacks.
+                let known = zeros.iter().any(|z| (z - r).norm() <= 1e-9 * r.norm().max(1.0));
+                if real && !known && !real_points.iter().any(|p| (p.z - r.re).abs() <= 1e-9 * r.re.abs().max(1.0)) {
+                    real_points.push(RealPoint { z: r.re + 0.0, nature: Nature::Regular, factor: (text.clone(), deg as u32), ordinary: true });
+                }
+                continue;
+            }
             zeros.push(r);
-            if r.im.abs() <= 1e-9 * r.re.abs().max(1.0) {
-                real_points.push(RealPoint { z: r.re, nature: Nature::Regular, factor: (text.clone(), deg as u32) });
+            if real {
+                real_points.push(RealPoint { z: r.re + 0.0, nature: Nature::Regular, factor: (text.clone(), deg as u32), ordinary: false });
             }
         }
     }
     real_points.sort_by(|a, b| a.z.total_cmp(&b.z));
-    for p in real_points.iter_mut() {
+    for p in real_points.iter_mut().filter(|p| !p.ordinary) {
         let w = Complex64::new(0.7, 0.0);
         if exponents_at(ode, p.z, w).is_none() {
             return Err(usage(format!("z = {} is an irregular singular point: an end there is not supported yet", p.z)));
@@ -401,6 +433,12 @@ fn describe(p: &RealPoint) -> String {
         Nature::Regular => "regular boundary",
         Nature::IrregularRank1 => "irregular point",
     };
+    if p.ordinary {
+        return format!(
+            "the root of {}, singular for other values of the parameters but an ordinary point of Q at these: exponents 0 and 1, the larger one being ψ = 0 there (Dirichlet), the other ψ' = 0 (Neumann)",
+            p.factor.0
+        );
+    }
     if p.factor.1 == 1 {
         format!("{what}, the root of {}", p.factor.0)
     } else {

@@ -332,8 +332,9 @@ pub fn try_bound_states(
 }
 
 /// The interval of a bound-state problem and its continuum edge: the
-/// interval runs between the two largest real singular points (a half line
-/// from the only one, the whole line when there is none); at an infinite
+/// interval runs between the two largest real singular points, those of the
+/// family of equations included (a half line from the only one, the whole
+/// line when there is none); at an infinite
 /// end the continuum starts at −lim Q₀/Q₁ for Q = Q₀ + E·Q₁ (infinite on a
 /// finite interval, or when the limit is not finite).
 pub fn bound_problem(red: &crate::ode::Reduction, freq: usize, point: &[GRat]) -> Result<(Domain, f64)> {
@@ -354,6 +355,10 @@ pub fn bound_problem(red: &crate::ode::Reduction, freq: usize, point: &[GRat]) -
             }
         }
     }
+    // A point singular for other parameter values (r = 0 of a radial
+    // equation at l = 0) still ends the domain; where the points cannot be
+    // located numerically, the analysis's points alone decide.
+    ends.extend(super::boundary::ordinary_family_points(red, point, freq).unwrap_or_default());
     ends.sort_by(|x, y| x.partial_cmp(y).unwrap_or(std::cmp::Ordering::Equal));
     let domain = match ends.as_slice() {
         [] => Domain::Line,

@@ -128,7 +128,7 @@ pub fn coupling_parameter(c: &Coupling) -> Result<usize> {
 /// eigenvalues. Empty when neither gives any.
 pub fn uncoupled_seeds(sub: &Reduction, opts: &SpectrumOptions) -> (Vec<Complex64>, String) {
     use super::boundary::{try_problem, Location, SpectrumKind};
-    let Ok(bp) = try_problem(&sub.field, &sub.normal.q, &sub.q, &opts.values, opts.freq, SpectrumKind::Quasinormal, None) else {
+    let Ok(bp) = try_problem(sub, &opts.values, opts.freq, SpectrumKind::Quasinormal, None) else {
         return (Vec::new(), "no boundary problem could be set up".into());
     };
     if let Location::At(h) = bp.ends[0].location {

@@ -502,6 +502,13 @@ fn circle_solution(ode: &NumOde, l: &Laurent, mode: &PeriodicMode, kappa: f64, x
 /// in ζ (`ode`, numeric except in the spectral parameter) with polynomial
 /// coefficients and A a single power of ζ; `tol` is the relative tolerance
 /// on the values (the truncations must agree to it, and the check converges to it).
+/// Whether the equation can be posed as a periodic problem ([`solve`]): its
+/// only singular points are 0 and ∞, with trigonometric-polynomial
+/// coefficients on the unit circle (Mathieu's equation in ζ = e^(2ix)).
+pub fn poses(ode: &NumOde) -> bool {
+    Laurent::new(ode).is_ok()
+}
+
 pub fn solve(ode: &NumOde, overtones: (u32, u32), tol: f64) -> Result<PeriodicSolution> {
     let l = Laurent::new(ode)?;
     let tol = tol.max(1e-13);

@@ -104,6 +104,7 @@ pub fn physical(red: &Reduction) -> Result<Option<(Reduction, Chart)>> {
         change: None,
         schrodinger: None,
         map: red.map.clone(),
+        family: None,
     };
     let map = format!("{} = {}", change.old_var, ratfunc_text(&change.g, red.field.names(), Style::Text));
     let chart = Chart { physical: change.old_var.clone(), written: change.new_var.clone(), map, g: change.g.clone() };

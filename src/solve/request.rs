@@ -324,7 +324,8 @@ fn bound_route(
     if super::collocation::linear_in(&red.field, &red.normal.q, freq)? || req.method == Method::Collocation {
         let (b, f) = bound_states(red, req, opts)?;
         if req.method == Method::Collocation || b.states.iter().all(|st| st.converged) {
-            return Ok((Body::Bound(BoundReport { notes: why.into_iter().collect(), ..b }), f));
+            let notes = why.into_iter().chain(b.notes.iter().cloned()).collect();
+            return Ok((Body::Bound(BoundReport { notes, ..b }), f));
         }
         // Collocation with ψ = 0 at the ends cannot tell the regular
         // solution from the logarithmic one where the exponents at an end
@@ -336,8 +337,19 @@ fn bound_route(
             Domain::HalfLine(a) => Some([(Location::At(a), None), (Location::Infinity, None)]),
             Domain::Line => None,
         };
-        let problem = given.map(|g| super::boundary::try_problem(&red.field, &red.normal.q, &red.q, point, freq, SpectrumKind::Bound, Some(g)));
-        let Some(Ok(bp)) = problem else { return Ok((Body::Bound(BoundReport { notes: why.into_iter().collect(), ..b }), f)) };
+        let problem = given.map(|g| super::boundary::try_problem(red, point, freq, SpectrumKind::Bound, Some(g)));
+        let Some(Ok(bp)) = problem else {
+            // Singular only at 0 and ∞ (an equation in ζ = e^(2ix)): the
+            // problem meant may be the periodic one on the circle |ζ| = 1.
+            let circle = super::try_num_ode(&red.field, &red.p, &red.q, point, freq).is_ok_and(|o| super::periodic::poses(&o));
+            let hint = circle.then(|| format!(
+                "the only singular points are 0 and ∞: for solutions on the circle |{v}| = 1, periodic in its angle (Mathieu's equation in {v} = e^(2ix)), give {opt_boundary} periodic",
+                v = red.var,
+                opt_boundary = RequestInput::Boundary.mention()
+            ));
+            let notes = why.into_iter().chain(b.notes.iter().cloned()).chain(hint).collect();
+            return Ok((Body::Bound(BoundReport { notes, ..b }), f));
+        };
         let note = with_why("collocation with ψ = 0 at the ends did not converge on every state asked for: the interval is solved as a problem between its ends (the regular exponent at each), by direct integration".to_string());
         let report = between_ends_as(bp, Problem::Bound, opts, Some(note));
         let f = ends_functions(req, &report);
@@ -346,7 +358,7 @@ fn bound_route(
     // The eigenvalue enters Q polynomially (ω² and ω, a normal-mode
     // problem written in the frequency): the global spectral method
     // between the natural ends, polished by direct integration.
-    let bp = super::boundary::try_problem(&red.field, &red.normal.q, &red.q, point, freq, SpectrumKind::Bound, None)?;
+    let bp = super::boundary::try_problem(red, point, freq, SpectrumKind::Bound, None)?;
     let note = "the spectral parameter enters Q beyond linearly: the eigenvalue problem is polynomial, solved between the ends (collocation of Q₀ + E·Q₁ does not apply)".to_string();
     let report = between_ends_as(bp, Problem::Bound, opts, Some(note));
     let f = ends_functions(req, &report);
@@ -1351,7 +1363,7 @@ pub(crate) fn horizon_to_series_end(bp: &BoundaryProblem) -> bool {
 /// do not end at a regular infinity, with the default conditions.
 fn boundary_problem(red: &Reduction, req: &SpectrumRequest, point: &[GRat], freq: usize) -> (Result<BoundaryProblem>, bool) {
     let kind = spectrum_kind(req.problem);
-    let problem = super::boundary::try_problem(&red.field, &red.normal.q, &red.q, point, freq, kind, req.ends);
+    let problem = super::boundary::try_problem(red, point, freq, kind, req.ends);
     let classic = kind == SpectrumKind::Quasinormal
         && req.ends.is_none()
         && problem.as_ref().map_or(true, |bp| {
@@ -1537,8 +1549,12 @@ pub(crate) fn series_between_ends(
     let seeds = match (neighbour, opts.guess) {
         (true, _) => opts.seeds.clone(),
         (false, None) => {
-            // Room for a few modes of a second family among the least damped.
-            let all = super::global::seeds(&bp, (0, opts.overtones.1 + 3));
+            let mut all = super::global::seeds(&bp, (0, opts.overtones.1));
+            let second_count = all.iter().filter(|w| purely_imaginary(**w, bp.scale)).count();
+            if second_count > 0 {
+                // Room for the second family's modes among the least damped.
+                all = super::global::seeds(&bp, (0, opts.overtones.1 + second_count as u32));
+            }
             // Two families (oscillating modes, and purely imaginary ones
             // such as those set by a cosmological horizon) are numbered
             // apart: the overtone ladder runs on the oscillating one, which
@@ -2038,7 +2054,25 @@ fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) 
         }
         _ => None,
     };
-    Ok((BoundReport { domain, threshold, states, checks, notes: Vec::new() }, functions))
+    // An end the family of equations has but these values make ordinary.
+    let family = super::boundary::ordinary_family_points(red, &opts.values, opts.freq).unwrap_or_default();
+    let ends_of = match domain {
+        Domain::Finite(a, b) => vec![a, b],
+        Domain::HalfLine(a) => vec![a],
+        Domain::Line => Vec::new(),
+    };
+    let notes = ends_of
+        .iter()
+        .filter(|z| family.iter().any(|f| (f - **z).abs() <= 1e-9 * z.abs().max(1.0)))
+        .map(|z| {
+            format!(
+                "{} = {} ends the domain: singular for other values of the parameters, an ordinary point of Q at these (ψ = 0 there)",
+                red.var,
+                super::boundary::fmt(*z)
+            )
+        })
+        .collect();
+    Ok((BoundReport { domain, threshold, states, checks, notes }, functions))
 }
 
 /// Quasinormal modes of a radial equation coupled to an angular one.

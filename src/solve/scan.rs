@@ -569,8 +569,7 @@ pub fn single_point(red: &Reduction, opts: &SpectrumOptions, check: bool, quasi_
 /// exact recurrence.
 fn series_end_point(red: &Reduction, opts: &SpectrumOptions) -> bool {
     let kind = super::boundary::SpectrumKind::Quasinormal;
-    super::boundary::try_problem(&red.field, &red.normal.q, &red.q, &opts.values, opts.freq, kind, None)
-        .is_ok_and(|bp| super::request::horizon_to_series_end(&bp))
+    super::boundary::try_problem(red, &opts.values, opts.freq, kind, None).is_ok_and(|bp| super::request::horizon_to_series_end(&bp))
 }
 
 /// The quasinormal modes at a point (`r` the equation at the point's
@@ -582,7 +581,7 @@ fn series_end_point(red: &Reduction, opts: &SpectrumOptions) -> bool {
 /// recurrence did not serve.
 fn series_point(r: &Reduction, opts: &SpectrumOptions, check: bool, why: &str) -> Result<SolvedPoint> {
     let kind = super::boundary::SpectrumKind::Quasinormal;
-    let bp = super::boundary::try_problem(&r.field, &r.normal.q, &r.q, &opts.values, opts.freq, kind, None)?;
+    let bp = super::boundary::try_problem(r, &opts.values, opts.freq, kind, None)?;
     let estimate = super::request::barrier_seed(r, opts, &bp);
     let report = match super::request::series_between_ends(bp, super::request::Problem::Quasinormal, opts, &r.var, why, check, &estimate) {
         Ok(report) => report,
@@ -656,7 +655,7 @@ fn modes_at(
         (false, _) => None,
         (true, Some(_)) => {
             let r = r()?;
-            super::boundary::try_problem(&r.field, &r.normal.q, &r.q, &opts.values, opts.freq, super::boundary::SpectrumKind::Quasinormal, None)
+            super::boundary::try_problem(r, &opts.values, opts.freq, super::boundary::SpectrumKind::Quasinormal, None)
                 .ok()
                 .map(|bp| Box::new(move |w| super::ends::find_root(&bp, w, opts.tol)) as Box<dyn Fn(Complex64) -> super::integrate::IntRoot + '_>)
         }
@@ -683,7 +682,7 @@ fn modes_at(
 /// a first point), not from the neighbour's values; the check by direct
 /// integration between the ends of the quasi-bound boundary problem.
 fn quasi_bound_at(r: &Reduction, rec: &Recurrence, setup: Setup, opts: &SpectrumOptions, check: bool) -> Result<SolvedPoint> {
-    let bp = super::boundary::try_problem(&r.field, &r.normal.q, &r.q, &opts.values, opts.freq, super::boundary::SpectrumKind::QuasiBound, None)?;
+    let bp = super::boundary::try_problem(r, &opts.values, opts.freq, super::boundary::SpectrumKind::QuasiBound, None)?;
     let estimate = |n: u32| super::ends::hydrogenic_seed(&bp, n).map(|s| (s.omega, s.from));
     // The levels' spacing shrinks like (Mμ)²μ/n³ while they move with μ
     // itself: a neighbour's values are poorer seeds than each point's own

@@ -175,7 +175,7 @@ fn affine_in_omega(a: super::global::Affine) -> InOmega {
 /// one point.
 fn problem_between_ends(red: &Reduction, opts: &SpectrumOptions) -> Result<Problem> {
     use super::boundary::{location_text, Condition, Location, Nature, SpectrumKind};
-    let bp = super::boundary::try_problem(&red.field, &red.normal.q, &red.q, &opts.values, opts.freq, SpectrumKind::Quasinormal, None)?;
+    let bp = super::boundary::try_problem(red, &opts.values, opts.freq, SpectrumKind::Quasinormal, None)?;
     let [near, far] = &bp.ends;
     let Location::At(z0) = near.location else { return Err(usage("the near end must be a finite point")) };
     if near.condition != Condition::IntoHorizon {

@@ -940,7 +940,8 @@ pub fn substitute_keeping(red: &Reduction, values: &[GRat], keep: &[usize]) -> R
         q: q.clone(),
         lets: Vec::new(),
     };
-    Ok(Reduction { ode, field: kf, var: red.var.clone(), p, q, normal, change: None, schrodinger: None, map: red.map.clone() })
+    let family = Some(red.family.clone().unwrap_or_else(|| red.normal.q.clone()));
+    Ok(Reduction { ode, field: kf, var: red.var.clone(), p, q, normal, change: None, schrodinger: None, map: red.map.clone(), family })
 }
 
 /// A frequency where the recurrence's leading coefficient c₀(k; ω) (the
