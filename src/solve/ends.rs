@@ -104,9 +104,62 @@ pub(super) fn pick_rate(cond: Condition, w: Complex64, m1: Complex64, m2: Comple
     }
 }
 
+/// The two end solutions (y, y') at the matching point for one ω.
+struct Matched {
+    left: (Complex64, Complex64),
+    right: (Complex64, Complex64),
+    /// ln of the factor that gives the right solution its normalisation at
+    /// the end itself (e^(μ z_f) z_f^ν at an irregular infinity; 0 where the
+    /// solution has it already).
+    log_right: Complex64,
+    /// How the Wronskian is made free of the normalisations.
+    norm: Norm,
+    /// Taylor steps taken.
+    steps: usize,
+}
+
 /// The normalised Wronskian of the two end solutions at ω, and the Taylor
 /// steps it took.
 fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64, usize), String> {
+    let m = matched(bp, w, p)?;
+    Ok((integrate::normalised_wronskian(m.left, m.right, m.norm)?, m.steps))
+}
+
+/// The scale of [`analytic`]'s mismatch, fixed at one ω (a seed): the
+/// product norm of the two solutions there and the real part of the
+/// logarithm of the right one's normalisation.
+fn analytic_scale(bp: &BoundaryProblem, w: Complex64) -> Result<(f64, f64), String> {
+    let m = matched(bp, w, &integrate::STANDARD)?;
+    let ((y1, d1), (y2, d2)) = (m.left, m.right);
+    let norm = y1.norm() * d2.norm() + d1.norm() * y2.norm();
+    if !(norm > 0.0 && norm.is_finite()) {
+        return Err("the solutions cannot be normalised at the matching point".into());
+    }
+    Ok((norm, m.log_right.re))
+}
+
+/// The Wronskian of the two end solutions, each normalised at its own end
+/// (unit leading coefficient of the Frobenius series; e^(μz) z^ν (1 + …) at
+/// an irregular infinity), divided by a `scale` fixed at one ω
+/// ([`analytic_scale`]): analytic in ω, and equal in size to
+/// [`evaluate`]'s mismatch where the scale was taken. A quasi-bound level
+/// decays so slowly that the product norm of [`evaluate`] changes by order
+/// one within |Im ω| of it (the solution from infinity nearly vanishes at
+/// the horizon there, for every ω within the level's width, with either
+/// phase), so Muller sees a step, not a zero, unless started closer than
+/// |Im ω|; this Wronskian is nearly linear over the spacing of the levels.
+fn analytic(bp: &BoundaryProblem, w: Complex64, p: &Params, scale: (f64, f64)) -> Result<(Complex64, usize), String> {
+    let m = matched(bp, w, p)?;
+    let ((y1, d1), (y2, d2)) = (m.left, m.right);
+    let v = (y1 * d2 - d1 * y2) / scale.0 * (m.log_right - scale.1).exp();
+    if !(v.re.is_finite() && v.im.is_finite()) {
+        return Err("the Wronskian normalised at the ends overflows at this ω".into());
+    }
+    Ok((v, m.steps))
+}
+
+/// The two end solutions at the matching point for ω.
+fn matched(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<Matched, String> {
     if !(w.re.is_finite() && w.im.is_finite()) {
         return Err("ω is not finite".into());
     }
@@ -126,6 +179,7 @@ fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64
     // centre) is ±1 everywhere and jumps at the eigenvalues instead of
     // passing through zero.
     let mut norm = Norm::Products;
+    let mut log_right = ZERO;
     let (yr, dyr) = match (right.location, right.nature) {
         (Location::At(b), _) => {
             let hr = integrate::horizon(&k, b)?;
@@ -176,10 +230,23 @@ fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64
             let far = Far::new(&k, mu, nu)?;
             let ray = integrate::recessive_ray(&far, &bp.zeros, zl)?;
             let d = dl.max(1.0);
-            integrate::from_infinity(&k, &Asymptote::Series(&far), &bp.zeros, zl, ray, (4.0 / (far.mu - far.mu2).norm()).max(d), zl, p, &mut steps)?
+            let (y, dy, zf) = integrate::from_infinity_started(
+                &k,
+                &Asymptote::Series(&far),
+                &bp.zeros,
+                zl,
+                ray,
+                (4.0 / (far.mu - far.mu2).norm()).max(d),
+                zl,
+                p,
+                &mut steps,
+            )?;
+            // ln(z_f) on the principal branch: the ray turns less than π from the real axis.
+            log_right = far.mu * zf + far.nu * zf.ln();
+            (y, dy)
         }
     };
-    Ok((integrate::normalised_wronskian((yl, dyl), (yr, dyr), norm)?, steps))
+    Ok(Matched { left: (yl, dyl), right: (yr, dyr), log_right, norm, steps })
 }
 
 /// The normalised mismatch at ω with the standard discretisation (zero at
@@ -196,13 +263,28 @@ pub fn mismatch(bp: &BoundaryProblem, w: Complex64) -> Option<Complex64> {
 /// the reason says how flat the mismatch is at the root, and so how far
 /// rounding alone can move it.
 pub fn find_root(bp: &BoundaryProblem, seed: Complex64, tol: f64) -> IntRoot {
-    let eval = |w: Complex64, p: &Params| evaluate(bp, w, p);
-    let near = integrate::find_root_by(&eval, seed, tol, integrate::MAX_ITER);
+    find_root_near(bp, seed, integrate::SPREAD, tol)
+}
+
+/// [`find_root`] with Muller's first points ± `spread`·|seed| about the seed:
+/// below the spacing of the eigenvalues near it (levels crowding below a
+/// continuum edge), so that the search cannot be drawn to a neighbour.
+pub fn find_root_near(bp: &BoundaryProblem, seed: Complex64, spread: f64, tol: f64) -> IntRoot {
+    // Quasi-bound levels: the Wronskian normalised at the ends, analytic in ω
+    // (see `analytic`), scaled at the seed.
+    let quasi_bound = bp.ends[1].condition == Condition::Decaying && bp.kind != SpectrumKind::Bound;
+    let scale = if quasi_bound { analytic_scale(bp, seed).ok() } else { None };
+    let eval = |w: Complex64, p: &Params| match scale {
+        Some(s) => analytic(bp, w, p, s),
+        None => evaluate(bp, w, p),
+    };
+    let near = integrate::find_root_spread(&eval, seed, spread, tol, integrate::MAX_ITER);
     if near.converged || !near.change.is_finite() {
         return near;
     }
     let named = "the two integrations with the series at the ends summed at 0.6 and 0.7 of their radii";
-    let far = integrate::find_root_passes(&eval, near.omega, tol, integrate::MAX_ITER, [&integrate::FAR_STANDARD, &integrate::FAR_REFINED], named);
+    let far =
+        integrate::find_root_passes(&eval, near.omega, spread, tol, integrate::MAX_ITER, [&integrate::FAR_STANDARD, &integrate::FAR_REFINED], named);
     if far.converged {
         let reason = format!("{} (standard and refined integration, with the series summed nearer the ends, disagreed: {})", far.reason, near.reason);
         return IntRoot { reason, iterations: near.iterations + far.iterations, ..far };
@@ -411,26 +493,10 @@ pub fn hydrogenic_seed(bp: &BoundaryProblem, n: u32) -> Option<Seed> {
     };
     // The continuum edge: A₀(ω) = 0 with A₀ increasing in ω (A₀ = ω² − μ²).
     let a0 = |w: f64| coef(w).map(|q| q[0].re);
-    let mut hi = bp.scale.max(1e-3);
-    for _ in 0..80 {
-        if a0(hi)? > 0.0 {
-            break;
-        }
-        hi *= 2.0;
-    }
-    if a0(hi)? <= 0.0 || a0(0.0)? >= 0.0 {
+    if a0(0.0)? >= 0.0 {
         return None;
     }
-    let mut lo = 0.0;
-    for _ in 0..100 {
-        let mid = 0.5 * (lo + hi);
-        if a0(mid)? > 0.0 {
-            hi = mid;
-        } else {
-            lo = mid;
-        }
-    }
-    let edge = lo;
+    let edge = super::roots::first_sign_change(&a0, bp.scale.max(1e-3))?;
     // f → +∞ at the edge (κ → 0); find where it crosses zero below the edge.
     let (mut a, mut b) = (edge * 1e-3, edge * (1.0 - 1e-12));
     let (fa, fb) = (f(a)?, f(b)?);
