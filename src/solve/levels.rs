@@ -47,8 +47,9 @@ pub struct Levels {
 
 /// Quasi-bound levels by the continued fraction on the decaying branch
 /// (`setup` made `Setup::decaying`): with seeds (continued from a
-/// neighbour) or a guess, the ladder as for any overtone; otherwise the
-/// levels 0, 1, … in order ([`in_order`]), each first from its own estimate
+/// neighbour), the ladder as for any overtone; otherwise the levels in
+/// order ([`in_order`]) — from 0, or from the lowest level asked for when a
+/// guess is given (it is that level) — each first from its own estimate
 /// `first_estimate(n)` (the levels crowd below the continuum edge, where
 /// extrapolation from two levels overshoots), and only those asked for kept.
 pub fn quasi_bound_levels(
@@ -57,11 +58,6 @@ pub fn quasi_bound_levels(
     opts: &SpectrumOptions,
     first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
 ) -> Result<Levels> {
-    if opts.guess.is_some() || !opts.seeds.is_empty() {
-        let (modes, setup) = qnm_modes_from(rec, setup, opts, first_estimate)?;
-        let check_offsets = check_offsets(&modes, None, first_estimate);
-        return Ok(Levels { modes, setup, check_offsets });
-    }
     if rec.coeffs.len() < 3 {
         return Err(Error::new(
             ErrorKind::Usage,
@@ -70,8 +66,18 @@ pub fn quasi_bound_levels(
     }
     let num = numeric_recurrence(rec, &setup, opts)?;
     let edge = num.rate.as_ref().and_then(|r| r.branch.edge());
+    if !opts.seeds.is_empty() {
+        let (modes, setup) = qnm_modes_from(rec, setup, opts, first_estimate)?;
+        let check_offsets = check_offsets(&modes, edge, first_estimate);
+        return Ok(Levels { modes, setup, check_offsets });
+    }
     let solve = |n: u32, seed: Complex64, spread: f64| find_root_near(&num, n as usize, seed, spread, opts.tol, 64, 1 << 17);
-    let all = in_order(opts.overtones.1, opts.tol, edge, first_estimate, &solve);
+    // A guess is the lowest level asked for; without one the count starts at level 0.
+    let start = match opts.guess {
+        Some(g) => Start { level: opts.overtones.0, guess: Some(g) },
+        None => Start { level: 0, guess: None },
+    };
+    let all = in_order(start, opts.overtones.1, opts.tol, edge, first_estimate, &solve);
     let check_offsets = check_offsets(&all, edge, first_estimate);
     let (modes, check_offsets) = all.into_iter().zip(check_offsets).filter(|(m, _)| m.n >= opts.overtones.0).unzip();
     Ok(Levels { modes, setup, check_offsets })
@@ -87,7 +93,17 @@ fn estimated_spacing(n: u32, estimate: &dyn Fn(u32) -> Option<(Complex64, String
     [above, below].into_iter().flatten().filter(|d| *d > 0.0 && d.is_finite()).min_by(f64::total_cmp)
 }
 
-/// Levels 0..=`hi` in order by `solve(n, seed, relative spread)`: level n
+/// Where [`in_order`] starts: level 0 from its estimate, or the level a
+/// given guess is said to be.
+#[derive(Clone, Copy, Debug)]
+struct Start {
+    level: u32,
+    guess: Option<Complex64>,
+}
+
+/// Levels `start.level`..=`hi` in order by `solve(n, seed, relative spread)`
+/// (the first from the guess, when one is given; its root is reported as
+/// not converged, with the reason, when it is not a level): level n
 /// is the first root above level n − 1 in Re ω (by more than ten times the
 /// tolerance), below the continuum `edge` when one is known, in the lower
 /// right quadrant. Its own estimate is tried first; a root that repeats a
@@ -99,6 +115,7 @@ fn estimated_spacing(n: u32, estimate: &dyn Fn(u32) -> Option<(Complex64, String
 /// search is bounded: at most 1 + [`BRACKET_SEEDS`] + `roots::BETWEEN_TRIES`
 /// root finds per level.
 fn in_order(
+    start: Start,
     hi: u32,
     tol: f64,
     edge: Option<f64>,
@@ -107,7 +124,8 @@ fn in_order(
 ) -> Vec<Mode> {
     let mut out: Vec<Mode> = Vec::new();
     let tol = tol.max(1e-13);
-    for n in 0..=hi {
+    for n in start.level..=hi {
+        let given = start.guess.filter(|_| n == start.level);
         if let Some(b) = out.last().filter(|b| !b.root.converged) {
             let why = format!("level {} was not found, so level {n} cannot be told apart from the levels around it", b.n);
             out.push(unplaced(n, why));
@@ -146,14 +164,15 @@ fn in_order(
         };
         let mut tried: Vec<String> = Vec::new();
         let mut found: Option<(CfRoot, (Complex64, String))> = None;
-        if let Some((w, from)) = estimate(n) {
+        if let Some((w, from)) = given.map(|g| (g, "the given guess".to_string())).or_else(|| estimate(n)) {
             let r = solve(n, w, spread_at(w, None));
             match misfit(&r) {
                 None => found = Some((r, (w, from))),
                 Some(why) => tried.push(format!("from {from} {}: {why}", text(w))),
             }
         }
-        if found.is_none() {
+        // A guess that leads to no level is reported as such, not replaced.
+        if found.is_none() && given.is_none() {
             match bracket(n, prev, edge, estimate) {
                 Some((lo, top, im)) => {
                     let step = (top - lo) / (BRACKET_SEEDS + 1) as f64;
@@ -327,7 +346,7 @@ mod tests {
         // Every estimate points at level 1: the levels after it come from
         // the search between the last level and the edge.
         let est = |n: u32| Some((level(n.min(1)), "a repeating estimate".to_string()));
-        let found = in_order(4, 1e-10, Some(1.0), &est, &|_, w, s| nearest(w, s));
+        let found = in_order(Start { level: 0, guess: None }, 4, 1e-10, Some(1.0), &est, &|_, w, s| nearest(w, s));
         for (k, m) in found.iter().enumerate() {
             assert!(m.root.converged, "level {k}: {:?}", m.root.stop);
             assert!((m.root.omega - level(k as u32)).norm() < 1e-15, "level {k}: {}", m.root.omega);
@@ -346,7 +365,7 @@ mod tests {
                 r
             }
         };
-        let found = in_order(2, 1e-10, Some(1.0), &est, &solve);
+        let found = in_order(Start { level: 0, guess: None }, 2, 1e-10, Some(1.0), &est, &solve);
         assert!(found[0].root.converged);
         assert!(!found[1].root.converged && found[1].root.stop.text().contains("not found in order"), "{:?}", found[1].root.stop);
         assert!(!found[2].root.converged && found[2].root.stop.text().contains("level 1 was not found"), "{:?}", found[2].root.stop);
