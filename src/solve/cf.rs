@@ -513,12 +513,8 @@ fn inversion_reduced(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) 
 /// from `depth0` until the root changes by less than `tol` (relative), up to
 /// `max_depth`.
 pub fn find_root(rec: &NumRecurrence, k: usize, seed: Complex64, tol: f64, depth0: usize, max_depth: usize) -> CfRoot {
-    find_root_near(rec, k, seed, SPREAD, tol, depth0, max_depth)
+    find_root_near(rec, k, seed, super::roots::SPREAD, tol, depth0, max_depth)
 }
-
-/// The relative spread of Muller's first points about a seed (± 1e-3 |seed|)
-/// in the first search of [`find_root`].
-pub const SPREAD: f64 = 1e-3;
 
 /// [`find_root`] with Muller's first points ± `spread`·|seed| about the
 /// seed, and later ones never wider: below the spacing of the roots near
@@ -552,7 +548,7 @@ pub fn find_root_by(
     depth0: usize,
     max_depth: usize,
 ) -> CfRoot {
-    find_root_spread(f_at, k, seed, SPREAD, tol, depth0, max_depth)
+    find_root_spread(f_at, k, seed, super::roots::SPREAD, tol, depth0, max_depth)
 }
 
 /// [`find_root_by`] with Muller's first points ± `first_spread`·|seed|
@@ -573,7 +569,7 @@ fn find_root_spread(
     let inner_tol = (tol * 0.1).max(1e-15);
     // The first search starts from the given spread around the seed; later
     // ones, at doubled depth, from a spread of the size of the last change.
-    let first_spread = first_spread.clamp(1e-12, SPREAD);
+    let first_spread = first_spread.clamp(1e-12, super::roots::SPREAD);
     let mut spread = first_spread;
     loop {
         let f = |x: Complex64| f_at(x, depth).map(|(v, _)| v);

@@ -111,7 +111,7 @@ pub(super) type Evaluator<'f> = &'f dyn Fn(Complex64, &Params) -> Result<(Comple
 /// The two-pass Muller search of [`find_root`] on any normalised mismatch
 /// (the quasinormal one here, the bound-state one of `shoot`).
 pub(super) fn find_root_by(eval: Evaluator, seed: Complex64, tol: f64, max_iter: usize) -> IntRoot {
-    find_root_spread(eval, seed, SPREAD, tol, max_iter)
+    find_root_spread(eval, seed, super::roots::SPREAD, tol, max_iter)
 }
 
 /// [`find_root_by`] with Muller's first points ± `spread`·|seed| about the seed.
@@ -119,14 +119,10 @@ pub(super) fn find_root_spread(eval: Evaluator, seed: Complex64, spread: f64, to
     find_root_passes(eval, seed, spread, tol, max_iter, [&STANDARD, &REFINED], "standard and refined integration")
 }
 
-/// The relative spread of Muller's first three points about a seed
-/// (± 1e-3 |seed|), unless a caller knows the roots lie closer together.
-pub const SPREAD: f64 = 1e-3;
-
 /// The search of [`find_root_by`] with Muller's first points ± `spread`·|seed|
 /// about the seed (and about the first pass's root in the second pass) and
 /// the discretisations of its two passes given (`named` names the pair in
-/// the reasons). Where roots lie closer together than [`SPREAD`] (levels
+/// the reasons). Where roots lie closer together than `roots::SPREAD` (levels
 /// crowding below a continuum edge), a spread below their spacing keeps
 /// the quadratic model from straddling a neighbour.
 pub(super) fn find_root_passes(

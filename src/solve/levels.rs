@@ -77,7 +77,13 @@ pub fn quasi_bound_levels(
         Some(g) => Start { level: opts.overtones.0, guess: Some(g) },
         None => Start { level: 0, guess: None },
     };
-    let all = in_order(start, opts.overtones.1, opts.tol, edge, first_estimate, &solve);
+    let all: Vec<Mode> = in_order(start, opts.overtones.1, opts.tol, edge, first_estimate, &solve)
+        .into_iter()
+        .map(|(n, p)| match p {
+            Ok((root, seed)) => Mode { n, root, seed, method: ModeMethod::ContinuedFraction },
+            Err(why) => unplaced(n, why),
+        })
+        .collect();
     let check_offsets = check_offsets(&all, edge, first_estimate);
     let (modes, check_offsets) = all.into_iter().zip(check_offsets).filter(|(m, _)| m.n >= opts.overtones.0).unzip();
     Ok(Levels { modes, setup, check_offsets })
@@ -96,14 +102,55 @@ fn estimated_spacing(n: u32, estimate: &dyn Fn(u32) -> Option<(Complex64, String
 /// Where [`in_order`] starts: level 0 from its estimate, or the level a
 /// given guess is said to be.
 #[derive(Clone, Copy, Debug)]
-struct Start {
-    level: u32,
-    guess: Option<Complex64>,
+pub struct Start {
+    /// The first level sought.
+    pub level: u32,
+    /// A guess for it (then it is sought from the guess alone).
+    pub guess: Option<Complex64>,
 }
+
+/// A root finder's result as [`in_order`] reads it (the continued
+/// fraction's [`CfRoot`], direct integration's `IntRoot`).
+pub trait LevelRoot {
+    /// The value (meaningful when found).
+    fn value(&self) -> Complex64;
+    /// Whether the root finder converged.
+    fn found(&self) -> bool;
+    /// Why not, in words.
+    fn why_not(&self) -> String;
+}
+
+impl LevelRoot for CfRoot {
+    fn value(&self) -> Complex64 {
+        self.omega
+    }
+    fn found(&self) -> bool {
+        self.converged
+    }
+    fn why_not(&self) -> String {
+        self.stop.text()
+    }
+}
+
+impl LevelRoot for super::integrate::IntRoot {
+    fn value(&self) -> Complex64 {
+        self.omega
+    }
+    fn found(&self) -> bool {
+        self.converged
+    }
+    fn why_not(&self) -> String {
+        self.reason.clone()
+    }
+}
+
+/// One level of [`in_order`]: its root and seed (value, origin), or why it
+/// could not be placed.
+pub type Placed<R> = (u32, std::result::Result<(R, (Complex64, String)), String>);
 
 /// Levels `start.level`..=`hi` in order by `solve(n, seed, relative spread)`
 /// (the first from the guess, when one is given; its root is reported as
-/// not converged, with the reason, when it is not a level): level n
+/// not placed, with the reason, when it is not a level): level n
 /// is the first root above level n − 1 in Re ω (by more than ten times the
 /// tolerance), below the continuum `edge` when one is known, in the lower
 /// right quadrant. Its own estimate is tried first; a root that repeats a
@@ -113,43 +160,46 @@ struct Start {
 /// level n − 1 (`roots::root_between_by` in Re ω). A level whose level
 /// below was not found is not sought (its number would be a guess). Every
 /// search is bounded: at most 1 + [`BRACKET_SEEDS`] + `roots::BETWEEN_TRIES`
-/// root finds per level.
-fn in_order(
+/// root finds per level, each started with a spread of a tenth of the
+/// levels' estimated spacing (at most `roots::SPREAD`).
+pub fn in_order<R: LevelRoot>(
     start: Start,
     hi: u32,
     tol: f64,
     edge: Option<f64>,
     estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
-    solve: &dyn Fn(u32, Complex64, f64) -> CfRoot,
-) -> Vec<Mode> {
-    let mut out: Vec<Mode> = Vec::new();
+    solve: &dyn Fn(u32, Complex64, f64) -> R,
+) -> Vec<Placed<R>> {
+    let mut out: Vec<Placed<R>> = Vec::new();
+    // The levels placed so far (number, value).
+    let mut placed: Vec<(u32, Complex64)> = Vec::new();
     let tol = tol.max(1e-13);
     for n in start.level..=hi {
         let given = start.guess.filter(|_| n == start.level);
-        if let Some(b) = out.last().filter(|b| !b.root.converged) {
-            let why = format!("level {} was not found, so level {n} cannot be told apart from the levels around it", b.n);
-            out.push(unplaced(n, why));
+        if let Some((b, Err(_))) = out.last() {
+            let why = format!("level {b} was not found, so level {n} cannot be told apart from the levels around it");
+            out.push((n, Err(why)));
             continue;
         }
-        let prev = out.last().map(|b| b.root.omega);
+        let prev = placed.last().map(|p| p.1);
         let spacing = estimated_spacing(n, estimate);
         let spread_at = |seed: Complex64, local: Option<f64>| {
             let s = [spacing, local].into_iter().flatten().fold(f64::INFINITY, f64::min);
             if s.is_finite() {
-                (SPREAD_FRACTION * s / seed.norm()).min(super::cf::SPREAD)
+                (SPREAD_FRACTION * s / seed.norm()).min(super::roots::SPREAD)
             } else {
-                super::cf::SPREAD
+                super::roots::SPREAD
             }
         };
         // Why a root is not level n (None: it is).
-        let misfit = |r: &CfRoot| -> Option<String> {
-            if !r.converged {
-                return Some(r.stop.text());
+        let misfit = |r: &R| -> Option<String> {
+            if !r.found() {
+                return Some(r.why_not());
             }
-            let w = r.omega;
+            let w = r.value();
             let margin = 10.0 * tol * w.norm();
-            if let Some(m) = out.iter().find(|m| (m.root.omega - w).norm() <= margin) {
-                return Some(format!("the root {} is level {}'s again", text(w), m.n));
+            if let Some((m, _)) = placed.iter().find(|(_, v)| (v - w).norm() <= margin) {
+                return Some(format!("the root {} is level {m}'s again", text(w)));
             }
             if !(w.re > 0.0 && w.im < 0.0) {
                 return Some(format!("the root {} is not in the lower right quadrant (Re ω > 0, Im ω < 0)", text(w)));
@@ -163,7 +213,7 @@ fn in_order(
             None
         };
         let mut tried: Vec<String> = Vec::new();
-        let mut found: Option<(CfRoot, (Complex64, String))> = None;
+        let mut found: Option<(R, (Complex64, String))> = None;
         if let Some((w, from)) = given.map(|g| (g, "the given guess".to_string())).or_else(|| estimate(n)) {
             let r = solve(n, w, spread_at(w, None));
             match misfit(&r) {
@@ -176,15 +226,15 @@ fn in_order(
             match bracket(n, prev, edge, estimate) {
                 Some((lo, top, im)) => {
                     let step = (top - lo) / (BRACKET_SEEDS + 1) as f64;
-                    let mut best: Option<(CfRoot, (Complex64, String))> = None;
+                    let mut best: Option<(R, (Complex64, String))> = None;
                     for k in 1..=BRACKET_SEEDS {
                         let w = Complex64::new(lo + step * k as f64, im);
                         // Seeds above the best root so far lead only higher.
-                        if best.as_ref().is_some_and(|(b, _)| w.re > b.omega.re) {
+                        if best.as_ref().is_some_and(|(b, _)| w.re > b.value().re) {
                             break;
                         }
                         let r = solve(n, w, spread_at(w, Some(step)));
-                        if misfit(&r).is_none() && best.as_ref().is_none_or(|(b, _)| r.omega.re < b.omega.re) {
+                        if misfit(&r).is_none() && best.as_ref().is_none_or(|(b, _)| r.value().re < b.value().re) {
                             let from =
                                 format!("seed {k} of {BRACKET_SEEDS} evenly spaced in Re ω between {} and the continuum edge", bracket_floor(n));
                             best = Some((r, (w, from)));
@@ -202,22 +252,23 @@ fn in_order(
             }
         }
         let Some((mut root, mut seed)) = found else {
-            out.push(unplaced(n, format!("level {n} not found in order: {}", tried.join("; "))));
+            out.push((n, Err(format!("level {n} not found in order: {}", tried.join("; ")))));
             continue;
         };
         // A level skipped between level n − 1 and this root is level n.
         if let Some(p) = prev {
             let from = |mid: Complex64| {
                 let r = solve(n, mid, spread_at(mid, Some(0.5 * (mid.re - p.re).abs())));
-                (misfit(&r).is_none()).then_some((r.omega, r))
+                misfit(&r).is_none().then(|| (r.value(), r))
             };
-            let known = |w: Complex64| out.iter().any(|m| (m.root.omega - w).norm() <= 10.0 * tol * w.norm());
-            if let Some((mid, _, r)) = super::roots::root_between_by(p, root.omega, &|w| w.re, &from, &known) {
-                seed = (mid, format!("half way between level {} and the root {} reached from {}", n - 1, text(root.omega), seed.1));
+            let known = |w: Complex64| placed.iter().any(|(_, v)| (v - w).norm() <= 10.0 * tol * w.norm());
+            if let Some((mid, _, r)) = super::roots::root_between_by(p, root.value(), &|w| w.re, &from, &known) {
+                seed = (mid, format!("half way between level {} and the root {} reached from {}", n - 1, text(root.value()), seed.1));
                 root = r;
             }
         }
-        out.push(Mode { n, root, seed, method: ModeMethod::ContinuedFraction });
+        placed.push((n, root.value()));
+        out.push((n, Ok((root, seed))));
     }
     out
 }
@@ -347,9 +398,11 @@ mod tests {
         // the search between the last level and the edge.
         let est = |n: u32| Some((level(n.min(1)), "a repeating estimate".to_string()));
         let found = in_order(Start { level: 0, guess: None }, 4, 1e-10, Some(1.0), &est, &|_, w, s| nearest(w, s));
-        for (k, m) in found.iter().enumerate() {
-            assert!(m.root.converged, "level {k}: {:?}", m.root.stop);
-            assert!((m.root.omega - level(k as u32)).norm() < 1e-15, "level {k}: {}", m.root.omega);
+        assert_eq!(found.len(), 5);
+        for (k, (n, p)) in found.iter().enumerate() {
+            assert_eq!(*n, k as u32);
+            let (r, _) = p.as_ref().unwrap_or_else(|why| panic!("level {k}: {why}"));
+            assert!((r.omega - level(k as u32)).norm() < 1e-15, "level {k}: {}", r.omega);
         }
     }
 
@@ -366,10 +419,13 @@ mod tests {
             }
         };
         let found = in_order(Start { level: 0, guess: None }, 2, 1e-10, Some(1.0), &est, &solve);
-        assert!(found[0].root.converged);
-        assert!(!found[1].root.converged && found[1].root.stop.text().contains("not found in order"), "{:?}", found[1].root.stop);
-        assert!(!found[2].root.converged && found[2].root.stop.text().contains("level 1 was not found"), "{:?}", found[2].root.stop);
-        assert!(found[1].root.omega.re.is_nan() && found[2].root.omega.re.is_nan());
+        assert!(found[0].1.is_ok());
+        let why = |k: usize| found[k].1.as_ref().err().cloned().unwrap_or_default();
+        assert!(why(1).contains("not found in order") && why(1).contains("none of 8 seeds"), "{}", why(1));
+        assert!(why(2).contains("level 1 was not found"), "{}", why(2));
+        // Reported as not converged, with no value.
+        let m = unplaced(1, why(1));
+        assert!(!m.root.converged && m.root.omega.re.is_nan() && m.root.stop.text() == why(1));
     }
 
     #[test]

@@ -1796,7 +1796,7 @@ fn recurrence_route(
     for (i, m) in modes.iter_mut().enumerate() {
         let check = match &integ {
             Some(f) if m.method == ModeMethod::ContinuedFraction && req.method == Method::Integrate => {
-                let r = f(m.seed.0, offset(i).unwrap_or(super::integrate::SPREAD));
+                let r = f(m.seed.0, offset(i).unwrap_or(super::roots::SPREAD));
                 m.root.omega = r.omega;
                 m.root.converged = r.converged;
                 m.root.residual = r.residual;
@@ -1811,7 +1811,7 @@ fn recurrence_route(
             }
             Some(f) if m.method == ModeMethod::ContinuedFraction && m.root.converged => Some(match offset(i) {
                 Some(o) => super::levels::check_level(m.root.omega, o, &|w, spread| f(w, spread)),
-                None => f(super::spectrum::check_seed(m.root.omega), super::integrate::SPREAD),
+                None => f(super::spectrum::check_seed(m.root.omega), super::roots::SPREAD),
             }),
             _ => None,
         };

@@ -13,6 +13,11 @@ fn finite(z: Complex64) -> bool {
 
 /// Muller's method from `seed` (start points ± `spread`·|seed|) to relative
 /// tolerance `tol`; returns the last iterate, the iterations used, and Ok or
+/// The relative spread of Muller's first three points about a seed
+/// (± 1e-3 |seed|) in the root finders built on [`muller`], unless a caller
+/// knows the roots lie closer together (levels below a continuum edge).
+pub const SPREAD: f64 = 1e-3;
+
 /// Below this magnitude the root finders' relative tolerance becomes
 /// absolute (tol × 1e-3), so that a root at zero (a zero eigenvalue) can
 /// converge.
