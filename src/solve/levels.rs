@@ -1,5 +1,5 @@
-//! Quasi-bound levels of a massive field by the continued fraction, found
-//! in order and each once. The levels crowd below the continuum edge ω = μ
+//! Quasi-bound levels of a massive field, found in order and each once (by
+//! the continued fraction, or by direct integration between given ends). The levels crowd below the continuum edge ω = μ
 //! (where χ² = μ² − ω² vanishes) with Re ω growing and |Im ω| shrinking
 //! with the level number; their spacing, of order (Mμ)²μ/n³ for the
 //! hydrogen-like levels, is soon far below the spread a root finder starts
@@ -18,7 +18,7 @@
 
 use super::cf::{find_root_near, CfRoot, StopReason};
 use super::spectrum::{check_seed_at, numeric_recurrence, qnm_modes_from, Mode, ModeMethod, Setup, SpectrumOptions, CHECK_OFFSET};
-use crate::error::{Error, ErrorKind, Result};
+use crate::error::Result;
 use num_complex::Complex64;
 
 /// Seeds of the search between a level and the continuum edge, evenly
@@ -59,10 +59,7 @@ pub fn quasi_bound_levels(
     first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
 ) -> Result<Levels> {
     if rec.coeffs.len() < 3 {
-        return Err(Error::new(
-            ErrorKind::Usage,
-            format!("the recurrence about {} has {} terms: no continued fraction", setup.horizon, rec.coeffs.len()),
-        ));
+        return Err(super::spectrum::too_few_terms(rec, &setup));
     }
     let num = numeric_recurrence(rec, &setup, opts)?;
     let edge = num.rate.as_ref().and_then(|r| r.branch.edge());
@@ -297,8 +294,7 @@ fn bracket(n: u32, prev: Option<Complex64>, edge: Option<f64>, estimate: &dyn Fn
 
 /// Level n with no root to report, and why (no number is attached).
 fn unplaced(n: u32, why: String) -> Mode {
-    let mut root = CfRoot::failed(Complex64::new(f64::NAN, f64::NAN), n as usize, StopReason::Rejected(why));
-    root.omega = Complex64::new(f64::NAN, f64::NAN);
+    let root = CfRoot::failed(Complex64::new(f64::NAN, f64::NAN), n as usize, StopReason::Rejected(why));
     Mode { n, root, seed: (Complex64::new(f64::NAN, f64::NAN), "none".into()), method: ModeMethod::ContinuedFraction }
 }
 
@@ -308,9 +304,9 @@ fn text(w: Complex64) -> String {
 }
 
 /// Where the check by direct integration of each mode starts, relative to
-/// it (`spectrum::check_seed_at`): [`CHECK_OFFSET`], or, where that is not
-/// small beside the distance d to the nearest other level, d/100 — d the
-/// nearest of the other converged modes, the continuum `edge`, and the
+/// it (`spectrum::check_seed_at`): the smaller of [`CHECK_OFFSET`] and d/100
+/// relative to |ω|, d the distance to the nearest of the other converged
+/// modes, the continuum `edge`, and the
 /// estimated spacing to the next level (levels accumulate at the edge, so
 /// the next one, not yet found, is nearer than the edge). The root finder
 /// starts with as small a spread.

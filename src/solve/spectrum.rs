@@ -442,10 +442,16 @@ pub fn qnm_modes_from(
         return Ok((modes, setup));
     }
     if rec.coeffs.len() < 3 {
-        return Err(usage(format!("the recurrence about {} has {} terms: no continued fraction", setup.horizon, rec.coeffs.len())));
+        return Err(too_few_terms(rec, &setup));
     }
     let (modes, _) = cf_ladder(rec, &setup, opts, first_estimate, &|_, _| false)?;
     Ok((modes, setup))
+}
+
+/// The error of a recurrence of fewer than three terms where a continued
+/// fraction is needed.
+pub(super) fn too_few_terms(rec: &crate::series::Recurrence, setup: &Setup) -> Error {
+    usage(format!("the recurrence about {} has {} terms: no continued fraction", setup.horizon, rec.coeffs.len()))
 }
 
 /// The overtone ladder of [`overtones`] on the continued fraction of a
@@ -460,7 +466,7 @@ pub fn cf_ladder(
     beyond: &dyn Fn(&[Mode], Complex64) -> bool,
 ) -> Result<(Vec<Mode>, LadderEnd)> {
     if rec.coeffs.len() < 3 {
-        return Err(usage(format!("the recurrence about {} has {} terms: no continued fraction", setup.horizon, rec.coeffs.len())));
+        return Err(too_few_terms(rec, setup));
     }
     let num = numeric_recurrence(rec, setup, opts)?;
     ladder(opts, first_estimate, &|n, seed| find_root(&num, n as usize, seed, opts.tol, 64, 1 << 17), beyond)
