@@ -427,6 +427,15 @@ fn cf_evidence(m: &crate::solve::spectrum::Mode) -> Value {
     })
 }
 
+/// A check's document with `started` (its relative distance from the value
+/// it checks at the start) where that is not the standard one.
+fn with_start(mut check: Value, start: Option<f64>) -> Value {
+    if let (Some(d), Value::Object(m)) = (start, &mut check) {
+        m.insert("started".into(), json!(d));
+    }
+    check
+}
+
 fn recurrence_json(fname: &str, problem: Problem, b: &RecurrenceReport) -> Value {
     let ms: Vec<Value> = b
         .modes
@@ -438,13 +447,16 @@ fn recurrence_json(fname: &str, problem: Problem, b: &RecurrenceReport) -> Value
             let rest = json!({
                 "evidence": cf_evidence(m),
                 "check": match b.checks.get(i).and_then(|c| c.as_ref()) {
-                    Some(c) if c.converged => json!({
-                        "method": "integrate",
-                        "omega": pair(c.omega),
-                        "agreement": (c.omega - r.omega).norm() / r.omega.norm(),
-                        "residual": c.residual,
-                    }),
-                    Some(c) => json!({"method": "integrate", "omega": Value::Null, "reason": c.reason}),
+                    Some(c) if c.converged => with_start(
+                        json!({
+                            "method": "integrate",
+                            "omega": pair(c.omega),
+                            "agreement": (c.omega - r.omega).norm() / r.omega.norm(),
+                            "residual": c.residual,
+                        }),
+                        b.check_from.get(i).copied().flatten(),
+                    ),
+                    Some(c) => with_start(json!({"method": "integrate", "omega": Value::Null, "reason": c.reason}), b.check_from.get(i).copied().flatten()),
                     None if m.method == ModeMethod::SpecialPoint && r.converged => json!({
                         "method": "exact",
                         "leading_coefficient_index": r.inversion,
@@ -652,13 +664,17 @@ fn recurrence_text(fname: &str, var: &str, source: &str, problem: Problem, b: &R
             let seed = if m.seed.0.is_nan() { String::new() } else { format!(" (seed {} from {})", fmt_complex(m.seed.0.re, m.seed.0.im), m.seed.1) };
             o.push_str(&format!("  {:<2} NOT CONVERGED: {}{seed}\n", m.n, r.stop.text()));
         }
+        let started = match b.check_from.get(i).copied().flatten() {
+            Some(d) => format!(" (started {d:.1e} away, relative)"),
+            None => String::new(),
+        };
         match b.checks.get(i).and_then(|c| c.as_ref()) {
             Some(c) if c.converged => o.push_str(&format!(
-                "     check: direct integration {}, agreement {:.1e}\n",
+                "     check: direct integration {}, agreement {:.1e}{started}\n",
                 fmt_complex(c.omega.re, c.omega.im),
                 (c.omega - r.omega).norm() / r.omega.norm()
             )),
-            Some(c) => o.push_str(&format!("     check: direct integration did not converge: {}\n", c.reason)),
+            Some(c) => o.push_str(&format!("     check: direct integration did not converge{started}: {}\n", c.reason)),
             None => {}
         }
         if let Some(c) = b.coupled.as_ref().and_then(|c| c.values.get(i)).and_then(|c| c.as_ref()) {

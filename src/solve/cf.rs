@@ -90,6 +90,18 @@ impl RateBranch {
         let s = p.sqrt();
         super::ends::pick_rate(self.condition, w, -s, s).ok().map(|rate| -rate)
     }
+
+    /// The continuum edge: the first real ω > 0 where χ² = P(ω) changes
+    /// sign (P = μ² − ω² for a field of mass μ: the edge is μ, below which
+    /// a decaying χ is real). `None` where P keeps its sign or cannot be
+    /// evaluated on the real axis.
+    pub fn edge(&self) -> Option<f64> {
+        let p = |w: f64| {
+            let v = super::spectrum::eval_in_omega(&self.square, Complex64::new(w, 0.0)).re;
+            v.is_finite().then_some(v)
+        };
+        super::roots::first_sign_change(&p, 1e-3)
+    }
 }
 
 impl NumRecurrence {
@@ -501,13 +513,22 @@ fn inversion_reduced(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) 
 /// from `depth0` until the root changes by less than `tol` (relative), up to
 /// `max_depth`.
 pub fn find_root(rec: &NumRecurrence, k: usize, seed: Complex64, tol: f64, depth0: usize, max_depth: usize) -> CfRoot {
+    find_root_near(rec, k, seed, super::roots::SPREAD, tol, depth0, max_depth)
+}
+
+/// [`find_root`] with Muller's first points ± `spread`·|seed| about the
+/// seed, and later ones never wider: below the spacing of the roots near
+/// the seed (levels crowding below a continuum edge), so that the search
+/// is not drawn to a neighbour.
+pub fn find_root_near(rec: &NumRecurrence, k: usize, seed: Complex64, spread: f64, tol: f64, depth0: usize, max_depth: usize) -> CfRoot {
     if rec.terms.len() < 3 {
         return CfRoot::failed(seed, k, StopReason::NotThreeTerm);
     }
-    find_root_by(
+    find_root_spread(
         &|w, depth| inversion(rec, w, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string()),
         k,
         seed,
+        spread,
         tol,
         depth0,
         max_depth,
@@ -527,14 +548,29 @@ pub fn find_root_by(
     depth0: usize,
     max_depth: usize,
 ) -> CfRoot {
+    find_root_spread(f_at, k, seed, super::roots::SPREAD, tol, depth0, max_depth)
+}
+
+/// [`find_root_by`] with Muller's first points ± `first_spread`·|seed|
+/// about the seed, and the later searches' spreads never wider.
+fn find_root_spread(
+    f_at: &dyn Fn(Complex64, usize) -> std::result::Result<(Complex64, Complex64), String>,
+    k: usize,
+    seed: Complex64,
+    first_spread: f64,
+    tol: f64,
+    depth0: usize,
+    max_depth: usize,
+) -> CfRoot {
     let fail = |stop: StopReason| CfRoot::failed(seed, k, stop);
     let mut depth = depth0.max(k + 10);
     let mut w = seed;
     let mut prev: Option<Complex64> = None;
     let inner_tol = (tol * 0.1).max(1e-15);
-    // The first search starts from a spread of 1e-3 around the seed; later
+    // The first search starts from the given spread around the seed; later
     // ones, at doubled depth, from a spread of the size of the last change.
-    let mut spread = 1e-3;
+    let first_spread = first_spread.clamp(1e-12, super::roots::SPREAD);
+    let mut spread = first_spread;
     loop {
         let f = |x: Complex64| f_at(x, depth).map(|(v, _)| v);
         let (root, iters, stop) = super::roots::muller(&f, w, spread, inner_tol, 200);
@@ -581,9 +617,9 @@ pub fn find_root_by(
             }
         }
         if let Some(p) = prev {
-            spread = ((root - p).norm() / root.norm().max(1e-300) * 10.0).clamp(1e-9, 1e-3);
+            spread = ((root - p).norm() / root.norm().max(1e-300) * 10.0).clamp(1e-9_f64.min(first_spread), first_spread);
         } else {
-            spread = 1e-6;
+            spread = 1e-6_f64.min(first_spread);
         }
         prev = Some(root);
         w = root;

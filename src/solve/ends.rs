@@ -134,9 +134,62 @@ pub(super) fn pick_rate(cond: Condition, w: Complex64, m1: Complex64, m2: Comple
     }
 }
 
+/// The two end solutions (y, y') at the matching point for one ω.
+struct Matched {
+    left: (Complex64, Complex64),
+    right: (Complex64, Complex64),
+    /// ln of the factor that gives the right solution its normalisation at
+    /// the end itself (e^(μ z_f) z_f^ν at an irregular infinity; 0 where the
+    /// solution has it already).
+    log_right: Complex64,
+    /// How the Wronskian is made free of the normalisations.
+    norm: Norm,
+    /// Taylor steps taken.
+    steps: usize,
+}
+
 /// The normalised Wronskian of the two end solutions at ω, and the Taylor
 /// steps it took.
 fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64, usize), String> {
+    let m = matched(bp, w, p)?;
+    Ok((integrate::normalised_wronskian(m.left, m.right, m.norm)?, m.steps))
+}
+
+/// The scale of [`analytic`]'s mismatch, fixed at one ω (a seed): the
+/// product norm of the two solutions there and the real part of the
+/// logarithm of the right one's normalisation.
+fn analytic_scale(bp: &BoundaryProblem, w: Complex64) -> Result<(f64, f64), String> {
+    let m = matched(bp, w, &integrate::STANDARD)?;
+    let ((y1, d1), (y2, d2)) = (m.left, m.right);
+    let norm = y1.norm() * d2.norm() + d1.norm() * y2.norm();
+    if !(norm > 0.0 && norm.is_finite()) {
+        return Err("the solutions cannot be normalised at the matching point".into());
+    }
+    Ok((norm, m.log_right.re))
+}
+
+/// The Wronskian of the two end solutions, each normalised at its own end
+/// (unit leading coefficient of the Frobenius series; e^(μz) z^ν (1 + …) at
+/// an irregular infinity), divided by a `scale` fixed at one ω
+/// ([`analytic_scale`]): analytic in ω, and equal in size to
+/// [`evaluate`]'s mismatch where the scale was taken. A quasi-bound level
+/// decays so slowly that the product norm of [`evaluate`] changes by order
+/// one within |Im ω| of it (the solution from infinity nearly vanishes at
+/// the horizon there, for every ω within the level's width, with either
+/// phase), so Muller sees a step, not a zero, unless started closer than
+/// |Im ω|; this Wronskian is nearly linear over the spacing of the levels.
+fn analytic(bp: &BoundaryProblem, w: Complex64, p: &Params, scale: (f64, f64)) -> Result<(Complex64, usize), String> {
+    let m = matched(bp, w, p)?;
+    let ((y1, d1), (y2, d2)) = (m.left, m.right);
+    let v = (y1 * d2 - d1 * y2) / scale.0 * (m.log_right - scale.1).exp();
+    if !(v.re.is_finite() && v.im.is_finite()) {
+        return Err("the Wronskian normalised at the ends overflows at this ω".into());
+    }
+    Ok((v, m.steps))
+}
+
+/// The two end solutions at the matching point for ω.
+fn matched(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<Matched, String> {
     if !(w.re.is_finite() && w.im.is_finite()) {
         return Err("ω is not finite".into());
     }
@@ -155,6 +208,7 @@ fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64
     // centre) is ±1 everywhere and jumps at the eigenvalues instead of
     // passing through zero.
     let mut norm = Norm::Products;
+    let mut log_right = ZERO;
     let (yr, dyr) = match (right.location, right.nature) {
         (Location::At(b), _) => {
             let hr = integrate::horizon(&k, b)?;
@@ -193,10 +247,23 @@ fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64
             let far = Far::new(&k, mu, nu)?;
             let ray = integrate::recessive_ray(&far, &bp.zeros, zl)?;
             let d = dl.max(1.0);
-            integrate::from_infinity(&k, &Asymptote::Series(&far), &bp.zeros, zl, ray, (4.0 / (far.mu - far.mu2).norm()).max(d), zl, p, &mut steps)?
+            let (y, dy, zf) = integrate::from_infinity_started(
+                &k,
+                &Asymptote::Series(&far),
+                &bp.zeros,
+                zl,
+                ray,
+                (4.0 / (far.mu - far.mu2).norm()).max(d),
+                zl,
+                p,
+                &mut steps,
+            )?;
+            // ln(z_f) on the principal branch: the ray turns less than π from the real axis.
+            log_right = far.mu * zf + far.nu * zf.ln();
+            (y, dy)
         }
     };
-    Ok((integrate::normalised_wronskian((yl, dyl), (yr, dyr), norm)?, steps))
+    Ok(Matched { left: (yl, dyl), right: (yr, dyr), log_right, norm, steps })
 }
 
 /// The normalised mismatch at ω with the standard discretisation (zero at
@@ -213,19 +280,54 @@ pub fn mismatch(bp: &BoundaryProblem, w: Complex64) -> Option<Complex64> {
 /// the reason says how flat the mismatch is at the root, and so how far
 /// rounding alone can move it.
 pub fn find_root(bp: &BoundaryProblem, seed: Complex64, tol: f64) -> IntRoot {
-    let eval = |w: Complex64, p: &Params| evaluate(bp, w, p);
-    let near = integrate::find_root_by(&eval, seed, tol, integrate::MAX_ITER);
+    find_root_near(bp, seed, super::roots::SPREAD, tol)
+}
+
+/// [`find_root`] with Muller's first points ± `spread`·|seed| about the seed:
+/// below the spacing of the eigenvalues near it (levels crowding below a
+/// continuum edge), so that the search cannot be drawn to a neighbour.
+pub fn find_root_near(bp: &BoundaryProblem, seed: Complex64, spread: f64, tol: f64) -> IntRoot {
+    let products = |w: Complex64, p: &Params| evaluate(bp, w, p);
+    let quasi_bound = bp.ends[1].condition == Condition::Decaying && bp.kind != SpectrumKind::Bound;
+    let Some(scale) = quasi_bound.then(|| analytic_scale(bp, seed).ok()).flatten() else {
+        return search(&products, seed, spread, tol);
+    };
+    // Quasi-bound levels: first the Wronskian normalised at the ends,
+    // analytic in ω (see `analytic`), scaled at the seed; its size changes
+    // fast between levels (the normalisation at infinity), so from a seed
+    // far from a strongly damped level the product-normalised mismatch,
+    // smooth there, is tried as well.
+    let first = search(&|w: Complex64, p: &Params| analytic(bp, w, p, scale), seed, spread, tol);
+    if first.converged {
+        return first;
+    }
+    let second = search(&products, seed, spread, tol);
+    let iterations = first.iterations + second.iterations;
+    if second.converged {
+        let reason = format!("{} (on the product-normalised mismatch; on the Wronskian normalised at the ends: {})", second.reason, first.reason);
+        return IntRoot { reason, iterations, ..second };
+    }
+    let reason = format!("on the Wronskian normalised at the ends: {}; on the product-normalised mismatch: {}", first.reason, second.reason);
+    IntRoot { reason, iterations, ..first }
+}
+
+/// The two-pass search on one mismatch; when its passes disagree, again
+/// with the end series summed farther out, and otherwise the reason says
+/// how far rounding alone moves the root.
+fn search(eval: integrate::Evaluator, seed: Complex64, spread: f64, tol: f64) -> IntRoot {
+    let near = integrate::find_root_spread(eval, seed, spread, tol, integrate::MAX_ITER);
     if near.converged || !near.change.is_finite() {
         return near;
     }
     let named = "the two integrations with the series at the ends summed at 0.6 and 0.7 of their radii";
-    let far = integrate::find_root_passes(&eval, near.omega, tol, integrate::MAX_ITER, [&integrate::FAR_STANDARD, &integrate::FAR_REFINED], named);
+    let far =
+        integrate::find_root_passes(eval, near.omega, spread, tol, integrate::MAX_ITER, [&integrate::FAR_STANDARD, &integrate::FAR_REFINED], named);
     if far.converged {
         let reason = format!("{} (standard and refined integration, with the series summed nearer the ends, disagreed: {})", far.reason, near.reason);
         return IntRoot { reason, iterations: near.iterations + far.iterations, ..far };
     }
     let mut reason = format!("{}; again with the series at the ends summed farther out: {}", near.reason, far.reason);
-    if let Some(slope) = integrate::mismatch_slope(&eval, far.omega, &integrate::FAR_REFINED) {
+    if let Some(slope) = integrate::mismatch_slope(eval, far.omega, &integrate::FAR_REFINED) {
         // The mismatch carries rounding near 1e-15 (integrate's tolerance floor).
         let spread = 1e-15 / slope.max(f64::MIN_POSITIVE);
         if spread >= 0.1 * tol {
@@ -403,64 +505,57 @@ fn real_axis_roots(bp: &BoundaryProblem, want: usize, tol: f64) -> (Vec<(IntRoot
     (found, half)
 }
 
+/// The first three coefficients of C/A = Σ q_j z^(−j) at ∞ at real ω
+/// (A₀, A₁, A₂ of Q ≈ A₀ + A₁/z + A₂/z² there).
+fn at_infinity(bp: &BoundaryProblem, w: f64) -> Option<[Complex64; 3]> {
+    let k = Coeffs::at(&bp.ode, Complex64::new(w, 0.0)).ok()?;
+    let na = k.a.len() - 1;
+    let g = |v: &[Complex64], j: isize| if j >= 0 { v.get(j as usize).copied().unwrap_or(ZERO) } else { ZERO };
+    // C/A = Σ q_j z^(−j): long division from the top.
+    let an = k.a[na];
+    let mut q = [ZERO; 3];
+    let mut rem: Vec<Complex64> = (0..=na).map(|j| g(&k.c, j as isize)).collect();
+    for (j, qj) in q.iter_mut().enumerate() {
+        let top = na as isize - j as isize;
+        if top < 0 {
+            break;
+        }
+        *qj = rem[top as usize] / an;
+        for i in 0..=na {
+            let idx = i as isize - j as isize;
+            if idx >= 0 {
+                rem[idx as usize] -= *qj * g(&k.a, i as isize);
+            }
+        }
+    }
+    Some(q)
+}
+
+/// The continuum edge of a quasi-bound problem: the real ω > 0 where
+/// A₀(ω) of Q ≈ A₀ + … at ∞ vanishes, A₀ increasing in ω (A₀ = ω² − μ²);
+/// below it the branch at ∞ decays.
+pub fn continuum_edge(bp: &BoundaryProblem) -> Option<f64> {
+    let a0 = |w: f64| at_infinity(bp, w).map(|q| q[0].re);
+    if a0(0.0)? >= 0.0 {
+        return None;
+    }
+    super::roots::first_sign_change(&a0, bp.scale.max(1e-3))
+}
+
 /// Seeds for quasi-bound states at an irregular infinity from the
 /// hydrogen-like balance of Q ≈ A₀ + A₁/z + A₂/z² there:
 /// A₁/(2√(−A₀)) = n + ½ + √(¼ − A₂) (the Coulomb problem, common practice),
 /// solved for real ω by bisection on (0, ω_edge) where A₀(ω_edge) = 0.
 pub fn hydrogenic_seed(bp: &BoundaryProblem, n: u32) -> Option<Seed> {
-    let coef = |w: f64| -> Option<[Complex64; 3]> {
-        let k = Coeffs::at(&bp.ode, Complex64::new(w, 0.0)).ok()?;
-        let na = k.a.len() - 1;
-        let g = |v: &[Complex64], j: isize| if j >= 0 { v.get(j as usize).copied().unwrap_or(ZERO) } else { ZERO };
-        // C/A = Σ q_j z^(−j): long division from the top.
-        let an = k.a[na];
-        let mut q = [ZERO; 3];
-        let mut rem: Vec<Complex64> = (0..=na).map(|j| g(&k.c, j as isize)).collect();
-        for (j, qj) in q.iter_mut().enumerate() {
-            let top = na as isize - j as isize;
-            if top < 0 {
-                break;
-            }
-            *qj = rem[top as usize] / an;
-            for i in 0..=na {
-                let idx = i as isize - j as isize;
-                if idx >= 0 {
-                    rem[idx as usize] -= *qj * g(&k.a, i as isize);
-                }
-            }
-        }
-        Some(q)
-    };
     let f = |w: f64| -> Option<f64> {
-        let [a0, a1, a2] = coef(w)?;
+        let [a0, a1, a2] = at_infinity(bp, w)?;
         let kappa = (-a0).sqrt();
         if kappa.re <= 0.0 {
             return None;
         }
         Some((a1 / (2.0 * kappa)).re - (n as f64 + 0.5 + (0.25 - a2).sqrt().re))
     };
-    // The continuum edge: A₀(ω) = 0 with A₀ increasing in ω (A₀ = ω² − μ²).
-    let a0 = |w: f64| coef(w).map(|q| q[0].re);
-    let mut hi = bp.scale.max(1e-3);
-    for _ in 0..80 {
-        if a0(hi)? > 0.0 {
-            break;
-        }
-        hi *= 2.0;
-    }
-    if a0(hi)? <= 0.0 || a0(0.0)? >= 0.0 {
-        return None;
-    }
-    let mut lo = 0.0;
-    for _ in 0..100 {
-        let mid = 0.5 * (lo + hi);
-        if a0(mid)? > 0.0 {
-            hi = mid;
-        } else {
-            lo = mid;
-        }
-    }
-    let edge = lo;
+    let edge = continuum_edge(bp)?;
     // f → +∞ at the edge (κ → 0); find where it crosses zero below the edge.
     let (mut a, mut b) = (edge * 1e-3, edge * (1.0 - 1e-12));
     let (fa, fb) = (f(a)?, f(b)?);
@@ -539,14 +634,26 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
         }
         return out;
     }
+    if quasi_bound && (guess.is_some() || hydrogenic_seed(bp, lo).is_some()) {
+        // The levels crowd below the continuum edge: in order and each once
+        // (`levels::in_order`), from level 0, or from the guess as level `lo`.
+        let start = super::levels::Start { level: if guess.is_some() { lo } else { 0 }, guess };
+        let estimate = |n: u32| hydrogenic_seed(bp, n).map(|s| (s.omega, s.from));
+        let solve = |_: u32, w: Complex64, spread: f64| find_root_near(bp, w, spread, tol);
+        for (n, placed) in super::levels::in_order(start, hi, tol, continuum_edge(bp), &estimate, &solve) {
+            if n < lo {
+                continue;
+            }
+            out.push(match placed {
+                Ok((root, (omega, from))) => EndMode { n, root, seed: Seed { omega, from } },
+                Err(why) => unfound(n, why),
+            });
+        }
+        return out;
+    }
     if quasi_bound && guess.is_none() {
         for n in lo..=hi {
-            let Some(seed) = hydrogenic_seed(bp, n) else {
-                out.push(unfound(n, format!("no hydrogen-like estimate at infinity: give {opt_guess}", opt_guess = RequestInput::Guess.mention())));
-                continue;
-            };
-            let r = find_root(bp, seed.omega, tol);
-            out.push(EndMode { n, root: r, seed });
+            out.push(unfound(n, format!("no hydrogen-like estimate at infinity: give {opt_guess}", opt_guess = RequestInput::Guess.mention())));
         }
         return out;
     }

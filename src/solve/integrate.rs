@@ -111,12 +111,29 @@ pub(super) type Evaluator<'f> = &'f dyn Fn(Complex64, &Params) -> Result<(Comple
 /// The two-pass Muller search of [`find_root`] on any normalised mismatch
 /// (the quasinormal one here, the bound-state one of `shoot`).
 pub(super) fn find_root_by(eval: Evaluator, seed: Complex64, tol: f64, max_iter: usize) -> IntRoot {
-    find_root_passes(eval, seed, tol, max_iter, [&STANDARD, &REFINED], "standard and refined integration")
+    find_root_spread(eval, seed, super::roots::SPREAD, tol, max_iter)
 }
 
-/// The search of [`find_root_by`] with the discretisations of its two
-/// passes given (`named` names the pair in the reasons).
-pub(super) fn find_root_passes(eval: Evaluator, seed: Complex64, tol: f64, max_iter: usize, passes: [&Params; 2], named: &str) -> IntRoot {
+/// [`find_root_by`] with Muller's first points ± `spread`·|seed| about the seed.
+pub(super) fn find_root_spread(eval: Evaluator, seed: Complex64, spread: f64, tol: f64, max_iter: usize) -> IntRoot {
+    find_root_passes(eval, seed, spread, tol, max_iter, [&STANDARD, &REFINED], "standard and refined integration")
+}
+
+/// The search of [`find_root_by`] with Muller's first points ± `spread`·|seed|
+/// about the seed (and about the first pass's root in the second pass) and
+/// the discretisations of its two passes given (`named` names the pair in
+/// the reasons). Where roots lie closer together than `roots::SPREAD` (levels
+/// crowding below a continuum edge), a spread below their spacing keeps
+/// the quadratic model from straddling a neighbour.
+pub(super) fn find_root_passes(
+    eval: Evaluator,
+    seed: Complex64,
+    spread: f64,
+    tol: f64,
+    max_iter: usize,
+    passes: [&Params; 2],
+    named: &str,
+) -> IntRoot {
     let [first, second] = passes;
     let tol = if tol.is_finite() && tol > TOL_FLOOR { tol } else { TOL_FLOOR };
     let fail = |omega: Complex64, iterations: usize, change: f64, reason: String| {
@@ -127,14 +144,14 @@ pub(super) fn find_root_passes(eval: Evaluator, seed: Complex64, tol: f64, max_i
         IntRoot { omega, converged: false, residual, iterations, steps, change, reason }
     };
     let standard = |w: Complex64| eval(w, first).map(|e| e.0);
-    let (r1, it1, stop1) = muller(&standard, seed, tol, max_iter);
+    let (r1, it1, stop1) = super::roots::muller(&standard, seed, spread, tol, max_iter);
     if let Err(e) = stop1 {
         return fail(r1, it1, f64::NAN, e);
     }
     // The second pass changes every discretisation choice at once; the
     // root's movement bounds the integration error actually committed.
     let refined = |w: Complex64| eval(w, second).map(|e| e.0);
-    let (r2, it2, stop2) = muller(&refined, r1, tol, max_iter);
+    let (r2, it2, stop2) = super::roots::muller(&refined, r1, spread, tol, max_iter);
     if let Err(e) = stop2 {
         return fail(r2, it1 + it2, f64::NAN, format!("in the second pass of {named}: {e}"));
     }
@@ -809,12 +826,32 @@ pub(super) fn from_infinity(
     p: &Params,
     steps: &mut usize,
 ) -> Result<(Complex64, Complex64), String> {
+    from_infinity_started(k, asym, roots, z_m, ray, r0, z_ref, p, steps).map(|(y, dy, _)| (y, dy))
+}
+
+/// [`from_infinity`] with the far point z_f where it started: the solution
+/// there is the asymptotic series divided by its leading factor (for a
+/// rank-1 point, e^(μ z_f) z_f^ν), so that factor puts back the
+/// normalisation at infinity itself, the same at every ω.
+#[allow(clippy::too_many_arguments)]
+pub(super) fn from_infinity_started(
+    k: &Coeffs,
+    asym: &Asymptote,
+    roots: &[Complex64],
+    z_m: Complex64,
+    ray: Complex64,
+    r0: f64,
+    z_ref: Complex64,
+    p: &Params,
+    steps: &mut usize,
+) -> Result<(Complex64, Complex64, Complex64), String> {
     let mut r = r0;
     for _ in 0..120 {
         let zf = z_m + ray * r;
         let (y, dy, err) = asym.eval(zf);
         if err <= 1e-6 && err.ln() + asym.damping(zf, z_ref) <= p.far_target.ln() {
-            return continue_along(k, roots, zf, z_m, y, dy, p, p.phase_step / asym.gap(zf), steps);
+            let (y, dy) = continue_along(k, roots, zf, z_m, y, dy, p, p.phase_step / asym.gap(zf), steps)?;
+            return Ok((y, dy, zf));
         }
         r *= 1.25;
     }
@@ -926,13 +963,6 @@ fn optimal_cut(terms: &[Complex64], range: std::ops::Range<usize>, w: usize) -> 
         }
     }
     (cut, err)
-}
-
-/// A mismatch function as the root finder sees it: a value or the reason there is none.
-type Mismatch<'f> = &'f dyn Fn(Complex64) -> Result<Complex64, String>;
-
-fn muller(f: Mismatch, seed: Complex64, tol: f64, max_iter: usize) -> (Complex64, usize, Result<(), String>) {
-    super::roots::muller(f, seed, 1e-3, tol, max_iter)
 }
 
 #[cfg(test)]

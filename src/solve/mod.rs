@@ -14,6 +14,7 @@ pub mod continuation;
 pub mod ends;
 pub mod global;
 pub mod integrate;
+pub mod levels;
 pub mod mobius;
 pub mod modefn;
 pub mod periodic;

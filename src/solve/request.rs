@@ -273,6 +273,10 @@ pub struct RecurrenceReport {
     pub modes: Vec<Mode>,
     /// The second method (direct integration) per mode, where it ran.
     pub checks: Vec<Option<IntRoot>>,
+    /// Per mode, the relative distance from the value at which its check
+    /// started where that is not the standard `spectrum::CHECK_OFFSET`
+    /// (quasi-bound levels: `levels::check_offsets`); `None` for the standard.
+    pub check_from: Vec<Option<f64>>,
     /// The WKB estimate per mode (shown beside the result; used as a seed only in the lower half-plane).
     pub wkb: Vec<Option<Complex64>>,
     /// The WKB order of those estimates.
@@ -1890,8 +1894,13 @@ fn recurrence_route(
         }
         estimates.as_ref().and_then(|e| e(n)).and_then(|b| b.series.seed())
     };
+    // Quasi-bound levels crowd below the continuum edge: each one's check
+    // starts at an offset scaled to the distance to its nearest neighbour.
+    let mut offsets: Option<Vec<f64>> = None;
     let (mut modes, setup) = if quasi_bound {
-        super::spectrum::quasi_bound_levels(&rec, setup0.clone(), opts, &estimate)?
+        let levels = super::levels::quasi_bound_levels(&rec, setup0.clone(), opts, &estimate)?;
+        offsets = Some(levels.check_offsets);
+        (levels.modes, levels.setup)
     } else if opts.overtones.0 > 0 && opts.guess.is_none() && opts.seeds.is_empty() {
         // The overtone number is a count from the fundamental: without a
         // guess the ladder climbs from overtone 0 (a first estimate of a high
@@ -1906,20 +1915,23 @@ fn recurrence_route(
     let mut notes = super::spectrum::settle_special(&rec, &setup, opts, &mut modes)?;
     notes.extend(super::spectrum::degenerate_notes(&rec, &setup, opts, &modes));
     // The independent check: direct integration, seeded 1e-4 away from the
-    // continued-fraction root (or, with Method::Integrate, from the seed);
-    // with an adjoined rate, between the ends of the boundary problem (the
-    // branch at infinity chosen at each trial ω by the same condition).
-    let integ: Option<Box<dyn Fn(Complex64) -> IntRoot + '_>> = match (&setup.rate, bp) {
-        (Some(_), Some(bp)) => Some(Box::new(move |w| super::ends::find_root(bp, w, opts.tol))),
+    // continued-fraction root (quasi-bound levels: nearer, see
+    // `levels::check_offsets`; with Method::Integrate, from the seed); with an
+    // adjoined rate, between the ends of the boundary problem (the branch at
+    // infinity chosen at each trial ω by the same condition). The closure
+    // takes the seed and the root finder's first relative spread.
+    type Check<'a> = Box<dyn Fn(Complex64, f64) -> IntRoot + 'a>;
+    let integ: Option<Check<'_>> = match (&setup.rate, bp) {
+        (Some(_), Some(bp)) => Some(Box::new(move |w, spread| super::ends::find_root_near(bp, w, spread, opts.tol))),
         (Some(_), None) => None,
-        (None, _) => super::spectrum::integration_check(red, opts, &setup).ok().map(|f| Box::new(f) as Box<dyn Fn(Complex64) -> IntRoot + '_>),
+        (None, _) => super::spectrum::integration_check(red, opts, &setup).ok().map(|f| Box::new(move |w, _| f(w)) as Check<'_>),
     };
-    let seed = |w: Complex64| if quasi_bound { w * Complex64::new(1.0 + 1e-7, 0.0) } else { super::spectrum::check_seed(w) };
+    let offset = |i: usize| offsets.as_ref().and_then(|o| o.get(i).copied());
     let mut checks: Vec<Option<IntRoot>> = Vec::new();
-    for m in modes.iter_mut() {
+    for (i, m) in modes.iter_mut().enumerate() {
         let check = match &integ {
             Some(f) if m.method == ModeMethod::ContinuedFraction && req.method == Method::Integrate => {
-                let r = f(m.seed.0);
+                let r = f(m.seed.0, offset(i).unwrap_or(super::roots::SPREAD));
                 m.root.omega = r.omega;
                 m.root.converged = r.converged;
                 m.root.residual = r.residual;
@@ -1932,9 +1944,10 @@ fn recurrence_route(
                 m.method = ModeMethod::Integrate;
                 None
             }
-            // Quasi-bound levels crowd below the continuum edge (spacing ~ (Mμ)²/n³ of ω, Im ω far
-            // smaller): their check starts much nearer the root.
-            Some(f) if m.method == ModeMethod::ContinuedFraction && m.root.converged => Some(f(seed(m.root.omega))),
+            Some(f) if m.method == ModeMethod::ContinuedFraction && m.root.converged => Some(match offset(i) {
+                Some(o) => super::levels::check_level(m.root.omega, o, &|w, spread| f(w, spread)),
+                None => f(super::spectrum::check_seed(m.root.omega), super::roots::SPREAD),
+            }),
             _ => None,
         };
         checks.push(check);
@@ -1980,7 +1993,15 @@ fn recurrence_route(
         }
         (None, _, _) => None,
     };
-    Ok((Body::Recurrence(RecurrenceReport { setup, modes, checks, wkb, wkb_order: req.wkb_order, coupled: None, notes }), functions))
+    if quasi_bound {
+        for (m, c) in modes.iter().zip(&checks) {
+            if let (true, Some(c)) = (m.root.converged, c) {
+                notes.extend(super::levels::im_resolution_note(m.n, m.root.omega, c));
+            }
+        }
+    }
+    let check_from = (0..modes.len()).map(offset).collect();
+    Ok((Body::Recurrence(RecurrenceReport { setup, modes, checks, check_from, wkb, wkb_order: req.wkb_order, coupled: None, notes }), functions))
 }
 
 /// Bound states by collocation on the interval between the real singular
@@ -2096,6 +2117,7 @@ fn coupled(red: &Reduction, req: &SpectrumRequest, c: &CoupleRequest, opts: &Spe
         setup,
         modes: found.iter().map(|c| c.mode.clone()).collect(),
         checks: found.iter().map(|c| c.check.clone()).collect(),
+        check_from: found.iter().map(|_| None).collect(),
         wkb: found.iter().map(|_| None).collect(),
         wkb_order: req.wkb_order,
         coupled: Some(CoupledReport {

@@ -13,6 +13,11 @@ fn finite(z: Complex64) -> bool {
 
 /// Muller's method from `seed` (start points ± `spread`·|seed|) to relative
 /// tolerance `tol`; returns the last iterate, the iterations used, and Ok or
+/// The relative spread of Muller's first three points about a seed
+/// (± 1e-3 |seed|) in the root finders built on [`muller`], unless a caller
+/// knows the roots lie closer together (levels below a continuum edge).
+pub const SPREAD: f64 = 1e-3;
+
 /// Below this magnitude the root finders' relative tolerance becomes
 /// absolute (tol × 1e-3), so that a root at zero (a zero eigenvalue) can
 /// converge.
@@ -96,17 +101,32 @@ pub fn root_between<R>(
     solve: &dyn Fn(Complex64) -> Option<(Complex64, R)>,
     known: &dyn Fn(Complex64) -> bool,
 ) -> Option<(Complex64, Complex64, R)> {
+    root_between_by(prev, root, &|w| -w.im, solve, known)
+}
+
+/// [`root_between`] for modes numbered by any real `order` of ω that grows
+/// from `prev` to `root` (−Im ω for overtones, Re ω for quasi-bound levels
+/// below a continuum edge): a root strictly between the two in that order
+/// (by more than 1e-6 of their gap), in the right half-plane and not
+/// `known`, replaces `root`, at most [`BETWEEN_TRIES`] times.
+pub fn root_between_by<R>(
+    prev: Complex64,
+    root: Complex64,
+    order: &dyn Fn(Complex64) -> f64,
+    solve: &dyn Fn(Complex64) -> Option<(Complex64, R)>,
+    known: &dyn Fn(Complex64) -> bool,
+) -> Option<(Complex64, Complex64, R)> {
     let mut current = root;
     let mut found = None;
     for _ in 0..BETWEEN_TRIES {
-        let gap = prev.im - current.im;
+        let gap = order(current) - order(prev);
         if !(gap > 0.0) {
             break;
         }
         let mid = 0.5 * (prev + current);
         let Some((w, r)) = solve(mid) else { break };
         let margin = 1e-6 * gap;
-        let between = w.im < prev.im - margin && w.im > current.im + margin && w.re >= 0.0;
+        let between = order(w) > order(prev) + margin && order(w) < order(current) - margin && w.re >= 0.0;
         if !between || known(w) {
             break;
         }
@@ -114,4 +134,37 @@ pub fn root_between<R>(
         found = Some((mid, w, r));
     }
     found
+}
+
+/// Where a real function `f`, of one sign at 0, first changes sign above 0:
+/// found by doubling from `start` (at most 80 times) until the sign differs,
+/// then by 100 bisections. `None` when `f` cannot be evaluated, is zero at
+/// 0, or keeps its sign. A continuum edge (χ² = μ² − ω² = 0, the coefficient
+/// A₀(ω) = 0 at an irregular infinity) is found so; for a function with
+/// several sign changes, the one found is the first the doubling passes.
+pub fn first_sign_change(f: &dyn Fn(f64) -> Option<f64>, start: f64) -> Option<f64> {
+    // Positive or not (a NaN is no value).
+    let side = |x: f64| f(x).filter(|v| !v.is_nan()).map(|v| v > 0.0);
+    let v0 = f(0.0).filter(|v| *v != 0.0 && !v.is_nan())?;
+    let s0 = v0 > 0.0;
+    let mut hi = start;
+    for _ in 0..80 {
+        if side(hi)? != s0 {
+            break;
+        }
+        hi *= 2.0;
+    }
+    if side(hi)? == s0 {
+        return None;
+    }
+    let mut lo = 0.0;
+    for _ in 0..100 {
+        let mid = 0.5 * (lo + hi);
+        if side(mid)? == s0 {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    Some(lo)
 }

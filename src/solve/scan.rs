@@ -688,14 +688,16 @@ fn quasi_bound_at(r: &Reduction, rec: &Recurrence, setup: Setup, opts: &Spectrum
     // itself: a neighbour's values are poorer seeds than each point's own
     // hydrogen-like estimates, which are used at every point.
     let own = SpectrumOptions { seeds: Vec::new(), guess: if opts.seeds.is_empty() { opts.guess } else { None }, ..opts.clone() };
-    let (modes, _) = super::spectrum::quasi_bound_levels(rec, setup, &own, &estimate)?;
-    Ok(modes
+    let levels = super::levels::quasi_bound_levels(rec, setup, &own, &estimate)?;
+    Ok(levels
+        .modes
         .into_iter()
-        .map(|m| {
+        .zip(levels.check_offsets)
+        .map(|(m, offset)| {
             let c = match (check, m.root.converged) {
                 (true, true) => {
-                    // Levels crowd below the continuum edge: the check starts much nearer the root.
-                    let c = super::ends::find_root(&bp, m.root.omega * Complex64::new(1.0 + 1e-7, 0.0), opts.tol);
+                    // Levels crowd below the continuum edge: the check starts nearer than the spacing.
+                    let c = super::levels::check_level(m.root.omega, offset, &|w, spread| super::ends::find_root_near(&bp, w, spread, opts.tol));
                     c.converged.then_some(c.omega)
                 }
                 _ => None,

@@ -442,32 +442,16 @@ pub fn qnm_modes_from(
         return Ok((modes, setup));
     }
     if rec.coeffs.len() < 3 {
-        return Err(usage(format!("the recurrence about {} has {} terms: no continued fraction", setup.horizon, rec.coeffs.len())));
+        return Err(too_few_terms(rec, &setup));
     }
     let (modes, _) = cf_ladder(rec, &setup, opts, first_estimate, &|_, _| false)?;
     Ok((modes, setup))
 }
 
-/// Quasi-bound levels by the continued fraction on the decaying branch
-/// (`setup` made [`Setup::decaying`]): with seeds (continued from a
-/// neighbour) or a guess, the ladder as for any overtone; otherwise each
-/// level from its own estimate `first_estimate(n)` (the levels crowd below
-/// the continuum edge, where extrapolation from two levels overshoots).
-pub fn quasi_bound_levels(
-    rec: &crate::series::Recurrence,
-    setup: Setup,
-    opts: &SpectrumOptions,
-    first_estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
-) -> Result<(Vec<Mode>, Setup)> {
-    if opts.guess.is_some() || !opts.seeds.is_empty() {
-        return qnm_modes_from(rec, setup, opts, first_estimate);
-    }
-    let mut all = Vec::new();
-    for n in opts.overtones.0..=opts.overtones.1 {
-        let one = SpectrumOptions { overtones: (n, n), ..opts.clone() };
-        all.extend(qnm_modes_from(rec, setup.clone(), &one, first_estimate)?.0);
-    }
-    Ok((all, setup))
+/// The error of a recurrence of fewer than three terms where a continued
+/// fraction is needed.
+pub(super) fn too_few_terms(rec: &crate::series::Recurrence, setup: &Setup) -> Error {
+    usage(format!("the recurrence about {} has {} terms: no continued fraction", setup.horizon, rec.coeffs.len()))
 }
 
 /// The overtone ladder of [`overtones`] on the continued fraction of a
@@ -482,17 +466,27 @@ pub fn cf_ladder(
     beyond: &dyn Fn(&[Mode], Complex64) -> bool,
 ) -> Result<(Vec<Mode>, LadderEnd)> {
     if rec.coeffs.len() < 3 {
-        return Err(usage(format!("the recurrence about {} has {} terms: no continued fraction", setup.horizon, rec.coeffs.len())));
+        return Err(too_few_terms(rec, setup));
     }
     let num = numeric_recurrence(rec, setup, opts)?;
     ladder(opts, first_estimate, &|n, seed| find_root(&num, n as usize, seed, opts.tol, 64, 1 << 17), beyond)
 }
 
 /// Where the check by direct integration of a continued-fraction root
-/// starts: 1e-4 away from it (relative, in both parts), so that the check
-/// finds the root on its own rather than being handed it.
+/// starts: [`CHECK_OFFSET`] away from it (relative, in both parts), so that
+/// the check finds the root on its own rather than being handed it.
 pub fn check_seed(w: Complex64) -> Complex64 {
-    w * Complex64::new(1.0 + 1e-4, 1e-4)
+    check_seed_at(w, CHECK_OFFSET)
+}
+
+/// The relative offset of [`check_seed`].
+pub const CHECK_OFFSET: f64 = 1e-4;
+
+/// A check's start `offset` away from `w` (relative, in both parts):
+/// w (1 + offset + i offset). Quasi-bound levels crowd closer than
+/// [`CHECK_OFFSET`], and their checks start nearer (`levels::check_offsets`).
+pub fn check_seed_at(w: Complex64, offset: f64) -> Complex64 {
+    w * Complex64::new(1.0 + offset, offset)
 }
 
 /// The tolerance of the check by direct integration for a requested
