@@ -1013,6 +1013,25 @@ fn schwarzschild_de_sitter_with_a_rational_horizon_and_a_second_family() {
     assert!((value - de_sitter).abs() < 2e-3 * de_sitter.abs(), "{value} against {de_sitter}");
 }
 
+#[test]
+fn black_brane_modes_between_the_boundary_and_the_horizon() {
+    // The domain runs from the anti-de Sitter boundary u = 0 (normalisable)
+    // up to the horizon u = 1 (ingoing): the numeric series between the
+    // ends, checked by direct integration to 8 digits or better. At q = 0:
+    // w = 1.5597 − 1.3733i, 2.5848 − 2.3818i, 3.5940 − 3.3848i (Kovtun &
+    // Starinets 2005, massless scalar, from memory).
+    let (v, ms) = modes_of("tests/boundary/black_brane_scalar.ode", "q=0", &["--overtones", "0..2"]);
+    assert_eq!(v["ends"][0]["condition"], "normalisable", "{v}");
+    assert_eq!(v["ends"][1]["condition"], "into", "{v}");
+    let want = [(1.5597, -1.3733), (2.5848, -2.3818), (3.5940, -3.3848)];
+    for (m, w) in ms.iter().zip(want) {
+        assert_eq!(m["method"], "cf", "{m}");
+        assert!(m["check"]["agreement"].as_f64().unwrap() < 1e-8, "{m}");
+        let (re, im) = omega(m);
+        assert!((re - w.0).abs() < 1e-4 && (im - w.1).abs() < 1e-4, "{re} {im} against {w:?}");
+    }
+}
+
 /// Γ(x) for real x not a pole: the Lanczos approximation (g = 7, nine
 /// terms, common practice) with the reflection Γ(x)Γ(1 − x) = π/sin(πx)
 /// below 1/2; about 15 digits.

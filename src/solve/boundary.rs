@@ -558,7 +558,7 @@ fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &
     } else {
         // The outermost horizon is cosmological: the domain lies inside it.
         let Some(inner) = inner else { return Err(Error::new(ErrorKind::Internal, "no inner end")) };
-        notes.push("the potential is negative beyond the outermost horizon: it is a cosmological horizon, and the domain lies inside it".to_string());
+        notes.push("the potential is negative beyond the outermost horizon: the static region, the domain, lies inside it (a cosmological horizon, or a black hole's in an inverted radial variable such as u = r₊²/r²)".to_string());
         Ok([at(inner), FoundEnd { nature: Nature::Horizon, ..at(outer) }])
     }
 }

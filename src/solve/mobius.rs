@@ -224,12 +224,22 @@ pub fn series(bp: &BoundaryProblem, var: &str) -> Result<MobiusSeries> {
         Pole::At(p) => format!("{var} = {}", text(p)),
         Pole::Infinity => format!("{var} = ∞"),
     };
+    // x − p in words: "x" for p = 0, "x + 1" for p = −1.
+    let diff = |x: &str, p: Complex64| -> String {
+        let t = text(p);
+        match t.strip_prefix('-') {
+            _ if t == "0" => x.to_string(),
+            Some(rest) => format!("{x} + {rest}"),
+            None => format!("{x} − {t}"),
+        }
+    };
     let map_text = match (bp.ends[1].location, pole) {
         (Location::At(b), Pole::At(p)) => {
-            format!("u = ({var} − {})({} − {})/(({var} − {})({} − {}))", text(cx(z0)), text(cx(b)), text(p), text(p), text(cx(b)), text(cx(z0)))
+            let bt = text(cx(b));
+            format!("u = ({})({})/(({})({}))", diff(var, cx(z0)), diff(&bt, p), diff(var, p), diff(&bt, cx(z0)))
         }
-        (Location::At(b), Pole::Infinity) => format!("u = ({var} − {})/({} − {})", text(cx(z0)), text(cx(b)), text(cx(z0))),
-        (Location::Infinity, Pole::At(p)) => format!("u = ({var} − {})/({var} − {})", text(cx(z0)), text(p)),
+        (Location::At(b), Pole::Infinity) => format!("u = ({})/({})", diff(var, cx(z0)), diff(&text(cx(b)), cx(z0))),
+        (Location::Infinity, Pole::At(p)) => format!("u = ({})/({})", diff(var, cx(z0)), diff(var, p)),
         (Location::Infinity, Pole::Infinity) => String::new(),
     };
     let limit = match nearest {

@@ -1158,7 +1158,9 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
         // boundary at infinity (anti-de Sitter) or a second horizon
         // (de Sitter): the numeric series between the ends does.
         let bp = problem?;
-        let why = if bp.ends[1].location == Location::Infinity {
+        let why = if bp.ends[0].nature != super::boundary::Nature::Horizon {
+            "the exact recurrence is derived about a horizon with the domain beyond it, and here the domain ends at its horizon from below"
+        } else if bp.ends[1].location == Location::Infinity {
             "the exact recurrence is not derived for a regular boundary at infinity"
         } else {
             "the exact recurrence about one horizon does not impose the condition at a second one"
@@ -1351,15 +1353,22 @@ fn rated_ends(bp: &BoundaryProblem) -> bool {
     bp.ends[0].nature == Nature::Horizon && bp.ends[1].location == Location::Infinity && bp.ends[1].nature == Nature::IrregularRank1
 }
 
-/// True for a horizon on the left and a right end that the exact
-/// recurrence about a horizon does not take: a regular boundary at infinity
-/// (an anti-de Sitter black hole) or a second horizon at a finite place (a
-/// black-hole and a cosmological horizon, de Sitter). The numeric series
-/// between the ends (a Möbius variable sending one end to 0, the other to
-/// 1) takes them.
+/// True for ends that the exact recurrence about a horizon does not take
+/// and the numeric series between the ends (a Möbius variable sending one
+/// end to 0, the other to 1) does: a horizon on the left and a regular
+/// boundary at infinity (an anti-de Sitter black hole) or a second horizon
+/// (a black-hole and a cosmological horizon, de Sitter); or a regular
+/// boundary on the left and a horizon on the right (a black brane in
+/// u = r₊²/r², its boundary at u = 0).
 pub(crate) fn horizon_to_series_end(bp: &BoundaryProblem) -> bool {
     use super::boundary::Nature;
-    bp.ends[0].nature == Nature::Horizon && !(bp.ends[1].location == Location::Infinity && bp.ends[1].nature != Nature::Regular)
+    let [left, right] = &bp.ends;
+    let irregular_right = right.location == Location::Infinity && right.nature == Nature::IrregularRank1;
+    match left.nature {
+        Nature::Horizon => !irregular_right,
+        Nature::Regular => right.nature == Nature::Horizon && matches!(right.location, Location::At(_)),
+        Nature::IrregularRank1 => false,
+    }
 }
 
 /// The boundary problem of a (substituted) reduction, and whether the exact
