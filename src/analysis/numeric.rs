@@ -121,6 +121,10 @@ pub fn try_roots(c: &[Complex64]) -> Result<Vec<Complex64>, RootsStop> {
     if lead.norm() == 0.0 {
         return Err(RootsStop::ZeroLeading);
     }
+    if n == 1 {
+        // A line: its root directly (no companion matrix).
+        return Ok(vec![-c[0] / lead]);
+    }
     let mut m = DMatrix::<Complex64>::zeros(n, n);
     for i in 1..n {
         m[(i, i - 1)] = Complex64::new(1.0, 0.0);

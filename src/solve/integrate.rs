@@ -494,6 +494,8 @@ impl Far {
             zp.push(prev * zi);
         }
         let mut terms = vec![ONE];
+        // |t_k|, each taken once (the window below reads them again and again).
+        let mut sizes = vec![1.0f64];
         let mut sum = ONE;
         let mut best = 1.0f64;
         for m in 1..600usize {
@@ -514,18 +516,20 @@ impl Far {
                 break;
             }
             terms.push(tm);
+            let size = tm.norm();
+            sizes.push(size);
             sum += tm;
             // The smallest term is judged by windows of `span` terms, as the
             // cut below is: a term that nearly vanishes by accident at this ω
             // (a factor of the recursion passing through zero) is not the
             // turn of the series, and stopping there would leave the
             // truncation error of the terms after it unseen.
-            let window = terms[terms.len().saturating_sub(span)..].iter().map(|x| x.norm()).fold(0.0, f64::max);
+            let window = sizes[sizes.len().saturating_sub(span)..].iter().copied().fold(0.0, f64::max);
             best = best.min(window);
             // Converged outright (a whole window negligible: one zero term
             // of a recursion of several terms is not the end of the series),
             // or clearly past the smallest term.
-            if window <= TERM_EPS * sum.norm() || tm.norm() > 1e3 * best {
+            if window <= TERM_EPS * sum.norm() || size > 1e3 * best {
                 break;
             }
         }
@@ -955,8 +959,9 @@ fn optimal_cut(terms: &[Complex64], range: std::ops::Range<usize>, w: usize) -> 
     let w = w.clamp(1, terms.len().max(1));
     let mut cut = terms.len() - 1;
     let mut err = f64::INFINITY;
+    let sizes: Vec<f64> = terms.iter().map(|x| x.norm()).collect();
     for i in range {
-        let hi = terms[i..(i + w).min(terms.len())].iter().map(|x| x.norm()).fold(0.0, f64::max);
+        let hi = sizes[i..(i + w).min(sizes.len())].iter().copied().fold(0.0, f64::max);
         if hi < err {
             err = hi;
             cut = i;

@@ -241,14 +241,17 @@ fn ladder_run(
     let inside: Vec<Mode> = modes.iter().filter(|m| in_window(m)).cloned().collect();
     notes.extend(super::spectrum::degenerate_notes(&rec, &setup, &opts, &inside));
     let degenerate = match super::cf::try_numeric(&rec, &super::spectrum::recurrence_values(&setup, &opts), opts.freq) {
-        Ok(num) => inside
-            .iter()
-            .filter(|m| !m.root.converged)
-            .filter_map(|m| {
-                let near = super::spectrum::degenerate_points_near(&num, m.seed.0, 0.1 * m.seed.0.im.abs().max(1e-3), 4096);
-                near.first().map(|p| (m.n, p.omega))
-            })
-            .collect(),
+        Ok(num) => {
+            let all = super::spectrum::degenerate_points(&num, 4096);
+            inside
+                .iter()
+                .filter(|m| !m.root.converged)
+                .filter_map(|m| {
+                    let near = super::spectrum::nearest_of(&all, m.seed.0, 0.1 * m.seed.0.im.abs().max(1e-3));
+                    near.first().map(|p| (m.n, p.omega))
+                })
+                .collect()
+        }
         Err(_) => Vec::new(),
     };
     Ok(LadderRun { modes, checks, end, spectral, seeds, notes, degenerate })

@@ -954,15 +954,24 @@ pub struct DegeneratePoint {
 /// The degenerate points of the recurrence (roots in ω of c₀(k; ω) for
 /// k = 0, 1, …, `kmax`) within `radius` of `w`, nearest first.
 pub fn degenerate_points_near(num: &super::cf::NumRecurrence, w: Complex64, radius: f64, kmax: u32) -> Vec<DegeneratePoint> {
+    nearest_of(&degenerate_points(num, kmax), w, radius)
+}
+
+/// Every degenerate point of the recurrence for k = 0, 1, …, `kmax` (the
+/// roots in ω of c₀(k; ω)), for [`nearest_of`] to search around several
+/// frequencies without solving again.
+pub fn degenerate_points(num: &super::cf::NumRecurrence, kmax: u32) -> Vec<DegeneratePoint> {
     let mut out: Vec<DegeneratePoint> = Vec::new();
     for k in 0..=kmax {
         let coeffs = num.terms[0].at_n(f64::from(k));
-        for r in crate::analysis::numeric::try_roots(&coeffs).unwrap_or_default() {
-            if (r - w).norm() <= radius {
-                out.push(DegeneratePoint { omega: r, k });
-            }
-        }
+        out.extend(crate::analysis::numeric::try_roots(&coeffs).unwrap_or_default().into_iter().map(|r| DegeneratePoint { omega: r, k }));
     }
+    out
+}
+
+/// The points of `all` within `radius` of `w`, nearest first.
+pub fn nearest_of(all: &[DegeneratePoint], w: Complex64, radius: f64) -> Vec<DegeneratePoint> {
+    let mut out: Vec<DegeneratePoint> = all.iter().filter(|p| (p.omega - w).norm() <= radius).cloned().collect();
     out.sort_by(|a, b| (a.omega - w).norm().partial_cmp(&(b.omega - w).norm()).unwrap_or(std::cmp::Ordering::Equal));
     out
 }
@@ -1109,11 +1118,12 @@ pub fn degenerate_notes(rec: &crate::series::Recurrence, setup: &Setup, opts: &S
         return Vec::new();
     }
     let mut notes = Vec::new();
+    // The index k runs as far as the series could reach within the depths
+    // the continued fraction uses (bounded); solved once for every mode.
+    let all = degenerate_points(&num, 4096);
     for m in modes.iter().filter(|m| m.method == ModeMethod::ContinuedFraction) {
         let (at, radius) = if m.root.converged { (m.root.omega, 1e-3 * m.root.omega.norm()) } else { (m.seed.0, 0.1 * m.seed.0.im.abs().max(1e-3)) };
-        // The index k runs as far as the series could reach within the
-        // depths the continued fraction uses (bounded).
-        let Some(p) = degenerate_points_near(&num, at, radius, 4096).into_iter().next() else { continue };
+        let Some(p) = nearest_of(&all, at, radius).into_iter().next() else { continue };
         let status = if m.root.converged { "converged within 1e-3 of" } else { "was sought next to" };
         notes.push(format!(
             "overtone {} {status} ω = {:.6}{:+.6}i, where the recurrence's leading coefficient vanishes at k = {} (the exponents of the ansatz at the expansion point {} differ by the integer {} there): the continued fraction is singular at that point and the series solution can change its character (a logarithm, or a solution starting at a_{}); a mode at or next to it is a special case the methods here do not settle — treat it with care (for the Regge–Wheeler and Zerilli equations the algebraically special frequency is such a point; Maassen van den Brink 2000)",
