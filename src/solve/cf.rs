@@ -384,6 +384,13 @@ impl CfRoot {
     pub fn failed(seed: Complex64, k: usize, stop: StopReason) -> CfRoot {
         CfRoot { omega: seed, converged: false, depth: 0, depth_change: f64::NAN, residual: f64::NAN, iterations: 0, stop, inversion: k }
     }
+
+    /// A converged root at `w` with nominal evidence, for tests of what is
+    /// built on root finders.
+    #[cfg(test)]
+    pub(crate) fn at(w: Complex64) -> CfRoot {
+        CfRoot { omega: w, converged: true, depth: 64, depth_change: 0.0, residual: 0.0, iterations: 1, stop: StopReason::Converged, inversion: 0 }
+    }
 }
 
 /// The k-th inversion of the continued fraction at ω with truncation depth

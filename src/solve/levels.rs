@@ -376,16 +376,7 @@ mod tests {
         let k = (0..40u32).min_by(|a, b| (level(*a).re - seed.re).abs().total_cmp(&(level(*b).re - seed.re).abs())).unwrap();
         let spacing = if k == 0 { 1.0 } else { level(k).re - level(k - 1).re };
         let k = if spread * seed.norm() > spacing && k > 0 { k - 1 } else { k };
-        CfRoot {
-            omega: level(k),
-            converged: true,
-            depth: 64,
-            depth_change: 0.0,
-            residual: 0.0,
-            iterations: 1,
-            stop: StopReason::Converged,
-            inversion: 0,
-        }
+        CfRoot::at(level(k))
     }
 
     #[test]

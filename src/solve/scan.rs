@@ -884,16 +884,7 @@ mod tests {
     use crate::solve::cf::{CfRoot, StopReason};
 
     fn mode(w: Complex64) -> (Mode, Option<Complex64>) {
-        let root = CfRoot {
-            omega: w,
-            converged: true,
-            depth: 64,
-            depth_change: 0.0,
-            residual: 0.0,
-            iterations: 1,
-            stop: StopReason::Converged,
-            inversion: 0,
-        };
+        let root = CfRoot::at(w);
         (Mode { n: 0, root, seed: (w, "test".into()), method: crate::solve::spectrum::ModeMethod::ContinuedFraction }, None)
     }
 

@@ -1165,7 +1165,7 @@ mod tests {
     }
 
     fn root(w: Complex64) -> CfRoot {
-        CfRoot { omega: w, converged: true, depth: 64, depth_change: 0.0, residual: 0.0, iterations: 1, stop: StopReason::Converged, inversion: 0 }
+        CfRoot::at(w)
     }
 
     #[test]
