@@ -636,6 +636,10 @@ pub fn try_spectral(bp: &BoundaryProblem, n: usize, tol: f64, sigma: Complex64, 
     let coarse = grid_eigenvalues(&r, n, sigma)?;
     let fine = grid_eigenvalues(&r, n2, sigma)?;
     let mut values = persisting(&coarse, &fine, tol, bp.scale);
+    // Shift and invert maps a nearly singular A − σB to eigenvalues at σ
+    // itself on every grid: they persist, but they are the shift, not the
+    // problem's (seen on Schwarzschild–de Sitter, where σ lay near a mode).
+    values.retain(|v| (v.omega - sigma).norm() > 1e-7 * sigma.norm().max(bp.scale));
     values.sort_by(|p, q| overtone_order(p.omega, q.omega, bp.scale));
     let degree = r.c.iter().map(|p| p.deg_w()).max().unwrap_or(0);
     Ok(Spectral { dropped: fine.len() - values.len(), values, grids: (n, n2), degree, tol, factors: f })
