@@ -6,7 +6,7 @@
 use super::numbers::{fmt_complex, pi_multiple};
 use crate::algebra::print::Style;
 use crate::error::RequestInput;
-use crate::solve::boundary::{location_text, End, Location};
+use crate::solve::boundary::{location_text, Condition, End, Location};
 use crate::solve::closed::ClosedForm;
 use crate::solve::periodic::{Floquet, PeriodicMode};
 use crate::solve::physical::{ChangeReport, WrittenPlace};
@@ -835,7 +835,16 @@ fn ends_csv(b: &EndsReport) -> String {
 fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
     let end_text = |e: &End| format!("{} = {} ({}); condition: {}", var, location_text(e.location), e.found, e.condition.words());
     let mut o = String::new();
+    // No end lets the wave out (each a regular end with a fall-off, a
+    // centre or a mirror): the modes of a cavity, real.
+    let closed = b.problem.ends.iter().all(|e| match e.condition {
+        Condition::Normalisable | Condition::SlowerFallOff | Condition::Mixed(_) => true,
+        Condition::IntoHorizon | Condition::OutOfHorizon | Condition::Outgoing | Condition::Decaying => false,
+    });
     match b.spectrum {
+        Problem::Quasinormal if closed => {
+            o.push_str(&format!("normal modes of {source} ({fname}), time dependence e^(-i*{fname}*t) (no end lets the wave out)\n"))
+        }
         Problem::Quasinormal => o.push_str(&format!("quasinormal modes of {source} ({fname}), time dependence e^(-i*{fname}*t)\n")),
         Problem::QuasiBound => o.push_str(&format!("quasi-bound states of {source} ({fname}), time dependence e^(-i*{fname}*t)\n")),
         Problem::Bound | Problem::Periodic => o.push_str(&format!("eigenvalues {fname} of {source} (a real eigenvalue problem between the ends)\n")),
