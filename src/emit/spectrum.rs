@@ -763,6 +763,20 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
             "series".into(),
             json!({"description": series.description, "convergence_radius": finite_or_null(series.radius), "recurrence_terms": series.terms}),
         );
+        if !series.second_family.is_empty() {
+            // The modes listed apart from the numbered overtones, each with its check.
+            let second: Vec<Value> = series
+                .second_family
+                .iter()
+                .map(|x| {
+                    json!({
+                        "omega": pair(x.omega),
+                        "check": x.agreement.map(|a| json!({"method": "integrate", "agreement": finite_or_null(a)})),
+                    })
+                })
+                .collect();
+            m.insert("purely_imaginary_family".into(), Value::Array(second));
+        }
     }
     doc
 }

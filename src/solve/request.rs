@@ -404,6 +404,20 @@ pub struct SeriesReport {
     pub terms: usize,
     /// One continued-fraction mode per overtone asked for.
     pub modes: Vec<Mode>,
+    /// The purely imaginary modes listed apart from the numbered
+    /// (oscillating) overtones, least damped first; empty when there is no
+    /// second family.
+    pub second_family: Vec<SecondMode>,
+}
+
+/// A mode of the purely imaginary family that [`SeriesReport`] lists apart.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct SecondMode {
+    /// The continued fraction's root.
+    pub omega: Complex64,
+    /// The relative agreement of direct integration from 1e-4 away, when it
+    /// ran and converged.
+    pub agreement: Option<f64>,
 }
 
 /// The second method beside direct integration between the ends.
@@ -1605,7 +1619,7 @@ pub(crate) fn series_between_ends(
         Ok(m) => m.into_iter().filter(|m| m.n >= opts.overtones.0).collect::<Vec<_>>(),
         Err(e) => return Err(Box::new((bp, e))),
     };
-    let second = second_family(&bp, &second, &solve, opts, check);
+    let (second, second_modes) = second_family(&bp, &second, &solve, opts, check);
     let o = SpectrumOptions { seeds: o.seeds.iter().skip(if climb { opts.overtones.0 as usize } else { 0 }).copied().collect(), ..o };
     let modes: Vec<EndMode> = cf_modes
         .iter()
@@ -1641,7 +1655,13 @@ pub(crate) fn series_between_ends(
     let note = Some(format!("{why}: the continued fraction of a numeric series between the ends instead"));
     let checks = modes.iter().map(|_| None).collect();
     let check_note = "second method: direct integration between the ends, from 1e-4 away from each continued-fraction root".to_string();
-    let series = SeriesReport { description: s.description.clone(), radius: s.radius, terms: s.recurrence.terms.len(), modes: cf_modes };
+    let series = SeriesReport {
+        description: s.description.clone(),
+        radius: s.radius,
+        terms: s.recurrence.terms.len(),
+        modes: cf_modes,
+        second_family: second_modes,
+    };
     Ok(EndsReport { problem: bp, modes, note, numbering, spectrum: problem, checks, check_note, series: Some(series) })
 }
 
@@ -1678,11 +1698,12 @@ fn second_family(
     solve: &dyn Fn(u32, Complex64) -> super::cf::CfRoot,
     opts: &SpectrumOptions,
     check: bool,
-) -> Option<String> {
+) -> (Option<String>, Vec<SecondMode>) {
     if seeds.is_empty() {
-        return None;
+        return (None, Vec::new());
     }
     let mut found: Vec<Complex64> = Vec::new();
+    let mut modes: Vec<SecondMode> = Vec::new();
     let mut words: Vec<String> = Vec::new();
     for (k, s) in seeds.iter().enumerate() {
         let root = solve(k as u32, *s);
@@ -1693,22 +1714,27 @@ fn second_family(
             continue;
         }
         found.push(root.omega);
+        let mut mode = SecondMode { omega: root.omega, agreement: None };
         let checked = if check {
             let r = super::ends::find_root(bp, super::spectrum::check_seed(root.omega), opts.tol);
             if r.converged {
-                format!("direct integration agrees to {:.1e}", agreement(root.omega, r.omega, bp.scale))
+                let a = agreement(root.omega, r.omega, bp.scale);
+                mode.agreement = Some(a);
+                format!("direct integration agrees to {a:.1e}")
             } else {
                 "direct integration did not converge from it".to_string()
             }
         } else {
             "not checked".to_string()
         };
+        modes.push(mode);
         words.push(format!("{}i ({checked})", root.omega.im));
     }
-    Some(format!(
+    let note = format!(
         "a second family, purely imaginary, is not numbered with the overtones above (the least damped of each family is listed first): {}",
         words.join(", ")
-    ))
+    );
+    (Some(note), modes)
 }
 
 /// Modes with no guess seeded by the global spectral method (its
