@@ -331,13 +331,14 @@ pub fn try_bound_states(
         .collect())
 }
 
-/// The interval of a bound-state problem and its continuum edge: the
+/// The interval of a bound-state problem, its continuum edge and the ends
+/// that are singular for the family only (see below): the
 /// interval runs between the two largest real singular points, those of the
 /// family of equations included (a half line from the only one, the whole
 /// line when there is none); at an infinite
 /// end the continuum starts at −lim Q₀/Q₁ for Q = Q₀ + E·Q₁ (infinite on a
 /// finite interval, or when the limit is not finite).
-pub fn bound_problem(red: &crate::ode::Reduction, freq: usize, point: &[GRat]) -> Result<(Domain, f64)> {
+pub fn bound_problem(red: &crate::ode::Reduction, freq: usize, point: &[GRat]) -> Result<(Domain, f64, Vec<f64>)> {
     use crate::analysis::{Kind, Place};
     let k = &red.field;
     let an = crate::analysis::analyse(red)?;
@@ -358,7 +359,8 @@ pub fn bound_problem(red: &crate::ode::Reduction, freq: usize, point: &[GRat]) -
     // A point singular for other parameter values (r = 0 of a radial
     // equation at l = 0) still ends the domain; where the points cannot be
     // located numerically, the analysis's points alone decide.
-    ends.extend(super::boundary::ordinary_family_points(red, point, freq).unwrap_or_default());
+    let family = super::boundary::ordinary_family_points(red, point, freq).unwrap_or_default();
+    ends.extend(family.iter().copied());
     ends.sort_by(|x, y| x.partial_cmp(y).unwrap_or(std::cmp::Ordering::Equal));
     let domain = match ends.as_slice() {
         [] => Domain::Line,
@@ -387,5 +389,14 @@ pub fn bound_problem(red: &crate::ode::Reduction, freq: usize, point: &[GRat]) -
             }
         }
     };
-    Ok((domain, threshold))
+    // The domain's ends that are such points, for the report to name.
+    let family_ends = match domain {
+        Domain::Finite(a, b) => vec![a, b],
+        Domain::HalfLine(a) => vec![a],
+        Domain::Line => Vec::new(),
+    }
+    .into_iter()
+    .filter(|z| family.iter().any(|f| (f - z).abs() <= 1e-9 * z.abs().max(1.0)))
+    .collect();
+    Ok((domain, threshold, family_ends))
 }

@@ -896,7 +896,7 @@ fn exact_setup(red: &Reduction, req: &SpectrumRequest) -> Result<ExactSetup> {
     let point = point(red, req, freq)?;
     let sub = super::spectrum::substitute(red, &point, freq)?;
     let ends = if req.problem == Problem::Bound && req.ends.is_none() {
-        Ok(super::collocation::bound_problem(&sub, freq, &point).ok().and_then(|(d, _)| bound_ends(d)))
+        Ok(super::collocation::bound_problem(&sub, freq, &point).ok().and_then(|(d, _, _)| bound_ends(d)))
     } else {
         boundary_problem(&sub, req, &point, freq).0.map(|bp| Some(problem_ends(&bp)))
     };
@@ -2051,7 +2051,7 @@ fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) 
         ));
     }
     let k = &red.field;
-    let (domain, threshold) = bound_problem(red, opts.freq, &opts.values)?;
+    let (domain, threshold, family_ends) = bound_problem(red, opts.freq, &opts.values)?;
     let count = opts.overtones.1 as usize + 1;
     let states =
         try_bound_states(k, &red.normal.q, opts.freq, &opts.values, domain, super::collocation::SCALE, count, opts.tol.max(1e-13), threshold)?;
@@ -2111,15 +2111,8 @@ fn bound_states(red: &Reduction, req: &SpectrumRequest, opts: &SpectrumOptions) 
         _ => None,
     };
     // An end the family of equations has but these values make ordinary.
-    let family = super::boundary::ordinary_family_points(red, &opts.values, opts.freq).unwrap_or_default();
-    let ends_of = match domain {
-        Domain::Finite(a, b) => vec![a, b],
-        Domain::HalfLine(a) => vec![a],
-        Domain::Line => Vec::new(),
-    };
-    let notes = ends_of
+    let notes = family_ends
         .iter()
-        .filter(|z| family.iter().any(|f| (f - **z).abs() <= 1e-9 * z.abs().max(1.0)))
         .map(|z| {
             format!(
                 "{} = {} ends the domain: singular for other values of the parameters, an ordinary point of Q at these (ψ = 0 there)",
