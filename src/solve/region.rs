@@ -225,9 +225,10 @@ fn ladder_run(
     let integ = super::spectrum::integration_check(red, &opts, &setup).ok();
     // The notes on special and degenerate points, for the overtones sought or found in the window.
     let in_window = |m: &Mode| region.contains(if m.root.converged { m.root.omega } else { m.seed.0 });
+    let all = super::spectrum::degenerate_of(&rec, &setup, &opts);
     let mut notes = Vec::new();
     for m in modes.iter_mut().filter(|m| in_window(m)) {
-        notes.extend(super::spectrum::settle_special(&rec, &setup, &opts, std::slice::from_mut(m))?);
+        notes.extend(super::spectrum::settle_special(&rec, &setup, &opts, &all, std::slice::from_mut(m))?);
     }
     let checks = modes
         .iter()
@@ -239,21 +240,15 @@ fn ladder_run(
         })
         .collect();
     let inside: Vec<Mode> = modes.iter().filter(|m| in_window(m)).cloned().collect();
-    notes.extend(super::spectrum::degenerate_notes(&rec, &setup, &opts, &inside));
-    let degenerate = match super::cf::try_numeric(&rec, &super::spectrum::recurrence_values(&setup, &opts), opts.freq) {
-        Ok(num) => {
-            let all = super::spectrum::degenerate_points(&num, 4096);
-            inside
-                .iter()
-                .filter(|m| !m.root.converged)
-                .filter_map(|m| {
-                    let near = super::spectrum::nearest_of(&all, m.seed.0, 0.1 * m.seed.0.im.abs().max(1e-3));
-                    near.first().map(|p| (m.n, p.omega))
-                })
-                .collect()
-        }
-        Err(_) => Vec::new(),
-    };
+    notes.extend(super::spectrum::degenerate_notes(&setup, &all, &inside));
+    let degenerate = inside
+        .iter()
+        .filter(|m| !m.root.converged)
+        .filter_map(|m| {
+            let near = super::spectrum::nearest_of(&all, m.seed.0, 0.1 * m.seed.0.im.abs().max(1e-3));
+            near.first().map(|p| (m.n, p.omega))
+        })
+        .collect();
     Ok(LadderRun { modes, checks, end, spectral, seeds, notes, degenerate })
 }
 

@@ -1947,26 +1947,45 @@ fn recurrence_route(
         super::spectrum::qnm_modes_from(&rec, setup0.clone(), opts, &estimate)?
     };
     let wkb = modes.iter().map(|m| estimates.as_ref().and_then(|e| e(m.n)).map(|b| b.series.omega())).collect();
-    let mut notes = super::spectrum::settle_special(&rec, &setup, opts, &mut modes)?;
-    notes.extend(super::spectrum::degenerate_notes(&rec, &setup, opts, &modes));
+    let degenerate = super::spectrum::degenerate_of(&rec, &setup, opts);
+    let mut notes = super::spectrum::settle_special(&rec, &setup, opts, &degenerate, &mut modes)?;
+    notes.extend(super::spectrum::degenerate_notes(&setup, &degenerate, &modes));
     // The independent check: direct integration, seeded 1e-4 away from the
     // continued-fraction root (quasi-bound levels: nearer, see
     // `levels::check_offsets`; with Method::Integrate, from the seed); with an
     // adjoined rate, between the ends of the boundary problem (the branch at
     // infinity chosen at each trial ω by the same condition). The closure
     // takes the seed and the root finder's first relative spread.
-    type Check<'a> = Box<dyn Fn(Complex64, f64) -> IntRoot + 'a>;
+    type Check<'a> = Box<dyn Fn(Complex64, f64) -> IntRoot + Sync + 'a>;
     let integ: Option<Check<'_>> = match (&setup.rate, bp) {
         (Some(_), Some(bp)) => Some(Box::new(move |w, spread| super::ends::find_root_near(bp, w, spread, opts.tol))),
         (Some(_), None) => None,
         (None, _) => super::spectrum::integration_check(red, opts, &setup).ok().map(|f| Box::new(move |w, _| f(w)) as Check<'_>),
     };
     let offset = |i: usize| offsets.as_ref().and_then(|o| o.get(i).copied());
+    // Each mode's integration is independent of the others': they run in
+    // parallel, and come back in the modes' order.
+    let refine = req.method == Method::Integrate;
+    let runs: Vec<Option<IntRoot>> = {
+        use rayon::prelude::*;
+        modes
+            .par_iter()
+            .enumerate()
+            .map(|(i, m)| match &integ {
+                Some(f) if m.method == ModeMethod::ContinuedFraction && refine => Some(f(m.seed.0, offset(i).unwrap_or(super::roots::SPREAD))),
+                Some(f) if m.method == ModeMethod::ContinuedFraction && m.root.converged => Some(match offset(i) {
+                    Some(o) => super::levels::check_level(m.root.omega, o, &|w, spread| f(w, spread)),
+                    None => f(super::spectrum::check_seed(m.root.omega), super::roots::SPREAD),
+                }),
+                _ => None,
+            })
+            .collect()
+    };
     let mut checks: Vec<Option<IntRoot>> = Vec::new();
-    for (i, m) in modes.iter_mut().enumerate() {
-        let check = match &integ {
-            Some(f) if m.method == ModeMethod::ContinuedFraction && req.method == Method::Integrate => {
-                let r = f(m.seed.0, offset(i).unwrap_or(super::roots::SPREAD));
+    for (m, run) in modes.iter_mut().zip(runs) {
+        match run {
+            // With Method::Integrate the integration's root is the mode.
+            Some(r) if refine => {
                 m.root.omega = r.omega;
                 m.root.converged = r.converged;
                 m.root.residual = r.residual;
@@ -1977,15 +1996,10 @@ fn recurrence_route(
                     m.root.stop = super::cf::StopReason::Rejected(r.reason.clone());
                 }
                 m.method = ModeMethod::Integrate;
-                None
+                checks.push(None);
             }
-            Some(f) if m.method == ModeMethod::ContinuedFraction && m.root.converged => Some(match offset(i) {
-                Some(o) => super::levels::check_level(m.root.omega, o, &|w, spread| f(w, spread)),
-                None => f(super::spectrum::check_seed(m.root.omega), super::roots::SPREAD),
-            }),
-            _ => None,
-        };
-        checks.push(check);
+            other => checks.push(other),
+        }
     }
     let functions = match (req.mode_functions, &setup.rate, bp) {
         (Some(reach), Some(_), Some(bp)) => {

@@ -951,12 +951,6 @@ pub struct DegeneratePoint {
     pub k: u32,
 }
 
-/// The degenerate points of the recurrence (roots in ω of c₀(k; ω) for
-/// k = 0, 1, …, `kmax`) within `radius` of `w`, nearest first.
-pub fn degenerate_points_near(num: &super::cf::NumRecurrence, w: Complex64, radius: f64, kmax: u32) -> Vec<DegeneratePoint> {
-    nearest_of(&degenerate_points(num, kmax), w, radius)
-}
-
 /// Every degenerate point of the recurrence for k = 0, 1, …, `kmax` (the
 /// roots in ω of c₀(k; ω)), for [`nearest_of`] to search around several
 /// frequencies without solving again.
@@ -967,6 +961,25 @@ pub fn degenerate_points(num: &super::cf::NumRecurrence, kmax: u32) -> Vec<Degen
         out.extend(crate::analysis::numeric::try_roots(&coeffs).unwrap_or_default().into_iter().map(|r| DegeneratePoint { omega: r, k }));
     }
     out
+}
+
+/// How far in k the degenerate points are solved: as far as the series
+/// could reach within the depths the continued fraction uses (bounded).
+pub const DEGENERATE_KMAX: u32 = 4096;
+
+/// The degenerate points ([`degenerate_points`] to [`DEGENERATE_KMAX`]) of
+/// the recurrence of a run at its values, solved once for every overtone
+/// of the run; empty when the recurrence cannot be made numeric or its
+/// leading coefficient is not a polynomial in ω (an adjoined rate holds
+/// χ(ω) there).
+pub fn degenerate_of(rec: &crate::series::Recurrence, setup: &Setup, opts: &SpectrumOptions) -> Vec<DegeneratePoint> {
+    if setup.rate.is_some() {
+        return Vec::new();
+    }
+    match try_numeric(rec, &recurrence_values(setup, opts), opts.freq) {
+        Ok(num) if !num.terms.is_empty() => degenerate_points(&num, DEGENERATE_KMAX),
+        _ => Vec::new(),
+    }
 }
 
 /// The points of `all` within `radius` of `w`, nearest first.
@@ -1016,19 +1029,25 @@ fn exact_roots(k: &crate::algebra::Field, r: &crate::algebra::RatFunc, v: usize)
 }
 
 /// The algebraically special point ([`SpecialPoint`]) of the exact
-/// recurrence `rec` within `radius` of `near`, at exact `values` (indexed
-/// like the recurrence's field; the spectral parameter's entry `freq` is
-/// ignored). `None` when there is none, when the recurrence does not have
+/// recurrence `rec` within `radius` of `near`, among its degenerate points
+/// `all` ([`degenerate_of`]), at exact `values` (indexed like the
+/// recurrence's field; the spectral parameter's entry `freq` is ignored). `None` when there is none, when the recurrence does not have
 /// three terms, or when the degenerate point is not exact (roots of
 /// c₀(k; ω) beyond a square root over Q(i)).
-pub fn special_point(rec: &crate::series::Recurrence, values: &[GRat], freq: usize, near: Complex64, radius: f64) -> Result<Option<SpecialPoint>> {
+pub fn special_point(
+    rec: &crate::series::Recurrence,
+    values: &[GRat],
+    freq: usize,
+    all: &[DegeneratePoint],
+    near: Complex64,
+    radius: f64,
+) -> Result<Option<SpecialPoint>> {
     if rec.coeffs.len() != 3 {
         return Ok(None);
     }
-    let num = try_numeric(rec, values, freq)?;
     let k = &rec.field;
     let params: Vec<(usize, GRat)> = (1..values.len().min(k.names().len())).filter(|&i| i != freq).map(|i| (i, values[i].clone())).collect();
-    for p in degenerate_points_near(&num, near, radius, 4096) {
+    for p in nearest_of(all, near, radius) {
         let mut at_k = params.clone();
         at_k.push((0, GRat::real(Rat::int(i64::from(p.k).into()))));
         let lead = k.substitute_values(&rec.coeffs[0], &at_k)?;
@@ -1057,7 +1076,13 @@ pub fn special_point(rec: &crate::series::Recurrence, values: &[GRat], freq: usi
 /// [`ModeMethod::SpecialPoint`], with a note in plain words of what the
 /// point is and why it needs care. Needs exact values: nothing is done with
 /// an adjoined root or rate (their values are not exact).
-pub fn settle_special(rec: &crate::series::Recurrence, setup: &Setup, opts: &SpectrumOptions, modes: &mut [Mode]) -> Result<Vec<String>> {
+pub fn settle_special(
+    rec: &crate::series::Recurrence,
+    setup: &Setup,
+    opts: &SpectrumOptions,
+    all: &[DegeneratePoint],
+    modes: &mut [Mode],
+) -> Result<Vec<String>> {
     if setup.theta.is_some() || setup.rate.is_some() {
         return Ok(Vec::new());
     }
@@ -1072,7 +1097,7 @@ pub fn settle_special(rec: &crate::series::Recurrence, setup: &Setup, opts: &Spe
         if !(at.re.is_finite() && at.im.is_finite()) {
             continue;
         }
-        let Some(sp) = special_point(rec, &values, opts.freq, at, radius)? else { continue };
+        let Some(sp) = special_point(rec, &values, opts.freq, all, at, radius)? else { continue };
         let (re, im) = sp.omega.to_f64();
         let omega = Complex64::new(re, im);
         // Another overtone already there: the point is that one's.
@@ -1110,20 +1135,13 @@ pub fn settle_special(rec: &crate::series::Recurrence, setup: &Setup, opts: &Spe
 /// recurrence, or converged onto one: where it is, and why the continued
 /// fraction cannot settle the mode there. A mode "next to" a point is within
 /// a tenth of its own damping |Im ω| (failed modes, judged at the seed) or
-/// within 1e-3 |ω| (converged ones).
-pub fn degenerate_notes(rec: &crate::series::Recurrence, setup: &Setup, opts: &SpectrumOptions, modes: &[Mode]) -> Vec<String> {
-    let Ok(num) = try_numeric(rec, &recurrence_values(setup, opts), opts.freq) else { return Vec::new() };
-    // With an adjoined rate the leading coefficient holds χ(ω): not a polynomial in ω.
-    if num.terms.is_empty() || setup.rate.is_some() {
-        return Vec::new();
-    }
+/// within 1e-3 |ω| (converged ones). `all` are the run's degenerate
+/// points ([`degenerate_of`]).
+pub fn degenerate_notes(setup: &Setup, all: &[DegeneratePoint], modes: &[Mode]) -> Vec<String> {
     let mut notes = Vec::new();
-    // The index k runs as far as the series could reach within the depths
-    // the continued fraction uses (bounded); solved once for every mode.
-    let all = degenerate_points(&num, 4096);
     for m in modes.iter().filter(|m| m.method == ModeMethod::ContinuedFraction) {
         let (at, radius) = if m.root.converged { (m.root.omega, 1e-3 * m.root.omega.norm()) } else { (m.seed.0, 0.1 * m.seed.0.im.abs().max(1e-3)) };
-        let Some(p) = nearest_of(&all, at, radius).into_iter().next() else { continue };
+        let Some(p) = nearest_of(all, at, radius).into_iter().next() else { continue };
         let status = if m.root.converged { "converged within 1e-3 of" } else { "was sought next to" };
         notes.push(format!(
             "overtone {} {status} ω = {:.6}{:+.6}i, where the recurrence's leading coefficient vanishes at k = {} (the exponents of the ansatz at the expansion point {} differ by the integer {} there): the continued fraction is singular at that point and the series solution can change its character (a logarithm, or a solution starting at a_{}); a mode at or next to it is a special case the methods here do not settle — treat it with care (for the Regge–Wheeler and Zerilli equations the algebraically special frequency is such a point; Maassen van den Brink 2000)",
@@ -1154,7 +1172,11 @@ mod tests {
         let red = crate::ode::reduce(&crate::ode::Input::Program(src), &crate::ode::ReduceOptions::default()).unwrap();
         let rec = crate::series::about_written(&red, "2*M", &[("2*M", 2), ("inf", 1)]);
         let g = |x: i64| GRat::real(Rat::int(x.into()));
-        let at = |l: i64, s: i64, w: f64| special_point(&rec, &[g(0), g(1), g(0), g(l), g(s)], 2, Complex64::new(0.0, w), 0.05).unwrap();
+        let at = |l: i64, s: i64, w: f64| {
+            let values = [g(0), g(1), g(0), g(l), g(s)];
+            let all = degenerate_points(&try_numeric(&rec, &values, 2).unwrap(), DEGENERATE_KMAX);
+            special_point(&rec, &values, 2, &all, Complex64::new(0.0, w), 0.05).unwrap()
+        };
         assert_eq!(at(2, 2, -2.0), Some(SpecialPoint { omega: GRat { re: Rat::int(0.into()), im: Rat::int((-2).into()) }, k: 7 }));
         assert_eq!(at(3, 2, -10.0).map(|p| (p.omega.to_f64(), p.k)), Some(((0.0, -10.0), 39)));
         for (l, s) in [(2, 1), (2, 0), (3, 2)] {
