@@ -1915,3 +1915,33 @@ fn an_energy_is_not_taken_for_a_frequency() {
     }
     assert!(v["notes"][0].as_str().is_some_and(|n| n.contains("enters linearly")), "{v}");
 }
+
+#[test]
+fn schwarzschild_de_sitter_at_small_lambda_tends_to_schwarzschild() {
+    // 9ΛM² = 9e-4 and 9e-5: the cosmological horizon lies at r ≈ 172 and
+    // 547. Between two horizons this far apart the direct integration on
+    // the real axis loses the damped mode to rounding (e^(2|Im ω| Δr*));
+    // the check starts the series on arcs about the ends and matches off
+    // the axis, and agrees with the continued fraction to 8 digits or
+    // better. The modes tend to Schwarzschild's (canonode's own
+    // Regge–Wheeler result, s = 0; Leaver 1985: l = 1 0.29293613 −
+    // 0.09765999i, l = 2 0.48364387 − 0.09676586i, from memory), and the
+    // shift is linear in Λ at this order (common practice): ten times Λ,
+    // ten times the shift.
+    for l in ["1", "2"] {
+        let s = modes("regge_wheeler", &format!("M=1,l={l},s=0"), "0..0", &[]);
+        let (sr, si) = omega(&s[0]);
+        let mut shifts = Vec::new();
+        for lambda in ["0.0001", "0.00001"] {
+            let (_, ms) = modes_of("samples/schwarzschild_de_sitter_scalar.ode", &format!("M=1,l={l},Lambda={lambda}"), &["--overtones", "0..0"]);
+            assert_eq!(ms[0]["method"], "cf", "{}", ms[0]);
+            let agreement = ms[0]["check"]["agreement"].as_f64().unwrap_or(f64::NAN);
+            assert!(agreement < 1e-8, "l={l} Λ={lambda}: {}", ms[0]);
+            let (re, im) = omega(&ms[0]);
+            assert!(re < sr && (re - sr).abs() < 1e-3 && (im - si).abs() < 1e-3, "l={l} Λ={lambda}: {re} {im} against {sr} {si}");
+            shifts.push(((re - sr).powi(2) + (im - si).powi(2)).sqrt());
+        }
+        let ratio = shifts[0] / shifts[1];
+        assert!((ratio - 10.0).abs() < 0.5, "l={l}: shifts {shifts:?}");
+    }
+}

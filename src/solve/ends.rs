@@ -17,6 +17,7 @@
 
 use super::boundary::{BoundaryProblem, Condition, Location, Nature, SpectrumKind};
 use super::integrate::{self, Asymptote, Coeffs, Far, IntRoot, Norm, Params};
+use super::route::Route;
 use crate::error::RequestInput;
 use num_complex::Complex64;
 
@@ -60,19 +61,123 @@ fn end_start(
     w: Complex64,
     delta: f64,
 ) -> Result<(Complex64, Complex64), String> {
+    end_start_at(ode, k, h, z, cond, w, Complex64::new(delta, 0.0), Complex64::new(delta.abs().ln(), 0.0))
+}
+
+/// [`end_start`] at a complex offset `delta` = z − z_end, with `log_dist`
+/// the logarithm of the distance to the end that fixes the leading
+/// factors' branch (see [`integrate::frobenius_at`]).
+#[allow(clippy::too_many_arguments)]
+fn end_start_at(
+    ode: &super::NumOde,
+    k: &Coeffs,
+    h: &integrate::Horizon,
+    z: f64,
+    cond: Condition,
+    w: Complex64,
+    delta: Complex64,
+    log_dist: Complex64,
+) -> Result<(Complex64, Complex64), String> {
     match cond {
         Condition::Mixed(super::boundary::Weight(kappa)) => {
             let [r1, r2] = h.exponents();
             let (slow, fast) = if r1.re <= r2.re { (r1, r2) } else { (r2, r1) };
-            let (ys, dys) = integrate::frobenius(h, slow, delta)?;
-            let (yf, dyf) = integrate::frobenius(h, fast, delta)?;
+            let (ys, dys) = integrate::frobenius_at(h, slow, delta, log_dist)?;
+            let (yf, dyf) = integrate::frobenius_at(h, fast, delta, log_dist)?;
             Ok((ys + kappa * yf, dys + kappa * dyf))
         }
         _ => {
             let rho = pick_exponent(ode, k, h, z, cond, w)?;
-            integrate::frobenius(h, rho, delta)
+            integrate::frobenius_at(h, rho, delta, log_dist)
         }
     }
+}
+
+/// The route of direct integration between two finite ends for a root
+/// search from `seed` ([`route::choose`]): the real one unless both ends
+/// are finite with a horizon condition at one of them (and no mixed one)
+/// and the real route would amplify errors beyond what double precision
+/// holds.
+pub(super) fn route_for(bp: &BoundaryProblem, seed: Complex64) -> Route {
+    let [left, right] = &bp.ends;
+    let (Location::At(a), Location::At(b)) = (left.location, right.location) else { return Route::REAL };
+    let horizon = |c: Condition| matches!(c, Condition::IntoHorizon | Condition::OutOfHorizon);
+    let mixed = |c: Condition| matches!(c, Condition::Mixed(_));
+    if !(horizon(left.condition) || horizon(right.condition)) || mixed(left.condition) || mixed(right.condition) {
+        return Route::REAL;
+    }
+    let Ok(k) = Coeffs::at(&bp.ode, seed) else { return Route::REAL };
+    let data = |z: f64, cond: Condition| -> Option<(integrate::Horizon, f64, (Complex64, Complex64))> {
+        let h = integrate::horizon(&k, z).ok()?;
+        let wanted = pick_exponent(&bp.ode, &k, &h, z, cond, seed).ok()?;
+        let [r1, r2] = h.exponents();
+        let other = if (r1 - wanted).norm() <= (r2 - wanted).norm() { r2 } else { r1 };
+        let d = if h.d.is_finite() { h.d } else { 1.0 + z.abs() };
+        Some((h, d, (wanted, other)))
+    };
+    let (Some((hl, dl, el)), Some((hr, dr, er))) = (data(a, left.condition), data(b, right.condition)) else { return Route::REAL };
+    let p = &integrate::STANDARD;
+    let (sl, sr) = start_distances(a, b, dl, dr, p);
+    let measure = |route: &Route| -> Option<(f64, f64)> {
+        let (zl, zr, zm) = route.points(a, b, sl, sr);
+        let (tl, tr) = (zl - a, zr - b);
+        let (yl, dyl, cl) = integrate::frobenius_sum(&hl, el.0, tl, tl.ln()).ok()?;
+        let (yr, dyr, cr) = integrate::frobenius_sum(&hr, er.0, tr, (-tr).ln()).ok()?;
+        // Points along the route from the left start to the right one;
+        // between two of them, the peak of each solution over the Taylor
+        // steps (the product of the peaks bounds the product's peak).
+        const PER_LEG: usize = 12;
+        let mut pts: Vec<Complex64> = (0..PER_LEG).map(|j| zl + (zm - zl) * (j as f64 / PER_LEG as f64)).collect();
+        pts.extend((0..=PER_LEG).map(|j| zm + (zr - zm) * (j as f64 / PER_LEG as f64)));
+        let size = |y: Complex64, dy: Complex64| (y.norm_sqr() + dy.norm_sqr()).sqrt();
+        let mut steps = 0;
+        let mut left = vec![size(yl, dyl) * cl.max(1.0)];
+        let (mut y, mut dy) = (yl, dyl);
+        for w in pts.windows(2) {
+            let mut peak = 0.0;
+            (y, dy) = integrate::continue_along_peak(&k, &bp.zeros, w[0], w[1], y, dy, p, f64::INFINITY, &mut steps, &mut peak).ok()?;
+            left.push(peak);
+        }
+        let mut right = vec![size(yr, dyr) * cr.max(1.0)];
+        let (mut y, mut dy) = (yr, dyr);
+        for w in pts.windows(2).rev() {
+            let mut peak = 0.0;
+            (y, dy) = integrate::continue_along_peak(&k, &bp.zeros, w[1], w[0], y, dy, p, f64::INFINITY, &mut steps, &mut peak).ok()?;
+            right.push(peak);
+        }
+        right.reverse();
+        // left = [its start (with the cancellation), the peak on piece 0, …];
+        // right = [the peak on piece 0, …, its start (with the cancellation)].
+        let n = left.len();
+        let mut worst = left[0] * right[0];
+        worst = worst.max(right[n - 1] * left[n - 1]);
+        for i in 0..n - 1 {
+            worst = worst.max(left[i + 1] * right[i]);
+        }
+        // The Wronskian (each solution normalised at its own end) is the
+        // same on every route in exact arithmetic: what the standard and
+        // refined discretisations disagree on is error. (The rounding of
+        // the largest product met, 1e-16 of it, is a bound far above the
+        // error actually committed on the better routes.)
+        let raw = |p: &Params| -> Option<Complex64> {
+            let m = matched(bp, seed, p, route).ok()?;
+            let ((y1, d1), (y2, d2)) = (m.left, m.right);
+            Some(y1 * d2 - d1 * y2)
+        };
+        let (w1, w2) = (raw(&integrate::STANDARD)?, raw(&integrate::REFINED)?);
+        let error = (w1 - w2).norm();
+        (error > 0.0 && error.is_finite()).then(|| (error.ln(), worst.ln()))
+    };
+    let judge = super::route::Judge { k: &k, zeros: &bp.zeros, ends: (a, b), dists: (sl, sr), exps: [el, er], measure: &measure };
+    super::route::choose(&judge)
+}
+
+/// The distances from the ends a < b at which their series are summed,
+/// for the discretisation `p` (radii `dl`, `dr`): the right one at most
+/// half way to the left start.
+fn start_distances(a: f64, b: f64, dl: f64, dr: f64, p: &Params) -> (f64, f64) {
+    let sl = p.start_fraction * dl;
+    (sl, (p.start_fraction * dr).min(0.5 * (b - a - sl)))
 }
 
 /// The equation in t = 1/z: with y(z) = Y(t), A(1/t)(t⁴Y'' + 2t³Y') − B(1/t)t²Y' + C(1/t)Y = 0,
@@ -150,8 +255,16 @@ struct Matched {
 
 /// The normalised Wronskian of the two end solutions at ω, and the Taylor
 /// steps it took.
-fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64, usize), String> {
-    let m = matched(bp, w, p)?;
+fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params, route: &Route) -> Result<(Complex64, usize), String> {
+    let m = matched(bp, w, p, route)?;
+    if route.is_complex() {
+        let ((y1, d1), (y2, d2)) = (m.left, m.right);
+        let v = (y1 * d2 - d1 * y2) * (-route.scale).exp();
+        if !(v.re.is_finite() && v.im.is_finite()) {
+            return Err("the Wronskian divided by the route's scale overflows at this ω".into());
+        }
+        return Ok((v, m.steps));
+    }
     Ok((integrate::normalised_wronskian(m.left, m.right, m.norm)?, m.steps))
 }
 
@@ -159,7 +272,7 @@ fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<(Complex64
 /// product norm of the two solutions there and the real part of the
 /// logarithm of the right one's normalisation.
 fn analytic_scale(bp: &BoundaryProblem, w: Complex64) -> Result<(f64, f64), String> {
-    let m = matched(bp, w, &integrate::STANDARD)?;
+    let m = matched(bp, w, &integrate::STANDARD, &Route::REAL)?;
     let ((y1, d1), (y2, d2)) = (m.left, m.right);
     let norm = y1.norm() * d2.norm() + d1.norm() * y2.norm();
     if !(norm > 0.0 && norm.is_finite()) {
@@ -179,7 +292,7 @@ fn analytic_scale(bp: &BoundaryProblem, w: Complex64) -> Result<(f64, f64), Stri
 /// phase), so Muller sees a step, not a zero, unless started closer than
 /// |Im ω|; this Wronskian is nearly linear over the spacing of the levels.
 fn analytic(bp: &BoundaryProblem, w: Complex64, p: &Params, scale: (f64, f64)) -> Result<(Complex64, usize), String> {
-    let m = matched(bp, w, p)?;
+    let m = matched(bp, w, p, &Route::REAL)?;
     let ((y1, d1), (y2, d2)) = (m.left, m.right);
     let v = (y1 * d2 - d1 * y2) / scale.0 * (m.log_right - scale.1).exp();
     if !(v.re.is_finite() && v.im.is_finite()) {
@@ -188,8 +301,9 @@ fn analytic(bp: &BoundaryProblem, w: Complex64, p: &Params, scale: (f64, f64)) -
     Ok((v, m.steps))
 }
 
-/// The two end solutions at the matching point for ω.
-fn matched(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<Matched, String> {
+/// The two end solutions at the matching point for ω; between two finite
+/// ends, started and matched as `route` says.
+fn matched(bp: &BoundaryProblem, w: Complex64, p: &Params, route: &Route) -> Result<Matched, String> {
     if !(w.re.is_finite() && w.im.is_finite()) {
         return Err("ω is not finite".into());
     }
@@ -213,12 +327,19 @@ fn matched(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<Matched, St
         (Location::At(b), _) => {
             let hr = integrate::horizon(&k, b)?;
             let dr = if hr.d.is_finite() { hr.d } else { 1.0 + b.abs() };
-            let delta = (p.start_fraction * dr).min(0.5 * (b - z_l));
-            let (y, dy) = end_start(&bp.ode, &k, &hr, b, right.condition, w, -delta)?;
-            let from = Complex64::new(b - delta, 0.0);
+            let (sl, sr) = start_distances(a, b, dl, dr, p);
             // Each solution grows towards its own end, so each is carried half
-            // way: the match is between the two start points.
-            let zm = Complex64::new(0.5 * (z_l + b - delta), 0.0);
+            // way: the match is between the two start points (off the axis,
+            // each series started on an arc about its end, when the route says).
+            let (from_l, from, zm) = route.points(a, b, sl, sr);
+            let (mut zl, t_r) = (zl, from - b);
+            if route.left_turn != 0.0 {
+                let t = from_l - a;
+                (yl, dyl) = end_start_at(&bp.ode, &k, &hl, a, left.condition, w, t, t.ln())?;
+                zl = from_l;
+            }
+            // (b − z)^ρ on the branch continued from the real axis below b.
+            let (y, dy) = end_start_at(&bp.ode, &k, &hr, b, right.condition, w, t_r, (-t_r).ln())?;
             (yl, dyl) = integrate::continue_along(&k, &bp.zeros, zl, zm, yl, dyl, p, f64::INFINITY, &mut steps)?;
             norm = Norm::Vectors;
             integrate::continue_along(&k, &bp.zeros, from, zm, y, dy, p, f64::INFINITY, &mut steps)?
@@ -269,7 +390,7 @@ fn matched(bp: &BoundaryProblem, w: Complex64, p: &Params) -> Result<Matched, St
 /// The normalised mismatch at ω with the standard discretisation (zero at
 /// an eigenvalue); `None` where it cannot be evaluated.
 pub fn mismatch(bp: &BoundaryProblem, w: Complex64) -> Option<Complex64> {
-    evaluate(bp, w, &integrate::STANDARD).ok().map(|(v, _)| v)
+    evaluate(bp, w, &integrate::STANDARD, &Route::REAL).ok().map(|(v, _)| v)
 }
 
 /// The eigenvalue nearest the seed by the two-pass Muller search. When
@@ -287,7 +408,13 @@ pub fn find_root(bp: &BoundaryProblem, seed: Complex64, tol: f64) -> IntRoot {
 /// below the spacing of the eigenvalues near it (levels crowding below a
 /// continuum edge), so that the search cannot be drawn to a neighbour.
 pub fn find_root_near(bp: &BoundaryProblem, seed: Complex64, spread: f64, tol: f64) -> IntRoot {
-    let products = |w: Complex64, p: &Params| evaluate(bp, w, p);
+    let route = route_for(bp, seed);
+    if route.is_complex() {
+        let r = search(&|w: Complex64, p: &Params| evaluate(bp, w, p, &route), seed, spread, tol);
+        let reason = format!("{} ({})", r.reason, route.text());
+        return IntRoot { reason, ..r };
+    }
+    let products = |w: Complex64, p: &Params| evaluate(bp, w, p, &route);
     let quasi_bound = bp.ends[1].condition == Condition::Decaying && bp.kind != SpectrumKind::Bound;
     let Some(scale) = quasi_bound.then(|| analytic_scale(bp, seed).ok()).flatten() else {
         return search(&products, seed, spread, tol);
@@ -416,7 +543,7 @@ pub fn scan_seeds(bp: &BoundaryProblem, count: usize) -> (Vec<Seed>, Option<Scan
                 break 'grid;
             }
             evaluated += 1;
-            match evaluate(bp, at(i, j), &integrate::STANDARD) {
+            match evaluate(bp, at(i, j), &integrate::STANDARD, &Route::REAL) {
                 Ok((m, steps)) => {
                     spent += steps;
                     *v = m.norm();

@@ -359,6 +359,23 @@ impl Horizon {
 /// the factor t^ρ is taken as |t|^ρ: the constant e^{iπρ} between the two is
 /// a normalisation, which the normalised mismatch does not see.
 pub(super) fn frobenius(h: &Horizon, rho: Complex64, delta: f64) -> Result<(Complex64, Complex64), String> {
+    // |δ|^ρ = exp(ρ ln|δ|) with a real logarithm needs no branch choice.
+    frobenius_at(h, rho, Complex64::new(delta, 0.0), Complex64::new(delta.abs().ln(), 0.0))
+}
+
+/// [`frobenius`] at a complex t = δ ≠ 0, with the leading factor taken as
+/// exp(ρ ℓ) for the caller's logarithm ℓ of the distance to the end (ln t
+/// on the principal branch from the right of the end, ln(−t) from its
+/// left: the continuation of the real-axis solution along an arc about
+/// the end that turns less than π, within the series' disc).
+pub(super) fn frobenius_at(h: &Horizon, rho: Complex64, delta: Complex64, log_dist: Complex64) -> Result<(Complex64, Complex64), String> {
+    frobenius_sum(h, rho, delta, log_dist).map(|(y, dy, _)| (y, dy))
+}
+
+/// [`frobenius_at`] and the cancellation in its sum: the largest term over
+/// the sum (1 or below when nothing cancels; its size is the factor by
+/// which rounding is magnified in y).
+pub(super) fn frobenius_sum(h: &Horizon, rho: Complex64, delta: Complex64, log_dist: Complex64) -> Result<(Complex64, Complex64, f64), String> {
     let m = h.m as isize;
     // Scaled to τ = t/δ: coefficients become those of Â = A(δτ), B̂ = δ B(δτ),
     // Ĉ = δ² C(δτ), and c_k δ^k stay of order one or below.
@@ -385,6 +402,8 @@ pub(super) fn frobenius(h: &Horizon, rho: Complex64, delta: f64) -> Result<(Comp
     let mut e = vec![ONE];
     let (mut s, mut ds) = (ONE, rho);
     let mut quiet = 0;
+    // The largest term, for the cancellation.
+    let mut big = 1.0f64;
     for n in 1..4000 {
         let diag = t(n, n);
         let mut acc = ZERO;
@@ -411,15 +430,15 @@ pub(super) fn frobenius(h: &Horizon, rho: Complex64, delta: f64) -> Result<(Comp
             return Err("the Frobenius coefficients overflow".into());
         }
         e.push(en);
+        big = big.max(en.norm());
         s += en;
         ds += en * (rho + n as f64);
         let term = en.norm() * (1.0 + (rho + n as f64).norm());
         // `span` quiet terms in a row: the recursion cannot revive after that many zeros.
         quiet = if term <= TERM_EPS * (s.norm() + ds.norm()) { quiet + 1 } else { 0 };
         if quiet >= span {
-            // |δ|^ρ = exp(ρ ln|δ|) with a real logarithm needs no branch choice.
-            let f = (rho * delta.abs().ln()).exp();
-            return Ok((f * s, f * ds / delta));
+            let f = (rho * log_dist).exp();
+            return Ok((f * s, f * ds / delta, big / s.norm()));
         }
     }
     Err(format!("the Frobenius series at the horizon did not converge at t = {delta}"))
@@ -608,6 +627,23 @@ fn taylor_step(k: &Coeffs, z0: Complex64, h: Complex64, y: Complex64, dy: Comple
     None
 }
 
+/// The largest |λ| of the characteristic roots A λ² + B λ + C = 0 at z: the
+/// rate at which solutions change there (for a fast wave, its wave number).
+fn local_rate(k: &Coeffs, z: Complex64) -> f64 {
+    let at = |p: &[Complex64]| p.iter().rev().fold(ZERO, |acc, c| acc * z + c);
+    let (a, b, c) = (at(&k.a), at(&k.b), at(&k.c));
+    let an = a.norm();
+    if an == 0.0 {
+        return 0.0;
+    }
+    let r = ((b.norm() + (b * b - 4.0 * a * c).sqrt().norm()) / (2.0 * an)).max(0.0);
+    if r.is_finite() {
+        r
+    } else {
+        0.0
+    }
+}
+
 /// Continues (y, y') along the straight segment `from` → `to` by Taylor
 /// steps, each a fraction of the distance to the nearest zero of A (so well
 /// inside the series' disc of convergence) and at most `hcap` long.
@@ -617,12 +653,33 @@ pub(super) fn continue_along(
     roots: &[Complex64],
     from: Complex64,
     to: Complex64,
+    y: Complex64,
+    dy: Complex64,
+    p: &Params,
+    hcap: f64,
+    steps: &mut usize,
+) -> Result<(Complex64, Complex64), String> {
+    let mut peak = 0.0;
+    continue_along_peak(k, roots, from, to, y, dy, p, hcap, steps, &mut peak)
+}
+
+/// [`continue_along`], raising `peak` to the largest size √(|y|² + |y'|²)
+/// met at the start of a step or at the end.
+#[allow(clippy::too_many_arguments)]
+pub(super) fn continue_along_peak(
+    k: &Coeffs,
+    roots: &[Complex64],
+    from: Complex64,
+    to: Complex64,
     mut y: Complex64,
     mut dy: Complex64,
     p: &Params,
     hcap: f64,
     steps: &mut usize,
+    peak: &mut f64,
 ) -> Result<(Complex64, Complex64), String> {
+    let size = |y: Complex64, dy: Complex64| (y.norm_sqr() + dy.norm_sqr()).sqrt();
+    *peak = peak.max(size(y, dy));
     let total = (to - from).norm();
     if total == 0.0 {
         return Ok((y, dy));
@@ -635,7 +692,13 @@ pub(super) fn continue_along(
         if dist == 0.0 {
             return Err(format!("the path meets a zero of A at {z}"));
         }
-        let mut len = (p.step_fraction * dist).min(hcap);
+        // Within a step the solutions change by at most e^(phase_step): a
+        // longer step sums a Taylor series whose terms cancel (a decaying
+        // or oscillating solution from terms as large as e^(|λ| h)), which
+        // loses those digits to rounding.
+        let rate = local_rate(k, z);
+        let len_rate = if rate > 0.0 { p.phase_step / rate } else { f64::INFINITY };
+        let mut len = (p.step_fraction * dist).min(hcap).min(len_rate);
         let mut halvings = 0;
         loop {
             // A remainder of a few ulps is not a step of its own.
@@ -665,6 +728,7 @@ pub(super) fn continue_along(
         if !finite(y) || !finite(dy) {
             return Err(format!("the solution overflowed near z = {z}"));
         }
+        *peak = peak.max(size(y, dy));
     }
     Ok((y, dy))
 }

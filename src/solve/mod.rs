@@ -24,6 +24,7 @@ pub mod polynomial;
 pub mod region;
 pub mod request;
 pub mod roots;
+pub mod route;
 pub mod scan;
 pub mod scatter;
 pub mod shoot;
