@@ -123,7 +123,9 @@ impl Condition {
     /// The condition in words, as printed.
     pub fn words(self) -> &'static str {
         match self {
-            Condition::IntoHorizon => "the wave leaves the domain through the horizon (ingoing)",
+            Condition::IntoHorizon => {
+                "the wave leaves the domain through the horizon, into it (ingoing at a black hole's horizon, outgoing at a cosmological one)"
+            }
             Condition::OutOfHorizon => "the wave comes out of the horizon",
             Condition::Outgoing => "outgoing, e^(+ikz) with Re k of the sign of Re ω",
             Condition::Decaying => "decaying, e^(μz) with Re μ < 0",

@@ -393,6 +393,21 @@ pub fn mismatch(bp: &BoundaryProblem, w: Complex64) -> Option<Complex64> {
     evaluate(bp, w, &integrate::STANDARD, &Route::REAL).ok().map(|(v, _)| v)
 }
 
+/// Words for a value another method gave (`w`) where direct integration's
+/// search did not converge, when its mismatch shows no dip there: the size
+/// at `w` and 2 % of |w| to either side along Re ω. `None` when the
+/// mismatch is smaller at `w` than beside it (a zero the search could not
+/// settle) or cannot be evaluated.
+pub fn no_dip_at(bp: &BoundaryProblem, w: Complex64) -> Option<String> {
+    let h = Complex64::new(0.02 * w.norm().max(bp.scale * 1e-3), 0.0);
+    let (at, left, right) = (mismatch(bp, w)?.norm(), mismatch(bp, w - h)?.norm(), mismatch(bp, w + h)?.norm());
+    (at > 1e-6 && at >= 0.5 * left.min(right)).then(|| {
+        format!(
+            "the mismatch of direct integration is {at:.1e} at this value and {left:.1e}, {right:.1e} at 2 % of |ω| to either side: no zero is seen here, so this root is not confirmed and may not be a mode"
+        )
+    })
+}
+
 /// The eigenvalue nearest the seed by the two-pass Muller search. When
 /// both passes find a root but they disagree, the search is repeated from
 /// that root with the series at the ends summed farther out

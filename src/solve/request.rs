@@ -1631,7 +1631,12 @@ pub(crate) fn series_between_ends(
                 return super::ends::unfound(m.n, "not checked: no check was asked for".into());
             }
             let seed = super::spectrum::check_seed(m.root.omega);
-            let root = super::ends::find_root(&bp, seed, opts.tol);
+            let mut root = super::ends::find_root(&bp, seed, opts.tol);
+            if !root.converged {
+                if let Some(words) = super::ends::no_dip_at(&bp, m.root.omega) {
+                    root.reason = format!("{}; {words}", root.reason);
+                }
+            }
             EndMode { n: m.n, root, seed: super::ends::Seed { omega: seed, from: "the continued fraction's root, 1e-4 away".into() } }
         })
         .collect();
