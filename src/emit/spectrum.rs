@@ -912,6 +912,18 @@ fn series_rows(series: &SeriesReport, b: &EndsReport) -> String {
             o.push_str(&format!("  {:<2} NOT CONVERGED: {}{seed}\n", m.n, r.stop.text()));
             continue;
         }
+        if m.method == ModeMethod::Integrate {
+            // Found by direct integration where the continued fraction did not settle.
+            o.push_str(&format!(
+                "  {:<2} {:<44} [integrate] change on refinement {:.1e}, residual {:.1e}\n",
+                m.n,
+                fmt_complex(r.omega.re, r.omega.im),
+                r.depth_change,
+                r.residual
+            ));
+            o.push_str("     check: none: the continued fraction did not settle here, and this value is direct integration's alone (see the note)\n");
+            continue;
+        }
         o.push_str(&format!(
             "  {:<2} {:<44} [{}] depth {}, change on doubling {:.1e}, residual {:.1e}\n",
             m.n,

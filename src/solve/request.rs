@@ -1620,10 +1620,17 @@ pub(crate) fn series_between_ends(
         Err(e) => return Err(Box::new((bp, e))),
     };
     let (second, second_modes) = second_family(&bp, &second, &solve, opts, check);
+    let (cf_modes, alone) = integrate_where_unsettled(&bp, cf_modes, split, opts.tol);
     let o = SpectrumOptions { seeds: o.seeds.iter().skip(if climb { opts.overtones.0 as usize } else { 0 }).copied().collect(), ..o };
     let modes: Vec<EndMode> = cf_modes
         .iter()
         .map(|m| {
+            if m.method == ModeMethod::Integrate {
+                return super::ends::unfound(
+                    m.n,
+                    "not checked: found by direct integration itself, where the continued fraction did not settle".into(),
+                );
+            }
             if !m.root.converged {
                 return super::ends::unfound(m.n, "not checked: the continued fraction did not converge".into());
             }
@@ -1656,6 +1663,7 @@ pub(crate) fn series_between_ends(
         ));
     }
     numbering.extend(second);
+    numbering.extend(alone);
     let numbering = (!numbering.is_empty()).then(|| numbering.join("; "));
     let note = Some(format!("{why}: the continued fraction of a numeric series between the ends instead"));
     let checks = modes.iter().map(|_| None).collect();
@@ -1690,6 +1698,50 @@ pub(crate) fn barrier_seed<'a>(
 /// resolution of a real part (1e-6 of max(|ω|, the problem's scale)).
 fn purely_imaginary(w: Complex64, scale: f64) -> bool {
     w.re.abs() <= 1e-6 * w.norm().max(scale)
+}
+
+/// The overtones whose continued fraction did not settle (its depth limit,
+/// or its root finder's iteration limit) found instead by direct
+/// integration from the same seed, on the route `ends::find_root` picks:
+/// kept when the search converges below the real axis to a root no other
+/// overtone holds (and, with the families apart, not a purely imaginary
+/// one). Such a mode has one method's evidence (its standard and refined
+/// integrations), which the note says; none is numbered by it.
+fn integrate_where_unsettled(bp: &BoundaryProblem, mut modes: Vec<Mode>, split: bool, tol: f64) -> (Vec<Mode>, Option<String>) {
+    use super::cf::StopReason;
+    let mut found: Vec<u32> = Vec::new();
+    for i in 0..modes.len() {
+        let m = &modes[i];
+        let unsettled = !m.root.converged && matches!(m.root.stop, StopReason::DepthLimit | StopReason::RootIterations);
+        if !unsettled || m.method != ModeMethod::ContinuedFraction || !(m.seed.0.re.is_finite() && m.seed.0.im.is_finite()) {
+            continue;
+        }
+        let r = super::ends::find_root(bp, m.seed.0, tol);
+        let near = |w: Complex64| (w - r.omega).norm() <= 1e-8 * r.omega.norm().max(bp.scale);
+        let taken = modes.iter().enumerate().any(|(j, o)| j != i && o.root.converged && near(o.root.omega));
+        if !r.converged || r.omega.im >= 0.0 || taken || (split && purely_imaginary(r.omega, bp.scale)) {
+            continue;
+        }
+        let m = &mut modes[i];
+        m.root.omega = r.omega;
+        m.root.converged = true;
+        m.root.residual = r.residual;
+        m.root.iterations = r.iterations;
+        m.root.depth = 0;
+        m.root.depth_change = r.change;
+        m.root.stop = StopReason::Converged;
+        m.method = ModeMethod::Integrate;
+        found.push(m.n);
+    }
+    let note = (!found.is_empty()).then(|| {
+        let list: Vec<String> = found.iter().map(|n| n.to_string()).collect();
+        format!(
+            "overtone{} {}: the continued fraction did not settle, and the value is direct integration's alone from the same seed (its standard and refined integrations agree; no second method confirms it)",
+            if found.len() > 1 { "s" } else { "" },
+            list.join(", ")
+        )
+    });
+    (modes, note)
 }
 
 /// The second family of [`series_between_ends`] (purely imaginary modes
