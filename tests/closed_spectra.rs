@@ -349,15 +349,28 @@ fn de_sitter_static_patch_without_a_guess_starts_from_the_least_damped_mode() {
         assert_eq!(m["converged"], true, "{m}");
         assert!(close(c(&m["omega"]), *w, 1e-9), "n={}: {} is not {w}", m["n"], m["omega"]);
     }
-    // Without --ends the horizon is taken as a black hole's; the output says
-    // so and names the ends of the static patch.
+    // Without --ends: horizons at ±1 about a regular centre at r = 0 (f even
+    // in r) are read as de Sitter's, the static patch between the centre and
+    // the horizon; the output says so and names --ends for the region
+    // beyond. The same modes, for l = 1 and for l = 0 (where r = 0 is an
+    // ordinary point of Q and the potential's sign decides nothing).
+    for (at, l) in [("l=1,m=1/2", 1.0f64), ("l=0,m=1/2", 0.0)] {
+        let want = [cx(0.0, -(l + 1.5 - d)), cx(0.0, -(l + 1.5 - d + 2.0))];
+        let doc = run(&["spectrum", "tests/boundary/de_sitter_static_scalar.ode", "--at", at, "--overtones", "0..1", "--format", "json"]);
+        assert_eq!(doc["ends"][0]["at"].as_f64(), Some(0.0), "{doc}");
+        for (m, w) in doc["modes"].as_array().unwrap().iter().zip(&want) {
+            assert_eq!(m["converged"], true, "{m}");
+            assert!(close(c(&m["omega"]), *w, 1e-9), "{at} n={}: {} is not {w}", m["n"], m["omega"]);
+        }
+    }
     let out = Command::new(env!("CARGO_BIN_EXE_canonode"))
-        .args(["spectrum", "tests/boundary/de_sitter_static_scalar.ode", "--at", "l=1,m=1/2"])
+        .args(["spectrum", "tests/boundary/de_sitter_static_scalar.ode", "--at", "l=0,m=1/2"])
         .current_dir(env!("CARGO_MANIFEST_DIR"))
         .output()
         .expect("binary runs");
     let text = String::from_utf8_lossy(&out.stdout);
-    assert!(text.contains("a de Sitter static patch), name the ends with --ends 0..1"), "{text}");
+    assert!(text.contains("taken as the static patch of a de Sitter-like space"), "{text}");
+    assert!(text.contains("name the ends with --ends"), "{text}");
 }
 
 #[test]

@@ -522,8 +522,10 @@ fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &
     let inner = real_points.iter().rev().find(|p| p.z < outer.z - 1e-9 * outer.z.abs().max(1.0));
     // Beyond a cosmological horizon the potential turns negative; inside
     // it (between it and the next singular point inward) it is positive.
-    let beyond_is_static = match (inf, inner) {
-        (Nature::IrregularRank1, _) | (_, None) => true,
+    // Whether the static region lies beyond the outer horizon, and whether
+    // the potential's sign said so (else the horizons' arrangement did).
+    let (beyond_is_static, by_potential) = match (inf, inner) {
+        (Nature::IrregularRank1, _) | (_, None) => (true, false),
         (_, Some(inner)) => {
             // Two horizons next to each other with a regular infinity beyond:
             // a black-hole and a cosmological horizon (de Sitter). Otherwise the
@@ -531,7 +533,31 @@ fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &
             // horizon (as written, or in normal form) marks a cosmological one.
             let gap = outer.z - inner.z;
             let says = |eq: &NumOde| potential_at(eq, inner.z + 0.5 * gap) > 0.0 && potential_at(eq, outer.z + 0.5 * gap) < 0.0;
-            let interior = inner.nature == Nature::Horizon || says(unknown) || says(ode);
+            let by_potential = says(unknown) || says(ode);
+            // Horizons at ±r_h about a regular centre at r = 0 (real
+            // exponents a positive integer apart, as l + 1 and −l, or an
+            // ordinary point): the horizon polynomial is even, as de Sitter
+            // space's f = 1 − r²/L², whose static patch lies between the
+            // centre and the horizon (common practice). A black hole's
+            // centre is no such point (BTZ's exponents at r = 0 are
+            // ½ ± ik/r₊, Schwarzschild–anti-de Sitter's coincide).
+            let close = |x: f64, y: f64| (x - y).abs() <= 1e-9 * y.abs().max(1.0);
+            let centre = inner.ordinary
+                || exponents_at(ode, inner.z, Complex64::new(1.0, 0.0)).is_some_and(|[e1, e2]| {
+                    let d = (e1 - e2).re.abs();
+                    (e1 - e2).im.abs() <= 1e-9 && d >= 1.0 - 1e-9 && (d - d.round()).abs() <= 1e-9
+                });
+            let mirrored = centre
+                && inner.z.abs() <= 1e-12 * outer.z.abs().max(1.0)
+                && real_points.iter().any(|p| p.nature == Nature::Horizon && close(p.z, -outer.z));
+            if mirrored && !by_potential && inner.nature != Nature::Horizon {
+                notes.push(format!(
+                    "horizons at ±{} about a regular centre at 0: taken as the static patch of a de Sitter-like space, the domain between the centre and the horizon (the potential's sign alone does not decide this at these values; for the region beyond the horizon name the ends with {opt_ends})",
+                    fmt(outer.z),
+                    opt_ends = RequestInput::Ends.mention()
+                ));
+            }
+            let interior = inner.nature == Nature::Horizon || mirrored || by_potential;
             if inner.nature == Nature::Horizon {
                 notes.push(format!("two horizons with a regular infinity beyond: taken as a black-hole and a cosmological horizon (for the inner and outer horizons of an anti-de Sitter black hole name the ends with {opt_ends})", opt_ends = RequestInput::Ends.mention()));
             } else if !interior {
@@ -546,7 +572,7 @@ fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &
                     opt_ends = RequestInput::Ends.mention()
                 ));
             }
-            !interior
+            (!interior, by_potential)
         }
     };
     let at = |p: &RealPoint| FoundEnd { location: Location::At(p.z), nature: p.nature, found: describe(p) };
@@ -560,7 +586,9 @@ fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &
     } else {
         // The outermost horizon is cosmological: the domain lies inside it.
         let Some(inner) = inner else { return Err(Error::new(ErrorKind::Internal, "no inner end")) };
-        notes.push("the potential is negative beyond the outermost horizon: the static region, the domain, lies inside it (a cosmological horizon, or a black hole's in an inverted radial variable such as u = r₊²/r²)".to_string());
+        if by_potential {
+            notes.push("the potential is negative beyond the outermost horizon: the static region, the domain, lies inside it (a cosmological horizon, or a black hole's in an inverted radial variable such as u = r₊²/r²)".to_string());
+        }
         Ok([at(inner), FoundEnd { nature: Nature::Horizon, ..at(outer) }])
     }
 }
