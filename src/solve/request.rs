@@ -1701,25 +1701,29 @@ fn purely_imaginary(w: Complex64, scale: f64) -> bool {
 }
 
 /// The overtones whose continued fraction did not settle (its depth limit,
-/// or its root finder's iteration limit) found instead by direct
-/// integration from the same seed, on the route `ends::find_root` picks:
-/// kept when the search converges below the real axis to a root no other
-/// overtone holds (and, with the families apart, not a purely imaginary
-/// one). Such a mode has one method's evidence (its standard and refined
+/// or its root finder's iteration limit) or settled on a root refused as
+/// not theirs, found instead by direct integration from the same seed, on
+/// the route `ends::find_root` picks: kept when the search converges in
+/// the lower right quadrant to a root no other overtone holds (and, with
+/// the families apart, not a purely imaginary one). Such a mode has one method's evidence (its standard and refined
 /// integrations), which the note says; none is numbered by it.
 fn integrate_where_unsettled(bp: &BoundaryProblem, mut modes: Vec<Mode>, split: bool, tol: f64) -> (Vec<Mode>, Option<String>) {
     use super::cf::StopReason;
     let mut found: Vec<u32> = Vec::new();
     for i in 0..modes.len() {
         let m = &modes[i];
-        let unsettled = !m.root.converged && matches!(m.root.stop, StopReason::DepthLimit | StopReason::RootIterations);
+        // The fraction failed to settle, or settled on a root refused as
+        // not this overtone's (another overtone's again, the other family's,
+        // outside the lower right quadrant): the seed is still this one's.
+        let unsettled = !m.root.converged && matches!(m.root.stop, StopReason::DepthLimit | StopReason::RootIterations | StopReason::Rejected(_));
         if !unsettled || m.method != ModeMethod::ContinuedFraction || !(m.seed.0.re.is_finite() && m.seed.0.im.is_finite()) {
             continue;
         }
         let r = super::ends::find_root(bp, m.seed.0, tol);
         let near = |w: Complex64| (w - r.omega).norm() <= 1e-8 * r.omega.norm().max(bp.scale);
         let taken = modes.iter().enumerate().any(|(j, o)| j != i && o.root.converged && near(o.root.omega));
-        if !r.converged || r.omega.im >= 0.0 || taken || (split && purely_imaginary(r.omega, bp.scale)) {
+        let quadrant = r.omega.im < 0.0 && r.omega.re >= -1e-8 * r.omega.norm();
+        if !r.converged || !quadrant || taken || (split && purely_imaginary(r.omega, bp.scale)) {
             continue;
         }
         let m = &mut modes[i];
@@ -1736,7 +1740,7 @@ fn integrate_where_unsettled(bp: &BoundaryProblem, mut modes: Vec<Mode>, split: 
     let note = (!found.is_empty()).then(|| {
         let list: Vec<String> = found.iter().map(|n| n.to_string()).collect();
         format!(
-            "overtone{} {}: the continued fraction did not settle, and the value is direct integration's alone from the same seed (its standard and refined integrations agree; no second method confirms it)",
+            "overtone{} {}: the continued fraction did not settle on it, and the value is direct integration's alone from the same seed (its standard and refined integrations agree; no second method confirms it)",
             if found.len() > 1 { "s" } else { "" },
             list.join(", ")
         )
