@@ -882,13 +882,7 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
     for (i, m) in b.modes.iter().enumerate() {
         let r = &m.root;
         if r.converged {
-            o.push_str(&format!(
-                "  {:<2} {:<44} [integrate] change on refinement {:.1e}, residual {:.1e}\n",
-                m.n,
-                fmt_complex(r.omega.re, r.omega.im),
-                r.change,
-                r.residual
-            ));
+            o.push_str(&integrate_row(m.n, r.omega, r.change, r.residual));
             if let Some(c) = b.checks.get(i).and_then(|c| c.as_ref()) {
                 match c.omega {
                     Some(w) => o.push_str(&format!("     check: {} {}, agreement {:.1e}\n", c.method.words(), fmt_complex(w.re, w.im), c.agreement)),
@@ -900,6 +894,12 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
         }
     }
     o
+}
+
+/// The row of a mode found by direct integration: its value, the change
+/// between the standard and refined integrations, and the residual.
+fn integrate_row(n: u32, w: Complex64, change: f64, residual: f64) -> String {
+    format!("  {:<2} {:<44} [integrate] change on refinement {change:.1e}, residual {residual:.1e}\n", n, fmt_complex(w.re, w.im))
 }
 
 /// The rows of the numeric series' modes, each with its check by direct integration.
@@ -914,13 +914,7 @@ fn series_rows(series: &SeriesReport, b: &EndsReport) -> String {
         }
         if m.method == ModeMethod::Integrate {
             // Found by direct integration where the continued fraction did not settle.
-            o.push_str(&format!(
-                "  {:<2} {:<44} [integrate] change on refinement {:.1e}, residual {:.1e}\n",
-                m.n,
-                fmt_complex(r.omega.re, r.omega.im),
-                r.depth_change,
-                r.residual
-            ));
+            o.push_str(&integrate_row(m.n, r.omega, r.depth_change, r.residual));
             o.push_str("     check: none: the continued fraction did not settle here, and this value is direct integration's alone (see the note)\n");
             continue;
         }

@@ -47,26 +47,13 @@ fn pick_exponent(ode: &super::NumOde, k: &Coeffs, h: &integrate::Horizon, z: f64
     }
 }
 
-/// y and dy/dz at distance `delta` (signed, z − z_end) from a finite end or,
-/// in t = 1/z, from a regular infinity, obeying `cond`: the Frobenius series
-/// of the chosen exponent, or for a mixed condition the slower fall-off's
-/// series plus κ times the faster one's, each with unit leading coefficient
-/// in the distance |delta|.
-fn end_start(
-    ode: &super::NumOde,
-    k: &Coeffs,
-    h: &integrate::Horizon,
-    z: f64,
-    cond: Condition,
-    w: Complex64,
-    delta: f64,
-) -> Result<(Complex64, Complex64), String> {
-    end_start_at(ode, k, h, z, cond, w, Complex64::new(delta, 0.0), Complex64::new(delta.abs().ln(), 0.0))
-}
-
-/// [`end_start`] at a complex offset `delta` = z − z_end, with `log_dist`
-/// the logarithm of the distance to the end that fixes the leading
-/// factors' branch (see [`integrate::frobenius_at`]).
+/// y and dy/dz at the offset `delta` = z − z_end (complex in general) from a
+/// finite end or, in t = 1/z, from a regular infinity, obeying `cond`: the
+/// Frobenius series of the chosen exponent, or for a mixed condition the
+/// slower fall-off's series plus κ times the faster one's, each with unit
+/// leading coefficient in the distance to the end; `log_dist` is the
+/// logarithm of that distance, which fixes the leading factors' branch
+/// (see [`integrate::frobenius_at`]; [`real_offset`] for a real `delta`).
 #[allow(clippy::too_many_arguments)]
 fn end_start_at(
     ode: &super::NumOde,
@@ -178,6 +165,12 @@ pub(super) fn route_for(bp: &BoundaryProblem, seed: Complex64) -> Route {
 fn start_distances(a: f64, b: f64, dl: f64, dr: f64, p: &Params) -> (f64, f64) {
     let sl = p.start_fraction * dl;
     (sl, (p.start_fraction * dr).min(0.5 * (b - a - sl)))
+}
+
+/// A real offset from an end as [`end_start_at`] takes it: the offset and
+/// ln |offset| (a real logarithm needs no branch choice).
+fn real_offset(delta: f64) -> (Complex64, Complex64) {
+    (Complex64::new(delta, 0.0), Complex64::new(delta.abs().ln(), 0.0))
 }
 
 /// The equation in t = 1/z: with y(z) = Y(t), A(1/t)(t⁴Y'' + 2t³Y') − B(1/t)t²Y' + C(1/t)Y = 0,
@@ -313,7 +306,8 @@ fn matched(bp: &BoundaryProblem, w: Complex64, p: &Params, route: &Route) -> Res
     let hl = integrate::horizon(&k, a)?;
     let dl = if hl.d.is_finite() { hl.d } else { 1.0 + a.abs() };
     let z_l = a + p.start_fraction * dl;
-    let (yl, dyl) = end_start(&bp.ode, &k, &hl, a, left.condition, w, z_l - a)?;
+    let (t, log) = real_offset(z_l - a);
+    let (yl, dyl) = end_start_at(&bp.ode, &k, &hl, a, left.condition, w, t, log)?;
     let zl = Complex64::new(z_l, 0.0);
     let mut steps = 0;
     let (mut yl, mut dyl) = (yl, dyl);
@@ -357,7 +351,8 @@ fn matched(bp: &BoundaryProblem, w: Complex64, p: &Params, route: &Route) -> Res
             // Start where 1/t lies beyond the matching point.
             let delta = (p.start_fraction * dt).min(0.5 / z_l.abs().max(1e-300));
             // In t = 1/z the larger real part is the faster fall-off, as at a finite end.
-            let (y, dyt) = end_start(&bp.ode, &kt, &ht, 0.0, right.condition, w, delta)?;
+            let (t, log) = real_offset(delta);
+            let (y, dyt) = end_start_at(&bp.ode, &kt, &ht, 0.0, right.condition, w, t, log)?;
             let from = Complex64::new(1.0 / delta, 0.0);
             // dy/dz = −t² dY/dt.
             let dy = -delta * delta * dyt;
