@@ -105,6 +105,14 @@ fn num(x: f64) -> String {
     format!("{x:.17e}")
 }
 
+/// The words a converged mode carries in the reason column when its value
+/// is direct integration's alone (the continued fraction did not settle
+/// on it), so that no reader takes it for a checked one.
+fn alone(m: &crate::solve::spectrum::Mode) -> Option<&'static str> {
+    (m.method == crate::solve::spectrum::ModeMethod::Integrate)
+        .then_some("direct integration alone: the continued fraction did not settle on this mode")
+}
+
 /// The text of one point.
 pub(crate) fn point_text(p: &ScanPoint, layout: Layout, h: &Header) -> String {
     match layout {
@@ -124,7 +132,8 @@ pub(crate) fn point_text(p: &ScanPoint, layout: Layout, h: &Header) -> String {
                     _ => none.to_string(),
                 };
                 if r.converged {
-                    o.push_str(&format!("{lead},{},{},{},true,{cre},{cim},{angular}\n", m.n, num(r.omega.re), num(r.omega.im)));
+                    let note = alone(m).map(|w| format!("\"{w}\"")).unwrap_or_default();
+                    o.push_str(&format!("{lead},{},{},{},true,{cre},{cim},{angular}{note}\n", m.n, num(r.omega.re), num(r.omega.im)));
                 } else {
                     o.push_str(&format!("{lead},{},,,false,,,{none}\"{}\"\n", m.n, r.stop.text().replace('"', "'")));
                 }
@@ -148,7 +157,7 @@ pub(crate) fn point_json(p: &ScanPoint, h: &Header, keyed: bool) -> Value {
                 "n": m.n,
                 "omega": if m.root.converged { json!([m.root.omega.re, m.root.omega.im]) } else { Value::Null },
                 "converged": m.root.converged,
-                "reason": if m.root.converged { Value::Null } else { Value::String(m.root.stop.text()) },
+                "reason": if m.root.converged { alone(m).map_or(Value::Null, |w| Value::String(w.to_string())) } else { Value::String(m.root.stop.text()) },
                 "check": c.map(|c| json!({"method": "integrate", "omega": [c.re, c.im]})),
             });
             if h.angular {

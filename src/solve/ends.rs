@@ -246,8 +246,9 @@ struct Matched {
     steps: usize,
 }
 
-/// The normalised Wronskian of the two end solutions at ω, and the Taylor
-/// steps it took.
+/// The normalised Wronskian of the two end solutions at ω (on a complex
+/// route, their Wronskian divided by the route's fixed scale), and the
+/// Taylor steps it took.
 fn evaluate(bp: &BoundaryProblem, w: Complex64, p: &Params, route: &Route) -> Result<(Complex64, usize), String> {
     let m = matched(bp, w, p, route)?;
     if route.is_complex() {

@@ -15,6 +15,12 @@
 //! exponent difference ~ ±iω/κ turns the phase into growth, and matching at
 //! a point off the axis, brings it back down.
 //!
+//! That estimate only decides whether other routes are tried. The routes
+//! themselves are judged by the error actually committed: the Wronskian of
+//! the two solutions, each normalised at its own end, is the same function
+//! of ω on every route, so what the standard and refined discretisations
+//! disagree on is error.
+//!
 //! A [`Route`] is fixed once per root search (at the seed), so that the
 //! mismatch is the same function of ω at every trial value. The loop made
 //! by the route and the real segment between the ends must enclose no
@@ -36,7 +42,8 @@ pub struct Route {
     /// i·lift·(b − a)/2.
     pub lift: f64,
     /// ln of the fixed scale the Wronskian is divided by on a complex
-    /// route (the route's [`Judge::measure`] at the seed). Off the axis
+    /// route: its natural size on the route at the seed (the largest
+    /// product of the two solutions' sizes met, from [`Judge::measure`]). Off the axis
     /// the two solutions' sizes at the matching point change by orders of
     /// magnitude within a small change of ω, so a mismatch normalised by
     /// them is far from analytic and the root search stalls; the
