@@ -1957,5 +1957,21 @@ fn schwarzschild_de_sitter_at_small_lambda_tends_to_schwarzschild() {
     }
     if ms.iter().any(|m| m["method"] == "integrate") {
         assert!(v["notes"].to_string().contains("direct integration's alone"), "{v}");
+        // A scan's table says the same in the mode's reason.
+        let pts = scan_points(&[
+            "scan",
+            "samples/schwarzschild_de_sitter_scalar.ode",
+            "--vary",
+            "Lambda=0.0001:0.0001:0.0001",
+            "--at",
+            "M=1,l=2",
+            "--overtones",
+            "1..1",
+            "--format",
+            "json",
+        ]);
+        let mode = &pts[0]["modes"][0];
+        assert_eq!(mode["converged"], true, "{mode}");
+        assert!(mode["reason"].as_str().is_some_and(|r| r.contains("direct integration alone")), "{mode}");
     }
 }
