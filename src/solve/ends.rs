@@ -153,7 +153,7 @@ pub(super) fn route_for(bp: &BoundaryProblem, seed: Complex64) -> Route {
         };
         let (w1, w2) = (raw(&integrate::STANDARD)?, raw(&integrate::REFINED)?);
         let error = (w1 - w2).norm();
-        (error > 0.0 && error.is_finite()).then(|| (error.ln(), worst.ln()))
+        (error > 0.0 && error.is_finite() && worst > 0.0 && worst.is_finite()).then(|| (error.ln(), worst.ln()))
     };
     let judge = super::route::Judge { k: &k, zeros: &bp.zeros, ends: (a, b), dists: (sl, sr), exps: [el, er], measure: &measure };
     super::route::choose(&judge)

@@ -1705,8 +1705,9 @@ fn purely_imaginary(w: Complex64, scale: f64) -> bool {
 /// not theirs, found instead by direct integration from the same seed, on
 /// the route `ends::find_root` picks: kept when the search converges in
 /// the lower right quadrant to a root no other overtone holds (and, with
-/// the families apart, not a purely imaginary one). Such a mode has one method's evidence (its standard and refined
-/// integrations), which the note says; none is numbered by it.
+/// the families apart, not a purely imaginary one). Such a mode has one
+/// method's evidence (its standard and refined integrations), which the
+/// note says.
 fn integrate_where_unsettled(bp: &BoundaryProblem, mut modes: Vec<Mode>, split: bool, tol: f64) -> (Vec<Mode>, Option<String>) {
     use super::cf::StopReason;
     let mut found: Vec<u32> = Vec::new();
