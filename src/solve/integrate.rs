@@ -242,6 +242,18 @@ impl Coeffs {
     }
 }
 
+impl Coeffs {
+    /// A, B and C at the point z.
+    pub(super) fn values(&self, z: Complex64) -> [Complex64; 3] {
+        [horner(&self.a, z), horner(&self.b, z), horner(&self.c, z)]
+    }
+}
+
+/// Horner's rule: the polynomial with coefficients `c` (lowest first) at x.
+pub(super) fn horner(c: &[Complex64], x: Complex64) -> Complex64 {
+    c.iter().rev().fold(ZERO, |acc, a| acc * x + a)
+}
+
 fn finite(x: Complex64) -> bool {
     x.re.is_finite() && x.im.is_finite()
 }
@@ -630,8 +642,7 @@ fn taylor_step(k: &Coeffs, z0: Complex64, h: Complex64, y: Complex64, dy: Comple
 /// The largest |λ| of the characteristic roots A λ² + B λ + C = 0 at z: the
 /// rate at which solutions change there (for a fast wave, its wave number).
 fn local_rate(k: &Coeffs, z: Complex64) -> f64 {
-    let at = |p: &[Complex64]| p.iter().rev().fold(ZERO, |acc, c| acc * z + c);
-    let (a, b, c) = (at(&k.a), at(&k.b), at(&k.c));
+    let [a, b, c] = k.values(z);
     let an = a.norm();
     if an == 0.0 {
         return 0.0;

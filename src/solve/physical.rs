@@ -123,11 +123,6 @@ fn numeric_coefficients(p: &crate::algebra::Poly, values: &[GRat], freq: usize) 
     (c, moves)
 }
 
-/// Horner's rule.
-fn horner(c: &[Complex64], x: Complex64) -> Complex64 {
-    c.iter().rev().fold(Complex64::new(0.0, 0.0), |acc, a| acc * x + a)
-}
-
 /// True when a root is real (to the tolerance the boundary problem uses).
 fn is_real(z: Complex64) -> bool {
     z.im.abs() <= 1e-9 * z.re.abs().max(1.0)
@@ -180,7 +175,7 @@ impl Chart {
         };
         let mut real: Vec<f64> = roots.into_iter().filter(|z| is_real(*z)).map(|z| z.re).collect();
         // A root of N − r₀D that is also a root of D is no preimage.
-        real.retain(|t| end == Location::Infinity || horner(&den, Complex64::new(*t, 0.0)).norm() > 1e-12);
+        real.retain(|t| end == Location::Infinity || super::integrate::horner(&den, Complex64::new(*t, 0.0)).norm() > 1e-12);
         real.sort_by(f64::total_cmp);
         real.dedup_by(|a, b| (*a - *b).abs() <= 1e-9 * a.abs().max(1.0));
         match (real.as_slice(), at_infinity) {
@@ -199,7 +194,7 @@ impl Chart {
         let (num, den) = self.parts(values, freq)?;
         match at {
             Location::At(t) => {
-                let (n, d) = (horner(&num, Complex64::new(t, 0.0)), horner(&den, Complex64::new(t, 0.0)));
+                let (n, d) = (super::integrate::horner(&num, Complex64::new(t, 0.0)), super::integrate::horner(&den, Complex64::new(t, 0.0)));
                 if d.norm() <= 1e-14 * n.norm().max(1e-300) {
                     return Some(Location::Infinity);
                 }

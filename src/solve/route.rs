@@ -101,13 +101,9 @@ const STEP_GAIN: f64 = 1.0;
 /// the distance to the nearest singular point).
 const COST_STEPS: usize = 4000;
 
-fn horner(p: &[Complex64], z: Complex64) -> Complex64 {
-    p.iter().rev().fold(Complex64::new(0.0, 0.0), |acc, c| acc * z + c)
-}
-
 /// λ_other − λ_wanted at z, on the branch nearest `prev`.
 fn difference(k: &Coeffs, z: Complex64, prev: Complex64) -> Option<Complex64> {
-    let (a, b, c) = (horner(&k.a, z), horner(&k.b, z), horner(&k.c, z));
+    let [a, b, c] = k.values(z);
     if a.norm() == 0.0 {
         return None;
     }
