@@ -33,7 +33,10 @@ def test_two_threads_give_the_sequential_results():
 
 
 def test_python_runs_while_the_library_works():
-    # If the call held the GIL, this thread could not run at all until it returned.
+    # If the call held the GIL, this thread could not run at all until it
+    # returned. The call is a 100-point scan (a few tenths of a second), long
+    # enough that the counting thread, waking every millisecond, ticks many
+    # times however fast a single spectrum becomes.
     done = threading.Event()
     ticks = []
 
@@ -46,7 +49,7 @@ def test_python_runs_while_the_library_works():
     before = len(ticks)
     t.start()
     try:
-        canonode.spectrum(RW, at={"M": 1, "l": 2, "s": 2}, overtones=(0, 7))
+        canonode.scan(DEMO, "h", np.linspace(0, 2, 100), at={"M": 1, "l": 2}, overtones=(0, 2))
         during = len(ticks)
     finally:
         done.set()
