@@ -20,6 +20,7 @@ fn bench(c: &mut Criterion) {
         tol: 1e-10,
         guess: None,
         seeds: Vec::new(),
+        seeds_from: canonode::numeric::SeedSource::GlobalMethod,
     };
     let opts = at(2, 2);
     let r = substitute(&red, &opts.values, 2).expect("substitutes");

@@ -129,7 +129,7 @@ pub use emit::{
 pub mod numeric {
     // The spectrum: one call from a reduction and a request to a report.
     pub use crate::solve::request::{spectrum, CoupleRequest, Method, Problem, SpectrumReport, SpectrumRequest, ANGULAR_ORIGIN};
-    pub use crate::solve::spectrum::SpectrumOptions;
+    pub use crate::solve::spectrum::{SeedSource, SpectrumOptions};
     // Coupled equations: the joint parameter names, a link, an angular equation.
     pub use crate::solve::coupled::{joint_names, try_angular, Link};
     // Boundary problems between given ends.

@@ -374,6 +374,47 @@ fn de_sitter_static_patch_without_a_guess_starts_from_the_least_damped_mode() {
 }
 
 #[test]
+fn interleaved_families_are_numbered_together() {
+    // The de Sitter static patch of the test above, in the tortoise
+    // coordinate x (r = tanh x, f = sech²x): V = l(l+1)/sinh²x + (m² − 2)/cosh²x.
+    // At l = 1, m² = 1/2 the two families −i(l + 3/2 ∓ √(9/4 − m²) + 2n)
+    // interleave: by damping the modes are −i(l + Δ₋), −i(l + Δ₋ + 2),
+    // −i(l + Δ₊), −i(l + Δ₋ + 4) (Natário & Schiappa 2004, derived from the
+    // hypergeometric solution in the test above). The global method resolves
+    // only the first two and the ladder's extrapolation passes over −i(l + Δ₊);
+    // the closed form's values then seed the numeric table, which lists all
+    // four, each polished and checked numerically.
+    let s = (9.0f64 / 4.0 - 0.5).sqrt();
+    let want = [-(2.5 - s), -(4.5 - s), -(2.5 + s), -(6.5 - s)];
+    let doc = run(&[
+        "spectrum",
+        "-e",
+        "psi'' + (w^2 - l*(l+1)/sinh(x)^2 - (m2-2)/cosh(x)^2)*psi = 0",
+        "--var",
+        "x",
+        "--at",
+        "l=1,m2=1/2",
+        "--overtones",
+        "0..3",
+        "--format",
+        "json",
+    ]);
+    let modes = doc["modes"].as_array().unwrap();
+    assert_eq!(modes.len(), 4, "{doc}");
+    for (m, im) in modes.iter().zip(want) {
+        assert_eq!(m["converged"], true, "{m}");
+        assert!(close(c(&m["omega"]), cx(0.0, im), 1e-9), "n={}: {} is not {im}i", m["n"], m["omega"]);
+    }
+    assert!(modes[2]["evidence"]["seed_from"].as_str().unwrap_or("").contains("closed form"), "{}", modes[2]);
+    // No exact value is passed over by the numeric table any more.
+    for fam in doc["closed_form"]["families"].as_array().unwrap() {
+        for v in fam["values"].as_array().unwrap() {
+            assert!(v["numeric_passed_over_from"].is_null(), "{v}");
+        }
+    }
+}
+
+#[test]
 fn a_centre_that_is_an_ordinary_point_can_be_an_end() {
     // Global AdS₄, massless scalar, l = 0: Q has no pole at r = 0 (ψ = r·φ is
     // analytic there), so the centre is an ordinary point; given as an end,

@@ -424,3 +424,32 @@ fn mutated_latex_never_panics() {
         }
     }
 }
+
+/// Values and the frequency may name parameters as the paper's LaTeX writes
+/// them (`\ell`, `r_{h}`, `\omega`): the Schwarzschild–anti-de Sitter scalar
+/// pasted from LaTeX in the horizon radius, L = 1, r₊ = 1, l = 0, gives
+/// Horowitz & Hubeny's 2.7982 − 2.6712i (Phys. Rev. D 62 (2000) 024027,
+/// from memory); a misspelt name is still refused with its place.
+#[test]
+fn latex_names_on_the_command_line() {
+    let dir = std::env::temp_dir().join(format!("canonode-latex-names-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let tex = dir.join("sads.tex");
+    std::fs::write(
+        &tex,
+        "f\\frac{d}{dr}\\left(f\\frac{d\\phi}{dr}\\right) + \\left(w^2 - f\\left(\\frac{\\ell(\\ell+1)}{r^2}+\\frac{f'}{r}\\right)\\right)\\phi = 0, \\quad f = r^2 + 1 - \\frac{r_h(r_h^2+1)}{r}\n",
+    )
+    .unwrap();
+    let path = tex.to_str().unwrap();
+    let out = canonode(&["spectrum", path, "--at", "r_{h}=1,\\ell=0", "--frequency", "w", "--format", "json"]);
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let m = &v["modes"][0];
+    let (re, im) = (m["omega"][0].as_f64().unwrap(), m["omega"][1].as_f64().unwrap());
+    assert!((re - 2.7982).abs() < 1e-4 && (im + 2.6712).abs() < 1e-4, "{re} {im}");
+    let bad = canonode(&["spectrum", path, "--at", "r_{h}=1,\\ellx=0"]);
+    assert!(!bad.status.success());
+    let err = String::from_utf8_lossy(&bad.stderr);
+    assert!(err.contains("'\\ellx' is not a parameter") && err.contains("--at:1:"), "{err}");
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -138,6 +138,7 @@ fn the_library_s_recurrence_of_an_equation_seen_from_infinity_is_the_physical_on
         tol: 1e-10,
         guess: Some(num_complex::Complex64::new(0.37, -0.09)),
         seeds: Vec::new(),
+        seeds_from: canonode::numeric::SeedSource::GlobalMethod,
     };
     let (modes, setup) = qnm_modes(&red, &opts, &|_| None).expect("modes");
     assert_eq!(setup.horizon_value, 2.0, "{}", setup.horizon);

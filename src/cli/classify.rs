@@ -79,7 +79,7 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
     };
     // Labels need a frequency: the one named, or omega/ω/w when declared.
     let freq_name =
-        a.input.frequency.clone().or_else(|| ["omega", "ω", "w"].iter().find(|n| red.ode.params.iter().any(|p| p == *n)).map(|s| s.to_string()));
+        a.input.frequency_name().or_else(|| ["omega", "ω", "w"].iter().find(|n| red.ode.params.iter().any(|p| p == *n)).map(|s| s.to_string()));
     let freq = match &freq_name {
         Some(f) => match k.names().iter().skip(1).position(|n| n == f) {
             Some(i) => Some(i + 1),

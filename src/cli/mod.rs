@@ -206,22 +206,23 @@ impl InputArgs {
             subst: self.subst.clone(),
             at_infinity: self.at_infinity,
             dxdz: self.dxdz.clone(),
-            frequency: self.frequency.clone(),
+            frequency: self.frequency_name(),
             map: self.map.clone(),
             ..ReduceOptions::default()
         }
     }
 
     /// The frequency parameter named with --frequency.
+    /// A name as LaTeX writes it (`\omega`) is the equation's name for it.
     pub(crate) fn frequency_name(&self) -> Option<String> {
-        self.frequency.clone()
+        self.frequency.as_deref().map(values::param_name)
     }
 
     /// The field index of the parameter named with --frequency (`None`
     /// when not given), or an error when it is not a parameter of `red`.
     pub(crate) fn frequency_index(&self, red: &crate::ode::Reduction) -> Result<Option<usize>, Failure> {
-        let Some(name) = &self.frequency else { return Ok(None) };
-        match red.field.names().iter().skip(1).position(|n| n == name) {
+        let Some(name) = self.frequency_name() else { return Ok(None) };
+        match red.field.names().iter().skip(1).position(|n| *n == name) {
             Some(i) => Ok(Some(i + 1)),
             None => Err(crate::error::Error::new(crate::error::ErrorKind::Usage, format!("'{name}' is not a parameter of the equation"))
                 .in_option(crate::error::RequestInput::Frequency)

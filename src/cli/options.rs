@@ -81,7 +81,8 @@ pub(crate) fn angular_index(j: usize) -> Result<usize, Failure> {
 pub(crate) fn vary(text: &str, names: &[String], freq: usize) -> Result<(String, usize, Vec<Rat>), Failure> {
     let bad = |msg: &str| usage(msg, "--vary", text.len());
     let Some((vname, spec)) = text.split_once('=') else { return Err(bad("expected NAME=A:B:STEP")) };
-    let vname = vname.trim();
+    let vname = super::values::param_name(vname);
+    let vname = vname.as_str();
     let Some(vary) = names.iter().skip(1).position(|n| n == vname).map(|i| i + 1) else {
         return Err(bad(&format!("'{vname}' is not a parameter of the equation")));
     };

@@ -42,6 +42,17 @@ pub(crate) fn read_value(text: &str) -> std::result::Result<GRat, String> {
 
 pub(crate) use crate::algebra::parse_complex;
 
+/// A parameter's name as given on the command line: as LaTeX writes it
+/// (`\ell`, `r_{+}`) it is the equation's name for it (`l`, `r_plus`).
+pub(crate) fn param_name(written: &str) -> String {
+    let written = written.trim();
+    if written.contains(['\\', '{']) {
+        crate::syntax::latex_name(written).unwrap_or_else(|| written.to_string())
+    } else {
+        written.to_string()
+    }
+}
+
 /// Parses `name=value,name=value,...`; spans point into `text`.
 pub(crate) fn parse_assignments(text: &str, option: &str) -> Result<Vec<(String, GRat, Span)>> {
     let mut out: Vec<(String, GRat, Span)> = Vec::new();
@@ -55,7 +66,7 @@ pub(crate) fn parse_assignments(text: &str, option: &str) -> Result<Vec<(String,
         let Some(eq) = piece.find('=') else {
             return Err(Error::new(ErrorKind::Usage, format!("expected NAME=VALUE, found '{}'", piece.trim())).at(span).in_named(option));
         };
-        let name = piece[..eq].trim().to_string();
+        let name = param_name(&piece[..eq]);
         let value = &piece[eq + 1..];
         let vspan = Span::new(span.start + eq + 1, span.end);
         let v = read_value(value).map_err(|m| Error::new(ErrorKind::Usage, m).at(vspan).in_named(option))?;

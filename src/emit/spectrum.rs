@@ -351,7 +351,8 @@ fn closed_json(form: &ClosedForm, values: &[Vec<(u32, Complex64)>], numeric: &[(
                     let check = closed_check(*w, numeric).map_or(Value::Null, |(mn, mw, method)| {
                         json!({"method": method.tag(), "n": mn, "omega": pair(mw), "agreement": (mw - w).norm() / w.norm().max(1e-300)})
                     });
-                    json!({"n": n, "omega": pair(*w), "method": "exact", "check": check})
+                    let passed = if check.is_null() { crate::solve::request::passed_over(*w, numeric) } else { None };
+                    json!({"n": n, "omega": pair(*w), "method": "exact", "check": check, "numeric_passed_over_from": passed})
                 })
                 .collect();
             json!({
@@ -394,7 +395,12 @@ fn closed_text(fname: &str, form: &ClosedForm, values: &[Vec<(u32, Complex64)>],
                         format!("; the numeric table numbers it n = {mn} (agreement {agree:.1e})")
                     }
                 }
-                None => String::new(),
+                None => match crate::solve::request::passed_over(*w, numeric) {
+                    Some(k) => format!(
+                        "; the numeric table has no mode here, though its overtones from n = {k} on lie beyond this value: their numbers are short by one for each exact value passed over"
+                    ),
+                    None => String::new(),
+                },
             };
             s.push_str(&format!("    n = {n}: {}  (exact{check})\n", fmt_complex(w.re, w.im)));
         }

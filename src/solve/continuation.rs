@@ -300,7 +300,13 @@ pub fn continued_spectrum(red: &Reduction, coupling: &mut Coupling, opts: &Spect
         let o = at_t(coupling, opts, p, radial, &value);
         let pred = predict(&hist, tf);
         let last = hist.last().map(|h| h.1.clone()).unwrap_or_default();
-        let verdict = step_modes(red, coupling, &mut path_rec, &SpectrumOptions { seeds: pred.clone(), ..o }).map(|w| {
+        let verdict = step_modes(
+            red,
+            coupling,
+            &mut path_rec,
+            &SpectrumOptions { seeds: pred.clone(), seeds_from: super::spectrum::SeedSource::Neighbour, ..o },
+        )
+        .map(|w| {
             let worst = w.iter().zip(&pred).zip(&last).map(|((w, q), l)| (w - q).norm() / w.norm().max(l.norm()).max(1e-300)).fold(0.0, f64::max);
             (w, worst)
         });

@@ -750,7 +750,7 @@ fn spectrum_in(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport>
     if req.method == Method::Exact {
         return exact_only(red, req);
     }
-    let Numeric { mut report, freq, point, ends } = numeric(red, req)?;
+    let Numeric { mut report, freq, point, ends } = numeric(red, req, Vec::new())?;
     if req.closed_form && req.couple.is_none() {
         let ends = match &report.body {
             Body::Bound(b) => bound_ends(b.domain),
@@ -762,11 +762,75 @@ fn spectrum_in(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport>
             Body::Periodic(_) => ClosedSection::None("closed forms are derived for problems between two ends, not for periodic ones".into()),
             _ => closed_section(red, req, freq, &point, ends),
         };
+        if let Some(seeds) = exact_seeds(&report, req, &point) {
+            // The numeric search passed over exact values (a second family
+            // between its overtones): again from the exact values as seeds,
+            // kept when it passes over fewer.
+            let again = numeric(red, req, seeds)?.report;
+            if passed_over_count(&again.body, &report.closed) < passed_over_count(&report.body, &report.closed) {
+                report.body = again.body;
+                report.mode_functions = again.mode_functions;
+                let words = "the seeds are the closed form's exact values, its families together, numbered by |Im ω| (the numeric search from its own seeds passed over some of them); each is still polished and checked numerically";
+                match &mut report.body {
+                    Body::Ends(e) => e.numbering = Some(words.to_string()),
+                    Body::Recurrence(r) => r.notes.push(words.to_string()),
+                    _ => {}
+                }
+            }
+        }
     }
     if let Some(degree) = req.polynomial {
         report.polynomial = Some(polynomial_section(red, freq, &point, degree));
     }
     Ok(report)
+}
+
+/// For an exact value no numeric mode matches (to [`CONFIRMED`]): the
+/// lowest number of the numeric modes that lie beyond it in the table's own
+/// order (|Im ω| for complex spectra, the value itself for real ones), when
+/// there are any; those numbers, counted without this value, are too low. A
+/// value left of the imaginary axis counts only when the table lists such
+/// modes (it lists the right half-plane's otherwise, the mirror images −ω̄
+/// apart).
+pub fn passed_over(w: Complex64, numeric: &[(u32, Complex64, NumericMethod)]) -> Option<u32> {
+    if numeric.iter().any(|(_, m, _)| (m - w).norm() <= CONFIRMED * w.norm().max(1.0)) {
+        return None;
+    }
+    if w.re < 0.0 && !numeric.iter().any(|(_, m, _)| m.re < 0.0) {
+        return None;
+    }
+    let real = numeric.iter().all(|(_, m, _)| m.im == 0.0) && w.im == 0.0;
+    let key = |v: Complex64| if real { v.re } else { v.im.abs() };
+    numeric.iter().filter(|(_, m, _)| key(*m) > key(w)).map(|(n, _, _)| *n).min()
+}
+
+/// How many of the closed form's values the numeric modes pass over.
+fn passed_over_count(body: &Body, closed: &ClosedSection) -> usize {
+    let ClosedSection::Found { values, .. } = closed else { return 0 };
+    let numeric = body.converged();
+    values.iter().flatten().filter(|(_, w)| passed_over(*w, &numeric).is_some()).count()
+}
+
+/// Seeds for the numeric search from the closed form (quasinormal modes
+/// with no guess, whose numeric search passed over an exact value): every
+/// family's values for n up to the last overtone asked for, in the right
+/// half-plane, merged and ordered by |Im ω|, from the first overtone asked
+/// for on. `None` when there is nothing to mend.
+fn exact_seeds(report: &SpectrumReport, req: &SpectrumRequest, point: &[GRat]) -> Option<Vec<Complex64>> {
+    let ClosedSection::Found { form, .. } = &report.closed else { return None };
+    if req.guess.is_some() || !matches!(report.body, Body::Ends(_) | Body::Recurrence(_)) || passed_over_count(&report.body, &report.closed) == 0 {
+        return None;
+    }
+    let mut all: Vec<Complex64> = form
+        .families
+        .iter()
+        .flat_map(|f| (0..=req.overtones.1).filter_map(|n| form.value(f, point, n)))
+        .filter(|w| w.re >= 0.0 && w.im < 0.0 && w.re.is_finite() && w.im.is_finite())
+        .collect();
+    all.sort_by(|a, b| a.im.abs().total_cmp(&b.im.abs()).then(a.re.total_cmp(&b.re)));
+    all.dedup_by(|a, b| (*a - *b).norm() <= CONFIRMED * b.norm().max(1.0));
+    let seeds: Vec<Complex64> = all.into_iter().skip(req.overtones.0 as usize).take((req.overtones.1 - req.overtones.0) as usize + 1).collect();
+    (!seeds.is_empty()).then_some(seeds)
 }
 
 /// The polynomial solutions of the symbolic equation, or why there are none.
@@ -1035,14 +1099,23 @@ impl SpectrumReport {
     }
 }
 
-/// The numeric route of [`spectrum`].
-fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
+/// The numeric route of [`spectrum`], from `seeds` for the overtones asked
+/// for when there are any (else the route's own seeds).
+fn numeric(red: &Reduction, req: &SpectrumRequest, seeds: Vec<Complex64>) -> Result<Numeric> {
     if !(1..=super::wkb::MAX_ORDER).contains(&req.wkb_order) {
         return Err(usage(format!("the WKB order must lie in 1..={}", super::wkb::MAX_ORDER)).in_option(RequestInput::WkbOrder));
     }
     let (freq, fname) = frequency(red, req)?;
     let point = point(red, req, freq)?;
-    let opts = SpectrumOptions { freq, values: point.clone(), overtones: req.overtones, tol: req.tol, guess: req.guess, seeds: Vec::new() };
+    let opts = SpectrumOptions {
+        freq,
+        values: point.clone(),
+        overtones: req.overtones,
+        tol: req.tol,
+        guess: req.guess,
+        seeds,
+        seeds_from: super::spectrum::SeedSource::ClosedForm,
+    };
     let done = |body: Body, mode_functions: Option<ModeFunctions>, ends: Option<[super::closed::EndPick; 2]>| Numeric {
         report: SpectrumReport {
             frequency: fname.clone(),
@@ -1126,7 +1199,7 @@ fn numeric(red: &Reduction, req: &SpectrumRequest) -> Result<Numeric> {
                 if seeds.is_empty() {
                     return Err(e);
                 }
-                let opts = SpectrumOptions { seeds, ..opts.clone() };
+                let opts = SpectrumOptions { seeds, seeds_from: super::spectrum::SeedSource::GlobalMethod, ..opts.clone() };
                 let (body, f) = recurrence_route(&red, req, &opts, None, problem.as_ref().ok())?;
                 return Ok(done(body, f, ends));
             }
@@ -1489,7 +1562,15 @@ pub fn region_setup(red: &Reduction, req: &SpectrumRequest) -> Result<RegionSetu
         None => None,
     };
     let req = carried.as_ref().unwrap_or(req);
-    let opts = SpectrumOptions { freq, values: point.clone(), overtones: req.overtones, tol: req.tol, guess: None, seeds: Vec::new() };
+    let opts = SpectrumOptions {
+        freq,
+        values: point.clone(),
+        overtones: req.overtones,
+        tol: req.tol,
+        guess: None,
+        seeds: Vec::new(),
+        seeds_from: super::spectrum::SeedSource::GlobalMethod,
+    };
     let red = super::spectrum::substitute(red, &point, freq)?;
     let (problem, classic) = boundary_problem(&red, req, &point, freq);
     let mut problem = problem?;
@@ -1599,7 +1680,8 @@ pub(crate) fn series_between_ends(
         (false, Some(_)) => Vec::new(),
     };
     let from_spectral = !neighbour && !seeds.is_empty();
-    let o = SpectrumOptions { seeds, overtones: if climb { (0, opts.overtones.1) } else { opts.overtones }, ..opts.clone() };
+    let seeds_from = if neighbour { opts.seeds_from } else { super::spectrum::SeedSource::GlobalMethod };
+    let o = SpectrumOptions { seeds, seeds_from, overtones: if climb { (0, opts.overtones.1) } else { opts.overtones }, ..opts.clone() };
     let solve = |n: u32, seed: Complex64| super::cf::find_root(&s.recurrence, n as usize, seed, opts.tol, 64, 1 << 17);
     // With the families apart, a root of the purely imaginary one is not an
     // overtone of the oscillating one.

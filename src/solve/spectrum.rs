@@ -29,9 +29,33 @@ pub struct SpectrumOptions {
     pub tol: f64,
     /// A seed for the lowest overtone asked for.
     pub guess: Option<Complex64>,
-    /// Seeds from the global spectral method (`solve::global`), one per
-    /// overtone from the lowest asked for, used before any other estimate.
+    /// Seeds, one per overtone from the lowest asked for, used before any
+    /// other estimate.
     pub seeds: Vec<Complex64>,
+    /// Where `seeds` came from (each mode's seed says so).
+    pub seeds_from: SeedSource,
+}
+
+/// Where a run's given seeds came from.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum SeedSource {
+    /// The global spectral method's eigenvalues (`solve::global`).
+    GlobalMethod,
+    /// The closed form's exact values.
+    ClosedForm,
+    /// The modes at a neighbouring point of a survey or a path.
+    Neighbour,
+}
+
+impl SeedSource {
+    /// A seed's origin in words.
+    pub fn words(self) -> &'static str {
+        match self {
+            SeedSource::GlobalMethod => "the global spectral method (an eigenvalue two Chebyshev grids agree on)",
+            SeedSource::ClosedForm => "the closed form's exact value",
+            SeedSource::Neighbour => "the mode at the neighbouring point",
+        }
+    }
 }
 
 /// How a mode's value was obtained (a closed set: every use is a `match`).
@@ -573,7 +597,7 @@ pub fn ladder(
         // pass over a mode unnoticed; it is searched between afterwards.
         let mut unpaced = n > opts.overtones.0 && idx < opts.seeds.len();
         let seed = if let Some(s) = opts.seeds.get(idx) {
-            (*s, "the global spectral method (an eigenvalue two Chebyshev grids agree on)".to_string())
+            (*s, opts.seeds_from.words().to_string())
         } else if let Some(g) = opts.guess.filter(|_| n == opts.overtones.0) {
             (g, "the given guess".to_string())
         } else if let Some((a, b)) = last_two_converged(&modes) {
@@ -1192,8 +1216,15 @@ mod tests {
 
     #[test]
     fn the_same_root_for_two_overtones_is_rejected_the_second_time() {
-        let opts =
-            SpectrumOptions { freq: 1, values: Vec::new(), overtones: (0, 2), tol: 1e-10, guess: Some(Complex64::new(0.4, -0.1)), seeds: Vec::new() };
+        let opts = SpectrumOptions {
+            freq: 1,
+            values: Vec::new(),
+            overtones: (0, 2),
+            tol: 1e-10,
+            guess: Some(Complex64::new(0.4, -0.1)),
+            seeds: Vec::new(),
+            seeds_from: SeedSource::GlobalMethod,
+        };
         let none = |_: u32| None;
         // A solver that always lands on the same mode, then on a new one.
         let modes = overtones(&opts, &none, &|n, _| root(if n < 2 { Complex64::new(0.37, -0.09) } else { Complex64::new(0.30, -0.48) })).unwrap();
@@ -1205,8 +1236,15 @@ mod tests {
 
     #[test]
     fn roots_outside_the_lower_right_quadrant_are_rejected() {
-        let opts =
-            SpectrumOptions { freq: 1, values: Vec::new(), overtones: (0, 0), tol: 1e-10, guess: Some(Complex64::new(0.4, -0.1)), seeds: Vec::new() };
+        let opts = SpectrumOptions {
+            freq: 1,
+            values: Vec::new(),
+            overtones: (0, 0),
+            tol: 1e-10,
+            guess: Some(Complex64::new(0.4, -0.1)),
+            seeds: Vec::new(),
+            seeds_from: SeedSource::GlobalMethod,
+        };
         let none = |_: u32| None;
         let modes = overtones(&opts, &none, &|_, _| root(Complex64::new(0.37, 0.09))).unwrap();
         assert!(!modes[0].root.converged && modes[0].root.stop.text().contains("lower right quadrant"));

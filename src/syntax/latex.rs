@@ -1252,6 +1252,22 @@ pub(super) fn parse(src: &str, limits: &ParseLimits) -> Result<Program> {
     program(var, ode, defs, coords, &functions, &applications)
 }
 
+/// The name a LaTeX symbol such as `\ell`, `\mu_0` or `r_{+}` reads as in an
+/// equation (`l`, `mu_0`, `r_plus`); `None` when the text is not one name.
+/// Values on the command line may name parameters as the paper writes them.
+pub(super) fn name_of(text: &str) -> Option<String> {
+    let toks = tokens(text).ok()?;
+    check_balance(&toks).ok()?;
+    let limits = ParseLimits::default();
+    let mut applications = Vec::new();
+    let mut reader = Reader { src: text, toks: &toks, pos: 0, depth: 0, limits: &limits, applications: &mut applications };
+    let node = reader.sub_expr(0, toks.len()).ok()?;
+    match node.expr.kind {
+        ExprKind::Name(n) => Some(n),
+        _ => None,
+    }
+}
+
 /// The relations of the text, each read into its two sides; the spans of
 /// products written as `f(x)` are collected in `applications`.
 fn read_relations(src: &str, limits: &ParseLimits, applications: &mut Vec<Span>) -> Result<Vec<Relation>> {

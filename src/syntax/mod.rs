@@ -68,6 +68,12 @@ pub fn parse_latex(src: &str, limits: &ParseLimits) -> Result<Program> {
     latex::parse(src, limits)
 }
 
+/// The name a LaTeX symbol reads as in an equation (`\ell` → `l`,
+/// `r_{+}` → `r_plus`); `None` when the text is not one name.
+pub fn latex_name(text: &str) -> Option<String> {
+    latex::name_of(text)
+}
+
 /// Rejects an input longer than `limits.max_bytes` before any work is done,
 /// pointing at the first character past the limit.
 fn check_size(src: &str, limits: &ParseLimits) -> Result<()> {
