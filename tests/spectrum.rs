@@ -875,6 +875,30 @@ fn btz_modes_are_exact() {
 }
 
 #[test]
+fn btz_modes_at_zero_momentum_sit_at_resonances_of_the_horizon_exponents() {
+    // The same formula at k = 0: ω = −2i r₊(n + 1), where the horizon's
+    // exponents ±iω/(2r₊) differ by the integer 2(n + 1). There a mode is a
+    // double zero of direct integration's mismatch; the value is taken at
+    // the resonance point and the output says so. No guess: the plane scan
+    // seeds them.
+    for rp in [1.0f64, 1.5] {
+        let (_, ms) = modes_of("tests/boundary/btz_scalar.ode", &format!("rp={rp},k=0"), &["--overtones", "0..1"]);
+        assert_eq!(ms.len(), 2);
+        for (n, m) in ms.iter().enumerate() {
+            assert_eq!(m["converged"], true, "{m}");
+            let (re, im) = omega(m);
+            let want = -2.0 * rp * (n as f64 + 1.0);
+            assert!(re.abs() <= 1e-9 && (im - want).abs() <= 1e-9 * want.abs(), "rp={rp} n={n}: {re} {im}");
+            assert!(m["evidence"]["note"].as_str().unwrap_or("").contains("resonance of the horizon's exponents"), "{m}");
+        }
+    }
+    // Off the resonance (k ≠ 0) nothing is taken at one.
+    let (_, ms) = modes_of("tests/boundary/btz_scalar.ode", "rp=1,k=1", &["--guess", "1.03-1.94i", "--method", "integrate"]);
+    assert_eq!(ms[0]["converged"], true);
+    assert!(ms[0]["evidence"]["note"].is_null(), "{}", ms[0]);
+}
+
+#[test]
 fn schwarzschild_de_sitter_domain_lies_between_the_two_horizons() {
     // Kottler metric (sample): the black-hole and cosmological horizons are
     // two real roots of one cubic; the domain is between them, ingoing at

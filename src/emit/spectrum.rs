@@ -727,6 +727,7 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
                     "iterations": r.iterations,
                     "seed": pair(m.seed.omega),
                     "seed_from": m.seed.from,
+                    "note": r.note,
                 },
                 "check": match b.checks.get(i).and_then(|c| c.as_ref()) {
                     Some(c) => match c.omega {
@@ -889,6 +890,9 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
         let r = &m.root;
         if r.converged {
             o.push_str(&integrate_row(m.n, r.omega, r.change, r.residual));
+            if let Some(note) = &r.note {
+                o.push_str(&format!("     note: {note}\n"));
+            }
             if let Some(c) = b.checks.get(i).and_then(|c| c.as_ref()) {
                 match c.omega {
                     Some(w) => o.push_str(&format!("     check: {} {}, agreement {:.1e}\n", c.method.words(), fmt_complex(w.re, w.im), c.agreement)),

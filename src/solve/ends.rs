@@ -80,20 +80,20 @@ fn end_start_at(
     }
 }
 
-/// The route of direct integration between two finite ends for a root
-/// search from `seed` ([`route::choose`]): the real one unless both ends
+/// The routes of direct integration between two finite ends for a root
+/// search from `seed`, best first ([`route::choose`]): the real one alone unless both ends
 /// are finite with a horizon condition at one of them (and no mixed one)
 /// and the real route would amplify errors beyond what double precision
 /// holds.
-pub(super) fn route_for(bp: &BoundaryProblem, seed: Complex64) -> Route {
+pub(super) fn routes_for(bp: &BoundaryProblem, seed: Complex64) -> Vec<Route> {
     let [left, right] = &bp.ends;
-    let (Location::At(a), Location::At(b)) = (left.location, right.location) else { return Route::REAL };
+    let (Location::At(a), Location::At(b)) = (left.location, right.location) else { return vec![Route::REAL] };
     let horizon = |c: Condition| matches!(c, Condition::IntoHorizon | Condition::OutOfHorizon);
     let mixed = |c: Condition| matches!(c, Condition::Mixed(_));
     if !(horizon(left.condition) || horizon(right.condition)) || mixed(left.condition) || mixed(right.condition) {
-        return Route::REAL;
+        return vec![Route::REAL];
     }
-    let Ok(k) = Coeffs::at(&bp.ode, seed) else { return Route::REAL };
+    let Ok(k) = Coeffs::at(&bp.ode, seed) else { return vec![Route::REAL] };
     let data = |z: f64, cond: Condition| -> Option<(integrate::Horizon, f64, (Complex64, Complex64))> {
         let h = integrate::horizon(&k, z).ok()?;
         let wanted = pick_exponent(&bp.ode, &k, &h, z, cond, seed).ok()?;
@@ -102,7 +102,7 @@ pub(super) fn route_for(bp: &BoundaryProblem, seed: Complex64) -> Route {
         let d = if h.d.is_finite() { h.d } else { 1.0 + z.abs() };
         Some((h, d, (wanted, other)))
     };
-    let (Some((hl, dl, el)), Some((hr, dr, er))) = (data(a, left.condition), data(b, right.condition)) else { return Route::REAL };
+    let (Some((hl, dl, el)), Some((hr, dr, er))) = (data(a, left.condition), data(b, right.condition)) else { return vec![Route::REAL] };
     let p = &integrate::STANDARD;
     let (sl, sr) = start_distances(a, b, dl, dr, p);
     let measure = |route: &Route| -> Option<(f64, f64)> {
@@ -419,7 +419,118 @@ pub fn find_root(bp: &BoundaryProblem, seed: Complex64, tol: f64) -> IntRoot {
 /// below the spacing of the eigenvalues near it (levels crowding below a
 /// continuum edge), so that the search cannot be drawn to a neighbour.
 pub fn find_root_near(bp: &BoundaryProblem, seed: Complex64, spread: f64, tol: f64) -> IntRoot {
-    let route = route_for(bp, seed);
+    // The routes in order until one converges (a route's measure at the
+    // seed is an estimate); the first route's failure is the one reported.
+    let mut first: Option<IntRoot> = None;
+    for route in routes_for(bp, seed) {
+        let r = find_root_on(bp, route, seed, spread, tol);
+        match first {
+            None if r.converged => return r,
+            None => first = Some(r),
+            Some(ref f) if r.converged => {
+                let reason = format!("{} (a later route; on the route judged best at the seed: {})", r.reason, f.reason);
+                return IntRoot { reason, iterations: f.iterations + r.iterations, ..r };
+            }
+            Some(_) => {}
+        }
+    }
+    first.unwrap_or_else(|| find_root_on(bp, Route::REAL, seed, spread, tol))
+}
+
+/// How near (relative) a stalled search must have come to a resonance of a
+/// horizon's exponents for the resonance to be tested.
+const RESONANCE_NEAR: f64 = 1e-6;
+
+/// How near (relative) the seed of a search that did not stall must lie to
+/// a resonance for it to be tested (a check seeded 1e-4 from a root).
+const SEED_NEAR: f64 = 1e-3;
+
+/// A search that stalled next to a point where a horizon's exponents differ
+/// by a nonzero integer: there the solution with the exponent asked for is
+/// defined only as a limit (its series has a logarithm, or a coefficient
+/// 0/0), and a mode at that point is a double zero of the mismatch (as at
+/// BTZ's k = 0 or for de Sitter's massless field, where the connection
+/// coefficient's Gamma-function zeros meet), which Muller's method resolves
+/// only to about the square root of the rounding. The resonance is found
+/// from the exponents (secant steps on their difference, at most 30) and
+/// taken as the root when the stalled search lies within
+/// [`RESONANCE_NEAR`] of it (or, when the search wandered off, its seed
+/// within [`SEED_NEAR`]) and the mismatch falls towards it like a power
+/// of the distance (measured at 1, 2 and 4 × 10⁻⁶ of |ω| along the real and
+/// the imaginary direction, in the standard and the refined
+/// discretisation, exponents between 0.8 and 2.5, values below 1e-5); the
+/// reason says so.
+fn at_resonance(bp: &BoundaryProblem, eval: integrate::Evaluator, stalled: &IntRoot, seed: Complex64) -> Option<IntRoot> {
+    // Where the search stalled (its two passes close), else its seed (a
+    // search that wandered off from a seed next to the resonance).
+    let stalled_near = stalled.change <= RESONANCE_NEAR && stalled.omega.re.is_finite() && stalled.omega.im.is_finite();
+    let (w0, near) = if stalled_near { (stalled.omega, RESONANCE_NEAR) } else { (seed, SEED_NEAR) };
+    for end in &bp.ends {
+        let (Location::At(z), Condition::IntoHorizon | Condition::OutOfHorizon) = (end.location, end.condition) else { continue };
+        let diff = |w: Complex64| -> Option<Complex64> {
+            let k = Coeffs::at(&bp.ode, w).ok()?;
+            let [r1, r2] = integrate::horizon(&k, z).ok()?.exponents();
+            Some(r1 - r2)
+        };
+        let d0 = diff(w0)?;
+        let n = d0.re.round();
+        if n == 0.0 || (d0 - n).norm() > 1e-2 * n.abs() {
+            continue;
+        }
+        // Secant steps on diff(ω) − n (linear in ω at a horizon: one step, in practice).
+        let (mut a, mut b) = (w0, w0 * (1.0 + 1e-7));
+        let (mut fa, mut fb) = (d0 - n, diff(b)? - n);
+        for _ in 0..30 {
+            if fb.norm() <= 1e-15 * n.abs() || fb == fa {
+                break;
+            }
+            let c = b - fb * (b - a) / (fb - fa);
+            (a, fa, b) = (b, fb, c);
+            fb = diff(b)? - n;
+        }
+        let w = b;
+        if fb.norm() > 1e-12 * n.abs() || (w - w0).norm() > near * w.norm() {
+            continue;
+        }
+        // The fall-off towards the resonance.
+        let h = 1e-6 * w.norm();
+        let mut powers: Vec<f64> = Vec::new();
+        let mut largest = 0.0f64;
+        for p in [&integrate::STANDARD, &integrate::REFINED] {
+            for dir in [Complex64::new(1.0, 0.0), Complex64::new(0.0, 1.0)] {
+                let size = |k: f64| eval(w + dir * (h * k), p).ok().map(|(v, _)| v.norm());
+                let (f1, f2, f4) = (size(1.0)?, size(2.0)?, size(4.0)?);
+                largest = largest.max(f4);
+                powers.extend([(f2 / f1).log2(), (f4 / f2).log2()]);
+            }
+        }
+        if largest > 1e-5 || !powers.iter().all(|p| (0.8..=2.5).contains(p)) {
+            continue;
+        }
+        let mean = powers.iter().sum::<f64>() / powers.len() as f64;
+        let reason = format!(
+            "at a resonance of the exponents at {z} (they differ by the integer {n}), where the solution asked for is a limit and a mode a double zero of the mismatch: the mismatch falls towards it like |ω − ω_res|^{mean:.1} (to {largest:.0e} at {:.0e} away); the value is the resonance point, a mode to within about 1e-6",
+            4.0 * h / w.norm()
+        );
+        let note = format!(
+            "taken at a resonance of the horizon's exponents at {z} (a double zero of the mismatch, which the root search does not resolve: {}): the value is the resonance point, a mode to within about 1e-6",
+            if stalled_near { format!("it stalled {:.0e} from it", stalled.change) } else { "it did not converge from a seed next to it".to_string() }
+        );
+        return Some(IntRoot {
+            omega: w,
+            converged: true,
+            residual: largest,
+            change: if stalled_near { (w - w0).norm() / w.norm() } else { f64::NAN },
+            reason,
+            note: Some(note),
+            ..stalled.clone()
+        });
+    }
+    None
+}
+
+/// [`find_root_near`] on one route.
+fn find_root_on(bp: &BoundaryProblem, route: Route, seed: Complex64, spread: f64, tol: f64) -> IntRoot {
     if route.is_complex() {
         let r = search(&|w: Complex64, p: &Params| evaluate(bp, w, p, &route), seed, spread, tol);
         let reason = format!("{} ({})", r.reason, route.text());
@@ -428,7 +539,11 @@ pub fn find_root_near(bp: &BoundaryProblem, seed: Complex64, spread: f64, tol: f
     let products = |w: Complex64, p: &Params| evaluate(bp, w, p, &route);
     let quasi_bound = bp.ends[1].condition == Condition::Decaying && bp.kind != SpectrumKind::Bound;
     let Some(scale) = quasi_bound.then(|| analytic_scale(bp, seed).ok()).flatten() else {
-        return search(&products, seed, spread, tol);
+        let r = search(&products, seed, spread, tol);
+        if r.converged {
+            return r;
+        }
+        return at_resonance(bp, &products, &r, seed).unwrap_or(r);
     };
     // Quasi-bound levels: first the Wronskian normalised at the ends,
     // analytic in ω (see `analytic`), scaled at the seed; its size changes
@@ -734,6 +849,7 @@ pub(crate) fn unfound(n: u32, reason: String) -> EndMode {
         steps: 0,
         change: f64::NAN,
         reason,
+        note: None,
     };
     EndMode { n, root, seed: Seed { omega: ZERO, from: "none".into() } }
 }

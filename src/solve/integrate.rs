@@ -72,6 +72,9 @@ pub struct IntRoot {
     pub change: f64,
     /// Why the search stopped, in words.
     pub reason: String,
+    /// What a reader of a converged root must know about how it was
+    /// settled (a root taken at a resonance of the exponents), if anything.
+    pub note: Option<String>,
 }
 
 /// The mismatch function: the Wronskian y_h y_∞' − y_h' y_∞ between the
@@ -141,7 +144,7 @@ pub(super) fn find_root_passes(
             Ok((v, s)) => (v.norm(), s),
             Err(_) => (f64::NAN, 0),
         };
-        IntRoot { omega, converged: false, residual, iterations, steps, change, reason }
+        IntRoot { omega, converged: false, residual, iterations, steps, change, reason, note: None }
     };
     let standard = |w: Complex64| eval(w, first).map(|e| e.0);
     let (r1, it1, stop1) = super::roots::muller(&standard, seed, spread, tol, max_iter);
@@ -170,7 +173,7 @@ pub(super) fn find_root_passes(
     } else {
         format!("the normalised mismatch at the root is {residual:.1e}, above {RESIDUAL_MAX:.0e}: not a zero of the mismatch")
     };
-    IntRoot { omega: r2, converged: agree && small, residual, iterations: it1 + it2, steps, change, reason }
+    IntRoot { omega: r2, converged: agree && small, residual, iterations: it1 + it2, steps, change, reason, note: None }
 }
 
 /// The discretisation choices of one evaluation of the mismatch.

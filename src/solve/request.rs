@@ -1802,13 +1802,22 @@ fn integrate_where_unsettled(bp: &BoundaryProblem, mut modes: Vec<Mode>, split: 
         if !unsettled || m.method != ModeMethod::ContinuedFraction || !(m.seed.0.re.is_finite() && m.seed.0.im.is_finite()) {
             continue;
         }
-        let r = super::ends::find_root(bp, m.seed.0, tol);
-        let near = |w: Complex64| (w - r.omega).norm() <= 1e-8 * r.omega.norm().max(bp.scale);
-        let taken = modes.iter().enumerate().any(|(j, o)| j != i && o.root.converged && near(o.root.omega));
-        let quadrant = r.omega.im < 0.0 && r.omega.re >= -1e-8 * r.omega.norm();
-        if !r.converged || !quadrant || taken || (split && purely_imaginary(r.omega, bp.scale)) {
+        // Seeds: the ladder's own, then one extrapolated from the two
+        // nearest converged overtones below (one found here among them).
+        let mut below = modes[..i].iter().rev().filter(|o| o.root.converged);
+        let fresh = match (below.next(), below.next()) {
+            (Some(a), Some(b)) => Some(super::spectrum::extrapolate(a, b, m.n)).filter(|w| (w - m.seed.0).norm() > 1e-6 * w.norm()),
+            _ => None,
+        };
+        let accept = |r: &super::integrate::IntRoot| {
+            let near = |w: Complex64| (w - r.omega).norm() <= 1e-8 * r.omega.norm().max(bp.scale);
+            let taken = modes.iter().enumerate().any(|(j, o)| j != i && o.root.converged && near(o.root.omega));
+            let quadrant = r.omega.im < 0.0 && r.omega.re >= -1e-8 * r.omega.norm();
+            r.converged && quadrant && !taken && !(split && purely_imaginary(r.omega, bp.scale))
+        };
+        let Some((from, r)) = [m.seed.0].into_iter().chain(fresh).map(|s| (s, super::ends::find_root(bp, s, tol))).find(|(_, r)| accept(r)) else {
             continue;
-        }
+        };
         let m = &mut modes[i];
         m.root.omega = r.omega;
         m.root.converged = true;
@@ -1818,6 +1827,9 @@ fn integrate_where_unsettled(bp: &BoundaryProblem, mut modes: Vec<Mode>, split: 
         m.root.depth_change = r.change;
         m.root.stop = StopReason::Converged;
         m.method = ModeMethod::Integrate;
+        if from != m.seed.0 {
+            m.seed = (from, "extrapolated from the two nearest converged overtones below, one found by direct integration".to_string());
+        }
         found.push(m.n);
     }
     let note = (!found.is_empty()).then(|| {

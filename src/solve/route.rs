@@ -87,6 +87,13 @@ const TURNS: [f64; 11] =
     [0.0, -PI / 6.0, PI / 6.0, -PI / 3.0, PI / 3.0, -PI / 2.0, PI / 2.0, -2.0 * PI / 3.0, 2.0 * PI / 3.0, -5.0 * PI / 6.0, 5.0 * PI / 6.0];
 const LIFTS: [f64; 5] = [0.0, -0.25, 0.25, -0.5, 0.5];
 
+/// Rounds of the coordinate descent over the right turn, the left turn
+/// and the lift (each round at most some 40 routes, fewer once measured).
+const ROUNDS: usize = 2;
+
+/// The most routes a root search tries, best first.
+const CANDIDATES: usize = 3;
+
 /// Below this amplification (natural log; e^7 ≈ 1e3) the real route is kept.
 const GOOD_ENOUGH: f64 = 7.0;
 
@@ -210,6 +217,36 @@ impl Judge<'_> {
         Some(gl.max(gr))
     }
 
+    /// The turns tried at the left and the right end and the lifts tried,
+    /// each on the scale where the other solution's size relative to the
+    /// wanted one changes by about e: turning the start by θ about an end
+    /// whose exponents differ by Δ changes it by e^(−Im Δ·θ), and lifting
+    /// the matching point by y by e^(−Im Δλ·y), Δλ the difference of the
+    /// characteristic roots there. Where that scale is finer than the
+    /// fixed grids ([`TURNS`], [`LIFTS`]), as at a far cosmological horizon
+    /// (small surface gravity, large Δ), the fixed grid is joined by a
+    /// geometric one from it: ±u, ±3u, ±9u, … up to the fixed grid's finest.
+    fn grids(&self) -> (Vec<f64>, Vec<f64>, Vec<f64>) {
+        let geometric = |unit: f64, fixed: &[f64]| -> Vec<f64> {
+            if !(unit.is_finite() && unit > 0.0) || unit >= fixed[1].abs() {
+                return fixed.to_vec();
+            }
+            let mut v = fixed.to_vec();
+            let mut t = unit;
+            while t < fixed[1].abs() {
+                v.extend([-t, t]);
+                t *= 3.0;
+            }
+            v
+        };
+        let turns = |(wanted, other): (Complex64, Complex64)| geometric(1.0 / (other - wanted).im.abs(), &TURNS);
+        let ((a, b), (dl, dr)) = (self.ends, self.dists);
+        let (_, _, zm) = Route::REAL.points(a, b, dl, dr);
+        let half = 0.5 * (b - a);
+        let lift_unit = difference(self.k, zm, Complex64::new(0.0, 0.0)).map_or(f64::INFINITY, |d| 1.0 / (d.im.abs() * half));
+        (turns(self.exps[0]), turns(self.exps[1]), geometric(lift_unit, &LIFTS))
+    }
+
     /// The measure of an admissible route.
     fn admissible(&self, route: &Route) -> Option<(f64, f64)> {
         let ((a, b), (dl, dr)) = (self.ends, self.dists);
@@ -220,42 +257,64 @@ impl Judge<'_> {
     }
 }
 
-/// The route for a root search at the seed `judge` was made for: the real
-/// one when the other solution grows by less than e^7 on it; otherwise the
-/// admissible route of least [`Judge::measure`], found by trying the turn
-/// at the right end, then at the left, then the lift ([`TURNS`],
-/// [`LIFTS`]: at most 25 routes measured), and taken when it gains at
-/// least e^2 over the real route.
-pub(super) fn choose(judge: &Judge) -> Route {
+/// The routes for a root search at the seed `judge` was made for, best
+/// first: the real one alone when the other solution grows by less than
+/// e^7 on it; otherwise the admissible routes of least [`Judge::measure`],
+/// found by coordinate descent over the turn at the right end, at the
+/// left, and the lift ([`TURNS`], [`LIFTS`], at most [`ROUNDS`] rounds),
+/// those that gain at least e^2 over the real route, at most
+/// [`CANDIDATES`] of them (the real route when none does). The measure at
+/// the seed is an estimate (the difference of two integrations, near
+/// rounding on good routes), so the search tries the next route when one
+/// does not converge.
+pub(super) fn choose(judge: &Judge) -> Vec<Route> {
     match judge.real_growth() {
         Some(g) if g > GOOD_ENOUGH => {}
-        _ => return Route::REAL,
+        _ => return vec![Route::REAL],
     }
-    let Some((real, _)) = judge.admissible(&Route::REAL) else { return Route::REAL };
+    let Some((real, _)) = judge.admissible(&Route::REAL) else { return vec![Route::REAL] };
     let mut best = (real, Route::REAL);
-    let consider = |route: Route, best: &mut (f64, Route)| {
+    let mut seen: Vec<(f64, Route)> = Vec::new();
+    let mut consider = |route: Route, best: &mut (f64, Route)| {
+        if route == best.1 || seen.iter().any(|(_, r)| Route { scale: 0.0, ..*r } == route) {
+            return;
+        }
         if let Some((c, size)) = judge.admissible(&route) {
+            seen.push((c, Route { scale: size, ..route }));
             // A plainer route is kept unless the new one gains e^1.
             if c < best.0 - STEP_GAIN {
                 *best = (c, Route { scale: size, ..route });
             }
         }
     };
-    for t in TURNS.iter().skip(1) {
-        consider(Route { right_turn: *t, ..Route::REAL }, &mut best);
+    let (left_turns, right_turns, lifts) = judge.grids();
+    for _round in 0..ROUNDS {
+        let from = best.1;
+        for &t in &right_turns {
+            consider(Route { right_turn: t, scale: 0.0, ..best.1 }, &mut best);
+        }
+        for &t in &left_turns {
+            consider(Route { left_turn: t, scale: 0.0, ..best.1 }, &mut best);
+        }
+        for &l in &lifts {
+            consider(Route { lift: l, scale: 0.0, ..best.1 }, &mut best);
+        }
+        if best.1 == from {
+            break;
+        }
     }
-    let right = best.1;
-    for t in TURNS.iter().skip(1) {
-        consider(Route { left_turn: *t, ..right }, &mut best);
-    }
-    let turned = best.1;
-    for l in LIFTS.iter().skip(1) {
-        consider(Route { lift: *l, ..turned }, &mut best);
-    }
+    let mut ranked: Vec<(f64, Route)> = seen.into_iter().filter(|(c, _)| *c <= real - GAIN_NEEDED).collect();
+    ranked.sort_by(|a, b| a.0.total_cmp(&b.0));
+    // The descent's pick first (plainer among those about as good).
     if best.0 <= real - GAIN_NEEDED {
-        best.1
+        ranked.retain(|(_, r)| *r != best.1);
+        ranked.insert(0, best);
+    }
+    let routes: Vec<Route> = ranked.into_iter().take(CANDIDATES).map(|(_, r)| r).collect();
+    if routes.is_empty() {
+        vec![Route::REAL]
     } else {
-        Route::REAL
+        routes
     }
 }
 

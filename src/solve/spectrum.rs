@@ -601,19 +601,9 @@ pub fn ladder(
         } else if let Some(g) = opts.guess.filter(|_| n == opts.overtones.0) {
             (g, "the given guess".to_string())
         } else if let Some((a, b)) = last_two_converged(&modes) {
-            // Linear in the overtone number from the two nearest converged
-            // overtones (a failed one in between is stepped over).
-            let (span, ahead) = (f64::from(a.n - b.n), f64::from(n - a.n));
-            let (wa, wb) = (a.root.omega, b.root.omega);
-            // Im ω linear in n; Re ω geometric while it shrinks, so that a seed
-            // past a slowly vanishing real part stays in the right half-plane.
-            let re = if wa.re > 0.0 && wb.re > 0.0 && wa.re < wb.re {
-                wa.re * (wa.re / wb.re).powf(ahead / span)
-            } else {
-                wa.re + (wa.re - wb.re) * ahead / span
-            };
-            let w = Complex64::new(re, wa.im + (wa.im - wb.im) * ahead / span);
-            (w, format!("extrapolated from overtones {} and {}", b.n, a.n))
+            // From the two nearest converged overtones (a failed one in
+            // between is stepped over).
+            (extrapolate(a, b, n), format!("extrapolated from overtones {} and {}", b.n, a.n))
         } else if let Some(e) = first_estimate(n).filter(|(w, _)| w.im < 0.0) {
             // An estimate in the upper half-plane is not a decaying mode: never a seed.
             e
@@ -765,6 +755,18 @@ fn overtone_by_spacing(modes: &[Mode], root: &CfRoot) -> Option<u32> {
     }
     let steps = ((root.omega.im.abs() - a.root.omega.im.abs()) / spacing).round();
     (1.0..1e4).contains(&steps).then(|| a.n + steps as u32)
+}
+
+/// A seed for overtone n from two converged overtones a (the later) and b
+/// below it: Im ω linear in the overtone number; Re ω geometric while it
+/// shrinks, so that a seed past a slowly vanishing real part stays in the
+/// right half-plane.
+pub(crate) fn extrapolate(a: &Mode, b: &Mode, n: u32) -> Complex64 {
+    let (span, ahead) = (f64::from(a.n - b.n), f64::from(n) - f64::from(a.n));
+    let (wa, wb) = (a.root.omega, b.root.omega);
+    let re =
+        if wa.re > 0.0 && wb.re > 0.0 && wa.re < wb.re { wa.re * (wa.re / wb.re).powf(ahead / span) } else { wa.re + (wa.re - wb.re) * ahead / span };
+    Complex64::new(re, wa.im + (wa.im - wb.im) * ahead / span)
 }
 
 /// The last two converged modes found (the later one first).
