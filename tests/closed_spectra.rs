@@ -134,6 +134,25 @@ fn morse_well() {
 }
 
 #[test]
+fn morse_levels_up_to_the_continuum_are_found_and_checked() {
+    // V = D(1 − e^(−ax))², ħ = 2m = 1: E_n = ω₀(n + ½) − ω₀²(n + ½)²/(4D),
+    // ω₀ = 2a√D (textbook, from memory). D = 8, a = 1: three levels, the
+    // last 0.108 below the continuum edge D. Written with exp(−ax) unbounded
+    // as x → −∞, the equation is taken in ζ = e^(−ax) (ζ = ∞ irregular of
+    // rank 1, where the solvers' irregular end lies) rather than tanh(ax/2);
+    // every level is found and checked by a second method.
+    let (d, a) = (8.0f64, 1.0f64);
+    let w0 = 2.0 * a * d.sqrt();
+    let want: Vec<Complex64> = (0..3).map(|n| cx(w0 * (n as f64 + 0.5) - w0 * w0 * (n as f64 + 0.5).powi(2) / (4.0 * d), 0.0)).collect();
+    let doc = bound(&["-e", "psi'' + (E - D*(1-exp(-a*x))^2)*psi = 0", "--var", "x"], "D=8,a=1", "0..2");
+    assert_eq!(agree(&doc, &want), 3);
+    for m in doc["modes"].as_array().unwrap() {
+        let ag = m["check"]["agreement"].as_f64().unwrap_or_else(|| panic!("no check: {m}"));
+        assert!(ag < 1e-9, "{m}");
+    }
+}
+
+#[test]
 fn poschl_teller_well() {
     // α² g (g φ')' + (E − V0 g) φ = 0 with g = 1 − u², u = tanh(αx): the well
     // V0/cosh²(αx), V0 = −α²ν(ν + 1): E_n = −α²(ν − n)², n < ν (Landau &

@@ -489,7 +489,7 @@ fn lower_through_map(
 /// The equation in the half-angle variable of `form` (u = (ζ − 1)/(ζ + 1)
 /// = tanh(c x/2), or u = −i(ζ − 1)/(ζ + 1) = tan(k x/2) for c = ik), when
 /// it has no more singular points than the one in ζ (`in_zeta`: its field,
-/// p and q).
+/// p and q) and ζ = ∞ is not irregular.
 #[allow(clippy::too_many_arguments)]
 fn half_angle_form(
     lowering: &Lowering,
@@ -502,6 +502,13 @@ fn half_angle_form(
     limits: &Limits,
 ) -> Result<Option<(LinearOde, ExpMap)>> {
     let (nf, p, q) = in_zeta;
+    // An irregular point at ζ = ∞ (Q not O(ζ⁻²): e^(cx) unbounded in the
+    // potential, as Morse's) would become a finite irregular point u = 1,
+    // which the solvers' irregular end (at infinity) does not take: ζ stays.
+    let qn = super::normal::normal_q(nf, p, q)?;
+    if !qn.is_zero() && i64::from(qn.num().degree(0)) - i64::from(qn.den_expanded().degree(0)) >= -1 {
+        return Ok(None);
+    }
     let u_name = super::fresh_name("u", names);
     let mut u_names = vec![u_name.clone()];
     u_names.extend(lowering.param_names.iter().cloned());

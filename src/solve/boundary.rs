@@ -620,6 +620,14 @@ fn end_conditions(ends: [FoundEnd; 2], given: Option<&GivenEnds>, kind: Spectrum
                 },
             },
         };
+        // In a real eigenvalue problem such a point is no horizon: its
+        // exponents move with an energy or a separation constant.
+        let found = match (nature, kind) {
+            (Nature::Horizon, SpectrumKind::Bound) if found.starts_with("horizon") => {
+                found.replacen("horizon", "regular boundary whose exponents move with the eigenvalue", 1)
+            }
+            _ => found,
+        };
         out.push(End { location, nature, condition, found });
     }
     out.try_into().map_err(|_| Error::new(ErrorKind::Internal, "two ends expected"))

@@ -720,11 +720,13 @@ const SCAN_REAL_ROUNDS: usize = 5;
 /// local minima of |mismatch| on a grid over [−L, L] (L = 4κ, 16κ, … up to
 /// five rounds, κ the problem's scale), each polished by the two-pass Muller
 /// search and kept when it converges to a real value; sorted ascending,
-/// distinct. Stops when `want` are found or the rounds are spent; the second
-/// value is the half-width reached.
+/// distinct. Stops when `want` are found and a wider round adds none (a
+/// level below those found would show there), or the rounds are spent; the
+/// second value is the half-width reached.
 fn real_axis_roots(bp: &BoundaryProblem, want: usize, tol: f64) -> (Vec<(IntRoot, Seed)>, f64) {
     let mut found: Vec<(IntRoot, Seed)> = Vec::new();
     let mut half = 4.0 * bp.scale;
+    let mut before = usize::MAX;
     for round in 0..SCAN_REAL_ROUNDS {
         if round > 0 {
             half *= 4.0;
@@ -750,9 +752,12 @@ fn real_axis_roots(bp: &BoundaryProblem, want: usize, tol: f64) -> (Vec<(IntRoot
             }
             found.push((r, seed));
         }
-        if found.len() >= want {
+        // Enough, and this round (wider than the last) added none: a level
+        // below the ones found would have shown in it.
+        if found.len() >= want && found.len() == before {
             break;
         }
+        before = found.len();
     }
     found.sort_by(|a, b| a.0.omega.re.total_cmp(&b.0.omega.re));
     (found, half)
