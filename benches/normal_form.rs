@@ -25,15 +25,7 @@ fn bench_spectrum(c: &mut Criterion) {
     let text = std::fs::read_to_string(&path).expect("sample exists");
     let red = reduce(&Input::Program(&text), &ReduceOptions::default()).expect("reduces");
     let g = |x: i64| GRat::real(Rat::int(x.into()));
-    let opts = SpectrumOptions {
-        freq: 2,
-        values: vec![g(0), g(1), g(0), g(2), g(2)],
-        overtones: (0, 7),
-        tol: 1e-10,
-        guess: None,
-        seeds: Vec::new(),
-        seeds_from: canonode::numeric::SeedSource::GlobalMethod,
-    };
+    let opts = SpectrumOptions::new(2, vec![g(0), g(1), g(0), g(2), g(2)], (0, 7), 1e-10, None);
     let (_, setup) = qnm_recurrence(&red, &opts).expect("recurrence");
     let seeds: Vec<_> = {
         let est = barrier_estimates(&red, &opts, setup.horizon_value, canonode::numeric::SEED_ORDER).expect("barrier");
@@ -60,15 +52,7 @@ fn bench_cf_only(c: &mut Criterion) {
     let text = std::fs::read_to_string(&path).expect("sample exists");
     let red = reduce(&Input::Program(&text), &ReduceOptions::default()).expect("reduces");
     let g = |x: i64| GRat::real(Rat::int(x.into()));
-    let opts = SpectrumOptions {
-        freq: 2,
-        values: vec![g(0), g(1), g(0), g(2), g(2)],
-        overtones: (0, 7),
-        tol: 1e-10,
-        guess: None,
-        seeds: Vec::new(),
-        seeds_from: canonode::numeric::SeedSource::GlobalMethod,
-    };
+    let opts = SpectrumOptions::new(2, vec![g(0), g(1), g(0), g(2), g(2)], (0, 7), 1e-10, None);
     let (rec, _) = qnm_recurrence(&red, &opts).expect("recurrence");
     let num = try_numeric(&rec, &opts.values, 2).expect("numeric");
     c.bench_function("cf/schwarzschild_l2_n0-7", |b| {

@@ -13,15 +13,7 @@ fn bench(c: &mut Criterion) {
     let red = reduce(&Input::Program(&text), &ReduceOptions::default()).expect("reduces");
     let g = |x: i64| GRat::real(Rat::int(x.into()));
     // Field order: r, M, omega, l, s.
-    let at = |l: i64, s: i64| SpectrumOptions {
-        freq: 2,
-        values: vec![g(0), g(1), g(0), g(l), g(s)],
-        overtones: (0, 0),
-        tol: 1e-10,
-        guess: None,
-        seeds: Vec::new(),
-        seeds_from: canonode::numeric::SeedSource::GlobalMethod,
-    };
+    let at = |l: i64, s: i64| SpectrumOptions::new(2, vec![g(0), g(1), g(0), g(l), g(s)], (0, 0), 1e-10, None);
     let opts = at(2, 2);
     let r = substitute(&red, &opts.values, 2).expect("substitutes");
     c.bench_function("wkb/schwarzschild_l2_order12", |b| {

@@ -131,15 +131,7 @@ fn the_library_s_recurrence_of_an_equation_seen_from_infinity_is_the_physical_on
     assert_eq!(red.var, "t");
     let g = |x: i64| GRat::real(Rat::int(x.into()));
     // The field is (t, M, omega, l, s).
-    let opts = SpectrumOptions {
-        freq: 2,
-        values: vec![g(0), g(1), g(0), g(2), g(2)],
-        overtones: (0, 0),
-        tol: 1e-10,
-        guess: Some(num_complex::Complex64::new(0.37, -0.09)),
-        seeds: Vec::new(),
-        seeds_from: canonode::numeric::SeedSource::GlobalMethod,
-    };
+    let opts = SpectrumOptions::new(2, vec![g(0), g(1), g(0), g(2), g(2)], (0, 0), 1e-10, Some(num_complex::Complex64::new(0.37, -0.09)));
     let (modes, setup) = qnm_modes(&red, &opts, &|_| None).expect("modes");
     assert_eq!(setup.horizon_value, 2.0, "{}", setup.horizon);
     assert!(setup.choices.iter().any(|c| c.contains("at ∞: the outgoing branch")), "{:?}", setup.choices);

@@ -105,7 +105,7 @@ fn options(spec: &Spec, req: &Request, names: &[String], freq: usize, also: &[us
         return Err(usage(format!("no value given for {}", p.missing.join(", ")), "at", spec, &[("at".into(), text)], None));
     }
     check_numbers(spec, req)?;
-    Ok(SpectrumOptions { freq, values: p.values, overtones: req.overtones, tol: req.tol, guess: seed(spec, &req.guess, "guess")?, seeds: Vec::new(), seeds_from: canonode::numeric::SeedSource::GlobalMethod })
+    Ok(SpectrumOptions::new(freq, p.values, req.overtones, req.tol, seed(spec, &req.guess, "guess")?))
 }
 
 /// The checks of the numeric keywords shared by spectrum and scan.

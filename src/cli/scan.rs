@@ -157,15 +157,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
             return Err(usage("scan surveys quasinormal modes or quasi-bound states: --boundary qnm or quasi-bound", "--boundary", 0))
         }
     }
-    let base = SpectrumOptions {
-        freq,
-        values: point,
-        overtones: (o0, o1),
-        tol,
-        guess,
-        seeds: Vec::new(),
-        seeds_from: crate::solve::spectrum::SeedSource::GlobalMethod,
-    };
+    let base = SpectrumOptions::new(freq, point, (o0, o1), tol, guess);
     // A coupled scan sets its angular problem up at the first point here, so
     // that a bad angular equation is reported against its own text before
     // any work starts.

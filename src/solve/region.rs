@@ -216,13 +216,7 @@ fn ladder_run(
 ) -> Result<LadderRun> {
     let (seeds, spectral) = ladder_seeds(bp, grid)?;
     let (rec, setup) = super::spectrum::qnm_recurrence(red, opts)?;
-    let opts = SpectrumOptions {
-        overtones: (0, LADDER_LIMIT - 1),
-        seeds: seeds.iter().map(|v| v.omega).collect(),
-        seeds_from: super::spectrum::SeedSource::GlobalMethod,
-        guess: None,
-        ..opts.clone()
-    };
+    let opts = opts.from_global(seeds.iter().map(|v| v.omega).collect(), LADDER_LIMIT - 1);
     // Barrier estimates start the ladder only where the spectral method gave fewer than two seeds.
     let estimates = if seeds.len() < 2 { super::spectrum::barrier_estimates(red, &opts, setup.horizon_value, wkb_order).ok() } else { None };
     let estimate = |n: u32| estimates.as_ref().and_then(|e| e(n)).and_then(|b| b.series.seed());
@@ -298,13 +292,7 @@ fn series_ladder_run(bp: &super::boundary::BoundaryProblem, var: &str, opts: &Sp
     if seeds.is_empty() {
         return Err(Error::new(ErrorKind::Usage, "the global spectral method gave no seed for the numeric series"));
     }
-    let opts = SpectrumOptions {
-        overtones: (0, LADDER_LIMIT - 1),
-        seeds: seeds.iter().map(|v| v.omega).collect(),
-        seeds_from: super::spectrum::SeedSource::GlobalMethod,
-        guess: None,
-        ..opts.clone()
-    };
+    let opts = opts.from_global(seeds.iter().map(|v| v.omega).collect(), LADDER_LIMIT - 1);
     let solve = |n: u32, seed: Complex64| super::cf::find_root(&series.recurrence, n as usize, seed, opts.tol, 64, 1 << 17);
     let beyond = |modes: &[Mode], seed: Complex64| past_the_window(region, modes, seed);
     let (modes, end) = super::spectrum::ladder(&opts, &|_| None, &solve, &beyond)?;

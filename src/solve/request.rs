@@ -1108,13 +1108,9 @@ fn numeric(red: &Reduction, req: &SpectrumRequest, seeds: Vec<Complex64>) -> Res
     let (freq, fname) = frequency(red, req)?;
     let point = point(red, req, freq)?;
     let opts = SpectrumOptions {
-        freq,
-        values: point.clone(),
-        overtones: req.overtones,
-        tol: req.tol,
-        guess: req.guess,
         seeds,
         seeds_from: super::spectrum::SeedSource::ClosedForm,
+        ..SpectrumOptions::new(freq, point.clone(), req.overtones, req.tol, req.guess)
     };
     let done = |body: Body, mode_functions: Option<ModeFunctions>, ends: Option<[super::closed::EndPick; 2]>| Numeric {
         report: SpectrumReport {
@@ -1562,15 +1558,7 @@ pub fn region_setup(red: &Reduction, req: &SpectrumRequest) -> Result<RegionSetu
         None => None,
     };
     let req = carried.as_ref().unwrap_or(req);
-    let opts = SpectrumOptions {
-        freq,
-        values: point.clone(),
-        overtones: req.overtones,
-        tol: req.tol,
-        guess: None,
-        seeds: Vec::new(),
-        seeds_from: super::spectrum::SeedSource::GlobalMethod,
-    };
+    let opts = SpectrumOptions::new(freq, point.clone(), req.overtones, req.tol, None);
     let red = super::spectrum::substitute(red, &point, freq)?;
     let (problem, classic) = boundary_problem(&red, req, &point, freq);
     let mut problem = problem?;

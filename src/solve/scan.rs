@@ -901,15 +901,7 @@ mod tests {
                 Ok(vec![mode(if o.seeds.is_empty() && v > 0.5 { Complex64::new(0.3, -0.5) } else { right })].into())
             }))
         };
-        let base = SpectrumOptions {
-            freq: 2,
-            values: vec![GRat::zero(); 3],
-            overtones: (0, 0),
-            tol: 1e-10,
-            guess: None,
-            seeds: Vec::new(),
-            seeds_from: crate::solve::spectrum::SeedSource::GlobalMethod,
-        };
+        let base = SpectrumOptions::new(2, vec![GRat::zero(); 3], (0, 0), 1e-10, None);
         let g = grid(&Rat::zero(), &Rat::one(), &Rat::new(1.into(), 10.into()).unwrap()).unwrap();
         let pool = rayon::ThreadPoolBuilder::new().num_threads(2).build().unwrap();
         let pts = pool.install(|| scan(&make, &base, 1, &g, 0..g.len(), false, &|| {}));
@@ -932,15 +924,7 @@ mod tests {
                 Ok(vec![mode(Complex64::new(0.4 + 0.1 * v + 1e-13 * seed.re, -0.1))].into())
             }))
         };
-        let base = SpectrumOptions {
-            freq: 2,
-            values: vec![GRat::zero(); 3],
-            overtones: (0, 0),
-            tol: 1e-10,
-            guess: None,
-            seeds: Vec::new(),
-            seeds_from: crate::solve::spectrum::SeedSource::GlobalMethod,
-        };
+        let base = SpectrumOptions::new(2, vec![GRat::zero(); 3], (0, 0), 1e-10, None);
         let g = grid(&Rat::zero(), &Rat::int(4.into()), &Rat::new(1.into(), 10.into()).unwrap()).unwrap();
         let run = |threads: usize| -> Vec<Complex64> {
             let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().unwrap();
@@ -991,15 +975,7 @@ mod tests {
 
     #[test]
     fn a_survey_resumed_at_any_point_gives_the_uninterrupted_digits() {
-        let base = SpectrumOptions {
-            freq: 3,
-            values: vec![GRat::zero(); 4],
-            overtones: (0, 0),
-            tol: 1e-10,
-            guess: None,
-            seeds: Vec::new(),
-            seeds_from: crate::solve::spectrum::SeedSource::GlobalMethod,
-        };
+        let base = SpectrumOptions::new(3, vec![GRat::zero(); 4], (0, 0), 1e-10, None);
         let tenth = Rat::new(1.into(), 10.into()).unwrap();
         let xs = grid(&Rat::zero(), &Rat::int(3.into()), &tenth).unwrap();
         let ys = vec![Rat::zero(), Rat::one()];

@@ -457,15 +457,7 @@ impl CoupledScatter {
             values[i] = GRat { re: super::spectrum::exact_double(x.re).re, im: super::spectrum::exact_double(x.im).re };
             linked.push((self.coupling.names[j].clone(), x));
         }
-        let opts = SpectrumOptions {
-            freq: self.freq,
-            values,
-            overtones: (0, 0),
-            tol: 1e-10,
-            guess: None,
-            seeds: Vec::new(),
-            seeds_from: crate::solve::spectrum::SeedSource::GlobalMethod,
-        };
+        let opts = SpectrumOptions::new(self.freq, values, (0, 0), 1e-10, None);
         let r = super::spectrum::substitute(&self.red, &opts.values, self.freq).map_err(|e| e.message)?;
         let pb = problem_at(&r, &opts).map_err(|e| e.message)?;
         let mut s = scatter_at(&pb, w)?;
@@ -598,15 +590,7 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
         if let Some((Some(li), ..)) = sum {
             values[li] = GRat::real(Rat::int(l.into()));
         }
-        let opts = SpectrumOptions {
-            freq,
-            values,
-            overtones: (0, 0),
-            tol: 1e-10,
-            guess: None,
-            seeds: Vec::new(),
-            seeds_from: crate::solve::spectrum::SeedSource::GlobalMethod,
-        };
+        let opts = SpectrumOptions::new(freq, values, (0, 0), 1e-10, None);
         // With a coupling the linked parameters stand at 0 here: the ends and their names do not depend on them.
         let r = super::spectrum::substitute(red, &opts.values, freq)?;
         let pb = problem_at(&r, &opts)?;

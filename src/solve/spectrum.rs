@@ -36,6 +36,19 @@ pub struct SpectrumOptions {
     pub seeds_from: SeedSource,
 }
 
+impl SpectrumOptions {
+    /// Options with no seeds given (the route finds its own).
+    pub fn new(freq: usize, values: Vec<GRat>, overtones: (u32, u32), tol: f64, guess: Option<Complex64>) -> SpectrumOptions {
+        SpectrumOptions { freq, values, overtones, tol, guess, seeds: Vec::new(), seeds_from: SeedSource::GlobalMethod }
+    }
+
+    /// These options seeded by the global spectral method's eigenvalues,
+    /// one per overtone from 0 to `last`, with no guess.
+    pub fn from_global(&self, seeds: Vec<Complex64>, last: u32) -> SpectrumOptions {
+        SpectrumOptions { overtones: (0, last), seeds, seeds_from: SeedSource::GlobalMethod, guess: None, ..self.clone() }
+    }
+}
+
 /// Where a run's given seeds came from.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum SeedSource {
@@ -1218,15 +1231,7 @@ mod tests {
 
     #[test]
     fn the_same_root_for_two_overtones_is_rejected_the_second_time() {
-        let opts = SpectrumOptions {
-            freq: 1,
-            values: Vec::new(),
-            overtones: (0, 2),
-            tol: 1e-10,
-            guess: Some(Complex64::new(0.4, -0.1)),
-            seeds: Vec::new(),
-            seeds_from: SeedSource::GlobalMethod,
-        };
+        let opts = SpectrumOptions::new(1, Vec::new(), (0, 2), 1e-10, Some(Complex64::new(0.4, -0.1)));
         let none = |_: u32| None;
         // A solver that always lands on the same mode, then on a new one.
         let modes = overtones(&opts, &none, &|n, _| root(if n < 2 { Complex64::new(0.37, -0.09) } else { Complex64::new(0.30, -0.48) })).unwrap();
@@ -1238,15 +1243,7 @@ mod tests {
 
     #[test]
     fn roots_outside_the_lower_right_quadrant_are_rejected() {
-        let opts = SpectrumOptions {
-            freq: 1,
-            values: Vec::new(),
-            overtones: (0, 0),
-            tol: 1e-10,
-            guess: Some(Complex64::new(0.4, -0.1)),
-            seeds: Vec::new(),
-            seeds_from: SeedSource::GlobalMethod,
-        };
+        let opts = SpectrumOptions::new(1, Vec::new(), (0, 0), 1e-10, Some(Complex64::new(0.4, -0.1)));
         let none = |_: u32| None;
         let modes = overtones(&opts, &none, &|_, _| root(Complex64::new(0.37, 0.09))).unwrap();
         assert!(!modes[0].root.converged && modes[0].root.stop.text().contains("lower right quadrant"));
