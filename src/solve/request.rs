@@ -2084,16 +2084,18 @@ fn recurrence_route(
         // The overtone number is a count from the fundamental: without a
         // guess the ladder climbs from overtone 0 (a first estimate of a high
         // overtone can sit nearer another one), and the range asked for is kept.
+        // (The overtones below the range are kept until the special points
+        // are settled: a point another overtone holds is not this one's.)
         let from_zero = SpectrumOptions { overtones: (0, opts.overtones.1), ..opts.clone() };
-        let (all, setup) = super::spectrum::qnm_modes_from(&rec, setup0.clone(), &from_zero, &estimate)?;
-        (all.into_iter().filter(|m| m.n >= opts.overtones.0).collect(), setup)
+        super::spectrum::qnm_modes_from(&rec, setup0.clone(), &from_zero, &estimate)?
     } else {
         super::spectrum::qnm_modes_from(&rec, setup0.clone(), opts, &estimate)?
     };
-    let wkb = modes.iter().map(|m| estimates.as_ref().and_then(|e| e(m.n)).map(|b| b.series.omega())).collect();
     let degenerate = super::spectrum::degenerate_of(&rec, &setup, opts);
     let mut notes = super::spectrum::settle_special(&rec, &setup, opts, &degenerate, &mut modes)?;
+    modes.retain(|m| m.n >= opts.overtones.0);
     notes.extend(super::spectrum::degenerate_notes(&setup, &degenerate, &modes));
+    let wkb = modes.iter().map(|m| estimates.as_ref().and_then(|e| e(m.n)).map(|b| b.series.omega())).collect();
     // The independent check: direct integration, seeded 1e-4 away from the
     // continued-fraction root (quasi-bound levels: nearer, see
     // `levels::check_offsets`; with Method::Integrate, from the seed); with an

@@ -481,9 +481,26 @@ pub fn qnm_modes_from(
     if rec.coeffs.len() < 3 {
         return Err(too_few_terms(rec, &setup));
     }
-    let (modes, _) = cf_ladder(rec, &setup, opts, first_estimate, &|_, _| false)?;
+    let (mut modes, _) = cf_ladder(rec, &setup, opts, first_estimate, &|_, _| false)?;
+    if opts.seeds.is_empty() && modes.iter().any(|m| !m.root.converged) {
+        // A failed overtone can be reached from the next one's search (the
+        // ladder files a root by the spacing below it): the ladder again
+        // with LOOKAHEAD overtones more, kept when more of the range converge.
+        let more = SpectrumOptions { overtones: (opts.overtones.0, opts.overtones.1 + LOOKAHEAD), ..opts.clone() };
+        if let Ok((again, _)) = cf_ladder(rec, &setup, &more, first_estimate, &|_, _| false) {
+            let again: Vec<Mode> = again.into_iter().filter(|m| m.n <= opts.overtones.1).collect();
+            let count = |ms: &[Mode]| ms.iter().filter(|m| m.root.converged).count();
+            if count(&again) > count(&modes) {
+                modes = again;
+            }
+        }
+    }
     Ok((modes, setup))
 }
+
+/// Overtones the ladder climbs past the range asked for when one in the
+/// range failed (see [`qnm_modes_from`]).
+const LOOKAHEAD: u32 = 2;
 
 /// The error of a recurrence of fewer than three terms where a continued
 /// fraction is needed.
