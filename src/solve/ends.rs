@@ -520,7 +520,9 @@ fn at_resonance(bp: &BoundaryProblem, eval: integrate::Evaluator, stalled: &IntR
             omega: w,
             converged: true,
             residual: largest,
-            change: if stalled_near { (w - w0).norm() / w.norm() } else { f64::NAN },
+            // How far the resonance lies from where the search stalled (or
+            // from its seed): the value's distance from the numeric search.
+            change: (w - w0).norm() / w.norm(),
             reason,
             note: Some(note),
             ..stalled.clone()
