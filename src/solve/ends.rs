@@ -85,7 +85,7 @@ fn end_start_at(
 /// are finite with a horizon condition at one of them (and no mixed one)
 /// and the real route would amplify errors beyond what double precision
 /// holds.
-pub(super) fn routes_for(bp: &BoundaryProblem, seed: Complex64) -> Vec<Route> {
+pub(super) fn routes_for(bp: &BoundaryProblem, seed: Complex64, fine_only: bool) -> Vec<Route> {
     let [left, right] = &bp.ends;
     let (Location::At(a), Location::At(b)) = (left.location, right.location) else { return vec![Route::REAL] };
     let horizon = |c: Condition| matches!(c, Condition::IntoHorizon | Condition::OutOfHorizon);
@@ -155,7 +155,7 @@ pub(super) fn routes_for(bp: &BoundaryProblem, seed: Complex64) -> Vec<Route> {
         let error = (w1 - w2).norm();
         (error > 0.0 && error.is_finite() && worst > 0.0 && worst.is_finite()).then(|| (error.ln(), worst.ln()))
     };
-    let judge = super::route::Judge { k: &k, zeros: &bp.zeros, ends: (a, b), dists: (sl, sr), exps: [el, er], measure: &measure };
+    let judge = super::route::Judge { k: &k, fine_only, zeros: &bp.zeros, ends: (a, b), dists: (sl, sr), exps: [el, er], measure: &measure };
     super::route::choose(&judge)
 }
 
@@ -422,7 +422,15 @@ pub fn find_root_near(bp: &BoundaryProblem, seed: Complex64, spread: f64, tol: f
     // The routes in order until one converges (a route's measure at the
     // seed is an estimate); the first route's failure is the one reported.
     let mut first: Option<IntRoot> = None;
-    for route in routes_for(bp, seed) {
+    let mut tried: Vec<Route> = Vec::new();
+    // The routes of the descent over both grids, then (where none
+    // converged) those of a descent over the fine grid alone.
+    let routes = routes_for(bp, seed, false).into_iter().chain(std::iter::once_with(|| routes_for(bp, seed, true)).flatten());
+    for route in routes {
+        if tried.contains(&route) {
+            continue;
+        }
+        tried.push(route);
         let r = find_root_on(bp, route, seed, spread, tol);
         match first {
             None if r.converged => return r,

@@ -188,6 +188,10 @@ fn encloses_none(route: &Route, zeros: &[Complex64], a: f64, b: f64, dl: f64, dr
 pub(super) struct Judge<'a> {
     /// The coefficients of the equation at the seed.
     pub k: &'a Coeffs,
+    /// Where an end's (or the lift's) natural scale is finer than the
+    /// fixed grid, the geometric grid on it alone (a second search, whose
+    /// descent takes another path).
+    pub fine_only: bool,
     /// The singular points (zeros of A).
     pub zeros: &'a [Complex64],
     /// The ends a < b.
@@ -231,11 +235,16 @@ impl Judge<'_> {
             if !(unit.is_finite() && unit > 0.0) || unit >= fixed[1].abs() {
                 return fixed.to_vec();
             }
-            let mut v = fixed.to_vec();
+            // The fine grid alone: ±u, ±3u, … up to the fixed grid's widest.
+            let widest = fixed[fixed.len() - 1].abs();
+            let mut v = if self.fine_only { vec![0.0] } else { fixed.to_vec() };
             let mut t = unit;
-            while t < fixed[1].abs() {
+            while t < if self.fine_only { widest } else { fixed[1].abs() } {
                 v.extend([-t, t]);
                 t *= 3.0;
+            }
+            if self.fine_only {
+                v.extend([-widest, widest]);
             }
             v
         };
