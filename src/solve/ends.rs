@@ -424,8 +424,12 @@ pub fn find_root_near(bp: &BoundaryProblem, seed: Complex64, spread: f64, tol: f
     let mut first: Option<IntRoot> = None;
     let mut tried: Vec<Route> = Vec::new();
     // The routes of the descent over both grids, then (where none
-    // converged) those of a descent over the fine grid alone.
-    let routes = routes_for(bp, seed, false).into_iter().chain(std::iter::once_with(|| routes_for(bp, seed, true)).flatten());
+    // converged, and the descent ran at all: a complex route among them)
+    // those of a descent over the fine grid alone.
+    let ranked = routes_for(bp, seed, false);
+    let descended = ranked.iter().any(Route::is_complex);
+    let fine = std::iter::once_with(|| if descended { routes_for(bp, seed, true) } else { Vec::new() }).flatten();
+    let routes = ranked.into_iter().chain(fine);
     for route in routes {
         if tried.contains(&route) {
             continue;

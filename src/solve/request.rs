@@ -762,12 +762,13 @@ fn spectrum_in(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport>
             Body::Periodic(_) => ClosedSection::None("closed forms are derived for problems between two ends, not for periodic ones".into()),
             _ => closed_section(red, req, freq, &point, ends),
         };
-        if let Some(seeds) = exact_seeds(&report, req, &point) {
+        let missed = passed_over_count(&report.body, &report.closed);
+        if let Some(seeds) = (missed > 0).then(|| exact_seeds(&report, req, &point)).flatten() {
             // The numeric search passed over exact values (a second family
             // between its overtones): again from the exact values as seeds,
             // kept when it passes over fewer.
             let again = numeric(red, req, seeds)?.report;
-            if passed_over_count(&again.body, &report.closed) < passed_over_count(&report.body, &report.closed) {
+            if passed_over_count(&again.body, &report.closed) < missed {
                 report.body = again.body;
                 report.mode_functions = again.mode_functions;
                 let words = "the seeds are the closed form's exact values, its families together, numbered by |Im ω| (the numeric search from its own seeds passed over some of them); each is still polished and checked numerically";
@@ -812,13 +813,14 @@ fn passed_over_count(body: &Body, closed: &ClosedSection) -> usize {
 }
 
 /// Seeds for the numeric search from the closed form (quasinormal modes
-/// with no guess, whose numeric search passed over an exact value): every
+/// with no guess; the caller asks when the numeric search passed over an
+/// exact value): every
 /// family's values for n up to the last overtone asked for, in the right
 /// half-plane, merged and ordered by |Im ω|, from the first overtone asked
 /// for on. `None` when there is nothing to mend.
 fn exact_seeds(report: &SpectrumReport, req: &SpectrumRequest, point: &[GRat]) -> Option<Vec<Complex64>> {
     let ClosedSection::Found { form, .. } = &report.closed else { return None };
-    if req.guess.is_some() || !matches!(report.body, Body::Ends(_) | Body::Recurrence(_)) || passed_over_count(&report.body, &report.closed) == 0 {
+    if req.guess.is_some() || !matches!(report.body, Body::Ends(_) | Body::Recurrence(_)) {
         return None;
     }
     let mut all: Vec<Complex64> = form
