@@ -798,7 +798,7 @@ fn series_modes_json(series: &SeriesReport, b: &EndsReport) -> Vec<Value> {
         .map(|(i, m)| {
             let r = &m.root;
             let value = if r.converged { Ok(r.omega) } else { Err(r.stop.text()) };
-            let check = match b.modes.get(i).map(|c| &c.root) {
+            let mut check = match b.modes.get(i).map(|c| &c.root) {
                 Some(c) if r.converged && c.converged => json!({
                     "method": "integrate",
                     "omega": pair(c.omega),
@@ -808,6 +808,10 @@ fn series_modes_json(series: &SeriesReport, b: &EndsReport) -> Vec<Value> {
                 Some(c) if r.converged => json!({"method": "integrate", "omega": Value::Null, "reason": c.reason}),
                 _ => Value::Null,
             };
+            // How a value at a resonance was settled (a limit through nearby problems).
+            if let (Some(note), Some(c)) = (b.modes.get(i).and_then(|c| c.root.note.as_ref()), check.as_object_mut()) {
+                c.insert("note".into(), json!(note));
+            }
             let rest = json!({
                 "evidence": cf_evidence(m),
                 "check": check,
@@ -924,8 +928,22 @@ fn series_rows(series: &SeriesReport, b: &EndsReport) -> String {
         }
         if m.method == ModeMethod::Integrate {
             // Found by direct integration where the continued fraction did not settle.
-            o.push_str(&integrate_row(m.n, r.omega, r.depth_change, r.residual));
-            o.push_str("     check: none: the continued fraction did not settle here, and this value is direct integration's alone (see the note)\n");
+            match b.modes.get(i).and_then(|c| c.root.note.as_ref()) {
+                Some(note) => {
+                    // A limit through nearby problems (its error estimate in both fields).
+                    o.push_str(&format!(
+                        "  {:<2} {:<44} [integrate] limit of nearby problems, estimated error {:.1e}\n",
+                        m.n,
+                        fmt_complex(r.omega.re, r.omega.im),
+                        r.depth_change
+                    ));
+                    o.push_str(&format!("     note: {note}\n     check: none: this value is direct integration's alone\n"));
+                }
+                None => {
+                    o.push_str(&integrate_row(m.n, r.omega, r.depth_change, r.residual));
+                    o.push_str("     check: none: the continued fraction did not settle here, and this value is direct integration's alone (see the note)\n");
+                }
+            }
             continue;
         }
         o.push_str(&format!(
@@ -938,11 +956,16 @@ fn series_rows(series: &SeriesReport, b: &EndsReport) -> String {
             r.residual
         ));
         match b.modes.get(i).map(|c| &c.root) {
-            Some(c) if c.converged => o.push_str(&format!(
-                "     check: direct integration {}, agreement {:.1e}\n",
-                fmt_complex(c.omega.re, c.omega.im),
-                (c.omega - r.omega).norm() / r.omega.norm()
-            )),
+            Some(c) if c.converged => {
+                o.push_str(&format!(
+                    "     check: direct integration {}, agreement {:.1e}\n",
+                    fmt_complex(c.omega.re, c.omega.im),
+                    (c.omega - r.omega).norm() / r.omega.norm()
+                ));
+                if let Some(note) = &c.note {
+                    o.push_str(&format!("     note: {note}\n"));
+                }
+            }
             Some(c) => o.push_str(&format!("     check: direct integration did not converge: {}\n", c.reason)),
             None => {}
         }

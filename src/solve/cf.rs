@@ -531,7 +531,7 @@ pub fn find_root_near(rec: &NumRecurrence, k: usize, seed: Complex64, spread: f6
     if rec.terms.len() < 3 {
         return CfRoot::failed(seed, k, StopReason::NotThreeTerm);
     }
-    find_root_spread(
+    let r = find_root_spread(
         &|w, depth| inversion(rec, w, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string()),
         k,
         seed,
@@ -539,7 +539,50 @@ pub fn find_root_near(rec: &NumRecurrence, k: usize, seed: Complex64, spread: f6
         tol,
         depth0,
         max_depth,
-    )
+    );
+    if r.converged {
+        if let Some(why) = spurious(rec, &r) {
+            return CfRoot { converged: false, stop: StopReason::Rejected(why), ..r };
+        }
+    }
+    r
+}
+
+/// The residual (relative to its scale) above which a neighbouring
+/// inversion is taken not to vanish at a root: a mode is a zero of every
+/// inversion, and at true roots the inversions k − 1 and k + 2 are near
+/// the rounding (1e-16 to 1e-9 on Schwarzschild's n = 0…14 and de Sitter's
+/// families), while at a spurious zero both are of order 1e-2 or more.
+const NEIGHBOUR_RESIDUAL: f64 = 1e-6;
+
+/// Why a converged root of the k-th inversion is not a mode, when it is
+/// not: a spurious zero of that inversion (the next shares it), seen as
+/// the inversions k − 1 and k + 2 (k + 2 and k + 3 for k = 0) both not
+/// vanishing at the root. One of them vanishing keeps the root: at a
+/// resonance of an end's exponents (de Sitter's conformally coupled field)
+/// an inversion can miss a true mode, and one that cannot be evaluated
+/// there (a zero denominator) says nothing.
+fn spurious(rec: &NumRecurrence, r: &CfRoot) -> Option<String> {
+    let k = r.inversion;
+    let others = match k.checked_sub(1) {
+        Some(below) => [below, k + 2],
+        None => [k + 2, k + 3],
+    };
+    let residuals: Vec<(usize, f64)> = others
+        .into_iter()
+        .filter_map(|j| inversion(rec, r.omega, j, r.depth).map(|(v, s)| (j, if s.norm() > 0.0 { (v / s).norm() } else { v.norm() })))
+        .filter(|(_, res)| res.is_finite())
+        .collect();
+    if residuals.len() < others.len() || residuals.iter().any(|(_, res)| *res <= NEIGHBOUR_RESIDUAL) {
+        return None;
+    }
+    let words: Vec<String> = residuals.iter().map(|(j, res)| format!("{res:.1e} for the {j}-th")).collect();
+    Some(format!(
+        "the root {:.6e}{:+.6e}i is a zero of the {k}-th inversion of the continued fraction but not of its neighbours (residual {} there): a spurious zero of the inverted fraction, not a mode",
+        r.omega.re,
+        r.omega.im,
+        words.join(", ")
+    ))
 }
 
 /// [`find_root`] on any function of (ω, truncation depth) giving the value

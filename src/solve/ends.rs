@@ -479,11 +479,7 @@ fn at_resonance(bp: &BoundaryProblem, eval: integrate::Evaluator, stalled: &IntR
     let (w0, near) = if stalled_near { (stalled.omega, RESONANCE_NEAR) } else { (seed, SEED_NEAR) };
     for end in &bp.ends {
         let (Location::At(z), Condition::IntoHorizon | Condition::OutOfHorizon) = (end.location, end.condition) else { continue };
-        let diff = |w: Complex64| -> Option<Complex64> {
-            let k = Coeffs::at(&bp.ode, w).ok()?;
-            let [r1, r2] = integrate::horizon(&k, z).ok()?.exponents();
-            Some(r1 - r2)
-        };
+        let diff = |w: Complex64| exponent_gap(bp, z, w);
         let d0 = diff(w0)?;
         let n = d0.re.round();
         if n == 0.0 || (d0 - n).norm() > 1e-2 * n.abs() {
@@ -541,6 +537,26 @@ fn at_resonance(bp: &BoundaryProblem, eval: integrate::Evaluator, stalled: &IntR
         });
     }
     None
+}
+
+/// The difference of the two exponents at the horizon end z at ω.
+fn exponent_gap(bp: &BoundaryProblem, z: f64, w: Complex64) -> Option<Complex64> {
+    let k = Coeffs::at(&bp.ode, w).ok()?;
+    let [r1, r2] = integrate::horizon(&k, z).ok()?.exponents();
+    Some(r1 - r2)
+}
+
+/// The horizon end (its point) whose two exponents differ at ω by a
+/// nonzero integer to within `near` (absolutely), and that integer: a
+/// resonance, where the solution the end's condition asks for is defined
+/// only as a limit.
+pub fn resonant_horizon(bp: &BoundaryProblem, w: Complex64, near: f64) -> Option<(f64, i64)> {
+    bp.ends.iter().find_map(|end| {
+        let (Location::At(z), Condition::IntoHorizon | Condition::OutOfHorizon) = (end.location, end.condition) else { return None };
+        let d = exponent_gap(bp, z, w)?;
+        let n = d.re.round();
+        (n != 0.0 && (d - n).norm() <= near).then_some((z, n as i64))
+    })
 }
 
 /// [`find_root_near`] on one route.

@@ -17,6 +17,7 @@ pub mod integrate;
 pub mod levels;
 pub mod mobius;
 pub mod modefn;
+pub mod nearby;
 pub mod periodic;
 pub mod physical;
 pub mod plot;

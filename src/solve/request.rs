@@ -1102,8 +1102,109 @@ impl SpectrumReport {
 }
 
 /// The numeric route of [`spectrum`], from `seeds` for the overtones asked
-/// for when there are any (else the route's own seeds).
+/// for when there are any (else the route's own seeds); modes between the
+/// ends that sit at a resonance of a horizon's exponents are then settled
+/// as limits ([`settle_resonances`]).
 fn numeric(red: &Reduction, req: &SpectrumRequest, seeds: Vec<Complex64>) -> Result<Numeric> {
+    let mut n = numeric_route(red, req, seeds)?;
+    if let Body::Ends(e) = &mut n.report.body {
+        settle_resonances(red, req, n.freq, &n.point, e);
+    }
+    Ok(n)
+}
+
+/// How near (absolutely) a horizon's two exponents must differ from an
+/// integer at a value for it to count as at a resonance.
+const RESONANCE_GAP: f64 = 1e-6;
+
+/// Modes between the ends at a resonance of a horizon's exponents, where
+/// direct integration (and the continued fraction's inversions) see no
+/// clean root: each taken as the limit of direct integration's modes of
+/// nearby problems (`solve::nearby`), with the same conditions at the same
+/// ends and one parameter moved. A continued-fraction root whose check did
+/// not converge gets the limit as its check; an overtone neither method
+/// settled, whose seed (an exact value, an extrapolation) sits at a
+/// resonance, gets the limit as its value, direct integration's alone,
+/// when it is new. The limit's words go in the check's note.
+fn settle_resonances(red: &Reduction, req: &SpectrumRequest, freq: usize, point: &[GRat], e: &mut EndsReport) {
+    if req.couple.is_some() {
+        return;
+    }
+    let conditions = [e.problem.ends[0].condition, e.problem.ends[1].condition];
+    let same = [(e.problem.ends[0].location, Some(conditions[0])), (e.problem.ends[1].location, Some(conditions[1]))];
+    let solve = |pt: &[GRat], seed: Complex64| -> Option<Complex64> {
+        let red = super::spectrum::substitute_for_series(red, pt, &[freq]).ok()?;
+        // The ends as the request picks them, else (where a moved parameter
+        // changed the pick) the same points with the same conditions.
+        let bp = boundary_problem(&red, req, pt, freq)
+            .0
+            .ok()
+            .filter(|bp| [bp.ends[0].condition, bp.ends[1].condition] == conditions)
+            .or_else(|| super::boundary::try_problem(&red, pt, freq, e.problem.kind, Some(same)).ok())?;
+        // Not at the resonance itself, where the mismatch cannot be evaluated.
+        let seed = seed + Complex64::new(1e-4 * seed.norm(), 0.0);
+        let r = super::ends::find_root(&bp, seed, req.tol);
+        (r.converged && r.note.is_none()).then_some(r.omega)
+    };
+    let names = red.field.names();
+    let at_resonance = |bp: &BoundaryProblem, w: Complex64| w.re.is_finite() && w.im.is_finite() && super::ends::resonant_horizon(bp, w, RESONANCE_GAP).is_some();
+    let limit_root = |l: &super::nearby::Limit| IntRoot {
+        omega: l.omega,
+        converged: l.error <= LIMIT_ERROR,
+        residual: l.error,
+        iterations: 0,
+        steps: 0,
+        change: l.error,
+        reason: format!("the limit of the nearby modes has an estimated error {:.0e}, more than {LIMIT_ERROR:.0e}", l.error),
+        note: Some(l.words(false)),
+    };
+    let Some(series) = e.series.as_mut() else {
+        // Direct integration alone: an overtone that did not converge from a seed at a resonance.
+        for m in e.modes.iter_mut().filter(|m| !m.root.converged) {
+            if at_resonance(&e.problem, m.seed.omega) {
+                if let Some(l) = super::nearby::limit(point, names, &[0, freq], m.seed.omega, &solve) {
+                    m.root = limit_root(&l);
+                }
+            }
+        }
+        return;
+    };
+    for i in 0..series.modes.len().min(e.modes.len()) {
+        let m = &series.modes[i];
+        if m.root.converged && m.method == ModeMethod::ContinuedFraction && !e.modes[i].root.converged && at_resonance(&e.problem, m.root.omega) {
+            // The check of a continued-fraction root.
+            if let Some(l) = super::nearby::limit(point, names, &[0, freq], m.root.omega, &solve) {
+                e.modes[i].root = limit_root(&l);
+            }
+        } else if !m.root.converged && at_resonance(&e.problem, m.seed.0) {
+            // An overtone neither method settled.
+            let Some(l) = super::nearby::limit(point, names, &[0, freq], m.seed.0, &solve) else { continue };
+            let taken = series.modes.iter().any(|o| o.root.converged && (o.root.omega - l.omega).norm() <= CONFIRMED * l.omega.norm());
+            if l.error > LIMIT_ERROR || taken {
+                continue;
+            }
+            let m = &mut series.modes[i];
+            m.root.omega = l.omega;
+            m.root.converged = true;
+            m.root.residual = l.error;
+            m.root.iterations = 0;
+            m.root.depth = 0;
+            m.root.depth_change = l.error;
+            m.root.stop = super::cf::StopReason::Converged;
+            m.method = ModeMethod::Integrate;
+            let mut check = super::ends::unfound(m.n, "not checked: the limit of direct integration's nearby modes is the value itself".into());
+            check.root.note = Some(l.words(true));
+            e.modes[i] = check;
+        }
+    }
+}
+
+/// The largest estimated error (relative) of a limit through nearby
+/// problems that is taken as a mode or a check.
+const LIMIT_ERROR: f64 = 1e-6;
+
+/// [`numeric`] before modes at resonances are settled.
+fn numeric_route(red: &Reduction, req: &SpectrumRequest, seeds: Vec<Complex64>) -> Result<Numeric> {
     if !(1..=super::wkb::MAX_ORDER).contains(&req.wkb_order) {
         return Err(usage(format!("the WKB order must lie in 1..={}", super::wkb::MAX_ORDER)).in_option(RequestInput::WkbOrder));
     }
