@@ -344,6 +344,49 @@ fn normal_modes_without_a_horizon_are_numbered_by_frequency() {
 }
 
 #[test]
+fn de_sitter_modes_at_resonances_of_the_horizon_exponents() {
+    // The families ω = −i(l + Δ± + 2n) of `de_sitter_static_patch` (derived
+    // there from the hypergeometric solution) for the massless field (Δ± = 3,
+    // 0) and the conformally coupled one (m² = 2: Δ± = 2, 1). Every mode is
+    // then an integer times −i, where the horizon's exponents ±iω/2 differ by
+    // an integer: direct integration's mismatch has no clean root there, and
+    // each check (or a value no method settles at the point itself) is the
+    // limit of direct integration's modes of nearby problems. The first six
+    // overtones, numbered by damping, with and without --ends.
+    for (l, m, deltas) in
+        [(1u32, "0", [3.0, 0.0]), (2, "0", [3.0, 0.0]), (1, "1.4142135623730951", [2.0, 1.0]), (2, "1.4142135623730951", [2.0, 1.0])]
+    {
+        let mut want: Vec<f64> =
+            deltas.iter().flat_map(|d| (0..8).map(move |n| f64::from(l) + d + 2.0 * f64::from(n))).filter(|x| *x > 0.0).collect();
+        want.sort_by(f64::total_cmp);
+        want.dedup();
+        for ends in [None, Some("0..1")] {
+            let at = format!("l={l},m={m}");
+            let mut args = vec!["spectrum", "tests/boundary/de_sitter_static_scalar.ode", "--at", &at, "--overtones", "0..5", "--format", "json"];
+            if let Some(e) = ends {
+                args.extend_from_slice(&["--ends", e]);
+            }
+            let doc = run(&args);
+            let modes = doc["modes"].as_array().unwrap();
+            assert_eq!(modes.len(), 6);
+            for (m, w) in modes.iter().zip(&want) {
+                let w = cx(0.0, -w);
+                assert_eq!(m["converged"], true, "{at} {ends:?}: {m}");
+                assert!(close(c(&m["omega"]), w, 1e-9), "{at} {ends:?} n={}: {} is not {w}", m["n"], m["omega"]);
+                // Its check agrees; without one it is direct integration's
+                // (the limit itself, or a root its two integrations agree on,
+                // where the global method, the check between given ends, sees
+                // only the least damped modes).
+                match m["check"]["agreement"].as_f64() {
+                    Some(a) => assert!(a <= 1e-9, "{at} {ends:?}: {m}"),
+                    None => assert_eq!(m["method"], "integrate", "{at} {ends:?}: {m}"),
+                }
+            }
+        }
+    }
+}
+
+#[test]
 fn de_sitter_static_patch_without_a_guess_starts_from_the_least_damped_mode() {
     // The two families ω = −i(l + Δ± + 2n) of the test above (derived there
     // from the hypergeometric solution), l = 1, m = 1/2: Δ₋ = 3/2 − √2 gives

@@ -8,6 +8,7 @@ use crate::algebra::print::Style;
 use crate::error::RequestInput;
 use crate::solve::boundary::{location_text, Condition, End, Location};
 use crate::solve::closed::ClosedForm;
+use crate::solve::integrate::Settled;
 use crate::solve::periodic::{Floquet, PeriodicMode};
 use crate::solve::physical::{ChangeReport, WrittenPlace};
 use crate::solve::polynomial::PolynomialSolutions;
@@ -727,7 +728,7 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
                     "iterations": r.iterations,
                     "seed": pair(m.seed.omega),
                     "seed_from": m.seed.from,
-                    "note": r.note,
+                    "note": r.note.as_ref().map(|n| n.text()),
                 },
                 "check": match b.checks.get(i).and_then(|c| c.as_ref()) {
                     Some(c) => match c.omega {
@@ -810,7 +811,7 @@ fn series_modes_json(series: &SeriesReport, b: &EndsReport) -> Vec<Value> {
             };
             // How a value at a resonance was settled (a limit through nearby problems).
             if let (Some(note), Some(c)) = (b.modes.get(i).and_then(|c| c.root.note.as_ref()), check.as_object_mut()) {
-                c.insert("note".into(), json!(note));
+                c.insert("note".into(), json!(note.text()));
             }
             let rest = json!({
                 "evidence": cf_evidence(m),
@@ -893,9 +894,16 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
     for (i, m) in b.modes.iter().enumerate() {
         let r = &m.root;
         if r.converged {
-            o.push_str(&integrate_row(m.n, r.omega, r.change, r.residual));
-            if let Some(note) = &r.note {
-                o.push_str(&format!("     note: {note}\n"));
+            match &r.note {
+                Some(Settled::Limit(note)) => {
+                    o.push_str(&limit_row(m.n, r.omega, r.change));
+                    o.push_str(&format!("     note: {note}\n"));
+                }
+                Some(Settled::AtResonance(note)) => {
+                    o.push_str(&integrate_row(m.n, r.omega, r.change, r.residual));
+                    o.push_str(&format!("     note: {note}\n"));
+                }
+                None => o.push_str(&integrate_row(m.n, r.omega, r.change, r.residual)),
             }
             if let Some(c) = b.checks.get(i).and_then(|c| c.as_ref()) {
                 match c.omega {
@@ -908,6 +916,12 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
         }
     }
     o
+}
+
+/// The row of a mode taken as the limit of direct integration's modes of
+/// nearby problems: its value and the limit's estimated error.
+fn limit_row(n: u32, w: Complex64, error: f64) -> String {
+    format!("  {:<2} {:<44} [integrate] limit of nearby problems, estimated error {error:.1e}\n", n, fmt_complex(w.re, w.im))
 }
 
 /// The row of a mode found by direct integration: its value, the change
@@ -930,18 +944,15 @@ fn series_rows(series: &SeriesReport, b: &EndsReport) -> String {
             // Found by direct integration where the continued fraction did not settle.
             match b.modes.get(i).and_then(|c| c.root.note.as_ref()) {
                 Some(note) => {
-                    // A limit through nearby problems (its error estimate in both fields).
-                    o.push_str(&format!(
-                        "  {:<2} {:<44} [integrate] limit of nearby problems, estimated error {:.1e}\n",
-                        m.n,
-                        fmt_complex(r.omega.re, r.omega.im),
-                        r.depth_change
-                    ));
-                    o.push_str(&format!("     note: {note}\n     check: none: this value is direct integration's alone\n"));
+                    // A limit through nearby problems (its error estimate in `depth_change`).
+                    o.push_str(&limit_row(m.n, r.omega, r.depth_change));
+                    o.push_str(&format!("     note: {}\n     check: none: this value is direct integration's alone\n", note.text()));
                 }
                 None => {
                     o.push_str(&integrate_row(m.n, r.omega, r.depth_change, r.residual));
-                    o.push_str("     check: none: the continued fraction did not settle here, and this value is direct integration's alone (see the note)\n");
+                    o.push_str(
+                        "     check: none: the continued fraction did not settle here, and this value is direct integration's alone (see the note)\n",
+                    );
                 }
             }
             continue;
@@ -963,7 +974,7 @@ fn series_rows(series: &SeriesReport, b: &EndsReport) -> String {
                     (c.omega - r.omega).norm() / r.omega.norm()
                 ));
                 if let Some(note) = &c.note {
-                    o.push_str(&format!("     note: {note}\n"));
+                    o.push_str(&format!("     note: {}\n", note.text()));
                 }
             }
             Some(c) => o.push_str(&format!("     check: direct integration did not converge: {}\n", c.reason)),

@@ -532,7 +532,7 @@ fn at_resonance(bp: &BoundaryProblem, eval: integrate::Evaluator, stalled: &IntR
             // from its seed): the value's distance from the numeric search.
             change: (w - w0).norm() / w.norm(),
             reason,
-            note: Some(note),
+            note: Some(integrate::Settled::AtResonance(note)),
             ..stalled.clone()
         });
     }

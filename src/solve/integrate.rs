@@ -52,6 +52,27 @@ pub struct Ends<'a> {
     pub nu: &'a dyn Fn(Complex64) -> Complex64,
 }
 
+/// How a root that is not a plain simple zero of the mismatch was settled,
+/// in words for its reader (a closed set: the renderers match on it).
+#[derive(Clone, Debug, PartialEq)]
+pub enum Settled {
+    /// Taken at a resonance of a horizon's exponents, towards which the
+    /// mismatch falls like a power of the distance (`ends`).
+    AtResonance(String),
+    /// The limit of the modes of nearby problems (`solve::nearby`); the
+    /// root's `change` and `residual` are the limit's error estimate.
+    Limit(String),
+}
+
+impl Settled {
+    /// The words.
+    pub fn text(&self) -> &str {
+        match self {
+            Settled::AtResonance(t) | Settled::Limit(t) => t,
+        }
+    }
+}
+
 /// Evidence of one integration root.
 #[derive(Clone, Debug)]
 pub struct IntRoot {
@@ -74,7 +95,7 @@ pub struct IntRoot {
     pub reason: String,
     /// What a reader of a converged root must know about how it was
     /// settled (a root taken at a resonance of the exponents), if anything.
-    pub note: Option<String>,
+    pub note: Option<Settled>,
 }
 
 /// The mismatch function: the Wronskian y_h y_∞' − y_h' y_∞ between the

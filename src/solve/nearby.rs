@@ -45,7 +45,8 @@ impl Limit {
     /// The limit in words, for a note; `alone` when no method settled a
     /// root at the value itself (else direct integration's check did not).
     pub fn words(&self, alone: bool) -> String {
-        let who = if alone { "neither the continued fraction nor direct integration settles on a root" } else { "direct integration finds no clean root" };
+        let who =
+            if alone { "neither the continued fraction nor direct integration settles on a root" } else { "direct integration finds no clean root" };
         format!(
             "at a resonance of the horizon's exponents, where the condition there is defined only as a limit: {who} at this value, so direct integration solved the six nearby problems {} = {} ± h, ± 2h, ± 3h (h = {:.1e}) and their modes were extrapolated to h = 0 (Richardson in h²), estimated error {:.0e}",
             self.name, self.value, self.step, self.error
@@ -75,7 +76,15 @@ pub fn limit(
             continue;
         }
         // The step's unit: |value| when it is at least 1 (exactly, as a rational), else 1.
-        let unit = if re.abs() >= 1.0 { if re < 0.0 { v.re.neg() } else { v.re.clone() } } else { Rat::one() };
+        let unit = if re.abs() >= 1.0 {
+            if re < 0.0 {
+                v.re.neg()
+            } else {
+                v.re.clone()
+            }
+        } else {
+            Rat::one()
+        };
         for (num, den) in STEPS {
             let Some(h) = Rat::new(num.into(), den.into()).map(|f| unit.mul(&f)) else { continue };
             let at = |j: i64| {

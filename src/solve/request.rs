@@ -763,18 +763,24 @@ fn spectrum_in(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport>
             _ => closed_section(red, req, freq, &point, ends),
         };
         let missed = passed_over_count(&report.body, &report.closed);
-        if let Some(seeds) = (missed > 0).then(|| exact_seeds(&report, req, &point)).flatten() {
+        let none_found = report.body.converged().is_empty();
+        if let Some(seeds) = (missed > 0 || none_found).then(|| exact_seeds(&report, req, &point)).flatten() {
             // The numeric search passed over exact values (a second family
-            // between its overtones): again from the exact values as seeds,
-            // kept when it passes over fewer.
+            // between its overtones) or found no mode at all: again from
+            // the exact values as seeds, kept when it passes over fewer or
+            // finds some.
             let again = numeric(red, req, seeds)?.report;
-            if passed_over_count(&again.body, &report.closed) < missed {
+            let found = !again.body.converged().is_empty();
+            if passed_over_count(&again.body, &report.closed) < missed || (none_found && found) {
                 report.body = again.body;
                 report.mode_functions = again.mode_functions;
-                let words = "the seeds are the closed form's exact values, its families together, numbered by |Im ω| (the numeric search from its own seeds passed over some of them); each is still polished and checked numerically";
+                let words = format!(
+                    "the seeds are the closed form's exact values, its families together, numbered by |Im ω| (the numeric search from its own seeds {}); each is still polished and checked numerically",
+                    if none_found { "found none of them" } else { "passed over some of them" }
+                );
                 match &mut report.body {
-                    Body::Ends(e) => e.numbering = Some(words.to_string()),
-                    Body::Recurrence(r) => r.notes.push(words.to_string()),
+                    Body::Ends(e) => e.numbering = Some(words),
+                    Body::Recurrence(r) => r.notes.push(words),
                     _ => {}
                 }
             }
@@ -1147,7 +1153,8 @@ fn settle_resonances(red: &Reduction, req: &SpectrumRequest, freq: usize, point:
         (r.converged && r.note.is_none()).then_some(r.omega)
     };
     let names = red.field.names();
-    let at_resonance = |bp: &BoundaryProblem, w: Complex64| w.re.is_finite() && w.im.is_finite() && super::ends::resonant_horizon(bp, w, RESONANCE_GAP).is_some();
+    let at_resonance =
+        |bp: &BoundaryProblem, w: Complex64| w.re.is_finite() && w.im.is_finite() && super::ends::resonant_horizon(bp, w, RESONANCE_GAP).is_some();
     let limit_root = |l: &super::nearby::Limit| IntRoot {
         omega: l.omega,
         converged: l.error <= LIMIT_ERROR,
@@ -1156,7 +1163,7 @@ fn settle_resonances(red: &Reduction, req: &SpectrumRequest, freq: usize, point:
         steps: 0,
         change: l.error,
         reason: format!("the limit of the nearby modes has an estimated error {:.0e}, more than {LIMIT_ERROR:.0e}", l.error),
-        note: Some(l.words(false)),
+        note: Some(super::integrate::Settled::Limit(l.words(false))),
     };
     let Some(series) = e.series.as_mut() else {
         // Direct integration alone: an overtone that did not converge from a seed at a resonance.
@@ -1193,7 +1200,7 @@ fn settle_resonances(red: &Reduction, req: &SpectrumRequest, freq: usize, point:
             m.root.stop = super::cf::StopReason::Converged;
             m.method = ModeMethod::Integrate;
             let mut check = super::ends::unfound(m.n, "not checked: the limit of direct integration's nearby modes is the value itself".into());
-            check.root.note = Some(l.words(true));
+            check.root.note = Some(super::integrate::Settled::Limit(l.words(true)));
             e.modes[i] = check;
         }
     }
@@ -1700,6 +1707,19 @@ fn between_ends(bp: BoundaryProblem, req: &SpectrumRequest, opts: &SpectrumOptio
 /// the one a default request turned out to be).
 fn between_ends_as(bp: BoundaryProblem, problem: Problem, opts: &SpectrumOptions, note: Option<String>) -> EndsReport {
     let real = problem == Problem::Bound && super::global::polynomial_in_omega(&bp);
+    if !opts.seeds.is_empty() {
+        // Seeds given (the closed form's exact values): one search from each.
+        let modes: Vec<EndMode> = (opts.overtones.0..)
+            .zip(&opts.seeds)
+            .map(|(n, &s)| EndMode {
+                n,
+                root: super::ends::find_root(&bp, s, opts.tol),
+                seed: super::ends::Seed { omega: s, from: opts.seeds_from.words().into() },
+            })
+            .collect();
+        let (checks, check_note) = spectral_checks(&bp, &modes);
+        return EndsReport { problem: bp, modes, note, numbering: None, spectrum: problem, checks, check_note, series: None };
+    }
     let seeded = (opts.guess.is_none() && (problem == Problem::Quasinormal || real)).then(|| spectral_seeded(&bp, opts, real)).flatten();
     let from_spectral = seeded.is_some();
     let modes = seeded.unwrap_or_else(|| super::ends::modes(&bp, opts.overtones, opts.guess, opts.tol));
