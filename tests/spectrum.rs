@@ -1141,6 +1141,32 @@ fn a_mixed_condition_at_the_anti_de_sitter_boundary_interpolates_between_the_fal
 }
 
 #[test]
+fn the_slower_fall_off_of_a_conformally_coupled_field_in_anti_de_sitter() {
+    // Global AdS₄, L = 1, m² = −2 (conformal coupling): Δ± = 2, 1, whose
+    // difference is an integer. With r = tan x the equation is
+    // u'' + (ω² − l(l+1)/sin²x)u = 0 (the f terms cancel: common practice),
+    // and the slower fall-off Δ₋ = 1 is u'(π/2) = 0, the faster u(π/2) = 0;
+    // the normal modes are ω = l + Δ + 2n (exact: the regular solution is a
+    // hypergeometric polynomial there; e.g. Ishibashi & Wald 2004, from
+    // memory). The global method's discretisation has no condition at a
+    // fall-off whose exponents differ by an integer: the real-axis scan
+    // seeds the slower one, without a guess.
+    let file = "tests/boundary/ads4_global_massive_scalar.ode";
+    for l in [0u32, 1, 2] {
+        for (ends, delta) in [("0..inf:slower", 1.0f64), ("0..inf", 2.0)] {
+            let at = format!("l={l},m2=-2");
+            let (_, ms) = modes_of(file, &at, &["--ends", ends, "--overtones", "0..2"]);
+            assert_eq!(ms.len(), 3);
+            for (n, m) in ms.iter().enumerate() {
+                let (re, im) = omega(m);
+                let want = f64::from(l) + delta + 2.0 * n as f64;
+                assert!((re - want).abs() < 1e-10 && im.abs() < 1e-10, "l={l} {ends} n={n}: {re} {im}, want {want}");
+            }
+        }
+    }
+}
+
+#[test]
 fn massive_scalar_quasi_bound_states_are_hydrogen_like() {
     // For small Mμ the quasi-bound states approach the hydrogenic levels
     // ω ≈ μ(1 − (Mμ)²/(2(l + n + 1)²)) and decay slowly (Detweiler, Phys.

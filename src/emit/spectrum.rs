@@ -423,6 +423,16 @@ fn recurrence_method(b: &RecurrenceReport) -> &'static str {
 /// on doubling, residual, iterations and seed), as JSON.
 fn cf_evidence(m: &crate::solve::spectrum::Mode) -> Value {
     let r = &m.root;
+    if m.method == ModeMethod::Integrate {
+        // Direct integration's own evidence where the fraction did not settle.
+        return json!({
+            "change_on_refinement": finite_or_null(r.depth_change),
+            "residual": finite_or_null(r.residual),
+            "iterations": r.iterations,
+            "seed": pair(m.seed.0),
+            "seed_from": m.seed.1,
+        });
+    }
     json!({
         "inversion": r.inversion,
         "depth": r.depth,
@@ -722,13 +732,22 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
             let r = &m.root;
             let value = if r.converged { Ok(r.omega) } else { Err(r.reason.clone()) };
             let rest = json!({
-                "evidence": {
-                    "change_on_refinement": finite_or_null(r.change),
-                    "residual": finite_or_null(r.residual),
-                    "iterations": r.iterations,
-                    "seed": pair(m.seed.omega),
-                    "seed_from": m.seed.from,
-                    "note": r.note.as_ref().map(|n| n.text()),
+                "evidence": match &r.note {
+                    // A limit of nearby problems: its error estimate, not a refinement's change.
+                    Some(Settled::Limit(note)) => json!({
+                        "limit_error": finite_or_null(r.change),
+                        "seed": pair(m.seed.omega),
+                        "seed_from": m.seed.from,
+                        "note": note,
+                    }),
+                    _ => json!({
+                        "change_on_refinement": finite_or_null(r.change),
+                        "residual": finite_or_null(r.residual),
+                        "iterations": r.iterations,
+                        "seed": pair(m.seed.omega),
+                        "seed_from": m.seed.from,
+                        "note": r.note.as_ref().map(|n| n.text()),
+                    }),
                 },
                 "check": match b.checks.get(i).and_then(|c| c.as_ref()) {
                     Some(c) => match c.omega {
@@ -813,8 +832,16 @@ fn series_modes_json(series: &SeriesReport, b: &EndsReport) -> Vec<Value> {
             if let (Some(note), Some(c)) = (b.modes.get(i).and_then(|c| c.root.note.as_ref()), check.as_object_mut()) {
                 c.insert("note".into(), json!(note.text()));
             }
+            let mut evidence = cf_evidence(m);
+            // A limit of nearby problems: its error estimate, not a refinement's change.
+            if let (Some(Settled::Limit(_)), Some(e)) = (b.modes.get(i).and_then(|c| c.root.note.as_ref()), evidence.as_object_mut()) {
+                if let Some(v) = e.remove("change_on_refinement") {
+                    e.insert("limit_error".into(), v);
+                }
+                e.remove("residual");
+            }
             let rest = json!({
-                "evidence": cf_evidence(m),
+                "evidence": evidence,
                 "check": check,
             });
             mode_json(m.n, value, m.method.tag(), rest)

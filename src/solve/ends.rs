@@ -746,14 +746,27 @@ const SCAN_REAL: usize = 240;
 /// Rounds of the real-axis scan (the half-width grows fourfold each round).
 const SCAN_REAL_ROUNDS: usize = 5;
 
-/// The lowest real eigenvalues of a real problem ([`SpectrumKind::Bound`]):
-/// local minima of |mismatch| on a grid over [−L, L] (L = 4κ, 16κ, … up to
-/// five rounds, κ the problem's scale), each polished by the two-pass Muller
-/// search and kept when it converges to a real value; sorted ascending,
-/// distinct. Stops when `want` are found and a wider round adds none (a
-/// level below those found would show there), or the rounds are spent; the
-/// second value is the half-width reached.
-fn real_axis_roots(bp: &BoundaryProblem, want: usize, tol: f64) -> (Vec<(IntRoot, Seed)>, f64) {
+/// Which part of the real axis [`real_axis_roots`] scans.
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum RealScan {
+    /// [−L, L], for eigenvalues bounded below (an energy): a wider round
+    /// must add none before the scan stops.
+    Line,
+    /// [0, L], for normal modes ±ω (ω enters as ω²): the lowest ones lie in
+    /// the first rounds, and the scan stops once enough are found.
+    HalfLine,
+}
+
+/// The lowest real eigenvalues of a real problem ([`SpectrumKind::Bound`],
+/// or normal modes with [`RealScan::HalfLine`]): local minima of
+/// |mismatch| on a grid over [−L, L] or [0, L] (L = 4κ, 16κ, … up to five
+/// rounds, κ the problem's scale), each polished by the two-pass Muller
+/// search and kept when it converges to a real value (in [0, ∞) on the
+/// half-line); sorted ascending, distinct. Stops when `want` are found and
+/// (on the line) a wider round adds none (a level below those found would
+/// show there), or the rounds are spent; the second value is the
+/// half-width reached.
+fn real_axis_roots(bp: &BoundaryProblem, want: usize, tol: f64, part: RealScan) -> (Vec<(IntRoot, Seed)>, f64) {
     let mut found: Vec<(IntRoot, Seed)> = Vec::new();
     let mut half = 4.0 * bp.scale;
     let mut before = usize::MAX;
@@ -761,20 +774,46 @@ fn real_axis_roots(bp: &BoundaryProblem, want: usize, tol: f64) -> (Vec<(IntRoot
         if round > 0 {
             half *= 4.0;
         }
-        let at = |i: usize| -half + 2.0 * half * (i as f64 + 0.5) / SCAN_REAL as f64;
-        let vals: Vec<f64> = (0..SCAN_REAL).map(|i| mismatch(bp, Complex64::new(at(i), 0.0)).map(|m| m.norm()).unwrap_or(f64::INFINITY)).collect();
-        for i in 0..SCAN_REAL {
+        let at = |i: usize| match part {
+            RealScan::Line => -half + 2.0 * half * (i as f64 + 0.5) / SCAN_REAL as f64,
+            RealScan::HalfLine => half * (i as f64 + 0.5) / SCAN_REAL as f64,
+        };
+        let values: Vec<Option<Complex64>> = (0..SCAN_REAL).map(|i| mismatch(bp, Complex64::new(at(i), 0.0))).collect();
+        let vals: Vec<f64> = values.iter().map(|v| v.map_or(f64::INFINITY, |m| m.norm())).collect();
+        let span = match part {
+            RealScan::Line => format!("[−{half:.3e}, {half:.3e}]"),
+            RealScan::HalfLine => format!("[0, {half:.3e}]"),
+        };
+        let step = at(1) - at(0);
+        // Candidates: minima of |mismatch| below 0.5, and sign changes
+        // between neighbours (a real problem's mismatch keeps its phase up
+        // to sign; where it is normalised to ±1 away from its zeros, the
+        // dip at a zero can be narrower than the grid, the flip cannot).
+        let minimum = |i: usize| {
             let left = if i > 0 { vals[i - 1] } else { f64::INFINITY };
             let right = if i + 1 < SCAN_REAL { vals[i + 1] } else { f64::INFINITY };
-            if !(vals[i] < 0.5 && vals[i] <= left && vals[i] <= right) {
-                continue;
+            vals[i] < 0.5 && vals[i] <= left && vals[i] <= right
+        };
+        let mut seeds: Vec<(f64, &str)> = Vec::new();
+        for i in 0..SCAN_REAL {
+            if minimum(i) {
+                seeds.push((at(i), "a minimum of the mismatch"));
             }
-            let seed = Seed {
-                omega: Complex64::new(at(i), 0.0),
-                from: format!("a minimum of the mismatch on a scan of the real axis over [−{half:.3e}, {half:.3e}]"),
-            };
-            let r = find_root(bp, seed.omega, tol);
-            if !r.converged || r.omega.im.abs() > 1e-8 * r.omega.norm().max(1.0) {
+            // A flip beside a minimum is that minimum's zero.
+            if let (Some(Some(u)), Some(Some(v)), false) = (values.get(i), values.get(i + 1), minimum(i) || (i + 1 < SCAN_REAL && minimum(i + 1))) {
+                if (u * v.conj()).re < 0.0 {
+                    let x = at(i) + step * u.norm() / (u.norm() + v.norm()).max(f64::MIN_POSITIVE);
+                    seeds.push((x, "a change of sign of the mismatch"));
+                }
+            }
+        }
+        for (x, what) in seeds {
+            let seed = Seed { omega: Complex64::new(x, 0.0), from: format!("{what} on a scan of the real axis over {span}") };
+            // Muller's first points within the grid step: no jump to a neighbour.
+            let spread = (0.5 * step / x.abs().max(f64::MIN_POSITIVE)).min(super::roots::SPREAD);
+            let r = find_root_near(bp, seed.omega, spread, tol);
+            let below = part == RealScan::HalfLine && r.omega.re < -1e-12 * r.omega.norm().max(1.0);
+            if !r.converged || r.omega.im.abs() > 1e-8 * r.omega.norm().max(1.0) || below {
                 continue;
             }
             if found.iter().any(|(f, _)| (f.omega - r.omega).norm() <= 1e-7 * r.omega.norm().max(1e-3)) {
@@ -783,14 +822,35 @@ fn real_axis_roots(bp: &BoundaryProblem, want: usize, tol: f64) -> (Vec<(IntRoot
             found.push((r, seed));
         }
         // Enough, and this round (wider than the last) added none: a level
-        // below the ones found would have shown in it.
-        if found.len() >= want && found.len() == before {
+        // below the ones found would have shown in it. On the half-line the
+        // lowest modes show in the first, finest rounds.
+        if found.len() >= want && (found.len() == before || part == RealScan::HalfLine) {
             break;
         }
         before = found.len();
     }
     found.sort_by(|a, b| a.0.omega.re.total_cmp(&b.0.omega.re));
     (found, half)
+}
+
+/// Normal modes of a problem between two regular ends (a cavity, global
+/// anti-de Sitter with either fall-off), where the spectrum is real: the
+/// roots ω ≥ 0 of the real-axis scan ([`real_axis_roots`]), upward, as
+/// overtones lo..=hi; `None` when an end is not a regular one or fewer
+/// were found.
+pub fn normal_modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), tol: f64) -> Option<Vec<EndMode>> {
+    if bp.ends.iter().any(|e| e.nature != Nature::Regular) {
+        return None;
+    }
+    let (upward, _) = real_axis_roots(bp, hi as usize + 1, tol, RealScan::HalfLine);
+    (upward.len() > hi as usize).then(|| {
+        (lo..=hi)
+            .map(|n| {
+                let (root, seed) = upward[n as usize].clone();
+                EndMode { n, root, seed }
+            })
+            .collect()
+    })
 }
 
 /// The first three coefficients of C/A = Σ q_j z^(−j) at ∞ at real ω
@@ -907,7 +967,7 @@ pub fn modes(bp: &BoundaryProblem, (lo, hi): (u32, u32), guess: Option<Complex64
     let quasi_bound = bp.ends[1].condition == Condition::Decaying && bp.kind != SpectrumKind::Bound;
     let mut out: Vec<EndMode> = Vec::new();
     if bp.kind == SpectrumKind::Bound && guess.is_none() {
-        let (found, half) = real_axis_roots(bp, hi as usize + 1, tol);
+        let (found, half) = real_axis_roots(bp, hi as usize + 1, tol, RealScan::Line);
         for n in lo..=hi {
             match found.get(n as usize) {
                 Some((r, s)) => out.push(EndMode { n, root: r.clone(), seed: s.clone() }),

@@ -455,7 +455,7 @@ pub(super) fn frobenius_sum(h: &Horizon, rho: Complex64, delta: Complex64, log_d
             let scale_acc = e.iter().enumerate().skip(n.saturating_sub(span)).map(|(k, ek)| (ek * t(n, k)).norm()).fold(0.0, f64::max);
             if acc.norm() > 1e-10 * scale_acc.max(f64::MIN_POSITIVE) {
                 return Err(format!(
-                    "the exponents at the horizon differ by the integer {n} and the solution with ρ_h = {rho} has a logarithm: no Frobenius series starts it"
+                    "the exponents at this end differ by the integer {n} and the solution with exponent {rho} there has a logarithm: no Frobenius series starts it, and a condition that picks this exponent is not defined by its leading power alone"
                 ));
             }
             ZERO

@@ -762,21 +762,23 @@ fn spectrum_in(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport>
             Body::Periodic(_) => ClosedSection::None("closed forms are derived for problems between two ends, not for periodic ones".into()),
             _ => closed_section(red, req, freq, &point, ends),
         };
-        let missed = passed_over_count(&report.body, &report.closed);
+        let merged = merged_exact(&report, req, &point).unwrap_or_default();
+        let missed = passed_over_count(&report.body, &report.closed) + misnumbered(&report.body, &merged);
         let none_found = report.body.converged().is_empty();
         if let Some(seeds) = (missed > 0 || none_found).then(|| exact_seeds(&report, req, &point)).flatten() {
             // The numeric search passed over exact values (a second family
-            // between its overtones) or found no mode at all: again from
-            // the exact values as seeds, kept when it passes over fewer or
-            // finds some.
+            // between its overtones), numbered one out of its place, or
+            // found no mode at all: again from the exact values as seeds,
+            // kept when it passes over or misnumbers fewer, or finds some.
             let again = numeric(red, req, seeds)?.report;
             let found = !again.body.converged().is_empty();
-            if passed_over_count(&again.body, &report.closed) < missed || (none_found && found) {
+            let missed_again = passed_over_count(&again.body, &report.closed) + misnumbered(&again.body, &merged);
+            if missed_again < missed || (none_found && found) {
                 report.body = again.body;
                 report.mode_functions = again.mode_functions;
                 let words = format!(
                     "the seeds are the closed form's exact values, its families together, numbered by |Im ω| (the numeric search from its own seeds {}); each is still polished and checked numerically",
-                    if none_found { "found none of them" } else { "passed over some of them" }
+                    if none_found { "found none of them" } else { "passed over some of them or numbered one out of its place" }
                 );
                 match &mut report.body {
                     Body::Ends(e) => e.numbering = Some(words),
@@ -818,13 +820,11 @@ fn passed_over_count(body: &Body, closed: &ClosedSection) -> usize {
     values.iter().flatten().filter(|(_, w)| passed_over(*w, &numeric).is_some()).count()
 }
 
-/// Seeds for the numeric search from the closed form (quasinormal modes
-/// with no guess; the caller asks when the numeric search passed over an
-/// exact value): every
-/// family's values for n up to the last overtone asked for, in the right
-/// half-plane, merged and ordered by |Im ω|, from the first overtone asked
-/// for on. `None` when there is nothing to mend.
-fn exact_seeds(report: &SpectrumReport, req: &SpectrumRequest, point: &[GRat]) -> Option<Vec<Complex64>> {
+/// The closed form's values in the table's order (quasinormal modes with
+/// no guess): every family's values for n up to the last overtone asked
+/// for, in the right half-plane, merged and ordered by |Im ω|, mirror
+/// duplicates once. `None` when there is no closed form to compare with.
+fn merged_exact(report: &SpectrumReport, req: &SpectrumRequest, point: &[GRat]) -> Option<Vec<Complex64>> {
     let ClosedSection::Found { form, .. } = &report.closed else { return None };
     if req.guess.is_some() || !matches!(report.body, Body::Ends(_) | Body::Recurrence(_)) {
         return None;
@@ -837,8 +837,25 @@ fn exact_seeds(report: &SpectrumReport, req: &SpectrumRequest, point: &[GRat]) -
         .collect();
     all.sort_by(|a, b| a.im.abs().total_cmp(&b.im.abs()).then(a.re.total_cmp(&b.re)));
     all.dedup_by(|a, b| (*a - *b).norm() <= CONFIRMED * b.norm().max(1.0));
+    Some(all)
+}
+
+/// Seeds for the numeric search from the closed form (the caller asks when
+/// the numeric search passed over an exact value, numbered one out of its
+/// place, or found none): [`merged_exact`] from the first overtone asked
+/// for on. `None` when there is nothing to mend.
+fn exact_seeds(report: &SpectrumReport, req: &SpectrumRequest, point: &[GRat]) -> Option<Vec<Complex64>> {
+    let all = merged_exact(report, req, point)?;
     let seeds: Vec<Complex64> = all.into_iter().skip(req.overtones.0 as usize).take((req.overtones.1 - req.overtones.0) as usize + 1).collect();
     (!seeds.is_empty()).then_some(seeds)
+}
+
+/// How many numeric modes equal an exact value other than the one of their
+/// own number in [`merged_exact`]'s order (a mode of one family numbered
+/// past an exact value of the other the range asked for did not reach).
+fn misnumbered(body: &Body, merged: &[Complex64]) -> usize {
+    let near = |a: Complex64, b: Complex64| (a - b).norm() <= CONFIRMED * b.norm().max(1.0);
+    body.converged().iter().filter(|(n, w, _)| merged.get(*n as usize).is_some_and(|e| !near(*w, *e)) && merged.iter().any(|e| near(*w, *e))).count()
 }
 
 /// The polynomial solutions of the symbolic equation, or why there are none.
@@ -1722,7 +1739,14 @@ fn between_ends_as(bp: BoundaryProblem, problem: Problem, opts: &SpectrumOptions
     }
     let seeded = (opts.guess.is_none() && (problem == Problem::Quasinormal || real)).then(|| spectral_seeded(&bp, opts, real)).flatten();
     let from_spectral = seeded.is_some();
-    let modes = seeded.unwrap_or_else(|| super::ends::modes(&bp, opts.overtones, opts.guess, opts.tol));
+    // Normal modes between two regular ends the global method does not
+    // resolve (a fall-off whose exponents differ by an integer leaves its
+    // discretisation without a condition there): the real-axis scan.
+    let normal = (!from_spectral && opts.guess.is_none() && problem == Problem::Quasinormal)
+        .then(|| super::ends::normal_modes(&bp, opts.overtones, opts.tol))
+        .flatten();
+    let from_real_scan = normal.is_some();
+    let modes = seeded.or(normal).unwrap_or_else(|| super::ends::modes(&bp, opts.overtones, opts.guess, opts.tol));
     let spectrum = match problem {
         Problem::Bound => Problem::Bound,
         _ if bp.ends[1].condition == Condition::Decaying => Problem::QuasiBound,
@@ -1732,6 +1756,7 @@ fn between_ends_as(bp: BoundaryProblem, problem: Problem, opts: &SpectrumOptions
         _ if opts.guess.is_some() => None,
         Problem::Bound if from_spectral => Some(format!("no {opt_guess}: the eigenvalues are the global spectral method's real eigenvalues, numbered upward (the non-negative ones when only the square of the parameter enters), each polished by direct integration", opt_guess = RequestInput::Guess.mention())),
         Problem::Quasinormal if from_spectral => Some(format!("no {opt_guess}: the modes are the global spectral method's eigenvalues in the lower right quadrant, numbered by |Im ω| (real ones, normal modes, by ω), each polished by direct integration", opt_guess = RequestInput::Guess.mention())),
+        Problem::Quasinormal if from_real_scan => Some(format!("no {opt_guess}: both ends are regular and the global spectral method resolved too few modes: the modes are the real roots ω ≥ 0 reached from a scan of the real axis (normal modes), numbered upward; a mode off the real axis is not sought", opt_guess = RequestInput::Guess.mention())),
         Problem::Bound | Problem::Periodic => Some(format!("no {opt_guess}: the eigenvalues are the distinct real roots reached from a scan of the real axis, numbered upward; an eigenvalue below the scanned range would shift the numbering", opt_guess = RequestInput::Guess.mention())),
         Problem::Quasinormal => Some(format!("no {opt_guess}: the modes are the distinct roots reached from a scan of the complex plane, numbered by |Im ω|; a mode the scan missed would shift the numbering", opt_guess = RequestInput::Guess.mention())),
         Problem::QuasiBound => None,
@@ -1808,10 +1833,20 @@ pub(crate) fn series_between_ends(
         }
         r
     };
-    let cf_modes = match super::spectrum::overtones(&o, estimate, &ladder_solve) {
+    let mut cf_modes = match super::spectrum::overtones(&o, estimate, &ladder_solve) {
         Ok(m) => m.into_iter().filter(|m| m.n >= opts.overtones.0).collect::<Vec<_>>(),
         Err(e) => return Err(Box::new((bp, e))),
     };
+    if neighbour && opts.seeds_from == super::spectrum::SeedSource::ClosedForm {
+        // An exact seed is the mode itself: a root elsewhere is another one's.
+        for m in cf_modes.iter_mut().filter(|m| m.root.converged && (m.root.omega - m.seed.0).norm() > CONFIRMED * m.seed.0.norm().max(1.0)) {
+            m.root.converged = false;
+            m.root.stop = super::cf::StopReason::Rejected(format!(
+                "from the closed form's exact value the continued fraction reached {:.6e}{:+.6e}i, another value",
+                m.root.omega.re, m.root.omega.im
+            ));
+        }
+    }
     let (second, second_modes) = second_family(&bp, &second, &solve, opts, check);
     let (cf_modes, alone) = integrate_where_unsettled(&bp, cf_modes, split, opts.tol);
     let o = SpectrumOptions { seeds: o.seeds.iter().skip(if climb { opts.overtones.0 as usize } else { 0 }).copied().collect(), ..o };
