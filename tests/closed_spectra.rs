@@ -344,6 +344,29 @@ fn normal_modes_without_a_horizon_are_numbered_by_frequency() {
 }
 
 #[test]
+fn de_sitter_double_modes_where_the_two_families_meet() {
+    // The families ω = −i(l + Δ± + 2n) of `de_sitter_static_patch` (derived
+    // there from the hypergeometric solution) coincide when Δ₊ − Δ₋ =
+    // 2√(9/4 − m²) is an even integer: at m² = 9/4 every mode is double, at
+    // m² = 5/4 (Δ± = 5/2, 1/2) every one but the least damped. The
+    // connection coefficient then has a double zero, and so do the mismatch
+    // and the continued fraction's inversions: the values are the zeros of
+    // their derivatives, said in a note, and agree with the formula.
+    for (l, m, first, doubles_from) in [(1u32, "3/2", 2.5f64, 0usize), (2, "3/2", 3.5, 0), (1, "1.118033988749895", 1.5, 1)] {
+        let at = format!("l={l},m={m}");
+        let doc = run(&["spectrum", "tests/boundary/de_sitter_static_scalar.ode", "--at", &at, "--overtones", "0..2", "--format", "json"]);
+        let modes = doc["modes"].as_array().unwrap();
+        for (n, m) in modes.iter().enumerate() {
+            let w = cx(0.0, -(first + 2.0 * n as f64));
+            assert_eq!(m["converged"], true, "{at}: {m}");
+            assert!(close(c(&m["omega"]), w, 1e-9), "{at} n={n}: {} is not {w}", m["omega"]);
+            let said = m.to_string().contains("double root");
+            assert_eq!(said, n >= doubles_from, "{at} n={n}: {m}");
+        }
+    }
+}
+
+#[test]
 fn de_sitter_modes_at_resonances_of_the_horizon_exponents() {
     // The families ω = −i(l + Δ± + 2n) of `de_sitter_static_patch` (derived
     // there from the hypergeometric solution) for the massless field (Δ± = 3,

@@ -421,6 +421,9 @@ fn recurrence_method(b: &RecurrenceReport) -> &'static str {
 
 /// The evidence of a continued-fraction root (its inversion, depth, change
 /// on doubling, residual, iterations and seed), as JSON.
+/// The note under a continued-fraction root that is a double one.
+const DOUBLE_CF: &str = "a double root of the continued fraction's inversion (two modes coincide here), which the root search resolves only to about 1e-8: the value is the zero of the inversion's derivative, at the depth reached and at twice it";
+
 fn cf_evidence(m: &crate::solve::spectrum::Mode) -> Value {
     let r = &m.root;
     if m.method == ModeMethod::Integrate {
@@ -433,7 +436,7 @@ fn cf_evidence(m: &crate::solve::spectrum::Mode) -> Value {
             "seed_from": m.seed.1,
         });
     }
-    json!({
+    let mut e = json!({
         "inversion": r.inversion,
         "depth": r.depth,
         "change_on_doubling": finite_or_null(r.depth_change),
@@ -441,7 +444,11 @@ fn cf_evidence(m: &crate::solve::spectrum::Mode) -> Value {
         "iterations": r.iterations,
         "seed": pair(m.seed.0),
         "seed_from": m.seed.1,
-    })
+    });
+    if let (true, Some(o)) = (r.double, e.as_object_mut()) {
+        o.insert("note".into(), json!(DOUBLE_CF));
+    }
+    e
 }
 
 /// A check's document with `started` (its relative distance from the value
@@ -677,6 +684,9 @@ fn recurrence_text(fname: &str, var: &str, source: &str, problem: Problem, b: &R
                 r.depth_change,
                 r.residual
             ));
+            if r.double {
+                o.push_str(&format!("     note: {DOUBLE_CF}\n"));
+            }
         } else {
             let seed = if m.seed.0.is_nan() { String::new() } else { format!(" (seed {} from {})", fmt_complex(m.seed.0.re, m.seed.0.im), m.seed.1) };
             o.push_str(&format!("  {:<2} NOT CONVERGED: {}{seed}\n", m.n, r.stop.text()));
@@ -926,7 +936,7 @@ fn ends_text(fname: &str, var: &str, source: &str, b: &EndsReport) -> String {
                     o.push_str(&limit_row(m.n, r.omega, r.change));
                     o.push_str(&format!("     note: {note}\n"));
                 }
-                Some(Settled::AtResonance(note)) => {
+                Some(Settled::AtResonance(note) | Settled::DoubleRoot(note)) => {
                     o.push_str(&integrate_row(m.n, r.omega, r.change, r.residual));
                     o.push_str(&format!("     note: {note}\n"));
                 }
@@ -993,6 +1003,9 @@ fn series_rows(series: &SeriesReport, b: &EndsReport) -> String {
             r.depth_change,
             r.residual
         ));
+        if r.double {
+            o.push_str(&format!("     note: {DOUBLE_CF}\n"));
+        }
         match b.modes.get(i).map(|c| &c.root) {
             Some(c) if c.converged => {
                 o.push_str(&format!(

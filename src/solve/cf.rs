@@ -377,19 +377,42 @@ pub struct CfRoot {
     pub stop: StopReason,
     /// Which inversion was used.
     pub inversion: usize,
+    /// True when the root is a double one (two modes coincide), settled as
+    /// the zero of the inversion's derivative.
+    pub double: bool,
 }
 
 impl CfRoot {
     /// A search that stopped before any root, at `seed`, for inversion `k`.
     pub fn failed(seed: Complex64, k: usize, stop: StopReason) -> CfRoot {
-        CfRoot { omega: seed, converged: false, depth: 0, depth_change: f64::NAN, residual: f64::NAN, iterations: 0, stop, inversion: k }
+        CfRoot {
+            omega: seed,
+            converged: false,
+            depth: 0,
+            depth_change: f64::NAN,
+            residual: f64::NAN,
+            iterations: 0,
+            stop,
+            inversion: k,
+            double: false,
+        }
     }
 
     /// A converged root at `w` with nominal evidence, for tests of what is
     /// built on root finders.
     #[cfg(test)]
     pub(crate) fn at(w: Complex64) -> CfRoot {
-        CfRoot { omega: w, converged: true, depth: 64, depth_change: 0.0, residual: 0.0, iterations: 1, stop: StopReason::Converged, inversion: 0 }
+        CfRoot {
+            omega: w,
+            converged: true,
+            depth: 64,
+            depth_change: 0.0,
+            residual: 0.0,
+            iterations: 1,
+            stop: StopReason::Converged,
+            inversion: 0,
+            double: false,
+        }
     }
 }
 
@@ -544,8 +567,43 @@ pub fn find_root_near(rec: &NumRecurrence, k: usize, seed: Complex64, spread: f6
         if let Some(why) = spurious(rec, &r) {
             return CfRoot { converged: false, stop: StopReason::Rejected(why), ..r };
         }
+        return double_root(rec, r, tol);
+    }
+    // At a double root each depth's search stops about √(rounding) away, so
+    // the roots of two depths never agree: settled as one where it is one.
+    if r.stop == StopReason::DepthLimit && r.omega.re.is_finite() && r.omega.im.is_finite() {
+        let settled = double_root(rec, r.clone(), tol);
+        if settled.double && settled.converged {
+            let residual = inversion(rec, settled.omega, settled.inversion, settled.depth).map_or(f64::NAN, |(v, s)| (v / s).norm());
+            return CfRoot { stop: StopReason::Converged, residual, ..settled };
+        }
     }
     r
+}
+
+/// A converged root about which the k-th inversion grows like the square of
+/// the distance (`roots::growth_order` between 1.7 and 2.4): a double root,
+/// where two families meet and Muller's method stops about √(rounding)
+/// away; it is then the zero of the inversion's derivative
+/// (`roots::double_root`) at the depth reached and at twice it, their
+/// difference the change on doubling. The root as it was otherwise.
+fn double_root(rec: &NumRecurrence, r: CfRoot, tol: f64) -> CfRoot {
+    let at = |depth: usize| move |w: Complex64| inversion(rec, w, r.inversion, depth).map(|(v, _)| v);
+    let Some(_) = super::roots::growth_order(&at(r.depth), r.omega).filter(|o| (1.7..=2.4).contains(o)) else { return r };
+    let (Some(a), Some(b)) =
+        (super::roots::double_root(&at(r.depth), r.omega, 0.1 * tol), super::roots::double_root(&at(2 * r.depth), r.omega, 0.1 * tol))
+    else {
+        return r;
+    };
+    let change = (a - b).norm();
+    CfRoot {
+        omega: b,
+        depth: 2 * r.depth,
+        depth_change: change,
+        converged: change <= tol * b.norm().max(super::roots::ABSOLUTE_BELOW),
+        double: true,
+        ..r
+    }
 }
 
 /// The residual (relative to its scale) above which a neighbouring
@@ -651,6 +709,7 @@ fn find_root_spread(
                     iterations: iters,
                     stop: StopReason::Converged,
                     inversion: k,
+                    double: false,
                 };
             }
             if depth * 2 > max_depth {
@@ -663,6 +722,7 @@ fn find_root_spread(
                     iterations: iters,
                     stop: StopReason::DepthLimit,
                     inversion: k,
+                    double: false,
                 };
             }
         }

@@ -599,15 +599,26 @@ fn find_root_on(bp: &BoundaryProblem, route: Route, seed: Complex64, spread: f64
 /// how far rounding alone moves the root.
 fn search(eval: integrate::Evaluator, seed: Complex64, spread: f64, tol: f64) -> IntRoot {
     let near = integrate::find_root_spread(eval, seed, spread, tol, integrate::MAX_ITER);
-    if near.converged || !near.change.is_finite() {
+    if near.converged {
+        return double_root(eval, near, tol);
+    }
+    if !near.change.is_finite() {
         return near;
+    }
+    // Two passes that stopped close together but not within the tolerance:
+    // a double root each resolves only to about 1e-8.
+    if near.change <= 1e-5 {
+        let settled = double_root(eval, IntRoot { iterations: near.iterations.max(SLOW_SEARCH), ..near.clone() }, tol);
+        if settled.converged {
+            return IntRoot { iterations: near.iterations, ..settled };
+        }
     }
     let named = "the two integrations with the series at the ends summed at 0.6 and 0.7 of their radii";
     let far =
         integrate::find_root_passes(eval, near.omega, spread, tol, integrate::MAX_ITER, [&integrate::FAR_STANDARD, &integrate::FAR_REFINED], named);
     if far.converged {
         let reason = format!("{} (standard and refined integration, with the series summed nearer the ends, disagreed: {})", far.reason, near.reason);
-        return IntRoot { reason, iterations: near.iterations + far.iterations, ..far };
+        return double_root(eval, IntRoot { reason, iterations: near.iterations + far.iterations, ..far }, tol);
     }
     let mut reason = format!("{}; again with the series at the ends summed farther out: {}", near.reason, far.reason);
     if let Some(slope) = integrate::mismatch_slope(eval, far.omega, &integrate::FAR_REFINED) {
@@ -620,6 +631,65 @@ fn search(eval: integrate::Evaluator, seed: Complex64, spread: f64, tol: f64) ->
         }
     }
     IntRoot { reason, iterations: near.iterations + far.iterations, ..near }
+}
+
+/// Muller steps (both passes) above which a converged search is tested
+/// for a double root: a simple root takes 4 to 8, a double one, where
+/// Muller's method converges only linearly, often 15 or more.
+const SLOW_SEARCH: usize = 12;
+
+/// The change between the two discretisations (relative) above which a
+/// converged search is tested for a double root whatever its steps: each
+/// pass stops about √(rounding) from a double root, where they differ by
+/// 1e-10 or so, while at a simple root they agree to 1e-13 or better
+/// (1e-11 for the hardest paths).
+const UNSETTLED_CHANGE: f64 = 1e-12;
+
+/// How many times the tolerance a double root's two discretisations may
+/// differ by.
+const DOUBLE_ALLOWANCE: f64 = 10.0;
+
+/// A converged root that took [`SLOW_SEARCH`] steps or more (or whose two
+/// discretisations differ by more than [`UNSETTLED_CHANGE`]) and about which
+/// the mismatch grows like the square of the distance (`roots::growth_order`
+/// between 1.7 and 2.4, in the refined discretisation): a double root,
+/// where two families of modes meet and Muller's method stops about
+/// √(rounding) away. It is then the zero of the mismatch's derivative
+/// (`roots::double_root`) in both discretisations, their difference the
+/// change reported, and the note says so; otherwise the root as it was.
+fn double_root(eval: integrate::Evaluator, r: IntRoot, tol: f64) -> IntRoot {
+    if r.iterations < SLOW_SEARCH && !(r.change > UNSETTLED_CHANGE) {
+        return r;
+    }
+    let at = |p: &'static Params| move |w: Complex64| eval(w, p).ok().map(|(v, _)| v);
+    let refined = at(&integrate::REFINED);
+    let Some(order) = super::roots::growth_order(&refined, r.omega).filter(|o| (1.7..=2.4).contains(o)) else { return r };
+    let (Some(a), Some(b)) =
+        (super::roots::double_root(&at(&integrate::STANDARD), r.omega, 0.1 * tol), super::roots::double_root(&refined, r.omega, 0.1 * tol))
+    else {
+        return r;
+    };
+    let change = (a - b).norm() / b.norm().max(super::roots::ABSOLUTE_BELOW);
+    // A double root is conditioned like the square root of the rounding:
+    // its two discretisations are held to ten times the tolerance.
+    let allowed = DOUBLE_ALLOWANCE * tol;
+    let note = format!(
+        "a double root of the mismatch (it grows like |ω − ω₀|^{order:.1} about it: two modes coincide here), which the root search resolves only to about 1e-8; the value is the zero of the mismatch's derivative, moved by {:.0e} from where the search stopped, its two discretisations held to {allowed:.0e} (ten times the tolerance: a double root is that much less well conditioned)",
+        (b - r.omega).norm() / b.norm().max(super::roots::ABSOLUTE_BELOW)
+    );
+    IntRoot {
+        omega: b,
+        converged: change <= allowed,
+        change,
+        residual: refined(b).map_or(r.residual, |v| v.norm()),
+        reason: if change <= allowed {
+            r.reason.clone()
+        } else {
+            format!("a double root whose value moved by {change:.1e} (relative) between standard and refined integration, more than {allowed:.1e} (ten times the tolerance)")
+        },
+        note: Some(integrate::Settled::DoubleRoot(note)),
+        ..r
+    }
 }
 
 /// Where a seed came from.

@@ -62,13 +62,16 @@ pub enum Settled {
     /// The limit of the modes of nearby problems (`solve::nearby`); the
     /// root's `change` and `residual` are the limit's error estimate.
     Limit(String),
+    /// A double root, settled as the zero of the mismatch's derivative
+    /// (`ends`).
+    DoubleRoot(String),
 }
 
 impl Settled {
     /// The words.
     pub fn text(&self) -> &str {
         match self {
-            Settled::AtResonance(t) | Settled::Limit(t) => t,
+            Settled::AtResonance(t) | Settled::Limit(t) | Settled::DoubleRoot(t) => t,
         }
     }
 }

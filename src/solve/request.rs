@@ -763,7 +763,7 @@ fn spectrum_in(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport>
             _ => closed_section(red, req, freq, &point, ends),
         };
         let merged = merged_exact(&report, req, &point).unwrap_or_default();
-        let missed = passed_over_count(&report.body, &report.closed) + misnumbered(&report.body, &merged);
+        let missed = passed_over_count(&report.body, &report.closed) + misnumbered(&report.body, &merged, req.overtones);
         let none_found = report.body.converged().is_empty();
         if let Some(seeds) = (missed > 0 || none_found).then(|| exact_seeds(&report, req, &point)).flatten() {
             // The numeric search passed over exact values (a second family
@@ -772,13 +772,13 @@ fn spectrum_in(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport>
             // kept when it passes over or misnumbers fewer, or finds some.
             let again = numeric(red, req, seeds)?.report;
             let found = !again.body.converged().is_empty();
-            let missed_again = passed_over_count(&again.body, &report.closed) + misnumbered(&again.body, &merged);
+            let missed_again = passed_over_count(&again.body, &report.closed) + misnumbered(&again.body, &merged, req.overtones);
             if missed_again < missed || (none_found && found) {
                 report.body = again.body;
                 report.mode_functions = again.mode_functions;
                 let words = format!(
                     "the seeds are the closed form's exact values, its families together, numbered by |Im ω| (the numeric search from its own seeds {}); each is still polished and checked numerically",
-                    if none_found { "found none of them" } else { "passed over some of them or numbered one out of its place" }
+                    if none_found { "found none of them" } else { "passed over some of them, numbered one out of its place or did not converge on one" }
                 );
                 match &mut report.body {
                     Body::Ends(e) => e.numbering = Some(words),
@@ -852,10 +852,16 @@ fn exact_seeds(report: &SpectrumReport, req: &SpectrumRequest, point: &[GRat]) -
 
 /// How many numeric modes equal an exact value other than the one of their
 /// own number in [`merged_exact`]'s order (a mode of one family numbered
-/// past an exact value of the other the range asked for did not reach).
-fn misnumbered(body: &Body, merged: &[Complex64]) -> usize {
+/// past an exact value of the other the range asked for did not reach),
+/// and how many overtones asked for have no converged numeric mode though
+/// an exact value of their number exists.
+fn misnumbered(body: &Body, merged: &[Complex64], (lo, hi): (u32, u32)) -> usize {
     let near = |a: Complex64, b: Complex64| (a - b).norm() <= CONFIRMED * b.norm().max(1.0);
-    body.converged().iter().filter(|(n, w, _)| merged.get(*n as usize).is_some_and(|e| !near(*w, *e)) && merged.iter().any(|e| near(*w, *e))).count()
+    let numeric = body.converged();
+    let out_of_place =
+        numeric.iter().filter(|(n, w, _)| merged.get(*n as usize).is_some_and(|e| !near(*w, *e)) && merged.iter().any(|e| near(*w, *e))).count();
+    let missing = (lo..=hi).filter(|n| (*n as usize) < merged.len() && !numeric.iter().any(|(m, _, _)| m == n)).count();
+    out_of_place + missing
 }
 
 /// The polynomial solutions of the symbolic equation, or why there are none.

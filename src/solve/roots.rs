@@ -168,3 +168,73 @@ pub fn first_sign_change(f: &dyn Fn(f64) -> Option<f64>, start: f64) -> Option<f
     }
     Some(lo)
 }
+
+/// How fast |f| grows away from a root w₀ of f: log₂ of |f(w₀ + 2d)| over
+/// |f(w₀ + d)| (d = 1e-3 |w₀| along the real and the imaginary direction,
+/// averaged), about the root's multiplicity (1 at a simple root, 2 at a
+/// double one); `None` where f cannot be evaluated or vanishes there.
+pub fn growth_order(f: &dyn Fn(Complex64) -> Option<Complex64>, w0: Complex64) -> Option<f64> {
+    let d = 1e-3 * w0.norm().max(ABSOLUTE_BELOW);
+    let mut sum = 0.0;
+    for dir in [Complex64::new(1.0, 0.0), Complex64::new(0.0, 1.0)] {
+        let (a, b) = (f(w0 + dir * d)?.norm(), f(w0 + dir * (2.0 * d))?.norm());
+        if a == 0.0 || !(a.is_finite() && b.is_finite()) {
+            return None;
+        }
+        sum += (b / a).log2();
+    }
+    Some(sum / 2.0)
+}
+
+/// Points on each circle of [`derivative_at`].
+const CIRCLE: usize = 8;
+
+/// ∂f/∂ω at w from the mean of f e^(−iθ) on circles of radius r and 2r
+/// about it (r = 1e-3 |w|), the two combined to cancel the r² term: exact
+/// for an analytic f up to terms of order (r/R)⁸ (R the distance to the
+/// nearest singularity) and r⁴, and for f an analytic function times a
+/// smooth positive normalisation (a normalised mismatch) still zero where
+/// the analytic factor has a double zero.
+fn derivative_at(f: &dyn Fn(Complex64) -> Option<Complex64>, w: Complex64) -> Option<Complex64> {
+    let r = 1e-3 * w.norm().max(ABSOLUTE_BELOW);
+    let mean = |radius: f64| -> Option<Complex64> {
+        let mut acc = ZERO;
+        for k in 0..CIRCLE {
+            let e = Complex64::from_polar(1.0, 2.0 * std::f64::consts::PI * k as f64 / CIRCLE as f64);
+            acc += f(w + e * radius)? / e;
+        }
+        Some(acc / (CIRCLE as f64 * radius))
+    };
+    let (one, two) = (mean(r)?, mean(2.0 * r)?);
+    Some((one * 4.0 - two) / 3.0)
+}
+
+/// A double root of f near `w0` (where Muller's method, converging only
+/// linearly there, stops about √(rounding) away): the zero of f's
+/// derivative ([`derivative_at`]) by Muller from `w0`, to relative `tol`,
+/// at most 60 steps. `None` when it does not converge within 1e-4 |w0|
+/// of `w0`.
+pub fn double_root(f: &dyn Fn(Complex64) -> Option<Complex64>, w0: Complex64, tol: f64) -> Option<Complex64> {
+    let g = |w: Complex64| derivative_at(f, w).ok_or_else(|| "the derivative cannot be evaluated".to_string());
+    let (w, _, stop) = muller(&g, w0, 1e-4, tol, 60);
+    (stop.is_ok() && (w - w0).norm() <= 1e-4 * w0.norm().max(ABSOLUTE_BELOW)).then_some(w)
+}
+
+#[cfg(test)]
+mod double_root_tests {
+    use super::*;
+
+    #[test]
+    fn a_double_root_is_found_to_rounding_and_its_order_is_two() {
+        // f = (ω − w₀)² (ω + 3) e^ω times a smooth positive normalisation.
+        let w0 = Complex64::new(0.3, -2.5);
+        let f = |w: Complex64| Some((w - w0) * (w - w0) * (w + 3.0) * w.exp() / (1.0 + w.norm_sqr()).sqrt());
+        let start = w0 + Complex64::new(2e-8, -1e-8);
+        assert!((growth_order(&f, start).unwrap() - 2.0).abs() < 0.1);
+        let w = double_root(&f, start, 1e-13).unwrap();
+        assert!((w - w0).norm() < 1e-11 * w0.norm(), "{w}");
+        // A simple root grows like the first power.
+        let g = |w: Complex64| Some((w - w0) * (w + 3.0));
+        assert!((growth_order(&g, w0).unwrap() - 1.0).abs() < 0.1);
+    }
+}

@@ -829,6 +829,7 @@ fn terminating_mode(num: &super::cf::NumRecurrence, n: u32) -> Mode {
             iterations: 0,
             stop: StopReason::Converged,
             inversion: n as usize,
+            double: false,
         },
         None => CfRoot::failed(
             Complex64::new(f64::NAN, f64::NAN),
@@ -1173,6 +1174,7 @@ pub fn settle_special(
             iterations: 0,
             stop: StopReason::Converged,
             inversion: sp.k as usize,
+            double: false,
         };
         m.method = ModeMethod::SpecialPoint;
         notes.push(format!(
