@@ -1215,7 +1215,10 @@ fn massive_scalar_quasi_bound_levels_in_order_each_once_and_checked() {
             }
             // With the next order, ω/μ = 1 − α²/(2N²) − α⁴/(8N⁴) + f α⁴/N³,
             // f = −6/(2l + 1) + 2/N, α = Mμ, N = l + n + 1 (D. Baumann,
-            // H. S. Chia and R. A. Porto, Phys. Rev. D 99 (2019) 044001, from
+            // H. S. Chia and R. A. Porto, "Probing ultralight bosons with
+            // binary black holes", Phys. Rev. D 99 (2019) 044001,
+            // arXiv:1804.03208: authors, title and arXiv number checked
+            // against a stored copy of its first page, the formula from
             // memory), a few per cent of the binding energy at worst: what is
             // left is of relative order α³.
             let f = -6.0 / (2.0 * f64::from(l) + 1.0) + 2.0 / big_n;
