@@ -574,8 +574,7 @@ pub fn find_root_near(rec: &NumRecurrence, k: usize, seed: Complex64, spread: f6
     if r.stop == StopReason::DepthLimit && r.omega.re.is_finite() && r.omega.im.is_finite() {
         let settled = double_root(rec, r.clone(), tol);
         if settled.double && settled.converged {
-            let residual = inversion(rec, settled.omega, settled.inversion, settled.depth).map_or(f64::NAN, |(v, s)| (v / s).norm());
-            return CfRoot { stop: StopReason::Converged, residual, ..settled };
+            return CfRoot { stop: StopReason::Converged, ..settled };
         }
     }
     r
@@ -596,11 +595,14 @@ fn double_root(rec: &NumRecurrence, r: CfRoot, tol: f64) -> CfRoot {
         return r;
     };
     let change = (a - b).norm();
+    // The residual at the settled value (the one before where it is not finite).
+    let residual = inversion(rec, b, r.inversion, 2 * r.depth).map(|(v, s)| (v / s).norm()).filter(|x| x.is_finite()).unwrap_or(r.residual);
     CfRoot {
         omega: b,
         depth: 2 * r.depth,
         depth_change: change,
-        converged: change <= tol * b.norm().max(super::roots::ABSOLUTE_BELOW),
+        residual,
+        converged: change <= tol * b.norm().max(super::roots::ABSOLUTE_BELOW) && residual.is_finite(),
         double: true,
         ..r
     }
