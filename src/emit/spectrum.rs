@@ -424,8 +424,12 @@ fn recurrence_method(b: &RecurrenceReport) -> &'static str {
 /// The note under a continued-fraction root that is a double one.
 const DOUBLE_CF: &str = "a double root of the continued fraction's inversion (two modes coincide here), which the root search resolves only to about 1e-8: the value is the zero of the inversion's derivative, at the depth reached and at twice it";
 
-fn cf_evidence(m: &crate::solve::spectrum::Mode) -> Value {
+fn cf_evidence(m: &crate::solve::spectrum::Mode, settled: Option<&Settled>) -> Value {
     let r = &m.root;
+    if let (ModeMethod::Integrate, Some(Settled::Limit(_))) = (m.method, settled) {
+        // A limit of nearby problems: its error estimate, not a refinement's change.
+        return json!({"limit_error": finite_or_null(r.depth_change), "seed": pair(m.seed.0), "seed_from": m.seed.1});
+    }
     if m.method == ModeMethod::Integrate {
         // Direct integration's own evidence where the fraction did not settle.
         return json!({
@@ -469,7 +473,7 @@ fn recurrence_json(fname: &str, problem: Problem, b: &RecurrenceReport) -> Value
             let r = &m.root;
             let value = if r.converged { Ok(r.omega) } else { Err(r.stop.text()) };
             let rest = json!({
-                "evidence": cf_evidence(m),
+                "evidence": cf_evidence(m, None),
                 "check": match b.checks.get(i).and_then(|c| c.as_ref()) {
                     Some(c) if c.converged => with_start(
                         json!({
@@ -842,14 +846,7 @@ fn series_modes_json(series: &SeriesReport, b: &EndsReport) -> Vec<Value> {
             if let (Some(note), Some(c)) = (b.modes.get(i).and_then(|c| c.root.note.as_ref()), check.as_object_mut()) {
                 c.insert("note".into(), json!(note.text()));
             }
-            let mut evidence = cf_evidence(m);
-            // A limit of nearby problems: its error estimate, not a refinement's change.
-            if let (Some(Settled::Limit(_)), Some(e)) = (b.modes.get(i).and_then(|c| c.root.note.as_ref()), evidence.as_object_mut()) {
-                if let Some(v) = e.remove("change_on_refinement") {
-                    e.insert("limit_error".into(), v);
-                }
-                e.remove("residual");
-            }
+            let evidence = cf_evidence(m, b.modes.get(i).and_then(|c| c.root.note.as_ref()));
             let rest = json!({
                 "evidence": evidence,
                 "check": check,
@@ -980,12 +977,12 @@ fn series_rows(series: &SeriesReport, b: &EndsReport) -> String {
         if m.method == ModeMethod::Integrate {
             // Found by direct integration where the continued fraction did not settle.
             match b.modes.get(i).and_then(|c| c.root.note.as_ref()) {
-                Some(note) => {
+                Some(Settled::Limit(note)) => {
                     // A limit through nearby problems (its error estimate in `depth_change`).
                     o.push_str(&limit_row(m.n, r.omega, r.depth_change));
-                    o.push_str(&format!("     note: {}\n     check: none: this value is direct integration's alone\n", note.text()));
+                    o.push_str(&format!("     note: {note}\n     check: none: this value is direct integration's alone\n"));
                 }
-                None => {
+                _ => {
                     o.push_str(&integrate_row(m.n, r.omega, r.depth_change, r.residual));
                     o.push_str(
                         "     check: none: the continued fraction did not settle here, and this value is direct integration's alone (see the note)\n",

@@ -596,7 +596,7 @@ fn double_root(rec: &NumRecurrence, r: CfRoot, tol: f64) -> CfRoot {
     };
     let change = (a - b).norm();
     // The residual at the settled value (the one before where it is not finite).
-    let residual = inversion(rec, b, r.inversion, 2 * r.depth).map(|(v, s)| (v / s).norm()).filter(|x| x.is_finite()).unwrap_or(r.residual);
+    let residual = inversion(rec, b, r.inversion, 2 * r.depth).map(relative).filter(|x| x.is_finite()).unwrap_or(r.residual);
     CfRoot {
         omega: b,
         depth: 2 * r.depth,
@@ -605,6 +605,16 @@ fn double_root(rec: &NumRecurrence, r: CfRoot, tol: f64) -> CfRoot {
         converged: change <= tol * b.norm().max(super::roots::ABSOLUTE_BELOW) && residual.is_finite(),
         double: true,
         ..r
+    }
+}
+
+/// |value| relative to its scale (absolute where the scale is 0): an
+/// inversion's residual, from its (value, scale).
+fn relative((v, scale): (Complex64, Complex64)) -> f64 {
+    if scale.norm() > 0.0 {
+        (v / scale).norm()
+    } else {
+        v.norm()
     }
 }
 
@@ -630,7 +640,7 @@ fn spurious(rec: &NumRecurrence, r: &CfRoot) -> Option<String> {
     };
     let residuals: Vec<(usize, f64)> = others
         .into_iter()
-        .filter_map(|j| inversion(rec, r.omega, j, r.depth).map(|(v, s)| (j, if s.norm() > 0.0 { (v / s).norm() } else { v.norm() })))
+        .filter_map(|j| inversion(rec, r.omega, j, r.depth).map(|vs| (j, relative(vs))))
         .filter(|(_, res)| res.is_finite())
         .collect();
     if residuals.len() < others.len() || residuals.iter().any(|(_, res)| *res <= NEIGHBOUR_RESIDUAL) {
@@ -694,7 +704,7 @@ fn find_root_spread(
         if let Some(p) = prev {
             let change = (root - p).norm();
             if change <= tol * root.norm() {
-                let res = f_at(root, depth).map(|(v, scale)| if scale.norm() > 0.0 { (v / scale).norm() } else { v.norm() }).unwrap_or(f64::NAN);
+                let res = f_at(root, depth).map(relative).unwrap_or(f64::NAN);
                 if !(root.re.is_finite() && root.im.is_finite() && res.is_finite()) {
                     let mut r = fail(StopReason::Rejected("the root or its residual is not finite in double precision".into()));
                     r.omega = root;

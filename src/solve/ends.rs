@@ -600,7 +600,7 @@ fn find_root_on(bp: &BoundaryProblem, route: Route, seed: Complex64, spread: f64
 fn search(eval: integrate::Evaluator, seed: Complex64, spread: f64, tol: f64) -> IntRoot {
     let near = integrate::find_root_spread(eval, seed, spread, tol, integrate::MAX_ITER);
     if near.converged {
-        return double_root(eval, near, tol);
+        return settle_double(eval, near, tol);
     }
     if !near.change.is_finite() {
         return near;
@@ -608,9 +608,9 @@ fn search(eval: integrate::Evaluator, seed: Complex64, spread: f64, tol: f64) ->
     // Two passes that stopped close together but not within the tolerance:
     // a double root each resolves only to about 1e-8.
     if near.change <= 1e-5 {
-        let settled = double_root(eval, IntRoot { iterations: near.iterations.max(SLOW_SEARCH), ..near.clone() }, tol);
+        let settled = double_root(eval, near.clone(), tol);
         if settled.converged {
-            return IntRoot { iterations: near.iterations, ..settled };
+            return settled;
         }
     }
     let named = "the two integrations with the series at the ends summed at 0.6 and 0.7 of their radii";
@@ -618,7 +618,7 @@ fn search(eval: integrate::Evaluator, seed: Complex64, spread: f64, tol: f64) ->
         integrate::find_root_passes(eval, near.omega, spread, tol, integrate::MAX_ITER, [&integrate::FAR_STANDARD, &integrate::FAR_REFINED], named);
     if far.converged {
         let reason = format!("{} (standard and refined integration, with the series summed nearer the ends, disagreed: {})", far.reason, near.reason);
-        return double_root(eval, IntRoot { reason, iterations: near.iterations + far.iterations, ..far }, tol);
+        return settle_double(eval, IntRoot { reason, iterations: near.iterations + far.iterations, ..far }, tol);
     }
     let mut reason = format!("{}; again with the series at the ends summed farther out: {}", near.reason, far.reason);
     if let Some(slope) = integrate::mismatch_slope(eval, far.omega, &integrate::FAR_REFINED) {
@@ -649,18 +649,26 @@ const UNSETTLED_CHANGE: f64 = 1e-12;
 /// differ by.
 const DOUBLE_ALLOWANCE: f64 = 10.0;
 
-/// A converged root that took [`SLOW_SEARCH`] steps or more (or whose two
-/// discretisations differ by more than [`UNSETTLED_CHANGE`]) and about which
-/// the mismatch grows like the square of the distance (`roots::growth_order`
-/// between 1.7 and 2.4, in the refined discretisation): a double root,
+/// [`double_root`] on a converged root that took [`SLOW_SEARCH`] steps or
+/// more or whose two discretisations differ by more than
+/// [`UNSETTLED_CHANGE`] (the signs of a double root); the root as it was
+/// otherwise.
+fn settle_double(eval: integrate::Evaluator, r: IntRoot, tol: f64) -> IntRoot {
+    if r.iterations >= SLOW_SEARCH || r.change > UNSETTLED_CHANGE {
+        double_root(eval, r, tol)
+    } else {
+        r
+    }
+}
+
+/// A root about which the mismatch grows like the square of the distance
+/// (`roots::growth_order` between 1.7 and 2.4, in the refined
+/// discretisation): a double root,
 /// where two families of modes meet and Muller's method stops about
 /// √(rounding) away. It is then the zero of the mismatch's derivative
 /// (`roots::double_root`) in both discretisations, their difference the
 /// change reported, and the note says so; otherwise the root as it was.
 fn double_root(eval: integrate::Evaluator, r: IntRoot, tol: f64) -> IntRoot {
-    if r.iterations < SLOW_SEARCH && !(r.change > UNSETTLED_CHANGE) {
-        return r;
-    }
     let at = |p: &'static Params| move |w: Complex64| eval(w, p).ok().map(|(v, _)| v);
     let refined = at(&integrate::REFINED);
     let Some(order) = super::roots::growth_order(&refined, r.omega).filter(|o| (1.7..=2.4).contains(o)) else { return r };

@@ -1214,19 +1214,28 @@ fn settle_resonances(red: &Reduction, req: &SpectrumRequest, freq: usize, point:
                 continue;
             }
             let m = &mut series.modes[i];
-            m.root.omega = l.omega;
-            m.root.converged = true;
-            m.root.residual = l.error;
-            m.root.iterations = 0;
-            m.root.depth = 0;
-            m.root.depth_change = l.error;
-            m.root.stop = super::cf::StopReason::Converged;
-            m.method = ModeMethod::Integrate;
+            // The limit's error estimate in place of a refinement's change.
+            integrated(m, l.omega, l.error, 0, l.error);
             let mut check = super::ends::unfound(m.n, "not checked: the limit of direct integration's nearby modes is the value itself".into());
             check.root.note = Some(super::integrate::Settled::Limit(l.words(true)));
             e.modes[i] = check;
         }
     }
+}
+
+/// A numeric series' mode whose value is direct integration's (the
+/// continued fraction did not settle on it): converged, with depth 0 and
+/// the integration's residual, steps and change between its two
+/// discretisations in place of the fraction's evidence.
+fn integrated(m: &mut Mode, omega: Complex64, residual: f64, iterations: usize, change: f64) {
+    m.root.omega = omega;
+    m.root.converged = true;
+    m.root.residual = residual;
+    m.root.iterations = iterations;
+    m.root.depth = 0;
+    m.root.depth_change = change;
+    m.root.stop = super::cf::StopReason::Converged;
+    m.method = ModeMethod::Integrate;
 }
 
 /// The largest estimated error (relative) of a limit through nearby
@@ -1971,14 +1980,7 @@ fn integrate_where_unsettled(bp: &BoundaryProblem, mut modes: Vec<Mode>, split: 
             continue;
         };
         let m = &mut modes[i];
-        m.root.omega = r.omega;
-        m.root.converged = true;
-        m.root.residual = r.residual;
-        m.root.iterations = r.iterations;
-        m.root.depth = 0;
-        m.root.depth_change = r.change;
-        m.root.stop = StopReason::Converged;
-        m.method = ModeMethod::Integrate;
+        integrated(m, r.omega, r.residual, r.iterations, r.change);
         if from != m.seed.0 {
             m.seed = (from, "extrapolated from the two nearest converged overtones below, one found by direct integration".to_string());
         }
