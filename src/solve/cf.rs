@@ -6,6 +6,7 @@
 //! n^(−1/2) (H.-P. Nollert, Phys. Rev. D 47 (1993) 5253), solved here order
 //! by order from the recurrence itself. Roots are found with Muller's method.
 
+use super::dd::Scalar;
 use crate::algebra::GRat;
 use crate::error::{Error, ErrorKind, Result};
 use crate::series::Recurrence;
@@ -56,6 +57,78 @@ pub struct NumRecurrence {
     pub terms: Vec<NPoly>,
     /// An adjoined square root χ(ω) the coefficients also hold.
     pub rate: Option<NumRate>,
+    /// The arithmetic a recurrence of more than three terms is reduced and
+    /// solved in.
+    pub precision: Precision,
+    /// What sets the truncation depth root searches start from, where the
+    /// series' other singular points crowd the unit circle (`None`: the
+    /// caller's depth).
+    pub crowding: Option<Crowding>,
+}
+
+/// A series whose other singular points lie just outside the unit disc
+/// needs thousands of terms before its tail settles, and shallower
+/// truncations have roots of their own, which a search started there
+/// follows. The mode's series falls as R⁻ⁿ; the far end's other solution,
+/// (1 − u)^δ, contributes n^(−1−δ): the first settles below the second
+/// only once n ln R exceeds a multiple of 1 + Re δ.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Crowding {
+    /// The convergence radius R.
+    pub radius: f64,
+    /// δ(ω) = δ₀ + δ₁ω, the far end's other exponent less the chosen one
+    /// (zero where the far end is not a finite regular point).
+    pub gap: [Complex64; 2],
+}
+
+/// The first depth of a crowded series is at least this over R − 1.
+const FIRST_DEPTH_SCALE: f64 = 64.0;
+
+/// … and at least this times (1 + Re δ) / ln R (measured: the modes of
+/// Schwarzschild–de Sitter at Λ = 1e-3, 1e-4 settle from about 4 to 5
+/// times it).
+const GAP_SCALE: f64 = 5.0;
+
+/// The largest first depth a crowded series is given.
+const FIRST_DEPTH_CAP: usize = 1 << 15;
+
+impl Crowding {
+    /// The first truncation depth for a search from ω, a power of two.
+    /// Beyond `FIRST_DEPTH_CAP` (a far end so distant that a search from a
+    /// rough seed there would find another mode) the caller's depth, the
+    /// search following its roots up from there.
+    pub fn first_depth(&self, w: Complex64) -> usize {
+        let delta = (self.gap[0] + self.gap[1] * w).re.max(0.0);
+        let n = (FIRST_DEPTH_SCALE / (self.radius - 1.0)).max(GAP_SCALE * (1.0 + delta) / self.radius.ln());
+        if n.is_finite() && n <= FIRST_DEPTH_CAP as f64 {
+            (n as usize).next_power_of_two()
+        } else {
+            0
+        }
+    }
+}
+
+/// The relative change on doubling at which a search in doubles hands a
+/// double-double recurrence's root over to be polished (the doubles' noise
+/// there is about 1e-9).
+const COARSE_TOL: f64 = 1e-7;
+
+/// The largest truncation depth of a search wholly in double-double.
+const DD_MAX_DEPTH: usize = 1 << 15;
+
+/// The relative difference at the seed between an inversion in doubles and
+/// in double-double below which the search's first stage runs in doubles.
+const TRUSTED: f64 = 1e-2;
+
+/// The arithmetic a recurrence is solved in.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Precision {
+    /// Complex doubles.
+    Double,
+    /// Complex double-doubles (about 32 digits, [`super::dd`]): for a
+    /// recurrence whose characteristic roots nearly coincide, where doubles
+    /// lose half their digits or more.
+    DoubleDouble,
 }
 
 /// The part of a recurrence's coefficients in an adjoined square root χ
@@ -156,7 +229,7 @@ pub fn try_numeric_at(rec: &Recurrence, values: &[Complex64], freq: usize) -> Re
         }
         terms.push(super::npoly_at(c.num(), c.scale().to_f64(), values, freq));
     }
-    Ok(NumRecurrence { terms, rate: None })
+    Ok(NumRecurrence { terms, rate: None, precision: Precision::Double, crowding: None })
 }
 
 /// [`try_numeric`] for a recurrence whose field holds an adjoined square
@@ -175,7 +248,7 @@ pub fn try_numeric_with_rate(rec: &Recurrence, values: &[GRat], freq: usize, chi
         terms.push(parts.next().unwrap_or_default());
         powers.push(parts.collect());
     }
-    Ok(NumRecurrence { terms, rate: Some(NumRate { powers, branch }) })
+    Ok(NumRecurrence { terms, rate: Some(NumRate { powers, branch }), precision: Precision::Double, crowding: None })
 }
 
 /// The recurrence's three coefficients as polynomials in n at a given ω.
@@ -481,62 +554,73 @@ pub fn inversion(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> O
 /// continued fraction on the reduced coefficients, with a tail from the
 /// reduced recurrence at the truncation depth (r ≈ r_N ≈ r_{N−1}).
 fn inversion_reduced(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<(Complex64, Complex64)> {
-    let depth = depth.max(k + 2);
-    let kk = rec.terms.len();
     let polys: Vec<Vec<Complex64>> = rec.at_omega(w)?;
-    // c[n][j] for n = 0..=depth+1.
-    let mut c: Vec<Vec<Complex64>> = (0..=depth + 1).map(|n| polys.iter().map(|p| poly_n(p, n as f64)).collect()).collect();
+    match rec.precision {
+        Precision::Double => reduced_in::<Complex64>(&polys, k, depth),
+        Precision::DoubleDouble => reduced_in::<super::dd::Cdd>(&polys, k, depth),
+    }
+}
+
+/// [`inversion_reduced`] in the arithmetic `T`, from the coefficients'
+/// polynomials in n at the given ω.
+fn reduced_in<T: Scalar>(polys: &[Vec<Complex64>], k: usize, depth: usize) -> Option<(Complex64, Complex64)> {
+    let depth = depth.max(k + 2);
+    let kk = polys.len();
+    let at_n = |p: &[Complex64], n: usize| T::poly_at(p, n as f64);
+    // c[n][j] for n = 0..=depth+1, row by row in one buffer.
+    let rows = depth + 2;
+    let mut c: Vec<T> = Vec::with_capacity(rows * kk);
+    for n in 0..rows {
+        c.extend(polys.iter().map(|p| at_n(p, n)));
+    }
     let mut terms = kk;
     while terms > 3 {
         let last = terms - 1;
-        let mut reduced: Vec<Vec<Complex64>> = Vec::with_capacity(c.len());
-        for n in 0..c.len() {
-            let mut row: Vec<Complex64> = c[n][..last].to_vec();
-            // The eliminated term multiplies a_{n+1−last}: zero for n < last − 1.
-            if n + 1 >= last && n > 0 {
-                let prev: &Vec<Complex64> = &reduced[n - 1];
-                let piv = prev[last - 1];
-                if piv.re == 0.0 && piv.im == 0.0 {
-                    return None;
-                }
-                let f = c[n][last] / piv;
-                for j in 1..last {
-                    row[j] -= f * prev[j - 1];
-                }
+        // Row n's last term multiplies a_{n+1−last} (zero for n < last − 1);
+        // it is removed with row n − 1, already reduced (rows in order).
+        for n in (last - 1).max(1)..rows {
+            let (prev, row) = c[(n - 1) * kk..(n + 1) * kk].split_at_mut(kk);
+            let piv = prev[last - 1];
+            if piv.is_zero() {
+                return None;
             }
-            reduced.push(row);
+            let f = row[last] / piv;
+            for j in 1..last {
+                row[j] = row[j] - f * prev[j - 1];
+            }
         }
-        c = reduced;
         terms -= 1;
     }
-    let (al, be, ga) = (|n: usize| c[n][0], |n: usize| c[n][1], |n: usize| c[n][2]);
-    // Tail: α r² + β r + γ = 0 at the depth, the root of smaller modulus.
-    let (a2, b2, g2) = (al(depth), be(depth), ga(depth));
+    let (al, be, ga) = (|n: usize| c[n * kk], |n: usize| c[n * kk + 1], |n: usize| c[n * kk + 2]);
+    // Tail: α r² + β r + γ = 0 at the depth, the root of smaller modulus
+    // (in doubles: the backward recursion damps its error).
+    let (a2, b2, g2) = (al(depth).to_c(), be(depth).to_c(), ga(depth).to_c());
     let disc = (b2 * b2 - 4.0 * a2 * g2).sqrt();
     let (r1, r2) = ((-b2 + disc) / (2.0 * a2), (-b2 - disc) / (2.0 * a2));
-    let mut r = if r1.norm() <= r2.norm() { r1 } else { r2 };
+    let mut r = T::from_c(if r1.norm() <= r2.norm() { r1 } else { r2 });
     for n in ((k + 1)..=depth).rev() {
         let den = be(n) + al(n) * r;
-        if den.re == 0.0 && den.im == 0.0 {
+        if den.is_zero() {
             return None;
         }
         r = -ga(n) / den;
     }
-    let mut inv_prev = Complex64::new(0.0, 0.0);
+    let one = T::from_c(Complex64::new(1.0, 0.0));
+    let mut inv_prev = T::from_c(Complex64::new(0.0, 0.0));
     for n in 0..k {
         let an = al(n);
-        if an.re == 0.0 && an.im == 0.0 {
+        if an.is_zero() {
             return None;
         }
         let rn = -(be(n) + ga(n) * inv_prev) / an;
-        if rn.re == 0.0 && rn.im == 0.0 {
+        if rn.is_zero() {
             return None;
         }
-        inv_prev = 1.0 / rn;
+        inv_prev = one / rn;
     }
     let bk = be(k);
     let f = bk + al(k) * r + ga(k) * inv_prev;
-    Some((f, bk))
+    Some((f.to_c(), bk.to_c()))
 }
 
 /// Finds the root of the k-th inversion near `seed`, doubling the depth
@@ -554,25 +638,84 @@ pub fn find_root_near(rec: &NumRecurrence, k: usize, seed: Complex64, spread: f6
     if rec.terms.len() < 3 {
         return CfRoot::failed(seed, k, StopReason::NotThreeTerm);
     }
-    let r = find_root_spread(
-        &|w, depth| inversion(rec, w, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string()),
-        k,
-        seed,
-        spread,
-        tol,
-        depth0,
-        max_depth,
-    );
+    let search = |rec: &NumRecurrence, seed: Complex64, spread: f64, tol: f64, depth0: usize| {
+        find_root_spread(
+            &|w, depth| inversion(rec, w, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string()),
+            k,
+            seed,
+            spread,
+            tol,
+            depth0,
+            max_depth,
+        )
+    };
+    let depth0 = depth0.max(rec.crowding.map_or(0, |c| c.first_depth(seed)).min(max_depth / 2));
+    // The recurrence in doubles: the search's first stage, and the test for
+    // a double root, which needs no more than its digits.
+    let doubles = NumRecurrence { precision: Precision::Double, ..rec.clone() };
+    let r = match rec.precision {
+        Precision::Double => search(rec, seed, spread, tol, depth0),
+        Precision::DoubleDouble => {
+            // The search in doubles first (several times cheaper; it settles
+            // to about the doubles' noise), then polished in double-double
+            // from its root and depth; the whole search in double-double
+            // where the first does not settle, or where the doubles' value
+            // at the seed is already off by more than `TRUSTED` (a high
+            // overtone: large exponents, more cancellation), which would
+            // lead the first stage astray.
+            let value = |rec: &NumRecurrence| inversion(rec, seed, k, depth0).map(|(v, _)| v).filter(|v| v.re.is_finite() && v.im.is_finite());
+            let trusted = match (value(&doubles), value(rec)) {
+                (Some(d), Some(x)) => (d - x).norm() <= TRUSTED * x.norm(),
+                _ => false,
+            };
+            // Searches wholly in double-double stop at `DD_MAX_DEPTH` (a
+            // bound on their cost: about 0.8 µs per term and evaluation).
+            let dd_search = |seed: Complex64| {
+                let cap = max_depth.min(DD_MAX_DEPTH);
+                find_root_spread(
+                    &|w, depth| inversion(rec, w, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string()),
+                    k,
+                    seed,
+                    spread,
+                    tol,
+                    depth0.min(cap / 2),
+                    cap,
+                )
+            };
+            let coarse = if trusted { Some(search(&doubles, seed, spread, tol.max(COARSE_TOL), depth0)) } else { None };
+            match coarse {
+                None => dd_search(seed),
+                // Roots still moving at the largest depth, by more than the
+                // doubles' noise (`COARSE_TOL` is above it where they are
+                // trusted), would move in double-double too.
+                Some(c) if c.stop == StopReason::DepthLimit => c,
+                Some(c) if !c.converged => dd_search(seed),
+                // Where the polish fails the doubles' root stands, converged
+                // only if it met the tolerance asked for.
+                Some(c) => [c.depth / 2, c.depth].into_iter().find_map(|d| polish(rec, &doubles, &c, d, tol)).unwrap_or_else(|| {
+                    let converged = c.depth_change <= tol * c.omega.norm();
+                    CfRoot { converged, stop: if converged { StopReason::Converged } else { StopReason::DepthLimit }, ..c }
+                }),
+            }
+        }
+    };
     if r.converged {
-        if let Some(why) = spurious(rec, &r) {
+        // In the recurrence's own arithmetic: the other inversions lose more
+        // digits in doubles than the one searched. A polished root's depth
+        // is twice the one it settled at, where the test is cheaper.
+        let depth = match rec.precision {
+            Precision::Double => r.depth,
+            Precision::DoubleDouble => (r.depth / 2).max(r.inversion + 4),
+        };
+        if let Some(why) = spurious(rec, &r, depth) {
             return CfRoot { converged: false, stop: StopReason::Rejected(why), ..r };
         }
-        return double_root(rec, r, tol);
+        return double_root(rec, &doubles, r, tol);
     }
     // At a double root each depth's search stops about √(rounding) away, so
     // the roots of two depths never agree: settled as one where it is one.
     if r.stop == StopReason::DepthLimit && r.omega.re.is_finite() && r.omega.im.is_finite() {
-        let settled = double_root(rec, r.clone(), tol);
+        let settled = double_root(rec, &doubles, r.clone(), tol);
         if settled.double && settled.converged {
             return CfRoot { stop: StopReason::Converged, ..settled };
         }
@@ -580,15 +723,52 @@ pub fn find_root_near(rec: &NumRecurrence, k: usize, seed: Complex64, spread: f6
     r
 }
 
+/// A root found in doubles on a double-double recurrence (`rec`, and
+/// `doubles` the same in doubles) polished by two Newton steps in
+/// double-double at depth N (the search's last depth or the one before,
+/// whose roots agreed in doubles), the derivative a central difference in
+/// doubles (its error, about 1e-5 relative, shrinks the correction that
+/// much per step); the change on doubling is the Newton correction at 2N.
+/// `None` where a step or that change exceeds the tolerance: the caller
+/// then searches in double-double.
+fn polish(rec: &NumRecurrence, doubles: &NumRecurrence, r: &CfRoot, depth: usize, tol: f64) -> Option<CfRoot> {
+    let k = r.inversion;
+    let size = r.omega.norm().max(f64::MIN_POSITIVE);
+    let h = 1e-4 * size;
+    let at = |rec: &NumRecurrence, w: Complex64, depth: usize| inversion(rec, w, k, depth).filter(|(v, _)| v.re.is_finite() && v.im.is_finite());
+    let (up, down) = (at(doubles, r.omega + h, depth)?, at(doubles, r.omega - h, depth)?);
+    let slope = (up.0 - down.0) / (2.0 * h);
+    if slope.norm() == 0.0 || !slope.re.is_finite() || !slope.im.is_finite() {
+        return None;
+    }
+    let mut w = r.omega;
+    for _ in 0..2 {
+        let step = at(rec, w, depth)?.0 / slope;
+        if step.norm() > 1e-6 * size {
+            return None;
+        }
+        w -= step;
+    }
+    let (value, scale) = at(rec, w, 2 * depth)?;
+    let change = (value / slope).norm();
+    let last = (at(rec, w, depth)?.0 / slope).norm();
+    if change > tol * size || last > 0.1 * tol * size {
+        return None;
+    }
+    Some(CfRoot { omega: w, depth: 2 * depth, depth_change: change, residual: value.norm() / scale.norm(), ..r.clone() })
+}
+
 /// A converged root about which the k-th inversion grows like the square of
 /// the distance (`roots::growth_order` between 1.7 and 2.4): a double root,
 /// where two families meet and Muller's method stops about √(rounding)
 /// away; it is then the zero of the inversion's derivative
 /// (`roots::double_root`) at the depth reached and at twice it, their
-/// difference the change on doubling. The root as it was otherwise.
-fn double_root(rec: &NumRecurrence, r: CfRoot, tol: f64) -> CfRoot {
+/// difference the change on doubling. The root as it was otherwise. The
+/// growth is measured on `doubles`, the recurrence in doubles.
+fn double_root(rec: &NumRecurrence, doubles: &NumRecurrence, r: CfRoot, tol: f64) -> CfRoot {
     let at = |depth: usize| move |w: Complex64| inversion(rec, w, r.inversion, depth).map(|(v, _)| v);
-    let Some(_) = super::roots::growth_order(&at(r.depth), r.omega).filter(|o| (1.7..=2.4).contains(o)) else { return r };
+    let coarse = |w: Complex64| inversion(doubles, w, r.inversion, r.depth).map(|(v, _)| v);
+    let Some(_) = super::roots::growth_order(&coarse, r.omega).filter(|o| (1.7..=2.4).contains(o)) else { return r };
     let (Some(a), Some(b)) =
         (super::roots::double_root(&at(r.depth), r.omega, 0.1 * tol), super::roots::double_root(&at(2 * r.depth), r.omega, 0.1 * tol))
     else {
@@ -631,18 +811,16 @@ const NEIGHBOUR_RESIDUAL: f64 = 1e-6;
 /// vanishing at the root. One of them vanishing keeps the root: at a
 /// resonance of an end's exponents (de Sitter's conformally coupled field)
 /// an inversion can miss a true mode, and one that cannot be evaluated
-/// there (a zero denominator) says nothing.
-fn spurious(rec: &NumRecurrence, r: &CfRoot) -> Option<String> {
+/// there (a zero denominator) says nothing. The inversions are taken at
+/// `depth`.
+fn spurious(rec: &NumRecurrence, r: &CfRoot, depth: usize) -> Option<String> {
     let k = r.inversion;
     let others = match k.checked_sub(1) {
         Some(below) => [below, k + 2],
         None => [k + 2, k + 3],
     };
-    let residuals: Vec<(usize, f64)> = others
-        .into_iter()
-        .filter_map(|j| inversion(rec, r.omega, j, r.depth).map(|vs| (j, relative(vs))))
-        .filter(|(_, res)| res.is_finite())
-        .collect();
+    let residuals: Vec<(usize, f64)> =
+        others.into_iter().filter_map(|j| inversion(rec, r.omega, j, depth).map(|vs| (j, relative(vs)))).filter(|(_, res)| res.is_finite()).collect();
     if residuals.len() < others.len() || residuals.iter().any(|(_, res)| *res <= NEIGHBOUR_RESIDUAL) {
         return None;
     }
@@ -754,6 +932,19 @@ mod tests {
     use super::*;
     use crate::algebra::Rat;
     use crate::ode::{reduce, Input, ReduceOptions};
+
+    #[test]
+    fn a_crowded_series_starts_deeper_for_a_larger_exponent_gap() {
+        // R = 1.04, δ = 1 + 10iω: at ω = −0.1i, δ = 2, the radius' own bound
+        // 64/0.04 = 1600 → 2048; at ω = −3i, δ = 31: 5·32/ln 1.04 ≈ 4079 → 4096.
+        let c = Crowding { radius: 1.04, gap: [Complex64::new(1.0, 0.0), Complex64::new(0.0, 10.0)] };
+        assert_eq!(c.first_depth(Complex64::new(0.3, -0.1)), 2048);
+        assert_eq!(c.first_depth(Complex64::new(0.3, -3.0)), 4096);
+        // Past the cap the caller's depth stands (0 here).
+        assert_eq!(c.first_depth(Complex64::new(0.3, -100.0)), 0);
+        let far = Crowding { radius: 1.001, gap: [Complex64::new(1.0, 0.0), Complex64::new(0.0, 0.0)] };
+        assert_eq!(far.first_depth(Complex64::new(0.3, -0.1)), 0);
+    }
 
     fn rw_recurrence(s: i64, l: i64) -> NumRecurrence {
         let src = "var r\nparam M, omega, l, s\nlet f = 1 - 2*M/r\node f*(f*y')' + (omega^2 - f*(l*(l+1)/r^2 + (1 - s^2)*2*M/r^3))*y = 0\n";

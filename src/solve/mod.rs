@@ -6,6 +6,7 @@
 pub mod cf;
 pub mod collocation;
 pub mod coupled;
+pub mod dd;
 pub mod wkb;
 
 pub mod boundary;

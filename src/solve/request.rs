@@ -1863,7 +1863,7 @@ pub(crate) fn series_between_ends(
         }
     }
     let (second, second_modes) = second_family(&bp, &second, &solve, opts, check);
-    let (cf_modes, alone) = integrate_where_unsettled(&bp, cf_modes, split, opts.tol);
+    let (cf_modes, alone) = integrate_where_unsettled(&bp, cf_modes, split, opts.tol, estimate);
     let o = SpectrumOptions { seeds: o.seeds.iter().skip(if climb { opts.overtones.0 as usize } else { 0 }).copied().collect(), ..o };
     let modes: Vec<EndMode> = cf_modes
         .iter()
@@ -1951,7 +1951,13 @@ fn purely_imaginary(w: Complex64, scale: f64) -> bool {
 /// the families apart, not a purely imaginary one). Such a mode has one
 /// method's evidence (its standard and refined integrations), which the
 /// note says.
-fn integrate_where_unsettled(bp: &BoundaryProblem, mut modes: Vec<Mode>, split: bool, tol: f64) -> (Vec<Mode>, Option<String>) {
+fn integrate_where_unsettled(
+    bp: &BoundaryProblem,
+    mut modes: Vec<Mode>,
+    split: bool,
+    tol: f64,
+    estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
+) -> (Vec<Mode>, Option<String>) {
     use super::cf::StopReason;
     let mut found: Vec<u32> = Vec::new();
     for i in 0..modes.len() {
@@ -1964,7 +1970,8 @@ fn integrate_where_unsettled(bp: &BoundaryProblem, mut modes: Vec<Mode>, split: 
             continue;
         }
         // Seeds: the ladder's own, then one extrapolated from the two
-        // nearest converged overtones below (one found here among them).
+        // nearest converged overtones below (one found here among them),
+        // then the barrier's estimate.
         let mut below = modes[..i].iter().rev().filter(|o| o.root.converged);
         let fresh = match (below.next(), below.next()) {
             (Some(a), Some(b)) => Some(super::spectrum::extrapolate(a, b, m.n)).filter(|w| (w - m.seed.0).norm() > 1e-6 * w.norm()),
@@ -1976,20 +1983,28 @@ fn integrate_where_unsettled(bp: &BoundaryProblem, mut modes: Vec<Mode>, split: 
             let quadrant = r.omega.im < 0.0 && r.omega.re >= -1e-8 * r.omega.norm();
             r.converged && quadrant && !taken && !(split && purely_imaginary(r.omega, bp.scale))
         };
-        let Some((from, r)) = [m.seed.0].into_iter().chain(fresh).map(|s| (s, super::ends::find_root(bp, s, tol))).find(|(_, r)| accept(r)) else {
+        // Last, the barrier's estimate of this overtone, where it is not the seed already.
+        let barrier = estimate(m.n).filter(|(w, _)| (w - m.seed.0).norm() > 1e-6 * w.norm());
+        let seeds = [(m.seed.0, None)]
+            .into_iter()
+            .chain(
+                fresh.map(|w| (w, Some("extrapolated from the two nearest converged overtones below, one found by direct integration".to_string()))),
+            )
+            .chain(barrier.map(|(w, from)| (w, Some(from))));
+        let Some((from, r)) = seeds.map(|(s, from)| (from.map(|f| (s, f)), super::ends::find_root(bp, s, tol))).find(|(_, r)| accept(r)) else {
             continue;
         };
         let m = &mut modes[i];
         integrated(m, r.omega, r.residual, r.iterations, r.change);
-        if from != m.seed.0 {
-            m.seed = (from, "extrapolated from the two nearest converged overtones below, one found by direct integration".to_string());
+        if let Some(seed) = from {
+            m.seed = seed;
         }
         found.push(m.n);
     }
     let note = (!found.is_empty()).then(|| {
         let list: Vec<String> = found.iter().map(|n| n.to_string()).collect();
         format!(
-            "overtone{} {}: the continued fraction did not settle on it, and the value is direct integration's alone from the same seed (its standard and refined integrations agree; no second method confirms it)",
+            "overtone{} {}: the continued fraction did not settle on it, and the value is direct integration's alone from its listed seed (its standard and refined integrations agree; no second method confirms it)",
             if found.len() > 1 { "s" } else { "" },
             list.join(", ")
         )
