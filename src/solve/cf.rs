@@ -117,8 +117,13 @@ const COARSE_TOL: f64 = 1e-7;
 const DD_MAX_DEPTH: usize = 1 << 15;
 
 /// The relative difference at the seed between an inversion in doubles and
-/// in double-double below which the search's first stage runs in doubles.
-const TRUSTED: f64 = 1e-2;
+/// in double-double below which the search's first stage runs in doubles:
+/// the inversion at a seed a few percent from the root is a few percent of
+/// its scale, and the doubles' noise must stay below the first stage's
+/// tolerance (`COARSE_TOL`) times that (at Λ = 0.002, l = 2, n = 3 a
+/// difference of 1e-3 at the seed already let the doubles' roots wander by
+/// 1e-4 with the depth).
+const TRUSTED: f64 = 1e-6;
 
 /// The arithmetic a recurrence is solved in.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -635,6 +640,23 @@ pub fn find_root(rec: &NumRecurrence, k: usize, seed: Complex64, tol: f64, depth
 /// the seed (levels crowding below a continuum edge), so that the search
 /// is not drawn to a neighbour.
 pub fn find_root_near(rec: &NumRecurrence, k: usize, seed: Complex64, spread: f64, tol: f64, depth0: usize, max_depth: usize) -> CfRoot {
+    let r = root_of_inversion(rec, k, seed, spread, tol, depth0, max_depth);
+    // Every inversion holds every root; the k-th is the steadiest for the
+    // k-th root counted from the least damped. A crowded series counts a
+    // second family among them (de Sitter's purely imaginary modes), so
+    // where the k-th does not settle the one below is tried.
+    let unsettled = !r.converged && matches!(r.stop, StopReason::DepthLimit | StopReason::RootIterations);
+    if unsettled && k > 0 && rec.crowding.is_some() {
+        let below = root_of_inversion(rec, k - 1, seed, spread, tol, depth0, max_depth);
+        if below.converged {
+            return below;
+        }
+    }
+    r
+}
+
+/// [`find_root_near`] on the k-th inversion alone.
+fn root_of_inversion(rec: &NumRecurrence, k: usize, seed: Complex64, spread: f64, tol: f64, depth0: usize, max_depth: usize) -> CfRoot {
     if rec.terms.len() < 3 {
         return CfRoot::failed(seed, k, StopReason::NotThreeTerm);
     }
@@ -684,18 +706,23 @@ pub fn find_root_near(rec: &NumRecurrence, k: usize, seed: Complex64, spread: f6
             };
             let coarse = if trusted { Some(search(&doubles, seed, spread, tol.max(COARSE_TOL), depth0)) } else { None };
             match coarse {
-                None => dd_search(seed),
+                // Where double-double does not settle within its depth, the
+                // search in doubles alone (to the largest depth) is the last
+                // resort, as for a recurrence that is not crowded.
+                None => Some(dd_search(seed)).filter(|r| r.converged).unwrap_or_else(|| search(&doubles, seed, spread, tol, depth0)),
                 // Roots still moving at the largest depth, by more than the
                 // doubles' noise (`COARSE_TOL` is above it where they are
                 // trusted), would move in double-double too.
                 Some(c) if c.stop == StopReason::DepthLimit => c,
                 Some(c) if !c.converged => dd_search(seed),
-                // Where the polish fails the doubles' root stands, converged
-                // only if it met the tolerance asked for.
-                Some(c) => [c.depth / 2, c.depth].into_iter().find_map(|d| polish(rec, &doubles, &c, d, tol)).unwrap_or_else(|| {
-                    let converged = c.depth_change <= tol * c.omega.norm();
-                    CfRoot { converged, stop: if converged { StopReason::Converged } else { StopReason::DepthLimit }, ..c }
-                }),
+                // Polished at the depth before the doubles settled, then at
+                // doubled depths while the tail still moves the root by more
+                // than the tolerance; where none settles, the search in
+                // doubles alone to the tolerance asked for.
+                Some(c) => std::iter::successors(Some((c.depth / 2).max(1)), |d| Some(2 * d))
+                    .take_while(|d| *d <= DD_MAX_DEPTH && 2 * d <= max_depth)
+                    .find_map(|d| polish(rec, &doubles, &c, d, tol))
+                    .unwrap_or_else(|| search(&doubles, c.omega, spread, tol, c.depth)),
             }
         }
     };
