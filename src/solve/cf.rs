@@ -756,8 +756,9 @@ fn root_of_inversion(rec: &NumRecurrence, k: usize, seed: Complex64, spread: f64
 /// whose roots agreed in doubles), the derivative a central difference in
 /// doubles (its error, about 1e-5 relative, shrinks the correction that
 /// much per step); the change on doubling is the Newton correction at 2N.
-/// `None` where a step or that change exceeds the tolerance: the caller
-/// then searches in double-double.
+/// `None` where the first step is not small (above 1e-6 relative), the
+/// second or that change exceeds the tolerance: the caller then polishes
+/// at twice the depth, or searches in doubles alone.
 fn polish(rec: &NumRecurrence, doubles: &NumRecurrence, r: &CfRoot, depth: usize, tol: f64) -> Option<CfRoot> {
     let k = r.inversion;
     let size = r.omega.norm().max(f64::MIN_POSITIVE);
@@ -769,20 +770,23 @@ fn polish(rec: &NumRecurrence, doubles: &NumRecurrence, r: &CfRoot, depth: usize
         return None;
     }
     let mut w = r.omega;
+    let mut last = f64::INFINITY;
     for _ in 0..2 {
         let step = at(rec, w, depth)?.0 / slope;
-        if step.norm() > 1e-6 * size {
+        last = step.norm();
+        if last > 1e-6 * size {
             return None;
         }
         w -= step;
     }
+    // After the second step the error is that step times the slope's own
+    // relative error: far below it.
     let (value, scale) = at(rec, w, 2 * depth)?;
     let change = (value / slope).norm();
-    let last = (at(rec, w, depth)?.0 / slope).norm();
     if change > tol * size || last > 0.1 * tol * size {
         return None;
     }
-    Some(CfRoot { omega: w, depth: 2 * depth, depth_change: change, residual: value.norm() / scale.norm(), ..r.clone() })
+    Some(CfRoot { omega: w, depth: 2 * depth, depth_change: change, residual: relative((value, scale)), ..r.clone() })
 }
 
 /// A converged root about which the k-th inversion grows like the square of
