@@ -274,11 +274,7 @@ impl Three {
 }
 
 fn poly_n(c: &[Complex64], n: f64) -> Complex64 {
-    let mut acc = Complex64::new(0.0, 0.0);
-    for x in c.iter().rev() {
-        acc = acc * n + x;
-    }
-    acc
+    Complex64::poly_at(c, n)
 }
 
 /// Length of the fixed series buffers (orders kept in the tail expansion + 3).
@@ -660,7 +656,7 @@ fn root_of_inversion(rec: &NumRecurrence, k: usize, seed: Complex64, spread: f64
     if rec.terms.len() < 3 {
         return CfRoot::failed(seed, k, StopReason::NotThreeTerm);
     }
-    let search = |rec: &NumRecurrence, seed: Complex64, spread: f64, tol: f64, depth0: usize| {
+    let search_to = |rec: &NumRecurrence, seed: Complex64, tol: f64, depth0: usize, max_depth: usize| {
         find_root_spread(
             &|w, depth| inversion(rec, w, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string()),
             k,
@@ -671,12 +667,17 @@ fn root_of_inversion(rec: &NumRecurrence, k: usize, seed: Complex64, spread: f64
             max_depth,
         )
     };
+    let search = |rec: &NumRecurrence, seed: Complex64, tol: f64, depth0: usize| search_to(rec, seed, tol, depth0, max_depth);
     let depth0 = depth0.max(rec.crowding.map_or(0, |c| c.first_depth(seed)).min(max_depth / 2));
     // The recurrence in doubles: the search's first stage, and the test for
-    // a double root, which needs no more than its digits.
-    let doubles = NumRecurrence { precision: Precision::Double, ..rec.clone() };
+    // a double root, which needs no more than its digits (the recurrence
+    // itself where it is in doubles already).
+    let doubles: std::borrow::Cow<NumRecurrence> = match rec.precision {
+        Precision::Double => std::borrow::Cow::Borrowed(rec),
+        Precision::DoubleDouble => std::borrow::Cow::Owned(NumRecurrence { precision: Precision::Double, ..rec.clone() }),
+    };
     let r = match rec.precision {
-        Precision::Double => search(rec, seed, spread, tol, depth0),
+        Precision::Double => search(rec, seed, tol, depth0),
         Precision::DoubleDouble => {
             // The search in doubles first (several times cheaper; it settles
             // to about the doubles' noise), then polished in double-double
@@ -692,29 +693,19 @@ fn root_of_inversion(rec: &NumRecurrence, k: usize, seed: Complex64, spread: f64
             };
             // Searches wholly in double-double stop at `DD_MAX_DEPTH` (a
             // bound on their cost: about 0.8 µs per term and evaluation).
-            let dd_search = |seed: Complex64| {
-                let cap = max_depth.min(DD_MAX_DEPTH);
-                find_root_spread(
-                    &|w, depth| inversion(rec, w, k, depth).ok_or_else(|| "a zero denominator in the continued fraction".to_string()),
-                    k,
-                    seed,
-                    spread,
-                    tol,
-                    depth0.min(cap / 2),
-                    cap,
-                )
-            };
-            let coarse = if trusted { Some(search(&doubles, seed, spread, tol.max(COARSE_TOL), depth0)) } else { None };
+            let cap = max_depth.min(DD_MAX_DEPTH);
+            let dd_search = || search_to(rec, seed, tol, depth0.min(cap / 2), cap);
+            let coarse = if trusted { Some(search(&doubles, seed, tol.max(COARSE_TOL), depth0)) } else { None };
             match coarse {
                 // Where double-double does not settle within its depth, the
                 // search in doubles alone (to the largest depth) is the last
                 // resort, as for a recurrence that is not crowded.
-                None => Some(dd_search(seed)).filter(|r| r.converged).unwrap_or_else(|| search(&doubles, seed, spread, tol, depth0)),
+                None => Some(dd_search()).filter(|r| r.converged).unwrap_or_else(|| search(&doubles, seed, tol, depth0)),
                 // Roots still moving at the largest depth, by more than the
                 // doubles' noise (`COARSE_TOL` is above it where they are
                 // trusted), would move in double-double too.
                 Some(c) if c.stop == StopReason::DepthLimit => c,
-                Some(c) if !c.converged => dd_search(seed),
+                Some(c) if !c.converged => dd_search(),
                 // Polished at the depth before the doubles settled, then at
                 // doubled depths while the tail still moves the root by more
                 // than the tolerance; where none settles, the search in
@@ -722,7 +713,7 @@ fn root_of_inversion(rec: &NumRecurrence, k: usize, seed: Complex64, spread: f64
                 Some(c) => std::iter::successors(Some((c.depth / 2).max(1)), |d| Some(2 * d))
                     .take_while(|d| *d <= DD_MAX_DEPTH && 2 * d <= max_depth)
                     .find_map(|d| polish(rec, &doubles, &c, d, tol))
-                    .unwrap_or_else(|| search(&doubles, c.omega, spread, tol, c.depth)),
+                    .unwrap_or_else(|| search(&doubles, c.omega, tol, c.depth)),
             }
         }
     };
