@@ -1245,6 +1245,33 @@ fn massive_scalar_quasi_bound_levels_in_order_each_once_and_checked() {
 }
 
 #[test]
+fn bound_states_asked_of_a_black_hole_are_its_quasi_bound_states() {
+    // No real frequency is normalisable at a horizon (its exponents
+    // ±iω/(2κ) have equal real parts for real ω; common practice): asked
+    // for bound states of a massive scalar on Schwarzschild, in the
+    // sample's own names and in others (E, m, R(r) rather than u = rR), the
+    // answer is the quasi-bound states, said so, equal to those asked for
+    // directly (Detweiler, Phys. Rev. D 22 (1980) 2323: below μ, decaying).
+    const MASSIVE: &str = "tests/boundary/massive_scalar_schwarzschild.ode";
+    let (_, direct) = modes_of(MASSIVE, "M=1,mu=0.2,l=0", &["--boundary", "quasi-bound", "--overtones", "0..1"]);
+    let renamed = std::env::temp_dir().join(format!("canonode_bound_black_hole_{}.ode", std::process::id()));
+    std::fs::write(&renamed, "var r\nparam M, m, l, E\nlet f = 1 - 2*M/r\node (r^2*f*R')'/r^2 + (E^2/f - l*(l+1)/r^2 - m^2)*R = 0\n").unwrap();
+    let renamed = renamed.to_str().unwrap().to_string();
+    for (path, at) in [(MASSIVE, "M=1,mu=0.2,l=0"), (renamed.as_str(), "M=1,m=0.2,l=0")] {
+        let (v, ms) = modes_of(path, at, &["--boundary", "bound", "--overtones", "0..1"]);
+        assert_eq!(v["boundary"], "quasi-bound", "{path}: {v}");
+        let said =
+            v["notes"].as_array().unwrap().iter().any(|t| t.as_str().unwrap().starts_with("bound states were asked for, but r = 2 is a horizon"));
+        assert!(said, "{path}: {}", v["notes"]);
+        for (a, b) in ms.iter().zip(&direct) {
+            let (x, y) = (omega(a), omega(b));
+            assert!(x.1 < 0.0 && x.0 < 0.2, "{path}: {x:?}");
+            assert!((x.0 - y.0).abs() < 1e-10 * y.0 && (x.1 - y.1).abs() < 1e-6 * y.1.abs(), "{path}: {x:?} against {y:?}");
+        }
+    }
+}
+
+#[test]
 fn the_second_overtone_of_a_massive_scalar_is_not_the_first_again() {
     // Overtones 1 and 2 once came out as the same root (Mμ = 0.2, l = 1):
     // level 2 alone, level 2 of 0..2, and level 2 from a guess near it are

@@ -708,9 +708,14 @@ fn carried_request(chart: &super::physical::Chart, req: &SpectrumRequest, point:
         return Err(usage(format!("an end given in {} has no real place in {} under {}", chart.written, chart.physical, chart.map))
             .in_option(RequestInput::Ends));
     };
-    Ok(Some(SpectrumRequest {
-        problem: req.problem,
-        ends: Some(ends),
+    Ok(Some(uncoupled(req, req.problem, Some(ends))))
+}
+
+/// The request `req` for another problem and ends, without an angular equation.
+fn uncoupled(req: &SpectrumRequest, problem: Problem, ends: Option<super::boundary::GivenEnds>) -> SpectrumRequest {
+    SpectrumRequest {
+        problem,
+        ends,
         frequency: req.frequency.clone(),
         values: req.values.clone(),
         overtones: req.overtones,
@@ -723,7 +728,7 @@ fn carried_request(chart: &super::physical::Chart, req: &SpectrumRequest, point:
         couple: None,
         closed_form: req.closed_form,
         polynomial: req.polynomial,
-    }))
+    }
 }
 
 /// The ends of the domain a report's modes were found between, left to
@@ -749,6 +754,15 @@ fn report_ends(r: &SpectrumReport) -> Vec<Location> {
 fn spectrum_in(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport> {
     if req.method == Method::Exact {
         return exact_only(red, req);
+    }
+    if let Some(note) = bound_at_horizon(red, req)? {
+        let mut report = spectrum_in(red, &uncoupled(req, Problem::QuasiBound, None))?;
+        match &mut report.body {
+            Body::Recurrence(r) => r.notes.insert(0, note),
+            Body::Ends(e) => e.problem.notes.insert(0, note),
+            Body::Bound(_) | Body::Estimates(_) | Body::Exact | Body::Periodic(_) => {}
+        }
+        return Ok(report);
     }
     let Numeric { mut report, freq, point, ends } = numeric(red, req, Vec::new())?;
     if req.closed_form && req.couple.is_none() {
@@ -792,6 +806,45 @@ fn spectrum_in(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport>
         report.polynomial = Some(polynomial_section(red, freq, &point, degree));
     }
     Ok(report)
+}
+
+/// Bound states asked for (with the default ends) where the spectral
+/// parameter is a frequency and the near end is a horizon: its exponents
+/// ±iω/(2κ) have equal real parts for every real ω, so no real eigenvalue is
+/// normalisable there. The problem meant is the quasi-bound one (into the
+/// horizon, decaying or normalisable at the far end); the note saying so,
+/// `None` when the request is a real eigenvalue problem after all.
+fn bound_at_horizon(red: &Reduction, req: &SpectrumRequest) -> Result<Option<String>> {
+    if req.problem != Problem::Bound || req.ends.is_some() || req.couple.is_some() {
+        return Ok(None);
+    }
+    let (freq, fname) = frequency(red, req)?;
+    let point = point(red, req, freq)?;
+    let red = super::spectrum::substitute_for_series(red, &point, &[freq])?;
+    if super::collocation::linear_in(&red.field, &red.normal.q, freq)? {
+        return Ok(None);
+    }
+    let Ok(bp) = super::boundary::try_problem(&red, &point, freq, SpectrumKind::Bound, None) else { return Ok(None) };
+    let oscillating = |z: f64| {
+        [0.41, 1.27].iter().all(|&w| {
+            super::boundary::exponents_at(&bp.ode, z, Complex64::new(w, 0.0)).is_some_and(|e| {
+                let size = 1.0 + e[0].norm() + e[1].norm();
+                (e[0].re - e[1].re).abs() <= 1e-9 * size && (e[0].im - e[1].im).abs() > 1e-6 * size
+            })
+        })
+    };
+    let horizon = bp.ends.iter().find_map(|e| match (e.nature, e.location) {
+        (super::boundary::Nature::Horizon, Location::At(z)) if oscillating(z) => Some(z),
+        _ => None,
+    });
+    Ok(horizon.map(|z| {
+        format!(
+            "bound states were asked for, but {var} = {z} is a horizon: its exponents have equal real parts for every real {fname} (±i·{fname}/(2κ)), so no real {fname} is normalisable there; solved as quasi-bound states, the physical problem of a field around a black hole: into the horizon, decaying (or normalisable) at the far end (ask for them directly with {opt_boundary} quasi-bound)",
+            var = red.var,
+            z = super::boundary::fmt(z),
+            opt_boundary = RequestInput::Boundary.mention()
+        )
+    }))
 }
 
 /// For an exact value no numeric mode matches (to [`CONFIRMED`]): the
