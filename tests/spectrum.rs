@@ -891,6 +891,18 @@ fn btz_modes_are_exact() {
 }
 
 #[test]
+fn a_missing_spectral_parameter_is_said_with_the_parameters_left_open() {
+    // BTZ (its frequency is named `freq`, no conventional name): with two
+    // parameters left without a value, or none, the message says which, in
+    // terms of the options the user gave.
+    for (at, want) in [("rp=1", "2 parameters have no value in --at (k, freq)"), ("rp=1,k=1,freq=2", "every parameter has a value in --at")] {
+        let (_, code, err) = run(&["spectrum", "tests/boundary/btz_scalar.ode", "--at", at]);
+        assert_eq!(code, 2, "{at}: {err}");
+        assert!(err.contains("no spectral parameter") && err.contains(want) && err.contains("--frequency"), "{at}: {err}");
+    }
+}
+
+#[test]
 fn btz_modes_at_zero_momentum_sit_at_resonances_of_the_horizon_exponents() {
     // The same formula at k = 0: ω = −2i r₊(n + 1), where the horizon's
     // exponents ±iω/(2r₊) differ by the integer 2(n + 1). There a mode is a

@@ -613,3 +613,19 @@ fn a_survey_with_no_exact_recurrence_gives_each_point_s_own_spectrum() {
     // (Phys. Rev. D 62 (2000) 024027, from memory), checked in tests/spectrum.rs.
     each_point_is_its_own_spectrum("tests/boundary/schwarzschild_ads_scalar.ode", "M=1:1.2:0.1", "L=1,l=0");
 }
+
+#[test]
+fn a_survey_infers_the_spectral_parameter_left_without_a_value() {
+    // The BTZ sample names its frequency `freq`: neither given in --at nor
+    // varied, it is the one solved for, as in `spectrum`. Each row equals
+    // the exact ω = k − 2i r₊ (Birmingham, Sachs & Solodukhin, Phys. Rev.
+    // Lett. 88 (2002) 151301).
+    let csv = ok(&["scan", "tests/boundary/btz_scalar.ode", "--at", "rp=1", "--vary", "k=1:2:1", "--guess", "1.03-1.94i"]);
+    assert!(csv.lines().next().unwrap().contains("frequency=freq"), "{csv}");
+    let got = rows(&csv);
+    assert_eq!(got.len(), 2, "{csv}");
+    for (_, p, n, re, im) in got {
+        assert_eq!(n, 0);
+        assert!(close((re, im), (p[0], -2.0)), "k={}: {re} {im}", p[0]);
+    }
+}

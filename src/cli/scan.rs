@@ -295,11 +295,14 @@ impl AngularCheck<'_> {
 
 /// The frequency's name and field index: named, or a conventional name.
 fn frequency_of(a: &ScanArgs, names: &[String]) -> Result<(String, usize), Failure> {
-    let fname = a.input.frequency_name().or_else(|| ["omega", "ω", "w"].iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
-    let Some(fname) = fname else { return Err(Error::new(ErrorKind::Usage, "no frequency parameter: name it with --frequency").into()) };
-    let Some(freq) = names.iter().skip(1).position(|n| *n == fname).map(|i| i + 1) else {
-        return Err(Error::new(ErrorKind::Usage, format!("'{fname}' is not a parameter")).in_named("--frequency").into());
-    };
+    // Valued: the parameters given in --at and those varied (a points
+    // file's header is read later: with one, the name is not inferred).
+    let at: Vec<String> = parse_assignments(&a.at, "--at")?.into_iter().map(|(n, _, _)| n).collect();
+    let varied = a.vary.iter().filter_map(|v| v.split_once('=')).map(|(n, _)| super::values::param_name(n));
+    let valued: Vec<String> = at.into_iter().chain(varied).collect();
+    let valued: Vec<&str> = valued.iter().map(String::as_str).collect();
+    let infer = a.points.is_none() && a.couple.couple.is_none();
+    let (freq, fname) = crate::solve::request::spectral_parameter(names, a.input.frequency_name().as_deref(), &valued, infer, false)?;
     Ok((fname, freq))
 }
 

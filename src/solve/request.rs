@@ -571,17 +571,34 @@ fn method_error(msg: impl Into<String>) -> Error {
 /// The spectral parameter's field index and name: named, else the one
 /// parameter without a value (uncoupled solves), else a conventional name.
 fn frequency(red: &Reduction, req: &SpectrumRequest) -> Result<(usize, String)> {
-    let names = red.field.names();
-    let defaults: &[&str] = if req.problem == Problem::Bound { &["E", "omega", "ω", "w"] } else { &["omega", "ω", "w"] };
-    let inferred = if req.couple.is_none() {
-        let open: Vec<&String> = names.iter().skip(1).filter(|n| !req.values.iter().any(|(g, _, _)| g == *n)).collect();
-        (open.len() == 1).then(|| open[0].clone())
-    } else {
-        None
-    };
-    let fname = req.frequency.clone().or(inferred).or_else(|| defaults.iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
+    let valued: Vec<&str> = req.values.iter().map(|(n, _, _)| n.as_str()).collect();
+    spectral_parameter(red.field.names(), req.frequency.as_deref(), &valued, req.couple.is_none(), req.problem == Problem::Bound)
+}
+
+/// The spectral parameter of an equation with parameters `names` (the
+/// variable first): the one `named`, else (with `infer`) the one parameter
+/// without a value (not in `valued`) unless a conventional name has one,
+/// else a conventional name (E first for bound states, else ω). Its field index and name, or an error that says
+/// which parameters were left without a value.
+pub fn spectral_parameter(names: &[String], named: Option<&str>, valued: &[&str], infer: bool, bound: bool) -> Result<(usize, String)> {
+    let defaults: &[&str] = if bound { &["E", "omega", "ω", "w"] } else { &["omega", "ω", "w"] };
+    let open: Vec<&String> = names.iter().skip(1).filter(|n| !valued.contains(&n.as_str())).collect();
+    // A conventional name given a value means another parameter was
+    // forgotten, not that the one left open is the spectral parameter.
+    let conventional_valued = defaults.iter().any(|d| valued.contains(d));
+    let inferred = (infer && open.len() == 1 && !conventional_valued).then(|| open[0].clone());
+    let fname = named.map(str::to_string).or(inferred).or_else(|| defaults.iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
     let Some(fname) = fname else {
-        return Err(usage(format!("no frequency parameter: name it with {opt_frequency}", opt_frequency = RequestInput::Frequency.mention())));
+        let opt_frequency = RequestInput::Frequency.mention();
+        let opt_at = RequestInput::At.mention();
+        let why = match open.len() {
+            0 => format!("every parameter has a value in {opt_at}: leave the spectral parameter out of it, or name it with {opt_frequency}"),
+            n => format!(
+                "{n} parameters have no value in {opt_at} ({}): the spectral parameter is the one left without a value; give the others values, or name it with {opt_frequency}",
+                open.iter().map(|s| s.as_str()).collect::<Vec<_>>().join(", ")
+            ),
+        };
+        return Err(usage(format!("no spectral parameter: {why}")));
     };
     let Some(freq) = names.iter().skip(1).position(|n| *n == fname).map(|i| i + 1) else {
         return Err(usage(format!("'{fname}' is not a parameter of the equation")).in_option(RequestInput::Frequency));

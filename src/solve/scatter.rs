@@ -481,13 +481,8 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
     }
     let usage = |m: String| Error::new(ErrorKind::Usage, m);
     let names = red.field.names().to_vec();
-    let fname = req.frequency.clone().or_else(|| ["omega", "ω", "w"].iter().find(|n| names.iter().any(|p| p == *n)).map(|s| s.to_string()));
-    let Some(fname) = fname else {
-        return Err(usage(format!("no frequency parameter: name it with {opt_frequency}", opt_frequency = RequestInput::Frequency.mention())));
-    };
-    let Some(freq) = names.iter().skip(1).position(|n| *n == fname).map(|i| i + 1) else {
-        return Err(usage(format!("'{fname}' is not a parameter")).in_option(RequestInput::Frequency));
-    };
+    let valued: Vec<&str> = req.values.iter().map(|(n, _, _)| n.as_str()).collect();
+    let (freq, fname) = super::request::spectral_parameter(&names, req.frequency.as_deref(), &valued, req.couple.is_none(), false)?;
     if !(1..=super::wkb::MAX_ORDER).contains(&req.wkb_order) {
         return Err(usage(format!("the WKB order must lie in 1..={}", super::wkb::MAX_ORDER)).in_option(RequestInput::WkbOrder));
     }
