@@ -816,7 +816,7 @@ fn ends_json(fname: &str, b: &EndsReport) -> Value {
                     })
                 })
                 .collect();
-            m.insert("purely_imaginary_family".into(), Value::Array(second));
+            m.insert("second_family".into(), Value::Array(second));
         }
     }
     doc

@@ -404,13 +404,14 @@ pub struct SeriesReport {
     pub terms: usize,
     /// One continued-fraction mode per overtone asked for.
     pub modes: Vec<Mode>,
-    /// The purely imaginary modes listed apart from the numbered
-    /// (oscillating) overtones, least damped first; empty when there is no
-    /// second family.
+    /// The second family's modes (purely imaginary, or near the imaginary
+    /// axis for a massive field: see `Families`) listed apart from the
+    /// numbered overtones of the barrier, least damped first; empty when
+    /// there is no second family.
     pub second_family: Vec<SecondMode>,
 }
 
-/// A mode of the purely imaginary family that [`SeriesReport`] lists apart.
+/// A mode of the second family that [`SeriesReport`] lists apart.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct SecondMode {
     /// The continued fraction's root.
@@ -1871,6 +1872,7 @@ pub(crate) fn series_between_ends(
     };
     // Seeds given (a survey's neighbour) are used as they are.
     let neighbour = !opts.seeds.is_empty();
+    let families = Families::new(estimate, bp.scale, opts.overtones.1 + 3);
     // Without a guess the overtones are counted from the fundamental: the
     // ladder climbs from 0 and the range asked for is kept.
     let climb = !neighbour && opts.guess.is_none();
@@ -1879,17 +1881,18 @@ pub(crate) fn series_between_ends(
         (true, _) => opts.seeds.clone(),
         (false, None) => {
             let mut all = super::global::seeds(&bp, (0, opts.overtones.1));
-            let second_count = all.iter().filter(|w| purely_imaginary(**w, bp.scale)).count();
+            let second_count = all.iter().filter(|w| families.second(**w)).count();
             if second_count > 0 {
                 // Room for the second family's modes among the least damped.
                 all = super::global::seeds(&bp, (0, opts.overtones.1 + second_count as u32));
             }
-            // Two families (oscillating modes, and purely imaginary ones
-            // such as those set by a cosmological horizon) are numbered
-            // apart: the overtone ladder runs on the oscillating one, which
-            // a barrier estimate may seed where the spectral method resolves
-            // none of it; the purely imaginary modes are listed on their own.
-            let (osc, imag): (Vec<Complex64>, Vec<Complex64>) = all.iter().partition(|w| !purely_imaginary(**w, bp.scale));
+            // Two families (the barrier's oscillating overtones, and modes
+            // on or near the imaginary axis such as those set by a
+            // cosmological horizon, see [`Families`]) are numbered apart:
+            // the overtone ladder runs on the barrier's, which a barrier
+            // estimate may seed where the spectral method resolves none of
+            // it; the second family is listed on its own.
+            let (osc, imag): (Vec<Complex64>, Vec<Complex64>) = all.iter().partition(|w| !families.second(**w));
             let keep = opts.overtones.1 as usize + 1;
             if !imag.is_empty() && (!osc.is_empty() || estimate(0).is_some()) {
                 second = imag;
@@ -1912,9 +1915,10 @@ pub(crate) fn series_between_ends(
         // families less damped than it.
         let below = second.iter().filter(|w| w.im.abs() < seed.im.abs()).count() as u32;
         let mut r = solve(n + below, seed);
-        if split && r.converged && purely_imaginary(r.omega, bp.scale) {
+        if split && r.converged && families.second(r.omega) {
             r.converged = false;
-            r.stop = super::cf::StopReason::Rejected(format!("the root {}i belongs to the purely imaginary family, listed apart", r.omega.im));
+            r.stop =
+                super::cf::StopReason::Rejected(format!("the root {} belongs to the second family, listed apart", mode_words(r.omega, bp.scale)));
         }
         r
     };
@@ -1932,8 +1936,9 @@ pub(crate) fn series_between_ends(
             ));
         }
     }
-    let (second, second_modes) = second_family(&bp, &second, &solve, opts, check);
-    let (cf_modes, alone) = integrate_where_unsettled(&bp, cf_modes, split, opts.tol, estimate);
+    let (second, second_modes) = second_family(&bp, &second, &families, &solve, opts, check);
+    let second_like = |w: Complex64| split && families.second(w);
+    let (cf_modes, alone) = integrate_where_unsettled(&bp, cf_modes, &second_like, opts.tol, estimate);
     let o = SpectrumOptions { seeds: o.seeds.iter().skip(if climb { opts.overtones.0 as usize } else { 0 }).copied().collect(), ..o };
     let modes: Vec<EndMode> = cf_modes
         .iter()
@@ -2024,7 +2029,7 @@ fn purely_imaginary(w: Complex64, scale: f64) -> bool {
 fn integrate_where_unsettled(
     bp: &BoundaryProblem,
     mut modes: Vec<Mode>,
-    split: bool,
+    second_like: &dyn Fn(Complex64) -> bool,
     tol: f64,
     estimate: &dyn Fn(u32) -> Option<(Complex64, String)>,
 ) -> (Vec<Mode>, Option<String>) {
@@ -2051,7 +2056,7 @@ fn integrate_where_unsettled(
             let near = |w: Complex64| (w - r.omega).norm() <= 1e-8 * r.omega.norm().max(bp.scale);
             let taken = modes.iter().enumerate().any(|(j, o)| j != i && o.root.converged && near(o.root.omega));
             let quadrant = r.omega.im < 0.0 && r.omega.re >= -1e-8 * r.omega.norm();
-            r.converged && quadrant && !taken && !(split && purely_imaginary(r.omega, bp.scale))
+            r.converged && quadrant && !taken && !second_like(r.omega)
         };
         // Last, the barrier's estimate of this overtone, where it is not the seed already.
         let barrier = estimate(m.n).filter(|(w, _)| (w - m.seed.0).norm() > 1e-6 * w.norm());
@@ -2090,6 +2095,7 @@ fn integrate_where_unsettled(
 fn second_family(
     bp: &BoundaryProblem,
     seeds: &[Complex64],
+    families: &Families,
     solve: &dyn Fn(u32, Complex64) -> super::cf::CfRoot,
     opts: &SpectrumOptions,
     check: bool,
@@ -2103,9 +2109,11 @@ fn second_family(
     for (k, s) in seeds.iter().enumerate() {
         let root = solve(k as u32, *s);
         let near = |w: Complex64| (w - root.omega).norm() <= 1e-8 * root.omega.norm().max(bp.scale);
-        if !root.converged || !purely_imaginary(root.omega, bp.scale) || found.iter().any(|w| near(*w)) {
-            words
-                .push(format!("{}i (the global method's value; the continued fraction did not settle on a new purely imaginary root from it)", s.im));
+        if !root.converged || !families.second(root.omega) || found.iter().any(|w| near(*w)) {
+            words.push(format!(
+                "{} (the global method's value; the continued fraction did not settle on a new root of this family from it)",
+                mode_words(*s, bp.scale)
+            ));
             continue;
         }
         found.push(root.omega);
@@ -2123,13 +2131,68 @@ fn second_family(
             "not checked".to_string()
         };
         modes.push(mode);
-        words.push(format!("{}i ({checked})", root.omega.im));
+        words.push(format!("{} ({checked})", mode_words(root.omega, bp.scale)));
     }
+    let kind = if seeds.iter().all(|w| purely_imaginary(*w, bp.scale)) {
+        "purely imaginary"
+    } else {
+        "on or near the imaginary axis and away from the barrier's overtone estimates"
+    };
     let note = format!(
-        "a second family, purely imaginary, is not numbered with the overtones above (the least damped of each family is listed first): {}",
+        "a second family, {kind}, is not numbered with the overtones above (the least damped of each family is listed first): {}",
         words.join(", ")
     );
     (Some(note), modes)
+}
+
+/// A mode in a sentence, every digit kept: its imaginary part alone when
+/// it is purely imaginary.
+fn mode_words(w: Complex64, scale: f64) -> String {
+    if purely_imaginary(w, scale) {
+        format!("{}i", w.im)
+    } else {
+        format!("{}{:+}i", w.re, w.im)
+    }
+}
+
+/// The two families of modes a spectrum between a black hole's horizon and
+/// a cosmological one holds: the barrier's overtones, which its WKB
+/// estimates follow, and a second family set by the far horizon, purely
+/// imaginary for a massless field and near the imaginary axis for a
+/// massive one (common practice; e.g. the de Sitter modes of
+/// Schwarzschild–de Sitter). A value is of the second family when it is
+/// purely imaginary, or when it is farther than a quarter of the local
+/// overtone spacing from every estimate and its real part is below half
+/// that of the estimate nearest in damping.
+struct Families {
+    /// The barrier's estimates for overtones 0, 1, … (lower half-plane), empty without a barrier.
+    estimates: Vec<Complex64>,
+    /// The problem's frequency scale.
+    scale: f64,
+}
+
+impl Families {
+    /// The estimates for overtones 0..=`last` (to the first one missing or
+    /// not decaying).
+    fn new(estimate: &dyn Fn(u32) -> Option<(Complex64, String)>, scale: f64, last: u32) -> Families {
+        let estimates = (0..=last).map_while(|n| estimate(n).map(|(w, _)| w).filter(|w| w.im < 0.0 && w.re.is_finite())).collect();
+        Families { estimates, scale }
+    }
+
+    /// Whether `w` is of the second family.
+    fn second(&self, w: Complex64) -> bool {
+        if purely_imaginary(w, self.scale) {
+            return true;
+        }
+        let e = &self.estimates;
+        if e.len() < 2 {
+            return false;
+        }
+        let Some(k) = (0..e.len()).min_by(|&i, &j| (e[i].im - w.im).abs().total_cmp(&(e[j].im - w.im).abs())) else { return false };
+        let spacing = if k + 1 < e.len() { (e[k + 1] - e[k]).norm() } else { (e[k] - e[k - 1]).norm() };
+        let far = e.iter().all(|x| (x - w).norm() > 0.25 * spacing);
+        far && w.re.abs() < 0.5 * e[k].re.abs()
+    }
 }
 
 /// Modes with no guess seeded by the global spectral method (its
