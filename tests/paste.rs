@@ -453,3 +453,31 @@ fn latex_names_on_the_command_line() {
     assert!(err.contains("'\\ellx' is not a parameter") && err.contains("--at:1:"), "{err}");
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// LaTeX as papers print it, each against a plainer spelling of the same
+/// equation (the same normal form exactly): a tortoise derivative with a
+/// subscripted subscript (`\partial_{r_*}^2`), a function argument written
+/// without brackets ahead of a derivative (`\sin\theta\frac{dS}{d\theta}`,
+/// the spherical Laplacian), and the variable named only inside a cosine
+/// (Mathieu's `y'' + (a - 2q\cos 2x)y = 0`, DLMF 28.2.1).
+#[test]
+fn latex_as_printed_in_papers() {
+    let cases = [
+        (
+            r"\partial_{r_*}^2\psi + (\omega^2 - V)\psi = 0, \quad V = f\frac{2}{r^3}, \quad f = 1-\frac{2}{r}, \quad \frac{dr_*}{dr} = \frac{1}{f}",
+            r"\frac{d^2\psi}{dr_*^2} + (\omega^2 - V)\psi = 0, \quad V = f\frac{2}{r^3}, \quad f = 1-\frac{2}{r}, \quad \frac{dr_*}{dr} = \frac{1}{f}",
+        ),
+        (
+            r"\partial^2_{r_{*}}\psi + (\omega^2 - V)\psi = 0, \quad V = f\frac{2}{r^3}, \quad f = 1-\frac{2}{r}, \quad \frac{dr_*}{dr} = \frac{1}{f}",
+            r"\frac{d^2\psi}{dr_*^2} + (\omega^2 - V)\psi = 0, \quad V = f\frac{2}{r^3}, \quad f = 1-\frac{2}{r}, \quad \frac{dr_*}{dr} = \frac{1}{f}",
+        ),
+        (
+            r"\frac{1}{\sin\theta}\frac{d}{d\theta}\left(\sin\theta\frac{dS}{d\theta}\right) + \left(\lambda - c^2\cos^2\theta\right)S = 0",
+            r"\frac{d^2S}{d\theta^2} + \frac{\cos(\theta)}{\sin(\theta)}\frac{dS}{d\theta} + \left(\lambda - c^2\cos(\theta)^2\right)S = 0",
+        ),
+        (r"y'' + (a - 2q\cos 2x) y = 0", r"y''(x) + (a - 2q\cos(2x)) y = 0"),
+    ];
+    for (printed, plain) in cases {
+        assert_eq!(normal_q(&Input::Latex(printed)), normal_q(&Input::Latex(plain)), "{printed}");
+    }
+}

@@ -1102,6 +1102,43 @@ fn a_massive_field_on_schwarzschild_de_sitter_numbers_the_barrier_overtones_apar
 }
 
 #[test]
+fn regge_wheeler_written_with_infinity_at_a_finite_point() {
+    // The gravitational Regge–Wheeler equation (s = l = 2, M = 1) written in
+    // x = 2M/r (infinity at x = 0) and in u = 1 − 2M/r (infinity at u = 1):
+    // that irregular point is where waves leave, so the domain runs from
+    // the horizon to it, and the modes are Leaver's (Proc. R. Soc. Lond. A
+    // 402 (1985) 285, from memory): 0.37367 − 0.08896i, 0.34671 − 0.27391i,
+    // and overtone 8 at the algebraically special −2i exactly (M = 1).
+    let dir = std::env::temp_dir().join(format!("canonode-finite-infinity-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let in_x = dir.join("rw_x.ode");
+    std::fs::write(&in_x, "var x\nparam lval, sig\nlet h = x^2*(1 - x)/2\node h*(h*Z')' + (sig^2 - (1 - x)*(lval*(lval+1)*x^2/4 - 3*x^3/4))*Z = 0\n")
+        .unwrap();
+    let in_u = dir.join("rw_u.ode");
+    std::fs::write(
+        &in_u,
+        "var u\nparam M, l, w\nlet g = u*(1 - u)^2/(2*M)\node g*(g*Z')' + (w^2 - u*(u - 1)^2*(l*(l + 1) + 3*u - 3)/(4*M^2))*Z = 0\n",
+    )
+    .unwrap();
+    for (path, at) in [(in_x.to_str().unwrap(), "lval=2"), (in_u.to_str().unwrap(), "M=1,l=2")] {
+        let (v, ms) = modes_of(path, at, &["--overtones", "0..8"]);
+        assert!(
+            v["variable_change"]["note"].as_str().unwrap_or("").contains("irregular singular point of rank 1"),
+            "{path}: {}",
+            v["variable_change"]
+        );
+        for (n, want) in [(0, (0.37367, -0.08896)), (1, (0.34671, -0.27391))] {
+            let (re, im) = omega(&ms[n]);
+            assert!((re - want.0).abs() < 1e-5 && (im - want.1).abs() < 1e-5, "{path} n={n}: {re} {im}");
+            assert!(ms[n]["check"]["agreement"].as_f64().unwrap() < 1e-8, "{path} n={n}: {}", ms[n]);
+        }
+        let (re, im) = omega(&ms[8]);
+        assert!(re.abs() < 1e-12 && (im + 2.0).abs() < 1e-12, "{path}: overtone 8 {re} {im}");
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
 fn black_brane_modes_between_the_boundary_and_the_horizon() {
     // The domain runs from the anti-de Sitter boundary u = 0 (normalisable)
     // up to the horizon u = 1 (ingoing): the numeric series between the

@@ -37,6 +37,9 @@ pub struct Chart {
     pub map: String,
     /// g in the written variable's field.
     g: RatFunc,
+    /// Why the spectrum is solved in another variable than the written one
+    /// when no change was asked for ([`irregular_to_infinity`]).
+    pub reason: Option<String>,
 }
 
 /// Where a physical end lies in the variable the equation is written in.
@@ -72,6 +75,8 @@ pub struct ChangeReport {
     /// The ends of the domain (left, right in the physical variable); empty
     /// when the problem has no two ends (a periodic one).
     pub ends: Vec<ChartEnd>,
+    /// Why the variable was changed when no change was asked for.
+    pub reason: Option<String>,
 }
 
 /// The equation in its physical variable and the chart back to the written
@@ -107,8 +112,96 @@ pub fn physical(red: &Reduction) -> Result<Option<(Reduction, Chart)>> {
         family: None,
     };
     let map = format!("{} = {}", change.old_var, ratfunc_text(&change.g, red.field.names(), Style::Text));
-    let chart = Chart { physical: change.old_var.clone(), written: change.new_var.clone(), map, g: change.g.clone() };
+    let chart = Chart { physical: change.old_var.clone(), written: change.new_var.clone(), map, g: change.g.clone(), reason: None };
     Ok(Some((phys, chart)))
+}
+
+/// An equation written in a variable that puts spatial infinity at a
+/// finite point (x = 2M/r, u = 1 − 2M/r): a real irregular singular point
+/// x₀ of rank 1 (pole order 4 of Q, a root of a linear factor) while x = ∞
+/// is not irregular. The spectrum's ends and their roles are decided where
+/// that point is infinity: in t with x = x₀ + s/t, s = ±1 the side of x₀
+/// on which the nearest other real singular point lies at the values
+/// (so that it has t > 0). The equation in t and the chart back to x;
+/// `None` when the equation has no such point (or its variable was
+/// changed or mapped already).
+pub fn irregular_to_infinity(red: &Reduction, values: &[GRat], freq: usize) -> Result<Option<(Reduction, Chart)>> {
+    if red.change.is_some() || red.map.is_some() {
+        return Ok(None);
+    }
+    let (field, q) = (&red.field, &red.normal.q);
+    // At x = ∞ Q ~ x^d: regular (or ordinary) for d ≤ −2.
+    let d = i64::from(q.num().degree(0)) - i64::from(q.den_expanded().degree(0));
+    if d > -2 {
+        return Ok(None);
+    }
+    let quartic: Vec<&crate::algebra::Poly> =
+        q.den_factors().iter().filter(|(f, e)| *e == 4 && f.poly().degree(0) == 1).map(|(f, _)| f.poly()).collect();
+    let [linear] = quartic.as_slice() else { return Ok(None) };
+    // x₀ = −b/a for the factor a·x + b (a, b free of x).
+    let (mut a, mut b) = (Vec::new(), Vec::new());
+    for (m, c) in linear.terms() {
+        if m.exp(0) == 1 {
+            a.push((m.with_exp(0, 0), c.clone()));
+        } else {
+            b.push((*m, c.clone()));
+        }
+    }
+    let (a, b) = (crate::algebra::Poly::from_terms(a), crate::algebra::Poly::from_terms(b));
+    let x0 = field.div(&field.neg(&RatFunc::from_poly(b)), &RatFunc::from_poly(a))?;
+    let Some(at) = x0.eval(values).map(|v| v.to_f64()) else { return Ok(None) };
+    if at.1 != 0.0 || !at.0.is_finite() {
+        return Ok(None);
+    }
+    let x0_value = at.0;
+    // The nearest other real singular point decides the side.
+    let mut nearest: Option<f64> = None;
+    for (f, _) in q.den_factors() {
+        if std::ptr::eq(f.poly(), *linear) {
+            continue;
+        }
+        let (c, _) = numeric_coefficients(f.poly(), values, freq);
+        if c.len() < 2 {
+            continue;
+        }
+        let Ok(roots) = crate::analysis::numeric::try_roots(&c) else { continue };
+        for r in roots.into_iter().filter(|r| is_real(*r) && (r.re - x0_value).abs() > 1e-9 * x0_value.abs().max(1.0)) {
+            if nearest.is_none_or(|n| (r.re - x0_value).abs() < (n - x0_value).abs()) {
+                nearest = Some(r.re);
+            }
+        }
+    }
+    let sign: i64 = if nearest.is_some_and(|n| n < x0_value) { -1 } else { 1 };
+    let names = field.names();
+    let Some(t) = ["t", "s", "tau", "t_1"].into_iter().find(|n| !names.iter().any(|m| m == n)) else { return Ok(None) };
+    let mut new_names = vec![t.to_string()];
+    new_names.extend(names[1..].iter().cloned());
+    let new_field = Field::new(new_names.clone(), field.limits().clone())?;
+    let s = RatFunc::rat(&crate::algebra::Rat::int(sign.into()));
+    // x = x₀ + s/t in t's field; t = s/(x − x₀) in x's.
+    let g = new_field.add(&x0, &new_field.mul(&s, &new_field.inv(&new_field.var(0))?)?)?;
+    let back = field.mul(&s, &field.inv(&field.sub(&field.var(0), &x0)?)?)?;
+    let (p, q) = crate::ode::change_variable(&new_field, &red.p, &red.q, &g)?;
+    let normal = crate::ode::normal_form(&new_field, &p, &q)?;
+    let ode = &red.ode;
+    let copy = crate::ode::LinearOde {
+        field: Field::new(new_names, field.limits().clone())?,
+        var: t.to_string(),
+        unknown: ode.unknown.clone(),
+        params: ode.params.clone(),
+        inferred: ode.inferred.clone(),
+        p: p.clone(),
+        q: q.clone(),
+        lets: Vec::new(),
+    };
+    let moved = Reduction { ode: copy, field: new_field, var: t.to_string(), p, q, normal, change: None, schrodinger: None, map: None, family: None };
+    let x = &red.var;
+    let x0_text = ratfunc_text(&x0, names, Style::Text);
+    let map = format!("{t} = {}", ratfunc_text(&back, names, Style::Text));
+    let reason = format!(
+        "{x} = {x0_text} is an irregular singular point of rank 1, spatial infinity brought to a finite point (as x = 0 is for x = 2M/r), and {x} = ∞ is not: the spectrum is solved in {t}, where that point is at infinity"
+    );
+    Ok(Some((moved, Chart { physical: t.to_string(), written: x.clone(), map, g: back, reason: Some(reason) })))
 }
 
 /// A polynomial's coefficients in the variable (low degree first) at the
@@ -234,7 +327,7 @@ impl Chart {
     /// The report's account of the change for the physical ends `ends`.
     pub fn report(&self, ends: &[Location], values: &[GRat], freq: usize) -> ChangeReport {
         let ends = ends.iter().map(|&e| ChartEnd { physical: e, written: self.written_place(e, values, freq) }).collect();
-        ChangeReport { physical: self.physical.clone(), written: self.written.clone(), map: self.map.clone(), ends }
+        ChangeReport { physical: self.physical.clone(), written: self.written.clone(), map: self.map.clone(), ends, reason: self.reason.clone() }
     }
 }
 
@@ -242,7 +335,8 @@ impl ChangeReport {
     /// The account in one sentence, as printed.
     pub fn sentence(&self) -> String {
         let (r, t) = (&self.physical, &self.written);
-        let mut s = format!(
+        let mut s = self.reason.as_ref().map(|r| format!("{r}: ")).unwrap_or_default();
+        s += &format!(
             "the equation is written in {t} with {}; the ends, their roles (outer horizon, infinity, ingoing, outgoing, centre) and the domain are decided in {r}, the physical variable, and the spectrum is solved there (it does not depend on the variable)",
             self.map
         );

@@ -700,6 +700,11 @@ pub fn spectrum(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport
         if let Some((phys, chart)) = super::physical::physical(red)? {
             return physical_spectrum(&phys, &chart, req);
         }
+        let (freq, _) = frequency(red, req)?;
+        let point = point(red, req, freq)?;
+        if let Some((moved, chart)) = super::physical::irregular_to_infinity(red, &point, freq)? {
+            return physical_spectrum(&moved, &chart, req);
+        }
     }
     spectrum_in(red, req)
 }

@@ -725,8 +725,32 @@ impl<'a> Reader<'a> {
         };
         let Some(t) = self.peek() else { return Err(syntax("expected a subscript after '_'", self.end_span())) };
         if t.t == T::Open('{') {
-            let src = self.src;
-            return self.braced_word(|t| piece(t, src), "a subscript is part of a name: letters, digits, +, - or *", "an empty subscript");
+            // A braced subscript may hold a subscripted name itself
+            // (`\partial_{r_*}`, `\partial_{r_{*}}`): its `_` kept, the
+            // inner braces dropped, so that it names what `r_*` names.
+            let open = t.span;
+            let (mut k, mut depth, mut text) = (self.pos + 1, 0usize, String::new());
+            let bad = "a subscript is part of a name: letters, digits, +, - or *";
+            loop {
+                let Some(t) = self.toks.get(k) else { return Err(syntax("unbalanced braces: '{' is never closed", open)) };
+                match &t.t {
+                    T::Close('}') if depth == 0 => break,
+                    T::Close('}') => depth -= 1,
+                    T::Open('{') if !text.is_empty() => depth += 1,
+                    T::Under if !text.is_empty() && !text.ends_with('_') => text.push('_'),
+                    _ => match piece(t, self.src) {
+                        Some(p) => text.push_str(&p),
+                        None => return Err(syntax(bad, t.span)),
+                    },
+                }
+                k += 1;
+            }
+            let close = self.toks[k].span;
+            if text.is_empty() || text.ends_with('_') || depth != 0 {
+                return Err(syntax(if text.is_empty() { "an empty subscript" } else { bad }, open.to(close)));
+            }
+            self.pos = k + 1;
+            return Ok((text, close));
         }
         match piece(t, self.src) {
             Some(p) => {
@@ -862,13 +886,42 @@ impl<'a> Reader<'a> {
         if !self.starts_factor() {
             return Err(syntax(format!("\\{} needs an argument", f.name()), span));
         }
-        let arg = if self.peek().map(|t| &t.t) == Some(&T::Open('(')) { self.atom()? } else { self.product()? };
+        let arg = if self.peek().map(|t| &t.t) == Some(&T::Open('(')) { self.atom()? } else { self.function_argument()? };
         let s = span.to(arg.expr.span);
         let call = self.node(ExprKind::Call(f, Box::new(arg.expr)), s, arg.height)?;
         match power {
             Some(p) => self.binary(BinOp::Pow, call, p),
             None => Ok(call),
         }
+    }
+
+    /// The argument of a function written without parentheses: its first
+    /// factor, then the numbers, letters and Greek letters juxtaposed to it
+    /// (`\sin 2\theta`, `\cos\omega t`, `\sinh kx`), as physicists read
+    /// it. It stops at anything else — a fraction, a derivative, another
+    /// function, a bracket — and before a letter that carries a prime or an
+    /// argument of its own (`\sin\theta\,S'`, `\sin\theta\frac{dS}{d\theta}`,
+    /// `\sin\theta\cos\theta` are products).
+    fn function_argument(&mut self) -> Result<Node> {
+        let first_at = self.pos;
+        let mut acc = self.factor()?;
+        loop {
+            let simple = match self.peek().map(|t| &t.t) {
+                Some(T::Number | T::Letter(_)) => true,
+                Some(T::Cmd(c)) => GREEK_LETTERS.contains(&c.as_str()) || matches!(c.as_str(), "ell" | "hbar"),
+                _ => false,
+            };
+            // A letter with a prime or a bracket after it is an unknown or
+            // a function of its own, not part of the argument.
+            let applied = matches!(self.toks.get(self.pos + 1).map(|t| &t.t), Some(T::Prime(_) | T::Open('(')));
+            if !simple || applied {
+                break;
+            }
+            let rhs = self.factor()?;
+            acc = self.binary(BinOp::Mul, acc, rhs)?;
+        }
+        self.check_spelled(first_at, self.pos)?;
+        Ok(acc)
     }
 
     /// The letters of `\mathrm{…}` and its kin (or one letter after `\mathrm `).
@@ -1444,8 +1497,35 @@ fn variable_from_arguments(
             }
         });
     }
-    match arg.or(def_arg) {
-        Some(a) => Ok(a),
+    if let Some(a) = arg.or(def_arg) {
+        return Ok(a);
+    }
+    // Else the name inside the transcendental functions' arguments
+    // (`\cos 2x`, `\cosh^2(\alpha x)`): the only one, or the only
+    // conventional variable name among several.
+    let mut inside: Vec<Ident> = Vec::new();
+    for side in [&ode.lhs, &ode.rhs].into_iter().chain(defs.iter().flat_map(|(_, r)| [&r.lhs, &r.rhs])) {
+        walk(side, &mut |e| {
+            if let ExprKind::Call(_, a) = &e.kind {
+                walk(a, &mut |x| {
+                    if let ExprKind::Name(n) = &x.kind {
+                        if !def_names.contains(n) && !inside.iter().any(|i| i.name == *n) {
+                            inside.push(Ident { name: n.clone(), span: x.span });
+                        }
+                    }
+                });
+            }
+        });
+    }
+    const CONVENTIONAL: [&str; 10] = ["x", "r", "z", "t", "u", "y", "theta", "rho", "xi", "eta"];
+    let conventional: Vec<&Ident> = inside.iter().filter(|i| CONVENTIONAL.contains(&i.name.as_str())).collect();
+    let chosen = match (inside.as_slice(), conventional.as_slice()) {
+        ([only], _) => Some(only),
+        (_, [only]) => Some(*only),
+        _ => None,
+    };
+    match chosen {
+        Some(v) => Ok(v.clone()),
         None => Err(syntax("cannot tell the variable: no derivative names it", ode.span)
             .note("write the unknown with its argument, e.g. R''(r), or use Leibniz derivatives, \\frac{d^2R}{dr^2}")),
     }
