@@ -215,6 +215,39 @@ fn morse_well_as_written() {
     }
 }
 
+/// Asked for more Morse levels than exist (D = 9, a = 1: three, E_n =
+/// −(√D − a(n + ½))², common practice), the three come in order, each once,
+/// and the fourth is said not to exist rather than the others renumbered.
+#[test]
+fn morse_levels_asked_beyond_the_last_one() {
+    let out = canonode(&[
+        "spectrum",
+        "--boundary",
+        "bound",
+        "--frequency",
+        "En",
+        "--at",
+        "D=9,a=1",
+        "--overtones",
+        "0..3",
+        "--format",
+        "json",
+        "-e",
+        "-phi'' + D*(exp(-2*a*x) - 2*exp(-a*x))*phi = En*phi",
+        "--var",
+        "x",
+    ]);
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let modes = v["modes"].as_array().unwrap();
+    for (n, m) in modes.iter().take(3).enumerate() {
+        let e = m["omega"][0].as_f64().unwrap_or(f64::NAN);
+        let want = -(3.0 - n as f64 - 0.5).powi(2);
+        assert!((e - want).abs() < 1e-8, "n={n}: {e} vs {want}: {v}");
+    }
+    assert_eq!(modes[3]["converged"], false, "{v}");
+}
+
 /// Mathieu's equation as DLMF 28.2.1 prints it becomes, by ζ = e^{2ix}, the
 /// sample in ζ exactly (samples/mathieu_exponential.ode); the class is the same.
 #[test]

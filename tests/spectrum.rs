@@ -1139,6 +1139,47 @@ fn regge_wheeler_written_with_infinity_at_a_finite_point() {
 }
 
 #[test]
+fn schwarzschild_de_sitter_near_the_nariai_limit_is_not_left_to_a_series_that_lost_its_digits() {
+    // 9ΛM² = 0.999 (Λ = 0.111, M = 1), l = 2: the two horizons nearly
+    // coincide and the numeric series' coefficients at its ends keep only
+    // about 8 digits (their zeros there are undecided), which once gave a
+    // continued-fraction root 2.7e-5 off with a small change on doubling.
+    // The series is refused with the reason and the mode is direct
+    // integration's: 0.0145939126692 − 0.0030431846183i by an independent
+    // Frobenius-series matching at 30 digits in mpmath (written for this
+    // check, not a published value), and within 2 % of the Pöschl–Teller
+    // limit κ(√(l(l+1) − 1/4) − i/2), κ the black hole's surface gravity
+    // (V. Cardoso & J. P. S. Lemos, Phys. Rev. D 67 (2003) 084020, from memory).
+    let (v, ms) = modes_of("samples/schwarzschild_de_sitter_scalar.ode", "M=1,Lambda=111/1000,l=2", &[]);
+    assert_eq!(ms[0]["method"], "integrate", "{}", ms[0]);
+    assert!(v["notes"].to_string().contains("lose too many digits"), "{}", v["notes"]);
+    let (re, im) = omega(&ms[0]);
+    let want = (0.0145939126692f64, -0.0030431846183f64);
+    assert!((re - want.0).abs() < 1e-8 * want.0 && (im - want.1).abs() < 1e-8 * want.0, "{re} {im}");
+    let rh = v["ends"][0]["at"].as_f64().unwrap();
+    let kappa = (2.0 / (rh * rh) - 2.0 * 0.111 * rh / 3.0) / 2.0;
+    let (pr, pi) = (kappa * (6.0f64 - 0.25).sqrt(), -0.5 * kappa);
+    assert!((re - pr).abs() < 0.02 * pr && (im - pi).abs() < 0.02 * pi.abs(), "{re} {im} against {pr} {pi}");
+}
+
+#[test]
+fn bound_states_of_an_angular_equation_in_theta_are_not_posed_on_the_unit_circle() {
+    // The prolate spheroidal equation in the polar angle (A&S 21.6.2 in
+    // η = cos θ, written here in θ): ζ = e^(2iθ) takes real θ to the unit
+    // circle, so a real interval of ζ is no interval of θ. Refused with the
+    // two ways out, not solved on a meaningless interval.
+    let path = std::env::temp_dir().join(format!("canonode_spheroidal_theta_{}.tex", std::process::id()));
+    std::fs::write(
+        &path,
+        r"\frac{1}{\sin\theta}\frac{d}{d\theta}\left(\sin\theta\frac{dS}{d\theta}\right) + \left(\lambda - c^2\cos^2\theta - \frac{m^2}{\sin^2\theta}\right)S = 0",
+    )
+    .unwrap();
+    let (_, code, err) = run(&["spectrum", path.to_str().unwrap(), "--at", "c=1,m=0", "--boundary", "bound"]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("unit circle") && err.contains("--boundary periodic") && err.contains("cos theta"), "{err}");
+}
+
+#[test]
 fn black_brane_modes_between_the_boundary_and_the_horizon() {
     // The domain runs from the anti-de Sitter boundary u = 0 (normalisable)
     // up to the horizon u = 1 (ingoing): the numeric series between the

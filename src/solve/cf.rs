@@ -499,7 +499,9 @@ impl CfRoot {
 /// its zero.
 pub fn inversion(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> Option<(Complex64, Complex64)> {
     if rec.terms.len() > 3 {
-        return inversion_reduced(rec, w, k, depth);
+        // A row k whose coefficients all vanish (a recurrence whose first
+        // equation is trivial) gives 0 at every ω: no root there.
+        return inversion_reduced(rec, w, k, depth).filter(|(f, scale)| !(f.norm() == 0.0 && scale.norm() == 0.0));
     }
     if rec.terms.len() != 3 {
         return None;

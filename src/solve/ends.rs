@@ -552,7 +552,17 @@ fn exponent_gap(bp: &BoundaryProblem, z: f64, w: Complex64) -> Option<Complex64>
 /// only as a limit.
 pub fn resonant_horizon(bp: &BoundaryProblem, w: Complex64, near: f64) -> Option<(f64, i64)> {
     bp.ends.iter().find_map(|end| {
-        let (Location::At(z), Condition::IntoHorizon | Condition::OutOfHorizon) = (end.location, end.condition) else { return None };
+        let Location::At(z) = end.location else { return None };
+        // A horizon's condition, or a real eigenvalue problem's fall-off at
+        // an end whose exponents move with the eigenvalue (±√(−E)).
+        let moving = match end.condition {
+            Condition::IntoHorizon | Condition::OutOfHorizon => true,
+            Condition::Normalisable | Condition::SlowerFallOff => end.nature == Nature::Horizon,
+            Condition::Outgoing | Condition::Decaying | Condition::Mixed(_) => false,
+        };
+        if !moving {
+            return None;
+        }
         let d = exponent_gap(bp, z, w)?;
         let n = d.re.round();
         (n != 0.0 && (d - n).norm() <= near).then_some((z, n as i64))

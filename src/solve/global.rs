@@ -443,8 +443,24 @@ pub(crate) fn factored(bp: &BoundaryProblem, f: &Factors, c: Complex64) -> Resul
     Ok([p2, p1, p0])
 }
 
+/// Below this size (relative to the coefficients') the three coefficients
+/// at an end neither vanish (`VANISH`) nor are clearly nonzero: rounding in
+/// the numeric data (nearly coincident horizons, whose exponents grow like
+/// 1/κ) has left the equation there undecided. Where they vanish they do so
+/// to 1e-13 or better on the problems tried, and where they do not their
+/// values are 1e-4 (Schwarzschild–de Sitter at Λ = 1e-4, scales 100 apart)
+/// to 2 of their size; near the Nariai limit 9ΛM² → 1 the rounding reaches
+/// 1e-8 at 9ΛM² = 0.999 (caught here) and 1e-4 at 0.9999 (not: there the
+/// continued fraction's first row is found trivial and it says so).
+const UNDECIDED: f64 = 1e-6;
+
+/// At or below this size (relative) the coefficients vanish at an end.
+const VANISH: f64 = 1e-9;
+
 /// Divides out of the three coefficients the factors (s − s₀) they share at
-/// each of `points`, so that the equation stays non-trivial there.
+/// each of `points`, so that the equation stays non-trivial there; an error
+/// where their values at a point lie between [`VANISH`] and [`UNDECIDED`]
+/// of their size (the order of the zero is then not known).
 pub(crate) fn divide_common(c: &mut [Bi; 3], points: &[f64]) -> Result<()> {
     for &s0 in points {
         for _ in 0..64 {
@@ -452,8 +468,13 @@ pub(crate) fn divide_common(c: &mut [Bi; 3], points: &[f64]) -> Result<()> {
             if size == 0.0 {
                 return Err(usage("the equation for the remainder vanishes identically"));
             }
-            let vanish = c.iter().all(|p| p.at(s0).iter().all(|v| v.norm() <= 1e-9 * size));
-            if !vanish {
+            let at = c.iter().flat_map(|p| p.at(s0)).map(|v| v.norm()).fold(0.0, f64::max) / size;
+            if at > VANISH && at <= UNDECIDED {
+                return Err(usage(format!(
+                    "the equation's coefficients at an end are {at:.1e} of their size, neither zero nor clearly not: the numeric data lose too many digits there (nearly coincident horizons?)"
+                )));
+            }
+            if at > VANISH {
                 break;
             }
             let next: Vec<Bi> = c.iter().map(|p| p.divide(s0).0).collect();

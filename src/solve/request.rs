@@ -327,6 +327,18 @@ fn bound_route(
     };
     if super::collocation::linear_in(&red.field, &red.normal.q, freq)? || req.method == Method::Collocation {
         let (b, f) = bound_states(red, req, opts)?;
+        // The lowest states, each confirmed by shooting, with none found
+        // above the first that failed: where fewer bound states exist than
+        // were asked for, these are all there are, and they stand unless the
+        // problem between the ends below finds more.
+        let found = b.states.iter().take_while(|st| st.converged).count();
+        let confirmed = if b.states[found..].iter().all(|st| !st.converged)
+            && b.checks.iter().take(found).all(|c| matches!(c, Some(super::shoot::BoundCheck::Agrees(_))))
+        {
+            found
+        } else {
+            0
+        };
         if req.method == Method::Collocation || b.states.iter().all(|st| st.converged) {
             let notes = why.into_iter().chain(b.notes.iter().cloned()).collect();
             return Ok((Body::Bound(BoundReport { notes, ..b }), f));
@@ -356,6 +368,10 @@ fn bound_route(
         };
         let note = with_why("collocation with ψ = 0 at the ends did not converge on every state asked for: the interval is solved as a problem between its ends (the regular exponent at each), by direct integration".to_string());
         let report = between_ends_as(bp, Problem::Bound, opts, Some(note));
+        if report.modes.iter().filter(|m| m.root.converged).count() < confirmed {
+            let notes = why.into_iter().chain(b.notes.iter().cloned()).collect();
+            return Ok((Body::Bound(BoundReport { notes, ..b }), f));
+        }
         let f = ends_functions(req, &report);
         return Ok((Body::Ends(report), f));
     }
@@ -814,7 +830,8 @@ fn spectrum_in(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport>
                 report.body = again.body;
                 report.mode_functions = again.mode_functions;
                 let words = format!(
-                    "the seeds are the closed form's exact values, its families together, numbered by |Im ω| (the numeric search from its own seeds {}); each is still polished and checked numerically",
+                    "the seeds are the closed form's exact values, its families together, numbered {} (the numeric search from its own seeds {}); each is still polished and checked numerically",
+                    if report.problem == Problem::Bound { "upward" } else { "by |Im ω|" },
                     if none_found { "found none of them" } else { "passed over some of them, numbered one out of its place or did not converge on one" }
                 );
                 match &mut report.body {
@@ -896,22 +913,36 @@ fn passed_over_count(body: &Body, closed: &ClosedSection) -> usize {
     values.iter().flatten().filter(|(_, w)| passed_over(*w, &numeric).is_some()).count()
 }
 
-/// The closed form's values in the table's order (quasinormal modes with
-/// no guess): every family's values for n up to the last overtone asked
-/// for, in the right half-plane, merged and ordered by |Im ω|, mirror
-/// duplicates once. `None` when there is no closed form to compare with.
+/// The closed form's values in the table's order (with no guess): every
+/// family's values for n up to the last overtone asked for, merged —
+/// quasinormal modes in the right half-plane ordered by |Im ω|, mirror
+/// duplicates once; real eigenvalues ascending. `None` when there is no closed form to compare with.
 fn merged_exact(report: &SpectrumReport, req: &SpectrumRequest, point: &[GRat]) -> Option<Vec<Complex64>> {
     let ClosedSection::Found { form, .. } = &report.closed else { return None };
     if req.guess.is_some() || !matches!(report.body, Body::Ends(_) | Body::Recurrence(_)) {
         return None;
     }
+    // Real eigenvalues (bound states) in ascending order; else quasinormal
+    // modes in the lower right quadrant by damping.
+    let real = report.problem == Problem::Bound;
     let mut all: Vec<Complex64> = form
         .families
         .iter()
         .flat_map(|f| (0..=req.overtones.1).filter_map(|n| form.value(f, point, n)))
-        .filter(|w| w.re >= 0.0 && w.im < 0.0 && w.re.is_finite() && w.im.is_finite())
+        .filter(|w| w.re.is_finite() && w.im.is_finite())
+        .filter(|w| if real { w.im.abs() <= 1e-12 * w.re.abs().max(1.0) } else { w.re >= 0.0 && w.im < 0.0 })
         .collect();
-    all.sort_by(|a, b| a.im.abs().total_cmp(&b.im.abs()).then(a.re.total_cmp(&b.re)));
+    if real {
+        // A spectrum symmetric under ω → −ω (ω² alone enters) is numbered
+        // from its non-negative values, as the numeric table is.
+        let tol = |w: &Complex64| CONFIRMED * w.norm().max(1.0);
+        if all.iter().all(|w| all.iter().any(|v| (v + w).norm() <= tol(w))) {
+            all.retain(|w| w.re >= -tol(w));
+        }
+        all.sort_by(|a, b| a.re.total_cmp(&b.re));
+    } else {
+        all.sort_by(|a, b| a.im.abs().total_cmp(&b.im.abs()).then(a.re.total_cmp(&b.re)));
+    }
     all.dedup_by(|a, b| (*a - *b).norm() <= CONFIRMED * b.norm().max(1.0));
     Some(all)
 }
@@ -1372,6 +1403,21 @@ fn numeric_route(red: &Reduction, req: &SpectrumRequest, seeds: Vec<Complex64>) 
         && req.couple.is_none()
         && req.guess.is_none()
         && super::collocation::linear_in(&red.field, &red.normal.q, freq)?;
+    if req.problem == Problem::Bound {
+        // ζ = e^(ikx) takes the real x-axis to the unit circle: an interval
+        // of the real ζ-axis is no interval of x.
+        if let Some(map) = red.map.as_ref().filter(|m| m.form == crate::ode::MapForm::Exp) {
+            if map.c.as_constant().is_some_and(|k| k.re.is_zero() && !k.im.is_zero()) {
+                return Err(usage(format!(
+                    "the coefficients are trigonometric in {x}, and {z} = e^(i·k·{x}) takes real {x} to the unit circle |{z}| = 1, not to an interval of real {z}: bound states on an interval of {x} are not posed in {z}. For solutions periodic in {x} give {opt_boundary} periodic; for an interval between two zeros of sin {x} (an angular equation in θ), write the equation in cos {x} (η = cos θ), or name a half-angle map with {opt_map}",
+                    x = map.old_var,
+                    z = map.new_var,
+                    opt_boundary = RequestInput::Boundary.mention(),
+                    opt_map = RequestInput::Map.mention()
+                )));
+            }
+        }
+    }
     if (req.problem == Problem::Bound || as_bound) && req.ends.is_none() {
         let (body, f) = bound_route(&red, req, &opts, &point, freq, as_bound)?;
         let mut n = done(body, f, None);
