@@ -903,6 +903,25 @@ fn a_missing_spectral_parameter_is_said_with_the_parameters_left_open() {
 }
 
 #[test]
+fn btz_in_the_square_of_the_radius_terminates_at_every_overtone() {
+    // BTZ written in z = r² (horizon z = r₊², L = 1): the numeric series
+    // between the horizon and the boundary has a two-term recurrence, and
+    // each mode ends it: ω = k − 2i r₊(n + 1) (Birmingham, Sachs &
+    // Solodukhin, Phys. Rev. Lett. 88 (2002) 151301), here r₊ = 3/2, k = 2,
+    // n = 0…4, high overtones included.
+    let path = std::env::temp_dir().join(format!("canonode_btz_z_{}.ode", std::process::id()));
+    std::fs::write(&path, "var z\nparam a, kk, E\node 4*(z*(z - a^2)*R')' + (E^2/(z - a^2) - kk^2/z)*R = 0\n").unwrap();
+    let (_, ms) = modes_of(path.to_str().unwrap(), "a=3/2,kk=2", &["--overtones", "0..4"]);
+    for (n, m) in ms.iter().enumerate() {
+        assert_eq!(m["method"], "cf", "n={n}: {m}");
+        let (re, im) = omega(m);
+        let want_im = -3.0 * (n as f64 + 1.0);
+        assert!((re - 2.0).abs() < 1e-12 * want_im.abs() && (im - want_im).abs() < 1e-12 * want_im.abs(), "n={n}: {re} {im}");
+        assert!(m["evidence"]["residual"].as_f64().unwrap() < 1e-12, "n={n}: {m}");
+    }
+}
+
+#[test]
 fn btz_modes_at_zero_momentum_sit_at_resonances_of_the_horizon_exponents() {
     // The same formula at k = 0: ω = −2i r₊(n + 1), where the horizon's
     // exponents ±iω/(2r₊) differ by the integer 2(n + 1). There a mode is a

@@ -548,6 +548,11 @@ pub fn inversion(rec: &NumRecurrence, w: Complex64, k: usize, depth: usize) -> O
     let kf = k as f64;
     let bk = poly_n(&t.b, kf);
     let f = bk + poly_n(&t.a, kf) * r + poly_n(&t.g, kf) * inv_prev;
+    // A two-term recurrence (γ ≡ 0): f is β_k itself, measured against α_k
+    // (the residual is then a_{k+1}/a_k, zero where the series ends).
+    if t.g.iter().all(|x| x.norm() == 0.0) {
+        return Some((f, poly_n(&t.a, kf)));
+    }
     Some((f, bk))
 }
 
@@ -838,6 +843,12 @@ const NEIGHBOUR_RESIDUAL: f64 = 1e-6;
 /// there (a zero denominator) says nothing. The inversions are taken at
 /// `depth`.
 fn spurious(rec: &NumRecurrence, r: &CfRoot, depth: usize) -> Option<String> {
+    // A two-term recurrence (its third term zero): the k-th inversion is
+    // β_k, whose roots end the series at degree k, and its neighbours' are
+    // other degrees' roots.
+    if rec.terms.len() == 3 && rec.terms[2].c.iter().all(|row| row.iter().all(|x| x.norm() == 0.0)) {
+        return None;
+    }
     let k = r.inversion;
     let others = match k.checked_sub(1) {
         Some(below) => [below, k + 2],

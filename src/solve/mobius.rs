@@ -235,6 +235,17 @@ pub fn series(bp: &BoundaryProblem, var: &str) -> Result<MobiusSeries> {
         };
         recurrence.crowding = Some(Crowding { radius, gap });
     }
+    if recurrence.terms.len() == 2 && bp.ends[1].location == Location::Infinity {
+        // A two-term recurrence: the series converges to the far end's
+        // wanted behaviour only where it terminates, a_{N+1} = 0, i.e.
+        // β_N(ω) = 0. A zero third term makes the k-th inversion exactly
+        // β_k, whose roots are those of the series ending at degree k.
+        // (Between two finite ends the caller takes the exact recurrence
+        // about a horizon instead, which solves the terminating condition
+        // exactly.)
+        let nw = recurrence.terms.iter().flat_map(|t| t.c.iter().map(|r| r.len())).max().unwrap_or(1);
+        recurrence.terms.push(super::cf::NPoly { c: vec![vec![ZERO; nw]] });
+    }
     if recurrence.terms.len() < 3 {
         return Err(usage(format!("the series' recurrence has {} terms: no continued fraction", recurrence.terms.len())));
     }
