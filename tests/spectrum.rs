@@ -1182,20 +1182,48 @@ fn schwarzschild_de_sitter_near_the_nariai_limit_is_not_left_to_a_series_that_lo
 }
 
 #[test]
-fn bound_states_of_an_angular_equation_in_theta_are_not_posed_on_the_unit_circle() {
-    // The prolate spheroidal equation in the polar angle (A&S 21.6.2 in
-    // η = cos θ, written here in θ): ζ = e^(2iθ) takes real θ to the unit
-    // circle, so a real interval of ζ is no interval of θ. Refused with the
-    // two ways out, not solved on a meaningless interval.
-    let path = std::env::temp_dir().join(format!("canonode_spheroidal_theta_{}.tex", std::process::id()));
+fn angular_equations_written_in_the_polar_angle() {
+    // Written in θ, an angular equation's coefficients have poles at θ = 0
+    // and π (1/sin θ): the half-angle map u = tan(θ/2) takes (0, π) onto
+    // (0, ∞) once (u = tan θ would fold it at θ = π/2, losing every state
+    // even about the equator). Legendre: λ = l(l + 1), l ≥ |m| (exact);
+    // prolate spheroidal λ₀₀(c = 1) ≈ 0.319000 and λ₁₁(c = 1) ≈ 2.195548
+    // (Abramowitz & Stegun table 21.1, from memory).
+    let dir = std::env::temp_dir().join(format!("canonode-polar-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let legendre = dir.join("legendre_theta.tex");
+    std::fs::write(&legendre, r"\sin\theta\,\frac{d}{d\theta}\left(\sin\theta\,\frac{dS}{d\theta}\right) + (\lambda\sin^2\theta - m^2)S = 0")
+        .unwrap();
+    for m in [0u32, 1] {
+        let (v, ms) = modes_of(legendre.to_str().unwrap(), &format!("m={m}"), &["--boundary", "bound", "--overtones", "0..3"]);
+        for (k, mode) in ms.iter().enumerate() {
+            let l = f64::from(m) + k as f64;
+            let (re, _) = omega(mode);
+            assert!((re - l * (l + 1.0)).abs() < 1e-8 * (1.0 + l * l), "m={m} k={k}: {re}: {v}");
+        }
+    }
+    let spheroidal = dir.join("spheroidal_theta.tex");
     std::fs::write(
-        &path,
+        &spheroidal,
         r"\frac{1}{\sin\theta}\frac{d}{d\theta}\left(\sin\theta\frac{dS}{d\theta}\right) + \left(\lambda - c^2\cos^2\theta - \frac{m^2}{\sin^2\theta}\right)S = 0",
     )
     .unwrap();
-    let (_, code, err) = run(&["spectrum", path.to_str().unwrap(), "--at", "c=1,m=0", "--boundary", "bound"]);
+    for (m, want) in [(0u32, 0.319000f64), (1, 2.195548)] {
+        let (_, ms) = modes_of(spheroidal.to_str().unwrap(), &format!("c=1,m={m}"), &["--boundary", "bound", "--overtones", "0"]);
+        let (re, _) = omega(&ms[0]);
+        assert!((re - want).abs() < 2e-6, "m={m}: {re} against {want}");
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn bound_states_are_not_posed_on_the_unit_circle() {
+    // Mathieu's equation (DLMF 28.2.1) has no real poles: ζ = e^(2ix)
+    // takes real x to the unit circle, so bound states on a real interval
+    // of ζ mean nothing; refused with the ways out.
+    let (_, code, err) = run(&["spectrum", "-e", "y'' + (a - 2*q*cos(2*x))*y = 0", "--var", "x", "--at", "q=1", "--boundary", "bound"]);
     assert_eq!(code, 2, "{err}");
-    assert!(err.contains("unit circle") && err.contains("--boundary periodic") && err.contains("cos theta"), "{err}");
+    assert!(err.contains("unit circle") && err.contains("--boundary periodic"), "{err}");
 }
 
 #[test]

@@ -446,6 +446,9 @@ fn lower_through_map(
     let mut new_names = vec![plan.new_var.clone()];
     new_names.extend(lowering.param_names.iter().cloned());
     let mut last = None;
+    // A half-angle form that folds its interval, kept in case the next
+    // candidate does not lower.
+    let mut folded: Option<(LinearOde, ExpMap)> = None;
     for (n, c) in plan.candidates.iter().enumerate() {
         let nf = Field::new(new_names.clone(), limits.clone())?;
         let chain = Chain { c: c.clone(), slopes: plan.slopes.clone() };
@@ -467,7 +470,18 @@ fn lower_through_map(
                 };
                 if let (false, Some(form)) = (requested, form) {
                     if let Some((ode, map)) = half_angle_form(lowering, plan, c, form, (&nf, &p, &q), names, &inferred, limits)? {
-                        return Ok((ode, Some(map)));
+                        // u = tan(kx/2) sends x = 0 to 0 and x = π/k to ∞. Where
+                        // u = ∞ is an ordinary point, the coefficients' real
+                        // poles lie π/k·2 apart (cot x, 1/sin²x with k = 2):
+                        // the interval between two of them folds onto the
+                        // half-line twice, and the half angle (the next
+                        // candidate, k = 1) maps it one-to-one.
+                        let folds = form == MapForm::Tan && n + 1 < plan.candidates.len() && ordinary_at_infinity(&ode.field, &ode.p, &ode.q)?;
+                        if !folds {
+                            return Ok((ode, Some(map)));
+                        }
+                        folded = Some((ode, map));
+                        continue;
                     }
                 }
                 let map = ExpMap {
@@ -480,8 +494,16 @@ fn lower_through_map(
                 return Ok((lowering.ode((nf, p, q, lets), plan.new_var.clone(), &inferred), Some(map)));
             }
             Err(e) if e.kind == ErrorKind::NotRational && n + 1 < plan.candidates.len() => last = Some(e),
-            Err(e) => return Err(e),
+            Err(e) => {
+                if let Some((ode, map)) = folded {
+                    return Ok((ode, Some(map)));
+                }
+                return Err(e);
+            }
         }
+    }
+    if let Some((ode, map)) = folded {
+        return Ok((ode, Some(map)));
     }
     Err(last.unwrap_or_else(|| Error::new(ErrorKind::Internal, "no candidate map")))
 }
@@ -505,8 +527,9 @@ fn half_angle_form(
     // An irregular point at ζ = ∞ (Q not O(ζ⁻²): e^(cx) unbounded in the
     // potential, as Morse's) would become a finite irregular point u = 1,
     // which the solvers' irregular end (at infinity) does not take: ζ stays.
+    // (Under tan the points ζ = 0, ∞ go to u = ±i, off the real axis.)
     let qn = super::normal::normal_q(nf, p, q)?;
-    if !qn.is_zero() && i64::from(qn.num().degree(0)) - i64::from(qn.den_expanded().degree(0)) >= -1 {
+    if form == MapForm::Tanh && !qn.is_zero() && i64::from(qn.num().degree(0)) - i64::from(qn.den_expanded().degree(0)) >= -1 {
         return Ok(None);
     }
     let u_name = super::fresh_name("u", names);
@@ -526,6 +549,13 @@ fn half_angle_form(
     }
     let map = ExpMap { old_var: lowering.var.clone(), new_var: u_name.clone(), c: c.clone(), form, shift: plan.shift.clone() };
     Ok(Some((lowering.ode((tf, pu, qu, Vec::new()), u_name, inferred), map)))
+}
+
+/// Whether the point at infinity is an ordinary point of y'' + p y' + q y
+/// = 0 (Q of the normal form O(z⁻⁴) there).
+fn ordinary_at_infinity(field: &Field, p: &RatFunc, q: &RatFunc) -> Result<bool> {
+    let qn = super::normal::normal_q(field, p, q)?;
+    Ok(qn.is_zero() || i64::from(qn.num().degree(0)) - i64::from(qn.den_expanded().degree(0)) <= -4)
 }
 
 /// Whether the equation in ζ has a finite singular point other than ζ = 0

@@ -262,13 +262,15 @@ pub fn series(bp: &BoundaryProblem, var: &str) -> Result<MobiusSeries> {
             None => format!("{x} − {t}"),
         }
     };
+    // The series variable's name in words: u, unless the equation's is u.
+    let u = ["u", "v", "s"].into_iter().find(|n| *n != var).unwrap_or("u");
     let map_text = match (bp.ends[1].location, pole) {
         (Location::At(b), Pole::At(p)) => {
             let bt = text(cx(b));
-            format!("u = ({})({})/(({})({}))", diff(var, cx(z0)), diff(&bt, p), diff(var, p), diff(&bt, cx(z0)))
+            format!("{u} = ({})({})/(({})({}))", diff(var, cx(z0)), diff(&bt, p), diff(var, p), diff(&bt, cx(z0)))
         }
-        (Location::At(b), Pole::Infinity) => format!("u = ({})/({})", diff(var, cx(z0)), diff(&text(cx(b)), cx(z0))),
-        (Location::Infinity, Pole::At(p)) => format!("u = ({})/({})", diff(var, cx(z0)), diff(var, p)),
+        (Location::At(b), Pole::Infinity) => format!("{u} = ({})/({})", diff(var, cx(z0)), diff(&text(cx(b)), cx(z0))),
+        (Location::Infinity, Pole::At(p)) => format!("{u} = ({})/({})", diff(var, cx(z0)), diff(var, p)),
         (Location::Infinity, Pole::Infinity) => String::new(),
     };
     let limit = match nearest {
@@ -278,13 +280,13 @@ pub fn series(bp: &BoundaryProblem, var: &str) -> Result<MobiusSeries> {
     let radius_text = match (radius.is_finite(), bp.ends[1].nature) {
         // Leaver's condition: the mode's series converges at u = 1 itself, not beyond.
         (true, Nature::IrregularRank1) => format!(
-            "the other singular points lie at |u| ≥ {radius:.6} (set by {limit}); the far end is irregular, so the mode's series converges up to u = 1"
+            "the other singular points lie at |{u}| ≥ {radius:.6} (set by {limit}); the far end is irregular, so the mode's series converges up to {u} = 1"
         ),
         (true, _) => format!("convergence radius {radius:.6} (set by {limit})"),
         (false, _) => "no other singular point".to_string(),
     };
     let description = format!(
-        "ψ = (behaviour chosen at both ends) × Σ aₙ uⁿ, {map_text} (Möbius: the left end → 0, the right end → 1, {pole_text} → ∞); {radius_text}; {}-term recurrence with complex double coefficients",
+        "ψ = (behaviour chosen at both ends) × Σ aₙ {u}ⁿ, {map_text} (Möbius: the left end → 0, the right end → 1, {pole_text} → ∞); {radius_text}; {}-term recurrence with complex double coefficients",
         recurrence.terms.len()
     );
     Ok(MobiusSeries { radius, recurrence, description })
