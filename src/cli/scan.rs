@@ -188,8 +188,22 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     let make = || -> crate::error::Result<PointSolver<'_>> {
         let red = crate::ode::reduce(&src.input(), &opts)?;
         // After a change of variable every point is solved on the physical
-        // equation, coupled or not (`solve::physical`).
-        let red = crate::solve::physical::physical(&red)?.map_or(red, |(p, _)| p);
+        // equation, coupled or not (`solve::physical`); spatial infinity
+        // written at a finite point is moved back to infinity as `spectrum`
+        // moves it (the side decided at the first point's values).
+        let red = match crate::solve::physical::physical(&red)? {
+            Some((p, _)) => p,
+            None if angular_text.is_none() => {
+                let mut values = base.values.clone();
+                if let Some(first) = walk.points.get(range.start) {
+                    for (f, x) in fields.iter().zip(first) {
+                        values[*f] = GRat::real(x.clone());
+                    }
+                }
+                crate::solve::physical::irregular_to_infinity(&red, &values, freq)?.map_or(red, |(m, _)| m)
+            }
+            None => red,
+        };
         match &angular_text {
             None => Ok(survey_solver(red, &fields, a.boundary == crate::solve::request::Problem::QuasiBound)),
             Some(text) => {

@@ -545,6 +545,13 @@ pub fn scatter_setup(red: &Reduction, req: &ScatterRequest) -> Result<ScatterSet
         // No span: the caller points at the whole of its value list.
         return Err(usage(format!("no value given for {}", missing.join(", "))).in_option(RequestInput::At));
     }
+    // Spatial infinity written at a finite point (x = 2M/r): scattered in
+    // the variable where it is at infinity, as `spectrum` solves it.
+    if req.couple.is_none() {
+        if let Some((moved, _)) = super::physical::irregular_to_infinity(red, &point, freq)? {
+            return scatter_setup(&moved, req);
+        }
+    }
     let ls: Vec<i64> = match sum {
         Some((_, l0, l1)) => (l0..=l1).collect(),
         None => vec![0],
