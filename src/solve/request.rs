@@ -1923,7 +1923,13 @@ pub(crate) fn series_between_ends(
     };
     // Seeds given (a survey's neighbour) are used as they are.
     let neighbour = !opts.seeds.is_empty();
-    let families = Families::new(estimate, bp.scale, opts.overtones.1 + 3);
+    // The families are told apart only where the seeds are the route's own
+    // (a survey's neighbours and a guess need no estimates).
+    let families = if !neighbour && opts.guess.is_none() {
+        Families::new(estimate, bp.scale, opts.overtones.1 + 3)
+    } else {
+        Families { estimates: Vec::new(), scale: bp.scale }
+    };
     // Without a guess the overtones are counted from the fundamental: the
     // ladder climbs from 0 and the range asked for is kept.
     let climb = !neighbour && opts.guess.is_none();
