@@ -515,3 +515,29 @@ fn a_centre_that_is_an_ordinary_point_can_be_an_end() {
         assert!(close(c(&m["omega"]), want, 1e-9), "n={n}: {} not {want}", m["omega"]);
     }
 }
+
+#[test]
+fn kratzer_levels_where_the_square_root_is_rational() {
+    // −½g'' − 2D(a/q − a²/(2q²))g = Eg is hydrogen-like with Z = 2Da and
+    // ν(ν + 1) = 2Da²: E_n = −2D²a²/(n + ½ + ½√(1 + 8Da²))² (derived here;
+    // Kratzer's molecular potential, common practice). At D = a = 1 the root
+    // is 3 and the level n = 1 is where the family's reduced form a + b√r has
+    // a vanishing denominator (n² + n = 2Da²): every level is still there,
+    // and just beside that point too.
+    for at in ["Dd=1,a0=1", "Dd=1.0000001,a0=1", "Dd=2,a0=1"] {
+        let doc = bound(&["-e", "-1/2*g'' - 2*Dd*(a0/q - a0^2/(2*q^2))*g = Ee*g", "--var", "q"], at, "0..4");
+        let (d, a): (f64, f64) = match at {
+            "Dd=1,a0=1" => (1.0, 1.0),
+            "Dd=2,a0=1" => (2.0, 1.0),
+            _ => (1.0000001, 1.0),
+        };
+        let s = (1.0 + 8.0 * d * a * a).sqrt();
+        let want: Vec<Complex64> = (0..5).map(|n| cx(-2.0 * d * d * a * a / (n as f64 + 0.5 + 0.5 * s).powi(2), 0.0)).collect();
+        let ex = exact(&doc);
+        assert_eq!(ex.len(), 5, "{at}: {ex:?}");
+        for (i, w) in want.iter().enumerate() {
+            assert!(close(ex[i].2, *w, 1e-12), "{at} n={i}: {} against {w}", ex[i].2);
+        }
+        assert!(agree(&doc, &want) >= 1, "{at}");
+    }
+}

@@ -514,3 +514,39 @@ fn latex_as_printed_in_papers() {
         assert_eq!(normal_q(&Input::Latex(printed)), normal_q(&Input::Latex(plain)), "{printed}");
     }
 }
+
+/// A power after a bracket that follows a name belongs to the bracket, as
+/// in print: D(1 + x)² is D·(1 + x)², f(1 − f)² is f·(1 − f)² (common
+/// practice); `f(r)²` with r the variable stays f². The `\var…` letters
+/// are the letters, `\frac14` is ¼ (one digit per argument, as LaTeX
+/// reads it), a font command only styles a name.
+#[test]
+fn latex_as_typeset_by_hand() {
+    let same = |tex: &str, inline: &str| {
+        let (n1, q1) = normal_q(&Input::Latex(tex));
+        let (n2, q2) = normal_q(&Input::Inline { equation: inline, var: "x" });
+        assert_eq!((n1, q1), (n2, q2), "{tex} against {inline}");
+    };
+    same(r"-y''(x) + D(1 + x)^2 y = E y", "-y'' + D*(1 + x)^2*y = E*y");
+    same(r"y''(x) + \frac{k}{x(1+x)^2}y = 0", "y'' + k/(x*(1+x)^2)*y = 0");
+    same(r"y''(x) + \left(E - \tfrac14 V(1 - x)^{2}\right)y = 0", "y'' + (E - V*(1 - x)^2/4)*y = 0");
+    same(r"\frac{d^2y}{dx^2} + (\mathcal{E} - \varpi^2 x^2 + r_{\rm h} x)y = 0", "y'' + (E - varpi^2*x^2 + r_h*x)*y = 0");
+    same(r"y''(x) + \left(a - 2q\cos 2x\right)y = 0", "y'' + (a - 2*q*cos(2*x))*y = 0");
+    // \vartheta is θ, also as the variable of a derivative and inside an argument.
+    let (n1, q1) = normal_q(&Input::Latex(r"\frac{d^2 y}{d\vartheta^2} + (a - 2q\cos 2\vartheta) y = 0"));
+    let (n2, q2) = normal_q(&Input::Latex(r"\frac{d^2 y}{d\theta^2} + (a - 2q\cos 2\theta) y = 0"));
+    assert_eq!((n1, q1), (n2, q2));
+}
+
+/// The Morse oscillator as textbooks print it, D(1 − e^{−a(x − x₀)})²
+/// (ħ = 2m = 1): E_n = 2a√D(n + ½) − a²(n + ½)² (Morse 1929; common
+/// practice): at D = 16, a = 1: 3.75, 9.75, 13.75.
+#[test]
+fn morse_oscillator_as_printed() {
+    let got = levels(&["--latex", "-e", r"-\psi''(x) + D\left(1 - e^{-a(x - x_0)}\right)^2\psi(x) = E\,\psi(x)"], "D=16,a=1,x_0=0");
+    for (n, e) in got.iter().enumerate() {
+        let k = n as f64 + 0.5;
+        let want = 8.0 * k - k * k;
+        assert!((e - want).abs() < 1e-8, "n={n}: {e} vs {want}");
+    }
+}

@@ -2284,3 +2284,93 @@ fn schwarzschild_de_sitter_at_small_lambda_tends_to_schwarzschild() {
         assert!(mode["reason"].as_str().is_some_and(|r| r.contains("direct integration alone")), "{mode}");
     }
 }
+
+#[test]
+fn hulthen_levels_on_the_half_line() {
+    // The Hulthén potential −Zδe^(−δr)/(1 − e^(−δr)) (ħ = m = 1, l = 0):
+    // E_n = −(Z/n − nδ/2)²/2 for n = 1, 2, … with n² < 2Z/δ (Flügge,
+    // Practical Quantum Mechanics, problem 70, from memory). Written with e^(−δr), the
+    // half-angle variable is turned so that r > 0 is the interval taken (the
+    // other side, r < 0, has no such levels); the unknown keeps its name u
+    // and the new variable takes another.
+    let dir = std::env::temp_dir().join(format!("canonode-hulthen-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = dir.join("hulthen.tex");
+    std::fs::write(&file, r"-\frac{1}{2}u'' - \frac{Z\delta e^{-\delta r}}{1-e^{-\delta r}}u = \epsilon u").unwrap();
+    let f = file.to_str().unwrap();
+    let want = |n: f64| -(1.0 / n - n * 0.1 / 2.0).powi(2) / 2.0;
+    let (v, ms) = modes_of(f, "Z=1,delta=0.1", &["--boundary", "bound", "--overtones", "0..3"]);
+    assert_eq!(ms.len(), 4, "{v}");
+    for (k, m) in ms.iter().enumerate() {
+        let (re, im) = omega(m);
+        assert!((re - want(k as f64 + 1.0)).abs() < 1e-9 && im == 0.0, "n={k}: {re} {im}");
+    }
+    // The same interval given as ends: the far end's exponents move with
+    // the energy but split for E < 0, so it is no horizon.
+    let (v, ms) = modes_of(f, "Z=1,delta=0.1", &["--boundary", "bound", "--ends", "0..1", "--overtones", "0..1"]);
+    for (k, m) in ms.iter().enumerate() {
+        let (re, im) = omega(m);
+        assert!((re - want(k as f64 + 1.0)).abs() < 1e-9 && im == 0.0, "--ends n={k}: {re} {im}: {v}");
+    }
+    let (_, code, err) = run(&["classify", f]);
+    assert_eq!(code, 0, "{err}");
+    assert!(err.contains("unknown u") && !err.contains("variable u,"), "{err}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn kerr_with_the_angular_equation_written_in_the_polar_angle() {
+    // Teukolsky's angular equation as printed, in θ with cot and 1/sin²
+    // (ApJ 185, 635 (1973), eq. (4.10), from memory), coupled to the radial
+    // one: x = cos θ makes it the confluent Heun equation of the samples.
+    // Kerr a = 0.5, l = m = 2, s = −2: 0.4641 − 0.0856i (Berti, Cardoso &
+    // Starinets 2009 tables, from memory), and the same digits as with the
+    // angular equation written in cos θ.
+    let dir = std::env::temp_dir().join(format!("canonode-polar-kerr-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let ang = dir.join("angular_theta.tex");
+    std::fs::write(
+        &ang,
+        r"\frac{1}{\sin\theta}\frac{d}{d\theta}\left(\sin\theta\frac{dS}{d\theta}\right) + \left(c^2\cos^2\theta - \frac{m^2}{\sin^2\theta} - 2cs\cos\theta - \frac{2ms\cos\theta}{\sin^2\theta} - s^2\cot^2\theta + s + A\right)S = 0",
+    )
+    .unwrap();
+    let link = ["--link", "lam = A + a^2*omega^2 - 2*a*m*omega", "--link", "c = a*omega"];
+    let mut got = Vec::new();
+    for angular in [ang.to_str().unwrap(), "samples/spheroidal_spin_weighted.ode"] {
+        let mut extra = vec!["--couple", angular];
+        extra.extend_from_slice(&link);
+        let (v, ms) = modes_of("samples/teukolsky_radial.ode", "M=1,a=0.5,m=2,s=-2", &extra);
+        assert_eq!(ms[0]["converged"], true, "{v}");
+        got.push(omega(&ms[0]));
+    }
+    let (re, im) = got[0];
+    assert!((re - 0.4641).abs() < 1e-4 && (im + 0.0856).abs() < 1e-4, "{re} {im}");
+    assert!((got[0].0 - got[1].0).abs() < 1e-9 && (got[0].1 - got[1].1).abs() < 1e-9, "{got:?}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn reciprocal_trigonometric_and_hyperbolic_functions_are_read() {
+    // Legendre's equation written with cot and csc: S'' + cot θ S' +
+    // (λ − m² csc²θ)S = 0 has λ = l(l + 1), l ≥ m (exact); in the input
+    // language and in LaTeX alike.
+    for (eq, latex) in
+        [("S'' + cot(theta)*S' + (lam - m^2*csc(theta)^2)*S = 0", false), (r"S'' + \cot\theta\, S' + (\lambda - m^2\csc^2\theta)S = 0", true)]
+    {
+        let mut args = vec!["spectrum", "-e", eq, "--var", "theta", "--at", "m=1", "--boundary", "bound", "--overtones", "0..2", "--format", "json"];
+        if latex {
+            args.push("--latex");
+        }
+        let (v, code, err) = run(&args);
+        assert_eq!(code, 0, "{eq}: {err}");
+        for (k, m) in v["modes"].as_array().unwrap().iter().enumerate() {
+            let l = 1.0 + k as f64;
+            let (re, _) = omega(m);
+            assert!((re - l * (l + 1.0)).abs() < 1e-8 * l * l, "{eq} k={k}: {re}");
+        }
+    }
+    // sech and coth against their definitions: the same normal form.
+    let (a, _, _) = run(&["reduce", "-e", "y'' + (E - U*csch(x)^2 + V*sech(x)^2)*y = 0", "--var", "x", "--format", "json"]);
+    let (b, _, _) = run(&["reduce", "-e", "y'' + (E - U/sinh(x)^2 + V/cosh(x)^2)*y = 0", "--var", "x", "--format", "json"]);
+    assert_eq!(a["normal"]["q"], b["normal"]["q"], "{a} {b}");
+}

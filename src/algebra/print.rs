@@ -17,6 +17,50 @@ pub enum Style {
     Latex,
 }
 
+/// A Greek letter for a symbol the program introduces (a root of a
+/// factor): as text, as LaTeX, and as typed.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Letter {
+    /// As printed in text output.
+    pub text: &'static str,
+    /// As printed in LaTeX output.
+    pub latex: &'static str,
+    /// As typed in an option (ASCII).
+    pub ascii: &'static str,
+}
+
+/// The letter for the roots of a factor: θ, unless the equation already
+/// names something θ (an angle), then η, then ϖ.
+pub fn root_letter(names: &[String]) -> Letter {
+    free_letter(
+        names,
+        &[
+            Letter { text: "θ", latex: "\\theta", ascii: "theta" },
+            Letter { text: "η", latex: "\\eta", ascii: "eta" },
+            Letter { text: "ϖ", latex: "\\varpi", ascii: "varpi" },
+        ],
+    )
+}
+
+/// The letter for a multiple of a root (φ = c·θ): φ, then χ, then ϱ.
+pub fn scaled_root_letter(names: &[String]) -> Letter {
+    free_letter(
+        names,
+        &[
+            Letter { text: "φ", latex: "\\varphi", ascii: "phi" },
+            Letter { text: "χ", latex: "\\chi", ascii: "chi" },
+            Letter { text: "ϱ", latex: "\\varrho", ascii: "varrho" },
+        ],
+    )
+}
+
+/// The first of `candidates` that no name of `names` spells (as text or
+/// ASCII); the last when all are taken.
+fn free_letter(names: &[String], candidates: &[Letter]) -> Letter {
+    let taken = |l: &Letter| names.iter().any(|n| n == l.text || n == l.ascii);
+    *candidates.iter().find(|l| !taken(l)).unwrap_or(&candidates[candidates.len() - 1])
+}
+
 /// LaTeX for a symbol name: Greek names become commands, a trailing
 /// `_suffix` or digits become a subscript, other multi-letter names upright.
 pub fn latex_name(name: &str) -> String {

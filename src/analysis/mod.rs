@@ -57,12 +57,13 @@ pub enum PointId {
 }
 
 impl PointId {
-    /// How the point is named in messages and choices: its location, θ for
-    /// the roots of a factor, ∞ for infinity (`names` are the field's).
+    /// How the point is named in messages and choices: its location, θ (or
+    /// the letter [`crate::algebra::print::root_letter`] picks) for the roots
+    /// of a factor, ∞ for infinity (`names` are the field's).
     pub fn text(&self, names: &[String]) -> String {
         match self {
             PointId::At(at) => crate::algebra::print::ratfunc_text(at, names, crate::algebra::print::Style::Text),
-            PointId::Roots(_) => "θ".to_string(),
+            PointId::Roots(_) => crate::algebra::print::root_letter(names).text.to_string(),
             PointId::Infinity => "∞".to_string(),
         }
     }

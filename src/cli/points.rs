@@ -42,7 +42,11 @@ fn point_at(red: &Reduction, an: &Analysis, text: &str, offset: usize) -> Result
     let id = match trimmed {
         "" => return Err(usage("a point is missing here").at(Span::new(offset, offset + text.len()))),
         "inf" | "infinity" | "∞" => PointId::Infinity,
-        "θ" | "theta" => {
+        t if {
+            let letter = crate::algebra::print::root_letter(red.field.names());
+            t == letter.text || t == letter.ascii
+        } =>
+        {
             let roots: Vec<&crate::analysis::SingularPoint> = an.points.iter().filter(|p| matches!(p.place, Place::Roots(_))).collect();
             // The roots of a quadratic at a regular point (a horizon r₊) first,
             // as the series about θ takes them.

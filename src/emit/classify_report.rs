@@ -79,9 +79,10 @@ fn paren(t: String) -> String {
 
 /// A polynomial in θ as text.
 pub(crate) fn upoly_text(k: &Field, u: &UPoly, s: Style) -> String {
+    let letter = crate::algebra::print::root_letter(k.names());
     let theta = match s {
-        Style::Text => "θ",
-        Style::Latex => "\\theta",
+        Style::Text => letter.text,
+        Style::Latex => letter.latex,
     };
     let mut parts: Vec<String> = Vec::new();
     for (j, c) in u.coeffs.iter().enumerate().rev() {
@@ -170,7 +171,11 @@ fn difference_text(k: &Field, p: &SingularPoint) -> Value {
 pub(crate) fn where_text(k: &Field, var: &str, p: &SingularPoint, s: Style) -> String {
     match &p.place {
         Place::Point { at, .. } => format!("{var} = {}", rf(k, at, s)),
-        Place::Roots(f) => format!("{var} = θ, a root of {}", poly_text(f, &Int::ONE, k.names(), s)),
+        Place::Roots(f) => {
+            let letter = crate::algebra::print::root_letter(k.names());
+            let theta = if s == Style::Latex { letter.latex } else { letter.text };
+            format!("{var} = {theta}, a root of {}", poly_text(f, &Int::ONE, k.names(), s))
+        }
         Place::Infinity => format!("{var} = ∞"),
     }
 }
@@ -405,6 +410,26 @@ pub(crate) fn param_value(vals: &crate::analysis::numeric::Values, p: &Param) ->
     (v.re.is_finite() && v.im.is_finite()).then_some(v)
 }
 
+/// A warning when a letter of the canonical form is also a name of the
+/// equation (its own γ beside the form's γ): the values on the right hold the
+/// equation's, the names on the left are the form's.
+fn shared_letters(k: &Field, c: &Canonical) -> Option<String> {
+    // A letter that is the same parameter (ν = nu for Bessel's equation
+    // written with nu) needs no word.
+    let shared: Vec<&str> =
+        c.parameters.iter().filter(|(n, p)| k.names().iter().skip(1).any(|m| m == n) && param_text(k, p) != *n).map(|(n, _)| n.as_str()).collect();
+    (!shared.is_empty()).then(|| {
+        format!(
+            "{} on the left {} the form's own (DLMF's letters); the same name{} on the right {} the equation's parameter{}",
+            shared.join(", "),
+            if shared.len() == 1 { "is" } else { "are" },
+            if shared.len() == 1 { "" } else { "s" },
+            if shared.len() == 1 { "is" } else { "are" },
+            if shared.len() == 1 { "" } else { "s" },
+        )
+    })
+}
+
 /// The canonical form as text lines.
 pub fn canonical_text(k: &Field, unknown: &str, c: &Canonical, vals: Option<&crate::analysis::numeric::Values>) -> String {
     let mut o = String::new();
@@ -419,6 +444,9 @@ pub fn canonical_text(k: &Field, unknown: &str, c: &Canonical, vals: Option<&cra
         o.push_str(&format!("  choice       {ch}\n"));
     }
     o.push_str("  parameters\n");
+    if let Some(note) = shared_letters(k, c) {
+        o.push_str(&format!("    ({note})\n"));
+    }
     for (n, p) in &c.parameters {
         let v = vals.and_then(|v| param_value(v, p)).map(|z| format!("   ≈ {}", fmt_c(z))).unwrap_or_default();
         o.push_str(&format!("    {n} = {}{v}\n", param_text(k, p)));
@@ -488,9 +516,10 @@ pub fn analysis_latex(k: &Field, var: &str, unknown: &str, a: &Analysis, canonic
         let wher = match &p.place {
             Place::Point { at, .. } => format!("{v} = {}", rf(k, at, s)),
             Place::Roots(f) => {
+                let letter = crate::algebra::print::root_letter(k.names());
                 let mut names = k.names().to_vec();
-                names[0] = "θ".into();
-                format!("{v} = \\theta,\\ {} = 0", poly_text(f, &Int::ONE, &names, s))
+                names[0] = letter.text.into();
+                format!("{v} = {},\\ {} = 0", letter.latex, poly_text(f, &Int::ONE, &names, s))
             }
             Place::Infinity => format!("{v} = \\infty"),
         };
@@ -542,6 +571,9 @@ pub fn analysis_latex(k: &Field, var: &str, unknown: &str, a: &Analysis, canonic
         }
         for ch in &c.choices {
             doc.prose(&format!("choice: {ch}"));
+        }
+        if let Some(note) = shared_letters(k, c) {
+            doc.prose(&note);
         }
         for (n, p) in &c.parameters {
             doc.eq(crate::algebra::print::latex_name(n), param_latex(k, p));

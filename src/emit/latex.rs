@@ -862,7 +862,7 @@ fn tree_latex(e: &Expr) -> String {
         ExprKind::Prime(x, k) => format!("{}{}", sub(x, 6), "'".repeat(*k as usize)),
         ExprKind::Sqrt(x) => format!("\\sqrt{{{}}}", tree_latex(x)),
         ExprKind::Call(Func::Exp, x) => format!("e^{{{}}}", tree_latex(x)),
-        ExprKind::Call(Func::Sech, x) => format!("\\operatorname{{sech}}{}", paren(tree_latex(x))),
+        ExprKind::Call(f @ (Func::Sech | Func::Csch), x) => format!("\\operatorname{{{}}}{}", f.name(), paren(tree_latex(x))),
         ExprKind::Call(f, x) => format!("\\{}{}", f.name(), paren(tree_latex(x))),
         ExprKind::Derivative { body, wrt, order } => {
             let v = latex_name(&wrt.name);

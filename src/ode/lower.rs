@@ -95,6 +95,11 @@ pub enum MapForm {
     /// trigonometric coefficients with poles on the real axis (not a
     /// periodic problem), whose points x = 0 and x = π/k go to u = 0 and ∞.
     Tan,
+    /// w = (ζ + 1/ζ)/2 = cos(k·x) with c = ik imaginary: for an equation
+    /// even in x (unchanged by ζ → 1/ζ) with poles at x = 0 and π/k, the
+    /// interval between them onto (−1, 1) once, ζ = 0 and ∞ together at
+    /// w = ∞ (the polar angle's cos θ).
+    Cos,
 }
 
 /// A change of variable ζ = e^(c·x) that made transcendental coefficients rational.
@@ -150,8 +155,13 @@ pub fn lower_program_mapped(program: &Program, mode: NameMode, limits: &Limits, 
         let Lowering { var, unknown, param_names, .. } = lowering;
         return Ok((LinearOde { field, var, unknown, params: param_names, inferred, p, q, lets }, None));
     }
-    let plan = plan_map(&field, &names, &calls, request)?;
-    lower_through_map(&lowering, &plan, &names, inferred, limits, request.is_some())
+    // The new variable's name avoids every name of the program: the
+    // variable, the parameters, the unknown and the lets.
+    let mut taken = names.clone();
+    taken.push(lowering.unknown.clone());
+    taken.extend(decl.let_names.iter().map(|(n, _)| n.clone()));
+    let plan = plan_map(&field, &names, &taken, &calls, request)?;
+    lower_through_map(&lowering, &plan, &taken, inferred, limits, request.is_some())
 }
 
 /// The statements of a program, checked for their structure: one variable,
@@ -382,7 +392,7 @@ struct MapPlan {
 }
 
 /// The map that makes the calls rational (or the requested one).
-fn plan_map(field: &Field, names: &[String], calls: &[(Func, &Expr, Span)], request: Option<&MapRequest>) -> Result<MapPlan> {
+fn plan_map(field: &Field, names: &[String], taken: &[String], calls: &[(Func, &Expr, Span)], request: Option<&MapRequest>) -> Result<MapPlan> {
     // The slope a of every argument a·x.
     let mut slopes = Vec::new();
     let mut shifts = Vec::new();
@@ -421,12 +431,12 @@ fn plan_map(field: &Field, names: &[String], calls: &[(Func, &Expr, Span)], requ
     let shift = common_shift(field, names, &shifts)?;
     let new_var = match request {
         Some(req) => {
-            if names.contains(&req.new_var) {
+            if taken.contains(&req.new_var) {
                 return Err(Error::new(ErrorKind::Usage, format!("'{}' is already a name of the equation", req.new_var)).in_option(RequestInput::Map));
             }
             req.new_var.clone()
         }
-        None => super::fresh_name("zeta", names),
+        None => super::fresh_name("zeta", taken),
     };
     Ok(MapPlan { slopes, candidates, shift, new_var })
 }
@@ -468,6 +478,11 @@ fn lower_through_map(
                 } else {
                     None
                 };
+                if let (false, Some(MapForm::Tan)) = (requested, form) {
+                    if let Some((ode, map)) = cos_form(lowering, plan, c, (&nf, &p, &q), names, &inferred, limits)? {
+                        return Ok((ode, Some(map)));
+                    }
+                }
                 if let (false, Some(form)) = (requested, form) {
                     if let Some((ode, map)) = half_angle_form(lowering, plan, c, form, (&nf, &p, &q), names, &inferred, limits)? {
                         // u = tan(kx/2) sends x = 0 to 0 and x = π/k to ∞. Where
@@ -532,23 +547,71 @@ fn half_angle_form(
     if form == MapForm::Tanh && !qn.is_zero() && i64::from(qn.num().degree(0)) - i64::from(qn.den_expanded().degree(0)) >= -1 {
         return Ok(None);
     }
-    let u_name = super::fresh_name("u", names);
+    let u_name =
+        ["u", "v", "w", "s"].iter().find(|n| !names.iter().any(|m| m == *n)).map_or_else(|| super::fresh_name("u", names), |n| n.to_string());
     let mut u_names = vec![u_name.clone()];
     u_names.extend(lowering.param_names.iter().cloned());
     let tf = Field::new(u_names, limits.clone())?;
     let one = RatFunc::one();
-    // ζ = (1 + u)/(1 − u) for tanh; ζ = (1 + iu)/(1 − iu) for tan.
+    // ζ = (1 + u)/(1 − u) for tanh; ζ = (1 + iu)/(1 − iu) for tan. A slope
+    // written negative (e^(−δr), parameters taken positive) is turned over,
+    // u = tanh(|c|x/2) = (1 − ζ)/(1 + ζ), so that x > 0 lies at u > 0, where
+    // the rightmost interval of the real singular points is.
+    let flip = form == MapForm::Tanh && c.num().lead().is_some_and(|(_, k)| k.re.is_negative());
     let v = match form {
         MapForm::Tan => tf.mul(&RatFunc::constant(&GRat { re: Rat::zero(), im: Rat::one() }), &tf.var(0))?,
-        MapForm::Tanh | MapForm::Exp => tf.var(0),
+        MapForm::Tanh | MapForm::Exp | MapForm::Cos if flip => tf.neg(&tf.var(0)),
+        MapForm::Tanh | MapForm::Exp | MapForm::Cos => tf.var(0),
     };
     let g = tf.div(&tf.add(&one, &v)?, &tf.sub(&one, &v)?)?;
     let (pu, qu) = super::transform::change_variable(&tf, p, q, &g)?;
     if singular_count(&tf, &pu, &qu)? > singular_count(nf, p, q)? {
         return Ok(None);
     }
-    let map = ExpMap { old_var: lowering.var.clone(), new_var: u_name.clone(), c: c.clone(), form, shift: plan.shift.clone() };
+    let c = if flip { nf.neg(c) } else { c.clone() };
+    let map = ExpMap { old_var: lowering.var.clone(), new_var: u_name.clone(), c, form, shift: plan.shift.clone() };
     Ok(Some((lowering.ode((tf, pu, qu, Vec::new()), u_name, inferred), map)))
+}
+
+/// The equation in w = (ζ + 1/ζ)/2 = cos(kx) (c = ik), when it is
+/// unchanged by ζ → 1/ζ (even in x) and both ζ = 1 and ζ = −1 are singular
+/// points (x = 0 and π/k: where one is ordinary, the map would fold the
+/// interval about it and make it a singular point the equation does not
+/// have). With w' = dw/dζ = (ζ² − 1)/(2ζ²) and w'' = 1/ζ³:
+/// y_ww + (w'' + p w')/w'² y_w + q/w'² y = 0.
+fn cos_form(
+    lowering: &Lowering,
+    plan: &MapPlan,
+    c: &RatFunc,
+    in_zeta: (&Field, &RatFunc, &RatFunc),
+    names: &[String],
+    inferred: &[String],
+    limits: &Limits,
+) -> Result<Option<(LinearOde, ExpMap)>> {
+    let (nf, p, q) = in_zeta;
+    let qn = super::normal::normal_q(nf, p, q)?;
+    let den = RatFunc::from_poly(qn.den_expanded());
+    for end in [1, -1] {
+        if !nf.compose(&den, 0, &RatFunc::rat(&Rat::int(end.into())))?.is_zero() {
+            return Ok(None);
+        }
+    }
+    let zeta = nf.var(0);
+    let z2 = nf.mul(&zeta, &zeta)?;
+    let w1 = nf.div(&nf.sub(&z2, &RatFunc::one())?, &nf.mul(&RatFunc::rat(&Rat::int(2.into())), &z2)?)?;
+    let w2 = nf.inv(&nf.mul(&z2, &zeta)?)?;
+    let w1sq = nf.mul(&w1, &w1)?;
+    let pw = nf.div(&nf.add(&w2, &nf.mul(p, &w1)?)?, &w1sq)?;
+    let qw = nf.div(q, &w1sq)?;
+    let w_name = ["x", "w", "v"].iter().find(|n| !names.iter().any(|m| m == *n)).map_or_else(|| super::fresh_name("w", names), |n| n.to_string());
+    let mut w_names = vec![w_name.clone()];
+    w_names.extend(lowering.param_names.iter().cloned());
+    let wf = Field::new(w_names, limits.clone())?;
+    let (Some(pw), Some(qw)) = (super::transform::in_cosine(&wf, &pw)?, super::transform::in_cosine(&wf, &qw)?) else {
+        return Ok(None);
+    };
+    let map = ExpMap { old_var: lowering.var.clone(), new_var: w_name.clone(), c: c.clone(), form: MapForm::Cos, shift: plan.shift.clone() };
+    Ok(Some((lowering.ode((wf, pw, qw, Vec::new()), w_name, inferred), map)))
 }
 
 /// Whether the point at infinity is an ordinary point of y'' + p y' + q y
@@ -919,7 +982,8 @@ impl<'a> Lowerer<'a> {
     /// exp, sinh, … of a·x under the map ζ = e^(c·x): with E = ζ^κ,
     /// κ = a/c (i·a/c for sin, cos, tan), exp = E, sinh = (E² − 1)/(2E),
     /// cosh = (E² + 1)/(2E), tanh = (E² − 1)/(E² + 1), sech = 2E/(E² + 1),
-    /// sin = sinh/i, cos = cosh, tan = tanh/i.
+    /// coth = 1/tanh, csch = 1/sinh; sin = sinh/i, cos = cosh, tan = tanh/i,
+    /// cot = i·coth, csc = i·csch, sec = sech (of the argument times i).
     fn call(&mut self, f: Func, arg: &Expr, span: Span) -> Result<Value> {
         let Some(chain) = self.map else { return Err(transcendental_here(f, span)) };
         let k = &self.field;
@@ -960,9 +1024,23 @@ impl<'a> Lowerer<'a> {
                     v
                 }
             }
-            Func::Sech => {
+            Func::Sech | Func::Sec | Func::Csch | Func::Csc => {
                 let two = Quasi::rat(RatFunc::rat(&Rat::int(2.into())));
-                self.atoms.mul(k, &self.atoms.mul(k, &two, &e1)?, &self.atoms.inv(k, &plus, span)?)?
+                let below = if matches!(f, Func::Sech | Func::Sec) { plus } else { minus };
+                let v = self.atoms.mul(k, &self.atoms.mul(k, &two, &e1)?, &self.atoms.inv(k, &below, span)?)?;
+                if f == Func::Csc {
+                    self.atoms.mul(k, &v, &Quasi::rat(i_unit.clone()))?
+                } else {
+                    v
+                }
+            }
+            Func::Coth | Func::Cot => {
+                let v = self.atoms.mul(k, &plus, &self.atoms.inv(k, &minus, span)?)?;
+                if f == Func::Cot {
+                    self.atoms.mul(k, &v, &Quasi::rat(i_unit.clone()))?
+                } else {
+                    v
+                }
             }
         };
         Ok(Value::constant(v))

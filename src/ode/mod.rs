@@ -180,7 +180,7 @@ pub fn exp_map_text(map: &ExpMap, ode: &LinearOde) -> String {
     let mut names = vec![map.new_var.clone()];
     names.extend(ode.params.iter().cloned());
     let half = RatFunc::rat(&crate::algebra::Rat::new(1.into(), 2.into()).expect("nonzero"));
-    // tanh(c x/2); tan(k x/2) with k = c/i = −ic.
+    // tanh(c x/2); tan(k x/2) and cos(k x) with k = c/i = −ic.
     let minus_half_i = RatFunc::constant(&crate::algebra::GRat {
         re: crate::algebra::Rat::zero(),
         im: crate::algebra::Rat::new((-1).into(), 2.into()).expect("nonzero"),
@@ -189,6 +189,10 @@ pub fn exp_map_text(map: &ExpMap, ode: &LinearOde) -> String {
         MapForm::Exp => (map.c.clone(), "exp"),
         MapForm::Tanh => (ode.field.mul(&map.c, &half).unwrap_or_else(|_| map.c.clone()), "tanh"),
         MapForm::Tan => (ode.field.mul(&map.c, &minus_half_i).unwrap_or_else(|_| map.c.clone()), "tan"),
+        MapForm::Cos => {
+            let minus_i = RatFunc::constant(&crate::algebra::GRat { re: crate::algebra::Rat::zero(), im: crate::algebra::Rat::int((-1).into()) });
+            (ode.field.mul(&map.c, &minus_i).unwrap_or_else(|_| map.c.clone()), "cos")
+        }
     };
     let c = crate::algebra::print::ratfunc_text(&c, &names, crate::algebra::print::Style::Text);
     let times = match c.as_str() {

@@ -245,12 +245,13 @@ pub fn prefactor_text(var_name: &str, names: &[String], pf: &Prefactor, style: c
     for (f, e, a) in &pf.unevaluated {
         let ft = pt(f);
         let num = rt(a);
+        let letter = crate::algebra::print::root_letter(names);
         let theta = match style {
-            Style::Text => "θ",
-            Style::Latex => "\\theta",
+            Style::Text => letter.text,
+            Style::Latex => letter.latex,
         };
         parts.push(match (style, e) {
-            (Style::Text, 1) => format!("prod[θ root of {ft}]((({var}) - θ)^(-R(θ)/(2*F'(θ))), R = {num}, F = {ft})"),
+            (Style::Text, 1) => format!("prod[{theta} root of {ft}]((({var}) - {theta})^(-R({theta})/(2*F'({theta}))), R = {num}, F = {ft})"),
             (Style::Text, e) => format!("exp(-1/2*integral(part of p at the roots of ({ft})^{e}; R = {num}))"),
             (Style::Latex, _) => format!("\\prod_{{{theta}:\\,{ft}=0}} ({var} - {theta})^{{-R({theta})/(2F'({theta}))}}\\Big|_{{R = {num}}}"),
         });

@@ -7,7 +7,7 @@
 //! φ_xx + W φ = 0 with W = (Q − ½{x, z})/h², and V = ω² − W.
 
 use super::normal::normal_q;
-use crate::algebra::{Field, Rat, RatFunc};
+use crate::algebra::{Field, Poly, Rat, RatFunc};
 use crate::error::{Error, ErrorKind, Result};
 
 /// p and q of the equation in the new variable x, for z = g(x).
@@ -69,4 +69,48 @@ pub fn schrodinger(k: &Field, p: &RatFunc, q: &RatFunc, h: &RatFunc, freq: Optio
         None => k.neg(&w),
     };
     Ok((w, v))
+}
+
+/// f(ζ) invariant under ζ → 1/ζ written as F(x), x = (ζ + 1/ζ)/2 = cos θ
+/// for ζ = e^(iθ), in `kx` (the parameters at the same places as in f's
+/// field, variable 0 now x); `None` when f is not invariant. With f = N/D,
+/// f = N(ζ)D(1/ζ) / D(ζ)D(1/ζ): both are symmetric Laurent polynomials
+/// Σ cₑ ζᵉ (c₋ₑ = cₑ), and ζᵉ + ζ⁻ᵉ = 2Tₑ(x) (Chebyshev, DLMF 18.5.1).
+pub fn in_cosine(kx: &Field, f: &RatFunc) -> Result<Option<RatFunc>> {
+    if !f.uses_var(0) {
+        return Ok(Some(f.clone()));
+    }
+    let den = f.den_expanded();
+    let d = den.degree(0) as usize;
+    let mut rev = den.to_univariate(0);
+    rev.resize(d + 1, Poly::zero());
+    rev.reverse();
+    let den_rev = Poly::from_univariate(0, &rev);
+    let (Some(top), Some(bottom)) = (symmetric_in_x(&f.num().mul(&den_rev), d), symmetric_in_x(&den.mul(&den_rev), d)) else {
+        return Ok(None);
+    };
+    let scale = RatFunc::rat(&Rat::int(f.scale().clone()));
+    let bottom = kx.mul(&RatFunc::from_poly(bottom), &scale)?;
+    Ok(Some(kx.div(&RatFunc::from_poly(top), &bottom)?))
+}
+
+/// ζ^(−shift)·p(ζ) as a polynomial in x = (ζ + 1/ζ)/2 when it is a
+/// symmetric Laurent polynomial.
+fn symmetric_in_x(p: &Poly, shift: usize) -> Option<Poly> {
+    let c = p.to_univariate(0);
+    let at = |j: isize| if j < 0 { Poly::zero() } else { c.get(j as usize).cloned().unwrap_or_else(Poly::zero) };
+    let top = c.len() as isize - 1;
+    if top > 2 * shift as isize || (0..=top).any(|j| at(j) != at(2 * shift as isize - j)) {
+        return None;
+    }
+    let x = Poly::var(0);
+    let two = Poly::int(2);
+    let (mut t_prev, mut t) = (Poly::int(1), x.clone());
+    let mut out = at(shift as isize);
+    for e in 1..=shift {
+        out = out.add(&at((shift + e) as isize).mul(&two).mul(&t));
+        let next = two.mul(&x).mul(&t).sub(&t_prev);
+        t_prev = std::mem::replace(&mut t, next);
+    }
+    Some(out)
 }

@@ -685,13 +685,15 @@ fn requested_exact(red: &Reduction, about: &PointId, series: &SeriesMap, choices
 pub fn root_symbol(k: &Field, f: &Poly) -> (String, String) {
     let c2 = f.to_univariate(0).get(2).cloned().unwrap_or_else(|| Poly::int(1));
     let monic = c2 == Poly::int(1);
-    let name = crate::ode::fresh_name(if monic { "θ" } else { "φ" }, k.names());
+    let theta = crate::algebra::print::root_letter(k.names()).text;
+    let letter = if monic { theta } else { crate::algebra::print::scaled_root_letter(k.names()).text };
+    let name = crate::ode::fresh_name(letter, k.names());
     let ftext = crate::algebra::print::poly_text(f, &Int::ONE, k.names(), Style::Text);
     let what = if monic {
         format!("{name}, a root of {ftext}")
     } else {
         let c2text = crate::algebra::print::poly_text(&c2, &Int::ONE, k.names(), Style::Text);
-        format!("{name} = {c2text}*θ, θ a root of {ftext}")
+        format!("{name} = {c2text}*{theta}, {theta} a root of {ftext}")
     };
     (name, what)
 }

@@ -307,7 +307,10 @@ pub fn try_problem(red: &Reduction, values: &[GRat], freq: usize, kind: Spectrum
     let mut notes = Vec::new();
     let ends = match &given {
         Some(g) => given_ends(g, &real_points, &infinity)?,
-        None => natural_ends(&real_points, &infinity, (&ode, &unknown), &mut notes)?,
+        None => match cosine_ends(red, &real_points, &mut notes) {
+            Some(ends) => ends,
+            None => natural_ends(&real_points, &infinity, (&ode, &unknown), &mut notes)?,
+        },
     };
     let [left, right] = end_conditions(ends, given.as_ref(), kind)?;
     if let (Location::At(a), Location::At(b)) = (left.location, right.location) {
@@ -477,6 +480,23 @@ fn given_ends(given: &GivenEnds, real_points: &[RealPoint], infinity: &Infinity)
         }
     }
     Ok([out[0].clone(), out[1].clone()])
+}
+
+/// For an equation written in an angle x and solved in w = cos(kx) (the
+/// coefficients' poles at x = 0 and π/k): the interval between those
+/// poles, w from −1 to 1; w = ∞ is no real x.
+fn cosine_ends(red: &Reduction, real_points: &[RealPoint], notes: &mut Vec<String>) -> Option<[FoundEnd; 2]> {
+    let map = red.map.as_ref().filter(|m| m.form == crate::ode::MapForm::Cos)?;
+    let at = |z: f64| real_points.iter().find(|p| (p.z - z).abs() <= 1e-12);
+    let (lo, hi) = (at(-1.0)?, at(1.0)?);
+    notes.push(format!(
+        "the equation is even in {x} with poles between which {map} runs once over (−1, 1): the domain is that interval (name other ends with {opt_ends})",
+        x = map.old_var,
+        map = crate::ode::exp_map_text(map, &red.ode),
+        opt_ends = RequestInput::Ends.mention()
+    ));
+    let end = |p: &RealPoint| FoundEnd { location: Location::At(p.z), nature: p.nature, found: describe(p) };
+    Some([end(lo), end(hi)])
 }
 
 /// The ends a physicist means when none are given: from the outermost

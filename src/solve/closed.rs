@@ -74,6 +74,36 @@ pub struct Family {
     pub radical: Option<Surd>,
     /// Its range of n.
     pub range: NRange,
+    /// The value and κ_n before their reduction to a + b√r, for numbers.
+    pub unreduced: Option<Unreduced>,
+}
+
+/// A family's value and κ_n as rational functions of n, the parameters and
+/// the symbol s of the parameters' square root (s² = `radicand`, principal
+/// root), before the root was cleared from their denominators. Reducing to
+/// a + b√r divides by the norm of the denominator, which vanishes where the
+/// root is rational at an integer n (the Kratzer levels at 8Da² + 1 a perfect
+/// square): the reduced form is 0/0 there and loses digits near there, this
+/// one does not.
+#[derive(Clone, Debug)]
+pub struct Unreduced {
+    /// The spectral parameter.
+    pub value: RatFunc,
+    /// κ_n, when the condition was solved for it.
+    pub kappa: Option<RatFunc>,
+    /// s².
+    pub radicand: RatFunc,
+}
+
+impl Unreduced {
+    /// The value of `x` (one of this form's functions) at `vals` (one per
+    /// variable of the closed form's field; n and s set here).
+    fn eval(&self, x: &RatFunc, vals: &[Complex64], nv: usize, sv: usize, n: u32) -> Option<Complex64> {
+        let mut v = vals.to_vec();
+        v[nv] = Complex64::new(n as f64, 0.0);
+        v[sv] = crate::solve::eval_at(&self.radicand, &v)?.sqrt();
+        crate::solve::eval_at(x, &v).filter(|z| z.is_finite())
+    }
 }
 
 /// The closed form of a spectrum.
@@ -655,9 +685,14 @@ fn solve(cx: &Ctx, c: &RatFunc, rad: &Radicals, label: &str) -> Result<std::resu
     let coeffs = p.num().to_univariate(u);
     let has_s = p.uses_var(cx.sv);
     let param_r = rad.param.clone().unwrap_or_else(RatFunc::zero);
+    // Each root, with its unreduced form where reducing divided by a norm.
+    let mut unreduced_root = None;
     let roots: Vec<(Surd, &str)> = match coeffs.len() {
         2 => {
             let x = k.neg(&k.div(&RatFunc::from_poly(coeffs[0].clone()), &RatFunc::from_poly(coeffs[1].clone()))?);
+            if x.uses_var(cx.sv) {
+                unreduced_root = Some(x.clone());
+            }
             vec![(as_surd(k, &x, cx.sv, &param_r)?, "")]
         }
         3 if !has_s => {
@@ -686,13 +721,21 @@ fn solve(cx: &Ctx, c: &RatFunc, rad: &Radicals, label: &str) -> Result<std::resu
         let root = tidy(cx, root)?;
         let lab = if which.is_empty() { label.to_string() } else { format!("{label}; {which}") };
         if !via_kappa {
-            out.push(Family { label: lab, value: root, radical: None, range: NRange { last: None, bound: None, branch: String::new() } });
+            let unreduced = unreduced_root.as_ref().map(|x| Unreduced { value: x.clone(), kappa: None, radicand: param_r.clone() });
+            out.push(Family { label: lab, value: root, radical: None, range: NRange { last: None, bound: None, branch: String::new() }, unreduced });
             continue;
         }
         let r = rad.spectral.as_ref().expect("κ from a spectral radicand");
         let sq = surd_mul(k, &root, &root)?;
-        let value = match &r_lin {
-            Some((r0, r1)) => Surd { a: k.div(&k.sub(&sq.a, r0)?, r1)?, b: k.div(&sq.b, r1)?, r: sq.r.clone() },
+        let (value, unreduced) = match &r_lin {
+            Some((r0, r1)) => {
+                let value = Surd { a: k.div(&k.sub(&sq.a, r0)?, r1)?, b: k.div(&sq.b, r1)?, r: sq.r.clone() };
+                let unreduced = match &unreduced_root {
+                    Some(x) => Some(Unreduced { value: k.div(&k.sub(&k.mul(x, x)?, r0)?, r1)?, kappa: Some(x.clone()), radicand: param_r.clone() }),
+                    None => None,
+                };
+                (value, unreduced)
+            }
             None => {
                 // R = r0 + r2 ω²: ω = ±√((κ² − r0)/r2) when κ is rational.
                 let r2 = k.compose(&k.deriv(&k.deriv(r, cx.freq)?, cx.freq)?, cx.freq, &RatFunc::zero())?;
@@ -707,12 +750,12 @@ fn solve(cx: &Ctx, c: &RatFunc, rad: &Radicals, label: &str) -> Result<std::resu
                 let rr = k.div(&k.sub(&sq.a, &r0)?, &half)?;
                 let plus = tidy(cx, Surd { a: RatFunc::zero(), b: RatFunc::one(), r: rr.clone() })?;
                 let minus = tidy(cx, Surd { a: RatFunc::zero(), b: rat(-1, 1), r: rr })?;
-                out.push(kappa_family(cx, format!("{lab}; ω = +√"), plus, root.clone())?);
-                out.push(kappa_family(cx, format!("{lab}; ω = −√"), minus, root)?);
+                out.push(kappa_family(cx, format!("{lab}; ω = +√"), plus, root.clone(), None)?);
+                out.push(kappa_family(cx, format!("{lab}; ω = −√"), minus, root, None)?);
                 continue;
             }
         };
-        out.push(kappa_family(cx, lab, tidy(cx, value)?, root)?);
+        out.push(kappa_family(cx, lab, tidy(cx, value)?, root, unreduced)?);
     }
     Ok(Ok(out))
 }
@@ -755,12 +798,16 @@ fn tidy(cx: &Ctx, s: Surd) -> Result<Surd> {
     Ok(if same(&t) { t } else { s })
 }
 
-fn kappa_family(cx: &Ctx, label: String, value: Surd, kappa: Surd) -> Result<Family> {
+fn kappa_family(cx: &Ctx, label: String, value: Surd, kappa: Surd, unreduced: Option<Unreduced>) -> Result<Family> {
     let k = cx.k;
     let names = k.names();
     let mut last = None;
     for n in 0..=RANGE_SCAN {
-        let ok = eval_surd(cx, &kappa, n).is_some_and(|v| v.re > 0.0);
+        let kappa_n = match unreduced.as_ref().and_then(|u| u.kappa.as_ref().map(|x| (u, x))) {
+            Some((u, x)) => u.eval(x, &cx.vals, cx.nv, cx.sv, n),
+            None => eval_surd(cx, &kappa, n),
+        };
+        let ok = kappa_n.is_some_and(|v| v.re > 0.0);
         if !ok {
             last = if n == 0 { Some(u32::MAX) } else { Some(n - 1) };
             break;
@@ -776,7 +823,7 @@ fn kappa_family(cx: &Ctx, label: String, value: Surd, kappa: Surd) -> Result<Fam
         bound = Some((nu.text(names), nu.latex(names)));
     }
     let range = NRange { last, bound, branch: "Re κ_n > 0 (κ the square root in the exponents that holds the spectral parameter)".into() };
-    Ok(Family { label, value, radical: Some(kappa), range })
+    Ok(Family { label, value, radical: Some(kappa), range, unreduced })
 }
 
 impl Surd {
@@ -842,6 +889,10 @@ impl ClosedForm {
             return None;
         }
         let vals = numeric_values(values, self.names.len());
+        if let Some(u) = &family.unreduced {
+            // n, then κ and s (see `derive`).
+            return u.eval(&u.value, &vals, self.n_index, self.n_index + 2, n);
+        }
         let mut v = vals.clone();
         v[self.n_index] = Complex64::new(n as f64, 0.0);
         let a = crate::solve::eval_at(&family.value.a, &v)?;

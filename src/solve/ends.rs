@@ -904,6 +904,9 @@ fn real_axis_roots(bp: &BoundaryProblem, want: usize, tol: f64, part: RealScan) 
             if !r.converged || r.omega.im.abs() > 1e-8 * r.omega.norm().max(1.0) || below {
                 continue;
             }
+            // A real problem's eigenvalue: the imaginary part left by the
+            // complex root search is rounding.
+            let r = IntRoot { omega: Complex64::new(r.omega.re, 0.0), ..r };
             if found.iter().any(|(f, _)| (f.omega - r.omega).norm() <= 1e-7 * r.omega.norm().max(1e-3)) {
                 continue;
             }

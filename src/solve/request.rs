@@ -865,19 +865,7 @@ fn bound_at_horizon(red: &Reduction, req: &SpectrumRequest) -> Result<Option<Str
         return Ok(None);
     }
     let Ok(bp) = super::boundary::try_problem(&red, &point, freq, SpectrumKind::Bound, None) else { return Ok(None) };
-    let oscillating = |z: f64| {
-        [0.41, 1.27].iter().all(|&w| {
-            super::boundary::exponents_at(&bp.ode, z, Complex64::new(w, 0.0)).is_some_and(|e| {
-                let size = 1.0 + e[0].norm() + e[1].norm();
-                (e[0].re - e[1].re).abs() <= 1e-9 * size && (e[0].im - e[1].im).abs() > 1e-6 * size
-            })
-        })
-    };
-    let horizon = bp.ends.iter().find_map(|e| match (e.nature, e.location) {
-        (super::boundary::Nature::Horizon, Location::At(z)) if oscillating(z) => Some(z),
-        _ => None,
-    });
-    Ok(horizon.map(|z| {
+    Ok(oscillating_horizon(&bp).map(|z| {
         format!(
             "bound states were asked for, but {var} = {z} is a horizon: its exponents have equal real parts for every real {fname} (±i·{fname}/(2κ)), so no real {fname} is normalisable there; solved as quasi-bound states, the physical problem of a field around a black hole: into the horizon, decaying (or normalisable) at the far end (ask for them directly with {opt_boundary} quasi-bound)",
             var = red.var,
@@ -885,6 +873,28 @@ fn bound_at_horizon(red: &Reduction, req: &SpectrumRequest) -> Result<Option<Str
             opt_boundary = RequestInput::Boundary.mention()
         )
     }))
+}
+
+/// The first finite end of `bp` with the physics of a horizon: its two
+/// exponents have equal real parts and differ in their imaginary parts at
+/// real values of the spectral parameter of either sign (±i·ω/(2κ)), so that
+/// no real value
+/// is normalisable there. Ends whose exponents move with the eigenvalue but
+/// split in real part (e^(−κx) at the far end of an exponential potential
+/// brought to a finite point) are not such ends.
+fn oscillating_horizon(bp: &BoundaryProblem) -> Option<f64> {
+    let oscillating = |z: f64| {
+        [0.41, 1.27, -0.41, -1.27].iter().all(|&w| {
+            super::boundary::exponents_at(&bp.ode, z, Complex64::new(w, 0.0)).is_some_and(|e| {
+                let size = 1.0 + e[0].norm() + e[1].norm();
+                (e[0].re - e[1].re).abs() <= 1e-9 * size && (e[0].im - e[1].im).abs() > 1e-6 * size
+            })
+        })
+    };
+    bp.ends.iter().find_map(|e| match (e.nature, e.location) {
+        (super::boundary::Nature::Horizon, Location::At(z)) if oscillating(z) => Some(z),
+        _ => None,
+    })
 }
 
 /// For an exact value no numeric mode matches (to [`CONFIRMED`]): the
@@ -1542,8 +1552,15 @@ fn numeric_route(red: &Reduction, req: &SpectrumRequest, seeds: Vec<Complex64>) 
         )));
     }
     let bp = problem?;
-    if kind == SpectrumKind::Bound && bp.ends.iter().any(|e| e.nature == super::boundary::Nature::Horizon) {
-        return Err(usage(format!("a bound-state problem between given ends cannot end at a horizon (its exponents depend on the eigenvalue): use {opt_boundary} qnm or quasi-bound", opt_boundary = RequestInput::Boundary.mention())).in_option(RequestInput::Ends));
+    if let Some(z) = oscillating_horizon(&bp).filter(|_| kind == SpectrumKind::Bound) {
+        return Err(usage(format!(
+            "a bound-state problem between given ends cannot end at the horizon {var} = {z}: its exponents have equal real parts for every real {fname}, so no real value is normalisable there; use {opt_boundary} qnm or quasi-bound",
+            var = red.var,
+            z = super::boundary::fmt(z),
+            fname = red.field.names()[freq],
+            opt_boundary = RequestInput::Boundary.mention()
+        ))
+        .in_option(RequestInput::Ends));
     }
     let report = between_ends(bp, req, &opts, None);
     let f = ends_functions(req, &report);
@@ -2380,8 +2397,12 @@ fn collocation_checks(bp: &BoundaryProblem, modes: &[EndMode], why: &str) -> (Ve
                 return None;
             }
             let w = m.root.omega;
-            let r = super::global::collocation_root(bp, w, AGREE);
+            let mut r = super::global::collocation_root(bp, w, AGREE);
             grids = grids.max(r.grids);
+            if bp.kind == SpectrumKind::Bound && r.omega.im.abs() <= 1e-8 * r.omega.norm().max(bp.scale) {
+                // A real problem's eigenvalue: the imaginary part is rounding.
+                r.omega.im = 0.0;
+            }
             let reach = 1e-4 * w.norm().max(bp.scale);
             Some(if r.converged && (r.omega - w).norm() <= reach {
                 SpectralCheck {

@@ -435,7 +435,10 @@ pub fn qnm_setup(rec: &crate::series::Recurrence, adjoined: Adjoined, an: crate:
                 _ => None,
             };
             let place = an.points[index].place.id();
-            (format!("θ ≈ {value:.15}, the outer real root; the formulas use {meaning}"), value, theta, place)
+            // The adjoined symbol is the recurrence field's last name.
+            let names = rec.field.names();
+            let letter = crate::algebra::print::root_letter(&names[..names.len().saturating_sub(1)]).text;
+            (format!("{letter} ≈ {value:.15}, the outer real root; the formulas use {meaning}"), value, theta, place)
         }
     };
     Setup { horizon, horizon_value, ansatz, choices: said, terms: rec.coeffs.len(), place, picks: choice.picks, theta, analysis: an, rate }

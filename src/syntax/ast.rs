@@ -122,6 +122,16 @@ pub enum Func {
     Cos,
     /// `tan`
     Tan,
+    /// `coth`
+    Coth,
+    /// `csch`
+    Csch,
+    /// `cot`
+    Cot,
+    /// `csc`
+    Csc,
+    /// `sec`
+    Sec,
 }
 
 impl Func {
@@ -136,6 +146,11 @@ impl Func {
             "sin" => Func::Sin,
             "cos" => Func::Cos,
             "tan" => Func::Tan,
+            "coth" => Func::Coth,
+            "csch" => Func::Csch,
+            "cot" => Func::Cot,
+            "csc" => Func::Csc,
+            "sec" => Func::Sec,
             _ => return None,
         })
     }
@@ -150,11 +165,16 @@ impl Func {
             Func::Sin => "sin",
             Func::Cos => "cos",
             Func::Tan => "tan",
+            Func::Coth => "coth",
+            Func::Csch => "csch",
+            Func::Cot => "cot",
+            Func::Csc => "csc",
+            Func::Sec => "sec",
         }
     }
-    /// True for sin, cos and tan.
+    /// True for sin, cos, tan and their reciprocals.
     pub fn is_trigonometric(self) -> bool {
-        matches!(self, Func::Sin | Func::Cos | Func::Tan)
+        matches!(self, Func::Sin | Func::Cos | Func::Tan | Func::Cot | Func::Csc | Func::Sec)
     }
 }
 

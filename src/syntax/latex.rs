@@ -46,6 +46,9 @@ pub const GREEK_LETTERS: &[&str] = &[
     "upsilon",
     "phi",
     "varphi",
+    "varpi",
+    "varrho",
+    "varsigma",
     "chi",
     "psi",
     "omega",
@@ -63,8 +66,10 @@ pub const GREEK_LETTERS: &[&str] = &[
 ];
 
 /// Words that, spelled by juxtaposed letters, surely meant something else.
-const SPELLED_WORDS: &[&str] =
-    &["sqrt", "frac", "cdot", "left", "right", "partial", "hbar", "ell", "exp", "sin", "cos", "tan", "sinh", "cosh", "tanh", "sech", "log", "ln"];
+const SPELLED_WORDS: &[&str] = &[
+    "sqrt", "frac", "cdot", "left", "right", "partial", "hbar", "ell", "exp", "sin", "cos", "tan", "sinh", "cosh", "tanh", "sech", "coth", "csch",
+    "cot", "csc", "sec", "log", "ln",
+];
 
 /// Commands that only size or space, dropped where they stand.
 const IGNORED: &[&str] = &[
@@ -91,7 +96,7 @@ const IGNORED: &[&str] = &[
 ];
 
 /// Transcendental functions, named in the message that they are not read here.
-const FUNCTIONS: &[&str] = &["csch", "coth", "cot", "sec", "csc", "log", "ln"];
+const FUNCTIONS: &[&str] = &["log", "ln", "arctan", "arcsin", "arccos"];
 
 #[derive(Clone, Debug, PartialEq)]
 enum T {
@@ -523,7 +528,8 @@ impl<'a> Reader<'a> {
     fn check_spelled(&self, from: usize, to: usize) -> Result<()> {
         let mut k = from;
         while k < to {
-            if matches!(&self.toks[k].t, T::Cmd(c) if matches!(c.as_str(), "mathrm" | "text" | "textrm" | "operatorname" | "mathit")) {
+            if matches!(&self.toks[k].t, T::Cmd(c) if matches!(c.as_str(), "mathrm" | "text" | "textrm" | "operatorname" | "mathit" | "mathcal" | "mathbf" | "mathsf" | "mathtt"))
+            {
                 // An upright word is one name: skip its group.
                 if self.toks.get(k + 1).map(|t| &t.t) == Some(&T::Open('{')) {
                     k = self.group_range(k + 1).map_or(k + 1, |(_, close)| close + 1);
@@ -685,20 +691,35 @@ impl<'a> Reader<'a> {
         if !head_is_name || self.peek().map(|t| &t.t) != Some(&T::Open('(')) {
             return Ok(a);
         }
-        let save = self.pos;
-        let arg = self.atom()?;
-        let _ = save;
+        let mut arg = self.atom()?;
         if matches!(arg.expr.kind, ExprKind::Name(_)) {
             let app = self.binary(BinOp::Mul, a, arg)?;
             self.applications.push(app.expr.span);
             return Ok(app);
         }
+        // Not `f(r)`: a product, whose power belongs to the bracket alone
+        // (D(1 + x)^2 is D·(1 + x)², as in print).
+        if self.peek().is_some_and(|t| t.t == T::Caret) && !self.caret_is_prime() {
+            self.pos += 1;
+            let exp = self.superscript()?;
+            arg = self.binary(BinOp::Pow, arg, exp)?;
+            if let Some(t) = self.peek().filter(|t| t.t == T::Caret) {
+                return Err(syntax("double superscript: write a^{b c} or (a^b)^c", t.span));
+            }
+        }
         self.binary(BinOp::Mul, a, arg)
+    }
+
+    /// Whether the `^` at the cursor opens a prime superscript (`^{\prime}`).
+    fn caret_is_prime(&self) -> bool {
+        let at = |k: usize| self.toks.get(self.pos + k).map(|t| &t.t);
+        let prime = |t: Option<&T>| matches!(t, Some(T::Cmd(c)) if c == "prime");
+        prime(at(1)) || (at(1) == Some(&T::Open('{')) && prime(at(2)))
     }
 
     /// A name: a letter or a Greek command, with a subscript as part of it.
     fn name_at(&mut self, base: String, span: Span) -> Result<Node> {
-        let mut name = base;
+        let mut name = greek_name(&base).to_string();
         let mut span = span;
         if let Some(Tok { t: T::Under, .. }) = self.peek() {
             self.pos += 1;
@@ -719,7 +740,7 @@ impl<'a> Reader<'a> {
                 T::Minus => "minus".into(),
                 T::Star => "star".into(),
                 T::Cmd(c) if c == "ast" || c == "star" => "star".into(),
-                T::Cmd(c) if GREEK_LETTERS.contains(&c.as_str()) => c.clone(),
+                T::Cmd(c) if GREEK_LETTERS.contains(&c.as_str()) => greek_name(c).to_string(),
                 _ => return None,
             })
         };
@@ -731,12 +752,20 @@ impl<'a> Reader<'a> {
             let open = t.span;
             let (mut k, mut depth, mut text) = (self.pos + 1, 0usize, String::new());
             let bad = "a subscript is part of a name: letters, digits, +, - or *";
+            // A font command (`r_{\rm h}`, `r_{\mathrm{h}}`) only styles the letters.
+            let style = |t: &T| matches!(t, T::Cmd(c) if matches!(c.as_str(), "rm" | "mathrm" | "text" | "textrm" | "mathit" | "it"));
+            let mut styled = false;
             loop {
                 let Some(t) = self.toks.get(k) else { return Err(syntax("unbalanced braces: '{' is never closed", open)) };
+                if style(&t.t) {
+                    styled = true;
+                    k += 1;
+                    continue;
+                }
                 match &t.t {
                     T::Close('}') if depth == 0 => break,
                     T::Close('}') => depth -= 1,
-                    T::Open('{') if !text.is_empty() => depth += 1,
+                    T::Open('{') if !text.is_empty() || styled => depth += 1,
                     T::Under if !text.is_empty() && !text.ends_with('_') => text.push('_'),
                     _ => match piece(t, self.src) {
                         Some(p) => text.push_str(&p),
@@ -847,7 +876,7 @@ impl<'a> Reader<'a> {
             "varphi" => self.name_at("phi".into(), span),
             "hbar" => self.name_at("hbar".into(), span),
             g if GREEK_LETTERS.contains(&g) => self.name_at(g.to_string(), span),
-            "mathrm" | "text" | "textrm" | "operatorname" | "mathit" => {
+            "mathrm" | "text" | "textrm" | "operatorname" | "mathit" | "mathcal" | "mathbf" | "mathsf" | "mathtt" => {
                 let (word, end) = self.word()?;
                 if word == "d" {
                     if let Some(d) = self.leibniz_slash(at)? {
@@ -1057,6 +1086,21 @@ impl<'a> Reader<'a> {
 
     /// `\frac{a}{b}`, or a derivative `\frac{d^2R}{dr^2}` / `\frac{d}{dr}` (an operator on the next factor).
     fn fraction(&mut self, span: Span) -> Result<Node> {
+        // `\frac14`: LaTeX takes one digit for each argument.
+        if let Some(t) = self.peek().filter(|t| t.t == T::Number && t.span.end - t.span.start == 2) {
+            let s = t.span;
+            if self.text(s).bytes().all(|b| b.is_ascii_digit()) {
+                self.pos += 1;
+                let digit = |k: usize| Expr {
+                    kind: ExprKind::Number(self.text(Span::new(s.start + k, s.start + k + 1)).to_string()),
+                    span: Span::new(s.start + k, s.start + k + 1),
+                };
+                let (num, den) = (Node { expr: digit(0), height: 0 }, Node { expr: digit(1), height: 0 });
+                let mut out = self.binary(BinOp::Div, num, den)?;
+                out.expr.span = span.to(s);
+                return Ok(out);
+            }
+        }
         let (ns, ne) = self.group_range(self.pos)?;
         let (ds, de) = self.group_range(ne + 1)?;
         if let (Some(after_d), Some((wrt, below, end))) = (self.differential(ns, ne), self.lower_differential(ds, de)?) {
@@ -1196,6 +1240,19 @@ impl<'a> Reader<'a> {
     }
 }
 
+/// The name a Greek command stands for: the `\\var…` forms of ε, θ, φ, ρ
+/// and ς are the letters themselves (ϖ stays its own letter).
+fn greek_name(c: &str) -> &str {
+    match c {
+        "varepsilon" => "epsilon",
+        "vartheta" => "theta",
+        "varphi" => "phi",
+        "varrho" => "rho",
+        "varsigma" => "sigma",
+        other => other,
+    }
+}
+
 fn unknown_command(name: &str, span: Span) -> Error {
     syntax(format!("unknown LaTeX command '\\{name}'"), span).note("the LaTeX subset read is listed in grammar/latex.md")
 }
@@ -1203,10 +1260,10 @@ fn unknown_command(name: &str, span: Span) -> Error {
 fn transcendental(what: &str, span: Span) -> Error {
     Error::new(
         ErrorKind::NotRational,
-        format!("{what} is not read: of the transcendental functions only exp, sinh, cosh, tanh, sech, sin, cos and tan are"),
+        format!("{what} is not read: of the transcendental functions only exp and the hyperbolic and trigonometric functions (sinh, cosh, tanh, coth, sech, csch, sin, cos, tan, cot, sec, csc) are"),
     )
     .at(span)
-    .note("write it through those (e.g. \\coth = \\cosh/\\sinh), or change the variable by hand")
+    .note("write the equation through those, or change the variable by hand")
 }
 
 /// One relation read: its two sides and where it was written.
