@@ -39,6 +39,24 @@ pub(crate) enum PlotStyle {
     Map,
 }
 
+/// The boundary problems a survey solves at every point.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub(crate) enum ScanProblem {
+    /// Quasinormal modes: the wave leaves the domain through both ends.
+    Qnm,
+    /// Quasi-bound states: into the horizon, decaying at an irregular infinity.
+    QuasiBound,
+}
+
+impl ScanProblem {
+    fn problem(self) -> crate::solve::request::Problem {
+        match self {
+            ScanProblem::Qnm => crate::solve::request::Problem::Quasinormal,
+            ScanProblem::QuasiBound => crate::solve::request::Problem::QuasiBound,
+        }
+    }
+}
+
 /// Arguments of `scan`.
 #[derive(Args, Debug)]
 pub(crate) struct ScanArgs {
@@ -80,7 +98,7 @@ pub(crate) struct ScanArgs {
     /// The boundary problem at every point: qnm (the default) or quasi-bound
     /// (a massive field's states decaying at infinity).
     #[arg(long = "boundary", value_enum, default_value = "qnm")]
-    boundary: crate::solve::request::Problem,
+    boundary: ScanProblem,
     /// Relative tolerance on ω.
     #[arg(long = "tol", default_value_t = 1e-10)]
     tol: f64,
@@ -108,7 +126,10 @@ pub(crate) fn run(a: &ScanArgs) -> u8 {
 }
 
 fn usage(msg: impl Into<String>, option: &str, len: usize) -> Failure {
-    Error::new(ErrorKind::Usage, msg).at(crate::syntax::Span::new(0, len.max(1))).in_named(option).into()
+    let e = Error::new(ErrorKind::Usage, msg);
+    // A span only where the option's text is shown (none for a choice among values).
+    let e = if len == 0 { e } else { e.at(crate::syntax::Span::new(0, len)) };
+    e.in_named(option).into()
 }
 
 fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
@@ -149,13 +170,8 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     if a.resume && layout.is_none() {
         return Err(usage("--resume continues a streamed table: use --format csv or jsonl", "--format", 4));
     }
-    use crate::solve::request::Problem;
-    match (a.boundary, &coupled) {
-        (Problem::Quasinormal, _) | (Problem::QuasiBound, None) => {}
-        (Problem::QuasiBound, Some(_)) => return Err(usage("a coupled scan surveys quasinormal modes only: --boundary qnm", "--boundary", 0)),
-        (Problem::Bound | Problem::Periodic, _) => {
-            return Err(usage("scan surveys quasinormal modes or quasi-bound states: --boundary qnm or quasi-bound", "--boundary", 0))
-        }
+    if let (ScanProblem::QuasiBound, Some(_)) = (a.boundary, &coupled) {
+        return Err(usage("a coupled scan surveys quasinormal modes only: --boundary qnm", "--boundary", 0));
     }
     let base = SpectrumOptions::new(freq, point, (o0, o1), tol, guess);
     // A coupled scan sets its angular problem up at the first point here, so
@@ -205,7 +221,7 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
             None => red,
         };
         match &angular_text {
-            None => Ok(survey_solver(red, &fields, a.boundary == crate::solve::request::Problem::QuasiBound)),
+            None => Ok(survey_solver(red, &fields, a.boundary == ScanProblem::QuasiBound)),
             Some(text) => {
                 let ared = crate::ode::reduce(&crate::ode::Input::Program(text), &crate::ode::ReduceOptions::default())?;
                 let (names, links, at) = (names.clone(), links.clone(), angular_at.clone());
@@ -545,7 +561,7 @@ fn survey_id(a: &ScanArgs, src: &super::Source, walk: &Walk) -> String {
         src.latex
     );
     // The default problem keeps the identities of earlier tables.
-    let key = match a.boundary {
+    let key = match a.boundary.problem() {
         crate::solve::request::Problem::Quasinormal => key,
         other => format!("{key}\u{0}{}", other.tag()),
     };

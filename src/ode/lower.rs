@@ -662,7 +662,14 @@ fn linear_slope(field: &Field, names: &[String], arg: &Expr) -> Result<(RatFunc,
     let v = lower_rational(field, names, &[], arg)?;
     let a = field.deriv(&v, 0)?;
     if a.uses_var(0) || a.is_zero() {
-        return Err(err(ErrorKind::NotRational, format!("the argument must be a nonzero multiple of '{}' (linear in it)", names[0]), arg.span));
+        let e = err(ErrorKind::NotRational, format!("the argument must be a nonzero multiple of '{}' (linear in it)", names[0]), arg.span);
+        // A constant argument: e² read as Euler's number squared, where
+        // the charge e was meant, is the usual way in.
+        return Err(if a.is_zero() {
+            e.note("the argument is a constant: e^{…} is read as the exponential function; if e is a charge, give it another name (q_e, e_0)")
+        } else {
+            e
+        });
     }
     let rest = field.sub(&v, &field.mul(&a, &field.var(0))?)?;
     let shift = field.neg(&field.div(&rest, &a)?);

@@ -387,7 +387,11 @@ fn real_singular_points(
     for p in real_points.iter_mut().filter(|p| !p.ordinary) {
         let w = Complex64::new(0.7, 0.0);
         if exponents_at(ode, p.z, w).is_none() {
-            return Err(usage(format!("z = {} is an irregular singular point: an end there is not supported yet", p.z)));
+            return Err(usage(format!(
+                "{} = {} is an irregular singular point on the real axis (a degenerate horizon, as an extremal black hole's, is one): an end there is not supported yet",
+                field.names()[0],
+                fmt(p.z)
+            )));
         }
         if is_horizon(ode, p.z) {
             p.nature = Nature::Horizon;

@@ -331,6 +331,26 @@ pub fn try_bound_states(
         .collect())
 }
 
+/// Under a named map ζ = e^(c·x) with a singular point at ζ = 1 (x = 0, a
+/// centre such as r = 0 of a radial equation written with e^(r/a)): the
+/// side x > 0, ζ > 1 for c > 0 and 0 < ζ < 1 for c < 0, up to the next
+/// real singular point on that side (`ends`: the sorted real ones).
+fn exp_side(red: &crate::ode::Reduction, point: &[GRat], ends: &[f64]) -> Option<Domain> {
+    let map = red.map.as_ref().filter(|m| m.form == crate::ode::MapForm::Exp)?;
+    let c = map.c.eval(point)?.to_f64();
+    if c.1 != 0.0 || c.0 == 0.0 || !ends.iter().any(|z| (z - 1.0).abs() <= 1e-12) {
+        return None;
+    }
+    if c.0 > 0.0 {
+        Some(match ends.iter().find(|z| **z > 1.0 + 1e-12) {
+            Some(b) => Domain::Finite(1.0, *b),
+            None => Domain::HalfLine(1.0),
+        })
+    } else {
+        Some(Domain::Finite(ends.iter().rev().find(|z| **z < 1.0 - 1e-12 && **z >= 0.0).copied().unwrap_or(0.0), 1.0))
+    }
+}
+
 /// The interval of a bound-state problem, its continuum edge and the ends
 /// that are singular for the family only (see below): the
 /// interval runs between the two largest real singular points, those of the
@@ -362,10 +382,11 @@ pub fn bound_problem(red: &crate::ode::Reduction, freq: usize, point: &[GRat]) -
     let family = super::boundary::ordinary_family_points(red, point, freq).unwrap_or_default();
     ends.extend(family.iter().copied());
     ends.sort_by(|x, y| x.partial_cmp(y).unwrap_or(std::cmp::Ordering::Equal));
-    let domain = match ends.as_slice() {
-        [] => Domain::Line,
-        [a0] => Domain::HalfLine(*a0),
-        [.., x, y] => Domain::Finite(*x, *y),
+    let domain = match (exp_side(red, point, &ends), ends.as_slice()) {
+        (Some(d), _) => d,
+        (None, []) => Domain::Line,
+        (None, [a0]) => Domain::HalfLine(*a0),
+        (None, [.., x, y]) => Domain::Finite(*x, *y),
     };
     let threshold = match domain {
         Domain::Finite(..) => f64::INFINITY,

@@ -149,8 +149,8 @@ pub type Placed<R> = (u32, std::result::Result<(R, (Complex64, String)), String>
 /// (the first from the guess, when one is given; its root is reported as
 /// not placed, with the reason, when it is not a level): level n
 /// is the first root above level n − 1 in Re ω (by more than ten times the
-/// tolerance), below the continuum `edge` when one is known, in the lower
-/// right quadrant. Its own estimate is tried first; a root that repeats a
+/// tolerance), below the continuum `edge` when one is known, with Re ω > 0
+/// (a growing level, Im ω > 0, is kept: the report warns of it). Its own estimate is tried first; a root that repeats a
 /// level or falls outside that window is replaced by the first acceptable
 /// root from [`BRACKET_SEEDS`] seeds evenly spaced between level n − 1 and
 /// the edge; an accepted root is searched below from half way back to
@@ -198,8 +198,10 @@ pub fn in_order<R: LevelRoot>(
             if let Some((m, _)) = placed.iter().find(|(_, v)| (v - w).norm() <= margin) {
                 return Some(format!("the root {} is level {m}'s again", text(w)));
             }
-            if !(w.re > 0.0 && w.im < 0.0) {
-                return Some(format!("the root {} is not in the lower right quadrant (Re ω > 0, Im ω < 0)", text(w)));
+            // A level may grow (Im ω > 0: superradiance around a rotating
+            // black hole); the report says so.
+            if w.re <= 0.0 {
+                return Some(format!("the root {} is not in the right half-plane (Re ω > 0)", text(w)));
             }
             if let Some(e) = edge.filter(|e| w.re >= *e) {
                 return Some(format!("the root {} is at or above the continuum edge Re ω = {e:.12e}", text(w)));

@@ -354,7 +354,7 @@ fn bound_route(
             Domain::Line => None,
         };
         let problem = given.map(|g| super::boundary::try_problem(red, point, freq, SpectrumKind::Bound, Some(g)));
-        let Some(Ok(bp)) = problem else {
+        let Some(Ok(mut bp)) = problem else {
             // Singular only at 0 and ∞ (an equation in ζ = e^(2ix)): the
             // problem meant may be the periodic one on the circle |ζ| = 1.
             let circle = super::try_num_ode(&red.field, &red.p, &red.q, point, freq).is_ok_and(|o| super::periodic::poses(&o));
@@ -366,6 +366,10 @@ fn bound_route(
             let notes = why.into_iter().chain(b.notes.iter().cloned()).chain(hint).collect();
             return Ok((Body::Bound(BoundReport { notes, ..b }), f));
         };
+        // The ends are the collocation interval's, not the user's.
+        for e in &mut bp.ends {
+            e.found = e.found.replace(", given", ", an end of the interval");
+        }
         let note = with_why("collocation with ψ = 0 at the ends did not converge on every state asked for: the interval is solved as a problem between its ends (the regular exponent at each), by direct integration".to_string());
         let report = between_ends_as(bp, Problem::Bound, opts, Some(note));
         if report.modes.iter().filter(|m| m.root.converged).count() < confirmed {
@@ -676,12 +680,27 @@ fn point(red: &Reduction, req: &SpectrumRequest, freq: usize) -> Result<Vec<GRat
         }
         match names.iter().skip(1).position(|x| x == n) {
             Some(i) if i + 1 == freq => {
+                // Every other parameter given: the one left is what the user solves for.
+                let left: Vec<&String> = names
+                    .iter()
+                    .enumerate()
+                    .skip(1)
+                    .filter(|(j, m)| *j != freq && !req.values.iter().any(|(v, _, _)| v == *m))
+                    .map(|(_, m)| m)
+                    .collect();
+                let other = match left.as_slice() {
+                    [one] => format!(
+                        " (to solve for '{one}' with '{n}' held at this value, add {opt_frequency} {one})",
+                        opt_frequency = RequestInput::Frequency.mention()
+                    ),
+                    _ => String::new(),
+                };
                 return Err(usage(format!(
-                    "'{n}' is the frequency being solved for; give a seed with {opt_guess} instead",
+                    "'{n}' is the spectral parameter being solved for; give a seed with {opt_guess} instead{other}",
                     opt_guess = RequestInput::Guess.mention()
                 ))
                 .at(*span)
-                .in_option(RequestInput::At))
+                .in_option(RequestInput::At));
             }
             Some(i) => {
                 point[i + 1] = v.clone();
@@ -842,10 +861,42 @@ fn spectrum_in(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport>
             }
         }
     }
+    beyond_the_last_level(&mut report);
     if let Some(degree) = req.polynomial {
         report.polynomial = Some(polynomial_section(red, freq, &point, degree));
     }
     Ok(report)
+}
+
+/// With one closed-form family of bound states that ends at these values
+/// (a finite well: Morse, Pöschl–Teller), a state asked for beyond its last
+/// one and not found numerically is said not to exist, rather than left to
+/// a guess.
+fn beyond_the_last_level(report: &mut SpectrumReport) {
+    if report.problem != Problem::Bound {
+        return;
+    }
+    let ClosedSection::Found { form, .. } = &report.closed else { return };
+    let [family] = form.families.as_slice() else { return };
+    let Some(last) = family.range.last else { return };
+    let count = if last == u32::MAX { 0 } else { last + 1 };
+    let why = |n: u32| match count {
+        0 => format!("there is no state n = {n}: the closed form has no state at these values"),
+        c => format!("there is no state n = {n}: the closed form has {c} at these values (n = 0..={})", c - 1),
+    };
+    match &mut report.body {
+        Body::Ends(e) if e.series.is_none() => {
+            for m in e.modes.iter_mut().filter(|m| !m.root.converged && m.n >= count) {
+                m.root.reason = why(m.n);
+            }
+        }
+        Body::Bound(b) => {
+            for s in b.states.iter_mut().filter(|s| !s.converged && s.n >= count) {
+                s.reason = Some(why(s.n));
+            }
+        }
+        _ => {}
+    }
 }
 
 /// Bound states asked for (with the default ends) where the spectral
@@ -1387,7 +1438,16 @@ fn numeric_route(red: &Reduction, req: &SpectrumRequest, seeds: Vec<Complex64>) 
         ends,
     };
     if let Some(c) = &req.couple {
-        if req.problem != Problem::Quasinormal || !matches!(req.method, Method::Auto | Method::Cf) {
+        if req.problem != Problem::Quasinormal {
+            return Err(usage(format!(
+                "a coupled solve ({opt_couple}) is set up for quasinormal modes only: coupled {} problems are not solved yet; for them, give the separation constant a value with {opt_at} (the angular eigenvalue at the expected frequency) and solve the radial equation alone",
+                req.problem.tag(),
+                opt_couple = RequestInput::Couple.mention(),
+                opt_at = RequestInput::At.mention()
+            ))
+            .in_option(RequestInput::Boundary));
+        }
+        if !matches!(req.method, Method::Auto | Method::Cf) {
             return Err(method_error(format!(
                 "a coupled solve uses the continued fraction ({opt_method} auto or cf); direct integration runs as its check",
                 opt_method = RequestInput::Method.mention()
@@ -1916,7 +1976,26 @@ fn between_ends_as(bp: BoundaryProblem, problem: Problem, opts: &SpectrumOptions
         Problem::QuasiBound => None,
     };
     let (checks, check_note) = spectral_checks(&bp, &modes);
+    let growing = growing_note(modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega)));
+    let note = match (note, growing) {
+        (Some(a), Some(b)) => Some(format!("{a}; {b}")),
+        (a, b) => a.or(b),
+    };
     EndsReport { problem: bp, modes, note, numbering, spectrum, checks, check_note, series: None }
+}
+
+/// A warning for converged modes that grow in time (Im ω > 0 under the time
+/// dependence e^(−iωt)): not decaying states but an instability, which a
+/// reader of the table must not take for a damped mode.
+pub(crate) fn growing_note(modes: impl Iterator<Item = (u32, Complex64)>) -> Option<String> {
+    let grow: Vec<String> = modes.filter(|(_, w)| w.im > 0.0).map(|(n, w)| format!("n = {n} (Im ω = {:.3e})", w.im)).collect();
+    (!grow.is_empty()).then(|| {
+        format!(
+            "GROWING: {} {} Im ω > 0, so the field grows as e^(Im ω·t): an instability, not a decaying state (around a rotating black hole, superradiance, where Re ω < m·Ω_H; Detweiler 1980, from memory)",
+            grow.join(", "),
+            if grow.len() == 1 { "has" } else { "have" }
+        )
+    })
 }
 
 /// Modes by the continued fraction of the numeric series between the ends
@@ -2487,6 +2566,7 @@ fn recurrence_route(
     let mut notes = super::spectrum::settle_special(&rec, &setup, opts, &degenerate, &mut modes)?;
     modes.retain(|m| m.n >= opts.overtones.0);
     notes.extend(super::spectrum::degenerate_notes(&setup, &degenerate, &modes));
+    notes.extend(growing_note(modes.iter().filter(|m| m.root.converged).map(|m| (m.n, m.root.omega))));
     let wkb = modes.iter().map(|m| estimates.as_ref().and_then(|e| e(m.n)).map(|b| b.series.omega())).collect();
     // The independent check: direct integration, seeded 1e-4 away from the
     // continued-fraction root (quasi-bound levels: nearer, see

@@ -943,7 +943,12 @@ impl<'a> Reader<'a> {
             // A letter with a prime or a bracket after it is an unknown or
             // a function of its own, not part of the argument.
             let applied = matches!(self.toks.get(self.pos + 1).map(|t| &t.t), Some(T::Prime(_) | T::Open('(')));
-            if !simple || applied {
+            // A spacing command (`\sin^2 x\, y`) ends the argument as it is typeset.
+            let spaced = match (self.pos.checked_sub(1).and_then(|k| self.toks.get(k)), self.toks.get(self.pos)) {
+                (Some(a), Some(b)) if a.span.end <= b.span.start => self.src[a.span.end..b.span.start].contains('\\'),
+                _ => false,
+            };
+            if !simple || applied || spaced {
                 break;
             }
             let rhs = self.factor()?;
