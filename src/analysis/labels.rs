@@ -86,10 +86,17 @@ pub fn label(k: &Field, a: &Analysis, freq: usize, point: &[GRat], given: bool) 
                     .map(|e| im_derivative_sign(k, &v0, &p.place, e, freq, point, a.physical.as_ref()))
                     .collect::<Result<_>>()?;
                 let depends = ds.iter().flatten().any(|d| *d != Ordering::Equal);
-                for d in &ds {
-                    row.push(match (depends, d) {
-                        (true, Some(Ordering::Less)) => Some(Label::Ingoing),
-                        (true, Some(_)) => Some(Label::Outgoing),
+                for (j, d) in ds.iter().enumerate() {
+                    // An exponent free of ω beside one that moves with it
+                    // (the wave's factor at the horizon taken out by hand,
+                    // as in ingoing coordinates): the two waves are told
+                    // apart by their difference, so it is the other kind.
+                    let other = ds.get(1 - j.min(1)).filter(|_| ds.len() == 2).copied().flatten();
+                    row.push(match (depends, d, other) {
+                        (true, Some(Ordering::Equal), Some(Ordering::Greater)) => Some(Label::Ingoing),
+                        (true, Some(Ordering::Equal), Some(Ordering::Less)) => Some(Label::Outgoing),
+                        (true, Some(Ordering::Less), _) => Some(Label::Ingoing),
+                        (true, Some(_), _) => Some(Label::Outgoing),
                         _ => None,
                     });
                 }

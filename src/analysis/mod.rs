@@ -363,6 +363,22 @@ pub fn p_at_infinity_pub(k: &Field, p: &RatFunc) -> Result<RatFunc> {
     p_at_infinity(k, p)
 }
 
+/// The limit of p at infinity (its z⁰ coefficient): nonzero where a factor
+/// e^(cz) was taken out of the unknown by hand (an ingoing or outgoing wave
+/// written into the equation), which shifts the unknown's exponential
+/// behaviour at infinity from ψ's by −p₀/2. `None` where p grows.
+pub fn p_limit_at_infinity(k: &Field, p: &RatFunc) -> Result<Option<RatFunc>> {
+    let (d, _) = expand_at_infinity(k, p, 0)?;
+    if d == i64::MIN || d < 0 {
+        return Ok(Some(RatFunc::zero()));
+    }
+    if d > 0 {
+        return Ok(None);
+    }
+    let (_, c) = expand_at_infinity(k, p, 1)?;
+    Ok(Some(c.first().cloned().unwrap_or_else(RatFunc::zero)))
+}
+
 fn p_at_infinity(k: &Field, p: &RatFunc) -> Result<RatFunc> {
     let (d, c) = expand_at_infinity(k, p, 0)?;
     let _ = c;

@@ -907,7 +907,10 @@ pub fn integration_check<'a>(
     let (rho_parts, theta_value): (Vec<crate::algebra::RatFunc>, f64) = match &setup.theta {
         None => {
             let hp = an.point(&setup.place).ok_or_else(|| usage("the horizon is not among the singular points"))?;
-            let hi = find(&setup.place).ok_or_else(|| usage("no exponent was picked at the horizon"))?;
+            // No pick: the series kept the unknown's exponent 0 there (the
+            // behaviour at the horizon already taken out by hand).
+            let zero = || hp.unknown_exponents.iter().position(|e| e.exact_value(k).is_some_and(|v| v.is_zero()));
+            let hi = find(&setup.place).or_else(zero).ok_or_else(|| usage("no exponent was picked at the horizon"))?;
             let e = hp.unknown_exponents.get(hi).cloned().ok_or_else(|| usage("no exponent at the horizon"))?;
             let rho_exact =
                 e.exact_value(k).ok_or_else(|| usage("the horizon exponent is not exact in the parameter field: the integration check needs it"))?;
@@ -937,6 +940,9 @@ pub fn integration_check<'a>(
         return Err(usage("infinity is not of rank 1: the integration check needs exp(μz) z^ν"));
     }
     let p1 = crate::analysis::p_at_infinity_pub(k, &red.p)?;
+    // μ of the unknown = μ of ψ − p₀/2 (an exponential taken out by hand).
+    let p0 = crate::analysis::p_limit_at_infinity(k, &red.p)?.ok_or_else(|| usage("p grows at infinity: the integration check needs exp(μz) z^ν"))?;
+    let mu_exact = k.sub(&mu_exact, &k.mul(&crate::algebra::RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero")), &p0)?)?;
     // ν of the unknown = ρ of ψ − p₁/2 (the prefactor's power at infinity).
     let nu_exact = k.sub(&f.rho, &k.mul(&crate::algebra::RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero")), &p1)?)?;
     let rho: Vec<_> = rho_parts.iter().map(|c| in_omega(c, opts)).collect();
