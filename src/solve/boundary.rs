@@ -313,6 +313,7 @@ pub fn try_problem(red: &Reduction, values: &[GRat], freq: usize, kind: Spectrum
         },
     };
     let [left, right] = end_conditions(ends, given.as_ref(), kind)?;
+    notes.extend(limit_circle_note(&ode, [&left, &right], given.as_ref(), &field.names()[0]));
     if let (Location::At(a), Location::At(b)) = (left.location, right.location) {
         if a >= b {
             return Err(usage("the left end must lie below the right end"));
@@ -615,6 +616,43 @@ fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &
         }
         Ok([at(inner), FoundEnd { nature: Nature::Horizon, ..at(outer) }])
     }
+}
+
+/// Where a regular end whose condition was not given is limit-circle —
+/// its exponents differ by a non-integer less than 1 in real part, so both
+/// solutions are square-integrable there (Weyl's alternative; common
+/// practice) — the condition is a choice, not forced: said, with the other
+/// choices. (Mathieu's equation in cos x at w = ±1, exponents 0 and ½; a
+/// field in anti-de Sitter inside the window of two admissible fall-offs.)
+fn limit_circle_note(ode: &NumOde, ends: [&End; 2], given: Option<&GivenEnds>, var: &str) -> Option<String> {
+    let circle = |end: &End| -> Option<f64> {
+        let Location::At(z) = end.location else { return None };
+        let chosen = given.is_some_and(|g| g.iter().any(|(l, c)| *l == end.location && c.is_some()));
+        if chosen || end.nature != Nature::Regular || end.condition != Condition::Normalisable {
+            return None;
+        }
+        let [a, b] = exponents_at(ode, z, Complex64::new(0.37, 0.0))?;
+        let d = (a - b).re.abs();
+        let integer = (d - d.round()).abs() <= 1e-9;
+        (d < 1.0 - 1e-9 && !integer && (a - b).im.abs() <= 1e-9).then_some(d)
+    };
+    let found: Vec<(usize, f64)> = ends.iter().enumerate().filter_map(|(i, e)| circle(e).map(|d| (i, d))).collect();
+    if found.is_empty() {
+        return None;
+    }
+    let text = |i: usize| match ends[i].location {
+        Location::At(z) => fmt(z),
+        Location::Infinity => "inf".to_string(),
+    };
+    let at: Vec<String> = found.iter().map(|(i, d)| format!("{var} = {} (exponents {} apart)", text(*i), fmt(*d))).collect();
+    let other: Vec<String> = (0..2).map(|i| if found.iter().any(|(j, _)| *j == i) { format!("{}:slower", text(i)) } else { text(i) }).collect();
+    Some(format!(
+        "at {}: the exponents differ by less than 1, so both solutions are square-integrable there (a limit-circle end) and the condition is a choice, not forced: the larger exponent is taken (the solution vanishing fastest); the other is {opt_ends} '{}..{}', a combination …:mixed=κ",
+        at.join(" and "),
+        other[0],
+        other[1],
+        opt_ends = RequestInput::Ends.mention()
+    ))
 }
 
 /// Each end with its condition: the one given (when it fits the end), else

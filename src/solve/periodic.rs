@@ -566,6 +566,16 @@ pub fn solve(ode: &NumOde, overtones: (u32, u32), tol: f64) -> Result<PeriodicSo
         let rho = floquet.multiplier();
         let mut check = find_root_by(&|w, p| monodromy(ode, l.step, w, rho, p), value, tol, MAX_ITER);
         check.omega = l.snap(check.omega);
+        // A near-degenerate pair (a_n and b_(n+1) at large q, split by
+        // e^(−c√q)): the monodromy's entries grow like the inverse of the
+        // split, and its root is lost to rounding. Said, not hidden.
+        let split = all.iter().map(|(v, ..)| (v - value).norm()).filter(|d| *d > 0.0).fold(f64::INFINITY, f64::min);
+        if !check.converged && split <= 1e-5 * value.norm().max(1.0) {
+            check.reason = format!(
+                "{}; this value and its neighbour {:.1e} away form a near-degenerate pair, which the monodromy over one period cannot resolve in double precision: the truncations' agreement ({change:.1e}) is the only evidence",
+                check.reason, split
+            );
+        }
         let agreement = if check.converged { (check.omega - value).norm() / value.norm().max(super::roots::ABSOLUTE_BELOW) } else { f64::NAN };
         modes.push(PeriodicMode { n, value, change, floquet, parity, index: ranked[n as usize], check, agreement });
     }
