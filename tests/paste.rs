@@ -550,3 +550,67 @@ fn morse_oscillator_as_printed() {
         assert!((e - want).abs() < 1e-8, "n={n}: {e} vs {want}");
     }
 }
+
+/// Mathieu's equation in w = cos x (DLMF 28.2.1 with y(x) = Y(cos x)):
+/// (1 − w²)Y'' − wY' + (a − 2q(2w² − 1))Y = 0. At w = ±1 the exponents are
+/// 0 and ½, both square-integrable (a limit-circle end): the condition is a
+/// choice and the output says so. The larger exponent at both ends gives the
+/// odd functions b₁, b₂, …; the smaller, the even ones a₀, a₁, … (DLMF
+/// §28.17 tables at q = 1, from memory: a₀ = −0.45513860, a₁ = 1.85910807,
+/// a₂ = 4.37130098; b₁ = −0.11024882, b₂ = 3.91702477).
+#[test]
+fn mathieu_in_the_cosine_and_its_two_conditions() {
+    let eq = "(1 - w^2)*y'' - w*y' + (a - 2*q*(2*w^2 - 1))*y = 0";
+    let run = |ends: Option<&str>| -> (Vec<f64>, String) {
+        let mut args = vec!["spectrum", "-e", eq, "--var", "w", "--boundary", "bound", "--at", "q=1", "--overtones", "0..2", "--format", "json"];
+        let with;
+        if let Some(e) = ends {
+            with = format!("--ends={e}");
+            args.push(&with);
+        }
+        let out = canonode(&args);
+        assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+        let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+        (v["modes"].as_array().unwrap().iter().map(|m| m["omega"][0].as_f64().unwrap()).collect(), v.to_string())
+    };
+    let (b, doc) = run(None);
+    for (g, w) in b.iter().zip([-0.11024882, 3.91702477]) {
+        assert!((g - w).abs() < 1e-7, "{b:?}");
+    }
+    assert!(doc.contains("limit-circle") && doc.contains("-1:slower..1:slower"), "{doc}");
+    let (a, doc) = run(Some("-1:slower..1:slower"));
+    for (g, w) in a.iter().zip([-0.45513860, 1.85910807, 4.37130098]) {
+        assert!((g - w).abs() < 1e-7, "{a:?}");
+    }
+    assert!(!doc.contains("limit-circle"), "a condition given is no choice left: {doc}");
+}
+
+/// Past the last level of a finite well the closed form's count is said:
+/// the Morse oscillator at D = 16, a = 1 has four levels (n < √D/a − ½,
+/// common practice), so n = 4 and 5 are no states, not a missing guess.
+#[test]
+fn no_state_beyond_the_closed_forms_last() {
+    let out = canonode(&[
+        "spectrum",
+        "--latex",
+        "-e",
+        r"-\psi''(x) + D\left(1 - e^{-a(x - x_0)}\right)^2\psi(x) = E\,\psi(x)",
+        "--boundary",
+        "bound",
+        "--frequency",
+        "E",
+        "--at",
+        "D=16,a=1,x_0=0",
+        "--overtones",
+        "0..5",
+        "--format",
+        "json",
+    ]);
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let modes = v["modes"].as_array().unwrap();
+    assert_eq!(modes.iter().filter(|m| m["converged"] == true).count(), 4, "{v}");
+    for m in &modes[4..] {
+        assert!(m["reason"].as_str().is_some_and(|r| r.contains("there is no state") && r.contains("has 4")), "{m}");
+    }
+}

@@ -2315,6 +2315,12 @@ fn hulthen_levels_on_the_half_line() {
     let (_, code, err) = run(&["classify", f]);
     assert_eq!(code, 0, "{err}");
     assert!(err.contains("unknown u") && !err.contains("variable u,"), "{err}");
+    // A map named by hand, ζ = e^(δr): r > 0 is ζ > 1, the side taken.
+    let (v, ms) = modes_of(f, "Z=1,delta=0.1", &["--boundary", "bound", "--map", "w=exp(delta*r)", "--overtones", "0..1"]);
+    for (k, m) in ms.iter().enumerate() {
+        let (re, _) = omega(m);
+        assert!((re - want(k as f64 + 1.0)).abs() < 1e-9, "--map n={k}: {re}: {v}");
+    }
     std::fs::remove_dir_all(&dir).ok();
 }
 
@@ -2404,4 +2410,32 @@ fn regge_wheeler_with_a_wave_factor_taken_out_by_hand() {
         assert!(choices.contains("ingoing"), "{name}: {v}");
     }
     std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn a_growing_quasi_bound_level_is_kept_and_flagged() {
+    // A massive scalar around a rapidly rotating black hole (a = 0.99, m = 1,
+    // Mμ = 0.42, the separation constant held at 1.348, near its l = 1 value
+    // there): the level below m·Ω_H grows, Im ω > 0, the superradiant
+    // instability, of order 1e-7 (Detweiler 1980; Dolan 2007, from memory).
+    // It is the level, not a failure, and the output says it grows.
+    let dir = std::env::temp_dir().join(format!("canonode-superradiant-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = dir.join("kerr_massive.ode");
+    std::fs::write(
+        &file,
+        "var r\nparam M, a, omega, m, mu, E\nlet D = r^2 - 2*M*r + a^2\nlet K = (r^2 + a^2)*omega - a*m\node D*(D*R')' + (K^2 - D*(E + mu^2*r^2))*R = 0\n",
+    )
+    .unwrap();
+    let (v, ms) = modes_of(file.to_str().unwrap(), "M=1,a=0.99,m=1,mu=0.42,E=1.348", &["--boundary", "quasi-bound"]);
+    let (re, im) = omega(&ms[0]);
+    let omega_h = 0.99 / (2.0 * (1.0 + (1.0f64 - 0.99 * 0.99).sqrt()));
+    assert!(ms[0]["converged"] == true && im > 1e-9 && im < 1e-5 && re < omega_h && re < 0.42, "{re} {im}: {v}");
+    assert!(m_check_agrees(&ms[0]), "{v}");
+    assert!(v.to_string().contains("GROWING"), "{v}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+fn m_check_agrees(m: &Value) -> bool {
+    m["check"]["agreement"].as_f64().is_some_and(|a| a < 1e-8)
 }
