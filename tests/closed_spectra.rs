@@ -541,3 +541,50 @@ fn kratzer_levels_where_the_square_root_is_rational() {
         assert!(agree(&doc, &want) >= 1, "{at}");
     }
 }
+
+#[test]
+fn potentials_with_different_limits_at_the_two_ends() {
+    // Two square roots of the energy in the exponents (the potential tends
+    // to different values at the two ends): the condition is squared to
+    // remove the second, and only roots on both branches are kept. ħ = 2m = 1
+    // (common practice, e.g. Cooper, Khare & Sukhatme, Phys. Rep. 251 (1995)
+    // 267, table of shape-invariant potentials, from memory):
+    // Rosen–Morse II, −l(l+1)sech²x + 2B tanh x: E_n = −(l − n)² − B²/(l − n)²;
+    // Eckart, l(l+1)/sinh²r − 2Z coth r: E_n = −(n + l + 1)² − Z²/(n + l + 1)²;
+    // Hulthén, −V₀e^(−r/a)/(1 − e^(−r/a)): E_n = −((V₀a² − (n + 1)²)/(2a(n + 1)))².
+    let rm = bound(
+        &["--latex", "-e", r"-\psi''(x) + \left[-l(l+1)\,\mathrm{sech}^2 x + 2B\tanh x\right]\psi = E\psi", "--frequency", "E"],
+        "l=4,B=2",
+        "0..2",
+    );
+    let want: Vec<Complex64> = (0..3)
+        .map(|n| {
+            let m = 4.0 - n as f64;
+            cx(-m * m - 4.0 / (m * m), 0.0)
+        })
+        .collect();
+    assert!(agree(&rm, &want) >= 3);
+    let eckart =
+        bound(&["--latex", "-e", r"-u''(r) + \left[\frac{l(l+1)}{\sinh^2 r} - 2Z\coth r\right]u = E\,u", "--frequency", "E"], "l=0,Z=10", "0..2");
+    let want: Vec<Complex64> = (0..3)
+        .map(|n| {
+            let m = n as f64 + 1.0;
+            cx(-m * m - 100.0 / (m * m), 0.0)
+        })
+        .collect();
+    assert!(agree(&eckart, &want) >= 3);
+    let hulthen = bound(
+        &["--latex", "-e", r"-\frac{d^{2}\phi}{dr^{2}} - V_0\,\frac{e^{-r/a}}{1-e^{-r/a}}\,\phi = E\,\phi", "--frequency", "E"],
+        "V_0=9,a=1",
+        "0..1",
+    );
+    let want: Vec<Complex64> = (0..2)
+        .map(|n| {
+            let m = n as f64 + 1.0;
+            cx(-((9.0 - m * m) / (2.0 * m)).powi(2), 0.0)
+        })
+        .collect();
+    assert!(agree(&hulthen, &want) >= 2);
+    // Only the levels that exist: V₀a² = 9 holds two (n + 1 < 3).
+    assert_eq!(exact(&hulthen).len(), 2, "{}", hulthen["closed_form"]);
+}

@@ -151,9 +151,11 @@ pub fn derive(k: &Field, q: &RatFunc, freq: usize, values: &[GRat], ends: &[EndP
     names.push(kappa_name);
     let s_name = fresh("root_", &names);
     names.push(s_name);
+    let kappa2_name = fresh("kappa2_", &names);
+    names.push(kappa2_name);
     let kx = Field::new(names.clone(), k.limits().clone())?;
     let base = k.names().len();
-    let cx = Ctx { k: &kx, freq, nv: base, kv: base + 1, sv: base + 2, vals: numeric_values(values, base + 3) };
+    let cx = Ctx { k: &kx, freq, nv: base, kv: base + 1, sv: base + 2, k2v: base + 3, vals: numeric_values(values, base + 4) };
     // The domain's positions and an interior point, carried through the maps.
     let pos: Vec<Option<f64>> = ends
         .iter()
@@ -209,6 +211,10 @@ struct Ctx<'a> {
     nv: usize,
     kv: usize,
     sv: usize,
+    /// A second spectral square root κ′ (a potential with different limits
+    /// at the two ends: Hulthén, Eckart, Rosen–Morse), eliminated from the
+    /// condition by squaring.
+    k2v: usize,
     vals: Vec<Complex64>,
 }
 
@@ -316,11 +322,12 @@ struct Pick {
 }
 
 /// The radicals met so far: at most one of the parameters (symbol `sv`)
-/// and one holding ω (symbol `kv`, branch Re κ > 0).
+/// and two holding ω (symbols `kv` and `k2v`, branches Re κ > 0, Re κ′ > 0).
 #[derive(Default)]
 struct Radicals {
     param: Option<RatFunc>,
     spectral: Option<RatFunc>,
+    spectral2: Option<RatFunc>,
 }
 
 fn attempt(cx: &Ctx, setup: &Setup, an: &Analysis, conds: [Condition; 2]) -> Result<std::result::Result<(Vec<Family>, String), String>> {
@@ -443,7 +450,17 @@ fn radical_symbol(cx: &Ctx, r: &RatFunc, rad: &mut Radicals) -> Result<std::resu
         }
         Some(r0) => match k.sqrt_exact(&k.div(r, r0)?)? {
             Some(f) => Ok(Ok((k.mul(&f, &k.var(var))?, spectral))),
-            None => Ok(Err("two different square roots in the exponents".into())),
+            None if spectral => match &rad.spectral2 {
+                None => {
+                    rad.spectral2 = Some(r.clone());
+                    Ok(Ok((k.var(cx.k2v), spectral)))
+                }
+                Some(r1) => match k.sqrt_exact(&k.div(r, r1)?)? {
+                    Some(f) => Ok(Ok((k.mul(&f, &k.var(cx.k2v))?, spectral))),
+                    None => Ok(Err("three different square roots of the spectral parameter in the exponents".into())),
+                },
+            },
+            None => Ok(Err("two different square roots of the parameters in the exponents".into())),
         },
     }
 }
@@ -503,15 +520,18 @@ fn pick_regular(cx: &Ctx, p: &SingularPoint, cond: Condition, rad: &mut Radicals
         if let Some(r) = &rad.spectral {
             vals[cx.kv] = crate::solve::eval_at(r, &vals)?.sqrt();
         }
+        if let Some(r) = &rad.spectral2 {
+            vals[cx.k2v] = crate::solve::eval_at(r, &vals)?.sqrt();
+        }
         crate::solve::eval_at(v, &vals)
     };
     let trial = [Complex64::new(1.0, -0.1), Complex64::new(2.3, -0.7)];
-    let uses_w = |v: &RatFunc| v.uses_var(cx.freq) || v.uses_var(cx.kv);
+    let uses_w = |v: &RatFunc| v.uses_var(cx.freq) || v.uses_var(cx.kv) || v.uses_var(cx.k2v);
     let chosen = match cond {
         Condition::IntoHorizon | Condition::OutOfHorizon => {
             let mut signs = Vec::new();
             for c in &cands {
-                if c.value.uses_var(cx.kv) {
+                if c.value.uses_var(cx.kv) || c.value.uses_var(cx.k2v) {
                     return Ok(Err("a horizon exponent under a square root of the spectral parameter".into()));
                 }
                 let d = k.deriv(&c.value, cx.freq)?;
@@ -531,7 +551,8 @@ fn pick_regular(cx: &Ctx, p: &SingularPoint, cond: Condition, rad: &mut Radicals
             }
             // With κ (Re κ > 0) the order is that of its coefficient's real part.
             let re: Vec<f64> = if cands.iter().any(|c| uses_w(&c.value)) {
-                let d: Vec<Option<Complex64>> = cands.iter().map(|c| k.deriv(&c.value, cx.kv).ok().and_then(|d| at(&d, trial[0]))).collect();
+                let slope = |v: &RatFunc| -> Option<RatFunc> { k.add(&k.deriv(v, cx.kv).ok()?, &k.deriv(v, cx.k2v).ok()?).ok() };
+                let d: Vec<Option<Complex64>> = cands.iter().map(|c| slope(&c.value).and_then(|d| at(&d, trial[0]))).collect();
                 d.iter().map(|x| x.map_or(f64::NAN, |x| x.re)).collect()
             } else {
                 cands.iter().map(|c| at(&c.value, trial[0]).map_or(f64::NAN, |x| x.re)).collect()
@@ -673,6 +694,28 @@ fn solve(cx: &Ctx, c: &RatFunc, rad: &Radicals, label: &str) -> Result<std::resu
             r_lin = Some((r0, r1));
         }
     }
+    // κ′ (a second spectral root): the condition linear in it, c₀ + c₁κ′ = 0,
+    // gives κ′ = −c₀/c₁, and squaring with κ′² = R′(ω), ω = (κ² − r₀)/r₁,
+    // leaves a condition on κ alone: R′c₁² − c₀² = 0. Its roots are kept
+    // where κ′ = −c₀/c₁ is on its branch (Re κ′ > 0).
+    let mut second: Option<RatFunc> = None;
+    if p.uses_var(cx.k2v) {
+        let (Some(r2), Some((r0, r1))) = (&rad.spectral2, &r_lin) else {
+            return Ok(Err("two square roots of the spectral parameter, the first not linear in it".into()));
+        };
+        let coeffs = p.num().to_univariate(cx.k2v);
+        if coeffs.len() != 2 {
+            return Ok(Err("the condition is not linear in the second square root".into()));
+        }
+        let (c0, c1) = (RatFunc::from_poly(coeffs[0].clone()), RatFunc::from_poly(coeffs[1].clone()));
+        let w = k.div(&k.sub(&k.pow(&k.var(cx.kv), 2)?, r0)?, r1)?;
+        let c0 = k.compose(&c0, cx.freq, &w)?;
+        let c1 = k.compose(&c1, cx.freq, &w)?;
+        let r2k = k.compose(r2, cx.freq, &w)?;
+        second = Some(k.neg(&k.div(&c0, &c1)?));
+        p = RatFunc::from_poly(k.sub(&k.mul(&r2k, &k.mul(&c1, &c1)?)?, &k.mul(&c0, &c0)?)?.num().clone());
+    }
+    let via_kappa = via_kappa || second.is_some();
     if via_kappa && p.uses_var(cx.freq) {
         let Some((r0, r1)) = &r_lin else { return Ok(Err("the condition holds ω both rationally and under a square root".into())) };
         let w = k.div(&k.sub(&k.pow(&k.var(cx.kv), 2)?, r0)?, r1)?;
@@ -750,12 +793,17 @@ fn solve(cx: &Ctx, c: &RatFunc, rad: &Radicals, label: &str) -> Result<std::resu
                 let rr = k.div(&k.sub(&sq.a, &r0)?, &half)?;
                 let plus = tidy(cx, Surd { a: RatFunc::zero(), b: RatFunc::one(), r: rr.clone() })?;
                 let minus = tidy(cx, Surd { a: RatFunc::zero(), b: rat(-1, 1), r: rr })?;
-                out.push(kappa_family(cx, format!("{lab}; ω = +√"), plus, root.clone(), None)?);
-                out.push(kappa_family(cx, format!("{lab}; ω = −√"), minus, root, None)?);
+                out.push(kappa_family(cx, format!("{lab}; ω = +√"), plus, root.clone(), None, second.as_ref())?);
+                out.push(kappa_family(cx, format!("{lab}; ω = −√"), minus, root, None, second.as_ref())?);
                 continue;
             }
         };
-        out.push(kappa_family(cx, lab, tidy(cx, value)?, root, unreduced)?);
+        out.push(kappa_family(cx, lab, tidy(cx, value)?, root, unreduced, second.as_ref())?);
+    }
+    if second.is_some() {
+        // Squaring made roots of the other branch: a family with no member
+        // on both branches is one of those.
+        out.retain(|f| f.range.last != Some(u32::MAX));
     }
     Ok(Ok(out))
 }
@@ -798,16 +846,27 @@ fn tidy(cx: &Ctx, s: Surd) -> Result<Surd> {
     Ok(if same(&t) { t } else { s })
 }
 
-fn kappa_family(cx: &Ctx, label: String, value: Surd, kappa: Surd, unreduced: Option<Unreduced>) -> Result<Family> {
+fn kappa_family(cx: &Ctx, label: String, value: Surd, kappa: Surd, unreduced: Option<Unreduced>, second: Option<&RatFunc>) -> Result<Family> {
     let k = cx.k;
     let names = k.names();
     let mut last = None;
+    // κ′ = −c₀/c₁ at κ_n, on its branch too (the squaring's other roots are not levels).
+    let second_at = |kappa_n: Complex64, n: u32| -> Option<Complex64> {
+        let x = second?;
+        let mut vals = cx.vals.clone();
+        vals[cx.nv] = Complex64::new(n as f64, 0.0);
+        vals[cx.kv] = kappa_n;
+        if let Some(u) = &unreduced {
+            vals[cx.sv] = crate::solve::eval_at(&u.radicand, &vals)?.sqrt();
+        }
+        crate::solve::eval_at(x, &vals)
+    };
     for n in 0..=RANGE_SCAN {
         let kappa_n = match unreduced.as_ref().and_then(|u| u.kappa.as_ref().map(|x| (u, x))) {
             Some((u, x)) => u.eval(x, &cx.vals, cx.nv, cx.sv, n),
             None => eval_surd(cx, &kappa, n),
         };
-        let ok = kappa_n.is_some_and(|v| v.re > 0.0);
+        let ok = kappa_n.is_some_and(|v| v.re > 0.0 && (second.is_none() || second_at(v, n).is_some_and(|s| s.re > 0.0)));
         if !ok {
             last = if n == 0 { Some(u32::MAX) } else { Some(n - 1) };
             break;
@@ -822,7 +881,12 @@ fn kappa_family(cx: &Ctx, label: String, value: Surd, kappa: Surd, unreduced: Op
         let nu = Surd { a: k.neg(&k.div(&c0, &c1)?), b: k.neg(&k.div(&kappa.b, &c1)?), r: kappa.r.clone() };
         bound = Some((nu.text(names), nu.latex(names)));
     }
-    let range = NRange { last, bound, branch: "Re κ_n > 0 (κ the square root in the exponents that holds the spectral parameter)".into() };
+    let branch = if second.is_some() {
+        "Re κ_n > 0 and Re κ′_n > 0 (κ, κ′ the two square roots in the exponents that hold the spectral parameter; κ′ eliminated by squaring the condition)"
+    } else {
+        "Re κ_n > 0 (κ the square root in the exponents that holds the spectral parameter)"
+    };
+    let range = NRange { last, bound: if second.is_some() { None } else { bound }, branch: branch.into() };
     Ok(Family { label, value, radical: Some(kappa), range, unreduced })
 }
 
