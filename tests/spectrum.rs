@@ -2439,3 +2439,68 @@ fn a_growing_quasi_bound_level_is_kept_and_flagged() {
 fn m_check_agrees(m: &Value) -> bool {
     m["check"]["agreement"].as_f64().is_some_and(|a| a < 1e-8)
 }
+
+#[test]
+fn anti_de_sitter_black_holes_with_an_inner_horizon() {
+    // Two horizons and an anti-de Sitter boundary: the potential is negative
+    // between them (f < 0) and positive outside, so the domain is from the
+    // outer horizon to the boundary — not between the horizons, as for a
+    // black hole in de Sitter. Rotating BTZ, L = 1, massless, k = 1,
+    // r₊ = 1, r₋ = ½: ω = k − 2i(r₊ − r₋)(n + 1) in the right half-plane
+    // (Birmingham, Sachs & Solodukhin 2002, from memory): 1 − i(n + 1).
+    let dir = std::env::temp_dir().join(format!("canonode-inner-horizon-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let btz = dir.join("btz_rotating.tex");
+    std::fs::write(
+        &btz,
+        r"\frac{1}{r}\frac{d}{dr}\left(rF\frac{dR}{dr}\right) + \left[\frac{1}{F}\left(\omega - \frac{r_{+}r_{-}}{r^{2}}\,k\right)^{2} - \frac{k^{2}}{r^{2}} - \mu^{2}\right]R = 0, \qquad F = \frac{(r^{2}-r_{+}^{2})(r^{2}-r_{-}^{2})}{r^{2}}",
+    )
+    .unwrap();
+    let (v, ms) = modes_of(btz.to_str().unwrap(), "r_plus=1,r_minus=0.5,k=1,mu=0", &["--overtones", "0..2"]);
+    assert_eq!(v["ends"][0]["at"], 1.0, "{v}");
+    for (n, m) in ms.iter().enumerate() {
+        let (re, im) = omega(m);
+        assert!((re - 1.0).abs() < 1e-8 && (im + (n as f64 + 1.0)).abs() < 1e-8, "n={n}: {re} {im}");
+    }
+    // Reissner–Nordström–anti-de Sitter, L = 1, M = 1, l = 0: at Q = 0.1
+    // the mode lies next to the uncharged one, 2.7982 − 2.6712i (Horowitz &
+    // Hubeny 2000, from memory), and the two methods agree.
+    let rn = dir.join("rn_ads.tex");
+    std::fs::write(
+        &rn,
+        r"f\frac{d}{dr}\left(f\frac{d\psi}{dr}\right) + \left[\omega^{2} - f\left(\frac{\ell(\ell+1)}{r^{2}} + \frac{f'}{r}\right)\right]\psi = 0,\qquad f(r) = 1 - \frac{2M}{r} + \frac{Q^{2}}{r^{2}} + r^{2}",
+    )
+    .unwrap();
+    let (v, ms) = modes_of(rn.to_str().unwrap(), "M=1,Q=0.1,l=0", &[]);
+    let (re, im) = omega(&ms[0]);
+    assert!((re - 2.7982).abs() < 0.02 && (im + 2.6712).abs() < 0.02, "{re} {im}: {v}");
+    assert!(ms[0]["check"]["agreement"].as_f64().is_some_and(|a| a < 1e-8), "{v}");
+    assert_eq!(v["ends"][1]["at"], "infinity", "{v}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn the_angular_equation_may_hold_the_frequency_itself() {
+    // Teukolsky's angular equation as printed with aω (not c = aω) shares
+    // the radial frequency: its value at every trial frequency is that
+    // frequency. Kerr a = 0.7, l = m = 2, s = −2: 0.5326 − 0.0808i (Berti,
+    // Cardoso & Starinets 2009 tables, from memory). Without a seed the
+    // coupling cannot be switched off, and the message says what to do.
+    let dir = std::env::temp_dir().join(format!("canonode-shared-omega-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let ang = dir.join("angular_aw.tex");
+    std::fs::write(
+        &ang,
+        r"\frac{1}{\sin\theta}\frac{d}{d\theta}\left(\sin\theta\frac{dS}{d\theta}\right) + \left(a^2\omega^2\cos^2\theta - \frac{(m+s\cos\theta)^2}{\sin^2\theta} - 2a\omega s\cos\theta + s + A\right)S = 0",
+    )
+    .unwrap();
+    let a = ang.to_str().unwrap();
+    let link = "lam = A + a^2*omega^2 - 2*a*m*omega";
+    let (v, ms) = modes_of("samples/teukolsky_radial.ode", "M=1,a=0.7,m=2,s=-2", &["--couple", a, "--link", link, "--guess", "0.53-0.08i"]);
+    let (re, im) = omega(&ms[0]);
+    assert!((re - 0.5326).abs() < 1e-4 && (im + 0.0808).abs() < 1e-4, "{re} {im}: {v}");
+    let (_, code, err) = run(&["spectrum", "samples/teukolsky_radial.ode", "--at", "M=1,a=0.7,m=2,s=-2", "--couple", a, "--link", link]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("--guess") && err.contains("frequency omega itself"), "{err}");
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -58,7 +58,7 @@ pub enum PointId {
 
 impl PointId {
     /// How the point is named in messages and choices: its location, θ (or
-    /// the letter [`crate::algebra::print::root_letter`] picks) for the roots
+    /// the letter `root_letter` picks) for the roots
     /// of a factor, ∞ for infinity (`names` are the field's).
     pub fn text(&self, names: &[String]) -> String {
         match self {

@@ -199,7 +199,8 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
     let total = (range.len() - done.len()) as u64;
     let bar = if std::io::stderr().is_terminal() && !super::capturing() { Some(indicatif::ProgressBar::new(total)) } else { None };
     let opts = a.input.options();
-    let angular_text = coupled.as_ref().map(|c| c.0.text.clone());
+    // The angular source as read (its text, and whether it is LaTeX).
+    let angular_text = coupled.as_ref().map(|c| (c.0.text.clone(), c.0.latex));
     let fields = walk.fields.clone();
     let make = || -> crate::error::Result<PointSolver<'_>> {
         let red = crate::ode::reduce(&src.input(), &opts)?;
@@ -222,8 +223,9 @@ fn compute(a: &ScanArgs, src: &super::Source) -> Result<String, Failure> {
         };
         match &angular_text {
             None => Ok(survey_solver(red, &fields, a.boundary == ScanProblem::QuasiBound)),
-            Some(text) => {
-                let ared = crate::ode::reduce(&crate::ode::Input::Program(text), &crate::ode::ReduceOptions::default())?;
+            Some((text, latex)) => {
+                let input = if *latex { crate::ode::Input::Latex(text) } else { crate::ode::Input::Program(text) };
+                let ared = crate::ode::reduce(&input, &crate::ode::ReduceOptions::default())?;
                 let (names, links, at) = (names.clone(), links.clone(), angular_at.clone());
                 Ok(Box::new(move |o: &SpectrumOptions, check: bool| {
                     let c = crate::solve::coupled::try_coupling(

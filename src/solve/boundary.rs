@@ -559,6 +559,12 @@ fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &
             let gap = outer.z - inner.z;
             let says = |eq: &NumOde| potential_at(eq, inner.z + 0.5 * gap) > 0.0 && potential_at(eq, outer.z + 0.5 * gap) < 0.0;
             let by_potential = says(unknown) || says(ode);
+            // The reverse — negative between two horizons, positive beyond
+            // the outer one — is a black hole's inner and outer horizons
+            // (f < 0 between them) with the static region outside, up to an
+            // anti-de Sitter boundary: charged or rotating AdS black holes.
+            let inside_negative = |eq: &NumOde| potential_at(eq, inner.z + 0.5 * gap) < 0.0 && potential_at(eq, outer.z + 0.5 * gap) > 0.0;
+            let inner_and_outer = inner.nature == Nature::Horizon && !by_potential && (inside_negative(unknown) || inside_negative(ode));
             // Horizons at ±r_h about a regular centre at r = 0 (real
             // exponents a positive integer apart, as l + 1 and −l, or an
             // ordinary point): the horizon polynomial is even, as de Sitter
@@ -582,8 +588,16 @@ fn natural_ends(real_points: &[RealPoint], infinity: &Infinity, eqs: (&NumOde, &
                     opt_ends = RequestInput::Ends.mention()
                 ));
             }
-            let interior = inner.nature == Nature::Horizon || mirrored || by_potential;
-            if inner.nature == Nature::Horizon {
+            let interior = (inner.nature == Nature::Horizon && !inner_and_outer) || mirrored || by_potential;
+            if inner_and_outer {
+                notes.push(format!(
+                    "two horizons with a regular infinity beyond, the potential negative between them and positive outside: taken as a black hole's inner and outer horizons, the domain from the outer one, {}, to the boundary at infinity (for a region between a black-hole and a cosmological horizon name the ends with {opt_ends} {}..{})",
+                    fmt(outer.z),
+                    fmt(inner.z),
+                    fmt(outer.z),
+                    opt_ends = RequestInput::Ends.mention()
+                ));
+            } else if inner.nature == Nature::Horizon {
                 notes.push(format!("two horizons with a regular infinity beyond: taken as a black-hole and a cosmological horizon (for the inner and outer horizons of an anti-de Sitter black hole name the ends with {opt_ends})", opt_ends = RequestInput::Ends.mention()));
             } else if !interior {
                 // f and −f give the same equation when the potential's

@@ -99,6 +99,14 @@ pub struct Path {
 /// value is already zero first: the problem is then uncoupled as given).
 pub fn coupling_parameter(c: &Coupling) -> Result<usize> {
     let angular_links: Vec<_> = c.links.iter().filter(|l| l.angular).collect();
+    if angular_links.is_empty() && c.angular.joint_of.contains(&c.freq) {
+        return Err(usage(format!(
+            "the angular equation holds the frequency {} itself: no linked parameter switches the coupling off for a start without a seed; give {opt_guess} (or write the angular equation in c = aω and link it, {opt_link} 'c = a*omega')",
+            c.names[c.freq],
+            opt_link = RequestInput::Link(0).mention(),
+            opt_guess = RequestInput::Guess.mention()
+        )));
+    }
     if angular_links.is_empty() {
         return Err(usage(format!(
             "no {opt_link} sets a parameter of the angular equation: there is no coupling to switch off; give {opt_guess}",

@@ -271,7 +271,7 @@ impl<'a> AngularTrack<'a> {
                 };
                 let mut zero = targets.clone();
                 for (a, j) in zero.iter_mut().zip(&ang.joint_of) {
-                    if self.coupling.links.iter().any(|l| l.angular && l.slot == *j) {
+                    if *j == self.coupling.freq || self.coupling.links.iter().any(|l| l.angular && l.slot == *j) {
                         *a = Complex64::new(0.0, 0.0);
                     }
                 }
@@ -421,7 +421,10 @@ pub fn try_coupling(
     }
     let an = angular.field.names();
     let known: Vec<Option<GRat>> = an.iter().map(|n| values.iter().find(|(x, _)| x == n).map(|(_, v)| v.clone())).collect();
-    let linked: Vec<usize> = (1..an.len()).filter(|i| links.iter().any(|l| l.angular && l.target == an[*i])).collect();
+    // Linked: set by a link, or the radial frequency itself written into the
+    // angular equation (aω as printed, rather than c = aω): its value at
+    // every trial frequency is that frequency.
+    let linked: Vec<usize> = (1..an.len()).filter(|i| links.iter().any(|l| l.angular && l.target == an[*i]) || an[*i] == names[freq]).collect();
     let joint_of: Vec<usize> = an.iter().map(|n| names.iter().position(|x| x == n).unwrap_or(0)).collect();
     let mut ang = try_angular(angular, &known, &linked, index, joint_of)?;
     if let Some(g) = guess {

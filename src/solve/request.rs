@@ -1988,7 +1988,8 @@ fn between_ends_as(bp: BoundaryProblem, problem: Problem, opts: &SpectrumOptions
 /// dependence e^(−iωt)): not decaying states but an instability, which a
 /// reader of the table must not take for a damped mode.
 pub(crate) fn growing_note(modes: impl Iterator<Item = (u32, Complex64)>) -> Option<String> {
-    let grow: Vec<String> = modes.filter(|(_, w)| w.im > 0.0).map(|(n, w)| format!("n = {n} (Im ω = {:.3e})", w.im)).collect();
+    // Above rounding: a real normal mode's Im ω of 1e-22 is not growth.
+    let grow: Vec<String> = modes.filter(|(_, w)| w.im > 1e-10 * w.norm()).map(|(n, w)| format!("n = {n} (Im ω = {:.3e})", w.im)).collect();
     (!grow.is_empty()).then(|| {
         format!(
             "GROWING: {} {} Im ω > 0, so the field grows as e^(Im ω·t): an instability, not a decaying state (around a rotating black hole, superradiance, where Re ω < m·Ω_H; Detweiler 1980, from memory)",
@@ -2159,7 +2160,11 @@ pub(crate) fn barrier_seed<'a>(
     bp: &BoundaryProblem,
 ) -> Box<dyn Fn(u32) -> Option<(Complex64, String)> + 'a> {
     let Location::At(left) = bp.ends[0].location else { return Box::new(|_| None) };
-    match super::spectrum::barrier_estimates(red, opts, left, super::wkb::SEED_ORDER) {
+    let right = match bp.ends[1].location {
+        Location::At(b) => b,
+        Location::Infinity => f64::INFINITY,
+    };
+    match super::spectrum::barrier_estimates_on(red, opts, (left, right), super::wkb::SEED_ORDER) {
         Ok(est) => Box::new(move |n| est(n).and_then(|b| b.series.seed())),
         Err(_) => Box::new(|_| None),
     }

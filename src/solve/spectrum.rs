@@ -877,6 +877,19 @@ pub fn barrier_estimates<'a>(
     Ok(move |n: u32| at(n, (horizon, f64::INFINITY)).or_else(|| at(n, (f64::NEG_INFINITY, horizon))))
 }
 
+/// [`barrier_estimates`] with the barrier sought only inside `domain` (a
+/// boundary problem's ends): no bump beyond its ends (inside a black hole's
+/// inner horizon) seeds its modes.
+pub fn barrier_estimates_on<'a>(
+    red: &'a Reduction,
+    opts: &'a SpectrumOptions,
+    domain: (f64, f64),
+    order: usize,
+) -> Result<impl Fn(u32) -> Option<super::wkb::BarrierEstimate> + 'a> {
+    let (v, h) = barrier_potential(red, opts)?;
+    Ok(move |n: u32| super::wkb::try_barrier(&red.field, &v, &h, &opts.values, Some(opts.freq), domain, n, order).ok())
+}
+
 /// A rational function of the parameters as a function of ω alone (the
 /// other parameters at their values), for numeric use.
 pub(super) fn in_omega(r: &crate::algebra::RatFunc, opts: &SpectrumOptions) -> (super::NPoly, super::NPoly) {

@@ -115,16 +115,20 @@ impl WkbSeries {
     /// The value to seed a root finder with: the Padé value at the requested
     /// order when finite and in the lower half-plane, else the optimally
     /// truncated series when it is, else none (estimates in the wrong half-plane
-    /// are never seeds).
+    /// are never seeds). A value farther from the first-order estimate than
+    /// twice its size is no correction of it but the series running away (a
+    /// shallow bump, far from the barrier the formulas assume): no seed.
     pub fn seed(&self) -> Option<(Complex64, String)> {
         let n = self.order();
+        let first = self.partial[0];
+        let plausible = |w: Complex64| in_lower_half_plane(w) && (w - first).norm() <= 2.0 * first.norm();
         if let (Some(p), _) = self.pade_at(n) {
-            if in_lower_half_plane(p) {
+            if plausible(p) {
                 return Some((p, format!("WKB order {n}, Padé [{}/{}]", n.div_ceil(2), n / 2)));
             }
         }
         let (k, w, _) = self.optimal().unwrap_or((n, self.omega(), f64::NAN));
-        in_lower_half_plane(w).then(|| (w, format!("WKB order {k} (least change between orders)")))
+        plausible(w).then(|| (w, format!("WKB order {k} (least change between orders)")))
     }
 }
 

@@ -1122,7 +1122,8 @@ impl<'a> Reader<'a> {
                     // `\frac{d}{dr}`: applies to the next factor.
                     self.pos = de + 1;
                     if !self.starts_factor() {
-                        return Err(syntax(format!("\\frac{{d}}{{d{}}} needs something to differentiate after it", wrt.name), whole));
+                        return Err(syntax(format!("\\frac{{d}}{{d{}}} needs something to differentiate after it", wrt.name), whole)
+                            .note("an operator in brackets applied to the unknown, [d²/dr² + ω² − V]Ψ, is not read: write it term by term, \\frac{d^2\\Psi}{dr^2} + (\\omega^2 - V)\\Psi = 0"));
                     }
                     let operand = self.factor()?;
                     let s = whole.to(operand.expr.span);
