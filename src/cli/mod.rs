@@ -249,10 +249,15 @@ pub(crate) fn inference_notes(red: &crate::ode::Reduction, inferred_input: bool)
     if !inferred_input {
         return out;
     }
+    // The variable as written; under a map, the one the equation is solved in too.
+    let var = match &red.map {
+        Some(m) => format!("{} (solved in {}, see the change of variable)", m.old_var, red.ode.var),
+        None => red.ode.var.clone(),
+    };
     if !red.ode.inferred.is_empty() {
-        out.push(format!("note: variable {}, unknown {}, inferred parameters: {}", red.ode.var, red.ode.unknown, red.ode.inferred.join(", ")));
+        out.push(format!("note: variable {var}, unknown {}, inferred parameters: {}", red.ode.unknown, red.ode.inferred.join(", ")));
     } else {
-        out.push(format!("note: variable {}, unknown {}", red.ode.var, red.ode.unknown));
+        out.push(format!("note: variable {var}, unknown {}", red.ode.unknown));
     }
     if !red.ode.p.uses_var(0) && !red.ode.q.uses_var(0) {
         // Names physicists use for a variable, most common first.

@@ -416,7 +416,13 @@ fn attempt(cx: &Ctx, setup: &Setup, an: &Analysis, conds: [Condition; 2]) -> Res
         let route = "confluent hypergeometric (one regular point, rank 1 at ∞): ψ = z^ρ e^(μz) M(a, b, −2μz) with a = ρ − σ, ψ ~ e^(μz) z^σ at ∞; the coefficient 1/Γ(a) of the other branch at ∞ (DLMF 13.7.2, 13.2.41) vanishes at a = −n".to_string();
         return Ok(Ok((families, route)));
     }
-    Ok(Err(format!("{} ({}){}: not of hypergeometric or confluent hypergeometric type between these ends", an.class, an.reason, setup.words)))
+    // The class is said once, by the caller; a transformed equation's own
+    // class is said here, beside its map.
+    if setup.words.is_empty() {
+        Ok(Err("not of hypergeometric or confluent hypergeometric type between these ends".into()))
+    } else {
+        Ok(Err(format!("{} ({}){}: not of hypergeometric or confluent hypergeometric type between these ends", an.class, an.reason, setup.words)))
+    }
 }
 
 /// An exponent's pieces as elements of the base field (points with linear factors and ∞).

@@ -868,7 +868,7 @@ fn spectrum_in(red: &Reduction, req: &SpectrumRequest) -> Result<SpectrumReport>
     Ok(report)
 }
 
-/// With one closed-form family of bound states that ends at these values
+/// With closed-form families of bound states that all end at these values
 /// (a finite well: Morse, Pöschl–Teller), a state asked for beyond its last
 /// one and not found numerically is said not to exist, rather than left to
 /// a guess.
@@ -877,9 +877,15 @@ fn beyond_the_last_level(report: &mut SpectrumReport) {
         return;
     }
     let ClosedSection::Found { form, .. } = &report.closed else { return };
-    let [family] = form.families.as_slice() else { return };
-    let Some(last) = family.range.last else { return };
-    let count = if last == u32::MAX { 0 } else { last + 1 };
+    // Every family ends (one with no member at these values counts none).
+    let mut count = 0;
+    for family in &form.families {
+        match family.range.last {
+            None => return,
+            Some(u32::MAX) => {}
+            Some(last) => count += last + 1,
+        }
+    }
     let why = |n: u32| match count {
         0 => format!("there is no state n = {n}: the closed form has no state at these values"),
         c => format!("there is no state n = {n}: the closed form has {c} at these values (n = 0..={})", c - 1),

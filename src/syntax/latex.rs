@@ -1583,12 +1583,34 @@ fn variable_from_arguments(
     const CONVENTIONAL: [&str; 10] = ["x", "r", "z", "t", "u", "y", "theta", "rho", "xi", "eta"];
     let conventional: Vec<&Ident> = inside.iter().filter(|i| CONVENTIONAL.contains(&i.name.as_str())).collect();
     let chosen = match (inside.as_slice(), conventional.as_slice()) {
-        ([only], _) => Some(only),
-        (_, [only]) => Some(*only),
+        ([only], _) => Some(only.clone()),
+        (_, [only]) => Some((*only).clone()),
         _ => None,
     };
+    // Else the one conventional variable name among all the names written
+    // (`r(r-2M)\Psi'' + 2M\Psi' + …`), the primed ones (unknowns) aside.
+    let chosen = chosen.or_else(|| {
+        let mut primed: Vec<String> = Vec::new();
+        let mut names: Vec<Ident> = Vec::new();
+        for side in [&ode.lhs, &ode.rhs].into_iter().chain(defs.iter().flat_map(|(_, r)| [&r.lhs, &r.rhs])) {
+            walk(side, &mut |e| match &e.kind {
+                ExprKind::Prime(a, _) => {
+                    if let ExprKind::Name(n) = &a.kind {
+                        primed.push(n.clone());
+                    }
+                }
+                ExprKind::Name(n) if !def_names.contains(n) && !names.iter().any(|i| i.name == *n) => names.push(Ident { name: n.clone(), span: e.span }),
+                _ => {}
+            });
+        }
+        let candidates: Vec<Ident> = names.into_iter().filter(|i| CONVENTIONAL.contains(&i.name.as_str()) && !primed.contains(&i.name)).collect();
+        match candidates.as_slice() {
+            [only] => Some(only.clone()),
+            _ => None,
+        }
+    });
     match chosen {
-        Some(v) => Ok(v.clone()),
+        Some(v) => Ok(v),
         None => Err(syntax("cannot tell the variable: no derivative names it", ode.span)
             .note("write the unknown with its argument, e.g. R''(r), or use Leibniz derivatives, \\frac{d^2R}{dr^2}")),
     }
