@@ -184,7 +184,13 @@ fn problem_between_ends(red: &Reduction, opts: &SpectrumOptions) -> Result<Probl
     let rho = super::global::end_exponent(&bp, z0, Condition::IntoHorizon)?;
     let far_end = match (far.location, far.nature) {
         (Location::Infinity, Nature::IrregularRank1) => {
-            let f = super::global::factors(&bp)?;
+            let f = super::global::factors(&bp).map_err(|e| {
+                if e.message.contains("not affine") {
+                    usage("the wave number at infinity is not linear in ω (a massive field's √(ω² − μ²)): scattering is set up for waves e^(±iωr) at infinity, not yet for massive fields (their quasinormal modes and quasi-bound states are solved by spectrum)")
+                } else {
+                    e
+                }
+            })?;
             let mu = f.exp_rate.ok_or_else(|| usage("no exponential rate at infinity"))?;
             FarEnd::Infinity { mu: affine_in_omega(mu), nu: affine_in_omega(f.right) }
         }
@@ -439,7 +445,14 @@ fn problem_at(r: &Reduction, opts: &SpectrumOptions) -> Result<Problem> {
     match exact {
         Ok(pb) => Ok(pb),
         // The exact route cannot place the horizon (or set up at all): the typed boundary problem can.
-        Err(e) => problem_between_ends(r, opts).map_err(|e2| Error::new(e.kind, format!("{}; between the located ends: {}", e.message, e2.message))),
+        Err(e) => problem_between_ends(r, opts).map_err(|e2| {
+            // A massive field: the reason is the far end's, said alone.
+            if e2.message.contains("massive") {
+                e2
+            } else {
+                Error::new(e.kind, format!("{}; between the located ends: {}", e.message, e2.message))
+            }
+        }),
     }
 }
 
