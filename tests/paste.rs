@@ -614,3 +614,17 @@ fn no_state_beyond_the_closed_forms_last() {
         assert!(m["reason"].as_str().is_some_and(|r| r.contains("there is no state") && r.contains("has 4")), "{m}");
     }
 }
+
+/// A definition of a squared name, `N^{2} = …` (a lapse as printed), is N =
+/// (…)^(1/2): its even powers in the equation are exact, and the equation is
+/// the one written with the square itself (common practice).
+#[test]
+fn a_squared_name_defined() {
+    let (n1, q1) = normal_q(&Input::Latex(
+        r"\frac{1}{r}\frac{d}{dr}\left(rN^{2}\frac{dR}{dr}\right) + \left[\frac{\omega^{2}}{N^{2}} - \frac{k^{2}}{r^{2}}\right]R = 0, \qquad N^{2} = r^{2} - r_{+}^{2}",
+    ));
+    let (n2, q2) = normal_q(&Input::Latex(
+        r"\frac{1}{r}\frac{d}{dr}\left(rF\frac{dR}{dr}\right) + \left[\frac{\omega^{2}}{F} - \frac{k^{2}}{r^{2}}\right]R = 0, \qquad F = r^{2} - r_{+}^{2}",
+    ));
+    assert_eq!((n1, q1), (n2, q2));
+}

@@ -66,6 +66,7 @@ fn compute(a: &ClassifyArgs, src: &super::Source) -> Result<String, Failure> {
                 return Err(Error::new(ErrorKind::Usage, format!("no value given for {}", missing.join(", ")))
                     .at(crate::syntax::Span::new(0, text.len()))
                     .in_named("--at")
+                    .note("classify evaluates the points and exponents at a complete set of values, the spectral parameter's included (any value, e.g. 1/2); without --at the analysis stays exact in every parameter")
                     .into());
             }
             values_point = Some(point.clone());

@@ -1436,6 +1436,20 @@ fn sort_relations(src: &str, read: Vec<Relation>, applications: &[Span]) -> Resu
     let mut equations: Vec<Relation> = Vec::new();
     let mut coords: Vec<Coordinate> = Vec::new();
     for rel in read {
+        // `N^{2} = …` (a lapse squared, as printed): N = (…)^(1/2), whose
+        // even powers in the equation are then exact.
+        let rel = match &rel.lhs.kind {
+            ExprKind::Binary(BinOp::Pow, base, k) if matches!(base.kind, ExprKind::Name(_)) && !has_derivative(&rel.rhs) => match &k.kind {
+                ExprKind::Number(t) if t.parse::<u32>().is_ok_and(|k| k >= 2) => {
+                    let one = Expr { kind: ExprKind::Number("1".into()), span: k.span };
+                    let root = Expr { kind: ExprKind::Binary(BinOp::Div, Box::new(one), k.clone()), span: k.span };
+                    let rhs = Expr { kind: ExprKind::Binary(BinOp::Pow, Box::new(rel.rhs.clone()), Box::new(root)), span: rel.rhs.span };
+                    Relation { lhs: (**base).clone(), rhs, span: rel.span }
+                }
+                _ => rel,
+            },
+            _ => rel,
+        };
         if let ExprKind::Derivative { body, wrt, order: 1 } = &rel.lhs.kind {
             if let (ExprKind::Name(top), false) = (&body.kind, has_derivative(&rel.rhs)) {
                 coords.push((Ident { name: top.clone(), span: body.span }, wrt.clone(), rel));
@@ -1599,7 +1613,9 @@ fn variable_from_arguments(
                         primed.push(n.clone());
                     }
                 }
-                ExprKind::Name(n) if !def_names.contains(n) && !names.iter().any(|i| i.name == *n) => names.push(Ident { name: n.clone(), span: e.span }),
+                ExprKind::Name(n) if !def_names.contains(n) && !names.iter().any(|i| i.name == *n) => {
+                    names.push(Ident { name: n.clone(), span: e.span })
+                }
                 _ => {}
             });
         }
