@@ -547,8 +547,7 @@ fn half_angle_form(
     if form == MapForm::Tanh && !qn.is_zero() && i64::from(qn.num().degree(0)) - i64::from(qn.den_expanded().degree(0)) >= -1 {
         return Ok(None);
     }
-    let u_name =
-        ["u", "v", "w", "s"].iter().find(|n| !names.iter().any(|m| m == *n)).map_or_else(|| super::fresh_name("u", names), |n| n.to_string());
+    let u_name = first_free(&["u", "v", "w", "s"], names);
     let mut u_names = vec![u_name.clone()];
     u_names.extend(lowering.param_names.iter().cloned());
     let tf = Field::new(u_names, limits.clone())?;
@@ -603,7 +602,7 @@ fn cos_form(
     let w1sq = nf.mul(&w1, &w1)?;
     let pw = nf.div(&nf.add(&w2, &nf.mul(p, &w1)?)?, &w1sq)?;
     let qw = nf.div(q, &w1sq)?;
-    let w_name = ["x", "w", "v"].iter().find(|n| !names.iter().any(|m| m == *n)).map_or_else(|| super::fresh_name("w", names), |n| n.to_string());
+    let w_name = first_free(&["x", "w", "v"], names);
     let mut w_names = vec![w_name.clone()];
     w_names.extend(lowering.param_names.iter().cloned());
     let wf = Field::new(w_names, limits.clone())?;
@@ -612,6 +611,12 @@ fn cos_form(
     };
     let map = ExpMap { old_var: lowering.var.clone(), new_var: w_name.clone(), c: c.clone(), form: MapForm::Cos, shift: plan.shift.clone() };
     Ok(Some((lowering.ode((wf, pw, qw, Vec::new()), w_name, inferred), map)))
+}
+
+/// The first of `candidates` that is none of `names` (the first with
+/// underscores appended when all are).
+fn first_free(candidates: &[&str], names: &[String]) -> String {
+    candidates.iter().find(|n| !names.iter().any(|m| m == *n)).map_or_else(|| super::fresh_name(candidates[0], names), |n| n.to_string())
 }
 
 /// Whether the point at infinity is an ordinary point of y'' + p y' + q y
