@@ -47,7 +47,7 @@ def test_parameter_value_errors():
     assert e.value.source == "at" and "'q' is not a parameter" in str(e.value) and e.value.column == 16
     with pytest.raises(canonode.InputError, match="no value given for s"):
         canonode.spectrum(rw, at={"M": 1, "l": 2})
-    with pytest.raises(canonode.InputError, match="frequency being solved for"):
+    with pytest.raises(canonode.InputError, match="spectral parameter being solved for"):
         canonode.spectrum(rw, at={"M": 1, "l": 2, "s": 2, "omega": 1})
     with pytest.raises(canonode.InputError, match="not a finite number"):
         canonode.spectrum(rw, at={"M": float("inf"), "l": 2, "s": 2})
