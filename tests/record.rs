@@ -394,3 +394,27 @@ fn closed_form_is_recorded_and_rederived() {
     assert!(c.stderr.contains("h.deriv:"), "{}", c.stderr);
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn a_latex_source_is_recorded_and_checked() {
+    // A `.tex` source is read as LaTeX by `record` and `check`, as by every
+    // other command: its record holds the same normal form as its `.ode`
+    // twin's (Bessel's equation, DLMF 10.2.1), and the round trip holds.
+    let dir = temp_dir("latex");
+    for f in ["bessel.tex", "bessel.ode"] {
+        std::fs::copy(root().join("samples").join(f), dir.join(f)).unwrap();
+    }
+    let tex = run_in(&dir, &["record", "bessel.tex", "-o", "bessel_tex.deriv"]);
+    assert_eq!(tex.code, 0, "{}", tex.stderr);
+    let ode = run_in(&dir, &["record", "bessel.ode", "-o", "bessel_ode.deriv"]);
+    assert_eq!(ode.code, 0, "{}", ode.stderr);
+    let q = |name: &str| {
+        let text = std::fs::read_to_string(dir.join(name)).unwrap();
+        text.lines().find(|l| l.starts_with("normal.Q:")).map(|l| l.to_string()).unwrap_or_else(|| panic!("no normal.Q in {text}"))
+    };
+    let (a, b) = (q("bessel_tex.deriv"), q("bessel_ode.deriv"));
+    assert!(same(a.trim_start_matches("normal.Q:").trim(), b.trim_start_matches("normal.Q:").trim()), "{a} against {b}");
+    let check = run_in(&dir, &["check", "bessel_tex.deriv"]);
+    assert_eq!(check.code, 0, "{}{}", check.stdout, check.stderr);
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -2351,6 +2351,10 @@ fn kerr_with_the_angular_equation_written_in_the_polar_angle() {
     }
     let (re, im) = got[0];
     assert!((re - 0.4641).abs() < 1e-4 && (im + 0.0856).abs() < 1e-4, "{re} {im}");
+    // The map is in `reduce`'s JSON, not only in a note.
+    let (doc, code, err) = run(&["reduce", ang.to_str().unwrap(), "--format", "json"]);
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(doc["transcendental_map"]["relation"], "x = cos(theta)", "{doc}");
     assert!((got[0].0 - got[1].0).abs() < 1e-9 && (got[0].1 - got[1].1).abs() < 1e-9, "{got:?}");
     std::fs::remove_dir_all(&dir).ok();
 }

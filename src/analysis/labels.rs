@@ -133,7 +133,7 @@ pub fn label(k: &Field, a: &Analysis, freq: usize, point: &[GRat], given: bool) 
         format!("decided at the given parameter values{physical}")
     } else {
         format!(
-            "decided at a generic point (parameter i = 0.3 + 0.17·i, frequency 1/2); pass {opt_at} to decide at your values{physical}",
+            "decided at a generic point (the k-th parameter at 0.3 + 0.17·k, the frequency at 1/2); pass {opt_at} to decide at your values{physical}",
             opt_at = RequestInput::At.mention()
         )
     };

@@ -303,7 +303,8 @@ pub struct SpectralTexts {
 }
 
 /// Derives the record of the program `source` (a whole file in the input
-/// language), named `source_path` in the record, reduced with `opts`.
+/// language, or LaTeX when `source_path` ends in `.tex`), named
+/// `source_path` in the record, reduced with `opts`.
 pub fn derive(source: &str, source_path: &str, opts: &ReduceOptions) -> Result<Record> {
     Derivation::start(source, source_path, opts)?.finish(None, None)
 }
@@ -321,9 +322,12 @@ pub struct Derivation<'a> {
 }
 
 impl<'a> Derivation<'a> {
-    /// Reduces and analyses `source` (named `source_path` in the record) with `opts`.
+    /// Reduces and analyses `source` (named `source_path` in the record) with
+    /// `opts`: LaTeX when the path ends in `.tex` (as every command reads a
+    /// file), else the input language.
     pub fn start(source: &'a str, source_path: &'a str, opts: &'a ReduceOptions) -> Result<Derivation<'a>> {
-        let red = crate::ode::reduce(&crate::ode::Input::Program(source), opts)?;
+        let input = if source_path.ends_with(".tex") { crate::ode::Input::Latex(source) } else { crate::ode::Input::Program(source) };
+        let red = crate::ode::reduce(&input, opts)?;
         let an = crate::analysis::analyse(&red)?;
         Ok(Derivation { source, source_path, opts, red, an })
     }

@@ -9,7 +9,10 @@
 //! `coefficient`}]}]}, `prefactor` {`text`, `powers` [{`base`,
 //! `exponent`}], `exponential`, `unevaluated` [{`factor`, `power`,
 //! `numerator`}]}, `schrodinger` (null or {`dxdz`, `frequency`, `W`, `V`,
-//! `V_depends_on_frequency`}). Every expression is text in the input
+//! `V_depends_on_frequency`}), and last, only where transcendental
+//! coefficients were made rational, `transcendental_map` {`written_in`,
+//! `solved_in`, `relation`: the map as text, e.g. "x = cos(theta)"}. Every
+//! expression is text in the input
 //! language, so it can be pasted back into a file, and is followed by its
 //! LaTeX (math mode) under the same name with `_latex` appended (`Q`,
 //! `Q_latex`; null beside null), the convention of every JSON document
@@ -213,7 +216,17 @@ pub fn reduction_json(r: &Reduction) -> Value {
         "prefactor": {"text": crate::ode::prefactor_text(&r.var, r.field.names(), pf, s), "powers": powers, "exponential": rt(r, &pf.exponential, s), "unevaluated": unev},
         "schrodinger": schrod,
     });
-    super::latex::with_latex(doc, REDUCE_EXPRESSIONS)
+    let mut doc = super::latex::with_latex(doc, REDUCE_EXPRESSIONS);
+    // The variable the equation was written in and the one it is solved in,
+    // when a map made its coefficients rational (absent otherwise, so that
+    // the documents of rational equations stay as they were).
+    if let (Some(m), Some(o)) = (&r.map, doc.as_object_mut()) {
+        o.insert(
+            "transcendental_map".into(),
+            json!({"written_in": m.old_var, "solved_in": m.new_var, "relation": crate::ode::exp_map_text(m, &r.ode)}),
+        );
+    }
+    doc
 }
 
 /// The members of `reduce`'s JSON that hold expressions (each gets its LaTeX beside it).
