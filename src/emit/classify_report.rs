@@ -278,7 +278,21 @@ pub fn analysis_text(k: &Field, var: &str, a: &Analysis, numeric: Option<&[Numer
             let words: Vec<String> = row.iter().enumerate().filter_map(|(j, l)| l.as_ref().map(|l| format!("{} {}", j + 1, l.word()))).collect();
             if !words.is_empty() {
                 let what = if p.kind == crate::analysis::Kind::Irregular { "branches" } else { "exponents of the unknown" };
-                o.push_str(&format!("    {what}:  {}\n", words.join(",  ")));
+                // The roots of a factor share one label row, read at the
+                // outermost real root (`labels::outer_root`): say which.
+                let read_at = match (&p.place, numeric, &a.physical) {
+                    (Place::Roots(_), Some(nums), None) => nums
+                        .iter()
+                        .filter(|np| np.index == i)
+                        .filter_map(|np| np.value)
+                        .filter(|z| z.im.abs() <= 1e-9 * z.re.abs().max(1.0))
+                        .map(|z| z.re)
+                        .max_by(f64::total_cmp)
+                        .map(|x| format!(" (read at the outermost real root, {var} ≈ {x:.10}; the other roots may differ)"))
+                        .unwrap_or_default(),
+                    _ => String::new(),
+                };
+                o.push_str(&format!("    {what}{read_at}:  {}\n", words.join(",  ")));
             }
         }
         if let Some(n) = p.integer_difference {
