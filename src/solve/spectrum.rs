@@ -955,9 +955,10 @@ pub fn integration_check<'a>(
     let p1 = crate::analysis::p_at_infinity_pub(k, &red.p)?;
     // μ of the unknown = μ of ψ − p₀/2 (an exponential taken out by hand).
     let p0 = crate::analysis::p_limit_at_infinity(k, &red.p)?.ok_or_else(|| usage("p grows at infinity: the integration check needs exp(μz) z^ν"))?;
-    let mu_exact = k.sub(&mu_exact, &k.mul(&crate::algebra::RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero")), &p0)?)?;
+    let half = crate::algebra::RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero"));
+    let mu_exact = k.sub(&mu_exact, &k.mul(&half, &p0)?)?;
     // ν of the unknown = ρ of ψ − p₁/2 (the prefactor's power at infinity).
-    let nu_exact = k.sub(&f.rho, &k.mul(&crate::algebra::RatFunc::rat(&Rat::new(1.into(), 2.into()).expect("nonzero")), &p1)?)?;
+    let nu_exact = k.sub(&f.rho, &k.mul(&half, &p1)?)?;
     let rho: Vec<_> = rho_parts.iter().map(|c| in_omega(c, opts)).collect();
     let (mu, nu) = (in_omega(&mu_exact, opts), in_omega(&nu_exact, opts));
     let horizon = setup.horizon_value;
